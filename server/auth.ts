@@ -1,0 +1,82 @@
+import { betterAuth } from "better-auth";
+import { drizzleAdapter } from "better-auth/adapters/drizzle";
+import { admin } from "better-auth/plugins/admin";
+import { createAccessControl } from "better-auth/plugins/access";
+import { adminAc, defaultStatements } from "better-auth/plugins/admin/access";
+import type { Db } from "./db/client";
+import type { Logger } from "./lib/logger";
+import { account, session, user, verification } from "./db/schema";
+
+// better-auth's admin plugin needs an access-control role for every role name it may meet in the
+// user.role column. Only `admin` gets the plugin's user-management permissions; the plant roles are
+// enforced by our own require-role middleware (shared/roles.ts).
+const ac = createAccessControl(defaultStatements);
+const noAuthAdmin = { user: [], session: [] } as const;
+const authRoles = {
+  admin: ac.newRole(adminAc.statements),
+  inspector: ac.newRole(noAuthAdmin),
+  quality: ac.newRole(noAuthAdmin),
+  process: ac.newRole(noAuthAdmin),
+  claims: ac.newRole(noAuthAdmin),
+};
+
+export interface AuthOptions {
+  db: Db;
+  secret: string;
+  baseURL: string;
+  /** Extra origins allowed to call the API with a cookie (the Vite dev server, say). */
+  trustedOrigins?: string[];
+  /** Tests that check the CSRF/origin protection turn it back on under NODE_ENV=test. */
+  enforceOriginCheck?: boolean;
+  /** Delivers a password-reset link; the mail issue plugs the outbox in here. */
+  sendResetPassword?: (data: { user: { email: string; name: string }; url: string; token: string }) => Promise<void>;
+  /** better-auth's own messages go to the app's log. */
+  logger?: Logger;
+}
+
+export function createAuth(opts: AuthOptions) {
+  return betterAuth({
+    appName: "Strandsight",
+    baseURL: opts.baseURL,
+    secret: opts.secret,
+    trustedOrigins: opts.trustedOrigins ?? [],
+    logger: opts.logger
+      ? { log: (level, message, ...args) => opts.logger![level]({ source: "better-auth", args }, message) }
+      : undefined,
+    // Keep the adapter's `transaction` option off: better-sqlite3 is synchronous (see STACK.md).
+    database: drizzleAdapter(opts.db, {
+      provider: "sqlite",
+      schema: { user, session, account, verification },
+    }),
+    emailAndPassword: {
+      enabled: true,
+      // Users are created by an administrator; nobody signs themselves up.
+      disableSignUp: true,
+      minPasswordLength: 10,
+      maxPasswordLength: 128,
+      revokeSessionsOnPasswordReset: true,
+      sendResetPassword: opts.sendResetPassword
+        ? async ({ user: u, url, token }) => opts.sendResetPassword!({ user: u, url, token })
+        : undefined,
+    },
+    session: {
+      // A shift plus margin; the cookie is refreshed while the user keeps working.
+      expiresIn: 60 * 60 * 24 * 3,
+      updateAge: 60 * 60 * 4,
+    },
+    advanced: {
+      ...(opts.enforceOriginCheck ? { disableOriginCheck: false } : {}),
+      defaultCookieAttributes: { httpOnly: true, sameSite: "lax" },
+    },
+    plugins: [
+      admin({
+        ac,
+        roles: authRoles,
+        adminRoles: ["admin"],
+        defaultRole: "inspector",
+      }),
+    ],
+  });
+}
+
+export type Auth = ReturnType<typeof createAuth>;

@@ -1,0 +1,698 @@
+// Every table of the product. snake_case columns, integer timestamps in milliseconds.
+// The four auth tables follow the field names better-auth's Drizzle adapter expects (with its admin
+// plugin's columns); everything after them is the plant.
+import { sql } from "drizzle-orm";
+import {
+  index,
+  integer,
+  primaryKey,
+  real,
+  sqliteTable,
+  text,
+  uniqueIndex,
+} from "drizzle-orm/sqlite-core";
+
+const nowMs = sql`(cast(unixepoch('subsecond') * 1000 as integer))`;
+
+const timestamps = {
+  createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+};
+
+// ---------------------------------------------------------------------------------------------
+// Sign-in (better-auth)
+// ---------------------------------------------------------------------------------------------
+
+export const user = sqliteTable("user", {
+  id: text("id").primaryKey(),
+  name: text("name").notNull(),
+  email: text("email").notNull().unique(),
+  emailVerified: integer("email_verified", { mode: "boolean" }).notNull().default(false),
+  image: text("image"),
+  // Comma-separated role names, as the admin plugin stores several roles.
+  role: text("role"),
+  banned: integer("banned", { mode: "boolean" }).default(false),
+  banReason: text("ban_reason"),
+  banExpires: integer("ban_expires", { mode: "timestamp_ms" }),
+  createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+});
+
+export const session = sqliteTable(
+  "session",
+  {
+    id: text("id").primaryKey(),
+    expiresAt: integer("expires_at", { mode: "timestamp_ms" }).notNull(),
+    token: text("token").notNull().unique(),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    ipAddress: text("ip_address"),
+    userAgent: text("user_agent"),
+    userId: text("user_id")
+      .notNull()
+      .references(() => user.id, { onDelete: "cascade" }),
+    impersonatedBy: text("impersonated_by"),
+  },
+  (t) => [index("session_user_idx").on(t.userId)],
+);
+
+export const account = sqliteTable(
+  "account",
+  {
+    id: text("id").primaryKey(),
+    accountId: text("account_id").notNull(),
+    providerId: text("provider_id").notNull(),
+    userId: text("user_id")
+      .notNull()
+      .references(() => user.id, { onDelete: "cascade" }),
+    accessToken: text("access_token"),
+    refreshToken: text("refresh_token"),
+    idToken: text("id_token"),
+    accessTokenExpiresAt: integer("access_token_expires_at", { mode: "timestamp_ms" }),
+    refreshTokenExpiresAt: integer("refresh_token_expires_at", { mode: "timestamp_ms" }),
+    scope: text("scope"),
+    password: text("password"),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  },
+  (t) => [index("account_user_idx").on(t.userId)],
+);
+
+export const verification = sqliteTable(
+  "verification",
+  {
+    id: text("id").primaryKey(),
+    identifier: text("identifier").notNull(),
+    value: text("value").notNull(),
+    expiresAt: integer("expires_at", { mode: "timestamp_ms" }).notNull(),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  },
+  (t) => [index("verification_identifier_idx").on(t.identifier)],
+);
+
+// ---------------------------------------------------------------------------------------------
+// Plant setup
+// ---------------------------------------------------------------------------------------------
+
+/** Key → JSON value: liquidus coefficients, shell constant K, densities. */
+export const plantSettings = sqliteTable("plant_settings", {
+  key: text("key").primaryKey(),
+  value: text("value", { mode: "json" }).notNull(),
+  updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  updatedBy: text("updated_by").references(() => user.id),
+});
+
+export const casters = sqliteTable("casters", {
+  id: integer("id").primaryKey({ autoIncrement: true }),
+  code: text("code").notNull().unique(),
+  name: text("name").notNull(),
+  worksName: text("works_name").notNull(),
+  machineType: text("machine_type").notNull().default("curved"),
+  radiusM: real("radius_m"),
+  active: integer("active", { mode: "boolean" }).notNull().default(true),
+  ...timestamps,
+});
+
+/**
+ * EMBr calibration from coil current to field at the brake's centre, machine-specific:
+ * `{ kind: "linear", teslaPerAmp, offsetT }` or `{ kind: "table", points: [[amps, tesla], …] }`.
+ */
+export type EmbrCalibration =
+  | { kind: "linear"; teslaPerAmp: number; offsetT: number }
+  | { kind: "table"; points: [number, number][] };
+
+export const strands = sqliteTable(
+  "strands",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    casterId: integer("caster_id")
+      .notNull()
+      .references(() => casters.id),
+    strandNo: integer("strand_no").notNull(),
+    moldThicknessMm: real("mold_thickness_mm").notNull(),
+    moldWidthMinMm: real("mold_width_min_mm"),
+    moldWidthMaxMm: real("mold_width_max_mm"),
+    moldEffectiveLengthMm: real("mold_effective_length_mm").notNull(),
+    senPortAreaMm2: real("sen_port_area_mm2").notNull(),
+    senPortCount: integer("sen_port_count").notNull().default(2),
+    embrCalibration: text("embr_calibration", { mode: "json" }).$type<EmbrCalibration>().notNull(),
+    embrPositionMm: real("embr_position_mm"),
+    active: integer("active", { mode: "boolean" }).notNull().default(true),
+    ...timestamps,
+  },
+  (t) => [uniqueIndex("strands_caster_no_uq").on(t.casterId, t.strandNo)],
+);
+
+export const gradeFamilies = sqliteTable("grade_families", {
+  id: integer("id").primaryKey({ autoIncrement: true }),
+  code: text("code").notNull().unique(),
+  name: text("name").notNull(),
+  description: text("description"),
+  ...timestamps,
+});
+
+export const grades = sqliteTable(
+  "grades",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    code: text("code").notNull().unique(),
+    name: text("name").notNull(),
+    familyId: integer("family_id")
+      .notNull()
+      .references(() => gradeFamilies.id),
+    cAimPct: real("c_aim_pct"),
+    active: integer("active", { mode: "boolean" }).notNull().default(true),
+    ...timestamps,
+  },
+  (t) => [index("grades_family_idx").on(t.familyId)],
+);
+
+// ---------------------------------------------------------------------------------------------
+// Production: sequences, heats, slabs, process samples
+// ---------------------------------------------------------------------------------------------
+
+export const sequences = sqliteTable(
+  "sequences",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    sequenceNo: text("sequence_no").notNull().unique(),
+    casterId: integer("caster_id")
+      .notNull()
+      .references(() => casters.id),
+    startedAt: integer("started_at", { mode: "timestamp_ms" }),
+    endedAt: integer("ended_at", { mode: "timestamp_ms" }),
+    ...timestamps,
+  },
+  (t) => [index("sequences_caster_idx").on(t.casterId, t.startedAt)],
+);
+
+export const heats = sqliteTable(
+  "heats",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    heatNo: text("heat_no").notNull().unique(),
+    sequenceId: integer("sequence_id").references(() => sequences.id),
+    /** 1 = first heat of its sequence. */
+    sequencePosition: integer("sequence_position"),
+    casterId: integer("caster_id")
+      .notNull()
+      .references(() => casters.id),
+    gradeId: integer("grade_id")
+      .notNull()
+      .references(() => grades.id),
+    castStart: integer("cast_start", { mode: "timestamp_ms" }).notNull(),
+    castEnd: integer("cast_end", { mode: "timestamp_ms" }),
+    ladleWeightT: real("ladle_weight_t"),
+    tundishChange: integer("tundish_change", { mode: "boolean" }).notNull().default(false),
+    // Heat-level casting conditions (the fallback for each slab).
+    castingSpeedMPerMin: real("casting_speed_m_min").notNull(),
+    tundishTempC: real("tundish_temp_c"),
+    liquidusC: real("liquidus_c"),
+    /** "given" when imported, "computed" from the chemistry with the plant's coefficients. */
+    liquidusSource: text("liquidus_source"),
+    superheatC: real("superheat_c"),
+    superheatSource: text("superheat_source"),
+    embrCurrentA: real("embr_current_a"),
+    senDepthMm: real("sen_depth_mm"),
+    argonNlPerMin: real("argon_nl_min"),
+    moldLevelSdMm: real("mold_level_sd_mm"),
+    // Chemistry, wt % (nitrogen in ppm).
+    cPct: real("c_pct"),
+    siPct: real("si_pct"),
+    mnPct: real("mn_pct"),
+    pPct: real("p_pct"),
+    sPct: real("s_pct"),
+    alPct: real("al_pct"),
+    cuPct: real("cu_pct"),
+    niPct: real("ni_pct"),
+    crPct: real("cr_pct"),
+    moPct: real("mo_pct"),
+    tiPct: real("ti_pct"),
+    nbPct: real("nb_pct"),
+    vPct: real("v_pct"),
+    nPpm: real("n_ppm"),
+    ...timestamps,
+  },
+  (t) => [
+    index("heats_cast_start_idx").on(t.castStart),
+    index("heats_grade_idx").on(t.gradeId),
+    index("heats_sequence_idx").on(t.sequenceId, t.sequencePosition),
+    index("heats_caster_idx").on(t.casterId, t.castStart),
+  ],
+);
+
+export const slabs = sqliteTable(
+  "slabs",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    slabId: text("slab_id").notNull().unique(),
+    heatId: integer("heat_id")
+      .notNull()
+      .references(() => heats.id),
+    strandId: integer("strand_id")
+      .notNull()
+      .references(() => strands.id),
+    /** Order of the piece within its heat and strand, from 1. */
+    pieceNo: integer("piece_no").notNull(),
+    lengthMm: real("length_mm").notNull(),
+    widthMm: real("width_mm").notNull(),
+    thicknessMm: real("thickness_mm").notNull(),
+    weightT: real("weight_t").notNull(),
+    weightSource: text("weight_source").notNull().default("given"),
+    /** Position of the head end along the strand's cast length, metres from the sequence start. */
+    castLengthStartM: real("cast_length_start_m"),
+    /** Time the slab's head end left the mold (derived when not given). */
+    castAt: integer("cast_at", { mode: "timestamp_ms" }),
+    transition: integer("transition", { mode: "boolean" }).notNull().default(false),
+    // Per-slab conditions when the source supplies them directly (they win over samples and heat).
+    castingSpeedMPerMin: real("casting_speed_m_min"),
+    superheatC: real("superheat_c"),
+    embrCurrentA: real("embr_current_a"),
+    senDepthMm: real("sen_depth_mm"),
+    argonNlPerMin: real("argon_nl_min"),
+    moldLevelSdMm: real("mold_level_sd_mm"),
+    /** Overall disposition of the slab, set from its defects by the yard or quality. */
+    disposition: text("disposition"),
+    ...timestamps,
+  },
+  (t) => [
+    uniqueIndex("slabs_heat_strand_piece_uq").on(t.heatId, t.strandId, t.pieceNo),
+    index("slabs_strand_cast_at_idx").on(t.strandId, t.castAt),
+    index("slabs_cast_at_idx").on(t.castAt),
+  ],
+);
+
+/** Level-2 time series per strand. */
+export const processSamples = sqliteTable(
+  "process_samples",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    strandId: integer("strand_id")
+      .notNull()
+      .references(() => strands.id),
+    sampledAt: integer("sampled_at", { mode: "timestamp_ms" }).notNull(),
+    castLengthM: real("cast_length_m"),
+    castingSpeedMPerMin: real("casting_speed_m_min"),
+    tundishTempC: real("tundish_temp_c"),
+    embrCurrentA: real("embr_current_a"),
+    senDepthMm: real("sen_depth_mm"),
+    argonNlPerMin: real("argon_nl_min"),
+    moldLevelMm: real("mold_level_mm"),
+  },
+  (t) => [uniqueIndex("process_samples_strand_time_uq").on(t.strandId, t.sampledAt)],
+);
+
+// ---------------------------------------------------------------------------------------------
+// Defects
+// ---------------------------------------------------------------------------------------------
+
+export const defectCategories = sqliteTable("defect_categories", {
+  id: integer("id").primaryKey({ autoIncrement: true }),
+  code: text("code").notNull().unique(),
+  name: text("name").notNull(),
+  sortOrder: integer("sort_order").notNull().default(0),
+  active: integer("active", { mode: "boolean" }).notNull().default(true),
+  ...timestamps,
+});
+
+export const defectTypes = sqliteTable(
+  "defect_types",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    code: text("code").notNull().unique(),
+    name: text("name").notNull(),
+    categoryId: integer("category_id")
+      .notNull()
+      .references(() => defectCategories.id),
+    description: text("description"),
+    active: integer("active", { mode: "boolean" }).notNull().default(true),
+    ...timestamps,
+  },
+  (t) => [index("defect_types_category_idx").on(t.categoryId)],
+);
+
+export const defects = sqliteTable(
+  "defects",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    /** Every defect hangs on a slab. */
+    slabId: integer("slab_id")
+      .notNull()
+      .references(() => slabs.id),
+    typeId: integer("type_id")
+      .notNull()
+      .references(() => defectTypes.id),
+    face: text("face").notNull(),
+    positionAlongMm: real("position_along_mm"),
+    positionAcrossMm: real("position_across_mm"),
+    lengthMm: real("length_mm"),
+    widthMm: real("width_mm"),
+    depthMm: real("depth_mm"),
+    /** 1 minor, 2 moderate, 3 major, 4 critical. */
+    severity: integer("severity").notNull(),
+    stage: text("stage").notNull(),
+    disposition: text("disposition").notNull(),
+    note: text("note"),
+    /** new → confirmed | corrected | rejected (quality review). */
+    reviewStatus: text("review_status").notNull().default("new"),
+    reviewedBy: text("reviewed_by").references(() => user.id),
+    reviewedAt: integer("reviewed_at", { mode: "timestamp_ms" }),
+    /** Generated on the device so that a resent offline entry is stored once. */
+    clientKey: text("client_key").unique(),
+    foundAt: integer("found_at", { mode: "timestamp_ms" }).notNull(),
+    createdBy: text("created_by").references(() => user.id),
+    deletedAt: integer("deleted_at", { mode: "timestamp_ms" }),
+    deletedBy: text("deleted_by").references(() => user.id),
+    ...timestamps,
+  },
+  (t) => [
+    index("defects_slab_idx").on(t.slabId),
+    index("defects_type_slab_idx").on(t.typeId, t.slabId),
+    index("defects_found_at_idx").on(t.foundAt),
+    index("defects_review_idx").on(t.reviewStatus, t.createdAt),
+    index("defects_created_by_idx").on(t.createdBy, t.createdAt),
+  ],
+);
+
+export const defectPhotos = sqliteTable(
+  "defect_photos",
+  {
+    id: text("id").primaryKey(),
+    defectId: integer("defect_id")
+      .notNull()
+      .references(() => defects.id),
+    displayFile: text("display_file").notNull(),
+    displayMime: text("display_mime").notNull(),
+    thumbFile: text("thumb_file").notNull(),
+    width: integer("width").notNull(),
+    height: integer("height").notNull(),
+    bytes: integer("bytes").notNull(),
+    sha256: text("sha256").notNull(),
+    /** Kept for the record only; files on disk are named by generated ids. */
+    originalName: text("original_name"),
+    clientKey: text("client_key").unique(),
+    createdBy: text("created_by").references(() => user.id),
+    deletedAt: integer("deleted_at", { mode: "timestamp_ms" }),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  },
+  (t) => [index("defect_photos_defect_idx").on(t.defectId)],
+);
+
+// ---------------------------------------------------------------------------------------------
+// Causes and investigations
+// ---------------------------------------------------------------------------------------------
+
+export const causeGroups = sqliteTable("cause_groups", {
+  id: integer("id").primaryKey({ autoIncrement: true }),
+  code: text("code").notNull().unique(),
+  name: text("name").notNull(),
+  sortOrder: integer("sort_order").notNull().default(0),
+  ...timestamps,
+});
+
+export const causeTags = sqliteTable(
+  "cause_tags",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    code: text("code").notNull().unique(),
+    name: text("name").notNull(),
+    groupId: integer("group_id")
+      .notNull()
+      .references(() => causeGroups.id),
+    description: text("description"),
+    /** Tags in use are retired, never deleted. */
+    retiredAt: integer("retired_at", { mode: "timestamp_ms" }),
+    ...timestamps,
+  },
+  (t) => [index("cause_tags_group_idx").on(t.groupId)],
+);
+
+/** One row per tagging; removal sets removed_at so the history stays. */
+export const defectCauses = sqliteTable(
+  "defect_causes",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    defectId: integer("defect_id")
+      .notNull()
+      .references(() => defects.id),
+    tagId: integer("tag_id")
+      .notNull()
+      .references(() => causeTags.id),
+    /** suspected | probable | confirmed */
+    confidence: text("confidence").notNull(),
+    note: text("note"),
+    createdBy: text("created_by").references(() => user.id),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    removedAt: integer("removed_at", { mode: "timestamp_ms" }),
+    removedBy: text("removed_by").references(() => user.id),
+  },
+  (t) => [
+    index("defect_causes_defect_idx").on(t.defectId),
+    index("defect_causes_tag_idx").on(t.tagId, t.defectId),
+  ],
+);
+
+export const investigations = sqliteTable(
+  "investigations",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    ref: text("ref").notNull().unique(),
+    title: text("title").notNull(),
+    problemStatement: text("problem_statement").notNull(),
+    /** open | in_progress | closed */
+    status: text("status").notNull().default("open"),
+    ownerId: text("owner_id").references(() => user.id),
+    openedAt: integer("opened_at", { mode: "timestamp_ms" }).notNull(),
+    closedAt: integer("closed_at", { mode: "timestamp_ms" }),
+    confirmedCauseTagId: integer("confirmed_cause_tag_id").references(() => causeTags.id),
+    closureNote: text("closure_note"),
+    createdBy: text("created_by").references(() => user.id),
+    ...timestamps,
+  },
+  (t) => [index("investigations_status_idx").on(t.status)],
+);
+
+/** What an investigation looks at: defects or whole heats. */
+export const investigationSubjects = sqliteTable(
+  "investigation_subjects",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    investigationId: integer("investigation_id")
+      .notNull()
+      .references(() => investigations.id),
+    defectId: integer("defect_id").references(() => defects.id),
+    heatId: integer("heat_id").references(() => heats.id),
+  },
+  (t) => [
+    index("investigation_subjects_inv_idx").on(t.investigationId),
+    index("investigation_subjects_heat_idx").on(t.heatId),
+    index("investigation_subjects_defect_idx").on(t.defectId),
+  ],
+);
+
+export const investigationHypotheses = sqliteTable(
+  "investigation_hypotheses",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    investigationId: integer("investigation_id")
+      .notNull()
+      .references(() => investigations.id),
+    statement: text("statement").notNull(),
+    causeTagId: integer("cause_tag_id").references(() => causeTags.id),
+    /** open | supported | rejected */
+    status: text("status").notNull().default("open"),
+    createdBy: text("created_by").references(() => user.id),
+    ...timestamps,
+  },
+  (t) => [index("investigation_hypotheses_inv_idx").on(t.investigationId)],
+);
+
+export const investigationActions = sqliteTable(
+  "investigation_actions",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    investigationId: integer("investigation_id")
+      .notNull()
+      .references(() => investigations.id),
+    description: text("description").notNull(),
+    ownerId: text("owner_id").references(() => user.id),
+    dueOn: text("due_on"),
+    /** open | in_progress | done | cancelled */
+    status: text("status").notNull().default("open"),
+    completedAt: integer("completed_at", { mode: "timestamp_ms" }),
+    overdueNotifiedAt: integer("overdue_notified_at", { mode: "timestamp_ms" }),
+    ...timestamps,
+  },
+  (t) => [
+    index("investigation_actions_inv_idx").on(t.investigationId),
+    index("investigation_actions_due_idx").on(t.status, t.dueOn),
+  ],
+);
+
+// ---------------------------------------------------------------------------------------------
+// Claims and the rolling-mill trace
+// ---------------------------------------------------------------------------------------------
+
+/** Coil or plate → the slab it was rolled from (from the rolling mill). */
+export const products = sqliteTable(
+  "products",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    productId: text("product_id").notNull().unique(),
+    /** coil | plate */
+    kind: text("kind").notNull(),
+    slabId: integer("slab_id")
+      .notNull()
+      .references(() => slabs.id),
+    rolledAt: integer("rolled_at", { mode: "timestamp_ms" }),
+    weightT: real("weight_t"),
+    ...timestamps,
+  },
+  (t) => [index("products_slab_idx").on(t.slabId)],
+);
+
+export const claims = sqliteTable(
+  "claims",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    claimNo: text("claim_no").notNull().unique(),
+    customer: text("customer").notNull(),
+    /** Coil or plate ids as the customer wrote them, comma-separated. */
+    productIds: text("product_ids").notNull().default(""),
+    receivedOn: text("received_on").notNull(),
+    defectComplained: text("defect_complained").notNull(),
+    quantityT: real("quantity_t"),
+    /** new | under_review | accepted | rejected | closed */
+    status: text("status").notNull().default("new"),
+    notes: text("notes"),
+    createdBy: text("created_by").references(() => user.id),
+    ...timestamps,
+  },
+  (t) => [index("claims_status_idx").on(t.status, t.receivedOn)],
+);
+
+export const claimSlabs = sqliteTable(
+  "claim_slabs",
+  {
+    claimId: integer("claim_id")
+      .notNull()
+      .references(() => claims.id),
+    slabId: integer("slab_id")
+      .notNull()
+      .references(() => slabs.id),
+    /** trace | search */
+    linkedVia: text("linked_via").notNull(),
+    linkedBy: text("linked_by").references(() => user.id),
+    linkedAt: integer("linked_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  },
+  (t) => [primaryKey({ columns: [t.claimId, t.slabId] }), index("claim_slabs_slab_idx").on(t.slabId)],
+);
+
+/** Files attached to claims and investigations (stored under UPLOAD_DIR by generated id). */
+export const attachments = sqliteTable(
+  "attachments",
+  {
+    id: text("id").primaryKey(),
+    /** claim | investigation */
+    ownerKind: text("owner_kind").notNull(),
+    ownerId: integer("owner_id").notNull(),
+    fileName: text("file_name").notNull(),
+    storedFile: text("stored_file").notNull(),
+    mime: text("mime").notNull(),
+    bytes: integer("bytes").notNull(),
+    sha256: text("sha256").notNull(),
+    createdBy: text("created_by").references(() => user.id),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  },
+  (t) => [index("attachments_owner_idx").on(t.ownerKind, t.ownerId)],
+);
+
+// ---------------------------------------------------------------------------------------------
+// Reports, audit, mail, tokens
+// ---------------------------------------------------------------------------------------------
+
+export const savedReports = sqliteTable(
+  "saved_reports",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    userId: text("user_id")
+      .notNull()
+      .references(() => user.id),
+    name: text("name").notNull(),
+    reportKind: text("report_kind").notNull(),
+    /** The URL query string of the report, so a saved report is a shareable link. */
+    query: text("query").notNull(),
+    ...timestamps,
+  },
+  (t) => [index("saved_reports_user_idx").on(t.userId)],
+);
+
+export const auditLog = sqliteTable(
+  "audit_log",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    at: integer("at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    userId: text("user_id"),
+    /** Who acted when it was not a person: an API token's name, "system", "seed". */
+    actor: text("actor"),
+    action: text("action").notNull(),
+    entity: text("entity").notNull(),
+    entityId: text("entity_id"),
+    before: text("before", { mode: "json" }),
+    after: text("after", { mode: "json" }),
+  },
+  (t) => [index("audit_entity_idx").on(t.entity, t.entityId), index("audit_at_idx").on(t.at)],
+);
+
+export const emailOutbox = sqliteTable(
+  "email_outbox",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    /** What caused the message: critical_defect, action_assigned, invitation, password_reset… */
+    kind: text("kind").notNull(),
+    fromAddress: text("from_address").notNull(),
+    toAddresses: text("to_addresses").notNull(),
+    subject: text("subject").notNull(),
+    textBody: text("text_body").notNull(),
+    htmlBody: text("html_body"),
+    /** [{ filename, contentType, bytes, file }] — the file is kept under the data folder. */
+    attachments: text("attachments", { mode: "json" }),
+    /** queued | sending | sent | failed */
+    status: text("status").notNull().default("queued"),
+    attempts: integer("attempts").notNull().default(0),
+    nextAttemptAt: integer("next_attempt_at", { mode: "timestamp_ms" }),
+    lastError: text("last_error"),
+    sentAt: integer("sent_at", { mode: "timestamp_ms" }),
+    messageId: text("message_id"),
+    ...timestamps,
+  },
+  (t) => [index("email_outbox_status_idx").on(t.status, t.nextAttemptAt)],
+);
+
+/** Messages the local fake SMTP server received, as they arrived on the wire. */
+export const mailReceived = sqliteTable("mail_received", {
+  id: integer("id").primaryKey({ autoIncrement: true }),
+  receivedAt: integer("received_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  messageId: text("message_id"),
+  envelopeFrom: text("envelope_from"),
+  envelopeTo: text("envelope_to").notNull(),
+  subject: text("subject"),
+  textBody: text("text_body"),
+  attachments: text("attachments", { mode: "json" }),
+  raw: text("raw"),
+});
+
+export const apiTokens = sqliteTable("api_tokens", {
+  id: integer("id").primaryKey({ autoIncrement: true }),
+  name: text("name").notNull(),
+  /** SHA-256 of the token; the token itself is shown once and never stored. */
+  tokenHash: text("token_hash").notNull().unique(),
+  /** First characters, so an admin can tell tokens apart. */
+  prefix: text("prefix").notNull(),
+  scopes: text("scopes").notNull().default("ingest"),
+  createdBy: text("created_by").references(() => user.id),
+  createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  lastUsedAt: integer("last_used_at", { mode: "timestamp_ms" }),
+  revokedAt: integer("revoked_at", { mode: "timestamp_ms" }),
+});

@@ -1,0 +1,77 @@
+import fs from "node:fs";
+import path from "node:path";
+import crypto from "node:crypto";
+import { z } from "zod";
+
+const boolFlag = z
+  .enum(["true", "false", "1", "0", "yes", "no"], {
+    error: "Use true or false.",
+  })
+  .transform((v) => v === "true" || v === "1" || v === "yes");
+
+const envSchema = z.object({
+  NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
+  PORT: z.coerce.number({ error: "PORT must be a number." }).int().min(1).max(65535).default(3000),
+  HOST: z.string().min(1).default("0.0.0.0"),
+  DATABASE_FILE: z.string().min(1).default("./data/app.db"),
+  UPLOAD_DIR: z.string().min(1).default("./uploads"),
+  BETTER_AUTH_SECRET: z.string().min(32, "BETTER_AUTH_SECRET must be at least 32 characters.").optional(),
+  BETTER_AUTH_URL: z.url({ error: "BETTER_AUTH_URL must be a full URL such as http://localhost:3000." }).optional(),
+  DEMO_PASSWORD: z.string().min(10, "DEMO_PASSWORD must be at least 10 characters.").default("strandsight-demo"),
+  SEED_DEMO: boolFlag.optional(),
+  /** Number of proxy hops in front of the app (Express "trust proxy"); 0 when clients connect directly. */
+  TRUST_PROXY: z.coerce.number().int().min(0).max(10).default(0),
+  LOG_LEVEL: z.enum(["silent", "error", "info", "debug"]).default("info"),
+});
+
+export type Env = z.infer<typeof envSchema> & { BETTER_AUTH_SECRET: string; BETTER_AUTH_URL: string };
+
+export class EnvError extends Error {}
+
+/**
+ * Reads the environment (and ./.env when present), validates it and fills in the local defaults.
+ * A bad value stops the start with a message that names the variable.
+ */
+export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
+  const parsed = envSchema.safeParse(source);
+  if (!parsed.success) {
+    const lines = parsed.error.issues.map((i) => `  ${i.path.join(".") || "(env)"}: ${i.message}`);
+    throw new EnvError(`The configuration is not valid:\n${lines.join("\n")}`);
+  }
+  const env = parsed.data;
+  let secret = env.BETTER_AUTH_SECRET;
+  if (!secret) {
+    if (env.NODE_ENV === "production") {
+      throw new EnvError(
+        "BETTER_AUTH_SECRET is required in production (at least 32 random characters, e.g. `openssl rand -base64 32`).",
+      );
+    }
+    secret = localSecret(env.DATABASE_FILE);
+  }
+  return {
+    ...env,
+    BETTER_AUTH_SECRET: secret,
+    BETTER_AUTH_URL: env.BETTER_AUTH_URL ?? `http://localhost:${env.PORT}`,
+  };
+}
+
+/** The local demo keeps a generated secret next to its database, so sessions survive restarts. */
+function localSecret(databaseFile: string): string {
+  const dir = databaseFile === ":memory:" ? path.resolve("data") : path.dirname(path.resolve(databaseFile));
+  const file = path.join(dir, ".auth-secret");
+  try {
+    const existing = fs.readFileSync(file, "utf8").trim();
+    if (existing.length >= 32) return existing;
+  } catch {
+    // not there yet
+  }
+  fs.mkdirSync(dir, { recursive: true });
+  const secret = crypto.randomBytes(32).toString("base64url");
+  fs.writeFileSync(file, secret + "\n", { mode: 0o600 });
+  return secret;
+}
+
+/** Loads ./.env into process.env when the file exists (Node's own loader; no extra package). */
+export function loadDotEnvFile(file = ".env"): void {
+  if (fs.existsSync(file)) process.loadEnvFile(file);
+}

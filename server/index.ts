@@ -1,0 +1,72 @@
+import { sql } from "drizzle-orm";
+import { createApp } from "./app";
+import { createAuth } from "./auth";
+import { openDatabase } from "./db/client";
+import { runMigrations } from "./db/migrate";
+import { heats } from "./db/schema";
+import { EnvError, loadDotEnvFile, loadEnv } from "./env";
+import { createLogger } from "./lib/logger";
+import { DEMO_USERS } from "./seed/catalogue";
+import { seedDemo } from "./seed/seed";
+
+async function main() {
+  loadDotEnvFile();
+  const env = loadEnv();
+  const logger = createLogger(env.LOG_LEVEL);
+  const db = openDatabase(env.DATABASE_FILE);
+  runMigrations(db);
+
+  const auth = createAuth({
+    db,
+    secret: env.BETTER_AUTH_SECRET,
+    baseURL: env.BETTER_AUTH_URL,
+    trustedOrigins: env.NODE_ENV === "development" ? ["http://localhost:5173"] : [],
+    logger,
+  });
+
+  const empty = db.select({ n: sql<number>`count(*)` }).from(heats).get()!.n === 0;
+  const seed = env.SEED_DEMO ?? (empty && env.NODE_ENV !== "production");
+  if (seed) {
+    console.log("Seeding the invented demo plant…");
+    const result = await seedDemo(db, auth, { password: env.DEMO_PASSWORD });
+    console.log(`Demo plant ready in ${result.seconds.toFixed(1)} s`, result.production ?? "(already there)");
+  }
+
+  const app = createApp({ db, auth, env, logger });
+  const server = app.listen(env.PORT, env.HOST, () => {
+    const url = env.BETTER_AUTH_URL;
+    console.log(`\nStrandsight is running: ${url}`);
+    if (seed || !empty) {
+      console.log(`Demo sign-ins (password: ${env.DEMO_PASSWORD === "strandsight-demo" ? "strandsight-demo" : "the DEMO_PASSWORD you set"}):`);
+      for (const u of DEMO_USERS) console.log(`  ${u.email.padEnd(22)} ${u.roles.join(", ")}`);
+    }
+  });
+
+  // On SIGTERM/SIGINT stop accepting connections, let requests in flight finish, then close the database.
+  let stopping = false;
+  const shutdown = (signal: string) => {
+    if (stopping) return;
+    stopping = true;
+    logger.info({ signal }, "shutting down");
+    server.close(() => {
+      db.$client.close();
+      process.exit(0);
+    });
+    server.closeIdleConnections();
+    setTimeout(() => {
+      logger.error("requests still open after 15 s; exiting");
+      process.exit(1);
+    }, 15_000).unref();
+  };
+  process.on("SIGTERM", () => shutdown("SIGTERM"));
+  process.on("SIGINT", () => shutdown("SIGINT"));
+}
+
+main().catch((err) => {
+  if (err instanceof EnvError) {
+    console.error(err.message);
+  } else {
+    console.error(err);
+  }
+  process.exit(1);
+});

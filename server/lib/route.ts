@@ -1,0 +1,135 @@
+import type { Request, RequestHandler, Response, Router } from "express";
+import type { OpenAPIRegistry, RouteConfig } from "@asteasolutions/zod-to-openapi";
+import type { z } from "zod";
+import { apiErrorSchema } from "@shared/api/common";
+import { requireRole, type Access } from "../middleware/require-role";
+
+type Method = "get" | "post" | "put" | "patch" | "delete";
+type AnyZod = z.ZodType;
+type Out<T> = T extends AnyZod ? z.output<T> : Record<string, never>;
+
+export interface ResponseSpec {
+  description: string;
+  schema?: AnyZod;
+  /** For files and pages: the media type instead of a JSON schema. */
+  contentType?: string;
+}
+
+export interface RouteContext<P, Q, B> {
+  req: Request;
+  res: Response;
+  /** The signed-in user; non-null on every route that is not public. */
+  user: NonNullable<Request["user"]>;
+  params: P;
+  query: Q;
+  body: B;
+}
+
+export interface RouteSpec<P extends AnyZod | undefined, Q extends AnyZod | undefined, B extends AnyZod | undefined> {
+  method: Method;
+  /** Express path, e.g. "/admin/users/:id" (relative to /api). */
+  path: string;
+  summary: string;
+  tag: string;
+  access: Access;
+  params?: P;
+  query?: Q;
+  body?: B;
+  /** Multipart uploads: the multer middleware, and the OpenAPI description of the form. */
+  upload?: { middleware: RequestHandler; fields: Record<string, { type: "file" | "files" | "string"; description: string }> };
+  /** Status of a successful answer (the first key of `responses` when not given). */
+  status?: number;
+  responses: Record<number, ResponseSpec>;
+  handler: (ctx: RouteContext<Out<P>, Out<Q>, Out<B>>) => unknown | Promise<unknown>;
+}
+
+export type AnyRoute = RouteSpec<AnyZod | undefined, AnyZod | undefined, AnyZod | undefined>;
+
+/** Declares a route; the generics carry the zod types into the handler. */
+export function defineRoute<
+  P extends AnyZod | undefined = undefined,
+  Q extends AnyZod | undefined = undefined,
+  B extends AnyZod | undefined = undefined,
+>(spec: RouteSpec<P, Q, B>): AnyRoute {
+  return spec as unknown as AnyRoute;
+}
+
+const toOpenApiPath = (p: string) => "/api" + p.replace(/:([A-Za-z0-9_]+)/g, "{$1}");
+
+function describe(registry: OpenAPIRegistry, spec: AnyRoute) {
+  const responses: RouteConfig["responses"] = {};
+  for (const [status, r] of Object.entries(spec.responses)) {
+    responses[status] = r.schema
+      ? { description: r.description, content: { "application/json": { schema: r.schema } } }
+      : r.contentType
+        ? { description: r.description, content: { [r.contentType]: { schema: { type: "string", format: "binary" } } } }
+        : { description: r.description };
+  }
+  const errorStatuses: Record<string, string> = { "400": "The request is not valid." };
+  if (spec.access !== "public") errorStatuses["401"] = "Not signed in.";
+  if (spec.access !== "public" && spec.access !== "signed-in") errorStatuses["403"] = "The role does not allow this.";
+  for (const [status, description] of Object.entries(errorStatuses)) {
+    if (!responses[status]) responses[status] = { description, content: { "application/json": { schema: apiErrorSchema } } };
+  }
+  const request: RouteConfig["request"] = {};
+  if (spec.params) request.params = spec.params as never;
+  if (spec.query) request.query = spec.query as never;
+  if (spec.body) request.body = { content: { "application/json": { schema: spec.body } }, required: true };
+  if (spec.upload) {
+    const properties: Record<string, unknown> = {};
+    for (const [name, f] of Object.entries(spec.upload.fields)) {
+      properties[name] =
+        f.type === "files"
+          ? { type: "array", items: { type: "string", format: "binary" }, description: f.description }
+          : f.type === "file"
+            ? { type: "string", format: "binary", description: f.description }
+            : { type: "string", description: f.description };
+    }
+    request.body = { content: { "multipart/form-data": { schema: { type: "object", properties } as never } }, required: true };
+  }
+  const security =
+    spec.access === "public"
+      ? []
+      : spec.access === "ingest.token"
+        ? [{ apiToken: [] }]
+        : [{ session: [] }];
+  registry.registerPath({
+    method: spec.method,
+    path: toOpenApiPath(spec.path),
+    summary: spec.summary,
+    description: accessText(spec.access),
+    tags: [spec.tag],
+    security,
+    request,
+    responses,
+  });
+}
+
+function accessText(access: Access) {
+  if (access === "public") return "Open without sign-in.";
+  if (access === "signed-in") return "Any signed-in user.";
+  if (access === "ingest.token") return "API token (Authorization: Bearer …).";
+  return `Capability \`${access}\` (see shared/roles.ts).`;
+}
+
+/**
+ * Mounts routes on a router behind the role gate, validates params, query and body with their zod
+ * schemas (a failure becomes a 400 through the error middleware), and documents each in OpenAPI.
+ */
+export function mountRoutes(router: Router, registry: OpenAPIRegistry, routes: AnyRoute[], gate = requireRole) {
+  for (const spec of routes) {
+    describe(registry, spec);
+    const successStatus = spec.status ?? Number(Object.keys(spec.responses)[0] ?? 200);
+    const handlers: RequestHandler[] = [gate(spec.access)];
+    if (spec.upload) handlers.push(spec.upload.middleware);
+    handlers.push(async (req, res) => {
+      const params = spec.params ? spec.params.parse(req.params) : req.params;
+      const query = spec.query ? spec.query.parse(req.query) : req.query;
+      const body = spec.body ? spec.body.parse(req.body ?? {}) : req.body;
+      const result = await spec.handler({ req, res, user: req.user!, params, query, body } as never);
+      if (!res.headersSent && result !== undefined) res.status(successStatus).json(result);
+      else if (!res.headersSent) res.status(successStatus === 200 ? 204 : successStatus).end();
+    });
+    router[spec.method](spec.path, ...handlers);
+  }
+}

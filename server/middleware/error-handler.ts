@@ -1,0 +1,65 @@
+import type { ErrorRequestHandler, RequestHandler } from "express";
+import { ZodError } from "zod";
+import { HttpError } from "../lib/http-error";
+import type { Logger } from "../lib/logger";
+
+function zodDetails(err: ZodError) {
+  return err.issues.map((i) => ({ path: i.path.join("."), message: i.message }));
+}
+
+export function apiNotFound(): RequestHandler {
+  return (req, res) => {
+    res.status(404).json({
+      error: { code: "not_found", message: `There is no API route ${req.method} ${req.originalUrl.split("?")[0]}.` },
+    });
+  };
+}
+
+/**
+ * Maps every error to `{ error: { code, message, details? } }`. Known errors keep their status;
+ * anything unexpected is logged and answered with a generic 500, never a stack trace.
+ */
+export function errorHandler(logger: Logger): ErrorRequestHandler {
+  return (err, req, res, _next) => {
+    if (res.headersSent) {
+      logger.error({ path: req.path, err: String(err) }, "error after response started");
+      return;
+    }
+    if (err instanceof HttpError) {
+      res.status(err.status).json({ error: { code: err.code, message: err.message, details: err.details } });
+      return;
+    }
+    if (err instanceof ZodError) {
+      const details = zodDetails(err);
+      const first = details[0];
+      res.status(400).json({
+        error: {
+          code: "validation_failed",
+          message: first ? `${first.path ? first.path + ": " : ""}${first.message}` : "The request is not valid.",
+          details,
+        },
+      });
+      return;
+    }
+    // body-parser and multer errors carry a status or a code of their own.
+    const e = err as { type?: string; status?: number; code?: string; message?: string; field?: string };
+    if (e.type === "entity.parse.failed") {
+      res.status(400).json({ error: { code: "invalid_json", message: "The request body is not valid JSON." } });
+      return;
+    }
+    if (e.type === "entity.too.large" || e.code === "LIMIT_FILE_SIZE") {
+      res.status(413).json({ error: { code: "too_large", message: e.code === "LIMIT_FILE_SIZE" ? "The file is too large." : "The request body is too large." } });
+      return;
+    }
+    if (typeof e.code === "string" && e.code.startsWith("LIMIT_")) {
+      res.status(400).json({ error: { code: "upload_rejected", message: e.message ?? "The upload was refused.", details: { field: e.field } } });
+      return;
+    }
+    if (typeof e.status === "number" && e.status >= 400 && e.status < 500) {
+      res.status(e.status).json({ error: { code: e.type ?? "bad_request", message: e.message ?? "The request was refused." } });
+      return;
+    }
+    logger.error({ method: req.method, path: req.path, err }, "unhandled error");
+    res.status(500).json({ error: { code: "internal", message: "Something went wrong on the server. The error was logged; please try again." } });
+  };
+}

@@ -1,0 +1,49 @@
+import { z } from "zod";
+import { adminUserSchema, createUserSchema, updateUserSchema } from "@shared/api/users";
+import { defineRoute } from "../lib/route";
+import { createUser, listUsers, updateUser } from "../services/users.service";
+import type { Deps } from "./deps";
+
+const idParams = z.object({ id: z.string().min(1).max(64) });
+
+export function adminUserRoutes({ db, auth }: Deps) {
+  return [
+    defineRoute({
+      method: "get",
+      path: "/admin/users",
+      summary: "List users with their roles",
+      tag: "admin",
+      access: "users.manage",
+      responses: { 200: { description: "All users.", schema: z.object({ users: z.array(adminUserSchema) }) } },
+      handler: () => ({ users: listUsers(db) }),
+    }),
+    defineRoute({
+      method: "post",
+      path: "/admin/users",
+      summary: "Create a user with one or more roles",
+      tag: "admin",
+      access: "users.manage",
+      body: createUserSchema,
+      responses: {
+        201: { description: "Created.", schema: adminUserSchema },
+        409: { description: "The e-mail is taken." },
+      },
+      handler: ({ body, user }) => createUser(db, auth, body, { userId: user.id }),
+    }),
+    defineRoute({
+      method: "patch",
+      path: "/admin/users/:id",
+      summary: "Change a user's name or roles, or deactivate / reactivate them",
+      tag: "admin",
+      access: "users.manage",
+      params: idParams,
+      body: updateUserSchema,
+      responses: {
+        200: { description: "Updated.", schema: adminUserSchema },
+        404: { description: "No such user." },
+        409: { description: "Would leave no active administrator." },
+      },
+      handler: ({ params, body, user }) => updateUser(db, params.id, body, user.id),
+    }),
+  ];
+}

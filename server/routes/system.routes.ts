@@ -1,0 +1,49 @@
+import { healthSchema } from "@shared/api/common";
+import { aboutSchema } from "@shared/api/plant";
+import { meSchema } from "@shared/api/users";
+import { ROLE_LABELS } from "@shared/roles";
+import { defineRoute } from "../lib/route";
+import { DEMO_USERS } from "../seed/catalogue";
+import type { Deps } from "./deps";
+
+export function systemRoutes({ db, env }: Deps) {
+  return [
+    defineRoute({
+      method: "get",
+      path: "/health",
+      summary: "Liveness check",
+      tag: "system",
+      access: "public",
+      responses: { 200: { description: "The server is up.", schema: healthSchema } },
+      handler: () => ({ status: "ok" as const }),
+    }),
+    defineRoute({
+      method: "get",
+      path: "/me",
+      summary: "The signed-in user and their roles",
+      tag: "system",
+      access: "signed-in",
+      responses: { 200: { description: "The user.", schema: meSchema } },
+      handler: ({ user }) => ({ id: user.id, name: user.name, email: user.email, roles: user.roles }),
+    }),
+    defineRoute({
+      method: "get",
+      path: "/about",
+      summary: "Product and plant name for the sign-in page",
+      tag: "system",
+      access: "public",
+      responses: { 200: { description: "About this installation.", schema: aboutSchema } },
+      handler: () => {
+        const works = db.$client.prepare("select works_name from casters order by id limit 1").pluck().get() as string | undefined;
+        const demo = db.$client.prepare("select 1 from plant_settings where key = 'demo.plant'").get() !== undefined;
+        const showAccounts = demo && env.NODE_ENV !== "production";
+        return {
+          product: "Strandsight" as const,
+          works: works ?? null,
+          demo,
+          demoAccounts: showAccounts ? DEMO_USERS.map((u) => ({ email: u.email, role: ROLE_LABELS[u.roles[0]] })) : [],
+        };
+      },
+    }),
+  ];
+}

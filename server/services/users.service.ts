@@ -1,0 +1,111 @@
+import crypto from "node:crypto";
+import { and, asc, eq, ne, sql } from "drizzle-orm";
+import { parseRoles, type Role } from "@shared/roles";
+import type { AdminUser, CreateUserInput, UpdateUserInput } from "@shared/api/users";
+import type { Auth } from "../auth";
+import type { Db } from "../db/client";
+import { account, session, user } from "../db/schema";
+import { HttpError, conflict, notFound } from "../lib/http-error";
+import { recordAudit } from "./audit.service";
+
+type UserRow = typeof user.$inferSelect;
+
+function toAdminUser(u: UserRow): AdminUser {
+  return {
+    id: u.id,
+    name: u.name,
+    email: u.email,
+    roles: parseRoles(u.role),
+    active: !u.banned,
+    createdAt: u.createdAt.toISOString(),
+  };
+}
+
+export function listUsers(db: Db): AdminUser[] {
+  return db.select().from(user).orderBy(asc(user.name)).all().map(toAdminUser);
+}
+
+/**
+ * Creates a user with a password in one transaction (user, credential account, audit row). The hash
+ * comes from better-auth itself so sign-in verifies it exactly as for any other account.
+ */
+export async function createUser(
+  db: Db,
+  auth: Auth,
+  input: CreateUserInput,
+  actor: { userId?: string | null; actor?: string },
+): Promise<AdminUser> {
+  const email = input.email.toLowerCase();
+  if (db.select({ id: user.id }).from(user).where(eq(user.email, email)).get()) {
+    throw conflict(`A user with the e-mail ${email} already exists.`, { field: "email" });
+  }
+  const ctx = await auth.$context;
+  const hash = await ctx.password.hash(input.password);
+  const id = crypto.randomUUID();
+  const now = new Date();
+  const row = db.transaction((tx) => {
+    const created = tx
+      .insert(user)
+      .values({ id, name: input.name, email, emailVerified: true, role: input.roles.join(","), banned: false, createdAt: now, updatedAt: now })
+      .returning()
+      .get();
+    tx.insert(account)
+      .values({ id: crypto.randomUUID(), accountId: id, providerId: "credential", userId: id, password: hash, createdAt: now, updatedAt: now })
+      .run();
+    recordAudit(tx, {
+      userId: actor.userId,
+      actor: actor.actor,
+      action: "user.create",
+      entity: "user",
+      entityId: id,
+      after: { name: input.name, email, roles: input.roles },
+    });
+    return created;
+  });
+  return toAdminUser(row);
+}
+
+function activeAdminsOtherThan(db: Pick<Db, "select">, id: string): number {
+  const rows = db
+    .select({ role: user.role })
+    .from(user)
+    .where(and(ne(user.id, id), sql`coalesce(${user.banned}, 0) = 0`))
+    .all();
+  return rows.filter((r) => parseRoles(r.role).includes("admin")).length;
+}
+
+/** Changes name, roles or active state; deactivation ends the user's sessions at once. */
+export function updateUser(db: Db, id: string, input: UpdateUserInput, actorId: string): AdminUser {
+  return db.transaction((tx) => {
+    const before = tx.select().from(user).where(eq(user.id, id)).get();
+    if (!before) throw notFound("There is no such user.");
+    const roles: Role[] = input.roles ?? parseRoles(before.role);
+    const active = input.active ?? !before.banned;
+    const losesAdmin = parseRoles(before.role).includes("admin") && !before.banned && (!roles.includes("admin") || !active);
+    if (losesAdmin && activeAdminsOtherThan(tx, id) === 0) {
+      throw new HttpError(409, "last_admin", "This is the last active administrator; give another user the admin role first.");
+    }
+    const after = tx
+      .update(user)
+      .set({
+        name: input.name ?? before.name,
+        role: roles.join(","),
+        banned: !active,
+        banReason: active ? null : "Deactivated by an administrator",
+        updatedAt: new Date(),
+      })
+      .where(eq(user.id, id))
+      .returning()
+      .get();
+    if (!active) tx.delete(session).where(eq(session.userId, id)).run();
+    recordAudit(tx, {
+      userId: actorId,
+      action: "user.update",
+      entity: "user",
+      entityId: id,
+      before: toAdminUser(before),
+      after: toAdminUser(after),
+    });
+    return toAdminUser(after);
+  });
+}

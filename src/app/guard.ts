@@ -1,0 +1,13 @@
+import type { QueryClient } from "@tanstack/react-query";
+import { data } from "react-router";
+import { can, type Capability } from "@shared/roles";
+import { authKeys } from "@/features/auth/api/session";
+
+/** For a screen's loader: the user must hold the capability, else the route's error view shows 403. */
+export async function requireCapability(qc: QueryClient, capability: Capability) {
+  const me = await qc.ensureQueryData(authKeys.me());
+  if (!me || !can(me.roles, capability)) {
+    throw data({ message: "Your role does not open this screen." }, { status: 403 });
+  }
+  return me;
+}

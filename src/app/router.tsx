@@ -1,0 +1,36 @@
+import type { QueryClient } from "@tanstack/react-query";
+import { createBrowserRouter, type LoaderFunction } from "react-router";
+
+/** A lazily loaded screen: its component, an optional loader built with the QueryClient, and its error view. */
+interface RouteModule {
+  Component: React.ComponentType;
+  makeLoader?: (qc: QueryClient) => LoaderFunction;
+  ErrorBoundary?: React.ComponentType;
+}
+
+function lazyRoute(qc: QueryClient, load: () => Promise<RouteModule>) {
+  return async () => {
+    const m = await load();
+    return { Component: m.Component, loader: m.makeLoader?.(qc), ErrorBoundary: m.ErrorBoundary };
+  };
+}
+
+export function createRouter(qc: QueryClient) {
+  return createBrowserRouter([
+    { path: "/sign-in", lazy: lazyRoute(qc, () => import("./routes/sign-in")) },
+    {
+      path: "/",
+      lazy: lazyRoute(qc, () => import("./routes/app-layout")),
+      children: [
+        { index: true, lazy: lazyRoute(qc, () => import("./routes/home")) },
+        { path: "yard", lazy: lazyRoute(qc, () => import("./routes/yard")) },
+        { path: "quality", lazy: lazyRoute(qc, () => import("./routes/quality-home")) },
+        { path: "process", lazy: lazyRoute(qc, () => import("./routes/process-home")) },
+        { path: "claims", lazy: lazyRoute(qc, () => import("./routes/claims-home")) },
+        { path: "admin/users", lazy: lazyRoute(qc, () => import("./routes/admin-users")) },
+        { path: "no-role", lazy: lazyRoute(qc, () => import("./routes/no-role")) },
+        { path: "*", lazy: lazyRoute(qc, () => import("./routes/not-found")) },
+      ],
+    },
+  ]);
+}

@@ -1,0 +1,83 @@
+import type { QueryClient } from "@tanstack/react-query";
+import { useQuery } from "@tanstack/react-query";
+import { NavLink, Outlet, redirect, useNavigate, useNavigation, type LoaderFunctionArgs } from "react-router";
+import { ROLE_LABELS } from "@shared/roles";
+import { Button } from "@/components/ui/button";
+import { Logo } from "@/components/ui/logo";
+import { navFor } from "@/config/nav";
+import { authKeys, useSignOut } from "@/features/auth/api/session";
+import { plantKeys } from "@/features/plant/api/plant.queries";
+
+export function makeLoader(qc: QueryClient) {
+  return async ({ request }: LoaderFunctionArgs) => {
+    const me = await qc.ensureQueryData(authKeys.me());
+    if (!me) {
+      const url = new URL(request.url);
+      throw redirect(`/sign-in?next=${encodeURIComponent(url.pathname + url.search)}`);
+    }
+    return null;
+  };
+}
+
+export function Component() {
+  const { data: me } = useQuery(authKeys.me());
+  const about = useQuery(plantKeys.about());
+  const signOut = useSignOut();
+  const navigate = useNavigate();
+  const navigation = useNavigation();
+  if (!me) return null;
+  const items = navFor(me.roles);
+
+  return (
+    <div className="flex min-h-dvh flex-col">
+      <header className="bg-ink-900 text-white">
+        <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-2">
+          <NavLink to="/" className="flex items-center gap-2 py-1" aria-label="Strandsight home">
+            <Logo />
+            <span className="text-lg font-bold tracking-tight">Strandsight</span>
+          </NavLink>
+          <nav aria-label="Main" className="order-3 flex w-full flex-wrap gap-1 pb-1 lg:order-none lg:w-auto lg:flex-1 lg:pb-0">
+            {items.map((i) => (
+              <NavLink
+                key={i.to}
+                to={i.to}
+                className={({ isActive }) =>
+                  `flex min-h-12 items-center whitespace-nowrap rounded-md px-3 text-sm font-semibold ${
+                    isActive ? "bg-strand-700 text-white" : "text-ink-200 hover:bg-ink-800 hover:text-white"
+                  }`
+                }
+              >
+                {i.label}
+              </NavLink>
+            ))}
+          </nav>
+          <div className="ml-auto flex items-center gap-3">
+            <div className="text-right leading-tight">
+              <div className="text-sm font-semibold" data-testid="user-name">{me.name}</div>
+              <div className="text-xs text-ink-300">{me.roles.map((r) => ROLE_LABELS[r]).join(" · ")}</div>
+            </div>
+            <Button
+              variant="secondary"
+              className="min-h-12"
+              onClick={async () => {
+                await signOut.mutateAsync();
+                navigate("/sign-in", { replace: true });
+              }}
+            >
+              Sign out
+            </Button>
+          </div>
+        </div>
+      </header>
+      {about.data?.demo ? (
+        <div className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
+          Invented demo plant: every heat, slab, defect, customer and claim shown here is made up.
+        </div>
+      ) : null}
+      {navigation.state === "loading" ? <div className="h-1 animate-pulse bg-strand-500" aria-hidden /> : <div className="h-1" aria-hidden />}
+      <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6">
+        <Outlet />
+      </main>
+    </div>
+  );
+}

@@ -1,0 +1,40 @@
+import { useState } from "react";
+import type { QueryClient } from "@tanstack/react-query";
+import type { SlabHit } from "@shared/api/plant";
+import { Card, PageHeader } from "@/components/ui/card";
+import { Notice } from "@/components/ui/notice";
+import { SlabFinder } from "@/features/plant/components/slab-finder";
+import { requireCapability } from "../guard";
+import { RouteError } from "./route-error";
+
+export function makeLoader(qc: QueryClient) {
+  return async () => {
+    await requireCapability(qc, "claims.manage");
+    return null;
+  };
+}
+
+export function Component() {
+  const [slab, setSlab] = useState<SlabHit | null>(null);
+  return (
+    <div className="space-y-5">
+      <PageHeader title="Claims" subtitle="Look up the slab and heat behind a complaint." />
+      <Notice tone="info" title="Procedure">
+        Dispositions and claims follow the plant's quality procedures and the customer's specification.
+      </Notice>
+      <Card title="Find a slab or heat">
+        <SlabFinder onPick={setSlab} autoFocus={false} />
+      </Card>
+      {slab ? (
+        <Card title={`Slab ${slab.slabId}`}>
+          <p className="text-sm">
+            Heat <span className="font-semibold">{slab.heatNo}</span>, strand {slab.strandNo}, grade {slab.gradeCode}, cast{" "}
+            {slab.castAt ? new Date(slab.castAt).toLocaleString("en-GB") : "—"}; {slab.defectCount} defect(s) on record.
+          </p>
+        </Card>
+      ) : null}
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteError;

@@ -1,0 +1,33 @@
+import { can, type Capability, type Role } from "@shared/roles";
+
+export interface NavItem {
+  to: string;
+  label: string;
+  capability: Capability;
+}
+
+/** Every screen of the navigation, with the capability that opens it (shared/roles.ts). */
+export const NAV_ITEMS: NavItem[] = [
+  { to: "/yard", label: "Slab yard", capability: "defects.log" },
+  { to: "/quality", label: "Quality", capability: "defects.review" },
+  { to: "/process", label: "Process", capability: "setup.manage" },
+  { to: "/claims", label: "Claims", capability: "claims.manage" },
+  { to: "/admin/users", label: "Users", capability: "users.manage" },
+];
+
+export function navFor(roles: Role[]): NavItem[] {
+  return NAV_ITEMS.filter((i) => can(roles, i.capability));
+}
+
+/** Where each role starts: the inspector goes straight to finding a slab. */
+const HOME_BY_ROLE: [Role, string][] = [
+  ["inspector", "/yard"],
+  ["quality", "/quality"],
+  ["process", "/process"],
+  ["claims", "/claims"],
+  ["admin", "/admin/users"],
+];
+
+export function homeFor(roles: Role[]): string {
+  return HOME_BY_ROLE.find(([r]) => roles.includes(r))?.[1] ?? "/no-role";
+}

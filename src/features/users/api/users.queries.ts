@@ -1,0 +1,30 @@
+import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
+import { z } from "zod";
+import { adminUserSchema, type CreateUserInput, type UpdateUserInput } from "@shared/api/users";
+import { api } from "@/lib/api-client";
+
+export const userKeys = {
+  all: ["users"] as const,
+  list: () =>
+    queryOptions({
+      queryKey: [...userKeys.all, "list"] as const,
+      queryFn: () => api("/admin/users", { schema: z.object({ users: z.array(adminUserSchema) }) }),
+    }),
+};
+
+export function useCreateUser() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (input: CreateUserInput) => api("/admin/users", { method: "POST", body: input, schema: adminUserSchema }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: userKeys.all }),
+  });
+}
+
+export function useUpdateUser() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: ({ id, ...input }: UpdateUserInput & { id: string }) =>
+      api(`/admin/users/${encodeURIComponent(id)}`, { method: "PATCH", body: input, schema: adminUserSchema }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: userKeys.all }),
+  });
+}

@@ -1,0 +1,164 @@
+import { Fragment, useMemo, useState } from "react";
+import {
+  createColumnHelper,
+  flexRender,
+  getCoreRowModel,
+  getSortedRowModel,
+  useReactTable,
+  type SortingState,
+} from "@tanstack/react-table";
+import { ROLE_LABELS, type Role } from "@shared/roles";
+import type { AdminUser } from "@shared/api/users";
+import { Button } from "@/components/ui/button";
+import { Notice } from "@/components/ui/notice";
+import { useUpdateUser } from "../api/users.queries";
+import { RolePicker } from "./role-picker";
+
+const col = createColumnHelper<AdminUser>();
+
+function StatusMark({ active }: { active: boolean }) {
+  // Shape and word, not colour alone: a filled circle for active, a hollow square for deactivated.
+  return active ? (
+    <span className="inline-flex items-center gap-1.5 text-sm font-medium text-ok-700">
+      <span className="h-2.5 w-2.5 rounded-full bg-ok-700" aria-hidden /> Active
+    </span>
+  ) : (
+    <span className="inline-flex items-center gap-1.5 text-sm font-medium text-ink-600">
+      <span className="h-2.5 w-2.5 border-2 border-ink-600" aria-hidden /> Deactivated
+    </span>
+  );
+}
+
+function RolesEditor({ user, onClose }: { user: AdminUser; onClose: () => void }) {
+  const [roles, setRoles] = useState<Role[]>(user.roles);
+  const update = useUpdateUser();
+  return (
+    <div className="space-y-3 rounded-md border border-ink-200 bg-ink-50 p-3">
+      {update.error ? <Notice tone="error">{update.error.message}</Notice> : null}
+      <RolePicker name={`roles-${user.id}`} value={roles} onChange={setRoles} />
+      <div className="flex gap-2">
+        <Button
+          disabled={roles.length === 0 || update.isPending}
+          onClick={async () => {
+            await update.mutateAsync({ id: user.id, roles });
+            onClose();
+          }}
+        >
+          Save roles
+        </Button>
+        <Button variant="ghost" onClick={onClose}>
+          Cancel
+        </Button>
+      </div>
+    </div>
+  );
+}
+
+export function UsersTable({ users, currentUserId }: { users: AdminUser[]; currentUserId: string }) {
+  const [sorting, setSorting] = useState<SortingState>([{ id: "name", desc: false }]);
+  const [editing, setEditing] = useState<string | null>(null);
+  const update = useUpdateUser();
+
+  const columns = useMemo(
+    () => [
+      col.accessor("name", { header: "Name" }),
+      col.accessor("email", { header: "E-mail" }),
+      col.accessor((u) => u.roles.map((r) => ROLE_LABELS[r]).join(", "), {
+        id: "roles",
+        header: "Roles",
+        cell: (c) => (
+          <div className="flex flex-wrap gap-1">
+            {c.row.original.roles.map((r) => (
+              <span key={r} className="rounded bg-strand-50 px-2 py-0.5 text-xs font-semibold text-strand-800">
+                {ROLE_LABELS[r]}
+              </span>
+            ))}
+          </div>
+        ),
+      }),
+      col.accessor("active", { header: "Status", cell: (c) => <StatusMark active={c.getValue()} /> }),
+      col.display({
+        id: "actions",
+        header: "",
+        cell: (c) => {
+          const u = c.row.original;
+          return (
+            <div className="flex justify-end gap-2">
+              <Button variant="secondary" onClick={() => setEditing(editing === u.id ? null : u.id)} aria-label={`Change roles of ${u.name}`}>
+                Roles
+              </Button>
+              {u.id !== currentUserId ? (
+                <Button
+                  variant={u.active ? "ghost" : "secondary"}
+                  disabled={update.isPending}
+                  onClick={() => update.mutate({ id: u.id, active: !u.active })}
+                  aria-label={`${u.active ? "Deactivate" : "Reactivate"} ${u.name}`}
+                >
+                  {u.active ? "Deactivate" : "Reactivate"}
+                </Button>
+              ) : null}
+            </div>
+          );
+        },
+      }),
+    ],
+    [editing, currentUserId, update],
+  );
+
+  const table = useReactTable({
+    data: users,
+    columns,
+    state: { sorting },
+    onSortingChange: setSorting,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+  });
+
+  return (
+    <div className="space-y-2">
+      {update.error ? <Notice tone="error">{update.error.message}</Notice> : null}
+      <div className="overflow-x-auto">
+        <table className="w-full text-sm">
+          <thead>
+            {table.getHeaderGroups().map((hg) => (
+              <tr key={hg.id} className="border-b border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
+                {hg.headers.map((h) => (
+                  <th key={h.id} className="py-2 pr-3">
+                    {h.column.getCanSort() ? (
+                      <button className="min-h-8 uppercase" onClick={h.column.getToggleSortingHandler()}>
+                        {flexRender(h.column.columnDef.header, h.getContext())}
+                        {{ asc: " ▲", desc: " ▼" }[h.column.getIsSorted() as string] ?? ""}
+                      </button>
+                    ) : (
+                      flexRender(h.column.columnDef.header, h.getContext())
+                    )}
+                  </th>
+                ))}
+              </tr>
+            ))}
+          </thead>
+          <tbody>
+            {table.getRowModel().rows.map((row) => (
+              <Fragment key={row.id}>
+                <tr className="border-b border-ink-100" data-testid={`user-row-${row.original.email}`}>
+                  {row.getVisibleCells().map((cell) => (
+                    <td key={cell.id} className="py-2 pr-3 align-middle">
+                      {flexRender(cell.column.columnDef.cell, cell.getContext())}
+                    </td>
+                  ))}
+                </tr>
+                {editing === row.original.id ? (
+                  <tr>
+                    <td colSpan={columns.length} className="py-2">
+                      <RolesEditor user={row.original} onClose={() => setEditing(null)} />
+                    </td>
+                  </tr>
+                ) : null}
+              </Fragment>
+            ))}
+          </tbody>
+        </table>
+      </div>
+    </div>
+  );
+}

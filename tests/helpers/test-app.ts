@@ -1,0 +1,87 @@
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import type { AddressInfo } from "node:net";
+import request from "supertest";
+import { createApp } from "../../server/app";
+import { createAuth } from "../../server/auth";
+import { openDatabase, type Db } from "../../server/db/client";
+import { runMigrations } from "../../server/db/migrate";
+import { loadEnv } from "../../server/env";
+import { createLogger } from "../../server/lib/logger";
+import { seedDemo } from "../../server/seed/seed";
+import type { Role } from "../../shared/roles";
+
+export const TEST_PASSWORD = "test-password-123";
+
+export interface TestAppOptions {
+  /** Seed the demo plant at this scale (1 = the full eight months); users are always seeded. */
+  scale?: number;
+  enforceOriginCheck?: boolean;
+  port?: number;
+}
+
+/**
+ * A fresh SQLite file in a temp folder, the real migrations, the real app. Every test file gets its
+ * own, so files run in parallel without sharing state.
+ */
+export async function createTestApp(opts: TestAppOptions = {}) {
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-test-"));
+  const env = loadEnv({
+    NODE_ENV: "test",
+    DATABASE_FILE: path.join(dir, "app.db"),
+    UPLOAD_DIR: path.join(dir, "uploads"),
+    BETTER_AUTH_URL: `http://localhost:${opts.port ?? 3000}`,
+    LOG_LEVEL: process.env.LOG_LEVEL ?? "silent",
+  });
+  const db = openDatabase(env.DATABASE_FILE);
+  runMigrations(db);
+  const logger = createLogger(env.LOG_LEVEL);
+  const auth = createAuth({ db, secret: env.BETTER_AUTH_SECRET, baseURL: env.BETTER_AUTH_URL, enforceOriginCheck: opts.enforceOriginCheck, logger });
+  const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02 });
+  const app = createApp({ db, auth, env, logger, serveClient: true });
+
+  /** A supertest agent that keeps the cookie of the given demo user. */
+  async function agentFor(role: Role) {
+    const agent = request.agent(app);
+    const res = await agent
+      .post("/api/auth/sign-in/email")
+      .set("Origin", env.BETTER_AUTH_URL)
+      .send({ email: `${role}@demo.test`, password: TEST_PASSWORD });
+    if (res.status !== 200) throw new Error(`sign-in as ${role} failed: ${res.status} ${JSON.stringify(res.body)}`);
+    return agent;
+  }
+
+  function close() {
+    db.$client.close();
+    fs.rmSync(dir, { recursive: true, force: true });
+  }
+
+  return { app, db, auth, env, dir, seed, agentFor, close };
+}
+
+export type TestApp = Awaited<ReturnType<typeof createTestApp>>;
+
+/** The same app on a real port, for the browser tests. */
+export async function startTestServer(opts: TestAppOptions = {}) {
+  // Find a free port first, so BETTER_AUTH_URL (the trusted origin) names the port we serve on.
+  const probe = (await import("node:http")).createServer();
+  await new Promise<void>((resolve) => probe.listen(0, "127.0.0.1", resolve));
+  const port = (probe.address() as AddressInfo).port;
+  await new Promise<void>((resolve) => probe.close(() => resolve()));
+  const t = await createTestApp({ ...opts, port });
+  const server = t.app.listen(port, "127.0.0.1");
+  await new Promise<void>((resolve) => server.once("listening", resolve));
+  const baseUrl = `http://localhost:${port}`;
+  return {
+    ...t,
+    baseUrl,
+    async stop() {
+      await new Promise<void>((resolve) => server.close(() => resolve()));
+      server.closeAllConnections();
+      t.close();
+    },
+  };
+}
+
+export type { Db };

@@ -1,0 +1,81 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import request from "supertest";
+import type { AnyRoute } from "../../server/lib/route";
+import { createTestApp, type TestApp } from "../helpers/test-app";
+
+let t: TestApp;
+beforeAll(async () => {
+  t = await createTestApp({ scale: 0.01 });
+});
+afterAll(() => t?.close());
+
+describe("API basics", () => {
+  it("when /api/health is called without sign-in, then it answers { status: ok }", async () => {
+    const res = await request(t.app).get("/api/health");
+    expect(res.status).toBe(200);
+    expect(res.body).toEqual({ status: "ok" });
+  });
+
+  it("when an unknown /api route is called, then it answers 404 JSON, not the client's HTML", async () => {
+    const res = await request(t.app).get("/api/no-such-thing");
+    expect(res.status).toBe(404);
+    expect(res.headers["content-type"]).toMatch(/application\/json/);
+    expect(res.body.error).toMatchObject({ code: "not_found" });
+  });
+
+  it("when a client page is asked for, then the built index.html is served (the router takes over)", async () => {
+    const res = await request(t.app).get("/yard");
+    expect(res.status).toBe(200);
+    expect(res.text).toContain('<div id="root">');
+  });
+
+  it("when signed in, then /api/me gives the user with roles as an array", async () => {
+    const agent = await t.agentFor("process");
+    const res = await agent.get("/api/me");
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({ email: "process@demo.test", roles: ["process"] });
+  });
+
+  it("when the JSON body is malformed, then the answer is 400 invalid_json in the error envelope", async () => {
+    const agent = await t.agentFor("admin");
+    const res = await agent.post("/api/admin/users").set("Origin", t.env.BETTER_AUTH_URL).set("content-type", "application/json").send("{ not json");
+    expect(res.status).toBe(400);
+    expect(res.body).toEqual({ error: { code: "invalid_json", message: "The request body is not valid JSON." } });
+  });
+
+  it("when sign-in fails, then better-auth's error comes back in the same envelope", async () => {
+    const res = await request(t.app)
+      .post("/api/auth/sign-in/email")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .send({ email: "quality@demo.test", password: "wrong-password" });
+    expect(res.status).toBe(401);
+    expect(res.body.error.code).toBe("invalid_email_or_password");
+    expect(typeof res.body.error.message).toBe("string");
+  });
+
+  it("when someone tries to sign themselves up, then it is refused and no user is written", async () => {
+    const before = t.db.$client.prepare("select count(*) from user").pluck().get();
+    const res = await request(t.app)
+      .post("/api/auth/sign-up/email")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .send({ email: "self@example.test", password: "long-enough-pw", name: "Self", role: "admin" });
+    expect(res.status).toBeGreaterThanOrEqual(400);
+    expect(res.status).toBeLessThan(500);
+    expect(t.db.$client.prepare("select count(*) from user").pluck().get()).toBe(before);
+  });
+
+  it("when /api/openapi.json is read, then it is OpenAPI 3 and lists every route the app serves", async () => {
+    const res = await request(t.app).get("/api/openapi.json");
+    expect(res.status).toBe(200);
+    expect(res.body.openapi).toMatch(/^3\./);
+    const documented = new Set<string>();
+    for (const [p, ops] of Object.entries(res.body.paths as Record<string, object>)) {
+      for (const m of Object.keys(ops)) documented.add(`${m.toUpperCase()} ${p}`);
+    }
+    for (const r of t.app.locals.routes as AnyRoute[]) {
+      const p = "/api" + r.path.replace(/:([A-Za-z0-9_]+)/g, "{$1}");
+      expect(documented.has(`${r.method.toUpperCase()} ${p}`), `${r.method} ${p}`).toBe(true);
+    }
+    expect(res.body.components.schemas.Error).toBeDefined();
+  });
+});

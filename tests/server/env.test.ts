@@ -1,0 +1,37 @@
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { describe, expect, it } from "vitest";
+import { EnvError, loadEnv } from "../../server/env";
+
+const tmp = () => path.join(fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-env-")), "app.db");
+
+describe("environment", () => {
+  it("when PORT is not a number, then loading stops with a message naming PORT", () => {
+    expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(EnvError);
+    expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(/PORT/);
+  });
+
+  it("when SEED_DEMO is neither true nor false, then loading stops", () => {
+    expect(() => loadEnv({ SEED_DEMO: "maybe", DATABASE_FILE: tmp() })).toThrow(/SEED_DEMO/);
+  });
+
+  it("when production has no BETTER_AUTH_SECRET, then loading refuses to start", () => {
+    expect(() => loadEnv({ NODE_ENV: "production", DATABASE_FILE: tmp() })).toThrow(/BETTER_AUTH_SECRET is required in production/);
+  });
+
+  it("when the local demo has no secret, then one is generated once and kept beside the database", () => {
+    const file = tmp();
+    const a = loadEnv({ DATABASE_FILE: file });
+    const b = loadEnv({ DATABASE_FILE: file });
+    expect(a.BETTER_AUTH_SECRET.length).toBeGreaterThanOrEqual(32);
+    expect(b.BETTER_AUTH_SECRET).toBe(a.BETTER_AUTH_SECRET);
+    expect(fs.readFileSync(path.join(path.dirname(file), ".auth-secret"), "utf8").trim()).toBe(a.BETTER_AUTH_SECRET);
+  });
+
+  it("when nothing is set, then the documented defaults apply", () => {
+    const env = loadEnv({ DATABASE_FILE: tmp() });
+    expect(env).toMatchObject({ PORT: 3000, UPLOAD_DIR: "./uploads", DEMO_PASSWORD: "strandsight-demo", BETTER_AUTH_URL: "http://localhost:3000" });
+    expect(env.SEED_DEMO).toBeUndefined();
+  });
+});
