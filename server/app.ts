@@ -3,13 +3,15 @@ import path from "node:path";
 import { fileURLToPath } from "node:url";
 import express from "express";
 import { toNodeHandler } from "better-auth/node";
-import type { Auth } from "./auth";
+import helmet from "helmet";
+import { CLIENT_IP_HEADER, type Auth } from "./auth";
 import type { Db } from "./db/client";
 import type { Env } from "./env";
 import type { Logger } from "./lib/logger";
 import { mountRoutes, type AnyRoute } from "./lib/route";
 import { authContext } from "./middleware/auth-context";
 import { apiNotFound, errorHandler } from "./middleware/error-handler";
+import { sameOriginWrites } from "./middleware/same-origin";
 import { buildOpenApiDocument, createOpenApiRegistry } from "./openapi";
 import { adminUserRoutes } from "./routes/admin-users.routes";
 import type { Deps } from "./routes/deps";
@@ -26,6 +28,8 @@ export interface AppOptions {
   logger: Logger;
   /** Serve the built client from dist/ (on by default when it exists). */
   serveClient?: boolean;
+  /** Origins besides BETTER_AUTH_URL's that may send writes with the session cookie (Vite's dev server). */
+  trustedOrigins?: string[];
 }
 
 /**
@@ -61,10 +65,46 @@ export function createApp(opts: AppOptions) {
   app.disable("x-powered-by");
   app.set("trust proxy", env.TRUST_PROXY);
 
-  // better-auth reads the raw body itself: mount it before express.json().
-  const authHandler = toNodeHandler(async (request: Request) => withErrorEnvelope(await auth.handler(request)));
-  app.all("/api/auth/{*any}", authHandler);
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          "default-src": ["'self'"],
+          "script-src": ["'self'"],
+          "style-src": ["'self'", "'unsafe-inline'"],
+          "img-src": ["'self'", "data:", "blob:"],
+          "font-src": ["'self'", "data:"],
+          "connect-src": ["'self'"],
+          "frame-ancestors": ["'none'"],
+          "form-action": ["'self'"],
+          "object-src": ["'none'"],
+          "base-uri": ["'self'"],
+          // The app is often served over plain http on a plant intranet; do not force https here.
+          "upgrade-insecure-requests": null,
+        },
+      },
+      // HSTS only makes sense behind https; the reverse proxy sets it there.
+      strictTransportSecurity: env.BETTER_AUTH_URL.startsWith("https://"),
+      crossOriginEmbedderPolicy: false,
+    }),
+  );
 
+  const trustedOrigins = [new URL(env.BETTER_AUTH_URL).origin, ...(opts.trustedOrigins ?? [])];
+
+  // better-auth's own user-management endpoints (/api/auth/admin/*) would bypass our role gate,
+  // audit log and last-admin rule: users are managed through /api/admin/users only.
+  app.all("/api/auth/admin/{*any}", (req, res) => {
+    res.status(404).json({ error: { code: "not_found", message: `There is no API route ${req.method} ${req.path}.` } });
+  });
+  // better-auth reads the raw body itself: mount it before express.json(). It gets the client
+  // address Express resolved (TRUST_PROXY), never a forwarded header as the client sent it.
+  const authHandler = toNodeHandler(async (request: Request) => withErrorEnvelope(await auth.handler(request)));
+  app.all("/api/auth/{*any}", (req, res) => {
+    req.headers[CLIENT_IP_HEADER] = req.ip ?? req.socket.remoteAddress ?? "";
+    return authHandler(req, res);
+  });
+
+  app.use("/api", sameOriginWrites(trustedOrigins));
   app.use("/api", express.json({ limit: "2mb" }));
   app.use("/api", authContext(auth));
 

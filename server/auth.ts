@@ -32,7 +32,14 @@ export interface AuthOptions {
   sendResetPassword?: (data: { user: { email: string; name: string }; url: string; token: string }) => Promise<void>;
   /** better-auth's own messages go to the app's log. */
   logger?: Logger;
+  /** Production: cookies always Secure (the URL is https there). */
+  secureCookies?: boolean;
+  /** better-auth's built-in rate limits (sign-in: a few attempts per 10 s per client); on in production. */
+  rateLimit?: boolean;
 }
+
+/** Express puts the client address it trusts (TRUST_PROXY) in this header before better-auth runs. */
+export const CLIENT_IP_HEADER = "x-strandsight-client-ip";
 
 export function createAuth(opts: AuthOptions) {
   return betterAuth({
@@ -59,6 +66,7 @@ export function createAuth(opts: AuthOptions) {
         ? async ({ user: u, url, token }) => opts.sendResetPassword!({ user: u, url, token })
         : undefined,
     },
+    rateLimit: { enabled: opts.rateLimit ?? process.env.NODE_ENV === "production", storage: "memory" },
     session: {
       // A shift plus margin; the cookie is refreshed while the user keeps working.
       expiresIn: 60 * 60 * 24 * 3,
@@ -66,7 +74,11 @@ export function createAuth(opts: AuthOptions) {
     },
     advanced: {
       ...(opts.enforceOriginCheck ? { disableOriginCheck: false } : {}),
+      useSecureCookies: opts.secureCookies ?? false,
       defaultCookieAttributes: { httpOnly: true, sameSite: "lax" },
+      // Rate limits and session records key on the address Express resolved, never on a header a
+      // client could forge (server/app.ts overwrites this one on every request).
+      ipAddress: { ipAddressHeaders: [CLIENT_IP_HEADER] },
     },
     plugins: [
       admin({
@@ -74,6 +86,7 @@ export function createAuth(opts: AuthOptions) {
         roles: authRoles,
         adminRoles: ["admin"],
         defaultRole: "inspector",
+        bannedUserMessage: "This account has been deactivated. Ask an administrator to reactivate it.",
       }),
     ],
   });

@@ -48,6 +48,19 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
     }
     secret = localSecret(env.DATABASE_FILE);
   }
+  if (env.NODE_ENV === "production") {
+    if (!env.BETTER_AUTH_URL) {
+      throw new EnvError("BETTER_AUTH_URL is required in production: the https:// address users open, e.g. https://strandsight.plant.example.");
+    }
+    if (!env.BETTER_AUTH_URL.startsWith("https://")) {
+      throw new EnvError(
+        "BETTER_AUTH_URL must be an https:// address in production: session cookies are Secure there and a browser will not send them over http. Put the app behind a TLS reverse proxy (and set TRUST_PROXY).",
+      );
+    }
+    if (env.SEED_DEMO && env.DEMO_PASSWORD === "strandsight-demo") {
+      throw new EnvError("SEED_DEMO=true in production would create demo accounts with the published password: set your own DEMO_PASSWORD, or leave SEED_DEMO off.");
+    }
+  }
   return {
     ...env,
     BETTER_AUTH_SECRET: secret,

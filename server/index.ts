@@ -1,9 +1,9 @@
-import { sql } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import { createApp } from "./app";
 import { createAuth } from "./auth";
 import { openDatabase } from "./db/client";
 import { runMigrations } from "./db/migrate";
-import { heats } from "./db/schema";
+import { heats, user } from "./db/schema";
 import { EnvError, loadDotEnvFile, loadEnv } from "./env";
 import { createLogger } from "./lib/logger";
 import { DEMO_USERS } from "./seed/catalogue";
@@ -16,12 +16,15 @@ async function main() {
   const db = openDatabase(env.DATABASE_FILE);
   runMigrations(db);
 
+  // `npm run dev`: the browser talks to Vite on 5173, which forwards /api here.
+  const devOrigins = env.NODE_ENV === "development" ? ["http://localhost:5173"] : [];
   const auth = createAuth({
     db,
     secret: env.BETTER_AUTH_SECRET,
     baseURL: env.BETTER_AUTH_URL,
-    trustedOrigins: env.NODE_ENV === "development" ? ["http://localhost:5173"] : [],
+    trustedOrigins: devOrigins,
     logger,
+    secureCookies: env.NODE_ENV === "production",
   });
 
   const empty = db.select({ n: sql<number>`count(*)` }).from(heats).get()!.n === 0;
@@ -32,11 +35,12 @@ async function main() {
     console.log(`Demo plant ready in ${result.seconds.toFixed(1)} s`, result.production ?? "(already there)");
   }
 
-  const app = createApp({ db, auth, env, logger });
+  const app = createApp({ db, auth, env, logger, trustedOrigins: devOrigins });
+  const demoUsers = db.select({ id: user.id }).from(user).where(eq(user.email, DEMO_USERS[0].email)).get() !== undefined;
   const server = app.listen(env.PORT, env.HOST, () => {
     const url = env.BETTER_AUTH_URL;
     console.log(`\nStrandsight is running: ${url}`);
-    if (seed || !empty) {
+    if (demoUsers) {
       console.log(`Demo sign-ins (password: ${env.DEMO_PASSWORD === "strandsight-demo" ? "strandsight-demo" : "the DEMO_PASSWORD you set"}):`);
       for (const u of DEMO_USERS) console.log(`  ${u.email.padEnd(22)} ${u.roles.join(", ")}`);
     }

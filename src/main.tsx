@@ -6,7 +6,15 @@ import { AppProvider } from "./app/provider";
 import { createRouter } from "./app/router";
 import { createQueryClient } from "./lib/query-client";
 
-const queryClient = createQueryClient();
+const queryClient = createQueryClient({
+  // The session ended while the user was working: forget what was cached and ask them to sign in.
+  onUnauthenticated: () => {
+    if (window.location.pathname === "/sign-in") return;
+    queryClient.clear();
+    const next = window.location.pathname + window.location.search;
+    void router.navigate(`/sign-in?next=${encodeURIComponent(next)}&expired=1`, { replace: true });
+  },
+});
 const router = createRouter(queryClient);
 
 createRoot(document.getElementById("root")!).render(

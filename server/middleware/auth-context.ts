@@ -3,12 +3,21 @@ import { fromNodeHeaders } from "better-auth/node";
 import { parseRoles } from "@shared/roles";
 import type { Auth } from "../auth";
 
-/** Resolves the session cookie once per request into `req.user` (null when signed out or deactivated). */
+/**
+ * Resolves the session cookie once per request into `req.user` (null when signed out or
+ * deactivated). When better-auth extends the session it sends a fresh cookie, passed on here so an
+ * active user stays signed in.
+ */
 export function authContext(auth: Auth): RequestHandler {
-  return async (req, _res, next) => {
+  return async (req, res, next) => {
     req.user = null;
     if (!req.headers.cookie) return next();
-    const found = await auth.api.getSession({ headers: fromNodeHeaders(req.headers) });
+    const { headers, response: found } = await auth.api.getSession({
+      headers: fromNodeHeaders(req.headers),
+      returnHeaders: true,
+    });
+    const cookies = headers.getSetCookie();
+    if (cookies.length > 0) res.append("Set-Cookie", cookies);
     if (found && !found.user.banned) {
       req.user = {
         id: found.user.id,

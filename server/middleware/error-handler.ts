@@ -41,8 +41,20 @@ export function errorHandler(logger: Logger): ErrorRequestHandler {
       });
       return;
     }
-    // body-parser and multer errors carry a status or a code of their own.
+    // body-parser, multer, static-file and SQLite errors carry a status or a code of their own.
     const e = err as { type?: string; status?: number; code?: string; message?: string; field?: string };
+    if (e.code === "SQLITE_CONSTRAINT_UNIQUE" || e.code === "SQLITE_CONSTRAINT_PRIMARYKEY") {
+      res.status(409).json({ error: { code: "conflict", message: "A record with the same key already exists." } });
+      return;
+    }
+    if (e.code === "SQLITE_CONSTRAINT_FOREIGNKEY") {
+      res.status(409).json({ error: { code: "conflict", message: "This refers to a record that does not exist, or is still referred to by others." } });
+      return;
+    }
+    if (e.status === 404 || e.code === "ENOENT") {
+      res.status(404).json({ error: { code: "not_found", message: "Not found." } });
+      return;
+    }
     if (e.type === "entity.parse.failed") {
       res.status(400).json({ error: { code: "invalid_json", message: "The request body is not valid JSON." } });
       return;
@@ -56,7 +68,8 @@ export function errorHandler(logger: Logger): ErrorRequestHandler {
       return;
     }
     if (typeof e.status === "number" && e.status >= 400 && e.status < 500) {
-      res.status(e.status).json({ error: { code: e.type ?? "bad_request", message: e.message ?? "The request was refused." } });
+      // The library's own message may name server paths: answer with a fixed one.
+      res.status(e.status).json({ error: { code: "bad_request", message: "The request was refused." } });
       return;
     }
     logger.error({ method: req.method, path: req.path, err }, "unhandled error");

@@ -43,7 +43,7 @@ export async function createUser(
   const hash = await ctx.password.hash(input.password);
   const id = crypto.randomUUID();
   const now = new Date();
-  const row = db.transaction((tx) => {
+  const insert = () => db.transaction((tx) => {
     const created = tx
       .insert(user)
       .values({ id, name: input.name, email, emailVerified: true, role: input.roles.join(","), banned: false, createdAt: now, updatedAt: now })
@@ -62,7 +62,15 @@ export async function createUser(
     });
     return created;
   });
-  return toAdminUser(row);
+  try {
+    return toAdminUser(insert());
+  } catch (err) {
+    // Two admins creating the same e-mail at once: the unique index decides, the loser gets 409.
+    if ((err as { code?: string }).code === "SQLITE_CONSTRAINT_UNIQUE") {
+      throw conflict(`A user with the e-mail ${email} already exists.`, { field: "email" });
+    }
+    throw err;
+  }
 }
 
 function activeAdminsOtherThan(db: Pick<Db, "select">, id: string): number {

@@ -31,3 +31,9 @@ const HOME_BY_ROLE: [Role, string][] = [
 export function homeFor(roles: Role[]): string {
   return HOME_BY_ROLE.find(([r]) => roles.includes(r))?.[1] ?? "/no-role";
 }
+
+/** Whether a path of the navigation is open to these roles (paths outside it are left to their screen). */
+export function canOpen(roles: Role[], path: string): boolean {
+  const item = NAV_ITEMS.find((i) => path === i.to || path.startsWith(i.to + "/"));
+  return !item || can(roles, item.capability);
+}

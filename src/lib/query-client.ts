@@ -1,8 +1,24 @@
-import { QueryClient } from "@tanstack/react-query";
+import { MutationCache, QueryCache, QueryClient } from "@tanstack/react-query";
 import { ApiError } from "./api-client";
 
-export function createQueryClient() {
-  return new QueryClient({
+export interface QueryClientHooks {
+  /** A request came back 401: the session ended (expired, signed out elsewhere, deactivated). */
+  onUnauthenticated?: () => void;
+}
+
+export function createQueryClient(hooks: QueryClientHooks = {}) {
+  const onError = (err: unknown, isMeQuery: boolean) => {
+    if (err instanceof ApiError && err.status === 401 && !isMeQuery) hooks.onUnauthenticated?.();
+  };
+  const qc: QueryClient = new QueryClient({
+    queryCache: new QueryCache({
+      onError: (err, query) => {
+        onError(err, query.queryKey[0] === "auth");
+        // A 403 may mean the roles changed since the menu was drawn: ask for them again.
+        if (err instanceof ApiError && err.status === 403) void qc.invalidateQueries({ queryKey: ["auth"] });
+      },
+    }),
+    mutationCache: new MutationCache({ onError: (err) => onError(err, false) }),
     defaultOptions: {
       queries: {
         staleTime: 30_000,
@@ -12,4 +28,5 @@ export function createQueryClient() {
       },
     },
   });
+  return qc;
 }

@@ -16,37 +16,40 @@ afterAll(async () => {
   await server?.stop();
 });
 
+// What each role should see in the menu, written out by hand.
 const homes = [
-  { role: "inspector", path: "/yard", heading: "Find a slab" },
-  { role: "quality", path: "/quality", heading: "Quality" },
-  { role: "process", path: "/process", heading: "Process" },
-  { role: "claims", path: "/claims", heading: "Claims" },
-  { role: "admin", path: "/admin/users", heading: "Users and roles" },
+  { role: "inspector", path: "/yard", heading: "Find a slab", menu: ["Slab yard"] },
+  { role: "quality", path: "/quality", heading: "Quality", menu: ["Slab yard", "Quality"] },
+  { role: "process", path: "/process", heading: "Process", menu: ["Process"] },
+  { role: "claims", path: "/claims", heading: "Claims", menu: ["Claims"] },
+  { role: "admin", path: "/admin/users", heading: "Users and roles", menu: ["Slab yard", "Quality", "Process", "Claims", "Users"] },
 ] as const;
+
+async function signIn(page: import("playwright-core").Page, role: string) {
+  await page.getByLabel("E-mail").fill(`${role}@demo.test`);
+  await page.getByLabel("Password").fill(TEST_PASSWORD);
+  await page.getByRole("button", { name: "Sign in" }).click();
+}
 
 describe.each([
   ["tablet", TABLET],
   ["desktop", DESKTOP],
 ] as const)("sign-in at %s size", (size, viewport) => {
-  it.each(homes)("when $role signs in, then they land on $path and can sign out", async ({ role, path, heading }) => {
+  it.each(homes)("when $role signs in, then they land on $path, see only their menu, and can sign out", async ({ role, path, heading, menu }) => {
     const context = await browser.newContext({ viewport });
     const page = await context.newPage();
     const errors = collectPageErrors(page);
     await page.goto(server.baseUrl + "/");
     await page.waitForURL(/\/sign-in/);
     if (role === "inspector") await snap(page, `sign-in-${size}`);
-    await page.getByLabel("E-mail").fill(`${role}@demo.test`);
-    await page.getByLabel("Password").fill(TEST_PASSWORD);
-    await page.getByRole("button", { name: "Sign in" }).click();
+    await signIn(page, role);
     await page.waitForURL(server.baseUrl + path);
     const h1 = page.getByRole("heading", { level: 1 });
     await h1.waitFor();
     expect(await h1.textContent()).toBe(heading);
     // The navigation offers only what the role may open.
     const nav = page.getByRole("navigation", { name: "Main" });
-    if (role === "inspector") {
-      expect(await nav.getByRole("link").allTextContents()).toEqual(["Slab yard"]);
-    }
+    expect(await nav.getByRole("link").allTextContents()).toEqual([...menu]);
     if (role === "admin") {
       await page.getByTestId("user-row-inspector@demo.test").waitFor();
     }
@@ -58,6 +61,48 @@ describe.each([
     await page.goto(server.baseUrl + path);
     await page.waitForURL(/\/sign-in/);
     expect(errors).toEqual([]);
+    await context.close();
+  });
+});
+
+describe("sessions in one tab", () => {
+  it("when one user signs out and another signs in, then nothing of the first user's screens remains", async () => {
+    const context = await browser.newContext({ viewport: TABLET });
+    const page = await context.newPage();
+    const errors = collectPageErrors(page);
+    await page.goto(server.baseUrl + "/admin/users");
+    await page.waitForURL(/\/sign-in/);
+    await signIn(page, "admin");
+    await page.waitForURL(server.baseUrl + "/admin/users");
+    await page.getByTestId("user-row-inspector@demo.test").waitFor();
+    await page.getByRole("button", { name: "Sign out" }).click();
+    await page.waitForURL(/\/sign-in/);
+    await signIn(page, "inspector");
+    await page.waitForURL(server.baseUrl + "/yard");
+    expect(await page.getByTestId("user-name").textContent()).toContain("demo inspector");
+    // The admin's screen is not open to the inspector, cached or not.
+    await page.goto(server.baseUrl + "/admin/users");
+    await page.getByRole("heading", { name: "Not open to your role" }).waitFor();
+    expect(await page.getByTestId("user-row-inspector@demo.test").count()).toBe(0);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it("when a user is deactivated while working, then their next request sends them to sign-in", async () => {
+    const context = await browser.newContext({ viewport: TABLET });
+    const page = await context.newPage();
+    await page.goto(server.baseUrl + "/");
+    await page.waitForURL(/\/sign-in/);
+    await signIn(page, "quality");
+    await page.waitForURL(server.baseUrl + "/quality");
+    const admin = await server.agentFor("admin");
+    const id = server.db.$client.prepare("select id from user where email = 'quality@demo.test'").pluck().get() as string;
+    expect((await admin.patch(`/api/admin/users/${id}`).set("Origin", server.baseUrl).send({ active: false })).status).toBe(200);
+    await page.getByRole("link", { name: "Slab yard" }).click();
+    await page.getByLabel(/Slab id or heat number/).fill("L26");
+    await page.waitForURL(/\/sign-in\?next=.*expired=1/);
+    await page.getByText("Your session ended. Please sign in again.").waitFor();
+    await admin.patch(`/api/admin/users/${id}`).set("Origin", server.baseUrl).send({ active: true });
     await context.close();
   });
 });

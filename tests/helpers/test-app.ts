@@ -18,7 +18,10 @@ export interface TestAppOptions {
   /** Seed the demo plant at this scale (1 = the full eight months); users are always seeded. */
   scale?: number;
   enforceOriginCheck?: boolean;
+  rateLimit?: boolean;
   port?: number;
+  /** Extra environment, e.g. TRUST_PROXY. */
+  env?: Record<string, string>;
 }
 
 /**
@@ -33,11 +36,12 @@ export async function createTestApp(opts: TestAppOptions = {}) {
     UPLOAD_DIR: path.join(dir, "uploads"),
     BETTER_AUTH_URL: `http://localhost:${opts.port ?? 3000}`,
     LOG_LEVEL: process.env.LOG_LEVEL ?? "silent",
+    ...opts.env,
   });
   const db = openDatabase(env.DATABASE_FILE);
   runMigrations(db);
   const logger = createLogger(env.LOG_LEVEL);
-  const auth = createAuth({ db, secret: env.BETTER_AUTH_SECRET, baseURL: env.BETTER_AUTH_URL, enforceOriginCheck: opts.enforceOriginCheck, logger });
+  const auth = createAuth({ db, secret: env.BETTER_AUTH_SECRET, baseURL: env.BETTER_AUTH_URL, enforceOriginCheck: opts.enforceOriginCheck, rateLimit: opts.rateLimit, logger });
   const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02 });
   const app = createApp({ db, auth, env, logger, serveClient: true });
 

@@ -23,10 +23,17 @@ describe("API basics", () => {
     expect(res.body.error).toMatchObject({ code: "not_found" });
   });
 
-  it("when a client page is asked for, then the built index.html is served (the router takes over)", async () => {
-    const res = await request(t.app).get("/yard");
-    expect(res.status).toBe(200);
-    expect(res.text).toContain('<div id="root">');
+  it("when a missing static asset is asked for, then 404 JSON without any server path in it", async () => {
+    const res = await request(t.app).get("/assets/nope.js");
+    expect(res.status).toBe(404);
+    expect(res.body).toEqual({ error: { code: "not_found", message: "Not found." } });
+  });
+
+  it("when any page is served, then the security headers are set", async () => {
+    const res = await request(t.app).get("/api/health");
+    expect(res.headers["content-security-policy"]).toContain("frame-ancestors 'none'");
+    expect(res.headers["x-content-type-options"]).toBe("nosniff");
+    expect(res.headers["x-frame-options"]).toBe("SAMEORIGIN");
   });
 
   it("when signed in, then /api/me gives the user with roles as an array", async () => {
@@ -34,6 +41,18 @@ describe("API basics", () => {
     const res = await agent.get("/api/me");
     expect(res.status).toBe(200);
     expect(res.body).toMatchObject({ email: "process@demo.test", roles: ["process"] });
+  });
+
+  it("when a session is close to its end, then the next request extends it and sends a fresh cookie", async () => {
+    const agent = await t.agentFor("claims");
+    const userId = t.db.$client.prepare("select id from user where email = 'claims@demo.test'").pluck().get();
+    const soon = Date.now() + 60 * 60_000;
+    t.db.$client.prepare("update session set expires_at = ? where user_id = ?").run(soon, userId);
+    const res = await agent.get("/api/me");
+    expect(res.status).toBe(200);
+    expect(String(res.headers["set-cookie"])).toContain("better-auth.session_token=");
+    const expires = t.db.$client.prepare("select max(expires_at) from session where user_id = ?").pluck().get(userId) as number;
+    expect(expires).toBeGreaterThan(soon + 24 * 60 * 60_000);
   });
 
   it("when the JSON body is malformed, then the answer is 400 invalid_json in the error envelope", async () => {

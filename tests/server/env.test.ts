@@ -20,6 +20,20 @@ describe("environment", () => {
     expect(() => loadEnv({ NODE_ENV: "production", DATABASE_FILE: tmp() })).toThrow(/BETTER_AUTH_SECRET is required in production/);
   });
 
+  it("when production has no https BETTER_AUTH_URL, then loading refuses to start", () => {
+    const secret = "s".repeat(40);
+    expect(() => loadEnv({ NODE_ENV: "production", BETTER_AUTH_SECRET: secret, DATABASE_FILE: tmp() })).toThrow(/BETTER_AUTH_URL is required/);
+    expect(() => loadEnv({ NODE_ENV: "production", BETTER_AUTH_SECRET: secret, BETTER_AUTH_URL: "http://plant.example", DATABASE_FILE: tmp() })).toThrow(/https/);
+    const ok = loadEnv({ NODE_ENV: "production", BETTER_AUTH_SECRET: secret, BETTER_AUTH_URL: "https://plant.example", DATABASE_FILE: tmp() });
+    expect(ok.BETTER_AUTH_URL).toBe("https://plant.example");
+  });
+
+  it("when production is asked to seed the demo with the published password, then loading refuses", () => {
+    const base = { NODE_ENV: "production", BETTER_AUTH_SECRET: "s".repeat(40), BETTER_AUTH_URL: "https://plant.example", DATABASE_FILE: tmp() };
+    expect(() => loadEnv({ ...base, SEED_DEMO: "true" })).toThrow(/DEMO_PASSWORD/);
+    expect(loadEnv({ ...base, SEED_DEMO: "true", DEMO_PASSWORD: "a-plant-chosen-one" }).SEED_DEMO).toBe(true);
+  });
+
   it("when the local demo has no secret, then one is generated once and kept beside the database", () => {
     const file = tmp();
     const a = loadEnv({ DATABASE_FILE: file });

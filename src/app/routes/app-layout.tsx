@@ -3,6 +3,7 @@ import { useQuery } from "@tanstack/react-query";
 import { NavLink, Outlet, redirect, useNavigate, useNavigation, type LoaderFunctionArgs } from "react-router";
 import { ROLE_LABELS } from "@shared/roles";
 import { Button } from "@/components/ui/button";
+import { Notice } from "@/components/ui/notice";
 import { Logo } from "@/components/ui/logo";
 import { navFor } from "@/config/nav";
 import { authKeys, useSignOut } from "@/features/auth/api/session";
@@ -18,6 +19,8 @@ export function makeLoader(qc: QueryClient) {
     return null;
   };
 }
+
+export { RouteError as ErrorBoundary } from "./route-error";
 
 export function Component() {
   const { data: me } = useQuery(authKeys.me());
@@ -59,12 +62,10 @@ export function Component() {
             <Button
               variant="secondary"
               className="min-h-12"
-              onClick={async () => {
-                await signOut.mutateAsync();
-                navigate("/sign-in", { replace: true });
-              }}
+              disabled={signOut.isPending}
+              onClick={() => signOut.mutate(undefined, { onSuccess: () => navigate("/sign-in", { replace: true }) })}
             >
-              Sign out
+              {signOut.isPending ? "Signing out…" : "Sign out"}
             </Button>
           </div>
         </div>
@@ -72,6 +73,11 @@ export function Component() {
       {about.data?.demo ? (
         <div className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
           Invented demo plant: every heat, slab, defect, customer and claim shown here is made up.
+        </div>
+      ) : null}
+      {signOut.isError ? (
+        <div className="mx-auto w-full max-w-7xl px-4 pt-3">
+          <Notice tone="error">Could not reach the server to sign out: {signOut.error.message} Try again when the network is back.</Notice>
         </div>
       ) : null}
       {navigation.state === "loading" ? <div className="h-1 animate-pulse bg-strand-500" aria-hidden /> : <div className="h-1" aria-hidden />}

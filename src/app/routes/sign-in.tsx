@@ -7,7 +7,7 @@ import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Logo } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { homeFor } from "@/config/nav";
+import { canOpen, homeFor } from "@/config/nav";
 import { authKeys, useSignIn } from "@/features/auth/api/session";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { ApiError } from "@/lib/api-client";
@@ -17,6 +17,8 @@ const signInSchema = z.object({
   password: z.string().min(1, "Enter your password."),
 });
 type SignInForm = z.infer<typeof signInSchema>;
+
+export { RouteError as ErrorBoundary } from "./route-error";
 
 export function Component() {
   const navigate = useNavigate();
@@ -29,8 +31,10 @@ export function Component() {
   const onSubmit = form.handleSubmit(async (values) => {
     await signIn.mutateAsync(values);
     const me = await qc.fetchQuery(authKeys.me());
+    const roles = me?.roles ?? [];
     const next = params.get("next");
-    navigate(next && next.startsWith("/") && !next.startsWith("//") ? next : homeFor(me?.roles ?? []), { replace: true });
+    const safeNext = next && next.startsWith("/") && !next.startsWith("//") && next !== "/" && canOpen(roles, next.split("?")[0]!);
+    navigate(safeNext ? next : homeFor(roles), { replace: true });
   });
 
   const error = signIn.error instanceof ApiError ? signIn.error.message : signIn.error ? "Sign-in failed." : null;
@@ -54,6 +58,7 @@ export function Component() {
         <form onSubmit={onSubmit} noValidate className="w-full max-w-sm space-y-5" aria-label="Sign in">
           <h1 className="text-2xl font-bold text-ink-900">Sign in</h1>
           {error ? <Notice tone="error">{error}</Notice> : null}
+          {!error && params.get("expired") ? <Notice tone="info">Your session ended. Please sign in again.</Notice> : null}
           <TextField label="E-mail" type="email" autoComplete="username" large {...form.register("email")} error={form.formState.errors.email?.message} />
           <TextField
             label="Password"

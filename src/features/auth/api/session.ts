@@ -16,7 +16,7 @@ export const authKeys = {
           throw err;
         }
       },
-      staleTime: 5 * 60_000,
+      staleTime: 60_000,
     }),
 };
 
@@ -25,9 +25,8 @@ export function useSignIn() {
   return useMutation({
     mutationFn: (input: { email: string; password: string }) =>
       api("/auth/sign-in/email", { method: "POST", body: { ...input, rememberMe: true } }),
-    onSuccess: async () => {
-      await qc.invalidateQueries({ queryKey: authKeys.all });
-    },
+    // A new user: nothing cached for the previous one may show.
+    onSuccess: () => qc.clear(),
   });
 }
 
@@ -35,9 +34,7 @@ export function useSignOut() {
   const qc = useQueryClient();
   return useMutation({
     mutationFn: () => api("/auth/sign-out", { method: "POST", body: {} }),
-    onSettled: () => {
-      // Forget everything cached for the previous user.
-      qc.clear();
-    },
+    // Forget everything cached for this user — only once the server has ended the session.
+    onSuccess: () => qc.clear(),
   });
 }
