@@ -15,6 +15,7 @@ import { sameOriginWrites } from "./middleware/same-origin";
 import { buildOpenApiDocument, createOpenApiRegistry } from "./openapi";
 import { adminUserRoutes } from "./routes/admin-users.routes";
 import type { Deps } from "./routes/deps";
+import { heatRoutes } from "./routes/heats.routes";
 import { plantRoutes } from "./routes/plant.routes";
 import { systemRoutes } from "./routes/system.routes";
 
@@ -55,7 +56,7 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 }
 
 export function collectRoutes(deps: Deps): AnyRoute[] {
-  return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps)];
+  return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {

@@ -20,6 +20,8 @@ export const ROLE_LABELS: Record<Role, string> = {
 export const CAPABILITIES = {
   /** Read plant data: slabs, heats, the catalogue. Every signed-in role. */
   "plant.read": ["inspector", "quality", "process", "claims", "admin"],
+  /** The heats list: the office roles; inspectors reach heats through their slabs. */
+  "heats.browse": ["quality", "process", "claims", "admin"],
   "defects.log": ["inspector", "quality", "admin"],
   "defects.review": ["quality", "admin"],
   "catalogue.manage": ["quality", "admin"],

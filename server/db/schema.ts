@@ -696,3 +696,68 @@ export const apiTokens = sqliteTable("api_tokens", {
   lastUsedAt: integer("last_used_at", { mode: "timestamp_ms" }),
   revokedAt: integer("revoked_at", { mode: "timestamp_ms" }),
 });
+
+// ---------------------------------------------------------------------------------------------
+// Resolved slab conditions and import runs (heat records issue)
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * Each slab's casting conditions as the reports use them, one row per slab: the slab's own value,
+ * else the aggregate of the process samples cast while it passed the mold, else the heat's value —
+ * with the source of each — and the values derived from them. Recomputed whenever a slab, its heat,
+ * its strand's samples, its strand's settings or the plant's formula settings change.
+ */
+export const slabConditions = sqliteTable("slab_conditions", {
+  slabId: integer("slab_id")
+    .primaryKey()
+    .references(() => slabs.id),
+  castingSpeedMPerMin: real("casting_speed_m_min"),
+  castingSpeedSource: text("casting_speed_source"),
+  speedMinMPerMin: real("speed_min_m_min"),
+  speedMaxMPerMin: real("speed_max_m_min"),
+  speedChangeMPerMin: real("speed_change_m_min"),
+  superheatC: real("superheat_c"),
+  superheatSource: text("superheat_source"),
+  embrCurrentA: real("embr_current_a"),
+  embrCurrentSource: text("embr_current_source"),
+  senDepthMm: real("sen_depth_mm"),
+  senDepthSource: text("sen_depth_source"),
+  argonNlPerMin: real("argon_nl_min"),
+  argonSource: text("argon_source"),
+  moldLevelSdMm: real("mold_level_sd_mm"),
+  moldLevelSdSource: text("mold_level_sd_source"),
+  sampleCount: integer("sample_count").notNull().default(0),
+  throughputTPerMin: real("throughput_t_min"),
+  moldDwellMin: real("mold_dwell_min"),
+  shellExitMm: real("shell_exit_mm"),
+  metallurgicalLengthM: real("metallurgical_length_m"),
+  embrFieldT: real("embr_field_t"),
+  senPortVelocityMPerS: real("sen_port_velocity_m_s"),
+  stuartNumber: real("stuart_number"),
+  hartmannNumber: real("hartmann_number"),
+  computedAt: integer("computed_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+});
+
+/** One row per real import or feed call: who, what, and what it did. */
+export const importRuns = sqliteTable(
+  "import_runs",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    kind: text("kind").notNull(),
+    /** upload | ingest */
+    source: text("source").notNull(),
+    fileName: text("file_name"),
+    format: text("format").notNull(),
+    sha256: text("sha256"),
+    rows: integer("rows").notNull(),
+    created: integer("created").notNull(),
+    updated: integer("updated").notNull(),
+    unchanged: integer("unchanged").notNull(),
+    slabsResolved: integer("slabs_resolved").notNull().default(0),
+    userId: text("user_id").references(() => user.id),
+    tokenId: integer("token_id").references(() => apiTokens.id),
+    startedAt: integer("started_at", { mode: "timestamp_ms" }).notNull(),
+    finishedAt: integer("finished_at", { mode: "timestamp_ms" }).notNull(),
+  },
+  (t) => [index("import_runs_started_idx").on(t.startedAt)],
+);

@@ -29,6 +29,7 @@ import {
   GRADE_FAMILIES,
   GRADES,
 } from "./catalogue";
+import { createResolver } from "../services/conditions.service";
 import { generateProduction, type ProductionCounts } from "./demo-plant";
 
 export interface SeedResult {
@@ -100,6 +101,8 @@ export async function seedDemo(db: Db, auth: Auth, opts: { password: string; sca
       },
       opts.scale ?? 1,
     );
+    // Each slab's conditions come from its samples, as for any imported plant.
+    createResolver(db).resolveAll();
     recordAudit(tx, { actor: "seed", action: "seed.demo", entity: "plant", entityId: DEMO_CASTER.code, after: counts });
     return counts;
   });
