@@ -44,7 +44,18 @@ const matrix: Record<string, Row> = {
   "GET /slabs/search": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/slabs/search?q=L26" }) },
   "GET /plant/summary": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/plant/summary" }) },
   "GET /plant/setup": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/plant/setup" }) },
+  "GET /heats": { allowed: ["quality", "process", "claims", "admin"], sample: () => ({ path: "/api/heats?pageSize=5" }) },
+  "GET /heats/:heatNo": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}` }) },
+  "GET /heats/:heatNo/samples": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}/samples` }) },
+  "GET /slabs/:slabId": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/slabs/${firstSlab(t)}` }) },
 };
+
+function firstHeat(t: TestApp) {
+  return t.db.$client.prepare("select heat_no from heats order by id limit 1").pluck().get() as string;
+}
+function firstSlab(t: TestApp) {
+  return t.db.$client.prepare("select slab_id from slabs order by id limit 1").pluck().get() as string;
+}
 
 const key = (r: AnyRoute) => `${r.method.toUpperCase()} ${r.path}`;
 const routes = () => t.app.locals.routes as AnyRoute[];
