@@ -16,6 +16,10 @@ import { buildOpenApiDocument, createOpenApiRegistry } from "./openapi";
 import { adminUserRoutes } from "./routes/admin-users.routes";
 import type { Deps } from "./routes/deps";
 import { heatRoutes } from "./routes/heats.routes";
+import { importRoutes } from "./routes/import.routes";
+import { setupRoutes } from "./routes/setup.routes";
+import { tokenRoutes } from "./routes/tokens.routes";
+import { apiTokenContext } from "./middleware/api-token";
 import { plantRoutes } from "./routes/plant.routes";
 import { systemRoutes } from "./routes/system.routes";
 
@@ -56,7 +60,8 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 }
 
 export function collectRoutes(deps: Deps): AnyRoute[] {
-  return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps)];
+  return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
+    ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {
@@ -106,8 +111,11 @@ export function createApp(opts: AppOptions) {
   });
 
   app.use("/api", sameOriginWrites(trustedOrigins));
+  // The level-2 feed sends large batches; everything else stays small.
+  app.use("/api/ingest", express.json({ limit: "20mb" }));
   app.use("/api", express.json({ limit: "2mb" }));
   app.use("/api", authContext(auth));
+  app.use("/api/ingest", apiTokenContext(db));
 
   const registry = createOpenApiRegistry();
   const api = express.Router();

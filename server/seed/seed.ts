@@ -40,6 +40,40 @@ export interface SeedResult {
 
 const byCode = <T extends { id: number; code: string }>(rows: T[]) => Object.fromEntries(rows.map((r) => [r.code, r.id]));
 
+type Tx = Parameters<Parameters<Db["transaction"]>[0]>[0];
+
+/**
+ * The demo plant's reference data — settings, caster and strands, grades, the defect catalogue and
+ * the cause taxonomy — each row only when missing. Returns the caster row.
+ */
+export function seedReference(tx: Tx | Db) {
+  for (const [key, value] of Object.entries(DEMO_SETTINGS)) {
+    tx.insert(plantSettings).values({ key, value }).onConflictDoNothing().run();
+  }
+  tx.insert(casters)
+    .values({ code: DEMO_CASTER.code, name: DEMO_CASTER.name, worksName: DEMO_WORKS, machineType: "curved", radiusM: DEMO_CASTER.radiusM })
+    .onConflictDoNothing()
+    .run();
+  const caster = tx.select().from(casters).where(eq(casters.code, DEMO_CASTER.code)).get()!;
+  for (const s of DEMO_STRANDS) tx.insert(strands).values({ ...s, casterId: caster.id }).onConflictDoNothing().run();
+  for (const f of GRADE_FAMILIES) tx.insert(gradeFamilies).values(f).onConflictDoNothing().run();
+  const families = byCode(tx.select().from(gradeFamilies).all());
+  for (const g of GRADES) {
+    tx.insert(grades).values({ code: g.code, name: g.name, familyId: families[g.family]!, cAimPct: g.chem.c }).onConflictDoNothing().run();
+  }
+  for (const c of DEFECT_CATEGORIES) tx.insert(defectCategories).values(c).onConflictDoNothing().run();
+  const categories = byCode(tx.select().from(defectCategories).all());
+  for (const t of DEFECT_TYPES) {
+    tx.insert(defectTypes).values({ code: t.code, name: t.name, categoryId: categories[t.category]! }).onConflictDoNothing().run();
+  }
+  for (const g of CAUSE_GROUPS) tx.insert(causeGroups).values(g).onConflictDoNothing().run();
+  const groups = byCode(tx.select().from(causeGroups).all());
+  for (const t of CAUSE_TAGS) {
+    tx.insert(causeTags).values({ code: t.code, name: t.name, groupId: groups[t.group]! }).onConflictDoNothing().run();
+  }
+  return caster;
+}
+
 /**
  * Seeds the invented demo plant. Safe to run again: users, reference rows and production are each
  * created only when missing, so a second run duplicates nothing.
@@ -55,31 +89,7 @@ export async function seedDemo(db: Db, auth: Auth, opts: { password: string; sca
   const userId = (email: string) => db.select({ id: user.id }).from(user).where(eq(user.email, email)).get()!.id;
 
   const production = db.transaction((tx) => {
-    for (const [key, value] of Object.entries(DEMO_SETTINGS)) {
-      tx.insert(plantSettings).values({ key, value }).onConflictDoNothing().run();
-    }
-    tx.insert(casters)
-      .values({ code: DEMO_CASTER.code, name: DEMO_CASTER.name, worksName: DEMO_WORKS, machineType: "curved", radiusM: DEMO_CASTER.radiusM })
-      .onConflictDoNothing()
-      .run();
-    const caster = tx.select().from(casters).where(eq(casters.code, DEMO_CASTER.code)).get()!;
-    for (const s of DEMO_STRANDS) tx.insert(strands).values({ ...s, casterId: caster.id }).onConflictDoNothing().run();
-    for (const f of GRADE_FAMILIES) tx.insert(gradeFamilies).values(f).onConflictDoNothing().run();
-    const families = byCode(tx.select().from(gradeFamilies).all());
-    for (const g of GRADES) {
-      tx.insert(grades).values({ code: g.code, name: g.name, familyId: families[g.family]!, cAimPct: g.chem.c }).onConflictDoNothing().run();
-    }
-    for (const c of DEFECT_CATEGORIES) tx.insert(defectCategories).values(c).onConflictDoNothing().run();
-    const categories = byCode(tx.select().from(defectCategories).all());
-    for (const t of DEFECT_TYPES) {
-      tx.insert(defectTypes).values({ code: t.code, name: t.name, categoryId: categories[t.category]! }).onConflictDoNothing().run();
-    }
-    for (const g of CAUSE_GROUPS) tx.insert(causeGroups).values(g).onConflictDoNothing().run();
-    const groups = byCode(tx.select().from(causeGroups).all());
-    for (const t of CAUSE_TAGS) {
-      tx.insert(causeTags).values({ code: t.code, name: t.name, groupId: groups[t.group]! }).onConflictDoNothing().run();
-    }
-
+    const caster = seedReference(tx);
     const existing = tx.select({ n: sql<number>`count(*)` }).from(heats).where(eq(heats.casterId, caster.id)).get()!.n;
     if (existing > 0) return null;
     const strandRows = tx.select().from(strands).where(eq(strands.casterId, caster.id)).all();

@@ -137,6 +137,15 @@ export function deriveValues(
   };
 }
 
+/**
+ * When a slab's head left the mold, estimated from its heat: the heat's cast start plus the time
+ * the pieces before it took at the casting speed. Samples placed by cast length replace it.
+ */
+export function estimateCastAt(heatCastStart: number, speedMPerMin: number | null, metresBefore: number): number | null {
+  if (!speedMPerMin || speedMPerMin <= 0) return null;
+  return Math.round(heatCastStart + (metresBefore / speedMPerMin) * 60_000);
+}
+
 /** Pure: the resolution rule and the derived values for one slab. */
 export function resolveConditions(input: ConditionInput): ResolvedRow {
   const { slab, heat, samples: s, strand, settings } = input;
@@ -234,8 +243,17 @@ export interface Resolver {
   resolveAll(): number;
 }
 
+const UPSERT_COLUMNS = [
+  "slab_id", "casting_speed_m_min", "casting_speed_source", "speed_min_m_min", "speed_max_m_min", "speed_change_m_min",
+  "superheat_c", "superheat_source", "embr_current_a", "embr_current_source", "sen_depth_mm", "sen_depth_source", "argon_nl_min",
+  "argon_source", "mold_level_sd_mm", "mold_level_sd_source", "sample_count", "throughput_t_min", "mold_dwell_min", "shell_exit_mm",
+  "metallurgical_length_m", "embr_field_t", "sen_port_velocity_m_s", "stuart_number", "hartmann_number", "computed_at",
+] as const;
+
+const CHUNK = 500;
+
 /**
- * Prepares the statements once, so an import can resolve tens of thousands of slabs quickly.
+ * Prepares the statements once, so an import can resolve a hundred thousand slabs in one go.
  * Call inside the caller's transaction.
  */
 export function createResolver(db: Db): Resolver {
@@ -249,57 +267,74 @@ export function createResolver(db: Db): Resolver {
       { moldEffectiveLengthMm: r.l, senPortAreaMm2: r.a, senPortCount: r.c, embrCalibration: JSON.parse(r.cal) as EmbrCalibration },
     ]),
   );
+  // The time span each strand has samples for: slabs outside it need no sample query at all.
+  const sampleSpan = new Map<number, [number, number]>(
+    (sqlite
+      .prepare("select strand_id as s, min(sampled_at) as lo, max(sampled_at) as hi from process_samples group by strand_id")
+      .all() as { s: number; lo: number; hi: number }[]).map((r) => [r.s, [r.lo, r.hi]]),
+  );
   const byLength = sqlite.prepare(
     `select ${AGG_COLUMNS} from process_samples where strand_id = ? and sampled_at >= ? and sampled_at <= ?
        and cast_length_m >= ? and cast_length_m < ?`,
   );
   const byTime = sqlite.prepare(`select ${AGG_COLUMNS} from process_samples where strand_id = ? and sampled_at >= ? and sampled_at < ?`);
-  const piecesBefore = sqlite.prepare(
-    "select coalesce(sum(length_mm), 0) from slabs where heat_id = ? and strand_id = ? and piece_no < ?",
-  ).pluck();
   const setCastAt = sqlite.prepare("update slabs set cast_at = ? where id = ?");
-  const upsert = sqlite.prepare(`insert into slab_conditions (slab_id, casting_speed_m_min, casting_speed_source, speed_min_m_min,
-      speed_max_m_min, speed_change_m_min, superheat_c, superheat_source, embr_current_a, embr_current_source, sen_depth_mm,
-      sen_depth_source, argon_nl_min, argon_source, mold_level_sd_mm, mold_level_sd_source, sample_count, throughput_t_min,
-      mold_dwell_min, shell_exit_mm, metallurgical_length_m, embr_field_t, sen_port_velocity_m_s, stuart_number, hartmann_number,
-      computed_at)
-    values (@slabId, @castingSpeedMPerMin, @castingSpeedSource, @speedMinMPerMin, @speedMaxMPerMin, @speedChangeMPerMin, @superheatC,
-      @superheatSource, @embrCurrentA, @embrCurrentSource, @senDepthMm, @senDepthSource, @argonNlPerMin, @argonSource, @moldLevelSdMm,
-      @moldLevelSdSource, @sampleCount, @throughputTPerMin, @moldDwellMin, @shellExitMm, @metallurgicalLengthM, @embrFieldT,
-      @senPortVelocityMPerS, @stuartNumber, @hartmannNumber, @computedAt)
-    on conflict(slab_id) do update set casting_speed_m_min = excluded.casting_speed_m_min, casting_speed_source = excluded.casting_speed_source,
-      speed_min_m_min = excluded.speed_min_m_min, speed_max_m_min = excluded.speed_max_m_min, speed_change_m_min = excluded.speed_change_m_min,
-      superheat_c = excluded.superheat_c, superheat_source = excluded.superheat_source, embr_current_a = excluded.embr_current_a,
-      embr_current_source = excluded.embr_current_source, sen_depth_mm = excluded.sen_depth_mm, sen_depth_source = excluded.sen_depth_source,
-      argon_nl_min = excluded.argon_nl_min, argon_source = excluded.argon_source, mold_level_sd_mm = excluded.mold_level_sd_mm,
-      mold_level_sd_source = excluded.mold_level_sd_source, sample_count = excluded.sample_count, throughput_t_min = excluded.throughput_t_min,
-      mold_dwell_min = excluded.mold_dwell_min, shell_exit_mm = excluded.shell_exit_mm, metallurgical_length_m = excluded.metallurgical_length_m,
-      embr_field_t = excluded.embr_field_t, sen_port_velocity_m_s = excluded.sen_port_velocity_m_s, stuart_number = excluded.stuart_number,
-      hartmann_number = excluded.hartmann_number, computed_at = excluded.computed_at`);
+  const upsert = sqlite.prepare(
+    `insert into slab_conditions (${UPSERT_COLUMNS.join(", ")}) values (${UPSERT_COLUMNS.map(() => "?").join(", ")})
+     on conflict(slab_id) do update set ${UPSERT_COLUMNS.slice(1).map((c) => `${c} = excluded.${c}`).join(", ")}`,
+  );
+  const selectChunk = sqlite.prepare(`${SLAB_SELECT} where s.id in (${Array(CHUNK).fill("?").join(",")})`);
+  const piecesChunk = sqlite.prepare(
+    `select heat_id as h, strand_id as s, piece_no as p, length_mm as l from slabs where heat_id in (${Array(CHUNK).fill("?").join(",")})`,
+  );
 
-  const one = (r: SlabRow, now: number) => {
-    const strand = strands.get(r.strandId)!;
-    const windowStart = r.heatCastStart - WINDOW_MARGIN_MS;
-    const windowEnd = (r.heatCastEnd ?? r.heatCastStart + OPEN_HEAT_MS) + WINDOW_MARGIN_MS;
-    let agg: SampleAggregate | null;
-    let placedAt: number | null = null;
-    if (r.castLengthStartM != null) {
-      agg = toAggregate(byLength.get(r.strandId, windowStart, windowEnd, r.castLengthStartM, r.castLengthStartM + r.lengthMm / 1000) as AggRow);
-      placedAt = agg?.firstSampleAt ?? null;
-    } else {
-      const speed = r.castingSpeedMPerMin ?? r.heatSpeed;
-      if (speed && speed > 0) {
-        const beforeM = (piecesBefore.get(r.heatId, r.strandId, r.pieceNo) as number) / 1000;
-        const t0 = r.castAt ?? r.heatCastStart + (beforeM / speed) * 60_000;
-        const t1 = t0 + (r.lengthMm / 1000 / speed) * 60_000;
-        agg = toAggregate(byTime.get(r.strandId, t0, t1) as AggRow);
-        placedAt = t0;
-      } else {
-        agg = null;
+  /** Length of strand cast before each piece of the given heats, by heat:strand:piece (m). */
+  const offsetsFor = (heatIds: number[]) => {
+    const pieces = new Map<string, { p: number; l: number }[]>();
+    for (let i = 0; i < heatIds.length; i += CHUNK) {
+      const chunk = heatIds.slice(i, i + CHUNK);
+      const stmt = chunk.length === CHUNK ? piecesChunk : sqlite.prepare(`select heat_id as h, strand_id as s, piece_no as p, length_mm as l from slabs where heat_id in (${chunk.map(() => "?").join(",")})`);
+      for (const r of stmt.all(...chunk) as { h: number; s: number; p: number; l: number }[]) {
+        const k = `${r.h}:${r.s}`;
+        let list = pieces.get(k);
+        if (!list) pieces.set(k, (list = []));
+        list.push({ p: r.p, l: r.l });
       }
     }
-    if (r.castAt == null && placedAt != null) setCastAt.run(Math.round(placedAt), r.id);
-    const resolved = resolveConditions({
+    const before = new Map<string, number>();
+    for (const [k, list] of pieces) {
+      list.sort((a, b) => a.p - b.p);
+      let sum = 0;
+      for (const x of list) {
+        before.set(`${k}:${x.p}`, sum / 1000);
+        sum += x.l;
+      }
+    }
+    return before;
+  };
+
+  const one = (r: SlabRow, beforeM: number, now: number) => {
+    const strand = strands.get(r.strandId)!;
+    const span = sampleSpan.get(r.strandId);
+    const speed = r.castingSpeedMPerMin ?? r.heatSpeed;
+    const t0 = r.castAt ?? estimateCastAt(r.heatCastStart, speed, beforeM);
+    let agg: SampleAggregate | null = null;
+    if (span) {
+      if (r.castLengthStartM != null) {
+        const lo = r.heatCastStart - WINDOW_MARGIN_MS;
+        const hi = (r.heatCastEnd ?? r.heatCastStart + OPEN_HEAT_MS) + WINDOW_MARGIN_MS;
+        if (hi >= span[0] && lo <= span[1]) {
+          agg = toAggregate(byLength.get(r.strandId, lo, hi, r.castLengthStartM, r.castLengthStartM + r.lengthMm / 1000) as AggRow);
+        }
+      } else if (t0 != null && speed) {
+        const t1 = t0 + (r.lengthMm / 1000 / speed) * 60_000;
+        if (t1 >= span[0] && t0 <= span[1]) agg = toAggregate(byTime.get(r.strandId, t0, t1) as AggRow);
+      }
+    }
+    // Placed by cast length, the first sample is when the head passed the mold; by time, the estimate stands.
+    const placedAt = r.castLengthStartM != null && agg?.firstSampleAt != null ? agg.firstSampleAt : t0;
+    if (placedAt != null && placedAt !== r.castAt) setCastAt.run(Math.round(placedAt), r.id);
+    const x = resolveConditions({
       slab: r,
       heat: {
         castingSpeedMPerMin: r.heatSpeed, superheatC: r.heatSuperheat, liquidusC: r.heatLiquidus, embrCurrentA: r.heatEmbr,
@@ -309,7 +344,17 @@ export function createResolver(db: Db): Resolver {
       strand,
       settings,
     });
-    upsert.run({ slabId: r.id, ...resolved, computedAt: now });
+    upsert.run(
+      r.id, x.castingSpeedMPerMin, x.castingSpeedSource, x.speedMinMPerMin, x.speedMaxMPerMin, x.speedChangeMPerMin, x.superheatC,
+      x.superheatSource, x.embrCurrentA, x.embrCurrentSource, x.senDepthMm, x.senDepthSource, x.argonNlPerMin, x.argonSource,
+      x.moldLevelSdMm, x.moldLevelSdSource, x.sampleCount, x.throughputTPerMin, x.moldDwellMin, x.shellExitMm,
+      x.metallurgicalLengthM, x.embrFieldT, x.senPortVelocityMPerS, x.stuartNumber, x.hartmannNumber, now,
+    );
+  };
+
+  const run = (rows: SlabRow[], now: number) => {
+    const offsets = offsetsFor([...new Set(rows.map((r) => r.heatId))]);
+    for (const r of rows) one(r, offsets.get(`${r.heatId}:${r.strandId}:${r.pieceNo}`) ?? 0, now);
   };
 
   return {
@@ -317,26 +362,26 @@ export function createResolver(db: Db): Resolver {
       const list = [...new Set(ids)];
       const now = Date.now();
       let n = 0;
-      for (let i = 0; i < list.length; i += 500) {
-        const chunk = list.slice(i, i + 500);
-        const rows = sqlite.prepare(`${SLAB_SELECT} where s.id in (${chunk.map(() => "?").join(",")})`).all(...chunk) as SlabRow[];
-        for (const r of rows) {
-          one(r, now);
-          n++;
-        }
+      // A chunk at a time, so a large import does not hold every slab row in memory at once.
+      for (let i = 0; i < list.length; i += CHUNK) {
+        const chunk = list.slice(i, i + CHUNK);
+        const stmt = chunk.length === CHUNK ? selectChunk : sqlite.prepare(`${SLAB_SELECT} where s.id in (${chunk.map(() => "?").join(",")})`);
+        const rows = stmt.all(...chunk) as SlabRow[];
+        run(rows, now);
+        n += rows.length;
       }
       return n;
     },
     resolveAll() {
       // Paged by id: better-sqlite3 cannot write while a read is still being iterated.
-      const page = sqlite.prepare(`${SLAB_SELECT} where s.id > ? order by s.id limit 2000`);
+      const page = sqlite.prepare(`${SLAB_SELECT} where s.id > ? order by s.id limit 5000`);
       const now = Date.now();
       let n = 0;
       let last = 0;
       for (;;) {
         const rows = page.all(last) as SlabRow[];
         if (rows.length === 0) break;
-        for (const r of rows) one(r, now);
+        run(rows, now);
         n += rows.length;
         last = rows[rows.length - 1]!.id;
       }

@@ -17,8 +17,14 @@ type Who = Role | "public" | "signed-in";
 interface Row {
   /** Who gets 2xx; everyone else signed in gets 403, signed out gets 401. */
   allowed: Who[];
-  sample: (t: TestApp) => { path: string; body?: unknown };
+  /** Reached with an API token only: every session, whatever its role, gets 401. */
+  tokenOnly?: boolean;
+  sample: (t: TestApp) => { path: string; body?: unknown; file?: Buffer };
 }
+
+const SETUP: Role[] = ["process", "admin"];
+const heatCsv = () =>
+  Buffer.from(`heat_no,caster,grade,cast_start,casting_speed_m_min\nMATRIX${++counter},CC2,LV-ST32,2026-12-05T08:00:00Z,1.4\n`);
 
 const EVERY_ROLE: Role[] = ["inspector", "quality", "process", "claims", "admin"];
 
@@ -48,7 +54,52 @@ const matrix: Record<string, Row> = {
   "GET /heats/:heatNo": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}` }) },
   "GET /heats/:heatNo/samples": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}/samples` }) },
   "GET /slabs/:slabId": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/slabs/${firstSlab(t)}` }) },
+  "POST /import/:kind": { allowed: ["process", "admin"], sample: () => ({ path: "/api/import/heats?dryRun=true", file: heatCsv() }) },
+  "GET /import/templates/:kind.xlsx": { allowed: ["process", "admin"], sample: () => ({ path: "/api/import/templates/slabs.xlsx" }) },
+  "GET /import/runs": { allowed: ["process", "admin"], sample: () => ({ path: "/api/import/runs" }) },
+  "POST /ingest/:kind": { allowed: [], tokenOnly: true, sample: () => ({ path: "/api/ingest/heats?dryRun=true", body: [] }) },
+  "GET /admin/tokens": { allowed: ["admin"], sample: () => ({ path: "/api/admin/tokens" }) },
+  "POST /admin/tokens": { allowed: ["admin"], sample: () => ({ path: "/api/admin/tokens", body: { name: `matrix ${++counter}` } }) },
+  "DELETE /admin/tokens/:id": {
+    allowed: ["admin"],
+    sample: (t) => {
+      const id = Number(t.db.$client.prepare("insert into api_tokens (name, token_hash, prefix) values ('m', ?, 'ssk_m')").run(`h${++counter}`).lastInsertRowid);
+      return { path: `/api/admin/tokens/${id}` };
+    },
+  },
+  "GET /plant/settings": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/plant/settings" }) },
+  "PUT /plant/settings": {
+    allowed: SETUP,
+    sample: () => ({
+      path: "/api/plant/settings",
+      body: {
+        liquidus: { baseC: 1536, perPct: { c: 78, si: 7.6, mn: 4.9, p: 34.4, s: 38 } },
+        shellK: { moldMmPerSqrtMin: 20, strandMmPerSqrtMin: 27 },
+        density: { solidTPerM3: 7.8, liquidTPerM3: 7.0 },
+        steelProperties: { conductivitySPerM: 714000, densityKgPerM3: 7000, viscosityPaS: 0.0063 },
+      },
+    }),
+  },
+  "PATCH /plant/strands/:id": { allowed: SETUP, sample: (t) => ({ path: `/api/plant/strands/${firstStrand(t)}`, body: { embrPositionMm: 450 } }) },
+  "POST /plant/casters": {
+    allowed: SETUP,
+    sample: () => ({
+      path: "/api/plant/casters",
+      body: {
+        code: `MX${++counter}`, name: "Matrix caster", worksName: "Matrix works (invented)",
+        strands: [{ strandNo: 1, moldThicknessMm: 220, moldEffectiveLengthMm: 800, senPortAreaMm2: 6000, embrCalibration: { kind: "linear", teslaPerAmp: 0.0007, offsetT: 0 } }],
+      },
+    }),
+  },
+  "POST /plant/grade-families": { allowed: SETUP, sample: () => ({ path: "/api/plant/grade-families", body: { code: `MF${++counter}`, name: "Matrix family" } }) },
+  "PATCH /plant/grade-families/:code": { allowed: SETUP, sample: () => ({ path: "/api/plant/grade-families/PER", body: { name: "Peritectic" } }) },
+  "POST /plant/grades": { allowed: SETUP, sample: () => ({ path: "/api/plant/grades", body: { code: `MG${++counter}`, name: "Matrix grade", familyCode: "LC" } }) },
+  "PATCH /plant/grades/:code": { allowed: SETUP, sample: () => ({ path: "/api/plant/grades/LV-DQ10", body: { name: "Drawing quality" } }) },
 };
+
+function firstStrand(t: TestApp) {
+  return t.db.$client.prepare("select id from strands order by id limit 1").pluck().get() as number;
+}
 
 function firstHeat(t: TestApp) {
   return t.db.$client.prepare("select heat_no from heats order by id limit 1").pluck().get() as string;
@@ -67,8 +118,9 @@ beforeAll(async () => {
 });
 afterAll(() => t?.close());
 
-function send(agent: request.Agent | ReturnType<typeof request>, route: AnyRoute, s: { path: string; body?: unknown }) {
+function send(agent: request.Agent | ReturnType<typeof request>, route: AnyRoute, s: { path: string; body?: unknown; file?: Buffer }) {
   const call = (agent as request.Agent)[route.method](s.path).set("Origin", t.env.BETTER_AUTH_URL);
+  if (s.file) return call.attach("file", s.file, "matrix.csv");
   return s.body !== undefined ? call.send(s.body as object) : call;
 }
 
@@ -97,7 +149,9 @@ describe("role matrix", () => {
       const res = await send(agents[role], route, row.sample(t));
       const allowed = row.allowed.includes("public") || row.allowed.includes("signed-in") || row.allowed.includes(role);
       const what = `${role} ${key(route)} → ${res.status} ${JSON.stringify(res.body).slice(0, 200)}`;
-      if (allowed) {
+      if (row.tokenOnly) {
+        expect(res.status, what).toBe(401);
+      } else if (allowed) {
         expect(res.status >= 200 && res.status < 300, what).toBe(true);
       } else {
         expect(res.status, what).toBe(403);

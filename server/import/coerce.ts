@@ -1,0 +1,200 @@
+/**
+ * Header mapping and cell coercion shared by the three imports: machine keys matched
+ * case-insensitively, each cell turned into its column's type and checked against its bounds, every
+ * problem recorded as { row, column, message } in words a process engineer understands.
+ */
+import { IMPORT_COLUMNS, type ColumnSpec, type ImportKind, type RowError } from "@shared/api/imports";
+import type { Cell, Table } from "./read-table";
+
+export type Value = string | number | boolean | null;
+
+export interface ParsedRow {
+  rowNo: number;
+  /** Only the columns present in the file; null = present but empty. */
+  values: Map<string, Value>;
+  /** The row had at least one error in its own cells. */
+  bad: boolean;
+}
+
+export class ErrorList {
+  readonly list: RowError[] = [];
+  add(row: number, column: string | null, message: string) {
+    this.list.push({ row, column, message });
+  }
+  get count() {
+    return this.list.length;
+  }
+}
+
+const EXCEL_EPOCH_MS = Date.UTC(1899, 11, 30);
+const DAY_MS = 86_400_000;
+const ISO = /^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2})(?:\.(\d{1,3})\d*)?)?)?\s*(Z|[+-]\d{2}:?\d{2})?$/i;
+
+/** ISO 8601 (offset honoured; none = UTC) or an Excel serial date, to epoch milliseconds. */
+export function parseDateTime(cell: Cell): number | string {
+  if (cell instanceof Date) return Number.isNaN(cell.getTime()) ? "is not a valid date" : cell.getTime();
+  if (typeof cell === "number") {
+    // Excel's serial day number (days since 1899-12-30), as a workbook stores dates.
+    if (cell < 1 || cell > 2_958_465) return `${cell} is not a date`;
+    return Math.round(EXCEL_EPOCH_MS + cell * DAY_MS);
+  }
+  if (typeof cell !== "string") return "is not a date";
+  const m = ISO.exec(cell.trim());
+  if (!m) return `“${cell}” is not a date; use ISO 8601 such as 2026-11-03T14:20:00Z`;
+  const [, y, mo, d, h = "0", mi = "0", s = "0", ms = "0", zone] = m;
+  let t = Date.UTC(+y!, +mo! - 1, +d!, +h, +mi, +s, +ms.padEnd(3, "0"));
+  const check = new Date(t);
+  if (check.getUTCMonth() !== +mo! - 1 || check.getUTCDate() !== +d! || +h > 23 || +mi > 59 || +s > 59) return `“${cell}” is not a real date or time`;
+  if (zone && zone.toUpperCase() !== "Z") {
+    const sign = zone[0] === "-" ? -1 : 1;
+    const digits = zone.slice(1).replace(":", "");
+    t -= sign * (Number(digits.slice(0, 2)) * 60 + Number(digits.slice(2, 4))) * 60_000;
+  }
+  return t;
+}
+
+function parseNumber(cell: Cell, decimalComma: boolean): number | string {
+  if (typeof cell === "number") return Number.isFinite(cell) ? cell : "is not a finite number";
+  if (typeof cell === "boolean" || cell instanceof Date) return "is not a number";
+  if (typeof cell !== "string") return "is not a number";
+  let s = cell.trim().replace(/\s/g, "");
+  if (decimalComma || /^-?\d+,\d+$/.test(s)) s = s.replace(",", ".");
+  if (!/^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(s)) return `“${cell}” is not a number`;
+  return Number(s);
+}
+
+function parseBoolean(cell: Cell): boolean | string {
+  if (typeof cell === "boolean") return cell;
+  if (typeof cell === "number" && (cell === 0 || cell === 1)) return cell === 1;
+  if (typeof cell === "string") {
+    const s = cell.trim().toLowerCase();
+    if (["true", "yes", "y", "1", "x"].includes(s)) return true;
+    if (["false", "no", "n", "0"].includes(s)) return false;
+  }
+  return `“${String(cell)}” is not true or false`;
+}
+
+function fmt(n: number) {
+  return Number.isInteger(n) ? String(n) : String(+n.toPrecision(6));
+}
+
+function bounds(spec: ColumnSpec) {
+  const unit = spec.unit ? ` ${spec.unit}` : "";
+  if (spec.min !== undefined && spec.max !== undefined) return `${fmt(spec.min)}–${fmt(spec.max)}${unit}`;
+  if (spec.min !== undefined) return `at least ${fmt(spec.min)}${unit}`;
+  return `at most ${fmt(spec.max!)}${unit}`;
+}
+
+/** One cell to its column's type; a string is an error message. */
+export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean): Value | { error: string } {
+  if (cell === null || (typeof cell === "string" && cell.trim() === "")) return null;
+  if (typeof cell === "object" && cell !== null && "formulaWithoutValue" in cell) return { error: "is a formula with no stored value; open the file in Excel, let it calculate, save and retry" };
+  if (typeof cell === "object" && cell !== null && "cellError" in cell) return { error: `holds ${cell.cellError}` };
+  switch (spec.type) {
+    case "text": {
+      const s = (cell instanceof Date ? cell.toISOString() : typeof cell === "number" ? fmt(cell) : String(cell)).trim();
+      if (s.length > 64) return { error: "is longer than 64 characters" };
+      return s;
+    }
+    case "number":
+    case "integer": {
+      const n = parseNumber(cell, decimalComma);
+      if (typeof n === "string") return { error: n };
+      if (spec.type === "integer" && !Number.isInteger(n)) return { error: `${fmt(n)} is not a whole number` };
+      if ((spec.min !== undefined && n < spec.min) || (spec.max !== undefined && n > spec.max)) {
+        return { error: `${fmt(n)} is outside ${bounds(spec)}` };
+      }
+      return n;
+    }
+    case "datetime": {
+      const t = parseDateTime(cell);
+      return typeof t === "string" ? { error: t } : t;
+    }
+    case "boolean": {
+      const b = parseBoolean(cell);
+      return typeof b === "string" ? { error: b } : b;
+    }
+  }
+}
+
+/**
+ * Maps the header to the kind's columns and coerces every cell. Header problems (unknown, missing
+ * or repeated keys) are reported on row 1 (for the JSON feed: on the first item that shows them).
+ */
+export function coerceTable(table: Table, kind: ImportKind, errors: ErrorList): { rows: ParsedRow[]; headerOk: boolean } {
+  const specs = IMPORT_COLUMNS[kind];
+  const byKey = new Map(specs.map((s) => [s.key, s]));
+  const columns: (ColumnSpec | null)[] = [];
+  const seen = new Map<string, number>();
+  const unknown: string[] = [];
+  let headerOk = true;
+  const headerRow = (col: number) => (table.format === "json" ? (table.rows.find((r) => r.cells[col] !== null)?.rowNo ?? 1) : 1);
+  table.headers.forEach((raw, col) => {
+    const key = raw.trim().toLowerCase();
+    if (key === "") {
+      columns.push(null);
+      if (table.rows.some((r) => r.cells[col] !== null && r.cells[col] !== undefined)) {
+        errors.add(1, null, `Column ${col + 1} has values but no header.`);
+      }
+      return;
+    }
+    const spec = byKey.get(key);
+    if (!spec) {
+      unknown.push(raw.trim());
+      columns.push(null);
+      return;
+    }
+    if (seen.has(key)) {
+      errors.add(headerRow(col), key, `The column ${key} appears twice (columns ${seen.get(key)! + 1} and ${col + 1}).`);
+      columns.push(null);
+      return;
+    }
+    seen.set(key, col);
+    columns.push(spec);
+  });
+  if (seen.size === 0) {
+    // Not one known key: the wrong file, or the wrong import. Say so once instead of per row.
+    errors.add(1, null, `None of the column names is a key of the ${kind.replace("-", " ")} import. Is this the right file? The template lists the keys.`);
+    return { rows: [], headerOk: false };
+  }
+  if (unknown.length > 0) {
+    // Reported, and the rows are still checked, so one round of corrections fixes the file.
+    errors.add(1, unknown.join(", "), `Unknown column${unknown.length > 1 ? "s" : ""}: ${unknown.join(", ")}. The template lists the keys this import takes.`);
+  }
+  const missing = specs.filter((s) => s.required && !seen.has(s.key)).map((s) => s.key);
+  if (missing.length > 0) {
+    errors.add(1, missing.join(", "), `Missing required column${missing.length > 1 ? "s" : ""}: ${missing.join(", ")}.`);
+    headerOk = false;
+  }
+  const rows: ParsedRow[] = [];
+  for (const r of table.rows) {
+    const values = new Map<string, Value>();
+    let bad = false;
+    if (r.cells.length > table.headers.length && r.cells.slice(table.headers.length).some((c) => c !== null)) {
+      errors.add(r.rowNo, null, `The row has more cells (${r.cells.length}) than the header has columns (${table.headers.length}).`);
+      bad = true;
+    }
+    if (r.invalid) {
+      errors.add(r.rowNo, null, r.invalid);
+      rows.push({ rowNo: r.rowNo, values, bad: true });
+      continue;
+    }
+    columns.forEach((spec, col) => {
+      if (!spec) return;
+      const v = coerceCell(spec, r.cells[col] ?? null, table.decimalComma);
+      if (v !== null && typeof v === "object") {
+        errors.add(r.rowNo, spec.key, `${spec.key} ${v.error}.`);
+        bad = true;
+        values.set(spec.key, null);
+        return;
+      }
+      if (v === null && spec.required) {
+        errors.add(r.rowNo, spec.key, `${spec.key} is required.`);
+        bad = true;
+      }
+      values.set(spec.key, v);
+    });
+    rows.push({ rowNo: r.rowNo, values, bad });
+  }
+  return { rows, headerOk };
+}

@@ -1,0 +1,456 @@
+/**
+ * Planning an import: every row checked against the database (references, duplicates, bounds that
+ * need several cells) and compared with what is stored, without writing anything. The plan's
+ * `apply()` then writes it; the caller runs plan and apply inside one transaction, so an import is
+ * all or nothing and a dry run is the plan alone.
+ *
+ * Columns absent from the file leave stored values alone; a column present with an empty cell
+ * clears the stored value. Ids are stored upper-case (scanners and people type both).
+ */
+import type Database from "better-sqlite3";
+import type { PlantSettings } from "@shared/api/heats";
+import { liquidusC } from "../metallurgy/liquidus";
+import { slabWeightT } from "../metallurgy/casting";
+import { estimateCastAt } from "../services/conditions.service";
+import type { ErrorList, ParsedRow, Value } from "./coerce";
+
+export interface PlanCounts {
+  created: number;
+  updated: number;
+  unchanged: number;
+}
+
+export interface AppliedChanges {
+  /** Slab row ids whose resolved conditions must be recomputed. */
+  slabIds: number[];
+}
+
+export interface Plan {
+  counts: PlanCounts;
+  apply(): AppliedChanges;
+}
+
+type Rec = Record<string, string | number | null>;
+type Op = { kind: "create" | "update"; rec: Rec; id?: number };
+
+const CHUNK = 500;
+
+function selectIn<T>(sqlite: Database.Database, sql: (placeholders: string) => string, keys: unknown[]): T[] {
+  const out: T[] = [];
+  for (let i = 0; i < keys.length; i += CHUNK) {
+    const chunk = keys.slice(i, i + CHUNK);
+    out.push(...(sqlite.prepare(sql(chunk.map(() => "?").join(","))).all(...chunk) as T[]));
+  }
+  return out;
+}
+
+function sameRecord(rec: Rec, existing: Record<string, unknown>): boolean {
+  for (const [k, v] of Object.entries(rec)) {
+    const e = existing[k] ?? null;
+    if (e !== v) return false;
+  }
+  return true;
+}
+
+/** The file's value when the column is present (null clears), else the stored one. */
+function take(values: Map<string, Value>, key: string, existing: Record<string, unknown> | undefined, column = key): string | number | null {
+  if (values.has(key)) {
+    const v = values.get(key)!;
+    return typeof v === "boolean" ? (v ? 1 : 0) : v;
+  }
+  return (existing?.[column] as string | number | null | undefined) ?? null;
+}
+
+const upper = (v: Value) => (v == null ? null : String(v).trim().toUpperCase());
+
+function codeMap(sqlite: Database.Database, table: "casters" | "grades") {
+  return new Map((sqlite.prepare(`select id, code from ${table}`).all() as { id: number; code: string }[]).map((r) => [r.code.toUpperCase(), r]));
+}
+
+function tally(ops: (Op | "unchanged")[]): PlanCounts {
+  const c = { created: 0, updated: 0, unchanged: 0 };
+  for (const o of ops) {
+    if (o === "unchanged") c.unchanged++;
+    else if (o.kind === "create") c.created++;
+    else c.updated++;
+  }
+  return c;
+}
+
+function insertSql(table: string, rec: Rec) {
+  const cols = Object.keys(rec);
+  return `insert into ${table} (${cols.join(", ")}) values (${cols.map((c) => "@" + c).join(", ")})`;
+}
+function updateSql(table: string, rec: Rec) {
+  return `update ${table} set ${Object.keys(rec).map((c) => `${c} = @${c}`).join(", ")}, updated_at = @updated_at where id = @id`;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Heats
+// ---------------------------------------------------------------------------------------------
+
+const HEAT_VALUE_COLUMNS = [
+  "ladle_weight_t", "casting_speed_m_min", "tundish_temp_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm",
+  "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct", "al_pct", "cu_pct", "ni_pct", "cr_pct", "mo_pct", "ti_pct", "nb_pct", "v_pct", "n_ppm",
+] as const;
+const PCT = ["c", "si", "mn", "p", "s", "al", "cu", "ni", "cr", "mo", "ti", "nb", "v"] as const;
+
+export function planHeats(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList, settings: PlantSettings): Plan {
+  const casters = codeMap(sqlite, "casters");
+  const grades = codeMap(sqlite, "grades");
+  const keys = [...new Set(rows.map((r) => upper(r.values.get("heat_no") ?? null)).filter((k): k is string => !!k))];
+  const existing = new Map(
+    selectIn<Record<string, any>>(sqlite, (p) => `select h.*, q.sequence_no from heats h left join sequences q on q.id = h.sequence_id where h.heat_no in (${p})`, keys).map((h) => [h.heat_no as string, h]),
+  );
+  const sequences = new Map(
+    (sqlite.prepare("select id, sequence_no, caster_id from sequences").all() as { id: number; sequence_no: string; caster_id: number }[]).map((s) => [s.sequence_no, s]),
+  );
+  const firstRow = new Map<string, number>();
+  const newSequences = new Map<string, number>(); // sequence_no → caster id
+  const ops: (Op | "unchanged")[] = [];
+
+  for (const row of rows) {
+    const v = row.values;
+    const heatNo = upper(v.get("heat_no") ?? null);
+    if (!heatNo) continue;
+    if (firstRow.has(heatNo)) {
+      errors.add(row.rowNo, "heat_no", `Heat ${heatNo} appears twice in the file (first on row ${firstRow.get(heatNo)}).`);
+      continue;
+    }
+    firstRow.set(heatNo, row.rowNo);
+    const old = existing.get(heatNo);
+    // A row with bad cells is still checked against the plant, so the file can be fixed in one go.
+    let ok = !row.bad;
+    const fail = (column: string | null, message: string) => {
+      errors.add(row.rowNo, column, message);
+      ok = false;
+    };
+
+    const casterCode = upper(v.get("caster") ?? null);
+    const caster = casterCode ? casters.get(casterCode) : undefined;
+    if (casterCode && !caster) fail("caster", `Caster ${casterCode} is not set up. Add it under Plant setup, or correct the code.`);
+    const gradeCode = upper(v.get("grade") ?? null);
+    const grade = gradeCode ? grades.get(gradeCode) : undefined;
+    if (gradeCode && !grade) fail("grade", `Grade ${gradeCode} is not set up. Add it under Plant setup, or correct the code.`);
+
+    const rec: Rec = {
+      heat_no: heatNo,
+      caster_id: caster?.id ?? null,
+      grade_id: grade?.id ?? null,
+      cast_start: take(v, "cast_start", old),
+      cast_end: take(v, "cast_end", old),
+    };
+    for (const c of HEAT_VALUE_COLUMNS) rec[c] = take(v, c, old);
+    if (rec.cast_end != null && rec.cast_start != null && (rec.cast_end as number) < (rec.cast_start as number)) {
+      fail("cast_end", "cast_end is before cast_start.");
+    }
+    const pctSum = PCT.reduce((s, el) => s + ((rec[`${el}_pct`] as number | null) ?? 0), 0) + ((rec.n_ppm as number | null) ?? 0) / 10_000;
+    if (pctSum > 100) fail(null, `The chemistry adds up to ${pctSum.toFixed(2)} %, more than 100 %.`);
+
+    // Liquidus: given, else from the chemistry with the plant's coefficients (needs carbon at least).
+    if (v.has("liquidus_c") && v.get("liquidus_c") != null) {
+      rec.liquidus_c = v.get("liquidus_c") as number;
+      rec.liquidus_source = "given";
+    } else if (!v.has("liquidus_c") && old?.liquidus_source === "given") {
+      rec.liquidus_c = old.liquidus_c;
+      rec.liquidus_source = "given";
+    } else if (rec.c_pct != null) {
+      const chem = Object.fromEntries(PCT.map((el) => [el, rec[`${el}_pct`] as number | null]));
+      rec.liquidus_c = Math.round(liquidusC(chem, settings.liquidus) * 100) / 100;
+      rec.liquidus_source = "computed";
+    } else {
+      rec.liquidus_c = null;
+      rec.liquidus_source = null;
+    }
+    // Superheat: given, else tundish temperature − liquidus.
+    if (v.has("superheat_c") && v.get("superheat_c") != null) {
+      rec.superheat_c = v.get("superheat_c") as number;
+      rec.superheat_source = "given";
+    } else if (!v.has("superheat_c") && old?.superheat_source === "given") {
+      rec.superheat_c = old.superheat_c;
+      rec.superheat_source = "given";
+    } else if (rec.tundish_temp_c != null && rec.liquidus_c != null) {
+      rec.superheat_c = Math.round(((rec.tundish_temp_c as number) - (rec.liquidus_c as number)) * 100) / 100;
+      rec.superheat_source = "computed";
+      if ((rec.superheat_c as number) < -10 || (rec.superheat_c as number) > 150) {
+        fail("tundish_temp_c", `The superheat works out at ${rec.superheat_c} °C (tundish ${rec.tundish_temp_c} − liquidus ${rec.liquidus_c}), outside −10–150 °C: check the temperature and the chemistry.`);
+      }
+    } else {
+      rec.superheat_c = null;
+      rec.superheat_source = null;
+    }
+
+    // Sequence: found, or to be created on the heat's caster.
+    const seqNo = v.has("sequence_no") ? upper(v.get("sequence_no") ?? null) : ((old?.sequence_no as string | undefined) ?? null);
+    if (seqNo) {
+      const seq = sequences.get(seqNo);
+      const casterOfSeq = seq?.caster_id ?? newSequences.get(seqNo);
+      if (casterOfSeq !== undefined && caster && casterOfSeq !== caster.id) {
+        fail("sequence_no", `Sequence ${seqNo} was cast on another caster.`);
+      } else if (!seq && caster) newSequences.set(seqNo, caster.id);
+    }
+    rec.sequence_no = seqNo;
+    if (!ok) continue;
+    const compare = { ...old, sequence_no: old?.sequence_no ?? null };
+    ops.push(old ? (sameRecord(rec, compare) ? "unchanged" : { kind: "update", rec, id: old.id }) : { kind: "create", rec });
+  }
+
+  return {
+    counts: tally(ops),
+    apply() {
+      const now = Date.now();
+      const insSeq = sqlite.prepare("insert into sequences (sequence_no, caster_id) values (?, ?)");
+      for (const [no, casterId] of newSequences) sequences.set(no, { id: Number(insSeq.run(no, casterId).lastInsertRowid), sequence_no: no, caster_id: casterId });
+      const touchedHeats: number[] = [];
+      const touchedSequences = new Set<number>();
+      let ins: Database.Statement | null = null;
+      let upd: Database.Statement | null = null;
+      for (const op of ops) {
+        if (op === "unchanged") continue;
+        const { sequence_no, ...fields } = op.rec;
+        const seqId = sequence_no ? sequences.get(sequence_no as string)!.id : null;
+        const rec = { ...fields, sequence_id: seqId };
+        if (seqId) touchedSequences.add(seqId);
+        if (op.kind === "create") {
+          ins ??= sqlite.prepare(insertSql("heats", rec));
+          touchedHeats.push(Number(ins.run(rec).lastInsertRowid));
+        } else {
+          upd ??= sqlite.prepare(updateSql("heats", rec));
+          upd.run({ ...rec, id: op.id, updated_at: now });
+          touchedHeats.push(op.id!);
+        }
+      }
+      // Positions in each touched sequence follow the cast start times; the range of the sequence too.
+      const order = sqlite.prepare("select id from heats where sequence_id = ? order by cast_start, id");
+      const setPos = sqlite.prepare("update heats set sequence_position = ? where id = ?");
+      const setRange = sqlite.prepare(
+        "update sequences set started_at = (select min(cast_start) from heats where sequence_id = @id), ended_at = (select max(coalesce(cast_end, cast_start)) from heats where sequence_id = @id), updated_at = @now where id = @id",
+      );
+      for (const seqId of touchedSequences) {
+        (order.pluck().all(seqId) as number[]).forEach((id, i) => setPos.run(i + 1, id));
+        setRange.run({ id: seqId, now });
+      }
+      const slabIds = selectIn<{ id: number }>(sqlite, (p) => `select id from slabs where heat_id in (${p})`, touchedHeats).map((r) => r.id);
+      return { slabIds };
+    },
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Slabs
+// ---------------------------------------------------------------------------------------------
+
+const SLAB_VALUE_COLUMNS = [
+  "length_mm", "width_mm", "thickness_mm", "cast_length_start_m", "casting_speed_m_min", "superheat_c", "embr_current_a",
+  "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm",
+] as const;
+
+export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList, settings: PlantSettings): Plan {
+  const heatNos = [...new Set(rows.map((r) => upper(r.values.get("heat_no") ?? null)).filter((k): k is string => !!k))];
+  const heats = new Map(
+    selectIn<{ id: number; heat_no: string; caster_id: number; cast_start: number; casting_speed_m_min: number | null }>(
+      sqlite,
+      (p) => `select id, heat_no, caster_id, cast_start, casting_speed_m_min from heats where heat_no in (${p})`,
+      heatNos,
+    ).map((h) => [h.heat_no, h]),
+  );
+  const heatById = new Map([...heats.values()].map((h) => [h.id, h]));
+  const strands = new Map(
+    (sqlite.prepare("select id, caster_id, strand_no from strands").all() as { id: number; caster_id: number; strand_no: number }[]).map((s) => [`${s.caster_id}:${s.strand_no}`, s.id]),
+  );
+  const slabKeys = [...new Set(rows.map((r) => upper(r.values.get("slab_id") ?? null)).filter((k): k is string => !!k))];
+  const existing = new Map(selectIn<Record<string, any>>(sqlite, (p) => `select * from slabs where slab_id in (${p})`, slabKeys).map((s) => [s.slab_id as string, s]));
+  // Which slab already holds each heat/strand/piece (for the heats this file touches).
+  const storedPieces = selectIn<{ slab_id: string; heat_id: number; strand_id: number; piece_no: number; length_mm: number }>(
+    sqlite,
+    (p) => `select slab_id, heat_id, strand_id, piece_no, length_mm from slabs where heat_id in (${p})`,
+    [...heats.values()].map((h) => h.id),
+  );
+  const pieceOwner = new Map(storedPieces.map((s) => [`${s.heat_id}:${s.strand_id}:${s.piece_no}`, s.slab_id]));
+  const firstRow = new Map<string, number>();
+  const firstPiece = new Map<string, number>();
+  const ops: (Op | "unchanged")[] = [];
+
+  for (const row of rows) {
+    const v = row.values;
+    const slabId = upper(v.get("slab_id") ?? null);
+    if (!slabId) continue;
+    if (firstRow.has(slabId)) {
+      errors.add(row.rowNo, "slab_id", `Slab ${slabId} appears twice in the file (first on row ${firstRow.get(slabId)}).`);
+      continue;
+    }
+    firstRow.set(slabId, row.rowNo);
+    const old = existing.get(slabId);
+    const heatNo = upper(v.get("heat_no") ?? null);
+    const heat = heatNo ? heats.get(heatNo) : undefined;
+    if (heatNo && !heat) errors.add(row.rowNo, "heat_no", `Heat ${heatNo} is not on record. Import the heats first.`);
+    const strandNo = v.get("strand") as number | null;
+    const strandId = heat && strandNo != null ? strands.get(`${heat.caster_id}:${strandNo}`) : undefined;
+    if (heat && strandNo != null && !strandId) errors.add(row.rowNo, "strand", `Strand ${strandNo} does not exist on the caster of heat ${heatNo}.`);
+    const pieceNo = v.get("piece_no") as number | null;
+    if (row.bad || !heat || !strandId || pieceNo == null) continue;
+    const pieceKey = `${heat.id}:${strandId}:${pieceNo}`;
+    if (firstPiece.has(pieceKey)) {
+      errors.add(row.rowNo, "piece_no", `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} appears twice in the file (first on row ${firstPiece.get(pieceKey)}).`);
+      continue;
+    }
+    firstPiece.set(pieceKey, row.rowNo);
+    const holder = pieceOwner.get(pieceKey);
+    if (holder && holder !== slabId) {
+      errors.add(row.rowNo, "piece_no", `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} is already slab ${holder}.`);
+      continue;
+    }
+    const rec: Rec = { slab_id: slabId, heat_id: heat.id, strand_id: strandId, piece_no: pieceNo };
+    for (const c of SLAB_VALUE_COLUMNS) rec[c] = take(v, c, old);
+    rec.transition = take(v, "transition", old) ?? 0;
+    if (v.has("weight_t") && v.get("weight_t") != null) {
+      rec.weight_t = v.get("weight_t") as number;
+      rec.weight_source = "given";
+    } else if (!v.has("weight_t") && old?.weight_source === "given") {
+      rec.weight_t = old.weight_t;
+      rec.weight_source = "given";
+    } else {
+      const w = slabWeightT(rec.length_mm as number, rec.width_mm as number, rec.thickness_mm as number, settings.density.solidTPerM3);
+      rec.weight_t = Math.round(w * 1000) / 1000;
+      rec.weight_source = "computed";
+    }
+    ops.push(old ? (sameRecord(rec, old) ? "unchanged" : { kind: "update", rec, id: old.id }) : { kind: "create", rec });
+  }
+
+  return {
+    counts: tally(ops),
+    apply() {
+      const now = Date.now();
+      // Each written slab's cast time is estimated from its heat and the pieces before it (stored
+      // pieces and this file's together); samples placed by cast length refine it when resolved.
+      const lengths = new Map<string, Map<number, number>>();
+      const addPiece = (heatId: number, strandId: number, piece: number, length: number) => {
+        const k = `${heatId}:${strandId}`;
+        let m = lengths.get(k);
+        if (!m) lengths.set(k, (m = new Map()));
+        m.set(piece, length);
+      };
+      for (const p of storedPieces) addPiece(p.heat_id, p.strand_id, p.piece_no, p.length_mm);
+      for (const op of ops) if (op !== "unchanged") addPiece(op.rec.heat_id as number, op.rec.strand_id as number, op.rec.piece_no as number, op.rec.length_mm as number);
+      const before = new Map<string, number>();
+      for (const [k, m] of lengths) {
+        let sum = 0;
+        for (const piece of [...m.keys()].sort((a, b) => a - b)) {
+          before.set(`${k}:${piece}`, sum / 1000);
+          sum += m.get(piece)!;
+        }
+      }
+      const slabIds: number[] = [];
+      let ins: Database.Statement | null = null;
+      let upd: Database.Statement | null = null;
+      for (const op of ops) {
+        if (op === "unchanged") continue;
+        const heat = heatById.get(op.rec.heat_id as number)!;
+        const speed = (op.rec.casting_speed_m_min as number | null) ?? heat.casting_speed_m_min;
+        const rec = { ...op.rec, cast_at: estimateCastAt(heat.cast_start, speed, before.get(`${op.rec.heat_id}:${op.rec.strand_id}:${op.rec.piece_no}`) ?? 0) };
+        if (op.kind === "create") {
+          ins ??= sqlite.prepare(insertSql("slabs", rec));
+          slabIds.push(Number(ins.run(rec).lastInsertRowid));
+        } else {
+          upd ??= sqlite.prepare(updateSql("slabs", rec));
+          upd.run({ ...rec, id: op.id, updated_at: now });
+          slabIds.push(op.id!);
+        }
+      }
+      return { slabIds };
+    },
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Process samples
+// ---------------------------------------------------------------------------------------------
+
+const SAMPLE_VALUE_COLUMNS: [string, string][] = [
+  ["cast_length_m", "cast_length_m"],
+  ["casting_speed_m_min", "casting_speed_m_min"],
+  ["tundish_temp_c", "tundish_temp_c"],
+  ["embr_current_a", "embr_current_a"],
+  ["sen_depth_mm", "sen_depth_mm"],
+  ["argon_nl_min", "argon_nl_min"],
+  ["mold_level_mm", "mold_level_mm"],
+];
+
+/** How far around the changed samples slabs are looked for (the resolver's own window margin). */
+const SAMPLE_WINDOW_MARGIN_MS = 60 * 60_000;
+
+export function planSamples(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList): Plan {
+  const casters = codeMap(sqlite, "casters");
+  const strands = new Map(
+    (sqlite.prepare("select id, caster_id, strand_no from strands").all() as { id: number; caster_id: number; strand_no: number }[]).map((s) => [`${s.caster_id}:${s.strand_no}`, s.id]),
+  );
+  const firstRow = new Map<string, number>();
+  const candidates: { row: ParsedRow; strandId: number; time: number }[] = [];
+  const range = new Map<number, [number, number]>();
+  for (const row of rows) {
+    const v = row.values;
+    const casterCode = upper(v.get("caster") ?? null);
+    const caster = casterCode ? casters.get(casterCode) : undefined;
+    if (casterCode && !caster) errors.add(row.rowNo, "caster", `Caster ${casterCode} is not set up.`);
+    const strandNo = v.get("strand") as number | null;
+    const strandId = caster && strandNo != null ? strands.get(`${caster.id}:${strandNo}`) : undefined;
+    if (caster && strandNo != null && !strandId) errors.add(row.rowNo, "strand", `Strand ${strandNo} does not exist on caster ${caster.code}.`);
+    const time = v.get("time") as number | null;
+    if (row.bad || !strandId || time == null) continue;
+    const key = `${strandId}:${time}`;
+    if (firstRow.has(key)) {
+      errors.add(row.rowNo, "time", `A sample for this strand and time appears twice in the file (first on row ${firstRow.get(key)}).`);
+      continue;
+    }
+    firstRow.set(key, row.rowNo);
+    candidates.push({ row, strandId, time });
+    const r = range.get(strandId);
+    range.set(strandId, r ? [Math.min(r[0], time), Math.max(r[1], time)] : [time, time]);
+  }
+  const existing = new Map<string, Record<string, any>>();
+  const load = sqlite.prepare("select * from process_samples where strand_id = ? and sampled_at between ? and ?");
+  for (const [strandId, [lo, hi]] of range) {
+    for (const s of load.all(strandId, lo, hi) as Record<string, any>[]) existing.set(`${strandId}:${s.sampled_at}`, s);
+  }
+  const ops: (Op | "unchanged")[] = [];
+  for (const c of candidates) {
+    const old = existing.get(`${c.strandId}:${c.time}`);
+    const rec: Rec = { strand_id: c.strandId, sampled_at: c.time };
+    for (const [key, col] of SAMPLE_VALUE_COLUMNS) rec[col] = take(c.row.values, key, old, col);
+    ops.push(old ? (sameRecord(rec, old) ? "unchanged" : { kind: "update", rec, id: old.id }) : { kind: "create", rec });
+  }
+  return {
+    counts: tally(ops),
+    apply() {
+      const changed = new Map<number, [number, number]>();
+      let ins: Database.Statement | null = null;
+      let upd: Database.Statement | null = null;
+      for (const op of ops) {
+        if (op === "unchanged") continue;
+        if (op.kind === "create") {
+          ins ??= sqlite.prepare(insertSql("process_samples", op.rec));
+          ins.run(op.rec);
+        } else {
+          upd ??= sqlite.prepare(`update process_samples set ${SAMPLE_VALUE_COLUMNS.map(([, c]) => `${c} = @${c}`).join(", ")} where id = @id`);
+          upd.run({ ...op.rec, id: op.id });
+        }
+        const strandId = op.rec.strand_id as number;
+        const t = op.rec.sampled_at as number;
+        const r = changed.get(strandId);
+        changed.set(strandId, r ? [Math.min(r[0], t), Math.max(r[1], t)] : [t, t]);
+      }
+      // Slabs of heats cast on these strands around the changed samples.
+      const find = sqlite
+        .prepare(
+          `select s.id from slabs s join heats h on h.id = s.heat_id
+           where s.strand_id = @strand and h.cast_start <= @hi and coalesce(h.cast_end, h.cast_start + 14400000) >= @lo`,
+        )
+        .pluck();
+      const slabIds: number[] = [];
+      for (const [strand, [lo, hi]] of changed) {
+        slabIds.push(...(find.all({ strand, lo: lo - SAMPLE_WINDOW_MARGIN_MS, hi: hi + SAMPLE_WINDOW_MARGIN_MS }) as number[]));
+      }
+      return { slabIds };
+    },
+  };
+}

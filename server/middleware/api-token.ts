@@ -1,0 +1,15 @@
+import type { RequestHandler } from "express";
+import type { Db } from "../db/client";
+import { authenticateToken } from "../services/tokens.service";
+
+/** Reads `Authorization: Bearer <token>` into req.apiToken; the role gate decides what it may reach. */
+export function apiTokenContext(db: Db): RequestHandler {
+  return (req, _res, next) => {
+    const header = req.headers.authorization;
+    if (header?.startsWith("Bearer ")) {
+      const found = authenticateToken(db, header.slice(7).trim());
+      if (found) req.apiToken = found;
+    }
+    next();
+  };
+}
