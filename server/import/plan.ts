@@ -11,7 +11,7 @@ import type Database from "better-sqlite3";
 import type { PlantSettings } from "@shared/api/heats";
 import { liquidusC } from "../metallurgy/liquidus";
 import { slabWeightT } from "../metallurgy/casting";
-import { estimateCastAt } from "../services/conditions.service";
+import { estimateCastAt, type SlabRow } from "../services/conditions.service";
 import type { ErrorList, ParsedRow, Value } from "./coerce";
 
 export interface PlanCounts {
@@ -23,6 +23,23 @@ export interface PlanCounts {
 export interface AppliedChanges {
   /** Slab row ids whose resolved conditions must be recomputed. */
   slabIds: number[];
+  /** The same slabs with what the resolver needs, when the import already holds it. */
+  slabRows?: SlabRow[];
+}
+
+interface HeatForSlab {
+  id: number;
+  heat_no: string;
+  caster_id: number;
+  cast_start: number;
+  cast_end: number | null;
+  casting_speed_m_min: number | null;
+  superheat_c: number | null;
+  liquidus_c: number | null;
+  embr_current_a: number | null;
+  sen_depth_mm: number | null;
+  argon_nl_min: number | null;
+  mold_level_sd_mm: number | null;
 }
 
 export interface Plan {
@@ -77,12 +94,34 @@ function tally(ops: (Op | "unchanged")[]): PlanCounts {
   return c;
 }
 
-function insertSql(table: string, rec: Rec) {
-  const cols = Object.keys(rec);
-  return `insert into ${table} (${cols.join(", ")}) values (${cols.map((c) => "@" + c).join(", ")})`;
-}
-function updateSql(table: string, rec: Rec) {
-  return `update ${table} set ${Object.keys(rec).map((c) => `${c} = @${c}`).join(", ")}, updated_at = @updated_at where id = @id`;
+/**
+ * Insert and update statements prepared once per import from the first record's columns, bound by
+ * position (named binding of an object per row costs more than the write itself at 100,000 rows).
+ */
+function writer(sqlite: Database.Database, table: string, withUpdatedAt = true) {
+  let ins: { stmt: Database.Statement; cols: string[] } | null = null;
+  let upd: { stmt: Database.Statement; cols: string[] } | null = null;
+  return {
+    insert(rec: Rec): number {
+      if (!ins) {
+        const cols = Object.keys(rec);
+        ins = { cols, stmt: sqlite.prepare(`insert into ${table} (${cols.join(", ")}) values (${cols.map(() => "?").join(", ")})`) };
+      }
+      return Number(ins.stmt.run(...ins.cols.map((c) => rec[c] ?? null)).lastInsertRowid);
+    },
+    update(id: number, rec: Rec, now: number) {
+      if (!upd) {
+        const cols = Object.keys(rec);
+        upd = {
+          cols,
+          stmt: sqlite.prepare(`update ${table} set ${cols.map((c) => `${c} = ?`).join(", ")}${withUpdatedAt ? ", updated_at = ?" : ""} where id = ?`),
+        };
+      }
+      const values = upd.cols.map((c) => rec[c] ?? null);
+      if (withUpdatedAt) values.push(now);
+      upd.stmt.run(...values, id);
+    },
+  };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -156,7 +195,7 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRow[], errors: 
       rec.liquidus_source = "given";
     } else if (rec.c_pct != null) {
       const chem = Object.fromEntries(PCT.map((el) => [el, rec[`${el}_pct`] as number | null]));
-      rec.liquidus_c = Math.round(liquidusC(chem, settings.liquidus) * 100) / 100;
+      rec.liquidus_c = liquidusC(chem, settings.liquidus);
       rec.liquidus_source = "computed";
     } else {
       rec.liquidus_c = null;
@@ -170,10 +209,10 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRow[], errors: 
       rec.superheat_c = old.superheat_c;
       rec.superheat_source = "given";
     } else if (rec.tundish_temp_c != null && rec.liquidus_c != null) {
-      rec.superheat_c = Math.round(((rec.tundish_temp_c as number) - (rec.liquidus_c as number)) * 100) / 100;
+      rec.superheat_c = (rec.tundish_temp_c as number) - (rec.liquidus_c as number);
       rec.superheat_source = "computed";
       if ((rec.superheat_c as number) < -10 || (rec.superheat_c as number) > 150) {
-        fail("tundish_temp_c", `The superheat works out at ${rec.superheat_c} °C (tundish ${rec.tundish_temp_c} − liquidus ${rec.liquidus_c}), outside −10–150 °C: check the temperature and the chemistry.`);
+        fail("tundish_temp_c", `The superheat works out at ${Math.round(rec.superheat_c as number)} °C (tundish ${rec.tundish_temp_c} − liquidus ${(rec.liquidus_c as number).toFixed(1)}), outside −10–150 °C: check the temperature and the chemistry.`);
       }
     } else {
       rec.superheat_c = null;
@@ -203,20 +242,16 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRow[], errors: 
       for (const [no, casterId] of newSequences) sequences.set(no, { id: Number(insSeq.run(no, casterId).lastInsertRowid), sequence_no: no, caster_id: casterId });
       const touchedHeats: number[] = [];
       const touchedSequences = new Set<number>();
-      let ins: Database.Statement | null = null;
-      let upd: Database.Statement | null = null;
+      const w = writer(sqlite, "heats");
       for (const op of ops) {
         if (op === "unchanged") continue;
         const { sequence_no, ...fields } = op.rec;
         const seqId = sequence_no ? sequences.get(sequence_no as string)!.id : null;
         const rec = { ...fields, sequence_id: seqId };
         if (seqId) touchedSequences.add(seqId);
-        if (op.kind === "create") {
-          ins ??= sqlite.prepare(insertSql("heats", rec));
-          touchedHeats.push(Number(ins.run(rec).lastInsertRowid));
-        } else {
-          upd ??= sqlite.prepare(updateSql("heats", rec));
-          upd.run({ ...rec, id: op.id, updated_at: now });
+        if (op.kind === "create") touchedHeats.push(w.insert(rec));
+        else {
+          w.update(op.id!, rec, now);
           touchedHeats.push(op.id!);
         }
       }
@@ -248,9 +283,10 @@ const SLAB_VALUE_COLUMNS = [
 export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList, settings: PlantSettings): Plan {
   const heatNos = [...new Set(rows.map((r) => upper(r.values.get("heat_no") ?? null)).filter((k): k is string => !!k))];
   const heats = new Map(
-    selectIn<{ id: number; heat_no: string; caster_id: number; cast_start: number; casting_speed_m_min: number | null }>(
+    selectIn<HeatForSlab>(
       sqlite,
-      (p) => `select id, heat_no, caster_id, cast_start, casting_speed_m_min from heats where heat_no in (${p})`,
+      (p) => `select id, heat_no, caster_id, cast_start, cast_end, casting_speed_m_min, superheat_c, liquidus_c, embr_current_a,
+          sen_depth_mm, argon_nl_min, mold_level_sd_mm from heats where heat_no in (${p})`,
       heatNos,
     ).map((h) => [h.heat_no, h]),
   );
@@ -341,23 +377,33 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
         }
       }
       const slabIds: number[] = [];
-      let ins: Database.Statement | null = null;
-      let upd: Database.Statement | null = null;
+      const slabRows: SlabRow[] = [];
+      const w = writer(sqlite, "slabs");
       for (const op of ops) {
         if (op === "unchanged") continue;
         const heat = heatById.get(op.rec.heat_id as number)!;
         const speed = (op.rec.casting_speed_m_min as number | null) ?? heat.casting_speed_m_min;
-        const rec = { ...op.rec, cast_at: estimateCastAt(heat.cast_start, speed, before.get(`${op.rec.heat_id}:${op.rec.strand_id}:${op.rec.piece_no}`) ?? 0) };
-        if (op.kind === "create") {
-          ins ??= sqlite.prepare(insertSql("slabs", rec));
-          slabIds.push(Number(ins.run(rec).lastInsertRowid));
-        } else {
-          upd ??= sqlite.prepare(updateSql("slabs", rec));
-          upd.run({ ...rec, id: op.id, updated_at: now });
-          slabIds.push(op.id!);
+        const rec: Rec = { ...op.rec, cast_at: estimateCastAt(heat.cast_start, speed, before.get(`${op.rec.heat_id}:${op.rec.strand_id}:${op.rec.piece_no}`) ?? 0) };
+        let id: number;
+        if (op.kind === "create") id = w.insert(rec);
+        else {
+          w.update(op.id!, rec, now);
+          id = op.id!;
         }
+        slabIds.push(id);
+        // Everything the resolver needs is in hand: no need to read the slab back.
+        slabRows.push({
+          id, heatId: heat.id, strandId: rec.strand_id as number, pieceNo: rec.piece_no as number, lengthMm: rec.length_mm as number,
+          widthMm: rec.width_mm as number, thicknessMm: rec.thickness_mm as number, castLengthStartM: rec.cast_length_start_m as number | null,
+          castAt: rec.cast_at as number | null, castingSpeedMPerMin: rec.casting_speed_m_min as number | null, superheatC: rec.superheat_c as number | null,
+          embrCurrentA: rec.embr_current_a as number | null, senDepthMm: rec.sen_depth_mm as number | null,
+          argonNlPerMin: rec.argon_nl_min as number | null, moldLevelSdMm: rec.mold_level_sd_mm as number | null,
+          heatCastStart: heat.cast_start, heatCastEnd: heat.cast_end, heatSpeed: heat.casting_speed_m_min, heatSuperheat: heat.superheat_c,
+          heatLiquidus: heat.liquidus_c, heatEmbr: heat.embr_current_a, heatSen: heat.sen_depth_mm, heatArgon: heat.argon_nl_min,
+          heatLevelSd: heat.mold_level_sd_mm,
+        });
       }
-      return { slabIds };
+      return { slabIds, slabRows };
     },
   };
 }
@@ -423,17 +469,11 @@ export function planSamples(sqlite: Database.Database, rows: ParsedRow[], errors
     counts: tally(ops),
     apply() {
       const changed = new Map<number, [number, number]>();
-      let ins: Database.Statement | null = null;
-      let upd: Database.Statement | null = null;
+      const w = writer(sqlite, "process_samples", false);
       for (const op of ops) {
         if (op === "unchanged") continue;
-        if (op.kind === "create") {
-          ins ??= sqlite.prepare(insertSql("process_samples", op.rec));
-          ins.run(op.rec);
-        } else {
-          upd ??= sqlite.prepare(`update process_samples set ${SAMPLE_VALUE_COLUMNS.map(([, c]) => `${c} = @${c}`).join(", ")} where id = @id`);
-          upd.run({ ...op.rec, id: op.id });
-        }
+        if (op.kind === "create") w.insert(op.rec);
+        else w.update(op.id!, op.rec, 0);
         const strandId = op.rec.strand_id as number;
         const t = op.rec.sampled_at as number;
         const r = changed.get(strandId);

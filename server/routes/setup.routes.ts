@@ -7,6 +7,7 @@ import {
   plantSettingsSchema,
   strandUpdateSchema,
 } from "@shared/api/heats";
+import { strandSchema } from "@shared/api/plant";
 import { defineRoute } from "../lib/route";
 import { getPlantSettings } from "../services/settings.service";
 import {
@@ -52,7 +53,10 @@ export function setupRoutes({ db }: Deps) {
       access: "setup.manage",
       params: z.object({ id: z.coerce.number().int().positive() }),
       body: strandUpdateSchema,
-      responses: { 200: { description: "Saved.", schema: recomputed }, 404: { description: "No such strand." } },
+      responses: {
+        200: { description: "Saved, with the strand as it is now.", schema: z.object({ strand: strandSchema, slabsResolved: z.number().int() }) },
+        404: { description: "No such strand." },
+      },
       handler: ({ params, body, user }) => updateStrand(db, params.id, body, user.id),
     }),
     defineRoute({

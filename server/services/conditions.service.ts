@@ -180,7 +180,7 @@ export function resolveConditions(input: ConditionInput): ResolvedRow {
   };
 }
 
-interface SlabRow {
+export interface SlabRow {
   id: number;
   heatId: number;
   strandId: number;
@@ -240,6 +240,8 @@ function toAggregate(r: AggRow): SampleAggregate | null {
 export interface Resolver {
   /** Recomputes the given slabs (by row id). Returns how many were written. */
   resolve(slabIds: Iterable<number>): number;
+  /** The same for slabs whose rows the caller already holds (a fresh import). */
+  resolveRows(rows: SlabRow[]): number;
   resolveAll(): number;
 }
 
@@ -353,7 +355,9 @@ export function createResolver(db: Db): Resolver {
   };
 
   const run = (rows: SlabRow[], now: number) => {
-    const offsets = offsetsFor([...new Set(rows.map((r) => r.heatId))]);
+    // The pieces before a slab matter only to place a slab that has no cast time yet.
+    const unplaced = rows.filter((r) => r.castAt == null);
+    const offsets = unplaced.length ? offsetsFor([...new Set(unplaced.map((r) => r.heatId))]) : new Map<string, number>();
     for (const r of rows) one(r, offsets.get(`${r.heatId}:${r.strandId}:${r.pieceNo}`) ?? 0, now);
   };
 
@@ -371,6 +375,10 @@ export function createResolver(db: Db): Resolver {
         n += rows.length;
       }
       return n;
+    },
+    resolveRows(rows) {
+      run(rows, Date.now());
+      return rows.length;
     },
     resolveAll() {
       // Paged by id: better-sqlite3 cannot write while a read is still being iterated.

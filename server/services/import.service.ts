@@ -75,7 +75,11 @@ export function runImport(db: Db, req: ImportRequest, timings?: Record<string, n
 
     const changes = plan.apply();
     lap("write");
-    result.slabsResolved = changes.slabIds.length ? createResolver(db).resolve(changes.slabIds) : 0;
+    result.slabsResolved = changes.slabRows
+      ? createResolver(db).resolveRows(changes.slabRows)
+      : changes.slabIds.length
+        ? createResolver(db).resolve(changes.slabIds)
+        : 0;
     lap("resolve conditions");
     const finished = Date.now();
     const run = sqlite

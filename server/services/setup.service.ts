@@ -28,11 +28,11 @@ export function updatePlantSettings(db: Db, next: PlantSettings, userId: string)
     for (const h of heats) {
       if (h.liquidus_source === "computed") {
         const chem = Object.fromEntries(PCT.map((e) => [e, h[`${e}_pct`] as number | null]));
-        setLiq.run(Math.round(liquidusC(chem, next.liquidus) * 100) / 100, h.id);
+        setLiq.run(liquidusC(chem, next.liquidus), h.id);
       }
       if (h.superheat_source === "computed" && h.tundish_temp_c != null) {
         const liq = getLiq.get(h.id) as number | null;
-        if (liq != null) setSh.run(Math.round(((h.tundish_temp_c as number) - liq) * 100) / 100, h.id);
+        if (liq != null) setSh.run((h.tundish_temp_c as number) - liq, h.id);
       }
     }
     const slabsResolved = createResolver(db).resolveAll();
@@ -67,10 +67,22 @@ export function updateStrand(db: Db, id: number, patch: StrandUpdate, userId: st
     if (min != null && max != null && min > max) throw badRequest("The smallest mold width is larger than the largest.", { field: "moldWidthMinMm" });
     sqlite.prepare(`update strands set ${sets.join(", ")}, updated_at = @now where id = @id`).run(values);
     const after = sqlite.prepare("select * from strands where id = ?").get(id) as Record<string, any>;
+    const strand = {
+      id: after.id,
+      strandNo: after.strand_no,
+      moldThicknessMm: after.mold_thickness_mm,
+      moldWidthMinMm: after.mold_width_min_mm,
+      moldWidthMaxMm: after.mold_width_max_mm,
+      moldEffectiveLengthMm: after.mold_effective_length_mm,
+      senPortAreaMm2: after.sen_port_area_mm2,
+      senPortCount: after.sen_port_count,
+      embrCalibration: JSON.parse(after.embr_calibration),
+      embrPositionMm: after.embr_position_mm,
+    };
     const slabIds = sqlite.prepare("select id from slabs where strand_id = ?").pluck().all(id) as number[];
     const slabsResolved = createResolver(db).resolve(slabIds);
     recordAudit(tx, { userId, action: "strand.update", entity: "strand", entityId: id, before, after });
-    return { strand: after, slabsResolved };
+    return { strand, slabsResolved };
   });
 }
 

@@ -4,15 +4,25 @@ export interface NavItem {
   to: string;
   label: string;
   capability: Capability;
+  /** Pages below this path that other roles may open too (e.g. a heat page, reached from a slab). */
+  subPathsOpen?: boolean;
 }
 
-/** Every screen of the navigation, with the capability that opens it (shared/roles.ts). */
+/**
+ * Every screen of the navigation, with the capability that opens it (shared/roles.ts). The order is
+ * the menu's: each role's home comes first, then the records, then the tools that change data, then
+ * administration.
+ */
 export const NAV_ITEMS: NavItem[] = [
   { to: "/yard", label: "Slab yard", capability: "defects.log" },
   { to: "/quality", label: "Quality", capability: "defects.review" },
   { to: "/process", label: "Process", capability: "setup.manage" },
   { to: "/claims", label: "Claims", capability: "claims.manage" },
+  { to: "/heats", label: "Heats", capability: "heats.browse", subPathsOpen: true },
+  { to: "/import", label: "Import", capability: "imports.run" },
+  { to: "/setup", label: "Plant setup", capability: "setup.manage" },
   { to: "/admin/users", label: "Users", capability: "users.manage" },
+  { to: "/admin/tokens", label: "API tokens", capability: "tokens.manage" },
 ];
 
 export function navFor(roles: Role[]): NavItem[] {
@@ -34,6 +44,6 @@ export function homeFor(roles: Role[]): string {
 
 /** Whether a path of the navigation is open to these roles (paths outside it are left to their screen). */
 export function canOpen(roles: Role[], path: string): boolean {
-  const item = NAV_ITEMS.find((i) => path === i.to || path.startsWith(i.to + "/"));
+  const item = NAV_ITEMS.find((i) => path === i.to || (!i.subPathsOpen && path.startsWith(i.to + "/")));
   return !item || can(roles, item.capability);
 }

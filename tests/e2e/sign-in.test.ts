@@ -1,28 +1,21 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Browser } from "playwright-core";
-import { collectPageErrors, DESKTOP, launchBrowser, snap, TABLET } from "../helpers/browser";
-import { startTestServer, TEST_PASSWORD } from "../helpers/test-app";
+import { describe, expect, it } from "vitest";
+import { collectPageErrors, DESKTOP, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { TEST_PASSWORD } from "../helpers/test-app";
 
-type Server = Awaited<ReturnType<typeof startTestServer>>;
-let server: Server;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startTestServer({ scale: 0.02 });
-  browser = await launchBrowser();
-});
-afterAll(async () => {
-  await browser?.close();
-  await server?.stop();
-});
+const env = useAppAndBrowser({ scale: 0.02 });
 
 // What each role should see in the menu, written out by hand.
 const homes = [
   { role: "inspector", path: "/yard", heading: "Find a slab", menu: ["Slab yard"] },
-  { role: "quality", path: "/quality", heading: "Quality", menu: ["Slab yard", "Quality"] },
-  { role: "process", path: "/process", heading: "Process", menu: ["Process"] },
-  { role: "claims", path: "/claims", heading: "Claims", menu: ["Claims"] },
-  { role: "admin", path: "/admin/users", heading: "Users and roles", menu: ["Slab yard", "Quality", "Process", "Claims", "Users"] },
+  { role: "quality", path: "/quality", heading: "Quality", menu: ["Slab yard", "Quality", "Heats"] },
+  { role: "process", path: "/process", heading: "Process", menu: ["Process", "Heats", "Import", "Plant setup"] },
+  { role: "claims", path: "/claims", heading: "Claims", menu: ["Claims", "Heats"] },
+  {
+    role: "admin",
+    path: "/admin/users",
+    heading: "Users and roles",
+    menu: ["Slab yard", "Quality", "Process", "Claims", "Heats", "Import", "Plant setup", "Users", "API tokens"],
+  },
 ] as const;
 
 async function signIn(page: import("playwright-core").Page, role: string) {
@@ -36,14 +29,14 @@ describe.each([
   ["desktop", DESKTOP],
 ] as const)("sign-in at %s size", (size, viewport) => {
   it.each(homes)("when $role signs in, then they land on $path, see only their menu, and can sign out", async ({ role, path, heading, menu }) => {
-    const context = await browser.newContext({ viewport });
+    const context = await env.browser.newContext({ viewport });
     const page = await context.newPage();
     const errors = collectPageErrors(page);
-    await page.goto(server.baseUrl + "/");
+    await page.goto(env.server.baseUrl + "/");
     await page.waitForURL(/\/sign-in/);
     if (role === "inspector") await snap(page, `sign-in-${size}`);
     await signIn(page, role);
-    await page.waitForURL(server.baseUrl + path);
+    await page.waitForURL(env.server.baseUrl + path);
     const h1 = page.getByRole("heading", { level: 1 });
     await h1.waitFor();
     expect(await h1.textContent()).toBe(heading);
@@ -58,7 +51,7 @@ describe.each([
     await page.getByRole("button", { name: "Sign out" }).click();
     await page.waitForURL(/\/sign-in/);
     // Signed out for real: the home redirects to sign-in again.
-    await page.goto(server.baseUrl + path);
+    await page.goto(env.server.baseUrl + path);
     await page.waitForURL(/\/sign-in/);
     expect(errors).toEqual([]);
     await context.close();
@@ -67,21 +60,21 @@ describe.each([
 
 describe("sessions in one tab", () => {
   it("when one user signs out and another signs in, then nothing of the first user's screens remains", async () => {
-    const context = await browser.newContext({ viewport: TABLET });
+    const context = await env.browser.newContext({ viewport: TABLET });
     const page = await context.newPage();
     const errors = collectPageErrors(page);
-    await page.goto(server.baseUrl + "/admin/users");
+    await page.goto(env.server.baseUrl + "/admin/users");
     await page.waitForURL(/\/sign-in/);
     await signIn(page, "admin");
-    await page.waitForURL(server.baseUrl + "/admin/users");
+    await page.waitForURL(env.server.baseUrl + "/admin/users");
     await page.getByTestId("user-row-inspector@demo.test").waitFor();
     await page.getByRole("button", { name: "Sign out" }).click();
     await page.waitForURL(/\/sign-in/);
     await signIn(page, "inspector");
-    await page.waitForURL(server.baseUrl + "/yard");
+    await page.waitForURL(env.server.baseUrl + "/yard");
     expect(await page.getByTestId("user-name").textContent()).toContain("demo inspector");
     // The admin's screen is not open to the inspector, cached or not.
-    await page.goto(server.baseUrl + "/admin/users");
+    await page.goto(env.server.baseUrl + "/admin/users");
     await page.getByRole("heading", { name: "Not open to your role" }).waitFor();
     expect(await page.getByTestId("user-row-inspector@demo.test").count()).toBe(0);
     expect(errors).toEqual([]);
@@ -89,20 +82,20 @@ describe("sessions in one tab", () => {
   });
 
   it("when a user is deactivated while working, then their next request sends them to sign-in", async () => {
-    const context = await browser.newContext({ viewport: TABLET });
+    const context = await env.browser.newContext({ viewport: TABLET });
     const page = await context.newPage();
-    await page.goto(server.baseUrl + "/");
+    await page.goto(env.server.baseUrl + "/");
     await page.waitForURL(/\/sign-in/);
     await signIn(page, "quality");
-    await page.waitForURL(server.baseUrl + "/quality");
-    const admin = await server.agentFor("admin");
-    const id = server.db.$client.prepare("select id from user where email = 'quality@demo.test'").pluck().get() as string;
-    expect((await admin.patch(`/api/admin/users/${id}`).set("Origin", server.baseUrl).send({ active: false })).status).toBe(200);
+    await page.waitForURL(env.server.baseUrl + "/quality");
+    const admin = await env.server.agentFor("admin");
+    const id = env.server.db.$client.prepare("select id from user where email = 'quality@demo.test'").pluck().get() as string;
+    expect((await admin.patch(`/api/admin/users/${id}`).set("Origin", env.server.baseUrl).send({ active: false })).status).toBe(200);
     await page.getByRole("link", { name: "Slab yard" }).click();
     await page.getByLabel(/Slab id or heat number/).fill("L26");
     await page.waitForURL(/\/sign-in\?next=.*expired=1/);
     await page.getByText("Your session ended. Please sign in again.").waitFor();
-    await admin.patch(`/api/admin/users/${id}`).set("Origin", server.baseUrl).send({ active: true });
+    await admin.patch(`/api/admin/users/${id}`).set("Origin", env.server.baseUrl).send({ active: true });
     await context.close();
   });
 });

@@ -1,3 +1,5 @@
+import { afterAll, beforeAll } from "vitest";
+import { startTestServer } from "./test-app";
 import fs from "node:fs";
 import path from "node:path";
 import { chromium, type Browser, type Page } from "playwright-core";
@@ -48,4 +50,37 @@ export function collectPageErrors(page: Page, allowedStatuses: number[] = [401])
     errors.push(text);
   });
   return errors;
+}
+
+/** Signs a demo user in through the real sign-in page and waits until the app has left it. */
+export async function signInAs(page: Page, baseUrl: string, role: string, password: string) {
+  await page.goto(baseUrl + "/sign-in");
+  await page.getByLabel("E-mail").fill(`${role}@demo.test`);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL((u) => !u.pathname.startsWith("/sign-in"));
+}
+
+/** The text of every cell in the rows matched by `rowSelector`, keyed by each cell's data-field. */
+export async function readRows(page: Page, rowSelector: string): Promise<Record<string, string>[]> {
+  return page.locator(rowSelector).evaluateAll((rows) =>
+    rows.map((r) => Object.fromEntries([...r.querySelectorAll("[data-field]")].map((c) => [c.getAttribute("data-field")!, (c.textContent ?? "").trim()]))),
+  );
+}
+
+/**
+ * The real app on a real port and one Chromium for a browser test file: started before the
+ * file's tests, stopped after them. Read `env.server` and `env.browser` inside tests.
+ */
+export function useAppAndBrowser(opts: Parameters<typeof startTestServer>[0] = {}) {
+  const env = {} as { server: Awaited<ReturnType<typeof startTestServer>>; browser: Browser };
+  beforeAll(async () => {
+    env.server = await startTestServer(opts);
+    env.browser = await launchBrowser();
+  });
+  afterAll(async () => {
+    await env.browser?.close();
+    await env.server?.stop();
+  });
+  return env;
 }

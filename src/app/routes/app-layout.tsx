@@ -39,7 +39,13 @@ export function Component() {
             <Logo />
             <span className="text-lg font-bold tracking-tight">Strandsight</span>
           </NavLink>
-          <nav aria-label="Main" className="order-3 flex w-full flex-wrap gap-1 pb-1 lg:order-none lg:w-auto lg:flex-1 lg:pb-0">
+          <nav
+            aria-label="Main"
+            className={`order-3 flex w-full flex-wrap gap-1 pb-1 ${
+              // A long menu (the administrator's) takes its own row rather than breaking into two.
+              items.length > 6 ? "" : "lg:order-none lg:w-auto lg:flex-1 lg:pb-0"
+            }`}
+          >
             {items.map((i) => (
               <NavLink
                 key={i.to}

@@ -1,5 +1,6 @@
 import { useState } from "react";
 import type { QueryClient } from "@tanstack/react-query";
+import { Link } from "react-router";
 import type { SlabHit } from "@shared/api/plant";
 import { Card, PageHeader } from "@/components/ui/card";
 import { HotYardCaution } from "@/features/plant/components/hot-yard-caution";
@@ -43,6 +44,12 @@ export function Component() {
               <dd className="font-semibold">{slab.defectCount}</dd>
             </div>
           </dl>
+          <Link
+            to={`/slabs/${encodeURIComponent(slab.slabId)}`}
+            className="mt-4 flex min-h-14 items-center justify-center rounded-md bg-strand-700 px-6 text-base font-semibold text-white hover:bg-strand-800"
+          >
+            Open slab {slab.slabId}: conditions and defects
+          </Link>
         </Card>
       ) : null}
     </div>

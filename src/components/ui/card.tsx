@@ -1,6 +1,19 @@
 import type { ReactNode } from "react";
 
-export function Card({ title, actions, children, className = "" }: { title?: ReactNode; actions?: ReactNode; children: ReactNode; className?: string }) {
+export function Card({
+  title,
+  actions,
+  children,
+  className = "",
+  bodyClassName = "p-4",
+}: {
+  title?: ReactNode;
+  actions?: ReactNode;
+  children: ReactNode;
+  className?: string;
+  /** The body's padding; wide tables take a narrower one so they fit a tablet. */
+  bodyClassName?: string;
+}) {
   return (
     <section className={`rounded-lg border border-ink-200 bg-white shadow-sm ${className}`}>
       {title || actions ? (
@@ -9,7 +22,7 @@ export function Card({ title, actions, children, className = "" }: { title?: Rea
           {actions}
         </header>
       ) : null}
-      <div className="p-4">{children}</div>
+      <div className={bodyClassName}>{children}</div>
     </section>
   );
 }
@@ -33,6 +46,18 @@ export function Stat({ label, value, note }: { label: string; value: ReactNode; 
       <div className="text-xs font-semibold uppercase tracking-wide text-ink-600">{label}</div>
       <div className="text-2xl font-bold tabular-nums text-ink-900">{value}</div>
       {note ? <div className="text-xs text-ink-600">{note}</div> : null}
+    </div>
+  );
+}
+
+/** A labelled fact in a definition list (dt/dd), as the heat and slab pages show them. */
+export function Fact({ label, children, testId }: { label: string; children: ReactNode; testId?: string }) {
+  return (
+    <div>
+      <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">{label}</dt>
+      <dd className="mt-0.5 text-base font-semibold tabular-nums text-ink-900" data-testid={testId}>
+        {children}
+      </dd>
     </div>
   );
 }

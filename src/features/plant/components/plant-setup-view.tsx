@@ -1,14 +1,9 @@
 import { useQuery } from "@tanstack/react-query";
-import { queryOptions } from "@tanstack/react-query";
-import { plantSetupSchema, type PlantSetup } from "@shared/api/plant";
+import type { PlantSetup } from "@shared/api/plant";
 import { Card } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { api } from "@/lib/api-client";
 import { plantKeys } from "../api/plant.queries";
-
-export const plantSetupQuery = () =>
-  queryOptions({ queryKey: [...plantKeys.all, "setup"] as const, queryFn: () => api("/plant/setup", { schema: plantSetupSchema }) });
 
 function calibrationText(c: PlantSetup["casters"][number]["strands"][number]["embrCalibration"]) {
   if (c.kind === "linear") return `linear: ${(c.teslaPerAmp * 1000).toFixed(3)} mT per A${c.offsetT ? `, offset ${c.offsetT} T` : ""}`;
@@ -17,7 +12,7 @@ function calibrationText(c: PlantSetup["casters"][number]["strands"][number]["em
 
 /** Casters, strands and their settings, and the grades by family (read-only here). */
 export function PlantSetupView() {
-  const setup = useQuery(plantSetupQuery());
+  const setup = useQuery(plantKeys.setup());
   if (setup.isPending) return <Spinner />;
   if (setup.isError) return <Notice tone="error">{setup.error.message}</Notice>;
   return (
@@ -66,8 +61,13 @@ export function PlantSetupView() {
               {f.description ? <div className="text-xs text-ink-600">{f.description}</div> : null}
               <div className="mt-1 flex flex-wrap gap-1">
                 {f.grades.map((g) => (
-                  <span key={g.id} className="rounded border border-ink-200 bg-ink-50 px-2 py-0.5 text-xs" title={g.name}>
+                  <span
+                    key={g.id}
+                    className={`rounded border px-2 py-0.5 text-xs ${g.active ? "border-ink-200 bg-ink-50" : "border-dashed border-ink-300 text-ink-500"}`}
+                    title={g.active ? g.name : `${g.name} (retired)`}
+                  >
                     {g.code}
+                    {g.active ? "" : " · retired"}
                   </span>
                 ))}
               </div>

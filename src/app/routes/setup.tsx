@@ -1,0 +1,82 @@
+import { useCallback } from "react";
+import { useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
+import { Card, PageHeader } from "@/components/ui/card";
+import { Spinner } from "@/components/ui/logo";
+import { Notice } from "@/components/ui/notice";
+import { heatKeys } from "@/features/heats/api/heats.queries";
+import { plantKeys } from "@/features/plant/api/plant.queries";
+import { GradesEditor } from "@/features/plant/components/grades-editor";
+import { PlantSettingsForm } from "@/features/plant/components/plant-settings-form";
+import { StrandSettingsForm } from "@/features/plant/components/strand-settings-form";
+import { slabKeys } from "@/features/slabs/api/slabs.queries";
+import { requireCapability } from "../guard";
+import { RouteError } from "./route-error";
+
+export function makeLoader(qc: QueryClient) {
+  return async () => {
+    await requireCapability(qc, "setup.manage");
+    void qc.prefetchQuery(plantKeys.setup());
+    void qc.prefetchQuery(plantKeys.settings());
+    return null;
+  };
+}
+
+export function Component() {
+  const qc = useQueryClient();
+  const setup = useQuery(plantKeys.setup());
+  const settings = useQuery(plantKeys.settings());
+  // Recomputed slabs change what the heat and slab pages show.
+  const onRecomputed = useCallback(() => {
+    void qc.invalidateQueries({ queryKey: heatKeys.all });
+    void qc.invalidateQueries({ queryKey: slabKeys.all });
+  }, [qc]);
+
+  return (
+    <div className="space-y-5">
+      <PageHeader title="Plant setup" subtitle="Casters and strands, grades, and the constants behind every derived value." />
+      <Notice tone="info" title="Audited">
+        Every change here is recorded in the audit log with your name, the time and the values before and after. Changes to a strand or to the formula
+        settings recompute the derived values of the slabs they touch; the screen says how many.
+      </Notice>
+
+      {setup.isPending ? (
+        <Spinner label="Loading the plant setup" />
+      ) : setup.isError ? (
+        <Notice tone="error">{setup.error.message}</Notice>
+      ) : (
+        <>
+          {setup.data.casters.map((c) => (
+            <Card key={c.id} title={`${c.code} — ${c.name}`}>
+              <p className="mb-4 text-sm text-ink-600">
+                {c.worksName} · {c.machineType}
+                {c.radiusM ? `, radius ${c.radiusM} m` : ""}
+              </p>
+              <div className="grid gap-6 xl:grid-cols-2">
+                {c.strands.map((s) => (
+                  <section key={s.id} aria-label={`Strand ${s.strandNo}`} className="space-y-3 rounded-md border border-ink-200 p-3">
+                    <h3 className="text-base font-semibold">Strand {s.strandNo}</h3>
+                    <StrandSettingsForm casterCode={c.code} strand={s} onRecomputed={onRecomputed} />
+                  </section>
+                ))}
+              </div>
+            </Card>
+          ))}
+          <Card title="Formula settings">
+            {settings.isPending ? (
+              <Spinner label="Loading the settings" />
+            ) : settings.isError ? (
+              <Notice tone="error">{settings.error.message}</Notice>
+            ) : (
+              <PlantSettingsForm settings={settings.data} onRecomputed={onRecomputed} />
+            )}
+          </Card>
+          <Card title="Grades and grade families">
+            <GradesEditor families={setup.data.gradeFamilies} />
+          </Card>
+        </>
+      )}
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteError;

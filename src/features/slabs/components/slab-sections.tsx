@@ -1,0 +1,200 @@
+import type { ReactNode } from "react";
+import { Link } from "react-router";
+import { Fact } from "@/components/ui/card";
+import type { ResolvedConditions, SlabDetail } from "@shared/api/heats";
+import { VARIABLES, type ConditionSource } from "@shared/variables";
+import { SeverityMark, SourceLegend, SourceMark, TransitionMark } from "@/components/ui/marks";
+import { dateTime, DASH, num, plural, withUnit } from "@/lib/format";
+import { dispositionLabel, faceLabel, reviewLabel, stageLabel } from "@/lib/labels";
+
+
+const weightSourceText = (s: string) =>
+  s === "computed" ? "computed from the dimensions and the plant's slab density" : s === "given" ? "given in the slab record" : s;
+
+/** What the slab is and where it sits: heat, strand, piece, dimensions, weight, position along the cast. */
+export function SlabFacts({ slab }: { slab: SlabDetail }) {
+  const start = slab.castLengthStartM;
+  const end = start === null ? null : start + slab.lengthMm / 1000;
+  return (
+    <dl className="grid grid-cols-2 gap-x-6 gap-y-4 md:grid-cols-4">
+      <Fact label="Heat">
+        <Link to={`/heats/${encodeURIComponent(slab.heatNo)}`} className="inline-flex min-h-12 items-center text-strand-700 underline decoration-strand-300 underline-offset-2" data-testid="slab-heat-link">
+          {slab.heatNo}
+        </Link>
+        <div className="text-sm font-normal text-ink-700">
+          {slab.gradeCode} ({slab.familyCode})
+        </div>
+      </Fact>
+      <Fact label="Caster · strand · piece">
+        {slab.casterCode} · strand {slab.strandNo} · piece {slab.pieceNo}
+      </Fact>
+      <Fact label="Thickness × width × length" testId="slab-dimensions">
+        {num(slab.thicknessMm)} × {num(slab.widthMm)} × {num(slab.lengthMm)} mm
+      </Fact>
+      <Fact label="Weight" testId="slab-weight">
+        {withUnit(slab.weightT, "t", 2)}
+        <div className="text-sm font-normal text-ink-700">{weightSourceText(slab.weightSource)}</div>
+      </Fact>
+      <Fact label="Position along the cast length" testId="slab-position">
+        {start === null ? DASH : `${num(start, 2)} – ${num(end, 2)} m`}
+        <div className="text-sm font-normal text-ink-700">head end to tail end, from the sequence start</div>
+      </Fact>
+      <Fact label="Cast at">{dateTime(slab.castAt)}</Fact>
+      <Fact label="Transition slab">
+        <TransitionMark transition={slab.transition} />
+        {slab.transition ? <div className="text-sm font-normal text-ink-700">cut across a ladle change</div> : null}
+      </Fact>
+      <Fact label="Disposition">{dispositionLabel(slab.disposition)}</Fact>
+    </dl>
+  );
+}
+
+const spec = (key: string) => VARIABLES.find((v) => v.key === key)!;
+
+type ConditionRow = {
+  key: string;
+  value: keyof ResolvedConditions;
+  source: keyof ResolvedConditions;
+  given: keyof SlabDetail["given"];
+};
+const CONDITION_ROWS: ConditionRow[] = [
+  { key: "casting_speed_m_min", value: "castingSpeedMPerMin", source: "castingSpeedSource", given: "castingSpeedMPerMin" },
+  { key: "superheat_c", value: "superheatC", source: "superheatSource", given: "superheatC" },
+  { key: "embr_current_a", value: "embrCurrentA", source: "embrCurrentSource", given: "embrCurrentA" },
+  { key: "sen_depth_mm", value: "senDepthMm", source: "senDepthSource", given: "senDepthMm" },
+  { key: "argon_nl_min", value: "argonNlPerMin", source: "argonSource", given: "argonNlPerMin" },
+  { key: "mold_level_sd_mm", value: "moldLevelSdMm", source: "moldLevelSdSource", given: "moldLevelSdMm" },
+];
+
+/**
+ * The slab's resolved conditions: its own value where one was given, else the aggregate of the
+ * process samples cast while it passed the mold, else the heat's value — each with its source.
+ */
+export function SlabConditionsTable({ slab }: { slab: SlabDetail }) {
+  const c = slab.conditions;
+  if (!c) return <p className="text-sm text-ink-600">The conditions of this slab have not been resolved yet.</p>;
+  return (
+    <div className="space-y-3">
+      <div className="overflow-x-auto">
+        <table className="w-full text-sm" data-testid="slab-conditions">
+          <thead>
+            <tr className="border-b-2 border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
+              <th className="py-2 pr-3">Condition</th>
+              <th className="py-2 pr-3 text-right">Value</th>
+              <th className="py-2 pr-3">Source</th>
+              <th className="py-2 text-right">Given for the slab</th>
+            </tr>
+          </thead>
+          <tbody>
+            {CONDITION_ROWS.map((row) => {
+              const s = spec(row.key);
+              const value = c[row.value] as number | null;
+              const source = c[row.source] as ConditionSource | null;
+              return (
+                <tr key={row.key} className="border-b border-ink-100" data-testid={`condition-${row.key}`}>
+                  <th scope="row" className="py-2.5 pr-3 text-left font-normal">
+                    {s.label}
+                    {row.key === "casting_speed_m_min" && c.speedMinMPerMin !== null ? (
+                      <div className="text-xs text-ink-600">
+                        sampled {num(c.speedMinMPerMin, 2)} – {num(c.speedMaxMPerMin, 2)} m/min, change {withUnit(c.speedChangeMPerMin, "m/min", 2)}
+                      </div>
+                    ) : null}
+                  </th>
+                  <td className="py-2.5 pr-3 text-right font-semibold tabular-nums" data-testid="condition-value">
+                    {withUnit(value, s.unit, s.digits)}
+                  </td>
+                  <td className="py-2.5 pr-3" data-testid="condition-source">
+                    <SourceMark source={source} full />
+                    {source === "samples" ? <span className="ml-1 text-xs text-ink-600">(n = {c.sampleCount})</span> : null}
+                  </td>
+                  <td className="py-2.5 text-right tabular-nums text-ink-700">{withUnit(slab.given[row.given], s.unit, s.digits)}</td>
+                </tr>
+              );
+            })}
+          </tbody>
+        </table>
+      </div>
+      <p className="text-xs text-ink-600" data-testid="slab-sample-count">
+        {c.sampleCount > 0
+          ? `${plural(c.sampleCount, "process sample")} were cast while this slab passed the mold; mean values shown.`
+          : "No process samples cover this slab: values not given for the slab are the heat's."}{" "}
+        A value given for the slab comes first, then the samples, then the heat.
+      </p>
+      <SourceLegend />
+    </div>
+  );
+}
+
+const DERIVED: { key: keyof ResolvedConditions; label: string; unit: string; digits: number }[] = [
+  { key: "throughputTPerMin", label: spec("throughput_t_min").label, unit: "t/min", digits: 2 },
+  { key: "moldDwellMin", label: "Mold dwell time", unit: "min", digits: 2 },
+  { key: "shellExitMm", label: spec("shell_exit_mm").label, unit: "mm", digits: 1 },
+  { key: "metallurgicalLengthM", label: spec("metallurgical_length_m").label, unit: "m", digits: 1 },
+  { key: "embrFieldT", label: spec("embr_field_t").label, unit: "T", digits: 3 },
+  { key: "senPortVelocityMPerS", label: spec("sen_port_velocity_m_s").label, unit: "m/s", digits: 2 },
+  { key: "stuartNumber", label: "Stuart number N", unit: "–", digits: 2 },
+  { key: "hartmannNumber", label: "Hartmann number Ha", unit: "–", digits: 0 },
+];
+
+export function SlabDerived({ conditions }: { conditions: ResolvedConditions | null }) {
+  if (!conditions) return <p className="text-sm text-ink-600">Not computed yet.</p>;
+  return (
+    <dl className="grid grid-cols-1 gap-x-6 sm:grid-cols-2">
+      {DERIVED.map((d) => (
+        <div key={d.key} className="flex items-baseline justify-between gap-3 border-b border-ink-100 py-2">
+          <dt className="text-sm text-ink-700">{d.label}</dt>
+          <dd className="font-semibold tabular-nums">{withUnit(conditions[d.key] as number | null, d.unit, d.digits)}</dd>
+        </div>
+      ))}
+    </dl>
+  );
+}
+
+/** The slab's defects; on a tablet each is a card, on a wide screen one table row. */
+export function SlabDefects({ defects }: { defects: SlabDetail["defects"] }) {
+  if (defects.length === 0) return <p className="text-sm text-ink-600" data-testid="slab-defects-empty">No defects on record for this slab.</p>;
+  return (
+    <ul className="divide-y divide-ink-100" data-testid="slab-defects">
+      {defects.map((d, i) => (
+        <li key={d.id} className="grid gap-x-6 gap-y-2 py-3 md:grid-cols-[minmax(12rem,1.3fr)_1fr_1fr_1fr]" data-testid="slab-defect">
+          <div>
+            <div className="font-semibold">
+              <span className="mr-2 inline-flex h-6 w-6 items-center justify-center rounded-full border border-ink-400 text-xs font-bold tabular-nums" aria-label={`number ${i + 1}`}>
+                {i + 1}
+              </span>
+              <span className="mr-2 rounded bg-ink-100 px-1.5 py-0.5 text-xs font-bold tracking-wide">{d.typeCode}</span>
+              {d.typeName}
+            </div>
+            <div className="mt-1">
+              <SeverityMark severity={d.severity} />
+            </div>
+          </div>
+          <div className="text-sm">
+            <div className="text-xs font-semibold uppercase text-ink-600">Where</div>
+            <div>{faceLabel(d.face)}</div>
+            <div className="text-ink-700">
+              {withUnit(d.positionAlongMm, "mm", 0)} from the head end
+              {d.positionAcrossMm !== null ? `, ${withUnit(d.positionAcrossMm, "mm", 0)} across` : ""}
+            </div>
+            <div className="text-ink-700">
+              size {num(d.lengthMm)} × {num(d.widthMm)} mm{d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
+            </div>
+          </div>
+          <div className="text-sm">
+            <div className="text-xs font-semibold uppercase text-ink-600">Found</div>
+            <div>{stageLabel(d.stage)}</div>
+            <div className="text-ink-700">{dateTime(d.foundAt)}</div>
+            <div className="text-ink-700">{d.createdByName ?? DASH}</div>
+          </div>
+          <div className="text-sm">
+            <div className="text-xs font-semibold uppercase text-ink-600">Disposition · review</div>
+            <div>{dispositionLabel(d.disposition)}</div>
+            <div className="text-ink-700">{reviewLabel(d.reviewStatus)}</div>
+            {d.photoCount > 0 ? <div className="text-ink-700">{plural(d.photoCount, "photo")}</div> : null}
+          </div>
+          {d.note ? <p className="text-sm text-ink-700 md:col-span-4">“{d.note}”</p> : null}
+        </li>
+      ))}
+    </ul>
+  );
+}

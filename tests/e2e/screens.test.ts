@@ -1,0 +1,50 @@
+import { describe, expect, it } from "vitest";
+import { collectPageErrors, DESKTOP, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { TEST_PASSWORD } from "../helpers/test-app";
+
+/**
+ * Every screen, as the role that works on it, at tablet and desktop size: it renders its heading
+ * without a page error, and a screenshot is kept in tests/.artifacts/ for a person to look at.
+ */
+const env = useAppAndBrowser({ scale: 0.02 });
+
+const heat = () => env.server.db.$client.prepare("select heat_no from heats order by id limit 1 offset 2").pluck().get() as string;
+const slab = () =>
+  env.server.db.$client.prepare("select s.slab_id from slabs s where exists (select 1 from defects d where d.slab_id = s.id) limit 1").pluck().get() as string;
+
+const SCREENS: { role: string; name: string; path: () => string }[] = [
+  { role: "inspector", name: "yard", path: () => "/yard" },
+  { role: "inspector", name: "slab", path: () => `/slabs/${slab()}` },
+  { role: "quality", name: "quality-home", path: () => "/quality" },
+  { role: "quality", name: "heats", path: () => "/heats" },
+  { role: "quality", name: "heat", path: () => `/heats/${heat()}` },
+  { role: "process", name: "process-home", path: () => "/process" },
+  { role: "process", name: "import", path: () => "/import" },
+  { role: "process", name: "setup", path: () => "/setup" },
+  { role: "claims", name: "claims-home", path: () => "/claims" },
+  { role: "admin", name: "users", path: () => "/admin/users" },
+  { role: "admin", name: "tokens", path: () => "/admin/tokens" },
+];
+
+describe.each([
+  ["tablet", TABLET],
+  ["desktop", DESKTOP],
+] as const)("every screen at %s size", (size, viewport) => {
+  for (const role of [...new Set(SCREENS.map((s) => s.role))]) {
+    it(`when ${role} opens their screens, then each renders without errors`, async () => {
+      const context = await env.browser.newContext({ viewport });
+      const page = await context.newPage();
+      const errors = collectPageErrors(page);
+      await signInAs(page, env.server.baseUrl, role, TEST_PASSWORD);
+      for (const screen of SCREENS.filter((s) => s.role === role)) {
+        await page.goto(env.server.baseUrl + screen.path());
+        await page.getByRole("heading", { level: 1 }).first().waitFor();
+        await page.waitForLoadState("networkidle");
+        expect(await page.getByRole("heading", { name: /Something went wrong|Not open to your role|Not found/ }).count(), screen.name).toBe(0);
+        await snap(page, `screen-${screen.name}-${size}`);
+      }
+      expect(errors).toEqual([]);
+      await context.close();
+    });
+  }
+});
