@@ -16,6 +16,8 @@ import { buildOpenApiDocument, createOpenApiRegistry } from "./openapi";
 import { adminUserRoutes } from "./routes/admin-users.routes";
 import type { Deps } from "./routes/deps";
 import { heatRoutes } from "./routes/heats.routes";
+import { defectRoutes } from "./routes/defects.routes";
+import type { DefectEvents } from "./services/defects.service";
 import { importRoutes } from "./routes/import.routes";
 import { setupRoutes } from "./routes/setup.routes";
 import { tokenRoutes } from "./routes/tokens.routes";
@@ -35,6 +37,7 @@ export interface AppOptions {
   serveClient?: boolean;
   /** Origins besides BETTER_AUTH_URL's that may send writes with the session cookie (Vite's dev server). */
   trustedOrigins?: string[];
+  events?: DefectEvents;
 }
 
 /**
@@ -61,12 +64,12 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 
 export function collectRoutes(deps: Deps): AnyRoute[] {
   return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
-    ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps)];
+    ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {
   const { db, auth, env, logger } = opts;
-  const deps: Deps = { db, auth, env, logger };
+  const deps: Deps = { db, auth, env, logger, events: opts.events ?? {} };
   const app = express();
   app.disable("x-powered-by");
   app.set("trust proxy", env.TRUST_PROXY);

@@ -1,3 +1,4 @@
+import path from "node:path";
 import { eq, sql } from "drizzle-orm";
 import { createApp } from "./app";
 import { createAuth } from "./auth";
@@ -8,6 +9,8 @@ import { EnvError, loadDotEnvFile, loadEnv } from "./env";
 import { createLogger } from "./lib/logger";
 import { DEMO_USERS } from "./seed/catalogue";
 import { seedDemo } from "./seed/seed";
+import { knownPhotoFiles } from "./services/defects.service";
+import { cleanupOrphanFiles } from "./services/photos.service";
 
 async function main() {
   loadDotEnvFile();
@@ -36,6 +39,16 @@ async function main() {
   }
 
   const app = createApp({ db, auth, env, logger, trustedOrigins: devOrigins });
+
+  // Photo files without a row (a crash between writing the file and its row) are removed at start
+  // and every hour after.
+  const cleanup = async () => {
+    const known = knownPhotoFiles(db);
+    const removed = await cleanupOrphanFiles(path.resolve(env.UPLOAD_DIR), (f) => known.has(f));
+    if (removed.length) logger.info({ removed: removed.length }, "removed orphaned photo files");
+  };
+  void cleanup().catch((err) => logger.error({ err }, "photo cleanup failed"));
+  setInterval(() => void cleanup().catch((err) => logger.error({ err }, "photo cleanup failed")), 60 * 60_000).unref();
   const demoUsers = db.select({ id: user.id }).from(user).where(eq(user.email, DEMO_USERS[0].email)).get() !== undefined;
   const server = app.listen(env.PORT, env.HOST, () => {
     const url = env.BETTER_AUTH_URL;

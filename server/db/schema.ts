@@ -358,6 +358,8 @@ export const defects = sqliteTable(
     reviewStatus: text("review_status").notNull().default("new"),
     reviewedBy: text("reviewed_by").references(() => user.id),
     reviewedAt: integer("reviewed_at", { mode: "timestamp_ms" }),
+    /** Why an entry was corrected or rejected. */
+    reviewNote: text("review_note"),
     /** Generated on the device so that a resent offline entry is stored once. */
     clientKey: text("client_key").unique(),
     foundAt: integer("found_at", { mode: "timestamp_ms" }).notNull(),

@@ -2,6 +2,7 @@ import type { Auth } from "../auth";
 import type { Db } from "../db/client";
 import type { Env } from "../env";
 import type { Logger } from "../lib/logger";
+import type { DefectEvents } from "../services/defects.service";
 
 /** What route modules receive from createApp. */
 export interface Deps {
@@ -9,4 +10,6 @@ export interface Deps {
   auth: Auth;
   env: Env;
   logger: Logger;
+  /** Things other parts react to (mail on a critical defect…). */
+  events: DefectEvents;
 }

@@ -19,10 +19,12 @@ interface Row {
   allowed: Who[];
   /** Reached with an API token only: every session, whatever its role, gets 401. */
   tokenOnly?: boolean;
-  sample: (t: TestApp) => { path: string; body?: unknown; file?: Buffer };
+  sample: (t: TestApp) => { path: string; body?: unknown; file?: Buffer; photo?: boolean };
 }
 
 const SETUP: Role[] = ["process", "admin"];
+const LOGGERS: Role[] = ["inspector", "quality", "admin"];
+const REVIEWERS: Role[] = ["quality", "admin"];
 const heatCsv = () =>
   Buffer.from(`heat_no,caster,grade,cast_start,casting_speed_m_min\nMATRIX${++counter},CC2,LV-ST32,2026-12-05T08:00:00Z,1.4\n`);
 
@@ -95,7 +97,70 @@ const matrix: Record<string, Row> = {
   "PATCH /plant/grade-families/:code": { allowed: SETUP, sample: () => ({ path: "/api/plant/grade-families/PER", body: { name: "Peritectic" } }) },
   "POST /plant/grades": { allowed: SETUP, sample: () => ({ path: "/api/plant/grades", body: { code: `MG${++counter}`, name: "Matrix grade", familyCode: "LC" } }) },
   "PATCH /plant/grades/:code": { allowed: SETUP, sample: () => ({ path: "/api/plant/grades/LV-DQ10", body: { name: "Drawing quality" } }) },
+  "POST /defects": {
+    allowed: LOGGERS,
+    sample: (t) => ({
+      path: "/api/defects",
+      body: { slab_id: slabRow(t), type_code: "SLG", face: "inner", position_along_mm: 100, position_across_mm: 100, severity: 1, disposition: "accept", client_key: `matrix-${++counter}-key` },
+    }),
+  },
+  "GET /defects": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/defects?pageSize=5" }) },
+  "GET /defects/:id": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}` }) },
+  "PATCH /defects/:id": { allowed: LOGGERS, sample: (t) => ({ path: `/api/defects/${ownDefect(t)}`, body: { note: "matrix" } }) },
+  "DELETE /defects/:id": { allowed: LOGGERS, sample: (t) => ({ path: `/api/defects/${ownDefect(t)}` }) },
+  "POST /defects/:id/review": { allowed: REVIEWERS, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/review`, body: { decision: "confirm" } }) },
+  "POST /defects/:id/photos": { allowed: LOGGERS, sample: (t) => ({ path: `/api/defects/${ownDefect(t)}/photos`, photo: true }) },
+  "GET /photos/:id": { allowed: EVERY_ROLE, sample: () => ({ path: `/api/photos/00000000-0000-4000-8000-000000000001` }) },
+  "GET /photos/:id/thumb": { allowed: EVERY_ROLE, sample: () => ({ path: `/api/photos/00000000-0000-4000-8000-000000000001/thumb` }) },
+  "DELETE /photos/:id": { allowed: LOGGERS, sample: (t) => ({ path: `/api/photos/${photoOf(t, ownDefect(t))}` }) },
+  "GET /defect-types": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/defect-types" }) },
+  "POST /defect-types": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-types", body: { code: `MT${++counter}`, name: "Matrix type", categoryCode: "SURFACE" } }) },
+  "PATCH /defect-types/:code": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-types/SCB", body: { name: "Scab" } }) },
+  "POST /defect-categories": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-categories", body: { code: `MC${++counter}`, name: "Matrix category" } }) },
+  "PATCH /defect-categories/:code": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-categories/SURFACE", body: { name: "Other surface defects" } }) },
 };
+
+const slabRow = (t: TestApp) => t.db.$client.prepare("select slab_id from slabs order by id limit 1 offset 1").pluck().get() as string;
+/** A fresh defect by the given role (so "own and unreviewed" holds for inspectors). */
+function defectOf(t: TestApp, email: string) {
+  const userId = t.db.$client.prepare("select id from user where email = ?").pluck().get(email) as string;
+  const slab = t.db.$client.prepare("select id from slabs order by id limit 1 offset 1").pluck().get() as number;
+  const type = t.db.$client.prepare("select id from defect_types where code = 'SLG'").pluck().get() as number;
+  return Number(
+    t.db.$client
+      .prepare("insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, created_by) values (?, ?, 'inner', 100, 100, 1, 'slab_yard', 'accept', ?, ?)")
+      .run(slab, type, Date.now(), userId).lastInsertRowid,
+  );
+}
+let currentRole: Role | null = null;
+const ownDefect = (t: TestApp) => defectOf(t, `${currentRole ?? "inspector"}@demo.test`);
+const photoOf = (t: TestApp, defectId: number) => {
+  const id = crypto.randomUUID();
+  t.db.$client
+    .prepare("insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256) values (?, ?, ?, 'image/webp', ?, 10, 10, 1, 'x')")
+    .run(id, defectId, `photos/${id}.webp`, `photos/${id}.thumb.jpg`);
+  return id;
+};
+let photoFileMade = false;
+async function realPhoto(t: TestApp) {
+  // One real stored photo for the GET routes.
+  if (!photoFileMade) {
+    const fs = await import("node:fs");
+    const path = await import("node:path");
+    const sharp = (await import("sharp")).default;
+    const id = "00000000-0000-4000-8000-000000000001";
+    const dir = path.join(t.env.UPLOAD_DIR, "photos");
+    fs.mkdirSync(dir, { recursive: true });
+    const img = await sharp({ create: { width: 4, height: 4, channels: 3, background: "#000" } }).webp().toBuffer();
+    fs.writeFileSync(path.join(dir, `${id}.webp`), img);
+    fs.writeFileSync(path.join(dir, `${id}.thumb.jpg`), await sharp(img).jpeg().toBuffer());
+    t.db.$client
+      .prepare("insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256) values (?, ?, ?, 'image/webp', ?, 4, 4, 1, 'x')")
+      .run(id, defectOf(t, "inspector@demo.test"), `photos/${id}.webp`, `photos/${id}.thumb.jpg`);
+    photoFileMade = true;
+  }
+  return "00000000-0000-4000-8000-000000000001";
+}
 
 function firstStrand(t: TestApp) {
   return t.db.$client.prepare("select id from strands order by id limit 1").pluck().get() as number;
@@ -115,12 +180,16 @@ beforeAll(async () => {
   t = await createTestApp({ scale: 0.01 });
   agents = {} as Record<Role, request.Agent>;
   for (const role of ROLES) agents[role] = await t.agentFor(role);
+  tinyPng = await (await import("sharp")).default({ create: { width: 8, height: 8, channels: 3, background: "#468" } }).png().toBuffer();
+  await realPhoto(t);
 });
 afterAll(() => t?.close());
 
-function send(agent: request.Agent | ReturnType<typeof request>, route: AnyRoute, s: { path: string; body?: unknown; file?: Buffer }) {
+let tinyPng: Buffer;
+function send(agent: request.Agent | ReturnType<typeof request>, route: AnyRoute, s: { path: string; body?: unknown; file?: Buffer; photo?: boolean }) {
   const call = (agent as request.Agent)[route.method](s.path).set("Origin", t.env.BETTER_AUTH_URL);
   if (s.file) return call.attach("file", s.file, "matrix.csv");
+  if (s.photo) return call.attach("photos", tinyPng, "matrix.png");
   return s.body !== undefined ? call.send(s.body as object) : call;
 }
 
@@ -144,6 +213,7 @@ describe("role matrix", () => {
   });
 
   it.each(ROLES)("when signed in as %s, then the allowed routes answer 2xx and the others 403", async (role) => {
+    currentRole = role;
     for (const route of routes()) {
       const row = matrix[key(route)]!;
       const res = await send(agents[role], route, row.sample(t));

@@ -1,0 +1,391 @@
+import type Database from "better-sqlite3";
+import type { Defect } from "@shared/api/defects";
+import type { defectCreateSchema, defectListQuerySchema, defectReviewSchema, defectUpdateSchema } from "@shared/api/defects";
+import { DISPOSITION_RANK, FACE_LABELS, type Disposition, type Face } from "@shared/domain";
+import { can } from "@shared/roles";
+import type { z } from "zod";
+import type { Db } from "../db/client";
+import { HttpError, badRequest, conflict, forbidden, notFound } from "../lib/http-error";
+import { recordAudit } from "./audit.service";
+import { parseDateBound } from "./heats.service";
+import { checkPhoto, removePhotoFiles, storePhotoFiles, type StoredPhotoFiles } from "./photos.service";
+
+type Actor = NonNullable<Express.Request["user"]>;
+type CreateInput = z.output<typeof defectCreateSchema>;
+type UpdateInput = z.output<typeof defectUpdateSchema>;
+type ReviewInput = z.output<typeof defectReviewSchema>;
+
+export interface DefectEvents {
+  /** A defect was stored with critical severity (the mail issue sends it to the quality engineers). */
+  criticalDefect?: (defect: Defect) => void;
+}
+
+const iso = (ms: number | null | undefined) => (ms == null ? null : new Date(ms).toISOString());
+
+const SELECT = `select d.*, s.slab_id as slabCode, s.length_mm as slabLength, s.width_mm as slabWidth, s.thickness_mm as slabThickness,
+    h.heat_no as heatNo, g.code as gradeCode, st.strand_no as strandNo, t.code as typeCode, t.name as typeName, c.code as categoryCode,
+    cu.name as createdByName, ru.name as reviewedByName
+  from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id
+  join strands st on st.id = s.strand_id join defect_types t on t.id = d.type_id join defect_categories c on c.id = t.category_id
+  left join user cu on cu.id = d.created_by left join user ru on ru.id = d.reviewed_by`;
+
+type Row = Record<string, any>;
+
+function photosOf(sqlite: Database.Database, defectIds: number[]) {
+  const map = new Map<number, Defect["photos"]>();
+  if (defectIds.length === 0) return map;
+  const rows = sqlite
+    .prepare(
+      `select id, defect_id, width, height, created_at from defect_photos where deleted_at is null and defect_id in (${defectIds.map(() => "?").join(",")}) order by created_at, id`,
+    )
+    .all(...defectIds) as Row[];
+  for (const r of rows) {
+    const list = map.get(r.defect_id) ?? [];
+    list.push({ id: r.id, url: `/api/photos/${r.id}`, thumbUrl: `/api/photos/${r.id}/thumb`, width: r.width, height: r.height, createdAt: iso(r.created_at)! });
+    map.set(r.defect_id, list);
+  }
+  return map;
+}
+
+/** Own and still unreviewed for the inspector; always for quality and admin. */
+export function canChange(user: Actor, row: { created_by: string | null; review_status: string }): boolean {
+  if (can(user.roles, "defects.review")) return true;
+  return can(user.roles, "defects.log") && row.created_by === user.id && row.review_status === "new";
+}
+
+function toDefect(r: Row, photos: Defect["photos"], user: Actor): Defect {
+  return {
+    id: r.id,
+    slabId: r.slabCode,
+    heatNo: r.heatNo,
+    gradeCode: r.gradeCode,
+    strandNo: r.strandNo,
+    slabLengthMm: r.slabLength,
+    slabWidthMm: r.slabWidth,
+    slabThicknessMm: r.slabThickness,
+    typeCode: r.typeCode,
+    typeName: r.typeName,
+    categoryCode: r.categoryCode,
+    face: r.face,
+    positionAlongMm: r.position_along_mm,
+    positionAcrossMm: r.position_across_mm,
+    lengthMm: r.length_mm,
+    widthMm: r.width_mm,
+    depthMm: r.depth_mm,
+    severity: r.severity,
+    stage: r.stage,
+    disposition: r.disposition,
+    note: r.note,
+    reviewStatus: r.review_status,
+    reviewedByName: r.reviewedByName ?? null,
+    reviewedAt: iso(r.reviewed_at),
+    clientKey: r.client_key,
+    foundAt: iso(r.found_at)!,
+    createdAt: iso(r.created_at)!,
+    updatedAt: iso(r.updated_at)!,
+    createdById: r.created_by,
+    createdByName: r.createdByName ?? null,
+    photos,
+    canEdit: canChange(user, r as never),
+  };
+}
+
+export function getDefect(db: Db, id: number, user: Actor): Defect {
+  const r = db.$client.prepare(`${SELECT} where d.id = ? and d.deleted_at is null`).get(id) as Row | undefined;
+  if (!r) throw notFound("There is no such defect entry (it may have been deleted).");
+  return toDefect(r, photosOf(db.$client, [id]).get(id) ?? [], user);
+}
+
+/** The width of the face the position across is measured on. */
+function acrossLimit(face: Face, slab: { width_mm: number; thickness_mm: number }) {
+  return face === "left" || face === "right" ? slab.thickness_mm : slab.width_mm;
+}
+
+function checkPosition(
+  v: { face: Face; position_along_mm: number | null; position_across_mm: number | null },
+  slab: { slab_id: string; length_mm: number; width_mm: number; thickness_mm: number },
+) {
+  const problems: { path: string; message: string }[] = [];
+  if (v.position_along_mm != null && v.position_along_mm > slab.length_mm) {
+    problems.push({ path: "position_along_mm", message: `${v.position_along_mm} mm from the head end is beyond the slab's length of ${slab.length_mm} mm.` });
+  }
+  const limit = acrossLimit(v.face, slab);
+  if (v.position_across_mm != null && v.position_across_mm > limit) {
+    problems.push({
+      path: "position_across_mm",
+      message: `${v.position_across_mm} mm across is beyond the ${FACE_LABELS[v.face].toLowerCase()}, which is ${limit} mm ${v.face === "left" || v.face === "right" ? "thick" : "wide"}.`,
+    });
+  }
+  if (problems.length) throw new HttpError(400, "outside_slab", problems.map((p) => p.message).join(" "), problems);
+}
+
+function typeId(sqlite: Database.Database, code: string): number {
+  const t = sqlite.prepare("select id, active from defect_types where upper(code) = upper(?)").get(code) as { id: number; active: number } | undefined;
+  if (!t) throw badRequest(`There is no defect type ${code} in the catalogue.`, { field: "type_code" }, "unknown_type");
+  if (!t.active) throw badRequest(`The defect type ${code} is retired; choose another.`, { field: "type_code" }, "retired_type");
+  return t.id;
+}
+
+/** A slab takes the worst disposition of its live, unrejected defects (none: no disposition). */
+function refreshSlabDisposition(sqlite: Database.Database, slabRowId: number) {
+  const dispositions = sqlite
+    .prepare("select disposition from defects where slab_id = ? and deleted_at is null and review_status <> 'rejected'")
+    .pluck()
+    .all(slabRowId) as Disposition[];
+  let worst: Disposition | null = null;
+  for (const d of dispositions) if (worst === null || DISPOSITION_RANK[d] > DISPOSITION_RANK[worst]) worst = d;
+  sqlite.prepare("update slabs set disposition = ?, updated_at = ? where id = ?").run(worst, Date.now(), slabRowId);
+}
+
+export function createDefect(db: Db, user: Actor, input: CreateInput, events: DefectEvents = {}): { id: number; created: boolean; defect: Defect } {
+  const sqlite = db.$client;
+  const result = db.transaction(() => {
+    const existing = sqlite.prepare("select id, created_by from defects where client_key = ?").get(input.client_key) as
+      | { id: number; created_by: string | null }
+      | undefined;
+    if (existing) {
+      if (existing.created_by !== user.id) throw conflict("This entry key was already used by someone else; the entry was not stored.");
+      return { id: existing.id, created: false };
+    }
+    const slab = sqlite.prepare("select id, slab_id, length_mm, width_mm, thickness_mm from slabs where slab_id = ?").get(input.slab_id.trim().toUpperCase()) as
+      | { id: number; slab_id: string; length_mm: number; width_mm: number; thickness_mm: number }
+      | undefined;
+    if (!slab) throw notFound(`There is no slab ${input.slab_id.trim().toUpperCase()} on record. Check the id on the slab's label, or scan it again.`);
+    checkPosition(input, slab);
+    const tId = typeId(sqlite, input.type_code);
+    const now = Date.now();
+    let foundAt = now;
+    if (input.found_at) {
+      foundAt = Date.parse(input.found_at);
+      if (foundAt > now + 5 * 60_000) throw badRequest("found_at lies in the future; check the tablet's clock.", { field: "found_at" });
+    }
+    const id = Number(
+      sqlite
+        .prepare(
+          `insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, length_mm, width_mm, depth_mm, severity,
+             stage, disposition, note, client_key, found_at, created_by, created_at, updated_at)
+           values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+        )
+        .run(
+          slab.id, tId, input.face, input.position_along_mm, input.position_across_mm, input.length_mm ?? null, input.width_mm ?? null,
+          input.depth_mm ?? null, input.severity, input.stage, input.disposition, input.note || null, input.client_key, foundAt, user.id, now, now,
+        ).lastInsertRowid,
+    );
+    refreshSlabDisposition(sqlite, slab.id);
+    recordAudit(db, { userId: user.id, action: "defect.create", entity: "defect", entityId: id, after: { ...input, slab_id: slab.slab_id } });
+    return { id, created: true };
+  });
+  const defect = getDefect(db, result.id, user);
+  if (result.created && defect.severity === 4) events.criticalDefect?.(defect);
+  return { ...result, defect };
+}
+
+function loadForChange(sqlite: Database.Database, id: number, user: Actor): Row {
+  const row = sqlite
+    .prepare(
+      `select d.*, s.slab_id as slab_code, s.length_mm as slab_length_mm, s.width_mm as slab_width_mm, s.thickness_mm as slab_thickness_mm
+       from defects d join slabs s on s.id = d.slab_id where d.id = ? and d.deleted_at is null`,
+    )
+    .get(id) as Row | undefined;
+  if (!row) throw notFound("There is no such defect entry (it may have been deleted).");
+  if (!canChange(user, row as never)) {
+    throw forbidden(
+      row.created_by !== user.id
+        ? "This entry was made by someone else; only a quality engineer can change it."
+        : "A quality engineer has reviewed this entry; only a quality engineer can change it now.",
+    );
+  }
+  return row;
+}
+
+const UPDATABLE = ["face", "position_along_mm", "position_across_mm", "length_mm", "width_mm", "depth_mm", "severity", "stage", "disposition", "note"] as const;
+
+export function updateDefect(db: Db, user: Actor, id: number, patch: UpdateInput): Defect {
+  const sqlite = db.$client;
+  db.transaction(() => {
+    const before = loadForChange(sqlite, id, user);
+    const next: Row = { ...before };
+    for (const k of UPDATABLE) if (patch[k] !== undefined) next[k] = patch[k] === "" ? null : patch[k];
+    if (patch.type_code !== undefined) next.type_id = typeId(sqlite, patch.type_code);
+    checkPosition(next as never, { slab_id: before.slab_code, length_mm: before.slab_length_mm, width_mm: before.slab_width_mm, thickness_mm: before.slab_thickness_mm });
+    sqlite
+      .prepare(
+        `update defects set type_id = @type_id, face = @face, position_along_mm = @position_along_mm, position_across_mm = @position_across_mm,
+           length_mm = @length_mm, width_mm = @width_mm, depth_mm = @depth_mm, severity = @severity, stage = @stage, disposition = @disposition,
+           note = @note, updated_at = @now where id = @id`,
+      )
+      .run({ ...pickColumns(next), now: Date.now(), id });
+    refreshSlabDisposition(sqlite, before.slab_id);
+    recordAudit(db, { userId: user.id, action: "defect.update", entity: "defect", entityId: id, before: pickColumns(before), after: pickColumns(next) });
+  });
+  return getDefect(db, id, user);
+}
+
+function pickColumns(r: Row) {
+  return {
+    type_id: r.type_id, face: r.face, position_along_mm: r.position_along_mm, position_across_mm: r.position_across_mm, length_mm: r.length_mm,
+    width_mm: r.width_mm, depth_mm: r.depth_mm, severity: r.severity, stage: r.stage, disposition: r.disposition, note: r.note ?? null,
+    review_status: r.review_status,
+  };
+}
+
+export function deleteDefect(db: Db, user: Actor, id: number): { id: number; deleted: true } {
+  const sqlite = db.$client;
+  db.transaction(() => {
+    const before = loadForChange(sqlite, id, user);
+    const now = Date.now();
+    sqlite.prepare("update defects set deleted_at = ?, deleted_by = ?, updated_at = ? where id = ?").run(now, user.id, now, id);
+    refreshSlabDisposition(sqlite, before.slab_id);
+    recordAudit(db, { userId: user.id, action: "defect.delete", entity: "defect", entityId: id, before: pickColumns(before) });
+  });
+  return { id, deleted: true };
+}
+
+export function reviewDefect(db: Db, user: Actor, id: number, input: ReviewInput): Defect {
+  const sqlite = db.$client;
+  db.transaction(() => {
+    const before = sqlite.prepare("select * from defects where id = ? and deleted_at is null").get(id) as Row | undefined;
+    if (!before) throw notFound("There is no such defect entry (it may have been deleted).");
+    const status = input.decision === "confirm" ? "confirmed" : input.decision === "correct" ? "corrected" : "rejected";
+    const typeIdNext = input.type_code ? typeId(sqlite, input.type_code) : before.type_id;
+    const severityNext = input.severity ?? before.severity;
+    const now = Date.now();
+    sqlite
+      .prepare("update defects set review_status = ?, reviewed_by = ?, reviewed_at = ?, review_note = ?, type_id = ?, severity = ?, updated_at = ? where id = ?")
+      .run(status, user.id, now, input.note ?? null, typeIdNext, severityNext, now, id);
+    refreshSlabDisposition(sqlite, before.slab_id);
+    recordAudit(db, {
+      userId: user.id,
+      action: `defect.review.${input.decision}`,
+      entity: "defect",
+      entityId: id,
+      before: { review_status: before.review_status, type_id: before.type_id, severity: before.severity },
+      after: { review_status: status, type_id: typeIdNext, severity: severityNext, note: input.note ?? null },
+    });
+  });
+  return getDefect(db, id, user);
+}
+
+export function listDefects(db: Db, user: Actor, q: z.output<typeof defectListQuerySchema>) {
+  const where = ["d.deleted_at is null"];
+  const params: Record<string, unknown> = {};
+  if (q.mine) {
+    where.push("d.created_by = @me");
+    params.me = user.id;
+  }
+  const from = parseDateBound(q.from, false, "from");
+  const to = parseDateBound(q.to, true, "to");
+  if (from !== undefined) {
+    where.push("d.found_at >= @from");
+    params.from = from;
+  }
+  if (to !== undefined) {
+    where.push("d.found_at <= @to");
+    params.to = to;
+  }
+  if (q.slab) {
+    where.push("s.slab_id = @slab");
+    params.slab = q.slab.toUpperCase();
+  }
+  if (q.heat) {
+    where.push("h.heat_no = @heat");
+    params.heat = q.heat.toUpperCase();
+  }
+  if (q.type) {
+    where.push("upper(t.code) = upper(@type)");
+    params.type = q.type;
+  }
+  if (q.reviewStatus) {
+    where.push("d.review_status = @status");
+    params.status = q.reviewStatus;
+  }
+  const w = where.join(" and ");
+  const total = db.$client
+    .prepare(
+      `select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id join defect_types t on t.id = d.type_id where ${w}`,
+    )
+    .pluck()
+    .get(params) as number;
+  const order = q.sort === "oldest" ? "d.found_at asc, d.id asc" : "d.found_at desc, d.id desc";
+  const rows = db.$client.prepare(`${SELECT} where ${w} order by ${order} limit @limit offset @offset`).all({
+    ...params,
+    limit: q.pageSize,
+    offset: (q.page - 1) * q.pageSize,
+  }) as Row[];
+  const photos = photosOf(db.$client, rows.map((r) => r.id));
+  return { items: rows.map((r) => toDefect(r, photos.get(r.id) ?? [], user)), total, page: q.page, pageSize: q.pageSize };
+}
+
+export interface UploadedFile {
+  buffer: Buffer;
+  originalname: string;
+}
+
+/**
+ * Adds photos to a defect. Every file is checked before any is stored; then the files are written;
+ * then all rows go in one transaction. A photo whose client key was stored before is not stored again.
+ */
+export async function addPhotos(db: Db, uploadDir: string, user: Actor, defectId: number, files: UploadedFile[], clientKeys: (string | null)[]) {
+  const sqlite = db.$client;
+  if (files.length === 0) throw new HttpError(400, "no_file", "Attach at least one photo (form field “photos”).");
+  loadForChange(sqlite, defectId, user);
+  const known = new Map<string, string>();
+  for (const key of clientKeys) {
+    if (!key) continue;
+    const row = sqlite.prepare("select id, defect_id from defect_photos where client_key = ?").get(key) as { id: string; defect_id: number } | undefined;
+    if (row && row.defect_id !== defectId) throw conflict("A photo key was already used for another defect.");
+    if (row) known.set(key, row.id);
+  }
+  const todo: { index: number; key: string | null }[] = files.map((_, i) => ({ index: i, key: clientKeys[i] ?? null })).filter((x) => !x.key || !known.has(x.key));
+  const checked = await Promise.all(todo.map((x) => checkPhoto(files[x.index]!.buffer, files[x.index]!.originalname)));
+  const stored: StoredPhotoFiles[] = [];
+  try {
+    for (const c of checked) stored.push(await storePhotoFiles(uploadDir, c));
+    db.transaction(() => {
+      const ins = sqlite.prepare(
+        `insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256, original_name, client_key, created_by, created_at)
+         values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+      );
+      const now = Date.now();
+      stored.forEach((s, i) => {
+        ins.run(s.id, defectId, s.displayFile, s.displayMime, s.thumbFile, s.width, s.height, s.bytes, s.sha256, checked[i]!.originalName, todo[i]!.key, user.id, now);
+      });
+      sqlite.prepare("update defects set updated_at = ? where id = ?").run(now, defectId);
+      recordAudit(db, { userId: user.id, action: "defect.photos.add", entity: "defect", entityId: defectId, after: { photos: stored.map((s) => ({ id: s.id, sha256: s.sha256 })) } });
+    });
+  } catch (err) {
+    await removePhotoFiles(uploadDir, stored);
+    throw err;
+  }
+  // In the order the files were sent, whether stored now or before.
+  const newIds = new Map(todo.map((x, i) => [x.index, stored[i]!.id]));
+  const ids = files.map((_, i) => newIds.get(i) ?? known.get(clientKeys[i]!)!);
+  const byId = new Map((photosOf(sqlite, [defectId]).get(defectId) ?? []).map((p) => [p.id, p]));
+  return { photos: ids.map((id) => byId.get(id)!) };
+}
+
+export function deletePhoto(db: Db, user: Actor, photoId: string) {
+  const sqlite = db.$client;
+  return db.transaction(() => {
+    const p = sqlite.prepare("select id, defect_id from defect_photos where id = ? and deleted_at is null").get(photoId) as { id: string; defect_id: number } | undefined;
+    if (!p) throw notFound("There is no such photo.");
+    loadForChange(sqlite, p.defect_id, user);
+    sqlite.prepare("update defect_photos set deleted_at = ? where id = ?").run(Date.now(), photoId);
+    recordAudit(db, { userId: user.id, action: "defect.photos.delete", entity: "defect", entityId: p.defect_id, before: { photo: photoId } });
+    return { id: photoId, deleted: true as const };
+  });
+}
+
+export function photoFile(db: Db, photoId: string, kind: "display" | "thumb") {
+  const p = db.$client.prepare("select display_file, display_mime, thumb_file, sha256 from defect_photos where id = ? and deleted_at is null").get(photoId) as
+    | { display_file: string; display_mime: string; thumb_file: string; sha256: string }
+    | undefined;
+  if (!p) throw notFound("There is no such photo.");
+  return kind === "display" ? { file: p.display_file, mime: p.display_mime, etag: `"${photoId}-d"` } : { file: p.thumb_file, mime: "image/jpeg", etag: `"${photoId}-t"` };
+}
+
+/** Every file a photo row refers to (for the orphan cleanup). */
+export function knownPhotoFiles(db: Db): Set<string> {
+  const rows = db.$client.prepare("select display_file, thumb_file from defect_photos").raw().all() as [string, string][];
+  return new Set(rows.flat());
+}
