@@ -47,6 +47,7 @@ export interface ProductionCounts {
   products: number;
   claims: number;
   investigations: number;
+  photos?: number;
 }
 
 interface Sample {

@@ -30,6 +30,7 @@ import {
   GRADES,
 } from "./catalogue";
 import { createResolver } from "../services/conditions.service";
+import { addDemoPhotos } from "./demo-photos";
 import { generateProduction, type ProductionCounts } from "./demo-plant";
 
 export interface SeedResult {
@@ -78,7 +79,7 @@ export function seedReference(tx: Tx | Db) {
  * Seeds the invented demo plant. Safe to run again: users, reference rows and production are each
  * created only when missing, so a second run duplicates nothing.
  */
-export async function seedDemo(db: Db, auth: Auth, opts: { password: string; scale?: number }): Promise<SeedResult> {
+export async function seedDemo(db: Db, auth: Auth, opts: { password: string; scale?: number; uploadDir?: string }): Promise<SeedResult> {
   const started = performance.now();
   let usersCreated = 0;
   for (const u of DEMO_USERS) {
@@ -117,5 +118,7 @@ export async function seedDemo(db: Db, auth: Auth, opts: { password: string; sca
     return counts;
   });
 
+  // Demo photos for the newest unreviewed entries (only with a photo store, and only with new production).
+  if (production && opts.uploadDir) production.photos = await addDemoPhotos(db, opts.uploadDir);
   return { usersCreated, production, seconds: (performance.now() - started) / 1000 };
 }

@@ -42,7 +42,7 @@ export async function createTestApp(opts: TestAppOptions = {}) {
   runMigrations(db);
   const logger = createLogger(env.LOG_LEVEL);
   const auth = createAuth({ db, secret: env.BETTER_AUTH_SECRET, baseURL: env.BETTER_AUTH_URL, enforceOriginCheck: opts.enforceOriginCheck, rateLimit: opts.rateLimit, logger });
-  const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02 });
+  const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02, uploadDir: env.UPLOAD_DIR });
   const app = createApp({ db, auth, env, logger, serveClient: true });
 
   /** A supertest agent that keeps the cookie of the given demo user. */
