@@ -79,6 +79,7 @@ function toDefect(r: Row, photos: Defect["photos"], user: Actor): Defect {
     reviewStatus: r.review_status,
     reviewedByName: r.reviewedByName ?? null,
     reviewedAt: iso(r.reviewed_at),
+    reviewNote: r.review_note ?? null,
     clientKey: r.client_key,
     foundAt: iso(r.found_at)!,
     createdAt: iso(r.created_at)!,

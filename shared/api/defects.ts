@@ -88,6 +88,8 @@ export const defectSchema = z.object({
   reviewStatus: reviewStatusSchema,
   reviewedByName: z.string().nullable(),
   reviewedAt: z.string().nullable(),
+  /** Why a quality engineer corrected or rejected the entry. */
+  reviewNote: z.string().nullable(),
   clientKey: z.string().nullable(),
   foundAt: z.string(),
   createdAt: z.string(),

@@ -24,7 +24,10 @@ export function createRouter(qc: QueryClient) {
       children: [
         { index: true, lazy: lazyRoute(qc, () => import("./routes/home")) },
         { path: "yard", lazy: lazyRoute(qc, () => import("./routes/yard")) },
+        { path: "yard/slabs/:slabId", lazy: lazyRoute(qc, () => import("./routes/yard-slab")) },
         { path: "quality", lazy: lazyRoute(qc, () => import("./routes/quality-home")) },
+        { path: "quality/review", lazy: lazyRoute(qc, () => import("./routes/quality-review")) },
+        { path: "quality/catalogue", lazy: lazyRoute(qc, () => import("./routes/quality-catalogue")) },
         { path: "process", lazy: lazyRoute(qc, () => import("./routes/process-home")) },
         { path: "claims", lazy: lazyRoute(qc, () => import("./routes/claims-home")) },
         { path: "heats", lazy: lazyRoute(qc, () => import("./routes/heats")) },

@@ -16,6 +16,8 @@ export interface NavItem {
 export const NAV_ITEMS: NavItem[] = [
   { to: "/yard", label: "Slab yard", capability: "defects.log" },
   { to: "/quality", label: "Quality", capability: "defects.review" },
+  { to: "/quality/review", label: "Review", capability: "defects.review" },
+  { to: "/quality/catalogue", label: "Catalogue", capability: "catalogue.manage" },
   { to: "/process", label: "Process", capability: "setup.manage" },
   { to: "/claims", label: "Claims", capability: "claims.manage" },
   { to: "/heats", label: "Heats", capability: "heats.browse", subPathsOpen: true },
@@ -44,6 +46,9 @@ export function homeFor(roles: Role[]): string {
 
 /** Whether a path of the navigation is open to these roles (paths outside it are left to their screen). */
 export function canOpen(roles: Role[], path: string): boolean {
-  const item = NAV_ITEMS.find((i) => path === i.to || (!i.subPathsOpen && path.startsWith(i.to + "/")));
+  // The most specific item wins: /quality/catalogue is the catalogue's, not the Quality home's.
+  const item = [...NAV_ITEMS]
+    .sort((a, b) => b.to.length - a.to.length)
+    .find((i) => path === i.to || (!i.subPathsOpen && path.startsWith(i.to + "/")));
   return !item || can(roles, item.capability);
 }

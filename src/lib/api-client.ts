@@ -78,6 +78,8 @@ export interface UploadProgress {
 interface UploadOptions<T> {
   query?: Query;
   field?: string;
+  /** Text fields sent beside the file (e.g. the photos' client keys). */
+  fields?: Record<string, string>;
   schema?: z.ZodType<T>;
   onProgress?: (p: UploadProgress) => void;
   signal?: AbortSignal;
@@ -108,7 +110,7 @@ export function apiUpload<T = unknown>(path: string, file: File, opts: UploadOpt
       if (xhr.status < 200 || xhr.status >= 300) {
         const e = (data as { error?: { code?: string; message?: string; details?: unknown } } | undefined)?.error;
         const fallback =
-          xhr.status === 413 ? "The file is too large for the server." : xhr.status === 404 ? "The server has no such import yet." : `The server answered ${xhr.status}.`;
+          xhr.status === 413 ? "The file is too large for the server." : `The server answered ${xhr.status}.`;
         reject(new ApiError(xhr.status, e?.code ?? "http_error", e?.message ?? fallback, e?.details));
         return;
       }
@@ -120,6 +122,7 @@ export function apiUpload<T = unknown>(path: string, file: File, opts: UploadOpt
     };
     opts.signal?.addEventListener("abort", () => xhr.abort(), { once: true });
     const body = new FormData();
+    for (const [k, v] of Object.entries(opts.fields ?? {})) body.append(k, v);
     body.append(opts.field ?? "file", file, file.name);
     xhr.send(body);
   });

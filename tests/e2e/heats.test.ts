@@ -105,7 +105,9 @@ describe("heats, heat page and slab page", () => {
     await page.waitForURL(/\/yard$/);
     await page.getByLabel(/Slab id or heat number/).fill(slabId);
     await page.getByLabel(/Slab id or heat number/).press("Enter");
-    const open = page.getByRole("link", { name: `Open slab ${slabId}: conditions and defects` });
+    // The finder opens the slab's logging screen; its record is one tap from there.
+    await page.waitForURL(new RegExp(`/yard/slabs/${slabId}$`));
+    const open = page.getByRole("link", { name: "Slab record: conditions and all defects" });
     await open.waitFor();
     // A gloved finger needs a big target.
     expect((await open.boundingBox())!.height).toBeGreaterThanOrEqual(48);

@@ -15,7 +15,10 @@ const slab = () =>
 const SCREENS: { role: string; name: string; path: () => string }[] = [
   { role: "inspector", name: "yard", path: () => "/yard" },
   { role: "inspector", name: "slab", path: () => `/slabs/${slab()}` },
+  { role: "inspector", name: "yard-slab", path: () => `/yard/slabs/${slab()}` },
   { role: "quality", name: "quality-home", path: () => "/quality" },
+  { role: "quality", name: "review", path: () => "/quality/review" },
+  { role: "quality", name: "catalogue", path: () => "/quality/catalogue" },
   { role: "quality", name: "heats", path: () => "/heats" },
   { role: "quality", name: "heat", path: () => `/heats/${heat()}` },
   { role: "process", name: "process-home", path: () => "/process" },

@@ -7,14 +7,14 @@ const env = useAppAndBrowser({ scale: 0.02 });
 // What each role should see in the menu, written out by hand.
 const homes = [
   { role: "inspector", path: "/yard", heading: "Find a slab", menu: ["Slab yard"] },
-  { role: "quality", path: "/quality", heading: "Quality", menu: ["Slab yard", "Quality", "Heats"] },
+  { role: "quality", path: "/quality", heading: "Quality", menu: ["Slab yard", "Quality", "Review", "Catalogue", "Heats"] },
   { role: "process", path: "/process", heading: "Process", menu: ["Process", "Heats", "Import", "Plant setup"] },
   { role: "claims", path: "/claims", heading: "Claims", menu: ["Claims", "Heats"] },
   {
     role: "admin",
     path: "/admin/users",
     heading: "Users and roles",
-    menu: ["Slab yard", "Quality", "Process", "Claims", "Heats", "Import", "Plant setup", "Users", "API tokens"],
+    menu: ["Slab yard", "Quality", "Review", "Catalogue", "Process", "Claims", "Heats", "Import", "Plant setup", "Users", "API tokens"],
   },
 ] as const;
 
@@ -92,7 +92,7 @@ describe("sessions in one tab", () => {
     const id = env.server.db.$client.prepare("select id from user where email = 'quality@demo.test'").pluck().get() as string;
     expect((await admin.patch(`/api/admin/users/${id}`).set("Origin", env.server.baseUrl).send({ active: false })).status).toBe(200);
     await page.getByRole("link", { name: "Slab yard" }).click();
-    await page.getByLabel(/Slab id or heat number/).fill("L26");
+    // The yard's own first requests (catalogue, today's entries) meet the ended session.
     await page.waitForURL(/\/sign-in\?next=.*expired=1/);
     await page.getByText("Your session ended. Please sign in again.").waitFor();
     await admin.patch(`/api/admin/users/${id}`).set("Origin", env.server.baseUrl).send({ active: true });

@@ -84,3 +84,29 @@ export function useAppAndBrowser(opts: Parameters<typeof startTestServer>[0] = {
   });
   return env;
 }
+
+/** A real JPEG for a photo upload: a grey surface with a dark mark, built by sharp. */
+export async function makeJpeg(width = 800, height = 600): Promise<Buffer> {
+  const { default: sharp } = await import("sharp");
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}">
+    <rect width="${width}" height="${height}" fill="#80868c"/>
+    <ellipse cx="${width / 2}" cy="${height / 2}" rx="${width / 8}" ry="${height / 10}" fill="#2c241b"/></svg>`;
+  return sharp(Buffer.from(svg)).jpeg({ quality: 85 }).toBuffer();
+}
+
+/** The gzip size of every script the page loaded so far, from the browser's own list of requests. */
+export async function scriptBytesGzip(page: Page): Promise<{ total: number; files: { url: string; gzip: number }[] }> {
+  const { gzipSync } = await import("node:zlib");
+  const urls = await page.evaluate(() =>
+    performance
+      .getEntriesByType("resource")
+      .map((e) => e.name)
+      .filter((n) => /\.js(\?|$)/.test(n)),
+  );
+  const files: { url: string; gzip: number }[] = [];
+  for (const url of [...new Set(urls)]) {
+    const body = await page.context().request.get(url);
+    files.push({ url, gzip: gzipSync(await body.body(), { level: 9 }).length });
+  }
+  return { total: files.reduce((n, f) => n + f.gzip, 0), files };
+}

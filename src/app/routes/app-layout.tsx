@@ -1,13 +1,18 @@
 import type { QueryClient } from "@tanstack/react-query";
-import { useQuery } from "@tanstack/react-query";
+import { useEffect, useState } from "react";
+import { useQuery, useQueryClient } from "@tanstack/react-query";
 import { NavLink, Outlet, redirect, useNavigate, useNavigation, type LoaderFunctionArgs } from "react-router";
-import { ROLE_LABELS } from "@shared/roles";
+import { can, ROLE_LABELS } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { Notice } from "@/components/ui/notice";
 import { Logo } from "@/components/ui/logo";
 import { navFor } from "@/config/nav";
 import { authKeys, useSignOut } from "@/features/auth/api/session";
+import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
+import { defectKeys } from "@/features/defects/api/defects.queries";
 import { plantKeys } from "@/features/plant/api/plant.queries";
+import { slabKeys } from "@/features/slabs/api/slabs.queries";
+import { plural } from "@/lib/format";
 
 export function makeLoader(qc: QueryClient) {
   return async ({ request }: LoaderFunctionArgs) => {
@@ -22,14 +27,54 @@ export function makeLoader(qc: QueryClient) {
 
 export { RouteError as ErrorBoundary } from "./route-error";
 
+/**
+ * The tablet's outbox sends whatever screen is open, for whoever is signed in and logs defects.
+ * Loaded on demand: the office roles never load it. Returns how many entries wait.
+ */
+function useOutboxSender(userId: string | undefined, logs: boolean): number {
+  const qc = useQueryClient();
+  const [waiting, setWaiting] = useState(0);
+  useEffect(() => {
+    if (!userId || !logs) return;
+    let cancelled = false;
+    const cleanups: (() => void)[] = [];
+    void import("@/features/defects/offline/outbox-instance").then(({ getOutbox }) => {
+      if (cancelled) return;
+      const outbox = getOutbox();
+      cleanups.push(
+        outbox.subscribe(() => setWaiting(outbox.getSnapshot().entries.length)),
+        outbox.onSent(() => {
+          void qc.invalidateQueries({ queryKey: defectKeys.all });
+          void qc.invalidateQueries({ queryKey: slabKeys.all });
+          void qc.invalidateQueries({ queryKey: catalogueKeys.all });
+        }),
+        () => void outbox.stop(),
+      );
+      void outbox.start(userId);
+    });
+    return () => {
+      cancelled = true;
+      cleanups.forEach((c) => c());
+      setWaiting(0);
+    };
+  }, [userId, logs, qc]);
+  return waiting;
+}
+
 export function Component() {
   const { data: me } = useQuery(authKeys.me());
   const about = useQuery(plantKeys.about());
   const signOut = useSignOut();
   const navigate = useNavigate();
   const navigation = useNavigation();
+  const waiting = useOutboxSender(me?.id, me ? can(me.roles, "defects.log") : false);
+  const [confirmSignOut, setConfirmSignOut] = useState(false);
   if (!me) return null;
   const items = navFor(me.roles);
+  const doSignOut = () => {
+    setConfirmSignOut(false);
+    signOut.mutate(undefined, { onSuccess: () => navigate("/sign-in", { replace: true }) });
+  };
 
   return (
     <div className="flex min-h-dvh flex-col">
@@ -50,6 +95,7 @@ export function Component() {
               <NavLink
                 key={i.to}
                 to={i.to}
+                end={items.some((o) => o.to.startsWith(i.to + "/"))}
                 className={({ isActive }) =>
                   `flex min-h-12 items-center whitespace-nowrap rounded-md px-3 text-sm font-semibold ${
                     isActive ? "bg-strand-700 text-white" : "text-ink-200 hover:bg-ink-800 hover:text-white"
@@ -69,7 +115,7 @@ export function Component() {
               variant="secondary"
               className="min-h-12"
               disabled={signOut.isPending}
-              onClick={() => signOut.mutate(undefined, { onSuccess: () => navigate("/sign-in", { replace: true }) })}
+              onClick={() => (waiting > 0 ? setConfirmSignOut(true) : doSignOut())}
             >
               {signOut.isPending ? "Signing out…" : "Sign out"}
             </Button>
@@ -79,6 +125,22 @@ export function Component() {
       {about.data?.demo ? (
         <div className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
           Invented demo plant: every heat, slab, defect, customer and claim shown here is made up.
+        </div>
+      ) : null}
+      {confirmSignOut ? (
+        <div className="mx-auto w-full max-w-7xl px-4 pt-3" data-testid="sign-out-waiting">
+          <Notice tone="caution" title="Entries still waiting">
+            {plural(waiting, "entry", "entries")} of yours still wait on this tablet. They stay here and are sent when you sign in again on
+            this tablet.
+            <span className="mt-2 flex flex-wrap gap-2">
+              <Button variant="secondary" className="min-h-12" onClick={doSignOut}>
+                Sign out anyway
+              </Button>
+              <Button className="min-h-12" onClick={() => setConfirmSignOut(false)}>
+                Stay signed in
+              </Button>
+            </span>
+          </Notice>
         </div>
       ) : null}
       {signOut.isError ? (

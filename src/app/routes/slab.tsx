@@ -5,18 +5,24 @@ import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { authKeys } from "@/features/auth/api/session";
+import { defectKeys } from "@/features/defects/api/defects.queries";
+import { PhotoStrip } from "@/features/defects/components/photo-viewer";
 import { slabKeys } from "@/features/slabs/api/slabs.queries";
-import { SlabMap } from "@/features/slabs/components/slab-map";
+import { CrossSection, SlabDrawing, type DrawnMark } from "@/features/slabs/components/slab-drawing";
 import { SlabConditionsTable, SlabDefects, SlabDerived, SlabFacts } from "@/features/slabs/components/slab-sections";
 import { plural } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
+
+/** The slab's defects with their photos (the slab record counts them only). */
+const slabPhotos = (slabId: string) => defectKeys.list({ slab: slabId, pageSize: 200 });
 
 // Kept light on purpose: the inspector opens this on a tablet in the yard; no chart library here.
 export function makeLoader(qc: QueryClient) {
   return async ({ params }: LoaderFunctionArgs) => {
     await requireCapability(qc, "plant.read");
     await qc.ensureQueryData(slabKeys.detail(params.slabId ?? ""));
+    void qc.prefetchQuery(slabPhotos(params.slabId ?? ""));
     return null;
   };
 }
@@ -25,6 +31,7 @@ export function Component() {
   const { slabId = "" } = useParams();
   const slab = useQuery(slabKeys.detail(slabId));
   const me = useQuery(authKeys.me());
+  const withPhotos = useQuery(slabPhotos(slabId));
   if (slab.isPending) return <Spinner label="Loading the slab" />;
   if (slab.isError) return <Notice tone="error">{slab.error.message}</Notice>;
   const s = slab.data;
@@ -32,6 +39,17 @@ export function Component() {
   // Rejected entries stay visible, marked, but do not count as defects of the slab.
   const rejected = s.defects.filter((d) => d.reviewStatus === "rejected").length;
   const counted = s.defects.length - rejected;
+  // Numbered as in the list below.
+  const marks: DrawnMark[] = s.defects.map((d, i) => ({
+    key: `d${d.id}`,
+    face: d.face,
+    alongMm: d.positionAlongMm,
+    acrossMm: d.positionAcrossMm,
+    lengthMm: d.lengthMm,
+    widthMm: d.widthMm,
+    severity: d.severity,
+    label: i + 1,
+  }));
   return (
     <div className="space-y-5">
       <PageHeader
@@ -41,9 +59,17 @@ export function Component() {
         }`}
         actions={
           inYard ? (
-            <Link to="/yard" className="flex min-h-12 items-center rounded-md border border-ink-300 bg-white px-4 text-base font-semibold text-ink-900 hover:bg-ink-50">
-              ← Find another slab
-            </Link>
+            <div className="flex flex-wrap gap-2">
+              <Link
+                to={`/yard/slabs/${encodeURIComponent(s.slabId)}`}
+                className="flex min-h-12 items-center rounded-md bg-strand-700 px-4 text-base font-semibold text-white hover:bg-strand-800"
+              >
+                Log a defect on this slab
+              </Link>
+              <Link to="/yard" className="flex min-h-12 items-center rounded-md border border-ink-300 bg-white px-4 text-base font-semibold text-ink-900 hover:bg-ink-50">
+                ← Find another slab
+              </Link>
+            </div>
           ) : null
         }
       />
@@ -52,8 +78,20 @@ export function Component() {
       </Card>
       <Card title={`Defects (${s.defects.length})`}>
         <div className="space-y-4">
-          <SlabMap slab={s} />
-          <SlabDefects defects={s.defects} />
+          {marks.some((m) => m.face !== "section" && m.alongMm !== null) ? <SlabDrawing slab={s} marks={marks} /> : null}
+          {marks.some((m) => m.face === "section") ? (
+            <figure className="space-y-1">
+              <figcaption className="text-sm font-semibold text-ink-700">Cross-section, seen from the head end (internal findings)</figcaption>
+              <CrossSection slab={s} marks={marks} />
+            </figure>
+          ) : null}
+          <SlabDefects
+            defects={s.defects}
+            photos={(id) => {
+              const photos = withPhotos.data?.items.find((d) => d.id === id)?.photos;
+              return photos ? <PhotoStrip photos={photos} label="Photos of the defect" size="h-20 w-20" /> : null;
+            }}
+          />
         </div>
       </Card>
       <Card title="Casting conditions of this slab">

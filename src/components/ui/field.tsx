@@ -25,7 +25,7 @@ export const TextField = forwardRef<HTMLInputElement, FieldProps>(function TextF
         id={inputId}
         aria-invalid={error ? true : undefined}
         aria-describedby={error ? errorId : undefined}
-        className={`rounded-md border bg-white px-3 text-ink-900 placeholder:text-ink-400 ${
+        className={`w-full min-w-0 rounded-md border bg-white px-3 text-ink-900 placeholder:text-ink-400 ${
           large ? "min-h-14 text-lg" : "min-h-11"
         } ${error ? "border-alarm-700" : "border-ink-300"}`}
         {...rest}

@@ -150,8 +150,8 @@ export function SlabDerived({ conditions }: { conditions: ResolvedConditions | n
   );
 }
 
-/** The slab's defects; on a tablet each is a card, on a wide screen one table row. */
-export function SlabDefects({ defects }: { defects: SlabDetail["defects"] }) {
+/** The slab's defects; on a tablet each is a card, on a wide screen one table row. `photos` draws a defect's photos. */
+export function SlabDefects({ defects, photos }: { defects: SlabDetail["defects"]; photos?: (defectId: number) => ReactNode }) {
   if (defects.length === 0) return <p className="text-sm text-ink-600" data-testid="slab-defects-empty">No defects on record for this slab.</p>;
   return (
     <ul className="divide-y divide-ink-100" data-testid="slab-defects">
@@ -177,7 +177,8 @@ export function SlabDefects({ defects }: { defects: SlabDetail["defects"] }) {
               {d.positionAcrossMm !== null ? `, ${withUnit(d.positionAcrossMm, "mm", 0)} across` : ""}
             </div>
             <div className="text-ink-700">
-              size {num(d.lengthMm)} × {num(d.widthMm)} mm{d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
+              {d.lengthMm === null && d.widthMm === null ? "size not measured" : `size ${num(d.lengthMm)} × ${num(d.widthMm)} mm`}
+              {d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
             </div>
           </div>
           <div className="text-sm">
@@ -193,6 +194,7 @@ export function SlabDefects({ defects }: { defects: SlabDetail["defects"] }) {
             {d.photoCount > 0 ? <div className="text-ink-700">{plural(d.photoCount, "photo")}</div> : null}
           </div>
           {d.note ? <p className="text-sm text-ink-700 md:col-span-4">“{d.note}”</p> : null}
+          {d.photoCount > 0 && photos ? <div className="md:col-span-4">{photos(d.id)}</div> : null}
         </li>
       ))}
     </ul>

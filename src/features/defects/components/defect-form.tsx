@@ -1,0 +1,340 @@
+import { useRef, useState, type ReactNode } from "react";
+import type { Defect, DefectType } from "@shared/api/defects";
+import { DISPOSITION_LABELS, DISPOSITIONS, SEVERITIES, SEVERITY_LABELS, STAGE_LABELS, STAGES } from "@shared/domain";
+import { Button } from "@/components/ui/button";
+import { SeverityMark } from "@/components/ui/marks";
+import { Notice } from "@/components/ui/notice";
+import { ApiError } from "@/lib/api-client";
+import { newClientKey } from "@/lib/client-key";
+import { useDeletePhoto, useUpdateDefect } from "../api/defects.queries";
+import { getOutbox } from "../offline/outbox-instance";
+import type { OutboxEntryView, OutboxSummary } from "../offline/outbox";
+import { ChoiceTiles } from "./choice-tiles";
+import { buildDefect, changesOf, draftFromBody, draftFromDefect, emptyDraft, type DraftErrors, type DraftField, type EntryDraft } from "./defect-entry";
+import { PhotoPicker, type LocalPhoto } from "./photo-picker";
+import { PositionPanel, type PositionValue, type SlabLimits } from "./position-panel";
+import { TypePicker } from "./type-picker";
+
+export type FormMode = { kind: "new" } | { kind: "fix"; entry: OutboxEntryView } | { kind: "edit"; defect: Defect };
+
+export interface DrawingSlot {
+  position: PositionValue | null;
+  onPlace: (p: PositionValue) => void;
+  extent: { lengthMm: number | null; widthMm: number | null };
+}
+
+const ORDER: DraftField[] = ["position", "typeCode", "severity", "lengthMm", "widthMm", "depthMm", "stage", "disposition", "note"];
+const SECTION_OF: Partial<Record<DraftField, string>> = {
+  position: "entry-where",
+  typeCode: "entry-type",
+  severity: "entry-severity",
+  lengthMm: "entry-size",
+  widthMm: "entry-size",
+  depthMm: "entry-size",
+  disposition: "entry-disposition",
+};
+const MISSING_WORDS: Partial<Record<DraftField, string>> = {
+  position: "where",
+  typeCode: "type",
+  severity: "severity",
+  disposition: "disposition",
+};
+
+function Section({ id, step, title, children, aside }: { id: string; step: number; title: string; children: ReactNode; aside?: ReactNode }) {
+  return (
+    <section id={id} className="scroll-mt-4 rounded-lg border border-ink-200 bg-white shadow-sm" aria-labelledby={`${id}-title`}>
+      <header className="flex flex-wrap items-center justify-between gap-2 border-b border-ink-100 px-4 py-3">
+        <h2 id={`${id}-title`} className="flex items-center gap-3 text-lg font-bold text-ink-900">
+          <span aria-hidden className="flex h-8 w-8 items-center justify-center rounded-full bg-ink-900 text-base text-white">
+            {step}
+          </span>
+          {title}
+        </h2>
+        {aside}
+      </header>
+      <div className="space-y-4 p-4">{children}</div>
+    </section>
+  );
+}
+
+function SizeField({ label, value, onChange, error, hint }: { label: string; value: string; onChange: (v: string) => void; error?: string; hint?: string }) {
+  const id = `size-${label.toLowerCase().replace(/\W+/g, "-")}`;
+  return (
+    <div className="flex flex-col gap-1">
+      <label htmlFor={id} className="text-sm font-semibold text-ink-800">
+        {label}
+      </label>
+      <div className="relative">
+        <input
+          id={id}
+          inputMode="decimal"
+          value={value}
+          onChange={(e) => onChange(e.target.value)}
+          aria-invalid={error ? true : undefined}
+          className={`min-h-14 w-full rounded-lg border-2 bg-white pl-3 pr-12 text-right text-xl font-semibold tabular-nums ${error ? "border-alarm-700" : "border-ink-300"}`}
+        />
+        <span className="pointer-events-none absolute inset-y-0 right-3 flex items-center text-sm text-ink-600">mm</span>
+      </div>
+      {error ? (
+        <p role="alert" className="text-sm font-medium text-alarm-700">
+          {error}
+        </p>
+      ) : hint ? (
+        <p className="text-xs text-ink-600">{hint}</p>
+      ) : null}
+    </div>
+  );
+}
+
+function initialDraft(mode: FormMode): EntryDraft {
+  if (mode.kind === "fix" && mode.entry.body) return draftFromBody(mode.entry.body);
+  if (mode.kind === "edit") return draftFromDefect(mode.defect);
+  return emptyDraft();
+}
+
+/**
+ * One defect: where (the drawing), what (type, severity, size), what happens (stage, disposition),
+ * a note and photos. A new entry is stored on the tablet first and sent from there; an entry the
+ * server refused is fixed here and sent again; an entry on the server is changed in place.
+ */
+export function DefectForm({
+  slab,
+  types,
+  userId,
+  mode,
+  renderDrawing,
+  onSaved,
+  onCancel,
+}: {
+  slab: SlabLimits & { slabId: string };
+  types: DefectType[];
+  userId: string;
+  mode: FormMode;
+  renderDrawing: (slot: DrawingSlot) => ReactNode;
+  onSaved: (what: { kind: FormMode["kind"]; summary: OutboxSummary; photoCount: number }) => void;
+  onCancel?: () => void;
+}) {
+  const [draft, setDraft] = useState<EntryDraft>(() => initialDraft(mode));
+  const [photos, setPhotos] = useState<LocalPhoto[]>([]);
+  const [errors, setErrors] = useState<DraftErrors>({});
+  const [failure, setFailure] = useState<string | null>(null);
+  const [saving, setSaving] = useState(false);
+  const [confirmPhoto, setConfirmPhoto] = useState<string | null>(null);
+  const top = useRef<HTMLDivElement>(null);
+  const update = useUpdateDefect();
+  const deletePhoto = useDeletePhoto();
+
+  const set = <K extends keyof EntryDraft>(k: K, v: EntryDraft[K]) => {
+    setDraft((d) => ({ ...d, [k]: v }));
+    setErrors((e) => {
+      if (!(k in e) && !(k === "position" && e.position)) return e;
+      const { [k as DraftField]: _gone, ...rest } = e;
+      return rest;
+    });
+  };
+
+  const size = (s: string) => {
+    const n = Number(s.trim().replace(",", "."));
+    return s.trim() && Number.isFinite(n) ? n : null;
+  };
+  const extent = { lengthMm: size(draft.lengthMm), widthMm: size(draft.widthMm) };
+  const existingPhotos = mode.kind === "edit" ? mode.defect.photos : [];
+  const missing = (["position", "typeCode", "severity", "disposition"] as DraftField[]).filter((f) =>
+    f === "position" ? !draft.position : !draft[f as keyof EntryDraft],
+  );
+
+  const save = async () => {
+    setFailure(null);
+    const clientKey = mode.kind === "fix" ? mode.entry.clientKey : mode.kind === "new" ? newClientKey() : (mode.defect.clientKey ?? newClientKey());
+    const foundAt = mode.kind === "fix" && mode.entry.body?.found_at ? mode.entry.body.found_at : new Date().toISOString();
+    const built = buildDefect(draft, slab, clientKey, foundAt);
+    if (!built.ok) {
+      setErrors(built.errors);
+      const first = ORDER.find((f) => built.errors[f]);
+      const target = first ? SECTION_OF[first] : undefined;
+      if (target) document.getElementById(target)?.scrollIntoView({ behavior: "smooth", block: "start" });
+      return;
+    }
+    const body = built.body;
+    const type = types.find((t) => t.code === body.type_code);
+    const summary: OutboxSummary = {
+      typeCode: body.type_code,
+      typeName: type?.name ?? (mode.kind === "edit" ? mode.defect.typeName : body.type_code),
+      severity: body.severity,
+      face: body.face,
+      alongMm: body.position_along_mm,
+      acrossMm: body.position_across_mm,
+    };
+    const outboxPhotos = photos.map((p) => ({ key: p.key, name: p.file.name || "photo.jpg", type: p.file.type || "image/jpeg", blob: p.file as Blob }));
+    setSaving(true);
+    try {
+      const outbox = getOutbox();
+      if (mode.kind === "new") {
+        await outbox.add({ clientKey, userId, slabId: slab.slabId, body, summary, photos: outboxPhotos });
+      } else if (mode.kind === "fix") {
+        await outbox.update(clientKey, body, summary);
+      } else {
+        const changes = changesOf(mode.defect, body);
+        if (changes) await update.mutateAsync({ id: mode.defect.id, changes });
+        // Photos added to an entry already on the server still go through the tablet's outbox.
+        if (outboxPhotos.length)
+          await outbox.add({ clientKey: newClientKey(), userId, slabId: slab.slabId, body: null, defectId: mode.defect.id, summary, photos: outboxPhotos });
+      }
+      onSaved({ kind: mode.kind, summary, photoCount: photos.length });
+      if (mode.kind === "new") {
+        // Ready for the next defect on the same slab; the stage rarely changes between them.
+        setDraft(emptyDraft(draft.stage));
+        setPhotos([]);
+        setErrors({});
+        top.current?.scrollIntoView({ behavior: "smooth", block: "start" });
+      }
+    } catch (err) {
+      setFailure(err instanceof Error ? err.message : String(err));
+    } finally {
+      setSaving(false);
+    }
+  };
+
+  const removeServerPhoto = async (photoId: string) => {
+    try {
+      await deletePhoto.mutateAsync(photoId);
+      setConfirmPhoto(null);
+    } catch (err) {
+      setFailure(err instanceof ApiError ? err.message : String(err));
+    }
+  };
+
+  const saveLabel =
+    mode.kind === "new" ? (saving ? "Saving…" : "Save defect") : mode.kind === "fix" ? (saving ? "Saving…" : "Save and send again") : saving ? "Saving…" : "Save changes";
+
+  return (
+    <div className="space-y-4" ref={top}>
+      {mode.kind === "fix" && mode.entry.blocked ? (
+        <Notice tone="error" title="The server refused this entry">
+          {mode.entry.blocked.message} Change what it names and save: the entry is sent again.
+        </Notice>
+      ) : null}
+      <Section id="entry-where" step={1} title="Where is it?">
+        {renderDrawing({ position: draft.position, onPlace: (p) => set("position", p), extent })}
+        <PositionPanel slab={slab} value={draft.position} onChange={(p) => set("position", p)} error={errors.position} />
+      </Section>
+
+      <Section id="entry-type" step={2} title="What is it?">
+        <TypePicker types={types} value={draft.typeCode} onChange={(c) => set("typeCode", c)} error={errors.typeCode} />
+        <ChoiceTiles
+          id="entry-severity"
+          label="Severity"
+          columns="grid-cols-2 md:grid-cols-4"
+          value={draft.severity}
+          onChange={(s) => set("severity", s)}
+          error={errors.severity}
+          choices={SEVERITIES.map((s) => ({ value: s, name: `${SEVERITY_LABELS[s]} (${s})`, label: <SeverityMark severity={s} large /> }))}
+        />
+        <div id="entry-size" className="grid scroll-mt-24 grid-cols-3 gap-3">
+          <SizeField label="Length" value={draft.lengthMm} onChange={(v) => set("lengthMm", v)} error={errors.lengthMm} hint="along the slab" />
+          <SizeField label="Width" value={draft.widthMm} onChange={(v) => set("widthMm", v)} error={errors.widthMm} hint="across" />
+          <SizeField label="Depth" value={draft.depthMm} onChange={(v) => set("depthMm", v)} error={errors.depthMm} hint="if measured" />
+        </div>
+        <p className="-mt-2 text-xs text-ink-600">The position marks the defect's end nearest the head end; the length runs from there toward the tail.</p>
+      </Section>
+
+      <Section id="entry-disposition" step={3} title="What happens to the slab?">
+        <ChoiceTiles
+          label="Found at"
+          columns="grid-cols-2 md:grid-cols-5"
+          value={draft.stage}
+          onChange={(s) => set("stage", s)}
+          choices={STAGES.map((s) => ({ value: s, label: STAGE_LABELS[s] }))}
+        />
+        <ChoiceTiles
+          label="Disposition"
+          columns="grid-cols-2 md:grid-cols-3"
+          value={draft.disposition}
+          onChange={(d) => set("disposition", d)}
+          error={errors.disposition}
+          choices={DISPOSITIONS.map((d) => ({ value: d, label: DISPOSITION_LABELS[d] }))}
+        />
+        <p className="text-xs text-ink-600">Dispositions follow the plant's quality procedures and the customer's specification.</p>
+        <div className="flex flex-col gap-1">
+          <label htmlFor="entry-note" className="text-base font-semibold text-ink-900">
+            Note <span className="font-normal text-ink-600">(optional)</span>
+          </label>
+          <textarea
+            id="entry-note"
+            rows={2}
+            value={draft.note}
+            maxLength={2000}
+            onChange={(e) => set("note", e.target.value)}
+            className="rounded-lg border-2 border-ink-300 bg-white px-3 py-2 text-base"
+          />
+          {errors.note ? (
+            <p role="alert" className="text-sm font-medium text-alarm-700">
+              {errors.note}
+            </p>
+          ) : null}
+        </div>
+      </Section>
+
+      <Section id="entry-photos" step={4} title="Photos">
+        {existingPhotos.length ? (
+          <ul className="flex flex-wrap gap-3" aria-label="Photos on the server">
+            {existingPhotos.map((p, i) => (
+              <li key={p.id} className="flex flex-col items-center gap-1">
+                <img src={p.thumbUrl} alt={`Stored photo ${i + 1}`} className="h-24 w-24 rounded-md border border-ink-300 object-cover" />
+                {confirmPhoto === p.id ? (
+                  <div className="flex gap-1">
+                    <Button variant="danger" className="min-h-12" onClick={() => void removeServerPhoto(p.id)} disabled={deletePhoto.isPending}>
+                      Delete
+                    </Button>
+                    <Button variant="ghost" className="min-h-12" onClick={() => setConfirmPhoto(null)}>
+                      Keep
+                    </Button>
+                  </div>
+                ) : (
+                  <button type="button" className="min-h-12 px-3 text-sm font-semibold text-alarm-700 underline" onClick={() => setConfirmPhoto(p.id)}>
+                    Delete…
+                  </button>
+                )}
+              </li>
+            ))}
+          </ul>
+        ) : null}
+        {mode.kind === "fix" ? (
+          <p className="text-sm text-ink-700">This entry's {mode.entry.photos.length} photo(s) stay with it and are sent after it.</p>
+        ) : (
+          <PhotoPicker photos={photos} onChange={setPhotos} already={existingPhotos.length} />
+        )}
+      </Section>
+
+      {failure ? <Notice tone="error">{failure}</Notice> : null}
+
+      {/* Always in reach: what is still needed, and the one button that keeps the entry. */}
+      {/* Sticky, not fixed: it docks at the end of the form, so nothing below it is ever covered. */}
+      <div className="sticky bottom-0 z-20 -mx-4 border-t-2 border-ink-900 bg-white px-4 py-3 shadow-[0_-4px_16px_rgba(0,0,0,0.12)] md:mx-0 md:rounded-t-lg">
+        <div className="flex flex-wrap items-center justify-between gap-3">
+          <p className="text-sm text-ink-700" aria-live="polite" data-testid="save-needs">
+            {missing.length ? (
+              <>
+                <span className="font-semibold text-ink-900">Still needed:</span> {missing.map((f) => MISSING_WORDS[f]).join(", ")}
+              </>
+            ) : mode.kind === "new" ? (
+              <>Ready. The entry is kept on this tablet first and sent from there.</>
+            ) : (
+              <>Ready.</>
+            )}
+          </p>
+          <div className="flex gap-2">
+            {onCancel ? (
+              <Button variant="secondary" size="lg" onClick={onCancel}>
+                Cancel
+              </Button>
+            ) : null}
+            <Button size="lg" onClick={() => void save()} disabled={saving} className="min-w-48">
+              {saveLabel}
+            </Button>
+          </div>
+        </div>
+      </div>
+    </div>
+  );
+}

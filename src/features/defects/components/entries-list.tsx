@@ -1,0 +1,302 @@
+import { useState } from "react";
+import { Link } from "react-router";
+import type { Defect } from "@shared/api/defects";
+import { Button } from "@/components/ui/button";
+import { SeverityMark, StatusMark, type EntryStatus } from "@/components/ui/marks";
+import { ProgressBar } from "@/components/ui/progress";
+import { ApiError } from "@/lib/api-client";
+import { dateTime, num, plural, time } from "@/lib/format";
+import { faceLabel, reviewLabel } from "@/lib/labels";
+import { useDeleteDefect } from "../api/defects.queries";
+import { getOutbox } from "../offline/outbox-instance";
+import type { OutboxEntryView, OutboxPhotoView, OutboxSnapshot } from "../offline/outbox";
+import { BlobThumb } from "./photo-picker";
+
+/** One line of the list: an entry on the server, one still on the tablet, or both (photos still going). */
+interface Row {
+  key: string;
+  at: string;
+  slabId: string;
+  server: Defect | null;
+  /** The outbox entries that belong to it: the entry itself, or photos added later. */
+  local: OutboxEntryView[];
+}
+
+export function mergeEntries(server: Defect[], outbox: OutboxEntryView[]): Row[] {
+  const rows: Row[] = server.map((d) => ({ key: `d${d.id}`, at: d.foundAt, slabId: d.slabId, server: d, local: [] }));
+  const byId = new Map(rows.map((r) => [r.server!.id, r]));
+  const byKey = new Map(rows.filter((r) => r.server!.clientKey).map((r) => [r.server!.clientKey!, r]));
+  for (const e of outbox) {
+    const row = (e.defectId !== null ? byId.get(e.defectId) : undefined) ?? byKey.get(e.clientKey);
+    if (row) row.local.push(e);
+    else rows.push({ key: e.clientKey, at: e.body?.found_at ?? new Date(e.createdAt).toISOString(), slabId: e.slabId, server: null, local: [e] });
+  }
+  return rows.sort((a, b) => (a.at < b.at ? 1 : a.at > b.at ? -1 : 0));
+}
+
+function statusOf(row: Row): EntryStatus {
+  const main = row.local.find((e) => e.body) ?? row.local[0];
+  if (main && !row.server && main.defectId === null) {
+    return main.state === "sending" ? "sending" : main.state;
+  }
+  if (row.local.some((e) => e.state === "blocked")) return "blocked";
+  if (row.local.length) return row.local.some((e) => e.state === "sending") ? "sending" : "photos-waiting";
+  const d = row.server!;
+  if (d.reviewStatus === "rejected") return "rejected";
+  if (d.reviewStatus !== "new") return "reviewed";
+  return "sent";
+}
+
+function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo: OutboxPhotoView; index: number }) {
+  const [error, setError] = useState<string | null>(null);
+  const uploading = photo.progress !== undefined;
+  return (
+    <li className="flex items-center gap-3" data-testid="waiting-photo" data-photo-state={photo.photoId ? "sent" : photo.problem ? "refused" : uploading ? "uploading" : "waiting"}>
+      <BlobThumb blob={photo.blob} alt={`Photo ${index + 1} on the tablet`} className="h-14 w-14" />
+      <div className="min-w-0 flex-1 space-y-1">
+        {photo.photoId ? (
+          <StatusMark status="sent" label="Photo stored" />
+        ) : photo.problem ? (
+          <>
+            <p className="text-sm font-semibold text-alarm-700">{photo.problem.message}</p>
+            <Button
+              variant="secondary"
+              className="min-h-12"
+              onClick={() => getOutbox().removePhoto(entry.clientKey, photo.key).catch((e: Error) => setError(e.message))}
+            >
+              Remove this photo
+            </Button>
+          </>
+        ) : uploading ? (
+          <ProgressBar label={`Photo ${index + 1}`} value={photo.progress ?? null} detail={photo.progress === 1 ? "stored on the server…" : undefined} />
+        ) : (
+          <StatusMark status="waiting" label={`Photo ${index + 1} waiting`} />
+        )}
+        {error ? <p className="text-sm text-alarm-700">{error}</p> : null}
+      </div>
+    </li>
+  );
+}
+
+function ConfirmButton({ label, confirmLabel, onConfirm, busy }: { label: string; confirmLabel: string; onConfirm: () => void; busy?: boolean }) {
+  const [asking, setAsking] = useState(false);
+  if (!asking)
+    return (
+      <Button variant="secondary" size="lg" onClick={() => setAsking(true)}>
+        {label}
+      </Button>
+    );
+  return (
+    <span className="flex flex-wrap gap-2">
+      <Button variant="danger" size="lg" onClick={onConfirm} disabled={busy}>
+        {confirmLabel}
+      </Button>
+      <Button variant="ghost" size="lg" onClick={() => setAsking(false)}>
+        Keep it
+      </Button>
+    </span>
+  );
+}
+
+function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
+  const [error, setError] = useState<string | null>(null);
+  const del = useDeleteDefect();
+  const status = statusOf(row);
+  const d = row.server;
+  const main = row.local.find((e) => e.body) ?? row.local[0];
+  const summary = d
+    ? { typeCode: d.typeCode, typeName: d.typeName, severity: d.severity, face: d.face, alongMm: d.positionAlongMm, acrossMm: d.positionAcrossMm }
+    : main!.summary;
+  const localPhotos = row.local.flatMap((e) => e.photos.map((p) => ({ entry: e, photo: p })));
+  const serverPhotos = d?.photos ?? [];
+  const blocked = row.local.find((e) => e.state === "blocked" && e.blocked);
+  const onTabletOnly = !d && main && main.defectId === null;
+  const editLink = d ? `/yard/slabs/${encodeURIComponent(row.slabId)}?edit=${d.id}` : `/yard/slabs/${encodeURIComponent(row.slabId)}?entry=${encodeURIComponent(main!.clientKey)}`;
+
+  const run = (p: Promise<unknown>) => p.catch((e: Error) => setError(e instanceof ApiError ? e.message : e.message));
+
+  return (
+    <li
+      className="space-y-3 py-4"
+      data-testid="entry"
+      data-status={status}
+      data-client-key={d?.clientKey ?? main?.clientKey ?? ""}
+      data-defect-id={d?.id ?? main?.defectId ?? ""}
+    >
+      <div className="flex gap-4">
+        <div className="relative shrink-0">
+          {serverPhotos[0] ? (
+            <img src={serverPhotos[0].thumbUrl} alt={`Photo of the defect on ${row.slabId}`} className="h-20 w-20 rounded-md border border-ink-300 object-cover" data-testid="entry-thumb" />
+          ) : localPhotos[0] ? (
+            <BlobThumb blob={localPhotos[0].photo.blob} alt={`Photo of the defect on ${row.slabId}, on the tablet`} className="h-20 w-20" />
+          ) : (
+            <div className="flex h-20 w-20 items-center justify-center rounded-md border border-dashed border-ink-300 text-xs text-ink-500">no photo</div>
+          )}
+          {serverPhotos.length + localPhotos.filter((p) => !p.photo.photoId).length > 1 ? (
+            <span className="absolute -right-2 -top-2 rounded-full bg-ink-900 px-2 py-0.5 text-xs font-bold text-white">
+              {serverPhotos.length + localPhotos.filter((p) => !p.photo.photoId).length}
+            </span>
+          ) : null}
+        </div>
+        <div className="min-w-0 flex-1 space-y-1">
+          <div className="flex flex-wrap items-baseline justify-between gap-x-4 gap-y-1">
+            <div className="text-base font-bold text-ink-900">
+              {showSlab ? <span className="mr-2 tabular-nums">{row.slabId}</span> : null}
+              <span className="mr-2 rounded bg-ink-900 px-1.5 py-0.5 text-xs font-bold tracking-wider text-white">{summary.typeCode}</span>
+              {summary.typeName}
+            </div>
+            <StatusMark status={status} />
+          </div>
+          <div className="flex flex-wrap items-center gap-x-4 gap-y-1 text-sm text-ink-700">
+            <SeverityMark severity={summary.severity} />
+            <span>
+              {faceLabel(summary.face)} · {num(summary.alongMm)} mm from the head end
+            </span>
+            <span>{time(row.at)}</span>
+            {d && d.photos.length ? <span>{plural(d.photos.length, "photo")} stored</span> : null}
+          </div>
+          {d && d.reviewStatus !== "new" ? (
+            <p className="text-sm text-ink-700" data-testid="entry-readonly">
+              {reviewLabel(d.reviewStatus)}
+              {d.reviewedByName ? ` by ${d.reviewedByName}` : ""}
+              {d.reviewedAt ? `, ${dateTime(d.reviewedAt)}` : ""}. After the review only a quality engineer can change it.
+            </p>
+          ) : null}
+          {d && d.reviewStatus === "new" && !d.canEdit ? <p className="text-sm text-ink-700">You cannot change this entry.</p> : null}
+          {onTabletOnly && main!.state === "retrying" && main!.lastError ? (
+            <p className="text-sm text-ink-700">
+              Not sent yet: {main!.lastError.message} Tried {plural(main!.attempts, "time")}; it tries again by itself.
+            </p>
+          ) : null}
+          {row.local.some((e) => e.state === "signed-out") ? <p className="text-sm text-ink-700">Your session ended: sign in again and it is sent.</p> : null}
+        </div>
+      </div>
+
+      {blocked?.blocked && !blocked.blocked.photoKey ? (
+        <p className="rounded-md border-l-4 border-alarm-700 bg-alarm-100 px-3 py-2 text-sm" role="alert">
+          <b>The server refused it:</b> {blocked.blocked.message}
+        </p>
+      ) : null}
+
+      {localPhotos.length ? (
+        <ul className="space-y-2 pl-0 md:pl-24" aria-label="Photos still on the tablet">
+          {localPhotos.map(({ entry, photo }, i) => (
+            <PhotoProgress key={photo.key} entry={entry} photo={photo} index={i} />
+          ))}
+        </ul>
+      ) : null}
+
+      <div className="flex flex-wrap gap-2 md:pl-24">
+        {onTabletOnly && main!.state !== "sending" ? (
+          <>
+            <Link
+              to={editLink}
+              className={`flex min-h-14 items-center rounded-md px-5 text-base font-semibold ${
+                main!.state === "blocked" ? "bg-strand-700 text-white hover:bg-strand-800" : "border border-ink-300 bg-white text-ink-900 hover:bg-ink-50"
+              }`}
+            >
+              {main!.state === "blocked" ? "Fix it" : "Change"}
+            </Link>
+            {main!.state === "blocked" || main!.state === "retrying" ? (
+              <Button variant="secondary" size="lg" onClick={() => void run(getOutbox().retry(main!.clientKey))}>
+                {main!.state === "blocked" ? "Try again as it is" : "Send now"}
+              </Button>
+            ) : null}
+            <ConfirmButton label="Discard…" confirmLabel="Discard this entry" onConfirm={() => void run(getOutbox().discard(main!.clientKey))} />
+          </>
+        ) : null}
+        {!onTabletOnly && row.local.some((e) => e.state === "retrying" || e.state === "blocked") ? (
+          <Button variant="secondary" size="lg" onClick={() => void run(Promise.all(row.local.map((e) => getOutbox().retry(e.clientKey))))}>
+            Send photos now
+          </Button>
+        ) : null}
+        {d && d.canEdit ? (
+          <>
+            <Link
+              to={editLink}
+              className="flex min-h-14 items-center rounded-md border border-ink-300 bg-white px-5 text-base font-semibold text-ink-900 hover:bg-ink-50"
+            >
+              Change
+            </Link>
+            <ConfirmButton
+              label="Delete…"
+              confirmLabel="Delete this entry"
+              busy={del.isPending}
+              onConfirm={() =>
+                void run(
+                  (async () => {
+                    await del.mutateAsync(d.id);
+                    // Photos still waiting for it have nowhere to go.
+                    for (const e of row.local) await getOutbox().discard(e.clientKey).catch(() => undefined);
+                  })(),
+                )
+              }
+            />
+          </>
+        ) : null}
+      </div>
+      {error ? <p className="text-sm font-medium text-alarm-700">{error}</p> : null}
+    </li>
+  );
+}
+
+/** The inspector's entries: today's from the server and whatever still waits on the tablet, newest first. */
+export function EntriesList({
+  server,
+  outbox,
+  showSlab = true,
+  empty = "No entries today yet.",
+}: {
+  server: Defect[];
+  outbox: OutboxSnapshot;
+  showSlab?: boolean;
+  empty?: string;
+}) {
+  const rows = mergeEntries(server, outbox.entries);
+  if (rows.length === 0) return <p className="text-base text-ink-600" data-testid="entries-empty">{empty}</p>;
+  return (
+    <ul className="divide-y divide-ink-100" data-testid="entries">
+      {rows.map((r) => (
+        <EntryRow key={r.key} row={r} showSlab={showSlab} />
+      ))}
+    </ul>
+  );
+}
+
+/** How many entries wait on this tablet, and why; a shape and words. */
+export function OutboxStatus({ outbox }: { outbox: OutboxSnapshot }) {
+  const waiting = outbox.entries.length;
+  const blocked = outbox.entries.filter((e) => e.state === "blocked").length;
+  const photos = outbox.entries.reduce((n, e) => n + e.photos.filter((p) => !p.photoId).length, 0);
+  const sending = outbox.entries.some((e) => e.state === "sending");
+  let status: EntryStatus = "sent";
+  let text = "Everything is sent.";
+  if (waiting) {
+    status = blocked ? "blocked" : sending ? "sending" : "waiting";
+    text = `${plural(waiting, "entry", "entries")} waiting on this tablet${photos ? ` (${plural(photos, "photo")})` : ""}`;
+    if (blocked) text += ` — ${blocked} refused by the server, see below`;
+    else if (!outbox.online) text += " — no network; they are sent when it returns";
+    else if (outbox.signedOut) text += " — sign in again to send them";
+    else if (sending) text += " — sending now";
+  } else if (!outbox.online) {
+    text = "No network. Entries are kept on this tablet and sent when it returns.";
+    status = "waiting";
+  }
+  return (
+    <div
+      className={`flex flex-wrap items-center justify-between gap-2 rounded-lg border-2 px-4 py-3 ${blocked ? "border-alarm-700 bg-alarm-100" : waiting ? "border-brass-400 bg-[#fbf3df]" : "border-ink-200 bg-white"}`}
+      data-testid="outbox-status"
+      data-waiting={waiting}
+      role="status"
+    >
+      <StatusMark status={status} label={text} />
+      {!outbox.online ? <span className="text-sm font-semibold text-ink-800">Offline</span> : null}
+      {outbox.storageError ? <p className="w-full text-sm font-semibold text-alarm-700">{outbox.storageError}</p> : null}
+      {outbox.otherUsersCount ? (
+        <p className="w-full text-xs text-ink-700">
+          {plural(outbox.otherUsersCount, "entry", "entries")} of another user also wait on this tablet; they are sent when that user signs in.
+        </p>
+      ) : null}
+    </div>
+  );
+}

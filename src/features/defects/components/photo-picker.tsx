@@ -1,0 +1,113 @@
+import { useEffect, useRef, useState } from "react";
+import { PHOTO_ACCEPT, PHOTO_MAX_BYTES, PHOTO_MAX_FILES } from "@shared/api/defects";
+import { bytes } from "@/lib/format";
+import { newClientKey } from "@/lib/client-key";
+
+export interface LocalPhoto {
+  key: string;
+  file: File;
+}
+
+const ACCEPTED = PHOTO_ACCEPT.split(",");
+
+/** Why a file cannot go up, said before it is stored; null when it can. */
+export function photoProblem(file: File): string | null {
+  const heic = /\.(heic|heif)$/i.test(file.name) || /hei[cf]/i.test(file.type);
+  if (heic) return `${file.name}: HEIC photos cannot be read here. Set the camera to JPEG ("Most compatible"), or take the photo with this screen's camera button.`;
+  if (file.type && !ACCEPTED.includes(file.type)) return `${file.name}: only JPEG, PNG or WebP photos.`;
+  if (file.size > PHOTO_MAX_BYTES) return `${file.name} is ${bytes(file.size)}; the limit is ${bytes(PHOTO_MAX_BYTES)}.`;
+  return null;
+}
+
+/** A thumbnail of a Blob on the device, revoked when it goes. */
+export function BlobThumb({ blob, alt, className = "h-20 w-20" }: { blob: Blob; alt: string; className?: string }) {
+  const [url, setUrl] = useState<string | null>(null);
+  useEffect(() => {
+    const u = URL.createObjectURL(blob);
+    setUrl(u);
+    return () => URL.revokeObjectURL(u);
+  }, [blob]);
+  return url ? <img src={url} alt={alt} className={`${className} rounded-md border border-ink-300 object-cover`} /> : <div className={`${className} rounded-md bg-ink-100`} />;
+}
+
+/**
+ * Photos for the entry: the camera opens from the file input's capture; several photos may be
+ * taken one after the other. They are kept with the entry on the tablet and sent after it.
+ */
+export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPhoto[]; onChange: (p: LocalPhoto[]) => void; already?: number }) {
+  const [problems, setProblems] = useState<string[]>([]);
+  const camera = useRef<HTMLInputElement>(null);
+  const gallery = useRef<HTMLInputElement>(null);
+  const room = PHOTO_MAX_FILES - already - photos.length;
+
+  const add = (list: FileList | null) => {
+    if (!list) return;
+    const next: LocalPhoto[] = [];
+    const bad: string[] = [];
+    for (const file of [...list]) {
+      const p = photoProblem(file);
+      if (p) bad.push(p);
+      else if (next.length >= room) bad.push(`${file.name}: at most ${PHOTO_MAX_FILES} photos per defect.`);
+      else next.push({ key: newClientKey(), file });
+    }
+    setProblems(bad);
+    if (next.length) onChange([...photos, ...next]);
+    if (camera.current) camera.current.value = "";
+    if (gallery.current) gallery.current.value = "";
+  };
+
+  const button = "flex min-h-14 cursor-pointer items-center justify-center gap-2 rounded-lg px-5 text-base font-semibold";
+  return (
+    <div className="space-y-3">
+      <div className="flex flex-wrap gap-2">
+        <label className={`${button} bg-ink-900 text-white hover:bg-ink-800 ${room <= 0 ? "pointer-events-none opacity-50" : ""}`}>
+          <svg viewBox="0 0 24 24" className="h-6 w-6" aria-hidden>
+            <path d="M4 8h3l2-3h6l2 3h3v11H4z" fill="none" stroke="currentColor" strokeWidth="2" strokeLinejoin="round" />
+            <circle cx="12" cy="13" r="3.5" fill="none" stroke="currentColor" strokeWidth="2" />
+          </svg>
+          Take photo
+          <input
+            ref={camera}
+            type="file"
+            accept={PHOTO_ACCEPT}
+            capture="environment"
+            multiple
+            className="sr-only"
+            disabled={room <= 0}
+            onChange={(e) => add(e.target.files)}
+            data-testid="photo-camera"
+          />
+        </label>
+        <label className={`${button} border-2 border-ink-300 bg-white text-ink-900 hover:border-ink-500 ${room <= 0 ? "pointer-events-none opacity-50" : ""}`}>
+          From the gallery
+          <input ref={gallery} type="file" accept={PHOTO_ACCEPT} multiple className="sr-only" disabled={room <= 0} onChange={(e) => add(e.target.files)} />
+        </label>
+      </div>
+      {problems.map((p) => (
+        <p key={p} role="alert" className="text-sm font-medium text-alarm-700">
+          {p}
+        </p>
+      ))}
+      {photos.length ? (
+        <ul className="flex flex-wrap gap-3" aria-label="Photos to send">
+          {photos.map((p, i) => (
+            <li key={p.key} className="flex flex-col items-center gap-1" data-testid="picked-photo">
+              <BlobThumb blob={p.file} alt={`Photo ${i + 1}`} className="h-24 w-24" />
+              <span className="text-xs text-ink-600">{bytes(p.file.size)}</span>
+              <button
+                type="button"
+                onClick={() => onChange(photos.filter((x) => x.key !== p.key))}
+                className="min-h-12 rounded-md px-3 text-sm font-semibold text-alarm-700 underline"
+                aria-label={`Remove photo ${i + 1}`}
+              >
+                Remove
+              </button>
+            </li>
+          ))}
+        </ul>
+      ) : (
+        <p className="text-sm text-ink-600">No photo yet. Photos are kept on the tablet with the entry and sent after it.</p>
+      )}
+    </div>
+  );
+}

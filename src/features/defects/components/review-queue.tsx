@@ -1,0 +1,295 @@
+import { useState } from "react";
+import { useQuery } from "@tanstack/react-query";
+import { Link } from "react-router";
+import type { Defect, DefectReview, DefectType } from "@shared/api/defects";
+import { SEVERITIES, SEVERITY_LABELS, type Severity } from "@shared/domain";
+import { Button } from "@/components/ui/button";
+import { Card, Fact } from "@/components/ui/card";
+import { Spinner } from "@/components/ui/logo";
+import { SeverityMark } from "@/components/ui/marks";
+import { Notice } from "@/components/ui/notice";
+import { ApiError } from "@/lib/api-client";
+import { DASH, dateTime, num, plural, withUnit } from "@/lib/format";
+import { dispositionLabel, faceLabel, stageLabel } from "@/lib/labels";
+import { defectKeys, useReviewDefect } from "../api/defects.queries";
+import { ChoiceTiles } from "./choice-tiles";
+import { PhotoStrip } from "./photo-viewer";
+import { TypePicker } from "./type-picker";
+
+const QUEUE = { reviewStatus: "new", sort: "oldest", pageSize: 25 } as const;
+
+/** Narrows the queue to one slab, e.g. to review a slab's entries together. */
+function SlabFilter({ value, onChange }: { value: string; onChange: (v: string) => void }) {
+  const [text, setText] = useState(value);
+  return (
+    <form
+      className="flex flex-wrap items-end gap-2"
+      role="search"
+      onSubmit={(e) => {
+        e.preventDefault();
+        onChange(text.trim().toUpperCase());
+      }}
+    >
+      <div className="flex flex-col gap-1">
+        <label htmlFor="review-slab" className="text-sm font-semibold text-ink-800">
+          Only the entries of slab
+        </label>
+        <input
+          id="review-slab"
+          value={text}
+          onChange={(e) => setText(e.target.value)}
+          autoComplete="off"
+          placeholder="slab id"
+          className="min-h-11 w-56 rounded-md border border-ink-300 bg-white px-3 uppercase"
+        />
+      </div>
+      <Button type="submit" variant="secondary">
+        Show
+      </Button>
+      {value ? (
+        <Button
+          variant="ghost"
+          onClick={() => {
+            setText("");
+            onChange("");
+          }}
+        >
+          Show all slabs
+        </Button>
+      ) : null}
+    </form>
+  );
+}
+
+type Panel = "none" | "correct" | "reject";
+
+function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType[]; onDone: (text: string) => void }) {
+  const review = useReviewDefect();
+  const [panel, setPanel] = useState<Panel>("none");
+  const [typeCode, setTypeCode] = useState<string>(defect.typeCode);
+  const [severity, setSeverity] = useState<Severity>(defect.severity as Severity);
+  const [reason, setReason] = useState("");
+  const [problem, setProblem] = useState<string | null>(null);
+
+  const send = async (r: DefectReview, text: string) => {
+    setProblem(null);
+    try {
+      await review.mutateAsync({ id: defect.id, review: r });
+      onDone(text);
+    } catch (err) {
+      setProblem(err instanceof ApiError ? err.message : String(err));
+    }
+  };
+  const what = `${defect.typeCode} on ${defect.slabId}`;
+  const changed = typeCode !== defect.typeCode || severity !== defect.severity;
+
+  return (
+    <div className="space-y-4">
+      {problem ? <Notice tone="error">{problem}</Notice> : null}
+      <div className="flex flex-wrap gap-2">
+        <Button size="lg" disabled={review.isPending} onClick={() => void send({ decision: "confirm" }, `Confirmed: ${what}.`)}>
+          ✓ Confirm as logged
+        </Button>
+        <Button size="lg" variant={panel === "correct" ? "primary" : "secondary"} aria-expanded={panel === "correct"} onClick={() => setPanel(panel === "correct" ? "none" : "correct")}>
+          Correct type or severity…
+        </Button>
+        <Button size="lg" variant={panel === "reject" ? "danger" : "secondary"} aria-expanded={panel === "reject"} onClick={() => setPanel(panel === "reject" ? "none" : "reject")}>
+          Reject…
+        </Button>
+      </div>
+      {panel === "correct" ? (
+        <div className="space-y-4 rounded-lg border-2 border-strand-700 p-4" data-testid="correct-panel">
+          <TypePicker types={types} value={typeCode} onChange={setTypeCode} />
+          <ChoiceTiles
+            label="Severity"
+            columns="grid-cols-2 md:grid-cols-4"
+            value={severity}
+            onChange={setSeverity}
+            choices={SEVERITIES.map((s) => ({ value: s, name: `${SEVERITY_LABELS[s]} (${s})`, label: <SeverityMark severity={s} large /> }))}
+          />
+          <Button
+            size="lg"
+            disabled={!changed || review.isPending}
+            onClick={() =>
+              void send(
+                {
+                  decision: "correct",
+                  ...(typeCode !== defect.typeCode ? { type_code: typeCode } : {}),
+                  ...(severity !== defect.severity ? { severity } : {}),
+                },
+                `Corrected: ${what}${typeCode !== defect.typeCode ? ` → ${typeCode}` : ""}${severity !== defect.severity ? `, severity ${defect.severity} → ${severity}` : ""}.`,
+              )
+            }
+          >
+            {changed ? "Save the correction" : "Change the type or the severity first"}
+          </Button>
+        </div>
+      ) : null}
+      {panel === "reject" ? (
+        <div className="space-y-3 rounded-lg border-2 border-alarm-700 p-4" data-testid="reject-panel">
+          <label htmlFor="reject-reason" className="block text-base font-semibold">
+            Why is the entry rejected? <span className="font-normal text-ink-600">(the inspector sees it)</span>
+          </label>
+          <textarea
+            id="reject-reason"
+            rows={3}
+            value={reason}
+            maxLength={2000}
+            onChange={(e) => setReason(e.target.value)}
+            className="w-full rounded-lg border-2 border-ink-300 px-3 py-2"
+          />
+          <Button variant="danger" size="lg" disabled={!reason.trim() || review.isPending} onClick={() => void send({ decision: "reject", note: reason.trim() }, `Rejected: ${what}.`)}>
+            Reject the entry
+          </Button>
+        </div>
+      ) : null}
+      <p className="text-xs text-ink-600">Every decision is recorded with your name and the time.</p>
+    </div>
+  );
+}
+
+function DefectFacts({ d }: { d: Defect }) {
+  return (
+    <dl className="grid grid-cols-2 gap-x-6 gap-y-4 md:grid-cols-3">
+      <Fact label="Slab">
+        <Link to={`/slabs/${encodeURIComponent(d.slabId)}`} className="text-strand-700 underline underline-offset-2">
+          {d.slabId}
+        </Link>
+        <div className="text-sm font-normal text-ink-700">
+          {num(d.slabThicknessMm)} × {num(d.slabWidthMm)} × {num(d.slabLengthMm)} mm
+        </div>
+      </Fact>
+      <Fact label="Heat · grade · strand">
+        <Link to={`/heats/${encodeURIComponent(d.heatNo)}`} className="text-strand-700 underline underline-offset-2">
+          {d.heatNo}
+        </Link>{" "}
+        · {d.gradeCode} · {d.strandNo}
+      </Fact>
+      <Fact label="Type" testId="review-type">
+        <span className="mr-2 rounded bg-ink-900 px-1.5 py-0.5 text-xs font-bold text-white">{d.typeCode}</span>
+        {d.typeName}
+      </Fact>
+      <Fact label="Severity">
+        <SeverityMark severity={d.severity} large />
+      </Fact>
+      <Fact label="Where">
+        {faceLabel(d.face)}
+        <div className="text-sm font-normal text-ink-700">
+          {withUnit(d.positionAlongMm, "mm")} from the head end, {withUnit(d.positionAcrossMm, "mm")} across
+        </div>
+      </Fact>
+      <Fact label="Size">
+        {d.lengthMm === null && d.widthMm === null ? "not measured" : `${num(d.lengthMm)} × ${num(d.widthMm)} mm`}
+        {d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
+      </Fact>
+      <Fact label="Found">
+        {stageLabel(d.stage)}
+        <div className="text-sm font-normal text-ink-700">{dateTime(d.foundAt)}</div>
+      </Fact>
+      <Fact label="Logged by">{d.createdByName ?? DASH}</Fact>
+      <Fact label="Disposition">{dispositionLabel(d.disposition)}</Fact>
+      {d.note ? (
+        <div className="col-span-full">
+          <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">Inspector's note</dt>
+          <dd className="mt-0.5 text-base">“{d.note}”</dd>
+        </div>
+      ) : null}
+    </dl>
+  );
+}
+
+/** New entries, oldest first; each decision moves on to the next. */
+export function ReviewQueue({ types }: { types: DefectType[] }) {
+  const [slab, setSlab] = useState("");
+  const queue = useQuery(defectKeys.list(slab ? { ...QUEUE, slab } : QUEUE));
+  const [picked, setPicked] = useState<number | null>(null);
+  const [decided, setDecided] = useState<number[]>([]);
+  const [last, setLast] = useState<string | null>(null);
+
+  const filter = <SlabFilter value={slab} onChange={(v) => { setSlab(v); setPicked(null); }} />;
+  if (queue.isPending) return <div className="space-y-4">{filter}<Spinner label="Loading the review queue" /></div>;
+  if (queue.isError) return <div className="space-y-4">{filter}<Notice tone="error">{queue.error.message}</Notice></div>;
+  // Entries decided here leave at once, before the list comes back from the server.
+  const items = queue.data.items.filter((d) => !decided.includes(d.id));
+  const remaining = Math.max(0, queue.data.total - decided.filter((id) => queue.data.items.some((d) => d.id === id)).length);
+  const current = items.find((d) => d.id === picked) ?? items[0];
+
+  return (
+    <div className="space-y-4">
+      {last ? (
+        <div data-testid="review-last">
+          <Notice tone="ok" title="Done">
+            {last} {current ? "Next entry below." : ""}
+          </Notice>
+        </div>
+      ) : null}
+      <div className="flex flex-wrap items-end justify-between gap-3">
+        <p className="text-base text-ink-800" data-testid="review-count">
+          {remaining
+            ? `${plural(remaining, "entry", "entries")} awaiting review${slab ? ` on slab ${slab}` : ""}, oldest first.`
+            : slab
+              ? `Nothing awaits review on slab ${slab}.`
+              : "Nothing awaits review."}
+        </p>
+        {filter}
+      </div>
+      {current ? (
+        <div className="grid gap-4 lg:grid-cols-[minmax(0,2fr)_minmax(18rem,1fr)]">
+          <Card title={`Entry #${current.id} · logged ${dateTime(current.createdAt)}`}>
+            <div className="space-y-5" data-testid="review-current" data-defect-id={current.id}>
+              <PhotoStrip photos={current.photos} label="Photos of the entry" size="h-32 w-32" />
+              <DefectFacts d={current} />
+              <Decision
+                key={current.id}
+                defect={current}
+                types={types}
+                onDone={(text) => {
+                  setDecided((ids) => [...ids, current.id]);
+                  setPicked(null);
+                  setLast(text);
+                }}
+              />
+            </div>
+          </Card>
+          <Card title="Up next" bodyClassName="p-0">
+            <ul className="divide-y divide-ink-100" aria-label="Entries awaiting review">
+              {items.map((d) => (
+                <li key={d.id}>
+                  <button
+                    type="button"
+                    onClick={() => setPicked(d.id)}
+                    aria-current={d.id === current.id ? "true" : undefined}
+                    className={`flex min-h-16 w-full items-center gap-3 px-3 py-2 text-left hover:bg-strand-50 ${d.id === current.id ? "bg-strand-50 shadow-[inset_4px_0_0_var(--color-strand-700)]" : ""}`}
+                  >
+                    {d.photos[0] ? (
+                      <img src={d.photos[0].thumbUrl} alt="" className="h-12 w-12 shrink-0 rounded border border-ink-300 object-cover" />
+                    ) : (
+                      <span className="flex h-12 w-12 shrink-0 items-center justify-center rounded border border-dashed border-ink-300 text-[10px] text-ink-500">no photo</span>
+                    )}
+                    <span className="min-w-0 flex-1">
+                      <span className="block truncate text-sm font-semibold">
+                        {d.slabId} · {d.typeCode}
+                      </span>
+                      <span className="flex flex-wrap items-center gap-x-2 text-xs text-ink-600">
+                        <SeverityMark severity={d.severity} /> {d.createdByName ?? ""} · {dateTime(d.createdAt)}
+                      </span>
+                    </span>
+                  </button>
+                </li>
+              ))}
+            </ul>
+            {queue.data.total > queue.data.items.length ? (
+              <p className="px-3 py-2 text-xs text-ink-600">The oldest {queue.data.items.length} are listed; the rest follow as these are decided.</p>
+            ) : null}
+          </Card>
+        </div>
+      ) : (
+        <Card>
+          <p className="text-base text-ink-700" data-testid="review-empty">
+            The queue is empty: every entry has been reviewed.
+          </p>
+        </Card>
+      )}
+    </div>
+  );
+}

@@ -1,0 +1,142 @@
+import { describe, expect, it } from "vitest";
+import { collectPageErrors, DESKTOP, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { TEST_PASSWORD } from "../helpers/test-app";
+
+/**
+ * The quality engineer's side: the review queue (oldest first, each decision moves on) and the
+ * defect catalogue (add, rename, recategorise, retire, reactivate), seen from the yard too.
+ */
+const env = useAppAndBrowser({ scale: 0.02 });
+const sqlite = () => env.server.db.$client;
+
+async function logAsInspector(slabId: string, key: string, over: Record<string, unknown> = {}) {
+  const inspector = await env.server.agentFor("inspector");
+  const res = await inspector
+    .post("/api/defects")
+    .set("Origin", env.server.baseUrl)
+    .send({ slab_id: slabId, type_code: "LFC", face: "inner", position_along_mm: 1000, position_across_mm: 300, severity: 2, disposition: "scarf", client_key: key, ...over });
+  expect(res.status).toBe(201);
+  return res.body.id as number;
+}
+
+describe("quality review and catalogue", () => {
+  it("when the quality engineer corrects, rejects and confirms a slab's new entries, then each is stored and the queue moves on, oldest first", async () => {
+    const slabId = sqlite().prepare("select slab_id from slabs order by id limit 1 offset 40").pluck().get() as string;
+    const first = await logAsInspector(slabId, "review-key-0001", { found_at: "2026-11-30T06:00:00Z" });
+    const second = await logAsInspector(slabId, "review-key-0002", { type_code: "DEP", found_at: "2026-11-30T07:00:00Z" });
+    const third = await logAsInspector(slabId, "review-key-0003", { type_code: "SLG", severity: 3, found_at: "2026-11-30T08:00:00Z" });
+
+    const context = await env.browser.newContext({ viewport: TABLET });
+    const page = await context.newPage();
+    const errors = collectPageErrors(page);
+    await signInAs(page, env.server.baseUrl, "quality", TEST_PASSWORD);
+    // From the Quality home, which says how many wait.
+    const waitingBefore = sqlite().prepare("select count(*) from defects where review_status = 'new' and deleted_at is null").pluck().get() as number;
+    await expect.poll(() => page.getByTestId("quality-review-link").textContent()).toContain(`${waitingBefore} entries from the yard await review.`);
+    await page.getByTestId("quality-review-link").click();
+    await page.getByLabel("Only the entries of slab").fill(slabId.toLowerCase());
+    await page.getByRole("button", { name: "Show", exact: true }).click();
+    await page.getByText(`3 entries awaiting review on slab ${slabId}`).waitFor();
+    const current = page.getByTestId("review-current");
+    await expect.poll(() => current.getAttribute("data-defect-id")).toBe(String(first));
+
+    // 1. Correct: another type and a higher severity.
+    await page.getByRole("button", { name: "Correct type or severity…" }).click();
+    const panel = page.getByTestId("correct-panel");
+    await panel.getByRole("searchbox", { name: "Defect type" }).fill("corner");
+    await panel.getByRole("radio", { name: /^LCC\b/ }).click();
+    await panel.getByRole("radio", { name: "Major (3)" }).click();
+    await snap(page, "review-correct-tablet");
+    await panel.getByRole("button", { name: "Save the correction" }).click();
+    await page.getByText("Corrected: LFC on").waitFor();
+    // 2. The next one comes up by itself: reject it with a reason.
+    await expect.poll(() => current.getAttribute("data-defect-id")).toBe(String(second));
+    await page.getByRole("button", { name: "Reject…" }).click();
+    const reject = page.getByRole("button", { name: "Reject the entry" });
+    expect(await reject.isDisabled()).toBe(true);
+    await page.getByLabel(/Why is the entry rejected/).fill("A scale mark that came off; not a defect.");
+    await reject.click();
+    await page.getByText("Rejected: DEP on").waitFor();
+    // 3. And the last: confirm.
+    await expect.poll(() => current.getAttribute("data-defect-id")).toBe(String(third));
+    await page.getByRole("button", { name: "✓ Confirm as logged" }).click();
+    await page.getByTestId("review-empty").waitFor();
+    expect(await page.getByTestId("review-count").textContent()).toBe(`Nothing awaits review on slab ${slabId}.`);
+
+    const rows = sqlite()
+      .prepare(
+        `select d.id, d.review_status, d.review_note, d.severity, t.code as type_code, u.email as reviewer
+         from defects d join defect_types t on t.id = d.type_id left join user u on u.id = d.reviewed_by where d.id in (?, ?, ?) order by d.id`,
+      )
+      .all(first, second, third);
+    expect(rows).toEqual([
+      { id: first, review_status: "corrected", review_note: null, severity: 3, type_code: "LCC", reviewer: "quality@demo.test" },
+      { id: second, review_status: "rejected", review_note: "A scale mark that came off; not a defect.", severity: 2, type_code: "DEP", reviewer: "quality@demo.test" },
+      { id: third, review_status: "confirmed", review_note: null, severity: 3, type_code: "SLG", reviewer: "quality@demo.test" },
+    ]);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it("when the quality engineer adds, renames, recategorises and retires a type, then the yard offers it only while it is in use", async () => {
+    const context = await env.browser.newContext({ viewport: DESKTOP });
+    const page = await context.newPage();
+    const errors = collectPageErrors(page);
+    await signInAs(page, env.server.baseUrl, "quality", TEST_PASSWORD);
+    await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Catalogue" }).click();
+    await page.getByRole("heading", { level: 1, name: "Defect catalogue" }).waitFor();
+
+    // A new category, then a new type in it.
+    const newCategory = page.getByRole("form", { name: "New category" });
+    await newCategory.getByLabel("Code").fill("marks");
+    await newCategory.getByLabel("Name").fill("Handling marks");
+    await newCategory.getByRole("button", { name: "Add category" }).click();
+    await page.getByTestId("category-MARKS").waitFor();
+    const newType = page.getByRole("form", { name: "New defect type" });
+    await newType.getByLabel("Code").fill("rlm");
+    await newType.getByLabel("Name").fill("Roller mark");
+    await newType.getByLabel("Category").selectOption("MARKS");
+    await newType.getByRole("button", { name: "Add type" }).click();
+    const row = page.getByTestId("type-RLM");
+    await row.waitFor();
+    expect(sqlite().prepare("select t.name, c.code from defect_types t join defect_categories c on c.id = t.category_id where t.code = 'RLM'").get()).toEqual({
+      name: "Roller mark",
+      code: "MARKS",
+    });
+
+    // Rename and move it to the surface category.
+    await row.getByRole("button", { name: "Edit RLM" }).click();
+    await row.getByLabel("Name of RLM").fill("Roller marks");
+    await row.getByLabel("Category").selectOption("SURFACE");
+    await row.getByRole("button", { name: "Save" }).click();
+    await page.getByTestId("type-RLM").getByText("Roller marks").waitFor();
+    expect(sqlite().prepare("select t.name, c.code from defect_types t join defect_categories c on c.id = t.category_id where t.code = 'RLM'").get()).toEqual({
+      name: "Roller marks",
+      code: "SURFACE",
+    });
+    await snap(page, "catalogue-desktop");
+
+    // The yard offers it…
+    const slabId = sqlite().prepare("select slab_id from slabs order by id limit 1 offset 41").pluck().get() as string;
+    const yard = await (await env.browser.newContext({ viewport: TABLET })).newPage();
+    await signInAs(yard, env.server.baseUrl, "inspector", TEST_PASSWORD);
+    await yard.goto(`${env.server.baseUrl}/yard/slabs/${slabId}`);
+    await yard.getByRole("searchbox", { name: "Defect type" }).fill("roller");
+    expect(await yard.getByRole("radio", { name: /^RLM\b/ }).count()).toBe(1);
+
+    // …until it is retired; its past entries stay, new ones cannot take it.
+    await page.getByRole("button", { name: "Retire RLM" }).click();
+    await page.getByTestId("type-RLM").locator('[data-active="false"]').waitFor();
+    expect(sqlite().prepare("select active from defect_types where code = 'RLM'").pluck().get()).toBe(0);
+    await yard.reload();
+    await yard.getByRole("searchbox", { name: "Defect type" }).fill("roller");
+    await yard.getByText("No type matches “roller”").waitFor();
+    expect(await yard.getByRole("radio", { name: /^RLM\b/ }).count()).toBe(0);
+
+    await page.getByRole("button", { name: "Reactivate RLM" }).click();
+    await page.getByTestId("type-RLM").locator('[data-active="true"]').waitFor();
+    expect(sqlite().prepare("select active from defect_types where code = 'RLM'").pluck().get()).toBe(1);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+});
