@@ -709,10 +709,34 @@ export const apiTokens = sqliteTable("api_tokens", {
  * with the source of each — and the values derived from them. Recomputed whenever a slab, its heat,
  * its strand's samples, its strand's settings or the plant's formula settings change.
  */
-export const slabConditions = sqliteTable("slab_conditions", {
+export const slabConditions = sqliteTable(
+  "slab_conditions",
+  {
   slabId: integer("slab_id")
     .primaryKey()
     .references(() => slabs.id),
+  // The slab's place and kind, copied here so a report reads one table (kept in step by the resolver).
+  heatId: integer("heat_id"),
+  casterId: integer("caster_id"),
+  strandId: integer("strand_id"),
+  gradeId: integer("grade_id"),
+  familyId: integer("family_id"),
+  castAt: integer("cast_at"),
+  transition: integer("transition"),
+  sequencePosition: integer("sequence_position"),
+  weightT: real("weight_t"),
+  widthMm: real("width_mm"),
+  thicknessMm: real("thickness_mm"),
+  cPct: real("c_pct"),
+  mnPct: real("mn_pct"),
+  siPct: real("si_pct"),
+  sPct: real("s_pct"),
+  pPct: real("p_pct"),
+  alPct: real("al_pct"),
+  nbPct: real("nb_pct"),
+  tiPct: real("ti_pct"),
+  vPct: real("v_pct"),
+  nPpm: real("n_ppm"),
   castingSpeedMPerMin: real("casting_speed_m_min"),
   castingSpeedSource: text("casting_speed_source"),
   speedMinMPerMin: real("speed_min_m_min"),
@@ -738,7 +762,9 @@ export const slabConditions = sqliteTable("slab_conditions", {
   stuartNumber: real("stuart_number"),
   hartmannNumber: real("hartmann_number"),
   computedAt: integer("computed_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
-});
+  },
+  (t) => [index("slab_conditions_cast_at_idx").on(t.castAt), index("slab_conditions_heat_idx").on(t.heatId)],
+);
 
 /** One row per real import or feed call: who, what, and what it did. */
 export const importRuns = sqliteTable(

@@ -11,7 +11,7 @@ import type Database from "better-sqlite3";
 import type { PlantSettings } from "@shared/api/heats";
 import { liquidusC } from "../metallurgy/liquidus";
 import { slabWeightT } from "../metallurgy/casting";
-import { estimateCastAt, type SlabRow } from "../services/conditions.service";
+import { CHEM_COLUMNS, emptyChem, estimateCastAt, type SlabRow } from "../services/conditions.service";
 import type { ErrorList, ParsedRow, Value } from "./coerce";
 
 export interface PlanCounts {
@@ -40,6 +40,10 @@ interface HeatForSlab {
   sen_depth_mm: number | null;
   argon_nl_min: number | null;
   mold_level_sd_mm: number | null;
+  grade_id: number;
+  family_id: number;
+  sequence_position: number | null;
+  [chem: string]: number | string | null;
 }
 
 export interface Plan {
@@ -265,7 +269,10 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRow[], errors: 
         (order.pluck().all(seqId) as number[]).forEach((id, i) => setPos.run(i + 1, id));
         setRange.run({ id: seqId, now });
       }
-      const slabIds = selectIn<{ id: number }>(sqlite, (p) => `select id from slabs where heat_id in (${p})`, touchedHeats).map((r) => r.id);
+      // Positions may have moved for every heat of a touched sequence: their slabs follow too.
+      const seqHeats = selectIn<{ id: number }>(sqlite, (p) => `select id from heats where sequence_id in (${p})`, [...touchedSequences]).map((r) => r.id);
+      const heatIds = [...new Set([...touchedHeats, ...seqHeats])];
+      const slabIds = selectIn<{ id: number }>(sqlite, (p) => `select id from slabs where heat_id in (${p})`, heatIds).map((r) => r.id);
       return { slabIds };
     },
   };
@@ -285,8 +292,10 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
   const heats = new Map(
     selectIn<HeatForSlab>(
       sqlite,
-      (p) => `select id, heat_no, caster_id, cast_start, cast_end, casting_speed_m_min, superheat_c, liquidus_c, embr_current_a,
-          sen_depth_mm, argon_nl_min, mold_level_sd_mm from heats where heat_no in (${p})`,
+      (p) => `select h.id, h.heat_no, h.caster_id, h.cast_start, h.cast_end, h.casting_speed_m_min, h.superheat_c, h.liquidus_c,
+          h.embr_current_a, h.sen_depth_mm, h.argon_nl_min, h.mold_level_sd_mm, h.grade_id, g.family_id, h.sequence_position,
+          ${CHEM_COLUMNS.map((c) => `h.${c}`).join(", ")}
+          from heats h join grades g on g.id = h.grade_id where h.heat_no in (${p})`,
       heatNos,
     ).map((h) => [h.heat_no, h]),
   );
@@ -400,7 +409,9 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
           argonNlPerMin: rec.argon_nl_min as number | null, moldLevelSdMm: rec.mold_level_sd_mm as number | null,
           heatCastStart: heat.cast_start, heatCastEnd: heat.cast_end, heatSpeed: heat.casting_speed_m_min, heatSuperheat: heat.superheat_c,
           heatLiquidus: heat.liquidus_c, heatEmbr: heat.embr_current_a, heatSen: heat.sen_depth_mm, heatArgon: heat.argon_nl_min,
-          heatLevelSd: heat.mold_level_sd_mm,
+          heatLevelSd: heat.mold_level_sd_mm, casterId: heat.caster_id, gradeId: heat.grade_id, familyId: heat.family_id,
+          transition: rec.transition as number, sequencePosition: heat.sequence_position, weightT: rec.weight_t as number,
+          chem: Object.assign(emptyChem(), Object.fromEntries(CHEM_COLUMNS.map((c) => [c, heat[c] as number | null]))),
         });
       }
       return { slabIds, slabRows };

@@ -205,16 +205,31 @@ export interface SlabRow {
   heatSen: number | null;
   heatArgon: number | null;
   heatLevelSd: number | null;
+  /** Copied to slab_conditions for the reports. */
+  casterId: number;
+  gradeId: number;
+  familyId: number;
+  transition: number;
+  sequencePosition: number | null;
+  weightT: number;
+  chem: Record<(typeof CHEM_COLUMNS)[number], number | null>;
 }
 
+/** The heat's chemistry columns the reports use as variables. */
+export const CHEM_COLUMNS = ["c_pct", "mn_pct", "si_pct", "s_pct", "p_pct", "al_pct", "nb_pct", "ti_pct", "v_pct", "n_ppm"] as const;
+export const emptyChem = () => Object.fromEntries(CHEM_COLUMNS.map((c) => [c, null])) as SlabRow["chem"];
+
+const CHEM = CHEM_COLUMNS.map((c) => `h.${c} as chem_${c}`).join(", ");
 const SLAB_SELECT = `select s.id, s.heat_id as heatId, s.strand_id as strandId, s.piece_no as pieceNo, s.length_mm as lengthMm,
     s.width_mm as widthMm, s.thickness_mm as thicknessMm, s.cast_length_start_m as castLengthStartM, s.cast_at as castAt,
     s.casting_speed_m_min as castingSpeedMPerMin, s.superheat_c as superheatC, s.embr_current_a as embrCurrentA,
     s.sen_depth_mm as senDepthMm, s.argon_nl_min as argonNlPerMin, s.mold_level_sd_mm as moldLevelSdMm,
     h.cast_start as heatCastStart, h.cast_end as heatCastEnd, h.casting_speed_m_min as heatSpeed, h.superheat_c as heatSuperheat,
     h.liquidus_c as heatLiquidus, h.embr_current_a as heatEmbr, h.sen_depth_mm as heatSen, h.argon_nl_min as heatArgon,
-    h.mold_level_sd_mm as heatLevelSd
-  from slabs s join heats h on h.id = s.heat_id`;
+    h.mold_level_sd_mm as heatLevelSd, h.caster_id as casterId, h.grade_id as gradeId, g.family_id as familyId,
+    s.transition as transition, h.sequence_position as sequencePosition, s.weight_t as weightT,
+    ${CHEM}
+  from slabs s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id`;
 
 const AGG_COLUMNS = `count(*) as n, avg(casting_speed_m_min) as speedMean, min(casting_speed_m_min) as speedMin,
     max(casting_speed_m_min) as speedMax, avg(tundish_temp_c) as tundishMean, avg(embr_current_a) as embrMean,
@@ -246,7 +261,8 @@ export interface Resolver {
 }
 
 const UPSERT_COLUMNS = [
-  "slab_id", "casting_speed_m_min", "casting_speed_source", "speed_min_m_min", "speed_max_m_min", "speed_change_m_min",
+  "slab_id", "heat_id", "caster_id", "strand_id", "grade_id", "family_id", "cast_at", "transition", "sequence_position", "weight_t",
+  "width_mm", "thickness_mm", ...CHEM_COLUMNS, "casting_speed_m_min", "casting_speed_source", "speed_min_m_min", "speed_max_m_min", "speed_change_m_min",
   "superheat_c", "superheat_source", "embr_current_a", "embr_current_source", "sen_depth_mm", "sen_depth_source", "argon_nl_min",
   "argon_source", "mold_level_sd_mm", "mold_level_sd_source", "sample_count", "throughput_t_min", "mold_dwell_min", "shell_exit_mm",
   "metallurgical_length_m", "embr_field_t", "sen_port_velocity_m_s", "stuart_number", "hartmann_number", "computed_at",
@@ -347,12 +363,22 @@ export function createResolver(db: Db): Resolver {
       settings,
     });
     upsert.run(
-      r.id, x.castingSpeedMPerMin, x.castingSpeedSource, x.speedMinMPerMin, x.speedMaxMPerMin, x.speedChangeMPerMin, x.superheatC,
+      r.id, r.heatId, r.casterId, r.strandId, r.gradeId, r.familyId, placedAt == null ? null : Math.round(placedAt), r.transition ? 1 : 0,
+      r.sequencePosition, r.weightT, r.widthMm, r.thicknessMm, ...CHEM_COLUMNS.map((c) => r.chem[c]),
+      x.castingSpeedMPerMin, x.castingSpeedSource, x.speedMinMPerMin, x.speedMaxMPerMin, x.speedChangeMPerMin, x.superheatC,
       x.superheatSource, x.embrCurrentA, x.embrCurrentSource, x.senDepthMm, x.senDepthSource, x.argonNlPerMin, x.argonSource,
       x.moldLevelSdMm, x.moldLevelSdSource, x.sampleCount, x.throughputTPerMin, x.moldDwellMin, x.shellExitMm,
       x.metallurgicalLengthM, x.embrFieldT, x.senPortVelocityMPerS, x.stuartNumber, x.hartmannNumber, now,
     );
   };
+
+  /** Rows read with SLAB_SELECT carry the chemistry as chem_… columns: fold them into `chem`. */
+  const fromSql = (rows: Record<string, unknown>[]): SlabRow[] =>
+    rows.map((r) => {
+      const chem = emptyChem();
+      for (const c of CHEM_COLUMNS) chem[c] = r[`chem_${c}`] as number | null;
+      return { ...(r as unknown as SlabRow), chem };
+    });
 
   const run = (rows: SlabRow[], now: number) => {
     // The pieces before a slab matter only to place a slab that has no cast time yet.
@@ -370,7 +396,7 @@ export function createResolver(db: Db): Resolver {
       for (let i = 0; i < list.length; i += CHUNK) {
         const chunk = list.slice(i, i + CHUNK);
         const stmt = chunk.length === CHUNK ? selectChunk : sqlite.prepare(`${SLAB_SELECT} where s.id in (${chunk.map(() => "?").join(",")})`);
-        const rows = stmt.all(...chunk) as SlabRow[];
+        const rows = fromSql(stmt.all(...chunk) as Record<string, unknown>[]);
         run(rows, now);
         n += rows.length;
       }
@@ -387,7 +413,7 @@ export function createResolver(db: Db): Resolver {
       let n = 0;
       let last = 0;
       for (;;) {
-        const rows = page.all(last) as SlabRow[];
+        const rows = fromSql(page.all(last) as Record<string, unknown>[]);
         if (rows.length === 0) break;
         run(rows, now);
         n += rows.length;

@@ -160,6 +160,8 @@ export function updateGrade(db: Db, code: string, input: z.infer<typeof gradeUpd
       .prepare("update grades set name = ?, family_id = ?, active = ?, updated_at = ? where id = ?")
       .run(input.name ?? before.name, fam, input.active === undefined ? before.active : input.active ? 1 : 0, Date.now(), before.id);
     const after = sqlite.prepare("select g.*, f.code as familyCode from grades g join grade_families f on f.id = g.family_id where g.id = ?").get(before.id) as Record<string, any>;
+    // The reports read the family from slab_conditions.
+    if (after.family_id !== before.family_id) sqlite.prepare("update slab_conditions set family_id = ? where grade_id = ?").run(after.family_id, before.id);
     recordAudit(tx, { userId, action: "grade.update", entity: "grade", entityId: before.id, before, after });
     return { id: after.id, code: after.code, name: after.name, familyCode: after.familyCode, active: Boolean(after.active) };
   });

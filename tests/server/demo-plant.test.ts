@@ -86,6 +86,20 @@ describe("the invented demo plant", () => {
     expect(transition.p).toBeGreaterThan(steady.p * 2);
   });
 
+  it("when seeded, then every slab has its report row, in step with its slab, heat and grade", () => {
+    const mismatches = db.$client
+      .prepare(
+        `select count(*) from slabs s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id
+         left join slab_conditions c on c.slab_id = s.id
+         where c.slab_id is null or c.cast_at is not s.cast_at or c.heat_id <> s.heat_id or c.strand_id <> s.strand_id
+            or c.grade_id <> h.grade_id or c.family_id <> g.family_id or c.transition <> s.transition or c.width_mm <> s.width_mm
+            or c.sequence_position is not h.sequence_position or c.c_pct is not h.c_pct or c.casting_speed_source <> 'samples'`,
+      )
+      .pluck()
+      .get();
+    expect(mismatches).toBe(0);
+  });
+
   it("when seeded twice into empty databases, then the data are identical (deterministic)", async () => {
     const digest = async (name: string) => {
       const { d, auth } = fresh(name);

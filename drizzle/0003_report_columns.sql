@@ -1,0 +1,23 @@
+ALTER TABLE `slab_conditions` ADD `heat_id` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `caster_id` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `strand_id` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `grade_id` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `family_id` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `cast_at` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `transition` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `sequence_position` integer;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `weight_t` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `width_mm` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `thickness_mm` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `c_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `mn_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `si_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `s_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `p_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `al_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `nb_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `ti_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `v_pct` real;--> statement-breakpoint
+ALTER TABLE `slab_conditions` ADD `n_ppm` real;--> statement-breakpoint
+CREATE INDEX `slab_conditions_cast_at_idx` ON `slab_conditions` (`cast_at`);--> statement-breakpoint
+CREATE INDEX `slab_conditions_heat_idx` ON `slab_conditions` (`heat_id`);
