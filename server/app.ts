@@ -17,6 +17,7 @@ import { adminUserRoutes } from "./routes/admin-users.routes";
 import type { Deps } from "./routes/deps";
 import { heatRoutes } from "./routes/heats.routes";
 import { defectRoutes } from "./routes/defects.routes";
+import { reportRoutes } from "./routes/reports.routes";
 import type { DefectEvents } from "./services/defects.service";
 import { importRoutes } from "./routes/import.routes";
 import { setupRoutes } from "./routes/setup.routes";
@@ -64,7 +65,8 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 
 export function collectRoutes(deps: Deps): AnyRoute[] {
   return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
-    ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps)];
+    ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps),
+    ...reportRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {

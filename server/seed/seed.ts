@@ -79,7 +79,11 @@ export function seedReference(tx: Tx | Db) {
  * Seeds the invented demo plant. Safe to run again: users, reference rows and production are each
  * created only when missing, so a second run duplicates nothing.
  */
-export async function seedDemo(db: Db, auth: Auth, opts: { password: string; scale?: number; uploadDir?: string }): Promise<SeedResult> {
+export async function seedDemo(
+  db: Db,
+  auth: Auth,
+  opts: { password: string; scale?: number; uploadDir?: string; /** false: users and reference data only */ production?: boolean },
+): Promise<SeedResult> {
   const started = performance.now();
   let usersCreated = 0;
   for (const u of DEMO_USERS) {
@@ -92,7 +96,7 @@ export async function seedDemo(db: Db, auth: Auth, opts: { password: string; sca
   const production = db.transaction((tx) => {
     const caster = seedReference(tx);
     const existing = tx.select({ n: sql<number>`count(*)` }).from(heats).where(eq(heats.casterId, caster.id)).get()!.n;
-    if (existing > 0) return null;
+    if (existing > 0 || opts.production === false) return null;
     const strandRows = tx.select().from(strands).where(eq(strands.casterId, caster.id)).all();
     const counts = generateProduction(
       db.$client,

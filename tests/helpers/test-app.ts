@@ -22,6 +22,8 @@ export interface TestAppOptions {
   port?: number;
   /** Extra environment, e.g. TRUST_PROXY. */
   env?: Record<string, string>;
+  /** false: only users and reference data, for tests that build their own plant. */
+  production?: boolean;
 }
 
 /**
@@ -42,7 +44,7 @@ export async function createTestApp(opts: TestAppOptions = {}) {
   runMigrations(db);
   const logger = createLogger(env.LOG_LEVEL);
   const auth = createAuth({ db, secret: env.BETTER_AUTH_SECRET, baseURL: env.BETTER_AUTH_URL, enforceOriginCheck: opts.enforceOriginCheck, rateLimit: opts.rateLimit, logger });
-  const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02, uploadDir: env.UPLOAD_DIR });
+  const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02, uploadDir: env.UPLOAD_DIR, production: opts.production });
   const app = createApp({ db, auth, env, logger, serveClient: true });
 
   /** A supertest agent that keeps the cookie of the given demo user. */

@@ -118,7 +118,22 @@ const matrix: Record<string, Row> = {
   "PATCH /defect-types/:code": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-types/SCB", body: { name: "Scab" } }) },
   "POST /defect-categories": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-categories", body: { code: `MC${++counter}`, name: "Matrix category" } }) },
   "PATCH /defect-categories/:code": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-categories/SURFACE", body: { name: "Other surface defects" } }) },
+  "GET /reports/variables": { allowed: ["quality", "process", "claims", "admin"], sample: () => ({ path: "/api/reports/variables" }) },
+  "GET /saved-reports": { allowed: ["quality", "process", "claims", "admin"], sample: () => ({ path: "/api/saved-reports" }) },
+  "POST /saved-reports": {
+    allowed: ["quality", "process", "claims", "admin"],
+    sample: () => ({ path: "/api/saved-reports", body: { name: `matrix ${++counter}`, reportKind: "overview", query: "period=week" } }),
+  },
+  "DELETE /saved-reports/:id": {
+    allowed: ["quality", "process", "claims", "admin"],
+    sample: (t) => {
+      const userId = t.db.$client.prepare("select id from user where email = ?").pluck().get(`${currentRole ?? "quality"}@demo.test`);
+      const id = Number(t.db.$client.prepare("insert into saved_reports (user_id, name, report_kind, query) values (?, 'm', 'overview', '')").run(userId).lastInsertRowid);
+      return { path: `/api/saved-reports/${id}` };
+    },
+  },
 };
+
 
 const slabRow = (t: TestApp) => t.db.$client.prepare("select slab_id from slabs order by id limit 1 offset 1").pluck().get() as string;
 /** A fresh defect by the given role (so "own and unreviewed" holds for inspectors). */
@@ -160,6 +175,21 @@ async function realPhoto(t: TestApp) {
     photoFileMade = true;
   }
   return "00000000-0000-4000-8000-000000000001";
+}
+
+const READERS: Role[] = ["quality", "process", "claims", "admin"];
+const REPORT_QUERIES: Record<string, string> = {
+  overview: "period=week",
+  "rate-by-variable": "variable=casting_speed_m_min",
+  screening: "defectType=SLG",
+  "process-window": "x=casting_speed_m_min&y=embr_current_a",
+  "control-chart": "defectType=SLG",
+  "before-after": "mode=periods&aFrom=2026-04-01&aTo=2026-06-30&bFrom=2026-07-01&bTo=2026-11-30",
+  "slab-positions": "defectType=LFC",
+};
+for (const [kind, qs] of Object.entries(REPORT_QUERIES)) {
+  matrix[`GET /reports/${kind}`] = { allowed: READERS, sample: () => ({ path: `/api/reports/${kind}?${qs}` }) };
+  matrix[`GET /reports/${kind}.xlsx`] = { allowed: READERS, sample: () => ({ path: `/api/reports/${kind}.xlsx?${qs}` }) };
 }
 
 function firstStrand(t: TestApp) {

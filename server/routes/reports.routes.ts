@@ -1,0 +1,127 @@
+import { z } from "zod";
+import {
+  beforeAfterQuerySchema,
+  beforeAfterSchema,
+  controlChartQuerySchema,
+  controlChartSchema,
+  overviewQuerySchema,
+  overviewSchema,
+  processWindowQuerySchema,
+  processWindowSchema,
+  rateByVariableQuerySchema,
+  rateByVariableSchema,
+  savedReportInputSchema,
+  savedReportSchema,
+  screeningQuerySchema,
+  screeningSchema,
+  slabPositionsQuerySchema,
+  slabPositionsSchema,
+} from "@shared/api/reports";
+import { VARIABLES } from "@shared/variables";
+import { notFound } from "../lib/http-error";
+import { defineRoute, type AnyRoute } from "../lib/route";
+import { reportWorkbook } from "../services/report-export";
+import { beforeAfter, controlChart, overview, processWindow, rateByVariable, screening, slabPositions } from "../services/reports.service";
+import type { Deps } from "./deps";
+
+const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";
+
+export function reportRoutes({ db }: Deps): AnyRoute[] {
+  const kinds = [
+    { kind: "overview", summary: "Overview: rates by period, a Pareto of defect types, rates by grade and by strand", query: overviewQuerySchema, schema: overviewSchema, run: overview },
+    { kind: "rate-by-variable", summary: "Rate of affected slabs against one casting condition: bins with Wilson intervals, Spearman, logistic odds ratio, Mann–Whitney", query: rateByVariableQuerySchema, schema: rateByVariableSchema, run: rateByVariable },
+    { kind: "screening", summary: "Every variable ranked by its association with the defect (Welch t / chi-square, Benjamini–Hochberg adjusted)", query: screeningQuerySchema, schema: screeningSchema, run: screening },
+    { kind: "process-window", summary: "Rate over a grid of two variables, with the count in each cell", query: processWindowQuerySchema, schema: processWindowSchema, run: processWindow },
+    { kind: "control-chart", summary: "p-chart of the affected share by day or week, with out-of-control points", query: controlChartQuerySchema, schema: controlChartSchema, run: controlChart },
+    { kind: "before-after", summary: "Two periods, or two ranges of one variable: difference in rates with its interval and the Fisher or chi-square p", query: beforeAfterQuerySchema, schema: beforeAfterSchema, run: beforeAfter },
+    { kind: "slab-positions", summary: "Where on the slab: defect counts by face, along the length and across the width", query: slabPositionsQuerySchema, schema: slabPositionsSchema, run: slabPositions },
+  ] as const;
+
+  const routes: AnyRoute[] = [
+    defineRoute({
+      method: "get",
+      path: "/reports/variables",
+      summary: "The variables the reports take, with labels and units",
+      tag: "reports",
+      access: "reports.read",
+      responses: { 200: { description: "Variables.", schema: z.object({ variables: z.array(z.object({ key: z.string(), label: z.string(), unit: z.string(), group: z.string(), description: z.string() })) }) } },
+      handler: () => ({ variables: VARIABLES.map(({ key, label, unit, group, description }) => ({ key, label, unit, group, description })) }),
+    }),
+  ];
+  for (const k of kinds) {
+    routes.push(
+      defineRoute({
+        method: "get",
+        path: `/reports/${k.kind}`,
+        summary: k.summary,
+        tag: "reports",
+        access: "reports.read",
+        query: k.query as z.ZodType,
+        responses: { 200: { description: "The report.", schema: k.schema } },
+        handler: ({ query }) => (k.run as (d: typeof db, q: unknown) => unknown)(db, query),
+      }),
+      defineRoute({
+        method: "get",
+        path: `/reports/${k.kind}.xlsx`,
+        summary: `${k.summary} — as an Excel workbook (the same numbers as the JSON for the same query)`,
+        tag: "reports",
+        access: "reports.read",
+        query: k.query as z.ZodType,
+        responses: { 200: { description: "The workbook.", contentType: XLSX } },
+        handler: async ({ query, req, res, user }) => {
+          const result = (k.run as (d: typeof db, q: unknown) => unknown)(db, query);
+          const qs = req.originalUrl.includes("?") ? req.originalUrl.slice(req.originalUrl.indexOf("?") + 1) : "";
+          const methods = (result as { methods?: Record<string, string> }).methods;
+          const buf = await reportWorkbook(k.kind, qs, result, `${user.name} <${user.email}>`, methods ? Object.entries(methods).map(([a, b]) => `${a}: ${b}`) : []);
+          res.setHeader("Content-Type", XLSX);
+          res.setHeader("Content-Disposition", `attachment; filename="strandsight-${k.kind}-${new Date().toISOString().slice(0, 10)}.xlsx"`);
+          res.send(buf);
+        },
+      }),
+    );
+  }
+  routes.push(
+    defineRoute({
+      method: "get",
+      path: "/saved-reports",
+      summary: "The signed-in user's saved reports",
+      tag: "reports",
+      access: "reports.read",
+      responses: { 200: { description: "Saved reports.", schema: z.object({ reports: z.array(savedReportSchema) }) } },
+      handler: ({ user }) => ({
+        reports: (db.$client.prepare("select id, name, report_kind as reportKind, query, created_at as createdAt from saved_reports where user_id = ? order by name").all(user.id) as Record<string, any>[]).map((r) => ({ ...r, createdAt: new Date(r.createdAt).toISOString() })),
+      }),
+    }),
+    defineRoute({
+      method: "post",
+      path: "/saved-reports",
+      summary: "Save a report (its kind and query string) under a name",
+      tag: "reports",
+      access: "reports.read",
+      body: savedReportInputSchema,
+      responses: { 201: { description: "Saved.", schema: savedReportSchema } },
+      handler: ({ body, user }) => {
+        const now = Date.now();
+        const id = Number(
+          db.$client.prepare("insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, ?, ?, ?, ?, ?)").run(user.id, body.name, body.reportKind, body.query.replace(/^\?/, ""), now, now).lastInsertRowid,
+        );
+        return { id, name: body.name, reportKind: body.reportKind, query: body.query.replace(/^\?/, ""), createdAt: new Date(now).toISOString() };
+      },
+    }),
+    defineRoute({
+      method: "delete",
+      path: "/saved-reports/:id",
+      summary: "Delete one of your saved reports",
+      tag: "reports",
+      access: "reports.read",
+      params: z.object({ id: z.coerce.number().int().positive() }),
+      responses: { 200: { description: "Deleted.", schema: z.object({ id: z.number(), deleted: z.literal(true) }) }, 404: { description: "Not one of yours." } },
+      handler: ({ params, user }) => {
+        const r = db.$client.prepare("delete from saved_reports where id = ? and user_id = ?").run(params.id, user.id);
+        if (r.changes === 0) throw notFound("There is no such saved report of yours.");
+        return { id: params.id, deleted: true as const };
+      },
+    }),
+  );
+  return routes;
+}
