@@ -11,6 +11,7 @@ import { DEMO_USERS } from "./seed/catalogue";
 import { seedDemo } from "./seed/seed";
 import { knownPhotoFiles } from "./services/defects.service";
 import { cleanupOrphanFiles } from "./services/photos.service";
+import { slabFacts } from "./services/report-cache";
 
 async function main() {
   loadDotEnvFile();
@@ -39,6 +40,10 @@ async function main() {
   }
 
   const app = createApp({ db, auth, env, logger, trustedOrigins: devOrigins });
+  // The reports' in-memory slab facts, built now rather than on the first report (≈ 6 s per million slabs).
+  const tf = performance.now();
+  const facts = slabFacts(db);
+  logger.info({ slabs: facts.size, ms: Math.round(performance.now() - tf) }, "report cache ready");
 
   // Photo files without a row (a crash between writing the file and its row) are removed at start
   // and every hour after.

@@ -16,6 +16,7 @@ import type { Db } from "../db/client";
 import type { EmbrCalibration } from "../db/schema";
 import { metallurgicalLengthM, moldDwellMin, senPortVelocityMPerS, shellThicknessMm, throughputTPerMin } from "../metallurgy/casting";
 import { embrFieldT, hartmannNumber, stuartNumber } from "../metallurgy/embr";
+import { slabFactsChanged } from "./report-cache";
 import { getPlantSettings } from "./settings.service";
 
 /** How far outside the heat's own casting window a slab's samples may lie (transition slabs start early). */
@@ -385,6 +386,7 @@ export function createResolver(db: Db): Resolver {
     const unplaced = rows.filter((r) => r.castAt == null);
     const offsets = unplaced.length ? offsetsFor([...new Set(unplaced.map((r) => r.heatId))]) : new Map<string, number>();
     for (const r of rows) one(r, offsets.get(`${r.heatId}:${r.strandId}:${r.pieceNo}`) ?? 0, now);
+    slabFactsChanged(db, rows.map((r) => r.id));
   };
 
   return {
@@ -419,6 +421,7 @@ export function createResolver(db: Db): Resolver {
         n += rows.length;
         last = rows[rows.length - 1]!.id;
       }
+      slabFactsChanged(db);
       return n;
     },
   };

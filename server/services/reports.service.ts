@@ -1,8 +1,8 @@
 /**
- * The quality engineer's reports. The slab is the unit. Every report reads slab_conditions (one row
- * per slab, its resolved conditions and where it sits) and decides "affected" from the defects that
- * pass the defect filters; the heavy lifting is one SQL aggregate, the statistics run on its groups
- * (server/stats). A continuous variable is grouped at a resolution ten times finer than it is shown
+ * The quality engineer's reports. The slab is the unit. Every report scans the slab facts (the typed
+ * column cache of slab_conditions, report-cache.ts) within the filters and decides "affected" from
+ * the defects that pass the defect filters (one indexed SQL query); the statistics run on the
+ * resulting groups (server/stats). A continuous variable is grouped at a resolution ten times finer than it is shown
  * (e.g. casting speed to 0.001 m/min); ranks and fits treat equal grouped values as ties.
  */
 import type Database from "better-sqlite3";
@@ -39,6 +39,7 @@ import { normalizeGroups, type Group } from "../stats/ranks";
 import { welchTTest } from "../stats/regression";
 import { correlationsWithOutcome } from "../stats/spearman";
 import { parseDateBound } from "./heats.service";
+import { slabFacts } from "./report-cache";
 
 const SMALL_AFFECTED = 10;
 
@@ -48,14 +49,13 @@ export function variableSpec(key: string): VariableSpec {
   return v;
 }
 
-/** Column of slab_conditions for a variable key (the keys are the column names; checked against the list). */
-const column = (key: string) => `c.${variableSpec(key).key}`;
-const grouped = (key: string) => `round(${column(key)}, ${variableSpec(key).digits + 1})`;
 
 interface Scope {
   /** SQL conditions on slab_conditions c. */
   where: string[];
   params: Record<string, unknown>;
+  /** The same slab filters, for the in-memory scan. */
+  js: { from?: number; to?: number; caster?: Set<number>; strand?: Set<number>; grade?: Set<number>; family?: Set<number>; transition?: 0 | 1 };
   /** A CTE named aff(id): the slabs with at least one defect passing the defect filters. */
   aff: string;
   defectWhere: string[];
@@ -77,26 +77,33 @@ export function buildScope(db: Db, f: ReportFilters, opts: { skipDates?: boolean
   const sqlite = db.$client;
   const where: string[] = [];
   const params: Record<string, unknown> = {};
+  const js: Scope["js"] = {};
   if (!opts.skipDates) {
     const from = parseDateBound(f.from, false, "from");
     const to = parseDateBound(f.to, true, "to");
     if (from !== undefined) {
       where.push("c.cast_at >= @from");
       params.from = from;
+      js.from = from;
     }
     if (to !== undefined) {
       where.push("c.cast_at <= @to");
       params.to = to;
+      js.to = to;
     }
   }
-  if (f.caster) where.push(`c.caster_id in ${inList(idsFor(sqlite, "casters", [f.caster], "caster", "caster"))}`);
-  if (f.strand !== undefined) {
-    const ids = sqlite.prepare("select id from strands where strand_no = ?").pluck().all(f.strand) as number[];
-    where.push(ids.length ? `c.strand_id in ${inList(ids)}` : "0");
+  const setOf = (key: "caster" | "strand" | "grade" | "family", col: string, ids: number[]) => {
+    js[key] = new Set(ids);
+    where.push(ids.length ? `c.${col} in ${inList(ids)}` : "0");
+  };
+  if (f.caster) setOf("caster", "caster_id", idsFor(sqlite, "casters", [f.caster], "caster", "caster"));
+  if (f.strand !== undefined) setOf("strand", "strand_id", sqlite.prepare("select id from strands where strand_no = ?").pluck().all(f.strand) as number[]);
+  if (f.grade.length) setOf("grade", "grade_id", idsFor(sqlite, "grades", f.grade, "grade", "grade"));
+  if (f.family.length) setOf("family", "family_id", idsFor(sqlite, "grade_families", f.family, "grade family", "family"));
+  if (f.transition) {
+    js.transition = f.transition === "yes" ? 1 : 0;
+    where.push(`c.transition = ${js.transition}`);
   }
-  if (f.grade.length) where.push(`c.grade_id in ${inList(idsFor(sqlite, "grades", f.grade, "grade", "grade"))}`);
-  if (f.family.length) where.push(`c.family_id in ${inList(idsFor(sqlite, "grade_families", f.family, "grade family", "family"))}`);
-  if (f.transition) where.push(`c.transition = ${f.transition === "yes" ? 1 : 0}`);
 
   const defectWhere = ["d.deleted_at is null", "d.review_status <> 'rejected'"];
   if (f.defectType.length) defectWhere.push(`d.type_id in ${inList(idsFor(sqlite, "defect_types", f.defectType, "defect type", "defectType"))}`);
@@ -119,6 +126,7 @@ export function buildScope(db: Db, f: ReportFilters, opts: { skipDates?: boolean
   return {
     where,
     params,
+    js,
     defectWhere,
     aff: `aff(id) as (select d.slab_id from defects d where ${defectWhere.join(" and ")} group by d.slab_id)`,
   };
@@ -129,19 +137,54 @@ const whereSql = (s: Scope, extra: string[] = []) => {
   return all.length ? `where ${all.join(" and ")}` : "";
 };
 
-/** (value, slabs, affected) groups of one variable over the scope. */
-function variableGroups(db: Db, scope: Scope, key: string): Group[] {
-  const rows = db.$client
-    .prepare(
-      `with ${scope.aff}
-       select ${grouped(key)} as v, count(*) as n, count(a.id) as affected
-       from slab_conditions c left join aff a on a.id = c.slab_id
-       ${whereSql(scope, [`${column(key)} is not null`])}
-       group by v`,
-    )
-    .raw()
-    .all(scope.params) as [number, number, number][];
-  return normalizeGroups(rows.map(([value, n, affected]) => ({ value, n, affected })));
+/** Row indexes of the slab facts within the scope, and which of them are affected. */
+function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number }) {
+  const f = slabFacts(db);
+  const j = scope.js;
+  const from = extra?.from ?? j.from;
+  const to = extra?.to ?? j.to;
+  const rows = new Int32Array(f.size);
+  let n = 0;
+  for (let i = 0; i < f.size; i++) {
+    if (from !== undefined && !(f.castAt[i]! >= from)) continue;
+    if (to !== undefined && !(f.castAt[i]! <= to)) continue;
+    if (j.caster && !j.caster.has(f.casterId[i]!)) continue;
+    if (j.strand && !j.strand.has(f.strandId[i]!)) continue;
+    if (j.grade && !j.grade.has(f.gradeId[i]!)) continue;
+    if (j.family && !j.family.has(f.familyId[i]!)) continue;
+    if (j.transition !== undefined && f.transition[i] !== j.transition) continue;
+    rows[n++] = i;
+  }
+  const affected = new Uint8Array(f.size);
+  const ids = db.$client.prepare(`select d.slab_id from defects d where ${scope.defectWhere.join(" and ")} group by d.slab_id`).pluck().all(scope.params) as number[];
+  for (const id of ids) {
+    const at = id < f.indexOf.length ? f.indexOf[id]! : -1;
+    if (at >= 0) affected[at] = 1;
+  }
+  return { facts: f, rows: rows.subarray(0, n), affected };
+}
+
+type Scanned = ReturnType<typeof scan>;
+
+/** (value, slabs, affected) groups of one variable, values rounded to the grouping resolution. */
+function variableGroups(s: Scanned, key: string): { groups: Group[]; missing: number } {
+  const col = s.facts.vars[variableSpec(key).key]!;
+  const scale = 10 ** (variableSpec(key).digits + 1);
+  const map = new Map<number, Group>();
+  let missing = 0;
+  for (const i of s.rows) {
+    const raw = col[i]!;
+    if (Number.isNaN(raw)) {
+      missing++;
+      continue;
+    }
+    const v = Math.round(raw * scale) / scale;
+    let g = map.get(v);
+    if (!g) map.set(v, (g = { value: v, n: 0, affected: 0 }));
+    g.n++;
+    g.affected += s.affected[i]!;
+  }
+  return { groups: normalizeGroups([...map.values()]), missing };
 }
 
 function quantilesOf(groups: Group[], pick: (g: Group) => number) {
@@ -192,14 +235,9 @@ const finite = (x: number) => (Number.isFinite(x) ? x : null);
 
 export function rateByVariable(db: Db, q: z.output<typeof rateByVariableQuerySchema>): RateByVariable {
   const spec = variableSpec(q.variable);
-  const scope = buildScope(db, q);
-  const groups = variableGroups(db, scope, q.variable);
+  const { groups, missing } = variableGroups(scan(db, buildScope(db, q)), q.variable);
   const slabs = groups.reduce((s, g) => s + g.n, 0);
   const affected = groups.reduce((s, g) => s + g.affected, 0);
-  const missing = db.$client
-    .prepare(`select count(*) from slab_conditions c ${whereSql(scope, [`${column(q.variable)} is null`])}`)
-    .pluck()
-    .get(scope.params) as number;
   const edges = q.binning === "quantile" ? quantileEdges(groups, q.bins) : equalWidthEdges(groups, q.bins);
   const bins = binnedRates(groups, edges, q.minN);
   const { spearman: sp, pointBiserial: pb } = correlationsWithOutcome(groups);
@@ -242,72 +280,68 @@ export function rateByVariable(db: Db, q: z.output<typeof rateByVariableQuerySch
   };
 }
 
-const SEQ_BUCKET = "case when c.sequence_position is null then 'unknown' when c.sequence_position = 1 then '1st heat' when c.sequence_position <= 3 then '2nd–3rd heat' else '4th heat on' end";
+const seqBucket = (pos: number) => (pos <= 0 ? "unknown" : pos === 1 ? "1st heat" : pos <= 3 ? "2nd–3rd heat" : "4th heat on");
 
 export function screening(db: Db, q: z.output<typeof screeningQuerySchema>): Screening {
-  const scope = buildScope(db, q);
+  const sc = scan(db, buildScope(db, q));
+  const { facts: f, rows, affected: aff } = sc;
   const vars = VARIABLES;
-  const aggs = vars.map((v) => `count(c.${v.key}), sum(c.${v.key}), sum(c.${v.key} * c.${v.key})`).join(", ");
-  // One pass over the slabs: numeric sums by outcome, and the categorical cross-tab, together.
-  const rows = db.$client
-    .prepare(
-      `with ${scope.aff}
-       select c.strand_id, c.family_id, c.transition, ${SEQ_BUCKET} as seq, (a.id is not null) as aff, count(*) as n, ${aggs}
-       from slab_conditions c left join aff a on a.id = c.slab_id ${whereSql(scope)}
-       group by 1, 2, 3, 4, 5`,
-    )
-    .raw()
-    .all(scope.params) as (number | string | null)[][];
-  const slabs = rows.reduce((s, r) => s + (r[5] as number), 0);
-  const affected = rows.reduce((s, r) => s + (r[4] ? (r[5] as number) : 0), 0);
+  // One pass over the slabs in the filters: per variable and outcome, n, Σx and Σx².
+  const acc = vars.map(() => new Float64Array(6)); // n0, s0, ss0, n1, s1, ss1
+  const cols = vars.map((v) => f.vars[v.key]!);
+  for (const i of rows) {
+    const o = aff[i]! * 3;
+    for (let k = 0; k < cols.length; k++) {
+      const x = cols[k]![i]!;
+      if (x === x) {
+        const a = acc[k]!;
+        a[o]! += 1;
+        a[o + 1]! += x;
+        a[o + 2]! += x * x;
+      }
+    }
+  }
+  const slabs = rows.length;
+  let affected = 0;
+  for (const i of rows) affected += aff[i]!;
   const out: Screening["variables"] = [];
   vars.forEach((v, k) => {
-    const base = 6 + 3 * k;
-    const acc = [
-      { n: 0, s: 0, ss: 0 },
-      { n: 0, s: 0, ss: 0 },
-    ];
-    for (const r of rows) {
-      const g = acc[r[4] ? 1 : 0]!;
-      g.n += (r[base] as number) ?? 0;
-      g.s += (r[base + 1] as number) ?? 0;
-      g.ss += (r[base + 2] as number) ?? 0;
-    }
-    const [sound, aff] = acc as [typeof acc[0], typeof acc[0]];
-    const stat = (g: typeof sound) => {
-      const mean = g.s / g.n;
-      return { n: g.n, mean, variance: g.n > 1 ? Math.max(0, (g.ss - g.n * mean * mean) / (g.n - 1)) : NaN };
+    const a = acc[k]!;
+    const stat = (n: number, sum: number, ss: number) => {
+      const mean = sum / n;
+      return { n, mean, variance: n > 1 ? Math.max(0, (ss - n * mean * mean) / (n - 1)) : NaN };
     };
-    const few = aff.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED;
-    if (aff.n < 2 || sound.n < 2) {
-      out.push({ key: v.key, label: v.label, kind: "numeric", n: aff.n + sound.n, statistic: null, df: null, p: null, pAdjusted: null, effect: null, meanAffected: aff.n ? aff.s / aff.n : null, meanSound: sound.n ? sound.s / sound.n : null, method: "Welch two-sample t test, two-sided", fewSlabs: true });
+    const sound = stat(a[0]!, a[1]!, a[2]!);
+    const hit = stat(a[3]!, a[4]!, a[5]!);
+    const method = "Welch two-sample t test on the means, two-sided";
+    if (hit.n < 2 || sound.n < 2) {
+      out.push({ key: v.key, label: v.label, kind: "numeric", n: hit.n + sound.n, statistic: null, df: null, p: null, pAdjusted: null, effect: null, meanAffected: hit.n ? hit.mean : null, meanSound: sound.n ? sound.mean : null, method, fewSlabs: true });
       return;
     }
-    const a = stat(aff);
-    const b = stat(sound);
-    const t = a.variance > 0 || b.variance > 0 ? welchTTest(a, b) : { t: NaN, df: NaN, p: NaN };
+    const t = hit.variance > 0 || sound.variance > 0 ? welchTTest(hit, sound) : { t: NaN, df: NaN, p: NaN };
     out.push({
-      key: v.key, label: v.label, kind: "numeric", n: a.n + b.n, statistic: finite(t.t), df: finite(t.df), p: finite(t.p), pAdjusted: null,
-      effect: a.mean - b.mean, meanAffected: a.mean, meanSound: b.mean, method: "Welch two-sample t test on the means, two-sided", fewSlabs: few,
+      key: v.key, label: v.label, kind: "numeric", n: hit.n + sound.n, statistic: finite(t.t), df: finite(t.df), p: finite(t.p), pAdjusted: null,
+      effect: hit.mean - sound.mean, meanAffected: hit.mean, meanSound: sound.mean, method, fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED,
     });
   });
   const strandLabels = new Map(
-    (db.$client.prepare("select s.id, c.code, s.strand_no from strands s join casters c on c.id = s.caster_id").all() as { id: number; code: string; strand_no: number }[]).map((s) => [s.id, `${s.code} strand ${s.strand_no}`]),
+    (db.$client.prepare("select s.id, c.code, s.strand_no from strands s join casters c on c.id = s.caster_id").all() as { id: number; code: string; strand_no: number }[]).map((x) => [x.id, `${x.code} strand ${x.strand_no}`]),
   );
-  const familyLabels = new Map((db.$client.prepare("select id, code from grade_families").all() as { id: number; code: string }[]).map((f) => [f.id, f.code]));
-  const categorical: [string, string, (r: (number | string | null)[]) => string][] = [
-    ["strand", "Strand", (r) => strandLabels.get(r[0] as number) ?? String(r[0])],
-    ["grade_family", "Grade family", (r) => familyLabels.get(r[1] as number) ?? String(r[1])],
-    ["transition", "Transition slab", (r) => (r[2] ? "transition" : "not transition")],
-    ["sequence_position", "Position in sequence", (r) => String(r[3])],
+  const familyLabels = new Map((db.$client.prepare("select id, code from grade_families").all() as { id: number; code: string }[]).map((x) => [x.id, x.code]));
+  const categorical: [string, string, (i: number) => string][] = [
+    ["strand", "Strand", (i) => strandLabels.get(f.strandId[i]!) ?? String(f.strandId[i])],
+    ["grade_family", "Grade family", (i) => familyLabels.get(f.familyId[i]!) ?? String(f.familyId[i])],
+    ["transition", "Transition slab", (i) => (f.transition[i] ? "transition" : "not transition")],
+    ["sequence_position", "Position in sequence", (i) => seqBucket(f.sequencePosition[i]!)],
   ];
   for (const [key, label, of] of categorical) {
     const byCat = new Map<string, { slabs: number; affected: number }>();
-    for (const r of rows) {
-      const c = byCat.get(of(r)) ?? { slabs: 0, affected: 0 };
-      c.slabs += r[5] as number;
-      if (r[4]) c.affected += r[5] as number;
-      byCat.set(of(r), c);
+    for (const i of rows) {
+      const k = of(i);
+      let c = byCat.get(k);
+      if (!c) byCat.set(k, (c = { slabs: 0, affected: 0 }));
+      c.slabs++;
+      c.affected += aff[i]!;
     }
     const cats = [...byCat.entries()].sort(([x], [y]) => x.localeCompare(y));
     const chi = cats.length > 1 ? chiSquareIndependence(cats.map(([, c]) => [c.affected, c.slabs - c.affected])) : null;
@@ -330,22 +364,41 @@ export function screening(db: Db, q: z.output<typeof screeningQuerySchema>): Scr
   return { slabs, affected, variables: out, notes };
 }
 
-const PERIOD_SQL = {
-  day: "strftime('%Y-%m-%d', c.cast_at / 1000, 'unixepoch')",
-  week: "strftime('%G-W%V', c.cast_at / 1000, 'unixepoch')",
-  month: "strftime('%Y-%m', c.cast_at / 1000, 'unixepoch')",
-} as const;
+const DAY = 86_400_000;
+/** Period label of a time: the UTC day, the ISO week (2026-W48) or the month. */
+export function periodOf(ms: number, period: "day" | "week" | "month"): string {
+  const d = new Date(ms);
+  if (period === "day") return d.toISOString().slice(0, 10);
+  if (period === "month") return d.toISOString().slice(0, 7);
+  // ISO 8601 week: the week with the year's first Thursday is week 1.
+  const day = (d.getUTCDay() + 6) % 7;
+  const thursday = new Date(Date.UTC(d.getUTCFullYear(), d.getUTCMonth(), d.getUTCDate() - day + 3));
+  const firstThursday = new Date(Date.UTC(thursday.getUTCFullYear(), 0, 4));
+  const week = 1 + Math.round((thursday.getTime() - firstThursday.getTime()) / DAY / 7 - ((firstThursday.getUTCDay() + 6) % 7 - 3) / 7);
+  return `${thursday.getUTCFullYear()}-W${String(week).padStart(2, "0")}`;
+}
+
+/** Counts per period label, in label order; labels are memoised per UTC day. */
+function byPeriod(s: Scanned, period: "day" | "week" | "month", weight = false) {
+  const labelOfDay = new Map<number, string>();
+  const map = new Map<string, { n: number; x: number; t: number }>();
+  for (const i of s.rows) {
+    const at = s.facts.castAt[i]!;
+    if (at !== at) continue;
+    const dayNo = Math.floor(at / DAY);
+    let label = labelOfDay.get(dayNo);
+    if (!label) labelOfDay.set(dayNo, (label = periodOf(dayNo * DAY, period)));
+    let c = map.get(label);
+    if (!c) map.set(label, (c = { n: 0, x: 0, t: 0 }));
+    c.n++;
+    c.x += s.affected[i]!;
+    if (weight) c.t += s.facts.weightT[i]! || 0;
+  }
+  return [...map.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([label, c]) => ({ period: label, ...c }));
+}
 
 export function controlChart(db: Db, q: z.output<typeof controlChartQuerySchema>): ControlChart {
-  const scope = buildScope(db, q);
-  const rows = db.$client
-    .prepare(
-      `with ${scope.aff}
-       select ${PERIOD_SQL[q.period]} as period, count(*) as n, count(a.id) as x
-       from slab_conditions c left join aff a on a.id = c.slab_id ${whereSql(scope, ["c.cast_at is not null"])}
-       group by period order by period`,
-    )
-    .all(scope.params) as { period: string; n: number; x: number }[];
+  const rows = byPeriod(scan(db, buildScope(db, q)), q.period);
   const chart = pChart(rows);
   return {
     period: q.period,
@@ -364,117 +417,123 @@ function proportion(slabs: number, affected: number) {
 
 export function overview(db: Db, q: z.output<typeof overviewQuerySchema>): Overview {
   const scope = buildScope(db, q);
-  const sqlite = db.$client;
-  const periodSql = PERIOD_SQL[q.period];
-  const slabRows = sqlite
-    .prepare(
-      `with ${scope.aff}
-       select ${periodSql} as period, count(*) as n, count(a.id) as x, coalesce(sum(c.weight_t), 0) as t
-       from slab_conditions c left join aff a on a.id = c.slab_id ${whereSql(scope, ["c.cast_at is not null"])}
-       group by period order by period`,
-    )
-    .all(scope.params) as { period: string; n: number; x: number; t: number }[];
-  const defectRows = sqlite
-    .prepare(
-      `select ${periodSql} as period, count(*) as d from defects d join slab_conditions c on c.slab_id = d.slab_id
-       ${whereSql(scope, [...scope.defectWhere, "c.cast_at is not null"])} group by period`,
-    )
-    .all(scope.params) as { period: string; d: number }[];
-  const defectsBy = new Map(defectRows.map((r) => [r.period, r.d]));
+  const sc = scan(db, scope);
+  const f = sc.facts;
+  const inScope = new Uint8Array(f.size);
+  for (const i of sc.rows) inScope[i] = 1;
+  const slabRows = byPeriod(sc, q.period, true);
+  // The defects passing the defect filters, on slabs within the slab filters.
+  const defects = db.$client.prepare(`select d.slab_id, d.type_id from defects d where ${scope.defectWhere.join(" and ")}`).raw().all(scope.params) as [number, number][];
+  const defectsBy = new Map<string, number>();
+  const byType = new Map<number, { defects: number; slabs: Set<number> }>();
+  for (const [slabId, typeId] of defects) {
+    const i = slabId < f.indexOf.length ? f.indexOf[slabId]! : -1;
+    if (i < 0 || !inScope[i]) continue;
+    const at = f.castAt[i]!;
+    if (at === at) {
+      const label = periodOf(at, q.period);
+      defectsBy.set(label, (defectsBy.get(label) ?? 0) + 1);
+    }
+    let t = byType.get(typeId);
+    if (!t) byType.set(typeId, (t = { defects: 0, slabs: new Set() }));
+    t.defects++;
+    t.slabs.add(slabId);
+  }
   const row = (n: number, x: number, t: number, d: number) => ({ ...proportion(n, x), defects: d, tonnes: t, per100Slabs: finite(ratePer(d, n, 100)), per1000t: finite(ratePer(d, t, 1000)) });
   const periods = slabRows.map((r) => ({ period: r.period, ...row(r.n, r.x, r.t, defectsBy.get(r.period) ?? 0) }));
   const tot = slabRows.reduce((s, r) => ({ n: s.n + r.n, x: s.x + r.x, t: s.t + r.t }), { n: 0, x: 0, t: 0 });
-  const totalDefects = defectRows.reduce((s, r) => s + r.d, 0);
-  const paretoRows = sqlite
-    .prepare(
-      `select t.code, t.name, count(*) as defects, count(distinct d.slab_id) as slabs
-       from defects d join defect_types t on t.id = d.type_id join slab_conditions c on c.slab_id = d.slab_id
-       ${whereSql(scope, scope.defectWhere)} group by t.id order by defects desc, t.code`,
-    )
-    .all(scope.params) as { code: string; name: string; defects: number; slabs: number }[];
+  const totalDefects = [...defectsBy.values()].reduce((s, v) => s + v, 0);
+  const types = new Map((db.$client.prepare("select id, code, name from defect_types").all() as { id: number; code: string; name: string }[]).map((t) => [t.id, t]));
+  const paretoRows = [...byType.entries()]
+    .map(([id, t]) => ({ code: types.get(id)!.code, name: types.get(id)!.name, defects: t.defects, slabs: t.slabs.size }))
+    .sort((a, b) => b.defects - a.defects || a.code.localeCompare(b.code));
   const paretoTotal = paretoRows.reduce((s, r) => s + r.defects, 0);
   let cum = 0;
   const pareto = paretoRows.map((r) => {
     cum += r.defects;
     return { code: r.code, name: r.name, defects: r.defects, slabsAffected: r.slabs, share: r.defects / paretoTotal, cumulativeShare: cum / paretoTotal };
   });
-  const byGrade = (
-    sqlite
-      .prepare(
-        `with ${scope.aff}
-         select g.code as grade, f.code as family, count(*) as n, count(a.id) as x
-         from slab_conditions c left join aff a on a.id = c.slab_id join grades g on g.id = c.grade_id join grade_families f on f.id = c.family_id
-         ${whereSql(scope)} group by c.grade_id order by g.code`,
-      )
-      .all(scope.params) as { grade: string; family: string; n: number; x: number }[]
-  ).map((r) => ({ grade: r.grade, family: r.family, ...proportion(r.n, r.x) }));
-  const byStrand = (
-    sqlite
-      .prepare(
-        `with ${scope.aff}
-         select ca.code as caster, st.strand_no as strand, count(*) as n, count(a.id) as x
-         from slab_conditions c left join aff a on a.id = c.slab_id join strands st on st.id = c.strand_id join casters ca on ca.id = st.caster_id
-         ${whereSql(scope)} group by c.strand_id order by ca.code, st.strand_no`,
-      )
-      .all(scope.params) as { caster: string; strand: number; n: number; x: number }[]
-  ).map((r) => ({ caster: r.caster, strand: r.strand, ...proportion(r.n, r.x) }));
+  const countBy = (key: Int32Array) => {
+    const m = new Map<number, { n: number; x: number }>();
+    for (const i of sc.rows) {
+      let c = m.get(key[i]!);
+      if (!c) m.set(key[i]!, (c = { n: 0, x: 0 }));
+      c.n++;
+      c.x += sc.affected[i]!;
+    }
+    return m;
+  };
+  const gradeNames = new Map((db.$client.prepare("select g.id, g.code, f.code as family from grades g join grade_families f on f.id = g.family_id").all() as { id: number; code: string; family: string }[]).map((g) => [g.id, g]));
+  const byGrade = [...countBy(f.gradeId).entries()]
+    .map(([id, c]) => ({ grade: gradeNames.get(id)?.code ?? String(id), family: gradeNames.get(id)?.family ?? "", ...proportion(c.n, c.x) }))
+    .sort((a, b) => a.grade.localeCompare(b.grade));
+  const strandNames = new Map((db.$client.prepare("select s.id, s.strand_no, c.code from strands s join casters c on c.id = s.caster_id").all() as { id: number; strand_no: number; code: string }[]).map((x) => [x.id, x]));
+  const byStrand = [...countBy(f.strandId).entries()]
+    .map(([id, c]) => ({ caster: strandNames.get(id)?.code ?? "", strand: strandNames.get(id)?.strand_no ?? 0, ...proportion(c.n, c.x) }))
+    .sort((a, b) => a.caster.localeCompare(b.caster) || a.strand - b.strand);
   return { period: q.period, totals: row(tot.n, tot.x, tot.t, totalDefects), periods, pareto, byGrade, byStrand };
 }
 
 export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchema>): ProcessWindow {
   if (q.x === q.y) throw badRequest("Choose two different variables for the process window.", { field: "y" });
-  const scope = buildScope(db, q);
+  const sc = scan(db, buildScope(db, q));
   const sx = variableSpec(q.x);
   const sy = variableSpec(q.y);
   const edgesOf = (key: string, k: number) => {
-    const g = variableGroups(db, scope, key);
-    return q.binning === "quantile" ? quantileEdges(g, k) : equalWidthEdges(g, k);
+    const { groups } = variableGroups(sc, key);
+    return q.binning === "quantile" ? quantileEdges(groups, k) : equalWidthEdges(groups, k);
   };
   const ex = edgesOf(q.x, q.xBins);
   const ey = edgesOf(q.y, q.yBins);
-  const binExpr = (key: string, edges: number[]) => {
-    // One bin (or a variable with a single value): every slab is in bin 0.
-    if (edges.length <= 2) return "0";
-    const inner = edges.slice(1, -1).map((e, i) => `when ${grouped(key)} < ${e} then ${i}`).join(" ");
-    return `case ${inner} else ${edges.length - 2} end`;
+  const bin = (v: number, edges: number[]) => {
+    if (edges.length <= 2) return 0;
+    let b = 0;
+    while (b < edges.length - 2 && v >= edges[b + 1]!) b++;
+    return b;
   };
-  const rows = db.$client
-    .prepare(
-      `with ${scope.aff}
-       select ${binExpr(q.x, ex)} as xi, ${binExpr(q.y, ey)} as yi, count(*) as n, count(a.id) as x
-       from slab_conditions c left join aff a on a.id = c.slab_id
-       ${whereSql(scope, [`${column(q.x)} is not null`, `${column(q.y)} is not null`])}
-       group by xi, yi`,
-    )
-    .all(scope.params) as { xi: number; yi: number; n: number; x: number }[];
-  const found = new Map(rows.map((r) => [`${r.xi}:${r.yi}`, r]));
+  const nx = Math.max(1, ex.length - 1);
+  const ny = Math.max(1, ey.length - 1);
+  const n = new Int32Array(nx * ny);
+  const x = new Int32Array(nx * ny);
+  const cx = sc.facts.vars[sx.key]!;
+  const cy = sc.facts.vars[sy.key]!;
+  const scaleX = 10 ** (sx.digits + 1);
+  const scaleY = 10 ** (sy.digits + 1);
+  let slabs = 0;
+  let affected = 0;
+  for (const i of sc.rows) {
+    const vx = cx[i]!;
+    const vy = cy[i]!;
+    if (vx !== vx || vy !== vy) continue;
+    const c = bin(Math.round(vx * scaleX) / scaleX, ex) * ny + bin(Math.round(vy * scaleY) / scaleY, ey);
+    n[c]!++;
+    x[c]! += sc.affected[i]!;
+    slabs++;
+    affected += sc.affected[i]!;
+  }
   const cells: ProcessWindow["cells"] = [];
-  for (let xi = 0; xi < Math.max(1, ex.length - 1); xi++) {
-    for (let yi = 0; yi < Math.max(1, ey.length - 1); yi++) {
-      const r = found.get(`${xi}:${yi}`);
-      const n = r?.n ?? 0;
+  for (let xi = 0; xi < nx; xi++) {
+    for (let yi = 0; yi < ny; yi++) {
+      const c = xi * ny + yi;
       cells.push({
         xi, yi, xLower: ex[xi] ?? NaN, xUpper: ex[xi + 1] ?? ex[xi] ?? NaN, yLower: ey[yi] ?? NaN, yUpper: ey[yi + 1] ?? ey[yi] ?? NaN,
-        ...proportion(n, r?.x ?? 0), sparse: n < q.minN,
+        ...proportion(n[c]!, x[c]!), sparse: n[c]! < q.minN,
       });
     }
   }
-  return {
-    x: { key: sx.key, label: sx.label, unit: sx.unit, edges: ex },
-    y: { key: sy.key, label: sy.label, unit: sy.unit, edges: ey },
-    minN: q.minN,
-    slabs: rows.reduce((s, r) => s + r.n, 0),
-    affected: rows.reduce((s, r) => s + r.x, 0),
-    cells,
-  };
+  return { x: { key: sx.key, label: sx.label, unit: sx.unit, edges: ex }, y: { key: sy.key, label: sy.label, unit: sy.unit, edges: ey }, minN: q.minN, slabs, affected, cells };
 }
 
 export function beforeAfter(db: Db, q: z.output<typeof beforeAfterQuerySchema>): BeforeAfter {
-  const count = (extra: string[], params: Record<string, unknown>, scope: Scope) => {
-    const r = db.$client
-      .prepare(`with ${scope.aff} select count(*) as n, count(a.id) as x from slab_conditions c left join aff a on a.id = c.slab_id ${whereSql(scope, extra)}`)
-      .get({ ...scope.params, ...params }) as { n: number; x: number };
-    return r;
+  const countIn = (sc: Scanned, keep?: (i: number) => boolean) => {
+    let n = 0;
+    let x = 0;
+    for (const i of sc.rows) {
+      if (keep && !keep(i)) continue;
+      n++;
+      x += sc.affected[i]!;
+    }
+    return { n, x };
   };
   let a: { n: number; x: number };
   let b: { n: number; x: number };
@@ -485,19 +544,20 @@ export function beforeAfter(db: Db, q: z.output<typeof beforeAfterQuerySchema>):
       return v;
     };
     const scope = buildScope(db, q, { skipDates: true });
-    const range = (from: string, to: string) => ({ from: parseDateBound(from, false, "from")!, to: parseDateBound(to, true, "to")! });
-    const ra = range(need(q.aFrom, "aFrom"), need(q.aTo, "aTo"));
-    const rb = range(need(q.bFrom, "bFrom"), need(q.bTo, "bTo"));
-    a = count(["c.cast_at >= @ra0", "c.cast_at <= @ra1"], { ra0: ra.from, ra1: ra.to }, scope);
-    b = count(["c.cast_at >= @rb0", "c.cast_at <= @rb1"], { rb0: rb.from, rb1: rb.to }, scope);
+    const aFrom = parseDateBound(need(q.aFrom, "aFrom"), false, "aFrom")!;
+    const aTo = parseDateBound(need(q.aTo, "aTo"), true, "aTo")!;
+    const bFrom = parseDateBound(need(q.bFrom, "bFrom"), false, "bFrom")!;
+    const bTo = parseDateBound(need(q.bTo, "bTo"), true, "bTo")!;
+    a = countIn(scan(db, scope, { from: aFrom, to: aTo }));
+    b = countIn(scan(db, scope, { from: bFrom, to: bTo }));
     labels = [`${q.aFrom} – ${q.aTo}`, `${q.bFrom} – ${q.bTo}`];
   } else {
     if (!q.variable) throw badRequest("Give the variable whose two ranges are compared.", { field: "variable" });
     for (const f of ["aMin", "aMax", "bMin", "bMax"] as const) if (q[f] === undefined) throw badRequest(`Give ${f} for the range comparison.`, { field: f });
-    const scope = buildScope(db, q);
-    const col = column(q.variable);
-    a = count([`${col} >= @amin`, `${col} <= @amax`], { amin: q.aMin, amax: q.aMax }, scope);
-    b = count([`${col} >= @bmin`, `${col} <= @bmax`], { bmin: q.bMin, bmax: q.bMax }, scope);
+    const sc = scan(db, buildScope(db, q));
+    const col = sc.facts.vars[variableSpec(q.variable).key]!;
+    a = countIn(sc, (i) => col[i]! >= q.aMin! && col[i]! <= q.aMax!);
+    b = countIn(sc, (i) => col[i]! >= q.bMin! && col[i]! <= q.bMax!);
     const s = variableSpec(q.variable);
     labels = [`${s.label} ${q.aMin}–${q.aMax} ${s.unit}`, `${s.label} ${q.bMin}–${q.bMax} ${s.unit}`];
   }

@@ -6,6 +6,7 @@ import { conflict, notFound, badRequest } from "../lib/http-error";
 import { liquidusC } from "../metallurgy/liquidus";
 import { recordAudit } from "./audit.service";
 import { createResolver } from "./conditions.service";
+import { slabFactsChanged } from "./report-cache";
 import { getPlantSettings, writePlantSettings } from "./settings.service";
 
 const PCT = ["c", "si", "mn", "p", "s", "al", "cu", "ni", "cr", "mo", "ti", "nb", "v"] as const;
@@ -161,7 +162,10 @@ export function updateGrade(db: Db, code: string, input: z.infer<typeof gradeUpd
       .run(input.name ?? before.name, fam, input.active === undefined ? before.active : input.active ? 1 : 0, Date.now(), before.id);
     const after = sqlite.prepare("select g.*, f.code as familyCode from grades g join grade_families f on f.id = g.family_id where g.id = ?").get(before.id) as Record<string, any>;
     // The reports read the family from slab_conditions.
-    if (after.family_id !== before.family_id) sqlite.prepare("update slab_conditions set family_id = ? where grade_id = ?").run(after.family_id, before.id);
+    if (after.family_id !== before.family_id) {
+      sqlite.prepare("update slab_conditions set family_id = ? where grade_id = ?").run(after.family_id, before.id);
+      slabFactsChanged(db);
+    }
     recordAudit(tx, { userId, action: "grade.update", entity: "grade", entityId: before.id, before, after });
     return { id: after.id, code: after.code, name: after.name, familyCode: after.familyCode, active: Boolean(after.active) };
   });

@@ -180,6 +180,35 @@ describe("reports on a plant built by hand", () => {
   });
 });
 
+describe("report cache freshness", () => {
+  it("when a slab's conditions are recomputed, then the next report sees the new value (no stale cache)", async () => {
+    const before = await get("/api/reports/rate-by-variable?defectType=SLG&variable=casting_speed_m_min&bins=2&minN=1");
+    expect(before.distribution.affected.max).toBe(2.1);
+    const c = t.db.$client;
+    const id = c.prepare("select id from slabs where slab_id = 'HAND-12'").pluck().get() as number;
+    c.prepare("update slabs set casting_speed_m_min = 2.4 where id = ?").run(id);
+    createResolver(t.db).resolve([id]);
+    const after = await get("/api/reports/rate-by-variable?defectType=SLG&variable=casting_speed_m_min&bins=2&minN=1");
+    expect(after.distribution.affected.max).toBe(2.4);
+    // A slab added later is appended to the cache.
+    const heat = c.prepare("select heat_id, strand_id from slabs where id = ?").get(id) as { heat_id: number; strand_id: number };
+    const added = Number(
+      c.prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at, casting_speed_m_min) values ('HAND-13', ?, ?, 7, 10000, 1500, 230, 26.91, ?, 0.9)")
+        .run(heat.heat_id, heat.strand_id, DAY2 + 7 * 600_000).lastInsertRowid,
+    );
+    createResolver(t.db).resolve([added]);
+    const more = await get("/api/reports/rate-by-variable?defectType=SLG&variable=casting_speed_m_min&bins=2&minN=1");
+    expect(more.slabs).toBe(13);
+    expect(more.distribution.sound.min).toBe(0.9);
+    // Put the plant back as it was for the other tests.
+    c.prepare("update slabs set casting_speed_m_min = 2.1 where id = ?").run(id);
+    c.prepare("delete from slab_conditions where slab_id = ?").run(added);
+    c.prepare("delete from slabs where id = ?").run(added);
+    createResolver(t.db).resolveAll();
+    expect((await get("/api/reports/rate-by-variable?defectType=SLG&variable=casting_speed_m_min&bins=2&minN=1")).slabs).toBe(12);
+  });
+});
+
 describe("Excel export", () => {
   const binary = (res: request.Response, cb: (err: Error | null, body: Buffer) => void) => {
     const chunks: Buffer[] = [];
