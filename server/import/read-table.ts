@@ -59,7 +59,44 @@ function toCell(v: unknown): Cell {
   return String(v);
 }
 
+/** Collects the first sheet's rows: row 1 is the header, blank rows are skipped. */
+class SheetRows {
+  headers: string[] | null = null;
+  rows: Table["rows"] = [];
+  add(rowNo: number, values: unknown[]) {
+    const cells: Cell[] = [];
+    for (let i = 1; i < values.length; i++) cells.push(toCell(values[i]));
+    if (this.headers === null) {
+      this.headers = cells.map((c) => (c === null ? "" : String(c instanceof Date ? c.toISOString() : c)));
+      if (rowNo !== 1) throw new HttpError(400, "bad_header", `The header must be on row 1 of the first sheet (found on row ${rowNo}).`);
+      return;
+    }
+    if (cells.every((c) => c === null || (typeof c === "string" && c.trim() === ""))) return;
+    this.rows.push({ rowNo, cells });
+  }
+  table(sheetSeen: boolean): Table {
+    if (!sheetSeen || this.headers === null) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
+    if (this.rows.length === 0) throw new HttpError(400, "empty_file", "The workbook has a header but no data rows.");
+    return { format: "xlsx", headers: this.headers, rows: this.rows, decimalComma: false };
+  }
+}
+
+const unreadable = () => unsupported("The workbook could not be read; it may be damaged or protected. Save it again as .xlsx and retry.");
+
 async function readXlsx(buffer: Buffer): Promise<Table> {
+  try {
+    return await readXlsxStreaming(buffer);
+  } catch (err) {
+    if (err instanceof HttpError) throw err;
+    // exceljs's streaming reader unzips with `unzipper`, which now and then fails on a sound file
+    // when the machine is busy (seen under parallel load: the same bytes read fine a moment later).
+    // Before calling a file damaged, read it whole with the standard reader (JSZip); only a file
+    // that both refuse is refused.
+    return readXlsxWhole(buffer);
+  }
+}
+
+export async function readXlsxStreaming(buffer: Buffer): Promise<Table> {
   const reader = new ExcelJS.stream.xlsx.WorkbookReader(Readable.from(buffer), {
     sharedStrings: "cache",
     hyperlinks: "ignore",
@@ -68,38 +105,34 @@ async function readXlsx(buffer: Buffer): Promise<Table> {
     styles: "cache",
     entries: "ignore",
   });
-  let headers: string[] | null = null;
-  const rows: Table["rows"] = [];
+  const out = new SheetRows();
   let sheetSeen = false;
-  try {
-    for await (const sheet of reader) {
-      if (sheetSeen) {
-        // Only the first sheet holds data (a template's second sheet describes the columns); drain the rest.
-        for await (const _row of sheet) void _row;
-        continue;
-      }
-      sheetSeen = true;
-      for await (const row of sheet) {
-        const values = (row as unknown as { values: unknown[] }).values;
-        const cells: Cell[] = [];
-        for (let i = 1; i < values.length; i++) cells.push(toCell(values[i]));
-        const rowNo = (row as unknown as { number: number }).number;
-        if (headers === null) {
-          headers = cells.map((c) => (c === null ? "" : String(c instanceof Date ? c.toISOString() : c)));
-          if (rowNo !== 1) throw new HttpError(400, "bad_header", `The header must be on row 1 of the first sheet (found on row ${rowNo}).`);
-          continue;
-        }
-        if (cells.every((c) => c === null || (typeof c === "string" && c.trim() === ""))) continue;
-        rows.push({ rowNo, cells });
-      }
+  for await (const sheet of reader) {
+    if (sheetSeen) {
+      // Only the first sheet holds data (a template's second sheet describes the columns); drain the rest.
+      for await (const _row of sheet) void _row;
+      continue;
     }
-  } catch (err) {
-    if (err instanceof HttpError) throw err;
-    throw unsupported("The workbook could not be read; it may be damaged or protected. Save it again as .xlsx and retry.");
+    sheetSeen = true;
+    for await (const row of sheet) {
+      const r = row as unknown as { values: unknown[]; number: number };
+      out.add(r.number, r.values);
+    }
   }
-  if (!sheetSeen || headers === null) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
-  if (rows.length === 0) throw new HttpError(400, "empty_file", "The workbook has a header but no data rows.");
-  return { format: "xlsx", headers, rows, decimalComma: false };
+  return out.table(sheetSeen);
+}
+
+export async function readXlsxWhole(buffer: Buffer): Promise<Table> {
+  const wb = new ExcelJS.Workbook();
+  try {
+    await wb.xlsx.load(buffer as unknown as ArrayBuffer);
+  } catch {
+    throw unreadable();
+  }
+  const sheet = wb.worksheets[0];
+  const out = new SheetRows();
+  sheet?.eachRow({ includeEmpty: false }, (row, rowNo) => out.add(rowNo, row.values as unknown[]));
+  return out.table(sheet !== undefined);
 }
 
 function decodeText(buffer: Buffer): string {

@@ -21,6 +21,7 @@ export const NAV_ITEMS: NavItem[] = [
   { to: "/process", label: "Process", capability: "setup.manage" },
   { to: "/claims", label: "Claims", capability: "claims.manage" },
   { to: "/heats", label: "Heats", capability: "heats.browse", subPathsOpen: true },
+  { to: "/reports", label: "Reports", capability: "reports.read" },
   { to: "/import", label: "Import", capability: "imports.run" },
   { to: "/setup", label: "Plant setup", capability: "setup.manage" },
   { to: "/admin/users", label: "Users", capability: "users.manage" },

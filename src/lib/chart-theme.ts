@@ -38,7 +38,22 @@ echarts.registerTheme(CHART_THEME, {
   valueAxis: axis,
   categoryAxis: { ...axis, splitLine: { show: false } },
   line: { symbol: "none", lineStyle: { width: 2 }, emphasis: { lineStyle: { width: 3 } } },
+  bar: { itemStyle: { borderRadius: 0 } },
+  scatter: { symbolSize: 6 },
+  boxplot: { itemStyle: { color: "#ffffff", borderColor: ink[700], borderWidth: 1.6 } },
+  visualMap: { textStyle: { fontFamily: font, color: ink[700], fontSize: 12 } },
   dataZoom: { textStyle: { fontFamily: font, color: ink[600] }, borderColor: ink[300], fillerColor: "rgba(11,93,107,0.12)", handleColor: "#0b5d6b" },
 });
+
+/** Rates on a heatmap: light paper to deep ember (more affected slabs = darker). */
+export const RATE_RAMP = ["#fbf7f2", "#f6d3b5", "#e58b4e", "#c2410c", "#7c2a0b"];
+/** Counts of defect positions on the slab: light steel to deep strand teal. */
+export const COUNT_RAMP = ["#f4f6f7", "#d7eef1", "#6fc0cc", "#0f7282", "#074450"];
+/** A cell or bar with too few slabs to read: grey, hatched, and labelled as such. */
+export const SPARSE_FILL = "#e8ecef";
+export const SPARSE_TEXT = ink[700];
+export const SPARSE_DECAL = { symbol: "rect", symbolSize: 1, dashArrayX: [1, 0], dashArrayY: [2, 4], rotation: Math.PI / 4, color: "rgba(75,93,109,0.22)" };
+export const INK = ink;
+export const FONT = font;
 
 export { echarts };

@@ -199,7 +199,7 @@ describe("slab-yard logging at tablet size", () => {
         scripts.files.map((f) => `  ${(f.gzip / 1024).toFixed(1).padStart(6)} kB ${f.url.replace(/.*\/assets\//, "")}`).join("\n"),
     );
     expect(scripts.files.length).toBeGreaterThan(3);
-    expect(scripts.files.some((f) => /samples-chart|echarts/.test(f.url))).toBe(false);
+    expect(scripts.files.some((f) => /chart|echarts/.test(f.url))).toBe(false);
     expect(scripts.total).toBeLessThan(200 * 1024);
     expect(errors).toEqual([]);
     await context.close();

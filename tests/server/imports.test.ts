@@ -4,6 +4,7 @@ import sharp from "sharp";
 import type request from "supertest";
 import { createTestApp, type TestApp } from "../helpers/test-app";
 import { csv, xlsx, type Row } from "../helpers/workbooks";
+import { readXlsxStreaming, readXlsxWhole } from "../../server/import/read-table";
 
 let t: TestApp;
 let process_: request.Agent;
@@ -47,7 +48,7 @@ describe("heats import", () => {
   it("when a good workbook is imported, then the heats are written with computed liquidus, superheat and sequence positions", async () => {
     const rows = [0, 1, 2].map((i) => heat(i));
     const res = await upload("heats", await xlsx(HEAT_HEADERS, rows), "heats.xlsx");
-    expect(res.status).toBe(201);
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
     expect(res.body).toMatchObject({ valid: true, rows: 3, counts: { created: 3, updated: 0, unchanged: 0 }, errorCount: 0 });
     const h = q("select * from heats where heat_no = 'IMP00001'")!;
     // Won & Thomas 2001 (Metall. Mater. Trans. A 32A:1755): 1536 − (9.36 + 1.52 + 4.41 + 0.516 + 0.304) = 1519.89 °C
@@ -144,6 +145,19 @@ describe("heats import", () => {
     const res = await upload("heats", await xlsx(HEAT_HEADERS, rows), "formulas.xlsx");
     expect(res.status).toBe(201);
     expect(q("select casting_speed_m_min, c_pct from heats where heat_no = 'IMP00060'")).toEqual({ casting_speed_m_min: 1.4, c_pct: 0.12 });
+  });
+
+  it("when the streaming reader gives up, then the whole-workbook reader reads the same cells (dates, formulas, blanks)", async () => {
+    // The fallback must not change what an import sees: both exceljs readers on one file.
+    const rows = [heat(70), heat(71, { casting_speed_m_min: { formula: "0.7*2", result: 1.4 }, sen_depth_mm: null }), heat(72)];
+    const buf = await xlsx(HEAT_HEADERS, rows, ["Notes"]);
+    const streamed = await readXlsxStreaming(buf);
+    const whole = await readXlsxWhole(buf);
+    expect(whole).toEqual(streamed);
+    expect(whole.rows).toHaveLength(3);
+    expect(whole.rows[1]!.cells[HEAT_HEADERS.indexOf("casting_speed_m_min")]).toBe(1.4);
+    expect(whole.rows[1]!.cells[HEAT_HEADERS.indexOf("sen_depth_mm")]).toBeNull();
+    expect(whole.rows[0]!.cells[HEAT_HEADERS.indexOf("cast_start")]).toEqual(new Date(Date.UTC(2026, 11, 1, 0, 0) + 70 * 40 * 60_000));
   });
 
   it("when a formula has no stored value, then the row says to let Excel calculate it", async () => {

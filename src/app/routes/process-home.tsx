@@ -26,6 +26,9 @@ export function Component() {
             <Link to="/import" className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800">
               Import heats, slabs or samples
             </Link>
+            <Link to="/reports" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50" data-testid="process-reports-link">
+              Reports
+            </Link>
             <Link to="/setup" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
               Change the setup
             </Link>

@@ -37,6 +37,10 @@ export function Component() {
             {waiting === undefined ? "New entries from the yard, oldest first." : waiting ? `${plural(waiting, "entry", "entries")} from the yard ${waiting === 1 ? "awaits" : "await"} review.` : "Nothing awaits review."}
           </span>
         </Link>
+        <Link to="/reports" className={`${tile} border-ink-300 bg-white`} data-testid="quality-reports-link">
+          <span className="text-lg font-bold text-ink-900">Reports</span>
+          <span className="text-sm text-ink-700">Defect rates with their intervals, associations with casting conditions, p-charts, exports to Excel.</span>
+        </Link>
         {me.data && can(me.data.roles, "catalogue.manage") ? (
           <Link to="/quality/catalogue" className={`${tile} border-ink-300 bg-white`}>
             <span className="text-lg font-bold text-ink-900">Defect catalogue</span>

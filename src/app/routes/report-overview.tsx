@@ -1,0 +1,34 @@
+import { OverviewView } from "@/features/reports/components/overview-view";
+import { describeFilters } from "@/features/reports/components/report-params";
+import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
+import { PeriodChoice, SettingsRow } from "@/features/reports/components/settings";
+import { makeReportLoader, useReportScreen } from "../report-frame";
+import { RouteError } from "./route-error";
+
+const KIND = "overview" as const;
+
+export const makeLoader = makeReportLoader(KIND);
+
+export function Component() {
+  const { params, query, update, choices, report } = useReportScreen(KIND);
+  return (
+    <ReportPage
+      kind={KIND}
+      params={params}
+      query={query}
+      choices={choices}
+      onChange={update}
+      suggestedName={`Overview by ${params.period} — ${describeFilters(params)}`}
+      canExport={report.isSuccess}
+      settings={
+        <SettingsRow>
+          <PeriodChoice label="Rates by" value={params.period!} months={true} onChange={(v) => update({ period: v })} />
+        </SettingsRow>
+      }
+    >
+      <ReportResult query={report}>{(data) => <OverviewView data={data} />}</ReportResult>
+    </ReportPage>
+  );
+}
+
+export const ErrorBoundary = RouteError;

@@ -1,0 +1,59 @@
+import { ProcessWindowView } from "@/features/reports/components/process-window-view";
+import { describeFilters } from "@/features/reports/components/report-params";
+import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
+import { Choice, MIN_N_OPTIONS, numberOptions, SettingsRow, VariableSelect, variableOf } from "@/features/reports/components/settings";
+import { makeReportLoader, useReportScreen } from "../report-frame";
+import { RouteError } from "./route-error";
+
+const KIND = "process-window" as const;
+
+export const makeLoader = makeReportLoader(KIND, (p) => p.x !== p.y);
+
+export function Component() {
+  const { params, query, update, choices, report } = useReportScreen(KIND, (p) => p.x !== p.y);
+  const same = params.x === params.y;
+  const x = variableOf(params.x);
+  const y = variableOf(params.y);
+  const bins = numberOptions([3, 4, 5, 6, 8, 10]);
+  return (
+    <ReportPage
+      kind={KIND}
+      params={params}
+      query={query}
+      choices={choices}
+      onChange={update}
+      suggestedName={`${x?.label ?? params.x} × ${y?.label ?? params.y} — ${describeFilters(params)}`}
+      canExport={report.isSuccess && !same}
+      settings={
+        <SettingsRow>
+          <div className="col-span-2">
+            <VariableSelect label="Across (x)" value={params.x!} onChange={(v) => update({ x: v })} />
+          </div>
+          <div className="col-span-2">
+            <VariableSelect label="Up (y)" value={params.y!} onChange={(v) => update({ y: v })} />
+          </div>
+          <Choice label="Bins across" value={params.xBins!} options={bins} onChange={(v) => update({ xBins: v })} />
+          <Choice label="Bins up" value={params.yBins!} options={bins} onChange={(v) => update({ yBins: v })} />
+          <Choice
+            label="Binning"
+            value={params.binning!}
+            options={[
+              { value: "quantile", label: "Equal counts (quantiles)" },
+              { value: "equal", label: "Equal width" },
+            ]}
+            onChange={(v) => update({ binning: v })}
+          />
+          <Choice label="Grey cells below" value={params.minN!} options={MIN_N_OPTIONS} onChange={(v) => update({ minN: v })} />
+        </SettingsRow>
+      }
+    >
+      {same ? (
+        <p className="rounded-md border border-ink-300 bg-white px-4 py-3 text-sm">Choose two different variables for the grid.</p>
+      ) : (
+        <ReportResult query={report}>{(data) => <ProcessWindowView data={data} xDigits={x?.digits ?? 2} yDigits={y?.digits ?? 2} />}</ReportResult>
+      )}
+    </ReportPage>
+  );
+}
+
+export const ErrorBoundary = RouteError;

@@ -1,0 +1,34 @@
+import { describeFilters, FILTER_KEYS, reportPath, reportQueryString, readReportParams } from "@/features/reports/components/report-params";
+import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
+import { ScreeningView } from "@/features/reports/components/screening-view";
+import { makeReportLoader, useReportScreen } from "../report-frame";
+import { RouteError } from "./route-error";
+
+const KIND = "screening" as const;
+
+export const makeLoader = makeReportLoader(KIND);
+
+export function Component() {
+  const { params, query, update, choices, report } = useReportScreen(KIND);
+  // A numeric variable opens in rate-against-a-variable with the same filters.
+  const linkFor = (key: string) => {
+    const filters = Object.fromEntries(FILTER_KEYS.filter((k) => params[k]).map((k) => [k, params[k]!]));
+    const next = readReportParams("rate-by-variable", new URLSearchParams({ ...filters, variable: key }));
+    return reportPath("rate-by-variable", reportQueryString("rate-by-variable", next));
+  };
+  return (
+    <ReportPage
+      kind={KIND}
+      params={params}
+      query={query}
+      choices={choices}
+      onChange={update}
+      suggestedName={`Screening — ${describeFilters(params)}`}
+      canExport={report.isSuccess}
+    >
+      <ReportResult query={report}>{(data) => <ScreeningView data={data} linkFor={linkFor} />}</ReportResult>
+    </ReportPage>
+  );
+}
+
+export const ErrorBoundary = RouteError;

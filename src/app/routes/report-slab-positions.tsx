@@ -1,0 +1,35 @@
+import { describeFilters } from "@/features/reports/components/report-params";
+import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
+import { Choice, numberOptions, SettingsRow } from "@/features/reports/components/settings";
+import { SlabPositionsView } from "@/features/reports/components/slab-positions-view";
+import { makeReportLoader, useReportScreen } from "../report-frame";
+import { RouteError } from "./route-error";
+
+const KIND = "slab-positions" as const;
+
+export const makeLoader = makeReportLoader(KIND);
+
+export function Component() {
+  const { params, query, update, choices, report } = useReportScreen(KIND);
+  return (
+    <ReportPage
+      kind={KIND}
+      params={params}
+      query={query}
+      choices={choices}
+      onChange={update}
+      suggestedName={`Where on the slab — ${describeFilters(params)}`}
+      canExport={report.isSuccess}
+      settings={
+        <SettingsRow>
+          <Choice label="Bands along the length" value={params.alongBins!} options={numberOptions([5, 10, 20])} onChange={(v) => update({ alongBins: v })} />
+          <Choice label="Bands across the face" value={params.acrossBins!} options={numberOptions([3, 4, 5, 10])} onChange={(v) => update({ acrossBins: v })} />
+        </SettingsRow>
+      }
+    >
+      <ReportResult query={report}>{(data) => <SlabPositionsView data={data} />}</ReportResult>
+    </ReportPage>
+  );
+}
+
+export const ErrorBoundary = RouteError;

@@ -1,0 +1,49 @@
+import { INK, FONT } from "@/lib/chart-theme";
+
+/** Axis labels of a rate (0…1) as percentages. */
+export const pctAxis = (digits = 1) => (v: number) => `${(v * 100).toFixed(digits)} %`;
+
+type Api = {
+  value: (dim: number) => number;
+  coord: (v: number[]) => number[];
+  size?: (v: number[]) => number[];
+};
+
+/**
+ * A 95 % interval drawn as a whisker with caps, for a custom series whose data rows are
+ * [x, lower, upper] (x a value, or a category's index).
+ */
+export function whiskerSeries(name: string, data: (number | string)[][], opts: { color?: string; cap?: number; xAxisIndex?: number; yAxisIndex?: number } = {}) {
+  const stroke = opts.color ?? INK[900];
+  const cap = opts.cap ?? 6;
+  return {
+    type: "custom",
+    name,
+    xAxisIndex: opts.xAxisIndex ?? 0,
+    yAxisIndex: opts.yAxisIndex ?? 0,
+    z: 10,
+    silent: true,
+    itemStyle: { color: stroke },
+    encode: { x: 0, y: [1, 2] },
+    data,
+    renderItem: (_: unknown, api: Api) => {
+      const x = api.value(0);
+      const lo = api.coord([x, api.value(1)]);
+      const hi = api.coord([x, api.value(2)]);
+      const style = { stroke, lineWidth: 1.6 };
+      return {
+        type: "group",
+        children: [
+          { type: "line", shape: { x1: lo[0], y1: lo[1], x2: hi[0], y2: hi[1] }, style },
+          { type: "line", shape: { x1: lo[0]! - cap, y1: lo[1], x2: lo[0]! + cap, y2: lo[1] }, style },
+          { type: "line", shape: { x1: hi[0]! - cap, y1: hi[1], x2: hi[0]! + cap, y2: hi[1] }, style },
+        ],
+      };
+    },
+  };
+}
+
+export const tooltipBase = { confine: true, textStyle: { fontFamily: FONT, fontSize: 13 } };
+
+/** Escapes text placed into a tooltip's HTML. */
+export const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;" })[c]!);

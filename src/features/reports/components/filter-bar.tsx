@@ -1,0 +1,144 @@
+import { SEVERITIES, SEVERITY_LABELS, STAGES, STAGE_LABELS, type Severity, type Stage } from "@shared/domain";
+import { Button } from "@/components/ui/button";
+import { MultiPick } from "./multi-pick";
+import { anyFilter, FILTER_KEYS, joinList, listOf, type ReportParams } from "./report-params";
+
+/** What the filters offer, from the plant setup and the defect catalogue (the route gathers them). */
+export interface FilterChoices {
+  casters: { code: string; strands: number[] }[];
+  families: { code: string; name: string; grades: { code: string; name: string; active: boolean }[] }[];
+  categories: { code: string; name: string; types: { code: string; name: string; active: boolean }[] }[];
+}
+
+export const inputClass = "min-h-11 w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
+export const labelClass = "flex min-w-0 flex-col gap-1";
+export const labelText = "text-sm font-semibold text-ink-800";
+
+type Patch = Partial<Record<string, string | undefined>>;
+
+/**
+ * The filters every report shares. Each change goes straight to the address, so the screen, a
+ * shared link, a saved report and the Excel export all carry the same filters.
+ */
+export function FilterBar({ params, choices, onChange }: { params: ReportParams; choices: FilterChoices; onChange: (patch: Patch) => void }) {
+  const where = params.caster ? (params.strand ? `${params.caster}:${params.strand}` : params.caster) : params.strand ? `*:${params.strand}` : "";
+  return (
+    <form role="search" aria-label="Report filters" className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-8" onSubmit={(e) => e.preventDefault()}>
+      <label className={labelClass}>
+        <span className={labelText}>Cast from</span>
+        <input type="date" value={params.from ?? ""} max={params.to} onChange={(e) => onChange({ from: e.target.value || undefined })} className={inputClass} />
+      </label>
+      <label className={labelClass}>
+        <span className={labelText}>Cast to (whole day)</span>
+        <input type="date" value={params.to ?? ""} min={params.from} onChange={(e) => onChange({ to: e.target.value || undefined })} className={inputClass} />
+      </label>
+      <label className={labelClass}>
+        <span className={labelText}>Caster and strand</span>
+        <select
+          value={where}
+          className={inputClass}
+          onChange={(e) => {
+            const [caster, strand] = e.target.value.split(":");
+            onChange({ caster: caster && caster !== "*" ? caster : undefined, strand: strand || undefined });
+          }}
+        >
+          <option value="">Every strand</option>
+          {where.startsWith("*:") ? <option value={where}>Strand {params.strand} of every caster</option> : null}
+          {choices.casters.map((c) => (
+            <optgroup key={c.code} label={c.code}>
+              <option value={c.code}>{c.code}, every strand</option>
+              {c.strands.map((s) => (
+                <option key={s} value={`${c.code}:${s}`}>
+                  {c.code} strand {s}
+                </option>
+              ))}
+            </optgroup>
+          ))}
+        </select>
+      </label>
+      <div className="col-span-1">
+        <MultiPick
+          label="Grade or family"
+          allLabel="All grades"
+          groupNoun="family"
+          testId="filter-grade"
+          groups={choices.families.map((f) => ({
+            code: f.code,
+            label: f.name,
+            items: f.grades.map((g) => ({ code: g.code, label: g.name, note: g.active ? undefined : "retired" })),
+          }))}
+          value={{ groups: listOf(params.family), items: listOf(params.grade) }}
+          onChange={(v) => onChange({ family: joinList(v.groups), grade: joinList(v.items) })}
+        />
+      </div>
+      <div className="col-span-1">
+        <MultiPick
+          label="Defect type"
+          allLabel="Every defect type"
+          groupNoun="category"
+          testId="filter-defect-type"
+          groups={choices.categories.map((c) => ({
+            code: c.code,
+            label: c.name,
+            items: c.types.map((t) => ({ code: t.code, label: t.name, note: t.active ? undefined : "retired" })),
+          }))}
+          value={{ groups: listOf(params.category), items: listOf(params.defectType) }}
+          onChange={(v) => onChange({ category: joinList(v.groups), defectType: joinList(v.items) })}
+        />
+      </div>
+      <label className={labelClass}>
+        <span className={labelText}>Found at</span>
+        <select value={params.stage ?? ""} onChange={(e) => onChange({ stage: e.target.value || undefined })} className={inputClass}>
+          <option value="">Any stage</option>
+          {STAGES.map((s) => (
+            <option key={s} value={s}>
+              {STAGE_LABELS[s as Stage]}
+            </option>
+          ))}
+        </select>
+      </label>
+      <label className={labelClass}>
+        <span className={labelText}>Severity at least</span>
+        <select value={params.minSeverity ?? ""} onChange={(e) => onChange({ minSeverity: e.target.value || undefined })} className={inputClass}>
+          <option value="">Any severity</option>
+          {SEVERITIES.map((s) => (
+            <option key={s} value={String(s)}>
+              {s} — {SEVERITY_LABELS[s as Severity]}
+            </option>
+          ))}
+        </select>
+      </label>
+      <label className={labelClass}>
+        <span className={labelText}>Transition slabs</span>
+        <select value={params.transition ?? ""} onChange={(e) => onChange({ transition: e.target.value || undefined })} className={inputClass}>
+          <option value="">Included</option>
+          <option value="yes">Only transition slabs</option>
+          <option value="no">Left out</option>
+        </select>
+      </label>
+      <div className="col-span-2 flex flex-wrap items-center gap-3 md:col-span-4 xl:col-span-8">
+        {/* The cause taxonomy comes with the cause-tagging screens; a link that already carries a cause keeps it, visibly. */}
+        {params.cause ? (
+          <span className="inline-flex min-h-9 items-center gap-2 rounded-md border border-ink-300 bg-ink-50 px-3 text-sm" data-testid="filter-cause">
+            Cause tag <strong>{params.cause}</strong>
+            <button type="button" className="font-semibold text-strand-700 underline" onClick={() => onChange({ cause: undefined })}>
+              remove
+            </button>
+          </span>
+        ) : null}
+        <p className="text-xs text-ink-600">
+          Dates, strand, grade and transition choose the slabs; defect type, stage and severity decide which of their defects count. A slab
+          is <em>affected</em> when at least one live, unrejected defect passes.
+        </p>
+        <Button
+          variant="ghost"
+          className="ml-auto"
+          disabled={!anyFilter(params)}
+          onClick={() => onChange(Object.fromEntries(FILTER_KEYS.map((k) => [k, undefined])))}
+        >
+          Clear filters
+        </Button>
+      </div>
+    </form>
+  );
+}

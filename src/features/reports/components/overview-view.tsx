@@ -1,0 +1,148 @@
+import { lazy, Suspense } from "react";
+import type { Overview } from "@shared/api/reports";
+import { Card } from "@/components/ui/card";
+import { Figure } from "./figure";
+import { Spinner } from "@/components/ui/logo";
+import { num, pct, pctRange, plural } from "@/lib/format";
+import { FEW_SLABS, FewMark, SmallNWarning } from "./small-n";
+import { RateTable, TableWrap, td, tdNum, th, thNum } from "./tables";
+
+const CategoryRateChart = lazy(() => import("./charts/category-rate-chart"));
+const ParetoChart = lazy(() => import("./charts/pareto-chart"));
+
+const PERIOD_WORD = { day: "day", week: "week", month: "month" } as const;
+
+export function OverviewView({ data }: { data: Overview }) {
+  const t = data.totals;
+  const word = PERIOD_WORD[data.period];
+  const fewPeriods = data.periods.filter((p) => p.slabs < FEW_SLABS).length;
+  const fewGrades = data.byGrade.filter((g) => g.slabs < FEW_SLABS).length;
+  const warnings = [
+    t.slabs === 0 ? "No slab matches these filters." : "",
+    t.slabs > 0 && t.affected < 10 ? `Only ${plural(t.affected, "affected slab")} in these filters: every rate here has a wide interval.` : "",
+    fewPeriods ? `${plural(fewPeriods, word)} with fewer than ${FEW_SLABS} slabs (shown hollow and greyed).` : "",
+    fewGrades ? `${plural(fewGrades, "grade")} with fewer than ${FEW_SLABS} slabs (greyed).` : "",
+  ];
+  const paretoTotal = data.pareto.reduce((s, r) => s + r.defects, 0);
+  return (
+    <div className="space-y-5">
+      <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="overview-summary">
+        <Figure label="Slabs (n)" value={t.slabs.toLocaleString("en-GB")} note={`${num(t.tonnes, 0)} t cast`} />
+        <Figure label="Share affected" value={pct(t.rate)} note={`${t.affected.toLocaleString("en-GB")} of n = ${t.slabs.toLocaleString("en-GB")} · 95 % CI ${pctRange(t.ciLower, t.ciUpper)}`} />
+        <Figure label="Defects per 100 slabs" value={num(t.per100Slabs, 2)} note={`${t.defects.toLocaleString("en-GB")} defects on ${t.slabs.toLocaleString("en-GB")} slabs`} />
+        <Figure label="Defects per 1000 t" value={num(t.per1000t, 2)} note={`${t.defects.toLocaleString("en-GB")} defects on ${num(t.tonnes, 0)} t`} />
+      </div>
+      <SmallNWarning notes={warnings} />
+      <Card title={`Share of slabs affected by ${word}`}>
+        <Suspense fallback={<Spinner label="Loading the chart" />}>
+          <CategoryRateChart
+            rows={data.periods.map((p) => ({ ...p, label: p.period }))}
+            mode="points"
+            fewN={FEW_SLABS}
+            testId="period-chart"
+            label={`Share of slabs affected in ${plural(data.periods.length, word)}, with 95 % intervals`}
+            xName={word === "week" ? "ISO week of casting" : `${word[0]!.toUpperCase()}${word.slice(1)} of casting`}
+          />
+        </Suspense>
+        <div className="mt-3 max-h-96 overflow-y-auto">
+          <TableWrap>
+            <table className="w-full text-sm" data-testid="periods-table">
+              <thead className="sticky top-0 bg-white">
+                <tr className="border-b-2 border-ink-200">
+                  <th className={th}>{word === "week" ? "ISO week" : word === "day" ? "Day" : "Month"}</th>
+                  <th className={thNum}>Slabs (n)</th>
+                  <th className={thNum}>Affected</th>
+                  <th className={thNum}>Share affected</th>
+                  <th className={thNum}>95 % CI</th>
+                  <th className={thNum}>Defects</th>
+                  <th className={thNum}>per 100 slabs</th>
+                  <th className={thNum}>Tonnes</th>
+                  <th className={thNum}>per 1000 t</th>
+                </tr>
+              </thead>
+              <tbody>
+                {data.periods.map((p) => {
+                  const few = p.slabs < FEW_SLABS;
+                  return (
+                    <tr key={p.period} className={`border-b border-ink-100 ${few ? "bg-ink-50 text-ink-500" : ""}`} data-testid="period-row">
+                      <td className={`${td} whitespace-nowrap font-semibold`}>
+                        {p.period}
+                        {few ? <FewMark /> : null}
+                      </td>
+                      <td className={tdNum} data-field="slabs">{p.slabs.toLocaleString("en-GB")}</td>
+                      <td className={tdNum} data-field="affected">{p.affected.toLocaleString("en-GB")}</td>
+                      <td className={tdNum} data-field="rate">{pct(p.rate)}</td>
+                      <td className={tdNum}>{pctRange(p.ciLower, p.ciUpper)}</td>
+                      <td className={tdNum}>{p.defects.toLocaleString("en-GB")}</td>
+                      <td className={tdNum}>{num(p.per100Slabs, 2)}</td>
+                      <td className={tdNum}>{num(p.tonnes, 0)}</td>
+                      <td className={tdNum}>{num(p.per1000t, 2)}</td>
+                    </tr>
+                  );
+                })}
+              </tbody>
+            </table>
+          </TableWrap>
+        </div>
+      </Card>
+      <Card title={`Pareto of defect types (n = ${paretoTotal.toLocaleString("en-GB")} defects)`}>
+        {data.pareto.length === 0 ? (
+          <p className="text-sm text-ink-600">No defect passes these filters.</p>
+        ) : (
+          <>
+            <Suspense fallback={<Spinner label="Loading the chart" />}>
+              <ParetoChart pareto={data.pareto} />
+            </Suspense>
+            <TableWrap caption="Shares are of the defects that pass the filters; a slab with two defects of a type counts twice under Defects, once under Slabs affected.">
+              <table className="mt-3 w-full text-sm" data-testid="pareto-table">
+                <thead>
+                  <tr className="border-b-2 border-ink-200">
+                    <th className={th}>Type</th>
+                    <th className={thNum}>Defects</th>
+                    <th className={thNum}>Slabs affected</th>
+                    <th className={thNum}>Share</th>
+                    <th className={thNum}>Cumulative</th>
+                  </tr>
+                </thead>
+                <tbody>
+                  {data.pareto.map((r) => (
+                    <tr key={r.code} className="border-b border-ink-100" data-testid="pareto-row">
+                      <td className={td}>
+                        <span className="font-semibold">{r.code}</span> {r.name}
+                      </td>
+                      <td className={tdNum}>{r.defects.toLocaleString("en-GB")}</td>
+                      <td className={tdNum}>{r.slabsAffected.toLocaleString("en-GB")}</td>
+                      <td className={tdNum}>{pct(r.share, 1)}</td>
+                      <td className={tdNum}>{pct(r.cumulativeShare, 1)}</td>
+                    </tr>
+                  ))}
+                </tbody>
+              </table>
+            </TableWrap>
+          </>
+        )}
+      </Card>
+      <div className="grid gap-5 xl:grid-cols-2">
+        <Card title="Share affected by grade">
+          <Suspense fallback={<Spinner label="Loading the chart" />}>
+            <CategoryRateChart rows={data.byGrade.map((g) => ({ ...g, label: g.grade }))} fewN={FEW_SLABS} testId="grade-chart" label="Share of slabs affected by grade, with 95 % intervals" />
+          </Suspense>
+          <RateTable
+            rows={data.byGrade.map((g) => ({ ...g, key: g.grade, label: g.grade }))}
+            labelHeader="Grade"
+            fewN={FEW_SLABS}
+            testId="grade-table"
+            extra={[{ header: "Family", cell: (i) => data.byGrade[i]!.family }]}
+          />
+          <p className="mt-2 text-xs text-ink-600">Grades differ in chemistry and in how they are cast: a grade's rate mixes both.</p>
+        </Card>
+        <Card title="Share affected by strand">
+          <Suspense fallback={<Spinner label="Loading the chart" />}>
+            <CategoryRateChart rows={data.byStrand.map((s) => ({ ...s, label: `${s.caster} strand ${s.strand}` }))} fewN={FEW_SLABS} testId="strand-chart" label="Share of slabs affected by strand, with 95 % intervals" />
+          </Suspense>
+          <RateTable rows={data.byStrand.map((s) => ({ ...s, key: `${s.caster}-${s.strand}`, label: `${s.caster} strand ${s.strand}` }))} labelHeader="Strand" fewN={FEW_SLABS} testId="strand-table" />
+        </Card>
+      </div>
+    </div>
+  );
+}

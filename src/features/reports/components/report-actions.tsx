@@ -1,0 +1,101 @@
+import { useState } from "react";
+import { Link } from "react-router";
+import { Button } from "@/components/ui/button";
+import { Notice } from "@/components/ui/notice";
+import { ProgressBar } from "@/components/ui/progress";
+import { bytes } from "@/lib/format";
+import { useExportReport } from "../api/export.queries";
+import { useSaveReport } from "../api/saved-reports.queries";
+import type { ReportKind } from "./report-params";
+
+/** "Export to Excel": the workbook of the very query on screen, with its progress while it downloads. */
+export function ExportButton({ kind, query, disabled }: { kind: ReportKind; query: string; disabled?: boolean }) {
+  const exp = useExportReport(kind);
+  return (
+    <div className="flex min-w-52 flex-col gap-2">
+      <Button variant="secondary" onClick={() => exp.mutate(query)} disabled={disabled || exp.isPending} data-testid="export-excel">
+        <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden>
+          <path d="M8 2v8m-3.5-3.5L8 10l3.5-3.5M3 13h10" fill="none" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" strokeLinejoin="round" />
+        </svg>
+        {exp.isPending ? "Preparing the workbook…" : "Export to Excel"}
+      </Button>
+      {exp.progress ? (
+        <ProgressBar
+          label="Downloading"
+          value={exp.progress.fraction}
+          detail={exp.progress.loaded ? bytes(exp.progress.loaded) : "the server is building it"}
+        />
+      ) : null}
+      {exp.isError ? <Notice tone="error">{exp.error.message}</Notice> : null}
+      {exp.isSuccess ? (
+        <span className="text-xs text-ink-600" role="status">
+          Saved as {exp.data.name} ({bytes(exp.data.size)}).
+        </span>
+      ) : null}
+    </div>
+  );
+}
+
+/** "Save this report": its kind and query string under a name, listed on the reports home. */
+export function SaveReport({ kind, query, suggestedName }: { kind: ReportKind; query: string; suggestedName: string }) {
+  const [open, setOpen] = useState(false);
+  const [name, setName] = useState(suggestedName);
+  const save = useSaveReport();
+  if (!open) {
+    return (
+      <div className="flex flex-col gap-2">
+        <Button
+          variant="secondary"
+          onClick={() => {
+            setName(suggestedName);
+            save.reset();
+            setOpen(true);
+          }}
+        >
+          Save this report
+        </Button>
+        {save.isSuccess ? (
+          <span className="text-xs text-ink-600" role="status" data-testid="report-saved">
+            Saved as “{save.data.name}” —{" "}
+            <Link to="/reports" className="font-semibold text-strand-700 underline">
+              see your saved reports
+            </Link>
+          </span>
+        ) : null}
+      </div>
+    );
+  }
+  return (
+    <form
+      className="flex flex-wrap items-end gap-2"
+      aria-label="Save this report"
+      onSubmit={(e) => {
+        e.preventDefault();
+        save.mutate({ name: name.trim(), reportKind: kind, query }, { onSuccess: () => setOpen(false) });
+      }}
+    >
+      <label className="flex flex-col gap-1">
+        <span className="text-sm font-semibold text-ink-800">Name of the saved report</span>
+        <input
+          value={name}
+          onChange={(e) => setName(e.target.value)}
+          maxLength={120}
+          required
+          autoFocus
+          className="min-h-11 w-72 max-w-full rounded-md border border-ink-300 bg-white px-3 text-ink-900"
+        />
+      </label>
+      <Button type="submit" disabled={save.isPending || !name.trim()}>
+        {save.isPending ? "Saving…" : "Save"}
+      </Button>
+      <Button variant="ghost" onClick={() => setOpen(false)}>
+        Cancel
+      </Button>
+      {save.isError ? (
+        <div className="w-full">
+          <Notice tone="error">{save.error.message}</Notice>
+        </div>
+      ) : null}
+    </form>
+  );
+}

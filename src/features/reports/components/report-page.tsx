@@ -1,0 +1,97 @@
+import type { ReactNode } from "react";
+import type { UseQueryResult } from "@tanstack/react-query";
+import { Link } from "react-router";
+import { Card, PageHeader } from "@/components/ui/card";
+import { Spinner } from "@/components/ui/logo";
+import { Notice } from "@/components/ui/notice";
+import { ExportButton, SaveReport } from "./report-actions";
+import { ReportCautions } from "./report-cautions";
+import { FilterBar, type FilterChoices } from "./filter-bar";
+import { reportSpec, type ReportKind, type ReportParams } from "./report-params";
+
+/**
+ * The frame of every report screen: title, save and export, the cautions, the shared filters and
+ * the report's own settings, then its figures, charts and tables.
+ */
+export function ReportPage({
+  kind,
+  params,
+  query,
+  choices,
+  onChange,
+  suggestedName,
+  settings,
+  canExport = true,
+  children,
+}: {
+  kind: ReportKind;
+  params: ReportParams;
+  query: string;
+  choices: FilterChoices;
+  onChange: (patch: Partial<Record<string, string | undefined>>) => void;
+  suggestedName: string;
+  /** The report's own settings (variable, bins, period…). */
+  settings?: ReactNode;
+  canExport?: boolean;
+  children: ReactNode;
+}) {
+  const spec = reportSpec(kind);
+  return (
+    <div className="space-y-5" data-report={kind}>
+      <div>
+        <Link to="/reports" className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+          All reports
+        </Link>
+      </div>
+      <PageHeader
+        title={spec.title}
+        subtitle={spec.summary}
+        actions={
+          <div className="flex flex-wrap items-start gap-2">
+            <SaveReport kind={kind} query={query} suggestedName={suggestedName} />
+            <ExportButton kind={kind} query={query} disabled={!canExport} />
+          </div>
+        }
+      />
+      <ReportCautions />
+      <Card>
+        <FilterBar params={params} choices={choices} onChange={onChange} />
+        {settings ? (
+          <div className="mt-4 border-t border-ink-100 pt-4" aria-label="Settings of this report" role="group">
+            {settings}
+          </div>
+        ) : null}
+      </Card>
+      {children}
+    </div>
+  );
+}
+
+/** A chart or table is waiting for its answer, or the answer is stale while a new one comes. */
+export function Updating({ on }: { on: boolean }) {
+  return on ? (
+    <span role="status" className="text-xs font-semibold text-ink-600">
+      Updating…
+    </span>
+  ) : null;
+}
+
+/** The report's answer: a spinner while it is computed, the server's message if it refuses, else the figures. */
+export function ReportResult<T>({ query, children }: { query: UseQueryResult<T>; children: (data: T) => ReactNode }) {
+  return (
+    <>
+      <div className="-mt-3 flex min-h-4 justify-end">
+        <Updating on={query.isFetching && !query.isPending} />
+      </div>
+      {query.isPending ? (
+        <Card>
+          <Spinner label="Computing the report" />
+        </Card>
+      ) : query.isError ? (
+        <Notice tone="error">{query.error.message}</Notice>
+      ) : (
+        children(query.data)
+      )}
+    </>
+  );
+}

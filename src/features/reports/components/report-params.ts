@@ -1,0 +1,146 @@
+import { REPORT_KINDS } from "@shared/api/reports";
+import { VARIABLES } from "@shared/variables";
+
+export type ReportKind = (typeof REPORT_KINDS)[number];
+
+/**
+ * A report's parameters as they travel in the address. The screen's query string is the API's
+ * query string, and the one saved with a report: a shared link, a saved report, the screen and its
+ * Excel export all ask the server the same question.
+ *
+ * Values are strings; lists are comma-joined, as the API reads them (`grade=LV-ST32,LV-ST36`).
+ */
+export type ReportParams = Record<string, string>;
+
+/** The filters every report takes (shared/api/reports.ts, reportFiltersSchema), in the order they are written. */
+export const FILTER_KEYS = ["from", "to", "caster", "strand", "grade", "family", "defectType", "category", "stage", "minSeverity", "cause", "transition"] as const;
+export type FilterKey = (typeof FILTER_KEYS)[number];
+
+export interface ReportSpec {
+  kind: ReportKind;
+  title: string;
+  /** One line on the reports home and under the title. */
+  summary: string;
+  /** The report's own parameters with the value used when the address leaves them out. */
+  defaults: ReportParams;
+  /** Parameters of its own that have no default (e.g. the two periods of a comparison). */
+  optional?: string[];
+}
+
+export const REPORTS: ReportSpec[] = [
+  {
+    kind: "overview",
+    title: "Overview",
+    summary: "Share of slabs affected by period with its interval, defects per 100 slabs and per 1000 t, a Pareto of defect types, rates by grade and by strand.",
+    defaults: { period: "week" },
+  },
+  {
+    kind: "rate-by-variable",
+    title: "Rate against a variable",
+    summary: "Binned rates with Wilson intervals against one casting condition; Spearman, logistic odds ratio and Mann–Whitney between affected and sound slabs.",
+    defaults: { variable: "casting_speed_m_min", bins: "10", binning: "equal", minN: "30" },
+  },
+  {
+    kind: "screening",
+    title: "Screening",
+    summary: "Every condition ranked by its association with the defect: Welch t or chi-square, p-values adjusted by Benjamini–Hochberg.",
+    // The API takes minN here but does not use it yet (its few-slabs mark is fixed): no setting that changes nothing.
+    defaults: {},
+  },
+  {
+    kind: "process-window",
+    title: "Process window",
+    summary: "The rate over a grid of two conditions, with the count of slabs in every cell; cells with too few slabs are greyed.",
+    defaults: { x: "casting_speed_m_min", y: "embr_current_a", xBins: "6", yBins: "6", binning: "quantile", minN: "30" },
+  },
+  {
+    kind: "control-chart",
+    title: "Control chart",
+    summary: "p-chart of the affected share by day or week, with 3σ limits for each period's own number of slabs and out-of-control periods marked.",
+    defaults: { period: "day" },
+  },
+  {
+    kind: "before-after",
+    title: "Before and after",
+    summary: "Two periods, or two ranges of one condition: the difference in rates with its interval, and Fisher's or the chi-square test.",
+    defaults: { mode: "periods" },
+    optional: ["aFrom", "aTo", "bFrom", "bTo", "variable", "aMin", "aMax", "bMin", "bMax"],
+  },
+  {
+    kind: "slab-positions",
+    title: "Where on the slab",
+    summary: "Where the defects sit: by face, along the length from the head end and across the width, drawn on the slab's unrolled faces.",
+    defaults: { alongBins: "10", acrossBins: "5" },
+  },
+];
+
+export const reportSpec = (kind: ReportKind): ReportSpec => REPORTS.find((r) => r.kind === kind)!;
+export const reportPath = (kind: ReportKind, query = "") => `/reports/${kind}${query ? `?${query}` : ""}`;
+export const isReportKind = (k: string): k is ReportKind => (REPORT_KINDS as readonly string[]).includes(k);
+
+const keysOf = (spec: ReportSpec) => [...FILTER_KEYS, ...Object.keys(spec.defaults), ...(spec.optional ?? [])];
+
+/** The report's parameters from the address: known keys only, trimmed, defaults filled in. */
+export function readReportParams(kind: ReportKind, sp: URLSearchParams): ReportParams {
+  const spec = reportSpec(kind);
+  const out: ReportParams = {};
+  for (const k of keysOf(spec)) {
+    const v = sp.get(k)?.trim();
+    if (v) out[k] = v.slice(0, 400);
+    else if (spec.defaults[k] !== undefined) out[k] = spec.defaults[k]!;
+  }
+  return out;
+}
+
+/** The canonical query string (a stable key order, empty values left out). */
+export function reportQueryString(kind: ReportKind, params: ReportParams): string {
+  const sp = new URLSearchParams();
+  for (const k of keysOf(reportSpec(kind))) {
+    const v = params[k];
+    if (v !== undefined && v !== "") sp.set(k, v);
+  }
+  return sp.toString();
+}
+
+export const listOf = (v: string | undefined): string[] => (v ? v.split(",").map((s) => s.trim()).filter(Boolean) : []);
+export const joinList = (items: string[]): string | undefined => (items.length ? items.join(",") : undefined);
+
+/** Whether any filter narrows the slabs or the defects. */
+export const anyFilter = (p: ReportParams) => FILTER_KEYS.some((k) => Boolean(p[k]));
+
+/** The filters in a few words, for a saved report's suggested name and the saved-reports list. */
+export function describeFilters(p: ReportParams): string {
+  const parts: string[] = [];
+  if (p.defectType) parts.push(listOf(p.defectType).join("+"));
+  if (p.category) parts.push(`every ${listOf(p.category).join("+")}`);
+  if (p.grade) parts.push(listOf(p.grade).join("+"));
+  if (p.family) parts.push(`${listOf(p.family).join("+")} grades`);
+  if (p.caster || p.strand) parts.push([p.caster, p.strand ? `strand ${p.strand}` : ""].filter(Boolean).join(" "));
+  if (p.from || p.to) parts.push(`${p.from ?? "…"} to ${p.to ?? "…"}`);
+  if (p.stage) parts.push(p.stage.replace(/_/g, " "));
+  if (p.minSeverity) parts.push(`severity ≥ ${p.minSeverity}`);
+  if (p.transition) parts.push(p.transition === "yes" ? "transition slabs" : "no transition slabs");
+  if (p.cause) parts.push(`cause ${p.cause}`);
+  return parts.length ? parts.join(", ") : "all slabs, every defect type";
+}
+
+const varLabel = (k: string | undefined) => VARIABLES.find((v) => v.key === k)?.label ?? k ?? "";
+
+/** The report's own settings in a few words: "Casting speed, 8 equal-width bins". */
+export function describeSettings(kind: ReportKind, p: ReportParams): string {
+  switch (kind) {
+    case "overview":
+    case "control-chart":
+      return `by ${p.period === "week" ? "ISO week" : p.period}`;
+    case "rate-by-variable":
+      return `${varLabel(p.variable)}, ${p.bins} ${p.binning === "quantile" ? "quantile" : "equal-width"} bins`;
+    case "process-window":
+      return `${varLabel(p.x)} × ${varLabel(p.y)}`;
+    case "before-after":
+      return p.mode === "variable" ? `${varLabel(p.variable)} ${p.aMin ?? "…"}–${p.aMax ?? "…"} against ${p.bMin ?? "…"}–${p.bMax ?? "…"}` : `${p.aFrom ?? "…"} to ${p.aTo ?? "…"} against ${p.bFrom ?? "…"} to ${p.bTo ?? "…"}`;
+    case "slab-positions":
+      return `${p.alongBins} bands along, ${p.acrossBins} across`;
+    default:
+      return "";
+  }
+}
