@@ -18,7 +18,13 @@ import type { Deps } from "./routes/deps";
 import { heatRoutes } from "./routes/heats.routes";
 import { defectRoutes } from "./routes/defects.routes";
 import { reportRoutes } from "./routes/reports.routes";
+import { causeRoutes } from "./routes/causes.routes";
+import { investigationRoutes } from "./routes/investigations.routes";
+import { outboxRoutes } from "./routes/outbox.routes";
 import type { DefectEvents } from "./services/defects.service";
+import { createMailer, type Mailer } from "./mail/mailer";
+import { queueOverdueReminders } from "./services/investigations.service";
+import { createNotifications, type Notifications } from "./mail/notifications";
 import { importRoutes } from "./routes/import.routes";
 import { setupRoutes } from "./routes/setup.routes";
 import { tokenRoutes } from "./routes/tokens.routes";
@@ -39,6 +45,9 @@ export interface AppOptions {
   /** Origins besides BETTER_AUTH_URL's that may send writes with the session cookie (Vite's dev server). */
   trustedOrigins?: string[];
   events?: DefectEvents;
+  /** The mail queue; without one, mail is queued in the database and not sent. */
+  mailer?: Mailer;
+  notify?: Notifications;
 }
 
 /**
@@ -66,12 +75,19 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 export function collectRoutes(deps: Deps): AnyRoute[] {
   return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
     ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps),
-    ...reportRoutes(deps)];
+    ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {
   const { db, auth, env, logger } = opts;
-  const deps: Deps = { db, auth, env, logger, events: opts.events ?? {} };
+  const mailer =
+    opts.mailer ??
+    createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir: path.join(path.resolve(env.UPLOAD_DIR), "mail"), describe: "no mail server (queued only)" });
+  const notify = opts.notify ?? createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
+  const events: DefectEvents = opts.events ?? { criticalDefect: (d) => void notify.criticalDefect(d) };
+  const deps: Deps = { db, auth, env, logger, events, mailer, notify };
+  // Each pass of the mail worker first queues reminders for actions that fell overdue (an indexed look-up).
+  mailer.onPass((now) => void queueOverdueReminders(db, notify, now));
   const app = express();
   app.disable("x-powered-by");
   app.set("trust proxy", env.TRUST_PROXY);
@@ -149,5 +165,6 @@ export function createApp(opts: AppOptions) {
 
   app.use(errorHandler(logger));
   app.locals.routes = routes;
+  app.locals.mailer = mailer;
   return app;
 }

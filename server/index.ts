@@ -7,6 +7,8 @@ import { runMigrations } from "./db/migrate";
 import { heats, user } from "./db/schema";
 import { EnvError, loadDotEnvFile, loadEnv } from "./env";
 import { createLogger } from "./lib/logger";
+import { setupMail } from "./mail/setup";
+import { createNotifications } from "./mail/notifications";
 import { DEMO_USERS } from "./seed/catalogue";
 import { seedDemo } from "./seed/seed";
 import { knownPhotoFiles } from "./services/defects.service";
@@ -22,7 +24,11 @@ async function main() {
 
   // `npm run dev`: the browser talks to Vite on 5173, which forwards /api here.
   const devOrigins = env.NODE_ENV === "development" ? ["http://localhost:5173"] : [];
+  // Mail: SMTP_URL, or the local fake SMTP server started here.
+  const { mailer, fake } = await setupMail(db, env, logger);
+  const notify = createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
   const auth = createAuth({
+    sendResetPassword: async ({ user: u, url }) => void notify.resetLink(u, url),
     db,
     secret: env.BETTER_AUTH_SECRET,
     baseURL: env.BETTER_AUTH_URL,
@@ -39,7 +45,9 @@ async function main() {
     console.log(`Demo plant ready in ${result.seconds.toFixed(1)} s`, result.production ?? "(already there)");
   }
 
-  const app = createApp({ db, auth, env, logger, trustedOrigins: devOrigins });
+  const app = createApp({ db, auth, env, logger, trustedOrigins: devOrigins, mailer, notify });
+  mailer.start(env.MAIL_POLL_MS);
+  logger.info({ to: mailer.describe() }, "mail worker started");
   // The reports' in-memory slab facts, built now rather than on the first report (≈ 6 s per million slabs).
   const tf = performance.now();
   const facts = slabFacts(db);
@@ -71,8 +79,12 @@ async function main() {
     stopping = true;
     logger.info({ signal }, "shutting down");
     server.close(() => {
-      db.$client.close();
-      process.exit(0);
+      void (async () => {
+        await mailer.stop();
+        await fake?.close();
+        db.$client.close();
+        process.exit(0);
+      })();
     });
     server.closeIdleConnections();
     setTimeout(() => {

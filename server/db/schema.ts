@@ -493,6 +493,21 @@ export const investigationSubjects = sqliteTable(
   ],
 );
 
+/** People who follow an investigation (besides its owner and the owners of its actions). */
+export const investigationParticipants = sqliteTable(
+  "investigation_participants",
+  {
+    investigationId: integer("investigation_id")
+      .notNull()
+      .references(() => investigations.id),
+    userId: text("user_id")
+      .notNull()
+      .references(() => user.id),
+    addedAt: integer("added_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  },
+  (t) => [primaryKey({ columns: [t.investigationId, t.userId] })],
+);
+
 export const investigationHypotheses = sqliteTable(
   "investigation_hypotheses",
   {

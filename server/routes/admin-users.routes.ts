@@ -6,7 +6,7 @@ import type { Deps } from "./deps";
 
 const idParams = z.object({ id: z.string().min(1).max(64) });
 
-export function adminUserRoutes({ db, auth }: Deps) {
+export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
   return [
     defineRoute({
       method: "get",
@@ -20,7 +20,7 @@ export function adminUserRoutes({ db, auth }: Deps) {
     defineRoute({
       method: "post",
       path: "/admin/users",
-      summary: "Create a user with one or more roles",
+      summary: "Create a user with one or more roles; an invitation with a link to choose their own password is e-mailed to them",
       tag: "admin",
       access: "users.manage",
       body: createUserSchema,
@@ -28,7 +28,17 @@ export function adminUserRoutes({ db, auth }: Deps) {
         201: { description: "Created.", schema: adminUserSchema },
         409: { description: "The e-mail is taken." },
       },
-      handler: ({ body, user }) => createUser(db, auth, body, { userId: user.id }),
+      handler: async ({ body, user }) => {
+        const created = await createUser(db, auth, body, { userId: user.id });
+        // The invitation carries a better-auth reset link, so the new user can choose their own password.
+        notify.inviting(created.email);
+        try {
+          await auth.api.requestPasswordReset({ body: { email: created.email, redirectTo: "/reset-password" } });
+        } catch (err) {
+          logger.error({ err }, "could not queue the invitation");
+        }
+        return created;
+      },
     }),
     defineRoute({
       method: "patch",

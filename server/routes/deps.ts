@@ -3,6 +3,8 @@ import type { Db } from "../db/client";
 import type { Env } from "../env";
 import type { Logger } from "../lib/logger";
 import type { DefectEvents } from "../services/defects.service";
+import type { Mailer } from "../mail/mailer";
+import type { Notifications } from "../mail/notifications";
 
 /** What route modules receive from createApp. */
 export interface Deps {
@@ -12,4 +14,6 @@ export interface Deps {
   logger: Logger;
   /** Things other parts react to (mail on a critical defect…). */
   events: DefectEvents;
+  mailer: Mailer;
+  notify: Notifications;
 }

@@ -18,6 +18,8 @@ import {
   slabPositionsSchema,
 } from "@shared/api/reports";
 import { VARIABLES } from "@shared/variables";
+import { causeParetoQuerySchema, causeParetoSchema } from "@shared/api/causes";
+import { causePareto } from "../services/causes.service";
 import { notFound } from "../lib/http-error";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { reportWorkbook } from "../services/report-export";
@@ -35,6 +37,7 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
     { kind: "control-chart", summary: "p-chart of the affected share by day or week, with out-of-control points", query: controlChartQuerySchema, schema: controlChartSchema, run: controlChart },
     { kind: "before-after", summary: "Two periods, or two ranges of one variable: difference in rates with its interval and the Fisher or chi-square p", query: beforeAfterQuerySchema, schema: beforeAfterSchema, run: beforeAfter },
     { kind: "slab-positions", summary: "Where on the slab: defect counts by face, along the length and across the width", query: slabPositionsQuerySchema, schema: slabPositionsSchema, run: slabPositions },
+    { kind: "cause-pareto", summary: "Pareto of cause tags over the defects passing the filters (live taggings at or above a confidence)", query: causeParetoQuerySchema, schema: causeParetoSchema, run: causePareto },
   ] as const;
 
   const routes: AnyRoute[] = [

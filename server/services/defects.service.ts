@@ -6,6 +6,7 @@ import { can } from "@shared/roles";
 import type { z } from "zod";
 import type { Db } from "../db/client";
 import { HttpError, badRequest, conflict, forbidden, notFound } from "../lib/http-error";
+import { causesBrief } from "./causes.service";
 import { recordAudit } from "./audit.service";
 import { parseDateBound } from "./heats.service";
 import { checkPhoto, removePhotoFiles, storePhotoFiles, type StoredPhotoFiles } from "./photos.service";
@@ -53,7 +54,7 @@ export function canChange(user: Actor, row: { created_by: string | null; review_
   return can(user.roles, "defects.log") && row.created_by === user.id && row.review_status === "new";
 }
 
-function toDefect(r: Row, photos: Defect["photos"], user: Actor): Defect {
+function toDefect(r: Row, photos: Defect["photos"], user: Actor, causes: Defect["causes"] = []): Defect {
   return {
     id: r.id,
     slabId: r.slabCode,
@@ -87,6 +88,7 @@ function toDefect(r: Row, photos: Defect["photos"], user: Actor): Defect {
     createdById: r.created_by,
     createdByName: r.createdByName ?? null,
     photos,
+    causes,
     canEdit: canChange(user, r as never),
   };
 }
@@ -94,7 +96,7 @@ function toDefect(r: Row, photos: Defect["photos"], user: Actor): Defect {
 export function getDefect(db: Db, id: number, user: Actor): Defect {
   const r = db.$client.prepare(`${SELECT} where d.id = ? and d.deleted_at is null`).get(id) as Row | undefined;
   if (!r) throw notFound("There is no such defect entry (it may have been deleted).");
-  return toDefect(r, photosOf(db.$client, [id]).get(id) ?? [], user);
+  return toDefect(r, photosOf(db.$client, [id]).get(id) ?? [], user, causesBrief(db.$client, [id]).get(id) ?? []);
 }
 
 /** The width of the face the position across is measured on. */
@@ -314,7 +316,8 @@ export function listDefects(db: Db, user: Actor, q: z.output<typeof defectListQu
     offset: (q.page - 1) * q.pageSize,
   }) as Row[];
   const photos = photosOf(db.$client, rows.map((r) => r.id));
-  return { items: rows.map((r) => toDefect(r, photos.get(r.id) ?? [], user)), total, page: q.page, pageSize: q.pageSize };
+  const causes = causesBrief(db.$client, rows.map((r) => r.id as number));
+  return { items: rows.map((r) => toDefect(r, photos.get(r.id) ?? [], user, causes.get(r.id) ?? [])), total, page: q.page, pageSize: q.pageSize };
 }
 
 export interface UploadedFile {

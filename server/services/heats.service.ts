@@ -1,3 +1,4 @@
+import { causesBrief } from "./causes.service";
 import type { HeatDetail, HeatList, HeatListQuery, HeatSamples, ResolvedConditions, SlabDetail } from "@shared/api/heats";
 import type { Db } from "../db/client";
 import type { EmbrCalibration } from "../db/schema";
@@ -271,6 +272,7 @@ export function getSlab(db: Db, slabId: string): SlabDetail {
        where d.slab_id = ? and d.deleted_at is null order by d.found_at, d.id`,
     )
     .all(s.id) as Record<string, any>[];
+  const causes = causesBrief(c, defects.map((d) => d.id as number));
   return {
     slabId: s.slab_id,
     heatNo: s.heatNo,
@@ -307,6 +309,6 @@ export function getSlab(db: Db, slabId: string): SlabDetail {
       metallurgicalLengthM: s.metallurgicalLengthM, embrFieldT: s.embrFieldT, senPortVelocityMPerS: s.senPortVelocityMPerS,
       stuartNumber: s.stuartNumber, hartmannNumber: s.hartmannNumber,
     }),
-    defects: defects.map((d) => ({ ...d, foundAt: iso(d.foundAt)!, note: d.note ?? null })) as SlabDetail["defects"],
+    defects: defects.map((d) => ({ ...d, foundAt: iso(d.foundAt)!, note: d.note ?? null, causes: causes.get(d.id) ?? [] })) as SlabDetail["defects"],
   };
 }

@@ -5,6 +5,7 @@
  * sheet with units in the headers, number formats, a frozen header row and an autofilter.
  */
 import ExcelJS from "exceljs";
+import type { CausePareto } from "@shared/api/causes";
 import type { BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
 
 type Col = { header: string; key: string; width?: number; numFmt?: string };
@@ -218,6 +219,36 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           name: "Along the slab",
           columns: [{ header: "Face", key: "face" }, ...along.map((a, i) => ({ header: `${a} of length from head`, key: `a${i}`, numFmt: N }))],
           rows: x.grid.map((g) => ({ face: g.face, ...Object.fromEntries(g.along.map((v, i) => [`a${i}`, v])) })),
+        },
+      ];
+    }
+    case "cause-pareto": {
+      const x = r as CausePareto;
+      return [
+        {
+          name: "Causes",
+          columns: [
+            { header: "Cause tag", key: "code", width: 26 },
+            { header: "Name", key: "name", width: 32 },
+            { header: "Group", key: "group" },
+            { header: "Defects", key: "defects", numFmt: N },
+            { header: "Slabs", key: "slabs", numFmt: N },
+            { header: "Suspected", key: "suspected", numFmt: N },
+            { header: "Probable", key: "probable", numFmt: N },
+            { header: "Confirmed", key: "confirmed", numFmt: N },
+            { header: "Share of taggings", key: "share", numFmt: PCT },
+            { header: "Cumulative share", key: "cumulative", numFmt: PCT },
+          ],
+          rows: x.rows,
+        },
+        {
+          name: "Counts",
+          columns: [
+            { header: "Defects passing the filters (n)", key: "defects", numFmt: N },
+            { header: "Tagged", key: "tagged", numFmt: N },
+            { header: "Without a cause", key: "untagged", numFmt: N },
+          ],
+          rows: [x],
         },
       ];
     }

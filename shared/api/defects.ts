@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { dispositionSchema, faceSchema, REVIEW_STATUSES, severitySchema, stageSchema } from "../domain";
+import { CAUSE_CONFIDENCES, dispositionSchema, faceSchema, REVIEW_STATUSES, severitySchema, stageSchema } from "../domain";
 
 /** Upper bounds that no slab reaches; the server also checks the position against the slab itself. */
 const mm = (max: number) => z.number({ error: "Give a number in millimetres." }).min(0, "Use a positive number.").max(max);
@@ -63,6 +63,13 @@ export const photoSchema = z.object({
 });
 export type Photo = z.infer<typeof photoSchema>;
 
+/** A live cause tagging as lists show it (the full history: GET /api/defects/:id/causes). */
+export const defectCauseBriefSchema = z.object({
+  tag: z.string(),
+  tagName: z.string(),
+  confidence: z.enum(CAUSE_CONFIDENCES),
+});
+
 export const defectSchema = z.object({
   id: z.number().int(),
   slabId: z.string(),
@@ -97,6 +104,7 @@ export const defectSchema = z.object({
   createdById: z.string().nullable(),
   createdByName: z.string().nullable(),
   photos: z.array(photoSchema),
+  causes: z.array(defectCauseBriefSchema),
   /** Whether the caller may still change or delete it (own and not yet reviewed, or quality). */
   canEdit: z.boolean(),
 });

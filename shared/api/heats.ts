@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { defectCauseBriefSchema } from "./defects";
 import { CONDITION_SOURCES } from "../variables";
 import { embrCalibrationSchema } from "./plant";
 
@@ -196,6 +197,7 @@ export const slabDefectSchema = z.object({
   foundAt: z.string(),
   photoCount: z.number().int(),
   createdByName: z.string().nullable(),
+  causes: z.array(defectCauseBriefSchema),
 });
 export type SlabDefect = z.infer<typeof slabDefectSchema>;
 

@@ -277,7 +277,7 @@ export type SlabPositions = z.infer<typeof slabPositionsSchema>;
 // Saved reports
 // ---------------------------------------------------------------------------------------------
 
-export const REPORT_KINDS = ["overview", "rate-by-variable", "screening", "process-window", "control-chart", "before-after", "slab-positions"] as const;
+export const REPORT_KINDS = ["overview", "rate-by-variable", "screening", "process-window", "control-chart", "before-after", "slab-positions", "cause-pareto"] as const;
 export const reportKindSchema = z.enum(REPORT_KINDS);
 
 export const savedReportSchema = z.object({

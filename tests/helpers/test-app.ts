@@ -10,6 +10,8 @@ import { runMigrations } from "../../server/db/migrate";
 import { loadEnv } from "../../server/env";
 import { createLogger } from "../../server/lib/logger";
 import { seedDemo } from "../../server/seed/seed";
+import { setupMail } from "../../server/mail/setup";
+import { createNotifications } from "../../server/mail/notifications";
 import type { Role } from "../../shared/roles";
 
 export const TEST_PASSWORD = "test-password-123";
@@ -24,6 +26,8 @@ export interface TestAppOptions {
   env?: Record<string, string>;
   /** false: only users and reference data, for tests that build their own plant. */
   production?: boolean;
+  /** Start the local fake SMTP server (on a free port) and point the mail queue at it. */
+  fakeSmtp?: boolean;
 }
 
 /**
@@ -38,14 +42,27 @@ export async function createTestApp(opts: TestAppOptions = {}) {
     UPLOAD_DIR: path.join(dir, "uploads"),
     BETTER_AUTH_URL: `http://localhost:${opts.port ?? 3000}`,
     LOG_LEVEL: process.env.LOG_LEVEL ?? "silent",
+    FAKE_SMTP_PORT: "0",
     ...opts.env,
   });
   const db = openDatabase(env.DATABASE_FILE);
   runMigrations(db);
   const logger = createLogger(env.LOG_LEVEL);
-  const auth = createAuth({ db, secret: env.BETTER_AUTH_SECRET, baseURL: env.BETTER_AUTH_URL, enforceOriginCheck: opts.enforceOriginCheck, rateLimit: opts.rateLimit, logger });
+  // The real mail path: the queue, nodemailer, and (when asked) the fake SMTP server on a free port.
+  // The worker is not started: tests send what is due with `await mailer.processDue()`.
+  const { mailer, fake } = await setupMail(db, env, logger, { startFake: opts.fakeSmtp ?? false });
+  const notify = createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
+  const auth = createAuth({
+    db,
+    secret: env.BETTER_AUTH_SECRET,
+    baseURL: env.BETTER_AUTH_URL,
+    enforceOriginCheck: opts.enforceOriginCheck,
+    rateLimit: opts.rateLimit,
+    logger,
+    sendResetPassword: async ({ user: u, url }) => void notify.resetLink(u, url),
+  });
   const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02, uploadDir: env.UPLOAD_DIR, production: opts.production });
-  const app = createApp({ db, auth, env, logger, serveClient: true });
+  const app = createApp({ db, auth, env, logger, serveClient: true, mailer, notify });
 
   /** A supertest agent that keeps the cookie of the given demo user. */
   async function agentFor(role: Role) {
@@ -58,12 +75,14 @@ export async function createTestApp(opts: TestAppOptions = {}) {
     return agent;
   }
 
-  function close() {
+  async function close() {
+    await mailer.stop();
+    await fake?.close();
     db.$client.close();
     fs.rmSync(dir, { recursive: true, force: true });
   }
 
-  return { app, db, auth, env, dir, seed, agentFor, close };
+  return { app, db, auth, env, dir, seed, agentFor, close, mailer, fake };
 }
 
 export type TestApp = Awaited<ReturnType<typeof createTestApp>>;
@@ -85,7 +104,7 @@ export async function startTestServer(opts: TestAppOptions = {}) {
     async stop() {
       await new Promise<void>((resolve) => server.close(() => resolve()));
       server.closeAllConnections();
-      t.close();
+      await t.close();
     },
   };
 }

@@ -1,4 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import fs from "node:fs";
+import path from "node:path";
 import request from "supertest";
 import type { AnyRoute } from "../../server/lib/route";
 import { ROLES, type Role } from "../../shared/roles";
@@ -19,7 +21,7 @@ interface Row {
   allowed: Who[];
   /** Reached with an API token only: every session, whatever its role, gets 401. */
   tokenOnly?: boolean;
-  sample: (t: TestApp) => { path: string; body?: unknown; file?: Buffer; photo?: boolean };
+  sample: (t: TestApp) => { path: string; body?: unknown; file?: Buffer; files?: Buffer; photo?: boolean };
 }
 
 const SETUP: Role[] = ["process", "admin"];
@@ -186,11 +188,93 @@ const REPORT_QUERIES: Record<string, string> = {
   "control-chart": "defectType=SLG",
   "before-after": "mode=periods&aFrom=2026-04-01&aTo=2026-06-30&bFrom=2026-07-01&bTo=2026-11-30",
   "slab-positions": "defectType=LFC",
+  "cause-pareto": "minConfidence=probable",
 };
 for (const [kind, qs] of Object.entries(REPORT_QUERIES)) {
   matrix[`GET /reports/${kind}`] = { allowed: READERS, sample: () => ({ path: `/api/reports/${kind}?${qs}` }) };
   matrix[`GET /reports/${kind}.xlsx`] = { allowed: READERS, sample: () => ({ path: `/api/reports/${kind}.xlsx?${qs}` }) };
 }
+
+const TAGGERS: Role[] = ["process", "admin"];
+const userIdOf = (t: TestApp, role: string) => t.db.$client.prepare("select id from user where email = ?").pluck().get(`${role}@demo.test`) as string;
+/** A fresh open investigation (SQL), so each role's call changes its own. */
+function freshInvestigation(t: TestApp) {
+  const now = Date.now();
+  return Number(
+    t.db.$client
+      .prepare("insert into investigations (ref, title, problem_statement, status, owner_id, opened_at, created_by) values (?, 'Matrix', 'Matrix investigation problem', 'open', ?, ?, ?)")
+      .run(`INV-MX-${++counter}`, userIdOf(t, "process"), now, userIdOf(t, "process")).lastInsertRowid,
+  );
+}
+function freshTag(t: TestApp) {
+  const code = `matrix-tag-${++counter}`;
+  t.db.$client.prepare("insert into cause_tags (code, name, group_id) values (?, 'Matrix tag', (select id from cause_groups where code = 'process'))").run(code);
+  return code;
+}
+function freshLink(t: TestApp) {
+  const d = defectOf(t, "inspector@demo.test");
+  const link = Number(t.db.$client.prepare("insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')").run(d).lastInsertRowid);
+  return `/api/defects/${d}/causes/${link}`;
+}
+let attachmentId: string | null = null;
+function attachment(t: TestApp) {
+  if (!attachmentId) {
+    attachmentId = "00000000-0000-4000-8000-0000000000a1";
+    const dir = path.join(t.env.UPLOAD_DIR, "attachments");
+    fs.mkdirSync(dir, { recursive: true });
+    fs.writeFileSync(path.join(dir, attachmentId), "matrix note\n");
+    t.db.$client
+      .prepare("insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256) values (?, 'investigation', ?, 'note.txt', ?, 'text/plain', 12, 'x')")
+      .run(attachmentId, freshInvestigation(t), attachmentId);
+  }
+  return attachmentId;
+}
+Object.assign(matrix, {
+  "GET /cause-tags": { allowed: READERS, sample: () => ({ path: "/api/cause-tags?includeRetired=true" }) },
+  "POST /cause-tags": { allowed: TAGGERS, sample: () => ({ path: "/api/cause-tags", body: { code: `matrix-new-${++counter}`, name: "Matrix new tag", group: "equipment" } }) },
+  "PATCH /cause-tags/:code": { allowed: TAGGERS, sample: (t) => ({ path: `/api/cause-tags/${freshTag(t)}`, body: { name: "Matrix renamed" } }) },
+  "DELETE /cause-tags/:code": { allowed: TAGGERS, sample: (t) => ({ path: `/api/cause-tags/${freshTag(t)}` }) },
+  "GET /defects/:id/causes": { allowed: READERS, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/causes` }) },
+  "POST /defects/:id/causes": { allowed: TAGGERS, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/causes`, body: { tags: ["sen-clogging"], confidence: "suspected" } }) },
+  "DELETE /defects/:id/causes/:linkId": { allowed: TAGGERS, sample: (t) => ({ path: freshLink(t), body: { reason: "matrix" } }) },
+  "POST /causes/bulk": { allowed: TAGGERS, sample: (t) => ({ path: "/api/causes/bulk", body: { selection: { kind: "heat", heatNo: firstHeat(t) }, tags: ["ladle-change"], confidence: "suspected", dryRun: true } }) },
+  "GET /investigations": { allowed: READERS, sample: () => ({ path: "/api/investigations?status=active" }) },
+  "GET /investigations/people": { allowed: READERS, sample: () => ({ path: "/api/investigations/people" }) },
+  "POST /investigations": { allowed: TAGGERS, sample: (t) => ({ path: "/api/investigations", body: { title: "Matrix opened", problemStatement: "Opened by the role matrix test.", heatNos: [firstHeat(t)] } }) },
+  "GET /investigations/:id": { allowed: READERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}` }) },
+  "PATCH /investigations/:id": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}`, body: { status: "in_progress" } }) },
+  "POST /investigations/:id/subjects": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/subjects`, body: { heatNos: [firstHeat(t)] } }) },
+  "POST /investigations/:id/participants": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/participants`, body: { userIds: [userIdOf(t, "quality")] } }) },
+  "POST /investigations/:id/hypotheses": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/hypotheses`, body: { statement: "Matrix hypothesis", causeTag: "sen-clogging" } }) },
+  "PATCH /investigations/:id/hypotheses/:hid": {
+    allowed: TAGGERS,
+    sample: (t) => {
+      const inv = freshInvestigation(t);
+      const h = Number(t.db.$client.prepare("insert into investigation_hypotheses (investigation_id, statement) values (?, 'Matrix hypothesis')").run(inv).lastInsertRowid);
+      return { path: `/api/investigations/${inv}/hypotheses/${h}`, body: { status: "rejected" } };
+    },
+  },
+  "POST /investigations/:id/actions": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/actions`, body: { description: "Matrix action", ownerId: userIdOf(t, "process"), dueOn: "2026-12-31" } }) },
+  "PATCH /investigations/:id/actions/:aid": {
+    allowed: TAGGERS,
+    sample: (t) => {
+      const inv = freshInvestigation(t);
+      const a = Number(t.db.$client.prepare("insert into investigation_actions (investigation_id, description, owner_id, due_on) values (?, 'Matrix action', ?, '2026-12-31')").run(inv, userIdOf(t, "process")).lastInsertRowid);
+      return { path: `/api/investigations/${inv}/actions/${a}`, body: { status: "done" } };
+    },
+  },
+  "POST /investigations/:id/close": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/close`, body: { confirmedCause: "sen-clogging", closureNote: "Closed by the matrix test." } }) },
+  "POST /investigations/:id/attachments": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/attachments`, files: Buffer.from("plain text note\n") }) },
+  "GET /attachments/:id": { allowed: READERS, sample: (t) => ({ path: `/api/attachments/${attachment(t)}` }) },
+  "GET /admin/outbox": { allowed: ["admin"], sample: () => ({ path: "/api/admin/outbox?status=queued" }) },
+  "POST /admin/outbox/:id/retry": {
+    allowed: ["admin"],
+    sample: (t) => {
+      const id = Number(t.db.$client.prepare("insert into email_outbox (kind, from_address, to_addresses, subject, text_body, status, attempts) values ('invitation', 'a@b.test', 'c@d.test', 'Matrix', 'Body', 'failed', 6)").run().lastInsertRowid);
+      return { path: `/api/admin/outbox/${id}/retry` };
+    },
+  },
+} satisfies Record<string, Row>);
 
 function firstStrand(t: TestApp) {
   return t.db.$client.prepare("select id from strands order by id limit 1").pluck().get() as number;
@@ -216,9 +300,10 @@ beforeAll(async () => {
 afterAll(() => t?.close());
 
 let tinyPng: Buffer;
-function send(agent: request.Agent | ReturnType<typeof request>, route: AnyRoute, s: { path: string; body?: unknown; file?: Buffer; photo?: boolean }) {
+function send(agent: request.Agent | ReturnType<typeof request>, route: AnyRoute, s: { path: string; body?: unknown; file?: Buffer; files?: Buffer; photo?: boolean }) {
   const call = (agent as request.Agent)[route.method](s.path).set("Origin", t.env.BETTER_AUTH_URL);
   if (s.file) return call.attach("file", s.file, "matrix.csv");
+  if (s.files) return call.attach("files", s.files, "matrix-note.txt");
   if (s.photo) return call.attach("photos", tinyPng, "matrix.png");
   return s.body !== undefined ? call.send(s.body as object) : call;
 }

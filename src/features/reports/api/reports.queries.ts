@@ -9,6 +9,7 @@ import {
   screeningSchema,
   slabPositionsSchema,
 } from "@shared/api/reports";
+import { causeParetoSchema } from "@shared/api/causes";
 import { api } from "@/lib/api-client";
 import { reportQueryString, type ReportKind, type ReportParams } from "../components/report-params";
 
@@ -20,6 +21,7 @@ const SCHEMAS = {
   "control-chart": controlChartSchema,
   "before-after": beforeAfterSchema,
   "slab-positions": slabPositionsSchema,
+  "cause-pareto": causeParetoSchema,
 } as const satisfies Record<ReportKind, z.ZodType>;
 
 export type ReportResult<K extends ReportKind> = z.infer<(typeof SCHEMAS)[K]>;

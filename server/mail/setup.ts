@@ -1,0 +1,31 @@
+import path from "node:path";
+import type { Db } from "../db/client";
+import type { Env } from "../env";
+import type { Logger } from "../lib/logger";
+import { startFakeSmtp } from "./fake-smtp";
+import { createMailer } from "./mailer";
+
+/**
+ * The mail path of a running app: SMTP_URL when set; otherwise the local fake SMTP server, started
+ * here, on FAKE_SMTP_PORT. `startFake: false` queues only (until setSmtpUrl points it somewhere).
+ */
+export async function setupMail(db: Db, env: Env, logger: Logger, opts: { startFake?: boolean } = {}) {
+  const dir = path.join(path.resolve(env.UPLOAD_DIR), "mail");
+  if (env.SMTP_URL) {
+    const host = new URL(env.SMTP_URL).host;
+    return { mailer: createMailer({ db, logger, smtpUrl: env.SMTP_URL, from: env.MAIL_FROM, dir, describe: `the SMTP server at ${host}` }), fake: null };
+  }
+  if (opts.startFake === false) {
+    return { mailer: createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir, describe: "no mail server (queued only)" }), fake: null };
+  }
+  const fake = await startFakeSmtp({ db, logger, port: env.FAKE_SMTP_PORT });
+  const mailer = createMailer({
+    db,
+    logger,
+    smtpUrl: `smtp://127.0.0.1:${fake.port}`,
+    from: env.MAIL_FROM,
+    dir,
+    describe: `the local fake SMTP server on port ${fake.port} (nothing leaves this machine; set SMTP_URL for real mail)`,
+  });
+  return { mailer, fake };
+}
