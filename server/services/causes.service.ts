@@ -36,7 +36,7 @@ const CONFIDENCE_RANK: Record<CauseConfidence, number> = { suspected: 1, probabl
 // Taxonomy
 // ------------------------------------------------------------------------------------------------
 
-function tagRows(sqlite: Database.Database, where = "1") {
+function tagRows(sqlite: Database.Database, where = "1", ...args: unknown[]) {
   return sqlite
     .prepare(
       `select t.id, t.code, t.name, t.description, t.retired_at, g.code as groupCode, g.name as groupName, g.sort_order,
@@ -46,7 +46,7 @@ function tagRows(sqlite: Database.Database, where = "1") {
            or exists (select 1 from investigation_hypotheses h where h.cause_tag_id = t.id) as everUsed
        from cause_tags t join cause_groups g on g.id = t.group_id where ${where} order by g.sort_order, t.name`,
     )
-    .all() as Row[];
+    .all(...args) as Row[];
 }
 
 const toTag = (r: Row): CauseTag => ({
@@ -73,7 +73,7 @@ function tagByCode(sqlite: Database.Database, code: string): Row {
 }
 
 function getTag(db: Db, code: string): CauseTag {
-  const r = tagRows(db.$client, `t.code = '${code.replace(/'/g, "''")}'`)[0];
+  const r = tagRows(db.$client, "t.code = ?", code)[0];
   if (!r) throw notFound(`There is no cause tag “${code}”.`);
   return toTag(r);
 }
