@@ -18,7 +18,15 @@ export async function setupMail(db: Db, env: Env, logger: Logger, opts: { startF
   if (opts.startFake === false) {
     return { mailer: createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir, describe: "no mail server (queued only)" }), fake: null };
   }
-  const fake = await startFakeSmtp({ db, logger, port: env.FAKE_SMTP_PORT });
+  let fake;
+  try {
+    fake = await startFakeSmtp({ db, logger, port: env.FAKE_SMTP_PORT });
+  } catch (err) {
+    if ((err as NodeJS.ErrnoException).code !== "EADDRINUSE") throw err;
+    // Another program holds the port (a second copy of the app, say): take any free one instead.
+    fake = await startFakeSmtp({ db, logger, port: 0 });
+    logger.info({ wanted: env.FAKE_SMTP_PORT, port: fake.port }, "fake SMTP port was taken; using another");
+  }
   const mailer = createMailer({
     db,
     logger,
