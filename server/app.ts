@@ -21,6 +21,7 @@ import { reportRoutes } from "./routes/reports.routes";
 import { causeRoutes } from "./routes/causes.routes";
 import { investigationRoutes } from "./routes/investigations.routes";
 import { outboxRoutes } from "./routes/outbox.routes";
+import { claimRoutes } from "./routes/claims.routes";
 import type { DefectEvents } from "./services/defects.service";
 import { createMailer, type Mailer } from "./mail/mailer";
 import { queueOverdueReminders } from "./services/investigations.service";
@@ -75,7 +76,7 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 export function collectRoutes(deps: Deps): AnyRoute[] {
   return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
     ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps),
-    ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps)];
+    ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps), ...claimRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {

@@ -505,3 +505,60 @@ export function planSamples(sqlite: Database.Database, rows: ParsedRow[], errors
     },
   };
 }
+
+// ---------------------------------------------------------------------------------------------
+// Coil and plate → slab (the rolling mill's trace)
+// ---------------------------------------------------------------------------------------------
+
+export function planProducts(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList): Plan {
+  const firstRow = new Map<string, number>();
+  const candidates: { row: ParsedRow; productId: string }[] = [];
+  for (const row of rows) {
+    const id = upper(row.values.get("product_id") ?? null);
+    const kind = row.values.has("kind") ? String(row.values.get("kind") ?? "").trim().toLowerCase() : null;
+    if (kind !== null && kind !== "coil" && kind !== "plate") errors.add(row.rowNo, "kind", `Kind is coil or plate, not “${kind}”.`);
+    if (row.bad || !id) continue;
+    if (firstRow.has(id)) {
+      errors.add(row.rowNo, "product_id", `${id} appears twice in the file (first on row ${firstRow.get(id)}).`);
+      continue;
+    }
+    firstRow.set(id, row.rowNo);
+    candidates.push({ row, productId: id });
+  }
+  const slabIds = [...new Set(candidates.map((c) => upper(c.row.values.get("slab_id") ?? null)).filter((s): s is string => !!s))];
+  const slabs = new Map(selectIn<{ id: number; slab_id: string }>(sqlite, (p) => `select id, slab_id from slabs where slab_id in (${p})`, slabIds).map((s) => [s.slab_id, s.id]));
+  const existing = new Map(
+    selectIn<Record<string, any>>(sqlite, (p) => `select * from products where product_id in (${p})`, candidates.map((c) => c.productId)).map((p) => [p.product_id as string, p]),
+  );
+  const ops: (Op | "unchanged")[] = [];
+  for (const c of candidates) {
+    const slabCode = upper(c.row.values.get("slab_id") ?? null)!;
+    const slabId = slabs.get(slabCode);
+    if (slabId === undefined) {
+      errors.add(c.row.rowNo, "slab_id", `Slab ${slabCode} is not on record (import the slabs first).`);
+      continue;
+    }
+    const old = existing.get(c.productId);
+    const rec: Rec = {
+      product_id: c.productId,
+      kind: c.row.values.has("kind") ? String(c.row.values.get("kind")).trim().toLowerCase() : ((old?.kind as string | undefined) ?? "coil"),
+      slab_id: slabId,
+      rolled_at: take(c.row.values, "rolled_at", old),
+      weight_t: take(c.row.values, "weight_t", old),
+    };
+    ops.push(old ? (sameRecord(rec, old) ? "unchanged" : { kind: "update", rec, id: old.id }) : { kind: "create", rec });
+  }
+  return {
+    counts: tally(ops),
+    apply() {
+      const w = writer(sqlite, "products");
+      const now = Date.now();
+      for (const op of ops) {
+        if (op === "unchanged") continue;
+        if (op.kind === "create") w.insert({ ...op.rec, created_at: now, updated_at: now });
+        else w.update(op.id!, op.rec, now);
+      }
+      return { slabIds: [] };
+    },
+  };
+}

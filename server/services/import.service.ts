@@ -3,7 +3,7 @@ import ExcelJS from "exceljs";
 import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ImportKind, type ImportResult, type ImportRun } from "@shared/api/imports";
 import type { Db } from "../db/client";
 import { coerceTable, ErrorList } from "../import/coerce";
-import { planHeats, planSamples, planSlabs, type Plan } from "../import/plan";
+import { planHeats, planSamples, planProducts, planSlabs, type Plan } from "../import/plan";
 import type { Table } from "../import/read-table";
 import { HttpError } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
@@ -55,7 +55,9 @@ export function runImport(db: Db, req: ImportRequest, timings?: Record<string, n
           ? planHeats(sqlite, rows, errors, settings)
           : req.kind === "slabs"
             ? planSlabs(sqlite, rows, errors, settings)
-            : planSamples(sqlite, rows, errors);
+            : req.kind === "products"
+              ? planProducts(sqlite, rows, errors)
+              : planSamples(sqlite, rows, errors);
     }
     lap("plan");
     const result: ImportResult = {
@@ -148,6 +150,7 @@ const EXAMPLES: Record<ImportKind, Record<string, string | number | boolean | Da
     caster: "CC2", strand: 1, time: new Date(Date.UTC(2026, 10, 3, 14, 20, 20)), cast_length_m: 0.5, casting_speed_m_min: 1.44,
     tundish_temp_c: 1546, embr_current_a: 351, sen_depth_mm: 160, argon_nl_min: 8.1, mold_level_mm: -1.2,
   },
+  products: { product_id: "HC26-004512", kind: "coil", slab_id: "X260001-101", rolled_at: new Date(Date.UTC(2026, 10, 6, 9, 5)), weight_t: 24.1 },
 };
 
 /** A template workbook: the header with one example row, and a second sheet describing each column. */

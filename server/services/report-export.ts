@@ -5,6 +5,7 @@
  * sheet with units in the headers, number formats, a frozen header row and an autofilter.
  */
 import ExcelJS from "exceljs";
+import { guardSheet } from "../lib/cells";
 import type { CausePareto } from "@shared/api/causes";
 import type { BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
 
@@ -284,5 +285,7 @@ export async function reportWorkbook(kind: string, query: string, result: unknow
     for (const row of t.rows) ws.addRow(Object.fromEntries(t.columns.map((c) => [c.key, (row as Record<string, unknown>)[c.key] ?? null])));
     ws.autoFilter = { from: { row: 1, column: 1 }, to: { row: 1, column: t.columns.length } };
   }
+  // Filter values and names typed by users stay text, never formulas (OWASP, CSV injection).
+  wb.eachSheet((ws) => void guardSheet(ws));
   return Buffer.from(await wb.xlsx.writeBuffer());
 }

@@ -5,7 +5,7 @@ import { z } from "zod";
  * Headers match case-insensitively; the unit is part of the key. The template workbook and the import
  * screen describe the columns from this one list.
  */
-export const IMPORT_KINDS = ["heats", "slabs", "process-samples"] as const;
+export const IMPORT_KINDS = ["heats", "slabs", "process-samples", "products"] as const;
 export const importKindSchema = z.enum(IMPORT_KINDS);
 export type ImportKind = z.infer<typeof importKindSchema>;
 
@@ -104,6 +104,13 @@ export const IMPORT_COLUMNS: Record<ImportKind, ColumnSpec[]> = {
     { key: "sen_depth_mm", required: false, type: "number", unit: "mm", min: 0, max: 500, description: "SEN immersion depth." },
     { key: "argon_nl_min", required: false, type: "number", unit: "NL/min", min: 0, max: 100, description: "Argon flow." },
     { key: "mold_level_mm", required: false, type: "number", unit: "mm", min: -100, max: 100, description: "Mold level deviation from its set point." },
+  ],
+  products: [
+    { key: "product_id", required: true, type: "text", description: "Coil or plate id as the rolling mill writes it, unique. Importing it again updates the mapping." },
+    { key: "kind", required: true, type: "text", description: "coil or plate." },
+    { key: "slab_id", required: true, type: "text", description: "The slab it was rolled from; the slab must exist." },
+    { key: "rolled_at", required: false, type: "datetime", description: "When it was rolled: ISO 8601 or an Excel date." },
+    { key: "weight_t", required: false, type: "number", unit: "t", min: 0.1, max: 100, description: "Weight of the coil or plate." },
   ],
 };
 

@@ -276,6 +276,31 @@ Object.assign(matrix, {
   },
 } satisfies Record<string, Row>);
 
+const CLAIMS: Role[] = ["claims", "admin"];
+const CLAIM_READERS: Role[] = ["claims", "quality", "admin"];
+/** A fresh claim linked to the first slab (SQL), so each role's call changes its own. */
+function freshClaim(t: TestApp) {
+  const id = Number(
+    t.db.$client.prepare("insert into claims (claim_no, customer, received_on, defect_complained, status) values (?, 'Matrix customer', '2026-11-30', 'Slivers', 'new')").run(`CL-MX-${++counter}`).lastInsertRowid,
+  );
+  t.db.$client.prepare("insert into claim_slabs (claim_id, slab_id, linked_via) values (?, (select id from slabs order by id limit 1), 'search')").run(id);
+  return id;
+}
+const heatOfFirstSlab = (t: TestApp) => t.db.$client.prepare("select h.heat_no from slabs s join heats h on h.id = s.heat_id order by s.id limit 1").pluck().get() as string;
+Object.assign(matrix, {
+  "GET /trace": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/trace?q=${firstSlab(t)}` }) },
+  "GET /heats/:heatNo/history": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}/history` }) },
+  "GET /heats/:heatNo/history.xlsx": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}/history.xlsx` }) },
+  "GET /claims": { allowed: CLAIM_READERS, sample: () => ({ path: "/api/claims?status=new" }) },
+  "POST /claims": { allowed: CLAIMS, sample: () => ({ path: "/api/claims", body: { claimNo: `CL-NEW-${++counter}`, customer: "Matrix customer", receivedOn: "2026-11-30", defectComplained: "Slivers" } }) },
+  "GET /claims/:id": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}` }) },
+  "PATCH /claims/:id": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}`, body: { status: "under_review" } }) },
+  "POST /claims/:id/slabs": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/slabs`, body: { slabIds: [slabRow(t)] } }) },
+  "DELETE /claims/:id/slabs/:slabId": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/slabs/${firstSlab(t)}` }) },
+  "POST /claims/:id/attachments": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/attachments`, files: Buffer.from("customer letter\n") }) },
+  "POST /claims/:id/send-history": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/send-history`, body: { heatNo: heatOfFirstSlab(t), to: ["customer@example.test"] } }) },
+} satisfies Record<string, Row>);
+
 function firstStrand(t: TestApp) {
   return t.db.$client.prepare("select id from strands order by id limit 1").pluck().get() as number;
 }

@@ -20,6 +20,12 @@ const KINDS: Record<ImportKind, { label: string; text: string; one: string; many
     one: "sample",
     many: "samples",
   },
+  products: {
+    label: "Coils and plates",
+    text: "The rolling mill's trace: each coil or plate id with the slab it was rolled from.",
+    one: "coil or plate",
+    many: "coils and plates",
+  },
 };
 
 type Sending = { dryRun: boolean; progress: UploadProgress | null; controller: AbortController };

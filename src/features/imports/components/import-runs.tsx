@@ -1,7 +1,7 @@
 import type { ImportRun } from "@shared/api/imports";
 import { dateTime } from "@/lib/format";
 
-const KIND_LABELS: Record<ImportRun["kind"], string> = { heats: "Heats", slabs: "Slabs", "process-samples": "Process samples" };
+const KIND_LABELS: Record<ImportRun["kind"], string> = { heats: "Heats", slabs: "Slabs", "process-samples": "Process samples", products: "Coils and plates" };
 
 export function ImportRunsTable({ runs }: { runs: ImportRun[] }) {
   if (runs.length === 0) return <p className="text-sm text-ink-600">No imports yet.</p>;

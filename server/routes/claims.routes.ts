@@ -1,0 +1,179 @@
+import path from "node:path";
+import multer from "multer";
+import { z } from "zod";
+import {
+  claimCreateSchema,
+  claimLinkSchema,
+  claimQuerySchema,
+  claimSchema,
+  claimSummarySchema,
+  claimUpdateSchema,
+  heatHistorySchema,
+  sendHistorySchema,
+  traceQuerySchema,
+  traceSchema,
+} from "@shared/api/claims";
+import { recordAudit } from "../services/audit.service";
+import { defineRoute, type AnyRoute } from "../lib/route";
+import { checkHeatOfClaim, claimExists, createClaim, getClaim, linkSlabs, listClaims, unlinkSlab, updateClaim } from "../services/claims.service";
+import { heatHistory, historyWorkbook, trace } from "../services/history.service";
+import { addAttachments, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES } from "../services/investigations.service";
+import type { Deps } from "./deps";
+
+const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";
+const idParams = z.object({ id: z.coerce.number().int().positive() });
+const heatParams = z.object({ heatNo: z.string().trim().min(1).max(40) });
+const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: ATTACHMENT_MAX_BYTES, files: ATTACHMENT_MAX_FILES, fields: 5 } });
+const one = { 200: { description: "The claim as it now stands.", schema: claimSchema } };
+const fileName = (heatNo: string) => `strandsight-heat-${heatNo.replace(/[^A-Za-z0-9_-]/g, "_")}-history-${new Date().toISOString().slice(0, 10)}.xlsx`;
+
+export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
+  const uploadDir = path.resolve(env.UPLOAD_DIR);
+  const attachDir = path.join(uploadDir, "attachments");
+  const workbook = (heatNo: string, by: string) => historyWorkbook(db, heatHistory(db, heatNo), { baseUrl: env.BETTER_AUTH_URL, uploadDir, by });
+  return [
+    defineRoute({
+      method: "get",
+      path: "/trace",
+      summary: "Trace a coil, plate, slab or heat id to its slab and heat, with the heat's whole history",
+      tag: "claims",
+      access: "claims.read",
+      query: traceQuerySchema,
+      responses: { 200: { description: "The chain and the history.", schema: traceSchema }, 404: { description: "No such id on record." } },
+      handler: ({ query }) => trace(db, query.q),
+    }),
+    defineRoute({
+      method: "get",
+      path: "/heats/:heatNo/history",
+      summary: "A heat's whole history as JSON (the printable view)",
+      tag: "claims",
+      access: "history.export",
+      params: heatParams,
+      responses: { 200: { description: "The history.", schema: heatHistorySchema } },
+      handler: ({ params }) => heatHistory(db, params.heatNo),
+    }),
+    defineRoute({
+      method: "get",
+      path: "/heats/:heatNo/history.xlsx",
+      summary: "The heat history workbook: Summary, Chemistry, Casting conditions, Process samples, Slabs, Defects (thumbnails), Causes, Investigations, Claims, Audit trail",
+      tag: "claims",
+      access: "history.export",
+      params: heatParams,
+      responses: { 200: { description: "The workbook.", contentType: XLSX } },
+      handler: async ({ params, res, user }) => {
+        const buf = await workbook(params.heatNo, `${user.name} <${user.email}>`);
+        recordAudit(db, { userId: user.id, action: "heat.history.export", entity: "heat", entityId: params.heatNo.trim().toUpperCase() });
+        res.setHeader("Content-Type", XLSX);
+        res.setHeader("Content-Disposition", `attachment; filename="${fileName(params.heatNo.trim().toUpperCase())}"`);
+        res.send(buf);
+      },
+    }),
+    defineRoute({
+      method: "get",
+      path: "/claims",
+      summary: "Claims, newest first (status, or q: claim no, customer, product or defect)",
+      tag: "claims",
+      access: "claims.read",
+      query: claimQuerySchema,
+      responses: { 200: { description: "Claims.", schema: z.object({ items: z.array(claimSummarySchema) }) } },
+      handler: ({ query }) => ({ items: listClaims(db, query) }),
+    }),
+    defineRoute({
+      method: "post",
+      path: "/claims",
+      summary: "Record a customer claim; its coils and plates are traced to slabs and linked",
+      tag: "claims",
+      access: "claims.manage",
+      body: claimCreateSchema,
+      status: 201,
+      responses: { 201: { description: "Recorded.", schema: claimSchema }, 409: { description: "The claim number is taken." } },
+      handler: ({ body, user }) => createClaim(db, user, body),
+    }),
+    defineRoute({
+      method: "get",
+      path: "/claims/:id",
+      summary: "One claim with its slabs, heats, attachments and history",
+      tag: "claims",
+      access: "claims.read",
+      params: idParams,
+      responses: one,
+      handler: ({ params }) => getClaim(db, params.id),
+    }),
+    defineRoute({
+      method: "patch",
+      path: "/claims/:id",
+      summary: "Change a claim (status, products, notes…)",
+      tag: "claims",
+      access: "claims.manage",
+      params: idParams,
+      body: claimUpdateSchema,
+      responses: one,
+      handler: ({ params, body, user }) => updateClaim(db, user, params.id, body),
+    }),
+    defineRoute({
+      method: "post",
+      path: "/claims/:id/slabs",
+      summary: "Link slabs (by id) or coils / plates (through the trace) to a claim",
+      tag: "claims",
+      access: "claims.manage",
+      params: idParams,
+      body: claimLinkSchema,
+      responses: one,
+      handler: ({ params, body, user }) => linkSlabs(db, user, params.id, body),
+    }),
+    defineRoute({
+      method: "delete",
+      path: "/claims/:id/slabs/:slabId",
+      summary: "Unlink a slab from a claim",
+      tag: "claims",
+      access: "claims.manage",
+      params: idParams.extend({ slabId: z.string().trim().min(1).max(40) }),
+      responses: one,
+      handler: ({ params, user }) => unlinkSlab(db, user, params.id, params.slabId),
+    }),
+    defineRoute({
+      method: "post",
+      path: "/claims/:id/attachments",
+      summary: "Attach files to a claim (PDF, Office, images, CSV, text; up to 5 of 20 MB each)",
+      tag: "claims",
+      access: "claims.manage",
+      params: idParams,
+      upload: { middleware: upload.array("files", ATTACHMENT_MAX_FILES), fields: { files: { type: "file", description: "One to five files." } } },
+      responses: { ...one, 413: { description: "A file is larger than 20 MB." }, 415: { description: "A kind of file not kept here." } },
+      handler: async ({ params, req, user }) => {
+        claimExists(db, params.id);
+        await addAttachments(db, user, "claim", params.id, (req.files as Express.Multer.File[] | undefined) ?? [], attachDir);
+        return getClaim(db, params.id);
+      },
+    }),
+    defineRoute({
+      method: "post",
+      path: "/claims/:id/send-history",
+      summary: "E-mail a linked heat's history workbook to recipients (queued; logged on the claim)",
+      tag: "claims",
+      access: "history.export",
+      params: idParams,
+      body: sendHistorySchema,
+      status: 202,
+      responses: { 202: { description: "Queued.", schema: z.object({ messageId: z.number().int(), claim: claimSchema }) } },
+      handler: async ({ params, body, user }) => {
+        const claim = claimExists(db, params.id);
+        checkHeatOfClaim(db, params.id, body.heatNo);
+        const heatNo = body.heatNo.trim().toUpperCase();
+        const buf = await workbook(heatNo, `${user.name} <${user.email}>`);
+        const messageId = db.transaction(() => {
+          const id = mailer.enqueue({
+            kind: "heat_history",
+            to: body.to,
+            subject: `Claim ${claim.claim_no}: history of heat ${heatNo}`,
+            text: `${body.message ? `${body.message}\n\n` : ""}Attached: the history of heat ${heatNo} (chemistry, casting conditions, slabs, defects with photos, causes, investigations and claims), for claim ${claim.claim_no} of ${claim.customer}.\n\nSent by ${user.name}.\n\n—\nStrandsight · ${env.BETTER_AUTH_URL}`,
+            attachments: [{ filename: fileName(heatNo), contentType: XLSX, content: buf }],
+          })!;
+          recordAudit(db, { userId: user.id, action: "claim.history.sent", entity: "claim", entityId: params.id, after: { heatNo, to: body.to, outboxId: id, bytes: buf.length } });
+          return id;
+        });
+        return { messageId, claim: getClaim(db, params.id) };
+      },
+    }),
+  ];
+}

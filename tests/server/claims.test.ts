@@ -1,0 +1,278 @@
+import { execFileSync } from "node:child_process";
+import fs from "node:fs";
+import path from "node:path";
+import ExcelJS from "exceljs";
+import sharp from "sharp";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type request from "supertest";
+import { csv } from "../helpers/workbooks";
+import { asCellText } from "../../server/lib/cells";
+import { createTestApp, type TestApp } from "../helpers/test-app";
+
+let t: TestApp;
+let claims: request.Agent;
+let quality: request.Agent;
+let inspector: request.Agent;
+let process_: request.Agent;
+beforeAll(async () => {
+  t = await createTestApp({ scale: 0.02, fakeSmtp: true });
+  claims = await t.agentFor("claims");
+  quality = await t.agentFor("quality");
+  inspector = await t.agentFor("inspector");
+  process_ = await t.agentFor("process");
+});
+afterAll(() => t?.close());
+
+const O = () => t.env.BETTER_AUTH_URL;
+const one = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).get(...a) as Record<string, any>;
+const all = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).all(...a) as Record<string, any>[];
+const n = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).pluck().get(...a) as number;
+
+async function download(agent: request.Agent, url: string) {
+  const res = await agent.get(url).buffer(true).parse((r, cb) => {
+    const chunks: Buffer[] = [];
+    r.on("data", (c: Buffer) => chunks.push(c));
+    r.on("end", () => cb(null, Buffer.concat(chunks)));
+  });
+  return res as typeof res & { body: Buffer };
+}
+
+/** A heat with at least three defects, and one of its slabs. */
+const heatWithDefects = () =>
+  one(
+    `select h.heat_no, min(s.slab_id) as slab_id from heats h join slabs s on s.heat_id = h.id join defects d on d.slab_id = s.id
+     where d.deleted_at is null group by h.id having count(d.id) >= 3 order by h.id limit 1`,
+  ) as { heat_no: string; slab_id: string };
+
+describe("the coil and plate trace", () => {
+  it("when the rolling mill's list is imported, then the dry run writes nothing, the import creates the mapping, and a repeat is unchanged", async () => {
+    const { slab_id } = heatWithDefects();
+    const file = csv(["product_id", "kind", "slab_id", "rolled_at", "weight_t"], [
+      { product_id: "tc-90001", kind: "coil", slab_id, rolled_at: "2026-11-20T06:00:00Z", weight_t: 23.5 },
+      { product_id: "TP-90002", kind: "plate", slab_id, rolled_at: "2026-11-20T07:00:00Z", weight_t: 8.2 },
+    ]);
+    const dry = await process_.post("/api/import/products?dryRun=true").set("Origin", O()).attach("file", file, "coils.csv");
+    expect(dry.status).toBe(200);
+    expect(dry.body.counts).toEqual({ created: 2, updated: 0, unchanged: 0 });
+    expect(n("select count(*) from products where product_id in ('TC-90001', 'TP-90002')")).toBe(0);
+    const real = await process_.post("/api/import/products").set("Origin", O()).attach("file", file, "coils.csv");
+    expect(real.status).toBe(201);
+    expect(one("select p.kind, p.weight_t, s.slab_id from products p join slabs s on s.id = p.slab_id where p.product_id = 'TC-90001'")).toEqual({ kind: "coil", weight_t: 23.5, slab_id });
+    const again = await process_.post("/api/import/products").set("Origin", O()).attach("file", file, "coils.csv");
+    expect(again.body.counts).toEqual({ created: 0, updated: 0, unchanged: 2 });
+  });
+
+  it("when a row names an unknown slab or a wrong kind, then every such row is listed and nothing is written", async () => {
+    const before = n("select count(*) from products");
+    const file = csv(["product_id", "kind", "slab_id"], [
+      { product_id: "TC-91001", kind: "coil", slab_id: heatWithDefects().slab_id },
+      { product_id: "TC-91002", kind: "coil", slab_id: "NO-SUCH-SLAB" },
+      { product_id: "TC-91003", kind: "sheet", slab_id: heatWithDefects().slab_id },
+    ]);
+    const res = await process_.post("/api/import/products").set("Origin", O()).attach("file", file, "coils.csv");
+    expect(res.status).toBe(422);
+    expect(res.body.error.details.errors).toEqual([
+      { row: 3, column: "slab_id", message: "Slab NO-SUCH-SLAB is not on record (import the slabs first)." },
+      { row: 4, column: "kind", message: "Kind is coil or plate, not “sheet”." },
+    ]);
+    expect(n("select count(*) from products")).toBe(before);
+  });
+
+  it("when a coil, a slab or a heat id is traced, then each leads to the same heat with its slabs, defects and causes; an unknown id gets a plain 404", async () => {
+    const { heat_no, slab_id } = heatWithDefects();
+    const byCoil = await claims.get("/api/trace?q=tc-90001");
+    expect(byCoil.status).toBe(200);
+    expect(byCoil.body).toMatchObject({ found: "coil", slabId: slab_id, product: { productId: "TC-90001", kind: "coil", weightT: 23.5 } });
+    expect(byCoil.body.history.heat.heatNo).toBe(heat_no);
+    expect(byCoil.body.history.slabs.map((s: { slabId: string }) => s.slabId).sort()).toEqual(all("select s.slab_id from slabs s join heats h on h.id = s.heat_id where h.heat_no = ? order by s.slab_id", heat_no).map((r) => r.slab_id));
+    expect(byCoil.body.history.defects).toHaveLength(n("select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null", heat_no));
+    const bySlab = await quality.get(`/api/trace?q=${slab_id}`);
+    expect(bySlab.body).toMatchObject({ found: "slab", slabId: slab_id });
+    expect(bySlab.body.history.heat.heatNo).toBe(heat_no);
+    const byHeat = await claims.get(`/api/trace?q=${heat_no.toLowerCase()}`);
+    expect(byHeat.body.found).toBe("heat");
+    const none = await claims.get("/api/trace?q=ZZ-404");
+    expect(none.status).toBe(404);
+    expect(none.body.error.message).toContain("Nothing on record is called ZZ-404");
+    expect((await inspector.get(`/api/trace?q=${slab_id}`)).status).toBe(403);
+  });
+});
+
+describe("claims", () => {
+  let claimId: number;
+  it("when a claims officer records a claim naming a traced coil and an unknown one, then the traced slab is linked, the unknown one listed, and the record audited", async () => {
+    const res = await claims.post("/api/claims").set("Origin", O()).send({
+      claimNo: "cl-2026-0901", customer: "Invented Coil Buyers Ltd (demo)", productIds: ["TC-90001", "XX-UNKNOWN"], receivedOn: "2026-11-28",
+      defectComplained: "Slivers on the outer wraps", quantityT: 23.5, notes: "Customer sent photos",
+    });
+    expect(res.status).toBe(201);
+    claimId = res.body.id;
+    expect(res.body).toMatchObject({ claimNo: "CL-2026-0901", status: "new", slabs: 1, heats: [heatWithDefects().heat_no], untracedProducts: ["XX-UNKNOWN"] });
+    expect(res.body.linkedSlabs[0]).toMatchObject({ slabId: heatWithDefects().slab_id, linkedVia: "trace", products: ["TC-90001"] });
+    const dup = await claims.post("/api/claims").set("Origin", O()).send({ claimNo: "CL-2026-0901", customer: "Again", receivedOn: "2026-11-28", defectComplained: "Again" });
+    expect(dup.status).toBe(409);
+    expect(n("select count(*) from audit_log where entity = 'claim' and entity_id = ? and action = 'claim.create'", String(claimId))).toBe(1);
+  });
+
+  it("when a slab is linked by search and the status changes, then the claim shows both and its history says so; a quality engineer reads but cannot change", async () => {
+    const other = one("select slab_id from slabs order by id desc limit 1").slab_id as string;
+    const linked = await claims.post(`/api/claims/${claimId}/slabs`).set("Origin", O()).send({ slabIds: [other] });
+    expect(linked.status).toBe(200);
+    expect(linked.body.linkedSlabs.map((s: { slabId: string; linkedVia: string }) => [s.slabId, s.linkedVia])).toContainEqual([other, "search"]);
+    const bad = await claims.post(`/api/claims/${claimId}/slabs`).set("Origin", O()).send({ slabIds: ["NOPE-1"] });
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.message).toBe("No slab NOPE-1 on record.");
+    const status = await claims.patch(`/api/claims/${claimId}`).set("Origin", O()).send({ status: "under_review" });
+    expect(status.body.status).toBe("under_review");
+    const unlink = await claims.delete(`/api/claims/${claimId}/slabs/${other}`).set("Origin", O());
+    expect(unlink.body.linkedSlabs).toHaveLength(1);
+    expect(unlink.body.history.map((h: { action: string }) => h.action)).toEqual(["claim.create", "claim.slabs.link", "claim.update", "claim.slabs.unlink"]);
+    expect((await quality.get(`/api/claims/${claimId}`)).status).toBe(200);
+    expect((await quality.patch(`/api/claims/${claimId}`).set("Origin", O()).send({ status: "closed" })).status).toBe(403);
+  });
+
+  it("when the history workbook is e-mailed from the claim, then it is queued with the workbook attached, arrives over SMTP, and the claim logs the sending", async () => {
+    const { heat_no } = heatWithDefects();
+    const notLinked = one("select heat_no from heats where heat_no <> ? order by id desc limit 1", heat_no).heat_no as string;
+    const refused = await claims.post(`/api/claims/${claimId}/send-history`).set("Origin", O()).send({ heatNo: notLinked, to: ["buyer@example.test"] });
+    expect(refused.status).toBe(400);
+    expect(refused.body.error.code).toBe("heat_not_linked");
+
+    const res = await claims.post(`/api/claims/${claimId}/send-history`).set("Origin", O()).send({ heatNo: heat_no, to: ["buyer@example.test"], message: "As discussed on the phone." });
+    expect(res.status).toBe(202);
+    const row = one("select * from email_outbox where id = ?", res.body.messageId);
+    expect(row).toMatchObject({ kind: "heat_history", status: "queued", to_addresses: "buyer@example.test" });
+    await t.mailer.processDue();
+    const sent = one("select * from email_outbox where id = ?", res.body.messageId);
+    expect(sent.status).toBe("sent");
+    const got = one("select * from mail_received where message_id = ?", sent.message_id);
+    const att = JSON.parse(got.attachments);
+    expect(att).toHaveLength(1);
+    expect(att[0].filename).toMatch(new RegExp(`^strandsight-heat-${heat_no}-history-\\d{4}-\\d{2}-\\d{2}\\.xlsx$`));
+    expect(att[0].contentType).toBe("application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
+    expect(got.text_body).toContain("As discussed on the phone.");
+    expect(res.body.claim.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history sent to buyer@example.test` });
+  });
+});
+
+describe("the heat history workbook", () => {
+  const INJECTIONS = ["=1+1", "+41+1", "-2+3", "@SUM(1,1)", "\t=2+2", "\r=3+3", "=HYPERLINK(\"http://example.test\",\"click\")"];
+  let heatNo: string;
+  let wb: ExcelJS.Workbook;
+  let file: string;
+
+  beforeAll(async () => {
+    heatNo = heatWithDefects().heat_no;
+    // Notes that a spreadsheet could take for formulas, and a photo, on this heat's defects.
+    const ids = all("select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.id", heatNo).map((r) => r.id as number);
+    INJECTIONS.forEach((text, i) => t.db.$client.prepare("update defects set note = ? where id = ?").run(text, ids[i % ids.length]));
+    const jpeg = await sharp({ create: { width: 640, height: 480, channels: 3, background: "#6a4" } }).jpeg().toBuffer();
+    const quality2 = await t.agentFor("quality");
+    const up = await quality2.post(`/api/defects/${ids[0]}/photos`).set("Origin", O()).attach("photos", jpeg, "crack.jpg");
+    expect(up.status).toBe(201);
+    const res = await download(claims, `/api/heats/${heatNo}/history.xlsx`);
+    expect(res.status).toBe(200);
+    expect(res.headers["content-disposition"]).toContain(`strandsight-heat-${heatNo}-history-`);
+    wb = new ExcelJS.Workbook();
+    await wb.xlsx.load(res.body as never);
+    file = path.join(t.dir, "history.xlsx");
+    fs.writeFileSync(file, res.body);
+  });
+
+  it("when it is read back, then it has the ten sheets, frozen headers, autofilters, landscape print setup with repeated titles, and units in the headers", () => {
+    expect(wb.worksheets.map((w) => w.name)).toEqual(["Summary", "Chemistry", "Casting conditions", "Process samples", "Slabs", "Defects", "Causes", "Investigations", "Claims", "Audit trail"]);
+    for (const ws of wb.worksheets) {
+      expect(ws.views[0], ws.name).toMatchObject({ state: "frozen", ySplit: 1 });
+      expect(ws.pageSetup.orientation, ws.name).toBe("landscape");
+      if (ws.name !== "Summary") {
+        expect(ws.autoFilter, ws.name).toBeTruthy();
+        expect(ws.pageSetup.printTitlesRow, ws.name).toBe("1:1");
+      }
+    }
+    expect(wb.getWorksheet("Slabs")!.getRow(1).values).toContain("Length (mm)");
+    expect(wb.getWorksheet("Casting conditions")!.getRow(1).values).toContain("Casting speed (m/min)");
+  });
+
+  it("when its cells are compared with the database, then slabs, defects, chemistry, conditions with sources and causes are the stored values", () => {
+    const slabs = all("select s.slab_id, s.length_mm, s.width_mm, s.weight_t from slabs s join heats h on h.id = s.heat_id join strands st on st.id = s.strand_id where h.heat_no = ? order by st.strand_no, s.piece_no", heatNo);
+    const sl = wb.getWorksheet("Slabs")!;
+    expect(sl.rowCount - 1).toBe(slabs.length);
+    slabs.forEach((s, i) => {
+      const r = sl.getRow(i + 2);
+      expect([r.getCell(1).value, r.getCell(4).value, r.getCell(5).value, r.getCell(7).value]).toEqual([s.slab_id, s.length_mm, s.width_mm, s.weight_t]);
+    });
+    const defects = all("select d.id, d.position_along_mm, d.note from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.found_at, d.id", heatNo);
+    const df = wb.getWorksheet("Defects")!;
+    expect(df.rowCount - 1).toBe(defects.length);
+    defects.forEach((d, i) => {
+      const r = df.getRow(i + 2);
+      expect([r.getCell(1).value, r.getCell(6).value, r.getCell(17).value ?? null]).toEqual([d.id, d.position_along_mm, d.note == null ? null : asCellText(d.note)]);
+    });
+    // The slab cell links to the slab's page.
+    expect((df.getRow(2).getCell(2).value as { hyperlink: string }).hyperlink).toBe(`${O()}/slabs/${defects.length ? one("select s.slab_id from defects d join slabs s on s.id = d.slab_id where d.id = ?", defects[0]!.id).slab_id : ""}`);
+    // One embedded thumbnail: the photo added above.
+    expect(df.getImages()).toHaveLength(n("select count(distinct p.defect_id) from defect_photos p join defects d on d.id = p.defect_id join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and p.deleted_at is null and d.deleted_at is null", heatNo));
+
+    const heat = one("select * from heats where heat_no = ?", heatNo);
+    const chem = Object.fromEntries(wb.getWorksheet("Chemistry")!.getSheetValues().slice(2).map((r) => [(r as unknown[])[1], (r as unknown[])[2]]));
+    expect(chem["Carbon (C)"]).toBe(heat.c_pct);
+    expect(chem["Manganese (Mn)"]).toBe(heat.mn_pct);
+
+    const cc = wb.getWorksheet("Casting conditions")!;
+    const header = cc.getRow(1).values as string[];
+    const speed = header.indexOf("Casting speed (m/min)");
+    const speedSource = header.indexOf("Casting speed: source");
+    expect(cc.getRow(2).getCell(speed).value).toBe(heat.casting_speed_m_min);
+    const first = one("select c.casting_speed_m_min, c.casting_speed_source from slab_conditions c join slabs s on s.id = c.slab_id where s.slab_id = ?", cc.getRow(3).getCell(2).value);
+    expect(cc.getRow(3).getCell(speed).value).toBe(first.casting_speed_m_min);
+    expect(cc.getRow(3).getCell(speedSource).value).toBe({ slab: "slab record", samples: "process samples", heat: "heat record" }[first.casting_speed_source as string] ?? first.casting_speed_source);
+
+    const causes = wb.getWorksheet("Causes")!;
+    expect(causes.rowCount - 1).toBe(n("select count(*) from defect_causes dc join defects d on d.id = dc.defect_id join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null", heatNo));
+    expect(wb.getWorksheet("Slabs")!.getColumn(8).numFmt).toBe("yyyy-mm-dd hh:mm");
+  });
+
+  it("when notes start with = + - @, a tab or a CR, then they are written as text cells with the text format, never as formulas (OWASP CSV injection)", () => {
+    const df = wb.getWorksheet("Defects")!;
+    const seen: string[] = [];
+    df.eachRow((row, i) => {
+      if (i === 1) return;
+      const cell = row.getCell(17);
+      if (typeof cell.value === "string" && INJECTIONS.map(asCellText).includes(cell.value)) {
+        expect(cell.type).toBe(ExcelJS.ValueType.String);
+        expect(cell.formula).toBeUndefined();
+        expect(cell.numFmt).toBe("@");
+        seen.push(cell.value);
+      }
+    });
+    const stored = all("select d.note from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null", heatNo)
+      .map((r) => r.note as string)
+      .filter((x) => INJECTIONS.includes(x));
+    expect(stored.length).toBeGreaterThanOrEqual(3);
+    expect(seen.sort()).toEqual(stored.map(asCellText).sort());
+  });
+
+  it("when LibreOffice Calc converts it, then every sheet converts without error and the injection strings come out as the same text", () => {
+    const out = path.join(t.dir, "lo");
+    fs.mkdirSync(out, { recursive: true });
+    // Comma-separated, UTF-8, quoted text, every sheet to its own file (the last option, -1).
+    execFileSync("soffice", ["--headless", "--norestore", `-env:UserInstallation=file://${path.join(t.dir, "lo-profile")}`, "--convert-to", "csv:Text - txt - csv (StarCalc):44,34,76,1,,0,false,true,false,false,false,-1", "--outdir", out, file], { stdio: "pipe", timeout: 120_000 });
+    const csvs = fs.readdirSync(out).filter((f) => f.endsWith(".csv")).sort();
+    expect(csvs).toHaveLength(10);
+    const defectsCsv = fs.readFileSync(path.join(out, csvs.find((f) => f.includes("Defects"))!), "utf8");
+    // Had they been formulas, LibreOffice would have written their results instead of the text.
+    const stored = all("select d.note from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null", heatNo)
+      .map((r) => r.note as string)
+      .filter((x) => INJECTIONS.includes(x) && !/^[\t\r]/.test(x));
+    expect(stored.length).toBeGreaterThanOrEqual(2);
+    for (const s of stored) expect(defectsCsv).toContain(`"${s.replace(/"/g, '""')}"`);
+    const slabsCsv = fs.readFileSync(path.join(out, csvs.find((f) => f.includes("Slabs"))!), "utf8");
+    expect(slabsCsv.split("\n")[1]).toContain(wb.getWorksheet("Slabs")!.getRow(2).getCell(1).value as string);
+  }, 180_000);
+
+  it("when an inspector asks for it, then 403 and no workbook", async () => {
+    const res = await inspector.get(`/api/heats/${heatNo}/history.xlsx`);
+    expect(res.status).toBe(403);
+    expect(res.headers["content-type"]).toContain("application/json");
+  });
+});
