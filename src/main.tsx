@@ -9,7 +9,7 @@ import { createQueryClient } from "./lib/query-client";
 const queryClient = createQueryClient({
   // The session ended while the user was working: forget what was cached and ask them to sign in.
   onUnauthenticated: () => {
-    if (window.location.pathname === "/sign-in") return;
+    if (["/sign-in", "/forgot-password", "/reset-password"].includes(window.location.pathname)) return;
     queryClient.clear();
     const next = window.location.pathname + window.location.search;
     void router.navigate(`/sign-in?next=${encodeURIComponent(next)}&expired=1`, { replace: true });

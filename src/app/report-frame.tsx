@@ -1,6 +1,7 @@
 import { useMemo } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
 import type { LoaderFunctionArgs } from "react-router";
+import { causeKeys } from "@/features/causes/api/causes.queries";
 import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { reportKeys } from "@/features/reports/api/reports.queries";
@@ -20,6 +21,7 @@ export function makeReportLoader(kind: ReportKind, ready: (p: Record<string, str
       await requireCapability(qc, "reports.read");
       void qc.prefetchQuery(plantKeys.setup());
       void qc.prefetchQuery(catalogueKeys.list(true));
+      void qc.prefetchQuery(causeKeys.taxonomy(true));
       const params = readReportParams(kind, new URL(request.url).searchParams);
       if (ready(params)) void qc.prefetchQuery(reportKeys.report(kind, params));
       return null;
@@ -29,6 +31,7 @@ export function makeReportLoader(kind: ReportKind, ready: (p: Record<string, str
 export function useFilterChoices(): FilterChoices {
   const setup = useQuery(plantKeys.setup());
   const catalogue = useQuery(catalogueKeys.list(true));
+  const causes = useQuery(causeKeys.taxonomy(true));
   return useMemo(
     () => ({
       casters: (setup.data?.casters ?? []).map((c) => ({ code: c.code, strands: c.strands.map((s) => s.strandNo).sort((a, b) => a - b) })),
@@ -38,8 +41,9 @@ export function useFilterChoices(): FilterChoices {
         name: c.name,
         types: (catalogue.data?.types ?? []).filter((t) => t.categoryCode === c.code).map((t) => ({ code: t.code, name: t.name, active: t.active })),
       })),
+      causeGroups: (causes.data?.groups ?? []).map((g) => ({ code: g.code, name: g.name, tags: g.tags.map((t) => ({ code: t.code, name: t.name, retired: t.retired })) })),
     }),
-    [setup.data, catalogue.data],
+    [setup.data, catalogue.data, causes.data],
   );
 }
 

@@ -18,6 +18,9 @@ function lazyRoute(qc: QueryClient, load: () => Promise<RouteModule>) {
 export function createRouter(qc: QueryClient) {
   return createBrowserRouter([
     { path: "/sign-in", lazy: lazyRoute(qc, () => import("./routes/sign-in")) },
+    // Signed out on purpose: someone who forgot the password has no session.
+    { path: "/forgot-password", lazy: lazyRoute(qc, () => import("./routes/forgot-password")) },
+    { path: "/reset-password", lazy: lazyRoute(qc, () => import("./routes/reset-password")) },
     {
       path: "/",
       lazy: lazyRoute(qc, () => import("./routes/app-layout")),
@@ -41,10 +44,16 @@ export function createRouter(qc: QueryClient) {
         { path: "reports/control-chart", lazy: lazyRoute(qc, () => import("./routes/report-control-chart")) },
         { path: "reports/before-after", lazy: lazyRoute(qc, () => import("./routes/report-before-after")) },
         { path: "reports/slab-positions", lazy: lazyRoute(qc, () => import("./routes/report-slab-positions")) },
+        { path: "reports/cause-pareto", lazy: lazyRoute(qc, () => import("./routes/report-cause-pareto")) },
+        { path: "causes", lazy: lazyRoute(qc, () => import("./routes/causes")) },
+        { path: "investigations", lazy: lazyRoute(qc, () => import("./routes/investigations")) },
+        { path: "investigations/new", lazy: lazyRoute(qc, () => import("./routes/investigation-new")) },
+        { path: "investigations/:id", lazy: lazyRoute(qc, () => import("./routes/investigation")) },
         { path: "import", lazy: lazyRoute(qc, () => import("./routes/import")) },
         { path: "setup", lazy: lazyRoute(qc, () => import("./routes/setup")) },
         { path: "admin/users", lazy: lazyRoute(qc, () => import("./routes/admin-users")) },
         { path: "admin/tokens", lazy: lazyRoute(qc, () => import("./routes/admin-tokens")) },
+        { path: "admin/outbox", lazy: lazyRoute(qc, () => import("./routes/admin-outbox")) },
         { path: "no-role", lazy: lazyRoute(qc, () => import("./routes/no-role")) },
         { path: "*", lazy: lazyRoute(qc, () => import("./routes/not-found")) },
       ],

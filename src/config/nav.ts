@@ -22,10 +22,13 @@ export const NAV_ITEMS: NavItem[] = [
   { to: "/claims", label: "Claims", capability: "claims.manage" },
   { to: "/heats", label: "Heats", capability: "heats.browse", subPathsOpen: true },
   { to: "/reports", label: "Reports", capability: "reports.read" },
+  { to: "/investigations", label: "Investigations", capability: "investigations.read" },
+  { to: "/causes", label: "Cause tags", capability: "causes.read" },
   { to: "/import", label: "Import", capability: "imports.run" },
   { to: "/setup", label: "Plant setup", capability: "setup.manage" },
   { to: "/admin/users", label: "Users", capability: "users.manage" },
   { to: "/admin/tokens", label: "API tokens", capability: "tokens.manage" },
+  { to: "/admin/outbox", label: "Mail outbox", capability: "outbox.read" },
 ];
 
 export function navFor(roles: Role[]): NavItem[] {

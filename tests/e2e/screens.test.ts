@@ -12,6 +12,8 @@ const heat = () => env.server.db.$client.prepare("select heat_no from heats orde
 const slab = () =>
   env.server.db.$client.prepare("select s.slab_id from slabs s where exists (select 1 from defects d where d.slab_id = s.id) limit 1").pluck().get() as string;
 
+const investigation = () => env.server.db.$client.prepare("select id from investigations order by id limit 1").pluck().get() as number;
+
 const SCREENS: { role: string; name: string; path: () => string }[] = [
   { role: "inspector", name: "yard", path: () => "/yard" },
   { role: "inspector", name: "slab", path: () => `/slabs/${slab()}` },
@@ -29,13 +31,27 @@ const SCREENS: { role: string; name: string; path: () => string }[] = [
   { role: "quality", name: "report-control-chart", path: () => "/reports/control-chart?period=week" },
   { role: "quality", name: "report-before-after", path: () => "/reports/before-after?defectType=SLG" },
   { role: "quality", name: "report-slab-positions", path: () => "/reports/slab-positions" },
+  { role: "quality", name: "report-cause-pareto", path: () => "/reports/cause-pareto" },
+  { role: "quality", name: "causes-read", path: () => "/causes" },
+  { role: "quality", name: "slab-causes-read", path: () => `/slabs/${slab()}` },
+  { role: "quality", name: "investigations-read", path: () => "/investigations?status=" },
+  { role: "quality", name: "investigation-read", path: () => `/investigations/${investigation()}` },
   { role: "process", name: "process-home", path: () => "/process" },
   { role: "process", name: "import", path: () => "/import" },
   { role: "process", name: "setup", path: () => "/setup" },
+  { role: "process", name: "causes", path: () => "/causes" },
+  { role: "process", name: "slab-causes", path: () => `/slabs/${slab()}` },
+  { role: "process", name: "heat-process", path: () => `/heats/${heat()}` },
+  { role: "process", name: "report-cause-pareto-process", path: () => "/reports/cause-pareto?minConfidence=probable" },
+  { role: "process", name: "investigations", path: () => "/investigations" },
+  { role: "process", name: "investigation-new", path: () => `/investigations/new?heat=${heat()}` },
+  { role: "process", name: "investigation", path: () => `/investigations/${investigation()}` },
   { role: "claims", name: "claims-home", path: () => "/claims" },
   { role: "claims", name: "report-overview-claims", path: () => "/reports/overview" },
+  { role: "claims", name: "investigations-claims", path: () => "/investigations" },
   { role: "admin", name: "users", path: () => "/admin/users" },
   { role: "admin", name: "tokens", path: () => "/admin/tokens" },
+  { role: "admin", name: "outbox", path: () => "/admin/outbox" },
 ];
 
 describe.each([

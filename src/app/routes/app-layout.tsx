@@ -97,7 +97,8 @@ export function Component() {
                 to={i.to}
                 end={items.some((o) => o.to.startsWith(i.to + "/"))}
                 className={({ isActive }) =>
-                  `flex min-h-12 items-center whitespace-nowrap rounded-md px-3 text-sm font-semibold ${
+                  // The administrator's long menu packs tighter so it keeps to one row on a wide screen.
+                  `flex min-h-12 items-center whitespace-nowrap rounded-md ${items.length > 12 ? "px-2" : "px-3"} text-sm font-semibold ${
                     isActive ? "bg-strand-700 text-white" : "text-ink-200 hover:bg-ink-800 hover:text-white"
                   }`
                 }

@@ -1,7 +1,8 @@
-import { lazy, Suspense } from "react";
+import { lazy, Suspense, useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link, useParams, type LoaderFunctionArgs } from "react-router";
 import { can } from "@shared/roles";
+import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -9,6 +10,14 @@ import { heatKeys } from "@/features/heats/api/heats.queries";
 import { ChemistryTable, DerivedTable, HeatConditions, HeatFacts } from "@/features/heats/components/heat-sections";
 import { HeatSlabsTable } from "@/features/heats/components/heat-slabs-table";
 import { authKeys } from "@/features/auth/api/session";
+import { BulkTagPanel, type BulkSelection } from "@/features/causes/components/bulk-tag-panel";
+import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
+import { defectKeys } from "@/features/defects/api/defects.queries";
+import { investigationKeys } from "@/features/investigations/api/investigations.queries";
+import { InvestigationsTable } from "@/features/investigations/components/investigations-table";
+import { reportKeys } from "@/features/reports/api/reports.queries";
+import { slabKeys } from "@/features/slabs/api/slabs.queries";
+import type { HeatDetail } from "@shared/api/heats";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -39,6 +48,56 @@ function Samples({ heatNo }: { heatNo: string }) {
   );
 }
 
+/** Tagging many defects at once: this heat's, or its whole sequence's. */
+function BulkTagging({ heat }: { heat: HeatDetail }) {
+  const [scope, setScope] = useState<"heat" | "sequence" | null>(null);
+  const catalogue = useQuery(catalogueKeys.list(false));
+  const types = (catalogue.data?.types ?? []).map((t) => ({ code: t.code, name: t.name }));
+  const selection: BulkSelection | null =
+    scope === "heat" ? { kind: "heat", heatNo: heat.heatNo } : scope === "sequence" && heat.sequenceNo ? { kind: "sequence", sequenceNo: heat.sequenceNo } : null;
+  return (
+    <Card title="Tag causes on many defects">
+      {!selection ? (
+        <div className="flex flex-wrap items-center gap-2">
+          <Button onClick={() => setScope("heat")} data-testid="bulk-tag-heat">
+            Tag this heat's defects
+          </Button>
+          {heat.sequenceNo ? (
+            <Button variant="secondary" onClick={() => setScope("sequence")} data-testid="bulk-tag-sequence">
+              Tag every defect of sequence {heat.sequenceNo}
+            </Button>
+          ) : null}
+          <p className="text-sm text-ink-600">The same causes, confidence and note on every live defect; you see the count before anything is written.</p>
+        </div>
+      ) : (
+        <div className="space-y-2">
+          <h3 className="text-sm font-bold">
+            {selection.kind === "heat" ? `Every live defect of heat ${heat.heatNo}` : `Every live defect of sequence ${heat.sequenceNo} (${heat.sequenceHeats ?? "several"} heats)`}
+          </h3>
+          <BulkTagPanel
+            key={scope}
+            selection={selection}
+            describe={selection.kind === "heat" ? `heat ${heat.heatNo}` : `sequence ${heat.sequenceNo}`}
+            defectTypes={types}
+            affects={[heatKeys.all, slabKeys.all, defectKeys.all, reportKeys.all]}
+            onClose={() => setScope(null)}
+          />
+          <Button variant="ghost" onClick={() => setScope(null)}>
+            Done
+          </Button>
+        </div>
+      )}
+    </Card>
+  );
+}
+
+function HeatInvestigations({ heatNo }: { heatNo: string }) {
+  const list = useQuery(investigationKeys.list({ heatNo }));
+  if (list.isPending) return <Spinner label="Loading investigations" />;
+  if (list.isError) return <Notice tone="error">{list.error.message}</Notice>;
+  return <InvestigationsTable items={list.data.items} empty="No investigation looks at this heat yet." />;
+}
+
 export function Component() {
   const { heatNo = "" } = useParams();
   const heat = useQuery(heatKeys.detail(heatNo));
@@ -48,6 +107,7 @@ export function Component() {
   const h = heat.data;
   const slabs = h.slabs.length;
   const affected = h.slabs.filter((s) => s.defects > 0).length;
+  const roles = me.data?.roles ?? [];
   return (
     <div className="space-y-5">
       <PageHeader
@@ -56,11 +116,22 @@ export function Component() {
           slabs === 0 ? "no slabs on record yet" : `${slabs} slab${slabs === 1 ? "" : "s"}, ${affected} of them with a defect`
         }`}
         actions={
-          me.data && can(me.data.roles, "heats.browse") ? (
-            <Link to="/heats" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
-              All heats
-            </Link>
-          ) : null
+          <div className="flex flex-wrap gap-2">
+            {can(roles, "investigations.manage") ? (
+              <Link
+                to={`/investigations/new?heat=${encodeURIComponent(h.heatNo)}`}
+                className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800"
+                data-testid="open-investigation-heat"
+              >
+                Open an investigation
+              </Link>
+            ) : null}
+            {can(roles, "heats.browse") ? (
+              <Link to="/heats" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
+                All heats
+              </Link>
+            ) : null}
+          </div>
         }
       />
       <Card>
@@ -83,6 +154,12 @@ export function Component() {
       <Card title={`Slabs (${slabs})`} bodyClassName="px-2 py-3 md:px-3 xl:p-4">
         <HeatSlabsTable slabs={h.slabs} />
       </Card>
+      {can(roles, "causes.tag") && h.slabs.some((s) => s.defects > 0) ? <BulkTagging heat={h} /> : null}
+      {can(roles, "investigations.read") ? (
+        <Card title="Investigations on this heat" bodyClassName="px-2 py-3 md:p-4">
+          <HeatInvestigations heatNo={h.heatNo} />
+        </Card>
+      ) : null}
     </div>
   );
 }

@@ -1,6 +1,11 @@
-import type { QueryClient } from "@tanstack/react-query";
+import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link } from "react-router";
-import { PageHeader } from "@/components/ui/card";
+import { Card, PageHeader } from "@/components/ui/card";
+import { Spinner } from "@/components/ui/logo";
+import { Notice } from "@/components/ui/notice";
+import { investigationKeys } from "@/features/investigations/api/investigations.queries";
+import { InvestigationStatusMark, OverdueMark } from "@/features/investigations/components/investigation-marks";
+import { plural } from "@/lib/format";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { PlantSetupView } from "@/features/plant/components/plant-setup-view";
 import { SummaryPanel } from "@/features/plant/components/summary-panel";
@@ -11,8 +16,52 @@ export function makeLoader(qc: QueryClient) {
   return async () => {
     await requireCapability(qc, "setup.manage");
     void qc.prefetchQuery(plantKeys.setup());
+    void qc.prefetchQuery(investigationKeys.list({ status: "active" }));
     return null;
   };
+}
+
+/** The engineer's open investigations, those with overdue actions first. */
+function OpenInvestigations() {
+  const list = useQuery(investigationKeys.list({ status: "active" }));
+  if (list.isPending) return <Spinner label="Loading investigations" />;
+  if (list.isError) return <Notice tone="error">{list.error.message}</Notice>;
+  const items = [...list.data.items].sort((a, b) => b.actions.overdue - a.actions.overdue || a.openedAt.localeCompare(b.openedAt));
+  const overdue = items.reduce((n, i) => n + i.actions.overdue, 0);
+  return (
+    <div className="space-y-3" data-testid="process-investigations">
+      <p className="text-sm text-ink-700">
+        {plural(items.length, "investigation")} open or under way
+        {overdue ? (
+          <>
+            {" · "}
+            <OverdueMark label={`${plural(overdue, "action")} overdue`} />
+          </>
+        ) : (
+          ", no action overdue"
+        )}
+      </p>
+      {items.length ? (
+        <ul className="divide-y divide-ink-100">
+          {items.map((i) => (
+            <li key={i.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 py-1" data-testid="process-investigation">
+              <Link to={`/investigations/${i.id}`} className="inline-flex min-h-11 flex-1 items-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+                {i.ref} · {i.title}
+              </Link>
+              <InvestigationStatusMark status={i.status} />
+              <span className="text-sm text-ink-700">
+                {i.actions.open} open {i.actions.open === 1 ? "action" : "actions"}
+              </span>
+              {i.actions.overdue ? <OverdueMark label={`${i.actions.overdue} overdue`} /> : null}
+            </li>
+          ))}
+        </ul>
+      ) : null}
+      <Link to="/investigations" className="inline-flex min-h-11 items-center text-sm font-semibold text-strand-700 underline">
+        All investigations
+      </Link>
+    </div>
+  );
 }
 
 export function Component() {
@@ -35,6 +84,9 @@ export function Component() {
           </div>
         }
       />
+      <Card title="Investigations">
+        <OpenInvestigations />
+      </Card>
       <PlantSetupView />
       <SummaryPanel />
     </div>

@@ -1,7 +1,7 @@
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { useQuery, useQueryClient } from "@tanstack/react-query";
-import { useNavigate, useSearchParams } from "react-router";
+import { Link, useNavigate, useSearchParams } from "react-router";
 import { z } from "zod";
 import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
@@ -71,6 +71,11 @@ export function Component() {
           <Button type="submit" size="lg" className="w-full" disabled={form.formState.isSubmitting}>
             {form.formState.isSubmitting ? "Signing in…" : "Sign in"}
           </Button>
+          <p className="text-center">
+            <Link to="/forgot-password" className="inline-flex min-h-11 items-center text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+              Forgot your password?
+            </Link>
+          </p>
           {about.data?.demo && about.data.demoAccounts.length > 0 ? (
             <div className="rounded-md border border-dashed border-ink-300 bg-white p-3 text-sm text-ink-700">
               <p className="font-semibold">Invented demo plant — demo sign-ins</p>

@@ -5,7 +5,10 @@ import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { authKeys } from "@/features/auth/api/session";
+import { DefectCausesPanel } from "@/features/causes/components/defect-causes";
 import { defectKeys } from "@/features/defects/api/defects.queries";
+import { heatKeys } from "@/features/heats/api/heats.queries";
+import { reportKeys } from "@/features/reports/api/reports.queries";
 import { PhotoStrip } from "@/features/defects/components/photo-viewer";
 import { slabKeys } from "@/features/slabs/api/slabs.queries";
 import { CrossSection, SlabDrawing, type DrawnMark } from "@/features/slabs/components/slab-drawing";
@@ -36,6 +39,11 @@ export function Component() {
   if (slab.isError) return <Notice tone="error">{slab.error.message}</Notice>;
   const s = slab.data;
   const inYard = me.data ? can(me.data.roles, "defects.log") : false;
+  const readsCauses = me.data ? can(me.data.roles, "causes.read") : false;
+  const tagsCauses = me.data ? can(me.data.roles, "causes.tag") : false;
+  const opensInvestigations = me.data ? can(me.data.roles, "investigations.manage") : false;
+  // A tagging shows on this slab, on its heat, in the defect lists and in the cause report.
+  const affects = [slabKeys.all, heatKeys.all, defectKeys.all, reportKeys.all];
   // Rejected entries stay visible, marked, but do not count as defects of the slab.
   const rejected = s.defects.filter((d) => d.reviewStatus === "rejected").length;
   const counted = s.defects.length - rejected;
@@ -91,6 +99,24 @@ export function Component() {
               const photos = withPhotos.data?.items.find((d) => d.id === id)?.photos;
               return photos ? <PhotoStrip photos={photos} label="Photos of the defect" size="h-20 w-20" /> : null;
             }}
+            more={
+              readsCauses
+                ? (d) => (
+                    <div className="space-y-2 rounded-md border border-ink-100 px-3 py-2">
+                      <DefectCausesPanel defectId={d.id} causes={d.causes} canTag={tagsCauses} affects={affects} />
+                      {opensInvestigations && d.reviewStatus !== "rejected" ? (
+                        <Link
+                          to={`/investigations/new?defect=${d.id}`}
+                          className="inline-flex min-h-11 items-center text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+                          data-testid="open-investigation-defect"
+                        >
+                          Open an investigation on this defect
+                        </Link>
+                      ) : null}
+                    </div>
+                  )
+                : undefined
+            }
           />
         </div>
       </Card>

@@ -38,3 +38,17 @@ export function useSignOut() {
     onSuccess: () => qc.clear(),
   });
 }
+
+/** Asks for a reset link by mail. The server answers the same whether or not the address has an account. */
+export function useRequestPasswordReset() {
+  return useMutation({
+    mutationFn: (email: string) => api("/auth/request-password-reset", { method: "POST", body: { email, redirectTo: "/reset-password" } }),
+  });
+}
+
+/** Sets a new password with the token from the mailed link. */
+export function useResetPassword() {
+  return useMutation({
+    mutationFn: (input: { token: string; newPassword: string }) => api("/auth/reset-password", { method: "POST", body: input }),
+  });
+}

@@ -8,6 +8,8 @@ export interface FilterChoices {
   casters: { code: string; strands: number[] }[];
   families: { code: string; name: string; grades: { code: string; name: string; active: boolean }[] }[];
   categories: { code: string; name: string; types: { code: string; name: string; active: boolean }[] }[];
+  /** The cause taxonomy by group (retired tags too: old taggings carry them). */
+  causeGroups: { code: string; name: string; tags: { code: string; name: string; retired: boolean }[] }[];
 }
 
 export const inputClass = "min-h-11 w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
@@ -116,19 +118,27 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
           <option value="no">Left out</option>
         </select>
       </label>
-      <div className="col-span-2 flex flex-wrap items-center gap-3 md:col-span-4 xl:col-span-8">
-        {/* The cause taxonomy comes with the cause-tagging screens; a link that already carries a cause keeps it, visibly. */}
-        {params.cause ? (
-          <span className="inline-flex min-h-9 items-center gap-2 rounded-md border border-ink-300 bg-ink-50 px-3 text-sm" data-testid="filter-cause">
-            Cause tag <strong>{params.cause}</strong>
-            <button type="button" className="font-semibold text-strand-700 underline" onClick={() => onChange({ cause: undefined })}>
-              remove
-            </button>
-          </span>
-        ) : null}
+      <label className={`${labelClass} col-span-2`}>
+        <span className={labelText}>Cause tag</span>
+        <select value={params.cause ?? ""} onChange={(e) => onChange({ cause: e.target.value || undefined })} className={inputClass} data-testid="filter-cause">
+          <option value="">Any cause, or none</option>
+          {params.cause && !choices.causeGroups.some((g) => g.tags.some((t) => t.code === params.cause)) ? <option value={params.cause}>{params.cause}</option> : null}
+          {choices.causeGroups.map((g) => (
+            <optgroup key={g.code} label={g.name}>
+              {g.tags.map((t) => (
+                <option key={t.code} value={t.code}>
+                  {t.name}
+                  {t.retired ? " (retired)" : ""}
+                </option>
+              ))}
+            </optgroup>
+          ))}
+        </select>
+      </label>
+      <div className="col-span-2 flex flex-wrap items-center gap-3 md:col-span-4 xl:col-span-6">
         <p className="text-xs text-ink-600">
           Dates, strand, grade and transition choose the slabs; defect type, stage and severity decide which of their defects count. A slab
-          is <em>affected</em> when at least one live, unrejected defect passes.
+          is <em>affected</em> when at least one live, unrejected defect passes. A cause tag keeps the defects that carry it (live taggings of any confidence).
         </p>
         <Button
           variant="ghost"

@@ -72,6 +72,12 @@ export const REPORTS: ReportSpec[] = [
     summary: "Where the defects sit: by face, along the length from the head end and across the width, drawn on the slab's unrolled faces.",
     defaults: { alongBins: "10", acrossBins: "5" },
   },
+  {
+    kind: "cause-pareto",
+    title: "Cause Pareto",
+    summary: "The cause tags of the defects passing the filters, largest first, with the cumulative share, the confidence of each tagging and how many defects carry no cause yet.",
+    defaults: { minConfidence: "suspected" },
+  },
 ];
 
 export const reportSpec = (kind: ReportKind): ReportSpec => REPORTS.find((r) => r.kind === kind)!;
@@ -140,6 +146,8 @@ export function describeSettings(kind: ReportKind, p: ReportParams): string {
       return p.mode === "variable" ? `${varLabel(p.variable)} ${p.aMin ?? "…"}–${p.aMax ?? "…"} against ${p.bMin ?? "…"}–${p.bMax ?? "…"}` : `${p.aFrom ?? "…"} to ${p.aTo ?? "…"} against ${p.bFrom ?? "…"} to ${p.bTo ?? "…"}`;
     case "slab-positions":
       return `${p.alongBins} bands along, ${p.acrossBins} across`;
+    case "cause-pareto":
+      return p.minConfidence === "suspected" || !p.minConfidence ? "every tagging" : `taggings ${p.minConfidence} or surer`;
     default:
       return "";
   }

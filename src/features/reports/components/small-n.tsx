@@ -5,12 +5,12 @@ import { Notice } from "@/components/ui/notice";
 export const FEW_SLABS = 30;
 
 /** The warnings of a report: the server's notes and the screen's own small-n findings. Nothing to warn of, nothing shown. */
-export function SmallNWarning({ notes, children }: { notes: string[]; children?: ReactNode }) {
+export function SmallNWarning({ notes, children, title = "Few slabs" }: { notes: string[]; children?: ReactNode; title?: string }) {
   const items = notes.filter(Boolean);
   if (items.length === 0 && !children) return null;
   return (
     <div data-testid="small-n-warning">
-      <Notice tone="caution" title="Few slabs">
+      <Notice tone="caution" title={title}>
         {items.length === 1 && !children ? (
           items[0]
         ) : (

@@ -150,8 +150,19 @@ export function SlabDerived({ conditions }: { conditions: ResolvedConditions | n
   );
 }
 
-/** The slab's defects; on a tablet each is a card, on a wide screen one table row. `photos` draws a defect's photos. */
-export function SlabDefects({ defects, photos }: { defects: SlabDetail["defects"]; photos?: (defectId: number) => ReactNode }) {
+/**
+ * The slab's defects; on a tablet each is a card, on a wide screen one table row. `photos` draws a
+ * defect's photos, `more` what the screen adds under each (its causes, an investigation link).
+ */
+export function SlabDefects({
+  defects,
+  photos,
+  more,
+}: {
+  defects: SlabDetail["defects"];
+  photos?: (defectId: number) => ReactNode;
+  more?: (defect: SlabDetail["defects"][number]) => ReactNode;
+}) {
   if (defects.length === 0) return <p className="text-sm text-ink-600" data-testid="slab-defects-empty">No defects on record for this slab.</p>;
   return (
     <ul className="divide-y divide-ink-100" data-testid="slab-defects">
@@ -195,6 +206,7 @@ export function SlabDefects({ defects, photos }: { defects: SlabDetail["defects"
           </div>
           {d.note ? <p className="text-sm text-ink-700 md:col-span-4">“{d.note}”</p> : null}
           {d.photoCount > 0 && photos ? <div className="md:col-span-4">{photos(d.id)}</div> : null}
+          {more ? <div className="md:col-span-4">{more(d)}</div> : null}
         </li>
       ))}
     </ul>

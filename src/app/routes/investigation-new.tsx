@@ -1,0 +1,61 @@
+import { useQueries, useQuery, type QueryClient } from "@tanstack/react-query";
+import { Link, useNavigate, useSearchParams } from "react-router";
+import { Card, PageHeader } from "@/components/ui/card";
+import { Spinner } from "@/components/ui/logo";
+import { Notice } from "@/components/ui/notice";
+import { authKeys } from "@/features/auth/api/session";
+import { defectKeys } from "@/features/defects/api/defects.queries";
+import { investigationKeys } from "@/features/investigations/api/investigations.queries";
+import { heatList, NewInvestigationForm } from "@/features/investigations/components/new-investigation-form";
+import { requireCapability } from "../guard";
+import { RouteError } from "./route-error";
+
+export function makeLoader(qc: QueryClient) {
+  return async () => {
+    await requireCapability(qc, "investigations.manage");
+    void qc.prefetchQuery(investigationKeys.people());
+    return null;
+  };
+}
+
+/** /investigations/new?heat=H1,H2&defect=12,13 — the heat or slab page it came from names its subjects. */
+export function Component() {
+  const [sp] = useSearchParams();
+  const navigate = useNavigate();
+  const heats = heatList(sp.get("heat") ?? "");
+  const defectIds = (sp.get("defect") ?? "").split(",").map(Number).filter((n) => Number.isInteger(n) && n > 0);
+  const people = useQuery(investigationKeys.people());
+  const me = useQuery(authKeys.me());
+  const defects = useQueries({ queries: defectIds.map((id) => defectKeys.detail(id)) });
+  const waiting = people.isPending || defects.some((d) => d.isPending);
+  const failed = people.error ?? defects.find((d) => d.isError)?.error;
+  const back = heats.length === 1 && defectIds.length === 0 ? `/heats/${encodeURIComponent(heats[0]!)}` : "/investigations";
+  return (
+    <div className="space-y-5">
+      <div>
+        <Link to="/investigations" className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+          All investigations
+        </Link>
+      </div>
+      <PageHeader title="Open an investigation" subtitle="Name the problem, the heats or defects it concerns, and who owns it. Hypotheses and actions follow on its page." />
+      <Card>
+        {waiting ? (
+          <Spinner label="Loading" />
+        ) : failed ? (
+          <Notice tone="error">{failed.message}</Notice>
+        ) : (
+          <NewInvestigationForm
+            people={people.data!.people}
+            meId={me.data?.id ?? ""}
+            heatNos={heats}
+            defects={defects.map((d) => ({ id: d.data!.id, label: `Slab ${d.data!.slabId}, ${d.data!.typeCode} ${d.data!.typeName}` }))}
+            onCreated={(inv) => navigate(`/investigations/${inv.id}`)}
+            onCancel={() => navigate(back)}
+          />
+        )}
+      </Card>
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteError;

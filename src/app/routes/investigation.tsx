@@ -1,0 +1,77 @@
+import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { Link, useParams, type LoaderFunctionArgs } from "react-router";
+import { can } from "@shared/roles";
+import { PageHeader } from "@/components/ui/card";
+import { Spinner } from "@/components/ui/logo";
+import { Notice } from "@/components/ui/notice";
+import { authKeys } from "@/features/auth/api/session";
+import { causeKeys } from "@/features/causes/api/causes.queries";
+import { investigationKeys } from "@/features/investigations/api/investigations.queries";
+import {
+  ActionsCard,
+  AttachmentsCard,
+  ClosureCard,
+  HistoryCard,
+  HypothesesCard,
+  InvestigationSummaryCard,
+  ParticipantsCard,
+  Section,
+  SubjectsCard,
+  type TagOption,
+} from "@/features/investigations/components/investigation-detail";
+import { requireCapability } from "../guard";
+import { RouteError } from "./route-error";
+
+const idOf = (raw: string | undefined) => Number(raw);
+
+export function makeLoader(qc: QueryClient) {
+  return async ({ params }: LoaderFunctionArgs) => {
+    const me = await requireCapability(qc, "investigations.read");
+    if (can(me.roles, "investigations.manage")) {
+      void qc.prefetchQuery(investigationKeys.people());
+      void qc.prefetchQuery(causeKeys.taxonomy(false));
+    }
+    await qc.ensureQueryData(investigationKeys.detail(idOf(params.id)));
+    return null;
+  };
+}
+
+export function Component() {
+  const { id } = useParams();
+  const me = useQuery(authKeys.me());
+  const canManage = me.data ? can(me.data.roles, "investigations.manage") : false;
+  const inv = useQuery(investigationKeys.detail(idOf(id)));
+  const people = useQuery({ ...investigationKeys.people(), enabled: canManage });
+  const taxonomy = useQuery({ ...causeKeys.taxonomy(false), enabled: canManage });
+  if (inv.isPending) return <Spinner label="Loading the investigation" />;
+  if (inv.isError) return <Notice tone="error">{inv.error.message}</Notice>;
+  const i = inv.data;
+  const persons = people.data?.people ?? [];
+  // Cause tags come from the causes feature; the investigation's pieces take them as plain options.
+  const tags: TagOption[] = (taxonomy.data?.groups ?? []).flatMap((g) => g.tags.filter((t) => !t.retired).map((t) => ({ code: t.code, name: t.name, group: g.name })));
+  const editable = canManage && i.status !== "closed";
+  return (
+    <div className="space-y-5">
+      <div>
+        <Link to="/investigations" className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+          All investigations
+        </Link>
+      </div>
+      <PageHeader title={i.title} subtitle={`${i.ref} · owner ${i.owner?.name ?? "not set"}${canManage ? "" : " · you can read it; process engineers change it"}`} />
+      <InvestigationSummaryCard inv={i} canManage={canManage} people={persons} />
+      <SubjectsCard inv={i} canManage={canManage} />
+      <Section>
+        <HypothesesCard inv={i} canManage={canManage} tags={tags} />
+        <ActionsCard inv={i} canManage={canManage} people={persons} />
+      </Section>
+      <Section>
+        <AttachmentsCard inv={i} canManage={canManage} />
+        <ParticipantsCard inv={i} canManage={canManage} people={persons} />
+      </Section>
+      {editable ? <ClosureCard inv={i} tags={tags} /> : null}
+      <HistoryCard inv={i} />
+    </div>
+  );
+}
+
+export const ErrorBoundary = RouteError;

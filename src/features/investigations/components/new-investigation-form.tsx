@@ -1,0 +1,153 @@
+import { useForm } from "react-hook-form";
+import { zodResolver } from "@hookform/resolvers/zod";
+import { z } from "zod";
+import type { Investigation, Person } from "@shared/api/investigations";
+import { Button } from "@/components/ui/button";
+import { TextField } from "@/components/ui/field";
+import { Notice } from "@/components/ui/notice";
+import { useCreateInvestigation } from "../api/investigations.queries";
+
+/** Heat numbers as a person types them: commas, spaces or new lines between. */
+export const heatList = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean))];
+
+const formSchema = z
+  .object({
+    title: z.string().trim().min(3, "Give the investigation a title.").max(160),
+    problemStatement: z.string().trim().min(10, "Describe the problem in a sentence or two.").max(5000),
+    ownerId: z.string(),
+    heats: z.string().max(5000),
+    defectIds: z.array(z.number().int().positive()),
+    participantIds: z.array(z.string()),
+  })
+  .refine((v) => v.defectIds.length + heatList(v.heats).length > 0, { message: "Enter at least one heat number (or open it from a defect).", path: ["heats"] });
+type FormValues = z.infer<typeof formSchema>;
+
+const inputClass = "min-h-11 w-full rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
+
+export function NewInvestigationForm({
+  people,
+  meId,
+  heatNos,
+  defects,
+  onCreated,
+  onCancel,
+}: {
+  people: Person[];
+  meId: string;
+  /** Heats the screen it came from already names. */
+  heatNos: string[];
+  /** Defects it came from, with a label each ("slab S1, SLG"). */
+  defects: { id: number; label: string }[];
+  onCreated: (inv: Investigation) => void;
+  onCancel: () => void;
+}) {
+  const create = useCreateInvestigation();
+  const form = useForm<FormValues>({
+    resolver: zodResolver(formSchema),
+    defaultValues: {
+      title: "",
+      problemStatement: "",
+      ownerId: people.some((p) => p.id === meId) ? meId : (people[0]?.id ?? ""),
+      heats: heatNos.join(", "),
+      defectIds: defects.map((d) => d.id),
+      participantIds: [],
+    },
+  });
+  const e = form.formState.errors;
+  const chosenDefects = form.watch("defectIds");
+  const participants = form.watch("participantIds");
+  const ownerId = form.watch("ownerId");
+  return (
+    <form
+      noValidate
+      aria-label="New investigation"
+      className="space-y-4"
+      onSubmit={form.handleSubmit((v) =>
+        create.mutate(
+          {
+            title: v.title,
+            problemStatement: v.problemStatement,
+            ownerId: v.ownerId || undefined,
+            heatNos: heatList(v.heats),
+            defectIds: v.defectIds,
+            participantIds: v.participantIds.filter((p) => p !== v.ownerId),
+          },
+          { onSuccess: onCreated },
+        ),
+      )}
+    >
+      {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
+      <TextField label="Title" {...form.register("title")} error={e.title?.message} placeholder="Slag spots on LV-ST32, strand 2" />
+      <div className="flex flex-col gap-1">
+        <label htmlFor="inv-problem" className="text-sm font-semibold text-ink-800">
+          Problem statement
+        </label>
+        <textarea id="inv-problem" rows={4} {...form.register("problemStatement")} className="rounded-md border border-ink-300 bg-white px-3 py-2 text-sm" placeholder="What was found, where, since when, how often" />
+        {e.problemStatement ? (
+          <p role="alert" className="text-sm font-medium text-alarm-700">
+            {e.problemStatement.message}
+          </p>
+        ) : null}
+      </div>
+      <div className="grid gap-4 md:grid-cols-2">
+        <div className="flex flex-col gap-1">
+          <label htmlFor="inv-owner" className="text-sm font-semibold text-ink-800">
+            Owner
+          </label>
+          <select id="inv-owner" {...form.register("ownerId")} className={inputClass}>
+            {people.map((p) => (
+              <option key={p.id} value={p.id}>
+                {p.name}
+              </option>
+            ))}
+          </select>
+        </div>
+        <TextField label="Heat numbers" hint="Separate them with commas or spaces." {...form.register("heats")} error={e.heats?.message} />
+      </div>
+      {defects.length ? (
+        <fieldset>
+          <legend className="mb-1 text-sm font-semibold text-ink-800">Defects</legend>
+          <div className="flex flex-wrap gap-2">
+            {defects.map((d) => (
+              <label key={d.id} className="flex min-h-11 items-center gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm">
+                <input
+                  type="checkbox"
+                  className="h-4 w-4"
+                  checked={chosenDefects.includes(d.id)}
+                  onChange={(ev) => form.setValue("defectIds", ev.target.checked ? [...chosenDefects, d.id] : chosenDefects.filter((x) => x !== d.id))}
+                />
+                {d.label}
+              </label>
+            ))}
+          </div>
+        </fieldset>
+      ) : null}
+      <fieldset>
+        <legend className="mb-1 text-sm font-semibold text-ink-800">Participants (optional)</legend>
+        <div className="grid gap-1 sm:grid-cols-2 xl:grid-cols-3">
+          {people
+            .filter((p) => p.id !== ownerId)
+            .map((p) => (
+              <label key={p.id} className="flex min-h-11 items-center gap-2 rounded px-2 text-sm hover:bg-ink-50">
+                <input
+                  type="checkbox"
+                  className="h-4 w-4"
+                  checked={participants.includes(p.id)}
+                  onChange={(ev) => form.setValue("participantIds", ev.target.checked ? [...participants, p.id] : participants.filter((x) => x !== p.id))}
+                />
+                {p.name}
+              </label>
+            ))}
+        </div>
+      </fieldset>
+      <div className="flex gap-2">
+        <Button type="submit" disabled={create.isPending}>
+          {create.isPending ? "Opening…" : "Open the investigation"}
+        </Button>
+        <Button variant="ghost" onClick={onCancel}>
+          Cancel
+        </Button>
+      </div>
+    </form>
+  );
+}

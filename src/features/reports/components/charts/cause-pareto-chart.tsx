@@ -1,0 +1,83 @@
+import { useMemo } from "react";
+import type { CausePareto } from "@shared/api/causes";
+import { INK, SERIES_COLORS } from "@/lib/chart-theme";
+import { pct } from "@/lib/format";
+import { esc, pctAxis, tooltipBase } from "./chart-parts";
+import { ReportChart } from "./report-chart";
+
+/**
+ * The Pareto of cause tags: defects carrying each tag as bars split by confidence (solid confirmed,
+ * lighter probable, hatched suspected — a pattern as well as a shade), and the cumulative share of
+ * taggings as a dashed line.
+ */
+export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
+  const option = useMemo(() => {
+    const stack = [
+      { key: "confirmed" as const, name: "Confirmed", style: { color: SERIES_COLORS[0] } },
+      { key: "probable" as const, name: "Probable", style: { color: "#6fa9b3" } },
+      {
+        key: "suspected" as const,
+        name: "Suspected",
+        style: { color: "#ffffff", borderColor: SERIES_COLORS[0], borderWidth: 1.2, decal: { symbol: "rect", symbolSize: 1, dashArrayX: [1, 0], dashArrayY: [2, 3], rotation: Math.PI / 4, color: "rgba(11,93,107,0.55)" } },
+      },
+    ];
+    return {
+      animation: false,
+      grid: { left: 72, right: 72, top: 48, bottom: 96 },
+      legend: { top: 4, data: [...stack.map((s) => s.name), "Cumulative share"] },
+      tooltip: {
+        ...tooltipBase,
+        trigger: "axis",
+        axisPointer: { type: "shadow" },
+        formatter: (ps: { dataIndex: number }[]) => {
+          const r = rows[ps[0]?.dataIndex ?? 0];
+          if (!r) return "";
+          return `<b>${esc(r.name)}</b>${r.retired ? " (retired)" : ""}<br/>${r.defects} defects on ${r.slabs} slabs<br/>confirmed ${r.confirmed} · probable ${r.probable} · suspected ${r.suspected}<br/>${pct(r.share, 1)} of taggings; cumulative ${pct(r.cumulative, 1)}`;
+        },
+      },
+      xAxis: {
+        type: "category",
+        data: rows.map((r) => r.name),
+        name: "Cause tag",
+        nameLocation: "middle",
+        nameGap: 80,
+        axisLabel: { interval: 0, fontSize: 11, rotate: rows.length > 4 ? 25 : 0, width: rows.length > 4 ? 150 : 180, overflow: "truncate" },
+      },
+      yAxis: [
+        { type: "value", name: "Defects", nameLocation: "middle", nameRotate: 90, nameGap: 46, minInterval: 1 },
+        { type: "value", name: "Cumulative share", nameLocation: "middle", nameRotate: -90, nameGap: 50, min: 0, max: 1, splitLine: { show: false }, axisLabel: { formatter: pctAxis(0) } },
+      ],
+      series: [
+        ...stack.map((s) => ({
+          type: "bar",
+          name: s.name,
+          stack: "defects",
+          barMaxWidth: 48,
+          itemStyle: s.style,
+          data: rows.map((r) => r[s.key]),
+        })),
+        {
+          type: "line",
+          name: "Cumulative share",
+          yAxisIndex: 1,
+          symbol: "circle",
+          symbolSize: 6,
+          showSymbol: true,
+          itemStyle: { color: SERIES_COLORS[1] },
+          lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 2 },
+          data: rows.map((r) => r.cumulative),
+          markLine: {
+            silent: true,
+            symbol: "none",
+            lineStyle: { color: INK[600], type: "dotted", width: 1.2 },
+            label: { formatter: "80 %", position: "insideEndTop", color: INK[700] },
+            data: [{ yAxis: 0.8 }],
+          },
+        },
+      ],
+    };
+  }, [rows]);
+  return <ReportChart option={option} height={380} testId="cause-pareto-chart" label={`Pareto of ${rows.length} cause tags`} />;
+}
+
+export default CauseParetoChart;
