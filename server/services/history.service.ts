@@ -189,6 +189,8 @@ export function trace(db: Db, q: string): Trace {
 // ---------------------------------------------------------------------------------------------
 
 type Col = { header: string; key: string; width?: number; numFmt?: string };
+/** Thumbnails embedded per defect; the rest are counted and open from the app. */
+const MAX_THUMBS = 3;
 const DT = "yyyy-mm-dd hh:mm";
 const N0 = "#,##0";
 const D1 = "0.0";
@@ -331,7 +333,8 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
     { header: "Coils / plates", key: "products", width: 24 },
   ], hist.slabs.map((s) => ({ ...s, castAt: date(s.castAt), transition: s.transition ? "yes" : "no", disposition: s.disposition ? (DISPOSITION_LABELS[s.disposition as Disposition] ?? s.disposition) : null, products: s.products.join(", ") })), title);
 
-  // Defects, with the first photo's thumbnail embedded and a link to the slab.
+  // Defects, with up to three photo thumbnails embedded each (links to the full photos) and a link to the slab.
+  const photoSlots = Math.min(MAX_THUMBS, Math.max(0, ...hist.defects.map((d) => d.photos.length)));
   const defCols: Col[] = [
     { header: "Defect id", key: "id" },
     { header: "Slab", key: "slab", width: 18 },
@@ -352,7 +355,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
     { header: "Note", key: "note", width: 36 },
     { header: "Causes (live)", key: "causes", width: 26 },
     { header: "Photos", key: "photoCount" },
-    { header: "Photo", key: "photo", width: 16 },
+    ...Array.from({ length: photoSlots }, (_, k) => ({ header: `Photo ${k + 1}`, key: `photo${k}`, width: 16 })),
   ];
   const defWs = table(wb, "Defects", defCols, hist.defects.map((d) => ({
     ...d,
@@ -364,22 +367,20 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
     foundAt: date(d.foundAt),
     causes: d.causes.join(", "),
     photoCount: d.photos.length,
-    photo: null,
   })), title);
-  const photoCol = defCols.findIndex((c) => c.key === "photo");
+  const firstPhotoCol = defCols.findIndex((c) => c.key === "photo0");
   const thumbOf = sqlite.prepare("select thumb_file from defect_photos where id = ?").pluck();
   hist.defects.forEach((d, i) => {
-    const first = d.photos[0];
-    if (!first) return;
-    const file = thumbOf.get(first.id) as string | undefined;
-    if (!file) return;
-    const full = path.join(opts.uploadDir, file);
-    if (!fs.existsSync(full)) return;
-    const img = wb.addImage({ buffer: fs.readFileSync(full) as never, extension: "jpeg" });
-    const row = defWs.getRow(i + 2);
-    row.height = 62;
-    defWs.addImage(img, { tl: { col: photoCol, row: i + 1 }, ext: { width: 100, height: 75 }, editAs: "oneCell" } as never);
-    row.getCell(photoCol + 1).value = { text: "open photo", hyperlink: link(first.url) };
+    d.photos.slice(0, photoSlots).forEach((p, k) => {
+      const file = thumbOf.get(p.id) as string | undefined;
+      const full = file ? path.join(opts.uploadDir, file) : null;
+      if (!full || !fs.existsSync(full)) return;
+      const img = wb.addImage({ buffer: fs.readFileSync(full) as never, extension: "jpeg" });
+      const row = defWs.getRow(i + 2);
+      row.height = 62;
+      defWs.addImage(img, { tl: { col: firstPhotoCol + k, row: i + 1 }, ext: { width: 100, height: 75 }, editAs: "oneCell" } as never);
+      row.getCell(firstPhotoCol + k + 1).value = { text: "open photo", hyperlink: link(p.url) };
+    });
   });
 
   table(wb, "Causes", [
