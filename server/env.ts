@@ -19,6 +19,8 @@ const envSchema = z.object({
   BETTER_AUTH_URL: z.url({ error: "BETTER_AUTH_URL must be a full URL such as http://localhost:3000." }).optional(),
   DEMO_PASSWORD: z.string().min(10, "DEMO_PASSWORD must be at least 10 characters.").default("strandsight-demo"),
   SEED_DEMO: boolFlag.optional(),
+  /** Size of the demo plant, as a share of its eight months (tests and fault drills use a small one). */
+  SEED_SCALE: z.coerce.number().min(0.001).max(1).default(1),
   /** Number of proxy hops in front of the app (Express "trust proxy"); 0 when clients connect directly. */
   TRUST_PROXY: z.coerce.number().int().min(0).max(10).default(0),
   LOG_LEVEL: z.enum(["silent", "error", "info", "debug"]).default("info"),

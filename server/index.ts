@@ -41,7 +41,7 @@ async function main() {
   const seed = env.SEED_DEMO ?? (empty && env.NODE_ENV !== "production");
   if (seed) {
     console.log("Seeding the invented demo plant…");
-    const result = await seedDemo(db, auth, { password: env.DEMO_PASSWORD, uploadDir: path.resolve(env.UPLOAD_DIR) });
+    const result = await seedDemo(db, auth, { password: env.DEMO_PASSWORD, uploadDir: path.resolve(env.UPLOAD_DIR), scale: env.SEED_SCALE });
     console.log(`Demo plant ready in ${result.seconds.toFixed(1)} s`, result.production ?? "(already there)");
   }
 
