@@ -12,6 +12,7 @@ import { mountRoutes, type AnyRoute } from "./lib/route";
 import { authContext } from "./middleware/auth-context";
 import { apiNotFound, errorHandler } from "./middleware/error-handler";
 import { sameOriginWrites } from "./middleware/same-origin";
+import { rateLimits } from "./middleware/rate-limits";
 import { buildOpenApiDocument, createOpenApiRegistry } from "./openapi";
 import { adminUserRoutes } from "./routes/admin-users.routes";
 import type { Deps } from "./routes/deps";
@@ -126,6 +127,9 @@ export function createApp(opts: AppOptions) {
   });
   // better-auth reads the raw body itself: mount it before express.json(). It gets the client
   // address Express resolved (TRUST_PROXY), never a forwarded header as the client sent it.
+  const limits = rateLimits({ signIn: env.RATE_LIMIT_SIGNIN ?? (env.NODE_ENV === "production" ? 30 : 300), tokens: env.RATE_LIMIT_TOKENS });
+  app.post(["/api/auth/sign-in/email", "/api/auth/request-password-reset", "/api/auth/reset-password"], limits.signIn);
+  app.use(["/api/ingest", "/api/admin/tokens"], limits.tokens);
   const authHandler = toNodeHandler(async (request: Request) => withErrorEnvelope(await auth.handler(request)));
   app.all("/api/auth/{*any}", (req, res) => {
     req.headers[CLIENT_IP_HEADER] = req.ip ?? req.socket.remoteAddress ?? "";

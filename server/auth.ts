@@ -1,3 +1,6 @@
+import { createAuthMiddleware, APIError } from "better-auth/api";
+import { createSignInGuard, LOCK_MS, MAX_FAILURES, type SignInGuard } from "./lib/sign-in-guard";
+import { recordAudit } from "./services/audit.service";
 import { betterAuth } from "better-auth";
 import { drizzleAdapter } from "better-auth/adapters/drizzle";
 import { admin } from "better-auth/plugins/admin";
@@ -36,12 +39,15 @@ export interface AuthOptions {
   secureCookies?: boolean;
   /** better-auth's built-in rate limits (sign-in: a few attempts per 10 s per client); on in production. */
   rateLimit?: boolean;
+  /** Counts wrong passwords per account and locks it for a while (server/lib/sign-in-guard.ts). */
+  signInGuard?: SignInGuard;
 }
 
 /** Express puts the client address it trusts (TRUST_PROXY) in this header before better-auth runs. */
 export const CLIENT_IP_HEADER = "x-strandsight-client-ip";
 
 export function createAuth(opts: AuthOptions) {
+  const guard = opts.signInGuard ?? createSignInGuard();
   return betterAuth({
     appName: "Strandsight",
     baseURL: opts.baseURL,
@@ -79,6 +85,32 @@ export function createAuth(opts: AuthOptions) {
       // Rate limits and session records key on the address Express resolved, never on a header a
       // client could forge (server/app.ts overwrites this one on every request).
       ipAddress: { ipAddressHeaders: [CLIENT_IP_HEADER] },
+    },
+    hooks: {
+      before: createAuthMiddleware(async (ctx) => {
+        if (ctx.path !== "/sign-in/email") return;
+        const email = String((ctx.body as { email?: unknown } | undefined)?.email ?? "");
+        const minutes = email ? guard.lockedFor(email) : 0;
+        if (minutes > 0) {
+          throw new APIError("TOO_MANY_REQUESTS", {
+            code: "ACCOUNT_LOCKED",
+            message: `Too many wrong passwords for this account: sign-in is locked for ${minutes} more minute${minutes === 1 ? "" : "s"}. Wait, or ask an administrator to reset the password.`,
+          });
+        }
+      }),
+      after: createAuthMiddleware(async (ctx) => {
+        if (ctx.path !== "/sign-in/email") return;
+        const email = String((ctx.body as { email?: unknown } | undefined)?.email ?? "");
+        if (!email) return;
+        const returned = ctx.context.returned;
+        if (returned instanceof APIError) {
+          if (returned.status === "UNAUTHORIZED" && guard.failed(email)) {
+            recordAudit(opts.db, { actor: "sign-in guard", action: "user.sign_in.locked", entity: "user", entityId: email.toLowerCase(), after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES } });
+          }
+        } else {
+          guard.succeeded(email);
+        }
+      }),
     },
     plugins: [
       admin({

@@ -1,0 +1,40 @@
+/**
+ * Per-address request budgets (express-rate-limit) for the doors an attacker knocks on: sign-in and
+ * password reset, the level-2 feed (API tokens) and token management. The address is the one
+ * Express resolves (TRUST_PROXY), so behind a reverse proxy set TRUST_PROXY to its hop count.
+ * Refusals use the app's error envelope, with the standard RateLimit and Retry-After headers.
+ */
+import type { RequestHandler } from "express";
+import { rateLimit } from "express-rate-limit";
+
+function limiter(windowMs: number, limit: number, what: string): RequestHandler {
+  return rateLimit({
+    windowMs,
+    limit,
+    standardHeaders: "draft-7",
+    legacyHeaders: false,
+    handler: (_req, res, _next, options) => {
+      const minutes = Math.max(1, Math.ceil(options.windowMs / 60_000));
+      res.status(429).json({
+        error: {
+          code: "too_many_requests",
+          message: `Too many ${what} from this address. Wait ${minutes} minute${minutes === 1 ? "" : "s"} and try again.`,
+        },
+      });
+    },
+  });
+}
+
+export interface RateLimitSettings {
+  /** Sign-in and password-reset requests per address per 15 minutes. */
+  signIn: number;
+  /** Feed and token requests per address (or token) per minute. */
+  tokens: number;
+}
+
+export function rateLimits(s: RateLimitSettings) {
+  return {
+    signIn: limiter(15 * 60_000, s.signIn, "sign-in attempts"),
+    tokens: limiter(60_000, s.tokens, "requests to the feed and token endpoints"),
+  };
+}
