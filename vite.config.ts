@@ -23,6 +23,8 @@ export default defineConfig({
     outDir: "dist",
     sourcemap: true,
     chunkSizeWarningLimit: 700,
+    // The route → chunk map, for `npm run bench` (bundle size of each route).
+    manifest: true,
   },
   test: {
     include: ["tests/**/*.test.ts", "tests/**/*.test.tsx"],
