@@ -2,6 +2,7 @@ import type { Request, RequestHandler, Response, Router } from "express";
 import type { OpenAPIRegistry, RouteConfig } from "@asteasolutions/zod-to-openapi";
 import type { z } from "zod";
 import { apiErrorSchema } from "@shared/api/common";
+import { HttpError } from "./http-error";
 import { requireRole, type Access } from "../middleware/require-role";
 
 type Method = "get" | "post" | "put" | "patch" | "delete";
@@ -113,6 +114,20 @@ function accessText(access: Access) {
 }
 
 /**
+ * multer passes on busboy's own errors (a form that ends before its closing boundary, a header that
+ * never ends, no boundary at all) as plain Errors with no status: they are the client's, so 400.
+ * Its limit errors (code LIMIT_*) and anything with a status keep theirs.
+ */
+function readableUpload(middleware: RequestHandler): RequestHandler {
+  return (req, res, next) =>
+    middleware(req, res, (err?: unknown) => {
+      const e = err as { code?: unknown; status?: unknown } | undefined;
+      if (!err || err === "route" || err === "router" || typeof e?.status === "number" || String(e?.code ?? "").startsWith("LIMIT_")) return next(err);
+      next(new HttpError(400, "upload_unreadable", "The upload could not be read: the form is incomplete or malformed. Send it again."));
+    });
+}
+
+/**
  * Mounts routes on a router behind the role gate, validates params, query and body with their zod
  * schemas (a failure becomes a 400 through the error middleware), and documents each in OpenAPI.
  */
@@ -121,7 +136,7 @@ export function mountRoutes(router: Router, registry: OpenAPIRegistry, routes: A
     describe(registry, spec);
     const successStatus = spec.status ?? Number(Object.keys(spec.responses)[0] ?? 200);
     const handlers: RequestHandler[] = [gate(spec.access)];
-    if (spec.upload) handlers.push(spec.upload.middleware);
+    if (spec.upload) handlers.push(readableUpload(spec.upload.middleware));
     handlers.push(async (req, res) => {
       const params = spec.params ? spec.params.parse(req.params) : req.params;
       const query = spec.query ? spec.query.parse(req.query) : req.query;

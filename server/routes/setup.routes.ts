@@ -2,6 +2,7 @@ import { z } from "zod";
 import {
   casterCreateSchema,
   gradeFamilyInputSchema,
+  gradeFamilyUpdateSchema,
   gradeInputSchema,
   gradeUpdateSchema,
   plantSettingsSchema,
@@ -86,7 +87,7 @@ export function setupRoutes({ db }: Deps) {
       tag: "setup",
       access: "setup.manage",
       params: codeParams,
-      body: gradeFamilyInputSchema.omit({ code: true }).partial(),
+      body: gradeFamilyUpdateSchema,
       responses: { 200: { description: "Saved.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() }, 404: { description: "No such family." } },
       handler: ({ params, body, user }) => updateGradeFamily(db, params.code, body, user.id),
     }),

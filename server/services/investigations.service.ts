@@ -388,6 +388,8 @@ export function queueOverdueReminders(db: Db, notify: Notifications, now = Date.
 
 export const ATTACHMENT_MAX_BYTES = 20 * 1024 * 1024;
 export const ATTACHMENT_MAX_FILES = 5;
+/** Names of the kinds recognised by their content (ALLOWED, and the spellings of their extensions). */
+const CLAIMED_BINARY = /\.(pdf|png|jpe?g|webp|xlsx|docx|pptx)$/i;
 /** What an investigation keeps: documents, sheets, photos and plain text (judged by content). */
 const ALLOWED = new Map<string, string>([
   ["pdf", "application/pdf"],
@@ -404,9 +406,15 @@ export async function addAttachments(db: Db, user: Actor, ownerKind: "investigat
   if (files.length === 0) throw badRequest("Choose at least one file (form field “files”).", { field: "files" }, "no_file");
   const checked: { file: Express.Multer.File; mime: string }[] = [];
   for (const f of files) {
+    if (f.size === 0) throw badRequest(`${safeName(f.originalname)} is empty.`, { field: "files" }, "empty_file");
     const t = await fileTypeFromBuffer(f.buffer);
     let mime = t ? ALLOWED.get(t.ext) : undefined;
-    if (!t && !f.buffer.includes(0)) mime = /\.csv$/i.test(f.originalname) ? "text/csv" : "text/plain";
+    // Text is kept as text, but not under a name that claims a document or an image it is not.
+    const claimsBinary = CLAIMED_BINARY.test(f.originalname);
+    if (!t && !f.buffer.includes(0) && !claimsBinary) mime = /\.csv$/i.test(f.originalname) ? "text/csv" : "text/plain";
+    if (!t && claimsBinary) {
+      throw new HttpError(415, "unsupported_file", `${safeName(f.originalname)} is named as a ${f.originalname.split(".").pop()!.toUpperCase()} file but is not one.`);
+    }
     if (!mime) {
       throw new HttpError(415, "unsupported_file", `${f.originalname} is ${t ? `a ${t.ext.toUpperCase()} file` : "not a kind of file kept here"}. Attach PDF, Excel, Word, PowerPoint, PNG, JPEG, WebP, CSV or text files.`);
     }

@@ -27,9 +27,14 @@ export const defectCreateSchema = z.object({
 });
 export type DefectCreate = z.input<typeof defectCreateSchema>;
 
-/** Changes to a defect: any of the describing fields (not the slab, not the key). */
+/**
+ * Changes to a defect: any of the describing fields (not the slab, not the key). Without the
+ * create schema's defaults: `.partial()` keeps them, and a change of the note alone would put the
+ * stage back to slab_yard.
+ */
 export const defectUpdateSchema = defectCreateSchema
   .omit({ slab_id: true, client_key: true, found_at: true })
+  .extend({ stage: stageSchema })
   .partial()
   .refine((v) => Object.keys(v).length > 0, { message: "Nothing to change." });
 export type DefectUpdate = z.input<typeof defectUpdateSchema>;
@@ -178,9 +183,11 @@ export const defectTypeInputSchema = z.object({
   categoryCode: code(16),
   description: z.string().trim().max(500).nullable().default(null),
 });
+// The update schemas restate the fields that have a default on create: `.partial()` keeps defaults,
+// so every change would otherwise also clear the description or reset the sort order.
 export const defectTypeUpdateSchema = defectTypeInputSchema
   .omit({ code: true })
-  .extend({ active: z.boolean() })
+  .extend({ description: z.string().trim().max(500).nullable(), active: z.boolean() })
   .partial()
   .refine((v) => Object.keys(v).length > 0, { message: "Nothing to change." });
 
@@ -191,7 +198,7 @@ export const defectCategoryInputSchema = z.object({
 });
 export const defectCategoryUpdateSchema = defectCategoryInputSchema
   .omit({ code: true })
-  .extend({ active: z.boolean() })
+  .extend({ sortOrder: z.number().int().min(0).max(999), active: z.boolean() })
   .partial()
   .refine((v) => Object.keys(v).length > 0, { message: "Nothing to change." });
 

@@ -285,7 +285,21 @@ export const gradeInputSchema = z.object({
   familyCode: z.string().trim().min(1).max(16),
   active: z.boolean().default(true),
 });
-export const gradeUpdateSchema = gradeInputSchema.omit({ code: true }).partial();
+/**
+ * Changes to a family or a grade. The fields with a default on create are restated without it:
+ * `.partial()` keeps defaults, so a rename would otherwise clear the family's description or
+ * reactivate a retired grade. An empty change is refused, as everywhere else.
+ */
+export const gradeFamilyUpdateSchema = gradeFamilyInputSchema
+  .omit({ code: true })
+  .extend({ description: z.string().trim().max(500).nullable() })
+  .partial()
+  .refine((v) => Object.keys(v).length > 0, { message: "Nothing to change." });
+export const gradeUpdateSchema = gradeInputSchema
+  .omit({ code: true })
+  .extend({ active: z.boolean() })
+  .partial()
+  .refine((v) => Object.keys(v).length > 0, { message: "Nothing to change." });
 
 export const plantSettingsSchema = z.object({
   liquidus: z.object({
