@@ -149,9 +149,9 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
     defineRoute({
       method: "post",
       path: "/claims/:id/send-history",
-      summary: "E-mail a linked heat's history workbook to recipients (queued; logged on the claim)",
+      summary: "E-mail a linked heat's history workbook to recipients (claims officers; queued; logged on the claim)",
       tag: "claims",
-      access: "history.export",
+      access: "claims.manage",
       params: idParams,
       body: sendHistorySchema,
       status: 202,

@@ -82,3 +82,10 @@ export function sig(value: number | null | undefined, digits = 3): string {
 export function lowerFirst(label: string): string {
   return /^[A-Z][a-z]/.test(label) ? label[0]!.toLowerCase() + label.slice(1) : label;
 }
+
+/** A calendar day given as YYYY-MM-DD (a claim's date received): shown as that day in every time zone. */
+export function day(ymd: string | null | undefined): string {
+  const m = ymd ? /^(\d{4})-(\d{2})-(\d{2})$/.exec(ymd) : null;
+  if (!m) return date(ymd);
+  return new Date(Number(m[1]), Number(m[2]) - 1, Number(m[3])).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" });
+}

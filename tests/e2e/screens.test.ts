@@ -12,6 +12,9 @@ const heat = () => env.server.db.$client.prepare("select heat_no from heats orde
 const slab = () =>
   env.server.db.$client.prepare("select s.slab_id from slabs s where exists (select 1 from defects d where d.slab_id = s.id) limit 1").pluck().get() as string;
 
+const claim = () => env.server.db.$client.prepare("select c.id from claims c where exists (select 1 from claim_slabs cs where cs.claim_id = c.id) order by c.id limit 1").pluck().get() as number;
+const coil = () => env.server.db.$client.prepare("select product_id from products where kind = 'coil' order by id limit 1").pluck().get() as string;
+
 const investigation = () => env.server.db.$client.prepare("select id from investigations order by id limit 1").pluck().get() as number;
 
 const SCREENS: { role: string; name: string; path: () => string }[] = [
@@ -46,7 +49,16 @@ const SCREENS: { role: string; name: string; path: () => string }[] = [
   { role: "process", name: "investigations", path: () => "/investigations" },
   { role: "process", name: "investigation-new", path: () => `/investigations/new?heat=${heat()}` },
   { role: "process", name: "investigation", path: () => `/investigations/${investigation()}` },
+  { role: "quality", name: "claims-read", path: () => "/claims" },
+  { role: "quality", name: "claim-read", path: () => `/claims/${claim()}` },
+  { role: "quality", name: "trace-heat", path: () => `/trace?q=${heat()}` },
   { role: "claims", name: "claims-home", path: () => "/claims" },
+  { role: "claims", name: "claim-new", path: () => "/claims/new" },
+  { role: "claims", name: "claim", path: () => `/claims/${claim()}` },
+  { role: "claims", name: "trace-empty", path: () => "/trace" },
+  { role: "claims", name: "trace-coil", path: () => `/trace?q=${coil()}` },
+  { role: "claims", name: "heat-claims", path: () => `/heats/${heat()}` },
+  { role: "claims", name: "heat-history", path: () => `/heats/${heat()}/history` },
   { role: "claims", name: "report-overview-claims", path: () => "/reports/overview" },
   { role: "claims", name: "investigations-claims", path: () => "/investigations" },
   { role: "admin", name: "users", path: () => "/admin/users" },
@@ -73,6 +85,7 @@ describe.each([
       }
       expect(errors).toEqual([]);
       await context.close();
-    });
+      // A role with two dozen screens (quality) takes longer than the default 30 s on a busy machine.
+    }, 90_000);
   }
 });

@@ -298,7 +298,7 @@ Object.assign(matrix, {
   "POST /claims/:id/slabs": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/slabs`, body: { slabIds: [slabRow(t)] } }) },
   "DELETE /claims/:id/slabs/:slabId": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/slabs/${firstSlab(t)}` }) },
   "POST /claims/:id/attachments": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/attachments`, files: Buffer.from("customer letter\n") }) },
-  "POST /claims/:id/send-history": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/send-history`, body: { heatNo: heatOfFirstSlab(t), to: ["customer@example.test"] } }) },
+  "POST /claims/:id/send-history": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/send-history`, body: { heatNo: heatOfFirstSlab(t), to: ["customer@example.test"] } }) },
 } satisfies Record<string, Row>);
 
 function firstStrand(t: TestApp) {

@@ -78,7 +78,7 @@ export function Component() {
 
   return (
     <div className="flex min-h-dvh flex-col">
-      <header className="bg-ink-900 text-white">
+      <header className="bg-ink-900 text-white print:hidden">
         <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-2">
           <NavLink to="/" className="flex items-center gap-2 py-1" aria-label="Strandsight home">
             <Logo />
@@ -86,7 +86,7 @@ export function Component() {
           </NavLink>
           <nav
             aria-label="Main"
-            className={`order-3 flex w-full flex-wrap gap-1 pb-1 ${
+            className={`order-3 flex w-full flex-wrap ${items.length > 12 ? "gap-0.5" : "gap-1"} pb-1 ${
               // A long menu (the administrator's) takes its own row rather than breaking into two.
               items.length > 6 ? "" : "lg:order-none lg:w-auto lg:flex-1 lg:pb-0"
             }`}
@@ -98,7 +98,7 @@ export function Component() {
                 end={items.some((o) => o.to.startsWith(i.to + "/"))}
                 className={({ isActive }) =>
                   // The administrator's long menu packs tighter so it keeps to one row on a wide screen.
-                  `flex min-h-12 items-center whitespace-nowrap rounded-md ${items.length > 12 ? "px-2" : "px-3"} text-sm font-semibold ${
+                  `flex min-h-12 items-center whitespace-nowrap rounded-md ${items.length > 12 ? "px-1.5" : "px-3"} text-sm font-semibold ${
                     isActive ? "bg-strand-700 text-white" : "text-ink-200 hover:bg-ink-800 hover:text-white"
                   }`
                 }
@@ -149,8 +149,8 @@ export function Component() {
           <Notice tone="error">Could not reach the server to sign out: {signOut.error.message} Try again when the network is back.</Notice>
         </div>
       ) : null}
-      {navigation.state === "loading" ? <div className="h-1 animate-pulse bg-strand-500" aria-hidden /> : <div className="h-1" aria-hidden />}
-      <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6">
+      {navigation.state === "loading" ? <div className="h-1 animate-pulse bg-strand-500 print:hidden" aria-hidden /> : <div className="h-1 print:hidden" aria-hidden />}
+      <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6 print:max-w-none print:p-0">
         <Outlet />
       </main>
     </div>

@@ -1,50 +1,132 @@
 import { useState } from "react";
-import type { QueryClient } from "@tanstack/react-query";
-import { Link } from "react-router";
-import type { SlabHit } from "@shared/api/plant";
+import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { Link, useSearchParams, type LoaderFunctionArgs } from "react-router";
+import { CLAIM_STATUS_LABELS } from "@shared/api/claims";
+import { CLAIM_STATUSES, type ClaimStatus } from "@shared/domain";
+import { can } from "@shared/roles";
+import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
+import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { SlabFinder } from "@/features/plant/components/slab-finder";
+import { authKeys } from "@/features/auth/api/session";
+import { claimKeys, type ClaimListParams } from "@/features/claims/api/claims.queries";
+import { ClaimsTable } from "@/features/claims/components/claims-table";
+import { plural } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
+const paramsOf = (sp: URLSearchParams): ClaimListParams => {
+  const s = sp.get("status");
+  return {
+    status: s && (CLAIM_STATUSES as readonly string[]).includes(s) ? (s as ClaimStatus) : undefined,
+    q: sp.get("q")?.trim() || undefined,
+  };
+};
+
 export function makeLoader(qc: QueryClient) {
-  return async () => {
-    await requireCapability(qc, "claims.manage");
+  return async ({ request }: LoaderFunctionArgs) => {
+    await requireCapability(qc, "claims.read");
+    void qc.prefetchQuery(claimKeys.list(paramsOf(new URL(request.url).searchParams)));
     return null;
   };
 }
 
+const primaryLink = "flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800";
+const secondaryLink = "flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50";
+
 export function Component() {
-  const [slab, setSlab] = useState<SlabHit | null>(null);
+  const [sp, setSp] = useSearchParams();
+  const params = paramsOf(sp);
+  const list = useQuery(claimKeys.list(params));
+  const me = useQuery(authKeys.me());
+  const canManage = me.data ? can(me.data.roles, "claims.manage") : false;
+  const [text, setText] = useState(params.q ?? "");
+  const set = (key: "status" | "q", value: string | undefined) => {
+    const next = new URLSearchParams(sp);
+    if (value) next.set(key, value);
+    else next.delete(key);
+    setSp(next, { replace: true });
+  };
   return (
     <div className="space-y-5">
-      <PageHeader title="Claims" subtitle="Look up the slab and heat behind a complaint." />
+      <PageHeader
+        title="Claims"
+        subtitle={canManage ? "Customer complaints, the slabs and heats behind them, and the history sent back." : "Customer complaints and the slabs and heats behind them. You can read them; claims officers change them."}
+        actions={
+          <div className="flex flex-wrap gap-2">
+            <Link to="/trace" className={secondaryLink} data-testid="claims-trace">
+              Trace a coil, slab or heat
+            </Link>
+            {canManage ? (
+              <Link to="/claims/new" className={primaryLink} data-testid="record-claim">
+                Record a claim
+              </Link>
+            ) : null}
+          </div>
+        }
+      />
       <Notice tone="info" title="Procedure">
         Dispositions and claims follow the plant's quality procedures and the customer's specification.
       </Notice>
-      <Card title="Find a slab or heat">
-        <SlabFinder onPick={setSlab} autoFocus={false} />
-      </Card>
-      {slab ? (
-        <Card title={`Slab ${slab.slabId}`}>
-          <p className="text-sm">
-            Heat <span className="font-semibold">{slab.heatNo}</span>, strand {slab.strandNo}, grade {slab.gradeCode}, cast{" "}
-            {slab.castAt ? new Date(slab.castAt).toLocaleString("en-GB") : "—"}; {slab.defectCount} defect(s) on record.
+      <Card>
+        <div className="flex flex-wrap items-end gap-4">
+          <fieldset>
+            <legend className="mb-1 text-sm font-semibold text-ink-800">Status</legend>
+            <div className="flex flex-wrap gap-2" role="radiogroup" aria-label="Status">
+              {[{ value: "", label: "All" }, ...CLAIM_STATUSES.map((s) => ({ value: s, label: CLAIM_STATUS_LABELS[s] }))].map((c) => {
+                const on = (params.status ?? "") === c.value;
+                return (
+                  <button
+                    key={c.value}
+                    type="button"
+                    role="radio"
+                    aria-checked={on}
+                    onClick={() => set("status", c.value || undefined)}
+                    className={`min-h-11 rounded-md border-2 px-3 text-sm font-semibold ${on ? "border-strand-700 bg-strand-50 text-ink-900" : "border-ink-200 bg-white text-ink-700"}`}
+                  >
+                    {c.label}
+                  </button>
+                );
+              })}
+            </div>
+          </fieldset>
+          <form
+            role="search"
+            aria-label="Search claims"
+            className="flex min-w-64 flex-1 items-end gap-2"
+            onSubmit={(e) => {
+              e.preventDefault();
+              set("q", text.trim() || undefined);
+            }}
+          >
+            <label className="flex flex-1 flex-col gap-1">
+              <span className="text-sm font-semibold text-ink-800">Search</span>
+              <input
+                type="search"
+                value={text}
+                onChange={(e) => setText(e.target.value)}
+                maxLength={80}
+                placeholder="Claim number, customer, coil or complaint"
+                className="min-h-11 w-full rounded-md border border-ink-300 bg-white px-3 text-ink-900 placeholder:text-ink-400"
+                data-testid="claims-search"
+              />
+            </label>
+            <Button type="submit" variant="secondary">
+              Search
+            </Button>
+          </form>
+        </div>
+        {list.data ? (
+          <p className="mt-3 text-sm text-ink-700" data-testid="claims-count">
+            {plural(list.data.items.length, "claim")}
+            {params.status ? ` ${CLAIM_STATUS_LABELS[params.status].toLowerCase()}` : ""}
+            {params.q ? ` matching “${params.q}”` : ""}
           </p>
-          <div className="mt-3 flex flex-wrap gap-3">
-            <Link to={`/slabs/${encodeURIComponent(slab.slabId)}`} className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800">
-              Open slab {slab.slabId}
-            </Link>
-            <Link
-              to={`/heats/${encodeURIComponent(slab.heatNo)}`}
-              className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
-            >
-              Open heat {slab.heatNo}
-            </Link>
-          </div>
-        </Card>
-      ) : null}
+        ) : null}
+      </Card>
+      <Card bodyClassName="px-2 py-3 md:p-4">
+        {list.isPending ? <Spinner label="Loading the claims" /> : list.isError ? <Notice tone="error">{list.error.message}</Notice> : <ClaimsTable items={list.data.items} />}
+      </Card>
     </div>
   );
 }

@@ -10,6 +10,7 @@ import { heatKeys } from "@/features/heats/api/heats.queries";
 import { ChemistryTable, DerivedTable, HeatConditions, HeatFacts } from "@/features/heats/components/heat-sections";
 import { HeatSlabsTable } from "@/features/heats/components/heat-slabs-table";
 import { authKeys } from "@/features/auth/api/session";
+import { HistoryWorkbookButton, PrintableHistoryLink } from "@/features/claims/components/history-actions";
 import { BulkTagPanel, type BulkSelection } from "@/features/causes/components/bulk-tag-panel";
 import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
 import { defectKeys } from "@/features/defects/api/defects.queries";
@@ -116,7 +117,7 @@ export function Component() {
           slabs === 0 ? "no slabs on record yet" : `${slabs} slab${slabs === 1 ? "" : "s"}, ${affected} of them with a defect`
         }`}
         actions={
-          <div className="flex flex-wrap gap-2">
+          <div className="flex flex-wrap items-start gap-2">
             {can(roles, "investigations.manage") ? (
               <Link
                 to={`/investigations/new?heat=${encodeURIComponent(h.heatNo)}`}
@@ -125,6 +126,12 @@ export function Component() {
               >
                 Open an investigation
               </Link>
+            ) : null}
+            {can(roles, "history.export") ? (
+              <>
+                <HistoryWorkbookButton heatNo={h.heatNo} label="Heat history (.xlsx)" testId="heat-history-xlsx" />
+                <PrintableHistoryLink heatNo={h.heatNo} testId="heat-history-print" />
+              </>
             ) : null}
             {can(roles, "heats.browse") ? (
               <Link to="/heats" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
