@@ -49,7 +49,9 @@ export class EnvError extends Error {}
  * A bad value stops the start with a message that names the variable.
  */
 export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
-  const parsed = envSchema.safeParse(source);
+  // A line left empty in .env (`SMTP_URL=`, as .env.example has them) means "not set".
+  const given = Object.fromEntries(Object.entries(source).filter(([, v]) => v !== undefined && v.trim() !== ""));
+  const parsed = envSchema.safeParse(given);
   if (!parsed.success) {
     const lines = parsed.error.issues.map((i) => `  ${i.path.join(".") || "(env)"}: ${i.message}`);
     throw new EnvError(`The configuration is not valid:\n${lines.join("\n")}`);

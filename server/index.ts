@@ -1,3 +1,4 @@
+import type { IncomingMessage, ServerResponse } from "node:http";
 import path from "node:path";
 import { eq, sql } from "drizzle-orm";
 import { createApp } from "./app";
@@ -14,6 +15,9 @@ import { seedDemo } from "./seed/seed";
 import { knownPhotoFiles } from "./services/defects.service";
 import { cleanupOrphanFiles } from "./services/photos.service";
 import { slabFacts } from "./services/report-cache";
+
+/** When this process began: no file written before it can be an upload this process has in flight. */
+const processStartedAt = Date.now();
 
 async function main() {
   loadDotEnvFile();
@@ -54,13 +58,14 @@ async function main() {
   logger.info({ slabs: facts.size, ms: Math.round(performance.now() - tf) }, "report cache ready");
 
   // Photo files without a row (a crash between writing the file and its row) are removed at start
-  // and every hour after.
-  const cleanup = async () => {
+  // — every file older than this process, which no upload of ours can still be writing — and every
+  // hour after (files older than the grace period).
+  const cleanup = async (writtenBefore?: number) => {
     const known = knownPhotoFiles(db);
-    const removed = await cleanupOrphanFiles(path.resolve(env.UPLOAD_DIR), (f) => known.has(f));
+    const removed = await cleanupOrphanFiles(path.resolve(env.UPLOAD_DIR), (f) => known.has(f), Date.now(), writtenBefore);
     if (removed.length) logger.info({ removed: removed.length }, "removed orphaned photo files");
   };
-  void cleanup().catch((err) => logger.error({ err }, "photo cleanup failed"));
+  void cleanup(processStartedAt).catch((err) => logger.error({ err }, "photo cleanup failed"));
   setInterval(() => void cleanup().catch((err) => logger.error({ err }, "photo cleanup failed")), 60 * 60_000).unref();
   const demoUsers = db.select({ id: user.id }).from(user).where(eq(user.email, DEMO_USERS[0].email)).get() !== undefined;
   const server = app.listen(env.PORT, env.HOST, () => {
@@ -73,11 +78,22 @@ async function main() {
   });
 
   // On SIGTERM/SIGINT stop accepting connections, let requests in flight finish, then close the database.
+  // Node keeps a connection alive after the response it was busy with and serves the next request on
+  // it, so a client that keeps asking would hold the exit back: once stopping, every response says
+  // "Connection: close" and connections are dropped as they fall idle.
   let stopping = false;
+  const open = new Set<ServerResponse>();
+  server.prependListener("request", (_req: IncomingMessage, res: ServerResponse) => {
+    if (stopping) res.setHeader("Connection", "close");
+    open.add(res);
+    res.once("finish", () => stopping && setImmediate(() => server.closeIdleConnections()));
+    res.once("close", () => open.delete(res));
+  });
   const shutdown = (signal: string) => {
     if (stopping) return;
     stopping = true;
     logger.info({ signal }, "shutting down");
+    for (const res of open) if (!res.headersSent) res.setHeader("Connection", "close");
     server.close(() => {
       void (async () => {
         await mailer.stop();

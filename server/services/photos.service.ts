@@ -128,7 +128,13 @@ export async function removePhotoFiles(uploadDir: string, files: StoredPhotoFile
  * after its files were written) and stale temporary files. Files younger than ten minutes are left
  * alone: they may belong to an upload in flight.
  */
-export async function cleanupOrphanFiles(uploadDir: string, knownFiles: (relativePath: string) => boolean, now = Date.now()): Promise<string[]> {
+/**
+ * Removes photo files that have no row (and left-over .tmp files). A file younger than the grace
+ * period may be an upload still between its file and its row, so it stays — unless `writtenBefore`
+ * says which files cannot be in flight (at start-up: everything written before this process began).
+ */
+export async function cleanupOrphanFiles(uploadDir: string, knownFiles: (relativePath: string) => boolean, now = Date.now(), writtenBefore?: number): Promise<string[]> {
+  const cutoff = writtenBefore ?? now - ORPHAN_GRACE_MS;
   const root = path.join(uploadDir, "photos");
   const removed: string[] = [];
   let dirs: string[];
@@ -148,7 +154,7 @@ export async function cleanupOrphanFiles(uploadDir: string, knownFiles: (relativ
     for (const f of files) {
       const full = path.join(dir, f);
       const stat = await fs.promises.stat(full).catch(() => null);
-      if (!stat || !stat.isFile() || now - stat.mtimeMs < ORPHAN_GRACE_MS) continue;
+      if (!stat || !stat.isFile() || stat.mtimeMs >= cutoff) continue;
       const rel = path.relative(uploadDir, full);
       if (f.endsWith(".tmp") || !knownFiles(rel)) {
         await fs.promises.rm(full, { force: true });

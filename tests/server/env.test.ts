@@ -7,6 +7,17 @@ import { EnvError, loadEnv } from "../../server/env";
 const tmp = () => path.join(fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-env-")), "app.db");
 
 describe("environment", () => {
+  it("when .env.example is copied as it is, then its empty lines count as not set and the defaults apply", () => {
+    const example = fs.readFileSync(path.resolve(".env.example"), "utf8");
+    const vars = Object.fromEntries(example.split("\n").filter((l) => /^[A-Z_]+=/.test(l)).map((l) => [l.slice(0, l.indexOf("=")), l.slice(l.indexOf("=") + 1)]));
+    expect(vars.SMTP_URL).toBe("");
+    const env = loadEnv({ ...vars, DATABASE_FILE: tmp() });
+    expect(env.SMTP_URL).toBeUndefined();
+    expect(env.SEED_DEMO).toBeUndefined();
+    expect(env.BETTER_AUTH_URL).toBe("http://localhost:3000");
+    expect(env.BETTER_AUTH_SECRET.length).toBeGreaterThanOrEqual(32);
+  });
+
   it("when PORT is not a number, then loading stops with a message naming PORT", () => {
     expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(EnvError);
     expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(/PORT/);
