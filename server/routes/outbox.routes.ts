@@ -2,6 +2,7 @@ import { z } from "zod";
 import { outboxMessageSchema, outboxPageSchema, outboxQuerySchema, type OutboxMessage } from "@shared/api/mail";
 import { conflict, notFound } from "../lib/http-error";
 import { defineRoute, type AnyRoute } from "../lib/route";
+import { recordAudit } from "../services/audit.service";
 import type { Deps } from "./deps";
 
 type Row = Record<string, any>;
@@ -62,10 +63,11 @@ export function outboxRoutes({ db, mailer }: Deps): AnyRoute[] {
       access: "outbox.read",
       params: z.object({ id: z.coerce.number().int().positive() }),
       responses: { 200: { description: "Queued again.", schema: outboxMessageSchema }, 409: { description: "Only failed messages are retried by hand." } },
-      handler: ({ params }) => {
+      handler: ({ params, user }) => {
         const r = sqlite.prepare(`${SELECT} where o.id = ?`).get(params.id) as Row | undefined;
         if (!r) throw notFound("There is no such message.");
         if (!mailer.retry(params.id)) throw conflict(`This message is ${r.status}; only failed messages are retried by hand (queued ones are retried on their own).`);
+        recordAudit(db, { userId: user.id, action: "mail.retry", entity: "email_outbox", entityId: params.id, before: { status: r.status, attempts: r.attempts, lastError: r.last_error }, after: { status: "queued" } });
         return toMessage(sqlite.prepare(`${SELECT} where o.id = ?`).get(params.id) as Row);
       },
     }),

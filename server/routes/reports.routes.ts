@@ -21,6 +21,7 @@ import { VARIABLES } from "@shared/variables";
 import { causeParetoQuerySchema, causeParetoSchema } from "@shared/api/causes";
 import { causePareto } from "../services/causes.service";
 import { notFound } from "../lib/http-error";
+import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { reportWorkbook } from "../services/report-export";
 import { beforeAfter, controlChart, overview, processWindow, rateByVariable, screening, slabPositions } from "../services/reports.service";
@@ -105,9 +106,13 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
       responses: { 201: { description: "Saved.", schema: savedReportSchema } },
       handler: ({ body, user }) => {
         const now = Date.now();
-        const id = Number(
-          db.$client.prepare("insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, ?, ?, ?, ?, ?)").run(user.id, body.name, body.reportKind, body.query.replace(/^\?/, ""), now, now).lastInsertRowid,
-        );
+        const id = db.transaction(() => {
+          const newId = Number(
+            db.$client.prepare("insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, ?, ?, ?, ?, ?)").run(user.id, body.name, body.reportKind, body.query.replace(/^\?/, ""), now, now).lastInsertRowid,
+          );
+          recordAudit(db, { userId: user.id, action: "saved_report.create", entity: "saved_report", entityId: newId, after: body });
+          return newId;
+        });
         return { id, name: body.name, reportKind: body.reportKind, query: body.query.replace(/^\?/, ""), createdAt: new Date(now).toISOString() };
       },
     }),
@@ -120,8 +125,12 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
       params: z.object({ id: z.coerce.number().int().positive() }),
       responses: { 200: { description: "Deleted.", schema: z.object({ id: z.number(), deleted: z.literal(true) }) }, 404: { description: "Not one of yours." } },
       handler: ({ params, user }) => {
-        const r = db.$client.prepare("delete from saved_reports where id = ? and user_id = ?").run(params.id, user.id);
-        if (r.changes === 0) throw notFound("There is no such saved report of yours.");
+        db.transaction(() => {
+          const before = db.$client.prepare("select name, report_kind, query from saved_reports where id = ? and user_id = ?").get(params.id, user.id);
+          if (!before) throw notFound("There is no such saved report of yours.");
+          db.$client.prepare("delete from saved_reports where id = ? and user_id = ?").run(params.id, user.id);
+          recordAudit(db, { userId: user.id, action: "saved_report.delete", entity: "saved_report", entityId: params.id, before });
+        });
         return { id: params.id, deleted: true as const };
       },
     }),

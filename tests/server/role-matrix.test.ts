@@ -352,6 +352,28 @@ describe("role matrix", () => {
     }
   });
 
+  it("when an admin calls every route that changes something, then each change leaves an audit row naming the admin", async () => {
+    const adminId = t.db.$client.prepare("select id from user where email = 'admin@demo.test'").pluck().get() as string;
+    const count = () => t.db.$client.prepare("select count(*) from audit_log where user_id = ?").pluck().get(adminId) as number;
+    const unaudited: string[] = [];
+    currentRole = "admin";
+    for (const route of routes().filter((r) => r.method !== "get")) {
+      const row = matrix[key(route)]!;
+      if (!row.allowed.includes("admin")) continue;
+      const sample = row.sample(t);
+      // Dry runs and checks write nothing, so they leave nothing to audit.
+      const dry = sample.path.includes("dryRun=true") || (sample.body as { dryRun?: boolean } | undefined)?.dryRun === true;
+      if (dry) continue;
+      const before = count();
+      const res = await send(agents.admin, route, sample);
+      expect(res.status < 300, `${key(route)} → ${res.status}`).toBe(true);
+      if (count() <= before) unaudited.push(key(route));
+    }
+    expect(unaudited).toEqual([]);
+    const last = t.db.$client.prepare("select * from audit_log where user_id = ? order by id desc limit 1").get(adminId) as { at: number; action: string };
+    expect(Date.now() - last.at).toBeLessThan(60_000);
+  });
+
   it.each(ROLES)("when signed in as %s, then the allowed routes answer 2xx and the others 403", async (role) => {
     currentRole = role;
     for (const route of routes()) {
