@@ -39,7 +39,11 @@ describe("reports in the browser", () => {
     // One defect type, SLG, from the filter bar's list; casting speed as the variable; 8 bins.
     const picker = page.getByTestId("filter-defect-type");
     await picker.locator("summary").click();
-    await picker.getByRole("checkbox", { name: /^SLG / }).check();
+    // The box is drawn from the address, which the click changes a moment later: click, then wait
+    // for it to show checked (Playwright's check() looks at once and may see the old state).
+    const slg = picker.getByRole("checkbox", { name: /^SLG / });
+    await slg.click();
+    await expect.poll(() => slg.isChecked()).toBe(true);
     await page.getByRole("heading", { level: 1 }).click();
     await page.getByTestId("variable-select").selectOption("casting_speed_m_min");
     await page.getByTestId("bins-select").selectOption("8");
