@@ -17,7 +17,7 @@ import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { checkHeatOfClaim, claimExists, createClaim, getClaim, linkSlabs, listClaims, unlinkSlab, updateClaim } from "../services/claims.service";
 import { heatHistory, historyWorkbook, trace } from "../services/history.service";
-import { addAttachments, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES } from "../services/investigations.service";
+import { addAttachments, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES } from "../services/attachments.service";
 import type { Deps } from "./deps";
 
 const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";

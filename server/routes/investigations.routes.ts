@@ -21,13 +21,9 @@ import { forbidden } from "../lib/http-error";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import {
   addAction,
-  addAttachments,
   addHypothesis,
   addInvestigationParticipants,
   addInvestigationSubjects,
-  ATTACHMENT_MAX_BYTES,
-  ATTACHMENT_MAX_FILES,
-  attachmentFile,
   closeInvestigation,
   createInvestigation,
   getInvestigation,
@@ -38,6 +34,7 @@ import {
   updateHypothesis,
   updateInvestigation,
 } from "../services/investigations.service";
+import { addAttachments, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES, attachmentFile } from "../services/attachments.service";
 import type { Deps } from "./deps";
 
 const idParams = z.object({ id: z.coerce.number().int().positive() });

@@ -9,7 +9,7 @@ import path from "node:path";
 import Database from "better-sqlite3";
 import sharp from "sharp";
 import { afterEach, describe, expect, it } from "vitest";
-import { csv, type Row } from "../helpers/workbooks";
+import { csv, HEAT_FILE_HEADERS, heatFileRow, type Row } from "../helpers/workbooks";
 import { disposeServer, startServer, waitFor, type ServerProcess } from "../helpers/server-process";
 
 let servers: ServerProcess[] = [];
@@ -144,22 +144,8 @@ describe("SIGKILL during photo uploads", () => {
   }, 120_000);
 });
 
-const HEAT_HEADERS = ["heat_no", "sequence_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min", "tundish_temp_c", "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct"];
-const heat = (i: number): Row => ({
-  heat_no: `KIL${String(i).padStart(6, "0")}`,
-  sequence_no: `KILSEQ-${Math.floor(i / 8)}`,
-  caster: "CC2",
-  grade: "LV-ST32",
-  cast_start: new Date(Date.UTC(2027, 0, 1, 0, 0) + i * 40 * 60_000),
-  cast_end: new Date(Date.UTC(2027, 0, 1, 0, 32) + i * 40 * 60_000),
-  casting_speed_m_min: 1.4,
-  tundish_temp_c: 1545,
-  c_pct: 0.12,
-  si_pct: 0.2,
-  mn_pct: 0.9,
-  p_pct: 0.015,
-  s_pct: 0.008,
-});
+const HEAT_HEADERS = HEAT_FILE_HEADERS;
+const heat = (i: number) => heatFileRow("KIL", i);
 
 describe("SIGKILL during an import", () => {
   it("when the server is killed inside the import's transaction, then no heat of it is written, no run is recorded, and the same file imports whole after a restart", async () => {

@@ -7,7 +7,7 @@ import http from "node:http";
 import net from "node:net";
 import { once } from "node:events";
 import { afterEach, describe, expect, it } from "vitest";
-import { csv, type Row } from "../helpers/workbooks";
+import { csv, HEAT_FILE_HEADERS, heatFileRow, type Row } from "../helpers/workbooks";
 import { disposeServer, startServer, waitFor, type ServerProcess } from "../helpers/server-process";
 
 let srv: ServerProcess | undefined;
@@ -28,22 +28,8 @@ function tryConnect(port: number): Promise<"accepted" | "refused"> {
   });
 }
 
-const HEAT_HEADERS = ["heat_no", "sequence_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min", "tundish_temp_c", "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct"];
-const heat = (i: number): Row => ({
-  heat_no: `SHD${String(i).padStart(6, "0")}`,
-  sequence_no: `SHDSEQ-${Math.floor(i / 8)}`,
-  caster: "CC2",
-  grade: "LV-ST32",
-  cast_start: new Date(Date.UTC(2027, 0, 1, 0, 0) + i * 40 * 60_000),
-  cast_end: new Date(Date.UTC(2027, 0, 1, 0, 32) + i * 40 * 60_000),
-  casting_speed_m_min: 1.4,
-  tundish_temp_c: 1545,
-  c_pct: 0.12,
-  si_pct: 0.2,
-  mn_pct: 0.9,
-  p_pct: 0.015,
-  s_pct: 0.008,
-});
+const HEAT_HEADERS = HEAT_FILE_HEADERS;
+const heat = (i: number) => heatFileRow("SHD", i);
 
 describe("graceful shutdown", () => {
   it("when SIGTERM arrives while a large dry-run import is being sent, then new connections are refused, the import still gets its 200 and the process exits 0", async () => {

@@ -24,3 +24,23 @@ export function csv(headers: string[], rows: Row[], sep = ",", decimalComma = fa
   const lines = [headers.join(sep), ...rows.map((r) => headers.map((h) => cell(r[h] ?? null)).join(sep))];
   return Buffer.from(lines.join("\r\n") + "\r\n", "utf8");
 }
+
+/** Heat-import keys for files of many invented heats (fault drills). */
+export const HEAT_FILE_HEADERS = ["heat_no", "sequence_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min", "tundish_temp_c", "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct"];
+
+/** The i-th invented heat of a file, numbered under `prefix`: 40 min apart from 2027-01-01, 8 to a sequence. */
+export const heatFileRow = (prefix: string, i: number): Row => ({
+  heat_no: `${prefix}${String(i).padStart(6, "0")}`,
+  sequence_no: `${prefix}SEQ-${Math.floor(i / 8)}`,
+  caster: "CC2",
+  grade: "LV-ST32",
+  cast_start: new Date(Date.UTC(2027, 0, 1, 0, 0) + i * 40 * 60_000),
+  cast_end: new Date(Date.UTC(2027, 0, 1, 0, 32) + i * 40 * 60_000),
+  casting_speed_m_min: 1.4,
+  tundish_temp_c: 1545,
+  c_pct: 0.12,
+  si_pct: 0.2,
+  mn_pct: 0.9,
+  p_pct: 0.015,
+  s_pct: 0.008,
+});

@@ -9,7 +9,7 @@ import { causeKeys } from "@/features/causes/api/causes.queries";
 import { investigationKeys } from "@/features/investigations/api/investigations.queries";
 import {
   ActionsCard,
-  AttachmentsCard,
+  InvestigationAttachmentsCard,
   ClosureCard,
   HistoryCard,
   HypothesesCard,
@@ -65,7 +65,7 @@ export function Component() {
         <ActionsCard inv={i} canManage={canManage} people={persons} />
       </Section>
       <Section>
-        <AttachmentsCard inv={i} canManage={canManage} />
+        <InvestigationAttachmentsCard inv={i} canManage={canManage} />
         <ParticipantsCard inv={i} canManage={canManage} people={persons} />
       </Section>
       {editable ? <ClosureCard inv={i} tags={tags} /> : null}

@@ -1,15 +1,14 @@
-import { useRef, useState } from "react";
+import { useState } from "react";
 import { Link } from "react-router";
 import { z } from "zod";
 import { CLAIM_STATUS_LABELS, type Claim } from "@shared/api/claims";
 import { CLAIM_STATUSES, type ClaimStatus } from "@shared/domain";
+import { AttachmentsCard } from "@/components/attachments-card";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
-import { ProgressBar } from "@/components/ui/progress";
-import type { UploadProgress } from "@/lib/api-client";
-import { bytes, date, dateTime, day, DASH, plural, withUnit } from "@/lib/format";
+import { date, dateTime, day, DASH, plural, withUnit } from "@/lib/format";
 import { dispositionLabel } from "@/lib/labels";
 import { useClaimChange, useSendHistory, useUploadClaimAttachments } from "../api/claims.queries";
 import { ClaimStatusMark } from "./claim-marks";
@@ -359,76 +358,16 @@ export function ClaimHeatsCard({ claim, canExport, canSend }: { claim: Claim; ca
   );
 }
 
-const MAX_FILES = 5;
-const MAX_BYTES = 20 * 1024 * 1024;
-
 export function ClaimAttachmentsCard({ claim, canManage }: { claim: Claim; canManage: boolean }) {
   const upload = useUploadClaimAttachments(claim.id);
-  const input = useRef<HTMLInputElement>(null);
-  const [progress, setProgress] = useState<{ index: number; count: number; name: string; p: UploadProgress } | null>(null);
-  const [problem, setProblem] = useState<string | null>(null);
-  const start = (files: File[]) => {
-    setProblem(null);
-    if (!files.length) return;
-    if (files.length > MAX_FILES) return setProblem(`Choose at most ${MAX_FILES} files at a time.`);
-    const big = files.find((f) => f.size > MAX_BYTES);
-    if (big) return setProblem(`“${big.name}” is ${bytes(big.size)}; a file may be at most 20 MB.`);
-    upload.mutate(
-      { files, onProgress: (index, p) => setProgress({ index, count: files.length, name: files[index]!.name, p }) },
-      {
-        onSettled: () => {
-          setProgress(null);
-          if (input.current) input.current.value = "";
-        },
-      },
-    );
-  };
   return (
-    <Card title={`Attachments (${claim.attachments.length})`}>
-      <div className="space-y-3">
-        {claim.attachments.length ? (
-          <ul className="divide-y divide-ink-100" data-testid="claim-attachments">
-            {claim.attachments.map((a) => (
-              <li key={a.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 py-2 text-sm" data-testid="claim-attachment">
-                <a href={a.url} download={a.fileName} className={`${link} inline-flex min-h-11 items-center`}>
-                  {a.fileName}
-                </a>
-                <span className="text-ink-600">
-                  {a.mime} · {bytes(a.bytes)} · {a.by ?? ""} {dateTime(a.at)}
-                </span>
-              </li>
-            ))}
-          </ul>
-        ) : (
-          <p className="text-sm text-ink-600">No file attached yet.</p>
-        )}
-        {canManage ? (
-          <div className="space-y-2">
-            <label className="flex flex-col gap-1">
-              <span className="text-sm font-semibold text-ink-800">Attach files: the customer's letter, photos, test reports (up to 5, 20 MB each)</span>
-              <input
-                ref={input}
-                type="file"
-                multiple
-                disabled={upload.isPending}
-                onChange={(e) => start([...(e.target.files ?? [])])}
-                className="min-h-11 text-sm file:mr-3 file:min-h-11 file:rounded-md file:border file:border-ink-300 file:bg-white file:px-4 file:font-semibold"
-                data-testid="claim-attachment-input"
-              />
-            </label>
-            {progress ? (
-              <ProgressBar
-                label={`Uploading ${progress.name}${progress.count > 1 ? ` (${progress.index + 1} of ${progress.count})` : ""}`}
-                value={progress.p.sent ? null : progress.p.fraction}
-                detail={progress.p.sent ? "the server is storing it" : bytes(progress.p.loaded)}
-              />
-            ) : null}
-          </div>
-        ) : null}
-        {problem ? <Notice tone="error">{problem}</Notice> : null}
-        {upload.isError ? <Notice tone="error">{upload.error.message}</Notice> : null}
-      </div>
-    </Card>
+    <AttachmentsCard
+      attachments={claim.attachments}
+      upload={upload}
+      canUpload={canManage}
+      hint="Attach files: the customer's letter, photos, test reports (up to 5, 20 MB each)"
+      testIdPrefix="claim-"
+    />
   );
 }
 

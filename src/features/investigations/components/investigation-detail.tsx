@@ -1,14 +1,13 @@
-import { useRef, useState, type ReactNode } from "react";
+import { useState, type ReactNode } from "react";
 import { Link } from "react-router";
 import { ACTION_STATUSES, ACTION_STATUS_LABELS, type Investigation, type Person } from "@shared/api/investigations";
+import { AttachmentsCard } from "@/components/attachments-card";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
 import { SeverityMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
-import { ProgressBar } from "@/components/ui/progress";
-import type { UploadProgress } from "@/lib/api-client";
-import { bytes, date, dateTime, DASH, plural } from "@/lib/format";
+import { date, dateTime, DASH, plural } from "@/lib/format";
 import { useInvestigationChange, useUploadAttachments } from "../api/investigations.queries";
 import { heatList } from "./new-investigation-form";
 import { ActionStatusMark, HypothesisStatusMark, InvestigationStatusMark, OverdueMark } from "./investigation-marks";
@@ -422,76 +421,9 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
   );
 }
 
-const MAX_FILES = 5;
-const MAX_BYTES = 20 * 1024 * 1024;
-
-export function AttachmentsCard({ inv, canManage }: { inv: Investigation; canManage: boolean }) {
+export function InvestigationAttachmentsCard({ inv, canManage }: { inv: Investigation; canManage: boolean }) {
   const upload = useUploadAttachments(inv.id);
-  const input = useRef<HTMLInputElement>(null);
-  const [progress, setProgress] = useState<{ index: number; count: number; name: string; p: UploadProgress } | null>(null);
-  const [problem, setProblem] = useState<string | null>(null);
-  const start = (files: File[]) => {
-    setProblem(null);
-    if (files.length > MAX_FILES) return setProblem(`Choose at most ${MAX_FILES} files at a time.`);
-    const big = files.find((f) => f.size > MAX_BYTES);
-    if (big) return setProblem(`“${big.name}” is ${bytes(big.size)}; a file may be at most 20 MB.`);
-    upload.mutate(
-      { files, onProgress: (index, p) => setProgress({ index, count: files.length, name: files[index]!.name, p }) },
-      {
-        onSettled: () => {
-          setProgress(null);
-          if (input.current) input.current.value = "";
-        },
-      },
-    );
-  };
-  return (
-    <Card title={`Attachments (${inv.attachments.length})`}>
-      <div className="space-y-3">
-        {inv.attachments.length ? (
-          <ul className="divide-y divide-ink-100" data-testid="attachments">
-            {inv.attachments.map((a) => (
-              <li key={a.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 py-2 text-sm" data-testid="attachment">
-                <a href={a.url} download={a.fileName} className={`${link} inline-flex min-h-11 items-center`}>
-                  {a.fileName}
-                </a>
-                <span className="text-ink-600">
-                  {a.mime} · {bytes(a.bytes)} · {a.by ?? ""} {dateTime(a.at)}
-                </span>
-              </li>
-            ))}
-          </ul>
-        ) : (
-          <p className="text-sm text-ink-600">No file attached yet.</p>
-        )}
-        {canManage && inv.status !== "closed" ? (
-          <div className="space-y-2">
-            <label className="flex flex-col gap-1">
-              <span className="text-sm font-semibold text-ink-800">Attach files (up to 5, 20 MB each)</span>
-              <input
-                ref={input}
-                type="file"
-                multiple
-                disabled={upload.isPending}
-                onChange={(e) => start([...(e.target.files ?? [])])}
-                className="min-h-11 text-sm file:mr-3 file:min-h-11 file:rounded-md file:border file:border-ink-300 file:bg-white file:px-4 file:font-semibold"
-                data-testid="attachment-input"
-              />
-            </label>
-            {progress ? (
-              <ProgressBar
-                label={`Uploading ${progress.name}${progress.count > 1 ? ` (${progress.index + 1} of ${progress.count})` : ""}`}
-                value={progress.p.sent ? null : progress.p.fraction}
-                detail={progress.p.sent ? "the server is storing it" : bytes(progress.p.loaded)}
-              />
-            ) : null}
-          </div>
-        ) : null}
-        {problem ? <Notice tone="error">{problem}</Notice> : null}
-        {upload.isError ? <Notice tone="error">{upload.error.message}</Notice> : null}
-      </div>
-    </Card>
-  );
+  return <AttachmentsCard attachments={inv.attachments} upload={upload} canUpload={canManage && inv.status !== "closed"} hint="Attach files (up to 5, 20 MB each)" />;
 }
 
 export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption[] }) {

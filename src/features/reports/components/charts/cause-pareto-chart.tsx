@@ -1,8 +1,8 @@
 import { useMemo } from "react";
 import type { CausePareto } from "@shared/api/causes";
-import { INK, SERIES_COLORS } from "@/lib/chart-theme";
+import { SERIES_COLORS } from "@/lib/chart-theme";
 import { pct } from "@/lib/format";
-import { esc, pctAxis, tooltipBase } from "./chart-parts";
+import { cumulativeShareSeries, esc, paretoYAxes, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
 /**
@@ -43,10 +43,7 @@ export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
         nameGap: 80,
         axisLabel: { interval: 0, fontSize: 11, rotate: rows.length > 4 ? 25 : 0, width: rows.length > 4 ? 150 : 180, overflow: "truncate" },
       },
-      yAxis: [
-        { type: "value", name: "Defects", nameLocation: "middle", nameRotate: 90, nameGap: 46, minInterval: 1 },
-        { type: "value", name: "Cumulative share", nameLocation: "middle", nameRotate: -90, nameGap: 50, min: 0, max: 1, splitLine: { show: false }, axisLabel: { formatter: pctAxis(0) } },
-      ],
+      yAxis: paretoYAxes("Defects"),
       series: [
         ...stack.map((s) => ({
           type: "bar",
@@ -56,24 +53,7 @@ export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
           itemStyle: s.style,
           data: rows.map((r) => r[s.key]),
         })),
-        {
-          type: "line",
-          name: "Cumulative share",
-          yAxisIndex: 1,
-          symbol: "circle",
-          symbolSize: 6,
-          showSymbol: true,
-          itemStyle: { color: SERIES_COLORS[1] },
-          lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 2 },
-          data: rows.map((r) => r.cumulative),
-          markLine: {
-            silent: true,
-            symbol: "none",
-            lineStyle: { color: INK[600], type: "dotted", width: 1.2 },
-            label: { formatter: "80 %", position: "insideEndTop", color: INK[700] },
-            data: [{ yAxis: 0.8 }],
-          },
-        },
+        cumulativeShareSeries(rows.map((r) => r.cumulative)),
       ],
     };
   }, [rows]);

@@ -1,4 +1,4 @@
-import { INK, FONT } from "@/lib/chart-theme";
+import { INK, FONT, SERIES_COLORS } from "@/lib/chart-theme";
 
 /** Axis labels of a rate (0…1) as percentages. */
 export const pctAxis = (digits = 1) => (v: number) => `${(v * 100).toFixed(digits)} %`;
@@ -47,3 +47,31 @@ export const tooltipBase = { confine: true, textStyle: { fontFamily: FONT, fontS
 
 /** Escapes text placed into a tooltip's HTML. */
 export const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;" })[c]!);
+
+/** A Pareto chart's two value axes: counts on the left, the cumulative share (0–100 %) on the right. */
+export const paretoYAxes = (countName: string) => [
+  { type: "value", name: countName, nameLocation: "middle", nameRotate: 90, nameGap: 46, minInterval: 1 },
+  { type: "value", name: "Cumulative share", nameLocation: "middle", nameRotate: -90, nameGap: 50, min: 0, max: 1, splitLine: { show: false }, axisLabel: { formatter: pctAxis(0) } },
+];
+
+/** A Pareto chart's cumulative-share line on the right axis, with the 80 % mark. */
+export function cumulativeShareSeries(data: number[]) {
+  return {
+    type: "line",
+    name: "Cumulative share",
+    yAxisIndex: 1,
+    symbol: "circle",
+    symbolSize: 6,
+    showSymbol: true,
+    itemStyle: { color: SERIES_COLORS[1] },
+    lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 2 },
+    data,
+    markLine: {
+      silent: true,
+      symbol: "none",
+      lineStyle: { color: INK[600], type: "dotted", width: 1.2 },
+      label: { formatter: "80 %", position: "insideEndTop", color: INK[700] },
+      data: [{ yAxis: 0.8 }],
+    },
+  };
+}

@@ -1,8 +1,8 @@
 import { useMemo } from "react";
 import type { Overview } from "@shared/api/reports";
-import { INK, SERIES_COLORS } from "@/lib/chart-theme";
+import { SERIES_COLORS } from "@/lib/chart-theme";
 import { pct } from "@/lib/format";
-import { esc, pctAxis, tooltipBase } from "./chart-parts";
+import { cumulativeShareSeries, esc, paretoYAxes, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
 /** The Pareto of defect types: defects of each type as bars, largest first, and the cumulative share as a line. */
@@ -23,10 +23,7 @@ export function ParetoChart({ pareto }: { pareto: Overview["pareto"] }) {
         },
       },
       xAxis: { type: "category", data: pareto.map((r) => r.code), name: "Defect type", nameLocation: "middle", nameGap: 30, axisLabel: { interval: 0, fontSize: 11 } },
-      yAxis: [
-        { type: "value", name: "Defects", nameLocation: "middle", nameRotate: 90, nameGap: 46, minInterval: 1 },
-        { type: "value", name: "Cumulative share", nameLocation: "middle", nameRotate: -90, nameGap: 50, min: 0, max: 1, splitLine: { show: false }, axisLabel: { formatter: pctAxis(0) } },
-      ],
+      yAxis: paretoYAxes("Defects"),
       series: [
         {
           type: "bar",
@@ -36,24 +33,7 @@ export function ParetoChart({ pareto }: { pareto: Overview["pareto"] }) {
           label: { show: pareto.length <= 16, position: "insideTop", color: "#ffffff", fontSize: 11 },
           data: pareto.map((r) => r.defects),
         },
-        {
-          type: "line",
-          name: "Cumulative share",
-          yAxisIndex: 1,
-          symbol: "circle",
-          symbolSize: 6,
-          showSymbol: true,
-          itemStyle: { color: SERIES_COLORS[1] },
-          lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 2 },
-          data: pareto.map((r) => r.cumulativeShare),
-          markLine: {
-            silent: true,
-            symbol: "none",
-            lineStyle: { color: INK[600], type: "dotted", width: 1.2 },
-            label: { formatter: "80 %", position: "insideEndTop", color: INK[700] },
-            data: [{ yAxis: 0.8 }],
-          },
-        },
+        cumulativeShareSeries(pareto.map((r) => r.cumulativeShare)),
       ],
     }),
     [pareto],
