@@ -490,6 +490,8 @@ function generateClaims(
   const insClaim = sqlite.prepare(`insert into claims (claim_no, customer, product_ids, received_on, defect_complained, quantity_t,
       status, notes, created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
   const insLink = sqlite.prepare("insert into claim_slabs (claim_id, slab_id, linked_via, linked_by, linked_at) values (?, ?, 'trace', ?, ?)");
+  const insAudit = sqlite.prepare("insert into audit_log (at, user_id, action, entity, entity_id, after) values (?, ?, 'claim.create', 'claim', ?, ?)");
+  const insAudit2 = sqlite.prepare("insert into audit_log (at, user_id, action, entity, entity_id, after) values (?, ?, 'claim.update', 'claim', ?, ?)");
   const names: Partial<Record<DefectCode, string>> = { SLV: "slivers", BLI: "blisters", LAM: "laminations", ALC: "inclusion lines" };
   let n = 0;
   const picked = finds.filter((_, i) => i % 3 === 0).slice(0, 14);
@@ -506,6 +508,9 @@ function generateClaims(
       ).lastInsertRowid,
     );
     insLink.run(claimId, f.slabRowId, ids.users.claims, received);
+    // The claim's own history, as recording it through the app would have left it.
+    insAudit.run(received, ids.users.claims, claimId, JSON.stringify({ claimNo: `CL-26-${String(n).padStart(3, "0")}`, productIds: [f.productId], linked: 1 }));
+    if (status !== "new") insAudit2.run(received + 86400_000, ids.users.claims, claimId, JSON.stringify({ status }));
   }
   return n;
 }
@@ -546,11 +551,28 @@ function generateInvestigations(sqlite: Database.Database, ids: ProductionIds, s
   insHyp.run(b, "Mold level fluctuation above 3 mm drives the cracks.", ids.causeTagIds["mold-level-disturbance"], "open", ids.users.process);
   insAction.run(b, "Trial of the alternative mold powder on two sequences", ids.users.process, "2026-11-20", "in_progress", null);
   insAction.run(b, "Check the mold level sensor calibration on strand 2", ids.users.admin, "2026-11-10", "open", null);
+  const lfcHeats = sqlite
+    .prepare(
+      `select h.id from heats h join slabs s on s.heat_id = h.id join defects d on d.slab_id = s.id join defect_types t on t.id = d.type_id
+       join grades g on g.id = h.grade_id where t.code = 'LFC' and g.code in ('LV-ST32', 'LV-ST36') group by h.id order by count(*) desc, h.id limit ?`,
+    )
+    .pluck()
+    .all(Math.max(2, Math.round(4 * scale))) as number[];
+  for (const h of lfcHeats) insSubject.run(b, h);
 
   const c = Number(
     insInv.run("INV-26-003", "Slivers on transition coils", "Customer slivers traced to transition slabs after ladle changes.",
       "open", ids.users.process, day("2026-11-18"), null, null, null, ids.users.process).lastInsertRowid,
   );
   insAction.run(c, "List transition slabs for extra scarfing", ids.users.quality, "2026-12-15", "open", null);
+  const insDefectSubject = sqlite.prepare("insert into investigation_subjects (investigation_id, defect_id) values (?, ?)");
+  const transitionSlivers = sqlite
+    .prepare(
+      `select d.id from defects d join slabs s on s.id = d.slab_id join defect_types t on t.id = d.type_id
+       where t.code = 'SLV' and s.transition = 1 and d.deleted_at is null order by d.found_at desc, d.id limit 8`,
+    )
+    .pluck()
+    .all() as number[];
+  for (const d of transitionSlivers) insDefectSubject.run(c, d);
   return 3;
 }
