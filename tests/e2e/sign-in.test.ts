@@ -37,7 +37,8 @@ describe.each([
     if (role === "inspector") await snap(page, `sign-in-${size}`);
     await signIn(page, role);
     await page.waitForURL(env.server.baseUrl + path);
-    const h1 = page.getByRole("heading", { level: 1 });
+    // The address changes as the next screen's code loads; wait for that screen's heading itself.
+    const h1 = page.getByRole("heading", { level: 1, name: heading, exact: true });
     await h1.waitFor();
     expect(await h1.textContent()).toBe(heading);
     // The navigation offers only what the role may open.
