@@ -651,6 +651,8 @@ export const auditLog = sqliteTable(
     id: integer("id").primaryKey({ autoIncrement: true }),
     at: integer("at", { mode: "timestamp_ms" }).notNull().default(nowMs),
     userId: text("user_id"),
+    /** The person's name as it was when they acted: a later rename does not rewrite the trail. */
+    userName: text("user_name"),
     /** Who acted when it was not a person: an API token's name, "system", "seed". */
     actor: text("actor"),
     action: text("action").notNull(),

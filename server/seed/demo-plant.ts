@@ -490,8 +490,8 @@ function generateClaims(
   const insClaim = sqlite.prepare(`insert into claims (claim_no, customer, product_ids, received_on, defect_complained, quantity_t,
       status, notes, created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
   const insLink = sqlite.prepare("insert into claim_slabs (claim_id, slab_id, linked_via, linked_by, linked_at) values (?, ?, 'trace', ?, ?)");
-  const insAudit = sqlite.prepare("insert into audit_log (at, user_id, action, entity, entity_id, after) values (?, ?, 'claim.create', 'claim', ?, ?)");
-  const insAudit2 = sqlite.prepare("insert into audit_log (at, user_id, action, entity, entity_id, after) values (?, ?, 'claim.update', 'claim', ?, ?)");
+  const insAudit = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select ?1, ?2, (select name from user where id = ?2), 'claim.create', 'claim', ?3, ?4");
+  const insAudit2 = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select ?1, ?2, (select name from user where id = ?2), 'claim.update', 'claim', ?3, ?4");
   const names: Partial<Record<DefectCode, string>> = { SLV: "slivers", BLI: "blisters", LAM: "laminations", ALC: "inclusion lines" };
   let n = 0;
   const picked = finds.filter((_, i) => i % 3 === 0).slice(0, 14);

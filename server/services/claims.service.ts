@@ -87,7 +87,7 @@ export function getClaim(db: Db, id: number): Claim {
     if (s !== undefined) productSlab.set(p, s);
   }
   const attachments = sqlite.prepare("select a.*, u.name as byName from attachments a left join user u on u.id = a.created_by where owner_kind = 'claim' and owner_id = ? order by a.created_at").all(id) as Row[];
-  const history = sqlite.prepare("select a.at, u.name as byName, a.action, a.after from audit_log a left join user u on u.id = a.user_id where a.entity = 'claim' and a.entity_id = ? order by a.at, a.id").all(String(id)) as Row[];
+  const history = sqlite.prepare("select a.at, coalesce(a.user_name, u.name, a.actor) as byName, a.action, a.after from audit_log a left join user u on u.id = a.user_id where a.entity = 'claim' and a.entity_id = ? order by a.at, a.id").all(String(id)) as Row[];
   const creator = r.created_by ? (sqlite.prepare("select id, name from user where id = ?").get(r.created_by) as { id: string; name: string } | undefined) : undefined;
   return {
     ...toSummary(r),

@@ -110,7 +110,7 @@ export function heatHistory(db: Db, heatNo: string): HeatHistory {
     .all({ heat: h.id }) as Row[];
   const audit = sqlite
     .prepare(
-      `select a.*, coalesce(u.name, a.actor) as byName from audit_log a left join user u on u.id = a.user_id
+      `select a.*, coalesce(a.user_name, u.name, a.actor) as byName from audit_log a left join user u on u.id = a.user_id
        where (a.entity = 'defect' and a.entity_id in (${defectIds.map((d) => `'${d}'`).join(",") || "null"}))
           or (a.entity = 'investigation' and a.entity_id in (${investigations.filter((i) => i.sameHeat).map((i) => `'${i.id}'`).join(",") || "null"}))
           or (a.entity = 'claim' and a.entity_id in (${claims.filter((c) => c.sameHeat).map((c) => `'${c.id}'`).join(",") || "null"}))

@@ -172,7 +172,7 @@ export function getInvestigation(db: Db, id: number, now = Date.now()): Investig
   const actions = sqlite.prepare("select * from investigation_actions where investigation_id = ? order by due_on, id").all(id) as Row[];
   const attachments = sqlite.prepare("select a.*, u.name as byName from attachments a left join user u on u.id = a.created_by where owner_kind = 'investigation' and owner_id = ? order by a.created_at").all(id) as Row[];
   const history = sqlite
-    .prepare("select a.at, u.name as byName, a.action from audit_log a left join user u on u.id = a.user_id where a.entity = 'investigation' and a.entity_id = ? order by a.at, a.id")
+    .prepare("select a.at, coalesce(a.user_name, u.name, a.actor) as byName, a.action from audit_log a left join user u on u.id = a.user_id where a.entity = 'investigation' and a.entity_id = ? order by a.at, a.id")
     .all(String(id)) as Row[];
   const today = todayIso(now);
   return {
