@@ -490,8 +490,8 @@ function generateClaims(
   const insClaim = sqlite.prepare(`insert into claims (claim_no, customer, product_ids, received_on, defect_complained, quantity_t,
       status, notes, created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
   const insLink = sqlite.prepare("insert into claim_slabs (claim_id, slab_id, linked_via, linked_by, linked_at) values (?, ?, 'trace', ?, ?)");
-  const insAudit = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select ?1, ?2, (select name from user where id = ?2), 'claim.create', 'claim', ?3, ?4");
-  const insAudit2 = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select ?1, ?2, (select name from user where id = ?2), 'claim.update', 'claim', ?3, ?4");
+  const insAudit = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), 'claim.create', 'claim', @id, @after");
+  const insAudit2 = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), 'claim.update', 'claim', @id, @after");
   const names: Partial<Record<DefectCode, string>> = { SLV: "slivers", BLI: "blisters", LAM: "laminations", ALC: "inclusion lines" };
   let n = 0;
   const picked = finds.filter((_, i) => i % 3 === 0).slice(0, 14);
@@ -509,8 +509,8 @@ function generateClaims(
     );
     insLink.run(claimId, f.slabRowId, ids.users.claims, received);
     // The claim's own history, as recording it through the app would have left it.
-    insAudit.run(received, ids.users.claims, claimId, JSON.stringify({ claimNo: `CL-26-${String(n).padStart(3, "0")}`, productIds: [f.productId], linked: 1 }));
-    if (status !== "new") insAudit2.run(received + 86400_000, ids.users.claims, claimId, JSON.stringify({ status }));
+    insAudit.run({ at: received, u: ids.users.claims, id: claimId, after: JSON.stringify({ claimNo: `CL-26-${String(n).padStart(3, "0")}`, productIds: [f.productId], linked: 1 }) });
+    if (status !== "new") insAudit2.run({ at: received + 86400_000, u: ids.users.claims, id: claimId, after: JSON.stringify({ status }) });
   }
   return n;
 }
