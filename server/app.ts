@@ -2,14 +2,14 @@ import fs from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import express from "express";
-import { toNodeHandler } from "better-auth/node";
 import helmet from "helmet";
-import { CLIENT_IP_HEADER, type Auth } from "./auth";
+import type { Auth } from "./auth";
 import type { Db } from "./db/client";
 import type { Env } from "./env";
 import type { Logger } from "./lib/logger";
 import { mountRoutes, type AnyRoute } from "./lib/route";
 import { authContext } from "./middleware/auth-context";
+import { authDoor } from "./middleware/auth-door";
 import { apiNotFound, errorHandler } from "./middleware/error-handler";
 import { sameOriginWrites } from "./middleware/same-origin";
 import { rateLimits } from "./middleware/rate-limits";
@@ -31,6 +31,10 @@ import { importRoutes } from "./routes/import.routes";
 import { setupRoutes } from "./routes/setup.routes";
 import { tokenRoutes } from "./routes/tokens.routes";
 import { apiTokenContext } from "./middleware/api-token";
+import { requireRole } from "./middleware/require-role";
+import { createImportPool, type ImportPool } from "./import/import-pool";
+import { IMPORT_KINDS, IMPORT_MAX_BYTES } from "@shared/api/imports";
+import { assertTokenAllows } from "./services/tokens.service";
 import { plantRoutes } from "./routes/plant.routes";
 import { systemRoutes } from "./routes/system.routes";
 
@@ -50,6 +54,8 @@ export interface AppOptions {
   /** The mail queue; without one, mail is queued in the database and not sent. */
   mailer?: Mailer;
   notify?: Notifications;
+  /** The import threads; created here when not given. Close with `app.locals.imports.close()`. */
+  imports?: ImportPool;
 }
 
 /**
@@ -87,7 +93,8 @@ export function createApp(opts: AppOptions) {
     createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir: path.join(path.resolve(env.UPLOAD_DIR), "mail"), describe: "no mail server (queued only)" });
   const notify = opts.notify ?? createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
   const events: DefectEvents = opts.events ?? { criticalDefect: (d) => void notify.criticalDefect(d) };
-  const deps: Deps = { db, auth, env, logger, events, mailer, notify };
+  const imports = opts.imports ?? createImportPool({ logger, heapMb: env.IMPORT_THREAD_HEAP_MB });
+  const deps: Deps = { db, auth, env, logger, events, mailer, notify, imports };
   // Each pass of the mail worker first queues reminders for actions that fell overdue (an indexed look-up).
   mailer.onPass((now) => void queueOverdueReminders(db, notify, now));
   const app = express();
@@ -120,28 +127,28 @@ export function createApp(opts: AppOptions) {
 
   const trustedOrigins = [new URL(env.BETTER_AUTH_URL).origin, ...(opts.trustedOrigins ?? [])];
 
-  // better-auth's own user-management endpoints (/api/auth/admin/*) would bypass our role gate,
-  // audit log and last-admin rule: users are managed through /api/admin/users only.
-  app.all("/api/auth/admin/{*any}", (req, res) => {
-    res.status(404).json({ error: { code: "not_found", message: `There is no API route ${req.method} ${req.path}.` } });
-  });
-  // better-auth reads the raw body itself: mount it before express.json(). It gets the client
-  // address Express resolved (TRUST_PROXY), never a forwarded header as the client sent it.
+  // better-auth's own endpoints: only those the product uses are open over HTTP, decided twice — on
+  // the path as sent (server/middleware/auth-door.ts) and on the endpoint better-auth resolved
+  // (HTTP_AUTH_ENDPOINTS in server/auth.ts). Its user-management endpoints (/api/auth/admin/*) would
+  // bypass our role gate, audit log and last-admin rule: users are managed through /api/admin/users.
+  // The door reads its own (small) body: mount it before express.json().
   const limits = rateLimits({ signIn: env.RATE_LIMIT_SIGNIN ?? (env.NODE_ENV === "production" ? 30 : 300), tokens: env.RATE_LIMIT_TOKENS });
-  app.post(["/api/auth/sign-in/email", "/api/auth/request-password-reset", "/api/auth/reset-password"], limits.signIn);
+  app.use("/api/auth", authDoor({ auth, baseUrl: env.BETTER_AUTH_URL, signInBudget: limits.signIn, toEnvelope: withErrorEnvelope }));
   app.use(["/api/ingest", "/api/admin/tokens"], limits.tokens);
-  const authHandler = toNodeHandler(async (request: Request) => withErrorEnvelope(await auth.handler(request)));
-  app.all("/api/auth/{*any}", (req, res) => {
-    req.headers[CLIENT_IP_HEADER] = req.ip ?? req.socket.remoteAddress ?? "";
-    return authHandler(req, res);
-  });
 
   app.use("/api", sameOriginWrites(trustedOrigins));
-  // The level-2 feed sends large batches; everything else stays small.
-  app.use("/api/ingest", express.json({ limit: "20mb" }));
-  app.use("/api", express.json({ limit: "2mb" }));
+  // The level-2 feed: the token is checked before its body (up to 20 MB) is read, and the body goes
+  // unparsed to an import thread, which parses and checks it off the main thread.
+  app.use("/api/ingest", apiTokenContext(db), requireRole("ingest.token"));
+  app.post("/api/ingest/:kind", (req, _res, next) => {
+    // The token's scopes (what it may send) are checked before the body too; an unknown kind is left
+    // to the route, which refuses it (400).
+    if ((IMPORT_KINDS as readonly string[]).includes(req.params.kind!)) assertTokenAllows(req.apiToken, req.params.kind!);
+    next();
+  });
+  app.use("/api/ingest", express.raw({ type: "application/json", limit: IMPORT_MAX_BYTES }));
+  // Bodies are read after the role gate, route by route (server/lib/route.ts).
   app.use("/api", authContext(auth));
-  app.use("/api/ingest", apiTokenContext(db));
 
   const registry = createOpenApiRegistry();
   const api = express.Router();
@@ -171,5 +178,6 @@ export function createApp(opts: AppOptions) {
   app.use(errorHandler(logger));
   app.locals.routes = routes;
   app.locals.mailer = mailer;
+  app.locals.imports = imports;
   return app;
 }

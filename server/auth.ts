@@ -1,6 +1,7 @@
 import { createAuthMiddleware, APIError } from "better-auth/api";
 import { createSignInGuard, LOCK_MS, MAX_FAILURES, type SignInGuard } from "./lib/sign-in-guard";
 import { recordAudit } from "./services/audit.service";
+import { revokeResetLinks } from "./services/users.service";
 import { betterAuth } from "better-auth";
 import { drizzleAdapter } from "better-auth/adapters/drizzle";
 import { admin } from "better-auth/plugins/admin";
@@ -39,16 +40,72 @@ export interface AuthOptions {
   secureCookies?: boolean;
   /** better-auth's built-in rate limits (sign-in: a few attempts per 10 s per client); on in production. */
   rateLimit?: boolean;
-  /** Counts wrong passwords per account and locks it for a while (server/lib/sign-in-guard.ts). */
+  /** Counts wrong passwords per account and address and locks sign-in from there for a while (server/lib/sign-in-guard.ts). */
   signInGuard?: SignInGuard;
 }
+
+/**
+ * The better-auth endpoints reachable over HTTP: exactly what the client calls
+ * (src/features/auth/api/session.ts) and the mailed reset link. Everything else better-auth and its
+ * admin plugin serve (list-users, set-role, impersonate-user, update-user, change-email, delete-user,
+ * get-session, list-sessions, …) answers 404 over HTTP, however its path is spelled: users are
+ * managed through /api/admin/users only, with our role gate, audit log and last-admin rule. Our own
+ * server code still calls the library directly (`auth.api.*`), which no HTTP client can reach.
+ * `path` is the endpoint's declared path, as better-auth resolves it.
+ */
+export const HTTP_AUTH_ENDPOINTS = [
+  { method: "POST", path: "/sign-in/email" },
+  { method: "POST", path: "/sign-out" },
+  { method: "POST", path: "/request-password-reset" },
+  { method: "POST", path: "/reset-password" },
+  { method: "GET", path: "/reset-password/:token" },
+] as const;
+
+const allowedOverHttp = (method: string, declaredPath: string) => HTTP_AUTH_ENDPOINTS.some((e) => e.method === method && e.path === declaredPath);
+
+// A path parameter (the reset token) is what better-auth generates: letters and digits (- and _ allowed).
+const OPEN_PATHS = HTTP_AUTH_ENDPOINTS.map((e) => ({ method: e.method as string, re: new RegExp(`^${e.path.replace(/:[A-Za-z]+/g, "[A-Za-z0-9_-]{1,200}")}$`) }));
+
+/** Does this concrete path (below /api/auth, already canonical) name an endpoint open over HTTP? */
+export function isOpenAuthPath(method: string, path: string): boolean {
+  return OPEN_PATHS.some((e) => e.method === method && e.re.test(path));
+}
+
+const NO_SUCH_ROUTE = "There is no such sign-in route.";
+
+/**
+ * Where the open endpoints may send the browser afterwards: a page of this app, given as a path
+ * ("/reset-password"). better-auth checks these against its trusted origins too, but switches that
+ * check off under NODE_ENV=test; this one holds in every mode, so no mailed link or sign-in can be
+ * made to lead to another site.
+ */
+const RETURN_FIELDS: Record<string, { from: "query" | "body"; field: string }[]> = {
+  "/reset-password/:token": [{ from: "query", field: "callbackURL" }],
+  "/request-password-reset": [{ from: "body", field: "redirectTo" }],
+  "/sign-in/email": [{ from: "body", field: "callbackURL" }],
+};
+const isAppPath = (v: unknown) => typeof v === "string" && v.length <= 200 && /^\/(?![/\\])[^\s\\]*$/.test(v);
 
 /** Express puts the client address it trusts (TRUST_PROXY) in this header before better-auth runs. */
 export const CLIENT_IP_HEADER = "x-strandsight-client-ip";
 
 export function createAuth(opts: AuthOptions) {
   const guard = opts.signInGuard ?? createSignInGuard();
-  return betterAuth({
+  const addressOf = (ctx: { request?: Request; headers?: Headers }) =>
+    ctx.request?.headers.get(CLIENT_IP_HEADER) || ctx.headers?.get(CLIENT_IP_HEADER) || "server";
+
+  /**
+   * After any password change: every reset or invitation link still out for this user stops working
+   * (an older link must not set a password after a newer one did), every sign-in lock of the account
+   * is lifted (the lock message tells people to reset), and the change is audited.
+   */
+  const afterPasswordChange = (u: { id: string; email: string }, how: "reset" | "changed" | "set by an administrator", actorId: string) => {
+    const resetLinksRevoked = revokeResetLinks(opts.db, u.id);
+    const locksLifted = guard.clear(u.email);
+    recordAudit(opts.db, { userId: actorId, action: "user.password.changed", entity: "user", entityId: u.id, after: { how, resetLinksRevoked, locksLifted } });
+  };
+
+  const auth = betterAuth({
     appName: "Strandsight",
     baseURL: opts.baseURL,
     secret: opts.secret,
@@ -71,6 +128,7 @@ export function createAuth(opts: AuthOptions) {
       sendResetPassword: opts.sendResetPassword
         ? async ({ user: u, url, token }) => opts.sendResetPassword!({ user: u, url, token })
         : undefined,
+      onPasswordReset: async ({ user: u }) => afterPasswordChange(u, "reset", u.id),
     },
     rateLimit: { enabled: opts.rateLimit ?? process.env.NODE_ENV === "production", storage: "memory" },
     session: {
@@ -88,27 +146,54 @@ export function createAuth(opts: AuthOptions) {
     },
     hooks: {
       before: createAuthMiddleware(async (ctx) => {
+        // Decided on the endpoint better-auth resolved (its declared path), not on how the URL was
+        // spelled: /api/auth/./admin/…, /x/../admin/…, %2e segments all land here as "/admin/…".
+        // `ctx.request` is set only for HTTP; our own `auth.api.*` calls carry none.
+        if (ctx.request && !allowedOverHttp(ctx.request.method, ctx.path)) {
+          throw new APIError("NOT_FOUND", { code: "NOT_FOUND", message: NO_SUCH_ROUTE });
+        }
+        for (const { from, field } of ctx.request ? (RETURN_FIELDS[ctx.path] ?? []) : []) {
+          const value = ((from === "query" ? ctx.query : ctx.body) as Record<string, unknown> | undefined)?.[field];
+          if (value !== undefined && !isAppPath(value)) {
+            throw new APIError("FORBIDDEN", { code: "INVALID_CALLBACK_URL", message: "This link must lead back to a page of Strandsight, and it does not." });
+          }
+        }
         if (ctx.path !== "/sign-in/email") return;
         const email = String((ctx.body as { email?: unknown } | undefined)?.email ?? "");
-        const minutes = email ? guard.lockedFor(email) : 0;
+        const minutes = email ? guard.lockedFor(email, addressOf(ctx)) : 0;
         if (minutes > 0) {
           throw new APIError("TOO_MANY_REQUESTS", {
             code: "ACCOUNT_LOCKED",
-            message: `Too many wrong passwords for this account: sign-in is locked for ${minutes} more minute${minutes === 1 ? "" : "s"}. Wait, or ask an administrator to reset the password.`,
+            message: `Too many wrong passwords for this account from your computer's address: signing in from here is locked for ${minutes} more minute${minutes === 1 ? "" : "s"}. Wait, choose a new password with “Forgot your password?”, or ask an administrator to unlock the account.`,
           });
         }
       }),
       after: createAuthMiddleware(async (ctx) => {
-        if (ctx.path !== "/sign-in/email") return;
-        const email = String((ctx.body as { email?: unknown } | undefined)?.email ?? "");
-        if (!email) return;
         const returned = ctx.context.returned;
-        if (returned instanceof APIError) {
-          if (returned.status === "UNAUTHORIZED" && guard.failed(email)) {
-            recordAudit(opts.db, { actor: "sign-in guard", action: "user.sign_in.locked", entity: "user", entityId: email.toLowerCase(), after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES } });
+        const ok = !(returned instanceof APIError) && !(returned instanceof Response && returned.status >= 400);
+        if (ctx.path === "/sign-in/email") {
+          const email = String((ctx.body as { email?: unknown } | undefined)?.email ?? "");
+          if (!email) return;
+          const address = addressOf(ctx);
+          if (returned instanceof APIError) {
+            if (returned.status === "UNAUTHORIZED" && guard.failed(email, address)) {
+              recordAudit(opts.db, { actor: "sign-in guard", action: "user.sign_in.locked", entity: "user", entityId: email.toLowerCase(), after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES, address } });
+            }
+          } else {
+            guard.succeeded(email, address);
           }
-        } else {
-          guard.succeeded(email);
+          return;
+        }
+        // Password changes other than a reset (onPasswordReset covers that). Neither is open over
+        // HTTP; this covers server-side calls.
+        if (!ok) return;
+        if (ctx.path === "/change-password") {
+          const u = (returned as { user?: { id: string; email: string } } | undefined)?.user;
+          if (u) afterPasswordChange(u, "changed", u.id);
+        } else if (ctx.path === "/admin/set-user-password") {
+          const userId = String((ctx.body as { userId?: unknown } | undefined)?.userId ?? "");
+          const target = userId ? await (await auth.$context).internalAdapter.findUserById(userId) : null;
+          if (target) afterPasswordChange(target, "set by an administrator", ctx.context.session?.user.id ?? target.id);
         }
       }),
     },
@@ -122,6 +207,8 @@ export function createAuth(opts: AuthOptions) {
       }),
     ],
   });
+  // The admin's Users screen shows and lifts locks (server/routes/admin-users.routes.ts).
+  return Object.assign(auth, { signInGuard: guard });
 }
 
 export type Auth = ReturnType<typeof createAuth>;

@@ -1,13 +1,15 @@
-import type { IncomingMessage, ServerResponse } from "node:http";
+import type { IncomingMessage, Server, ServerResponse } from "node:http";
 import path from "node:path";
+import util from "node:util";
 import { eq, sql } from "drizzle-orm";
 import { createApp } from "./app";
 import { createAuth } from "./auth";
-import { openDatabase } from "./db/client";
+import { assertWritable, openDatabase } from "./db/client";
 import { runMigrations } from "./db/migrate";
 import { heats, user } from "./db/schema";
 import { EnvError, loadDotEnvFile, loadEnv } from "./env";
-import { createLogger } from "./lib/logger";
+import { createLogger, type Logger } from "./lib/logger";
+import { describePathError, EXIT_CANNOT_START, StartupError } from "./lib/startup-error";
 import { setupMail } from "./mail/setup";
 import { createNotifications } from "./mail/notifications";
 import { DEMO_USERS } from "./seed/catalogue";
@@ -19,12 +21,64 @@ import { slabFacts } from "./services/report-cache";
 /** When this process began: no file written before it can be an upload this process has in flight. */
 const processStartedAt = Date.now();
 
+/** Set by server/supervisor.ts: it waits for our "listening" message and for our exit code. */
+const supervised = process.env.STRANDSIGHT_SUPERVISED === "1" && typeof process.send === "function";
+
+let crashLogger: Logger | undefined;
+/**
+ * A crash is recorded with its cause before the process ends: on stderr whatever LOG_LEVEL says (a
+ * crash must never go unrecorded; stderr is written synchronously), and as a JSON log line. The state
+ * after an uncaught error is unknown, so the process exits at once; the supervisor or systemd
+ * restarts it, and SQLite's WAL keeps every committed write.
+ */
+function crash(what: string, err: unknown): never {
+  process.stderr.write(`\nStrandsight stopped on ${what}:\n${util.inspect(err, { depth: 8 })}\n`);
+  try {
+    crashLogger?.fatal({ err }, `stopped on ${what}`);
+  } catch {
+    // the stderr line above is the record
+  }
+  process.exit(1);
+}
+process.on("uncaughtException", (err, origin) => crash(origin === "unhandledRejection" ? "an unhandled promise rejection" : "an uncaught exception", err));
+process.on("unhandledRejection", (reason) => crash("an unhandled promise rejection", reason));
+
+/** Binds the port; a port in use or not allowed is a StartupError that says what to do. */
+function listen(app: ReturnType<typeof createApp>, port: number, host: string): Promise<Server> {
+  return new Promise((resolve, reject) => {
+    const server = app.listen(port, host, (err?: Error) => {
+      if (!err) return resolve(server);
+      const code = (err as NodeJS.ErrnoException).code;
+      if (code === "EADDRINUSE") {
+        reject(new StartupError(
+          `Strandsight cannot start: port ${port} on ${host} is already in use by another program (perhaps another copy of Strandsight).\n` +
+            `Stop that program, or choose a free port for Strandsight with PORT, e.g. PORT=${port === 65535 ? 3000 : port + 1} in .env or in the environment.`,
+          { cause: err },
+        ));
+      } else if (code === "EACCES" || code === "EPERM") {
+        reject(new StartupError(
+          `Strandsight cannot start: this user may not listen on port ${port}${port < 1024 ? " (ports below 1024 need special rights)" : ""}.\n` +
+            "Use a port above 1023, e.g. PORT=3000, and put a reverse proxy in front for ports 80 and 443.",
+          { cause: err },
+        ));
+      } else if (code === "EADDRNOTAVAIL" || code === "ENOTFOUND" || code === "EAI_AGAIN") {
+        reject(new StartupError(`Strandsight cannot start: HOST=${host} is not an address of this machine (${code}). Use 0.0.0.0 for every interface, or one of this machine's addresses.`, { cause: err }));
+      } else {
+        reject(err);
+      }
+    });
+  });
+}
+
 async function main() {
   loadDotEnvFile();
   const env = loadEnv();
   const logger = createLogger(env.LOG_LEVEL);
+  crashLogger = logger;
   const db = openDatabase(env.DATABASE_FILE);
   runMigrations(db);
+  // A database that can be read but not written would start and then fail every save: refuse now.
+  assertWritable(db, env.DATABASE_FILE);
 
   // `npm run dev`: the browser talks to Vite on 5173, which forwards /api here.
   const devOrigins = env.NODE_ENV === "development" ? ["http://localhost:5173"] : [];
@@ -68,14 +122,14 @@ async function main() {
   void cleanup(processStartedAt).catch((err) => logger.error({ err }, "photo cleanup failed"));
   setInterval(() => void cleanup().catch((err) => logger.error({ err }, "photo cleanup failed")), 60 * 60_000).unref();
   const demoUsers = db.select({ id: user.id }).from(user).where(eq(user.email, DEMO_USERS[0].email)).get() !== undefined;
-  const server = app.listen(env.PORT, env.HOST, () => {
-    const url = env.BETTER_AUTH_URL;
-    console.log(`\nStrandsight is running: ${url}`);
-    if (demoUsers) {
-      console.log(`Demo sign-ins (password: ${env.DEMO_PASSWORD === "strandsight-demo" ? "strandsight-demo" : "the DEMO_PASSWORD you set"}):`);
-      for (const u of DEMO_USERS) console.log(`  ${u.email.padEnd(22)} ${u.roles.join(", ")}`);
-    }
-  });
+  const server = await listen(app, env.PORT, env.HOST);
+  // The first import thread starts now, not on the first import or feed call.
+  void (app.locals.imports as { warm(): Promise<void> }).warm();
+  console.log(`\nStrandsight is running: ${env.BETTER_AUTH_URL}`);
+  if (demoUsers) {
+    console.log(`Demo sign-ins (password: ${env.DEMO_PASSWORD === "strandsight-demo" ? "strandsight-demo" : "the DEMO_PASSWORD you set"}):`);
+    for (const u of DEMO_USERS) console.log(`  ${u.email.padEnd(22)} ${u.roles.join(", ")}`);
+  }
 
   // On SIGTERM/SIGINT stop accepting connections, let requests in flight finish, then close the database.
   // Node keeps a connection alive after the response it was busy with and serves the next request on
@@ -98,6 +152,8 @@ async function main() {
       void (async () => {
         await mailer.stop();
         await fake?.close();
+        // Imports in flight finished with their requests; the idle import threads go now.
+        await (app.locals.imports as { close(): Promise<void> }).close();
         db.$client.close();
         process.exit(0);
       })();
@@ -110,13 +166,19 @@ async function main() {
   };
   process.on("SIGTERM", () => shutdown("SIGTERM"));
   process.on("SIGINT", () => shutdown("SIGINT"));
+  if (supervised) {
+    // The supervisor gone (killed itself) would leave this process without anyone to restart or stop it.
+    process.on("disconnect", () => shutdown("supervisor gone"));
+    process.send!({ type: "listening", port: env.PORT });
+  }
 }
 
 main().catch((err) => {
-  if (err instanceof EnvError) {
-    console.error(err.message);
-  } else {
-    console.error(err);
+  // What a restart cannot fix gets a plain message and its own exit code, so nothing restarts it in a loop.
+  const plain = err instanceof EnvError || err instanceof StartupError ? err.message : describePathError(err);
+  if (plain) {
+    console.error(plain);
+    process.exit(EXIT_CANNOT_START);
   }
-  process.exit(1);
+  crash("an error during start-up", err);
 });

@@ -398,7 +398,8 @@ export const defectPhotos = sqliteTable(
     deletedAt: integer("deleted_at", { mode: "timestamp_ms" }),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
   },
-  (t) => [index("defect_photos_defect_idx").on(t.defectId)],
+  // created_by + created_at: the per-person hourly photo cap counts recent uploads on every upload.
+  (t) => [index("defect_photos_defect_idx").on(t.defectId), index("defect_photos_by_time_idx").on(t.createdBy, t.createdAt)],
 );
 
 // ---------------------------------------------------------------------------------------------
@@ -622,7 +623,8 @@ export const attachments = sqliteTable(
     createdBy: text("created_by").references(() => user.id),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
   },
-  (t) => [index("attachments_owner_idx").on(t.ownerKind, t.ownerId)],
+  // created_by + created_at: the per-person hourly attachment cap counts recent uploads.
+  (t) => [index("attachments_owner_idx").on(t.ownerKind, t.ownerId), index("attachments_by_time_idx").on(t.createdBy, t.createdAt)],
 );
 
 // ---------------------------------------------------------------------------------------------

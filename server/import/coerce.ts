@@ -3,7 +3,7 @@
  * case-insensitively, each cell turned into its column's type and checked against its bounds, every
  * problem recorded as { row, column, message } in words a process engineer understands.
  */
-import { IMPORT_COLUMNS, type ColumnSpec, type ImportKind, type RowError } from "@shared/api/imports";
+import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ColumnSpec, type ImportKind, type RowError } from "@shared/api/imports";
 import type { Cell, Table } from "./read-table";
 
 export type Value = string | number | boolean | null;
@@ -16,27 +16,46 @@ export interface ParsedRow {
   bad: boolean;
 }
 
+/**
+ * Every problem is counted; only the first `keep` by row are kept (the answer lists at most
+ * IMPORT_MAX_LISTED_ERRORS), so a file with an error in every cell cannot fill the memory.
+ */
 export class ErrorList {
-  readonly list: RowError[] = [];
+  private items: RowError[] = [];
+  private total = 0;
+  constructor(private readonly keep = IMPORT_MAX_LISTED_ERRORS) {}
   add(row: number, column: string | null, message: string) {
-    this.list.push({ row, column, message });
+    this.total++;
+    this.items.push({ row, column, message });
+    if (this.items.length >= this.keep * 4) this.trim();
+  }
+  private trim() {
+    // A stable sort keeps errors of one row in the order they were found.
+    this.items = this.items.sort((a, b) => a.row - b.row).slice(0, this.keep);
+  }
+  /** The first errors by row, at most `keep`. */
+  get list(): readonly RowError[] {
+    this.trim();
+    return this.items;
   }
   get count() {
-    return this.list.length;
+    return this.total;
   }
 }
 
 const EXCEL_EPOCH_MS = Date.UTC(1899, 11, 30);
+/** Workbooks in the 1904 date system count days from 1904-01-01 (ECMA-376 §18.17.4.1). */
+const EXCEL_1904_EPOCH_MS = Date.UTC(1904, 0, 1);
 const DAY_MS = 86_400_000;
 const ISO = /^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2})(?:\.(\d{1,3})\d*)?)?)?\s*(Z|[+-]\d{2}:?\d{2})?$/i;
 
 /** ISO 8601 (offset honoured; none = UTC) or an Excel serial date, to epoch milliseconds. */
-export function parseDateTime(cell: Cell): number | string {
+export function parseDateTime(cell: Cell, date1904 = false): number | string {
   if (cell instanceof Date) return Number.isNaN(cell.getTime()) ? "is not a valid date" : cell.getTime();
   if (typeof cell === "number") {
     // Excel's serial day number (days since 1899-12-30), as a workbook stores dates.
     if (cell < 1 || cell > 2_958_465) return `${cell} is not a date`;
-    return Math.round(EXCEL_EPOCH_MS + cell * DAY_MS);
+    return Math.round((date1904 ? EXCEL_1904_EPOCH_MS : EXCEL_EPOCH_MS) + cell * DAY_MS);
   }
   if (typeof cell !== "string") return "is not a date";
   const m = ISO.exec(cell.trim());
@@ -86,7 +105,7 @@ function bounds(spec: ColumnSpec) {
 }
 
 /** One cell to its column's type; a string is an error message. */
-export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean): Value | { error: string } {
+export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean, date1904 = false): Value | { error: string } {
   if (cell === null || (typeof cell === "string" && cell.trim() === "")) return null;
   if (typeof cell === "object" && cell !== null && "formulaWithoutValue" in cell) return { error: "is a formula with no stored value; open the file in Excel, let it calculate, save and retry" };
   if (typeof cell === "object" && cell !== null && "cellError" in cell) return { error: `holds ${cell.cellError}` };
@@ -107,7 +126,7 @@ export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean):
       return n;
     }
     case "datetime": {
-      const t = parseDateTime(cell);
+      const t = parseDateTime(cell, date1904);
       return typeof t === "string" ? { error: t } : t;
     }
     case "boolean": {
@@ -181,7 +200,7 @@ export function coerceTable(table: Table, kind: ImportKind, errors: ErrorList): 
     }
     columns.forEach((spec, col) => {
       if (!spec) return;
-      const v = coerceCell(spec, r.cells[col] ?? null, table.decimalComma);
+      const v = coerceCell(spec, r.cells[col] ?? null, table.decimalComma, table.date1904);
       if (v !== null && typeof v === "object") {
         errors.add(r.rowNo, spec.key, `${spec.key} ${v.error}.`);
         bad = true;

@@ -1,14 +1,18 @@
 /**
- * Turns an uploaded file into a header and rows of raw cell values. The kind of file is judged by
- * its content (file-type), never by its name: .xlsx through exceljs's streaming reader (first sheet;
- * formula cells give their stored result), CSV through csv-parse (delimiter , ; or tab, found from the
- * header line; UTF-8, or Windows-1252 as Excel writes it).
+ * Turns an uploaded file into a header and rows of raw cell values, under the limits of
+ * IMPORT_LIMITS (checked while reading, never after). The kind of file is judged by its content
+ * (file-type), never by its name: .xlsx through our bounded streaming reader (read-xlsx.ts: first
+ * sheet; formula cells give their stored result), CSV through csv-parse's streaming parser
+ * (delimiter , ; or tab, found from the header line; UTF-8, or Windows-1252 as Excel writes it).
+ * These run in the import worker (import-pool.ts), never on the server's main thread.
  */
+import fs from "node:fs";
 import { Readable } from "node:stream";
-import ExcelJS from "exceljs";
-import { parse as parseCsv } from "csv-parse/sync";
-import { fileTypeFromBuffer } from "file-type";
+import { parse as parseCsv } from "csv-parse";
+import { fileTypeFromFile } from "file-type";
+import { IMPORT_COLUMNS, IMPORT_LIMITS, type ImportKind } from "@shared/api/imports";
 import { HttpError } from "../lib/http-error";
+import { readXlsxFile, type Limits } from "./read-xlsx";
 
 export type Cell = string | number | boolean | Date | null | { formulaWithoutValue: true } | { cellError: string };
 
@@ -19,120 +23,30 @@ export interface Table {
   rows: { rowNo: number; cells: Cell[]; invalid?: string }[];
   /** CSV written with ; separators uses the decimal comma. */
   decimalComma: boolean;
+  /** The workbook counts serial dates from 1904 (old Mac Excel) instead of 1900. */
+  date1904?: boolean;
 }
 
 const unsupported = (message: string) => new HttpError(415, "unsupported_file", message);
+const tooLarge = (message: string, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
+const fmt = (n: number) => n.toLocaleString("en-GB");
 
-export async function readTable(buffer: Buffer): Promise<Table> {
-  if (buffer.length === 0) throw new HttpError(400, "empty_file", "The file is empty.");
-  const type = await fileTypeFromBuffer(buffer);
-  if (type?.ext === "xlsx") return readXlsx(buffer);
+/** Reads the uploaded file at `file` (at most IMPORT_MAX_BYTES, checked by the upload). */
+export async function readTable(file: string, limits: Limits = IMPORT_LIMITS): Promise<Table> {
+  const size = (await fs.promises.stat(file)).size;
+  if (size === 0) throw new HttpError(400, "empty_file", "The file is empty.");
+  const type = await fileTypeFromFile(file);
+  if (type?.ext === "xlsx") return readXlsxFile(file, limits);
   // file-type looks at the first zip entries only; some writers (exceljs's own streaming writer
-  // among them) put the workbook parts later. The central directory names them all.
-  if (type?.ext === "zip" && looksLikeXlsxZip(buffer)) return readXlsx(buffer);
+  // among them) put the workbook parts later. The reader then finds them in the central directory.
+  if (type?.ext === "zip") return readXlsxFile(file, limits);
   if (type) {
     if (type.ext === "cfb") throw unsupported("This is an old-style .xls workbook. Save it as .xlsx (Excel Workbook) or as CSV and try again.");
-    if (type.ext === "zip") throw unsupported("This is a zip archive, not an .xlsx workbook.");
     throw unsupported(`This file is a ${type.ext.toUpperCase()} file, not a workbook. Upload an .xlsx workbook or a CSV file.`);
   }
+  const buffer = await fs.promises.readFile(file);
   if (buffer.includes(0)) throw unsupported("This file is not text and not an .xlsx workbook. Upload an .xlsx workbook or a CSV file.");
-  return readCsv(buffer);
-}
-
-function looksLikeXlsxZip(buffer: Buffer): boolean {
-  return buffer.includes("[Content_Types].xml") && buffer.includes("xl/workbook.xml");
-}
-
-/** exceljs cell values → our cells: rich text and hyperlinks to text, formulas to their stored result. */
-function toCell(v: unknown): Cell {
-  if (v === null || v === undefined) return null;
-  if (typeof v === "string" || typeof v === "number" || typeof v === "boolean" || v instanceof Date) return v;
-  if (typeof v === "object") {
-    const o = v as Record<string, unknown>;
-    if ("formula" in o || "sharedFormula" in o) {
-      return o.result === undefined || o.result === null ? { formulaWithoutValue: true } : toCell(o.result);
-    }
-    if ("error" in o) return { cellError: String(o.error) };
-    if (Array.isArray(o.richText)) return (o.richText as { text: string }[]).map((r) => r.text).join("");
-    if ("text" in o) return toCell(o.text);
-  }
-  return String(v);
-}
-
-/** Collects the first sheet's rows: row 1 is the header, blank rows are skipped. */
-class SheetRows {
-  headers: string[] | null = null;
-  rows: Table["rows"] = [];
-  add(rowNo: number, values: unknown[]) {
-    const cells: Cell[] = [];
-    for (let i = 1; i < values.length; i++) cells.push(toCell(values[i]));
-    if (this.headers === null) {
-      this.headers = cells.map((c) => (c === null ? "" : String(c instanceof Date ? c.toISOString() : c)));
-      if (rowNo !== 1) throw new HttpError(400, "bad_header", `The header must be on row 1 of the first sheet (found on row ${rowNo}).`);
-      return;
-    }
-    if (cells.every((c) => c === null || (typeof c === "string" && c.trim() === ""))) return;
-    this.rows.push({ rowNo, cells });
-  }
-  table(sheetSeen: boolean): Table {
-    if (!sheetSeen || this.headers === null) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
-    if (this.rows.length === 0) throw new HttpError(400, "empty_file", "The workbook has a header but no data rows.");
-    return { format: "xlsx", headers: this.headers, rows: this.rows, decimalComma: false };
-  }
-}
-
-const unreadable = () => unsupported("The workbook could not be read; it may be damaged or protected. Save it again as .xlsx and retry.");
-
-async function readXlsx(buffer: Buffer): Promise<Table> {
-  try {
-    return await readXlsxStreaming(buffer);
-  } catch (err) {
-    if (err instanceof HttpError) throw err;
-    // exceljs's streaming reader unzips with `unzipper`, which now and then fails on a sound file
-    // when the machine is busy (seen under parallel load: the same bytes read fine a moment later).
-    // Before calling a file damaged, read it whole with the standard reader (JSZip); only a file
-    // that both refuse is refused.
-    return readXlsxWhole(buffer);
-  }
-}
-
-export async function readXlsxStreaming(buffer: Buffer): Promise<Table> {
-  const reader = new ExcelJS.stream.xlsx.WorkbookReader(Readable.from(buffer), {
-    sharedStrings: "cache",
-    hyperlinks: "ignore",
-    worksheets: "emit",
-    // Styles tell exceljs which numbers are dates.
-    styles: "cache",
-    entries: "ignore",
-  });
-  const out = new SheetRows();
-  let sheetSeen = false;
-  for await (const sheet of reader) {
-    if (sheetSeen) {
-      // Only the first sheet holds data (a template's second sheet describes the columns); drain the rest.
-      for await (const _row of sheet) void _row;
-      continue;
-    }
-    sheetSeen = true;
-    for await (const row of sheet) {
-      const r = row as unknown as { values: unknown[]; number: number };
-      out.add(r.number, r.values);
-    }
-  }
-  return out.table(sheetSeen);
-}
-
-export async function readXlsxWhole(buffer: Buffer): Promise<Table> {
-  const wb = new ExcelJS.Workbook();
-  try {
-    await wb.xlsx.load(buffer as unknown as ArrayBuffer);
-  } catch {
-    throw unreadable();
-  }
-  const sheet = wb.worksheets[0];
-  const out = new SheetRows();
-  sheet?.eachRow({ includeEmpty: false }, (row, rowNo) => out.add(rowNo, row.values as unknown[]));
-  return out.table(sheet !== undefined);
+  return readCsv(buffer, limits);
 }
 
 function decodeText(buffer: Buffer): string {
@@ -157,34 +71,133 @@ function detectDelimiter(headerLine: string): string {
   return best;
 }
 
-function readCsv(buffer: Buffer): Table {
+/**
+ * A record with this many separators is not an import row (the imports have fewer than 40 columns
+ * and no free text). Counted before parsing because csv-parse builds a record whole before handing
+ * it over, and a record of empty fields (",,,,") costs an array slot per comma without adding to its
+ * size limit.
+ */
+const MAX_DELIMITERS_PER_RECORD = 2_000;
+
+/**
+ * One pass over the text before parsing, aware of quoted fields (a quoted newline or separator is
+ * part of a value): refuses a record with too many separators and a file with too many records, so
+ * the parser never builds either.
+ */
+function precheckCsv(text: string, delimiter: string, limits: Limits) {
+  const code = delimiter.charCodeAt(0);
+  let inQuotes = false;
+  let line = 1;
+  let separators = 0;
+  let filled = false;
+  let records = 0;
+  const endRecord = () => {
+    if (filled && ++records > limits.rows + 1) {
+      throw tooLarge(`The file has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
+    }
+    separators = 0;
+    filled = false;
+  };
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (c === 34) {
+      inQuotes = !inQuotes; // "" inside a quoted value toggles twice
+      filled = true;
+    } else if (c === 10) {
+      line++;
+      if (!inQuotes) endRecord();
+    } else if (inQuotes) {
+      continue;
+    } else if (c === code) {
+      if (++separators > MAX_DELIMITERS_PER_RECORD) {
+        throw tooLarge(`Line ${fmt(line)} has more than ${fmt(MAX_DELIMITERS_PER_RECORD)} separators; the imports take fewer than 40 columns. Nothing was imported.`, { line });
+      }
+    } else if (c !== 13 && c !== 32 && c !== 9) {
+      filled = true;
+    }
+  }
+  endRecord();
+}
+
+/** The text in 64 KB slices, so the parser hands over records as it goes instead of all at once. */
+function* slices(text: string) {
+  for (let i = 0; i < text.length; i += 65_536) yield text.slice(i, i + 65_536);
+}
+
+async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
+  const deadline = Date.now() + limits.checkSeconds * 1000;
   const text = decodeText(buffer).replace(/^\uFEFF/, "");
   if (text.trim() === "") throw new HttpError(400, "empty_file", "The file is empty.");
   const firstLine = text.slice(0, text.search(/\r?\n|$/));
   const delimiter = detectDelimiter(firstLine);
-  let records: { record: string[]; info: { lines: number } }[];
+  precheckCsv(text, delimiter, limits);
+  const parser = Readable.from(slices(text)).pipe(
+    parseCsv({ delimiter, info: true, relax_column_count: true, skip_empty_lines: true, trim: true, max_record_size: limits.csvLineChars }),
+  );
+  let header: string[] | null = null;
+  const rows: Table["rows"] = [];
+  let cells = 0;
   try {
-    records = parseCsv(text, { delimiter, info: true, relax_column_count: true, skip_empty_lines: true, trim: true }) as never;
+    for await (const r of parser as AsyncIterable<{ record: string[]; info: { lines: number } }>) {
+      if (r.record.length > limits.columns && r.record.slice(limits.columns).some((c) => c !== "")) {
+        throw tooLarge(`Line ${fmt(r.info.lines)} has values in more than ${limits.columns} columns; the imports take fewer than 40. Nothing was imported.`, { line: r.info.lines });
+      }
+      let filled = 0;
+      for (const c of r.record) {
+        if (c.length > limits.cellChars) {
+          throw tooLarge(`Line ${fmt(r.info.lines)} holds a value of more than ${fmt(limits.cellChars)} characters; nothing was imported.`, { line: r.info.lines });
+        }
+        if (c !== "") filled++;
+      }
+      if (header === null) {
+        // Trailing empty header cells (a spreadsheet's stray separators) are no columns.
+        while (r.record.length > 0 && r.record[r.record.length - 1] === "") r.record.pop();
+        header = r.record;
+        continue;
+      }
+      if (filled === 0) continue;
+      cells += filled;
+      if (cells > limits.cells) throw tooLarge(`The file holds more than ${fmt(limits.cells)} filled cells; nothing was imported. Split it into smaller files.`);
+      rows.push({ rowNo: r.info.lines, cells: r.record.map((c) => (c === "" ? null : c)) });
+      if (rows.length > limits.rows) {
+        throw tooLarge(`The file has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
+      }
+      if ((rows.length & 0x3fff) === 0 && Date.now() > deadline) {
+        throw tooLarge(`Checking the file took longer than ${limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`);
+      }
+    }
   } catch (err) {
-    const line = (err as { lines?: number }).lines;
-    const reason = (err as Error).message.split(":")[0]!.toLowerCase();
-    throw new HttpError(400, "bad_csv", `This file is not an .xlsx workbook, and as CSV it could not be read${line ? ` near line ${line}` : ""} (${reason}).`);
+    parser.destroy();
+    if (err instanceof HttpError) throw err;
+    const e = err as { lines?: number; code?: string; message?: string };
+    if (e.code === "CSV_MAX_RECORD_SIZE") {
+      throw tooLarge(`Line ${fmt(e.lines ?? 0)} is longer than ${fmt(limits.csvLineChars)} characters; nothing was imported.`, { line: e.lines });
+    }
+    const reason = (e.message ?? "").split(":")[0]!.toLowerCase();
+    throw new HttpError(400, "bad_csv", `This file is not an .xlsx workbook, and as CSV it could not be read${e.lines ? ` near line ${e.lines}` : ""} (${reason}).`);
   }
-  if (records.length === 0) throw new HttpError(400, "empty_file", "The file is empty.");
-  const [header, ...data] = records;
-  const rows = data
-    .filter((r) => r.record.some((c) => c !== ""))
-    .map((r) => ({ rowNo: r.info.lines, cells: r.record.map((c) => (c === "" ? null : c)) as Cell[] }));
+  if (header === null) throw new HttpError(400, "empty_file", "The file is empty.");
   if (rows.length === 0) throw new HttpError(400, "empty_file", "The file has a header but no data rows.");
-  return { format: "csv", headers: header!.record, rows, decimalComma: delimiter === ";" };
+  return { format: "csv", headers: header, rows, decimalComma: delimiter === ";" };
 }
 
-/** The level-2 feed's JSON array as a table: the keys seen, in order, become the header. */
-export function tableFromJson(items: unknown): Table {
+/**
+ * The level-2 feed's JSON array as a table. Keys must be the import's own (matched case-insensitively,
+ * as a file's header is): an unknown key is refused at once, so a body cannot grow the table one new
+ * column per item.
+ */
+export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits = IMPORT_LIMITS): Table {
   if (!Array.isArray(items)) throw new HttpError(400, "bad_request", "The body must be a JSON array of objects.");
   if (items.length === 0) throw new HttpError(400, "empty_file", "The array is empty: nothing to import.");
+  if (items.length > limits.rows) {
+    throw tooLarge(`The feed sent ${fmt(items.length)} items; one call may send at most ${fmt(limits.rows)}. Send them in smaller batches.`, { limitRows: limits.rows });
+  }
+  const known = new Set(IMPORT_COLUMNS[kind].map((c) => c.key));
+  // Columns are keyed by the normalised key (as a file's header is matched), so no spelling of a
+  // real key — another case, surrounding spaces — can open a column of its own.
   const headers: string[] = [];
   const index = new Map<string, number>();
+  const spelling: string[] = [];
   const rows: Table["rows"] = [];
   items.forEach((item, i) => {
     if (item === null || typeof item !== "object" || Array.isArray(item)) {
@@ -193,16 +206,30 @@ export function tableFromJson(items: unknown): Table {
     }
     const cells: Cell[] = [];
     for (const [k, v] of Object.entries(item as Record<string, unknown>)) {
-      let col = index.get(k);
+      const key = k.trim().toLowerCase();
+      let col = index.get(key);
       if (col === undefined) {
+        if (!known.has(key)) {
+          throw new HttpError(400, "unknown_key", `Item ${fmt(i + 1)} has the key “${k.slice(0, 80)}”, which is not a key of the ${kind.replace("-", " ")} import; nothing was imported. The template lists the keys.`, {
+            item: i + 1,
+            key: k.slice(0, 80),
+          });
+        }
         col = headers.length;
-        headers.push(k);
-        index.set(k, col);
+        headers.push(key);
+        spelling.push(k);
+        index.set(key, col);
+      } else if (spelling[col] !== k) {
+        throw new HttpError(400, "mixed_keys", `Item ${fmt(i + 1)} spells the key ${key} as “${k.slice(0, 80)}”, another item as “${spelling[col]}”; nothing was imported. Spell each key one way.`, {
+          item: i + 1,
+          key: k.slice(0, 80),
+        });
       }
       cells[col] = v === null || v === undefined ? null : typeof v === "object" ? { cellError: "a nested value" } : (v as Cell);
     }
     rows.push({ rowNo: i + 1, cells });
   });
+  // At most one column per known key (fewer than 40): padding is bounded by rows × known keys.
   for (const r of rows) for (let c = 0; c < headers.length; c++) if (r.cells[c] === undefined) r.cells[c] = null;
   return { format: "json", headers, rows, decimalComma: false };
 }

@@ -1,9 +1,10 @@
-import type { Request, RequestHandler, Response, Router } from "express";
+import express, { type Request, type RequestHandler, type Response, type Router } from "express";
 import type { OpenAPIRegistry, RouteConfig } from "@asteasolutions/zod-to-openapi";
 import type { z } from "zod";
 import { apiErrorSchema } from "@shared/api/common";
 import { HttpError } from "./http-error";
 import { requireRole, type Access } from "../middleware/require-role";
+import { takeUploadSlot } from "../middleware/uploads";
 
 type Method = "get" | "post" | "put" | "patch" | "delete";
 type AnyZod = z.ZodType;
@@ -26,6 +27,18 @@ export interface RouteContext<P, Q, B> {
   body: B;
 }
 
+export interface UploadSpec<P, Q> {
+  middleware: RequestHandler;
+  fields: Record<string, { type: "file" | "files" | "string"; description: string }>;
+  /**
+   * Runs before a byte of the body is read, with the parsed params and query and the user: every
+   * refusal that does not need the files (no such record, not yours, already reviewed, full) is
+   * answered here, so a refused upload costs neither memory nor disk. The handler checks again
+   * when it writes, since things may change while the files arrive.
+   */
+  precheck?: (ctx: { req: Request; res: Response; user: NonNullable<Request["user"]>; params: P; query: Q }) => unknown | Promise<unknown>;
+}
+
 export interface RouteSpec<P extends AnyZod | undefined, Q extends AnyZod | undefined, B extends AnyZod | undefined> {
   method: Method;
   /** Express path, e.g. "/admin/users/:id" (relative to /api). */
@@ -36,8 +49,8 @@ export interface RouteSpec<P extends AnyZod | undefined, Q extends AnyZod | unde
   params?: P;
   query?: Q;
   body?: B;
-  /** Multipart uploads: the multer middleware, and the OpenAPI description of the form. */
-  upload?: { middleware: RequestHandler; fields: Record<string, { type: "file" | "files" | "string"; description: string }> };
+  /** Multipart uploads: the middleware that reads the form (diskUpload), and the OpenAPI description of the form. */
+  upload?: UploadSpec<Out<P>, Out<Q>>;
   /** Status of a successful answer (the first key of `responses` when not given). */
   status?: number;
   responses: Record<number, ResponseSpec>;
@@ -128,6 +141,26 @@ function readableUpload(middleware: RequestHandler): RequestHandler {
 }
 
 /**
+ * An upload's checks before its body is read: params and query (400), the route's pre-check
+ * (404 / 403 / 409 …), then one of the user's upload slots (429). Node discards the unread body of
+ * a refused request as it arrives, so refusals cost no memory however large the files.
+ */
+function beforeBody(spec: AnyRoute): RequestHandler {
+  return async (req, res, next) => {
+    const params = spec.params ? spec.params.parse(req.params) : req.params;
+    const query = spec.query ? spec.query.parse(req.query) : req.query;
+    if (req.user) {
+      await spec.upload!.precheck?.({ req, res, user: req.user, params, query } as never);
+      takeUploadSlot(req.user.id, res);
+    }
+    next();
+  };
+}
+
+/** JSON bodies of the API: at most 2 MB (the level-2 feed reads its own, larger body: server/app.ts). */
+const jsonBody = express.json({ limit: "2mb" });
+
+/**
  * Mounts routes on a router behind the role gate, validates params, query and body with their zod
  * schemas (a failure becomes a 400 through the error middleware), and documents each in OpenAPI.
  */
@@ -136,7 +169,9 @@ export function mountRoutes(router: Router, registry: OpenAPIRegistry, routes: A
     describe(registry, spec);
     const successStatus = spec.status ?? Number(Object.keys(spec.responses)[0] ?? 200);
     const handlers: RequestHandler[] = [gate(spec.access)];
-    if (spec.upload) handlers.push(readableUpload(spec.upload.middleware));
+    // A body is read only once the caller may use the route: JSON here, a form by its upload middleware.
+    if (spec.upload) handlers.push(beforeBody(spec), readableUpload(spec.upload.middleware));
+    else handlers.push(jsonBody);
     handlers.push(async (req, res) => {
       const params = spec.params ? spec.params.parse(req.params) : req.params;
       const query = spec.query ? spec.query.parse(req.query) : req.query;

@@ -2,7 +2,10 @@ import type { RequestHandler } from "express";
 import type { Db } from "../db/client";
 import { authenticateToken } from "../services/tokens.service";
 
-/** Reads `Authorization: Bearer <token>` into req.apiToken; the role gate decides what it may reach. */
+/**
+ * Reads `Authorization: Bearer <token>` into req.apiToken, with the kinds it may send (scopes): the
+ * role gate lets a token reach the feed only, and the feed route checks the kind (assertTokenAllows).
+ */
 export function apiTokenContext(db: Db): RequestHandler {
   return (req, _res, next) => {
     const header = req.headers.authorization;

@@ -3,6 +3,9 @@ import { ZodError } from "zod";
 import { HttpError } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 
+/** File system refusals that mean the server's storage is unusable, not that the request was wrong. */
+const STORAGE_TROUBLE = new Set(["EACCES", "EPERM", "EROFS", "ENOSPC", "EDQUOT"]);
+
 function zodDetails(err: ZodError) {
   return err.issues.map((i) => ({ path: i.path.join("."), message: i.message }));
 }
@@ -26,6 +29,14 @@ export function errorHandler(logger: Logger): ErrorRequestHandler {
       return;
     }
     if (err instanceof HttpError) {
+      // A 5xx in words (store unwritable, busy) is still the server's trouble: the log keeps its cause.
+      if (err.status >= 500) {
+        const cause = (err as Error & { cause?: unknown }).cause;
+        if (cause) logger.error({ method: req.method, path: req.path, code: err.code, err: cause }, err.message);
+        else logger.warn({ method: req.method, path: req.path, code: err.code }, err.message);
+      }
+      const retry = (err.details as { retryAfterSeconds?: unknown } | undefined)?.retryAfterSeconds;
+      if (typeof retry === "number") res.setHeader("Retry-After", String(retry));
       res.status(err.status).json({ error: { code: err.code, message: err.message, details: err.details } });
       return;
     }
@@ -65,6 +76,17 @@ export function errorHandler(logger: Logger): ErrorRequestHandler {
     }
     if (typeof e.code === "string" && e.code.startsWith("LIMIT_")) {
       res.status(400).json({ error: { code: "upload_rejected", message: e.message ?? "The upload was refused.", details: { field: e.field } } });
+      return;
+    }
+    if (e.code && STORAGE_TROUBLE.has(e.code)) {
+      // A folder or disk the server cannot write (read-only, full, wrong owner) that no service named.
+      logger.error({ method: req.method, path: req.path, err }, "storage cannot be written");
+      res.status(503).json({
+        error: {
+          code: "store_unwritable",
+          message: `The server cannot write its files${e.code === "ENOSPC" || e.code === "EDQUOT" ? " (the disk is full)" : ""}; nothing was stored. Tell the administrator.`,
+        },
+      });
       return;
     }
     if (typeof e.status === "number" && e.status >= 400 && e.status < 500) {

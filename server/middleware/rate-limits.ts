@@ -3,6 +3,8 @@
  * password reset, the level-2 feed (API tokens) and token management. The address is the one
  * Express resolves (TRUST_PROXY), so behind a reverse proxy set TRUST_PROXY to its hop count.
  * Refusals use the app's error envelope, with the standard RateLimit and Retry-After headers.
+ * The sign-in budget is applied by server/middleware/auth-door.ts on the path as a URL parser
+ * normalises it, so `/api/auth/./sign-in/email` and the like spend the same budget.
  */
 import type { RequestHandler } from "express";
 import { rateLimit } from "express-rate-limit";

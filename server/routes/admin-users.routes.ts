@@ -1,7 +1,7 @@
 import { z } from "zod";
 import { adminUserSchema, createUserSchema, updateUserSchema } from "@shared/api/users";
 import { defineRoute } from "../lib/route";
-import { createUser, listUsers, updateUser } from "../services/users.service";
+import { createUser, listUsers, unlockUser, updateUser } from "../services/users.service";
 import type { Deps } from "./deps";
 
 const idParams = z.object({ id: z.string().min(1).max(64) });
@@ -11,11 +11,11 @@ export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
     defineRoute({
       method: "get",
       path: "/admin/users",
-      summary: "List users with their roles",
+      summary: "List users with their roles, and the addresses each is locked out from after repeated wrong passwords",
       tag: "admin",
       access: "users.manage",
       responses: { 200: { description: "All users.", schema: z.object({ users: z.array(adminUserSchema) }) } },
-      handler: () => ({ users: listUsers(db) }),
+      handler: () => ({ users: listUsers(db, auth.signInGuard) }),
     }),
     defineRoute({
       method: "post",
@@ -53,7 +53,21 @@ export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
         404: { description: "No such user." },
         409: { description: "Would leave no active administrator." },
       },
-      handler: ({ params, body, user }) => updateUser(db, params.id, body, user.id),
+      handler: ({ params, body, user }) => updateUser(db, params.id, body, user.id, auth.signInGuard),
+    }),
+    defineRoute({
+      method: "post",
+      path: "/admin/users/:id/unlock",
+      summary: "Lift the sign-in lock a user got after repeated wrong passwords, from every address (audited)",
+      tag: "admin",
+      access: "users.manage",
+      params: idParams,
+      responses: {
+        200: { description: "Unlocked.", schema: adminUserSchema },
+        404: { description: "No such user." },
+        409: { description: "The account is not locked." },
+      },
+      handler: ({ params, user }) => unlockUser(db, auth.signInGuard, params.id, user.id),
     }),
   ];
 }

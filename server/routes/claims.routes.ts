@@ -1,5 +1,4 @@
 import path from "node:path";
-import multer from "multer";
 import { z } from "zod";
 import {
   claimCreateSchema,
@@ -15,15 +14,16 @@ import {
 } from "@shared/api/claims";
 import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute } from "../lib/route";
+import { diskUpload, type IncomingFile } from "../middleware/uploads";
 import { checkHeatOfClaim, claimExists, createClaim, getClaim, linkSlabs, listClaims, unlinkSlab, updateClaim } from "../services/claims.service";
 import { heatHistory, historyWorkbook, trace } from "../services/history.service";
-import { addAttachments, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES } from "../services/attachments.service";
+import { addAttachments, ATTACHMENT_UPLOAD_REFUSALS, checkAttachmentCaps, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES } from "../services/attachments.service";
 import type { Deps } from "./deps";
 
 const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";
 const idParams = z.object({ id: z.coerce.number().int().positive() });
 const heatParams = z.object({ heatNo: z.string().trim().min(1).max(40) });
-const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: ATTACHMENT_MAX_BYTES, files: ATTACHMENT_MAX_FILES, fields: 5 } });
+const upload = diskUpload({ field: "files", maxFiles: ATTACHMENT_MAX_FILES, maxBytes: ATTACHMENT_MAX_BYTES, multiple: true });
 const one = { 200: { description: "The claim as it now stands.", schema: claimSchema } };
 const fileName = (heatNo: string) => `strandsight-heat-${heatNo.replace(/[^A-Za-z0-9_-]/g, "_")}-history-${new Date().toISOString().slice(0, 10)}.xlsx`;
 
@@ -138,11 +138,19 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
       tag: "claims",
       access: "claims.manage",
       params: idParams,
-      upload: { middleware: upload.array("files", ATTACHMENT_MAX_FILES), fields: { files: { type: "file", description: "One to five files." } } },
-      responses: { ...one, 413: { description: "A file is larger than 20 MB." }, 415: { description: "A kind of file not kept here." } },
+      upload: {
+        middleware: upload,
+        // No such claim (404) is said before the files are read.
+        precheck: ({ params, user }) => {
+          claimExists(db, params.id);
+          checkAttachmentCaps(db.$client, "claim", params.id, user.id);
+        },
+        fields: { files: { type: "file", description: "One to five files." } },
+      },
+      responses: { ...one, ...ATTACHMENT_UPLOAD_REFUSALS, 404: { description: "No such claim." } },
       handler: async ({ params, req, user }) => {
         claimExists(db, params.id);
-        await addAttachments(db, user, "claim", params.id, (req.files as Express.Multer.File[] | undefined) ?? [], attachDir);
+        await addAttachments(db, user, "claim", params.id, (req.files as IncomingFile[] | undefined) ?? [], attachDir, () => claimExists(db, params.id));
         return getClaim(db, params.id);
       },
     }),

@@ -1,5 +1,4 @@
 import path from "node:path";
-import multer from "multer";
 import { z } from "zod";
 import {
   catalogueSchema,
@@ -16,10 +15,13 @@ import {
   defectUpdateSchema,
   PHOTO_MAX_BYTES,
   PHOTO_MAX_FILES,
+  PHOTO_MAX_PER_DEFECT,
+  PHOTO_MAX_PER_USER_HOUR,
   photosUploadedSchema,
 } from "@shared/api/defects";
 import { badRequest } from "../lib/http-error";
 import { defineRoute } from "../lib/route";
+import { diskUpload, type IncomingFile } from "../middleware/uploads";
 import { createDefectCategory, createDefectType, getCatalogue, updateDefectCategory, updateDefectType } from "../services/catalogue.service";
 import {
   addPhotos,
@@ -29,6 +31,7 @@ import {
   getDefect,
   listDefects,
   photoFile,
+  precheckPhotos,
   reviewDefect,
   updateDefect,
 } from "../services/defects.service";
@@ -38,7 +41,7 @@ const idParams = z.object({ id: z.coerce.number().int().positive() });
 const photoParams = z.object({ id: z.string().uuid("Not a photo id.") });
 const codeParams = z.object({ code: z.string().trim().min(1).max(16) });
 
-const photoUpload = multer({ storage: multer.memoryStorage(), limits: { fileSize: PHOTO_MAX_BYTES, files: PHOTO_MAX_FILES, fields: 5 } });
+const photoUpload = diskUpload({ field: "photos", maxFiles: PHOTO_MAX_FILES, maxBytes: PHOTO_MAX_BYTES, multiple: true, maxFields: 5 });
 
 export function defectRoutes({ db, env, events }: Deps) {
   const uploadDir = path.resolve(env.UPLOAD_DIR);
@@ -141,12 +144,13 @@ export function defectRoutes({ db, env, events }: Deps) {
     defineRoute({
       method: "post",
       path: "/defects/:id/photos",
-      summary: "Attach photos (JPEG, PNG, WebP or AVIF; ≤ 25 MB and 50 MP each)",
+      summary: `Attach photos (JPEG, PNG, WebP or AVIF; ≤ 25 MB and 50 MP each; ${PHOTO_MAX_PER_DEFECT} per entry, ${PHOTO_MAX_PER_USER_HOUR} per person an hour)`,
       tag: "defects",
       access: "defects.log",
       params: idParams,
       upload: {
-        middleware: photoUpload.array("photos", PHOTO_MAX_FILES),
+        middleware: photoUpload,
+        precheck: ({ params, user }) => precheckPhotos(db, user, params.id),
         fields: {
           photos: { type: "files", description: "1–10 image files." },
           client_keys: { type: "string", description: "Comma-separated keys, one per file, made on the device; a photo sent again is stored once." },
@@ -155,11 +159,16 @@ export function defectRoutes({ db, env, events }: Deps) {
       status: 201,
       responses: {
         201: { description: "Stored.", schema: photosUploadedSchema },
+        403: { description: "Not yours, or already reviewed (answered before the photos are read)." },
+        404: { description: "No such defect (answered before the photos are read)." },
+        409: { description: "The entry has its most photos, or was reviewed or deleted while the photos arrived." },
         413: { description: "Larger than 25 MB or 50 megapixels." },
         415: { description: "Not an image Strandsight stores (HEIC is refused with a message)." },
+        429: { description: "Three uploads of yours already in progress, or the hourly number of photos reached." },
+        503: { description: "Busy decoding other photos (try again), or the photo store cannot be written." },
       },
       handler: async ({ params, req, user }) => {
-        const files = (req.files as Express.Multer.File[] | undefined) ?? [];
+        const files = (req.files as IncomingFile[] | undefined) ?? [];
         const keys = typeof req.body?.client_keys === "string" ? req.body.client_keys.split(",").map((k: string) => k.trim() || null) : [];
         if (keys.some((k: string | null) => k !== null && !/^[A-Za-z0-9_-]{8,64}$/.test(k))) {
           throw badRequest("client_keys must be comma-separated keys of 8–64 letters, digits, - or _.", { field: "client_keys" });

@@ -5,6 +5,7 @@ import type { Logger } from "../lib/logger";
 import type { DefectEvents } from "../services/defects.service";
 import type { Mailer } from "../mail/mailer";
 import type { Notifications } from "../mail/notifications";
+import type { ImportPool } from "../import/import-pool";
 
 /** What route modules receive from createApp. */
 export interface Deps {
@@ -16,4 +17,6 @@ export interface Deps {
   events: DefectEvents;
   mailer: Mailer;
   notify: Notifications;
+  /** The import threads (server/import/import-pool.ts). */
+  imports: ImportPool;
 }

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { heatDetailSchema, heatListQuerySchema, heatListSchema, heatSamplesQuerySchema, heatSamplesSchema, slabDetailSchema } from "@shared/api/heats";
+import { can } from "@shared/roles";
 import { defineRoute } from "../lib/route";
 import { getHeat, getHeatSamples, getSlab, listHeats } from "../services/heats.service";
 import type { Deps } from "./deps";
@@ -48,7 +49,7 @@ export function heatRoutes({ db }: Deps) {
       access: "plant.read",
       params: slabParams,
       responses: { 200: { description: "The slab.", schema: slabDetailSchema }, 404: { description: "No such slab." } },
-      handler: ({ params }) => getSlab(db, params.slabId),
+      handler: ({ params, user }) => getSlab(db, params.slabId, can(user.roles, "causes.read")),
     }),
   ];
 }

@@ -1,5 +1,4 @@
 import path from "node:path";
-import multer from "multer";
 import { z } from "zod";
 import {
   actionCreateSchema,
@@ -19,6 +18,7 @@ import {
 import { can } from "@shared/roles";
 import { forbidden } from "../lib/http-error";
 import { defineRoute, type AnyRoute } from "../lib/route";
+import { diskUpload, type IncomingFile } from "../middleware/uploads";
 import {
   addAction,
   addHypothesis,
@@ -34,13 +34,13 @@ import {
   updateHypothesis,
   updateInvestigation,
 } from "../services/investigations.service";
-import { addAttachments, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES, attachmentFile } from "../services/attachments.service";
+import { addAttachments, ATTACHMENT_UPLOAD_REFUSALS, checkAttachmentCaps, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES, attachmentFile } from "../services/attachments.service";
 import type { Deps } from "./deps";
 
 const idParams = z.object({ id: z.coerce.number().int().positive() });
 const hypParams = idParams.extend({ hid: z.coerce.number().int().positive() });
 const actParams = idParams.extend({ aid: z.coerce.number().int().positive() });
-const upload = multer({ storage: multer.memoryStorage(), limits: { fileSize: ATTACHMENT_MAX_BYTES, files: ATTACHMENT_MAX_FILES, fields: 5 } });
+const upload = diskUpload({ field: "files", maxFiles: ATTACHMENT_MAX_FILES, maxBytes: ATTACHMENT_MAX_BYTES, multiple: true });
 const one = { 200: { description: "The investigation as it now stands.", schema: investigationSchema } };
 
 export function investigationRoutes({ db, env, notify }: Deps): AnyRoute[] {
@@ -182,11 +182,19 @@ export function investigationRoutes({ db, env, notify }: Deps): AnyRoute[] {
       summary: "Attach files (PDF, Office, images, CSV, text; up to 5 of 20 MB each)",
       access: "investigations.manage",
       params: idParams,
-      upload: { middleware: upload.array("files", ATTACHMENT_MAX_FILES), fields: { files: { type: "file", description: "One to five files." } } },
-      responses: { ...one, 413: { description: "A file is larger than 20 MB." }, 415: { description: "A kind of file not kept here." } },
+      upload: {
+        middleware: upload,
+        // No such investigation (404) or a closed one (409) is said before the files are read.
+        precheck: ({ params, user }) => {
+          investigationForOpen(db, params.id);
+          checkAttachmentCaps(db.$client, "investigation", params.id, user.id);
+        },
+        fields: { files: { type: "file", description: "One to five files." } },
+      },
+      responses: { ...one, ...ATTACHMENT_UPLOAD_REFUSALS, 404: { description: "No such investigation." } },
       handler: async ({ params, req, user }) => {
         investigationForOpen(db, params.id);
-        await addAttachments(db, user, "investigation", params.id, (req.files as Express.Multer.File[] | undefined) ?? [], dir);
+        await addAttachments(db, user, "investigation", params.id, (req.files as IncomingFile[] | undefined) ?? [], dir, () => investigationForOpen(db, params.id));
         return getInvestigation(db, params.id);
       },
     }),

@@ -10,6 +10,17 @@ const iso = (ms: number | null | undefined) => (ms == null ? null : new Date(ms)
 
 const SELECT = `select o.*, exists (select 1 from mail_received r where r.message_id = o.message_id) as received from email_outbox o`;
 
+/**
+ * Reset and invitation links carry a token that sets the account's password: whoever reads the
+ * outbox could take the account over, so the screen and the API show them hidden. The message as
+ * sent over SMTP keeps the real link.
+ */
+export function hideSecretLinks(text: string): string {
+  return text
+    .replace(/(\/reset-password\/)[^\s?#]+(?:\?[^\s#]*)?/g, "$1[link hidden]")
+    .replace(/([?&]token=)[^\s&#]+/g, "$1[hidden]");
+}
+
 function toMessage(r: Row): OutboxMessage {
   const att = (r.attachments ? JSON.parse(r.attachments) : []) as { filename: string; contentType: string; bytes: number }[];
   return {
@@ -18,7 +29,7 @@ function toMessage(r: Row): OutboxMessage {
     from: r.from_address,
     to: String(r.to_addresses).split(",").map((s) => s.trim()).filter(Boolean),
     subject: r.subject,
-    text: r.text_body,
+    text: hideSecretLinks(String(r.text_body)),
     attachments: att.map(({ filename, contentType, bytes }) => ({ filename, contentType, bytes })),
     status: r.status,
     attempts: r.attempts,

@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { apiTokenCreatedSchema, apiTokenCreateSchema, apiTokenSchema } from "@shared/api/heats";
+import { apiTokenCreatedSchema, apiTokenCreateSchema, apiTokenSchema } from "@shared/api/tokens";
 import { defineRoute } from "../lib/route";
 import { createToken, listTokens, revokeToken } from "../services/tokens.service";
 import type { Deps } from "./deps";
@@ -18,12 +18,12 @@ export function tokenRoutes({ db }: Deps) {
     defineRoute({
       method: "post",
       path: "/admin/tokens",
-      summary: "Create an API token; the token is in this answer only",
+      summary: "Create an API token that may send the kinds in `scopes` (default heats, slabs, process-samples); the token is in this answer only",
       tag: "admin",
       access: "tokens.manage",
       body: apiTokenCreateSchema,
-      responses: { 201: { description: "Created.", schema: apiTokenCreatedSchema } },
-      handler: ({ body, user }) => createToken(db, body.name, user.id),
+      responses: { 201: { description: "Created.", schema: apiTokenCreatedSchema }, 400: { description: "No name, or no kind ticked." } },
+      handler: ({ body, user }) => createToken(db, body.name, body.scopes, user.id),
     }),
     defineRoute({
       method: "delete",

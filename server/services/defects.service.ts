@@ -1,5 +1,5 @@
 import type Database from "better-sqlite3";
-import type { Defect } from "@shared/api/defects";
+import { PHOTO_MAX_PER_DEFECT, PHOTO_MAX_PER_USER_HOUR, type Defect } from "@shared/api/defects";
 import type { defectCreateSchema, defectListQuerySchema, defectReviewSchema, defectUpdateSchema } from "@shared/api/defects";
 import { DISPOSITION_RANK, FACE_LABELS, type Disposition, type Face } from "@shared/domain";
 import { can } from "@shared/roles";
@@ -9,7 +9,7 @@ import { HttpError, badRequest, conflict, forbidden, notFound } from "../lib/htt
 import { causesBrief } from "./causes.service";
 import { recordAudit } from "./audit.service";
 import { parseDateBound } from "./heats.service";
-import { checkPhoto, removePhotoFiles, storePhotoFiles, type StoredPhotoFiles } from "./photos.service";
+import { admitPhotoDecodes, checkPhoto, removePhotoFiles, storePhotoFiles, type StoredPhotoFiles } from "./photos.service";
 
 type Actor = NonNullable<Express.Request["user"]>;
 type CreateInput = z.output<typeof defectCreateSchema>;
@@ -93,10 +93,18 @@ function toDefect(r: Row, photos: Defect["photos"], user: Actor, causes: Defect[
   };
 }
 
+/**
+ * The live causes of the defects, for callers who may read causes (the causes routes' capability);
+ * for everyone else none, so the lists do not show what the causes routes would refuse.
+ */
+function causesFor(db: Db, user: Actor, defectIds: number[]): Map<number, Defect["causes"]> {
+  return can(user.roles, "causes.read") ? causesBrief(db.$client, defectIds) : new Map();
+}
+
 export function getDefect(db: Db, id: number, user: Actor): Defect {
   const r = db.$client.prepare(`${SELECT} where d.id = ? and d.deleted_at is null`).get(id) as Row | undefined;
   if (!r) throw notFound("There is no such defect entry (it may have been deleted).");
-  return toDefect(r, photosOf(db.$client, [id]).get(id) ?? [], user, causesBrief(db.$client, [id]).get(id) ?? []);
+  return toDefect(r, photosOf(db.$client, [id]).get(id) ?? [], user, causesFor(db, user, [id]).get(id) ?? []);
 }
 
 /** The width of the face the position across is measured on. */
@@ -316,18 +324,78 @@ export function listDefects(db: Db, user: Actor, q: z.output<typeof defectListQu
     offset: (q.page - 1) * q.pageSize,
   }) as Row[];
   const photos = photosOf(db.$client, rows.map((r) => r.id));
-  const causes = causesBrief(db.$client, rows.map((r) => r.id as number));
+  const causes = causesFor(db, user, rows.map((r) => r.id as number));
   return { items: rows.map((r) => toDefect(r, photos.get(r.id) ?? [], user, causes.get(r.id) ?? [])), total, page: q.page, pageSize: q.pageSize };
 }
 
+/** A photo as the route hands it over: the uploaded file's path (or, for the seed and benchmarks, its bytes). */
 export interface UploadedFile {
-  buffer: Buffer;
   originalname: string;
+  path?: string;
+  buffer?: Buffer;
+}
+
+const photoCountOf = (sqlite: Database.Database, defectId: number) =>
+  sqlite.prepare("select count(*) from defect_photos where defect_id = ? and deleted_at is null").pluck().get(defectId) as number;
+/** Deleted photos count too: adding and removing in a loop is still work the server did. */
+const photosAddedSince = (sqlite: Database.Database, userId: string, since: number) =>
+  sqlite.prepare("select count(*) from defect_photos where created_by = ? and created_at >= ?").pluck().get(userId, since) as number;
+
+function checkPhotoCaps(sqlite: Database.Database, user: Actor, defectId: number, adding: number) {
+  const onDefect = photoCountOf(sqlite, defectId);
+  if (onDefect + adding > PHOTO_MAX_PER_DEFECT) {
+    throw new HttpError(
+      409,
+      "photo_limit",
+      onDefect >= PHOTO_MAX_PER_DEFECT
+        ? `This entry already has ${onDefect} photos, the most one entry keeps. Remove some before adding more.`
+        : `This entry has ${onDefect} photos; ${adding} more would pass the ${PHOTO_MAX_PER_DEFECT} one entry keeps. Send at most ${PHOTO_MAX_PER_DEFECT - onDefect}.`,
+      { photos: onDefect, max: PHOTO_MAX_PER_DEFECT },
+    );
+  }
+  const lastHour = photosAddedSince(sqlite, user.id, Date.now() - 60 * 60_000);
+  if (lastHour + adding > PHOTO_MAX_PER_USER_HOUR) {
+    throw new HttpError(
+      429,
+      "photo_rate",
+      `You have added ${lastHour} photos in the last hour; the most is ${PHOTO_MAX_PER_USER_HOUR} an hour. The photos wait on the tablet and are sent later by themselves.`,
+      { lastHour, max: PHOTO_MAX_PER_USER_HOUR, retryAfterSeconds: 600 },
+    );
+  }
 }
 
 /**
- * Adds photos to a defect. Every file is checked before any is stored; then the files are written;
- * then all rows go in one transaction. A photo whose client key was stored before is not stored again.
+ * Before a byte of the photos is read: the entry exists and the caller may still change it, it has
+ * room for a photo, the caller is under the hourly number, and the decode queue has room.
+ */
+export function precheckPhotos(db: Db, user: Actor, defectId: number) {
+  const sqlite = db.$client;
+  loadForChange(sqlite, defectId, user);
+  checkPhotoCaps(sqlite, user, defectId, 1);
+  admitPhotoDecodes(1);
+}
+
+/** Inside the final transaction: the entry may have been reviewed or deleted while the photos arrived. */
+function recheckForPhotos(sqlite: Database.Database, user: Actor, defectId: number) {
+  const row = sqlite.prepare("select created_by, review_status, deleted_at from defects where id = ?").get(defectId) as
+    | { created_by: string | null; review_status: string; deleted_at: number | null }
+    | undefined;
+  if (!row || row.deleted_at != null) {
+    throw new HttpError(409, "changed_meanwhile", "The entry was deleted while the photos were being sent; they were not stored.");
+  }
+  if (!canChange(user, row)) {
+    throw new HttpError(
+      409,
+      "changed_meanwhile",
+      "A quality engineer reviewed the entry while the photos were being sent; they were not stored. Only a quality engineer can add photos to it now.",
+    );
+  }
+}
+
+/**
+ * Adds photos to a defect. Every file is checked before any is stored; then the files are written
+ * (decoded through the bounded queue); then all rows go in one transaction, which checks again that
+ * the entry may still take them. A photo whose client key was stored before is not stored again.
  */
 export async function addPhotos(db: Db, uploadDir: string, user: Actor, defectId: number, files: UploadedFile[], clientKeys: (string | null)[]) {
   const sqlite = db.$client;
@@ -341,11 +409,20 @@ export async function addPhotos(db: Db, uploadDir: string, user: Actor, defectId
     if (row) known.set(key, row.id);
   }
   const todo: { index: number; key: string | null }[] = files.map((_, i) => ({ index: i, key: clientKeys[i] ?? null })).filter((x) => !x.key || !known.has(x.key));
-  const checked = await Promise.all(todo.map((x) => checkPhoto(files[x.index]!.buffer, files[x.index]!.originalname)));
+  if (todo.length) checkPhotoCaps(sqlite, user, defectId, todo.length);
+  const input = (f: UploadedFile) => f.path ?? f.buffer!;
+  const checked = await Promise.all(todo.map((x) => checkPhoto(input(files[x.index]!), files[x.index]!.originalname)));
+  admitPhotoDecodes(checked.length);
   const stored: StoredPhotoFiles[] = [];
   try {
-    for (const c of checked) stored.push(await storePhotoFiles(uploadDir, c));
+    // All queued at once (the queue bounds the decoding); the rows only after every file is written.
+    const results = await Promise.allSettled(checked.map((c) => storePhotoFiles(uploadDir, c)));
+    for (const r of results) if (r.status === "fulfilled") stored.push(r.value);
+    const failed = results.find((r) => r.status === "rejected");
+    if (failed) throw (failed as PromiseRejectedResult).reason;
     db.transaction(() => {
+      recheckForPhotos(sqlite, user, defectId);
+      checkPhotoCaps(sqlite, user, defectId, stored.length);
       const ins = sqlite.prepare(
         `insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256, original_name, client_key, created_by, created_at)
          values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,

@@ -249,7 +249,8 @@ export function getHeatSamples(db: Db, heatNo: string, maxPoints: number): HeatS
   };
 }
 
-export function getSlab(db: Db, slabId: string): SlabDetail {
+/** `readsCauses`: whether the caller holds causes.read; without it the defects' causes stay empty. */
+export function getSlab(db: Db, slabId: string, readsCauses: boolean): SlabDetail {
   const c = db.$client;
   const s = c
     .prepare(
@@ -272,7 +273,7 @@ export function getSlab(db: Db, slabId: string): SlabDetail {
        where d.slab_id = ? and d.deleted_at is null order by d.found_at, d.id`,
     )
     .all(s.id) as Record<string, any>[];
-  const causes = causesBrief(c, defects.map((d) => d.id as number));
+  const causes = readsCauses ? causesBrief(c, defects.map((d) => d.id as number)) : new Map<number, never[]>();
   return {
     slabId: s.slab_id,
     heatNo: s.heatNo,

@@ -25,6 +25,8 @@ export interface ImportRequest {
   sha256: string | null;
   source: "upload" | "ingest";
   by: ImportActor;
+  /** Called when the checks are over and the transaction starts writing (the worker tells the pool). */
+  onWrite?: () => void;
 }
 
 /**
@@ -68,13 +70,14 @@ export function runImport(db: Db, req: ImportRequest, timings?: Record<string, n
       rows: rows.length,
       valid: errors.count === 0,
       counts: plan?.counts ?? { created: 0, updated: 0, unchanged: 0 },
-      errors: [...errors.list].sort((a, b) => a.row - b.row).slice(0, IMPORT_MAX_LISTED_ERRORS),
+      errors: errors.list.slice(0, IMPORT_MAX_LISTED_ERRORS),
       errorCount: errors.count,
       slabsResolved: 0,
       importId: null,
     };
     if (req.dryRun || errors.count > 0 || !plan) return result;
 
+    req.onWrite?.();
     const changes = plan.apply();
     lap("write");
     result.slabsResolved = changes.slabRows

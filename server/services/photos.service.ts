@@ -12,19 +12,37 @@
 import crypto from "node:crypto";
 import fs from "node:fs";
 import path from "node:path";
+import { pipeline } from "node:stream/promises";
+import pLimit from "p-limit";
 import sharp from "sharp";
-import { fileTypeFromBuffer } from "file-type";
+import { fileTypeFromBuffer, fileTypeFromFile } from "file-type";
 import { HttpError } from "../lib/http-error";
+import { storeError } from "../middleware/uploads";
 
 export const PHOTO_MAX_PIXELS = 50_000_000; // 50 MP: every tablet and phone camera fits, a bomb does not
 export const DISPLAY_MAX_PX = 2048;
 export const THUMB_MAX_PX = 320;
+/**
+ * Photos decoded at once. A decode holds one of libuv's four threads for seconds on a large photo;
+ * two leave the others to the file system, multer's writes and the sign-in's crypto, so the rest
+ * of the plant keeps working while the yard sends photos.
+ */
+export const PHOTO_DECODE_CONCURRENCY = 2;
+/**
+ * Photos waiting for a decode beyond which the server answers 503 "busy" (the tablet's outbox
+ * retries): four full sends of ten wait; a fifth is told to come back. Waiting photos are files on
+ * disk, not memory.
+ */
+export const PHOTO_DECODE_QUEUE_MAX = 40;
 const ACCEPTED = new Set(["image/jpeg", "image/png", "image/webp", "image/avif"]);
 /** A file younger than this may belong to an upload still being saved: the cleanup leaves it. */
 const ORPHAN_GRACE_MS = 10 * 60_000;
 
+/** The photo bytes in memory (seed, benchmarks) or the path of the uploaded file. */
+export type PhotoInput = Buffer | string;
+
 export interface CheckedPhoto {
-  buffer: Buffer;
+  input: PhotoInput;
   originalName: string;
   mime: string;
   width: number;
@@ -42,9 +60,30 @@ export interface StoredPhotoFiles {
   sha256: string;
 }
 
+// p-limit (a well-kept package) rather than our own queue: it counts active and waiting jobs, which
+// is all the admission check below needs.
+const decodeQueue = pLimit(PHOTO_DECODE_CONCURRENCY);
+
+/** Photos being decoded and waiting, now (the tests read it to know where an upload is). */
+export function photoDecodeState() {
+  return { active: decodeQueue.activeCount, waiting: decodeQueue.pendingCount };
+}
+
+/** 503 when `count` more photos would not fit in the decode queue: said before anything is stored. */
+export function admitPhotoDecodes(count: number) {
+  if (decodeQueue.pendingCount + count > PHOTO_DECODE_QUEUE_MAX) {
+    throw new HttpError(
+      503,
+      "busy",
+      "The server is busy processing other photos. Try again in a minute; the tablet sends waiting photos again by itself.",
+      { retryAfterSeconds: 30 },
+    );
+  }
+}
+
 /** Content sniffing and header checks only (no full decode): fast, and safe against bombs. */
-export async function checkPhoto(buffer: Buffer, originalName: string): Promise<CheckedPhoto> {
-  const type = await fileTypeFromBuffer(buffer);
+export async function checkPhoto(input: PhotoInput, originalName: string): Promise<CheckedPhoto> {
+  const type = typeof input === "string" ? await fileTypeFromFile(input) : await fileTypeFromBuffer(input);
   const name = originalName.slice(0, 120);
   if (type && (type.mime === "image/heic" || type.mime === "image/heif" || type.ext === "heic")) {
     throw new HttpError(
@@ -58,7 +97,7 @@ export async function checkPhoto(buffer: Buffer, originalName: string): Promise<
   }
   let meta: Awaited<ReturnType<ReturnType<typeof sharp>["metadata"]>>;
   try {
-    meta = await sharp(buffer, { limitInputPixels: false }).metadata();
+    meta = await sharp(input, { limitInputPixels: false }).metadata();
   } catch {
     throw new HttpError(415, "not_an_image", `${name} could not be read as an image; it may be damaged.`);
   }
@@ -72,7 +111,7 @@ export async function checkPhoto(buffer: Buffer, originalName: string): Promise<
       `${name} is ${w} × ${h} pixels (${((w * h) / 1e6).toFixed(0)} MP); the limit is ${PHOTO_MAX_PIXELS / 1e6} MP. Take the photo at a lower resolution.`,
     );
   }
-  return { buffer, originalName: name, mime: type.mime, width: w, height: h };
+  return { input, originalName: name, mime: type.mime, width: w, height: h };
 }
 
 /** Where a photo's files live: UPLOAD_DIR/photos/<first two chars of the id>/<id>.<kind>. */
@@ -87,24 +126,53 @@ async function writeAtomically(file: string, data: Buffer) {
   await fs.promises.rename(tmp, file);
 }
 
-/** Decodes once, writes both sizes, returns what the row needs. */
-export async function storePhotoFiles(uploadDir: string, photo: CheckedPhoto): Promise<StoredPhotoFiles> {
+async function sha256Of(input: PhotoInput): Promise<string> {
+  const hash = crypto.createHash("sha256");
+  if (typeof input === "string") await pipeline(fs.createReadStream(input), hash);
+  else hash.update(input);
+  return hash.digest("hex");
+}
+
+/**
+ * Decodes once (through the bounded queue) to the display size, encodes the display WebP and the
+ * thumbnail from that, writes both, and returns what the row needs. A store that cannot be written
+ * answers 503 (see storeError).
+ */
+export function storePhotoFiles(uploadDir: string, photo: CheckedPhoto): Promise<StoredPhotoFiles> {
+  return decodeQueue(() => storeNow(uploadDir, photo));
+}
+
+async function storeNow(uploadDir: string, photo: CheckedPhoto): Promise<StoredPhotoFiles> {
   const id = crypto.randomUUID();
   const p = photoPaths(uploadDir, id);
-  await fs.promises.mkdir(p.dir, { recursive: true });
-  const base = sharp(photo.buffer, { limitInputPixels: PHOTO_MAX_PIXELS, failOn: "error" }).autoOrient();
+  try {
+    await fs.promises.mkdir(p.dir, { recursive: true });
+  } catch (err) {
+    throw storeError(err, "photo");
+  }
   let display: { data: Buffer; info: { width: number; height: number } };
   let thumb: Buffer;
   try {
-    [display, thumb] = await Promise.all([
-      base.clone().resize({ width: DISPLAY_MAX_PX, height: DISPLAY_MAX_PX, fit: "inside", withoutEnlargement: true }).webp({ quality: 82 }).toBuffer({ resolveWithObject: true }),
-      base.clone().resize({ width: THUMB_MAX_PX, height: THUMB_MAX_PX, fit: "inside", withoutEnlargement: true }).jpeg({ quality: 78, mozjpeg: true }).toBuffer(),
-    ]);
+    // One full decode (the costly part), then both sizes from the ≤ 2048 px pixels, one step at a
+    // time, so a photo holds one of libuv's threads, never two.
+    const { data, info } = await sharp(photo.input, { limitInputPixels: PHOTO_MAX_PIXELS, failOn: "error" })
+      .autoOrient()
+      .resize({ width: DISPLAY_MAX_PX, height: DISPLAY_MAX_PX, fit: "inside", withoutEnlargement: true })
+      .raw()
+      .toBuffer({ resolveWithObject: true });
+    const pixels = () => sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels } });
+    display = await pixels().webp({ quality: 82 }).toBuffer({ resolveWithObject: true });
+    thumb = await pixels().resize({ width: THUMB_MAX_PX, height: THUMB_MAX_PX, fit: "inside", withoutEnlargement: true }).jpeg({ quality: 78, mozjpeg: true }).toBuffer();
   } catch {
     throw new HttpError(415, "not_an_image", `${photo.originalName} could not be decoded; it may be damaged or truncated.`);
   }
-  await writeAtomically(p.display, display.data);
-  await writeAtomically(p.thumb, thumb);
+  try {
+    await writeAtomically(p.display, display.data);
+    await writeAtomically(p.thumb, thumb);
+  } catch (err) {
+    await fs.promises.rm(p.display, { force: true }).catch(() => undefined);
+    throw storeError(err, "photo");
+  }
   return {
     id,
     displayFile: path.relative(uploadDir, p.display),
@@ -113,7 +181,7 @@ export async function storePhotoFiles(uploadDir: string, photo: CheckedPhoto): P
     width: display.info.width,
     height: display.info.height,
     bytes: display.data.length,
-    sha256: crypto.createHash("sha256").update(photo.buffer).digest("hex"),
+    sha256: await sha256Of(photo.input),
   };
 }
 
@@ -123,11 +191,6 @@ export async function removePhotoFiles(uploadDir: string, files: StoredPhotoFile
   }
 }
 
-/**
- * Removes photo files that no row refers to (a crash between file and row, or an upload that failed
- * after its files were written) and stale temporary files. Files younger than ten minutes are left
- * alone: they may belong to an upload in flight.
- */
 /**
  * Removes photo files that have no row (and left-over .tmp files). A file younger than the grace
  * period may be an upload still between its file and its row, so it stays — unless `writtenBefore`

@@ -45,8 +45,25 @@ const stateOf = (sqlite: Database.Database): State => {
   return s;
 };
 
+type FactsListener = (slabIds: number[] | null) => void;
+const listeners = new Set<FactsListener>();
+
+/**
+ * Hears every change reported below. The import worker writes through its own connection; it
+ * listens here and hands the slab ids back, so the server's cache (held per connection) learns them.
+ */
+export function onSlabFactsChanged(listener: FactsListener): () => void {
+  listeners.add(listener);
+  return () => listeners.delete(listener);
+}
+
 /** Call after writing slab_conditions: the named slabs, or all when not named. */
 export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
+  if (listeners.size > 0) {
+    const ids = slabIds ? [...slabIds] : null;
+    for (const l of listeners) l(ids);
+    slabIds = ids ?? undefined;
+  }
   const s = stateOf(db.$client);
   if (!slabIds) {
     s.dirtyAll = true;

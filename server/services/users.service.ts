@@ -1,16 +1,19 @@
 import crypto from "node:crypto";
-import { and, asc, eq, ne, sql } from "drizzle-orm";
+import { and, asc, eq, like, ne, sql } from "drizzle-orm";
 import { parseRoles, type Role } from "@shared/roles";
 import type { AdminUser, CreateUserInput, UpdateUserInput } from "@shared/api/users";
 import type { Auth } from "../auth";
 import type { Db } from "../db/client";
-import { account, session, user } from "../db/schema";
+import { account, session, user, verification } from "../db/schema";
 import { HttpError, conflict, notFound } from "../lib/http-error";
+import type { SignInGuard, SignInLock } from "../lib/sign-in-guard";
 import { recordAudit } from "./audit.service";
 
 type UserRow = typeof user.$inferSelect;
 
-function toAdminUser(u: UserRow): AdminUser {
+const lockView = (l: SignInLock) => ({ address: l.address, until: new Date(l.until).toISOString() });
+
+function toAdminUser(u: UserRow, guard?: SignInGuard): AdminUser {
   return {
     id: u.id,
     name: u.name,
@@ -18,11 +21,45 @@ function toAdminUser(u: UserRow): AdminUser {
     roles: parseRoles(u.role),
     active: !u.banned,
     createdAt: u.createdAt.toISOString(),
+    lockedFrom: guard ? guard.locksOf(u.email).map(lockView) : [],
   };
 }
 
-export function listUsers(db: Db): AdminUser[] {
-  return db.select().from(user).orderBy(asc(user.name)).all().map(toAdminUser);
+/** What an audit row keeps of a user (not the passing sign-in locks). */
+function auditView(u: UserRow) {
+  const { lockedFrom: _locks, ...rest } = toAdminUser(u);
+  return rest;
+}
+
+export function listUsers(db: Db, guard?: SignInGuard): AdminUser[] {
+  return db.select().from(user).orderBy(asc(user.name)).all().map((u) => toAdminUser(u, guard));
+}
+
+/**
+ * Deletes every password-reset (and invitation) link still out for this user. better-auth keeps each
+ * as a `verification` row with identifier `reset-password:<token>` and the user id as its value
+ * (better-auth 1.7, api/routes/password.mjs; stored in plain, as `verification.storeIdentifier` is
+ * not set). Returns how many were revoked.
+ */
+export function revokeResetLinks(db: Pick<Db, "delete">, userId: string): number {
+  return db
+    .delete(verification)
+    .where(and(like(verification.identifier, "reset-password:%"), eq(verification.value, userId)))
+    .run().changes;
+}
+
+/** Lifts every sign-in lock of the account (from every address), audited; 409 when there is none. */
+export function unlockUser(db: Db, guard: SignInGuard, id: string, actorId: string): AdminUser {
+  const u = db.select().from(user).where(eq(user.id, id)).get();
+  if (!u) throw notFound("There is no such user.");
+  const locks = guard.locksOf(u.email);
+  if (locks.length === 0) {
+    throw new HttpError(409, "not_locked", "This account is not locked: a lock ends on its own after 15 minutes, and this one has ended or was lifted already.");
+  }
+  // The audit row first: a lock is lifted only once the trail says who lifted it.
+  recordAudit(db, { userId: actorId, action: "user.unlock", entity: "user", entityId: id, before: { lockedFrom: locks.map(lockView) }, after: { lockedFrom: [] } });
+  guard.clear(u.email);
+  return toAdminUser(u, guard);
 }
 
 /**
@@ -83,7 +120,7 @@ function activeAdminsOtherThan(db: Pick<Db, "select">, id: string): number {
 }
 
 /** Changes name, roles or active state; deactivation ends the user's sessions at once. */
-export function updateUser(db: Db, id: string, input: UpdateUserInput, actorId: string): AdminUser {
+export function updateUser(db: Db, id: string, input: UpdateUserInput, actorId: string, guard?: SignInGuard): AdminUser {
   return db.transaction((tx) => {
     const before = tx.select().from(user).where(eq(user.id, id)).get();
     if (!before) throw notFound("There is no such user.");
@@ -111,9 +148,9 @@ export function updateUser(db: Db, id: string, input: UpdateUserInput, actorId: 
       action: "user.update",
       entity: "user",
       entityId: id,
-      before: toAdminUser(before),
-      after: toAdminUser(after),
+      before: auditView(before),
+      after: auditView(after),
     });
-    return toAdminUser(after);
+    return toAdminUser(after, guard);
   });
 }

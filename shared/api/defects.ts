@@ -109,6 +109,7 @@ export const defectSchema = z.object({
   createdById: z.string().nullable(),
   createdByName: z.string().nullable(),
   photos: z.array(photoSchema),
+  /** The live causes; empty for callers whose role does not read causes (causes.read). */
   causes: z.array(defectCauseBriefSchema),
   /** Whether the caller may still change or delete it (own and not yet reviewed, or quality). */
   canEdit: z.boolean(),
@@ -205,4 +206,8 @@ export const defectCategoryUpdateSchema = defectCategoryInputSchema
 /** Photo limits the server applies; the client says them before upload. */
 export const PHOTO_MAX_BYTES = 25 * 1024 * 1024;
 export const PHOTO_MAX_FILES = 10;
+/** Live photos one defect entry keeps. */
+export const PHOTO_MAX_PER_DEFECT = 30;
+/** Photos one person may add in an hour (deleted ones count too). */
+export const PHOTO_MAX_PER_USER_HOUR = 300;
 export const PHOTO_ACCEPT = "image/jpeg,image/png,image/webp";

@@ -322,26 +322,3 @@ export const plantSettingsSchema = z.object({
   }),
 });
 export type PlantSettings = z.infer<typeof plantSettingsSchema>;
-
-// ---------------------------------------------------------------------------------------------
-// API tokens (level-2 feed)
-// ---------------------------------------------------------------------------------------------
-
-export const apiTokenSchema = z.object({
-  id: z.number().int(),
-  name: z.string(),
-  prefix: z.string(),
-  scopes: z.array(z.string()),
-  createdAt: z.string(),
-  createdByName: z.string().nullable(),
-  lastUsedAt: z.string().nullable(),
-  revokedAt: z.string().nullable(),
-});
-export type ApiToken = z.infer<typeof apiTokenSchema>;
-
-export const apiTokenCreateSchema = z.object({
-  name: z.string().trim().min(1, "Name the system that will use the token.").max(80),
-});
-
-/** The token itself appears only in this answer; it is stored hashed. */
-export const apiTokenCreatedSchema = apiTokenSchema.extend({ token: z.string() });

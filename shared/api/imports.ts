@@ -115,6 +115,30 @@ export const IMPORT_COLUMNS: Record<ImportKind, ColumnSpec[]> = {
 };
 
 export const IMPORT_MAX_BYTES = 20 * 1024 * 1024;
+
+/**
+ * What one import may hold, checked while the file is read (a workbook is a zip: a few MB can unpack
+ * to gigabytes). The largest plant files we know of — a day of process samples, a month of slabs —
+ * stay far below these.
+ */
+export const IMPORT_LIMITS = {
+  /** Data rows (the header not counted); also the most items one feed call may send. */
+  rows: 200_000,
+  /** Columns holding a value; every import has fewer than 40 keys. */
+  columns: 100,
+  /** Cells holding a value, over the whole sheet. */
+  cells: 4_000_000,
+  /** Characters in one cell: Excel's own limit. */
+  cellChars: 32_767,
+  /** Bytes of a workbook's parts once unpacked (sheet, shared strings, workbook, relations). */
+  unpackedBytes: 256 * 1024 * 1024,
+  /** Parts in a workbook's zip. */
+  zipEntries: 2_000,
+  /** Characters in one CSV line. */
+  csvLineChars: 1_000_000,
+  /** Seconds one import may spend reading and checking before it is stopped. */
+  checkSeconds: 120,
+} as const;
 /** The answer lists at most this many row errors; `errorCount` tells how many there were. */
 export const IMPORT_MAX_LISTED_ERRORS = 500;
 

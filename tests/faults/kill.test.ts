@@ -78,14 +78,16 @@ describe("SIGKILL during photo uploads", () => {
     const REQUESTS = 8;
     const outcomes: (Outcome | undefined)[] = new Array(REQUESTS).fill(undefined);
     // A steady stream of uploads, as from several tablets at once: a new one every 100 ms, so that
-    // when the first is answered later ones are surely still on their way.
+    // when the first is answered later ones are surely still on their way. Three people send them
+    // (at most three each, the per-person limit on uploads in flight), as three tablets would.
+    const senders = [cookie, await srv.signIn("quality@demo.test"), await srv.signIn("admin@demo.test")];
     const inFlight = Array.from({ length: REQUESTS }, async (_, i) => {
       await new Promise((r) => setTimeout(r, i * 100));
       const form = new FormData();
       form.append("photos", new Blob([new Uint8Array(photos[i % 2]!)], { type: "image/jpeg" }), `IMG_${1000 + 2 * i}.JPG`);
       form.append("photos", new Blob([new Uint8Array(photos[(i + 1) % 2]!)], { type: "image/jpeg" }), `IMG_${1001 + 2 * i}.JPG`);
       try {
-        const res = await fetch(`${srv.baseUrl}/api/defects/${defectId}/photos`, { method: "POST", headers: { cookie, origin: srv.baseUrl }, body: form });
+        const res = await fetch(`${srv.baseUrl}/api/defects/${defectId}/photos`, { method: "POST", headers: { cookie: senders[i % senders.length]!, origin: srv.baseUrl }, body: form });
         outcomes[i] = { status: res.status, body: (await res.json()) as { photos?: { id: string }[] } };
       } catch (err) {
         outcomes[i] = { error: String((err as Error).cause ?? err) };

@@ -22,6 +22,10 @@ export interface StartOptions {
   seed?: boolean;
   /** Extra environment (e.g. MAIL_POLL_MS). */
   env?: Record<string, string>;
+  /** "server": server/index.ts itself (default); "supervisor": server/supervisor.ts, as `npm start` runs it. */
+  entry?: "server" | "supervisor";
+  /** This port instead of a free one (e.g. one that is taken). */
+  port?: number;
 }
 
 export interface Exit {
@@ -31,6 +35,8 @@ export interface Exit {
 
 export interface ServerProcess {
   files: ServerFiles;
+  /** The pids of the server processes the supervisor has started so far (from its log lines), oldest first. */
+  serverPids(): number[];
   port: number;
   /** http://localhost:PORT, also the server's BETTER_AUTH_URL (the Origin writes must carry). */
   baseUrl: string;
@@ -58,14 +64,22 @@ export function newServerFiles(): ServerFiles {
 }
 
 /**
- * Starts the real server (`node --import tsx server/index.ts`) on its own files and a free port and
- * waits until GET /api/health answers. Only PATH and HOME are passed on from the test's own
- * environment, so nothing of the developer's setup (SMTP_URL, NODE_ENV=test from vitest…) leaks in.
+ * Starts the real server (`node --import tsx server/index.ts`, or the supervisor that runs it) on its
+ * own files and a free port and waits until GET /api/health answers. Only PATH and HOME are passed on
+ * from the test's own environment, so nothing of the developer's setup (SMTP_URL, NODE_ENV=test from
+ * vitest…) leaks in.
  */
 export async function startServer(opts: StartOptions = {}): Promise<ServerProcess> {
+  const srv = await launchServer(opts);
+  await srv.waitHealthy();
+  return srv;
+}
+
+/** Starts the process without waiting for it to answer (for starts that are meant to fail). */
+export async function launchServer(opts: StartOptions = {}): Promise<ServerProcess & { waitHealthy(): Promise<void> }> {
   const files = opts.files ?? newServerFiles();
   const seed = opts.seed ?? !opts.files;
-  const port = await freePort();
+  const port = opts.port ?? (await freePort());
   const baseUrl = `http://localhost:${port}`;
   const env: Record<string, string> = {
     PATH: process.env.PATH ?? "/usr/bin:/bin",
@@ -83,7 +97,8 @@ export async function startServer(opts: StartOptions = {}): Promise<ServerProces
     LOG_LEVEL: "silent",
     ...opts.env,
   };
-  const child = spawn(process.execPath, ["--import", "tsx", path.join(REPO_ROOT, "server/index.ts")], {
+  const entry = opts.entry === "supervisor" ? "server/supervisor.ts" : "server/index.ts";
+  const child = spawn(process.execPath, ["--import", "tsx", path.join(REPO_ROOT, entry)], {
     cwd: REPO_ROOT,
     env,
     stdio: ["ignore", "pipe", "pipe"],
@@ -99,8 +114,10 @@ export async function startServer(opts: StartOptions = {}): Promise<ServerProces
     });
   });
 
-  const srv: ServerProcess = {
+  const srv: ServerProcess & { waitHealthy(): Promise<void> } = {
+    waitHealthy: async () => undefined, // set below
     files,
+    serverPids: () => [...out.matchAll(/strandsight supervisor: server started \(pid (\d+)\)/g)].map((m) => Number(m[1])),
     port,
     baseUrl,
     child,
@@ -132,22 +149,35 @@ export async function startServer(opts: StartOptions = {}): Promise<ServerProces
     },
   };
 
-  const deadline = Date.now() + 90_000;
-  for (;;) {
-    if (exit !== null) throw new Error(`the server exited during start-up (${JSON.stringify(exit)}):\n${out}`);
-    try {
-      const res = await fetch(`${baseUrl}/api/health`);
-      if (res.status === 200) break;
-    } catch {
-      // not listening yet
+  srv.waitHealthy = async () => {
+    const deadline = Date.now() + 90_000;
+    for (;;) {
+      if (exit !== null) throw new Error(`the server exited during start-up (${JSON.stringify(exit)}):\n${out}`);
+      try {
+        const res = await fetch(`${baseUrl}/api/health`);
+        if (res.status === 200) break;
+      } catch {
+        // not listening yet
+      }
+      if (Date.now() > deadline) {
+        srv.kill("SIGKILL");
+        throw new Error(`the server did not answer /api/health within 90 s:\n${out}`);
+      }
+      await new Promise((r) => setTimeout(r, 100));
     }
-    if (Date.now() > deadline) {
-      srv.kill("SIGKILL");
-      throw new Error(`the server did not answer /api/health within 90 s:\n${out}`);
-    }
-    await new Promise((r) => setTimeout(r, 100));
-  }
+  };
   return srv;
+}
+
+/** Is a process with this pid still there? */
+export function isAlive(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (err) {
+    if ((err as NodeJS.ErrnoException).code === "ESRCH") return false;
+    throw err;
+  }
 }
 
 /** Stops a server that may still be running and removes its files. */
@@ -157,6 +187,8 @@ export async function disposeServer(srv: ServerProcess | undefined, removeFiles 
     srv.kill("SIGKILL");
     await srv.waitExit().catch(() => undefined);
   }
+  // A supervisor killed outright leaves its server running: stop that one too.
+  for (const pid of srv.serverPids()) if (isAlive(pid)) process.kill(pid, "SIGKILL");
   if (removeFiles) fs.rmSync(srv.files.dir, { recursive: true, force: true });
 }
 

@@ -76,6 +76,7 @@ export async function createTestApp(opts: TestAppOptions = {}) {
   }
 
   async function close() {
+    await (app.locals.imports as { close(): Promise<void> } | undefined)?.close();
     await mailer.stop();
     await fake?.close();
     db.$client.close();

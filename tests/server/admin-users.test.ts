@@ -115,3 +115,42 @@ describe("admin: users and roles", () => {
     expect(res.body.error.code).toBe("not_found");
   });
 });
+
+describe("admin: names", () => {
+  it("when an admin gives a name with a line break, a tab, a bidirectional override or over 120 characters, then 400 names the field and the name stays", async () => {
+    const id = t.db.$client.prepare("select id from user where email = 'process@demo.test'").pluck().get() as string;
+    const before = t.db.$client.prepare("select name from user where id = ?").pluck().get(id);
+    for (const name of ["Pia\nAdministrator", "Pia\tRossi", "Pia \u202Erotartsinimda", "Esc\u001b[31m", "N".repeat(121)]) {
+      const res = await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ name });
+      expect(res.status, JSON.stringify(name)).toBe(400);
+      expect(res.body.error.code).toBe("validation_failed");
+      expect(res.body.error.details.map((d: { path: string }) => d.path)).toEqual(["name"]);
+    }
+    const created = await admin.post("/api/admin/users").set("Origin", origin()).send({ name: "Two\nLines", email: "two-lines@example.test", roles: ["inspector"], password: "long-enough-pw" });
+    expect(created.status).toBe(400);
+    expect(t.db.$client.prepare("select name from user where id = ?").pluck().get(id)).toBe(before);
+    expect(count("select count(*) from user where email = 'two-lines@example.test'")).toBe(0);
+  });
+
+  it("when an admin renames a user, then the rename is audited, and the history of what they did before still shows the name they had then", async () => {
+    const claimsAgent = await t.agentFor("claims");
+    const id = t.db.$client.prepare("select id from user where email = 'claims@demo.test'").pluck().get() as string;
+    const oldName = t.db.$client.prepare("select name from user where id = ?").pluck().get(id) as string;
+    const claim = await claimsAgent.post("/api/claims").set("Origin", origin()).send({ claimNo: "CL-RENAME-1", customer: "Rename test customer", receivedOn: "2026-11-30", defectComplained: "Slivers" });
+    expect(claim.status).toBe(201);
+
+    const renamed = await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ name: "Clara Mbeki-Stone (demo claims officer)" });
+    expect(renamed.status).toBe(200);
+    const audit = t.db.$client.prepare("select user_name, before, after from audit_log where action = 'user.update' and entity_id = ? order by id desc limit 1").get(id) as { user_name: string; before: string; after: string };
+    expect(audit.user_name).toBe("Adam Novak (demo administrator)");
+    expect([JSON.parse(audit.before).name, JSON.parse(audit.after).name]).toEqual([oldName, "Clara Mbeki-Stone (demo claims officer)"]);
+
+    expect((await claimsAgent.patch(`/api/claims/${claim.body.id}`).set("Origin", origin()).send({ status: "under_review" })).status).toBe(200);
+    const history = (await claimsAgent.get(`/api/claims/${claim.body.id}`)).body.history as { by: string; action: string }[];
+    expect(history.map((h) => [h.action, h.by])).toEqual([
+      ["claim.create", oldName],
+      ["claim.update", "Clara Mbeki-Stone (demo claims officer)"],
+    ]);
+    await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ name: oldName });
+  });
+});

@@ -219,3 +219,29 @@ describe("lists and the catalogue", () => {
     expect(cat.types).toContainEqual(expect.objectContaining({ code: "EDC", categoryCode: "EDGE", active: true }));
   });
 });
+
+describe("causes shown with defects", () => {
+  it("when a defect has a cause tagged, then an inspector (who cannot read causes) gets none with the defect, the defect list or the slab, and a quality engineer gets it in all three", async () => {
+    const process_ = await t.agentFor("process");
+    const created = await inspector.post("/api/defects").set("Origin", O()).send(entry());
+    const id = created.body.id as number;
+    const tagged = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["sen-clogging"], confidence: "probable" });
+    expect(tagged.status).toBe(201);
+    // The causes routes themselves are closed to inspectors.
+    expect((await inspector.get(`/api/defects/${id}/causes`)).status).toBe(403);
+    const shown = async (agent: request.Agent) => {
+      const one_ = await agent.get(`/api/defects/${id}`);
+      const list = await agent.get(`/api/defects?slab=${slab.slab_id}&pageSize=200`);
+      const slabPage = await agent.get(`/api/slabs/${slab.slab_id}`);
+      expect([one_.status, list.status, slabPage.status]).toEqual([200, 200, 200]);
+      return [
+        one_.body.causes,
+        list.body.items.find((d: { id: number }) => d.id === id).causes,
+        slabPage.body.defects.find((d: { id: number }) => d.id === id).causes,
+      ];
+    };
+    expect(await shown(inspector)).toEqual([[], [], []]);
+    const brief = [{ tag: "sen-clogging", tagName: "SEN clogging", confidence: "probable" }];
+    expect(await shown(quality)).toEqual([brief, brief, brief]);
+  });
+});

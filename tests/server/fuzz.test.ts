@@ -243,6 +243,7 @@ const WHY = {
   empty: "an empty file is nothing to store or import",
   noFile: "an upload route needs a file",
   tooMany: "more files than the route takes",
+  activeName: "a name that runs as a program or renders script when opened (.bat, .hta, .svg, .html …) is refused whatever the content",
   queryType: "a query value of the wrong type fails the route's zod schema",
   queryHuge: "no query value of the API is meant to hold 5,000 characters",
   queryNumber: "NaN, infinite, non-numeric and out-of-range numbers fail the query schema",
@@ -435,6 +436,15 @@ function buildCases() {
         for (let i = 0; i < (field === "file" ? 2 : field === "photos" ? 11 : 6); i++) req = req.attach(field, field === "photos" ? tinyPng : validCsv(), `f${i}.csv`);
         return req;
       });
+      if (field === "files") {
+        add(route, "multipart-active-name", "evidence.bat holding plain text", "refused", WHY.activeName, () => to().attach(field, Buffer.from("@echo off\r\n"), "evidence.bat"));
+        add(route, "multipart-active-name", "x.svg holding an SVG with an onload script", "refused", WHY.activeName, () =>
+          to().attach(field, Buffer.from('<svg xmlns="http://www.w3.org/2000/svg" onload="alert(1)"/>'), "x.svg"),
+        );
+        add(route, "multipart-active-name", "poly.jpg.html: a PNG with an HTML page after it", "refused", WHY.activeName, () =>
+          to().attach(field, Buffer.concat([tinyPng, Buffer.from("<html><script>alert(1)</script></html>")]), "poly.jpg.html"),
+        );
+      }
       if (field === "file") {
         const hostileCsv = Buffer.from(
           `heat_no,caster,grade,cast_start,casting_speed_m_min\n"${SQL[0]}",CC2,LV-ST32,2026-12-05T08:00:00Z,1.4\n"${SQL[1]}",${TRAVERSAL},"${UNICODE}",2026-12-05T09:00:00Z,1.4\n`,
@@ -542,7 +552,7 @@ beforeAll(async () => {
   const sharp = (await import("sharp")).default;
   tinyPng = await sharp({ create: { width: 8, height: 8, channels: 3, background: "#468" } }).png().toBuffer();
 
-  const created = await admin.post("/api/admin/tokens").set("Origin", origin).send({ name: "fuzz feed" });
+  const created = await admin.post("/api/admin/tokens").set("Origin", origin).send({ name: "fuzz feed", scopes: ["heats", "slabs", "process-samples", "products"] });
   if (created.status !== 201) throw new Error(`token: ${created.status} ${JSON.stringify(created.body)}`);
   token = created.body.token;
 
@@ -608,6 +618,7 @@ beforeAll(async () => {
       refuse: { body: (b) => ({ ...b, email: "admin@demo.test" }), uses: ["email"] },
     },
     "PATCH /admin/users/:id": { params: id(userId("claims")), body: { name: "Fuzz Name" } },
+    "POST /admin/users/:id/unlock": { params: id(userId("claims")) },
     "GET /slabs/search": { query: "q=L26" },
     "GET /plant/summary": {},
     "GET /plant/setup": {},
@@ -773,4 +784,72 @@ afterAll(() => {
       ...notSent.map((n) => `  ${n}`),
     ].join("\n"),
   );
+});
+
+// ---------------------------------------------------------------------------------------------
+// The better-auth endpoints that stay open over HTTP (HTTP_AUTH_ENDPOINTS in server/auth.ts)
+// ---------------------------------------------------------------------------------------------
+
+describe("bad-input fuzz: the sign-in endpoints", () => {
+  it("when the open sign-in endpoints get hostile bodies, then each answers a 4xx in the error envelope (never a 5xx) and nothing is written", { timeout: 60_000 }, async () => {
+    // Anonymous, so no hostile sign-out ends a session; e-mails that exist nowhere, so no mail goes
+    // out; at most four wrong passwords per address and e-mail, so no lock (and its audit row) is made.
+    const OPEN: { path: string; body: Record<string, unknown> }[] = [
+      { path: "/api/auth/sign-in/email", body: { email: "fuzz-nobody@example.test", password: "fuzz-wrong-password" } },
+      { path: "/api/auth/sign-out", body: {} },
+      { path: "/api/auth/request-password-reset", body: { email: "fuzz-nobody@example.test", redirectTo: "/reset-password" } },
+      { path: "/api/auth/reset-password", body: { token: "FuzzNoSuchToken1", newPassword: "fuzz-long-password" } },
+    ];
+    const nested = (n: number) => "[".repeat(n) + "]".repeat(n);
+    const authCases: { what: string; expect: Expect; send: () => request.Test }[] = [];
+    const post = (path: string, raw: string, type = "application/json") => () => request(server).post(path).set("Origin", origin).set("Content-Type", type).send(raw);
+    for (const { path, body } of OPEN) {
+      const add = (what: string, raw: string, expect: Expect = "refused", type?: string) => authCases.push({ what: `${path} ${what}`, expect, send: post(path, raw, type) });
+      for (const [label, raw] of [["an array", "[1,2]"], ["a string", '"text"'], ["a number", "42"], ["null", "null"], ["malformed", '{"email":']] as const) add(`the body is ${label}`, raw);
+      add("a 100,000-character body", json({ ...body, pad: HUGE_BODY_STRING }));
+      add("5,000 nested arrays", `{"pad":${nested(5_000)}}`);
+      add("text/plain", json(body), "refused", "text/plain");
+      add("__proto__ and constructor keys", '{"__proto__":{"polluted":true},"constructor":{"prototype":{"polluted":true}},' + json(body).slice(1), path.endsWith("/sign-in/email") || path.endsWith("/reset-password") ? "refused" : "hostile-valid");
+      for (const field of Object.keys(body)) {
+        for (const [label, value] of [["an object", { x: 1 }], ["an array", ["a"]], ["a number", 12345], ["null", null], ["true", true]] as const) {
+          add(`${field} = ${label}`, json({ ...body, [field]: value }));
+        }
+        add(`${field} = 100,000 characters`, json({ ...body, [field]: HUGE_BODY_STRING }));
+        add(`${field} = 5,000 nested arrays`, `{${Object.entries(body).map(([k, v]) => `${JSON.stringify(k)}:${k === field ? nested(5_000) : JSON.stringify(v)}`).join(",")}}`);
+      }
+      if (path.endsWith("/sign-out")) add("an object with unknown keys (sign-out reads no body: it answers as always)", json({ email: SQL[0], everything: [TRAVERSAL, UNICODE] }), "hostile-valid");
+    }
+    // The mailed link.
+    for (const [label, p] of [
+      ["a 5,000-character token", `/api/auth/reset-password/${"A".repeat(5_000)}?callbackURL=%2Freset-password`],
+      ["a traversal token", "/api/auth/reset-password/..%2F..%2Fetc%2Fpasswd?callbackURL=%2Freset-password"],
+      ["an SQL token", `/api/auth/reset-password/${encodeURIComponent(SQL[0])}?callbackURL=%2Freset-password`],
+      ["a foreign callback", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=https%3A%2F%2Fevil.example%2F"],
+      ["a javascript: callback", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=javascript%3Aalert(1)"],
+      ["no callback", "/api/auth/reset-password/FuzzNoSuchToken1"],
+      ["the callback twice", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=%2Freset-password&callbackURL=%2Fx"],
+    ] as const) {
+      authCases.push({ what: `GET reset link with ${label}`, expect: "refused", send: () => request(server).get(p).set("Origin", origin) });
+    }
+
+    const before = snapshot();
+    const failures: string[] = [];
+    const statuses: Record<string, number> = {};
+    for (const c of authCases) {
+      const res = await c.send();
+      statuses[res.status] = (statuses[res.status] ?? 0) + 1;
+      const what = `${c.what} → ${res.status} ${JSON.stringify(res.body).slice(0, 160)}`;
+      const envelope = /^application\/json/.test(String(res.headers["content-type"] ?? "")) && typeof res.body?.error?.code === "string" && typeof res.body?.error?.message === "string";
+      if (res.status >= 500) failures.push(`5xx: ${what}`);
+      else if (c.expect === "refused" && (res.status < 400 || res.status > 499)) failures.push(`not refused: ${what}`);
+      else if (res.status >= 400 && !envelope) failures.push(`no error envelope: ${what}`);
+    }
+    const after = snapshot();
+    expect(failures).toEqual([]);
+    expect(after.counts).toEqual(before.counts);
+    expect(after.digests).toEqual(before.digests);
+    expect(({} as Record<string, unknown>).polluted).toBeUndefined();
+    expect(authCases.length).toBeGreaterThanOrEqual(80);
+    console.log(`fuzz, sign-in endpoints: ${authCases.length} cases; by status ${JSON.stringify(statuses)}`);
+  });
 });

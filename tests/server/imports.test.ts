@@ -4,7 +4,11 @@ import sharp from "sharp";
 import type request from "supertest";
 import { createTestApp, type TestApp } from "../helpers/test-app";
 import { csv, xlsx, type Row } from "../helpers/workbooks";
-import { readXlsxStreaming, readXlsxWhole } from "../../server/import/read-table";
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { readTable } from "../../server/import/read-table";
+import { parseDateTime } from "../../server/import/coerce";
 
 let t: TestApp;
 let process_: request.Agent;
@@ -147,17 +151,40 @@ describe("heats import", () => {
     expect(q("select casting_speed_m_min, c_pct from heats where heat_no = 'IMP00060'")).toEqual({ casting_speed_m_min: 1.4, c_pct: 0.12 });
   });
 
-  it("when the streaming reader gives up, then the whole-workbook reader reads the same cells (dates, formulas, blanks)", async () => {
-    // The fallback must not change what an import sees: both exceljs readers on one file.
+  it("when our bounded reader and exceljs's whole-workbook reader read one workbook, then they give the same cells (dates, formulas, blanks, rich text)", async () => {
+    // The reader is our own (bounded while streaming); exceljs's standard reader is the reference.
     const rows = [heat(70), heat(71, { casting_speed_m_min: { formula: "0.7*2", result: 1.4 }, sen_depth_mm: null }), heat(72)];
-    const buf = await xlsx(HEAT_HEADERS, rows, ["Notes"]);
-    const streamed = await readXlsxStreaming(buf);
-    const whole = await readXlsxWhole(buf);
-    expect(whole).toEqual(streamed);
-    expect(whole.rows).toHaveLength(3);
-    expect(whole.rows[1]!.cells[HEAT_HEADERS.indexOf("casting_speed_m_min")]).toBe(1.4);
-    expect(whole.rows[1]!.cells[HEAT_HEADERS.indexOf("sen_depth_mm")]).toBeNull();
-    expect(whole.rows[0]!.cells[HEAT_HEADERS.indexOf("cast_start")]).toEqual(new Date(Date.UTC(2026, 11, 1, 0, 0) + 70 * 40 * 60_000));
+    const wb = new ExcelJS.Workbook();
+    const ws = wb.addWorksheet("Data");
+    ws.addRow(HEAT_HEADERS);
+    for (const r of rows) ws.addRow(HEAT_HEADERS.map((h) => (r[h] === undefined ? null : r[h])));
+    ws.getCell("B3").value = { richText: [{ text: "IMPSEQ" }, { font: { bold: true }, text: "-8" }] };
+    wb.addWorksheet("Notes").addRow(["not data"]);
+    const file = path.join(fs.mkdtempSync(path.join(os.tmpdir(), "reader-")), "heats.xlsx");
+    await wb.xlsx.writeFile(file);
+    const ours = await readTable(file);
+    const reference = new ExcelJS.Workbook();
+    await reference.xlsx.readFile(file);
+    const refRows: unknown[][] = [];
+    reference.worksheets[0]!.eachRow((row, rowNo) => {
+      if (rowNo === 1) return;
+      // Array.from: exceljs leaves holes for empty cells, which map() would skip.
+      const cells = Array.from((row.values as unknown[]).slice(1), (v) => {
+        if (v && typeof v === "object" && "result" in v) return (v as { result: unknown }).result;
+        if (v && typeof v === "object" && "richText" in v) return (v as { richText: { text: string }[] }).richText.map((x) => x.text).join("");
+        return v ?? null;
+      });
+      refRows.push(cells);
+    });
+    expect(ours.headers).toEqual(HEAT_HEADERS);
+    expect(ours.rows.map((r) => r.rowNo)).toEqual([2, 3, 4]);
+    // Dates stay Excel serial numbers in our reader; the import's date columns read them.
+    const asRef = ours.rows.map((r) => r.cells.map((c, i) => (HEAT_HEADERS[i]!.startsWith("cast_") && typeof c === "number" ? new Date(parseDateTime(c) as number) : c)));
+    expect(asRef.map((r) => r.slice(0, refRows[0]!.length))).toEqual(refRows);
+    expect(ours.rows[1]!.cells[HEAT_HEADERS.indexOf("casting_speed_m_min")]).toBe(1.4);
+    expect(ours.rows[1]!.cells[HEAT_HEADERS.indexOf("sen_depth_mm")] ?? null).toBeNull();
+    expect(ours.rows[1]!.cells[HEAT_HEADERS.indexOf("sequence_no")]).toBe("IMPSEQ-8");
+    expect(parseDateTime(ours.rows[0]!.cells[HEAT_HEADERS.indexOf("cast_start")]!)).toBe(Date.UTC(2026, 11, 1, 0, 0) + 70 * 40 * 60_000);
   });
 
   it("when a formula has no stored value, then the row says to let Excel calculate it", async () => {
@@ -221,6 +248,18 @@ describe("slabs import and per-slab conditions", () => {
     expect(errs).toContainEqual({ row: 4, column: "length_mm", message: "length_mm -5 is outside 500–25000 mm." });
     expect(errs).toContainEqual({ row: 5, column: "slab_id", message: "Slab S-1 appears twice in the file (first on row 2)." });
     expect(n("select count(*) from slabs where slab_id like 'S-%'")).toBe(0);
+  });
+
+  it("when slabs are imported (written by the import thread), then the very next report counts them: the server's report cache heard of them", async () => {
+    const overview = async () => (await process_.get("/api/reports/overview?period=month&from=2026-12-01&to=2026-12-31")).body.totals.slabs as number;
+    const before = await overview();
+    const rows: Row[] = [
+      { slab_id: "IMP00003-101", heat_no: "IMP00003", strand: 1, piece_no: 1, length_mm: 10000, width_mm: 1500, thickness_mm: 230 },
+      { slab_id: "IMP00003-201", heat_no: "IMP00003", strand: 2, piece_no: 1, length_mm: 10000, width_mm: 1500, thickness_mm: 230 },
+    ];
+    const res = await upload("slabs", await xlsx(SLAB_HEADERS, rows), "cache.xlsx");
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
+    expect(await overview()).toBe(before + 2);
   });
 
   it("when slabs are imported without samples, then the weight is computed and the conditions fall back to the heat", async () => {

@@ -2,7 +2,7 @@ import net from "node:net";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { startFakeSmtp } from "../../server/mail/fake-smtp";
-import { backoffMs, createMailer, MAX_ATTEMPTS } from "../../server/mail/mailer";
+import { backoffMs, createMailer, MAIL_PARALLEL, MAIL_PER_PASS, MAX_ATTEMPTS } from "../../server/mail/mailer";
 import { createLogger } from "../../server/lib/logger";
 import { createTestApp, TEST_PASSWORD, type TestApp } from "../helpers/test-app";
 
@@ -174,5 +174,115 @@ describe("password reset and invitation through better-auth and the fake mail", 
     expect(set.status).toBe(200);
     const signIn = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O()).send({ email: "nadia@demo.test", password: "nadia-chose-this" });
     expect(signIn.status).toBe(200);
+  });
+});
+
+describe("a backlog and a mail server that hangs", () => {
+  // Its own database: the queue of the file's other tests must not mix into these counts.
+  let b: TestApp;
+  beforeAll(async () => {
+    b = await createTestApp({ scale: 0.01, fakeSmtp: true });
+    // The demo plant's own messages (its overdue actions' reminders, queued by the first pass and due
+    // from the moment they were queued) go out first, so the counts below are ours.
+    await b.mailer.processDue();
+    await b.mailer.processDue(Date.now() + 1_000);
+  });
+  afterAll(() => b?.close());
+  const q = (sql: string, ...a: unknown[]) => b.db.$client.prepare(sql).all(...a) as Record<string, any>[];
+
+  it(`when ${MAIL_PER_PASS + 20} notices wait and someone asks for a password reset, then the next pass sends the reset link first, ${MAIL_PARALLEL} at a time, and the next pass the rest`, async () => {
+    expect(q("select count(*) as n from email_outbox where status != 'sent'")[0]!.n).toBe(0);
+    const backlog = Array.from({ length: MAIL_PER_PASS + 20 }, (_, i) =>
+      b.mailer.enqueue({ kind: "action_overdue", to: ["process@demo.test"], subject: `Backlog notice ${i + 1}`, text: "Backlog." })!,
+    );
+    const ask = await request(b.app).post("/api/auth/request-password-reset").set("Origin", b.env.BETTER_AUTH_URL).send({ email: "quality@demo.test", redirectTo: "/reset-password" });
+    expect(ask.status).toBe(200);
+    const reset = q("select id from email_outbox where kind = 'password_reset'");
+    expect(reset.length).toBe(1);
+    // The reset link is the newest message of all.
+    expect(reset[0]!.id).toBeGreaterThan(Math.max(...backlog));
+
+    const first = await b.mailer.processDue();
+    expect(first).toEqual({ sent: MAIL_PER_PASS, retried: 0, deferred: 0 });
+    expect(q("select status from email_outbox where id = ?", reset[0]!.id)[0]!.status).toBe("sent");
+    expect(q("select count(*) as n from mail_received where envelope_to = 'quality@demo.test' and subject = 'Reset your Strandsight password'")[0]!.n).toBe(1);
+    // Behind it, the oldest notices; the newest wait for the next pass.
+    const waiting = q("select id from email_outbox where status = 'queued' order by id").map((r) => r.id as number);
+    expect(waiting).toEqual(backlog.slice(MAIL_PER_PASS - 1));
+
+    const second = await b.mailer.processDue();
+    expect(second).toEqual({ sent: 21, retried: 0, deferred: 0 });
+    expect(q("select count(*) as n from email_outbox where status != 'sent'")[0]!.n).toBe(0);
+    expect(q("select count(*) as n from mail_received where subject like 'Backlog notice %'")[0]!.n).toBe(backlog.length);
+  });
+
+  it("when passes are asked for while one is still sending, then they wait their turn and every message arrives exactly once", async () => {
+    const ids = Array.from({ length: 7 }, (_, i) => b.mailer.enqueue({ kind: "action_assigned", to: ["process@demo.test"], subject: `Once only ${i + 1}`, text: "Exactly once." })!);
+    // The first pass finds nothing due (its clock is in the past); two more arrive while it runs.
+    const passes = await Promise.all([b.mailer.processDue(0), b.mailer.processDue(), b.mailer.processDue()]);
+    expect(passes.reduce((n, p) => n + p.sent, 0)).toBe(ids.length);
+    expect(q("select count(*) as n from mail_received where subject like 'Once only %'")[0]!.n).toBe(ids.length);
+    expect(q(`select count(*) as n from email_outbox where id in (${ids.join(",")}) and status = 'sent' and attempts = 1`)[0]!.n).toBe(ids.length);
+  });
+
+  it("when the mail server accepts connections and never answers, then each pass tries the reset link and invitation first, three at once, waits one short timeout, and every message of a backlog of 7 gets an attempt within 3 passes with the failure in words", async () => {
+    // A real TCP server that accepts and never says a word (a hung mail server).
+    const sockets = new Set<net.Socket>();
+    let open = 0;
+    let mostOpen = 0;
+    let connections = 0;
+    const hung = net.createServer((s) => {
+      sockets.add(s);
+      connections++;
+      mostOpen = Math.max(mostOpen, ++open);
+      s.on("error", () => undefined);
+      s.once("close", () => (open--, sockets.delete(s)));
+    });
+    await new Promise<void>((r) => hung.listen(0, "127.0.0.1", r));
+    const port = (hung.address() as net.AddressInfo).port;
+    const mailer = createMailer({
+      db: b.db,
+      logger: createLogger("silent"),
+      smtpUrl: `smtp://127.0.0.1:${port}`,
+      from: "Strandsight <test@plant.invalid>",
+      dir: `${b.dir}/mail-hung`,
+      describe: "a hung server",
+      timeouts: { connectionMs: 2_000, greetingMs: 300, socketMs: 2_000 },
+    });
+    try {
+      expect(q("select count(*) as n from email_outbox where status != 'sent'")[0]!.n).toBe(0);
+      const ids: number[] = [];
+      for (let i = 1; i <= 5; i++) ids.push(mailer.enqueue({ kind: "action_assigned", to: ["process@demo.test"], subject: `Action ${i}`, text: "Backlog." })!);
+      const resetId = mailer.enqueue({ kind: "password_reset", to: ["claims@demo.test"], subject: "Reset your Strandsight password", text: "A link." })!;
+      const inviteId = mailer.enqueue({ kind: "invitation", to: ["new.hire@demo.test"], subject: "Your Strandsight account", text: "A link." })!;
+      const attempted = () => q("select id from email_outbox where attempts > 0 and id >= ? order by id", ids[0]).map((r) => r.id as number);
+      const now = Date.now();
+
+      // Pass 1: the two links and the oldest notice, on three connections at once; the other four wait.
+      expect(await mailer.processDue(now)).toEqual({ sent: 0, retried: 3, deferred: 4 });
+      expect(attempted()).toEqual([ids[0], resetId, inviteId]);
+      expect(connections).toBe(3);
+      expect(mostOpen).toBe(3);
+      // Pass 2 and 3: the rest, the oldest first.
+      expect(await mailer.processDue(now)).toEqual({ sent: 0, retried: 3, deferred: 1 });
+      expect(attempted()).toEqual([...ids.slice(0, 4), resetId, inviteId]);
+      expect(await mailer.processDue(now)).toEqual({ sent: 0, retried: 1, deferred: 0 });
+      expect(connections).toBe(7);
+
+      const rows = q("select status, attempts, last_error, next_attempt_at from email_outbox where id in (" + [...ids, resetId, inviteId].join(",") + ")");
+      expect(rows.length).toBe(7);
+      for (const r of rows) {
+        expect(r.status).toBe("queued");
+        expect(r.attempts).toBe(1);
+        expect(r.next_attempt_at).toBeGreaterThanOrEqual(now + backoffMs(1));
+        expect(r.last_error).toBe(`The mail server at 127.0.0.1:${port} accepted the connection but did not answer within 0.3 s (it may be hung or overloaded). (Greeting never received)`);
+      }
+      // Nothing more is due until the backoff has passed.
+      expect(await mailer.processDue(now)).toEqual({ sent: 0, retried: 0, deferred: 0 });
+    } finally {
+      await mailer.stop();
+      for (const s of sockets) s.destroy();
+      await new Promise<void>((r) => hung.close(() => r()));
+    }
   });
 });

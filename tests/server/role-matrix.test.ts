@@ -51,6 +51,15 @@ const matrix: Record<string, Row> = {
       return { path: `/api/admin/users/${id}`, body: { name: "Clara Mbeki (demo claims officer)" } };
     },
   },
+  "POST /admin/users/:id/unlock": {
+    allowed: ["admin"],
+    sample: (t) => {
+      // A lock to lift: five wrong passwords for the process engineer from one address.
+      for (let i = 0; i < 5; i++) t.auth.signInGuard.failed("process@demo.test", "192.0.2.50");
+      const id = t.db.$client.prepare("select id from user where email = 'process@demo.test'").pluck().get() as string;
+      return { path: `/api/admin/users/${id}/unlock` };
+    },
+  },
   "GET /slabs/search": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/slabs/search?q=L26" }) },
   "GET /plant/summary": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/plant/summary" }) },
   "GET /plant/setup": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/plant/setup" }) },
@@ -390,5 +399,21 @@ describe("role matrix", () => {
         expect(res.body.error.code, what).toBe("forbidden");
       }
     }
+  });
+
+  it.each(ROLES)("when signed in as %s, then the causes field of a defect, the defect list and the slab shows causes only to roles that read causes", async (role) => {
+    const sqlite = t.db.$client;
+    const defectId = sqlite.prepare("select d.id from defects d where d.deleted_at is null order by d.id limit 1").pluck().get() as number;
+    if (!sqlite.prepare("select 1 from defect_causes where defect_id = ? and removed_at is null").get(defectId)) {
+      sqlite.prepare("insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')").run(defectId);
+    }
+    const slab = sqlite.prepare("select s.slab_id from defects d join slabs s on s.id = d.slab_id where d.id = ?").pluck().get(defectId) as string;
+    const one = await agents[role].get(`/api/defects/${defectId}`);
+    const list = await agents[role].get(`/api/defects?slab=${slab}&pageSize=200`);
+    const page = await agents[role].get(`/api/slabs/${slab}`);
+    const seen = [one.body.causes, list.body.items.find((d: { id: number }) => d.id === defectId).causes, page.body.defects.find((d: { id: number }) => d.id === defectId).causes];
+    const readsCauses = READERS.includes(role); // the same roles as GET /defects/:id/causes, written out above
+    for (const causes of seen) expect(causes.some((c: { tag: string }) => c.tag === "sen-clogging"), role).toBe(readsCauses);
+    expect((await agents[role].get(`/api/defects/${defectId}/causes`)).status).toBe(readsCauses ? 200 : 403);
   });
 });

@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
-import type { ApiToken } from "@shared/api/heats";
+import type { ApiToken } from "@shared/api/tokens";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -22,7 +22,7 @@ export function Component() {
   const [created, setCreated] = useState<(ApiToken & { token: string }) | null>(null);
   return (
     <div className="space-y-5">
-      <PageHeader title="API tokens" subtitle="Tokens let the plant's level-2 system send heats, slabs and process samples to Strandsight without a person signing in." />
+      <PageHeader title="API tokens" subtitle="Tokens let the plant's level-2 system send heats, slabs and process samples (and, when ticked, the rolling mill's products) to Strandsight without a person signing in. Each token sends only the kinds ticked when it was made." />
       <div className="grid gap-5 lg:grid-cols-[minmax(0,1fr)_minmax(0,2fr)]">
         <Card title="New token">{created ? <TokenReveal created={created} onDone={() => setCreated(null)} /> : <CreateTokenForm onCreated={setCreated} />}</Card>
         <Card title="Tokens">

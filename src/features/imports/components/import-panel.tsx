@@ -1,6 +1,6 @@
 import { useRef, useState } from "react";
 import { Link } from "react-router";
-import { IMPORT_KINDS, IMPORT_MAX_BYTES, type ImportKind } from "@shared/api/imports";
+import { IMPORT_KINDS, IMPORT_LIMITS, IMPORT_MAX_BYTES, type ImportKind } from "@shared/api/imports";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { Notice } from "@/components/ui/notice";
@@ -141,7 +141,7 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
                   className="block w-full min-h-12 rounded-md border border-ink-300 bg-white text-sm file:mr-3 file:min-h-12 file:cursor-pointer file:border-0 file:bg-ink-800 file:px-4 file:font-semibold file:text-white"
                 />
                 <p className="text-xs text-ink-600">
-                  Up to {bytes(IMPORT_MAX_BYTES)}. The first row holds the column headers (see the list of columns). The file is checked as soon as you pick it; nothing is
+                  Up to {bytes(IMPORT_MAX_BYTES)} and {IMPORT_LIMITS.rows.toLocaleString("en-GB")} rows. The first row holds the column headers (see the list of columns). The file is checked as soon as you pick it; nothing is
                   written until you confirm.
                 </p>
               </div>

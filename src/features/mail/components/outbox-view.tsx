@@ -90,6 +90,11 @@ export function MailMessage({ m, onRetried }: { m: OutboxMessage; onRetried: (m:
       <pre className="max-h-96 overflow-auto whitespace-pre-wrap rounded border border-ink-200 bg-white p-3 font-sans text-sm text-ink-900" data-testid="mail-body">
         {m.text}
       </pre>
+      {m.text.includes("[link hidden]") ? (
+        <Notice title="Link hidden">
+          This link lets whoever opens it choose the account's password, so it is shown only to the person it was sent to. If they did not get it, they can ask for a new one with “Forgot your password?”.
+        </Notice>
+      ) : null}
       {m.attachments.length ? (
         <ul className="text-sm">
           {m.attachments.map((a) => (

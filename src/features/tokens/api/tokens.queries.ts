@@ -1,6 +1,6 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
 import { z } from "zod";
-import { apiTokenCreatedSchema, apiTokenSchema } from "@shared/api/heats";
+import { apiTokenCreatedSchema, apiTokenSchema, type ApiTokenCreate } from "@shared/api/tokens";
 import { api } from "@/lib/api-client";
 
 export const tokenKeys = {
@@ -15,7 +15,7 @@ export const tokenKeys = {
 export function useCreateToken() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: { name: string }) => api("/admin/tokens", { method: "POST", body: input, schema: apiTokenCreatedSchema }),
+    mutationFn: (input: ApiTokenCreate) => api("/admin/tokens", { method: "POST", body: input, schema: apiTokenCreatedSchema }),
     onSuccess: () => qc.invalidateQueries({ queryKey: tokenKeys.all }),
   });
 }

@@ -1,8 +1,8 @@
 import { useRef, useState } from "react";
-import { useForm } from "react-hook-form";
+import { Controller, useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import type { z } from "zod";
-import { apiTokenCreateSchema, type ApiToken } from "@shared/api/heats";
+import { apiTokenCreateSchema, DEFAULT_TOKEN_SCOPES, TOKEN_SCOPE_LABELS, TOKEN_SCOPES, type ApiToken, type TokenScope } from "@shared/api/tokens";
 import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
@@ -56,8 +56,14 @@ export function TokenReveal({ created, onDone }: { created: Created; onDone: () 
       {copied === true ? <p role="status" className="text-sm font-semibold text-ok-700">✓ Copied to the clipboard.</p> : null}
       {copied === false ? <p role="status" className="text-sm font-semibold text-ember-700">The browser did not allow copying: the token is selected, copy it with the keyboard.</p> : null}
       <p className="text-xs text-ink-700">
-        The level-2 system sends it as <code className="font-mono">Authorization: Bearer …</code> to <code className="font-mono">/api/ingest/heats</code>,{" "}
-        <code className="font-mono">/slabs</code> and <code className="font-mono">/process-samples</code>.
+        The system sends it as <code className="font-mono">Authorization: Bearer …</code> to{" "}
+        {created.scopes.map((k, i) => (
+          <span key={k}>
+            {i === 0 ? "" : i === created.scopes.length - 1 ? " and " : ", "}
+            <code className="font-mono">/api/ingest/{k}</code>
+          </span>
+        ))}
+        ; anything else it sends is refused.
       </p>
       <Button variant="secondary" onClick={onDone}>
         I have stored the token
@@ -66,21 +72,60 @@ export function TokenReveal({ created, onDone }: { created: Created; onDone: () 
   );
 }
 
+/** What a token may send: the level-2 kinds ticked by default, the rolling mill's products only when ticked. */
+function ScopePicker({ value, onChange, error }: { value: TokenScope[]; onChange: (v: TokenScope[]) => void; error?: string }) {
+  return (
+    <fieldset className="space-y-2">
+      <legend className="text-sm font-semibold">It may send</legend>
+      <div className="flex flex-wrap gap-2">
+        {TOKEN_SCOPES.map((k) => {
+          const checked = value.includes(k);
+          return (
+            <label
+              key={k}
+              className={`flex min-h-11 cursor-pointer items-center gap-2 rounded-md border px-3 text-sm ${checked ? "border-strand-700 bg-strand-50 font-semibold" : "border-ink-300 bg-white"}`}
+            >
+              <input
+                type="checkbox"
+                name="scopes"
+                value={k}
+                checked={checked}
+                onChange={(e) => onChange(e.target.checked ? [...value, k] : value.filter((x) => x !== k))}
+                className="h-5 w-5 accent-strand-700"
+              />
+              {TOKEN_SCOPE_LABELS[k]}
+            </label>
+          );
+        })}
+      </div>
+      {error ? <p className="text-sm font-semibold text-alarm-700">{error}</p> : null}
+    </fieldset>
+  );
+}
+
 export function CreateTokenForm({ onCreated }: { onCreated: (t: Created) => void }) {
   const create = useCreateToken();
-  const form = useForm<z.input<typeof apiTokenCreateSchema>>({ resolver: zodResolver(apiTokenCreateSchema, friendlyErrors), defaultValues: { name: "" } });
+  const form = useForm<z.input<typeof apiTokenCreateSchema>>({
+    resolver: zodResolver(apiTokenCreateSchema, friendlyErrors),
+    defaultValues: { name: "", scopes: [...DEFAULT_TOKEN_SCOPES] },
+  });
   return (
     <form
       noValidate
       aria-label="New API token"
       className="space-y-3"
       onSubmit={form.handleSubmit(async (v) => {
-        const t = await create.mutateAsync({ name: v.name });
+        const t = await create.mutateAsync({ name: v.name, scopes: v.scopes });
         form.reset();
         onCreated(t);
       })}
     >
       <TextField label="Name of the system that will use it" placeholder="e.g. Caster 2 level-2 feed" {...form.register("name")} error={form.formState.errors.name?.message} />
+      <Controller
+        control={form.control}
+        name="scopes"
+        render={({ field, fieldState }) => <ScopePicker value={(field.value ?? []) as TokenScope[]} onChange={field.onChange} error={fieldState.error?.message} />}
+      />
       {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
       <Button type="submit" disabled={form.formState.isSubmitting}>
         {form.formState.isSubmitting ? "Creating…" : "Create token"}
@@ -135,6 +180,7 @@ export function TokensTable({ tokens }: { tokens: ApiToken[] }) {
           <tr className="border-b-2 border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
             <th className="py-2 pr-3">Name</th>
             <th className="py-2 pr-3">Starts with</th>
+            <th className="py-2 pr-3">May send</th>
             <th className="py-2 pr-3">Created</th>
             <th className="py-2 pr-3">Last used</th>
             <th className="py-2 pr-3">Status</th>
@@ -146,6 +192,9 @@ export function TokensTable({ tokens }: { tokens: ApiToken[] }) {
             <tr key={t.id} className="border-b border-ink-100" data-testid={`token-row-${t.name}`}>
               <td className="py-2 pr-3 font-semibold">{t.name}</td>
               <td className="py-2 pr-3 font-mono text-xs">{t.prefix}…</td>
+              <td className="py-2 pr-3" data-testid="token-scopes">
+                {t.scopes.length ? t.scopes.map((k) => TOKEN_SCOPE_LABELS[k].replace(/ \(.*\)$/, "")).join(", ") : <span className="text-ink-500">nothing</span>}
+              </td>
               <td className="py-2 pr-3">
                 {dateTime(t.createdAt)}
                 {t.createdByName ? <div className="text-xs text-ink-600">by {t.createdByName}</div> : null}

@@ -28,3 +28,12 @@ export function useUpdateUser() {
     onSuccess: () => qc.invalidateQueries({ queryKey: userKeys.all }),
   });
 }
+
+/** Lifts the sign-in lock an account got after repeated wrong passwords (from every address). */
+export function useUnlockUser() {
+  const qc = useQueryClient();
+  return useMutation({
+    mutationFn: (id: string) => api(`/admin/users/${encodeURIComponent(id)}/unlock`, { method: "POST", body: {}, schema: adminUserSchema }),
+    onSuccess: () => qc.invalidateQueries({ queryKey: userKeys.all }),
+  });
+}

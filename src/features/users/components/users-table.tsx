@@ -11,7 +11,8 @@ import { ROLE_LABELS, type Role } from "@shared/roles";
 import type { AdminUser } from "@shared/api/users";
 import { Button } from "@/components/ui/button";
 import { Notice } from "@/components/ui/notice";
-import { useUpdateUser } from "../api/users.queries";
+import { dateTime } from "@/lib/format";
+import { useUnlockUser, useUpdateUser } from "../api/users.queries";
 import { RolePicker } from "./role-picker";
 
 const col = createColumnHelper<AdminUser>();
@@ -25,6 +26,23 @@ function StatusMark({ active }: { active: boolean }) {
   ) : (
     <span className="inline-flex items-center gap-1.5 text-sm font-medium text-ink-600">
       <span className="h-2.5 w-2.5 border-2 border-ink-600" aria-hidden /> Deactivated
+    </span>
+  );
+}
+
+/** A padlock and words: sign-in is refused from these addresses after repeated wrong passwords. */
+function LockMark({ user }: { user: AdminUser }) {
+  if (user.lockedFrom.length === 0) return null;
+  const last = user.lockedFrom.reduce((a, b) => (a.until > b.until ? a : b));
+  return (
+    <span className="mt-1 inline-flex items-start gap-1.5 text-sm font-medium text-ember-700" data-testid={`locked-${user.email}`}>
+      <svg viewBox="0 0 16 16" className="mt-0.5 h-4 w-4 shrink-0" aria-hidden>
+        <rect x="3" y="7" width="10" height="7" rx="1" fill="currentColor" />
+        <path d="M5 7V5a3 3 0 0 1 6 0v2" fill="none" stroke="currentColor" strokeWidth="1.8" />
+      </svg>
+      <span>
+        Sign-in locked from {user.lockedFrom.map((l) => l.address).join(", ")} until {dateTime(last.until)} (wrong passwords)
+      </span>
     </span>
   );
 }
@@ -58,6 +76,7 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
   const [sorting, setSorting] = useState<SortingState>([{ id: "name", desc: false }]);
   const [editing, setEditing] = useState<string | null>(null);
   const update = useUpdateUser();
+  const unlock = useUnlockUser();
 
   const columns = useMemo(
     () => [
@@ -76,7 +95,15 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
           </div>
         ),
       }),
-      col.accessor("active", { header: "Status", cell: (c) => <StatusMark active={c.getValue()} /> }),
+      col.accessor("active", {
+        header: "Status",
+        cell: (c) => (
+          <div className="flex flex-col">
+            <StatusMark active={c.getValue()} />
+            <LockMark user={c.row.original} />
+          </div>
+        ),
+      }),
       col.display({
         id: "actions",
         header: "",
@@ -84,6 +111,11 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
           const u = c.row.original;
           return (
             <div className="flex justify-end gap-2">
+              {u.lockedFrom.length > 0 ? (
+                <Button variant="secondary" disabled={unlock.isPending} onClick={() => unlock.mutate(u.id)} aria-label={`Unlock sign-in of ${u.name}`}>
+                  Unlock
+                </Button>
+              ) : null}
               <Button variant="secondary" onClick={() => setEditing(editing === u.id ? null : u.id)} aria-label={`Change roles of ${u.name}`}>
                 Roles
               </Button>
@@ -102,7 +134,7 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
         },
       }),
     ],
-    [editing, currentUserId, update],
+    [editing, currentUserId, update, unlock],
   );
 
   const table = useReactTable({
@@ -117,6 +149,8 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
   return (
     <div className="space-y-2">
       {update.error ? <Notice tone="error">{update.error.message}</Notice> : null}
+      {unlock.error ? <Notice tone="error">{unlock.error.message}</Notice> : null}
+      {unlock.data ? <Notice tone="ok">{unlock.data.name} can sign in again from every address.</Notice> : null}
       <div className="overflow-x-auto">
         <table className="w-full text-sm">
           <thead>

@@ -1,0 +1,137 @@
+/**
+ * Imports run in worker threads (piscina), never on the main thread: reading, checking, planning and
+ * writing a file of 200,000 rows takes seconds, and the plant's other requests must keep flowing.
+ * Each worker's heap is capped, so a file that gets past the reader's limits stops that worker
+ * (413), not the server; a check that runs too long is stopped too. Few imports run at once and
+ * few wait: past that the plant's people are asked to try again in a minute.
+ */
+import { MessageChannel } from "node:worker_threads";
+import { Piscina } from "piscina";
+import { IMPORT_LIMITS } from "@shared/api/imports";
+import type { ImportResult } from "@shared/api/imports";
+import type { Db } from "../db/client";
+import { HttpError } from "../lib/http-error";
+import type { Logger } from "../lib/logger";
+import { slabFactsChanged } from "../services/report-cache";
+import type { ImportOutcome, ImportTask } from "./import-worker";
+import type { Limits } from "./read-xlsx";
+
+export interface ImportPoolOptions {
+  /** Imports running at once (default 2: the rest of the plant keeps a core). */
+  maxThreads?: number;
+  /** Imports waiting for a thread before others are turned away (default 4; each waits at most 2 minutes). */
+  maxQueue?: number;
+  /** Heap of one import thread, MB (default 1024; IMPORT_THREAD_HEAP_MB). */
+  heapMb?: number;
+  limits?: Limits;
+  logger?: Logger;
+  /** How long an import may wait for a thread (default 2 minutes). */
+  queueWaitMs?: number;
+}
+
+export type ImportJob = Omit<ImportTask, "databaseFile" | "limits" | "progress">;
+
+export function createImportPool(opts: ImportPoolOptions = {}) {
+  const limits = opts.limits ?? IMPORT_LIMITS;
+  const heapMb = opts.heapMb ?? 1024;
+  // V8's heap flag is process-wide: given on the command line it overrides every thread's own cap.
+  if (/max[-_]old[-_]space[-_]size/.test([...process.execArgv, process.env.NODE_OPTIONS ?? ""].join(" "))) {
+    opts.logger?.warn("--max-old-space-size is set for the process: it overrides the import threads' memory cap (IMPORT_THREAD_HEAP_MB). Leave it out.");
+  }
+  const maxThreads = opts.maxThreads ?? 2;
+  const maxQueue = opts.maxQueue ?? 4;
+  // How long an import may wait for a thread before the answer is "busy, try again".
+  const queueWaitMs = opts.queueWaitMs ?? 120_000;
+  let pool: Piscina | null = null;
+  // Made on the first import, so a server (or a test) that imports nothing starts no thread.
+  const getPool = () =>
+    (pool ??= (() => {
+      const p = new Piscina({
+        filename: new URL("./import-worker.mjs", import.meta.url).href,
+        // One thread always alive: piscina replaces a thread that died (out of memory, stopped)
+        // only up to minThreads, and with none left the imports waiting would never start. It also
+        // answers the level-2 feed's frequent small calls without starting again.
+        minThreads: 1,
+        maxThreads,
+        idleTimeout: 60_000,
+        concurrentTasksPerWorker: 1,
+        resourceLimits: { maxOldGenerationSizeMb: heapMb },
+      });
+      // A thread that dies while idle (none should) must not bring the server down.
+      p.on("error", (err) => opts.logger?.error({ err }, "import thread failed"));
+      return p;
+    })());
+
+  const busy = () =>
+    new HttpError(429, "imports_busy", `${maxThreads} imports are running and more are waiting. Try again in a minute.`, { retryAfterSeconds: 60 });
+
+  // Imports admitted (running or waiting): counted here rather than left to piscina's queue, whose
+  // capacity moves with threads that are still starting.
+  let admitted = 0;
+
+  return {
+    async run(db: Db, job: ImportJob): Promise<ImportResult> {
+      if (admitted >= maxThreads + maxQueue) throw busy();
+      admitted++;
+      try {
+        return await runAdmitted(db, job);
+      } finally {
+        admitted--;
+      }
+    },
+    /** Starts the first thread now, so the first import (or feed call) does not wait for it. */
+    warm: async () => {
+      await getPool()
+        .run({ warm: true })
+        .catch((err) => opts.logger?.error({ err }, "import thread failed to start"));
+    },
+    close: async () => {
+      await pool?.destroy();
+      pool = null;
+    },
+  };
+
+  async function runAdmitted(db: Db, job: ImportJob): Promise<ImportResult> {
+    const databaseFile = db.$client.name;
+    const abort = new AbortController();
+    const { port1, port2 } = new MessageChannel();
+    // Waiting for a thread, checking, writing: each phase has its own bound. Once the worker
+    // writes it finishes (a stopped writer would be rolled back by SQLite, but a half-minute of
+    // writing is an import, not an attack).
+    let phase: "waiting" | "checking" | "writing" = "waiting";
+    let timer = setTimeout(() => abort.abort("waiting"), queueWaitMs);
+    port1.on("message", (m) => {
+      clearTimeout(timer);
+      if (m === "started") {
+        phase = "checking";
+        timer = setTimeout(() => abort.abort("checking"), (limits.checkSeconds + 15) * 1000);
+      } else if (m === "writing") phase = "writing";
+    });
+    const task: ImportTask = { ...job, databaseFile, limits, progress: port2 };
+    let outcome: ImportOutcome;
+    try {
+      outcome = (await getPool().run(task, { signal: abort.signal, transferList: [port2] })) as ImportOutcome;
+    } catch (err) {
+      const e = err as { name?: string; code?: string; message?: string };
+      if (e.name === "AbortError") {
+        if (phase === "waiting") throw busy();
+        throw new HttpError(413, "import_too_large", `Checking the file took longer than ${limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`);
+      }
+      if (e.code === "ERR_WORKER_OUT_OF_MEMORY") {
+        opts.logger?.error({ kind: job.kind, file: job.fileName }, "import stopped: its thread ran out of memory");
+        throw new HttpError(413, "import_too_large", `The file needs more memory to check than one import may use (${heapMb} MB); nothing was imported. Split it into smaller files.`);
+      }
+      throw err;
+    } finally {
+      clearTimeout(timer);
+      port1.close();
+    }
+    if (!outcome.ok) throw new HttpError(outcome.status, outcome.code, outcome.message, outcome.details);
+    // The worker wrote through its own connection: tell this connection's report cache.
+    if (outcome.changedSlabs === "all") slabFactsChanged(db);
+    else if (outcome.changedSlabs?.length) slabFactsChanged(db, outcome.changedSlabs);
+    return outcome.result;
+  }
+}
+
+export type ImportPool = ReturnType<typeof createImportPool>;
