@@ -59,6 +59,11 @@ export function fisherExact2x2(table: [[number, number], [number, number]]): Fis
   const r2 = c + d;
   const c1 = a + c;
   const n = r1 + r2;
+  if (r1 === 0 || r2 === 0 || c1 === 0 || c1 === n) {
+    // One table only fits these margins, so there is nothing to test. R's fisher.test prints p = 1
+    // (interval 0 to ∞) here; shown, that reads as evidence of no difference, so it is NaN instead.
+    return { pLess: NaN, pGreater: NaN, pTwoSided: NaN, oddsRatio: NaN, method: "not testable: a row or column of the table is empty" };
+  }
   const lo = Math.max(0, c1 - r2);
   const hi = Math.min(r1, c1);
   const lnChoose = (m: number, k: number) => lnFactorial(m) - lnFactorial(k) - lnFactorial(m - k);

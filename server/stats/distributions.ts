@@ -24,8 +24,10 @@ export function normalQuantileOf(p: number): number {
   return normalQuantile(p, 0, 1);
 }
 
-/** Two-sided p for Student's t with df degrees of freedom. */
+/** Two-sided p for Student's t with df degrees of freedom; NaN when t is undefined (0/0: no spread). */
 export function tTwoSided(t: number, df: number): number {
+  // NaN is checked first: it is also "not finite", and reading it as an infinite t gave p = 0.
+  if (Number.isNaN(t) || Number.isNaN(df)) return NaN;
   if (!Number.isFinite(t)) return 0;
   return Math.min(1, 2 * tCdf(-Math.abs(t), df));
 }

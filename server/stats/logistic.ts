@@ -1,4 +1,5 @@
 import { normalQuantileOf, normalTwoSided } from "./distributions";
+import { choleskyInverse } from "./linear-algebra";
 
 export interface LogisticRow {
   /** The covariates (no intercept; it is added). */
@@ -24,38 +25,6 @@ export interface LogisticFit {
   method: string;
 }
 
-/** Solves A v = b for a small symmetric positive definite A (Cholesky); returns null if singular. */
-function choleskySolveInverse(a: number[][]): number[][] | null {
-  const k = a.length;
-  const l = Array.from({ length: k }, () => new Array<number>(k).fill(0));
-  for (let i = 0; i < k; i++) {
-    for (let j = 0; j <= i; j++) {
-      let s = a[i]![j]!;
-      for (let m = 0; m < j; m++) s -= l[i]![m]! * l[j]![m]!;
-      if (i === j) {
-        if (s <= 1e-300) return null;
-        l[i]![i] = Math.sqrt(s);
-      } else l[i]![j] = s / l[j]![j]!;
-    }
-  }
-  // Inverse via forward/back substitution on the identity columns.
-  const inv = Array.from({ length: k }, () => new Array<number>(k).fill(0));
-  for (let c = 0; c < k; c++) {
-    const y = new Array<number>(k).fill(0);
-    for (let i = 0; i < k; i++) {
-      let s = i === c ? 1 : 0;
-      for (let m = 0; m < i; m++) s -= l[i]![m]! * y[m]!;
-      y[i] = s / l[i]![i]!;
-    }
-    for (let i = k - 1; i >= 0; i--) {
-      let s = y[i]!;
-      for (let m = i + 1; m < k; m++) s -= l[m]![i]! * inv[m]![c]!;
-      inv[i]![c] = s / l[i]![i]!;
-    }
-  }
-  return inv;
-}
-
 /**
  * Logistic regression by iteratively reweighted least squares (Newton–Raphson on the binomial
  * log-likelihood), intercept plus any number of covariates, on binomial rows so grouped data can be
@@ -69,6 +38,15 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
   const means = new Array<number>(k - 1).fill(0);
   for (const r of rows) r.x.forEach((v, j) => (means[j]! += v * r.trials));
   for (let j = 0; j < k - 1; j++) means[j]! /= n || 1;
+  const notFitted = (method: string, iterations = 0, deviance = NaN): LogisticFit => ({
+    coefficients: new Array<number>(k).fill(NaN), standardErrors: new Array<number>(k).fill(NaN), z: new Array<number>(k).fill(NaN), p: new Array<number>(k).fill(NaN),
+    oddsRatios: means.map(() => ({ value: NaN, lower: NaN, upper: NaN })), iterations, converged: false, deviance, n, method,
+  });
+  // A covariate with a single value makes the information singular, but rounding in its centring can
+  // hide that; it is not separation, and the note must say which it is. Equal stored values compare exactly.
+  const used = rows.filter((r) => r.trials > 0);
+  if (used.length === 0) return notFitted("not testable: no slabs");
+  if (means.some((_, j) => used.every((r) => r.x[j] === used[0]!.x[j]))) return notFitted("not testable: the variable has no spread (every slab has the same value)");
   const design = rows.map((r) => [1, ...r.x.map((v, j) => v - means[j]!)]);
   let beta = new Array<number>(k).fill(0);
   const ybar = rows.reduce((s, r) => s + r.successes, 0) / (n || 1);
@@ -98,7 +76,7 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
       if (f > 0) dev -= 2 * f * Math.log(Math.max(1 - p, 1e-300) / (f / r.trials));
     });
     for (let a = 0; a < k; a++) for (let b = a + 1; b < k; b++) info[a]![b] = info[b]![a]!;
-    const inv = choleskySolveInverse(info);
+    const inv = choleskyInverse(info);
     if (!inv) break;
     const step = inv.map((row) => row.reduce((s, v, j) => s + v * grad[j]!, 0));
     beta = beta.map((b, j) => b + step[j]!);
@@ -109,13 +87,9 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
     }
     deviance = dev;
   }
-  const cov = choleskySolveInverse(info);
+  const cov = choleskyInverse(info);
   if (!cov || !converged) {
-    return {
-      coefficients: beta.map(() => NaN), standardErrors: beta.map(() => NaN), z: beta.map(() => NaN), p: beta.map(() => NaN),
-      oddsRatios: means.map(() => ({ value: NaN, lower: NaN, upper: NaN })), iterations, converged: false, deviance, n,
-      method: "IRLS did not converge (the outcome may be perfectly separated by the variable)",
-    };
+    return notFitted(ybar <= 0 || ybar >= 1 ? "not testable: the outcome does not vary (no affected slab, or every slab affected)" : "IRLS did not converge (the outcome may be perfectly separated by the variable)", iterations, deviance);
   }
   // Back to the original scale: b0 = a0 − Σ bⱼ mⱼ, Var(b0) = cᵀ Σ c with c = (1, −m₁, …).
   const c = [1, ...means.map((m) => -m)];

@@ -79,8 +79,8 @@ export function mannWhitneyGrouped(groups: Group[], alternative: Alternative = "
   const d = u - mean;
   const correction = alternative === "two-sided" ? Math.sign(d) * 0.5 : alternative === "greater" ? 0.5 : -0.5;
   const z = sigma > 0 ? (d - correction) / sigma : 0;
-  const p =
-    alternative === "greater" ? normalUpper(z) : alternative === "less" ? 1 - normalUpper(z) : Math.min(1, 2 * Math.min(normalUpper(z), 1 - normalUpper(z)));
+  // Each tail straight from its own side (1 − P(Z ≥ z) would cancel to 0 for a far tail).
+  const p = alternative === "greater" ? normalUpper(z) : alternative === "less" ? normalUpper(-z) : Math.min(1, 2 * normalUpper(Math.abs(z)));
   return { u, p, n1, n2, method: `normal approximation with tie and continuity correction, ${alternative}` };
 }
 

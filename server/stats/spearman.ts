@@ -8,6 +8,10 @@ export interface Correlation {
   method: string;
 }
 
+const NO_SPREAD = "not testable: the variable has no spread (every slab has the same value)";
+
+const noSpread = (v: number[]) => v.every((x) => x === v[0]);
+
 function pearson(x: number[], y: number[]): number {
   const n = x.length;
   let mx = 0;
@@ -71,6 +75,7 @@ export function spearman(x: number[], y: number[]): Correlation {
   const n = x.length;
   if (n !== y.length) throw new Error("spearman: x and y differ in length");
   if (n < 3) return { rho: NaN, p: NaN, n, method: "too few observations" };
+  if (noSpread(x) || noSpread(y)) return { rho: NaN, p: NaN, n, method: NO_SPREAD };
   const rx = rank(x);
   const ry = rank(y);
   const rho = pearson(rx, ry);
@@ -85,6 +90,8 @@ export function spearman(x: number[], y: number[]): Correlation {
 }
 
 function tDistributionP(r: number, n: number): number {
+  // An undefined ρ (a variable with no spread) has no p either; it is never "p = 0".
+  if (Number.isNaN(r)) return NaN;
   if (Math.abs(r) >= 1) return 0;
   const t = r * Math.sqrt((n - 2) / (1 - r * r));
   return tTwoSided(t, n - 2);
@@ -102,6 +109,10 @@ export function correlationsWithOutcome(groups: Group[]): { spearman: Correlatio
     n1 += g.affected;
   }
   const n0 = n - n1;
+  if (n >= 3 && new Set(groups.filter((g) => g.n > 0).map((g) => g.value)).size < 2) {
+    const none = { rho: NaN, p: NaN, n, method: NO_SPREAD };
+    return { spearman: none, pointBiserial: none };
+  }
   if (n < 3 || n1 === 0 || n0 === 0) {
     const none = { rho: NaN, p: NaN, n, method: n1 === 0 || n0 === 0 ? "outcome does not vary" : "too few observations" };
     return { spearman: none, pointBiserial: none };
