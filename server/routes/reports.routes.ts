@@ -24,7 +24,13 @@ import { notFound } from "../lib/http-error";
 import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { reportWorkbook } from "../services/report-export";
-import { beforeAfter, controlChart, overview, processWindow, rateByVariable, screening, slabPositions } from "../services/reports.service";
+import { beforeAfter } from "../services/reports/before-after";
+import { controlChart } from "../services/reports/control-chart";
+import { overview } from "../services/reports/overview";
+import { processWindow } from "../services/reports/process-window";
+import { rateByVariable } from "../services/reports/rate-by-variable";
+import { screening } from "../services/reports/screening";
+import { slabPositions } from "../services/reports/slab-positions";
 import type { Deps } from "./deps";
 
 const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";

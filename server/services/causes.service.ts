@@ -22,7 +22,7 @@ import type { CauseConfidence } from "@shared/domain";
 import type { Db } from "../db/client";
 import { badRequest, conflict, HttpError, notFound } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
-import { buildScope } from "./reports.service";
+import { buildScope } from "./reports/scope";
 
 type Row = Record<string, any>;
 export interface Actor {

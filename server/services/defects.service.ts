@@ -8,7 +8,7 @@ import type { Db } from "../db/client";
 import { HttpError, badRequest, conflict, forbidden, notFound } from "../lib/http-error";
 import { causesBrief } from "./causes.service";
 import { recordAudit } from "./audit.service";
-import { parseDateBound } from "./heats.service";
+import { parseDateBound } from "../lib/dates";
 import { admitPhotoDecodes, checkPhoto, removePhotoFiles, storePhotoFiles, type StoredPhotoFiles } from "./photos.service";
 
 type Actor = NonNullable<Express.Request["user"]>;

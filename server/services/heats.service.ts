@@ -2,24 +2,12 @@ import { causesBrief } from "./causes.service";
 import type { HeatDetail, HeatList, HeatListQuery, HeatSamples, ResolvedConditions, SlabDetail } from "@shared/api/heats";
 import type { Db } from "../db/client";
 import type { EmbrCalibration } from "../db/schema";
-import { badRequest, notFound } from "../lib/http-error";
+import { parseDateBound } from "../lib/dates";
+import { notFound } from "../lib/http-error";
 import { deriveValues } from "./conditions.service";
 import { getPlantSettings } from "./settings.service";
 
 const iso = (ms: number | null | undefined) => (ms == null ? null : new Date(ms).toISOString());
-
-/** A date (YYYY-MM-DD, whole day) or a date-time, to milliseconds. */
-export function parseDateBound(value: string | undefined, end: boolean, field: string): number | undefined {
-  if (!value) return undefined;
-  if (/^\d{4}-\d{2}-\d{2}$/.test(value)) {
-    const start = Date.parse(`${value}T00:00:00Z`);
-    if (Number.isNaN(start)) throw badRequest(`${field}: ${value} is not a date.`, { field });
-    return end ? start + 86_400_000 - 1 : start;
-  }
-  const t = Date.parse(value);
-  if (Number.isNaN(t)) throw badRequest(`${field}: ${value} is not a date (use YYYY-MM-DD).`, { field });
-  return t;
-}
 
 const SORT_SQL: Record<HeatListQuery["sort"], string> = {
   castStart: "h.cast_start",

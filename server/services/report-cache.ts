@@ -21,6 +21,8 @@ export interface SlabFacts {
   castAt: Float64Array;
   casterId: Int32Array;
   strandId: Int32Array;
+  /** The slab's heat (slabs of one heat share its heat-level values: the clusters of robust SEs). */
+  heatId: Int32Array;
   gradeId: Int32Array;
   familyId: Int32Array;
   transition: Uint8Array;
@@ -79,14 +81,14 @@ export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
   }
 }
 
-const COLUMNS = `slab_id, cast_at, caster_id, strand_id, grade_id, family_id, transition, sequence_position, weight_t, ${FACT_VARIABLES.join(", ")}`;
+const COLUMNS = `slab_id, cast_at, caster_id, strand_id, grade_id, family_id, transition, sequence_position, weight_t, heat_id, ${FACT_VARIABLES.join(", ")}`;
 
 function allocate(capacity: number, maxId: number): SlabFacts {
   const vars: Record<string, Float64Array> = {};
   for (const k of FACT_VARIABLES) vars[k] = new Float64Array(capacity);
   const indexOf = new Int32Array(maxId + 1).fill(-1);
   return {
-    size: 0, slabId: new Int32Array(capacity), castAt: new Float64Array(capacity), casterId: new Int32Array(capacity), strandId: new Int32Array(capacity),
+    size: 0, slabId: new Int32Array(capacity), castAt: new Float64Array(capacity), casterId: new Int32Array(capacity), strandId: new Int32Array(capacity), heatId: new Int32Array(capacity),
     gradeId: new Int32Array(capacity), familyId: new Int32Array(capacity), transition: new Uint8Array(capacity), sequencePosition: new Int32Array(capacity),
     weightT: new Float64Array(capacity), vars, indexOf,
   };
@@ -102,7 +104,8 @@ function put(f: SlabFacts, i: number, r: (number | null)[]) {
   f.transition[i] = r[6] ? 1 : 0;
   f.sequencePosition[i] = r[7] ?? 0;
   f.weightT[i] = r[8] ?? NaN;
-  for (let k = 0; k < FACT_VARIABLES.length; k++) f.vars[FACT_VARIABLES[k]!]![i] = r[9 + k] ?? NaN;
+  f.heatId[i] = r[9] ?? 0;
+  for (let k = 0; k < FACT_VARIABLES.length; k++) f.vars[FACT_VARIABLES[k]!]![i] = r[10 + k] ?? NaN;
   f.indexOf[r[0]!] = i;
 }
 
@@ -124,7 +127,7 @@ function grow(f: SlabFacts, minCapacity: number, minId: number): SlabFacts {
   const needIds = minId >= f.indexOf.length;
   if (!needCap && !needIds) return f;
   const g = allocate(needCap ? Math.max(minCapacity, cap * 2) : cap, needIds ? Math.max(minId + 1, f.indexOf.length * 2) : f.indexOf.length - 1);
-  for (const key of ["slabId", "castAt", "casterId", "strandId", "gradeId", "familyId", "transition", "sequencePosition", "weightT"] as const) {
+  for (const key of ["slabId", "castAt", "casterId", "strandId", "heatId", "gradeId", "familyId", "transition", "sequencePosition", "weightT"] as const) {
     (g[key] as Float64Array).set((f[key] as Float64Array).subarray(0, f.size));
   }
   for (const k of FACT_VARIABLES) g.vars[k]!.set(f.vars[k]!.subarray(0, f.size));

@@ -1,0 +1,66 @@
+/** Rates by period, the Pareto of defect types, rates by grade and by strand. */
+import type { z } from "zod";
+import type { Overview, overviewQuerySchema } from "@shared/api/reports";
+import type { Db } from "../../db/client";
+import { ratePer } from "../../stats/proportions";
+import { byPeriod, periodOf } from "./periods";
+import { buildScope, finite, proportion, scan } from "./scope";
+
+export function overview(db: Db, q: z.output<typeof overviewQuerySchema>): Overview {
+  const scope = buildScope(db, q);
+  const sc = scan(db, scope);
+  const f = sc.facts;
+  const inScope = new Uint8Array(f.size);
+  for (const i of sc.rows) inScope[i] = 1;
+  const slabRows = byPeriod(sc, q.period, true);
+  // The defects passing the defect filters, on slabs within the slab filters.
+  const defects = db.$client.prepare(`select d.slab_id, d.type_id from defects d where ${scope.defectWhere.join(" and ")}`).raw().all(scope.params) as [number, number][];
+  const defectsBy = new Map<string, number>();
+  const byType = new Map<number, { defects: number; slabs: Set<number> }>();
+  for (const [slabId, typeId] of defects) {
+    const i = slabId < f.indexOf.length ? f.indexOf[slabId]! : -1;
+    if (i < 0 || !inScope[i]) continue;
+    const at = f.castAt[i]!;
+    if (at === at) {
+      const label = periodOf(at, q.period);
+      defectsBy.set(label, (defectsBy.get(label) ?? 0) + 1);
+    }
+    let t = byType.get(typeId);
+    if (!t) byType.set(typeId, (t = { defects: 0, slabs: new Set() }));
+    t.defects++;
+    t.slabs.add(slabId);
+  }
+  const row = (n: number, x: number, t: number, d: number) => ({ ...proportion(n, x), defects: d, tonnes: t, per100Slabs: finite(ratePer(d, n, 100)), per1000t: finite(ratePer(d, t, 1000)) });
+  const periods = slabRows.map((r) => ({ period: r.period, ...row(r.n, r.x, r.t, defectsBy.get(r.period) ?? 0) }));
+  const tot = slabRows.reduce((s, r) => ({ n: s.n + r.n, x: s.x + r.x, t: s.t + r.t }), { n: 0, x: 0, t: 0 });
+  const totalDefects = [...defectsBy.values()].reduce((s, v) => s + v, 0);
+  const types = new Map((db.$client.prepare("select id, code, name from defect_types").all() as { id: number; code: string; name: string }[]).map((t) => [t.id, t]));
+  const paretoRows = [...byType.entries()]
+    .map(([id, t]) => ({ code: types.get(id)!.code, name: types.get(id)!.name, defects: t.defects, slabs: t.slabs.size }))
+    .sort((a, b) => b.defects - a.defects || a.code.localeCompare(b.code));
+  const paretoTotal = paretoRows.reduce((s, r) => s + r.defects, 0);
+  let cum = 0;
+  const pareto = paretoRows.map((r) => {
+    cum += r.defects;
+    return { code: r.code, name: r.name, defects: r.defects, slabsAffected: r.slabs, share: r.defects / paretoTotal, cumulativeShare: cum / paretoTotal };
+  });
+  const countBy = (key: Int32Array) => {
+    const m = new Map<number, { n: number; x: number }>();
+    for (const i of sc.rows) {
+      let c = m.get(key[i]!);
+      if (!c) m.set(key[i]!, (c = { n: 0, x: 0 }));
+      c.n++;
+      c.x += sc.affected[i]!;
+    }
+    return m;
+  };
+  const gradeNames = new Map((db.$client.prepare("select g.id, g.code, f.code as family from grades g join grade_families f on f.id = g.family_id").all() as { id: number; code: string; family: string }[]).map((g) => [g.id, g]));
+  const byGrade = [...countBy(f.gradeId).entries()]
+    .map(([id, c]) => ({ grade: gradeNames.get(id)?.code ?? String(id), family: gradeNames.get(id)?.family ?? "", ...proportion(c.n, c.x) }))
+    .sort((a, b) => a.grade.localeCompare(b.grade));
+  const strandNames = new Map((db.$client.prepare("select s.id, s.strand_no, c.code from strands s join casters c on c.id = s.caster_id").all() as { id: number; strand_no: number; code: string }[]).map((x) => [x.id, x]));
+  const byStrand = [...countBy(f.strandId).entries()]
+    .map(([id, c]) => ({ caster: strandNames.get(id)?.code ?? "", strand: strandNames.get(id)?.strand_no ?? 0, ...proportion(c.n, c.x) }))
+    .sort((a, b) => a.caster.localeCompare(b.caster) || a.strand - b.strand);
+  return { period: q.period, totals: row(tot.n, tot.x, tot.t, totalDefects), periods, pareto, byGrade, byStrand };
+}

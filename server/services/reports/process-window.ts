@@ -1,0 +1,57 @@
+/** The rate over a grid of two conditions, with thin cells flagged. */
+import type { z } from "zod";
+import type { ProcessWindow, processWindowQuerySchema } from "@shared/api/reports";
+import type { Db } from "../../db/client";
+import { badRequest } from "../../lib/http-error";
+import { equalWidthEdges, quantileEdges } from "../../stats/binning";
+import { buildScope, proportion, scan, variableGroups, variableSpec } from "./scope";
+
+export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchema>): ProcessWindow {
+  if (q.x === q.y) throw badRequest("Choose two different variables for the process window.", { field: "y" });
+  const sc = scan(db, buildScope(db, q));
+  const sx = variableSpec(q.x);
+  const sy = variableSpec(q.y);
+  const edgesOf = (key: string, k: number) => {
+    const { groups } = variableGroups(sc, key);
+    return q.binning === "quantile" ? quantileEdges(groups, k) : equalWidthEdges(groups, k);
+  };
+  const ex = edgesOf(q.x, q.xBins);
+  const ey = edgesOf(q.y, q.yBins);
+  const bin = (v: number, edges: number[]) => {
+    if (edges.length <= 2) return 0;
+    let b = 0;
+    while (b < edges.length - 2 && v >= edges[b + 1]!) b++;
+    return b;
+  };
+  const nx = Math.max(1, ex.length - 1);
+  const ny = Math.max(1, ey.length - 1);
+  const n = new Int32Array(nx * ny);
+  const x = new Int32Array(nx * ny);
+  const cx = sc.facts.vars[sx.key]!;
+  const cy = sc.facts.vars[sy.key]!;
+  const scaleX = 10 ** (sx.digits + 1);
+  const scaleY = 10 ** (sy.digits + 1);
+  let slabs = 0;
+  let affected = 0;
+  for (const i of sc.rows) {
+    const vx = cx[i]!;
+    const vy = cy[i]!;
+    if (vx !== vx || vy !== vy) continue;
+    const c = bin(Math.round(vx * scaleX) / scaleX, ex) * ny + bin(Math.round(vy * scaleY) / scaleY, ey);
+    n[c]!++;
+    x[c]! += sc.affected[i]!;
+    slabs++;
+    affected += sc.affected[i]!;
+  }
+  const cells: ProcessWindow["cells"] = [];
+  for (let xi = 0; xi < nx; xi++) {
+    for (let yi = 0; yi < ny; yi++) {
+      const c = xi * ny + yi;
+      cells.push({
+        xi, yi, xLower: ex[xi] ?? NaN, xUpper: ex[xi + 1] ?? ex[xi] ?? NaN, yLower: ey[yi] ?? NaN, yUpper: ey[yi + 1] ?? ey[yi] ?? NaN,
+        ...proportion(n[c]!, x[c]!), sparse: n[c]! < q.minN,
+      });
+    }
+  }
+  return { x: { key: sx.key, label: sx.label, unit: sx.unit, edges: ex }, y: { key: sy.key, label: sy.label, unit: sy.unit, edges: ey }, minN: q.minN, slabs, affected, cells };
+}
