@@ -1,5 +1,7 @@
 import { z } from "zod";
 import {
+  adjustedQuerySchema,
+  adjustedSchema,
   beforeAfterQuerySchema,
   beforeAfterSchema,
   controlChartQuerySchema,
@@ -24,6 +26,7 @@ import { notFound } from "../lib/http-error";
 import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { reportWorkbook } from "../services/report-export";
+import { adjustedModel } from "../services/reports/adjusted";
 import { beforeAfter } from "../services/reports/before-after";
 import { controlChart } from "../services/reports/control-chart";
 import { overview } from "../services/reports/overview";
@@ -37,14 +40,15 @@ const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
 
 export function reportRoutes({ db }: Deps): AnyRoute[] {
   const kinds = [
-    { kind: "overview", summary: "Overview: rates by period, a Pareto of defect types, rates by grade and by strand", query: overviewQuerySchema, schema: overviewSchema, run: overview },
+    { kind: "overview", summary: "Overview: rates by period (optionally directly standardised to the grade-family mix of the filters), a Pareto of defect types, rates by grade and by strand", query: overviewQuerySchema, schema: overviewSchema, run: overview },
     { kind: "rate-by-variable", summary: "Rate of affected slabs against one casting condition: bins with Wilson intervals, Spearman, logistic odds ratio, Mann–Whitney", query: rateByVariableQuerySchema, schema: rateByVariableSchema, run: rateByVariable },
     { kind: "screening", summary: "Every variable ranked by its association with the defect (Welch t / chi-square, Benjamini–Hochberg adjusted)", query: screeningQuerySchema, schema: screeningSchema, run: screening },
     { kind: "process-window", summary: "Rate over a grid of two variables, with the count in each cell", query: processWindowQuerySchema, schema: processWindowSchema, run: processWindow },
-    { kind: "control-chart", summary: "p-chart of the affected share by day or week, with out-of-control points", query: controlChartQuerySchema, schema: controlChartSchema, run: controlChart },
-    { kind: "before-after", summary: "Two periods, or two ranges of one variable: difference in rates with its interval and the Fisher or chi-square p", query: beforeAfterQuerySchema, schema: beforeAfterSchema, run: beforeAfter },
+    { kind: "control-chart", summary: "Control chart by day or week: p-chart, Laney p′ chart or u-chart (defects per slab); limits from a baseline period applied to later periods; Western Electric run rules; Laney σ_z for overdispersion; standardised rates beside", query: controlChartQuerySchema, schema: controlChartSchema, run: controlChart },
+    { kind: "before-after", summary: "Two periods, or two ranges of one variable: difference in rates with its interval and the Fisher or chi-square p; with stratifyBy, per-stratum comparisons, the Mantel–Haenszel odds ratio (B against A), Breslow–Day and the difference of directly standardised rates", query: beforeAfterQuerySchema, schema: beforeAfterSchema, run: beforeAfter },
     { kind: "slab-positions", summary: "Where on the slab: defect counts by face, along the length and across the width", query: slabPositionsQuerySchema, schema: slabPositionsSchema, run: slabPositions },
     { kind: "cause-pareto", summary: "Pareto of cause tags over the defects passing the filters (live taggings at or above a confidence)", query: causeParetoQuerySchema, schema: causeParetoSchema, run: causePareto },
+    { kind: "adjusted", summary: "Adjusted model: crude and adjusted odds ratios side by side for the conditions examined, adjusted for grade family, strand or any other term; heat-clustered SEs by default; a test and the GVIF per variable", query: adjustedQuerySchema, schema: adjustedSchema, run: adjustedModel },
   ] as const;
 
   const routes: AnyRoute[] = [

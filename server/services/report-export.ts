@@ -7,13 +7,24 @@
 import ExcelJS from "exceljs";
 import { guardSheet } from "../lib/cells";
 import type { CausePareto } from "@shared/api/causes";
-import type { BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
+import type { Adjusted, BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
+import { SEVERITY_LABELS, STAGE_LABELS, type Severity, type Stage } from "@shared/domain";
+import { CATEGORICAL_LABELS, VARIABLES, type CategoricalKey } from "@shared/variables";
 
-type Col = { header: string; key: string; width?: number; numFmt?: string };
+/** kind "p": a p-value column (see P below). */
+type Col = { header: string; key: string; width?: number; numFmt?: string; kind?: "p" };
 type Sheet = { name: string; columns: Col[]; rows: Record<string, unknown>[] };
 
 const PCT = "0.00%";
-const P = "0.0000";
+/**
+ * p-values: four decimals, and in scientific notation below 10⁻⁴ so a tiny p never reads as 0.0000.
+ * A column with this format (or kind "p") is a p-value column: a p that underflowed to 0 in double
+ * precision is written as the smallest positive normal double (2.2E-308, also Excel's smallest
+ * number), never as 0.
+ */
+const P = "[<0.0001]0.00E+00;0.0000";
+const P_FLOOR = 2.2250738585072014e-308;
+const isPColumn = (c: Col) => c.kind === "p" || c.numFmt === P;
 const N = "#,##0";
 const D2 = "0.00";
 const D3 = "0.000";
@@ -22,6 +33,237 @@ export const CAUTIONS = [
   "A correlation in a report is not a cause; grade mix confounds almost everything.",
   "Changing casting speed, brake current, SEN depth or superheat goes through the plant's own change procedure and its licensed metallurgists: such changes can cause breakouts. Defer to local codes and licensed practice.",
 ];
+
+const PHASE_WORDS = { before: "before the baseline", baseline: "baseline", monitoring: "after the baseline" } as const;
+const TEST_WORDS = { fisher: "Fisher's exact test", "chi-square": "chi-square test", none: "no test" } as const;
+
+const referenceMixSheet = (mix: { label: string; slabs: number; share: number }[], by: string): Sheet => ({
+  name: "Reference mix",
+  columns: [
+    { header: by, key: "label", width: 18 },
+    { header: "Slabs", key: "slabs", numFmt: N },
+    { header: "Share of the mix", key: "share", numFmt: PCT },
+  ],
+  rows: mix,
+});
+
+// --- Rate against a variable (adjusted and per stratum), screening (adjusted), the adjusted model ---
+
+const OR = "0.000";
+const yes = (b: boolean | null | undefined) => (b ? "yes" : "");
+
+/** The adjusted and crude odds ratios of rate against a variable, and the per-level rates and odds ratios. */
+function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
+  const u = x.variable.unit;
+  const perUnit = u === "–" ? "per 1" : `per 1 ${u}`;
+  const sheets: Sheet[] = [];
+  const a = x.adjusted;
+  if (a) {
+    const adjustedFor = a.adjustFor.map((t) => t.label.toLowerCase()).join(", ");
+    const se = a.seMethod === "cluster" ? "heat-clustered" : "model-based";
+    const row = (estimate: string, f: NonNullable<RateByVariable["adjusted"]>["crude"], perStep: boolean) => ({
+      estimate,
+      per: perStep ? (u === "–" ? `per ${f.perStep.step}` : `per ${f.perStep.step} ${u}`) : perUnit,
+      oddsRatio: perStep ? f.perStep.oddsRatio : f.oddsRatio,
+      ciLower: perStep ? f.perStep.ciLower : f.oddsRatioCiLower,
+      ciUpper: perStep ? f.perStep.ciUpper : f.oddsRatioCiUpper,
+      slope: f.slope,
+      se: f.se,
+      p: f.p,
+      seMethod: se,
+    });
+    sheets.push({
+      name: "Adjusted",
+      columns: [
+        { header: "Estimate", key: "estimate", width: 44 },
+        { header: "Odds ratio per", key: "per", width: 16 },
+        { header: "Odds ratio", key: "oddsRatio", numFmt: OR },
+        { header: "95 % CI lower", key: "ciLower", numFmt: OR },
+        { header: "95 % CI upper", key: "ciUpper", numFmt: OR },
+        { header: `Slope (log odds ${perUnit})`, key: "slope", numFmt: "0.0000" },
+        { header: "Standard error of the slope", key: "se", numFmt: "0.0000" },
+        { header: "p (Wald, two-sided)", key: "p", numFmt: P },
+        { header: "Standard errors", key: "seMethod", width: 16 },
+      ],
+      rows: [
+        row(`Adjusted for ${adjustedFor}`, a, true),
+        row(`Adjusted for ${adjustedFor}`, a, false),
+        row("Crude (alone, same slabs and SEs)", a.crude, true),
+        row("Crude (alone, same slabs and SEs)", a.crude, false),
+      ],
+    });
+  }
+  const st = x.stratified;
+  if (st) {
+    sheets.push({
+      name: "Rates within levels",
+      columns: [
+        { header: st.by.label, key: "level", width: 18 },
+        { header: `From (${u})`, key: "lower", numFmt: D3 },
+        { header: `To (${u})`, key: "upper", numFmt: D3 },
+        { header: "Slabs", key: "slabs", numFmt: N },
+        { header: "Affected slabs", key: "affected", numFmt: N },
+        { header: "Rate", key: "rate", numFmt: PCT },
+        { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
+        { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
+        { header: "Too few slabs", key: "sparse" },
+      ],
+      rows: st.strata.flatMap((level) => level.bins.map((b) => ({ level: level.label, ...b, sparse: yes(b.sparse) }))),
+    });
+    sheets.push({
+      name: "Odds ratios within levels",
+      columns: [
+        { header: st.by.label, key: "level", width: 18 },
+        { header: "Slabs", key: "slabs", numFmt: N },
+        { header: "Affected slabs", key: "affected", numFmt: N },
+        { header: "Rate", key: "rate", numFmt: PCT },
+        { header: `Odds ratio ${perUnit}`, key: "oddsRatio", numFmt: OR },
+        { header: "95 % CI lower", key: "oddsRatioCiLower", numFmt: OR },
+        { header: "95 % CI upper", key: "oddsRatioCiUpper", numFmt: OR },
+        { header: "Odds ratio per readable step", key: "stepOr", numFmt: OR },
+        { header: "Step", key: "step", numFmt: "General" },
+        { header: "Step 95 % CI lower", key: "stepLower", numFmt: OR },
+        { header: "Step 95 % CI upper", key: "stepUpper", numFmt: OR },
+        { header: "p (Wald, two-sided)", key: "p", numFmt: P },
+        { header: "Why no estimate", key: "reason", width: 50 },
+      ],
+      rows: st.strata.map((level) => ({
+        level: level.label, slabs: level.slabs, affected: level.affected, rate: level.rate,
+        ...level.logistic, stepOr: level.logistic.perStep.oddsRatio, step: level.logistic.perStep.step, stepLower: level.logistic.perStep.ciLower, stepUpper: level.logistic.perStep.ciUpper,
+      })),
+    });
+  }
+  return sheets;
+}
+
+/** Columns added to the screening sheet after the crude ones (which keep their places). */
+const screeningAdjustedColumns: Col[] = [
+  { header: "Unit", key: "unit" },
+  { header: "Listed under", key: "parentLabel", width: 22 },
+  { header: "Derived from", key: "derivedWords", width: 30 },
+  { header: "Testable", key: "testableWords" },
+  { header: "Why not tested", key: "reason", width: 40 },
+  { header: "Counted in BH", key: "counted" },
+  { header: "Interquartile range (unit)", key: "iqr", numFmt: "0.0000" },
+  { header: "Crude odds ratio per IQR", key: "crudeOr", numFmt: OR },
+  { header: "Crude 95 % CI lower", key: "crudeLower", numFmt: OR },
+  { header: "Crude 95 % CI upper", key: "crudeUpper", numFmt: OR },
+  { header: "Crude p (logistic)", key: "crudeP", numFmt: P },
+  { header: "Adjusted odds ratio per IQR", key: "adjOr", numFmt: OR },
+  { header: "Adjusted 95 % CI lower", key: "adjLower", numFmt: OR },
+  { header: "Adjusted 95 % CI upper", key: "adjUpper", numFmt: OR },
+  { header: "Adjusted p", key: "adjP", numFmt: P },
+  { header: "Adjusted p (BH)", key: "adjPAdjusted", numFmt: P },
+  { header: "Adjusted test", key: "adjTest", width: 40 },
+  { header: "Why not adjusted", key: "adjReason", width: 40 },
+];
+
+function screeningAdjustedCells(x: Screening, v: Screening["variables"][number]) {
+  const labelOf = (k: string) => VARIABLES.find((w) => w.key === k)?.label ?? k;
+  return {
+    unit: VARIABLES.find((w) => w.key === v.key)?.unit ?? "",
+    parentLabel: v.parent ? labelOf(v.parent) : "",
+    derivedWords: v.derivedFrom.map(labelOf).join(", "),
+    testableWords: v.testable ? "yes" : "no",
+    counted: yes(v.countedInBh),
+    crudeOr: v.crude?.oddsRatioPerIqr ?? null,
+    crudeLower: v.crude?.ciLower ?? null,
+    crudeUpper: v.crude?.ciUpper ?? null,
+    crudeP: v.crude?.p ?? null,
+    adjOr: v.adjusted?.oddsRatioPerIqr ?? null,
+    adjLower: v.adjusted?.ciLower ?? null,
+    adjUpper: v.adjusted?.ciUpper ?? null,
+    adjP: v.adjusted?.p ?? null,
+    adjPAdjusted: v.adjusted?.pAdjusted ?? null,
+    adjTest: v.adjusted?.test ?? (x.adjustFor.length ? "" : "nothing adjusted for"),
+    adjReason: v.adjusted?.reason ?? "",
+  };
+}
+
+/** The adjusted model: odds ratios crude and adjusted per term, the tests per variable, the levels and the fit. */
+function adjustedSheets(x: Adjusted): Sheet[] {
+  const role = (r: string) => (r === "examined" ? "examined" : "adjusted for");
+  return [
+    {
+      name: "Odds ratios",
+      columns: [
+        { header: "Role", key: "roleWords", width: 13 },
+        { header: "Variable", key: "label", width: 28 },
+        { header: "Unit", key: "unitWords" },
+        { header: "Level", key: "level", width: 16 },
+        { header: "Against (reference)", key: "reference", width: 18 },
+        { header: "Odds ratio per", key: "perWords", width: 22 },
+        { header: "Crude odds ratio", key: "crudeOr", numFmt: OR },
+        { header: "Crude 95 % CI lower", key: "crudeLower", numFmt: OR },
+        { header: "Crude 95 % CI upper", key: "crudeUpper", numFmt: OR },
+        { header: "Crude p", key: "crudeP", numFmt: P },
+        { header: "Adjusted odds ratio", key: "adjOr", numFmt: OR },
+        { header: "Adjusted 95 % CI lower", key: "adjLower", numFmt: OR },
+        { header: "Adjusted 95 % CI upper", key: "adjUpper", numFmt: OR },
+        { header: "Adjusted p", key: "adjP", numFmt: P },
+        { header: "Adjusted coefficient (log odds per unit)", key: "coef", numFmt: "0.000000" },
+        { header: "Its standard error", key: "se", numFmt: "0.000000" },
+        { header: "GVIF", key: "vif", numFmt: D2 },
+        { header: "Crude vs adjusted (relative change)", key: "change", numFmt: PCT },
+        { header: "In words", key: "words", width: 80 },
+      ],
+      rows: x.terms.map((t) => ({
+        roleWords: role(t.role), label: t.label, unitWords: t.unit ?? "", level: t.level ?? "", reference: t.reference ?? "", perWords: t.perWords,
+        crudeOr: t.crude.oddsRatio, crudeLower: t.crude.ciLower, crudeUpper: t.crude.ciUpper, crudeP: t.crude.p,
+        adjOr: t.adjusted.oddsRatio, adjLower: t.adjusted.ciLower, adjUpper: t.adjusted.ciUpper, adjP: t.adjusted.p, coef: t.adjusted.coef, se: t.adjusted.se,
+        vif: t.vif, change: t.changeInEstimate.relativeChange, words: t.changeInEstimate.sentence ?? t.reason ?? "",
+      })),
+    },
+    {
+      name: "Tests",
+      columns: [
+        { header: "Variable", key: "label", width: 28 },
+        { header: "Role", key: "roleWords", width: 13 },
+        { header: "df", key: "df", numFmt: "0" },
+        { header: "Test", key: "test", width: 22 },
+        { header: "Likelihood-ratio chi-square", key: "lrChi2", numFmt: "0.000" },
+        { header: "Wald chi-square", key: "waldChi2", numFmt: "0.000" },
+        { header: "p", key: "p", numFmt: P },
+        { header: "GVIF", key: "gvif", numFmt: D2 },
+        { header: "GVIF^(1/(2·df))", key: "gvifPerDf", numFmt: D2 },
+        { header: "Collinearity", key: "collinearity" },
+        { header: "Note", key: "reason", width: 60 },
+      ],
+      rows: x.variables.map((v) => ({ ...v, roleWords: role(v.role), collinearity: v.collinearity ?? "" })),
+    },
+    {
+      name: "Levels",
+      columns: [
+        { header: "Variable", key: "label", width: 28 },
+        { header: "Level", key: "level", width: 18 },
+        { header: "Reference", key: "ref" },
+        { header: "Slabs", key: "slabs", numFmt: N },
+        { header: "Affected slabs", key: "affected", numFmt: N },
+      ],
+      rows: x.variables.flatMap((v) => (v.levels ?? []).map((l) => ({ label: v.label, level: l.level, ref: yes(l.reference), slabs: l.slabs, affected: l.affected }))),
+    },
+    {
+      name: "Model",
+      columns: [
+        { header: "Item", key: "item", width: 44 },
+        { header: "Value", key: "value", numFmt: "#,##0.###" },
+      ],
+      rows: [
+        { item: "Slabs in the model", value: x.slabs },
+        { item: "Affected slabs", value: x.affected },
+        { item: "Heats", value: x.heats },
+        { item: "Slabs in the filters", value: x.slabsInFilters },
+        { item: "Slabs left out (a value missing)", value: x.slabsLeftOut },
+        { item: "Coefficients (with the intercept)", value: x.model.parameters },
+        { item: "Deviance", value: x.model.deviance },
+        { item: "Null deviance", value: x.model.nullDeviance },
+        { item: "AIC", value: x.model.aic },
+        { item: "Newton iterations", value: x.model.iterations },
+        { item: x.seMethod === "cluster" ? "Standard errors: heat-clustered (CR1)" : "Standard errors: model-based", value: null },
+      ],
+    },
+  ];
+}
 
 function tablesFor(kind: string, r: unknown): Sheet[] {
   switch (kind) {
@@ -48,6 +290,8 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: "Test", key: "test", width: 34 },
             { header: "Statistic", key: "statistic", numFmt: "0.0000" },
             { header: "p (two-sided)", key: "p", numFmt: P },
+            { header: "95 % CI lower", key: "ciLower", numFmt: "0.0000" },
+            { header: "95 % CI upper", key: "ciUpper", numFmt: "0.0000" },
             { header: "Method", key: "method", width: 90 },
           ],
           rows: [
@@ -55,7 +299,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { test: "Point-biserial r", statistic: x.pointBiserial.r, p: x.pointBiserial.p, method: x.methods.pointBiserial },
             { test: `Logistic slope (per ${u})`, statistic: x.logistic.slope, p: x.logistic.p, method: x.methods.logistic },
             { test: "Logistic intercept", statistic: x.logistic.intercept, p: null, method: "" },
-            { test: `Odds ratio per ${u}`, statistic: x.logistic.oddsRatio, p: null, method: `95 % CI ${x.logistic.oddsRatioCiLower} – ${x.logistic.oddsRatioCiUpper}` },
+            { test: `Odds ratio per ${u}`, statistic: x.logistic.oddsRatio, p: null, ciLower: x.logistic.oddsRatioCiLower, ciUpper: x.logistic.oddsRatioCiUpper, method: "Wald 95 % interval" },
             { test: "Mann–Whitney U", statistic: x.mannWhitney.u, p: x.mannWhitney.p, method: x.methods.mannWhitney },
           ],
         },
@@ -76,6 +320,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { group: "sound", ...x.distribution.sound },
           ],
         },
+        ...rateByVariableAdjustedSheets(x),
       ];
     }
     case "screening": {
@@ -90,34 +335,92 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: "n (slabs)", key: "n", numFmt: N },
             { header: "Statistic", key: "statistic", numFmt: "0.000" },
             { header: "df", key: "df", numFmt: "0.0" },
-            { header: "p", key: "p", numFmt: "0.00E+00" },
-            { header: "p adjusted (BH)", key: "pAdjusted", numFmt: "0.00E+00" },
+            { header: "p", key: "p", numFmt: P },
+            { header: "p adjusted (BH)", key: "pAdjusted", numFmt: P },
             { header: "Mean affected", key: "meanAffected", numFmt: "0.000" },
             { header: "Mean sound", key: "meanSound", numFmt: "0.000" },
             { header: "Few slabs", key: "fewSlabs" },
             { header: "Method", key: "method", width: 60 },
+            ...screeningAdjustedColumns,
           ],
-          rows: x.variables.map((v) => ({ ...v, fewSlabs: v.fewSlabs ? "yes" : "" })),
+          rows: x.variables.map((v) => ({ ...v, fewSlabs: v.fewSlabs ? "yes" : "", ...screeningAdjustedCells(x, v) })),
         },
       ];
     }
+    case "adjusted":
+      return adjustedSheets(r as Adjusted);
     case "control-chart": {
       const x = r as ControlChart;
-      return [
+      const u = x.chart === "u";
+      const std = x.points.some((p) => p.standardised);
+      const sheets: Sheet[] = [
         {
-          name: "p-chart",
+          name: u ? "u-chart" : x.chart === "laney" ? "Laney p′ chart" : "p-chart",
           columns: [
-            { header: x.period === "day" ? "Day" : "Week", key: "period" },
+            { header: x.period === "day" ? "Day" : "ISO week", key: "period" },
             { header: "Slabs", key: "slabs", numFmt: N },
             { header: "Affected slabs", key: "affected", numFmt: N },
-            { header: "p", key: "p", numFmt: PCT },
-            { header: "UCL", key: "ucl", numFmt: PCT },
-            { header: "LCL", key: "lcl", numFmt: PCT },
+            { header: "p (share affected)", key: "p", numFmt: PCT },
+            { header: u ? "UCL (defects per slab)" : "UCL", key: "ucl", numFmt: u ? D3 : PCT },
+            { header: u ? "LCL (defects per slab)" : "LCL", key: "lcl", numFmt: u ? D3 : PCT },
             { header: "Out of control", key: "out" },
+            { header: "Phase", key: "phase" },
+            { header: "Defects", key: "defects", numFmt: N },
+            ...(u ? [{ header: "Defects per slab", key: "value", numFmt: D3 }] : []),
+            { header: u ? "Centre line ū" : "Centre line p̄", key: "centre", numFmt: u ? D3 : PCT },
+            { header: "z (σ from the centre)", key: "z", numFmt: D2 },
+            { header: "Run rules signalled", key: "signals", width: 20 },
+            ...(std
+              ? [
+                  { header: "Standardised rate", key: "stdRate", numFmt: PCT },
+                  { header: "Standardised 95 % CI lower", key: "stdLower", numFmt: PCT },
+                  { header: "Standardised 95 % CI upper", key: "stdUpper", numFmt: PCT },
+                  { header: "Why no standardised rate", key: "stdReason", width: 50 },
+                ]
+              : []),
           ],
-          rows: x.points.map((p) => ({ ...p, out: p.outOfControl ? "yes" : "" })),
+          rows: x.points.map((p) => ({
+            ...p,
+            out: p.outOfControl ? "yes" : "",
+            phase: PHASE_WORDS[p.phase],
+            signals: p.signals.join(", "),
+            stdRate: p.standardised?.rate,
+            stdLower: p.standardised?.ciLower,
+            stdUpper: p.standardised?.ciUpper,
+            stdReason: p.standardised?.reason,
+          })),
+        },
+        {
+          name: "Limits",
+          columns: [
+            { header: "Item", key: "item", width: 44 },
+            { header: "Value", key: "value", numFmt: "0.0000" },
+            { header: "Note", key: "note", width: 90 },
+          ],
+          rows: [
+            { item: u ? "Centre line ū (defects per slab)" : "Centre line p̄ (share affected)", value: x.centre, note: x.baseline ? "from the baseline" : "from every period shown" },
+            ...(x.baseline
+              ? [
+                  { item: "Baseline from", value: null, note: x.baseline.from },
+                  { item: "Baseline to", value: null, note: x.baseline.to },
+                  { item: "Baseline periods", value: x.baseline.periods, note: `${x.baseline.firstPeriod ?? ""} – ${x.baseline.lastPeriod ?? ""}` },
+                  { item: "Baseline slabs", value: x.baseline.slabs, note: "" },
+                ]
+              : []),
+            ...(x.overdispersion
+              ? [
+                  { item: "Laney σ_z", value: x.overdispersion.sigmaZ, note: x.overdispersion.note },
+                  { item: "Chi-square, one share for every period", value: x.overdispersion.chi2, note: `df ${x.overdispersion.df ?? "—"}` },
+                  { item: "p (chi-square)", value: x.overdispersion.p, note: "" },
+                  { item: "Laney p′ chart applies", value: null, note: x.overdispersion.applies ? "yes" : "no" },
+                ]
+              : []),
+            ...Object.entries(x.rules.on ? x.rules.legend : {}).map(([k, v]) => ({ item: `Run rule ${k}`, value: null, note: v })),
+          ],
         },
       ];
+      if (x.standardisation) sheets.push(referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label));
+      return sheets;
     }
     case "overview": {
       const x = r as Overview;
@@ -138,8 +441,16 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: "Tonnes (t)", key: "tonnes", numFmt: "#,##0.0" },
             { header: "Defects per 100 slabs", key: "per100Slabs", numFmt: D2 },
             { header: "Defects per 1000 t", key: "per1000t", numFmt: D2 },
+            ...(x.standardisation
+              ? [
+                  { header: "Standardised rate", key: "stdRate", numFmt: PCT },
+                  { header: "Standardised 95 % CI lower", key: "stdLower", numFmt: PCT },
+                  { header: "Standardised 95 % CI upper", key: "stdUpper", numFmt: PCT },
+                  { header: "Why no standardised rate", key: "stdReason", width: 50 },
+                ]
+              : []),
           ],
-          rows: x.periods,
+          rows: x.periods.map((p) => ({ ...p, stdRate: p.standardised?.rate, stdLower: p.standardised?.ciLower, stdUpper: p.standardised?.ciUpper, stdReason: p.standardised?.reason })),
         },
         {
           name: "Pareto",
@@ -155,6 +466,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
         },
         { name: "By grade", columns: [{ header: "Grade", key: "grade" }, { header: "Family", key: "family" }, ...rate], rows: x.byGrade },
         { name: "By strand", columns: [{ header: "Caster", key: "caster" }, { header: "Strand", key: "strand" }, ...rate], rows: x.byStrand },
+        ...(x.standardisation ? [referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label)] : []),
       ];
     }
     case "process-window": {
@@ -180,7 +492,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
     }
     case "before-after": {
       const x = r as BeforeAfter;
-      return [
+      const sheets: Sheet[] = [
         {
           name: "Before and after",
           columns: [
@@ -206,10 +518,66 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: "Test", key: "test" },
             { header: "p (two-sided)", key: "p", numFmt: P },
             { header: "Method", key: "method", width: 80 },
+            { header: "Why no p", key: "reason", width: 50 },
           ],
-          rows: [{ ...x.difference, test: x.test.name, p: x.test.p, method: `${x.difference.method}; ${x.test.method}` }],
+          rows: [{ ...x.difference, test: TEST_WORDS[x.test.name], p: x.test.p, method: `${x.difference.method}; ${x.test.method}`, reason: x.test.reason }],
         },
       ];
+      const st = x.stratified;
+      if (st) {
+        const by = st.by.label;
+        sheets.push(
+          {
+            name: `Within ${by.toLowerCase()}`,
+            columns: [
+              { header: by, key: "label", width: 18 },
+              { header: "A slabs", key: "aSlabs", numFmt: N },
+              { header: "A affected", key: "aAffected", numFmt: N },
+              { header: "A rate", key: "aRate", numFmt: PCT },
+              { header: "B slabs", key: "bSlabs", numFmt: N },
+              { header: "B affected", key: "bAffected", numFmt: N },
+              { header: "B rate", key: "bRate", numFmt: PCT },
+              { header: "B − A", key: "diff", numFmt: PCT },
+              { header: "B − A 95 % CI lower", key: "diffLower", numFmt: PCT },
+              { header: "B − A 95 % CI upper", key: "diffUpper", numFmt: PCT },
+              { header: "Odds ratio B against A", key: "oddsRatio", numFmt: D3 },
+              { header: "Odds ratio 95 % CI lower", key: "ciLower", numFmt: D3 },
+              { header: "Odds ratio 95 % CI upper", key: "ciUpper", numFmt: D3 },
+              { header: "Note", key: "reason", width: 50 },
+            ],
+            rows: st.strata.map((t) => ({
+              label: t.label, aSlabs: t.a.slabs, aAffected: t.a.affected, aRate: t.a.rate, bSlabs: t.b.slabs, bAffected: t.b.affected, bRate: t.b.rate,
+              diff: t.difference.value, diffLower: t.difference.lower, diffUpper: t.difference.upper, oddsRatio: t.oddsRatio, ciLower: t.ciLower, ciUpper: t.ciUpper, reason: t.reason,
+            })),
+          },
+          {
+            name: "Pooled over strata",
+            columns: [
+              { header: "Statistic", key: "item", width: 44 },
+              { header: "Value", key: "value", numFmt: "0.0000" },
+              { header: "95 % CI lower", key: "lower", numFmt: "0.0000" },
+              { header: "95 % CI upper", key: "upper", numFmt: "0.0000" },
+              { header: "Chi-square", key: "chi2", numFmt: "0.000" },
+              { header: "df", key: "df", numFmt: "0" },
+              { header: "p", key: "p", numFmt: P },
+              { header: "Note", key: "note", width: 70 },
+            ],
+            rows: [
+              { item: "Crude odds ratio B against A (strata ignored)", value: st.crude.oddsRatio, lower: st.crude.ciLower, upper: st.crude.ciUpper },
+              {
+                item: `Mantel–Haenszel odds ratio B against A, within ${by.toLowerCase()}`, value: st.mantelHaenszel.oddsRatio, lower: st.mantelHaenszel.ciLower, upper: st.mantelHaenszel.ciUpper,
+                chi2: st.mantelHaenszel.chi2, df: 1, p: st.mantelHaenszel.p, note: st.mantelHaenszel.reason ?? "Cochran–Mantel–Haenszel test",
+              },
+              { item: "Breslow–Day test of one odds ratio in every stratum", chi2: st.breslowDay.chi2, df: st.breslowDay.df, p: st.breslowDay.p, note: st.breslowDay.reason ?? (st.breslowDay.tarone ? "with Tarone's correction" : "") },
+              { item: "Standardised rate A", value: st.standardised.rateA, note: st.standardised.reason ?? "" },
+              { item: "Standardised rate B", value: st.standardised.rateB },
+              { item: "Standardised rate B − A", value: st.standardised.difference, lower: st.standardised.ciLower, upper: st.standardised.ciUpper, note: `reference mix: ${st.standardised.reference}` },
+            ],
+          },
+          referenceMixSheet(st.standardised.referenceMix, by),
+        );
+      }
+      return sheets;
     }
     case "slab-positions": {
       const x = r as SlabPositions;
@@ -258,6 +626,168 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
   }
 }
 
+/** Report kinds in the screens' words. */
+export const REPORT_TITLES: Record<string, string> = {
+  overview: "Overview",
+  "rate-by-variable": "Rate against a variable",
+  screening: "Screening",
+  "process-window": "Process window",
+  "control-chart": "Control chart",
+  "before-after": "Before and after",
+  "slab-positions": "Where on the slab",
+  "cause-pareto": "Cause Pareto",
+  adjusted: "Adjusted model",
+};
+
+/**
+ * Query keys in the screens' words, for the Parameters sheet of every workbook (a key of one report
+ * only may be named under that report in PARAMETER_LABELS_BY_REPORT). A key named nowhere is shown
+ * split into words, never as the bare key; add new keys here.
+ */
+export const PARAMETER_LABELS: Record<string, string> = {
+  from: "Cast from",
+  to: "Cast to (whole day)",
+  caster: "Caster",
+  strand: "Strand",
+  grade: "Grade",
+  family: "Grade family",
+  defectType: "Defect type",
+  category: "Defect category",
+  stage: "Found at",
+  minSeverity: "Severity at least",
+  cause: "Cause tag",
+  transition: "Transition slabs",
+  period: "Period",
+  variable: "Variable",
+  bins: "Bins",
+  binning: "Binning",
+  minN: "Fewest slabs",
+  x: "Across (x)",
+  y: "Up (y)",
+  xBins: "Bins across",
+  yBins: "Bins up",
+  mode: "Compare",
+  aFrom: "A (before) from",
+  aTo: "A to (whole day)",
+  bFrom: "B (after) from",
+  bTo: "B to (whole day)",
+  stratifyBy: "Compare within",
+  standardise: "Standardised to",
+  chart: "Chart",
+  baselineFrom: "Baseline from",
+  baselineTo: "Baseline to (whole day)",
+  rules: "Western Electric run rules",
+  alongBins: "Bands along the length",
+  acrossBins: "Bands across the face",
+  minConfidence: "Count taggings",
+  variables: "Conditions examined",
+  adjustFor: "Adjusted for",
+  se: "Standard errors",
+  per: "Odds ratios per",
+  rankBy: "Ranked by",
+};
+export const PARAMETER_LABELS_BY_REPORT: Record<string, Record<string, string>> = {
+  overview: { period: "Rates by" },
+  "control-chart": { period: "One point per" },
+  "rate-by-variable": { minN: "Least slabs in a bin" },
+  "process-window": { minN: "Grey cells below (slabs)" },
+};
+
+/** Values of closed vocabularies in words; variable and categorical keys become their labels (with units). */
+const PARAMETER_VALUES: Record<string, Record<string, string>> = {
+  stage: STAGE_LABELS,
+  minSeverity: Object.fromEntries(Object.entries(SEVERITY_LABELS).map(([k, v]) => [k, `${k} — ${v}`])),
+  transition: { yes: "Only transition slabs", no: "Left out" },
+  period: { day: "Day", week: "ISO week", month: "Month" },
+  binning: { equal: "Equal-width", quantile: "Quantile" },
+  mode: { periods: "Two periods", variable: "Two ranges of a variable" },
+  chart: { p: "p-chart (share of slabs affected)", laney: "Laney p′ chart", u: "u-chart (defects per slab)" },
+  rules: { on: "on", off: "off" },
+  standardise: { grade_family: "the grade-family mix of every slab in the filters" },
+  minConfidence: { suspected: "every tagging", probable: "probable or confirmed", confirmed: "confirmed only" },
+  se: { cluster: "clustered by heat (cluster-robust)", model: "model-based" },
+  per: { step: "a readable step of each condition", unit: "one unit of each condition" },
+  adjustFor: { none: "nothing" },
+  rankBy: { adjusted: "the adjusted tests (BH-adjusted p)", crude: "the crude tests (BH-adjusted p)" },
+};
+
+const variableWords = (k: string) => {
+  const v = VARIABLES.find((x) => x.key === k);
+  if (v) return v.unit && v.unit !== "–" ? `${v.label} (${v.unit})` : v.label;
+  return CATEGORICAL_LABELS[k as CategoricalKey] ?? null;
+};
+
+/** The Parameters sheet's rows for a report's query string: labels and values in the screen's words. */
+export function parameterRows(kind: string, query: string): { k: string; v: string }[] {
+  const search = new URLSearchParams(query);
+  const unit = variableWords(search.get("variable") ?? "")?.match(/\(([^)]*)\)$/)?.[1];
+  const rangeLabels: Record<string, string> = { aMin: "A from", aMax: "A to", bMin: "B from", bMax: "B to" };
+  const out: { k: string; v: string }[] = [];
+  for (const [key, raw] of search) {
+    const label =
+      PARAMETER_LABELS_BY_REPORT[kind]?.[key] ??
+      PARAMETER_LABELS[key] ??
+      (rangeLabels[key] ? `${rangeLabels[key]}${unit ? ` (${unit})` : ""}` : key.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/_/g, " ").replace(/^./, (c) => c.toUpperCase()));
+    const words = PARAMETER_VALUES[key];
+    const value = raw
+      .split(",")
+      .map((item) => item.trim())
+      .filter((item) => item !== "")
+      .map((item) => words?.[item] ?? variableWords(item) ?? item)
+      .join(", ");
+    out.push({ k: label, v: value || (key === "adjustFor" ? "nothing" : raw) });
+  }
+  return out;
+}
+
+/** Keys of a report's `methods` in words (the route passes them as "key: text"). */
+export const METHOD_LABELS: Record<string, string> = {
+  bins: "Bins",
+  spearman: "Spearman ρ",
+  pointBiserial: "Point-biserial r",
+  logistic: "Logistic regression",
+  mannWhitney: "Mann–Whitney U",
+  grouping: "Grouping of values",
+  adjusted: "Adjusted model",
+  crude: "Crude model",
+  stratified: "Within strata",
+};
+const methodInWords = (line: string) =>
+  line.replace(/^([A-Za-z_]+): /, (_, key: string) => `${METHOD_LABELS[key] ?? key.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/_/g, " ").replace(/^./, (c) => c.toUpperCase())}: `);
+
+/** Method texts and notes of a report's answer, for the Parameters sheet (besides the `methods` the route passes). */
+function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
+  const rows: { k: string; v: string }[] = [];
+  const notes = (list: string[] | undefined) => (list ?? []).forEach((v) => rows.push({ k: "Note", v }));
+  if (kind === "control-chart") {
+    const x = r as ControlChart;
+    if (x.method) rows.push({ k: "Method", v: x.method });
+    if (x.rules.on) rows.push({ k: "Method", v: x.rules.method });
+    if (x.overdispersion) rows.push({ k: "Overdispersion", v: x.overdispersion.note });
+    if (x.standardisation) rows.push({ k: "Method", v: x.standardisation.method });
+    notes(x.notes);
+  } else if (kind === "overview") {
+    const x = r as Overview;
+    if (x.standardisation) rows.push({ k: "Method", v: x.standardisation.method });
+    notes(x.notes);
+  } else if (kind === "before-after") {
+    const x = r as BeforeAfter;
+    if (x.stratified) {
+      for (const m of Object.values(x.stratified.methods)) rows.push({ k: "Method", v: m });
+      if (x.stratified.changeInEstimate.sentence) rows.push({ k: "Finding", v: x.stratified.changeInEstimate.sentence });
+      notes(x.stratified.notes);
+    }
+    notes(x.notes);
+  } else if (kind === "process-window") {
+    notes((r as ProcessWindow).notes);
+  } else {
+    // Any other report's notes (rate against a variable, screening, the adjusted model …).
+    const list = (r as { notes?: unknown }).notes;
+    if (Array.isArray(list)) notes(list.filter((n): n is string => typeof n === "string"));
+  }
+  return rows;
+}
+
 export async function reportWorkbook(kind: string, query: string, result: unknown, by: string, method: string[] = []): Promise<Buffer> {
   const wb = new ExcelJS.Workbook();
   wb.creator = "Strandsight";
@@ -268,22 +798,40 @@ export async function reportWorkbook(kind: string, query: string, result: unknow
     { header: "Value", key: "v", width: 100 },
   ];
   params.getRow(1).font = { bold: true };
-  params.addRow({ k: "Report", v: kind });
+  params.addRow({ k: "Report", v: REPORT_TITLES[kind] ?? kind });
   params.addRow({ k: "Generated", v: new Date().toISOString() });
   params.addRow({ k: "By", v: by });
-  const search = new URLSearchParams(query);
-  if ([...search.keys()].length === 0) params.addRow({ k: "Filters", v: "none (all slabs on record)" });
-  for (const [k, v] of search) params.addRow({ k, v });
-  for (const m of method) params.addRow({ k: "Method", v: m });
+  const given = parameterRows(kind, query);
+  if (given.length === 0) params.addRow({ k: "Filters", v: "none (all slabs on record)" });
+  for (const row of given) params.addRow(row);
+  for (const m of method) params.addRow({ k: "Method", v: methodInWords(m) });
+  for (const row of explanationsOf(kind, result)) params.addRow(row);
   for (const c of CAUTIONS) params.addRow({ k: "Caution", v: c });
   params.views = [{ state: "frozen", ySplit: 1 }];
 
+  let floored = 0;
   for (const t of tablesFor(kind, result)) {
     const ws = wb.addWorksheet(t.name.slice(0, 31), { views: [{ state: "frozen", ySplit: 1 }] });
     ws.columns = t.columns.map((c) => ({ header: c.header, key: c.key, width: c.width ?? Math.max(12, c.header.length + 2), style: c.numFmt ? { numFmt: c.numFmt } : {} }));
     ws.getRow(1).font = { bold: true };
-    for (const row of t.rows) ws.addRow(Object.fromEntries(t.columns.map((c) => [c.key, (row as Record<string, unknown>)[c.key] ?? null])));
+    for (const row of t.rows) {
+      ws.addRow(
+        Object.fromEntries(
+          t.columns.map((c) => {
+            const v = (row as Record<string, unknown>)[c.key] ?? null;
+            if (v === 0 && isPColumn(c)) {
+              floored++;
+              return [c.key, P_FLOOR];
+            }
+            return [c.key, v];
+          }),
+        ),
+      );
+    }
     ws.autoFilter = { from: { row: 1, column: 1 }, to: { row: 1, column: t.columns.length } };
+  }
+  if (floored > 0) {
+    params.addRow({ k: "Reading", v: "A p-value written as 2.23E-308 is smaller than the smallest number a double (and a spreadsheet) holds: the computation underflowed. The screen shows it as < 10⁻¹⁵." });
   }
   // Filter values and names typed by users stay text, never formulas (OWASP, CSV injection).
   wb.eachSheet((ws) => void guardSheet(ws));

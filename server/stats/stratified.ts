@@ -169,7 +169,7 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
   const used = strata.filter((s) => !uninformative(s));
   const notes: string[] = [];
   const skipped = strata.length - used.length;
-  if (skipped > 0) notes.push(`${skipped} stratum${skipped === 1 ? "" : "s"} without both groups or both outcomes add nothing to the pooled estimate.`);
+  if (skipped > 0) notes.push(`${skipped} ${skipped === 1 ? "stratum" : "strata"} without both groups or both outcomes ${skipped === 1 ? "adds" : "add"} nothing to the pooled estimate.`);
   let R = 0;
   let S = 0;
   let PR = 0;
@@ -231,7 +231,7 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
   const se = Math.sqrt(variance);
   const z = zOf(confidence);
   const bd = breslowDay(strata, or, tarone);
-  if (bd.smallExpected > 0) notes.push(`${bd.smallExpected} stratum${bd.smallExpected === 1 ? " has" : "s have"} an expected cell below 5: the Breslow–Day test is then approximate.`);
+  if (bd.smallExpected > 0) notes.push(`${bd.smallExpected} ${bd.smallExpected === 1 ? "stratum has" : "strata have"} an expected cell below 5: the Breslow–Day test is then approximate.`);
   if (used.length === 1) notes.push("Only one stratum carries information: the Mantel–Haenszel estimate is that stratum's odds ratio.");
   return {
     strata: per,

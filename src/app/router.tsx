@@ -49,6 +49,7 @@ export function createRouter(qc: QueryClient) {
         { path: "reports/before-after", lazy: lazyRoute(qc, () => import("./routes/report-before-after")) },
         { path: "reports/slab-positions", lazy: lazyRoute(qc, () => import("./routes/report-slab-positions")) },
         { path: "reports/cause-pareto", lazy: lazyRoute(qc, () => import("./routes/report-cause-pareto")) },
+        { path: "reports/adjusted", lazy: lazyRoute(qc, () => import("./routes/report-adjusted")) },
         { path: "causes", lazy: lazyRoute(qc, () => import("./routes/causes")) },
         { path: "investigations", lazy: lazyRoute(qc, () => import("./routes/investigations")) },
         { path: "investigations/new", lazy: lazyRoute(qc, () => import("./routes/investigation-new")) },

@@ -97,7 +97,7 @@ describe("reports in the browser", () => {
     expect(sheetBins).toEqual(report.bins);
     expect(screenBins(sheetBins as RateByVariable["bins"])).toEqual(await readRows(page, "[data-testid=bin-row]"));
     const params = Object.fromEntries(wb.getWorksheet("Parameters")!.getSheetValues().slice(2).map((r) => [(r as unknown[])[1], (r as unknown[])[2]]));
-    expect(params).toMatchObject({ defectType: "SLG", variable: "casting_speed_m_min", bins: "8" });
+    expect(params).toMatchObject({ "Defect type": "SLG", Variable: "Casting speed (m/min)", Bins: "8" });
     await page.getByText(/^Saved as strandsight-rate-by-variable-.*\.xlsx/).waitFor();
 
     // Save the report; the reports home lists it, and its link opens the same question.

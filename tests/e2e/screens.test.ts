@@ -30,6 +30,7 @@ const SCREENS: { role: string; name: string; path: () => string }[] = [
   { role: "quality", name: "report-overview", path: () => "/reports/overview?period=month" },
   { role: "quality", name: "report-rate-by-variable", path: () => "/reports/rate-by-variable?defectType=SLG" },
   { role: "quality", name: "report-screening", path: () => "/reports/screening?defectType=LFC" },
+  { role: "quality", name: "report-adjusted", path: () => "/reports/adjusted?defectType=SLG&variables=casting_speed_m_min,superheat_c&adjustFor=grade_family,strand" },
   { role: "quality", name: "report-process-window", path: () => "/reports/process-window?defectType=SLG" },
   { role: "quality", name: "report-control-chart", path: () => "/reports/control-chart?period=week" },
   { role: "quality", name: "report-before-after", path: () => "/reports/before-after?defectType=SLG" },

@@ -28,6 +28,12 @@ export interface TestAppOptions {
   production?: boolean;
   /** Start the local fake SMTP server (on a free port) and point the mail queue at it. */
   fakeSmtp?: boolean;
+  /**
+   * Writes a plant of the test's own making after the seed and before the app is built (so no
+   * report cache has seen the database yet), e.g. `(db) => buildConfoundedPlant(db)` with
+   * `production: false`.
+   */
+  beforeStart?: (db: Db) => void;
 }
 
 /**
@@ -62,6 +68,7 @@ export async function createTestApp(opts: TestAppOptions = {}) {
     sendResetPassword: async ({ user: u, url }) => void notify.resetLink(u, url),
   });
   const seed = await seedDemo(db, auth, { password: TEST_PASSWORD, scale: opts.scale ?? 0.02, uploadDir: env.UPLOAD_DIR, production: opts.production });
+  opts.beforeStart?.(db);
   const app = createApp({ db, auth, env, logger, serveClient: true, mailer, notify });
 
   /** A supertest agent that keeps the cookie of the given demo user. */

@@ -44,3 +44,19 @@ export const heatFileRow = (prefix: string, i: number): Row => ({
   p_pct: 0.015,
   s_pct: 0.008,
 });
+
+/** supertest parser that keeps a binary answer (an .xlsx, a photo) as one Buffer. */
+export function binaryBody(res: NodeJS.ReadableStream, cb: (err: Error | null, body: Buffer) => void) {
+  const chunks: Buffer[] = [];
+  res.on("data", (c: Buffer) => chunks.push(c));
+  res.on("end", () => cb(null, Buffer.concat(chunks)));
+}
+
+/** GET an .xlsx through a supertest agent, expect 200, and open it with exceljs. */
+export async function downloadWorkbook(agent: { get(path: string): import("supertest").Test }, path: string): Promise<ExcelJS.Workbook> {
+  const res = await agent.get(path).buffer(true).parse(binaryBody as never);
+  if (res.status !== 200) throw new Error(`GET ${path} answered ${res.status}: ${JSON.stringify(res.body).slice(0, 300)}`);
+  const wb = new ExcelJS.Workbook();
+  await wb.xlsx.load(res.body as never);
+  return wb;
+}

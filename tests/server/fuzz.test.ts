@@ -601,6 +601,7 @@ beforeAll(async () => {
     "before-after": "mode=periods&aFrom=2026-04-01&aTo=2026-06-30&bFrom=2026-07-01&bTo=2026-11-30",
     "slab-positions": "defectType=LFC",
     "cause-pareto": "minConfidence=probable",
+    adjusted: "defectType=SLG&variables=casting_speed_m_min,mold_level_sd_mm&adjustFor=grade_family",
   };
   const settings = {
     liquidus: { baseC: 1536, perPct: { c: 78, si: 7.6, mn: 4.9, p: 34.4, s: 38 }, source: "fuzz" },

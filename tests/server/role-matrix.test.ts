@@ -198,6 +198,7 @@ const REPORT_QUERIES: Record<string, string> = {
   "before-after": "mode=periods&aFrom=2026-04-01&aTo=2026-06-30&bFrom=2026-07-01&bTo=2026-11-30",
   "slab-positions": "defectType=LFC",
   "cause-pareto": "minConfidence=probable",
+  adjusted: "defectType=SLG&variables=casting_speed_m_min,mold_level_sd_mm&adjustFor=grade_family",
 };
 for (const [kind, qs] of Object.entries(REPORT_QUERIES)) {
   matrix[`GET /reports/${kind}`] = { allowed: READERS, sample: () => ({ path: `/api/reports/${kind}?${qs}` }) };

@@ -1,65 +1,215 @@
-/** Two periods, or two ranges of one condition, compared. */
+/** Two periods, or two ranges of one condition, compared; optionally within the levels of a categorical key. */
 import type { z } from "zod";
 import type { BeforeAfter, beforeAfterQuerySchema } from "@shared/api/reports";
 import type { Db } from "../../db/client";
 import { parseDateBound } from "../../lib/dates";
 import { badRequest } from "../../lib/http-error";
 import { chiSquareIndependence, fisherExact2x2 } from "../../stats/contingency";
+import { changeInEstimate } from "../../stats/logistic-multi";
 import { differenceOfProportions } from "../../stats/proportions";
+import { differenceOfStandardisedRates, type RateStratum } from "../../stats/standardise";
+import { mantelHaenszel, stratumOddsRatio, type Stratum2x2 } from "../../stats/stratified";
 import { buildScope, finite, proportion, scan, variableSpec, type Scanned } from "./scope";
+import { countByLevel, naturalOrder, stratifier } from "./strata";
 
-export function beforeAfter(db: Db, q: z.output<typeof beforeAfterQuerySchema>): BeforeAfter {
-  const countIn = (sc: Scanned, keep?: (i: number) => boolean) => {
-    let n = 0;
-    let x = 0;
-    for (const i of sc.rows) {
-      if (keep && !keep(i)) continue;
-      n++;
-      x += sc.affected[i]!;
-    }
-    return { n, x };
-  };
-  let a: { n: number; x: number };
-  let b: { n: number; x: number };
-  let labels: [string, string];
+type Query = z.output<typeof beforeAfterQuerySchema>;
+type Stratified = NonNullable<BeforeAfter["stratified"]>;
+
+const day = (ms: number) => new Date(ms).toISOString().slice(0, 10);
+
+/** The two groups as row filters over one scan, with their labels; refuses reversed or overlapping groups. */
+function groupsOf(db: Db, q: Query): { sc: Scanned; inA: (i: number) => boolean; inB: (i: number) => boolean; labels: [string, string] } {
   if (q.mode === "periods") {
     const need = (v: string | undefined, f: string) => {
       if (!v) throw badRequest(`Give ${f} (YYYY-MM-DD) for the period comparison.`, { field: f });
       return v;
     };
-    const scope = buildScope(db, q, { skipDates: true });
     const aFrom = parseDateBound(need(q.aFrom, "aFrom"), false, "aFrom")!;
     const aTo = parseDateBound(need(q.aTo, "aTo"), true, "aTo")!;
     const bFrom = parseDateBound(need(q.bFrom, "bFrom"), false, "bFrom")!;
     const bTo = parseDateBound(need(q.bTo, "bTo"), true, "bTo")!;
-    a = countIn(scan(db, scope, { from: aFrom, to: aTo }));
-    b = countIn(scan(db, scope, { from: bFrom, to: bTo }));
-    labels = [`${q.aFrom} – ${q.aTo}`, `${q.bFrom} – ${q.bTo}`];
-  } else {
-    if (!q.variable) throw badRequest("Give the variable whose two ranges are compared.", { field: "variable" });
-    for (const f of ["aMin", "aMax", "bMin", "bMax"] as const) if (q[f] === undefined) throw badRequest(`Give ${f} for the range comparison.`, { field: f });
-    const sc = scan(db, buildScope(db, q));
-    const col = sc.facts.vars[variableSpec(q.variable).key]!;
-    a = countIn(sc, (i) => col[i]! >= q.aMin! && col[i]! <= q.aMax!);
-    b = countIn(sc, (i) => col[i]! >= q.bMin! && col[i]! <= q.bMax!);
-    const s = variableSpec(q.variable);
-    labels = [`${s.label} ${q.aMin}–${q.aMax} ${s.unit}`, `${s.label} ${q.bMin}–${q.bMax} ${s.unit}`];
+    if (aFrom > aTo) throw badRequest(`Period A ends (${q.aTo}) before it starts (${q.aFrom}): give its first day first.`, { field: "aTo" });
+    if (bFrom > bTo) throw badRequest(`Period B ends (${q.bTo}) before it starts (${q.bFrom}): give its first day first.`, { field: "bTo" });
+    if (aFrom <= bTo && bFrom <= aTo) {
+      const from = Math.max(aFrom, bFrom);
+      const to = Math.min(aTo, bTo);
+      const span = day(from) === day(to) ? day(from) : `${day(from)} to ${day(to)}`;
+      throw badRequest(
+        `Periods A and B overlap (${span}): slabs cast then would count in both groups, and the comparison needs two separate groups of slabs. Choose periods that do not share a day.`,
+        { field: "bFrom" },
+      );
+    }
+    // One scan over both periods (the filters' own dates do not apply: each side takes its own).
+    const sc = scan(db, buildScope(db, q, { skipDates: true }), { from: Math.min(aFrom, bFrom), to: Math.max(aTo, bTo) });
+    const at = sc.facts.castAt;
+    return {
+      sc,
+      inA: (i) => at[i]! >= aFrom && at[i]! <= aTo,
+      inB: (i) => at[i]! >= bFrom && at[i]! <= bTo,
+      labels: [`${q.aFrom} – ${q.aTo}`, `${q.bFrom} – ${q.bTo}`],
+    };
   }
+  if (!q.variable) throw badRequest("Give the variable whose two ranges are compared.", { field: "variable" });
+  for (const f of ["aMin", "aMax", "bMin", "bMax"] as const) if (q[f] === undefined) throw badRequest(`Give ${f} for the range comparison.`, { field: f });
+  const s = variableSpec(q.variable);
+  const [aMin, aMax, bMin, bMax] = [q.aMin!, q.aMax!, q.bMin!, q.bMax!];
+  const u = s.unit === "–" ? "" : ` ${s.unit}`;
+  if (aMin > aMax) throw badRequest(`Range A runs from ${aMin} down to ${aMax}${u}: give the lower end first.`, { field: "aMax" });
+  if (bMin > bMax) throw badRequest(`Range B runs from ${bMin} down to ${bMax}${u}: give the lower end first.`, { field: "bMax" });
+  if (aMin <= bMax && bMin <= aMax) {
+    throw badRequest(
+      `Ranges A (${aMin}–${aMax}${u}) and B (${bMin}–${bMax}${u}) overlap from ${Math.max(aMin, bMin)} to ${Math.min(aMax, bMax)}${u}: both ends of a range are included, so a slab there would count in both groups. Choose ranges that do not meet.`,
+      { field: "bMin" },
+    );
+  }
+  const sc = scan(db, buildScope(db, q));
+  const col = sc.facts.vars[s.key]!;
+  return {
+    sc,
+    inA: (i) => col[i]! >= aMin && col[i]! <= aMax,
+    inB: (i) => col[i]! >= bMin && col[i]! <= bMax,
+    labels: [`${s.label} ${aMin}–${aMax}${u}`, `${s.label} ${bMin}–${bMax}${u}`],
+  };
+}
+
+export function beforeAfter(db: Db, q: Query): BeforeAfter {
+  const { sc, inA, inB, labels } = groupsOf(db, q);
+  const rowsA: number[] = [];
+  const rowsB: number[] = [];
+  for (const i of sc.rows) {
+    if (inA(i)) rowsA.push(i);
+    else if (inB(i)) rowsB.push(i);
+  }
+  const tally = (rows: number[]) => ({ n: rows.length, x: rows.reduce((s, i) => s + sc.affected[i]!, 0) });
+  const a = tally(rowsA);
+  const b = tally(rowsB);
   const d = differenceOfProportions(b.x, b.n, a.x, a.n);
   const table: [[number, number], [number, number]] = [
     [a.x, a.n - a.x],
     [b.x, b.n - b.x],
   ];
-  const chi = chiSquareIndependence(table);
-  const useFisher = a.n === 0 || b.n === 0 || chi.smallExpected > 0 || Number.isNaN(chi.p);
-  const test = useFisher
-    ? { name: "fisher" as const, p: finite(fisherExact2x2(table).pTwoSided), method: "Fisher's exact test, two-sided (an expected count is below 5)" }
-    : { name: "chi-square" as const, p: finite(chi.p), method: "Pearson chi-square test, 1 df, no continuity correction" };
-  return {
+  const notes: string[] = [];
+  let test: BeforeAfter["test"];
+  const empty = [a.n === 0 && "A", b.n === 0 && "B"].filter(Boolean);
+  if (empty.length) {
+    const reason = `group ${empty.join(" and ")} ha${empty.length === 1 ? "s" : "ve"} no slab in these filters: there is nothing to compare`;
+    test = { name: "none", p: null, method: "no test", reason };
+    notes.push(`No test: ${reason}.`);
+  } else if (a.x + b.x === 0 || a.x + b.x === a.n + b.n) {
+    const reason = a.x + b.x === 0 ? "no slab of either group is affected" : "every slab of both groups is affected";
+    test = { name: "none", p: null, method: "no test", reason: `${reason}: the rates cannot differ` };
+    notes.push(`No test: ${reason}.`);
+  } else {
+    const chi = chiSquareIndependence(table);
+    test =
+      chi.smallExpected > 0
+        ? { name: "fisher", p: finite(fisherExact2x2(table).pTwoSided), method: "Fisher's exact test, two-sided (an expected count is below 5)", reason: null }
+        : { name: "chi-square", p: finite(chi.p), method: "Pearson chi-square test, 1 df, asymptotic, no continuity correction", reason: null };
+  }
+  notes.push(
+    "Slabs are counted as independent. Slabs of one heat share its conditions, so the intervals and p-values here are too narrow when whole heats differ; the adjusted model offers heat-clustered standard errors.",
+  );
+  const out: BeforeAfter = {
     mode: q.mode,
     a: { label: labels[0], ...proportion(a.n, a.x) },
     b: { label: labels[1], ...proportion(b.n, b.x) },
     difference: { value: finite(d.difference), lower: finite(d.lower), upper: finite(d.upper), method: `rate of B minus rate of A; ${d.method}` },
     test,
+    notes,
+  };
+  if (q.stratifyBy) out.stratified = stratified(db, q.stratifyBy, sc, rowsA, rowsB);
+  return out;
+}
+
+function stratified(db: Db, key: NonNullable<Query["stratifyBy"]>, sc: Scanned, rowsA: number[], rowsB: number[]): Stratified {
+  const st = stratifier(db, sc.facts, key);
+  const byA = countByLevel(rowsA, sc.affected, st.of);
+  const byB = countByLevel(rowsB, sc.affected, st.of);
+  const levels = [...new Set([...byA.keys(), ...byB.keys()])].sort(naturalOrder);
+  const none = { n: 0, x: 0 };
+  // The first group of each 2×2 is B and the second A, so every odds ratio is B against A (A the reference).
+  const tables: Stratum2x2[] = levels.map((label) => {
+    const sa = byA.get(label) ?? none;
+    const sb = byB.get(label) ?? none;
+    return { label, a: sb.x, b: sb.n - sb.x, c: sa.x, d: sa.n - sa.x };
+  });
+  const mh = mantelHaenszel(tables);
+  const count = (c: { n: number; x: number }) => ({ slabs: c.n, affected: c.x, rate: c.n > 0 ? c.x / c.n : null });
+  const strata = levels.map((label, k) => {
+    const sa = byA.get(label) ?? none;
+    const sb = byB.get(label) ?? none;
+    const diff = sa.n > 0 && sb.n > 0 ? differenceOfProportions(sb.x, sb.n, sa.x, sa.n) : null;
+    const or = mh.strata[k]!;
+    return {
+      label,
+      a: count(sa),
+      b: count(sb),
+      difference: { value: diff ? finite(diff.difference) : null, lower: diff ? finite(diff.lower) : null, upper: diff ? finite(diff.upper) : null },
+      oddsRatio: finite(or.oddsRatio ?? NaN),
+      ciLower: finite(or.ciLower ?? NaN),
+      ciUpper: finite(or.ciUpper ?? NaN),
+      zeroCellCorrection: or.zeroCellCorrection,
+      reason: or.reason,
+    };
+  });
+  const total = tables.reduce((t, s) => ({ label: "all", a: t.a + s.a, b: t.b + s.b, c: t.c + s.c, d: t.d + s.d }), { label: "all", a: 0, b: 0, c: 0, d: 0 });
+  const crude = stratumOddsRatio(total);
+
+  // Direct standardisation on the strata both groups hold: their slabs of A and B together are the mix.
+  const common = levels.filter((l) => (byA.get(l)?.n ?? 0) > 0 && (byB.get(l)?.n ?? 0) > 0);
+  const leftOut = levels
+    .filter((l) => !common.includes(l))
+    .map((l) => ((byA.get(l)?.n ?? 0) > 0 ? { label: l, group: "A" as const, slabs: byA.get(l)!.n } : { label: l, group: "B" as const, slabs: byB.get(l)!.n }));
+  const strataOf = (m: Map<string, { n: number; x: number }>): RateStratum[] => common.map((l) => ({ label: l, n: m.get(l)!.n, x: m.get(l)!.x }));
+  const mixTotal = common.reduce((t, l) => t + byA.get(l)!.n + byB.get(l)!.n, 0);
+  const referenceMix = common.map((l) => ({ label: l, slabs: byA.get(l)!.n + byB.get(l)!.n, share: (byA.get(l)!.n + byB.get(l)!.n) / mixTotal }));
+  const std =
+    common.length > 0
+      ? differenceOfStandardisedRates(strataOf(byA), strataOf(byB), referenceMix.map((r) => ({ label: r.label, weight: r.slabs })))
+      : { rateA: null, rateB: null, difference: null, ciLower: null, ciUpper: null, reason: `no ${st.label.toLowerCase()} has slabs in both groups: there is no common mix to standardise to`, notes: [], method: "" };
+  const label = st.label.toLowerCase();
+  const notes = [...mh.notes, ...std.notes];
+  if (leftOut.length) {
+    notes.push(
+      `Standardised rates leave out ${leftOut.map((l) => `${l.label} (${l.slabs} slab${l.slabs === 1 ? "" : "s"}, only in ${l.group})`).join(", ")}: a ${label} found in one group only cannot be compared.`,
+    );
+  }
+  const cie = changeInEstimate(crude.oddsRatio, mh.oddsRatio);
+  let sentence: string | null = null;
+  if (cie.differs && mh.oddsRatio !== null && crude.oddsRatio !== null) {
+    sentence =
+      Math.abs(Math.log(mh.oddsRatio)) < Math.abs(Math.log(crude.oddsRatio)) / 2
+        ? `Most of the crude difference between A and B goes with the ${label}: within each ${label} the odds ratio B against A is ${fmt(mh.oddsRatio)}, against ${fmt(crude.oddsRatio)} with the ${label} ignored.`
+        : `Within each ${label} the odds ratio B against A is ${fmt(mh.oddsRatio)}, against ${fmt(crude.oddsRatio)} with the ${label} ignored (a change of more than a tenth): the ${label} mix differs between A and B.`;
+  }
+  return {
+    by: { key: st.key, label: st.label },
+    reference: "A",
+    strata,
+    crude: { oddsRatio: finite(crude.oddsRatio ?? NaN), ciLower: finite(crude.ciLower ?? NaN), ciUpper: finite(crude.ciUpper ?? NaN) },
+    mantelHaenszel: {
+      oddsRatio: mh.oddsRatio, ciLower: mh.ciLower, ciUpper: mh.ciUpper, chi2: mh.cmh.statistic, p: mh.cmh.p, informativeStrata: mh.informativeStrata,
+      continuityCorrection: mh.cmh.continuityCorrection, reason: mh.reason ?? mh.cmh.reason,
+    },
+    breslowDay: {
+      chi2: mh.breslowDay.statistic, df: mh.breslowDay.df, p: mh.breslowDay.p, uncorrected: mh.breslowDay.uncorrected, tarone: mh.breslowDay.tarone,
+      smallExpected: mh.breslowDay.smallExpected, reason: mh.breslowDay.reason,
+    },
+    standardised: {
+      rateA: std.rateA, rateB: std.rateB, difference: std.difference, ciLower: std.ciLower, ciUpper: std.ciUpper, reason: std.reason || null,
+      reference: `the slabs of A and B together in each ${label} both groups hold (pooled mix)`,
+      referenceMix,
+      leftOut,
+    },
+    changeInEstimate: { relativeChange: cie.relativeChange, differs: cie.differs, sentence },
+    methods: {
+      reading: `A is the reference group: every odds ratio is the odds of an affected slab in B over those in A, within each ${label}; differences are rate B − rate A`,
+      mantelHaenszel: mh.method,
+      standardised: `${std.method || "direct standardisation"}; reference mix: the slabs of A and B together in each ${label} both groups hold`,
+      changeInEstimate: "change-in-estimate (crude − Mantel–Haenszel) / Mantel–Haenszel odds ratio, reported beyond a tenth (Maldonado & Greenland 1993)",
+    },
+    notes,
   };
 }
+
+const fmt = (x: number) => (x >= 10 ? x.toFixed(1) : x.toFixed(2));

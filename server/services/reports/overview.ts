@@ -3,35 +3,24 @@ import type { z } from "zod";
 import type { Overview, overviewQuerySchema } from "@shared/api/reports";
 import type { Db } from "../../db/client";
 import { ratePer } from "../../stats/proportions";
-import { byPeriod, periodOf } from "./periods";
+import { byPeriod, defectsByPeriod } from "./periods";
 import { buildScope, finite, proportion, scan } from "./scope";
+import { standardisedByPeriod } from "./strata";
 
 export function overview(db: Db, q: z.output<typeof overviewQuerySchema>): Overview {
   const scope = buildScope(db, q);
   const sc = scan(db, scope);
   const f = sc.facts;
-  const inScope = new Uint8Array(f.size);
-  for (const i of sc.rows) inScope[i] = 1;
   const slabRows = byPeriod(sc, q.period, true);
   // The defects passing the defect filters, on slabs within the slab filters.
-  const defects = db.$client.prepare(`select d.slab_id, d.type_id from defects d where ${scope.defectWhere.join(" and ")}`).raw().all(scope.params) as [number, number][];
-  const defectsBy = new Map<string, number>();
-  const byType = new Map<number, { defects: number; slabs: Set<number> }>();
-  for (const [slabId, typeId] of defects) {
-    const i = slabId < f.indexOf.length ? f.indexOf[slabId]! : -1;
-    if (i < 0 || !inScope[i]) continue;
-    const at = f.castAt[i]!;
-    if (at === at) {
-      const label = periodOf(at, q.period);
-      defectsBy.set(label, (defectsBy.get(label) ?? 0) + 1);
-    }
-    let t = byType.get(typeId);
-    if (!t) byType.set(typeId, (t = { defects: 0, slabs: new Set() }));
-    t.defects++;
-    t.slabs.add(slabId);
-  }
+  const { byPeriod: defectsBy, byType } = defectsByPeriod(db, scope, sc, q.period);
   const row = (n: number, x: number, t: number, d: number) => ({ ...proportion(n, x), defects: d, tonnes: t, per100Slabs: finite(ratePer(d, n, 100)), per1000t: finite(ratePer(d, t, 1000)) });
-  const periods = slabRows.map((r) => ({ period: r.period, ...row(r.n, r.x, r.t, defectsBy.get(r.period) ?? 0) }));
+  const std = q.standardise ? standardisedByPeriod(db, sc, q.period) : null;
+  const periods = slabRows.map((r) => ({
+    period: r.period,
+    ...row(r.n, r.x, r.t, defectsBy.get(r.period) ?? 0),
+    ...(std ? { standardised: std.rates.get(r.period)! } : {}),
+  }));
   const tot = slabRows.reduce((s, r) => ({ n: s.n + r.n, x: s.x + r.x, t: s.t + r.t }), { n: 0, x: 0, t: 0 });
   const totalDefects = [...defectsBy.values()].reduce((s, v) => s + v, 0);
   const types = new Map((db.$client.prepare("select id, code, name from defect_types").all() as { id: number; code: string; name: string }[]).map((t) => [t.id, t]));
@@ -62,5 +51,9 @@ export function overview(db: Db, q: z.output<typeof overviewQuerySchema>): Overv
   const byStrand = [...countBy(f.strandId).entries()]
     .map(([id, c]) => ({ caster: strandNames.get(id)?.code ?? "", strand: strandNames.get(id)?.strand_no ?? 0, ...proportion(c.n, c.x) }))
     .sort((a, b) => a.caster.localeCompare(b.caster) || a.strand - b.strand);
-  return { period: q.period, totals: row(tot.n, tot.x, tot.t, totalDefects), periods, pareto, byGrade, byStrand };
+  return {
+    period: q.period, totals: row(tot.n, tot.x, tot.t, totalDefects), periods, pareto, byGrade, byStrand,
+    ...(std ? { standardisation: std.standardisation } : {}),
+    notes: std?.notes ?? [],
+  };
 }

@@ -1,35 +1,98 @@
-/** Period labels (day, ISO week, month) and counts of slabs per period. */
-import type { Scanned } from "./scope";
+/** Period labels (day, ISO week, month) and counts of slabs (and defects) per period. */
+import type { Db } from "../../db/client";
+import type { Scanned, Scope } from "./scope";
 
 const DAY = 86_400_000;
-/** Period label of a time: the UTC day, the ISO week (2026-W48) or the month. */
-export function periodOf(ms: number, period: "day" | "week" | "month"): string {
+export type Period = "day" | "week" | "month";
+
+/**
+ * Period label of a time: the UTC day, the ISO 8601 week (2026-W48) or the month. An ISO week runs
+ * Monday to Sunday and belongs to the year of its Thursday; week 1 is the week holding the year's
+ * first Thursday (equivalently 4 January), so the week number is the number of that year's
+ * Thursdays up to and including this week's: ⌈ordinal day of the Thursday / 7⌉.
+ */
+export function periodOf(ms: number, period: Period): string {
   const d = new Date(ms);
   if (period === "day") return d.toISOString().slice(0, 10);
   if (period === "month") return d.toISOString().slice(0, 7);
-  // ISO 8601 week: the week with the year's first Thursday is week 1.
-  const day = (d.getUTCDay() + 6) % 7;
-  const thursday = new Date(Date.UTC(d.getUTCFullYear(), d.getUTCMonth(), d.getUTCDate() - day + 3));
-  const firstThursday = new Date(Date.UTC(thursday.getUTCFullYear(), 0, 4));
-  const week = 1 + Math.round((thursday.getTime() - firstThursday.getTime()) / DAY / 7 - ((firstThursday.getUTCDay() + 6) % 7 - 3) / 7);
-  return `${thursday.getUTCFullYear()}-W${String(week).padStart(2, "0")}`;
+  const mondayBased = (d.getUTCDay() + 6) % 7;
+  const thursday = Date.UTC(d.getUTCFullYear(), d.getUTCMonth(), d.getUTCDate() - mondayBased + 3);
+  const year = new Date(thursday).getUTCFullYear();
+  const ordinal = Math.round((thursday - Date.UTC(year, 0, 1)) / DAY) + 1;
+  return `${year}-W${String(Math.ceil(ordinal / 7)).padStart(2, "0")}`;
 }
 
-/** Counts per period label, in label order; labels are memoised per UTC day. */
-export function byPeriod(s: Scanned, period: "day" | "week" | "month", weight = false) {
+/** Memoised per UTC day: a million slabs fall on a few hundred days. */
+function labeller(period: Period) {
   const labelOfDay = new Map<number, string>();
+  return (at: number) => {
+    const dayNo = Math.floor(at / DAY);
+    let label = labelOfDay.get(dayNo);
+    if (!label) labelOfDay.set(dayNo, (label = periodOf(dayNo * DAY, period)));
+    return label;
+  };
+}
+
+/** Counts per period label, in label order (labels sort in time order). */
+export function byPeriod(s: Scanned, period: Period, weight = false) {
+  const label = labeller(period);
   const map = new Map<string, { n: number; x: number; t: number }>();
   for (const i of s.rows) {
     const at = s.facts.castAt[i]!;
     if (at !== at) continue;
-    const dayNo = Math.floor(at / DAY);
-    let label = labelOfDay.get(dayNo);
-    if (!label) labelOfDay.set(dayNo, (label = periodOf(dayNo * DAY, period)));
-    let c = map.get(label);
-    if (!c) map.set(label, (c = { n: 0, x: 0, t: 0 }));
+    const l = label(at);
+    let c = map.get(l);
+    if (!c) map.set(l, (c = { n: 0, x: 0, t: 0 }));
     c.n++;
     c.x += s.affected[i]!;
     if (weight) c.t += s.facts.weightT[i]! || 0;
   }
-  return [...map.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([label, c]) => ({ period: label, ...c }));
+  return [...map.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([l, c]) => ({ period: l, ...c }));
+}
+
+/** Slabs and affected slabs per period and stratum (e.g. grade family), for standardised rates. */
+export function byPeriodAndStratum(s: Scanned, period: Period, stratumOf: (i: number) => string) {
+  const label = labeller(period);
+  const map = new Map<string, Map<string, { n: number; x: number }>>();
+  for (const i of s.rows) {
+    const at = s.facts.castAt[i]!;
+    if (at !== at) continue;
+    const l = label(at);
+    let m = map.get(l);
+    if (!m) map.set(l, (m = new Map()));
+    const k = stratumOf(i);
+    let c = m.get(k);
+    if (!c) m.set(k, (c = { n: 0, x: 0 }));
+    c.n++;
+    c.x += s.affected[i]!;
+  }
+  return map;
+}
+
+/**
+ * Defects passing the defect filters on slabs within the scan, per period of the slab's cast time,
+ * and per defect type over the whole scan.
+ */
+export function defectsByPeriod(db: Db, scope: Scope, s: Scanned, period: Period) {
+  const f = s.facts;
+  const inScope = new Uint8Array(f.size);
+  for (const i of s.rows) inScope[i] = 1;
+  const label = labeller(period);
+  const rows = db.$client.prepare(`select d.slab_id, d.type_id from defects d where ${scope.defectWhere.join(" and ")}`).raw().all(scope.params) as [number, number][];
+  const byPeriodLabel = new Map<string, number>();
+  const byType = new Map<number, { defects: number; slabs: Set<number> }>();
+  for (const [slabId, typeId] of rows) {
+    const i = slabId < f.indexOf.length ? f.indexOf[slabId]! : -1;
+    if (i < 0 || !inScope[i]) continue;
+    const at = f.castAt[i]!;
+    if (at === at) {
+      const l = label(at);
+      byPeriodLabel.set(l, (byPeriodLabel.get(l) ?? 0) + 1);
+    }
+    let t = byType.get(typeId);
+    if (!t) byType.set(typeId, (t = { defects: 0, slabs: new Set() }));
+    t.defects++;
+    t.slabs.add(slabId);
+  }
+  return { byPeriod: byPeriodLabel, byType };
 }

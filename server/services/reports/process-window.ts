@@ -17,6 +17,13 @@ export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchem
   };
   const ex = edgesOf(q.x, q.xBins);
   const ey = edgesOf(q.y, q.yBins);
+  const axes = { x: { key: sx.key, label: sx.label, unit: sx.unit, edges: ex }, y: { key: sy.key, label: sy.label, unit: sy.unit, edges: ey } };
+  // Without a value on an axis there are no bins: no cell, rather than cells with bounds that do not exist.
+  const bare = [ex.length === 0 && sx, ey.length === 0 && sy].filter((v) => v !== false);
+  if (bare.length) {
+    const notes = [`No slab in these filters has a value for ${bare.map((v) => v.label).join(" or ")}: there is no window to draw.`];
+    return { ...axes, minN: q.minN, slabs: 0, affected: 0, cells: [], notes };
+  }
   const bin = (v: number, edges: number[]) => {
     if (edges.length <= 2) return 0;
     let b = 0;
@@ -48,10 +55,12 @@ export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchem
     for (let yi = 0; yi < ny; yi++) {
       const c = xi * ny + yi;
       cells.push({
-        xi, yi, xLower: ex[xi] ?? NaN, xUpper: ex[xi + 1] ?? ex[xi] ?? NaN, yLower: ey[yi] ?? NaN, yUpper: ey[yi + 1] ?? ey[yi] ?? NaN,
+        xi, yi, xLower: ex[xi]!, xUpper: ex[xi + 1] ?? ex[xi]!, yLower: ey[yi]!, yUpper: ey[yi + 1] ?? ey[yi]!,
         ...proportion(n[c]!, x[c]!), sparse: n[c]! < q.minN,
       });
     }
   }
-  return { x: { key: sx.key, label: sx.label, unit: sx.unit, edges: ex }, y: { key: sy.key, label: sy.label, unit: sy.unit, edges: ey }, minN: q.minN, slabs, affected, cells };
+  const notes: string[] = [];
+  if (slabs === 0) notes.push(`No slab in these filters has both a value for ${sx.label} and one for ${sy.label}: every cell is empty.`);
+  return { ...axes, minN: q.minN, slabs, affected, cells, notes };
 }

@@ -7,7 +7,11 @@ import { logisticRegression } from "../../stats/logistic";
 import { mannWhitneyGrouped } from "../../stats/mann-whitney";
 import type { Group } from "../../stats/ranks";
 import { correlationsWithOutcome } from "../../stats/spearman";
-import { buildScope, finite, scan, SMALL_AFFECTED, variableGroups, variableSpec } from "./scope";
+import { spreadOfGroups } from "../../stats/spread";
+import {
+  adjustedForWords, categoricalColumn, changeWords, completeRows, fitTerms, GROUPING_METHOD, heatsOf, lowerLabel, modelTerms, perWordsOf, seWords, slopeOf,
+} from "./adjusted";
+import { buildScope, finite, proportion, scan, SMALL_AFFECTED, variableGroups, variableSpec, type Scanned } from "./scope";
 
 function quantilesOf(groups: Group[], pick: (g: Group) => number) {
   const n = groups.reduce((s, g) => s + pick(g), 0);
@@ -53,21 +57,133 @@ function stripOf(groups: Group[], pick: (g: Group) => number, k = 300): number[]
   return out;
 }
 
-export function rateByVariable(db: Db, q: z.output<typeof rateByVariableQuerySchema>): RateByVariable {
+type Query = z.output<typeof rateByVariableQuerySchema>;
+type Bin = RateByVariable["bins"][number];
+
+/** The variable's odds ratio in a model with the adjustment terms, and the crude one beside it (same slabs, same SEs). */
+function adjustedSlope(db: Db, sc: Scanned, q: Query, notes: string[]): NonNullable<RateByVariable["adjusted"]> {
   const spec = variableSpec(q.variable);
-  const { groups, missing } = variableGroups(scan(db, buildScope(db, q)), q.variable);
+  const terms = modelTerms(db, sc, [q.variable, ...q.adjustFor]);
+  const { rows, missing } = completeRows(sc, terms);
+  const fit = fitTerms(sc, terms, rows, q.se);
+  const crude = fitTerms(sc, [terms[0]!], rows, q.se);
+  const a = slopeOf(fit.terms.find((t) => t.variable === spec.label), spec.step);
+  const c = slopeOf(crude.terms.find((t) => t.variable === spec.label), spec.step);
+  const others = terms.slice(1);
+  const change = changeWords(lowerLabel(spec.label), { coef: c.fit.slope, se: c.fit.se }, { coef: a.fit.slope, se: a.fit.se }, spec.step, perWordsOf(spec.step, spec.unit), adjustedForWords(others.map((t) => t.label)));
+  for (const m of missing.filter((m) => m.key !== q.variable)) {
+    notes.push(`Adjusted odds ratio: ${m.slabs} slab${m.slabs === 1 ? "" : "s"} without a value for ${lowerLabel(m.label)} are left out (the crude one beside it uses the same slabs).`);
+  }
+  const reason = a.fit.slope === null ? (a.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? "not estimable") : null;
+  if (reason) notes.push(`Adjusted odds ratio not given: ${reason}.`);
+  for (const n of fit.notes) if (/^Only \d+ heats/.test(n)) notes.push(n);
+  if (change.sentence) notes.push(change.sentence);
+  return {
+    ...a.fit,
+    seMethod: q.se,
+    adjustFor: others.map((t) => ({ key: t.key, label: t.label, unit: t.kind === "numeric" ? t.unit : null, kind: t.kind })),
+    slabs: fit.slabs,
+    affected: fit.affected,
+    heats: fit.clusters ?? heatsOf(sc, rows),
+    crude: c.fit,
+    changeInEstimate: change,
+    reason,
+  };
+}
+
+/** Per level of the stratifying key: the rate in the bins of the whole, and the odds ratio within the level. */
+function stratifiedRates(db: Db, sc: Scanned, q: Query, bins: Bin[], notes: string[]): NonNullable<RateByVariable["stratified"]> {
+  const spec = variableSpec(q.variable);
+  const [term] = modelTerms(db, sc, [q.variable]);
+  const values = (term!.column as { values: ArrayLike<number> }).values;
+  const withValue: number[] = [];
+  for (const i of sc.rows) if (values[i] === values[i]) withValue.push(i);
+  const st = categoricalColumn(db, sc, q.stratifyBy!, withValue);
+  const byCode = new Map<number, number[]>();
+  for (const i of withValue) {
+    const code = st.codes[i]!;
+    let list = byCode.get(code);
+    if (!list) byCode.set(code, (list = []));
+    list.push(i);
+  }
+  const MAX_STRATA = 12;
+  const levels = [...byCode.entries()].map(([code, list]) => ({ label: st.label!(code), rows: Int32Array.from(list) })).sort((x, y) => y.rows.length - x.rows.length);
+  const shown = levels.slice(0, MAX_STRATA);
+  const order = (a: string, b: string) => (st.levels ? st.levels.indexOf(a) - st.levels.indexOf(b) : a.localeCompare(b, "en", { numeric: true }));
+  shown.sort((x, y) => order(x.label, y.label));
+  const binOf = (v: number) => {
+    // The last bin starting at or below v (bins hold every value of the whole, so of each level too).
+    let lo = 0;
+    let hi = bins.length - 1;
+    while (lo < hi) {
+      const mid = (lo + hi + 1) >> 1;
+      if (bins[mid]!.lower <= v) lo = mid;
+      else hi = mid - 1;
+    }
+    return lo;
+  };
+  const strata = shown.map((level) => {
+    const n = new Array<number>(bins.length).fill(0);
+    const x = new Array<number>(bins.length).fill(0);
+    let affected = 0;
+    for (const i of level.rows) {
+      const b = binOf(values[i]!);
+      n[b]!++;
+      x[b]! += sc.affected[i]!;
+      affected += sc.affected[i]!;
+    }
+    const fit = fitTerms(sc, [term!], level.rows, q.se);
+    const slope = slopeOf(fit.terms[0], spec.step);
+    return {
+      label: level.label,
+      ...proportion(level.rows.length, affected),
+      bins: bins.map((b, k) => ({ lower: b.lower, upper: b.upper, ...proportion(n[k]!, x[k]!), sparse: n[k]! < q.minN })),
+      logistic: { ...slope.fit, reason: slope.fit.slope === null ? (slope.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? "not estimable") : null },
+    };
+  });
+  const notShown = levels.slice(MAX_STRATA).map((l) => ({ label: l.label, slabs: l.rows.length }));
+  if (notShown.length) notes.push(`${notShown.length} smaller ${lowerLabel(st.name)} level${notShown.length === 1 ? " is" : "s are"} not drawn (only the ${MAX_STRATA} with the most slabs).`);
+  return { by: { key: q.stratifyBy!, label: st.name }, seMethod: q.se, strata, notShown };
+}
+
+export function rateByVariable(db: Db, q: Query): RateByVariable {
+  const spec = variableSpec(q.variable);
+  const sc = scan(db, buildScope(db, q));
+  const { groups, missing } = variableGroups(sc, q.variable);
   const slabs = groups.reduce((s, g) => s + g.n, 0);
   const affected = groups.reduce((s, g) => s + g.affected, 0);
   const edges = q.binning === "quantile" ? quantileEdges(groups, q.bins) : equalWidthEdges(groups, q.bins);
   const bins = binnedRates(groups, edges, q.minN);
   const { spearman: sp, pointBiserial: pb } = correlationsWithOutcome(groups);
   const fit = logisticRegression(groups.map((g) => ({ x: [g.value], successes: g.affected, trials: g.n })));
-  const mw = mannWhitneyGrouped(groups);
+  const spread = spreadOfGroups(groups);
+  // A variable with one value has no test at all: every p is null, never 0 or 1.
+  const flat = slabs > 0 && spread.noSpread;
+  const mw = flat ? { u: NaN, p: NaN, method: "not testable: no spread" } : mannWhitneyGrouped(groups);
   const notes: string[] = [];
   if (slabs === 0) notes.push("No slab in these filters has a value for this variable.");
+  else if (flat) notes.push(`${spec.label}: not testable — no spread in these filters (${spread.reason}); no correlation, odds ratio or rank test is given.`);
   else if (affected < SMALL_AFFECTED) notes.push(`Only ${affected} affected slab${affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
   if (bins.some((b) => b.slabs < q.minN)) notes.push(`Some bins hold fewer than ${q.minN} slabs.`);
   if (missing > 0) notes.push(`${missing} slab${missing === 1 ? "" : "s"} in the filters have no value for ${spec.label.toLowerCase()} and are left out.`);
+  const adjusted = q.adjustFor.length > 0 && slabs > 0 ? adjustedSlope(db, sc, q, notes) : undefined;
+  const stratified = q.stratifyBy && slabs > 0 ? stratifiedRates(db, sc, q, bins, notes) : undefined;
+  const methods: Record<string, string> = {
+    bins: `${q.binning === "quantile" ? "Quantile" : "Equal-width"} bins; bins under ${q.minN} slabs merged with a neighbour; Wilson 95 % intervals`,
+    spearman: sp.method,
+    pointBiserial: pb.method,
+    logistic: `${fit.method}; model-based standard errors (inverse Fisher information), slabs taken as independent; odds ratio per ${spec.unit === "–" ? "unit" : "1 " + spec.unit}`,
+    mannWhitney: `${mw.method} (U of the affected slabs)`,
+    grouping: `values grouped to ${spec.digits + 1} decimals; equal grouped values are ties`,
+  };
+  const perStep = perWordsOf(spec.step, spec.unit);
+  if (adjusted) {
+    methods.adjusted = `logistic regression of affected (yes/no) per slab on ${lowerLabel(spec.label)} and ${adjustedForWords(adjusted.adjustFor.map((t) => t.label))} by maximum likelihood (IRLS); ${seWords(q.se)}; Wald z test, two-sided; slope and odds ratio per ${spec.unit === "–" ? "unit" : "1 " + spec.unit}, and per the readable step (${perStep}) in perStep, with Wald 95 % intervals; ${GROUPING_METHOD}`;
+    methods.crude = `${lowerLabel(spec.label)} alone on the same slabs with the same standard errors; change-in-estimate (crude − adjusted) / adjusted of the odds ratios ${perStep}, put in words beyond a tenth (Maldonado & Greenland 1993)`;
+  }
+  if (stratified) {
+    methods.stratified = `per level of ${lowerLabel(stratified.by.label)}: slabs and affected slabs in the bins of the whole (Wilson 95 % intervals; bins under ${q.minN} slabs marked sparse, not merged), and ${lowerLabel(spec.label)} alone in a logistic regression within the level with ${q.se === "cluster" ? "heat-clustered" : "model-based"} standard errors`;
+  }
   return {
     variable: { key: spec.key, label: spec.label, unit: spec.unit },
     slabs,
@@ -88,14 +204,10 @@ export function rateByVariable(db: Db, q: z.output<typeof rateByVariableQuerySch
     mannWhitney: { u: finite(mw.u), p: finite(mw.p) },
     distribution: { affected: quantilesOf(groups, (g) => g.affected), sound: quantilesOf(groups, (g) => g.n - g.affected) },
     strip: { affected: stripOf(groups, (g) => g.affected), sound: stripOf(groups, (g) => g.n - g.affected) },
-    methods: {
-      bins: `${q.binning === "quantile" ? "Quantile" : "Equal-width"} bins; bins under ${q.minN} slabs merged with a neighbour; Wilson 95 % intervals`,
-      spearman: sp.method,
-      pointBiserial: pb.method,
-      logistic: `${fit.method}; odds ratio per ${spec.unit === "–" ? "unit" : "1 " + spec.unit}`,
-      mannWhitney: `${mw.method} (U of the affected slabs)`,
-      grouping: `values grouped to ${spec.digits + 1} decimals; equal grouped values are ties`,
-    },
+    ...(adjusted ? { adjusted } : {}),
+    ...(stratified ? { stratified } : {}),
+    methods,
     notes,
   };
 }
+

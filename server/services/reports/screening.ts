@@ -1,93 +1,279 @@
-/** Every condition against the outcome, ranked by its Benjamini–Hochberg adjusted p. */
+/**
+ * Every condition against the outcome. Per numeric variable the crude Welch t test on the means, and
+ * a logistic odds ratio per interquartile range, crude and adjusted for the chosen terms (grade
+ * family by default); per categorical variable the chi-square test and the adjusted test over its
+ * levels. Ranked by the Benjamini–Hochberg adjusted p of the adjusted tests (or the crude ones).
+ * Derived values are listed under the raw condition they come from and are not hypotheses of their
+ * own: BH counts only the raw conditions actually tested.
+ */
 import type { z } from "zod";
-import type { Screening, screeningQuerySchema } from "@shared/api/reports";
-import { VARIABLES } from "@shared/variables";
+import { inSentence, termConflict, type Screening, type screeningQuerySchema } from "@shared/api/reports";
+import { CATEGORICAL_LABELS, rawInputsOf, VARIABLES, type CategoricalKey } from "@shared/variables";
 import type { Db } from "../../db/client";
 import { chiSquareIndependence } from "../../stats/contingency";
+import { oddsRatioForStep, type MultiLogisticFit } from "../../stats/logistic-multi";
 import { benjaminiHochberg } from "../../stats/multiple";
 import { welchTTest } from "../../stats/regression";
-import { buildScope, finite, scan, SMALL_AFFECTED } from "./scope";
+import { RunningSpread } from "../../stats/spread";
+import { completeRows, fitTerms, GROUPING_METHOD, modelTerms, seqBucket, seWords, type ModelTerm } from "./adjusted";
+import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
-export const seqBucket = (pos: number) => (pos <= 0 ? "unknown" : pos === 1 ? "1st heat" : pos <= 3 ? "2nd–3rd heat" : "4th heat on");
+type Query = z.output<typeof screeningQuerySchema>;
+type Row = Screening["variables"][number];
+type AdjustedTest = NonNullable<Row["adjusted"]>;
 
-export function screening(db: Db, q: z.output<typeof screeningQuerySchema>): Screening {
+/** The categorical variables screening tests, in the screens' words. */
+const SCREENED_CATEGORICAL: CategoricalKey[] = ["strand", "grade_family", "transition", "sequence_position"];
+
+/** The raw conditions a derived value comes from (however indirectly), and the one it is listed under. */
+function lineage(key: string) {
+  const derived = new Set(VARIABLES.filter((v) => v.derivedFrom).map((v) => v.key));
+  const raw = rawInputsOf(key).filter((k) => !derived.has(k));
+  return { derivedFrom: raw, parent: raw[0] ?? null };
+}
+
+/**
+ * Type 7 quartiles (R's default) of grouped values over the rows, by counting the values on their
+ * grid (they are multiples of 10^−(digits + 1)); sorting a copy when the grid is too wide.
+ */
+function interquartileRange(values: ArrayLike<number>, rows: ArrayLike<number>, scale: number): number | null {
+  const n = rows.length;
+  if (n === 0) return null;
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let u = 0; u < n; u++) {
+    const v = values[rows[u]!]!;
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+  }
+  const k0 = Math.round(lo * scale);
+  const width = Math.round(hi * scale) - k0 + 1;
+  let at: (i: number) => number;
+  if (width <= 4_000_000) {
+    const counts = new Float64Array(width);
+    for (let u = 0; u < n; u++) counts[Math.round(values[rows[u]!]! * scale) - k0]!++;
+    // The i-th smallest value (0-based), walking the cumulative counts (from the start again when asked for an earlier one).
+    let k = 0;
+    let cum = counts[0]!;
+    let last = -1;
+    at = (i: number) => {
+      if (i < last) {
+        k = 0;
+        cum = counts[0]!;
+      }
+      last = i;
+      while (cum <= i) cum += counts[++k]!;
+      return (k + k0) / scale;
+    };
+  } else {
+    const sorted = Float64Array.from({ length: n }, (_, u) => values[rows[u]!]!).sort();
+    at = (i: number) => sorted[i]!;
+  }
+  const quantile = (q: number) => {
+    const h = (n - 1) * q;
+    const f = Math.floor(h);
+    const a = at(f);
+    const b = at(Math.min(n - 1, f + 1));
+    return a + (h - f) * (b - a);
+  };
+  const q1 = quantile(0.25);
+  const q3 = quantile(0.75);
+  // The grid's steps are exact decimals: drop the binary rounding noise (0.0799999… → 0.08).
+  return Number((q3 - q1).toPrecision(12));
+}
+
+/** The test of one variable in a model with the adjustment terms (those it does not itself name). */
+function adjustedTest(sc: Scanned, q: Query, key: string, term: ModelTerm, adjust: ModelTerm[], iqr: number | null, termRows: Int32Array): { test: AdjustedTest; crudeFit: MultiLogisticFit | null } {
+  const others = adjust.filter((t) => t.key !== key);
+  const blank: AdjustedTest = { oddsRatioPerIqr: null, ciLower: null, ciUpper: null, p: null, pAdjusted: null, statistic: null, df: null, test: "", reason: null };
+  const conflict = termConflict([key, ...others.map((t) => t.key)]);
+  if (conflict) return { test: { ...blank, reason: `not adjusted: ${conflict}` }, crudeFit: null };
+  const terms = [term, ...others];
+  // Categorical terms are known for every slab: the term's own slabs are the model's.
+  const rows = others.some((t) => t.kind === "numeric") ? completeRows(sc, terms).rows : termRows;
+  const fit = fitTerms(sc, terms, rows, q.se, true);
+  const crudeFit = term.kind === "numeric" ? fitTerms(sc, [term], rows, q.se) : null;
+  const v = fit.variables[0]!;
+  const lr = q.se === "model";
+  const within = others.length === adjust.length ? "" : others.length === 0 ? " (it is the adjustment itself: tested alone)" : " (it is part of the adjustment: tested adjusted for the other terms)";
+  if (term.kind === "categorical") {
+    const p = lr ? v.lrP : v.waldP;
+    return {
+      test: {
+        ...blank, p: finite(p ?? NaN), statistic: finite((lr ? v.lrChi2 : v.waldChi2) ?? NaN), df: v.df || null,
+        test: `${lr ? "likelihood-ratio" : "heat-clustered Wald"} chi-square over its levels${within}`,
+        reason: p === null ? (v.reason ?? fit.separation?.description ?? fit.reason ?? "not testable") : null,
+      },
+      crudeFit,
+    };
+  }
+  const t = fit.terms.find((x) => x.variable === term.label);
+  if (!t || t.coef === null || t.se === null || iqr === null || !(iqr > 0)) {
+    return { test: { ...blank, reason: v.reason ?? fit.separation?.description ?? fit.reason ?? (iqr === 0 ? "the interquartile range is 0: no odds ratio per IQR" : "not testable") }, crudeFit };
+  }
+  const or = oddsRatioForStep(t.coef, t.se, iqr);
+  return {
+    test: {
+      oddsRatioPerIqr: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(t.p ?? NaN), pAdjusted: null,
+      statistic: finite(t.z ?? NaN), df: null, test: `Wald z of the slope, ${q.se === "cluster" ? "heat-clustered" : "model-based"} SEs${within}`, reason: null,
+    },
+    crudeFit,
+  };
+}
+
+export function screening(db: Db, q: Query): Screening {
   const sc = scan(db, buildScope(db, q));
   const { facts: f, rows, affected: aff } = sc;
-  const vars = VARIABLES;
-  // One pass over the slabs in the filters: per variable and outcome, n, Σx and Σx².
-  const acc = vars.map(() => new Float64Array(6)); // n0, s0, ss0, n1, s1, ss1
-  const cols = vars.map((v) => f.vars[v.key]!);
-  for (const i of rows) {
-    const o = aff[i]! * 3;
-    for (let k = 0; k < cols.length; k++) {
-      const x = cols[k]![i]!;
-      if (x === x) {
-        const a = acc[k]!;
-        a[o]! += 1;
-        a[o + 1]! += x;
-        a[o + 2]! += x * x;
-      }
-    }
-  }
   const slabs = rows.length;
   let affected = 0;
   for (const i of rows) affected += aff[i]!;
-  const out: Screening["variables"] = [];
-  vars.forEach((v, k) => {
-    const a = acc[k]!;
-    const stat = (n: number, sum: number, ss: number) => {
-      const mean = sum / n;
-      return { n, mean, variance: n > 1 ? Math.max(0, (ss - n * mean * mean) / (n - 1)) : NaN };
-    };
-    const sound = stat(a[0]!, a[1]!, a[2]!);
-    const hit = stat(a[3]!, a[4]!, a[5]!);
-    const method = "Welch two-sample t test on the means, two-sided";
-    if (hit.n < 2 || sound.n < 2) {
-      out.push({ key: v.key, label: v.label, kind: "numeric", n: hit.n + sound.n, statistic: null, df: null, p: null, pAdjusted: null, effect: null, meanAffected: hit.n ? hit.mean : null, meanSound: sound.n ? sound.mean : null, method, fewSlabs: true });
-      return;
-    }
-    const t = hit.variance > 0 || sound.variance > 0 ? welchTTest(hit, sound) : { t: NaN, df: NaN, p: NaN };
-    out.push({
-      key: v.key, label: v.label, kind: "numeric", n: hit.n + sound.n, statistic: finite(t.t), df: finite(t.df), p: finite(t.p), pAdjusted: null,
-      effect: hit.mean - sound.mean, meanAffected: hit.mean, meanSound: sound.mean, method, fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED,
-    });
-  });
-  const strandLabels = new Map(
-    (db.$client.prepare("select s.id, c.code, s.strand_no from strands s join casters c on c.id = s.caster_id").all() as { id: number; code: string; strand_no: number }[]).map((x) => [x.id, `${x.code} strand ${x.strand_no}`]),
-  );
-  const familyLabels = new Map((db.$client.prepare("select id, code from grade_families").all() as { id: number; code: string }[]).map((x) => [x.id, x.code]));
-  const categorical: [string, string, (i: number) => string][] = [
-    ["strand", "Strand", (i) => strandLabels.get(f.strandId[i]!) ?? String(f.strandId[i])],
-    ["grade_family", "Grade family", (i) => familyLabels.get(f.familyId[i]!) ?? String(f.familyId[i])],
-    ["transition", "Transition slab", (i) => (f.transition[i] ? "transition" : "not transition")],
-    ["sequence_position", "Position in sequence", (i) => seqBucket(f.sequencePosition[i]!)],
-  ];
-  for (const [key, label, of] of categorical) {
-    const byCat = new Map<string, { slabs: number; affected: number }>();
+  const adjusting = q.adjustFor.length > 0;
+  const adjust = adjusting ? modelTerms(db, sc, q.adjustFor) : [];
+  const out: Row[] = [];
+
+  for (const v of VARIABLES) {
+    const col = f.vars[v.key]!;
+    // Means and variances per outcome computed stably (Welford), with an exact test for no spread.
+    const hitAcc = new RunningSpread();
+    const soundAcc = new RunningSpread();
     for (const i of rows) {
-      const k = of(i);
-      let c = byCat.get(k);
-      if (!c) byCat.set(k, (c = { slabs: 0, affected: 0 }));
+      const x = col[i]!;
+      if (x !== x) continue;
+      if (aff[i]) hitAcc.add(x);
+      else soundAcc.add(x);
+    }
+    const hit = hitAcc.result();
+    const sound = soundAcc.result();
+    const all = new RunningSpread().merge(hitAcc).merge(soundAcc).result();
+    const { derivedFrom, parent } = lineage(v.key);
+    const method = "Welch two-sample t test on the means, two-sided";
+    const base = {
+      key: v.key, label: v.label, kind: "numeric" as const, n: hit.n + sound.n, pAdjusted: null, method,
+      meanAffected: hit.mean, meanSound: sound.mean, effect: hit.mean !== null && sound.mean !== null ? hit.mean - sound.mean : null,
+      parent, derivedFrom, countedInBh: false, categories: undefined,
+    };
+    if (all.noSpread) {
+      const reason = all.n === 0 ? "not testable: no slab has a value" : `not testable: no spread, ${all.reason}`;
+      out.push({ ...base, statistic: null, df: null, p: null, fewSlabs: true, testable: false, reason, iqr: null, crude: null, adjusted: null });
+      continue;
+    }
+    let statistic: number | null = null;
+    let df: number | null = null;
+    let p: number | null = null;
+    let reason: string | null = null;
+    if (hit.n < 2 || sound.n < 2) reason = "too few affected or sound slabs with a value for the t test";
+    else if (!(hit.variance! > 0 || sound.variance! > 0)) reason = "no spread within the affected or the sound slabs: the t test is undefined";
+    else {
+      const t = welchTTest({ n: hit.n, mean: hit.mean!, variance: hit.variance! }, { n: sound.n, mean: sound.mean!, variance: sound.variance! });
+      statistic = finite(t.t);
+      df = finite(t.df);
+      p = finite(t.p);
+    }
+    // Logistic odds ratios per IQR, crude and adjusted, on the slabs with every value the adjusted model needs.
+    const [term] = modelTerms(db, sc, [v.key]);
+    const values = (term!.column as { values: ArrayLike<number> }).values;
+    const withValue = completeRows(sc, [term!]).rows;
+    const iqr = interquartileRange(values, withValue, 10 ** (v.digits + 1));
+    let crude: Row["crude"] = null;
+    let adjusted: Row["adjusted"] = null;
+    const crudeOf = (fit: MultiLogisticFit) => {
+      const t = fit.terms[0];
+      if (!t || t.coef === null || t.se === null || iqr === null || !(iqr > 0)) return { oddsRatioPerIqr: null, ciLower: null, ciUpper: null, p: t?.p ?? null };
+      const or = oddsRatioForStep(t.coef, t.se, iqr);
+      return { oddsRatioPerIqr: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(t.p ?? NaN) };
+    };
+    if (adjusting) {
+      const r = adjustedTest(sc, q, v.key, term!, adjust, iqr, withValue);
+      adjusted = r.test;
+      crude = r.crudeFit ? crudeOf(r.crudeFit) : crudeOf(fitTerms(sc, [term!], withValue, q.se));
+    } else {
+      crude = crudeOf(fitTerms(sc, [term!], withValue, q.se));
+    }
+    out.push({
+      ...base, statistic, df, p, fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED, testable: true, reason, iqr, crude, adjusted,
+    });
+  }
+
+  for (const key of SCREENED_CATEGORICAL) {
+    const [term] = modelTerms(db, sc, [key]);
+    const col = term!.column as { codes: ArrayLike<number>; label: (c: number) => string };
+    const byCode = new Map<number, { slabs: number; affected: number }>();
+    for (const i of rows) {
+      const code = col.codes[i]!;
+      let c = byCode.get(code);
+      if (!c) byCode.set(code, (c = { slabs: 0, affected: 0 }));
       c.slabs++;
       c.affected += aff[i]!;
     }
-    const cats = [...byCat.entries()].sort(([x], [y]) => x.localeCompare(y));
+    const cats = [...byCode.entries()].map(([code, c]) => [col.label(code), c] as const).sort(([x], [y]) => x.localeCompare(y));
     const chi = cats.length > 1 ? chiSquareIndependence(cats.map(([, c]) => [c.affected, c.slabs - c.affected])) : null;
+    const testable = cats.length > 1;
     out.push({
-      key, label, kind: "categorical", n: slabs, statistic: chi ? finite(chi.statistic) : null, df: chi?.df ?? null, p: chi ? finite(chi.p) : null,
+      key, label: CATEGORICAL_LABELS[key], kind: "categorical", n: slabs, statistic: chi ? finite(chi.statistic) : null, df: chi?.df ?? null, p: chi ? finite(chi.p) : null,
       pAdjusted: null, effect: null, meanAffected: null, meanSound: null,
       categories: cats.map(([l, c]) => ({ label: l, slabs: c.slabs, affected: c.affected, rate: c.slabs ? c.affected / c.slabs : null })),
       method: chi ? chi.method : "only one category in these filters", fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
+      testable, reason: testable ? null : "not testable: only one category in these filters",
+      parent: null, derivedFrom: [], countedInBh: false, iqr: null, crude: null,
+      adjusted: adjusting && testable ? adjustedTest(sc, q, key, term!, adjust, null, rows).test : null,
     });
   }
-  const tested = out.filter((v) => v.p != null);
-  const adjusted = benjaminiHochberg(tested.map((v) => v.p!));
-  tested.forEach((v, i) => (v.pAdjusted = adjusted[i]!));
-  out.sort((x, y) => (x.pAdjusted ?? 2) - (y.pAdjusted ?? 2) || (x.p ?? 2) - (y.p ?? 2));
+
+  // Benjamini–Hochberg over the tests actually made on raw conditions (derived values are the same hypotheses again).
+  const counted = out.filter((v) => v.parent === null && v.derivedFrom.length === 0);
+  const crudeTested = counted.filter((v) => v.p !== null);
+  benjaminiHochberg(crudeTested.map((v) => v.p!)).forEach((p, i) => (crudeTested[i]!.pAdjusted = p));
+  const adjustedTested = counted.filter((v) => v.adjusted?.p != null);
+  benjaminiHochberg(adjustedTested.map((v) => v.adjusted!.p!)).forEach((p, i) => (adjustedTested[i]!.adjusted!.pAdjusted = p));
+  for (const v of counted) v.countedInBh = v.p !== null || v.adjusted?.p != null;
+
+  const rankBy = adjusting && q.rankBy === "adjusted" ? "adjusted" : "crude";
+  const keyOf = (v: Row) => (rankBy === "adjusted" ? [v.adjusted?.pAdjusted ?? v.adjusted?.p ?? 2, v.adjusted?.p ?? 2] : [v.pAdjusted ?? v.p ?? 2, v.p ?? 2]);
+  const byRank = (x: Row, y: Row) => {
+    const [a1, a2] = keyOf(x);
+    const [b1, b2] = keyOf(y);
+    return Number(!x.testable) - Number(!y.testable) || a1! - b1! || a2! - b2! || (x.p ?? 2) - (y.p ?? 2);
+  };
+  // Raw conditions in rank order, each followed by the derived values listed under it.
+  const raw = out.filter((v) => v.parent === null).sort(byRank);
+  const ordered: Row[] = [];
+  for (const r of raw) {
+    ordered.push(r);
+    ordered.push(...out.filter((v) => v.parent === r.key).sort(byRank));
+  }
+  ordered.push(...out.filter((v) => v.parent !== null && !raw.some((r) => r.key === v.parent)));
+
+  const adjustWords = adjust.map((t) => inSentence(t.label)).join(", ");
   const notes = [
-    "p-values adjusted for the number of variables screened (Benjamini–Hochberg false discovery rate).",
-    "Screening shows association, not cause: grade mix and shared conditions confound almost everything. Open a variable in the rate-against-variable report before drawing a conclusion.",
+    `p-values adjusted for the number of raw conditions tested (Benjamini–Hochberg false discovery rate): ${crudeTested.length} crude test${crudeTested.length === 1 ? "" : "s"}${adjusting ? `, ${adjustedTested.length} adjusted` : ""}. Derived values (throughput, shell, brake field …) are listed under the raw condition they come from and are not counted again.`,
+    adjusting
+      ? `Ranked by the ${rankBy === "adjusted" ? `tests adjusted for ${adjustWords}` : "crude tests"}; the odds ratios are per interquartile range of each variable.`
+      : "Ranked by the crude tests (nothing adjusted for).",
+    "Screening shows association, not cause: grade mix and shared conditions confound almost everything. Open a variable in the rate-against-variable report or the adjusted model before drawing a conclusion.",
   ];
+  const untestable = out.filter((v) => !v.testable);
+  if (untestable.length) notes.push(`Not testable here (not counted): ${untestable.map((v) => `${v.label} (${v.reason!.replace(/^not testable: /, "")})`).join("; ")}.`);
   if (affected < SMALL_AFFECTED) notes.push(`Only ${affected} affected slabs in these filters.`);
-  return { slabs, affected, variables: out, notes };
+  return {
+    slabs,
+    affected,
+    variables: ordered,
+    adjustFor: adjust.map((t) => ({ key: t.key, label: t.label, unit: t.kind === "numeric" ? t.unit : null, kind: t.kind })),
+    seMethod: q.se,
+    rankBy,
+    tests: { crude: crudeTested.length, adjusted: adjustedTested.length },
+    methods: {
+      welch: "Welch two-sample t test on the means (affected against sound slabs), two-sided; means and variances by Welford's updating; a variable whose values are all equal is not testable",
+      chiSquare: "chi-square test of independence (categories × affected), asymptotic",
+      crude: `each numeric variable alone in a logistic regression, odds ratio per its interquartile range (type 7 quartiles) with a Wald 95 % interval; ${seWords(q.se)}`,
+      ...(adjusting
+        ? {
+            adjusted: `each variable in a logistic regression with ${adjustWords}: numeric, the odds ratio per IQR with its Wald 95 % interval and the Wald z test; categorical, the ${q.se === "model" ? "likelihood-ratio" : "heat-clustered Wald"} chi-square over its levels; ${seWords(q.se)}`,
+          }
+        : {}),
+      multiplicity: "Benjamini–Hochberg step-up adjustment (1995), separately over the crude and over the adjusted tests made on raw conditions",
+      grouping: GROUPING_METHOD,
+    },
+    notes,
+  };
 }

@@ -1,13 +1,14 @@
-import { ControlChartView } from "@/features/reports/components/control-chart-view";
+import { ControlChartSettings, ControlChartView } from "@/features/reports/components/control-chart-view";
 import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
-import { PeriodChoice, SettingsRow } from "@/features/reports/components/settings";
 import { makeReportLoader, useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "control-chart" as const;
 
 export const makeLoader = makeReportLoader(KIND);
+
+const CHART_NAMES: Record<string, string> = { p: "p-chart", laney: "Laney p′ chart", u: "u-chart" };
 
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);
@@ -18,15 +19,11 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`p-chart by ${params.period} — ${describeFilters(params)}`}
+      suggestedName={`${CHART_NAMES[params.chart ?? "p"] ?? "p-chart"} by ${params.period}${params.baselineFrom ? `, baseline ${params.baselineFrom} to ${params.baselineTo}` : ""} — ${describeFilters(params)}`}
       canExport={report.isSuccess}
-      settings={
-        <SettingsRow>
-          <PeriodChoice label="One point per" value={params.period!} months={false} onChange={(v) => update({ period: v })} />
-        </SettingsRow>
-      }
+      settings={<ControlChartSettings params={params} onChange={update} />}
     >
-      <ReportResult query={report}>{(data) => <ControlChartView data={data} />}</ReportResult>
+      <ReportResult query={report}>{(data) => <ControlChartView data={data} onChange={update} />}</ReportResult>
     </ReportPage>
   );
 }

@@ -1,7 +1,7 @@
 import { OverviewView } from "@/features/reports/components/overview-view";
 import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
-import { PeriodChoice, SettingsRow } from "@/features/reports/components/settings";
+import { PeriodChoice, SettingsRow, StandardiseChoice } from "@/features/reports/components/settings";
 import { makeReportLoader, useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
@@ -23,6 +23,9 @@ export function Component() {
       settings={
         <SettingsRow>
           <PeriodChoice label="Rates by" value={params.period!} months={true} onChange={(v) => update({ period: v })} />
+          <div className="col-span-2">
+            <StandardiseChoice value={params.standardise} onChange={(v) => update({ standardise: v })} />
+          </div>
         </SettingsRow>
       }
     >

@@ -1,6 +1,7 @@
-import { describeFilters, FILTER_KEYS, reportPath, reportQueryString, readReportParams } from "@/features/reports/components/report-params";
+import { termConflict } from "@shared/api/reports";
+import { describeFilters, FILTER_KEYS, listOf, reportPath, reportQueryString, readReportParams } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
-import { ScreeningView } from "@/features/reports/components/screening-view";
+import { ScreeningSettings, ScreeningView } from "@/features/reports/components/screening-view";
 import { makeReportLoader, useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
@@ -10,10 +11,13 @@ export const makeLoader = makeReportLoader(KIND);
 
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);
-  // A numeric variable opens in rate-against-a-variable with the same filters.
+  // A numeric variable opens in rate-against-a-variable with the same filters, adjusted for the same
+  // terms when one model can hold them with it (not a derived value beside its raw input).
+  const adjust = listOf(params.adjustFor).filter((k) => k !== "none");
   const linkFor = (key: string) => {
     const filters = Object.fromEntries(FILTER_KEYS.filter((k) => params[k]).map((k) => [k, params[k]!]));
-    const next = readReportParams("rate-by-variable", new URLSearchParams({ ...filters, variable: key }));
+    const carry = adjust.length && !termConflict([key, ...adjust]) ? { adjustFor: adjust.join(","), ...(params.se ? { se: params.se } : {}) } : {};
+    const next = readReportParams("rate-by-variable", new URLSearchParams({ ...filters, variable: key, ...carry }));
     return reportPath("rate-by-variable", reportQueryString("rate-by-variable", next));
   };
   return (
@@ -25,6 +29,7 @@ export function Component() {
       onChange={update}
       suggestedName={`Screening — ${describeFilters(params)}`}
       canExport={report.isSuccess}
+      settings={<ScreeningSettings params={params} onChange={update} />}
     >
       <ReportResult query={report}>{(data) => <ScreeningView data={data} linkFor={linkFor} />}</ReportResult>
     </ReportPage>

@@ -1,6 +1,7 @@
 import { keepPreviousData, queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
 import {
+  adjustedSchema,
   beforeAfterSchema,
   controlChartSchema,
   overviewSchema,
@@ -22,6 +23,7 @@ const SCHEMAS = {
   "before-after": beforeAfterSchema,
   "slab-positions": slabPositionsSchema,
   "cause-pareto": causeParetoSchema,
+  adjusted: adjustedSchema,
 } as const satisfies Record<ReportKind, z.ZodType>;
 
 export type ReportResult<K extends ReportKind> = z.infer<(typeof SCHEMAS)[K]>;

@@ -1,10 +1,13 @@
 import { lazy, Suspense, useEffect, useState } from "react";
 import type { BeforeAfter } from "@shared/api/reports";
+import { CATEGORICAL_KEYS, CATEGORICAL_LABELS } from "@shared/variables";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { Figure } from "./figure";
 import { Spinner } from "@/components/ui/logo";
-import { pct, pctRange, plural, pValue } from "@/lib/format";
+import { lowerFirst, pct, pctRange, plural, pValue } from "@/lib/format";
+import { BeforeAfterStrata } from "./before-after-strata";
+import { points } from "./estimates";
 import { inputClass, labelClass, labelText } from "./filter-bar";
 import type { ReportParams } from "./report-params";
 import { Choice, SettingsRow, VariableSelect, variableOf } from "./settings";
@@ -13,8 +16,6 @@ import { RateTable } from "./tables";
 
 const CategoryRateChart = lazy(() => import("./charts/category-rate-chart"));
 
-/** A difference of two rates in percentage points, with a true minus sign. */
-const points = (v: number | null, signed = false) => (v === null ? "—" : `${v > 0 && signed ? "+" : v < 0 ? "−" : ""}${Math.abs(v * 100).toFixed(2)}`);
 
 const RANGE_KEYS = ["aFrom", "aTo", "bFrom", "bTo", "aMin", "aMax", "bMin", "bMax"] as const;
 
@@ -73,6 +74,14 @@ export function BeforeAfterSettings({ params, onChange }: { params: ReportParams
             <VariableSelect label="Variable" value={params.variable ?? "casting_speed_m_min"} onChange={(k) => onChange({ variable: k })} />
           </div>
         )}
+        <Choice
+          label="Compare within"
+          testId="within-select"
+          value={params.stratifyBy ?? ""}
+          options={[{ value: "", label: "Not split (all slabs together)" }, ...CATEGORICAL_KEYS.map((k) => ({ value: k, label: `Each ${lowerFirst(CATEGORICAL_LABELS[k])}` }))]}
+          onChange={(v) => onChange({ stratifyBy: v || undefined })}
+          hint="A against B inside each group, then pooled (Mantel–Haenszel)"
+        />
       </SettingsRow>
       <div className="grid grid-cols-2 gap-3 md:grid-cols-5">
         {periods
@@ -87,7 +96,7 @@ export function BeforeAfterSettings({ params, onChange }: { params: ReportParams
       <p className="text-xs text-ink-600">
         {periods
           ? "The filters above apply to both periods, except their dates: each side takes its own."
-          : "Both ends of a range are included. A slab in both ranges counts on both sides."}
+          : "Both ends of a range are included, so the two ranges may not meet or overlap: a slab counts in one group only."}
       </p>
     </form>
   );
@@ -109,11 +118,16 @@ export function BeforeAfterView({ data }: { data: BeforeAfter }) {
           value={points(d.value, true)}
           note={`percentage points · 95 % CI ${points(d.lower)} to ${points(d.upper)}`}
         />
-        <Figure label={data.test.name === "fisher" ? "Fisher's exact test" : "Chi-square test"} value={`p ${pValue(data.test.p)}`} note="two-sided" />
+        {data.test.name === "none" ? (
+          <Figure label="No test" value={<span data-testid="test-p">—</span>} note={<span data-testid="test-reason">{data.test.reason ?? "nothing to compare"}</span>} />
+        ) : (
+          <Figure label={data.test.name === "fisher" ? "Fisher's exact test" : "Chi-square test"} value={<span data-testid="test-p">{`p ${pValue(data.test.p)}`}</span>} note="two-sided" />
+        )}
       </div>
       <SmallNWarning
         notes={[
           data.a.slabs === 0 || data.b.slabs === 0 ? "One side holds no slab: there is nothing to compare." : "",
+          data.test.name === "none" && data.a.slabs > 0 && data.b.slabs > 0 && data.test.reason ? `No test: ${data.test.reason}.` : "",
           data.a.slabs > 0 && data.a.slabs < FEW_SLABS ? `A holds only ${plural(data.a.slabs, "slab")}.` : "",
           data.b.slabs > 0 && data.b.slabs < FEW_SLABS ? `B holds only ${plural(data.b.slabs, "slab")}.` : "",
           data.test.name === "fisher" && data.a.slabs > 0 && data.b.slabs > 0 ? "An expected count is below 5: Fisher's exact test is used instead of chi-square." : "",
@@ -125,10 +139,18 @@ export function BeforeAfterView({ data }: { data: BeforeAfter }) {
         </Suspense>
         <RateTable rows={rows} labelHeader="Side" fewN={FEW_SLABS} testId="before-after-table" />
         <p className="mt-2 text-xs text-ink-600">
-          {d.method.charAt(0).toUpperCase() + d.method.slice(1)}. {data.test.method}. A change between two periods may come from anything else that changed with them — grade mix,
+          {d.method.charAt(0).toUpperCase() + d.method.slice(1)}. {data.test.name === "none" ? "No test" : data.test.method}. A change between two periods may come from anything else that changed with them — grade mix,
           campaign, crew, measurement — not only from the change under study.
         </p>
+        {data.notes.length ? (
+          <ul className="mt-2 list-disc space-y-0.5 pl-5 text-xs text-ink-700" data-testid="before-after-notes">
+            {data.notes.filter((n) => !n.startsWith("No test:")).map((n) => (
+              <li key={n}>{n}</li>
+            ))}
+          </ul>
+        ) : null}
       </Card>
+      {data.stratified ? <BeforeAfterStrata stratified={data.stratified} /> : null}
     </div>
   );
 }

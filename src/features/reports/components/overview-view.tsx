@@ -1,4 +1,4 @@
-import { lazy, Suspense } from "react";
+import { lazy, Suspense, useMemo } from "react";
 import type { Overview } from "@shared/api/reports";
 import { Card } from "@/components/ui/card";
 import { Figure } from "./figure";
@@ -18,12 +18,15 @@ export function OverviewView({ data }: { data: Overview }) {
   const fewPeriods = data.periods.filter((p) => p.slabs < FEW_SLABS).length;
   const fewGrades = data.byGrade.filter((g) => g.slabs < FEW_SLABS).length;
   const warnings = [
+    ...data.notes,
     t.slabs === 0 ? "No slab matches these filters." : "",
     t.slabs > 0 && t.affected < 10 ? `Only ${plural(t.affected, "affected slab")} in these filters: every rate here has a wide interval.` : "",
     fewPeriods ? `${plural(fewPeriods, word)} with fewer than ${FEW_SLABS} slabs (shown hollow and greyed).` : "",
     fewGrades ? `${plural(fewGrades, "grade")} with fewer than ${FEW_SLABS} slabs (greyed).` : "",
   ];
   const paretoTotal = data.pareto.reduce((s, r) => s + r.defects, 0);
+  const std = data.standardisation;
+  const second = useMemo(() => (std ? { name: "Standardised to the grade mix", rates: data.periods.map((p) => p.standardised?.rate ?? null) } : undefined), [std, data.periods]);
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="overview-summary">
@@ -42,8 +45,16 @@ export function OverviewView({ data }: { data: Overview }) {
             testId="period-chart"
             label={`Share of slabs affected in ${plural(data.periods.length, word)}, with 95 % intervals`}
             xName={word === "week" ? "ISO week of casting" : `${word[0]!.toUpperCase()}${word.slice(1)} of casting`}
+            second={second}
           />
         </Suspense>
+        {std ? (
+          <p className="mt-1 text-xs text-ink-700" data-testid="standardisation">
+            <span className="font-semibold">Standardised to the grade mix</span> (dashed line, diamonds): each {word}'s rate as if it had cast {std.reference} —{" "}
+            {std.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${m.slabs.toLocaleString("en-GB")})`).join(", ")}. A {word} whose standardised rate differs from its crude one
+            cast a different mix; compare {word}s on the standardised rate. {std.method.charAt(0).toUpperCase() + std.method.slice(1)}.
+          </p>
+        ) : null}
         <div className="mt-3 max-h-96 overflow-y-auto">
           <TableWrap>
             <table className="w-full text-sm" data-testid="periods-table">
@@ -54,6 +65,12 @@ export function OverviewView({ data }: { data: Overview }) {
                   <th className={thNum}>Affected</th>
                   <th className={thNum}>Share affected</th>
                   <th className={thNum}>95 % CI</th>
+                  {std ? (
+                    <>
+                      <th className={`${thNum} border-l-2 border-ink-200`}>Standardised</th>
+                      <th className={thNum}>95 % CI</th>
+                    </>
+                  ) : null}
                   <th className={thNum}>Defects</th>
                   <th className={thNum}>per 100 slabs</th>
                   <th className={thNum}>Tonnes</th>
@@ -73,6 +90,16 @@ export function OverviewView({ data }: { data: Overview }) {
                       <td className={tdNum} data-field="affected">{p.affected.toLocaleString("en-GB")}</td>
                       <td className={tdNum} data-field="rate">{pct(p.rate)}</td>
                       <td className={tdNum}>{pctRange(p.ciLower, p.ciUpper)}</td>
+                      {std ? (
+                        <>
+                          <td className={`${tdNum} border-l-2 border-ink-200 font-semibold`} data-field="standardised" title={p.standardised?.reason ?? undefined}>
+                            {pct(p.standardised?.rate)}
+                          </td>
+                          <td className={tdNum} data-field="standardisedCi">
+                            {p.standardised?.rate === null || !p.standardised ? <span className="text-xs">{p.standardised?.reason ?? "—"}</span> : pctRange(p.standardised.ciLower, p.standardised.ciUpper)}
+                          </td>
+                        </>
+                      ) : null}
                       <td className={tdNum}>{p.defects.toLocaleString("en-GB")}</td>
                       <td className={tdNum}>{num(p.per100Slabs, 2)}</td>
                       <td className={tdNum}>{num(p.tonnes, 0)}</td>

@@ -6,6 +6,7 @@ import { Spinner } from "@/components/ui/logo";
 import { lowerFirst, num, pct, plural, pValue, sig } from "@/lib/format";
 import { FEW_SLABS, SmallNWarning } from "./small-n";
 import { td, tdNum, th, thNum, TableWrap } from "./tables";
+import { RateAdjustedCard, RateStratifiedCard } from "./rate-adjusted";
 
 const RateBinsChart = lazy(() => import("./charts/rate-bins-chart"));
 const DistributionChart = lazy(() => import("./charts/distribution-chart"));
@@ -46,11 +47,13 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
       </div>
       <SmallNWarning
         notes={[
-          ...data.notes,
+          // The sentence and the missing adjusted estimate are said in the adjusted card.
+          ...data.notes.filter((n) => n !== data.adjusted?.changeInEstimate.sentence && !n.startsWith("Adjusted odds ratio not given")),
           // The server warns below 10 affected slabs; a logistic fit and its odds ratio stay rough well above that.
           data.affected >= 10 && data.affected < FEW_SLABS ? `Only ${data.affected} affected slabs: the odds ratio's interval is wide and the bins' rates rest on a handful each.` : "",
         ]}
       >{thinBins && !data.notes.some((n) => n.includes("fewer than")) ? `${plural(thinBins, "bin")} hold fewer than ${minN} slabs (greyed).` : null}</SmallNWarning>
+      {data.adjusted ? <RateAdjustedCard adjusted={data.adjusted} variable={data.variable} method={methods.adjusted} /> : null}
       <Card title={`Share of slabs affected against ${lowerFirst(data.variable.label)}`}>
         <Suspense fallback={<Spinner label="Loading the chart" />}>
           <RateBinsChart data={data} digits={digits} minN={minN} />
@@ -90,6 +93,7 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
           Bars span their bins; whiskers are Wilson 95 % intervals; the dashed curve is the fitted logistic model. Grey, hatched bars hold fewer than {minN} slabs.
         </p>
       </Card>
+      {data.stratified ? <RateStratifiedCard data={data} stratified={data.stratified} digits={digits} minN={minN} /> : null}
       <Card title="Tests of association (every p two-sided)">
         <TableWrap caption={`n = ${data.slabs.toLocaleString("en-GB")} slabs (${data.affected.toLocaleString("en-GB")} affected, ${(data.slabs - data.affected).toLocaleString("en-GB")} sound) in every test.`}>
           <table className="w-full text-sm" data-testid="tests-table">

@@ -4,6 +4,7 @@ import { Link } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
+import { ApiError } from "@/lib/api-client";
 import { ExportButton, SaveReport } from "./report-actions";
 import { ReportCautions } from "./report-cautions";
 import { FilterBar, type FilterChoices } from "./filter-bar";
@@ -76,6 +77,18 @@ export function Updating({ on }: { on: boolean }) {
   ) : null;
 }
 
+/**
+ * The server's refusal in its own words: a refused parameter's message without the internal key it
+ * is filed under ("variables: Throughput is computed from casting speed …" reads as the sentence).
+ */
+function refusalText(error: Error): string {
+  if (error instanceof ApiError && error.code === "validation_failed" && Array.isArray(error.details)) {
+    const messages = (error.details as { message?: unknown }[]).map((d) => d?.message).filter((m): m is string => typeof m === "string" && m.length > 0);
+    if (messages.length) return [...new Set(messages)].join(" ");
+  }
+  return error.message;
+}
+
 /** The report's answer: a spinner while it is computed, the server's message if it refuses, else the figures. */
 export function ReportResult<T>({ query, children }: { query: UseQueryResult<T>; children: (data: T) => ReactNode }) {
   return (
@@ -88,7 +101,11 @@ export function ReportResult<T>({ query, children }: { query: UseQueryResult<T>;
           <Spinner label="Computing the report" />
         </Card>
       ) : query.isError ? (
-        <Notice tone="error">{query.error.message}</Notice>
+        <div data-testid="report-refused">
+          <Notice tone="error" title={query.error instanceof ApiError && query.error.status === 400 ? "Cannot answer" : undefined}>
+            {refusalText(query.error)}
+          </Notice>
+        </div>
       ) : (
         children(query.data)
       )}

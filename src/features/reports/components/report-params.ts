@@ -1,5 +1,5 @@
 import { REPORT_KINDS } from "@shared/api/reports";
-import { VARIABLES } from "@shared/variables";
+import { termLabel } from "@shared/api/reports";
 
 export type ReportKind = (typeof REPORT_KINDS)[number];
 
@@ -33,19 +33,31 @@ export const REPORTS: ReportSpec[] = [
     title: "Overview",
     summary: "Share of slabs affected by period with its interval, defects per 100 slabs and per 1000 t, a Pareto of defect types, rates by grade and by strand.",
     defaults: { period: "week" },
+    // standardise=grade_family: each period's rate directly standardised to the grade-family mix, beside the crude one.
+    optional: ["standardise"],
   },
   {
     kind: "rate-by-variable",
     title: "Rate against a variable",
-    summary: "Binned rates with Wilson intervals against one casting condition; Spearman, logistic odds ratio and Mann–Whitney between affected and sound slabs.",
+    summary: "Binned rates with Wilson intervals against one casting condition; Spearman, logistic odds ratio and Mann–Whitney between affected and sound slabs; the odds ratio adjusted for the grade mix and the rates split by grade family, strand or another group on request.",
     defaults: { variable: "casting_speed_m_min", bins: "10", binning: "equal", minN: "30" },
+    // Off until chosen: adjustFor (terms of the adjusted odds ratio), stratifyBy (one curve per group), se (their standard errors).
+    optional: ["adjustFor", "stratifyBy", "se"],
   },
   {
     kind: "screening",
     title: "Screening",
-    summary: "Every condition ranked by its association with the defect: Welch t or chi-square, p-values adjusted by Benjamini–Hochberg.",
+    summary: "Every condition ranked by its association with the defect adjusted for the grade family (or what you choose): odds ratios per interquartile range, crude beside adjusted, p-values adjusted by Benjamini–Hochberg.",
     // The API takes minN here but does not use it yet (its few-slabs mark is fixed): no setting that changes nothing.
-    defaults: {},
+    // adjustFor: the API's own default (grade family) written out, so the address says the whole question; "none" for crude only.
+    defaults: { adjustFor: "grade_family" },
+    optional: ["se"],
+  },
+  {
+    kind: "adjusted",
+    title: "Adjusted model",
+    summary: "Is it the condition, or the grade mix? Crude and adjusted odds ratios side by side for the conditions you examine, adjusted for grade family or anything else, with heat-clustered intervals and a forest plot.",
+    defaults: { variables: "casting_speed_m_min", adjustFor: "grade_family", se: "cluster", per: "step" },
   },
   {
     kind: "process-window",
@@ -56,15 +68,16 @@ export const REPORTS: ReportSpec[] = [
   {
     kind: "control-chart",
     title: "Control chart",
-    summary: "p-chart of the affected share by day or week, with 3σ limits for each period's own number of slabs and out-of-control periods marked.",
-    defaults: { period: "day" },
+    summary: "p-chart, Laney p′ chart or u-chart by day or week: limits from a baseline period applied to the later ones, Western Electric run rules, out-of-control periods marked.",
+    defaults: { period: "day", chart: "p", rules: "on" },
+    optional: ["baselineFrom", "baselineTo", "standardise"],
   },
   {
     kind: "before-after",
     title: "Before and after",
-    summary: "Two periods, or two ranges of one condition: the difference in rates with its interval, and Fisher's or the chi-square test.",
+    summary: "Two periods, or two ranges of one condition: the difference in rates with its interval, and Fisher's or the chi-square test; compared within each grade family (Mantel–Haenszel) on request.",
     defaults: { mode: "periods" },
-    optional: ["aFrom", "aTo", "bFrom", "bTo", "variable", "aMin", "aMax", "bMin", "bMax"],
+    optional: ["aFrom", "aTo", "bFrom", "bTo", "variable", "aMin", "aMax", "bMin", "bMax", "stratifyBy"],
   },
   {
     kind: "slab-positions",
@@ -130,20 +143,45 @@ export function describeFilters(p: ReportParams): string {
   return parts.length ? parts.join(", ") : "all slabs, every defect type";
 }
 
-const varLabel = (k: string | undefined) => VARIABLES.find((v) => v.key === k)?.label ?? k ?? "";
+const varLabel = (k: string | undefined) => (k ? termLabel(k) : "");
+/** A list of model terms in words: "casting speed, superheat"; "none" (or nothing) as `none`. */
+const termsInWords = (v: string | undefined, none: string) => {
+  const keys = listOf(v).filter((k) => k.toLowerCase() !== "none");
+  return keys.length ? keys.map((k) => lowerFirstWord(termLabel(k))).join(", ") : none;
+};
+const lowerFirstWord = (s: string) => (/^[A-Z][a-z]/.test(s) ? s[0]!.toLowerCase() + s.slice(1) : s);
+const CHART_WORDS: Record<string, string> = { p: "p-chart", laney: "Laney p′ chart", u: "u-chart" };
 
 /** The report's own settings in a few words: "Casting speed, 8 equal-width bins". */
 export function describeSettings(kind: ReportKind, p: ReportParams): string {
   switch (kind) {
     case "overview":
+      return `by ${p.period === "week" ? "ISO week" : p.period}${p.standardise ? ", standardised to the grade mix" : ""}`;
     case "control-chart":
-      return `by ${p.period === "week" ? "ISO week" : p.period}`;
+      return [
+        `${CHART_WORDS[p.chart ?? "p"] ?? p.chart} by ${p.period === "week" ? "ISO week" : p.period}`,
+        p.baselineFrom && p.baselineTo ? `baseline ${p.baselineFrom} to ${p.baselineTo}` : "",
+        p.rules === "off" ? "run rules off" : "",
+        p.standardise ? "standardised rates beside" : "",
+      ]
+        .filter(Boolean)
+        .join(", ");
     case "rate-by-variable":
-      return `${varLabel(p.variable)}, ${p.bins} ${p.binning === "quantile" ? "quantile" : "equal-width"} bins`;
+      return [
+        `${varLabel(p.variable)}, ${p.bins} ${p.binning === "quantile" ? "quantile" : "equal-width"} bins`,
+        p.adjustFor && p.adjustFor !== "none" ? `adjusted for ${termsInWords(p.adjustFor, "nothing")}` : "",
+        p.stratifyBy ? `split by ${lowerFirstWord(varLabel(p.stratifyBy))}` : "",
+      ]
+        .filter(Boolean)
+        .join(", ");
+    case "screening":
+      return `adjusted for ${termsInWords(p.adjustFor, "nothing (crude only)")}`;
+    case "adjusted":
+      return `${termsInWords(p.variables, "—")} adjusted for ${termsInWords(p.adjustFor, "nothing")}${p.se === "model" ? ", model-based SEs" : ""}`;
     case "process-window":
       return `${varLabel(p.x)} × ${varLabel(p.y)}`;
     case "before-after":
-      return p.mode === "variable" ? `${varLabel(p.variable)} ${p.aMin ?? "…"}–${p.aMax ?? "…"} against ${p.bMin ?? "…"}–${p.bMax ?? "…"}` : `${p.aFrom ?? "…"} to ${p.aTo ?? "…"} against ${p.bFrom ?? "…"} to ${p.bTo ?? "…"}`;
+      return `${p.mode === "variable" ? `${varLabel(p.variable)} ${p.aMin ?? "…"}–${p.aMax ?? "…"} against ${p.bMin ?? "…"}–${p.bMax ?? "…"}` : `${p.aFrom ?? "…"} to ${p.aTo ?? "…"} against ${p.bFrom ?? "…"} to ${p.bTo ?? "…"}`}${p.stratifyBy ? `, within each ${lowerFirstWord(varLabel(p.stratifyBy))}` : ""}`;
     case "slab-positions":
       return `${p.alongBins} bands along, ${p.acrossBins} across`;
     case "cause-pareto":

@@ -83,3 +83,20 @@ export function PeriodChoice({ label, value, months, onChange }: { label: string
 export function SettingsRow({ children }: { children: ReactNode }) {
   return <div className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-6">{children}</div>;
 }
+
+/** Crude rates only, or each period's rate directly standardised to the grade-family mix beside it. */
+export function StandardiseChoice({ value, onChange, testId = "standardise-select" }: { value: string | undefined; onChange: (v: string | undefined) => void; testId?: string }) {
+  return (
+    <Choice
+      label="Grade mix"
+      testId={testId}
+      value={value ?? ""}
+      options={[
+        { value: "", label: "Rates as cast" },
+        { value: "grade_family", label: "Also standardise to the grade mix" },
+      ]}
+      onChange={(v) => onChange(v || undefined)}
+      hint="compares periods as if each had cast the same grade-family mix"
+    />
+  );
+}

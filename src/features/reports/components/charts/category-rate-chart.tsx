@@ -27,6 +27,7 @@ export function CategoryRateChart({
   label,
   height = 320,
   xName,
+  second,
 }: {
   rows: RateRow[];
   mode?: "bars" | "points";
@@ -35,15 +36,17 @@ export function CategoryRateChart({
   label: string;
   height?: number;
   xName?: string;
+  /** Points mode: a second rate per row (a standardised rate) drawn as a dashed line with diamonds; null where there is none. */
+  second?: { name: string; rates: (number | null)[] };
 }) {
   const option = useMemo(() => {
-    const yMax = Math.max(0.01, ...rows.map((r) => r.ciUpper ?? 0)) * 1.12;
+    const yMax = Math.max(0.01, ...rows.map((r) => r.ciUpper ?? 0), ...(second?.rates.map((v) => v ?? 0) ?? [])) * 1.12;
     const cats = rows.map((r) => (mode === "bars" ? `${r.label}\nn = ${r.slabs.toLocaleString("en-GB")}` : r.label));
     const zoom = mode === "points" && rows.length > 60;
     return {
       animation: false,
       grid: { left: 72, right: 24, top: 40, bottom: zoom ? 84 : mode === "bars" ? 56 : 48 },
-      legend: { top: 4, data: ["Share of slabs affected", "95 % interval (Wilson)"] },
+      legend: { top: 4, data: ["Share of slabs affected", "95 % interval (Wilson)", ...(second && mode === "points" ? [second.name] : [])] },
       tooltip: {
         ...tooltipBase,
         trigger: "axis",
@@ -51,7 +54,8 @@ export function CategoryRateChart({
         formatter: (ps: { dataIndex: number }[]) => {
           const r = rows[ps[0]?.dataIndex ?? 0];
           if (!r) return "";
-          return `<b>${esc(r.label)}</b><br/>${pct(r.rate)} (95 % CI ${pctRange(r.ciLower, r.ciUpper)})<br/>${r.affected} affected of n = ${r.slabs}${r.slabs < fewN ? `<br/><i>fewer than ${fewN} slabs</i>` : ""}`;
+          const s2 = second && mode === "points" ? second.rates[ps[0]?.dataIndex ?? 0] : undefined;
+          return `<b>${esc(r.label)}</b><br/>${pct(r.rate)} (95 % CI ${pctRange(r.ciLower, r.ciUpper)})<br/>${r.affected} affected of n = ${r.slabs}${s2 !== undefined ? `<br/>${esc(second!.name)}: ${pct(s2)}` : ""}${r.slabs < fewN ? `<br/><i>fewer than ${fewN} slabs</i>` : ""}`;
         },
       },
       xAxis: {
@@ -92,9 +96,24 @@ export function CategoryRateChart({
           rows.map((r, i) => [i, r.ciLower ?? 0, r.ciUpper ?? 0]),
           { cap: mode === "bars" ? 8 : 3, color: mode === "bars" ? INK[900] : INK[600] },
         ),
+        ...(second && mode === "points"
+          ? [
+              {
+                type: "line",
+                name: second.name,
+                showSymbol: true,
+                symbol: "diamond",
+                symbolSize: 8,
+                lineStyle: { width: 1.8, type: "dashed", color: SERIES_COLORS[1] },
+                itemStyle: { color: SERIES_COLORS[1] },
+                data: second.rates,
+                z: 4,
+              },
+            ]
+          : []),
       ],
     };
-  }, [rows, mode, fewN, xName]);
+  }, [rows, mode, fewN, xName, second]);
   return <ReportChart option={option} height={height} testId={testId} label={label} />;
 }
 

@@ -1,54 +1,133 @@
 import { useMemo } from "react";
 import type { ControlChart } from "@shared/api/reports";
 import { INK, SERIES_COLORS } from "@/lib/chart-theme";
-import { pct } from "@/lib/format";
+import { num, pct } from "@/lib/format";
 import { pctAxis, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
 const ALARM = "#a61b1b";
+const RULE = "#7a5a10";
+
+/** The plotted value in words: a share (p, Laney) or defects per slab (u). */
+export const valueText = (chart: ControlChart["chart"], v: number | null | undefined) => (chart === "u" ? num(v, 3) : pct(v));
+
+/** "rule 2", "rules 2, 4": the Western Electric rules a point completes, beyond rule 1 (marked by its triangle). */
+export const ruleWords = (signals: number[]) => {
+  const r = signals.filter((s) => s !== 1);
+  return r.length === 0 ? "" : `rule${r.length === 1 ? "" : "s"} ${r.join(", ")}`;
+};
+
+const PHASE_LOOK = {
+  before: { label: "Before the baseline", fill: "rgba(138,152,165,0.10)" },
+  baseline: { label: "Baseline (Phase I)", fill: "rgba(11,93,107,0.10)" },
+  monitoring: { label: "Monitoring (Phase II)", fill: "rgba(232,176,74,0.10)" },
+} as const;
 
 /**
- * The p-chart: each period's share of affected slabs, the centre line p̄, and the 3σ limits that
- * move with each period's own n (drawn as steps). A period outside its limits carries a triangle and
- * a label ("above UCL" / "below LCL"), not only a colour.
+ * The control chart: each period's value (share affected, or defects per slab on the u-chart), the
+ * centre line, and the 3σ limits that move with each period's own n (drawn as steps). A period
+ * outside its limits carries a triangle and a label ("above UCL" / "below LCL"); a point completing
+ * a Western Electric run rule carries a hollow square and "rule n"; a baseline's phases are shaded
+ * and named. Never colour alone.
  */
 export function PChart({ data }: { data: ControlChart }) {
   const option = useMemo(() => {
     const pts = data.points;
+    const u = data.chart === "u";
     const zoom = pts.length > 60;
-    const out = pts.map((p, i) => (p.outOfControl ? { value: [i, p.p], above: p.p > p.ucl } : null)).filter(Boolean) as { value: [number, number]; above: boolean }[];
-    const yMax = Math.max(0.01, ...pts.map((p) => Math.max(p.p, p.ucl))) * 1.1;
+    const value = (p: ControlChart["points"][number]) => p.value ?? (u ? null : p.p);
+    const out = pts.map((p, i) => (p.outOfControl ? { value: [i, value(p)], above: (value(p) ?? 0) > p.ucl } : null)).filter(Boolean) as { value: [number, number]; above: boolean }[];
+    // A run of points completing the same rule (eight in a row on one side …) is named once, at its first point.
+    const ruled = pts
+      .map((p, i) => {
+        const words = ruleWords(p.signals);
+        const repeat = i > 0 && words !== "" && ruleWords(pts[i - 1]!.signals) === words;
+        return words ? { value: [i, value(p)], words: repeat ? "" : words, below: (p.z ?? 0) < 0 } : null;
+      })
+      .filter(Boolean) as { value: [number, number]; words: string; below: boolean }[];
+    const std = pts.some((p) => p.standardised);
+    const yMax = Math.max(u ? 0.05 : 0.01, ...pts.map((p) => Math.max(value(p) ?? 0, p.ucl, p.standardised?.rate ?? 0))) * 1.12;
+    const name = u ? "u (defects per slab)" : data.chart === "laney" ? "p (share affected), Laney p′ limits" : "p (share affected)";
+    const limit = data.chart === "laney" ? "3σ·σ_z" : "3σ";
+    // Shaded phases, each named at its top: consecutive runs of one phase.
+    const runs: { phase: keyof typeof PHASE_LOOK; from: number; to: number }[] = [];
+    if (data.baseline) {
+      pts.forEach((p, i) => {
+        const last = runs[runs.length - 1];
+        if (last && last.phase === p.phase) last.to = i;
+        else runs.push({ phase: p.phase, from: i, to: i });
+      });
+    }
+    const legend = [name, ...(std ? ["Standardised to the grade mix"] : []), u ? "ū (centre line)" : "p̄ (centre line)", `UCL (${limit})`, `LCL (${limit})`, "Out of control", ...(data.rules.on ? ["Run-rule signal"] : [])];
     return {
       animation: false,
-      grid: { left: 72, right: 24, top: 44, bottom: zoom ? 84 : 48 },
-      legend: { top: 4, data: ["p (share affected)", "p̄ (centre line)", "UCL (3σ)", "LCL (3σ)", "Out of control"] },
+      grid: { left: 72, right: 24, top: data.baseline ? 76 : 48, bottom: zoom ? 84 : 48 },
+      legend: { top: 4, data: legend },
       tooltip: {
         ...tooltipBase,
         trigger: "axis",
         formatter: (ps: { dataIndex: number }[]) => {
           const p = pts[ps[0]?.dataIndex ?? 0];
           if (!p) return "";
-          return `<b>${p.period}</b><br/>p = ${pct(p.p)} (${p.affected} of n = ${p.slabs})<br/>UCL ${pct(p.ucl)} · LCL ${pct(p.lcl)}${p.outOfControl ? `<br/><b>Out of control: ${p.p > p.ucl ? "above UCL" : "below LCL"}</b>` : ""}`;
+          const words = ruleWords(p.signals);
+          return `<b>${p.period}</b> · ${PHASE_LOOK[p.phase].label}<br/>${u ? `u = ${num(p.value, 3)} (${p.defects} defects on n = ${p.slabs})` : `p = ${pct(p.p)} (${p.affected} of n = ${p.slabs})`}<br/>UCL ${valueText(data.chart, p.ucl)} · LCL ${valueText(data.chart, p.lcl)}${p.standardised ? `<br/>Standardised ${pct(p.standardised.rate)}` : ""}${p.outOfControl ? `<br/><b>Out of control: ${(value(p) ?? 0) > p.ucl ? "above UCL" : "below LCL"}</b>` : ""}${words ? `<br/><b>Signal: ${words}</b>` : ""}`;
         },
       },
       xAxis: { type: "category", data: pts.map((p) => p.period), name: data.period === "day" ? "Day of casting" : "ISO week of casting", nameLocation: "middle", nameGap: 30, axisLabel: { hideOverlap: true } },
-      yAxis: { type: "value", min: 0, max: yMax, name: "Share of slabs affected", nameLocation: "middle", nameRotate: 90, nameGap: 46, axisLabel: { formatter: pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false } },
+      yAxis: {
+        type: "value",
+        min: 0,
+        max: yMax,
+        name: u ? "Defects per slab" : "Share of slabs affected",
+        nameLocation: "middle",
+        nameRotate: 90,
+        nameGap: 50,
+        axisLabel: { formatter: u ? (v: number) => num(v, 2) : pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false },
+      },
       dataZoom: zoom ? [{ type: "inside" }, { type: "slider", height: 20, bottom: 10 }] : undefined,
       series: [
         {
           type: "line",
-          name: "p (share affected)",
-          data: pts.map((p) => p.p),
+          name,
+          data: pts.map(value),
           showSymbol: true,
           symbol: "circle",
           symbolSize: 5,
           itemStyle: { color: SERIES_COLORS[0] },
           lineStyle: { color: SERIES_COLORS[0], width: 1.5 },
           z: 3,
+          markArea: runs.length
+            ? {
+                silent: true,
+                data: runs.map((r) => [
+                  {
+                    xAxis: r.from,
+                    itemStyle: { color: PHASE_LOOK[r.phase].fill },
+                    label: { show: true, position: "insideTop", formatter: PHASE_LOOK[r.phase].label, color: INK[700], fontSize: 11, fontWeight: 600, offset: [0, -22] },
+                  },
+                  { xAxis: r.to },
+                ]),
+              }
+            : undefined,
         },
-        { type: "line", name: "p̄ (centre line)", data: pts.map(() => data.pBar), symbol: "none", itemStyle: { color: INK[700] }, lineStyle: { color: INK[700], width: 1.5 }, silent: true },
-        { type: "line", name: "UCL (3σ)", data: pts.map((p) => p.ucl), step: "middle", symbol: "none", itemStyle: { color: SERIES_COLORS[1] }, lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 1.5 }, silent: true },
-        { type: "line", name: "LCL (3σ)", data: pts.map((p) => p.lcl), step: "middle", symbol: "none", itemStyle: { color: SERIES_COLORS[2] }, lineStyle: { color: SERIES_COLORS[2], type: "dotted", width: 2 }, silent: true },
+        ...(std
+          ? [
+              {
+                type: "line",
+                name: "Standardised to the grade mix",
+                data: pts.map((p) => p.standardised?.rate ?? null),
+                showSymbol: true,
+                symbol: "diamond",
+                symbolSize: 7,
+                itemStyle: { color: SERIES_COLORS[3] },
+                lineStyle: { color: SERIES_COLORS[3], width: 1.5, type: "dashed" },
+                z: 2,
+              },
+            ]
+          : []),
+        { type: "line", name: u ? "ū (centre line)" : "p̄ (centre line)", data: pts.map((p) => p.centre ?? data.centre), symbol: "none", itemStyle: { color: INK[700] }, lineStyle: { color: INK[700], width: 1.5 }, silent: true },
+        { type: "line", name: `UCL (${limit})`, data: pts.map((p) => p.ucl), step: "middle", symbol: "none", itemStyle: { color: SERIES_COLORS[1] }, lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 1.5 }, silent: true },
+        { type: "line", name: `LCL (${limit})`, data: pts.map((p) => p.lcl), step: "middle", symbol: "none", itemStyle: { color: SERIES_COLORS[2] }, lineStyle: { color: SERIES_COLORS[2], type: "dotted", width: 2 }, silent: true },
         {
           type: "scatter",
           name: "Out of control",
@@ -57,13 +136,30 @@ export function PChart({ data }: { data: ControlChart }) {
           itemStyle: { color: ALARM, borderColor: "#ffffff", borderWidth: 1 },
           data: out.map((o) => ({ value: o.value, symbolRotate: o.above ? 0 : 180, label: { formatter: o.above ? "above UCL" : "below LCL", position: o.above ? "top" : "bottom" } })),
           label: { show: true, fontSize: 11, fontWeight: 700, color: ALARM },
+          labelLayout: { hideOverlap: true },
           z: 6,
         },
+        ...(data.rules.on
+          ? [
+              {
+                type: "scatter",
+                name: "Run-rule signal",
+                symbol: "emptyRect",
+                symbolSize: 13,
+                itemStyle: { color: RULE, borderColor: RULE, borderWidth: 2 },
+                data: ruled.map((r) => ({ value: r.value, label: { show: r.words !== "", formatter: r.words, position: r.below ? "bottom" : "top" } })),
+                label: { show: true, fontSize: 11, fontWeight: 700, color: RULE, distance: 8 },
+                labelLayout: { hideOverlap: true },
+                z: 5,
+              },
+            ]
+          : []),
       ],
     };
   }, [data]);
   const outCount = data.points.filter((p) => p.outOfControl).length;
-  return <ReportChart option={option} height={380} testId="p-chart" label={`p-chart of ${data.points.length} ${data.period === "day" ? "days" : "weeks"}, ${outCount} out of control`} />;
+  const kind = data.chart === "u" ? "u-chart" : data.chart === "laney" ? "Laney p′ chart" : "p-chart";
+  return <ReportChart option={option} height={400} testId="p-chart" label={`${kind} of ${data.points.length} ${data.period === "day" ? "days" : "weeks"}, ${outCount} out of control`} />;
 }
 
 export default PChart;
