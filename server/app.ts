@@ -1,12 +1,12 @@
 import fs from "node:fs";
 import path from "node:path";
-import { fileURLToPath } from "node:url";
 import express from "express";
 import helmet from "helmet";
 import type { Auth } from "./auth";
 import type { Db } from "./db/client";
-import type { Env } from "./env";
+import { originPolicyOf, type Env } from "./env";
 import type { Logger } from "./lib/logger";
+import { PROJECT_ROOT } from "./lib/paths";
 import { mountRoutes, type AnyRoute } from "./lib/route";
 import { authContext } from "./middleware/auth-context";
 import { authDoor } from "./middleware/auth-door";
@@ -38,8 +38,8 @@ import { assertTokenAllows } from "./services/tokens.service";
 import { plantRoutes } from "./routes/plant.routes";
 import { systemRoutes } from "./routes/system.routes";
 
-const here = path.dirname(fileURLToPath(import.meta.url));
-export const CLIENT_DIST = path.resolve(here, "../dist");
+/** The built client; STRANDSIGHT_CLIENT_DIST points elsewhere (engineers building side by side on one machine). */
+export const CLIENT_DIST = process.env.STRANDSIGHT_CLIENT_DIST ? path.resolve(process.env.STRANDSIGHT_CLIENT_DIST) : path.join(PROJECT_ROOT, "dist");
 
 export interface AppOptions {
   db: Db;
@@ -74,6 +74,9 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
     const body = JSON.parse(text) as { code?: string; message?: string };
     if (body.code) code = body.code.toLowerCase();
     if (body.message) message = body.message;
+    if (code === "invalid_origin") {
+      message = "Signing in from this address is not allowed. Open Strandsight at the address your plant gave you, or ask IT to add this address to TRUSTED_ORIGINS.";
+    }
   } catch {
     if (text && response.status !== 404) message = text.slice(0, 300);
   }
@@ -121,11 +124,14 @@ export function createApp(opts: AppOptions) {
       },
       // HSTS only makes sense behind https; the reverse proxy sets it there.
       strictTransportSecurity: env.BETTER_AUTH_URL.startsWith("https://"),
+      // Browsers honour COOP only on https (or localhost) and print a console error for it on a
+      // tablet reaching the server over http by IP or host name: send it where it means something.
+      crossOriginOpenerPolicy: env.BETTER_AUTH_URL.startsWith("https://"),
       crossOriginEmbedderPolicy: false,
     }),
   );
 
-  const trustedOrigins = [new URL(env.BETTER_AUTH_URL).origin, ...(opts.trustedOrigins ?? [])];
+  const origins = originPolicyOf(env, opts.trustedOrigins);
 
   // better-auth's own endpoints: only those the product uses are open over HTTP, decided twice — on
   // the path as sent (server/middleware/auth-door.ts) and on the endpoint better-auth resolved
@@ -136,7 +142,7 @@ export function createApp(opts: AppOptions) {
   app.use("/api/auth", authDoor({ auth, baseUrl: env.BETTER_AUTH_URL, signInBudget: limits.signIn, toEnvelope: withErrorEnvelope }));
   app.use(["/api/ingest", "/api/admin/tokens"], limits.tokens);
 
-  app.use("/api", sameOriginWrites(trustedOrigins));
+  app.use("/api", sameOriginWrites(origins));
   // The level-2 feed: the token is checked before its body (up to 20 MB) is read, and the body goes
   // unparsed to an import thread, which parses and checks it off the main thread.
   app.use("/api/ingest", apiTokenContext(db), requireRole("ingest.token"));

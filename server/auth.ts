@@ -9,6 +9,7 @@ import { createAccessControl } from "better-auth/plugins/access";
 import { adminAc, defaultStatements } from "better-auth/plugins/admin/access";
 import type { Db } from "./db/client";
 import type { Logger } from "./lib/logger";
+import { OWN_ORIGIN_HEADER, type OriginPolicy } from "./lib/origins";
 import { account, session, user, verification } from "./db/schema";
 
 // better-auth's admin plugin needs an access-control role for every role name it may meet in the
@@ -28,8 +29,8 @@ export interface AuthOptions {
   db: Db;
   secret: string;
   baseURL: string;
-  /** Extra origins allowed to call the API with a cookie (the Vite dev server, say). */
-  trustedOrigins?: string[];
+  /** Origins allowed to sign in (server/lib/origins.ts); default: baseURL's only. */
+  origins?: OriginPolicy;
   /** Tests that check the CSRF/origin protection turn it back on under NODE_ENV=test. */
   enforceOriginCheck?: boolean;
   /** Delivers a password-reset link; the mail issue plugs the outbox in here. */
@@ -109,7 +110,14 @@ export function createAuth(opts: AuthOptions) {
     appName: "Strandsight",
     baseURL: opts.baseURL,
     secret: opts.secret,
-    trustedOrigins: opts.trustedOrigins ?? [],
+    // The listed origins, and with ACCEPT_REQUEST_HOST the origin the browser reached us at (our door
+    // writes it in OWN_ORIGIN_HEADER from the Host header; a client's own value is overwritten).
+    trustedOrigins: opts.origins?.acceptRequestHost
+      ? (request) => {
+          const own = request?.headers.get(OWN_ORIGIN_HEADER);
+          return own ? [...opts.origins!.listed, own] : opts.origins!.listed;
+        }
+      : (opts.origins?.listed ?? []),
     logger: opts.logger
       ? { log: (level, message, ...args) => opts.logger![level]({ source: "better-auth", args }, message) }
       : undefined,

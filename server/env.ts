@@ -2,6 +2,7 @@ import fs from "node:fs";
 import path from "node:path";
 import crypto from "node:crypto";
 import { z } from "zod";
+import { originProblem, type OriginPolicy } from "./lib/origins";
 
 const boolFlag = z
   .enum(["true", "false", "1", "0", "yes", "no"], {
@@ -23,6 +24,26 @@ const envSchema = z.object({
   SEED_SCALE: z.coerce.number().min(0.001).max(1).default(1),
   /** Number of proxy hops in front of the app (Express "trust proxy"); 0 when clients connect directly. */
   TRUST_PROXY: z.coerce.number().int().min(0).max(10).default(0),
+  /**
+   * Further browser origins allowed to sign in and write (comma-separated), e.g. the address tablets
+   * use when it is not BETTER_AUTH_URL's: `http://10.20.0.15:3000,http://caster-pc:3000`.
+   */
+  TRUSTED_ORIGINS: z
+    .string()
+    .transform((v, ctx) => {
+      const list = v.split(",").map((s) => s.trim()).filter(Boolean).map((s) => s.replace(/\/$/, ""));
+      for (const item of list) {
+        const problem = originProblem(item);
+        if (problem) ctx.addIssue({ code: "custom", message: problem });
+      }
+      return list;
+    })
+    .optional(),
+  /**
+   * Accept the server's own origin as the browser reached it (any host name or IP address of this
+   * machine). Default: on outside production, off in production (list the addresses instead).
+   */
+  ACCEPT_REQUEST_HOST: boolFlag.optional(),
   LOG_LEVEL: z.enum(["silent", "error", "info", "debug"]).default("info"),
   /** Sign-in and password-reset requests allowed per client address per 15 minutes (default 30 in production, 300 otherwise). */
   RATE_LIMIT_SIGNIN: z.coerce.number().int().min(1).max(100_000).optional(),
@@ -42,7 +63,12 @@ const envSchema = z.object({
   MAIL_POLL_MS: z.coerce.number().int().min(200).max(600_000).default(5000),
 });
 
-export type Env = z.infer<typeof envSchema> & { BETTER_AUTH_SECRET: string; BETTER_AUTH_URL: string };
+export type Env = Omit<z.infer<typeof envSchema>, "TRUSTED_ORIGINS" | "ACCEPT_REQUEST_HOST"> & {
+  BETTER_AUTH_SECRET: string;
+  BETTER_AUTH_URL: string;
+  TRUSTED_ORIGINS: string[];
+  ACCEPT_REQUEST_HOST: boolean;
+};
 
 export class EnvError extends Error {}
 
@@ -85,6 +111,8 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
     ...env,
     BETTER_AUTH_SECRET: secret,
     BETTER_AUTH_URL: env.BETTER_AUTH_URL ?? `http://localhost:${env.PORT}`,
+    TRUSTED_ORIGINS: env.TRUSTED_ORIGINS ?? [],
+    ACCEPT_REQUEST_HOST: env.ACCEPT_REQUEST_HOST ?? env.NODE_ENV !== "production",
   };
 }
 
@@ -107,4 +135,9 @@ function localSecret(databaseFile: string): string {
 /** Loads ./.env into process.env when the file exists (Node's own loader; no extra package). */
 export function loadDotEnvFile(file = ".env"): void {
   if (fs.existsSync(file)) process.loadEnvFile(file);
+}
+
+/** The origins allowed to sign in and write (server/lib/origins.ts); `extra`: the Vite dev server's. */
+export function originPolicyOf(env: Env, extra: string[] = []): OriginPolicy {
+  return { listed: [...new Set([new URL(env.BETTER_AUTH_URL).origin, ...env.TRUSTED_ORIGINS, ...extra])], acceptRequestHost: env.ACCEPT_REQUEST_HOST };
 }

@@ -7,7 +7,7 @@ import { createAuth } from "./auth";
 import { assertWritable, openDatabase } from "./db/client";
 import { runMigrations } from "./db/migrate";
 import { heats, user } from "./db/schema";
-import { EnvError, loadDotEnvFile, loadEnv } from "./env";
+import { EnvError, loadDotEnvFile, loadEnv, originPolicyOf } from "./env";
 import { createLogger, type Logger } from "./lib/logger";
 import { describePathError, EXIT_CANNOT_START, StartupError } from "./lib/startup-error";
 import { setupMail } from "./mail/setup";
@@ -90,7 +90,7 @@ async function main() {
     db,
     secret: env.BETTER_AUTH_SECRET,
     baseURL: env.BETTER_AUTH_URL,
-    trustedOrigins: devOrigins,
+    origins: originPolicyOf(env, devOrigins),
     logger,
     secureCookies: env.NODE_ENV === "production",
   });

@@ -18,9 +18,11 @@
  */
 import { fork, type ChildProcess } from "node:child_process";
 import { fileURLToPath } from "node:url";
+import { COMPILED } from "./lib/paths";
 import { EXIT_CANNOT_START } from "./lib/startup-error";
 
-const SERVER = fileURLToPath(new URL("./index.ts", import.meta.url));
+// The compiled supervisor (build/server/supervisor.js) runs the compiled server beside it.
+const SERVER = fileURLToPath(new URL(COMPILED ? "./index.js" : "./index.ts", import.meta.url));
 /** A run this long after listening counts as healthy: the next crash waits the shortest time again. */
 const HEALTHY_AFTER_MS = 60_000;
 const CRASH_WINDOW_MS = 5 * 60_000;

@@ -1,10 +1,9 @@
 import path from "node:path";
-import { fileURLToPath } from "node:url";
 import { migrate } from "drizzle-orm/better-sqlite3/migrator";
 import { databaseStartupError, type Db } from "./client";
+import { PROJECT_ROOT } from "../lib/paths";
 
-const here = path.dirname(fileURLToPath(import.meta.url));
-export const MIGRATIONS_FOLDER = path.resolve(here, "../../drizzle");
+export const MIGRATIONS_FOLDER = path.join(PROJECT_ROOT, "drizzle");
 
 /**
  * Applies the committed migrations in drizzle/ (idempotent: applied ones are skipped). A database

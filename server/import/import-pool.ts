@@ -15,6 +15,7 @@ import type { Logger } from "../lib/logger";
 import { slabFactsChanged } from "../services/report-cache";
 import type { ImportOutcome, ImportTask } from "./import-worker";
 import type { Limits } from "./read-xlsx";
+import { COMPILED } from "../lib/paths";
 
 export interface ImportPoolOptions {
   /** Imports running at once (default 2: the rest of the plant keeps a core). */
@@ -43,11 +44,14 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
   // How long an import may wait for a thread before the answer is "busy, try again".
   const queueWaitMs = opts.queueWaitMs ?? 120_000;
   let pool: Piscina | null = null;
+  let closing = false;
   // Made on the first import, so a server (or a test) that imports nothing starts no thread.
   const getPool = () =>
     (pool ??= (() => {
       const p = new Piscina({
-        filename: new URL("./import-worker.mjs", import.meta.url).href,
+        // From the sources, a small .mjs entry registers tsx in the thread first; the compiled
+        // server (build/server) has the worker compiled beside it.
+        filename: new URL(COMPILED ? "./import-worker.js" : "./import-worker.mjs", import.meta.url).href,
         // One thread always alive: piscina replaces a thread that died (out of memory, stopped)
         // only up to minThreads, and with none left the imports waiting would never start. It also
         // answers the level-2 feed's frequent small calls without starting again.
@@ -83,9 +87,11 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
     warm: async () => {
       await getPool()
         .run({ warm: true })
-        .catch((err) => opts.logger?.error({ err }, "import thread failed to start"));
+        // Stopped while still starting (a shutdown right after the start) is not a failure.
+        .catch((err) => closing || opts.logger?.error({ err }, "import thread failed to start"));
     },
     close: async () => {
+      closing = true;
       await pool?.destroy();
       pool = null;
     },

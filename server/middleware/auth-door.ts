@@ -17,6 +17,7 @@
 import express, { Router, type RequestHandler } from "express";
 import { fromNodeHeaders } from "better-auth/node";
 import { CLIENT_IP_HEADER, isOpenAuthPath, type Auth } from "../auth";
+import { OWN_ORIGIN_HEADER, ownOriginOf } from "../lib/origins";
 import { HttpError, notFound } from "../lib/http-error";
 
 export const AUTH_BODY_LIMIT = 64 * 1024;
@@ -118,6 +119,9 @@ export function authDoor({ auth, baseUrl, signInBudget, toEnvelope }: AuthDoorOp
 
   door.use(async (req, res) => {
     req.headers[CLIENT_IP_HEADER] = req.ip ?? req.socket.remoteAddress ?? "";
+    const own = ownOriginOf(req);
+    if (own) req.headers[OWN_ORIGIN_HEADER] = own;
+    else delete req.headers[OWN_ORIGIN_HEADER];
     const headers = fromNodeHeaders(req.headers);
     headers.delete("content-length");
     headers.delete("transfer-encoding");

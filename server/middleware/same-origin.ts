@@ -1,5 +1,6 @@
 import type { RequestHandler } from "express";
 import { HttpError } from "../lib/http-error";
+import { isTrustedOrigin, ownOriginOf, type OriginPolicy } from "../lib/origins";
 
 const SAFE = new Set(["GET", "HEAD", "OPTIONS"]);
 
@@ -8,13 +9,12 @@ const SAFE = new Set(["GET", "HEAD", "OPTIONS"]);
  * app's origins (Origin header, or Sec-Fetch-Site: same-origin from the browser). Requests without
  * a cookie cannot act as anyone (API tokens travel in a header), so they pass.
  */
-export function sameOriginWrites(trustedOrigins: string[]): RequestHandler {
-  const trusted = new Set(trustedOrigins);
+export function sameOriginWrites(policy: OriginPolicy): RequestHandler {
   return (req, _res, next) => {
     if (SAFE.has(req.method) || !req.headers.cookie) return next();
     if (req.path.startsWith("/auth/")) return next(); // better-auth checks its own
     const origin = req.headers.origin;
-    if (origin ? trusted.has(origin) : req.headers["sec-fetch-site"] === "same-origin") return next();
+    if (origin ? isTrustedOrigin(policy, origin, ownOriginOf(req)) : req.headers["sec-fetch-site"] === "same-origin") return next();
     next(new HttpError(403, "untrusted_origin", "This request did not come from the Strandsight app and was refused."));
   };
 }

@@ -8,7 +8,7 @@ export const TABLET = { width: 820, height: 1180 };
 export const DESKTOP = { width: 1440, height: 900 };
 
 /** Debian's Chromium, headless, with the flags this closed network needs (see STACK.md). */
-export async function launchBrowser(): Promise<Browser> {
+export async function launchBrowser(extraArgs: string[] = []): Promise<Browser> {
   const executablePath = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
   if (!fs.existsSync(executablePath)) {
     throw new Error(`Chromium not found at ${executablePath}. Install it with: apt-get install -y chromium`);
@@ -24,6 +24,7 @@ export async function launchBrowser(): Promise<Browser> {
       "--disable-sync",
       "--no-first-run",
       "--disable-quic",
+      ...extraArgs,
     ],
   });
 }

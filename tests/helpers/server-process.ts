@@ -26,6 +26,8 @@ export interface StartOptions {
   entry?: "server" | "supervisor";
   /** This port instead of a free one (e.g. one that is taken). */
   port?: number;
+  /** Run the compiled server (build/server/*.js, `npm run build:server`) with plain Node, as `npm start` does. */
+  compiled?: boolean;
 }
 
 export interface Exit {
@@ -97,8 +99,9 @@ export async function launchServer(opts: StartOptions = {}): Promise<ServerProce
     LOG_LEVEL: "silent",
     ...opts.env,
   };
-  const entry = opts.entry === "supervisor" ? "server/supervisor.ts" : "server/index.ts";
-  const child = spawn(process.execPath, ["--import", "tsx", path.join(REPO_ROOT, entry)], {
+  const name = opts.entry === "supervisor" ? "supervisor" : "index";
+  const args = opts.compiled ? [path.join(REPO_ROOT, "build/server", `${name}.js`)] : ["--import", "tsx", path.join(REPO_ROOT, "server", `${name}.ts`)];
+  const child = spawn(process.execPath, args, {
     cwd: REPO_ROOT,
     env,
     stdio: ["ignore", "pipe", "pipe"],

@@ -7,7 +7,7 @@ import { createApp } from "../../server/app";
 import { createAuth } from "../../server/auth";
 import { openDatabase, type Db } from "../../server/db/client";
 import { runMigrations } from "../../server/db/migrate";
-import { loadEnv } from "../../server/env";
+import { loadEnv, originPolicyOf } from "../../server/env";
 import { createLogger } from "../../server/lib/logger";
 import { seedDemo } from "../../server/seed/seed";
 import { setupMail } from "../../server/mail/setup";
@@ -62,6 +62,7 @@ export async function createTestApp(opts: TestAppOptions = {}) {
     db,
     secret: env.BETTER_AUTH_SECRET,
     baseURL: env.BETTER_AUTH_URL,
+    origins: originPolicyOf(env),
     enforceOriginCheck: opts.enforceOriginCheck,
     rateLimit: opts.rateLimit,
     logger,
