@@ -3,11 +3,69 @@ import path from "node:path";
 import { defineConfig } from "vite";
 import react from "@vitejs/plugin-react";
 import tailwindcss from "@tailwindcss/vite";
+import { VitePWA } from "vite-plugin-pwa";
 
 const apiPort = process.env.PORT ?? "3000";
 
 export default defineConfig({
-  plugins: [react(), tailwindcss()],
+  plugins: [
+    react(),
+    tailwindcss(),
+    // The service worker: after one online visit the app starts, reloads and navigates with no
+    // network. generateSW (not injectManifest): all it does is precache the build and answer
+    // navigations with index.html, which Workbox's generated worker does with no code of ours.
+    VitePWA({
+      strategies: "generateSW",
+      // A new version waits until the person taps "Reload" (src/main.tsx): never under a half-filled form.
+      registerType: "prompt",
+      // Registered from src/main.tsx through virtual:pwa-register (the CSP allows no inline script).
+      injectRegister: false,
+      manifestFilename: "manifest.webmanifest",
+      includeAssets: ["icon.svg"],
+      manifest: {
+        id: "/",
+        name: "Strandsight",
+        short_name: "Strandsight",
+        description: "Slab defects, heats and casting conditions — the yard's logging screen works without a network.",
+        start_url: "/",
+        scope: "/",
+        display: "standalone",
+        // Tablets are used upright at the slab and on their side at a desk.
+        orientation: "any",
+        // --color-ink-900 (the header) and --color-paper (the page) in src/index.css.
+        theme_color: "#14202b",
+        background_color: "#f1efea",
+        icons: [
+          { src: "/icon-192.png", sizes: "192x192", type: "image/png", purpose: "any" },
+          { src: "/icon-512.png", sizes: "512x512", type: "image/png", purpose: "any" },
+          { src: "/icon-maskable-512.png", sizes: "512x512", type: "image/png", purpose: "maskable" },
+        ],
+      },
+      workbox: {
+        // Every route's chunk and the CSS (the manifest and its icons are added by the plugin); fonts
+        // as woff2 only (every browser that runs the app reads woff2), and only the Latin subsets:
+        // others are fetched online when a text needs them and fall back to the system font
+        // offline. Source maps stay out.
+        globPatterns: ["**/*.{js,css,html}", "**/noto-sans-latin-*.woff2"],
+        globIgnores: ["**/*.map", ".vite/**"],
+        // The chart and table code is large but must open offline too.
+        maximumFileSizeToCacheInBytes: 3 * 1024 * 1024,
+        // Hashed file names already change with their content: no cache-busting query needed.
+        dontCacheBustURLsMatching: /^assets\//,
+        navigateFallback: "/index.html",
+        // The server answers /api itself (signed-in data, photo files, exports: never from a cache).
+        navigateFallbackDenylist: [/^\/api(\/|$)/],
+        // No runtimeCaching: API answers are never cached here; the yard's data for offline use
+        // lives in IndexedDB (the yard sync and the outbox).
+        cleanupOutdatedCaches: true,
+        // The first visit's page is taken over at once, so its later screens load from the precache
+        // too; an update still waits for "Reload" (no skipWaiting).
+        clientsClaim: true,
+        skipWaiting: false,
+        sourcemap: false,
+      },
+    }),
+  ],
   resolve: {
     alias: {
       "@": path.resolve(import.meta.dirname, "src"),

@@ -6,7 +6,10 @@
  *   - bench:photos   the photo pipeline against sharp alone
  *   - bench:history  the heat history workbook (12 slabs, 40 defects, 80 photos)
  *   - load           the latency of posting a defect while 32 clients post and 4 read reports
+ *   - bench:writes   the defect post under 32 writers, against a bare Express + better-sqlite3 floor (issue 14)
+ *   - start          the real server's start on the bench:reports plant: listen, sign-in, yard, reports ready, RSS (issue 14)
  *   - bundles        the JavaScript each screen loads, after gzip (from the Vite manifest)
+ *   - yard           tapping "Save defect" to "Sent" on the yard screen (demo plant, Chromium)
  * Each benchmark measures its own baseline in the same run. Nothing here asserts time.
  * `npm run bench -- load bundles` runs only the parts named.
  */
@@ -44,6 +47,29 @@ function reports() {
   for (const m of out.matchAll(/^adjusted model (.+?)\s+([\d,]+)\s+([\d.]+) s\s+([\d.]+) s\s+([\d.]+)×\s+< ([\d.]+) s (met|NOT met)/gm)) {
     figures.push({ figure: `adjusted model, ${m[1]!.trim()} (${m[2]} slabs)`, value: `${m[3]} s (crude rate-by-variable ${m[4]} s, ${m[5]}×)`, target: `< ${m[6]} s`, met: m[7] === "met" });
   }
+  // The report cache (issue 14): its size per slab, the snapshot against reading its bytes, the default screening.
+  const cache = /^slab facts cache: built from SQLite in ([\d.]+) s.*?, (\d+) MB in typed arrays\n\s+(\d+) bytes per slab.*?; (\d+) of (\d+) variables held as Float32/m.exec(out);
+  if (cache) figures.push({ figure: "report cache: bytes per slab (was 243)", value: `${cache[3]} B (${cache[2]} MB; ${cache[4]}/${cache[5]} variables Float32; rebuilt in ${cache[1]} s)`, target: "(recorded)", met: null });
+  const snap = /^\s+snapshot: (\d+) MB written in ([\d.]+) s; read back and checked against the database in ([\d.]+) s \(the file's bytes alone ([\d.]+) s: ([\d.]+)×\) — ([\d.]+)× faster than the rebuild/m.exec(out);
+  if (snap) figures.push({ figure: "report cache snapshot read + check / its bytes alone", value: `${snap[5]}× (${snap[3]} s vs ${snap[4]} s; ${snap[6]}× faster than a rebuild)`, target: "(recorded)", met: null });
+  const adj = /^screening adjusted for grade family \(the default\).*?: ([\d.]+) s/m.exec(out);
+  if (adj) figures.push({ figure: "screening adjusted for grade family (default)", value: `${adj[1]} s`, target: "< 1 s", met: Number(adj[1]) < 1 });
+}
+
+/** The start (issue 14): tests/bench/start.bench.ts prints these summary lines (BENCH_SLABS as for bench:reports). */
+function start() {
+  console.log("\n━━ start: the real server on the bench:reports plant ━━");
+  const r = spawnSync("npx", ["tsx", "tests/bench/start.bench.ts"], { encoding: "utf8", stdio: ["ignore", "pipe", "inherit"], env: process.env, maxBuffer: 64 * 1024 * 1024 });
+  process.stdout.write(r.stdout ?? "");
+  if (r.status !== 0) return void figures.push({ figure: "start", value: `failed (exit ${r.status})`, target: "runs", met: false });
+  const out = r.stdout ?? "";
+  const answer = /^start summary ([\d,]+) slabs: sign-in and yard within ([\d.]+) s \(([\d.]+)× a bare Node server\) target < 2 s (met|NOT met)/m.exec(out);
+  if (answer) figures.push({ figure: `start, ${answer[1]} slabs: sign-in and yard answered`, value: `${answer[2]} s (${answer[3]}× a bare Node server)`, target: "< 2 s", met: answer[4] === "met" });
+  const ready = /^start summary ([\d,]+) slabs: reports ready ([\d.]+) s from the snapshot \(reading its bytes alone ([\d.]+) s\), ([\d.]+) s rebuilt/m.exec(out);
+  if (ready) figures.push({ figure: `start, ${ready[1]} slabs: reports ready`, value: `${ready[2]} s from the snapshot (its bytes ${ready[3]} s), ${ready[4]} s rebuilt`, target: "(recorded)", met: null });
+  const rss = /^start summary ([\d,]+) slabs: server RSS peak (\d+) MB \(ready (\d+) MB\) target < 800 MB at 5 M (met|NOT met)/m.exec(out);
+  if (rss) figures.push({ figure: `start, ${rss[1]} slabs: server RSS (peak after screening)`, value: `${rss[2]} MB (ready ${rss[3]} MB)`, target: "< 800 MB", met: rss[1] === "5,000,000" ? rss[4] === "met" : null });
+  if (!(answer && ready && rss)) figures.push({ figure: "start", value: "summary lines missing", target: "", met: false });
 }
 
 function imports() {
@@ -66,6 +92,22 @@ function history() {
   const t = /^Strandsight history workbook\s+([\d.]+) s/m.exec(out);
   const r = /^ratio\s+([\d.]+)×/m.exec(out);
   if (t) figures.push({ figure: "heat history workbook (12 slabs, 40 defects, 80 photos)", value: `${t[1]} s (${r?.[1]}× exceljs alone)`, target: "< 2 s", met: Number(t[1]) < 2 });
+}
+
+/** The write path (issue 14): tests/bench/writes.bench.ts prints these summary lines. */
+function writes() {
+  const out = run("bench:writes");
+  const cpu = /^writes cpu per post\s+([\d.]+) ms\s+floor ([\d.]+) ms\s+([\d.]+)×\s+target ≤ 1\.50×\s+(met|NOT met)/m.exec(out);
+  if (cpu) figures.push({ figure: "defect post: server CPU / bare Express + SQLite floor", value: `${cpu[3]}× (${cpu[1]} ms vs ${cpu[2]} ms)`, target: "≤ 1.50×", met: cpu[4] === "met" });
+  const p95 = /^writes p95 under load\s+([\d.]+) ms\s+p50 ([\d.]+) ms\s+target < 100 ms\s+(met|NOT met)/m.exec(out);
+  if (p95) figures.push({ figure: "defect post with reports read: p95", value: `${p95[1]} ms (p50 ${p95[2]} ms)`, target: "< 100 ms", met: p95[3] === "met" });
+  const rate = /^writes rate under load\s+(\d+)\/s\s+floor (\d+)\/s\s+target ≥ 500\/s\s+(met|NOT met)/m.exec(out);
+  if (rate) figures.push({ figure: "defect posts with reports read: rate", value: `${rate[1]}/s (floor, posts only: ${rate[2]}/s)`, target: "≥ 500/s", met: rate[3] === "met" });
+  const postsOnly = /^writes posts only\s+(\d+)\/s\s+p95 ([\d.]+) ms\s+p50 ([\d.]+) ms/m.exec(out);
+  if (postsOnly) figures.push({ figure: "defect posts, no reports read: rate and p95", value: `${postsOnly[1]}/s, p95 ${postsOnly[2]} ms (p50 ${postsOnly[3]} ms)`, target: "(recorded)", met: null });
+  const lost = /^writes lost \/ 5xx \/ refused\s+(\d+) \/ (\d+) \/ (\d+)\s+target 0 \/ 0 \/ 0\s+(met|NOT met)/m.exec(out);
+  if (lost) figures.push({ figure: "defect posts lost / 5xx / refused (bench:writes)", value: `${lost[1]} / ${lost[2]} / ${lost[3]}`, target: "0 / 0 / 0", met: lost[4] === "met" });
+  if (out && !(cpu && p95 && rate && lost)) figures.push({ figure: "bench:writes", value: "summary lines missing", target: "", met: false });
 }
 
 async function load() {
@@ -113,6 +155,30 @@ function bundles() {
   figures.push({ figure: "bundle: inspector's logging screen (yard-slab)", value: `${yard.toFixed(1)} kB`, target: "≤ 200 kB", met: yard <= 200 });
   const heaviest = rows.reduce((a, b) => (b[1] > a[1] ? b : a));
   figures.push({ figure: `bundle: heaviest route (${heaviest[0]})`, value: `${heaviest[1].toFixed(1)} kB`, target: "(recorded)", met: null });
+  // What a tablet stores after its first visit: the service worker's precache list (vite.config.ts).
+  const precached = [...fs.readFileSync("dist/sw.js", "utf8").matchAll(/url:"([^"]+)"/g)].map((m) => m[1]!);
+  const precacheKb = precached.reduce((s, f) => s + fs.statSync(path.join("dist", f)).size, 0) / 1024;
+  const precacheGzKb = precached.reduce((s, f) => s + size(f), 0) / 1024;
+  figures.push({ figure: `service worker precache (${precached.length} files)`, value: `${precacheKb.toFixed(0)} kB (${precacheGzKb.toFixed(0)} kB gzip)`, target: "(recorded)", met: null });
+}
+
+/**
+ * Save → Sent on the yard screen (issue 13), through the real server and Chromium; after bundles,
+ * whose build it uses (tests/bench/yard-save.bench.ts).
+ */
+function yardSave() {
+  console.log("\n━━ yard: save → sent on the yard screen ━━");
+  const r = spawnSync("npx", ["tsx", "tests/bench/yard-save.bench.ts"], { encoding: "utf8", stdio: ["ignore", "pipe", "inherit"], env: process.env, maxBuffer: 64 * 1024 * 1024 });
+  process.stdout.write(r.stdout ?? "");
+  if (r.status !== 0) return void figures.push({ figure: "yard save → sent", value: `failed (exit ${r.status})`, target: "runs", met: false });
+  for (const m of (r.stdout ?? "").matchAll(/^save → sent, (.+?)\s+n=(\d+)\s+p50 (\d+) ms\s+p95 (\d+) ms\s+(?:target p50 < (\d+) ms\s+(met|NOT met)|\(recorded\))/gm)) {
+    figures.push({
+      figure: `yard save → sent, ${m[1]} (n=${m[2]})`,
+      value: `p50 ${m[3]} ms, p95 ${m[4]} ms`,
+      target: m[5] ? `p50 < ${m[5]} ms` : "(recorded)",
+      met: m[5] ? m[6] === "met" : null,
+    });
+  }
 }
 
 async function main() {
@@ -121,7 +187,10 @@ async function main() {
   if (wanted("photos")) photos();
   if (wanted("history")) history();
   if (wanted("load")) await load();
+  if (wanted("writes")) writes();
+  if (wanted("start")) start();
   if (wanted("bundles")) bundles();
+  if (wanted("yard")) yardSave();
   console.log("\n━━ Strandsight benchmarks ━━");
   const w = Math.max(...figures.map((f) => f.figure.length));
   for (const f of figures) console.log(`${f.figure.padEnd(w)}  ${f.value.padEnd(44)}  ${f.target.padEnd(12)} ${f.met === null ? "" : f.met ? "met" : "NOT MET"}`);

@@ -37,6 +37,7 @@ import { IMPORT_KINDS, IMPORT_MAX_BYTES } from "@shared/api/imports";
 import { assertTokenAllows } from "./services/tokens.service";
 import { plantRoutes } from "./routes/plant.routes";
 import { systemRoutes } from "./routes/system.routes";
+import { yardRoutes } from "./routes/yard.routes";
 
 /** The built client; STRANDSIGHT_CLIENT_DIST points elsewhere (engineers building side by side on one machine). */
 export const CLIENT_DIST = process.env.STRANDSIGHT_CLIENT_DIST ? path.resolve(process.env.STRANDSIGHT_CLIENT_DIST) : path.join(PROJECT_ROOT, "dist");
@@ -86,7 +87,8 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 export function collectRoutes(deps: Deps): AnyRoute[] {
   return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
     ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps),
-    ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps), ...claimRoutes(deps)];
+    ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps), ...claimRoutes(deps),
+    ...yardRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {
@@ -174,7 +176,17 @@ export function createApp(opts: AppOptions) {
       "/assets",
       express.static(path.join(CLIENT_DIST, "assets"), { immutable: true, maxAge: "365d", fallthrough: false }),
     );
-    app.use(express.static(CLIENT_DIST, { index: false, maxAge: "1h" }));
+    app.use(
+      express.static(CLIENT_DIST, {
+        index: false,
+        maxAge: "1h",
+        // The service worker, its Workbox runtime, the app manifest and index.html keep their names
+        // across versions: the browser must ask every time, or a tablet keeps an old version.
+        setHeaders: (res, file) => {
+          if (/^(sw\.js|workbox-[\w-]+\.js|manifest\.webmanifest|index\.html)$/.test(path.basename(file))) res.setHeader("Cache-Control", "no-cache");
+        },
+      }),
+    );
     app.get("/{*any}", (_req, res) => {
       res.setHeader("Cache-Control", "no-cache");
       res.sendFile(path.join(CLIENT_DIST, "index.html"));

@@ -1,6 +1,7 @@
 import { createAuthMiddleware, APIError } from "better-auth/api";
 import { createSignInGuard, LOCK_MS, MAX_FAILURES, type SignInGuard } from "./lib/sign-in-guard";
 import { recordAudit } from "./services/audit.service";
+import { createSessionCache } from "./lib/session-cache";
 import { revokeResetLinks } from "./services/users.service";
 import { betterAuth } from "better-auth";
 import { drizzleAdapter } from "better-auth/adapters/drizzle";
@@ -92,6 +93,9 @@ export const CLIENT_IP_HEADER = "x-strandsight-client-ip";
 
 export function createAuth(opts: AuthOptions) {
   const guard = opts.signInGuard ?? createSignInGuard();
+  // Sessions recently accepted (server/lib/session-cache.ts); dropped here on sign-out and password
+  // changes, and by the Users routes when an administrator changes a user.
+  const sessions = createSessionCache(opts.db.$client);
   const addressOf = (ctx: { request?: Request; headers?: Headers }) =>
     ctx.request?.headers.get(CLIENT_IP_HEADER) || ctx.headers?.get(CLIENT_IP_HEADER) || "server";
 
@@ -103,6 +107,7 @@ export function createAuth(opts: AuthOptions) {
   const afterPasswordChange = (u: { id: string; email: string }, how: "reset" | "changed" | "set by an administrator", actorId: string) => {
     const resetLinksRevoked = revokeResetLinks(opts.db, u.id);
     const locksLifted = guard.clear(u.email);
+    sessions.forgetUser(u.id);
     recordAudit(opts.db, { userId: actorId, action: "user.password.changed", entity: "user", entityId: u.id, after: { how, resetLinksRevoked, locksLifted } });
   };
 
@@ -179,6 +184,10 @@ export function createAuth(opts: AuthOptions) {
       after: createAuthMiddleware(async (ctx) => {
         const returned = ctx.context.returned;
         const ok = !(returned instanceof APIError) && !(returned instanceof Response && returned.status >= 400);
+        if (ctx.path === "/sign-out") {
+          sessions.forgetCookie(ctx.headers?.get("cookie"));
+          return;
+        }
         if (ctx.path === "/sign-in/email") {
           const email = String((ctx.body as { email?: unknown } | undefined)?.email ?? "");
           if (!email) return;
@@ -215,8 +224,9 @@ export function createAuth(opts: AuthOptions) {
       }),
     ],
   });
-  // The admin's Users screen shows and lifts locks (server/routes/admin-users.routes.ts).
-  return Object.assign(auth, { signInGuard: guard });
+  // The admin's Users screen shows and lifts locks (server/routes/admin-users.routes.ts); the Users
+  // routes drop a changed user's cached sessions.
+  return Object.assign(auth, { signInGuard: guard, sessions });
 }
 
 export type Auth = ReturnType<typeof createAuth>;

@@ -1,9 +1,12 @@
+/// <reference types="vite-plugin-pwa/client" />
 import { StrictMode } from "react";
 import { createRoot } from "react-dom/client";
 import { RouterProvider } from "react-router/dom";
+import { registerSW } from "virtual:pwa-register";
 import "./index.css";
-import { AppProvider } from "./app/provider";
+import { AppProvider, type AppUpdate } from "./app/provider";
 import { createRouter } from "./app/router";
+import { forgetUser } from "./features/auth/remembered-user";
 import { createQueryClient } from "./lib/query-client";
 
 const queryClient = createQueryClient({
@@ -11,15 +14,54 @@ const queryClient = createQueryClient({
   onUnauthenticated: () => {
     if (["/sign-in", "/forgot-password", "/reset-password"].includes(window.location.pathname)) return;
     queryClient.clear();
+    forgetUser();
     const next = window.location.pathname + window.location.search;
     void router.navigate(`/sign-in?next=${encodeURIComponent(next)}&expired=1`, { replace: true });
   },
 });
 const router = createRouter(queryClient);
 
+/**
+ * The service worker (vite.config.ts) keeps the app on the device. A new version installs in the
+ * background and waits: the page offers "Reload" and changes only when the person taps it, never
+ * under a half-filled form.
+ */
+function watchForUpdates(): AppUpdate {
+  let ready = false;
+  let asked = false;
+  const listeners = new Set<() => void>();
+  const set = () => {
+    ready = true;
+    listeners.forEach((l) => l());
+  };
+  // Only the built app has a worker (`npm run dev` serves none).
+  const takeOver = !import.meta.env.PROD ? async () => undefined : registerSW({
+    // After the page has loaded: storing the app must not slow the first screen down.
+    immediate: false,
+    onNeedRefresh: set,
+    // The new version took over (this tab's Reload, or another tab's): reload only if asked here.
+    onNeedReload: () => (asked ? window.location.reload() : set()),
+    onRegisteredSW(_url, registration) {
+      // A tablet stays open all shift: look for a new version every hour while the network is there.
+      if (registration) setInterval(() => void registration.update().catch(() => undefined), 60 * 60 * 1000);
+    },
+  });
+  return {
+    subscribe(l) {
+      listeners.add(l);
+      return () => listeners.delete(l);
+    },
+    ready: () => ready,
+    apply() {
+      asked = true;
+      void takeOver(true);
+    },
+  };
+}
+
 createRoot(document.getElementById("root")!).render(
   <StrictMode>
-    <AppProvider queryClient={queryClient}>
+    <AppProvider queryClient={queryClient} update={watchForUpdates()}>
       <RouterProvider router={router} />
     </AppProvider>
   </StrictMode>,

@@ -5,13 +5,22 @@ import type { Auth } from "../auth";
 
 /**
  * Resolves the session cookie once per request into `req.user` (null when signed out or
- * deactivated). When better-auth extends the session it sends a fresh cookie, passed on here so an
- * active user stays signed in.
+ * deactivated). A Cookie header better-auth accepted within the last seconds is answered from the
+ * session cache (server/lib/session-cache.ts), which re-reads the session and user rows each time;
+ * anything else asks better-auth. When better-auth extends the session it sends a fresh cookie,
+ * passed on here so an active user stays signed in.
  */
 export function authContext(auth: Auth): RequestHandler {
+  const sessions = auth.sessions;
   return async (req, res, next) => {
     req.user = null;
-    if (!req.headers.cookie) return next();
+    const cookie = req.headers.cookie;
+    if (!cookie) return next();
+    const cached = sessions.lookup(cookie);
+    if (cached) {
+      req.user = cached;
+      return next();
+    }
     const { headers, response: found } = await auth.api.getSession({
       headers: fromNodeHeaders(req.headers),
       returnHeaders: true,
@@ -25,6 +34,7 @@ export function authContext(auth: Auth): RequestHandler {
         email: found.user.email,
         roles: parseRoles(found.user.role),
       };
+      sessions.remember(cookie, { sessionId: found.session.id, userId: found.user.id });
     }
     next();
   };

@@ -53,7 +53,12 @@ export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
         404: { description: "No such user." },
         409: { description: "Would leave no active administrator." },
       },
-      handler: ({ params, body, user }) => updateUser(db, params.id, body, user.id, auth.signInGuard),
+      handler: ({ params, body, user }) => {
+        const updated = updateUser(db, params.id, body, user.id, auth.signInGuard);
+        // Roles, name or active state changed: the user's very next request reads them afresh.
+        auth.sessions.forgetUser(params.id);
+        return updated;
+      },
     }),
     defineRoute({
       method: "post",

@@ -19,12 +19,13 @@ import {
   slabPositionsQuerySchema,
   slabPositionsSchema,
 } from "@shared/api/reports";
+import { apiErrorSchema } from "@shared/api/common";
 import { VARIABLES } from "@shared/variables";
 import { causeParetoQuerySchema, causeParetoSchema } from "@shared/api/causes";
 import { causePareto } from "../services/causes.service";
 import { notFound } from "../lib/http-error";
 import { recordAudit } from "../services/audit.service";
-import { defineRoute, type AnyRoute } from "../lib/route";
+import { defineRoute, type AnyRoute, type ResponseSpec } from "../lib/route";
 import { reportWorkbook } from "../services/report-export";
 import { adjustedModel } from "../services/reports/adjusted";
 import { beforeAfter } from "../services/reports/before-after";
@@ -51,6 +52,16 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
     { kind: "adjusted", summary: "Adjusted model: crude and adjusted odds ratios side by side for the conditions examined, adjusted for grade family, strand or any other term; heat-clustered SEs by default; a test and the GVIF per variable", query: adjustedQuerySchema, schema: adjustedSchema, run: adjustedModel },
   ] as const;
 
+  // The reports that read the in-memory slab facts (report-cache.ts): after a start, until those are
+  // loaded, they answer 503 "warming up" with Retry-After (the screens wait and ask again by themselves).
+  const warming: Record<number, ResponseSpec> = {
+    503: {
+      description: "Reports are warming up: the slab data are being loaded after a start (about N s). `Retry-After` says when to ask again.",
+      schema: apiErrorSchema,
+    },
+  };
+  const usesFacts = new Set<string>(["overview", "rate-by-variable", "screening", "process-window", "control-chart", "before-after", "adjusted"]);
+
   const routes: AnyRoute[] = [
     defineRoute({
       method: "get",
@@ -71,7 +82,7 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
         tag: "reports",
         access: "reports.read",
         query: k.query as z.ZodType,
-        responses: { 200: { description: "The report.", schema: k.schema } },
+        responses: { 200: { description: "The report.", schema: k.schema }, ...(usesFacts.has(k.kind) ? warming : {}) },
         handler: ({ query }) => (k.run as (d: typeof db, q: unknown) => unknown)(db, query),
       }),
       defineRoute({
@@ -81,7 +92,7 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
         tag: "reports",
         access: "reports.read",
         query: k.query as z.ZodType,
-        responses: { 200: { description: "The workbook.", contentType: XLSX } },
+        responses: { 200: { description: "The workbook.", contentType: XLSX }, ...(usesFacts.has(k.kind) ? warming : {}) },
         handler: async ({ query, req, res, user }) => {
           const result = (k.run as (d: typeof db, q: unknown) => unknown)(db, query);
           const qs = req.originalUrl.includes("?") ? req.originalUrl.slice(req.originalUrl.indexOf("?") + 1) : "";

@@ -43,16 +43,21 @@ async function render(code: string, i: number): Promise<Buffer> {
   return sharp(Buffer.from(svg)).jpeg({ quality: 80 }).toBuffer();
 }
 
-export async function addDemoPhotos(db: Db, uploadDir: string, limit = 40): Promise<number> {
+export async function addDemoPhotos(db: Db, uploadDir: string, limit = 40, lastShiftsLimit = 4): Promise<number> {
   const c = db.$client;
-  const defects = c
-    .prepare(
+  // The history's newest unreviewed entries (as before the last shifts were added), then a few of
+  // the last shifts' entries, so the inspector's own recent entries show photos too.
+  const select = (keys: string) =>
+    c.prepare(
       `select d.id, t.code, d.created_by, d.found_at from defects d join defect_types t on t.id = d.type_id
-       where d.review_status = 'new' and d.deleted_at is null
+       where d.review_status = 'new' and d.deleted_at is null and ${keys}
          and not exists (select 1 from defect_photos p where p.defect_id = d.id)
        order by d.found_at desc limit ?`,
-    )
-    .all(limit) as { id: number; code: string; created_by: string; found_at: number }[];
+    );
+  const defects = [
+    ...(select("(d.client_key is null or d.client_key not like 'demo-yard-%')").all(limit) as { id: number; code: string; created_by: string; found_at: number }[]),
+    ...(select("d.client_key like 'demo-yard-%'").all(lastShiftsLimit) as { id: number; code: string; created_by: string; found_at: number }[]),
+  ];
   const ins = c.prepare(
     `insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256, original_name, created_by, created_at)
      values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,

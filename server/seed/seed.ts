@@ -32,10 +32,12 @@ import {
 import { createResolver } from "../services/conditions.service";
 import { addDemoPhotos } from "./demo-photos";
 import { generateProduction, type ProductionCounts } from "./demo-plant";
+import { generateLastShifts, type LastShiftsCounts } from "./last-shifts";
 
 export interface SeedResult {
   usersCreated: number;
-  production: ProductionCounts | null;
+  /** The eight months of history; `lastShifts` are the shifts cast up to the moment of seeding. */
+  production: (ProductionCounts & { lastShifts: LastShiftsCounts }) | null;
   seconds: number;
 }
 
@@ -82,7 +84,15 @@ export function seedReference(tx: Tx | Db) {
 export async function seedDemo(
   db: Db,
   auth: Auth,
-  opts: { password: string; scale?: number; uploadDir?: string; /** false: users and reference data only */ production?: boolean },
+  opts: {
+    password: string;
+    scale?: number;
+    uploadDir?: string;
+    /** false: users and reference data only */
+    production?: boolean;
+    /** When the demo's last shift ends (default: now), so two seeds can be compared. */
+    now?: number;
+  },
 ): Promise<SeedResult> {
   const started = performance.now();
   let usersCreated = 0;
@@ -116,10 +126,22 @@ export async function seedDemo(
       },
       opts.scale ?? 1,
     );
+    // The shifts cast up to now, after the history: a fresh demo has slabs waiting in the yard.
+    const lastShifts = generateLastShifts(
+      db.$client,
+      {
+        casterId: caster.id,
+        strandIds: Object.fromEntries(strandRows.map((s) => [s.strandNo, s.id])),
+        gradeIds: byCode(tx.select().from(grades).all()),
+        defectTypeIds: byCode(tx.select().from(defectTypes).all()),
+        inspector: userId("inspector@demo.test"),
+      },
+      opts.now ?? Date.now(),
+    );
     // Each slab's conditions come from its samples, as for any imported plant.
     createResolver(db).resolveAll();
-    recordAudit(tx, { actor: "seed", action: "seed.demo", entity: "plant", entityId: DEMO_CASTER.code, after: counts });
-    return counts;
+    recordAudit(tx, { actor: "seed", action: "seed.demo", entity: "plant", entityId: DEMO_CASTER.code, after: { ...counts, lastShifts } });
+    return { ...counts, lastShifts };
   });
 
   // Demo photos for the newest unreviewed entries (only with a photo store, and only with new production).

@@ -1,10 +1,11 @@
 import type Database from "better-sqlite3";
 import { PHOTO_MAX_PER_DEFECT, PHOTO_MAX_PER_USER_HOUR, type Defect } from "@shared/api/defects";
 import type { defectCreateSchema, defectListQuerySchema, defectReviewSchema, defectUpdateSchema } from "@shared/api/defects";
-import { DISPOSITION_RANK, FACE_LABELS, type Disposition, type Face } from "@shared/domain";
+import { DISPOSITION_RANK, FACE_LABELS, type Face } from "@shared/domain";
 import { can } from "@shared/roles";
 import type { z } from "zod";
 import type { Db } from "../db/client";
+import { prepared } from "../db/prepared";
 import { HttpError, badRequest, conflict, forbidden, notFound } from "../lib/http-error";
 import { causesBrief } from "./causes.service";
 import { recordAudit } from "./audit.service";
@@ -35,11 +36,9 @@ type Row = Record<string, any>;
 function photosOf(sqlite: Database.Database, defectIds: number[]) {
   const map = new Map<number, Defect["photos"]>();
   if (defectIds.length === 0) return map;
-  const rows = sqlite
-    .prepare(
-      `select id, defect_id, width, height, created_at from defect_photos where deleted_at is null and defect_id in (${defectIds.map(() => "?").join(",")}) order by created_at, id`,
-    )
-    .all(...defectIds) as Row[];
+  const sql = `select id, defect_id, width, height, created_at from defect_photos where deleted_at is null and defect_id in (${defectIds.map(() => "?").join(",")}) order by created_at, id`;
+  // One entry (a defect's own page, a change): kept prepared; a page of a list varies in length.
+  const rows = (defectIds.length === 1 ? prepared(sqlite, sql) : sqlite.prepare(sql)).all(...defectIds) as Row[];
   for (const r of rows) {
     const list = map.get(r.defect_id) ?? [];
     list.push({ id: r.id, url: `/api/photos/${r.id}`, thumbUrl: `/api/photos/${r.id}/thumb`, width: r.width, height: r.height, createdAt: iso(r.created_at)! });
@@ -102,7 +101,7 @@ function causesFor(db: Db, user: Actor, defectIds: number[]): Map<number, Defect
 }
 
 export function getDefect(db: Db, id: number, user: Actor): Defect {
-  const r = db.$client.prepare(`${SELECT} where d.id = ? and d.deleted_at is null`).get(id) as Row | undefined;
+  const r = prepared(db.$client, `${SELECT} where d.id = ? and d.deleted_at is null`).get(id) as Row | undefined;
   if (!r) throw notFound("There is no such defect entry (it may have been deleted).");
   return toDefect(r, photosOf(db.$client, [id]).get(id) ?? [], user, causesFor(db, user, [id]).get(id) ?? []);
 }
@@ -130,74 +129,148 @@ function checkPosition(
   if (problems.length) throw new HttpError(400, "outside_slab", problems.map((p) => p.message).join(" "), problems);
 }
 
-function typeId(sqlite: Database.Database, code: string): number {
-  const t = sqlite.prepare("select id, active from defect_types where upper(code) = upper(?)").get(code) as { id: number; active: number } | undefined;
+type TypeRow = { id: number; active: number; code: string; name: string; category_code: string };
+
+/** The catalogue type for a code (any case), with what an answer shows of it; refused when unknown or retired. */
+function typeRow(sqlite: Database.Database, code: string): TypeRow {
+  const t = prepared<[string], TypeRow>(
+    sqlite,
+    "select t.id, t.active, t.code, t.name, c.code as category_code from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)",
+  ).get(code);
   if (!t) throw badRequest(`There is no defect type ${code} in the catalogue.`, { field: "type_code" }, "unknown_type");
   if (!t.active) throw badRequest(`The defect type ${code} is retired; choose another.`, { field: "type_code" }, "retired_type");
-  return t.id;
+  return t;
 }
 
-/** A slab takes the worst disposition of its live, unrejected defects (none: no disposition). */
+const typeId = (sqlite: Database.Database, code: string): number => typeRow(sqlite, code).id;
+
+/** Dispositions by rank in SQL (shared/domain.ts DISPOSITION_RANK), worst highest. */
+const RANK_SQL = `case disposition ${Object.entries(DISPOSITION_RANK).map(([d, r]) => `when '${d}' then ${r}`).join(" ")} end`;
+
+/**
+ * A slab takes the worst disposition of its live, unrejected defects (none: no disposition).
+ * Decided by SQLite in one prepared statement over the slab's defects (found through their slab
+ * index), so nothing per defect comes up to JavaScript. A new entry could in principle just raise
+ * the slab's disposition, but the stored one is not always the worst of its live entries (rejected
+ * entries of older data count there), so it is worked out again every time, as before.
+ */
 function refreshSlabDisposition(sqlite: Database.Database, slabRowId: number) {
-  const dispositions = sqlite
-    .prepare("select disposition from defects where slab_id = ? and deleted_at is null and review_status <> 'rejected'")
-    .pluck()
-    .all(slabRowId) as Disposition[];
-  let worst: Disposition | null = null;
-  for (const d of dispositions) if (worst === null || DISPOSITION_RANK[d] > DISPOSITION_RANK[worst]) worst = d;
-  sqlite.prepare("update slabs set disposition = ?, updated_at = ? where id = ?").run(worst, Date.now(), slabRowId);
+  prepared(
+    sqlite,
+    `update slabs set updated_at = @now, disposition = (select disposition from defects where slab_id = @slab and deleted_at is null
+       and review_status <> 'rejected' order by ${RANK_SQL} desc limit 1) where id = @slab`,
+  ).run({ slab: slabRowId, now: Date.now() });
 }
 
+type SlabRow = {
+  id: number;
+  slab_id: string;
+  length_mm: number;
+  width_mm: number;
+  thickness_mm: number;
+  heat_no: string;
+  grade_code: string;
+  strand_no: number;
+};
+
+/**
+ * Stores a new entry, or answers the one stored before under the same client_key (the offline queue
+ * sends again when an answer was lost). A new entry is answered from what the transaction already
+ * holds (the slab with its heat, grade and strand, the type with its category, the values stored),
+ * not read back through the list's eight-table join: the same JSON, tests/server/write-path.test.ts
+ * compares the two. An entry sent again is read back, as it may have changed since.
+ */
 export function createDefect(db: Db, user: Actor, input: CreateInput, events: DefectEvents = {}): { id: number; created: boolean; defect: Defect } {
-  const sqlite = db.$client;
-  const result = db.transaction(() => {
-    const existing = sqlite.prepare("select id, created_by from defects where client_key = ?").get(input.client_key) as
-      | { id: number; created_by: string | null }
-      | undefined;
-    if (existing) {
-      if (existing.created_by !== user.id) throw conflict("This entry key was already used by someone else; the entry was not stored.");
-      return { id: existing.id, created: false };
-    }
-    const slab = sqlite.prepare("select id, slab_id, length_mm, width_mm, thickness_mm from slabs where slab_id = ?").get(input.slab_id.trim().toUpperCase()) as
-      | { id: number; slab_id: string; length_mm: number; width_mm: number; thickness_mm: number }
-      | undefined;
-    if (!slab) throw notFound(`There is no slab ${input.slab_id.trim().toUpperCase()} on record. Check the id on the slab's label, or scan it again.`);
-    checkPosition(input, slab);
-    const tId = typeId(sqlite, input.type_code);
-    const now = Date.now();
-    let foundAt = now;
-    if (input.found_at) {
-      foundAt = Date.parse(input.found_at);
-      if (foundAt > now + 5 * 60_000) throw badRequest("found_at lies in the future; check the tablet's clock.", { field: "found_at" });
-    }
-    const id = Number(
-      sqlite
-        .prepare(
-          `insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, length_mm, width_mm, depth_mm, severity,
-             stage, disposition, note, client_key, found_at, created_by, created_at, updated_at)
-           values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-        )
-        .run(
-          slab.id, tId, input.face, input.position_along_mm, input.position_across_mm, input.length_mm ?? null, input.width_mm ?? null,
-          input.depth_mm ?? null, input.severity, input.stage, input.disposition, input.note || null, input.client_key, foundAt, user.id, now, now,
-        ).lastInsertRowid,
-    );
-    refreshSlabDisposition(sqlite, slab.id);
-    recordAudit(db, { userId: user.id, action: "defect.create", entity: "defect", entityId: id, after: { ...input, slab_id: slab.slab_id } });
-    return { id, created: true };
-  });
-  const defect = getDefect(db, result.id, user);
+  const result = storeDefectTx(db)(user, input);
+  // A new entry has no photos and no causes yet.
+  const defect = result.created ? toDefect(result.row, [], user, []) : getDefect(db, result.id, user);
   if (result.created && defect.severity === 4) events.criticalDefect?.(defect);
-  return { ...result, defect };
+  return { id: result.id, created: result.created, defect };
+}
+
+type Stored = { id: number; created: false } | { id: number; created: true; row: Row };
+
+/**
+ * The transaction of a post, made once per connection: Drizzle's `db.transaction` builds better-
+ * sqlite3's transaction wrappers (and an ORM transaction object) anew on every call. Same BEGIN
+ * (deferred), COMMIT and, inside another transaction, savepoint as before.
+ */
+const storeTxs = new WeakMap<Database.Database, Database.Transaction<(user: Actor, input: CreateInput) => Stored>>();
+function storeDefectTx(db: Db) {
+  let tx = storeTxs.get(db.$client);
+  if (!tx) storeTxs.set(db.$client, (tx = db.$client.transaction((user: Actor, input: CreateInput) => storeDefect(db, user, input))));
+  return tx;
+}
+
+function storeDefect(db: Db, user: Actor, input: CreateInput): Stored {
+  const sqlite = db.$client;
+  const existing = prepared<[string], { id: number; created_by: string | null }>(sqlite, "select id, created_by from defects where client_key = ?").get(input.client_key);
+  if (existing) {
+    if (existing.created_by !== user.id) throw conflict("This entry key was already used by someone else; the entry was not stored.");
+    return { id: existing.id, created: false };
+  }
+  const slabCode = input.slab_id.trim().toUpperCase();
+  const slab = prepared<[string], SlabRow>(
+    sqlite,
+    `select s.id, s.slab_id, s.length_mm, s.width_mm, s.thickness_mm, h.heat_no, g.code as grade_code, st.strand_no
+     from slabs s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id join strands st on st.id = s.strand_id where s.slab_id = ?`,
+  ).get(slabCode);
+  if (!slab) throw notFound(`There is no slab ${slabCode} on record. Check the id on the slab's label, or scan it again.`);
+  checkPosition(input, slab);
+  const type = typeRow(sqlite, input.type_code);
+  const now = Date.now();
+  let foundAt = now;
+  if (input.found_at) {
+    foundAt = Date.parse(input.found_at);
+    if (foundAt > now + 5 * 60_000) throw badRequest("found_at lies in the future; check the tablet's clock.", { field: "found_at" });
+  }
+  const stored = {
+    face: input.face,
+    position_along_mm: input.position_along_mm,
+    position_across_mm: input.position_across_mm,
+    length_mm: input.length_mm ?? null,
+    width_mm: input.width_mm ?? null,
+    depth_mm: input.depth_mm ?? null,
+    severity: input.severity,
+    stage: input.stage,
+    disposition: input.disposition,
+    note: input.note || null,
+    client_key: input.client_key,
+    found_at: foundAt,
+    created_by: user.id,
+    created_at: now,
+    updated_at: now,
+  };
+  const id = Number(
+    prepared(
+      sqlite,
+      `insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, length_mm, width_mm, depth_mm, severity,
+         stage, disposition, note, client_key, found_at, created_by, created_at, updated_at)
+       values (@slab_id, @type_id, @face, @position_along_mm, @position_across_mm, @length_mm, @width_mm, @depth_mm, @severity,
+         @stage, @disposition, @note, @client_key, @found_at, @created_by, @created_at, @updated_at)`,
+    ).run({ ...stored, slab_id: slab.id, type_id: type.id }).lastInsertRowid,
+  );
+  refreshSlabDisposition(sqlite, slab.id);
+  recordAudit(db, { userId: user.id, action: "defect.create", entity: "defect", entityId: id, after: { ...input, slab_id: slab.slab_id } });
+  const createdByName = prepared<[string], string>(sqlite, "select name from user where id = ?").pluck().get(user.id) ?? null;
+  // The row as SELECT (above) would read it back: the columns stored, the defaults of a new entry.
+  const row: Row = {
+    id, ...stored, slab_id: slab.id, type_id: type.id,
+    review_status: "new", reviewed_by: null, reviewed_at: null, review_note: null, deleted_at: null, deleted_by: null,
+    slabCode: slab.slab_id, slabLength: slab.length_mm, slabWidth: slab.width_mm, slabThickness: slab.thickness_mm,
+    heatNo: slab.heat_no, gradeCode: slab.grade_code, strandNo: slab.strand_no,
+    typeCode: type.code, typeName: type.name, categoryCode: type.category_code,
+    createdByName, reviewedByName: null,
+  };
+  return { id, created: true, row };
 }
 
 function loadForChange(sqlite: Database.Database, id: number, user: Actor): Row {
-  const row = sqlite
-    .prepare(
-      `select d.*, s.slab_id as slab_code, s.length_mm as slab_length_mm, s.width_mm as slab_width_mm, s.thickness_mm as slab_thickness_mm
-       from defects d join slabs s on s.id = d.slab_id where d.id = ? and d.deleted_at is null`,
-    )
-    .get(id) as Row | undefined;
+  const row = prepared(
+    sqlite,
+    `select d.*, s.slab_id as slab_code, s.length_mm as slab_length_mm, s.width_mm as slab_width_mm, s.thickness_mm as slab_thickness_mm
+     from defects d join slabs s on s.id = d.slab_id where d.id = ? and d.deleted_at is null`,
+  ).get(id) as Row | undefined;
   if (!row) throw notFound("There is no such defect entry (it may have been deleted).");
   if (!canChange(user, row as never)) {
     throw forbidden(
@@ -219,13 +292,12 @@ export function updateDefect(db: Db, user: Actor, id: number, patch: UpdateInput
     for (const k of UPDATABLE) if (patch[k] !== undefined) next[k] = patch[k] === "" ? null : patch[k];
     if (patch.type_code !== undefined) next.type_id = typeId(sqlite, patch.type_code);
     checkPosition(next as never, { slab_id: before.slab_code, length_mm: before.slab_length_mm, width_mm: before.slab_width_mm, thickness_mm: before.slab_thickness_mm });
-    sqlite
-      .prepare(
-        `update defects set type_id = @type_id, face = @face, position_along_mm = @position_along_mm, position_across_mm = @position_across_mm,
-           length_mm = @length_mm, width_mm = @width_mm, depth_mm = @depth_mm, severity = @severity, stage = @stage, disposition = @disposition,
-           note = @note, updated_at = @now where id = @id`,
-      )
-      .run({ ...pickColumns(next), now: Date.now(), id });
+    prepared(
+      sqlite,
+      `update defects set type_id = @type_id, face = @face, position_along_mm = @position_along_mm, position_across_mm = @position_across_mm,
+         length_mm = @length_mm, width_mm = @width_mm, depth_mm = @depth_mm, severity = @severity, stage = @stage, disposition = @disposition,
+         note = @note, updated_at = @now where id = @id`,
+    ).run({ ...pickColumns(next), now: Date.now(), id });
     refreshSlabDisposition(sqlite, before.slab_id);
     recordAudit(db, { userId: user.id, action: "defect.update", entity: "defect", entityId: id, before: pickColumns(before), after: pickColumns(next) });
   });
@@ -245,7 +317,7 @@ export function deleteDefect(db: Db, user: Actor, id: number): { id: number; del
   db.transaction(() => {
     const before = loadForChange(sqlite, id, user);
     const now = Date.now();
-    sqlite.prepare("update defects set deleted_at = ?, deleted_by = ?, updated_at = ? where id = ?").run(now, user.id, now, id);
+    prepared(sqlite, "update defects set deleted_at = ?, deleted_by = ?, updated_at = ? where id = ?").run(now, user.id, now, id);
     refreshSlabDisposition(sqlite, before.slab_id);
     recordAudit(db, { userId: user.id, action: "defect.delete", entity: "defect", entityId: id, before: pickColumns(before) });
   });
@@ -255,14 +327,13 @@ export function deleteDefect(db: Db, user: Actor, id: number): { id: number; del
 export function reviewDefect(db: Db, user: Actor, id: number, input: ReviewInput): Defect {
   const sqlite = db.$client;
   db.transaction(() => {
-    const before = sqlite.prepare("select * from defects where id = ? and deleted_at is null").get(id) as Row | undefined;
+    const before = prepared(sqlite, "select * from defects where id = ? and deleted_at is null").get(id) as Row | undefined;
     if (!before) throw notFound("There is no such defect entry (it may have been deleted).");
     const status = input.decision === "confirm" ? "confirmed" : input.decision === "correct" ? "corrected" : "rejected";
     const typeIdNext = input.type_code ? typeId(sqlite, input.type_code) : before.type_id;
     const severityNext = input.severity ?? before.severity;
     const now = Date.now();
-    sqlite
-      .prepare("update defects set review_status = ?, reviewed_by = ?, reviewed_at = ?, review_note = ?, type_id = ?, severity = ?, updated_at = ? where id = ?")
+    prepared(sqlite, "update defects set review_status = ?, reviewed_by = ?, reviewed_at = ?, review_note = ?, type_id = ?, severity = ?, updated_at = ? where id = ?")
       .run(status, user.id, now, input.note ?? null, typeIdNext, severityNext, now, id);
     refreshSlabDisposition(sqlite, before.slab_id);
     recordAudit(db, {

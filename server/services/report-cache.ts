@@ -1,49 +1,69 @@
 /**
- * Slab facts for the reports, held in memory as typed columns (one Float64Array per variable, small
- * integer arrays for where each slab sits). SQLite reads rows: a report over a million slabs and
+ * Slab facts for the reports, held in memory as typed columns (report-cache-columns.ts: one narrow
+ * column per field, every value exact). SQLite reads rows: a report over a million slabs and
  * twenty-odd variables spends seconds in the row engine, while scanning a typed column takes
  * milliseconds. SQLite stays the record; this is a read cache of slab_conditions.
  *
  * Freshness: everything that writes slab_conditions (the condition resolver, grade changes) tells
  * this module which slabs changed; those rows are read again before the next report (new slabs are
- * appended), and a change it cannot name rebuilds the whole cache on the next report.
- * Written here because no well-kept library offers typed column caching over better-sqlite3.
+ * appended), and a change it cannot name rebuilds the whole cache.
+ *
+ * The running server (startReportCache) loads the cache in the background after it listens: from the
+ * snapshot written at its last stop when that is whole and current (report-cache-snapshot.ts), else
+ * from SQLite in slices of a few dozen milliseconds, so sign-in, the yard and every other request are
+ * answered meanwhile. Until the facts are ready a report answers 503 "warming up" with Retry-After.
+ * Without startReportCache (tests, benchmarks, the import thread) the cache is built on the first
+ * report, as before.
  */
 import type Database from "better-sqlite3";
-import { VARIABLES } from "@shared/variables";
 import type { Db } from "../db/client";
+import { HttpError } from "../lib/http-error";
+import type { Logger } from "../lib/logger";
+import { allocate, buildCapacity, ensureCapacity, ensureIndex, put, SELECT_COLUMNS, factsBytes, columnKinds, type FactRow, type SlabFacts } from "./report-cache-columns";
+import { ensureChangeCounter, readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
-export const FACT_VARIABLES = VARIABLES.map((v) => v.key);
+export { exactColumn, exactValue, FACT_VARIABLES, VARIABLE_SCALE, type IdColumn, type SlabFacts, type ValueColumn } from "./report-cache-columns";
 
-export interface SlabFacts {
-  size: number;
-  slabId: Int32Array;
-  castAt: Float64Array;
-  casterId: Int32Array;
-  strandId: Int32Array;
-  /** The slab's heat (slabs of one heat share its heat-level values: the clusters of robust SEs). */
-  heatId: Int32Array;
-  gradeId: Int32Array;
-  familyId: Int32Array;
-  transition: Uint8Array;
-  sequencePosition: Int32Array;
-  weightT: Float64Array;
-  /** NaN where the slab has no value. */
-  vars: Record<string, Float64Array>;
-  /** slab row id → index in the columns (−1 when absent). */
-  indexOf: Int32Array;
+interface Warming {
+  phase: "opening" | "checking" | "reading" | "rebuilding";
+  startedAt: number;
+  /** Work done and to do in the current phase (slab ids or bytes), for the estimate. */
+  done: number;
+  total: number;
+  /** The highest slab id when loading began. */
+  slabs: number;
+  phaseStartedAt: number;
+  promise: Promise<void>;
+}
+
+interface Background {
+  snapshotFile: string | null;
+  logger?: Logger;
+  closed: boolean;
+  /** `version` when the last snapshot was written or read (nothing new to write while equal). */
+  savedVersion: number;
+  writing: Promise<void> | null;
+  /** SQLite's data_version at the last periodic look: another connection wrote when it changes. */
+  dataVersion: number;
+  sliceMs: number;
+  /** Where the facts came from the last time they were loaded, and why a snapshot was not used. */
+  loaded: { from: "snapshot" | "database"; snapshotIgnored: string | null } | null;
 }
 
 interface State {
   facts: SlabFacts | null;
   dirtyAll: boolean;
   dirty: Set<number>;
+  /** Counts every change applied to the facts. */
+  version: number;
+  warming: Warming | null;
+  background: Background | null;
 }
 
 const states = new WeakMap<Database.Database, State>();
 const stateOf = (sqlite: Database.Database): State => {
   let s = states.get(sqlite);
-  if (!s) states.set(sqlite, (s = { facts: null, dirtyAll: true, dirty: new Set() }));
+  if (!s) states.set(sqlite, (s = { facts: null, dirtyAll: true, dirty: new Set(), version: 0, warming: null, background: null }));
   return s;
 };
 
@@ -58,6 +78,9 @@ export function onSlabFactsChanged(listener: FactsListener): () => void {
   listeners.add(listener);
   return () => listeners.delete(listener);
 }
+
+/** Past this many changed slabs a rebuild is cheaper than reading each one again. */
+const PATCH_LIMIT = 50_000;
 
 /** Call after writing slab_conditions: the named slabs, or all when not named. */
 export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
@@ -74,95 +97,277 @@ export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
   }
   if (s.dirtyAll) return;
   for (const id of slabIds) s.dirty.add(id);
-  // Past a point a rebuild is cheaper than many single-row reads.
-  if (s.dirty.size > 50_000) {
+  if (s.dirty.size > PATCH_LIMIT) {
     s.dirtyAll = true;
     s.dirty.clear();
   }
 }
 
-const COLUMNS = `slab_id, cast_at, caster_id, strand_id, grade_id, family_id, transition, sequence_position, weight_t, heat_id, ${FACT_VARIABLES.join(", ")}`;
-
-function allocate(capacity: number, maxId: number): SlabFacts {
-  const vars: Record<string, Float64Array> = {};
-  for (const k of FACT_VARIABLES) vars[k] = new Float64Array(capacity);
-  const indexOf = new Int32Array(maxId + 1).fill(-1);
-  return {
-    size: 0, slabId: new Int32Array(capacity), castAt: new Float64Array(capacity), casterId: new Int32Array(capacity), strandId: new Int32Array(capacity), heatId: new Int32Array(capacity),
-    gradeId: new Int32Array(capacity), familyId: new Int32Array(capacity), transition: new Uint8Array(capacity), sequencePosition: new Int32Array(capacity),
-    weightT: new Float64Array(capacity), vars, indexOf,
-  };
-}
-
-function put(f: SlabFacts, i: number, r: (number | null)[]) {
-  f.slabId[i] = r[0]!;
-  f.castAt[i] = r[1] ?? NaN;
-  f.casterId[i] = r[2] ?? 0;
-  f.strandId[i] = r[3] ?? 0;
-  f.gradeId[i] = r[4] ?? 0;
-  f.familyId[i] = r[5] ?? 0;
-  f.transition[i] = r[6] ? 1 : 0;
-  f.sequencePosition[i] = r[7] ?? 0;
-  f.weightT[i] = r[8] ?? NaN;
-  f.heatId[i] = r[9] ?? 0;
-  for (let k = 0; k < FACT_VARIABLES.length; k++) f.vars[FACT_VARIABLES[k]!]![i] = r[10 + k] ?? NaN;
-  f.indexOf[r[0]!] = i;
-}
+const maxIdOf = (sqlite: Database.Database) => (sqlite.prepare("select coalesce(max(slab_id), 0) from slab_conditions").pluck().get() as number) ?? 0;
 
 function build(sqlite: Database.Database): SlabFacts {
-  const n = sqlite.prepare("select count(*) from slab_conditions").pluck().get() as number;
-  const maxId = (sqlite.prepare("select coalesce(max(slab_id), 0) from slab_conditions").pluck().get() as number) ?? 0;
-  const f = allocate(Math.max(16, Math.ceil(n * 1.1)), Math.max(16, Math.ceil(maxId * 1.1)));
-  let i = 0;
-  for (const r of sqlite.prepare(`select ${COLUMNS} from slab_conditions order by slab_id`).raw().iterate() as IterableIterator<(number | null)[]>) {
-    put(f, i++, r);
+  const maxId = maxIdOf(sqlite);
+  // Ids only grow (slab rows are never deleted), so the highest id bounds the row count.
+  const f = allocate(buildCapacity(maxId), buildCapacity(maxId));
+  for (const r of sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions order by slab_id`).raw().iterate() as IterableIterator<FactRow>) {
+    put(f, f.size++, r);
   }
-  f.size = i;
   return f;
 }
 
-function grow(f: SlabFacts, minCapacity: number, minId: number): SlabFacts {
-  const cap = f.slabId.length;
-  const needCap = minCapacity > cap;
-  const needIds = minId >= f.indexOf.length;
-  if (!needCap && !needIds) return f;
-  const g = allocate(needCap ? Math.max(minCapacity, cap * 2) : cap, needIds ? Math.max(minId + 1, f.indexOf.length * 2) : f.indexOf.length - 1);
-  for (const key of ["slabId", "castAt", "casterId", "strandId", "heatId", "gradeId", "familyId", "transition", "sequencePosition", "weightT"] as const) {
-    (g[key] as Float64Array).set((f[key] as Float64Array).subarray(0, f.size));
+const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
+
+/**
+ * The same build, a slice at a time (pages of slab ids, `sliceMs` of work each), the event loop
+ * free in between. A write during the build is recorded in the dirty set as usual and read again
+ * afterwards, so the facts end current although the pages are read at different moments.
+ */
+async function buildInSlices(sqlite: Database.Database, w: Warming, sliceMs: number, stopped: () => boolean): Promise<SlabFacts> {
+  const maxId = maxIdOf(sqlite);
+  const f = allocate(buildCapacity(maxId), buildCapacity(maxId));
+  const PAGE = 512;
+  const page = sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id > ? order by slab_id limit ${PAGE}`).raw();
+  let last = 0;
+  w.total = maxId;
+  for (;;) {
+    const t = performance.now();
+    let got: number;
+    do {
+      const rows = page.all(last) as FactRow[];
+      got = rows.length;
+      ensureCapacity(f, f.size + got);
+      for (const r of rows) {
+        ensureIndex(f, r[0]!);
+        put(f, f.size++, r);
+      }
+      if (got) last = rows[got - 1]![0]!;
+    } while (got === PAGE && performance.now() - t < sliceMs);
+    w.done = last;
+    if (got < PAGE) return f;
+    await nextTurn();
+    if (stopped()) throw new Error("stopped");
   }
-  for (const k of FACT_VARIABLES) g.vars[k]!.set(f.vars[k]!.subarray(0, f.size));
-  g.indexOf.set(f.indexOf.subarray(0, Math.min(f.indexOf.length, g.indexOf.length)));
-  g.size = f.size;
-  return g;
 }
 
-/** The facts, fresh: rebuilt or patched as the recorded changes require. */
+function patch(sqlite: Database.Database, s: State, f: SlabFacts) {
+  const ids = [...s.dirty].sort((a, b) => a - b);
+  s.dirty.clear();
+  const stmt = sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${Array(500).fill("?").join(",")})`).raw();
+  for (let k = 0; k < ids.length; k += 500) {
+    const chunk = ids.slice(k, k + 500);
+    const rows = (chunk.length === 500 ? stmt : sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${chunk.map(() => "?").join(",")})`).raw()).all(
+      ...chunk,
+    ) as FactRow[];
+    ensureCapacity(f, f.size + rows.length);
+    ensureIndex(f, chunk[chunk.length - 1]!);
+    for (const r of rows) {
+      const at = f.indexOf[r[0]!]!;
+      put(f, at >= 0 ? at : f.size++, r);
+    }
+  }
+  s.version++;
+}
+
+/** The answer while the facts load: 503 with an estimate, in words. */
+function warmingUp(w: Warming): HttpError {
+  const now = performance.now();
+  const phaseMs = now - w.phaseStartedAt;
+  // The rate measured so far in this phase; before that, about 6 s per million slabs for a rebuild
+  // and 1 s per million for checking and reading a snapshot (w.slabs: the highest slab id).
+  let leftS: number;
+  if (w.done > 0 && w.total > 0) leftS = ((phaseMs / w.done) * Math.max(0, w.total - w.done)) / 1000;
+  else leftS = w.phase === "rebuilding" ? (w.slabs * 6) / 1e6 : w.slabs / 1e6 + 1;
+  const seconds = Math.max(1, Math.ceil(leftS));
+  return new HttpError(
+    503,
+    "reports_warming_up",
+    `Reports are warming up: the slab data are being loaded (about ${seconds} s). Try again in a moment.`,
+    { retryAfterSeconds: Math.min(10, Math.max(2, seconds)), secondsLeft: seconds, phase: w.phase, startedSecondsAgo: Math.round((now - w.startedAt) / 1000) },
+  );
+}
+
+/** The facts, fresh: rebuilt or patched as the recorded changes require (503 while they load). */
 export function slabFacts(db: Db): SlabFacts {
   const sqlite = db.$client;
   const s = stateOf(sqlite);
+  if (s.warming) throw warmingUp(s.warming);
   if (!s.facts || s.dirtyAll) {
+    if (s.background && !s.background.closed) {
+      startWarming(sqlite, s, false);
+      throw warmingUp(s.warming!);
+    }
     s.facts = build(sqlite);
     s.dirtyAll = false;
     s.dirty.clear();
+    s.version++;
     return s.facts;
   }
-  if (s.dirty.size > 0) {
-    const ids = [...s.dirty].sort((a, b) => a - b);
-    s.dirty.clear();
-    let f = s.facts;
-    const stmt = sqlite.prepare(`select ${COLUMNS} from slab_conditions where slab_id in (${Array(500).fill("?").join(",")})`).raw();
-    for (let k = 0; k < ids.length; k += 500) {
-      const chunk = ids.slice(k, k + 500);
-      const rows = (chunk.length === 500 ? stmt : sqlite.prepare(`select ${COLUMNS} from slab_conditions where slab_id in (${chunk.map(() => "?").join(",")})`).raw()).all(
-        ...chunk,
-      ) as (number | null)[][];
-      f = grow(f, f.size + rows.length, chunk[chunk.length - 1]!);
-      for (const r of rows) {
-        const at = r[0]! < f.indexOf.length ? f.indexOf[r[0]!]! : -1;
-        put(f, at >= 0 ? at : f.size++, r);
-      }
-    }
-    s.facts = f;
-  }
+  if (s.dirty.size > 0) patch(sqlite, s, s.facts);
   return s.facts;
+}
+
+/** Starts loading the facts in the background (from the snapshot first when `fromSnapshot`). */
+function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean) {
+  const bg = s.background!;
+  const t0 = performance.now();
+  const slabs = maxIdOf(sqlite);
+  const w: Warming = { phase: fromSnapshot && bg.snapshotFile ? "opening" : "rebuilding", startedAt: t0, phaseStartedAt: t0, done: 0, total: 0, slabs, promise: Promise.resolve() };
+  s.warming = w;
+  // Changes from here on are recorded and read again once the facts are in.
+  s.dirtyAll = false;
+  s.dirty.clear();
+  const stopped = () => bg.closed;
+  // How long each phase took, for the log line.
+  const phasesMs: Record<string, number> = {};
+  const nextPhase = (phase: Warming["phase"]) => {
+    const now = performance.now();
+    phasesMs[w.phase] = Math.round(now - w.phaseStartedAt);
+    w.phase = phase;
+    w.phaseStartedAt = now;
+  };
+  w.promise = (async () => {
+    let facts: SlabFacts | null = null;
+    let from = "the database";
+    let why: string | null = null;
+    if (fromSnapshot && bg.snapshotFile) {
+      await removeStaleTemps(bg.snapshotFile);
+      const r = await readSnapshot(sqlite, bg.snapshotFile, {
+        capacityFor: buildCapacity,
+        stopped,
+        progress: (phase, done, total) => {
+          if (w.phase !== phase) nextPhase(phase);
+          w.done = done;
+          w.total = total;
+        },
+      });
+      if (r.facts) {
+        facts = r.facts;
+        from = "the snapshot";
+      } else why = r.reason;
+    }
+    if (!facts) {
+      if (w.phase !== "rebuilding") nextPhase("rebuilding");
+      w.done = 0;
+      facts = await buildInSlices(sqlite, w, bg.sliceMs, stopped);
+    }
+    if (bg.closed) return;
+    phasesMs[w.phase] = Math.round(performance.now() - w.phaseStartedAt);
+    s.facts = facts;
+    s.version++;
+    if (from === "the snapshot") bg.savedVersion = s.version;
+    bg.loaded = { from: from === "the snapshot" ? "snapshot" : "database", snapshotIgnored: why };
+    s.warming = null;
+    const kinds = columnKinds(facts);
+    bg.logger?.info(
+      { slabs: facts.size, ms: Math.round(performance.now() - t0), phasesMs, from, ...(why ? { snapshotIgnored: why } : {}), mb: Math.round(factsBytes(facts) / 1048576), float32Variables: kinds.float32.length, float64Variables: kinds.float64.length },
+      "report cache ready",
+    );
+    // A change it could not name came while loading: load again.
+    if (s.dirtyAll) startWarming(sqlite, s, false);
+  })()
+    .catch((err) => {
+      if (bg.closed) return;
+      s.facts = null;
+      s.dirtyAll = true;
+      bg.logger?.error({ err }, "report cache could not be loaded; the next report tries again");
+    })
+    .finally(() => {
+      if (s.warming === w) s.warming = null;
+    });
+}
+
+export interface ReportCacheStatus {
+  state: "warming" | "ready" | "stale";
+  /** Where the facts came from when last loaded; why the snapshot was not used (none, out of date, damaged). */
+  from: "snapshot" | "database" | null;
+  snapshotIgnored: string | null;
+  slabs: number | null;
+}
+
+export interface ReportCacheHandle {
+  status(): ReportCacheStatus;
+  /** Resolves when the facts are ready (or the load failed). */
+  whenReady(): Promise<void>;
+  /** Writes the snapshot now when the facts are current and changed since the last one. */
+  saveSnapshot(): Promise<"written" | "unchanged" | "not ready">;
+  /** Stops the periodic snapshots and writes the last one (at shutdown, after the last request). */
+  close(): Promise<void>;
+}
+
+/**
+ * The running server's cache: loads it in the background (snapshot, else the database), writes a
+ * snapshot every `snapshotEveryMs` when something changed and at `close()`.
+ */
+export function startReportCache(
+  db: Db,
+  opts: { snapshotFile: string | null; logger?: Logger; snapshotEveryMs?: number; sliceMs?: number },
+): ReportCacheHandle {
+  const sqlite = db.$client;
+  const s = stateOf(sqlite);
+  const bg: Background = {
+    snapshotFile: opts.snapshotFile,
+    logger: opts.logger,
+    closed: false,
+    savedVersion: -1,
+    writing: null,
+    dataVersion: sqlite.pragma("data_version", { simple: true }) as number,
+    sliceMs: opts.sliceMs ?? 20,
+    loaded: null,
+  };
+  // From now on SQLite counts every change of slab_conditions (what the snapshot is checked against).
+  ensureChangeCounter(sqlite);
+  s.background = bg;
+  s.facts = null;
+  startWarming(sqlite, s, true);
+
+  const save = async (): Promise<"written" | "unchanged" | "not ready"> => {
+    if (!bg.snapshotFile || bg.writing) return "not ready";
+    if (s.warming || !s.facts || s.dirtyAll) return "not ready";
+    if (s.dirty.size > 0) patch(sqlite, s, s.facts);
+    if (s.version === bg.savedVersion) return "unchanged";
+    const version = s.version;
+    const t = performance.now();
+    bg.writing = writeSnapshot(sqlite, s.facts, bg.snapshotFile)
+      .then(({ bytes }) => {
+        bg.savedVersion = version;
+        opts.logger?.info({ mb: Math.round(bytes / 1048576), ms: Math.round(performance.now() - t) }, "report cache snapshot written");
+      })
+      .finally(() => (bg.writing = null));
+    await bg.writing;
+    return "written";
+  };
+
+  const timer = setInterval(() => {
+    // Another connection (an import thread) tells its changes when it finishes; a snapshot is
+    // written only after a whole period in which no other connection wrote, so it never misses one.
+    const dv = sqlite.pragma("data_version", { simple: true }) as number;
+    const quiet = dv === bg.dataVersion;
+    bg.dataVersion = dv;
+    if (quiet) void save().catch((err) => opts.logger?.error({ err }, "report cache snapshot failed"));
+  }, opts.snapshotEveryMs ?? 10 * 60_000);
+  timer.unref();
+
+  return {
+    status: () => ({
+      state: s.warming ? "warming" : s.facts && !s.dirtyAll ? "ready" : "stale",
+      from: bg.loaded?.from ?? null,
+      snapshotIgnored: bg.loaded?.snapshotIgnored ?? null,
+      slabs: s.facts?.size ?? null,
+    }),
+    whenReady: async () => {
+      while (s.warming) await s.warming.promise;
+    },
+    saveSnapshot: save,
+    close: async () => {
+      clearInterval(timer);
+      if (bg.writing) await bg.writing.catch(() => undefined);
+      try {
+        await save();
+      } catch (err) {
+        opts.logger?.error({ err }, "report cache snapshot at shutdown failed");
+      }
+      bg.closed = true;
+      s.background = null;
+    },
+  };
 }

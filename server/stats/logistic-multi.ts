@@ -23,6 +23,7 @@
  */
 import { chiSquareUpper, normalQuantileOf, normalTwoSided } from "./distributions";
 import { choleskyInverse, congruence, firstDependentColumn, logDeterminant, subMatrix } from "./linear-algebra";
+import { scratch } from "./scratch";
 
 export type TermSpec =
   | { name: string; kind: "numeric" }
@@ -403,11 +404,12 @@ function collapseByPattern(used: Int32Array, nums: ArrayLike<number>[], cats: Ar
     if (id > max) max = id;
   }
   if (max > 64_000_000 || !Number.isInteger(max)) throw new Error("logisticRegressionColumns: pattern ids must be integers below 64 million");
-  const lookup = new Int32Array(max + 1).fill(-1);
-  const rep = new Int32Array(m);
-  const patternOf = new Int32Array(m);
-  const s = new Float64Array(m);
-  const n = new Float64Array(m);
+  // Working arrays as long as the slabs, reused from fit to fit (scratch.ts): they do not outlive the fit.
+  const lookup = scratch("collapse.lookup", Int32Array, max + 1, -1);
+  const rep = scratch("collapse.rep", Int32Array, m);
+  const patternOf = scratch("collapse.patternOf", Int32Array, m);
+  const s = scratch("collapse.s", Float64Array, m);
+  const n = scratch("collapse.n", Float64Array, m);
   let patterns = 0;
   const checked = Math.min(m, 1000);
   for (let u = 0; u < checked; u++) {
@@ -428,6 +430,8 @@ function collapseByPattern(used: Int32Array, nums: ArrayLike<number>[], cats: Ar
     if (pid < 0) {
       lookup[id] = pid = patterns++;
       rep[pid] = i;
+      s[pid] = 0;
+      n[pid] = 0;
     }
     s[pid]! += affected[i]!;
     n[pid]! += slabs === undefined ? 1 : slabs[i]!;
@@ -439,7 +443,7 @@ function collapseByPattern(used: Int32Array, nums: ArrayLike<number>[], cats: Ar
 /** Dense ids 0 … G − 1 for the heats of the used rows (a typed lookup for integer ids, a map otherwise). */
 function clusterIdsOf(used: Int32Array, cluster: ArrayLike<number>) {
   const m = used.length;
-  const ids = new Int32Array(m);
+  const ids = scratch("cluster.ids", Int32Array, m);
   let lo = Infinity;
   let hi = -Infinity;
   let integers = true;
@@ -452,7 +456,7 @@ function clusterIdsOf(used: Int32Array, cluster: ArrayLike<number>) {
   }
   let G = 0;
   if (integers && hi - lo < 50_000_000) {
-    const lookup = new Int32Array(hi - lo + 1).fill(-1);
+    const lookup = scratch("cluster.lookup", Int32Array, hi - lo + 1, -1);
     for (let u = 0; u < m; u++) {
       const k = cluster[used[u]!]! - lo;
       let id = lookup[k]!;
@@ -604,11 +608,11 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   // Complete rows only, so every model (full and reduced) is fitted to the same slabs. Term by term
   // over all rows (each loop reads one typed column), then compacted.
   const M = data.rows ? data.rows.length : data.affected.length;
-  const picked = new Int32Array(M);
+  const picked = scratch("fit.picked", Int32Array, M);
   if (data.rows) for (let u = 0; u < M; u++) picked[u] = data.rows[u]!;
   else for (let u = 0; u < M; u++) picked[u] = u;
   /** 0 complete, 1 a term without a value, 2 no slabs in the row. */
-  const state = new Uint8Array(M);
+  const state = scratch("fit.state", Uint8Array, M, 0);
   if (data.slabs) for (let u = 0; u < M; u++) if (!(data.slabs[picked[u]!]! > 0)) state[u] = 2;
   for (const t of terms) {
     if (t.kind === "numeric") {
@@ -880,7 +884,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       }
       mu[r] = 1 / (1 + Math.exp(-eta));
     }
-    const u = new Float64Array(G * p);
+    const u = scratch("fit.heatScores", Float64Array, G * p, 0);
     const patternOf = grouped?.patternOf;
     const aff = data.affected;
     const sl = data.slabs;

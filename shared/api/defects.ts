@@ -146,6 +146,8 @@ export const defectListSchema = z.object({
   pageSize: z.number().int(),
 });
 
+export type DefectList = z.infer<typeof defectListSchema>;
+
 export const photosUploadedSchema = z.object({ photos: z.array(photoSchema) });
 
 // ---------------------------------------------------------------------------------------------

@@ -1,5 +1,6 @@
 import type { QueryClient } from "@tanstack/react-query";
-import { createBrowserRouter, type LoaderFunction } from "react-router";
+import { createBrowserRouter, type LoaderFunction, type RouteObject } from "react-router";
+import { RootError, RouteError } from "./routes/route-error";
 
 /** A lazily loaded screen: its component, an optional loader built with the QueryClient, and its error view. */
 interface RouteModule {
@@ -10,21 +11,40 @@ interface RouteModule {
 
 function lazyRoute(qc: QueryClient, load: () => Promise<RouteModule>) {
   return async () => {
-    const m = await load();
-    return { Component: m.Component, loader: m.makeLoader?.(qc), ErrorBoundary: m.ErrorBoundary };
+    let m: RouteModule;
+    try {
+      m = await load();
+    } catch (err) {
+      // The screen's code could not be fetched (offline before it was stored on this device). React
+      // Router draws nothing at all for a route whose lazy() failed, so fail its loader instead: the
+      // route's error view (set on the route below, not taken from the module) then says so.
+      return {
+        loader: () => {
+          throw err;
+        },
+      };
+    }
+    return { Component: m.Component, loader: m.makeLoader?.(qc) };
   };
 }
 
+/**
+ * Every screen inside the app's frame shows its failures in the frame's place for it (the menu, the
+ * offline band and the outbox go on); the frame's own failure, and the sign-in pages', in RootError.
+ */
+const inFrame = (routes: RouteObject[]): RouteObject[] => routes.map((r) => ({ ...r, ErrorBoundary: RouteError }));
+
 export function createRouter(qc: QueryClient) {
   return createBrowserRouter([
-    { path: "/sign-in", lazy: lazyRoute(qc, () => import("./routes/sign-in")) },
+    { path: "/sign-in", ErrorBoundary: RootError, lazy: lazyRoute(qc, () => import("./routes/sign-in")) },
     // Signed out on purpose: someone who forgot the password has no session.
-    { path: "/forgot-password", lazy: lazyRoute(qc, () => import("./routes/forgot-password")) },
-    { path: "/reset-password", lazy: lazyRoute(qc, () => import("./routes/reset-password")) },
+    { path: "/forgot-password", ErrorBoundary: RootError, lazy: lazyRoute(qc, () => import("./routes/forgot-password")) },
+    { path: "/reset-password", ErrorBoundary: RootError, lazy: lazyRoute(qc, () => import("./routes/reset-password")) },
     {
       path: "/",
+      ErrorBoundary: RootError,
       lazy: lazyRoute(qc, () => import("./routes/app-layout")),
-      children: [
+      children: inFrame([
         { index: true, lazy: lazyRoute(qc, () => import("./routes/home")) },
         { path: "yard", lazy: lazyRoute(qc, () => import("./routes/yard")) },
         { path: "yard/slabs/:slabId", lazy: lazyRoute(qc, () => import("./routes/yard-slab")) },
@@ -61,7 +81,7 @@ export function createRouter(qc: QueryClient) {
         { path: "admin/outbox", lazy: lazyRoute(qc, () => import("./routes/admin-outbox")) },
         { path: "no-role", lazy: lazyRoute(qc, () => import("./routes/no-role")) },
         { path: "*", lazy: lazyRoute(qc, () => import("./routes/not-found")) },
-      ],
+      ]),
     },
   ]);
 }

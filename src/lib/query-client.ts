@@ -22,10 +22,16 @@ export function createQueryClient(hooks: QueryClientHooks = {}) {
     defaultOptions: {
       queries: {
         staleTime: 30_000,
-        // Retry network trouble, never a 4xx: a refused request will not change its mind.
-        retry: (count, err) => !(err instanceof ApiError && err.status >= 400 && err.status < 500) && count < 2,
+        // Retry network trouble, never a 4xx: a refused request will not change its mind. With the
+        // device surely offline, fail at once: the screen says so rather than waiting.
+        retry: (count, err) =>
+          !(err instanceof ApiError && err.status >= 400 && err.status < 500) && count < 2 && (typeof navigator === "undefined" || navigator.onLine !== false),
+        // Ask even when the browser says offline (the default would wait, and a screen's loader
+        // with it, until the network returns): the answer comes at once, from the network or not.
+        networkMode: "offlineFirst",
         refetchOnWindowFocus: false,
       },
+      mutations: { networkMode: "offlineFirst" },
     },
   });
   return qc;

@@ -12,13 +12,24 @@
  * plant's twelve months — (target under 0.5 s); the generated plant's own last twelve months hold
  * about half its slabs, so they are held to the million-slab target; each beside the crude
  * rate-by-variable on the same slabs in
- * the same run. The plant's values repeat (its generator has a short cycle), so slabs share value
+ * the same run.
+ *
+ * The report cache (issue 14): its bytes per slab (narrow exact columns: Float32 only for variables
+ * whose values sit on their grid — BENCH_VALUES=grid generates such a plant; by default values carry
+ * every digit and stay Float64), the RSS it adds, the background load the server does after listen
+ * (and the longest the event loop is held meanwhile), the snapshot written and read back against
+ * reading its bytes alone, the screening adjusted for grade family (the default), and a projection to
+ * 20 M slabs from these figures. BENCH_SLABS=5000000 builds a five-million-slab plant (≈ 2.3 GB).
+ * The server's own start (listen, sign-in, RSS) is `npm run bench -- start` (tests/bench/start.bench.ts). The plant's values repeat (its generator has a short cycle), so slabs share value
  * patterns as heat-level values make them do in a plant; the full model's fit with every slab taken
  * as distinct (grouping switched off) is printed too, as the worst case.
  */
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
+import { monitorEventLoopDelay } from "node:perf_hooks";
+import v8 from "node:v8";
+import vm from "node:vm";
 import { openDatabase, type Db } from "../../server/db/client";
 import { runMigrations } from "../../server/db/migrate";
 import { seedReference } from "../../server/seed/seed";
@@ -28,7 +39,9 @@ import { logisticRegressionColumns } from "../../server/stats/logistic-multi";
 import { rateByVariable } from "../../server/services/reports/rate-by-variable";
 import { buildScope } from "../../server/services/reports/scope";
 import { screening } from "../../server/services/reports/screening";
-import { slabFacts, slabFactsChanged } from "../../server/services/report-cache";
+import { slabFacts, slabFactsChanged, startReportCache } from "../../server/services/report-cache";
+import { columnKinds, factsBytes } from "../../server/services/report-cache-columns";
+import { readSnapshot, writeSnapshot } from "../../server/services/report-cache-snapshot";
 import { adjustedQuerySchema, rateByVariableQuerySchema, screeningQuerySchema } from "../../shared/api/reports";
 import { VARIABLES } from "../../shared/variables";
 
@@ -36,7 +49,23 @@ const SLABS = Number(process.env.BENCH_SLABS ?? 1_000_000);
 const HEATS = SLABS / 10;
 const DEFECTS = Math.round(SLABS * 0.15);
 const RUNS = Number(process.env.BENCH_RUNS ?? 5);
-const file = path.join(os.tmpdir(), `strandsight-bench-reports-v2-${SLABS}.db`);
+/**
+ * BENCH_VALUES=grid: every value stored at the reports' grouping resolution (as instruments and the
+ * lab report them), so the cache holds the variables as Float32; by default values carry every digit
+ * (means of samples, derived values), the cache's Float64 case.
+ */
+const GRID = process.env.BENCH_VALUES === "grid";
+const file = path.join(os.tmpdir(), `strandsight-bench-reports-v2-${SLABS}${GRID ? "-grid" : ""}.db`);
+
+/** The generated values in insert order, by variable (for BENCH_VALUES=grid). */
+const GRID_KEYS = [
+  "c_pct", "casting_speed_m_min", "speed_change_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm",
+  "throughput_t_min", "shell_exit_mm", "embr_field_t", "stuart_number", "sen_port_velocity_m_s", "metallurgical_length_m",
+];
+const onGrid = (x: number, key: string) => {
+  const scale = 10 ** (VARIABLES.find((v) => v.key === key)!.digits + 1);
+  return Math.round(x * scale) / scale;
+};
 
 function generate(db: Db) {
   const c = db.$client;
@@ -73,11 +102,12 @@ function generate(db: Db) {
         const width = 1200 + Math.floor(rnd() * 8) * 100;
         const transition = k % 5 === 0 && h % 8 !== 1 ? 1 : 0;
         insSlab.run(slabId, `BS${slabId}`, h, strand, Math.floor(k / 2) + 1, width, start + k * 180_000, transition);
-        insCond.run(
-          slabId, h, caster, strand, g.id, g.family_id, start + k * 180_000, transition, (h % 8) + 1, width, 0.03 + rnd() * 0.12,
-          v, rnd() * 0.3, 15 + rnd() * 25, embr + rnd() * 5, sen, 4 + rnd() * 8, 1 + rnd() * 4,
+        const values = [
+          0.03 + rnd() * 0.12, v, rnd() * 0.3, 15 + rnd() * 25, embr + rnd() * 5, sen, 4 + rnd() * 8, 1 + rnd() * 4,
           7.8 * v * (width / 1000) * 0.23, 20 * Math.sqrt(0.8 / v), embr * 0.00075, 0.2 + rnd(), 0.5 + rnd() * 0.5, v * 18.1,
-        );
+        ];
+        if (GRID) GRID_KEYS.forEach((key, j) => (values[j] = onGrid(values[j]!, key)));
+        insCond.run(slabId, h, caster, strand, g.id, g.family_id, start + k * 180_000, transition, (h % 8) + 1, width, ...values);
         // Invented defects whose chance rises with speed and falls with the brake current.
         const pSlag = 0.1 * Math.exp(2 * (v - 1.5) - 0.002 * (embr - 240));
         if (rnd() < pSlag) insDefect.run(slabId, slg, 1 + Math.floor(rnd() * 4), start + 86_400_000);
@@ -106,7 +136,9 @@ function time(fn: () => unknown): number {
   return median(out) / 1000;
 }
 
-function main() {
+let cacheFigures: { buildS: number; slicedS: number; readS: number; writeS: number; fileBytes: number; bytes: number; lagMs: number } | null = null;
+
+async function main() {
   const fresh = !fs.existsSync(file);
   const db = openDatabase(file);
   runMigrations(db);
@@ -115,6 +147,10 @@ function main() {
     const t = performance.now();
     generate(db);
     console.log(`generated in ${((performance.now() - t) / 1000).toFixed(1)} s`);
+  }
+  if (process.env.BENCH_GENERATE_ONLY) {
+    db.$client.close();
+    return;
   }
   const c = db.$client;
   const counts = c.prepare("select (select count(*) from slabs) s, (select count(*) from heats) h, (select count(*) from defects) d").get() as { s: number; h: number; d: number };
@@ -129,14 +165,59 @@ function main() {
   const sums = VARIABLES.map((v) => `count(c.${v.key}), sum(c.${v.key}), sum(c.${v.key} * c.${v.key})`).join(", ");
   const bareScreen = c.prepare(`with ${scope.aff} select (a.id is not null) as aff, count(*), ${sums} from slab_conditions c left join aff a on a.id = c.slab_id group by aff`);
 
+  const gc = (() => {
+    v8.setFlagsFromString("--expose-gc");
+    return vm.runInNewContext("gc") as () => void;
+  })();
+  gc();
+  const rssBefore = process.memoryUsage().rss;
   slabFactsChanged(db);
   const tb = performance.now();
   const facts = slabFacts(db);
   const buildS = (performance.now() - tb) / 1000;
-  let bytes = 0;
-  for (const v of Object.values(facts)) if (ArrayBuffer.isView(v)) bytes += v.byteLength;
-  for (const v of Object.values(facts.vars)) bytes += v.byteLength;
+  const bytes = factsBytes(facts);
+  gc();
+  const rssCache = process.memoryUsage().rss - rssBefore;
+  const kinds = columnKinds(facts);
   console.log(`slab facts cache: built from SQLite in ${buildS.toFixed(2)} s (once after a start or a large import), ${(bytes / 1024 / 1024).toFixed(0)} MB in typed arrays`);
+  console.log(
+    `  ${(bytes / facts.slabId.length).toFixed(0)} bytes per slab (${facts.slabId.length.toLocaleString("en")} rows of room, ${(facts.slabId.length - facts.size).toLocaleString("en")} of them spare; was 243); RSS grew ${(rssCache / 1048576).toFixed(0)} MB; ${kinds.float32.length} of ${VARIABLES.length} variables held as Float32 (on their grid)${kinds.float32.length ? `: ${kinds.float32.join(", ")}` : ""}`,
+  );
+
+  // The server's way: after listen, in slices, the event loop free in between.
+  {
+    const lag = monitorEventLoopDelay({ resolution: 5 });
+    lag.enable();
+    const t = performance.now();
+    const handle = startReportCache(db, { snapshotFile: null });
+    await handle.whenReady();
+    const slicedS = (performance.now() - t) / 1000;
+    lag.disable();
+    await handle.close();
+    // The snapshot: written at shutdown, read back (and checked against the database) at the next start.
+    const snap = path.join(os.tmpdir(), `strandsight-bench-snapshot-${process.pid}`);
+    try {
+      const tw = performance.now();
+      const { bytes: fileBytes } = await writeSnapshot(db.$client, slabFacts(db), snap);
+      const writeS = (performance.now() - tw) / 1000;
+      const tf = performance.now();
+      fs.readFileSync(snap);
+      const floorS = (performance.now() - tf) / 1000;
+      const tr = performance.now();
+      const back = await readSnapshot(db.$client, snap, { capacityFor: (n) => n + 65_536 });
+      const readS = (performance.now() - tr) / 1000;
+      if (!back.facts) throw new Error(`the snapshot was not read back: ${back.reason}`);
+      console.log(
+        `  in the background (the server, after listen): ${slicedS.toFixed(2)} s, the event loop held at most ${(lag.max / 1e6).toFixed(0)} ms at a time (p99 ${(lag.percentile(99) / 1e6).toFixed(0)} ms)`,
+      );
+      console.log(
+        `  snapshot: ${(fileBytes / 1048576).toFixed(0)} MB written in ${writeS.toFixed(2)} s; read back and checked against the database in ${readS.toFixed(2)} s (the file's bytes alone ${floorS.toFixed(2)} s: ${(readS / floorS).toFixed(1)}×) — ${(buildS / readS).toFixed(1)}× faster than the rebuild`,
+      );
+      cacheFigures = { buildS, slicedS, readS, writeS, fileBytes, bytes, lagMs: lag.max / 1e6 };
+    } finally {
+      fs.rmSync(snap, { force: true });
+    }
+  }
 
   const results = [
     { name: "rate-by-variable (SLG × casting speed)", report: time(() => rateByVariable(db, rbvQuery)), bare: time(() => bareRate.raw().all(scope.params)) },
@@ -184,6 +265,19 @@ function main() {
   const sq = screeningQuerySchema.parse({ defectType: "SLG" });
   const sAdj = time(() => screening(db, sq));
   console.log(`screening adjusted for grade family (the default), 22 variables + 4 categorical, every slab: ${sAdj.toFixed(3)} s`);
+  const sCrude = results[1]!.report;
+  gc();
+  const rss = process.memoryUsage().rss / 1048576;
+  const peak = process.resourceUsage().maxRSS / 1024;
+  console.log(`memory of this process: RSS ${rss.toFixed(0)} MB after the reports, peak ${peak.toFixed(0)} MB (the server's own RSS: npm run bench -- start)`);
+  {
+    // Projection to 20 M slabs, linear in the slabs from this run's figures.
+    const k = 20_000_000 / facts.size;
+    const c = cacheFigures!;
+    console.log(
+      `projection to 20,000,000 slabs (× ${k.toFixed(1)} of these figures): cache ${((c.bytes * k) / 1048576).toFixed(0)} MB, snapshot file ${((c.fileBytes * k) / 1048576).toFixed(0)} MB, reports ready after a start in ≈ ${(c.readS * k).toFixed(0)} s from the snapshot (≈ ${(c.slicedS * k).toFixed(0)} s rebuilt), screening crude ≈ ${(sCrude * k).toFixed(1)} s, adjusted ≈ ${(sAdj * k).toFixed(1)} s`,
+    );
+  }
   const fit = adjustedModel(db, adjustedQuerySchema.parse({ defectType: "SLG", variables: conditions, adjustFor: "grade_family,strand" }));
   console.log(
     `  every slab: ${fit.slabs.toLocaleString("en")} slabs in ${fit.heats.toLocaleString("en")} heats, ${fit.model.iterations} Newton passes; casting speed adjusted odds ratio ${fit.terms[0]!.perWords} ${fit.terms[0]!.adjusted.oddsRatio?.toFixed(4)}, crude ${fit.terms[0]!.crude.oddsRatio?.toFixed(4)}`,
@@ -206,4 +300,7 @@ function main() {
   db.$client.close();
 }
 
-main();
+main().catch((err) => {
+  console.error(err);
+  process.exit(1);
+});

@@ -1,6 +1,6 @@
 import "fake-indexeddb/auto";
 import { afterEach, describe, expect, it } from "vitest";
-import type { DefectCreate } from "../../shared/api/defects";
+import type { Defect, DefectCreate } from "../../shared/api/defects";
 import { ApiError } from "../../src/lib/api-client";
 import { createOutbox, retryDelayMs, type OutboxTransport } from "../../src/features/defects/offline/outbox";
 
@@ -29,7 +29,9 @@ function scriptedTransport(script: { defect?: (unknown | null)[]; photo?: (unkno
       calls.push({ kind: "defect", key: body.client_key });
       const err = defectAnswers.shift();
       if (err) throw err;
-      return { id: nextId++ };
+      const id = nextId++;
+      // The server answers with the stored record; only what this test reads of it is filled in.
+      return { id, defect: { id, slabId: body.slab_id, clientKey: body.client_key } as unknown as Defect };
     },
     async uploadPhoto(defectId, photo, onProgress) {
       calls.push({ kind: "photo", defectId, key: photo.key });
@@ -218,6 +220,22 @@ describe("the yard's outbox", () => {
     expect(outbox.getSnapshot().entries[0]!.photos).toHaveLength(1);
     await outbox.discard("entry-0010");
     expect(outbox.getSnapshot().entries).toEqual([]);
+  });
+
+  it("when an entry without photos is sent, then the sent event carries the server's answer; with a photo after it, the answer is not whole and is left out", async () => {
+    const { transport } = scriptedTransport();
+    const { outbox } = makeOutbox(transport);
+    const sent: { key: string; defect: { id: number; clientKey: string } | null }[] = [];
+    outbox.onSent((e) => sent.push({ key: e.clientKey, defect: e.defect ? { id: e.defect.id, clientKey: e.defect.clientKey! } : null }));
+    await outbox.start("u1");
+    await outbox.add({ clientKey: "entry-0101", userId: "u1", slabId: "L260001-101", body: body("entry-0101"), summary, photos: [] });
+    await outbox.flush();
+    await outbox.add({ clientKey: "entry-0102", userId: "u1", slabId: "L260001-101", body: body("entry-0102"), summary, photos: [photo("photo-c001")] });
+    await outbox.flush();
+    expect(sent).toEqual([
+      { key: "entry-0101", defect: { id: 100, clientKey: "entry-0101" } },
+      { key: "entry-0102", defect: null },
+    ]);
   });
 
   it("retry pauses double from 2 s and stop at a minute", () => {

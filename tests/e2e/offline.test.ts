@@ -13,9 +13,12 @@ const env = useAppAndBrowser({ scale: 0.02 });
 
 const sqlite = () => env.server.db.$client;
 let slabOffset = 0;
-/** A different slab for each test, with its dimensions. */
+/** A different slab for each test, one not rolled yet (a rolled slab asks before a slab-yard entry: issue 13). */
 function nextSlab(): string {
-  return sqlite().prepare("select slab_id from slabs order by id limit 1 offset ?").pluck().get(10 + slabOffset++) as string;
+  return sqlite()
+    .prepare("select slab_id from slabs s where not exists (select 1 from products p where p.slab_id = s.id) order by id limit 1 offset ?")
+    .pluck()
+    .get(10 + slabOffset++) as string;
 }
 
 function storedByKey(clientKey: string) {

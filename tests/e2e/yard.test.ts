@@ -127,7 +127,8 @@ describe("slab-yard logging at tablet size", () => {
     expect(await entry.getAttribute("data-client-key")).toBe(row.client_key);
 
     // Today's list on the yard screen: the entry, sent, with its thumbnail loaded from the server.
-    await page.getByRole("link", { name: "Next slab", exact: true }).click();
+    // ("Next slab" now goes to the next piece: issue 13; the search is "Find another slab".)
+    await page.getByRole("link", { name: "Find another slab", exact: true }).click();
     await page.waitForURL(/\/yard$/);
     const listed = page.locator(`[data-testid="entry"][data-defect-id="${row.id}"]`);
     await listed.waitFor();
@@ -244,7 +245,7 @@ describe("slab-yard logging at tablet size", () => {
       deleted_at: null,
     });
 
-    await page.getByRole("link", { name: "Next slab", exact: true }).click();
+    await page.getByRole("link", { name: "Find another slab", exact: true }).click();
     await row.waitFor();
     await row.getByRole("button", { name: "Delete…" }).click();
     await row.getByRole("button", { name: "Delete this entry" }).click();

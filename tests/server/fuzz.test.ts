@@ -712,6 +712,10 @@ beforeAll(async () => {
     "DELETE /claims/:id/slabs/:slabId": { params: { id: String(claim), slabId } },
     "POST /claims/:id/attachments": { params: id(claim) },
     "POST /claims/:id/send-history": { params: id(claim), body: { heatNo, to: ["customer@example.test"] } },
+    "GET /yard/sync": {},
+    "GET /yard/slabs/:slabId": { params: { slabId } },
+    "GET /yard/settings": {},
+    "PUT /yard/settings": { body: { syncWindowHours: 48 }, refuse: null },
   };
 });
 afterAll(async () => {

@@ -311,6 +311,14 @@ Object.assign(matrix, {
   "POST /claims/:id/send-history": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/send-history`, body: { heatNo: heatOfFirstSlab(t), to: ["customer@example.test"] } }) },
 } satisfies Record<string, Row>);
 
+// The yard tablets (issue 13): the set and a slab for those who log yard defects; the window setting like the formula settings.
+Object.assign(matrix, {
+  "GET /yard/sync": { allowed: LOGGERS, sample: () => ({ path: "/api/yard/sync" }) },
+  "GET /yard/slabs/:slabId": { allowed: LOGGERS, sample: (t) => ({ path: `/api/yard/slabs/${firstSlab(t)}` }) },
+  "GET /yard/settings": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/yard/settings" }) },
+  "PUT /yard/settings": { allowed: SETUP, sample: () => ({ path: "/api/yard/settings", body: { syncWindowHours: 48 } }) },
+} satisfies Record<string, Row>);
+
 function firstStrand(t: TestApp) {
   return t.db.$client.prepare("select id from strands order by id limit 1").pluck().get() as number;
 }

@@ -13,6 +13,7 @@ import { effectiveTerms, inSentence, type Adjusted, type adjustedQuerySchema } f
 import { CATEGORICAL_KEYS, CATEGORICAL_LABELS, VARIABLES, type CategoricalKey } from "@shared/variables";
 import type { Db } from "../../db/client";
 import { changeInEstimate, logisticRegressionColumns, oddsRatioForStep, type MultiLogisticFit, type TermColumn, type TermEstimate } from "../../stats/logistic-multi";
+import { scratch } from "../../stats/scratch";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
 export type SeMethod = "cluster" | "model";
@@ -99,7 +100,8 @@ function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): Int32Arra
     if (width > MAX_PATTERNS) return undefined;
     grids.push(g);
   }
-  const ids = new Int32Array(s.facts.size);
+  // Read by the fit only (at these rows), which ends before the next call: a reused array (scratch.ts).
+  const ids = scratch("patternIds", Int32Array, s.facts.size);
   if (grids.length === 1) {
     const { keys, offset } = grids[0]!;
     for (let u = 0; u < rows.length; u++) ids[rows[u]!] = keys[rows[u]!]! - offset;

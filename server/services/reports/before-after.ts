@@ -9,6 +9,7 @@ import { changeInEstimate } from "../../stats/logistic-multi";
 import { differenceOfProportions } from "../../stats/proportions";
 import { differenceOfStandardisedRates, type RateStratum } from "../../stats/standardise";
 import { mantelHaenszel, stratumOddsRatio, type Stratum2x2 } from "../../stats/stratified";
+import { exactColumn } from "../report-cache";
 import { buildScope, finite, proportion, scan, variableSpec, type Scanned } from "./scope";
 import { countByLevel, naturalOrder, stratifier } from "./strata";
 
@@ -63,7 +64,8 @@ function groupsOf(db: Db, q: Query): { sc: Scanned; inA: (i: number) => boolean;
     );
   }
   const sc = scan(db, buildScope(db, q));
-  const col = sc.facts.vars[s.key]!;
+  // The slabs' own values (a Float32 column of the cache holds grid values: read back exactly).
+  const col = exactColumn(sc.facts, s.key);
   return {
     sc,
     inA: (i) => col[i]! >= aMin && col[i]! <= aMax,

@@ -33,7 +33,7 @@ export function overview(db: Db, q: z.output<typeof overviewQuerySchema>): Overv
     cum += r.defects;
     return { code: r.code, name: r.name, defects: r.defects, slabsAffected: r.slabs, share: r.defects / paretoTotal, cumulativeShare: cum / paretoTotal };
   });
-  const countBy = (key: Int32Array) => {
+  const countBy = (key: ArrayLike<number>) => {
     const m = new Map<number, { n: number; x: number }>();
     for (const i of sc.rows) {
       let c = m.get(key[i]!);

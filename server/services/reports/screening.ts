@@ -16,6 +16,7 @@ import { benjaminiHochberg } from "../../stats/multiple";
 import { welchTTest } from "../../stats/regression";
 import { RunningSpread } from "../../stats/spread";
 import { completeRows, fitTerms, GROUPING_METHOD, modelTerms, seqBucket, seWords, type ModelTerm } from "./adjusted";
+import { VARIABLE_SCALE } from "../report-cache";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
 type Query = z.output<typeof screeningQuerySchema>;
@@ -132,12 +133,14 @@ export function screening(db: Db, q: Query): Screening {
   const out: Row[] = [];
 
   for (const v of VARIABLES) {
+    // The slabs' own values (a Float32 column holds grid values: read back exactly).
     const col = f.vars[v.key]!;
+    const scale = col instanceof Float32Array ? VARIABLE_SCALE[v.key]! : 0;
     // Means and variances per outcome computed stably (Welford), with an exact test for no spread.
     const hitAcc = new RunningSpread();
     const soundAcc = new RunningSpread();
     for (const i of rows) {
-      const x = col[i]!;
+      const x = scale ? Math.round(col[i]! * scale) / scale : col[i]!;
       if (x !== x) continue;
       if (aff[i]) hitAcc.add(x);
       else soundAcc.add(x);

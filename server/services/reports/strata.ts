@@ -21,7 +21,7 @@ export interface Stratifier {
 export function stratifier(db: Db, f: SlabFacts, key: CategoricalKey): Stratifier {
   const sqlite = db.$client;
   const names = (sql: string) => new Map((sqlite.prepare(sql).raw().all() as [number, string][]).map(([id, name]) => [id, name]));
-  const lookup = (m: Map<number, string>, col: Int32Array) => (i: number) => m.get(col[i]!) ?? `#${col[i]}`;
+  const lookup = (m: Map<number, string>, col: ArrayLike<number>) => (i: number) => m.get(col[i]!) ?? `#${col[i]}`;
   let of: (i: number) => string;
   switch (key) {
     case "grade_family":

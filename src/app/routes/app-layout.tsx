@@ -1,18 +1,17 @@
 import type { QueryClient } from "@tanstack/react-query";
 import { useEffect, useState } from "react";
-import { useQuery, useQueryClient } from "@tanstack/react-query";
-import { NavLink, Outlet, redirect, useNavigate, useNavigation, type LoaderFunctionArgs } from "react-router";
+import { useQuery } from "@tanstack/react-query";
+import { Link, NavLink, Outlet, redirect, useLocation, useNavigate, useNavigation, type LoaderFunctionArgs } from "react-router";
 import { can, ROLE_LABELS } from "@shared/roles";
 import { Button } from "@/components/ui/button";
+import { StatusMark, type EntryStatus } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
 import { Logo } from "@/components/ui/logo";
 import { navFor } from "@/config/nav";
 import { authKeys, useSignOut } from "@/features/auth/api/session";
-import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
-import { defectKeys } from "@/features/defects/api/defects.queries";
 import { plantKeys } from "@/features/plant/api/plant.queries";
-import { slabKeys } from "@/features/slabs/api/slabs.queries";
 import { plural } from "@/lib/format";
+import { useAppOutbox, useAppUpdate, useOnline } from "../provider";
 
 export function makeLoader(qc: QueryClient) {
   return async ({ request }: LoaderFunctionArgs) => {
@@ -27,38 +26,97 @@ export function makeLoader(qc: QueryClient) {
 
 export { RouteError as ErrorBoundary } from "./route-error";
 
+const bandButton = "min-h-14 shrink-0";
+
 /**
- * The tablet's outbox sends whatever screen is open, for whoever is signed in and logs defects.
- * Loaded on demand: the office roles never load it. Returns how many entries wait.
+ * The band under the header: no network, entries waiting on this tablet, entries the server
+ * refused. The outbox itself runs above the router (src/app/provider.tsx); "Send now" wakes it.
  */
-function useOutboxSender(userId: string | undefined, logs: boolean): number {
-  const qc = useQueryClient();
-  const [waiting, setWaiting] = useState(0);
-  useEffect(() => {
-    if (!userId || !logs) return;
-    let cancelled = false;
-    const cleanups: (() => void)[] = [];
-    void import("@/features/defects/offline/outbox-instance").then(({ getOutbox }) => {
-      if (cancelled) return;
-      const outbox = getOutbox();
-      cleanups.push(
-        outbox.subscribe(() => setWaiting(outbox.getSnapshot().entries.length)),
-        outbox.onSent(() => {
-          void qc.invalidateQueries({ queryKey: defectKeys.all });
-          void qc.invalidateQueries({ queryKey: slabKeys.all });
-          void qc.invalidateQueries({ queryKey: catalogueKeys.all });
-        }),
-        () => void outbox.stop(),
-      );
-      void outbox.start(userId);
-    });
-    return () => {
-      cancelled = true;
-      cleanups.forEach((c) => c());
-      setWaiting(0);
-    };
-  }, [userId, logs, qc]);
-  return waiting;
+function OfflineBand({ logs }: { logs: boolean }) {
+  const online = useOnline();
+  const { snapshot, sendNow } = useAppOutbox();
+  const location = useLocation();
+  const entries = snapshot?.entries ?? [];
+  const waiting = entries.length;
+  const blocked = entries.filter((e) => e.state === "blocked").length;
+  const sending = entries.some((e) => e.state === "sending");
+  const photos = entries.reduce((n, e) => n + e.photos.filter((p) => !p.photoId).length, 0);
+  if (online && waiting === 0 && !snapshot?.storageError) return null;
+
+  let status: EntryStatus = sending ? "sending" : entries.some((e) => e.state === "retrying") ? "retrying" : "waiting";
+  let text: string | null;
+  const onTablet = `${plural(waiting, "entry", "entries")} waiting${photos ? ` (${plural(photos, "photo")})` : ""}`;
+  if (!online) text = waiting ? `${onTablet} on this tablet` : logs ? "Entries you save are kept on this tablet and sent when the network is back" : "What you see was loaded earlier; changes need the network";
+  else if (snapshot?.signedOut) text = `${onTablet} — sign in again to send them`;
+  else if (blocked === waiting) text = null; // the refusal below says it all
+  // The last try failed (server unreachable, busy): say so rather than "sending".
+  else if (!sending && entries.every((e) => e.state === "retrying" || e.state === "blocked")) text = `${onTablet} — will try again`;
+  else text = `${onTablet} — sending…`;
+  if (blocked) status = "blocked";
+  if (snapshot?.signedOut) status = "signed-out";
+  const tone = blocked ? "border-alarm-700 bg-alarm-100" : !online ? "border-brass-400 bg-[#fbf3df]" : "border-strand-600 bg-strand-50";
+
+  return (
+    <div className={`border-b-2 print:hidden ${tone}`} data-testid="offline-band" data-online={online} data-waiting={waiting} data-blocked={blocked}>
+      <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-4 gap-y-2 px-4 py-2">
+        <div role="status" className="flex min-w-0 flex-1 flex-wrap items-center gap-x-2 gap-y-1 text-base font-semibold text-ink-900">
+          {online ? (
+            <StatusMark status={status} label="" />
+          ) : (
+            // Read at a glance in glare: a dark tag, not a colour alone.
+            <span className="rounded bg-ink-900 px-2.5 py-1 text-sm font-bold uppercase tracking-wide text-white">Offline</span>
+          )}
+          {text ? (
+            <span>
+              {online ? null : <span className="sr-only">{" — "}</span>}
+              {text}
+            </span>
+          ) : null}
+          {blocked ? (
+            <span className={`font-semibold text-alarm-700 ${text ? "basis-full text-sm sm:basis-auto" : "text-base"}`} data-testid="offline-band-blocked">
+              {text ? `${blocked} of them` : plural(blocked, "entry", "entries")} refused by the server — {blocked === 1 ? "it needs" : "they need"} fixing.
+            </span>
+          ) : null}
+          {snapshot?.storageError ? <p className="basis-full text-sm font-semibold text-alarm-700">{snapshot.storageError}</p> : null}
+        </div>
+        {blocked && location.pathname !== "/yard" ? (
+          <Link to="/yard" className={`${bandButton} flex items-center rounded-md bg-strand-700 px-5 text-base font-semibold text-white hover:bg-strand-800`}>
+            Fix refused entries
+          </Link>
+        ) : null}
+        {snapshot?.signedOut ? (
+          <Link
+            to={`/sign-in?next=${encodeURIComponent(location.pathname + location.search)}`}
+            className={`${bandButton} flex items-center rounded-md border border-ink-300 bg-white px-5 text-base font-semibold text-ink-900 hover:bg-ink-50`}
+          >
+            Sign in again
+          </Link>
+        ) : waiting > blocked ? (
+          <Button size="lg" variant={blocked ? "secondary" : "primary"} className={bandButton} disabled={sending} onClick={sendNow}>
+            {sending ? "Sending…" : "Send now"}
+          </Button>
+        ) : null}
+      </div>
+    </div>
+  );
+}
+
+/** A new version is on the tablet: taken only when the person says so, never under a half-filled form. */
+function UpdateBand() {
+  const update = useAppUpdate();
+  if (!update.ready) return null;
+  return (
+    <div className="border-b-2 border-strand-600 bg-strand-50 print:hidden" data-testid="update-band">
+      <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-4 gap-y-2 px-4 py-2">
+        <p role="status" className="min-w-0 flex-1 text-base font-semibold text-ink-900">
+          A new version is ready — reload when the entry you are making is saved.
+        </p>
+        <Button size="lg" className={bandButton} onClick={update.apply}>
+          Reload
+        </Button>
+      </div>
+    </div>
+  );
 }
 
 export function Component() {
@@ -67,8 +125,14 @@ export function Component() {
   const signOut = useSignOut();
   const navigate = useNavigate();
   const navigation = useNavigation();
-  const waiting = useOutboxSender(me?.id, me ? can(me.roles, "defects.log") : false);
+  const location = useLocation();
+  const waiting = useAppOutbox().snapshot?.entries.length ?? 0;
   const [confirmSignOut, setConfirmSignOut] = useState(false);
+  // The session ended (seen when the network came back, say): ask for a sign-in instead of a blank page.
+  const ended = me === null && signOut.isIdle;
+  useEffect(() => {
+    if (ended) void navigate(`/sign-in?next=${encodeURIComponent(location.pathname + location.search)}&expired=1`, { replace: true });
+  }, [ended, navigate, location.pathname, location.search]);
   if (!me) return null;
   const items = navFor(me.roles);
   const doSignOut = () => {
@@ -123,6 +187,8 @@ export function Component() {
           </div>
         </div>
       </header>
+      <OfflineBand logs={can(me.roles, "defects.log")} />
+      <UpdateBand />
       {about.data?.demo ? (
         <div className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
           Invented demo plant: every heat, slab, defect, customer and claim shown here is made up.

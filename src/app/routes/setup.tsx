@@ -9,6 +9,8 @@ import { GradesEditor } from "@/features/plant/components/grades-editor";
 import { PlantSettingsForm } from "@/features/plant/components/plant-settings-form";
 import { StrandSettingsForm } from "@/features/plant/components/strand-settings-form";
 import { slabKeys } from "@/features/slabs/api/slabs.queries";
+import { yardKeys } from "@/features/yard/api/yard.queries";
+import { YardSettingsForm } from "@/features/yard/components/yard-settings-form";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -17,6 +19,7 @@ export function makeLoader(qc: QueryClient) {
     await requireCapability(qc, "setup.manage");
     void qc.prefetchQuery(plantKeys.setup());
     void qc.prefetchQuery(plantKeys.settings());
+    void qc.prefetchQuery(yardKeys.settings());
     return null;
   };
 }
@@ -25,6 +28,7 @@ export function Component() {
   const qc = useQueryClient();
   const setup = useQuery(plantKeys.setup());
   const settings = useQuery(plantKeys.settings());
+  const yardSettings = useQuery(yardKeys.settings());
   // Recomputed slabs change what the heat and slab pages show.
   const onRecomputed = useCallback(() => {
     void qc.invalidateQueries({ queryKey: heatKeys.all });
@@ -68,6 +72,15 @@ export function Component() {
               <Notice tone="error">{settings.error.message}</Notice>
             ) : (
               <PlantSettingsForm settings={settings.data} onRecomputed={onRecomputed} />
+            )}
+          </Card>
+          <Card title="Yard tablets">
+            {yardSettings.isPending ? (
+              <Spinner label="Loading the yard settings" />
+            ) : yardSettings.isError ? (
+              <Notice tone="error">{yardSettings.error.message}</Notice>
+            ) : (
+              <YardSettingsForm settings={yardSettings.data} />
             )}
           </Card>
           <Card title="Grades and grade families">

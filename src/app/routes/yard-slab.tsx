@@ -1,6 +1,7 @@
 import { useEffect, useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link, useLocation, useNavigate, useParams, useSearchParams, type LoaderFunctionArgs } from "react-router";
+import type { YardSlab } from "@shared/api/yard";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { SeverityMark } from "@/components/ui/marks";
@@ -14,7 +15,14 @@ import { useOutbox } from "@/features/defects/offline/use-outbox";
 import { HotYardCaution } from "@/features/plant/components/hot-yard-caution";
 import { slabKeys } from "@/features/slabs/api/slabs.queries";
 import { CrossSection, SlabDrawing, type DrawnMark } from "@/features/slabs/components/slab-drawing";
-import { num, plural } from "@/lib/format";
+import { yardKeys } from "@/features/yard/api/yard.queries";
+import { NextSlabLink } from "@/features/yard/components/next-slab-link";
+import { refusedForSlabId, SlabIdFixes } from "@/features/yard/components/slab-id-fixes";
+import { useYardSet } from "@/features/yard/offline/use-yard-sync";
+import { useOnline } from "@/features/yard/use-online";
+import { findInYard, nextSlab, rolledWords, sizeForUnknown, waitingInYard, type NextSlab } from "@/features/yard/yard-set";
+import { ApiError } from "@/lib/api-client";
+import { num, plural, time } from "@/lib/format";
 import { faceLabel, reviewLabel } from "@/lib/labels";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
@@ -26,21 +34,60 @@ export function makeLoader(qc: QueryClient) {
     void qc.prefetchQuery(catalogueKeys.list());
     const edit = Number(new URL(request.url).searchParams.get("edit"));
     if (edit) void qc.prefetchQuery(defectKeys.detail(edit));
-    await qc.ensureQueryData(slabKeys.detail(params.slabId ?? ""));
+    // The slab's record when the server answers; without a network (or for an id the server does not
+    // know) the screen works from the slabs kept on this tablet instead of failing.
+    await qc.ensureQueryData(slabKeys.detail(params.slabId ?? "")).catch(() => undefined);
     return null;
   };
 }
 
 const linkButton = "flex min-h-14 items-center justify-center rounded-md px-5 text-base font-semibold";
 
+/** What the screen draws and lists of a defect on record (the server's record, or the inspector's own entries offline). */
+interface ShownDefect {
+  id: number;
+  typeCode: string;
+  typeName: string;
+  face: string;
+  positionAlongMm: number | null;
+  positionAcrossMm: number | null;
+  lengthMm: number | null;
+  widthMm: number | null;
+  severity: number;
+  reviewStatus: string;
+}
+
+interface ShownSlab {
+  slabId: string;
+  heatNo: string | null;
+  gradeCode: string | null;
+  strandNo: number | null;
+  pieceNo: number | null;
+  lengthMm: number;
+  widthMm: number;
+  thicknessMm: number;
+  castAt: string | null;
+  defects: ShownDefect[];
+  /** server: the slab's record; tablet: from the set (offline); unknown: not on this tablet, offline. */
+  source: "server" | "tablet" | "unknown";
+}
+
 export function Component() {
-  const { slabId = "" } = useParams();
+  const { slabId: rawId = "" } = useParams();
+  const slabId = rawId.trim().toUpperCase();
   const [search] = useSearchParams();
   const navigate = useNavigate();
   const location = useLocation();
+  const online = useOnline();
   const me = useQuery(authKeys.me());
-  const slab = useQuery(slabKeys.detail(slabId));
+  const yard = useYardSet(me.data?.id);
+  const server = useQuery(slabKeys.detail(rawId));
+  const inSet = findInYard(yard.stored?.data.slabs, slabId);
+  // A slab the tablet does not hold: whether it was rolled and its next piece come from the server.
+  const yardOnline = useQuery({ ...yardKeys.slab(slabId), enabled: online && !inSet && yard.ready && server.isSuccess });
+  const info: YardSlab | null = inSet ?? yardOnline.data ?? null;
   const catalogue = useQuery(catalogueKeys.list());
+  const types = catalogue.data?.types ?? yard.stored?.data.catalogue.types;
   const range = todayRange();
   const today = useQuery(defectKeys.mine(range.from));
   const outbox = useOutbox();
@@ -53,12 +100,57 @@ export function Component() {
   useEffect(() => {
     if (handedOver) setFlash(handedOver);
   }, [handedOver, location.key]);
+  useEffect(() => setFlash((f) => (handedOver ? f : null)), [slabId, handedOver]);
 
-  if (slab.isPending) return <Spinner label="Loading the slab" />;
-  if (slab.isError) return <Notice tone="error">{slab.error.message}</Notice>;
-  const s = slab.data;
+  const serverMine = today.data?.items ?? (today.isError ? (yard.stored?.data.mine ?? []) : []);
+  const notFound = server.isError && server.error instanceof ApiError && server.error.status === 404;
+  const noNetwork = server.isError && !notFound;
 
-  const onThisSlab = outbox.entries.filter((e) => e.slabId === s.slabId);
+  let s: ShownSlab | null = null;
+  if (server.data) {
+    const d = server.data;
+    s = { ...d, heatNo: d.heatNo, defects: d.defects, source: "server" };
+  } else if (noNetwork && inSet) {
+    // Offline: the slab from the tablet's set; of its record, the inspector's own entries are known.
+    const own = (yard.stored?.data.mine ?? []).filter((d) => d.slabId === slabId);
+    s = { ...inSet, defects: own, source: "tablet" };
+  } else if (noNetwork && yard.ready) {
+    s = { slabId, heatNo: null, gradeCode: null, strandNo: null, pieceNo: null, castAt: null, ...sizeForUnknown(yard.stored?.data.slabs), defects: [], source: "unknown" };
+  }
+
+  const done = new Set([...outbox.entries.map((e) => e.slabId), ...serverMine.map((d) => d.slabId), slabId]);
+  const slabsOnTablet = yard.stored?.data.slabs ?? [];
+  let next: NextSlab | null = null;
+  if (s && s.source !== "unknown" && s.heatNo !== null && s.strandNo !== null && s.pieceNo !== null) {
+    next = nextSlab(slabsOnTablet, { slabId: s.slabId, heatNo: s.heatNo, strandNo: s.strandNo, pieceNo: s.pieceNo, castAt: s.castAt, nextPieceId: info?.nextPieceId }, done);
+  } else {
+    const w = waitingInYard(slabsOnTablet, done)[0];
+    next = w ? { slabId: w.slabId, kind: "uninspected", why: `Not inspected yet: heat ${w.heatNo}, strand ${w.strandNo}, waiting longest` } : null;
+  }
+
+  const refusedHere = outbox.entries.filter((e) => e.slabId === slabId && refusedForSlabId(e));
+  const onFixed = (to: string) => navigate(`/yard/slabs/${encodeURIComponent(to)}`, { state: { flash: `The entry was given slab id ${to} and is sent again.` } });
+
+  if (server.isPending || (!s && !notFound && !yard.ready)) return <Spinner label="Loading the slab" />;
+  if (!s) {
+    // The server knows no slab by this id.
+    return (
+      <div className="mx-auto max-w-3xl space-y-4">
+        <PageHeader title={`Slab ${slabId}`} subtitle="Not on record" />
+        <Notice tone="error">{server.error?.message}</Notice>
+        <SlabIdFixes entries={refusedHere} onFixed={onFixed} linkToEntry={false} />
+        <div className="flex flex-wrap gap-2 pb-4">
+          <NextSlabLink next={next} />
+          <Link to="/yard" className={`${linkButton} border border-ink-300 bg-white text-ink-900 hover:bg-ink-50`}>
+            Find another slab
+          </Link>
+        </div>
+      </div>
+    );
+  }
+  const slab = s;
+
+  const onThisSlab = outbox.entries.filter((e) => e.slabId === slab.slabId);
   let mode: FormMode = { kind: "new" };
   let modeProblem: string | null = null;
   if (editId !== null) {
@@ -68,7 +160,8 @@ export function Component() {
     } else if (editing.isError) modeProblem = editing.error.message;
   } else if (entryKey) {
     const entry = onThisSlab.find((e) => e.clientKey === entryKey);
-    if (entry?.body && entry.defectId === null) mode = { kind: "fix", entry };
+    if (entry?.body && entry.defectId === null && !refusedForSlabId(entry)) mode = { kind: "fix", entry };
+    else if (entry && refusedForSlabId(entry)) modeProblem = null;
     else if (outbox.ready) modeProblem = "That entry has been sent meanwhile: change it from today's entries.";
   }
   const waitingForMode = (editId !== null && editing.isPending) || (entryKey !== null && !outbox.ready);
@@ -77,12 +170,12 @@ export function Component() {
   const editedId = mode.kind === "edit" ? mode.defect.id : null;
   const fixedKey = mode.kind === "fix" ? mode.entry.clientKey : null;
   const marks: DrawnMark[] = [
-    ...s.defects
+    ...slab.defects
       .map((d, i) => ({ d, n: i + 1 }))
       .filter(({ d }) => d.id !== editedId)
       .map(({ d, n }) => ({
         key: `d${d.id}`,
-        face: d.face,
+        face: d.face as DrawnMark["face"],
         alongMm: d.positionAlongMm,
         acrossMm: d.positionAcrossMm,
         lengthMm: d.lengthMm,
@@ -92,32 +185,55 @@ export function Component() {
       })),
     ...onThisSlab
       .filter((e) => e.defectId === null && e.clientKey !== fixedKey)
-      .map((e) => ({ key: e.clientKey, face: e.summary.face, alongMm: e.summary.alongMm, acrossMm: e.summary.acrossMm, severity: e.summary.severity, pending: true })),
+      .map((e) => ({ key: e.clientKey, face: e.summary.face as DrawnMark["face"], alongMm: e.summary.alongMm, acrossMm: e.summary.acrossMm, severity: e.summary.severity, pending: true })),
   ];
-  const mineHere = (today.data?.items ?? []).filter((d) => d.slabId === s.slabId && d.foundAt >= range.since);
-  const leave = (message: string) => navigate(`/yard/slabs/${encodeURIComponent(s.slabId)}`, { replace: true, state: { flash: message } });
+  const mineHere = serverMine.filter((d) => d.slabId === slab.slabId && d.foundAt >= range.since);
+  const leave = (message: string) => navigate(`/yard/slabs/${encodeURIComponent(slab.slabId)}`, { replace: true, state: { flash: message } });
+  const rolled = info?.products.length ? `This slab was ${rolledWords(info.products)}.` : null;
+  const synced = yard.stored ? time(new Date(yard.stored.syncedAt).toISOString()) : null;
+  const subtitle =
+    slab.source === "unknown"
+      ? "Not on this tablet — it will be checked when the network is back."
+      : `Heat ${slab.heatNo} · ${slab.gradeCode} · strand ${slab.strandNo}, piece ${slab.pieceNo} · ${num(slab.thicknessMm)} × ${num(slab.widthMm)} × ${num(slab.lengthMm)} mm`;
 
   return (
-    <div className="mx-auto max-w-5xl space-y-4">
-      <PageHeader
-        title={`Slab ${s.slabId}`}
-        subtitle={`Heat ${s.heatNo} · ${s.gradeCode} · strand ${s.strandNo}, piece ${s.pieceNo} · ${num(s.thicknessMm)} × ${num(s.widthMm)} × ${num(s.lengthMm)} mm`}
-        actions={
-          <Link to="/yard" className={`${linkButton} border-2 border-ink-900 bg-white text-ink-900 hover:bg-ink-50`}>
-            Next slab →
-          </Link>
-        }
-      />
+    <div className="mx-auto max-w-5xl space-y-4" data-slab-source={slab.source}>
+      <PageHeader title={`Slab ${slab.slabId}`} subtitle={subtitle} actions={<NextSlabLink next={next} tone="outline" />} />
       <HotYardCaution />
+      {slab.source === "tablet" ? (
+        <Notice tone="info" title="Offline">
+          This slab comes from the slabs on this tablet (synced {synced}). Your own entries on it are drawn; the rest of its record comes back with the network.
+        </Notice>
+      ) : null}
+      {slab.source === "unknown" ? (
+        <div data-testid="unknown-slab">
+          <Notice tone="caution" title="Not on this tablet">
+            {slab.slabId} is not among the slabs kept on this tablet: it will be checked when the network is back. If the server does not know it, the entry comes
+            back to you to correct the id — nothing is lost. The drawing uses the largest slab on this tablet ({num(slab.thicknessMm)} × {num(slab.widthMm)} ×{" "}
+            {num(slab.lengthMm)} mm); the server checks the position against the real slab.
+          </Notice>
+        </div>
+      ) : null}
+      {rolled ? (
+        <div data-testid="rolled-notice">
+          <Notice tone="caution" title="Already rolled">
+            {rolled}
+          </Notice>
+        </div>
+      ) : null}
+      <SlabIdFixes entries={refusedHere} onFixed={onFixed} linkToEntry={false} />
       <OutboxStatus outbox={outbox} />
       {flash ? (
-        <div data-testid="flash">
+        <div data-testid="flash" className="space-y-2">
           <Notice tone="ok" title="Saved">
             {flash}{" "}
             <button type="button" className="ml-2 min-h-12 font-semibold underline" onClick={() => setFlash(null)}>
               Dismiss
             </button>
           </Notice>
+          <div className="flex flex-wrap gap-2">
+            <NextSlabLink next={next} />
+          </div>
         </div>
       ) : null}
       {modeProblem ? <Notice tone="caution">{modeProblem}</Notice> : null}
@@ -129,43 +245,46 @@ export function Component() {
         </Notice>
       ) : null}
 
-      {waitingForMode || catalogue.isPending ? (
+      {waitingForMode || (catalogue.isPending && !types) ? (
         <Spinner label="Loading" />
-      ) : catalogue.isError ? (
-        <Notice tone="error">The defect catalogue could not be loaded: {catalogue.error.message}</Notice>
+      ) : !types ? (
+        <Notice tone="error">The defect catalogue could not be loaded: {catalogue.error?.message}</Notice>
       ) : me.data ? (
         <DefectForm
-          key={mode.kind === "edit" ? `edit-${mode.defect.id}` : mode.kind === "fix" ? `fix-${mode.entry.clientKey}` : "new"}
-          slab={s}
-          types={catalogue.data.types}
+          key={mode.kind === "edit" ? `edit-${mode.defect.id}` : mode.kind === "fix" ? `fix-${mode.entry.clientKey}` : `new-${slab.slabId}`}
+          slab={slab}
+          types={types}
           userId={me.data.id}
           mode={mode}
-          onCancel={mode.kind === "new" ? undefined : () => navigate(`/yard/slabs/${encodeURIComponent(s.slabId)}`, { replace: true })}
+          rolled={rolled}
+          onCancel={mode.kind === "new" ? undefined : () => navigate(`/yard/slabs/${encodeURIComponent(slab.slabId)}`, { replace: true })}
           onSaved={({ kind, summary, photoCount }) => {
             const what = `${summary.typeCode} ${summary.typeName}, severity ${summary.severity}${photoCount ? `, ${plural(photoCount, "photo")}` : ""}`;
-            if (kind === "new") setFlash(`${what} — kept on this tablet and sent from there. Ready for the next defect on ${s.slabId}.`);
+            if (kind === "new") setFlash(`${what} — kept on this tablet and sent from there. Ready for the next defect on ${slab.slabId}.`);
             else if (kind === "fix") leave(`${what} — changed and sent again.`);
             else leave(`${what} — changes saved.`);
           }}
           renderDrawing={({ position, onPlace, extent }) => (
             <div className="space-y-3">
-              <SlabDrawing slab={s} marks={marks} placement={position} extent={extent} onPlace={onPlace} />
+              <SlabDrawing slab={slab} marks={marks} placement={position} extent={extent} onPlace={onPlace} />
               <div className="space-y-1 border-t border-ink-100 pt-3">
                 <p className="text-sm text-ink-700">
                   <b>Internal defect</b> (sulphur print, macro-etch)? Tap the cross-section below, seen from the head end, drawn to scale.
                 </p>
                 <CrossSection
-                  slab={s}
+                  slab={slab}
                   marks={marks}
                   placement={position}
                   onPlace={(acrossMm) => onPlace({ face: "section", alongMm: position?.alongMm ?? 0, acrossMm })}
                 />
               </div>
-              {s.defects.length ? (
+              {slab.defects.length ? (
                 <details className="rounded-md border border-ink-200 bg-ink-50 px-3 py-2 text-sm">
-                  <summary className="flex min-h-12 cursor-pointer items-center font-semibold">On record for this slab: {plural(s.defects.length, "defect")}</summary>
+                  <summary className="flex min-h-12 cursor-pointer items-center font-semibold">
+                    {slab.source === "server" ? "On record for this slab" : "Your entries on this slab"}: {plural(slab.defects.length, "defect")}
+                  </summary>
                   <ol className="space-y-1 pb-2">
-                    {s.defects.map((d, i) => (
+                    {slab.defects.map((d, i) => (
                       <li key={d.id} className="flex flex-wrap items-center gap-x-3">
                         <span className="font-bold tabular-nums">{i + 1}.</span>
                         <span className="font-semibold">{d.typeCode}</span>
@@ -184,21 +303,19 @@ export function Component() {
         />
       ) : null}
 
-      <Card title={`Your entries on ${s.slabId} today`}>
-        <EntriesList
-          server={mineHere}
-          outbox={{ ...outbox, entries: onThisSlab }}
-          showSlab={false}
-          empty="None yet on this slab."
-        />
+      <Card title={`Your entries on ${slab.slabId} today`}>
+        <EntriesList server={mineHere} outbox={{ ...outbox, entries: onThisSlab }} showSlab={false} empty="None yet on this slab." />
       </Card>
       <div className="flex flex-wrap gap-2 pb-4">
-        <Link to="/yard" className={`${linkButton} bg-strand-700 text-white hover:bg-strand-800`}>
-          Next slab
+        <NextSlabLink next={next} />
+        <Link to="/yard" className={`${linkButton} border border-ink-300 bg-white text-ink-900 hover:bg-ink-50`}>
+          Find another slab
         </Link>
-        <Link to={`/slabs/${encodeURIComponent(s.slabId)}`} className={`${linkButton} border border-ink-300 bg-white text-ink-900 hover:bg-ink-50`}>
-          Slab record: conditions and all defects
-        </Link>
+        {slab.source === "server" ? (
+          <Link to={`/slabs/${encodeURIComponent(slab.slabId)}`} className={`${linkButton} border border-ink-300 bg-white text-ink-900 hover:bg-ink-50`}>
+            Slab record: conditions and all defects
+          </Link>
+        ) : null}
       </div>
     </div>
   );

@@ -1,6 +1,7 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
 import { meSchema, type Me } from "@shared/api/users";
 import { api, ApiError } from "@/lib/api-client";
+import { forgetUser, rememberedUser, rememberUser } from "../remembered-user";
 
 export const authKeys = {
   all: ["auth"] as const,
@@ -10,9 +11,17 @@ export const authKeys = {
       // Signed out is an answer, not an error: null.
       queryFn: async (): Promise<Me | null> => {
         try {
-          return await api("/me", { schema: meSchema });
+          const me = await api("/me", { schema: meSchema });
+          rememberUser(me);
+          return me;
         } catch (err) {
-          if (err instanceof ApiError && err.status === 401) return null;
+          if (err instanceof ApiError && err.status === 401) {
+            forgetUser();
+            return null;
+          }
+          // No network: the tablet starts as the last user the server confirmed here (remembered-user.ts).
+          const last = err instanceof ApiError && err.status === 0 ? rememberedUser() : null;
+          if (last) return last;
           throw err;
         }
       },
@@ -35,7 +44,10 @@ export function useSignOut() {
   return useMutation({
     mutationFn: () => api("/auth/sign-out", { method: "POST", body: {} }),
     // Forget everything cached for this user — only once the server has ended the session.
-    onSuccess: () => qc.clear(),
+    onSuccess: () => {
+      forgetUser();
+      qc.clear();
+    },
   });
 }
 

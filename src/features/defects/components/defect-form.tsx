@@ -105,6 +105,7 @@ export function DefectForm({
   renderDrawing,
   onSaved,
   onCancel,
+  rolled,
 }: {
   slab: SlabLimits & { slabId: string };
   types: DefectType[];
@@ -113,6 +114,11 @@ export function DefectForm({
   renderDrawing: (slot: DrawingSlot) => ReactNode;
   onSaved: (what: { kind: FormMode["kind"]; summary: OutboxSummary; photoCount: number }) => void;
   onCancel?: () => void;
+  /**
+   * Set when the slab has already been rolled, in words ("This slab was rolled on … into coil …."):
+   * a "found in the slab yard" entry is then asked about before it is kept.
+   */
+  rolled?: string | null;
 }) {
   const [draft, setDraft] = useState<EntryDraft>(() => initialDraft(mode));
   const [photos, setPhotos] = useState<LocalPhoto[]>([]);
@@ -120,12 +126,14 @@ export function DefectForm({
   const [failure, setFailure] = useState<string | null>(null);
   const [saving, setSaving] = useState(false);
   const [confirmPhoto, setConfirmPhoto] = useState<string | null>(null);
+  const [askRolled, setAskRolled] = useState(false);
   const top = useRef<HTMLDivElement>(null);
   const update = useUpdateDefect();
   const deletePhoto = useDeletePhoto();
 
   const set = <K extends keyof EntryDraft>(k: K, v: EntryDraft[K]) => {
     setDraft((d) => ({ ...d, [k]: v }));
+    if (k === "stage") setAskRolled(false);
     setErrors((e) => {
       if (!(k in e) && !(k === "position" && e.position)) return e;
       const { [k as DraftField]: _gone, ...rest } = e;
@@ -143,7 +151,7 @@ export function DefectForm({
     f === "position" ? !draft.position : !draft[f as keyof EntryDraft],
   );
 
-  const save = async () => {
+  const save = async (rolledConfirmed = false) => {
     setFailure(null);
     const clientKey = mode.kind === "fix" ? mode.entry.clientKey : mode.kind === "new" ? newClientKey() : (mode.defect.clientKey ?? newClientKey());
     const foundAt = mode.kind === "fix" && mode.entry.body?.found_at ? mode.entry.body.found_at : new Date().toISOString();
@@ -156,6 +164,12 @@ export function DefectForm({
       return;
     }
     const body = built.body;
+    // A rolled slab is no longer in the yard: ask before keeping a slab-yard finding on it.
+    if (rolled && body.stage === "slab_yard" && !rolledConfirmed && (mode.kind !== "edit" || mode.defect.stage !== "slab_yard")) {
+      setAskRolled(true);
+      return;
+    }
+    setAskRolled(false);
     const type = types.find((t) => t.code === body.type_code);
     const summary: OutboxSummary = {
       typeCode: body.type_code,
@@ -311,6 +325,28 @@ export function DefectForm({
       {/* Always in reach: what is still needed, and the one button that keeps the entry. */}
       {/* Sticky, not fixed: it docks at the end of the form, so nothing below it is ever covered. */}
       <div className="sticky bottom-0 z-20 -mx-4 border-t-2 border-ink-900 bg-white px-4 py-3 shadow-[0_-4px_16px_rgba(0,0,0,0.12)] md:mx-0 md:rounded-t-lg">
+        {askRolled && rolled ? (
+          <div className="mb-3 space-y-3 rounded-md border-l-4 border-ember-600 bg-ember-50 px-4 py-3" role="alertdialog" aria-labelledby="rolled-question" data-testid="rolled-question">
+            <p id="rolled-question" className="text-base text-ink-900">
+              <b>Already rolled.</b> {rolled} Log a slab-yard finding anyway?
+            </p>
+            <div className="flex flex-wrap gap-2">
+              <Button size="lg" onClick={() => void save(true)} disabled={saving}>
+                Yes, log it as found in the slab yard
+              </Button>
+              <Button
+                variant="secondary"
+                size="lg"
+                onClick={() => {
+                  setAskRolled(false);
+                  document.getElementById("entry-disposition")?.scrollIntoView({ behavior: "smooth", block: "start" });
+                }}
+              >
+                No, change “Found at”
+              </Button>
+            </div>
+          </div>
+        ) : null}
         <div className="flex flex-wrap items-center justify-between gap-3">
           <p className="text-sm text-ink-700" aria-live="polite" data-testid="save-needs">
             {missing.length ? (

@@ -2,6 +2,7 @@ import { useEffect, useRef, useState } from "react";
 import { PHOTO_ACCEPT, PHOTO_MAX_BYTES, PHOTO_MAX_FILES } from "@shared/api/defects";
 import { bytes } from "@/lib/format";
 import { newClientKey } from "@/lib/client-key";
+import { scalePhotoForUpload } from "../offline/scale-photo";
 
 export interface LocalPhoto {
   key: string;
@@ -10,12 +11,22 @@ export interface LocalPhoto {
 
 const ACCEPTED = PHOTO_ACCEPT.split(",");
 
-/** Why a file cannot go up, said before it is stored; null when it can. */
-export function photoProblem(file: File): string | null {
+/** JPEG and PNG are made smaller on the tablet, so their size is judged after that. */
+const SCALED_TYPES = ["image/jpeg", "image/png"];
+
+function tooLarge(file: File): string {
+  return `${file.name} is ${bytes(file.size)}; the limit is ${bytes(PHOTO_MAX_BYTES)}.`;
+}
+
+/**
+ * Why a file cannot go up, said before it is stored; null when it can. `beforeScaling`: a JPEG or
+ * PNG over the size limit may still fit once made smaller, so its size is checked afterwards.
+ */
+export function photoProblem(file: File, beforeScaling = false): string | null {
   const heic = /\.(heic|heif)$/i.test(file.name) || /hei[cf]/i.test(file.type);
   if (heic) return `${file.name}: HEIC photos cannot be read here. Set the camera to JPEG ("Most compatible"), or take the photo with this screen's camera button.`;
   if (file.type && !ACCEPTED.includes(file.type)) return `${file.name}: only JPEG, PNG or WebP photos.`;
-  if (file.size > PHOTO_MAX_BYTES) return `${file.name} is ${bytes(file.size)}; the limit is ${bytes(PHOTO_MAX_BYTES)}.`;
+  if (file.size > PHOTO_MAX_BYTES && !(beforeScaling && SCALED_TYPES.includes(file.type))) return tooLarge(file);
   return null;
 }
 
@@ -33,25 +44,72 @@ export function BlobThumb({ blob, alt, className = "h-20 w-20" }: { blob: Blob; 
 /**
  * Photos for the entry: the camera opens from the file input's capture; several photos may be
  * taken one after the other. They are kept with the entry on the tablet and sent after it.
+ *
+ * A picked photo joins the list at once, as taken, and is swapped for its smaller copy when that is
+ * ready (one at a time, to spare the tablet's memory). So a "Save" tapped meanwhile keeps the photo
+ * (at full size) with its own entry, and a photo is never lost to the scaling.
  */
 export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPhoto[]; onChange: (p: LocalPhoto[]) => void; already?: number }) {
   const [problems, setProblems] = useState<string[]>([]);
+  const [preparing, setPreparing] = useState<ReadonlySet<string>>(new Set());
   const camera = useRef<HTMLInputElement>(null);
   const gallery = useRef<HTMLInputElement>(null);
+  // The list as last handed to the form: a swap after an await must not undo a change made meanwhile.
+  const latest = useRef(photos);
+  latest.current = photos;
+  const queue = useRef<Promise<void>>(Promise.resolve());
+  const mounted = useRef(true);
+  useEffect(() => {
+    mounted.current = true;
+    return () => void (mounted.current = false);
+  }, []);
   const room = PHOTO_MAX_FILES - already - photos.length;
+
+  const emit = (next: LocalPhoto[]) => {
+    latest.current = next;
+    onChange(next);
+  };
+  const done = (key: string) =>
+    setPreparing((s) => {
+      const n = new Set(s);
+      n.delete(key);
+      return n;
+    });
+
+  const makeSmaller = (photo: LocalPhoto) => {
+    queue.current = queue.current.then(async () => {
+      // Saved or removed meanwhile: nothing left to do.
+      if (!mounted.current || !latest.current.some((p) => p.key === photo.key)) return done(photo.key);
+      const result = await scalePhotoForUpload(photo.file);
+      done(photo.key);
+      if (!mounted.current || !latest.current.some((p) => p.key === photo.key)) return;
+      if (result.file.size > PHOTO_MAX_BYTES) {
+        // Still over the limit even smaller: said now rather than refused by the server later.
+        setProblems((ps) => [...ps, tooLarge(result.file)]);
+        emit(latest.current.filter((p) => p.key !== photo.key));
+      } else if (result.scaled) {
+        emit(latest.current.map((p) => (p.key === photo.key ? { key: p.key, file: result.file } : p)));
+      }
+    }).catch(() => done(photo.key));
+  };
 
   const add = (list: FileList | null) => {
     if (!list) return;
     const next: LocalPhoto[] = [];
     const bad: string[] = [];
     for (const file of [...list]) {
-      const p = photoProblem(file);
+      const p = photoProblem(file, true);
       if (p) bad.push(p);
       else if (next.length >= room) bad.push(`${file.name}: at most ${PHOTO_MAX_FILES} photos per defect.`);
       else next.push({ key: newClientKey(), file });
     }
     setProblems(bad);
-    if (next.length) onChange([...photos, ...next]);
+    if (next.length) {
+      const scalable = next.filter((p) => SCALED_TYPES.includes(p.file.type));
+      setPreparing((s) => new Set([...s, ...scalable.map((p) => p.key)]));
+      emit([...latest.current, ...next]);
+      scalable.forEach(makeSmaller);
+    }
     if (camera.current) camera.current.value = "";
     if (gallery.current) gallery.current.value = "";
   };
@@ -91,12 +149,14 @@ export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPh
       {photos.length ? (
         <ul className="flex flex-wrap gap-3" aria-label="Photos to send">
           {photos.map((p, i) => (
-            <li key={p.key} className="flex flex-col items-center gap-1" data-testid="picked-photo">
+            <li key={p.key} className="flex flex-col items-center gap-1" data-testid="picked-photo" data-photo-ready={preparing.has(p.key) ? "no" : "yes"}>
               <BlobThumb blob={p.file} alt={`Photo ${i + 1}`} className="h-24 w-24" />
-              <span className="text-xs text-ink-600">{bytes(p.file.size)}</span>
+              <span className="text-xs text-ink-600" data-testid="picked-photo-size">
+                {preparing.has(p.key) ? "Making smaller…" : bytes(p.file.size)}
+              </span>
               <button
                 type="button"
-                onClick={() => onChange(photos.filter((x) => x.key !== p.key))}
+                onClick={() => emit(latest.current.filter((x) => x.key !== p.key))}
                 className="min-h-12 rounded-md px-3 text-sm font-semibold text-alarm-700 underline"
                 aria-label={`Remove photo ${i + 1}`}
               >

@@ -1,5 +1,5 @@
 import { openDB, type DBSchema, type IDBPDatabase } from "idb";
-import type { DefectCreate } from "@shared/api/defects";
+import type { Defect, DefectCreate } from "@shared/api/defects";
 
 /*
  * The yard tablet's outbox. Every entry is written to IndexedDB first, with its photos as Blobs;
@@ -71,7 +71,8 @@ interface OutboxDb extends DBSchema {
 }
 
 export interface OutboxTransport {
-  createDefect(body: DefectCreate): Promise<{ id: number }>;
+  /** The server answers with the stored defect; a test's transport may answer with the id alone. */
+  createDefect(body: DefectCreate): Promise<{ id: number; defect?: Defect }>;
   uploadPhoto(
     defectId: number,
     photo: Pick<OutboxPhotoRecord, "key" | "name" | "type" | "blob">,
@@ -133,6 +134,11 @@ export interface SentEvent {
   clientKey: string;
   defectId: number;
   slabId: string;
+  /**
+   * The server's record as it answered the create, when that answer is still the whole record (no
+   * photo went up after it): the screens show it as sent at once instead of waiting for a re-read.
+   */
+  defect: Defect | null;
 }
 
 /** The pause before the next try: 2 s, 4 s, 8 s … at most a minute, with some spread so tablets do not retry in step. */
@@ -302,10 +308,12 @@ export function createOutbox(deps: OutboxDeps) {
     let step: string | undefined;
     try {
       let defectId = e.defectId;
+      let answered: Defect | null = null;
       if (defectId === null) {
         if (!e.body) throw new Error("The entry has neither a defect nor a defect id.");
         const created = await deps.transport.createDefect(e.body);
         defectId = created.id;
+        answered = created.defect ?? null;
         await patchEntry(clientKey, { defectId, lastError: null, attempts: 0 });
       }
       let refusedPhoto: OutboxProblem | null = null;
@@ -317,6 +325,7 @@ export function createOutbox(deps: OutboxDeps) {
           continue;
         }
         step = p.key;
+        answered = null;
         uploadingPhoto = p.key;
         setProgress(p.key, 0);
         try {
@@ -339,7 +348,7 @@ export function createOutbox(deps: OutboxDeps) {
         return "refused";
       }
       await removeEntry(clientKey);
-      sentListeners.forEach((l) => l({ clientKey, defectId: defectId!, slabId: e.slabId }));
+      sentListeners.forEach((l) => l({ clientKey, defectId: defectId!, slabId: e.slabId, defect: answered }));
       return "sent";
     } catch (err) {
       const problem = problemOf(err, step);
@@ -489,6 +498,23 @@ export function createOutbox(deps: OutboxDeps) {
       await patchEntry(clientKey, { body: { ...body, client_key: clientKey }, summary, blocked: null, lastError: null, attempts: 0, nextAttemptAt: now() });
       await refresh();
       void kick();
+    },
+
+    /**
+     * Gives an entry the server refused for its slab id (logged offline under an id it does not know)
+     * the right id, and sends it again, photos and all. Nothing else of the entry changes.
+     */
+    async fixSlabId(clientKey: string, slabId: string) {
+      const id = slabId.trim().toUpperCase();
+      if (!id || id.length > 40) throw new Error("Type the slab id as it is on the slab's label (at most 40 characters).");
+      if (sendingKey === clientKey) throw new OutboxBusyError("The entry is being sent right now. Try again in a moment.");
+      const d = await db();
+      const e = await d.get("entries", clientKey);
+      if (!e) throw new OutboxBusyError("The entry has been sent meanwhile: change it from today's entries.");
+      if (e.defectId !== null || !e.body) throw new OutboxBusyError("The defect has reached the server meanwhile: change it from today's entries.");
+      await patchEntry(clientKey, { slabId: id, body: { ...e.body, slab_id: id }, blocked: null, lastError: null, attempts: 0, nextAttemptAt: now() });
+      await refresh();
+      void kick({ ignoreBackoff: true });
     },
 
     /** Drops one waiting photo (e.g. one the server cannot read); the rest of the entry goes on. */

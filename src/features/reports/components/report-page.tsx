@@ -4,7 +4,9 @@ import { Link } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
+import { Button } from "@/components/ui/button";
 import { ApiError } from "@/lib/api-client";
+import { isWarmingUp, warmingSecondsLeft } from "../api/reports.queries";
 import { ExportButton, SaveReport } from "./report-actions";
 import { ReportCautions } from "./report-cautions";
 import { FilterBar, type FilterChoices } from "./filter-bar";
@@ -89,14 +91,47 @@ function refusalText(error: Error): string {
   return error.message;
 }
 
+/**
+ * After a server start (or a large import) the reports' slab data take a while to load: a waiting
+ * state, not an error.
+ * The query asks again by itself at the pace the server gives; only after a long wait (or when the
+ * tries are used up) is there a button.
+ */
+function WarmingUp({ error, gaveUp, onRetry }: { error: ApiError; gaveUp: boolean; onRetry: () => void }) {
+  const seconds = warmingSecondsLeft(error);
+  return (
+    <Card>
+      <div role="status" aria-live="polite" data-testid="report-warming-up" className="flex items-start gap-4">
+        {gaveUp ? null : <span className="mt-1 h-6 w-6 shrink-0 animate-spin rounded-full border-[3px] border-ink-200 border-t-strand-700" aria-hidden />}
+        <div className="space-y-1">
+          <p className="text-base font-semibold text-ink-900">Reports are warming up</p>
+          <p className="text-sm text-ink-700">
+            The server is loading the slab data{seconds ? ` (about ${seconds} s)` : ""}, as it does after a start or a large import.{" "}
+            {gaveUp ? "It is taking longer than usual." : "This report appears by itself when they are in: nothing is lost, there is nothing to do."}
+          </p>
+          {gaveUp ? (
+            <div className="pt-2">
+              <Button onClick={onRetry}>Try again</Button>
+            </div>
+          ) : null}
+        </div>
+      </div>
+    </Card>
+  );
+}
+
 /** The report's answer: a spinner while it is computed, the server's message if it refuses, else the figures. */
 export function ReportResult<T>({ query, children }: { query: UseQueryResult<T>; children: (data: T) => ReactNode }) {
+  // While warming up the query retries (the error is its failureReason); a kept earlier answer is for other filters.
+  const warming = isWarmingUp(query.error ?? query.failureReason) && (query.isPending || query.isError || query.isPlaceholderData);
   return (
     <>
       <div className="-mt-3 flex min-h-4 justify-end">
-        <Updating on={query.isFetching && !query.isPending} />
+        <Updating on={query.isFetching && !query.isPending && !warming} />
       </div>
-      {query.isPending ? (
+      {warming ? (
+        <WarmingUp error={(query.error ?? query.failureReason) as ApiError} gaveUp={query.isError} onRetry={() => void query.refetch()} />
+      ) : query.isPending ? (
         <Card>
           <Spinner label="Computing the report" />
         </Card>

@@ -1,0 +1,221 @@
+/**
+ * `npm run bench -- start` (or `tsx tests/bench/start.bench.ts`) — how fast the real server starts on
+ * a large plant: the generated plant of bench:reports (1,000,000 slabs; BENCH_SLABS=5000000 for five
+ * million, BENCH_VALUES=grid for values at the reports' resolution), copied to a temporary folder with
+ * the demo users added. Each start is the real process (`node --import tsx server/index.ts`, or the
+ * compiled build/server/index.js with START_ENTRY=compiled) timed from spawn:
+ *   listen      GET /api/health answers
+ *   sign-in     a sign-in sent as soon as it listens is answered (200)
+ *   yard        the inspector's yard set answers (200)
+ *   reports     the rate-by-variable report answers 200 (503 "warming up" until then)
+ * once without a snapshot (the cache rebuilt from SQLite, slice by slice after listen) and once with the
+ * snapshot its SIGTERM wrote; with the server's RSS when the reports are ready and its peak after a
+ * screening (crude and the default adjusted one). Floors measured in the same run: a bare Node HTTP
+ * server's time to answer, and reading the snapshot's bytes from disk. Target: listen, sign-in and the
+ * yard within 2 s at any data size; RSS < 800 MB at 5 M slabs.
+ */
+import { spawn, spawnSync, type ChildProcess } from "node:child_process";
+import fs from "node:fs";
+import net from "node:net";
+import os from "node:os";
+import path from "node:path";
+import { createAuth } from "../../server/auth";
+import { openDatabase } from "../../server/db/client";
+import { runMigrations } from "../../server/db/migrate";
+import { seedDemo } from "../../server/seed/seed";
+
+const SLABS = Number(process.env.BENCH_SLABS ?? 1_000_000);
+const GRID = process.env.BENCH_VALUES === "grid";
+const COMPILED = process.env.START_ENTRY === "compiled";
+const REPO = path.resolve(import.meta.dirname, "../..");
+const source = path.join(os.tmpdir(), `strandsight-bench-reports-v2-${SLABS}${GRID ? "-grid" : ""}.db`);
+const PASSWORD = "bench-password-1";
+
+async function freePort(): Promise<number> {
+  const probe = net.createServer();
+  await new Promise<void>((r) => probe.listen(0, "127.0.0.1", r));
+  const port = (probe.address() as net.AddressInfo).port;
+  await new Promise<void>((r) => probe.close(() => r()));
+  return port;
+}
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+const s = (ms: number | null) => (ms === null ? "—" : `${(ms / 1000).toFixed(2)} s`);
+
+/** VmRSS and VmHWM (peak) of a process, MB. */
+function memoryOf(pid: number) {
+  const text = fs.readFileSync(`/proc/${pid}/status`, "utf8");
+  const kb = (k: string) => Number(new RegExp(`^${k}:\\s+(\\d+) kB`, "m").exec(text)?.[1] ?? NaN);
+  return { rss: kb("VmRSS") / 1024, peak: kb("VmHWM") / 1024 };
+}
+
+interface Start {
+  listen: number;
+  signIn: number;
+  yard: number;
+  /** The yard set's own time once the reports are loaded. */
+  yardIdle: number;
+  reports: number;
+  /** RSS when it first answers (before the report cache is in). */
+  rssListen: number;
+  rssReady: number;
+  rssPeak: number;
+  ready: { from: string; ms: number; snapshotIgnored?: string } | null;
+  screeningCrude: number;
+  screeningAdjusted: number;
+  rssAfterScreening: number;
+  peakAfterScreening: number;
+  stopMs: number;
+  snapshotLine: string | null;
+}
+
+async function startOnce(dir: string, label: string): Promise<Start> {
+  const port = await freePort();
+  const base = `http://127.0.0.1:${port}`;
+  const entry = COMPILED ? [path.join(REPO, "build/server/index.js")] : ["--import", "tsx", path.join(REPO, "server/index.ts")];
+  const t0 = performance.now();
+  const child: ChildProcess = spawn(process.execPath, [...entry], {
+    cwd: REPO,
+    env: {
+      PATH: process.env.PATH, HOME: process.env.HOME, NODE_ENV: "test", HOST: "127.0.0.1", PORT: String(port), BETTER_AUTH_URL: `http://localhost:${port}`,
+      DATABASE_FILE: path.join(dir, "app.db"), UPLOAD_DIR: path.join(dir, "uploads"), FAKE_SMTP_PORT: "0", SEED_DEMO: "false", LOG_LEVEL: "info",
+    },
+    stdio: ["ignore", "pipe", "pipe"],
+  });
+  let out = "";
+  child.stdout!.on("data", (c: Buffer) => (out += c.toString()));
+  child.stderr!.on("data", (c: Buffer) => (out += c.toString()));
+  const since = () => performance.now() - t0;
+  let listen = NaN;
+  for (;;) {
+    if (child.exitCode !== null) throw new Error(`the server exited: ${out}`);
+    try {
+      if ((await fetch(`${base}/api/health`)).status === 200) {
+        listen = since();
+        break;
+      }
+    } catch {
+      // not yet
+    }
+    if (since() > 300_000) throw new Error(`no answer in 300 s: ${out}`);
+    await sleep(10);
+  }
+  const signInAs = async (email: string) => {
+    const res = await fetch(`${base}/api/auth/sign-in/email`, { method: "POST", headers: { "content-type": "application/json", origin: `http://localhost:${port}` }, body: JSON.stringify({ email, password: PASSWORD }) });
+    if (res.status !== 200) throw new Error(`sign-in ${res.status}: ${await res.text()}`);
+    return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+  };
+  const atListen = memoryOf(child.pid!);
+  const quality = await signInAs("quality@demo.test");
+  const signIn = since();
+  const inspector = await signInAs("inspector@demo.test");
+  const yardRes = await fetch(`${base}/api/yard/sync`, { headers: { cookie: inspector } });
+  const yard = yardRes.status === 200 ? since() : NaN;
+  let reports = NaN;
+  for (;;) {
+    const res = await fetch(`${base}/api/reports/rate-by-variable?variable=casting_speed_m_min&defectType=SLG`, { headers: { cookie: quality } });
+    if (res.status === 200) {
+      reports = since();
+      break;
+    }
+    if (res.status !== 503) throw new Error(`report ${res.status}: ${await res.text()}`);
+    if (since() > 600_000) throw new Error("reports not ready in 600 s");
+    await sleep(50);
+  }
+  const m = memoryOf(child.pid!);
+  // The yard again with the reports loaded: what it costs on this plant when nothing else runs.
+  const ty = performance.now();
+  await (await fetch(`${base}/api/yard/sync`, { headers: { cookie: inspector } })).arrayBuffer();
+  const yardIdle = performance.now() - ty;
+  const timed = async (p: string) => {
+    const t = performance.now();
+    const res = await fetch(base + p, { headers: { cookie: quality } });
+    if (res.status !== 200) throw new Error(`${p}: ${res.status}`);
+    await res.arrayBuffer();
+    return performance.now() - t;
+  };
+  const screeningCrude = await timed("/api/reports/screening?defectType=SLG&adjustFor=none");
+  const screeningAdjusted = await timed("/api/reports/screening?defectType=SLG");
+  const after = memoryOf(child.pid!);
+  const readyLine = out.split("\n").find((l) => l.includes('"report cache ready"'));
+  const tStop = performance.now();
+  child.kill("SIGTERM");
+  await new Promise((r) => child.once("exit", r));
+  const stopMs = performance.now() - tStop;
+  const snapshotLine = out.split("\n").find((l) => l.includes('"report cache snapshot written"')) ?? null;
+  console.log(`  ${label}: ${readyLine ?? "(no ready line)"}`);
+  if (snapshotLine) console.log(`  ${label}: ${snapshotLine}`);
+  return {
+    listen, signIn, yard, yardIdle, reports, rssListen: atListen.rss, rssReady: m.rss, rssPeak: m.peak, ready: readyLine ? JSON.parse(readyLine) : null,
+    screeningCrude, screeningAdjusted, rssAfterScreening: after.rss, peakAfterScreening: after.peak, stopMs, snapshotLine,
+  };
+}
+
+/** A bare Node HTTP server (no app): the time from spawn to its first answer. */
+async function floorStart(): Promise<number> {
+  const port = await freePort();
+  const t0 = performance.now();
+  const child = spawn(process.execPath, ["-e", `require("http").createServer((q, r) => r.end("ok")).listen(${port}, "127.0.0.1")`], { stdio: "ignore" });
+  try {
+    for (;;) {
+      try {
+        if ((await fetch(`http://127.0.0.1:${port}/`)).status === 200) return performance.now() - t0;
+      } catch {
+        // not yet
+      }
+      await sleep(5);
+    }
+  } finally {
+    child.kill("SIGKILL");
+  }
+}
+
+async function main() {
+  if (!fs.existsSync(source)) {
+    console.log(`Generating the bench:reports plant first (${source}) …`);
+    const r = spawnSync(process.execPath, ["--import", "tsx", path.join(REPO, "tests/bench/reports.bench.ts")], { stdio: "inherit", env: { ...process.env, BENCH_GENERATE_ONLY: "1" } });
+    if (r.status !== 0) throw new Error("generating the plant failed");
+  }
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-bench-start-"));
+  try {
+    fs.copyFileSync(source, path.join(dir, "app.db"));
+    {
+      const db = openDatabase(path.join(dir, "app.db"));
+      runMigrations(db);
+      const auth = createAuth({ db, secret: "bench-secret-0123456789-0123456789-abcdef", baseURL: "http://localhost:3000" });
+      await seedDemo(db, auth, { password: PASSWORD, production: false });
+      db.$client.close();
+    }
+    const slabs = SLABS.toLocaleString("en");
+    console.log(`Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); load ${os.loadavg().map((x) => x.toFixed(1)).join(" ")}`);
+    const floor = await floorStart();
+    const cold = await startOnce(dir, "no snapshot");
+    const snapshotFile = path.join(dir, "app.db.report-cache");
+    const snapshotMb = fs.existsSync(snapshotFile) ? fs.statSync(snapshotFile).size / 1048576 : NaN;
+    const tr = performance.now();
+    if (fs.existsSync(snapshotFile)) fs.readFileSync(snapshotFile);
+    const readFloor = performance.now() - tr;
+    const warm = await startOnce(dir, "from the snapshot");
+
+    console.log("");
+    console.log("start (seconds from spawn)  listen    sign-in   yard      reports   yard idle  RSS listen  RSS ready  RSS peak   crude scr  adj. scr   stop");
+    for (const [name, r] of [["no snapshot (rebuild)", cold], ["from the snapshot", warm]] as const) {
+      console.log(
+        `${name.padEnd(26)}  ${s(r.listen).padStart(7)}  ${s(r.signIn).padStart(7)}  ${s(r.yard).padStart(7)}  ${s(r.reports).padStart(8)}  ${s(r.yardIdle).padStart(8)}  ${r.rssListen.toFixed(0).padStart(7)} MB  ${r.rssReady.toFixed(0).padStart(6)} MB  ${r.peakAfterScreening.toFixed(0).padStart(6)} MB  ${s(r.screeningCrude).padStart(8)}  ${s(r.screeningAdjusted).padStart(8)}  ${s(r.stopMs).padStart(7)}`,
+      );
+    }
+    console.log(`floor: a bare Node HTTP server answers ${s(floor)} after spawn; reading the ${snapshotMb.toFixed(0)} MB snapshot file alone ${s(readFloor)}`);
+    const worst = Math.max(cold.listen, warm.listen, cold.signIn, warm.signIn, cold.yard, warm.yard);
+    const peak = Math.max(cold.peakAfterScreening, warm.peakAfterScreening);
+    // Summary lines read by scripts/bench.ts.
+    console.log(`start summary ${slabs} slabs: sign-in and yard within ${(worst / 1000).toFixed(2)} s (${(worst / floor).toFixed(1)}× a bare Node server) target < 2 s ${worst < 2000 ? "met" : "NOT met"}`);
+    console.log(`start summary ${slabs} slabs: reports ready ${(warm.reports / 1000).toFixed(2)} s from the snapshot (reading its bytes alone ${(readFloor / 1000).toFixed(2)} s), ${(cold.reports / 1000).toFixed(2)} s rebuilt`);
+    console.log(`start summary ${slabs} slabs: server RSS peak ${peak.toFixed(0)} MB (ready ${warm.rssReady.toFixed(0)} MB) target < 800 MB at 5 M ${peak < 800 ? "met" : "NOT met"}`);
+  } finally {
+    fs.rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+main().catch((err) => {
+  console.error(err);
+  process.exit(1);
+});
