@@ -148,6 +148,12 @@ describe("the yard's slabs on the tablet", () => {
     const entry = page.locator(`[data-testid="entry"][data-client-key="${clientKey}"]`);
     expect(await entry.getAttribute("data-status")).toBe("waiting");
     await snap(page, "yard-sync-slab-offline-tablet");
+    // The tablet turned sideways: the same screen fits its width, nothing scrolls sideways.
+    await page.setViewportSize({ width: TABLET.height, height: TABLET.width });
+    await page.getByTestId("slab-drawing").waitFor();
+    expect(await page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(TABLET.height);
+    await snap(page, "yard-sync-slab-offline-landscape");
+    await page.setViewportSize(TABLET);
     expect(storedByKey(clientKey)).toEqual([]);
     expect(posts.defects).toBe(0);
 

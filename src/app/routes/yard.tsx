@@ -72,9 +72,13 @@ export function Component() {
       <Card title="Your entries today" actions={today.isFetching ? <Spinner label="Updating" /> : null}>
         {today.isError ? (
           <div className="mb-3">
-            <Notice tone="caution" title="Not up to date">
-              {today.error.message} Entries on this tablet are shown; the server's list comes back with the network.
-            </Notice>
+            {outbox.online ? (
+              <Notice tone="caution" title="Not up to date">
+                {today.error.message} Entries on this tablet are shown; the server's list comes back with the network.
+              </Notice>
+            ) : (
+              <p className="text-sm text-ink-700">As of the tablet's last sync; the server's list comes back with the network.</p>
+            )}
           </div>
         ) : null}
         {today.isPending && !today.isError ? <Spinner label="Loading today's entries" /> : <EntriesList server={mine} outbox={outbox} />}

@@ -279,8 +279,8 @@ export function OutboxStatus({ outbox }: { outbox: OutboxSnapshot }) {
     else if (outbox.signedOut) text += " — sign in again to send them";
     else if (sending) text += " — sending now";
   } else if (!outbox.online) {
-    text = "No network. Entries are kept on this tablet and sent when it returns.";
-    status = "waiting";
+    // The band at the top already says the tablet is offline; here only what waits.
+    text = "Nothing waiting: everything saved on this tablet has been sent.";
   }
   return (
     <div
@@ -290,7 +290,7 @@ export function OutboxStatus({ outbox }: { outbox: OutboxSnapshot }) {
       role="status"
     >
       <StatusMark status={status} label={text} />
-      {!outbox.online ? <span className="text-sm font-semibold text-ink-800">Offline</span> : null}
+      {!outbox.online && waiting ? <span className="text-sm font-semibold text-ink-800">Offline</span> : null}
       {outbox.storageError ? <p className="w-full text-sm font-semibold text-alarm-700">{outbox.storageError}</p> : null}
       {outbox.otherUsersCount ? (
         <p className="w-full text-xs text-ink-700">
