@@ -21,11 +21,19 @@ export interface PlanCounts {
 }
 
 export interface AppliedChanges {
-  /** Slab row ids whose resolved conditions must be recomputed. */
+  /** Slab row ids whose resolved conditions must be recomputed (none left when `resolved` says so). */
   slabIds: number[];
-  /** The same slabs with what the resolver needs, when the import already holds it. */
-  slabRows?: SlabRow[];
+  /** Slabs already resolved through the sink given to apply(), as they were written. */
+  resolved?: number;
 }
+
+/**
+ * Takes written slabs with what the resolver needs, a few thousand at a time, while apply() goes on:
+ * a hundred thousand slabs' rows are never all held at once.
+ */
+export type ResolveSink = (rows: SlabRow[]) => void;
+/** Slabs handed to the sink at once. */
+const SINK_ROWS = 2_000;
 
 interface HeatForSlab {
   id: number;
@@ -48,7 +56,7 @@ interface HeatForSlab {
 
 export interface Plan {
   counts: PlanCounts;
-  apply(): AppliedChanges;
+  apply(sink?: ResolveSink): AppliedChanges;
 }
 
 type Rec = Record<string, string | number | null>;
@@ -364,7 +372,7 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
 
   return {
     counts: tally(ops),
-    apply() {
+    apply(sink) {
       const now = Date.now();
       // Each written slab's cast time is estimated from its heat and the pieces before it (stored
       // pieces and this file's together); samples placed by cast length refine it when resolved.
@@ -386,7 +394,14 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
         }
       }
       const slabIds: number[] = [];
-      const slabRows: SlabRow[] = [];
+      let slabRows: SlabRow[] = [];
+      let resolved = 0;
+      const flush = () => {
+        if (!sink || slabRows.length === 0) return;
+        sink(slabRows);
+        resolved += slabRows.length;
+        slabRows = [];
+      };
       const w = writer(sqlite, "slabs");
       for (const op of ops) {
         if (op === "unchanged") continue;
@@ -401,7 +416,7 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
         }
         slabIds.push(id);
         // Everything the resolver needs is in hand: no need to read the slab back.
-        slabRows.push({
+        if (sink) slabRows.push({
           id, heatId: heat.id, strandId: rec.strand_id as number, pieceNo: rec.piece_no as number, lengthMm: rec.length_mm as number,
           widthMm: rec.width_mm as number, thicknessMm: rec.thickness_mm as number, castLengthStartM: rec.cast_length_start_m as number | null,
           castAt: rec.cast_at as number | null, castingSpeedMPerMin: rec.casting_speed_m_min as number | null, superheatC: rec.superheat_c as number | null,
@@ -413,8 +428,11 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
           transition: rec.transition as number, sequencePosition: heat.sequence_position, weightT: rec.weight_t as number,
           chem: Object.assign(emptyChem(), Object.fromEntries(CHEM_COLUMNS.map((c) => [c, heat[c] as number | null]))),
         });
+        if (slabRows.length >= SINK_ROWS) flush();
       }
-      return { slabIds, slabRows };
+      flush();
+      // Without a sink the caller resolves by id, reading each slab back.
+      return sink ? { slabIds: [], resolved } : { slabIds };
     },
   };
 }

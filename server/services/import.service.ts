@@ -78,13 +78,12 @@ export function runImport(db: Db, req: ImportRequest, timings?: Record<string, n
     if (req.dryRun || errors.count > 0 || !plan) return result;
 
     req.onWrite?.();
-    const changes = plan.apply();
-    lap("write");
-    result.slabsResolved = changes.slabRows
-      ? createResolver(db).resolveRows(changes.slabRows)
-      : changes.slabIds.length
-        ? createResolver(db).resolve(changes.slabIds)
-        : 0;
+    // Slabs written from a slab file are resolved as they are written, a few thousand at a time
+    // (their rows are in hand); the other kinds name the slabs they touched, resolved after.
+    let resolver: ReturnType<typeof createResolver> | null = null;
+    const changes = plan.apply((rows) => (resolver ??= createResolver(db)).resolveRows(rows));
+    lap("write and resolve slabs");
+    result.slabsResolved = (changes.resolved ?? 0) + (changes.slabIds.length ? (resolver ??= createResolver(db)).resolve(changes.slabIds) : 0);
     lap("resolve conditions");
     const finished = Date.now();
     const run = sqlite
