@@ -134,7 +134,17 @@ export function penalisedLogistic(columns: readonly Float64Array[], y: Uint8Arra
   let iterations = 0;
   const w = new Float64Array(n);
   const r = new Float64Array(n);
-  const xc = new Float64Array(n);
+  const wx = new Float64Array(n);
+  // The centred columns of the fitted rows, copied once so the information's n·p²/2 products run
+  // over contiguous memory (most of the time of a fit on a million slabs). Float32 is enough for
+  // the information, which steers the steps; the gradient, which fixes the solution, uses the
+  // stored values in double precision.
+  const centred = columns.map((c, j) => {
+    const out = new Float32Array(n);
+    const m = mean[j]!;
+    for (let i = 0; i < n; i++) out[i] = c[rows[i]!]! - m;
+    return out;
+  });
   for (; iterations < maxIterations; iterations++) {
     // Gradient and Fisher information X′WX of the centred design.
     const grad = new Array<number>(k).fill(0);
@@ -151,28 +161,25 @@ export function penalisedLogistic(columns: readonly Float64Array[], y: Uint8Arra
     grad[0] = g0;
     info[0]![0] = w0;
     for (let a = 0; a < p; a++) {
+      const xa = centred[a]!;
       const ca = columns[a]!;
-      const ma = mean[a]!;
-      for (let i = 0; i < n; i++) xc[i] = ca[rows[i]!]! - ma;
+      // The gradient in double precision from the stored values: Σ r·(x − m) = Σ r·x − m·Σ r.
       let g = 0;
+      for (let i = 0; i < n; i++) g += r[i]! * ca[rows[i]!]!;
+      g -= mean[a]! * g0;
       let i0 = 0;
-      let ia = 0;
       for (let i = 0; i < n; i++) {
-        const v = xc[i]!;
-        g += v * r[i]!;
-        const wv = w[i]! * v;
+        const wv = w[i]! * xa[i]!;
         i0 += wv;
-        ia += wv * v;
+        wx[i] = wv;
       }
       grad[a + 1] = g - lambda * scale[a]! * beta[a + 1]!;
       info[0]![a + 1] = info[a + 1]![0] = i0;
-      info[a + 1]![a + 1] = ia;
-      for (let b = 0; b < a; b++) {
-        const cb = columns[b]!;
-        const mb = mean[b]!;
-        let s = 0;
-        for (let i = 0; i < n; i++) s += w[i]! * xc[i]! * (cb[rows[i]!]! - mb);
-        info[a + 1]![b + 1] = info[b + 1]![a + 1] = s;
+      for (let b = 0; b <= a; b++) {
+        const xb = centred[b]!;
+        let sum = 0;
+        for (let i = 0; i < n; i++) sum += wx[i]! * xb[i]!;
+        info[a + 1]![b + 1] = info[b + 1]![a + 1] = sum;
       }
     }
     const hessian = info.map((row, i) => row.map((v, j) => (i === j && i > 0 ? v + lambda * scale[i - 1]! : v)));
