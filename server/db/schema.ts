@@ -808,3 +808,67 @@ export const importRuns = sqliteTable(
   },
   (t) => [index("import_runs_started_idx").on(t.startedAt)],
 );
+
+// ---------------------------------------------------------------------------------------------
+// Risk before inspection (issue 15)
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * One trained version of a risk model for a defect type or category: what it may use, what it learnt
+ * (terms, knots, coefficients), on which slabs, how it validated on the newest ones, who trained it.
+ * At most one version per target is active (a partial unique index).
+ */
+export const riskModels = sqliteTable(
+  "risk_models",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    /** type | category */
+    targetKind: text("target_kind").notNull(),
+    targetCode: text("target_code").notNull(),
+    /** 1, 2, 3 … per target. */
+    version: integer("version").notNull(),
+    /** What the engineer chose: conditions, categories, knots, training window. */
+    spec: text("spec", { mode: "json" }).notNull(),
+    /** training | ready | failed */
+    status: text("status").notNull().default("training"),
+    progress: real("progress").notNull().default(0),
+    progressText: text("progress_text"),
+    error: text("error"),
+    /** The learnt terms and coefficients (services/risk/model.ts ModelTerms); null until trained. */
+    terms: text("terms", { mode: "json" }),
+    lambda: real("lambda"),
+    effectiveDf: real("effective_df"),
+    validation: text("validation", { mode: "json" }),
+    method: text("method"),
+    beatsBaseline: integer("beats_baseline", { mode: "boolean" }).notNull().default(false),
+    active: integer("active", { mode: "boolean" }).notNull().default(false),
+    trainFrom: integer("train_from", { mode: "timestamp_ms" }),
+    trainTo: integer("train_to", { mode: "timestamp_ms" }),
+    trainedBy: text("trained_by").references(() => user.id),
+    trainedByName: text("trained_by_name"),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    finishedAt: integer("finished_at", { mode: "timestamp_ms" }),
+  },
+  (t) => [
+    uniqueIndex("risk_models_target_version_uq").on(t.targetKind, t.targetCode, t.version),
+    uniqueIndex("risk_models_one_active_uq").on(t.targetKind, t.targetCode).where(sql`active = 1`),
+  ],
+);
+
+/** A slab's risk under a model version, with the reasons, stored when the slab is scored. */
+export const slabRisks = sqliteTable(
+  "slab_risks",
+  {
+    slabId: integer("slab_id")
+      .notNull()
+      .references(() => slabs.id, { onDelete: "cascade" }),
+    modelId: integer("model_id")
+      .notNull()
+      .references(() => riskModels.id, { onDelete: "cascade" }),
+    risk: real("risk").notNull(),
+    /** [{ variable, label, value, unit, contribution }], largest first. */
+    reasons: text("reasons", { mode: "json" }).notNull(),
+    scoredAt: integer("scored_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+  },
+  (t) => [primaryKey({ columns: [t.slabId, t.modelId] }), index("slab_risks_model_risk_idx").on(t.modelId, t.risk)],
+);
