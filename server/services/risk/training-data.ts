@@ -1,0 +1,152 @@
+/**
+ * The slabs a risk model learns from and is scored on, read straight from SQLite (slab_conditions,
+ * defects, products) — not from the reports' in-memory cache, so training can run in a thread of its
+ * own with its own connection.
+ *
+ * Outcome: the slab carries at least one live, unrejected entry of the target defect type (or of a
+ * type in the target category). Whether the outcome is known: the slab has an entry of any kind, has
+ * been rolled (a coil or plate), or was cast more than JUDGED_AFTER_DAYS before the training — by then
+ * it has passed the yard. The product records no "inspected, nothing found", so a recent slab with
+ * none of these is not yet judged and is left out of training and validation (it is what gets scored).
+ * The reports count every slab in their rates; the difference is only the last fortnight.
+ */
+import type Database from "better-sqlite3";
+import { CATEGORICAL_LABELS, VARIABLES } from "@shared/variables";
+import { SEQUENCE_LEVELS, seqBucket } from "../reports/adjusted";
+import type { CategoricalInput, NumericInput, RiskData } from "./model";
+
+export const RISK_CATEGORIES = ["grade_family", "strand", "transition", "sequence_position"] as const;
+export type RiskCategory = (typeof RISK_CATEGORIES)[number];
+
+/** A slab cast this long before the training has passed the yard: no entry means none was found. */
+export const JUDGED_AFTER_DAYS = 14;
+
+export interface RiskSpec {
+  targetKind: "type" | "category";
+  targetCode: string;
+  /** Numeric conditions (keys of the variables catalogue). */
+  conditions: string[];
+  categories: RiskCategory[];
+  knots: 3 | 4 | 5;
+  /** Training window by cast time, epoch ms. */
+  from?: number;
+  to?: number;
+}
+
+/** The defect type ids a target covers; empty when the code is unknown. */
+export function targetTypeIds(sqlite: Database.Database, spec: Pick<RiskSpec, "targetKind" | "targetCode">): number[] {
+  return spec.targetKind === "type"
+    ? (sqlite.prepare("select id from defect_types where upper(code) = upper(?)").pluck().all(spec.targetCode) as number[])
+    : (sqlite.prepare("select t.id from defect_types t join defect_categories c on c.id = t.category_id where upper(c.code) = upper(?)").pluck().all(spec.targetCode) as number[]);
+}
+
+const sequenceCode = (pos: number | null) => SEQUENCE_LEVELS.indexOf(seqBucket(pos ?? 0) as (typeof SEQUENCE_LEVELS)[number]);
+
+/** Words for the codes of each category, from the database. */
+export function categoryNames(sqlite: Database.Database): Record<RiskCategory, (code: number) => string> {
+  const families = new Map(sqlite.prepare("select id, code from grade_families").raw().all() as [number, string][]);
+  const strands = new Map(sqlite.prepare("select s.id, c.code || ' strand ' || s.strand_no from strands s join casters c on c.id = s.caster_id").raw().all() as [number, string][]);
+  return {
+    grade_family: (c) => families.get(c) ?? "unknown",
+    strand: (c) => strands.get(c) ?? "unknown",
+    transition: (c) => (c ? "transition" : "not transition"),
+    sequence_position: (c) => SEQUENCE_LEVELS[c] ?? "unknown",
+  };
+}
+
+const CATEGORY_COLUMN: Record<RiskCategory, string> = {
+  grade_family: "coalesce(c.family_id, 0)",
+  strand: "c.strand_id",
+  transition: "c.transition",
+  sequence_position: "c.sequence_position",
+};
+
+/** Reads every judged slab in the window with its conditions and outcome. */
+export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf = Date.now()): RiskData & { slabIds: Int32Array; known: number; unjudged: number } {
+  const typeIds = targetTypeIds(sqlite, spec);
+  const conds = spec.conditions.map((k) => VARIABLES.find((v) => v.key === k)!);
+  const where = ["c.cast_at is not null"];
+  const params: Record<string, number> = { judgedBefore: asOf - JUDGED_AFTER_DAYS * 86_400_000 };
+  if (spec.from !== undefined) {
+    where.push("c.cast_at >= @from");
+    params.from = spec.from;
+  }
+  if (spec.to !== undefined) {
+    where.push("c.cast_at <= @to");
+    params.to = spec.to;
+  }
+  const ids = typeIds.length ? typeIds.join(",") : "-1";
+  const sql = `
+    select c.slab_id, c.cast_at, coalesce(c.family_id, 0), ${spec.categories.map((k) => CATEGORY_COLUMN[k]).join(", ")}${spec.categories.length ? "," : ""}
+      ${conds.map((v) => `c.${v.key}`).join(", ")}${conds.length ? "," : ""}
+      exists (select 1 from defects d where d.slab_id = c.slab_id and d.deleted_at is null and d.review_status <> 'rejected' and d.type_id in (${ids})) as affected,
+      (c.cast_at <= @judgedBefore or exists (select 1 from defects d where d.slab_id = c.slab_id and d.deleted_at is null)
+        or exists (select 1 from products p where p.slab_id = c.slab_id)) as judged
+    from slab_conditions c where ${where.join(" and ")} order by c.cast_at, c.slab_id`;
+  const rows = sqlite.prepare(sql).raw().all(params) as (number | null)[][];
+  const judgedRows = rows.filter((r) => r[r.length - 1] === 1);
+  const n = judgedRows.length;
+  const slabIds = new Int32Array(n);
+  const castAt = new Float64Array(n);
+  const family = new Int32Array(n);
+  const outcome = new Uint8Array(n);
+  const catCodes = spec.categories.map(() => new Int32Array(n));
+  const numValues = conds.map(() => new Float64Array(n));
+  const nc = spec.categories.length;
+  judgedRows.forEach((r, i) => {
+    slabIds[i] = r[0]!;
+    castAt[i] = r[1]!;
+    family[i] = r[2]!;
+    spec.categories.forEach((k, j) => {
+      const v = r[3 + j];
+      catCodes[j]![i] = k === "sequence_position" ? sequenceCode(v ?? null) : (v ?? -1);
+    });
+    conds.forEach((_, j) => {
+      const v = r[3 + nc + j];
+      numValues[j]![i] = v === null || v === undefined ? NaN : v;
+    });
+    outcome[i] = r[3 + nc + conds.length] ? 1 : 0;
+  });
+  const names = categoryNames(sqlite);
+  const numeric: NumericInput[] = conds.map((v, j) => ({ key: v.key, label: v.label, unit: v.unit === "–" ? null : v.unit, values: numValues[j]! }));
+  const categorical: CategoricalInput[] = spec.categories.map((k, j) => ({ key: k, label: CATEGORICAL_LABELS[k], codes: catCodes[j]!, name: names[k] }));
+  return {
+    rows: Int32Array.from({ length: n }, (_, i) => i),
+    castAt,
+    outcome,
+    numeric,
+    categorical,
+    family,
+    slabIds,
+    known: n,
+    unjudged: rows.length - n,
+  };
+}
+
+/** The values a stored model needs for the given slabs, in its terms' order (null where missing). */
+export function slabInputs(
+  sqlite: Database.Database,
+  numericKeys: string[],
+  categoryKeys: RiskCategory[],
+  slabIds: number[],
+): Map<number, { numeric: (number | null)[]; categorical: (number | null)[] }> {
+  const out = new Map<number, { numeric: (number | null)[]; categorical: (number | null)[] }>();
+  for (const k of numericKeys) if (!VARIABLES.some((v) => v.key === k)) throw new Error(`Unknown condition ${k}`);
+  const cols = [...categoryKeys.map((k) => CATEGORY_COLUMN[k]), ...numericKeys.map((k) => `c.${k}`)];
+  for (let i = 0; i < slabIds.length; i += 500) {
+    const chunk = slabIds.slice(i, i + 500);
+    const rows = sqlite
+      .prepare(`select c.slab_id${cols.length ? ", " : ""}${cols.join(", ")} from slab_conditions c where c.slab_id in (${chunk.map(() => "?").join(",")})`)
+      .raw()
+      .all(...chunk) as (number | null)[][];
+    for (const r of rows) {
+      const categorical = categoryKeys.map((k, j) => {
+        const v = r[1 + j] ?? null;
+        return k === "sequence_position" ? sequenceCode(v) : v;
+      });
+      const numeric = numericKeys.map((_, j) => r[1 + categoryKeys.length + j] ?? null);
+      out.set(r[0]!, { numeric, categorical });
+    }
+  }
+  return out;
+}
