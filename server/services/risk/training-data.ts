@@ -62,7 +62,7 @@ const CATEGORY_COLUMN: Record<RiskCategory, string> = {
 };
 
 /** Reads every judged slab in the window with its conditions and outcome. */
-export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf = Date.now()): RiskData & { slabIds: Int32Array; known: number; unjudged: number } {
+export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf = Date.now()): RiskData & { slabIds: Int32Array; outcome: Uint8Array; castAt: Float64Array; known: number; unjudged: number } {
   const typeIds = targetTypeIds(sqlite, spec);
   const conds = spec.conditions.map((k) => VARIABLES.find((v) => v.key === k)!);
   const where = ["c.cast_at is not null"];
@@ -83,30 +83,56 @@ export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf
       (c.cast_at <= @judgedBefore or exists (select 1 from defects d where d.slab_id = c.slab_id and d.deleted_at is null)
         or exists (select 1 from products p where p.slab_id = c.slab_id)) as judged
     from slab_conditions c where ${where.join(" and ")} order by c.cast_at, c.slab_id`;
-  const rows = sqlite.prepare(sql).raw().all(params) as (number | null)[][];
-  const judgedRows = rows.filter((r) => r[r.length - 1] === 1);
-  const n = judgedRows.length;
-  const slabIds = new Int32Array(n);
-  const castAt = new Float64Array(n);
-  const family = new Int32Array(n);
-  const outcome = new Uint8Array(n);
-  const catCodes = spec.categories.map(() => new Int32Array(n));
-  const numValues = conds.map(() => new Float64Array(n));
+  // Read row by row into growing typed columns: a million slabs as JS arrays would cost ~0.5 GB.
   const nc = spec.categories.length;
-  judgedRows.forEach((r, i) => {
-    slabIds[i] = r[0]!;
-    castAt[i] = r[1]!;
-    family[i] = r[2]!;
-    spec.categories.forEach((k, j) => {
-      const v = r[3 + j];
-      catCodes[j]![i] = k === "sequence_position" ? sequenceCode(v ?? null) : (v ?? -1);
-    });
-    conds.forEach((_, j) => {
+  let cap = 65_536;
+  let slabIds = new Int32Array(cap);
+  let castAt = new Float64Array(cap);
+  let family = new Int32Array(cap);
+  let outcome = new Uint8Array(cap);
+  let catCodes = spec.categories.map(() => new Int32Array(cap));
+  let numValues = conds.map(() => new Float64Array(cap));
+  const grow = <T extends Int32Array | Float64Array | Uint8Array>(a: T): T => {
+    const b = new (a.constructor as new (n: number) => T)(cap);
+    b.set(a);
+    return b;
+  };
+  let n = 0;
+  let unjudged = 0;
+  for (const r of sqlite.prepare(sql).raw().iterate(params) as IterableIterator<(number | null)[]>) {
+    if (r[r.length - 1] !== 1) {
+      unjudged++;
+      continue;
+    }
+    if (n === cap) {
+      cap = Math.ceil(cap * 1.5);
+      slabIds = grow(slabIds);
+      castAt = grow(castAt);
+      family = grow(family);
+      outcome = grow(outcome);
+      catCodes = catCodes.map(grow);
+      numValues = numValues.map(grow);
+    }
+    slabIds[n] = r[0]!;
+    castAt[n] = r[1]!;
+    family[n] = r[2]!;
+    for (let j = 0; j < nc; j++) {
+      const v = r[3 + j] ?? null;
+      catCodes[j]![n] = spec.categories[j] === "sequence_position" ? sequenceCode(v) : (v ?? -1);
+    }
+    for (let j = 0; j < conds.length; j++) {
       const v = r[3 + nc + j];
-      numValues[j]![i] = v === null || v === undefined ? NaN : v;
-    });
-    outcome[i] = r[3 + nc + conds.length] ? 1 : 0;
-  });
+      numValues[j]![n] = v === null || v === undefined ? NaN : v;
+    }
+    outcome[n] = r[3 + nc + conds.length] ? 1 : 0;
+    n++;
+  }
+  slabIds = slabIds.slice(0, n);
+  castAt = castAt.slice(0, n);
+  family = family.slice(0, n);
+  outcome = outcome.slice(0, n);
+  catCodes = catCodes.map((a) => a.slice(0, n));
+  numValues = numValues.map((a) => a.slice(0, n));
   const names = categoryNames(sqlite);
   const numeric: NumericInput[] = conds.map((v, j) => ({ key: v.key, label: v.label, unit: v.unit === "–" ? null : v.unit, values: numValues[j]! }));
   const categorical: CategoricalInput[] = spec.categories.map((k, j) => ({ key: k, label: CATEGORICAL_LABELS[k], codes: catCodes[j]!, name: names[k] }));
@@ -119,7 +145,7 @@ export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf
     family,
     slabIds,
     known: n,
-    unjudged: rows.length - n,
+    unjudged,
   };
 }
 
