@@ -1,11 +1,56 @@
 /// <reference types="vitest/config" />
+import fs from "node:fs";
 import path from "node:path";
-import { defineConfig } from "vite";
+import zlib from "node:zlib";
+import { defineConfig, type Plugin } from "vite";
 import react from "@vitejs/plugin-react";
 import tailwindcss from "@tailwindcss/vite";
 import { VitePWA } from "vite-plugin-pwa";
+import { compression, defineAlgorithm } from "vite-plugin-compression2";
 
 const apiPort = process.env.PORT ?? "3000";
+
+/**
+ * Every text asset leaves the build also as .gz and .br beside it, compressed once at the highest
+ * levels; the server (express-static-gzip in server/app.ts) sends the one the browser accepts. Images
+ * and woff2 fonts are compressed already. Source maps stay plain: only a developer opens them.
+ */
+const COMPRESSED = /\.(js|mjs|css|html|svg|json|webmanifest)$/;
+const GZIP = defineAlgorithm("gzip", { level: zlib.constants.Z_BEST_COMPRESSION });
+const BROTLI = defineAlgorithm("brotliCompress", { params: { [zlib.constants.BROTLI_PARAM_QUALITY]: zlib.constants.BROTLI_MAX_QUALITY } });
+
+/**
+ * The service worker and its Workbox runtime are written by vite-plugin-pwa after the bundle is
+ * closed, where vite-plugin-compression2 no longer looks (it compresses the bundle and public/ only).
+ * This last step compresses those few files the same way; it is ours because no plugin covers files
+ * another plugin writes at closeBundle.
+ */
+function compressServiceWorker(): Plugin {
+  let outDir = "";
+  return {
+    name: "strandsight:compress-service-worker",
+    apply: "build",
+    enforce: "post",
+    configResolved(config) {
+      outDir = path.resolve(config.root, config.build.outDir);
+    },
+    closeBundle: {
+      order: "post",
+      sequential: true,
+      handler() {
+        for (const name of fs.readdirSync(outDir)) {
+          if (!/^(sw\.js|workbox-[\w-]+\.js|manifest\.webmanifest)$/.test(name)) continue;
+          const file = path.join(outDir, name);
+          const plain = fs.readFileSync(file);
+          const gz = zlib.gzipSync(plain, { level: zlib.constants.Z_BEST_COMPRESSION });
+          const br = zlib.brotliCompressSync(plain, { params: { [zlib.constants.BROTLI_PARAM_QUALITY]: zlib.constants.BROTLI_MAX_QUALITY } });
+          if (gz.length < plain.length) fs.writeFileSync(`${file}.gz`, gz);
+          if (br.length < plain.length) fs.writeFileSync(`${file}.br`, br);
+        }
+      },
+    },
+  };
+}
 
 export default defineConfig({
   plugins: [
@@ -65,6 +110,11 @@ export default defineConfig({
         sourcemap: false,
       },
     }),
+    // After the PWA plugin: the precache lists the plain files only (its globPatterns end in
+    // .js/.css/.html, never .gz/.br); the worker fetches them through the server like the page does,
+    // and the browser asks for and decodes br/gzip on those requests itself.
+    compression({ algorithms: [GZIP, BROTLI], include: COMPRESSED, exclude: /\.map$/, logLevel: "silent" }),
+    compressServiceWorker(),
   ],
   resolve: {
     alias: {

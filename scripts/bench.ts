@@ -10,6 +10,7 @@
  *   - start          the real server's start on the bench:reports plant: listen, sign-in, yard, reports ready, RSS (issue 14)
  *   - bundles        the JavaScript each screen loads, after gzip (from the Vite manifest)
  *   - yard           tapping "Save defect" to "Sent" on the yard screen (demo plant, Chromium)
+ *   - client         a screen opened cold: first table row and chart drawn, bytes, the session's start (issue 14)
  * Each benchmark measures its own baseline in the same run. Nothing here asserts time.
  * `npm run bench -- load bundles` runs only the parts named.
  */
@@ -181,6 +182,31 @@ function yardSave() {
   }
 }
 
+/**
+ * A screen opened on a device that has never seen the app (issue 14), through the real server and
+ * Chromium: first table row and chart drawn against a static page of the same server
+ * (tests/bench/client.bench.ts); after bundles, whose build it uses.
+ */
+function client() {
+  const out = run("bench:client");
+  const seen = { table: 0, chart: 0 };
+  for (const m of out.matchAll(/^client summary (\w+) (\w+): first table p50 (\d+) ms p95 (\d+) ms \(([\d.]+)× the static floor (\d+) ms\) target < (\d+) ms (met|NOT met)/gm)) {
+    seen.table++;
+    figures.push({ figure: `client ${m[2]} (${m[1]}): first table row`, value: `p50 ${m[3]} ms, p95 ${m[4]} ms (${m[5]}× a static page)`, target: `< ${m[7]} ms`, met: m[8] === "met" });
+  }
+  for (const m of out.matchAll(/^client summary (\w+) (\w+): chart drawn p50 (\d+) ms p95 (\d+) ms target < (\d+) ms (met|NOT met)/gm)) {
+    seen.chart++;
+    figures.push({ figure: `client ${m[2]} (${m[1]}): chart drawn`, value: `p50 ${m[3]} ms, p95 ${m[4]} ms`, target: `< ${m[5]} ms`, met: m[6] === "met" });
+  }
+  for (const m of out.matchAll(/^client summary local (\w+): bytes (\d+) kB on the wire of (\d+) kB decoded/gm)) {
+    figures.push({ figure: `client ${m[1]}: bytes fetched (on the wire / decoded)`, value: `${m[2]} kB / ${m[3]} kB`, target: "(recorded)", met: null });
+  }
+  for (const m of out.matchAll(/^client summary (\w+) (\w+): \/api\/me asked p50 (\d+) ms after navigation start \((\d+) request/gm)) {
+    figures.push({ figure: `client ${m[2]} (${m[1]}): session asked after navigation start`, value: `p50 ${m[3]} ms (${m[4]} request)`, target: "(recorded)", met: null });
+  }
+  if (out && !(seen.table && seen.chart)) figures.push({ figure: "bench:client", value: "summary lines missing", target: "", met: false });
+}
+
 async function main() {
   if (wanted("reports")) reports();
   if (wanted("import")) imports();
@@ -191,6 +217,7 @@ async function main() {
   if (wanted("start")) start();
   if (wanted("bundles")) bundles();
   if (wanted("yard")) yardSave();
+  if (wanted("client")) client();
   console.log("\n━━ Strandsight benchmarks ━━");
   const w = Math.max(...figures.map((f) => f.figure.length));
   for (const f of figures) console.log(`${f.figure.padEnd(w)}  ${f.value.padEnd(44)}  ${f.target.padEnd(12)} ${f.met === null ? "" : f.met ? "met" : "NOT MET"}`);

@@ -1,6 +1,8 @@
 import fs from "node:fs";
 import path from "node:path";
+import compression from "compression";
 import express from "express";
+import expressStaticGzip from "express-static-gzip";
 import helmet from "helmet";
 import type { Auth } from "./auth";
 import type { Db } from "./db/client";
@@ -12,6 +14,7 @@ import { authContext } from "./middleware/auth-context";
 import { authDoor } from "./middleware/auth-door";
 import { apiNotFound, errorHandler } from "./middleware/error-handler";
 import { sameOriginWrites } from "./middleware/same-origin";
+import { freshPrecompressed } from "./middleware/fresh-precompressed";
 import { rateLimits } from "./middleware/rate-limits";
 import { buildOpenApiDocument, createOpenApiRegistry } from "./openapi";
 import { adminUserRoutes } from "./routes/admin-users.routes";
@@ -33,6 +36,7 @@ import { tokenRoutes } from "./routes/tokens.routes";
 import { apiTokenContext } from "./middleware/api-token";
 import { requireRole } from "./middleware/require-role";
 import { createImportPool, type ImportPool } from "./import/import-pool";
+import { createReportThread, type ReportThread } from "./services/report-thread";
 import { IMPORT_KINDS, IMPORT_MAX_BYTES } from "@shared/api/imports";
 import { assertTokenAllows } from "./services/tokens.service";
 import { plantRoutes } from "./routes/plant.routes";
@@ -57,6 +61,11 @@ export interface AppOptions {
   notify?: Notifications;
   /** The import threads; created here when not given. Close with `app.locals.imports.close()`. */
   imports?: ImportPool;
+  /**
+   * The report thread (the slab facts and the reports that read them); created here when not given,
+   * for a database in a file. Close with `app.locals.reports.close()`.
+   */
+  reports?: ReportThread;
 }
 
 /**
@@ -99,6 +108,9 @@ export function createApp(opts: AppOptions) {
   const notify = opts.notify ?? createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
   const events: DefectEvents = opts.events ?? { criticalDefect: (d) => void notify.criticalDefect(d) };
   const imports = opts.imports ?? createImportPool({ logger, heapMb: env.IMPORT_THREAD_HEAP_MB });
+  // Linked to the connection: the fact reports and the change notices go to the thread (started on
+  // first use). An in-memory database cannot be opened by a second thread: its reports run here.
+  const reports = opts.reports ?? (db.$client.memory ? null : createReportThread(db, { logger }));
   const deps: Deps = { db, auth, env, logger, events, mailer, notify, imports };
   // Each pass of the mail worker first queues reminders for actions that fell overdue (an indexed look-up).
   mailer.onPass((now) => void queueOverdueReminders(db, notify, now));
@@ -132,6 +144,15 @@ export function createApp(opts: AppOptions) {
       crossOriginEmbedderPolicy: false,
     }),
   );
+
+  // Reads of the API go out compressed when they are big enough to gain from it (report answers,
+  // lists: tens of kB of JSON, a fifth of that after gzip on a tablet's Wi-Fi). Writes answer a few
+  // hundred bytes and are left alone, so the write path does not pay for it. Answers that are
+  // compressed already (the yard sync gzips itself, workbooks and photos are zipped or images) are
+  // passed through untouched: the middleware skips an answer with a Content-Encoding of its own and
+  // types that do not compress.
+  const compressReads = compression({ threshold: 1024 });
+  app.use("/api", (req, res, next) => (req.method === "GET" ? compressReads(req, res, next) : next()));
 
   const origins = originPolicyOf(env, opts.trustedOrigins);
 
@@ -171,31 +192,48 @@ export function createApp(opts: AppOptions) {
 
   const serveClient = opts.serveClient ?? fs.existsSync(path.join(CLIENT_DIST, "index.html"));
   if (serveClient) {
-    // Hashed assets never change under the same name; index.html must always be revalidated.
+    // The build leaves a .br and a .gz beside every text file (vite.config.ts): each is sent to the
+    // browsers that accept it, with Vary: Accept-Encoding, compressed once at build and never per
+    // request. Hashed assets never change under the same name; index.html must always be revalidated.
+    // A copy is sent only while it matches its file (server/middleware/fresh-precompressed.ts).
+    const precompressed = { enableBrotli: true, orderPreference: ["br", "gzip"] };
     app.use(
       "/assets",
-      express.static(path.join(CLIENT_DIST, "assets"), { immutable: true, maxAge: "365d", fallthrough: false }),
+      freshPrecompressed(path.join(CLIENT_DIST, "assets")),
+      expressStaticGzip(path.join(CLIENT_DIST, "assets"), { ...precompressed, index: false, serveStatic: { immutable: true, maxAge: "365d", fallthrough: false } }),
     );
-    app.use(
-      express.static(CLIENT_DIST, {
+    const client = expressStaticGzip(CLIENT_DIST, {
+      ...precompressed,
+      index: false,
+      serveStatic: {
         index: false,
         maxAge: "1h",
         // The service worker, its Workbox runtime, the app manifest and index.html keep their names
-        // across versions: the browser must ask every time, or a tablet keeps an old version.
+        // across versions: the browser must ask every time, or a tablet keeps an old version. The
+        // file named here may be the .br or .gz sent in its place.
         setHeaders: (res, file) => {
-          if (/^(sw\.js|workbox-[\w-]+\.js|manifest\.webmanifest|index\.html)$/.test(path.basename(file))) res.setHeader("Cache-Control", "no-cache");
+          if (/^(sw\.js|workbox-[\w-]+\.js|manifest\.webmanifest|index\.html)(\.br|\.gz)?$/.test(path.basename(file))) res.setHeader("Cache-Control", "no-cache");
         },
-      }),
-    );
-    app.get("/{*any}", (_req, res) => {
-      res.setHeader("Cache-Control", "no-cache");
-      res.sendFile(path.join(CLIENT_DIST, "index.html"));
+      },
     });
+    const fresh = freshPrecompressed(CLIENT_DIST);
+    app.use(fresh, client);
+    // Every other address is a screen of the app: index.html, compressed like the rest.
+    app.get(
+      "/{*any}",
+      (req, _res, next) => {
+        req.url = "/index.html";
+        next();
+      },
+      fresh,
+      client,
+    );
   }
 
   app.use(errorHandler(logger));
   app.locals.routes = routes;
   app.locals.mailer = mailer;
   app.locals.imports = imports;
+  app.locals.reports = reports;
   return app;
 }

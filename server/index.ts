@@ -157,6 +157,7 @@ async function main() {
         await (app.locals.imports as { close(): Promise<void> }).close();
         // After the last write: the next start reads the report cache back instead of rebuilding it.
         await reportCache.close();
+        await (app.locals.reports as { close(): Promise<void> } | null)?.close();
         db.$client.close();
         process.exit(0);
       })();

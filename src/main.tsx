@@ -6,6 +6,7 @@ import { registerSW } from "virtual:pwa-register";
 import "./index.css";
 import { AppProvider, type AppUpdate } from "./app/provider";
 import { createRouter } from "./app/router";
+import { authKeys } from "./features/auth/api/session";
 import { forgetUser } from "./features/auth/remembered-user";
 import { createQueryClient } from "./lib/query-client";
 
@@ -19,6 +20,10 @@ const queryClient = createQueryClient({
     void router.navigate(`/sign-in?next=${encodeURIComponent(next)}&expired=1`, { replace: true });
   },
 });
+// The session, asked first: this fetch takes the answer index.html's preload has been fetching
+// since the page began, and the screens' loaders find it in the cache. Taken here, at once: a
+// preload left unused could otherwise answer a later ask (after signing in) with what was true before.
+void queryClient.prefetchQuery(authKeys.me());
 const router = createRouter(queryClient);
 
 /**

@@ -27,6 +27,7 @@ import { notFound } from "../lib/http-error";
 import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute, type ResponseSpec } from "../lib/route";
 import { reportWorkbook } from "../services/report-export";
+import { reportThreadOf } from "../services/report-cache";
 import { adjustedModel } from "../services/reports/adjusted";
 import { beforeAfter } from "../services/reports/before-after";
 import { controlChart } from "../services/reports/control-chart";
@@ -61,6 +62,13 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
     },
   };
   const usesFacts = new Set<string>(["overview", "rate-by-variable", "screening", "process-window", "control-chart", "before-after", "adjusted"]);
+  // Those run in the report thread linked to the connection (report-thread.ts), which owns the facts,
+  // so the main thread keeps answering (and saving defects) meanwhile; without one (an in-memory
+  // database) they run here. The result is the same object either way.
+  const compute = (k: (typeof kinds)[number], query: unknown): unknown => {
+    const thread = usesFacts.has(k.kind) ? reportThreadOf(db) : undefined;
+    return thread ? thread.run(k.kind, query) : (k.run as (d: typeof db, q: unknown) => unknown)(db, query);
+  };
 
   const routes: AnyRoute[] = [
     defineRoute({
@@ -83,7 +91,7 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
         access: "reports.read",
         query: k.query as z.ZodType,
         responses: { 200: { description: "The report.", schema: k.schema }, ...(usesFacts.has(k.kind) ? warming : {}) },
-        handler: ({ query }) => (k.run as (d: typeof db, q: unknown) => unknown)(db, query),
+        handler: ({ query }) => compute(k, query),
       }),
       defineRoute({
         method: "get",
@@ -94,7 +102,7 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
         query: k.query as z.ZodType,
         responses: { 200: { description: "The workbook.", contentType: XLSX }, ...(usesFacts.has(k.kind) ? warming : {}) },
         handler: async ({ query, req, res, user }) => {
-          const result = (k.run as (d: typeof db, q: unknown) => unknown)(db, query);
+          const result = await compute(k, query);
           const qs = req.originalUrl.includes("?") ? req.originalUrl.slice(req.originalUrl.indexOf("?") + 1) : "";
           const methods = (result as { methods?: Record<string, string> }).methods;
           const buf = await reportWorkbook(k.kind, qs, result, `${user.name} <${user.email}>`, methods ? Object.entries(methods).map(([a, b]) => `${a}: ${b}`) : []);

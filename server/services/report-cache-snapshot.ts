@@ -127,8 +127,11 @@ export const snapshotFileFor = (databaseFile: string) => `${databaseFile}.report
 /**
  * Writes the facts' rows to `file` (temp file, fsync, rename). The caller makes sure the facts are
  * current (nothing pending) when it calls; the columns are read as they are while the bytes go out.
+ * `version`: the change count the facts are known to hold, when the caller knows it better than the
+ * counter read now (the report thread: the main thread reads it when it asks for the snapshot, and
+ * every change it told before is in the facts; a change written since would otherwise be claimed).
  */
-export async function writeSnapshot(sqlite: Database.Database, f: SlabFacts, file: string): Promise<{ bytes: number }> {
+export async function writeSnapshot(sqlite: Database.Database, f: SlabFacts, file: string, version?: number): Promise<{ bytes: number }> {
   ensureChangeCounter(sqlite);
   const size = f.size;
   const columns = COLUMN_NAMES.map((name) => ({ name, data: columnOf(f, name) }));
@@ -137,7 +140,7 @@ export async function writeSnapshot(sqlite: Database.Database, f: SlabFacts, fil
     variables: FACT_VARIABLES,
     size,
     columns: columns.map((c) => ({ name: c.name, type: c.data.constructor.name })),
-    fingerprint: factsFingerprint(sqlite, f),
+    fingerprint: { ...factsFingerprint(sqlite, f), ...(version === undefined ? {} : { version }) },
     writtenAt: Date.now(),
   };
   const json = Buffer.from(JSON.stringify(header), "utf8");

@@ -14,6 +14,11 @@
  * answered meanwhile. Until the facts are ready a report answers 503 "warming up" with Retry-After.
  * Without startReportCache (tests, benchmarks, the import thread) the cache is built on the first
  * report, as before.
+ *
+ * In the running server all of this happens in the report thread (report-thread.ts), which owns the
+ * facts and runs the reports that read them: the app links the thread to its connection
+ * (linkReportThread), and from then on slabFactsChanged on that connection is passed on to the
+ * thread, in order, and startReportCache starts the loading there. The main thread holds no facts.
  */
 import type Database from "better-sqlite3";
 import type { Db } from "../db/client";
@@ -79,6 +84,29 @@ export function onSlabFactsChanged(listener: FactsListener): () => void {
   return () => listeners.delete(listener);
 }
 
+/** What the report thread (report-thread.ts) offers the connection it is linked to. */
+export interface ReportThreadLink {
+  /** Runs a report that reads the facts (by its kind) in the thread: its result, or its HttpError. */
+  run(kind: string, query: unknown): Promise<unknown>;
+  /** Slab facts changed (the ids, or all): passed on to the thread before any later report. */
+  changed(slabIds: number[] | null): void;
+  /** startReportCache for the thread's facts. */
+  startCache(opts: ReportCacheOptions): ReportCacheHandle;
+}
+
+const links = new WeakMap<Database.Database, ReportThreadLink>();
+
+/** Links a report thread to a connection: its reports and its change notices go to the thread. */
+export function linkReportThread(db: Db, link: ReportThreadLink): () => void {
+  links.set(db.$client, link);
+  return () => {
+    if (links.get(db.$client) === link) links.delete(db.$client);
+  };
+}
+
+/** The report thread linked to this connection, if any (none: reports run here, as in tests of the cache). */
+export const reportThreadOf = (db: Db): ReportThreadLink | undefined => links.get(db.$client);
+
 /** Past this many changed slabs a rebuild is cheaper than reading each one again. */
 const PATCH_LIMIT = 50_000;
 
@@ -87,6 +115,12 @@ export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
   if (listeners.size > 0) {
     const ids = slabIds ? [...slabIds] : null;
     for (const l of listeners) l(ids);
+    slabIds = ids ?? undefined;
+  }
+  const link = links.get(db.$client);
+  if (link) {
+    const ids = slabIds ? [...slabIds] : null;
+    link.changed(ids);
     slabIds = ids ?? undefined;
   }
   const s = stateOf(db.$client);
@@ -288,22 +322,40 @@ export interface ReportCacheHandle {
   status(): ReportCacheStatus;
   /** Resolves when the facts are ready (or the load failed). */
   whenReady(): Promise<void>;
-  /** Writes the snapshot now when the facts are current and changed since the last one. */
-  saveSnapshot(): Promise<"written" | "unchanged" | "not ready">;
+  /**
+   * Writes the snapshot now when the facts are current and changed since the last one. `version`:
+   * the change count the facts hold (writeSnapshot), when the caller knows it (the report thread).
+   */
+  saveSnapshot(version?: number): Promise<"written" | "unchanged" | "not ready">;
   /** Stops the periodic snapshots and writes the last one (at shutdown, after the last request). */
-  close(): Promise<void>;
+  close(version?: number): Promise<void>;
+}
+
+export interface ReportCacheOptions {
+  snapshotFile: string | null;
+  logger?: Logger;
+  /** How often a snapshot is written when something changed (default 10 minutes); null: only when asked. */
+  snapshotEveryMs?: number | null;
+  sliceMs?: number;
 }
 
 /**
  * The running server's cache: loads it in the background (snapshot, else the database), writes a
  * snapshot every `snapshotEveryMs` when something changed and at `close()`.
  */
-export function startReportCache(
-  db: Db,
-  opts: { snapshotFile: string | null; logger?: Logger; snapshotEveryMs?: number; sliceMs?: number },
-): ReportCacheHandle {
+export function startReportCache(db: Db, opts: ReportCacheOptions): ReportCacheHandle {
   const sqlite = db.$client;
+  // From now on SQLite counts every change of slab_conditions (what the snapshot is checked against).
+  ensureChangeCounter(sqlite);
   const s = stateOf(sqlite);
+  const link = links.get(sqlite);
+  if (link) {
+    // The thread holds the facts from now on; a copy built here (a test reading them) is dropped.
+    s.facts = null;
+    s.dirtyAll = true;
+    s.dirty.clear();
+    return link.startCache(opts);
+  }
   const bg: Background = {
     snapshotFile: opts.snapshotFile,
     logger: opts.logger,
@@ -314,20 +366,18 @@ export function startReportCache(
     sliceMs: opts.sliceMs ?? 20,
     loaded: null,
   };
-  // From now on SQLite counts every change of slab_conditions (what the snapshot is checked against).
-  ensureChangeCounter(sqlite);
   s.background = bg;
   s.facts = null;
   startWarming(sqlite, s, true);
 
-  const save = async (): Promise<"written" | "unchanged" | "not ready"> => {
+  const save = async (fingerprintVersion?: number): Promise<"written" | "unchanged" | "not ready"> => {
     if (!bg.snapshotFile || bg.writing) return "not ready";
     if (s.warming || !s.facts || s.dirtyAll) return "not ready";
     if (s.dirty.size > 0) patch(sqlite, s, s.facts);
     if (s.version === bg.savedVersion) return "unchanged";
     const version = s.version;
     const t = performance.now();
-    bg.writing = writeSnapshot(sqlite, s.facts, bg.snapshotFile)
+    bg.writing = writeSnapshot(sqlite, s.facts, bg.snapshotFile, fingerprintVersion)
       .then(({ bytes }) => {
         bg.savedVersion = version;
         opts.logger?.info({ mb: Math.round(bytes / 1048576), ms: Math.round(performance.now() - t) }, "report cache snapshot written");
@@ -337,7 +387,7 @@ export function startReportCache(
     return "written";
   };
 
-  const timer = setInterval(() => {
+  const timer = opts.snapshotEveryMs === null ? undefined : setInterval(() => {
     // Another connection (an import thread) tells its changes when it finishes; a snapshot is
     // written only after a whole period in which no other connection wrote, so it never misses one.
     const dv = sqlite.pragma("data_version", { simple: true }) as number;
@@ -345,7 +395,7 @@ export function startReportCache(
     bg.dataVersion = dv;
     if (quiet) void save().catch((err) => opts.logger?.error({ err }, "report cache snapshot failed"));
   }, opts.snapshotEveryMs ?? 10 * 60_000);
-  timer.unref();
+  timer?.unref();
 
   return {
     status: () => ({
@@ -358,11 +408,11 @@ export function startReportCache(
       while (s.warming) await s.warming.promise;
     },
     saveSnapshot: save,
-    close: async () => {
+    close: async (fingerprintVersion?: number) => {
       clearInterval(timer);
       if (bg.writing) await bg.writing.catch(() => undefined);
       try {
-        await save();
+        await save(fingerprintVersion);
       } catch (err) {
         opts.logger?.error({ err }, "report cache snapshot at shutdown failed");
       }

@@ -481,7 +481,7 @@ async function main() {
     );
   }
   const [f, a, m] = phases as [Phase, Phase, Phase];
-  console.log(`\nreports read in the last phase (each holds the event loop while it computes; posts wait behind it):`);
+  console.log(`\nreports read in the last phase (worked out in the report thread, at a lower priority than the posts):`);
   for (const [path, [count, median]] of m.byReport) console.log(`  ${path.padEnd(80)} ${String(count).padStart(4)} reads, median ${median.toFixed(0)} ms`);
   const ratio = a.cpuPerRequestMs / f.cpuPerRequestMs;
   // Summary lines read by scripts/bench.ts (keep their shape).

@@ -85,6 +85,8 @@ export async function createTestApp(opts: TestAppOptions = {}) {
 
   async function close() {
     await (app.locals.imports as { close(): Promise<void> } | undefined)?.close();
+    // The report thread (its own connection to the file) goes before the file is removed.
+    await (app.locals.reports as { close(): Promise<void> } | null | undefined)?.close();
     await mailer.stop();
     await fake?.close();
     db.$client.close();

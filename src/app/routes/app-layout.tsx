@@ -1,7 +1,6 @@
-import type { QueryClient } from "@tanstack/react-query";
 import { useEffect, useState } from "react";
 import { useQuery } from "@tanstack/react-query";
-import { Link, NavLink, Outlet, redirect, useLocation, useNavigate, useNavigation, type LoaderFunctionArgs } from "react-router";
+import { Link, NavLink, Outlet, useLocation, useNavigate, useNavigation } from "react-router";
 import { can, ROLE_LABELS } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { StatusMark, type EntryStatus } from "@/components/ui/marks";
@@ -13,16 +12,7 @@ import { plantKeys } from "@/features/plant/api/plant.queries";
 import { plural } from "@/lib/format";
 import { useAppOutbox, useAppUpdate, useOnline } from "../provider";
 
-export function makeLoader(qc: QueryClient) {
-  return async ({ request }: LoaderFunctionArgs) => {
-    const me = await qc.ensureQueryData(authKeys.me());
-    if (!me) {
-      const url = new URL(request.url);
-      throw redirect(`/sign-in?next=${encodeURIComponent(url.pathname + url.search)}`);
-    }
-    return null;
-  };
-}
+// The frame's loader is in ./app-layout.loader.ts: the router holds it from the start.
 
 export { RouteError as ErrorBoundary } from "./route-error";
 

@@ -1,6 +1,6 @@
 import { useCallback } from "react";
-import { useQuery, type QueryClient } from "@tanstack/react-query";
-import { useSearchParams, type LoaderFunctionArgs } from "react-router";
+import { useQuery } from "@tanstack/react-query";
+import { useSearchParams } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -9,17 +9,9 @@ import { HeatFilters } from "@/features/heats/components/heat-filters";
 import { effectivePage, effectiveSort, readHeatListParams, writeHeatListParams } from "@/features/heats/components/heat-list-params";
 import { HeatsTable } from "@/features/heats/components/heats-table";
 import { plantKeys } from "@/features/plant/api/plant.queries";
-import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
-export function makeLoader(qc: QueryClient) {
-  return async ({ request }: LoaderFunctionArgs) => {
-    await requireCapability(qc, "heats.browse");
-    void qc.prefetchQuery(heatKeys.list(readHeatListParams(new URL(request.url).searchParams)));
-    void qc.prefetchQuery(plantKeys.setup());
-    return null;
-  };
-}
+// The screen's loader is in ./heats.loader.ts: the router holds it from the start.
 
 export function Component() {
   const [searchParams, setSearchParams] = useSearchParams();

@@ -1,0 +1,45 @@
+/** The messages between the main thread (report-thread.ts) and the report thread (report-thread-worker.ts). */
+import type { ReportCacheStatus } from "./report-cache";
+
+export interface ReportThreadData {
+  databaseFile: string;
+  logLevel: string;
+  /** The thread's nice value (0: as the server's). */
+  nice: number;
+}
+
+export type ToReportThread =
+  | { type: "changed"; slabIds: number[] | null }
+  | { type: "report"; id: number; kind: string; query: unknown; defaulted: string[] }
+  | { type: "start"; id: number; token: number; snapshotFile: string | null; sliceMs?: number }
+  | { type: "cache"; id: number; token: number; op: "whenReady" | "save" | "close"; version?: number }
+  | { type: "exit" };
+
+/** An error thrown in the thread: an HttpError keeps its status, code, words and details. */
+export type ThreadError =
+  | { http: true; status: number; code: string; message: string; details?: unknown }
+  | { http: false; message: string; stack?: string };
+
+export type FromReportThread =
+  | { type: "online" }
+  | { type: "log"; line: string }
+  | { type: "started"; id: number; kind: string }
+  | { type: "reply"; id: number; ok: true; value: unknown; status: ReportCacheStatus | null }
+  | { type: "reply"; id: number; ok: false; error: ThreadError; status: ReportCacheStatus | null };
+
+/**
+ * A term list the engineer left out is marked `defaulted` (shared/api/reports.ts: a property that is
+ * not enumerable, so it never shows in the JSON). Copying a message between threads keeps only
+ * enumerable properties: the keys of the marked lists go beside the query and the mark is put back there.
+ */
+export function defaultedKeys(query: unknown): string[] {
+  if (!query || typeof query !== "object") return [];
+  return Object.entries(query).filter(([, v]) => Array.isArray(v) && (v as { defaulted?: boolean }).defaulted === true).map(([k]) => k);
+}
+
+export function markDefaulted(query: unknown, keys: string[]) {
+  for (const k of keys) {
+    const v = (query as Record<string, unknown>)[k];
+    if (Array.isArray(v)) Object.defineProperty(v, "defaulted", { value: true });
+  }
+}

@@ -1,0 +1,124 @@
+/**
+ * The report thread itself (started by report-thread.ts): it owns the slab facts (report-cache.ts)
+ * on its own SQLite connection to the server's file and runs the reports that read them, so a
+ * report's second of arithmetic never holds up a defect being saved on the main thread.
+ *
+ * Everything comes through one port, in the order the main thread sent it: a change notice sent
+ * before a report is recorded before that report runs, so a report asked for after a write was
+ * answered sees the write. A report runs start to end in one turn; loading the facts after a start
+ * runs in slices in between (report-cache.ts), and the reports asked for meanwhile answer "warming up".
+ */
+import fs from "node:fs";
+import os from "node:os";
+import { parentPort, workerData } from "node:worker_threads";
+import { pino } from "pino";
+import { openDatabase } from "../db/client";
+import { HttpError } from "../lib/http-error";
+import { slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
+import { adjustedModel } from "./reports/adjusted";
+import { beforeAfter } from "./reports/before-after";
+import { controlChart } from "./reports/control-chart";
+import { overview } from "./reports/overview";
+import { processWindow } from "./reports/process-window";
+import { rateByVariable } from "./reports/rate-by-variable";
+import { screening } from "./reports/screening";
+import { markDefaulted, type FromReportThread, type ReportThreadData, type ThreadError, type ToReportThread } from "./report-thread-protocol";
+
+const REPORTS: Record<string, (db: ReturnType<typeof openDatabase>, query: never) => unknown> = {
+  overview,
+  "rate-by-variable": rateByVariable,
+  screening,
+  "process-window": processWindow,
+  "control-chart": controlChart,
+  "before-after": beforeAfter,
+  adjusted: adjustedModel,
+};
+
+const port = parentPort!;
+const data = workerData as ReportThreadData;
+const send = (m: FromReportThread) => port.postMessage(m);
+
+// Log lines go to the main thread, which writes them where its own go, in order with its replies
+// (a line written by this thread straight to stdout could be lost when the process exits).
+const logger = pino({ level: data.logLevel, base: { app: "strandsight" } }, { write: (line: string) => send({ type: "log", line }) });
+
+// The reports give way to the write path: this thread runs at a lower priority (nice), so a defect
+// being saved gets the processor first when both want it, and the reports take what is left. Linux
+// keeps the nice value per thread; setpriority with the thread's own id (from /proc/thread-self)
+// changes this thread alone. Elsewhere, or if refused, the thread runs at the normal priority.
+if (data.nice > 0) {
+  try {
+    const tid = Number(fs.readlinkSync("/proc/thread-self").split("/").pop());
+    if (Number.isInteger(tid) && tid > 0) os.setPriority(tid, data.nice);
+  } catch {
+    // not Linux, or not allowed: the normal priority
+  }
+}
+
+const db = openDatabase(data.databaseFile);
+/** The cache runs started by the main thread (startReportCache there), by its token. */
+const caches = new Map<number, ReportCacheHandle>();
+let current: ReportCacheHandle | null = null;
+
+const status = (): ReportCacheStatus | null => current?.status() ?? null;
+
+function asThreadError(err: unknown): ThreadError {
+  if (err instanceof HttpError) return { http: true, status: err.status, code: err.code, message: err.message, details: err.details };
+  const e = err as Error;
+  return { http: false, message: e?.message ?? String(err), stack: e?.stack };
+}
+
+async function handle(m: ToReportThread) {
+  switch (m.type) {
+    case "changed":
+      slabFactsChanged(db, m.slabIds ?? undefined);
+      return;
+    case "report": {
+      send({ type: "started", id: m.id, kind: m.kind });
+      try {
+        const run = REPORTS[m.kind];
+        if (!run) throw new Error(`no report ${m.kind} in the report thread`);
+        markDefaulted(m.query, m.defaulted);
+        const value = run(db, m.query as never);
+        send({ type: "reply", id: m.id, ok: true, value, status: status() });
+      } catch (err) {
+        send({ type: "reply", id: m.id, ok: false, error: asThreadError(err), status: status() });
+      }
+      return;
+    }
+    case "start": {
+      const h = startReportCache(db, { snapshotFile: m.snapshotFile, sliceMs: m.sliceMs, snapshotEveryMs: null, logger });
+      caches.set(m.token, h);
+      current = h;
+      send({ type: "reply", id: m.id, ok: true, value: null, status: status() });
+      return;
+    }
+    case "cache": {
+      const h = caches.get(m.token);
+      try {
+        let value: unknown = null;
+        if (h && m.op === "whenReady") await h.whenReady();
+        else if (h && m.op === "save") value = await h.saveSnapshot(m.version);
+        else if (h && m.op === "close") {
+          await h.close(m.version);
+          caches.delete(m.token);
+        } else if (!h && m.op === "save") value = "not ready";
+        send({ type: "reply", id: m.id, ok: true, value, status: h?.status() ?? status() });
+      } catch (err) {
+        send({ type: "reply", id: m.id, ok: false, error: asThreadError(err), status: status() });
+      }
+      return;
+    }
+    case "exit":
+      db.$client.close();
+      port.close();
+      return;
+  }
+}
+
+port.on("message", (m: ToReportThread) => {
+  // Reports and notices are synchronous: they run in arrival order. The cache's waits (whenReady,
+  // a snapshot being written) go on in the background while later messages are handled.
+  void handle(m).catch((err) => logger.error({ err }, "report thread message failed"));
+});
+send({ type: "online" });

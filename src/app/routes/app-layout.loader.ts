@@ -1,0 +1,19 @@
+import type { QueryClient } from "@tanstack/react-query";
+import { redirect, type LoaderFunctionArgs } from "react-router";
+import { authKeys } from "@/features/auth/api/session";
+
+/**
+ * The frame's loader: nobody signed in goes to the sign-in page. Apart from the frame's module so
+ * that the router can hold it from the start (src/app/router.tsx) and run it while the frame's code
+ * and the screen's code are still being fetched.
+ */
+export function makeLoader(qc: QueryClient) {
+  return async ({ request }: LoaderFunctionArgs) => {
+    const me = await qc.ensureQueryData(authKeys.me());
+    if (!me) {
+      const url = new URL(request.url);
+      throw redirect(`/sign-in?next=${encodeURIComponent(url.pathname + url.search)}`);
+    }
+    return null;
+  };
+}

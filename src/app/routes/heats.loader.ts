@@ -1,0 +1,19 @@
+import type { QueryClient } from "@tanstack/react-query";
+import type { LoaderFunctionArgs } from "react-router";
+import { heatKeys } from "@/features/heats/api/heats.queries";
+import { readHeatListParams } from "@/features/heats/components/heat-list-params";
+import { plantKeys } from "@/features/plant/api/plant.queries";
+import { requireCapability } from "../guard";
+
+/**
+ * The heats list's loader, apart from the screen's module (whose table code is large) so that the
+ * router can hold it from the start and ask for the list while that code is still being fetched.
+ */
+export function makeLoader(qc: QueryClient) {
+  return async ({ request }: LoaderFunctionArgs) => {
+    await requireCapability(qc, "heats.browse");
+    void qc.prefetchQuery(heatKeys.list(readHeatListParams(new URL(request.url).searchParams)));
+    void qc.prefetchQuery(plantKeys.setup());
+    return null;
+  };
+}
