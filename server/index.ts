@@ -13,7 +13,6 @@ import { describePathError, EXIT_CANNOT_START, StartupError } from "./lib/startu
 import { setupMail } from "./mail/setup";
 import { createNotifications } from "./mail/notifications";
 import { DEMO_USERS } from "./seed/catalogue";
-import { seedDemo } from "./seed/seed";
 import { knownPhotoFiles } from "./services/defects.service";
 import { cleanupOrphanFiles } from "./services/photos.service";
 import { startReportCache } from "./services/report-cache";
@@ -100,6 +99,8 @@ async function main() {
   const seed = env.SEED_DEMO ?? (empty && env.NODE_ENV !== "production");
   if (seed) {
     console.log("Seeding the invented demo plant…");
+    // The seed (and its random generators and photo code) is loaded only when it runs.
+    const { seedDemo } = await import("./seed/seed");
     const result = await seedDemo(db, auth, { password: env.DEMO_PASSWORD, uploadDir: path.resolve(env.UPLOAD_DIR), scale: env.SEED_SCALE });
     console.log(`Demo plant ready in ${result.seconds.toFixed(1)} s`, result.production ?? "(already there)");
   }
@@ -124,8 +125,15 @@ async function main() {
   // other request are answered meanwhile; reports say "warming up"): from the snapshot written at the
   // last stop when it is whole and current, else from the database (≈ 6 s per million slabs).
   const reportCache = startReportCache(db, { snapshotFile: snapshotFileFor(path.resolve(env.DATABASE_FILE)), logger });
-  // The first import thread starts now, not on the first import or feed call.
-  void (app.locals.imports as { warm(): Promise<void> }).warm();
+  // The first import thread starts once the report facts are in (or after 10 s), not on the first
+  // import or feed call — and not while sign-in and the yard's first requests need the cores.
+  const warmImports = () => void (app.locals.imports as { warm(): Promise<void> }).warm();
+  const warmTimer = setTimeout(warmImports, 10_000);
+  warmTimer.unref();
+  void reportCache.whenReady().then(() => {
+    clearTimeout(warmTimer);
+    warmImports();
+  });
   console.log(`\nStrandsight is running: ${env.BETTER_AUTH_URL}`);
   if (demoUsers) {
     console.log(`Demo sign-ins (password: ${env.DEMO_PASSWORD === "strandsight-demo" ? "strandsight-demo" : "the DEMO_PASSWORD you set"}):`);

@@ -9,7 +9,7 @@
 import fs from "node:fs";
 import { Readable } from "node:stream";
 import { parse as parseCsv } from "csv-parse";
-import { fileTypeFromFile } from "file-type";
+import { loadFileType } from "../lib/lazy-packages";
 import { IMPORT_COLUMNS, IMPORT_LIMITS, type ImportKind } from "@shared/api/imports";
 import { HttpError } from "../lib/http-error";
 import { readXlsxFile, type Limits } from "./read-xlsx";
@@ -35,7 +35,7 @@ const fmt = (n: number) => n.toLocaleString("en-GB");
 export async function readTable(file: string, limits: Limits = IMPORT_LIMITS): Promise<Table> {
   const size = (await fs.promises.stat(file)).size;
   if (size === 0) throw new HttpError(400, "empty_file", "The file is empty.");
-  const type = await fileTypeFromFile(file);
+  const type = await (await loadFileType()).fileTypeFromFile(file);
   if (type?.ext === "xlsx") return readXlsxFile(file, limits);
   // file-type looks at the first zip entries only; some writers (exceljs's own streaming writer
   // among them) put the workbook parts later. The reader then finds them in the central directory.

@@ -4,7 +4,7 @@
  * to it over a real SMTP connection unless SMTP_URL names another server.
  */
 import { SMTPServer } from "smtp-server";
-import { simpleParser } from "mailparser";
+import { loadMailParser } from "../lib/lazy-packages";
 import type { AddressInfo } from "node:net";
 import type { Db } from "../db/client";
 import type { Logger } from "../lib/logger";
@@ -28,7 +28,8 @@ export async function startFakeSmtp(opts: { db: Db; logger: Logger; host?: strin
       stream.on("data", (c: Buffer) => chunks.push(c));
       stream.on("end", () => {
         const raw = Buffer.concat(chunks);
-        simpleParser(raw)
+        loadMailParser()
+          .then(({ simpleParser }) => simpleParser(raw))
           .then((mail) => {
             insert.run(
               Date.now(),

@@ -6,7 +6,8 @@
  */
 import fs from "node:fs";
 import path from "node:path";
-import ExcelJS from "exceljs";
+import type ExcelJS from "exceljs";
+import { loadExcelJS } from "../lib/lazy-packages";
 import type { HeatHistory, Trace } from "@shared/api/claims";
 import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, STAGE_LABELS, type Disposition, type Face, type Severity, type Stage } from "@shared/domain";
 import type { Db } from "../db/client";
@@ -224,7 +225,7 @@ export interface WorkbookOptions {
 }
 
 export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookOptions): Promise<Buffer> {
-  const wb = new ExcelJS.Workbook();
+  const wb = new (await loadExcelJS()).Workbook();
   wb.creator = "Strandsight";
   wb.created = new Date(hist.generatedAt);
   const h = hist.heat;

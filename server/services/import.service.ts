@@ -1,5 +1,6 @@
 import crypto from "node:crypto";
-import ExcelJS from "exceljs";
+import type ExcelJS from "exceljs";
+import { loadExcelJS } from "../lib/lazy-packages";
 import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ImportKind, type ImportResult, type ImportRun } from "@shared/api/imports";
 import type { Db } from "../db/client";
 import { coerceTable, ErrorList } from "../import/coerce";
@@ -157,7 +158,7 @@ const EXAMPLES: Record<ImportKind, Record<string, string | number | boolean | Da
 
 /** A template workbook: the header with one example row, and a second sheet describing each column. */
 export async function buildTemplate(kind: ImportKind): Promise<Buffer> {
-  const wb = new ExcelJS.Workbook();
+  const wb = new (await loadExcelJS()).Workbook();
   wb.creator = "Strandsight";
   const columns = IMPORT_COLUMNS[kind];
   const data = wb.addWorksheet("Data", { views: [{ state: "frozen", ySplit: 1 }] });

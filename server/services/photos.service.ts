@@ -14,8 +14,8 @@ import fs from "node:fs";
 import path from "node:path";
 import { pipeline } from "node:stream/promises";
 import pLimit from "p-limit";
-import sharp from "sharp";
-import { fileTypeFromBuffer, fileTypeFromFile } from "file-type";
+import type sharp from "sharp";
+import { loadFileType, loadSharp } from "../lib/lazy-packages";
 import { HttpError } from "../lib/http-error";
 import { storeError } from "../middleware/uploads";
 
@@ -83,6 +83,7 @@ export function admitPhotoDecodes(count: number) {
 
 /** Content sniffing and header checks only (no full decode): fast, and safe against bombs. */
 export async function checkPhoto(input: PhotoInput, originalName: string): Promise<CheckedPhoto> {
+  const { fileTypeFromBuffer, fileTypeFromFile } = await loadFileType();
   const type = typeof input === "string" ? await fileTypeFromFile(input) : await fileTypeFromBuffer(input);
   const name = originalName.slice(0, 120);
   if (type && (type.mime === "image/heic" || type.mime === "image/heif" || type.ext === "heic")) {
@@ -97,7 +98,7 @@ export async function checkPhoto(input: PhotoInput, originalName: string): Promi
   }
   let meta: Awaited<ReturnType<ReturnType<typeof sharp>["metadata"]>>;
   try {
-    meta = await sharp(input, { limitInputPixels: false }).metadata();
+    meta = await (await loadSharp())(input, { limitInputPixels: false }).metadata();
   } catch {
     throw new HttpError(415, "not_an_image", `${name} could not be read as an image; it may be damaged.`);
   }
@@ -155,6 +156,7 @@ async function storeNow(uploadDir: string, photo: CheckedPhoto): Promise<StoredP
   try {
     // One full decode (the costly part), then both sizes from the ≤ 2048 px pixels, one step at a
     // time, so a photo holds one of libuv's threads, never two.
+    const sharp = await loadSharp();
     const { data, info } = await sharp(photo.input, { limitInputPixels: PHOTO_MAX_PIXELS, failOn: "error" })
       .autoOrient()
       .resize({ width: DISPLAY_MAX_PX, height: DISPLAY_MAX_PX, fit: "inside", withoutEnlargement: true })

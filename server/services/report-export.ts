@@ -4,7 +4,8 @@
  * "Parameters" sheet (the filters, who and when, the methods and the cautions); each table gets a
  * sheet with units in the headers, number formats, a frozen header row and an autofilter.
  */
-import ExcelJS from "exceljs";
+import type ExcelJS from "exceljs";
+import { loadExcelJS } from "../lib/lazy-packages";
 import { guardSheet } from "../lib/cells";
 import type { CausePareto } from "@shared/api/causes";
 import type { Adjusted, BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
@@ -789,7 +790,7 @@ function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
 }
 
 export async function reportWorkbook(kind: string, query: string, result: unknown, by: string, method: string[] = []): Promise<Buffer> {
-  const wb = new ExcelJS.Workbook();
+  const wb = new (await loadExcelJS()).Workbook();
   wb.creator = "Strandsight";
   wb.created = new Date();
   const params = wb.addWorksheet("Parameters");

@@ -108,12 +108,19 @@ function toYardSlabs(db: Db, rows: Row[]): YardSlab[] {
 export function yardSyncSet(db: Db, user: Actor, now = Date.now()): YardSync {
   const { syncWindowHours } = getYardSettings(db);
   const params = { from: now - syncWindowHours * HOUR, horizon: now - YARD_UNINSPECTED_MAX_DAYS * DAY, cap: YARD_SYNC_MAX_SLABS };
-  const picked = `select s.id from slabs s where s.cast_at >= @from
-    union select s.id from slabs s where s.cast_at >= @horizon and not ${LIVE_ENTRY} and not ${ROLLED}`;
+  // One range of the cast-time index (the window lies inside the horizon), walked backwards for the
+  // newest: a union of the two sets made SQLite scan the whole slab table twice (0.4 s at 1 M slabs).
+  const picked = `s.cast_at >= @horizon and (s.cast_at >= @from or (not ${LIVE_ENTRY} and not ${ROLLED}))`;
   const c = db.$client;
-  const matched = c.prepare(`select count(*) from (${picked})`).pluck().get(params) as number;
+  const matched = c.prepare(`select count(*) from slabs s where ${picked}`).pluck().get(params) as number;
+  // The newest ids first, then their rows: CROSS JOIN keeps SQLite's join order (left to right);
+  // left to itself it started from the strands and sorted the whole 90 days (0.2 s at 1 M slabs).
   const rows = c
-    .prepare(`select ${SLAB_COLUMNS} from slabs s ${SLAB_JOINS} where s.id in (${picked}) order by s.cast_at desc, s.id desc limit @cap`)
+    .prepare(
+      `select ${SLAB_COLUMNS} from (select s.id from slabs s where ${picked} order by s.cast_at desc, s.id desc limit @cap) k
+       cross join slabs s on s.id = k.id cross join heats h on h.id = s.heat_id cross join grades g on g.id = h.grade_id
+       cross join strands st on st.id = s.strand_id order by s.cast_at desc, s.id desc`,
+    )
     .all(params) as Row[];
   const mine = listDefects(db, user, {
     mine: true,
