@@ -15,7 +15,7 @@ import type { Logger } from "../lib/logger";
 import { slabFactsChanged } from "../services/report-cache";
 import type { ImportOutcome, ImportTask } from "./import-worker";
 import type { Limits } from "./read-xlsx";
-import { COMPILED } from "../lib/paths";
+import { threadEntry } from "../lib/paths";
 
 export interface ImportPoolOptions {
   /** Imports running at once (default 2: the rest of the plant keeps a core). */
@@ -51,7 +51,7 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
       const p = new Piscina({
         // From the sources, a small .mjs entry registers tsx in the thread first; the compiled
         // server (build/server) has the worker compiled beside it.
-        filename: new URL(COMPILED ? "./import-worker.js" : "./import-worker.mjs", import.meta.url).href,
+        filename: threadEntry("import-worker.js", "./import-worker.mjs", import.meta.url).href,
         // One thread always alive: piscina replaces a thread that died (out of memory, stopped)
         // only up to minThreads, and with none left the imports waiting would never start. It also
         // answers the level-2 feed's frequent small calls without starting again.

@@ -27,7 +27,7 @@ import { Worker } from "node:worker_threads";
 import type { Db } from "../db/client";
 import { HttpError } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
-import { COMPILED } from "../lib/paths";
+import { threadEntry } from "../lib/paths";
 import { ensureChangeCounter } from "./report-cache-snapshot";
 import { linkReportThread, type ReportCacheHandle, type ReportCacheOptions, type ReportCacheStatus } from "./report-cache";
 import { defaultedKeys, type FromReportThread, type ReportThreadData, type ThreadError, type ToReportThread } from "./report-thread-protocol";
@@ -75,7 +75,7 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
 
   function spawn(): Worker {
     const data: ReportThreadData = { databaseFile: sqlite.name, logLevel: opts.logger?.level ?? "silent", nice: opts.nice ?? 10 };
-    const w = new Worker(new URL(COMPILED ? "./report-thread.js" : "./report-thread-entry.mjs", import.meta.url), {
+    const w = new Worker(threadEntry("report-thread.js", "./report-thread-entry.mjs", import.meta.url), {
       workerData: data,
       resourceLimits: { maxOldGenerationSizeMb: heapMb },
     });
