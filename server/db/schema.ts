@@ -3,6 +3,7 @@
 // plugin's columns); everything after them is the plant.
 import { sql } from "drizzle-orm";
 import {
+  check,
   index,
   integer,
   primaryKey,
@@ -871,4 +872,20 @@ export const slabRisks = sqliteTable(
     scoredAt: integer("scored_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
   },
   (t) => [primaryKey({ columns: [t.slabId, t.modelId] }), index("slab_risks_model_risk_idx").on(t.modelId, t.risk)],
+);
+
+/**
+ * One row: this database's id (random, made once) and a counter of every change of slab_conditions,
+ * kept by triggers (drizzle/0008_report_cache_counter.sql). The report cache's snapshot is checked
+ * against both at start (server/services/report-cache-snapshot.ts), so a snapshot of another database
+ * or one older than the last change is never used.
+ */
+export const reportCacheState = sqliteTable(
+  "report_cache_state",
+  {
+    id: integer("id").primaryKey(),
+    databaseId: text("database_id").notNull(),
+    version: integer("version").notNull(),
+  },
+  () => [check("report_cache_state_one_row", sql`id = 1`)],
 );

@@ -80,23 +80,12 @@ export function gradeFamilies(sqlite: Database.Database): [number, number][] {
   return sqlite.prepare("select id, coalesce(family_id, 0) from grades order by id").raw().all() as [number, number][];
 }
 
-/**
- * The change counter the snapshot is checked against: a one-row table and three triggers on
- * slab_conditions, created once (idempotent) by the running server. A count kept by SQLite itself
- * rather than by this process: it also counts what other connections and programs write, in the
- * same transaction as the write, so no crash can leave it behind the data. Costs one small update
- * per row written to slab_conditions. Written here because SQLite keeps no persistent change count
- * of its own (PRAGMA data_version lives only as long as a connection).
- */
-export function ensureChangeCounter(sqlite: Database.Database) {
-  sqlite.exec(`
-    create table if not exists report_cache_state (id integer primary key check (id = 1), database_id text not null, version integer not null);
-    insert or ignore into report_cache_state (id, database_id, version) values (1, lower(hex(randomblob(16))), 0);
-    create trigger if not exists report_cache_count_insert after insert on slab_conditions begin update report_cache_state set version = version + 1 where id = 1; end;
-    create trigger if not exists report_cache_count_update after update on slab_conditions begin update report_cache_state set version = version + 1 where id = 1; end;
-    create trigger if not exists report_cache_count_delete after delete on slab_conditions begin update report_cache_state set version = version + 1 where id = 1; end;
-  `);
-}
+// The change counter the snapshot is checked against is a one-row table (report_cache_state) and
+// three triggers on slab_conditions, made by a migration (drizzle/0008_report_cache_counter.sql). A
+// count kept by SQLite itself rather than by this process: it also counts what other connections and
+// programs write, in the same transaction as the write, so no crash can leave it behind the data.
+// Costs one small update per row written to slab_conditions. SQLite keeps no persistent change count
+// of its own (PRAGMA data_version lives only as long as a connection).
 
 /** The database's side of the fingerprint (no pass over the rows: the counter, the highest id, the grades). */
 export function databaseFingerprint(sqlite: Database.Database, slabs: number): Fingerprint {
@@ -132,7 +121,6 @@ export const snapshotFileFor = (databaseFile: string) => `${databaseFile}.report
  * every change it told before is in the facts; a change written since would otherwise be claimed).
  */
 export async function writeSnapshot(sqlite: Database.Database, f: SlabFacts, file: string, version?: number): Promise<{ bytes: number }> {
-  ensureChangeCounter(sqlite);
   const size = f.size;
   const columns = COLUMN_NAMES.map((name) => ({ name, data: columnOf(f, name) }));
   const header: Header = {
@@ -251,8 +239,7 @@ export async function readSnapshot(
     // Current? Checked before the columns are read: a stale snapshot costs neither the reading nor
     // the memory of a second set of columns beside the rebuilt one.
     opts.progress?.("checking", 0, size);
-    ensureChangeCounter(sqlite);
-    const difference = fingerprintDifference(header.fingerprint, databaseFingerprint(sqlite, size));
+      const difference = fingerprintDifference(header.fingerprint, databaseFingerprint(sqlite, size));
     if (difference) return { facts: null, reason: `the snapshot is out of date: ${difference}` };
 
     const capacity = opts.capacityFor(size);

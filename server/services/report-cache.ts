@@ -25,7 +25,7 @@ import type { Db } from "../db/client";
 import { HttpError } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 import { allocate, buildCapacity, ensureCapacity, ensureIndex, put, SELECT_COLUMNS, factsBytes, columnKinds, type FactRow, type SlabFacts } from "./report-cache-columns";
-import { ensureChangeCounter, readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
+import { readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
 export { exactColumn, exactValue, FACT_VARIABLES, VARIABLE_SCALE, type IdColumn, type SlabFacts, type ValueColumn } from "./report-cache-columns";
 
@@ -345,8 +345,6 @@ export interface ReportCacheOptions {
  */
 export function startReportCache(db: Db, opts: ReportCacheOptions): ReportCacheHandle {
   const sqlite = db.$client;
-  // From now on SQLite counts every change of slab_conditions (what the snapshot is checked against).
-  ensureChangeCounter(sqlite);
   const s = stateOf(sqlite);
   const link = links.get(sqlite);
   if (link) {

@@ -28,7 +28,6 @@ import type { Db } from "../db/client";
 import { HttpError } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 import { threadEntry } from "../lib/paths";
-import { ensureChangeCounter } from "./report-cache-snapshot";
 import { linkReportThread, type ReportCacheHandle, type ReportCacheOptions, type ReportCacheStatus } from "./report-cache";
 import { defaultedKeys, type FromReportThread, type ReportThreadData, type ThreadError, type ToReportThread } from "./report-thread-protocol";
 
@@ -218,7 +217,6 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
     },
 
     startCache(o: ReportCacheOptions): ReportCacheHandle {
-      ensureChangeCounter(sqlite);
       const run: CacheRun = { token: nextToken++, opts: o, status: { ...WARMING }, closed: false };
       cache = run;
       const started = request({ type: "start", id: nextId++, token: run.token, snapshotFile: o.snapshotFile, sliceMs: o.sliceMs });
