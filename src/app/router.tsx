@@ -52,7 +52,7 @@ function earlyScreen(qc: QueryClient, makeLoader: (qc: QueryClient) => LoaderFun
 }
 
 /**
- * A report screen (one whose module's loader is `makeReportLoader(kind)` alone): its data, and the
+ * A report screen (its data come through `makeReportLoader(kind)`, held here, not in its module): its data, and the
  * chart code every report draws — the largest file of the screen, which the view would otherwise ask
  * for only once the answer has come and been drawn as a table. The report loader's own code is a
  * small chunk fetched beside the screen's (kept out of the first script every screen loads, the

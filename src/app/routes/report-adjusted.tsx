@@ -2,12 +2,11 @@ import { termLabel } from "@shared/api/reports";
 import { AdjustedSettings, AdjustedView } from "@/features/reports/components/adjusted-view";
 import { describeFilters, listOf } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
-import { makeReportLoader, useReportScreen } from "../report-frame";
+import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "adjusted" as const;
 
-export const makeLoader = makeReportLoader(KIND);
 
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);

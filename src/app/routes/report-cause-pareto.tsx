@@ -14,12 +14,11 @@ import { describeFilters, FILTER_KEYS, type ReportParams } from "@/features/repo
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
 import { Choice, SettingsRow } from "@/features/reports/components/settings";
 import { slabKeys } from "@/features/slabs/api/slabs.queries";
-import { makeReportLoader, useReportScreen } from "../report-frame";
+import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "cause-pareto" as const;
 
-export const makeLoader = makeReportLoader(KIND);
 
 const CONFIDENCE_OPTIONS = [
   { value: "suspected", label: "Every tagging" },

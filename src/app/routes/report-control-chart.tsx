@@ -1,12 +1,11 @@
 import { ControlChartSettings, ControlChartView } from "@/features/reports/components/control-chart-view";
 import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
-import { makeReportLoader, useReportScreen } from "../report-frame";
+import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "control-chart" as const;
 
-export const makeLoader = makeReportLoader(KIND);
 
 const CHART_NAMES: Record<string, string> = { p: "p-chart", laney: "Laney p′ chart", u: "u-chart" };
 

@@ -2,12 +2,11 @@ import { OverviewView } from "@/features/reports/components/overview-view";
 import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
 import { PeriodChoice, SettingsRow, StandardiseChoice } from "@/features/reports/components/settings";
-import { makeReportLoader, useReportScreen } from "../report-frame";
+import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "overview" as const;
 
-export const makeLoader = makeReportLoader(KIND);
 
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);

@@ -5,12 +5,11 @@ import { describeFilters, joinList, listOf } from "@/features/reports/components
 import { TermPick } from "@/features/reports/components/term-pick";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
 import { Choice, MIN_N_OPTIONS, numberOptions, SettingsRow, VariableSelect, variableOf } from "@/features/reports/components/settings";
-import { makeReportLoader, useReportScreen } from "../report-frame";
+import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "rate-by-variable" as const;
 
-export const makeLoader = makeReportLoader(KIND);
 
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);

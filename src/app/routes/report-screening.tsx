@@ -2,12 +2,11 @@ import { termConflict } from "@shared/api/reports";
 import { describeFilters, FILTER_KEYS, listOf, reportPath, reportQueryString, readReportParams } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
 import { ScreeningSettings, ScreeningView } from "@/features/reports/components/screening-view";
-import { makeReportLoader, useReportScreen } from "../report-frame";
+import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "screening" as const;
 
-export const makeLoader = makeReportLoader(KIND);
 
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);

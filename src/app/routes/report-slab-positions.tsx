@@ -2,12 +2,11 @@ import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
 import { Choice, numberOptions, SettingsRow } from "@/features/reports/components/settings";
 import { SlabPositionsView } from "@/features/reports/components/slab-positions-view";
-import { makeReportLoader, useReportScreen } from "../report-frame";
+import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "slab-positions" as const;
 
-export const makeLoader = makeReportLoader(KIND);
 
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);
