@@ -37,6 +37,9 @@ import { apiTokenContext } from "./middleware/api-token";
 import { requireRole } from "./middleware/require-role";
 import { createImportPool, type ImportPool } from "./import/import-pool";
 import { createReportThread, type ReportThread } from "./services/report-thread";
+import { riskRoutes } from "./routes/risk.routes";
+import { onSlabFactsChangedOn } from "./services/report-cache";
+import { scoreOnArrival } from "./services/risk/risk.service";
 import { IMPORT_KINDS, IMPORT_MAX_BYTES } from "@shared/api/imports";
 import { assertTokenAllows } from "./services/tokens.service";
 import { plantRoutes } from "./routes/plant.routes";
@@ -97,7 +100,7 @@ export function collectRoutes(deps: Deps): AnyRoute[] {
   return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
     ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps),
     ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps), ...claimRoutes(deps),
-    ...yardRoutes(deps)];
+    ...yardRoutes(deps), ...riskRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {
@@ -112,6 +115,8 @@ export function createApp(opts: AppOptions) {
   // first use). An in-memory database cannot be opened by a second thread: its reports run here.
   const reports = opts.reports ?? (db.$client.memory ? null : createReportThread(db, { logger }));
   const deps: Deps = { db, auth, env, logger, events, mailer, notify, imports };
+  // Slabs whose conditions arrive or change are scored by the active risk models at once.
+  onSlabFactsChangedOn(db, scoreOnArrival(db, logger));
   // Each pass of the mail worker first queues reminders for actions that fell overdue (an indexed look-up).
   mailer.onPass((now) => void queueOverdueReminders(db, notify, now));
   const app = express();

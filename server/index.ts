@@ -17,6 +17,7 @@ import { knownPhotoFiles } from "./services/defects.service";
 import { cleanupOrphanFiles } from "./services/photos.service";
 import { startReportCache } from "./services/report-cache";
 import { snapshotFileFor } from "./services/report-cache-snapshot";
+import { recoverRiskTraining, scoreUnscoredSlabs } from "./services/risk/risk.service";
 
 /** When this process began: no file written before it can be an upload this process has in flight. */
 const processStartedAt = Date.now();
@@ -105,6 +106,8 @@ async function main() {
     console.log(`Demo plant ready in ${result.seconds.toFixed(1)} s`, result.production ?? "(already there)");
   }
 
+  // A risk model left "training" by a stop says so; one that never finished is trained again by hand.
+  recoverRiskTraining(db);
   const app = createApp({ db, auth, env, logger, trustedOrigins: devOrigins, mailer, notify });
   mailer.start(env.MAIL_POLL_MS);
   logger.info({ to: mailer.describe() }, "mail worker started");
@@ -124,6 +127,15 @@ async function main() {
   // The reports' in-memory slab facts load after the server listens (sign-in, the yard and every
   // other request are answered meanwhile; reports say "warming up"): from the snapshot written at the
   // last stop when it is whole and current, else from the database (≈ 6 s per million slabs).
+  // Slabs that arrived without being scored (a stop between an import and its scoring) are scored now.
+  setImmediate(() => {
+    try {
+      const n = scoreUnscoredSlabs(db);
+      if (n) logger.info({ scored: n }, "slabs scored by the active risk models at start");
+    } catch (err) {
+      logger.error({ err }, "risk scoring at start failed");
+    }
+  });
   const reportCache = startReportCache(db, { snapshotFile: snapshotFileFor(path.resolve(env.DATABASE_FILE)), logger });
   // The first import thread starts once the report facts are in (or after 10 s), not on the first
   // import or feed call — and not while sign-in and the yard's first requests need the cores.

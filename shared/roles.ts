@@ -26,6 +26,12 @@ export const CAPABILITIES = {
   "defects.review": ["quality", "admin"],
   "catalogue.manage": ["quality", "admin"],
   "reports.read": ["quality", "process", "claims", "admin"],
+  /** Train risk models and switch them on. */
+  "risk.train": ["quality", "admin"],
+  /** Read risk models' versions and validation. */
+  "risk.models.read": ["quality", "process", "admin"],
+  /** Read slabs' risks (the inspector's check-first list included). */
+  "risk.read": ["inspector", "quality", "process", "claims", "admin"],
   "imports.run": ["process", "admin"],
   "setup.manage": ["process", "admin"],
   "causes.tag": ["process", "admin"],

@@ -849,6 +849,12 @@ export const riskModels = sqliteTable(
     trainedByName: text("trained_by_name"),
     createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
     finishedAt: integer("finished_at", { mode: "timestamp_ms" }),
+    /** Risks at or above these are "high" (top 10 % of the test slabs) / "raised" (the next 20 %). */
+    bandHigh: real("band_high"),
+    bandRaised: real("band_raised"),
+    /** The last switching on (audited as well). */
+    activatedAt: integer("activated_at", { mode: "timestamp_ms" }),
+    activatedByName: text("activated_by_name"),
   },
   (t) => [
     uniqueIndex("risk_models_target_version_uq").on(t.targetKind, t.targetCode, t.version),

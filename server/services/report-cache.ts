@@ -107,6 +107,19 @@ export function linkReportThread(db: Db, link: ReportThreadLink): () => void {
 /** The report thread linked to this connection, if any (none: reports run here, as in tests of the cache). */
 export const reportThreadOf = (db: Db): ReportThreadLink | undefined => links.get(db.$client);
 
+const changeHooks = new WeakMap<Database.Database, FactsListener>();
+
+/**
+ * Hears the changes of slab conditions made on this connection or told to it (an import thread's),
+ * after the cache has — the risk scoring (services/risk/risk.service.ts) listens here. One per connection.
+ */
+export function onSlabFactsChangedOn(db: Db, hook: FactsListener): () => void {
+  changeHooks.set(db.$client, hook);
+  return () => {
+    if (changeHooks.get(db.$client) === hook) changeHooks.delete(db.$client);
+  };
+}
+
 /** Past this many changed slabs a rebuild is cheaper than reading each one again. */
 const PATCH_LIMIT = 50_000;
 
@@ -121,6 +134,12 @@ export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
   if (link) {
     const ids = slabIds ? [...slabIds] : null;
     link.changed(ids);
+    slabIds = ids ?? undefined;
+  }
+  const hook = changeHooks.get(db.$client);
+  if (hook) {
+    const ids = slabIds ? [...slabIds] : null;
+    hook(ids);
     slabIds = ids ?? undefined;
   }
   const s = stateOf(db.$client);

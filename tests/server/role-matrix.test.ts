@@ -4,6 +4,7 @@ import path from "node:path";
 import request from "supertest";
 import type { AnyRoute } from "../../server/lib/route";
 import { ROLES, type Role } from "../../shared/roles";
+import { buildConfoundedPlant } from "../helpers/confounded-plant";
 import { createTestApp, type TestApp } from "../helpers/test-app";
 
 /**
@@ -317,7 +318,20 @@ Object.assign(matrix, {
   "GET /yard/slabs/:slabId": { allowed: LOGGERS, sample: (t) => ({ path: `/api/yard/slabs/${firstSlab(t)}` }) },
   "GET /yard/settings": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/yard/settings" }) },
   "PUT /yard/settings": { allowed: SETUP, sample: () => ({ path: "/api/yard/settings", body: { syncWindowHours: 48 } }) },
+  "POST /risk-models": {
+    allowed: ["quality", "admin"],
+    sample: () => ({ path: "/api/risk-models", body: { targetKind: "type", targetCode: "SLG", conditions: ["mold_level_sd_mm", "superheat_c"], categories: ["grade_family"], knots: 3 } }),
+  },
+  "GET /risk-models": { allowed: ["quality", "process", "admin"], sample: () => ({ path: "/api/risk-models" }) },
+  "GET /risk-models/:id": { allowed: ["quality", "process", "admin"], sample: (t) => ({ path: `/api/risk-models/${goodModel(t)}` }) },
+  "POST /risk-models/:id/activate": { allowed: ["quality", "admin"], sample: (t) => ({ path: `/api/risk-models/${goodModel(t)}/activate` }) },
+  "GET /risk/slabs": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/risk/slabs?uninspected=true" }) },
 } satisfies Record<string, Row>);
+
+/** The newest trained version that beats its baseline (the POST /risk-models row trains one before it is asked for). */
+function goodModel(t: TestApp) {
+  return (t.db.$client.prepare("select id from risk_models where status = 'ready' and beats_baseline = 1 order by id desc limit 1").pluck().get() as number | undefined) ?? 0;
+}
 
 function firstStrand(t: TestApp) {
   return t.db.$client.prepare("select id from strands order by id limit 1").pluck().get() as number;
@@ -334,7 +348,9 @@ const key = (r: AnyRoute) => `${r.method.toUpperCase()} ${r.path}`;
 const routes = () => t.app.locals.routes as AnyRoute[];
 
 beforeAll(async () => {
-  t = await createTestApp({ scale: 0.01 });
+  // Beside the demo plant, a history a risk model can learn from (slag spots driven by mold-level
+  // fluctuation and superheat), ending a month ago so every slab has passed the yard.
+  t = await createTestApp({ scale: 0.01, beforeStart: (db) => void buildConfoundedPlant(db, { heats: 400, start: Date.now() - 30 * 86_400_000 - 400 * 90 * 60_000 }) });
   agents = {} as Record<Role, request.Agent>;
   for (const role of ROLES) agents[role] = await t.agentFor(role);
   tinyPng = await (await import("sharp")).default({ create: { width: 8, height: 8, channels: 3, background: "#468" } }).png().toBuffer();

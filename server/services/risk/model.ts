@@ -101,6 +101,8 @@ export interface TrainedModel {
   /** True when the model beats the baseline on the test slabs (its AUC interval lies above the baseline's AUC). */
   beatsBaseline: boolean;
   method: string;
+  /** Risk thresholds of the bands, from the test slabs (90th and 70th percentiles); null when not fitted. */
+  bands: { high: number; raised: number } | null;
 }
 
 export const DEFAULT_LAMBDAS = [0, 0.5, 2, 8, 32, 128, 512];
@@ -295,13 +297,16 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
     splitAt: test.length ? data.castAt[test[0]!]! : null,
     notes,
   };
+  // Bands from the test slabs' risks: "high" from the 90th percentile up, "raised" from the 70th.
+  const sortedRisk = Float64Array.from(risk).sort();
+  const bands = fit.converged && sortedRisk.length >= 10 ? { high: quantileSorted(sortedRisk, 0.9), raised: quantileSorted(sortedRisk, 0.7) } : null;
   const beatsBaseline = validation.aucCiLower !== null && validation.baselineAuc !== null && validation.aucCiLower > validation.baselineAuc;
   const method =
     `Penalised logistic regression (ridge on column variances, λ = ${lambda} chosen by ${folds}-fold rolling-origin cross-validation on the older slabs${thin > 1 ? ` (every ${thin}th of them)` : ""} by out-of-fold deviance); ` +
     `numeric conditions as restricted cubic splines with ${knots} knots at Harrell's quantiles, missing values at the training median; categories as indicators against their most common level. ` +
     `Validated on the newest ${Math.round(testShare * 100)} % of slabs by cast time, never seen in training: ${auc?.method ?? "AUC not computed"}; Brier score; ${cal?.method ?? "calibration not computed"}. ` +
     `Baseline: each slab's grade-family rate in the training part.`;
-  return { terms, lambda, effectiveDf: fit.effectiveDf, validation, path, beatsBaseline, method };
+  return { terms, lambda, effectiveDf: fit.effectiveDf, validation, path, beatsBaseline, method, bands };
 }
 
 export interface Reason {

@@ -1,0 +1,440 @@
+/**
+ * Slab risk before inspection (issue 15): model versions (train, list, switch on), scoring of slabs by
+ * the active models, and the ranked list of slabs.
+ *
+ * Training runs in a thread of its own (train-worker.ts) at a lower priority; the request that asked
+ * for it waits for the answer while the server goes on answering everyone else, and the version's
+ * row shows the progress to anyone who looks (GET /api/risk-models). One training at a time.
+ *
+ * Scoring: every slab cast in the last YARD_UNINSPECTED_MAX_DAYS that has no risk under an active
+ * model is scored — right after an import or feed call has written slabs, when a model is switched
+ * on, and at every start. Because the rule is "whatever has no score yet", a crash between an import
+ * and its scoring leaves nothing unscored after the restart.
+ */
+import { Worker } from "node:worker_threads";
+import type { Db } from "../../db/client";
+import { HttpError } from "../../lib/http-error";
+import type { Logger } from "../../lib/logger";
+import { threadEntry } from "../../lib/paths";
+import { recordAudit } from "../audit.service";
+import { VARIABLES } from "@shared/variables";
+import { RISK_CATEGORY_LABELS, type RiskBand, type RiskModel, type RiskReason, type SlabRisk, type TrainRiskModelBody } from "@shared/api/risk";
+import { YARD_UNINSPECTED_MAX_DAYS } from "@shared/api/yard";
+import { explain, type ModelTerms, type TrainedModel } from "./model";
+import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
+import { slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
+
+const DAY = 86_400_000;
+/** A training that has not finished after this long is stopped (a million slabs take ≈ 20 s). */
+const TRAIN_TIMEOUT_MS = 15 * 60_000;
+/** The reasons kept per slab: the terms that raise its risk most. */
+const REASONS_KEPT = 3;
+
+interface Row {
+  id: number;
+  target_kind: "type" | "category";
+  target_code: string;
+  version: number;
+  spec: string;
+  status: "training" | "ready" | "failed";
+  progress: number;
+  progress_text: string | null;
+  error: string | null;
+  terms: string | null;
+  lambda: number | null;
+  effective_df: number | null;
+  validation: string | null;
+  method: string | null;
+  beats_baseline: number;
+  active: number;
+  train_from: number | null;
+  train_to: number | null;
+  trained_by_name: string | null;
+  created_at: number;
+  finished_at: number | null;
+  band_high: number | null;
+  band_raised: number | null;
+  activated_at: number | null;
+  activated_by_name: string | null;
+}
+
+const iso = (ms: number | null | undefined) => (ms === null || ms === undefined ? null : new Date(ms).toISOString());
+const variable = (key: string) => VARIABLES.find((v) => v.key === key);
+
+function targetName(db: Db, kind: "type" | "category", code: string): string | null {
+  const sql = kind === "type" ? "select name from defect_types where upper(code) = upper(?)" : "select name from defect_categories where upper(code) = upper(?)";
+  return (db.$client.prepare(sql).pluck().get(code) as string | undefined) ?? null;
+}
+
+function toModel(db: Db, r: Row, withTerms: boolean): RiskModel {
+  const spec = JSON.parse(r.spec) as RiskSpec;
+  const terms = r.terms ? (JSON.parse(r.terms) as ModelTerms) : null;
+  const validation = r.validation ? (JSON.parse(r.validation) as TrainedModel["validation"]) : null;
+  return {
+    id: r.id,
+    targetKind: r.target_kind,
+    targetCode: r.target_code,
+    targetName: targetName(db, r.target_kind, r.target_code) ?? r.target_code,
+    version: r.version,
+    status: r.status,
+    progress: r.progress,
+    progressText: r.progress_text,
+    error: r.error,
+    conditions: spec.conditions.map((k) => ({ key: k, label: variable(k)?.label ?? k, unit: variable(k)?.unit ?? null })),
+    categories: spec.categories.map((k) => ({ key: k, label: RISK_CATEGORY_LABELS[k] })),
+    knots: spec.knots,
+    trainFrom: iso(r.train_from),
+    trainTo: iso(r.train_to),
+    lambda: r.lambda,
+    effectiveDf: r.effective_df,
+    validation: validation ? { ...validation, splitAt: iso(validation.splitAt) } : null,
+    bands: r.band_high !== null && r.band_raised !== null ? { high: r.band_high, raised: r.band_raised } : null,
+    beatsBaseline: r.beats_baseline === 1,
+    active: r.active === 1,
+    method: r.method,
+    terms: withTerms && terms ? terms.columns.map((column, j) => ({ column, coefficient: terms.coefficients[j + 1]! })) : [],
+    trainedByName: r.trained_by_name,
+    createdAt: iso(r.created_at)!,
+    finishedAt: iso(r.finished_at),
+    activatedAt: iso(r.activated_at),
+    activatedByName: r.activated_by_name,
+  };
+}
+
+function rowOf(db: Db, id: number): Row {
+  const r = db.$client.prepare("select * from risk_models where id = ?").get(id) as Row | undefined;
+  if (!r) throw new HttpError(404, "not_found", `There is no risk model ${id}.`);
+  return r;
+}
+
+export function listRiskModels(db: Db) {
+  const rows = db.$client.prepare("select * from risk_models order by target_kind, target_code, version desc").all() as Row[];
+  return { items: rows.map((r) => { const { terms: _t, ...m } = toModel(db, r, false); return m; }) };
+}
+
+export const getRiskModel = (db: Db, id: number) => toModel(db, rowOf(db, id), true);
+
+/** Trainings in flight, per database file: one at a time. */
+const training = new Set<string>();
+
+export interface RiskOptions {
+  logger?: Logger;
+  /** The training thread's nice value (default 10). */
+  nice?: number;
+  /** The training's "now" (tests). */
+  asOf?: number;
+}
+
+/** Trains a new version in the training thread; resolves with the stored version once it has finished. */
+export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRiskModelBody, "targetKind" | "targetCode">> & TrainRiskModelBody, user: { id: string; name: string }, opts: RiskOptions = {}): Promise<RiskModel> {
+  const kind = body.targetKind;
+  const name = targetName(db, kind, body.targetCode);
+  if (!name) throw new HttpError(400, "unknown_target", `There is no defect ${kind === "type" ? "type" : "category"} with the code ${body.targetCode}.`, { field: "targetCode" });
+  const code = (db.$client.prepare(kind === "type" ? "select code from defect_types where upper(code) = upper(?)" : "select code from defect_categories where upper(code) = upper(?)").pluck().get(body.targetCode) as string);
+  const file = db.$client.name;
+  if (training.has(file)) throw new HttpError(409, "training_busy", "Another risk model is being trained. Wait until it has finished (its progress shows in the list of models), then train this one.");
+  const spec: RiskSpec = {
+    targetKind: kind,
+    targetCode: code,
+    conditions: body.conditions ?? [],
+    categories: (body.categories ?? ["grade_family"]) as RiskCategory[],
+    knots: (body.knots ?? 4) as 3 | 4 | 5,
+    from: body.from ? Date.parse(`${body.from}T00:00:00Z`) : undefined,
+    to: body.to ? Date.parse(`${body.to}T23:59:59.999Z`) : undefined,
+  };
+  training.add(file);
+  let id: number;
+  try {
+    id = db.$client.transaction(() => {
+      const version = ((db.$client.prepare("select max(version) from risk_models where target_kind = ? and target_code = ?").pluck().get(kind, code) as number | null) ?? 0) + 1;
+      return Number(
+        db.$client
+          .prepare("insert into risk_models (target_kind, target_code, version, spec, status, progress, progress_text, trained_by, trained_by_name) values (?, ?, ?, ?, 'training', 0, 'starting', ?, ?)")
+          .run(kind, code, version, JSON.stringify(spec), user.id, user.name).lastInsertRowid,
+      );
+    })();
+  } catch (err) {
+    training.delete(file);
+    throw err;
+  }
+  try {
+    const outcome = await runTrainingThread(file, { databaseFile: file, spec, asOf: opts.asOf ?? Date.now(), nice: opts.nice ?? 10 }, (fraction, what) => {
+      db.$client.prepare("update risk_models set progress = ?, progress_text = ? where id = ? and status = 'training'").run(Math.min(1, fraction), what, id);
+    });
+    if (outcome.type === "done") {
+      const m = outcome.model;
+      db.$client.transaction(() => {
+        db.$client
+          .prepare(
+            `update risk_models set status = 'ready', progress = 1, progress_text = null, terms = ?, lambda = ?, effective_df = ?, validation = ?, method = ?,
+               beats_baseline = ?, train_from = ?, train_to = ?, band_high = ?, band_raised = ?, finished_at = ? where id = ?`,
+          )
+          .run(JSON.stringify(m.terms), m.lambda, m.effectiveDf, JSON.stringify(m.validation), m.method, m.beatsBaseline ? 1 : 0, outcome.slabs.first, outcome.slabs.last, m.bands?.high ?? null, m.bands?.raised ?? null, Date.now(), id);
+        recordAudit(db, { userId: user.id, action: "risk_model.train", entity: "risk_models", entityId: id, after: { target: `${kind} ${code}`, spec, auc: m.validation.auc, baselineAuc: m.validation.baselineAuc, beatsBaseline: m.beatsBaseline } });
+      })();
+      return getRiskModel(db, id);
+    }
+    const message = outcome.type === "refused" ? outcome.message : `Training failed: ${outcome.message}`;
+    db.$client.prepare("update risk_models set status = 'failed', progress_text = null, error = ?, finished_at = ? where id = ?").run(message, Date.now(), id);
+    if (outcome.type === "refused") throw new HttpError(422, "too_little_data", message, { modelId: id });
+    opts.logger?.error({ err: outcome }, "risk model training failed");
+    throw new HttpError(500, "training_failed", `${message}. Nothing was switched on; try again, and tell the administrator if it happens again.`, { modelId: id });
+  } finally {
+    training.delete(file);
+  }
+}
+
+function runTrainingThread(_file: string, data: TrainThreadData, progress: (fraction: number, what: string) => void): Promise<Exclude<FromTrainThread, { type: "progress" }>> {
+  return new Promise((resolve) => {
+    const w = new Worker(threadEntry("risk-train.js", "./train-thread-entry.mjs", import.meta.url), { workerData: data, resourceLimits: { maxOldGenerationSizeMb: 1536 } });
+    let settled = false;
+    let lastProgress = 0;
+    const settle = (m: Exclude<FromTrainThread, { type: "progress" }>) => {
+      if (settled) return;
+      settled = true;
+      clearTimeout(timer);
+      resolve(m);
+    };
+    const timer = setTimeout(() => {
+      settle({ type: "failed", message: `it took longer than ${TRAIN_TIMEOUT_MS / 60_000} minutes and was stopped` });
+      void w.terminate();
+    }, TRAIN_TIMEOUT_MS);
+    w.on("message", (m: FromTrainThread) => {
+      if (m.type === "progress") {
+        const now = Date.now();
+        if (now - lastProgress >= 200) {
+          lastProgress = now;
+          progress(m.fraction, m.what);
+        }
+      } else settle(m);
+    });
+    w.on("error", (err) => settle({ type: "failed", message: (err as NodeJS.ErrnoException).code === "ERR_WORKER_OUT_OF_MEMORY" ? "the training needed more memory than it may use; narrow the window" : err.message }));
+    w.on("exit", (code) => settle({ type: "failed", message: `the training thread stopped (exit ${code})` }));
+  });
+}
+
+/** At start: a version left "training" by a stopped server says so. */
+export function recoverRiskTraining(db: Db) {
+  db.$client
+    .prepare("update risk_models set status = 'failed', progress_text = null, error = 'The server stopped while this model was training. Train it again.', finished_at = ? where status = 'training'")
+    .run(Date.now());
+}
+
+/** Switches a version on for its target (the one before goes off), audited; then scores the recent slabs. */
+export function activateRiskModel(db: Db, id: number, user: { id: string; name: string }): RiskModel {
+  const r = rowOf(db, id);
+  if (r.status !== "ready") throw new HttpError(409, "model_not_ready", r.status === "training" ? "This model is still training." : "This model's training failed; it cannot be switched on.");
+  if (r.beats_baseline !== 1)
+    throw new HttpError(
+      409,
+      "does_not_beat_baseline",
+      "This model does not rank the test slabs better than the grade-family rates do (the lower end of its AUC interval is not above the baseline's AUC), so it cannot be switched on. Try other conditions, a longer window, or a defect category.",
+    );
+  db.$client.transaction(() => {
+    const before = db.$client.prepare("select id, version from risk_models where target_kind = ? and target_code = ? and active = 1").get(r.target_kind, r.target_code) as { id: number; version: number } | undefined;
+    db.$client.prepare("update risk_models set active = 0 where target_kind = ? and target_code = ? and active = 1").run(r.target_kind, r.target_code);
+    db.$client.prepare("update risk_models set active = 1, activated_at = ?, activated_by_name = ? where id = ?").run(Date.now(), user.name, id);
+    recordAudit(db, { userId: user.id, action: "risk_model.activate", entity: "risk_models", entityId: id, before: before ? { activeModel: before.id, version: before.version } : { activeModel: null }, after: { activeModel: id, version: r.version, target: `${r.target_kind} ${r.target_code}` } });
+  })();
+  scoreUnscoredSlabs(db);
+  return getRiskModel(db, id);
+}
+
+interface ActiveModel {
+  id: number;
+  terms: ModelTerms;
+}
+
+function activeModels(db: Db): ActiveModel[] {
+  const rows = db.$client.prepare("select id, terms from risk_models where active = 1 and status = 'ready'").all() as { id: number; terms: string }[];
+  return rows.map((r) => ({ id: r.id, terms: JSON.parse(r.terms) as ModelTerms }));
+}
+
+const fmt = (value: number, digits: number) => value.toFixed(Math.max(0, Math.min(6, digits)));
+
+/** A reason in words: "Casting speed 1.72 m/min (typical 1.40)". */
+export function reasonText(r: { variable: string; label: string; value: number | string | null; unit: string | null }, terms: ModelTerms): string {
+  const num = terms.numeric.find((v) => v.key === r.variable);
+  if (num) {
+    const digits = variable(r.variable)?.digits ?? 2;
+    const unit = r.unit ? ` ${r.unit}` : "";
+    if (r.value === null || typeof r.value !== "number") return `${r.label} not recorded (taken as typical, ${fmt(num.median, digits)}${unit})`;
+    return `${r.label} ${fmt(r.value, digits)}${unit} (typical ${fmt(num.median, digits)}${unit})`;
+  }
+  const cat = terms.categorical.find((c) => c.key === r.variable);
+  return `${r.label}: ${r.value ?? "unknown"}${cat ? ` (most common: ${cat.referenceName})` : ""}`;
+}
+
+/** Risk and reasons of slabs under one model, from their stored conditions. */
+export function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: number; risk: number; reasons: RiskReason[] }[] {
+  const inputs = slabInputs(db.$client, model.terms.numeric.map((v) => v.key), model.terms.categorical.map((c) => c.key as RiskCategory), slabIds);
+  const out: { slabId: number; risk: number; reasons: RiskReason[] }[] = [];
+  for (const id of slabIds) {
+    const input = inputs.get(id);
+    if (!input) continue;
+    const { risk, reasons } = explain(model.terms, input.numeric, input.categorical);
+    const raising = reasons.filter((x) => x.contribution > 1e-9).slice(0, REASONS_KEPT);
+    out.push({ slabId: id, risk, reasons: raising.map((x) => ({ ...x, text: reasonText(x, model.terms) })) });
+  }
+  return out;
+}
+
+/**
+ * Scores, under every active model, the slabs cast in the last YARD_UNINSPECTED_MAX_DAYS that have no
+ * risk under it yet (or the named slabs). Chunks of 2,000 in a transaction each. Returns the count.
+ */
+export function scoreUnscoredSlabs(db: Db, now = Date.now()): number {
+  const models = activeModels(db);
+  if (models.length === 0) return 0;
+  const c = db.$client;
+  const insert = c.prepare("insert or replace into slab_risks (slab_id, model_id, risk, reasons, scored_at) values (?, ?, ?, ?, ?)");
+  let scored = 0;
+  for (const m of models) {
+    const ids = c
+      .prepare(
+        `select s.id from slabs s join slab_conditions c on c.slab_id = s.id where s.cast_at >= ?
+           and not exists (select 1 from slab_risks r where r.slab_id = s.id and r.model_id = ?)`,
+      )
+      .pluck()
+      .all(now - YARD_UNINSPECTED_MAX_DAYS * DAY, m.id) as number[];
+    for (let i = 0; i < ids.length; i += 2000) {
+      const chunk = scoreWith(db, m, ids.slice(i, i + 2000));
+      const at = Date.now();
+      c.transaction(() => {
+        for (const s of chunk) insert.run(s.slabId, m.id, s.risk, JSON.stringify(s.reasons), at);
+      })();
+      scored += chunk.length;
+    }
+  }
+  return scored;
+}
+
+/** Slabs whose conditions changed (a re-import): their stored risks go, to be scored again. */
+export function forgetRisks(db: Db, slabIds: number[] | null) {
+  if (slabIds === null) {
+    db.$client.prepare("delete from slab_risks").run();
+    return;
+  }
+  const del = db.$client.prepare("delete from slab_risks where slab_id in (select value from json_each(?))");
+  for (let i = 0; i < slabIds.length; i += 5000) del.run(JSON.stringify(slabIds.slice(i, i + 5000)));
+}
+
+const bandOf = (risk: number, high: number | null, raised: number | null): RiskBand =>
+  high !== null && risk >= high ? "high" : raised !== null && risk >= raised ? "raised" : "usual";
+
+export interface RiskSlabsQuery {
+  defectType?: string;
+  from?: string;
+  to?: string;
+  uninspected?: "true" | "false";
+  band?: RiskBand;
+  limit: number;
+}
+
+const UNINSPECTED =
+  "not exists (select 1 from defects d where d.slab_id = s.id and d.deleted_at is null) and not exists (select 1 from products p where p.slab_id = s.id)";
+
+/** The slabs ranked by risk under the active models (optionally for one defect type). */
+export function riskSlabs(db: Db, q: RiskSlabsQuery) {
+  const where = ["m.active = 1"];
+  const params: Record<string, unknown> = { limit: q.limit };
+  if (q.defectType) {
+    const type = db.$client.prepare("select t.code, c.code as category from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)").get(q.defectType) as { code: string; category: string } | undefined;
+    if (!type) throw new HttpError(400, "unknown_defect_type", `There is no defect type with the code ${q.defectType}.`, { field: "defectType" });
+    where.push("((m.target_kind = 'type' and m.target_code = @type) or (m.target_kind = 'category' and m.target_code = @category))");
+    params.type = type.code;
+    params.category = type.category;
+  }
+  if (q.from) {
+    where.push("s.cast_at >= @from");
+    params.from = Date.parse(`${q.from}T00:00:00Z`);
+  }
+  if (q.to) {
+    where.push("s.cast_at <= @to");
+    params.to = Date.parse(`${q.to}T23:59:59.999Z`);
+  }
+  if (q.uninspected === "true") where.push(UNINSPECTED);
+  if (q.uninspected === "false") where.push(`not (${UNINSPECTED})`);
+  if (q.band === "high") where.push("m.band_high is not null and r.risk >= m.band_high");
+  if (q.band === "raised") where.push("m.band_raised is not null and r.risk >= m.band_raised and (m.band_high is null or r.risk < m.band_high)");
+  if (q.band === "usual") where.push("(m.band_raised is null or r.risk < m.band_raised)");
+  const from = `from slab_risks r join risk_models m on m.id = r.model_id join slabs s on s.id = r.slab_id where ${where.join(" and ")}`;
+  const c = db.$client;
+  const matched = c.prepare(`select count(*) ${from}`).pluck().get(params) as number;
+  const rows = c
+    .prepare(
+      `select s.slab_id as slabId, h.heat_no as heatNo, s.cast_at as castAt, r.risk, r.reasons, m.id as modelId, m.version, m.target_kind as kind, m.target_code as code,
+         m.band_high as high, m.band_raised as raised, (${UNINSPECTED}) as uninspected
+       from (select r.slab_id, r.model_id ${from} order by r.risk desc, r.slab_id limit @limit) k
+       cross join slab_risks r on r.slab_id = k.slab_id and r.model_id = k.model_id cross join risk_models m on m.id = r.model_id
+       cross join slabs s on s.id = r.slab_id cross join heats h on h.id = s.heat_id
+       order by r.risk desc, s.id`,
+    )
+    .all(params) as { slabId: string; heatNo: string; castAt: number | null; risk: number; reasons: string; modelId: number; version: number; kind: string; code: string; high: number | null; raised: number | null; uninspected: number }[];
+  const items: SlabRisk[] = rows.map((r) => ({
+    slabId: r.slabId,
+    heatNo: r.heatNo,
+    castAt: iso(r.castAt),
+    risk: r.risk,
+    band: bandOf(r.risk, r.high, r.raised),
+    reasons: JSON.parse(r.reasons) as RiskReason[],
+    modelId: r.modelId,
+    modelVersion: r.version,
+    target: targetName(db, r.kind as "type" | "category", r.code) ?? r.code,
+    uninspected: r.uninspected === 1,
+  }));
+  const models = (c.prepare("select id, target_kind as kind, target_code as code, version from risk_models where active = 1 order by target_code").all() as { id: number; kind: "type" | "category"; code: string; version: number }[]).map(
+    (m) => ({ id: m.id, target: targetName(db, m.kind, m.code) ?? m.code, version: m.version }),
+  );
+  return { items, matched, models };
+}
+
+/** A slab's risks under the active models (for the slab and heat screens). */
+export function risksOfSlabs(db: Db, slabRowIds: number[]): Map<number, { risk: number; band: RiskBand; target: string; modelVersion: number; reasons: RiskReason[] }[]> {
+  const out = new Map<number, { risk: number; band: RiskBand; target: string; modelVersion: number; reasons: RiskReason[] }[]>();
+  if (slabRowIds.length === 0) return out;
+  const rows = db.$client
+    .prepare(
+      `select r.slab_id as slab, r.risk, r.reasons, m.version, m.target_kind as kind, m.target_code as code, m.band_high as high, m.band_raised as raised
+       from slab_risks r join risk_models m on m.id = r.model_id and m.active = 1 where r.slab_id in (select value from json_each(?)) order by r.risk desc`,
+    )
+    .all(JSON.stringify(slabRowIds)) as { slab: number; risk: number; reasons: string; version: number; kind: "type" | "category"; code: string; high: number | null; raised: number | null }[];
+  for (const r of rows) {
+    const list = out.get(r.slab) ?? [];
+    list.push({ risk: r.risk, band: bandOf(r.risk, r.high, r.raised), target: targetName(db, r.kind, r.code) ?? r.code, modelVersion: r.version, reasons: JSON.parse(r.reasons) as RiskReason[] });
+    out.set(r.slab, list);
+  }
+  return out;
+}
+
+/**
+ * Scoring on arrival: after slab conditions change (an import, a feed call, a re-resolve), the changed
+ * slabs' old risks go and every unscored recent slab is scored — at once when the change is told
+ * outside a transaction (an import thread's, told when it has committed: the import answers after its
+ * slabs are scored), else right after the transaction (setImmediate). A change of everything (a
+ * calibration, grade families) scores the recent slabs again.
+ */
+export function scoreOnArrival(db: Db, logger?: Logger) {
+  let pending: { all: boolean; ids: Set<number> } | null = null;
+  const run = () => {
+    const p = pending;
+    pending = null;
+    if (!p) return;
+    try {
+      if (activeModels(db).length === 0) return;
+      db.$client.transaction(() => forgetRisks(db, p.all ? null : [...p.ids]))();
+      const n = scoreUnscoredSlabs(db);
+      if (n) logger?.info({ scored: n }, "slabs scored by the active risk models");
+    } catch (err) {
+      logger?.error({ err }, "risk scoring failed; the slabs are scored at the next import or start");
+    }
+  };
+  return (ids: number[] | null) => {
+    const first = pending === null;
+    pending ??= { all: false, ids: new Set() };
+    if (ids === null) pending.all = true;
+    else if (!pending.all) for (const id of ids) pending.ids.add(id);
+    if (!db.$client.inTransaction) run();
+    else if (first) setImmediate(run);
+  };
+}
