@@ -48,6 +48,8 @@ export interface ProductionCounts {
   claims: number;
   investigations: number;
   photos?: number;
+  /** The risk models trained on the demo history (server/services/risk/risk.service.ts seedRiskModels). */
+  riskModels?: { target: string; auc: number | null; baselineAuc: number | null; active: boolean }[];
 }
 
 interface Sample {

@@ -32,6 +32,7 @@ import {
 import { createResolver } from "../services/conditions.service";
 import { addDemoPhotos } from "./demo-photos";
 import { generateProduction, type ProductionCounts } from "./demo-plant";
+import { seedRiskModels } from "../services/risk/risk.service";
 import { generateLastShifts, type LastShiftsCounts } from "./last-shifts";
 
 export interface SeedResult {
@@ -144,6 +145,12 @@ export async function seedDemo(
     return { ...counts, lastShifts };
   });
 
+  // The demo's risk models, trained on its history; the one that beats its baseline is switched on,
+  // so the yard's "check first" list and the models screen have something to show.
+  if (production) {
+    const q = db.select({ id: user.id, name: user.name }).from(user).where(eq(user.email, "quality@demo.test")).get()!;
+    production.riskModels = seedRiskModels(db, q, opts.now ?? Date.now());
+  }
   // Demo photos for the newest unreviewed entries (only with a photo store, and only with new production).
   if (production && opts.uploadDir) production.photos = await addDemoPhotos(db, opts.uploadDir);
   return { usersCreated, production, seconds: (performance.now() - started) / 1000 };

@@ -16,6 +16,7 @@ import { plantSettings } from "../db/schema";
 import { notFound } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 import { getCatalogue } from "./catalogue.service";
+import { topRiskOfSlabs } from "./risk/risk.service";
 import { listDefects } from "./defects.service";
 
 type Actor = NonNullable<Express.Request["user"]>;
@@ -76,6 +77,7 @@ function productsOf(db: Db, slabRowIds: number[]) {
 
 function toYardSlabs(db: Db, rows: Row[]): YardSlab[] {
   const products = productsOf(db, rows.map((r) => r.id as number));
+  const risks = topRiskOfSlabs(db, rows.map((r) => r.id as number));
   return rows.map((r) => {
     const made = products.get(r.id) ?? [];
     return {
@@ -95,6 +97,7 @@ function toYardSlabs(db: Db, rows: Row[]): YardSlab[] {
       uninspected: r.defects === 0 && made.length === 0,
       products: made,
       nextPieceId: r.nextPieceId ?? null,
+      risk: risks.get(r.id) ?? null,
     };
   });
 }

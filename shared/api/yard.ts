@@ -61,6 +61,24 @@ export const yardSlabSchema = z.object({
   products: z.array(yardProductSchema),
   /** The next piece of the same heat on the same strand; null after the last one. */
   nextPieceId: z.string().nullable(),
+  /**
+   * The highest risk under the plant's active risk models (issue 15), for the "check first" order;
+   * null when no model is switched on or the slab is not scored. Orders the work, never clears a slab.
+   */
+  risk: z
+    .object({
+      risk: z.number(),
+      band: z.enum(["high", "raised", "usual"]),
+      /** The defect type or category the model predicts. */
+      target: z.string(),
+      modelVersion: z.number().int(),
+      /** The conditions that raise it most, in words. */
+      reasons: z.array(z.string()),
+      /** Where that defect usually sits on a slab, from the plant's history ("inner radius (top) face, head third"). */
+      usualPlace: z.string().nullable(),
+    })
+    .nullable()
+    .default(null),
 });
 export type YardSlab = z.infer<typeof yardSlabSchema>;
 

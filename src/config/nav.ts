@@ -23,6 +23,7 @@ export const NAV_ITEMS: NavItem[] = [
   { to: "/trace", label: "Trace", capability: "claims.read" },
   { to: "/heats", label: "Heats", capability: "heats.browse", subPathsOpen: true },
   { to: "/reports", label: "Reports", capability: "reports.read" },
+  { to: "/risk-models", label: "Risk models", capability: "risk.models.read" },
   { to: "/investigations", label: "Investigations", capability: "investigations.read" },
   { to: "/causes", label: "Cause tags", capability: "causes.read" },
   { to: "/import", label: "Import", capability: "imports.run" },

@@ -47,6 +47,24 @@ beforeAll(async () => {
 });
 afterAll(() => t?.close());
 
+/** The slab's risk under the seeded, switched-on slag-spot model (the seed trains one when its history allows), read from the rows. */
+function expectedRisk(slabId: string) {
+  const r = one(
+    `select r.risk, r.reasons, m.version, m.band_high, m.band_raised from slab_risks r join risk_models m on m.id = r.model_id and m.active = 1
+     join slabs s on s.id = r.slab_id where s.slab_id = ?`,
+    slabId,
+  );
+  if (!r) return null;
+  return {
+    risk: r.risk,
+    band: r.risk >= r.band_high ? "high" : r.risk >= r.band_raised ? "raised" : "usual",
+    target: "Mold-flux / slag entrapment (slag spot)",
+    modelVersion: r.version,
+    reasons: JSON.parse(r.reasons).map((x: { text: string }) => x.text),
+    usualPlace: expect.toSatisfy((p: string | null) => p === null || /^usually on the .+ face, (head|middle|tail) third \(\d+ % of \d+ past entries\)$/.test(p)),
+  };
+}
+
 describe("the demo plant's last shifts", () => {
   it("when the demo is seeded, then its last shift ends at the seed and slabs cast in the last hours wait uninspected in the yard", () => {
     const lastCast = one("select max(cast_at) as t from slabs").t as number;
@@ -114,6 +132,7 @@ describe("the yard set", () => {
       uninspected: true,
       products: [],
       nextPieceId: next?.slab_id ?? null,
+      risk: expectedRisk(row.slab_id),
     });
     expect(got.slabId).toBe(`${row.heat_no}-${row.strand_no}02`);
 

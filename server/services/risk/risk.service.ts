@@ -20,9 +20,9 @@ import { recordAudit } from "../audit.service";
 import { VARIABLES } from "@shared/variables";
 import { RISK_CATEGORY_LABELS, type RiskBand, type RiskModel, type RiskReason, type SlabRisk, type TrainRiskModelBody } from "@shared/api/risk";
 import { YARD_UNINSPECTED_MAX_DAYS } from "@shared/api/yard";
-import { explain, type ModelTerms, type TrainedModel } from "./model";
+import { explain, trainRiskModel, type ModelTerms, type TrainedModel } from "./model";
 import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
-import { slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
+import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData, slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
 
 const DAY = 86_400_000;
 /** A training that has not finished after this long is stopped (a million slabs take ≈ 20 s). */
@@ -162,16 +162,7 @@ export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRis
       db.$client.prepare("update risk_models set progress = ?, progress_text = ? where id = ? and status = 'training'").run(Math.min(1, fraction), what, id);
     });
     if (outcome.type === "done") {
-      const m = outcome.model;
-      db.$client.transaction(() => {
-        db.$client
-          .prepare(
-            `update risk_models set status = 'ready', progress = 1, progress_text = null, terms = ?, lambda = ?, effective_df = ?, validation = ?, method = ?,
-               beats_baseline = ?, train_from = ?, train_to = ?, band_high = ?, band_raised = ?, finished_at = ? where id = ?`,
-          )
-          .run(JSON.stringify(m.terms), m.lambda, m.effectiveDf, JSON.stringify(m.validation), m.method, m.beatsBaseline ? 1 : 0, outcome.slabs.first, outcome.slabs.last, m.bands?.high ?? null, m.bands?.raised ?? null, Date.now(), id);
-        recordAudit(db, { userId: user.id, action: "risk_model.train", entity: "risk_models", entityId: id, after: { target: `${kind} ${code}`, spec, auc: m.validation.auc, baselineAuc: m.validation.baselineAuc, beatsBaseline: m.beatsBaseline } });
-      })();
+      storeTrained(db, id, spec, outcome.model, outcome.slabs, { userId: user.id });
       return getRiskModel(db, id);
     }
     const message = outcome.type === "refused" ? outcome.message : `Training failed: ${outcome.message}`;
@@ -182,6 +173,47 @@ export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRis
   } finally {
     training.delete(file);
   }
+}
+
+/** Writes a finished training into its version's row, audited. */
+function storeTrained(db: Db, id: number, spec: RiskSpec, m: TrainedModel, slabs: { first: number | null; last: number | null }, who: { userId?: string; actor?: string }) {
+  db.$client.transaction(() => {
+    db.$client
+      .prepare(
+        `update risk_models set status = 'ready', progress = 1, progress_text = null, terms = ?, lambda = ?, effective_df = ?, validation = ?, method = ?,
+           beats_baseline = ?, train_from = ?, train_to = ?, band_high = ?, band_raised = ?, finished_at = ? where id = ?`,
+      )
+      .run(JSON.stringify(m.terms), m.lambda, m.effectiveDf, JSON.stringify(m.validation), m.method, m.beatsBaseline ? 1 : 0, slabs.first, slabs.last, m.bands?.high ?? null, m.bands?.raised ?? null, Date.now(), id);
+    recordAudit(db, { ...who, action: "risk_model.train", entity: "risk_models", entityId: id, after: { target: `${spec.targetKind} ${spec.targetCode}`, spec, auc: m.validation.auc, baselineAuc: m.validation.baselineAuc, beatsBaseline: m.beatsBaseline } });
+  })();
+}
+
+/**
+ * The demo plant's models, trained in-process by the seed (the running server trains in its thread):
+ * slag spots (which beat the grade-family baseline on the demo history and are switched on) and
+ * longitudinal facial cracks (which do not: the grade family already says most of it).
+ */
+export function seedRiskModels(db: Db, trainedBy: { id: string; name: string }, now = Date.now()) {
+  const conditions = ["casting_speed_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm"];
+  const made: { target: string; auc: number | null; baselineAuc: number | null; active: boolean }[] = [];
+  for (const code of ["SLG", "LFC"]) {
+    const spec: RiskSpec = { targetKind: "type", targetCode: code, conditions, categories: ["grade_family", "strand"], knots: 4 };
+    const data = readTrainingData(db.$client, spec, now);
+    let affected = 0;
+    for (let i = 0; i < data.known; i++) affected += data.outcome[i]!;
+    if (data.known < MIN_JUDGED_SLABS || affected < MIN_AFFECTED_SLABS) continue;
+    const model = trainRiskModel(data, { knots: 4 });
+    const id = Number(
+      db.$client
+        .prepare("insert into risk_models (target_kind, target_code, version, spec, status, trained_by, trained_by_name, created_at) values ('type', ?, 1, ?, 'training', ?, ?, ?)")
+        .run(code, JSON.stringify(spec), trainedBy.id, trainedBy.name, now).lastInsertRowid,
+    );
+    storeTrained(db, id, spec, model, { first: data.known ? data.castAt[0]! : null, last: data.known ? data.castAt[data.known - 1]! : null }, { actor: "seed" });
+    const active = model.beatsBaseline && code === "SLG";
+    if (active) activateRiskModel(db, id, trainedBy, now);
+    made.push({ target: code, auc: model.validation.auc, baselineAuc: model.validation.baselineAuc, active });
+  }
+  return made;
 }
 
 function runTrainingThread(_file: string, data: TrainThreadData, progress: (fraction: number, what: string) => void): Promise<Exclude<FromTrainThread, { type: "progress" }>> {
@@ -221,7 +253,7 @@ export function recoverRiskTraining(db: Db) {
 }
 
 /** Switches a version on for its target (the one before goes off), audited; then scores the recent slabs. */
-export function activateRiskModel(db: Db, id: number, user: { id: string; name: string }): RiskModel {
+export function activateRiskModel(db: Db, id: number, user: { id: string; name: string }, now = Date.now()): RiskModel {
   const r = rowOf(db, id);
   if (r.status !== "ready") throw new HttpError(409, "model_not_ready", r.status === "training" ? "This model is still training." : "This model's training failed; it cannot be switched on.");
   if (r.beats_baseline !== 1)
@@ -236,7 +268,7 @@ export function activateRiskModel(db: Db, id: number, user: { id: string; name: 
     db.$client.prepare("update risk_models set active = 1, activated_at = ?, activated_by_name = ? where id = ?").run(Date.now(), user.name, id);
     recordAudit(db, { userId: user.id, action: "risk_model.activate", entity: "risk_models", entityId: id, before: before ? { activeModel: before.id, version: before.version } : { activeModel: null }, after: { activeModel: id, version: r.version, target: `${r.target_kind} ${r.target_code}` } });
   })();
-  scoreUnscoredSlabs(db);
+  scoreUnscoredSlabs(db, now);
   return getRiskModel(db, id);
 }
 
@@ -438,3 +470,65 @@ export function scoreOnArrival(db: Db, logger?: Logger) {
     else if (first) setImmediate(run);
   };
 }
+
+const FACE_WORDS: Record<string, string> = { inner: "inner radius (top) face", outer: "outer radius (bottom) face", left: "left narrow face", right: "right narrow face" };
+const THIRDS = ["head third", "middle third", "tail third"];
+
+/**
+ * Where the defects of each active model's target usually sit, from the plant's history: the most
+ * common face and third of the length (head, middle, tail) among its live entries. By model id.
+ */
+export function usualPlaces(db: Db): Map<number, string | null> {
+  const out = new Map<number, string | null>();
+  const models = db.$client.prepare("select id, target_kind as kind, target_code as code from risk_models where active = 1").all() as { id: number; kind: "type" | "category"; code: string }[];
+  for (const m of models) {
+    const typeFilter =
+      m.kind === "type" ? "d.type_id in (select id from defect_types where code = @code)" : "d.type_id in (select t.id from defect_types t join defect_categories c on c.id = t.category_id where c.code = @code)";
+    const row = db.$client
+      .prepare(
+        `select d.face, min(2, cast(3 * d.position_along_mm / s.length_mm as integer)) as third, count(*) as n
+         from defects d join slabs s on s.id = d.slab_id
+         where d.deleted_at is null and ${typeFilter} and d.position_along_mm is not null and s.length_mm > 0
+         group by d.face, third order by n desc limit 1`,
+      )
+      .get({ code: m.code }) as { face: string; third: number; n: number } | undefined;
+    const total = db.$client.prepare(`select count(*) from defects d where d.deleted_at is null and ${typeFilter}`).pluck().get({ code: m.code }) as number;
+    out.set(m.id, row && total >= 10 ? `usually on the ${FACE_WORDS[row.face] ?? row.face}, ${THIRDS[Math.max(0, row.third)] ?? "along the slab"} (${Math.round((100 * row.n) / total)} % of ${total} past entries)` : null);
+  }
+  return out;
+}
+
+/** The highest risk of each slab under the active models, for the yard set. */
+export function topRiskOfSlabs(db: Db, slabRowIds: number[]) {
+  const out = new Map<number, { risk: number; band: RiskBand; target: string; modelVersion: number; reasons: string[]; usualPlace: string | null }>();
+  if (slabRowIds.length === 0) return out;
+  const hasActive = db.$client.prepare("select 1 from risk_models where active = 1 limit 1").get();
+  if (!hasActive) return out;
+  const places = usualPlaces(db);
+  const names = new Map<string, string>();
+  const rows = db.$client
+    .prepare(
+      `select r.slab_id as slab, r.risk, r.reasons, m.id as model, m.version, m.target_kind as kind, m.target_code as code, m.band_high as high, m.band_raised as raised
+       from slab_risks r join risk_models m on m.id = r.model_id and m.active = 1 where r.slab_id in (select value from json_each(?))`,
+    )
+    .all(JSON.stringify(slabRowIds)) as { slab: number; risk: number; reasons: string; model: number; version: number; kind: "type" | "category"; code: string; high: number | null; raised: number | null }[];
+  for (const r of rows) {
+    const band = bandOf(r.risk, r.high, r.raised);
+    const rank = (b: RiskBand) => RISK_RANK[b];
+    const have = out.get(r.slab);
+    // The band decides first (a high risk of a rare defect before a raised one of a common defect).
+    if (have && (rank(have.band) > rank(band) || (rank(have.band) === rank(band) && have.risk >= r.risk))) continue;
+    const key = `${r.kind}:${r.code}`;
+    if (!names.has(key)) names.set(key, targetName(db, r.kind, r.code) ?? r.code);
+    out.set(r.slab, {
+      risk: r.risk,
+      band,
+      target: names.get(key)!,
+      modelVersion: r.version,
+      reasons: (JSON.parse(r.reasons) as RiskReason[]).map((x) => x.text),
+      usualPlace: places.get(r.model) ?? null,
+    });
+  }
+  return out;
+}
+const RISK_RANK: Record<RiskBand, number> = { high: 2, raised: 1, usual: 0 };

@@ -11,11 +11,8 @@ import { parentPort, workerData } from "node:worker_threads";
 import { openDatabase } from "../../db/client";
 import { trainRiskModel } from "./model";
 import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
-import { readTrainingData } from "./training-data";
+import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData } from "./training-data";
 
-/** Below these the model has too little to learn from or to be judged on. */
-export const MIN_JUDGED_SLABS = 200;
-export const MIN_AFFECTED_SLABS = 20;
 
 const data = workerData as TrainThreadData;
 const send = (m: FromTrainThread) => parentPort!.postMessage(m);

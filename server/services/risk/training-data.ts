@@ -18,6 +18,10 @@ import type { CategoricalInput, NumericInput, RiskData } from "./model";
 export const RISK_CATEGORIES = ["grade_family", "strand", "transition", "sequence_position"] as const;
 export type RiskCategory = (typeof RISK_CATEGORIES)[number];
 
+/** Below these a model has too little to learn from or to be judged on (training is refused in words). */
+export const MIN_JUDGED_SLABS = 200;
+export const MIN_AFFECTED_SLABS = 20;
+
 /** A slab cast this long before the training has passed the yard: no entry means none was found. */
 export const JUDGED_AFTER_DAYS = 14;
 

@@ -11,6 +11,7 @@ import { EntriesList, OutboxStatus } from "@/features/defects/components/entries
 import { useOutbox } from "@/features/defects/offline/use-outbox";
 import { HotYardCaution } from "@/features/plant/components/hot-yard-caution";
 import { ScanSlabId } from "@/features/slabs/components/scan-slab-id";
+import { CheckFirst, checkFirstOrder } from "@/features/yard/components/check-first";
 import { SlabIdFixes } from "@/features/yard/components/slab-id-fixes";
 import { WaitingSlabs } from "@/features/yard/components/waiting-slabs";
 import { YardSlabFinder } from "@/features/yard/components/yard-slab-finder";
@@ -46,6 +47,8 @@ export function Component() {
   const mine = serverMine.filter((d) => d.foundAt >= range.since);
   const done = new Set([...outbox.entries.map((e) => e.slabId), ...serverMine.map((d) => d.slabId)]);
   const waiting = waitingInYard(slabs ?? [], done);
+  // Risk orders the work (the plant's active risk models); it never clears a slab.
+  const checkFirst = checkFirstOrder(waiting);
   return (
     <div className="mx-auto max-w-3xl space-y-5">
       <PageHeader title="Find a slab" subtitle="Type the id or scan the slab's label." />
@@ -64,6 +67,11 @@ export function Component() {
       <YardSyncStatus yard={yard} />
       <SlabIdFixes entries={outbox.entries} />
       <OutboxStatus outbox={outbox} />
+      {checkFirst.length ? (
+        <Card title="Check first">
+          <CheckFirst ordered={checkFirst} />
+        </Card>
+      ) : null}
       {slabs ? (
         <Card title="Waiting for inspection">
           <WaitingSlabs waiting={waiting} />

@@ -1,0 +1,40 @@
+import { useMemo } from "react";
+import type { RiskValidation } from "@shared/api/risk";
+import { INK, SERIES_COLORS } from "@/lib/chart-theme";
+import { pct } from "@/lib/format";
+import { tooltipBase } from "@/features/reports/components/charts/chart-parts";
+import { ReportChart } from "@/features/reports/components/charts/report-chart";
+
+/**
+ * Reliability diagram of a risk model on its test slabs: each group's mean predicted risk against the
+ * share of its slabs that carried the defect, sized by slabs, beside the diagonal of perfect calibration.
+ */
+export function ReliabilityChart({ validation }: { validation: RiskValidation }) {
+  const option = useMemo(() => {
+    const pts = validation.reliability;
+    const top = Math.max(0.02, ...pts.map((p) => Math.max(p.predicted, p.observed))) * 1.1;
+    const most = Math.max(1, ...pts.map((p) => p.slabs));
+    return {
+      grid: { left: 64, right: 24, top: 24, bottom: 56 },
+      tooltip: {
+        ...tooltipBase,
+        trigger: "item",
+        formatter: (p: { data: [number, number, number] }) =>
+          `Predicted ${pct(p.data[0], 1)}<br/>Observed ${pct(p.data[1], 1)}<br/>${p.data[2].toLocaleString()} test slabs`,
+      },
+      xAxis: { type: "value", name: "Predicted risk", nameLocation: "middle", nameGap: 32, min: 0, max: top, axisLabel: { formatter: (v: number) => pct(v, 0) } },
+      yAxis: { type: "value", name: "Observed share with the defect", nameLocation: "middle", nameGap: 48, min: 0, max: top, axisLabel: { formatter: (v: number) => pct(v, 0) } },
+      series: [
+        { type: "line", name: "Perfect calibration", data: [[0, 0], [top, top]], symbol: "none", lineStyle: { type: "dashed", color: INK[600] }, silent: true },
+        {
+          type: "scatter",
+          name: "Test slabs, grouped by predicted risk",
+          data: pts.map((p) => [p.predicted, p.observed, p.slabs]),
+          symbolSize: (d: [number, number, number]) => 8 + 18 * Math.sqrt(d[2] / most),
+          itemStyle: { color: SERIES_COLORS[0] },
+        },
+      ],
+    };
+  }, [validation]);
+  return <ReportChart option={option} height={320} testId="reliability-chart" label="Reliability diagram: predicted risk against the observed share on the test slabs" />;
+}
