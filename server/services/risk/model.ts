@@ -101,6 +101,8 @@ export interface TrainedModel {
   /** True when the model beats the baseline on the test slabs (its AUC interval lies above the baseline's AUC). */
   beatsBaseline: boolean;
   method: string;
+  /** False when the final fit did not converge (the validation's notes say why): such a model is not stored as trained. */
+  converged: boolean;
   /** Risk thresholds of the bands, from the test slabs (90th and 70th percentiles); null when not fitted. */
   bands: { high: number; raised: number } | null;
 }
@@ -108,6 +110,18 @@ export interface TrainedModel {
 export const DEFAULT_LAMBDAS = [0, 0.5, 2, 8, 32, 128, 512];
 /** At most this many training slabs choose the penalty (every k-th by time beyond it). */
 export const CV_MAX_SLABS = 200_000;
+
+/** Whether a numeric input takes at least two different finite values on the rows. */
+function variesIn(values: ArrayLike<number>, rows: Int32Array): boolean {
+  let first = NaN;
+  for (let u = 0; u < rows.length; u++) {
+    const x = values[rows[u]!]!;
+    if (!Number.isFinite(x)) continue;
+    if (Number.isNaN(first)) first = x;
+    else if (x !== first) return true;
+  }
+  return false;
+}
 
 /** The term layout learnt from the training slabs. */
 function learnTerms(data: RiskData, train: Int32Array, knotsCount: 3 | 4 | 5): Omit<ModelTerms, "coefficients"> {
@@ -202,6 +216,10 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
   const cut = Math.floor(ordered.length * (1 - testShare));
   const train = ordered.subarray(0, cut);
   const test = ordered.subarray(cut);
+  // A condition without spread in the training slabs (one value, or none recorded) carries nothing a
+  // model could learn and would make the fit singular: it is left out, and the answer says so.
+  const flat = data.numeric.filter((v) => !variesIn(v.values, train));
+  if (flat.length) data = { ...data, numeric: data.numeric.filter((v) => !flat.includes(v)) };
   const outcome = Uint8Array.from({ length: data.outcome.length }, (_, i) => (data.outcome[i] ? 1 : 0));
   const size = outcome.length;
 
@@ -269,7 +287,7 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
     const r = famRate.get(data.family[i]!);
     return r && r[1] > 0 ? r[0] / r[1] : overall;
   });
-  const notes: string[] = [];
+  const notes: string[] = flat.map((v) => `${v.label} was left out: it has one value (or none) in the training slabs.`);
   const scored = { risk, outcome: out };
   const auc = fit.converged ? aucDeLong(scored) : null;
   const base = aucDeLong({ risk: baseline, outcome: out });
@@ -306,7 +324,8 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
     `numeric conditions as restricted cubic splines with ${knots} knots at Harrell's quantiles, missing values at the training median; categories as indicators against their most common level. ` +
     `Validated on the newest ${Math.round(testShare * 100)} % of slabs by cast time, never seen in training: ${auc?.method ?? "AUC not computed"}; Brier score; ${cal?.method ?? "calibration not computed"}. ` +
     `Baseline: each slab's grade-family rate in the training part.`;
-  return { terms, lambda, effectiveDf: fit.effectiveDf, validation, path, beatsBaseline, method, bands };
+  const converged = fit.converged && fit.coefficients.every(Number.isFinite);
+  return { terms, lambda, effectiveDf: fit.effectiveDf, validation, path, beatsBaseline: converged && beatsBaseline, method, bands, converged };
 }
 
 export interface Reason {

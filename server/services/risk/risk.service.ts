@@ -203,6 +203,7 @@ export function seedRiskModels(db: Db, trainedBy: { id: string; name: string }, 
     for (let i = 0; i < data.known; i++) affected += data.outcome[i]!;
     if (data.known < MIN_JUDGED_SLABS || affected < MIN_AFFECTED_SLABS) continue;
     const model = trainRiskModel(data, { knots: 4 });
+    if (!model.converged) continue;
     const id = Number(
       db.$client
         .prepare("insert into risk_models (target_kind, target_code, version, spec, status, trained_by, trained_by_name, created_at) values ('type', ?, 1, ?, 'training', ?, ?, ?)")

@@ -42,7 +42,8 @@ try {
   } else {
     send({ type: "progress", fraction: 0.1, what: "choosing the penalty" });
     const model = trainRiskModel(td, { knots: data.spec.knots, progress: (f, what) => send({ type: "progress", fraction: 0.1 + 0.88 * f, what }) });
-    send({ type: "done", model, slabs: { first: td.known ? td.castAt[0]! : null, last: td.known ? td.castAt[td.known - 1]! : null, known: td.known, unjudged: td.unjudged } });
+    if (!model.converged) send({ type: "refused", message: `The model could not be fitted on these slabs. ${model.validation.notes.join(" ")} Choose fewer conditions or a longer window.` });
+    else send({ type: "done", model, slabs: { first: td.known ? td.castAt[0]! : null, last: td.known ? td.castAt[td.known - 1]! : null, known: td.known, unjudged: td.unjudged } });
   }
 } catch (err) {
   const e = err as Error;

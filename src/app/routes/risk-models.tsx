@@ -220,7 +220,7 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader title="Slab risk models" subtitle="Learnt from the plant's own history, to order the yard's work before inspection." />
-      <Notice tone="caution" title="A risk orders the work; it never clears a slab">
+      <Notice tone="caution" title="Read with care:">
         {RISK_CAUTION}
       </Notice>
       {canTrain ? (

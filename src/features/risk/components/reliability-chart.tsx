@@ -12,7 +12,10 @@ import { ReportChart } from "@/features/reports/components/charts/report-chart";
 export function ReliabilityChart({ validation }: { validation: RiskValidation }) {
   const option = useMemo(() => {
     const pts = validation.reliability;
-    const top = Math.max(0.02, ...pts.map((p) => Math.max(p.predicted, p.observed))) * 1.1;
+    const highest = Math.max(0.02, ...pts.map((p) => Math.max(p.predicted, p.observed))) * 1.05;
+    // A round top: the next 5 % (or 1 % for rare defects).
+    const step = highest > 0.1 ? 0.05 : 0.01;
+    const top = Math.ceil(highest / step) * step;
     const most = Math.max(1, ...pts.map((p) => p.slabs));
     return {
       grid: { left: 64, right: 24, top: 24, bottom: 56 },
