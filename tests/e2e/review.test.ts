@@ -20,7 +20,8 @@ async function logAsInspector(slabId: string, key: string, over: Record<string, 
 }
 
 describe("quality review and catalogue", () => {
-  it("when the quality engineer corrects, rejects and confirms a slab's new entries, then each is stored and the queue moves on, oldest first", async () => {
+  // A long walk through the browser (≈ 5 s alone; it passed 30 s once beside the other browser files on two cores).
+  it("when the quality engineer corrects, rejects and confirms a slab's new entries, then each is stored and the queue moves on, oldest first", { timeout: 90_000 }, async () => {
     const slabId = sqlite().prepare("select slab_id from slabs order by id limit 1 offset 40").pluck().get() as string;
     const first = await logAsInspector(slabId, "review-key-0001", { found_at: "2026-11-30T06:00:00Z" });
     const second = await logAsInspector(slabId, "review-key-0002", { type_code: "DEP", found_at: "2026-11-30T07:00:00Z" });

@@ -591,6 +591,10 @@ beforeAll(async () => {
   fs.writeFileSync(path.join(t.env.UPLOAD_DIR, "attachments", attachmentId), "fuzz note\n");
   run("insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256) values (?, 'investigation', ?, 'note.txt', ?, 'text/plain', 10, 'x')", attachmentId, inv, attachmentId);
 
+  // A risk model version whose training failed: it can be read, and switching it on is refused (409) without a write.
+  const riskModelId = run(
+    "insert into risk_models (target_kind, target_code, version, spec, status, error) values ('type', 'SLG', 99, '{\"targetKind\":\"type\",\"targetCode\":\"SLG\",\"conditions\":[],\"categories\":[\"grade_family\"],\"knots\":4}', 'failed', 'Fuzz: not trained')",
+  );
   const id = (v: number | string) => ({ id: String(v) });
   const REPORT_QUERIES: Record<string, string> = {
     overview: "period=week",
@@ -716,6 +720,14 @@ beforeAll(async () => {
     "GET /yard/slabs/:slabId": { params: { slabId } },
     "GET /yard/settings": {},
     "PUT /yard/settings": { body: { syncWindowHours: 48 }, refuse: null },
+    "POST /risk-models": {
+      body: { targetKind: "type", targetCode: "SLG", conditions: ["mold_level_sd_mm"], categories: ["grade_family"], knots: 4 },
+      refuse: { body: (b) => ({ ...b, targetCode: "FUZZ-NO-SUCH-TYPE" }), uses: ["targetCode"] },
+    },
+    "GET /risk-models": {},
+    "GET /risk-models/:id": { params: id(riskModelId) },
+    "POST /risk-models/:id/activate": { params: id(riskModelId) },
+    "GET /risk/slabs": { query: "uninspected=true" },
   };
 });
 afterAll(async () => {
