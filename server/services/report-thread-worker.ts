@@ -8,12 +8,11 @@
  * answered sees the write. A report runs start to end in one turn; loading the facts after a start
  * runs in slices in between (report-cache.ts), and the reports asked for meanwhile answer "warming up".
  */
-import fs from "node:fs";
-import os from "node:os";
 import { parentPort, workerData } from "node:worker_threads";
 import { pino } from "pino";
 import { openDatabase } from "../db/client";
 import { HttpError } from "../lib/http-error";
+import { lowerThisThreadPriority } from "../lib/thread-priority";
 import { slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
 import { adjustedModel } from "./reports/adjusted";
 import { beforeAfter } from "./reports/before-after";
@@ -42,18 +41,9 @@ const send = (m: FromReportThread) => port.postMessage(m);
 // (a line written by this thread straight to stdout could be lost when the process exits).
 const logger = pino({ level: data.logLevel, base: { app: "strandsight" } }, { write: (line: string) => send({ type: "log", line }) });
 
-// The reports give way to the write path: this thread runs at a lower priority (nice), so a defect
-// being saved gets the processor first when both want it, and the reports take what is left. Linux
-// keeps the nice value per thread; setpriority with the thread's own id (from /proc/thread-self)
-// changes this thread alone. Elsewhere, or if refused, the thread runs at the normal priority.
-if (data.nice > 0) {
-  try {
-    const tid = Number(fs.readlinkSync("/proc/thread-self").split("/").pop());
-    if (Number.isInteger(tid) && tid > 0) os.setPriority(tid, data.nice);
-  } catch {
-    // not Linux, or not allowed: the normal priority
-  }
-}
+// The reports give way to the write path: a defect being saved gets the processor first when both
+// want it, and the reports take what is left.
+lowerThisThreadPriority(data.nice);
 
 const db = openDatabase(data.databaseFile);
 /** The cache runs started by the main thread (startReportCache there), by its token. */

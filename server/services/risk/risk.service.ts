@@ -61,10 +61,12 @@ interface Row {
 const iso = (ms: number | null | undefined) => (ms === null || ms === undefined ? null : new Date(ms).toISOString());
 const variable = (key: string) => VARIABLES.find((v) => v.key === key);
 
-function targetName(db: Db, kind: "type" | "category", code: string): string | null {
-  const sql = kind === "type" ? "select name from defect_types where upper(code) = upper(?)" : "select name from defect_categories where upper(code) = upper(?)";
-  return (db.$client.prepare(sql).pluck().get(code) as string | undefined) ?? null;
+/** The defect type or category a code names (case as stored), or null. */
+function targetOf(db: Db, kind: "type" | "category", code: string): { code: string; name: string } | null {
+  const table = kind === "type" ? "defect_types" : "defect_categories";
+  return (db.$client.prepare(`select code, name from ${table} where upper(code) = upper(?)`).get(code) as { code: string; name: string } | undefined) ?? null;
 }
+const targetName = (db: Db, kind: "type" | "category", code: string) => targetOf(db, kind, code)?.name ?? null;
 
 function toModel(db: Db, r: Row, withTerms: boolean): RiskModel {
   const spec = JSON.parse(r.spec) as RiskSpec;
@@ -128,9 +130,9 @@ export interface RiskOptions {
 /** Trains a new version in the training thread; resolves with the stored version once it has finished. */
 export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRiskModelBody, "targetKind" | "targetCode">> & TrainRiskModelBody, user: { id: string; name: string }, opts: RiskOptions = {}): Promise<RiskModel> {
   const kind = body.targetKind;
-  const name = targetName(db, kind, body.targetCode);
-  if (!name) throw new HttpError(400, "unknown_target", `There is no defect ${kind === "type" ? "type" : "category"} with the code ${body.targetCode}.`, { field: "targetCode" });
-  const code = (db.$client.prepare(kind === "type" ? "select code from defect_types where upper(code) = upper(?)" : "select code from defect_categories where upper(code) = upper(?)").pluck().get(body.targetCode) as string);
+  const target = targetOf(db, kind, body.targetCode);
+  if (!target) throw new HttpError(400, "unknown_target", `There is no defect ${kind === "type" ? "type" : "category"} with the code ${body.targetCode}.`, { field: "targetCode" });
+  const code = target.code;
   const file = db.$client.name;
   if (training.has(file)) throw new HttpError(409, "training_busy", "Another risk model is being trained. Wait until it has finished (its progress shows in the list of models), then train this one.");
   const spec: RiskSpec = {
@@ -158,7 +160,7 @@ export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRis
     throw err;
   }
   try {
-    const outcome = await runTrainingThread(file, { databaseFile: file, spec, asOf: opts.asOf ?? Date.now(), nice: opts.nice ?? 10 }, (fraction, what) => {
+    const outcome = await runTrainingThread({ databaseFile: file, spec, asOf: opts.asOf ?? Date.now(), nice: opts.nice ?? 10 }, (fraction, what) => {
       db.$client.prepare("update risk_models set progress = ?, progress_text = ? where id = ? and status = 'training'").run(Math.min(1, fraction), what, id);
     });
     if (outcome.type === "done") {
@@ -217,7 +219,7 @@ export function seedRiskModels(db: Db, trainedBy: { id: string; name: string }, 
   return made;
 }
 
-function runTrainingThread(_file: string, data: TrainThreadData, progress: (fraction: number, what: string) => void): Promise<Exclude<FromTrainThread, { type: "progress" }>> {
+function runTrainingThread(data: TrainThreadData, progress: (fraction: number, what: string) => void): Promise<Exclude<FromTrainThread, { type: "progress" }>> {
   return new Promise((resolve) => {
     const w = new Worker(threadEntry("risk-train.js", "./train-thread-entry.mjs", import.meta.url), { workerData: data, resourceLimits: { maxOldGenerationSizeMb: 1536 } });
     let settled = false;
@@ -273,6 +275,8 @@ export function activateRiskModel(db: Db, id: number, user: { id: string; name: 
   return getRiskModel(db, id);
 }
 
+const anyActiveModel = (db: Db) => db.$client.prepare("select 1 from risk_models where active = 1 limit 1").get() !== undefined;
+
 interface ActiveModel {
   id: number;
   terms: ModelTerms;
@@ -286,7 +290,7 @@ function activeModels(db: Db): ActiveModel[] {
 const fmt = (value: number, digits: number) => value.toFixed(Math.max(0, Math.min(6, digits)));
 
 /** A reason in words: "Casting speed 1.72 m/min (typical 1.40)". */
-export function reasonText(r: { variable: string; label: string; value: number | string | null; unit: string | null }, terms: ModelTerms): string {
+function reasonText(r: { variable: string; label: string; value: number | string | null; unit: string | null }, terms: ModelTerms): string {
   const num = terms.numeric.find((v) => v.key === r.variable);
   if (num) {
     const digits = variable(r.variable)?.digits ?? 2;
@@ -299,7 +303,7 @@ export function reasonText(r: { variable: string; label: string; value: number |
 }
 
 /** Risk and reasons of slabs under one model, from their stored conditions. */
-export function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: number; risk: number; reasons: RiskReason[] }[] {
+function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: number; risk: number; reasons: RiskReason[] }[] {
   const inputs = slabInputs(db.$client, model.terms.numeric.map((v) => v.key), model.terms.categorical.map((c) => c.key as RiskCategory), slabIds);
   const out: { slabId: number; risk: number; reasons: RiskReason[] }[] = [];
   for (const id of slabIds) {
@@ -343,7 +347,7 @@ export function scoreUnscoredSlabs(db: Db, now = Date.now()): number {
 }
 
 /** Slabs whose conditions changed (a re-import): their stored risks go, to be scored again. */
-export function forgetRisks(db: Db, slabIds: number[] | null) {
+function forgetRisks(db: Db, slabIds: number[] | null) {
   if (slabIds === null) {
     db.$client.prepare("delete from slab_risks").run();
     return;
@@ -404,6 +408,10 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
        order by r.risk desc, s.id`,
     )
     .all(params) as { slabId: string; heatNo: string; castAt: number | null; risk: number; reasons: string; modelId: number; version: number; kind: string; code: string; high: number | null; raised: number | null; uninspected: number }[];
+  const models = (c.prepare("select id, target_kind as kind, target_code as code, version from risk_models where active = 1 order by target_code").all() as { id: number; kind: "type" | "category"; code: string; version: number }[]).map(
+    (m) => ({ id: m.id, target: targetName(db, m.kind, m.code) ?? m.code, version: m.version }),
+  );
+  const targetOfModel = new Map(models.map((m) => [m.id, m.target]));
   const items: SlabRisk[] = rows.map((r) => ({
     slabId: r.slabId,
     heatNo: r.heatNo,
@@ -413,31 +421,10 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
     reasons: JSON.parse(r.reasons) as RiskReason[],
     modelId: r.modelId,
     modelVersion: r.version,
-    target: targetName(db, r.kind as "type" | "category", r.code) ?? r.code,
+    target: targetOfModel.get(r.modelId) ?? r.code,
     uninspected: r.uninspected === 1,
   }));
-  const models = (c.prepare("select id, target_kind as kind, target_code as code, version from risk_models where active = 1 order by target_code").all() as { id: number; kind: "type" | "category"; code: string; version: number }[]).map(
-    (m) => ({ id: m.id, target: targetName(db, m.kind, m.code) ?? m.code, version: m.version }),
-  );
   return { items, matched, models };
-}
-
-/** A slab's risks under the active models (for the slab and heat screens). */
-export function risksOfSlabs(db: Db, slabRowIds: number[]): Map<number, { risk: number; band: RiskBand; target: string; modelVersion: number; reasons: RiskReason[] }[]> {
-  const out = new Map<number, { risk: number; band: RiskBand; target: string; modelVersion: number; reasons: RiskReason[] }[]>();
-  if (slabRowIds.length === 0) return out;
-  const rows = db.$client
-    .prepare(
-      `select r.slab_id as slab, r.risk, r.reasons, m.version, m.target_kind as kind, m.target_code as code, m.band_high as high, m.band_raised as raised
-       from slab_risks r join risk_models m on m.id = r.model_id and m.active = 1 where r.slab_id in (select value from json_each(?)) order by r.risk desc`,
-    )
-    .all(JSON.stringify(slabRowIds)) as { slab: number; risk: number; reasons: string; version: number; kind: "type" | "category"; code: string; high: number | null; raised: number | null }[];
-  for (const r of rows) {
-    const list = out.get(r.slab) ?? [];
-    list.push({ risk: r.risk, band: bandOf(r.risk, r.high, r.raised), target: targetName(db, r.kind, r.code) ?? r.code, modelVersion: r.version, reasons: JSON.parse(r.reasons) as RiskReason[] });
-    out.set(r.slab, list);
-  }
-  return out;
 }
 
 /**
@@ -454,7 +441,7 @@ export function scoreOnArrival(db: Db, logger?: Logger) {
     pending = null;
     if (!p) return;
     try {
-      if (activeModels(db).length === 0) return;
+      if (!anyActiveModel(db)) return;
       db.$client.transaction(() => forgetRisks(db, p.all ? null : [...p.ids]))();
       const n = scoreUnscoredSlabs(db);
       if (n) logger?.info({ scored: n }, "slabs scored by the active risk models");
@@ -479,7 +466,7 @@ const THIRDS = ["head third", "middle third", "tail third"];
  * Where the defects of each active model's target usually sit, from the plant's history: the most
  * common face and third of the length (head, middle, tail) among its live entries. By model id.
  */
-export function usualPlaces(db: Db): Map<number, string | null> {
+function usualPlaces(db: Db): Map<number, string | null> {
   const out = new Map<number, string | null>();
   const models = db.$client.prepare("select id, target_kind as kind, target_code as code from risk_models where active = 1").all() as { id: number; kind: "type" | "category"; code: string }[];
   for (const m of models) {
@@ -502,9 +489,7 @@ export function usualPlaces(db: Db): Map<number, string | null> {
 /** The highest risk of each slab under the active models, for the yard set. */
 export function topRiskOfSlabs(db: Db, slabRowIds: number[]) {
   const out = new Map<number, { risk: number; band: RiskBand; target: string; modelVersion: number; reasons: string[]; usualPlace: string | null }>();
-  if (slabRowIds.length === 0) return out;
-  const hasActive = db.$client.prepare("select 1 from risk_models where active = 1 limit 1").get();
-  if (!hasActive) return out;
+  if (slabRowIds.length === 0 || !anyActiveModel(db)) return out;
   const places = usualPlaces(db);
   const names = new Map<string, string>();
   const rows = db.$client

@@ -5,10 +5,9 @@
  * leaves nothing half-written. It runs at a lower priority (nice), like the report thread, so the
  * yard and the write path get the processor first.
  */
-import fs from "node:fs";
-import os from "node:os";
 import { parentPort, workerData } from "node:worker_threads";
 import { openDatabase } from "../../db/client";
+import { lowerThisThreadPriority } from "../../lib/thread-priority";
 import { trainRiskModel } from "./model";
 import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData } from "./training-data";
@@ -17,14 +16,7 @@ import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData } from "./traini
 const data = workerData as TrainThreadData;
 const send = (m: FromTrainThread) => parentPort!.postMessage(m);
 
-if (data.nice > 0) {
-  try {
-    const tid = Number(fs.readlinkSync("/proc/thread-self").split("/").pop());
-    if (Number.isInteger(tid) && tid > 0) os.setPriority(tid, data.nice);
-  } catch {
-    // not Linux, or not allowed: the normal priority
-  }
-}
+lowerThisThreadPriority(data.nice);
 
 const db = openDatabase(data.databaseFile);
 try {

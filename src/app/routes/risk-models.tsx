@@ -10,6 +10,7 @@ import { Notice } from "@/components/ui/notice";
 import { ProgressBar } from "@/components/ui/progress";
 import { authKeys } from "@/features/auth/api/session";
 import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
+import { Figure } from "@/features/reports/components/figure";
 import { riskKeys, useActivateRiskModel, useTrainRiskModel } from "@/features/risk/api/risk.queries";
 import { date, dateTime, num, pct, sig } from "@/lib/format";
 import { requireCapability } from "../guard";
@@ -120,16 +121,6 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
   );
 }
 
-function Figure({ label, value, hint }: { label: string; value: string; hint?: string }) {
-  return (
-    <div className="rounded-md border border-ink-200 bg-white px-3 py-2">
-      <dt className="text-xs font-semibold text-ink-700">{label}</dt>
-      <dd className="text-lg font-semibold tabular-nums text-ink-900">{value}</dd>
-      {hint ? <dd className="text-xs text-ink-700">{hint}</dd> : null}
-    </div>
-  );
-}
-
 function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
   const detail = useQuery(riskKeys.detail(id));
   const activate = useActivateRiskModel();
@@ -146,14 +137,14 @@ function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
       {m.status === "failed" ? <Notice tone="error">{m.error}</Notice> : null}
       {v ? (
         <>
-          <dl className="grid gap-2 sm:grid-cols-3">
-            <Figure label="ROC AUC on the test slabs" value={sig(v.auc, 3)} hint={v.aucCiLower !== null ? `95 % interval ${sig(v.aucCiLower, 3)} – ${sig(v.aucCiUpper, 3)} (DeLong)` : undefined} />
-            <Figure label="Baseline AUC (grade-family rate)" value={sig(v.baselineAuc, 3)} hint="on the same test slabs" />
-            <Figure label="Brier score" value={sig(v.brier, 3)} hint={`baseline ${sig(v.baselineBrier, 3)}; lower is better`} />
-            <Figure label="Calibration slope" value={sig(v.calibrationSlope, 3)} hint={`intercept ${sig(v.calibrationIntercept, 3)}; 1 and 0 are ideal`} />
-            <Figure label="Defective slabs caught in the riskiest 10 %" value={pct(v.captureTop10, 0)} hint={`20 %: ${pct(v.captureTop20, 0)}`} />
-            <Figure label="Test slabs" value={num(v.testSlabs)} hint={`${num(v.testAffected)} with the defect; trained on ${num(v.trainSlabs)}`} />
-          </dl>
+          <div className="grid gap-2 sm:grid-cols-3">
+            <Figure label="ROC AUC on the test slabs" value={sig(v.auc, 3)} note={v.aucCiLower !== null ? `95 % interval ${sig(v.aucCiLower, 3)} – ${sig(v.aucCiUpper, 3)} (DeLong)` : undefined} />
+            <Figure label="Baseline AUC (grade-family rate)" value={sig(v.baselineAuc, 3)} note="on the same test slabs" />
+            <Figure label="Brier score" value={sig(v.brier, 3)} note={`baseline ${sig(v.baselineBrier, 3)}; lower is better`} />
+            <Figure label="Calibration slope" value={sig(v.calibrationSlope, 3)} note={`intercept ${sig(v.calibrationIntercept, 3)}; 1 and 0 are ideal`} />
+            <Figure label="Defective slabs caught in the riskiest 10 %" value={pct(v.captureTop10, 0)} note={`20 %: ${pct(v.captureTop20, 0)}`} />
+            <Figure label="Test slabs" value={num(v.testSlabs)} note={`${num(v.testAffected)} with the defect; trained on ${num(v.trainSlabs)}`} />
+          </div>
           {m.beatsBaseline ? (
             <Notice tone="info" title="Better than the baseline">
               The lower end of its AUC interval lies above the grade-family baseline on the newest slabs, which it never saw.
