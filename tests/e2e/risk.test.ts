@@ -43,6 +43,7 @@ describe("slab risk before inspection in the browser (issue 15)", () => {
     expect(auc).toBeGreaterThan(baseline);
     expect(text).toMatch(/95 % interval [\d.]+ – [\d.]+ \(DeLong\)/);
     expect(text).toContain("Better than the baseline");
+    await page.waitForTimeout(1000); // the chart finishes drawing before the picture
     await snap(page, "risk-model-trained-desktop");
     await page.getByRole("button", { name: "Switch on version 1" }).click();
     await page.getByTestId("risk-model-list").getByText("On", { exact: true }).waitFor();

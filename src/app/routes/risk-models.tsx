@@ -211,25 +211,9 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader title="Slab risk models" subtitle="Learnt from the plant's own history, to order the yard's work before inspection." />
-      <Notice tone="caution" title="Read with care:">
+      <Notice tone="caution" title="Read with care">
         {RISK_CAUTION}
       </Notice>
-      {canTrain ? (
-        <Card title="Train a new version">
-          <TrainForm
-            onStart={() => setTraining(true)}
-            onDone={(id) => {
-              setTraining(false);
-              if (id !== null) setOpen(id);
-            }}
-          />
-          {inFlight ? (
-            <div className="mt-3">
-              <ProgressBar label={`Training ${inFlight.targetName}, version ${inFlight.version}`} value={inFlight.progress} detail={inFlight.progressText ?? undefined} />
-            </div>
-          ) : null}
-        </Card>
-      ) : null}
       <Card title="Versions">
         {list.isPending ? (
           <Spinner label="Loading the models" />
@@ -249,7 +233,7 @@ export function Component() {
                     ? `training (${pct(m.progress, 0)})`
                     : m.status === "failed"
                       ? "failed"
-                      : `AUC ${sig(m.validation?.auc, 3)} against ${sig(m.validation?.baselineAuc, 3)} for the baseline`}
+                      : `AUC ${sig(m.validation?.auc, 3)} against ${sig(m.validation?.baselineAuc, 3)} for the baseline${m.beatsBaseline ? "" : " · not better than the baseline: cannot be switched on"}`}
                 </span>
                 {m.active ? <span className="rounded bg-strand-100 px-2 py-0.5 text-sm font-semibold text-strand-800">On</span> : null}
               </li>
@@ -260,6 +244,22 @@ export function Component() {
       {shown !== null ? (
         <Card title="The version">
           <ModelDetail id={shown} canTrain={canTrain} />
+        </Card>
+      ) : null}
+      {canTrain ? (
+        <Card title="Train a new version">
+          <TrainForm
+            onStart={() => setTraining(true)}
+            onDone={(id) => {
+              setTraining(false);
+              if (id !== null) setOpen(id);
+            }}
+          />
+          {inFlight ? (
+            <div className="mt-3">
+              <ProgressBar label={`Training ${inFlight.targetName}, version ${inFlight.version}`} value={inFlight.progress} detail={inFlight.progressText ?? undefined} />
+            </div>
+          ) : null}
         </Card>
       ) : null}
     </div>

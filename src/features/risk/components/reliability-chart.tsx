@@ -13,8 +13,8 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
   const option = useMemo(() => {
     const pts = validation.reliability;
     const highest = Math.max(0.02, ...pts.map((p) => Math.max(p.predicted, p.observed))) * 1.05;
-    // A round top: the next 5 % (or 1 % for rare defects).
-    const step = highest > 0.1 ? 0.05 : 0.01;
+    // A round top and ticks on it: steps of 1 %, 5 % or 20 % by the largest share drawn.
+    const step = highest > 0.5 ? 0.2 : highest > 0.1 ? 0.05 : 0.01;
     const top = Math.ceil(highest / step) * step;
     const most = Math.max(1, ...pts.map((p) => p.slabs));
     return {
@@ -25,8 +25,8 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
         formatter: (p: { data: [number, number, number] }) =>
           `Predicted ${pct(p.data[0], 1)}<br/>Observed ${pct(p.data[1], 1)}<br/>${p.data[2].toLocaleString()} test slabs`,
       },
-      xAxis: { type: "value", name: "Predicted risk", nameLocation: "middle", nameGap: 32, min: 0, max: top, axisLabel: { formatter: (v: number) => pct(v, 0) } },
-      yAxis: { type: "value", name: "Observed share with the defect", nameLocation: "middle", nameGap: 48, min: 0, max: top, axisLabel: { formatter: (v: number) => pct(v, 0) } },
+      xAxis: { type: "value", name: "Predicted risk", nameLocation: "middle", nameGap: 32, min: 0, max: top, interval: step, axisLabel: { formatter: (v: number) => pct(v, 0) } },
+      yAxis: { type: "value", name: "Observed share with the defect", nameLocation: "middle", nameGap: 48, min: 0, max: top, interval: step, axisLabel: { formatter: (v: number) => pct(v, 0) } },
       series: [
         { type: "line", name: "Perfect calibration", data: [[0, 0], [top, top]], symbol: "none", lineStyle: { type: "dashed", color: INK[600] }, silent: true },
         {
