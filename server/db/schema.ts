@@ -881,6 +881,64 @@ export const slabRisks = sqliteTable(
 );
 
 /**
+ * A process engineer's operating window for a grade family (or every family), written as plain
+ * rules: a slab is outside the window — and flagged with the rule's name — when every one of its
+ * conditions holds (e.g. casting speed above 1.6 m/min with brake current below 150 A). The rule may
+ * name the defect type or category it guards against; its record on history is reckoned against that.
+ * Retired rules are kept (their name stays in the audit) but flag nothing.
+ */
+export const operatingWindows = sqliteTable(
+  "operating_windows",
+  {
+    id: integer("id").primaryKey({ autoIncrement: true }),
+    name: text("name").notNull(),
+    /** Null: every grade family. */
+    familyId: integer("family_id").references(() => gradeFamilies.id),
+    /** type | category | null (any defect). */
+    targetKind: text("target_kind"),
+    targetCode: text("target_code"),
+    /** [{ variable, op: "above" | "below", value }] — all must hold for a slab to be outside. */
+    conditions: text("conditions", { mode: "json" }).notNull(),
+    note: text("note"),
+    createdBy: text("created_by").references(() => user.id),
+    createdByName: text("created_by_name"),
+    createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    retiredAt: integer("retired_at", { mode: "timestamp_ms" }),
+  },
+  (t) => [uniqueIndex("operating_windows_live_name_uq").on(t.name).where(sql`retired_at is null`)],
+);
+
+/**
+ * A risk model's drift, reckoned month by month on the slabs judged since its training (predicted
+ * against observed rate, calibration-in-the-large, AUC). One row per model and month once the month
+ * has been checked; `alerted_at` when the quality engineers were e-mailed about it (once per month).
+ */
+export const riskDriftChecks = sqliteTable(
+  "risk_drift_checks",
+  {
+    modelId: integer("model_id")
+      .notNull()
+      .references(() => riskModels.id, { onDelete: "cascade" }),
+    /** YYYY-MM (UTC) of the slabs' cast time. */
+    month: text("month").notNull(),
+    slabs: integer("slabs").notNull(),
+    affected: integer("affected").notNull(),
+    predicted: real("predicted").notNull(),
+    observed: real("observed").notNull(),
+    /** Calibration-in-the-large on the logit scale (null where undefined). */
+    citl: real("citl"),
+    auc: real("auc"),
+    drifted: integer("drifted", { mode: "boolean" }).notNull().default(false),
+    /** Words: why it counts as drifted. */
+    reason: text("reason"),
+    checkedAt: integer("checked_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    alertedAt: integer("alerted_at", { mode: "timestamp_ms" }),
+  },
+  (t) => [primaryKey({ columns: [t.modelId, t.month] })],
+);
+
+/**
  * One row: this database's id (random, made once) and a counter of every change of slab_conditions,
  * kept by triggers (drizzle/0008_report_cache_counter.sql). The report cache's snapshot is checked
  * against both at start (server/services/report-cache-snapshot.ts), so a snapshot of another database

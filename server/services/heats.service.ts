@@ -5,6 +5,7 @@ import type { EmbrCalibration } from "../db/schema";
 import { parseDateBound } from "../lib/dates";
 import { notFound } from "../lib/http-error";
 import { deriveValues } from "./conditions.service";
+import { risksOfSlabs } from "./risk/risk.service";
 import { getPlantSettings } from "./settings.service";
 
 const iso = (ms: number | null | undefined) => (ms == null ? null : new Date(ms).toISOString());
@@ -123,7 +124,7 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
   const idx = neighbours.findIndex((n) => n.heat_no === h.heat_no);
   const slabs = c
     .prepare(
-      `select s.slab_id as slabId, st.strand_no as strandNo, s.piece_no as pieceNo, s.length_mm as lengthMm, s.width_mm as widthMm,
+      `select s.id as rowId, s.slab_id as slabId, st.strand_no as strandNo, s.piece_no as pieceNo, s.length_mm as lengthMm, s.width_mm as widthMm,
          s.thickness_mm as thicknessMm, s.weight_t as weightT, s.cast_length_start_m as castLengthStartM, s.cast_at as castAt,
          s.transition, s.disposition,
          (select count(*) from defects d where d.slab_id = s.id and d.deleted_at is null and d.review_status <> 'rejected') as defects,
@@ -132,6 +133,7 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
        where s.heat_id = ? order by st.strand_no, s.piece_no`,
     )
     .all(h.id) as Record<string, any>[];
+  const risks = risksOfSlabs(db, slabs.map((s) => s.rowId as number));
   const settings = getPlantSettings(db);
   const strandRows = c
     .prepare(
@@ -204,6 +206,7 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
       disposition: s.disposition,
       defects: s.defects,
       conditions: splitConditions(s as never),
+      risk: risks.get(s.rowId)?.[0] ?? null,
     })),
     sampleCount,
   };
@@ -299,5 +302,6 @@ export function getSlab(db: Db, slabId: string, readsCauses: boolean): SlabDetai
       stuartNumber: s.stuartNumber, hartmannNumber: s.hartmannNumber,
     }),
     defects: defects.map((d) => ({ ...d, foundAt: iso(d.foundAt)!, note: d.note ?? null, causes: causes.get(d.id) ?? [] })) as SlabDetail["defects"],
+    risks: risksOfSlabs(db, [s.id as number]).get(s.id as number) ?? [],
   };
 }

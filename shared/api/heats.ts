@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { slabRiskBriefSchema } from "./risk";
 import { defectCauseBriefSchema } from "./defects";
 import { CONDITION_SOURCES } from "../variables";
 import { embrCalibrationSchema } from "./plant";
@@ -107,6 +108,8 @@ export const slabSummarySchema = z.object({
   disposition: z.string().nullable(),
   defects: z.number().int(),
   conditions: resolvedConditionsSchema.nullable(),
+  /** The slab's highest risk under the switched-on risk models (band first); null when none is switched on. */
+  risk: slabRiskBriefSchema.nullable(),
 });
 
 export const heatDetailSchema = z.object({
@@ -229,6 +232,8 @@ export const slabDetailSchema = z.object({
   }),
   conditions: resolvedConditionsSchema.nullable(),
   defects: z.array(slabDefectSchema),
+  /** Its risk under each switched-on risk model, highest band first (empty when none is switched on). */
+  risks: z.array(slabRiskBriefSchema),
 });
 export type SlabDetail = z.infer<typeof slabDetailSchema>;
 

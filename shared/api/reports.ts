@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { STAGES } from "../domain";
+import { RISK_BANDS } from "./risk";
 import { CATEGORICAL_KEYS, CATEGORICAL_LABELS, rawInputsOf, TERM_KEYS, VARIABLE_KEYS, VARIABLES, type CategoricalKey } from "../variables";
 
 /**
@@ -28,6 +29,12 @@ export const reportFiltersSchema = z.object({
   minSeverity: z.coerce.number().int().min(1).max(4).optional(),
   cause: z.string().trim().max(40).optional(),
   transition: z.enum(["yes", "no"]).optional(),
+  /**
+   * Risk bands (high, raised, usual): the slabs whose highest band under the switched-on risk models
+   * is one of these — the models for the chosen defect types or categories when there are such, else
+   * every switched-on model. Only slabs the models have scored take part.
+   */
+  riskBand: csv.refine((v) => v.every((b) => (RISK_BANDS as readonly string[]).includes(b)), { message: "A risk band is high, raised or usual." }),
 });
 export type ReportFilters = z.output<typeof reportFiltersSchema>;
 

@@ -127,6 +127,20 @@ export const slabRiskSchema = z.object({
 });
 export type SlabRisk = z.infer<typeof slabRiskSchema>;
 
+/** A slab's risk under one switched-on model, as its heat and slab pages show it. */
+export const slabRiskBriefSchema = z.object({
+  /** The defect type or category, in words. */
+  target: z.string(),
+  modelId: z.number().int(),
+  modelVersion: z.number().int(),
+  risk: z.number(),
+  band: z.enum(RISK_BANDS),
+  reasons: z.array(riskReasonSchema),
+  /** False: reckoned for this page from the slab's conditions (slabs cast before the model's 90 days are not stored). */
+  stored: z.boolean(),
+});
+export type SlabRiskBrief = z.infer<typeof slabRiskBriefSchema>;
+
 export const riskSlabsQuerySchema = z
   .object({
     defectType: z.string().trim().max(40).optional(),

@@ -136,6 +136,74 @@ describe("risk models over HTTP", () => {
     expect((await inspector.get("/api/risk/slabs?defectType=NOPE")).status).toBe(400);
   });
 
+  it("when a slab and its heat are opened, then they carry the stored risk of a recent slab and a risk reckoned from the conditions of an older one, equal to what scoring would store", async () => {
+    const c = t.db.$client;
+    const recent = c.prepare("select s.id, s.slab_id as slabId, h.heat_no as heatNo, r.risk from slab_risks r join slabs s on s.id = r.slab_id join heats h on h.id = s.heat_id where r.model_id = ? order by r.risk desc limit 1").get(modelId) as { id: number; slabId: string; heatNo: string; risk: number };
+    const slab = await inspector.get(`/api/slabs/${recent.slabId}`);
+    expect(slab.status).toBe(200);
+    expect(slab.body.risks).toHaveLength(1);
+    expect(slab.body.risks[0]).toMatchObject({ modelId, modelVersion: 1, band: "high", stored: true, target: expect.stringMatching(/slag spot/i) });
+    expect(slab.body.risks[0].risk).toBe(recent.risk);
+    const heat = await quality.get(`/api/heats/${recent.heatNo}`);
+    const row = heat.body.slabs.find((x: { slabId: string }) => x.slabId === recent.slabId);
+    expect(row.risk).toMatchObject({ modelId, risk: recent.risk, band: "high" });
+    expect(heat.body.slabs.every((x: { risk: unknown }) => x.risk !== null)).toBe(true);
+
+    // A slab cast before the 90 days: not stored, reckoned for the page — the value scoring would store for it.
+    const old = c.prepare("select s.id, s.slab_id as slabId, s.cast_at as castAt from slabs s join slab_conditions sc on sc.slab_id = s.id where not exists (select 1 from slab_risks r where r.slab_id = s.id) order by s.cast_at limit 1").get() as { id: number; slabId: string; castAt: number };
+    expect(old.castAt).toBeLessThan(Date.now() - 90 * DAY);
+    const page = await quality.get(`/api/slabs/${old.slabId}`);
+    expect(page.body.risks[0].stored).toBe(false);
+    c.exec("savepoint reckon");
+    try {
+      expect(scoreUnscoredSlabs(t.db, old.castAt + 89 * DAY)).toBeGreaterThan(0);
+      const wouldStore = c.prepare("select risk from slab_risks where slab_id = ? and model_id = ?").pluck().get(old.id, modelId) as number;
+      expect(page.body.risks[0].risk).toBeCloseTo(wouldStore, 12);
+    } finally {
+      c.exec("rollback to reckon; release reckon");
+    }
+    expect(n("select count(*) from slab_risks where slab_id = ?", old.id)).toBe(0);
+  });
+
+  it("when a report is filtered by risk band, then it counts exactly the slabs whose band under the model is the one chosen; without a switched-on model the filter is refused in words", async () => {
+    const band = (sql: string) => n(`select count(*) from slab_risks r join risk_models m on m.id = r.model_id where r.model_id = ? and ${sql}`, modelId);
+    const high = band("r.risk >= m.band_high");
+    const raised = band("r.risk >= m.band_raised and r.risk < m.band_high");
+    const usual = band("r.risk < m.band_raised");
+    expect(high + raised + usual).toBe(n("select count(*) from slab_risks where model_id = ?", modelId));
+    const overview = async (q: string) => {
+      for (;;) {
+        const res = await quality.get(`/api/reports/overview?period=month${q}`);
+        if (res.status !== 503) {
+          expect(res.status, JSON.stringify(res.body)).toBe(200);
+          return res.body.totals as { slabs: number; affected: number };
+        }
+        await new Promise((r) => setTimeout(r, 100));
+      }
+    };
+    expect((await overview("&riskBand=high&defectType=SLG")).slabs).toBe(high);
+    expect((await overview("&riskBand=high,raised")).slabs).toBe(high + raised);
+    expect((await overview("&riskBand=usual")).slabs).toBe(usual);
+    // Affected among the high band: the slabs of that band with a slag spot.
+    const highAffected = n(
+      "select count(*) from slab_risks r join risk_models m on m.id = r.model_id where r.model_id = ? and r.risk >= m.band_high and exists (select 1 from defects d join defect_types ty on ty.id = d.type_id where d.slab_id = r.slab_id and ty.code = 'SLG' and d.deleted_at is null and d.review_status <> 'rejected')",
+      modelId,
+    );
+    expect((await overview("&riskBand=high&defectType=SLG")).affected).toBe(highAffected);
+    const bad = await quality.get("/api/reports/overview?riskBand=severe");
+    expect(bad.status).toBe(400);
+    expect(JSON.stringify(bad.body.error)).toMatch(/high, raised or usual/);
+    // Committed (the reports read through a connection of their own), then put back.
+    t.db.$client.prepare("update risk_models set active = 0 where id = ?").run(modelId);
+    try {
+      const none = await quality.get("/api/reports/overview?riskBand=high");
+      expect(none.status).toBe(400);
+      expect(none.body.error.message).toMatch(/No risk model is switched on/);
+    } finally {
+      t.db.$client.prepare("update risk_models set active = 1 where id = ?").run(modelId);
+    }
+  }, 60_000);
+
   it("when slabs are imported, then they are scored before the import answers; slabs written behind the server's back are scored by the pass a start runs", async () => {
     const process_ = await t.agentFor("process");
     const when = new Date(Date.now() - 2 * DAY).toISOString();

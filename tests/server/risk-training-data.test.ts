@@ -37,13 +37,33 @@ describe("risk model training data", () => {
     expect(d.categorical.map((c) => c.name(c.codes[0]!))).toEqual([expect.stringMatching(/^(LC|PER)$/), expect.stringMatching(/^CC2 strand [12]$/)]);
   });
 
-  it("when the last fortnight's slabs have no entry and no coil, then they are not yet judged and stay out", () => {
+  it("when the last fortnight's slabs are not rolled, then they are not yet judged and stay out whether or not they carry an entry; a rolled one is judged", () => {
     const end = Date.parse(`${plant.to}T23:59:59Z`);
+    const cutoff = end - JUDGED_AFTER_DAYS * 86_400_000;
+    const c = t.db.$client;
+    const recent = c.prepare("select count(*) from slab_conditions where cast_at > ?").pluck().get(cutoff) as number;
+    const recentAffected = c
+      .prepare("select count(*) from slab_conditions sc where sc.cast_at > ? and exists (select 1 from defects d join defect_types t on t.id = d.type_id where d.slab_id = sc.slab_id and t.code = 'SLG')")
+      .pluck()
+      .get(cutoff) as number;
+    expect(recent).toBeGreaterThan(100);
+    expect(recentAffected).toBeGreaterThan(0);
     const d = readTrainingData(t.db.$client, spec, end);
-    // Slabs cast in the last 14 days of the plant without an entry are left out; the affected ones stay.
-    expect(d.unjudged).toBeGreaterThan(0);
-    expect(d.known + d.unjudged).toBe(plant.slabs);
-    expect(d.outcome.reduce((s, v) => s + v, 0)).toBe(plant.affected);
+    // Every recent slab is out — the affected ones too, so the newest months are not filled with defective slabs.
+    expect(d.unjudged).toBe(recent);
+    expect(d.known).toBe(plant.slabs - recent);
+    expect(d.outcome.reduce((s, v) => s + v, 0)).toBe(plant.affected - recentAffected);
+    // A recent slab rolled into a coil has passed the yard: judged (inside a savepoint rolled back after).
+    const rolled = c.prepare("select slab_id from slab_conditions where cast_at > ? order by cast_at limit 1").pluck().get(cutoff) as number;
+    c.exec("savepoint rolled");
+    try {
+      c.prepare("insert into products (product_id, kind, slab_id) values ('COIL-TEST-1', 'coil', ?)").run(rolled);
+      const after = readTrainingData(t.db.$client, spec, end);
+      expect(after.unjudged).toBe(recent - 1);
+      expect(Array.from(after.slabIds)).toContain(rolled);
+    } finally {
+      c.exec("rollback to rolled; release rolled");
+    }
   });
 
   it("when a model is trained on the plant, then it names mold-level fluctuation as the strongest driver, casting speed near nothing, and its inputs read back per slab", () => {

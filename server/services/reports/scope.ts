@@ -14,6 +14,7 @@ import { badRequest } from "../../lib/http-error";
 import { wilson } from "../../stats/proportions";
 import { normalizeGroups, type Group } from "../../stats/ranks";
 import { slabFacts } from "../report-cache";
+import { riskBandSlabsSql } from "../risk/bands";
 
 export const SMALL_AFFECTED = 10;
 
@@ -30,7 +31,7 @@ export interface Scope {
   where: string[];
   params: Record<string, unknown>;
   /** The same slab filters, for the in-memory scan. */
-  js: { from?: number; to?: number; caster?: Set<number>; strand?: Set<number>; grade?: Set<number>; family?: Set<number>; transition?: 0 | 1 };
+  js: { from?: number; to?: number; caster?: Set<number>; strand?: Set<number>; grade?: Set<number>; family?: Set<number>; transition?: 0 | 1; riskSlabs?: Set<number> };
   /** A CTE named aff(id): the slabs with at least one defect passing the defect filters. */
   aff: string;
   defectWhere: string[];
@@ -81,10 +82,18 @@ export function buildScope(db: Db, f: ReportFilters, opts: { skipDates?: boolean
   }
 
   const defectWhere = ["d.deleted_at is null", "d.review_status <> 'rejected'"];
-  if (f.defectType.length) defectWhere.push(`d.type_id in ${inList(idsFor(sqlite, "defect_types", f.defectType, "defect type", "defectType"))}`);
+  const typeIds = f.defectType.length ? idsFor(sqlite, "defect_types", f.defectType, "defect type", "defectType") : [];
+  if (f.defectType.length) defectWhere.push(`d.type_id in ${inList(typeIds)}`);
   if (f.category.length) {
     const cats = idsFor(sqlite, "defect_categories", f.category, "defect category", "category");
     defectWhere.push(`d.type_id in (select id from defect_types where category_id in ${inList(cats)})`);
+    typeIds.push(...(sqlite.prepare(`select id from defect_types where category_id in ${inList(cats)}`).pluck().all() as number[]));
+  }
+  if (f.riskBand?.length) {
+    // The slabs in the chosen risk bands (risk/bands.ts): one set for the in-memory scan and the same query for SQL.
+    const sql = riskBandSlabsSql(sqlite, f.riskBand, typeIds);
+    js.riskSlabs = new Set(sqlite.prepare(sql).pluck().all() as number[]);
+    where.push(`c.slab_id in (${sql})`);
   }
   if (f.stage) {
     defectWhere.push("d.stage = @stage");
@@ -119,8 +128,17 @@ export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number 
   const from = extra?.from ?? j.from;
   const to = extra?.to ?? j.to;
   const rows = new Int32Array(f.size);
+  let inBand: Uint8Array | null = null;
+  if (j.riskSlabs) {
+    inBand = new Uint8Array(f.size);
+    for (const id of j.riskSlabs) {
+      const at = id < f.indexOf.length ? f.indexOf[id]! : -1;
+      if (at >= 0) inBand[at] = 1;
+    }
+  }
   let n = 0;
   for (let i = 0; i < f.size; i++) {
+    if (inBand && !inBand[i]) continue;
     if (from !== undefined && !(f.castAt[i]! >= from)) continue;
     if (to !== undefined && !(f.castAt[i]! <= to)) continue;
     if (j.caster && !j.caster.has(f.casterId[i]!)) continue;

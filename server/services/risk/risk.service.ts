@@ -18,8 +18,9 @@ import type { Logger } from "../../lib/logger";
 import { threadEntry } from "../../lib/paths";
 import { recordAudit } from "../audit.service";
 import { VARIABLES } from "@shared/variables";
-import { RISK_CATEGORY_LABELS, type RiskBand, type RiskModel, type RiskReason, type SlabRisk, type TrainRiskModelBody } from "@shared/api/risk";
+import { RISK_CATEGORY_LABELS, type RiskBand, type RiskModel, type RiskReason, type SlabRisk, type SlabRiskBrief, type TrainRiskModelBody } from "@shared/api/risk";
 import { YARD_UNINSPECTED_MAX_DAYS } from "@shared/api/yard";
+import { bandOf } from "./bands";
 import { explain, trainRiskModel, type ModelTerms, type TrainedModel } from "./model";
 import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData, slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
@@ -213,7 +214,10 @@ export function seedRiskModels(db: Db, trainedBy: { id: string; name: string }, 
     );
     storeTrained(db, id, spec, model, { first: data.known ? data.castAt[0]! : null, last: data.known ? data.castAt[data.known - 1]! : null }, { actor: "seed" });
     const active = model.beatsBaseline && code === "SLG";
-    if (active) activateRiskModel(db, id, trainedBy, now);
+    if (active) {
+      switchOn(db, id, trainedBy);
+      scoreUnscoredSlabs(db, now);
+    }
     made.push({ target: code, auc: model.validation.auc, baselineAuc: model.validation.baselineAuc, active });
   }
   return made;
@@ -255,8 +259,15 @@ export function recoverRiskTraining(db: Db) {
     .run(Date.now());
 }
 
-/** Switches a version on for its target (the one before goes off), audited; then scores the recent slabs. */
-export function activateRiskModel(db: Db, id: number, user: { id: string; name: string }, now = Date.now()): RiskModel {
+/** Switches a version on for its target (the one before goes off), audited; then scores the recent slabs, yielding between chunks. */
+export async function activateRiskModel(db: Db, id: number, user: { id: string; name: string }, now = Date.now()): Promise<RiskModel> {
+  switchOn(db, id, user);
+  await scoreUnscoredSlabsYielding(db, now);
+  return getRiskModel(db, id);
+}
+
+/** The switch itself: refused unless the version is trained and beats its baseline. */
+function switchOn(db: Db, id: number, user: { id: string; name: string }) {
   const r = rowOf(db, id);
   if (r.status !== "ready") throw new HttpError(409, "model_not_ready", r.status === "training" ? "This model is still training." : "This model's training failed; it cannot be switched on.");
   if (r.beats_baseline !== 1)
@@ -271,8 +282,6 @@ export function activateRiskModel(db: Db, id: number, user: { id: string; name: 
     db.$client.prepare("update risk_models set active = 1, activated_at = ?, activated_by_name = ? where id = ?").run(Date.now(), user.name, id);
     recordAudit(db, { userId: user.id, action: "risk_model.activate", entity: "risk_models", entityId: id, before: before ? { activeModel: before.id, version: before.version } : { activeModel: null }, after: { activeModel: id, version: r.version, target: `${r.target_kind} ${r.target_code}` } });
   })();
-  scoreUnscoredSlabs(db, now);
-  return getRiskModel(db, id);
 }
 
 const anyActiveModel = (db: Db) => db.$client.prepare("select 1 from risk_models where active = 1 limit 1").get() !== undefined;
@@ -318,15 +327,13 @@ function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: num
 
 /**
  * Scores, under every active model, the slabs cast in the last YARD_UNINSPECTED_MAX_DAYS that have no
- * risk under it yet (or the named slabs). Chunks of 2,000 in a transaction each. Returns the count.
+ * risk under it yet. Chunks of 2,000 slabs, a transaction each; yields the count after each chunk, so a
+ * caller can let the server answer others between chunks (scoreUnscoredSlabsYielding).
  */
-export function scoreUnscoredSlabs(db: Db, now = Date.now()): number {
-  const models = activeModels(db);
-  if (models.length === 0) return 0;
+function* scoringChunks(db: Db, now: number): Generator<number> {
   const c = db.$client;
   const insert = c.prepare("insert or replace into slab_risks (slab_id, model_id, risk, reasons, scored_at) values (?, ?, ?, ?, ?)");
-  let scored = 0;
-  for (const m of models) {
+  for (const m of activeModels(db)) {
     const ids = c
       .prepare(
         `select s.id from slabs s join slab_conditions c on c.slab_id = s.id where s.cast_at >= ?
@@ -340,8 +347,27 @@ export function scoreUnscoredSlabs(db: Db, now = Date.now()): number {
       c.transaction(() => {
         for (const s of chunk) insert.run(s.slabId, m.id, s.risk, JSON.stringify(s.reasons), at);
       })();
-      scored += chunk.length;
+      yield chunk.length;
     }
+  }
+}
+
+/** Scores every unscored recent slab at once (an import's few slabs; the pass at start). Returns the count. */
+export function scoreUnscoredSlabs(db: Db, now = Date.now()): number {
+  let scored = 0;
+  for (const n of scoringChunks(db, now)) scored += n;
+  return scored;
+}
+
+/**
+ * The same, giving the event loop back after every chunk: switching a model on scores 90 days of slabs
+ * (tens of thousands at a large plant), and the yard and everyone else are answered in between.
+ */
+export async function scoreUnscoredSlabsYielding(db: Db, now = Date.now()): Promise<number> {
+  let scored = 0;
+  for (const n of scoringChunks(db, now)) {
+    scored += n;
+    await new Promise((resolve) => setImmediate(resolve));
   }
   return scored;
 }
@@ -356,8 +382,6 @@ function forgetRisks(db: Db, slabIds: number[] | null) {
   for (let i = 0; i < slabIds.length; i += 5000) del.run(JSON.stringify(slabIds.slice(i, i + 5000)));
 }
 
-const bandOf = (risk: number, high: number | null, raised: number | null): RiskBand =>
-  high !== null && risk >= high ? "high" : raised !== null && risk >= raised ? "raised" : "usual";
 
 export interface RiskSlabsQuery {
   defectType?: string;
@@ -518,3 +542,37 @@ export function topRiskOfSlabs(db: Db, slabRowIds: number[]) {
   return out;
 }
 const RISK_RANK: Record<RiskBand, number> = { high: 2, raised: 1, usual: 0 };
+
+/**
+ * Each slab's risk under every switched-on model, highest band (then risk) first, for the heat and
+ * slab pages: the stored score where there is one, else reckoned now from the slab's conditions
+ * (not stored: only the recent slabs are kept scored). By slab row id; empty lists when no model is on.
+ */
+export function risksOfSlabs(db: Db, slabRowIds: number[]): Map<number, SlabRiskBrief[]> {
+  const out = new Map<number, SlabRiskBrief[]>(slabRowIds.map((id) => [id, []]));
+  if (slabRowIds.length === 0 || !anyActiveModel(db)) return out;
+  const rows = db.$client
+    .prepare(
+      `select id, version, target_kind as kind, target_code as code, band_high as high, band_raised as raised, terms from risk_models
+       where active = 1 and status = 'ready' order by target_code`,
+    )
+    .all() as { id: number; version: number; kind: "type" | "category"; code: string; high: number | null; raised: number | null; terms: string }[];
+  const stored = db.$client.prepare("select risk, reasons from slab_risks where slab_id = ? and model_id = ?");
+  for (const m of rows) {
+    const target = targetName(db, m.kind, m.code) ?? m.code;
+    const missing: number[] = [];
+    for (const id of slabRowIds) {
+      const r = stored.get(id, m.id) as { risk: number; reasons: string } | undefined;
+      if (!r) {
+        missing.push(id);
+        continue;
+      }
+      out.get(id)!.push({ target, modelId: m.id, modelVersion: m.version, risk: r.risk, band: bandOf(r.risk, m.high, m.raised), reasons: JSON.parse(r.reasons) as RiskReason[], stored: true });
+    }
+    if (missing.length)
+      for (const s of scoreWith(db, { id: m.id, terms: JSON.parse(m.terms) as ModelTerms }, missing))
+        out.get(s.slabId)!.push({ target, modelId: m.id, modelVersion: m.version, risk: s.risk, band: bandOf(s.risk, m.high, m.raised), reasons: s.reasons, stored: false });
+  }
+  for (const list of out.values()) list.sort((a, b) => RISK_RANK[b.band] - RISK_RANK[a.band] || b.risk - a.risk);
+  return out;
+}

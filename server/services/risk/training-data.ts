@@ -4,11 +4,14 @@
  * own with its own connection.
  *
  * Outcome: the slab carries at least one live, unrejected entry of the target defect type (or of a
- * type in the target category). Whether the outcome is known: the slab has an entry of any kind, has
- * been rolled (a coil or plate), or was cast more than JUDGED_AFTER_DAYS before the training — by then
- * it has passed the yard. The product records no "inspected, nothing found", so a recent slab with
- * none of these is not yet judged and is left out of training and validation (it is what gets scored).
- * The reports count every slab in their rates; the difference is only the last fortnight.
+ * type in the target category). Whether the outcome is known: the slab has been rolled (a coil or
+ * plate), or was cast more than JUDGED_AFTER_DAYS before the training — by then it has passed the yard.
+ * The product records no "inspected, nothing found", so a recent slab that is neither is not yet judged
+ * and is left out of training and validation (it is what gets scored) — with or without an entry: keeping
+ * the recent slabs that have an entry while leaving out the clean ones would fill the newest months
+ * (the test part) with defective slabs and flatter the validation. The rule looks only at time and
+ * rolling, never at the outcome. The reports count every slab in their rates; the difference is only
+ * the last fortnight.
  */
 import type Database from "better-sqlite3";
 import { CATEGORICAL_LABELS, VARIABLES } from "@shared/variables";
@@ -84,8 +87,7 @@ export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf
     select c.slab_id, c.cast_at, coalesce(c.family_id, 0), ${spec.categories.map((k) => CATEGORY_COLUMN[k]).join(", ")}${spec.categories.length ? "," : ""}
       ${conds.map((v) => `c.${v.key}`).join(", ")}${conds.length ? "," : ""}
       exists (select 1 from defects d where d.slab_id = c.slab_id and d.deleted_at is null and d.review_status <> 'rejected' and d.type_id in (${ids})) as affected,
-      (c.cast_at <= @judgedBefore or exists (select 1 from defects d where d.slab_id = c.slab_id and d.deleted_at is null)
-        or exists (select 1 from products p where p.slab_id = c.slab_id)) as judged
+      (c.cast_at <= @judgedBefore or exists (select 1 from products p where p.slab_id = c.slab_id)) as judged
     from slab_conditions c where ${where.join(" and ")} order by c.cast_at, c.slab_id`;
   // Read row by row into growing typed columns: a million slabs as JS arrays would cost ~0.5 GB.
   const nc = spec.categories.length;

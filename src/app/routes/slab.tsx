@@ -13,6 +13,7 @@ import { PhotoStrip } from "@/features/defects/components/photo-viewer";
 import { slabKeys } from "@/features/slabs/api/slabs.queries";
 import { CrossSection, SlabDrawing, type DrawnMark } from "@/features/slabs/components/slab-drawing";
 import { SlabConditionsTable, SlabDefects, SlabDerived, SlabFacts } from "@/features/slabs/components/slab-sections";
+import { SlabRisks } from "@/features/risk/components/risk-band";
 import { plural } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
@@ -120,6 +121,11 @@ export function Component() {
           />
         </div>
       </Card>
+      {s.risks.length ? (
+        <Card title="Risk before inspection">
+          <SlabRisks risks={s.risks} />
+        </Card>
+      ) : null}
       <Card title="Casting conditions of this slab">
         <SlabConditionsTable slab={s} />
       </Card>

@@ -4,6 +4,7 @@ import type { ConditionSource } from "@shared/variables";
 import { SourceLegend, SourceMark, TransitionMark } from "@/components/ui/marks";
 import { num } from "@/lib/format";
 import { dispositionLabel } from "@/lib/labels";
+import { RiskMark } from "@/features/risk/components/risk-band";
 
 type Slab = HeatDetail["slabs"][number];
 
@@ -20,6 +21,7 @@ function Valued({ value, digits, source }: { value: number | null | undefined; d
 export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
   if (slabs.length === 0) return <p className="text-sm text-ink-600">No slabs on record for this heat yet. Import them on the Import screen.</p>;
   const sorted = [...slabs].sort((a, b) => a.strandNo - b.strandNo || a.pieceNo - b.pieceNo);
+  const withRisk = slabs.some((s) => s.risk);
   return (
     <div className="space-y-3">
       <div className="overflow-x-auto">
@@ -32,6 +34,7 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
               <th className="px-1 py-2 lg:px-2 text-right">Weight t</th>
               <th className="px-1 py-2 lg:px-2">Disposition</th>
               <th className="px-1 py-2 lg:px-2 text-right">Defects</th>
+              {withRisk ? <th className="px-1 py-2 lg:px-2">Risk</th> : null}
               <th className="px-1 py-2 lg:px-2 text-right">Speed m/min</th>
               <th className="px-1 py-2 lg:px-2 text-right">Superheat °C</th>
               <th className="px-1 py-2 lg:px-2 text-right">Brake A</th>
@@ -62,6 +65,11 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
                 <td className="px-1 py-2 lg:px-2 text-right tabular-nums">{num(s.weightT, 2)}</td>
                 <td className="px-1 py-2 lg:px-2">{dispositionLabel(s.disposition)}</td>
                 <td className={`px-1 py-2 lg:px-2 text-right tabular-nums ${s.defects > 0 ? "font-semibold" : "text-ink-500"}`}>{s.defects}</td>
+                {withRisk ? (
+                  <td className="px-1 py-2 lg:px-2">
+                    <RiskMark risk={s.risk} />
+                  </td>
+                ) : null}
                 <td className="px-1 py-2 lg:px-2 text-right">
                   <Valued value={s.conditions?.castingSpeedMPerMin} digits={2} source={s.conditions?.castingSpeedSource ?? null} />
                 </td>
@@ -81,6 +89,7 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
         <SourceLegend />
         <p className="flex items-center gap-1 text-xs text-ink-600">
           <TransitionMark transition /> = cut across a ladle change · n = process samples behind the slab's values
+          {withRisk ? " · Risk = the slab's highest band under the switched-on risk models (an association learnt from history; it never clears a slab)" : ""}
         </p>
       </div>
     </div>

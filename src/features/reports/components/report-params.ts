@@ -13,7 +13,7 @@ export type ReportKind = (typeof REPORT_KINDS)[number];
 export type ReportParams = Record<string, string>;
 
 /** The filters every report takes (shared/api/reports.ts, reportFiltersSchema), in the order they are written. */
-export const FILTER_KEYS = ["from", "to", "caster", "strand", "grade", "family", "defectType", "category", "stage", "minSeverity", "cause", "transition"] as const;
+export const FILTER_KEYS = ["from", "to", "caster", "strand", "grade", "family", "defectType", "category", "stage", "minSeverity", "cause", "transition", "riskBand"] as const;
 export type FilterKey = (typeof FILTER_KEYS)[number];
 
 export interface ReportSpec {
@@ -140,6 +140,7 @@ export function describeFilters(p: ReportParams): string {
   if (p.minSeverity) parts.push(`severity ≥ ${p.minSeverity}`);
   if (p.transition) parts.push(p.transition === "yes" ? "transition slabs" : "no transition slabs");
   if (p.cause) parts.push(`cause ${p.cause}`);
+  if (p.riskBand) parts.push(`${listOf(p.riskBand).join(" or ")} risk`);
   return parts.length ? parts.join(", ") : "all slabs, every defect type";
 }
 

@@ -1,14 +1,7 @@
 import { Link } from "react-router";
 import type { YardSlab } from "@shared/api/yard";
+import { BAND_RANK, BAND_STYLE, BAND_WORDS } from "@/features/risk/components/risk-band";
 import { pct } from "@/lib/format";
-
-const BAND_RANK = { high: 2, raised: 1, usual: 0 } as const;
-const BAND_STYLE = {
-  high: "border-l-8 border-l-ember-700 bg-ember-100",
-  raised: "border-l-8 border-l-ember-500 bg-ember-50",
-  usual: "border-l-8 border-l-ink-300 bg-white",
-} as const;
-const BAND_WORDS = { high: "High risk", raised: "Raised risk", usual: "Usual risk" } as const;
 
 /** The waiting slabs that carry a risk, riskiest first: band, then risk. */
 export function checkFirstOrder(waiting: readonly YardSlab[]): YardSlab[] {
