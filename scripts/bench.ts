@@ -8,6 +8,7 @@
  *   - load           the latency of posting a defect while 32 clients post and 4 read reports
  *   - bench:writes   the defect post under 32 writers, against a bare Express + better-sqlite3 floor (issue 14)
  *   - start          the real server's start on the bench:reports plant: listen, sign-in, yard, reports ready, RSS (issue 14)
+ *   - bench:risk     training a risk model on 1M slabs (reports answered meanwhile); scoring at import against the import alone (issue 15)
  *   - bundles        the JavaScript each screen loads, after gzip (from the Vite manifest)
  *   - yard           tapping "Save defect" to "Sent" on the yard screen (demo plant, Chromium)
  *   - client         a screen opened cold: first table row and chart drawn, bytes, the session's start (issue 14)
@@ -71,6 +72,18 @@ function start() {
   const rss = /^start summary ([\d,]+) slabs: server RSS peak (\d+) MB \(ready (\d+) MB\) target < 800 MB at 5 M (met|NOT met)/m.exec(out);
   if (rss) figures.push({ figure: `start, ${rss[1]} slabs: server RSS (peak after screening)`, value: `${rss[2]} MB (ready ${rss[3]} MB)`, target: "< 800 MB", met: rss[1] === "5,000,000" ? rss[4] === "met" : null });
   if (!(answer && ready && rss)) figures.push({ figure: "start", value: "summary lines missing", target: "", met: false });
+}
+
+/** Risk models (issue 15): tests/bench/risk.bench.ts prints these summary lines. */
+function risk() {
+  const out = run("bench:risk");
+  const train = /^risk summary training ([\d,]+) slabs, 10 conditions: ([\d.]+) s target < 60 s (met|NOT met)/m.exec(out);
+  if (train) figures.push({ figure: `risk model training, ${train[1]} slabs, 10 conditions`, value: `${train[2]} s`, target: "< 60 s", met: train[3] === "met" });
+  const during = /^risk summary report p95 during training (\d+) ms idle (\d+) ms ([\d.]+)×; yard (\d+) ms idle (\d+) ms/m.exec(out);
+  if (during) figures.push({ figure: "report p95 while a model trains / idle", value: `${during[3]}× (${during[1]} ms vs ${during[2]} ms; yard ${during[4]} vs ${during[5]} ms)`, target: "(recorded)", met: null });
+  const scoring = /^risk summary scoring 10,000 imported slabs adds (-?\d+) % \(([\d.]+) s vs ([\d.]+) s\) target < 20 % (met|NOT met)/m.exec(out);
+  if (scoring) figures.push({ figure: "import of 10,000 slabs: scoring on arrival adds", value: `${scoring[1]} % (${scoring[2]} s vs ${scoring[3]} s)`, target: "< 20 %", met: scoring[4] === "met" });
+  if (out && !(train && during && scoring)) figures.push({ figure: "bench:risk", value: "summary lines missing", target: "", met: false });
 }
 
 function imports() {
@@ -215,6 +228,7 @@ async function main() {
   if (wanted("load")) await load();
   if (wanted("writes")) writes();
   if (wanted("start")) start();
+  if (wanted("risk")) risk();
   if (wanted("bundles")) bundles();
   if (wanted("yard")) yardSave();
   if (wanted("client")) client();

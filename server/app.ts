@@ -38,6 +38,8 @@ import { requireRole } from "./middleware/require-role";
 import { createImportPool, type ImportPool } from "./import/import-pool";
 import { createReportThread, type ReportThread } from "./services/report-thread";
 import { riskRoutes } from "./routes/risk.routes";
+import { riskDriftRoutes } from "./routes/risk-drift.routes";
+import { operatingWindowRoutes } from "./routes/operating-windows.routes";
 import { onSlabFactsChangedOn } from "./services/report-cache";
 import { scoreOnArrival } from "./services/risk/risk.service";
 import { IMPORT_KINDS, IMPORT_MAX_BYTES } from "@shared/api/imports";
@@ -100,7 +102,7 @@ export function collectRoutes(deps: Deps): AnyRoute[] {
   return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
     ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps),
     ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps), ...claimRoutes(deps),
-    ...yardRoutes(deps), ...riskRoutes(deps)];
+    ...yardRoutes(deps), ...riskRoutes(deps), ...riskDriftRoutes(deps), ...operatingWindowRoutes(deps)];
 }
 
 export function createApp(opts: AppOptions) {

@@ -17,7 +17,8 @@ import { knownPhotoFiles } from "./services/defects.service";
 import { cleanupOrphanFiles } from "./services/photos.service";
 import { startReportCache } from "./services/report-cache";
 import { snapshotFileFor } from "./services/report-cache-snapshot";
-import { recoverRiskTraining, scoreUnscoredSlabs } from "./services/risk/risk.service";
+import { recoverRiskTraining, scoreUnscoredSlabsYielding } from "./services/risk/risk.service";
+import { scheduleRiskDrift } from "./services/risk/drift.service";
 
 /** When this process began: no file written before it can be an upload this process has in flight. */
 const processStartedAt = Date.now();
@@ -129,12 +130,9 @@ async function main() {
   // last stop when it is whole and current, else from the database (≈ 6 s per million slabs).
   // Slabs that arrived without being scored (a stop between an import and its scoring) are scored now.
   setImmediate(() => {
-    try {
-      const n = scoreUnscoredSlabs(db);
-      if (n) logger.info({ scored: n }, "slabs scored by the active risk models at start");
-    } catch (err) {
-      logger.error({ err }, "risk scoring at start failed");
-    }
+    scoreUnscoredSlabsYielding(db)
+      .then((n) => n && logger.info({ scored: n }, "slabs scored by the active risk models at start"))
+      .catch((err: unknown) => logger.error({ err }, "risk scoring at start failed"));
   });
   const reportCache = startReportCache(db, { snapshotFile: snapshotFileFor(path.resolve(env.DATABASE_FILE)), logger });
   // The first import thread starts once the report facts are in (or after 10 s), not on the first
@@ -146,6 +144,9 @@ async function main() {
     clearTimeout(warmTimer);
     warmImports();
   });
+  // Drift of the active risk models: checked once the report facts are in (not holding up the start),
+  // then once a day; newly drifted months are e-mailed to the quality engineers through the queue.
+  const stopDriftChecks = scheduleRiskDrift(db, { notify, logger, firstAfter: reportCache.whenReady() });
   console.log(`\nStrandsight is running: ${env.BETTER_AUTH_URL}`);
   if (demoUsers) {
     console.log(`Demo sign-ins (password: ${env.DEMO_PASSWORD === "strandsight-demo" ? "strandsight-demo" : "the DEMO_PASSWORD you set"}):`);
@@ -169,6 +170,7 @@ async function main() {
     stopping = true;
     logger.info({ signal }, "shutting down");
     for (const res of open) if (!res.headersSent) res.setHeader("Connection", "close");
+    stopDriftChecks();
     server.close(() => {
       void (async () => {
         await mailer.stop();

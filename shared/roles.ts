@@ -32,6 +32,10 @@ export const CAPABILITIES = {
   "risk.models.read": ["quality", "process", "admin"],
   /** Read slabs' risks (the inspector's check-first list included). */
   "risk.read": ["inspector", "quality", "process", "claims", "admin"],
+  /** Write, change and retire operating window rules. */
+  "windows.manage": ["process", "admin"],
+  /** Read operating window rules and their records on history (each slab's flags need only plant.read). */
+  "windows.read": ["quality", "process", "admin"],
   "imports.run": ["process", "admin"],
   "setup.manage": ["process", "admin"],
   "causes.tag": ["process", "admin"],

@@ -873,7 +873,7 @@ export const slabRisks = sqliteTable(
       .notNull()
       .references(() => riskModels.id, { onDelete: "cascade" }),
     risk: real("risk").notNull(),
-    /** [{ variable, label, value, unit, contribution }], largest first. */
+    /** [[condition key, value, contribution], …] largest first (labels and words rebuilt from the model when read; older rows hold full objects). */
     reasons: text("reasons", { mode: "json" }).notNull(),
     scoredAt: integer("scored_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
   },

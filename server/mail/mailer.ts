@@ -11,7 +11,7 @@ import nodemailer, { type Transporter } from "nodemailer";
 import type { Db } from "../db/client";
 import type { Logger } from "../lib/logger";
 
-export type MailKind = "critical_defect" | "action_assigned" | "action_overdue" | "investigation_closed" | "invitation" | "password_reset" | "heat_history";
+export type MailKind = "critical_defect" | "action_assigned" | "action_overdue" | "investigation_closed" | "invitation" | "password_reset" | "heat_history" | "risk_drift";
 
 export interface MailMessage {
   kind: MailKind;

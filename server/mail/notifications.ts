@@ -10,6 +10,7 @@ import type { Mailer, MailMessage } from "./mailer";
 
 type Row = Record<string, any>;
 
+
 export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: string; logger: Logger }) {
   const { db, mailer, baseUrl, logger } = opts;
   const sqlite = db.$client;
@@ -85,6 +86,43 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
         to: recipients,
         subject: `Investigation ${inv.ref} closed: ${cause.name}`,
         text: `The investigation ${inv.ref} “${inv.title}” is closed.\n\nConfirmed cause: ${cause.name} (${cause.code})\n\nClosure: ${inv.closure_note}\n\nThe record: ${link(`/investigations/${inv.id}`)}`,
+      });
+    },
+
+    /**
+     * A risk model has drifted (server/services/risk/drift.service.ts): the months newly found
+     * drifted, to every active quality engineer. Returns the outbox id, or null when nothing was queued.
+     */
+    riskDrift(
+      alert: { modelId: number; target: string; version: number; months: { month: string; slabs: number; affected: number; predicted: number; observed: number; citl: number | null; auc: number | null; aucCiLower: number | null; aucCiUpper: number | null; reason: string }[] },
+      validationAucCiLower: number | null,
+    ) {
+      const pc = (v: number) => `${(v * 100).toFixed(1)} %`;
+      const f = (v: number | null) => (v === null ? "not defined" : v.toFixed(2));
+      const lines = alert.months.map((m) =>
+        [
+          `${m.month}: ${m.slabs} judged slabs, ${m.affected} with the defect.`,
+          `  Predicted ${pc(m.predicted)} with the defect, observed ${pc(m.observed)}.`,
+          `  AUC ${f(m.auc)}${m.aucCiLower !== null && m.aucCiUpper !== null ? ` (95 % interval ${f(m.aucCiLower)} to ${f(m.aucCiUpper)})` : ""}${validationAucCiLower !== null ? `; at validation its interval began at ${validationAucCiLower.toFixed(2)}` : ""}.`,
+          `  Why: ${m.reason}.`,
+        ].join("\n"),
+      );
+      return send({
+        kind: "risk_drift",
+        to: activeWithRole("quality"),
+        subject: `Risk model drifting: ${alert.target}, version ${alert.version} (${alert.months.map((m) => m.month).join(", ")})`,
+        text: [
+          `The risk model for ${alert.target} (version ${alert.version}) no longer matches what the yard finds on the slabs cast since it was trained.`,
+          "",
+          ...lines,
+          "",
+          "What to do:",
+          "- Train a new version on recent slabs (Risk models, Train a new version), read its validation, and switch it on only if it beats the baseline.",
+          "- Until then read this model's risks with care: its order of the slabs may no longer hold.",
+          "- A risk orders the inspection work; it never clears a slab. Every slab is inspected as the plant's procedure requires.",
+          "",
+          `The model and its months: ${link("/risk-models")}`,
+        ].join("\n"),
       });
     },
 

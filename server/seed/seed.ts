@@ -33,6 +33,7 @@ import { createResolver } from "../services/conditions.service";
 import { addDemoPhotos } from "./demo-photos";
 import { generateProduction, type ProductionCounts } from "./demo-plant";
 import { seedRiskModels } from "../services/risk/risk.service";
+import { seedOperatingWindows } from "../services/operating-windows.service";
 import { generateLastShifts, type LastShiftsCounts } from "./last-shifts";
 
 export interface SeedResult {
@@ -150,6 +151,8 @@ export async function seedDemo(
   if (production) {
     const q = db.select({ id: user.id, name: user.name }).from(user).where(eq(user.email, "quality@demo.test")).get()!;
     production.riskModels = seedRiskModels(db, q, opts.now ?? Date.now());
+    // Three invented operating window rules of the process engineer (one the history bears out, one it does not).
+    seedOperatingWindows(db, userId("process@demo.test"));
   }
   // Demo photos for the newest unreviewed entries (only with a photo store, and only with new production).
   if (production && opts.uploadDir) production.photos = await addDemoPhotos(db, opts.uploadDir);

@@ -5,6 +5,7 @@ import type { EmbrCalibration } from "../db/schema";
 import { parseDateBound } from "../lib/dates";
 import { notFound } from "../lib/http-error";
 import { deriveValues } from "./conditions.service";
+import { windowFlagsForSlabs } from "./operating-windows.service";
 import { risksOfSlabs } from "./risk/risk.service";
 import { getPlantSettings } from "./settings.service";
 
@@ -134,6 +135,7 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
     )
     .all(h.id) as Record<string, any>[];
   const risks = risksOfSlabs(db, slabs.map((s) => s.rowId as number));
+  const flags = windowFlagsForSlabs(db, slabs.map((s) => s.rowId as number));
   const settings = getPlantSettings(db);
   const strandRows = c
     .prepare(
@@ -207,6 +209,7 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
       defects: s.defects,
       conditions: splitConditions(s as never),
       risk: risks.get(s.rowId)?.[0] ?? null,
+      windowFlags: (flags.get(s.rowId) ?? []).map((f) => f.name),
     })),
     sampleCount,
   };
@@ -303,5 +306,6 @@ export function getSlab(db: Db, slabId: string, readsCauses: boolean): SlabDetai
     }),
     defects: defects.map((d) => ({ ...d, foundAt: iso(d.foundAt)!, note: d.note ?? null, causes: causes.get(d.id) ?? [] })) as SlabDetail["defects"],
     risks: risksOfSlabs(db, [s.id as number]).get(s.id as number) ?? [],
+    windowFlags: (windowFlagsForSlabs(db, [s.id as number]).get(s.id as number) ?? []).map((f) => f.name),
   };
 }

@@ -110,6 +110,8 @@ export const slabSummarySchema = z.object({
   conditions: resolvedConditionsSchema.nullable(),
   /** The slab's highest risk under the switched-on risk models (band first); null when none is switched on. */
   risk: slabRiskBriefSchema.nullable(),
+  /** The names of the live operating-window rules the slab was cast outside of. */
+  windowFlags: z.array(z.string()),
 });
 
 export const heatDetailSchema = z.object({
@@ -234,6 +236,8 @@ export const slabDetailSchema = z.object({
   defects: z.array(slabDefectSchema),
   /** Its risk under each switched-on risk model, highest band first (empty when none is switched on). */
   risks: z.array(slabRiskBriefSchema),
+  /** The names of the live operating-window rules the slab was cast outside of. */
+  windowFlags: z.array(z.string()),
 });
 export type SlabDetail = z.infer<typeof slabDetailSchema>;
 

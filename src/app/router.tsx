@@ -114,6 +114,7 @@ export function createRouter(qc: QueryClient) {
         { path: "reports/cause-pareto", ...reportScreen(qc, "cause-pareto", () => import("./routes/report-cause-pareto")) },
         { path: "reports/adjusted", ...reportScreen(qc, "adjusted", () => import("./routes/report-adjusted")) },
         { path: "risk-models", lazy: lazyRoute(qc, () => import("./routes/risk-models")) },
+        { path: "operating-windows", lazy: lazyRoute(qc, () => import("./routes/operating-windows")) },
         { path: "causes", lazy: lazyRoute(qc, () => import("./routes/causes")) },
         { path: "investigations", lazy: lazyRoute(qc, () => import("./routes/investigations")) },
         { path: "investigations/new", lazy: lazyRoute(qc, () => import("./routes/investigation-new")) },

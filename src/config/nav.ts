@@ -24,6 +24,7 @@ export const NAV_ITEMS: NavItem[] = [
   { to: "/heats", label: "Heats", capability: "heats.browse", subPathsOpen: true },
   { to: "/reports", label: "Reports", capability: "reports.read" },
   { to: "/risk-models", label: "Risk models", capability: "risk.models.read" },
+  { to: "/operating-windows", label: "Operating windows", capability: "windows.read" },
   { to: "/investigations", label: "Investigations", capability: "investigations.read" },
   { to: "/causes", label: "Cause tags", capability: "causes.read" },
   { to: "/import", label: "Import", capability: "imports.run" },

@@ -14,30 +14,18 @@
  * server's time to answer, and reading the snapshot's bytes from disk. Target: listen, sign-in and the
  * yard within 2 s at any data size; RSS < 800 MB at 5 M slabs.
  */
-import { spawn, spawnSync, type ChildProcess } from "node:child_process";
+import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
-import net from "node:net";
 import os from "node:os";
 import path from "node:path";
-import { createAuth } from "../../server/auth";
-import { openDatabase } from "../../server/db/client";
-import { runMigrations } from "../../server/db/migrate";
-import { seedDemo } from "../../server/seed/seed";
+import { BENCH_PASSWORD, benchPlantFile, copyBenchPlant, freePort, REPO } from "./bench-plant";
 
 const SLABS = Number(process.env.BENCH_SLABS ?? 1_000_000);
 const GRID = process.env.BENCH_VALUES === "grid";
 const COMPILED = process.env.START_ENTRY === "compiled";
-const REPO = path.resolve(import.meta.dirname, "../..");
-const source = path.join(os.tmpdir(), `strandsight-bench-reports-v2-${SLABS}${GRID ? "-grid" : ""}.db`);
-const PASSWORD = "bench-password-1";
+const source = benchPlantFile(SLABS, GRID);
+const PASSWORD = BENCH_PASSWORD;
 
-async function freePort(): Promise<number> {
-  const probe = net.createServer();
-  await new Promise<void>((r) => probe.listen(0, "127.0.0.1", r));
-  const port = (probe.address() as net.AddressInfo).port;
-  await new Promise<void>((r) => probe.close(() => r()));
-  return port;
-}
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const s = (ms: number | null) => (ms === null ? "—" : `${(ms / 1000).toFixed(2)} s`);
 
@@ -170,21 +158,8 @@ async function floorStart(): Promise<number> {
 }
 
 async function main() {
-  if (!fs.existsSync(source)) {
-    console.log(`Generating the bench:reports plant first (${source}) …`);
-    const r = spawnSync(process.execPath, ["--import", "tsx", path.join(REPO, "tests/bench/reports.bench.ts")], { stdio: "inherit", env: { ...process.env, BENCH_GENERATE_ONLY: "1" } });
-    if (r.status !== 0) throw new Error("generating the plant failed");
-  }
-  const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-bench-start-"));
+  const dir = await copyBenchPlant(source, "strandsight-bench-start-");
   try {
-    fs.copyFileSync(source, path.join(dir, "app.db"));
-    {
-      const db = openDatabase(path.join(dir, "app.db"));
-      runMigrations(db);
-      const auth = createAuth({ db, secret: "bench-secret-0123456789-0123456789-abcdef", baseURL: "http://localhost:3000" });
-      await seedDemo(db, auth, { password: PASSWORD, production: false });
-      db.$client.close();
-    }
     const slabs = SLABS.toLocaleString("en");
     console.log(`Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); load ${os.loadavg().map((x) => x.toFixed(1)).join(" ")}`);
     const floor = await floorStart();

@@ -7,14 +7,14 @@ const env = useAppAndBrowser({ scale: 0.02 });
 // What each role should see in the menu, written out by hand.
 const homes = [
   { role: "inspector", path: "/yard", heading: "Find a slab", menu: ["Slab yard"] },
-  { role: "quality", path: "/quality", heading: "Quality", menu: ["Slab yard", "Quality", "Review", "Catalogue", "Claims", "Trace", "Heats", "Reports", "Risk models", "Investigations", "Cause tags"] },
-  { role: "process", path: "/process", heading: "Process", menu: ["Process", "Heats", "Reports", "Risk models", "Investigations", "Cause tags", "Import", "Plant setup"] },
+  { role: "quality", path: "/quality", heading: "Quality", menu: ["Slab yard", "Quality", "Review", "Catalogue", "Claims", "Trace", "Heats", "Reports", "Risk models", "Operating windows", "Investigations", "Cause tags"] },
+  { role: "process", path: "/process", heading: "Process", menu: ["Process", "Heats", "Reports", "Risk models", "Operating windows", "Investigations", "Cause tags", "Import", "Plant setup"] },
   { role: "claims", path: "/claims", heading: "Claims", menu: ["Claims", "Trace", "Heats", "Reports", "Investigations", "Cause tags"] },
   {
     role: "admin",
     path: "/admin/users",
     heading: "Users and roles",
-    menu: ["Slab yard", "Quality", "Review", "Catalogue", "Process", "Claims", "Trace", "Heats", "Reports", "Risk models", "Investigations", "Cause tags", "Import", "Plant setup", "Users", "API tokens", "Mail outbox"],
+    menu: ["Slab yard", "Quality", "Review", "Catalogue", "Process", "Claims", "Trace", "Heats", "Reports", "Risk models", "Operating windows", "Investigations", "Cause tags", "Import", "Plant setup", "Users", "API tokens", "Mail outbox"],
   },
 ] as const;
 

@@ -30,12 +30,11 @@ export interface ConfoundedPlant {
 
 export const CONFOUNDED_TRUTH = { intercept: -3.2, familyLC: 1.6, moldLevelSdMm: 0.9, superheatC: -0.04, embrCurrentA: -0.004, castingSpeed: 0 as const };
 
-/** Builds the plant into a database that holds the reference data (createTestApp({ production: false })). */
-export function buildConfoundedPlant(db: Db, opts: { heats?: number; slabsPerHeat?: number; seed?: number; start?: number } = {}): ConfoundedPlant {
-  const heats = opts.heats ?? 1000;
-  const perHeat = opts.slabsPerHeat ?? 8;
-  const r = createRandom(opts.seed ?? 20261202);
-  const start = opts.start ?? Date.UTC(2027, 0, 4, 6);
+/**
+ * What a test plant writes with: the reference rows it hangs on (caster CC2 and its two strands, an LC
+ * and a PER grade, the slag-spot and crack types, the demo inspector) and the insert statements.
+ */
+export function plantWriter(db: Db) {
   const c = db.$client;
   const one = (sql: string, ...a: unknown[]) => c.prepare(sql).pluck().get(...a) as number;
   const caster = one("select id from casters where code = 'CC2'");
@@ -54,6 +53,17 @@ export function buildConfoundedPlant(db: Db, opts: { heats?: number; slabsPerHea
   const defIns = c.prepare(
     "insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, created_by, review_status) values (?, ?, 'inner', 2500, 300, 2, 'slab_yard', 'scarf', ?, ?, 'confirmed')",
   );
+  const lfc = one("select id from defect_types where code = 'LFC'");
+  return { c, caster, strands, gradeLC, gradePER, slg, lfc, inspector, heatIns, slabIns, defIns };
+}
+
+/** Builds the plant into a database that holds the reference data (createTestApp({ production: false })). */
+export function buildConfoundedPlant(db: Db, opts: { heats?: number; slabsPerHeat?: number; seed?: number; start?: number } = {}): ConfoundedPlant {
+  const heats = opts.heats ?? 1000;
+  const perHeat = opts.slabsPerHeat ?? 8;
+  const r = createRandom(opts.seed ?? 20261202);
+  const start = opts.start ?? Date.UTC(2027, 0, 4, 6);
+  const { c, caster, strands, gradeLC, gradePER, slg, inspector, heatIns, slabIns, defIns } = plantWriter(db);
   const t = CONFOUNDED_TRUTH;
   let slabs = 0;
   let affected = 0;

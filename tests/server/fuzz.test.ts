@@ -595,6 +595,8 @@ beforeAll(async () => {
   const riskModelId = run(
     "insert into risk_models (target_kind, target_code, version, spec, status, error) values ('type', 'SLG', 99, '{\"targetKind\":\"type\",\"targetCode\":\"SLG\",\"conditions\":[],\"categories\":[\"grade_family\"],\"knots\":4}', 'failed', 'Fuzz: not trained')",
   );
+  // A live operating window rule to change and retire (every fuzz case on it is refused, so it stays as it is).
+  const windowId = run("insert into operating_windows (name, conditions) values ('Fuzz rule', ?)", JSON.stringify([{ variable: "casting_speed_m_min", op: "above", value: 1.6 }]));
   const id = (v: number | string) => ({ id: String(v) });
   const REPORT_QUERIES: Record<string, string> = {
     overview: "period=week",
@@ -726,8 +728,17 @@ beforeAll(async () => {
     },
     "GET /risk-models": {},
     "GET /risk-models/:id": { params: id(riskModelId) },
+    "GET /risk-models/:id/drift": { params: id(riskModelId) },
     "POST /risk-models/:id/activate": { params: id(riskModelId) },
     "GET /risk/slabs": { query: "uninspected=true" },
+    "GET /operating-windows": { query: "includeRetired=false" },
+    "POST /operating-windows": {
+      body: { name: "Fuzz window", familyCode: "LC", target: { kind: "type", code: "SLG" }, conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.6 }], note: "Fuzz." },
+      refuse: { body: (b) => ({ ...b, familyCode: "FUZZ-NO-FAMILY" }), uses: ["familyCode"] },
+    },
+    "PATCH /operating-windows/:id": { params: id(windowId), body: { note: "Fuzz changed." } },
+    "DELETE /operating-windows/:id": { params: id(windowId) },
+    "GET /operating-windows/flags": { query: `slabIds=${slabId}` },
   };
 });
 afterAll(async () => {

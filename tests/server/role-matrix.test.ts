@@ -324,9 +324,25 @@ Object.assign(matrix, {
   },
   "GET /risk-models": { allowed: ["quality", "process", "admin"], sample: () => ({ path: "/api/risk-models" }) },
   "GET /risk-models/:id": { allowed: ["quality", "process", "admin"], sample: (t) => ({ path: `/api/risk-models/${goodModel(t)}` }) },
+  "GET /risk-models/:id/drift": { allowed: ["quality", "process", "admin"], sample: (t) => ({ path: `/api/risk-models/${goodModel(t)}/drift` }) },
   "POST /risk-models/:id/activate": { allowed: ["quality", "admin"], sample: (t) => ({ path: `/api/risk-models/${goodModel(t)}/activate` }) },
   "GET /risk/slabs": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/risk/slabs?uninspected=true" }) },
+  "GET /operating-windows": { allowed: ["quality", "process", "admin"], sample: () => ({ path: "/api/operating-windows" }) },
+  "POST /operating-windows": {
+    allowed: SETUP,
+    sample: () => ({ path: "/api/operating-windows", body: { name: `Matrix rule ${++counter}`, familyCode: "LC", conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.6 }] } }),
+  },
+  "PATCH /operating-windows/:id": { allowed: SETUP, sample: (t) => ({ path: `/api/operating-windows/${freshWindow(t)}`, body: { note: "Changed by the matrix." } }) },
+  "DELETE /operating-windows/:id": { allowed: SETUP, sample: (t) => ({ path: `/api/operating-windows/${freshWindow(t)}` }) },
+  "GET /operating-windows/flags": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/operating-windows/flags?heatNo=${firstHeat(t)}` }) },
 } satisfies Record<string, Row>);
+
+/** A live operating window rule of its own for each call (SQL), so each role changes or retires its own. */
+function freshWindow(t: TestApp) {
+  return Number(
+    t.db.$client.prepare("insert into operating_windows (name, conditions) values (?, ?)").run(`Matrix window ${++counter}`, JSON.stringify([{ variable: "superheat_c", op: "above", value: 35 }])).lastInsertRowid,
+  );
+}
 
 /** The newest trained version that beats its baseline (the POST /risk-models row trains one before it is asked for). */
 function goodModel(t: TestApp) {

@@ -337,22 +337,32 @@ export interface Reason {
   contribution: number;
 }
 
+/** The spline terms of the typical slab (each numeric condition at its training median), once per model. */
+const typicalOf = new WeakMap<ModelTerms, number[][]>();
+function typicalSplines(terms: ModelTerms): number[][] {
+  let t = typicalOf.get(terms);
+  if (!t) typicalOf.set(terms, (t = terms.numeric.map((v) => splineTerms(v.median, v.knots, []))));
+  return t;
+}
+
 /**
- * A slab's risk and the contributions of its conditions against the typical slab (numeric at the
- * training median, category at its reference), largest first.
+ * A slab's risk, writing each condition's contribution against the typical slab (numeric at the
+ * training median, category at its reference; change in log-odds) into `contributions` — numeric
+ * conditions first, then categories, in the terms' order. No objects made: scoring an import's
+ * slabs runs inside its answer.
  */
-export function explain(terms: ModelTerms, numeric: (number | null)[], categorical: (number | null)[]): { risk: number; reasons: Reason[] } {
+export function scoreTerms(terms: ModelTerms, numeric: ArrayLike<number | null>, categorical: ArrayLike<number | null>, contributions: Float64Array, buf: number[] = []): number {
   const b = terms.coefficients;
+  const typical = typicalSplines(terms);
   let eta = b[0]!;
   let c = 1;
-  const reasons: Reason[] = [];
-  const buf: number[] = [];
-  const typicalBuf: number[] = [];
-  terms.numeric.forEach((v, k) => {
+  const nn = terms.numeric.length;
+  for (let k = 0; k < nn; k++) {
+    const v = terms.numeric[k]!;
     const raw = numeric[k];
     const x = raw !== null && raw !== undefined && Number.isFinite(raw) ? raw : v.median;
     const s = splineTerms(x, v.knots, buf);
-    const s0 = splineTerms(v.median, v.knots, typicalBuf);
+    const s0 = typical[k]!;
     let contribution = b[c]! * (x - v.median);
     eta += b[c]! * x;
     c++;
@@ -361,9 +371,10 @@ export function explain(terms: ModelTerms, numeric: (number | null)[], categoric
       eta += b[c]! * s[j]!;
       c++;
     }
-    reasons.push({ variable: v.key, label: v.label, value: raw ?? null, unit: v.unit, contribution });
-  });
-  terms.categorical.forEach((cat, k) => {
+    contributions[k] = contribution;
+  }
+  for (let k = 0; k < terms.categorical.length; k++) {
+    const cat = terms.categorical[k]!;
     const code = categorical[k];
     let contribution = 0;
     for (const l of cat.levels) {
@@ -373,10 +384,29 @@ export function explain(terms: ModelTerms, numeric: (number | null)[], categoric
       }
       c++;
     }
-    const name = code === null || code === undefined ? null : code === cat.reference ? cat.referenceName : (cat.levels.find((l) => l.code === code)?.name ?? null);
-    reasons.push({ variable: cat.key, label: cat.label, value: name, unit: null, contribution });
-  });
+    contributions[nn + k] = contribution;
+  }
+  return logistic(eta);
+}
+
+/** The name of a slab's category code under the terms (null when unknown). */
+export function categoryName(cat: ModelTerms["categorical"][number], code: number | null | undefined): string | null {
+  return code === null || code === undefined ? null : code === cat.reference ? cat.referenceName : (cat.levels.find((l) => l.code === code)?.name ?? null);
+}
+
+/**
+ * A slab's risk and the contributions of its conditions against the typical slab (numeric at the
+ * training median, category at its reference), largest first.
+ */
+export function explain(terms: ModelTerms, numeric: (number | null)[], categorical: (number | null)[]): { risk: number; reasons: Reason[] } {
+  const nn = terms.numeric.length;
+  const contributions = new Float64Array(nn + terms.categorical.length);
+  const risk = scoreTerms(terms, numeric, categorical, contributions);
+  const reasons: Reason[] = [
+    ...terms.numeric.map((v, k) => ({ variable: v.key, label: v.label, value: numeric[k] ?? null, unit: v.unit, contribution: contributions[k]! })),
+    ...terms.categorical.map((cat, k) => ({ variable: cat.key, label: cat.label, value: categoryName(cat, categorical[k]), unit: null, contribution: contributions[nn + k]! })),
+  ];
   // Contributions sum to eta minus the typical slab's eta; the order is by what raises the risk most.
   reasons.sort((a, z) => z.contribution - a.contribution);
-  return { risk: logistic(eta), reasons };
+  return { risk, reasons };
 }

@@ -6,10 +6,10 @@
  * for it waits for the answer while the server goes on answering everyone else, and the version's
  * row shows the progress to anyone who looks (GET /api/risk-models). One training at a time.
  *
- * Scoring: every slab cast in the last YARD_UNINSPECTED_MAX_DAYS that has no risk under an active
- * model is scored — right after an import or feed call has written slabs, when a model is switched
- * on, and at every start. Because the rule is "whatever has no score yet", a crash between an import
- * and its scoring leaves nothing unscored after the restart.
+ * Scoring: the slabs an import or feed call has written are scored right after (those cast in the
+ * last YARD_UNINSPECTED_MAX_DAYS); when a model is switched on and at every start, every slab of those
+ * days with no risk under an active model is. Because the start's rule is "whatever has no score yet",
+ * a crash between an import and its scoring leaves nothing unscored after the restart.
  */
 import { Worker } from "node:worker_threads";
 import type { Db } from "../../db/client";
@@ -21,7 +21,7 @@ import { VARIABLES } from "@shared/variables";
 import { RISK_CATEGORY_LABELS, type RiskBand, type RiskModel, type RiskReason, type SlabRisk, type SlabRiskBrief, type TrainRiskModelBody } from "@shared/api/risk";
 import { YARD_UNINSPECTED_MAX_DAYS } from "@shared/api/yard";
 import { bandOf } from "./bands";
-import { explain, trainRiskModel, type ModelTerms, type TrainedModel } from "./model";
+import { categoryName, scoreTerms, trainRiskModel, type ModelTerms, type TrainedModel } from "./model";
 import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData, slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
 
@@ -311,16 +311,75 @@ function reasonText(r: { variable: string; label: string; value: number | string
   return `${r.label}: ${r.value ?? "unknown"}${cat ? ` (most common: ${cat.referenceName})` : ""}`;
 }
 
-/** Risk and reasons of slabs under one model, from their stored conditions. */
-function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: number; risk: number; reasons: RiskReason[] }[] {
+/**
+ * A reason as stored with a slab's risk: [condition key, the slab's value, contribution] — the label,
+ * unit and words are rebuilt from the model's terms when read (expandReasons), which keeps each row
+ * short (scoring 10,000 imported slabs writes 10,000 rows inside the import's answer).
+ */
+type StoredReason = [variable: string, value: number | string | null, contribution: number];
+
+const short = (x: number) => Number(x.toPrecision(6));
+
+/** Stored reasons in full (older rows hold them in full already). */
+function expandReasons(terms: ModelTerms, stored: unknown): RiskReason[] {
+  if (!Array.isArray(stored)) return [];
+  return stored.map((r: StoredReason | RiskReason) => {
+    if (!Array.isArray(r)) return r;
+    const [key, value, contribution] = r;
+    const num = terms.numeric.find((v) => v.key === key);
+    const cat = num ? undefined : terms.categorical.find((c) => c.key === key);
+    const reason = { variable: key, label: num?.label ?? cat?.label ?? key, value, unit: num?.unit ?? null, contribution };
+    return { ...reason, text: reasonText(reason, terms) };
+  });
+}
+
+/** Parsed terms of each version (a version's terms never change once trained), by database and id. */
+const termsCache = new Map<string, ModelTerms>();
+function termsOf(db: Db, modelId: number): ModelTerms | null {
+  const key = `${db.$client.name}#${modelId}`;
+  let t = termsCache.get(key);
+  if (!t) {
+    const raw = db.$client.prepare("select terms from risk_models where id = ? and status = 'ready'").pluck().get(modelId) as string | undefined;
+    if (!raw) return null;
+    termsCache.set(key, (t = JSON.parse(raw) as ModelTerms));
+  }
+  return t;
+}
+const readReasons = (db: Db, modelId: number, json: string) => {
+  const terms = termsOf(db, modelId);
+  return terms ? expandReasons(terms, JSON.parse(json)) : [];
+};
+
+/** Risk and the reasons to store of slabs under one model, from their stored conditions. */
+function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: number; risk: number; reasons: StoredReason[] }[] {
   const inputs = slabInputs(db.$client, model.terms.numeric.map((v) => v.key), model.terms.categorical.map((c) => c.key as RiskCategory), slabIds);
-  const out: { slabId: number; risk: number; reasons: RiskReason[] }[] = [];
+  const out: { slabId: number; risk: number; reasons: StoredReason[] }[] = [];
+  const { numeric, categorical } = model.terms;
+  const nn = numeric.length;
+  const contributions = new Float64Array(nn + categorical.length);
+  const used = new Uint8Array(contributions.length);
+  const buf: number[] = [];
   for (const id of slabIds) {
     const input = inputs.get(id);
     if (!input) continue;
-    const { risk, reasons } = explain(model.terms, input.numeric, input.categorical);
-    const raising = reasons.filter((x) => x.contribution > 1e-9).slice(0, REASONS_KEPT);
-    out.push({ slabId: id, risk, reasons: raising.map((x) => ({ ...x, text: reasonText(x, model.terms) })) });
+    const risk = scoreTerms(model.terms, input.numeric, input.categorical, contributions, buf);
+    // The few largest contributions that raise the risk, largest first (the same order as explain's).
+    const kept: StoredReason[] = [];
+    used.fill(0);
+    while (kept.length < REASONS_KEPT) {
+      let best = -1;
+      for (let j = 0; j < contributions.length; j++) if (!used[j] && contributions[j]! > 1e-9 && (best < 0 || contributions[j]! > contributions[best]!)) best = j;
+      if (best < 0) break;
+      used[best] = 1;
+      if (best < nn) {
+        const value = input.numeric[best];
+        kept.push([numeric[best]!.key, typeof value === "number" ? short(value) : null, short(contributions[best]!)]);
+      } else {
+        const cat = categorical[best - nn]!;
+        kept.push([cat.key, categoryName(cat, input.categorical[best - nn]), short(contributions[best]!)]);
+      }
+    }
+    out.push({ slabId: id, risk, reasons: kept });
   }
   return out;
 }
@@ -330,17 +389,29 @@ function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: num
  * risk under it yet. Chunks of 2,000 slabs, a transaction each; yields the count after each chunk, so a
  * caller can let the server answer others between chunks (scoreUnscoredSlabsYielding).
  */
-function* scoringChunks(db: Db, now: number): Generator<number> {
+function* scoringChunks(db: Db, now: number, only?: number[]): Generator<number> {
   const c = db.$client;
-  const insert = c.prepare("insert or replace into slab_risks (slab_id, model_id, risk, reasons, scored_at) values (?, ?, ?, ?, ?)");
+  // "or ignore": a slab scored meanwhile by another pass (an import during a switching on) got the same answer.
+  const insert = c.prepare("insert or ignore into slab_risks (slab_id, model_id, risk, reasons, scored_at) values (?, ?, ?, ?, ?)");
   for (const m of activeModels(db)) {
-    const ids = c
-      .prepare(
-        `select s.id from slabs s join slab_conditions c on c.slab_id = s.id where s.cast_at >= ?
-           and not exists (select 1 from slab_risks r where r.slab_id = s.id and r.model_id = ?)`,
-      )
-      .pluck()
-      .all(now - YARD_UNINSPECTED_MAX_DAYS * DAY, m.id) as number[];
+    // The named slabs (just arrived: looked up by id, not found by scanning the recent ones), else every unscored recent slab.
+    const ids = (
+      only
+        ? c
+            .prepare(
+              `select s.id from json_each(?) j cross join slabs s on s.id = j.value cross join slab_conditions c on c.slab_id = s.id where s.cast_at >= ?
+                 and not exists (select 1 from slab_risks r where r.slab_id = s.id and r.model_id = ?)`,
+            )
+            .pluck()
+            .all(JSON.stringify(only), now - YARD_UNINSPECTED_MAX_DAYS * DAY, m.id)
+        : c
+            .prepare(
+              `select s.id from slabs s join slab_conditions c on c.slab_id = s.id where s.cast_at >= ?
+                 and not exists (select 1 from slab_risks r where r.slab_id = s.id and r.model_id = ?)`,
+            )
+            .pluck()
+            .all(now - YARD_UNINSPECTED_MAX_DAYS * DAY, m.id)
+    ) as number[];
     for (let i = 0; i < ids.length; i += 2000) {
       const chunk = scoreWith(db, m, ids.slice(i, i + 2000));
       const at = Date.now();
@@ -352,10 +423,13 @@ function* scoringChunks(db: Db, now: number): Generator<number> {
   }
 }
 
-/** Scores every unscored recent slab at once (an import's few slabs; the pass at start). Returns the count. */
-export function scoreUnscoredSlabs(db: Db, now = Date.now()): number {
+/**
+ * Scores every unscored recent slab at once — or only the named ones (an import's slabs, scored
+ * before it answers; anything else left unscored is found by the pass at start). Returns the count.
+ */
+export function scoreUnscoredSlabs(db: Db, now = Date.now(), only?: number[]): number {
   let scored = 0;
-  for (const n of scoringChunks(db, now)) scored += n;
+  for (const n of scoringChunks(db, now, only)) scored += n;
   return scored;
 }
 
@@ -442,7 +516,7 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
     castAt: iso(r.castAt),
     risk: r.risk,
     band: bandOf(r.risk, r.high, r.raised),
-    reasons: JSON.parse(r.reasons) as RiskReason[],
+    reasons: readReasons(db, r.modelId, r.reasons),
     modelId: r.modelId,
     modelVersion: r.version,
     target: targetOfModel.get(r.modelId) ?? r.code,
@@ -453,7 +527,7 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
 
 /**
  * Scoring on arrival: after slab conditions change (an import, a feed call, a re-resolve), the changed
- * slabs' old risks go and every unscored recent slab is scored — at once when the change is told
+ * slabs' old risks go and those of them cast in the last 90 days are scored — at once when the change is told
  * outside a transaction (an import thread's, told when it has committed: the import answers after its
  * slabs are scored), else right after the transaction (setImmediate). A change of everything (a
  * calibration, grade families) scores the recent slabs again.
@@ -466,9 +540,11 @@ export function scoreOnArrival(db: Db, logger?: Logger) {
     if (!p) return;
     try {
       if (!anyActiveModel(db)) return;
-      db.$client.transaction(() => forgetRisks(db, p.all ? null : [...p.ids]))();
-      const n = scoreUnscoredSlabs(db);
-      if (n) logger?.info({ scored: n }, "slabs scored by the active risk models");
+      const t0 = performance.now();
+      const ids = p.all ? null : [...p.ids];
+      db.$client.transaction(() => forgetRisks(db, ids))();
+      const n = scoreUnscoredSlabs(db, Date.now(), ids ?? undefined);
+      if (n) logger?.info({ scored: n, ms: Math.round(performance.now() - t0) }, "slabs scored by the active risk models");
     } catch (err) {
       logger?.error({ err }, "risk scoring failed; the slabs are scored at the next import or start");
     }
@@ -535,7 +611,7 @@ export function topRiskOfSlabs(db: Db, slabRowIds: number[]) {
       band,
       target: names.get(key)!,
       modelVersion: r.version,
-      reasons: (JSON.parse(r.reasons) as RiskReason[]).map((x) => x.text),
+      reasons: readReasons(db, r.model, r.reasons).map((x) => x.text),
       usualPlace: places.get(r.model) ?? null,
     });
   }
@@ -567,11 +643,13 @@ export function risksOfSlabs(db: Db, slabRowIds: number[]): Map<number, SlabRisk
         missing.push(id);
         continue;
       }
-      out.get(id)!.push({ target, modelId: m.id, modelVersion: m.version, risk: r.risk, band: bandOf(r.risk, m.high, m.raised), reasons: JSON.parse(r.reasons) as RiskReason[], stored: true });
+      out.get(id)!.push({ target, modelId: m.id, modelVersion: m.version, risk: r.risk, band: bandOf(r.risk, m.high, m.raised), reasons: readReasons(db, m.id, r.reasons), stored: true });
     }
-    if (missing.length)
-      for (const s of scoreWith(db, { id: m.id, terms: JSON.parse(m.terms) as ModelTerms }, missing))
-        out.get(s.slabId)!.push({ target, modelId: m.id, modelVersion: m.version, risk: s.risk, band: bandOf(s.risk, m.high, m.raised), reasons: s.reasons, stored: false });
+    if (missing.length) {
+      const terms = JSON.parse(m.terms) as ModelTerms;
+      for (const s of scoreWith(db, { id: m.id, terms }, missing))
+        out.get(s.slabId)!.push({ target, modelId: m.id, modelVersion: m.version, risk: s.risk, band: bandOf(s.risk, m.high, m.raised), reasons: expandReasons(terms, s.reasons), stored: false });
+    }
   }
   for (const list of out.values()) list.sort((a, b) => RISK_RANK[b.band] - RISK_RANK[a.band] || b.risk - a.risk);
   return out;

@@ -4,14 +4,14 @@
  * own with its own connection.
  *
  * Outcome: the slab carries at least one live, unrejected entry of the target defect type (or of a
- * type in the target category). Whether the outcome is known: the slab has been rolled (a coil or
- * plate), or was cast more than JUDGED_AFTER_DAYS before the training — by then it has passed the yard.
- * The product records no "inspected, nothing found", so a recent slab that is neither is not yet judged
- * and is left out of training and validation (it is what gets scored) — with or without an entry: keeping
- * the recent slabs that have an entry while leaving out the clean ones would fill the newest months
- * (the test part) with defective slabs and flatter the validation. The rule looks only at time and
- * rolling, never at the outcome. The reports count every slab in their rates; the difference is only
- * the last fortnight.
+ * type in the target category). Whether the outcome is known: the slab was cast more than
+ * JUDGED_AFTER_DAYS before the training — by then it has passed the yard. The product records no
+ * "inspected, nothing found", so a recent slab is not yet judged and is left out of training and
+ * validation (it is what gets scored) whatever has happened to it since: keeping the recent slabs
+ * with an entry would fill the newest months (the test part) with defective slabs, and keeping the
+ * recent rolled ones would empty them of defective slabs (a slab held for a defect is not rolled).
+ * The rule looks only at time, never at the outcome. The reports count every slab in their rates; the
+ * difference is only the last fortnight.
  */
 import type Database from "better-sqlite3";
 import { CATEGORICAL_LABELS, VARIABLES } from "@shared/variables";
@@ -87,7 +87,7 @@ export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf
     select c.slab_id, c.cast_at, coalesce(c.family_id, 0), ${spec.categories.map((k) => CATEGORY_COLUMN[k]).join(", ")}${spec.categories.length ? "," : ""}
       ${conds.map((v) => `c.${v.key}`).join(", ")}${conds.length ? "," : ""}
       exists (select 1 from defects d where d.slab_id = c.slab_id and d.deleted_at is null and d.review_status <> 'rejected' and d.type_id in (${ids})) as affected,
-      (c.cast_at <= @judgedBefore or exists (select 1 from products p where p.slab_id = c.slab_id)) as judged
+      (c.cast_at <= @judgedBefore) as judged
     from slab_conditions c where ${where.join(" and ")} order by c.cast_at, c.slab_id`;
   // Read row by row into growing typed columns: a million slabs as JS arrays would cost ~0.5 GB.
   const nc = spec.categories.length;
@@ -165,19 +165,18 @@ export function slabInputs(
   const out = new Map<number, { numeric: (number | null)[]; categorical: (number | null)[] }>();
   for (const k of numericKeys) if (!VARIABLES.some((v) => v.key === k)) throw new Error(`Unknown condition ${k}`);
   const cols = [...categoryKeys.map((k) => CATEGORY_COLUMN[k]), ...numericKeys.map((k) => `c.${k}`)];
-  for (let i = 0; i < slabIds.length; i += 500) {
-    const chunk = slabIds.slice(i, i + 500);
-    const rows = sqlite
-      .prepare(`select c.slab_id${cols.length ? ", " : ""}${cols.join(", ")} from slab_conditions c where c.slab_id in (${chunk.map(() => "?").join(",")})`)
-      .raw()
-      .all(...chunk) as (number | null)[][];
+  // One statement for every chunk: the ids travel as one JSON array.
+  const read = sqlite
+    .prepare(`select c.slab_id${cols.length ? ", " : ""}${cols.join(", ")} from json_each(?) j cross join slab_conditions c on c.slab_id = j.value`)
+    .raw();
+  const nc = categoryKeys.length;
+  const seq = categoryKeys.indexOf("sequence_position");
+  for (let i = 0; i < slabIds.length; i += 5000) {
+    const rows = read.all(JSON.stringify(slabIds.slice(i, i + 5000))) as (number | null)[][];
     for (const r of rows) {
-      const categorical = categoryKeys.map((k, j) => {
-        const v = r[1 + j] ?? null;
-        return k === "sequence_position" ? sequenceCode(v) : v;
-      });
-      const numeric = numericKeys.map((_, j) => r[1 + categoryKeys.length + j] ?? null);
-      out.set(r[0]!, { numeric, categorical });
+      const categorical = r.slice(1, 1 + nc);
+      if (seq >= 0) categorical[seq] = sequenceCode(categorical[seq] ?? null);
+      out.set(r[0]!, { numeric: r.slice(1 + nc), categorical });
     }
   }
   return out;

@@ -12,9 +12,11 @@ import { authKeys } from "@/features/auth/api/session";
 import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
 import { Figure } from "@/features/reports/components/figure";
 import { riskKeys, useActivateRiskModel, useTrainRiskModel } from "@/features/risk/api/risk.queries";
+import { DriftPanel } from "@/features/risk/components/drift-panel";
 import { date, dateTime, num, pct, sig } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
+import { DefectTargetOptions } from "@/features/defects/components/defect-target-options";
 
 const ReliabilityChart = lazy(() => import("@/features/risk/components/reliability-chart").then((m) => ({ default: m.ReliabilityChart })));
 
@@ -61,20 +63,7 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
         </label>
         <select id="risk-target" required value={target} onChange={(e) => setTarget(e.target.value)} className="min-h-11 rounded-md border border-ink-300 bg-white px-3">
           <option value="">Choose a defect type or category…</option>
-          <optgroup label="Categories">
-            {cats.map((c) => (
-              <option key={c.code} value={`category:${c.code}`}>
-                {c.name} (any type)
-              </option>
-            ))}
-          </optgroup>
-          <optgroup label="Defect types">
-            {types.map((t) => (
-              <option key={t.code} value={`type:${t.code}`}>
-                {t.name} ({t.code})
-              </option>
-            ))}
-          </optgroup>
+          <DefectTargetOptions categories={cats} types={types} />
         </select>
       </div>
       <fieldset>
@@ -244,6 +233,11 @@ export function Component() {
       {shown !== null ? (
         <Card title="The version">
           <ModelDetail id={shown} canTrain={canTrain} />
+        </Card>
+      ) : null}
+      {shown !== null && items.find((m) => m.id === shown)?.status === "ready" ? (
+        <Card title="Drift since training: predicted against found, month by month">
+          <DriftPanel modelId={shown} />
         </Card>
       ) : null}
       {canTrain ? (

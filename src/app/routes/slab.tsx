@@ -14,6 +14,7 @@ import { slabKeys } from "@/features/slabs/api/slabs.queries";
 import { CrossSection, SlabDrawing, type DrawnMark } from "@/features/slabs/components/slab-drawing";
 import { SlabConditionsTable, SlabDefects, SlabDerived, SlabFacts } from "@/features/slabs/components/slab-sections";
 import { SlabRisks } from "@/features/risk/components/risk-band";
+import { WindowFlags } from "@/features/windows/components/window-flags";
 import { plural } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
@@ -82,6 +83,7 @@ export function Component() {
           ) : null
         }
       />
+      <WindowFlags names={s.windowFlags} />
       <Card>
         <SlabFacts slab={s} />
       </Card>

@@ -10,6 +10,7 @@ import { authKeys } from "@/features/auth/api/session";
 import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
 import { defectKeys, todayRange } from "@/features/defects/api/defects.queries";
 import { DefectForm, type FormMode } from "@/features/defects/components/defect-form";
+import { WindowFlags } from "@/features/windows/components/window-flags";
 import { EntriesList, OutboxStatus } from "@/features/defects/components/entries-list";
 import { useOutbox } from "@/features/defects/offline/use-outbox";
 import { HotYardCaution } from "@/features/plant/components/hot-yard-caution";
@@ -221,6 +222,7 @@ export function Component() {
           </Notice>
         </div>
       ) : null}
+      {slab.source !== "unknown" ? <WindowFlags slabId={slab.slabId} /> : null}
       <SlabIdFixes entries={refusedHere} onFixed={onFixed} linkToEntry={false} />
       <OutboxStatus outbox={outbox} />
       {flash ? (

@@ -58,6 +58,11 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
                       <TransitionMark transition />
                     </div>
                   ) : null}
+                  {s.windowFlags.length ? (
+                    <div className="text-xs font-semibold text-ember-700" title="cast outside these operating windows" data-testid="heat-slab-window-flags">
+                      outside: {s.windowFlags.join("; ")}
+                    </div>
+                  ) : null}
                 </td>
                 <td className="whitespace-nowrap px-1 py-2 lg:px-2 text-right tabular-nums">
                   {num(s.thicknessMm)}×{num(s.widthMm)}×{num(s.lengthMm)}
@@ -89,6 +94,7 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
         <SourceLegend />
         <p className="flex items-center gap-1 text-xs text-ink-600">
           <TransitionMark transition /> = cut across a ladle change · n = process samples behind the slab's values
+          {slabs.some((s) => s.windowFlags.length) ? " · outside = cast outside the named operating windows" : ""}
           {withRisk ? " · Risk = the slab's highest band under the switched-on risk models (an association learnt from history; it never clears a slab)" : ""}
         </p>
       </div>

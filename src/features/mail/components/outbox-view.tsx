@@ -22,6 +22,7 @@ const KIND_LABELS: Record<string, string> = {
   invitation: "Invitation",
   password_reset: "Password reset",
   heat_history: "Heat history",
+  risk_drift: "Risk model drift",
 };
 export const kindLabel = (k: string) => KIND_LABELS[k] ?? k.replace(/_/g, " ");
 
