@@ -37,6 +37,7 @@ import {
   type windowListQuerySchema,
 } from "@shared/api/operating-windows";
 import { VARIABLES } from "@shared/variables";
+import { databaseIdOf } from "../db/identity";
 import type { Db } from "../db/client";
 import { badRequest, conflict, notFound } from "../lib/http-error";
 import { differenceOfProportions, wilson } from "../stats/proportions";
@@ -58,7 +59,7 @@ export const WINDOW_METHOD =
   "the rest: at least one condition does not hold; slabs missing a value the rule needs are counted apart and left out of both. " +
   "A slab carries the defect when it has at least one live, not rejected entry of the target type or category (of any type when the rule names none). " +
   "Each share with its Wilson score interval, 95 %, no continuity correction (Wilson 1927; Newcombe 1998, Stat. Med. 17:857, method 3); " +
-  "the difference flagged − rest with Newcombe's hybrid score interval (method 10), and the verdict from whether that interval excludes zero. " +
+  "the difference flagged − rest with Newcombe's hybrid score interval (Newcombe 1998, Stat. Med. 17:873, method 10), and the verdict from whether that interval excludes zero. " +
   "An association on history, not a cause.";
 
 // ------------------------------------------------------------------------------------------------
@@ -362,7 +363,7 @@ function dataFingerprint(sqlite: Database.Database): string {
 
 /** The counts, shared by requests asking at the same time (one pass, not one per request). */
 function cachedCounts(sqlite: Database.Database, rules: Rule[], fromMs: number, toMs: number): Promise<Map<number, Counts>> {
-  const key = `${sqlite.name}|${fromMs}|${toMs}|${dataFingerprint(sqlite)}|${rules.map((r) => `${r.id}@${r.updatedAt}`).join(",")}`;
+  const key = `${databaseIdOf(sqlite)}|${fromMs}|${toMs}|${dataFingerprint(sqlite)}|${rules.map((r) => `${r.id}@${r.updatedAt}`).join(",")}`;
   const hit = recordCache.get(key);
   if (hit && Date.now() - hit.at < CACHE_AGE_MS) return hit.counts;
   const counts = countRecords(sqlite, rules, fromMs, toMs);

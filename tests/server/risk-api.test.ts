@@ -190,6 +190,10 @@ describe("risk models over HTTP", () => {
       modelId,
     );
     expect((await overview("&riskBand=high&defectType=SLG")).affected).toBe(highAffected);
+    // A defect type with no switched-on model of its own (nor its category's): refused, not ranked by the slag-spot model.
+    const other = await quality.get("/api/reports/overview?riskBand=high&defectType=LFC");
+    expect(other.status).toBe(400);
+    expect(other.body.error.message).toMatch(/No risk model is switched on for the defect type LFC/);
     const bad = await quality.get("/api/reports/overview?riskBand=severe");
     expect(bad.status).toBe(400);
     expect(JSON.stringify(bad.body.error)).toMatch(/high, raised or usual/);

@@ -148,8 +148,8 @@ const rows = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).all(...
 const notify = () => createNotifications({ db: t.db, mailer: t.mailer, baseUrl: t.env.BETTER_AUTH_URL, logger: createLogger("silent") });
 
 describe("drift of the active models, month by month", () => {
-  it("when the check runs, then every month after the training is stored; the SLG months after the shift are drifted, those before and every LFC month are not, and the thin month is too few to judge", () => {
-    const summary = checkRiskDrift(t.db, { notify: notify(), now: Date.now() });
+  it("when the check runs, then every month after the training is stored; the SLG months after the shift are drifted, those before and every LFC month are not, and the thin month is too few to judge", async () => {
+    const summary = await checkRiskDrift(t.db, { notify: notify(), now: Date.now() });
     expect(summary.map((s) => s.modelId).sort()).toEqual([models.SLG, models.LFC].sort());
     const slg = rows("select * from risk_drift_checks where model_id = ? order by month", models.SLG);
     const lfc = rows("select * from risk_drift_checks where model_id = ? order by month", models.LFC);
@@ -209,7 +209,7 @@ describe("drift of the active models, month by month", () => {
     expect(alerted.map((r) => r.month)).toEqual([monthKey(10), monthKey(11)]);
     expect(rows("select 1 from risk_drift_checks where model_id = ? and alerted_at is not null", models.LFC)).toHaveLength(0);
 
-    const again = checkRiskDrift(t.db, { notify: notify(), now: Date.now() });
+    const again = await checkRiskDrift(t.db, { notify: notify(), now: Date.now() });
     expect(again.find((s) => s.modelId === models.SLG)).toMatchObject({ drifted: [monthKey(10), monthKey(11)], alerted: [] });
     expect(rows("select * from email_outbox where kind = 'risk_drift'")).toHaveLength(1);
     expect(rows("select month, alerted_at from risk_drift_checks where model_id = ? and alerted_at is not null order by month", models.SLG)).toEqual(alerted);
@@ -258,10 +258,10 @@ describe("drift of the active models, month by month", () => {
     expect(lfc.body.months.every((m: any) => !m.drifted)).toBe(true);
   });
 
-  it("when the check runs in the middle of a month, then that month is provisional and holds only the slabs cast at least 14 days before", () => {
+  it("when the check runs in the middle of a month, then that month is provisional and holds only the slabs cast at least 14 days before", async () => {
     const DAY = 86_400_000;
     const at = monthStart(12) + 20 * DAY;
-    const d = riskModelDrift(t.db, models.SLG, at);
+    const d = await riskModelDrift(t.db, models.SLG, at);
     const last = d.months[d.months.length - 1]!;
     expect(last.month).toBe(monthKey(12));
     expect(last.provisional).toBe(true);
@@ -272,6 +272,12 @@ describe("drift of the active models, month by month", () => {
     expect(expected).toBeLessThan(40);
     expect(last.slabs).toBe(expected);
     expect(d.months.slice(0, -1).every((m) => !m.provisional)).toBe(true);
+    // Early in the next month the last one has not had its 14 days yet: still provisional, never final.
+    const early = await riskModelDrift(t.db, models.SLG, monthStart(13) + 5 * DAY);
+    const open = early.months[early.months.length - 1]!;
+    expect(open.month).toBe(monthKey(12));
+    expect(open.provisional).toBe(true);
+    expect(early.months.slice(0, -1).every((m) => !m.provisional)).toBe(true);
   });
 
   it("when an inspector asks, or the model does not exist or never finished training, then 403, 404 and 409 in words", async () => {

@@ -82,12 +82,17 @@ export function buildScope(db: Db, f: ReportFilters, opts: { skipDates?: boolean
   }
 
   const defectWhere = ["d.deleted_at is null", "d.review_status <> 'rejected'"];
-  const typeIds = f.defectType.length ? idsFor(sqlite, "defect_types", f.defectType, "defect type", "defectType") : [];
-  if (f.defectType.length) defectWhere.push(`d.type_id in ${inList(typeIds)}`);
+  // The defect types the defect filters leave (both filters must hold), for the risk band's models.
+  let typeIds: number[] | null = null;
+  if (f.defectType.length) {
+    typeIds = idsFor(sqlite, "defect_types", f.defectType, "defect type", "defectType");
+    defectWhere.push(`d.type_id in ${inList(typeIds)}`);
+  }
   if (f.category.length) {
     const cats = idsFor(sqlite, "defect_categories", f.category, "defect category", "category");
     defectWhere.push(`d.type_id in (select id from defect_types where category_id in ${inList(cats)})`);
-    typeIds.push(...(sqlite.prepare(`select id from defect_types where category_id in ${inList(cats)}`).pluck().all() as number[]));
+    const inCats = new Set(sqlite.prepare(`select id from defect_types where category_id in ${inList(cats)}`).pluck().all() as number[]);
+    typeIds = typeIds ? typeIds.filter((id) => inCats.has(id)) : [...inCats];
   }
   if (f.riskBand?.length) {
     // The slabs in the chosen risk bands (risk/bands.ts): one set for the in-memory scan and the same query for SQL.

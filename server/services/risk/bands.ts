@@ -15,8 +15,9 @@ const BAND_LEVEL: Record<RiskBand, number> = { high: 2, raised: 1, usual: 0 };
 
 /**
  * SQL selecting the row ids of the slabs whose highest band under the chosen switched-on models is one
- * of `bands`. The models: those for the given defect types (a type's own model or its category's) when
- * there are such, else every switched-on model. Refused in words when no model is switched on.
+ * of `bands`. The models: those for the given defect types (a type's own model or its category's), or
+ * every switched-on model when no type is given. Refused in words when no model is switched on, or
+ * none for the given types.
  */
 export function riskBandSlabsSql(sqlite: Database.Database, bands: string[], typeIds: number[] | null): string {
   const active = sqlite
@@ -32,7 +33,13 @@ export function riskBandSlabsSql(sqlite: Database.Database, bands: string[], typ
       .prepare(`select upper(t.code) as code, upper(c.code) as category from defect_types t join defect_categories c on c.id = t.category_id where t.id in (${typeIds.map((n) => Math.trunc(n)).join(",")})`)
       .all() as { code: string; category: string }[];
     const matching = active.filter((m) => types.some((t) => (m.kind === "type" ? t.code === m.code.toUpperCase() : t.category === m.code.toUpperCase())));
-    if (matching.length) chosen = matching;
+    // Another defect's model would rank the slabs for the wrong question: refused, not swapped in silently.
+    if (matching.length === 0)
+      throw badRequest(
+        `No risk model is switched on for ${types.length === 1 ? `the defect type ${types[0]!.code}` : "the chosen defect types"} (nor its category), so its slabs have no risk band. Leave the risk band out, or choose a defect type whose model is switched on.`,
+        { field: "riskBand" },
+      );
+    chosen = matching;
   }
   const levels = [...new Set(bands.map((b) => BAND_LEVEL[b as RiskBand]))].filter((n) => n !== undefined);
   return `select r.slab_id from slab_risks r join risk_models m on m.id = r.model_id where r.model_id in (${chosen.map((m) => m.id).join(",")})

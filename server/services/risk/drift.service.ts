@@ -171,7 +171,7 @@ export const DRIFT_METHOD =
   `It has drifted when |CITL| > ln ${DRIFT_ODDS_FACTOR} = ${DRIFT_CITL_LIMIT.toFixed(3)} with its 95 % interval excluding 0 (predicted odds off by more than half again, not by chance), ` +
   "or when the upper end of its AUC interval lies below the lower end of the version's validation AUC interval. " +
   `Only slabs cast at least ${JUDGED_AFTER_DAYS} days before the check count: younger ones have not all passed the yard, and choosing among them by what happened to them would tilt the observed share. ` +
-  "The running month is provisional: stored as it fills, e-mailed only once it has enough slabs.";
+  "The month still filling (its last slabs not yet that old) is provisional: stored and shown as it fills, e-mailed only once it is whole.";
 
 interface MonthCalc extends Omit<RiskDriftMonth, "alertedAt" | "checkedAt"> {}
 
@@ -186,81 +186,102 @@ function targetName(db: Db, kind: "type" | "category", code: string): string {
   return (db.$client.prepare(`select name from ${table} where upper(code) = upper(?)`).pluck().get(code) as string | undefined) ?? code;
 }
 
-/** The months of a trained version, reckoned now (nothing stored). */
-function reckon(db: Db, m: ModelRow, now: number): { months: MonthCalc[]; slabs: number; since: number; validationAucCiLower: number | null } {
+/** The first instant of the UTC month after the one holding `ms`. */
+const nextMonthStart = (ms: number) => {
+  const d = new Date(ms);
+  return Date.UTC(d.getUTCFullYear(), d.getUTCMonth() + 1, 1);
+};
+
+/**
+ * The months of a trained version, reckoned now (nothing stored): read and scored a month at a time,
+ * the event loop given back between months (a year of a large plant is half a million slabs).
+ */
+async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: MonthCalc[]; slabs: number; since: number; validationAucCiLower: number | null }> {
   if (m.status !== "ready" || !m.terms) throw new HttpError(409, "model_not_ready", m.status === "training" ? "This model is still training: it has no drift to show yet." : "This model's training failed: it has no drift to show.");
   const terms = JSON.parse(m.terms) as ModelTerms;
   const validation = m.validation ? (JSON.parse(m.validation) as { aucCiLower: number | null }) : null;
   const validationAucCiLower = validation?.aucCiLower ?? null;
   const since = driftBoundary(m);
   const spec = JSON.parse(m.spec) as RiskSpec;
-  // Only slabs past the yard by age (the same rule as training's).
-  const data = readTrainingData(db.$client, { ...spec, from: since + 1, to: now - JUDGED_AFTER_DAYS * DAY }, now);
-  const eta = linearPredictor(terms, data);
-  const current = monthOf(now);
+  // Only slabs past the yard by age (the same rule as training's). The month holding the last such
+  // slab is still filling: provisional (stored, never e-mailed).
+  const judgedTo = now - JUDGED_AFTER_DAYS * DAY;
+  const current = monthOf(judgedTo);
   const months: MonthCalc[] = [];
-  for (let start = 0; start < data.known; ) {
-    const month = monthOf(data.castAt[start]!);
-    let end = start + 1;
-    while (end < data.known && monthOf(data.castAt[end]!) === month) end++;
-    const lp = eta.subarray(start, end);
-    const outcome = data.outcome.subarray(start, end);
-    const risk = Float64Array.from(lp, expit);
-    const slabs = end - start;
-    let affected = 0;
-    let sumRisk = 0;
-    for (let i = 0; i < slabs; i++) {
-      affected += outcome[i]!;
-      sumRisk += risk[i]!;
-    }
-    const citl = calibrationInTheLarge(lp, outcome);
-    const auc = aucDeLong({ risk, outcome });
-    const judged = slabs >= DRIFT_MIN_SLABS && affected >= DRIFT_MIN_AFFECTED;
-    const why: string[] = [];
-    let reason: string;
-    if (!judged) {
-      reason = `too few slabs to judge: ${slabs} judged slabs, ${affected} with the defect (at least ${DRIFT_MIN_SLABS} and ${DRIFT_MIN_AFFECTED} are needed)`;
-    } else {
-      if (citl.citl !== null && Math.abs(citl.citl) > DRIFT_CITL_LIMIT && (citl.lower! > 0 || citl.upper! < 0)) {
-        why.push(
-          `${citl.citl > 0 ? "more slabs with the defect than predicted: the observed odds are" : "fewer slabs with the defect than predicted: the predicted odds are"} ${Math.exp(Math.abs(citl.citl)).toFixed(2)} times ${citl.citl > 0 ? "the predicted ones" : "the observed ones"} ` +
-            `(calibration-in-the-large ${f3(citl.citl)}, 95 % interval ${f3(citl.lower!)} to ${f3(citl.upper!)}; limit ±${DRIFT_CITL_LIMIT.toFixed(3)})`,
-        );
-      }
-      if (auc.upper !== null && validationAucCiLower !== null && auc.upper < validationAucCiLower) {
-        why.push(`it ranks the slabs worse than at validation: AUC ${f3(auc.auc!)} (95 % interval up to ${f3(auc.upper)}) lies below the validation interval's lower end ${f3(validationAucCiLower)}`);
-      }
-      reason = why.length ? why.join("; ") : "within the limits";
-      if (!why.length && citl.citl === null) reason += ` (calibration-in-the-large not defined: ${citl.reason})`;
-    }
-    months.push({
-      month,
-      slabs,
-      affected,
-      predicted: sumRisk / slabs,
-      observed: affected / slabs,
-      citl: citl.citl,
-      citlCiLower: citl.lower,
-      citlCiUpper: citl.upper,
-      citlReason: citl.reason,
-      auc: auc.auc,
-      aucCiLower: auc.lower,
-      aucCiUpper: auc.upper,
-      aucReason: auc.reason ?? null,
-      judged,
-      drifted: why.length > 0,
-      provisional: month >= current,
-      reason,
-    });
-    start = end;
+  let total = 0;
+  for (let from = since + 1; from <= judgedTo; from = nextMonthStart(from)) {
+    const data = readTrainingData(db.$client, { ...spec, from, to: Math.min(judgedTo, nextMonthStart(from) - 1) }, now);
+    total += data.known;
+    months.push(...monthsOf(data, linearPredictor(terms, data)));
+    await new Promise((resolve) => setImmediate(resolve));
   }
-  return { months, slabs: data.known, since, validationAucCiLower };
+  return { months, slabs: total, since, validationAucCiLower };
+
+  function monthsOf(data: ReturnType<typeof readTrainingData>, eta: Float64Array): MonthCalc[] {
+    const months: MonthCalc[] = [];
+    for (let start = 0; start < data.known; ) {
+      const month = monthOf(data.castAt[start]!);
+      let end = start + 1;
+      while (end < data.known && monthOf(data.castAt[end]!) === month) end++;
+      const lp = eta.subarray(start, end);
+      const outcome = data.outcome.subarray(start, end);
+      const risk = Float64Array.from(lp, expit);
+      const slabs = end - start;
+      let affected = 0;
+      let sumRisk = 0;
+      for (let i = 0; i < slabs; i++) {
+        affected += outcome[i]!;
+        sumRisk += risk[i]!;
+      }
+      const citl = calibrationInTheLarge(lp, outcome);
+      const auc = aucDeLong({ risk, outcome });
+      const judged = slabs >= DRIFT_MIN_SLABS && affected >= DRIFT_MIN_AFFECTED;
+      const why: string[] = [];
+      let reason: string;
+      if (!judged) {
+        reason = `too few slabs to judge: ${slabs} judged slabs, ${affected} with the defect (at least ${DRIFT_MIN_SLABS} and ${DRIFT_MIN_AFFECTED} are needed)`;
+      } else {
+        if (citl.citl !== null && Math.abs(citl.citl) > DRIFT_CITL_LIMIT && (citl.lower! > 0 || citl.upper! < 0)) {
+          why.push(
+            `${citl.citl > 0 ? "more slabs with the defect than predicted: the observed odds are" : "fewer slabs with the defect than predicted: the predicted odds are"} ${Math.exp(Math.abs(citl.citl)).toFixed(2)} times ${citl.citl > 0 ? "the predicted ones" : "the observed ones"} ` +
+              `(calibration-in-the-large ${f3(citl.citl)}, 95 % interval ${f3(citl.lower!)} to ${f3(citl.upper!)}; limit ±${DRIFT_CITL_LIMIT.toFixed(3)})`,
+          );
+        }
+        if (auc.upper !== null && validationAucCiLower !== null && auc.upper < validationAucCiLower) {
+          why.push(`it ranks the slabs worse than at validation: AUC ${f3(auc.auc!)} (95 % interval up to ${f3(auc.upper)}) lies below the validation interval's lower end ${f3(validationAucCiLower)}`);
+        }
+        reason = why.length ? why.join("; ") : "within the limits";
+        if (!why.length && citl.citl === null) reason += ` (calibration-in-the-large not defined: ${citl.reason})`;
+      }
+      months.push({
+        month,
+        slabs,
+        affected,
+        predicted: sumRisk / slabs,
+        observed: affected / slabs,
+        citl: citl.citl,
+        citlCiLower: citl.lower,
+        citlCiUpper: citl.upper,
+        citlReason: citl.reason,
+        auc: auc.auc,
+        aucCiLower: auc.lower,
+        aucCiUpper: auc.upper,
+        aucReason: auc.reason ?? null,
+        judged,
+        drifted: why.length > 0,
+        provisional: month >= current,
+        reason,
+      });
+      start = end;
+    }
+    return months;
+  }
 }
 
 /** GET /api/risk-models/:id/drift: the months reckoned now, with when each was checked and e-mailed. */
-export function riskModelDrift(db: Db, id: number, now = Date.now()): RiskDrift {
+export async function riskModelDrift(db: Db, id: number, now = Date.now()): Promise<RiskDrift> {
   const m = rowOf(db, id);
-  const r = reckon(db, m, now);
+  const r = await reckon(db, m, now);
   const stored = new Map(
     (db.$client.prepare("select month, checked_at, alerted_at from risk_drift_checks where model_id = ?").all(id) as { month: string; checked_at: number; alerted_at: number | null }[]).map((s) => [s.month, s]),
   );
@@ -304,7 +325,7 @@ export interface CheckRiskDriftOptions {
  * the judged, drifted months not e-mailed before — one message per model, queued in the transaction
  * that marks those months alerted, so a month is e-mailed once.
  */
-export function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
+export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
   const now = opts.now ?? Date.now();
   const c = db.$client;
   const models = c.prepare("select * from risk_models where active = 1 and status = 'ready' order by id").all() as ModelRow[];
@@ -317,13 +338,14 @@ export function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
   const summary: { modelId: number; months: number; drifted: string[]; alerted: string[] }[] = [];
   for (const m of models) {
     try {
-      const r = reckon(db, m, now);
+      const r = await reckon(db, m, now);
       c.transaction(() => {
         for (const x of r.months) {
           upsert.run({ modelId: m.id, month: x.month, slabs: x.slabs, affected: x.affected, predicted: x.predicted, observed: x.observed, citl: x.citl, auc: x.auc, drifted: x.drifted ? 1 : 0, reason: x.reason, checkedAt: now });
         }
       })();
-      const drifted = r.months.filter((x) => x.judged && x.drifted);
+      // A month still filling (its last slabs not yet 14 days old) is shown, never e-mailed: a half month's alarm could not be taken back.
+      const drifted = r.months.filter((x) => x.judged && x.drifted && !x.provisional);
       const alerted: string[] = [];
       if (drifted.length && opts.notify) {
         const notify = opts.notify;
@@ -355,13 +377,7 @@ export const DRIFT_CHECK_EVERY_MS = 24 * 60 * 60_000;
  * timer does not keep the process alive. Returns a stop function for the shutdown.
  */
 export function scheduleRiskDrift(db: Db, opts: Omit<CheckRiskDriftOptions, "now"> & { firstAfter?: Promise<unknown> }) {
-  const run = () => {
-    try {
-      checkRiskDrift(db, opts);
-    } catch (err) {
-      opts.logger?.error({ err }, "risk drift check failed");
-    }
-  };
+  const run = () => void checkRiskDrift(db, opts).catch((err: unknown) => opts.logger?.error({ err }, "risk drift check failed"));
   let stopped = false;
   // A start that never gets ready (the report facts failed to load) still gets its check.
   void (opts.firstAfter ?? Promise.resolve()).catch(() => undefined).then(() => {

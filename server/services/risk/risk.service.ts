@@ -13,6 +13,7 @@
  */
 import { Worker } from "node:worker_threads";
 import type { Db } from "../../db/client";
+import { databaseIdOf } from "../../db/identity";
 import { HttpError } from "../../lib/http-error";
 import type { Logger } from "../../lib/logger";
 import { threadEntry } from "../../lib/paths";
@@ -333,10 +334,10 @@ function expandReasons(terms: ModelTerms, stored: unknown): RiskReason[] {
   });
 }
 
-/** Parsed terms of each version (a version's terms never change once trained), by database and id. */
+/** Parsed terms of each version (a version's terms never change once trained, ids are never reused), by database and id. */
 const termsCache = new Map<string, ModelTerms>();
 function termsOf(db: Db, modelId: number): ModelTerms | null {
-  const key = `${db.$client.name}#${modelId}`;
+  const key = `${databaseIdOf(db.$client)}#${modelId}`;
   let t = termsCache.get(key);
   if (!t) {
     const raw = db.$client.prepare("select terms from risk_models where id = ? and status = 'ready'").pluck().get(modelId) as string | undefined;
@@ -446,10 +447,14 @@ export async function scoreUnscoredSlabsYielding(db: Db, now = Date.now()): Prom
   return scored;
 }
 
-/** Slabs whose conditions changed (a re-import): their stored risks go, to be scored again. */
-function forgetRisks(db: Db, slabIds: number[] | null) {
+/**
+ * Slabs whose conditions changed (a re-import): their stored risks go, to be scored again. A change of
+ * everything (null) takes those of the last YARD_UNINSPECTED_MAX_DAYS (scored again at once); older
+ * slabs keep the risk they were scored with.
+ */
+function forgetRisks(db: Db, slabIds: number[] | null, now = Date.now()) {
   if (slabIds === null) {
-    db.$client.prepare("delete from slab_risks").run();
+    db.$client.prepare("delete from slab_risks where slab_id in (select id from slabs where cast_at >= ?)").run(now - YARD_UNINSPECTED_MAX_DAYS * DAY);
     return;
   }
   const del = db.$client.prepare("delete from slab_risks where slab_id in (select value from json_each(?))");
@@ -530,7 +535,7 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
  * slabs' old risks go and those of them cast in the last 90 days are scored — at once when the change is told
  * outside a transaction (an import thread's, told when it has committed: the import answers after its
  * slabs are scored), else right after the transaction (setImmediate). A change of everything (a
- * calibration, grade families) scores the recent slabs again.
+ * calibration, grade families) scores the slabs of the last 90 days again, a chunk at a time; older slabs keep their risk.
  */
 export function scoreOnArrival(db: Db, logger?: Logger) {
   let pending: { all: boolean; ids: Set<number> } | null = null;
@@ -543,8 +548,10 @@ export function scoreOnArrival(db: Db, logger?: Logger) {
       const t0 = performance.now();
       const ids = p.all ? null : [...p.ids];
       db.$client.transaction(() => forgetRisks(db, ids))();
-      const n = scoreUnscoredSlabs(db, Date.now(), ids ?? undefined);
-      if (n) logger?.info({ scored: n, ms: Math.round(performance.now() - t0) }, "slabs scored by the active risk models");
+      const done = (n: number) => n && logger?.info({ scored: n, ms: Math.round(performance.now() - t0) }, "slabs scored by the active risk models");
+      // A change of everything re-scores 90 days of slabs: a chunk at a time, the server answering between chunks.
+      if (ids === null) void scoreUnscoredSlabsYielding(db).then(done, (err: unknown) => logger?.error({ err }, "risk scoring failed; the slabs are scored at the next start"));
+      else done(scoreUnscoredSlabs(db, Date.now(), ids));
     } catch (err) {
       logger?.error({ err }, "risk scoring failed; the slabs are scored at the next import or start");
     }

@@ -99,8 +99,8 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
         </label>
       </div>
       <p className="text-sm text-ink-700">
-        The newest quarter of the judged slabs is held back and the model is judged on it alone; slabs of the last 14 days with no entry and no coil are left out until the
-        yard has seen them.
+        The newest quarter of the judged slabs is held back and the model is judged on it alone; slabs of the last 14 days are left out until the
+        yard has seen them all.
       </p>
       {train.isError ? <Notice tone="error">{train.error.message}</Notice> : null}
       <Button type="submit" disabled={train.isPending || !target}>

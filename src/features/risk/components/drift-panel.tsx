@@ -54,15 +54,17 @@ export function DriftPanel({ modelId }: { modelId: number }) {
   const drifted = d.months.filter((m) => m.drifted);
   return (
     <div className="space-y-4" data-testid="drift-panel">
-      <p className="text-sm text-ink-800">
-        Slabs cast since {date(d.since)} that the model never saw, once the yard has judged them: {num(d.slabs)} in {d.months.length} month{d.months.length === 1 ? "" : "s"}.
-      </p>
       {d.months.length === 0 ? (
-        <p className="text-ink-700">No judged slab has been cast since this version was trained: there is nothing to compare yet.</p>
+        <p className="text-ink-700">
+          No slab cast since {date(d.since)} (the newest slab this version was trained or tested on) has passed the yard yet, so there is nothing to compare.
+        </p>
       ) : (
         <>
+          <p className="text-sm text-ink-800">
+            Slabs cast since {date(d.since)} that the model never saw, once the yard has judged them: {num(d.slabs)} in {d.months.length} month{d.months.length === 1 ? "" : "s"}.
+          </p>
           {drifted.length ? (
-            <Notice tone="caution" title={`Drifting in ${drifted.map((m) => m.month).join(", ")}`}>
+            <Notice tone="caution" title={`Drifted in ${drifted.map((m) => m.month).join(", ")}`}>
               The predicted rates or the ranking no longer match what the yard finds. Train a new version on recent slabs and check its validation before switching it on. A risk
               orders the inspection work; it never clears a slab.
             </Notice>

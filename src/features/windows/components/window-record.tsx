@@ -1,6 +1,9 @@
 import type { WindowRecord as Record_, WindowShare } from "@shared/api/operating-windows";
 import { day, num, pct, pctRange, plural } from "@/lib/format";
 
+/** A difference of two shares in percentage points: "12.3 percentage points". */
+const points = (d: number | null) => (d === null ? "—" : `${(d * 100).toLocaleString("en-GB", { minimumFractionDigits: 1, maximumFractionDigits: 1 })} percentage points`);
+
 /** The verdict carries a word and a mark, never colour alone. */
 const VERDICT_LOOK = {
   more: { mark: "▲", label: "Earns its keep", box: "border-strand-600 bg-strand-50" },
@@ -44,7 +47,7 @@ export function WindowRecordView({ record }: { record: Record_ }) {
           {record.verdictText}
           {record.difference !== null ? (
             <span className="block text-ink-700">
-              Difference {pct(record.difference, 1)} (95 % interval {pct(record.differenceLower, 1)} to {pct(record.differenceUpper, 1)}).
+              Difference {points(record.difference)} (95 % interval {points(record.differenceLower)} to {points(record.differenceUpper)}).
             </span>
           ) : null}
         </div>
