@@ -151,7 +151,7 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
           Dates, strand, grade and transition choose the slabs; defect type, stage and severity decide which of their defects count. A slab
           is <em>affected</em> when at least one live, unrejected defect passes. A cause tag keeps the defects that carry it (live taggings of any confidence). A risk band keeps the slabs the switched-on risk
           models have scored (cast up to 90 days before a model was switched on, and every slab since) whose highest band is the one chosen —
-          under the model for the chosen defect type where there is one.
+          under the chosen defect type's own model (refused in words when it has none).
         </p>
         <Button
           variant="ghost"
