@@ -34,8 +34,20 @@ describe("quality review and catalogue", () => {
     // From the Quality home, which says how many wait.
     const waitingBefore = sqlite().prepare("select count(*) from defects where review_status = 'new' and deleted_at is null").pluck().get() as number;
     await expect.poll(() => page.getByTestId("quality-review-link").textContent()).toContain(`${waitingBefore} entries from the yard await review.`);
+    // The queue's first answer is held back until the slab is typed: text typed while the queue
+    // loads must survive its arrival (a slow tablet once lost it to a remount).
+    let release = () => {};
+    const held = new Promise<void>((r) => (release = r));
+    await page.route(/\/api\/defects\?.*reviewStatus=new/, async (route) => {
+      await held;
+      await route.continue();
+    });
     await page.getByTestId("quality-review-link").click();
+    await page.getByText("Loading the review queue").waitFor();
     await page.getByLabel("Only the entries of slab").fill(slabId.toLowerCase());
+    release();
+    await page.getByTestId("review-count").waitFor();
+    await page.unroute(/\/api\/defects\?.*reviewStatus=new/);
     await page.getByRole("button", { name: "Show", exact: true }).click();
     await page.getByText(`3 entries awaiting review on slab ${slabId}`).waitFor();
     const current = page.getByTestId("review-current");

@@ -52,7 +52,7 @@ function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo:
   const uploading = photo.progress !== undefined;
   return (
     <li className="flex items-center gap-3" data-testid="waiting-photo" data-photo-state={photo.photoId ? "sent" : photo.problem ? "refused" : uploading ? "uploading" : "waiting"}>
-      <BlobThumb blob={photo.blob} alt={`Photo ${index + 1} on the tablet`} className="h-14 w-14" />
+      <BlobThumb blob={photo.blob} photoKey={`${entry.clientKey}/${photo.key}`} alt={`Photo ${index + 1} on the tablet`} className="h-14 w-14" />
       <div className="min-w-0 flex-1 space-y-1">
         {photo.photoId ? (
           <StatusMark status="sent" label="Photo stored" />
@@ -128,7 +128,7 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
           {serverPhotos[0] ? (
             <img src={serverPhotos[0].thumbUrl} alt={`Photo of the defect on ${row.slabId}`} className="h-20 w-20 rounded-md border border-ink-300 object-cover" data-testid="entry-thumb" />
           ) : localPhotos[0] ? (
-            <BlobThumb blob={localPhotos[0].photo.blob} alt={`Photo of the defect on ${row.slabId}, on the tablet`} className="h-20 w-20" />
+            <BlobThumb blob={localPhotos[0].photo.blob} photoKey={`${localPhotos[0].entry.clientKey}/${localPhotos[0].photo.key}`} alt={`Photo of the defect on ${row.slabId}, on the tablet`} className="h-20 w-20" />
           ) : (
             <div className="flex h-20 w-20 items-center justify-center rounded-md border border-dashed border-ink-300 text-xs text-ink-500">no photo</div>
           )}

@@ -30,14 +30,38 @@ export function photoProblem(file: File, beforeScaling = false): string | null {
   return null;
 }
 
-/** A thumbnail of a Blob on the device, revoked when it goes. */
-export function BlobThumb({ blob, alt, className = "h-20 w-20" }: { blob: Blob; alt: string; className?: string }) {
+/**
+ * A thumbnail of a Blob on the device, revoked when it goes. A Blob read from IndexedDB is backed
+ * by the browser's store: once its entry is sent and deleted, its bytes may be gone before this
+ * list is redrawn, and an <img> pointed at it fails with a console error. So the bytes are read
+ * first (a missing Blob then rejects quietly and the grey square stays) and shown from memory.
+ * `photoKey` names the photo: the outbox hands out a new Blob object for the same photo on every
+ * read, and a new object URL each time would revoke the one the <img> is still loading.
+ */
+export function BlobThumb({ blob, photoKey, alt, className = "h-20 w-20" }: { blob: Blob; photoKey?: string; alt: string; className?: string }) {
   const [url, setUrl] = useState<string | null>(null);
+  const latest = useRef(blob);
+  latest.current = blob;
+  const identity = photoKey ?? blob;
   useEffect(() => {
-    const u = URL.createObjectURL(blob);
-    setUrl(u);
-    return () => URL.revokeObjectURL(u);
-  }, [blob]);
+    const blob = latest.current;
+    let u: string | null = null;
+    let live = true;
+    blob
+      .arrayBuffer()
+      .then((bytes) => {
+        if (!live) return;
+        u = URL.createObjectURL(new Blob([bytes], { type: blob.type }));
+        setUrl(u);
+      })
+      .catch(() => {
+        if (live) setUrl(null);
+      });
+    return () => {
+      live = false;
+      if (u) URL.revokeObjectURL(u);
+    };
+  }, [identity]);
   return url ? <img src={url} alt={alt} className={`${className} rounded-md border border-ink-300 object-cover`} /> : <div className={`${className} rounded-md bg-ink-100`} />;
 }
 

@@ -206,17 +206,18 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
   const [decided, setDecided] = useState<number[]>([]);
   const [last, setLast] = useState<string | null>(null);
 
+  // The filter keeps one place in the tree whatever the queue's state, so text typed while the
+  // queue loads is not thrown away by a remount when the answer comes.
   const filter = <SlabFilter value={slab} onChange={(v) => { setSlab(v); setPicked(null); }} />;
-  if (queue.isPending) return <div className="space-y-4">{filter}<Spinner label="Loading the review queue" /></div>;
-  if (queue.isError) return <div className="space-y-4">{filter}<Notice tone="error">{queue.error.message}</Notice></div>;
+  const data = queue.data;
   // Entries decided here leave at once, before the list comes back from the server.
-  const items = queue.data.items.filter((d) => !decided.includes(d.id));
-  const remaining = Math.max(0, queue.data.total - decided.filter((id) => queue.data.items.some((d) => d.id === id)).length);
+  const items = data ? data.items.filter((d) => !decided.includes(d.id)) : [];
+  const remaining = data ? Math.max(0, data.total - decided.filter((id) => data.items.some((d) => d.id === id)).length) : 0;
   const current = items.find((d) => d.id === picked) ?? items[0];
 
   return (
     <div className="space-y-4">
-      {last ? (
+      {last && data ? (
         <div data-testid="review-last">
           <Notice tone="ok" title="Done">
             {last} {current ? "Next entry below." : ""}
@@ -224,16 +225,22 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
         </div>
       ) : null}
       <div className="flex flex-wrap items-end justify-between gap-3">
-        <p className="text-base text-ink-800" data-testid="review-count">
-          {remaining
-            ? `${plural(remaining, "entry", "entries")} awaiting review${slab ? ` on slab ${slab}` : ""}, oldest first.`
-            : slab
-              ? `Nothing awaits review on slab ${slab}.`
-              : "Nothing awaits review."}
-        </p>
+        {data ? (
+          <p className="text-base text-ink-800" data-testid="review-count">
+            {remaining
+              ? `${plural(remaining, "entry", "entries")} awaiting review${slab ? ` on slab ${slab}` : ""}, oldest first.`
+              : slab
+                ? `Nothing awaits review on slab ${slab}.`
+                : "Nothing awaits review."}
+          </p>
+        ) : (
+          <span />
+        )}
         {filter}
       </div>
-      {current ? (
+      {queue.isPending ? <Spinner label="Loading the review queue" /> : null}
+      {queue.isError ? <Notice tone="error">{queue.error.message}</Notice> : null}
+      {!data ? null : current ? (
         <div className="grid gap-4 lg:grid-cols-[minmax(0,2fr)_minmax(18rem,1fr)]">
           <Card title={`Entry #${current.id} · logged ${dateTime(current.createdAt)}`}>
             <div className="space-y-5" data-testid="review-current" data-defect-id={current.id}>
@@ -278,15 +285,15 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
                 </li>
               ))}
             </ul>
-            {queue.data.total > queue.data.items.length ? (
-              <p className="px-3 py-2 text-xs text-ink-600">The oldest {queue.data.items.length} are listed; the rest follow as these are decided.</p>
+            {data.total > data.items.length ? (
+              <p className="px-3 py-2 text-xs text-ink-600">The oldest {data.items.length} are listed; the rest follow as these are decided.</p>
             ) : null}
           </Card>
         </div>
       ) : (
         <Card>
           <p className="text-base text-ink-700" data-testid="review-empty">
-            The queue is empty: every entry has been reviewed.
+            {slab ? `No entry of slab ${slab} awaits review. Choose "Show all slabs" for the rest of the queue.` : "The queue is empty: every entry has been reviewed."}
           </p>
         </Card>
       )}
