@@ -475,6 +475,27 @@ function clusterIdsOf(used: Int32Array, cluster: ArrayLike<number>) {
   return { ids, G };
 }
 
+/** The used rows' heat numbers from the caller's numbering, and how many distinct heats they hold. */
+function heatsNumbered(used: Int32Array, numbering: { ids: Int32Array; count: number }) {
+  const m = used.length;
+  const ids = scratch("cluster.ids", Int32Array, m);
+  const seen = scratch("cluster.seen", Uint8Array, numbering.count, 0);
+  // The heats in the order they first appear in the used rows: the order clusterIdsOf numbers them
+  // in, so the sandwich adds the same terms in the same order and gives the same bits.
+  const order = scratch("cluster.order", Int32Array, numbering.count);
+  let G = 0;
+  for (let u = 0; u < m; u++) {
+    const g = numbering.ids[used[u]!]!;
+    if (!(g >= 0 && g < numbering.count)) throw new Error("logisticRegressionColumns: a row without a heat");
+    ids[u] = g;
+    if (!seen[g]) {
+      seen[g] = 1;
+      order[G++] = g;
+    }
+  }
+  return { ids, G, slots: numbering.count, order: order.subarray(0, G) };
+}
+
 const WARM_START_ROWS = 50_000;
 
 /**
@@ -551,6 +572,18 @@ export interface SlabColumns {
    * integer, equal only for rows with equal values of every term. Saves hashing the rows; checked.
    */
   pattern?: ArrayLike<number>;
+  /**
+   * The caller vouches that every row in `rows` has a value of every term (and slabs > 0), as when
+   * it picked them for that: the rows are used as given, without a pass to check and compact them
+   * (checked on the first rows, to catch a misuse early). Ignored without `rows`.
+   */
+  rowsComplete?: boolean;
+  /**
+   * The heats numbered 0 … count − 1 per row index, in the order they first appear in the rows, when
+   * the caller numbers them once for many fits (instead of `cluster` being numbered on every fit).
+   * Every used row must have its number. The sandwich adds up the same heats in the same order.
+   */
+  clusterIds?: { ids: Int32Array; count: number };
 }
 
 /**
@@ -606,32 +639,42 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   const trialsOf = (i: number) => (data.slabs ? data.slabs[i]! : 1);
 
   // Complete rows only, so every model (full and reduced) is fitted to the same slabs. Term by term
-  // over all rows (each loop reads one typed column), then compacted.
+  // over all rows (each loop reads one typed column), then compacted — unless the caller picked
+  // complete rows already (then checked on the first rows only).
   const M = data.rows ? data.rows.length : data.affected.length;
-  const picked = scratch("fit.picked", Int32Array, M);
-  if (data.rows) for (let u = 0; u < M; u++) picked[u] = data.rows[u]!;
-  else for (let u = 0; u < M; u++) picked[u] = u;
+  const vouched = data.rowsComplete === true && data.rows instanceof Int32Array;
+  const picked = vouched ? (data.rows as Int32Array) : scratch("fit.picked", Int32Array, M);
+  if (!vouched) {
+    if (data.rows) for (let u = 0; u < M; u++) picked[u] = data.rows[u]!;
+    else for (let u = 0; u < M; u++) picked[u] = u;
+  }
   /** 0 complete, 1 a term without a value, 2 no slabs in the row. */
-  const state = scratch("fit.state", Uint8Array, M, 0);
-  if (data.slabs) for (let u = 0; u < M; u++) if (!(data.slabs[picked[u]!]! > 0)) state[u] = 2;
+  const checkedRows = vouched ? Math.min(M, 1000) : M;
+  const state = scratch("fit.state", Uint8Array, checkedRows, 0);
+  if (data.slabs) for (let u = 0; u < checkedRows; u++) if (!(data.slabs[picked[u]!]! > 0)) state[u] = 2;
   for (const t of terms) {
     if (t.kind === "numeric") {
       const v = t.values;
-      for (let u = 0; u < M; u++) if (state[u] === 0 && !Number.isFinite(v[picked[u]!])) state[u] = 1;
+      for (let u = 0; u < checkedRows; u++) if (state[u] === 0 && !Number.isFinite(v[picked[u]!])) state[u] = 1;
     } else {
       const c = t.codes;
-      for (let u = 0; u < M; u++) if (state[u] === 0 && !(c[picked[u]!]! >= 0)) state[u] = 1;
+      for (let u = 0; u < checkedRows; u++) if (state[u] === 0 && !(c[picked[u]!]! >= 0)) state[u] = 1;
     }
   }
   let m = 0;
   let slabsMissing = 0;
-  for (let u = 0; u < M; u++) {
-    if (state[u] === 0) picked[m++] = picked[u]!;
-    else if (state[u] === 1) slabsMissing += trialsOf(picked[u]!);
+  if (vouched) {
+    for (let u = 0; u < checkedRows; u++) if (state[u] !== 0) throw new Error("logisticRegressionColumns: a row vouched complete lacks a value or its slabs");
+    m = M;
+  } else {
+    for (let u = 0; u < M; u++) {
+      if (state[u] === 0) picked[m++] = picked[u]!;
+      else if (state[u] === 1) slabsMissing += trialsOf(picked[u]!);
+    }
   }
   const used = picked.subarray(0, m);
   // Every used row needs its heat: checked where the heats are numbered (clusterIdsOf).
-  if (seKind === "cluster" && !data.cluster) throw new Error("logisticRegressionColumns: cluster-robust SEs need the heat of every row");
+  if (seKind === "cluster" && !data.cluster && !data.clusterIds) throw new Error("logisticRegressionColumns: cluster-robust SEs need the heat of every row");
   // From here on a row is a pattern of equal values (its slabs summed), or a single input row.
   const grouped = options.group === false ? null : collapse(used, terms, data.affected, data.slabs, data.pattern);
   const rowsN = grouped ? grouped.rows : m;
@@ -865,7 +908,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   let vFit = bread;
   let clusters: number | null = null;
   if (seKind === "cluster") {
-    const { ids: heatOf, G } = clusterIdsOf(used, data.cluster!);
+    const { ids: heatOf, G, slots, order } = data.clusterIds ? heatsNumbered(used, data.clusterIds) : { ...clusterIdsOf(used, data.cluster!), slots: 0, order: null };
     clusters = G;
     if (G < 2) return empty("fewer than two heats: cluster-robust standard errors are undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
     if (factor === "CR1" && slabs <= p) return empty("no more slabs than parameters: the small-sample factor (N − 1)/(N − K) is undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
@@ -884,7 +927,8 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       }
       mu[r] = 1 / (1 + Math.exp(-eta));
     }
-    const u = scratch("fit.heatScores", Float64Array, G * p, 0);
+    const heatSlots = slots || G;
+    const u = scratch("fit.heatScores", Float64Array, heatSlots * p, 0);
     const patternOf = grouped?.patternOf;
     const aff = data.affected;
     const sl = data.slabs;
@@ -904,8 +948,9 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       }
     }
     const meatFlat = new Float64Array(p * p);
-    for (let g = 0; g < G; g++) {
-      const base = g * p;
+    // Each heat with a used row, in the order of first appearance (the caller's numbering may hold more).
+    for (let k = 0; k < G; k++) {
+      const base = (order ? order[k]! : k) * p;
       for (let a = 0; a < p; a++) {
         const ua = u[base + a]!;
         if (ua === 0) continue;

@@ -17,7 +17,8 @@ export const REPO = path.resolve(import.meta.dirname, "../..");
 export const BENCH_PASSWORD = "bench-password-1";
 
 /** The plant's file for this many slabs (grid: values at the reports' resolution). */
-export const benchPlantFile = (slabs: number, grid = false) => path.join(os.tmpdir(), `strandsight-bench-reports-v2-${slabs}${grid ? "-grid" : ""}.db`);
+/** v3: the history ends on the day of generation (v2 ran from 2024 on, past today at 5 M slabs). Delete the file to generate it again. */
+export const benchPlantFile = (slabs: number, grid = false) => path.join(os.tmpdir(), `strandsight-bench-reports-v3-${slabs}${grid ? "-grid" : ""}.db`);
 
 /** A copy of the plant in a new temp folder (`app.db`), migrated, with the demo users; generated first when missing. */
 export async function copyBenchPlant(source: string, prefix: string): Promise<string> {

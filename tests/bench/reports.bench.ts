@@ -44,6 +44,7 @@ import { columnKinds, factsBytes } from "../../server/services/report-cache-colu
 import { readSnapshot, writeSnapshot } from "../../server/services/report-cache-snapshot";
 import { adjustedQuerySchema, rateByVariableQuerySchema, screeningQuerySchema } from "../../shared/api/reports";
 import { VARIABLES } from "../../shared/variables";
+import { benchPlantFile } from "./bench-plant";
 
 const SLABS = Number(process.env.BENCH_SLABS ?? 1_000_000);
 const HEATS = SLABS / 10;
@@ -55,7 +56,7 @@ const RUNS = Number(process.env.BENCH_RUNS ?? 5);
  * (means of samples, derived values), the cache's Float64 case.
  */
 const GRID = process.env.BENCH_VALUES === "grid";
-const file = path.join(os.tmpdir(), `strandsight-bench-reports-v2-${SLABS}${GRID ? "-grid" : ""}.db`);
+const file = benchPlantFile(SLABS, GRID);
 
 /** The generated values in insert order, by variable (for BENCH_VALUES=grid). */
 const GRID_KEYS = [
@@ -77,7 +78,11 @@ function generate(db: Db) {
   const slg = types.find((t) => t.code === "SLG")!.id;
   let seed = 7;
   const rnd = () => ((seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32);
-  const t0 = Date.UTC(2024, 0, 1);
+  // A heat every 10 minutes, the last one cast this morning: the plant's history ends today, as a
+  // real plant's does, so the yard's window (the last days) holds a day's casting — not none (a
+  // history that ended long ago) nor millions (one running years into the future).
+  const today = new Date();
+  const t0 = Date.UTC(today.getUTCFullYear(), today.getUTCMonth(), today.getUTCDate()) - (HEATS + 1) * 10 * 60_000;
   c.transaction(() => {
     const insHeat = c.prepare("insert into heats (id, heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, sequence_position, c_pct) values (?, ?, ?, ?, ?, ?, ?, ?, ?)");
     const insSlab = c.prepare("insert into slabs (id, slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at, transition) values (?, ?, ?, ?, ?, 10000, ?, 230, 27, ?, ?)");

@@ -443,6 +443,36 @@ describe("the fit itself", () => {
     expect(() => logisticRegressionColumns({ ...data, pattern: new Int32Array(n) }, { se: "cluster" })).toThrow(/differ/);
   });
 
+  it("when the caller vouches its rows complete and numbers the heats once for many fits, then the fit is the same to the last bit, and a vouched row without a value is refused", () => {
+    const n = slabs.length;
+    const speed = Float64Array.from(slabs, (s, i) => (i % 7 === 3 ? NaN : s.speed));
+    const fam = Int32Array.from(slabs, (s) => (s.family === "LC" ? 0 : 1));
+    const y = Uint8Array.from(slabs, (s) => s.slg);
+    // Heats not in blocks: a late slab of an early heat, so the first appearance of a heat among the
+    // used rows is not its first appearance among all rows (the order the sandwich adds them in).
+    const heat = Int32Array.from(slabs, (s, i) => (i % 11 === 5 ? slabs[(i * 7) % n]!.heat : s.heat));
+    const terms = [{ name: "speed", kind: "numeric" as const, values: speed }, { name: "family", kind: "categorical" as const, codes: fam }];
+    // A subset of the rows, as a report's filters leave them: every third slab dropped.
+    const rows = Int32Array.from({ length: n }, (_, i) => i).filter((i) => i % 3 !== 0);
+    const complete = rows.filter((i) => Number.isFinite(speed[i]!));
+    // The heats numbered over all rows, in order of first appearance (what a report does once).
+    const lookup = new Map<number, number>();
+    const ids = Int32Array.from(heat, (h) => {
+      if (!lookup.has(h)) lookup.set(h, lookup.size);
+      return lookup.get(h)!;
+    });
+    const plain = logisticRegressionColumns({ terms, affected: y, cluster: heat, rows }, { se: "cluster" });
+    const shortcut = logisticRegressionColumns({ terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete: true }, { se: "cluster" });
+    // The plain fit drops the rows without a speed and says so; otherwise every number is equal.
+    expect(plain.slabsMissing).toBe(rows.length - complete.length);
+    expect(plain.notes.some((x) => /left out/.test(x))).toBe(true);
+    expect({ ...shortcut, notes: [], slabsMissing: 0 }).toEqual({ ...plain, notes: [], slabsMissing: 0 });
+    expect(shortcut.terms[0]!.se).toBe(plain.terms[0]!.se);
+    expect(shortcut.clusters).toBe(plain.clusters);
+    expect(() => logisticRegressionColumns({ terms, affected: y, cluster: heat, rows, rowsComplete: true }, { se: "cluster" })).toThrow(/vouched complete/);
+    expect(() => logisticRegressionColumns({ terms, affected: y, clusterIds: { ids: new Int32Array(n).fill(-1), count: 1 }, rows: complete, rowsComplete: true }, { se: "cluster" })).toThrow(/without a heat/);
+  });
+
   it("when a fit has more than 100,000 distinct rows (its first steps taken on a sample), then it equals the one-variable fit of logistic.ts (checked on the Challenger data)", () => {
     // A fixed-seed linear congruential generator (Numerical Recipes constants): the same rows every run.
     let seed = 12345;

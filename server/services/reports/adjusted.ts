@@ -39,7 +39,7 @@ export interface ModelTerm {
 }
 
 /** A term's values as integers on a grid: keys[i] − offset runs 0 … width − 1 (grid steps, or level indexes). Read only at slabs with a value. */
-interface Grid {
+export interface Grid {
   keys: Int32Array;
   offset: number;
   width: number;
@@ -64,8 +64,7 @@ function gridOf(s: Scanned, t: ModelTerm): Grid | null {
       if (k < lo) lo = k;
       if (k > hi) hi = k;
     }
-    const width = hi >= lo ? hi - lo + 1 : 0;
-    return (t.grid = width > MAX_PATTERNS || !(Math.abs(lo) < 2 ** 31 && Math.abs(hi) < 2 ** 31) ? null : { keys, offset: lo, width });
+    return (t.grid = gridFromKeys(keys, lo, hi));
   }
   const codes = (t.column as { codes: ArrayLike<number> }).codes;
   const index = new Map<number, number>();
@@ -199,12 +198,26 @@ export function categoricalColumn(db: Db, s: Scanned, key: CategoricalKey, rows:
   return { name: CATEGORICAL_LABELS[key], kind: "categorical", codes, label, levels, reference };
 }
 
+/** A numeric variable's model term over grouped values (groupedValues), with its grid when the caller has it. */
+export function numericTerm(key: string, values: Float64Array, grid?: Grid | null): ModelTerm {
+  const spec = VARIABLES.find((v) => v.key === key)!;
+  return {
+    key, label: spec.label, unit: spec.unit, kind: "numeric", step: spec.step, scale: 10 ** (spec.digits + 1), column: { name: spec.label, kind: "numeric", values },
+    ...(grid !== undefined ? { grid } : {}),
+  };
+}
+
+/** The grid of grid keys lo … hi (as gridOf makes it), or null where the fit must hash instead. */
+export function gridFromKeys(keys: Int32Array, lo: number, hi: number): Grid | null {
+  const width = hi >= lo ? hi - lo + 1 : 0;
+  return width > MAX_PATTERNS || !(Math.abs(lo) < 2 ** 31 && Math.abs(hi) < 2 ** 31) ? null : { keys, offset: lo, width };
+}
+
 /** The model terms for keys (numeric variables or categorical keys), named by their labels. */
 export function modelTerms(db: Db, s: Scanned, keys: string[]): ModelTerm[] {
   return keys.map((key) => {
     if (isCategorical(key)) return { key, label: CATEGORICAL_LABELS[key], unit: null, kind: "categorical", step: null, column: categoricalColumn(db, s, key) };
-    const spec = VARIABLES.find((v) => v.key === key)!;
-    return { key, label: spec.label, unit: spec.unit, kind: "numeric", step: spec.step, scale: 10 ** (spec.digits + 1), column: { name: spec.label, kind: "numeric", values: groupedValues(s, key) } };
+    return numericTerm(key, groupedValues(s, key));
   });
 }
 
@@ -217,7 +230,8 @@ export function completeRows(s: Scanned, terms: ModelTerm[]) {
     const i = s.rows[u]!;
     let ok = true;
     for (const c of numeric) {
-      if (c.values[i] !== c.values[i]) {
+      // As the fit sees it: a value that is not a finite number is no value.
+      if (!Number.isFinite(c.values[i])) {
         c.missing++;
         ok = false;
       }
@@ -227,11 +241,40 @@ export function completeRows(s: Scanned, terms: ModelTerm[]) {
   return { rows: out.subarray(0, n), missing: numeric.filter((c) => c.missing > 0).map((c) => ({ key: c.t.key, label: c.t.label, slabs: c.missing })) };
 }
 
-/** Fits the terms on the rows with the facts' heats as clusters. */
-export function fitTerms(s: Scanned, terms: ModelTerm[], rows: Int32Array, se: SeMethod, likelihoodRatio = false): MultiLogisticFit {
+const heatNumberings = new WeakMap<Scanned, { ids: Int32Array; count: number }>();
+
+/**
+ * The scope's heats numbered once per report (in the order they first appear in its rows), for
+ * the clusters of every fit the report makes on those rows, instead of once per fit.
+ */
+function heatNumbering(s: Scanned) {
+  let known = heatNumberings.get(s);
+  if (known) return known;
+  const heat = s.facts.heatId;
+  let max = 0;
+  for (let u = 0; u < s.rows.length; u++) max = Math.max(max, heat[s.rows[u]!]!);
+  const lookup = new Int32Array(max + 1).fill(-1);
+  const ids = new Int32Array(s.facts.size).fill(-1);
+  let count = 0;
+  for (let u = 0; u < s.rows.length; u++) {
+    const i = s.rows[u]!;
+    const h = heat[i]!;
+    let id = lookup[h]!;
+    if (id < 0) lookup[h] = id = count++;
+    ids[i] = id;
+  }
+  heatNumberings.set(s, (known = { ids, count }));
+  return known;
+}
+
+/**
+ * Fits the terms on the rows with the facts' heats as clusters. `complete`: the rows come from
+ * completeRows for these terms (or a subset of them), so the fit uses them without checking each.
+ */
+export function fitTerms(s: Scanned, terms: ModelTerm[], rows: Int32Array, se: SeMethod, likelihoodRatio = false, complete = false): MultiLogisticFit {
   // Refitting the model without each variable (the LR test) only where it is valid: with model-based SEs.
   return logisticRegressionColumns(
-    { terms: terms.map((t) => t.column), affected: s.affected, cluster: s.facts.heatId, rows, pattern: patternIds(s, terms, rows) },
+    { terms: terms.map((t) => t.column), affected: s.affected, cluster: s.facts.heatId, clusterIds: se === "cluster" ? heatNumbering(s) : undefined, rows, pattern: patternIds(s, terms, rows), rowsComplete: complete },
     { se, likelihoodRatio: likelihoodRatio && se === "model" },
   );
 }
@@ -356,8 +399,8 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
   const roleOf = (key: string) => (q.variables.includes(key) ? ("examined" as const) : ("adjustment" as const));
   const terms = modelTerms(db, s, keys);
   const { rows, missing } = completeRows(s, terms);
-  const fit = fitTerms(s, terms, rows, q.se, true);
-  const crude = new Map(terms.map((t) => [t.key, fitTerms(s, [t], rows, q.se)]));
+  const fit = fitTerms(s, terms, rows, q.se, true, true);
+  const crude = new Map(terms.map((t) => [t.key, fitTerms(s, [t], rows, q.se, false, true)]));
   const heats = fit.clusters ?? heatsOf(s, rows);
   const notes: string[] = [];
 

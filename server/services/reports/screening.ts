@@ -15,7 +15,8 @@ import { oddsRatioForStep, type MultiLogisticFit } from "../../stats/logistic-mu
 import { benjaminiHochberg } from "../../stats/multiple";
 import { welchTTest } from "../../stats/regression";
 import { RunningSpread } from "../../stats/spread";
-import { completeRows, fitTerms, GROUPING_METHOD, modelTerms, seqBucket, seWords, type ModelTerm } from "./adjusted";
+import { completeRows, fitTerms, gridFromKeys, GROUPING_METHOD, modelTerms, numericTerm, seqBucket, seWords, type ModelTerm } from "./adjusted";
+import { scratch } from "../../stats/scratch";
 import { VARIABLE_SCALE } from "../report-cache";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
@@ -37,22 +38,31 @@ function lineage(key: string) {
  * Type 7 quartiles (R's default) of grouped values over the rows, by counting the values on their
  * grid (they are multiples of 10^−(digits + 1)); sorting a copy when the grid is too wide.
  */
-function interquartileRange(values: ArrayLike<number>, rows: ArrayLike<number>, scale: number): number | null {
+function interquartileRange(values: ArrayLike<number>, rows: ArrayLike<number>, scale: number, grid?: { keys: Int32Array; lo: number; hi: number }): number | null {
   const n = rows.length;
   if (n === 0) return null;
-  let lo = Infinity;
-  let hi = -Infinity;
-  for (let u = 0; u < n; u++) {
-    const v = values[rows[u]!]!;
-    if (v < lo) lo = v;
-    if (v > hi) hi = v;
+  let k0: number;
+  let width: number;
+  if (grid) {
+    // The values' grid keys (Math.round(v · scale)) and their range, known from numericPass.
+    k0 = grid.lo;
+    width = grid.hi - grid.lo + 1;
+  } else {
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (let u = 0; u < n; u++) {
+      const v = values[rows[u]!]!;
+      if (v < lo) lo = v;
+      if (v > hi) hi = v;
+    }
+    k0 = Math.round(lo * scale);
+    width = Math.round(hi * scale) - k0 + 1;
   }
-  const k0 = Math.round(lo * scale);
-  const width = Math.round(hi * scale) - k0 + 1;
   let at: (i: number) => number;
   if (width <= 4_000_000) {
     const counts = new Float64Array(width);
-    for (let u = 0; u < n; u++) counts[Math.round(values[rows[u]!]! * scale) - k0]!++;
+    if (grid) for (let u = 0; u < n; u++) counts[grid.keys[rows[u]!]! - k0]!++;
+    else for (let u = 0; u < n; u++) counts[Math.round(values[rows[u]!]! * scale) - k0]!++;
     // The i-th smallest value (0-based), walking the cumulative counts (from the start again when asked for an earlier one).
     let k = 0;
     let cum = counts[0]!;
@@ -83,6 +93,49 @@ function interquartileRange(values: ArrayLike<number>, rows: ArrayLike<number>, 
   return Number((q3 - q1).toPrecision(12));
 }
 
+/**
+ * One pass over the slabs in scope for a numeric variable, doing what separate loops did before with
+ * the same arithmetic in the same order: the Welch accumulators on the stored values (a Float32
+ * column holds grid values: read back exactly), the grouped values (groupedValues) and their grid
+ * keys (the fit's grid, so it does not compute them again), and the slabs with a value
+ * (completeRows). The value and key arrays are reused from variable to variable (scratch.ts): a
+ * term lives only while its variable is tested.
+ */
+function numericPass(sc: Scanned, key: string) {
+  const { facts: f, rows, affected: aff } = sc;
+  const col = f.vars[key]!;
+  const scale = VARIABLE_SCALE[key]!;
+  const onGrid = col instanceof Float32Array;
+  const values = scratch("screening.values", Float64Array, f.size);
+  const keys = scratch("screening.keys", Int32Array, f.size);
+  const withValue = scratch("screening.rows", Int32Array, rows.length);
+  const hitAcc = new RunningSpread();
+  const soundAcc = new RunningSpread();
+  let lo = Infinity;
+  let hi = -Infinity;
+  let n = 0;
+  for (let u = 0; u < rows.length; u++) {
+    const i = rows[u]!;
+    const r = col[i]!;
+    if (r !== r) {
+      values[i] = NaN;
+      continue;
+    }
+    const g = Math.round(r * scale) / scale;
+    // Means and variances per outcome computed stably (Welford).
+    if (aff[i]) hitAcc.add(onGrid ? g : r);
+    else soundAcc.add(onGrid ? g : r);
+    values[i] = g;
+    if (!Number.isFinite(g)) continue;
+    const k = Math.round(g * scale);
+    keys[i] = k;
+    if (k < lo) lo = k;
+    if (k > hi) hi = k;
+    withValue[n++] = i;
+  }
+  return { hitAcc, soundAcc, term: numericTerm(key, values, gridFromKeys(keys, lo, hi)), withValue: withValue.subarray(0, n), grid: n > 0 ? { keys, lo, hi } : undefined };
+}
+
 /** The test of one variable in a model with the adjustment terms (those it does not itself name). */
 function adjustedTest(sc: Scanned, q: Query, key: string, term: ModelTerm, adjust: ModelTerm[], iqr: number | null, termRows: Int32Array): { test: AdjustedTest; crudeFit: MultiLogisticFit | null } {
   const others = adjust.filter((t) => t.key !== key);
@@ -92,8 +145,8 @@ function adjustedTest(sc: Scanned, q: Query, key: string, term: ModelTerm, adjus
   const terms = [term, ...others];
   // Categorical terms are known for every slab: the term's own slabs are the model's.
   const rows = others.some((t) => t.kind === "numeric") ? completeRows(sc, terms).rows : termRows;
-  const fit = fitTerms(sc, terms, rows, q.se, true);
-  const crudeFit = term.kind === "numeric" ? fitTerms(sc, [term], rows, q.se) : null;
+  const fit = fitTerms(sc, terms, rows, q.se, true, true);
+  const crudeFit = term.kind === "numeric" ? fitTerms(sc, [term], rows, q.se, false, true) : null;
   const v = fit.variables[0]!;
   const lr = q.se === "model";
   const within = others.length === adjust.length ? "" : others.length === 0 ? " (it is the adjustment itself: tested alone)" : " (it is part of the adjustment: tested adjusted for the other terms)";
@@ -127,24 +180,15 @@ export function screening(db: Db, q: Query): Screening {
   const { facts: f, rows, affected: aff } = sc;
   const slabs = rows.length;
   let affected = 0;
-  for (const i of rows) affected += aff[i]!;
+  for (let u = 0; u < slabs; u++) affected += aff[rows[u]!]!;
   const adjusting = q.adjustFor.length > 0;
   const adjust = adjusting ? modelTerms(db, sc, q.adjustFor) : [];
   const out: Row[] = [];
 
   for (const v of VARIABLES) {
-    // The slabs' own values (a Float32 column holds grid values: read back exactly).
-    const col = f.vars[v.key]!;
-    const scale = col instanceof Float32Array ? VARIABLE_SCALE[v.key]! : 0;
-    // Means and variances per outcome computed stably (Welford), with an exact test for no spread.
-    const hitAcc = new RunningSpread();
-    const soundAcc = new RunningSpread();
-    for (const i of rows) {
-      const x = scale ? Math.round(col[i]! * scale) / scale : col[i]!;
-      if (x !== x) continue;
-      if (aff[i]) hitAcc.add(x);
-      else soundAcc.add(x);
-    }
+    // Welch's accumulators, the model term and the slabs with a value, in one pass.
+    const pass = numericPass(sc, v.key);
+    const { hitAcc, soundAcc, term, withValue } = pass;
     const hit = hitAcc.result();
     const sound = soundAcc.result();
     const all = new RunningSpread().merge(hitAcc).merge(soundAcc).result();
@@ -173,10 +217,8 @@ export function screening(db: Db, q: Query): Screening {
       p = finite(t.p);
     }
     // Logistic odds ratios per IQR, crude and adjusted, on the slabs with every value the adjusted model needs.
-    const [term] = modelTerms(db, sc, [v.key]);
-    const values = (term!.column as { values: ArrayLike<number> }).values;
-    const withValue = completeRows(sc, [term!]).rows;
-    const iqr = interquartileRange(values, withValue, 10 ** (v.digits + 1));
+    const values = (term.column as { values: ArrayLike<number> }).values;
+    const iqr = interquartileRange(values, withValue, 10 ** (v.digits + 1), pass.grid);
     let crude: Row["crude"] = null;
     let adjusted: Row["adjusted"] = null;
     const crudeOf = (fit: MultiLogisticFit) => {
@@ -186,11 +228,11 @@ export function screening(db: Db, q: Query): Screening {
       return { oddsRatioPerIqr: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(t.p ?? NaN) };
     };
     if (adjusting) {
-      const r = adjustedTest(sc, q, v.key, term!, adjust, iqr, withValue);
+      const r = adjustedTest(sc, q, v.key, term, adjust, iqr, withValue);
       adjusted = r.test;
-      crude = r.crudeFit ? crudeOf(r.crudeFit) : crudeOf(fitTerms(sc, [term!], withValue, q.se));
+      crude = r.crudeFit ? crudeOf(r.crudeFit) : crudeOf(fitTerms(sc, [term], withValue, q.se, false, true));
     } else {
-      crude = crudeOf(fitTerms(sc, [term!], withValue, q.se));
+      crude = crudeOf(fitTerms(sc, [term], withValue, q.se, false, true));
     }
     out.push({
       ...base, statistic, df, p, fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED, testable: true, reason, iqr, crude, adjusted,
@@ -201,10 +243,18 @@ export function screening(db: Db, q: Query): Screening {
     const [term] = modelTerms(db, sc, [key]);
     const col = term!.column as { codes: ArrayLike<number>; label: (c: number) => string };
     const byCode = new Map<number, { slabs: number; affected: number }>();
-    for (const i of rows) {
+    // Slabs of one heat sit side by side and share their codes: look the code up only when it changes.
+    let last = NaN;
+    let c = { slabs: 0, affected: 0 };
+    for (let u = 0; u < slabs; u++) {
+      const i = rows[u]!;
       const code = col.codes[i]!;
-      let c = byCode.get(code);
-      if (!c) byCode.set(code, (c = { slabs: 0, affected: 0 }));
+      if (code !== last) {
+        last = code;
+        const known = byCode.get(code);
+        if (known) c = known;
+        else byCode.set(code, (c = { slabs: 0, affected: 0 }));
+      }
       c.slabs++;
       c.affected += aff[i]!;
     }
