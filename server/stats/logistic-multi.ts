@@ -334,12 +334,12 @@ function irls(d: Design, act: Active, start: Float64Array, maxIterations: number
  * summed over the slabs in one pass (`patternOf` says which row each slab went to), which gives the
  * same sandwich. Gives up (null) when nearly every slab is distinct, where grouping only costs time.
  */
-function collapse(used: Int32Array, terms: TermColumn[], affected: ArrayLike<number>, slabs: ArrayLike<number> | undefined, pattern?: ArrayLike<number>) {
+function collapse(used: Int32Array, terms: TermColumn[], affected: ArrayLike<number>, slabs: ArrayLike<number> | undefined, pattern?: ArrayLike<number>, patternCount?: number) {
   const m = used.length;
   if (m < 2) return null;
   const nums = terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values);
   const cats = terms.filter((t) => t.kind === "categorical").map((t) => (t as { codes: ArrayLike<number> }).codes);
-  if (pattern) return collapseByPattern(used, nums, cats, affected, slabs, pattern);
+  if (pattern) return collapseByPattern(used, nums, cats, affected, slabs, pattern, patternCount);
   let size = 1;
   while (size < 2 * m) size <<= 1;
   const mask = size - 1;
@@ -395,13 +395,24 @@ function collapse(used: Int32Array, terms: TermColumn[], affected: ArrayLike<num
  * The same grouping from the caller's pattern ids: a lookup instead of a hash. The caller vouches
  * that equal ids mean equal values (checked on the first rows, to catch a misuse early).
  */
-function collapseByPattern(used: Int32Array, nums: ArrayLike<number>[], cats: ArrayLike<number>[], affected: ArrayLike<number>, slabs: ArrayLike<number> | undefined, pattern: ArrayLike<number>) {
+function collapseByPattern(
+  used: Int32Array,
+  nums: ArrayLike<number>[],
+  cats: ArrayLike<number>[],
+  affected: ArrayLike<number>,
+  slabs: ArrayLike<number> | undefined,
+  pattern: ArrayLike<number>,
+  patternCount?: number,
+) {
   const m = used.length;
   let max = 0;
-  for (let u = 0; u < m; u++) {
-    const id = pattern[used[u]!]!;
-    if (!(id >= 0)) throw new Error("logisticRegressionColumns: a negative or missing pattern id");
-    if (id > max) max = id;
+  if (patternCount !== undefined && Number.isInteger(patternCount) && patternCount > 0) max = patternCount - 1;
+  else {
+    for (let u = 0; u < m; u++) {
+      const id = pattern[used[u]!]!;
+      if (!(id >= 0)) throw new Error("logisticRegressionColumns: a negative or missing pattern id");
+      if (id > max) max = id;
+    }
   }
   if (max > 64_000_000 || !Number.isInteger(max)) throw new Error("logisticRegressionColumns: pattern ids must be integers below 64 million");
   // Working arrays as long as the slabs, reused from fit to fit (scratch.ts): they do not outlive the fit.
@@ -427,6 +438,8 @@ function collapseByPattern(used: Int32Array, nums: ArrayLike<number>[], cats: Ar
     const i = used[u]!;
     const id = pattern[i]!;
     let pid = lookup[id]!;
+    // An id outside 0 … max reads undefined here (a typed array out of range): refused, never grouped.
+    if (pid === undefined) throw new Error("logisticRegressionColumns: a pattern id outside the caller's count");
     if (pid < 0) {
       lookup[id] = pid = patterns++;
       rep[pid] = i;
@@ -473,27 +486,6 @@ function clusterIdsOf(used: Int32Array, cluster: ArrayLike<number>) {
     }
   }
   return { ids, G };
-}
-
-/** The used rows' heat numbers from the caller's numbering, and how many distinct heats they hold. */
-function heatsNumbered(used: Int32Array, numbering: { ids: Int32Array; count: number }) {
-  const m = used.length;
-  const ids = scratch("cluster.ids", Int32Array, m);
-  const seen = scratch("cluster.seen", Uint8Array, numbering.count, 0);
-  // The heats in the order they first appear in the used rows: the order clusterIdsOf numbers them
-  // in, so the sandwich adds the same terms in the same order and gives the same bits.
-  const order = scratch("cluster.order", Int32Array, numbering.count);
-  let G = 0;
-  for (let u = 0; u < m; u++) {
-    const g = numbering.ids[used[u]!]!;
-    if (!(g >= 0 && g < numbering.count)) throw new Error("logisticRegressionColumns: a row without a heat");
-    ids[u] = g;
-    if (!seen[g]) {
-      seen[g] = 1;
-      order[G++] = g;
-    }
-  }
-  return { ids, G, slots: numbering.count, order: order.subarray(0, G) };
 }
 
 const WARM_START_ROWS = 50_000;
@@ -572,6 +564,8 @@ export interface SlabColumns {
    * integer, equal only for rows with equal values of every term. Saves hashing the rows; checked.
    */
   pattern?: ArrayLike<number>;
+  /** With `pattern`: the ids run 0 … patternCount − 1 (the caller knows its grid), so no pass looks for the largest. */
+  patternCount?: number;
   /**
    * The caller vouches that every row in `rows` has a value of every term (and slabs > 0), as when
    * it picked them for that: the rows are used as given, without a pass to check and compact them
@@ -676,7 +670,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   // Every used row needs its heat: checked where the heats are numbered (clusterIdsOf).
   if (seKind === "cluster" && !data.cluster && !data.clusterIds) throw new Error("logisticRegressionColumns: cluster-robust SEs need the heat of every row");
   // From here on a row is a pattern of equal values (its slabs summed), or a single input row.
-  const grouped = options.group === false ? null : collapse(used, terms, data.affected, data.slabs, data.pattern);
+  const grouped = options.group === false ? null : collapse(used, terms, data.affected, data.slabs, data.pattern, data.patternCount);
   const rowsN = grouped ? grouped.rows : m;
   const ix = grouped ? grouped.rep : used;
   let S: Float64Array;
@@ -908,12 +902,10 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   let vFit = bread;
   let clusters: number | null = null;
   if (seKind === "cluster") {
-    const { ids: heatOf, G, slots, order } = data.clusterIds ? heatsNumbered(used, data.clusterIds) : { ...clusterIdsOf(used, data.cluster!), slots: 0, order: null };
-    clusters = G;
-    if (G < 2) return empty("fewer than two heats: cluster-robust standard errors are undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
-    if (factor === "CR1" && slabs <= p) return empty("no more slabs than parameters: the small-sample factor (N − 1)/(N − K) is undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
     // The fitted probability of each design row, then each heat's score u_g = Σ x (y − n·p) summed
-    // over its slabs in one pass (a design row may hold slabs of several heats).
+    // over its slabs in one pass (a design row may hold slabs of several heats). With the caller's
+    // numbering (clusterIds) the heats with a used row are counted, and their order of first
+    // appearance kept, in the same pass; else they are numbered first (clusterIdsOf).
     const b = fit.beta;
     const mu = new Float64Array(rowsN);
     for (let r = 0; r < rowsN; r++) {
@@ -927,7 +919,12 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       }
       mu[r] = 1 / (1 + Math.exp(-eta));
     }
-    const heatSlots = slots || G;
+    const pre = data.clusterIds?.ids;
+    const perRow = pre ? null : clusterIdsOf(used, data.cluster!);
+    const heatSlots = pre ? data.clusterIds!.count : perRow!.G;
+    const seen = pre ? scratch("cluster.seen", Uint8Array, heatSlots, 0) : null;
+    const order = pre ? scratch("cluster.order", Int32Array, heatSlots) : null;
+    let G = perRow ? perRow.G : 0;
     const u = scratch("fit.heatScores", Float64Array, heatSlots * p, 0);
     const patternOf = grouped?.patternOf;
     const aff = data.affected;
@@ -935,9 +932,18 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     const { xn, xc, numCol } = d;
     for (let w = 0; w < m; w++) {
       const i = used[w]!;
+      let h: number;
+      if (pre) {
+        h = pre[i]!;
+        if (!(h >= 0 && h < heatSlots)) throw new Error("logisticRegressionColumns: a row without a heat");
+        if (!seen![h]) {
+          seen![h] = 1;
+          order![G++] = h;
+        }
+      } else h = perRow!.ids[w]!;
       const r = patternOf === undefined ? w : patternOf[w]!;
       const resid = aff[i]! - (sl === undefined ? 1 : sl[i]!) * mu[r]!;
-      const g = heatOf[w]! * p;
+      const g = h * p;
       u[g]! += resid;
       const rb = r * kn;
       for (let j = 0; j < kn; j++) u[g + numCol[j]!]! += xn[rb + j]! * resid;
@@ -947,6 +953,9 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
         if (c >= 0) u[g + c]! += resid;
       }
     }
+    clusters = G;
+    if (G < 2) return empty("fewer than two heats: cluster-robust standard errors are undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
+    if (factor === "CR1" && slabs <= p) return empty("no more slabs than parameters: the small-sample factor (N − 1)/(N − K) is undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
     const meatFlat = new Float64Array(p * p);
     // Each heat with a used row, in the order of first appearance (the caller's numbering may hold more).
     for (let k = 0; k < G; k++) {

@@ -471,6 +471,16 @@ describe("the fit itself", () => {
     expect(shortcut.clusters).toBe(plain.clusters);
     expect(() => logisticRegressionColumns({ terms, affected: y, cluster: heat, rows, rowsComplete: true }, { se: "cluster" })).toThrow(/vouched complete/);
     expect(() => logisticRegressionColumns({ terms, affected: y, clusterIds: { ids: new Int32Array(n).fill(-1), count: 1 }, rows: complete, rowsComplete: true }, { se: "cluster" })).toThrow(/without a heat/);
+    // Pattern ids with their count given (no pass for the largest): the same fit; an id past the count is refused.
+    const codes = new Map<string, number>();
+    const pattern = Int32Array.from({ length: n }, (_, i) => {
+      const k = `${speed[i]}|${fam[i]}`;
+      if (!codes.has(k)) codes.set(k, codes.size);
+      return codes.get(k)!;
+    });
+    const counted = logisticRegressionColumns({ terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete: true, pattern, patternCount: codes.size }, { se: "cluster" });
+    expect(counted.terms.map((t) => [t.coef, t.se])).toEqual(shortcut.terms.map((t) => [expect.closeTo(t.coef!, 12), expect.closeTo(t.se!, 12)]));
+    expect(() => logisticRegressionColumns({ terms, affected: y, cluster: heat, rows: complete, pattern, patternCount: 2 }, { se: "cluster" })).toThrow(/outside the caller's count|differ/);
   });
 
   it("when a fit has more than 100,000 distinct rows (its first steps taken on a sample), then it equals the one-variable fit of logistic.ts (checked on the Challenger data)", () => {

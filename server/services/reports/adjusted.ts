@@ -89,7 +89,7 @@ function gridOf(s: Scanned, t: ModelTerm): Grid | null {
  * slabs by a lookup instead of hashing them; undefined when the grid is too large (several
  * continuous terms), where the fit hashes.
  */
-function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): Int32Array | undefined {
+function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): { ids: Int32Array; count: number } | undefined {
   let width = 1;
   const grids: Grid[] = [];
   for (const t of terms) {
@@ -104,15 +104,23 @@ function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): Int32Arra
   if (grids.length === 1) {
     const { keys, offset } = grids[0]!;
     for (let u = 0; u < rows.length; u++) ids[rows[u]!] = keys[rows[u]!]! - offset;
-    return ids;
+  } else if (grids.length === 2) {
+    // The common case (a condition and one adjustment), without the inner loop.
+    const [a, b] = grids as [Grid, Grid];
+    const wb = b.width;
+    for (let u = 0; u < rows.length; u++) {
+      const i = rows[u]!;
+      ids[i] = (a.keys[i]! - a.offset) * wb + (b.keys[i]! - b.offset);
+    }
+  } else {
+    for (let u = 0; u < rows.length; u++) {
+      const i = rows[u]!;
+      let id = 0;
+      for (const g of grids) id = id * g.width + (g.keys[i]! - g.offset);
+      ids[i] = id;
+    }
   }
-  for (let u = 0; u < rows.length; u++) {
-    const i = rows[u]!;
-    let id = 0;
-    for (const g of grids) id = id * g.width + (g.keys[i]! - g.offset);
-    ids[i] = id;
-  }
-  return ids;
+  return { ids, count: width };
 }
 
 const isCategorical = (key: string): key is CategoricalKey => (CATEGORICAL_KEYS as readonly string[]).includes(key);
@@ -272,9 +280,13 @@ function heatNumbering(s: Scanned) {
  * completeRows for these terms (or a subset of them), so the fit uses them without checking each.
  */
 export function fitTerms(s: Scanned, terms: ModelTerm[], rows: Int32Array, se: SeMethod, likelihoodRatio = false, complete = false): MultiLogisticFit {
+  const pattern = patternIds(s, terms, rows);
   // Refitting the model without each variable (the LR test) only where it is valid: with model-based SEs.
   return logisticRegressionColumns(
-    { terms: terms.map((t) => t.column), affected: s.affected, cluster: s.facts.heatId, clusterIds: se === "cluster" ? heatNumbering(s) : undefined, rows, pattern: patternIds(s, terms, rows), rowsComplete: complete },
+    {
+      terms: terms.map((t) => t.column), affected: s.affected, cluster: s.facts.heatId, clusterIds: se === "cluster" ? heatNumbering(s) : undefined, rows,
+      pattern: pattern?.ids, patternCount: pattern?.count, rowsComplete: complete,
+    },
     { se, likelihoodRatio: likelihoodRatio && se === "model" },
   );
 }
