@@ -388,7 +388,7 @@ export function listDefects(db: Db, user: Actor, q: z.output<typeof defectListQu
     )
     .pluck()
     .get(params) as number;
-  const order = q.sort === "oldest" ? "d.found_at asc, d.id asc" : "d.found_at desc, d.id desc";
+  const order = q.sort === "oldest" ? "d.found_at asc, d.id asc" : q.sort === "severity" ? "d.severity desc, d.found_at asc, d.id asc" : "d.found_at desc, d.id desc";
   const rows = db.$client.prepare(`${SELECT} where ${w} order by ${order} limit @limit offset @offset`).all({
     ...params,
     limit: q.pageSize,

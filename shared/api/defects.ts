@@ -133,7 +133,8 @@ export const defectListQuerySchema = z.object({
   heat: z.string().trim().max(40).optional(),
   type: z.string().trim().max(16).optional(),
   reviewStatus: reviewStatusSchema.optional(),
-  sort: z.enum(["newest", "oldest"]).default("newest"),
+  /** By the time found; "severity": the most severe first, the oldest first within a severity. */
+  sort: z.enum(["newest", "oldest", "severity"]).default("newest"),
   page: z.coerce.number().int().min(1).max(100_000).default(1),
   pageSize: z.coerce.number().int().min(1).max(200).default(50),
 });

@@ -184,7 +184,7 @@ async function main() {
     // Summary lines read by scripts/bench.ts.
     console.log(`start summary ${slabs} slabs: sign-in and yard within ${(worst / 1000).toFixed(2)} s (${(worst / floor).toFixed(1)}× a bare Node server) target < 2 s ${worst < 2000 ? "met" : "NOT met"}`);
     console.log(`start summary ${slabs} slabs: reports ready ${(warm.reports / 1000).toFixed(2)} s from the snapshot (reading its bytes alone ${(readFloor / 1000).toFixed(2)} s), ${(cold.reports / 1000).toFixed(2)} s rebuilt`);
-    console.log(`start summary ${slabs} slabs: server RSS peak ${peak.toFixed(0)} MB (ready ${warm.rssReady.toFixed(0)} MB) target < 800 MB at 5 M ${peak < 800 ? "met" : "NOT met"}`);
+    console.log(`start summary ${slabs} slabs: server RSS peak ${peak.toFixed(0)} MB (ready ${warm.rssReady.toFixed(0)} MB) target < 800 MB at 5 M ${SLABS >= 5_000_000 ? (peak < 800 ? "met" : "NOT met") : "(judged on BENCH_SLABS=5000000)"}`);
   } finally {
     fs.rmSync(dir, { recursive: true, force: true });
   }

@@ -75,6 +75,12 @@ describe("quality review and catalogue", () => {
     await page.getByRole("button", { name: "✓ Confirm as logged" }).click();
     await page.getByTestId("review-empty").waitFor();
     expect(await page.getByTestId("review-count").textContent()).toBe(`Nothing awaits review on slab ${slabId}.`);
+    // Truthful: the rest of the queue is still there, and the words say how much of it.
+    const others = sqlite().prepare("select count(*) from defects where review_status = 'new' and deleted_at is null").pluck().get() as number;
+    expect(others).toBeGreaterThan(0);
+    await expect.poll(() => page.getByTestId("review-empty").textContent()).toBe(`No entry of slab ${slabId} awaits review; ${others} ${others === 1 ? "entry" : "entries"} of other slabs ${others === 1 ? "waits" : "wait"} — choose "Show all slabs".`);
+    // The slab is kept in the address.
+    expect(new URL(page.url()).searchParams.get("slab")).toBe(slabId);
 
     const rows = sqlite()
       .prepare(
@@ -87,6 +93,42 @@ describe("quality review and catalogue", () => {
       { id: second, review_status: "rejected", review_note: "A scale mark that came off; not a defect.", severity: 2, type_code: "DEP", reviewer: "quality@demo.test" },
       { id: third, review_status: "confirmed", review_note: null, severity: 3, type_code: "SLG", reviewer: "quality@demo.test" },
     ]);
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it("when the queue is opened from a link with a slab and the most severe first, then it shows that slab in that order, and without a slab it pages through every entry with the total", { timeout: 90_000 }, async () => {
+    const slabId = sqlite().prepare("select slab_id from slabs order by id limit 1 offset 55").pluck().get() as string;
+    const minor = await logAsInspector(slabId, "review-key-0101", { severity: 1, found_at: "2026-11-29T06:00:00Z" });
+    const major = await logAsInspector(slabId, "review-key-0102", { type_code: "SLG", severity: 3, found_at: "2026-11-29T09:00:00Z" });
+    // Enough entries elsewhere that the whole queue is longer than one page.
+    const other = sqlite().prepare("select slab_id from slabs order by id limit 1 offset 56").pluck().get() as string;
+    for (let k = 0; k < 30; k++) await logAsInspector(other, `review-key-02${String(k).padStart(2, "0")}`, { found_at: `2026-11-28T${String(k % 24).padStart(2, "0")}:00:00Z` });
+    const total = sqlite().prepare("select count(*) from defects where review_status = 'new' and deleted_at is null").pluck().get() as number;
+    expect(total).toBeGreaterThan(25);
+
+    const context = await env.browser.newContext({ viewport: DESKTOP });
+    const page = await context.newPage();
+    const errors = collectPageErrors(page);
+    await signInAs(page, env.server.baseUrl, "quality", TEST_PASSWORD);
+    await page.goto(`${env.server.baseUrl}/quality/review?slab=${slabId.toLowerCase()}&sort=severity`);
+    await expect.poll(() => page.getByTestId("review-count").textContent()).toBe(`2 entries awaiting review on slab ${slabId}, most severe first, then oldest.`);
+    await expect.poll(() => page.getByTestId("review-current").getAttribute("data-defect-id")).toBe(String(major));
+    expect(await page.getByLabel("Order").inputValue()).toBe("severity");
+    expect(await page.getByLabel("Only the entries of slab").inputValue()).toBe(slabId);
+    // Oldest first again: the minor one, found earlier, leads.
+    await page.getByLabel("Order").selectOption("oldest");
+    await expect.poll(() => page.getByTestId("review-current").getAttribute("data-defect-id")).toBe(String(minor));
+    expect(new URL(page.url()).searchParams.get("sort")).toBeNull();
+
+    // Every slab: a page of 25 with the total, and more on asking.
+    await page.getByRole("button", { name: "Show all slabs" }).click();
+    await expect.poll(() => page.getByTestId("review-count").textContent()).toBe(`${total} entries awaiting review, oldest first.`);
+    await expect.poll(() => page.getByTestId("review-paging").textContent()).toContain(`Showing 25 of ${total}.`);
+    await snap(page, "review-paging-desktop");
+    await page.getByRole("button", { name: `Show ${Math.min(25, total - 25)} more` }).click();
+    await expect.poll(() => page.getByTestId("review-paging").textContent()).toContain(total <= 50 ? `All ${total} shown.` : `Showing 50 of ${total}.`);
+    expect(await page.getByRole("list", { name: "Entries awaiting review" }).getByRole("listitem").count()).toBe(Math.min(50, total));
     expect(errors).toEqual([]);
     await context.close();
   });

@@ -188,6 +188,17 @@ describe("review", () => {
     expect([...times].sort((a, b) => a - b)).toEqual(times);
     expect(res.body.total).toBe(one("select count(*) as n from defects where review_status = 'new' and deleted_at is null").n);
   });
+
+  it("when the queue is read most severe first, then severity falls and, within one severity, the oldest comes first", async () => {
+    const res = await quality.get("/api/defects?reviewStatus=new&sort=severity&pageSize=200");
+    expect(res.status).toBe(200);
+    const rows = res.body.items.map((d: { severity: number; foundAt: string; id: number }) => [d.severity, Date.parse(d.foundAt), d.id] as const);
+    expect(rows.length).toBeGreaterThan(2);
+    expect(new Set(rows.map((r: readonly number[]) => r[0])).size).toBeGreaterThan(1);
+    const expected = [...rows].sort((a, b) => b[0] - a[0] || a[1] - b[1] || a[2] - b[2]);
+    expect(rows).toEqual(expected);
+    expect((await quality.get("/api/defects?sort=loudest")).status).toBe(400);
+  });
 });
 
 describe("lists and the catalogue", () => {

@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { useQuery } from "@tanstack/react-query";
-import { Link } from "react-router";
+import { Link, useSearchParams } from "react-router";
 import type { Defect, DefectReview, DefectType } from "@shared/api/defects";
 import { SEVERITIES, SEVERITY_LABELS, type Severity } from "@shared/domain";
 import { Button } from "@/components/ui/button";
@@ -15,8 +15,6 @@ import { defectKeys, useReviewDefect } from "../api/defects.queries";
 import { ChoiceTiles } from "./choice-tiles";
 import { PhotoStrip } from "./photo-viewer";
 import { TypePicker } from "./type-picker";
-
-const QUEUE = { reviewStatus: "new", sort: "oldest", pageSize: 25 } as const;
 
 /** Narrows the queue to one slab, e.g. to review a slab's entries together. */
 function SlabFilter({ value, onChange }: { value: string; onChange: (v: string) => void }) {
@@ -198,22 +196,91 @@ function DefectFacts({ d }: { d: Defect }) {
   );
 }
 
-/** New entries, oldest first; each decision moves on to the next. */
+type QueueSort = "oldest" | "newest" | "severity";
+const SORTS: { value: QueueSort; label: string; words: string }[] = [
+  { value: "oldest", label: "Oldest first", words: "oldest first" },
+  { value: "newest", label: "Newest first", words: "newest first" },
+  { value: "severity", label: "Most severe first", words: "most severe first, then oldest" },
+];
+const PAGE = 25;
+
+/**
+ * New entries, in the chosen order; each decision moves on to the next. The slab and the order are
+ * kept in the address (`?slab=…&sort=…`), so a link or a reload opens the same queue.
+ */
 export function ReviewQueue({ types }: { types: DefectType[] }) {
-  const [slab, setSlab] = useState("");
-  const queue = useQuery(defectKeys.list(slab ? { ...QUEUE, slab } : QUEUE));
+  const [params, setParams] = useSearchParams();
+  const slab = (params.get("slab") ?? "").trim().toUpperCase();
+  const sortParam = params.get("sort");
+  const sort: QueueSort = SORTS.some((x) => x.value === sortParam) ? (sortParam as QueueSort) : "oldest";
+  const [shown, setShown] = useState(PAGE);
+  const filters = { reviewStatus: "new" as const, sort, ...(slab ? { slab } : {}) };
+  const queue = useQuery({
+    ...defectKeys.list({ ...filters, pageSize: shown }),
+    // "Show more" keeps the list on screen while the longer one comes; another slab or order does not.
+    placeholderData: (previous, previousQuery) => {
+      const f = previousQuery?.queryKey[2] as { slab?: string; sort?: string } | undefined;
+      return f && (f.slab ?? "") === slab && f.sort === sort ? previous : undefined;
+    },
+  });
+  // With a slab chosen, how many wait on the others (for an honest word when this slab has none).
+  const everywhere = useQuery({ ...defectKeys.list({ reviewStatus: "new", sort: "oldest", pageSize: 1 }), enabled: slab !== "" });
   const [picked, setPicked] = useState<number | null>(null);
   const [decided, setDecided] = useState<number[]>([]);
   const [last, setLast] = useState<string | null>(null);
 
+  const setParam = (key: string, value: string) =>
+    setParams(
+      (p) => {
+        const next = new URLSearchParams(p);
+        if (value) next.set(key, value);
+        else next.delete(key);
+        return next;
+      },
+      { replace: true },
+    );
   // The filter keeps one place in the tree whatever the queue's state, so text typed while the
   // queue loads is not thrown away by a remount when the answer comes.
-  const filter = <SlabFilter value={slab} onChange={(v) => { setSlab(v); setPicked(null); }} />;
+  const filter = (
+    <div className="flex flex-wrap items-end gap-3">
+      <SlabFilter
+        key={slab}
+        value={slab}
+        onChange={(v) => {
+          setParam("slab", v);
+          setPicked(null);
+          setShown(PAGE);
+        }}
+      />
+      <div className="flex flex-col gap-1">
+        <label htmlFor="review-sort" className="text-sm font-semibold text-ink-800">
+          Order
+        </label>
+        <select
+          id="review-sort"
+          value={sort}
+          onChange={(e) => {
+            setParam("sort", e.target.value === "oldest" ? "" : e.target.value);
+            setPicked(null);
+          }}
+          className="min-h-11 rounded-md border border-ink-300 bg-white px-3"
+        >
+          {SORTS.map((x) => (
+            <option key={x.value} value={x.value}>
+              {x.label}
+            </option>
+          ))}
+        </select>
+      </div>
+    </div>
+  );
   const data = queue.data;
   // Entries decided here leave at once, before the list comes back from the server.
   const items = data ? data.items.filter((d) => !decided.includes(d.id)) : [];
   const remaining = data ? Math.max(0, data.total - decided.filter((id) => data.items.some((d) => d.id === id)).length) : 0;
   const current = items.find((d) => d.id === picked) ?? items[0];
+  const sortWords = SORTS.find((x) => x.value === sort)!.words;
+  const elsewhere = slab && everywhere.data ? Math.max(0, everywhere.data.total - remaining) : null;
 
   return (
     <div className="space-y-4">
@@ -228,7 +295,7 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
         {data ? (
           <p className="text-base text-ink-800" data-testid="review-count">
             {remaining
-              ? `${plural(remaining, "entry", "entries")} awaiting review${slab ? ` on slab ${slab}` : ""}, oldest first.`
+              ? `${plural(remaining, "entry", "entries")} awaiting review${slab ? ` on slab ${slab}` : ""}, ${sortWords}.`
               : slab
                 ? `Nothing awaits review on slab ${slab}.`
                 : "Nothing awaits review."}
@@ -285,15 +352,28 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
                 </li>
               ))}
             </ul>
-            {data.total > data.items.length ? (
-              <p className="px-3 py-2 text-xs text-ink-600">The oldest {data.items.length} are listed; the rest follow as these are decided.</p>
-            ) : null}
+            <div className="flex flex-wrap items-center justify-between gap-2 px-3 py-2 text-sm text-ink-700" data-testid="review-paging">
+              <span>
+                {items.length < remaining ? `Showing ${items.length.toLocaleString("en-GB")} of ${remaining.toLocaleString("en-GB")}.` : `All ${remaining.toLocaleString("en-GB")} shown.`}
+              </span>
+              {items.length < remaining && shown < 200 ? (
+                <Button variant="secondary" disabled={queue.isFetching} onClick={() => setShown((n) => Math.min(200, n + PAGE))}>
+                  Show {Math.min(PAGE, remaining - items.length)} more
+                </Button>
+              ) : null}
+            </div>
           </Card>
         </div>
       ) : (
         <Card>
           <p className="text-base text-ink-700" data-testid="review-empty">
-            {slab ? `No entry of slab ${slab} awaits review. Choose "Show all slabs" for the rest of the queue.` : "The queue is empty: every entry has been reviewed."}
+            {!slab
+              ? "The queue is empty: every entry has been reviewed."
+              : elsewhere === null
+                ? `No entry of slab ${slab} awaits review.`
+                : elsewhere > 0
+                  ? `No entry of slab ${slab} awaits review; ${plural(elsewhere, "entry", "entries")} of other slabs ${elsewhere === 1 ? "waits" : "wait"} — choose "Show all slabs".`
+                  : `No entry of slab ${slab} awaits review, nor of any other slab.`}
           </p>
         </Card>
       )}
