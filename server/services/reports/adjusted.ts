@@ -249,20 +249,21 @@ export function completeRows(s: Scanned, terms: ModelTerm[]) {
   return { rows: out.subarray(0, n), missing: numeric.filter((c) => c.missing > 0).map((c) => ({ key: c.t.key, label: c.t.label, slabs: c.missing })) };
 }
 
-const heatNumberings = new WeakMap<Scanned, { ids: Int32Array; count: number }>();
+/** The last scope numbered (reports run one at a time in their thread, each from start to end). */
+let numbered: { s: Scanned; ids: Int32Array; count: number } | null = null;
 
 /**
  * The scope's heats numbered once per report (in the order they first appear in its rows), for
- * the clusters of every fit the report makes on those rows, instead of once per fit.
+ * the clusters of every fit the report makes on those rows, instead of once per fit. The arrays
+ * are reused (scratch.ts): only the scope's rows are written, and only they are read.
  */
 function heatNumbering(s: Scanned) {
-  let known = heatNumberings.get(s);
-  if (known) return known;
+  if (numbered?.s === s) return numbered;
   const heat = s.facts.heatId;
   let max = 0;
   for (let u = 0; u < s.rows.length; u++) max = Math.max(max, heat[s.rows[u]!]!);
-  const lookup = new Int32Array(max + 1).fill(-1);
-  const ids = new Int32Array(s.facts.size).fill(-1);
+  const lookup = scratch("heatNumbering.lookup", Int32Array, max + 1, -1);
+  const ids = scratch("heatNumbering.ids", Int32Array, s.facts.size);
   let count = 0;
   for (let u = 0; u < s.rows.length; u++) {
     const i = s.rows[u]!;
@@ -271,8 +272,8 @@ function heatNumbering(s: Scanned) {
     if (id < 0) lookup[h] = id = count++;
     ids[i] = id;
   }
-  heatNumberings.set(s, (known = { ids, count }));
-  return known;
+  numbered = { s, ids, count };
+  return numbered;
 }
 
 /**
