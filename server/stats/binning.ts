@@ -44,10 +44,12 @@ export function quantileEdges(groups: Group[], k: number): number[] {
 
 /**
  * Rates per bin with Wilson intervals. Bins are [lower, upper) except the last, which includes its
- * upper edge. A bin with fewer than `minN` slabs is merged into its neighbour (the smaller one),
- * so every bin shown stands on at least minN slabs.
+ * upper edge. A bin with fewer than `minN` slabs (an empty one too) is merged into its neighbour
+ * (the smaller one), so every bin shown stands on at least minN slabs and the bins still cover the
+ * range without a gap. `emptySpans`, when given, receives the spans that held no slab at all
+ * (adjacent empty bins as one span), for the report to say where its bins were widened.
  */
-export function binnedRates(groups: Group[], edges: number[], minN = 1): Bin[] {
+export function binnedRates(groups: Group[], edges: number[], minN = 1, emptySpans?: { lower: number; upper: number }[]): Bin[] {
   if (edges.length < 2) {
     if (groups.length === 0) return [];
     const n = groups.reduce((s, g) => s + g.n, 0);
@@ -62,7 +64,14 @@ export function binnedRates(groups: Group[], edges: number[], minN = 1): Bin[] {
     bins[b]!.slabs += g.n;
     bins[b]!.affected += g.affected;
   }
-  bins = bins.filter((x) => x.slabs > 0);
+  if (emptySpans) {
+    for (const x of bins) {
+      if (x.slabs > 0) continue;
+      const lastSpan = emptySpans[emptySpans.length - 1];
+      if (lastSpan && lastSpan.upper === x.lower) lastSpan.upper = x.upper;
+      else emptySpans.push({ lower: x.lower, upper: x.upper });
+    }
+  }
   while (bins.length > 1) {
     const i = bins.findIndex((x) => x.slabs < minN);
     if (i < 0) break;

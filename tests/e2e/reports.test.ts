@@ -33,8 +33,16 @@ describe("reports in the browser", () => {
     await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Reports" }).click();
     await page.getByRole("heading", { level: 1, name: "Reports" }).waitFor();
     await page.getByTestId("report-cautions").waitFor();
+    // The four cautions in full on the reports home; on a report one line, the four a tap away.
+    expect(await page.getByTestId("report-cautions-full").isVisible()).toBe(true);
     await page.getByRole("link", { name: /^Rate against a variable/ }).click();
     await page.getByRole("heading", { level: 1, name: "Rate against a variable" }).waitFor();
+    await page.getByTestId("report-cautions").getByText("Association is not causation.").waitFor();
+    expect(await page.getByTestId("report-cautions-full").isVisible()).toBe(false);
+    await page.getByTestId("report-cautions").getByText("All four cautions").click();
+    await page.getByTestId("report-cautions-full").getByText(/hot-yard, crane and PPE rules/).waitFor();
+    await page.getByTestId("report-cautions").getByText("Fewer words").click();
+    await expect.poll(() => page.getByTestId("report-cautions-full").isVisible()).toBe(false);
 
     // One defect type, SLG, from the filter bar's list; casting speed as the variable; 8 bins.
     const picker = page.getByTestId("filter-defect-type");

@@ -88,6 +88,20 @@ describe("reports on a plant built by hand", () => {
     expect(r.notes.join(" ")).toContain("Only 5 affected slabs");
   });
 
+  it("when more equal-width bins are asked for than the speeds fill (20 bins of 0.055 m/min over twelve speeds 0.1 apart), then the bins still cover 1.0–2.1 without a gap and a note names the empty spans", async () => {
+    const r = await get("/api/reports/rate-by-variable?defectType=SLG&variable=casting_speed_m_min&bins=20&binning=equal&minN=1");
+    const bins = r.bins as { lower: number; upper: number; slabs: number }[];
+    expect(bins[0]!.lower).toBe(1.0);
+    expect(bins[bins.length - 1]!.upper).toBe(2.1);
+    for (let k = 1; k < bins.length; k++) expect(bins[k]!.lower).toBe(bins[k - 1]!.upper);
+    expect(bins.every((b) => b.slabs >= 1)).toBe(true);
+    expect(bins.reduce((n, b) => n + b.slabs, 0)).toBe(12);
+    // Edges 1.0 + 0.055·i: the bin from 1.11 to 1.165 holds no speed (1.1 is below it, 1.2 above).
+    const note = (r.notes as string[]).find((n) => n.startsWith("No slab had a value in"));
+    expect(note).toMatch(/^No slab had a value in 1\.11–1\.165 m\/min, .*: those spans were merged into the neighbouring bins, which therefore are wider than the others\.$/);
+    expect(r.methods.grouping).toBe("values grouped to 3 decimals; equal grouped values are ties");
+  });
+
   it("when the defect filters change, then so does which slab counts: the crack needs severity 4, rejected and deleted never count", async () => {
     const lfc = await get("/api/reports/rate-by-variable?defectType=LFC&variable=casting_speed_m_min&bins=2&minN=1");
     expect(lfc.affected).toBe(1);

@@ -221,6 +221,17 @@ describe("binning", () => {
     expect(bins.every((b) => b.slabs >= 3)).toBe(true);
     expect(bins.reduce((s, b) => s + b.slabs, 0)).toBe(10);
   });
+  it("when equal-width bins fall between the values a condition takes (a brake run at 0, 120 or 240 A), then the empty ones are merged without a gap and their spans are named", () => {
+    const brake = groupsFrom([0, 0, 0, 120, 120, 240, 240, 240, 240], [0, 1, 0, 0, 1, 1, 1, 0, 1]);
+    const spans: { lower: number; upper: number }[] = [];
+    const bins = binnedRates(brake, equalWidthEdges(brake, 10), 1, spans);
+    // Ten bins of 24 A: 0 in the first, 120 in the sixth, 240 in the last; the empty ones join a neighbour.
+    expect(spans).toEqual([{ lower: 24, upper: 120 }, { lower: 144, upper: 216 }]);
+    expect(bins[0]!.lower).toBe(0);
+    expect(bins[bins.length - 1]!.upper).toBe(240);
+    for (let k = 1; k < bins.length; k++) expect(bins[k]!.lower).toBe(bins[k - 1]!.upper);
+    expect(bins.map((b) => [b.slabs, b.affected])).toEqual([[3, 1], [2, 1], [4, 3]]);
+  });
 });
 
 describe("agreement with jstat and simple-statistics on random data", () => {

@@ -13,6 +13,9 @@ import {
 } from "./adjusted";
 import { buildScope, finite, proportion, scan, SMALL_AFFECTED, variableGroups, variableSpec, type Scanned } from "./scope";
 
+/** A bin edge in the variable's displayed precision (edges of equal-width bins fall between grid values). */
+const round = (x: number, digits: number) => Number(x.toFixed(Math.max(0, digits + 1))).toString();
+
 function quantilesOf(groups: Group[], pick: (g: Group) => number) {
   const n = groups.reduce((s, g) => s + pick(g), 0);
   if (n === 0) return { n: 0, min: null, q1: null, median: null, q3: null, max: null, mean: null };
@@ -153,7 +156,8 @@ export function rateByVariable(db: Db, q: Query): RateByVariable {
   const slabs = groups.reduce((s, g) => s + g.n, 0);
   const affected = groups.reduce((s, g) => s + g.affected, 0);
   const edges = q.binning === "quantile" ? quantileEdges(groups, q.bins) : equalWidthEdges(groups, q.bins);
-  const bins = binnedRates(groups, edges, q.minN);
+  const emptySpans: { lower: number; upper: number }[] = [];
+  const bins = binnedRates(groups, edges, q.minN, emptySpans);
   const { spearman: sp, pointBiserial: pb } = correlationsWithOutcome(groups);
   const fit = logisticRegression(groups.map((g) => ({ x: [g.value], successes: g.affected, trials: g.n })));
   const spread = spreadOfGroups(groups);
@@ -165,6 +169,13 @@ export function rateByVariable(db: Db, q: Query): RateByVariable {
   else if (flat) notes.push(`${spec.label}: not testable — no spread in these filters (${spread.reason}); no correlation, odds ratio or rank test is given.`);
   else if (affected < SMALL_AFFECTED) notes.push(`Only ${affected} affected slab${affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
   if (bins.some((b) => b.slabs < q.minN)) notes.push(`Some bins hold fewer than ${q.minN} slabs.`);
+  if (emptySpans.length) {
+    const unit = spec.unit && spec.unit !== "–" ? ` ${spec.unit}` : "";
+    const spans = emptySpans.map((x) => `${round(x.lower, spec.digits)}–${round(x.upper, spec.digits)}${unit}`);
+    notes.push(
+      `No slab had a value in ${spans.join(", ")}: ${spans.length === 1 ? "that span was" : "those spans were"} merged into the neighbouring bin${spans.length === 1 ? "" : "s"}, which therefore ${spans.length === 1 ? "is" : "are"} wider than the others.`,
+    );
+  }
   if (missing > 0) notes.push(`${missing} slab${missing === 1 ? "" : "s"} in the filters have no value for ${spec.label.toLowerCase()} and are left out.`);
   const adjusted = q.adjustFor.length > 0 && slabs > 0 ? adjustedSlope(db, sc, q, notes) : undefined;
   const stratified = q.stratifyBy && slabs > 0 ? stratifiedRates(db, sc, q, bins, notes) : undefined;
@@ -174,7 +185,7 @@ export function rateByVariable(db: Db, q: Query): RateByVariable {
     pointBiserial: pb.method,
     logistic: `${fit.method}; model-based standard errors (inverse Fisher information), slabs taken as independent; odds ratio per ${spec.unit === "–" ? "unit" : "1 " + spec.unit}`,
     mannWhitney: `${mw.method} (U of the affected slabs)`,
-    grouping: `values grouped to ${spec.digits + 1} decimals; equal grouped values are ties`,
+    grouping: `values grouped to ${spec.digits + 1} decimal${spec.digits + 1 === 1 ? "" : "s"}; equal grouped values are ties`,
   };
   const perStep = perWordsOf(spec.step, spec.unit);
   if (adjusted) {

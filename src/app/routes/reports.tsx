@@ -68,7 +68,7 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader title="Reports" subtitle="Defect rates and their association with casting conditions. The slab is the unit: a slab is affected when at least one of its defects passes the filters." />
-      <ReportCautions />
+      <ReportCautions open />
       <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3" data-testid="report-list">
         {REPORTS.map((r) => (
           <Link key={r.kind} to={reportPath(r.kind)} className="flex min-h-24 flex-col justify-center rounded-lg border-2 border-ink-300 bg-white px-4 py-3 hover:border-strand-700 hover:bg-strand-50">
