@@ -523,8 +523,19 @@ function generateInvestigations(sqlite: Database.Database, ids: ProductionIds, s
       confirmed_cause_tag_id, closure_note, created_by) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
   const insAction = sqlite.prepare(`insert into investigation_actions (investigation_id, description, owner_id, due_on, status, completed_at)
       values (?, ?, ?, ?, ?, ?)`);
-  const insHyp = sqlite.prepare(`insert into investigation_hypotheses (investigation_id, statement, cause_tag_id, status, created_by)
-      values (?, ?, ?, ?, ?)`);
+  // Dated as the work happened: a hypothesis the week it was put forward, not on the seeding day.
+  const insHypAt = sqlite.prepare(`insert into investigation_hypotheses (investigation_id, statement, cause_tag_id, status, created_by, created_at, updated_at)
+      values (?, ?, ?, ?, ?, ?, ?)`);
+  // The investigation's history, as working it through the app would have left it (the same actions
+  // and payloads as investigations.service writes).
+  const insAudit = sqlite.prepare(
+    "insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), @action, 'investigation', @id, @after",
+  );
+  const history = (id: number, at: number, u: string, action: string, after: unknown) => insAudit.run({ at, u, action, id: String(id), after: JSON.stringify(after) });
+  const insHyp = (inv: number, statement: string, tag: number | null | undefined, status: string, by: string, at: number) => {
+    insHypAt.run(inv, statement, tag ?? null, status, by, at, at);
+    history(inv, at, by, "investigation.hypothesis.add", { statement, causeTag: tag ?? null, status });
+  };
   const insSubject = sqlite.prepare("insert into investigation_subjects (investigation_id, heat_id) values (?, ?)");
   const heatIds = sqlite
     .prepare(
@@ -536,21 +547,30 @@ function generateInvestigations(sqlite: Database.Database, ids: ProductionIds, s
   const day = (iso: string) => Date.parse(iso + "T08:00:00Z");
 
   const a = Number(
-    insInv.run("INV-26-001", "Slag spots on wide, fast heats", "Slag spots on the inner face rose in July on heats cast above 1.5 m/min. Find whether brake current and SEN depth explain it.",
+    insInv.run("INV-2026-001", "Slag spots on wide, fast heats", "Slag spots on the inner face rose in July on heats cast above 1.5 m/min. Find whether brake current and SEN depth explain it.",
       "closed", ids.users.process, day("2026-07-20"), day("2026-09-02"), ids.causeTagIds["brake-off-low"],
       "Heats cast with the brake off or below 200 A carried most slag spots. Brake practice reviewed through the plant's change procedure.", ids.users.process).lastInsertRowid,
   );
-  insHyp.run(a, "Low or no brake current lets the meniscus flow entrain flux at high throughput.", ids.causeTagIds["brake-off-low"], "supported", ids.users.process);
-  insHyp.run(a, "Shallow SEN immersion raises the surface velocity.", null, "open", ids.users.process);
+  history(a, day("2026-07-20"), ids.users.process, "investigation.open", { ref: "INV-2026-001", title: "Slag spots on wide, fast heats" });
+  insHyp(a, "Low or no brake current lets the meniscus flow entrain flux at high throughput.", ids.causeTagIds["brake-off-low"], "supported", ids.users.process, day("2026-07-22"));
+  insHyp(a, "Shallow SEN immersion raises the surface velocity.", null, "open", ids.users.process, day("2026-07-24"));
+  history(a, day("2026-09-02"), ids.users.process, "investigation.close", { confirmedCause: "brake-off-low" });
   insAction.run(a, "Compare slag spot rates by brake current band (report)", ids.users.quality, "2026-08-05", "done", day("2026-08-04"));
   insAction.run(a, "Review brake practice with the caster's metallurgists", ids.users.process, "2026-08-25", "done", day("2026-08-28"));
+  history(a, day("2026-07-24"), ids.users.process, "investigation.action.add", { description: "Compare slag spot rates by brake current band (report)", dueOn: "2026-08-05" });
+  history(a, day("2026-07-24"), ids.users.process, "investigation.action.add", { description: "Review brake practice with the caster's metallurgists", dueOn: "2026-08-25" });
+  history(a, day("2026-08-04"), ids.users.quality, "investigation.action.update", { status: "done" });
+  history(a, day("2026-08-28"), ids.users.process, "investigation.action.update", { status: "done" });
   for (const h of heatIds) insSubject.run(a, h);
 
   const b = Number(
-    insInv.run("INV-26-002", "Longitudinal facial cracks on peritectic grades", "LFC on LV-ST32/LV-ST36 slabs; check mold powder and mold level stability.",
+    insInv.run("INV-2026-002", "Longitudinal facial cracks on peritectic grades", "LFC on LV-ST32/LV-ST36 slabs; check mold powder and mold level stability.",
       "in_progress", ids.users.process, day("2026-10-06"), null, null, null, ids.users.process).lastInsertRowid,
   );
-  insHyp.run(b, "Mold level fluctuation above 3 mm drives the cracks.", ids.causeTagIds["mold-level-disturbance"], "open", ids.users.process);
+  history(b, day("2026-10-06"), ids.users.process, "investigation.open", { ref: "INV-2026-002", title: "Longitudinal facial cracks on peritectic grades" });
+  insHyp(b, "Mold level fluctuation above 3 mm drives the cracks.", ids.causeTagIds["mold-level-disturbance"], "open", ids.users.process, day("2026-10-08"));
+  history(b, day("2026-10-13"), ids.users.process, "investigation.action.add", { description: "Trial of the alternative mold powder on two sequences", dueOn: "2026-11-20" });
+  history(b, day("2026-10-13"), ids.users.process, "investigation.action.add", { description: "Check the mold level sensor calibration on strand 2", dueOn: "2026-11-10" });
   insAction.run(b, "Trial of the alternative mold powder on two sequences", ids.users.process, "2026-11-20", "in_progress", null);
   insAction.run(b, "Check the mold level sensor calibration on strand 2", ids.users.admin, "2026-11-10", "open", null);
   const lfcHeats = sqlite
@@ -563,10 +583,12 @@ function generateInvestigations(sqlite: Database.Database, ids: ProductionIds, s
   for (const h of lfcHeats) insSubject.run(b, h);
 
   const c = Number(
-    insInv.run("INV-26-003", "Slivers on transition coils", "Customer slivers traced to transition slabs after ladle changes.",
+    insInv.run("INV-2026-003", "Slivers on transition coils", "Customer slivers traced to transition slabs after ladle changes.",
       "open", ids.users.process, day("2026-11-18"), null, null, null, ids.users.process).lastInsertRowid,
   );
+  history(c, day("2026-11-18"), ids.users.process, "investigation.open", { ref: "INV-2026-003", title: "Slivers on transition coils" });
   insAction.run(c, "List transition slabs for extra scarfing", ids.users.quality, "2026-12-15", "open", null);
+  history(c, day("2026-11-18"), ids.users.process, "investigation.action.add", { description: "List transition slabs for extra scarfing", dueOn: "2026-12-15" });
   const insDefectSubject = sqlite.prepare("insert into investigation_subjects (investigation_id, defect_id) values (?, ?)");
   const transitionSlivers = sqlite
     .prepare(

@@ -173,3 +173,37 @@ describe("cause tagging in the browser", () => {
     }
   });
 });
+
+describe("tagging one defect on its slab", () => {
+  it("when a process engineer adds a cause to one defect, then the editor closes, the chip shows and one line says it was added", async () => {
+    const defect = env.server.db.$client
+      .prepare(
+        `select d.id, s.slab_id as slabId from defects d join slabs s on s.id = d.slab_id
+         where d.deleted_at is null and d.review_status <> 'rejected'
+           and not exists (select 1 from defect_causes dc where dc.defect_id = d.id) order by d.id desc limit 1`,
+      )
+      .get() as { id: number; slabId: string };
+    const context = await env.browser.newContext({ viewport: TABLET });
+    const page = await context.newPage();
+    page.setDefaultTimeout(15_000);
+    const errors = collectPageErrors(page);
+    await signInAs(page, env.server.baseUrl, "process", TEST_PASSWORD);
+    await page.goto(`${env.server.baseUrl}/slabs/${encodeURIComponent(defect.slabId)}`);
+    await page.getByRole("heading", { level: 1, name: `Slab ${defect.slabId}` }).waitFor();
+    const card = page.locator(`[data-testid=slab-defect][data-defect-id="${defect.id}"]`);
+    await card.getByTestId("edit-causes").click();
+    await card.getByTestId("cause-editor").getByRole("checkbox", { name: /^High superheat/ }).check();
+    await card.getByRole("button", { name: "Add these causes" }).click();
+    await card.getByTestId("causes-added").waitFor();
+    expect(await card.getByTestId("causes-added").textContent()).toBe("✓ Cause added.");
+    expect(await card.getByTestId("cause-editor").count()).toBe(0);
+    await card.locator("[data-testid=cause-chip][data-tag=high-superheat]").waitFor();
+    expect(taggedWith([defect.id], "high-superheat")).toBe(1);
+    // Opening the editor again starts clean: no word left over from the last tagging.
+    await card.getByTestId("edit-causes").click();
+    expect(await card.getByTestId("causes-added").count()).toBe(0);
+    await snap(page, "slab-cause-added-tablet");
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+});

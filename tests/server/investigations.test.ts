@@ -46,6 +46,27 @@ describe("investigations", () => {
     expect(n("select count(*) from audit_log where entity = 'investigation' and entity_id = ? and action = 'investigation.open'", String(id))).toBe(1);
   });
 
+  it("when the demo's investigations are read, then they carry the same kind of reference as a new one, and their hypotheses and history are dated as the work happened", async () => {
+    const seeded = t.db.$client.prepare("select id, ref, opened_at, closed_at from investigations where ref not in (select ref from investigations where id = ?) order by id").all(id) as {
+      id: number; ref: string; opened_at: number; closed_at: number | null;
+    }[];
+    expect(seeded.map((x) => x.ref)).toEqual(["INV-2026-001", "INV-2026-002", "INV-2026-003"]);
+    // The new one follows them in the same year rather than starting a second "001".
+    expect(one("select ref from investigations where id = ?", id).ref).toBe(`INV-${new Date().getUTCFullYear()}-${new Date().getUTCFullYear() === 2026 ? "004" : "001"}`);
+    for (const inv of seeded) {
+      const body = (await process_.get(`/api/investigations/${inv.id}`)).body;
+      expect(body.history.length).toBeGreaterThan(0);
+      expect(body.history[0]).toMatchObject({ action: "investigation.open", at: new Date(inv.opened_at).toISOString() });
+      for (const h of body.hypotheses) {
+        const at = Date.parse(h.createdAt);
+        expect(at).toBeGreaterThanOrEqual(inv.opened_at);
+        expect(at).toBeLessThanOrEqual(inv.closed_at ?? inv.opened_at + 30 * DAY);
+      }
+    }
+    const second = (await process_.get(`/api/investigations/${seeded[1]!.id}`)).body;
+    expect(second.history.map((h: { action: string }) => h.action)).toEqual(["investigation.open", "investigation.hypothesis.add", "investigation.action.add", "investigation.action.add"]);
+  });
+
   it("when a quality engineer reads it, then it is open to them, but they cannot change it", async () => {
     expect((await quality.get(`/api/investigations/${id}`)).status).toBe(200);
     const res = await quality.post(`/api/investigations/${id}/hypotheses`).set("Origin", O()).send({ statement: "Quality guesses" });

@@ -90,15 +90,30 @@ export function DefectCausesPanel({ defectId, causes, canTag, affects }: { defec
   const tag = useTagDefect(defectId, { affects });
   // A fresh form after each tagging that went through; a refused one keeps what was entered.
   const [formKey, setFormKey] = useState(0);
+  // After a tagging the editor closes (the chips show the result) and says so in one line.
+  const [added, setAdded] = useState<string | null>(null);
   return (
     <div className="space-y-2" data-testid="defect-causes">
       <div className="flex flex-wrap items-center gap-2">
         <span className="text-xs font-semibold uppercase text-ink-600">Causes</span>
         <CauseChips causes={causes} />
+        {added && !editing ? (
+          <span role="status" className="text-sm font-semibold text-ok-700" data-testid="causes-added">
+            ✓ {added}
+          </span>
+        ) : null}
       </div>
       <div className="flex flex-wrap gap-2">
         {canTag && !editing ? (
-          <Button variant="secondary" onClick={() => setEditing(true)} data-testid="edit-causes">
+          <Button
+            variant="secondary"
+            onClick={() => {
+              setEditing(true);
+              setAdded(null);
+              tag.reset();
+            }}
+            data-testid="edit-causes"
+          >
             Add or remove causes
           </Button>
         ) : null}
@@ -139,12 +154,19 @@ export function DefectCausesPanel({ defectId, causes, canTag, affects }: { defec
               taxonomy={taxonomy.data}
               submitLabel={tag.isPending ? "Adding…" : "Add these causes"}
               busy={tag.isPending}
-              onSubmit={(v) => tag.mutate(v, { onSuccess: () => setFormKey((k) => k + 1) })}
+              onSubmit={(v) =>
+                tag.mutate(v, {
+                  onSuccess: () => {
+                    setFormKey((k) => k + 1);
+                    setEditing(false);
+                    setAdded(`${v.tags.length === 1 ? "Cause" : `${v.tags.length} causes`} added.`);
+                  },
+                })
+              }
               onCancel={() => setEditing(false)}
             />
           )}
           {tag.isError ? <Notice tone="error">{tag.error.message}</Notice> : null}
-          {tag.isSuccess ? <Notice tone="ok">Causes added.</Notice> : null}
         </div>
       ) : null}
       {historyOpen ? (

@@ -61,6 +61,14 @@ export function SamplesChart({ samples }: { samples: HeatSamples }) {
   );
 
   const total = samples.strands.reduce((a, s) => a + s.total, 0);
+  const LINE_WORDS = ["solid", "dashed", "dotted"];
+  /** Which line is which strand, for the strands this heat has (one, two or more). */
+  const lineWords = (strands: number[]) =>
+    strands.length === 0
+      ? ""
+      : strands.length === 1
+        ? `One line: strand ${strands[0]}.`
+        : `${strands.map((n, i) => `${LINE_WORDS[i % LINE_WORDS.length]} strand ${n}`).join(", ").replace(/^./, (c) => c.toUpperCase())}.`;
   const shown = samples.strands.reduce((a, s) => a + s.points.length, 0);
 
   return (
@@ -86,7 +94,7 @@ export function SamplesChart({ samples }: { samples: HeatSamples }) {
       </div>
       <p className="text-xs text-ink-600">
         {plural(total, "sample")} on record for this heat
-        {shown < total ? `, thinned evenly to ${plural(shown, "point")} for the chart` : ""}. Solid, dashed and dotted lines are strands 1, 2 and 3.
+        {shown < total ? `, thinned evenly to ${plural(shown, "point")} for the chart` : ""}. {lineWords(samples.strands.map((s) => s.strandNo))}
         Drag the bar under the chart or scroll on it to zoom.
       </p>
     </div>

@@ -66,7 +66,8 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
             <dt className="text-xs font-semibold uppercase text-ink-600">Opened</dt>
             <dd className="mt-1">{date(inv.openedAt)}</dd>
           </div>
-          <div>
+          {/* The whole row: a name in a drop-down is cut off in half of the narrow column. */}
+          <div className="col-span-2">
             <dt className="text-xs font-semibold uppercase text-ink-600">Owner</dt>
             <dd className="mt-1">
               {canManage && !closed ? (

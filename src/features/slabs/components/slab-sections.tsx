@@ -167,7 +167,7 @@ export function SlabDefects({
   return (
     <ul className="divide-y divide-ink-100" data-testid="slab-defects">
       {defects.map((d, i) => (
-        <li key={d.id} className="grid gap-x-6 gap-y-2 py-3 md:grid-cols-[minmax(12rem,1.3fr)_1fr_1fr_1fr]" data-testid="slab-defect">
+        <li key={d.id} className="grid gap-x-6 gap-y-2 py-3 md:grid-cols-[minmax(12rem,1.3fr)_1fr_1fr_1fr]" data-testid="slab-defect" data-defect-id={d.id}>
           <div>
             <div className="font-semibold">
               <span className="mr-2 inline-flex h-6 w-6 items-center justify-center rounded-full border border-ink-400 text-xs font-bold tabular-nums" aria-label={`number ${i + 1}`}>
