@@ -23,6 +23,15 @@ describe("investigations in the browser", () => {
     await page.getByTestId("open-investigation-heat").click();
     await page.getByRole("heading", { level: 1, name: "Open an investigation" }).waitFor();
     expect(await page.getByLabel("Heat numbers").inputValue()).toBe(heatNo);
+    // The heat's own defects are offered with one tick (rejected entries left out), ticked by default.
+    const heatDefects = env.server.db.$client
+      .prepare("select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null and d.review_status <> 'rejected'")
+      .pluck()
+      .get(heatNo) as number;
+    expect(heatDefects).toBeGreaterThan(0);
+    const offer = page.getByTestId("include-heat-defects");
+    expect(await offer.textContent()).toBe(`Include the ${heatDefects} ${heatDefects === 1 ? "defect" : "defects"} logged on this heat (rejected entries left out)`);
+    expect(await offer.getByRole("checkbox").isChecked()).toBe(true);
     // Too short a statement: the form says so in words, nothing is sent.
     await page.getByLabel("Title").fill("Corner cracks after the tundish change (browser test)");
     await page.getByLabel("Problem statement").fill("Cracks");
@@ -69,7 +78,7 @@ describe("investigations in the browser", () => {
     const row = page.locator(`[data-testid=investigation-row][data-ref="${listed.ref}"]`);
     expect(await row.locator("[data-field=overdue]").textContent()).toBe("1 overdue");
     expect(await row.locator("[data-field=status]").textContent()).toBe("Open");
-    expect(await row.locator("[data-field=subjects]").textContent()).toBe("1 heat, 0 defects");
+    expect(await row.locator("[data-field=subjects]").textContent()).toBe(`1 heat, ${heatDefects} ${heatDefects === 1 ? "defect" : "defects"}`);
     await snap(page, "investigations-list-tablet");
 
     // The process home lists it with its overdue action.

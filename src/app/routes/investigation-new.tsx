@@ -27,8 +27,12 @@ export function Component() {
   const people = useQuery(investigationKeys.people());
   const me = useQuery(authKeys.me());
   const defects = useQueries({ queries: defectIds.map((id) => defectKeys.detail(id)) });
-  const waiting = people.isPending || defects.some((d) => d.isPending);
-  const failed = people.error ?? defects.find((d) => d.isError)?.error;
+  // Opened from a heat (no defect named): the heat's own defects, offered with one tick.
+  const fromHeats = defectIds.length === 0 ? heats.slice(0, 5) : [];
+  const heatDefects = useQueries({ queries: fromHeats.map((h) => defectKeys.list({ heat: h, pageSize: 200 })) });
+  const waiting = people.isPending || defects.some((d) => d.isPending) || heatDefects.some((d) => d.isPending);
+  const failed = people.error ?? defects.find((d) => d.isError)?.error ?? heatDefects.find((d) => d.isError)?.error;
+  const ofHeats = heatDefects.flatMap((q) => (q.data?.items ?? []).filter((d) => d.reviewStatus !== "rejected").map((d) => d.id));
   const back = heats.length === 1 && defectIds.length === 0 ? `/heats/${encodeURIComponent(heats[0]!)}` : "/investigations";
   return (
     <div className="space-y-5">
@@ -49,6 +53,7 @@ export function Component() {
             meId={me.data?.id ?? ""}
             heatNos={heats}
             defects={defects.map((d) => ({ id: d.data!.id, label: `Slab ${d.data!.slabId}, ${d.data!.typeCode} ${d.data!.typeName}` }))}
+            heatDefectIds={ofHeats}
             onCreated={(inv) => navigate(`/investigations/${inv.id}`)}
             onCancel={() => navigate(back)}
           />

@@ -1,3 +1,4 @@
+import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { z } from "zod";
@@ -5,6 +6,7 @@ import type { Investigation, Person } from "@shared/api/investigations";
 import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
+import { plural } from "@/lib/format";
 import { useCreateInvestigation } from "../api/investigations.queries";
 
 /** Heat numbers as a person types them: commas, spaces or new lines between. */
@@ -29,6 +31,7 @@ export function NewInvestigationForm({
   meId,
   heatNos,
   defects,
+  heatDefectIds = [],
   onCreated,
   onCancel,
 }: {
@@ -38,10 +41,13 @@ export function NewInvestigationForm({
   heatNos: string[];
   /** Defects it came from, with a label each ("slab S1, SLG"). */
   defects: { id: number; label: string }[];
+  /** Opened from heats: their defects (live, not rejected), offered to include with one tick. */
+  heatDefectIds?: number[];
   onCreated: (inv: Investigation) => void;
   onCancel: () => void;
 }) {
   const create = useCreateInvestigation();
+  const [withHeatDefects, setWithHeatDefects] = useState(true);
   const form = useForm<FormValues>({
     resolver: zodResolver(formSchema),
     defaultValues: {
@@ -69,7 +75,7 @@ export function NewInvestigationForm({
             problemStatement: v.problemStatement,
             ownerId: v.ownerId || undefined,
             heatNos: heatList(v.heats),
-            defectIds: v.defectIds,
+            defectIds: withHeatDefects ? [...new Set([...v.defectIds, ...heatDefectIds])] : v.defectIds,
             participantIds: v.participantIds.filter((p) => p !== v.ownerId),
           },
           { onSuccess: onCreated },
@@ -104,6 +110,12 @@ export function NewInvestigationForm({
         </div>
         <TextField label="Heat numbers" hint="Separate them with commas or spaces." {...form.register("heats")} error={e.heats?.message} />
       </div>
+      {heatDefectIds.length ? (
+        <label className="flex min-h-11 items-center gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm" data-testid="include-heat-defects">
+          <input type="checkbox" className="h-4 w-4" checked={withHeatDefects} onChange={(ev) => setWithHeatDefects(ev.target.checked)} />
+          Include the {plural(heatDefectIds.length, "defect")} logged on {heatNos.length === 1 ? "this heat" : "these heats"} (rejected entries left out)
+        </label>
+      ) : null}
       {defects.length ? (
         <fieldset>
           <legend className="mb-1 text-sm font-semibold text-ink-800">Defects</legend>
