@@ -10,6 +10,9 @@ const boolFlag = z
   })
   .transform((v) => v === "true" || v === "1" || v === "yes");
 
+/** The demo accounts' password printed in the README: fine for a try-out, refused with SEED_DEMO in production. */
+export const PUBLISHED_DEMO_PASSWORD = "strandsight-demo";
+
 const envSchema = z.object({
   NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
   PORT: z.coerce.number({ error: "PORT must be a number." }).int().min(1).max(65535).default(3000),
@@ -18,7 +21,7 @@ const envSchema = z.object({
   UPLOAD_DIR: z.string().min(1).default("./uploads"),
   BETTER_AUTH_SECRET: z.string().min(32, "BETTER_AUTH_SECRET must be at least 32 characters.").optional(),
   BETTER_AUTH_URL: z.url({ error: "BETTER_AUTH_URL must be a full URL such as http://localhost:3000." }).optional(),
-  DEMO_PASSWORD: z.string().min(10, "DEMO_PASSWORD must be at least 10 characters.").default("strandsight-demo"),
+  DEMO_PASSWORD: z.string().min(10, "DEMO_PASSWORD must be at least 10 characters.").default(PUBLISHED_DEMO_PASSWORD),
   SEED_DEMO: boolFlag.optional(),
   /** Size of the demo plant, as a share of its eight months (tests and fault drills use a small one). */
   SEED_SCALE: z.coerce.number().min(0.001).max(1).default(1),
@@ -103,7 +106,7 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
         "BETTER_AUTH_URL must be an https:// address in production: session cookies are Secure there and a browser will not send them over http. Put the app behind a TLS reverse proxy (and set TRUST_PROXY).",
       );
     }
-    if (env.SEED_DEMO && env.DEMO_PASSWORD === "strandsight-demo") {
+    if (env.SEED_DEMO && env.DEMO_PASSWORD === PUBLISHED_DEMO_PASSWORD) {
       throw new EnvError("SEED_DEMO=true in production would create demo accounts with the published password: set your own DEMO_PASSWORD, or leave SEED_DEMO off.");
     }
   }

@@ -2,6 +2,7 @@ import { healthSchema } from "@shared/api/common";
 import { aboutSchema } from "@shared/api/plant";
 import { meSchema } from "@shared/api/users";
 import { ROLE_LABELS } from "@shared/roles";
+import { PUBLISHED_DEMO_PASSWORD } from "../env";
 import { defineRoute } from "../lib/route";
 import { DEMO_USERS } from "../seed/catalogue";
 import type { Deps } from "./deps";
@@ -42,6 +43,8 @@ export function systemRoutes({ db, env }: Deps) {
           works: works ?? null,
           demo,
           demoAccounts: showAccounts ? DEMO_USERS.map((u) => ({ email: u.email, role: ROLE_LABELS[u.roles[0]] })) : [],
+          // Only the published password (printed in the README); a password of the plant's own choosing is never shown.
+          demoPassword: showAccounts && env.DEMO_PASSWORD === PUBLISHED_DEMO_PASSWORD ? env.DEMO_PASSWORD : null,
         };
       },
     }),

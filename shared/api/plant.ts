@@ -40,6 +40,8 @@ export const aboutSchema = z.object({
   demo: z.boolean(),
   /** Listed only for the invented demo plant outside production. */
   demoAccounts: z.array(z.object({ email: z.string(), role: z.string() })),
+  /** The demo accounts' password when it is the published one (README) and accounts are listed; else null. */
+  demoPassword: z.string().nullable(),
 });
 export type About = z.infer<typeof aboutSchema>;
 

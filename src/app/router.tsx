@@ -3,6 +3,7 @@ import { createBrowserRouter, type LoaderFunction, type RouteObject } from "reac
 import type { ReportKind } from "@/features/reports/components/report-params";
 import { makeLoader as makeFrameLoader } from "./routes/app-layout.loader";
 import { makeLoader as makeHeatsLoader } from "./routes/heats.loader";
+import { Spinner } from "@/components/ui/logo";
 import { RootError, RouteError } from "./routes/route-error";
 
 /** A lazily loaded screen: its component, an optional loader built with the QueryClient, and its error view. */
@@ -76,15 +77,28 @@ const reportScreen = (qc: QueryClient, kind: ReportKind, load: () => Promise<Rou
  */
 const inFrame = (routes: RouteObject[]): RouteObject[] => routes.map((r) => ({ ...r, ErrorBoundary: RouteError }));
 
+/**
+ * What the router draws while the first screen's code and data load (instead of nothing, with a
+ * console warning on every page load): the same quiet spinner the screens use.
+ */
+function FirstLoad() {
+  return (
+    <div className="flex min-h-dvh items-center justify-center">
+      <Spinner label="Loading Strandsight" />
+    </div>
+  );
+}
+
 export function createRouter(qc: QueryClient) {
   return createBrowserRouter([
-    { path: "/sign-in", ErrorBoundary: RootError, lazy: lazyRoute(qc, () => import("./routes/sign-in")) },
+    { path: "/sign-in", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/sign-in")) },
     // Signed out on purpose: someone who forgot the password has no session.
-    { path: "/forgot-password", ErrorBoundary: RootError, lazy: lazyRoute(qc, () => import("./routes/forgot-password")) },
-    { path: "/reset-password", ErrorBoundary: RootError, lazy: lazyRoute(qc, () => import("./routes/reset-password")) },
+    { path: "/forgot-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/forgot-password")) },
+    { path: "/reset-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/reset-password")) },
     {
       path: "/",
       ErrorBoundary: RootError,
+      HydrateFallback: FirstLoad,
       // Who is signed in is asked (index.html, src/main.tsx) while the frame's code loads.
       ...earlyScreen(qc, makeFrameLoader, () => import("./routes/app-layout")),
       children: inFrame([

@@ -16,6 +16,22 @@ describe("API basics", () => {
     expect(res.body).toEqual({ status: "ok" });
   });
 
+  it("when the sign-in page asks about the demo plant, then it lists the demo sign-ins with the published password itself, and never a password of the plant's own choosing", async () => {
+    const res = await request(t.app).get("/api/about");
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({ product: "Strandsight", demo: true, demoPassword: "strandsight-demo" });
+    expect(res.body.demoAccounts.map((a: { email: string }) => a.email)).toContain("inspector@demo.test");
+    const own = await createTestApp({ scale: 0.01, env: { DEMO_PASSWORD: "the-plants-own-secret" } });
+    try {
+      const body = (await request(own.app).get("/api/about")).body;
+      expect(body.demoAccounts.length).toBeGreaterThan(0);
+      expect(body.demoPassword).toBeNull();
+      expect(JSON.stringify(body)).not.toContain("the-plants-own-secret");
+    } finally {
+      await own.close();
+    }
+  });
+
   it("when an unknown /api route is called, then it answers 404 JSON, not the client's HTML", async () => {
     const res = await request(t.app).get("/api/no-such-thing");
     expect(res.status).toBe(404);

@@ -93,7 +93,15 @@ export function Component() {
                   </li>
                 ))}
               </ul>
-              <p className="mt-1 text-xs text-ink-600">The password is DEMO_PASSWORD (see the README).</p>
+              <p className="mt-1 text-xs text-ink-600" data-testid="demo-password">
+                {about.data.demoPassword ? (
+                  <>
+                    The password of every demo sign-in is <strong className="font-mono text-ink-900">{about.data.demoPassword}</strong>.
+                  </>
+                ) : (
+                  "The password is the one set in DEMO_PASSWORD when the demo was seeded."
+                )}
+              </p>
             </div>
           ) : null}
         </form>
