@@ -3,7 +3,7 @@
  * server, and none throws into the user's action (a failure to queue is logged).
  */
 import type { Defect } from "@shared/api/defects";
-import { SEVERITY_LABELS, type Severity } from "@shared/domain";
+import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, type Disposition, type Face, type Severity } from "@shared/domain";
 import type { Db } from "../db/client";
 import type { Logger } from "../lib/logger";
 import type { Mailer, MailMessage } from "./mailer";
@@ -47,8 +47,8 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
           `A defect of severity ${d.severity} (${SEVERITY_LABELS[d.severity as Severity] ?? d.severity}) was logged.`,
           "",
           `Slab: ${d.slabId} (heat ${d.heatNo}, grade ${d.gradeCode}, strand ${d.strandNo})`,
-          `Defect: ${d.typeCode} ${d.typeName}, ${d.face} face, ${d.positionAlongMm ?? "–"} mm from the head end`,
-          `Disposition proposed: ${d.disposition}`,
+          `Defect: ${d.typeCode} ${d.typeName}, ${FACE_LABELS[d.face as Face] ?? d.face}, ${d.positionAlongMm ?? "–"} mm from the head end`,
+          `Disposition proposed: ${DISPOSITION_LABELS[d.disposition as Disposition] ?? d.disposition}`,
           `Logged by: ${d.createdByName ?? "unknown"} at ${d.foundAt}`,
           d.note ? `Note: ${d.note}` : "",
           "",

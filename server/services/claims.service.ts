@@ -100,14 +100,29 @@ export function getClaim(db: Db, id: number): Claim {
     })),
     untracedProducts: products.filter((p) => !productSlab.has(p)),
     attachments: attachments.map((a) => ({ id: a.id, fileName: a.file_name, mime: a.mime, bytes: a.bytes, url: `/api/attachments/${a.id}`, at: iso(a.created_at)!, by: a.byName ?? null })),
-    history: history.map((h) => ({ at: iso(h.at)!, by: h.byName ?? null, action: h.action, detail: describe(h.action, h.after) })),
+    history: history.map((h) => ({ at: iso(h.at)!, by: h.byName ?? null, action: h.action, detail: describe(h.action, h.after, (id) => mailState(sqlite, id)) })),
   };
 }
 
-function describe(action: string, after: unknown): string | null {
+/** Where an e-mail of the outbox stands (null when the row is gone). */
+function mailState(sqlite: Database.Database, id: unknown) {
+  if (typeof id !== "number") return null;
+  return (sqlite.prepare("select status, sent_at as sentAt from email_outbox where id = ?").get(id) as { status: string; sentAt: number | null } | undefined) ?? null;
+}
+
+const mailTime = (ms: number) => new Date(ms).toISOString().slice(0, 16).replace("T", " ") + " UTC";
+
+function describe(action: string, after: unknown, mail: (outboxId: unknown) => { status: string; sentAt: number | null } | null): string | null {
   const a = (typeof after === "string" ? JSON.parse(after) : after) as Record<string, any> | null;
   if (!a) return null;
-  if (action === "claim.history.sent") return `Heat ${a.heatNo} history sent to ${(a.to as string[]).join(", ")}`;
+  if (action === "claim.history.sent") {
+    // Said as it stands in the outbox: queued until the mail server has taken it.
+    const to = (a.to as string[]).join(", ");
+    const m = mail(a.outboxId);
+    if (m?.status === "sent") return `Heat ${a.heatNo} history sent to ${to}${m.sentAt ? ` (${mailTime(m.sentAt)})` : ""}`;
+    if (m?.status === "failed") return `Heat ${a.heatNo} history to ${to} could not be sent: the administrator finds it in the outbox`;
+    return `Heat ${a.heatNo} history queued for e-mail to ${to}`;
+  }
   if (action === "claim.update" && a.status) return `Status → ${a.status}`;
   if (action === "claim.slabs.link") return `${a.added} slab(s) linked`;
   if (action === "claim.slabs.unlink") return `Slab ${a.slabId} unlinked`;

@@ -10,6 +10,7 @@ import type ExcelJS from "exceljs";
 import { loadExcelJS } from "../lib/lazy-packages";
 import type { HeatHistory, Trace } from "@shared/api/claims";
 import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, STAGE_LABELS, type Disposition, type Face, type Severity, type Stage } from "@shared/domain";
+import { VARIABLES } from "@shared/variables";
 import type { Db } from "../db/client";
 import { guardSheet } from "../lib/cells";
 import { notFound } from "../lib/http-error";
@@ -27,6 +28,18 @@ const HEAT_CONDITIONS: { key: string; label: string; unit: string; col: string; 
   { key: "argon_nl_min", label: "Argon flow", unit: "NL/min", col: "argon_nl_min" },
   { key: "mold_level_sd_mm", label: "Mold level s.d.", unit: "mm", col: "mold_level_sd_mm" },
 ];
+
+/**
+ * A condition as the history shows and exports it: to its variable's displayed precision
+ * (shared/variables.ts; temperatures without one to 0.1 °C). The history is a document; the
+ * reports compute on the stored values, which keep every digit (a derived superheat of
+ * 27.464999999999918 °C reads 27.5 here).
+ */
+function shown(key: string, value: unknown): number | null {
+  if (typeof value !== "number" || !Number.isFinite(value)) return null;
+  const digits = VARIABLES.find((v) => v.key === key)?.digits ?? 1;
+  return Number(value.toFixed(digits));
+}
 
 /** Per-slab resolved conditions (slab_conditions) with the column of each one's source. */
 export const SLAB_CONDITIONS: { key: string; label: string; unit: string; source: string }[] = [
@@ -139,7 +152,7 @@ export function heatHistory(db: Db, heatNo: string): HeatHistory {
       castStart: iso(h.cast_start)!,
       castEnd: iso(h.cast_end),
       ladleWeightT: h.ladle_weight_t ?? null,
-      conditions: HEAT_CONDITIONS.map((c) => ({ key: c.key, label: c.label, unit: c.unit, value: h[c.col] ?? null, source: c.source ? (h[c.source] ?? null) : h[c.col] == null ? null : "heat record" })),
+      conditions: HEAT_CONDITIONS.map((c) => ({ key: c.key, label: c.label, unit: c.unit, value: shown(c.key, h[c.col]), source: c.source ? (h[c.source] ?? null) : h[c.col] == null ? null : "heat record" })),
       chemistry: ELEMENTS.map(([key, element, unit]) => ({ key, element, unit, value: h[key] ?? null })),
     },
     slabs: slabs.map((s) => ({
@@ -154,7 +167,7 @@ export function heatHistory(db: Db, heatNo: string): HeatHistory {
       transition: Boolean(s.transition),
       disposition: s.disposition ?? null,
       defects: s.nDefects,
-      conditions: SLAB_CONDITIONS.map((c) => ({ key: c.key, value: s[c.key] ?? null, source: s[c.source] ?? null })),
+      conditions: SLAB_CONDITIONS.map((c) => ({ key: c.key, value: shown(c.key, s[c.key]), source: s[c.source] ?? null })),
       products: products.filter((p) => p.slab_id === s.id).map((p) => p.product_id),
     })),
     defects: defects.map((d) => ({

@@ -151,7 +151,11 @@ describe("claims", () => {
     expect(att[0].filename).toMatch(new RegExp(`^strandsight-heat-${heat_no}-history-\\d{4}-\\d{2}-\\d{2}\\.xlsx$`));
     expect(att[0].contentType).toBe("application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
     expect(got.text_body).toContain("As discussed on the phone.");
-    expect(res.body.claim.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history sent to buyer@example.test` });
+    // Said as it stood: queued when answered, sent (with the time) once the mail server took it.
+    expect(res.body.claim.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history queued for e-mail to buyer@example.test` });
+    const after = (await claims.get(`/api/claims/${claimId}`)).body;
+    const sentAt = new Date(sent.sent_at).toISOString().slice(0, 16).replace("T", " ");
+    expect(after.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history sent to buyer@example.test (${sentAt} UTC)` });
   });
 });
 
@@ -224,9 +228,18 @@ describe("the heat history workbook", () => {
     const header = cc.getRow(1).values as string[];
     const speed = header.indexOf("Casting speed (m/min)");
     const speedSource = header.indexOf("Casting speed: source");
-    expect(cc.getRow(2).getCell(speed).value).toBe(heat.casting_speed_m_min);
-    const first = one("select c.casting_speed_m_min, c.casting_speed_source from slab_conditions c join slabs s on s.id = c.slab_id where s.slab_id = ?", cc.getRow(3).getCell(2).value);
-    expect(cc.getRow(3).getCell(speed).value).toBe(first.casting_speed_m_min);
+    // To the variable's displayed precision (casting speed 0.01 m/min, superheat 0.1 °C), as numbers.
+    expect(cc.getRow(2).getCell(speed).value).toBe(Number(heat.casting_speed_m_min.toFixed(2)));
+    const first = one("select c.casting_speed_m_min, c.casting_speed_source, c.superheat_c from slab_conditions c join slabs s on s.id = c.slab_id where s.slab_id = ?", cc.getRow(3).getCell(2).value);
+    expect(cc.getRow(3).getCell(speed).value).toBe(Number(first.casting_speed_m_min.toFixed(2)));
+    const superheat = header.indexOf("Superheat (°C)");
+    expect(superheat).toBeGreaterThan(0);
+    expect(cc.getRow(3).getCell(superheat).value).toBe(first.superheat_c === null ? null : Number(first.superheat_c.toFixed(1)));
+    cc.eachRow((row, i) => {
+      if (i === 1) return;
+      const v = row.getCell(superheat).value;
+      if (typeof v === "number") expect(String(v)).toMatch(/^-?\d+(\.\d)?$/);
+    });
     expect(cc.getRow(3).getCell(speedSource).value).toBe({ slab: "slab record", samples: "process samples", heat: "heat record" }[first.casting_speed_source as string] ?? first.casting_speed_source);
 
     const causes = wb.getWorksheet("Causes")!;
@@ -258,6 +271,14 @@ describe("the heat history workbook", () => {
     const out = path.join(t.dir, "lo");
     fs.mkdirSync(out, { recursive: true });
     // Comma-separated, UTF-8, quoted text, every sheet to its own file (the last option, -1).
+    // Missing LibreOffice is said in words, with the way to install it (not a bare "spawnSync soffice ENOENT").
+    try {
+      execFileSync("soffice", ["--version"], { stdio: "pipe", timeout: 60_000 });
+    } catch (err) {
+      if ((err as NodeJS.ErrnoException).code === "ENOENT") {
+        throw new Error("This test opens the workbook in LibreOffice Calc, which is not installed here: `apt-get install -y --no-install-recommends libreoffice-calc` (README, Requirements).");
+      }
+    }
     execFileSync("soffice", ["--headless", "--norestore", `-env:UserInstallation=file://${path.join(t.dir, "lo-profile")}`, "--convert-to", "csv:Text - txt - csv (StarCalc):44,34,76,1,,0,false,true,false,false,false,-1", "--outdir", out, file], { stdio: "pipe", timeout: 120_000 });
     const csvs = fs.readdirSync(out).filter((f) => f.endsWith(".csv")).sort();
     expect(csvs).toHaveLength(10);

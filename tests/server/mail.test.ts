@@ -53,6 +53,9 @@ describe("the mail path", () => {
     expect(received.envelope_to.split(", ").sort()).toEqual(quality);
     expect(received.text_body).toContain(`/slabs/${slab}`);
     expect(received.text_body).toContain("Deep crack across the corner");
+    // In the screens' words, not the stored keys.
+    expect(received.text_body).toContain("LFC Longitudinal facial crack, Inner radius (top) face, 1200 mm from the head end");
+    expect(received.text_body).toContain("Disposition proposed: Hold for decision");
     expect(received.raw).toContain("Subject: Critical defect on slab");
 
     const admin = await t.agentFor("admin");

@@ -250,8 +250,8 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
               </span>
             </div>
             <p className="text-sm text-ink-800">
-              {faceLabel(d.face)} face, {withUnit(d.positionAlongMm, "mm")} from the head end, {withUnit(d.positionAcrossMm, "mm")} across ·{" "}
-              {withUnit(d.lengthMm, "mm")} × {withUnit(d.widthMm, "mm")}
+              {faceLabel(d.face)}, {withUnit(d.positionAlongMm, "mm")} from the head end, {withUnit(d.positionAcrossMm, "mm")} across ·{" "}
+              {d.lengthMm === null && d.widthMm === null ? "size not measured" : `${withUnit(d.lengthMm, "mm")} × ${withUnit(d.widthMm, "mm")}`}
               {d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
             </p>
             <p className="text-sm text-ink-700">
