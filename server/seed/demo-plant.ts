@@ -496,11 +496,16 @@ function generateClaims(
   const insAudit2 = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), 'claim.update', 'claim', @id, @after");
   const names: Partial<Record<DefectCode, string>> = { SLV: "slivers", BLI: "blisters", LAM: "laminations", ALC: "inclusion lines" };
   let n = 0;
-  const picked = finds.filter((_, i) => i % 3 === 0).slice(0, 14);
-  for (const f of picked) {
+  const picked = finds
+    .filter((_, i) => i % 3 === 0)
+    .slice(0, 14)
+    .sort((a, b) => a.foundAt - b.foundAt);
+  for (const [k, f] of picked.entries()) {
     n++;
     const received = f.foundAt + Math.round(r.uniform(1, 5) * 86400_000);
-    const status = received > DEMO_END - 20 * 86400_000 ? r.pick(["new", "under_review"]) : r.pick(["accepted", "rejected", "closed", "accepted"]);
+    // The newest claims are still open (a claim takes weeks): the officer's day always has some to work on.
+    const open = received > DEMO_END - 20 * 86400_000 || k >= picked.length - 3;
+    const status = open ? (k === picked.length - 1 ? "new" : r.pick(["new", "under_review"])) : r.pick(["accepted", "rejected", "closed", "accepted"]);
     const receivedOn = new Date(Math.min(received, DEMO_END)).toISOString().slice(0, 10);
     const claimId = Number(
       insClaim.run(

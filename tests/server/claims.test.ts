@@ -99,6 +99,14 @@ describe("the coil and plate trace", () => {
 });
 
 describe("claims", () => {
+  it("when the demo is seeded, then its newest claims are still open (new or under review) for the officer to work on, the newest one new", () => {
+    const seeded = all("select status from claims where notes = 'Invented demo claim.' order by received_on, id");
+    expect(seeded.length).toBeGreaterThan(0);
+    const open = seeded.filter((c) => c.status === "new" || c.status === "under_review").length;
+    expect(open).toBeGreaterThanOrEqual(Math.min(3, seeded.length));
+    expect(seeded.some((c) => c.status === "new")).toBe(true);
+  });
+
   let claimId: number;
   it("when a claims officer records a claim naming a traced coil and an unknown one, then the traced slab is linked, the unknown one listed, and the record audited", async () => {
     const res = await claims.post("/api/claims").set("Origin", O()).send({
