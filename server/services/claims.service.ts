@@ -3,6 +3,7 @@
  * to heats, attachments, and the heat history workbook e-mailed from it. Every change is audited.
  */
 import type Database from "better-sqlite3";
+import { prepared } from "../db/prepared";
 import type { z } from "zod";
 import type { Claim, ClaimSummary, claimCreateSchema, claimLinkSchema, claimQuerySchema, claimUpdateSchema } from "@shared/api/claims";
 import type { Db } from "../db/client";
@@ -107,7 +108,7 @@ export function getClaim(db: Db, id: number): Claim {
 /** Where an e-mail of the outbox stands (null when the row is gone). */
 function mailState(sqlite: Database.Database, id: unknown) {
   if (typeof id !== "number") return null;
-  return (sqlite.prepare("select status, sent_at as sentAt from email_outbox where id = ?").get(id) as { status: string; sentAt: number | null } | undefined) ?? null;
+  return prepared<[number], { status: string; sentAt: number | null }>(sqlite, "select status, sent_at as sentAt from email_outbox where id = ?").get(id) ?? null;
 }
 
 const mailTime = (ms: number) => new Date(ms).toISOString().slice(0, 16).replace("T", " ") + " UTC";

@@ -35,34 +35,19 @@ function lineage(key: string) {
 }
 
 /**
- * Type 7 quartiles (R's default) of grouped values over the rows, by counting the values on their
- * grid (they are multiples of 10^−(digits + 1)); sorting a copy when the grid is too wide.
+ * Type 7 quartiles (R's default) of grouped values over the rows, by counting their grid keys
+ * (Math.round(v · scale), from numericPass, running lo … hi); sorting a copy of the values when the
+ * grid is too wide.
  */
-function interquartileRange(values: ArrayLike<number>, rows: ArrayLike<number>, scale: number, grid?: { keys: Int32Array; lo: number; hi: number }): number | null {
+function interquartileRange(values: ArrayLike<number>, rows: ArrayLike<number>, scale: number, grid: { keys: Int32Array; lo: number; hi: number } | undefined): number | null {
   const n = rows.length;
-  if (n === 0) return null;
-  let k0: number;
-  let width: number;
-  if (grid) {
-    // The values' grid keys (Math.round(v · scale)) and their range, known from numericPass.
-    k0 = grid.lo;
-    width = grid.hi - grid.lo + 1;
-  } else {
-    let lo = Infinity;
-    let hi = -Infinity;
-    for (let u = 0; u < n; u++) {
-      const v = values[rows[u]!]!;
-      if (v < lo) lo = v;
-      if (v > hi) hi = v;
-    }
-    k0 = Math.round(lo * scale);
-    width = Math.round(hi * scale) - k0 + 1;
-  }
+  if (n === 0 || !grid) return null;
+  const k0 = grid.lo;
+  const width = grid.hi - grid.lo + 1;
   let at: (i: number) => number;
   if (width <= 4_000_000) {
     const counts = new Float64Array(width);
-    if (grid) for (let u = 0; u < n; u++) counts[grid.keys[rows[u]!]! - k0]!++;
-    else for (let u = 0; u < n; u++) counts[Math.round(values[rows[u]!]! * scale) - k0]!++;
+    for (let u = 0; u < n; u++) counts[grid.keys[rows[u]!]! - k0]!++;
     // The i-th smallest value (0-based), walking the cumulative counts (from the start again when asked for an earlier one).
     let k = 0;
     let cum = counts[0]!;

@@ -25,6 +25,14 @@ export const SAMPLE_SERIES = [
 type SeriesKey = (typeof SAMPLE_SERIES)[number]["key"];
 
 /** The heat's process samples over time, one line per strand, one variable at a time. */
+/** Which line is which strand, for the strands this heat has (one, two or more), in the series' own line types. */
+const lineWords = (strands: number[]) =>
+  strands.length === 0
+    ? ""
+    : strands.length === 1
+      ? `One line: strand ${strands[0]}.`
+      : `${strands.map((n, i) => `${SERIES_LINE_TYPES[i % SERIES_LINE_TYPES.length]} strand ${n}`).join(", ").replace(/^./, (c) => c.toUpperCase())}.`;
+
 export function SamplesChart({ samples }: { samples: HeatSamples }) {
   const [key, setKey] = useState<SeriesKey>("speed");
   const spec = SAMPLE_SERIES.find((s) => s.key === key)!;
@@ -61,14 +69,6 @@ export function SamplesChart({ samples }: { samples: HeatSamples }) {
   );
 
   const total = samples.strands.reduce((a, s) => a + s.total, 0);
-  const LINE_WORDS = ["solid", "dashed", "dotted"];
-  /** Which line is which strand, for the strands this heat has (one, two or more). */
-  const lineWords = (strands: number[]) =>
-    strands.length === 0
-      ? ""
-      : strands.length === 1
-        ? `One line: strand ${strands[0]}.`
-        : `${strands.map((n, i) => `${LINE_WORDS[i % LINE_WORDS.length]} strand ${n}`).join(", ").replace(/^./, (c) => c.toUpperCase())}.`;
   const shown = samples.strands.reduce((a, s) => a + s.points.length, 0);
 
   return (
