@@ -46,6 +46,8 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
         <Figure label="Spearman rank correlation ρ" value={sig(spearman.rho, 2)} note={`p ${pValue(spearman.p)} · n = ${data.slabs.toLocaleString("en-GB")}`} />
       </div>
       <SmallNWarning
+        // Not only small counts: merged empty spans and slabs without a value are said here too.
+        title="About these bins and slabs"
         notes={[
           // The sentence and the missing adjusted estimate are said in the adjusted card.
           ...data.notes.filter((n) => n !== data.adjusted?.changeInEstimate.sentence && !n.startsWith("Adjusted odds ratio not given")),
