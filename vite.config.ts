@@ -52,6 +52,61 @@ function compressServiceWorker(): Plugin {
   };
 }
 
+/**
+ * `vite build` (and so `npm start`) prints warnings and errors only, then one line of what it built,
+ * instead of a line per file: with the .gz and .br copies that list runs to hundreds of lines before
+ * the server's own. `vite build --logLevel info` lists every file again.
+ */
+function buildSummary(): Plugin {
+  let outDir = "";
+  let started = 0;
+  const kB = (n: number) => (n >= 1024 * 1024 ? `${(n / 1024 / 1024).toFixed(2)} MB` : `${Math.round(n / 1024)} kB`);
+  return {
+    name: "strandsight:build-summary",
+    apply: "build",
+    enforce: "post",
+    config(config) {
+      if (!config.logLevel) return { logLevel: "warn" };
+    },
+    configResolved(config) {
+      outDir = path.resolve(config.root, config.build.outDir);
+    },
+    buildStart() {
+      started = performance.now();
+    },
+    closeBundle: {
+      // After the service worker is written and compressed (the plugins before this one).
+      order: "post",
+      sequential: true,
+      handler() {
+        const groups = { script: { n: 0, bytes: 0 }, stylesheet: { n: 0, bytes: 0 }, "font file": { n: 0, bytes: 0 }, "other file": { n: 0, bytes: 0 } };
+        let copies = 0;
+        for (const entry of fs.readdirSync(outDir, { recursive: true, withFileTypes: true })) {
+          if (!entry.isFile()) continue;
+          const file = path.join(entry.parentPath, entry.name);
+          if (path.relative(outDir, file).startsWith(".vite")) continue;
+          if (/\.(gz|br|map)$/.test(entry.name)) {
+            copies++;
+            continue;
+          }
+          const kind = /\.m?js$/.test(entry.name) ? "script" : entry.name.endsWith(".css") ? "stylesheet" : /\.woff2?$/.test(entry.name) ? "font file" : "other file";
+          groups[kind].n++;
+          groups[kind].bytes += fs.statSync(file).size;
+        }
+        // Workbox's generated worker lists its precache as {url:"…",revision:…} entries.
+        const sw = path.join(outDir, "sw.js");
+        const precached = fs.existsSync(sw) ? (fs.readFileSync(sw, "utf8").match(/\{url:"/g)?.length ?? 0) : 0;
+        const parts = Object.entries(groups).map(([kind, { n, bytes }]) => `${n} ${kind}${n === 1 ? "" : "s"} (${kB(bytes)})`);
+        const where = path.relative(process.cwd(), outDir);
+        console.log(
+          `Client built in ${((performance.now() - started) / 1000).toFixed(1)} s into ${where.startsWith("..") ? outDir : where}/: ${parts.join(", ")}, ` +
+            `and ${copies} source maps and .gz/.br copies${precached ? `; the service worker precaches ${precached} files` : ""}.`,
+        );
+      },
+    },
+  };
+}
+
 export default defineConfig({
   plugins: [
     react(),
@@ -87,11 +142,10 @@ export default defineConfig({
         ],
       },
       workbox: {
-        // Every route's chunk and the CSS (the manifest and its icons are added by the plugin); fonts
-        // as woff2 only (every browser that runs the app reads woff2), and only the Latin subsets:
-        // others are fetched online when a text needs them and fall back to the system font
-        // offline. Source maps stay out.
-        globPatterns: ["**/*.{js,css,html}", "**/noto-sans-latin-*.woff2"],
+        // Every route's chunk and the CSS (the manifest and its icons are added by the plugin), and
+        // every font file the build ships (src/fonts.css: Noto Sans, Latin, Latin Extended and
+        // Greek, woff2 only), so a screen shown offline has the glyphs it had online. Source maps stay out.
+        globPatterns: ["**/*.{js,css,html}", "**/noto-sans-*.woff2"],
         globIgnores: ["**/*.map", ".vite/**"],
         // The chart and table code is large but must open offline too.
         maximumFileSizeToCacheInBytes: 3 * 1024 * 1024,
@@ -115,6 +169,7 @@ export default defineConfig({
     // and the browser asks for and decodes br/gzip on those requests itself.
     compression({ algorithms: [GZIP, BROTLI], include: COMPRESSED, exclude: /\.map$/, logLevel: "silent" }),
     compressServiceWorker(),
+    buildSummary(),
   ],
   resolve: {
     alias: {
@@ -131,6 +186,9 @@ export default defineConfig({
     outDir: "dist",
     sourcemap: true,
     chunkSizeWarningLimit: 700,
+    // Rolldown warns when plugins take much of the build's time; ours do by design (Tailwind, brotli at
+    // its highest level, once per build), and on a busy machine the warning filled ten lines of `npm start`.
+    rolldownOptions: { checks: { bundlerTimings: false } },
     // The route → chunk map, for `npm run bench` (bundle size of each route).
     manifest: true,
   },

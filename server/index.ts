@@ -104,14 +104,22 @@ async function main() {
     // The seed (and its random generators and photo code) is loaded only when it runs.
     const { seedDemo } = await import("./seed/seed");
     const result = await seedDemo(db, auth, { password: env.DEMO_PASSWORD, uploadDir: path.resolve(env.UPLOAD_DIR), scale: env.SEED_SCALE });
-    console.log(`Demo plant ready in ${result.seconds.toFixed(1)} s`, result.production ?? "(already there)");
+    const p = result.production;
+    const count = (n: number, what: string) => `${n.toLocaleString("en-GB")} ${n === 1 ? what.slice(0, -1) : what}`;
+    console.log(
+      p
+        ? `Demo plant ready in ${result.seconds.toFixed(1)} s: ${count(p.heats + p.lastShifts.heats, "heats")}, ${count(p.slabs + p.lastShifts.slabs, "slabs")}, ` +
+            `${count(p.defects + p.lastShifts.defects, "defects")}, ${count(p.claims, "claims")}, ${count(p.photos ?? 0, "photos")}, ${count(p.riskModels?.length ?? 0, "risk models")}.`
+        : `Demo plant already there (checked in ${result.seconds.toFixed(1)} s).`,
+    );
   }
 
   // A risk model left "training" by a stop says so; one that never finished is trained again by hand.
   recoverRiskTraining(db);
   const app = createApp({ db, auth, env, logger, trustedOrigins: devOrigins, mailer, notify });
   mailer.start(env.MAIL_POLL_MS);
-  logger.info({ to: mailer.describe() }, "mail worker started");
+  // Said in words with the address below; the JSON line is for debugging.
+  logger.debug({ to: mailer.describe() }, "mail worker started");
 
   // Photo files without a row (a crash between writing the file and its row) are removed at start
   // — every file older than this process, which no upload of ours can still be writing — and every
@@ -125,6 +133,7 @@ async function main() {
   setInterval(() => void cleanup().catch((err) => logger.error({ err }, "photo cleanup failed")), 60 * 60_000).unref();
   const demoUsers = db.select({ id: user.id }).from(user).where(eq(user.email, DEMO_USERS[0].email)).get() !== undefined;
   const server = await listen(app, env.PORT, env.HOST);
+  const listenedAt = Date.now();
   // The reports' in-memory slab facts load after the server listens (sign-in, the yard and every
   // other request are answered meanwhile; reports say "warming up"): from the snapshot written at the
   // last stop when it is whole and current, else from the database (≈ 6 s per million slabs).
@@ -143,11 +152,17 @@ async function main() {
   void reportCache.whenReady().then(() => {
     clearTimeout(warmTimer);
     warmImports();
+    // A failed load is logged by the cache itself (and tried again by the next report).
+    const ready = reportCache.status();
+    if (ready.state === "ready" && ready.slabs !== null) {
+      console.log(`Reports ready: ${ready.slabs.toLocaleString("en-GB")} slabs loaded from ${ready.from === "snapshot" ? "the snapshot" : "the database"}, ${((Date.now() - listenedAt) / 1000).toFixed(1)} s after listening.`);
+    }
   });
   // Drift of the active risk models: checked once the report facts are in (not holding up the start),
   // then once a day; newly drifted months are e-mailed to the quality engineers through the queue.
   const stopDriftChecks = scheduleRiskDrift(db, { notify, logger, firstAfter: reportCache.whenReady() });
   console.log(`\nStrandsight is running: ${env.BETTER_AUTH_URL}`);
+  console.log(`Mail: ${mailer.describe()}.`);
   if (demoUsers) {
     console.log(`Demo sign-ins (password: ${env.DEMO_PASSWORD === "strandsight-demo" ? "strandsight-demo" : "the DEMO_PASSWORD you set"}):`);
     for (const u of DEMO_USERS) console.log(`  ${u.email.padEnd(22)} ${u.roles.join(", ")}`);

@@ -36,10 +36,12 @@ export async function readTable(file: string, limits: Limits = IMPORT_LIMITS): P
   const size = (await fs.promises.stat(file)).size;
   if (size === 0) throw new HttpError(400, "empty_file", "The file is empty.");
   const type = await (await loadFileType()).fileTypeFromFile(file);
-  if (type?.ext === "xlsx") return readXlsxFile(file, limits);
-  // file-type looks at the first zip entries only; some writers (exceljs's own streaming writer
-  // among them) put the workbook parts later. The reader then finds them in the central directory.
-  if (type?.ext === "zip") return readXlsxFile(file, limits);
+  // Whether a zip is a workbook is decided by readXlsxFile from the zip's central directory
+  // ([Content_Types].xml and xl/workbook.xml among its entries); a plain zip is refused there. Not
+  // from file-type's answer alone: it walks the local headers from the front, and where the sizes
+  // follow the data (data descriptors, as exceljs's streaming writer writes every part, with
+  // [Content_Types].xml after the sheet) it scans for them, 1 MiB in all, then answers "zip".
+  if (type?.ext === "xlsx" || type?.ext === "zip") return readXlsxFile(file, limits);
   if (type) {
     if (type.ext === "cfb") throw unsupported("This is an old-style .xls workbook. Save it as .xlsx (Excel Workbook) or as CSV and try again.");
     throw unsupported(`This file is a ${type.ext.toUpperCase()} file, not a workbook. Upload an .xlsx workbook or a CSV file.`);

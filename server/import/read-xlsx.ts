@@ -175,11 +175,19 @@ const attr = (tag: SaxesTagPlain, name: string): string | undefined => {
   return undefined;
 };
 
+/**
+ * Whether a zip is a workbook, from its central directory, which names every entry wherever the
+ * writer put it: an Open Packaging Conventions package (ECMA-376 part 2) has [Content_Types].xml at
+ * its root, and a SpreadsheetML one its workbook part, which Excel and LibreOffice write as
+ * xl/workbook.xml (the only name this reader opens).
+ */
+const isWorkbookPackage = (entries: Map<string, Entry>) => entries.has("[Content_Types].xml") && entries.has("xl/workbook.xml");
+
 /** The first sheet's part name, the shared strings part name, and the workbook's date system. */
 async function locateSheet(zip: ZipFile, entries: Map<string, Entry>, budget: Budget) {
-  const workbook = entries.get("xl/workbook.xml");
+  const workbook = entries.get("xl/workbook.xml")!;
   const rels = entries.get("xl/_rels/workbook.xml.rels");
-  if (!workbook || !rels) throw new HttpError(415, "unsupported_file", "This is a zip archive, not an .xlsx workbook.");
+  if (!rels) throw unreadable("its part xl/_rels/workbook.xml.rels, which names the sheets, is missing");
   let firstSheetRel: string | undefined;
   let date1904 = false;
   await readSmallPart(zip, workbook, budget, (tag) => {
@@ -433,6 +441,7 @@ export async function readXlsxFile(file: string, limits: Limits = IMPORT_LIMITS)
       if (err instanceof HttpError) throw err;
       throw unreadable();
     }
+    if (!isWorkbookPackage(entries)) throw new HttpError(415, "unsupported_file", "This is a zip archive, not an .xlsx workbook.");
     const { sheet, sharedStrings, date1904 } = await locateSheet(zip, entries, budget);
     const sheetEntry = entries.get(sheet);
     if (!sheetEntry) throw unreadable("its first sheet is missing");

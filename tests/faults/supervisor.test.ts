@@ -44,7 +44,7 @@ async function restartedAfter(srv: ServerProcess, pid: number): Promise<number> 
 describe("npm start runs the server under the supervisor", () => {
   it("when npm start is run, then it builds and starts the compiled supervisor (build/server/supervisor.js) with plain Node", () => {
     const pkg = JSON.parse(fs.readFileSync(path.join(REPO_ROOT, "package.json"), "utf8")) as { scripts: Record<string, string> };
-    expect(pkg.scripts.start).toBe("npm run build && node --enable-source-maps build/server/supervisor.js");
+    expect(pkg.scripts.start).toBe("npm run --silent build && node --enable-source-maps build/server/supervisor.js");
     expect(pkg.scripts.build).toBe("vite build && npm run build:server");
     expect(pkg.scripts["build:server"]).toMatch(/^esbuild .*supervisor=server\/supervisor\.ts/);
   });

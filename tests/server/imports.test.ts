@@ -7,8 +7,10 @@ import { csv, xlsx, type Row } from "../helpers/workbooks";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
+import { fileTypeFromFile } from "file-type";
 import { readTable } from "../../server/import/read-table";
 import { parseDateTime } from "../../server/import/coerce";
+import { buildZip, sheetXml } from "../helpers/zip-bombs";
 
 let t: TestApp;
 let process_: request.Agent;
@@ -227,6 +229,93 @@ describe("bad files", () => {
     const res = await upload("slabs", csv(["name", "colour"], [{ name: "a", colour: "b" }]), "other.csv", true);
     expect(res.body.errors).toHaveLength(1);
     expect(res.body.errors[0].message).toContain("None of the column names is a key of the slabs import");
+  });
+});
+
+/**
+ * Heats as exceljs's streaming writer writes them: every part with a data descriptor (its sizes after
+ * its data) and [Content_Types].xml after the sheet, so file-type, which walks the local headers from
+ * the front, must scan through the sheet's bytes before it meets the content types.
+ */
+async function streamedHeats(file: string, count: number) {
+  const wb = new ExcelJS.stream.xlsx.WorkbookWriter({ filename: file, useStyles: false, useSharedStrings: false });
+  const ws = wb.addWorksheet("Data");
+  ws.addRow(HEAT_HEADERS).commit();
+  for (let i = 0; i < count; i++) {
+    const r = heat(i, { heat_no: `STR${String(i).padStart(5, "0")}`, sequence_no: `STRSEQ-${Math.floor(i / 8)}` });
+    ws.addRow(HEAT_HEADERS.map((h) => r[h] ?? null)).commit();
+  }
+  ws.commit();
+  await wb.commit();
+}
+
+describe("telling a workbook from other zip files", () => {
+  it("when a streamed workbook's sheet packs to more than file-type's 1 MiB scan (it then answers only \"zip\"), then the zip's own directory makes it a workbook and every row is read", async () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), "streamed-"));
+    // Found by halving the row count: with these rows the sheet part packs to just under 1 MiB
+    // (less the parts before it) at 15,193 rows and just over at 15,194, where file-type 21 stops
+    // scanning for the data descriptors. The zip time stamps play no part (file-type never reads them).
+    const under = path.join(dir, "under.xlsx");
+    const over = path.join(dir, "over.xlsx");
+    await streamedHeats(under, 15_193);
+    await streamedHeats(over, 15_194);
+    expect((await fileTypeFromFile(under))?.ext).toBe("xlsx");
+    expect((await fileTypeFromFile(over))?.ext, "the case this test is about: file-type no longer says zip for it").toBe("zip");
+
+    for (const [file, count] of [[under, 15_193], [over, 15_194]] as const) {
+      const table = await readTable(file);
+      expect(table.format).toBe("xlsx");
+      expect(table.headers).toEqual(HEAT_HEADERS);
+      expect(table.rows).toHaveLength(count);
+      const last = table.rows.at(-1)!;
+      expect(last.rowNo).toBe(count + 1);
+      expect(last.cells.slice(0, 4)).toEqual([`STR${String(count - 1).padStart(5, "0")}`, `STRSEQ-${Math.floor((count - 1) / 8)}`, "CC2", "LV-ST32"]);
+      expect(parseDateTime(last.cells[4]!)).toBe(Date.UTC(2026, 11, 1) + (count - 1) * 40 * 60_000);
+      expect(last.cells.slice(6)).toEqual([1.4, 1545, 300, 160, 0.12, 0.2, 0.9, 0.015, 0.008]);
+    }
+
+    // And through the import itself (a dry run: nothing written).
+    const before = n("select count(*) from heats");
+    const res = await upload("heats", fs.readFileSync(over), "streamed.xlsx", true);
+    expect(res.status, JSON.stringify(res.body).slice(0, 500)).toBe(200);
+    expect(res.body).toMatchObject({ dryRun: true, format: "xlsx", valid: true, rows: 15_194, counts: { created: 15_194, updated: 0, unchanged: 0 }, errorCount: 0 });
+    expect(n("select count(*) from heats")).toBe(before);
+    fs.rmSync(dir, { recursive: true, force: true });
+  });
+
+  it("when the file is a zip without a workbook in it, then 415 says it is a zip archive", async () => {
+    const res = await upload("heats", buildZip([{ name: "notes.txt", content: "heat_no,grade\nH1,LV-ST32\n" }]), "heats.xlsx");
+    expect(res.status).toBe(415);
+    expect(res.body.error).toMatchObject({ code: "unsupported_file", message: "This is a zip archive, not an .xlsx workbook." });
+  });
+
+  it("when a zip holds a workbook's parts but no [Content_Types].xml (no Office package), then 415 says it is a zip archive", async () => {
+    const rels =
+      '<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships">' +
+      '<Relationship Id="rId1" Type="http://schemas.openxmlformats.org/officeDocument/2006/relationships/worksheet" Target="worksheets/sheet1.xml"/></Relationships>';
+    const file = buildZip([
+      { name: "xl/workbook.xml", content: '<workbook xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"><sheets><sheet name="Data" sheetId="1" r:id="rId1"/></sheets></workbook>' },
+      { name: "xl/_rels/workbook.xml.rels", content: rels },
+      { name: "xl/worksheets/sheet1.xml", content: sheetXml(["heat_no"], '<row r="2"><c r="A2" t="inlineStr"><is><t>H1</t></is></c></row>') as string },
+    ]);
+    const res = await upload("heats", file, "heats.xlsx");
+    expect(res.status).toBe(415);
+    expect(res.body.error).toMatchObject({ code: "unsupported_file", message: "This is a zip archive, not an .xlsx workbook." });
+  });
+
+  it("when the zip is another Office package (a Word document), then 415 names its type", async () => {
+    const file = buildZip([
+      {
+        name: "[Content_Types].xml",
+        content:
+          '<Types xmlns="http://schemas.openxmlformats.org/package/2006/content-types">' +
+          '<Override PartName="/word/document.xml" ContentType="application/vnd.openxmlformats-officedocument.wordprocessingml.document.main+xml"/></Types>',
+      },
+      { name: "word/document.xml", content: '<w:document xmlns:w="http://schemas.openxmlformats.org/wordprocessingml/2006/main"/>' },
+    ]);
+    const res = await upload("heats", file, "heats.xlsx");
+    expect(res.status).toBe(415);
+    expect(res.body.error.message).toBe("This file is a DOCX file, not a workbook. Upload an .xlsx workbook or a CSV file.");
   });
 });
 
