@@ -2,7 +2,7 @@ import { createAuthMiddleware, APIError } from "better-auth/api";
 import { createSignInGuard, LOCK_MS, MAX_FAILURES, type SignInGuard } from "./lib/sign-in-guard";
 import { recordAudit } from "./services/audit.service";
 import { createSessionCache } from "./lib/session-cache";
-import { revokeResetLinks } from "./services/users.service";
+import { clearMustChange, revokeResetLinks } from "./services/users.service";
 import { betterAuth } from "better-auth";
 import { drizzleAdapter } from "better-auth/adapters/drizzle";
 import { admin } from "better-auth/plugins/admin";
@@ -107,8 +107,17 @@ export function createAuth(opts: AuthOptions) {
   const afterPasswordChange = (u: { id: string; email: string }, how: "reset" | "changed" | "set by an administrator", actorId: string) => {
     const resetLinksRevoked = revokeResetLinks(opts.db, u.id);
     const locksLifted = guard.clear(u.email);
+    // A password the person chose (their own change, or a mailed link) replaces a first password an
+    // administrator set: the must-change gate opens (server/middleware/require-role.ts).
+    const firstPasswordReplaced = how !== "set by an administrator" && clearMustChange(opts.db, u.id);
     sessions.forgetUser(u.id);
-    recordAudit(opts.db, { userId: actorId, action: "user.password.changed", entity: "user", entityId: u.id, after: { how, resetLinksRevoked, locksLifted } });
+    recordAudit(opts.db, {
+      userId: actorId,
+      action: "user.password.changed",
+      entity: "user",
+      entityId: u.id,
+      after: { how, resetLinksRevoked, locksLifted, ...(firstPasswordReplaced ? { firstPasswordReplaced } : {}) },
+    });
   };
 
   const auth = betterAuth({
@@ -142,6 +151,10 @@ export function createAuth(opts: AuthOptions) {
         ? async ({ user: u, url, token }) => opts.sendResetPassword!({ user: u, url, token })
         : undefined,
       onPasswordReset: async ({ user: u }) => afterPasswordChange(u, "reset", u.id),
+    },
+    user: {
+      // Read with every session (server/middleware/auth-context.ts); set only by our own code.
+      additionalFields: { mustChangePassword: { type: "boolean", required: false, defaultValue: false, input: false } },
     },
     rateLimit: { enabled: opts.rateLimit ?? process.env.NODE_ENV === "production", storage: "memory" },
     session: {

@@ -4,7 +4,7 @@ declare global {
   namespace Express {
     interface Request {
       /** The signed-in person, or null; set by the auth-context middleware on every /api request. */
-      user: { id: string; name: string; email: string; roles: Role[] } | null;
+      user: { id: string; name: string; email: string; roles: Role[]; mustChangePassword?: boolean } | null;
       /** Set when the request authenticated with an API token (ingest routes). */
       apiToken?: { id: number; name: string; scopes: string[] };
     }

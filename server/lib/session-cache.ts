@@ -32,6 +32,8 @@ export interface SessionUser {
   name: string;
   email: string;
   roles: Role[];
+  /** An administrator set the password: nothing but the change opens (server/middleware/require-role.ts). */
+  mustChangePassword: boolean;
 }
 
 interface Entry {
@@ -54,8 +56,8 @@ export interface SessionCache {
 export function createSessionCache(sqlite: Database.Database, opts: { ttlMs?: number } = {}): SessionCache {
   const entries = new LRUCache<string, Entry>({ max: MAX_ENTRIES, ttl: opts.ttlMs ?? SESSION_CACHE_TTL_MS });
   // Prepared once; what better-auth's get-session would find: the session, unexpired, and its user.
-  const live = sqlite.prepare<[string, number], { id: string; name: string; email: string; role: string | null; banned: number | null }>(
-    `select u.id, u.name, u.email, u.role, u.banned from session s join user u on u.id = s.user_id where s.id = ? and s.expires_at > ?`,
+  const live = sqlite.prepare<[string, number], { id: string; name: string; email: string; role: string | null; banned: number | null; must_change_password: number }>(
+    `select u.id, u.name, u.email, u.role, u.banned, u.must_change_password from session s join user u on u.id = s.user_id where s.id = ? and s.expires_at > ?`,
   );
   return {
     lookup(cookieHeader) {
@@ -66,7 +68,7 @@ export function createSessionCache(sqlite: Database.Database, opts: { ttlMs?: nu
         entries.delete(cookieHeader);
         return null;
       }
-      return { id: u.id, name: u.name, email: u.email, roles: parseRoles(u.role) };
+      return { id: u.id, name: u.name, email: u.email, roles: parseRoles(u.role), mustChangePassword: u.must_change_password === 1 };
     },
     remember(cookieHeader, entry) {
       if (cookieHeader.length <= MAX_KEY) entries.set(cookieHeader, { sessionId: entry.sessionId, userId: entry.userId });

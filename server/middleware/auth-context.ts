@@ -33,6 +33,7 @@ export function authContext(auth: Auth): RequestHandler {
         name: found.user.name,
         email: found.user.email,
         roles: parseRoles(found.user.role),
+        mustChangePassword: found.user.mustChangePassword === true,
       };
       sessions.remember(cookie, { sessionId: found.session.id, userId: found.user.id });
     }

@@ -5,7 +5,20 @@ import { HttpError } from "../lib/http-error";
 /** Who may call a route: anyone, any signed-in user, or the roles holding a capability. */
 export type Access = "public" | "signed-in" | "ingest.token" | Capability;
 
-/** The single gate every route passes: 401 when signed out, 403 when the role is not allowed. */
+/**
+ * What a person may call while the password they signed in with was set by an administrator (as
+ * "METHOD path", the route's declared path): who they are, and the change itself. Public routes
+ * stay open; every other route answers 403 `password_change_required` until they chose their own.
+ */
+export const OPEN_BEFORE_OWN_PASSWORD: ReadonlySet<string> = new Set(["GET /me", "POST /me/password"]);
+
+export const PASSWORD_CHANGE_REQUIRED =
+  "Choose your own password first: the one you signed in with was set by an administrator. Nothing else opens until you have changed it.";
+
+/**
+ * The single gate every route passes: 401 when signed out, 403 when a first password must still be
+ * changed, 403 when the role is not allowed.
+ */
 export function requireRole(access: Access): RequestHandler {
   return (req, _res, next) => {
     if (access === "public") return next();
@@ -16,6 +29,10 @@ export function requireRole(access: Access): RequestHandler {
     }
     if (!req.user) {
       return next(new HttpError(401, "unauthenticated", "Please sign in to continue."));
+    }
+    // req.route is the route being dispatched: its declared path, however the URL was spelled.
+    if (req.user.mustChangePassword && !OPEN_BEFORE_OWN_PASSWORD.has(`${req.method} ${req.route?.path ?? "?"}`)) {
+      return next(new HttpError(403, "password_change_required", PASSWORD_CHANGE_REQUIRED, { changeAt: "/change-password" }));
     }
     if (access === "signed-in" || can(req.user.roles, access)) return next();
     const who = CAPABILITIES[access].map((r) => ROLE_LABELS[r]).join(", ");

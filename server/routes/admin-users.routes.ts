@@ -1,7 +1,7 @@
 import { z } from "zod";
-import { adminUserSchema, createUserSchema, updateUserSchema } from "@shared/api/users";
+import { adminUserSchema, changeOwnPasswordSchema, createdUserSchema, createUserSchema, updateUserSchema } from "@shared/api/users";
 import { defineRoute } from "../lib/route";
-import { createUser, listUsers, unlockUser, updateUser } from "../services/users.service";
+import { addUser, changeOwnPassword, listUsers, unlockUser, updateUser } from "../services/users.service";
 import type { Deps } from "./deps";
 
 const idParams = z.object({ id: z.string().min(1).max(64) });
@@ -20,25 +20,16 @@ export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
     defineRoute({
       method: "post",
       path: "/admin/users",
-      summary: "Create a user with one or more roles; an invitation with a link to choose their own password is e-mailed to them",
+      summary:
+        "Create a user with one or more roles, one way: an e-mailed invitation to choose their own password, or a first password (no mail) that they must change at their first sign-in",
       tag: "admin",
       access: "users.manage",
       body: createUserSchema,
       responses: {
-        201: { description: "Created.", schema: adminUserSchema },
+        201: { description: "Created; for an invitation, whether its message is in the mail queue.", schema: createdUserSchema },
         409: { description: "The e-mail is taken." },
       },
-      handler: async ({ body, user }) => {
-        const created = await createUser(db, auth, body, { userId: user.id });
-        // The invitation carries a better-auth reset link, so the new user can choose their own password.
-        notify.inviting(created.email);
-        try {
-          await auth.api.requestPasswordReset({ body: { email: created.email, redirectTo: "/reset-password" } });
-        } catch (err) {
-          logger.error({ err }, "could not queue the invitation");
-        }
-        return created;
-      },
+      handler: ({ body, user }) => addUser({ db, auth, notify, logger }, body, user.id),
     }),
     defineRoute({
       method: "patch",
@@ -73,6 +64,26 @@ export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
         409: { description: "The account is not locked." },
       },
       handler: ({ params, user }) => unlockUser(db, auth.signInGuard, params.id, user.id),
+    }),
+    // The person's own side of an account made here: replacing the first password an administrator
+    // set (nothing else opens until then: server/middleware/require-role.ts), or any later change.
+    defineRoute({
+      method: "post",
+      path: "/me/password",
+      summary: "Change one's own password (a first password set by an administrator must be changed this way before anything else opens); the account's other sessions end",
+      tag: "system",
+      access: "signed-in",
+      body: changeOwnPasswordSchema,
+      responses: {
+        200: { description: "Changed; this session continues with a fresh cookie.", schema: z.object({ changed: z.literal(true) }) },
+        400: { description: "The current password is not right, or the new one is not allowed." },
+        429: { description: "Too many wrong passwords from this address: locked for a while." },
+      },
+      handler: async ({ req, res, body, user }) => {
+        const cookies = await changeOwnPassword(db, auth, { email: user.email, cookie: req.headers.cookie ?? "", address: req.ip ?? req.socket.remoteAddress ?? "unknown" }, body);
+        if (cookies.length > 0) res.append("Set-Cookie", cookies);
+        return { changed: true as const };
+      },
     }),
   ];
 }

@@ -6,6 +6,9 @@ import { authKeys } from "@/features/auth/api/session";
 /** For a screen's loader: the user must hold the capability, else the route's error view shows 403. */
 export async function requireCapability(qc: QueryClient, capability: Capability) {
   const me = await qc.ensureQueryData(authKeys.me());
+  // The frame's loader sends the person to choose their own password (app-layout.loader.ts, whose
+  // redirect keeps where they were going); no screen asks for its data meanwhile.
+  if (me?.mustChangePassword) throw data({ message: "Choose your own password first." }, { status: 403 });
   if (!me || !can(me.roles, capability)) {
     throw data({ message: "Your role does not open this screen." }, { status: 403 });
   }

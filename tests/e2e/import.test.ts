@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import ExcelJS from "exceljs";
 import { collectPageErrors, readRows, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { openFromMenu } from "../helpers/main-menu";
 import { TEST_PASSWORD } from "../helpers/test-app";
 
 const env = useAppAndBrowser({ scale: 0.02 });
@@ -37,7 +38,7 @@ describe("import screen", () => {
     const page = await context.newPage();
     const errors = collectPageErrors(page);
     await signInAs(page, env.server.baseUrl, "process", TEST_PASSWORD);
-    await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Import" }).click();
+    await openFromMenu(page, "Import");
     await page.getByRole("heading", { level: 1, name: "Import" }).waitFor();
     // The columns are described on the screen, from the same list the server checks against.
     await page.getByTestId("import-columns").getByText("casting_speed_m_min", { exact: true }).waitFor();

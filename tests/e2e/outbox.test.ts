@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import type { OutboxPage } from "../../shared/api/mail";
 import { collectPageErrors, DESKTOP, readRows, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { openFromMenu } from "../helpers/main-menu";
 import { TEST_PASSWORD } from "../helpers/test-app";
 
 const env = useAppAndBrowser({ scale: 0.02 });
@@ -27,7 +28,7 @@ describe("the mail outbox in the browser", () => {
     page.setDefaultTimeout(15_000);
     const errors = collectPageErrors(page);
     await signInAs(page, env.server.baseUrl, "admin", TEST_PASSWORD);
-    await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Mail outbox" }).click();
+    await openFromMenu(page, "Mail outbox");
     await page.getByRole("heading", { level: 1, name: "Mail outbox" }).waitFor();
     expect(await page.getByTestId("mail-transport").textContent()).toBe(all.transport);
 

@@ -299,7 +299,7 @@ describe("reset links", () => {
 
   it("when the administrator reads the mail outbox, then reset and invitation links are hidden there, while the mail as sent carries the working link", async () => {
     const admin = await t.agentFor("admin");
-    const created = await admin.post("/api/admin/users").set("Origin", O).send({ name: "Tomas Lind (demo)", email: "tomas@demo.test", roles: ["inspector"], password: "temporary-pass-1" });
+    const created = await admin.post("/api/admin/users").set("Origin", O).send({ name: "Tomas Lind (demo)", email: "tomas@demo.test", roles: ["inspector"], firstSignIn: "invitation" });
     expect(created.status).toBe(201);
     expect((await ask("process@demo.test")).status).toBe(200);
     const liveTokens = [...tokensOf(created.body.id), ...tokensOf(idOf("process"))];

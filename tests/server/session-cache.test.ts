@@ -20,6 +20,7 @@ afterAll(() => t?.close());
 
 const O = () => t.env.BETTER_AUTH_URL;
 const PASSWORD = "cache-test-password-1";
+const FIRST_PASSWORD = "cache-first-password-0";
 
 async function signIn(email: string, password = PASSWORD): Promise<string> {
   const res = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O()).send({ email, password });
@@ -31,8 +32,11 @@ async function signIn(email: string, password = PASSWORD): Promise<string> {
 async function cachedUser(roles: string[]) {
   const email = `cache-${++n}@example.test`;
   const name = `Cache Tester ${n}`;
-  const created = await admin.post("/api/admin/users").set("Origin", O()).send({ name, email, roles, password: PASSWORD });
+  const created = await admin.post("/api/admin/users").set("Origin", O()).send({ name, email, roles, password: FIRST_PASSWORD });
   expect(created.status).toBe(201);
+  // A first password set by an administrator opens nothing until the person has chosen their own.
+  const first = await signIn(email, FIRST_PASSWORD);
+  expect((await request(t.app).post("/api/me/password").set("Origin", O()).set("Cookie", first).send({ currentPassword: FIRST_PASSWORD, newPassword: PASSWORD })).status).toBe(200);
   const cookie = await signIn(email);
   const me = await request(t.app).get("/api/me").set("Cookie", cookie);
   expect(me.status).toBe(200);

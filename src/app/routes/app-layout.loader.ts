@@ -14,6 +14,11 @@ export function makeLoader(qc: QueryClient) {
       const url = new URL(request.url);
       throw redirect(`/sign-in?next=${encodeURIComponent(url.pathname + url.search)}`);
     }
+    // A first password set by an administrator: the person chooses their own before any screen opens.
+    if (me.mustChangePassword) {
+      const url = new URL(request.url);
+      throw redirect(`/change-password?next=${encodeURIComponent(url.pathname + url.search)}`);
+    }
     return null;
   };
 }

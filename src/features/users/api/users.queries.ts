@@ -1,6 +1,6 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
 import { z } from "zod";
-import { adminUserSchema, type CreateUserInput, type UpdateUserInput } from "@shared/api/users";
+import { adminUserSchema, createdUserSchema, type ChangeOwnPasswordInput, type CreateUserInput, type UpdateUserInput } from "@shared/api/users";
 import { api } from "@/lib/api-client";
 
 export const userKeys = {
@@ -15,7 +15,7 @@ export const userKeys = {
 export function useCreateUser() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: CreateUserInput) => api("/admin/users", { method: "POST", body: input, schema: adminUserSchema }),
+    mutationFn: (input: CreateUserInput) => api("/admin/users", { method: "POST", body: input, schema: createdUserSchema }),
     onSuccess: () => qc.invalidateQueries({ queryKey: userKeys.all }),
   });
 }
@@ -35,5 +35,17 @@ export function useUnlockUser() {
   return useMutation({
     mutationFn: (id: string) => api(`/admin/users/${encodeURIComponent(id)}/unlock`, { method: "POST", body: {}, schema: adminUserSchema }),
     onSuccess: () => qc.invalidateQueries({ queryKey: userKeys.all }),
+  });
+}
+
+/**
+ * The signed-in person replaces their password (the first one an administrator set, or their own).
+ * The server ends the account's other sessions and sends this one a fresh cookie; the caller reads
+ * who is signed in again afterwards.
+ */
+export function useChangeOwnPassword() {
+  return useMutation({
+    mutationFn: (input: ChangeOwnPasswordInput) =>
+      api("/me/password", { method: "POST", body: input, schema: z.object({ changed: z.literal(true) }) }),
   });
 }

@@ -47,6 +47,25 @@ function LockMark({ user }: { user: AdminUser }) {
   );
 }
 
+/** Until the person has a password of their own: which way in is still open to them, in words. */
+function FirstSignInMark({ user }: { user: AdminUser }) {
+  if (!user.firstSignIn) return null;
+  return (
+    <span className="mt-1 inline-flex items-start gap-1.5 text-sm font-medium text-ink-700" data-testid={`first-sign-in-${user.email}`}>
+      <svg viewBox="0 0 16 16" className="mt-0.5 h-4 w-4 shrink-0" aria-hidden>
+        {user.firstSignIn === "invitation" ? (
+          // An envelope: the invitation is out.
+          <path d="M2 4h12v8H2zM2 4l6 5 6-5" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" />
+        ) : (
+          // A key: a first password was handed over.
+          <path d="M6 8a3 3 0 1 1 0 .01M9 8h5M12 8v2.5M14 8v2" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinecap="round" />
+        )}
+      </svg>
+      <span>{user.firstSignIn === "invitation" ? "Invited: has not chosen a password yet" : "First password: to be changed at first sign-in"}</span>
+    </span>
+  );
+}
+
 function RolesEditor({ user, onClose }: { user: AdminUser; onClose: () => void }) {
   const [roles, setRoles] = useState<Role[]>(user.roles);
   const update = useUpdateUser();
@@ -100,13 +119,15 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
         cell: (c) => (
           <div className="flex flex-col">
             <StatusMark active={c.getValue()} />
+            <FirstSignInMark user={c.row.original} />
             <LockMark user={c.row.original} />
           </div>
         ),
       }),
       col.display({
         id: "actions",
-        header: "",
+        // Named for screen readers (an empty header leaves the column unnamed); on screen the buttons say it.
+        header: () => <span className="sr-only">Actions</span>,
         cell: (c) => {
           const u = c.row.original;
           return (

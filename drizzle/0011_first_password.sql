@@ -1,0 +1,1 @@
+ALTER TABLE `user` ADD `must_change_password` integer DEFAULT false NOT NULL;

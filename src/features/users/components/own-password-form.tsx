@@ -1,0 +1,59 @@
+import { useForm } from "react-hook-form";
+import { zodResolver } from "@hookform/resolvers/zod";
+import { z } from "zod";
+import { changeOwnPasswordSchema } from "@shared/api/users";
+import { Button } from "@/components/ui/button";
+import { TextField } from "@/components/ui/field";
+import { Notice } from "@/components/ui/notice";
+import { ApiError } from "@/lib/api-client";
+import { useChangeOwnPassword } from "../api/users.queries";
+
+// The server's rules (shared/api/users.ts), and the new password typed twice.
+const formSchema = changeOwnPasswordSchema.and(z.object({ again: z.string() })).refine((v) => v.newPassword === v.again, {
+  path: ["again"],
+  message: "The two passwords differ. Type the same one twice.",
+});
+type FormValues = z.infer<typeof formSchema>;
+
+/** The signed-in person's own password: the one they signed in with, then their new one twice. */
+export function OwnPasswordForm({ email, firstPassword, onChanged }: { email: string; firstPassword: boolean; onChanged: () => void }) {
+  const change = useChangeOwnPassword();
+  const form = useForm<FormValues>({ resolver: zodResolver(formSchema), defaultValues: { currentPassword: "", newPassword: "", again: "" } });
+  const submit = form.handleSubmit(async ({ currentPassword, newPassword }) => {
+    try {
+      await change.mutateAsync({ currentPassword, newPassword });
+      onChanged();
+    } catch (err) {
+      if (err instanceof ApiError && err.code === "wrong_current_password") form.setError("currentPassword", { message: err.message });
+    }
+  });
+  const serverError = change.error instanceof ApiError && change.error.code !== "wrong_current_password" ? change.error.message : change.error && !(change.error instanceof ApiError) ? "The password could not be changed. Try again." : null;
+  return (
+    <form noValidate className="space-y-4" aria-label="Choose your password" onSubmit={submit}>
+      {serverError ? <Notice tone="error">{serverError}</Notice> : null}
+      {/* Whose password this is, for the browser's password manager. */}
+      <input type="text" name="username" autoComplete="username" value={email} readOnly hidden />
+      <TextField
+        label={firstPassword ? "First password (the one you were given)" : "Current password"}
+        type="password"
+        autoComplete="current-password"
+        large
+        {...form.register("currentPassword")}
+        error={form.formState.errors.currentPassword?.message}
+      />
+      <TextField
+        label="New password"
+        type="password"
+        autoComplete="new-password"
+        large
+        hint="At least 10 characters, known only to you. A few unrelated words make a password that is long and easy to remember."
+        {...form.register("newPassword")}
+        error={form.formState.errors.newPassword?.message}
+      />
+      <TextField label="The new password again" type="password" autoComplete="new-password" large {...form.register("again")} error={form.formState.errors.again?.message} />
+      <Button type="submit" size="lg" className="w-full" disabled={form.formState.isSubmitting}>
+        {form.formState.isSubmitting ? "Saving…" : "Save my new password"}
+      </Button>
+    </form>
+  );
+}
