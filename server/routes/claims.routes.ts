@@ -8,6 +8,8 @@ import {
   claimSummarySchema,
   claimUpdateSchema,
   heatHistorySchema,
+  historyEditionQuerySchema,
+  SECTION_LABELS,
   sendHistorySchema,
   traceQuerySchema,
   traceSchema,
@@ -16,7 +18,7 @@ import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { diskUpload, type IncomingFile } from "../middleware/uploads";
 import { checkHeatOfClaim, claimExists, createClaim, getClaim, linkSlabs, listClaims, unlinkSlab, updateClaim } from "../services/claims.service";
-import { heatHistory, historyWorkbook, trace } from "../services/history.service";
+import { heatHistory, historyWorkbook, trace, type HistoryOptions } from "../services/history.service";
 import { addAttachments, ATTACHMENT_UPLOAD_REFUSALS, checkAttachmentCaps, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES } from "../services/attachments.service";
 import type { Deps } from "./deps";
 
@@ -25,12 +27,19 @@ const idParams = z.object({ id: z.coerce.number().int().positive() });
 const heatParams = z.object({ heatNo: z.string().trim().min(1).max(40) });
 const upload = diskUpload({ field: "files", maxFiles: ATTACHMENT_MAX_FILES, maxBytes: ATTACHMENT_MAX_BYTES, multiple: true });
 const one = { 200: { description: "The claim as it now stands.", schema: claimSchema } };
-const fileName = (heatNo: string) => `strandsight-heat-${heatNo.replace(/[^A-Za-z0-9_-]/g, "_")}-history-${new Date().toISOString().slice(0, 10)}.xlsx`;
+const safe = (x: string) => x.replace(/[^A-Za-z0-9_-]/g, "_");
+const fileName = (heatNo: string, edition: HistoryOptions["edition"] = "internal", claimNo?: string) =>
+  `strandsight-heat-${safe(heatNo)}-history-${edition === "customer" ? `${claimNo ? `claim-${safe(claimNo)}-` : ""}customer` : "internal"}-${new Date().toISOString().slice(0, 10)}.xlsx`;
+/** The query's edition as the service takes it; who prepares it is the signed-in user's name. */
+const editionOf = (q: z.output<typeof historyEditionQuerySchema>, preparedBy: string): HistoryOptions => ({ edition: q.edition, sections: q.sections, claimId: q.claim, preparedBy });
 
 export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
   const uploadDir = path.resolve(env.UPLOAD_DIR);
   const attachDir = path.join(uploadDir, "attachments");
-  const workbook = (heatNo: string, by: string) => historyWorkbook(db, heatHistory(db, heatNo), { baseUrl: env.BETTER_AUTH_URL, uploadDir, by });
+  const workbook = (heatNo: string, by: string, opts: HistoryOptions = {}) => {
+    const hist = heatHistory(db, heatNo, opts);
+    return historyWorkbook(db, hist, { baseUrl: env.BETTER_AUTH_URL, uploadDir, by }).then((buf) => ({ buf, hist }));
+  };
   return [
     defineRoute({
       method: "get",
@@ -45,26 +54,30 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
     defineRoute({
       method: "get",
       path: "/heats/:heatNo/history",
-      summary: "A heat's whole history as JSON (the printable view)",
+      summary: "A heat's history as JSON (the printable view): the internal edition (everything, the audit trail in words) or the customer edition (sections chosen, nothing internal); claim= adds the claim's cover page",
       tag: "claims",
       access: "history.export",
       params: heatParams,
-      responses: { 200: { description: "The history.", schema: heatHistorySchema } },
-      handler: ({ params }) => heatHistory(db, params.heatNo),
+      query: historyEditionQuerySchema,
+      responses: { 200: { description: "The history.", schema: heatHistorySchema }, 400: { description: "The claim has no slab of this heat, or an unknown section." } },
+      handler: ({ params, query, user }) => heatHistory(db, params.heatNo, editionOf(query, user.name)),
     }),
     defineRoute({
       method: "get",
       path: "/heats/:heatNo/history.xlsx",
-      summary: "The heat history workbook: Summary, Chemistry, Casting conditions, Process samples, Slabs, Defects (thumbnails), Causes, Investigations, Claims, Audit trail",
+      summary:
+        "The heat history workbook. Internal edition: Summary, Chemistry, Casting conditions, Process samples, Slabs, Defects (thumbnails), Causes, Investigations, Claims, Audit trail (in words). Customer edition: a Cover (with claim=), Summary and the sections chosen",
       tag: "claims",
       access: "history.export",
       params: heatParams,
-      responses: { 200: { description: "The workbook.", contentType: XLSX } },
-      handler: async ({ params, res, user }) => {
-        const buf = await workbook(params.heatNo, `${user.name} <${user.email}>`);
-        recordAudit(db, { userId: user.id, action: "heat.history.export", entity: "heat", entityId: params.heatNo.trim().toUpperCase() });
+      query: historyEditionQuerySchema,
+      responses: { 200: { description: "The workbook.", contentType: XLSX }, 400: { description: "The claim has no slab of this heat, or an unknown section." } },
+      handler: async ({ params, query, res, user }) => {
+        const { buf, hist } = await workbook(params.heatNo, `${user.name} <${user.email}>`, editionOf(query, user.name));
+        const heatNo = hist.heat.heatNo;
+        recordAudit(db, { userId: user.id, action: "heat.history.export", entity: "heat", entityId: heatNo, after: { edition: hist.edition.kind, sections: hist.edition.sections, claim: hist.edition.cover?.claimNo ?? null } });
         res.setHeader("Content-Type", XLSX);
-        res.setHeader("Content-Disposition", `attachment; filename="${fileName(params.heatNo.trim().toUpperCase())}"`);
+        res.setHeader("Content-Disposition", `attachment; filename="${fileName(heatNo, hist.edition.kind, hist.edition.cover?.claimNo)}"`);
         res.send(buf);
       },
     }),
@@ -157,7 +170,7 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
     defineRoute({
       method: "post",
       path: "/claims/:id/send-history",
-      summary: "E-mail a linked heat's history workbook to recipients (claims officers; queued; logged on the claim)",
+      summary: "E-mail a linked heat's history workbook to recipients — the customer edition with the claim's cover page unless edition=internal (claims officers; queued; logged on the claim)",
       tag: "claims",
       access: "claims.manage",
       params: idParams,
@@ -168,16 +181,20 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
         const claim = claimExists(db, params.id);
         checkHeatOfClaim(db, params.id, body.heatNo);
         const heatNo = body.heatNo.trim().toUpperCase();
-        const buf = await workbook(heatNo, `${user.name} <${user.email}>`);
+        const { buf, hist } = await workbook(heatNo, `${user.name} <${user.email}>`, { edition: body.edition, sections: body.sections, claimId: params.id, preparedBy: user.name });
+        const contents = hist.edition.sections.map((x) => SECTION_LABELS[x].toLowerCase());
+        const listed = contents.length > 1 ? `${contents.slice(0, -1).join(", ")} and ${contents[contents.length - 1]}` : (contents[0] ?? "the summary");
+        const customer = hist.edition.kind === "customer";
         const messageId = db.transaction(() => {
           const id = mailer.enqueue({
             kind: "heat_history",
             to: body.to,
             subject: `Claim ${claim.claim_no}: history of heat ${heatNo}`,
-            text: `${body.message ? `${body.message}\n\n` : ""}Attached: the history of heat ${heatNo} (chemistry, casting conditions, slabs, defects with photos, causes, investigations and claims), for claim ${claim.claim_no} of ${claim.customer}.\n\nSent by ${user.name}.\n\n—\nStrandsight · ${env.BETTER_AUTH_URL}`,
-            attachments: [{ filename: fileName(heatNo), contentType: XLSX, content: buf }],
+            // The customer edition's mail names no address inside the plant.
+            text: `${body.message ? `${body.message}\n\n` : ""}Attached: the history of heat ${heatNo} for claim ${claim.claim_no} of ${claim.customer} — ${listed}.${customer ? "" : "\n\nThis is the internal edition: it is not meant for the customer."}\n\nSent by ${user.name}.${customer ? "" : `\n\n—\nStrandsight · ${env.BETTER_AUTH_URL}`}`,
+            attachments: [{ filename: fileName(heatNo, hist.edition.kind, claim.claim_no), contentType: XLSX, content: buf }],
           })!;
-          recordAudit(db, { userId: user.id, action: "claim.history.sent", entity: "claim", entityId: params.id, after: { heatNo, to: body.to, outboxId: id, bytes: buf.length } });
+          recordAudit(db, { userId: user.id, action: "claim.history.sent", entity: "claim", entityId: params.id, after: { heatNo, to: body.to, outboxId: id, bytes: buf.length, edition: hist.edition.kind, sections: hist.edition.sections } });
           return id;
         });
         return { messageId, claim: getClaim(db, params.id) };

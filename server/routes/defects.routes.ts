@@ -94,7 +94,7 @@ export function defectRoutes({ db, env, events }: Deps) {
     defineRoute({
       method: "get",
       path: "/defects",
-      summary: "Defects, paged and filtered (mine, dates, slab, heat, type, review status)",
+      summary: "Defects, paged and filtered (mine, dates, slab, heat, type, review status, least severity, with or without a cause)",
       tag: "defects",
       access: "plant.read",
       query: defectListQuerySchema,

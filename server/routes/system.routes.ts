@@ -1,6 +1,6 @@
 import { healthSchema } from "@shared/api/common";
 import { aboutSchema } from "@shared/api/plant";
-import { meSchema } from "@shared/api/users";
+import { meSchema, sessionSchema } from "@shared/api/users";
 import { ROLE_LABELS } from "@shared/roles";
 import { PUBLISHED_DEMO_PASSWORD } from "../env";
 import { defineRoute } from "../lib/route";
@@ -25,7 +25,19 @@ export function systemRoutes({ db, env }: Deps) {
       tag: "system",
       access: "signed-in",
       responses: { 200: { description: "The user.", schema: meSchema } },
-      handler: ({ user }) => ({ id: user.id, name: user.name, email: user.email, roles: user.roles }),
+      // The must-change mark only while it holds: the client then shows nothing but the change screen.
+      handler: ({ user }) => ({ id: user.id, name: user.name, email: user.email, roles: user.roles, ...(user.mustChangePassword ? { mustChangePassword: true as const } : {}) }),
+    }),
+    defineRoute({
+      method: "get",
+      path: "/session",
+      summary: "Who is signed in, if anyone (the app's first question; me is null when signed out)",
+      tag: "system",
+      access: "public",
+      responses: { 200: { description: "The session, or me: null.", schema: sessionSchema } },
+      handler: ({ user }) => ({
+        me: user ? { id: user.id, name: user.name, email: user.email, roles: user.roles, ...(user.mustChangePassword ? { mustChangePassword: true as const } : {}) } : null,
+      }),
     }),
     defineRoute({
       method: "get",

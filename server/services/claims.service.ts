@@ -120,9 +120,11 @@ function describe(action: string, after: unknown, mail: (outboxId: unknown) => {
     // Said as it stands in the outbox: queued until the mail server has taken it.
     const to = (a.to as string[]).join(", ");
     const m = mail(a.outboxId);
-    if (m?.status === "sent") return `Heat ${a.heatNo} history sent to ${to}${m.sentAt ? ` (${mailTime(m.sentAt)})` : ""}`;
-    if (m?.status === "failed") return `Heat ${a.heatNo} history to ${to} could not be sent: the administrator finds it in the outbox`;
-    return `Heat ${a.heatNo} history queued for e-mail to ${to}`;
+    // Sendings before the two editions carried no edition: they were the whole (internal) history.
+    const what = `Heat ${a.heatNo} history (${a.edition === "customer" ? "customer" : "internal"} edition)`;
+    if (m?.status === "sent") return `${what} sent to ${to}${m.sentAt ? ` (${mailTime(m.sentAt)})` : ""}`;
+    if (m?.status === "failed") return `${what} to ${to} could not be sent: the administrator finds it in the outbox`;
+    return `${what} queued for e-mail to ${to}`;
   }
   if (action === "claim.update" && a.status) return `Status → ${a.status}`;
   if (action === "claim.slabs.link") return `${a.added} slab(s) linked`;

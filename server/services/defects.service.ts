@@ -381,6 +381,14 @@ export function listDefects(db: Db, user: Actor, q: z.output<typeof defectListQu
     where.push("d.review_status = @status");
     params.status = q.reviewStatus;
   }
+  if (q.minSeverity !== undefined) {
+    where.push("d.severity >= @minSeverity");
+    params.minSeverity = q.minSeverity;
+  }
+  if (q.causes) {
+    const live = "exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null)";
+    where.push(q.causes === "none" ? `not ${live} and d.review_status <> 'rejected'` : live);
+  }
   const w = where.join(" and ");
   const total = db.$client
     .prepare(

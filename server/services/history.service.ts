@@ -8,12 +8,23 @@ import fs from "node:fs";
 import path from "node:path";
 import type ExcelJS from "exceljs";
 import { loadExcelJS } from "../lib/lazy-packages";
-import type { HeatHistory, Trace } from "@shared/api/claims";
+import {
+  CUSTOMER_DEFAULT_SECTIONS,
+  HISTORY_SECTIONS,
+  SECTION_LABELS,
+  type HistorySection,
+  type CustomerSection,
+  type HeatHistory,
+  type HistoryCover,
+  type HistoryEdition,
+  type Trace,
+} from "@shared/api/claims";
 import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, STAGE_LABELS, type Disposition, type Face, type Severity, type Stage } from "@shared/domain";
 import { VARIABLES } from "@shared/variables";
 import type { Db } from "../db/client";
 import { guardSheet } from "../lib/cells";
-import { notFound } from "../lib/http-error";
+import { badRequest, notFound } from "../lib/http-error";
+import { auditWords } from "./history-words";
 
 type Row = Record<string, any>;
 const iso = (ms: number | null | undefined) => (ms == null ? null : new Date(ms).toISOString());
@@ -60,7 +71,110 @@ const ELEMENTS: [string, string, string][] = [
 
 const inList = (ids: number[]) => (ids.length ? `(${ids.map((x) => Math.trunc(x)).join(",")})` : "(null)");
 
-export function heatHistory(db: Db, heatNo: string): HeatHistory {
+export interface HistoryOptions {
+  /** "internal" (default): everything, the audit trail in words. "customer": the parts chosen, nothing internal. */
+  edition?: HistoryEdition;
+  /** The customer edition's parts (default CUSTOMER_DEFAULT_SECTIONS). */
+  sections?: CustomerSection[];
+  /** The claim the history is prepared for: its cover page. */
+  claimId?: number;
+  /** Who prepares it (the cover page; a name, never an address). */
+  preparedBy?: string;
+}
+
+/** A heat's history in the edition asked for; see HistoryOptions. */
+export function heatHistory(db: Db, heatNo: string, opts: HistoryOptions = {}): HeatHistory {
+  const full = internalHistory(db, heatNo);
+  if (opts.claimId !== undefined) full.edition.cover = coverOf(db, full, opts.claimId, opts.preparedBy ?? "");
+  if (opts.edition === "customer") return customerEdition(full, opts.sections ?? CUSTOMER_DEFAULT_SECTIONS);
+  return { ...full, audit: full.audit.map(({ at, by, what }) => ({ at, by, what })) };
+}
+
+/** An audit row with what the customer edition chooses by: the kind of record and its plant name. */
+type ScopedAudit = HeatHistory["audit"][number] & { scope: "defect" | "causes" | "investigation" | "claim" | "other"; record: string | null };
+type FullHistory = Omit<HeatHistory, "audit"> & { audit: ScopedAudit[] };
+
+/** The claim's cover page: refused when the claim has no slab of this heat. */
+function coverOf(db: Db, hist: FullHistory, claimId: number, preparedBy: string): HistoryCover {
+  const sqlite = db.$client;
+  const c = sqlite.prepare("select * from claims where id = ?").get(claimId) as Row | undefined;
+  if (!c) throw notFound("There is no such claim (it may have been deleted).");
+  const slabs = sqlite
+    .prepare("select s.slab_id from claim_slabs cs join slabs s on s.id = cs.slab_id join heats h on h.id = s.heat_id where cs.claim_id = ? and h.heat_no = ? order by s.slab_id")
+    .pluck()
+    .all(claimId, hist.heat.heatNo) as string[];
+  if (!slabs.length) throw badRequest(`Claim ${c.claim_no} has no slab of heat ${hist.heat.heatNo}: link the slab to the claim first, or prepare the history without the claim.`, { field: "claim" }, "claim_not_on_heat");
+  const ofHeat = new Set(hist.slabs.flatMap((s) => s.products));
+  const products = String(c.product_ids ?? "").split(",").map((x) => x.trim()).filter(Boolean);
+  return {
+    claimNo: c.claim_no,
+    customer: c.customer,
+    receivedOn: c.received_on,
+    defectComplained: c.defect_complained,
+    quantityT: c.quantity_t ?? null,
+    products: products.filter((x) => ofHeat.has(x)),
+    otherProducts: products.filter((x) => !ofHeat.has(x)),
+    slabs,
+    preparedBy,
+  };
+}
+
+/**
+ * The customer edition: only the parts chosen, and of those only what a customer may read — no
+ * database ids (defects and investigations are numbered in the document), no names of the plant's
+ * people but on the cover, no review states, inspectors' notes, cause notes, process samples, other
+ * customers' claims or links into the application. The audit trail, when chosen, keeps only the
+ * records the document shows.
+ */
+function customerEdition(full: FullHistory, chosen: CustomerSection[]): HeatHistory {
+  const on = new Set<string>(chosen);
+  const sections = HISTORY_SECTIONS.filter((x) => on.has(x));
+  const defectsOn = on.has("defects");
+  const number = new Map(full.defects.map((d, i) => [d.id, i + 1]));
+  const keptDefects = defectsOn ? full.defects : [];
+  const liveCauses = on.has("causes") ? full.causes.filter((c) => c.removedAt === null && (!defectsOn || number.has(c.defectId))) : [];
+  const invs = on.has("investigations") ? full.investigations.filter((i) => i.sameHeat) : [];
+  const claimNo = full.edition.cover?.claimNo ?? null;
+  return {
+    generatedAt: full.generatedAt,
+    edition: { kind: "customer", sections, cover: full.edition.cover },
+    heat: {
+      ...full.heat,
+      conditions: on.has("conditions") ? full.heat.conditions : [],
+      chemistry: on.has("chemistry") ? full.heat.chemistry : [],
+    },
+    slabs: on.has("slabs")
+      ? full.slabs.map((x) => ({ ...x, disposition: on.has("dispositions") ? x.disposition : null, conditions: on.has("conditions") ? x.conditions : [] }))
+      : [],
+    defects: keptDefects.map((d) => ({
+      ...d,
+      id: number.get(d.id)!,
+      disposition: on.has("dispositions") ? d.disposition : null,
+      reviewStatus: null,
+      loggedBy: null,
+      note: null,
+      causes: on.has("causes") ? d.causes : [],
+      photos: on.has("photos") ? d.photos : [],
+    })),
+    causes: liveCauses.map((c) => ({ ...c, defectId: number.get(c.defectId) ?? 0, note: null, by: null })),
+    samples: null,
+    investigations: invs.map((i, k) => ({ ...i, id: k + 1, owner: null })),
+    claims: [],
+    audit: on.has("audit")
+      ? full.audit
+          .filter(
+            (a) =>
+              (a.scope === "defect" && defectsOn) ||
+              (a.scope === "causes" && on.has("causes")) ||
+              (a.scope === "investigation" && invs.some((i) => i.ref === a.record)) ||
+              (a.scope === "claim" && claimNo !== null && a.record === claimNo),
+          )
+          .map(({ at, what }) => ({ at, by: null, what }))
+      : [],
+  };
+}
+
+function internalHistory(db: Db, heatNo: string): FullHistory {
   const sqlite = db.$client;
   const h = sqlite
     .prepare(
@@ -137,10 +251,23 @@ export function heatHistory(db: Db, heatNo: string): HeatHistory {
   for (const c of causes) if (c.removed_at == null) live.set(c.defect_id, [...(live.get(c.defect_id) ?? []), c.code]);
   const photosOf = new Map<number, HeatHistory["defects"][number]["photos"]>();
   for (const p of photos) photosOf.set(p.defect_id, [...(photosOf.get(p.defect_id) ?? []), { id: p.id, url: `/api/photos/${p.id}`, thumbUrl: `/api/photos/${p.id}/thumb` }]);
-  const json = (v: unknown) => (v == null ? null : typeof v === "string" ? v : JSON.stringify(v));
+  // What the audit trail's sentences call each record.
+  const defectName = new Map(defects.map((d) => [String(d.id), `${d.typeCode} on slab ${d.slabCode}`]));
+  const invRefs = new Map(investigations.map((i) => [String(i.id), String(i.ref)]));
+  const claimNos = new Map(claims.map((c) => [String(c.id), String(c.claim_no)]));
+  const typeCodes = new Map((sqlite.prepare("select id, code from defect_types").all() as Row[]).map((t) => [Number(t.id), String(t.code)]));
+  const tagNames = new Map((sqlite.prepare("select code, name from cause_tags").all() as Row[]).map((t) => [String(t.code), String(t.name)]));
+  const words = {
+    defect: (id: string | null) => defectName.get(String(id)) ?? "a defect entry",
+    investigation: (id: string | null) => invRefs.get(String(id)) ?? "",
+    claim: (id: string | null) => claimNos.get(String(id)) ?? "",
+    typeCode: (id: unknown) => typeCodes.get(Number(id)) ?? null,
+    causeName: (code: string) => tagNames.get(code) ?? code,
+  };
 
   return {
     generatedAt: new Date().toISOString(),
+    edition: { kind: "internal", sections: [...HISTORY_SECTIONS], cover: null },
     heat: {
       heatNo: h.heat_no,
       sequenceNo: h.sequenceNo ?? null,
@@ -179,7 +306,15 @@ export function heatHistory(db: Db, heatNo: string): HeatHistory {
     samples: { count: sampleCount, strands: [...new Set(slabs.map((s) => s.strand_no as number))] },
     investigations: investigations.map((i) => ({ id: i.id, ref: i.ref, title: i.title, status: i.status, openedAt: iso(i.opened_at)!, closedAt: iso(i.closed_at), confirmedCause: i.causeName ?? null, owner: i.ownerName ?? null, sameHeat: Boolean(i.sameHeat) })),
     claims: claims.map((c) => ({ id: c.id, claimNo: c.claim_no, customer: c.customer, receivedOn: c.received_on, defectComplained: c.defect_complained, status: c.status, quantityT: c.quantity_t ?? null, sameHeat: Boolean(c.sameHeat), slabs: c.slabCodes ? String(c.slabCodes).split(",") : [] })),
-    audit: audit.map((a) => ({ at: iso(a.at)!, by: a.byName ?? null, action: a.action, entity: a.entity, entityId: a.entity_id ?? null, before: json(a.before), after: json(a.after) })),
+    audit: audit.map((a) => ({
+      at: iso(a.at)!,
+      by: a.byName ?? null,
+      what: auditWords({ action: a.action, entity: a.entity, entityId: a.entity_id ?? null, before: a.before, after: a.after }, words),
+      scope: (a.entity === "defect_selection" || String(a.action).startsWith("defect.causes")
+        ? "causes"
+        : ["defect", "investigation", "claim"].includes(a.entity) ? a.entity : "other") as ScopedAudit["scope"],
+      record: a.entity === "claim" ? (claimNos.get(String(a.entity_id)) ?? null) : a.entity === "investigation" ? (invRefs.get(String(a.entity_id)) ?? null) : null,
+    })),
   };
 }
 
@@ -242,22 +377,53 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   wb.creator = "Strandsight";
   wb.created = new Date(hist.generatedAt);
   const h = hist.heat;
-  const title = `Heat ${h.heatNo} — history`;
+  const ed = hist.edition;
+  const customer = ed.kind === "customer";
+  const on = (x: HistorySection) => ed.sections.includes(x);
+  const title = ed.cover ? `Heat ${h.heatNo} — history for claim ${ed.cover.claimNo}` : `Heat ${h.heatNo} — history`;
   const link = (p: string) => new URL(p, opts.baseUrl).toString();
+  // The customer edition carries no links into the application (the customer has no account).
+  const linked = (text: string, p: string) => (customer ? text : { text, hyperlink: link(p) });
+
+  const sheetOf = (name: string) => {
+    const ws = wb.addWorksheet(name, { views: [{ state: "frozen", ySplit: 1 }] });
+    ws.columns = [
+      { header: "Item", key: "k", width: 32 },
+      { header: "Value", key: "v", width: 70 },
+    ];
+    ws.getRow(1).font = { bold: true };
+    const add = (k: string, v: unknown, numFmt?: string) => {
+      const row = ws.addRow({ k, v });
+      if (numFmt) row.getCell(2).numFmt = numFmt;
+      row.getCell(2).alignment = { horizontal: "left", wrapText: true };
+    };
+    return { ws, add };
+  };
+
+  // The cover page: what the document is, for which claim, when and by whom.
+  if (ed.cover) {
+    const c = ed.cover;
+    const { ws, add } = sheetOf("Cover");
+    add("Document", `History of heat ${h.heatNo}, prepared for claim ${c.claimNo}`);
+    add("Edition", customer ? "For the customer" : "Internal (not for the customer)");
+    add("Claim", c.claimNo);
+    add("Customer", c.customer);
+    add("Claim received", c.receivedOn);
+    add("Defect complained of", c.defectComplained);
+    if (c.quantityT !== null) add("Quantity claimed (t)", c.quantityT, D1);
+    add("Coils and plates of this heat", c.products.join(", ") || "—");
+    if (c.otherProducts.length) add("Other coils and plates of the claim", `${c.otherProducts.join(", ")} (not from this heat)`);
+    add("Slabs of this heat in the claim", c.slabs.join(", "));
+    add("Heat cast", `${h.castStart.slice(0, 16).replace("T", " ")}${h.castEnd ? ` to ${h.castEnd.slice(0, 16).replace("T", " ")}` : ""} UTC`);
+    add("Contents", ed.sections.map((x) => SECTION_LABELS[x]).join(", "));
+    add("Prepared", date(hist.generatedAt), DT);
+    add("Prepared by", c.preparedBy || "—");
+    printSetup(ws, title);
+  }
 
   // Summary
-  const sum = wb.addWorksheet("Summary", { views: [{ state: "frozen", ySplit: 1 }] });
-  sum.columns = [
-    { header: "Item", key: "k", width: 30 },
-    { header: "Value", key: "v", width: 70 },
-  ];
-  sum.getRow(1).font = { bold: true };
+  const { ws: sum, add } = sheetOf("Summary");
   const worst = hist.slabs.map((s) => s.disposition).filter(Boolean) as string[];
-  const add = (k: string, v: unknown, numFmt?: string) => {
-    const row = sum.addRow({ k, v });
-    if (numFmt) row.getCell(2).numFmt = numFmt;
-    row.getCell(2).alignment = { horizontal: "left", wrapText: true };
-  };
   add("Heat", h.heatNo);
   add("Sequence", h.sequenceNo ? `${h.sequenceNo} (heat ${h.sequencePosition ?? "?"} of the sequence)` : "—");
   add("Caster", h.caster);
@@ -265,182 +431,200 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   add("Cast start", date(h.castStart), DT);
   add("Cast end", date(h.castEnd), DT);
   add("Ladle weight (t)", h.ladleWeightT, D1);
-  add("Slabs", hist.slabs.length, N0);
-  add("Slab dispositions", worst.length ? Object.entries(worst.reduce<Record<string, number>>((m, d) => ((m[d] = (m[d] ?? 0) + 1), m), {})).map(([d, c]) => `${DISPOSITION_LABELS[d as Disposition] ?? d}: ${c}`).join(", ") : "none recorded");
-  add("Defects (live)", hist.defects.length, N0);
-  add("Coils and plates traced", hist.slabs.reduce((n, s) => n + s.products.length, 0), N0);
-  add("Investigations (this heat or sequence)", hist.investigations.length, N0);
-  add("Claims (this heat or sequence)", hist.claims.length, N0);
-  add("Process samples in the cast window", hist.samples.count, N0);
-  add("Open in Strandsight", { text: link(`/heats/${encodeURIComponent(h.heatNo)}`), hyperlink: link(`/heats/${encodeURIComponent(h.heatNo)}`) });
-  add("Generated", date(hist.generatedAt), DT);
-  add("Generated by", opts.by);
+  if (on("slabs")) add("Slabs", hist.slabs.length, N0);
+  if (on("slabs") && on("dispositions")) {
+    add("Slab dispositions", worst.length ? Object.entries(worst.reduce<Record<string, number>>((m, d) => ((m[d] = (m[d] ?? 0) + 1), m), {})).map(([d, c]) => `${DISPOSITION_LABELS[d as Disposition] ?? d}: ${c}`).join(", ") : "none recorded");
+  }
+  if (on("defects")) add("Defects (live)", hist.defects.length, N0);
+  if (on("slabs")) add("Coils and plates traced", hist.slabs.reduce((n, s) => n + s.products.length, 0), N0);
+  if (on("investigations")) add(customer ? "Investigations (this heat)" : "Investigations (this heat or sequence)", hist.investigations.length, N0);
+  if (on("claims")) add("Claims (this heat or sequence)", hist.claims.length, N0);
+  if (on("samples") && hist.samples) add("Process samples in the cast window", hist.samples.count, N0);
+  if (!customer) add("Open in Strandsight", linked(link(`/heats/${encodeURIComponent(h.heatNo)}`), `/heats/${encodeURIComponent(h.heatNo)}`));
+  add(customer ? "Prepared" : "Generated", date(hist.generatedAt), DT);
+  if (!customer) add("Generated by", opts.by);
   add("Times", "UTC");
   add("Caution", "This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.");
   printSetup(sum, title);
 
-  table(wb, "Chemistry", [
-    { header: "Element", key: "element", width: 22 },
-    { header: "Content", key: "value", numFmt: D4 },
-    { header: "Unit", key: "unit" },
-  ], h.chemistry.filter((c) => c.value != null), title);
+  if (on("chemistry")) {
+    table(wb, "Chemistry", [
+      { header: "Element", key: "element", width: 22 },
+      { header: "Content", key: "value", numFmt: D4 },
+      { header: "Unit", key: "unit" },
+    ], h.chemistry.filter((c) => c.value != null), title);
+  }
 
   // Casting conditions: the heat's own values, then each slab's resolved values with their sources.
-  const condCols: Col[] = [
-    { header: "Level", key: "level" },
-    { header: "Slab", key: "slab", width: 16 },
-    ...SLAB_CONDITIONS.flatMap((c) => [
-      { header: `${c.label} (${c.unit})`, key: c.key, numFmt: c.key === "casting_speed_m_min" ? D3 : D1 },
-      { header: `${c.label}: source`, key: `${c.key}__src`, width: 16 },
-    ]),
-  ];
-  const heatRow: Record<string, unknown> = { level: "heat", slab: "(whole heat)" };
-  for (const c of h.conditions) {
-    heatRow[c.key] = c.value;
-    heatRow[`${c.key}__src`] = source(c.source);
+  if (on("conditions")) {
+    const condCols: Col[] = [
+      { header: "Level", key: "level" },
+      { header: "Slab", key: "slab", width: 16 },
+      ...SLAB_CONDITIONS.flatMap((c) => [
+        { header: `${c.label} (${c.unit})`, key: c.key, numFmt: c.key === "casting_speed_m_min" ? D3 : D1 },
+        { header: `${c.label}: source`, key: `${c.key}__src`, width: 16 },
+      ]),
+    ];
+    const heatRow: Record<string, unknown> = { level: "heat", slab: "(whole heat)" };
+    for (const c of h.conditions) {
+      heatRow[c.key] = c.value;
+      heatRow[`${c.key}__src`] = source(c.source);
+    }
+    table(wb, "Casting conditions", condCols, [
+      heatRow,
+      ...(on("slabs") ? hist.slabs : []).map((s) => {
+        const r: Record<string, unknown> = { level: "slab", slab: s.slabId };
+        for (const c of s.conditions) {
+          r[c.key] = c.value;
+          r[`${c.key}__src`] = source(c.source);
+        }
+        return r;
+      }),
+    ], title);
   }
-  table(wb, "Casting conditions", condCols, [
-    heatRow,
-    ...hist.slabs.map((s) => {
-      const r: Record<string, unknown> = { level: "slab", slab: s.slabId };
-      for (const c of s.conditions) {
-        r[c.key] = c.value;
-        r[`${c.key}__src`] = source(c.source);
-      }
-      return r;
-    }),
-  ], title);
 
-  // Process samples of the heat's strands during its cast.
+  // Process samples of the heat's strands during its cast (the internal edition only).
   const sqlite = db.$client;
-  const heatRow2 = sqlite.prepare("select id, cast_start, cast_end from heats where heat_no = ?").get(h.heatNo) as Row;
-  const samples = sqlite
-    .prepare(
-      `select st.strand_no, p.* from process_samples p join strands st on st.id = p.strand_id
-       where p.strand_id in (select distinct strand_id from slabs where heat_id = ?) and p.sampled_at between ? and ? order by st.strand_no, p.sampled_at`,
-    )
-    .all(heatRow2.id, heatRow2.cast_start, heatRow2.cast_end ?? heatRow2.cast_start + 4 * 3600_000) as Row[];
-  table(wb, "Process samples", [
-    { header: "Strand", key: "strand_no" },
-    { header: "Time (UTC)", key: "time", numFmt: DT, width: 18 },
-    { header: "Cast length (m)", key: "cast_length_m", numFmt: D2 },
-    { header: "Casting speed (m/min)", key: "casting_speed_m_min", numFmt: D3 },
-    { header: "Tundish temperature (°C)", key: "tundish_temp_c", numFmt: D1 },
-    { header: "EMBr current (A)", key: "embr_current_a", numFmt: D1 },
-    { header: "SEN depth (mm)", key: "sen_depth_mm", numFmt: D1 },
-    { header: "Argon (NL/min)", key: "argon_nl_min", numFmt: D2 },
-    { header: "Mold level (mm)", key: "mold_level_mm", numFmt: D2 },
-  ], samples.map((s) => ({ ...s, time: new Date(s.sampled_at) })), title);
+  if (on("samples")) {
+    const heatRow2 = sqlite.prepare("select id, cast_start, cast_end from heats where heat_no = ?").get(h.heatNo) as Row;
+    const samples = sqlite
+      .prepare(
+        `select st.strand_no, p.* from process_samples p join strands st on st.id = p.strand_id
+         where p.strand_id in (select distinct strand_id from slabs where heat_id = ?) and p.sampled_at between ? and ? order by st.strand_no, p.sampled_at`,
+      )
+      .all(heatRow2.id, heatRow2.cast_start, heatRow2.cast_end ?? heatRow2.cast_start + 4 * 3600_000) as Row[];
+    table(wb, "Process samples", [
+      { header: "Strand", key: "strand_no" },
+      { header: "Time (UTC)", key: "time", numFmt: DT, width: 18 },
+      { header: "Cast length (m)", key: "cast_length_m", numFmt: D2 },
+      { header: "Casting speed (m/min)", key: "casting_speed_m_min", numFmt: D3 },
+      { header: "Tundish temperature (°C)", key: "tundish_temp_c", numFmt: D1 },
+      { header: "EMBr current (A)", key: "embr_current_a", numFmt: D1 },
+      { header: "SEN depth (mm)", key: "sen_depth_mm", numFmt: D1 },
+      { header: "Argon (NL/min)", key: "argon_nl_min", numFmt: D2 },
+      { header: "Mold level (mm)", key: "mold_level_mm", numFmt: D2 },
+    ], samples.map((s) => ({ ...s, time: new Date(s.sampled_at) })), title);
+  }
 
-  table(wb, "Slabs", [
-    { header: "Slab", key: "slabId", width: 16 },
-    { header: "Strand", key: "strand" },
-    { header: "Piece", key: "pieceNo" },
-    { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
-    { header: "Width (mm)", key: "widthMm", numFmt: N0 },
-    { header: "Thickness (mm)", key: "thicknessMm", numFmt: N0 },
-    { header: "Weight (t)", key: "weightT", numFmt: D2 },
-    { header: "Cast at (UTC)", key: "castAt", numFmt: DT, width: 18 },
-    { header: "Transition slab", key: "transition" },
-    { header: "Disposition", key: "disposition", width: 14 },
-    { header: "Defects", key: "defects", numFmt: N0 },
-    { header: "Coils / plates", key: "products", width: 24 },
-  ], hist.slabs.map((s) => ({ ...s, castAt: date(s.castAt), transition: s.transition ? "yes" : "no", disposition: s.disposition ? (DISPOSITION_LABELS[s.disposition as Disposition] ?? s.disposition) : null, products: s.products.join(", ") })), title);
+  if (on("slabs")) {
+    table(wb, "Slabs", [
+      { header: "Slab", key: "slabId", width: 16 },
+      { header: "Strand", key: "strand" },
+      { header: "Piece", key: "pieceNo" },
+      { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
+      { header: "Width (mm)", key: "widthMm", numFmt: N0 },
+      { header: "Thickness (mm)", key: "thicknessMm", numFmt: N0 },
+      { header: "Weight (t)", key: "weightT", numFmt: D2 },
+      { header: "Cast at (UTC)", key: "castAt", numFmt: DT, width: 18 },
+      { header: "Transition slab", key: "transition" },
+      ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 14 }] : []),
+      { header: "Defects", key: "defects", numFmt: N0 },
+      { header: "Coils / plates", key: "products", width: 24 },
+    ], hist.slabs.map((s) => ({ ...s, castAt: date(s.castAt), transition: s.transition ? "yes" : "no", disposition: s.disposition ? (DISPOSITION_LABELS[s.disposition as Disposition] ?? s.disposition) : null, products: s.products.join(", ") })), title);
+  }
 
   // Defects, with up to three photo thumbnails embedded each (links to the full photos) and a link to the slab.
-  const photoSlots = Math.min(MAX_THUMBS, Math.max(0, ...hist.defects.map((d) => d.photos.length)));
-  const defCols: Col[] = [
-    { header: "Defect id", key: "id" },
-    { header: "Slab", key: "slab", width: 18 },
-    { header: "Type", key: "type" },
-    { header: "Type name", key: "typeName", width: 26 },
-    { header: "Face", key: "face", width: 14 },
-    { header: "From head end (mm)", key: "positionAlongMm", numFmt: N0 },
-    { header: "Across (mm)", key: "positionAcrossMm", numFmt: N0 },
-    { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
-    { header: "Width (mm)", key: "widthMm", numFmt: N0 },
-    { header: "Depth (mm)", key: "depthMm", numFmt: D1 },
-    { header: "Severity", key: "severity", width: 14 },
-    { header: "Found at", key: "stage", width: 14 },
-    { header: "Disposition", key: "disposition", width: 12 },
-    { header: "Review", key: "reviewStatus" },
-    { header: "Found (UTC)", key: "foundAt", numFmt: DT, width: 18 },
-    { header: "Logged by", key: "loggedBy", width: 24 },
-    { header: "Note", key: "note", width: 36 },
-    { header: "Causes (live)", key: "causes", width: 26 },
-    { header: "Photos", key: "photoCount" },
-    ...Array.from({ length: photoSlots }, (_, k) => ({ header: `Photo ${k + 1}`, key: `photo${k}`, width: 16 })),
-  ];
-  const defWs = table(wb, "Defects", defCols, hist.defects.map((d) => ({
-    ...d,
-    slab: { text: d.slabId, hyperlink: link(`/slabs/${encodeURIComponent(d.slabId)}`) },
-    face: FACE_LABELS[d.face as Face] ?? d.face,
-    severity: `${d.severity} ${SEVERITY_LABELS[d.severity as Severity] ?? ""}`.trim(),
-    stage: STAGE_LABELS[d.stage as Stage] ?? d.stage,
-    disposition: DISPOSITION_LABELS[d.disposition as Disposition] ?? d.disposition,
-    foundAt: date(d.foundAt),
-    causes: d.causes.join(", "),
-    photoCount: d.photos.length,
-  })), title);
-  const firstPhotoCol = defCols.findIndex((c) => c.key === "photo0");
-  const thumbOf = sqlite.prepare("select thumb_file from defect_photos where id = ?").pluck();
-  hist.defects.forEach((d, i) => {
-    d.photos.slice(0, photoSlots).forEach((p, k) => {
-      const file = thumbOf.get(p.id) as string | undefined;
-      const full = file ? path.join(opts.uploadDir, file) : null;
-      if (!full || !fs.existsSync(full)) return;
-      const img = wb.addImage({ buffer: fs.readFileSync(full) as never, extension: "jpeg" });
-      const row = defWs.getRow(i + 2);
-      row.height = 62;
-      defWs.addImage(img, { tl: { col: firstPhotoCol + k, row: i + 1 }, ext: { width: 100, height: 75 }, editAs: "oneCell" } as never);
-      row.getCell(firstPhotoCol + k + 1).value = { text: "open photo", hyperlink: link(p.url) };
+  if (on("defects")) {
+    const photoSlots = on("photos") ? Math.min(MAX_THUMBS, Math.max(0, ...hist.defects.map((d) => d.photos.length))) : 0;
+    const defCols: Col[] = [
+      customer ? { header: "No.", key: "id" } : { header: "Defect id", key: "id" },
+      { header: "Slab", key: "slab", width: 18 },
+      { header: "Type", key: "type" },
+      { header: "Type name", key: "typeName", width: 26 },
+      { header: "Face", key: "face", width: 14 },
+      { header: "From head end (mm)", key: "positionAlongMm", numFmt: N0 },
+      { header: "Across (mm)", key: "positionAcrossMm", numFmt: N0 },
+      { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
+      { header: "Width (mm)", key: "widthMm", numFmt: N0 },
+      { header: "Depth (mm)", key: "depthMm", numFmt: D1 },
+      { header: "Severity", key: "severity", width: 14 },
+      { header: "Found at", key: "stage", width: 14 },
+      ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 12 }] : []),
+      ...(customer ? [] : [{ header: "Review", key: "reviewStatus" }]),
+      { header: "Found (UTC)", key: "foundAt", numFmt: DT, width: 18 },
+      ...(customer ? [] : [{ header: "Logged by", key: "loggedBy", width: 24 }, { header: "Note", key: "note", width: 36 }]),
+      ...(on("causes") ? [{ header: "Causes (live)", key: "causes", width: 26 }] : []),
+      ...(on("photos") ? [{ header: "Photos", key: "photoCount" }] : []),
+      ...Array.from({ length: photoSlots }, (_, k) => ({ header: `Photo ${k + 1}`, key: `photo${k}`, width: 16 })),
+    ];
+    const defWs = table(wb, "Defects", defCols, hist.defects.map((d) => ({
+      ...d,
+      slab: linked(d.slabId, `/slabs/${encodeURIComponent(d.slabId)}`),
+      face: FACE_LABELS[d.face as Face] ?? d.face,
+      severity: `${d.severity} ${SEVERITY_LABELS[d.severity as Severity] ?? ""}`.trim(),
+      stage: STAGE_LABELS[d.stage as Stage] ?? d.stage,
+      disposition: d.disposition ? (DISPOSITION_LABELS[d.disposition as Disposition] ?? d.disposition) : null,
+      foundAt: date(d.foundAt),
+      causes: d.causes.join(", "),
+      photoCount: d.photos.length,
+    })), title);
+    const firstPhotoCol = defCols.findIndex((c) => c.key === "photo0");
+    const thumbOf = sqlite.prepare("select thumb_file from defect_photos where id = ?").pluck();
+    hist.defects.forEach((d, i) => {
+      d.photos.slice(0, photoSlots).forEach((p, k) => {
+        const file = thumbOf.get(p.id) as string | undefined;
+        const full = file ? path.join(opts.uploadDir, file) : null;
+        if (!full || !fs.existsSync(full)) return;
+        const img = wb.addImage({ buffer: fs.readFileSync(full) as never, extension: "jpeg" });
+        const row = defWs.getRow(i + 2);
+        row.height = 62;
+        defWs.addImage(img, { tl: { col: firstPhotoCol + k, row: i + 1 }, ext: { width: 100, height: 75 }, editAs: "oneCell" } as never);
+        row.getCell(firstPhotoCol + k + 1).value = customer ? `photo ${k + 1}` : { text: "open photo", hyperlink: link(p.url) };
+      });
     });
-  });
+  }
 
-  table(wb, "Causes", [
-    { header: "Defect id", key: "defectId" },
-    { header: "Slab", key: "slabId", width: 16 },
-    { header: "Cause tag", key: "tag", width: 24 },
-    { header: "Cause", key: "tagName", width: 28 },
-    { header: "Confidence", key: "confidence" },
-    { header: "Note", key: "note", width: 36 },
-    { header: "Tagged by", key: "by", width: 24 },
-    { header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 },
-    { header: "Removed (UTC)", key: "removedAt", numFmt: DT, width: 18 },
-    { header: "Removed by", key: "removedBy", width: 24 },
-  ], hist.causes.map((c) => ({ ...c, at: date(c.at), removedAt: date(c.removedAt) })), title);
+  if (on("causes")) {
+    table(wb, "Causes", [
+      { header: customer ? "Defect No." : "Defect id", key: "defectId" },
+      { header: "Slab", key: "slabId", width: 16 },
+      { header: "Cause tag", key: "tag", width: 24 },
+      { header: "Cause", key: "tagName", width: 28 },
+      { header: "Confidence", key: "confidence" },
+      ...(customer
+        ? [{ header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 }]
+        : [
+            { header: "Note", key: "note", width: 36 },
+            { header: "Tagged by", key: "by", width: 24 },
+            { header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 },
+            { header: "Removed (UTC)", key: "removedAt", numFmt: DT, width: 18 },
+            { header: "Removed by", key: "removedBy", width: 24 },
+          ]),
+    ], hist.causes.map((c) => ({ ...c, at: date(c.at), removedAt: date(c.removedAt) })), title);
+  }
 
-  table(wb, "Investigations", [
-    { header: "Reference", key: "ref", width: 14 },
-    { header: "Title", key: "title", width: 40 },
-    { header: "Status", key: "status" },
-    { header: "Opened (UTC)", key: "openedAt", numFmt: DT, width: 18 },
-    { header: "Closed (UTC)", key: "closedAt", numFmt: DT, width: 18 },
-    { header: "Confirmed cause", key: "confirmedCause", width: 26 },
-    { header: "Owner", key: "owner", width: 24 },
-    { header: "On this heat", key: "sameHeat" },
-  ], hist.investigations.map((i) => ({ ...i, openedAt: date(i.openedAt), closedAt: date(i.closedAt), sameHeat: i.sameHeat ? "yes" : "no (same sequence)" })), title);
+  if (on("investigations")) {
+    table(wb, "Investigations", [
+      { header: "Reference", key: "ref", width: 14 },
+      { header: "Title", key: "title", width: 40 },
+      { header: "Status", key: "status" },
+      { header: "Opened (UTC)", key: "openedAt", numFmt: DT, width: 18 },
+      { header: "Closed (UTC)", key: "closedAt", numFmt: DT, width: 18 },
+      { header: "Confirmed cause", key: "confirmedCause", width: 26 },
+      ...(customer ? [] : [{ header: "Owner", key: "owner", width: 24 }, { header: "On this heat", key: "sameHeat" }]),
+    ], hist.investigations.map((i) => ({ ...i, openedAt: date(i.openedAt), closedAt: date(i.closedAt), sameHeat: i.sameHeat ? "yes" : "no (same sequence)" })), title);
+  }
 
-  table(wb, "Claims", [
-    { header: "Claim", key: "claimNo", width: 14 },
-    { header: "Customer", key: "customer", width: 28 },
-    { header: "Received", key: "receivedOn", width: 12 },
-    { header: "Defect complained of", key: "defectComplained", width: 36 },
-    { header: "Quantity (t)", key: "quantityT", numFmt: D1 },
-    { header: "Status", key: "status" },
-    { header: "On this heat", key: "sameHeat" },
-    { header: "Slabs of this heat", key: "slabs", width: 30 },
-  ], hist.claims.map((c) => ({ ...c, sameHeat: c.sameHeat ? "yes" : "no (same sequence)", slabs: c.slabs.join(", ") })), title);
+  if (on("claims")) {
+    table(wb, "Claims", [
+      { header: "Claim", key: "claimNo", width: 14 },
+      { header: "Customer", key: "customer", width: 28 },
+      { header: "Received", key: "receivedOn", width: 12 },
+      { header: "Defect complained of", key: "defectComplained", width: 36 },
+      { header: "Quantity (t)", key: "quantityT", numFmt: D1 },
+      { header: "Status", key: "status" },
+      { header: "On this heat", key: "sameHeat" },
+      { header: "Slabs of this heat", key: "slabs", width: 30 },
+    ], hist.claims.map((c) => ({ ...c, sameHeat: c.sameHeat ? "yes" : "no (same sequence)", slabs: c.slabs.join(", ") })), title);
+  }
 
-  table(wb, "Audit trail", [
-    { header: "When (UTC)", key: "at", numFmt: DT, width: 18 },
-    { header: "Who", key: "by", width: 24 },
-    { header: "Action", key: "action", width: 28 },
-    { header: "Record", key: "entity", width: 16 },
-    { header: "Record id", key: "entityId", width: 12 },
-    { header: "Before", key: "before", width: 50 },
-    { header: "After", key: "after", width: 50 },
-  ], hist.audit.map((a) => ({ ...a, at: date(a.at) })), title);
+  if (on("audit")) {
+    table(wb, customer ? "Record of changes" : "Audit trail", [
+      { header: "When (UTC)", key: "at", numFmt: DT, width: 18 },
+      ...(customer ? [] : [{ header: "Who", key: "by", width: 24 }]),
+      { header: "What", key: "what", width: 90 },
+    ], hist.audit.map((a) => ({ ...a, at: date(a.at) })), title);
+  }
 
   // Text that a spreadsheet could take for a formula stays text (OWASP, CSV injection).
   wb.eachSheet((ws) => void guardSheet(ws));

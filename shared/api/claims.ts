@@ -50,10 +50,62 @@ export const claimQuerySchema = z.object({
   q: z.string().trim().max(80).optional(),
 });
 
+// ---------------------------------------------------------------------------------------------
+// The two editions of a heat's history
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * The parts a heat's history can hold. The internal edition holds them all; the customer edition
+ * holds those the claims officer chooses among CUSTOMER_SECTIONS — process samples and the plant's
+ * other claims never leave the plant.
+ */
+export const HISTORY_SECTIONS = ["chemistry", "conditions", "samples", "slabs", "defects", "photos", "dispositions", "causes", "investigations", "claims", "audit"] as const;
+export type HistorySection = (typeof HISTORY_SECTIONS)[number];
+export const CUSTOMER_SECTIONS = ["chemistry", "conditions", "slabs", "defects", "photos", "dispositions", "causes", "investigations", "audit"] as const satisfies readonly HistorySection[];
+export type CustomerSection = (typeof CUSTOMER_SECTIONS)[number];
+/** On unless the officer takes them off; causes, investigations and the audit trail are off unless put on. */
+export const CUSTOMER_DEFAULT_SECTIONS: CustomerSection[] = ["chemistry", "conditions", "slabs", "defects", "photos", "dispositions"];
+export const SECTION_LABELS: Record<HistorySection, string> = {
+  chemistry: "Chemistry",
+  conditions: "Casting conditions",
+  samples: "Process samples",
+  slabs: "Slabs",
+  defects: "Defects",
+  photos: "Defect photos",
+  dispositions: "Dispositions",
+  causes: "Causes",
+  investigations: "Investigations",
+  claims: "Other claims",
+  audit: "Record of changes",
+};
+export const HISTORY_EDITIONS = ["internal", "customer"] as const;
+export type HistoryEdition = (typeof HISTORY_EDITIONS)[number];
+export const EDITION_LABELS: Record<HistoryEdition, string> = { internal: "Internal", customer: "For the customer" };
+
+const editionField = z.enum(HISTORY_EDITIONS, { error: "The edition is internal or customer." });
+/** "chemistry,slabs,…" or a list: the customer edition's parts, each known. */
+const sectionsField = z
+  .union([z.string().max(300), z.array(z.string().max(40)).max(20)])
+  .transform((v) => (Array.isArray(v) ? v : v.split(",")).map((x) => x.trim()).filter(Boolean))
+  .pipe(z.array(z.enum(CUSTOMER_SECTIONS, { error: `A part of the customer edition is one of: ${CUSTOMER_SECTIONS.join(", ")}.` })));
+
+/** GET /heats/:heatNo/history(.xlsx)?edition=&sections=&claim= */
+export const historyEditionQuerySchema = z.object({
+  edition: editionField.default("internal"),
+  /** The customer edition's parts (default CUSTOMER_DEFAULT_SECTIONS); the internal edition holds all. */
+  sections: sectionsField.optional(),
+  /** The claim the history is prepared for: it gives the cover page. */
+  claim: z.coerce.number().int().positive().optional(),
+});
+export type HistoryEditionQuery = z.input<typeof historyEditionQuerySchema>;
+
 export const sendHistorySchema = z.object({
   heatNo: z.string().trim().min(1).max(40),
   to: z.array(z.email({ error: "This is not an e-mail address." })).min(1, "Give at least one recipient.").max(10),
   message: z.string().trim().max(2000).optional(),
+  /** The customer edition unless the officer chooses the internal one. */
+  edition: editionField.default("customer"),
+  sections: sectionsField.optional(),
 });
 
 const person = z.object({ id: z.string(), name: z.string() }).nullable();
@@ -94,8 +146,30 @@ export type Claim = z.infer<typeof claimSchema>;
 const n = z.number().nullable();
 const s = z.string().nullable();
 
+export const historyCoverSchema = z.object({
+  claimNo: z.string(),
+  customer: z.string(),
+  receivedOn: z.string(),
+  defectComplained: z.string(),
+  quantityT: n,
+  /** The claim's coils and plates that come from this heat (traced), and those of other heats or untraced. */
+  products: z.array(z.string()),
+  otherProducts: z.array(z.string()),
+  /** The claim's slabs of this heat. */
+  slabs: z.array(z.string()),
+  preparedBy: z.string(),
+});
+export type HistoryCover = z.infer<typeof historyCoverSchema>;
+
 export const heatHistorySchema = z.object({
   generatedAt: z.string(),
+  edition: z.object({
+    kind: z.enum(HISTORY_EDITIONS),
+    /** The parts this document holds, in HISTORY_SECTIONS order. */
+    sections: z.array(z.enum(HISTORY_SECTIONS)),
+    /** With a claim: the cover page (claim number, customer, coils, dates). */
+    cover: historyCoverSchema.nullable(),
+  }),
   heat: z.object({
     heatNo: z.string(),
     sequenceNo: s,
@@ -121,16 +195,18 @@ export const heatHistorySchema = z.object({
   defects: z.array(
     z.object({
       id: z.number().int(), slabId: z.string(), type: z.string(), typeName: z.string(), face: z.string(), positionAlongMm: n, positionAcrossMm: n,
-      lengthMm: n, widthMm: n, depthMm: n, severity: z.number().int(), stage: z.string(), disposition: z.string(), reviewStatus: z.string(),
+      lengthMm: n, widthMm: n, depthMm: n, severity: z.number().int(), stage: z.string(), disposition: s, reviewStatus: s,
       foundAt: z.string(), loggedBy: s, note: s, causes: z.array(z.string()),
       photos: z.array(z.object({ id: z.string(), url: z.string(), thumbUrl: z.string() })),
     }),
   ),
   causes: z.array(z.object({ defectId: z.number().int(), slabId: z.string(), tag: z.string(), tagName: z.string(), confidence: z.string(), note: s, by: s, at: z.string(), removedAt: s, removedBy: s })),
-  samples: z.object({ count: z.number().int(), strands: z.array(z.number().int()) }),
+  /** Null in the customer edition (the samples stay in the plant). */
+  samples: z.object({ count: z.number().int(), strands: z.array(z.number().int()) }).nullable(),
   investigations: z.array(z.object({ id: z.number().int(), ref: z.string(), title: z.string(), status: z.string(), openedAt: z.string(), closedAt: s, confirmedCause: s, owner: s, sameHeat: z.boolean() })),
   claims: z.array(z.object({ id: z.number().int(), claimNo: z.string(), customer: z.string(), receivedOn: z.string(), defectComplained: z.string(), status: z.string(), quantityT: n, sameHeat: z.boolean(), slabs: z.array(z.string()) })),
-  audit: z.array(z.object({ at: z.string(), by: s, action: z.string(), entity: z.string(), entityId: s, before: s, after: s })),
+  /** The record of changes in words (who, when, what), never the stored internals. */
+  audit: z.array(z.object({ at: z.string(), by: s, what: z.string() })),
 });
 export type HeatHistory = z.infer<typeof heatHistorySchema>;
 

@@ -133,6 +133,13 @@ export const defectListQuerySchema = z.object({
   heat: z.string().trim().max(40).optional(),
   type: z.string().trim().max(16).optional(),
   reviewStatus: reviewStatusSchema.optional(),
+  /** Only entries of at least this severity (1–4). */
+  minSeverity: z.coerce.number().int().min(1, "The least severity is 1 to 4.").max(4, "The least severity is 1 to 4.").optional(),
+  /**
+   * "none": only entries without a live cause tagging, rejected entries left out (they need no
+   * cause) — the process engineer's tagging worklist. "any": only entries with at least one.
+   */
+  causes: z.enum(["none", "any"], { error: "causes is none or any." }).optional(),
   /** By the time found; "severity": the most severe first, the oldest first within a severity. */
   sort: z.enum(["newest", "oldest", "severity"]).default("newest"),
   page: z.coerce.number().int().min(1).max(100_000).default(1),

@@ -1,5 +1,5 @@
 import type { QueryClient } from "@tanstack/react-query";
-import { createBrowserRouter, type LoaderFunction, type RouteObject } from "react-router";
+import { createBrowserRouter, type LoaderFunction, type RouteObject, type ShouldRevalidateFunction } from "react-router";
 import type { ReportKind } from "@/features/reports/components/report-params";
 import { makeLoader as makeFrameLoader } from "./routes/app-layout.loader";
 import { makeLoader as makeHeatsLoader } from "./routes/heats.loader";
@@ -11,6 +11,8 @@ interface RouteModule {
   Component: React.ComponentType;
   makeLoader?: (qc: QueryClient) => LoaderFunction;
   ErrorBoundary?: React.ComponentType;
+  /** A screen whose query string only changes what it asks (not whether it may) keeps its loader's answer. */
+  shouldRevalidate?: ShouldRevalidateFunction;
 }
 
 function lazyRoute(qc: QueryClient, load: () => Promise<RouteModule>, early = false) {
@@ -31,7 +33,7 @@ function lazyRoute(qc: QueryClient, load: () => Promise<RouteModule>, early = fa
       };
     }
     // A route with an early loader has its loader already; the module's is the same and left aside.
-    return { Component: m.Component, loader: early ? undefined : m.makeLoader?.(qc) };
+    return { Component: m.Component, loader: early ? undefined : m.makeLoader?.(qc), ...(m.shouldRevalidate ? { shouldRevalidate: m.shouldRevalidate } : {}) };
   };
 }
 
@@ -95,6 +97,8 @@ export function createRouter(qc: QueryClient) {
     // Signed out on purpose: someone who forgot the password has no session.
     { path: "/forgot-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/forgot-password")) },
     { path: "/reset-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/reset-password")) },
+    // Outside the frame: while a first password set by an administrator is to be replaced, nothing else shows.
+    { path: "/change-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/change-password")) },
     {
       path: "/",
       ErrorBoundary: RootError,
@@ -130,6 +134,7 @@ export function createRouter(qc: QueryClient) {
         { path: "risk-models", lazy: lazyRoute(qc, () => import("./routes/risk-models")) },
         { path: "operating-windows", lazy: lazyRoute(qc, () => import("./routes/operating-windows")) },
         { path: "causes", lazy: lazyRoute(qc, () => import("./routes/causes")) },
+        { path: "causes/untagged", lazy: lazyRoute(qc, () => import("./routes/causes-untagged")) },
         { path: "investigations", lazy: lazyRoute(qc, () => import("./routes/investigations")) },
         { path: "investigations/new", lazy: lazyRoute(qc, () => import("./routes/investigation-new")) },
         { path: "investigations/:id", lazy: lazyRoute(qc, () => import("./routes/investigation")) },

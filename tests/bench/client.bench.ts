@@ -143,7 +143,7 @@ async function loadOnce(browser: Browser, ctxOptions: BrowserContextOptions, url
       for (const e of [...got.all].sort((a, b) => a.start - b.start)) console.log(`      ${e.start.toFixed(0).padStart(6)} → ${e.end.toFixed(0).padStart(6)} ms  ${String(e.wire).padStart(8)} / ${String(e.decoded).padStart(8)} B  ${new URL(e.name).pathname}`);
     }
     const js = got.all.filter((e) => /\.js(\?|$)/.test(new URL(e.name).pathname));
-    const me = got.all.filter((e) => new URL(e.name).pathname === "/api/me");
+    const me = got.all.filter((e) => new URL(e.name).pathname === "/api/session");
     const data = got.all.filter((e) => new URL(e.name).pathname.startsWith(screen.dataPath));
     const route = js.filter((e) => path.basename(new URL(e.name).pathname).startsWith(screen.routeChunk));
     const main = js.filter((e) => /^index-[\w-]+\.js$/.test(path.basename(new URL(e.name).pathname)));

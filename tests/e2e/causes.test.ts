@@ -206,4 +206,75 @@ describe("tagging one defect on its slab", () => {
     expect(errors).toEqual([]);
     await context.close();
   });
+  it("when a process engineer works the list of defects without a cause, then one tagged in place leaves it and the editor moves to the next, and two selected are tagged at once", async () => {
+    const untagged = (extra = "", ...a: unknown[]) =>
+      env.server.db.$client
+        .prepare(
+          `select count(*) from defects d join defect_types t on t.id = d.type_id where d.deleted_at is null and d.review_status <> 'rejected'
+           and not exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null)${extra}`,
+        )
+        .pluck()
+        .get(...a) as number;
+    const type = env.server.db.$client
+      .prepare(
+        `select t.code from defects d join defect_types t on t.id = d.type_id where d.deleted_at is null and d.review_status <> 'rejected'
+         and not exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null) group by t.id having count(*) >= 5 order by count(*) desc limit 1`,
+      )
+      .pluck()
+      .get() as string;
+    const before = untagged(" and t.code = ?", type);
+    const context = await env.browser.newContext({ viewport: TABLET });
+    const page = await context.newPage();
+    page.setDefaultTimeout(15_000);
+    const errors = collectPageErrors(page);
+    await signInAs(page, env.server.baseUrl, "process", TEST_PASSWORD);
+    // From the process home: its count and its link.
+    await page.goto(`${env.server.baseUrl}/process`);
+    await page.getByTestId("process-untagged").getByText(`${untagged().toLocaleString("en-GB")} defect`).waitFor();
+    await page.getByRole("link", { name: "Tag defects without a cause" }).click();
+    await page.getByRole("heading", { level: 1, name: "Defects without a cause" }).waitFor();
+    await page.getByTestId("worklist-type").selectOption(type);
+    await page.waitForURL(new RegExp(`type=${type}`));
+    await page.getByTestId("worklist-count").getByText(`${before.toLocaleString("en-GB")} defect`).waitFor();
+    const rows = page.getByTestId("worklist-row");
+    const firstId = Number(await rows.nth(0).getAttribute("data-defect-id"));
+    const secondId = Number(await rows.nth(1).getAttribute("data-defect-id"));
+
+    // One at a time: tag the first in place; the editor opens on the next defect.
+    await rows.nth(0).getByTestId("worklist-tag").click();
+    const form = page.getByTestId("worklist-tag-form");
+    await form.getByRole("checkbox", { name: /^High superheat/ }).check();
+    await form.getByRole("button", { name: "Add the causes and go to the next" }).click();
+    await page.getByTestId("worklist-done").getByText(/Causes added to .* High superheat\./).waitFor();
+    await page.locator(`[data-testid=worklist-row][data-defect-id="${firstId}"]`).waitFor({ state: "detached" });
+    expect(await page.getByTestId("worklist-tag-form").count()).toBe(1);
+    expect(await page.getByTestId("worklist-tag-form").textContent()).toContain("Causes of");
+    await page.getByTestId("worklist-count").getByText(`${(before - 1).toLocaleString("en-GB")} defect`).waitFor();
+    expect(taggedWith([firstId], "high-superheat")).toBe(1);
+    await snap(page, "worklist-next-tablet");
+    await page.getByTestId("worklist-tag-form").getByRole("button", { name: "Cancel" }).click();
+
+    // In bulk: the next two selected, counted first, then written.
+    const a = Number(await rows.nth(0).getAttribute("data-defect-id"));
+    const b = Number(await rows.nth(1).getAttribute("data-defect-id"));
+    expect(a).toBe(secondId);
+    await rows.nth(0).getByRole("checkbox").check();
+    await rows.nth(1).getByRole("checkbox").check();
+    await page.getByTestId("worklist-selection").getByText("2 defects selected").waitFor();
+    await page.getByTestId("worklist-bulk-open").click();
+    const bulk = page.getByTestId("bulk-tag");
+    await bulk.getByRole("checkbox", { name: /^Ladle change/ }).check();
+    await bulk.getByRole("button", { name: "Count the defects first" }).click();
+    expect(await page.getByTestId("bulk-preview-defects").textContent()).toBe("2 defects");
+    await page.getByTestId("bulk-apply").click();
+    await page.getByTestId("worklist-done").getByText("2 taggings written over 2 defects; they leave this list.").waitFor();
+    await page.getByTestId("worklist-count").getByText(`${(before - 3).toLocaleString("en-GB")} defect`).waitFor();
+    expect(taggedWith([a, b], "ladle-change")).toBe(2);
+    expect(untagged(" and t.code = ?", type)).toBe(before - 3);
+    await snap(page, "worklist-bulk-tablet");
+    await page.setViewportSize(DESKTOP);
+    await snap(page, "worklist-desktop");
+    expect(errors).toEqual([]);
+    await context.close();
+  });
 });

@@ -81,7 +81,7 @@ describe("claims in the browser", () => {
     // The workbook: the server's file name, ten sheets, the Slabs sheet equal to the history's slabs.
     const [download] = await Promise.all([page.waitForEvent("download"), page.getByTestId("export-history").click()]);
     const today = new Date().toISOString().slice(0, 10);
-    expect(download.suggestedFilename()).toBe(`strandsight-heat-${coil.heatNo}-history-${today}.xlsx`);
+    expect(download.suggestedFilename()).toBe(`strandsight-heat-${coil.heatNo}-history-internal-${today}.xlsx`);
     await page.getByTestId("export-history-done").waitFor();
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.readFile((await download.path())!);
@@ -194,7 +194,7 @@ describe("claims in the browser", () => {
     const sent = page.locator("[data-action='claim.history.sent'] [data-testid=claim-history-detail]");
     await sent.waitFor();
     // Queued when answered (sent once the mail worker has passed: either, never "sent" before it is).
-    expect(await sent.textContent()).toMatch(new RegExp(`^Heat ${coil.heatNo} history (queued for e-mail to quality-desk@fjordbay\\.example|sent to quality-desk@fjordbay\\.example \\(\\d{4}-\\d{2}-\\d{2} \\d{2}:\\d{2} UTC\\))$`));
+    expect(await sent.textContent()).toMatch(new RegExp(`^Heat ${coil.heatNo} history \\(customer edition\\) (queued for e-mail to quality-desk@fjordbay\\.example|sent to quality-desk@fjordbay\\.example \\(\\d{4}-\\d{2}-\\d{2} \\d{2}:\\d{2} UTC\\))$`));
     const outbox = env.server.db.$client
       .prepare("select kind, to_addresses as toAddresses, subject, attachments from email_outbox where kind = 'heat_history' order by id desc limit 1")
       .get() as { kind: string; toAddresses: string; subject: string; attachments: string };
@@ -228,6 +228,75 @@ describe("claims in the browser", () => {
     await page.getByRole("alert").filter({ hasText: `A claim ${claimNo} is already on record.` }).first().waitFor();
     expect(new URL(page.url()).pathname).toBe("/claims/new");
 
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
+  it("when a claims officer prepares the customer's history from a claim, then it opens with the claim's cover and the default parts, leaks no name, note or link into the app, takes causes on request, and the internal edition is one click away", async () => {
+    const coil = coilWithDefects();
+    const api = await env.server.agentFor("claims");
+    const created = await api.post("/api/claims").set("Origin", env.server.baseUrl).send({
+      claimNo: `CL-ED-${String(Date.now()).slice(-6)}`, customer: "Northgate Strip (demo)", productIds: [coil.productId], receivedOn: "2026-11-20", defectComplained: "Slivers", quantityT: 18,
+    }).expect(201);
+    const claim = created.body as Claim;
+    // An inspector's note on the heat's first defect: internal, never in the customer's edition.
+    env.server.db.$client
+      .prepare("update defects set note = 'day shift: check the edge again' where id = (select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.found_at, d.id limit 1)")
+      .run(coil.heatNo);
+    const people = env.server.db.$client.prepare("select name from user").pluck().all() as string[];
+    const context = await env.browser.newContext({ viewport: TABLET, acceptDownloads: true });
+    const page = await context.newPage();
+    page.setDefaultTimeout(15_000);
+    const errors = collectPageErrors(page);
+    await signInAs(page, env.server.baseUrl, "claims", TEST_PASSWORD);
+    await page.goto(`${env.server.baseUrl}/claims/${claim.id}`);
+    await page.getByRole("heading", { level: 1, name: `Claim ${claim.claimNo}` }).waitFor();
+    await page.locator(`[data-testid=claim-heat][data-heat="${coil.heatNo}"]`).getByTestId("printable-history").click();
+    await page.waitForURL(new RegExp(`/heats/${coil.heatNo}/history\\?edition=customer&claim=${claim.id}$`));
+    await page.getByTestId("history-cover").waitFor();
+    const article = page.getByTestId("printable-history");
+    expect(await article.getAttribute("data-edition")).toBe("customer");
+    expect(await page.getByTestId("history-cover").locator("[data-field='Claim']").textContent()).toBe(claim.claimNo);
+    expect(await page.getByTestId("history-cover").locator("[data-field='Coils and plates of this heat']").textContent()).toBe(coil.productId);
+    // Summary, chemistry, conditions, slabs, defects: the default parts, nothing else.
+    const titles = async () => (await page.getByTestId("history-part").locator("h2").allTextContents()).map((t) => t.replace(/^\d+\. /, "").replace(/ \(.*$/, ""));
+    expect(await titles()).toEqual(["Summary", "Chemistry", "Casting conditions of the heat", "Slabs", "Defects"]);
+    const text = (await article.textContent()) ?? "";
+    expect(text).not.toContain("day shift: check the edge again");
+    const officer = env.server.db.$client.prepare("select name from user where email like 'claims%' limit 1").pluck().get() as string;
+    for (const who of people.filter((x) => x !== officer)) expect(text, who).not.toContain(who);
+    // No link leads into the application from the document itself.
+    expect(await article.locator("section[data-testid=history-part] a, [data-testid=history-cover] a").count()).toBe(0);
+    await page.waitForLoadState("networkidle");
+    await snap(page, "history-customer-tablet");
+
+    // Causes on request: the part appears and the choice is kept in the address.
+    await page.getByTestId("edition-chooser").getByRole("checkbox", { name: /^Causes/ }).check();
+    await page.waitForURL(/sections=[^&]*causes/);
+    await expect.poll(titles).toEqual(["Summary", "Chemistry", "Casting conditions of the heat", "Slabs", "Defects", "Causes"]);
+
+    // The workbook follows the same choice.
+    const [download] = await Promise.all([page.waitForEvent("download"), page.getByTestId("export-history").click()]);
+    expect(download.suggestedFilename()).toMatch(new RegExp(`^strandsight-heat-${coil.heatNo}-history-claim-${claim.claimNo}-customer-\\d{4}-\\d{2}-\\d{2}\\.xlsx$`));
+    const wb = new ExcelJS.Workbook();
+    await wb.xlsx.readFile((await download.path())!);
+    expect(wb.worksheets.map((w) => w.name)).toEqual(["Cover", "Summary", "Chemistry", "Casting conditions", "Slabs", "Defects", "Causes"]);
+
+    await page.setViewportSize(DESKTOP);
+    await snap(page, "history-customer-desktop");
+    await page.emulateMedia({ media: "print" });
+    await page.setViewportSize({ width: 794, height: 1123 });
+    await snap(page, "history-customer-print");
+    await page.emulateMedia({ media: "screen" });
+    await page.setViewportSize(TABLET);
+
+    // The internal edition: every part, the audit trail in words.
+    await page.getByTestId("edition-chooser").getByRole("radio", { name: /^Internal/ }).check();
+    await expect.poll(() => article.getAttribute("data-edition")).toBe("internal");
+    expect(await titles()).toEqual(["Summary", "Chemistry", "Casting conditions of the heat", "Process samples", "Slabs", "Defects", "Causes", "Investigations", "Claims", "Audit trail"]);
+    const what = await page.locator("[data-testid=audit-row] [data-field=what]").allTextContents();
+    expect(what.length).toBeGreaterThan(0);
+    for (const w of what) expect(w).not.toMatch(/[{}"]|sha256|_id\b/);
     expect(errors).toEqual([]);
     await context.close();
   });

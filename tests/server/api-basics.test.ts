@@ -59,6 +59,17 @@ describe("API basics", () => {
     expect(res.body).toMatchObject({ email: "process@demo.test", roles: ["process"] });
   });
 
+  it("when /api/session is asked signed out, then 200 with me: null; signed in, the same user /api/me gives", async () => {
+    const out = await request(t.app).get("/api/session");
+    expect(out.status).toBe(200);
+    expect(out.body).toEqual({ me: null });
+    const agent = await t.agentFor("quality");
+    const signed = await agent.get("/api/session");
+    expect(signed.status).toBe(200);
+    expect(signed.body.me).toEqual((await agent.get("/api/me")).body);
+    expect(signed.body.me).toMatchObject({ email: "quality@demo.test", roles: ["quality"] });
+  });
+
   it("when a session is close to its end, then the next request extends it and sends a fresh cookie", async () => {
     const agent = await t.agentFor("claims");
     const userId = t.db.$client.prepare("select id from user where email = 'claims@demo.test'").pluck().get();

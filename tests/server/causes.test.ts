@@ -205,6 +205,68 @@ describe("bulk tagging", () => {
   });
 });
 
+describe("the worklist of defects without a cause", () => {
+  const untaggedCount = (extra = "", ...a: unknown[]) =>
+    n(
+      `select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id join defect_types t on t.id = d.type_id
+       where d.deleted_at is null and d.review_status <> 'rejected'
+       and not exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null)${extra}`,
+      ...a,
+    );
+
+  it("when filtered by causes=none, then the total is exactly the live, unrejected defects with no live tagging, narrowed by type, heat and least severity", async () => {
+    const all = await process_.get("/api/defects?causes=none&pageSize=200");
+    expect(all.status).toBe(200);
+    expect(all.body.total).toBe(untaggedCount());
+    expect(all.body.total).toBeGreaterThan(0);
+    expect(all.body.items.every((d: { causes: unknown[]; reviewStatus: string }) => d.causes.length === 0 && d.reviewStatus !== "rejected")).toBe(true);
+
+    const slg = await process_.get("/api/defects?causes=none&type=SLG&minSeverity=2&pageSize=1");
+    expect(slg.body.total).toBe(untaggedCount(" and t.code = 'SLG' and d.severity >= 2"));
+    expect(slg.body.total).toBeLessThan(all.body.total);
+
+    const heat = q(
+      `select h.heat_no from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where d.deleted_at is null and d.review_status <> 'rejected'
+       and not exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null) group by h.id having count(*) >= 2 order by h.id limit 1`,
+    ).heat_no as string;
+    const byHeat = await process_.get(`/api/defects?causes=none&heat=${heat}&sort=severity`);
+    expect(byHeat.body.total).toBe(untaggedCount(" and h.heat_no = ?", heat));
+    const sev = byHeat.body.items.map((d: { severity: number }) => d.severity);
+    expect(sev).toEqual([...sev].sort((a, b) => b - a));
+
+    const tagged = await process_.get("/api/defects?causes=any&pageSize=1");
+    expect(tagged.body.total).toBe(n("select count(*) from defects d where d.deleted_at is null and exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null)"));
+  });
+
+  it("when a listed defect is tagged (one, or several through the list's ids), then it leaves the worklist; a removed tagging brings it back", async () => {
+    const first = await process_.get("/api/defects?causes=none&sort=oldest&pageSize=3");
+    const [a, b, c] = first.body.items as { id: number }[];
+    const before = first.body.total as number;
+    const one = await process_.post(`/api/defects/${a!.id}/causes`).set("Origin", O()).send({ tags: ["ladle-change"], confidence: "suspected" });
+    expect(one.status).toBe(201);
+    const bulk = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "defects", ids: [b!.id, c!.id] }, tags: ["sen-clogging"], confidence: "probable" });
+    expect(bulk.body).toMatchObject({ defects: 2, tagged: 2 });
+    const after = await process_.get("/api/defects?causes=none&sort=oldest&pageSize=3");
+    expect(after.body.total).toBe(before - 3);
+    expect(after.body.items.map((d: { id: number }) => d.id)).not.toContain(a!.id);
+
+    const link = one.body.current[0].id as number;
+    const removed = await process_.delete(`/api/defects/${a!.id}/causes/${link}`).set("Origin", O()).send({ reason: "Wrong ladle" });
+    expect(removed.status).toBe(200);
+    const back = await process_.get("/api/defects?causes=none&pageSize=1");
+    expect(back.body.total).toBe(before - 2);
+  });
+
+  it("when the filter values are wrong, then 400 in plain words", async () => {
+    const sev = await process_.get("/api/defects?causes=none&minSeverity=7");
+    expect(sev.status).toBe(400);
+    expect(JSON.stringify(sev.body.error)).toContain("The least severity is 1 to 4.");
+    const c = await process_.get("/api/defects?causes=some");
+    expect(c.status).toBe(400);
+    expect(JSON.stringify(c.body.error)).toContain("causes is none or any.");
+  });
+});
+
 describe("cause Pareto", () => {
   it("when causes are tagged, then each row counts the distinct live defects per tag, shares add to 1, the cause filter reaches the other reports, and the workbook equals the JSON", async () => {
     const res = await quality.get("/api/reports/cause-pareto?minConfidence=suspected");

@@ -156,14 +156,16 @@ describe("claims", () => {
     const got = one("select * from mail_received where message_id = ?", sent.message_id);
     const att = JSON.parse(got.attachments);
     expect(att).toHaveLength(1);
-    expect(att[0].filename).toMatch(new RegExp(`^strandsight-heat-${heat_no}-history-\\d{4}-\\d{2}-\\d{2}\\.xlsx$`));
+    // The customer edition unless the officer chose the internal one, named for the claim.
+    const claimNo = one("select claim_no from claims where id = ?", claimId).claim_no as string;
+    expect(att[0].filename).toMatch(new RegExp(`^strandsight-heat-${heat_no}-history-claim-${claimNo}-customer-\\d{4}-\\d{2}-\\d{2}\\.xlsx$`));
     expect(att[0].contentType).toBe("application/vnd.openxmlformats-officedocument.spreadsheetml.sheet");
     expect(got.text_body).toContain("As discussed on the phone.");
     // Said as it stood: queued when answered, sent (with the time) once the mail server took it.
-    expect(res.body.claim.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history queued for e-mail to buyer@example.test` });
+    expect(res.body.claim.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history (customer edition) queued for e-mail to buyer@example.test` });
     const after = (await claims.get(`/api/claims/${claimId}`)).body;
     const sentAt = new Date(sent.sent_at).toISOString().slice(0, 16).replace("T", " ");
-    expect(after.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history sent to buyer@example.test (${sentAt} UTC)` });
+    expect(after.history.at(-1)).toMatchObject({ action: "claim.history.sent", detail: `Heat ${heat_no} history (customer edition) sent to buyer@example.test (${sentAt} UTC)` });
   });
 });
 
@@ -305,5 +307,135 @@ describe("the heat history workbook", () => {
     const res = await inspector.get(`/api/heats/${heatNo}/history.xlsx`);
     expect(res.status).toBe(403);
     expect(res.headers["content-type"]).toContain("application/json");
+  });
+});
+
+describe("the two editions of a heat's history", () => {
+  let heatNo: string;
+  let claimId: number;
+  let claimNo: string;
+  const names = () => all("select name, email from user").flatMap((u) => [u.name as string, u.email as string]);
+
+  beforeAll(async () => {
+    heatNo = heatWithDefects().heat_no;
+    const res = await claims.post("/api/claims").set("Origin", O()).send({
+      claimNo: "CL-2026-0950", customer: "Invented Strip Works (demo)", productIds: ["TC-90001", "ZZ-OTHER-1"], receivedOn: "2026-11-30", defectComplained: "Slivers", quantityT: 12.5,
+    });
+    expect(res.status).toBe(201);
+    claimId = res.body.id;
+    claimNo = res.body.claimNo;
+    // An internal note, a cause with its own note, and a review, so there is something internal to keep out.
+    const d = one("select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.found_at, d.id limit 1", heatNo).id as number;
+    t.db.$client.prepare("update defects set note = 'internal: ask the day shift' where id = ?").run(d);
+    const tagged = await process_.post(`/api/defects/${d}/causes`).set("Origin", O()).send({ tags: ["sen-clogging"], confidence: "probable", note: "engineer's private guess" });
+    expect(tagged.status).toBe(201);
+  });
+
+  it("when the internal edition is read, then it holds every part and its audit trail speaks in words: no ids, hashes, keys or JSON", async () => {
+    const res = await claims.get(`/api/heats/${heatNo}/history`);
+    expect(res.status).toBe(200);
+    expect(res.body.edition).toEqual({ kind: "internal", sections: ["chemistry", "conditions", "samples", "slabs", "defects", "photos", "dispositions", "causes", "investigations", "claims", "audit"], cover: null });
+    expect(res.body.audit.length).toBeGreaterThan(0);
+    for (const a of res.body.audit) {
+      expect(Object.keys(a).sort()).toEqual(["at", "by", "what"]);
+      expect(a.what).not.toMatch(/[{}[\]"]|sha256|client_key|type_id|slab_id|_id\b/);
+    }
+    const first = res.body.defects[0];
+    expect(res.body.audit.map((a: { what: string }) => a.what)).toContain(`Tagged ${first.type} on slab ${first.slabId} with the cause SEN clogging (probable)`);
+    // The internal edition still carries the notes, names and review states.
+    expect(first.note).toBe("internal: ask the day shift");
+    expect(first.reviewStatus).not.toBeNull();
+  });
+
+  it("when the customer edition is asked for a claim, then the cover names the claim and its coils of this heat, the default parts only, and nothing internal is in it", async () => {
+    const res = await claims.get(`/api/heats/${heatNo}/history?edition=customer&claim=${claimId}`);
+    expect(res.status).toBe(200);
+    const h = res.body;
+    expect(h.edition.kind).toBe("customer");
+    expect(h.edition.sections).toEqual(["chemistry", "conditions", "slabs", "defects", "photos", "dispositions"]);
+    expect(h.edition.cover).toEqual({
+      claimNo: "CL-2026-0950", customer: "Invented Strip Works (demo)", receivedOn: "2026-11-30", defectComplained: "Slivers", quantityT: 12.5,
+      products: ["TC-90001"], otherProducts: ["ZZ-OTHER-1"], slabs: [heatWithDefects().slab_id], preparedBy: one("select name from user where email like 'claims%' limit 1").name,
+    });
+    const live = n("select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null", heatNo);
+    expect(h.defects.map((d: { id: number }) => d.id)).toEqual(Array.from({ length: live }, (_, i) => i + 1));
+    for (const d of h.defects) expect([d.loggedBy, d.note, d.reviewStatus, d.causes.length]).toEqual([null, null, null, 0]);
+    expect([h.causes, h.investigations, h.claims, h.audit, h.samples]).toEqual([[], [], [], [], null]);
+    expect(h.slabs.every((s: { disposition: string | null }) => s.disposition === null || typeof s.disposition === "string")).toBe(true);
+    // No person of the plant but the officer who prepared it; no internal note.
+    const text = JSON.stringify({ ...h, edition: { ...h.edition, cover: { ...h.edition.cover, preparedBy: "" } } });
+    for (const who of names()) expect(text, who).not.toContain(who);
+    expect(text).not.toContain("ask the day shift");
+    expect(text).not.toContain("private guess");
+  });
+
+  it("when the officer adds causes and the record of changes, then the causes are the live ones without notes or names, and the record keeps only the defects' entries and the claim's own, in words", async () => {
+    const res = await claims.get(`/api/heats/${heatNo}/history?edition=customer&claim=${claimId}&sections=slabs,defects,causes,audit`);
+    expect(res.status).toBe(200);
+    const h = res.body;
+    expect(h.edition.sections).toEqual(["slabs", "defects", "causes", "audit"]);
+    expect([h.heat.chemistry, h.heat.conditions]).toEqual([[], []]);
+    expect(h.causes.length).toBe(n(
+      `select count(*) from defect_causes dc join defects d on d.id = dc.defect_id join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id
+       where h.heat_no = ? and d.deleted_at is null and dc.removed_at is null`, heatNo));
+    for (const c of h.causes) expect([c.note, c.by, c.removedAt]).toEqual([null, null, null]);
+    expect(h.audit.length).toBeGreaterThan(0);
+    for (const a of h.audit) {
+      expect(a.by).toBeNull();
+      // The defects' entries and the claim's own; never another claim's.
+      expect(a.what).toMatch(/^(Logged|Changed|Reviewed|Added|Removed|Tagged|Deleted|Claim CL-2026-0950 )/);
+    }
+    expect(h.audit.map((a: { what: string }) => a.what)).toContain("Claim CL-2026-0950 recorded");
+    const text = JSON.stringify(h);
+    expect(text).not.toContain("private guess");
+    expect(text).not.toMatch(/Claim CL-2026-0901|Investigation INV-/);
+  });
+
+  it("when the customer workbook is downloaded, then it is the cover, the summary and the chosen sheets, without a link into the application, a person's name or an internal column", async () => {
+    const res = await download(claims, `/api/heats/${heatNo}/history.xlsx?edition=customer&claim=${claimId}`);
+    expect(res.status).toBe(200);
+    expect(res.headers["content-disposition"]).toMatch(new RegExp(`strandsight-heat-${heatNo}-history-claim-CL-2026-0950-customer-\\d{4}-\\d{2}-\\d{2}\\.xlsx`));
+    const wb = new ExcelJS.Workbook();
+    await wb.xlsx.load(res.body as never);
+    expect(wb.worksheets.map((w) => w.name)).toEqual(["Cover", "Summary", "Chemistry", "Casting conditions", "Slabs", "Defects"]);
+    const cover = Object.fromEntries(wb.getWorksheet("Cover")!.getSheetValues().slice(2).map((r) => [(r as unknown[])[1], (r as unknown[])[2]]));
+    expect(cover).toMatchObject({ Claim: "CL-2026-0950", Customer: "Invented Strip Works (demo)", "Coils and plates of this heat": "TC-90001", "Other coils and plates of the claim": "ZZ-OTHER-1 (not from this heat)", Edition: "For the customer" });
+    expect(wb.getWorksheet("Defects")!.getRow(1).values).not.toEqual(expect.arrayContaining(["Logged by"]));
+    const headers = (wb.getWorksheet("Defects")!.getRow(1).values as unknown[]).filter(Boolean);
+    expect(headers).not.toContain("Note");
+    expect(headers).not.toContain("Review");
+    expect(headers[0]).toBe("No.");
+    const people = names().filter((x) => x !== cover["Prepared by"]);
+    wb.eachSheet((ws) =>
+      ws.eachRow((row) =>
+        row.eachCell((cell) => {
+          expect(typeof cell.value === "object" && cell.value !== null && "hyperlink" in cell.value, `${ws.name} ${cell.address}`).toBe(false);
+          const text = String(cell.text ?? "");
+          expect(text).not.toContain(O());
+          for (const who of people) expect(text, `${ws.name} ${cell.address}`).not.toContain(who);
+        }),
+      ),
+    );
+  });
+
+  it("when the claim has no slab of the heat or a part is unknown, then 400 in words", async () => {
+    const other = one("select h.heat_no from heats h where not exists (select 1 from slabs s join claim_slabs cs on cs.slab_id = s.id where s.heat_id = h.id and cs.claim_id = ?) limit 1", claimId).heat_no as string;
+    const res = await claims.get(`/api/heats/${other}/history?edition=customer&claim=${claimId}`);
+    expect(res.status).toBe(400);
+    expect(res.body.error).toMatchObject({ code: "claim_not_on_heat", message: `Claim CL-2026-0950 has no slab of heat ${other}: link the slab to the claim first, or prepare the history without the claim.` });
+    const bad = await claims.get(`/api/heats/${heatNo}/history?edition=customer&sections=slabs,samples`);
+    expect(bad.status).toBe(400);
+    expect(JSON.stringify(bad.body.error)).toContain("A part of the customer edition is one of: chemistry, conditions, slabs, defects, photos, dispositions, causes, investigations, audit.");
+  });
+
+  it("when the officer e-mails the internal edition on purpose, then the workbook is the internal one and the mail says it is not for the customer", async () => {
+    const res = await claims.post(`/api/claims/${claimId}/send-history`).set("Origin", O()).send({ heatNo, to: ["quality-desk@example.test"], edition: "internal" });
+    expect(res.status).toBe(202);
+    await t.mailer.processDue();
+    const sent = one("select * from email_outbox where id = ?", res.body.messageId);
+    const got = one("select * from mail_received where message_id = ?", sent.message_id);
+    expect(JSON.parse(got.attachments)[0].filename).toMatch(new RegExp(`^strandsight-heat-${heatNo}-history-internal-`));
+    expect(got.text_body).toContain("This is the internal edition: it is not meant for the customer.");
+    expect(res.body.claim.history.at(-1).detail).toBe(`Heat ${heatNo} history (internal edition) queued for e-mail to quality-desk@example.test`);
   });
 });

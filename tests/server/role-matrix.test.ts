@@ -5,7 +5,7 @@ import request from "supertest";
 import type { AnyRoute } from "../../server/lib/route";
 import { ROLES, type Role } from "../../shared/roles";
 import { buildConfoundedPlant } from "../helpers/confounded-plant";
-import { createTestApp, type TestApp } from "../helpers/test-app";
+import { createTestApp, TEST_PASSWORD, type TestApp } from "../helpers/test-app";
 
 /**
  * Every route the app serves × signed out and each of the five roles. The expected answer of each
@@ -36,6 +36,7 @@ const EVERY_ROLE: Role[] = ["inspector", "quality", "process", "claims", "admin"
 const matrix: Record<string, Row> = {
   "GET /health": { allowed: ["public"], sample: () => ({ path: "/api/health" }) },
   "GET /about": { allowed: ["public"], sample: () => ({ path: "/api/about" }) },
+  "GET /session": { allowed: ["public"], sample: () => ({ path: "/api/session" }) },
   "GET /me": { allowed: ["signed-in"], sample: () => ({ path: "/api/me" }) },
   "GET /admin/users": { allowed: ["admin"], sample: () => ({ path: "/api/admin/users" }) },
   "POST /admin/users": {
@@ -59,6 +60,16 @@ const matrix: Record<string, Row> = {
       for (let i = 0; i < 5; i++) t.auth.signInGuard.failed("process@demo.test", "192.0.2.50");
       const id = t.db.$client.prepare("select id from user where email = 'process@demo.test'").pluck().get() as string;
       return { path: `/api/admin/users/${id}/unlock` };
+    },
+  },
+  "POST /me/password": {
+    allowed: ["signed-in"],
+    sample: () => {
+      // Each role changes its own password again on every call (the agent keeps the fresh session cookie).
+      const current = currentRole ? (ownPasswords[currentRole] ?? TEST_PASSWORD) : TEST_PASSWORD;
+      const next = `matrix-own-password-${++counter}`;
+      if (currentRole) ownPasswords[currentRole] = next;
+      return { path: "/api/me/password", body: { currentPassword: current, newPassword: next } };
     },
   },
   "GET /slabs/search": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/slabs/search?q=L26" }) },
@@ -160,6 +171,8 @@ function defectOf(t: TestApp, email: string) {
   );
 }
 let currentRole: Role | null = null;
+/** Each role's password once POST /me/password has changed it. */
+const ownPasswords: Partial<Record<Role, string>> = {};
 const ownDefect = (t: TestApp) => defectOf(t, `${currentRole ?? "inspector"}@demo.test`);
 const photoOf = (t: TestApp, defectId: number) => {
   const id = crypto.randomUUID();

@@ -7,6 +7,7 @@ import { StatusMark, type EntryStatus } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
 import { Logo } from "@/components/ui/logo";
 import { navFor } from "@/config/nav";
+import { MainMenu } from "../main-menu";
 import { authKeys, useSignOut } from "@/features/auth/api/session";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { plural } from "@/lib/format";
@@ -138,29 +139,15 @@ export function Component() {
             <Logo />
             <span className="text-lg font-bold tracking-tight">Strandsight</span>
           </NavLink>
-          <nav
-            aria-label="Main"
-            className={`order-3 flex w-full flex-wrap ${items.length > 12 ? "gap-0.5" : "gap-1"} pb-1 ${
+          {/* One row: by named groups when every screen would not fit (src/app/main-menu.tsx). */}
+          <MainMenu
+            items={items}
+            roles={me.roles}
+            className={`order-3 w-full pb-1 ${
               // A long menu (the administrator's) takes its own row rather than breaking into two.
               items.length > 6 ? "" : "lg:order-none lg:w-auto lg:flex-1 lg:pb-0"
             }`}
-          >
-            {items.map((i) => (
-              <NavLink
-                key={i.to}
-                to={i.to}
-                end={items.some((o) => o.to.startsWith(i.to + "/"))}
-                className={({ isActive }) =>
-                  // The administrator's long menu packs tighter so it keeps to one row on a wide screen.
-                  `flex min-h-12 items-center whitespace-nowrap rounded-md ${items.length > 12 ? "px-1.5" : "px-3"} text-sm font-semibold ${
-                    isActive ? "bg-strand-700 text-white" : "text-ink-200 hover:bg-ink-800 hover:text-white"
-                  }`
-                }
-              >
-                {i.label}
-              </NavLink>
-            ))}
-          </nav>
+          />
           <div className="ml-auto flex items-center gap-3">
             <div className="text-right leading-tight">
               <div className="text-sm font-semibold" data-testid="user-name">{me.name}</div>
@@ -180,9 +167,10 @@ export function Component() {
       <OfflineBand logs={can(me.roles, "defects.log")} />
       <UpdateBand />
       {about.data?.demo ? (
-        <div className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
+        // A landmark of its own, so a screen reader's tour of the page's regions does not skip it.
+        <aside aria-label="Demo data" className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
           Invented demo plant: every heat, slab, defect, customer and claim shown here is made up.
-        </div>
+        </aside>
       ) : null}
       {confirmSignOut ? (
         <div className="mx-auto w-full max-w-7xl px-4 pt-3" data-testid="sign-out-waiting">

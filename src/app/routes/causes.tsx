@@ -1,5 +1,6 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { Link } from "react-router";
 import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
@@ -34,7 +35,16 @@ export function Component() {
             ? `${tags.filter((t) => !t.retired).length} tags in use, ${tags.filter((t) => t.retired).length} retired. A tag that was ever used can be retired, not deleted: old taggings keep their name.`
             : "The causes defects are tagged with, by group."
         }
-        actions={canEdit && !adding ? <Button onClick={() => setAdding(true)}>New cause tag</Button> : null}
+        actions={
+          canEdit ? (
+            <div className="flex flex-wrap gap-2">
+              <Link to="/causes/untagged" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
+                Defects without a cause
+              </Link>
+              {!adding ? <Button onClick={() => setAdding(true)}>New cause tag</Button> : null}
+            </div>
+          ) : null
+        }
       />
       {!canEdit && me.data ? <Notice>You can read the cause tags; process engineers and administrators maintain them.</Notice> : null}
       {adding && taxonomy.data ? (

@@ -40,9 +40,19 @@ export function Component() {
       <PageHeader
         title={`Claim ${c.claimNo}`}
         subtitle={
-          <span className="inline-flex flex-wrap items-center gap-x-2">
-            {c.customer} · <ClaimStatusMark status={c.status} />
-            {canManage ? null : <span>· you can read it; claims officers change it</span>}
+          // Each separator travels with the item after it, so a wrapped line never ends in a lone "·".
+          <span className="inline-flex flex-wrap items-center gap-x-2" data-testid="claim-subtitle">
+            <span>{c.customer}</span>
+            <span className="inline-flex items-center gap-2 whitespace-nowrap">
+              <span aria-hidden>·</span>
+              <ClaimStatusMark status={c.status} />
+            </span>
+            {canManage ? null : (
+              <span className="inline-flex items-center gap-2">
+                <span aria-hidden>·</span>
+                <span>you can read it; claims officers change it</span>
+              </span>
+            )}
           </span>
         }
       />

@@ -1,10 +1,12 @@
-import type { ReactNode } from "react";
+import { useState, type ReactNode } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
-import { Link, useParams, type LoaderFunctionArgs } from "react-router";
+import { Link, useParams, useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from "react-router";
+import { CUSTOMER_DEFAULT_SECTIONS, CUSTOMER_SECTIONS, SECTION_LABELS, type CustomerSection, type HeatHistory, type HistorySection } from "@shared/api/claims";
 import { Button } from "@/components/ui/button";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { historyKeys } from "@/features/claims/api/claims.queries";
+import { historyKeys, type HistoryEditionChoice } from "@/features/claims/api/claims.queries";
+import { EditionChooser, type EditionValue } from "@/features/claims/components/edition-chooser";
 import { HistoryWorkbookButton } from "@/features/claims/components/history-actions";
 import {
   AuditTable,
@@ -19,18 +21,34 @@ import {
   SlabConditionsTable,
   SlabsTable,
 } from "@/features/claims/components/history-sections";
-import { dateTime, plural } from "@/lib/format";
+import { date, dateTime, day, plural, withUnit } from "@/lib/format";
 import { causeChips } from "../cause-chips";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
+/** The edition asked for in the address: `?edition=customer&sections=…&claim=…`; the internal one otherwise. */
+function editionFrom(params: URLSearchParams): HistoryEditionChoice {
+  const claim = Number(params.get("claim")) || undefined;
+  if (params.get("edition") !== "customer") return claim ? { claim } : {};
+  const raw = params.get("sections");
+  const sections = raw === null ? CUSTOMER_DEFAULT_SECTIONS : CUSTOMER_SECTIONS.filter((x) => raw.split(",").includes(x));
+  return { edition: "customer", sections, ...(claim ? { claim } : {}) };
+}
+
 export function makeLoader(qc: QueryClient) {
-  return async ({ params }: LoaderFunctionArgs) => {
+  return async ({ params, request }: LoaderFunctionArgs) => {
     await requireCapability(qc, "history.export");
-    await qc.ensureQueryData(historyKeys.heat(params.heatNo ?? ""));
+    await qc.ensureQueryData(historyKeys.heat(params.heatNo ?? "", editionFrom(new URL(request.url).searchParams)));
     return null;
   };
 }
+
+/**
+ * Another edition or choice of parts is asked by the screen itself (its query shows the last answer
+ * while the next comes), so the address changing its query does not hold the screen on the loader.
+ */
+export const shouldRevalidate: ShouldRevalidateFunction = ({ currentUrl, nextUrl, defaultShouldRevalidate }) =>
+  currentUrl.pathname === nextUrl.pathname ? false : defaultShouldRevalidate;
 
 /** One part of the paper: a heading and its records; on paper each part starts clear of the last. */
 function Part({ n, title, children, pageBreak = false }: { n: number; title: string; children: ReactNode; pageBreak?: boolean }) {
@@ -44,16 +62,130 @@ function Part({ n, title, children, pageBreak = false }: { n: number; title: str
   );
 }
 
-/** The heat history laid out for paper: the same records, in the same order, as the workbook's ten sheets. */
+/** The claim's cover page: on paper a page of its own. */
+function Cover({ h }: { h: HeatHistory }) {
+  const c = h.edition.cover!;
+  const rows: [string, ReactNode][] = [
+    ["Claim", c.claimNo],
+    ["Customer", c.customer],
+    ["Claim received", day(c.receivedOn)],
+    ["Defect complained of", c.defectComplained],
+    ...(c.quantityT !== null ? ([["Quantity claimed", withUnit(c.quantityT, "t", 1)]] as [string, ReactNode][]) : []),
+    ["Coils and plates of this heat", c.products.join(", ") || "—"],
+    ...(c.otherProducts.length ? ([["Other coils and plates of the claim", `${c.otherProducts.join(", ")} (not from this heat)`]] as [string, ReactNode][]) : []),
+    ["Slabs of this heat in the claim", c.slabs.join(", ")],
+    ["Heat cast", `${dateTime(h.heat.castStart)}${h.heat.castEnd ? ` to ${dateTime(h.heat.castEnd)}` : ""}`],
+    ["Contents", h.edition.sections.map((x) => SECTION_LABELS[x]).join(", ")],
+    ["Prepared", `${date(h.generatedAt)}${c.preparedBy ? ` by ${c.preparedBy}` : ""}`],
+  ];
+  return (
+    <section className="rounded-lg border-2 border-ink-800 bg-white p-5 print:break-after-page print:rounded-none print:border-0 print:p-0" data-testid="history-cover">
+      <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">
+        {h.edition.kind === "customer" ? "Heat history for the customer" : "Heat history — internal edition"}
+      </div>
+      <h2 className="mt-1 text-3xl font-bold tracking-tight text-ink-900">
+        Claim {c.claimNo} · heat {h.heat.heatNo}
+      </h2>
+      <dl className="mt-4 grid gap-x-6 gap-y-2 sm:grid-cols-[auto_1fr]">
+        {rows.map(([k, v]) => (
+          <div key={k} className="contents">
+            <dt className="text-sm font-semibold text-ink-600">{k}</dt>
+            <dd className="text-base text-ink-900" data-field={k}>
+              {v}
+            </dd>
+          </div>
+        ))}
+      </dl>
+    </section>
+  );
+}
+
+/**
+ * The heat history laid out for paper: the same records, in the same order, as the workbook. The
+ * internal edition holds everything; the customer edition, with the claim's cover, the parts the
+ * officer ticks here (the choice stays in the address, so the workbook and a reload match it).
+ */
 export function Component() {
   const { heatNo = "" } = useParams();
-  const hist = useQuery(historyKeys.heat(heatNo));
+  const [params, setParams] = useSearchParams();
+  const choice = editionFrom(params);
+  const [picked, setPicked] = useState<EditionValue>({ edition: choice.edition ?? "internal", sections: choice.sections ?? CUSTOMER_DEFAULT_SECTIONS });
+  const hist = useQuery({ ...historyKeys.heat(heatNo, choice), placeholderData: (previous) => previous });
   if (hist.isPending) return <Spinner label="Loading the heat's history" />;
   if (hist.isError) return <Notice tone="error">{hist.error.message}</Notice>;
   const h = hist.data;
+  const customer = h.edition.kind === "customer";
+  const on = (x: HistorySection) => h.edition.sections.includes(x);
   const heatPath = `/heats/${encodeURIComponent(h.heat.heatNo)}`;
+  const setChoice = (edition: "internal" | "customer", sections: CustomerSection[]) =>
+    setParams(
+      (p) => {
+        const next = new URLSearchParams(p);
+        if (edition === "customer") {
+          next.set("edition", "customer");
+          next.set("sections", sections.join(","));
+        } else {
+          next.delete("edition");
+          next.delete("sections");
+        }
+        return next;
+      },
+      { replace: true },
+    );
+  let n = 0;
+  const parts: ReactNode[] = [];
+  const part = (key: string, title: string, children: ReactNode, pageBreak = false) =>
+    parts.push(
+      <Part key={key} n={++n} title={title} pageBreak={pageBreak}>
+        {children}
+      </Part>,
+    );
+  part("summary", "Summary", <HistoryFacts history={h} />);
+  if (on("chemistry")) part("chemistry", "Chemistry", <ChemistryTable history={h} />);
+  if (on("conditions")) part("conditions", "Casting conditions of the heat", <ConditionsTable history={h} />);
+  if (on("samples")) part("samples", "Process samples", <SamplesLine history={h} />);
+  if (on("slabs")) {
+    part(
+      "slabs",
+      `Slabs (${h.slabs.length})`,
+      <>
+        <SlabsTable history={h} traced={h.edition.cover?.slabs[0] ?? null} />
+        {on("conditions") ? (
+          <>
+            <h3 className="mb-2 mt-4 text-sm font-bold">Each slab's conditions</h3>
+            <div className="overflow-x-auto print:overflow-visible">
+              <SlabConditionsTable history={h} />
+            </div>
+          </>
+        ) : null}
+      </>,
+    );
+  }
+  if (on("defects")) part("defects", `Defects (${h.defects.length})`, <DefectsList history={h} renderCauses={customer ? undefined : causeChips} />, h.defects.length > 0);
+  if (on("causes")) {
+    part(
+      "causes",
+      customer ? `Causes (${plural(h.causes.length, "tagging")})` : `Causes (${plural(h.causes.length, "tagging")}, removed ones included)`,
+      <div className="overflow-x-auto print:overflow-visible">
+        <CausesTable history={h} />
+      </div>,
+    );
+  }
+  if (on("investigations")) part("investigations", customer ? `Investigations (${h.investigations.length}, this heat)` : `Investigations (${h.investigations.length}, this heat or its sequence)`, <RelatedRecords history={h} show="investigations" />);
+  if (on("claims")) part("claims", `Claims (${h.claims.length}, this heat or its sequence)`, <RelatedRecords history={h} show="claims" />);
+  if (on("audit")) {
+    part(
+      "audit",
+      customer ? `Record of changes (${h.audit.length})` : `Audit trail (${h.audit.length})`,
+      <div className="overflow-x-auto print:overflow-visible">
+        <AuditTable history={h} />
+      </div>,
+      h.audit.length > 10,
+    );
+  }
+
   return (
-    <article className="printable-history mx-auto max-w-5xl space-y-5 print:max-w-none print:space-y-4" data-testid="printable-history">
+    <article className="printable-history mx-auto max-w-5xl space-y-5 print:max-w-none print:space-y-4" data-testid="printable-history" data-edition={h.edition.kind}>
       <div className="flex flex-wrap items-center gap-3 print:hidden">
         <Link to={heatPath} className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
           Heat {h.heat.heatNo}
@@ -69,65 +201,49 @@ export function Component() {
             </svg>
             Print or save as PDF
           </Button>
-          <HistoryWorkbookButton heatNo={h.heat.heatNo} label="The same as a workbook (.xlsx)" />
+          <HistoryWorkbookButton heatNo={h.heat.heatNo} label="The same as a workbook (.xlsx)" edition={choice} />
         </div>
       </div>
+      <section className="rounded-lg border border-ink-200 bg-white p-4 print:hidden" aria-label="What this document holds">
+        <EditionChooser
+          name="history"
+          // The choice as ticked, not as last answered, so a tick shows at once (the address follows).
+          value={picked}
+          onChange={(v) => {
+            setPicked(v);
+            setChoice(v.edition, v.sections);
+          }}
+        />
+        {hist.isFetching ? <p className="mt-2 text-xs text-ink-600">Updating…</p> : null}
+      </section>
+      {h.edition.cover ? <Cover h={h} /> : null}
       <header className="border-b-4 border-ink-900 pb-3">
-        <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">Strandsight · heat history</div>
+        <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">
+          Strandsight · heat history{customer ? "" : " · internal edition"}
+        </div>
         <h1 className="text-3xl font-bold tracking-tight text-ink-900">Heat {h.heat.heatNo}</h1>
         <p className="mt-1 text-sm text-ink-700">
-          Prepared {dateTime(h.generatedAt)} (times in this computer's time zone; the workbook gives UTC). Record:{" "}
-          <Link to={heatPath} className="font-semibold text-strand-700 underline">
-            heat page
-          </Link>
-          <PrintUrl path={heatPath} />
+          Prepared {dateTime(h.generatedAt)} (times in this computer's time zone; the workbook gives UTC).
+          {customer ? null : (
+            <>
+              {" "}Record:{" "}
+              <Link to={heatPath} className="font-semibold text-strand-700 underline">
+                heat page
+              </Link>
+              <PrintUrl path={heatPath} />
+            </>
+          )}
         </p>
       </header>
       <Notice tone="caution" title="Procedure">
         This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the
         customer's specification.
       </Notice>
-      <Part n={1} title="Summary">
-        <HistoryFacts history={h} />
-      </Part>
-      <div className="grid gap-5 md:grid-cols-2 print:grid-cols-2">
-        <Part n={2} title="Chemistry">
-          <ChemistryTable history={h} />
-        </Part>
-        <Part n={3} title="Casting conditions of the heat">
-          <ConditionsTable history={h} />
-        </Part>
-      </div>
-      <Part n={4} title="Process samples">
-        <SamplesLine history={h} />
-      </Part>
-      <Part n={5} title={`Slabs (${h.slabs.length})`}>
-        <SlabsTable history={h} />
-        <h3 className="mb-2 mt-4 text-sm font-bold">Each slab's conditions</h3>
-        <div className="overflow-x-auto print:overflow-visible">
-          <SlabConditionsTable history={h} />
-        </div>
-      </Part>
-      <Part n={6} title={`Defects (${h.defects.length})`} pageBreak={h.defects.length > 0}>
-        <DefectsList history={h} renderCauses={causeChips} />
-      </Part>
-      <Part n={7} title={`Causes (${plural(h.causes.length, "tagging")}, removed ones included)`}>
-        <div className="overflow-x-auto print:overflow-visible">
-          <CausesTable history={h} />
-        </div>
-      </Part>
-      <Part n={8} title={`Investigations (${h.investigations.length}, this heat or its sequence)`}>
-        <RelatedRecords history={h} show="investigations" />
-      </Part>
-      <Part n={9} title={`Claims (${h.claims.length}, this heat or its sequence)`}>
-        <RelatedRecords history={h} show="claims" />
-      </Part>
-      <Part n={10} title={`Audit trail (${h.audit.length})`} pageBreak={h.audit.length > 10}>
-        <div className="overflow-x-auto print:overflow-visible">
-          <AuditTable history={h} />
-        </div>
-      </Part>
-      <footer className="border-t border-ink-300 pt-2 text-xs text-ink-600">Strandsight · heat {h.heat.heatNo} · prepared {dateTime(h.generatedAt)}</footer>
+      {parts}
+      <footer className="border-t border-ink-300 pt-2 text-xs text-ink-600">
+        Strandsight · heat {h.heat.heatNo}
+        {h.edition.cover ? ` · claim ${h.edition.cover.claimNo}` : ""} · prepared {dateTime(h.generatedAt)}
+      </footer>
     </article>
   );
 }

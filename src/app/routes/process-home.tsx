@@ -3,6 +3,7 @@ import { Link } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
+import { defectKeys } from "@/features/defects/api/defects.queries";
 import { investigationKeys } from "@/features/investigations/api/investigations.queries";
 import { InvestigationStatusMark, OverdueMark } from "@/features/investigations/components/investigation-marks";
 import { plural } from "@/lib/format";
@@ -17,8 +18,32 @@ export function makeLoader(qc: QueryClient) {
     await requireCapability(qc, "setup.manage");
     void qc.prefetchQuery(plantKeys.setup());
     void qc.prefetchQuery(investigationKeys.list({ status: "active" }));
+    void qc.prefetchQuery(defectKeys.list(UNTAGGED));
     return null;
   };
+}
+
+const UNTAGGED = { causes: "none", sort: "newest", pageSize: 1 } as const;
+
+/** How many defects wait for a cause, and the way to the worklist. */
+function UntaggedLink() {
+  const untagged = useQuery(defectKeys.list(UNTAGGED));
+  return (
+    <div className="flex flex-wrap items-center justify-between gap-3" data-testid="process-untagged">
+      <p className="text-sm text-ink-700">
+        {untagged.isPending
+          ? "Counting the defects without a cause…"
+          : untagged.isError
+            ? untagged.error.message
+            : untagged.data.total
+              ? `${plural(untagged.data.total, "defect")} carry no cause yet.`
+              : "Every live defect carries a cause."}
+      </p>
+      <Link to="/causes/untagged" className="inline-flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
+        Tag defects without a cause
+      </Link>
+    </div>
+  );
 }
 
 /** The engineer's open investigations, those with overdue actions first. */
@@ -84,6 +109,9 @@ export function Component() {
           </div>
         }
       />
+      <Card title="Defects without a cause">
+        <UntaggedLink />
+      </Card>
       <Card title="Investigations">
         <OpenInvestigations />
       </Card>

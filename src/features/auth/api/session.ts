@@ -1,5 +1,5 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
-import { meSchema, type Me } from "@shared/api/users";
+import { sessionSchema, type Me } from "@shared/api/users";
 import { api, ApiError } from "@/lib/api-client";
 import { forgetUser, rememberedUser, rememberUser } from "../remembered-user";
 
@@ -11,8 +11,10 @@ export const authKeys = {
       // Signed out is an answer, not an error: null.
       queryFn: async (): Promise<Me | null> => {
         try {
-          const me = await api("/me", { schema: meSchema });
-          rememberUser(me);
+          // Asked where a signed-out answer is a 200 (me: null), so a signed-out start logs no error.
+          const { me } = await api("/session", { schema: sessionSchema });
+          if (me) rememberUser(me);
+          else forgetUser();
           return me;
         } catch (err) {
           if (err instanceof ApiError && err.status === 401) {

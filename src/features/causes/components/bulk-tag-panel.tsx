@@ -21,6 +21,7 @@ export function BulkTagPanel({
   defectTypes,
   affects,
   onClose,
+  onWritten,
 }: {
   selection: BulkSelection;
   /** "the defects of heat H123": for the headings and the result line. */
@@ -29,6 +30,8 @@ export function BulkTagPanel({
   defectTypes?: { code: string; name: string }[];
   affects: readonly QueryKey[];
   onClose?: () => void;
+  /** Told once the taggings are written (a worklist closes the panel and says so itself). */
+  onWritten?: (result: BulkTagResult) => void;
 }) {
   const taxonomy = useQuery(causeKeys.taxonomy(false));
   const bulk = useBulkTag({ affects });
@@ -50,6 +53,7 @@ export function BulkTagPanel({
       onSuccess: (r) => {
         setWritten(r);
         setPending(null);
+        onWritten?.(r);
       },
     });
   };

@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
 import { z } from "zod";
-import { claimSchema, claimSummarySchema, heatHistorySchema, traceSchema, type Claim, type ClaimCreate } from "@shared/api/claims";
+import { claimSchema, claimSummarySchema, heatHistorySchema, traceSchema, type Claim, type ClaimCreate, type CustomerSection, type HistoryEdition } from "@shared/api/claims";
 import type { ClaimStatus } from "@shared/domain";
 import { api, apiUpload, type UploadProgress } from "@/lib/api-client";
 import { downloadFile, type DownloadProgress } from "@/lib/download";
@@ -23,6 +23,15 @@ export const claimKeys = {
     }),
 };
 
+/** Which edition of a heat's history: the internal one unless the customer's is asked for. */
+export type HistoryEditionChoice = { edition?: HistoryEdition; sections?: CustomerSection[]; claim?: number };
+export const editionQuery = (e: HistoryEditionChoice) =>
+  e.edition === "customer"
+    ? { edition: "customer", ...(e.sections ? { sections: e.sections.join(",") } : {}), ...(e.claim ? { claim: String(e.claim) } : {}) }
+    : e.claim
+      ? { claim: String(e.claim) }
+      : undefined;
+
 /** The trace and a heat's history: read by claims work, changed by every other feature, so kept short-lived. */
 export const historyKeys = {
   all: ["heat-history"] as const,
@@ -32,10 +41,11 @@ export const historyKeys = {
       queryFn: ({ signal }) => api("/trace", { query: { q: q.trim() }, signal, schema: traceSchema }),
       staleTime: 10_000,
     }),
-  heat: (heatNo: string) =>
+  /** The internal edition, or the customer edition with its parts and the claim's cover. */
+  heat: (heatNo: string, edition: HistoryEditionChoice = {}) =>
     queryOptions({
-      queryKey: [...historyKeys.all, "heat", heatNo] as const,
-      queryFn: ({ signal }) => api(`/heats/${encodeURIComponent(heatNo)}/history`, { signal, schema: heatHistorySchema }),
+      queryKey: [...historyKeys.all, "heat", heatNo, edition] as const,
+      queryFn: ({ signal }) => api(`/heats/${encodeURIComponent(heatNo)}/history`, { query: editionQuery(edition), signal, schema: heatHistorySchema }),
       staleTime: 10_000,
     }),
 };
@@ -91,7 +101,7 @@ export const sendHistoryAnswerSchema = z.object({ messageId: z.number().int(), c
 export function useSendHistory(id: number) {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: { heatNo: string; to: string[]; message?: string }) =>
+    mutationFn: (input: { heatNo: string; to: string[]; message?: string; edition: HistoryEdition; sections?: CustomerSection[] }) =>
       api(`/claims/${id}/send-history`, { method: "POST", body: input, schema: sendHistoryAnswerSchema }),
     onSuccess: (answer) => {
       qc.setQueryData(claimKeys.detail(id).queryKey, answer.claim);
@@ -103,9 +113,11 @@ export function useSendHistory(id: number) {
 export function useHistoryWorkbook() {
   const [progress, setProgress] = useState<DownloadProgress | null>(null);
   const mutation = useMutation({
-    mutationFn: (heatNo: string) => {
+    mutationFn: ({ heatNo, edition = {} }: { heatNo: string; edition?: HistoryEditionChoice }) => {
       setProgress({ loaded: 0, fraction: null });
-      return downloadFile(`/heats/${encodeURIComponent(heatNo)}/history.xlsx`, `strandsight-heat-${heatNo}-history.xlsx`, setProgress);
+      const q = editionQuery(edition);
+      const search = q ? `?${new URLSearchParams(q).toString()}` : "";
+      return downloadFile(`/heats/${encodeURIComponent(heatNo)}/history.xlsx${search}`, `strandsight-heat-${heatNo}-history-${edition.edition === "customer" ? "customer" : "internal"}.xlsx`, setProgress);
     },
     onSettled: () => setProgress(null),
   });

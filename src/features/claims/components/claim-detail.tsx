@@ -12,6 +12,7 @@ import { date, dateTime, day, DASH, plural, withUnit } from "@/lib/format";
 import { dispositionLabel } from "@/lib/labels";
 import { useClaimChange, useSendHistory, useUploadClaimAttachments } from "../api/claims.queries";
 import { ClaimStatusMark } from "./claim-marks";
+import { CUSTOMER_DEFAULT, EditionChooser, type EditionValue } from "./edition-chooser";
 import { HistoryWorkbookButton, PrintableHistoryLink, TraceLink } from "./history-actions";
 import { idList } from "./new-claim-form";
 
@@ -24,9 +25,10 @@ function ErrorOf({ change }: { change: Change }) {
   return change.isError ? <Notice tone="error">{change.error.message}</Notice> : null;
 }
 
-function Item({ label, children, testId }: { label: string; children: React.ReactNode; testId?: string }) {
+/** One term and its value: the <div> sits directly in the <dl> (a wide one spans the row through className). */
+function Item({ label, children, testId, className }: { label: string; children: React.ReactNode; testId?: string; className?: string }) {
   return (
-    <div>
+    <div className={className}>
       <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">{label}</dt>
       <dd className="mt-0.5 text-sm text-ink-900" data-testid={testId}>
         {children}
@@ -65,33 +67,31 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
           <Item label="Customer" testId="claim-customer">{claim.customer}</Item>
           <Item label="Received">{day(claim.receivedOn)}</Item>
           <Item label="Quantity">{withUnit(claim.quantityT, "t", 1)}</Item>
-          <div className="col-span-2 md:col-span-3">
-            <Item label="Defect complained of" testId="claim-complaint">{claim.defectComplained}</Item>
-          </div>
-          <div className="col-span-2 md:col-span-3">
-            <Item label="Coils and plates" testId="claim-products">
-              {claim.productIds.length ? (
-                <span className="flex flex-wrap gap-1.5">
-                  {claim.productIds.map((p) => {
-                    const untraced = claim.untracedProducts.includes(p);
-                    return (
-                      <span
-                        key={p}
-                        className={`inline-flex min-h-8 items-center gap-1 rounded-md border px-2 font-mono text-sm ${untraced ? "border-dashed border-ember-600 bg-ember-50" : "border-ink-300 bg-ink-50"}`}
-                        data-testid="claim-product"
-                        data-untraced={untraced ? "true" : "false"}
-                      >
-                        {p}
-                        {untraced ? <span className="font-sans text-xs font-bold text-ember-700">not traced</span> : null}
-                      </span>
-                    );
-                  })}
-                </span>
-              ) : (
-                "none named"
-              )}
-            </Item>
-          </div>
+          <Item label="Defect complained of" testId="claim-complaint" className="col-span-2 md:col-span-3">
+            {claim.defectComplained}
+          </Item>
+          <Item label="Coils and plates" testId="claim-products" className="col-span-2 md:col-span-3">
+            {claim.productIds.length ? (
+              <span className="flex flex-wrap gap-1.5">
+                {claim.productIds.map((p) => {
+                  const untraced = claim.untracedProducts.includes(p);
+                  return (
+                    <span
+                      key={p}
+                      className={`inline-flex min-h-8 items-center gap-1 rounded-md border px-2 font-mono text-sm ${untraced ? "border-dashed border-ember-600 bg-ember-50" : "border-ink-300 bg-ink-50"}`}
+                      data-testid="claim-product"
+                      data-untraced={untraced ? "true" : "false"}
+                    >
+                      {p}
+                      {untraced ? <span className="font-sans text-xs font-bold text-ember-700">not traced</span> : null}
+                    </span>
+                  );
+                })}
+              </span>
+            ) : (
+              "none named"
+            )}
+          </Item>
           <Item label="Recorded">
             {dateTime(claim.createdAt)}
             {claim.createdBy ? <div className="text-xs text-ink-600">by {claim.createdBy.name}</div> : null}
@@ -261,6 +261,7 @@ const recipientsSchema = z.array(z.email()).min(1).max(10);
 
 function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo: string; onClose: () => void }) {
   const send = useSendHistory(claimId);
+  const [edition, setEdition] = useState<EditionValue>(CUSTOMER_DEFAULT);
   const [to, setTo] = useState("");
   const [message, setMessage] = useState("");
   const [problem, setProblem] = useState<string | null>(null);
@@ -268,7 +269,7 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
     return (
       <div className="space-y-2" data-testid="history-sent">
         <Notice tone="ok" title="Queued">
-          The history of heat {heatNo} is queued for {send.variables.to.join(", ")}; see the claim's history below.
+          The {send.variables.edition === "customer" ? "customer" : "internal"} edition of heat {heatNo}'s history is queued for {send.variables.to.join(", ")}; see the claim's history below.
         </Notice>
         <Button variant="ghost" onClick={onClose}>
           Done
@@ -288,7 +289,8 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
         const bad = list.filter((a) => !z.email().safeParse(a).success);
         if (bad.length) return setProblem(`Not an e-mail address: ${bad.join(", ")}.`);
         if (!recipientsSchema.safeParse(list).success) return setProblem("At most 10 recipients at a time.");
-        send.mutate({ heatNo, to: list, message: message.trim() || undefined });
+        if (edition.edition === "customer" && !edition.sections.length) return setProblem("Choose at least one part for the customer.");
+        send.mutate({ heatNo, to: list, message: message.trim() || undefined, edition: edition.edition, sections: edition.edition === "customer" ? edition.sections : undefined });
       }}
     >
       <TextField label="Recipients" type="text" inputMode="email" autoComplete="off" value={to} onChange={(e) => setTo(e.target.value)} hint="E-mail addresses, separated by commas or spaces (up to 10)" />
@@ -298,6 +300,12 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
         </label>
         <textarea id={`send-message-${heatNo}`} rows={3} maxLength={2000} value={message} onChange={(e) => setMessage(e.target.value)} className={areaClass} placeholder="Shown above the standard text; the workbook is attached" />
       </div>
+      <EditionChooser value={edition} onChange={setEdition} name={`send-${heatNo}`} />
+      {edition.edition === "internal" ? (
+        <Notice tone="caution" title="Internal edition">
+          It names the plant's people and holds notes, review states, causes and the plant's other claims: send it only inside the company.
+        </Notice>
+      ) : null}
       {problem ? <Notice tone="error">{problem}</Notice> : null}
       {send.isError ? <Notice tone="error">{send.error.message}</Notice> : null}
       <div className="flex flex-wrap gap-2">
@@ -336,8 +344,8 @@ export function ClaimHeatsCard({ claim, canExport, canSend }: { claim: Claim; ca
                   <TraceLink q={heatNo} label="Open the trace" testId="heat-trace" />
                   {canExport ? (
                     <>
-                      <HistoryWorkbookButton heatNo={heatNo} label="History workbook (.xlsx)" testId="heat-workbook" />
-                      <PrintableHistoryLink heatNo={heatNo} />
+                      <HistoryWorkbookButton heatNo={heatNo} label="Customer's history (.xlsx)" testId="heat-workbook" edition={{ ...CUSTOMER_DEFAULT, claim: claim.id }} />
+                      <PrintableHistoryLink heatNo={heatNo} claimId={claim.id} label="Prepare the customer's history" />
                       {canSend ? (
                         <Button variant="secondary" onClick={() => setSending(heatNo)} disabled={sending === heatNo} data-testid="email-history">
                           E-mail the history

@@ -1,6 +1,6 @@
 import type { ReactNode } from "react";
 import { Link } from "react-router";
-import { CLAIM_STATUS_LABELS, type HeatHistory } from "@shared/api/claims";
+import { CLAIM_STATUS_LABELS, type HeatHistory, type HistorySection } from "@shared/api/claims";
 import { INVESTIGATION_STATUS_LABELS } from "@shared/api/investigations";
 import type { ClaimStatus } from "@shared/domain";
 import type { ConditionSource } from "@shared/variables";
@@ -50,12 +50,12 @@ export function HistoryFacts({ history }: { history: HeatHistory }) {
       <Fact label="Slabs · defects">
         {history.slabs.length} · {history.defects.length}
       </Fact>
-      <div className="col-span-2 md:col-span-4">
+      {history.edition.sections.includes("dispositions") ? <div className="col-span-2 md:col-span-4">
         <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">Slab dispositions</dt>
         <dd className="mt-0.5 text-sm text-ink-900">
           {dispositions.length ? dispositions.map(([d, n]) => `${dispositionLabel(d)}: ${n}`).join(" · ") : "none recorded"}
         </dd>
-      </div>
+      </div> : null}
     </dl>
   );
 }
@@ -126,6 +126,7 @@ function TracedMark() {
 export function SlabsTable({ history, traced }: { history: HeatHistory; traced?: string | null }) {
   if (!history.slabs.length) return <p className="text-sm text-ink-600">No slabs on record for this heat.</p>;
   const cond = (s: HeatHistory["slabs"][number], key: string) => s.conditions.find((c) => c.key === key);
+  const showDispositions = history.edition.sections.includes("dispositions");
   return (
     <div className="space-y-2">
       <div className="overflow-x-auto print:overflow-visible">
@@ -136,7 +137,7 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
               <th className={th}>Slab</th>
               <th className={`${th} text-right`}>T × W × L mm</th>
               <th className={`${th} text-right`}>Weight t</th>
-              <th className={th}>Disposition</th>
+              {showDispositions ? <th className={th}>Disposition</th> : null}
               <th className={`${th} text-right`}>Defects</th>
               <th className={th}>Coils / plates</th>
               {/* The two key conditions where there is room; each slab's full set is in its own table. */}
@@ -164,9 +165,15 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
                     <div className="whitespace-nowrap text-xs text-ink-600">cast {dateTime(s.castAt)}</div>
                   </td>
                   <td className={td}>
-                    <Link to={`/slabs/${encodeURIComponent(s.slabId)}`} className={`${link} inline-flex min-h-11 items-center whitespace-nowrap print:min-h-0`} data-field="slabId">
-                      {s.slabId}
-                    </Link>
+                    {history.edition.kind === "customer" ? (
+                      <span className="whitespace-nowrap font-semibold" data-field="slabId">
+                        {s.slabId}
+                      </span>
+                    ) : (
+                      <Link to={`/slabs/${encodeURIComponent(s.slabId)}`} className={`${link} inline-flex min-h-11 items-center whitespace-nowrap print:min-h-0`} data-field="slabId">
+                        {s.slabId}
+                      </Link>
+                    )}
                     {isTraced ? (
                       <div>
                         <TracedMark />
@@ -182,7 +189,7 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
                     {num(s.thicknessMm)}×{num(s.widthMm)}×{num(s.lengthMm)}
                   </td>
                   <td className={`${td} text-right tabular-nums`} data-field="weightT">{num(s.weightT, 2)}</td>
-                  <td className={td} data-field="disposition">{dispositionLabel(s.disposition)}</td>
+                  {showDispositions ? <td className={td} data-field="disposition">{dispositionLabel(s.disposition)}</td> : null}
                   <td className={`${td} text-right tabular-nums ${s.defects ? "font-semibold" : "text-ink-500"}`} data-field="defects">
                     {s.defects}
                   </td>
@@ -231,6 +238,11 @@ const plainCauses: RenderCauses = (causes) =>
 export function DefectsList({ history, traced, renderCauses = plainCauses }: { history: HeatHistory; traced?: string | null; renderCauses?: RenderCauses }) {
   if (!history.defects.length) return <p className="text-sm text-ink-600">No defect on record for this heat.</p>;
   const causes = liveCauses(history);
+  const on = (x: HistorySection) => history.edition.sections.includes(x);
+  const showDispositions = on("dispositions");
+  const showCauses = on("causes");
+  // The customer edition leads nowhere into the application: the reader has no account.
+  const forCustomer = history.edition.kind === "customer";
   return (
     <ul className="divide-y divide-ink-100" data-testid="history-defects">
       {history.defects.map((d) => (
@@ -243,9 +255,15 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
               <SeverityMark severity={d.severity} />
               <span className="text-sm">
                 on slab{" "}
-                <Link to={`/slabs/${encodeURIComponent(d.slabId)}`} className={link} data-field="slabId">
-                  {d.slabId}
-                </Link>
+                {forCustomer ? (
+                  <span className="font-semibold" data-field="slabId">
+                    {d.slabId}
+                  </span>
+                ) : (
+                  <Link to={`/slabs/${encodeURIComponent(d.slabId)}`} className={link} data-field="slabId">
+                    {d.slabId}
+                  </Link>
+                )}
                 {traced === d.slabId ? <span className="ml-1 text-xs font-bold text-ember-700">(the traced slab)</span> : null}
               </span>
             </div>
@@ -256,26 +274,40 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
             </p>
             <p className="text-sm text-ink-700">
               Found at {stageLabel(d.stage).toLowerCase()} {dateTime(d.foundAt)}
-              {d.loggedBy ? ` by ${d.loggedBy}` : ""} · disposition <span className="font-semibold text-ink-900" data-field="disposition">{dispositionLabel(d.disposition)}</span> ·{" "}
-              {reviewLabel(d.reviewStatus).toLowerCase()}
+              {d.loggedBy ? ` by ${d.loggedBy}` : ""}
+              {showDispositions ? (
+                <>
+                  {" "}· disposition <span className="font-semibold text-ink-900" data-field="disposition">{dispositionLabel(d.disposition)}</span>
+                </>
+              ) : null}
+              {d.reviewStatus ? ` · ${reviewLabel(d.reviewStatus).toLowerCase()}` : ""}
             </p>
             {d.note ? <p className="text-sm italic text-ink-700">“{d.note}”</p> : null}
-            <div className="flex flex-wrap items-center gap-2 text-sm" data-field="causes">
-              <span className="text-xs font-semibold uppercase text-ink-600">Causes</span>
-              {renderCauses(causes.get(d.id) ?? [])}
-            </div>
+            {showCauses ? (
+              <div className="flex flex-wrap items-center gap-2 text-sm" data-field="causes">
+                <span className="text-xs font-semibold uppercase text-ink-600">Causes</span>
+                {renderCauses(causes.get(d.id) ?? [])}
+              </div>
+            ) : null}
           </div>
           {d.photos.length ? (
             <div className="flex flex-wrap items-start gap-2" data-testid="defect-photos">
-              {d.photos.map((p, i) => (
-                <a key={p.id} href={p.url} target="_blank" rel="noreferrer" className="block rounded border border-ink-200" title="Open the photo">
-                  <img src={p.thumbUrl} alt={`Photo ${i + 1} of defect ${d.type} on slab ${d.slabId}`} loading="lazy" className="h-20 w-28 rounded object-cover print:h-24 print:w-32" />
-                </a>
-              ))}
+              {d.photos.map((p, i) => {
+                const img = <img src={p.thumbUrl} alt={`Photo ${i + 1} of defect ${d.type} on slab ${d.slabId}`} loading="lazy" className="h-20 w-28 rounded object-cover print:h-24 print:w-32" />;
+                return forCustomer ? (
+                  <span key={p.id} className="block rounded border border-ink-200">
+                    {img}
+                  </span>
+                ) : (
+                  <a key={p.id} href={p.url} target="_blank" rel="noreferrer" className="block rounded border border-ink-200" title="Open the photo">
+                    {img}
+                  </a>
+                );
+              })}
             </div>
-          ) : (
+          ) : on("photos") ? (
             <span className="text-xs text-ink-500">no photo</span>
-          )}
+          ) : null}
         </li>
       ))}
     </ul>
@@ -294,10 +326,14 @@ export function RelatedRecords({ history, excludeClaimId, show = "both" }: { his
             {history.investigations.map((i) => (
               <li key={i.id} className="rounded-md border border-ink-200 px-3 py-2 text-sm break-inside-avoid" data-testid="history-investigation" data-ref={i.ref}>
                 <div className="flex flex-wrap items-center gap-x-3 gap-y-1">
-                  <Link to={`/investigations/${i.id}`} className={link}>
-                    {i.ref}
-                  </Link>
-                  <SameHeatMark sameHeat={i.sameHeat} />
+                  {history.edition.kind === "customer" ? (
+                    <span className="font-semibold">{i.ref}</span>
+                  ) : (
+                    <Link to={`/investigations/${i.id}`} className={link}>
+                      {i.ref}
+                    </Link>
+                  )}
+                  {history.edition.kind === "customer" ? null : <SameHeatMark sameHeat={i.sameHeat} />}
                   <span className="text-ink-700">{INVESTIGATION_STATUS_LABELS[i.status as keyof typeof INVESTIGATION_STATUS_LABELS] ?? i.status}</span>
                 </div>
                 <div className="text-ink-900">{i.title}</div>
@@ -424,57 +460,25 @@ export function CausesTable({ history }: { history: HeatHistory }) {
   );
 }
 
-const plain = (x: unknown): string =>
-  x === null || x === undefined
-    ? DASH
-    : typeof x === "object"
-      ? Object.entries(x as Record<string, unknown>)
-          .map(([k, v]) => `${k} ${typeof v === "object" && v !== null ? JSON.stringify(v) : String(v)}`)
-          .join(" ")
-      : String(x);
-
-/** before/after as stored: JSON text made readable ("key: value; …"), or as it is when not JSON. */
-function readable(text: string | null): string {
-  if (!text) return "";
-  try {
-    const v = JSON.parse(text) as unknown;
-    if (v && typeof v === "object" && !Array.isArray(v)) {
-      return Object.entries(v as Record<string, unknown>)
-        .map(([k, x]) => `${k}: ${Array.isArray(x) ? x.map(plain).join(", ") : plain(x)}`)
-        .join("; ");
-    }
-    return String(v);
-  } catch {
-    return text;
-  }
-}
-
+/** The record of changes, already in words from the server (who, when, what). */
 export function AuditTable({ history }: { history: HeatHistory }) {
   if (!history.audit.length) return <p className="text-sm text-ink-600">Nothing recorded.</p>;
+  const withWho = history.edition.kind === "internal";
   return (
     <table className="w-full text-xs" data-testid="history-audit">
       <thead>
         <tr className="border-b-2 border-ink-200">
           <th className={th}>When</th>
-          <th className={th}>Who</th>
+          {withWho ? <th className={th}>Who</th> : null}
           <th className={th}>What</th>
-          <th className={th}>Record</th>
-          <th className={th}>Change</th>
         </tr>
       </thead>
       <tbody>
         {history.audit.map((a, i) => (
-          <tr key={i} className="border-b border-ink-100">
+          <tr key={i} className="border-b border-ink-100" data-testid="audit-row">
             <td className={`${td} whitespace-nowrap`}>{dateTime(a.at)}</td>
-            <td className={td}>{a.by ?? "the system"}</td>
-            <td className={td}>{a.action}</td>
-            <td className={`${td} whitespace-nowrap`}>
-              {a.entity} {a.entityId ?? ""}
-            </td>
-            <td className={`${td} break-words`}>
-              {a.before ? <div className="text-ink-600">before: {readable(a.before)}</div> : null}
-              {a.after ? <div>after: {readable(a.after)}</div> : null}
-            </td>
+            {withWho ? <td className={td}>{a.by ?? "the system"}</td> : null}
+            <td className={`${td} break-words`} data-field="what">{a.what}</td>
           </tr>
         ))}
       </tbody>
@@ -483,6 +487,7 @@ export function AuditTable({ history }: { history: HeatHistory }) {
 }
 
 export function SamplesLine({ history }: { history: HeatHistory }) {
+  if (!history.samples) return null;
   return (
     <p className="text-sm text-ink-800" data-testid="history-samples">
       {plural(history.samples.count, "process sample")} in the cast window

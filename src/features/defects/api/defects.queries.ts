@@ -9,7 +9,7 @@ import {
 import { api } from "@/lib/api-client";
 
 /** The list's filters as the client sends them (the schema's input types page and pageSize loosely). */
-export type DefectFilters = Omit<DefectListQuery, "page" | "pageSize"> & { page?: number; pageSize?: number };
+export type DefectFilters = Omit<DefectListQuery, "page" | "pageSize" | "minSeverity"> & { page?: number; pageSize?: number; minSeverity?: number };
 
 export const defectKeys = {
   all: ["defects"] as const,

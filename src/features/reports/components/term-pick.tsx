@@ -62,6 +62,7 @@ export function TermPick({
 }) {
   const ref = useRef<HTMLDetailsElement>(null);
   const labelId = useId();
+  const summaryId = useId();
   useEffect(() => {
     const close = (e: MouseEvent) => {
       if (ref.current?.open && !ref.current.contains(e.target as Node)) ref.current.open = false;
@@ -78,10 +79,11 @@ export function TermPick({
       </span>
       <details ref={ref} className="group relative">
         <summary
-          aria-labelledby={labelId}
+          // The name is the label and then what is chosen, so it holds the words on screen (WCAG 2.5.3).
+          aria-labelledby={`${labelId} ${summaryId}`}
           className="flex min-h-11 cursor-pointer list-none items-center justify-between gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900 [&::-webkit-details-marker]:hidden"
         >
-          <span className={`truncate ${value.length ? "font-semibold" : ""}`} data-testid={testId ? `${testId}-summary` : undefined}>
+          <span id={summaryId} className={`truncate ${value.length ? "font-semibold" : ""}`} data-testid={testId ? `${testId}-summary` : undefined}>
             {termsSummary(value, emptyLabel)}
           </span>
           <svg viewBox="0 0 12 12" className="h-3 w-3 shrink-0 transition-transform group-open:rotate-180" aria-hidden>
