@@ -151,7 +151,8 @@ export function auditWords(a: { action: string; entity: string; entityId: string
         case "claim.history.sent": {
           const to = Array.isArray(after?.to) ? list(after.to as string[]) : "";
           const edition = after?.edition === "customer" ? "customer edition of the " : after?.edition === "internal" ? "internal edition of the " : "";
-          return `Claim ${c}: ${edition}heat ${typeof after?.heatNo === "string" ? after.heatNo : ""} history e-mailed${to ? ` to ${to}` : ""}`;
+          // Recorded when it was queued: whether the mail server took it is the claim's own history.
+          return `Claim ${c}: ${edition}heat ${typeof after?.heatNo === "string" ? after.heatNo : ""} history handed to the mail outbox${to ? ` for ${to}` : ""}`;
         }
         case "claim.attachments.add": {
           const n = arrayLength(a.after);

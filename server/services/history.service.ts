@@ -135,6 +135,10 @@ function customerEdition(full: FullHistory, chosen: CustomerSection[]): HeatHist
   const liveCauses = on.has("causes") ? full.causes.filter((c) => c.removedAt === null && (!defectsOn || number.has(c.defectId))) : [];
   const invs = on.has("investigations") ? full.investigations.filter((i) => i.sameHeat) : [];
   const claimNo = full.edition.cover?.claimNo ?? null;
+  // Causes by their names (the codes are the plant's shorthand); coils only the claim's own (the
+  // heat's other coils may have gone to other customers).
+  const causeName = new Map(full.causes.map((c) => [c.tag, c.tagName]));
+  const claimProducts = new Set(full.edition.cover?.products ?? []);
   return {
     generatedAt: full.generatedAt,
     edition: { kind: "customer", sections, cover: full.edition.cover },
@@ -144,7 +148,12 @@ function customerEdition(full: FullHistory, chosen: CustomerSection[]): HeatHist
       chemistry: on.has("chemistry") ? full.heat.chemistry : [],
     },
     slabs: on.has("slabs")
-      ? full.slabs.map((x) => ({ ...x, disposition: on.has("dispositions") ? x.disposition : null, conditions: on.has("conditions") ? x.conditions : [] }))
+      ? full.slabs.map((x) => ({
+          ...x,
+          disposition: on.has("dispositions") ? x.disposition : null,
+          conditions: on.has("conditions") ? x.conditions : [],
+          products: x.products.filter((p) => claimProducts.has(p)),
+        }))
       : [],
     defects: keptDefects.map((d) => ({
       ...d,
@@ -153,7 +162,7 @@ function customerEdition(full: FullHistory, chosen: CustomerSection[]): HeatHist
       reviewStatus: null,
       loggedBy: null,
       note: null,
-      causes: on.has("causes") ? d.causes : [],
+      causes: on.has("causes") ? d.causes.map((c) => causeName.get(c) ?? c) : [],
       photos: on.has("photos") ? d.photos : [],
     })),
     causes: liveCauses.map((c) => ({ ...c, defectId: number.get(c.defectId) ?? 0, note: null, by: null })),
@@ -435,8 +444,8 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   if (on("slabs") && on("dispositions")) {
     add("Slab dispositions", worst.length ? Object.entries(worst.reduce<Record<string, number>>((m, d) => ((m[d] = (m[d] ?? 0) + 1), m), {})).map(([d, c]) => `${DISPOSITION_LABELS[d as Disposition] ?? d}: ${c}`).join(", ") : "none recorded");
   }
-  if (on("defects")) add("Defects (live)", hist.defects.length, N0);
-  if (on("slabs")) add("Coils and plates traced", hist.slabs.reduce((n, s) => n + s.products.length, 0), N0);
+  if (on("defects")) add(customer ? "Defects" : "Defects (live)", hist.defects.length, N0);
+  if (on("slabs") && !customer) add("Coils and plates traced", hist.slabs.reduce((n, s) => n + s.products.length, 0), N0);
   if (on("investigations")) add(customer ? "Investigations (this heat)" : "Investigations (this heat or sequence)", hist.investigations.length, N0);
   if (on("claims")) add("Claims (this heat or sequence)", hist.claims.length, N0);
   if (on("samples") && hist.samples) add("Process samples in the cast window", hist.samples.count, N0);
@@ -519,7 +528,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
       { header: "Transition slab", key: "transition" },
       ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 14 }] : []),
       { header: "Defects", key: "defects", numFmt: N0 },
-      { header: "Coils / plates", key: "products", width: 24 },
+      { header: customer ? "Coils / plates of the claim" : "Coils / plates", key: "products", width: 24 },
     ], hist.slabs.map((s) => ({ ...s, castAt: date(s.castAt), transition: s.transition ? "yes" : "no", disposition: s.disposition ? (DISPOSITION_LABELS[s.disposition as Disposition] ?? s.disposition) : null, products: s.products.join(", ") })), title);
   }
 
@@ -543,7 +552,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
       ...(customer ? [] : [{ header: "Review", key: "reviewStatus" }]),
       { header: "Found (UTC)", key: "foundAt", numFmt: DT, width: 18 },
       ...(customer ? [] : [{ header: "Logged by", key: "loggedBy", width: 24 }, { header: "Note", key: "note", width: 36 }]),
-      ...(on("causes") ? [{ header: "Causes (live)", key: "causes", width: 26 }] : []),
+      ...(on("causes") ? [{ header: customer ? "Causes" : "Causes (live)", key: "causes", width: 26 }] : []),
       ...(on("photos") ? [{ header: "Photos", key: "photoCount" }] : []),
       ...Array.from({ length: photoSlots }, (_, k) => ({ header: `Photo ${k + 1}`, key: `photo${k}`, width: 16 })),
     ];
@@ -578,7 +587,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
     table(wb, "Causes", [
       { header: customer ? "Defect No." : "Defect id", key: "defectId" },
       { header: "Slab", key: "slabId", width: 16 },
-      { header: "Cause tag", key: "tag", width: 24 },
+      ...(customer ? [] : [{ header: "Cause tag", key: "tag", width: 24 }]),
       { header: "Cause", key: "tagName", width: 28 },
       { header: "Confidence", key: "confidence" },
       ...(customer

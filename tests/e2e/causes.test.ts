@@ -266,8 +266,10 @@ describe("tagging one defect on its slab", () => {
     await bulk.getByRole("checkbox", { name: /^Ladle change/ }).check();
     await bulk.getByRole("button", { name: "Count the defects first" }).click();
     expect(await page.getByTestId("bulk-preview-defects").textContent()).toBe("2 defects");
+    // The count is read against what it counts: the causes and the confidence asked.
+    expect(await page.getByTestId("bulk-preview-causes").textContent()).toBe("Cause: Ladle change, suspected");
     await page.getByTestId("bulk-apply").click();
-    await page.getByTestId("worklist-done").getByText("2 taggings written over 2 defects; they leave this list.").waitFor();
+    await page.getByTestId("worklist-done").getByText("Ladle change: 2 taggings written over 2 defects; they leave this list.").waitFor();
     await page.getByTestId("worklist-count").getByText(`${(before - 3).toLocaleString("en-GB")} defect`).waitFor();
     expect(taggedWith([a, b], "ladle-change")).toBe(2);
     expect(untagged(" and t.code = ?", type)).toBe(before - 3);

@@ -362,6 +362,8 @@ describe("the two editions of a heat's history", () => {
     for (const d of h.defects) expect([d.loggedBy, d.note, d.reviewStatus, d.causes.length]).toEqual([null, null, null, 0]);
     expect([h.causes, h.investigations, h.claims, h.audit, h.samples]).toEqual([[], [], [], [], null]);
     expect(h.slabs.every((s: { disposition: string | null }) => s.disposition === null || typeof s.disposition === "string")).toBe(true);
+    // Coils only the claim's own: the heat's other coils may have gone to other customers.
+    expect(h.slabs.flatMap((s: { products: string[] }) => s.products)).toEqual(["TC-90001"]);
     // No person of the plant but the officer who prepared it; no internal note.
     const text = JSON.stringify({ ...h, edition: { ...h.edition, cover: { ...h.edition.cover, preparedBy: "" } } });
     for (const who of names()) expect(text, who).not.toContain(who);
@@ -379,6 +381,9 @@ describe("the two editions of a heat's history", () => {
       `select count(*) from defect_causes dc join defects d on d.id = dc.defect_id join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id
        where h.heat_no = ? and d.deleted_at is null and dc.removed_at is null`, heatNo));
     for (const c of h.causes) expect([c.note, c.by, c.removedAt]).toEqual([null, null, null]);
+    // On each defect by name, never the tag's code.
+    expect(h.defects.flatMap((d: { causes: string[] }) => d.causes)).toContain("SEN clogging");
+    expect(h.defects.flatMap((d: { causes: string[] }) => d.causes)).not.toContain("sen-clogging");
     expect(h.audit.length).toBeGreaterThan(0);
     for (const a of h.audit) {
       expect(a.by).toBeNull();

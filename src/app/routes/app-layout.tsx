@@ -1,6 +1,6 @@
 import { useEffect, useState } from "react";
 import { useQuery } from "@tanstack/react-query";
-import { Link, NavLink, Outlet, useLocation, useNavigate, useNavigation } from "react-router";
+import { Link, NavLink, Outlet, useLocation, useNavigate, useNavigation, useNavigationType } from "react-router";
 import { can, ROLE_LABELS } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { StatusMark, type EntryStatus } from "@/components/ui/marks";
@@ -196,7 +196,24 @@ export function Component() {
       {navigation.state === "loading" ? <div className="h-1 animate-pulse bg-strand-500 print:hidden" aria-hidden /> : <div className="h-1 print:hidden" aria-hidden />}
       <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6 print:max-w-none print:p-0">
         <Outlet />
+        <ScrollToTop />
       </main>
     </div>
   );
+}
+
+/**
+ * A new screen opens at its top (the page otherwise keeps the last screen's scroll, and a slab opened
+ * from the yard's list lands halfway down). Only when the path changes: a screen that keeps its
+ * filters in the query string (reports, worklists, the history's parts) stays put while they change;
+ * Back and Forward are left to the browser. (React Router's ScrollRestoration does this too, but
+ * costs the inspector's first load its 200 kB budget.)
+ */
+function ScrollToTop() {
+  const { pathname } = useLocation();
+  const how = useNavigationType();
+  useEffect(() => {
+    if (how !== "POP") scrollTo(0, 0);
+  }, [pathname, how]);
+  return null;
 }

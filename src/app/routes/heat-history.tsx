@@ -194,6 +194,14 @@ export function Component() {
         <Link to={`/trace?q=${encodeURIComponent(h.heat.heatNo)}`} className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
           Trace
         </Link>
+        {choice.claim && h.edition.cover ? (
+          <>
+            <span className="text-ink-400">·</span>
+            <Link to={`/claims/${choice.claim}`} className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2" data-testid="history-back-to-claim">
+              Back to claim {h.edition.cover.claimNo}
+            </Link>
+          </>
+        ) : null}
         <div className="ml-auto flex flex-wrap items-start gap-2">
           <Button onClick={() => window.print()} data-testid="print-history">
             <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden>

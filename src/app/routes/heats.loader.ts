@@ -1,6 +1,5 @@
 import type { QueryClient } from "@tanstack/react-query";
 import type { LoaderFunctionArgs } from "react-router";
-import { heatKeys } from "@/features/heats/api/heats.queries";
 import { readHeatListParams } from "@/features/heats/components/heat-list-params";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { requireCapability } from "../guard";
@@ -12,7 +11,11 @@ import { requireCapability } from "../guard";
 export function makeLoader(qc: QueryClient) {
   return async ({ request }: LoaderFunctionArgs) => {
     await requireCapability(qc, "heats.browse");
-    void qc.prefetchQuery(heatKeys.list(readHeatListParams(new URL(request.url).searchParams)));
+    // The list's query (and its schemas) comes in a small chunk of its own, fetched beside the
+    // screen's code: kept out of the app's first script, which every role — the inspector's tablet
+    // first — loads.
+    const params = readHeatListParams(new URL(request.url).searchParams);
+    void import("@/features/heats/api/heats.queries").then(({ heatKeys }) => qc.prefetchQuery(heatKeys.list(params)));
     void qc.prefetchQuery(plantKeys.setup());
     return null;
   };

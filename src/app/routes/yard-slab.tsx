@@ -1,4 +1,4 @@
-import { useEffect, useState } from "react";
+import { useEffect, useRef, useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link, useLocation, useNavigate, useParams, useSearchParams, type LoaderFunctionArgs } from "react-router";
 import type { YardSlab } from "@shared/api/yard";
@@ -96,6 +96,12 @@ export function Component() {
   const entryKey = search.get("entry");
   const editing = useQuery({ ...defectKeys.detail(editId ?? 0), enabled: editId !== null });
   const [flash, setFlash] = useState<string | null>(null);
+  // The word that an entry was saved is where the eye is: scrolled into view after the form's own
+  // scroll back to its top (which alone left the word just above the screen's edge).
+  const flashRef = useRef<HTMLDivElement>(null);
+  useEffect(() => {
+    if (flash) flashRef.current?.scrollIntoView({ behavior: "smooth" });
+  }, [flash]);
   // A message handed over by navigate(…, { state }) after a change or a fix; the screen stays mounted.
   const handedOver = (location.state as { flash?: string } | null)?.flash;
   useEffect(() => {
@@ -226,7 +232,7 @@ export function Component() {
       <SlabIdFixes entries={refusedHere} onFixed={onFixed} linkToEntry={false} />
       <OutboxStatus outbox={outbox} />
       {flash ? (
-        <div data-testid="flash" className="space-y-2">
+        <div data-testid="flash" className="scroll-mt-3 space-y-2" ref={flashRef}>
           <Notice tone="ok" title="Saved">
             {flash}{" "}
             <button type="button" className="ml-2 min-h-12 font-semibold underline" onClick={() => setFlash(null)}>

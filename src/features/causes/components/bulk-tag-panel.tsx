@@ -30,8 +30,8 @@ export function BulkTagPanel({
   defectTypes?: { code: string; name: string }[];
   affects: readonly QueryKey[];
   onClose?: () => void;
-  /** Told once the taggings are written (a worklist closes the panel and says so itself). */
-  onWritten?: (result: BulkTagResult) => void;
+  /** Told once the taggings are written, with the causes' names (a worklist closes the panel and says so itself). */
+  onWritten?: (result: BulkTagResult, causes: string[]) => void;
 }) {
   const taxonomy = useQuery(causeKeys.taxonomy(false));
   const bulk = useBulkTag({ affects });
@@ -53,11 +53,13 @@ export function BulkTagPanel({
       onSuccess: (r) => {
         setWritten(r);
         setPending(null);
-        onWritten?.(r);
+        onWritten?.(r, namesOf(pending.input.tags));
       },
     });
   };
 
+  // What is asked, in the taxonomy's names, so the count is read against the choice it counts.
+  const namesOf = (codes: string[]) => codes.map((c) => taxonomy.data?.groups.flatMap((g) => g.tags).find((t) => t.code === c)?.name ?? c);
   if (taxonomy.isPending) return <Spinner label="Loading the cause tags" />;
   if (taxonomy.isError) return <Notice tone="error">{taxonomy.error.message}</Notice>;
   return (
@@ -78,6 +80,10 @@ export function BulkTagPanel({
             <strong data-testid="bulk-preview-defects">{plural(pending.preview.defects, "defect")}</strong> of {describe} would be tagged:{" "}
             <strong data-testid="bulk-preview-tagged">{plural(pending.preview.tagged, "new or changed tagging")}</strong>,{" "}
             <span data-testid="bulk-preview-unchanged">{pending.preview.unchanged.toLocaleString("en-GB")} already as asked</span>. Nothing is written yet.
+          </p>
+          <p className="text-sm" data-testid="bulk-preview-causes">
+            {pending.input.tags.length === 1 ? "Cause" : "Causes"}: <strong>{namesOf(pending.input.tags).join(", ")}</strong>, {pending.input.confidence}
+            {pending.input.note ? ` — “${pending.input.note}”` : ""}
           </p>
           {pending.preview.sample.length ? (
             <div>

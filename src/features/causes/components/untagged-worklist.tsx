@@ -228,9 +228,7 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
       <Filters key={filters.heat} types={types} filters={filters} set={set} />
       {done ? (
         <div data-testid="worklist-done">
-          <Notice tone="ok" title="Tagged">
-            {done}
-          </Notice>
+          <Notice tone="ok">{done}</Notice>
         </div>
       ) : null}
       {list.isPending ? <Spinner label="Loading the defects without a cause" /> : null}
@@ -263,9 +261,9 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
             describe={`the ${plural(shownSelected.length, "selected defect")}`}
             affects={AFFECTS}
             onClose={() => setBulkOpen(false)}
-            onWritten={(r: BulkTagResult) => {
+            onWritten={(r: BulkTagResult, causes: string[]) => {
               setBulkOpen(false);
-              afterTagged(shownSelected, `${plural(r.tagged, "tagging")} written over ${plural(r.defects, "defect")}; they leave this list.`);
+              afterTagged(shownSelected, `${causes.join(", ")}: ${plural(r.tagged, "tagging")} written over ${plural(r.defects, "defect")}; they leave this list.`);
             }}
           />
         </Card>

@@ -4,7 +4,7 @@ export type EditionValue = { edition: HistoryEdition; sections: CustomerSection[
 export const CUSTOMER_DEFAULT: EditionValue = { edition: "customer", sections: CUSTOMER_DEFAULT_SECTIONS };
 
 const EDITION_HINTS: Record<HistoryEdition, string> = {
-  customer: "The parts you choose, with a cover page; no names, notes, review states or links into Strandsight.",
+  customer: "The parts you choose, with a cover page naming you; no other names, no notes, review states, other coils or links into Strandsight.",
   internal: "Everything on record, the record of changes in words. Not for the customer.",
 };
 /** Off by default in the customer edition: say why someone might still add them. */

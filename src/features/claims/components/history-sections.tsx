@@ -30,6 +30,7 @@ export function PrintUrl({ path }: { path: string }) {
 
 export function HistoryFacts({ history }: { history: HeatHistory }) {
   const h = history.heat;
+  const on = (x: HistorySection) => history.edition.sections.includes(x);
   const dispositions = Object.entries(
     history.slabs.reduce<Record<string, number>>((m, s) => {
       if (s.disposition) m[s.disposition] = (m[s.disposition] ?? 0) + 1;
@@ -47,10 +48,17 @@ export function HistoryFacts({ history }: { history: HeatHistory }) {
       <Fact label="Cast start">{dateTime(h.castStart)}</Fact>
       <Fact label="Cast end">{dateTime(h.castEnd)}</Fact>
       <Fact label="Ladle weight">{withUnit(h.ladleWeightT, "t", 1)}</Fact>
-      <Fact label="Slabs · defects">
-        {history.slabs.length} · {history.defects.length}
-      </Fact>
-      {history.edition.sections.includes("dispositions") ? <div className="col-span-2 md:col-span-4">
+      {/* Only what the document holds: a customer edition without its slabs says nothing of them. */}
+      {on("slabs") && on("defects") ? (
+        <Fact label="Slabs · defects">
+          {history.slabs.length} · {history.defects.length}
+        </Fact>
+      ) : on("slabs") ? (
+        <Fact label="Slabs">{history.slabs.length}</Fact>
+      ) : on("defects") ? (
+        <Fact label="Defects">{history.defects.length}</Fact>
+      ) : null}
+      {on("slabs") && on("dispositions") ? <div className="col-span-2 md:col-span-4">
         <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">Slab dispositions</dt>
         <dd className="mt-0.5 text-sm text-ink-900">
           {dispositions.length ? dispositions.map(([d, n]) => `${dispositionLabel(d)}: ${n}`).join(" · ") : "none recorded"}

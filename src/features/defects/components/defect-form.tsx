@@ -127,7 +127,6 @@ export function DefectForm({
   const [saving, setSaving] = useState(false);
   const [confirmPhoto, setConfirmPhoto] = useState<string | null>(null);
   const [askRolled, setAskRolled] = useState(false);
-  const top = useRef<HTMLDivElement>(null);
   const update = useUpdateDefect();
   const deletePhoto = useDeletePhoto();
 
@@ -200,7 +199,7 @@ export function DefectForm({
         setDraft(emptyDraft(draft.stage));
         setPhotos([]);
         setErrors({});
-        top.current?.scrollIntoView({ behavior: "smooth", block: "start" });
+        // The screen scrolls to its word that the entry was saved, just above the emptied form.
       }
     } catch (err) {
       setFailure(err instanceof Error ? err.message : String(err));
@@ -222,7 +221,7 @@ export function DefectForm({
     mode.kind === "new" ? (saving ? "Saving…" : "Save defect") : mode.kind === "fix" ? (saving ? "Saving…" : "Save and send again") : saving ? "Saving…" : "Save changes";
 
   return (
-    <div className="space-y-4" ref={top}>
+    <div className="space-y-4">
       {mode.kind === "fix" && mode.entry.blocked ? (
         <Notice tone="error" title="The server refused this entry">
           {mode.entry.blocked.message} Change what it names and save: the entry is sent again.
