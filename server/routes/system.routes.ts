@@ -1,11 +1,20 @@
 import { healthSchema } from "@shared/api/common";
 import { aboutSchema } from "@shared/api/plant";
 import { meSchema, sessionSchema } from "@shared/api/users";
-import { ROLE_LABELS } from "@shared/roles";
+import { ROLE_LABELS, type Role } from "@shared/roles";
 import { PUBLISHED_DEMO_PASSWORD } from "../env";
 import { defineRoute } from "../lib/route";
 import { DEMO_USERS } from "../seed/catalogue";
 import type { Deps } from "./deps";
+
+/** The signed-in person as /me and /session give them; the must-change mark only while it holds. */
+const meOf = (user: { id: string; name: string; email: string; roles: Role[]; mustChangePassword?: boolean }) => ({
+  id: user.id,
+  name: user.name,
+  email: user.email,
+  roles: user.roles,
+  ...(user.mustChangePassword ? { mustChangePassword: true as const } : {}),
+});
 
 export function systemRoutes({ db, env }: Deps) {
   return [
@@ -25,8 +34,8 @@ export function systemRoutes({ db, env }: Deps) {
       tag: "system",
       access: "signed-in",
       responses: { 200: { description: "The user.", schema: meSchema } },
-      // The must-change mark only while it holds: the client then shows nothing but the change screen.
-      handler: ({ user }) => ({ id: user.id, name: user.name, email: user.email, roles: user.roles, ...(user.mustChangePassword ? { mustChangePassword: true as const } : {}) }),
+      // The client shows nothing but the change screen while the must-change mark holds.
+      handler: ({ user }) => meOf(user),
     }),
     defineRoute({
       method: "get",
@@ -35,9 +44,7 @@ export function systemRoutes({ db, env }: Deps) {
       tag: "system",
       access: "public",
       responses: { 200: { description: "The session, or me: null.", schema: sessionSchema } },
-      handler: ({ user }) => ({
-        me: user ? { id: user.id, name: user.name, email: user.email, roles: user.roles, ...(user.mustChangePassword ? { mustChangePassword: true as const } : {}) } : null,
-      }),
+      handler: ({ user }) => ({ me: user ? meOf(user) : null }),
     }),
     defineRoute({
       method: "get",

@@ -52,6 +52,11 @@ export function homeFor(roles: Role[]): string {
 }
 
 /** Whether a path of the navigation is open to these roles (paths outside it are left to their screen). */
+/** The `next` a sign-in page was given, when it is a screen of this app the person may open; else null. */
+export function safeNext(next: string | null, roles: Role[]): string | null {
+  return next && next.startsWith("/") && !next.startsWith("//") && next !== "/" && canOpen(roles, next.split("?")[0]!) ? next : null;
+}
+
 export function canOpen(roles: Role[], path: string): boolean {
   // The most specific item wins: /quality/catalogue is the catalogue's, not the Quality home's.
   const item = [...NAV_ITEMS]

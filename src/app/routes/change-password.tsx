@@ -1,9 +1,10 @@
 import { useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
-import { redirect, useNavigate, useSearchParams, type LoaderFunctionArgs } from "react-router";
+import { useNavigate, useSearchParams, type LoaderFunctionArgs } from "react-router";
 import { Button } from "@/components/ui/button";
 import { Logo } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { canOpen, homeFor } from "@/config/nav";
+import { homeFor, safeNext } from "@/config/nav";
+import { signedInOrToSignIn } from "./app-layout.loader";
 import { authKeys, useSignOut } from "@/features/auth/api/session";
 import { OwnPasswordForm } from "@/features/users/components/own-password-form";
 
@@ -16,11 +17,7 @@ export { RouteError as ErrorBoundary } from "./route-error";
  */
 export function makeLoader(qc: QueryClient) {
   return async ({ request }: LoaderFunctionArgs) => {
-    const me = await qc.ensureQueryData(authKeys.me());
-    if (!me) {
-      const url = new URL(request.url);
-      throw redirect(`/sign-in?next=${encodeURIComponent(url.pathname + url.search)}`);
-    }
+    await signedInOrToSignIn(qc, request);
     return null;
   };
 }
@@ -40,8 +37,8 @@ export function Component() {
     const now = await qc.ensureQueryData(authKeys.me());
     const roles = now?.roles ?? me.roles;
     const next = sp.get("next");
-    const safeNext = next && next.startsWith("/") && !next.startsWith("//") && next !== "/" && !next.startsWith("/change-password") && canOpen(roles, next.split("?")[0]!);
-    navigate(safeNext ? next : homeFor(roles), { replace: true });
+    const to = next?.startsWith("/change-password") ? null : safeNext(next, roles);
+    navigate(to ?? homeFor(roles), { replace: true });
   };
 
   return (

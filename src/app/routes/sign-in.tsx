@@ -7,7 +7,7 @@ import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Logo } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { canOpen, homeFor } from "@/config/nav";
+import { homeFor, safeNext } from "@/config/nav";
 import { authKeys, useSignIn } from "@/features/auth/api/session";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { ApiError } from "@/lib/api-client";
@@ -33,8 +33,7 @@ export function Component() {
     const me = await qc.fetchQuery(authKeys.me());
     const roles = me?.roles ?? [];
     const next = params.get("next");
-    const safeNext = next && next.startsWith("/") && !next.startsWith("//") && next !== "/" && canOpen(roles, next.split("?")[0]!);
-    navigate(safeNext ? next : homeFor(roles), { replace: true });
+    navigate(safeNext(next, roles) ?? homeFor(roles), { replace: true });
   });
 
   const error = signIn.error instanceof ApiError ? signIn.error.message : signIn.error ? "Sign-in failed." : null;
