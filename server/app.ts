@@ -9,7 +9,9 @@ import type { Db } from "./db/client";
 import { originPolicyOf, type Env } from "./env";
 import type { Logger } from "./lib/logger";
 import { PROJECT_ROOT } from "./lib/paths";
+import { can } from "@shared/roles";
 import { mountRoutes, type AnyRoute } from "./lib/route";
+import { createScreenPages } from "./lib/screen-preload";
 import { authContext } from "./middleware/auth-context";
 import { authDoor } from "./middleware/auth-door";
 import { apiNotFound, errorHandler } from "./middleware/error-handler";
@@ -226,16 +228,20 @@ export function createApp(opts: AppOptions) {
     });
     const fresh = freshPrecompressed(CLIENT_DIST);
     app.use(fresh, client);
-    // Every other address is a screen of the app: index.html, compressed like the rest.
-    app.get(
-      "/{*any}",
-      (req, _res, next) => {
-        req.url = "/index.html";
-        next();
-      },
-      fresh,
-      client,
-    );
+    // Every other address is a screen of the app: index.html naming that screen's code (so the
+    // browser fetches it beside the first script: server/lib/screen-preload.ts), compressed like the rest.
+    const screens = createScreenPages(CLIENT_DIST);
+    // Who asks decides one thing: a report's chart code is named for a role that reads reports only.
+    app.get("/{*any}", authContext(auth), (req, res) => {
+      const page = screens.pageFor(req.path, { mayReadReports: can(req.user?.roles, "reports.read") });
+      const encoding = req.headers["accept-encoding"] ? (req.acceptsEncodings("br") ? "br" : req.acceptsEncodings("gzip") ? "gzip" : null) : null;
+      res.setHeader("Content-Type", "text/html; charset=UTF-8");
+      res.setHeader("Cache-Control", "no-cache");
+      res.vary("Accept-Encoding");
+      if (encoding) res.setHeader("Content-Encoding", encoding);
+      // send() answers 304 to a browser holding this very page (ETag), and no body to HEAD.
+      res.send(encoding === "br" ? page.br : encoding === "gzip" ? page.gzip : page.html);
+    });
   }
 
   app.use(errorHandler(logger));

@@ -5,6 +5,7 @@ import { makeLoader as makeFrameLoader } from "./routes/app-layout.loader";
 import { makeLoader as makeHeatsLoader } from "./routes/heats.loader";
 import { Spinner } from "@/components/ui/logo";
 import { RootError, RouteError } from "./routes/route-error";
+import { FRAME, IN_FRAME, OUTSIDE_FRAME, type Screen } from "@shared/screens";
 
 /** A lazily loaded screen: its component, an optional loader built with the QueryClient, and its error view. */
 interface RouteModule {
@@ -91,61 +92,40 @@ function FirstLoad() {
   );
 }
 
+/** Every route module, each its own chunk (Vite splits a glob's imports as it does single dynamic imports). */
+const ROUTE_MODULES = import.meta.glob<RouteModule>(["./routes/*.tsx", "!./routes/route-error.tsx"]);
+
+function moduleOf(name: string): () => Promise<RouteModule> {
+  const load = ROUTE_MODULES[`./routes/${name}.tsx`];
+  if (!load) throw new Error(`No route module src/app/routes/${name}.tsx (shared/screens.ts names it)`);
+  return load;
+}
+
+/** The early loaders, held in the first script (see earlyLoader). */
+const EARLY_LOADERS: Record<string, (qc: QueryClient) => LoaderFunction> = { "app-layout": makeFrameLoader, heats: makeHeatsLoader };
+
+function screenRoute(qc: QueryClient, s: Screen) {
+  const load = moduleOf(s.module);
+  if (s.report) return reportScreen(qc, s.path.replace(/^reports\//, "") as ReportKind, load);
+  const early = s.early ? EARLY_LOADERS[s.module] : undefined;
+  if (s.early && !early) throw new Error(`No early loader for ${s.module}`);
+  return early ? earlyScreen(qc, early, load) : { lazy: lazyRoute(qc, load) };
+}
+
+/**
+ * The routes, from the list of screens in shared/screens.ts (the server reads the same list to name
+ * a screen's code in the page it answers with).
+ */
 export function createRouter(qc: QueryClient) {
   return createBrowserRouter([
-    { path: "/sign-in", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/sign-in")) },
-    // Signed out on purpose: someone who forgot the password has no session.
-    { path: "/forgot-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/forgot-password")) },
-    { path: "/reset-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/reset-password")) },
-    // Outside the frame: while a first password set by an administrator is to be replaced, nothing else shows.
-    { path: "/change-password", ErrorBoundary: RootError, HydrateFallback: FirstLoad, lazy: lazyRoute(qc, () => import("./routes/change-password")) },
+    ...OUTSIDE_FRAME.map((s): RouteObject => ({ path: s.path, ErrorBoundary: RootError, HydrateFallback: FirstLoad, ...screenRoute(qc, s) })),
     {
-      path: "/",
+      path: FRAME.path,
       ErrorBoundary: RootError,
       HydrateFallback: FirstLoad,
       // Who is signed in is asked (index.html, src/main.tsx) while the frame's code loads.
-      ...earlyScreen(qc, makeFrameLoader, () => import("./routes/app-layout")),
-      children: inFrame([
-        { index: true, lazy: lazyRoute(qc, () => import("./routes/home")) },
-        { path: "yard", lazy: lazyRoute(qc, () => import("./routes/yard")) },
-        { path: "yard/slabs/:slabId", lazy: lazyRoute(qc, () => import("./routes/yard-slab")) },
-        { path: "quality", lazy: lazyRoute(qc, () => import("./routes/quality-home")) },
-        { path: "quality/review", lazy: lazyRoute(qc, () => import("./routes/quality-review")) },
-        { path: "quality/catalogue", lazy: lazyRoute(qc, () => import("./routes/quality-catalogue")) },
-        { path: "process", lazy: lazyRoute(qc, () => import("./routes/process-home")) },
-        { path: "claims", lazy: lazyRoute(qc, () => import("./routes/claims-home")) },
-        { path: "claims/new", lazy: lazyRoute(qc, () => import("./routes/claim-new")) },
-        { path: "claims/:id", lazy: lazyRoute(qc, () => import("./routes/claim")) },
-        { path: "trace", lazy: lazyRoute(qc, () => import("./routes/trace")) },
-        { path: "heats", ...earlyScreen(qc, makeHeatsLoader, () => import("./routes/heats")) },
-        { path: "heats/:heatNo", lazy: lazyRoute(qc, () => import("./routes/heat")) },
-        { path: "heats/:heatNo/history", lazy: lazyRoute(qc, () => import("./routes/heat-history")) },
-        { path: "slabs/:slabId", lazy: lazyRoute(qc, () => import("./routes/slab")) },
-        { path: "reports", lazy: lazyRoute(qc, () => import("./routes/reports")) },
-        { path: "reports/overview", ...reportScreen(qc, "overview", () => import("./routes/report-overview")) },
-        { path: "reports/rate-by-variable", ...reportScreen(qc, "rate-by-variable", () => import("./routes/report-rate-by-variable")) },
-        { path: "reports/screening", ...reportScreen(qc, "screening", () => import("./routes/report-screening")) },
-        { path: "reports/process-window", lazy: lazyRoute(qc, () => import("./routes/report-process-window")) },
-        { path: "reports/control-chart", ...reportScreen(qc, "control-chart", () => import("./routes/report-control-chart")) },
-        { path: "reports/before-after", lazy: lazyRoute(qc, () => import("./routes/report-before-after")) },
-        { path: "reports/slab-positions", ...reportScreen(qc, "slab-positions", () => import("./routes/report-slab-positions")) },
-        { path: "reports/cause-pareto", ...reportScreen(qc, "cause-pareto", () => import("./routes/report-cause-pareto")) },
-        { path: "reports/adjusted", ...reportScreen(qc, "adjusted", () => import("./routes/report-adjusted")) },
-        { path: "risk-models", lazy: lazyRoute(qc, () => import("./routes/risk-models")) },
-        { path: "operating-windows", lazy: lazyRoute(qc, () => import("./routes/operating-windows")) },
-        { path: "causes", lazy: lazyRoute(qc, () => import("./routes/causes")) },
-        { path: "causes/untagged", lazy: lazyRoute(qc, () => import("./routes/causes-untagged")) },
-        { path: "investigations", lazy: lazyRoute(qc, () => import("./routes/investigations")) },
-        { path: "investigations/new", lazy: lazyRoute(qc, () => import("./routes/investigation-new")) },
-        { path: "investigations/:id", lazy: lazyRoute(qc, () => import("./routes/investigation")) },
-        { path: "import", lazy: lazyRoute(qc, () => import("./routes/import")) },
-        { path: "setup", lazy: lazyRoute(qc, () => import("./routes/setup")) },
-        { path: "admin/users", lazy: lazyRoute(qc, () => import("./routes/admin-users")) },
-        { path: "admin/tokens", lazy: lazyRoute(qc, () => import("./routes/admin-tokens")) },
-        { path: "admin/outbox", lazy: lazyRoute(qc, () => import("./routes/admin-outbox")) },
-        { path: "no-role", lazy: lazyRoute(qc, () => import("./routes/no-role")) },
-        { path: "*", lazy: lazyRoute(qc, () => import("./routes/not-found")) },
-      ]),
+      ...screenRoute(qc, FRAME),
+      children: inFrame(IN_FRAME.map((s): RouteObject => (s.path === "" ? { index: true, ...screenRoute(qc, s) } : { path: s.path, ...screenRoute(qc, s) }))),
     },
   ]);
 }

@@ -1,11 +1,11 @@
 import fs from "node:fs";
 import http from "node:http";
-import type { AddressInfo } from "node:net";
 import path from "node:path";
 import zlib from "node:zlib";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { CLIENT_DIST } from "../../server/app";
-import { createTestApp, TEST_PASSWORD, type TestApp } from "../helpers/test-app";
+import { createScreenPages } from "../../server/lib/screen-preload";
+import { listenTestApp, type ListeningApp } from "../helpers/listening-app";
 
 /**
  * Every text file of the built client goes out compressed once at build (.br and .gz beside it,
@@ -24,18 +24,15 @@ const published = await vi.hoisted(async () => {
   return to;
 });
 
-let t: TestApp;
-let server: http.Server;
+let app: ListeningApp;
 let port: number;
+const signIn = (role: string) => app.signIn(role);
 beforeAll(async () => {
-  t = await createTestApp({ scale: 0 });
-  server = t.app.listen(0, "127.0.0.1");
-  await new Promise<void>((resolve) => server.once("listening", () => resolve()));
-  port = (server.address() as AddressInfo).port;
+  app = await listenTestApp();
+  port = app.port;
 });
 afterAll(async () => {
-  await new Promise<void>((resolve) => (server ? server.close(() => resolve()) : resolve()));
-  await t?.close();
+  await app?.close();
   fs.rmSync(published, { recursive: true, force: true });
 });
 
@@ -58,16 +55,6 @@ function getRaw(url: string, acceptEncoding?: string, cookie?: string) {
   });
 }
 
-/** The session cookie of a demo user, signed in over HTTP. */
-async function signIn(role: string): Promise<string> {
-  const res = await fetch(`http://127.0.0.1:${port}/api/auth/sign-in/email`, {
-    method: "POST",
-    headers: { "content-type": "application/json", origin: t.env.BETTER_AUTH_URL },
-    body: JSON.stringify({ email: `${role}@demo.test`, password: TEST_PASSWORD }),
-  });
-  expect(res.status).toBe(200);
-  return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
-}
 
 function decode(body: Buffer, encoding: string | undefined): Buffer {
   if (encoding === "br") return zlib.brotliDecompressSync(body);
@@ -95,10 +82,11 @@ describe("the built client's files, compressed", () => {
 
   // What each file is asked as, and the Cache-Control it has always had.
   const entry = () => Object.values(manifest()).find((m) => m.isEntry)!;
-  const cases: { what: string; url: () => string; file: () => string; type: RegExp; cache: string }[] = [
+  const cases: { what: string; url: () => string; file: () => string; page?: string; type: RegExp; cache: string }[] = [
     { what: "the entry script", url: () => `/${entry().file}`, file: () => entry().file, type: /^text\/javascript/, cache: "public, max-age=31536000, immutable" },
     { what: "the style sheet", url: () => `/${entry().css![0]}`, file: () => entry().css![0]!, type: /^text\/css/, cache: "public, max-age=31536000, immutable" },
-    { what: "index.html for a screen's address", url: () => "/reports/overview?period=month", file: () => "index.html", type: /^text\/html/, cache: "no-cache" },
+    // index.html with the screen's code named in it (tests/server/screen-pages.test.ts checks what is added).
+    { what: "index.html for a screen's address", url: () => "/reports/overview?period=month", file: () => "index.html", page: "/reports/overview", type: /^text\/html/, cache: "no-cache" },
     { what: "index.html itself", url: () => "/index.html", file: () => "index.html", type: /^text\/html/, cache: "no-cache" },
     { what: "the service worker", url: () => "/sw.js", file: () => "sw.js", type: /^text\/javascript/, cache: "no-cache" },
     { what: "the app manifest", url: () => "/manifest.webmanifest", file: () => "manifest.webmanifest", type: /^application\/manifest\+json/, cache: "no-cache" },
@@ -119,7 +107,8 @@ describe("the built client's files, compressed", () => {
         expect(res.headers["cache-control"]).toBe(c.cache);
         expect(res.headers["vary"]).toMatch(/Accept-Encoding/i);
         expect(Number(res.headers["content-length"])).toBe(body.length);
-        expect(decode(body, expected).equals(fs.readFileSync(path.join(CLIENT_DIST, c.file())))).toBe(true);
+        const plain = c.page ? createScreenPages(CLIENT_DIST).pageFor(c.page).html : fs.readFileSync(path.join(CLIENT_DIST, c.file()));
+        expect(decode(body, expected).equals(plain)).toBe(true);
       });
     }
   }
@@ -183,7 +172,7 @@ describe("API answers, compressed", () => {
     const cookie = await signIn("quality");
     const res = await fetch(`http://127.0.0.1:${port}/api/auth/sign-out`, {
       method: "POST",
-      headers: { "content-type": "application/json", origin: t.env.BETTER_AUTH_URL, cookie, "accept-encoding": "gzip, br" },
+      headers: { "content-type": "application/json", origin: app.t.env.BETTER_AUTH_URL, cookie, "accept-encoding": "gzip, br" },
       body: "{}",
     });
     expect(res.status).toBe(200);
