@@ -7,7 +7,6 @@
 import fs from "node:fs";
 import path from "node:path";
 import type ExcelJS from "exceljs";
-import { loadExcelJS } from "../lib/lazy-packages";
 import {
   CUSTOMER_DEFAULT_SECTIONS,
   HISTORY_SECTIONS,
@@ -22,8 +21,8 @@ import {
 import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, STAGE_LABELS, type Disposition, type Face, type Severity, type Stage } from "@shared/domain";
 import { VARIABLES } from "@shared/variables";
 import type { Db } from "../db/client";
-import { guardSheet } from "../lib/cells";
 import { badRequest, notFound } from "../lib/http-error";
+import { addItemSheet, addTableSheet, newWorkbook, workbookBuffer, D1, D2, D3, D4, DT, N0, type SheetColumn as Col, type TableLook } from "../lib/workbook-sheets";
 import { auditWords } from "./history-words";
 
 type Row = Record<string, any>;
@@ -346,26 +345,17 @@ export function trace(db: Db, q: string): Trace {
 // The workbook
 // ---------------------------------------------------------------------------------------------
 
-type Col = { header: string; key: string; width?: number; numFmt?: string };
 /** Thumbnails embedded per defect; the rest are counted and open from the app. */
 const MAX_THUMBS = 3;
-const DT = "yyyy-mm-dd hh:mm";
-const N0 = "#,##0";
-const D1 = "0.0";
-const D2 = "0.00";
-const D3 = "0.000";
-const D4 = "0.0000";
 const date = (s: string | null) => (s ? new Date(s) : null);
 const SOURCE_WORDS: Record<string, string> = { slab: "slab record", samples: "process samples", heat: "heat record", computed: "computed", given: "given" };
 const source = (s: string | null) => (s ? (SOURCE_WORDS[s] ?? s) : null);
 
+/** The history's tables: headers wrap, widths follow the header within bounds, the filter spans every row. */
+const TABLE_LOOK: TableLook = { width: (header) => Math.max(11, Math.min(40, header.length + 2)), filter: "rows", wrapHeader: true };
+
 function table(wb: ExcelJS.Workbook, name: string, columns: Col[], rows: Record<string, unknown>[], title: string) {
-  const ws = wb.addWorksheet(name, { views: [{ state: "frozen", ySplit: 1 }] });
-  ws.columns = columns.map((c) => ({ header: c.header, key: c.key, width: c.width ?? Math.max(11, Math.min(40, c.header.length + 2)), style: c.numFmt ? { numFmt: c.numFmt } : {} }));
-  ws.getRow(1).font = { bold: true };
-  ws.getRow(1).alignment = { vertical: "middle", wrapText: true };
-  for (const r of rows) ws.addRow(Object.fromEntries(columns.map((c) => [c.key, r[c.key] ?? null])));
-  ws.autoFilter = { from: { row: 1, column: 1 }, to: { row: Math.max(1, rows.length + 1), column: columns.length } };
+  const ws = addTableSheet(wb, name, columns, rows, TABLE_LOOK);
   printSetup(ws, title);
   return ws;
 }
@@ -382,9 +372,7 @@ export interface WorkbookOptions {
 }
 
 export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookOptions): Promise<Buffer> {
-  const wb = new (await loadExcelJS()).Workbook();
-  wb.creator = "Strandsight";
-  wb.created = new Date(hist.generatedAt);
+  const wb = await newWorkbook(new Date(hist.generatedAt));
   const h = hist.heat;
   const ed = hist.edition;
   const customer = ed.kind === "customer";
@@ -394,20 +382,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   // The customer edition carries no links into the application (the customer has no account).
   const linked = (text: string, p: string) => (customer ? text : { text, hyperlink: link(p) });
 
-  const sheetOf = (name: string) => {
-    const ws = wb.addWorksheet(name, { views: [{ state: "frozen", ySplit: 1 }] });
-    ws.columns = [
-      { header: "Item", key: "k", width: 32 },
-      { header: "Value", key: "v", width: 70 },
-    ];
-    ws.getRow(1).font = { bold: true };
-    const add = (k: string, v: unknown, numFmt?: string) => {
-      const row = ws.addRow({ k, v });
-      if (numFmt) row.getCell(2).numFmt = numFmt;
-      row.getCell(2).alignment = { horizontal: "left", wrapText: true };
-    };
-    return { ws, add };
-  };
+  const sheetOf = (name: string) => addItemSheet(wb, name, { item: { header: "Item", width: 32 }, value: { header: "Value", width: 70 }, wrapValues: true });
 
   // The cover page: what the document is, for which claim, when and by whom.
   if (ed.cover) {
@@ -635,7 +610,5 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
     ], hist.audit.map((a) => ({ ...a, at: date(a.at) })), title);
   }
 
-  // Text that a spreadsheet could take for a formula stays text (OWASP, CSV injection).
-  wb.eachSheet((ws) => void guardSheet(ws));
-  return Buffer.from(await wb.xlsx.writeBuffer());
+  return workbookBuffer(wb);
 }

@@ -4,19 +4,16 @@
  * "Parameters" sheet (the filters, who and when, the methods and the cautions); each table gets a
  * sheet with units in the headers, number formats, a frozen header row and an autofilter.
  */
-import type ExcelJS from "exceljs";
-import { loadExcelJS } from "../lib/lazy-packages";
-import { guardSheet } from "../lib/cells";
+import { addItemSheet, addTableSheet, newWorkbook, workbookBuffer, D2, D3, N0, PCT, type SheetColumn, type TableLook } from "../lib/workbook-sheets";
 import type { CausePareto } from "@shared/api/causes";
 import type { Adjusted, BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
-import { SEVERITY_LABELS, STAGE_LABELS, type Severity, type Stage } from "@shared/domain";
+import { SEVERITY_LABELS, STAGE_LABELS } from "@shared/domain";
 import { CATEGORICAL_LABELS, VARIABLES, type CategoricalKey } from "@shared/variables";
 
 /** kind "p": a p-value column (see P below). */
-type Col = { header: string; key: string; width?: number; numFmt?: string; kind?: "p" };
+type Col = SheetColumn & { kind?: "p" };
 type Sheet = { name: string; columns: Col[]; rows: Record<string, unknown>[] };
 
-const PCT = "0.00%";
 /**
  * p-values: four decimals, and in scientific notation below 10⁻⁴ so a tiny p never reads as 0.0000.
  * A column with this format (or kind "p") is a p-value column: a p that underflowed to 0 in double
@@ -26,9 +23,6 @@ const PCT = "0.00%";
 const P = "[<0.0001]0.00E+00;0.0000";
 const P_FLOOR = 2.2250738585072014e-308;
 const isPColumn = (c: Col) => c.kind === "p" || c.numFmt === P;
-const N = "#,##0";
-const D2 = "0.00";
-const D3 = "0.000";
 
 export const CAUTIONS = [
   "A correlation in a report is not a cause; grade mix confounds almost everything.",
@@ -42,7 +36,7 @@ const referenceMixSheet = (mix: { label: string; slabs: number; share: number }[
   name: "Reference mix",
   columns: [
     { header: by, key: "label", width: 18 },
-    { header: "Slabs", key: "slabs", numFmt: N },
+    { header: "Slabs", key: "slabs", numFmt: N0 },
     { header: "Share of the mix", key: "share", numFmt: PCT },
   ],
   rows: mix,
@@ -102,8 +96,8 @@ function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
         { header: st.by.label, key: "level", width: 18 },
         { header: `From (${u})`, key: "lower", numFmt: D3 },
         { header: `To (${u})`, key: "upper", numFmt: D3 },
-        { header: "Slabs", key: "slabs", numFmt: N },
-        { header: "Affected slabs", key: "affected", numFmt: N },
+        { header: "Slabs", key: "slabs", numFmt: N0 },
+        { header: "Affected slabs", key: "affected", numFmt: N0 },
         { header: "Rate", key: "rate", numFmt: PCT },
         { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
         { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
@@ -115,8 +109,8 @@ function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
       name: "Odds ratios within levels",
       columns: [
         { header: st.by.label, key: "level", width: 18 },
-        { header: "Slabs", key: "slabs", numFmt: N },
-        { header: "Affected slabs", key: "affected", numFmt: N },
+        { header: "Slabs", key: "slabs", numFmt: N0 },
+        { header: "Affected slabs", key: "affected", numFmt: N0 },
         { header: "Rate", key: "rate", numFmt: PCT },
         { header: `Odds ratio ${perUnit}`, key: "oddsRatio", numFmt: OR },
         { header: "95 % CI lower", key: "oddsRatioCiLower", numFmt: OR },
@@ -238,8 +232,8 @@ function adjustedSheets(x: Adjusted): Sheet[] {
         { header: "Variable", key: "label", width: 28 },
         { header: "Level", key: "level", width: 18 },
         { header: "Reference", key: "ref" },
-        { header: "Slabs", key: "slabs", numFmt: N },
-        { header: "Affected slabs", key: "affected", numFmt: N },
+        { header: "Slabs", key: "slabs", numFmt: N0 },
+        { header: "Affected slabs", key: "affected", numFmt: N0 },
       ],
       rows: x.variables.flatMap((v) => (v.levels ?? []).map((l) => ({ label: v.label, level: l.level, ref: yes(l.reference), slabs: l.slabs, affected: l.affected }))),
     },
@@ -277,8 +271,8 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           columns: [
             { header: `From (${u})`, key: "lower", numFmt: D3 },
             { header: `To (${u})`, key: "upper", numFmt: D3 },
-            { header: "Slabs", key: "slabs", numFmt: N },
-            { header: "Affected slabs", key: "affected", numFmt: N },
+            { header: "Slabs", key: "slabs", numFmt: N0 },
+            { header: "Affected slabs", key: "affected", numFmt: N0 },
             { header: "Rate", key: "rate", numFmt: PCT },
             { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
             { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
@@ -308,7 +302,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           name: "Distribution",
           columns: [
             { header: "Slabs", key: "group" },
-            { header: "n", key: "n", numFmt: N },
+            { header: "n", key: "n", numFmt: N0 },
             { header: `Min (${u})`, key: "min", numFmt: D3 },
             { header: `Q1 (${u})`, key: "q1", numFmt: D3 },
             { header: `Median (${u})`, key: "median", numFmt: D3 },
@@ -333,7 +327,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: "Variable", key: "label", width: 30 },
             { header: "Key", key: "key", width: 22 },
             { header: "Kind", key: "kind" },
-            { header: "n (slabs)", key: "n", numFmt: N },
+            { header: "n (slabs)", key: "n", numFmt: N0 },
             { header: "Statistic", key: "statistic", numFmt: "0.000" },
             { header: "df", key: "df", numFmt: "0.0" },
             { header: "p", key: "p", numFmt: P },
@@ -359,14 +353,14 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           name: u ? "u-chart" : x.chart === "laney" ? "Laney p′ chart" : "p-chart",
           columns: [
             { header: x.period === "day" ? "Day" : "ISO week", key: "period" },
-            { header: "Slabs", key: "slabs", numFmt: N },
-            { header: "Affected slabs", key: "affected", numFmt: N },
+            { header: "Slabs", key: "slabs", numFmt: N0 },
+            { header: "Affected slabs", key: "affected", numFmt: N0 },
             { header: "p (share affected)", key: "p", numFmt: PCT },
             { header: u ? "UCL (defects per slab)" : "UCL", key: "ucl", numFmt: u ? D3 : PCT },
             { header: u ? "LCL (defects per slab)" : "LCL", key: "lcl", numFmt: u ? D3 : PCT },
             { header: "Out of control", key: "out" },
             { header: "Phase", key: "phase" },
-            { header: "Defects", key: "defects", numFmt: N },
+            { header: "Defects", key: "defects", numFmt: N0 },
             ...(u ? [{ header: "Defects per slab", key: "value", numFmt: D3 }] : []),
             { header: u ? "Centre line ū" : "Centre line p̄", key: "centre", numFmt: u ? D3 : PCT },
             { header: "z (σ from the centre)", key: "z", numFmt: D2 },
@@ -426,8 +420,8 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
     case "overview": {
       const x = r as Overview;
       const rate = [
-        { header: "Slabs", key: "slabs", numFmt: N },
-        { header: "Affected slabs", key: "affected", numFmt: N },
+        { header: "Slabs", key: "slabs", numFmt: N0 },
+        { header: "Affected slabs", key: "affected", numFmt: N0 },
         { header: "Rate", key: "rate", numFmt: PCT },
         { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
         { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
@@ -438,7 +432,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           columns: [
             { header: "Period", key: "period" },
             ...rate,
-            { header: "Defects", key: "defects", numFmt: N },
+            { header: "Defects", key: "defects", numFmt: N0 },
             { header: "Tonnes (t)", key: "tonnes", numFmt: "#,##0.0" },
             { header: "Defects per 100 slabs", key: "per100Slabs", numFmt: D2 },
             { header: "Defects per 1000 t", key: "per1000t", numFmt: D2 },
@@ -458,8 +452,8 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           columns: [
             { header: "Type", key: "code" },
             { header: "Name", key: "name", width: 40 },
-            { header: "Defects", key: "defects", numFmt: N },
-            { header: "Slabs affected", key: "slabsAffected", numFmt: N },
+            { header: "Defects", key: "defects", numFmt: N0 },
+            { header: "Slabs affected", key: "slabsAffected", numFmt: N0 },
             { header: "Share", key: "share", numFmt: PCT },
             { header: "Cumulative share", key: "cumulativeShare", numFmt: PCT },
           ],
@@ -480,8 +474,8 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: `${x.x.label} to (${x.x.unit})`, key: "xUpper", numFmt: D3 },
             { header: `${x.y.label} from (${x.y.unit})`, key: "yLower", numFmt: D3 },
             { header: `${x.y.label} to (${x.y.unit})`, key: "yUpper", numFmt: D3 },
-            { header: "Slabs", key: "slabs", numFmt: N },
-            { header: "Affected slabs", key: "affected", numFmt: N },
+            { header: "Slabs", key: "slabs", numFmt: N0 },
+            { header: "Affected slabs", key: "affected", numFmt: N0 },
             { header: "Rate", key: "rate", numFmt: PCT },
             { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
             { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
@@ -499,8 +493,8 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           columns: [
             { header: "Group", key: "group" },
             { header: "Label", key: "label", width: 36 },
-            { header: "Slabs", key: "slabs", numFmt: N },
-            { header: "Affected slabs", key: "affected", numFmt: N },
+            { header: "Slabs", key: "slabs", numFmt: N0 },
+            { header: "Affected slabs", key: "affected", numFmt: N0 },
             { header: "Rate", key: "rate", numFmt: PCT },
             { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
             { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
@@ -532,11 +526,11 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             name: `Within ${by.toLowerCase()}`,
             columns: [
               { header: by, key: "label", width: 18 },
-              { header: "A slabs", key: "aSlabs", numFmt: N },
-              { header: "A affected", key: "aAffected", numFmt: N },
+              { header: "A slabs", key: "aSlabs", numFmt: N0 },
+              { header: "A affected", key: "aAffected", numFmt: N0 },
               { header: "A rate", key: "aRate", numFmt: PCT },
-              { header: "B slabs", key: "bSlabs", numFmt: N },
-              { header: "B affected", key: "bAffected", numFmt: N },
+              { header: "B slabs", key: "bSlabs", numFmt: N0 },
+              { header: "B affected", key: "bAffected", numFmt: N0 },
               { header: "B rate", key: "bRate", numFmt: PCT },
               { header: "B − A", key: "diff", numFmt: PCT },
               { header: "B − A 95 % CI lower", key: "diffLower", numFmt: PCT },
@@ -584,10 +578,10 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
       const x = r as SlabPositions;
       const along = x.alongEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.alongEdges[i + 1]! * 100)} %`);
       return [
-        { name: "By face", columns: [{ header: "Face", key: "face" }, { header: "Defects", key: "defects", numFmt: N }], rows: x.byFace },
+        { name: "By face", columns: [{ header: "Face", key: "face" }, { header: "Defects", key: "defects", numFmt: N0 }], rows: x.byFace },
         {
           name: "Along the slab",
-          columns: [{ header: "Face", key: "face" }, ...along.map((a, i) => ({ header: `${a} of length from head`, key: `a${i}`, numFmt: N }))],
+          columns: [{ header: "Face", key: "face" }, ...along.map((a, i) => ({ header: `${a} of length from head`, key: `a${i}`, numFmt: N0 }))],
           rows: x.grid.map((g) => ({ face: g.face, ...Object.fromEntries(g.along.map((v, i) => [`a${i}`, v])) })),
         },
       ];
@@ -601,11 +595,11 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: "Cause tag", key: "code", width: 26 },
             { header: "Name", key: "name", width: 32 },
             { header: "Group", key: "group" },
-            { header: "Defects", key: "defects", numFmt: N },
-            { header: "Slabs", key: "slabs", numFmt: N },
-            { header: "Suspected", key: "suspected", numFmt: N },
-            { header: "Probable", key: "probable", numFmt: N },
-            { header: "Confirmed", key: "confirmed", numFmt: N },
+            { header: "Defects", key: "defects", numFmt: N0 },
+            { header: "Slabs", key: "slabs", numFmt: N0 },
+            { header: "Suspected", key: "suspected", numFmt: N0 },
+            { header: "Probable", key: "probable", numFmt: N0 },
+            { header: "Confirmed", key: "confirmed", numFmt: N0 },
             { header: "Share of taggings", key: "share", numFmt: PCT },
             { header: "Cumulative share", key: "cumulative", numFmt: PCT },
           ],
@@ -614,9 +608,9 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
         {
           name: "Counts",
           columns: [
-            { header: "Defects passing the filters (n)", key: "defects", numFmt: N },
-            { header: "Tagged", key: "tagged", numFmt: N },
-            { header: "Without a cause", key: "untagged", numFmt: N },
+            { header: "Defects passing the filters (n)", key: "defects", numFmt: N0 },
+            { header: "Tagged", key: "tagged", numFmt: N0 },
+            { header: "Without a cause", key: "untagged", numFmt: N0 },
           ],
           rows: [x],
         },
@@ -790,51 +784,33 @@ function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
 }
 
 export async function reportWorkbook(kind: string, query: string, result: unknown, by: string, method: string[] = []): Promise<Buffer> {
-  const wb = new (await loadExcelJS()).Workbook();
-  wb.creator = "Strandsight";
-  wb.created = new Date();
-  const params = wb.addWorksheet("Parameters");
-  params.columns = [
-    { header: "Parameter", key: "k", width: 28 },
-    { header: "Value", key: "v", width: 100 },
-  ];
-  params.getRow(1).font = { bold: true };
-  params.addRow({ k: "Report", v: REPORT_TITLES[kind] ?? kind });
-  params.addRow({ k: "Generated", v: new Date().toISOString() });
-  params.addRow({ k: "By", v: by });
+  const wb = await newWorkbook(new Date());
+  const { add } = addItemSheet(wb, "Parameters", { item: { header: "Parameter", width: 28 }, value: { header: "Value", width: 100 } });
+  add("Report", REPORT_TITLES[kind] ?? kind);
+  add("Generated", new Date().toISOString());
+  add("By", by);
   const given = parameterRows(kind, query);
-  if (given.length === 0) params.addRow({ k: "Filters", v: "none (all slabs on record)" });
-  for (const row of given) params.addRow(row);
-  for (const m of method) params.addRow({ k: "Method", v: methodInWords(m) });
-  for (const row of explanationsOf(kind, result)) params.addRow(row);
-  for (const c of CAUTIONS) params.addRow({ k: "Caution", v: c });
-  params.views = [{ state: "frozen", ySplit: 1 }];
+  if (given.length === 0) add("Filters", "none (all slabs on record)");
+  for (const row of given) add(row.k, row.v);
+  for (const m of method) add("Method", methodInWords(m));
+  for (const row of explanationsOf(kind, result)) add(row.k, row.v);
+  for (const c of CAUTIONS) add("Caution", c);
 
   let floored = 0;
-  for (const t of tablesFor(kind, result)) {
-    const ws = wb.addWorksheet(t.name.slice(0, 31), { views: [{ state: "frozen", ySplit: 1 }] });
-    ws.columns = t.columns.map((c) => ({ header: c.header, key: c.key, width: c.width ?? Math.max(12, c.header.length + 2), style: c.numFmt ? { numFmt: c.numFmt } : {} }));
-    ws.getRow(1).font = { bold: true };
-    for (const row of t.rows) {
-      ws.addRow(
-        Object.fromEntries(
-          t.columns.map((c) => {
-            const v = (row as Record<string, unknown>)[c.key] ?? null;
-            if (v === 0 && isPColumn(c)) {
-              floored++;
-              return [c.key, P_FLOOR];
-            }
-            return [c.key, v];
-          }),
-        ),
-      );
-    }
-    ws.autoFilter = { from: { row: 1, column: 1 }, to: { row: 1, column: t.columns.length } };
-  }
+  const look: TableLook<Col> = {
+    width: (header) => Math.max(12, header.length + 2),
+    filter: "header",
+    cell: (c, v) => {
+      if (v === 0 && isPColumn(c)) {
+        floored++;
+        return P_FLOOR;
+      }
+      return v;
+    },
+  };
+  for (const t of tablesFor(kind, result)) addTableSheet(wb, t.name, t.columns, t.rows, look);
   if (floored > 0) {
-    params.addRow({ k: "Reading", v: "A p-value written as 2.23E-308 is smaller than the smallest number a double (and a spreadsheet) holds: the computation underflowed. The screen shows it as < 10⁻¹⁵." });
+    add("Reading", "A p-value written as 2.23E-308 is smaller than the smallest number a double (and a spreadsheet) holds: the computation underflowed. The screen shows it as < 10⁻¹⁵.");
   }
-  // Filter values and names typed by users stay text, never formulas (OWASP, CSV injection).
-  wb.eachSheet((ws) => void guardSheet(ws));
-  return Buffer.from(await wb.xlsx.writeBuffer());
+  return workbookBuffer(wb);
 }

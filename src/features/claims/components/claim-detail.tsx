@@ -4,6 +4,7 @@ import { z } from "zod";
 import { CLAIM_STATUS_LABELS, type Claim } from "@shared/api/claims";
 import { CLAIM_STATUSES, type ClaimStatus } from "@shared/domain";
 import { AttachmentsCard } from "@/components/attachments-card";
+import { MutationError, TextAreaField, useAddRow } from "@/components/mutation-form";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
@@ -19,11 +20,6 @@ import { idList } from "./new-claim-form";
 const link = "font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2";
 const th = "px-2 py-2 text-left text-xs font-semibold uppercase tracking-wide text-ink-600";
 const areaClass = "w-full rounded-md border border-ink-300 bg-white px-3 py-2 text-sm text-ink-900";
-
-type Change = ReturnType<typeof useClaimChange>;
-function ErrorOf({ change }: { change: Change }) {
-  return change.isError ? <Notice tone="error">{change.error.message}</Notice> : null;
-}
 
 /** One term and its value: the <div> sits directly in the <dl> (a wide one spans the row through className). */
 function Item({ label, children, testId, className }: { label: string; children: React.ReactNode; testId?: string; className?: string }) {
@@ -155,7 +151,7 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
               </Item>
             )}
           </div>
-          <ErrorOf change={change} />
+          <MutationError mutation={change} />
         </div>
       </div>
     </Card>
@@ -164,8 +160,8 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
 
 export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage: boolean }) {
   const change = useClaimChange(claim.id);
-  const [slabs, setSlabs] = useState("");
-  const [products, setProducts] = useState("");
+  const add = useAddRow(change, { slabs: "", products: "" }, (v) => ({ method: "POST" as const, path: "/slabs", body: { slabIds: idList(v.slabs), productIds: idList(v.products) } }));
+  const { slabs, products } = add.values;
   return (
     <Card title={`Linked slabs (${claim.linkedSlabs.length})`} bodyClassName="px-2 py-3 md:p-4">
       <div className="space-y-4">
@@ -226,29 +222,14 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
           <p className="px-2 text-sm text-ink-600">No slab linked yet{canManage ? ": link them by slab id, or by coil / plate id through the trace." : "."}</p>
         )}
         {canManage ? (
-          <form
-            aria-label="Link more slabs"
-            className="grid gap-3 px-2 md:grid-cols-[1fr_1fr_auto] md:items-end md:px-0"
-            onSubmit={(e) => {
-              e.preventDefault();
-              change.mutate(
-                { method: "POST", path: "/slabs", body: { slabIds: idList(slabs), productIds: idList(products) } },
-                {
-                  onSuccess: () => {
-                    setSlabs("");
-                    setProducts("");
-                  },
-                },
-              );
-            }}
-          >
-            <TextField label="Link slabs by id" value={slabs} onChange={(e) => setSlabs(e.target.value)} placeholder="L260001-104, …" hint="Slab ids, separated by commas or spaces" />
-            <TextField label="or by coil / plate id" value={products} onChange={(e) => setProducts(e.target.value)} placeholder="K26000004, …" hint="Traced to their slabs through the rolling mill's list" />
+          <form aria-label="Link more slabs" className="grid gap-3 px-2 md:grid-cols-[1fr_1fr_auto] md:items-end md:px-0" onSubmit={add.onSubmit}>
+            <TextField label="Link slabs by id" {...add.bind("slabs")} placeholder="L260001-104, …" hint="Slab ids, separated by commas or spaces" />
+            <TextField label="or by coil / plate id" {...add.bind("products")} placeholder="K26000004, …" hint="Traced to their slabs through the rolling mill's list" />
             <Button type="submit" variant="secondary" disabled={change.isPending || !(slabs.trim() || products.trim())}>
               {change.isPending ? "Linking…" : "Link"}
             </Button>
             <div className="md:col-span-3">
-              <ErrorOf change={change} />
+              <MutationError mutation={change} />
             </div>
           </form>
         ) : null}
@@ -294,12 +275,16 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
       }}
     >
       <TextField label="Recipients" type="text" inputMode="email" autoComplete="off" value={to} onChange={(e) => setTo(e.target.value)} hint="E-mail addresses, separated by commas or spaces (up to 10)" />
-      <div className="flex flex-col gap-1">
-        <label htmlFor={`send-message-${heatNo}`} className="text-sm font-semibold text-ink-800">
-          Message (optional)
-        </label>
-        <textarea id={`send-message-${heatNo}`} rows={3} maxLength={2000} value={message} onChange={(e) => setMessage(e.target.value)} className={areaClass} placeholder="Shown above the standard text; the workbook is attached" />
-      </div>
+      <TextAreaField
+        id={`send-message-${heatNo}`}
+        label="Message (optional)"
+        rows={3}
+        maxLength={2000}
+        value={message}
+        onChange={(e) => setMessage(e.target.value)}
+        className={areaClass}
+        placeholder="Shown above the standard text; the workbook is attached"
+      />
       <EditionChooser value={edition} onChange={setEdition} name={`send-${heatNo}`} />
       {edition.edition === "internal" ? (
         <Notice tone="caution" title="Internal edition">
@@ -307,7 +292,7 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
         </Notice>
       ) : null}
       {problem ? <Notice tone="error">{problem}</Notice> : null}
-      {send.isError ? <Notice tone="error">{send.error.message}</Notice> : null}
+      <MutationError mutation={send} />
       <div className="flex flex-wrap gap-2">
         <Button type="submit" disabled={send.isPending}>
           {send.isPending ? "Queuing…" : "Send the workbook"}

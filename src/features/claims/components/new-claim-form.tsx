@@ -2,21 +2,14 @@ import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { z } from "zod";
 import type { Claim } from "@shared/api/claims";
-import { Button } from "@/components/ui/button";
+import { RecordForm, TextAreaField, todayInput } from "@/components/mutation-form";
 import { TextField } from "@/components/ui/field";
-import { Notice } from "@/components/ui/notice";
 import { ApiError } from "@/lib/api-client";
 import { friendlyErrors } from "@/lib/form-errors";
 import { useCreateClaim } from "../api/claims.queries";
 
 /** Ids as a person types or pastes them: commas, spaces, semicolons or new lines between. */
 export const idList = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim().toUpperCase()).filter(Boolean))];
-
-/** Today as YYYY-MM-DD in the browser's (the plant's) own day. */
-const today = () => {
-  const d = new Date();
-  return `${d.getFullYear()}-${String(d.getMonth() + 1).padStart(2, "0")}-${String(d.getDate()).padStart(2, "0")}`;
-};
 
 /** A quantity as typed: empty is none; a decimal comma is a decimal point. */
 const toNumber = (s: string) => (s.trim() === "" ? null : Number(s.trim().replace(",", ".")));
@@ -44,93 +37,60 @@ type FormValues = z.infer<typeof formSchema>;
 
 const areaClass = "rounded-md border border-ink-300 bg-white px-3 py-2 text-sm text-ink-900";
 
-function AreaError({ message }: { message?: string }) {
-  return message ? (
-    <p role="alert" className="text-sm font-medium text-alarm-700">
-      {message}
-    </p>
-  ) : null;
-}
-
 export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { onCreated: (c: Claim) => void; onCancel: () => void; initialProducts?: string }) {
   const create = useCreateClaim();
   const form = useForm<FormValues>({
     resolver: zodResolver(formSchema, friendlyErrors),
-    defaultValues: { claimNo: "", customer: "", products: initialProducts, receivedOn: today(), defectComplained: "", quantity: "", notes: "", linkTraced: true },
+    defaultValues: { claimNo: "", customer: "", products: initialProducts, receivedOn: todayInput(), defectComplained: "", quantity: "", notes: "", linkTraced: true },
   });
   const e = form.formState.errors;
   // The server's word on one field (a claim number already taken) shows under that field too.
   const field = create.error instanceof ApiError ? (create.error.details as { field?: string } | undefined)?.field : undefined;
   return (
-    <form
-      noValidate
-      aria-label="New claim"
-      className="space-y-4"
-      onSubmit={form.handleSubmit((v) =>
-        create.mutate(
-          {
-            claimNo: v.claimNo,
-            customer: v.customer,
-            productIds: idList(v.products),
-            receivedOn: v.receivedOn,
-            defectComplained: v.defectComplained,
-            quantityT: toNumber(v.quantity),
-            notes: v.notes.trim() || null,
-            linkTraced: v.linkTraced,
-          },
-          { onSuccess: onCreated },
-        ),
-      )}
+    <RecordForm
+      label="New claim"
+      form={form}
+      mutation={create}
+      toInput={(v) => ({
+        claimNo: v.claimNo,
+        customer: v.customer,
+        productIds: idList(v.products),
+        receivedOn: v.receivedOn,
+        defectComplained: v.defectComplained,
+        quantityT: toNumber(v.quantity),
+        notes: v.notes.trim() || null,
+        linkTraced: v.linkTraced,
+      })}
+      onSaved={onCreated}
+      onCancel={onCancel}
+      errorTitle="Not recorded"
+      submitLabel="Record the claim"
+      busyLabel="Recording…"
     >
-      {create.isError ? (
-        <Notice tone="error" title="Not recorded">
-          {create.error.message}
-        </Notice>
-      ) : null}
       <div className="grid gap-4 md:grid-cols-2">
         <TextField label="Claim number" {...form.register("claimNo")} error={e.claimNo?.message ?? (field === "claimNo" ? create.error?.message : undefined)} placeholder="the customer's or your own reference" autoCapitalize="characters" />
         <TextField label="Customer" {...form.register("customer")} error={e.customer?.message} />
         <TextField label="Received on" type="date" {...form.register("receivedOn")} error={e.receivedOn?.message} />
         <TextField label="Quantity (t)" inputMode="decimal" {...form.register("quantity")} error={e.quantity?.message} hint="Tonnes claimed; leave empty if not known." />
       </div>
-      <div className="flex flex-col gap-1">
-        <label htmlFor="claim-products" className="text-sm font-semibold text-ink-800">
-          Coil and plate ids
-        </label>
-        <textarea id="claim-products" rows={3} {...form.register("products")} className={`${areaClass} font-mono`} placeholder="K26000004, P26000001 …" aria-describedby="claim-products-hint" />
-        <p id="claim-products-hint" className="text-xs text-ink-600">
-          Several at once: separate them with commas, spaces or new lines. Ids the rolling-mill trace does not know are kept on the claim and flagged.
-        </p>
-        <AreaError message={e.products?.message} />
-      </div>
+      <TextAreaField
+        id="claim-products"
+        label="Coil and plate ids"
+        rows={3}
+        {...form.register("products")}
+        className={`${areaClass} font-mono`}
+        placeholder="K26000004, P26000001 …"
+        hint="Several at once: separate them with commas, spaces or new lines. Ids the rolling-mill trace does not know are kept on the claim and flagged."
+        error={e.products?.message}
+      />
       <label className="flex min-h-11 items-center gap-3 text-sm">
         <input type="checkbox" className="h-5 w-5" {...form.register("linkTraced")} />
         <span>
           <span className="font-semibold">Link the traced slabs</span> — each coil's or plate's slab is linked to the claim at once
         </span>
       </label>
-      <div className="flex flex-col gap-1">
-        <label htmlFor="claim-defect" className="text-sm font-semibold text-ink-800">
-          Defect complained of
-        </label>
-        <textarea id="claim-defect" rows={2} {...form.register("defectComplained")} className={areaClass} placeholder="What the customer found, where, how much" />
-        <AreaError message={e.defectComplained?.message} />
-      </div>
-      <div className="flex flex-col gap-1">
-        <label htmlFor="claim-notes" className="text-sm font-semibold text-ink-800">
-          Notes (optional)
-        </label>
-        <textarea id="claim-notes" rows={3} {...form.register("notes")} className={areaClass} />
-        <AreaError message={e.notes?.message} />
-      </div>
-      <div className="flex gap-2">
-        <Button type="submit" disabled={create.isPending}>
-          {create.isPending ? "Recording…" : "Record the claim"}
-        </Button>
-        <Button variant="ghost" onClick={onCancel}>
-          Cancel
-        </Button>
-      </div>
-    </form>
+      <TextAreaField id="claim-defect" label="Defect complained of" rows={2} {...form.register("defectComplained")} className={areaClass} placeholder="What the customer found, where, how much" error={e.defectComplained?.message} />
+      <TextAreaField id="claim-notes" label="Notes (optional)" rows={3} {...form.register("notes")} className={areaClass} error={e.notes?.message} />
+    </RecordForm>
   );
 }

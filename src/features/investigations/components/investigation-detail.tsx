@@ -2,6 +2,7 @@ import { useState, type ReactNode } from "react";
 import { Link } from "react-router";
 import { ACTION_STATUSES, ACTION_STATUS_LABELS, type Investigation, type Person } from "@shared/api/investigations";
 import { AttachmentsCard } from "@/components/attachments-card";
+import { MutationError, TextAreaField, todayInput, useAddRow } from "@/components/mutation-form";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
@@ -9,19 +10,13 @@ import { SeverityMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
 import { date, dateTime, DASH, plural } from "@/lib/format";
 import { useInvestigationChange, useUploadAttachments } from "../api/investigations.queries";
-import { heatList } from "./new-investigation-form";
+import { heatList, PersonOptions } from "./new-investigation-form";
 import { ActionStatusMark, HypothesisStatusMark, InvestigationStatusMark, OverdueMark } from "./investigation-marks";
 
 export type TagOption = { code: string; name: string; group: string };
 
 const inputClass = "min-h-11 w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
 const link = "font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2";
-
-type Change = ReturnType<typeof useInvestigationChange>;
-
-function ErrorOf({ change }: { change: Change }) {
-  return change.isError ? <Notice tone="error">{change.error.message}</Notice> : null;
-}
 
 function TagSelect({ tags, value, onChange, id, emptyLabel }: { tags: TagOption[]; value: string; onChange: (v: string) => void; id: string; emptyLabel?: string }) {
   const groups = [...new Set(tags.map((t) => t.group))];
@@ -73,11 +68,7 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
               {canManage && !closed ? (
                 <select aria-label="Owner" value={inv.owner?.id ?? ""} disabled={change.isPending} onChange={(e) => change.mutate({ method: "PATCH", path: "", body: { ownerId: e.target.value } })} className={inputClass}>
                   {inv.owner ? null : <option value="">No owner</option>}
-                  {people.map((p) => (
-                    <option key={p.id} value={p.id}>
-                      {p.name}
-                    </option>
-                  ))}
+                  <PersonOptions people={people} />
                 </select>
               ) : (
                 (inv.owner?.name ?? DASH)
@@ -120,7 +111,7 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
         </div>
       ) : null}
       <div className="mt-2">
-        <ErrorOf change={change} />
+        <MutationError mutation={change} />
       </div>
     </Card>
   );
@@ -128,7 +119,10 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
 
 export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage: boolean }) {
   const change = useInvestigationChange(inv.id);
-  const [heats, setHeats] = useState("");
+  const add = useAddRow(change, { heats: "" }, (v) => {
+    const list = heatList(v.heats);
+    return list.length ? { path: "/subjects", body: { heatNos: list, defectIds: [] } } : null;
+  });
   const s = inv.subjects;
   return (
     <Card title={`Subjects (${plural(s.heats.length, "heat")}, ${plural(s.defects.length, "defect")})`}>
@@ -184,22 +178,14 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
           </div>
         ) : null}
         {canManage && inv.status !== "closed" ? (
-          <form
-            className="flex flex-wrap items-end gap-2"
-            aria-label="Add heats"
-            onSubmit={(e) => {
-              e.preventDefault();
-              const list = heatList(heats);
-              if (list.length) change.mutate({ path: "/subjects", body: { heatNos: list, defectIds: [] } }, { onSuccess: () => setHeats("") });
-            }}
-          >
-            <TextField label="Add heats" hint="Heat numbers, separated by commas or spaces" value={heats} onChange={(e) => setHeats(e.target.value)} className="min-w-64 flex-1" />
-            <Button type="submit" variant="secondary" disabled={change.isPending || !heats.trim()}>
+          <form className="flex flex-wrap items-end gap-2" aria-label="Add heats" onSubmit={add.onSubmit}>
+            <TextField label="Add heats" hint="Heat numbers, separated by commas or spaces" {...add.bind("heats")} className="min-w-64 flex-1" />
+            <Button type="submit" variant="secondary" disabled={change.isPending || !add.values.heats.trim()}>
               Add
             </Button>
           </form>
         ) : null}
-        <ErrorOf change={change} />
+        <MutationError mutation={change} />
       </div>
     </Card>
   );
@@ -207,7 +193,7 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
 
 export function ParticipantsCard({ inv, canManage, people }: { inv: Investigation; canManage: boolean; people: Person[] }) {
   const change = useInvestigationChange(inv.id);
-  const [pick, setPick] = useState("");
+  const add = useAddRow(change, { pick: "" }, (v) => (v.pick ? { path: "/participants", body: { userIds: [v.pick] } } : null));
   const inIt = new Set([...inv.participants.map((p) => p.id), inv.owner?.id]);
   const others = people.filter((p) => !inIt.has(p.id));
   return (
@@ -225,31 +211,20 @@ export function ParticipantsCard({ inv, canManage, people }: { inv: Investigatio
           <p className="text-sm text-ink-600">Only the owner so far.</p>
         )}
         {canManage && inv.status !== "closed" && others.length ? (
-          <form
-            className="flex flex-wrap items-end gap-2"
-            aria-label="Add a participant"
-            onSubmit={(e) => {
-              e.preventDefault();
-              if (pick) change.mutate({ path: "/participants", body: { userIds: [pick] } }, { onSuccess: () => setPick("") });
-            }}
-          >
+          <form className="flex flex-wrap items-end gap-2" aria-label="Add a participant" onSubmit={add.onSubmit}>
             <label className="flex min-w-56 flex-1 flex-col gap-1">
               <span className="text-sm font-semibold text-ink-800">Add a participant</span>
-              <select value={pick} onChange={(e) => setPick(e.target.value)} className={inputClass}>
+              <select {...add.bind("pick")} className={inputClass}>
                 <option value="">Choose a person</option>
-                {others.map((p) => (
-                  <option key={p.id} value={p.id}>
-                    {p.name}
-                  </option>
-                ))}
+                <PersonOptions people={others} />
               </select>
             </label>
-            <Button type="submit" variant="secondary" disabled={!pick || change.isPending}>
+            <Button type="submit" variant="secondary" disabled={!add.values.pick || change.isPending}>
               Add
             </Button>
           </form>
         ) : null}
-        <ErrorOf change={change} />
+        <MutationError mutation={change} />
       </div>
     </Card>
   );
@@ -257,8 +232,7 @@ export function ParticipantsCard({ inv, canManage, people }: { inv: Investigatio
 
 export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; canManage: boolean; tags: TagOption[] }) {
   const change = useInvestigationChange(inv.id);
-  const [statement, setStatement] = useState("");
-  const [causeTag, setCauseTag] = useState("");
+  const add = useAddRow(change, { statement: "", causeTag: "" }, (v) => ({ path: "/hypotheses", body: { statement: v.statement.trim(), causeTag: v.causeTag || null } }));
   const open = canManage && inv.status !== "closed";
   return (
     <Card title={`Hypotheses (${inv.hypotheses.length})`}>
@@ -298,48 +272,30 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
           <p className="text-sm text-ink-600">No hypothesis yet.</p>
         )}
         {open ? (
-          <form
-            className="grid gap-2 md:grid-cols-[2fr_1fr_auto] md:items-end"
-            aria-label="Add a hypothesis"
-            onSubmit={(e) => {
-              e.preventDefault();
-              change.mutate({ path: "/hypotheses", body: { statement: statement.trim(), causeTag: causeTag || null } }, {
-                onSuccess: () => {
-                  setStatement("");
-                  setCauseTag("");
-                },
-              });
-            }}
-          >
-            <TextField label="New hypothesis" value={statement} onChange={(e) => setStatement(e.target.value)} maxLength={1000} placeholder="What could explain the defects" />
+          <form className="grid gap-2 md:grid-cols-[2fr_1fr_auto] md:items-end" aria-label="Add a hypothesis" onSubmit={add.onSubmit}>
+            <TextField label="New hypothesis" {...add.bind("statement")} maxLength={1000} placeholder="What could explain the defects" />
             <div className="flex flex-col gap-1">
               <label htmlFor="hyp-tag" className="text-sm font-semibold text-ink-800">
                 Cause tag (optional)
               </label>
-              <TagSelect id="hyp-tag" tags={tags} value={causeTag} onChange={setCauseTag} emptyLabel="None" />
+              <TagSelect id="hyp-tag" tags={tags} value={add.values.causeTag} onChange={(v) => add.set("causeTag", v)} emptyLabel="None" />
             </div>
-            <Button type="submit" variant="secondary" className="self-end" disabled={change.isPending || statement.trim().length === 0}>
+            <Button type="submit" variant="secondary" className="self-end" disabled={change.isPending || add.values.statement.trim().length === 0}>
               Add
             </Button>
           </form>
         ) : null}
-        <ErrorOf change={change} />
+        <MutationError mutation={change} />
       </div>
     </Card>
   );
 }
 
-/** Today as YYYY-MM-DD in the plant's (the browser's) own day. */
-const today = () => {
-  const d = new Date();
-  return `${d.getFullYear()}-${String(d.getMonth() + 1).padStart(2, "0")}-${String(d.getDate()).padStart(2, "0")}`;
-};
-
 export function ActionsCard({ inv, canManage, people }: { inv: Investigation; canManage: boolean; people: Person[] }) {
   const change = useInvestigationChange(inv.id);
-  const [description, setDescription] = useState("");
-  const [ownerId, setOwnerId] = useState("");
-  const [dueOn, setDueOn] = useState("");
+  // The owner stays chosen for the next action.
+  const add = useAddRow(change, { description: "", ownerId: "", dueOn: "" }, (v) => ({ path: "/actions", body: { description: v.description.trim(), ownerId: v.ownerId, dueOn: v.dueOn } }), ["ownerId"]);
+  const { description, ownerId, dueOn } = add.values;
   const open = canManage && inv.status !== "closed";
   return (
     <Card title={`Actions (${inv.actionList.length})`}>
@@ -383,40 +339,24 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
           <p className="text-sm text-ink-600">No action yet.</p>
         )}
         {open ? (
-          <form
-            className="grid gap-2 md:grid-cols-2 xl:grid-cols-[2fr_1fr_1fr_auto] xl:items-end"
-            aria-label="Add an action"
-            onSubmit={(e) => {
-              e.preventDefault();
-              change.mutate({ path: "/actions", body: { description: description.trim(), ownerId, dueOn } }, {
-                onSuccess: () => {
-                  setDescription("");
-                  setDueOn("");
-                },
-              });
-            }}
-          >
-            <TextField label="New action" value={description} onChange={(e) => setDescription(e.target.value)} maxLength={1000} placeholder="What is to be done" />
+          <form className="grid gap-2 md:grid-cols-2 xl:grid-cols-[2fr_1fr_1fr_auto] xl:items-end" aria-label="Add an action" onSubmit={add.onSubmit}>
+            <TextField label="New action" {...add.bind("description")} maxLength={1000} placeholder="What is to be done" />
             <div className="flex flex-col gap-1">
               <label htmlFor="action-owner" className="text-sm font-semibold text-ink-800">
                 Action owner
               </label>
-              <select id="action-owner" value={ownerId} onChange={(e) => setOwnerId(e.target.value)} className={inputClass}>
+              <select id="action-owner" {...add.bind("ownerId")} className={inputClass}>
                 <option value="">Choose a person</option>
-                {people.map((p) => (
-                  <option key={p.id} value={p.id}>
-                    {p.name}
-                  </option>
-                ))}
+                <PersonOptions people={people} />
               </select>
             </div>
-            <TextField label="Due on" type="date" value={dueOn} onChange={(e) => setDueOn(e.target.value)} hint={dueOn && dueOn < today() ? "This date has passed: the action shows as overdue." : undefined} />
+            <TextField label="Due on" type="date" {...add.bind("dueOn")} hint={dueOn && dueOn < todayInput() ? "This date has passed: the action shows as overdue." : undefined} />
             <Button type="submit" variant="secondary" className="self-end" disabled={change.isPending || description.trim().length === 0 || !ownerId || !dueOn}>
               Add
             </Button>
           </form>
         ) : null}
-        <ErrorOf change={change} />
+        <MutationError mutation={change} />
       </div>
     </Card>
   );
@@ -456,14 +396,18 @@ export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption
             <TagSelect id="close-cause" tags={tags} value={cause} onChange={setCause} emptyLabel="Choose the confirmed cause" />
           </div>
         </div>
-        <div className="flex flex-col gap-1">
-          <label htmlFor="close-note" className="text-sm font-semibold text-ink-800">
-            Closure note
-          </label>
-          <textarea id="close-note" rows={3} value={note} onChange={(e) => setNote(e.target.value)} maxLength={5000} className="rounded-md border border-ink-300 bg-white px-3 py-2 text-sm" placeholder="What was found, what was changed, through which procedure" />
-        </div>
+        <TextAreaField
+          id="close-note"
+          label="Closure note"
+          rows={3}
+          value={note}
+          onChange={(e) => setNote(e.target.value)}
+          maxLength={5000}
+          className="rounded-md border border-ink-300 bg-white px-3 py-2 text-sm"
+          placeholder="What was found, what was changed, through which procedure"
+        />
         {problem ? <Notice tone="error">{problem}</Notice> : null}
-        <ErrorOf change={change} />
+        <MutationError mutation={change} />
         <Button type="submit" disabled={change.isPending}>
           {change.isPending ? "Closing…" : "Close with this cause"}
         </Button>

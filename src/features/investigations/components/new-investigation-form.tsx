@@ -3,14 +3,22 @@ import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { z } from "zod";
 import type { Investigation, Person } from "@shared/api/investigations";
-import { Button } from "@/components/ui/button";
+import { RecordForm, TextAreaField } from "@/components/mutation-form";
 import { TextField } from "@/components/ui/field";
-import { Notice } from "@/components/ui/notice";
 import { plural } from "@/lib/format";
 import { useCreateInvestigation } from "../api/investigations.queries";
 
 /** Heat numbers as a person types them: commas, spaces or new lines between. */
 export const heatList = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean))];
+
+/** The people of a person drop-down (owner, participant, action owner), by name. */
+export function PersonOptions({ people }: { people: Person[] }) {
+  return people.map((p) => (
+    <option key={p.id} value={p.id}>
+      {p.name}
+    </option>
+  ));
+}
 
 const formSchema = z
   .object({
@@ -64,48 +72,40 @@ export function NewInvestigationForm({
   const participants = form.watch("participantIds");
   const ownerId = form.watch("ownerId");
   return (
-    <form
-      noValidate
-      aria-label="New investigation"
-      className="space-y-4"
-      onSubmit={form.handleSubmit((v) =>
-        create.mutate(
-          {
-            title: v.title,
-            problemStatement: v.problemStatement,
-            ownerId: v.ownerId || undefined,
-            heatNos: heatList(v.heats),
-            defectIds: withHeatDefects ? [...new Set([...v.defectIds, ...heatDefectIds])] : v.defectIds,
-            participantIds: v.participantIds.filter((p) => p !== v.ownerId),
-          },
-          { onSuccess: onCreated },
-        ),
-      )}
+    <RecordForm
+      label="New investigation"
+      form={form}
+      mutation={create}
+      toInput={(v) => ({
+        title: v.title,
+        problemStatement: v.problemStatement,
+        ownerId: v.ownerId || undefined,
+        heatNos: heatList(v.heats),
+        defectIds: withHeatDefects ? [...new Set([...v.defectIds, ...heatDefectIds])] : v.defectIds,
+        participantIds: v.participantIds.filter((p) => p !== v.ownerId),
+      })}
+      onSaved={onCreated}
+      onCancel={onCancel}
+      submitLabel="Open the investigation"
+      busyLabel="Opening…"
     >
-      {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
       <TextField label="Title" {...form.register("title")} error={e.title?.message} placeholder="Slag spots on LV-ST32, strand 2" />
-      <div className="flex flex-col gap-1">
-        <label htmlFor="inv-problem" className="text-sm font-semibold text-ink-800">
-          Problem statement
-        </label>
-        <textarea id="inv-problem" rows={4} {...form.register("problemStatement")} className="rounded-md border border-ink-300 bg-white px-3 py-2 text-sm" placeholder="What was found, where, since when, how often" />
-        {e.problemStatement ? (
-          <p role="alert" className="text-sm font-medium text-alarm-700">
-            {e.problemStatement.message}
-          </p>
-        ) : null}
-      </div>
+      <TextAreaField
+        id="inv-problem"
+        label="Problem statement"
+        rows={4}
+        {...form.register("problemStatement")}
+        className="rounded-md border border-ink-300 bg-white px-3 py-2 text-sm"
+        placeholder="What was found, where, since when, how often"
+        error={e.problemStatement?.message}
+      />
       <div className="grid gap-4 md:grid-cols-2">
         <div className="flex flex-col gap-1">
           <label htmlFor="inv-owner" className="text-sm font-semibold text-ink-800">
             Owner
           </label>
           <select id="inv-owner" {...form.register("ownerId")} className={inputClass}>
-            {people.map((p) => (
-              <option key={p.id} value={p.id}>
-                {p.name}
-              </option>
-            ))}
+            <PersonOptions people={people} />
           </select>
         </div>
         <TextField label="Heat numbers" hint="Separate them with commas or spaces." {...form.register("heats")} error={e.heats?.message} />
@@ -152,14 +152,6 @@ export function NewInvestigationForm({
             ))}
         </div>
       </fieldset>
-      <div className="flex gap-2">
-        <Button type="submit" disabled={create.isPending}>
-          {create.isPending ? "Opening…" : "Open the investigation"}
-        </Button>
-        <Button variant="ghost" onClick={onCancel}>
-          Cancel
-        </Button>
-      </div>
-    </form>
+    </RecordForm>
   );
 }
