@@ -10,7 +10,9 @@ import { originPolicyOf, type Env } from "./env";
 import type { Logger } from "./lib/logger";
 import { PROJECT_ROOT } from "./lib/paths";
 import { can } from "@shared/roles";
+import { screenFor } from "@shared/screens";
 import { mountRoutes, type AnyRoute } from "./lib/route";
+import { firstDataRequest, preloadLink } from "./lib/screen-data";
 import { createScreenPages } from "./lib/screen-preload";
 import { authContext } from "./middleware/auth-context";
 import { authDoor } from "./middleware/auth-door";
@@ -231,13 +233,18 @@ export function createApp(opts: AppOptions) {
     // Every other address is a screen of the app: index.html naming that screen's code (so the
     // browser fetches it beside the first script: server/lib/screen-preload.ts), compressed like the rest.
     const screens = createScreenPages(CLIENT_DIST);
-    // Who asks decides one thing: a report's chart code is named for a role that reads reports only.
+    // Who asks decides what is named: a report's chart code for a role that reads reports, and the
+    // screen's first data request (server/lib/screen-data.ts) for a role that may read it.
     app.get("/{*any}", authContext(auth), (req, res) => {
       const page = screens.pageFor(req.path, { mayReadReports: can(req.user?.roles, "reports.read") });
+      const signedIn = req.user && !req.user.mustChangePassword ? req.user : null;
+      const data = signedIn ? firstDataRequest(screenFor(req.path).screen, new URLSearchParams(req.url.split("?")[1] ?? ""), signedIn.roles) : null;
+      if (data) res.setHeader("Link", preloadLink(data));
       const encoding = req.headers["accept-encoding"] ? (req.acceptsEncodings("br") ? "br" : req.acceptsEncodings("gzip") ? "gzip" : null) : null;
       res.setHeader("Content-Type", "text/html; charset=UTF-8");
       res.setHeader("Cache-Control", "no-cache");
       res.vary("Accept-Encoding");
+      res.vary("Cookie");
       if (encoding) res.setHeader("Content-Encoding", encoding);
       // send() answers 304 to a browser holding this very page (ETag), and no body to HEAD.
       res.send(encoding === "br" ? page.br : encoding === "gzip" ? page.gzip : page.html);

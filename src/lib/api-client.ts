@@ -1,4 +1,5 @@
 import type { z } from "zod";
+import { toQueryString, type Query } from "@shared/query-string";
 
 /** An error answer of the API: `{ error: { code, message, details } }` with its HTTP status. */
 export class ApiError extends Error {
@@ -13,19 +14,8 @@ export class ApiError extends Error {
   }
 }
 
-type Query = Record<string, string | number | boolean | null | undefined | (string | number)[]>;
-
-export function toQueryString(query?: Query): string {
-  if (!query) return "";
-  const params = new URLSearchParams();
-  for (const [k, v] of Object.entries(query)) {
-    if (v === undefined || v === null || v === "") continue;
-    if (Array.isArray(v)) v.forEach((x) => params.append(k, String(x)));
-    else params.set(k, String(v));
-  }
-  const s = params.toString();
-  return s ? `?${s}` : "";
-}
+// Shared with the server, which names a screen's first request in its page (server/lib/screen-data.ts).
+export { toQueryString };
 
 interface RequestOptions<T> {
   method?: "GET" | "POST" | "PATCH" | "PUT" | "DELETE";

@@ -1,4 +1,3 @@
-import http from "node:http";
 import type { AddressInfo } from "node:net";
 import { createTestApp, TEST_PASSWORD, type TestApp } from "./test-app";
 

@@ -163,6 +163,38 @@ describe("a screen's page names the screen's code", () => {
   });
 });
 
+describe("a screen's first data request is named with its page", () => {
+  const linkOf = (headers: http.IncomingHttpHeaders) => headers.link as string | undefined;
+  const preload = (url: string) => `<${url}>; rel=preload; as=fetch; crossorigin`;
+
+  it("when a quality engineer opens a report, then the page's Link header names the report's request exactly as the screen asks it (canonical order, defaults filled), and that request answers", async () => {
+    const cookie = await signIn("quality");
+    expect(linkOf((await get("/reports/overview", { cookie })).headers)).toBe(preload("/api/reports/overview?period=week"));
+    // Filters first in their fixed order, then the report's own keys; unknown keys dropped, values trimmed.
+    const { headers } = await get("/reports/rate-by-variable?bins=5&grade=LV-ST32&junk=1&defectType=%20SLG%20", { cookie });
+    const url = "/api/reports/rate-by-variable?grade=LV-ST32&defectType=SLG&variable=casting_speed_m_min&bins=5&binning=equal&minN=30";
+    expect(linkOf(headers)).toBe(preload(url));
+    const res = await fetch(`http://127.0.0.1:${port}${url}`, { headers: { cookie } });
+    expect(res.status).toBe(200);
+    expect(res.headers.get("content-type")).toMatch(/^application\/json/);
+  });
+
+  it("when the heats list is opened with a sort and a search, then its request is named with the list's parameters in the client's order", async () => {
+    const cookie = await signIn("claims");
+    expect(linkOf((await get("/heats", { cookie })).headers)).toBe(preload("/api/heats"));
+    expect(linkOf((await get("/heats?sort=gradeCode&q=L26&page=2&pageSize=25", { cookie })).headers)).toBe(preload("/api/heats?q=L26&sort=gradeCode&page=2"));
+  });
+
+  it("when someone whose role may not read it, or nobody, opens the screen, or a screen without a first request is opened, then no request is named", async () => {
+    const inspector = await signIn("inspector");
+    expect(linkOf((await get("/reports/overview", { cookie: inspector })).headers)).toBeUndefined();
+    expect(linkOf((await get("/heats", { cookie: inspector })).headers)).toBeUndefined();
+    expect(linkOf((await get("/reports/overview")).headers)).toBeUndefined();
+    expect(linkOf((await get("/yard", { cookie: inspector })).headers)).toBeUndefined();
+    expect(linkOf((await get("/reports", { cookie: await signIn("quality") })).headers)).toBeUndefined();
+  });
+});
+
 describe("the list of screens and the build agree", () => {
   it("every screen in shared/screens.ts has its module in the build, and every route module of the build is a screen in the list", () => {
     const listed = new Set([FRAME, ...OUTSIDE_FRAME, ...IN_FRAME].map((s) => s.module));

@@ -1,9 +1,10 @@
 import { keepPreviousData, queryOptions } from "@tanstack/react-query";
-import { heatDetailSchema, heatListSchema, heatSamplesSchema, type HeatListQuery } from "@shared/api/heats";
+import { heatDetailSchema, heatListSchema, heatSamplesSchema } from "@shared/api/heats";
+import type { HeatListParams } from "@shared/heat-list-query";
 import { api } from "@/lib/api-client";
 
 /** The list's query as it travels in the URL: everything optional, the server fills the defaults. */
-export type HeatListParams = Partial<HeatListQuery>;
+export type { HeatListParams };
 
 export const heatKeys = {
   all: ["heats"] as const,

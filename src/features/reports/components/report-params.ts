@@ -1,125 +1,73 @@
-import { REPORT_KINDS } from "@shared/api/reports";
 import { termLabel } from "@shared/api/reports";
+import { FILTER_KEYS, REPORT_QUERIES, type ReportKind, type ReportParams } from "@shared/report-query";
 
-export type ReportKind = (typeof REPORT_KINDS)[number];
-
-/**
- * A report's parameters as they travel in the address. The screen's query string is the API's
- * query string, and the one saved with a report: a shared link, a saved report, the screen and its
- * Excel export all ask the server the same question.
- *
- * Values are strings; lists are comma-joined, as the API reads them (`grade=LV-ST32,LV-ST36`).
- */
-export type ReportParams = Record<string, string>;
-
-/** The filters every report takes (shared/api/reports.ts, reportFiltersSchema), in the order they are written. */
-export const FILTER_KEYS = ["from", "to", "caster", "strand", "grade", "family", "defectType", "category", "stage", "minSeverity", "cause", "transition", "riskBand"] as const;
-export type FilterKey = (typeof FILTER_KEYS)[number];
+// The question's keys, defaults and canonical query string live in shared/report-query.ts (the server
+// names a screen's first request with them); the screens' words about each report live here.
+export { FILTER_KEYS, isReportKind, readReportParams, reportQueryString, type FilterKey, type ReportKind, type ReportParams } from "@shared/report-query";
 
 export interface ReportSpec {
   kind: ReportKind;
   title: string;
   /** One line on the reports home and under the title. */
   summary: string;
-  /** The report's own parameters with the value used when the address leaves them out. */
+  /** The report's own parameters with the value used when the address leaves them out (shared/report-query.ts). */
   defaults: ReportParams;
-  /** Parameters of its own that have no default (e.g. the two periods of a comparison). */
+  /** Parameters of its own that have no default (shared/report-query.ts). */
   optional?: string[];
 }
 
-export const REPORTS: ReportSpec[] = [
+const WORDS: Omit<ReportSpec, "defaults" | "optional">[] = [
   {
     kind: "overview",
     title: "Overview",
     summary: "Share of slabs affected by period with its interval, defects per 100 slabs and per 1000 t, a Pareto of defect types, rates by grade and by strand.",
-    defaults: { period: "week" },
-    // standardise=grade_family: each period's rate directly standardised to the grade-family mix, beside the crude one.
-    optional: ["standardise"],
   },
   {
     kind: "rate-by-variable",
     title: "Rate against a variable",
     summary: "Binned rates with Wilson intervals against one casting condition; Spearman, logistic odds ratio and Mann–Whitney between affected and sound slabs; the odds ratio adjusted for the grade mix and the rates split by grade family, strand or another group on request.",
-    defaults: { variable: "casting_speed_m_min", bins: "10", binning: "equal", minN: "30" },
-    // Off until chosen: adjustFor (terms of the adjusted odds ratio), stratifyBy (one curve per group), se (their standard errors).
-    optional: ["adjustFor", "stratifyBy", "se"],
   },
   {
     kind: "screening",
     title: "Screening",
     summary: "Every condition ranked by its association with the defect adjusted for the grade family (or what you choose): odds ratios per interquartile range, crude beside adjusted, p-values adjusted by Benjamini–Hochberg.",
-    // The API takes minN here but does not use it yet (its few-slabs mark is fixed): no setting that changes nothing.
-    // adjustFor: the API's own default (grade family) written out, so the address says the whole question; "none" for crude only.
-    defaults: { adjustFor: "grade_family" },
-    optional: ["se"],
   },
   {
     kind: "adjusted",
     title: "Adjusted model",
     summary: "Is it the condition, or the grade mix? Crude and adjusted odds ratios side by side for the conditions you examine, adjusted for grade family or anything else, with heat-clustered intervals and a forest plot.",
-    defaults: { variables: "casting_speed_m_min", adjustFor: "grade_family", se: "cluster", per: "step" },
   },
   {
     kind: "process-window",
     title: "Process window",
     summary: "The rate over a grid of two conditions, with the count of slabs in every cell; cells with too few slabs are greyed.",
-    defaults: { x: "casting_speed_m_min", y: "embr_current_a", xBins: "6", yBins: "6", binning: "quantile", minN: "30" },
   },
   {
     kind: "control-chart",
     title: "Control chart",
     summary: "p-chart, Laney p′ chart or u-chart by day or week: limits from a baseline period applied to the later ones, Western Electric run rules, out-of-control periods marked.",
-    defaults: { period: "day", chart: "p", rules: "on" },
-    optional: ["baselineFrom", "baselineTo", "standardise"],
   },
   {
     kind: "before-after",
     title: "Before and after",
     summary: "Two periods, or two ranges of one condition: the difference in rates with its interval, and Fisher's or the chi-square test; compared within each grade family (Mantel–Haenszel) on request.",
-    defaults: { mode: "periods" },
-    optional: ["aFrom", "aTo", "bFrom", "bTo", "variable", "aMin", "aMax", "bMin", "bMax", "stratifyBy"],
   },
   {
     kind: "slab-positions",
     title: "Where on the slab",
     summary: "Where the defects sit: by face, along the length from the head end and across the width, drawn on the slab's unrolled faces.",
-    defaults: { alongBins: "10", acrossBins: "5" },
   },
   {
     kind: "cause-pareto",
     title: "Cause Pareto",
     summary: "The cause tags of the defects passing the filters, largest first, with the cumulative share, the confidence of each tagging and how many defects carry no cause yet.",
-    defaults: { minConfidence: "suspected" },
   },
 ];
 
+export const REPORTS: ReportSpec[] = WORDS.map((w) => ({ ...w, ...REPORT_QUERIES[w.kind] }));
+
 export const reportSpec = (kind: ReportKind): ReportSpec => REPORTS.find((r) => r.kind === kind)!;
 export const reportPath = (kind: ReportKind, query = "") => `/reports/${kind}${query ? `?${query}` : ""}`;
-export const isReportKind = (k: string): k is ReportKind => (REPORT_KINDS as readonly string[]).includes(k);
-
-const keysOf = (spec: ReportSpec) => [...FILTER_KEYS, ...Object.keys(spec.defaults), ...(spec.optional ?? [])];
-
-/** The report's parameters from the address: known keys only, trimmed, defaults filled in. */
-export function readReportParams(kind: ReportKind, sp: URLSearchParams): ReportParams {
-  const spec = reportSpec(kind);
-  const out: ReportParams = {};
-  for (const k of keysOf(spec)) {
-    const v = sp.get(k)?.trim();
-    if (v) out[k] = v.slice(0, 400);
-    else if (spec.defaults[k] !== undefined) out[k] = spec.defaults[k]!;
-  }
-  return out;
-}
-
-/** The canonical query string (a stable key order, empty values left out). */
-export function reportQueryString(kind: ReportKind, params: ReportParams): string {
-  const sp = new URLSearchParams();
-  for (const k of keysOf(reportSpec(kind))) {
-    const v = params[k];
-    if (v !== undefined && v !== "") sp.set(k, v);
-  }
-  return sp.toString();
-}
 
 export const listOf = (v: string | undefined): string[] => (v ? v.split(",").map((s) => s.trim()).filter(Boolean) : []);
 export const joinList = (items: string[]): string | undefined => (items.length ? items.join(",") : undefined);
