@@ -2,7 +2,7 @@ import { createAuthMiddleware, APIError } from "better-auth/api";
 import { createSignInGuard, LOCK_MS, MAX_FAILURES, type SignInGuard } from "./lib/sign-in-guard";
 import { recordAudit } from "./services/audit.service";
 import { createSessionCache } from "./lib/session-cache";
-import { clearMustChange, revokeResetLinks } from "./services/users.service";
+import { clearMustChange, revokeResetLinks } from "./services/password-state";
 import { betterAuth } from "better-auth";
 import { drizzleAdapter } from "better-auth/adapters/drizzle";
 import { admin } from "better-auth/plugins/admin";

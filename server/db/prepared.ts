@@ -15,6 +15,8 @@ import type Database from "better-sqlite3";
 const MAX_PER_CONNECTION = 500;
 const statements = new WeakMap<Database.Database, Map<string, Database.Statement>>();
 
+// `{}` is better-sqlite3's own constraint for a statement's parameters (named parameters are an object).
+// eslint-disable-next-line @typescript-eslint/no-empty-object-type
 export function prepared<P extends unknown[] | {} = unknown[], R = unknown>(sqlite: Database.Database, sql: string): Database.Statement<P, R> {
   let byText = statements.get(sqlite);
   if (!byText) statements.set(sqlite, (byText = new Map()));

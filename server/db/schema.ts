@@ -2,6 +2,7 @@
 // The four auth tables follow the field names better-auth's Drizzle adapter expects (with its admin
 // plugin's columns); everything after them is the plant.
 import { sql } from "drizzle-orm";
+import type { EmbrCalibration } from "../metallurgy/embr";
 import {
   check,
   index,
@@ -118,13 +119,8 @@ export const casters = sqliteTable("casters", {
   ...timestamps,
 });
 
-/**
- * EMBr calibration from coil current to field at the brake's centre, machine-specific:
- * `{ kind: "linear", teslaPerAmp, offsetT }` or `{ kind: "table", points: [[amps, tesla], …] }`.
- */
-export type EmbrCalibration =
-  | { kind: "linear"; teslaPerAmp: number; offsetT: number }
-  | { kind: "table"; points: [number, number][] };
+// The strand's EMBr calibration is the brake formula's input, so its type lives with the formula.
+export type { EmbrCalibration };
 
 export const strands = sqliteTable(
   "strands",

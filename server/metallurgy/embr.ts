@@ -2,7 +2,14 @@
  * Electromagnetic brake numbers (DOMAIN.md §4). Liquid-steel properties recalled as used across the
  * EMBr literature: σ ≈ 7.14×10⁵ S/m, ρ ≈ 7000 kg/m³, μ ≈ 0.0063 Pa·s; the plant can set its own.
  */
-import type { EmbrCalibration } from "../db/schema";
+/**
+ * EMBr calibration from coil current to field at the brake's centre, machine-specific:
+ * `{ kind: "linear", teslaPerAmp, offsetT }` or `{ kind: "table", points: [[amps, tesla], …] }`.
+ * Stored as JSON on the strand (server/db/schema.ts re-exports this type).
+ */
+export type EmbrCalibration =
+  | { kind: "linear"; teslaPerAmp: number; offsetT: number }
+  | { kind: "table"; points: [number, number][] };
 
 export interface SteelProperties {
   conductivitySPerM: number;

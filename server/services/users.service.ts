@@ -1,12 +1,12 @@
 import crypto from "node:crypto";
-import { and, asc, desc, eq, gt, isNotNull, like, ne, sql } from "drizzle-orm";
+import { and, asc, desc, eq, gt, isNotNull, ne, sql } from "drizzle-orm";
 import { APIError } from "better-auth/api";
 import { parseRoles, type Role } from "@shared/roles";
 import { firstSignInOf, type AdminUser, type ChangeOwnPasswordInput, type CreateUserInput, type CreatedUser, type FirstSignIn, type UpdateUserInput } from "@shared/api/users";
 import type { Auth } from "../auth";
 import type { Db } from "../db/client";
 import { CLIENT_IP_HEADER } from "../auth";
-import { account, emailOutbox, session, user, verification } from "../db/schema";
+import { account, emailOutbox, session, user } from "../db/schema";
 import type { Logger } from "../lib/logger";
 import type { Notifications } from "../mail/notifications";
 import { HttpError, conflict, notFound } from "../lib/http-error";
@@ -57,33 +57,6 @@ function auditView(u: UserRow) {
 export function listUsers(db: Db, guard?: SignInGuard): AdminUser[] {
   const passwords = withPassword(db);
   return db.select().from(user).orderBy(asc(user.name)).all().map((u) => toAdminUser(u, passwords.has(u.id), guard));
-}
-
-/**
- * The person chose a password of their own: the first password an administrator set no longer
- * holds them at the change screen. Returns whether it did.
- */
-export function clearMustChange(db: Pick<Db, "update">, userId: string): boolean {
-  return (
-    db
-      .update(user)
-      .set({ mustChangePassword: false, updatedAt: new Date() })
-      .where(and(eq(user.id, userId), eq(user.mustChangePassword, true)))
-      .run().changes > 0
-  );
-}
-
-/**
- * Deletes every password-reset (and invitation) link still out for this user. better-auth keeps each
- * as a `verification` row with identifier `reset-password:<token>` and the user id as its value
- * (better-auth 1.7, api/routes/password.mjs; stored in plain, as `verification.storeIdentifier` is
- * not set). Returns how many were revoked.
- */
-export function revokeResetLinks(db: Pick<Db, "delete">, userId: string): number {
-  return db
-    .delete(verification)
-    .where(and(like(verification.identifier, "reset-password:%"), eq(verification.value, userId)))
-    .run().changes;
 }
 
 /** Lifts every sign-in lock of the account (from every address), audited; 409 when there is none. */

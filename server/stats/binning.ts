@@ -57,7 +57,7 @@ export function binnedRates(groups: Group[], edges: number[], minN = 1, emptySpa
     const w = wilson(x, n);
     return [{ lower: groups[0]!.value, upper: groups[groups.length - 1]!.value, slabs: n, affected: x, rate: w.p, ciLower: w.lower, ciUpper: w.upper }];
   }
-  let bins = edges.slice(0, -1).map((lo, i) => ({ lower: lo, upper: edges[i + 1]!, slabs: 0, affected: 0 }));
+  const bins = edges.slice(0, -1).map((lo, i) => ({ lower: lo, upper: edges[i + 1]!, slabs: 0, affected: 0 }));
   let b = 0;
   for (const g of groups) {
     while (b < bins.length - 1 && g.value >= bins[b]!.upper) b++;

@@ -232,7 +232,7 @@ async function serve(kind: "app" | "floor", template: string) {
       db.$client.close();
     };
   }
-  process.on("message", async (m: ToChild) => {
+  const onMessage = async (m: ToChild) => {
     if (m.type === "usage") {
       const u = process.cpuUsage();
       // How long the event loop was held up since the last reading: what a post waits for while a report computes.
@@ -246,6 +246,13 @@ async function serve(kind: "app" | "floor", template: string) {
       fs.rmSync(dir, { recursive: true, force: true });
       process.exit(0); // a clean exit writes the --cpu-prof profile
     }
+  };
+  // A message handled with an error ends the child with it, as an uncaught error would.
+  process.on("message", (m: ToChild) => {
+    onMessage(m).catch((err: unknown) => {
+      console.error(err);
+      process.exit(1);
+    });
   });
   process.send!({ type: "ready", baseUrl, dbFile } satisfies FromChild);
 }

@@ -19,7 +19,7 @@ afterEach(async () => {
 type Call = { kind: "defect"; key: string } | { kind: "photo"; defectId: number; key: string };
 
 /** A transport whose answers are scripted per call; unscripted calls succeed. */
-function scriptedTransport(script: { defect?: (unknown | null)[]; photo?: (unknown | null)[] } = {}) {
+function scriptedTransport(script: { defect?: (Error | null)[]; photo?: (Error | null)[] } = {}) {
   const calls: Call[] = [];
   let nextId = 100;
   const defectAnswers = [...(script.defect ?? [])];

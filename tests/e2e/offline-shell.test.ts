@@ -242,7 +242,7 @@ describe("the app on the tablet without a network", () => {
                 open.result.close();
               };
             };
-            open.onerror = () => reject(open.error);
+            open.onerror = () => reject(open.error ?? new Error("the outbox database did not open"));
           }),
         clientKey,
       );

@@ -109,7 +109,7 @@ describe("offline capture in the yard", () => {
             const b = tx.objectStore("photos").count();
             tx.oncomplete = () => resolve(a.result + b.result);
           };
-          open.onerror = () => reject(open.error);
+          open.onerror = () => reject(open.error ?? new Error("the outbox database did not open"));
         }),
     );
     expect(left).toBe(0);

@@ -120,7 +120,7 @@ describe("operating windows in the browser (issue 15)", () => {
   }, 120_000);
 
   it("when a quality engineer opens the screen on a desktop, then the rules read without the write and change buttons", async () => {
-    await env.server.db.$client
+    env.server.db.$client
       .prepare("insert into operating_windows (name, family_id, target_kind, target_code, conditions) values ('Slow casting', (select id from grade_families where code = 'LC'), 'type', 'SLG', ?)")
       .run(JSON.stringify([{ variable: "casting_speed_m_min", op: "below", value: 1.5 }]));
     const context = await env.browser.newContext({ viewport: DESKTOP });

@@ -39,10 +39,10 @@ async function saveAndReadOutbox(page: Page): Promise<SentPhoto[]> {
     () =>
       new Promise<{ name: string; type: string; b64: string }[]>((resolve, reject) => {
         const open = indexedDB.open("strandsight-outbox");
-        open.onerror = () => reject(open.error);
+        open.onerror = () => reject(open.error ?? new Error("the outbox database did not open"));
         open.onsuccess = () => {
           const all = open.result.transaction("photos").objectStore("photos").getAll();
-          all.onerror = () => reject(all.error);
+          all.onerror = () => reject(all.error ?? new Error("the photos could not be read"));
           all.onsuccess = async () => {
             const records = (all.result as { name: string; type: string; blob: Blob; addedAt: number }[]).sort((a, b) => a.addedAt - b.addedAt);
             open.result.close();

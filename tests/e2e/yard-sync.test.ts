@@ -223,7 +223,7 @@ describe("the yard's slabs on the tablet", () => {
             const p = tx.objectStore("photos").index("by-entry").count(key);
             tx.oncomplete = () => resolve({ entry: (e.result as { slabId: string } | undefined)?.slabId ?? null, photos: p.result });
           };
-          open.onerror = () => reject(open.error);
+          open.onerror = () => reject(open.error ?? new Error("the outbox database did not open"));
         }),
       clientKey,
     );

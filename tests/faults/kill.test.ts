@@ -9,7 +9,7 @@ import path from "node:path";
 import Database from "better-sqlite3";
 import sharp from "sharp";
 import { afterEach, describe, expect, it } from "vitest";
-import { csv, HEAT_FILE_HEADERS, heatFileRow, type Row } from "../helpers/workbooks";
+import { csv, HEAT_FILE_HEADERS, heatFileRow } from "../helpers/workbooks";
 import { disposeServer, startServer, waitFor, type ServerProcess } from "../helpers/server-process";
 
 let servers: ServerProcess[] = [];

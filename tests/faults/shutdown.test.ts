@@ -7,7 +7,7 @@ import http from "node:http";
 import net from "node:net";
 import { once } from "node:events";
 import { afterEach, describe, expect, it } from "vitest";
-import { csv, HEAT_FILE_HEADERS, heatFileRow, type Row } from "../helpers/workbooks";
+import { csv, HEAT_FILE_HEADERS, heatFileRow } from "../helpers/workbooks";
 import { disposeServer, startServer, waitFor, type ServerProcess } from "../helpers/server-process";
 
 let srv: ServerProcess | undefined;

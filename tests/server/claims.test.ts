@@ -313,7 +313,6 @@ describe("the heat history workbook", () => {
 describe("the two editions of a heat's history", () => {
   let heatNo: string;
   let claimId: number;
-  let claimNo: string;
   const names = () => all("select name, email from user").flatMap((u) => [u.name as string, u.email as string]);
 
   beforeAll(async () => {
@@ -323,7 +322,6 @@ describe("the two editions of a heat's history", () => {
     });
     expect(res.status).toBe(201);
     claimId = res.body.id;
-    claimNo = res.body.claimNo;
     // An internal note, a cause with its own note, and a review, so there is something internal to keep out.
     const d = one("select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.found_at, d.id limit 1", heatNo).id as number;
     t.db.$client.prepare("update defects set note = 'internal: ask the day shift' where id = ?").run(d);

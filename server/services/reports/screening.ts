@@ -15,7 +15,7 @@ import { oddsRatioForStep, type MultiLogisticFit } from "../../stats/logistic-mu
 import { benjaminiHochberg } from "../../stats/multiple";
 import { welchTTest } from "../../stats/regression";
 import { RunningSpread } from "../../stats/spread";
-import { completeRows, fitTerms, gridFromKeys, GROUPING_METHOD, modelTerms, numericTerm, seqBucket, seWords, type ModelTerm } from "./adjusted";
+import { completeRows, fitTerms, gridFromKeys, GROUPING_METHOD, modelTerms, numericTerm, seWords, type ModelTerm } from "./adjusted";
 import { scratch } from "../../stats/scratch";
 import { VARIABLE_SCALE } from "../report-cache";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
@@ -162,7 +162,7 @@ function adjustedTest(sc: Scanned, q: Query, key: string, term: ModelTerm, adjus
 
 export function screening(db: Db, q: Query): Screening {
   const sc = scan(db, buildScope(db, q));
-  const { facts: f, rows, affected: aff } = sc;
+  const { rows, affected: aff } = sc;
   const slabs = rows.length;
   let affected = 0;
   for (let u = 0; u < slabs; u++) affected += aff[rows[u]!]!;

@@ -1,6 +1,6 @@
 import { useEffect, useState } from "react";
 import { useQuery } from "@tanstack/react-query";
-import { Link, NavLink, Outlet, useLocation, useNavigate, useNavigation, useNavigationType } from "react-router";
+import { Link, NavigationType, NavLink, Outlet, useLocation, useNavigate, useNavigation, useNavigationType } from "react-router";
 import { can, ROLE_LABELS } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { StatusMark, type EntryStatus } from "@/components/ui/marks";
@@ -128,7 +128,7 @@ export function Component() {
   const items = navFor(me.roles);
   const doSignOut = () => {
     setConfirmSignOut(false);
-    signOut.mutate(undefined, { onSuccess: () => navigate("/sign-in", { replace: true }) });
+    signOut.mutate(undefined, { onSuccess: () => void navigate("/sign-in", { replace: true }) });
   };
 
   return (
@@ -213,7 +213,7 @@ function ScrollToTop() {
   const { pathname } = useLocation();
   const how = useNavigationType();
   useEffect(() => {
-    if (how !== "POP") scrollTo(0, 0);
+    if (how !== NavigationType.Pop) scrollTo(0, 0);
   }, [pathname, how]);
   return null;
 }

@@ -61,7 +61,7 @@ export function Component() {
         variant="ghost"
         className="mt-6 min-h-11"
         disabled={signOut.isPending}
-        onClick={() => signOut.mutate(undefined, { onSuccess: () => navigate("/sign-in", { replace: true }) })}
+        onClick={() => signOut.mutate(undefined, { onSuccess: () => void navigate("/sign-in", { replace: true }) })}
       >
         {signOut.isPending ? "Signing out…" : "Sign out"}
       </Button>

@@ -195,7 +195,7 @@ export function Component() {
       .map((e) => ({ key: e.clientKey, face: e.summary.face as DrawnMark["face"], alongMm: e.summary.alongMm, acrossMm: e.summary.acrossMm, severity: e.summary.severity, pending: true })),
   ];
   const mineHere = serverMine.filter((d) => d.slabId === slab.slabId && d.foundAt >= range.since);
-  const leave = (message: string) => navigate(`/yard/slabs/${encodeURIComponent(slab.slabId)}`, { replace: true, state: { flash: message } });
+  const leave = (message: string) => void navigate(`/yard/slabs/${encodeURIComponent(slab.slabId)}`, { replace: true, state: { flash: message } });
   const rolled = info?.products.length ? `This slab was ${rolledWords(info.products)}.` : null;
   const synced = yard.stored ? time(new Date(yard.stored.syncedAt).toISOString()) : null;
   const subtitle =

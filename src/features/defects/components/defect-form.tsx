@@ -1,4 +1,4 @@
-import { useRef, useState, type ReactNode } from "react";
+import { useState, type ReactNode } from "react";
 import type { Defect, DefectType } from "@shared/api/defects";
 import { DISPOSITION_LABELS, DISPOSITIONS, SEVERITIES, SEVERITY_LABELS, STAGE_LABELS, STAGES } from "@shared/domain";
 import { Button } from "@/components/ui/button";

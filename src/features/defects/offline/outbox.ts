@@ -555,7 +555,8 @@ export function createOutbox(deps: OutboxDeps) {
     sendDue: () => kick(),
 
     refresh,
-    subscribe(listener: () => void) {
+    // Arrow functions: useSyncExternalStore calls them without the object.
+    subscribe: (listener: () => void) => {
       listeners.add(listener);
       return () => listeners.delete(listener);
     },

@@ -1,4 +1,3 @@
-import type { ReactNode } from "react";
 import { Link } from "react-router";
 import { Fact } from "@/components/ui/card";
 import type { HeatDetail } from "@shared/api/heats";

@@ -81,6 +81,7 @@ export function SaveReport({ kind, query, suggestedName }: { kind: ReportKind; q
           onChange={(e) => setName(e.target.value)}
           maxLength={120}
           required
+          // eslint-disable-next-line jsx-a11y/no-autofocus -- the field appears because the person asked to save; they type next
           autoFocus
           className="min-h-11 w-72 max-w-full rounded-md border border-ink-300 bg-white px-3 text-ink-900"
         />

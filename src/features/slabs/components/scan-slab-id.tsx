@@ -21,6 +21,7 @@ const SLAB_ID_MAX = 40;
 /** The slab id in a decoded text, or null when the label holds something else. */
 export function slabIdFromCode(text: string): string | null {
   // GS1 separators and line ends some printers add around the data.
+  // eslint-disable-next-line no-control-regex -- control characters are exactly what is stripped here
   const id = text.replace(/[\u0000-\u001f\u007f]/g, "").trim();
   if (!id || id.length > SLAB_ID_MAX || !/^[\x20-\x7e]+$/.test(id)) return null;
   return id;
@@ -102,6 +103,7 @@ function problemOf(err: unknown): Problem {
  * announced with an input event; Enter follows once React has rendered the new text.
  */
 function typeIntoField(field: HTMLInputElement, text: string) {
+  // eslint-disable-next-line @typescript-eslint/unbound-method -- the setter is called with the field as `this` below
   const setValue = Object.getOwnPropertyDescriptor(HTMLInputElement.prototype, "value")?.set;
   setValue?.call(field, text);
   field.dispatchEvent(new Event("input", { bubbles: true }));
@@ -165,6 +167,11 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
         setEngine(reader.engine);
         setState("looking");
         const started = Date.now();
+        // A read that fails after the start (the detector throws) stops the camera and says so.
+        const fail = () => {
+          stopCamera();
+          if (!stopped) setState("failed");
+        };
         const tick = async () => {
           if (stopped) return;
           if (Date.now() - started > SCAN_IDLE_MS) {
@@ -183,9 +190,9 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
             }
             setNotSlab(text.length > 60 ? `${text.slice(0, 57).trimEnd()}…` : text);
           }
-          timer = setTimeout(tick, SCAN_EVERY_MS);
+          timer = setTimeout(() => void tick().catch(fail), SCAN_EVERY_MS);
         };
-        void tick();
+        void tick().catch(fail);
       } catch {
         stopCamera();
         if (!stopped) setState("failed");

@@ -16,21 +16,27 @@ const formSchema = changeOwnPasswordSchema.and(z.object({ again: z.string() })).
 type FormValues = z.infer<typeof formSchema>;
 
 /** The signed-in person's own password: the one they signed in with, then their new one twice. */
-export function OwnPasswordForm({ email, firstPassword, onChanged }: { email: string; firstPassword: boolean; onChanged: () => void }) {
+export function OwnPasswordForm({ email, firstPassword, onChanged }: { email: string; firstPassword: boolean; onChanged: () => Promise<void> }) {
   const change = useChangeOwnPassword();
   const form = useForm<FormValues>({ resolver: zodResolver(formSchema), defaultValues: { currentPassword: "", newPassword: "", again: "" } });
   const submit = form.handleSubmit(async ({ currentPassword, newPassword }) => {
     try {
       await change.mutateAsync({ currentPassword, newPassword });
-      onChanged();
     } catch (err) {
       if (err instanceof ApiError && err.code === "wrong_current_password") form.setError("currentPassword", { message: err.message });
+      return;
+    }
+    try {
+      await onChanged();
+    } catch {
+      form.setError("root", { message: "Your new password is saved, but the next screen did not open. Reload the page to go on." });
     }
   });
   const serverError = change.error instanceof ApiError && change.error.code !== "wrong_current_password" ? change.error.message : change.error && !(change.error instanceof ApiError) ? "The password could not be changed. Try again." : null;
   return (
     <form noValidate className="space-y-4" aria-label="Choose your password" onSubmit={submit}>
       {serverError ? <Notice tone="error">{serverError}</Notice> : null}
+      {form.formState.errors.root?.message ? <Notice tone="error">{form.formState.errors.root.message}</Notice> : null}
       {/* Whose password this is, for the browser's password manager. */}
       <input type="text" name="username" autoComplete="username" value={email} readOnly hidden />
       <TextField

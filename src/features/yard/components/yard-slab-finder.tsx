@@ -95,6 +95,7 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
       <input
         id="slab-finder"
         value={text}
+        // eslint-disable-next-line jsx-a11y/no-autofocus -- the yard screen's one field: a hand scanner types into whatever has focus
         autoFocus
         autoComplete="off"
         autoCapitalize="characters"

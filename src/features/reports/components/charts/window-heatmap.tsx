@@ -1,7 +1,7 @@
 import { useMemo } from "react";
 import type { ProcessWindow } from "@shared/api/reports";
 import { INK, RATE_RAMP, SPARSE_DECAL, SPARSE_FILL, SPARSE_TEXT } from "@/lib/chart-theme";
-import { num, pct, pctRange } from "@/lib/format";
+import { pct, pctRange } from "@/lib/format";
 import { tooltipBase } from "./chart-parts";
 import { binLabel } from "../tables";
 import { ReportChart } from "./report-chart";
