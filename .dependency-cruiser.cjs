@@ -10,17 +10,7 @@ module.exports = {
       name: "no-cycles",
       severity: "error",
       comment: "An import cycle ties modules together so neither can be understood, tested or loaded alone. Move what both need into a module of its own.",
-      // TEMPORARY (issue 18): the table readers of server/import (read-table ⇄ read-xlsx, cell-store →
-      // read-table) name each other's types; they are being reworked in another change. Once Cell,
-      // Table and TableRow live in a module of their own, delete this pathNot and the rule below.
-      from: { path: "^(server|shared|src)/", pathNot: "^server/import/(read-table|read-xlsx|cell-store)\\.ts$" },
-      to: { circular: true },
-    },
-    {
-      name: "no-cycles-import-readers",
-      severity: "warn",
-      comment: "The cycle among server/import's table readers, reported until it is gone (see no-cycles).",
-      from: { path: "^server/import/(read-table|read-xlsx|cell-store)\\.ts$" },
+      from: { path: "^(server|shared|src)/" },
       to: { circular: true },
     },
     {

@@ -175,10 +175,4 @@ export default tseslint.config(
     files: ["tests/**"],
     languageOptions: { globals: { ...globals.browser, ...globals.node } },
   },
-
-  // TEMPORARY (issue 18): import.service.ts was being changed when the linter arrived (an unused import).
-  {
-    files: ["server/services/import.service.ts"],
-    rules: { "@typescript-eslint/no-unused-vars": "warn" },
-  },
 );

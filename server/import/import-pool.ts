@@ -32,9 +32,12 @@ export interface ImportPoolOptions {
 
 export type ImportJob = Omit<ImportTask, "databaseFile" | "limits" | "progress">;
 
+/** Heap of one import thread unless told otherwise (IMPORT_THREAD_HEAP_MB); the import bench runs its import under the same cap. */
+export const IMPORT_THREAD_HEAP_MB = 1024;
+
 export function createImportPool(opts: ImportPoolOptions = {}) {
   const limits = opts.limits ?? IMPORT_LIMITS;
-  const heapMb = opts.heapMb ?? 1024;
+  const heapMb = opts.heapMb ?? IMPORT_THREAD_HEAP_MB;
   // V8's heap flag is process-wide: given on the command line it overrides every thread's own cap.
   if (/max[-_]old[-_]space[-_]size/.test([...process.execArgv, process.env.NODE_OPTIONS ?? ""].join(" "))) {
     opts.logger?.warn("--max-old-space-size is set for the process: it overrides the import threads' memory cap (IMPORT_THREAD_HEAP_MB). Leave it out.");

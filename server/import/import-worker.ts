@@ -30,6 +30,22 @@ export interface ImportTask {
   progress?: MessagePort;
 }
 
+/**
+ * SQLite's page cache for an import's own connection, KiB. The server's connections keep 64 MB
+ * (db/client.ts), which an import does not need: its writes mostly append to the tables' ends and
+ * spill to the WAL as the transaction grows. Writing 100,000 slabs took no measurably longer with
+ * 16 MB than with 64 MB on the 2-core machine (`npm run bench:import`), and the import's peak RSS
+ * fell by 30–45 MB.
+ */
+const IMPORT_CACHE_KIB = 16_384;
+
+/** The import's connection: the server's settings (db/client.ts) with a smaller page cache. */
+export function openImportDatabase(file: string) {
+  const db = openDatabase(file);
+  db.$client.pragma(`cache_size = -${IMPORT_CACHE_KIB}`);
+  return db;
+}
+
 export type ImportOutcome =
   | { ok: true; result: ImportResult; changedSlabs: number[] | "all" | null }
   | { ok: false; status: number; code: string; message: string; details?: unknown };
@@ -50,7 +66,7 @@ export async function runImportTask(task: ImportTask | { warm: true }): Promise<
     if (ids === null) changedAll = true;
     else for (const id of ids) changed.add(id);
   });
-  const db = openDatabase(task.databaseFile);
+  const db = openImportDatabase(task.databaseFile);
   try {
     let table;
     let sha: string | null = null;

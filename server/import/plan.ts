@@ -12,7 +12,7 @@ import type { PlantSettings } from "@shared/api/heats";
 import { liquidusC } from "../metallurgy/liquidus";
 import { slabWeightT } from "../metallurgy/casting";
 import { CHEM_COLUMNS, emptyChem, estimateCastAt, type SlabRow } from "../services/conditions.service";
-import type { ErrorList, ParsedRow, Value } from "./coerce";
+import type { ErrorList, ParsedRow, ParsedRows, Value } from "./coerce";
 
 export interface PlanCounts {
   created: number;
@@ -33,7 +33,7 @@ export interface AppliedChanges {
  */
 export type ResolveSink = (rows: SlabRow[]) => void;
 /** Slabs handed to the sink at once. */
-const SINK_ROWS = 2_000;
+const SINK_ROWS = 500;
 
 interface HeatForSlab {
   id: number;
@@ -82,7 +82,7 @@ function sameRecord(rec: Rec, existing: Record<string, unknown>): boolean {
 }
 
 /** The file's value when the column is present (null clears), else the stored one. */
-function take(values: Map<string, Value>, key: string, existing: Record<string, unknown> | undefined, column = key): string | number | null {
+function take(values: ParsedRow["values"], key: string, existing: Record<string, unknown> | undefined, column = key): string | number | null {
   if (values.has(key)) {
     const v = values.get(key)!;
     return typeof v === "boolean" ? (v ? 1 : 0) : v;
@@ -146,7 +146,7 @@ const HEAT_VALUE_COLUMNS = [
 ] as const;
 const PCT = ["c", "si", "mn", "p", "s", "al", "cu", "ni", "cr", "mo", "ti", "nb", "v"] as const;
 
-export function planHeats(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList, settings: PlantSettings): Plan {
+export function planHeats(sqlite: Database.Database, rows: ParsedRows, errors: ErrorList, settings: PlantSettings): Plan {
   const casters = codeMap(sqlite, "casters");
   const grades = codeMap(sqlite, "grades");
   const keys = [...new Set(rows.map((r) => upper(r.values.get("heat_no") ?? null)).filter((k): k is string => !!k))];
@@ -295,7 +295,16 @@ const SLAB_VALUE_COLUMNS = [
   "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm",
 ] as const;
 
-export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList, settings: PlantSettings): Plan {
+/**
+ * One heat/strand/piece as a Map key: a number while the parts fit (a text key per slab costs an
+ * extra string each, 100,000 of them in a large file), else the text.
+ */
+const pieceKey = (heatId: number, strandId: number, pieceNo: number): number | string =>
+  heatId < 2 ** 26 && strandId < 2 ** 16 && Number.isInteger(pieceNo) && pieceNo >= 0 && pieceNo < 2 ** 10
+    ? (heatId * 2 ** 16 + strandId) * 2 ** 10 + pieceNo
+    : `${heatId}:${strandId}:${pieceNo}`;
+
+export function planSlabs(sqlite: Database.Database, rows: ParsedRows, errors: ErrorList, settings: PlantSettings): Plan {
   const heatNos = [...new Set(rows.map((r) => upper(r.values.get("heat_no") ?? null)).filter((k): k is string => !!k))];
   const heats = new Map(
     selectIn<HeatForSlab>(
@@ -319,12 +328,37 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
     (p) => `select slab_id, heat_id, strand_id, piece_no, length_mm from slabs where heat_id in (${p})`,
     [...heats.values()].map((h) => h.id),
   );
-  const pieceOwner = new Map(storedPieces.map((s) => [`${s.heat_id}:${s.strand_id}:${s.piece_no}`, s.slab_id]));
+  const pieceOwner = new Map(storedPieces.map((s) => [pieceKey(s.heat_id, s.strand_id, s.piece_no), s.slab_id]));
   const firstRow = new Map<string, number>();
-  const firstPiece = new Map<string, number>();
-  const ops: (Op | "unchanged")[] = [];
+  const firstPiece = new Map<number | string, number>();
 
-  for (const row of rows) {
+  /** The row's record: the file's values where it has the column, else the stored slab's. */
+  const record = (v: ParsedRow["values"], slabId: string, heat: HeatForSlab, strandId: number, pieceNo: number, old: Record<string, any> | undefined): Rec => {
+    const rec: Rec = { slab_id: slabId, heat_id: heat.id, strand_id: strandId, piece_no: pieceNo };
+    for (const c of SLAB_VALUE_COLUMNS) rec[c] = take(v, c, old);
+    rec.transition = take(v, "transition", old) ?? 0;
+    if (v.has("weight_t") && v.get("weight_t") != null) {
+      rec.weight_t = v.get("weight_t") as number;
+      rec.weight_source = "given";
+    } else if (!v.has("weight_t") && old?.weight_source === "given") {
+      rec.weight_t = old.weight_t;
+      rec.weight_source = "given";
+    } else {
+      const w = slabWeightT(rec.length_mm as number, rec.width_mm as number, rec.thickness_mm as number, settings.density.solidTPerM3);
+      rec.weight_t = Math.round(w * 1000) / 1000;
+      rec.weight_source = "computed";
+    }
+    return rec;
+  };
+
+  // The rows to write, in file order: a new slab's record is built again from its row when written
+  // (nothing of the stored slab goes into it), so only an update keeps its record until then.
+  const writes: number[] = [];
+  const updates = new Map<number, { rec: Rec; id: number }>();
+  const counts: PlanCounts = { created: 0, updated: 0, unchanged: 0 };
+
+  for (let i = 0; i < rows.length; i++) {
+    const row = rows.row(i);
     const v = row.values;
     const slabId = upper(v.get("slab_id") ?? null);
     if (!slabId) continue;
@@ -342,55 +376,74 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
     if (heat && strandNo != null && !strandId) errors.add(row.rowNo, "strand", `Strand ${strandNo} does not exist on the caster of heat ${heatNo}.`);
     const pieceNo = v.get("piece_no") as number | null;
     if (row.bad || !heat || !strandId || pieceNo == null) continue;
-    const pieceKey = `${heat.id}:${strandId}:${pieceNo}`;
-    if (firstPiece.has(pieceKey)) {
-      errors.add(row.rowNo, "piece_no", `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} appears twice in the file (first on row ${firstPiece.get(pieceKey)}).`);
+    const piece = pieceKey(heat.id, strandId, pieceNo);
+    if (firstPiece.has(piece)) {
+      errors.add(row.rowNo, "piece_no", `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} appears twice in the file (first on row ${firstPiece.get(piece)}).`);
       continue;
     }
-    firstPiece.set(pieceKey, row.rowNo);
-    const holder = pieceOwner.get(pieceKey);
+    firstPiece.set(piece, row.rowNo);
+    const holder = pieceOwner.get(piece);
     if (holder && holder !== slabId) {
       errors.add(row.rowNo, "piece_no", `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} is already slab ${holder}.`);
       continue;
     }
-    const rec: Rec = { slab_id: slabId, heat_id: heat.id, strand_id: strandId, piece_no: pieceNo };
-    for (const c of SLAB_VALUE_COLUMNS) rec[c] = take(v, c, old);
-    rec.transition = take(v, "transition", old) ?? 0;
-    if (v.has("weight_t") && v.get("weight_t") != null) {
-      rec.weight_t = v.get("weight_t") as number;
-      rec.weight_source = "given";
-    } else if (!v.has("weight_t") && old?.weight_source === "given") {
-      rec.weight_t = old.weight_t;
-      rec.weight_source = "given";
-    } else {
-      const w = slabWeightT(rec.length_mm as number, rec.width_mm as number, rec.thickness_mm as number, settings.density.solidTPerM3);
-      rec.weight_t = Math.round(w * 1000) / 1000;
-      rec.weight_source = "computed";
+    if (!old) {
+      counts.created++;
+      writes.push(i);
+      continue;
     }
-    ops.push(old ? (sameRecord(rec, old) ? "unchanged" : { kind: "update", rec, id: old.id }) : { kind: "create", rec });
+    const rec = record(v, slabId, heat, strandId, pieceNo, old);
+    if (sameRecord(rec, old)) counts.unchanged++;
+    else {
+      counts.updated++;
+      writes.push(i);
+      updates.set(i, { rec, id: old.id });
+    }
   }
 
+  /** The record to write for row i (a new slab's built again from its row). */
+  const recordOf = (i: number): { rec: Rec; id?: number } => {
+    const update = updates.get(i);
+    if (update) return update;
+    const v = rows.row(i).values;
+    const heat = heats.get(upper(v.get("heat_no") ?? null)!)!;
+    const strandId = strands.get(`${heat.caster_id}:${v.get("strand") as number}`)!;
+    return { rec: record(v, upper(v.get("slab_id") ?? null)!, heat, strandId, v.get("piece_no") as number, undefined) };
+  };
+
   return {
-    counts: tally(ops),
+    counts,
     apply(sink) {
       const now = Date.now();
       // Each written slab's cast time is estimated from its heat and the pieces before it (stored
       // pieces and this file's together); samples placed by cast length refine it when resolved.
-      const lengths = new Map<string, Map<number, number>>();
+      // By heat, then strand: piece → length, then piece → metres cast before it.
+      const pieces = new Map<number, Map<number, Map<number, number>>>();
       const addPiece = (heatId: number, strandId: number, piece: number, length: number) => {
-        const k = `${heatId}:${strandId}`;
-        let m = lengths.get(k);
-        if (!m) lengths.set(k, (m = new Map()));
+        let byStrand = pieces.get(heatId);
+        if (!byStrand) pieces.set(heatId, (byStrand = new Map()));
+        let m = byStrand.get(strandId);
+        if (!m) byStrand.set(strandId, (m = new Map()));
         m.set(piece, length);
       };
       for (const p of storedPieces) addPiece(p.heat_id, p.strand_id, p.piece_no, p.length_mm);
-      for (const op of ops) if (op !== "unchanged") addPiece(op.rec.heat_id as number, op.rec.strand_id as number, op.rec.piece_no as number, op.rec.length_mm as number);
-      const before = new Map<string, number>();
-      for (const [k, m] of lengths) {
-        let sum = 0;
-        for (const piece of [...m.keys()].sort((a, b) => a - b)) {
-          before.set(`${k}:${piece}`, sum / 1000);
-          sum += m.get(piece)!;
+      for (const i of writes) {
+        const update = updates.get(i);
+        if (update) addPiece(update.rec.heat_id as number, update.rec.strand_id as number, update.rec.piece_no as number, update.rec.length_mm as number);
+        else {
+          const v = rows.row(i).values;
+          const heat = heats.get(upper(v.get("heat_no") ?? null)!)!;
+          addPiece(heat.id, strands.get(`${heat.caster_id}:${v.get("strand") as number}`)!, v.get("piece_no") as number, take(v, "length_mm", undefined) as number);
+        }
+      }
+      for (const byStrand of pieces.values()) {
+        for (const m of byStrand.values()) {
+          let sum = 0;
+          for (const piece of [...m.keys()].sort((a, b) => a - b)) {
+            const length = m.get(piece)!;
+            m.set(piece, sum / 1000);
+            sum += length;
+          }
         }
       }
       const slabIds: number[] = [];
@@ -402,21 +455,31 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
         resolved += slabRows.length;
         slabRows = [];
       };
+      // The heat's chemistry, one object per heat shared by its slabs (the resolver only reads it).
+      const chems = new Map<number, SlabRow["chem"]>();
+      const chemOf = (heat: HeatForSlab) => {
+        let chem = chems.get(heat.id);
+        if (!chem) chems.set(heat.id, (chem = Object.assign(emptyChem(), Object.fromEntries(CHEM_COLUMNS.map((c) => [c, heat[c] as number | null])))));
+        return chem;
+      };
       const w = writer(sqlite, "slabs");
-      for (const op of ops) {
-        if (op === "unchanged") continue;
-        const heat = heatById.get(op.rec.heat_id as number)!;
-        const speed = (op.rec.casting_speed_m_min as number | null) ?? heat.casting_speed_m_min;
-        const rec: Rec = { ...op.rec, cast_at: estimateCastAt(heat.cast_start, speed, before.get(`${op.rec.heat_id}:${op.rec.strand_id}:${op.rec.piece_no}`) ?? 0) };
+      for (const i of writes) {
+        const { rec, id: oldId } = recordOf(i);
+        const heat = heatById.get(rec.heat_id as number)!;
+        const speed = (rec.casting_speed_m_min as number | null) ?? heat.casting_speed_m_min;
+        rec.cast_at = estimateCastAt(heat.cast_start, speed, pieces.get(heat.id)?.get(rec.strand_id as number)?.get(rec.piece_no as number) ?? 0);
         let id: number;
-        if (op.kind === "create") id = w.insert(rec);
+        if (oldId === undefined) id = w.insert(rec);
         else {
-          w.update(op.id!, rec, now);
-          id = op.id!;
+          w.update(oldId, rec, now);
+          id = oldId;
         }
-        slabIds.push(id);
         // Everything the resolver needs is in hand: no need to read the slab back.
-        if (sink) slabRows.push({
+        if (!sink) {
+          slabIds.push(id);
+          continue;
+        }
+        slabRows.push({
           id, heatId: heat.id, strandId: rec.strand_id as number, pieceNo: rec.piece_no as number, lengthMm: rec.length_mm as number,
           widthMm: rec.width_mm as number, thicknessMm: rec.thickness_mm as number, castLengthStartM: rec.cast_length_start_m as number | null,
           castAt: rec.cast_at as number | null, castingSpeedMPerMin: rec.casting_speed_m_min as number | null, superheatC: rec.superheat_c as number | null,
@@ -426,7 +489,7 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRow[], errors: 
           heatLiquidus: heat.liquidus_c, heatEmbr: heat.embr_current_a, heatSen: heat.sen_depth_mm, heatArgon: heat.argon_nl_min,
           heatLevelSd: heat.mold_level_sd_mm, casterId: heat.caster_id, gradeId: heat.grade_id, familyId: heat.family_id,
           transition: rec.transition as number, sequencePosition: heat.sequence_position, weightT: rec.weight_t as number,
-          chem: Object.assign(emptyChem(), Object.fromEntries(CHEM_COLUMNS.map((c) => [c, heat[c] as number | null]))),
+          chem: chemOf(heat),
         });
         if (slabRows.length >= SINK_ROWS) flush();
       }
@@ -454,7 +517,7 @@ const SAMPLE_VALUE_COLUMNS: [string, string][] = [
 /** How far around the changed samples slabs are looked for (the resolver's own window margin). */
 const SAMPLE_WINDOW_MARGIN_MS = 60 * 60_000;
 
-export function planSamples(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList): Plan {
+export function planSamples(sqlite: Database.Database, rows: ParsedRows, errors: ErrorList): Plan {
   const casters = codeMap(sqlite, "casters");
   const strands = new Map(
     (sqlite.prepare("select id, caster_id, strand_no from strands").all() as { id: number; caster_id: number; strand_no: number }[]).map((s) => [`${s.caster_id}:${s.strand_no}`, s.id]),
@@ -528,7 +591,7 @@ export function planSamples(sqlite: Database.Database, rows: ParsedRow[], errors
 // Coil and plate → slab (the rolling mill's trace)
 // ---------------------------------------------------------------------------------------------
 
-export function planProducts(sqlite: Database.Database, rows: ParsedRow[], errors: ErrorList): Plan {
+export function planProducts(sqlite: Database.Database, rows: ParsedRows, errors: ErrorList): Plan {
   const firstRow = new Map<string, number>();
   const candidates: { row: ParsedRow; productId: string }[] = [];
   for (const row of rows) {

@@ -12,20 +12,12 @@ import { parse as parseCsv } from "csv-parse";
 import { loadFileType } from "../lib/lazy-packages";
 import { IMPORT_COLUMNS, IMPORT_LIMITS, type ImportKind } from "@shared/api/imports";
 import { HttpError } from "../lib/http-error";
+import { CellStore, makeTable, type Cell, type Table } from "./cell-store";
 import { readXlsxFile, type Limits } from "./read-xlsx";
 
-export type Cell = string | number | boolean | Date | null | { formulaWithoutValue: true } | { cellError: string };
+// The table and its cells are declared with their store (cell-store.ts), which every reader fills.
+export type { Cell, Table, TableRow } from "./cell-store";
 
-export interface Table {
-  format: "xlsx" | "csv" | "json";
-  headers: string[];
-  /** The row number a person sees in the file (header = 1) and the row's cells in header order. */
-  rows: { rowNo: number; cells: Cell[]; invalid?: string }[];
-  /** CSV written with ; separators uses the decimal comma. */
-  decimalComma: boolean;
-  /** The workbook counts serial dates from 1904 (old Mac Excel) instead of 1900. */
-  date1904?: boolean;
-}
 
 const unsupported = (message: string) => new HttpError(415, "unsupported_file", message);
 const tooLarge = (message: string, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
@@ -137,7 +129,7 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
     parseCsv({ delimiter, info: true, relax_column_count: true, skip_empty_lines: true, trim: true, max_record_size: limits.csvLineChars }),
   );
   let header: string[] | null = null;
-  const rows: Table["rows"] = [];
+  const rows = new CellStore();
   let cells = 0;
   try {
     for await (const r of parser as AsyncIterable<{ record: string[]; info: { lines: number } }>) {
@@ -160,7 +152,7 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
       if (filled === 0) continue;
       cells += filled;
       if (cells > limits.cells) throw tooLarge(`The file holds more than ${fmt(limits.cells)} filled cells; nothing was imported. Split it into smaller files.`);
-      rows.push({ rowNo: r.info.lines, cells: r.record.map((c) => (c === "" ? null : c)) });
+      rows.push(r.info.lines, r.record.map((c) => (c === "" ? null : c)));
       if (rows.length > limits.rows) {
         throw tooLarge(`The file has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
       }
@@ -180,7 +172,7 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
   }
   if (header === null) throw new HttpError(400, "empty_file", "The file is empty.");
   if (rows.length === 0) throw new HttpError(400, "empty_file", "The file has a header but no data rows.");
-  return { format: "csv", headers: header, rows, decimalComma: delimiter === ";" };
+  return makeTable({ format: "csv", headers: header, body: rows, decimalComma: delimiter === ";" });
 }
 
 /**
@@ -200,10 +192,10 @@ export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits =
   const headers: string[] = [];
   const index = new Map<string, number>();
   const spelling: string[] = [];
-  const rows: Table["rows"] = [];
+  const rows = new CellStore();
   items.forEach((item, i) => {
     if (item === null || typeof item !== "object" || Array.isArray(item)) {
-      rows.push({ rowNo: i + 1, cells: [], invalid: "This item is not an object with the import's keys." });
+      rows.push(i + 1, [], "This item is not an object with the import's keys.");
       return;
     }
     const cells: Cell[] = [];
@@ -229,9 +221,8 @@ export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits =
       }
       cells[col] = v === null || v === undefined ? null : typeof v === "object" ? { cellError: "a nested value" } : (v as Cell);
     }
-    rows.push({ rowNo: i + 1, cells });
+    rows.push(i + 1, cells);
   });
-  // At most one column per known key (fewer than 40): padding is bounded by rows × known keys.
-  for (const r of rows) for (let c = 0; c < headers.length; c++) if (r.cells[c] === undefined) r.cells[c] = null;
-  return { format: "json", headers, rows, decimalComma: false };
+  // A key an item lacks is an empty cell (the store reads past a row's last cell as empty).
+  return makeTable({ format: "json", headers, body: rows, decimalComma: false });
 }

@@ -20,7 +20,7 @@ import { SaxesParser, type SaxesTagPlain } from "saxes";
 import yauzl, { type Entry, type ZipFile } from "yauzl";
 import { IMPORT_LIMITS } from "@shared/api/imports";
 import { HttpError } from "../lib/http-error";
-import type { Cell, Table } from "./read-table";
+import { CellStore, makeTable, type Cell, type Table } from "./cell-store";
 
 export type Limits = { [K in keyof typeof IMPORT_LIMITS]: number };
 
@@ -171,7 +171,9 @@ async function readSmallPart(zip: ZipFile, entry: Entry, budget: Budget, onTag: 
 }
 
 const attr = (tag: SaxesTagPlain, name: string): string | undefined => {
-  for (const [k, v] of Object.entries(tag.attributes)) if (localName(k) === name && (k === name || k.endsWith(`:${name}`))) return v as string;
+  // for…in rather than Object.entries: this runs twice per cell, and entries builds arrays each time.
+  const attributes = tag.attributes;
+  for (const k in attributes) if (localName(k) === name && (k === name || k.endsWith(`:${name}`))) return attributes[k] as string;
   return undefined;
 };
 
@@ -259,21 +261,22 @@ async function readSharedStrings(zip: ZipFile, entry: Entry, budget: Budget): Pr
 }
 
 /** Collects the first sheet: row 1 is the header, blank rows are skipped, limits checked per cell. */
-async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: string[]): Promise<{ headers: string[] | null; rows: Table["rows"] }> {
+async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: string[]): Promise<{ headers: string[] | null; rows: CellStore }> {
   const { limits } = budget;
   let headers: string[] | null = null;
-  const rows: Table["rows"] = [];
+  const rows = new CellStore();
   let cellsSeen = 0;
   let inSheetData = false;
-  // The row being read.
+  // The row being read (one array, reused: the store copies each row).
   let rowNo = 0;
-  let cells: Cell[] = [];
+  const cells: Cell[] = [];
   let rowHasValue = false;
   let lastCol = -1;
   // The cell being read.
   let col = -1;
   let type = "n";
-  let value: string[] | null = null;
+  // The cell's text so far (pieces joined as they come: usually one).
+  let value: string | null = null;
   let valueLength = 0;
   let hasFormula = false;
   let capture: "v" | "t" | null = null;
@@ -281,7 +284,7 @@ async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: str
   let phonetic = 0;
 
   const finishCell = () => {
-    const raw = value === null ? null : value.join("");
+    const raw = value;
     let cell: Cell = null;
     switch (type) {
       case "s": {
@@ -333,7 +336,7 @@ async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: str
       headers = cells.map((c) => (c === null ? "" : String(c)));
       return;
     }
-    rows.push({ rowNo, cells });
+    rows.push(rowNo, cells);
     if (rows.length > limits.rows) {
       throw tooLarge(`The sheet has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
     }
@@ -352,7 +355,7 @@ async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: str
         case "row": {
           const r = Number(attr(t, "r"));
           rowNo = Number.isInteger(r) && r > 0 ? r : rowNo + 1;
-          cells = [];
+          cells.length = 0;
           rowHasValue = false;
           lastCol = -1;
           break;
@@ -371,14 +374,14 @@ async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: str
         }
         case "v":
           capture = "v";
-          value = value ?? [];
+          value = value ?? "";
           break;
         case "f":
           hasFormula = true;
           break;
         case "is":
           inInline = true;
-          value = value ?? [];
+          value = value ?? "";
           break;
         case "rPh":
           phonetic++;
@@ -394,7 +397,7 @@ async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: str
       if (valueLength > limits.cellChars) {
         throw tooLarge(`Row ${fmt(rowNo)} holds a cell of more than ${fmt(limits.cellChars)} characters (Excel's own limit); nothing was imported.`, { row: rowNo });
       }
-      value.push(text);
+      value += text;
     },
     closetag: (tag) => {
       const name = localName(tag.name);
@@ -459,7 +462,7 @@ export async function readXlsxFile(file: string, limits: Limits = IMPORT_LIMITS)
     const { headers, rows } = await readSheet(zip, sheetEntry, budget, shared);
     if (headers === null) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
     if (rows.length === 0) throw new HttpError(400, "empty_file", "The workbook has a header but no data rows.");
-    return { format: "xlsx", headers, rows, decimalComma: false, date1904 };
+    return makeTable({ format: "xlsx", headers, body: rows, decimalComma: false, date1904 });
   } finally {
     zip.close();
   }

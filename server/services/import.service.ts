@@ -1,5 +1,4 @@
 import crypto from "node:crypto";
-import type ExcelJS from "exceljs";
 import { loadExcelJS } from "../lib/lazy-packages";
 import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ImportKind, type ImportResult, type ImportRun } from "@shared/api/imports";
 import type { Db } from "../db/client";
@@ -20,6 +19,7 @@ export interface ImportActor {
 
 export interface ImportRequest {
   kind: ImportKind;
+  /** Its cells are released once checked (runImport keeps only the checked values): read it before, not after. */
   table: Table;
   dryRun: boolean;
   fileName: string | null;
@@ -47,6 +47,8 @@ export function runImport(db: Db, req: ImportRequest, timings?: Record<string, n
     mark = now;
   };
   const { rows, headerOk } = coerceTable(req.table, req.kind, errors);
+  // The raw cells are not needed again: the checked values and the plan would otherwise sit beside them.
+  req.table.body.release();
   lap("check cells");
 
   const work = () => {
