@@ -89,7 +89,13 @@ function buildSummary(): Plugin {
             copies++;
             continue;
           }
-          const kind = /\.m?js$/.test(entry.name) ? "script" : entry.name.endsWith(".css") ? "stylesheet" : /\.woff2?$/.test(entry.name) ? "font file" : "other file";
+          const kind = /\.m?js$/.test(entry.name)
+            ? "script"
+            : entry.name.endsWith(".css")
+              ? "stylesheet"
+              : /\.woff2?$/.test(entry.name)
+                ? "font file"
+                : "other file";
           groups[kind].n++;
           groups[kind].bytes += fs.statSync(file).size;
         }

@@ -43,7 +43,9 @@ async function main(): Promise<string> {
   const source = path.resolve(env.DATABASE_FILE);
   const stat = fs.statSync(source, { throwIfNoEntry: false });
   if (!stat) {
-    throw new BackupError(`The database file ${source} does not exist (DATABASE_FILE=${env.DATABASE_FILE}). Nothing was backed up. Run the backup where the app runs, with the same DATABASE_FILE (or .env).`);
+    throw new BackupError(
+      `The database file ${source} does not exist (DATABASE_FILE=${env.DATABASE_FILE}). Nothing was backed up. Run the backup where the app runs, with the same DATABASE_FILE (or .env).`,
+    );
   }
   if (!stat.isFile()) throw new BackupError(`DATABASE_FILE ${source} is not a file. Nothing was backed up.`);
 

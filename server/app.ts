@@ -94,7 +94,8 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
     if (body.code) code = body.code.toLowerCase();
     if (body.message) message = body.message;
     if (code === "invalid_origin") {
-      message = "Signing in from this address is not allowed. Open Strandsight at the address your plant gave you, or ask IT to add this address to TRUSTED_ORIGINS.";
+      message =
+        "Signing in from this address is not allowed. Open Strandsight at the address your plant gave you, or ask IT to add this address to TRUSTED_ORIGINS.";
     }
   } catch {
     if (text && response.status !== 404) message = text.slice(0, 300);
@@ -103,17 +104,39 @@ async function withErrorEnvelope(response: Response): Promise<Response> {
 }
 
 export function collectRoutes(deps: Deps): AnyRoute[] {
-  return [...systemRoutes(deps), ...adminUserRoutes(deps), ...plantRoutes(deps), ...heatRoutes(deps),
-    ...importRoutes(deps), ...tokenRoutes(deps), ...setupRoutes(deps), ...defectRoutes(deps),
-    ...reportRoutes(deps), ...causeRoutes(deps), ...investigationRoutes(deps), ...outboxRoutes(deps), ...claimRoutes(deps),
-    ...yardRoutes(deps), ...riskRoutes(deps), ...riskDriftRoutes(deps), ...operatingWindowRoutes(deps)];
+  return [
+    ...systemRoutes(deps),
+    ...adminUserRoutes(deps),
+    ...plantRoutes(deps),
+    ...heatRoutes(deps),
+    ...importRoutes(deps),
+    ...tokenRoutes(deps),
+    ...setupRoutes(deps),
+    ...defectRoutes(deps),
+    ...reportRoutes(deps),
+    ...causeRoutes(deps),
+    ...investigationRoutes(deps),
+    ...outboxRoutes(deps),
+    ...claimRoutes(deps),
+    ...yardRoutes(deps),
+    ...riskRoutes(deps),
+    ...riskDriftRoutes(deps),
+    ...operatingWindowRoutes(deps),
+  ];
 }
 
 export function createApp(opts: AppOptions) {
   const { db, auth, env, logger } = opts;
   const mailer =
     opts.mailer ??
-    createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir: path.join(path.resolve(env.UPLOAD_DIR), "mail"), describe: "no mail server (queued only)" });
+    createMailer({
+      db,
+      logger,
+      smtpUrl: "smtp://127.0.0.1:9",
+      from: env.MAIL_FROM,
+      dir: path.join(path.resolve(env.UPLOAD_DIR), "mail"),
+      describe: "no mail server (queued only)",
+    });
   const notify = opts.notify ?? createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
   const events: DefectEvents = opts.events ?? { criticalDefect: (d) => void notify.criticalDefect(d) };
   const imports = opts.imports ?? createImportPool({ logger, heapMb: env.IMPORT_THREAD_HEAP_MB });
@@ -212,7 +235,11 @@ export function createApp(opts: AppOptions) {
     app.use(
       "/assets",
       freshPrecompressed(path.join(CLIENT_DIST, "assets")),
-      expressStaticGzip(path.join(CLIENT_DIST, "assets"), { ...precompressed, index: false, serveStatic: { immutable: true, maxAge: "365d", fallthrough: false } }),
+      expressStaticGzip(path.join(CLIENT_DIST, "assets"), {
+        ...precompressed,
+        index: false,
+        serveStatic: { immutable: true, maxAge: "365d", fallthrough: false },
+      }),
     );
     const client = expressStaticGzip(CLIENT_DIST, {
       ...precompressed,
@@ -224,7 +251,8 @@ export function createApp(opts: AppOptions) {
         // across versions: the browser must ask every time, or a tablet keeps an old version. The
         // file named here may be the .br or .gz sent in its place.
         setHeaders: (res, file) => {
-          if (/^(sw\.js|workbox-[\w-]+\.js|manifest\.webmanifest|index\.html)(\.br|\.gz)?$/.test(path.basename(file))) res.setHeader("Cache-Control", "no-cache");
+          if (/^(sw\.js|workbox-[\w-]+\.js|manifest\.webmanifest|index\.html)(\.br|\.gz)?$/.test(path.basename(file)))
+            res.setHeader("Cache-Control", "no-cache");
         },
       },
     });

@@ -66,7 +66,10 @@ export const HTTP_AUTH_ENDPOINTS = [
 const allowedOverHttp = (method: string, declaredPath: string) => HTTP_AUTH_ENDPOINTS.some((e) => e.method === method && e.path === declaredPath);
 
 // A path parameter (the reset token) is what better-auth generates: letters and digits (- and _ allowed).
-const OPEN_PATHS = HTTP_AUTH_ENDPOINTS.map((e) => ({ method: e.method as string, re: new RegExp(`^${e.path.replace(/:[A-Za-z]+/g, "[A-Za-z0-9_-]{1,200}")}$`) }));
+const OPEN_PATHS = HTTP_AUTH_ENDPOINTS.map((e) => ({
+  method: e.method as string,
+  re: new RegExp(`^${e.path.replace(/:[A-Za-z]+/g, "[A-Za-z0-9_-]{1,200}")}$`),
+}));
 
 /** Does this concrete path (below /api/auth, already canonical) name an endpoint open over HTTP? */
 export function isOpenAuthPath(method: string, path: string): boolean {
@@ -132,9 +135,7 @@ export function createAuth(opts: AuthOptions) {
           return own ? [...opts.origins!.listed, own] : opts.origins!.listed;
         }
       : (opts.origins?.listed ?? []),
-    logger: opts.logger
-      ? { log: (level, message, ...args) => opts.logger![level]({ source: "better-auth", args }, message) }
-      : undefined,
+    logger: opts.logger ? { log: (level, message, ...args) => opts.logger![level]({ source: "better-auth", args }, message) } : undefined,
     // Keep the adapter's `transaction` option off: better-sqlite3 is synchronous (see STACK.md).
     database: drizzleAdapter(opts.db, {
       provider: "sqlite",
@@ -147,9 +148,7 @@ export function createAuth(opts: AuthOptions) {
       minPasswordLength: 10,
       maxPasswordLength: 128,
       revokeSessionsOnPasswordReset: true,
-      sendResetPassword: opts.sendResetPassword
-        ? async ({ user: u, url, token }) => opts.sendResetPassword!({ user: u, url, token })
-        : undefined,
+      sendResetPassword: opts.sendResetPassword ? async ({ user: u, url, token }) => opts.sendResetPassword!({ user: u, url, token }) : undefined,
       onPasswordReset: async ({ user: u }) => afterPasswordChange(u, "reset", u.id),
     },
     user: {
@@ -207,7 +206,13 @@ export function createAuth(opts: AuthOptions) {
           const address = addressOf(ctx);
           if (returned instanceof APIError) {
             if (returned.status === "UNAUTHORIZED" && guard.failed(email, address)) {
-              recordAudit(opts.db, { actor: "sign-in guard", action: "user.sign_in.locked", entity: "user", entityId: email.toLowerCase(), after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES, address } });
+              recordAudit(opts.db, {
+                actor: "sign-in guard",
+                action: "user.sign_in.locked",
+                entity: "user",
+                entityId: email.toLowerCase(),
+                after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES, address },
+              });
             }
           } else {
             guard.succeeded(email, address);

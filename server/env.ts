@@ -34,7 +34,11 @@ const envSchema = z.object({
   TRUSTED_ORIGINS: z
     .string()
     .transform((v, ctx) => {
-      const list = v.split(",").map((s) => s.trim()).filter(Boolean).map((s) => s.replace(/\/$/, ""));
+      const list = v
+        .split(",")
+        .map((s) => s.trim())
+        .filter(Boolean)
+        .map((s) => s.replace(/\/$/, ""));
       for (const item of list) {
         const problem = originProblem(item);
         if (problem) ctx.addIssue({ code: "custom", message: problem });
@@ -91,9 +95,7 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
   let secret = env.BETTER_AUTH_SECRET;
   if (!secret) {
     if (env.NODE_ENV === "production") {
-      throw new EnvError(
-        "BETTER_AUTH_SECRET is required in production (at least 32 random characters, e.g. `openssl rand -base64 32`).",
-      );
+      throw new EnvError("BETTER_AUTH_SECRET is required in production (at least 32 random characters, e.g. `openssl rand -base64 32`).");
     }
     secret = localSecret(env.DATABASE_FILE);
   }
@@ -107,7 +109,9 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
       );
     }
     if (env.SEED_DEMO && env.DEMO_PASSWORD === PUBLISHED_DEMO_PASSWORD) {
-      throw new EnvError("SEED_DEMO=true in production would create demo accounts with the published password: set your own DEMO_PASSWORD, or leave SEED_DEMO off.");
+      throw new EnvError(
+        "SEED_DEMO=true in production would create demo accounts with the published password: set your own DEMO_PASSWORD, or leave SEED_DEMO off.",
+      );
     }
   }
   return {

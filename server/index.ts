@@ -52,19 +52,28 @@ function listen(app: ReturnType<typeof createApp>, port: number, host: string): 
       if (!err) return resolve(server);
       const code = (err as NodeJS.ErrnoException).code;
       if (code === "EADDRINUSE") {
-        reject(new StartupError(
-          `Strandsight cannot start: port ${port} on ${host} is already in use by another program (perhaps another copy of Strandsight).\n` +
-            `Stop that program, or choose a free port for Strandsight with PORT, e.g. PORT=${port === 65535 ? 3000 : port + 1} in .env or in the environment.`,
-          { cause: err },
-        ));
+        reject(
+          new StartupError(
+            `Strandsight cannot start: port ${port} on ${host} is already in use by another program (perhaps another copy of Strandsight).\n` +
+              `Stop that program, or choose a free port for Strandsight with PORT, e.g. PORT=${port === 65535 ? 3000 : port + 1} in .env or in the environment.`,
+            { cause: err },
+          ),
+        );
       } else if (code === "EACCES" || code === "EPERM") {
-        reject(new StartupError(
-          `Strandsight cannot start: this user may not listen on port ${port}${port < 1024 ? " (ports below 1024 need special rights)" : ""}.\n` +
-            "Use a port above 1023, e.g. PORT=3000, and put a reverse proxy in front for ports 80 and 443.",
-          { cause: err },
-        ));
+        reject(
+          new StartupError(
+            `Strandsight cannot start: this user may not listen on port ${port}${port < 1024 ? " (ports below 1024 need special rights)" : ""}.\n` +
+              "Use a port above 1023, e.g. PORT=3000, and put a reverse proxy in front for ports 80 and 443.",
+            { cause: err },
+          ),
+        );
       } else if (code === "EADDRNOTAVAIL" || code === "ENOTFOUND" || code === "EAI_AGAIN") {
-        reject(new StartupError(`Strandsight cannot start: HOST=${host} is not an address of this machine (${code}). Use 0.0.0.0 for every interface, or one of this machine's addresses.`, { cause: err }));
+        reject(
+          new StartupError(
+            `Strandsight cannot start: HOST=${host} is not an address of this machine (${code}). Use 0.0.0.0 for every interface, or one of this machine's addresses.`,
+            { cause: err },
+          ),
+        );
       } else {
         reject(err);
       }
@@ -97,7 +106,11 @@ async function main() {
     secureCookies: env.NODE_ENV === "production",
   });
 
-  const empty = db.select({ n: sql<number>`count(*)` }).from(heats).get()!.n === 0;
+  const empty =
+    db
+      .select({ n: sql<number>`count(*)` })
+      .from(heats)
+      .get()!.n === 0;
   const seed = env.SEED_DEMO ?? (empty && env.NODE_ENV !== "production");
   if (seed) {
     console.log("Seeding the invented demo plant…");
@@ -155,7 +168,9 @@ async function main() {
     // A failed load is logged by the cache itself (and tried again by the next report).
     const ready = reportCache.status();
     if (ready.state === "ready" && ready.slabs !== null) {
-      console.log(`Reports ready: ${ready.slabs.toLocaleString("en-GB")} slabs loaded from ${ready.from === "snapshot" ? "the snapshot" : "the database"}, ${((Date.now() - listenedAt) / 1000).toFixed(1)} s after listening.`);
+      console.log(
+        `Reports ready: ${ready.slabs.toLocaleString("en-GB")} slabs loaded from ${ready.from === "snapshot" ? "the snapshot" : "the database"}, ${((Date.now() - listenedAt) / 1000).toFixed(1)} s after listening.`,
+      );
     }
   });
   // Drift of the active risk models: checked once the report facts are in (not holding up the start),

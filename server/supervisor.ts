@@ -77,7 +77,7 @@ function onExit(c: ChildProcess, code: number | null, signal: NodeJS.Signals | n
   if (stopping) {
     log(`server stopped (${how}).`);
     // Killed by the very signal we passed on: it was still starting and had no handler yet.
-    process.exit(code === 0 || signal === forwarded(stopping) ? 0 : code ?? 1);
+    process.exit(code === 0 || signal === forwarded(stopping) ? 0 : (code ?? 1));
   }
   if (code === 0) {
     log("server stopped on purpose (exit 0); the supervisor stops too.");
@@ -93,16 +93,23 @@ function onExit(c: ChildProcess, code: number | null, signal: NodeJS.Signals | n
   crashTimes.push(now);
   while (crashTimes.length && crashTimes[0]! < now - CRASH_WINDOW_MS) crashTimes.shift();
   const cause =
-    signal === "SIGKILL" ? " (killed from outside, e.g. by the out-of-memory killer)"
-    : signal === "SIGABRT" ? " (Node aborted, e.g. its memory limit was reached: see the lines above)"
-    : signal ? ""
-    : " (the error is printed above)";
+    signal === "SIGKILL"
+      ? " (killed from outside, e.g. by the out-of-memory killer)"
+      : signal === "SIGABRT"
+        ? " (Node aborted, e.g. its memory limit was reached: see the lines above)"
+        : signal
+          ? ""
+          : " (the error is printed above)";
   if (crashTimes.length > maxRestarts) {
-    log(`server crashed: it ${how}${cause}. That is ${crashTimes.length} crashes within ${CRASH_WINDOW_MS / 60_000} minutes: giving up. Read the errors above, fix the cause and start again.`);
+    log(
+      `server crashed: it ${how}${cause}. That is ${crashTimes.length} crashes within ${CRASH_WINDOW_MS / 60_000} minutes: giving up. Read the errors above, fix the cause and start again.`,
+    );
     process.exit(1);
   }
   const delay = Math.min(firstDelayMs * 2 ** (quickCrashes - 1), MAX_DELAY_MS);
-  log(`server crashed: it ${how}${cause}. Restarting in ${delay} ms (restart ${crashTimes.length} of at most ${maxRestarts} within ${CRASH_WINDOW_MS / 60_000} minutes).`);
+  log(
+    `server crashed: it ${how}${cause}. Restarting in ${delay} ms (restart ${crashTimes.length} of at most ${maxRestarts} within ${CRASH_WINDOW_MS / 60_000} minutes).`,
+  );
   restartTimer = setTimeout(start, delay);
 }
 

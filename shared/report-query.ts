@@ -13,7 +13,21 @@ export type ReportKind = (typeof REPORT_KINDS)[number];
 export type ReportParams = Record<string, string>;
 
 /** The filters every report takes (shared/api/reports.ts, reportFiltersSchema), in the order they are written. */
-export const FILTER_KEYS = ["from", "to", "caster", "strand", "grade", "family", "defectType", "category", "stage", "minSeverity", "cause", "transition", "riskBand"] as const;
+export const FILTER_KEYS = [
+  "from",
+  "to",
+  "caster",
+  "strand",
+  "grade",
+  "family",
+  "defectType",
+  "category",
+  "stage",
+  "minSeverity",
+  "cause",
+  "transition",
+  "riskBand",
+] as const;
 export type FilterKey = (typeof FILTER_KEYS)[number];
 
 export interface ReportQuerySpec {

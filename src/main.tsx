@@ -40,17 +40,19 @@ function watchForUpdates(): AppUpdate {
     listeners.forEach((l) => l());
   };
   // Only the built app has a worker (`npm run dev` serves none).
-  const takeOver = !import.meta.env.PROD ? async () => undefined : registerSW({
-    // After the page has loaded: storing the app must not slow the first screen down.
-    immediate: false,
-    onNeedRefresh: set,
-    // The new version took over (this tab's Reload, or another tab's): reload only if asked here.
-    onNeedReload: () => (asked ? window.location.reload() : set()),
-    onRegisteredSW(_url, registration) {
-      // A tablet stays open all shift: look for a new version every hour while the network is there.
-      if (registration) setInterval(() => void registration.update().catch(() => undefined), 60 * 60 * 1000);
-    },
-  });
+  const takeOver = !import.meta.env.PROD
+    ? async () => undefined
+    : registerSW({
+        // After the page has loaded: storing the app must not slow the first screen down.
+        immediate: false,
+        onNeedRefresh: set,
+        // The new version took over (this tab's Reload, or another tab's): reload only if asked here.
+        onNeedReload: () => (asked ? window.location.reload() : set()),
+        onRegisteredSW(_url, registration) {
+          // A tablet stays open all shift: look for a new version every hour while the network is there.
+          if (registration) setInterval(() => void registration.update().catch(() => undefined), 60 * 60 * 1000);
+        },
+      });
   return {
     subscribe(l) {
       listeners.add(l);

@@ -3,16 +3,7 @@
 // plugin's columns); everything after them is the plant.
 import { sql } from "drizzle-orm";
 import type { EmbrCalibration } from "../metallurgy/embr";
-import {
-  check,
-  index,
-  integer,
-  primaryKey,
-  real,
-  sqliteTable,
-  text,
-  uniqueIndex,
-} from "drizzle-orm/sqlite-core";
+import { check, index, integer, primaryKey, real, sqliteTable, text, uniqueIndex } from "drizzle-orm/sqlite-core";
 
 const nowMs = sql`(cast(unixepoch('subsecond') * 1000 as integer))`;
 
@@ -450,10 +441,7 @@ export const defectCauses = sqliteTable(
     removedAt: integer("removed_at", { mode: "timestamp_ms" }),
     removedBy: text("removed_by").references(() => user.id),
   },
-  (t) => [
-    index("defect_causes_defect_idx").on(t.defectId),
-    index("defect_causes_tag_idx").on(t.tagId, t.defectId),
-  ],
+  (t) => [index("defect_causes_defect_idx").on(t.defectId), index("defect_causes_tag_idx").on(t.tagId, t.defectId)],
 );
 
 export const investigations = sqliteTable(
@@ -542,10 +530,7 @@ export const investigationActions = sqliteTable(
     overdueNotifiedAt: integer("overdue_notified_at", { mode: "timestamp_ms" }),
     ...timestamps,
   },
-  (t) => [
-    index("investigation_actions_inv_idx").on(t.investigationId),
-    index("investigation_actions_due_idx").on(t.status, t.dueOn),
-  ],
+  (t) => [index("investigation_actions_inv_idx").on(t.investigationId), index("investigation_actions_due_idx").on(t.status, t.dueOn)],
 );
 
 // ---------------------------------------------------------------------------------------------
@@ -731,56 +716,56 @@ export const apiTokens = sqliteTable("api_tokens", {
 export const slabConditions = sqliteTable(
   "slab_conditions",
   {
-  slabId: integer("slab_id")
-    .primaryKey()
-    .references(() => slabs.id),
-  // The slab's place and kind, copied here so a report reads one table (kept in step by the resolver).
-  heatId: integer("heat_id"),
-  casterId: integer("caster_id"),
-  strandId: integer("strand_id"),
-  gradeId: integer("grade_id"),
-  familyId: integer("family_id"),
-  castAt: integer("cast_at"),
-  transition: integer("transition"),
-  sequencePosition: integer("sequence_position"),
-  weightT: real("weight_t"),
-  widthMm: real("width_mm"),
-  thicknessMm: real("thickness_mm"),
-  cPct: real("c_pct"),
-  mnPct: real("mn_pct"),
-  siPct: real("si_pct"),
-  sPct: real("s_pct"),
-  pPct: real("p_pct"),
-  alPct: real("al_pct"),
-  nbPct: real("nb_pct"),
-  tiPct: real("ti_pct"),
-  vPct: real("v_pct"),
-  nPpm: real("n_ppm"),
-  castingSpeedMPerMin: real("casting_speed_m_min"),
-  castingSpeedSource: text("casting_speed_source"),
-  speedMinMPerMin: real("speed_min_m_min"),
-  speedMaxMPerMin: real("speed_max_m_min"),
-  speedChangeMPerMin: real("speed_change_m_min"),
-  superheatC: real("superheat_c"),
-  superheatSource: text("superheat_source"),
-  embrCurrentA: real("embr_current_a"),
-  embrCurrentSource: text("embr_current_source"),
-  senDepthMm: real("sen_depth_mm"),
-  senDepthSource: text("sen_depth_source"),
-  argonNlPerMin: real("argon_nl_min"),
-  argonSource: text("argon_source"),
-  moldLevelSdMm: real("mold_level_sd_mm"),
-  moldLevelSdSource: text("mold_level_sd_source"),
-  sampleCount: integer("sample_count").notNull().default(0),
-  throughputTPerMin: real("throughput_t_min"),
-  moldDwellMin: real("mold_dwell_min"),
-  shellExitMm: real("shell_exit_mm"),
-  metallurgicalLengthM: real("metallurgical_length_m"),
-  embrFieldT: real("embr_field_t"),
-  senPortVelocityMPerS: real("sen_port_velocity_m_s"),
-  stuartNumber: real("stuart_number"),
-  hartmannNumber: real("hartmann_number"),
-  computedAt: integer("computed_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
+    slabId: integer("slab_id")
+      .primaryKey()
+      .references(() => slabs.id),
+    // The slab's place and kind, copied here so a report reads one table (kept in step by the resolver).
+    heatId: integer("heat_id"),
+    casterId: integer("caster_id"),
+    strandId: integer("strand_id"),
+    gradeId: integer("grade_id"),
+    familyId: integer("family_id"),
+    castAt: integer("cast_at"),
+    transition: integer("transition"),
+    sequencePosition: integer("sequence_position"),
+    weightT: real("weight_t"),
+    widthMm: real("width_mm"),
+    thicknessMm: real("thickness_mm"),
+    cPct: real("c_pct"),
+    mnPct: real("mn_pct"),
+    siPct: real("si_pct"),
+    sPct: real("s_pct"),
+    pPct: real("p_pct"),
+    alPct: real("al_pct"),
+    nbPct: real("nb_pct"),
+    tiPct: real("ti_pct"),
+    vPct: real("v_pct"),
+    nPpm: real("n_ppm"),
+    castingSpeedMPerMin: real("casting_speed_m_min"),
+    castingSpeedSource: text("casting_speed_source"),
+    speedMinMPerMin: real("speed_min_m_min"),
+    speedMaxMPerMin: real("speed_max_m_min"),
+    speedChangeMPerMin: real("speed_change_m_min"),
+    superheatC: real("superheat_c"),
+    superheatSource: text("superheat_source"),
+    embrCurrentA: real("embr_current_a"),
+    embrCurrentSource: text("embr_current_source"),
+    senDepthMm: real("sen_depth_mm"),
+    senDepthSource: text("sen_depth_source"),
+    argonNlPerMin: real("argon_nl_min"),
+    argonSource: text("argon_source"),
+    moldLevelSdMm: real("mold_level_sd_mm"),
+    moldLevelSdSource: text("mold_level_sd_source"),
+    sampleCount: integer("sample_count").notNull().default(0),
+    throughputTPerMin: real("throughput_t_min"),
+    moldDwellMin: real("mold_dwell_min"),
+    shellExitMm: real("shell_exit_mm"),
+    metallurgicalLengthM: real("metallurgical_length_m"),
+    embrFieldT: real("embr_field_t"),
+    senPortVelocityMPerS: real("sen_port_velocity_m_s"),
+    stuartNumber: real("stuart_number"),
+    hartmannNumber: real("hartmann_number"),
+    computedAt: integer("computed_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
   },
   (t) => [index("slab_conditions_cast_at_idx").on(t.castAt), index("slab_conditions_heat_idx").on(t.heatId)],
 );
@@ -857,7 +842,9 @@ export const riskModels = sqliteTable(
   },
   (t) => [
     uniqueIndex("risk_models_target_version_uq").on(t.targetKind, t.targetCode, t.version),
-    uniqueIndex("risk_models_one_active_uq").on(t.targetKind, t.targetCode).where(sql`active = 1`),
+    uniqueIndex("risk_models_one_active_uq")
+      .on(t.targetKind, t.targetCode)
+      .where(sql`active = 1`),
   ],
 );
 
@@ -905,7 +892,11 @@ export const operatingWindows = sqliteTable(
     updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
     retiredAt: integer("retired_at", { mode: "timestamp_ms" }),
   },
-  (t) => [uniqueIndex("operating_windows_live_name_uq").on(t.name).where(sql`retired_at is null`)],
+  (t) => [
+    uniqueIndex("operating_windows_live_name_uq")
+      .on(t.name)
+      .where(sql`retired_at is null`),
+  ],
 );
 
 /**

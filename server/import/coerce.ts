@@ -217,7 +217,8 @@ function bounds(spec: ColumnSpec) {
 /** One cell to its column's type; a string is an error message. */
 export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean, date1904 = false): Value | { error: string } {
   if (cell === null || (typeof cell === "string" && cell.trim() === "")) return null;
-  if (typeof cell === "object" && cell !== null && "formulaWithoutValue" in cell) return { error: "is a formula with no stored value; open the file in Excel, let it calculate, save and retry" };
+  if (typeof cell === "object" && cell !== null && "formulaWithoutValue" in cell)
+    return { error: "is a formula with no stored value; open the file in Excel, let it calculate, save and retry" };
   if (typeof cell === "object" && cell !== null && "cellError" in cell) return { error: `holds ${cell.cellError}` };
   switch (spec.type) {
     case "text": {
@@ -305,7 +306,10 @@ export function coerceTable(table: Table, kind: ImportKind, errors: ErrorList): 
     headerOk = false;
   }
   const present = columns.flatMap((spec, col) => (spec ? [{ spec, col }] : []));
-  const rows = new ParsedRows(rowNos, present.map((p) => p.spec));
+  const rows = new ParsedRows(
+    rowNos,
+    present.map((p) => p.spec),
+  );
   const width = table.headers.length;
   for (let r = 0; r < body.length; r++) {
     const rowNo = rowNos[r]!;

@@ -124,11 +124,19 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
       const e = err as { name?: string; code?: string; message?: string };
       if (e.name === "AbortError") {
         if (phase === "waiting") throw busy();
-        throw new HttpError(413, "import_too_large", `Checking the file took longer than ${limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`);
+        throw new HttpError(
+          413,
+          "import_too_large",
+          `Checking the file took longer than ${limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`,
+        );
       }
       if (e.code === "ERR_WORKER_OUT_OF_MEMORY") {
         opts.logger?.error({ kind: job.kind, file: job.fileName }, "import stopped: its thread ran out of memory");
-        throw new HttpError(413, "import_too_large", `The file needs more memory to check than one import may use (${heapMb} MB); nothing was imported. Split it into smaller files.`);
+        throw new HttpError(
+          413,
+          "import_too_large",
+          `The file needs more memory to check than one import may use (${heapMb} MB); nothing was imported. Split it into smaller files.`,
+        );
       }
       throw err;
     } finally {

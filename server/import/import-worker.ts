@@ -47,8 +47,7 @@ export function openImportDatabase(file: string) {
 }
 
 export type ImportOutcome =
-  | { ok: true; result: ImportResult; changedSlabs: number[] | "all" | null }
-  | { ok: false; status: number; code: string; message: string; details?: unknown };
+  { ok: true; result: ImportResult; changedSlabs: number[] | "all" | null } | { ok: false; status: number; code: string; message: string; details?: unknown };
 
 async function sha256File(file: string): Promise<string> {
   const hash = crypto.createHash("sha256");

@@ -141,8 +141,27 @@ function writer(sqlite: Database.Database, table: string, withUpdatedAt = true) 
 // ---------------------------------------------------------------------------------------------
 
 const HEAT_VALUE_COLUMNS = [
-  "ladle_weight_t", "casting_speed_m_min", "tundish_temp_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm",
-  "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct", "al_pct", "cu_pct", "ni_pct", "cr_pct", "mo_pct", "ti_pct", "nb_pct", "v_pct", "n_ppm",
+  "ladle_weight_t",
+  "casting_speed_m_min",
+  "tundish_temp_c",
+  "embr_current_a",
+  "sen_depth_mm",
+  "argon_nl_min",
+  "mold_level_sd_mm",
+  "c_pct",
+  "si_pct",
+  "mn_pct",
+  "p_pct",
+  "s_pct",
+  "al_pct",
+  "cu_pct",
+  "ni_pct",
+  "cr_pct",
+  "mo_pct",
+  "ti_pct",
+  "nb_pct",
+  "v_pct",
+  "n_ppm",
 ] as const;
 const PCT = ["c", "si", "mn", "p", "s", "al", "cu", "ni", "cr", "mo", "ti", "nb", "v"] as const;
 
@@ -151,10 +170,17 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRows, errors: E
   const grades = codeMap(sqlite, "grades");
   const keys = [...new Set(rows.map((r) => upper(r.values.get("heat_no") ?? null)).filter((k): k is string => !!k))];
   const existing = new Map(
-    selectIn<Record<string, any>>(sqlite, (p) => `select h.*, q.sequence_no from heats h left join sequences q on q.id = h.sequence_id where h.heat_no in (${p})`, keys).map((h) => [h.heat_no as string, h]),
+    selectIn<Record<string, any>>(
+      sqlite,
+      (p) => `select h.*, q.sequence_no from heats h left join sequences q on q.id = h.sequence_id where h.heat_no in (${p})`,
+      keys,
+    ).map((h) => [h.heat_no as string, h]),
   );
   const sequences = new Map(
-    (sqlite.prepare("select id, sequence_no, caster_id from sequences").all() as { id: number; sequence_no: string; caster_id: number }[]).map((s) => [s.sequence_no, s]),
+    (sqlite.prepare("select id, sequence_no, caster_id from sequences").all() as { id: number; sequence_no: string; caster_id: number }[]).map((s) => [
+      s.sequence_no,
+      s,
+    ]),
   );
   const firstRow = new Map<string, number>();
   const newSequences = new Map<string, number>(); // sequence_no → caster id
@@ -224,7 +250,10 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRows, errors: E
       rec.superheat_c = (rec.tundish_temp_c as number) - (rec.liquidus_c as number);
       rec.superheat_source = "computed";
       if ((rec.superheat_c as number) < -10 || (rec.superheat_c as number) > 150) {
-        fail("tundish_temp_c", `The superheat works out at ${Math.round(rec.superheat_c as number)} °C (tundish ${rec.tundish_temp_c} − liquidus ${(rec.liquidus_c as number).toFixed(1)}), outside −10–150 °C: check the temperature and the chemistry.`);
+        fail(
+          "tundish_temp_c",
+          `The superheat works out at ${Math.round(rec.superheat_c as number)} °C (tundish ${rec.tundish_temp_c} − liquidus ${(rec.liquidus_c as number).toFixed(1)}), outside −10–150 °C: check the temperature and the chemistry.`,
+        );
       }
     } else {
       rec.superheat_c = null;
@@ -251,7 +280,8 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRows, errors: E
     apply() {
       const now = Date.now();
       const insSeq = sqlite.prepare("insert into sequences (sequence_no, caster_id) values (?, ?)");
-      for (const [no, casterId] of newSequences) sequences.set(no, { id: Number(insSeq.run(no, casterId).lastInsertRowid), sequence_no: no, caster_id: casterId });
+      for (const [no, casterId] of newSequences)
+        sequences.set(no, { id: Number(insSeq.run(no, casterId).lastInsertRowid), sequence_no: no, caster_id: casterId });
       const touchedHeats: number[] = [];
       const touchedSequences = new Set<number>();
       const w = writer(sqlite, "heats");
@@ -291,8 +321,16 @@ export function planHeats(sqlite: Database.Database, rows: ParsedRows, errors: E
 // ---------------------------------------------------------------------------------------------
 
 const SLAB_VALUE_COLUMNS = [
-  "length_mm", "width_mm", "thickness_mm", "cast_length_start_m", "casting_speed_m_min", "superheat_c", "embr_current_a",
-  "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm",
+  "length_mm",
+  "width_mm",
+  "thickness_mm",
+  "cast_length_start_m",
+  "casting_speed_m_min",
+  "superheat_c",
+  "embr_current_a",
+  "sen_depth_mm",
+  "argon_nl_min",
+  "mold_level_sd_mm",
 ] as const;
 
 /**
@@ -318,10 +356,15 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRows, errors: E
   );
   const heatById = new Map([...heats.values()].map((h) => [h.id, h]));
   const strands = new Map(
-    (sqlite.prepare("select id, caster_id, strand_no from strands").all() as { id: number; caster_id: number; strand_no: number }[]).map((s) => [`${s.caster_id}:${s.strand_no}`, s.id]),
+    (sqlite.prepare("select id, caster_id, strand_no from strands").all() as { id: number; caster_id: number; strand_no: number }[]).map((s) => [
+      `${s.caster_id}:${s.strand_no}`,
+      s.id,
+    ]),
   );
   const slabKeys = [...new Set(rows.map((r) => upper(r.values.get("slab_id") ?? null)).filter((k): k is string => !!k))];
-  const existing = new Map(selectIn<Record<string, any>>(sqlite, (p) => `select * from slabs where slab_id in (${p})`, slabKeys).map((s) => [s.slab_id as string, s]));
+  const existing = new Map(
+    selectIn<Record<string, any>>(sqlite, (p) => `select * from slabs where slab_id in (${p})`, slabKeys).map((s) => [s.slab_id as string, s]),
+  );
   // Which slab already holds each heat/strand/piece (for the heats this file touches).
   const storedPieces = selectIn<{ slab_id: string; heat_id: number; strand_id: number; piece_no: number; length_mm: number }>(
     sqlite,
@@ -378,7 +421,11 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRows, errors: E
     if (row.bad || !heat || !strandId || pieceNo == null) continue;
     const piece = pieceKey(heat.id, strandId, pieceNo);
     if (firstPiece.has(piece)) {
-      errors.add(row.rowNo, "piece_no", `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} appears twice in the file (first on row ${firstPiece.get(piece)}).`);
+      errors.add(
+        row.rowNo,
+        "piece_no",
+        `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} appears twice in the file (first on row ${firstPiece.get(piece)}).`,
+      );
       continue;
     }
     firstPiece.set(piece, row.rowNo);
@@ -433,7 +480,12 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRows, errors: E
         else {
           const v = rows.row(i).values;
           const heat = heats.get(upper(v.get("heat_no") ?? null)!)!;
-          addPiece(heat.id, strands.get(`${heat.caster_id}:${v.get("strand") as number}`)!, v.get("piece_no") as number, take(v, "length_mm", undefined) as number);
+          addPiece(
+            heat.id,
+            strands.get(`${heat.caster_id}:${v.get("strand") as number}`)!,
+            v.get("piece_no") as number,
+            take(v, "length_mm", undefined) as number,
+          );
         }
       }
       for (const byStrand of pieces.values()) {
@@ -467,7 +519,14 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRows, errors: E
         const { rec, id: oldId } = recordOf(i);
         const heat = heatById.get(rec.heat_id as number)!;
         const speed = (rec.casting_speed_m_min as number | null) ?? heat.casting_speed_m_min;
-        rec.cast_at = estimateCastAt(heat.cast_start, speed, pieces.get(heat.id)?.get(rec.strand_id as number)?.get(rec.piece_no as number) ?? 0);
+        rec.cast_at = estimateCastAt(
+          heat.cast_start,
+          speed,
+          pieces
+            .get(heat.id)
+            ?.get(rec.strand_id as number)
+            ?.get(rec.piece_no as number) ?? 0,
+        );
         let id: number;
         if (oldId === undefined) id = w.insert(rec);
         else {
@@ -480,15 +539,36 @@ export function planSlabs(sqlite: Database.Database, rows: ParsedRows, errors: E
           continue;
         }
         slabRows.push({
-          id, heatId: heat.id, strandId: rec.strand_id as number, pieceNo: rec.piece_no as number, lengthMm: rec.length_mm as number,
-          widthMm: rec.width_mm as number, thicknessMm: rec.thickness_mm as number, castLengthStartM: rec.cast_length_start_m as number | null,
-          castAt: rec.cast_at as number | null, castingSpeedMPerMin: rec.casting_speed_m_min as number | null, superheatC: rec.superheat_c as number | null,
-          embrCurrentA: rec.embr_current_a as number | null, senDepthMm: rec.sen_depth_mm as number | null,
-          argonNlPerMin: rec.argon_nl_min as number | null, moldLevelSdMm: rec.mold_level_sd_mm as number | null,
-          heatCastStart: heat.cast_start, heatCastEnd: heat.cast_end, heatSpeed: heat.casting_speed_m_min, heatSuperheat: heat.superheat_c,
-          heatLiquidus: heat.liquidus_c, heatEmbr: heat.embr_current_a, heatSen: heat.sen_depth_mm, heatArgon: heat.argon_nl_min,
-          heatLevelSd: heat.mold_level_sd_mm, casterId: heat.caster_id, gradeId: heat.grade_id, familyId: heat.family_id,
-          transition: rec.transition as number, sequencePosition: heat.sequence_position, weightT: rec.weight_t as number,
+          id,
+          heatId: heat.id,
+          strandId: rec.strand_id as number,
+          pieceNo: rec.piece_no as number,
+          lengthMm: rec.length_mm as number,
+          widthMm: rec.width_mm as number,
+          thicknessMm: rec.thickness_mm as number,
+          castLengthStartM: rec.cast_length_start_m as number | null,
+          castAt: rec.cast_at as number | null,
+          castingSpeedMPerMin: rec.casting_speed_m_min as number | null,
+          superheatC: rec.superheat_c as number | null,
+          embrCurrentA: rec.embr_current_a as number | null,
+          senDepthMm: rec.sen_depth_mm as number | null,
+          argonNlPerMin: rec.argon_nl_min as number | null,
+          moldLevelSdMm: rec.mold_level_sd_mm as number | null,
+          heatCastStart: heat.cast_start,
+          heatCastEnd: heat.cast_end,
+          heatSpeed: heat.casting_speed_m_min,
+          heatSuperheat: heat.superheat_c,
+          heatLiquidus: heat.liquidus_c,
+          heatEmbr: heat.embr_current_a,
+          heatSen: heat.sen_depth_mm,
+          heatArgon: heat.argon_nl_min,
+          heatLevelSd: heat.mold_level_sd_mm,
+          casterId: heat.caster_id,
+          gradeId: heat.grade_id,
+          familyId: heat.family_id,
+          transition: rec.transition as number,
+          sequencePosition: heat.sequence_position,
+          weightT: rec.weight_t as number,
           chem: chemOf(heat),
         });
         if (slabRows.length >= SINK_ROWS) flush();
@@ -520,7 +600,10 @@ const SAMPLE_WINDOW_MARGIN_MS = 60 * 60_000;
 export function planSamples(sqlite: Database.Database, rows: ParsedRows, errors: ErrorList): Plan {
   const casters = codeMap(sqlite, "casters");
   const strands = new Map(
-    (sqlite.prepare("select id, caster_id, strand_no from strands").all() as { id: number; caster_id: number; strand_no: number }[]).map((s) => [`${s.caster_id}:${s.strand_no}`, s.id]),
+    (sqlite.prepare("select id, caster_id, strand_no from strands").all() as { id: number; caster_id: number; strand_no: number }[]).map((s) => [
+      `${s.caster_id}:${s.strand_no}`,
+      s.id,
+    ]),
   );
   const firstRow = new Map<string, number>();
   const candidates: { row: ParsedRow; strandId: number; time: number }[] = [];
@@ -596,7 +679,11 @@ export function planProducts(sqlite: Database.Database, rows: ParsedRows, errors
   const candidates: { row: ParsedRow; productId: string }[] = [];
   for (const row of rows) {
     const id = upper(row.values.get("product_id") ?? null);
-    const kind = row.values.has("kind") ? String(row.values.get("kind") ?? "").trim().toLowerCase() : null;
+    const kind = row.values.has("kind")
+      ? String(row.values.get("kind") ?? "")
+          .trim()
+          .toLowerCase()
+      : null;
     if (kind !== null && kind !== "coil" && kind !== "plate") errors.add(row.rowNo, "kind", `Kind is coil or plate, not “${kind}”.`);
     if (row.bad || !id) continue;
     if (firstRow.has(id)) {
@@ -607,9 +694,15 @@ export function planProducts(sqlite: Database.Database, rows: ParsedRows, errors
     candidates.push({ row, productId: id });
   }
   const slabIds = [...new Set(candidates.map((c) => upper(c.row.values.get("slab_id") ?? null)).filter((s): s is string => !!s))];
-  const slabs = new Map(selectIn<{ id: number; slab_id: string }>(sqlite, (p) => `select id, slab_id from slabs where slab_id in (${p})`, slabIds).map((s) => [s.slab_id, s.id]));
+  const slabs = new Map(
+    selectIn<{ id: number; slab_id: string }>(sqlite, (p) => `select id, slab_id from slabs where slab_id in (${p})`, slabIds).map((s) => [s.slab_id, s.id]),
+  );
   const existing = new Map(
-    selectIn<Record<string, any>>(sqlite, (p) => `select * from products where product_id in (${p})`, candidates.map((c) => c.productId)).map((p) => [p.product_id as string, p]),
+    selectIn<Record<string, any>>(
+      sqlite,
+      (p) => `select * from products where product_id in (${p})`,
+      candidates.map((c) => c.productId),
+    ).map((p) => [p.product_id as string, p]),
   );
   const ops: (Op | "unchanged")[] = [];
   for (const c of candidates) {

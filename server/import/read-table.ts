@@ -18,7 +18,6 @@ import { readXlsxFile, type Limits } from "./read-xlsx";
 // The table and its cells are declared with their store (cell-store.ts), which every reader fills.
 export type { Cell, Table, TableRow } from "./cell-store";
 
-
 const unsupported = (message: string) => new HttpError(415, "unsupported_file", message);
 const tooLarge = (message: string, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
 const fmt = (n: number) => n.toLocaleString("en-GB");
@@ -104,7 +103,10 @@ function precheckCsv(text: string, delimiter: string, limits: Limits) {
       continue;
     } else if (c === code) {
       if (++separators > MAX_DELIMITERS_PER_RECORD) {
-        throw tooLarge(`Line ${fmt(line)} has more than ${fmt(MAX_DELIMITERS_PER_RECORD)} separators; the imports take fewer than 40 columns. Nothing was imported.`, { line });
+        throw tooLarge(
+          `Line ${fmt(line)} has more than ${fmt(MAX_DELIMITERS_PER_RECORD)} separators; the imports take fewer than 40 columns. Nothing was imported.`,
+          { line },
+        );
       }
     } else if (c !== 13 && c !== 32 && c !== 9) {
       filled = true;
@@ -134,12 +136,16 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
   try {
     for await (const r of parser as AsyncIterable<{ record: string[]; info: { lines: number } }>) {
       if (r.record.length > limits.columns && r.record.slice(limits.columns).some((c) => c !== "")) {
-        throw tooLarge(`Line ${fmt(r.info.lines)} has values in more than ${limits.columns} columns; the imports take fewer than 40. Nothing was imported.`, { line: r.info.lines });
+        throw tooLarge(`Line ${fmt(r.info.lines)} has values in more than ${limits.columns} columns; the imports take fewer than 40. Nothing was imported.`, {
+          line: r.info.lines,
+        });
       }
       let filled = 0;
       for (const c of r.record) {
         if (c.length > limits.cellChars) {
-          throw tooLarge(`Line ${fmt(r.info.lines)} holds a value of more than ${fmt(limits.cellChars)} characters; nothing was imported.`, { line: r.info.lines });
+          throw tooLarge(`Line ${fmt(r.info.lines)} holds a value of more than ${fmt(limits.cellChars)} characters; nothing was imported.`, {
+            line: r.info.lines,
+          });
         }
         if (c !== "") filled++;
       }
@@ -151,8 +157,12 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
       }
       if (filled === 0) continue;
       cells += filled;
-      if (cells > limits.cells) throw tooLarge(`The file holds more than ${fmt(limits.cells)} filled cells; nothing was imported. Split it into smaller files.`);
-      rows.push(r.info.lines, r.record.map((c) => (c === "" ? null : c)));
+      if (cells > limits.cells)
+        throw tooLarge(`The file holds more than ${fmt(limits.cells)} filled cells; nothing was imported. Split it into smaller files.`);
+      rows.push(
+        r.info.lines,
+        r.record.map((c) => (c === "" ? null : c)),
+      );
       if (rows.length > limits.rows) {
         throw tooLarge(`The file has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
       }
@@ -168,7 +178,11 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
       throw tooLarge(`Line ${fmt(e.lines ?? 0)} is longer than ${fmt(limits.csvLineChars)} characters; nothing was imported.`, { line: e.lines });
     }
     const reason = (e.message ?? "").split(":")[0]!.toLowerCase();
-    throw new HttpError(400, "bad_csv", `This file is not an .xlsx workbook, and as CSV it could not be read${e.lines ? ` near line ${e.lines}` : ""} (${reason}).`);
+    throw new HttpError(
+      400,
+      "bad_csv",
+      `This file is not an .xlsx workbook, and as CSV it could not be read${e.lines ? ` near line ${e.lines}` : ""} (${reason}).`,
+    );
   }
   if (header === null) throw new HttpError(400, "empty_file", "The file is empty.");
   if (rows.length === 0) throw new HttpError(400, "empty_file", "The file has a header but no data rows.");
@@ -184,7 +198,9 @@ export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits =
   if (!Array.isArray(items)) throw new HttpError(400, "bad_request", "The body must be a JSON array of objects.");
   if (items.length === 0) throw new HttpError(400, "empty_file", "The array is empty: nothing to import.");
   if (items.length > limits.rows) {
-    throw tooLarge(`The feed sent ${fmt(items.length)} items; one call may send at most ${fmt(limits.rows)}. Send them in smaller batches.`, { limitRows: limits.rows });
+    throw tooLarge(`The feed sent ${fmt(items.length)} items; one call may send at most ${fmt(limits.rows)}. Send them in smaller batches.`, {
+      limitRows: limits.rows,
+    });
   }
   const known = new Set(IMPORT_COLUMNS[kind].map((c) => c.key));
   // Columns are keyed by the normalised key (as a file's header is matched), so no spelling of a
@@ -204,20 +220,30 @@ export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits =
       let col = index.get(key);
       if (col === undefined) {
         if (!known.has(key)) {
-          throw new HttpError(400, "unknown_key", `Item ${fmt(i + 1)} has the key “${k.slice(0, 80)}”, which is not a key of the ${kind.replace("-", " ")} import; nothing was imported. The template lists the keys.`, {
-            item: i + 1,
-            key: k.slice(0, 80),
-          });
+          throw new HttpError(
+            400,
+            "unknown_key",
+            `Item ${fmt(i + 1)} has the key “${k.slice(0, 80)}”, which is not a key of the ${kind.replace("-", " ")} import; nothing was imported. The template lists the keys.`,
+            {
+              item: i + 1,
+              key: k.slice(0, 80),
+            },
+          );
         }
         col = headers.length;
         headers.push(key);
         spelling.push(k);
         index.set(key, col);
       } else if (spelling[col] !== k) {
-        throw new HttpError(400, "mixed_keys", `Item ${fmt(i + 1)} spells the key ${key} as “${k.slice(0, 80)}”, another item as “${spelling[col]}”; nothing was imported. Spell each key one way.`, {
-          item: i + 1,
-          key: k.slice(0, 80),
-        });
+        throw new HttpError(
+          400,
+          "mixed_keys",
+          `Item ${fmt(i + 1)} spells the key ${key} as “${k.slice(0, 80)}”, another item as “${spelling[col]}”; nothing was imported. Spell each key one way.`,
+          {
+            item: i + 1,
+            key: k.slice(0, 80),
+          },
+        );
       }
       cells[col] = v === null || v === undefined ? null : typeof v === "object" ? { cellError: "a nested value" } : (v as Cell);
     }

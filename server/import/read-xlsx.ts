@@ -26,7 +26,11 @@ export type Limits = { [K in keyof typeof IMPORT_LIMITS]: number };
 
 const tooLarge = (message: string, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
 const unreadable = (why?: string) =>
-  new HttpError(415, "unsupported_file", `The workbook could not be read${why ? ` (${why})` : ""}; it may be damaged or protected. Save it again as .xlsx and retry.`);
+  new HttpError(
+    415,
+    "unsupported_file",
+    `The workbook could not be read${why ? ` (${why})` : ""}; it may be damaged or protected. Save it again as .xlsx and retry.`,
+  );
 const fmt = (n: number) => n.toLocaleString("en-GB");
 const mb = (n: number) => `${Math.round(n / 1024 / 1024)} MB`;
 
@@ -65,7 +69,9 @@ interface Budget {
 
 function checkTime(budget: Budget) {
   if (Date.now() > budget.deadline) {
-    throw tooLarge(`Checking the file took longer than ${budget.limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`);
+    throw tooLarge(
+      `Checking the file took longer than ${budget.limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`,
+    );
   }
 }
 
@@ -137,7 +143,9 @@ async function parsePart(zip: ZipFile, entry: Entry, budget: Budget, handlers: P
     for await (const chunk of stream as AsyncIterable<Buffer>) {
       budget.unpacked += chunk.length;
       if (budget.unpacked > budget.limits.unpackedBytes) {
-        throw tooLarge(`The workbook unpacks to more than ${mb(budget.limits.unpackedBytes)}; nothing was imported. Split it into smaller files.`, { limitBytes: budget.limits.unpackedBytes });
+        throw tooLarge(`The workbook unpacks to more than ${mb(budget.limits.unpackedBytes)}; nothing was imported. Split it into smaller files.`, {
+          limitBytes: budget.limits.unpackedBytes,
+        });
       }
       checkTime(budget);
       // Feed in slices so a text run without events is caught within a bounded amount of input.
@@ -148,7 +156,9 @@ async function parsePart(zip: ZipFile, entry: Entry, budget: Budget, handlers: P
         parser.write(piece);
         if (parseError) throw unreadable("its XML is not well-formed");
         if (sinceEvent > MAX_CHARS_WITHOUT_EVENT) {
-          throw tooLarge(`The workbook holds a single text, attribute or comment of more than ${fmt(MAX_CHARS_WITHOUT_EVENT)} characters; nothing was imported.`);
+          throw tooLarge(
+            `The workbook holds a single text, attribute or comment of more than ${fmt(MAX_CHARS_WITHOUT_EVENT)} characters; nothing was imported.`,
+          );
         }
       }
     }
@@ -319,7 +329,9 @@ async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: str
     }
     if (cell === null || (typeof cell === "string" && cell.trim() === "")) return;
     if (col >= limits.columns) {
-      throw tooLarge(`Row ${fmt(rowNo)} has values in more than ${limits.columns} columns; the imports take fewer than 40. Nothing was imported.`, { row: rowNo });
+      throw tooLarge(`Row ${fmt(rowNo)} has values in more than ${limits.columns} columns; the imports take fewer than 40. Nothing was imported.`, {
+        row: rowNo,
+      });
     }
     if (++cellsSeen > limits.cells) {
       throw tooLarge(`The sheet holds more than ${fmt(limits.cells)} filled cells; nothing was imported. Split it into smaller files.`);
@@ -395,7 +407,9 @@ async function readSheet(zip: ZipFile, entry: Entry, budget: Budget, shared: str
       if (capture === null || value === null) return;
       valueLength += text.length;
       if (valueLength > limits.cellChars) {
-        throw tooLarge(`Row ${fmt(rowNo)} holds a cell of more than ${fmt(limits.cellChars)} characters (Excel's own limit); nothing was imported.`, { row: rowNo });
+        throw tooLarge(`Row ${fmt(rowNo)} holds a cell of more than ${fmt(limits.cellChars)} characters (Excel's own limit); nothing was imported.`, {
+          row: rowNo,
+        });
       }
       value += text;
     },
@@ -453,10 +467,13 @@ export async function readXlsxFile(file: string, limits: Limits = IMPORT_LIMITS)
     // the inflated bytes are counted again while streaming (a zip can lie about its sizes).
     const declared = sheetEntry.uncompressedSize + (sharedEntry?.uncompressedSize ?? 0) + budget.unpacked;
     if (declared > limits.unpackedBytes) {
-      throw tooLarge(`The workbook unpacks to ${mb(declared)}, more than the ${mb(limits.unpackedBytes)} one import may hold; nothing was imported. Split it into smaller files.`, {
-        unpackedBytes: declared,
-        limitBytes: limits.unpackedBytes,
-      });
+      throw tooLarge(
+        `The workbook unpacks to ${mb(declared)}, more than the ${mb(limits.unpackedBytes)} one import may hold; nothing was imported. Split it into smaller files.`,
+        {
+          unpackedBytes: declared,
+          limitBytes: limits.unpackedBytes,
+        },
+      );
     }
     const shared = sharedEntry ? await readSharedStrings(zip, sharedEntry, budget) : [];
     const { headers, rows } = await readSheet(zip, sheetEntry, budget, shared);

@@ -11,8 +11,7 @@ export class HttpError extends Error {
   }
 }
 
-export const badRequest = (message: string, details?: unknown, code = "bad_request") =>
-  new HttpError(400, code, message, details);
+export const badRequest = (message: string, details?: unknown, code = "bad_request") => new HttpError(400, code, message, details);
 export const notFound = (message: string, details?: unknown) => new HttpError(404, "not_found", message, details);
 export const conflict = (message: string, details?: unknown) => new HttpError(409, "conflict", message, details);
 export const forbidden = (message: string) => new HttpError(403, "forbidden", message);

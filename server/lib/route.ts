@@ -60,11 +60,9 @@ export interface RouteSpec<P extends AnyZod | undefined, Q extends AnyZod | unde
 export type AnyRoute = RouteSpec<AnyZod | undefined, AnyZod | undefined, AnyZod | undefined>;
 
 /** Declares a route; the generics carry the zod types into the handler. */
-export function defineRoute<
-  P extends AnyZod | undefined = undefined,
-  Q extends AnyZod | undefined = undefined,
-  B extends AnyZod | undefined = undefined,
->(spec: RouteSpec<P, Q, B>): AnyRoute {
+export function defineRoute<P extends AnyZod | undefined = undefined, Q extends AnyZod | undefined = undefined, B extends AnyZod | undefined = undefined>(
+  spec: RouteSpec<P, Q, B>,
+): AnyRoute {
   return spec as unknown as AnyRoute;
 }
 
@@ -101,12 +99,7 @@ function describe(registry: OpenAPIRegistry, spec: AnyRoute) {
     }
     request.body = { content: { "multipart/form-data": { schema: { type: "object", properties } as never } }, required: true };
   }
-  const security =
-    spec.access === "public"
-      ? []
-      : spec.access === "ingest.token"
-        ? [{ apiToken: [] }]
-        : [{ session: [] }];
+  const security = spec.access === "public" ? [] : spec.access === "ingest.token" ? [{ apiToken: [] }] : [{ session: [] }];
   registry.registerPath({
     method: spec.method,
     path: toOpenApiPath(spec.path),

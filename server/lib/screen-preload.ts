@@ -64,10 +64,12 @@ export function createScreenPages(clientDist: string) {
   const indexFile = path.join(clientDist, "index.html");
   const manifestFile = path.join(clientDist, ".vite", "manifest.json");
   const signature = () =>
-    [indexFile, manifestFile].map((f) => {
-      const st = fs.statSync(f, { throwIfNoEntry: false });
-      return st ? `${st.size}:${st.mtimeMs}` : "-";
-    }).join("|");
+    [indexFile, manifestFile]
+      .map((f) => {
+        const st = fs.statSync(f, { throwIfNoEntry: false });
+        return st ? `${st.size}:${st.mtimeMs}` : "-";
+      })
+      .join("|");
   let built = "";
   let pages = new Map<string, ScreenPage>();
   let build: (screen: Screen, inFrame: boolean, charts: boolean) => ScreenPage = () => {
@@ -99,7 +101,10 @@ export function createScreenPages(clientDist: string) {
       // screen imports on demand, and the chart library under them) is named too, last — for
       // someone whose role reads reports only (the chart library stays off the inspector's tablet).
       if (screen.report && charts) keys.push(...closure(manifest, manifest[key].dynamicImports ?? []));
-      const files = [...new Set(keys)].filter((k) => !named.has(k)).map((k) => manifest[k]!.file).filter((f) => f.endsWith(".js"));
+      const files = [...new Set(keys)]
+        .filter((k) => !named.has(k))
+        .map((k) => manifest[k]!.file)
+        .filter((f) => f.endsWith(".js"));
       const html = base.toString("utf8");
       const at = html.indexOf("</head>");
       if (!files.length || at < 0) return plain;

@@ -56,7 +56,10 @@ export interface SessionCache {
 export function createSessionCache(sqlite: Database.Database, opts: { ttlMs?: number } = {}): SessionCache {
   const entries = new LRUCache<string, Entry>({ max: MAX_ENTRIES, ttl: opts.ttlMs ?? SESSION_CACHE_TTL_MS });
   // Prepared once; what better-auth's get-session would find: the session, unexpired, and its user.
-  const live = sqlite.prepare<[string, number], { id: string; name: string; email: string; role: string | null; banned: number | null; must_change_password: number }>(
+  const live = sqlite.prepare<
+    [string, number],
+    { id: string; name: string; email: string; role: string | null; banned: number | null; must_change_password: number }
+  >(
     `select u.id, u.name, u.email, u.role, u.banned, u.must_change_password from session s join user u on u.id = s.user_id where s.id = ? and s.expires_at > ?`,
   );
   return {

@@ -11,7 +11,8 @@ import nodemailer, { type Transporter } from "nodemailer";
 import type { Db } from "../db/client";
 import type { Logger } from "../lib/logger";
 
-export type MailKind = "critical_defect" | "action_assigned" | "action_overdue" | "investigation_closed" | "invitation" | "password_reset" | "heat_history" | "risk_drift";
+export type MailKind =
+  "critical_defect" | "action_assigned" | "action_overdue" | "investigation_closed" | "invitation" | "password_reset" | "heat_history" | "risk_drift";
 
 export interface MailMessage {
   kind: MailKind;
@@ -88,7 +89,8 @@ export function readableMailError(err: unknown, smtpUrl: string, timeouts: MailT
   const at = `the mail server at ${serverOf(smtpUrl)}`;
   const s = (ms: number) => `${Math.round(ms / 100) / 10} s`;
   let said: string | null = null;
-  if (/greeting never received/i.test(raw)) said = `${at} accepted the connection but did not answer within ${s(timeouts.greetingMs)} (it may be hung or overloaded)`;
+  if (/greeting never received/i.test(raw))
+    said = `${at} accepted the connection but did not answer within ${s(timeouts.greetingMs)} (it may be hung or overloaded)`;
   else if (/connection timeout/i.test(raw)) said = `No connection to ${at} within ${s(timeouts.connectionMs)} (check the address, the port and the firewall)`;
   else if (e?.code === "ETIMEDOUT") said = `${at} stopped answering for ${s(timeouts.socketMs)} while the message was being sent`;
   else if (/ECONNREFUSED/.test(raw)) said = `${at} refused the connection (is it running, and is the port right?)`;
@@ -142,7 +144,8 @@ export function createMailer(opts: MailerOptions) {
 
   async function sendOne(row: Record<string, any>, now: number): Promise<Attempt | "taken"> {
     // Claimed atomically: a message another pass already took is not sent twice.
-    if (sqlite.prepare("update email_outbox set status = 'sending', updated_at = ? where id = ? and status = 'queued'").run(now, row.id).changes === 0) return "taken";
+    if (sqlite.prepare("update email_outbox set status = 'sending', updated_at = ? where id = ? and status = 'queued'").run(now, row.id).changes === 0)
+      return "taken";
     try {
       const attachments = ((row.attachments ? JSON.parse(row.attachments) : []) as StoredAttachment[]).map((a) => ({
         filename: a.filename,
@@ -150,7 +153,11 @@ export function createMailer(opts: MailerOptions) {
         content: fs.readFileSync(path.join(opts.dir, a.file)),
       }));
       const info = await getTransport().sendMail({ from: row.from_address, to: row.to_addresses, subject: row.subject, text: row.text_body, attachments });
-      sqlite.prepare("update email_outbox set status = 'sent', attempts = attempts + 1, sent_at = ?, message_id = ?, last_error = null, next_attempt_at = null, updated_at = ? where id = ?").run(Date.now(), info.messageId ?? null, Date.now(), row.id);
+      sqlite
+        .prepare(
+          "update email_outbox set status = 'sent', attempts = attempts + 1, sent_at = ?, message_id = ?, last_error = null, next_attempt_at = null, updated_at = ? where id = ?",
+        )
+        .run(Date.now(), info.messageId ?? null, Date.now(), row.id);
       return "sent";
     } catch (err) {
       const attempts = row.attempts + 1;
@@ -213,7 +220,11 @@ export function createMailer(opts: MailerOptions) {
     },
     /** Puts a failed message back in the queue, to be sent on the next pass. */
     retry(id: number): boolean {
-      return sqlite.prepare("update email_outbox set status = 'queued', next_attempt_at = ?, attempts = 0, updated_at = ? where id = ? and status = 'failed'").run(Date.now(), Date.now(), id).changes > 0;
+      return (
+        sqlite
+          .prepare("update email_outbox set status = 'queued', next_attempt_at = ?, attempts = 0, updated_at = ? where id = ? and status = 'failed'")
+          .run(Date.now(), Date.now(), id).changes > 0
+      );
     },
     start(intervalMs: number) {
       // A message left "sending" by a crash goes back to the queue.

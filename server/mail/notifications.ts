@@ -10,7 +10,6 @@ import type { Mailer, MailMessage } from "./mailer";
 
 type Row = Record<string, any>;
 
-
 export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: string; logger: Logger }) {
   const { db, mailer, baseUrl, logger } = opts;
   const sqlite = db.$client;
@@ -30,7 +29,12 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
 
   const activeWithRole = (role: string) =>
     (sqlite.prepare("select email, role from user where coalesce(banned, 0) = 0").all() as Row[])
-      .filter((u) => String(u.role ?? "").split(",").map((r) => r.trim()).includes(role))
+      .filter((u) =>
+        String(u.role ?? "")
+          .split(",")
+          .map((r) => r.trim())
+          .includes(role),
+      )
       .map((u) => u.email as string);
 
   const emailOf = (userId: string | null | undefined) =>
@@ -54,7 +58,9 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
           "",
           `Open the slab: ${link(`/slabs/${encodeURIComponent(d.slabId)}`)}`,
           `Review queue: ${link("/quality/review")}`,
-        ].filter((l, i, a) => l !== "" || a[i - 1] !== "").join("\n"),
+        ]
+          .filter((l, i, a) => l !== "" || a[i - 1] !== "")
+          .join("\n"),
       });
     },
 
@@ -94,7 +100,23 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
      * drifted, to every active quality engineer. Returns the outbox id, or null when nothing was queued.
      */
     riskDrift(
-      alert: { modelId: number; target: string; version: number; months: { month: string; slabs: number; affected: number; predicted: number; observed: number; citl: number | null; auc: number | null; aucCiLower: number | null; aucCiUpper: number | null; reason: string }[] },
+      alert: {
+        modelId: number;
+        target: string;
+        version: number;
+        months: {
+          month: string;
+          slabs: number;
+          affected: number;
+          predicted: number;
+          observed: number;
+          citl: number | null;
+          auc: number | null;
+          aucCiLower: number | null;
+          aucCiUpper: number | null;
+          reason: string;
+        }[];
+      },
       validationAucCiLower: number | null,
     ) {
       const pc = (v: number) => `${(v * 100).toFixed(1)} %`;

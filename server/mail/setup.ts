@@ -16,7 +16,10 @@ export async function setupMail(db: Db, env: Env, logger: Logger, opts: { startF
     return { mailer: createMailer({ db, logger, smtpUrl: env.SMTP_URL, from: env.MAIL_FROM, dir, describe: `the SMTP server at ${host}` }), fake: null };
   }
   if (opts.startFake === false) {
-    return { mailer: createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir, describe: "no mail server (queued only)" }), fake: null };
+    return {
+      mailer: createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir, describe: "no mail server (queued only)" }),
+      fake: null,
+    };
   }
   let fake;
   try {

@@ -7,9 +7,7 @@
  * `{ kind: "linear", teslaPerAmp, offsetT }` or `{ kind: "table", points: [[amps, tesla], …] }`.
  * Stored as JSON on the strand (server/db/schema.ts re-exports this type).
  */
-export type EmbrCalibration =
-  | { kind: "linear"; teslaPerAmp: number; offsetT: number }
-  | { kind: "table"; points: [number, number][] };
+export type EmbrCalibration = { kind: "linear"; teslaPerAmp: number; offsetT: number } | { kind: "table"; points: [number, number][] };
 
 export interface SteelProperties {
   conductivitySPerM: number;

@@ -30,7 +30,10 @@ const BUDGETED = new Set([`${BASE}/sign-in/email`, `${BASE}/request-password-res
 /** The path as a URL parser resolves it (dot segments, %2e), lower-cased, without doubled or trailing slashes. */
 export function normalisedPath(originalUrl: string): string {
   try {
-    return new URL(originalUrl, "http://door.invalid").pathname.replace(/\/{2,}/g, "/").replace(/\/+$/, "").toLowerCase();
+    return new URL(originalUrl, "http://door.invalid").pathname
+      .replace(/\/{2,}/g, "/")
+      .replace(/\/+$/, "")
+      .toLowerCase();
   } catch {
     return "";
   }
@@ -51,7 +54,13 @@ async function inPlainWords(response: Response): Promise<Response> {
   }
   const out =
     body.error?.code === "validation_error"
-      ? JSON.stringify({ error: { code: "validation_failed", message: "The sign-in service could not read this request: give the e-mail address, the password and the link's code as plain text.", details: [{ path: "body", message: body.error.message ?? "" }] } })
+      ? JSON.stringify({
+          error: {
+            code: "validation_failed",
+            message: "The sign-in service could not read this request: give the e-mail address, the password and the link's code as plain text.",
+            details: [{ path: "body", message: body.error.message ?? "" }],
+          },
+        })
       : text;
   const headers = new Headers(response.headers);
   headers.delete("content-length");
@@ -126,7 +135,9 @@ export function authDoor({ auth, baseUrl, signInBudget, toEnvelope }: AuthDoorOp
     headers.delete("content-length");
     headers.delete("transfer-encoding");
     const body = req.method !== "GET" && req.method !== "HEAD" && Buffer.isBuffer(req.body) && req.body.length > 0 ? new Uint8Array(req.body) : undefined;
-    const response = await inPlainWords(await toEnvelope(await auth.handler(new Request(new URL(req.originalUrl, baseUrl), { method: req.method, headers, body }))));
+    const response = await inPlainWords(
+      await toEnvelope(await auth.handler(new Request(new URL(req.originalUrl, baseUrl), { method: req.method, headers, body }))),
+    );
     res.status(response.status);
     response.headers.forEach((value, name) => {
       if (name !== "set-cookie") res.setHeader(name, value);

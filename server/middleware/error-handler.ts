@@ -71,7 +71,9 @@ export function errorHandler(logger: Logger): ErrorRequestHandler {
       return;
     }
     if (e.type === "entity.too.large" || e.code === "LIMIT_FILE_SIZE") {
-      res.status(413).json({ error: { code: "too_large", message: e.code === "LIMIT_FILE_SIZE" ? "The file is too large." : "The request body is too large." } });
+      res
+        .status(413)
+        .json({ error: { code: "too_large", message: e.code === "LIMIT_FILE_SIZE" ? "The file is too large." : "The request body is too large." } });
       return;
     }
     if (typeof e.code === "string" && e.code.startsWith("LIMIT_")) {

@@ -135,12 +135,21 @@ function readable(err: unknown, opts: DiskUploadOptions): unknown {
   const e = err as { code?: string; field?: string; message?: string; status?: number };
   switch (e.code) {
     case "LIMIT_FILE_SIZE":
-      return new HttpError(413, "too_large", `A file is larger than ${mb(opts.maxBytes)}, the most one file may be. Nothing was stored.`, { field: e.field, maxBytes: opts.maxBytes });
+      return new HttpError(413, "too_large", `A file is larger than ${mb(opts.maxBytes)}, the most one file may be. Nothing was stored.`, {
+        field: e.field,
+        maxBytes: opts.maxBytes,
+      });
     case "LIMIT_FILE_COUNT":
-      return new HttpError(400, "too_many_files", `Send at most ${opts.maxFiles} file${opts.maxFiles === 1 ? "" : "s"} at once.`, { field: opts.field, maxFiles: opts.maxFiles });
+      return new HttpError(400, "too_many_files", `Send at most ${opts.maxFiles} file${opts.maxFiles === 1 ? "" : "s"} at once.`, {
+        field: opts.field,
+        maxFiles: opts.maxFiles,
+      });
     case "LIMIT_UNEXPECTED_FILE":
       return e.field === opts.field
-        ? new HttpError(400, "too_many_files", `Send at most ${opts.maxFiles} file${opts.maxFiles === 1 ? "" : "s"} at once.`, { field: opts.field, maxFiles: opts.maxFiles })
+        ? new HttpError(400, "too_many_files", `Send at most ${opts.maxFiles} file${opts.maxFiles === 1 ? "" : "s"} at once.`, {
+            field: opts.field,
+            maxFiles: opts.maxFiles,
+          })
         : new HttpError(400, "unexpected_field", `Send the file in the form field “${opts.field}”.`, { field: e.field ?? null });
     case "LIMIT_PART_COUNT":
     case "LIMIT_FIELD_COUNT":
@@ -150,7 +159,9 @@ function readable(err: unknown, opts: DiskUploadOptions): unknown {
     case "LIMIT_FIELD_ARRAY_INDEX":
     case "MISSING_FIELD_NAME":
     case "INVALID_FIELD_NAME":
-      return new HttpError(400, "upload_rejected", "The form has more or longer fields than this upload takes. Send only the files (and their keys).", { field: e.field ?? null });
+      return new HttpError(400, "upload_rejected", "The form has more or longer fields than this upload takes. Send only the files (and their keys).", {
+        field: e.field ?? null,
+      });
   }
   const stored = storeError(err, "upload");
   if (stored !== err) return stored;

@@ -70,7 +70,8 @@ export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
     defineRoute({
       method: "post",
       path: "/me/password",
-      summary: "Change one's own password (a first password set by an administrator must be changed this way before anything else opens); the account's other sessions end",
+      summary:
+        "Change one's own password (a first password set by an administrator must be changed this way before anything else opens); the account's other sessions end",
       tag: "system",
       access: "signed-in",
       body: changeOwnPasswordSchema,
@@ -80,7 +81,12 @@ export function adminUserRoutes({ db, auth, notify, logger }: Deps) {
         429: { description: "Too many wrong passwords from this address: locked for a while." },
       },
       handler: async ({ req, res, body, user }) => {
-        const cookies = await changeOwnPassword(db, auth, { email: user.email, cookie: req.headers.cookie ?? "", address: req.ip ?? req.socket.remoteAddress ?? "unknown" }, body);
+        const cookies = await changeOwnPassword(
+          db,
+          auth,
+          { email: user.email, cookie: req.headers.cookie ?? "", address: req.ip ?? req.socket.remoteAddress ?? "unknown" },
+          body,
+        );
         if (cookies.length > 0) res.append("Set-Cookie", cookies);
         return { changed: true as const };
       },

@@ -60,7 +60,10 @@ export function causeRoutes({ db }: Deps): AnyRoute[] {
       tag: "causes",
       access: "causes.tag",
       params: codeParams,
-      responses: { 200: { description: "Deleted.", schema: z.object({ code: z.string(), deleted: z.literal(true) }) }, 409: { description: "The tag has been used: retire it." } },
+      responses: {
+        200: { description: "Deleted.", schema: z.object({ code: z.string(), deleted: z.literal(true) }) },
+        409: { description: "The tag has been used: retire it." },
+      },
       handler: ({ params, user }) => {
         deleteTag(db, user, params.code);
         return { code: params.code, deleted: true as const };

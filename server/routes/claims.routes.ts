@@ -31,7 +31,12 @@ const safe = (x: string) => x.replace(/[^A-Za-z0-9_-]/g, "_");
 const fileName = (heatNo: string, edition: HistoryOptions["edition"] = "internal", claimNo?: string) =>
   `strandsight-heat-${safe(heatNo)}-history-${edition === "customer" ? `${claimNo ? `claim-${safe(claimNo)}-` : ""}customer` : "internal"}-${new Date().toISOString().slice(0, 10)}.xlsx`;
 /** The query's edition as the service takes it; who prepares it is the signed-in user's name. */
-const editionOf = (q: z.output<typeof historyEditionQuerySchema>, preparedBy: string): HistoryOptions => ({ edition: q.edition, sections: q.sections, claimId: q.claim, preparedBy });
+const editionOf = (q: z.output<typeof historyEditionQuerySchema>, preparedBy: string): HistoryOptions => ({
+  edition: q.edition,
+  sections: q.sections,
+  claimId: q.claim,
+  preparedBy,
+});
 
 export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
   const uploadDir = path.resolve(env.UPLOAD_DIR);
@@ -54,12 +59,16 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
     defineRoute({
       method: "get",
       path: "/heats/:heatNo/history",
-      summary: "A heat's history as JSON (the printable view): the internal edition (everything, the audit trail in words) or the customer edition (sections chosen, nothing internal); claim= adds the claim's cover page",
+      summary:
+        "A heat's history as JSON (the printable view): the internal edition (everything, the audit trail in words) or the customer edition (sections chosen, nothing internal); claim= adds the claim's cover page",
       tag: "claims",
       access: "history.export",
       params: heatParams,
       query: historyEditionQuerySchema,
-      responses: { 200: { description: "The history.", schema: heatHistorySchema }, 400: { description: "The claim has no slab of this heat, or an unknown section." } },
+      responses: {
+        200: { description: "The history.", schema: heatHistorySchema },
+        400: { description: "The claim has no slab of this heat, or an unknown section." },
+      },
       handler: ({ params, query, user }) => heatHistory(db, params.heatNo, editionOf(query, user.name)),
     }),
     defineRoute({
@@ -71,11 +80,20 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
       access: "history.export",
       params: heatParams,
       query: historyEditionQuerySchema,
-      responses: { 200: { description: "The workbook.", contentType: XLSX }, 400: { description: "The claim has no slab of this heat, or an unknown section." } },
+      responses: {
+        200: { description: "The workbook.", contentType: XLSX },
+        400: { description: "The claim has no slab of this heat, or an unknown section." },
+      },
       handler: async ({ params, query, res, user }) => {
         const { buf, hist } = await workbook(params.heatNo, `${user.name} <${user.email}>`, editionOf(query, user.name));
         const heatNo = hist.heat.heatNo;
-        recordAudit(db, { userId: user.id, action: "heat.history.export", entity: "heat", entityId: heatNo, after: { edition: hist.edition.kind, sections: hist.edition.sections, claim: hist.edition.cover?.claimNo ?? null } });
+        recordAudit(db, {
+          userId: user.id,
+          action: "heat.history.export",
+          entity: "heat",
+          entityId: heatNo,
+          after: { edition: hist.edition.kind, sections: hist.edition.sections, claim: hist.edition.cover?.claimNo ?? null },
+        });
         res.setHeader("Content-Type", XLSX);
         res.setHeader("Content-Disposition", `attachment; filename="${fileName(heatNo, hist.edition.kind, hist.edition.cover?.claimNo)}"`);
         res.send(buf);
@@ -170,7 +188,8 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
     defineRoute({
       method: "post",
       path: "/claims/:id/send-history",
-      summary: "E-mail a linked heat's history workbook to recipients — the customer edition with the claim's cover page unless edition=internal (claims officers; queued; logged on the claim)",
+      summary:
+        "E-mail a linked heat's history workbook to recipients — the customer edition with the claim's cover page unless edition=internal (claims officers; queued; logged on the claim)",
       tag: "claims",
       access: "claims.manage",
       params: idParams,
@@ -181,7 +200,12 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
         const claim = claimExists(db, params.id);
         checkHeatOfClaim(db, params.id, body.heatNo);
         const heatNo = body.heatNo.trim().toUpperCase();
-        const { buf, hist } = await workbook(heatNo, `${user.name} <${user.email}>`, { edition: body.edition, sections: body.sections, claimId: params.id, preparedBy: user.name });
+        const { buf, hist } = await workbook(heatNo, `${user.name} <${user.email}>`, {
+          edition: body.edition,
+          sections: body.sections,
+          claimId: params.id,
+          preparedBy: user.name,
+        });
         const contents = hist.edition.sections.map((x) => SECTION_LABELS[x].toLowerCase());
         const listed = contents.length > 1 ? `${contents.slice(0, -1).join(", ")} and ${contents[contents.length - 1]}` : (contents[0] ?? "the summary");
         const customer = hist.edition.kind === "customer";
@@ -194,7 +218,13 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
             text: `${body.message ? `${body.message}\n\n` : ""}Attached: the history of heat ${heatNo} for claim ${claim.claim_no} of ${claim.customer} — ${listed}.${customer ? "" : "\n\nThis is the internal edition: it is not meant for the customer."}\n\nSent by ${user.name}.${customer ? "" : `\n\n—\nStrandsight · ${env.BETTER_AUTH_URL}`}`,
             attachments: [{ filename: fileName(heatNo, hist.edition.kind, claim.claim_no), contentType: XLSX, content: buf }],
           })!;
-          recordAudit(db, { userId: user.id, action: "claim.history.sent", entity: "claim", entityId: params.id, after: { heatNo, to: body.to, outboxId: id, bytes: buf.length, edition: hist.edition.kind, sections: hist.edition.sections } });
+          recordAudit(db, {
+            userId: user.id,
+            action: "claim.history.sent",
+            entity: "claim",
+            entityId: params.id,
+            after: { heatNo, to: body.to, outboxId: id, bytes: buf.length, edition: hist.edition.kind, sections: hist.edition.sections },
+          });
           return id;
         });
         return { messageId, claim: getClaim(db, params.id) };

@@ -66,7 +66,9 @@ export function defectRoutes({ db, env, events }: Deps) {
         }
         res.type(f.mime);
         return new Promise<void>((resolve, reject) =>
-          res.sendFile(f.file, { root: uploadDir, dotfiles: "deny", etag: false, lastModified: false, cacheControl: false }, (err) => (err ? reject(err) : resolve())),
+          res.sendFile(f.file, { root: uploadDir, dotfiles: "deny", etag: false, lastModified: false, cacheControl: false }, (err) =>
+            err ? reject(err) : resolve(),
+          ),
         );
       },
     });
@@ -88,7 +90,10 @@ export function defectRoutes({ db, env, events }: Deps) {
         const result = createDefect(db, user, body, events);
         // Written out directly rather than with res.json(), which hashes every answer for an ETag:
         // nothing revalidates the answer to a post, and the hash was a few percent of its CPU.
-        res.status(result.created ? 201 : 200).type("application/json").end(JSON.stringify(result));
+        res
+          .status(result.created ? 201 : 200)
+          .type("application/json")
+          .end(JSON.stringify(result));
       },
     }),
     defineRoute({
@@ -196,7 +201,12 @@ export function defectRoutes({ db, env, events }: Deps) {
       summary: "The defect catalogue (code, name, category, active), with when the caller last used each type",
       tag: "catalogue",
       access: "plant.read",
-      query: z.object({ includeRetired: z.enum(["true", "false"]).optional().transform((v) => v === "true") }),
+      query: z.object({
+        includeRetired: z
+          .enum(["true", "false"])
+          .optional()
+          .transform((v) => v === "true"),
+      }),
       responses: { 200: { description: "The catalogue.", schema: catalogueSchema } },
       handler: ({ user, query }) => getCatalogue(db, user.id, query.includeRetired),
     }),

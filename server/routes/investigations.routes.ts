@@ -34,7 +34,14 @@ import {
   updateHypothesis,
   updateInvestigation,
 } from "../services/investigations.service";
-import { addAttachments, ATTACHMENT_UPLOAD_REFUSALS, checkAttachmentCaps, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES, attachmentFile } from "../services/attachments.service";
+import {
+  addAttachments,
+  ATTACHMENT_UPLOAD_REFUSALS,
+  checkAttachmentCaps,
+  ATTACHMENT_MAX_BYTES,
+  ATTACHMENT_MAX_FILES,
+  attachmentFile,
+} from "../services/attachments.service";
 import type { Deps } from "./deps";
 
 const idParams = z.object({ id: z.coerce.number().int().positive() });
@@ -194,7 +201,9 @@ export function investigationRoutes({ db, env, notify }: Deps): AnyRoute[] {
       responses: { ...one, ...ATTACHMENT_UPLOAD_REFUSALS, 404: { description: "No such investigation." } },
       handler: async ({ params, req, user }) => {
         investigationForOpen(db, params.id);
-        await addAttachments(db, user, "investigation", params.id, (req.files as IncomingFile[] | undefined) ?? [], dir, () => investigationForOpen(db, params.id));
+        await addAttachments(db, user, "investigation", params.id, (req.files as IncomingFile[] | undefined) ?? [], dir, () =>
+          investigationForOpen(db, params.id),
+        );
         return getInvestigation(db, params.id);
       },
     }),

@@ -76,7 +76,10 @@ export function operatingWindowRoutes({ db }: Deps): AnyRoute[] {
       tag: "operating-windows",
       access: "plant.read",
       query: windowFlagsQuerySchema,
-      responses: { 200: { description: "Each slab with the rules flagging it (an association, never a clearance).", schema: windowFlagsSchema }, 404: { description: "No such heat." } },
+      responses: {
+        200: { description: "Each slab with the rules flagging it (an association, never a clearance).", schema: windowFlagsSchema },
+        404: { description: "No such heat." },
+      },
       handler: ({ query }) => windowFlags(db, query),
     }),
   ];

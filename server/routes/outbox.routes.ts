@@ -16,9 +16,7 @@ const SELECT = `select o.*, exists (select 1 from mail_received r where r.messag
  * sent over SMTP keeps the real link.
  */
 export function hideSecretLinks(text: string): string {
-  return text
-    .replace(/(\/reset-password\/)[^\s?#]+(?:\?[^\s#]*)?/g, "$1[link hidden]")
-    .replace(/([?&]token=)[^\s&#]+/g, "$1[hidden]");
+  return text.replace(/(\/reset-password\/)[^\s?#]+(?:\?[^\s#]*)?/g, "$1[link hidden]").replace(/([?&]token=)[^\s&#]+/g, "$1[hidden]");
 }
 
 function toMessage(r: Row): OutboxMessage {
@@ -27,7 +25,10 @@ function toMessage(r: Row): OutboxMessage {
     id: r.id,
     kind: r.kind,
     from: r.from_address,
-    to: String(r.to_addresses).split(",").map((s) => s.trim()).filter(Boolean),
+    to: String(r.to_addresses)
+      .split(",")
+      .map((s) => s.trim())
+      .filter(Boolean),
     subject: r.subject,
     text: hideSecretLinks(String(r.text_body)),
     attachments: att.map(({ filename, contentType, bytes }) => ({ filename, contentType, bytes })),
@@ -61,8 +62,12 @@ export function outboxRoutes({ db, mailer }: Deps): AnyRoute[] {
         if (query.to) (where.push("o.to_addresses like @to escape '\\'"), (params.to = `%${query.to.replace(/[\\%_]/g, (c) => `\\${c}`)}%`));
         const w = where.length ? `where ${where.join(" and ")}` : "";
         const total = sqlite.prepare(`select count(*) from email_outbox o ${w}`).pluck().get(params) as number;
-        const rows = sqlite.prepare(`${SELECT} ${w} order by o.id desc limit @limit offset @offset`).all({ ...params, limit: query.pageSize, offset: (query.page - 1) * query.pageSize }) as Row[];
-        const counts = Object.fromEntries((sqlite.prepare("select status, count(*) as n from email_outbox group by status").all() as Row[]).map((r) => [r.status, r.n]));
+        const rows = sqlite
+          .prepare(`${SELECT} ${w} order by o.id desc limit @limit offset @offset`)
+          .all({ ...params, limit: query.pageSize, offset: (query.page - 1) * query.pageSize }) as Row[];
+        const counts = Object.fromEntries(
+          (sqlite.prepare("select status, count(*) as n from email_outbox group by status").all() as Row[]).map((r) => [r.status, r.n]),
+        );
         return { items: rows.map(toMessage), total, page: query.page, pageSize: query.pageSize, counts, transport: mailer.describe() };
       },
     }),
@@ -77,8 +82,16 @@ export function outboxRoutes({ db, mailer }: Deps): AnyRoute[] {
       handler: ({ params, user }) => {
         const r = sqlite.prepare(`${SELECT} where o.id = ?`).get(params.id) as Row | undefined;
         if (!r) throw notFound("There is no such message.");
-        if (!mailer.retry(params.id)) throw conflict(`This message is ${r.status}; only failed messages are retried by hand (queued ones are retried on their own).`);
-        recordAudit(db, { userId: user.id, action: "mail.retry", entity: "email_outbox", entityId: params.id, before: { status: r.status, attempts: r.attempts, lastError: r.last_error }, after: { status: "queued" } });
+        if (!mailer.retry(params.id))
+          throw conflict(`This message is ${r.status}; only failed messages are retried by hand (queued ones are retried on their own).`);
+        recordAudit(db, {
+          userId: user.id,
+          action: "mail.retry",
+          entity: "email_outbox",
+          entityId: params.id,
+          before: { status: r.status, attempts: r.attempts, lastError: r.last_error },
+          after: { status: "queued" },
+        });
         return toMessage(sqlite.prepare(`${SELECT} where o.id = ?`).get(params.id) as Row);
       },
     }),

@@ -42,15 +42,73 @@ const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
 
 export function reportRoutes({ db }: Deps): AnyRoute[] {
   const kinds = [
-    { kind: "overview", summary: "Overview: rates by period (optionally directly standardised to the grade-family mix of the filters), a Pareto of defect types, rates by grade and by strand", query: overviewQuerySchema, schema: overviewSchema, run: overview },
-    { kind: "rate-by-variable", summary: "Rate of affected slabs against one casting condition: bins with Wilson intervals, Spearman, logistic odds ratio, Mann–Whitney", query: rateByVariableQuerySchema, schema: rateByVariableSchema, run: rateByVariable },
-    { kind: "screening", summary: "Every variable ranked by its association with the defect (Welch t / chi-square, Benjamini–Hochberg adjusted)", query: screeningQuerySchema, schema: screeningSchema, run: screening },
-    { kind: "process-window", summary: "Rate over a grid of two variables, with the count in each cell", query: processWindowQuerySchema, schema: processWindowSchema, run: processWindow },
-    { kind: "control-chart", summary: "Control chart by day or week: p-chart, Laney p′ chart or u-chart (defects per slab); limits from a baseline period applied to later periods; Western Electric run rules; Laney σ_z for overdispersion; standardised rates beside", query: controlChartQuerySchema, schema: controlChartSchema, run: controlChart },
-    { kind: "before-after", summary: "Two periods, or two ranges of one variable: difference in rates with its interval and the Fisher or chi-square p; with stratifyBy, per-stratum comparisons, the Mantel–Haenszel odds ratio (B against A), Breslow–Day and the difference of directly standardised rates", query: beforeAfterQuerySchema, schema: beforeAfterSchema, run: beforeAfter },
-    { kind: "slab-positions", summary: "Where on the slab: defect counts by face, along the length and across the width", query: slabPositionsQuerySchema, schema: slabPositionsSchema, run: slabPositions },
-    { kind: "cause-pareto", summary: "Pareto of cause tags over the defects passing the filters (live taggings at or above a confidence)", query: causeParetoQuerySchema, schema: causeParetoSchema, run: causePareto },
-    { kind: "adjusted", summary: "Adjusted model: crude and adjusted odds ratios side by side for the conditions examined, adjusted for grade family, strand or any other term; heat-clustered SEs by default; a test and the GVIF per variable", query: adjustedQuerySchema, schema: adjustedSchema, run: adjustedModel },
+    {
+      kind: "overview",
+      summary:
+        "Overview: rates by period (optionally directly standardised to the grade-family mix of the filters), a Pareto of defect types, rates by grade and by strand",
+      query: overviewQuerySchema,
+      schema: overviewSchema,
+      run: overview,
+    },
+    {
+      kind: "rate-by-variable",
+      summary: "Rate of affected slabs against one casting condition: bins with Wilson intervals, Spearman, logistic odds ratio, Mann–Whitney",
+      query: rateByVariableQuerySchema,
+      schema: rateByVariableSchema,
+      run: rateByVariable,
+    },
+    {
+      kind: "screening",
+      summary: "Every variable ranked by its association with the defect (Welch t / chi-square, Benjamini–Hochberg adjusted)",
+      query: screeningQuerySchema,
+      schema: screeningSchema,
+      run: screening,
+    },
+    {
+      kind: "process-window",
+      summary: "Rate over a grid of two variables, with the count in each cell",
+      query: processWindowQuerySchema,
+      schema: processWindowSchema,
+      run: processWindow,
+    },
+    {
+      kind: "control-chart",
+      summary:
+        "Control chart by day or week: p-chart, Laney p′ chart or u-chart (defects per slab); limits from a baseline period applied to later periods; Western Electric run rules; Laney σ_z for overdispersion; standardised rates beside",
+      query: controlChartQuerySchema,
+      schema: controlChartSchema,
+      run: controlChart,
+    },
+    {
+      kind: "before-after",
+      summary:
+        "Two periods, or two ranges of one variable: difference in rates with its interval and the Fisher or chi-square p; with stratifyBy, per-stratum comparisons, the Mantel–Haenszel odds ratio (B against A), Breslow–Day and the difference of directly standardised rates",
+      query: beforeAfterQuerySchema,
+      schema: beforeAfterSchema,
+      run: beforeAfter,
+    },
+    {
+      kind: "slab-positions",
+      summary: "Where on the slab: defect counts by face, along the length and across the width",
+      query: slabPositionsQuerySchema,
+      schema: slabPositionsSchema,
+      run: slabPositions,
+    },
+    {
+      kind: "cause-pareto",
+      summary: "Pareto of cause tags over the defects passing the filters (live taggings at or above a confidence)",
+      query: causeParetoQuerySchema,
+      schema: causeParetoSchema,
+      run: causePareto,
+    },
+    {
+      kind: "adjusted",
+      summary:
+        "Adjusted model: crude and adjusted odds ratios side by side for the conditions examined, adjusted for grade family, strand or any other term; heat-clustered SEs by default; a test and the GVIF per variable",
+      query: adjustedQuerySchema,
+      schema: adjustedSchema,
+      run: adjustedModel,
+    },
   ] as const;
 
   // The reports that read the in-memory slab facts (report-cache.ts): after a start, until those are
@@ -77,7 +135,14 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
       summary: "The variables the reports take, with labels and units",
       tag: "reports",
       access: "reports.read",
-      responses: { 200: { description: "Variables.", schema: z.object({ variables: z.array(z.object({ key: z.string(), label: z.string(), unit: z.string(), group: z.string(), description: z.string() })) }) } },
+      responses: {
+        200: {
+          description: "Variables.",
+          schema: z.object({
+            variables: z.array(z.object({ key: z.string(), label: z.string(), unit: z.string(), group: z.string(), description: z.string() })),
+          }),
+        },
+      },
       handler: () => ({ variables: VARIABLES.map(({ key, label, unit, group, description }) => ({ key, label, unit, group, description })) }),
     }),
   ];
@@ -105,7 +170,13 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
           const result = await compute(k, query);
           const qs = req.originalUrl.includes("?") ? req.originalUrl.slice(req.originalUrl.indexOf("?") + 1) : "";
           const methods = (result as { methods?: Record<string, string> }).methods;
-          const buf = await reportWorkbook(k.kind, qs, result, `${user.name} <${user.email}>`, methods ? Object.entries(methods).map(([a, b]) => `${a}: ${b}`) : []);
+          const buf = await reportWorkbook(
+            k.kind,
+            qs,
+            result,
+            `${user.name} <${user.email}>`,
+            methods ? Object.entries(methods).map(([a, b]) => `${a}: ${b}`) : [],
+          );
           res.setHeader("Content-Type", XLSX);
           res.setHeader("Content-Disposition", `attachment; filename="strandsight-${k.kind}-${new Date().toISOString().slice(0, 10)}.xlsx"`);
           res.send(buf);
@@ -122,7 +193,11 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
       access: "reports.read",
       responses: { 200: { description: "Saved reports.", schema: z.object({ reports: z.array(savedReportSchema) }) } },
       handler: ({ user }) => ({
-        reports: (db.$client.prepare("select id, name, report_kind as reportKind, query, created_at as createdAt from saved_reports where user_id = ? order by name").all(user.id) as Record<string, any>[]).map((r) => ({ ...r, createdAt: new Date(r.createdAt).toISOString() })),
+        reports: (
+          db.$client
+            .prepare("select id, name, report_kind as reportKind, query, created_at as createdAt from saved_reports where user_id = ? order by name")
+            .all(user.id) as Record<string, any>[]
+        ).map((r) => ({ ...r, createdAt: new Date(r.createdAt).toISOString() })),
       }),
     }),
     defineRoute({
@@ -137,7 +212,9 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
         const now = Date.now();
         const id = db.transaction(() => {
           const newId = Number(
-            db.$client.prepare("insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, ?, ?, ?, ?, ?)").run(user.id, body.name, body.reportKind, body.query.replace(/^\?/, ""), now, now).lastInsertRowid,
+            db.$client
+              .prepare("insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, ?, ?, ?, ?, ?)")
+              .run(user.id, body.name, body.reportKind, body.query.replace(/^\?/, ""), now, now).lastInsertRowid,
           );
           recordAudit(db, { userId: user.id, action: "saved_report.create", entity: "saved_report", entityId: newId, after: body });
           return newId;
@@ -152,7 +229,10 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
       tag: "reports",
       access: "reports.read",
       params: z.object({ id: z.coerce.number().int().positive() }),
-      responses: { 200: { description: "Deleted.", schema: z.object({ id: z.number(), deleted: z.literal(true) }) }, 404: { description: "Not one of yours." } },
+      responses: {
+        200: { description: "Deleted.", schema: z.object({ id: z.number(), deleted: z.literal(true) }) },
+        404: { description: "Not one of yours." },
+      },
       handler: ({ params, user }) => {
         db.transaction(() => {
           const before = db.$client.prepare("select name, report_kind, query from saved_reports where id = ? and user_id = ?").get(params.id, user.id);

@@ -11,15 +11,7 @@ import {
 import { strandSchema } from "@shared/api/plant";
 import { defineRoute } from "../lib/route";
 import { getPlantSettings } from "../services/settings.service";
-import {
-  createCaster,
-  createGrade,
-  createGradeFamily,
-  updateGrade,
-  updateGradeFamily,
-  updatePlantSettings,
-  updateStrand,
-} from "../services/setup.service";
+import { createCaster, createGrade, createGradeFamily, updateGrade, updateGradeFamily, updatePlantSettings, updateStrand } from "../services/setup.service";
 import type { Deps } from "./deps";
 
 const codeParams = z.object({ code: z.string().trim().min(1).max(32) });
@@ -77,7 +69,10 @@ export function setupRoutes({ db }: Deps) {
       tag: "setup",
       access: "setup.manage",
       body: gradeFamilyInputSchema,
-      responses: { 201: { description: "Created.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() }, 409: { description: "The code is taken." } },
+      responses: {
+        201: { description: "Created.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() },
+        409: { description: "The code is taken." },
+      },
       handler: ({ body, user }) => createGradeFamily(db, body, user.id),
     }),
     defineRoute({
@@ -88,7 +83,10 @@ export function setupRoutes({ db }: Deps) {
       access: "setup.manage",
       params: codeParams,
       body: gradeFamilyUpdateSchema,
-      responses: { 200: { description: "Saved.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() }, 404: { description: "No such family." } },
+      responses: {
+        200: { description: "Saved.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() },
+        404: { description: "No such family." },
+      },
       handler: ({ params, body, user }) => updateGradeFamily(db, params.code, body, user.id),
     }),
     defineRoute({
@@ -98,7 +96,10 @@ export function setupRoutes({ db }: Deps) {
       tag: "setup",
       access: "setup.manage",
       body: gradeInputSchema,
-      responses: { 201: { description: "Created.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() }, 409: { description: "The code is taken." } },
+      responses: {
+        201: { description: "Created.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() },
+        409: { description: "The code is taken." },
+      },
       handler: ({ body, user }) => createGrade(db, body, user.id),
     }),
     defineRoute({
@@ -109,7 +110,10 @@ export function setupRoutes({ db }: Deps) {
       access: "setup.manage",
       params: codeParams,
       body: gradeUpdateSchema,
-      responses: { 200: { description: "Saved.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() }, 404: { description: "No such grade." } },
+      responses: {
+        200: { description: "Saved.", schema: z.object({ id: z.number(), code: z.string() }).passthrough() },
+        404: { description: "No such grade." },
+      },
       handler: ({ params, body, user }) => updateGrade(db, params.code, body, user.id),
     }),
   ];

@@ -82,15 +82,50 @@ export const GRADE_FAMILIES = [
 ];
 
 export const GRADES: GradeSpec[] = [
-  { code: "LV-IF01", name: "Interstitial-free deep drawing", family: "ULC", weight: 9, chem: { c: 0.003, si: 0.01, mn: 0.12, p: 0.01, s: 0.008, al: 0.04, ti: 0.06 }, nPpm: 30 },
-  { code: "LV-IF02", name: "Interstitial-free, exposed panel", family: "ULC", weight: 6, chem: { c: 0.002, si: 0.01, mn: 0.1, p: 0.012, s: 0.007, al: 0.045, ti: 0.05, nb: 0.01 }, nPpm: 28 },
+  {
+    code: "LV-IF01",
+    name: "Interstitial-free deep drawing",
+    family: "ULC",
+    weight: 9,
+    chem: { c: 0.003, si: 0.01, mn: 0.12, p: 0.01, s: 0.008, al: 0.04, ti: 0.06 },
+    nPpm: 30,
+  },
+  {
+    code: "LV-IF02",
+    name: "Interstitial-free, exposed panel",
+    family: "ULC",
+    weight: 6,
+    chem: { c: 0.002, si: 0.01, mn: 0.1, p: 0.012, s: 0.007, al: 0.045, ti: 0.05, nb: 0.01 },
+    nPpm: 28,
+  },
   { code: "LV-DQ10", name: "Drawing quality", family: "LC", weight: 16, chem: { c: 0.04, si: 0.02, mn: 0.22, p: 0.012, s: 0.009, al: 0.04 }, nPpm: 40 },
   { code: "LV-CQ12", name: "Commercial quality", family: "LC", weight: 14, chem: { c: 0.06, si: 0.03, mn: 0.3, p: 0.015, s: 0.01, al: 0.035 }, nPpm: 45 },
   { code: "LV-ST32", name: "Structural 320", family: "PER", weight: 12, chem: { c: 0.12, si: 0.2, mn: 0.9, p: 0.015, s: 0.008, al: 0.03 }, nPpm: 55 },
   { code: "LV-ST36", name: "Structural 360", family: "PER", weight: 10, chem: { c: 0.14, si: 0.25, mn: 1.3, p: 0.016, s: 0.006, al: 0.03 }, nPpm: 60 },
-  { code: "LV-MC45", name: "Medium carbon 45", family: "MC", weight: 6, chem: { c: 0.42, si: 0.25, mn: 0.7, p: 0.015, s: 0.012, al: 0.025, cr: 0.15 }, nPpm: 60 },
-  { code: "LV-HS50", name: "High-strength 500", family: "HSLA", weight: 8, chem: { c: 0.07, si: 0.15, mn: 1.4, p: 0.012, s: 0.004, al: 0.035, nb: 0.03, v: 0.05 }, nPpm: 55 },
-  { code: "LV-HS60", name: "High-strength 600", family: "HSLA", weight: 6, chem: { c: 0.08, si: 0.2, mn: 1.6, p: 0.01, s: 0.003, al: 0.035, nb: 0.04, ti: 0.015 }, nPpm: 50 },
+  {
+    code: "LV-MC45",
+    name: "Medium carbon 45",
+    family: "MC",
+    weight: 6,
+    chem: { c: 0.42, si: 0.25, mn: 0.7, p: 0.015, s: 0.012, al: 0.025, cr: 0.15 },
+    nPpm: 60,
+  },
+  {
+    code: "LV-HS50",
+    name: "High-strength 500",
+    family: "HSLA",
+    weight: 8,
+    chem: { c: 0.07, si: 0.15, mn: 1.4, p: 0.012, s: 0.004, al: 0.035, nb: 0.03, v: 0.05 },
+    nPpm: 55,
+  },
+  {
+    code: "LV-HS60",
+    name: "High-strength 600",
+    family: "HSLA",
+    weight: 6,
+    chem: { c: 0.08, si: 0.2, mn: 1.6, p: 0.01, s: 0.003, al: 0.035, nb: 0.04, ti: 0.015 },
+    nPpm: 50,
+  },
 ];
 
 export const DEFECT_CATEGORIES = [

@@ -25,7 +25,10 @@ function markFor(code: string, i: number): string {
       return `<ellipse cx="${x}" cy="${y}" rx="70" ry="42" fill="#4a3b2a" opacity="0.85"/><ellipse cx="${x + 30}" cy="${y + 12}" rx="26" ry="16" fill="#2c241b"/>`;
     case "PIN":
     case "BLH":
-      return Array.from({ length: 9 }, (_, k) => `<circle cx="${x + (k % 3) * 40}" cy="${y + Math.floor(k / 3) * 36}" r="${6 + (k % 4)}" fill="#161616"/>`).join("");
+      return Array.from(
+        { length: 9 },
+        (_, k) => `<circle cx="${x + (k % 3) * 40}" cy="${y + Math.floor(k / 3) * 36}" r="${6 + (k % 4)}" fill="#161616"/>`,
+      ).join("");
     default:
       return `<rect x="${x - 60}" y="${y - 30}" width="120" height="60" rx="18" fill="#3a3a3a" opacity="0.8"/>`;
   }
@@ -55,7 +58,12 @@ export async function addDemoPhotos(db: Db, uploadDir: string, limit = 40, lastS
        order by d.found_at desc limit ?`,
     );
   const defects = [
-    ...(select("(d.client_key is null or d.client_key not like 'demo-yard-%')").all(limit) as { id: number; code: string; created_by: string; found_at: number }[]),
+    ...(select("(d.client_key is null or d.client_key not like 'demo-yard-%')").all(limit) as {
+      id: number;
+      code: string;
+      created_by: string;
+      found_at: number;
+    }[]),
     ...(select("d.client_key like 'demo-yard-%'").all(lastShiftsLimit) as { id: number; code: string; created_by: string; found_at: number }[]),
   ];
   const ins = c.prepare(
@@ -65,7 +73,20 @@ export async function addDemoPhotos(db: Db, uploadDir: string, limit = 40, lastS
   let n = 0;
   for (const [i, d] of defects.entries()) {
     const stored = await storePhotoFiles(uploadDir, await checkPhoto(await render(d.code, i), `demo-${d.id}.jpg`));
-    ins.run(stored.id, d.id, stored.displayFile, stored.displayMime, stored.thumbFile, stored.width, stored.height, stored.bytes, stored.sha256, `demo-${d.id}.jpg`, d.created_by, d.found_at);
+    ins.run(
+      stored.id,
+      d.id,
+      stored.displayFile,
+      stored.displayMime,
+      stored.thumbFile,
+      stored.width,
+      stored.height,
+      stored.bytes,
+      stored.sha256,
+      `demo-${d.id}.jpg`,
+      d.created_by,
+      d.found_at,
+    );
     n++;
   }
   return n;

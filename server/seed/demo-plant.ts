@@ -128,40 +128,105 @@ function defectProbabilities(
 }
 
 const FACE_BY_TYPE: Partial<Record<DefectCode, [Face, number][]>> = {
-  LFC: [["inner", 0.45], ["outer", 0.55]],
-  DEP: [["inner", 0.5], ["outer", 0.5]],
-  LCC: [["left", 0.5], ["right", 0.5]],
-  TCC: [["left", 0.4], ["right", 0.4], ["inner", 0.1], ["outer", 0.1]],
-  BLD: [["left", 0.5], ["right", 0.5]],
+  LFC: [
+    ["inner", 0.45],
+    ["outer", 0.55],
+  ],
+  DEP: [
+    ["inner", 0.5],
+    ["outer", 0.5],
+  ],
+  LCC: [
+    ["left", 0.5],
+    ["right", 0.5],
+  ],
+  TCC: [
+    ["left", 0.4],
+    ["right", 0.4],
+    ["inner", 0.1],
+    ["outer", 0.1],
+  ],
+  BLD: [
+    ["left", 0.5],
+    ["right", 0.5],
+  ],
   CLS: [["section", 1]],
   CLP: [["section", 1]],
   IMC: [["section", 1]],
-  SLG: [["inner", 0.7], ["outer", 0.3]],
-  PIN: [["inner", 0.6], ["outer", 0.4]],
+  SLG: [
+    ["inner", 0.7],
+    ["outer", 0.3],
+  ],
+  PIN: [
+    ["inner", 0.6],
+    ["outer", 0.4],
+  ],
 };
 
 const STAGE_BY_TYPE: Partial<Record<DefectCode, [Stage, number][]>> = {
-  SLV: [["hot_mill", 0.45], ["cold_mill", 0.35], ["customer", 0.2]],
-  SEM: [["hot_mill", 0.6], ["cold_mill", 0.4]],
-  BLI: [["cold_mill", 0.6], ["customer", 0.4]],
-  LAM: [["hot_mill", 0.5], ["customer", 0.5]],
-  ALC: [["after_scarfing", 0.4], ["cold_mill", 0.4], ["customer", 0.2]],
-  SLG: [["slab_yard", 0.6], ["after_scarfing", 0.4]],
+  SLV: [
+    ["hot_mill", 0.45],
+    ["cold_mill", 0.35],
+    ["customer", 0.2],
+  ],
+  SEM: [
+    ["hot_mill", 0.6],
+    ["cold_mill", 0.4],
+  ],
+  BLI: [
+    ["cold_mill", 0.6],
+    ["customer", 0.4],
+  ],
+  LAM: [
+    ["hot_mill", 0.5],
+    ["customer", 0.5],
+  ],
+  ALC: [
+    ["after_scarfing", 0.4],
+    ["cold_mill", 0.4],
+    ["customer", 0.2],
+  ],
+  SLG: [
+    ["slab_yard", 0.6],
+    ["after_scarfing", 0.4],
+  ],
 };
 
 function dispositionFor(severity: number, stage: Stage, r: Random): Disposition {
   if (stage === "customer" || stage === "cold_mill" || stage === "hot_mill") {
-    return severity >= 3 ? r.weighted([["downgrade", 0.6], ["scrap", 0.4]] as const) : r.weighted([["accept", 0.5], ["downgrade", 0.5]] as const);
+    return severity >= 3
+      ? r.weighted([
+          ["downgrade", 0.6],
+          ["scrap", 0.4],
+        ] as const)
+      : r.weighted([
+          ["accept", 0.5],
+          ["downgrade", 0.5],
+        ] as const);
   }
   switch (severity) {
     case 1:
-      return r.weighted([["accept", 0.75], ["scarf", 0.25]] as const);
+      return r.weighted([
+        ["accept", 0.75],
+        ["scarf", 0.25],
+      ] as const);
     case 2:
-      return r.weighted([["scarf", 0.55], ["grind", 0.35], ["accept", 0.1]] as const);
+      return r.weighted([
+        ["scarf", 0.55],
+        ["grind", 0.35],
+        ["accept", 0.1],
+      ] as const);
     case 3:
-      return r.weighted([["grind", 0.3], ["downgrade", 0.4], ["hold", 0.3]] as const);
+      return r.weighted([
+        ["grind", 0.3],
+        ["downgrade", 0.4],
+        ["hold", 0.3],
+      ] as const);
     default:
-      return r.weighted([["hold", 0.4], ["scrap", 0.6]] as const);
+      return r.weighted([
+        ["hold", 0.4],
+        ["scrap", 0.6],
+      ] as const);
   }
 }
 
@@ -215,11 +280,19 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
   const r = createRandom(20260401);
   const nSequences = Math.max(2, Math.round(250 * scale));
   const span = DEMO_END - DEMO_START;
-  const counts: ProductionCounts = { sequences: 0, heats: 0, slabs: 0, processSamples: 0, defects: 0, defectCauses: 0, products: 0, claims: 0, investigations: 0 };
+  const counts: ProductionCounts = {
+    sequences: 0,
+    heats: 0,
+    slabs: 0,
+    processSamples: 0,
+    defects: 0,
+    defectCauses: 0,
+    products: 0,
+    claims: 0,
+    investigations: 0,
+  };
 
-  const insSequence = sqlite.prepare(
-    "insert into sequences (sequence_no, caster_id, started_at, ended_at) values (?, ?, ?, ?)",
-  );
+  const insSequence = sqlite.prepare("insert into sequences (sequence_no, caster_id, started_at, ended_at) values (?, ?, ?, ?)");
   const updSequence = sqlite.prepare("update sequences set ended_at = ? where id = ?");
   const insHeat = sqlite.prepare(`insert into heats (heat_no, sequence_id, sequence_position, caster_id, grade_id, cast_start, cast_end,
       ladle_weight_t, tundish_change, casting_speed_m_min, tundish_temp_c, liquidus_c, liquidus_source, superheat_c, superheat_source,
@@ -236,12 +309,8 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
   const insDefect = sqlite.prepare(`insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, length_mm,
       width_mm, depth_mm, severity, stage, disposition, note, review_status, reviewed_by, reviewed_at, client_key, found_at,
       created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
-  const insCause = sqlite.prepare(
-    "insert into defect_causes (defect_id, tag_id, confidence, note, created_by, created_at) values (?, ?, ?, ?, ?, ?)",
-  );
-  const insProduct = sqlite.prepare(
-    "insert into products (product_id, kind, slab_id, rolled_at, weight_t) values (?, ?, ?, ?, ?)",
-  );
+  const insCause = sqlite.prepare("insert into defect_causes (defect_id, tag_id, confidence, note, created_by, created_at) values (?, ?, ?, ?, ?, ?)");
+  const insProduct = sqlite.prepare("insert into products (product_id, kind, slab_id, rolled_at, weight_t) values (?, ?, ?, ?, ?)");
 
   const strandNos = Object.keys(ids.strandIds).map(Number).sort();
   let heatCounter = 0;
@@ -258,7 +327,13 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
     let grade = r.weighted(GRADES.map((g) => [g, g.weight] as const));
     const gradeChangeAt = r.chance(0.2) ? r.int(2, nHeats - 1) : -1;
     const widthMm = r.pick([1250, 1400, 1500, 1500, 1600, 1750, 1900]);
-    const brakePolicyA = r.weighted([[0, 1], [200, 2], [300, 3], [400, 3], [500, 1.5]] as const);
+    const brakePolicyA = r.weighted([
+      [0, 1],
+      [200, 2],
+      [300, 3],
+      [400, 3],
+      [500, 1.5],
+    ] as const);
     const senBase = round(r.uniform(120, 200) / 5) * 5;
     const argonBase = r.uniform(5, 11);
     const tundishChangeAt = nHeats >= 9 ? Math.floor(nHeats / 2) : -1;
@@ -292,18 +367,48 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
 
       const heatId = Number(
         insHeat.run(
-          heatNo, seqId, h + 1, ids.casterId, ids.gradeIds[grade.code], t, ladleT, tundishChange ? 1 : 0,
-          round(v0, 2), round(tundishStart - 3, 0), liquidus, round(tundishStart - 3 - liquidus, 1),
-          embrHeat, senHeat, round(argonHeat, 1), round(levelSdHeat, 2),
-          chem.c ?? null, chem.si ?? null, chem.mn ?? null, chem.p ?? null, chem.s ?? null, chem.al ?? null,
-          chem.cu ?? null, chem.ni ?? null, chem.cr ?? null, chem.mo ?? null, chem.ti ?? null, chem.nb ?? null, chem.v ?? null,
+          heatNo,
+          seqId,
+          h + 1,
+          ids.casterId,
+          ids.gradeIds[grade.code],
+          t,
+          ladleT,
+          tundishChange ? 1 : 0,
+          round(v0, 2),
+          round(tundishStart - 3, 0),
+          liquidus,
+          round(tundishStart - 3 - liquidus, 1),
+          embrHeat,
+          senHeat,
+          round(argonHeat, 1),
+          round(levelSdHeat, 2),
+          chem.c ?? null,
+          chem.si ?? null,
+          chem.mn ?? null,
+          chem.p ?? null,
+          chem.s ?? null,
+          chem.al ?? null,
+          chem.cu ?? null,
+          chem.ni ?? null,
+          chem.cr ?? null,
+          chem.mo ?? null,
+          chem.ti ?? null,
+          chem.nb ?? null,
+          chem.v ?? null,
           round(grade.nPpm * (1 + r.normal(0, 0.1))),
         ).lastInsertRowid,
       );
       counts.heats++;
       const plan: HeatPlan = {
-        id: heatId, heatNo, grade, liquidus, positionInSeq: h + 1, tundishChange,
-        startLen: [...cumLen], endLen: cumLen.map((l) => l + heatLenPerStrand),
+        id: heatId,
+        heatNo,
+        grade,
+        liquidus,
+        positionInSeq: h + 1,
+        tundishChange,
+        startLen: [...cumLen],
+        endLen: cumLen.map((l) => l + heatLenPerStrand),
       };
       heats.push(plan);
 
@@ -322,7 +427,8 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
         while (len < target) {
           const minutes = (k * SAMPLE_SECONDS) / 60;
           let v = v0 + offset + r.normal(0, 0.012);
-          if (h === 0 && minutes < 6) v = v0 * (0.55 + 0.45 * (minutes / 6)); // start-up ramp
+          if (h === 0 && minutes < 6)
+            v = v0 * (0.55 + 0.45 * (minutes / 6)); // start-up ramp
           else if (h > 0 && minutes < 3.5) v = v0 * 0.78; // slowed for the ladle change
           if (disturbed && minutes > 8 && minutes < 12) v = v0 * 0.85;
           v = clamp(v, 0.4, 2.2);
@@ -330,9 +436,14 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
           const temp = tundishStart - 6 * fraction + r.normal(0, 0.6);
           const level = r.normal(0, levelSdHeat);
           const sample: Sample = {
-            t: tt, len, v, temp,
+            t: tt,
+            len,
+            v,
+            temp,
             embr: embrHeat === 0 ? 0 : embrHeat + r.normal(0, 4),
-            sen: senHeat, argon: clamp(argonHeat + r.normal(0, 0.35), 1, 20), level,
+            sen: senHeat,
+            argon: clamp(argonHeat + r.normal(0, 0.35), 1, 20),
+            level,
           };
           samples[si]!.push(sample);
           speeds.push(v);
@@ -408,17 +519,38 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
           if (!r.chance(p)) continue;
           const n = 1 + (r.chance(0.25) ? r.poisson(0.6) : 0);
           for (let k = 0; k < n; k++) {
-            const stage = STAGE_BY_TYPE[code] ? r.weighted(STAGE_BY_TYPE[code]!) : r.weighted([["slab_yard", 0.85], ["after_scarfing", 0.15]] as const);
-            const severity = r.weighted([[1, 0.35], [2, 0.38], [3, 0.2], [4, 0.07]] as const);
+            const stage = STAGE_BY_TYPE[code]
+              ? r.weighted(STAGE_BY_TYPE[code]!)
+              : r.weighted([
+                  ["slab_yard", 0.85],
+                  ["after_scarfing", 0.15],
+                ] as const);
+            const severity = r.weighted([
+              [1, 0.35],
+              [2, 0.38],
+              [3, 0.2],
+              [4, 0.07],
+            ] as const);
             const delayH =
-              stage === "slab_yard" ? r.uniform(4, 30)
-              : stage === "after_scarfing" ? r.uniform(20, 72)
-              : stage === "hot_mill" ? r.uniform(72, 200)
-              : stage === "cold_mill" ? r.uniform(200, 500)
-              : r.uniform(500, 1500);
+              stage === "slab_yard"
+                ? r.uniform(4, 30)
+                : stage === "after_scarfing"
+                  ? r.uniform(20, 72)
+                  : stage === "hot_mill"
+                    ? r.uniform(72, 200)
+                    : stage === "cold_mill"
+                      ? r.uniform(200, 500)
+                      : r.uniform(500, 1500);
             const foundAt = castAt + Math.round(delayH * 3600_000);
             if (foundAt > DEMO_END + 12 * 3600_000) continue; // not found yet
-            const face = FACE_BY_TYPE[code] ? r.weighted(FACE_BY_TYPE[code]!) : r.weighted([["inner", 0.5], ["outer", 0.4], ["left", 0.05], ["right", 0.05]] as const);
+            const face = FACE_BY_TYPE[code]
+              ? r.weighted(FACE_BY_TYPE[code]!)
+              : r.weighted([
+                  ["inner", 0.5],
+                  ["outer", 0.4],
+                  ["left", 0.05],
+                  ["right", 0.05],
+                ] as const);
             found.push({ code, severity, stage, disposition: dispositionFor(severity, stage, r), foundAt, face });
           }
         }
@@ -426,7 +558,8 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
         for (const f of found) if (worst === null || DISPOSITION_RANK[f.disposition] > DISPOSITION_RANK[worst]) worst = f.disposition;
 
         const slabRowId = Number(
-          insSlab.run(slabId, owner.id, strandId, piece, lengthMm, widthMm, THICKNESS_MM, weightT, round(start, 2), castAt, crosses ? 1 : 0, worst).lastInsertRowid,
+          insSlab.run(slabId, owner.id, strandId, piece, lengthMm, widthMm, THICKNESS_MM, weightT, round(start, 2), castAt, crosses ? 1 : 0, worst)
+            .lastInsertRowid,
         );
         counts.slabs++;
 
@@ -445,22 +578,47 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
           const along = round(r.uniform(0.02, 0.98) * lengthMm, -1);
           const across =
             f.code === "TCC" || f.code === "LCC"
-              ? r.chance(0.5) ? round(r.uniform(0, 40)) : round(faceAcross - r.uniform(0, 40))
+              ? r.chance(0.5)
+                ? round(r.uniform(0, 40))
+                : round(faceAcross - r.uniform(0, 40))
               : f.code === "CLS" || f.code === "CLP"
                 ? round(faceAcross / 2 + r.normal(0, 8))
                 : round(r.uniform(0.05, 0.95) * faceAcross);
           const lengthDefect = f.code === "LFC" || f.code === "LCC" ? round(r.uniform(150, 1800), -1) : round(r.uniform(5, 120));
           const depth = f.face === "section" ? null : round(r.uniform(0.3, 6), 1);
           const ageDays = (DEMO_END - f.foundAt) / 86400_000;
-          const review = ageDays < 3 ? "new" : r.weighted([["confirmed", 0.88], ["corrected", 0.08], ["rejected", 0.04]] as const);
+          const review =
+            ageDays < 3
+              ? "new"
+              : r.weighted([
+                  ["confirmed", 0.88],
+                  ["corrected", 0.08],
+                  ["rejected", 0.04],
+                ] as const);
           const by = f.stage === "slab_yard" || f.stage === "after_scarfing" ? ids.users.inspector : ids.users.quality;
           const reviewedAt = review === "new" ? null : f.foundAt + Math.round(r.uniform(2, 40) * 3600_000);
           const defectId = Number(
             insDefect.run(
-              slabRowId, ids.defectTypeIds[f.code], f.face, along, clamp(across, 0, faceAcross),
-              lengthDefect, round(r.uniform(3, 60)), depth, f.severity, f.stage, f.disposition,
-              null, review, review === "new" ? null : ids.users.quality, reviewedAt,
-              `demo-${counts.defects + 1}`, f.foundAt, by, f.foundAt, reviewedAt ?? f.foundAt,
+              slabRowId,
+              ids.defectTypeIds[f.code],
+              f.face,
+              along,
+              clamp(across, 0, faceAcross),
+              lengthDefect,
+              round(r.uniform(3, 60)),
+              depth,
+              f.severity,
+              f.stage,
+              f.disposition,
+              null,
+              review,
+              review === "new" ? null : ids.users.quality,
+              reviewedAt,
+              `demo-${counts.defects + 1}`,
+              f.foundAt,
+              by,
+              f.foundAt,
+              reviewedAt ?? f.foundAt,
             ).lastInsertRowid,
           );
           counts.defects++;
@@ -468,7 +626,18 @@ export function generateProduction(sqlite: Database.Database, ids: ProductionIds
           if (ageDays > 14 && review !== "rejected" && r.chance(0.45)) {
             const tags = plausibleCauses(f.code, cond, crosses, owner.grade.family);
             for (const tag of tags.slice(0, r.chance(0.3) ? 2 : 1)) {
-              insCause.run(defectId, ids.causeTagIds[tag], r.weighted([["suspected", 0.4], ["probable", 0.4], ["confirmed", 0.2]] as const), null, ids.users.process, f.foundAt + Math.round(r.uniform(1, 7) * 86400_000));
+              insCause.run(
+                defectId,
+                ids.causeTagIds[tag],
+                r.weighted([
+                  ["suspected", 0.4],
+                  ["probable", 0.4],
+                  ["confirmed", 0.2],
+                ] as const),
+                null,
+                ids.users.process,
+                f.foundAt + Math.round(r.uniform(1, 7) * 86400_000),
+              );
               counts.defectCauses++;
             }
           }
@@ -492,8 +661,12 @@ function generateClaims(
   const insClaim = sqlite.prepare(`insert into claims (claim_no, customer, product_ids, received_on, defect_complained, quantity_t,
       status, notes, created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
   const insLink = sqlite.prepare("insert into claim_slabs (claim_id, slab_id, linked_via, linked_by, linked_at) values (?, ?, 'trace', ?, ?)");
-  const insAudit = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), 'claim.create', 'claim', @id, @after");
-  const insAudit2 = sqlite.prepare("insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), 'claim.update', 'claim', @id, @after");
+  const insAudit = sqlite.prepare(
+    "insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), 'claim.create', 'claim', @id, @after",
+  );
+  const insAudit2 = sqlite.prepare(
+    "insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), 'claim.update', 'claim', @id, @after",
+  );
   const names: Partial<Record<DefectCode, string>> = { SLV: "slivers", BLI: "blisters", LAM: "laminations", ALC: "inclusion lines" };
   let n = 0;
   const picked = finds
@@ -509,14 +682,27 @@ function generateClaims(
     const receivedOn = new Date(Math.min(received, DEMO_END)).toISOString().slice(0, 10);
     const claimId = Number(
       insClaim.run(
-        `CL-26-${String(n).padStart(3, "0")}`, r.pick(DEMO_CUSTOMERS), f.productId, receivedOn,
-        `Customer reports ${names[f.code] ?? "surface defects"} on ${f.productId}`, round(f.weightT * 0.98, 1), status,
-        "Invented demo claim.", ids.users.claims, received, received,
+        `CL-26-${String(n).padStart(3, "0")}`,
+        r.pick(DEMO_CUSTOMERS),
+        f.productId,
+        receivedOn,
+        `Customer reports ${names[f.code] ?? "surface defects"} on ${f.productId}`,
+        round(f.weightT * 0.98, 1),
+        status,
+        "Invented demo claim.",
+        ids.users.claims,
+        received,
+        received,
       ).lastInsertRowid,
     );
     insLink.run(claimId, f.slabRowId, ids.users.claims, received);
     // The claim's own history, as recording it through the app would have left it.
-    insAudit.run({ at: received, u: ids.users.claims, id: claimId, after: JSON.stringify({ claimNo: `CL-26-${String(n).padStart(3, "0")}`, productIds: [f.productId], linked: 1 }) });
+    insAudit.run({
+      at: received,
+      u: ids.users.claims,
+      id: claimId,
+      after: JSON.stringify({ claimNo: `CL-26-${String(n).padStart(3, "0")}`, productIds: [f.productId], linked: 1 }),
+    });
     if (status !== "new") insAudit2.run({ at: received + 86400_000, u: ids.users.claims, id: claimId, after: JSON.stringify({ status }) });
   }
   return n;
@@ -536,7 +722,8 @@ function generateInvestigations(sqlite: Database.Database, ids: ProductionIds, s
   const insAudit = sqlite.prepare(
     "insert into audit_log (at, user_id, user_name, action, entity, entity_id, after) select @at, @u, (select name from user where id = @u), @action, 'investigation', @id, @after",
   );
-  const history = (id: number, at: number, u: string, action: string, after: unknown) => insAudit.run({ at, u, action, id: String(id), after: JSON.stringify(after) });
+  const history = (id: number, at: number, u: string, action: string, after: unknown) =>
+    insAudit.run({ at, u, action, id: String(id), after: JSON.stringify(after) });
   const insHyp = (inv: number, statement: string, tag: number | null | undefined, status: string, by: string, at: number) => {
     insHypAt.run(inv, statement, tag ?? null, status, by, at, at);
     history(inv, at, by, "investigation.hypothesis.add", { statement, causeTag: tag ?? null, status });
@@ -552,30 +739,68 @@ function generateInvestigations(sqlite: Database.Database, ids: ProductionIds, s
   const day = (iso: string) => Date.parse(iso + "T08:00:00Z");
 
   const a = Number(
-    insInv.run("INV-2026-001", "Slag spots on wide, fast heats", "Slag spots on the inner face rose in July on heats cast above 1.5 m/min. Find whether brake current and SEN depth explain it.",
-      "closed", ids.users.process, day("2026-07-20"), day("2026-09-02"), ids.causeTagIds["brake-off-low"],
-      "Heats cast with the brake off or below 200 A carried most slag spots. Brake practice reviewed through the plant's change procedure.", ids.users.process).lastInsertRowid,
+    insInv.run(
+      "INV-2026-001",
+      "Slag spots on wide, fast heats",
+      "Slag spots on the inner face rose in July on heats cast above 1.5 m/min. Find whether brake current and SEN depth explain it.",
+      "closed",
+      ids.users.process,
+      day("2026-07-20"),
+      day("2026-09-02"),
+      ids.causeTagIds["brake-off-low"],
+      "Heats cast with the brake off or below 200 A carried most slag spots. Brake practice reviewed through the plant's change procedure.",
+      ids.users.process,
+    ).lastInsertRowid,
   );
   history(a, day("2026-07-20"), ids.users.process, "investigation.open", { ref: "INV-2026-001", title: "Slag spots on wide, fast heats" });
-  insHyp(a, "Low or no brake current lets the meniscus flow entrain flux at high throughput.", ids.causeTagIds["brake-off-low"], "supported", ids.users.process, day("2026-07-22"));
+  insHyp(
+    a,
+    "Low or no brake current lets the meniscus flow entrain flux at high throughput.",
+    ids.causeTagIds["brake-off-low"],
+    "supported",
+    ids.users.process,
+    day("2026-07-22"),
+  );
   insHyp(a, "Shallow SEN immersion raises the surface velocity.", null, "open", ids.users.process, day("2026-07-24"));
   history(a, day("2026-09-02"), ids.users.process, "investigation.close", { confirmedCause: "brake-off-low" });
   insAction.run(a, "Compare slag spot rates by brake current band (report)", ids.users.quality, "2026-08-05", "done", day("2026-08-04"));
   insAction.run(a, "Review brake practice with the caster's metallurgists", ids.users.process, "2026-08-25", "done", day("2026-08-28"));
-  history(a, day("2026-07-24"), ids.users.process, "investigation.action.add", { description: "Compare slag spot rates by brake current band (report)", dueOn: "2026-08-05" });
-  history(a, day("2026-07-24"), ids.users.process, "investigation.action.add", { description: "Review brake practice with the caster's metallurgists", dueOn: "2026-08-25" });
+  history(a, day("2026-07-24"), ids.users.process, "investigation.action.add", {
+    description: "Compare slag spot rates by brake current band (report)",
+    dueOn: "2026-08-05",
+  });
+  history(a, day("2026-07-24"), ids.users.process, "investigation.action.add", {
+    description: "Review brake practice with the caster's metallurgists",
+    dueOn: "2026-08-25",
+  });
   history(a, day("2026-08-04"), ids.users.quality, "investigation.action.update", { status: "done" });
   history(a, day("2026-08-28"), ids.users.process, "investigation.action.update", { status: "done" });
   for (const h of heatIds) insSubject.run(a, h);
 
   const b = Number(
-    insInv.run("INV-2026-002", "Longitudinal facial cracks on peritectic grades", "LFC on LV-ST32/LV-ST36 slabs; check mold powder and mold level stability.",
-      "in_progress", ids.users.process, day("2026-10-06"), null, null, null, ids.users.process).lastInsertRowid,
+    insInv.run(
+      "INV-2026-002",
+      "Longitudinal facial cracks on peritectic grades",
+      "LFC on LV-ST32/LV-ST36 slabs; check mold powder and mold level stability.",
+      "in_progress",
+      ids.users.process,
+      day("2026-10-06"),
+      null,
+      null,
+      null,
+      ids.users.process,
+    ).lastInsertRowid,
   );
   history(b, day("2026-10-06"), ids.users.process, "investigation.open", { ref: "INV-2026-002", title: "Longitudinal facial cracks on peritectic grades" });
   insHyp(b, "Mold level fluctuation above 3 mm drives the cracks.", ids.causeTagIds["mold-level-disturbance"], "open", ids.users.process, day("2026-10-08"));
-  history(b, day("2026-10-13"), ids.users.process, "investigation.action.add", { description: "Trial of the alternative mold powder on two sequences", dueOn: "2026-11-20" });
-  history(b, day("2026-10-13"), ids.users.process, "investigation.action.add", { description: "Check the mold level sensor calibration on strand 2", dueOn: "2026-11-10" });
+  history(b, day("2026-10-13"), ids.users.process, "investigation.action.add", {
+    description: "Trial of the alternative mold powder on two sequences",
+    dueOn: "2026-11-20",
+  });
+  history(b, day("2026-10-13"), ids.users.process, "investigation.action.add", {
+    description: "Check the mold level sensor calibration on strand 2",
+    dueOn: "2026-11-10",
+  });
   insAction.run(b, "Trial of the alternative mold powder on two sequences", ids.users.process, "2026-11-20", "in_progress", null);
   insAction.run(b, "Check the mold level sensor calibration on strand 2", ids.users.admin, "2026-11-10", "open", null);
   const lfcHeats = sqlite
@@ -588,12 +813,25 @@ function generateInvestigations(sqlite: Database.Database, ids: ProductionIds, s
   for (const h of lfcHeats) insSubject.run(b, h);
 
   const c = Number(
-    insInv.run("INV-2026-003", "Slivers on transition coils", "Customer slivers traced to transition slabs after ladle changes.",
-      "open", ids.users.process, day("2026-11-18"), null, null, null, ids.users.process).lastInsertRowid,
+    insInv.run(
+      "INV-2026-003",
+      "Slivers on transition coils",
+      "Customer slivers traced to transition slabs after ladle changes.",
+      "open",
+      ids.users.process,
+      day("2026-11-18"),
+      null,
+      null,
+      null,
+      ids.users.process,
+    ).lastInsertRowid,
   );
   history(c, day("2026-11-18"), ids.users.process, "investigation.open", { ref: "INV-2026-003", title: "Slivers on transition coils" });
   insAction.run(c, "List transition slabs for extra scarfing", ids.users.quality, "2026-12-15", "open", null);
-  history(c, day("2026-11-18"), ids.users.process, "investigation.action.add", { description: "List transition slabs for extra scarfing", dueOn: "2026-12-15" });
+  history(c, day("2026-11-18"), ids.users.process, "investigation.action.add", {
+    description: "List transition slabs for extra scarfing",
+    dueOn: "2026-12-15",
+  });
   const insDefectSubject = sqlite.prepare("insert into investigation_subjects (investigation_id, defect_id) values (?, ?)");
   const transitionSlivers = sqlite
     .prepare(

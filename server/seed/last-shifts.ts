@@ -33,7 +33,16 @@ const TURNAROUND_MS = 70 * MINUTE;
 /** The previous shift inspected what was cast before this many hours before the seed. */
 const INSPECTED_BEFORE_H = 5;
 const HOT_CHARGED_HEATS = 2;
-const YARD_TYPES: [DefectCode, number][] = [["SLG", 3], ["LFC", 2], ["DEP", 2], ["TCC", 1.5], ["LCC", 1], ["PIN", 1.5], ["OSM", 1], ["SCB", 1]];
+const YARD_TYPES: [DefectCode, number][] = [
+  ["SLG", 3],
+  ["LFC", 2],
+  ["DEP", 2],
+  ["TCC", 1.5],
+  ["LCC", 1],
+  ["PIN", 1.5],
+  ["OSM", 1],
+  ["SCB", 1],
+];
 const FACES: Partial<Record<DefectCode, Face[]>> = { LCC: ["left", "right"], TCC: ["left", "right", "inner"] };
 
 export interface LastShiftsIds {
@@ -149,9 +158,24 @@ function plan(strandNos: number[]) {
       const ladleT = round(r.normal(215, 5), 1);
       const heatLen = ladleT / strandMassPerM / strandNos.length;
       const heat: PlannedHeat = {
-        seq, position: h + 1, gradeCode: grade.code, chem, nPpm: round(grade.nPpm * (1 + r.normal(0, 0.1))), liquidus, tundishChange,
-        ladleT, embr, sen: senBase, argon, start: t, end: t, speedMean: v0, tempMean: tundishStart, levelSd,
-        startLen: [...cumLen], endLen: cumLen.map((l) => l + heatLen),
+        seq,
+        position: h + 1,
+        gradeCode: grade.code,
+        chem,
+        nPpm: round(grade.nPpm * (1 + r.normal(0, 0.1))),
+        liquidus,
+        tundishChange,
+        ladleT,
+        embr,
+        sen: senBase,
+        argon,
+        start: t,
+        end: t,
+        speedMean: v0,
+        tempMean: tundishStart,
+        levelSd,
+        startLen: [...cumLen],
+        endLen: cumLen.map((l) => l + heatLen),
       };
       const speeds: number[] = [];
       const temps: number[] = [];
@@ -163,12 +187,23 @@ function plan(strandNos: number[]) {
         while (len < heat.endLen[si]!) {
           const minutes = (k * SAMPLE_SECONDS) / 60;
           let v = v0 + r.normal(0, 0.012);
-          if (h === 0 && minutes < 6) v = v0 * (0.55 + 0.45 * (minutes / 6)); // start-up ramp
+          if (h === 0 && minutes < 6)
+            v = v0 * (0.55 + 0.45 * (minutes / 6)); // start-up ramp
           else if (h > 0 && minutes < 3.5) v = v0 * 0.78; // slowed for the ladle change
           v = clamp(v, 0.4, 2.2);
           const temp = tundishStart - 6 * ((len - cumLen[si]!) / heatLen) + r.normal(0, 0.6);
           const level = r.normal(0, levelSd);
-          const s: Sample = { strandNo, t: tt, len, v, temp, embr: embr === 0 ? 0 : embr + r.normal(0, 4), sen: senBase, argon: clamp(argon + r.normal(0, 0.3), 1, 20), level };
+          const s: Sample = {
+            strandNo,
+            t: tt,
+            len,
+            v,
+            temp,
+            embr: embr === 0 ? 0 : embr + r.normal(0, 4),
+            sen: senBase,
+            argon: clamp(argon + r.normal(0, 0.3), 1, 20),
+            level,
+          };
           seqSamples[si]!.push(s);
           speeds.push(v);
           temps.push(temp);
@@ -211,9 +246,15 @@ function plan(strandNos: number[]) {
         pieces.set(owner, piece);
         const lengthMm = round(length * 1000, -1);
         slabs.push({
-          heat: heats.length + seqHeats.indexOf(owner), strandNo, piece, lengthMm, widthMm,
+          heat: heats.length + seqHeats.indexOf(owner),
+          strandNo,
+          piece,
+          lengthMm,
+          widthMm,
           weightT: round((lengthMm / 1000) * (widthMm / 1000) * (THICKNESS_MM / 1000) * DENSITY_T_M3, 2),
-          startM: round(start, 2), castAt: ss[cursor]!.t, transition: crosses,
+          startM: round(start, 2),
+          castAt: ss[cursor]!.t,
+          transition: crosses,
         });
         start = end;
       }
@@ -227,15 +268,33 @@ function plan(strandNos: number[]) {
 }
 
 function dispositionFor(severity: number, pick: <T>(items: readonly (readonly [T, number])[]) => T): Disposition {
-  if (severity === 1) return pick([["accept", 0.7], ["scarf", 0.3]] as const);
-  if (severity === 2) return pick([["scarf", 0.6], ["grind", 0.4]] as const);
-  if (severity === 3) return pick([["grind", 0.4], ["hold", 0.6]] as const);
-  return pick([["hold", 0.7], ["scrap", 0.3]] as const);
+  if (severity === 1)
+    return pick([
+      ["accept", 0.7],
+      ["scarf", 0.3],
+    ] as const);
+  if (severity === 2)
+    return pick([
+      ["scarf", 0.6],
+      ["grind", 0.4],
+    ] as const);
+  if (severity === 3)
+    return pick([
+      ["grind", 0.4],
+      ["hold", 0.6],
+    ] as const);
+  return pick([
+    ["hold", 0.7],
+    ["scrap", 0.3],
+  ] as const);
 }
 
 /** The next free number after the highest `<prefix>NNNN` already stored in a column (the history's numbering goes on). */
 function nextNumber(sqlite: Database.Database, table: string, column: string, prefix: string): number {
-  const last = sqlite.prepare(`select max(cast(substr(${column}, ?) as integer)) from ${table} where ${column} like ? || '%'`).pluck().get(prefix.length + 1, prefix) as number | null;
+  const last = sqlite
+    .prepare(`select max(cast(substr(${column}, ?) as integer)) from ${table} where ${column} like ? || '%'`)
+    .pluck()
+    .get(prefix.length + 1, prefix) as number | null;
   return (last ?? 0) + 1;
 }
 
@@ -273,10 +332,37 @@ export function generateLastShifts(sqlite: Database.Database, ids: LastShiftsIds
     const c = h.chem;
     const id = Number(
       insHeat.run(
-        no, seqIds[h.seq], h.position, ids.casterId, ids.gradeIds[h.gradeCode], at(h.start), at(h.end), h.ladleT, h.tundishChange ? 1 : 0,
-        round(h.speedMean, 2), round(h.tempMean, 0), h.liquidus, round(h.tempMean - h.liquidus, 1), h.embr, h.sen, round(h.argon, 1), round(h.levelSd, 2),
-        c.c ?? null, c.si ?? null, c.mn ?? null, c.p ?? null, c.s ?? null, c.al ?? null, c.cu ?? null, c.ni ?? null, c.cr ?? null, c.mo ?? null,
-        c.ti ?? null, c.nb ?? null, c.v ?? null, h.nPpm,
+        no,
+        seqIds[h.seq],
+        h.position,
+        ids.casterId,
+        ids.gradeIds[h.gradeCode],
+        at(h.start),
+        at(h.end),
+        h.ladleT,
+        h.tundishChange ? 1 : 0,
+        round(h.speedMean, 2),
+        round(h.tempMean, 0),
+        h.liquidus,
+        round(h.tempMean - h.liquidus, 1),
+        h.embr,
+        h.sen,
+        round(h.argon, 1),
+        round(h.levelSd, 2),
+        c.c ?? null,
+        c.si ?? null,
+        c.mn ?? null,
+        c.p ?? null,
+        c.s ?? null,
+        c.al ?? null,
+        c.cu ?? null,
+        c.ni ?? null,
+        c.cr ?? null,
+        c.mo ?? null,
+        c.ti ?? null,
+        c.nb ?? null,
+        c.v ?? null,
+        h.nPpm,
       ).lastInsertRowid,
     );
     counts.heats++;
@@ -285,7 +371,17 @@ export function generateLastShifts(sqlite: Database.Database, ids: LastShiftsIds
   const insSample = sqlite.prepare(`insert into process_samples (strand_id, sampled_at, cast_length_m, casting_speed_m_min,
       tundish_temp_c, embr_current_a, sen_depth_mm, argon_nl_min, mold_level_mm) values (?, ?, ?, ?, ?, ?, ?, ?, ?)`);
   for (const s of p.samples) {
-    insSample.run(ids.strandIds[s.strandNo], at(s.t), round(s.len, 2), round(s.v, 3), round(s.temp, 1), round(s.embr, 0), s.sen, round(s.argon, 2), round(s.level, 2));
+    insSample.run(
+      ids.strandIds[s.strandNo],
+      at(s.t),
+      round(s.len, 2),
+      round(s.v, 3),
+      round(s.temp, 1),
+      round(s.embr, 0),
+      s.sen,
+      round(s.argon, 2),
+      round(s.level, 2),
+    );
     counts.processSamples++;
   }
 
@@ -304,7 +400,12 @@ export function generateLastShifts(sqlite: Database.Database, ids: LastShiftsIds
     const hotCharged = p.heats[s.heat]!.seq === 0 && p.heats[s.heat]!.position <= HOT_CHARGED_HEATS;
     // Draw for every slab, so what one slab gets does not depend on the clock.
     const found = r.chance(0.16);
-    const severity = r.weighted([[1, 0.35], [2, 0.4], [3, 0.2], [4, 0.05]] as const);
+    const severity = r.weighted([
+      [1, 0.35],
+      [2, 0.4],
+      [3, 0.2],
+      [4, 0.05],
+    ] as const);
     const code = r.weighted(YARD_TYPES);
     const disposition = dispositionFor(severity, r.weighted);
     const face = r.pick(FACES[code] ?? (["inner", "inner", "outer"] as Face[]));
@@ -317,8 +418,18 @@ export function generateLastShifts(sqlite: Database.Database, ids: LastShiftsIds
     // One defect at most per slab here: the slab's disposition is that defect's.
     const slabRowId = Number(
       insSlab.run(
-        `${heat.heatNo}-${s.strandNo}${String(s.piece).padStart(2, "0")}`, heat.id, ids.strandIds[s.strandNo], s.piece, s.lengthMm, s.widthMm,
-        THICKNESS_MM, s.weightT, s.startM, castAt, s.transition ? 1 : 0, logged ? disposition : null,
+        `${heat.heatNo}-${s.strandNo}${String(s.piece).padStart(2, "0")}`,
+        heat.id,
+        ids.strandIds[s.strandNo],
+        s.piece,
+        s.lengthMm,
+        s.widthMm,
+        THICKNESS_MM,
+        s.weightT,
+        s.startM,
+        castAt,
+        s.transition ? 1 : 0,
+        logged ? disposition : null,
       ).lastInsertRowid,
     );
     counts.slabs++;
@@ -331,8 +442,21 @@ export function generateLastShifts(sqlite: Database.Database, ids: LastShiftsIds
       const foundAt = castAt + Math.round(delayH * HOUR);
       const acrossLimit = face === "left" || face === "right" ? THICKNESS_MM : s.widthMm;
       insDefect.run(
-        slabRowId, ids.defectTypeIds[code], face, along, round(acrossShare * acrossLimit), sizeMm, round(r.uniform(4, 40)),
-        round(r.uniform(0.5, 4), 1), severity, disposition, `demo-yard-${counts.defects + 1}`, foundAt, ids.inspector, foundAt, foundAt,
+        slabRowId,
+        ids.defectTypeIds[code],
+        face,
+        along,
+        round(acrossShare * acrossLimit),
+        sizeMm,
+        round(r.uniform(4, 40)),
+        round(r.uniform(0.5, 4), 1),
+        severity,
+        disposition,
+        `demo-yard-${counts.defects + 1}`,
+        foundAt,
+        ids.inspector,
+        foundAt,
+        foundAt,
       );
       counts.defects++;
     }

@@ -1,19 +1,7 @@
 import { eq, sql } from "drizzle-orm";
 import type { Auth } from "../auth";
 import type { Db } from "../db/client";
-import {
-  casters,
-  causeGroups,
-  causeTags,
-  defectCategories,
-  defectTypes,
-  gradeFamilies,
-  grades,
-  heats,
-  plantSettings,
-  strands,
-  user,
-} from "../db/schema";
+import { casters, causeGroups, causeTags, defectCategories, defectTypes, gradeFamilies, grades, heats, plantSettings, strands, user } from "../db/schema";
 import { recordAudit } from "../services/audit.service";
 import { createUser } from "../services/users.service";
 import {
@@ -60,7 +48,11 @@ export function seedReference(tx: Tx | Db) {
     .onConflictDoNothing()
     .run();
   const caster = tx.select().from(casters).where(eq(casters.code, DEMO_CASTER.code)).get()!;
-  for (const s of DEMO_STRANDS) tx.insert(strands).values({ ...s, casterId: caster.id }).onConflictDoNothing().run();
+  for (const s of DEMO_STRANDS)
+    tx.insert(strands)
+      .values({ ...s, casterId: caster.id })
+      .onConflictDoNothing()
+      .run();
   for (const f of GRADE_FAMILIES) tx.insert(gradeFamilies).values(f).onConflictDoNothing().run();
   const families = byCode(tx.select().from(gradeFamilies).all());
   for (const g of GRADES) {
@@ -107,7 +99,11 @@ export async function seedDemo(
 
   const production = db.transaction((tx) => {
     const caster = seedReference(tx);
-    const existing = tx.select({ n: sql<number>`count(*)` }).from(heats).where(eq(heats.casterId, caster.id)).get()!.n;
+    const existing = tx
+      .select({ n: sql<number>`count(*)` })
+      .from(heats)
+      .where(eq(heats.casterId, caster.id))
+      .get()!.n;
     if (existing > 0 || opts.production === false) return null;
     const strandRows = tx.select().from(strands).where(eq(strands.casterId, caster.id)).all();
     const counts = generateProduction(

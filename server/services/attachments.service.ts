@@ -27,7 +27,9 @@ export const ATTACHMENT_MAX_PER_USER_HOUR = 100;
 
 /** How an attachment upload can be refused, for the routes' OpenAPI descriptions (claims and investigations). */
 export const ATTACHMENT_UPLOAD_REFUSALS = {
-  409: { description: `The record already holds ${ATTACHMENT_MAX_PER_RECORD} files (an investigation also: it is closed, even when it was closed while the files arrived).` },
+  409: {
+    description: `The record already holds ${ATTACHMENT_MAX_PER_RECORD} files (an investigation also: it is closed, even when it was closed while the files arrived).`,
+  },
   413: { description: "A file is larger than 20 MB." },
   415: { description: "A kind of file not kept here, or a name that runs as a program or script (.bat, .hta, .svg, .html …)." },
   429: { description: `Three uploads of yours already in progress, or ${ATTACHMENT_MAX_PER_USER_HOUR} files attached by you in the last hour.` },
@@ -42,18 +44,31 @@ export function checkAttachmentCaps(sqlite: Database.Database, ownerKind: "inves
   const held = sqlite.prepare("select count(*) from attachments where owner_kind = ? and owner_id = ?").pluck().get(ownerKind, ownerId) as number;
   if (held + Math.max(adding, 1) > ATTACHMENT_MAX_PER_RECORD) {
     const what = ownerKind === "claim" ? "claim" : "investigation";
-    throw new HttpError(409, "attachment_limit", `This ${what} holds ${held} files; the most is ${ATTACHMENT_MAX_PER_RECORD}. Merge related documents into one PDF.`, {
-      held,
-      max: ATTACHMENT_MAX_PER_RECORD,
-    });
+    throw new HttpError(
+      409,
+      "attachment_limit",
+      `This ${what} holds ${held} files; the most is ${ATTACHMENT_MAX_PER_RECORD}. Merge related documents into one PDF.`,
+      {
+        held,
+        max: ATTACHMENT_MAX_PER_RECORD,
+      },
+    );
   }
-  const lastHour = sqlite.prepare("select count(*) from attachments where created_by = ? and created_at >= ?").pluck().get(userId, Date.now() - 3_600_000) as number;
+  const lastHour = sqlite
+    .prepare("select count(*) from attachments where created_by = ? and created_at >= ?")
+    .pluck()
+    .get(userId, Date.now() - 3_600_000) as number;
   if (lastHour + Math.max(adding, 1) > ATTACHMENT_MAX_PER_USER_HOUR) {
-    throw new HttpError(429, "attachment_rate", `You have attached ${lastHour} files in the last hour; the most is ${ATTACHMENT_MAX_PER_USER_HOUR} an hour. Try again later.`, {
-      lastHour,
-      max: ATTACHMENT_MAX_PER_USER_HOUR,
-      retryAfterSeconds: 600,
-    });
+    throw new HttpError(
+      429,
+      "attachment_rate",
+      `You have attached ${lastHour} files in the last hour; the most is ${ATTACHMENT_MAX_PER_USER_HOUR} an hour. Try again later.`,
+      {
+        lastHour,
+        max: ATTACHMENT_MAX_PER_USER_HOUR,
+        retryAfterSeconds: 600,
+      },
+    );
   }
 }
 /** Names of the kinds recognised by their content (ALLOWED, and the spellings of their extensions). */
@@ -86,12 +101,103 @@ const KNOWN_EXTENSIONS = new Set(Object.values(EXTENSIONS).flat());
  * content (a text file named .bat or .hta is a program; .svg and .html run script in a browser).
  */
 const ACTIVE_EXTENSIONS = new Set([
-  "bat", "cmd", "com", "exe", "msi", "msp", "mst", "scr", "pif", "cpl", "dll", "sys", "drv", "ocx", "hta", "js", "jse", "mjs", "cjs",
-  "vb", "vbs", "vbe", "wsf", "wsh", "ws", "wsc", "sct", "ps1", "ps1xml", "ps2", "psc1", "psd1", "psm1", "msh", "msh1", "msh2", "sh",
-  "bash", "zsh", "ksh", "csh", "command", "tool", "app", "jar", "jnlp", "class", "lnk", "url", "website", "scf", "inf", "ins", "reg",
-  "application", "appref-ms", "gadget", "msc", "chm", "hlp", "svg", "svgz", "htm", "html", "xhtml", "shtml", "xht", "xml", "xsl",
-  "xslt", "mht", "mhtml", "php", "asp", "aspx", "jsp", "py", "pyw", "pl", "rb", "desktop", "settingcontent-ms", "library-ms",
-  "search-ms", "iso", "img", "vhd", "vhdx", "docm", "xlsm", "pptm", "dotm", "xltm", "potm", "ppsm", "xlam", "ppam",
+  "bat",
+  "cmd",
+  "com",
+  "exe",
+  "msi",
+  "msp",
+  "mst",
+  "scr",
+  "pif",
+  "cpl",
+  "dll",
+  "sys",
+  "drv",
+  "ocx",
+  "hta",
+  "js",
+  "jse",
+  "mjs",
+  "cjs",
+  "vb",
+  "vbs",
+  "vbe",
+  "wsf",
+  "wsh",
+  "ws",
+  "wsc",
+  "sct",
+  "ps1",
+  "ps1xml",
+  "ps2",
+  "psc1",
+  "psd1",
+  "psm1",
+  "msh",
+  "msh1",
+  "msh2",
+  "sh",
+  "bash",
+  "zsh",
+  "ksh",
+  "csh",
+  "command",
+  "tool",
+  "app",
+  "jar",
+  "jnlp",
+  "class",
+  "lnk",
+  "url",
+  "website",
+  "scf",
+  "inf",
+  "ins",
+  "reg",
+  "application",
+  "appref-ms",
+  "gadget",
+  "msc",
+  "chm",
+  "hlp",
+  "svg",
+  "svgz",
+  "htm",
+  "html",
+  "xhtml",
+  "shtml",
+  "xht",
+  "xml",
+  "xsl",
+  "xslt",
+  "mht",
+  "mhtml",
+  "php",
+  "asp",
+  "aspx",
+  "jsp",
+  "py",
+  "pyw",
+  "pl",
+  "rb",
+  "desktop",
+  "settingcontent-ms",
+  "library-ms",
+  "search-ms",
+  "iso",
+  "img",
+  "vhd",
+  "vhdx",
+  "docm",
+  "xlsm",
+  "pptm",
+  "dotm",
+  "xltm",
+  "potm",
+  "ppsm",
+  "xlam",
+  "ppam",
 ]);
 
 export interface IncomingAttachment {
@@ -181,7 +287,11 @@ export async function addAttachments(
       throw new HttpError(415, "unsupported_file", `${shown} is named as a ${extensionOf(shown).toUpperCase()} file but is not one.`);
     }
     if (!mime) {
-      throw new HttpError(415, "unsupported_file", `${shown} is ${t ? `a ${t.ext.toUpperCase()} file` : "not a kind of file kept here"}. Attach PDF, Excel, Word, PowerPoint, PNG, JPEG, WebP, CSV or text files.`);
+      throw new HttpError(
+        415,
+        "unsupported_file",
+        `${shown} is ${t ? `a ${t.ext.toUpperCase()} file` : "not a kind of file kept here"}. Attach PDF, Excel, Word, PowerPoint, PNG, JPEG, WebP, CSV or text files.`,
+      );
     }
     checked.push({ file: f, mime, name: nameForKind(f.originalname, mime) });
   }
@@ -205,9 +315,17 @@ export async function addAttachments(
     db.transaction(() => {
       recheck(db.$client);
       checkAttachmentCaps(db.$client, ownerKind, ownerId, user.id, stored.length);
-      const ins = db.$client.prepare("insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256, created_by, created_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)");
+      const ins = db.$client.prepare(
+        "insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256, created_by, created_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+      );
       for (const s of stored) ins.run(s.id, ownerKind, ownerId, s.name, s.id, s.mime, s.file.size, s.sha256, user.id, Date.now());
-      recordAudit(db, { userId: user.id, action: `${ownerKind}.attachments.add`, entity: ownerKind, entityId: ownerId, after: stored.map((s) => ({ id: s.id, name: s.name, sha256: s.sha256 })) });
+      recordAudit(db, {
+        userId: user.id,
+        action: `${ownerKind}.attachments.add`,
+        entity: ownerKind,
+        entityId: ownerId,
+        after: stored.map((s) => ({ id: s.id, name: s.name, sha256: s.sha256 })),
+      });
     });
   } catch (err) {
     for (const s of stored) await fs.promises.rm(path.join(dir, s.id), { force: true }).catch(() => undefined);
@@ -237,5 +355,11 @@ export function attachmentFile(db: Db, id: string, dir: string) {
   const file = path.join(dir, a.stored_file);
   if (!fs.existsSync(file)) throw notFound("The attachment's file is missing from the store.");
   // Rows stored before names followed the content are offered under a safe name all the same.
-  return { file, name: nameForKind(a.file_name as string, a.mime as string), mime: a.mime as string, ownerKind: a.owner_kind as string, ownerId: a.owner_id as number };
+  return {
+    file,
+    name: nameForKind(a.file_name as string, a.mime as string),
+    mime: a.mime as string,
+    ownerKind: a.owner_kind as string,
+    ownerId: a.owner_id as number,
+  };
 }

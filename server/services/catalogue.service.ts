@@ -23,8 +23,13 @@ export function getCatalogue(db: Db, userId: string, includeRetired: boolean) {
     .all() as Row[];
   return {
     types: types.map((t) => ({
-      code: t.code, name: t.name, categoryCode: t.categoryCode, categoryName: t.categoryName, description: t.description ?? null,
-      active: Boolean(t.active), lastUsedByMeAt: t.lastUsed == null ? null : new Date(t.lastUsed).toISOString(),
+      code: t.code,
+      name: t.name,
+      categoryCode: t.categoryCode,
+      categoryName: t.categoryName,
+      description: t.description ?? null,
+      active: Boolean(t.active),
+      lastUsedByMeAt: t.lastUsed == null ? null : new Date(t.lastUsed).toISOString(),
     })),
     categories: categories.map((x) => ({ code: x.code, name: x.name, sortOrder: x.sortOrder, active: Boolean(x.active) })),
   };
@@ -61,7 +66,9 @@ export function updateDefectType(db: Db, code: string, input: z.output<typeof de
       active: input.active === undefined ? before.active : input.active ? 1 : 0,
     };
     db.$client
-      .prepare("update defect_types set name = @name, category_id = @category_id, description = @description, active = @active, updated_at = @now where id = @id")
+      .prepare(
+        "update defect_types set name = @name, category_id = @category_id, description = @description, active = @active, updated_at = @now where id = @id",
+      )
       .run({ ...next, now: Date.now(), id: before.id });
     recordAudit(db, { userId, action: "defect_type.update", entity: "defect_type", entityId: before.code, before, after: next });
     return { code: before.code as string, ...next, active: Boolean(next.active) };
@@ -72,7 +79,9 @@ export function createDefectCategory(db: Db, input: z.output<typeof defectCatego
   return db.transaction(() => {
     const code = input.code.toUpperCase();
     if (db.$client.prepare("select 1 from defect_categories where upper(code) = ?").get(code)) throw conflict(`The category ${code} already exists.`);
-    const id = Number(db.$client.prepare("insert into defect_categories (code, name, sort_order) values (?, ?, ?)").run(code, input.name, input.sortOrder).lastInsertRowid);
+    const id = Number(
+      db.$client.prepare("insert into defect_categories (code, name, sort_order) values (?, ?, ?)").run(code, input.name, input.sortOrder).lastInsertRowid,
+    );
     recordAudit(db, { userId, action: "defect_category.create", entity: "defect_category", entityId: code, after: { ...input, code } });
     return { id, code };
   });
@@ -87,7 +96,9 @@ export function updateDefectCategory(db: Db, code: string, input: z.output<typeo
       sort_order: input.sortOrder ?? before.sort_order,
       active: input.active === undefined ? before.active : input.active ? 1 : 0,
     };
-    db.$client.prepare("update defect_categories set name = @name, sort_order = @sort_order, active = @active, updated_at = @now where id = @id").run({ ...next, now: Date.now(), id: before.id });
+    db.$client
+      .prepare("update defect_categories set name = @name, sort_order = @sort_order, active = @active, updated_at = @now where id = @id")
+      .run({ ...next, now: Date.now(), id: before.id });
     recordAudit(db, { userId, action: "defect_category.update", entity: "defect_category", entityId: before.code, before, after: next });
     return { code: before.code as string, name: next.name, sortOrder: next.sort_order, active: Boolean(next.active) };
   });

@@ -112,8 +112,20 @@ export function updateTag(db: Db, user: Actor, code: string, input: z.output<typ
     sets.push("updated_at = ?");
     args.push(Date.now(), before.id);
     sqlite.prepare(`update cause_tags set ${sets.join(", ")} where id = ?`).run(...args);
-    const action = input.retired === true && before.retired_at == null ? "cause_tag.retire" : input.retired === false && before.retired_at != null ? "cause_tag.reinstate" : "cause_tag.update";
-    recordAudit(db, { userId: user.id, action, entity: "cause_tag", entityId: before.code, before: { name: before.name, description: before.description, groupId: before.group_id, retiredAt: before.retired_at }, after: input });
+    const action =
+      input.retired === true && before.retired_at == null
+        ? "cause_tag.retire"
+        : input.retired === false && before.retired_at != null
+          ? "cause_tag.reinstate"
+          : "cause_tag.update";
+    recordAudit(db, {
+      userId: user.id,
+      action,
+      entity: "cause_tag",
+      entityId: before.code,
+      before: { name: before.name, description: before.description, groupId: before.group_id, retiredAt: before.retired_at },
+      after: input,
+    });
   });
   return getTag(db, code.trim().toLowerCase());
 }
@@ -122,7 +134,10 @@ export function updateTag(db: Db, user: Actor, code: string, input: z.output<typ
 export function deleteTag(db: Db, user: Actor, code: string): void {
   const tag = getTag(db, code.trim().toLowerCase());
   if (tag.everUsed) {
-    throw conflict(`The cause tag ${tag.code} has been used, so it cannot be deleted: retire it instead. Its old taggings keep their name.`, { everUsed: true, uses: tag.uses });
+    throw conflict(`The cause tag ${tag.code} has been used, so it cannot be deleted: retire it instead. Its old taggings keep their name.`, {
+      everUsed: true,
+      uses: tag.uses,
+    });
   }
   db.transaction(() => {
     db.$client.prepare("delete from cause_tags where code = ?").run(tag.code);
@@ -187,13 +202,21 @@ export function causesBrief(sqlite: Database.Database, defectIds: number[]) {
 
 function activeTagIds(sqlite: Database.Database, codes: string[]): { id: number; code: string }[] {
   const unique = [...new Set(codes.map((c) => c.trim().toLowerCase()))];
-  const rows = sqlite
-    .prepare(`select id, code, retired_at from cause_tags where code in (${unique.map(() => "?").join(",")})`)
-    .all(...unique) as Row[];
+  const rows = sqlite.prepare(`select id, code, retired_at from cause_tags where code in (${unique.map(() => "?").join(",")})`).all(...unique) as Row[];
   const unknown = unique.filter((c) => !rows.some((r) => r.code === c));
-  if (unknown.length) throw badRequest(`Unknown cause tag${unknown.length > 1 ? "s" : ""}: ${unknown.join(", ")}. See GET /api/cause-tags.`, { field: "tags", unknown }, "unknown_tag");
+  if (unknown.length)
+    throw badRequest(
+      `Unknown cause tag${unknown.length > 1 ? "s" : ""}: ${unknown.join(", ")}. See GET /api/cause-tags.`,
+      { field: "tags", unknown },
+      "unknown_tag",
+    );
   const retired = rows.filter((r) => r.retired_at != null).map((r) => r.code);
-  if (retired.length) throw badRequest(`Retired cause tag${retired.length > 1 ? "s" : ""}: ${retired.join(", ")}. Choose a current tag.`, { field: "tags", retired }, "retired_tag");
+  if (retired.length)
+    throw badRequest(
+      `Retired cause tag${retired.length > 1 ? "s" : ""}: ${retired.join(", ")}. Choose a current tag.`,
+      { field: "tags", retired },
+      "retired_tag",
+    );
   // In the order given, so the audit and the answer read as the user wrote them.
   return unique.map((c) => rows.find((r) => r.code === c)!).map((r) => ({ id: r.id, code: r.code }));
 }
@@ -203,7 +226,15 @@ function activeTagIds(sqlite: Database.Database, codes: string[]): { id: number;
  * note is left alone; with a different one, the old tagging is closed and a new one written, so the
  * history shows how the judgement moved. Returns the numbers of taggings written and unchanged.
  */
-function tagInTx(sqlite: Database.Database, user: Actor, defectId: number, tags: { id: number; code: string }[], confidence: CauseConfidence, note: string | null, now: number) {
+function tagInTx(
+  sqlite: Database.Database,
+  user: Actor,
+  defectId: number,
+  tags: { id: number; code: string }[],
+  confidence: CauseConfidence,
+  note: string | null,
+  now: number,
+) {
   let tagged = 0;
   let unchanged = 0;
   const live = sqlite.prepare("select id, confidence, note from defect_causes where defect_id = ? and tag_id = ? and removed_at is null");
@@ -229,7 +260,13 @@ export function tagDefect(db: Db, user: Actor, defectId: number, input: z.output
     const tags = activeTagIds(sqlite, input.tags);
     const r = tagInTx(sqlite, user, defectId, tags, input.confidence, input.note ?? null, Date.now());
     if (r.tagged) {
-      recordAudit(db, { userId: user.id, action: "defect.causes.tag", entity: "defect", entityId: defectId, after: { tags: tags.map((t) => t.code), confidence: input.confidence, note: input.note ?? null } });
+      recordAudit(db, {
+        userId: user.id,
+        action: "defect.causes.tag",
+        entity: "defect",
+        entityId: defectId,
+        after: { tags: tags.map((t) => t.code), confidence: input.confidence, note: input.note ?? null },
+      });
     }
   });
   return defectCauses(db, defectId);
@@ -243,7 +280,14 @@ export function untagDefect(db: Db, user: Actor, defectId: number, linkId: numbe
     if (!link) throw notFound("This defect has no such cause tagging.");
     if (link.removed_at != null) throw conflict("This cause tagging was already removed.");
     sqlite.prepare("update defect_causes set removed_at = ?, removed_by = ? where id = ?").run(Date.now(), user.id, linkId);
-    recordAudit(db, { userId: user.id, action: "defect.causes.remove", entity: "defect", entityId: defectId, before: toLink(link), after: { reason: reason ?? null } });
+    recordAudit(db, {
+      userId: user.id,
+      action: "defect.causes.remove",
+      entity: "defect",
+      entityId: defectId,
+      before: toLink(link),
+      after: { reason: reason ?? null },
+    });
   });
   return defectCauses(db, defectId);
 }
@@ -254,21 +298,30 @@ function selectDefects(db: Db, sel: z.output<typeof bulkTagSchema>["selection"],
   const base = "d.deleted_at is null and d.review_status <> 'rejected'";
   let typeClause = "";
   if (types?.length) {
-    const ids = sqlite.prepare(`select id from defect_types where upper(code) in (${types.map(() => "?").join(",")})`).pluck().all(...types.map((t) => t.toUpperCase())) as number[];
-    if (ids.length < new Set(types.map((t) => t.toUpperCase())).size) throw badRequest(`Unknown defect type among ${types.join(", ")}.`, { field: "defectType" });
+    const ids = sqlite
+      .prepare(`select id from defect_types where upper(code) in (${types.map(() => "?").join(",")})`)
+      .pluck()
+      .all(...types.map((t) => t.toUpperCase())) as number[];
+    if (ids.length < new Set(types.map((t) => t.toUpperCase())).size)
+      throw badRequest(`Unknown defect type among ${types.join(", ")}.`, { field: "defectType" });
     typeClause = ` and d.type_id in (${ids.join(",")})`;
   }
   switch (sel.kind) {
     case "heat": {
       const heat = sqlite.prepare("select id from heats where heat_no = ?").pluck().get(sel.heatNo.trim().toUpperCase()) as number | undefined;
       if (heat === undefined) throw notFound(`There is no heat ${sel.heatNo} on record.`);
-      return sqlite.prepare(`select d.id from defects d join slabs s on s.id = d.slab_id where s.heat_id = ? and ${base}${typeClause} order by d.id`).pluck().all(heat) as number[];
+      return sqlite
+        .prepare(`select d.id from defects d join slabs s on s.id = d.slab_id where s.heat_id = ? and ${base}${typeClause} order by d.id`)
+        .pluck()
+        .all(heat) as number[];
     }
     case "sequence": {
       const seq = sqlite.prepare("select id from sequences where sequence_no = ?").pluck().get(sel.sequenceNo.trim().toUpperCase()) as number | undefined;
       if (seq === undefined) throw notFound(`There is no sequence ${sel.sequenceNo} on record.`);
       return sqlite
-        .prepare(`select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.sequence_id = ? and ${base}${typeClause} order by d.id`)
+        .prepare(
+          `select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.sequence_id = ? and ${base}${typeClause} order by d.id`,
+        )
         .pluck()
         .all(seq) as number[];
     }
@@ -277,16 +330,24 @@ function selectDefects(db: Db, sel: z.output<typeof bulkTagSchema>["selection"],
       const scope = buildScope(db, sel.filters);
       const slabWhere = scope.where.length ? ` and ${scope.where.join(" and ")}` : "";
       return sqlite
-        .prepare(`select d.id from defects d join slab_conditions c on c.slab_id = d.slab_id where ${scope.defectWhere.join(" and ")}${slabWhere}${typeClause} order by d.id`)
+        .prepare(
+          `select d.id from defects d join slab_conditions c on c.slab_id = d.slab_id where ${scope.defectWhere.join(" and ")}${slabWhere}${typeClause} order by d.id`,
+        )
         .pluck()
         .all(scope.params) as number[];
     }
     case "defects": {
       const ids = [...new Set(sel.ids)];
-      const found = sqlite.prepare(`select d.id from defects d where d.id in (${ids.join(",")}) and ${base}${typeClause} order by d.id`).pluck().all() as number[];
+      const found = sqlite
+        .prepare(`select d.id from defects d where d.id in (${ids.join(",")}) and ${base}${typeClause} order by d.id`)
+        .pluck()
+        .all() as number[];
       if (found.length < ids.length && !typeClause) {
         const missing = ids.filter((i) => !found.includes(i));
-        throw badRequest(`No live defect entry ${missing.slice(0, 10).join(", ")}${missing.length > 10 ? "…" : ""}: they may have been deleted or rejected.`, { field: "selection.ids", missing });
+        throw badRequest(`No live defect entry ${missing.slice(0, 10).join(", ")}${missing.length > 10 ? "…" : ""}: they may have been deleted or rejected.`, {
+          field: "selection.ids",
+          missing,
+        });
       }
       return found;
     }
@@ -299,17 +360,27 @@ export function bulkTag(db: Db, user: Actor, input: z.output<typeof bulkTagSchem
   const sqlite = db.$client;
   const ids = selectDefects(db, input.selection, input.defectType);
   if (ids.length > BULK_LIMIT) {
-    throw new HttpError(400, "selection_too_large", `The selection holds ${ids.length.toLocaleString("en-GB")} defects; tag at most ${BULK_LIMIT.toLocaleString("en-GB")} at once (narrow the filter).`);
+    throw new HttpError(
+      400,
+      "selection_too_large",
+      `The selection holds ${ids.length.toLocaleString("en-GB")} defects; tag at most ${BULK_LIMIT.toLocaleString("en-GB")} at once (narrow the filter).`,
+    );
   }
   const tags = activeTagIds(sqlite, input.tags);
-  const sample = (ids.length
+  const sample = ids.length
     ? (sqlite
-        .prepare(`select d.id, s.slab_id as slabId, t.code as type, d.severity from defects d join slabs s on s.id = d.slab_id join defect_types t on t.id = d.type_id where d.id in (${ids.slice(0, 20).join(",")}) order by d.id`)
+        .prepare(
+          `select d.id, s.slab_id as slabId, t.code as type, d.severity from defects d join slabs s on s.id = d.slab_id join defect_types t on t.id = d.type_id where d.id in (${ids.slice(0, 20).join(",")}) order by d.id`,
+        )
         .all() as BulkTagResult["sample"])
-    : []);
+    : [];
   const note = input.note ?? null;
   if (input.dryRun) {
-    const same = sqlite.prepare("select count(*) from defect_causes where defect_id = ? and tag_id = ? and removed_at is null and confidence = ? and coalesce(note, '') = coalesce(?, '')").pluck();
+    const same = sqlite
+      .prepare(
+        "select count(*) from defect_causes where defect_id = ? and tag_id = ? and removed_at is null and confidence = ? and coalesce(note, '') = coalesce(?, '')",
+      )
+      .pluck();
     let unchanged = 0;
     for (const id of ids) for (const t of tags) unchanged += (same.get(id, t.id, input.confidence, note) as number) > 0 ? 1 : 0;
     return { dryRun: true, defects: ids.length, tagged: ids.length * tags.length - unchanged, unchanged, sample };
@@ -327,8 +398,18 @@ export function bulkTag(db: Db, user: Actor, input: z.output<typeof bulkTagSchem
       userId: user.id,
       action: "defect.causes.bulk_tag",
       entity: "defect_selection",
-      entityId: input.selection.kind === "heat" ? input.selection.heatNo : input.selection.kind === "sequence" ? input.selection.sequenceNo : input.selection.kind,
-      after: { selection: input.selection, defectType: input.defectType ?? null, tags: tags.map((t) => t.code), confidence: input.confidence, note, defects: ids, tagged, unchanged },
+      entityId:
+        input.selection.kind === "heat" ? input.selection.heatNo : input.selection.kind === "sequence" ? input.selection.sequenceNo : input.selection.kind,
+      after: {
+        selection: input.selection,
+        defectType: input.defectType ?? null,
+        tags: tags.map((t) => t.code),
+        confidence: input.confidence,
+        note,
+        defects: ids,
+        tagged,
+        unchanged,
+      },
     });
   });
   return { dryRun: false, defects: ids.length, tagged, unchanged, sample };
@@ -348,7 +429,9 @@ export function causePareto(db: Db, q: z.output<typeof causeParetoQuerySchema>):
   const confIn = `(${confidences.map((c) => `'${c}'`).join(",")})`;
   const defects = sqlite.prepare(`select count(*) ${from}`).pluck().get(scope.params) as number;
   const tagged = sqlite
-    .prepare(`select count(*) ${from} and exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null and dc.confidence in ${confIn})`)
+    .prepare(
+      `select count(*) ${from} and exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null and dc.confidence in ${confIn})`,
+    )
     .pluck()
     .get(scope.params) as number;
   const rows = sqlite
@@ -367,7 +450,8 @@ export function causePareto(db: Db, q: z.output<typeof causeParetoQuerySchema>):
   const notes: string[] = [];
   if (defects === 0) notes.push("No defect passes these filters.");
   else if (tagged < 30) notes.push(`Only ${tagged} tagged defect${tagged === 1 ? "" : "s"}: the ranking may change with a few more.`);
-  if (defects > 0 && tagged / defects < 0.5) notes.push(`${defects - tagged} of ${defects} defects carry no cause at this confidence: the Pareto describes the tagged ones only.`);
+  if (defects > 0 && tagged / defects < 0.5)
+    notes.push(`${defects - tagged} of ${defects} defects carry no cause at this confidence: the Pareto describes the tagged ones only.`);
   return {
     defects,
     tagged,

@@ -15,7 +15,13 @@ interface Actor {
   id: string;
 }
 const iso = (ms: number | null | undefined) => (ms == null ? null : new Date(ms).toISOString());
-const splitIds = (s: string | null | undefined) => (s ? s.split(",").map((x) => x.trim()).filter(Boolean) : []);
+const splitIds = (s: string | null | undefined) =>
+  s
+    ? s
+        .split(",")
+        .map((x) => x.trim())
+        .filter(Boolean)
+    : [];
 const norm = (ids: string[]) => [...new Set(ids.map((x) => x.trim().toUpperCase()).filter(Boolean))];
 
 function loadClaim(sqlite: Database.Database, id: number): Row {
@@ -63,10 +69,14 @@ export function listClaims(db: Db, q: z.output<typeof claimQuerySchema>): ClaimS
   const params: Record<string, unknown> = {};
   if (q.status) (where.push("c.status = @status"), (params.status = q.status));
   if (q.q) {
-    where.push(`(c.claim_no like @q escape '\\' or c.customer like @q escape '\\' or c.product_ids like @q escape '\\' or c.defect_complained like @q escape '\\')`);
+    where.push(
+      `(c.claim_no like @q escape '\\' or c.customer like @q escape '\\' or c.product_ids like @q escape '\\' or c.defect_complained like @q escape '\\')`,
+    );
     params.q = `%${q.q.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`;
   }
-  return (db.$client.prepare(`${SUMMARY} ${where.length ? `where ${where.join(" and ")}` : ""} order by c.received_on desc, c.id desc limit 500`).all(params) as Row[]).map(toSummary);
+  return (
+    db.$client.prepare(`${SUMMARY} ${where.length ? `where ${where.join(" and ")}` : ""} order by c.received_on desc, c.id desc limit 500`).all(params) as Row[]
+  ).map(toSummary);
 }
 
 export function getClaim(db: Db, id: number): Claim {
@@ -87,28 +97,60 @@ export function getClaim(db: Db, id: number): Claim {
     const s = sqlite.prepare("select slab_id from products where product_id = ?").pluck().get(p) as number | undefined;
     if (s !== undefined) productSlab.set(p, s);
   }
-  const attachments = sqlite.prepare("select a.*, u.name as byName from attachments a left join user u on u.id = a.created_by where owner_kind = 'claim' and owner_id = ? order by a.created_at").all(id) as Row[];
-  const history = sqlite.prepare("select a.at, coalesce(a.user_name, u.name, a.actor) as byName, a.action, a.after from audit_log a left join user u on u.id = a.user_id where a.entity = 'claim' and a.entity_id = ? order by a.at, a.id").all(String(id)) as Row[];
-  const creator = r.created_by ? (sqlite.prepare("select id, name from user where id = ?").get(r.created_by) as { id: string; name: string } | undefined) : undefined;
+  const attachments = sqlite
+    .prepare(
+      "select a.*, u.name as byName from attachments a left join user u on u.id = a.created_by where owner_kind = 'claim' and owner_id = ? order by a.created_at",
+    )
+    .all(id) as Row[];
+  const history = sqlite
+    .prepare(
+      "select a.at, coalesce(a.user_name, u.name, a.actor) as byName, a.action, a.after from audit_log a left join user u on u.id = a.user_id where a.entity = 'claim' and a.entity_id = ? order by a.at, a.id",
+    )
+    .all(String(id)) as Row[];
+  const creator = r.created_by
+    ? (sqlite.prepare("select id, name from user where id = ?").get(r.created_by) as { id: string; name: string } | undefined)
+    : undefined;
   return {
     ...toSummary(r),
     notes: r.notes ?? null,
     createdBy: creator ?? null,
     createdAt: iso(r.created_at)!,
     linkedSlabs: slabs.map((s) => ({
-      slabId: s.slab_id, heatNo: s.heat_no, sequenceNo: s.sequence_no ?? null, grade: s.grade, disposition: s.disposition ?? null, defects: s.nDefects,
-      linkedVia: s.linked_via, linkedAt: iso(s.linked_at)!, products: products.filter((p) => productSlab.get(p) === s.id),
+      slabId: s.slab_id,
+      heatNo: s.heat_no,
+      sequenceNo: s.sequence_no ?? null,
+      grade: s.grade,
+      disposition: s.disposition ?? null,
+      defects: s.nDefects,
+      linkedVia: s.linked_via,
+      linkedAt: iso(s.linked_at)!,
+      products: products.filter((p) => productSlab.get(p) === s.id),
     })),
     untracedProducts: products.filter((p) => !productSlab.has(p)),
-    attachments: attachments.map((a) => ({ id: a.id, fileName: a.file_name, mime: a.mime, bytes: a.bytes, url: `/api/attachments/${a.id}`, at: iso(a.created_at)!, by: a.byName ?? null })),
-    history: history.map((h) => ({ at: iso(h.at)!, by: h.byName ?? null, action: h.action, detail: describe(h.action, h.after, (id) => mailState(sqlite, id)) })),
+    attachments: attachments.map((a) => ({
+      id: a.id,
+      fileName: a.file_name,
+      mime: a.mime,
+      bytes: a.bytes,
+      url: `/api/attachments/${a.id}`,
+      at: iso(a.created_at)!,
+      by: a.byName ?? null,
+    })),
+    history: history.map((h) => ({
+      at: iso(h.at)!,
+      by: h.byName ?? null,
+      action: h.action,
+      detail: describe(h.action, h.after, (id) => mailState(sqlite, id)),
+    })),
   };
 }
 
 /** Where an e-mail of the outbox stands (null when the row is gone). */
 function mailState(sqlite: Database.Database, id: unknown) {
   if (typeof id !== "number") return null;
-  return prepared<[number], { status: string; sentAt: number | null }>(sqlite, "select status, sent_at as sentAt from email_outbox where id = ?").get(id) ?? null;
+  return (
+    prepared<[number], { status: string; sentAt: number | null }>(sqlite, "select status, sent_at as sentAt from email_outbox where id = ?").get(id) ?? null
+  );
 }
 
 const mailTime = (ms: number) => new Date(ms).toISOString().slice(0, 16).replace("T", " ") + " UTC";
@@ -136,17 +178,37 @@ export function createClaim(db: Db, user: Actor, input: z.output<typeof claimCre
   const sqlite = db.$client;
   const id = db.transaction(() => {
     const claimNo = input.claimNo.trim().toUpperCase();
-    if (sqlite.prepare("select 1 from claims where claim_no = ?").get(claimNo)) throw conflict(`A claim ${claimNo} is already on record.`, { field: "claimNo" });
+    if (sqlite.prepare("select 1 from claims where claim_no = ?").get(claimNo))
+      throw conflict(`A claim ${claimNo} is already on record.`, { field: "claimNo" });
     const products = norm(input.productIds);
     const now = Date.now();
     const cid = Number(
       sqlite
-        .prepare("insert into claims (claim_no, customer, product_ids, received_on, defect_complained, quantity_t, status, notes, created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, 'new', ?, ?, ?, ?)")
-        .run(claimNo, input.customer, products.join(", "), input.receivedOn, input.defectComplained, input.quantityT ?? null, input.notes ?? null, user.id, now, now).lastInsertRowid,
+        .prepare(
+          "insert into claims (claim_no, customer, product_ids, received_on, defect_complained, quantity_t, status, notes, created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, 'new', ?, ?, ?, ?)",
+        )
+        .run(
+          claimNo,
+          input.customer,
+          products.join(", "),
+          input.receivedOn,
+          input.defectComplained,
+          input.quantityT ?? null,
+          input.notes ?? null,
+          user.id,
+          now,
+          now,
+        ).lastInsertRowid,
     );
     const t = traced(sqlite, products);
     const added = input.linkTraced ? link(sqlite, cid, t.slabs, "trace", user) : 0;
-    recordAudit(db, { userId: user.id, action: "claim.create", entity: "claim", entityId: cid, after: { ...input, claimNo, productIds: products, linked: added, untraced: t.unknown } });
+    recordAudit(db, {
+      userId: user.id,
+      action: "claim.create",
+      entity: "claim",
+      entityId: cid,
+      after: { ...input, claimNo, productIds: products, linked: added, untraced: t.unknown },
+    });
     return cid;
   });
   return getClaim(db, id);
@@ -158,12 +220,28 @@ export function updateClaim(db: Db, user: Actor, id: number, input: z.output<typ
     const c = loadClaim(sqlite, id);
     const products = input.productIds ? norm(input.productIds).join(", ") : c.product_ids;
     sqlite
-      .prepare("update claims set customer = ?, product_ids = ?, received_on = ?, defect_complained = ?, quantity_t = ?, status = ?, notes = ?, updated_at = ? where id = ?")
+      .prepare(
+        "update claims set customer = ?, product_ids = ?, received_on = ?, defect_complained = ?, quantity_t = ?, status = ?, notes = ?, updated_at = ? where id = ?",
+      )
       .run(
-        input.customer ?? c.customer, products, input.receivedOn ?? c.received_on, input.defectComplained ?? c.defect_complained,
-        input.quantityT !== undefined ? input.quantityT : c.quantity_t, input.status ?? c.status, input.notes !== undefined ? input.notes : c.notes, Date.now(), id,
+        input.customer ?? c.customer,
+        products,
+        input.receivedOn ?? c.received_on,
+        input.defectComplained ?? c.defect_complained,
+        input.quantityT !== undefined ? input.quantityT : c.quantity_t,
+        input.status ?? c.status,
+        input.notes !== undefined ? input.notes : c.notes,
+        Date.now(),
+        id,
       );
-    recordAudit(db, { userId: user.id, action: "claim.update", entity: "claim", entityId: id, before: { customer: c.customer, productIds: c.product_ids, status: c.status, notes: c.notes, quantityT: c.quantity_t }, after: input });
+    recordAudit(db, {
+      userId: user.id,
+      action: "claim.update",
+      entity: "claim",
+      entityId: id,
+      before: { customer: c.customer, productIds: c.product_ids, status: c.status, notes: c.notes, quantityT: c.quantity_t },
+      after: input,
+    });
   });
   return getClaim(db, id);
 }
@@ -178,12 +256,24 @@ export function linkSlabs(db: Db, user: Actor, id: number, input: z.output<typeo
     const t = traced(sqlite, norm(input.productIds));
     if (missing.length || t.unknown.length) {
       throw badRequest(
-        [missing.length ? `No slab ${missing.join(", ")} on record.` : "", t.unknown.length ? `The rolling-mill trace does not know ${t.unknown.join(", ")}.` : ""].filter(Boolean).join(" "),
+        [
+          missing.length ? `No slab ${missing.join(", ")} on record.` : "",
+          t.unknown.length ? `The rolling-mill trace does not know ${t.unknown.join(", ")}.` : "",
+        ]
+          .filter(Boolean)
+          .join(" "),
         { missingSlabs: missing, untracedProducts: t.unknown },
         "unknown_ids",
       );
     }
-    const added = link(sqlite, id, rows.map(([, r]) => r!), "search", user) + link(sqlite, id, t.slabs, "trace", user);
+    const added =
+      link(
+        sqlite,
+        id,
+        rows.map(([, r]) => r!),
+        "search",
+        user,
+      ) + link(sqlite, id, t.slabs, "trace", user);
     recordAudit(db, { userId: user.id, action: "claim.slabs.link", entity: "claim", entityId: id, after: { ...input, added } });
   });
   return getClaim(db, id);
@@ -193,7 +283,9 @@ export function unlinkSlab(db: Db, user: Actor, id: number, slabCode: string): C
   const sqlite = db.$client;
   db.transaction(() => {
     loadClaim(sqlite, id);
-    const r = sqlite.prepare("delete from claim_slabs where claim_id = ? and slab_id = (select id from slabs where slab_id = ?)").run(id, slabCode.trim().toUpperCase());
+    const r = sqlite
+      .prepare("delete from claim_slabs where claim_id = ? and slab_id = (select id from slabs where slab_id = ?)")
+      .run(id, slabCode.trim().toUpperCase());
     if (r.changes === 0) throw notFound(`Slab ${slabCode} is not linked to this claim.`);
     recordAudit(db, { userId: user.id, action: "claim.slabs.unlink", entity: "claim", entityId: id, after: { slabId: slabCode.trim().toUpperCase() } });
   });

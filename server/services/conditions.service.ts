@@ -118,13 +118,26 @@ export function deriveValues(
   const field = embrA == null ? null : embrFieldT(embrA, strand.embrCalibration);
   if (v == null || v <= 0 || widthMm == null) {
     return {
-      throughputTPerMin: null, moldDwellMin: null, shellExitMm: null, metallurgicalLengthM: null,
-      embrFieldT: field, senPortVelocityMPerS: null, stuartNumber: null,
+      throughputTPerMin: null,
+      moldDwellMin: null,
+      shellExitMm: null,
+      metallurgicalLengthM: null,
+      embrFieldT: field,
+      senPortVelocityMPerS: null,
+      stuartNumber: null,
       hartmannNumber: field == null ? null : hartmannNumber(field, thicknessMm / 2000, settings.steelProperties),
     };
   }
   const dwell = moldDwellMin(strand.moldEffectiveLengthMm, v);
-  const u = senPortVelocityMPerS(v, widthMm, thicknessMm, strand.senPortAreaMm2, strand.senPortCount, settings.density.solidTPerM3, settings.density.liquidTPerM3);
+  const u = senPortVelocityMPerS(
+    v,
+    widthMm,
+    thicknessMm,
+    strand.senPortAreaMm2,
+    strand.senPortCount,
+    settings.density.solidTPerM3,
+    settings.density.liquidTPerM3,
+  );
   const halfThicknessM = thicknessMm / 2000;
   return {
     throughputTPerMin: throughputTPerMin(v, widthMm, thicknessMm, settings.density.solidTPerM3),
@@ -248,8 +261,17 @@ function toAggregate(r: AggRow): SampleAggregate | null {
     levelSd = Math.sqrt(Math.max(0, variance));
   }
   return {
-    n: r.n, speedMean: r.speedMean, speedMin: r.speedMin, speedMax: r.speedMax, tundishMean: r.tundishMean,
-    embrMean: r.embrMean, senMean: r.senMean, argonMean: r.argonMean, levelN: r.levelN, levelSd, firstSampleAt: r.firstSampleAt,
+    n: r.n,
+    speedMean: r.speedMean,
+    speedMin: r.speedMin,
+    speedMax: r.speedMax,
+    tundishMean: r.tundishMean,
+    embrMean: r.embrMean,
+    senMean: r.senMean,
+    argonMean: r.argonMean,
+    levelN: r.levelN,
+    levelSd,
+    firstSampleAt: r.firstSampleAt,
   };
 }
 
@@ -262,11 +284,44 @@ export interface Resolver {
 }
 
 const UPSERT_COLUMNS = [
-  "slab_id", "heat_id", "caster_id", "strand_id", "grade_id", "family_id", "cast_at", "transition", "sequence_position", "weight_t",
-  "width_mm", "thickness_mm", ...CHEM_COLUMNS, "casting_speed_m_min", "casting_speed_source", "speed_min_m_min", "speed_max_m_min", "speed_change_m_min",
-  "superheat_c", "superheat_source", "embr_current_a", "embr_current_source", "sen_depth_mm", "sen_depth_source", "argon_nl_min",
-  "argon_source", "mold_level_sd_mm", "mold_level_sd_source", "sample_count", "throughput_t_min", "mold_dwell_min", "shell_exit_mm",
-  "metallurgical_length_m", "embr_field_t", "sen_port_velocity_m_s", "stuart_number", "hartmann_number", "computed_at",
+  "slab_id",
+  "heat_id",
+  "caster_id",
+  "strand_id",
+  "grade_id",
+  "family_id",
+  "cast_at",
+  "transition",
+  "sequence_position",
+  "weight_t",
+  "width_mm",
+  "thickness_mm",
+  ...CHEM_COLUMNS,
+  "casting_speed_m_min",
+  "casting_speed_source",
+  "speed_min_m_min",
+  "speed_max_m_min",
+  "speed_change_m_min",
+  "superheat_c",
+  "superheat_source",
+  "embr_current_a",
+  "embr_current_source",
+  "sen_depth_mm",
+  "sen_depth_source",
+  "argon_nl_min",
+  "argon_source",
+  "mold_level_sd_mm",
+  "mold_level_sd_source",
+  "sample_count",
+  "throughput_t_min",
+  "mold_dwell_min",
+  "shell_exit_mm",
+  "metallurgical_length_m",
+  "embr_field_t",
+  "sen_port_velocity_m_s",
+  "stuart_number",
+  "hartmann_number",
+  "computed_at",
 ] as const;
 
 const CHUNK = 500;
@@ -279,18 +334,25 @@ export function createResolver(db: Db): Resolver {
   const sqlite: Database.Database = db.$client;
   const settings = getPlantSettings(db);
   const strands = new Map<number, StrandSettings>(
-    (sqlite
-      .prepare("select id, mold_effective_length_mm as l, sen_port_area_mm2 as a, sen_port_count as c, embr_calibration as cal from strands")
-      .all() as { id: number; l: number; a: number; c: number; cal: string }[]).map((r) => [
-      r.id,
-      { moldEffectiveLengthMm: r.l, senPortAreaMm2: r.a, senPortCount: r.c, embrCalibration: JSON.parse(r.cal) as EmbrCalibration },
-    ]),
+    (
+      sqlite.prepare("select id, mold_effective_length_mm as l, sen_port_area_mm2 as a, sen_port_count as c, embr_calibration as cal from strands").all() as {
+        id: number;
+        l: number;
+        a: number;
+        c: number;
+        cal: string;
+      }[]
+    ).map((r) => [r.id, { moldEffectiveLengthMm: r.l, senPortAreaMm2: r.a, senPortCount: r.c, embrCalibration: JSON.parse(r.cal) as EmbrCalibration }]),
   );
   // The time span each strand has samples for: slabs outside it need no sample query at all.
   const sampleSpan = new Map<number, [number, number]>(
-    (sqlite
-      .prepare("select strand_id as s, min(sampled_at) as lo, max(sampled_at) as hi from process_samples group by strand_id")
-      .all() as { s: number; lo: number; hi: number }[]).map((r) => [r.s, [r.lo, r.hi]]),
+    (
+      sqlite.prepare("select strand_id as s, min(sampled_at) as lo, max(sampled_at) as hi from process_samples group by strand_id").all() as {
+        s: number;
+        lo: number;
+        hi: number;
+      }[]
+    ).map((r) => [r.s, [r.lo, r.hi]]),
   );
   const byLength = sqlite.prepare(
     `select ${AGG_COLUMNS} from process_samples where strand_id = ? and sampled_at >= ? and sampled_at <= ?
@@ -300,7 +362,9 @@ export function createResolver(db: Db): Resolver {
   const setCastAt = sqlite.prepare("update slabs set cast_at = ? where id = ?");
   const upsert = sqlite.prepare(
     `insert into slab_conditions (${UPSERT_COLUMNS.join(", ")}) values (${UPSERT_COLUMNS.map(() => "?").join(", ")})
-     on conflict(slab_id) do update set ${UPSERT_COLUMNS.slice(1).map((c) => `${c} = excluded.${c}`).join(", ")}`,
+     on conflict(slab_id) do update set ${UPSERT_COLUMNS.slice(1)
+       .map((c) => `${c} = excluded.${c}`)
+       .join(", ")}`,
   );
   const selectChunk = sqlite.prepare(`${SLAB_SELECT} where s.id in (${Array(CHUNK).fill("?").join(",")})`);
   const piecesChunk = sqlite.prepare(
@@ -312,7 +376,12 @@ export function createResolver(db: Db): Resolver {
     const pieces = new Map<string, { p: number; l: number }[]>();
     for (let i = 0; i < heatIds.length; i += CHUNK) {
       const chunk = heatIds.slice(i, i + CHUNK);
-      const stmt = chunk.length === CHUNK ? piecesChunk : sqlite.prepare(`select heat_id as h, strand_id as s, piece_no as p, length_mm as l from slabs where heat_id in (${chunk.map(() => "?").join(",")})`);
+      const stmt =
+        chunk.length === CHUNK
+          ? piecesChunk
+          : sqlite.prepare(
+              `select heat_id as h, strand_id as s, piece_no as p, length_mm as l from slabs where heat_id in (${chunk.map(() => "?").join(",")})`,
+            );
       for (const r of stmt.all(...chunk) as { h: number; s: number; p: number; l: number }[]) {
         const k = `${r.h}:${r.s}`;
         let list = pieces.get(k);
@@ -356,20 +425,57 @@ export function createResolver(db: Db): Resolver {
     const x = resolveConditions({
       slab: r,
       heat: {
-        castingSpeedMPerMin: r.heatSpeed, superheatC: r.heatSuperheat, liquidusC: r.heatLiquidus, embrCurrentA: r.heatEmbr,
-        senDepthMm: r.heatSen, argonNlPerMin: r.heatArgon, moldLevelSdMm: r.heatLevelSd,
+        castingSpeedMPerMin: r.heatSpeed,
+        superheatC: r.heatSuperheat,
+        liquidusC: r.heatLiquidus,
+        embrCurrentA: r.heatEmbr,
+        senDepthMm: r.heatSen,
+        argonNlPerMin: r.heatArgon,
+        moldLevelSdMm: r.heatLevelSd,
       },
       samples: agg,
       strand,
       settings,
     });
     upsert.run(
-      r.id, r.heatId, r.casterId, r.strandId, r.gradeId, r.familyId, placedAt == null ? null : Math.round(placedAt), r.transition ? 1 : 0,
-      r.sequencePosition, r.weightT, r.widthMm, r.thicknessMm, ...CHEM_COLUMNS.map((c) => r.chem[c]),
-      x.castingSpeedMPerMin, x.castingSpeedSource, x.speedMinMPerMin, x.speedMaxMPerMin, x.speedChangeMPerMin, x.superheatC,
-      x.superheatSource, x.embrCurrentA, x.embrCurrentSource, x.senDepthMm, x.senDepthSource, x.argonNlPerMin, x.argonSource,
-      x.moldLevelSdMm, x.moldLevelSdSource, x.sampleCount, x.throughputTPerMin, x.moldDwellMin, x.shellExitMm,
-      x.metallurgicalLengthM, x.embrFieldT, x.senPortVelocityMPerS, x.stuartNumber, x.hartmannNumber, now,
+      r.id,
+      r.heatId,
+      r.casterId,
+      r.strandId,
+      r.gradeId,
+      r.familyId,
+      placedAt == null ? null : Math.round(placedAt),
+      r.transition ? 1 : 0,
+      r.sequencePosition,
+      r.weightT,
+      r.widthMm,
+      r.thicknessMm,
+      ...CHEM_COLUMNS.map((c) => r.chem[c]),
+      x.castingSpeedMPerMin,
+      x.castingSpeedSource,
+      x.speedMinMPerMin,
+      x.speedMaxMPerMin,
+      x.speedChangeMPerMin,
+      x.superheatC,
+      x.superheatSource,
+      x.embrCurrentA,
+      x.embrCurrentSource,
+      x.senDepthMm,
+      x.senDepthSource,
+      x.argonNlPerMin,
+      x.argonSource,
+      x.moldLevelSdMm,
+      x.moldLevelSdSource,
+      x.sampleCount,
+      x.throughputTPerMin,
+      x.moldDwellMin,
+      x.shellExitMm,
+      x.metallurgicalLengthM,
+      x.embrFieldT,
+      x.senPortVelocityMPerS,
+      x.stuartNumber,
+      x.hartmannNumber,
+      now,
     );
   };
 
@@ -386,7 +492,10 @@ export function createResolver(db: Db): Resolver {
     const unplaced = rows.filter((r) => r.castAt == null);
     const offsets = unplaced.length ? offsetsFor([...new Set(unplaced.map((r) => r.heatId))]) : new Map<string, number>();
     for (const r of rows) one(r, offsets.get(`${r.heatId}:${r.strandId}:${r.pieceNo}`) ?? 0, now);
-    slabFactsChanged(db, rows.map((r) => r.id));
+    slabFactsChanged(
+      db,
+      rows.map((r) => r.id),
+    );
   };
 
   return {

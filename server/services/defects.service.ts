@@ -145,7 +145,9 @@ function typeRow(sqlite: Database.Database, code: string): TypeRow {
 const typeId = (sqlite: Database.Database, code: string): number => typeRow(sqlite, code).id;
 
 /** Dispositions by rank in SQL (shared/domain.ts DISPOSITION_RANK), worst highest. */
-const RANK_SQL = `case disposition ${Object.entries(DISPOSITION_RANK).map(([d, r]) => `when '${d}' then ${r}`).join(" ")} end`;
+const RANK_SQL = `case disposition ${Object.entries(DISPOSITION_RANK)
+  .map(([d, r]) => `when '${d}' then ${r}`)
+  .join(" ")} end`;
 
 /**
  * A slab takes the worst disposition of its live, unrejected defects (none: no disposition).
@@ -204,7 +206,9 @@ function storeDefectTx(db: Db) {
 
 function storeDefect(db: Db, user: Actor, input: CreateInput): Stored {
   const sqlite = db.$client;
-  const existing = prepared<[string], { id: number; created_by: string | null }>(sqlite, "select id, created_by from defects where client_key = ?").get(input.client_key);
+  const existing = prepared<[string], { id: number; created_by: string | null }>(sqlite, "select id, created_by from defects where client_key = ?").get(
+    input.client_key,
+  );
   if (existing) {
     if (existing.created_by !== user.id) throw conflict("This entry key was already used by someone else; the entry was not stored.");
     return { id: existing.id, created: false };
@@ -255,12 +259,28 @@ function storeDefect(db: Db, user: Actor, input: CreateInput): Stored {
   const createdByName = prepared<[string], string>(sqlite, "select name from user where id = ?").pluck().get(user.id) ?? null;
   // The row as SELECT (above) would read it back: the columns stored, the defaults of a new entry.
   const row: Row = {
-    id, ...stored, slab_id: slab.id, type_id: type.id,
-    review_status: "new", reviewed_by: null, reviewed_at: null, review_note: null, deleted_at: null, deleted_by: null,
-    slabCode: slab.slab_id, slabLength: slab.length_mm, slabWidth: slab.width_mm, slabThickness: slab.thickness_mm,
-    heatNo: slab.heat_no, gradeCode: slab.grade_code, strandNo: slab.strand_no,
-    typeCode: type.code, typeName: type.name, categoryCode: type.category_code,
-    createdByName, reviewedByName: null,
+    id,
+    ...stored,
+    slab_id: slab.id,
+    type_id: type.id,
+    review_status: "new",
+    reviewed_by: null,
+    reviewed_at: null,
+    review_note: null,
+    deleted_at: null,
+    deleted_by: null,
+    slabCode: slab.slab_id,
+    slabLength: slab.length_mm,
+    slabWidth: slab.width_mm,
+    slabThickness: slab.thickness_mm,
+    heatNo: slab.heat_no,
+    gradeCode: slab.grade_code,
+    strandNo: slab.strand_no,
+    typeCode: type.code,
+    typeName: type.name,
+    categoryCode: type.category_code,
+    createdByName,
+    reviewedByName: null,
   };
   return { id, created: true, row };
 }
@@ -291,7 +311,12 @@ export function updateDefect(db: Db, user: Actor, id: number, patch: UpdateInput
     const next: Row = { ...before };
     for (const k of UPDATABLE) if (patch[k] !== undefined) next[k] = patch[k] === "" ? null : patch[k];
     if (patch.type_code !== undefined) next.type_id = typeId(sqlite, patch.type_code);
-    checkPosition(next as never, { slab_id: before.slab_code, length_mm: before.slab_length_mm, width_mm: before.slab_width_mm, thickness_mm: before.slab_thickness_mm });
+    checkPosition(next as never, {
+      slab_id: before.slab_code,
+      length_mm: before.slab_length_mm,
+      width_mm: before.slab_width_mm,
+      thickness_mm: before.slab_thickness_mm,
+    });
     prepared(
       sqlite,
       `update defects set type_id = @type_id, face = @face, position_along_mm = @position_along_mm, position_across_mm = @position_across_mm,
@@ -306,8 +331,17 @@ export function updateDefect(db: Db, user: Actor, id: number, patch: UpdateInput
 
 function pickColumns(r: Row) {
   return {
-    type_id: r.type_id, face: r.face, position_along_mm: r.position_along_mm, position_across_mm: r.position_across_mm, length_mm: r.length_mm,
-    width_mm: r.width_mm, depth_mm: r.depth_mm, severity: r.severity, stage: r.stage, disposition: r.disposition, note: r.note ?? null,
+    type_id: r.type_id,
+    face: r.face,
+    position_along_mm: r.position_along_mm,
+    position_across_mm: r.position_across_mm,
+    length_mm: r.length_mm,
+    width_mm: r.width_mm,
+    depth_mm: r.depth_mm,
+    severity: r.severity,
+    stage: r.stage,
+    disposition: r.disposition,
+    note: r.note ?? null,
     review_status: r.review_status,
   };
 }
@@ -333,8 +367,10 @@ export function reviewDefect(db: Db, user: Actor, id: number, input: ReviewInput
     const typeIdNext = input.type_code ? typeId(sqlite, input.type_code) : before.type_id;
     const severityNext = input.severity ?? before.severity;
     const now = Date.now();
-    prepared(sqlite, "update defects set review_status = ?, reviewed_by = ?, reviewed_at = ?, review_note = ?, type_id = ?, severity = ?, updated_at = ? where id = ?")
-      .run(status, user.id, now, input.note ?? null, typeIdNext, severityNext, now, id);
+    prepared(
+      sqlite,
+      "update defects set review_status = ?, reviewed_by = ?, reviewed_at = ?, review_note = ?, type_id = ?, severity = ?, updated_at = ? where id = ?",
+    ).run(status, user.id, now, input.note ?? null, typeIdNext, severityNext, now, id);
     refreshSlabDisposition(sqlite, before.slab_id);
     recordAudit(db, {
       userId: user.id,
@@ -396,14 +432,22 @@ export function listDefects(db: Db, user: Actor, q: z.output<typeof defectListQu
     )
     .pluck()
     .get(params) as number;
-  const order = q.sort === "oldest" ? "d.found_at asc, d.id asc" : q.sort === "severity" ? "d.severity desc, d.found_at asc, d.id asc" : "d.found_at desc, d.id desc";
+  const order =
+    q.sort === "oldest" ? "d.found_at asc, d.id asc" : q.sort === "severity" ? "d.severity desc, d.found_at asc, d.id asc" : "d.found_at desc, d.id desc";
   const rows = db.$client.prepare(`${SELECT} where ${w} order by ${order} limit @limit offset @offset`).all({
     ...params,
     limit: q.pageSize,
     offset: (q.page - 1) * q.pageSize,
   }) as Row[];
-  const photos = photosOf(db.$client, rows.map((r) => r.id));
-  const causes = causesFor(db, user, rows.map((r) => r.id as number));
+  const photos = photosOf(
+    db.$client,
+    rows.map((r) => r.id),
+  );
+  const causes = causesFor(
+    db,
+    user,
+    rows.map((r) => r.id as number),
+  );
   return { items: rows.map((r) => toDefect(r, photos.get(r.id) ?? [], user, causes.get(r.id) ?? [])), total, page: q.page, pageSize: q.pageSize };
 }
 
@@ -457,8 +501,7 @@ export function precheckPhotos(db: Db, user: Actor, defectId: number) {
 /** Inside the final transaction: the entry may have been reviewed or deleted while the photos arrived. */
 function recheckForPhotos(sqlite: Database.Database, user: Actor, defectId: number) {
   const row = sqlite.prepare("select created_by, review_status, deleted_at from defects where id = ?").get(defectId) as
-    | { created_by: string | null; review_status: string; deleted_at: number | null }
-    | undefined;
+    { created_by: string | null; review_status: string; deleted_at: number | null } | undefined;
   if (!row || row.deleted_at != null) {
     throw new HttpError(409, "changed_meanwhile", "The entry was deleted while the photos were being sent; they were not stored.");
   }
@@ -487,7 +530,9 @@ export async function addPhotos(db: Db, uploadDir: string, user: Actor, defectId
     if (row && row.defect_id !== defectId) throw conflict("A photo key was already used for another defect.");
     if (row) known.set(key, row.id);
   }
-  const todo: { index: number; key: string | null }[] = files.map((_, i) => ({ index: i, key: clientKeys[i] ?? null })).filter((x) => !x.key || !known.has(x.key));
+  const todo: { index: number; key: string | null }[] = files
+    .map((_, i) => ({ index: i, key: clientKeys[i] ?? null }))
+    .filter((x) => !x.key || !known.has(x.key));
   if (todo.length) checkPhotoCaps(sqlite, user, defectId, todo.length);
   const input = (f: UploadedFile) => f.path ?? f.buffer!;
   const checked = await Promise.all(todo.map((x) => checkPhoto(input(files[x.index]!), files[x.index]!.originalname)));
@@ -508,10 +553,30 @@ export async function addPhotos(db: Db, uploadDir: string, user: Actor, defectId
       );
       const now = Date.now();
       stored.forEach((s, i) => {
-        ins.run(s.id, defectId, s.displayFile, s.displayMime, s.thumbFile, s.width, s.height, s.bytes, s.sha256, checked[i]!.originalName, todo[i]!.key, user.id, now);
+        ins.run(
+          s.id,
+          defectId,
+          s.displayFile,
+          s.displayMime,
+          s.thumbFile,
+          s.width,
+          s.height,
+          s.bytes,
+          s.sha256,
+          checked[i]!.originalName,
+          todo[i]!.key,
+          user.id,
+          now,
+        );
       });
       sqlite.prepare("update defects set updated_at = ? where id = ?").run(now, defectId);
-      recordAudit(db, { userId: user.id, action: "defect.photos.add", entity: "defect", entityId: defectId, after: { photos: stored.map((s) => ({ id: s.id, sha256: s.sha256 })) } });
+      recordAudit(db, {
+        userId: user.id,
+        action: "defect.photos.add",
+        entity: "defect",
+        entityId: defectId,
+        after: { photos: stored.map((s) => ({ id: s.id, sha256: s.sha256 })) },
+      });
     });
   } catch (err) {
     await removePhotoFiles(uploadDir, stored);
@@ -527,7 +592,8 @@ export async function addPhotos(db: Db, uploadDir: string, user: Actor, defectId
 export function deletePhoto(db: Db, user: Actor, photoId: string) {
   const sqlite = db.$client;
   return db.transaction(() => {
-    const p = sqlite.prepare("select id, defect_id from defect_photos where id = ? and deleted_at is null").get(photoId) as { id: string; defect_id: number } | undefined;
+    const p = sqlite.prepare("select id, defect_id from defect_photos where id = ? and deleted_at is null").get(photoId) as
+      { id: string; defect_id: number } | undefined;
     if (!p) throw notFound("There is no such photo.");
     loadForChange(sqlite, p.defect_id, user);
     sqlite.prepare("update defect_photos set deleted_at = ? where id = ?").run(Date.now(), photoId);
@@ -538,10 +604,11 @@ export function deletePhoto(db: Db, user: Actor, photoId: string) {
 
 export function photoFile(db: Db, photoId: string, kind: "display" | "thumb") {
   const p = db.$client.prepare("select display_file, display_mime, thumb_file, sha256 from defect_photos where id = ? and deleted_at is null").get(photoId) as
-    | { display_file: string; display_mime: string; thumb_file: string; sha256: string }
-    | undefined;
+    { display_file: string; display_mime: string; thumb_file: string; sha256: string } | undefined;
   if (!p) throw notFound("There is no such photo.");
-  return kind === "display" ? { file: p.display_file, mime: p.display_mime, etag: `"${photoId}-d"` } : { file: p.thumb_file, mime: "image/jpeg", etag: `"${photoId}-t"` };
+  return kind === "display"
+    ? { file: p.display_file, mime: p.display_mime, etag: `"${photoId}-d"` }
+    : { file: p.thumb_file, mime: "image/jpeg", etag: `"${photoId}-t"` };
 }
 
 /** Every file a photo row refers to (for the orphan cleanup). */

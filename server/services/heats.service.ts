@@ -93,10 +93,30 @@ const CONDITION_COLUMNS = `c.casting_speed_m_min as castingSpeedMPerMin, c.casti
   c.hartmann_number as hartmannNumber`;
 
 const CONDITION_KEYS = [
-  "castingSpeedMPerMin", "castingSpeedSource", "speedMinMPerMin", "speedMaxMPerMin", "speedChangeMPerMin", "superheatC",
-  "superheatSource", "embrCurrentA", "embrCurrentSource", "senDepthMm", "senDepthSource", "argonNlPerMin", "argonSource",
-  "moldLevelSdMm", "moldLevelSdSource", "sampleCount", "throughputTPerMin", "moldDwellMin", "shellExitMm",
-  "metallurgicalLengthM", "embrFieldT", "senPortVelocityMPerS", "stuartNumber", "hartmannNumber",
+  "castingSpeedMPerMin",
+  "castingSpeedSource",
+  "speedMinMPerMin",
+  "speedMaxMPerMin",
+  "speedChangeMPerMin",
+  "superheatC",
+  "superheatSource",
+  "embrCurrentA",
+  "embrCurrentSource",
+  "senDepthMm",
+  "senDepthSource",
+  "argonNlPerMin",
+  "argonSource",
+  "moldLevelSdMm",
+  "moldLevelSdSource",
+  "sampleCount",
+  "throughputTPerMin",
+  "moldDwellMin",
+  "shellExitMm",
+  "metallurgicalLengthM",
+  "embrFieldT",
+  "senPortVelocityMPerS",
+  "stuartNumber",
+  "hartmannNumber",
 ] as const;
 
 function splitConditions<T extends Record<string, unknown>>(row: T & { hasConditions: number | null }): ResolvedConditions | null {
@@ -118,9 +138,10 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
     .get(heatNo) as Record<string, any> | undefined;
   if (!h) throw notFound(`There is no heat ${heatNo}.`);
   const neighbours = h.sequence_id
-    ? (c
-        .prepare("select heat_no, sequence_position from heats where sequence_id = ? order by sequence_position, cast_start")
-        .all(h.sequence_id) as { heat_no: string; sequence_position: number }[])
+    ? (c.prepare("select heat_no, sequence_position from heats where sequence_id = ? order by sequence_position, cast_start").all(h.sequence_id) as {
+        heat_no: string;
+        sequence_position: number;
+      }[])
     : [];
   const idx = neighbours.findIndex((n) => n.heat_no === h.heat_no);
   const slabs = c
@@ -134,8 +155,14 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
        where s.heat_id = ? order by st.strand_no, s.piece_no`,
     )
     .all(h.id) as Record<string, any>[];
-  const risks = risksOfSlabs(db, slabs.map((s) => s.rowId as number));
-  const flags = windowFlagsForSlabs(db, slabs.map((s) => s.rowId as number));
+  const risks = risksOfSlabs(
+    db,
+    slabs.map((s) => s.rowId as number),
+  );
+  const flags = windowFlagsForSlabs(
+    db,
+    slabs.map((s) => s.rowId as number),
+  );
   const settings = getPlantSettings(db);
   const strandRows = c
     .prepare(
@@ -143,7 +170,15 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
          sen_port_count as senPortCount, embr_calibration as cal, mold_thickness_mm as moldThicknessMm
        from strands where caster_id = ? order by strand_no`,
     )
-    .all(h.caster_id) as { id: number; strandNo: number; moldEffectiveLengthMm: number; senPortAreaMm2: number; senPortCount: number; cal: string; moldThicknessMm: number }[];
+    .all(h.caster_id) as {
+    id: number;
+    strandNo: number;
+    moldEffectiveLengthMm: number;
+    senPortAreaMm2: number;
+    senPortCount: number;
+    cal: string;
+    moldThicknessMm: number;
+  }[];
   const derived = strandRows.map((st) => {
     const own = slabs.filter((s) => s.strandNo === st.strandNo);
     const widthMm = own.length ? own.reduce((a, s) => a + s.widthMm, 0) / own.length : null;
@@ -159,9 +194,7 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
     return { strandNo: st.strandNo, widthMm, ...d };
   });
   const sampleCount = c
-    .prepare(
-      `select count(*) from process_samples where strand_id in (select id from strands where caster_id = ?) and sampled_at between ? and ?`,
-    )
+    .prepare(`select count(*) from process_samples where strand_id in (select id from strands where caster_id = ?) and sampled_at between ? and ?`)
     .pluck()
     .get(h.caster_id, h.cast_start, h.cast_end ?? h.cast_start + 4 * 3_600_000) as number;
   return {
@@ -190,8 +223,20 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
       moldLevelSdMm: h.mold_level_sd_mm,
     },
     chemistry: {
-      cPct: h.c_pct, siPct: h.si_pct, mnPct: h.mn_pct, pPct: h.p_pct, sPct: h.s_pct, alPct: h.al_pct, cuPct: h.cu_pct,
-      niPct: h.ni_pct, crPct: h.cr_pct, moPct: h.mo_pct, tiPct: h.ti_pct, nbPct: h.nb_pct, vPct: h.v_pct, nPpm: h.n_ppm,
+      cPct: h.c_pct,
+      siPct: h.si_pct,
+      mnPct: h.mn_pct,
+      pPct: h.p_pct,
+      sPct: h.s_pct,
+      alPct: h.al_pct,
+      cuPct: h.cu_pct,
+      niPct: h.ni_pct,
+      crPct: h.cr_pct,
+      moPct: h.mo_pct,
+      tiPct: h.ti_pct,
+      nbPct: h.nb_pct,
+      vPct: h.v_pct,
+      nPpm: h.n_ppm,
     },
     derived,
     slabs: slabs.map((s) => ({
@@ -219,24 +264,35 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
 export function getHeatSamples(db: Db, heatNo: string, maxPoints: number): HeatSamples {
   const c = db.$client;
   const h = c.prepare("select id, caster_id, cast_start, cast_end from heats where heat_no = ?").get(heatNo) as
-    | { id: number; caster_id: number; cast_start: number; cast_end: number | null }
-    | undefined;
+    { id: number; caster_id: number; cast_start: number; cast_end: number | null } | undefined;
   if (!h) throw notFound(`There is no heat ${heatNo}.`);
   const end = h.cast_end ?? h.cast_start + 4 * 3_600_000;
   const strands = c.prepare("select id, strand_no from strands where caster_id = ? order by strand_no").all(h.caster_id) as { id: number; strand_no: number }[];
   const count = c.prepare("select count(*) from process_samples where strand_id = ? and sampled_at between ? and ?").pluck();
-  const rows = c.prepare(
-    `select sampled_at, cast_length_m, casting_speed_m_min, tundish_temp_c, embr_current_a, sen_depth_mm, argon_nl_min, mold_level_mm
+  const rows = c
+    .prepare(
+      `select sampled_at, cast_length_m, casting_speed_m_min, tundish_temp_c, embr_current_a, sen_depth_mm, argon_nl_min, mold_level_mm
      from (select *, row_number() over (order by sampled_at) as rn from process_samples where strand_id = @strand and sampled_at between @start and @end)
      where (rn - 1) % @step = 0 order by sampled_at`,
-  ).raw();
+    )
+    .raw();
   return {
     heatNo,
     strands: strands.map((s) => {
       const total = count.get(s.id, h.cast_start, end) as number;
       const step = Math.max(1, Math.ceil(total / maxPoints));
       const points = (rows.all({ strand: s.id, start: h.cast_start, end, step }) as (number | null)[][]).map(
-        (r) => [new Date(r[0]!).toISOString(), r[1] ?? null, r[2] ?? null, r[3] ?? null, r[4] ?? null, r[5] ?? null, r[6] ?? null, r[7] ?? null] as HeatSamples["strands"][number]["points"][number],
+        (r) =>
+          [
+            new Date(r[0]!).toISOString(),
+            r[1] ?? null,
+            r[2] ?? null,
+            r[3] ?? null,
+            r[4] ?? null,
+            r[5] ?? null,
+            r[6] ?? null,
+            r[7] ?? null,
+          ] as HeatSamples["strands"][number]["points"][number],
       );
       return { strandNo: s.strand_no, total, points };
     }),
@@ -267,7 +323,12 @@ export function getSlab(db: Db, slabId: string, readsCauses: boolean): SlabDetai
        where d.slab_id = ? and d.deleted_at is null order by d.found_at, d.id`,
     )
     .all(s.id) as Record<string, any>[];
-  const causes = readsCauses ? causesBrief(c, defects.map((d) => d.id as number)) : new Map<number, never[]>();
+  const causes = readsCauses
+    ? causesBrief(
+        c,
+        defects.map((d) => d.id as number),
+      )
+    : new Map<number, never[]>();
   return {
     slabId: s.slab_id,
     heatNo: s.heatNo,
@@ -295,14 +356,30 @@ export function getSlab(db: Db, slabId: string, readsCauses: boolean): SlabDetai
     },
     conditions: splitConditions({
       hasConditions: s.hasConditions,
-      castingSpeedMPerMin: s.castingSpeedMPerMin, castingSpeedSource: s.castingSpeedSource, speedMinMPerMin: s.speedMinMPerMin,
-      speedMaxMPerMin: s.speedMaxMPerMin, speedChangeMPerMin: s.speedChangeMPerMin, superheatC: s.superheatC,
-      superheatSource: s.superheatSource, embrCurrentA: s.embrCurrentA, embrCurrentSource: s.embrCurrentSource,
-      senDepthMm: s.senDepthMm, senDepthSource: s.senDepthSource, argonNlPerMin: s.argonNlPerMin, argonSource: s.argonSource,
-      moldLevelSdMm: s.moldLevelSdMm, moldLevelSdSource: s.moldLevelSdSource, sampleCount: s.sampleCount,
-      throughputTPerMin: s.throughputTPerMin, moldDwellMin: s.moldDwellMin, shellExitMm: s.shellExitMm,
-      metallurgicalLengthM: s.metallurgicalLengthM, embrFieldT: s.embrFieldT, senPortVelocityMPerS: s.senPortVelocityMPerS,
-      stuartNumber: s.stuartNumber, hartmannNumber: s.hartmannNumber,
+      castingSpeedMPerMin: s.castingSpeedMPerMin,
+      castingSpeedSource: s.castingSpeedSource,
+      speedMinMPerMin: s.speedMinMPerMin,
+      speedMaxMPerMin: s.speedMaxMPerMin,
+      speedChangeMPerMin: s.speedChangeMPerMin,
+      superheatC: s.superheatC,
+      superheatSource: s.superheatSource,
+      embrCurrentA: s.embrCurrentA,
+      embrCurrentSource: s.embrCurrentSource,
+      senDepthMm: s.senDepthMm,
+      senDepthSource: s.senDepthSource,
+      argonNlPerMin: s.argonNlPerMin,
+      argonSource: s.argonSource,
+      moldLevelSdMm: s.moldLevelSdMm,
+      moldLevelSdSource: s.moldLevelSdSource,
+      sampleCount: s.sampleCount,
+      throughputTPerMin: s.throughputTPerMin,
+      moldDwellMin: s.moldDwellMin,
+      shellExitMm: s.shellExitMm,
+      metallurgicalLengthM: s.metallurgicalLengthM,
+      embrFieldT: s.embrFieldT,
+      senPortVelocityMPerS: s.senPortVelocityMPerS,
+      stuartNumber: s.stuartNumber,
+      hartmannNumber: s.hartmannNumber,
     }),
     defects: defects.map((d) => ({ ...d, foundAt: iso(d.foundAt)!, note: d.note ?? null, causes: causes.get(d.id) ?? [] })) as SlabDetail["defects"],
     risks: risksOfSlabs(db, [s.id as number]).get(s.id as number) ?? [],

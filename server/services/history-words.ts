@@ -69,7 +69,8 @@ function defectChanges(before: Json | null, after: Json | null, ctx: WordsContex
     if (key === "severity") parts.push(`severity ${before[key] ?? "—"} → ${after[key] ?? "—"}`);
     else if (key === "type_id") parts.push(`type ${ctx.typeCode(before[key]) ?? "—"} → ${ctx.typeCode(after[key]) ?? "—"}`);
     else if (key === "disposition") parts.push(`disposition ${dispositionWords(before[key])} → ${dispositionWords(after[key])}`);
-    else if (key === "face") parts.push(`face ${(FACE_LABELS[before[key] as Face] ?? "—").toLowerCase()} → ${(FACE_LABELS[after[key] as Face] ?? "—").toLowerCase()}`);
+    else if (key === "face")
+      parts.push(`face ${(FACE_LABELS[before[key] as Face] ?? "—").toLowerCase()} → ${(FACE_LABELS[after[key] as Face] ?? "—").toLowerCase()}`);
     else parts.push(word);
   }
   return parts.length ? `: ${list(parts)}` : "";

@@ -22,7 +22,20 @@ import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, STAGE_LABELS, type Di
 import { VARIABLES } from "@shared/variables";
 import type { Db } from "../db/client";
 import { badRequest, notFound } from "../lib/http-error";
-import { addItemSheet, addTableSheet, newWorkbook, workbookBuffer, D1, D2, D3, D4, DT, N0, type SheetColumn as Col, type TableLook } from "../lib/workbook-sheets";
+import {
+  addItemSheet,
+  addTableSheet,
+  newWorkbook,
+  workbookBuffer,
+  D1,
+  D2,
+  D3,
+  D4,
+  DT,
+  N0,
+  type SheetColumn as Col,
+  type TableLook,
+} from "../lib/workbook-sheets";
 import { auditWords } from "./history-words";
 
 type Row = Record<string, any>;
@@ -62,10 +75,20 @@ export const SLAB_CONDITIONS: { key: string; label: string; unit: string; source
 ];
 
 const ELEMENTS: [string, string, string][] = [
-  ["c_pct", "Carbon (C)", "wt %"], ["si_pct", "Silicon (Si)", "wt %"], ["mn_pct", "Manganese (Mn)", "wt %"], ["p_pct", "Phosphorus (P)", "wt %"],
-  ["s_pct", "Sulphur (S)", "wt %"], ["al_pct", "Aluminium (Al)", "wt %"], ["cu_pct", "Copper (Cu)", "wt %"], ["ni_pct", "Nickel (Ni)", "wt %"],
-  ["cr_pct", "Chromium (Cr)", "wt %"], ["mo_pct", "Molybdenum (Mo)", "wt %"], ["ti_pct", "Titanium (Ti)", "wt %"], ["nb_pct", "Niobium (Nb)", "wt %"],
-  ["v_pct", "Vanadium (V)", "wt %"], ["n_ppm", "Nitrogen (N)", "ppm"],
+  ["c_pct", "Carbon (C)", "wt %"],
+  ["si_pct", "Silicon (Si)", "wt %"],
+  ["mn_pct", "Manganese (Mn)", "wt %"],
+  ["p_pct", "Phosphorus (P)", "wt %"],
+  ["s_pct", "Sulphur (S)", "wt %"],
+  ["al_pct", "Aluminium (Al)", "wt %"],
+  ["cu_pct", "Copper (Cu)", "wt %"],
+  ["ni_pct", "Nickel (Ni)", "wt %"],
+  ["cr_pct", "Chromium (Cr)", "wt %"],
+  ["mo_pct", "Molybdenum (Mo)", "wt %"],
+  ["ti_pct", "Titanium (Ti)", "wt %"],
+  ["nb_pct", "Niobium (Nb)", "wt %"],
+  ["v_pct", "Vanadium (V)", "wt %"],
+  ["n_ppm", "Nitrogen (N)", "ppm"],
 ];
 
 const inList = (ids: number[]) => (ids.length ? `(${ids.map((x) => Math.trunc(x)).join(",")})` : "(null)");
@@ -99,12 +122,22 @@ function coverOf(db: Db, hist: FullHistory, claimId: number, preparedBy: string)
   const c = sqlite.prepare("select * from claims where id = ?").get(claimId) as Row | undefined;
   if (!c) throw notFound("There is no such claim (it may have been deleted).");
   const slabs = sqlite
-    .prepare("select s.slab_id from claim_slabs cs join slabs s on s.id = cs.slab_id join heats h on h.id = s.heat_id where cs.claim_id = ? and h.heat_no = ? order by s.slab_id")
+    .prepare(
+      "select s.slab_id from claim_slabs cs join slabs s on s.id = cs.slab_id join heats h on h.id = s.heat_id where cs.claim_id = ? and h.heat_no = ? order by s.slab_id",
+    )
     .pluck()
     .all(claimId, hist.heat.heatNo) as string[];
-  if (!slabs.length) throw badRequest(`Claim ${c.claim_no} has no slab of heat ${hist.heat.heatNo}: link the slab to the claim first, or prepare the history without the claim.`, { field: "claim" }, "claim_not_on_heat");
+  if (!slabs.length)
+    throw badRequest(
+      `Claim ${c.claim_no} has no slab of heat ${hist.heat.heatNo}: link the slab to the claim first, or prepare the history without the claim.`,
+      { field: "claim" },
+      "claim_not_on_heat",
+    );
   const ofHeat = new Set(hist.slabs.flatMap((s) => s.products));
-  const products = String(c.product_ids ?? "").split(",").map((x) => x.trim()).filter(Boolean);
+  const products = String(c.product_ids ?? "")
+    .split(",")
+    .map((x) => x.trim())
+    .filter(Boolean);
   return {
     claimNo: c.claim_no,
     customer: c.customer,
@@ -211,7 +244,9 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
     )
     .all(h.id) as Row[];
   const defectIds = defects.map((d) => d.id as number);
-  const photos = sqlite.prepare(`select id, defect_id from defect_photos where deleted_at is null and defect_id in ${inList(defectIds)} order by created_at, id`).all() as Row[];
+  const photos = sqlite
+    .prepare(`select id, defect_id from defect_photos where deleted_at is null and defect_id in ${inList(defectIds)} order by created_at, id`)
+    .all() as Row[];
   const causes = sqlite
     .prepare(
       `select dc.*, t.code, t.name, s.slab_id as slabCode, cu.name as byName, ru.name as removedByName from defect_causes dc join cause_tags t on t.id = dc.tag_id
@@ -222,7 +257,10 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
   const strands = [...new Set(slabs.map((s) => s.strand_id as number))];
   const end = h.cast_end ?? h.cast_start + 4 * 3600_000;
   const sampleCount = strands.length
-    ? (sqlite.prepare(`select count(*) from process_samples where strand_id in ${inList(strands)} and sampled_at between ? and ?`).pluck().get(h.cast_start, end) as number)
+    ? (sqlite
+        .prepare(`select count(*) from process_samples where strand_id in ${inList(strands)} and sampled_at between ? and ?`)
+        .pluck()
+        .get(h.cast_start, end) as number)
     : 0;
 
   // Investigations and claims on this heat, or on another heat of its sequence.
@@ -248,8 +286,18 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
     .prepare(
       `select a.*, coalesce(a.user_name, u.name, a.actor) as byName from audit_log a left join user u on u.id = a.user_id
        where (a.entity = 'defect' and a.entity_id in (${defectIds.map((d) => `'${d}'`).join(",") || "null"}))
-          or (a.entity = 'investigation' and a.entity_id in (${investigations.filter((i) => i.sameHeat).map((i) => `'${i.id}'`).join(",") || "null"}))
-          or (a.entity = 'claim' and a.entity_id in (${claims.filter((c) => c.sameHeat).map((c) => `'${c.id}'`).join(",") || "null"}))
+          or (a.entity = 'investigation' and a.entity_id in (${
+            investigations
+              .filter((i) => i.sameHeat)
+              .map((i) => `'${i.id}'`)
+              .join(",") || "null"
+          }))
+          or (a.entity = 'claim' and a.entity_id in (${
+            claims
+              .filter((c) => c.sameHeat)
+              .map((c) => `'${c.id}'`)
+              .join(",") || "null"
+          }))
           or (a.entity = 'defect_selection' and a.entity_id = @heatNo)
        order by a.at, a.id`,
     )
@@ -258,7 +306,8 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
   const live = new Map<number, string[]>();
   for (const c of causes) if (c.removed_at == null) live.set(c.defect_id, [...(live.get(c.defect_id) ?? []), c.code]);
   const photosOf = new Map<number, HeatHistory["defects"][number]["photos"]>();
-  for (const p of photos) photosOf.set(p.defect_id, [...(photosOf.get(p.defect_id) ?? []), { id: p.id, url: `/api/photos/${p.id}`, thumbUrl: `/api/photos/${p.id}/thumb` }]);
+  for (const p of photos)
+    photosOf.set(p.defect_id, [...(photosOf.get(p.defect_id) ?? []), { id: p.id, url: `/api/photos/${p.id}`, thumbUrl: `/api/photos/${p.id}/thumb` }]);
   // What the audit trail's sentences call each record.
   const defectName = new Map(defects.map((d) => [String(d.id), `${d.typeCode} on slab ${d.slabCode}`]));
   const invRefs = new Map(investigations.map((i) => [String(i.id), String(i.ref)]));
@@ -287,7 +336,13 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
       castStart: iso(h.cast_start)!,
       castEnd: iso(h.cast_end),
       ladleWeightT: h.ladle_weight_t ?? null,
-      conditions: HEAT_CONDITIONS.map((c) => ({ key: c.key, label: c.label, unit: c.unit, value: shown(c.key, h[c.col]), source: c.source ? (h[c.source] ?? null) : h[c.col] == null ? null : "heat record" })),
+      conditions: HEAT_CONDITIONS.map((c) => ({
+        key: c.key,
+        label: c.label,
+        unit: c.unit,
+        value: shown(c.key, h[c.col]),
+        source: c.source ? (h[c.source] ?? null) : h[c.col] == null ? null : "heat record",
+      })),
       chemistry: ELEMENTS.map(([key, element, unit]) => ({ key, element, unit, value: h[key] ?? null })),
     },
     slabs: slabs.map((s) => ({
@@ -306,22 +361,72 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
       products: products.filter((p) => p.slab_id === s.id).map((p) => p.product_id),
     })),
     defects: defects.map((d) => ({
-      id: d.id, slabId: d.slabCode, type: d.typeCode, typeName: d.typeName, face: d.face, positionAlongMm: d.position_along_mm, positionAcrossMm: d.position_across_mm,
-      lengthMm: d.length_mm, widthMm: d.width_mm, depthMm: d.depth_mm, severity: d.severity, stage: d.stage, disposition: d.disposition, reviewStatus: d.review_status,
-      foundAt: iso(d.found_at)!, loggedBy: d.byName ?? null, note: d.note ?? null, causes: live.get(d.id) ?? [], photos: photosOf.get(d.id) ?? [],
+      id: d.id,
+      slabId: d.slabCode,
+      type: d.typeCode,
+      typeName: d.typeName,
+      face: d.face,
+      positionAlongMm: d.position_along_mm,
+      positionAcrossMm: d.position_across_mm,
+      lengthMm: d.length_mm,
+      widthMm: d.width_mm,
+      depthMm: d.depth_mm,
+      severity: d.severity,
+      stage: d.stage,
+      disposition: d.disposition,
+      reviewStatus: d.review_status,
+      foundAt: iso(d.found_at)!,
+      loggedBy: d.byName ?? null,
+      note: d.note ?? null,
+      causes: live.get(d.id) ?? [],
+      photos: photosOf.get(d.id) ?? [],
     })),
-    causes: causes.map((c) => ({ defectId: c.defect_id, slabId: c.slabCode, tag: c.code, tagName: c.name, confidence: c.confidence, note: c.note ?? null, by: c.byName ?? null, at: iso(c.created_at)!, removedAt: iso(c.removed_at), removedBy: c.removedByName ?? null })),
+    causes: causes.map((c) => ({
+      defectId: c.defect_id,
+      slabId: c.slabCode,
+      tag: c.code,
+      tagName: c.name,
+      confidence: c.confidence,
+      note: c.note ?? null,
+      by: c.byName ?? null,
+      at: iso(c.created_at)!,
+      removedAt: iso(c.removed_at),
+      removedBy: c.removedByName ?? null,
+    })),
     samples: { count: sampleCount, strands: [...new Set(slabs.map((s) => s.strand_no as number))] },
-    investigations: investigations.map((i) => ({ id: i.id, ref: i.ref, title: i.title, status: i.status, openedAt: iso(i.opened_at)!, closedAt: iso(i.closed_at), confirmedCause: i.causeName ?? null, owner: i.ownerName ?? null, sameHeat: Boolean(i.sameHeat) })),
-    claims: claims.map((c) => ({ id: c.id, claimNo: c.claim_no, customer: c.customer, receivedOn: c.received_on, defectComplained: c.defect_complained, status: c.status, quantityT: c.quantity_t ?? null, sameHeat: Boolean(c.sameHeat), slabs: c.slabCodes ? String(c.slabCodes).split(",") : [] })),
+    investigations: investigations.map((i) => ({
+      id: i.id,
+      ref: i.ref,
+      title: i.title,
+      status: i.status,
+      openedAt: iso(i.opened_at)!,
+      closedAt: iso(i.closed_at),
+      confirmedCause: i.causeName ?? null,
+      owner: i.ownerName ?? null,
+      sameHeat: Boolean(i.sameHeat),
+    })),
+    claims: claims.map((c) => ({
+      id: c.id,
+      claimNo: c.claim_no,
+      customer: c.customer,
+      receivedOn: c.received_on,
+      defectComplained: c.defect_complained,
+      status: c.status,
+      quantityT: c.quantity_t ?? null,
+      sameHeat: Boolean(c.sameHeat),
+      slabs: c.slabCodes ? String(c.slabCodes).split(",") : [],
+    })),
     audit: audit.map((a) => ({
       at: iso(a.at)!,
       by: a.byName ?? null,
       what: auditWords({ action: a.action, entity: a.entity, entityId: a.entity_id ?? null, before: a.before, after: a.after }, words),
       scope: (a.entity === "defect_selection" || String(a.action).startsWith("defect.causes")
         ? "causes"
-        : ["defect", "investigation", "claim"].includes(a.entity) ? a.entity : "other") as ScopedAudit["scope"],
-      record: a.entity === "claim" ? (claimNos.get(String(a.entity_id)) ?? null) : a.entity === "investigation" ? (invRefs.get(String(a.entity_id)) ?? null) : null,
+        : ["defect", "investigation", "claim"].includes(a.entity)
+          ? a.entity
+          : "other") as ScopedAudit["scope"],
+      record:
+        a.entity === "claim" ? (claimNos.get(String(a.entity_id)) ?? null) : a.entity === "investigation" ? (invRefs.get(String(a.entity_id)) ?? null) : null,
     })),
   };
 }
@@ -330,15 +435,27 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
 export function trace(db: Db, q: string): Trace {
   const sqlite = db.$client;
   const id = q.trim().toUpperCase();
-  const product = sqlite.prepare("select p.*, s.slab_id as slabCode, h.heat_no from products p join slabs s on s.id = p.slab_id join heats h on h.id = s.heat_id where p.product_id = ?").get(id) as Row | undefined;
+  const product = sqlite
+    .prepare(
+      "select p.*, s.slab_id as slabCode, h.heat_no from products p join slabs s on s.id = p.slab_id join heats h on h.id = s.heat_id where p.product_id = ?",
+    )
+    .get(id) as Row | undefined;
   if (product) {
-    return { query: q, found: product.kind === "plate" ? "plate" : "coil", product: { productId: product.product_id, kind: product.kind, rolledAt: iso(product.rolled_at), weightT: product.weight_t ?? null }, slabId: product.slabCode, history: heatHistory(db, product.heat_no) };
+    return {
+      query: q,
+      found: product.kind === "plate" ? "plate" : "coil",
+      product: { productId: product.product_id, kind: product.kind, rolledAt: iso(product.rolled_at), weightT: product.weight_t ?? null },
+      slabId: product.slabCode,
+      history: heatHistory(db, product.heat_no),
+    };
   }
   const slab = sqlite.prepare("select s.slab_id, h.heat_no from slabs s join heats h on h.id = s.heat_id where s.slab_id = ?").get(id) as Row | undefined;
   if (slab) return { query: q, found: "slab", product: null, slabId: slab.slab_id, history: heatHistory(db, slab.heat_no) };
   const heat = sqlite.prepare("select heat_no from heats where heat_no = ?").pluck().get(id) as string | undefined;
   if (heat) return { query: q, found: "heat", product: null, slabId: null, history: heatHistory(db, heat) };
-  throw notFound(`Nothing on record is called ${id}: no coil or plate (rolling-mill trace), slab or heat. Check the id, or import the rolling mill's coil list.`);
+  throw notFound(
+    `Nothing on record is called ${id}: no coil or plate (rolling-mill trace), slab or heat. Check the id, or import the rolling mill's coil list.`,
+  );
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -361,7 +478,15 @@ function table(wb: ExcelJS.Workbook, name: string, columns: Col[], rows: Record<
 }
 
 function printSetup(ws: ExcelJS.Worksheet, title: string) {
-  ws.pageSetup = { paperSize: 9, orientation: "landscape", fitToPage: true, fitToWidth: 1, fitToHeight: 0, printTitlesRow: "1:1", margins: { left: 0.5, right: 0.5, top: 0.7, bottom: 0.7, header: 0.3, footer: 0.3 } };
+  ws.pageSetup = {
+    paperSize: 9,
+    orientation: "landscape",
+    fitToPage: true,
+    fitToWidth: 1,
+    fitToHeight: 0,
+    printTitlesRow: "1:1",
+    margins: { left: 0.5, right: 0.5, top: 0.7, bottom: 0.7, header: 0.3, footer: 0.3 },
+  };
   ws.headerFooter = { oddHeader: `&L${title.replace(/&/g, "&&")}&R&A`, oddFooter: "&LStrandsight&RPage &P of &N" };
 }
 
@@ -417,10 +542,22 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   add("Ladle weight (t)", h.ladleWeightT, D1);
   if (on("slabs")) add("Slabs", hist.slabs.length, N0);
   if (on("slabs") && on("dispositions")) {
-    add("Slab dispositions", worst.length ? Object.entries(worst.reduce<Record<string, number>>((m, d) => ((m[d] = (m[d] ?? 0) + 1), m), {})).map(([d, c]) => `${DISPOSITION_LABELS[d as Disposition] ?? d}: ${c}`).join(", ") : "none recorded");
+    add(
+      "Slab dispositions",
+      worst.length
+        ? Object.entries(worst.reduce<Record<string, number>>((m, d) => ((m[d] = (m[d] ?? 0) + 1), m), {}))
+            .map(([d, c]) => `${DISPOSITION_LABELS[d as Disposition] ?? d}: ${c}`)
+            .join(", ")
+        : "none recorded",
+    );
   }
   if (on("defects")) add(customer ? "Defects" : "Defects (live)", hist.defects.length, N0);
-  if (on("slabs") && !customer) add("Coils and plates traced", hist.slabs.reduce((n, s) => n + s.products.length, 0), N0);
+  if (on("slabs") && !customer)
+    add(
+      "Coils and plates traced",
+      hist.slabs.reduce((n, s) => n + s.products.length, 0),
+      N0,
+    );
   if (on("investigations")) add(customer ? "Investigations (this heat)" : "Investigations (this heat or sequence)", hist.investigations.length, N0);
   if (on("claims")) add("Claims (this heat or sequence)", hist.claims.length, N0);
   if (on("samples") && hist.samples) add("Process samples in the cast window", hist.samples.count, N0);
@@ -428,15 +565,24 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   add(customer ? "Prepared" : "Generated", date(hist.generatedAt), DT);
   if (!customer) add("Generated by", opts.by);
   add("Times", "UTC");
-  add("Caution", "This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.");
+  add(
+    "Caution",
+    "This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.",
+  );
   printSetup(sum, title);
 
   if (on("chemistry")) {
-    table(wb, "Chemistry", [
-      { header: "Element", key: "element", width: 22 },
-      { header: "Content", key: "value", numFmt: D4 },
-      { header: "Unit", key: "unit" },
-    ], h.chemistry.filter((c) => c.value != null), title);
+    table(
+      wb,
+      "Chemistry",
+      [
+        { header: "Element", key: "element", width: 22 },
+        { header: "Content", key: "value", numFmt: D4 },
+        { header: "Unit", key: "unit" },
+      ],
+      h.chemistry.filter((c) => c.value != null),
+      title,
+    );
   }
 
   // Casting conditions: the heat's own values, then each slab's resolved values with their sources.
@@ -454,17 +600,23 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
       heatRow[c.key] = c.value;
       heatRow[`${c.key}__src`] = source(c.source);
     }
-    table(wb, "Casting conditions", condCols, [
-      heatRow,
-      ...(on("slabs") ? hist.slabs : []).map((s) => {
-        const r: Record<string, unknown> = { level: "slab", slab: s.slabId };
-        for (const c of s.conditions) {
-          r[c.key] = c.value;
-          r[`${c.key}__src`] = source(c.source);
-        }
-        return r;
-      }),
-    ], title);
+    table(
+      wb,
+      "Casting conditions",
+      condCols,
+      [
+        heatRow,
+        ...(on("slabs") ? hist.slabs : []).map((s) => {
+          const r: Record<string, unknown> = { level: "slab", slab: s.slabId };
+          for (const c of s.conditions) {
+            r[c.key] = c.value;
+            r[`${c.key}__src`] = source(c.source);
+          }
+          return r;
+        }),
+      ],
+      title,
+    );
   }
 
   // Process samples of the heat's strands during its cast (the internal edition only).
@@ -477,34 +629,52 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
          where p.strand_id in (select distinct strand_id from slabs where heat_id = ?) and p.sampled_at between ? and ? order by st.strand_no, p.sampled_at`,
       )
       .all(heatRow2.id, heatRow2.cast_start, heatRow2.cast_end ?? heatRow2.cast_start + 4 * 3600_000) as Row[];
-    table(wb, "Process samples", [
-      { header: "Strand", key: "strand_no" },
-      { header: "Time (UTC)", key: "time", numFmt: DT, width: 18 },
-      { header: "Cast length (m)", key: "cast_length_m", numFmt: D2 },
-      { header: "Casting speed (m/min)", key: "casting_speed_m_min", numFmt: D3 },
-      { header: "Tundish temperature (°C)", key: "tundish_temp_c", numFmt: D1 },
-      { header: "EMBr current (A)", key: "embr_current_a", numFmt: D1 },
-      { header: "SEN depth (mm)", key: "sen_depth_mm", numFmt: D1 },
-      { header: "Argon (NL/min)", key: "argon_nl_min", numFmt: D2 },
-      { header: "Mold level (mm)", key: "mold_level_mm", numFmt: D2 },
-    ], samples.map((s) => ({ ...s, time: new Date(s.sampled_at) })), title);
+    table(
+      wb,
+      "Process samples",
+      [
+        { header: "Strand", key: "strand_no" },
+        { header: "Time (UTC)", key: "time", numFmt: DT, width: 18 },
+        { header: "Cast length (m)", key: "cast_length_m", numFmt: D2 },
+        { header: "Casting speed (m/min)", key: "casting_speed_m_min", numFmt: D3 },
+        { header: "Tundish temperature (°C)", key: "tundish_temp_c", numFmt: D1 },
+        { header: "EMBr current (A)", key: "embr_current_a", numFmt: D1 },
+        { header: "SEN depth (mm)", key: "sen_depth_mm", numFmt: D1 },
+        { header: "Argon (NL/min)", key: "argon_nl_min", numFmt: D2 },
+        { header: "Mold level (mm)", key: "mold_level_mm", numFmt: D2 },
+      ],
+      samples.map((s) => ({ ...s, time: new Date(s.sampled_at) })),
+      title,
+    );
   }
 
   if (on("slabs")) {
-    table(wb, "Slabs", [
-      { header: "Slab", key: "slabId", width: 16 },
-      { header: "Strand", key: "strand" },
-      { header: "Piece", key: "pieceNo" },
-      { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
-      { header: "Width (mm)", key: "widthMm", numFmt: N0 },
-      { header: "Thickness (mm)", key: "thicknessMm", numFmt: N0 },
-      { header: "Weight (t)", key: "weightT", numFmt: D2 },
-      { header: "Cast at (UTC)", key: "castAt", numFmt: DT, width: 18 },
-      { header: "Transition slab", key: "transition" },
-      ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 14 }] : []),
-      { header: "Defects", key: "defects", numFmt: N0 },
-      { header: customer ? "Coils / plates of the claim" : "Coils / plates", key: "products", width: 24 },
-    ], hist.slabs.map((s) => ({ ...s, castAt: date(s.castAt), transition: s.transition ? "yes" : "no", disposition: s.disposition ? (DISPOSITION_LABELS[s.disposition as Disposition] ?? s.disposition) : null, products: s.products.join(", ") })), title);
+    table(
+      wb,
+      "Slabs",
+      [
+        { header: "Slab", key: "slabId", width: 16 },
+        { header: "Strand", key: "strand" },
+        { header: "Piece", key: "pieceNo" },
+        { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
+        { header: "Width (mm)", key: "widthMm", numFmt: N0 },
+        { header: "Thickness (mm)", key: "thicknessMm", numFmt: N0 },
+        { header: "Weight (t)", key: "weightT", numFmt: D2 },
+        { header: "Cast at (UTC)", key: "castAt", numFmt: DT, width: 18 },
+        { header: "Transition slab", key: "transition" },
+        ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 14 }] : []),
+        { header: "Defects", key: "defects", numFmt: N0 },
+        { header: customer ? "Coils / plates of the claim" : "Coils / plates", key: "products", width: 24 },
+      ],
+      hist.slabs.map((s) => ({
+        ...s,
+        castAt: date(s.castAt),
+        transition: s.transition ? "yes" : "no",
+        disposition: s.disposition ? (DISPOSITION_LABELS[s.disposition as Disposition] ?? s.disposition) : null,
+        products: s.products.join(", "),
+      })),
+      title,
+    );
   }
 
   // Defects, with up to three photo thumbnails embedded each (links to the full photos) and a link to the slab.
@@ -526,22 +696,33 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
       ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 12 }] : []),
       ...(customer ? [] : [{ header: "Review", key: "reviewStatus" }]),
       { header: "Found (UTC)", key: "foundAt", numFmt: DT, width: 18 },
-      ...(customer ? [] : [{ header: "Logged by", key: "loggedBy", width: 24 }, { header: "Note", key: "note", width: 36 }]),
+      ...(customer
+        ? []
+        : [
+            { header: "Logged by", key: "loggedBy", width: 24 },
+            { header: "Note", key: "note", width: 36 },
+          ]),
       ...(on("causes") ? [{ header: customer ? "Causes" : "Causes (live)", key: "causes", width: 26 }] : []),
       ...(on("photos") ? [{ header: "Photos", key: "photoCount" }] : []),
       ...Array.from({ length: photoSlots }, (_, k) => ({ header: `Photo ${k + 1}`, key: `photo${k}`, width: 16 })),
     ];
-    const defWs = table(wb, "Defects", defCols, hist.defects.map((d) => ({
-      ...d,
-      slab: linked(d.slabId, `/slabs/${encodeURIComponent(d.slabId)}`),
-      face: FACE_LABELS[d.face as Face] ?? d.face,
-      severity: `${d.severity} ${SEVERITY_LABELS[d.severity as Severity] ?? ""}`.trim(),
-      stage: STAGE_LABELS[d.stage as Stage] ?? d.stage,
-      disposition: d.disposition ? (DISPOSITION_LABELS[d.disposition as Disposition] ?? d.disposition) : null,
-      foundAt: date(d.foundAt),
-      causes: d.causes.join(", "),
-      photoCount: d.photos.length,
-    })), title);
+    const defWs = table(
+      wb,
+      "Defects",
+      defCols,
+      hist.defects.map((d) => ({
+        ...d,
+        slab: linked(d.slabId, `/slabs/${encodeURIComponent(d.slabId)}`),
+        face: FACE_LABELS[d.face as Face] ?? d.face,
+        severity: `${d.severity} ${SEVERITY_LABELS[d.severity as Severity] ?? ""}`.trim(),
+        stage: STAGE_LABELS[d.stage as Stage] ?? d.stage,
+        disposition: d.disposition ? (DISPOSITION_LABELS[d.disposition as Disposition] ?? d.disposition) : null,
+        foundAt: date(d.foundAt),
+        causes: d.causes.join(", "),
+        photoCount: d.photos.length,
+      })),
+      title,
+    );
     const firstPhotoCol = defCols.findIndex((c) => c.key === "photo0");
     const thumbOf = sqlite.prepare("select thumb_file from defect_photos where id = ?").pluck();
     hist.defects.forEach((d, i) => {
@@ -559,55 +740,84 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   }
 
   if (on("causes")) {
-    table(wb, "Causes", [
-      { header: customer ? "Defect No." : "Defect id", key: "defectId" },
-      { header: "Slab", key: "slabId", width: 16 },
-      ...(customer ? [] : [{ header: "Cause tag", key: "tag", width: 24 }]),
-      { header: "Cause", key: "tagName", width: 28 },
-      { header: "Confidence", key: "confidence" },
-      ...(customer
-        ? [{ header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 }]
-        : [
-            { header: "Note", key: "note", width: 36 },
-            { header: "Tagged by", key: "by", width: 24 },
-            { header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 },
-            { header: "Removed (UTC)", key: "removedAt", numFmt: DT, width: 18 },
-            { header: "Removed by", key: "removedBy", width: 24 },
-          ]),
-    ], hist.causes.map((c) => ({ ...c, at: date(c.at), removedAt: date(c.removedAt) })), title);
+    table(
+      wb,
+      "Causes",
+      [
+        { header: customer ? "Defect No." : "Defect id", key: "defectId" },
+        { header: "Slab", key: "slabId", width: 16 },
+        ...(customer ? [] : [{ header: "Cause tag", key: "tag", width: 24 }]),
+        { header: "Cause", key: "tagName", width: 28 },
+        { header: "Confidence", key: "confidence" },
+        ...(customer
+          ? [{ header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 }]
+          : [
+              { header: "Note", key: "note", width: 36 },
+              { header: "Tagged by", key: "by", width: 24 },
+              { header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 },
+              { header: "Removed (UTC)", key: "removedAt", numFmt: DT, width: 18 },
+              { header: "Removed by", key: "removedBy", width: 24 },
+            ]),
+      ],
+      hist.causes.map((c) => ({ ...c, at: date(c.at), removedAt: date(c.removedAt) })),
+      title,
+    );
   }
 
   if (on("investigations")) {
-    table(wb, "Investigations", [
-      { header: "Reference", key: "ref", width: 14 },
-      { header: "Title", key: "title", width: 40 },
-      { header: "Status", key: "status" },
-      { header: "Opened (UTC)", key: "openedAt", numFmt: DT, width: 18 },
-      { header: "Closed (UTC)", key: "closedAt", numFmt: DT, width: 18 },
-      { header: "Confirmed cause", key: "confirmedCause", width: 26 },
-      ...(customer ? [] : [{ header: "Owner", key: "owner", width: 24 }, { header: "On this heat", key: "sameHeat" }]),
-    ], hist.investigations.map((i) => ({ ...i, openedAt: date(i.openedAt), closedAt: date(i.closedAt), sameHeat: i.sameHeat ? "yes" : "no (same sequence)" })), title);
+    table(
+      wb,
+      "Investigations",
+      [
+        { header: "Reference", key: "ref", width: 14 },
+        { header: "Title", key: "title", width: 40 },
+        { header: "Status", key: "status" },
+        { header: "Opened (UTC)", key: "openedAt", numFmt: DT, width: 18 },
+        { header: "Closed (UTC)", key: "closedAt", numFmt: DT, width: 18 },
+        { header: "Confirmed cause", key: "confirmedCause", width: 26 },
+        ...(customer
+          ? []
+          : [
+              { header: "Owner", key: "owner", width: 24 },
+              { header: "On this heat", key: "sameHeat" },
+            ]),
+      ],
+      hist.investigations.map((i) => ({ ...i, openedAt: date(i.openedAt), closedAt: date(i.closedAt), sameHeat: i.sameHeat ? "yes" : "no (same sequence)" })),
+      title,
+    );
   }
 
   if (on("claims")) {
-    table(wb, "Claims", [
-      { header: "Claim", key: "claimNo", width: 14 },
-      { header: "Customer", key: "customer", width: 28 },
-      { header: "Received", key: "receivedOn", width: 12 },
-      { header: "Defect complained of", key: "defectComplained", width: 36 },
-      { header: "Quantity (t)", key: "quantityT", numFmt: D1 },
-      { header: "Status", key: "status" },
-      { header: "On this heat", key: "sameHeat" },
-      { header: "Slabs of this heat", key: "slabs", width: 30 },
-    ], hist.claims.map((c) => ({ ...c, sameHeat: c.sameHeat ? "yes" : "no (same sequence)", slabs: c.slabs.join(", ") })), title);
+    table(
+      wb,
+      "Claims",
+      [
+        { header: "Claim", key: "claimNo", width: 14 },
+        { header: "Customer", key: "customer", width: 28 },
+        { header: "Received", key: "receivedOn", width: 12 },
+        { header: "Defect complained of", key: "defectComplained", width: 36 },
+        { header: "Quantity (t)", key: "quantityT", numFmt: D1 },
+        { header: "Status", key: "status" },
+        { header: "On this heat", key: "sameHeat" },
+        { header: "Slabs of this heat", key: "slabs", width: 30 },
+      ],
+      hist.claims.map((c) => ({ ...c, sameHeat: c.sameHeat ? "yes" : "no (same sequence)", slabs: c.slabs.join(", ") })),
+      title,
+    );
   }
 
   if (on("audit")) {
-    table(wb, customer ? "Record of changes" : "Audit trail", [
-      { header: "When (UTC)", key: "at", numFmt: DT, width: 18 },
-      ...(customer ? [] : [{ header: "Who", key: "by", width: 24 }]),
-      { header: "What", key: "what", width: 90 },
-    ], hist.audit.map((a) => ({ ...a, at: date(a.at) })), title);
+    table(
+      wb,
+      customer ? "Record of changes" : "Audit trail",
+      [
+        { header: "When (UTC)", key: "at", numFmt: DT, width: 18 },
+        ...(customer ? [] : [{ header: "Who", key: "by", width: 24 }]),
+        { header: "What", key: "what", width: 90 },
+      ],
+      hist.audit.map((a) => ({ ...a, at: date(a.at) })),
+      title,
+    );
   }
 
   return workbookBuffer(wb);

@@ -95,9 +95,18 @@ export function runImport(db: Db, req: ImportRequest, timings?: Record<string, n
          values (@kind, @source, @fileName, @format, @sha256, @rows, @created, @updated, @unchanged, @slabsResolved, @userId, @tokenId, @started, @finished)`,
       )
       .run({
-        kind: req.kind, source: req.source, fileName: req.fileName, format: req.table.format, sha256: req.sha256, rows: rows.length,
-        ...result.counts, slabsResolved: result.slabsResolved, userId: req.by.userId ?? null, tokenId: req.by.tokenId ?? null,
-        started, finished,
+        kind: req.kind,
+        source: req.source,
+        fileName: req.fileName,
+        format: req.table.format,
+        sha256: req.sha256,
+        rows: rows.length,
+        ...result.counts,
+        slabsResolved: result.slabsResolved,
+        userId: req.by.userId ?? null,
+        tokenId: req.by.tokenId ?? null,
+        started,
+        finished,
       });
     result.importId = Number(run.lastInsertRowid);
     recordAudit(db, {
@@ -142,18 +151,49 @@ export function listImportRuns(db: Db, limit = 20): ImportRun[] {
 
 const EXAMPLES: Record<ImportKind, Record<string, string | number | boolean | Date>> = {
   heats: {
-    heat_no: "X260001", sequence_no: "S26-9001", caster: "CC2", grade: "LV-ST32", cast_start: new Date(Date.UTC(2026, 10, 3, 14, 20)),
-    cast_end: new Date(Date.UTC(2026, 10, 3, 14, 52)), ladle_weight_t: 215, casting_speed_m_min: 1.45, tundish_temp_c: 1545,
-    embr_current_a: 350, sen_depth_mm: 160, argon_nl_min: 8, mold_level_sd_mm: 2.4, c_pct: 0.12, si_pct: 0.2, mn_pct: 0.9,
-    p_pct: 0.015, s_pct: 0.008, al_pct: 0.03, n_ppm: 55,
+    heat_no: "X260001",
+    sequence_no: "S26-9001",
+    caster: "CC2",
+    grade: "LV-ST32",
+    cast_start: new Date(Date.UTC(2026, 10, 3, 14, 20)),
+    cast_end: new Date(Date.UTC(2026, 10, 3, 14, 52)),
+    ladle_weight_t: 215,
+    casting_speed_m_min: 1.45,
+    tundish_temp_c: 1545,
+    embr_current_a: 350,
+    sen_depth_mm: 160,
+    argon_nl_min: 8,
+    mold_level_sd_mm: 2.4,
+    c_pct: 0.12,
+    si_pct: 0.2,
+    mn_pct: 0.9,
+    p_pct: 0.015,
+    s_pct: 0.008,
+    al_pct: 0.03,
+    n_ppm: 55,
   },
   slabs: {
-    slab_id: "X260001-101", heat_no: "X260001", strand: 1, piece_no: 1, length_mm: 10200, width_mm: 1500, thickness_mm: 230,
-    cast_length_start_m: 0, transition: false,
+    slab_id: "X260001-101",
+    heat_no: "X260001",
+    strand: 1,
+    piece_no: 1,
+    length_mm: 10200,
+    width_mm: 1500,
+    thickness_mm: 230,
+    cast_length_start_m: 0,
+    transition: false,
   },
   "process-samples": {
-    caster: "CC2", strand: 1, time: new Date(Date.UTC(2026, 10, 3, 14, 20, 20)), cast_length_m: 0.5, casting_speed_m_min: 1.44,
-    tundish_temp_c: 1546, embr_current_a: 351, sen_depth_mm: 160, argon_nl_min: 8.1, mold_level_mm: -1.2,
+    caster: "CC2",
+    strand: 1,
+    time: new Date(Date.UTC(2026, 10, 3, 14, 20, 20)),
+    cast_length_m: 0.5,
+    casting_speed_m_min: 1.44,
+    tundish_temp_c: 1546,
+    embr_current_a: 351,
+    sen_depth_mm: 160,
+    argon_nl_min: 8.1,
+    mold_level_mm: -1.2,
   },
   products: { product_id: "HC26-004512", kind: "coil", slab_id: "X260001-101", rolled_at: new Date(Date.UTC(2026, 10, 6, 9, 5)), weight_t: 24.1 },
 };
@@ -192,6 +232,10 @@ export async function buildTemplate(kind: ImportKind): Promise<Buffer> {
     });
   }
   about.addRow({});
-  about.addRow({ key: "Notes", description: "Keys match case-insensitively. Remove the example row. Re-importing the same ids updates them; a column left out keeps the stored values, an empty cell clears them. Invented example values." });
+  about.addRow({
+    key: "Notes",
+    description:
+      "Keys match case-insensitively. Remove the example row. Re-importing the same ids updates them; a column left out keeps the stored values, an empty cell clears them. Invented example values.",
+  });
   return Buffer.from(await wb.xlsx.writeBuffer());
 }

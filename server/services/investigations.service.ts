@@ -50,7 +50,8 @@ export function people(db: Db) {
 function checkPerson(sqlite: Database.Database, id: string, field: string) {
   const u = sqlite.prepare("select id, role, banned from user where id = ?").get(id) as Row | undefined;
   if (!u || u.banned) throw badRequest("This person is not an active Strandsight user.", { field });
-  if (!can(parseRoles(u.role), "investigations.read")) throw badRequest("This person's role cannot open investigations; choose someone from the office roles.", { field });
+  if (!can(parseRoles(u.role), "investigations.read"))
+    throw badRequest("This person's role cannot open investigations; choose someone from the office roles.", { field });
 }
 
 function loadInv(sqlite: Database.Database, id: number): Row {
@@ -80,15 +81,24 @@ function heatIds(sqlite: Database.Database, heatNos: string[]): number[] {
 function defectIds(sqlite: Database.Database, ids: number[]): number[] {
   const unique = [...new Set(ids)];
   if (unique.length === 0) return [];
-  const found = new Set(sqlite.prepare(`select id from defects where deleted_at is null and id in (${unique.map(() => "?").join(",")})`).pluck().all(...unique) as number[]);
+  const found = new Set(
+    sqlite
+      .prepare(`select id from defects where deleted_at is null and id in (${unique.map(() => "?").join(",")})`)
+      .pluck()
+      .all(...unique) as number[],
+  );
   const missing = unique.filter((i) => !found.has(i));
   if (missing.length) throw badRequest(`No defect entry ${missing.slice(0, 10).join(", ")} (deleted, or never logged).`, { field: "defectIds", missing });
   return unique;
 }
 
 function addSubjects(sqlite: Database.Database, invId: number, defects: number[], heats: number[]) {
-  const haveD = new Set(sqlite.prepare("select defect_id from investigation_subjects where investigation_id = ? and defect_id is not null").pluck().all(invId) as number[]);
-  const haveH = new Set(sqlite.prepare("select heat_id from investigation_subjects where investigation_id = ? and heat_id is not null").pluck().all(invId) as number[]);
+  const haveD = new Set(
+    sqlite.prepare("select defect_id from investigation_subjects where investigation_id = ? and defect_id is not null").pluck().all(invId) as number[],
+  );
+  const haveH = new Set(
+    sqlite.prepare("select heat_id from investigation_subjects where investigation_id = ? and heat_id is not null").pluck().all(invId) as number[],
+  );
   const ins = sqlite.prepare("insert into investigation_subjects (investigation_id, defect_id, heat_id) values (?, ?, ?)");
   let added = 0;
   for (const d of defects) if (!haveD.has(d)) (ins.run(invId, d, null), added++);
@@ -146,7 +156,9 @@ export function listInvestigations(db: Db, q: z.output<typeof investigationQuery
       where s.heat_id = (select id from heats where heat_no = @heatNo) or sl.heat_id = (select id from heats where heat_no = @heatNo))`);
     params.heatNo = q.heatNo.trim().toUpperCase();
   }
-  const rows = sqlite.prepare(`${SUMMARY} ${where.length ? `where ${where.join(" and ")}` : ""} order by case i.status when 'closed' then 1 else 0 end, i.opened_at desc`).all(params) as Row[];
+  const rows = sqlite
+    .prepare(`${SUMMARY} ${where.length ? `where ${where.join(" and ")}` : ""} order by case i.status when 'closed' then 1 else 0 end, i.opened_at desc`)
+    .all(params) as Row[];
   return rows.map((r) => toSummary(sqlite, r));
 }
 
@@ -155,7 +167,9 @@ export function getInvestigation(db: Db, id: number, now = Date.now()): Investig
   const r = sqlite.prepare(`${SUMMARY} where i.id = @id`).get({ id, today: todayIso(now) }) as Row | undefined;
   if (!r) throw notFound("There is no such investigation.");
   const heats = sqlite
-    .prepare(`select h.heat_no as heatNo, g.code as grade, h.cast_start as castStart from investigation_subjects s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id where s.investigation_id = ? order by h.cast_start`)
+    .prepare(
+      `select h.heat_no as heatNo, g.code as grade, h.cast_start as castStart from investigation_subjects s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id where s.investigation_id = ? order by h.cast_start`,
+    )
     .all(id) as Row[];
   const defects = sqlite
     .prepare(
@@ -164,15 +178,30 @@ export function getInvestigation(db: Db, id: number, now = Date.now()): Investig
        where s.investigation_id = ? order by d.found_at, d.id`,
     )
     .all(id) as Row[];
-  const causes = causesBrief(sqlite, defects.map((d) => d.id as number));
-  const participants = (sqlite.prepare("select user_id from investigation_participants where investigation_id = ? order by added_at").pluck().all(id) as string[]).map((u) => person(sqlite, u)!).filter(Boolean);
+  const causes = causesBrief(
+    sqlite,
+    defects.map((d) => d.id as number),
+  );
+  const participants = (
+    sqlite.prepare("select user_id from investigation_participants where investigation_id = ? order by added_at").pluck().all(id) as string[]
+  )
+    .map((u) => person(sqlite, u)!)
+    .filter(Boolean);
   const hypotheses = sqlite
-    .prepare("select h.*, t.code as tagCode, t.name as tagName from investigation_hypotheses h left join cause_tags t on t.id = h.cause_tag_id where h.investigation_id = ? order by h.id")
+    .prepare(
+      "select h.*, t.code as tagCode, t.name as tagName from investigation_hypotheses h left join cause_tags t on t.id = h.cause_tag_id where h.investigation_id = ? order by h.id",
+    )
     .all(id) as Row[];
   const actions = sqlite.prepare("select * from investigation_actions where investigation_id = ? order by due_on, id").all(id) as Row[];
-  const attachments = sqlite.prepare("select a.*, u.name as byName from attachments a left join user u on u.id = a.created_by where owner_kind = 'investigation' and owner_id = ? order by a.created_at").all(id) as Row[];
+  const attachments = sqlite
+    .prepare(
+      "select a.*, u.name as byName from attachments a left join user u on u.id = a.created_by where owner_kind = 'investigation' and owner_id = ? order by a.created_at",
+    )
+    .all(id) as Row[];
   const history = sqlite
-    .prepare("select a.at, coalesce(a.user_name, u.name, a.actor) as byName, a.action from audit_log a left join user u on u.id = a.user_id where a.entity = 'investigation' and a.entity_id = ? order by a.at, a.id")
+    .prepare(
+      "select a.at, coalesce(a.user_name, u.name, a.actor) as byName, a.action from audit_log a left join user u on u.id = a.user_id where a.entity = 'investigation' and a.entity_id = ? order by a.at, a.id",
+    )
     .all(String(id)) as Row[];
   const today = todayIso(now);
   return {
@@ -181,10 +210,21 @@ export function getInvestigation(db: Db, id: number, now = Date.now()): Investig
     closureNote: r.closure_note ?? null,
     subjects: {
       heats: heats.map((h) => ({ heatNo: h.heatNo, grade: h.grade, castStart: iso(h.castStart)! })),
-      defects: defects.map((d) => ({ ...d, foundAt: iso(d.foundAt)!, causes: (causes.get(d.id) ?? []).map((c) => c.tag) })) as Investigation["subjects"]["defects"],
+      defects: defects.map((d) => ({
+        ...d,
+        foundAt: iso(d.foundAt)!,
+        causes: (causes.get(d.id) ?? []).map((c) => c.tag),
+      })) as Investigation["subjects"]["defects"],
     },
     participants: participants as Investigation["participants"],
-    hypotheses: hypotheses.map((h) => ({ id: h.id, statement: h.statement, causeTag: h.tagCode ?? null, causeTagName: h.tagName ?? null, status: h.status, createdAt: iso(h.created_at)! })),
+    hypotheses: hypotheses.map((h) => ({
+      id: h.id,
+      statement: h.statement,
+      causeTag: h.tagCode ?? null,
+      causeTagName: h.tagName ?? null,
+      status: h.status,
+      createdAt: iso(h.created_at)!,
+    })),
     actionList: actions.map((a) => ({
       id: a.id,
       description: a.description,
@@ -194,7 +234,15 @@ export function getInvestigation(db: Db, id: number, now = Date.now()): Investig
       overdue: r.status !== "closed" && (a.status === "open" || a.status === "in_progress") && a.due_on != null && a.due_on < today,
       completedAt: iso(a.completed_at),
     })),
-    attachments: attachments.map((a) => ({ id: a.id, fileName: a.file_name, mime: a.mime, bytes: a.bytes, url: `/api/attachments/${a.id}`, at: iso(a.created_at)!, by: a.byName ?? null })),
+    attachments: attachments.map((a) => ({
+      id: a.id,
+      fileName: a.file_name,
+      mime: a.mime,
+      bytes: a.bytes,
+      url: `/api/attachments/${a.id}`,
+      at: iso(a.created_at)!,
+      by: a.byName ?? null,
+    })),
     history: history.map((h) => ({ at: iso(h.at)!, by: h.byName ?? null, action: h.action })),
   };
 }
@@ -213,7 +261,9 @@ export function createInvestigation(db: Db, user: Actor, input: z.output<typeof 
     const ref = nextRef(sqlite, now);
     const invId = Number(
       sqlite
-        .prepare("insert into investigations (ref, title, problem_statement, status, owner_id, opened_at, created_by, created_at, updated_at) values (?, ?, ?, 'open', ?, ?, ?, ?, ?)")
+        .prepare(
+          "insert into investigations (ref, title, problem_statement, status, owner_id, opened_at, created_by, created_at, updated_at) values (?, ?, ?, 'open', ?, ?, ?, ?, ?)",
+        )
         .run(ref, input.title, input.problemStatement, owner, now, user.id, now, now).lastInsertRowid,
     );
     addSubjects(sqlite, invId, defects, heats);
@@ -231,8 +281,20 @@ export function updateInvestigation(db: Db, user: Actor, id: number, input: z.ou
     if (input.ownerId) checkPerson(sqlite, input.ownerId, "ownerId");
     sqlite
       .prepare("update investigations set title = ?, problem_statement = ?, status = ?, owner_id = ?, updated_at = ? where id = ?")
-      .run(input.title ?? inv.title, input.problemStatement ?? inv.problem_statement, input.status ?? inv.status, input.ownerId ?? inv.owner_id, Date.now(), id);
-    audit(db, user, id, "investigation.update", input, { title: inv.title, problemStatement: inv.problem_statement, status: inv.status, ownerId: inv.owner_id });
+      .run(
+        input.title ?? inv.title,
+        input.problemStatement ?? inv.problem_statement,
+        input.status ?? inv.status,
+        input.ownerId ?? inv.owner_id,
+        Date.now(),
+        id,
+      );
+    audit(db, user, id, "investigation.update", input, {
+      title: inv.title,
+      problemStatement: inv.problem_statement,
+      status: inv.status,
+      ownerId: inv.owner_id,
+    });
   });
   return getInvestigation(db, id);
 }
@@ -271,7 +333,9 @@ export function addHypothesis(db: Db, user: Actor, id: number, input: z.output<t
     openInv(sqlite, id);
     const now = Date.now();
     sqlite
-      .prepare("insert into investigation_hypotheses (investigation_id, statement, cause_tag_id, status, created_by, created_at, updated_at) values (?, ?, ?, 'open', ?, ?, ?)")
+      .prepare(
+        "insert into investigation_hypotheses (investigation_id, statement, cause_tag_id, status, created_by, created_at, updated_at) values (?, ?, ?, 'open', ?, ?, ?)",
+      )
       .run(id, input.statement, tagId(sqlite, input.causeTag, "causeTag"), user.id, now, now);
     audit(db, user, id, "investigation.hypothesis.add", input);
   });
@@ -284,7 +348,9 @@ export function updateHypothesis(db: Db, user: Actor, id: number, hid: number, i
     openInv(sqlite, id);
     const h = sqlite.prepare("select * from investigation_hypotheses where id = ? and investigation_id = ?").get(hid, id) as Row | undefined;
     if (!h) throw notFound("This investigation has no such hypothesis.");
-    sqlite.prepare("update investigation_hypotheses set status = ?, statement = ?, updated_at = ? where id = ?").run(input.status ?? h.status, input.statement ?? h.statement, Date.now(), hid);
+    sqlite
+      .prepare("update investigation_hypotheses set status = ?, statement = ?, updated_at = ? where id = ?")
+      .run(input.status ?? h.status, input.statement ?? h.statement, Date.now(), hid);
     audit(db, user, id, "investigation.hypothesis.update", { id: hid, ...input }, { status: h.status, statement: h.statement });
   });
   return getInvestigation(db, id);
@@ -298,7 +364,9 @@ export function addAction(db: Db, user: Actor, notify: Notifications, id: number
     const now = Date.now();
     const aid = Number(
       sqlite
-        .prepare("insert into investigation_actions (investigation_id, description, owner_id, due_on, status, created_at, updated_at) values (?, ?, ?, ?, 'open', ?, ?)")
+        .prepare(
+          "insert into investigation_actions (investigation_id, description, owner_id, due_on, status, created_at, updated_at) values (?, ?, ?, ?, 'open', ?, ?)",
+        )
         .run(id, input.description, input.ownerId, input.dueOn, now, now).lastInsertRowid,
     );
     audit(db, user, id, "investigation.action.add", { id: aid, ...input });
@@ -318,7 +386,9 @@ export function updateAction(db: Db, user: Actor, notify: Notifications, id: num
     const done = status === "done" || status === "cancelled";
     const dueChanged = input.dueOn !== undefined && input.dueOn !== a.due_on;
     sqlite
-      .prepare("update investigation_actions set description = ?, owner_id = ?, due_on = ?, status = ?, completed_at = ?, overdue_notified_at = ?, updated_at = ? where id = ?")
+      .prepare(
+        "update investigation_actions set description = ?, owner_id = ?, due_on = ?, status = ?, completed_at = ?, overdue_notified_at = ?, updated_at = ? where id = ?",
+      )
       .run(
         input.description ?? a.description,
         input.ownerId ?? a.owner_id,
@@ -330,7 +400,14 @@ export function updateAction(db: Db, user: Actor, notify: Notifications, id: num
         Date.now(),
         aid,
       );
-    audit(db, user, id, "investigation.action.update", { id: aid, ...input }, { description: a.description, ownerId: a.owner_id, dueOn: a.due_on, status: a.status });
+    audit(
+      db,
+      user,
+      id,
+      "investigation.action.update",
+      { id: aid, ...input },
+      { description: a.description, ownerId: a.owner_id, dueOn: a.due_on, status: a.status },
+    );
     if (input.ownerId && input.ownerId !== a.owner_id && !done) {
       notify.actionAssigned(inv, { description: input.description ?? a.description, owner_id: input.ownerId, due_on: input.dueOn ?? a.due_on });
     }
@@ -342,8 +419,14 @@ export function updateAction(db: Db, user: Actor, notify: Notifications, id: num
 function recipientsOf(sqlite: Database.Database, inv: Row): string[] {
   const ids = new Set<string>([inv.owner_id, inv.created_by].filter(Boolean));
   for (const u of sqlite.prepare("select user_id from investigation_participants where investigation_id = ?").pluck().all(inv.id) as string[]) ids.add(u);
-  for (const u of sqlite.prepare("select owner_id from investigation_actions where investigation_id = ? and owner_id is not null").pluck().all(inv.id) as string[]) ids.add(u);
-  return [...ids].map((u) => sqlite.prepare("select email from user where id = ? and coalesce(banned, 0) = 0").pluck().get(u) as string | undefined).filter((e): e is string => !!e);
+  for (const u of sqlite
+    .prepare("select owner_id from investigation_actions where investigation_id = ? and owner_id is not null")
+    .pluck()
+    .all(inv.id) as string[])
+    ids.add(u);
+  return [...ids]
+    .map((u) => sqlite.prepare("select email from user where id = ? and coalesce(banned, 0) = 0").pluck().get(u) as string | undefined)
+    .filter((e): e is string => !!e);
 }
 
 export function closeInvestigation(db: Db, user: Actor, notify: Notifications, id: number, input: z.output<typeof closeInvestigationSchema>): Investigation {
@@ -352,7 +435,9 @@ export function closeInvestigation(db: Db, user: Actor, notify: Notifications, i
     const inv = openInv(sqlite, id);
     const tag = tagId(sqlite, input.confirmedCause, "confirmedCause")!;
     const now = Date.now();
-    sqlite.prepare("update investigations set status = 'closed', closed_at = ?, confirmed_cause_tag_id = ?, closure_note = ?, updated_at = ? where id = ?").run(now, tag, input.closureNote, now, id);
+    sqlite
+      .prepare("update investigations set status = 'closed', closed_at = ?, confirmed_cause_tag_id = ?, closure_note = ?, updated_at = ? where id = ?")
+      .run(now, tag, input.closureNote, now, id);
     audit(db, user, id, "investigation.close", input, { status: inv.status });
     const cause = sqlite.prepare("select code, name from cause_tags where id = ?").get(tag) as { code: string; name: string };
     notify.investigationClosed({ ...inv, closure_note: input.closureNote }, cause, recipientsOf(sqlite, inv));

@@ -136,9 +136,12 @@ function columnOf(key: string): string {
 function targetName(sqlite: Database.Database, kind: "type" | "category" | null, code: string | null): string | null {
   if (!kind || !code) return null;
   return (
-    (sqlite.prepare(kind === "type" ? "select name from defect_types where upper(code) = upper(?)" : "select name from defect_categories where upper(code) = upper(?)").pluck().get(code) as
-      | string
-      | undefined) ?? null
+    (sqlite
+      .prepare(
+        kind === "type" ? "select name from defect_types where upper(code) = upper(?)" : "select name from defect_categories where upper(code) = upper(?)",
+      )
+      .pluck()
+      .get(code) as string | undefined) ?? null
   );
 }
 
@@ -326,7 +329,15 @@ export function windowRecord(c: Counts, from: string, to: string): WindowRecord 
   const flagged = share(c.x1, c.n1);
   const rest = share(c.x0, c.n0);
   const base = { from, to, flagged, rest, unknown: c.unknown, method: WINDOW_METHOD };
-  const noVerdict = (verdictText: string): WindowRecord => ({ ...base, difference: null, differenceLower: null, differenceUpper: null, intervalsOverlap: null, verdict: null, verdictText });
+  const noVerdict = (verdictText: string): WindowRecord => ({
+    ...base,
+    difference: null,
+    differenceLower: null,
+    differenceUpper: null,
+    intervalsOverlap: null,
+    verdict: null,
+    verdictText,
+  });
   if (c.n1 === 0) return noVerdict("No verdict: no slab cast in the window met every condition of the rule, so there is nothing to judge it by.");
   if (c.n0 === 0) return noVerdict("No verdict: every slab of the family cast in the window met the rule, so there are no other slabs to compare with.");
   const d = differenceOfProportions(c.x1, c.n1, c.x0, c.n0);
@@ -388,7 +399,8 @@ function toWindow(sqlite: Database.Database, r: Rule, record: WindowRecord | nul
     name: r.name,
     familyCode: r.familyCode,
     familyName: r.familyName,
-    target: r.targetKind && r.targetCode ? { kind: r.targetKind, code: r.targetCode, name: targetName(sqlite, r.targetKind, r.targetCode) ?? r.targetCode } : null,
+    target:
+      r.targetKind && r.targetCode ? { kind: r.targetKind, code: r.targetCode, name: targetName(sqlite, r.targetKind, r.targetCode) ?? r.targetCode } : null,
     conditions,
     text: r.conditions ? conditionsText(r.conditions) : "(the stored conditions could not be read: the rule flags nothing)",
     note: r.note,
@@ -427,7 +439,8 @@ async function getWindow(db: Db, id: number): Promise<OperatingWindow> {
 function familyIdOf(sqlite: Database.Database, code: string | null): number | null {
   if (code === null) return null;
   const id = sqlite.prepare("select id from grade_families where upper(code) = upper(?)").pluck().get(code) as number | undefined;
-  if (id === undefined) throw badRequest(`There is no grade family “${code}”. Choose one of the plant's families, or every family.`, { field: "familyCode" }, "unknown_family");
+  if (id === undefined)
+    throw badRequest(`There is no grade family “${code}”. Choose one of the plant's families, or every family.`, { field: "familyCode" }, "unknown_family");
   return id;
 }
 
@@ -451,7 +464,10 @@ function insertWindow(db: Db, who: { id: string | null; actor?: string }, input:
   const familyId = familyIdOf(sqlite, input.familyCode);
   checkTarget(sqlite, input.target);
   const live = sqlite.prepare("select count(*) from operating_windows where retired_at is null").pluck().get() as number;
-  if (live >= MAX_LIVE_WINDOWS) throw conflict(`There are already ${MAX_LIVE_WINDOWS} live rules, the most the plant keeps. Retire one before writing another.`, { limit: MAX_LIVE_WINDOWS });
+  if (live >= MAX_LIVE_WINDOWS)
+    throw conflict(`There are already ${MAX_LIVE_WINDOWS} live rules, the most the plant keeps. Retire one before writing another.`, {
+      limit: MAX_LIVE_WINDOWS,
+    });
   nameTaken(sqlite, input.name);
   const now = Date.now();
   const byName = who.id ? ((sqlite.prepare("select name from user where id = ?").pluck().get(who.id) as string | undefined) ?? null) : null;
@@ -461,8 +477,18 @@ function insertWindow(db: Db, who: { id: string | null; actor?: string }, input:
         `insert into operating_windows (name, family_id, target_kind, target_code, conditions, note, created_by, created_by_name, created_at, updated_at)
          values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
       )
-      .run(input.name, familyId, input.target?.kind ?? null, input.target?.code.toUpperCase() ?? null, JSON.stringify(input.conditions), input.note ?? null, who.id, byName, now, now)
-      .lastInsertRowid,
+      .run(
+        input.name,
+        familyId,
+        input.target?.kind ?? null,
+        input.target?.code.toUpperCase() ?? null,
+        JSON.stringify(input.conditions),
+        input.note ?? null,
+        who.id,
+        byName,
+        now,
+        now,
+      ).lastInsertRowid,
   );
   recordAudit(db, { userId: who.id, actor: who.actor ?? null, action: "operating_window.create", entity: "operating_window", entityId: id, after: input });
   return id;
@@ -503,7 +529,14 @@ export function updateWindow(db: Db, user: Actor, id: number, input: z.output<ty
       action: "operating_window.update",
       entity: "operating_window",
       entityId: id,
-      before: { name: before.name, familyId: before.family_id, targetKind: before.target_kind, targetCode: before.target_code, conditions: parseConditions(before.conditions), note: before.note },
+      before: {
+        name: before.name,
+        familyId: before.family_id,
+        targetKind: before.target_kind,
+        targetCode: before.target_code,
+        conditions: parseConditions(before.conditions),
+        note: before.note,
+      },
       after: input,
     });
   });
@@ -518,7 +551,14 @@ export function retireWindow(db: Db, user: Actor, id: number) {
     if (!before) throw notFound("There is no such operating window rule.");
     if (before.retired_at != null) throw conflict(`The rule “${before.name}” is already retired.`);
     sqlite.prepare("update operating_windows set retired_at = ?, updated_at = ? where id = ?").run(at, at, id);
-    recordAudit(db, { userId: user.id, action: "operating_window.retire", entity: "operating_window", entityId: id, before: { name: before.name }, after: { retiredAt: at } });
+    recordAudit(db, {
+      userId: user.id,
+      action: "operating_window.retire",
+      entity: "operating_window",
+      entityId: id,
+      before: { name: before.name },
+      after: { retiredAt: at },
+    });
   });
   return { id, retired: true as const, retiredAt: iso(at)! };
 }
@@ -531,15 +571,29 @@ export function windowFlags(db: Db, query: z.output<typeof windowFlagsQuerySchem
     const heat = sqlite.prepare("select id from heats where heat_no = ?").pluck().get(query.heatNo) as number | undefined;
     if (heat === undefined) throw notFound(`There is no heat ${query.heatNo}.`);
     slabs = sqlite
-      .prepare("select s.id, s.slab_id, h.heat_no from slabs s join heats h on h.id = s.heat_id where s.heat_id = ? order by s.strand_id, s.piece_no, s.id limit ?")
+      .prepare(
+        "select s.id, s.slab_id, h.heat_no from slabs s join heats h on h.id = s.heat_id where s.heat_id = ? order by s.strand_id, s.piece_no, s.id limit ?",
+      )
       .all(heat, MAX_FLAG_SLABS) as typeof slabs;
   } else {
-    const ids = [...new Set((query.slabIds ?? "").split(",").map((s) => s.trim()).filter(Boolean))].slice(0, MAX_FLAG_SLABS);
+    const ids = [
+      ...new Set(
+        (query.slabIds ?? "")
+          .split(",")
+          .map((s) => s.trim())
+          .filter(Boolean),
+      ),
+    ].slice(0, MAX_FLAG_SLABS);
     slabs = ids.length
-      ? (sqlite.prepare(`select s.id, s.slab_id, h.heat_no from slabs s join heats h on h.id = s.heat_id where s.slab_id in (${ids.map(() => "?").join(",")})`).all(...ids) as typeof slabs)
+      ? (sqlite
+          .prepare(`select s.id, s.slab_id, h.heat_no from slabs s join heats h on h.id = s.heat_id where s.slab_id in (${ids.map(() => "?").join(",")})`)
+          .all(...ids) as typeof slabs)
       : [];
   }
-  const flags = windowFlagsForSlabs(db, slabs.map((s) => s.id));
+  const flags = windowFlagsForSlabs(
+    db,
+    slabs.map((s) => s.id),
+  );
   return { items: slabs.map((s) => ({ slabId: s.slab_id, heatNo: s.heat_no, rules: flags.get(s.id) ?? [] })), caution: WINDOW_CAUTION };
 }
 

@@ -72,12 +72,9 @@ export function photoDecodeState() {
 /** 503 when `count` more photos would not fit in the decode queue: said before anything is stored. */
 export function admitPhotoDecodes(count: number) {
   if (decodeQueue.pendingCount + count > PHOTO_DECODE_QUEUE_MAX) {
-    throw new HttpError(
-      503,
-      "busy",
-      "The server is busy processing other photos. Try again in a minute; the tablet sends waiting photos again by itself.",
-      { retryAfterSeconds: 30 },
-    );
+    throw new HttpError(503, "busy", "The server is busy processing other photos. Try again in a minute; the tablet sends waiting photos again by itself.", {
+      retryAfterSeconds: 30,
+    });
   }
 }
 
@@ -164,7 +161,10 @@ async function storeNow(uploadDir: string, photo: CheckedPhoto): Promise<StoredP
       .toBuffer({ resolveWithObject: true });
     const pixels = () => sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels } });
     display = await pixels().webp({ quality: 82 }).toBuffer({ resolveWithObject: true });
-    thumb = await pixels().resize({ width: THUMB_MAX_PX, height: THUMB_MAX_PX, fit: "inside", withoutEnlargement: true }).jpeg({ quality: 78, mozjpeg: true }).toBuffer();
+    thumb = await pixels()
+      .resize({ width: THUMB_MAX_PX, height: THUMB_MAX_PX, fit: "inside", withoutEnlargement: true })
+      .jpeg({ quality: 78, mozjpeg: true })
+      .toBuffer();
   } catch {
     throw new HttpError(415, "not_an_image", `${photo.originalName} could not be decoded; it may be damaged or truncated.`);
   }
@@ -198,7 +198,12 @@ export async function removePhotoFiles(uploadDir: string, files: StoredPhotoFile
  * period may be an upload still between its file and its row, so it stays — unless `writtenBefore`
  * says which files cannot be in flight (at start-up: everything written before this process began).
  */
-export async function cleanupOrphanFiles(uploadDir: string, knownFiles: (relativePath: string) => boolean, now = Date.now(), writtenBefore?: number): Promise<string[]> {
+export async function cleanupOrphanFiles(
+  uploadDir: string,
+  knownFiles: (relativePath: string) => boolean,
+  now = Date.now(),
+  writtenBefore?: number,
+): Promise<string[]> {
   const cutoff = writtenBefore ?? now - ORPHAN_GRACE_MS;
   const root = path.join(uploadDir, "photos");
   const removed: string[] = [];

@@ -139,7 +139,8 @@ export function rebuildIndex(f: SlabFacts) {
 function widenId(f: SlabFacts, key: IdKey, i: number, v: number) {
   const col = f[key];
   // Values that do not fit even 32 bits (none in a plant) are refused rather than wrapped.
-  if (col instanceof Int32Array || !Number.isInteger(v) || v < -(2 ** 31) || v >= 2 ** 31) throw new Error(`report cache: ${key} ${v} does not fit a 32-bit column`);
+  if (col instanceof Int32Array || !Number.isInteger(v) || v < -(2 ** 31) || v >= 2 ** 31)
+    throw new Error(`report cache: ${key} ${v} does not fit a 32-bit column`);
   const next = v >= 0 && v <= 0xffff && col instanceof Uint8Array ? new Uint16Array(col.length) : new Int32Array(col.length);
   next.set(col);
   next[i] = v;

@@ -208,7 +208,8 @@ export async function readSnapshot(
   }
   try {
     const lead = Buffer.alloc(MAGIC.length + 4);
-    if (!(await readFully(fh, lead)) || !lead.subarray(0, MAGIC.length).equals(MAGIC)) return { facts: null, reason: "the file is not a report cache snapshot" };
+    if (!(await readFully(fh, lead)) || !lead.subarray(0, MAGIC.length).equals(MAGIC))
+      return { facts: null, reason: "the file is not a report cache snapshot" };
     const headerLength = lead.readUInt32LE(MAGIC.length);
     if (headerLength > MAX_HEADER) return { facts: null, reason: "the snapshot's header is damaged" };
     const json = Buffer.alloc(headerLength + pad8(lead.length + headerLength));
@@ -221,25 +222,28 @@ export async function readSnapshot(
       return { facts: null, reason: "the snapshot's header is damaged" };
     }
     if (header.format !== FORMAT) return { facts: null, reason: `the snapshot has layout ${header.format}, this version reads ${FORMAT}` };
-    if (JSON.stringify(header.variables) !== JSON.stringify(FACT_VARIABLES)) return { facts: null, reason: "the snapshot holds other variables than this version reports" };
+    if (JSON.stringify(header.variables) !== JSON.stringify(FACT_VARIABLES))
+      return { facts: null, reason: "the snapshot holds other variables than this version reports" };
     const names = header.columns?.map((c) => c.name) ?? [];
     if (JSON.stringify(names) !== JSON.stringify(COLUMN_NAMES) || header.columns.some((c) => !allowedTypes(c.name).includes(c.type))) {
       return { facts: null, reason: "the snapshot's columns are not the ones this version holds" };
     }
     const size = header.size;
-    if (!Number.isSafeInteger(size) || size < 0 || size !== header.fingerprint?.slabs || typeof header.fingerprint.version !== "number") return { facts: null, reason: "the snapshot's header is damaged" };
+    if (!Number.isSafeInteger(size) || size < 0 || size !== header.fingerprint?.slabs || typeof header.fingerprint.version !== "number")
+      return { facts: null, reason: "the snapshot's header is damaged" };
     const columnBytes = header.columns.reduce((sum, c) => {
       const n = size * (TYPES[c.type] as unknown as { BYTES_PER_ELEMENT: number }).BYTES_PER_ELEMENT;
       return sum + n + pad8(n);
     }, 0);
     const total = lead.length + json.length + columnBytes + 4;
     const stat = await fh.stat();
-    if (stat.isFile() && stat.size !== total) return { facts: null, reason: `the snapshot is ${stat.size < total ? "cut short" : "longer than its header says"}` };
+    if (stat.isFile() && stat.size !== total)
+      return { facts: null, reason: `the snapshot is ${stat.size < total ? "cut short" : "longer than its header says"}` };
 
     // Current? Checked before the columns are read: a stale snapshot costs neither the reading nor
     // the memory of a second set of columns beside the rebuilt one.
     opts.progress?.("checking", 0, size);
-      const difference = fingerprintDifference(header.fingerprint, databaseFingerprint(sqlite, size));
+    const difference = fingerprintDifference(header.fingerprint, databaseFingerprint(sqlite, size));
     if (difference) return { facts: null, reason: `the snapshot is out of date: ${difference}` };
 
     const capacity = opts.capacityFor(size);

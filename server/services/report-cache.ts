@@ -24,7 +24,18 @@ import type Database from "better-sqlite3";
 import type { Db } from "../db/client";
 import { HttpError } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
-import { allocate, buildCapacity, ensureCapacity, ensureIndex, put, SELECT_COLUMNS, factsBytes, columnKinds, type FactRow, type SlabFacts } from "./report-cache-columns";
+import {
+  allocate,
+  buildCapacity,
+  ensureCapacity,
+  ensureIndex,
+  put,
+  SELECT_COLUMNS,
+  factsBytes,
+  columnKinds,
+  type FactRow,
+  type SlabFacts,
+} from "./report-cache-columns";
 import { readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
 export { exactColumn, exactValue, FACT_VARIABLES, VARIABLE_SCALE, type IdColumn, type SlabFacts, type ValueColumn } from "./report-cache-columns";
@@ -208,9 +219,9 @@ function patch(sqlite: Database.Database, s: State, f: SlabFacts) {
   const stmt = sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${Array(500).fill("?").join(",")})`).raw();
   for (let k = 0; k < ids.length; k += 500) {
     const chunk = ids.slice(k, k + 500);
-    const rows = (chunk.length === 500 ? stmt : sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${chunk.map(() => "?").join(",")})`).raw()).all(
-      ...chunk,
-    ) as FactRow[];
+    const rows = (
+      chunk.length === 500 ? stmt : sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${chunk.map(() => "?").join(",")})`).raw()
+    ).all(...chunk) as FactRow[];
     ensureCapacity(f, f.size + rows.length);
     ensureIndex(f, chunk[chunk.length - 1]!);
     for (const r of rows) {
@@ -231,12 +242,12 @@ function warmingUp(w: Warming): HttpError {
   if (w.done > 0 && w.total > 0) leftS = ((phaseMs / w.done) * Math.max(0, w.total - w.done)) / 1000;
   else leftS = w.phase === "rebuilding" ? (w.slabs * 6) / 1e6 : w.slabs / 1e6 + 1;
   const seconds = Math.max(1, Math.ceil(leftS));
-  return new HttpError(
-    503,
-    "reports_warming_up",
-    `Reports are warming up: the slab data are being loaded (about ${seconds} s). Try again in a moment.`,
-    { retryAfterSeconds: Math.min(10, Math.max(2, seconds)), secondsLeft: seconds, phase: w.phase, startedSecondsAgo: Math.round((now - w.startedAt) / 1000) },
-  );
+  return new HttpError(503, "reports_warming_up", `Reports are warming up: the slab data are being loaded (about ${seconds} s). Try again in a moment.`, {
+    retryAfterSeconds: Math.min(10, Math.max(2, seconds)),
+    secondsLeft: seconds,
+    phase: w.phase,
+    startedSecondsAgo: Math.round((now - w.startedAt) / 1000),
+  });
 }
 
 /** The facts, fresh: rebuilt or patched as the recorded changes require (503 while they load). */
@@ -264,7 +275,15 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
   const bg = s.background!;
   const t0 = performance.now();
   const slabs = maxIdOf(sqlite);
-  const w: Warming = { phase: fromSnapshot && bg.snapshotFile ? "opening" : "rebuilding", startedAt: t0, phaseStartedAt: t0, done: 0, total: 0, slabs, promise: Promise.resolve() };
+  const w: Warming = {
+    phase: fromSnapshot && bg.snapshotFile ? "opening" : "rebuilding",
+    startedAt: t0,
+    phaseStartedAt: t0,
+    done: 0,
+    total: 0,
+    slabs,
+    promise: Promise.resolve(),
+  };
   s.warming = w;
   // Changes from here on are recorded and read again once the facts are in.
   s.dirtyAll = false;
@@ -312,7 +331,16 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
     s.warming = null;
     const kinds = columnKinds(facts);
     bg.logger?.info(
-      { slabs: facts.size, ms: Math.round(performance.now() - t0), phasesMs, from, ...(why ? { snapshotIgnored: why } : {}), mb: Math.round(factsBytes(facts) / 1048576), float32Variables: kinds.float32.length, float64Variables: kinds.float64.length },
+      {
+        slabs: facts.size,
+        ms: Math.round(performance.now() - t0),
+        phasesMs,
+        from,
+        ...(why ? { snapshotIgnored: why } : {}),
+        mb: Math.round(factsBytes(facts) / 1048576),
+        float32Variables: kinds.float32.length,
+        float64Variables: kinds.float64.length,
+      },
       "report cache ready",
     );
     // A change it could not name came while loading: load again.
@@ -404,14 +432,20 @@ export function startReportCache(db: Db, opts: ReportCacheOptions): ReportCacheH
     return "written";
   };
 
-  const timer = opts.snapshotEveryMs === null ? undefined : setInterval(() => {
-    // Another connection (an import thread) tells its changes when it finishes; a snapshot is
-    // written only after a whole period in which no other connection wrote, so it never misses one.
-    const dv = sqlite.pragma("data_version", { simple: true }) as number;
-    const quiet = dv === bg.dataVersion;
-    bg.dataVersion = dv;
-    if (quiet) void save().catch((err) => opts.logger?.error({ err }, "report cache snapshot failed"));
-  }, opts.snapshotEveryMs ?? 10 * 60_000);
+  const timer =
+    opts.snapshotEveryMs === null
+      ? undefined
+      : setInterval(
+          () => {
+            // Another connection (an import thread) tells its changes when it finishes; a snapshot is
+            // written only after a whole period in which no other connection wrote, so it never misses one.
+            const dv = sqlite.pragma("data_version", { simple: true }) as number;
+            const quiet = dv === bg.dataVersion;
+            bg.dataVersion = dv;
+            if (quiet) void save().catch((err) => opts.logger?.error({ err }, "report cache snapshot failed"));
+          },
+          opts.snapshotEveryMs ?? 10 * 60_000,
+        );
   timer?.unref();
 
   return {

@@ -123,8 +123,15 @@ function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
         { header: "Why no estimate", key: "reason", width: 50 },
       ],
       rows: st.strata.map((level) => ({
-        level: level.label, slabs: level.slabs, affected: level.affected, rate: level.rate,
-        ...level.logistic, stepOr: level.logistic.perStep.oddsRatio, step: level.logistic.perStep.step, stepLower: level.logistic.perStep.ciLower, stepUpper: level.logistic.perStep.ciUpper,
+        level: level.label,
+        slabs: level.slabs,
+        affected: level.affected,
+        rate: level.rate,
+        ...level.logistic,
+        stepOr: level.logistic.perStep.oddsRatio,
+        step: level.logistic.perStep.step,
+        stepLower: level.logistic.perStep.ciLower,
+        stepUpper: level.logistic.perStep.ciUpper,
       })),
     });
   }
@@ -203,10 +210,25 @@ function adjustedSheets(x: Adjusted): Sheet[] {
         { header: "In words", key: "words", width: 80 },
       ],
       rows: x.terms.map((t) => ({
-        roleWords: role(t.role), label: t.label, unitWords: t.unit ?? "", level: t.level ?? "", reference: t.reference ?? "", perWords: t.perWords,
-        crudeOr: t.crude.oddsRatio, crudeLower: t.crude.ciLower, crudeUpper: t.crude.ciUpper, crudeP: t.crude.p,
-        adjOr: t.adjusted.oddsRatio, adjLower: t.adjusted.ciLower, adjUpper: t.adjusted.ciUpper, adjP: t.adjusted.p, coef: t.adjusted.coef, se: t.adjusted.se,
-        vif: t.vif, change: t.changeInEstimate.relativeChange, words: t.changeInEstimate.sentence ?? t.reason ?? "",
+        roleWords: role(t.role),
+        label: t.label,
+        unitWords: t.unit ?? "",
+        level: t.level ?? "",
+        reference: t.reference ?? "",
+        perWords: t.perWords,
+        crudeOr: t.crude.oddsRatio,
+        crudeLower: t.crude.ciLower,
+        crudeUpper: t.crude.ciUpper,
+        crudeP: t.crude.p,
+        adjOr: t.adjusted.oddsRatio,
+        adjLower: t.adjusted.ciLower,
+        adjUpper: t.adjusted.ciUpper,
+        adjP: t.adjusted.p,
+        coef: t.adjusted.coef,
+        se: t.adjusted.se,
+        vif: t.vif,
+        change: t.changeInEstimate.relativeChange,
+        words: t.changeInEstimate.sentence ?? t.reason ?? "",
       })),
     },
     {
@@ -235,7 +257,9 @@ function adjustedSheets(x: Adjusted): Sheet[] {
         { header: "Slabs", key: "slabs", numFmt: N0 },
         { header: "Affected slabs", key: "affected", numFmt: N0 },
       ],
-      rows: x.variables.flatMap((v) => (v.levels ?? []).map((l) => ({ label: v.label, level: l.level, ref: yes(l.reference), slabs: l.slabs, affected: l.affected }))),
+      rows: x.variables.flatMap((v) =>
+        (v.levels ?? []).map((l) => ({ label: v.label, level: l.level, ref: yes(l.reference), slabs: l.slabs, affected: l.affected })),
+      ),
     },
     {
       name: "Model",
@@ -294,7 +318,14 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { test: "Point-biserial r", statistic: x.pointBiserial.r, p: x.pointBiserial.p, method: x.methods.pointBiserial },
             { test: `Logistic slope (per ${u})`, statistic: x.logistic.slope, p: x.logistic.p, method: x.methods.logistic },
             { test: "Logistic intercept", statistic: x.logistic.intercept, p: null, method: "" },
-            { test: `Odds ratio per ${u}`, statistic: x.logistic.oddsRatio, p: null, ciLower: x.logistic.oddsRatioCiLower, ciUpper: x.logistic.oddsRatioCiUpper, method: "Wald 95 % interval" },
+            {
+              test: `Odds ratio per ${u}`,
+              statistic: x.logistic.oddsRatio,
+              p: null,
+              ciLower: x.logistic.oddsRatioCiLower,
+              ciUpper: x.logistic.oddsRatioCiUpper,
+              method: "Wald 95 % interval",
+            },
             { test: "Mann–Whitney U", statistic: x.mannWhitney.u, p: x.mannWhitney.p, method: x.methods.mannWhitney },
           ],
         },
@@ -393,7 +424,11 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             { header: "Note", key: "note", width: 90 },
           ],
           rows: [
-            { item: u ? "Centre line ū (defects per slab)" : "Centre line p̄ (share affected)", value: x.centre, note: x.baseline ? "from the baseline" : "from every period shown" },
+            {
+              item: u ? "Centre line ū (defects per slab)" : "Centre line p̄ (share affected)",
+              value: x.centre,
+              note: x.baseline ? "from the baseline" : "from every period shown",
+            },
             ...(x.baseline
               ? [
                   { item: "Baseline from", value: null, note: x.baseline.from },
@@ -445,7 +480,13 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
                 ]
               : []),
           ],
-          rows: x.periods.map((p) => ({ ...p, stdRate: p.standardised?.rate, stdLower: p.standardised?.ciLower, stdUpper: p.standardised?.ciUpper, stdReason: p.standardised?.reason })),
+          rows: x.periods.map((p) => ({
+            ...p,
+            stdRate: p.standardised?.rate,
+            stdLower: p.standardised?.ciLower,
+            stdUpper: p.standardised?.ciUpper,
+            stdReason: p.standardised?.reason,
+          })),
         },
         {
           name: "Pareto",
@@ -541,8 +582,20 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
               { header: "Note", key: "reason", width: 50 },
             ],
             rows: st.strata.map((t) => ({
-              label: t.label, aSlabs: t.a.slabs, aAffected: t.a.affected, aRate: t.a.rate, bSlabs: t.b.slabs, bAffected: t.b.affected, bRate: t.b.rate,
-              diff: t.difference.value, diffLower: t.difference.lower, diffUpper: t.difference.upper, oddsRatio: t.oddsRatio, ciLower: t.ciLower, ciUpper: t.ciUpper, reason: t.reason,
+              label: t.label,
+              aSlabs: t.a.slabs,
+              aAffected: t.a.affected,
+              aRate: t.a.rate,
+              bSlabs: t.b.slabs,
+              bAffected: t.b.affected,
+              bRate: t.b.rate,
+              diff: t.difference.value,
+              diffLower: t.difference.lower,
+              diffUpper: t.difference.upper,
+              oddsRatio: t.oddsRatio,
+              ciLower: t.ciLower,
+              ciUpper: t.ciUpper,
+              reason: t.reason,
             })),
           },
           {
@@ -560,13 +613,31 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             rows: [
               { item: "Crude odds ratio B against A (strata ignored)", value: st.crude.oddsRatio, lower: st.crude.ciLower, upper: st.crude.ciUpper },
               {
-                item: `Mantel–Haenszel odds ratio B against A, within ${by.toLowerCase()}`, value: st.mantelHaenszel.oddsRatio, lower: st.mantelHaenszel.ciLower, upper: st.mantelHaenszel.ciUpper,
-                chi2: st.mantelHaenszel.chi2, df: 1, p: st.mantelHaenszel.p, note: st.mantelHaenszel.reason ?? "Cochran–Mantel–Haenszel test",
+                item: `Mantel–Haenszel odds ratio B against A, within ${by.toLowerCase()}`,
+                value: st.mantelHaenszel.oddsRatio,
+                lower: st.mantelHaenszel.ciLower,
+                upper: st.mantelHaenszel.ciUpper,
+                chi2: st.mantelHaenszel.chi2,
+                df: 1,
+                p: st.mantelHaenszel.p,
+                note: st.mantelHaenszel.reason ?? "Cochran–Mantel–Haenszel test",
               },
-              { item: "Breslow–Day test of one odds ratio in every stratum", chi2: st.breslowDay.chi2, df: st.breslowDay.df, p: st.breslowDay.p, note: st.breslowDay.reason ?? (st.breslowDay.tarone ? "with Tarone's correction" : "") },
+              {
+                item: "Breslow–Day test of one odds ratio in every stratum",
+                chi2: st.breslowDay.chi2,
+                df: st.breslowDay.df,
+                p: st.breslowDay.p,
+                note: st.breslowDay.reason ?? (st.breslowDay.tarone ? "with Tarone's correction" : ""),
+              },
               { item: "Standardised rate A", value: st.standardised.rateA, note: st.standardised.reason ?? "" },
               { item: "Standardised rate B", value: st.standardised.rateB },
-              { item: "Standardised rate B − A", value: st.standardised.difference, lower: st.standardised.ciLower, upper: st.standardised.ciUpper, note: `reference mix: ${st.standardised.reference}` },
+              {
+                item: "Standardised rate B − A",
+                value: st.standardised.difference,
+                lower: st.standardised.ciLower,
+                upper: st.standardised.ciUpper,
+                note: `reference mix: ${st.standardised.reference}`,
+              },
             ],
           },
           referenceMixSheet(st.standardised.referenceMix, by),
@@ -578,7 +649,14 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
       const x = r as SlabPositions;
       const along = x.alongEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.alongEdges[i + 1]! * 100)} %`);
       return [
-        { name: "By face", columns: [{ header: "Face", key: "face" }, { header: "Defects", key: "defects", numFmt: N0 }], rows: x.byFace },
+        {
+          name: "By face",
+          columns: [
+            { header: "Face", key: "face" },
+            { header: "Defects", key: "defects", numFmt: N0 },
+          ],
+          rows: x.byFace,
+        },
         {
           name: "Along the slab",
           columns: [{ header: "Face", key: "face" }, ...along.map((a, i) => ({ header: `${a} of length from head`, key: `a${i}`, numFmt: N0 }))],
@@ -722,7 +800,12 @@ export function parameterRows(kind: string, query: string): { k: string; v: stri
     const label =
       PARAMETER_LABELS_BY_REPORT[kind]?.[key] ??
       PARAMETER_LABELS[key] ??
-      (rangeLabels[key] ? `${rangeLabels[key]}${unit ? ` (${unit})` : ""}` : key.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/_/g, " ").replace(/^./, (c) => c.toUpperCase()));
+      (rangeLabels[key]
+        ? `${rangeLabels[key]}${unit ? ` (${unit})` : ""}`
+        : key
+            .replace(/([a-z])([A-Z])/g, "$1 $2")
+            .replace(/_/g, " ")
+            .replace(/^./, (c) => c.toUpperCase()));
     const words = PARAMETER_VALUES[key];
     const value = raw
       .split(",")
@@ -748,7 +831,17 @@ export const METHOD_LABELS: Record<string, string> = {
   stratified: "Within strata",
 };
 const methodInWords = (line: string) =>
-  line.replace(/^([A-Za-z_]+): /, (_, key: string) => `${METHOD_LABELS[key] ?? key.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/_/g, " ").replace(/^./, (c) => c.toUpperCase())}: `);
+  line.replace(
+    /^([A-Za-z_]+): /,
+    (_, key: string) =>
+      `${
+        METHOD_LABELS[key] ??
+        key
+          .replace(/([a-z])([A-Z])/g, "$1 $2")
+          .replace(/_/g, " ")
+          .replace(/^./, (c) => c.toUpperCase())
+      }: `,
+  );
 
 /** Method texts and notes of a report's answer, for the Parameters sheet (besides the `methods` the route passes). */
 function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
@@ -810,7 +903,10 @@ export async function reportWorkbook(kind: string, query: string, result: unknow
   };
   for (const t of tablesFor(kind, result)) addTableSheet(wb, t.name, t.columns, t.rows, look);
   if (floored > 0) {
-    add("Reading", "A p-value written as 2.23E-308 is smaller than the smallest number a double (and a spreadsheet) holds: the computation underflowed. The screen shows it as < 10⁻¹⁵.");
+    add(
+      "Reading",
+      "A p-value written as 2.23E-308 is smaller than the smallest number a double (and a spreadsheet) holds: the computation underflowed. The screen shows it as < 10⁻¹⁵.",
+    );
   }
   return workbookBuffer(wb);
 }

@@ -16,9 +16,7 @@ export type ToReportThread =
   | { type: "exit" };
 
 /** An error thrown in the thread: an HttpError keeps its status, code, words and details. */
-export type ThreadError =
-  | { http: true; status: number; code: string; message: string; details?: unknown }
-  | { http: false; message: string; stack?: string };
+export type ThreadError = { http: true; status: number; code: string; message: string; details?: unknown } | { http: false; message: string; stack?: string };
 
 export type FromReportThread =
   | { type: "online" }
@@ -34,7 +32,9 @@ export type FromReportThread =
  */
 export function defaultedKeys(query: unknown): string[] {
   if (!query || typeof query !== "object") return [];
-  return Object.entries(query).filter(([, v]) => Array.isArray(v) && (v as { defaulted?: boolean }).defaulted === true).map(([k]) => k);
+  return Object.entries(query)
+    .filter(([, v]) => Array.isArray(v) && (v as { defaulted?: boolean }).defaulted === true)
+    .map(([k]) => k);
 }
 
 export function markDefaulted(query: unknown, keys: string[]) {

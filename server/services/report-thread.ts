@@ -234,13 +234,16 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
       const timer =
         o.snapshotEveryMs === null
           ? undefined
-          : setInterval(() => {
-              if (!sqlite.open) return;
-              const dv = sqlite.pragma("data_version", { simple: true }) as number;
-              const quiet = dv === dataVersion;
-              dataVersion = dv;
-              if (quiet) void save().catch((err) => o.logger?.error({ err }, "report cache snapshot failed"));
-            }, o.snapshotEveryMs ?? 10 * 60_000);
+          : setInterval(
+              () => {
+                if (!sqlite.open) return;
+                const dv = sqlite.pragma("data_version", { simple: true }) as number;
+                const quiet = dv === dataVersion;
+                dataVersion = dv;
+                if (quiet) void save().catch((err) => o.logger?.error({ err }, "report cache snapshot failed"));
+              },
+              o.snapshotEveryMs ?? 10 * 60_000,
+            );
       timer?.unref();
 
       return {

@@ -21,7 +21,9 @@ export function updatePlantSettings(db: Db, next: PlantSettings, userId: string)
     writePlantSettings(tx, next, userId);
     const sqlite = db.$client;
     const heats = sqlite
-      .prepare(`select id, ${PCT.map((e) => `${e}_pct`).join(", ")}, tundish_temp_c, liquidus_source, superheat_source from heats where liquidus_source = 'computed' or superheat_source = 'computed'`)
+      .prepare(
+        `select id, ${PCT.map((e) => `${e}_pct`).join(", ")}, tundish_temp_c, liquidus_source, superheat_source from heats where liquidus_source = 'computed' or superheat_source = 'computed'`,
+      )
       .all() as Record<string, number | string | null>[];
     const setLiq = sqlite.prepare("update heats set liquidus_c = ? where id = ?");
     const setSh = sqlite.prepare("update heats set superheat_c = ? where id = ?");
@@ -102,7 +104,8 @@ export function createCaster(db: Db, input: CasterCreate, userId: string) {
       `insert into strands (caster_id, strand_no, mold_thickness_mm, mold_effective_length_mm, sen_port_area_mm2, sen_port_count, embr_calibration)
        values (?, ?, ?, ?, ?, ?, ?)`,
     );
-    for (const s of input.strands) ins.run(id, s.strandNo, s.moldThicknessMm, s.moldEffectiveLengthMm, s.senPortAreaMm2, s.senPortCount, JSON.stringify(s.embrCalibration));
+    for (const s of input.strands)
+      ins.run(id, s.strandNo, s.moldThicknessMm, s.moldEffectiveLengthMm, s.senPortAreaMm2, s.senPortCount, JSON.stringify(s.embrCalibration));
     recordAudit(tx, { userId, action: "caster.create", entity: "caster", entityId: id, after: input });
     return { id, code: input.code.toUpperCase() };
   });
@@ -113,7 +116,9 @@ export function createGradeFamily(db: Db, input: z.infer<typeof gradeFamilyInput
     const sqlite = db.$client;
     const code = input.code.toUpperCase();
     if (sqlite.prepare("select 1 from grade_families where upper(code) = ?").get(code)) throw conflict(`Grade family ${code} already exists.`);
-    const id = Number(sqlite.prepare("insert into grade_families (code, name, description) values (?, ?, ?)").run(code, input.name, input.description).lastInsertRowid);
+    const id = Number(
+      sqlite.prepare("insert into grade_families (code, name, description) values (?, ?, ?)").run(code, input.name, input.description).lastInsertRowid,
+    );
     recordAudit(tx, { userId, action: "grade_family.create", entity: "grade_family", entityId: id, after: { ...input, code } });
     return { id, code, name: input.name, description: input.description };
   });
@@ -145,7 +150,9 @@ export function createGrade(db: Db, input: z.infer<typeof gradeInputSchema>, use
     const code = input.code.toUpperCase();
     if (sqlite.prepare("select 1 from grades where upper(code) = ?").get(code)) throw conflict(`Grade ${code} already exists.`);
     const fam = familyId(db, input.familyCode);
-    const id = Number(sqlite.prepare("insert into grades (code, name, family_id, active) values (?, ?, ?, ?)").run(code, input.name, fam, input.active ? 1 : 0).lastInsertRowid);
+    const id = Number(
+      sqlite.prepare("insert into grades (code, name, family_id, active) values (?, ?, ?, ?)").run(code, input.name, fam, input.active ? 1 : 0).lastInsertRowid,
+    );
     recordAudit(tx, { userId, action: "grade.create", entity: "grade", entityId: id, after: { ...input, code } });
     return { id, code, name: input.name, familyCode: input.familyCode.toUpperCase(), active: input.active };
   });
@@ -160,7 +167,9 @@ export function updateGrade(db: Db, code: string, input: z.infer<typeof gradeUpd
     sqlite
       .prepare("update grades set name = ?, family_id = ?, active = ?, updated_at = ? where id = ?")
       .run(input.name ?? before.name, fam, input.active === undefined ? before.active : input.active ? 1 : 0, Date.now(), before.id);
-    const after = sqlite.prepare("select g.*, f.code as familyCode from grades g join grade_families f on f.id = g.family_id where g.id = ?").get(before.id) as Record<string, any>;
+    const after = sqlite
+      .prepare("select g.*, f.code as familyCode from grades g join grade_families f on f.id = g.family_id where g.id = ?")
+      .get(before.id) as Record<string, any>;
     // The reports read the family from slab_conditions.
     if (after.family_id !== before.family_id) {
       sqlite.prepare("update slab_conditions set family_id = ? where grade_id = ?").run(after.family_id, before.id);

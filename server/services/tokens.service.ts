@@ -20,7 +20,9 @@ export interface TokenIdentity {
  * Words it does not know allow nothing.
  */
 export function parseScopes(stored: string | null | undefined): TokenScope[] {
-  const words = String(stored ?? "").split(",").map((w) => w.trim());
+  const words = String(stored ?? "")
+    .split(",")
+    .map((w) => w.trim());
   const allowed = new Set<string>(words.flatMap((w) => (w === "ingest" ? [...DEFAULT_TOKEN_SCOPES] : [w])));
   return TOKEN_SCOPES.filter((k) => allowed.has(k));
 }
@@ -101,8 +103,7 @@ export function revokeToken(db: Db, id: number, userId: string): ApiToken {
 /** The token behind an `Authorization: Bearer …` header, if it is known and not revoked, with the kinds it may send. */
 export function authenticateToken(db: Db, token: string): TokenIdentity | null {
   const row = db.$client.prepare("select id, name, scopes from api_tokens where token_hash = ? and revoked_at is null").get(hash(token)) as
-    | { id: number; name: string; scopes: string }
-    | undefined;
+    { id: number; name: string; scopes: string } | undefined;
   if (!row) return null;
   db.$client.prepare("update api_tokens set last_used_at = ? where id = ?").run(Date.now(), row.id);
   return { id: row.id, name: row.name, scopes: parseScopes(row.scopes) };

@@ -2,7 +2,15 @@ import crypto from "node:crypto";
 import { and, asc, desc, eq, gt, isNotNull, ne, sql } from "drizzle-orm";
 import { APIError } from "better-auth/api";
 import { parseRoles, type Role } from "@shared/roles";
-import { firstSignInOf, type AdminUser, type ChangeOwnPasswordInput, type CreateUserInput, type CreatedUser, type FirstSignIn, type UpdateUserInput } from "@shared/api/users";
+import {
+  firstSignInOf,
+  type AdminUser,
+  type ChangeOwnPasswordInput,
+  type CreateUserInput,
+  type CreatedUser,
+  type FirstSignIn,
+  type UpdateUserInput,
+} from "@shared/api/users";
 import type { Auth } from "../auth";
 import type { Db } from "../db/client";
 import { CLIENT_IP_HEADER } from "../auth";
@@ -56,7 +64,12 @@ function auditView(u: UserRow) {
 
 export function listUsers(db: Db, guard?: SignInGuard): AdminUser[] {
   const passwords = withPassword(db);
-  return db.select().from(user).orderBy(asc(user.name)).all().map((u) => toAdminUser(u, passwords.has(u.id), guard));
+  return db
+    .select()
+    .from(user)
+    .orderBy(asc(user.name))
+    .all()
+    .map((u) => toAdminUser(u, passwords.has(u.id), guard));
 }
 
 /** Lifts every sign-in lock of the account (from every address), audited; 409 when there is none. */
@@ -65,10 +78,21 @@ export function unlockUser(db: Db, guard: SignInGuard, id: string, actorId: stri
   if (!u) throw notFound("There is no such user.");
   const locks = guard.locksOf(u.email);
   if (locks.length === 0) {
-    throw new HttpError(409, "not_locked", "This account is not locked: a lock ends on its own after 15 minutes, and this one has ended or was lifted already.");
+    throw new HttpError(
+      409,
+      "not_locked",
+      "This account is not locked: a lock ends on its own after 15 minutes, and this one has ended or was lifted already.",
+    );
   }
   // The audit row first: a lock is lifted only once the trail says who lifted it.
-  recordAudit(db, { userId: actorId, action: "user.unlock", entity: "user", entityId: id, before: { lockedFrom: locks.map(lockView) }, after: { lockedFrom: [] } });
+  recordAudit(db, {
+    userId: actorId,
+    action: "user.unlock",
+    entity: "user",
+    entityId: id,
+    before: { lockedFrom: locks.map(lockView) },
+    after: { lockedFrom: [] },
+  });
   guard.clear(u.email);
   return toAdminUserOf(db, u, guard);
 }
@@ -82,12 +106,7 @@ export type NewUser = Pick<CreateUserInput, "name" | "email" | "roles"> & { pass
  * Without a password the account has no credential until the person sets one with their invitation
  * link (better-auth's reset creates it then).
  */
-export async function createUser(
-  db: Db,
-  auth: Auth,
-  input: NewUser,
-  actor: { userId?: string | null; actor?: string },
-): Promise<AdminUser> {
+export async function createUser(db: Db, auth: Auth, input: NewUser, actor: { userId?: string | null; actor?: string }): Promise<AdminUser> {
   const email = input.email.toLowerCase();
   if (db.select({ id: user.id }).from(user).where(eq(user.email, email)).get()) {
     throw conflict(`A user with the e-mail ${email} already exists.`, { field: "email" });
@@ -97,27 +116,38 @@ export async function createUser(
   const firstSignIn: FirstSignIn | null = hash === null ? "invitation" : mustChangePassword ? "first_password" : null;
   const id = crypto.randomUUID();
   const now = new Date();
-  const insert = () => db.transaction((tx) => {
-    const created = tx
-      .insert(user)
-      .values({ id, name: input.name, email, emailVerified: true, role: input.roles.join(","), banned: false, mustChangePassword, createdAt: now, updatedAt: now })
-      .returning()
-      .get();
-    if (hash !== null) {
-      tx.insert(account)
-        .values({ id: crypto.randomUUID(), accountId: id, providerId: "credential", userId: id, password: hash, createdAt: now, updatedAt: now })
-        .run();
-    }
-    recordAudit(tx, {
-      userId: actor.userId,
-      actor: actor.actor,
-      action: "user.create",
-      entity: "user",
-      entityId: id,
-      after: { name: input.name, email, roles: input.roles, ...(firstSignIn ? { firstSignIn } : {}) },
+  const insert = () =>
+    db.transaction((tx) => {
+      const created = tx
+        .insert(user)
+        .values({
+          id,
+          name: input.name,
+          email,
+          emailVerified: true,
+          role: input.roles.join(","),
+          banned: false,
+          mustChangePassword,
+          createdAt: now,
+          updatedAt: now,
+        })
+        .returning()
+        .get();
+      if (hash !== null) {
+        tx.insert(account)
+          .values({ id: crypto.randomUUID(), accountId: id, providerId: "credential", userId: id, password: hash, createdAt: now, updatedAt: now })
+          .run();
+      }
+      recordAudit(tx, {
+        userId: actor.userId,
+        actor: actor.actor,
+        action: "user.create",
+        entity: "user",
+        entityId: id,
+        after: { name: input.name, email, roles: input.roles, ...(firstSignIn ? { firstSignIn } : {}) },
+      });
+      return created;
     });
-    return created;
-  });
   try {
     return toAdminUser(insert(), hash !== null);
   } catch (err) {
@@ -227,7 +257,11 @@ export async function changeOwnPassword(
   const guard = auth.signInGuard;
   const minutes = guard.lockedFor(who.email, who.address);
   if (minutes > 0) {
-    throw new HttpError(429, "account_locked", `Too many wrong passwords for this account from your computer's address: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`);
+    throw new HttpError(
+      429,
+      "account_locked",
+      `Too many wrong passwords for this account from your computer's address: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
+    );
   }
   // Only the session cookie and the address Express resolved: nothing else of the client's headers.
   const headers = new Headers({ cookie: who.cookie, [CLIENT_IP_HEADER]: who.address });
@@ -241,7 +275,13 @@ export async function changeOwnPassword(
   } catch (err) {
     if (err instanceof APIError && (err.body as { code?: string } | undefined)?.code === "INVALID_PASSWORD") {
       if (guard.failed(who.email, who.address)) {
-        recordAudit(db, { actor: "sign-in guard", action: "user.sign_in.locked", entity: "user", entityId: who.email.toLowerCase(), after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES, address: who.address } });
+        recordAudit(db, {
+          actor: "sign-in guard",
+          action: "user.sign_in.locked",
+          entity: "user",
+          entityId: who.email.toLowerCase(),
+          after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES, address: who.address },
+        });
       }
       throw new HttpError(400, "wrong_current_password", "The current password is not right: type the password you signed in with.", [
         { path: "currentPassword", message: "This is not your current password." },

@@ -76,8 +76,14 @@ function productsOf(db: Db, slabRowIds: number[]) {
 }
 
 function toYardSlabs(db: Db, rows: Row[]): YardSlab[] {
-  const products = productsOf(db, rows.map((r) => r.id as number));
-  const risks = topRiskOfSlabs(db, rows.map((r) => r.id as number));
+  const products = productsOf(
+    db,
+    rows.map((r) => r.id as number),
+  );
+  const risks = topRiskOfSlabs(
+    db,
+    rows.map((r) => r.id as number),
+  );
   return rows.map((r) => {
     const made = products.get(r.id) ?? [];
     return {

@@ -113,7 +113,16 @@ function phased(
     const lcl = half !== null && centre !== null ? Math.max(bounds[0], centre - half) : null;
     const z = value !== null && centre !== null && sigma !== null && sigma * widen > 0 ? (value - centre) / (sigma * widen) : null;
     return {
-      period: s.period, phase, excluded: ex, n: s.n, x: s.x, value, centre, ucl, lcl, z,
+      period: s.period,
+      phase,
+      excluded: ex,
+      n: s.n,
+      x: s.x,
+      value,
+      centre,
+      ucl,
+      lcl,
+      z,
       outOfControl: value !== null && ucl !== null && lcl !== null && (value > ucl || value < lcl),
     };
   };
@@ -129,9 +138,21 @@ function phased(
 export function pChartWithBaseline(baseline: ChartSample[], monitoring: ChartSample[] = [], options: PhaseOptions = {}): PhasedChart {
   const c = phased(baseline, monitoring, options, (p, n) => Math.sqrt((p * (1 - p)) / n), [0, 1]);
   const method = `p-chart, ${c.sigmas}σ limits p̄ ± ${c.sigmas}√(p̄(1 − p̄)/nᵢ) per period held within [0, 1]; p̄ from the ${c.used.length} baseline period${c.used.length === 1 ? "" : "s"} (Phase I), applied unchanged to the later periods (Phase II)`;
-  if (c.centre === null) return { centre: null, sigmaZ: null, baselinePeriods: c.used.length, points: c.raw.map((r) => c.point(r, 1)), reason: "the baseline has no slabs", notes: [], method };
+  if (c.centre === null)
+    return {
+      centre: null,
+      sigmaZ: null,
+      baselinePeriods: c.used.length,
+      points: c.raw.map((r) => c.point(r, 1)),
+      reason: "the baseline has no slabs",
+      notes: [],
+      method,
+    };
   const notes: string[] = [];
-  if (c.centre === 0 || c.centre === 1) notes.push(c.centre === 0 ? "No affected slab in the baseline: the limits collapse onto 0." : "Every baseline slab is affected: the limits collapse onto 1.");
+  if (c.centre === 0 || c.centre === 1)
+    notes.push(
+      c.centre === 0 ? "No affected slab in the baseline: the limits collapse onto 0." : "Every baseline slab is affected: the limits collapse onto 1.",
+    );
   if (c.used.length < 20) notes.push(`Only ${c.used.length} baseline periods: Phase I limits are usually set on 20–25 or more.`);
   return { centre: c.centre, sigmaZ: 1, baselinePeriods: c.used.length, points: c.raw.map((r) => c.point(r, 1)), reason: null, notes, method };
 }
@@ -143,7 +164,16 @@ export function pChartWithBaseline(baseline: ChartSample[], monitoring: ChartSam
 export function uChartWithBaseline(baseline: ChartSample[], monitoring: ChartSample[] = [], options: PhaseOptions = {}): PhasedChart {
   const c = phased(baseline, monitoring, options, (u, n) => Math.sqrt(u / n), [0, Infinity]);
   const method = `u-chart, ${c.sigmas}σ limits ū ± ${c.sigmas}√(ū/nᵢ) per period, lower limit held at 0; ū from the ${c.used.length} baseline period${c.used.length === 1 ? "" : "s"} (Phase I), applied unchanged to the later periods (Phase II)`;
-  if (c.centre === null) return { centre: null, sigmaZ: null, baselinePeriods: c.used.length, points: c.raw.map((r) => c.point(r, 1)), reason: "the baseline has no units", notes: [], method };
+  if (c.centre === null)
+    return {
+      centre: null,
+      sigmaZ: null,
+      baselinePeriods: c.used.length,
+      points: c.raw.map((r) => c.point(r, 1)),
+      reason: "the baseline has no units",
+      notes: [],
+      method,
+    };
   return { centre: c.centre, sigmaZ: 1, baselinePeriods: c.used.length, points: c.raw.map((r) => c.point(r, 1)), reason: null, notes: [], method };
 }
 
@@ -161,9 +191,20 @@ const D2 = 1.128;
 export function laneyPChart(baseline: ChartSample[], monitoring: ChartSample[] = [], options: PhaseOptions = {}): PhasedChart {
   const c = phased(baseline, monitoring, options, (p, n) => Math.sqrt((p * (1 - p)) / n), [0, 1]);
   const method = `Laney p′ chart: ${c.sigmas}σ limits p̄ ± ${c.sigmas}σ_pᵢσ_z with σ_z = MR̄/1.128 of the z-scores of consecutive baseline periods; p̄ and σ_z from the baseline (Phase I), applied unchanged to the later periods (Phase II); limits held within [0, 1]`;
-  const none = (reason: string): PhasedChart => ({ centre: c.centre, sigmaZ: null, baselinePeriods: c.used.length, points: c.raw.map((r) => ({ ...c.point(r, 1), ucl: null, lcl: null, z: null, outOfControl: false })), reason, notes: [], method });
+  const none = (reason: string): PhasedChart => ({
+    centre: c.centre,
+    sigmaZ: null,
+    baselinePeriods: c.used.length,
+    points: c.raw.map((r) => ({ ...c.point(r, 1), ucl: null, lcl: null, z: null, outOfControl: false })),
+    reason,
+    notes: [],
+    method,
+  });
   if (c.centre === null) return none("the baseline has no slabs");
-  if (c.centre === 0 || c.centre === 1) return none(c.centre === 0 ? "no affected slab in the baseline: the z-scores are undefined" : "every baseline slab is affected: the z-scores are undefined");
+  if (c.centre === 0 || c.centre === 1)
+    return none(
+      c.centre === 0 ? "no affected slab in the baseline: the z-scores are undefined" : "every baseline slab is affected: the z-scores are undefined",
+    );
   const zs = c.raw.filter((r) => r.phase === "baseline" && !r.excluded && r.value !== null).map((r) => (r.value! - c.centre!) / r.sigma!);
   if (zs.length < 2) return none("fewer than two baseline periods: no moving range");
   let mr = 0;

@@ -30,7 +30,7 @@ export function midranks(values: ArrayLike<number>): Float64Array {
   const n = values.length;
   const order = Array.from({ length: n }, (_, i) => i).sort((a, b) => values[a]! - values[b]!);
   const ranks = new Float64Array(n);
-  for (let i = 0; i < n; ) {
+  for (let i = 0; i < n;) {
     let j = i;
     while (j + 1 < n && values[order[j + 1]!]! === values[order[i]!]!) j++;
     const r = (i + j) / 2 + 1;
@@ -60,7 +60,16 @@ export function aucDeLong({ risk, outcome }: Scored, confidence = 0.95): AucResu
   const n = neg.length;
   const method = `ROC AUC (Mann–Whitney, ties ½) with DeLong's variance; ${Math.round(confidence * 100)} % interval AUC ± z·SE, cut at 0 and 1`;
   if (m === 0 || n === 0) {
-    return { auc: null, se: null, lower: null, upper: null, positives: m, negatives: n, method, reason: m === 0 ? "no slab carried the defect" : "every slab carried the defect" };
+    return {
+      auc: null,
+      se: null,
+      lower: null,
+      upper: null,
+      positives: m,
+      negatives: n,
+      method,
+      reason: m === 0 ? "no slab carried the defect" : "every slab carried the defect",
+    };
   }
   const all = midranks([...pos, ...neg]);
   const rPos = midranks(pos);
@@ -75,7 +84,16 @@ export function aucDeLong({ risk, outcome }: Scored, confidence = 0.95): AucResu
   for (let j = 0; j < n; j++) v01[j] = 1 - (all[m + j]! - rNeg[j]!) / m;
   const auc = (sumAllPos - (m * (m + 1)) / 2) / (m * n);
   if (m < 2 || n < 2) {
-    return { auc, se: null, lower: null, upper: null, positives: m, negatives: n, method, reason: "DeLong's variance needs at least two slabs with and two without the defect" };
+    return {
+      auc,
+      se: null,
+      lower: null,
+      upper: null,
+      positives: m,
+      negatives: n,
+      method,
+      reason: "DeLong's variance needs at least two slabs with and two without the defect",
+    };
   }
   let s10 = 0;
   for (let i = 0; i < m; i++) s10 += (v10[i]! - auc) ** 2;
@@ -110,12 +128,18 @@ export interface Calibration {
  * Newton–Raphson to 1e−10. Risks of exactly 0 or 1 are moved in by 1e−12 (their logit is infinite).
  */
 export function calibration({ risk, outcome }: Scored): Calibration {
-  const method = "calibration intercept: logistic regression of the outcome with logit(risk) as offset; slope: coefficient of logit(risk) (Cox 1958; Van Calster et al. 2019)";
+  const method =
+    "calibration intercept: logistic regression of the outcome with logit(risk) as offset; slope: coefficient of logit(risk) (Cox 1958; Van Calster et al. 2019)";
   const n = risk.length;
   let events = 0;
   for (let i = 0; i < n; i++) events += outcome[i]! ? 1 : 0;
   if (n === 0 || events === 0 || events === n) {
-    return { intercept: null, slope: null, method, reason: n === 0 ? "no slabs" : events === 0 ? "no slab carried the defect" : "every slab carried the defect" };
+    return {
+      intercept: null,
+      slope: null,
+      method,
+      reason: n === 0 ? "no slabs" : events === 0 ? "no slab carried the defect" : "every slab carried the defect",
+    };
   }
   const lp = new Float64Array(n);
   for (let i = 0; i < n; i++) lp[i] = logit(Math.min(1 - 1e-12, Math.max(1e-12, risk[i]!)));
@@ -148,7 +172,11 @@ export function calibration({ risk, outcome }: Scored): Calibration {
   for (let i = 1; i < n; i++) if (lp[i] !== lp[0]) lpSpread = 1;
   if (lpSpread) {
     for (let it = 0; it < 100; it++) {
-      let g0 = 0, g1 = 0, h00 = 0, h01 = 0, h11 = 0;
+      let g0 = 0,
+        g1 = 0,
+        h00 = 0,
+        h01 = 0,
+        h11 = 0;
       for (let i = 0; i < n; i++) {
         const x = lp[i]!;
         const mu = expit(b0 + b1 * x);
@@ -173,7 +201,12 @@ export function calibration({ risk, outcome }: Scored): Calibration {
     }
   }
   const slope = converged ? b1 : null;
-  const reason = intercept === null || slope === null ? (lpSpread ? "the calibration fit did not converge (outcomes separated by risk)" : "every slab has the same risk: no slope") : undefined;
+  const reason =
+    intercept === null || slope === null
+      ? lpSpread
+        ? "the calibration fit did not converge (outcomes separated by risk)"
+        : "every slab has the same risk: no slope"
+      : undefined;
   return { intercept, slope, method, ...(reason ? { reason } : {}) };
 }
 

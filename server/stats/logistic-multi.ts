@@ -334,7 +334,14 @@ function irls(d: Design, act: Active, start: Float64Array, maxIterations: number
  * summed over the slabs in one pass (`patternOf` says which row each slab went to), which gives the
  * same sandwich. Gives up (null) when nearly every slab is distinct, where grouping only costs time.
  */
-function collapse(used: Int32Array, terms: TermColumn[], affected: ArrayLike<number>, slabs: ArrayLike<number> | undefined, pattern?: ArrayLike<number>, patternCount?: number) {
+function collapse(
+  used: Int32Array,
+  terms: TermColumn[],
+  affected: ArrayLike<number>,
+  slabs: ArrayLike<number> | undefined,
+  pattern?: ArrayLike<number>,
+  patternCount?: number,
+) {
   const m = used.length;
   if (m < 2) return null;
   const nums = terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values);
@@ -588,7 +595,8 @@ export function logisticRegressionMulti(terms: TermSpec[], rows: SlabRow[], opti
   const clusterIds = new Map<string | number, number>();
   const hasCluster = rows.some((r) => r.cluster !== undefined);
   const columns: TermColumn[] = terms.map((t, j) => {
-    if (t.kind === "numeric") return { name: t.name, kind: "numeric", values: Float64Array.from(rows, (r) => (typeof r.values[j] === "number" ? (r.values[j] as number) : NaN)) };
+    if (t.kind === "numeric")
+      return { name: t.name, kind: "numeric", values: Float64Array.from(rows, (r) => (typeof r.values[j] === "number" ? (r.values[j] as number) : NaN)) };
     const codes = new Map<string, number>();
     const labels: string[] = [];
     const c = Int32Array.from(rows, (r) => {
@@ -690,7 +698,8 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     slabs += Nw[r]!;
     affected += S[r]!;
   }
-  if (slabsMissing > 0) notes.push(`${slabsMissing} slab${slabsMissing === 1 ? "" : "s"} without a value for every term ${slabsMissing === 1 ? "is" : "are"} left out.`);
+  if (slabsMissing > 0)
+    notes.push(`${slabsMissing} slab${slabsMissing === 1 ? "" : "s"} without a value for every term ${slabsMissing === 1 ? "is" : "are"} left out.`);
 
   // Levels and spread of each term.
   const variables: VariableTest[] = [];
@@ -698,7 +707,18 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   /** Per categorical term: code → design column (−1 for the reference). */
   const levelIndex: (Map<number, number> | null)[] = [];
   terms.forEach((t, j) => {
-    const test: VariableTest = { variable: t.name, kind: t.kind, df: 0, lrChi2: null, lrP: null, waldChi2: null, waldP: null, gvif: null, gvifPerDf: null, reason: null };
+    const test: VariableTest = {
+      variable: t.name,
+      kind: t.kind,
+      df: 0,
+      lrChi2: null,
+      lrP: null,
+      waldChi2: null,
+      waldP: null,
+      gvif: null,
+      gvifPerDf: null,
+      reason: null,
+    };
     variables.push(test);
     if (t.kind === "numeric") {
       levelIndex.push(null);
@@ -729,7 +749,9 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     const codeOf = new Map<string, number>();
     for (const code of byCode.keys()) codeOf.set(labelOf(code), code);
     const present = [...codeOf.keys()];
-    const order = t.levels ? [...t.levels.filter((l) => codeOf.has(l)), ...present.filter((l) => !t.levels!.includes(l)).sort(naturalOrder)] : present.sort(naturalOrder);
+    const order = t.levels
+      ? [...t.levels.filter((l) => codeOf.has(l)), ...present.filter((l) => !t.levels!.includes(l)).sort(naturalOrder)]
+      : present.sort(naturalOrder);
     let reference = order[0];
     if (t.reference !== undefined) {
       if (codeOf.has(t.reference)) reference = t.reference;
@@ -754,7 +776,9 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     seKind === "model"
       ? "model-based standard errors (inverse Fisher information)"
       : `cluster-robust (sandwich) standard errors clustered by heat (Liang & Zeger 1986) with the small-sample factor ${
-          factor === "CR1" ? "G/(G − 1)·(N − 1)/(N − K) (CR1, as statsmodels applies it; N slabs, K parameters)" : "G/(G − 1) alone (as R's sandwich::vcovCL applies it by default)"
+          factor === "CR1"
+            ? "G/(G − 1)·(N − 1)/(N − K) (CR1, as statsmodels applies it; N slabs, K parameters)"
+            : "G/(G − 1) alone (as R's sandwich::vcovCL applies it by default)"
         }, normal reference distribution`;
   const method =
     "multivariable logistic regression by maximum likelihood (IRLS); " +
@@ -764,10 +788,38 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     "design-based (generalised) variance inflation factors; deviance and AIC on the slab level";
 
   const empty = (reason: string, extra: Partial<MultiLogisticFit> = {}): MultiLogisticFit => ({
-    converged: false, iterations: 0, slabs, affected, slabsMissing, clusters: null, seMethod: seKind,
+    converged: false,
+    iterations: 0,
+    slabs,
+    affected,
+    slabsMissing,
+    clusters: null,
+    seMethod: seKind,
     intercept: { coef: null, se: null, z: null, p: null },
-    terms: columns.map((c) => ({ variable: c.variable, column: c.name, level: c.level, reference: c.reference, coef: null, se: null, z: null, p: null, oddsRatio: null, ciLower: null, ciUpper: null, vif: null })),
-    variables, covariance: null, deviance: null, nullDeviance: null, aic: null, separation: null, reason, notes, method, ...extra,
+    terms: columns.map((c) => ({
+      variable: c.variable,
+      column: c.name,
+      level: c.level,
+      reference: c.reference,
+      coef: null,
+      se: null,
+      z: null,
+      p: null,
+      oddsRatio: null,
+      ciLower: null,
+      ciUpper: null,
+      vif: null,
+    })),
+    variables,
+    covariance: null,
+    deviance: null,
+    nullDeviance: null,
+    aic: null,
+    separation: null,
+    reason,
+    notes,
+    method,
+    ...extra,
   });
 
   if (slabs === 0) return empty("no slabs with a value for every term");
@@ -785,12 +837,17 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       for (const l of test.levels ?? []) {
         if (l.affected === 0 || l.affected === l.slabs) {
           separated.push(`${t.name} = ${l.level}`);
-          separationWords.push(`${t.name} ${l.level} has ${l.affected === 0 ? "no affected slab" : "only affected slabs"} (${l.slabs} slab${l.slabs === 1 ? "" : "s"})`);
+          separationWords.push(
+            `${t.name} ${l.level} has ${l.affected === 0 ? "no affected slab" : "only affected slabs"} (${l.slabs} slab${l.slabs === 1 ? "" : "s"})`,
+          );
         }
       }
       return;
     }
-    let minA = Infinity, maxA = -Infinity, minS = Infinity, maxS = -Infinity;
+    let minA = Infinity,
+      maxA = -Infinity,
+      minS = Infinity,
+      maxS = -Infinity;
     for (let r = 0; r < rowsN; r++) {
       const v = t.values[ix[r]!]!;
       if (S[r]! > 0) {
@@ -820,9 +877,16 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   const kn = numericCols.length;
   const kc = catTerms.length;
   const d: Design = {
-    rows: rowsN, p, kn, xn: new Float64Array(rowsN * kn), numCol: Int32Array.from(numericCols, (ci) => ci + 1),
-    kc, xc: new Int32Array(rowsN * kc), catCols: catTerms.map((j) => Int32Array.from(columns.map((c, ci) => (c.term === j ? ci + 1 : -1)).filter((x) => x > 0))),
-    s: S, n: Nw,
+    rows: rowsN,
+    p,
+    kn,
+    xn: new Float64Array(rowsN * kn),
+    numCol: Int32Array.from(numericCols, (ci) => ci + 1),
+    kc,
+    xc: new Int32Array(rowsN * kc),
+    catCols: catTerms.map((j) => Int32Array.from(columns.map((c, ci) => (c.term === j ? ci + 1 : -1)).filter((x) => x > 0))),
+    s: S,
+    n: Nw,
   };
   numericCols.forEach((ci, b) => {
     const values = (terms[columns[ci]!.term] as { values: ArrayLike<number> }).values;
@@ -858,14 +922,20 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       d.xc[r * kc + b] = lastCol;
     }
   });
-  const allAct: Active = { cols: Int32Array.from({ length: p }, (_, i) => i), num: Int32Array.from({ length: kn }, (_, i) => i), cat: Int32Array.from({ length: kc }, (_, i) => i) };
+  const allAct: Active = {
+    cols: Int32Array.from({ length: p }, (_, i) => i),
+    num: Int32Array.from({ length: kn }, (_, i) => i),
+    cat: Int32Array.from({ length: kc }, (_, i) => i),
+  };
 
   // Slab-weighted correlation of the columns: collinearity check and (G)VIF, from the weighted
   // cross-products (the numeric columns are already centred and scaled).
   const q = columns.length;
   const cross = accumulate(d, allAct, null).info;
   // cov(a, b) = Σw xₐx_b − Σw xₐ · Σw x_b / N, with Σw xₐ = cross(a, intercept).
-  const cov = Array.from({ length: q }, (_, a) => Array.from({ length: q }, (_, b) => cross[(a + 1) * p + b + 1]! - (cross[(a + 1) * p]! * cross[(b + 1) * p]!) / slabs));
+  const cov = Array.from({ length: q }, (_, a) =>
+    Array.from({ length: q }, (_, b) => cross[(a + 1) * p + b + 1]! - (cross[(a + 1) * p]! * cross[(b + 1) * p]!) / slabs),
+  );
   const corr = cov.map((row, a) => row.map((v, b) => v / Math.sqrt(cov[a]![a]! * cov[b]![b]!)));
   const dependent = q > 0 ? firstDependentColumn(corr, 1e-10) : -1;
   if (dependent >= 0) {
@@ -954,8 +1024,14 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       }
     }
     clusters = G;
-    if (G < 2) return empty("fewer than two heats: cluster-robust standard errors are undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
-    if (factor === "CR1" && slabs <= p) return empty("no more slabs than parameters: the small-sample factor (N − 1)/(N − K) is undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
+    if (G < 2)
+      return empty("fewer than two heats: cluster-robust standard errors are undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
+    if (factor === "CR1" && slabs <= p)
+      return empty("no more slabs than parameters: the small-sample factor (N − 1)/(N − K) is undefined", {
+        iterations: fit.iterations,
+        deviance: fit.deviance,
+        nullDeviance,
+      });
     const meatFlat = new Float64Array(p * p);
     // Each heat with a used row, in the order of first appearance (the caller's numbering may hold more).
     for (let k = 0; k < G; k++) {
@@ -969,7 +1045,8 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     const meat = Array.from({ length: p }, (_, a) => Array.from({ length: p }, (_, c) => (c <= a ? meatFlat[a * p + c]! : meatFlat[c * p + a]!)));
     const cf = factor === "CR1" ? (G / (G - 1)) * ((slabs - 1) / (slabs - p)) : G / (G - 1);
     vFit = congruence(bread, meat).map((row) => row.map((v) => v * cf));
-    if (G < 30) notes.push(`Only ${G} heats: cluster-robust standard errors are unreliable with few clusters (Cameron & Miller 2015, J. Human Resources 50:317).`);
+    if (G < 30)
+      notes.push(`Only ${G} heats: cluster-robust standard errors are unreliable with few clusters (Cameron & Miller 2015, J. Human Resources 50:317).`);
   }
   // Back to the original scale: β = T β_fit, V = T V_fit Tᵀ.
   const T = Array.from({ length: p }, (_, a) => Array.from({ length: p }, (_, b) => (a === b ? 1 / scale[a]! : 0)));
@@ -984,8 +1061,14 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   const termsOut: TermEstimate[] = columns.map((c, i) => {
     const w = waldOf(i + 1);
     return {
-      variable: c.variable, column: c.name, level: c.level, reference: c.reference, ...w,
-      oddsRatio: Math.exp(w.coef), ciLower: Math.exp(w.coef - zq * w.se), ciUpper: Math.exp(w.coef + zq * w.se),
+      variable: c.variable,
+      column: c.name,
+      level: c.level,
+      reference: c.reference,
+      ...w,
+      oddsRatio: Math.exp(w.coef),
+      ciLower: Math.exp(w.coef - zq * w.se),
+      ciUpper: Math.exp(w.coef + zq * w.se),
       vif: corrInv ? corrInv[i]![i]! : null,
     };
   });
@@ -995,7 +1078,12 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     const test = variables[j]!;
     if (test.df === 0) return;
     const idx = columns.map((c, i) => (c.term === j ? i : -1)).filter((i) => i >= 0);
-    const vInv = choleskyInverse(subMatrix(V, idx.map((i) => i + 1)));
+    const vInv = choleskyInverse(
+      subMatrix(
+        V,
+        idx.map((i) => i + 1),
+      ),
+    );
     if (vInv) {
       const b = idx.map((i) => beta[i + 1]!);
       let w = 0;
@@ -1037,7 +1125,8 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     test.lrChi2 = lr;
     test.lrP = chiSquareUpper(lr, idx.length);
   });
-  if (seKind === "cluster" && options.likelihoodRatio !== false) notes.push("The likelihood-ratio tests take slabs as independent; with heat-level variables read the cluster-robust Wald tests.");
+  if (seKind === "cluster" && options.likelihoodRatio !== false)
+    notes.push("The likelihood-ratio tests take slabs as independent; with heat-level variables read the cluster-robust Wald tests.");
   const w0 = waldOf(0);
   return {
     converged: true,

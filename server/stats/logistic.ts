@@ -39,14 +39,23 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
   for (const r of rows) r.x.forEach((v, j) => (means[j]! += v * r.trials));
   for (let j = 0; j < k - 1; j++) means[j]! /= n || 1;
   const notFitted = (method: string, iterations = 0, deviance = NaN): LogisticFit => ({
-    coefficients: new Array<number>(k).fill(NaN), standardErrors: new Array<number>(k).fill(NaN), z: new Array<number>(k).fill(NaN), p: new Array<number>(k).fill(NaN),
-    oddsRatios: means.map(() => ({ value: NaN, lower: NaN, upper: NaN })), iterations, converged: false, deviance, n, method,
+    coefficients: new Array<number>(k).fill(NaN),
+    standardErrors: new Array<number>(k).fill(NaN),
+    z: new Array<number>(k).fill(NaN),
+    p: new Array<number>(k).fill(NaN),
+    oddsRatios: means.map(() => ({ value: NaN, lower: NaN, upper: NaN })),
+    iterations,
+    converged: false,
+    deviance,
+    n,
+    method,
   });
   // A covariate with a single value makes the information singular, but rounding in its centring can
   // hide that; it is not separation, and the note must say which it is. Equal stored values compare exactly.
   const used = rows.filter((r) => r.trials > 0);
   if (used.length === 0) return notFitted("not testable: no slabs");
-  if (means.some((_, j) => used.every((r) => r.x[j] === used[0]!.x[j]))) return notFitted("not testable: the variable has no spread (every slab has the same value)");
+  if (means.some((_, j) => used.every((r) => r.x[j] === used[0]!.x[j])))
+    return notFitted("not testable: the variable has no spread (every slab has the same value)");
   const design = rows.map((r) => [1, ...r.x.map((v, j) => v - means[j]!)]);
   let beta = new Array<number>(k).fill(0);
   const ybar = rows.reduce((s, r) => s + r.successes, 0) / (n || 1);
@@ -89,7 +98,13 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
   }
   const cov = choleskyInverse(info);
   if (!cov || !converged) {
-    return notFitted(ybar <= 0 || ybar >= 1 ? "not testable: the outcome does not vary (no affected slab, or every slab affected)" : "IRLS did not converge (the outcome may be perfectly separated by the variable)", iterations, deviance);
+    return notFitted(
+      ybar <= 0 || ybar >= 1
+        ? "not testable: the outcome does not vary (no affected slab, or every slab affected)"
+        : "IRLS did not converge (the outcome may be perfectly separated by the variable)",
+      iterations,
+      deviance,
+    );
   }
   // Back to the original scale: b0 = a0 − Σ bⱼ mⱼ, Var(b0) = cᵀ Σ c with c = (1, −m₁, …).
   const c = [1, ...means.map((m) => -m)];

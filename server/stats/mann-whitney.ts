@@ -95,5 +95,8 @@ export function mannWhitney(x: number[], y: number[], alternative: Alternative =
   };
   x.forEach((v) => add(v, true));
   y.forEach((v) => add(v, false));
-  return mannWhitneyGrouped([...map.values()].sort((a, b) => a.value - b.value), alternative);
+  return mannWhitneyGrouped(
+    [...map.values()].sort((a, b) => a.value - b.value),
+    alternative,
+  );
 }

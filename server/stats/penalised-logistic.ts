@@ -89,8 +89,17 @@ export function penalisedLogistic(columns: readonly Float64Array[], y: Uint8Arra
   const { mean, variance } = columnMoments(columns, rows);
   const scale = options.penaltyScale ?? variance;
   const failed = (why: string): PenalisedFit => ({
-    coefficients: new Array<number>(k).fill(NaN), covariance: null, effectiveDf: null, penalisedLogLik: NaN, logLik: NaN,
-    iterations: 0, converged: false, lambda, n, events, method: `${method}: not fitted — ${why}`,
+    coefficients: new Array<number>(k).fill(NaN),
+    covariance: null,
+    effectiveDf: null,
+    penalisedLogLik: NaN,
+    logLik: NaN,
+    iterations: 0,
+    converged: false,
+    lambda,
+    n,
+    events,
+    method: `${method}: not fitted — ${why}`,
   });
   if (n === 0) return failed("no slabs");
   if (events === 0 || events === n) return failed(events === 0 ? "no slab carries the defect" : "every slab carries the defect");

@@ -57,7 +57,7 @@ export function tieSum(groups: Group[]): number {
 export function rank(values: number[]): number[] {
   const idx = values.map((v, i) => [v, i] as const).sort((a, b) => a[0] - b[0]);
   const r = new Array<number>(values.length);
-  for (let i = 0; i < idx.length; ) {
+  for (let i = 0; i < idx.length;) {
     let j = i;
     while (j + 1 < idx.length && idx[j + 1]![0] === idx[i]![0]) j++;
     const mean = (i + j) / 2 + 1;

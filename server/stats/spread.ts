@@ -65,7 +65,16 @@ export class RunningSpread {
     if (n === 0) return { n, mean: null, variance: null, sd: null, min: null, max: null, noSpread: true, reason: "no values" };
     if (this.min === this.max) {
       // Exact: equal values have no spread whatever rounding did to the running sums.
-      return { n, mean: this.min, variance: n > 1 ? 0 : null, sd: n > 1 ? 0 : null, min: this.min, max: this.max, noSpread: true, reason: n > 1 ? "every value is the same" : "only one value" };
+      return {
+        n,
+        mean: this.min,
+        variance: n > 1 ? 0 : null,
+        sd: n > 1 ? 0 : null,
+        min: this.min,
+        max: this.max,
+        noSpread: true,
+        reason: n > 1 ? "every value is the same" : "only one value",
+      };
     }
     if (n < 2) return { n, mean: this.mean, variance: null, sd: null, min: this.min, max: this.max, noSpread: true, reason: "only one value" };
     const variance = Math.max(0, this.m2 / (n - 1));

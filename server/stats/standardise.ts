@@ -50,8 +50,7 @@ export interface StandardisedDifference {
   method: string;
 }
 
-const METHOD =
-  "direct standardisation to the reference mix, Σ wⱼpⱼ; variance Σ wⱼ²pⱼ(1 − pⱼ)/nⱼ; normal-approximation (Wald) interval, clipped to [0, 1]";
+const METHOD = "direct standardisation to the reference mix, Σ wⱼpⱼ; variance Σ wⱼ²pⱼ(1 − pⱼ)/nⱼ; normal-approximation (Wald) interval, clipped to [0, 1]";
 
 /**
  * The reference mix made of several groups together (e.g. both periods of a before/after
@@ -108,14 +107,26 @@ export function directlyStandardisedRate(strata: RateStratum[], reference: Refer
   const w = weighted(strata, reference);
   const crude = w.n > 0 ? w.x / w.n : null;
   const base = { crude, slabs: w.n, affected: w.x, missingStrata: w.missing, method: METHOD };
-  if (w.refCount === 0 || !(w.total > 0)) return { ...base, rate: null, se: null, ciLower: null, ciUpper: null, reason: "the reference mix is empty", notes: [] };
+  if (w.refCount === 0 || !(w.total > 0))
+    return { ...base, rate: null, se: null, ciLower: null, ciUpper: null, reason: "the reference mix is empty", notes: [] };
   if (w.missing.length > 0) {
-    return { ...base, rate: null, se: null, ciLower: null, ciUpper: null, reason: `no slab in ${w.missing.join(", ")}, which the reference mix contains: the standardised rate is undefined`, notes: [] };
+    return {
+      ...base,
+      rate: null,
+      se: null,
+      ciLower: null,
+      ciUpper: null,
+      reason: `no slab in ${w.missing.join(", ")}, which the reference mix contains: the standardised rate is undefined`,
+      notes: [],
+    };
   }
   const se = Math.sqrt(w.variance);
   const z = normalQuantileOf(1 - (1 - confidence) / 2);
   const notes: string[] = [];
-  if (w.zeroVarianceStrata > 0) notes.push(`${w.zeroVarianceStrata} stratum${w.zeroVarianceStrata === 1 ? " has" : "s have"} no affected or only affected slabs; the binomial variance counts them as certain, so the interval is too narrow there.`);
+  if (w.zeroVarianceStrata > 0)
+    notes.push(
+      `${w.zeroVarianceStrata} stratum${w.zeroVarianceStrata === 1 ? " has" : "s have"} no affected or only affected slabs; the binomial variance counts them as certain, so the interval is too narrow there.`,
+    );
   return { ...base, rate: w.rate, se, ciLower: Math.max(0, w.rate - z * se), ciUpper: Math.min(1, w.rate + z * se), reason: null, notes };
 }
 

@@ -89,7 +89,12 @@ export function stratumOddsRatio(s: Stratum2x2, confidence = 0.95): StratumOddsR
   const se = Math.sqrt(1 / a + 1 / b + 1 / c + 1 / d);
   const z = zOf(confidence);
   return {
-    label: s.label, n, oddsRatio: Math.exp(lnOr), ciLower: Math.exp(lnOr - z * se), ciUpper: Math.exp(lnOr + z * se), zeroCellCorrection: zero,
+    label: s.label,
+    n,
+    oddsRatio: Math.exp(lnOr),
+    ciLower: Math.exp(lnOr - z * se),
+    ciUpper: Math.exp(lnOr + z * se),
+    zeroCellCorrection: zero,
     reason: zero ? "a cell is zero: 0.5 added to every cell (Haldane–Anscombe)" : null,
   };
 }
@@ -169,7 +174,10 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
   const used = strata.filter((s) => !uninformative(s));
   const notes: string[] = [];
   const skipped = strata.length - used.length;
-  if (skipped > 0) notes.push(`${skipped} ${skipped === 1 ? "stratum" : "strata"} without both groups or both outcomes ${skipped === 1 ? "adds" : "add"} nothing to the pooled estimate.`);
+  if (skipped > 0)
+    notes.push(
+      `${skipped} ${skipped === 1 ? "stratum" : "strata"} without both groups or both outcomes ${skipped === 1 ? "adds" : "add"} nothing to the pooled estimate.`,
+    );
   let R = 0;
   let S = 0;
   let PR = 0;
@@ -222,8 +230,18 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
           ? "Σ aᵢdᵢ/nᵢ is zero (no stratum has affected slabs in the first group together with unaffected slabs in the second): the common odds ratio is 0 and has no interval"
           : "Σ bᵢcᵢ/nᵢ is zero (no stratum has unaffected slabs in the first group together with affected slabs in the second): the common odds ratio is unbounded";
     return {
-      strata: per, informativeStrata: used.length, oddsRatio: null, ciLower: null, ciUpper: null, logOddsRatioSe: null, crudeOddsRatio: crude, cmh,
-      breslowDay: breslowDay(strata, null, tarone), reason, notes, method,
+      strata: per,
+      informativeStrata: used.length,
+      oddsRatio: null,
+      ciLower: null,
+      ciUpper: null,
+      logOddsRatioSe: null,
+      crudeOddsRatio: crude,
+      cmh,
+      breslowDay: breslowDay(strata, null, tarone),
+      reason,
+      notes,
+      method,
     };
   }
   const or = R / S;
@@ -231,7 +249,10 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
   const se = Math.sqrt(variance);
   const z = zOf(confidence);
   const bd = breslowDay(strata, or, tarone);
-  if (bd.smallExpected > 0) notes.push(`${bd.smallExpected} ${bd.smallExpected === 1 ? "stratum has" : "strata have"} an expected cell below 5: the Breslow–Day test is then approximate.`);
+  if (bd.smallExpected > 0)
+    notes.push(
+      `${bd.smallExpected} ${bd.smallExpected === 1 ? "stratum has" : "strata have"} an expected cell below 5: the Breslow–Day test is then approximate.`,
+    );
   if (used.length === 1) notes.push("Only one stratum carries information: the Mantel–Haenszel estimate is that stratum's odds ratio.");
   return {
     strata: per,

@@ -90,12 +90,16 @@ export const defectCausesSchema = z.object({
 export type DefectCauses = z.infer<typeof defectCausesSchema>;
 
 /** Which defects a bulk tagging covers: a heat's, a sequence's, a filter result's, or listed ones. */
-export const bulkSelectionSchema = z.discriminatedUnion("kind", [
-  z.object({ kind: z.literal("heat"), heatNo: z.string().trim().min(1).max(40) }),
-  z.object({ kind: z.literal("sequence"), sequenceNo: z.string().trim().min(1).max(40) }),
-  z.object({ kind: z.literal("filter"), filters: reportFiltersSchema }),
-  z.object({ kind: z.literal("defects"), ids: z.array(z.number().int().positive()).min(1).max(5000) }),
-], { error: "The selection is a heat, a sequence, a filter or a list of defects." });
+export const bulkSelectionSchema = z.discriminatedUnion(
+  "kind",
+  [
+    z.object({ kind: z.literal("heat"), heatNo: z.string().trim().min(1).max(40) }),
+    z.object({ kind: z.literal("sequence"), sequenceNo: z.string().trim().min(1).max(40) }),
+    z.object({ kind: z.literal("filter"), filters: reportFiltersSchema }),
+    z.object({ kind: z.literal("defects"), ids: z.array(z.number().int().positive()).min(1).max(5000) }),
+  ],
+  { error: "The selection is a heat, a sequence, a filter or a list of defects." },
+);
 
 /** POST /api/causes/bulk: the same tags on every selected defect; dryRun counts without writing. */
 export const bulkTagSchema = tagDefectSchema.extend({

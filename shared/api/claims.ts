@@ -59,9 +59,31 @@ export const claimQuerySchema = z.object({
  * holds those the claims officer chooses among CUSTOMER_SECTIONS — process samples and the plant's
  * other claims never leave the plant.
  */
-export const HISTORY_SECTIONS = ["chemistry", "conditions", "samples", "slabs", "defects", "photos", "dispositions", "causes", "investigations", "claims", "audit"] as const;
+export const HISTORY_SECTIONS = [
+  "chemistry",
+  "conditions",
+  "samples",
+  "slabs",
+  "defects",
+  "photos",
+  "dispositions",
+  "causes",
+  "investigations",
+  "claims",
+  "audit",
+] as const;
 export type HistorySection = (typeof HISTORY_SECTIONS)[number];
-export const CUSTOMER_SECTIONS = ["chemistry", "conditions", "slabs", "defects", "photos", "dispositions", "causes", "investigations", "audit"] as const satisfies readonly HistorySection[];
+export const CUSTOMER_SECTIONS = [
+  "chemistry",
+  "conditions",
+  "slabs",
+  "defects",
+  "photos",
+  "dispositions",
+  "causes",
+  "investigations",
+  "audit",
+] as const satisfies readonly HistorySection[];
 export type CustomerSection = (typeof CUSTOMER_SECTIONS)[number];
 /** On unless the officer takes them off; causes, investigations and the audit trail are off unless put on. */
 export const CUSTOMER_DEFAULT_SECTIONS: CustomerSection[] = ["chemistry", "conditions", "slabs", "defects", "photos", "dispositions"];
@@ -101,7 +123,10 @@ export type HistoryEditionQuery = z.input<typeof historyEditionQuerySchema>;
 
 export const sendHistorySchema = z.object({
   heatNo: z.string().trim().min(1).max(40),
-  to: z.array(z.email({ error: "This is not an e-mail address." })).min(1, "Give at least one recipient.").max(10),
+  to: z
+    .array(z.email({ error: "This is not an e-mail address." }))
+    .min(1, "Give at least one recipient.")
+    .max(10),
   message: z.string().trim().max(2000).optional(),
   /** The customer edition unless the officer chooses the internal one. */
   edition: editionField.default("customer"),
@@ -109,7 +134,15 @@ export const sendHistorySchema = z.object({
 });
 
 const person = z.object({ id: z.string(), name: z.string() }).nullable();
-const attachment = z.object({ id: z.string(), fileName: z.string(), mime: z.string(), bytes: z.number().int(), url: z.string(), at: z.string(), by: z.string().nullable() });
+const attachment = z.object({
+  id: z.string(),
+  fileName: z.string(),
+  mime: z.string(),
+  bytes: z.number().int(),
+  url: z.string(),
+  at: z.string(),
+  by: z.string().nullable(),
+});
 
 export const claimSummarySchema = z.object({
   id: z.number().int(),
@@ -130,7 +163,17 @@ export const claimSchema = claimSummarySchema.extend({
   createdBy: person,
   createdAt: z.string(),
   linkedSlabs: z.array(
-    z.object({ slabId: z.string(), heatNo: z.string(), sequenceNo: z.string().nullable(), grade: z.string(), disposition: z.string().nullable(), defects: z.number().int(), linkedVia: z.string(), linkedAt: z.string(), products: z.array(z.string()) }),
+    z.object({
+      slabId: z.string(),
+      heatNo: z.string(),
+      sequenceNo: z.string().nullable(),
+      grade: z.string(),
+      disposition: z.string().nullable(),
+      defects: z.number().int(),
+      linkedVia: z.string(),
+      linkedAt: z.string(),
+      products: z.array(z.string()),
+    }),
   ),
   /** Product ids given that the rolling-mill trace does not know. */
   untracedProducts: z.array(z.string()),
@@ -186,25 +229,86 @@ export const heatHistorySchema = z.object({
   }),
   slabs: z.array(
     z.object({
-      slabId: z.string(), strand: z.number().int(), pieceNo: z.number().int(), lengthMm: z.number(), widthMm: z.number(), thicknessMm: z.number(),
-      weightT: n, castAt: s, transition: z.boolean(), disposition: s, defects: z.number().int(),
+      slabId: z.string(),
+      strand: z.number().int(),
+      pieceNo: z.number().int(),
+      lengthMm: z.number(),
+      widthMm: z.number(),
+      thicknessMm: z.number(),
+      weightT: n,
+      castAt: s,
+      transition: z.boolean(),
+      disposition: s,
+      defects: z.number().int(),
       conditions: z.array(z.object({ key: z.string(), value: n, source: s })),
       products: z.array(z.string()),
     }),
   ),
   defects: z.array(
     z.object({
-      id: z.number().int(), slabId: z.string(), type: z.string(), typeName: z.string(), face: z.string(), positionAlongMm: n, positionAcrossMm: n,
-      lengthMm: n, widthMm: n, depthMm: n, severity: z.number().int(), stage: z.string(), disposition: s, reviewStatus: s,
-      foundAt: z.string(), loggedBy: s, note: s, causes: z.array(z.string()),
+      id: z.number().int(),
+      slabId: z.string(),
+      type: z.string(),
+      typeName: z.string(),
+      face: z.string(),
+      positionAlongMm: n,
+      positionAcrossMm: n,
+      lengthMm: n,
+      widthMm: n,
+      depthMm: n,
+      severity: z.number().int(),
+      stage: z.string(),
+      disposition: s,
+      reviewStatus: s,
+      foundAt: z.string(),
+      loggedBy: s,
+      note: s,
+      causes: z.array(z.string()),
       photos: z.array(z.object({ id: z.string(), url: z.string(), thumbUrl: z.string() })),
     }),
   ),
-  causes: z.array(z.object({ defectId: z.number().int(), slabId: z.string(), tag: z.string(), tagName: z.string(), confidence: z.string(), note: s, by: s, at: z.string(), removedAt: s, removedBy: s })),
+  causes: z.array(
+    z.object({
+      defectId: z.number().int(),
+      slabId: z.string(),
+      tag: z.string(),
+      tagName: z.string(),
+      confidence: z.string(),
+      note: s,
+      by: s,
+      at: z.string(),
+      removedAt: s,
+      removedBy: s,
+    }),
+  ),
   /** Null in the customer edition (the samples stay in the plant). */
   samples: z.object({ count: z.number().int(), strands: z.array(z.number().int()) }).nullable(),
-  investigations: z.array(z.object({ id: z.number().int(), ref: z.string(), title: z.string(), status: z.string(), openedAt: z.string(), closedAt: s, confirmedCause: s, owner: s, sameHeat: z.boolean() })),
-  claims: z.array(z.object({ id: z.number().int(), claimNo: z.string(), customer: z.string(), receivedOn: z.string(), defectComplained: z.string(), status: z.string(), quantityT: n, sameHeat: z.boolean(), slabs: z.array(z.string()) })),
+  investigations: z.array(
+    z.object({
+      id: z.number().int(),
+      ref: z.string(),
+      title: z.string(),
+      status: z.string(),
+      openedAt: z.string(),
+      closedAt: s,
+      confirmedCause: s,
+      owner: s,
+      sameHeat: z.boolean(),
+    }),
+  ),
+  claims: z.array(
+    z.object({
+      id: z.number().int(),
+      claimNo: z.string(),
+      customer: z.string(),
+      receivedOn: z.string(),
+      defectComplained: z.string(),
+      status: z.string(),
+      quantityT: n,
+      sameHeat: z.boolean(),
+      slabs: z.array(z.string()),
+    }),
+  ),
   /** The record of changes in words (who, when, what), never the stored internals. */
   audit: z.array(z.object({ at: z.string(), by: s, what: z.string() })),
 });

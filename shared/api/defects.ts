@@ -22,7 +22,11 @@ export const defectCreateSchema = z.object({
   stage: stageSchema.default("slab_yard"),
   disposition: dispositionSchema,
   note: z.string().trim().max(2000).nullable().optional(),
-  client_key: z.string().min(8).max(64).regex(/^[A-Za-z0-9_-]+$/, "client_key: letters, digits, - and _ only."),
+  client_key: z
+    .string()
+    .min(8)
+    .max(64)
+    .regex(/^[A-Za-z0-9_-]+$/, "client_key: letters, digits, - and _ only."),
   found_at: z.iso.datetime({ offset: true }).optional(),
 });
 export type DefectCreate = z.input<typeof defectCreateSchema>;
@@ -125,7 +129,10 @@ export const defectCreatedSchema = z.object({
 
 export const defectListQuerySchema = z.object({
   /** Only the caller's own entries. */
-  mine: z.enum(["true", "false"]).optional().transform((v) => v === "true"),
+  mine: z
+    .enum(["true", "false"])
+    .optional()
+    .transform((v) => v === "true"),
   /** Entries found from this day (YYYY-MM-DD, UTC) … */
   from: z.string().trim().max(40).optional(),
   to: z.string().trim().max(40).optional(),
@@ -186,7 +193,13 @@ export const catalogueSchema = z.object({
   categories: z.array(defectCategorySchema),
 });
 
-const code = (max: number) => z.string().trim().min(1).max(max).regex(/^[A-Za-z0-9_-]+$/, "Use letters, digits, - and _ only.");
+const code = (max: number) =>
+  z
+    .string()
+    .trim()
+    .min(1)
+    .max(max)
+    .regex(/^[A-Za-z0-9_-]+$/, "Use letters, digits, - and _ only.");
 
 export const defectTypeInputSchema = z.object({
   code: code(16),

@@ -61,8 +61,20 @@ export type HeatList = z.infer<typeof heatListSchema>;
 // ---------------------------------------------------------------------------------------------
 
 export const chemistrySchema = z.object({
-  cPct: num, siPct: num, mnPct: num, pPct: num, sPct: num, alPct: num, cuPct: num, niPct: num,
-  crPct: num, moPct: num, tiPct: num, nbPct: num, vPct: num, nPpm: num,
+  cPct: num,
+  siPct: num,
+  mnPct: num,
+  pPct: num,
+  sPct: num,
+  alPct: num,
+  cuPct: num,
+  niPct: num,
+  crPct: num,
+  moPct: num,
+  tiPct: num,
+  nbPct: num,
+  vPct: num,
+  nPpm: num,
 });
 
 /** A slab's resolved conditions with the source of each value and the derived values. */
@@ -172,9 +184,7 @@ export const heatSamplesSchema = z.object({
       strandNo: z.number().int(),
       total: z.number().int(),
       /** Columns: time (ISO), cast length m, speed m/min, tundish °C, brake A, SEN mm, argon NL/min, mold level mm. */
-      points: z.array(
-        z.tuple([z.string(), num, num, num, num, num, num, num]),
-      ),
+      points: z.array(z.tuple([z.string(), num, num, num, num, num, num, num])),
     }),
   ),
 });
@@ -261,7 +271,12 @@ export const strandUpdateSchema = z
 export type StrandUpdate = z.infer<typeof strandUpdateSchema>;
 
 export const casterCreateSchema = z.object({
-  code: z.string().trim().min(1).max(16).regex(/^[A-Za-z0-9_-]+$/, "Use letters, digits, - and _ only."),
+  code: z
+    .string()
+    .trim()
+    .min(1)
+    .max(16)
+    .regex(/^[A-Za-z0-9_-]+$/, "Use letters, digits, - and _ only."),
   name: z.string().trim().min(1).max(120),
   worksName: z.string().trim().min(1).max(120),
   machineType: z.enum(["curved", "vertical-bending", "vertical"]).default("curved"),
@@ -283,13 +298,23 @@ export const casterCreateSchema = z.object({
 export type CasterCreate = z.infer<typeof casterCreateSchema>;
 
 export const gradeFamilyInputSchema = z.object({
-  code: z.string().trim().min(1).max(16).regex(/^[A-Za-z0-9_-]+$/, "Use letters, digits, - and _ only."),
+  code: z
+    .string()
+    .trim()
+    .min(1)
+    .max(16)
+    .regex(/^[A-Za-z0-9_-]+$/, "Use letters, digits, - and _ only."),
   name: z.string().trim().min(1).max(120),
   description: z.string().trim().max(500).nullable().default(null),
 });
 
 export const gradeInputSchema = z.object({
-  code: z.string().trim().min(1).max(32).regex(/^[A-Za-z0-9_.\-/]+$/, "Use letters, digits and - _ . / only."),
+  code: z
+    .string()
+    .trim()
+    .min(1)
+    .max(32)
+    .regex(/^[A-Za-z0-9_.\-/]+$/, "Use letters, digits and - _ . / only."),
   name: z.string().trim().min(1).max(120),
   familyCode: z.string().trim().min(1).max(16),
   active: z.boolean().default(true),

@@ -74,7 +74,12 @@ export const actionCreateSchema = z.object({
   dueOn: isoDay,
 });
 export const actionUpdateSchema = z
-  .object({ description: z.string().trim().min(3).max(1000).optional(), ownerId: userId.optional(), dueOn: isoDay.optional(), status: z.enum(ACTION_STATUSES).optional() })
+  .object({
+    description: z.string().trim().min(3).max(1000).optional(),
+    ownerId: userId.optional(),
+    dueOn: isoDay.optional(),
+    status: z.enum(ACTION_STATUSES).optional(),
+  })
   .refine((v) => Object.keys(v).length > 0, { message: "Nothing to change." });
 
 export const closeInvestigationSchema = z.object({
@@ -104,7 +109,15 @@ export const hypothesisSchema = z.object({
   status: z.enum(HYPOTHESIS_STATUSES),
   createdAt: z.string(),
 });
-export const attachmentSchema = z.object({ id: z.string(), fileName: z.string(), mime: z.string(), bytes: z.number().int(), url: z.string(), at: z.string(), by: z.string().nullable() });
+export const attachmentSchema = z.object({
+  id: z.string(),
+  fileName: z.string(),
+  mime: z.string(),
+  bytes: z.number().int(),
+  url: z.string(),
+  at: z.string(),
+  by: z.string().nullable(),
+});
 export type Attachment = z.infer<typeof attachmentSchema>;
 
 export const investigationSummarySchema = z.object({
@@ -127,7 +140,18 @@ export const investigationSchema = investigationSummarySchema.extend({
   closureNote: z.string().nullable(),
   subjects: z.object({
     heats: z.array(z.object({ heatNo: z.string(), grade: z.string(), castStart: z.string() })),
-    defects: z.array(z.object({ id: z.number().int(), slabId: z.string(), heatNo: z.string(), type: z.string(), typeName: z.string(), severity: z.number().int(), foundAt: z.string(), causes: z.array(z.string()) })),
+    defects: z.array(
+      z.object({
+        id: z.number().int(),
+        slabId: z.string(),
+        heatNo: z.string(),
+        type: z.string(),
+        typeName: z.string(),
+        severity: z.number().int(),
+        foundAt: z.string(),
+        causes: z.array(z.string()),
+      }),
+    ),
   }),
   participants: z.array(person),
   hypotheses: z.array(hypothesisSchema),

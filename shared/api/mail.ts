@@ -2,7 +2,16 @@ import { z } from "zod";
 
 /** The outgoing mail queue as the admin's mail outbox screen shows it. */
 export const MAIL_STATUSES = ["queued", "sending", "sent", "failed"] as const;
-export const MAIL_KINDS = ["critical_defect", "action_assigned", "action_overdue", "investigation_closed", "invitation", "password_reset", "heat_history", "risk_drift"] as const;
+export const MAIL_KINDS = [
+  "critical_defect",
+  "action_assigned",
+  "action_overdue",
+  "investigation_closed",
+  "invitation",
+  "password_reset",
+  "heat_history",
+  "risk_drift",
+] as const;
 
 export const outboxQuerySchema = z.object({
   status: z.enum(MAIL_STATUSES).optional(),

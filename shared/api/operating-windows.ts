@@ -45,11 +45,12 @@ export const windowConditionsSchema = z
   .array(windowConditionSchema)
   .min(1, "Give at least one condition.")
   .max(MAX_WINDOW_CONDITIONS, `At most ${MAX_WINDOW_CONDITIONS} conditions per rule.`)
-  .refine((cs) => new Set(cs.map((c) => `${c.variable}:${c.op}`)).size === cs.length, { message: "The same condition is given twice (same variable, same comparison)." })
-  .refine(
-    (cs) => !cs.some((a) => a.op === "above" && cs.some((b) => b.variable === a.variable && b.op === "below" && b.value <= a.value)),
-    { message: "A variable is asked to be above a value and below a smaller one: no slab could ever meet the rule." },
-  );
+  .refine((cs) => new Set(cs.map((c) => `${c.variable}:${c.op}`)).size === cs.length, {
+    message: "The same condition is given twice (same variable, same comparison).",
+  })
+  .refine((cs) => !cs.some((a) => a.op === "above" && cs.some((b) => b.variable === a.variable && b.op === "below" && b.value <= a.value)), {
+    message: "A variable is asked to be above a value and below a smaller one: no slab could ever meet the rule.",
+  });
 
 const fields = {
   name: z.string().trim().min(2, "Give the rule a name of at least 2 characters.").max(80, "The name is at most 80 characters."),
@@ -193,5 +194,7 @@ export function conditionText(c: WindowCondition): string {
 
 export function conditionsText(cs: WindowCondition[]): string {
   // Inside the sentence "Casting speed" becomes "casting speed"; "EMBr current" and "SEN depth" keep their capitals.
-  return cs.map((c, i) => (i > 0 && /^[A-Z][a-z]/.test(conditionText(c)) ? conditionText(c)[0]!.toLowerCase() + conditionText(c).slice(1) : conditionText(c))).join(" and ");
+  return cs
+    .map((c, i) => (i > 0 && /^[A-Z][a-z]/.test(conditionText(c)) ? conditionText(c)[0]!.toLowerCase() + conditionText(c).slice(1) : conditionText(c)))
+    .join(" and ");
 }

@@ -49,7 +49,10 @@ export const embrCalibrationSchema = z.discriminatedUnion("kind", [
   z.object({ kind: z.literal("linear"), teslaPerAmp: z.number().min(0).max(0.01), offsetT: z.number().min(-1).max(1) }),
   z.object({
     kind: z.literal("table"),
-    points: z.array(z.tuple([z.number().min(0).max(5000), z.number().min(0).max(2)])).min(2).max(50),
+    points: z
+      .array(z.tuple([z.number().min(0).max(5000), z.number().min(0).max(2)]))
+      .min(2)
+      .max(50),
   }),
 ]);
 

@@ -14,7 +14,14 @@ const csv = z
   .trim()
   .max(400)
   .optional()
-  .transform((v) => (v ? v.split(",").map((s) => s.trim()).filter(Boolean) : []));
+  .transform((v) =>
+    v
+      ? v
+          .split(",")
+          .map((s) => s.trim())
+          .filter(Boolean)
+      : [],
+  );
 
 export const reportFiltersSchema = z.object({
   from: z.string().trim().max(10).optional(),
@@ -119,7 +126,10 @@ const termList = (opts: { what: string; max: number; fallback: string[] | null; 
         ctx.addIssue({ code: "custom", message: `Name ${opts.what} (comma-separated keys, e.g. casting_speed_m_min,mold_level_sd_mm).` });
         return z.NEVER;
       }
-      const keys = raw.split(",").map((s) => s.trim()).filter(Boolean);
+      const keys = raw
+        .split(",")
+        .map((s) => s.trim())
+        .filter(Boolean);
       if (opts.allowNone && (keys.length === 0 || (keys.length === 1 && keys[0]!.toLowerCase() === "none"))) return [];
       if (keys.length === 0) {
         ctx.addIssue({ code: "custom", message: `Name ${opts.what}: at least one.` });
@@ -129,7 +139,10 @@ const termList = (opts: { what: string; max: number; fallback: string[] | null; 
       if (unknown.length > 0) {
         ctx.addIssue({
           code: "custom",
-          message: `Unknown condition${unknown.length === 1 ? "" : "s"} ${unknown.slice(0, 3).map((k) => `“${k.slice(0, 40)}”`).join(", ")} in ${opts.what}. Use the keys of GET /api/reports/variables or ${CATEGORICAL_KEYS.join(", ")}.`,
+          message: `Unknown condition${unknown.length === 1 ? "" : "s"} ${unknown
+            .slice(0, 3)
+            .map((k) => `“${k.slice(0, 40)}”`)
+            .join(", ")} in ${opts.what}. Use the keys of GET /api/reports/variables or ${CATEGORICAL_KEYS.join(", ")}.`,
         });
         return z.NEVER;
       }
@@ -141,7 +154,9 @@ const termList = (opts: { what: string; max: number; fallback: string[] | null; 
     });
 
 const seField = z
-  .enum(["cluster", "model"], { error: () => "se is cluster (heat-clustered, cluster-robust standard errors) or model (model-based, slabs taken as independent)." })
+  .enum(["cluster", "model"], {
+    error: () => "se is cluster (heat-clustered, cluster-robust standard errors) or model (model-based, slabs taken as independent).",
+  })
   .default("cluster");
 
 /**
@@ -156,23 +171,30 @@ export function effectiveTerms(list: string[], before: string[]): string[] {
  * Adds the refusal of terms one model cannot hold together to a query schema's checks: the lists
  * in order, the refusal named under the last list that takes part in the conflict.
  */
-const refuseConflicts =
-  (listsOf: (q: Record<string, unknown>) => [string, string[]][]) =>
-  (q: Record<string, unknown>, ctx: z.RefinementCtx) => {
-    const lists = listsOf(q).map(([name, keys], i, all) => [name, effectiveTerms(keys, all.slice(0, i).flatMap(([, k]) => k))] as [string, string[]]);
-    const all = lists.flatMap(([, keys]) => keys);
-    const conflict = termConflict(all);
-    if (!conflict) return;
-    // The first list whose keys alone are enough for the conflict, else the last one.
-    let path = lists[lists.length - 1]![0];
-    for (let i = 0; i < lists.length; i++) {
-      if (termConflict(lists.slice(0, i + 1).flatMap(([, keys]) => keys))) {
-        path = lists[i]![0];
-        break;
-      }
+const refuseConflicts = (listsOf: (q: Record<string, unknown>) => [string, string[]][]) => (q: Record<string, unknown>, ctx: z.RefinementCtx) => {
+  const lists = listsOf(q).map(
+    ([name, keys], i, all) =>
+      [
+        name,
+        effectiveTerms(
+          keys,
+          all.slice(0, i).flatMap(([, k]) => k),
+        ),
+      ] as [string, string[]],
+  );
+  const all = lists.flatMap(([, keys]) => keys);
+  const conflict = termConflict(all);
+  if (!conflict) return;
+  // The first list whose keys alone are enough for the conflict, else the last one.
+  let path = lists[lists.length - 1]![0];
+  for (let i = 0; i < lists.length; i++) {
+    if (termConflict(lists.slice(0, i + 1).flatMap(([, keys]) => keys))) {
+      path = lists[i]![0];
+      break;
     }
-    ctx.addIssue({ code: "custom", path: [path], message: conflict });
-  };
+  }
+  ctx.addIssue({ code: "custom", path: [path], message: conflict });
+};
 
 /** An odds ratio with its Wald 95 % interval; null where undefined (the reason is given beside it). */
 const oddsRatioWithInterval = z.object({ oddsRatio: num, ciLower: num, ciUpper: num });
@@ -206,7 +228,12 @@ export const rateByVariableQuerySchema = reportFiltersSchema
     /** Standard errors of the adjusted, crude-beside-it and per-stratum odds ratios (not of the `logistic` block, which keeps its model-based SEs). */
     se: seField,
   })
-  .superRefine(refuseConflicts((q) => [["variable", [q.variable as string]], ["adjustFor", q.adjustFor as string[]]]));
+  .superRefine(
+    refuseConflicts((q) => [
+      ["variable", [q.variable as string]],
+      ["adjustFor", q.adjustFor as string[]],
+    ]),
+  );
 
 /** A logistic slope per one unit of the variable, its odds ratio per unit and per the catalogue's readable step, and the Wald p. */
 const slopeFit = z.object({
@@ -398,7 +425,12 @@ export const adjustedQuerySchema = reportFiltersSchema
     /** Odds ratios per the catalogue's readable step of each variable (per 0.1 m/min …) or per one unit. */
     per: z.enum(["step", "unit"], { error: () => "per is step (a readable step of each condition, e.g. 0.1 m/min) or unit (one unit)." }).default("step"),
   })
-  .superRefine(refuseConflicts((q) => [["variables", q.variables as string[]], ["adjustFor", q.adjustFor as string[]]]));
+  .superRefine(
+    refuseConflicts((q) => [
+      ["variables", q.variables as string[]],
+      ["adjustFor", q.adjustFor as string[]],
+    ]),
+  );
 
 const estimate = z.object({
   /** Log odds per one unit of the variable (per level against the reference for a categorical term). */
@@ -490,7 +522,6 @@ export const adjustedSchema = z.object({
   notes: z.array(z.string()),
 });
 export type Adjusted = z.infer<typeof adjustedSchema>;
-
 
 // ---------------------------------------------------------------------------------------------
 // Control chart
@@ -627,7 +658,14 @@ export const overviewSchema = z.object({
   /** With standardise=grade_family, each period also carries its directly standardised rate. */
   periods: z.array(rateRow.extend({ period: z.string(), standardised: standardisedRate.optional() })),
   pareto: z.array(
-    z.object({ code: z.string(), name: z.string(), defects: z.number().int(), slabsAffected: z.number().int(), share: z.number(), cumulativeShare: z.number() }),
+    z.object({
+      code: z.string(),
+      name: z.string(),
+      defects: z.number().int(),
+      slabsAffected: z.number().int(),
+      share: z.number(),
+      cumulativeShare: z.number(),
+    }),
   ),
   byGrade: z.array(proportionSchema.extend({ grade: z.string(), family: z.string() })),
   byStrand: z.array(proportionSchema.extend({ caster: z.string(), strand: z.number().int() })),
@@ -688,9 +726,7 @@ export const beforeAfterQuerySchema = reportFiltersSchema.extend({
   bMin: z.coerce.number().optional(),
   bMax: z.coerce.number().optional(),
   /** Compare A and B within the levels of one categorical key (grade family offered first). */
-  stratifyBy: z
-    .enum(CATEGORICAL_KEYS, { error: () => `stratifyBy takes one of ${CATEGORICAL_KEYS.join(", ")} (the groups to compare within).` })
-    .optional(),
+  stratifyBy: z.enum(CATEGORICAL_KEYS, { error: () => `stratifyBy takes one of ${CATEGORICAL_KEYS.join(", ")} (the groups to compare within).` }).optional(),
 });
 
 const count = z.object({ slabs: z.number().int(), affected: z.number().int(), rate: num });
@@ -736,7 +772,15 @@ export const beforeAfterSchema = z.object({
         continuityCorrection: z.boolean(),
         reason: z.string().nullable(),
       }),
-      breslowDay: z.object({ chi2: num, df: num, p: num, uncorrected: num, tarone: z.boolean(), smallExpected: z.number().int(), reason: z.string().nullable() }),
+      breslowDay: z.object({
+        chi2: num,
+        df: num,
+        p: num,
+        uncorrected: num,
+        tarone: z.boolean(),
+        smallExpected: z.number().int(),
+        reason: z.string().nullable(),
+      }),
       standardised: z.object({
         rateA: num,
         rateB: num,
@@ -792,7 +836,17 @@ export type SlabPositions = z.infer<typeof slabPositionsSchema>;
 // Saved reports
 // ---------------------------------------------------------------------------------------------
 
-export const REPORT_KINDS = ["overview", "rate-by-variable", "screening", "process-window", "control-chart", "before-after", "slab-positions", "cause-pareto", "adjusted"] as const;
+export const REPORT_KINDS = [
+  "overview",
+  "rate-by-variable",
+  "screening",
+  "process-window",
+  "control-chart",
+  "before-after",
+  "slab-positions",
+  "cause-pareto",
+  "adjusted",
+] as const;
 export const reportKindSchema = z.enum(REPORT_KINDS);
 
 export const savedReportSchema = z.object({

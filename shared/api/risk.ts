@@ -29,8 +29,14 @@ export const trainRiskModelSchema = z
   .object({
     targetKind: z.enum(["type", "category"], { error: "Choose a defect type or a category." }),
     targetCode: z.string().trim().min(1, "Choose what the model predicts.").max(40),
-    conditions: z.array(z.enum(conditionKeys, { error: "Unknown condition." })).max(20, "At most 20 conditions.").default([]),
-    categories: z.array(z.enum(RISK_CATEGORY_KEYS, { error: "Unknown category." })).max(4).default(["grade_family"]),
+    conditions: z
+      .array(z.enum(conditionKeys, { error: "Unknown condition." }))
+      .max(20, "At most 20 conditions.")
+      .default([]),
+    categories: z
+      .array(z.enum(RISK_CATEGORY_KEYS, { error: "Unknown category." }))
+      .max(4)
+      .default(["grade_family"]),
     knots: z.union([z.literal(3), z.literal(4), z.literal(5)]).default(4),
     /** Training window by cast time (ISO dates); open ends: all history / up to today. */
     from: z.iso.date("Give the start as a date.").optional(),

@@ -53,10 +53,7 @@ export const createdUserSchema = adminUserSchema.extend({
 });
 export type CreatedUser = z.infer<typeof createdUserSchema>;
 
-export const passwordSchema = z
-  .string()
-  .min(10, "Use at least 10 characters.")
-  .max(128, "Use at most 128 characters.");
+export const passwordSchema = z.string().min(10, "Use at least 10 characters.").max(128, "Use at most 128 characters.");
 
 // Line breaks, tabs, escape codes and the bidirectional overrides that make text display as
 // something else have no place in a name that every history, list and mail shows.

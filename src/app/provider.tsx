@@ -52,14 +52,22 @@ function subscribeOnline(listener: () => void) {
 
 /** The browser's view of the network: false means surely offline; true may still mean a dead Wi-Fi. */
 export function useOnline(): boolean {
-  return useSyncExternalStore(subscribeOnline, () => navigator.onLine !== false, () => true);
+  return useSyncExternalStore(
+    subscribeOnline,
+    () => navigator.onLine !== false,
+    () => true,
+  );
 }
 
 /** The signed-in user as cached by the queries, without asking the server (the screens' loaders do that). */
 function useCachedMe(qc: QueryClient): Me | null | undefined {
   const key = authKeys.me().queryKey;
   const subscribe = useCallback((listener: () => void) => qc.getQueryCache().subscribe(listener), [qc]);
-  return useSyncExternalStore(subscribe, () => qc.getQueryData(key), () => undefined);
+  return useSyncExternalStore(
+    subscribe,
+    () => qc.getQueryData(key),
+    () => undefined,
+  );
 }
 
 const noSubscribe = () => () => undefined;

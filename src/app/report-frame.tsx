@@ -41,7 +41,11 @@ export function useFilterChoices(): FilterChoices {
         name: c.name,
         types: (catalogue.data?.types ?? []).filter((t) => t.categoryCode === c.code).map((t) => ({ code: t.code, name: t.name, active: t.active })),
       })),
-      causeGroups: (causes.data?.groups ?? []).map((g) => ({ code: g.code, name: g.name, tags: g.tags.map((t) => ({ code: t.code, name: t.name, retired: t.retired })) })),
+      causeGroups: (causes.data?.groups ?? []).map((g) => ({
+        code: g.code,
+        name: g.name,
+        tags: g.tags.map((t) => ({ code: t.code, name: t.name, retired: t.retired })),
+      })),
     }),
     [setup.data, catalogue.data, causes.data],
   );

@@ -59,8 +59,6 @@ export function safeNext(next: string | null, roles: Role[]): string | null {
 
 export function canOpen(roles: Role[], path: string): boolean {
   // The most specific item wins: /quality/catalogue is the catalogue's, not the Quality home's.
-  const item = [...NAV_ITEMS]
-    .sort((a, b) => b.to.length - a.to.length)
-    .find((i) => path === i.to || (!i.subPathsOpen && path.startsWith(i.to + "/")));
+  const item = [...NAV_ITEMS].sort((a, b) => b.to.length - a.to.length).find((i) => path === i.to || (!i.subPathsOpen && path.startsWith(i.to + "/")));
   return !item || can(roles, item.capability);
 }

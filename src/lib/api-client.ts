@@ -99,8 +99,7 @@ export function apiUpload<T = unknown>(path: string, file: File, opts: UploadOpt
       }
       if (xhr.status < 200 || xhr.status >= 300) {
         const e = (data as { error?: { code?: string; message?: string; details?: unknown } } | undefined)?.error;
-        const fallback =
-          xhr.status === 413 ? "The file is too large for the server." : `The server answered ${xhr.status}.`;
+        const fallback = xhr.status === 413 ? "The file is too large for the server." : `The server answered ${xhr.status}.`;
         reject(new ApiError(xhr.status, e?.code ?? "http_error", e?.message ?? fallback, e?.details));
         return;
       }

@@ -11,11 +11,7 @@ export interface DownloadProgress {
  * hands it to the browser as a download under the server's file name. Fetched rather than linked so
  * a refusal shows the server's message beside the button instead of a page of JSON.
  */
-export async function downloadFile(
-  path: string,
-  fallbackName: string,
-  onProgress: (p: DownloadProgress) => void,
-): Promise<{ name: string; size: number }> {
+export async function downloadFile(path: string, fallbackName: string, onProgress: (p: DownloadProgress) => void): Promise<{ name: string; size: number }> {
   let res: Response;
   try {
     res = await fetch(`/api${path}`, { credentials: "same-origin" });

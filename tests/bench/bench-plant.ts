@@ -24,7 +24,10 @@ export const benchPlantFile = (slabs: number, grid = false) => path.join(os.tmpd
 export async function copyBenchPlant(source: string, prefix: string): Promise<string> {
   if (!fs.existsSync(source)) {
     console.log(`Generating the bench:reports plant first (${source}) …`);
-    const r = spawnSync(process.execPath, ["--import", "tsx", path.join(REPO, "tests/bench/reports.bench.ts")], { stdio: "inherit", env: { ...process.env, BENCH_GENERATE_ONLY: "1" } });
+    const r = spawnSync(process.execPath, ["--import", "tsx", path.join(REPO, "tests/bench/reports.bench.ts")], {
+      stdio: "inherit",
+      env: { ...process.env, BENCH_GENERATE_ONLY: "1" },
+    });
     if (r.status !== 0) throw new Error("generating the plant failed");
   }
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), prefix));

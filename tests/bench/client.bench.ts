@@ -104,7 +104,13 @@ const SCREENS: Screen[] = [
   { name: "heats list (table)", path: "/heats", chart: false, dataPath: "/api/heats", routeChunk: "heats-" },
 ];
 
-async function loadOnce(browser: Browser, ctxOptions: BrowserContextOptions, url: string, network: "local" | "wifi", screen: Pick<Screen, "chart" | "dataPath" | "routeChunk">): Promise<Load> {
+async function loadOnce(
+  browser: Browser,
+  ctxOptions: BrowserContextOptions,
+  url: string,
+  network: "local" | "wifi",
+  screen: Pick<Screen, "chart" | "dataPath" | "routeChunk">,
+): Promise<Load> {
   const context = await browser.newContext(ctxOptions);
   try {
     await context.addInitScript(PROBE);
@@ -121,26 +127,32 @@ async function loadOnce(browser: Browser, ctxOptions: BrowserContextOptions, url
     await page.goto(url, { waitUntil: "commit" });
     await page
       .waitForFunction(
-      (chart) => {
-        const t = (window as unknown as { __firstPaint?: { row: number; chart: number } }).__firstPaint;
-        return !!t && t.row > 0 && (!chart || t.chart > 0);
-      },
-      screen.chart,
+        (chart) => {
+          const t = (window as unknown as { __firstPaint?: { row: number; chart: number } }).__firstPaint;
+          return !!t && t.row > 0 && (!chart || t.chart > 0);
+        },
+        screen.chart,
         { timeout: 60_000, polling: 50 },
       )
       .catch(async (err) => {
         await page.screenshot({ path: path.join(os.tmpdir(), "strandsight-bench-client-failed.png") }).catch(() => undefined);
-        throw new Error(`${url}: the table${screen.chart ? " or the chart" : ""} did not show within 60 s (screenshot in ${os.tmpdir()}); the page said: ${said.join(" | ") || "nothing"}`, { cause: err });
+        throw new Error(
+          `${url}: the table${screen.chart ? " or the chart" : ""} did not show within 60 s (screenshot in ${os.tmpdir()}); the page said: ${said.join(" | ") || "nothing"}`,
+          { cause: err },
+        );
       });
-    const got = await page.evaluate(`(() => {
+    const got = (await page.evaluate(`(() => {
       const nav = performance.getEntriesByType("navigation")[0];
       const res = performance.getEntriesByType("resource");
       const all = [nav, ...res].map((e) => ({ name: e.name, start: e.startTime, end: e.responseEnd, wire: e.encodedBodySize, decoded: e.decodedBodySize }));
       return { t: window.__firstPaint, all };
-    })()`) as { t: { row: number; chart: number }; all: { name: string; start: number; end: number; wire: number; decoded: number }[] };
+    })()`)) as { t: { row: number; chart: number }; all: { name: string; start: number; end: number; wire: number; decoded: number }[] };
     if (process.env.BENCH_CLIENT_TRACE) {
       console.log(`    trace ${url}: row ${got.t.row.toFixed(0)} chart ${got.t.chart.toFixed(0)}`);
-      for (const e of [...got.all].sort((a, b) => a.start - b.start)) console.log(`      ${e.start.toFixed(0).padStart(6)} → ${e.end.toFixed(0).padStart(6)} ms  ${String(e.wire).padStart(8)} / ${String(e.decoded).padStart(8)} B  ${new URL(e.name).pathname}`);
+      for (const e of [...got.all].sort((a, b) => a.start - b.start))
+        console.log(
+          `      ${e.start.toFixed(0).padStart(6)} → ${e.end.toFixed(0).padStart(6)} ms  ${String(e.wire).padStart(8)} / ${String(e.decoded).padStart(8)} B  ${new URL(e.name).pathname}`,
+        );
     }
     const js = got.all.filter((e) => /\.js(\?|$)/.test(new URL(e.name).pathname));
     const me = got.all.filter((e) => new URL(e.name).pathname === "/api/session");
@@ -222,7 +234,11 @@ async function main() {
           );
         }
         const row = loads.map((l) => l.rowMs);
-        const p = (xs: number[], q: number) => quantile(xs.filter((x) => Number.isFinite(x)), q);
+        const p = (xs: number[], q: number) =>
+          quantile(
+            xs.filter((x) => Number.isFinite(x)),
+            q,
+          );
         const tableP50 = p(row, 0.5);
         const key = s.chart ? "overview" : "heats";
         console.log(
@@ -231,15 +247,47 @@ async function main() {
         if (s.chart) {
           const chart = loads.map((l) => l.chartMs);
           const chartP50 = p(chart, 0.5);
-          console.log(`client summary ${label} ${key}: chart drawn p50 ${ms(chartP50)} p95 ${ms(p(chart, 0.95))} target < ${TARGET_CHART_MS} ms ${chartP50 < TARGET_CHART_MS ? "met" : "NOT met"}`);
+          console.log(
+            `client summary ${label} ${key}: chart drawn p50 ${ms(chartP50)} p95 ${ms(p(chart, 0.95))} target < ${TARGET_CHART_MS} ms ${chartP50 < TARGET_CHART_MS ? "met" : "NOT met"}`,
+          );
         }
         const l0 = loads[loads.length - 1]!;
         console.log(
-          `client summary ${label} ${key}: bytes ${kb(p(loads.map((l) => l.wire), 0.5))} on the wire of ${kb(p(loads.map((l) => l.decoded), 0.5))} decoded; JS ${l0.jsFiles} files ${kb(l0.jsWire)} of ${kb(l0.jsDecoded)}`,
+          `client summary ${label} ${key}: bytes ${kb(
+            p(
+              loads.map((l) => l.wire),
+              0.5,
+            ),
+          )} on the wire of ${kb(
+            p(
+              loads.map((l) => l.decoded),
+              0.5,
+            ),
+          )} decoded; JS ${l0.jsFiles} files ${kb(l0.jsWire)} of ${kb(l0.jsDecoded)}`,
         );
         console.log(
-          `client summary ${label} ${key}: /api/me asked p50 ${ms(p(loads.map((l) => l.meStartMs), 0.5))} after navigation start (${Math.max(...loads.map((l) => l.meCount))} request(s) at most); ` +
-            `main script in ${ms(p(loads.map((l) => l.mainScriptEndMs), 0.5))}; screen data asked ${ms(p(loads.map((l) => l.dataStartMs), 0.5))}, screen code in ${ms(p(loads.map((l) => l.routeCodeEndMs), 0.5))}`,
+          `client summary ${label} ${key}: /api/me asked p50 ${ms(
+            p(
+              loads.map((l) => l.meStartMs),
+              0.5,
+            ),
+          )} after navigation start (${Math.max(...loads.map((l) => l.meCount))} request(s) at most); ` +
+            `main script in ${ms(
+              p(
+                loads.map((l) => l.mainScriptEndMs),
+                0.5,
+              ),
+            )}; screen data asked ${ms(
+              p(
+                loads.map((l) => l.dataStartMs),
+                0.5,
+              ),
+            )}, screen code in ${ms(
+              p(
+                loads.map((l) => l.routeCodeEndMs),
+                0.5,
+              ),
+            )}`,
         );
       }
     }

@@ -33,12 +33,14 @@ async function main() {
   const userId = "bench-user";
   c.prepare("insert into user (id, name, email, role) values (?, 'Bench quality', 'bench@example.test', 'quality')").run(userId);
   const t0 = Date.UTC(2026, 10, 20, 8, 0);
-  c.prepare("insert into heats (heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, c_pct, mn_pct, si_pct) values ('BENCH1', 1, 1, ?, ?, 1.4, 0.12, 0.9, 0.2)").run(t0, t0 + 40 * 60_000);
+  c.prepare(
+    "insert into heats (heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, c_pct, mn_pct, si_pct) values ('BENCH1', 1, 1, ?, ?, 1.4, 0.12, 0.9, 0.2)",
+  ).run(t0, t0 + 40 * 60_000);
   const strands = c.prepare("select id from strands where caster_id = 1 order by strand_no").pluck().all() as number[];
   for (let i = 0; i < SLABS; i++) {
-    c.prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, 1, ?, ?, 10000, 1500, 230, 27, ?)").run(
-      `BENCH1-${i + 1}`, strands[i % strands.length], Math.floor(i / strands.length) + 1, t0 + i * 180_000,
-    );
+    c.prepare(
+      "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, 1, ?, ?, 10000, 1500, 230, 27, ?)",
+    ).run(`BENCH1-${i + 1}`, strands[i % strands.length], Math.floor(i / strands.length) + 1, t0 + i * 180_000);
   }
   for (let s = 0; s < strands.length; s++) {
     const ins = c.prepare("insert into process_samples (strand_id, sampled_at, casting_speed_m_min, embr_current_a) values (?, ?, 1.4, 300)");
@@ -51,11 +53,17 @@ async function main() {
   const raw = Buffer.alloc(W * H * 3);
   let seed = 7;
   for (let i = 0; i < raw.length; i++) raw[i] = 60 + (((seed = (seed * 1103515245 + 12345) >>> 0) >>> 24) % 120) + Math.round(40 * Math.sin(i / 9000));
-  const photoJpeg = await sharp(raw, { raw: { width: W, height: H, channels: 3 } }).jpeg({ quality: 85 }).toBuffer();
+  const photoJpeg = await sharp(raw, { raw: { width: W, height: H, channels: 3 } })
+    .jpeg({ quality: 85 })
+    .toBuffer();
   for (let d = 0; d < DEFECTS; d++) {
     const id = Number(
-      c.prepare("insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, note, found_at, created_by) values (?, 1, 'inner', ?, 500, 2, 'slab_yard', 'scarf', ?, ?, ?)")
-        .run((d % SLABS) + 1, 1000 + d * 100, d % 5 === 0 ? "=1+1 looks like a formula" : "Along the casting direction", t0 + d * 60_000, userId).lastInsertRowid,
+      c
+        .prepare(
+          "insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, note, found_at, created_by) values (?, 1, 'inner', ?, 500, 2, 'slab_yard', 'scarf', ?, ?, ?)",
+        )
+        .run((d % SLABS) + 1, 1000 + d * 100, d % 5 === 0 ? "=1+1 looks like a formula" : "Along the casting direction", t0 + d * 60_000, userId)
+        .lastInsertRowid,
     );
     for (let p = 0; p < PHOTOS_PER_DEFECT; p++) await addPhotos(db, uploads, user, id, [{ buffer: photoJpeg, originalname: `d${d}-${p}.jpg` }], []);
   }
@@ -69,7 +77,9 @@ async function main() {
     const wb = new ExcelJS.Workbook();
     const ws = wb.addWorksheet("Only");
     for (let i = 0; i < rowCount; i++) ws.addRow([i, "text", 1.5, new Date(t0)]);
-    thumbs.forEach((f, i) => ws.addImage(wb.addImage({ buffer: fs.readFileSync(f) as never, extension: "jpeg" }), { tl: { col: 5, row: i }, ext: { width: 100, height: 75 } }));
+    thumbs.forEach((f, i) =>
+      ws.addImage(wb.addImage({ buffer: fs.readFileSync(f) as never, extension: "jpeg" }), { tl: { col: 5, row: i }, ext: { width: 100, height: 75 } }),
+    );
     return Buffer.from(await wb.xlsx.writeBuffer());
   };
   await ours();

@@ -27,7 +27,11 @@ async function load(buffer: Buffer) {
 
 async function stream(buffer: Buffer) {
   const reader = new excel.stream.xlsx.WorkbookReader(Readable.from(buffer), {
-    sharedStrings: "cache", hyperlinks: "ignore", worksheets: "emit", styles: "cache", entries: "ignore",
+    sharedStrings: "cache",
+    hyperlinks: "ignore",
+    worksheets: "emit",
+    styles: "cache",
+    entries: "ignore",
   });
   let cells = 0;
   for await (const sheet of reader) for await (const row of sheet) cells += (row as unknown as { values: unknown[] }).values.length;

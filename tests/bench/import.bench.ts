@@ -23,7 +23,28 @@ const SLABS_PER_HEAT = Number(process.env.BENCH_SLABS_PER_HEAT ?? 10);
 const RUNS = Number(process.env.BENCH_RUNS ?? 3);
 const here = path.dirname(fileURLToPath(import.meta.url));
 
-const HEAT_COLS = ["heat_no", "sequence_no", "caster", "grade", "cast_start", "cast_end", "ladle_weight_t", "casting_speed_m_min", "tundish_temp_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm", "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct", "al_pct", "n_ppm"];
+const HEAT_COLS = [
+  "heat_no",
+  "sequence_no",
+  "caster",
+  "grade",
+  "cast_start",
+  "cast_end",
+  "ladle_weight_t",
+  "casting_speed_m_min",
+  "tundish_temp_c",
+  "embr_current_a",
+  "sen_depth_mm",
+  "argon_nl_min",
+  "mold_level_sd_mm",
+  "c_pct",
+  "si_pct",
+  "mn_pct",
+  "p_pct",
+  "s_pct",
+  "al_pct",
+  "n_ppm",
+];
 const SLAB_COLS = ["slab_id", "heat_no", "strand", "piece_no", "length_mm", "width_mm", "thickness_mm", "cast_length_start_m", "transition"];
 const GRADES = ["LV-DQ10", "LV-CQ12", "LV-ST32", "LV-ST36", "LV-HS50", "LV-IF01"];
 const T0 = Date.UTC(2026, 0, 1);
@@ -65,19 +86,58 @@ const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.len
 
 async function main() {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-bench-import-"));
-  console.log(`Strandsight import benchmark: ${HEATS.toLocaleString("en")} heats, ${(HEATS * SLABS_PER_HEAT).toLocaleString("en")} slabs, ${RUNS} runs each, medians (Node ${process.version}, ${os.cpus().length} cores)`);
-  await writeWorkbook(path.join(dir, "heats.xlsx"), HEAT_COLS, (i) => [
-    heatNo(i), `BS-${Math.floor(i / 8)}`, "CC2", GRADES[i % GRADES.length], new Date(T0 + i * 35 * 60_000), new Date(T0 + i * 35 * 60_000 + 30 * 60_000),
-    215, 1.3 + (i % 7) * 0.05, 1540 + (i % 11), (i % 5) * 100, 150 + (i % 4) * 10, 6 + (i % 5), 2 + (i % 9) * 0.2,
-    0.05 + (i % 10) * 0.01, 0.2, 0.9, 0.015, 0.008, 0.03, 50,
-  ], HEATS);
-  await writeWorkbook(path.join(dir, "slabs.xlsx"), SLAB_COLS, (i) => {
-    const h = Math.floor(i / SLABS_PER_HEAT);
-    const k = i % SLABS_PER_HEAT;
-    const strand = k < SLABS_PER_HEAT / 2 ? 1 : 2;
-    const piece = (k % (SLABS_PER_HEAT / 2)) + 1;
-    return [`${heatNo(h)}-${strand}${String(piece).padStart(2, "0")}`, heatNo(h), strand, piece, 10_000, 1500, 230, (h % 8) * 45 + (piece - 1) * 10, piece === 1 && h % 8 !== 0];
-  }, HEATS * SLABS_PER_HEAT);
+  console.log(
+    `Strandsight import benchmark: ${HEATS.toLocaleString("en")} heats, ${(HEATS * SLABS_PER_HEAT).toLocaleString("en")} slabs, ${RUNS} runs each, medians (Node ${process.version}, ${os.cpus().length} cores)`,
+  );
+  await writeWorkbook(
+    path.join(dir, "heats.xlsx"),
+    HEAT_COLS,
+    (i) => [
+      heatNo(i),
+      `BS-${Math.floor(i / 8)}`,
+      "CC2",
+      GRADES[i % GRADES.length],
+      new Date(T0 + i * 35 * 60_000),
+      new Date(T0 + i * 35 * 60_000 + 30 * 60_000),
+      215,
+      1.3 + (i % 7) * 0.05,
+      1540 + (i % 11),
+      (i % 5) * 100,
+      150 + (i % 4) * 10,
+      6 + (i % 5),
+      2 + (i % 9) * 0.2,
+      0.05 + (i % 10) * 0.01,
+      0.2,
+      0.9,
+      0.015,
+      0.008,
+      0.03,
+      50,
+    ],
+    HEATS,
+  );
+  await writeWorkbook(
+    path.join(dir, "slabs.xlsx"),
+    SLAB_COLS,
+    (i) => {
+      const h = Math.floor(i / SLABS_PER_HEAT);
+      const k = i % SLABS_PER_HEAT;
+      const strand = k < SLABS_PER_HEAT / 2 ? 1 : 2;
+      const piece = (k % (SLABS_PER_HEAT / 2)) + 1;
+      return [
+        `${heatNo(h)}-${strand}${String(piece).padStart(2, "0")}`,
+        heatNo(h),
+        strand,
+        piece,
+        10_000,
+        1500,
+        230,
+        (h % 8) * 45 + (piece - 1) * 10,
+        piece === 1 && h % 8 !== 0,
+      ];
+    },
+    HEATS * SLABS_PER_HEAT,
+  );
 
   runTask("prepare", dir);
   const results: Record<"load" | "stream" | "import", TaskResult[]> = { load: [], stream: [], import: [] };
@@ -99,13 +159,19 @@ async function main() {
     total.import += imp;
     total.rows += rows[file]!;
     console.log(
-      `${file.padEnd(8)} ${String(rows[file]).padStart(7)} ${size(`${file}.xlsx`).padStart(8)} ${f(load)}      ${f(stream)} ${f(imp)} ${Math.round(rows[file]! / imp).toLocaleString("en").padStart(9)}      ${(imp / load).toFixed(2)}×          ${(imp / stream).toFixed(2)}×     ≤ 1.50×`,
+      `${file.padEnd(8)} ${String(rows[file]).padStart(7)} ${size(`${file}.xlsx`).padStart(8)} ${f(load)}      ${f(stream)} ${f(imp)} ${Math.round(
+        rows[file]! / imp,
+      )
+        .toLocaleString("en")
+        .padStart(9)}      ${(imp / load).toFixed(2)}×          ${(imp / stream).toFixed(2)}×     ≤ 1.50×`,
     );
   }
   const vsLoad = total.import / total.load;
   const vsStream = total.import / total.stream;
   console.log(
-    `all      ${String(total.rows).padStart(7)}          ${f(total.load)}      ${f(total.stream)} ${f(total.import)} ${Math.round(total.rows / total.import).toLocaleString("en").padStart(9)}      ${vsLoad.toFixed(2)}× ${vsLoad <= 1.5 ? "met" : "NOT met"}  ${vsStream.toFixed(2)}× ${vsStream <= 1.5 ? "met" : "NOT met"}`,
+    `all      ${String(total.rows).padStart(7)}          ${f(total.load)}      ${f(total.stream)} ${f(total.import)} ${Math.round(total.rows / total.import)
+      .toLocaleString("en")
+      .padStart(9)}      ${vsLoad.toFixed(2)}× ${vsLoad <= 1.5 ? "met" : "NOT met"}  ${vsStream.toFixed(2)}× ${vsStream <= 1.5 ? "met" : "NOT met"}`,
   );
   const phases = results.import.map((x) => x.phases!);
   for (const file of ["heats", "slabs"]) {

@@ -23,7 +23,7 @@ async function cameraJpeg(dir: string): Promise<Buffer> {
   // A smooth scene with sensor-like noise, so the JPEG is the size a tablet camera writes.
   const raw = Buffer.alloc(W * H * 3);
   let seed = 12345;
-  const rnd = () => ((seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32);
+  const rnd = () => (seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32;
   for (let y = 0; y < H; y++) {
     for (let x = 0; x < W; x++) {
       const i = (y * W + x) * 3;
@@ -34,7 +34,12 @@ async function cameraJpeg(dir: string): Promise<Buffer> {
     }
   }
   const file = path.join(dir, "camera.jpg");
-  fs.writeFileSync(file, await sharp(raw, { raw: { width: W, height: H, channels: 3 } }).jpeg({ quality: 92 }).toBuffer());
+  fs.writeFileSync(
+    file,
+    await sharp(raw, { raw: { width: W, height: H, channels: 3 } })
+      .jpeg({ quality: 92 })
+      .toBuffer(),
+  );
   try {
     execFileSync("exiftool", ["-q", "-n", "-overwrite_original", "-Orientation=6", "-GPSLatitude=59.33", "-GPSLongitude=18.07", file]);
   } catch {
@@ -64,11 +69,17 @@ async function main() {
   const userId = "bench-user";
   c.prepare("insert into user (id, name, email, role) values (?, 'Bench', 'bench@example.test', 'inspector')").run(userId);
   c.prepare("insert into heats (heat_no, caster_id, grade_id, cast_start, casting_speed_m_min) values ('BENCH1', 1, 1, 0, 1.4)").run();
-  c.prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t) values ('BENCH1-101', 1, 1, 1, 10000, 1500, 230, 27)").run();
-  c.prepare("insert into defects (slab_id, type_id, face, severity, stage, disposition, found_at, created_by) values (1, 1, 'inner', 2, 'slab_yard', 'scarf', 0, ?)").run(userId);
+  c.prepare(
+    "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t) values ('BENCH1-101', 1, 1, 1, 10000, 1500, 230, 27)",
+  ).run();
+  c.prepare(
+    "insert into defects (slab_id, type_id, face, severity, stage, disposition, found_at, created_by) values (1, 1, 'inner', 2, 'slab_yard', 'scarf', 0, ?)",
+  ).run(userId);
   const user = { id: userId, name: "Bench", email: "bench@example.test", roles: ["inspector" as const] };
   const uploads = path.join(dir, "uploads");
-  console.log(`Photo pipeline benchmark: ${W} × ${H} px (12 MP) JPEG, ${(photo.length / 1e6).toFixed(1)} MB, ${RUNS} runs each, medians (sharp ${sharp.versions.sharp}, libvips ${sharp.versions.vips})`);
+  console.log(
+    `Photo pipeline benchmark: ${W} × ${H} px (12 MP) JPEG, ${(photo.length / 1e6).toFixed(1)} MB, ${RUNS} runs each, medians (sharp ${sharp.versions.sharp}, libvips ${sharp.versions.vips})`,
+  );
   await sharpAlone(photo); // warm-up
   const alone: number[] = [];
   const pipeline: number[] = [];

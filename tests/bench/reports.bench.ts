@@ -60,8 +60,20 @@ const file = benchPlantFile(SLABS, GRID);
 
 /** The generated values in insert order, by variable (for BENCH_VALUES=grid). */
 const GRID_KEYS = [
-  "c_pct", "casting_speed_m_min", "speed_change_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm",
-  "throughput_t_min", "shell_exit_mm", "embr_field_t", "stuart_number", "sen_port_velocity_m_s", "metallurgical_length_m",
+  "c_pct",
+  "casting_speed_m_min",
+  "speed_change_m_min",
+  "superheat_c",
+  "embr_current_a",
+  "sen_depth_mm",
+  "argon_nl_min",
+  "mold_level_sd_mm",
+  "throughput_t_min",
+  "shell_exit_mm",
+  "embr_field_t",
+  "stuart_number",
+  "sen_port_velocity_m_s",
+  "metallurgical_length_m",
 ];
 const onGrid = (x: number, key: string) => {
   const scale = 10 ** (VARIABLES.find((v) => v.key === key)!.digits + 1);
@@ -77,21 +89,27 @@ function generate(db: Db) {
   const types = c.prepare("select id, code from defect_types").all() as { id: number; code: string }[];
   const slg = types.find((t) => t.code === "SLG")!.id;
   let seed = 7;
-  const rnd = () => ((seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32);
+  const rnd = () => (seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32;
   // A heat every 10 minutes, the last one cast this morning: the plant's history ends today, as a
   // real plant's does, so the yard's window (the last days) holds a day's casting — not none (a
   // history that ended long ago) nor millions (one running years into the future).
   const today = new Date();
   const t0 = Date.UTC(today.getUTCFullYear(), today.getUTCMonth(), today.getUTCDate()) - (HEATS + 1) * 10 * 60_000;
   c.transaction(() => {
-    const insHeat = c.prepare("insert into heats (id, heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, sequence_position, c_pct) values (?, ?, ?, ?, ?, ?, ?, ?, ?)");
-    const insSlab = c.prepare("insert into slabs (id, slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at, transition) values (?, ?, ?, ?, ?, 10000, ?, 230, 27, ?, ?)");
+    const insHeat = c.prepare(
+      "insert into heats (id, heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, sequence_position, c_pct) values (?, ?, ?, ?, ?, ?, ?, ?, ?)",
+    );
+    const insSlab = c.prepare(
+      "insert into slabs (id, slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at, transition) values (?, ?, ?, ?, ?, 10000, ?, 230, 27, ?, ?)",
+    );
     const insCond = c.prepare(`insert into slab_conditions (slab_id, heat_id, caster_id, strand_id, grade_id, family_id, cast_at, transition, sequence_position,
         weight_t, width_mm, thickness_mm, c_pct, casting_speed_m_min, casting_speed_source, speed_change_m_min, superheat_c, superheat_source, embr_current_a,
         embr_current_source, sen_depth_mm, sen_depth_source, argon_nl_min, argon_source, mold_level_sd_mm, mold_level_sd_source, sample_count,
         throughput_t_min, shell_exit_mm, embr_field_t, stuart_number, sen_port_velocity_m_s, metallurgical_length_m, computed_at)
       values (?, ?, ?, ?, ?, ?, ?, ?, ?, 27, ?, 230, ?, ?, 'samples', ?, ?, 'samples', ?, 'samples', ?, 'samples', ?, 'samples', ?, 'samples', 20, ?, ?, ?, ?, ?, ?, 0)`);
-    const insDefect = c.prepare("insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, review_status) values (?, ?, 'inner', 1000, 500, ?, 'slab_yard', 'scarf', ?, 'confirmed')");
+    const insDefect = c.prepare(
+      "insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, review_status) values (?, ?, 'inner', 1000, 500, ?, 'slab_yard', 'scarf', ?, 'confirmed')",
+    );
     let slabId = 0;
     for (let h = 1; h <= HEATS; h++) {
       const g = grades[h % grades.length]!;
@@ -108,8 +126,20 @@ function generate(db: Db) {
         const transition = k % 5 === 0 && h % 8 !== 1 ? 1 : 0;
         insSlab.run(slabId, `BS${slabId}`, h, strand, Math.floor(k / 2) + 1, width, start + k * 180_000, transition);
         const values = [
-          0.03 + rnd() * 0.12, v, rnd() * 0.3, 15 + rnd() * 25, embr + rnd() * 5, sen, 4 + rnd() * 8, 1 + rnd() * 4,
-          7.8 * v * (width / 1000) * 0.23, 20 * Math.sqrt(0.8 / v), embr * 0.00075, 0.2 + rnd(), 0.5 + rnd() * 0.5, v * 18.1,
+          0.03 + rnd() * 0.12,
+          v,
+          rnd() * 0.3,
+          15 + rnd() * 25,
+          embr + rnd() * 5,
+          sen,
+          4 + rnd() * 8,
+          1 + rnd() * 4,
+          7.8 * v * (width / 1000) * 0.23,
+          20 * Math.sqrt(0.8 / v),
+          embr * 0.00075,
+          0.2 + rnd(),
+          0.5 + rnd() * 0.5,
+          v * 18.1,
         ];
         if (GRID) GRID_KEYS.forEach((key, j) => (values[j] = onGrid(values[j]!, key)));
         insCond.run(slabId, h, caster, strand, g.id, g.family_id, start + k * 180_000, transition, (h % 8) + 1, width, ...values);
@@ -158,8 +188,14 @@ async function main() {
     return;
   }
   const c = db.$client;
-  const counts = c.prepare("select (select count(*) from slabs) s, (select count(*) from heats) h, (select count(*) from defects) d").get() as { s: number; h: number; d: number };
-  console.log(`Plant: ${counts.s.toLocaleString("en")} slabs, ${counts.h.toLocaleString("en")} heats, ${counts.d.toLocaleString("en")} defects · ${RUNS} runs each, medians (Node ${process.version})`);
+  const counts = c.prepare("select (select count(*) from slabs) s, (select count(*) from heats) h, (select count(*) from defects) d").get() as {
+    s: number;
+    h: number;
+    d: number;
+  };
+  console.log(
+    `Plant: ${counts.s.toLocaleString("en")} slabs, ${counts.h.toLocaleString("en")} heats, ${counts.d.toLocaleString("en")} defects · ${RUNS} runs each, medians (Node ${process.version})`,
+  );
 
   const rbvQuery = rateByVariableQuerySchema.parse({ defectType: "SLG", variable: "casting_speed_m_min", bins: "10", binning: "equal" });
   const scope = buildScope(db, rbvQuery);
@@ -168,7 +204,9 @@ async function main() {
      from slab_conditions c left join aff a on a.id = c.slab_id where c.casting_speed_m_min is not null group by bin`,
   );
   const sums = VARIABLES.map((v) => `count(c.${v.key}), sum(c.${v.key}), sum(c.${v.key} * c.${v.key})`).join(", ");
-  const bareScreen = c.prepare(`with ${scope.aff} select (a.id is not null) as aff, count(*), ${sums} from slab_conditions c left join aff a on a.id = c.slab_id group by aff`);
+  const bareScreen = c.prepare(
+    `with ${scope.aff} select (a.id is not null) as aff, count(*), ${sums} from slab_conditions c left join aff a on a.id = c.slab_id group by aff`,
+  );
 
   const gc = (() => {
     v8.setFlagsFromString("--expose-gc");
@@ -184,7 +222,9 @@ async function main() {
   gc();
   const rssCache = process.memoryUsage().rss - rssBefore;
   const kinds = columnKinds(facts);
-  console.log(`slab facts cache: built from SQLite in ${buildS.toFixed(2)} s (once after a start or a large import), ${(bytes / 1024 / 1024).toFixed(0)} MB in typed arrays`);
+  console.log(
+    `slab facts cache: built from SQLite in ${buildS.toFixed(2)} s (once after a start or a large import), ${(bytes / 1024 / 1024).toFixed(0)} MB in typed arrays`,
+  );
   console.log(
     `  ${(bytes / facts.slabId.length).toFixed(0)} bytes per slab (${facts.slabId.length.toLocaleString("en")} rows of room, ${(facts.slabId.length - facts.size).toLocaleString("en")} of them spare; was 243); RSS grew ${(rssCache / 1048576).toFixed(0)} MB; ${kinds.float32.length} of ${VARIABLES.length} variables held as Float32 (on their grid)${kinds.float32.length ? `: ${kinds.float32.join(", ")}` : ""}`,
   );
@@ -226,7 +266,11 @@ async function main() {
 
   const results = [
     { name: "rate-by-variable (SLG × casting speed)", report: time(() => rateByVariable(db, rbvQuery)), bare: time(() => bareRate.raw().all(scope.params)) },
-    { name: "screening crude (SLG, adjustFor=none)", report: time(() => screening(db, screeningQuerySchema.parse({ defectType: "SLG", adjustFor: "none" }))), bare: time(() => bareScreen.raw().all(scope.params)) },
+    {
+      name: "screening crude (SLG, adjustFor=none)",
+      report: time(() => screening(db, screeningQuerySchema.parse({ defectType: "SLG", adjustFor: "none" }))),
+      bare: time(() => bareScreen.raw().all(scope.params)),
+    },
   ];
   console.log("");
   console.log("report                                             report     bare SQL   ratio    target         under 1 s");
@@ -248,7 +292,9 @@ async function main() {
     { name: "last ≈100,000 slabs", filters: { from: day(hundredThousandth) }, target: 0.5 },
   ];
   console.log("");
-  console.log(`adjusted model: SLG, ${conditions.split(",").length} numeric conditions + grade family + strand, heat-clustered SEs; beside it the crude rate-by-variable (casting speed) on the same slabs`);
+  console.log(
+    `adjusted model: SLG, ${conditions.split(",").length} numeric conditions + grade family + strand, heat-clustered SEs; beside it the crude rate-by-variable (casting speed) on the same slabs`,
+  );
   console.log("scope                      slabs        adjusted   crude rbv  ratio    target");
   for (const sc of scopes) {
     const aq = adjustedQuerySchema.parse({ defectType: "SLG", variables: conditions, adjustFor: "grade_family,strand", ...sc.filters });
@@ -264,7 +310,12 @@ async function main() {
     const sc = scan(db, buildScope(db, adjustedQuerySchema.parse({ defectType: "SLG", variables: conditions })));
     const terms = modelTerms(db, sc, [...conditions.split(","), "grade_family", "strand"]);
     const { rows } = completeRows(sc, terms);
-    const distinct = time(() => logisticRegressionColumns({ terms: terms.map((t) => t.column), affected: sc.affected, cluster: sc.facts.heatId, rows }, { se: "cluster", likelihoodRatio: false, group: false }));
+    const distinct = time(() =>
+      logisticRegressionColumns(
+        { terms: terms.map((t) => t.column), affected: sc.affected, cluster: sc.facts.heatId, rows },
+        { se: "cluster", likelihoodRatio: false, group: false },
+      ),
+    );
     console.log(`worst case: the full model's fit alone with every slab as its own row (grouping off), every slab: ${distinct.toFixed(3)} s`);
   }
   const sq = screeningQuerySchema.parse({ defectType: "SLG" });
@@ -289,17 +340,24 @@ async function main() {
   );
 
   const sample = rateByVariable(db, rbvQuery);
-  console.log(`\nrate-by-variable on ${sample.slabs.toLocaleString("en")} slabs, ${sample.affected.toLocaleString("en")} affected: Spearman ρ ${sample.spearman.rho?.toFixed(4)}, odds ratio per m/min ${sample.logistic.oddsRatio?.toFixed(3)}`);
+  console.log(
+    `\nrate-by-variable on ${sample.slabs.toLocaleString("en")} slabs, ${sample.affected.toLocaleString("en")} affected: Spearman ρ ${sample.spearman.rho?.toFixed(4)}, odds ratio per m/min ${sample.logistic.oddsRatio?.toFixed(3)}`,
+  );
   console.log("\nQuery plan of the bare aggregate (EXPLAIN QUERY PLAN):");
   const plan = c
-    .prepare(`explain query plan with ${scope.aff} select round(c.casting_speed_m_min, 3) as v, count(*), count(a.id) from slab_conditions c left join aff a on a.id = c.slab_id where c.casting_speed_m_min is not null group by v`)
+    .prepare(
+      `explain query plan with ${scope.aff} select round(c.casting_speed_m_min, 3) as v, count(*), count(a.id) from slab_conditions c left join aff a on a.id = c.slab_id where c.casting_speed_m_min is not null group by v`,
+    )
     .all(scope.params) as { detail: string }[];
   for (const p of plan) console.log(`  ${p.detail}`);
-  const dated = c
-    .prepare(`explain query plan select count(*) from slab_conditions c where c.cast_at >= ? and c.cast_at <= ?`)
-    .all(0, 1) as { detail: string }[];
+  const dated = c.prepare(`explain query plan select count(*) from slab_conditions c where c.cast_at >= ? and c.cast_at <= ?`).all(0, 1) as {
+    detail: string;
+  }[];
   console.log("The affected slabs (the part of each report that stays in SQL):");
-  for (const p of c.prepare(`explain query plan select d.slab_id from defects d where ${scope.defectWhere.join(" and ")} group by d.slab_id`).all(scope.params) as { detail: string }[]) console.log(`  ${p.detail}`);
+  for (const p of c
+    .prepare(`explain query plan select d.slab_id from defects d where ${scope.defectWhere.join(" and ")} group by d.slab_id`)
+    .all(scope.params) as { detail: string }[])
+    console.log(`  ${p.detail}`);
   console.log("With a date range:");
   for (const p of dated) console.log(`  ${p.detail}`);
   db.$client.close();

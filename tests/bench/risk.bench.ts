@@ -28,7 +28,16 @@ const COMPILED = process.env.START_ENTRY === "compiled";
 const source = benchPlantFile(SLABS);
 const PASSWORD = BENCH_PASSWORD;
 const DAY = 86_400_000;
-const CONDITIONS = ["casting_speed_m_min", "speed_change_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm", "width_mm"];
+const CONDITIONS = [
+  "casting_speed_m_min",
+  "speed_change_m_min",
+  "superheat_c",
+  "embr_current_a",
+  "sen_depth_mm",
+  "argon_nl_min",
+  "mold_level_sd_mm",
+  "width_mm",
+];
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const p95 = (xs: number[]) => (xs.length ? [...xs].sort((a, b) => a - b)[Math.min(xs.length - 1, Math.ceil(xs.length * 0.95) - 1)]! : NaN);
@@ -44,8 +53,17 @@ async function training() {
     child = spawn(process.execPath, entry, {
       cwd: REPO,
       env: {
-        PATH: process.env.PATH, HOME: process.env.HOME, NODE_ENV: "test", HOST: "127.0.0.1", PORT: String(port), BETTER_AUTH_URL: `http://localhost:${port}`,
-        DATABASE_FILE: path.join(dir, "app.db"), UPLOAD_DIR: path.join(dir, "uploads"), FAKE_SMTP_PORT: "0", SEED_DEMO: "false", LOG_LEVEL: "error",
+        PATH: process.env.PATH,
+        HOME: process.env.HOME,
+        NODE_ENV: "test",
+        HOST: "127.0.0.1",
+        PORT: String(port),
+        BETTER_AUTH_URL: `http://localhost:${port}`,
+        DATABASE_FILE: path.join(dir, "app.db"),
+        UPLOAD_DIR: path.join(dir, "uploads"),
+        FAKE_SMTP_PORT: "0",
+        SEED_DEMO: "false",
+        LOG_LEVEL: "error",
       },
       stdio: ["ignore", "inherit", "inherit"],
     });
@@ -59,9 +77,16 @@ async function training() {
       await sleep(50);
     }
     const signIn = async (email: string) => {
-      const res = await fetch(`${base}/api/auth/sign-in/email`, { method: "POST", headers: { "content-type": "application/json", origin: `http://localhost:${port}` }, body: JSON.stringify({ email, password: PASSWORD }) });
+      const res = await fetch(`${base}/api/auth/sign-in/email`, {
+        method: "POST",
+        headers: { "content-type": "application/json", origin: `http://localhost:${port}` },
+        body: JSON.stringify({ email, password: PASSWORD }),
+      });
       if (res.status !== 200) throw new Error(`sign-in ${res.status}`);
-      return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+      return res.headers
+        .getSetCookie()
+        .map((c) => c.split(";")[0])
+        .join("; ");
     };
     const quality = await signIn("quality@demo.test");
     const inspector = await signIn("inspector@demo.test");
@@ -105,12 +130,27 @@ async function training() {
     const result = await trained;
     if (result.status !== 201) throw new Error(`training answered ${result.status}: ${JSON.stringify(result.body)}`);
     const slabs = SLABS.toLocaleString("en");
-    console.log(`training on ${slabs} slabs (SLG; ${CONDITIONS.length} numeric conditions as splines + grade family + strand), ${COMPILED ? "compiled" : "tsx"}, load ${os.loadavg().map((x) => x.toFixed(1)).join(" ")}:`);
-    console.log(`  answered in ${(result.ms / 1000).toFixed(1)} s; test AUC ${result.body.validation?.auc.toFixed(3)} on ${result.body.validation?.testSlabs.toLocaleString("en")} slabs`);
-    console.log(`  rate-by-variable report: p95 ${p95(during.report).toFixed(0)} ms while training (${during.report.length} requests) against ${p95(idle.report).toFixed(0)} ms idle`);
-    console.log(`  inspector's yard: p95 ${p95(during.yard).toFixed(0)} ms while training (${during.yard.length} requests) against ${p95(idle.yard).toFixed(0)} ms idle`);
-    console.log(`risk summary training ${slabs} slabs, 10 conditions: ${(result.ms / 1000).toFixed(1)} s target < 60 s ${result.ms < 60_000 ? "met" : "NOT met"}`);
-    console.log(`risk summary report p95 during training ${p95(during.report).toFixed(0)} ms idle ${p95(idle.report).toFixed(0)} ms ${(p95(during.report) / p95(idle.report)).toFixed(2)}×; yard ${p95(during.yard).toFixed(0)} ms idle ${p95(idle.yard).toFixed(0)} ms`);
+    console.log(
+      `training on ${slabs} slabs (SLG; ${CONDITIONS.length} numeric conditions as splines + grade family + strand), ${COMPILED ? "compiled" : "tsx"}, load ${os
+        .loadavg()
+        .map((x) => x.toFixed(1))
+        .join(" ")}:`,
+    );
+    console.log(
+      `  answered in ${(result.ms / 1000).toFixed(1)} s; test AUC ${result.body.validation?.auc.toFixed(3)} on ${result.body.validation?.testSlabs.toLocaleString("en")} slabs`,
+    );
+    console.log(
+      `  rate-by-variable report: p95 ${p95(during.report).toFixed(0)} ms while training (${during.report.length} requests) against ${p95(idle.report).toFixed(0)} ms idle`,
+    );
+    console.log(
+      `  inspector's yard: p95 ${p95(during.yard).toFixed(0)} ms while training (${during.yard.length} requests) against ${p95(idle.yard).toFixed(0)} ms idle`,
+    );
+    console.log(
+      `risk summary training ${slabs} slabs, 10 conditions: ${(result.ms / 1000).toFixed(1)} s target < 60 s ${result.ms < 60_000 ? "met" : "NOT met"}`,
+    );
+    console.log(
+      `risk summary report p95 during training ${p95(during.report).toFixed(0)} ms idle ${p95(idle.report).toFixed(0)} ms ${(p95(during.report) / p95(idle.report)).toFixed(2)}×; yard ${p95(during.yard).toFixed(0)} ms idle ${p95(idle.yard).toFixed(0)} ms`,
+    );
   } finally {
     if (child && child.exitCode === null) {
       child.kill("SIGTERM");
@@ -130,7 +170,16 @@ async function scoringAtImport() {
     const origin = t.env.BETTER_AUTH_URL;
     const quality = await t.agentFor("quality");
     const process_ = await t.agentFor("process");
-    const trained = await quality.post("/api/risk-models").set("Origin", origin).send({ targetKind: "type", targetCode: "SLG", conditions: ["casting_speed_m_min", "superheat_c", "embr_current_a", "mold_level_sd_mm"], categories: ["grade_family", "strand"], knots: 4 });
+    const trained = await quality
+      .post("/api/risk-models")
+      .set("Origin", origin)
+      .send({
+        targetKind: "type",
+        targetCode: "SLG",
+        conditions: ["casting_speed_m_min", "superheat_c", "embr_current_a", "mold_level_sd_mm"],
+        categories: ["grade_family", "strand"],
+        knots: 4,
+      });
     if (trained.status !== 201) throw new Error(`training: ${trained.status}`);
     const modelId = trained.body.id as number;
     const on = await quality.post(`/api/risk-models/${modelId}/activate`).set("Origin", origin);
@@ -142,17 +191,29 @@ async function scoringAtImport() {
       for (let h = 0; h < HEATS; h++) {
         const no = `${prefix}${String(h).padStart(4, "0")}`;
         const when = new Date(base + h * 4 * 60_000).toISOString();
-        heats.push(`${no},CC2,${h % 2 ? "LV-DQ10" : "LV-ST32"},${when},${when},${(1.2 + (h % 7) * 0.05).toFixed(2)},${1545 + (h % 13)},${(h % 5) * 80},${140 + (h % 4) * 10},${6 + (h % 5)},${(2 + (h % 9) * 0.3).toFixed(1)}`);
-        for (let k = 0; k < PER_HEAT; k++) slabs.push(`${no}-${k < PER_HEAT / 2 ? 1 : 2}${String((k % (PER_HEAT / 2)) + 1).padStart(2, "0")},${no},${k < PER_HEAT / 2 ? 1 : 2},${(k % (PER_HEAT / 2)) + 1},10000,1500,230`);
+        heats.push(
+          `${no},CC2,${h % 2 ? "LV-DQ10" : "LV-ST32"},${when},${when},${(1.2 + (h % 7) * 0.05).toFixed(2)},${1545 + (h % 13)},${(h % 5) * 80},${140 + (h % 4) * 10},${6 + (h % 5)},${(2 + (h % 9) * 0.3).toFixed(1)}`,
+        );
+        for (let k = 0; k < PER_HEAT; k++)
+          slabs.push(
+            `${no}-${k < PER_HEAT / 2 ? 1 : 2}${String((k % (PER_HEAT / 2)) + 1).padStart(2, "0")},${no},${k < PER_HEAT / 2 ? 1 : 2},${(k % (PER_HEAT / 2)) + 1},10000,1500,230`,
+          );
       }
       const t0 = performance.now();
-      const a = await agent.post("/api/import/heats").set("Origin", origin).attach("file", Buffer.from(heats.join("\n")), "heats.csv");
+      const a = await agent
+        .post("/api/import/heats")
+        .set("Origin", origin)
+        .attach("file", Buffer.from(heats.join("\n")), "heats.csv");
       if (a.status !== 201) throw new Error(`heats: ${a.status} ${JSON.stringify(a.body).slice(0, 300)}`);
-      const b = await agent.post("/api/import/slabs").set("Origin", origin).attach("file", Buffer.from(slabs.join("\n")), "slabs.csv");
+      const b = await agent
+        .post("/api/import/slabs")
+        .set("Origin", origin)
+        .attach("file", Buffer.from(slabs.join("\n")), "slabs.csv");
       if (b.status !== 201) throw new Error(`slabs: ${b.status} ${JSON.stringify(b.body).slice(0, 300)}`);
       return performance.now() - t0;
     };
-    const scoredOf = (prefix: string) => t.db.$client.prepare("select count(*) from slab_risks r join slabs s on s.id = r.slab_id where s.slab_id like ?").pluck().get(`${prefix}%`) as number;
+    const scoredOf = (prefix: string) =>
+      t.db.$client.prepare("select count(*) from slab_risks r join slabs s on s.id = r.slab_id where s.slab_id like ?").pluck().get(`${prefix}%`) as number;
     // A first import warms the import thread and the statements (not counted).
     t.db.$client.prepare("update risk_models set active = 0").run();
     await importOnce(process_, "RW");
@@ -170,8 +231,12 @@ async function scoringAtImport() {
     }
     const ratio = median(withModel) / median(off);
     console.log(`import of ${HEATS.toLocaleString("en")} heats and ${(HEATS * PER_HEAT).toLocaleString("en")} slabs over HTTP, ${RUNS} runs each, medians:`);
-    console.log(`  no model switched on ${(median(off) / 1000).toFixed(2)} s (${off.map((x) => (x / 1000).toFixed(2)).join(", ")}); every slab scored ${(median(withModel) / 1000).toFixed(2)} s (${withModel.map((x) => (x / 1000).toFixed(2)).join(", ")})`);
-    console.log(`risk summary scoring 10,000 imported slabs adds ${((ratio - 1) * 100).toFixed(0)} % (${(median(withModel) / 1000).toFixed(2)} s vs ${(median(off) / 1000).toFixed(2)} s) target < 20 % ${ratio < 1.2 ? "met" : "NOT met"}`);
+    console.log(
+      `  no model switched on ${(median(off) / 1000).toFixed(2)} s (${off.map((x) => (x / 1000).toFixed(2)).join(", ")}); every slab scored ${(median(withModel) / 1000).toFixed(2)} s (${withModel.map((x) => (x / 1000).toFixed(2)).join(", ")})`,
+    );
+    console.log(
+      `risk summary scoring 10,000 imported slabs adds ${((ratio - 1) * 100).toFixed(0)} % (${(median(withModel) / 1000).toFixed(2)} s vs ${(median(off) / 1000).toFixed(2)} s) target < 20 % ${ratio < 1.2 ? "met" : "NOT met"}`,
+    );
   } finally {
     await t.close();
   }

@@ -64,8 +64,17 @@ async function startOnce(dir: string, label: string): Promise<Start> {
   const child: ChildProcess = spawn(process.execPath, [...entry], {
     cwd: REPO,
     env: {
-      PATH: process.env.PATH, HOME: process.env.HOME, NODE_ENV: "test", HOST: "127.0.0.1", PORT: String(port), BETTER_AUTH_URL: `http://localhost:${port}`,
-      DATABASE_FILE: path.join(dir, "app.db"), UPLOAD_DIR: path.join(dir, "uploads"), FAKE_SMTP_PORT: "0", SEED_DEMO: "false", LOG_LEVEL: "info",
+      PATH: process.env.PATH,
+      HOME: process.env.HOME,
+      NODE_ENV: "test",
+      HOST: "127.0.0.1",
+      PORT: String(port),
+      BETTER_AUTH_URL: `http://localhost:${port}`,
+      DATABASE_FILE: path.join(dir, "app.db"),
+      UPLOAD_DIR: path.join(dir, "uploads"),
+      FAKE_SMTP_PORT: "0",
+      SEED_DEMO: "false",
+      LOG_LEVEL: "info",
     },
     stdio: ["ignore", "pipe", "pipe"],
   });
@@ -88,9 +97,16 @@ async function startOnce(dir: string, label: string): Promise<Start> {
     await sleep(10);
   }
   const signInAs = async (email: string) => {
-    const res = await fetch(`${base}/api/auth/sign-in/email`, { method: "POST", headers: { "content-type": "application/json", origin: `http://localhost:${port}` }, body: JSON.stringify({ email, password: PASSWORD }) });
+    const res = await fetch(`${base}/api/auth/sign-in/email`, {
+      method: "POST",
+      headers: { "content-type": "application/json", origin: `http://localhost:${port}` },
+      body: JSON.stringify({ email, password: PASSWORD }),
+    });
     if (res.status !== 200) throw new Error(`sign-in ${res.status}: ${await res.text()}`);
-    return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+    return res.headers
+      .getSetCookie()
+      .map((c) => c.split(";")[0])
+      .join("; ");
   };
   const atListen = memoryOf(child.pid!);
   const quality = await signInAs("quality@demo.test");
@@ -133,8 +149,21 @@ async function startOnce(dir: string, label: string): Promise<Start> {
   console.log(`  ${label}: ${readyLine ?? "(no ready line)"}`);
   if (snapshotLine) console.log(`  ${label}: ${snapshotLine}`);
   return {
-    listen, signIn, yard, yardIdle, reports, rssListen: atListen.rss, rssReady: m.rss, rssPeak: m.peak, ready: readyLine ? JSON.parse(readyLine) : null,
-    screeningCrude, screeningAdjusted, rssAfterScreening: after.rss, peakAfterScreening: after.peak, stopMs, snapshotLine,
+    listen,
+    signIn,
+    yard,
+    yardIdle,
+    reports,
+    rssListen: atListen.rss,
+    rssReady: m.rss,
+    rssPeak: m.peak,
+    ready: readyLine ? JSON.parse(readyLine) : null,
+    screeningCrude,
+    screeningAdjusted,
+    rssAfterScreening: after.rss,
+    peakAfterScreening: after.peak,
+    stopMs,
+    snapshotLine,
   };
 }
 
@@ -161,7 +190,12 @@ async function main() {
   const dir = await copyBenchPlant(source, "strandsight-bench-start-");
   try {
     const slabs = SLABS.toLocaleString("en");
-    console.log(`Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); load ${os.loadavg().map((x) => x.toFixed(1)).join(" ")}`);
+    console.log(
+      `Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); load ${os
+        .loadavg()
+        .map((x) => x.toFixed(1))
+        .join(" ")}`,
+    );
     const floor = await floorStart();
     const cold = await startOnce(dir, "no snapshot");
     const snapshotFile = path.join(dir, "app.db.report-cache");
@@ -173,7 +207,10 @@ async function main() {
 
     console.log("");
     console.log("start (seconds from spawn)  listen    sign-in   yard      reports   yard idle  RSS listen  RSS ready  RSS peak   crude scr  adj. scr   stop");
-    for (const [name, r] of [["no snapshot (rebuild)", cold], ["from the snapshot", warm]] as const) {
+    for (const [name, r] of [
+      ["no snapshot (rebuild)", cold],
+      ["from the snapshot", warm],
+    ] as const) {
       console.log(
         `${name.padEnd(26)}  ${s(r.listen).padStart(7)}  ${s(r.signIn).padStart(7)}  ${s(r.yard).padStart(7)}  ${s(r.reports).padStart(8)}  ${s(r.yardIdle).padStart(8)}  ${r.rssListen.toFixed(0).padStart(7)} MB  ${r.rssReady.toFixed(0).padStart(6)} MB  ${r.peakAfterScreening.toFixed(0).padStart(6)} MB  ${s(r.screeningCrude).padStart(8)}  ${s(r.screeningAdjusted).padStart(8)}  ${s(r.stopMs).padStart(7)}`,
       );
@@ -182,9 +219,15 @@ async function main() {
     const worst = Math.max(cold.listen, warm.listen, cold.signIn, warm.signIn, cold.yard, warm.yard);
     const peak = Math.max(cold.peakAfterScreening, warm.peakAfterScreening);
     // Summary lines read by scripts/bench.ts.
-    console.log(`start summary ${slabs} slabs: sign-in and yard within ${(worst / 1000).toFixed(2)} s (${(worst / floor).toFixed(1)}× a bare Node server) target < 2 s ${worst < 2000 ? "met" : "NOT met"}`);
-    console.log(`start summary ${slabs} slabs: reports ready ${(warm.reports / 1000).toFixed(2)} s from the snapshot (reading its bytes alone ${(readFloor / 1000).toFixed(2)} s), ${(cold.reports / 1000).toFixed(2)} s rebuilt`);
-    console.log(`start summary ${slabs} slabs: server RSS peak ${peak.toFixed(0)} MB (ready ${warm.rssReady.toFixed(0)} MB) target < 800 MB at 5 M ${SLABS >= 5_000_000 ? (peak < 800 ? "met" : "NOT met") : "(judged on BENCH_SLABS=5000000)"}`);
+    console.log(
+      `start summary ${slabs} slabs: sign-in and yard within ${(worst / 1000).toFixed(2)} s (${(worst / floor).toFixed(1)}× a bare Node server) target < 2 s ${worst < 2000 ? "met" : "NOT met"}`,
+    );
+    console.log(
+      `start summary ${slabs} slabs: reports ready ${(warm.reports / 1000).toFixed(2)} s from the snapshot (reading its bytes alone ${(readFloor / 1000).toFixed(2)} s), ${(cold.reports / 1000).toFixed(2)} s rebuilt`,
+    );
+    console.log(
+      `start summary ${slabs} slabs: server RSS peak ${peak.toFixed(0)} MB (ready ${warm.rssReady.toFixed(0)} MB) target < 800 MB at 5 M ${SLABS >= 5_000_000 ? (peak < 800 ? "met" : "NOT met") : "(judged on BENCH_SLABS=5000000)"}`,
+    );
   } finally {
     fs.rmSync(dir, { recursive: true, force: true });
   }

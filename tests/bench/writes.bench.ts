@@ -106,7 +106,9 @@ function floorApp(sqlite: Database.Database) {
     existing: sqlite.prepare("select id, created_by from defects where client_key = ?"),
     slab: sqlite.prepare(`select s.id, s.slab_id, s.length_mm, s.width_mm, s.thickness_mm, h.heat_no, g.code as grade_code, st.strand_no
       from slabs s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id join strands st on st.id = s.strand_id where s.slab_id = ?`),
-    type: sqlite.prepare("select t.id, t.active, t.code, t.name, c.code as category_code from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)"),
+    type: sqlite.prepare(
+      "select t.id, t.active, t.code, t.name, c.code as category_code from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)",
+    ),
     insert: sqlite.prepare(`insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, length_mm, width_mm, depth_mm, severity,
       stage, disposition, note, client_key, found_at, created_by, created_at, updated_at) values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`),
     disposition: sqlite.prepare(`update slabs set updated_at = @now, disposition = (select disposition from defects where slab_id = @slab and deleted_at is null
@@ -130,8 +132,25 @@ function floorApp(sqlite: Database.Database) {
     if (!type?.active) return { status: 400, id: 0, defect: null };
     const now = Date.now();
     const id = Number(
-      q.insert.run(slab.id, type.id, b.face, b.position_along_mm, b.position_across_mm, b.length_mm ?? null, b.width_mm ?? null, b.depth_mm ?? null,
-        b.severity, b.stage, b.disposition, b.note || null, b.client_key, now, who.id, now, now).lastInsertRowid,
+      q.insert.run(
+        slab.id,
+        type.id,
+        b.face,
+        b.position_along_mm,
+        b.position_across_mm,
+        b.length_mm ?? null,
+        b.width_mm ?? null,
+        b.depth_mm ?? null,
+        b.severity,
+        b.stage,
+        b.disposition,
+        b.note || null,
+        b.client_key,
+        now,
+        who.id,
+        now,
+        now,
+      ).lastInsertRowid,
     );
     q.disposition.run({ slab: slab.id, now });
     q.audit.run(now, who.id, who.name, String(id), JSON.stringify({ ...b, slab_id: slab.slab_id }));
@@ -140,12 +159,40 @@ function floorApp(sqlite: Database.Database) {
       status: 201,
       id,
       defect: {
-        id, slabId: slab.slab_id, heatNo: slab.heat_no, gradeCode: slab.grade_code, strandNo: slab.strand_no, slabLengthMm: slab.length_mm,
-        slabWidthMm: slab.width_mm, slabThicknessMm: slab.thickness_mm, typeCode: type.code, typeName: type.name, categoryCode: type.category_code,
-        face: b.face, positionAlongMm: b.position_along_mm, positionAcrossMm: b.position_across_mm, lengthMm: b.length_mm ?? null, widthMm: b.width_mm ?? null,
-        depthMm: b.depth_mm ?? null, severity: b.severity, stage: b.stage, disposition: b.disposition, note: b.note || null, reviewStatus: "new",
-        reviewedByName: null, reviewedAt: null, reviewNote: null, clientKey: b.client_key, foundAt: at, createdAt: at, updatedAt: at, createdById: who.id,
-        createdByName: who.name, photos: [], causes: [], canEdit: true,
+        id,
+        slabId: slab.slab_id,
+        heatNo: slab.heat_no,
+        gradeCode: slab.grade_code,
+        strandNo: slab.strand_no,
+        slabLengthMm: slab.length_mm,
+        slabWidthMm: slab.width_mm,
+        slabThicknessMm: slab.thickness_mm,
+        typeCode: type.code,
+        typeName: type.name,
+        categoryCode: type.category_code,
+        face: b.face,
+        positionAlongMm: b.position_along_mm,
+        positionAcrossMm: b.position_across_mm,
+        lengthMm: b.length_mm ?? null,
+        widthMm: b.width_mm ?? null,
+        depthMm: b.depth_mm ?? null,
+        severity: b.severity,
+        stage: b.stage,
+        disposition: b.disposition,
+        note: b.note || null,
+        reviewStatus: "new",
+        reviewedByName: null,
+        reviewedAt: null,
+        reviewNote: null,
+        clientKey: b.client_key,
+        foundAt: at,
+        createdAt: at,
+        updatedAt: at,
+        createdById: who.id,
+        createdByName: who.name,
+        photos: [],
+        causes: [],
+        canEdit: true,
       },
     };
   });
@@ -160,7 +207,9 @@ function floorApp(sqlite: Database.Database) {
   return app;
 }
 
-const rankSql = `case disposition ${Object.entries(DISPOSITION_RANK).map(([d, r]) => `when '${d}' then ${r}`).join(" ")} end`;
+const rankSql = `case disposition ${Object.entries(DISPOSITION_RANK)
+  .map(([d, r]) => `when '${d}' then ${r}`)
+  .join(" ")} end`;
 
 /** V8's CPU profiler through the inspector, started and stopped around one phase (BENCH_WRITES_PROFILE). */
 let inspector: import("node:inspector").Session | null = null;
@@ -236,7 +285,13 @@ async function serve(kind: "app" | "floor", template: string) {
     if (m.type === "usage") {
       const u = process.cpuUsage();
       // How long the event loop was held up since the last reading: what a post waits for while a report computes.
-      process.send!({ type: "usage", cpuMs: (u.user + u.system) / 1000, requests, loopP99Ms: loop.percentile(99) / 1e6, loopMaxMs: loop.max / 1e6 } satisfies FromChild);
+      process.send!({
+        type: "usage",
+        cpuMs: (u.user + u.system) / 1000,
+        requests,
+        loopP99Ms: loop.percentile(99) / 1e6,
+        loopMaxMs: loop.max / 1e6,
+      } satisfies FromChild);
       loop.reset();
     } else if (m.type === "profile") {
       await profile(m.file);
@@ -327,16 +382,31 @@ async function signIn(baseUrl: string, email: string): Promise<string> {
     body: JSON.stringify({ email, password: TEST_PASSWORD }),
   });
   if (res.status !== 200) throw new Error(`sign-in as ${email} failed: ${res.status}`);
-  return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+  return res.headers
+    .getSetCookie()
+    .map((c) => c.split(";")[0])
+    .join("; ");
 }
 
-const READS = ["/api/reports/rate-by-variable?variable=casting_speed_m_min&defectType=SLG", "/api/reports/overview?period=week", "/api/reports/screening?defectType=LFC", "/api/reports/control-chart?period=day"];
+const READS = [
+  "/api/reports/rate-by-variable?variable=casting_speed_m_min&defectType=SLG",
+  "/api/reports/overview?period=week",
+  "/api/reports/screening?defectType=LFC",
+  "/api/reports/control-chart?period=day",
+];
 
 /**
  * The load of tests/helpers/load.ts (the same bodies, slabs and report reads), with the sign-ins
  * done before the server's CPU is read: password hashing is not the write path.
  */
-async function drive(baseUrl: string, slabs: { slab_id: string; length_mm: number; width_mm: number }[], writerCookies: string[], readerCookies: string[], seconds: number, keyPrefix: string) {
+async function drive(
+  baseUrl: string,
+  slabs: { slab_id: string; length_mm: number; width_mm: number }[],
+  writerCookies: string[],
+  readerCookies: string[],
+  seconds: number,
+  keyPrefix: string,
+) {
   const posts: { status: number; ms: number }[] = [];
   const reads: { status: number; ms: number; path: string }[] = [];
   const deadline = performance.now() + seconds * 1000;
@@ -346,11 +416,22 @@ async function drive(baseUrl: string, slabs: { slab_id: string; length_mm: numbe
       const slab = slabs[(w * 7 + n) % slabs.length]!;
       const i = n++;
       const body = {
-        slab_id: slab.slab_id, type_code: ["SLG", "LFC", "SLV", "CLS"][i % 4], face: i % 2 ? "inner" : "outer", position_along_mm: (i * 37) % slab.length_mm,
-        position_across_mm: (i * 11) % slab.width_mm, severity: (i % 3) + 1, stage: "slab_yard", disposition: "accept", client_key: `${keyPrefix}-${w}-${i}`,
+        slab_id: slab.slab_id,
+        type_code: ["SLG", "LFC", "SLV", "CLS"][i % 4],
+        face: i % 2 ? "inner" : "outer",
+        position_along_mm: (i * 37) % slab.length_mm,
+        position_across_mm: (i * 11) % slab.width_mm,
+        severity: (i % 3) + 1,
+        stage: "slab_yard",
+        disposition: "accept",
+        client_key: `${keyPrefix}-${w}-${i}`,
       };
       const t0 = performance.now();
-      const res = await fetch(`${baseUrl}/api/defects`, { method: "POST", headers: { "content-type": "application/json", origin: baseUrl, cookie }, body: JSON.stringify(body) });
+      const res = await fetch(`${baseUrl}/api/defects`, {
+        method: "POST",
+        headers: { "content-type": "application/json", origin: baseUrl, cookie },
+        body: JSON.stringify(body),
+      });
       await res.arrayBuffer();
       posts.push({ status: res.status, ms: performance.now() - t0 });
     }
@@ -429,14 +510,34 @@ function collector(name: string, d: Driven, readers: boolean, profileAs?: string
         name,
         posts: posts.length,
         postsPerSecond: posts.length / seconds,
-        p50: percentile(posts.map((p) => p.ms), 50),
-        p95: percentile(posts.map((p) => p.ms), 95),
+        p50: percentile(
+          posts.map((p) => p.ms),
+          50,
+        ),
+        p95: percentile(
+          posts.map((p) => p.ms),
+          95,
+        ),
         cpuPerRequestMs: cpuMs / requests,
         loopP99Ms,
         loopMaxMs,
         reads: reads.length,
-        readP95: percentile(reads.map((p) => p.ms), 95),
-        byReport: new Map(READS.map((path) => [path, [reads.filter((x) => x.path === path).length, percentile(reads.filter((x) => x.path === path).map((x) => x.ms), 50)]])),
+        readP95: percentile(
+          reads.map((p) => p.ms),
+          95,
+        ),
+        byReport: new Map(
+          READS.map((path) => [
+            path,
+            [
+              reads.filter((x) => x.path === path).length,
+              percentile(
+                reads.filter((x) => x.path === path).map((x) => x.ms),
+                50,
+              ),
+            ],
+          ]),
+        ),
         lost: created - rows,
         fiveHundreds: [...posts, ...reads].filter((x) => x.status >= 500).length,
         refused: posts.filter((p) => p.status !== 201).length + reads.filter((p) => p.status !== 200).length,
@@ -452,7 +553,9 @@ async function main() {
   const plant = openDatabase(template);
   const [slabs, defects] = plant.$client.prepare("select (select count(*) from slabs), (select count(*) from defects)").raw().get() as number[];
   plant.$client.close();
-  console.log(`demo plant: ${slabs!.toLocaleString("en")} slabs, ${defects!.toLocaleString("en")} defects; ${SECONDS} s per phase; ${os.cpus().length} cores, load average ${os.loadavg()[0]!.toFixed(1)}`);
+  console.log(
+    `demo plant: ${slabs!.toLocaleString("en")} slabs, ${defects!.toLocaleString("en")} defects; ${SECONDS} s per phase; ${os.cpus().length} cores, load average ${os.loadavg()[0]!.toFixed(1)}`,
+  );
 
   const phases: Phase[] = [];
   const floor = await Server.start("floor", template);
@@ -493,11 +596,17 @@ async function main() {
   const ratio = a.cpuPerRequestMs / f.cpuPerRequestMs;
   // Summary lines read by scripts/bench.ts (keep their shape).
   console.log("");
-  console.log(`writes cpu per post  ${a.cpuPerRequestMs.toFixed(3)} ms  floor ${f.cpuPerRequestMs.toFixed(3)} ms  ${ratio.toFixed(2)}×  target ≤ 1.50×  ${ratio <= 1.5 ? "met" : "NOT met"}`);
+  console.log(
+    `writes cpu per post  ${a.cpuPerRequestMs.toFixed(3)} ms  floor ${f.cpuPerRequestMs.toFixed(3)} ms  ${ratio.toFixed(2)}×  target ≤ 1.50×  ${ratio <= 1.5 ? "met" : "NOT met"}`,
+  );
   console.log(`writes p95 under load  ${m.p95.toFixed(1)} ms  p50 ${m.p50.toFixed(1)} ms  target < 100 ms  ${m.p95 < 100 ? "met" : "NOT met"}`);
-  console.log(`writes rate under load  ${m.postsPerSecond.toFixed(0)}/s  floor ${f.postsPerSecond.toFixed(0)}/s  target ≥ 500/s  ${m.postsPerSecond >= 500 ? "met" : "NOT met"}`);
+  console.log(
+    `writes rate under load  ${m.postsPerSecond.toFixed(0)}/s  floor ${f.postsPerSecond.toFixed(0)}/s  target ≥ 500/s  ${m.postsPerSecond >= 500 ? "met" : "NOT met"}`,
+  );
   console.log(`writes posts only  ${a.postsPerSecond.toFixed(0)}/s  p95 ${a.p95.toFixed(1)} ms  p50 ${a.p50.toFixed(1)} ms  (recorded)`);
-  console.log(`writes lost / 5xx / refused  ${m.lost + a.lost} / ${m.fiveHundreds + a.fiveHundreds} / ${m.refused + a.refused}  target 0 / 0 / 0  ${m.lost + a.lost + m.fiveHundreds + a.fiveHundreds + m.refused + a.refused === 0 ? "met" : "NOT met"}`);
+  console.log(
+    `writes lost / 5xx / refused  ${m.lost + a.lost} / ${m.fiveHundreds + a.fiveHundreds} / ${m.refused + a.refused}  target 0 / 0 / 0  ${m.lost + a.lost + m.fiveHundreds + a.fiveHundreds + m.refused + a.refused === 0 ? "met" : "NOT met"}`,
+  );
 }
 
 if (process.argv[2] === "--serve") {

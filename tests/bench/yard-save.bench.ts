@@ -84,7 +84,9 @@ async function main() {
     console.error(`No built client in ${CLIENT_DIST}: run \`npm run build\` first (or set STRANDSIGHT_CLIENT_DIST).`);
     process.exit(1);
   }
-  console.log(`Save → Sent on the yard screen: demo plant at scale ${SCALE}, ${SAVES} saves each, network ${NETWORK === "wifi" ? "good Wi-Fi (20 ms, 20 Mbit/s)" : "localhost"}`);
+  console.log(
+    `Save → Sent on the yard screen: demo plant at scale ${SCALE}, ${SAVES} saves each, network ${NETWORK === "wifi" ? "good Wi-Fi (20 ms, 20 Mbit/s)" : "localhost"}`,
+  );
   const server = await startTestServer({ scale: SCALE });
   const browser = await launchBrowser();
   try {
@@ -153,8 +155,12 @@ async function main() {
       const p95 = quantile(r.ms, 0.95);
       const target = r.label === "no photo" ? `target p50 < ${TARGET_P50_MS} ms  ${p50 < TARGET_P50_MS ? "met" : "NOT met"}` : "(recorded)";
       console.log(`save → sent, ${r.label.padEnd(16)} n=${r.ms.length}  p50 ${p50.toFixed(0)} ms  p95 ${p95.toFixed(0)} ms  ${target}`);
-      if (r.label === "no photo" && postMs.length) console.log(`  of which the entry's POST (browser's timing)      p50 ${quantile(postMs.slice(0, SAVES), 0.5).toFixed(0)} ms`);
-      if (r.prepareMs.length) console.log(`photo made smaller on the tablet (before the tap)  p50 ${quantile(r.prepareMs, 0.5).toFixed(0)} ms  p95 ${quantile(r.prepareMs, 0.95).toFixed(0)} ms`);
+      if (r.label === "no photo" && postMs.length)
+        console.log(`  of which the entry's POST (browser's timing)      p50 ${quantile(postMs.slice(0, SAVES), 0.5).toFixed(0)} ms`);
+      if (r.prepareMs.length)
+        console.log(
+          `photo made smaller on the tablet (before the tap)  p50 ${quantile(r.prepareMs, 0.5).toFixed(0)} ms  p95 ${quantile(r.prepareMs, 0.95).toFixed(0)} ms`,
+        );
     }
   } finally {
     await browser.close();

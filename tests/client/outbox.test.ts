@@ -75,7 +75,14 @@ describe("the yard's outbox", () => {
     const sent: number[] = [];
     outbox.onSent((e) => sent.push(e.defectId));
     await outbox.start("u1");
-    await outbox.add({ clientKey: "entry-0001", userId: "u1", slabId: "L260001-101", body: body("entry-0001"), summary, photos: [photo("photo-a001"), photo("photo-b001")] });
+    await outbox.add({
+      clientKey: "entry-0001",
+      userId: "u1",
+      slabId: "L260001-101",
+      body: body("entry-0001"),
+      summary,
+      photos: [photo("photo-a001"), photo("photo-b001")],
+    });
     expect(outbox.getSnapshot().entries).toHaveLength(1);
     await outbox.flush();
     expect(calls).toEqual([
@@ -168,7 +175,14 @@ describe("the yard's outbox", () => {
     const { transport, calls } = scriptedTransport({ photo: [heic] });
     const { outbox } = makeOutbox(transport);
     await outbox.start("u1");
-    await outbox.add({ clientKey: "entry-0006", userId: "u1", slabId: "S", body: body("entry-0006"), summary, photos: [photo("photo-e001"), photo("photo-e002")] });
+    await outbox.add({
+      clientKey: "entry-0006",
+      userId: "u1",
+      slabId: "S",
+      body: body("entry-0006"),
+      summary,
+      photos: [photo("photo-e001"), photo("photo-e002")],
+    });
     await outbox.flush();
     expect(calls.map((c) => c.kind === "photo" && c.key)).toEqual([false, "photo-e001", "photo-e002"]);
     const [e] = outbox.getSnapshot().entries;

@@ -20,7 +20,10 @@ const env = useAppAndBrowser({ scale: 0.02 });
 const AXE_SOURCE = fs.readFileSync(createRequire(import.meta.url).resolve("axe-core/axe.min.js"), "utf8");
 
 const claim = () =>
-  env.server.db.$client.prepare("select c.id from claims c where exists (select 1 from claim_slabs cs where cs.claim_id = c.id) order by c.id limit 1").pluck().get() as number;
+  env.server.db.$client
+    .prepare("select c.id from claims c where exists (select 1 from claim_slabs cs where cs.claim_id = c.id) order by c.id limit 1")
+    .pluck()
+    .get() as number;
 
 /** What to run: every rule axe runs by default, and the name-against-visible-text rule (marked experimental in axe 4.x, so off unless asked). */
 const AXE_OPTIONS = {
@@ -112,7 +115,9 @@ describe.each([
         // The demo plant's notice is on every screen inside the frame, in a landmark of its own (axe's "region").
         if (role) expect(await page.getByRole("complementary", { name: "Demo data" }).textContent(), screen.name).toContain("Invented demo plant");
         const violations = await runAxe(page);
-        console.log(`axe ${size} ${screen.name}: ${JSON.stringify(countsByImpact(violations))}${violations.length ? "\n  " + describeViolations(violations).replaceAll("\n", "\n  ") : ""}`);
+        console.log(
+          `axe ${size} ${screen.name}: ${JSON.stringify(countsByImpact(violations))}${violations.length ? "\n  " + describeViolations(violations).replaceAll("\n", "\n  ") : ""}`,
+        );
         const bad = violations.filter((v) => FAILING.includes(v.impact ?? "minor"));
         if (bad.length) failures.push(`${screen.name} (${screen.path()}):\n  ${describeViolations(bad).replaceAll("\n", "\n  ")}`);
       }
@@ -122,4 +127,3 @@ describe.each([
     }, 90_000);
   }
 });
-

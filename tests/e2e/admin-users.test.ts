@@ -9,9 +9,32 @@ import { TEST_PASSWORD } from "../helpers/test-app";
  */
 const env = useAppAndBrowser({ scale: 0.01 });
 
-const ADMIN_MENU = ["Slab yard", "Quality", "Review", "Catalogue", "Process", "Claims", "Trace", "Heats", "Reports", "Risk models", "Operating windows", "Investigations", "Cause tags", "Import", "Plant setup", "Users", "API tokens", "Mail outbox"];
+const ADMIN_MENU = [
+  "Slab yard",
+  "Quality",
+  "Review",
+  "Catalogue",
+  "Process",
+  "Claims",
+  "Trace",
+  "Heats",
+  "Reports",
+  "Risk models",
+  "Operating windows",
+  "Investigations",
+  "Cause tags",
+  "Import",
+  "Plant setup",
+  "Users",
+  "API tokens",
+  "Mail outbox",
+];
 
-const q = (sql: string, ...a: unknown[]) => env.server.db.$client.prepare(sql).pluck().get(...a);
+const q = (sql: string, ...a: unknown[]) =>
+  env.server.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...a);
 
 /** What the menu row shows (links and group buttons, in order), and how many rows it takes. */
 async function row(page: Page) {
@@ -39,7 +62,12 @@ describe("the administrator's menu", () => {
     await page.getByRole("heading", { level: 1, name: "Users and roles" }).waitFor();
     const nav = page.getByRole("navigation", { name: "Main" });
 
-    expect(await row(page)).toEqual({ layout: "grouped", labels: ["Yard and quality", "Process and causes", "Claims and tracing", "Reports", "Setup"], rows: 1, height: 52 });
+    expect(await row(page)).toEqual({
+      layout: "grouped",
+      labels: ["Yard and quality", "Process and causes", "Claims and tracing", "Reports", "Setup"],
+      rows: 1,
+      height: 52,
+    });
     // Every screen of the role is still in the menu, in its group.
     expect((await nav.getByRole("link", { includeHidden: true }).allTextContents()).sort()).toEqual([...ADMIN_MENU].sort());
     await snap(page, "admin-menu-tablet");
@@ -117,7 +145,12 @@ describe("the administrator's menu", () => {
     await snap(page, "admin-menu-desktop");
     const nav = page.getByRole("navigation", { name: "Main" });
     await nav.getByRole("button", { name: "Yard and quality" }).click();
-    expect(await nav.getByRole("list", { name: "Yard and quality" }).getByRole("link").allTextContents()).toEqual(["Slab yard", "Quality", "Review", "Catalogue"]);
+    expect(await nav.getByRole("list", { name: "Yard and quality" }).getByRole("link").allTextContents()).toEqual([
+      "Slab yard",
+      "Quality",
+      "Review",
+      "Catalogue",
+    ]);
     await snap(page, "admin-menu-open-desktop");
     await page.keyboard.press("Escape");
     expect(await nav.getByRole("list", { name: "Yard and quality" }).isVisible()).toBe(false);
@@ -129,7 +162,10 @@ describe("the administrator's menu", () => {
     const expected = {
       inspector: { layout: "flat", labels: ["Slab yard"] },
       quality: { layout: "own-group-open", labels: ["Slab yard", "Quality", "Review", "Catalogue", "Process and causes", "Claims and tracing", "Reports"] },
-      process: { layout: "own-group-open", labels: ["Process", "Heats", "Risk models", "Operating windows", "Investigations", "Cause tags", "Reports", "Setup"] },
+      process: {
+        layout: "own-group-open",
+        labels: ["Process", "Heats", "Risk models", "Operating windows", "Investigations", "Cause tags", "Reports", "Setup"],
+      },
       claims: { layout: "flat", labels: ["Claims", "Trace", "Heats", "Reports", "Investigations", "Cause tags"] },
     };
     for (const [role, want] of Object.entries(expected)) {

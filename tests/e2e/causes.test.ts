@@ -52,7 +52,10 @@ describe("cause tagging in the browser", () => {
 
     // One of its defects already carries the cause (suspected): it must not count twice.
     const api = await env.server.agentFor("process");
-    const pre = await api.post(`/api/defects/${ids[0]}/causes`).set("Origin", env.server.baseUrl).send({ tags: [TAG], confidence: "suspected", note: "seen on the nozzle" });
+    const pre = await api
+      .post(`/api/defects/${ids[0]}/causes`)
+      .set("Origin", env.server.baseUrl)
+      .send({ tags: [TAG], confidence: "suspected", note: "seen on the nozzle" });
     expect(pre.status).toBe(201);
     const notYet = ids.length - taggedWith(ids, TAG);
     expect(notYet).toBe(ids.length - 1);
@@ -137,13 +140,28 @@ describe("cause tagging in the browser", () => {
       )
       .get() as { id: number; slabId: string };
     // Tagged twice, the first tagging then removed: the history holds both.
-    const first = await api.post(`/api/defects/${defect.id}/causes`).set("Origin", env.server.baseUrl).send({ tags: ["mold-powder"], confidence: "suspected" });
+    const first = await api
+      .post(`/api/defects/${defect.id}/causes`)
+      .set("Origin", env.server.baseUrl)
+      .send({ tags: ["mold-powder"], confidence: "suspected" });
     expect(first.status).toBe(201);
     const linkId = first.body.current[0].id as number;
-    expect((await api.delete(`/api/defects/${defect.id}/causes/${linkId}`).set("Origin", env.server.baseUrl).send({ reason: "powder was to specification" })).status).toBe(200);
-    expect((await api.post(`/api/defects/${defect.id}/causes`).set("Origin", env.server.baseUrl).send({ tags: ["high-superheat"], confidence: "probable" })).status).toBe(201);
+    expect(
+      (await api.delete(`/api/defects/${defect.id}/causes/${linkId}`).set("Origin", env.server.baseUrl).send({ reason: "powder was to specification" })).status,
+    ).toBe(200);
+    expect(
+      (
+        await api
+          .post(`/api/defects/${defect.id}/causes`)
+          .set("Origin", env.server.baseUrl)
+          .send({ tags: ["high-superheat"], confidence: "probable" })
+      ).status,
+    ).toBe(201);
 
-    for (const [size, viewport] of [["tablet", TABLET], ["desktop", DESKTOP]] as const) {
+    for (const [size, viewport] of [
+      ["tablet", TABLET],
+      ["desktop", DESKTOP],
+    ] as const) {
       const context = await env.browser.newContext({ viewport });
       const page = await context.newPage();
       page.setDefaultTimeout(15_000);
@@ -192,7 +210,10 @@ describe("tagging one defect on its slab", () => {
     await page.getByRole("heading", { level: 1, name: `Slab ${defect.slabId}` }).waitFor();
     const card = page.locator(`[data-testid=slab-defect][data-defect-id="${defect.id}"]`);
     await card.getByTestId("edit-causes").click();
-    await card.getByTestId("cause-editor").getByRole("checkbox", { name: /^High superheat/ }).check();
+    await card
+      .getByTestId("cause-editor")
+      .getByRole("checkbox", { name: /^High superheat/ })
+      .check();
     await card.getByRole("button", { name: "Add these causes" }).click();
     await card.getByTestId("causes-added").waitFor();
     expect(await card.getByTestId("causes-added").textContent()).toBe("✓ Cause added.");
@@ -230,12 +251,18 @@ describe("tagging one defect on its slab", () => {
     await signInAs(page, env.server.baseUrl, "process", TEST_PASSWORD);
     // From the process home: its count and its link.
     await page.goto(`${env.server.baseUrl}/process`);
-    await page.getByTestId("process-untagged").getByText(`${untagged().toLocaleString("en-GB")} defect`).waitFor();
+    await page
+      .getByTestId("process-untagged")
+      .getByText(`${untagged().toLocaleString("en-GB")} defect`)
+      .waitFor();
     await page.getByRole("link", { name: "Tag defects without a cause" }).click();
     await page.getByRole("heading", { level: 1, name: "Defects without a cause" }).waitFor();
     await page.getByTestId("worklist-type").selectOption(type);
     await page.waitForURL(new RegExp(`type=${type}`));
-    await page.getByTestId("worklist-count").getByText(`${before.toLocaleString("en-GB")} defect`).waitFor();
+    await page
+      .getByTestId("worklist-count")
+      .getByText(`${before.toLocaleString("en-GB")} defect`)
+      .waitFor();
     const rows = page.getByTestId("worklist-row");
     const firstId = Number(await rows.nth(0).getAttribute("data-defect-id"));
     const secondId = Number(await rows.nth(1).getAttribute("data-defect-id"));
@@ -245,11 +272,17 @@ describe("tagging one defect on its slab", () => {
     const form = page.getByTestId("worklist-tag-form");
     await form.getByRole("checkbox", { name: /^High superheat/ }).check();
     await form.getByRole("button", { name: "Add the causes and go to the next" }).click();
-    await page.getByTestId("worklist-done").getByText(/Causes added to .* High superheat\./).waitFor();
+    await page
+      .getByTestId("worklist-done")
+      .getByText(/Causes added to .* High superheat\./)
+      .waitFor();
     await page.locator(`[data-testid=worklist-row][data-defect-id="${firstId}"]`).waitFor({ state: "detached" });
     expect(await page.getByTestId("worklist-tag-form").count()).toBe(1);
     expect(await page.getByTestId("worklist-tag-form").textContent()).toContain("Causes of");
-    await page.getByTestId("worklist-count").getByText(`${(before - 1).toLocaleString("en-GB")} defect`).waitFor();
+    await page
+      .getByTestId("worklist-count")
+      .getByText(`${(before - 1).toLocaleString("en-GB")} defect`)
+      .waitFor();
     expect(taggedWith([firstId], "high-superheat")).toBe(1);
     await snap(page, "worklist-next-tablet");
     await page.getByTestId("worklist-tag-form").getByRole("button", { name: "Cancel" }).click();
@@ -270,7 +303,10 @@ describe("tagging one defect on its slab", () => {
     expect(await page.getByTestId("bulk-preview-causes").textContent()).toBe("Cause: Ladle change, suspected");
     await page.getByTestId("bulk-apply").click();
     await page.getByTestId("worklist-done").getByText("Ladle change: 2 taggings written over 2 defects; they leave this list.").waitFor();
-    await page.getByTestId("worklist-count").getByText(`${(before - 3).toLocaleString("en-GB")} defect`).waitFor();
+    await page
+      .getByTestId("worklist-count")
+      .getByText(`${(before - 3).toLocaleString("en-GB")} defect`)
+      .waitFor();
     expect(taggedWith([a, b], "ladle-change")).toBe(2);
     expect(untagged(" and t.code = ?", type)).toBe(before - 3);
     await snap(page, "worklist-bulk-tablet");

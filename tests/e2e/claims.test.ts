@@ -26,9 +26,17 @@ describe("claims in the browser", () => {
   it("when a claims officer traces a coil, then the chain and the heat's slabs and defects are the API's, the printable history prints without the app around it, and the workbook has the ten sheets with the history's slabs", async () => {
     const coil = coilWithDefects();
     // Two photos on a defect of the traced slab, so the trace has thumbnails to show.
-    const defectId = env.server.db.$client.prepare("select d.id from defects d join slabs s on s.id = d.slab_id where s.slab_id = ? and d.deleted_at is null order by d.id limit 1").pluck().get(coil.slabId) as number;
+    const defectId = env.server.db.$client
+      .prepare("select d.id from defects d join slabs s on s.id = d.slab_id where s.slab_id = ? and d.deleted_at is null order by d.id limit 1")
+      .pluck()
+      .get(coil.slabId) as number;
     const quality = await env.server.agentFor("quality");
-    await quality.post(`/api/defects/${defectId}/photos`).set("Origin", env.server.baseUrl).attach("photos", await makeJpeg(), "edge-1.jpg").attach("photos", await makeJpeg(640, 480), "edge-2.jpg").expect(201);
+    await quality
+      .post(`/api/defects/${defectId}/photos`)
+      .set("Origin", env.server.baseUrl)
+      .attach("photos", await makeJpeg(), "edge-1.jpg")
+      .attach("photos", await makeJpeg(640, 480), "edge-2.jpg")
+      .expect(201);
     const api = await env.server.agentFor("claims");
     const traced = (await api.get(`/api/trace?q=${coil.productId}`).expect(200)).body as Trace;
     expect(traced.found).toBe("coil");
@@ -63,12 +71,22 @@ describe("claims in the browser", () => {
     const shownDefects = await page.getByTestId("history-defect").evaluateAll((els) => els.map((e) => Number(e.getAttribute("data-defect-id"))));
     expect(shownDefects).toEqual(h.defects.map((d) => d.id));
     expect(h.defects.some((d) => d.slabId === coil.slabId)).toBe(true);
-    const thumbs = await page.getByTestId("defect-photos").locator("img").evaluateAll((imgs) => imgs.map((i) => i.getAttribute("src")));
+    const thumbs = await page
+      .getByTestId("defect-photos")
+      .locator("img")
+      .evaluateAll((imgs) => imgs.map((i) => i.getAttribute("src")));
     expect(h.defects.find((d) => d.id === defectId)!.photos).toHaveLength(2);
     expect(thumbs).toEqual(h.defects.flatMap((d) => d.photos.map((p) => p.thumbUrl)));
     // The thumbnails are real pictures the browser loads once they come into view (they load lazily).
     await page.getByTestId("defect-photos").first().scrollIntoViewIfNeeded();
-    await expect.poll(() => page.getByTestId("defect-photos").locator("img").evaluateAll((imgs) => imgs.every((i) => (i as HTMLImageElement).naturalWidth > 0))).toBe(true);
+    await expect
+      .poll(() =>
+        page
+          .getByTestId("defect-photos")
+          .locator("img")
+          .evaluateAll((imgs) => imgs.every((i) => (i as HTMLImageElement).naturalWidth > 0)),
+      )
+      .toBe(true);
     const chips = await page.getByTestId("cause-chip").evaluateAll((els) => els.map((e) => e.getAttribute("data-tag")));
     expect(chips).toEqual(h.defects.flatMap((d) => h.causes.filter((c) => c.defectId === d.id && !c.removedAt).map((c) => c.tag)));
     expect(await page.getByTestId("history-claim").count()).toBe(h.claims.length);
@@ -89,15 +107,53 @@ describe("claims in the browser", () => {
     const hist = (await api.get(`/api/heats/${coil.heatNo}/history`).expect(200)).body as HeatHistory;
     const sheet = wb.getWorksheet("Slabs")!;
     const header = (sheet.getRow(1).values as unknown[]).slice(1);
-    expect(header).toEqual(["Slab", "Strand", "Piece", "Length (mm)", "Width (mm)", "Thickness (mm)", "Weight (t)", "Cast at (UTC)", "Transition slab", "Disposition", "Defects", "Coils / plates"]);
+    expect(header).toEqual([
+      "Slab",
+      "Strand",
+      "Piece",
+      "Length (mm)",
+      "Width (mm)",
+      "Thickness (mm)",
+      "Weight (t)",
+      "Cast at (UTC)",
+      "Transition slab",
+      "Disposition",
+      "Defects",
+      "Coils / plates",
+    ]);
     const rows: unknown[][] = [];
     sheet.eachRow((row, n) => {
       if (n > 1) rows.push((row.values as unknown[]).slice(1));
     });
-    expect(rows.map((r) => [r[0], r[1], r[2], r[3], r[4], r[5], r[6] ?? null, r[7] instanceof Date ? Math.round(r[7].getTime() / 1000) : null, r[8], r[9] ?? null, r[10], r[11] ?? ""])).toEqual(
+    expect(
+      rows.map((r) => [
+        r[0],
+        r[1],
+        r[2],
+        r[3],
+        r[4],
+        r[5],
+        r[6] ?? null,
+        r[7] instanceof Date ? Math.round(r[7].getTime() / 1000) : null,
+        r[8],
+        r[9] ?? null,
+        r[10],
+        r[11] ?? "",
+      ]),
+    ).toEqual(
       hist.slabs.map((s) => [
-        s.slabId, s.strand, s.pieceNo, s.lengthMm, s.widthMm, s.thicknessMm, s.weightT, s.castAt ? Math.round(Date.parse(s.castAt) / 1000) : null, s.transition ? "yes" : "no",
-        s.disposition ? dispositionText(s.disposition) : null, s.defects, s.products.join(", "),
+        s.slabId,
+        s.strand,
+        s.pieceNo,
+        s.lengthMm,
+        s.widthMm,
+        s.thicknessMm,
+        s.weightT,
+        s.castAt ? Math.round(Date.parse(s.castAt) / 1000) : null,
+        s.transition ? "yes" : "no",
+        s.disposition ? dispositionText(s.disposition) : null,
+        s.defects,
+        s.products.join(", "),
       ]),
     );
 
@@ -165,7 +221,9 @@ describe("claims in the browser", () => {
     expect(stored.productIds).toEqual([coil.productId, "K99999999"]);
     expect(stored.quantityT).toBe(24.5);
     expect(stored.untracedProducts).toEqual(["K99999999"]);
-    expect((await readRows(page, "[data-testid=linked-slab]")).map((r) => [r.slabId, r.heatNo, r.products])).toEqual([[coil.slabId, coil.heatNo, coil.productId]]);
+    expect((await readRows(page, "[data-testid=linked-slab]")).map((r) => [r.slabId, r.heatNo, r.products])).toEqual([
+      [coil.slabId, coil.heatNo, coil.productId],
+    ]);
     expect(await page.getByTestId("untraced-id").allTextContents()).toEqual(["K99999999"]);
     expect(await page.locator("[data-testid=claim-product][data-untraced=true]").allTextContents()).toEqual(["K99999999not traced"]);
 
@@ -177,7 +235,9 @@ describe("claims in the browser", () => {
     await page.locator("[data-action='claim.update'] [data-testid=claim-history-detail]").getByText("Status → Under review").waitFor();
 
     // An attachment goes up and is listed.
-    await page.getByTestId("claim-attachment-input").setInputFiles({ name: "customer-letter.txt", mimeType: "text/plain", buffer: Buffer.from("Claim letter (demo): slivers on the coil edge.\n") });
+    await page
+      .getByTestId("claim-attachment-input")
+      .setInputFiles({ name: "customer-letter.txt", mimeType: "text/plain", buffer: Buffer.from("Claim letter (demo): slivers on the coil edge.\n") });
     await page.getByTestId("claim-attachment").filter({ hasText: "customer-letter.txt" }).waitFor();
 
     // E-mail the heat's history: queued, on the claim's history and in the outbox.
@@ -194,7 +254,11 @@ describe("claims in the browser", () => {
     const sent = page.locator("[data-action='claim.history.sent'] [data-testid=claim-history-detail]");
     await sent.waitFor();
     // Queued when answered (sent once the mail worker has passed: either, never "sent" before it is).
-    expect(await sent.textContent()).toMatch(new RegExp(`^Heat ${coil.heatNo} history \\(customer edition\\) (queued for e-mail to quality-desk@fjordbay\\.example|sent to quality-desk@fjordbay\\.example \\(\\d{4}-\\d{2}-\\d{2} \\d{2}:\\d{2} UTC\\))$`));
+    expect(await sent.textContent()).toMatch(
+      new RegExp(
+        `^Heat ${coil.heatNo} history \\(customer edition\\) (queued for e-mail to quality-desk@fjordbay\\.example|sent to quality-desk@fjordbay\\.example \\(\\d{4}-\\d{2}-\\d{2} \\d{2}:\\d{2} UTC\\))$`,
+      ),
+    );
     const outbox = env.server.db.$client
       .prepare("select kind, to_addresses as toAddresses, subject, attachments from email_outbox where kind = 'heat_history' order by id desc limit 1")
       .get() as { kind: string; toAddresses: string; subject: string; attachments: string };
@@ -225,7 +289,11 @@ describe("claims in the browser", () => {
     await page.getByLabel("Customer").fill("Fjordbay Tube Works (demo)");
     await page.getByLabel("Defect complained of").fill("The same complaint twice");
     await page.getByRole("button", { name: "Record the claim" }).click();
-    await page.getByRole("alert").filter({ hasText: `A claim ${claimNo} is already on record.` }).first().waitFor();
+    await page
+      .getByRole("alert")
+      .filter({ hasText: `A claim ${claimNo} is already on record.` })
+      .first()
+      .waitFor();
     expect(new URL(page.url()).pathname).toBe("/claims/new");
 
     expect(errors).toEqual([]);
@@ -235,13 +303,24 @@ describe("claims in the browser", () => {
   it("when a claims officer prepares the customer's history from a claim, then it opens with the claim's cover and the default parts, leaks no name, note or link into the app, takes causes on request, and the internal edition is one click away", async () => {
     const coil = coilWithDefects();
     const api = await env.server.agentFor("claims");
-    const created = await api.post("/api/claims").set("Origin", env.server.baseUrl).send({
-      claimNo: `CL-ED-${String(Date.now()).slice(-6)}`, customer: "Northgate Strip (demo)", productIds: [coil.productId], receivedOn: "2026-11-20", defectComplained: "Slivers", quantityT: 18,
-    }).expect(201);
+    const created = await api
+      .post("/api/claims")
+      .set("Origin", env.server.baseUrl)
+      .send({
+        claimNo: `CL-ED-${String(Date.now()).slice(-6)}`,
+        customer: "Northgate Strip (demo)",
+        productIds: [coil.productId],
+        receivedOn: "2026-11-20",
+        defectComplained: "Slivers",
+        quantityT: 18,
+      })
+      .expect(201);
     const claim = created.body as Claim;
     // An inspector's note on the heat's first defect: internal, never in the customer's edition.
     env.server.db.$client
-      .prepare("update defects set note = 'day shift: check the edge again' where id = (select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.found_at, d.id limit 1)")
+      .prepare(
+        "update defects set note = 'day shift: check the edge again' where id = (select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.found_at, d.id limit 1)",
+      )
       .run(coil.heatNo);
     const people = env.server.db.$client.prepare("select name from user").pluck().all() as string[];
     const context = await env.browser.newContext({ viewport: TABLET, acceptDownloads: true });
@@ -259,7 +338,8 @@ describe("claims in the browser", () => {
     expect(await page.getByTestId("history-cover").locator("[data-field='Claim']").textContent()).toBe(claim.claimNo);
     expect(await page.getByTestId("history-cover").locator("[data-field='Coils and plates of this heat']").textContent()).toBe(coil.productId);
     // Summary, chemistry, conditions, slabs, defects: the default parts, nothing else.
-    const titles = async () => (await page.getByTestId("history-part").locator("h2").allTextContents()).map((t) => t.replace(/^\d+\. /, "").replace(/ \(.*$/, ""));
+    const titles = async () =>
+      (await page.getByTestId("history-part").locator("h2").allTextContents()).map((t) => t.replace(/^\d+\. /, "").replace(/ \(.*$/, ""));
     expect(await titles()).toEqual(["Summary", "Chemistry", "Casting conditions of the heat", "Slabs", "Defects"]);
     const text = (await article.textContent()) ?? "";
     expect(text).not.toContain("day shift: check the edge again");
@@ -271,13 +351,18 @@ describe("claims in the browser", () => {
     await snap(page, "history-customer-tablet");
 
     // Causes on request: the part appears and the choice is kept in the address.
-    await page.getByTestId("edition-chooser").getByRole("checkbox", { name: /^Causes/ }).check();
+    await page
+      .getByTestId("edition-chooser")
+      .getByRole("checkbox", { name: /^Causes/ })
+      .check();
     await page.waitForURL(/sections=[^&]*causes/);
     await expect.poll(titles).toEqual(["Summary", "Chemistry", "Casting conditions of the heat", "Slabs", "Defects", "Causes"]);
 
     // The workbook follows the same choice.
     const [download] = await Promise.all([page.waitForEvent("download"), page.getByTestId("export-history").click()]);
-    expect(download.suggestedFilename()).toMatch(new RegExp(`^strandsight-heat-${coil.heatNo}-history-claim-${claim.claimNo}-customer-\\d{4}-\\d{2}-\\d{2}\\.xlsx$`));
+    expect(download.suggestedFilename()).toMatch(
+      new RegExp(`^strandsight-heat-${coil.heatNo}-history-claim-${claim.claimNo}-customer-\\d{4}-\\d{2}-\\d{2}\\.xlsx$`),
+    );
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.readFile((await download.path())!);
     expect(wb.worksheets.map((w) => w.name)).toEqual(["Cover", "Summary", "Chemistry", "Casting conditions", "Slabs", "Defects", "Causes"]);
@@ -291,9 +376,23 @@ describe("claims in the browser", () => {
     await page.setViewportSize(TABLET);
 
     // The internal edition: every part, the audit trail in words.
-    await page.getByTestId("edition-chooser").getByRole("radio", { name: /^Internal/ }).check();
+    await page
+      .getByTestId("edition-chooser")
+      .getByRole("radio", { name: /^Internal/ })
+      .check();
     await expect.poll(() => article.getAttribute("data-edition")).toBe("internal");
-    expect(await titles()).toEqual(["Summary", "Chemistry", "Casting conditions of the heat", "Process samples", "Slabs", "Defects", "Causes", "Investigations", "Claims", "Audit trail"]);
+    expect(await titles()).toEqual([
+      "Summary",
+      "Chemistry",
+      "Casting conditions of the heat",
+      "Process samples",
+      "Slabs",
+      "Defects",
+      "Causes",
+      "Investigations",
+      "Claims",
+      "Audit trail",
+    ]);
     const what = await page.locator("[data-testid=audit-row] [data-field=what]").allTextContents();
     expect(what.length).toBeGreaterThan(0);
     for (const w of what) expect(w).not.toMatch(/[{}"]|sha256|_id\b/);
@@ -302,7 +401,10 @@ describe("claims in the browser", () => {
   });
 
   it("when a quality engineer opens a claim, then it reads without any control to change it; an inspector is refused the trace", async () => {
-    const id = env.server.db.$client.prepare("select c.id from claims c where exists (select 1 from claim_slabs cs where cs.claim_id = c.id) order by c.id limit 1").pluck().get() as number;
+    const id = env.server.db.$client
+      .prepare("select c.id from claims c where exists (select 1 from claim_slabs cs where cs.claim_id = c.id) order by c.id limit 1")
+      .pluck()
+      .get() as number;
     const context = await env.browser.newContext({ viewport: DESKTOP });
     const page = await context.newPage();
     const errors = collectPageErrors(page);

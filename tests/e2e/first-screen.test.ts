@@ -32,7 +32,9 @@ async function openCold(role: string, address: string, ready: string) {
   await page.locator(ready).first().waitFor();
   // A preload left unused is reported by the browser a few seconds after the load.
   await page.waitForTimeout(3500);
-  const entries = (await page.evaluate(`performance.getEntriesByType("resource").map((e) => ({ path: new URL(e.name).pathname + new URL(e.name).search, start: e.startTime, end: e.responseEnd }))`)) as Entry[];
+  const entries = (await page.evaluate(
+    `performance.getEntriesByType("resource").map((e) => ({ path: new URL(e.name).pathname + new URL(e.name).search, start: e.startTime, end: e.responseEnd }))`,
+  )) as Entry[];
   await context.close();
   return { asked, entries, said };
 }

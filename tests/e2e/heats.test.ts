@@ -27,10 +27,12 @@ describe("heats, heat page and slab page", () => {
     await page.waitForURL(/sort=defects&dir=desc/);
     await page.locator("th[aria-sort=descending]").getByText("Defects").waitFor();
     const defectsCol = page.locator("[data-testid=heat-row] td[data-col=defects]");
-    await expect.poll(async () => {
-      const counts = (await defectsCol.allTextContents()).map(Number);
-      return counts.length > 1 && counts.every((n, i) => i === 0 || counts[i - 1]! >= n);
-    }).toBe(true);
+    await expect
+      .poll(async () => {
+        const counts = (await defectsCol.allTextContents()).map(Number);
+        return counts.length > 1 && counts.every((n, i) => i === 0 || counts[i - 1]! >= n);
+      })
+      .toBe(true);
     const counts = (await defectsCol.allTextContents()).map(Number);
     expect(counts[0]).toBeGreaterThanOrEqual(counts[1]!);
     expect(counts[0]).toBeGreaterThan(0);
@@ -59,7 +61,10 @@ describe("heats, heat page and slab page", () => {
     expect(await page.getByRole("radio", { name: /Mold level/ }).getAttribute("aria-checked")).toBe("true");
     expect(await page.getByTestId("samples-chart").getAttribute("aria-label")).toContain("Mold level");
     // Every slab of the heat is listed.
-    const slabCount = env.server.db.$client.prepare("select count(*) from slabs s join heats h on h.id = s.heat_id where h.heat_no = ?").pluck().get(heatNo) as number;
+    const slabCount = env.server.db.$client
+      .prepare("select count(*) from slabs s join heats h on h.id = s.heat_id where h.heat_no = ?")
+      .pluck()
+      .get(heatNo) as number;
     expect(await page.getByTestId("heat-slab-row").count()).toBe(slabCount);
     expect(slabCount).toBeGreaterThan(0);
     await snap(page, "heat-page-desktop");
@@ -94,7 +99,9 @@ describe("heats, heat page and slab page", () => {
     });
     // A slab with defects on record.
     const slabId = env.server.db.$client
-      .prepare("select s.slab_id from slabs s join defects d on d.slab_id = s.id where d.deleted_at is null group by s.id order by count(*) desc, s.slab_id limit 1")
+      .prepare(
+        "select s.slab_id from slabs s join defects d on d.slab_id = s.id where d.deleted_at is null group by s.id order by count(*) desc, s.slab_id limit 1",
+      )
       .pluck()
       .get() as string;
     const defects = env.server.db.$client

@@ -8,20 +8,76 @@ const env = useAppAndBrowser({ scale: 0.02 });
 
 const XLSX_MIME = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";
 const HEADERS = [
-  "heat_no", "sequence_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min", "tundish_temp_c", "embr_current_a",
-  "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm", "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct", "al_pct", "n_ppm",
+  "heat_no",
+  "sequence_no",
+  "caster",
+  "grade",
+  "cast_start",
+  "cast_end",
+  "casting_speed_m_min",
+  "tundish_temp_c",
+  "embr_current_a",
+  "sen_depth_mm",
+  "argon_nl_min",
+  "mold_level_sd_mm",
+  "c_pct",
+  "si_pct",
+  "mn_pct",
+  "p_pct",
+  "s_pct",
+  "al_pct",
+  "n_ppm",
 ];
 type Row = Record<string, string | number | Date>;
 
 // Three heats of one new sequence, far from the demo plant's numbers. Chemistry of a peritectic grade.
 const chem = { c_pct: 0.13, si_pct: 0.25, mn_pct: 1.2, p_pct: 0.015, s_pct: 0.005, al_pct: 0.03, n_ppm: 48 };
 const goodRows = (): Row[] => [
-  { heat_no: "T99001", sequence_no: "T-SEQ-1", caster: "CC2", grade: "LV-ST32", cast_start: new Date("2026-12-10T06:00:00Z"), cast_end: new Date("2026-12-10T06:40:00Z"),
-    casting_speed_m_min: 1.42, tundish_temp_c: 1548, embr_current_a: 350, sen_depth_mm: 170, argon_nl_min: 7.5, mold_level_sd_mm: 2.1, ...chem },
-  { heat_no: "T99002", sequence_no: "T-SEQ-1", caster: "CC2", grade: "LV-ST32", cast_start: new Date("2026-12-10T06:40:00Z"), cast_end: new Date("2026-12-10T07:20:00Z"),
-    casting_speed_m_min: 1.35, tundish_temp_c: 1546, embr_current_a: 350, sen_depth_mm: 170, argon_nl_min: 7.0, mold_level_sd_mm: 2.0, ...chem },
-  { heat_no: "T99003", sequence_no: "T-SEQ-1", caster: "CC2", grade: "LV-ST32", cast_start: new Date("2026-12-10T07:20:00Z"), cast_end: new Date("2026-12-10T08:00:00Z"),
-    casting_speed_m_min: 1.4, tundish_temp_c: 1545, embr_current_a: 360, sen_depth_mm: 175, argon_nl_min: 7.2, mold_level_sd_mm: 1.9, ...chem },
+  {
+    heat_no: "T99001",
+    sequence_no: "T-SEQ-1",
+    caster: "CC2",
+    grade: "LV-ST32",
+    cast_start: new Date("2026-12-10T06:00:00Z"),
+    cast_end: new Date("2026-12-10T06:40:00Z"),
+    casting_speed_m_min: 1.42,
+    tundish_temp_c: 1548,
+    embr_current_a: 350,
+    sen_depth_mm: 170,
+    argon_nl_min: 7.5,
+    mold_level_sd_mm: 2.1,
+    ...chem,
+  },
+  {
+    heat_no: "T99002",
+    sequence_no: "T-SEQ-1",
+    caster: "CC2",
+    grade: "LV-ST32",
+    cast_start: new Date("2026-12-10T06:40:00Z"),
+    cast_end: new Date("2026-12-10T07:20:00Z"),
+    casting_speed_m_min: 1.35,
+    tundish_temp_c: 1546,
+    embr_current_a: 350,
+    sen_depth_mm: 170,
+    argon_nl_min: 7.0,
+    mold_level_sd_mm: 2.0,
+    ...chem,
+  },
+  {
+    heat_no: "T99003",
+    sequence_no: "T-SEQ-1",
+    caster: "CC2",
+    grade: "LV-ST32",
+    cast_start: new Date("2026-12-10T07:20:00Z"),
+    cast_end: new Date("2026-12-10T08:00:00Z"),
+    casting_speed_m_min: 1.4,
+    tundish_temp_c: 1545,
+    embr_current_a: 360,
+    sen_depth_mm: 175,
+    argon_nl_min: 7.2,
+    mold_level_sd_mm: 1.9,
+    ...chem,
+  },
 ];
 
 async function workbook(rows: Row[]): Promise<Buffer> {
@@ -49,7 +105,9 @@ describe("import screen", () => {
     const bad = goodRows();
     bad[1]!.casting_speed_m_min = 25;
     bad[2]!.tundish_temp_c = "hot";
-    await page.getByLabel(/Workbook \(\.xlsx\) or CSV file/).setInputFiles({ name: "heats-with-errors.xlsx", mimeType: XLSX_MIME, buffer: await workbook(bad) });
+    await page
+      .getByLabel(/Workbook \(\.xlsx\) or CSV file/)
+      .setInputFiles({ name: "heats-with-errors.xlsx", mimeType: XLSX_MIME, buffer: await workbook(bad) });
     await page.getByTestId("import-errors").waitFor();
     const shown = await readRows(page, "[data-testid=import-error]");
     expect(shown.map((r) => [r.row, r.column])).toEqual([
@@ -65,7 +123,9 @@ describe("import screen", () => {
     await snap(page, "import-2-errors-tablet");
 
     // The fixed file checks clean and would create the three heats.
-    await page.getByLabel(/Workbook \(\.xlsx\) or CSV file/).setInputFiles({ name: "heats-fixed.xlsx", mimeType: XLSX_MIME, buffer: await workbook(goodRows()) });
+    await page
+      .getByLabel(/Workbook \(\.xlsx\) or CSV file/)
+      .setInputFiles({ name: "heats-fixed.xlsx", mimeType: XLSX_MIME, buffer: await workbook(goodRows()) });
     await page.getByTestId("import-check").getByText("Every row is valid").waitFor();
     expect(await page.getByTestId("import-errors").count()).toBe(0);
     expect(await page.getByTestId("import-check").getByTestId("count-created").textContent()).toBe("3");

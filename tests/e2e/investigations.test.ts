@@ -8,7 +8,9 @@ const env = useAppAndBrowser({ scale: 0.02 });
 describe("investigations in the browser", () => {
   it("when a process engineer opens one from a heat, adds a hypothesis and an action already past due, then the list shows one overdue action, and closing it with a confirmed cause leaves it Closed", async () => {
     const heatNo = env.server.db.$client
-      .prepare("select h.heat_no from heats h where exists (select 1 from slabs s join defects d on d.slab_id = s.id where s.heat_id = h.id) order by h.id desc limit 1")
+      .prepare(
+        "select h.heat_no from heats h where exists (select 1 from slabs s join defects d on d.slab_id = s.id where s.heat_id = h.id) order by h.id desc limit 1",
+      )
       .pluck()
       .get() as string;
     const api = await env.server.agentFor("process");
@@ -25,12 +27,16 @@ describe("investigations in the browser", () => {
     expect(await page.getByLabel("Heat numbers").inputValue()).toBe(heatNo);
     // The heat's own defects are offered with one tick (rejected entries left out), ticked by default.
     const heatDefects = env.server.db.$client
-      .prepare("select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null and d.review_status <> 'rejected'")
+      .prepare(
+        "select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null and d.review_status <> 'rejected'",
+      )
       .pluck()
       .get(heatNo) as number;
     expect(heatDefects).toBeGreaterThan(0);
     const offer = page.getByTestId("include-heat-defects");
-    expect(await offer.textContent()).toBe(`Include the ${heatDefects} ${heatDefects === 1 ? "defect" : "defects"} logged on this heat (rejected entries left out)`);
+    expect(await offer.textContent()).toBe(
+      `Include the ${heatDefects} ${heatDefects === 1 ? "defect" : "defects"} logged on this heat (rejected entries left out)`,
+    );
     expect(await offer.getByRole("checkbox").isChecked()).toBe(true);
     // Too short a statement: the form says so in words, nothing is sent.
     await page.getByLabel("Title").fill("Corner cracks after the tundish change (browser test)");

@@ -17,7 +17,11 @@ const DAY = 86_400_000;
 
 function buildPlant(db: Db) {
   const c = db.$client;
-  const one = (sql: string, ...a: unknown[]) => c.prepare(sql).pluck().get(...a) as number;
+  const one = (sql: string, ...a: unknown[]) =>
+    c
+      .prepare(sql)
+      .pluck()
+      .get(...a) as number;
   const caster = one("select id from casters where code = 'CC2'");
   const strand = one("select id from strands where caster_id = ? and strand_no = 1", caster);
   const grade = one("select id from grades where code = 'LV-DQ10'");
@@ -27,7 +31,9 @@ function buildPlant(db: Db) {
     `insert into heats (heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, tundish_temp_c, liquidus_c, superheat_c, embr_current_a, sen_depth_mm, argon_nl_min, mold_level_sd_mm)
      values (?, ?, ?, ?, ?, ?, 1545, 1520, 25, ?, 160, 8, 2.5)`,
   );
-  const slabIns = c.prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, ?, ?, ?, 10000, 1500, 230, 26.91, ?)");
+  const slabIns = c.prepare(
+    "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, ?, ?, ?, 10000, 1500, 230, 26.91, ?)",
+  );
   const defIns = c.prepare(
     "insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, created_by, review_status) values (?, ?, 'inner', 2500, 300, 2, 'slab_yard', 'scarf', ?, ?, 'confirmed')",
   );
@@ -121,7 +127,9 @@ describe("operating windows in the browser (issue 15)", () => {
 
   it("when a quality engineer opens the screen on a desktop, then the rules read without the write and change buttons", async () => {
     env.server.db.$client
-      .prepare("insert into operating_windows (name, family_id, target_kind, target_code, conditions) values ('Slow casting', (select id from grade_families where code = 'LC'), 'type', 'SLG', ?)")
+      .prepare(
+        "insert into operating_windows (name, family_id, target_kind, target_code, conditions) values ('Slow casting', (select id from grade_families where code = 'LC'), 'type', 'SLG', ?)",
+      )
       .run(JSON.stringify([{ variable: "casting_speed_m_min", op: "below", value: 1.5 }]));
     const context = await env.browser.newContext({ viewport: DESKTOP });
     const page = await context.newPage();

@@ -14,8 +14,19 @@ describe("the mail outbox in the browser", () => {
        values (?, 'strandsight@demo.test', ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
     );
     const failedId = Number(
-      insert.run("action_overdue", "quentin@demo.test, priya@demo.test", "Action overdue: check the tundish preheat log", "The action is past its due date.\nOpen the investigation to update it.",
-        JSON.stringify([{ filename: "preheat-log.csv", contentType: "text/csv", bytes: 2048, file: "x.bin" }]), "failed", 5, null, "connect ECONNREFUSED 127.0.0.1:2525", now - 60_000, now - 30_000).lastInsertRowid,
+      insert.run(
+        "action_overdue",
+        "quentin@demo.test, priya@demo.test",
+        "Action overdue: check the tundish preheat log",
+        "The action is past its due date.\nOpen the investigation to update it.",
+        JSON.stringify([{ filename: "preheat-log.csv", contentType: "text/csv", bytes: 2048, file: "x.bin" }]),
+        "failed",
+        5,
+        null,
+        "connect ECONNREFUSED 127.0.0.1:2525",
+        now - 60_000,
+        now - 30_000,
+      ).lastInsertRowid,
     );
     insert.run("invitation", "new.person@demo.test", "Your Strandsight account", "Welcome.", null, "sent", 1, null, null, now - 120_000, now - 110_000);
 

@@ -72,7 +72,7 @@ function freeSlab(offset: number): string {
 }
 
 async function yardPage() {
-  const context = await env.browser.newContext({ viewport: TABLET, hasTouch: true, });
+  const context = await env.browser.newContext({ viewport: TABLET, hasTouch: true });
   const page = await context.newPage();
   page.setDefaultTimeout(30_000);
   const errors = collectPageErrors(page);
@@ -155,7 +155,9 @@ describe("photos made smaller on the tablet", { timeout: 180_000 }, () => {
 
   it("when the photos are small, WebP or PNG, then small and WebP go as taken and a large PNG goes as a smaller JPEG", async () => {
     const small = await makeJpeg(1600, 1200);
-    const webp = await sharp({ create: { width: 3200, height: 2400, channels: 3, background: "#6b6f73" } }).webp({ quality: 80 }).toBuffer();
+    const webp = await sharp({ create: { width: 3200, height: 2400, channels: 3, background: "#6b6f73" } })
+      .webp({ quality: 80 })
+      .toBuffer();
     // A large PNG with a gradient (so it is not trivially small).
     const gradient = Buffer.alloc(3000 * 2000 * 3);
     for (let i = 0; i < 3000 * 2000; i++) {
@@ -163,7 +165,9 @@ describe("photos made smaller on the tablet", { timeout: 180_000 }, () => {
       gradient[i * 3 + 1] = Math.floor(i / 3000) % 256;
       gradient[i * 3 + 2] = 128;
     }
-    const png = await sharp(gradient, { raw: { width: 3000, height: 2000, channels: 3 } }).png().toBuffer();
+    const png = await sharp(gradient, { raw: { width: 3000, height: 2000, channels: 3 } })
+      .png()
+      .toBuffer();
 
     const slabId = freeSlab(1);
     const { context, page, errors } = await yardPage();
@@ -188,8 +192,16 @@ describe("photos made smaller on the tablet", { timeout: 180_000 }, () => {
     expect(scaledPng!.type).toBe("image/jpeg");
     const pngMeta = await sharp(scaledPng!.bytes).metadata();
     expect([pngMeta.format, pngMeta.width, pngMeta.height]).toEqual(["jpeg", 2560, 1707]);
-    expect(storedPhotos(slabId).map((r) => r.sha256).sort()).toEqual([sha256(small), sha256(webp), sha256(scaledPng!.bytes)].sort());
-    expect(storedPhotos(slabId).map((r) => r.original_name).sort()).toEqual(["scan.jpg", "small.jpg", "surface.webp"]);
+    expect(
+      storedPhotos(slabId)
+        .map((r) => r.sha256)
+        .sort(),
+    ).toEqual([sha256(small), sha256(webp), sha256(scaledPng!.bytes)].sort());
+    expect(
+      storedPhotos(slabId)
+        .map((r) => r.original_name)
+        .sort(),
+    ).toEqual(["scan.jpg", "small.jpg", "surface.webp"]);
     expect(errors).toEqual([]);
     await context.close();
   });

@@ -29,7 +29,10 @@ describe("reports warming up after a start", () => {
     };
     try {
       const pages = [];
-      for (const [name, viewport] of [["tablet", TABLET], ["desktop", DESKTOP]] as const) {
+      for (const [name, viewport] of [
+        ["tablet", TABLET],
+        ["desktop", DESKTOP],
+      ] as const) {
         const context = await env.browser.newContext({ viewport });
         const page = await context.newPage();
         page.setDefaultTimeout(20_000);
@@ -39,7 +42,9 @@ describe("reports warming up after a start", () => {
         await page.goto(`${env.server.baseUrl}/reports/screening?adjustFor=none`);
         const waiting = page.getByTestId("report-warming-up");
         await waiting.waitFor();
-        expect(await waiting.textContent()).toMatch(/^Reports are warming upThe server is loading the slab data \(about \d+ s\), as it does after a start or a large import\. This report appears by itself when they are in: nothing is lost, there is nothing to do\.$/);
+        expect(await waiting.textContent()).toMatch(
+          /^Reports are warming upThe server is loading the slab data \(about \d+ s\), as it does after a start or a large import\. This report appears by itself when they are in: nothing is lost, there is nothing to do\.$/,
+        );
         expect(await page.getByTestId("report-refused").count()).toBe(0);
         // The filters and the cautions are there to use while waiting.
         await page.getByTestId("report-cautions").waitFor();

@@ -202,10 +202,14 @@ describe("adjusted associations in the browser (issue 12)", () => {
     expect(await page.getByTestId("model-se").textContent()).toBe("Heat-clustered");
     const sentences = model.terms.filter((t) => t.role === "examined" && t.changeInEstimate.sentence).map((t) => t.changeInEstimate.sentence!);
     expect(sentences.length).toBeGreaterThan(0);
-    expect(await page.getByTestId("change-sentences").getByTestId("change-sentence").allTextContents()).toEqual(sentences.map((s) => `Crude and adjusted differ: ${s}`));
+    expect(await page.getByTestId("change-sentences").getByTestId("change-sentence").allTextContents()).toEqual(
+      sentences.map((s) => `Crude and adjusted differ: ${s}`),
+    );
     // Collinearity the API calls notable carries its word and shape.
     const notable = model.variables.filter((v) => v.collinearity === "notable" || v.collinearity === "serious");
-    expect(await page.locator("[data-testid=variables-table] [data-collinearity=notable], [data-testid=variables-table] [data-collinearity=serious]").count()).toBe(notable.length);
+    expect(
+      await page.locator("[data-testid=variables-table] [data-collinearity=notable], [data-testid=variables-table] [data-collinearity=serious]").count(),
+    ).toBe(notable.length);
     await snap(page, "report-adjusted-desktop");
 
     // The workbook holds the same odds ratios as numbers.
@@ -216,7 +220,9 @@ describe("adjusted associations in the browser (issue 12)", () => {
     const sheet = wb.getWorksheet("Odds ratios")!;
     const header = (sheet.getRow(1).values as unknown[]).slice(1);
     const col = (name: string) => header.indexOf(name) + 1;
-    expect(Array.from({ length: model.terms.length }, (_, i) => sheet.getRow(i + 2).getCell(col("Adjusted odds ratio")).value)).toEqual(model.terms.map((t) => t.adjusted.oddsRatio));
+    expect(Array.from({ length: model.terms.length }, (_, i) => sheet.getRow(i + 2).getCell(col("Adjusted odds ratio")).value)).toEqual(
+      model.terms.map((t) => t.adjusted.oddsRatio),
+    );
 
     // Saved, listed on the reports home under its own name.
     await page.getByRole("button", { name: "Save this report" }).click();
@@ -224,7 +230,10 @@ describe("adjusted associations in the browser (issue 12)", () => {
     await page.getByLabel("Name of the saved report").fill(name);
     await page.getByRole("button", { name: "Save", exact: true }).click();
     await page.getByTestId("report-saved").waitFor();
-    const stored = env.server.db.$client.prepare("select report_kind, query from saved_reports where name = ?").get(name) as { report_kind: string; query: string };
+    const stored = env.server.db.$client.prepare("select report_kind, query from saved_reports where name = ?").get(name) as {
+      report_kind: string;
+      query: string;
+    };
     expect(stored).toEqual({ report_kind: "adjusted", query });
 
     // Model-based SEs on request: said in words.
@@ -280,11 +289,17 @@ describe("adjusted associations in the browser (issue 12)", () => {
       const text = (v: number | null) => (chart.chart === "u" ? num(v, 3) : pct(v));
       const want = Object.fromEntries(chart.points.map((p) => [p.period, { phase: p.phase, value: text(p.value), lcl: text(p.lcl), ucl: text(p.ucl) }]));
       await expect
-        .poll(async () => Object.fromEntries((await readRows(page, "[data-testid=pchart-row]")).map((r) => [r.period, { phase: r.phase, value: r.value, lcl: r.lcl, ucl: r.ucl }])))
+        .poll(async () =>
+          Object.fromEntries(
+            (await readRows(page, "[data-testid=pchart-row]")).map((r) => [r.period, { phase: r.phase, value: r.value, lcl: r.lcl, ucl: r.ucl }]),
+          ),
+        )
         .toEqual(want);
       expect(await page.getByTestId("out-count").textContent()).toBe(String(chart.points.filter((p) => p.outOfControl).length));
       expect(await page.getByTestId("rule-count").textContent()).toBe(String(chart.points.filter((p) => p.signals.some((s) => s !== 1)).length));
-      expect(await page.locator("[data-testid=pchart-row] [data-rule]").count()).toBe(chart.points.flatMap((p) => p.signals.filter((s) => s !== 1 || !p.outOfControl)).length);
+      expect(await page.locator("[data-testid=pchart-row] [data-rule]").count()).toBe(
+        chart.points.flatMap((p) => p.signals.filter((s) => s !== 1 || !p.outOfControl)).length,
+      );
       expect(await page.getByTestId("centre").textContent()).toBe(text(chart.centre));
       return chart;
     };
@@ -295,7 +310,9 @@ describe("adjusted associations in the browser (issue 12)", () => {
     expect(new Set(p.points.map((x) => x.phase))).toEqual(new Set(["baseline", "monitoring"]));
     expect(p.points.some((x) => x.signals.length > 0)).toBe(true);
     // The rules' legend is the API's.
-    expect(await page.getByTestId("rules-legend").locator("li").allTextContents()).toEqual(Object.entries(p.rules.legend).map(([k, v]) => `${k === "1" ? "above UCL" : `rule ${k}`}Rule ${k}: ${v}`));
+    expect(await page.getByTestId("rules-legend").locator("li").allTextContents()).toEqual(
+      Object.entries(p.rules.legend).map(([k, v]) => `${k === "1" ? "above UCL" : `rule ${k}`}Rule ${k}: ${v}`),
+    );
     // Overdispersion, when the API finds it, is said in its words.
     if (p.overdispersion) expect(await page.getByTestId("overdispersion").textContent()).toContain(p.overdispersion.note);
     await snap(page, "report-control-chart-baseline-desktop");
@@ -384,8 +401,12 @@ describe("adjusted associations in the browser (issue 12)", () => {
       expect(await page.getByTestId("mh-p").textContent()).toBe(pValue(st.mantelHaenszel.p));
       expect(await page.getByTestId("crude-or").textContent()).toBe(sig(st.crude.oddsRatio, 3));
       expect(await page.getByTestId("bd-p").textContent()).toBe(`p ${pValue(st.breslowDay.p)}`);
-      expect(await page.getByTestId("bd-words").textContent()).toContain(st.breslowDay.p! < 0.05 ? "A small p: the grade families disagree" : "a small p would mean");
-      expect(await readRows(page, "[data-testid=stratum-row]").then((rows) => rows.map((r) => [r.label, r.or]))).toEqual(st.strata.map((s) => [s.label, sig(s.oddsRatio, 3)]));
+      expect(await page.getByTestId("bd-words").textContent()).toContain(
+        st.breslowDay.p! < 0.05 ? "A small p: the grade families disagree" : "a small p would mean",
+      );
+      expect(await readRows(page, "[data-testid=stratum-row]").then((rows) => rows.map((r) => [r.label, r.or]))).toEqual(
+        st.strata.map((s) => [s.label, sig(s.oddsRatio, 3)]),
+      );
       expect(await page.getByTestId("before-after-strata").getByTestId("change-sentence").textContent()).toContain(st.changeInEstimate.sentence!);
       await snap(page, `report-before-after-strata-${size}`);
 
@@ -393,7 +414,9 @@ describe("adjusted associations in the browser (issue 12)", () => {
       await page.goto(`${env.server.baseUrl}/reports/overview?defectType=SLG&period=week&standardise=grade_family`);
       await page.getByTestId("standardisation").waitFor();
       const ov = (await api.get(`/api/reports/overview?${queryOf(page.url())}`)).body as Overview;
-      expect(await page.locator("[data-testid=period-row] [data-field=standardised]").allTextContents()).toEqual(ov.periods.map((x) => pct(x.standardised?.rate)));
+      expect(await page.locator("[data-testid=period-row] [data-field=standardised]").allTextContents()).toEqual(
+        ov.periods.map((x) => pct(x.standardised?.rate)),
+      );
       await page.getByTestId("period-chart").locator("canvas").first().waitFor();
       await snap(page, `report-overview-standardised-${size}`);
 

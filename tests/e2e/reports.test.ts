@@ -40,7 +40,10 @@ describe("reports in the browser", () => {
     await page.getByTestId("report-cautions").getByText("Association is not causation.").waitFor();
     expect(await page.getByTestId("report-cautions-full").isVisible()).toBe(false);
     await page.getByTestId("report-cautions").getByText("All four cautions").click();
-    await page.getByTestId("report-cautions-full").getByText(/hot-yard, crane and PPE rules/).waitFor();
+    await page
+      .getByTestId("report-cautions-full")
+      .getByText(/hot-yard, crane and PPE rules/)
+      .waitFor();
     await page.getByTestId("report-cautions").getByText("Fewer words").click();
     await expect.poll(() => page.getByTestId("report-cautions-full").isVisible()).toBe(false);
 
@@ -55,7 +58,9 @@ describe("reports in the browser", () => {
     await page.getByRole("heading", { level: 1 }).click();
     await page.getByTestId("variable-select").selectOption("casting_speed_m_min");
     await page.getByTestId("bins-select").selectOption("8");
-    await page.waitForURL((u) => u.searchParams.get("defectType") === "SLG" && u.searchParams.get("variable") === "casting_speed_m_min" && u.searchParams.get("bins") === "8");
+    await page.waitForURL(
+      (u) => u.searchParams.get("defectType") === "SLG" && u.searchParams.get("variable") === "casting_speed_m_min" && u.searchParams.get("bins") === "8",
+    );
     expect(await picker.getByTestId("filter-defect-type-summary").textContent()).toBe("SLG");
 
     // The chart draws on a canvas in its container.
@@ -76,7 +81,9 @@ describe("reports in the browser", () => {
     // n, the bins and the tests on screen are the API's.
     await expect.poll(() => readRows(page, "[data-testid=bin-row]")).toEqual(screenBins(report.bins));
     expect(await page.getByTestId("summary-slabs").textContent()).toBe(report.slabs.toLocaleString("en-GB"));
-    expect(await page.getByTestId("summary-affected").textContent()).toBe(`${report.affected.toLocaleString("en-GB")} affected of n = ${report.slabs.toLocaleString("en-GB")}`);
+    expect(await page.getByTestId("summary-affected").textContent()).toBe(
+      `${report.affected.toLocaleString("en-GB")} affected of n = ${report.slabs.toLocaleString("en-GB")}`,
+    );
     const testP = (key: string) => page.locator(`[data-testid=test-row][data-test=${key}] [data-field=p]`).textContent();
     expect(await testP("spearman")).toBe(pValue(report.spearman.p));
     expect(await testP("logistic")).toBe(pValue(report.logistic.p));
@@ -101,10 +108,18 @@ describe("reports in the browser", () => {
     const sheet = wb.getWorksheet("Bins")!;
     expect(sheet.getRow(1).values).toEqual([undefined, "From (m/min)", "To (m/min)", "Slabs", "Affected slabs", "Rate", "95 % CI lower", "95 % CI upper"]);
     const keys = ["lower", "upper", "slabs", "affected", "rate", "ciLower", "ciUpper"] as const;
-    const sheetBins = Array.from({ length: sheet.rowCount - 1 }, (_, i) => Object.fromEntries(keys.map((k, c) => [k, sheet.getRow(i + 2).getCell(c + 1).value as number])));
+    const sheetBins = Array.from({ length: sheet.rowCount - 1 }, (_, i) =>
+      Object.fromEntries(keys.map((k, c) => [k, sheet.getRow(i + 2).getCell(c + 1).value as number])),
+    );
     expect(sheetBins).toEqual(report.bins);
     expect(screenBins(sheetBins as RateByVariable["bins"])).toEqual(await readRows(page, "[data-testid=bin-row]"));
-    const params = Object.fromEntries(wb.getWorksheet("Parameters")!.getSheetValues().slice(2).map((r) => [(r as unknown[])[1], (r as unknown[])[2]]));
+    const params = Object.fromEntries(
+      wb
+        .getWorksheet("Parameters")!
+        .getSheetValues()
+        .slice(2)
+        .map((r) => [(r as unknown[])[1], (r as unknown[])[2]]),
+    );
     expect(params).toMatchObject({ "Defect type": "SLG", Variable: "Casting speed (m/min)", Bins: "8" });
     await page.getByText(/^Saved as strandsight-rate-by-variable-.*\.xlsx/).waitFor();
 
@@ -114,7 +129,10 @@ describe("reports in the browser", () => {
     await page.getByLabel("Name of the saved report").fill(name);
     await page.getByRole("button", { name: "Save", exact: true }).click();
     await page.getByTestId("report-saved").waitFor();
-    const stored = env.server.db.$client.prepare("select report_kind, query from saved_reports where name = ?").get(name) as { report_kind: string; query: string };
+    const stored = env.server.db.$client.prepare("select report_kind, query from saved_reports where name = ?").get(name) as {
+      report_kind: string;
+      query: string;
+    };
     expect(stored).toEqual({ report_kind: "rate-by-variable", query });
     await page.getByRole("link", { name: "see your saved reports" }).click();
     await page.getByRole("heading", { level: 1, name: "Reports" }).waitFor();

@@ -101,11 +101,15 @@ describe("scanning a slab id on the yard screen", { timeout: 120_000 }, () => {
       const sheet = page.getByTestId("scan-sheet");
       await page.getByTestId("scan-not-slab").waitFor({ timeout: 30_000 });
       // Long texts are cut, with an ellipsis.
-      expect(await page.getByTestId("scan-not-slab").textContent()).toBe("Read “https://labels.example.test/batch/2026/04/17/pallet-00012…”, which is not a slab id. Point at the slab's own label.");
+      expect(await page.getByTestId("scan-not-slab").textContent()).toBe(
+        "Read “https://labels.example.test/batch/2026/04/17/pallet-00012…”, which is not a slab id. Point at the slab's own label.",
+      );
       expect(await sheet.getAttribute("data-state")).toBe("looking");
       expect(await sheet.getAttribute("data-engine")).toBe(engine);
       // The live picture is playing from the (fake) rear camera.
-      const video = await page.locator("[data-testid=scan-sheet] video").evaluate((v: HTMLVideoElement) => ({ w: v.videoWidth, h: v.videoHeight, playing: !v.paused }));
+      const video = await page
+        .locator("[data-testid=scan-sheet] video")
+        .evaluate((v: HTMLVideoElement) => ({ w: v.videoWidth, h: v.videoHeight, playing: !v.paused }));
       expect(video).toEqual({ w: 1280, h: 720, playing: true });
       await page.getByText("Scan only where the site's hot-yard and crane rules allow.").waitFor();
       // The sheet covers the screen: a picture of the screen, not of the whole scrolled page.
@@ -151,7 +155,9 @@ describe("scanning a slab id on the yard screen", { timeout: 120_000 }, () => {
       const problem = page.getByTestId("scan-problem");
       await problem.waitFor();
       expect(await problem.getAttribute("data-problem")).toBe("refused");
-      expect(await problem.textContent()).toContain("The camera was refused. To scan with it, allow the camera for Strandsight in the browser's site settings, then tap Try again.");
+      expect(await problem.textContent()).toContain(
+        "The camera was refused. To scan with it, allow the camera for Strandsight in the browser's site settings, then tap Try again.",
+      );
       await sheetSnap(page, "scan-refused-tablet");
       await page.getByRole("button", { name: "Type the id instead" }).click();
       await page.getByTestId("scan-sheet").waitFor({ state: "detached" });

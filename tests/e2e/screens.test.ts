@@ -12,7 +12,11 @@ const heat = () => env.server.db.$client.prepare("select heat_no from heats orde
 const slab = () =>
   env.server.db.$client.prepare("select s.slab_id from slabs s where exists (select 1 from defects d where d.slab_id = s.id) limit 1").pluck().get() as string;
 
-const claim = () => env.server.db.$client.prepare("select c.id from claims c where exists (select 1 from claim_slabs cs where cs.claim_id = c.id) order by c.id limit 1").pluck().get() as number;
+const claim = () =>
+  env.server.db.$client
+    .prepare("select c.id from claims c where exists (select 1 from claim_slabs cs where cs.claim_id = c.id) order by c.id limit 1")
+    .pluck()
+    .get() as number;
 const coil = () => env.server.db.$client.prepare("select product_id from products where kind = 'coil' order by id limit 1").pluck().get() as string;
 
 const investigation = () => env.server.db.$client.prepare("select id from investigations order by id limit 1").pluck().get() as number;
@@ -30,7 +34,11 @@ const SCREENS: { role: string; name: string; path: () => string }[] = [
   { role: "quality", name: "report-overview", path: () => "/reports/overview?period=month" },
   { role: "quality", name: "report-rate-by-variable", path: () => "/reports/rate-by-variable?defectType=SLG" },
   { role: "quality", name: "report-screening", path: () => "/reports/screening?defectType=LFC" },
-  { role: "quality", name: "report-adjusted", path: () => "/reports/adjusted?defectType=SLG&variables=casting_speed_m_min,superheat_c&adjustFor=grade_family,strand" },
+  {
+    role: "quality",
+    name: "report-adjusted",
+    path: () => "/reports/adjusted?defectType=SLG&variables=casting_speed_m_min,superheat_c&adjustFor=grade_family,strand",
+  },
   { role: "quality", name: "report-process-window", path: () => "/reports/process-window?defectType=SLG" },
   { role: "quality", name: "report-control-chart", path: () => "/reports/control-chart?period=week" },
   { role: "quality", name: "report-before-after", path: () => "/reports/before-after?defectType=SLG" },

@@ -25,37 +25,42 @@ afterAll(async () => {
 });
 
 describe("signing in from the addresses a plant uses", () => {
-  it.each(["localhost", "127.0.0.1", ...HOST_NAMES])("when the inspector opens the server as %s and signs in, then the yard opens with no page error and the session works", async (host) => {
-    const base = `http://${host}:${port()}`;
-    const context = await browser.newContext({ viewport: TABLET });
-    const page = await context.newPage();
-    const errors = collectPageErrors(page);
-    // The router's own complaints (no fallback drawn while the first screen loads) are a defect too.
-    const warnings: string[] = [];
-    page.on("console", (m) => {
-      if (m.type() === "warning") warnings.push(m.text());
-    });
-    const answers: number[] = [];
-    page.on("response", (r) => {
-      if (r.url().endsWith("/api/auth/sign-in/email")) answers.push(r.status());
-    });
-    await page.goto(base + "/sign-in");
-    await page.getByLabel("E-mail").fill("inspector@demo.test");
-    await page.getByLabel("Password").fill(TEST_PASSWORD);
-    await page.getByRole("button", { name: "Sign in" }).click();
-    await page.waitForURL(base + "/yard");
-    await page.getByRole("heading", { level: 1, name: "Find a slab" }).waitFor();
-    expect(answers).toEqual([200]);
-    const me = await page.evaluate(async () => (await fetch("/api/me")).json());
-    expect(me.email).toBe("inspector@demo.test");
-    if (host === HOST_NAMES[1]) await snap(page, "sign-in-by-host-name-tablet");
-    expect(errors).toEqual([]);
-    expect(warnings.filter((w) => /HydrateFallback/.test(w))).toEqual([]);
-    // The demo's sign-in page named the password itself (the test plant's own is not the published one).
-    await page.goto(base + "/sign-in");
-    expect(await page.getByTestId("demo-password").textContent()).toMatch(/^The password of every demo sign-in is strandsight-demo\.$|^The password is the one set in DEMO_PASSWORD when the demo was seeded\.$/);
-    await context.close();
-  });
+  it.each(["localhost", "127.0.0.1", ...HOST_NAMES])(
+    "when the inspector opens the server as %s and signs in, then the yard opens with no page error and the session works",
+    async (host) => {
+      const base = `http://${host}:${port()}`;
+      const context = await browser.newContext({ viewport: TABLET });
+      const page = await context.newPage();
+      const errors = collectPageErrors(page);
+      // The router's own complaints (no fallback drawn while the first screen loads) are a defect too.
+      const warnings: string[] = [];
+      page.on("console", (m) => {
+        if (m.type() === "warning") warnings.push(m.text());
+      });
+      const answers: number[] = [];
+      page.on("response", (r) => {
+        if (r.url().endsWith("/api/auth/sign-in/email")) answers.push(r.status());
+      });
+      await page.goto(base + "/sign-in");
+      await page.getByLabel("E-mail").fill("inspector@demo.test");
+      await page.getByLabel("Password").fill(TEST_PASSWORD);
+      await page.getByRole("button", { name: "Sign in" }).click();
+      await page.waitForURL(base + "/yard");
+      await page.getByRole("heading", { level: 1, name: "Find a slab" }).waitFor();
+      expect(answers).toEqual([200]);
+      const me = await page.evaluate(async () => (await fetch("/api/me")).json());
+      expect(me.email).toBe("inspector@demo.test");
+      if (host === HOST_NAMES[1]) await snap(page, "sign-in-by-host-name-tablet");
+      expect(errors).toEqual([]);
+      expect(warnings.filter((w) => /HydrateFallback/.test(w))).toEqual([]);
+      // The demo's sign-in page named the password itself (the test plant's own is not the published one).
+      await page.goto(base + "/sign-in");
+      expect(await page.getByTestId("demo-password").textContent()).toMatch(
+        /^The password of every demo sign-in is strandsight-demo\.$|^The password is the one set in DEMO_PASSWORD when the demo was seeded\.$/,
+      );
+      await context.close();
+    },
+  );
 
   it("when a page of another site sends the sign-in form to the server with the right password, then no session is made", async () => {
     const sessions = () => server.db.$client.prepare("select count(*) from session").pluck().get() as number;
@@ -69,7 +74,13 @@ describe("signing in from the addresses a plant uses", () => {
     const inBrowser = await page.evaluate(
       async ({ target, password }) => {
         try {
-          await fetch(target, { method: "POST", mode: "no-cors", headers: { "content-type": "text/plain" }, body: JSON.stringify({ email: "inspector@demo.test", password }), credentials: "include" });
+          await fetch(target, {
+            method: "POST",
+            mode: "no-cors",
+            headers: { "content-type": "text/plain" },
+            body: JSON.stringify({ email: "inspector@demo.test", password }),
+            credentials: "include",
+          });
           return "sent";
         } catch {
           return "blocked";

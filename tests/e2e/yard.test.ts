@@ -44,11 +44,13 @@ describe("slab-yard logging at tablet size", () => {
     await page.getByText("Inspect only where the site's hot-yard").waitFor();
     await snap(page, "yard-slab-empty-tablet");
     // Every control on the logging screen takes a gloved finger: at least 48 px high.
-    const small = await page.locator("main").evaluate((main) =>
-      [...main.querySelectorAll("button, a, input:not([type=file]), textarea, summary, [role=radio], label:has(input[type=file])")]
-        .map((el) => ({ what: (el.getAttribute("aria-label") ?? el.textContent ?? el.tagName).trim().slice(0, 40), h: el.getBoundingClientRect().height }))
-        .filter((c) => c.h > 0 && c.h < 48),
-    );
+    const small = await page
+      .locator("main")
+      .evaluate((main) =>
+        [...main.querySelectorAll("button, a, input:not([type=file]), textarea, summary, [role=radio], label:has(input[type=file])")]
+          .map((el) => ({ what: (el.getAttribute("aria-label") ?? el.textContent ?? el.tagName).trim().slice(0, 40), h: el.getBoundingClientRect().height }))
+          .filter((c) => c.h > 0 && c.h < 48),
+      );
     expect(small).toEqual([]);
 
     // Tap the inner face at 40 % of the length, half-way across.
@@ -213,7 +215,17 @@ describe("slab-yard logging at tablet size", () => {
     const created = await agent
       .post("/api/defects")
       .set("Origin", env.server.baseUrl)
-      .send({ slab_id: slab.slab_id, type_code: "DEP", face: "left", position_along_mm: 2000, position_across_mm: 100, severity: 2, disposition: "grind", client_key: "edit-test-0001", found_at: new Date().toISOString() });
+      .send({
+        slab_id: slab.slab_id,
+        type_code: "DEP",
+        face: "left",
+        position_along_mm: 2000,
+        position_across_mm: 100,
+        severity: 2,
+        disposition: "grind",
+        client_key: "edit-test-0001",
+        found_at: new Date().toISOString(),
+      });
     expect(created.status).toBe(201);
     const id = created.body.id as number;
 
@@ -236,7 +248,12 @@ describe("slab-yard logging at tablet size", () => {
     await page.getByTestId("flash").waitFor();
     expect(await page.getByTestId("flash").textContent()).toContain("changes saved");
     await expect
-      .poll(() => sqlite.prepare("select (select count(*) from defect_photos p where p.defect_id = d.id and p.deleted_at is null) from defects d where d.id = ?").pluck().get(id))
+      .poll(() =>
+        sqlite
+          .prepare("select (select count(*) from defect_photos p where p.defect_id = d.id and p.deleted_at is null) from defects d where d.id = ?")
+          .pluck()
+          .get(id),
+      )
       .toBe(1);
     expect(sqlite.prepare("select severity, position_along_mm, face, deleted_at from defects where id = ?").get(id)).toEqual({
       severity: 4,

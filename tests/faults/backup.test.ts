@@ -68,8 +68,7 @@ function makeDatabase(file: string, rows: number) {
   return { db, ins };
 }
 
-const tables = (db: Database.Database) =>
-  (db.prepare("select name from sqlite_schema where type = 'table' order by name").pluck().all() as string[]);
+const tables = (db: Database.Database) => db.prepare("select name from sqlite_schema where type = 'table' order by name").pluck().all() as string[];
 
 describe("npm run backup", () => {
   it("when the database is being written to, then the copy is whole, consistent, a snapshot between the counts before and after, and opens as the app's database", async () => {

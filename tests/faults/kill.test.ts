@@ -52,7 +52,9 @@ function photoRows(file: string): { id: string; display_file: string; thumb_file
 
 /** A camera-sized JPEG of noise (noise does not compress: a few MB, and real decoding work). */
 async function noiseJpeg(width: number, height: number): Promise<Buffer> {
-  return sharp(crypto.randomBytes(width * height * 3), { raw: { width, height, channels: 3 } }).jpeg({ quality: 100 }).toBuffer();
+  return sharp(crypto.randomBytes(width * height * 3), { raw: { width, height, channels: 3 } })
+    .jpeg({ quality: 100 })
+    .toBuffer();
 }
 
 type Outcome = { status: number; body: { photos?: { id: string }[] } } | { error: string };
@@ -68,7 +70,16 @@ describe("SIGKILL during photo uploads", () => {
     const created = await fetch(`${srv.baseUrl}/api/defects`, {
       method: "POST",
       headers: { cookie, origin: srv.baseUrl, "content-type": "application/json" },
-      body: JSON.stringify({ slab_id: slabId, type_code: "SLG", face: "inner", position_along_mm: 1200, position_across_mm: 400, severity: 2, disposition: "scarf", client_key: "fault-kill-photos-1" }),
+      body: JSON.stringify({
+        slab_id: slabId,
+        type_code: "SLG",
+        face: "inner",
+        position_along_mm: 1200,
+        position_across_mm: 400,
+        severity: 2,
+        disposition: "scarf",
+        client_key: "fault-kill-photos-1",
+      }),
     });
     expect(created.status, await created.clone().text()).toBe(201);
     const defectId = ((await created.json()) as { id: number }).id;
@@ -87,7 +98,11 @@ describe("SIGKILL during photo uploads", () => {
       form.append("photos", new Blob([new Uint8Array(photos[i % 2]!)], { type: "image/jpeg" }), `IMG_${1000 + 2 * i}.JPG`);
       form.append("photos", new Blob([new Uint8Array(photos[(i + 1) % 2]!)], { type: "image/jpeg" }), `IMG_${1001 + 2 * i}.JPG`);
       try {
-        const res = await fetch(`${srv.baseUrl}/api/defects/${defectId}/photos`, { method: "POST", headers: { cookie: senders[i % senders.length]!, origin: srv.baseUrl }, body: form });
+        const res = await fetch(`${srv.baseUrl}/api/defects/${defectId}/photos`, {
+          method: "POST",
+          headers: { cookie: senders[i % senders.length]!, origin: srv.baseUrl },
+          body: form,
+        });
         outcomes[i] = { status: res.status, body: (await res.json()) as { photos?: { id: string }[] } };
       } catch (err) {
         outcomes[i] = { error: String((err as Error).cause ?? err) };
@@ -119,7 +134,9 @@ describe("SIGKILL during photo uploads", () => {
     }
     const known = new Set(rows.flatMap((r) => [r.display_file, r.thumb_file]));
     const orphansAfterKill = photoFiles(srv.files.uploadDir).filter((f) => !known.has(f));
-    console.info(`photo kill: ${answered.length} uploads answered, ${cut.length} cut off, ${rows.length - rowsBefore} rows, ${orphansAfterKill.length} orphaned files after the kill`);
+    console.info(
+      `photo kill: ${answered.length} uploads answered, ${cut.length} cut off, ${rows.length - rowsBefore} rows, ${orphansAfterKill.length} orphaned files after the kill`,
+    );
 
     // At start-up the cleanup removes every orphan written before the new process began, however
     // young (the hourly pass leaves files younger than ten minutes; tests/server/photos.test.ts).
@@ -156,12 +173,18 @@ describe("SIGKILL during an import", () => {
     const srv = track(await startServer({ env }));
     const cookie = await srv.signIn("process@demo.test");
     const N = 30_000;
-    const file = csv(HEAT_HEADERS, Array.from({ length: N }, (_, i) => heat(i)));
+    const file = csv(
+      HEAT_HEADERS,
+      Array.from({ length: N }, (_, i) => heat(i)),
+    );
     const fileSha = crypto.createHash("sha256").update(file).digest("hex");
     const count = (sql: string, ...args: unknown[]) => {
       const db = openFile(srv.files.databaseFile);
       try {
-        return db.prepare(sql).pluck().get(...args) as number;
+        return db
+          .prepare(sql)
+          .pluck()
+          .get(...args) as number;
       } finally {
         db.close();
       }
@@ -192,11 +215,16 @@ describe("SIGKILL during an import", () => {
       }
     };
     let held = 0;
-    await waitFor("the import's write lock", () => {
-      if (outcome) throw new Error(`the import finished before the kill: ${JSON.stringify(outcome)}`);
-      held = locked() ? held + 1 : 0;
-      return held >= 3 ? true : undefined;
-    }, 40_000, 20);
+    await waitFor(
+      "the import's write lock",
+      () => {
+        if (outcome) throw new Error(`the import finished before the kill: ${JSON.stringify(outcome)}`);
+        held = locked() ? held + 1 : 0;
+        return held >= 3 ? true : undefined;
+      },
+      40_000,
+      20,
+    );
     srv.kill("SIGKILL");
     probe.close();
     expect((await srv.waitExit()).signal).toBe("SIGKILL");

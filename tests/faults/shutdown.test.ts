@@ -36,7 +36,10 @@ describe("graceful shutdown", () => {
     srv = await startServer();
     const cookie = await srv.signIn("process@demo.test");
     const N = 20_000;
-    const file = csv(HEAT_HEADERS, Array.from({ length: N }, (_, i) => heat(i)));
+    const file = csv(
+      HEAT_HEADERS,
+      Array.from({ length: N }, (_, i) => heat(i)),
+    );
     const boundary = "----strandsight-fault-boundary";
     const head = Buffer.from(`--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="shutdown-heats.csv"\r\nContent-Type: text/csv\r\n\r\n`);
     const tail = Buffer.from(`\r\n--${boundary}--\r\n`);
@@ -71,7 +74,10 @@ describe("graceful shutdown", () => {
       req.once("error", reject);
     });
     let answered = false;
-    void answer.then(() => (answered = true), () => (answered = true));
+    void answer.then(
+      () => (answered = true),
+      () => (answered = true),
+    );
     await once(req, "continue");
     await new Promise<void>((resolve, reject) => req.write(Buffer.concat([head, file.subarray(0, half)]), (err) => (err ? reject(err) : resolve())));
 

@@ -38,7 +38,11 @@ async function reportWhenReady(srv: ServerProcess, cookie: string) {
     200,
   );
 }
-const readyLines = (out: string) => out.split("\n").filter((l) => l.includes('"report cache ready"')).map((l) => JSON.parse(l) as { from: string; snapshotIgnored?: string; slabs: number });
+const readyLines = (out: string) =>
+  out
+    .split("\n")
+    .filter((l) => l.includes('"report cache ready"'))
+    .map((l) => JSON.parse(l) as { from: string; snapshotIgnored?: string; slabs: number });
 
 describe("the server starts before the report data are loaded", () => {
   it("when the report data are still loading, then sign-in and the yard answer, reports answer 503 with Retry-After in words; after SIGTERM the snapshot is written and the next start reads it", async () => {
@@ -111,8 +115,13 @@ describe("the server starts before the report data are loaded", () => {
 
     const second = await startServer({ files: first.files, env: { LOG_LEVEL: "info" } });
     servers.push(second);
-    const after = (await reportWhenReady(second, await second.signIn("quality@demo.test"))) as { slabs: number; distribution: { affected: { max: number | null }; sound: { max: number | null } } };
-    expect(readyLines(second.output())).toMatchObject([{ from: "the database", snapshotIgnored: "the snapshot is out of date: slab conditions were written after the snapshot" }]);
+    const after = (await reportWhenReady(second, await second.signIn("quality@demo.test"))) as {
+      slabs: number;
+      distribution: { affected: { max: number | null }; sound: { max: number | null } };
+    };
+    expect(readyLines(second.output())).toMatchObject([
+      { from: "the database", snapshotIgnored: "the snapshot is out of date: slab conditions were written after the snapshot" },
+    ]);
     expect(after.slabs).toBe(before.slabs);
     expect(Math.max(after.distribution.affected.max ?? 0, after.distribution.sound.max ?? 0)).toBe(3.9);
     second.kill("SIGKILL");

@@ -57,7 +57,9 @@ describe("start-up failures a restart cannot fix", () => {
       expect(out).not.toContain("Strandsight is running");
       expect(out).not.toMatch(/\n\s+at /); // no stack trace
       expect(starts).toBe(1);
-      expect(out).toContain(`strandsight supervisor: server cannot start (exit ${EXIT_CANNOT_START}; the reason is printed above). Not restarting: fix the cause and start again.`);
+      expect(out).toContain(
+        `strandsight supervisor: server cannot start (exit ${EXIT_CANNOT_START}; the reason is printed above). Not restarting: fix the cause and start again.`,
+      );
     } finally {
       await new Promise<void>((r) => other.close(() => r()));
     }
@@ -70,7 +72,9 @@ describe("start-up failures a restart cannot fix", () => {
     const before = fs.readFileSync(files.databaseFile);
     const { exit, out, starts } = await startToExit({ files, seed: false });
     expect(exit, out).toEqual({ code: EXIT_CANNOT_START, signal: null });
-    expect(out).toContain(`Strandsight cannot start: the database ${files.databaseFile} can be read but not written (SQLITE_READONLY: attempt to write a readonly database).`);
+    expect(out).toContain(
+      `Strandsight cannot start: the database ${files.databaseFile} can be read but not written (SQLITE_READONLY: attempt to write a readonly database).`,
+    );
     expect(out).toContain("Check that the file and its folder belong to the user the app runs as");
     expect(out).toContain("that the disk is mounted read-write and not full, and that DATABASE_FILE points where you expect.");
     expect(out).not.toContain("Strandsight is running");
@@ -91,7 +95,9 @@ describe("start-up failures a restart cannot fix", () => {
     fs.closeSync(fd);
     const { exit, out, starts } = await startToExit({ files, seed: false });
     expect(exit, out).toEqual({ code: EXIT_CANNOT_START, signal: null });
-    expect(out).toContain(`Strandsight cannot start: the database ${files.databaseFile} can be read but not written (SQLITE_READONLY: attempt to write a readonly database).`);
+    expect(out).toContain(
+      `Strandsight cannot start: the database ${files.databaseFile} can be read but not written (SQLITE_READONLY: attempt to write a readonly database).`,
+    );
     expect(out).not.toMatch(/\n\s+at /);
     expect(starts).toBe(1);
   }, 120_000);

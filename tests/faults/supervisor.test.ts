@@ -31,13 +31,18 @@ async function me(srv: ServerProcess, cookie: string) {
 async function restartedAfter(srv: ServerProcess, pid: number): Promise<number> {
   const i = srv.serverPids().indexOf(pid);
   const next = await waitFor("a new server process", () => srv.serverPids()[i + 1], 60_000, 50);
-  await waitFor("the new server to answer", async () => {
-    try {
-      return (await fetch(`${srv.baseUrl}/api/health`)).status === 200 ? true : undefined;
-    } catch {
-      return undefined;
-    }
-  }, 60_000, 100);
+  await waitFor(
+    "the new server to answer",
+    async () => {
+      try {
+        return (await fetch(`${srv.baseUrl}/api/health`)).status === 200 ? true : undefined;
+      } catch {
+        return undefined;
+      }
+    },
+    60_000,
+    100,
+  );
   return next;
 }
 
@@ -60,7 +65,9 @@ describe("npm start runs the server under the supervisor", () => {
     const second = await restartedAfter(srv, first!);
     expect(second).not.toBe(first);
     expect(isAlive(first!)).toBe(false);
-    expect(srv.output()).toContain("strandsight supervisor: server crashed: it was killed by SIGKILL (killed from outside, e.g. by the out-of-memory killer). Restarting in 1000 ms");
+    expect(srv.output()).toContain(
+      "strandsight supervisor: server crashed: it was killed by SIGKILL (killed from outside, e.g. by the out-of-memory killer). Restarting in 1000 ms",
+    );
     // The supervisor itself never stopped; the session lives in the database and still works.
     expect(srv.child.exitCode).toBe(null);
     expect(await me(srv, cookie)).toMatchObject({ status: 200, body: { email: "quality@demo.test" } });
@@ -94,7 +101,9 @@ describe("npm start runs the server under the supervisor", () => {
   }, 120_000);
 
   it("when the server crashes again and again, then the supervisor waits longer each time and gives up after the limit with exit 1", async () => {
-    const srv = track(await launchServer({ entry: "supervisor", env: { ...crashHook("start"), SUPERVISOR_RESTART_DELAY_MS: "50", SUPERVISOR_MAX_RESTARTS: "2" } }));
+    const srv = track(
+      await launchServer({ entry: "supervisor", env: { ...crashHook("start"), SUPERVISOR_RESTART_DELAY_MS: "50", SUPERVISOR_MAX_RESTARTS: "2" } }),
+    );
     const exit = await srv.waitExit(90_000);
     expect(exit, srv.output()).toEqual({ code: 1, signal: null });
     const out = srv.output();

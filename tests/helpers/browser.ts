@@ -66,9 +66,11 @@ export async function signInAs(page: Page, baseUrl: string, role: string, passwo
 
 /** The text of every cell in the rows matched by `rowSelector`, keyed by each cell's data-field. */
 export async function readRows(page: Page, rowSelector: string): Promise<Record<string, string>[]> {
-  return page.locator(rowSelector).evaluateAll((rows) =>
-    rows.map((r) => Object.fromEntries([...r.querySelectorAll("[data-field]")].map((c) => [c.getAttribute("data-field")!, (c.textContent ?? "").trim()]))),
-  );
+  return page
+    .locator(rowSelector)
+    .evaluateAll((rows) =>
+      rows.map((r) => Object.fromEntries([...r.querySelectorAll("[data-field]")].map((c) => [c.getAttribute("data-field")!, (c.textContent ?? "").trim()]))),
+    );
 }
 
 /**

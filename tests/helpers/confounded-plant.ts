@@ -36,9 +36,16 @@ export const CONFOUNDED_TRUTH = { intercept: -3.2, familyLC: 1.6, moldLevelSdMm:
  */
 export function plantWriter(db: Db) {
   const c = db.$client;
-  const one = (sql: string, ...a: unknown[]) => c.prepare(sql).pluck().get(...a) as number;
+  const one = (sql: string, ...a: unknown[]) =>
+    c
+      .prepare(sql)
+      .pluck()
+      .get(...a) as number;
   const caster = one("select id from casters where code = 'CC2'");
-  const strands = [one("select id from strands where caster_id = ? and strand_no = 1", caster), one("select id from strands where caster_id = ? and strand_no = 2", caster)];
+  const strands = [
+    one("select id from strands where caster_id = ? and strand_no = 1", caster),
+    one("select id from strands where caster_id = ? and strand_no = 2", caster),
+  ];
   const gradeLC = one("select id from grades where code = 'LV-DQ10'");
   const gradePER = one("select id from grades where code = 'LV-ST32'");
   const slg = one("select id from defect_types where code = 'SLG'");
@@ -77,14 +84,27 @@ export function buildConfoundedPlant(db: Db, opts: { heats?: number; slabsPerHea
       const embr = Math.round(r.uniform(0, 600));
       const mold = Math.round(Math.max(0.5, r.normal(3, 1)) * 100) / 100;
       const heatId = Number(
-        heatIns.run(`CF${String(h).padStart(5, "0")}`, caster, lc ? gradeLC : gradePER, castStart, castStart + 60 * 60_000, speed, 1520 + superheat, superheat, embr, mold, lc ? 0.04 : 0.12)
-          .lastInsertRowid,
+        heatIns.run(
+          `CF${String(h).padStart(5, "0")}`,
+          caster,
+          lc ? gradeLC : gradePER,
+          castStart,
+          castStart + 60 * 60_000,
+          speed,
+          1520 + superheat,
+          superheat,
+          embr,
+          mold,
+          lc ? 0.04 : 0.12,
+        ).lastInsertRowid,
       );
       const eta = t.intercept + (lc ? t.familyLC : 0) + t.moldLevelSdMm * (mold - 3) + t.superheatC * (superheat - 25) + t.embrCurrentA * (embr - 300);
       const p = 1 / (1 + Math.exp(-eta));
       for (let s = 0; s < perHeat; s++) {
         const strand = strands[s % 2]!;
-        const slabId = Number(slabIns.run(`CF${String(h).padStart(5, "0")}-${s + 1}`, heatId, strand, Math.floor(s / 2) + 1, castStart + s * 7 * 60_000).lastInsertRowid);
+        const slabId = Number(
+          slabIns.run(`CF${String(h).padStart(5, "0")}-${s + 1}`, heatId, strand, Math.floor(s / 2) + 1, castStart + s * 7 * 60_000).lastInsertRowid,
+        );
         slabs++;
         if (r.chance(p)) {
           defIns.run(slabId, slg, castStart + 86_400_000, inspector);

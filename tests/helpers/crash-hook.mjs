@@ -17,7 +17,11 @@ function decodeFailure() {
 }
 
 if (isServer && mode === "exception") {
-  process.on("SIGUSR2", () => setImmediate(() => { throw decodeFailure(); }));
+  process.on("SIGUSR2", () =>
+    setImmediate(() => {
+      throw decodeFailure();
+    }),
+  );
 }
 if (isServer && mode === "rejection") {
   process.on("SIGUSR2", () => void Promise.reject(decodeFailure()));

@@ -13,9 +13,7 @@ export type LabelCode = "code128" | "qrcode" | "datamatrix";
 export async function labelImage(code: LabelCode, text: string, width = 1280, height = 720): Promise<Buffer> {
   const common = { text, paddingwidth: 12, paddingheight: 12, backgroundcolor: "FFFFFF" };
   const barcode = await bwipjs.toBuffer(
-    code === "code128"
-      ? { ...common, bcid: code, scale: 3, height: 18, includetext: true, textxalign: "center" }
-      : { ...common, bcid: code, scale: 6 },
+    code === "code128" ? { ...common, bcid: code, scale: 3, height: 18, includetext: true, textxalign: "center" } : { ...common, bcid: code, scale: 6 },
   );
   const meta = await sharp(barcode).metadata();
   const labelW = meta.width! + 40;

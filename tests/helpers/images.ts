@@ -19,13 +19,23 @@ export async function jpegWithOrientationAndGps(width = 600, height = 400): Prom
       else raw[i + 2] = 220;
     }
   }
-  const jpeg = await sharp(raw, { raw: { width, height, channels: 3 } }).jpeg({ quality: 90 }).toBuffer();
+  const jpeg = await sharp(raw, { raw: { width, height, channels: 3 } })
+    .jpeg({ quality: 90 })
+    .toBuffer();
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-img-"));
   const file = path.join(dir, "camera.jpg");
   fs.writeFileSync(file, jpeg);
   execFileSync("exiftool", [
-    "-q", "-n", "-overwrite_original", "-Orientation=6", "-GPSLatitude=59.3293", "-GPSLatitudeRef=N",
-    "-GPSLongitude=18.0686", "-GPSLongitudeRef=E", "-Make=DemoCam", file,
+    "-q",
+    "-n",
+    "-overwrite_original",
+    "-Orientation=6",
+    "-GPSLatitude=59.3293",
+    "-GPSLatitudeRef=N",
+    "-GPSLongitude=18.0686",
+    "-GPSLongitudeRef=E",
+    "-Make=DemoCam",
+    file,
   ]);
   const out = fs.readFileSync(file);
   fs.rmSync(dir, { recursive: true, force: true });
@@ -47,7 +57,9 @@ export function exifTags(buffer: Buffer): Record<string, unknown> {
  * (the header is patched and its CRC recomputed), a few hundred bytes on disk.
  */
 export async function pngBomb(width = 30_000, height = 30_000): Promise<Buffer> {
-  const png = await sharp({ create: { width: 8, height: 8, channels: 3, background: "#000" } }).png().toBuffer();
+  const png = await sharp({ create: { width: 8, height: 8, channels: 3, background: "#000" } })
+    .png()
+    .toBuffer();
   const out = Buffer.from(png);
   // Signature (8) + IHDR length (4) + "IHDR" (4): width and height follow, then the CRC over type+data.
   out.writeUInt32BE(width, 16);

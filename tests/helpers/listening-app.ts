@@ -28,7 +28,10 @@ export async function listenTestApp(options: Parameters<typeof createTestApp>[0]
         body: JSON.stringify({ email: `${role}@demo.test`, password: TEST_PASSWORD }),
       });
       if (res.status !== 200) throw new Error(`${role} could not sign in: ${res.status}`);
-      return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+      return res.headers
+        .getSetCookie()
+        .map((c) => c.split(";")[0])
+        .join("; ");
     },
     async close() {
       await new Promise<void>((resolve) => server.close(() => resolve()));

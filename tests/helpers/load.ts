@@ -26,14 +26,21 @@ async function signIn(baseUrl: string, email: string, password: string): Promise
     body: JSON.stringify({ email, password }),
   });
   if (res.status !== 200) throw new Error(`sign-in as ${email} failed: ${res.status}`);
-  return res.headers.getSetCookie().map((c) => c.split(";")[0]).join("; ");
+  return res.headers
+    .getSetCookie()
+    .map((c) => c.split(";")[0])
+    .join("; ");
 }
 
 export async function runLoad(opts: { baseUrl: string; db: Db; password: string; writers?: number; readers?: number; seconds?: number }): Promise<LoadResult> {
   const writers = opts.writers ?? 32;
   const readers = opts.readers ?? 4;
   const seconds = opts.seconds ?? 30;
-  const slabs = opts.db.$client.prepare("select slab_id, length_mm, width_mm from slabs order by id limit 400").all() as { slab_id: string; length_mm: number; width_mm: number }[];
+  const slabs = opts.db.$client.prepare("select slab_id, length_mm, width_mm from slabs order by id limit 400").all() as {
+    slab_id: string;
+    length_mm: number;
+    width_mm: number;
+  }[];
   const keyPrefix = `load-${Date.now().toString(36)}`;
   const writerCookies = await Promise.all(Array.from({ length: writers }, () => signIn(opts.baseUrl, "inspector@demo.test", opts.password)));
   const readerCookies = await Promise.all(Array.from({ length: readers }, () => signIn(opts.baseUrl, "quality@demo.test", opts.password)));
@@ -57,12 +64,21 @@ export async function runLoad(opts: { baseUrl: string; db: Db; password: string;
         client_key: `${keyPrefix}-${w}-${i}`,
       };
       const t0 = performance.now();
-      const res = await fetch(`${opts.baseUrl}/api/defects`, { method: "POST", headers: { "content-type": "application/json", origin: opts.baseUrl, cookie }, body: JSON.stringify(body) });
+      const res = await fetch(`${opts.baseUrl}/api/defects`, {
+        method: "POST",
+        headers: { "content-type": "application/json", origin: opts.baseUrl, cookie },
+        body: JSON.stringify(body),
+      });
       await res.arrayBuffer();
       posts.push({ status: res.status, ms: performance.now() - t0 });
     }
   };
-  const READS = ["/api/reports/rate-by-variable?variable=casting_speed_m_min&defectType=SLG", "/api/reports/overview?period=week", "/api/reports/screening?defectType=LFC", "/api/reports/control-chart?period=day"];
+  const READS = [
+    "/api/reports/rate-by-variable?variable=casting_speed_m_min&defectType=SLG",
+    "/api/reports/overview?period=week",
+    "/api/reports/screening?defectType=LFC",
+    "/api/reports/control-chart?period=day",
+  ];
   const reader = async (cookie: string, r: number) => {
     let k = r;
     while (performance.now() < deadline) {
@@ -84,10 +100,19 @@ export function describeLoad(r: LoadResult) {
     created201: ok.length,
     rows: r.created,
     fiveHundreds: [...r.posts, ...r.reads].filter((x) => x.status >= 500).length,
-    postP50: percentile(r.posts.map((p) => p.ms), 50),
-    postP95: percentile(r.posts.map((p) => p.ms), 95),
+    postP50: percentile(
+      r.posts.map((p) => p.ms),
+      50,
+    ),
+    postP95: percentile(
+      r.posts.map((p) => p.ms),
+      95,
+    ),
     reads: r.reads.length,
-    readP95: percentile(r.reads.map((p) => p.ms), 95),
+    readP95: percentile(
+      r.reads.map((p) => p.ms),
+      95,
+    ),
     postsPerSecond: r.posts.length / r.seconds,
   };
 }

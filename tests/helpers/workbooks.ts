@@ -26,7 +26,21 @@ export function csv(headers: string[], rows: Row[], sep = ",", decimalComma = fa
 }
 
 /** Heat-import keys for files of many invented heats (fault drills). */
-export const HEAT_FILE_HEADERS = ["heat_no", "sequence_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min", "tundish_temp_c", "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct"];
+export const HEAT_FILE_HEADERS = [
+  "heat_no",
+  "sequence_no",
+  "caster",
+  "grade",
+  "cast_start",
+  "cast_end",
+  "casting_speed_m_min",
+  "tundish_temp_c",
+  "c_pct",
+  "si_pct",
+  "mn_pct",
+  "p_pct",
+  "s_pct",
+];
 
 /** The i-th invented heat of a file, numbered under `prefix`: 40 min apart from 2027-01-01, 8 to a sequence. */
 export const heatFileRow = (prefix: string, i: number): Row => ({
@@ -54,7 +68,10 @@ export function binaryBody(res: NodeJS.ReadableStream, cb: (err: Error | null, b
 
 /** GET an .xlsx through a supertest agent, expect 200, and open it with exceljs. */
 export async function downloadWorkbook(agent: { get(path: string): import("supertest").Test }, path: string): Promise<ExcelJS.Workbook> {
-  const res = await agent.get(path).buffer(true).parse(binaryBody as never);
+  const res = await agent
+    .get(path)
+    .buffer(true)
+    .parse(binaryBody as never);
   if (res.status !== 200) throw new Error(`GET ${path} answered ${res.status}: ${JSON.stringify(res.body).slice(0, 300)}`);
   const wb = new ExcelJS.Workbook();
   await wb.xlsx.load(res.body as never);

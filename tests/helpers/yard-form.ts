@@ -28,7 +28,10 @@ export async function cameraPhoto12mp(): Promise<Buffer> {
       raw[i + 2] = Math.max(0, Math.min(255, base - 20 + rnd() * 24));
     }
   }
-  return sharp(raw, { raw: { width: W, height: H, channels: 3 } }).jpeg({ quality: 92 }).withMetadata({ orientation: 6 }).toBuffer();
+  return sharp(raw, { raw: { width: W, height: H, channels: 3 } })
+    .jpeg({ quality: 92 })
+    .withMetadata({ orientation: 6 })
+    .toBuffer();
 }
 
 /** Mean colour of a region of an image (after its EXIF orientation is applied). */

@@ -99,7 +99,10 @@ const NS = 'xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"';
 const REL_NS = 'xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"';
 
 /** The parts every workbook has, around a first sheet (and shared strings) given by the caller. */
-export function workbookZip(sheet: string | RepeatedText, opts: { sharedStrings?: string | RepeatedText; declareSheetSize?: number; declareSharedSize?: number } = {}): Buffer {
+export function workbookZip(
+  sheet: string | RepeatedText,
+  opts: { sharedStrings?: string | RepeatedText; declareSheetSize?: number; declareSharedSize?: number } = {},
+): Buffer {
   const entries: BombEntry[] = [
     {
       name: "[Content_Types].xml",
@@ -108,7 +111,9 @@ export function workbookZip(sheet: string | RepeatedText, opts: { sharedStrings?
         '<Default Extension="rels" ContentType="application/vnd.openxmlformats-package.relationships+xml"/><Default Extension="xml" ContentType="application/xml"/>' +
         '<Override PartName="/xl/workbook.xml" ContentType="application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml"/>' +
         '<Override PartName="/xl/worksheets/sheet1.xml" ContentType="application/vnd.openxmlformats-officedocument.spreadsheetml.worksheet+xml"/>' +
-        (opts.sharedStrings ? '<Override PartName="/xl/sharedStrings.xml" ContentType="application/vnd.openxmlformats-officedocument.spreadsheetml.sharedStrings+xml"/>' : "") +
+        (opts.sharedStrings
+          ? '<Override PartName="/xl/sharedStrings.xml" ContentType="application/vnd.openxmlformats-officedocument.spreadsheetml.sharedStrings+xml"/>'
+          : "") +
         "</Types>",
     },
     {
@@ -126,7 +131,9 @@ export function workbookZip(sheet: string | RepeatedText, opts: { sharedStrings?
       content:
         '<?xml version="1.0" encoding="UTF-8"?><Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships">' +
         '<Relationship Id="rId1" Type="http://schemas.openxmlformats.org/officeDocument/2006/relationships/worksheet" Target="worksheets/sheet1.xml"/>' +
-        (opts.sharedStrings ? '<Relationship Id="rId2" Type="http://schemas.openxmlformats.org/officeDocument/2006/relationships/sharedStrings" Target="sharedStrings.xml"/>' : "") +
+        (opts.sharedStrings
+          ? '<Relationship Id="rId2" Type="http://schemas.openxmlformats.org/officeDocument/2006/relationships/sharedStrings" Target="sharedStrings.xml"/>'
+          : "") +
         "</Relationships>",
     },
     { name: "xl/worksheets/sheet1.xml", content: sheet, declareSize: opts.declareSheetSize },

@@ -106,22 +106,28 @@ function expectLive(w: Watch) {
   expect(w.heapGrowthMb).toBeLessThan(150);
 }
 
-const upload = (buf: Buffer, name: string) =>
-  processAgent.post("/api/import/heats?dryRun=true").set("Origin", t.env.BETTER_AUTH_URL).attach("file", buf, name);
+const upload = (buf: Buffer, name: string) => processAgent.post("/api/import/heats?dryRun=true").set("Origin", t.env.BETTER_AUTH_URL).attach("file", buf, name);
 
 const HEADERS = ["heat_no", "caster", "grade", "cast_start", "casting_speed_m_min"];
 
 describe("hostile workbooks", () => {
   it("when a 6 MB workbook holds 3 GB of cell text, then 413 from the sizes its zip declares, before anything is unpacked", async () => {
     const text = "x".repeat(32_000);
-    const sharedStrings = { head: `<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">`, body: `<si><t>${text}</t></si>`, times: 100_000, tail: "</sst>" };
+    const sharedStrings = {
+      head: `<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">`,
+      body: `<si><t>${text}</t></si>`,
+      times: 100_000,
+      tail: "</sst>",
+    };
     const sheet = sheetXml(HEADERS, `<row r="2"><c t="s"><v>0</v></c></row>`);
     const file = workbookZip(sheet, { sharedStrings });
     expect(file.length).toBeLessThan(8 * MB);
     const w = await watch(() => upload(file, "text-bomb.xlsx"));
     expect(w.status).toBe(413);
     expect(w.body.error.code).toBe("import_too_large");
-    expect(w.body.error.message).toMatch(/^The workbook unpacks to 3\d{3} MB, more than the 256 MB one import may hold; nothing was imported\. Split it into smaller files\.$/);
+    expect(w.body.error.message).toMatch(
+      /^The workbook unpacks to 3\d{3} MB, more than the 256 MB one import may hold; nothing was imported\. Split it into smaller files\.$/,
+    );
     expect(w.body.error.details.unpackedBytes).toBeGreaterThan(3e9);
     expectLive(w);
     expect(w.rssGrowthMb).toBeLessThan(300);
@@ -129,7 +135,12 @@ describe("hostile workbooks", () => {
 
   it("when the zip lies about that text's size, then reading stops where the declared size ends: 415, damaged", async () => {
     const text = "y".repeat(32_000);
-    const sharedStrings = { head: `<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">`, body: `<si><t>${text}</t></si>`, times: 100_000, tail: "</sst>" };
+    const sharedStrings = {
+      head: `<sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">`,
+      body: `<si><t>${text}</t></si>`,
+      times: 100_000,
+      tail: "</sst>",
+    };
     const sheet = sheetXml(HEADERS, `<row r="2"><c t="s"><v>0</v></c></row>`);
     const file = workbookZip(sheet, { sharedStrings, declareSharedSize: 64 * 1024 });
     const w = await watch(() => upload(file, "forged.xlsx"));
@@ -189,7 +200,12 @@ describe("hostile workbooks", () => {
   });
 
   it("when an XML text runs a megabyte without a tag, then 413 before it is held", async () => {
-    const sheet = { head: `<?xml version="1.0" encoding="UTF-8"?><worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><!--`, body: "-".repeat(1_000_000).replace(/--/g, "-a"), times: 50, tail: "--><sheetData/></worksheet>" };
+    const sheet = {
+      head: `<?xml version="1.0" encoding="UTF-8"?><worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><!--`,
+      body: "-".repeat(1_000_000).replace(/--/g, "-a"),
+      times: 50,
+      tail: "--><sheetData/></worksheet>",
+    };
     const file = workbookZip(sheet);
     const w = await watch(() => upload(file, "long-comment.xlsx"));
     expect(w.status).toBe(413);
@@ -302,7 +318,9 @@ describe("hostile CSV and feed bodies", () => {
     );
     expect(w.status).toBe(400);
     expect(w.body.error).toMatchObject({ code: "mixed_keys", details: { item: 2, key: "Casting_speed_m_min" } });
-    expect(w.body.error.message).toBe("Item 2 spells the key casting_speed_m_min as “Casting_speed_m_min”, another item as “casting_speed_m_min”; nothing was imported. Spell each key one way.");
+    expect(w.body.error.message).toBe(
+      "Item 2 spells the key casting_speed_m_min as “Casting_speed_m_min”, another item as “casting_speed_m_min”; nothing was imported. Spell each key one way.",
+    );
     expectLive(w);
     expect(w.rssGrowthMb).toBeLessThan(300);
   });

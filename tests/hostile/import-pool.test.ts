@@ -30,7 +30,8 @@ async function pool(opts: Parameters<typeof createImportPool>[0]) {
 /** A CSV of `n` valid heats in the test's folder. */
 function heatsCsv(name: string, n: number): string {
   const lines = ["heat_no,caster,grade,cast_start,casting_speed_m_min"];
-  for (let i = 0; i < n; i++) lines.push(`${name.toUpperCase()}${String(i).padStart(7, "0")},CC2,LV-ST32,${new Date(Date.UTC(2027, 5, 1) + i * 60_000).toISOString()},1.4`);
+  for (let i = 0; i < n; i++)
+    lines.push(`${name.toUpperCase()}${String(i).padStart(7, "0")},CC2,LV-ST32,${new Date(Date.UTC(2027, 5, 1) + i * 60_000).toISOString()},1.4`);
   const file = path.join(t.dir, `${name}.csv`);
   fs.writeFileSync(file, lines.join("\n"));
   return file;
@@ -39,7 +40,13 @@ const job = (file: string) => ({ kind: "heats" as const, dryRun: true, source: "
 const outcome = (p: Promise<unknown>) =>
   p.then(
     (r) => ({ ok: true as const, rows: (r as { rows: number }).rows }),
-    (e) => ({ ok: false as const, status: e.status as number, code: e.code as string, message: e.message as string, retry: e.details?.retryAfterSeconds as number | undefined }),
+    (e) => ({
+      ok: false as const,
+      status: e.status as number,
+      code: e.code as string,
+      message: e.message as string,
+      retry: e.details?.retryAfterSeconds as number | undefined,
+    }),
   );
 
 describe("the import pool", () => {
@@ -58,7 +65,12 @@ describe("the import pool", () => {
     const hungry = heatsCsv("hungry", 150_000);
     const small = heatsCsv("afteroom", 3);
     const results = await Promise.all([outcome(p.run(t.db, job(hungry))), outcome(p.run(t.db, job(small))), outcome(p.run(t.db, job(small)))]);
-    expect(results[0]).toMatchObject({ ok: false, status: 413, code: "import_too_large", message: "The file needs more memory to check than one import may use (160 MB); nothing was imported. Split it into smaller files." });
+    expect(results[0]).toMatchObject({
+      ok: false,
+      status: 413,
+      code: "import_too_large",
+      message: "The file needs more memory to check than one import may use (160 MB); nothing was imported. Split it into smaller files.",
+    });
     expect(results[1]).toEqual({ ok: true, rows: 3 });
     expect(results[2]).toEqual({ ok: true, rows: 3 });
   }, 120_000);
@@ -75,6 +87,10 @@ describe("the import pool", () => {
   it("when checking a file takes longer than its limit, then it is stopped with 413 in words", async () => {
     const p = await pool({ limits: { ...IMPORT_LIMITS, checkSeconds: 0 } });
     const r = await outcome(p.run(t.db, job(heatsCsv("overtime", 40_000))));
-    expect(r).toMatchObject({ ok: false, status: 413, message: "Checking the file took longer than 0 seconds and was stopped; nothing was imported. Split it into smaller files." });
+    expect(r).toMatchObject({
+      ok: false,
+      status: 413,
+      message: "Checking the file took longer than 0 seconds and was stopped; nothing was imported. Split it into smaller files.",
+    });
   });
 });

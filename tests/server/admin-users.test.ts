@@ -11,7 +11,11 @@ beforeAll(async () => {
 afterAll(() => t?.close());
 
 const origin = () => t.env.BETTER_AUTH_URL;
-const count = (sql: string, ...args: unknown[]) => t.db.$client.prepare(sql).pluck().get(...args) as number;
+const count = (sql: string, ...args: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...args) as number;
 
 describe("admin: users and roles", () => {
   it("when the admin lists users, then the five demo users come back with their roles", async () => {
@@ -83,9 +87,10 @@ describe("admin: users and roles", () => {
     const on = await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ active: true });
     expect(on.body.active).toBe(true);
     await t.agentFor("inspector");
-    const audit = t.db.$client
-      .prepare("select before, after from audit_log where action = 'user.update' and entity_id = ? order by id")
-      .all(id) as { before: string; after: string }[];
+    const audit = t.db.$client.prepare("select before, after from audit_log where action = 'user.update' and entity_id = ? order by id").all(id) as {
+      before: string;
+      after: string;
+    }[];
     expect(audit.map((a) => [JSON.parse(a.before).active, JSON.parse(a.after).active])).toEqual([
       [true, false],
       [false, true],
@@ -95,15 +100,24 @@ describe("admin: users and roles", () => {
   it("when roles are changed, then the next request sees the new roles", async () => {
     const agent = await t.agentFor("claims");
     const id = t.db.$client.prepare("select id from user where email = 'claims@demo.test'").pluck().get() as string;
-    const res = await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ roles: ["claims", "quality"] });
+    const res = await admin
+      .patch(`/api/admin/users/${id}`)
+      .set("Origin", origin())
+      .send({ roles: ["claims", "quality"] });
     expect(res.status).toBe(200);
     expect((await agent.get("/api/me")).body.roles).toEqual(["claims", "quality"]);
-    await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ roles: ["claims"] });
+    await admin
+      .patch(`/api/admin/users/${id}`)
+      .set("Origin", origin())
+      .send({ roles: ["claims"] });
   });
 
   it("when the last active admin would lose the role, then 409 and the role stays", async () => {
     const id = t.db.$client.prepare("select id from user where email = 'admin@demo.test'").pluck().get() as string;
-    const res = await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ roles: ["quality"] });
+    const res = await admin
+      .patch(`/api/admin/users/${id}`)
+      .set("Origin", origin())
+      .send({ roles: ["quality"] });
     expect(res.status).toBe(409);
     expect(res.body.error.code).toBe("last_admin");
     expect(t.db.$client.prepare("select role from user where id = ?").pluck().get(id)).toBe("admin");
@@ -126,7 +140,10 @@ describe("admin: names", () => {
       expect(res.body.error.code).toBe("validation_failed");
       expect(res.body.error.details.map((d: { path: string }) => d.path)).toEqual(["name"]);
     }
-    const created = await admin.post("/api/admin/users").set("Origin", origin()).send({ name: "Two\nLines", email: "two-lines@example.test", roles: ["inspector"], password: "long-enough-pw" });
+    const created = await admin
+      .post("/api/admin/users")
+      .set("Origin", origin())
+      .send({ name: "Two\nLines", email: "two-lines@example.test", roles: ["inspector"], password: "long-enough-pw" });
     expect(created.status).toBe(400);
     expect(t.db.$client.prepare("select name from user where id = ?").pluck().get(id)).toBe(before);
     expect(count("select count(*) from user where email = 'two-lines@example.test'")).toBe(0);
@@ -136,12 +153,17 @@ describe("admin: names", () => {
     const claimsAgent = await t.agentFor("claims");
     const id = t.db.$client.prepare("select id from user where email = 'claims@demo.test'").pluck().get() as string;
     const oldName = t.db.$client.prepare("select name from user where id = ?").pluck().get(id) as string;
-    const claim = await claimsAgent.post("/api/claims").set("Origin", origin()).send({ claimNo: "CL-RENAME-1", customer: "Rename test customer", receivedOn: "2026-11-30", defectComplained: "Slivers" });
+    const claim = await claimsAgent
+      .post("/api/claims")
+      .set("Origin", origin())
+      .send({ claimNo: "CL-RENAME-1", customer: "Rename test customer", receivedOn: "2026-11-30", defectComplained: "Slivers" });
     expect(claim.status).toBe(201);
 
     const renamed = await admin.patch(`/api/admin/users/${id}`).set("Origin", origin()).send({ name: "Clara Mbeki-Stone (demo claims officer)" });
     expect(renamed.status).toBe(200);
-    const audit = t.db.$client.prepare("select user_name, before, after from audit_log where action = 'user.update' and entity_id = ? order by id desc limit 1").get(id) as { user_name: string; before: string; after: string };
+    const audit = t.db.$client
+      .prepare("select user_name, before, after from audit_log where action = 'user.update' and entity_id = ? order by id desc limit 1")
+      .get(id) as { user_name: string; before: string; after: string };
     expect(audit.user_name).toBe("Adam Novak (demo administrator)");
     expect([JSON.parse(audit.before).name, JSON.parse(audit.after).name]).toEqual([oldName, "Clara Mbeki-Stone (demo claims officer)"]);
 

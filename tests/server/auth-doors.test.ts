@@ -12,7 +12,11 @@ import { createTestApp, TEST_PASSWORD, type TestApp } from "../helpers/test-app"
  */
 let t: TestApp;
 let O: string;
-const one = (sql: string, ...args: unknown[]) => t.db.$client.prepare(sql).pluck().get(...args) as any;
+const one = (sql: string, ...args: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...args) as any;
 const idOf = (role: string) => one("select id from user where email = ?", `${role}@demo.test`) as string;
 
 beforeAll(async () => {
@@ -74,7 +78,9 @@ describe("better-auth's own endpoints over HTTP", () => {
     expect(one("select count(*) from session where impersonated_by is not null")).toBe(0);
     expect((await admin.get("/api/me")).body.email).toBe("admin@demo.test");
     // The inspector's password is untouched.
-    expect((await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).send({ email: "inspector@demo.test", password: TEST_PASSWORD })).status).toBe(200);
+    expect((await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).send({ email: "inspector@demo.test", password: TEST_PASSWORD })).status).toBe(
+      200,
+    );
   });
 
   it("when a signed-in user posts to update-user under any spelling, then 404, and neither an 8 MiB name nor an administrator's name is taken", async () => {
@@ -82,12 +88,18 @@ describe("better-auth's own endpoints over HTTP", () => {
     const before = one("select name from user where email = 'inspector@demo.test'");
     const audited = () => one("select count(*) from audit_log where entity_id = ?", idOf("inspector")) as number;
     const auditBefore = audited();
-    for (const { label, path } of [...spellings("update-user", "").map((s) => ({ ...s, path: s.path.replace(/\/$/, "") })), { label: "with a trailing slash", path: "/api/auth/update-user/" }]) {
+    for (const { label, path } of [
+      ...spellings("update-user", "").map((s) => ({ ...s, path: s.path.replace(/\/$/, "") })),
+      { label: "with a trailing slash", path: "/api/auth/update-user/" },
+    ]) {
       const res = await inspector.post(path).set("Origin", O).send({ name: "Ines Varga (demo administrator)" });
       expect(res.status, `${label}: ${path}`).toBe(404);
       expect(res.body.error.code).toBe("not_found");
     }
-    const huge = await inspector.post("/api/auth/update-user").set("Origin", O).send({ name: "N".repeat(8 * 1024 * 1024) });
+    const huge = await inspector
+      .post("/api/auth/update-user")
+      .set("Origin", O)
+      .send({ name: "N".repeat(8 * 1024 * 1024) });
     expect(huge.status).toBe(404);
     // Not even spelled right is the body read: the refusal comes before it.
     expect(huge.body.error.code).toBe("not_found");
@@ -127,7 +139,13 @@ describe("better-auth's own endpoints over HTTP", () => {
     const signIn = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).send({ email: "admin@demo.test", password: TEST_PASSWORD });
     const cookie = (signIn.headers["set-cookie"] as unknown as string[]).map((c) => c.split(";")[0]).join("; ");
     const call = (path: string, method = "GET", body?: object) =>
-      t.auth.handler(new Request(`${O}${path}`, { method, headers: { cookie, origin: O, "content-type": "application/json" }, body: body ? JSON.stringify(body) : undefined }));
+      t.auth.handler(
+        new Request(`${O}${path}`, {
+          method,
+          headers: { cookie, origin: O, "content-type": "application/json" },
+          body: body ? JSON.stringify(body) : undefined,
+        }),
+      );
     for (const [path, method, body] of [
       ["/api/auth/admin/list-users", "GET"],
       ["/api/auth/./admin/list-users", "GET"],
@@ -158,11 +176,16 @@ describe("better-auth's own endpoints over HTTP", () => {
 
   it("when the endpoints the app uses are called as the app calls them, then they work (sign-in, sign-out, reset request, reset link)", async () => {
     const agent = request.agent(t.app);
-    expect((await agent.post("/api/auth/sign-in/email").set("Origin", O).send({ email: "process@demo.test", password: TEST_PASSWORD, rememberMe: true })).status).toBe(200);
+    expect(
+      (await agent.post("/api/auth/sign-in/email").set("Origin", O).send({ email: "process@demo.test", password: TEST_PASSWORD, rememberMe: true })).status,
+    ).toBe(200);
     expect((await agent.get("/api/me")).status).toBe(200);
     expect((await agent.post("/api/auth/sign-out").set("Origin", O).send({})).status).toBe(200);
     expect((await agent.get("/api/me")).status).toBe(401);
-    expect((await request(t.app).post("/api/auth/request-password-reset").set("Origin", O).send({ email: "process@demo.test", redirectTo: "/reset-password" })).status).toBe(200);
+    expect(
+      (await request(t.app).post("/api/auth/request-password-reset").set("Origin", O).send({ email: "process@demo.test", redirectTo: "/reset-password" }))
+        .status,
+    ).toBe(200);
     const link = await request(t.app).get("/api/auth/reset-password/NoSuchToken123?callbackURL=%2Freset-password");
     expect(link.status).toBe(302);
     expect(link.headers.location).toBe(`${O}/reset-password?error=INVALID_TOKEN`);
@@ -190,11 +213,20 @@ describe("the size of what better-auth reads", () => {
       const chunk = Buffer.alloc(8 * 1024, "a");
       let written = 0;
       const answer = await new Promise<{ status: number; body: string }>((resolve, reject) => {
-        const req = http.request({ host: "127.0.0.1", port, method: "POST", path: "/api/auth/reset-password", headers: { "content-type": "application/json", origin: O, "transfer-encoding": "chunked" } }, (res) => {
-          let body = "";
-          res.on("data", (d) => (body += d));
-          res.on("end", () => resolve({ status: res.statusCode ?? 0, body }));
-        });
+        const req = http.request(
+          {
+            host: "127.0.0.1",
+            port,
+            method: "POST",
+            path: "/api/auth/reset-password",
+            headers: { "content-type": "application/json", origin: O, "transfer-encoding": "chunked" },
+          },
+          (res) => {
+            let body = "";
+            res.on("data", (d) => (body += d));
+            res.on("end", () => resolve({ status: res.statusCode ?? 0, body }));
+          },
+        );
         // The server may close the connection while we still write: that is the point.
         req.on("error", (err) => (written > AUTH_BODY_LIMIT ? undefined : reject(err)));
         req.write('{"token":"');
@@ -219,16 +251,28 @@ describe("the size of what better-auth reads", () => {
 describe("hostile sign-in bodies and return addresses", () => {
   it("when a sign-in body nests thousands of arrays, then 400 in words (the library's own refusal overflowed the stack: 500)", async () => {
     const deep = "[".repeat(5_000) + "]".repeat(5_000);
-    const res = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).set("Content-Type", "application/json").send(`{"email":${deep},"password":"x"}`);
+    const res = await request(t.app)
+      .post("/api/auth/sign-in/email")
+      .set("Origin", O)
+      .set("Content-Type", "application/json")
+      .send(`{"email":${deep},"password":"x"}`);
     expect(res.status).toBe(400);
-    expect(res.body.error).toEqual({ code: "validation_failed", message: "The sign-in service could not read this request: it is nested far deeper than any sign-in form." });
+    expect(res.body.error).toEqual({
+      code: "validation_failed",
+      message: "The sign-in service could not read this request: it is nested far deeper than any sign-in form.",
+    });
   });
 
   it("when a sign-in field has the wrong type, then 400 in words, with the library's detail", async () => {
-    const res = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).send({ email: { $ne: "" }, password: ["x"] });
+    const res = await request(t.app)
+      .post("/api/auth/sign-in/email")
+      .set("Origin", O)
+      .send({ email: { $ne: "" }, password: ["x"] });
     expect(res.status).toBe(400);
     expect(res.body.error.code).toBe("validation_failed");
-    expect(res.body.error.message).toBe("The sign-in service could not read this request: give the e-mail address, the password and the link's code as plain text.");
+    expect(res.body.error.message).toBe(
+      "The sign-in service could not read this request: give the e-mail address, the password and the link's code as plain text.",
+    );
     expect(res.body.error.details[0].message).toMatch(/body\.email/);
   });
 
@@ -240,7 +284,10 @@ describe("hostile sign-in bodies and return addresses", () => {
       expect(link.headers.location).toBeUndefined();
       const ask = await request(t.app).post("/api/auth/request-password-reset").set("Origin", O).send({ email: "inspector@demo.test", redirectTo: target });
       expect(ask.status, target).toBe(403);
-      const signIn = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).send({ email: "inspector@demo.test", password: TEST_PASSWORD, callbackURL: target });
+      const signIn = await request(t.app)
+        .post("/api/auth/sign-in/email")
+        .set("Origin", O)
+        .send({ email: "inspector@demo.test", password: TEST_PASSWORD, callbackURL: target });
       expect(signIn.status, target).toBe(403);
     }
     expect(one("select count(*) from email_outbox where to_addresses = 'inspector@demo.test'")).toBe(0);
@@ -249,7 +296,12 @@ describe("hostile sign-in bodies and return addresses", () => {
 
 describe("reset links", () => {
   const tokensOf = (userId: string) =>
-    (t.db.$client.prepare("select identifier from verification where value = ? and identifier like 'reset-password:%' order by rowid").pluck().all(userId) as string[]).map((i) => i.slice("reset-password:".length));
+    (
+      t.db.$client
+        .prepare("select identifier from verification where value = ? and identifier like 'reset-password:%' order by rowid")
+        .pluck()
+        .all(userId) as string[]
+    ).map((i) => i.slice("reset-password:".length));
   const ask = (email: string) => request(t.app).post("/api/auth/request-password-reset").set("Origin", O).send({ email, redirectTo: "/reset-password" });
   const reset = (token: string, newPassword: string) => request(t.app).post("/api/auth/reset-password").set("Origin", O).send({ token, newPassword });
 
@@ -265,8 +317,14 @@ describe("reset links", () => {
     expect(stale.status).toBe(400);
     expect(stale.body.error.code).toBe("invalid_token");
     expect(tokensOf(id)).toEqual([]);
-    expect((await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).send({ email: "quality@demo.test", password: "quality-newer-link-1" })).status).toBe(200);
-    const audit = t.db.$client.prepare("select user_id, user_name, after from audit_log where action = 'user.password.changed' and entity_id = ?").all(id) as { user_id: string; user_name: string; after: string }[];
+    expect(
+      (await request(t.app).post("/api/auth/sign-in/email").set("Origin", O).send({ email: "quality@demo.test", password: "quality-newer-link-1" })).status,
+    ).toBe(200);
+    const audit = t.db.$client.prepare("select user_id, user_name, after from audit_log where action = 'user.password.changed' and entity_id = ?").all(id) as {
+      user_id: string;
+      user_name: string;
+      after: string;
+    }[];
     expect(audit).toHaveLength(1);
     expect(audit[0]!.user_id).toBe(id);
     expect(JSON.parse(audit[0]!.after)).toEqual({ how: "reset", resetLinksRevoked: 1, locksLifted: 0 });
@@ -290,7 +348,10 @@ describe("reset links", () => {
     await t.auth.api.setUserPassword({ body: { userId: id, newPassword: "claims-set-by-admin" }, headers: new Headers({ cookie: adminCookie }) });
     expect(tokensOf(id)).toEqual([]);
     expect((await reset(second!, "claims-via-old-link")).status).toBe(400);
-    const rows = t.db.$client.prepare("select user_id, after from audit_log where action = 'user.password.changed' and entity_id = ? order by id").all(id) as { user_id: string; after: string }[];
+    const rows = t.db.$client.prepare("select user_id, after from audit_log where action = 'user.password.changed' and entity_id = ? order by id").all(id) as {
+      user_id: string;
+      after: string;
+    }[];
     expect(rows.map((r) => [r.user_id, JSON.parse(r.after).how])).toEqual([
       [id, "changed"],
       [idOf("admin"), "set by an administrator"],
@@ -299,7 +360,10 @@ describe("reset links", () => {
 
   it("when the administrator reads the mail outbox, then reset and invitation links are hidden there, while the mail as sent carries the working link", async () => {
     const admin = await t.agentFor("admin");
-    const created = await admin.post("/api/admin/users").set("Origin", O).send({ name: "Tomas Lind (demo)", email: "tomas@demo.test", roles: ["inspector"], firstSignIn: "invitation" });
+    const created = await admin
+      .post("/api/admin/users")
+      .set("Origin", O)
+      .send({ name: "Tomas Lind (demo)", email: "tomas@demo.test", roles: ["inspector"], firstSignIn: "invitation" });
     expect(created.status).toBe(201);
     expect((await ask("process@demo.test")).status).toBe(200);
     const liveTokens = [...tokensOf(created.body.id), ...tokensOf(idOf("process"))];
@@ -307,7 +371,9 @@ describe("reset links", () => {
 
     const outbox = await admin.get("/api/admin/outbox?pageSize=200");
     expect(outbox.status).toBe(200);
-    const linkMails = (outbox.body.items as { kind: string; text: string; to: string[] }[]).filter((m) => m.kind === "invitation" || m.kind === "password_reset");
+    const linkMails = (outbox.body.items as { kind: string; text: string; to: string[] }[]).filter(
+      (m) => m.kind === "invitation" || m.kind === "password_reset",
+    );
     expect(linkMails.map((m) => m.to[0])).toEqual(expect.arrayContaining(["tomas@demo.test", "process@demo.test"]));
     for (const m of linkMails) {
       expect(m.text).toMatch(/\/api\/auth\/reset-password\/\[link hidden\]/);

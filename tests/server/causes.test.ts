@@ -18,7 +18,11 @@ afterAll(() => t?.close());
 
 const O = () => t.env.BETTER_AUTH_URL;
 const q = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).get(...a) as Record<string, any>;
-const n = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).pluck().get(...a) as number;
+const n = (sql: string, ...a: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...a) as number;
 /** A live, unrejected defect that carries no cause yet. */
 const untaggedDefect = (offset = 0) =>
   n(
@@ -36,7 +40,12 @@ describe("cause taxonomy", () => {
     expect(codes).toHaveLength(n("select count(*) from cause_tags where retired_at is null"));
     expect(codes).toContain("sen-clogging");
     const sen = res.body.groups[1].tags.find((x: { code: string }) => x.code === "sen-clogging");
-    expect(sen).toMatchObject({ name: "SEN clogging", group: "equipment", retired: false, uses: n("select count(*) from defect_causes where removed_at is null and tag_id = (select id from cause_tags where code = 'sen-clogging')") });
+    expect(sen).toMatchObject({
+      name: "SEN clogging",
+      group: "equipment",
+      retired: false,
+      uses: n("select count(*) from defect_causes where removed_at is null and tag_id = (select id from cause_tags where code = 'sen-clogging')"),
+    });
   });
 
   it("when a quality engineer tries to add a tag, then 403 and nothing is written", async () => {
@@ -59,7 +68,10 @@ describe("cause taxonomy", () => {
     const all = await process_.get("/api/cause-tags?includeRetired=true");
     expect(all.body.groups.flatMap((g: { tags: { code: string }[] }) => g.tags.map((x) => x.code))).toContain("mold-powder");
     // A retired tag cannot be put on a defect.
-    const tagRetired = await process_.post(`/api/defects/${untaggedDefect()}/causes`).set("Origin", O()).send({ tags: ["mold-powder"], confidence: "probable" });
+    const tagRetired = await process_
+      .post(`/api/defects/${untaggedDefect()}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["mold-powder"], confidence: "probable" });
     expect(tagRetired.status).toBe(400);
     expect(tagRetired.body.error.code).toBe("retired_tag");
     await process_.patch("/api/cause-tags/mold-powder").set("Origin", O()).send({ retired: false });
@@ -86,10 +98,18 @@ describe("cause taxonomy", () => {
 describe("tagging one defect", () => {
   it("when a process engineer tags a defect with two causes, then both are live with confidence, note and author, the defect shows them, and the audit has it", async () => {
     const id = untaggedDefect();
-    const res = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["sen-clogging", "ladle-change"], confidence: "probable", note: "Clog found at the tundish change" });
+    const res = await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["sen-clogging", "ladle-change"], confidence: "probable", note: "Clog found at the tundish change" });
     expect(res.status).toBe(201);
     expect(res.body.current.map((c: { tag: string }) => c.tag).sort()).toEqual(["ladle-change", "sen-clogging"]);
-    expect(res.body.current[0]).toMatchObject({ confidence: "probable", note: "Clog found at the tundish change", removedAt: null, by: { name: "Priya Raman (demo process engineer)" } });
+    expect(res.body.current[0]).toMatchObject({
+      confidence: "probable",
+      note: "Clog found at the tundish change",
+      removedAt: null,
+      by: { name: "Priya Raman (demo process engineer)" },
+    });
     const defect = await quality.get(`/api/defects/${id}`);
     expect(defect.body.causes.map((c: { tag: string }) => c.tag).sort()).toEqual(["ladle-change", "sen-clogging"]);
     const audit = q("select * from audit_log where action = 'defect.causes.tag' and entity_id = ?", String(id));
@@ -98,10 +118,19 @@ describe("tagging one defect", () => {
 
   it("when the same tag is given again with a firmer confidence, then the old tagging is closed and a new one written; the same again changes nothing", async () => {
     const id = untaggedDefect();
-    await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["high-superheat"], confidence: "suspected" });
-    const again = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["high-superheat"], confidence: "suspected" });
+    await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["high-superheat"], confidence: "suspected" });
+    const again = await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["high-superheat"], confidence: "suspected" });
     expect(again.body.history).toHaveLength(1);
-    const firmer = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["high-superheat"], confidence: "confirmed" });
+    const firmer = await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["high-superheat"], confidence: "confirmed" });
     expect(firmer.body.current).toHaveLength(1);
     expect(firmer.body.current[0].confidence).toBe("confirmed");
     expect(firmer.body.history).toHaveLength(2);
@@ -112,7 +141,10 @@ describe("tagging one defect", () => {
 
   it("when a tagging is removed, then it stays in the history with who removed it, the audit keeps the reason, and removing it twice is a 409", async () => {
     const id = untaggedDefect();
-    const tagged = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["argon-flow"], confidence: "suspected" });
+    const tagged = await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["argon-flow"], confidence: "suspected" });
     const link = tagged.body.current[0].id;
     const removed = await process_.delete(`/api/defects/${id}/causes/${link}`).set("Origin", O()).send({ reason: "Argon was in range on the log" });
     expect(removed.status).toBe(200);
@@ -127,7 +159,10 @@ describe("tagging one defect", () => {
 
   it("when a quality engineer tags or removes, then 403 and nothing changes; they can read the history", async () => {
     const id = untaggedDefect();
-    const res = await quality.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["sen-clogging"], confidence: "confirmed" });
+    const res = await quality
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["sen-clogging"], confidence: "confirmed" });
     expect(res.status).toBe(403);
     expect(n("select count(*) from defect_causes where defect_id = ?", id)).toBe(0);
     const read = await quality.get(`/api/defects/${id}/causes`);
@@ -137,10 +172,16 @@ describe("tagging one defect", () => {
 
   it("when the tag is unknown or the confidence wrong, then 400 in plain words and nothing is written", async () => {
     const id = untaggedDefect();
-    const unknown = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["sen-clogging", "gremlins"], confidence: "probable" });
+    const unknown = await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["sen-clogging", "gremlins"], confidence: "probable" });
     expect(unknown.status).toBe(400);
     expect(unknown.body.error.message).toBe("Unknown cause tag: gremlins. See GET /api/cause-tags.");
-    const conf = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["sen-clogging"], confidence: "certain" });
+    const conf = await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["sen-clogging"], confidence: "certain" });
     expect(conf.status).toBe(400);
     expect(conf.body.error.message).toContain("suspected, probable or confirmed");
     expect(n("select count(*) from defect_causes where defect_id = ?", id)).toBe(0);
@@ -157,13 +198,25 @@ describe("bulk tagging", () => {
   it("when a heat's defects are tagged, then the dry run counts them without writing, the real run tags each once, and a repeat changes nothing", async () => {
     const heat = heatWithDefects();
     const before = n("select count(*) from defect_causes");
-    const dry = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "heat", heatNo: heat.heat_no }, tags: ["tundish-change"], confidence: "probable", note: "Heat cast after a tundish change", dryRun: true });
+    const dry = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({
+        selection: { kind: "heat", heatNo: heat.heat_no },
+        tags: ["tundish-change"],
+        confidence: "probable",
+        note: "Heat cast after a tundish change",
+        dryRun: true,
+      });
     expect(dry.status).toBe(200);
     expect(dry.body).toMatchObject({ dryRun: true, defects: heat.n, tagged: heat.n, unchanged: 0 });
     expect(dry.body.sample).toHaveLength(Math.min(heat.n, 20));
     expect(n("select count(*) from defect_causes")).toBe(before);
 
-    const real = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "heat", heatNo: heat.heat_no }, tags: ["tundish-change"], confidence: "probable", note: "Heat cast after a tundish change" });
+    const real = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({ selection: { kind: "heat", heatNo: heat.heat_no }, tags: ["tundish-change"], confidence: "probable", note: "Heat cast after a tundish change" });
     expect(real.status).toBe(201);
     expect(real.body).toMatchObject({ dryRun: false, defects: heat.n, tagged: heat.n, unchanged: 0 });
     expect(n("select count(*) from defect_causes")).toBe(before + heat.n);
@@ -171,36 +224,58 @@ describe("bulk tagging", () => {
     expect(audit.entity_id).toBe(heat.heat_no);
     expect(JSON.parse(audit.after).defects).toHaveLength(heat.n);
 
-    const repeat = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "heat", heatNo: heat.heat_no }, tags: ["tundish-change"], confidence: "probable", note: "Heat cast after a tundish change" });
+    const repeat = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({ selection: { kind: "heat", heatNo: heat.heat_no }, tags: ["tundish-change"], confidence: "probable", note: "Heat cast after a tundish change" });
     expect(repeat.body).toMatchObject({ tagged: 0, unchanged: heat.n });
     expect(n("select count(*) from defect_causes")).toBe(before + heat.n);
   });
 
   it("when a sequence or a report filter is the selection, then it covers exactly the defects SQL finds for it", async () => {
-    const seq = q("select sq.sequence_no from sequences sq join heats h on h.sequence_id = sq.id join slabs s on s.heat_id = h.id join defects d on d.slab_id = s.id group by sq.id order by count(*) desc limit 1").sequence_no as string;
+    const seq = q(
+      "select sq.sequence_no from sequences sq join heats h on h.sequence_id = sq.id join slabs s on s.heat_id = h.id join defects d on d.slab_id = s.id group by sq.id order by count(*) desc limit 1",
+    ).sequence_no as string;
     const inSeq = n(
       `select count(*) from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id join sequences sq on sq.id = h.sequence_id
        where sq.sequence_no = ? and d.deleted_at is null and d.review_status <> 'rejected'`,
       seq,
     );
-    const s = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "sequence", sequenceNo: seq }, tags: ["ladle-change"], confidence: "suspected", dryRun: true });
+    const s = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({ selection: { kind: "sequence", sequenceNo: seq }, tags: ["ladle-change"], confidence: "suspected", dryRun: true });
     expect(s.body.defects).toBe(inSeq);
 
     const inFilter = n(
       `select count(*) from defects d join slabs s on s.id = d.slab_id join defect_types t on t.id = d.type_id
        where t.code = 'SLG' and d.severity >= 2 and d.deleted_at is null and d.review_status <> 'rejected'`,
     );
-    const f = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "filter", filters: { defectType: "SLG", minSeverity: "2" } }, tags: ["mold-level-disturbance"], confidence: "suspected", dryRun: true });
+    const f = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({
+        selection: { kind: "filter", filters: { defectType: "SLG", minSeverity: "2" } },
+        tags: ["mold-level-disturbance"],
+        confidence: "suspected",
+        dryRun: true,
+      });
     expect(f.status).toBe(200);
     expect(f.body.defects).toBe(inFilter);
     expect(inFilter).toBeGreaterThan(0);
   });
 
   it("when the heat does not exist, then 404 in plain words; a quality engineer gets 403", async () => {
-    const res = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "heat", heatNo: "NOPE999" }, tags: ["ladle-change"], confidence: "suspected" });
+    const res = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({ selection: { kind: "heat", heatNo: "NOPE999" }, tags: ["ladle-change"], confidence: "suspected" });
     expect(res.status).toBe(404);
     expect(res.body.error.message).toBe("There is no heat NOPE999 on record.");
-    const q403 = await quality.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "heat", heatNo: heatWithDefects().heat_no }, tags: ["ladle-change"], confidence: "suspected" });
+    const q403 = await quality
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({ selection: { kind: "heat", heatNo: heatWithDefects().heat_no }, tags: ["ladle-change"], confidence: "suspected" });
     expect(q403.status).toBe(403);
   });
 });
@@ -235,16 +310,26 @@ describe("the worklist of defects without a cause", () => {
     expect(sev).toEqual([...sev].sort((a, b) => b - a));
 
     const tagged = await process_.get("/api/defects?causes=any&pageSize=1");
-    expect(tagged.body.total).toBe(n("select count(*) from defects d where d.deleted_at is null and exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null)"));
+    expect(tagged.body.total).toBe(
+      n(
+        "select count(*) from defects d where d.deleted_at is null and exists (select 1 from defect_causes dc where dc.defect_id = d.id and dc.removed_at is null)",
+      ),
+    );
   });
 
   it("when a listed defect is tagged (one, or several through the list's ids), then it leaves the worklist; a removed tagging brings it back", async () => {
     const first = await process_.get("/api/defects?causes=none&sort=oldest&pageSize=3");
     const [a, b, c] = first.body.items as { id: number }[];
     const before = first.body.total as number;
-    const one = await process_.post(`/api/defects/${a!.id}/causes`).set("Origin", O()).send({ tags: ["ladle-change"], confidence: "suspected" });
+    const one = await process_
+      .post(`/api/defects/${a!.id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["ladle-change"], confidence: "suspected" });
     expect(one.status).toBe(201);
-    const bulk = await process_.post("/api/causes/bulk").set("Origin", O()).send({ selection: { kind: "defects", ids: [b!.id, c!.id] }, tags: ["sen-clogging"], confidence: "probable" });
+    const bulk = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({ selection: { kind: "defects", ids: [b!.id, c!.id] }, tags: ["sen-clogging"], confidence: "probable" });
     expect(bulk.body).toMatchObject({ defects: 2, tagged: 2 });
     const after = await process_.get("/api/defects?causes=none&sort=oldest&pageSize=3");
     expect(after.body.total).toBe(before - 3);
@@ -289,15 +374,22 @@ describe("cause Pareto", () => {
     const ov = await quality.get(`/api/reports/overview?cause=${top.code}&period=month`);
     expect(ov.body.totals.affected).toBe(n(`select count(distinct d.slab_id) ${live} and t.code = ?`, top.code));
 
-    const xlsx = await quality.get("/api/reports/cause-pareto.xlsx?minConfidence=suspected").buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on("data", (c: Buffer) => chunks.push(c));
-      r.on("end", () => cb(null, Buffer.concat(chunks)));
-    });
+    const xlsx = await quality
+      .get("/api/reports/cause-pareto.xlsx?minConfidence=suspected")
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on("data", (c: Buffer) => chunks.push(c));
+        r.on("end", () => cb(null, Buffer.concat(chunks)));
+      });
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.load(xlsx.body as Buffer as never);
     const sheet = wb.getWorksheet("Causes")!;
-    const rows = Array.from({ length: sheet.rowCount - 1 }, (_, i) => ({ code: sheet.getRow(i + 2).getCell(1).value, defects: sheet.getRow(i + 2).getCell(4).value, share: sheet.getRow(i + 2).getCell(9).value }));
+    const rows = Array.from({ length: sheet.rowCount - 1 }, (_, i) => ({
+      code: sheet.getRow(i + 2).getCell(1).value,
+      defects: sheet.getRow(i + 2).getCell(4).value,
+      share: sheet.getRow(i + 2).getCell(9).value,
+    }));
     expect(rows).toEqual(body.rows.map((r) => ({ code: r.code, defects: r.defects, share: r.share })));
     expect(sheet.views[0]).toMatchObject({ state: "frozen", ySplit: 1 });
   });

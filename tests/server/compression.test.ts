@@ -55,19 +55,22 @@ function getRaw(url: string, acceptEncoding?: string, cookie?: string) {
   });
 }
 
-
 function decode(body: Buffer, encoding: string | undefined): Buffer {
   if (encoding === "br") return zlib.brotliDecompressSync(body);
   if (encoding === "gzip") return zlib.gunzipSync(body);
   return body;
 }
 
-const manifest = () => JSON.parse(fs.readFileSync(path.join(CLIENT_DIST, ".vite/manifest.json"), "utf8")) as Record<string, { file: string; isEntry?: boolean; css?: string[] }>;
+const manifest = () =>
+  JSON.parse(fs.readFileSync(path.join(CLIENT_DIST, ".vite/manifest.json"), "utf8")) as Record<string, { file: string; isEntry?: boolean; css?: string[] }>;
 
 describe("the built client's files, compressed", () => {
   it("when the build is made, then every script, style sheet and page has a .br and a .gz holding its exact bytes, and the service worker precaches the plain files only", () => {
     expect(CLIENT_DIST).toBe(published);
-    const files = fs.readdirSync(path.join(CLIENT_DIST, "assets")).filter((f) => /\.(js|css)$/.test(f)).map((f) => `assets/${f}`);
+    const files = fs
+      .readdirSync(path.join(CLIENT_DIST, "assets"))
+      .filter((f) => /\.(js|css)$/.test(f))
+      .map((f) => `assets/${f}`);
     files.push("index.html", "sw.js", "manifest.webmanifest", ...fs.readdirSync(CLIENT_DIST).filter((f) => /^workbox-[\w-]+\.js$/.test(f)));
     expect(files.length).toBeGreaterThan(20);
     for (const f of files) {
@@ -83,13 +86,38 @@ describe("the built client's files, compressed", () => {
   // What each file is asked as, and the Cache-Control it has always had.
   const entry = () => Object.values(manifest()).find((m) => m.isEntry)!;
   const cases: { what: string; url: () => string; file: () => string; page?: string; type: RegExp; cache: string }[] = [
-    { what: "the entry script", url: () => `/${entry().file}`, file: () => entry().file, type: /^text\/javascript/, cache: "public, max-age=31536000, immutable" },
-    { what: "the style sheet", url: () => `/${entry().css![0]}`, file: () => entry().css![0]!, type: /^text\/css/, cache: "public, max-age=31536000, immutable" },
+    {
+      what: "the entry script",
+      url: () => `/${entry().file}`,
+      file: () => entry().file,
+      type: /^text\/javascript/,
+      cache: "public, max-age=31536000, immutable",
+    },
+    {
+      what: "the style sheet",
+      url: () => `/${entry().css![0]}`,
+      file: () => entry().css![0]!,
+      type: /^text\/css/,
+      cache: "public, max-age=31536000, immutable",
+    },
     // index.html with the screen's code named in it (tests/server/screen-pages.test.ts checks what is added).
-    { what: "index.html for a screen's address", url: () => "/reports/overview?period=month", file: () => "index.html", page: "/reports/overview", type: /^text\/html/, cache: "no-cache" },
+    {
+      what: "index.html for a screen's address",
+      url: () => "/reports/overview?period=month",
+      file: () => "index.html",
+      page: "/reports/overview",
+      type: /^text\/html/,
+      cache: "no-cache",
+    },
     { what: "index.html itself", url: () => "/index.html", file: () => "index.html", type: /^text\/html/, cache: "no-cache" },
     { what: "the service worker", url: () => "/sw.js", file: () => "sw.js", type: /^text\/javascript/, cache: "no-cache" },
-    { what: "the app manifest", url: () => "/manifest.webmanifest", file: () => "manifest.webmanifest", type: /^application\/manifest\+json/, cache: "no-cache" },
+    {
+      what: "the app manifest",
+      url: () => "/manifest.webmanifest",
+      file: () => "manifest.webmanifest",
+      type: /^application\/manifest\+json/,
+      cache: "no-cache",
+    },
     { what: "the icon (svg)", url: () => "/icon.svg", file: () => "icon.svg", type: /^image\/svg\+xml/, cache: "public, max-age=3600" },
   ];
   for (const c of cases) {
@@ -150,7 +178,10 @@ describe("API answers, compressed", () => {
     const plain = await getRaw("/api/openapi.json", "identity", cookie);
     expect(plain.res.status).toBe(200);
     expect(plain.res.headers["content-encoding"]).toBeUndefined();
-    for (const [accept, coding] of [["gzip", "gzip"], ["br", "br"]] as const) {
+    for (const [accept, coding] of [
+      ["gzip", "gzip"],
+      ["br", "br"],
+    ] as const) {
       const packed = await getRaw("/api/openapi.json", accept, cookie);
       expect(packed.res.status).toBe(200);
       expect(packed.res.headers["content-encoding"]).toBe(coding);

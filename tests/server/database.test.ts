@@ -11,11 +11,39 @@ const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-db-"));
 afterAll(() => fs.rmSync(dir, { recursive: true, force: true }));
 
 const TABLES = [
-  "user", "session", "account", "verification", "plant_settings", "casters", "strands", "grade_families", "grades",
-  "sequences", "heats", "slabs", "process_samples", "defect_categories", "defect_types", "defects", "defect_photos",
-  "cause_groups", "cause_tags", "defect_causes", "investigations", "investigation_subjects", "investigation_hypotheses",
-  "investigation_actions", "products", "claims", "claim_slabs", "attachments", "saved_reports", "audit_log",
-  "email_outbox", "mail_received", "api_tokens",
+  "user",
+  "session",
+  "account",
+  "verification",
+  "plant_settings",
+  "casters",
+  "strands",
+  "grade_families",
+  "grades",
+  "sequences",
+  "heats",
+  "slabs",
+  "process_samples",
+  "defect_categories",
+  "defect_types",
+  "defects",
+  "defect_photos",
+  "cause_groups",
+  "cause_tags",
+  "defect_causes",
+  "investigations",
+  "investigation_subjects",
+  "investigation_hypotheses",
+  "investigation_actions",
+  "products",
+  "claims",
+  "claim_slabs",
+  "attachments",
+  "saved_reports",
+  "audit_log",
+  "email_outbox",
+  "mail_received",
+  "api_tokens",
 ];
 
 describe("database", () => {
@@ -41,9 +69,9 @@ describe("database", () => {
         .flatMap((i) => db.$client.prepare(`select name from pragma_index_info('${i.name}')`).pluck().all());
     expect(uniqueCols("heats")).toContain("heat_no");
     expect(uniqueCols("slabs")).toContain("slab_id");
-    const fks = db.$client.prepare("select \"from\", \"table\" from pragma_foreign_key_list('defects')").all();
+    const fks = db.$client.prepare('select "from", "table" from pragma_foreign_key_list(\'defects\')').all();
     expect(fks).toContainEqual({ from: "slab_id", table: "slabs" });
-    const slabCol = (db.$client.prepare("select \"notnull\" from pragma_table_info('defects') where name = 'slab_id'").pluck().get());
+    const slabCol = db.$client.prepare("select \"notnull\" from pragma_table_info('defects') where name = 'slab_id'").pluck().get();
     expect(slabCol).toBe(1);
     // Foreign keys are enforced: a defect on a slab that does not exist is refused.
     expect(() =>
@@ -59,8 +87,7 @@ describe("database", () => {
     runMigrations(db);
     const auth = createAuth({ db, secret: "x".repeat(40), baseURL: "http://localhost:3000" });
     const first = await seedDemo(db, auth, { password: "seed-twice-pw", scale: 0.02 });
-    const snapshot = () =>
-      Object.fromEntries(TABLES.map((t) => [t, db.$client.prepare(`select count(*) from "${t}"`).pluck().get() as number]));
+    const snapshot = () => Object.fromEntries(TABLES.map((t) => [t, db.$client.prepare(`select count(*) from "${t}"`).pluck().get() as number]));
     const afterFirst = snapshot();
     const second = await seedDemo(db, auth, { password: "seed-twice-pw", scale: 0.02 });
     expect(first.usersCreated).toBe(5);

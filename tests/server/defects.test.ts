@@ -52,7 +52,16 @@ describe("logging a defect", () => {
     expect(res.status).toBe(201);
     expect(res.body.created).toBe(true);
     const row = one("select * from defects where id = ?", res.body.id);
-    expect(row).toMatchObject({ slab_id: slab.id, face: "inner", position_along_mm: 2500, position_across_mm: 700, severity: 2, disposition: "scarf", review_status: "new", client_key: body.client_key });
+    expect(row).toMatchObject({
+      slab_id: slab.id,
+      face: "inner",
+      position_along_mm: 2500,
+      position_across_mm: 700,
+      severity: 2,
+      disposition: "scarf",
+      review_status: "new",
+      client_key: body.client_key,
+    });
     expect(res.body.defect).toMatchObject({ slabId: slab.slab_id, typeCode: "LFC", canEdit: true });
     expect(one("select disposition from slabs where id = ?", slab.id).disposition).toBe("scarf");
     expect(one("select count(*) as n from audit_log where action = 'defect.create' and entity_id = ?", String(res.body.id)).n).toBe(1);
@@ -69,28 +78,43 @@ describe("logging a defect", () => {
 
   it("when the slab does not exist, then 404 with words an inspector understands, and nothing is stored", async () => {
     const before = one("select count(*) as n from defects").n;
-    const res = await inspector.post("/api/defects").set("Origin", O()).send(entry({ slab_id: "ZZ-404" }));
+    const res = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ slab_id: "ZZ-404" }));
     expect(res.status).toBe(404);
     expect(res.body.error.message).toBe("There is no slab ZZ-404 on record. Check the id on the slab's label, or scan it again.");
     expect(one("select count(*) as n from defects").n).toBe(before);
   });
 
   it("when the position lies outside the slab, then 400 naming the slab's size", async () => {
-    const along = await inspector.post("/api/defects").set("Origin", O()).send(entry({ position_along_mm: slab.length_mm + 1 }));
+    const along = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ position_along_mm: slab.length_mm + 1 }));
     expect(along.status).toBe(400);
     expect(along.body.error.code).toBe("outside_slab");
     expect(along.body.error.message).toContain(`beyond the slab's length of ${slab.length_mm} mm`);
     // On a narrow face "across" runs over the thickness.
-    const narrow = await inspector.post("/api/defects").set("Origin", O()).send(entry({ face: "left", position_across_mm: slab.thickness_mm + 5 }));
+    const narrow = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ face: "left", position_across_mm: slab.thickness_mm + 5 }));
     expect(narrow.status).toBe(400);
     expect(narrow.body.error.message).toContain(`${slab.thickness_mm} mm thick`);
-    const ok = await inspector.post("/api/defects").set("Origin", O()).send(entry({ face: "left", position_across_mm: slab.thickness_mm }));
+    const ok = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ face: "left", position_across_mm: slab.thickness_mm }));
     expect(ok.status).toBe(201);
   });
 
   it("when the input is malformed, then 400 per field and nothing is stored", async () => {
     const before = one("select count(*) as n from defects").n;
-    const res = await inspector.post("/api/defects").set("Origin", O()).send(entry({ severity: 7, face: "top", position_along_mm: -3, client_key: "x" }));
+    const res = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ severity: 7, face: "top", position_along_mm: -3, client_key: "x" }));
     expect(res.status).toBe(400);
     expect(res.body.error.details.map((d: { path: string }) => d.path).sort()).toEqual(["client_key", "face", "position_along_mm", "severity"]);
     expect(one("select count(*) as n from defects").n).toBe(before);
@@ -98,7 +122,10 @@ describe("logging a defect", () => {
 
   it("when a type is retired, then it cannot be logged any more", async () => {
     expect((await quality.patch("/api/defect-types/STC").set("Origin", O()).send({ active: false })).status).toBe(200);
-    const res = await inspector.post("/api/defects").set("Origin", O()).send(entry({ type_code: "STC" }));
+    const res = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ type_code: "STC" }));
     expect(res.status).toBe(400);
     expect(res.body.error.code).toBe("retired_type");
     const cat = (await inspector.get("/api/defect-types")).body;
@@ -114,7 +141,10 @@ describe("logging a defect", () => {
 
 describe("changing entries", () => {
   it("when the inspector edits their own new entry, then it changes and is audited; another inspector gets 403", async () => {
-    const created = await inspector.post("/api/defects").set("Origin", O()).send(entry({ severity: 1 }));
+    const created = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ severity: 1 }));
     const id = created.body.id;
     const edit = await inspector.patch(`/api/defects/${id}`).set("Origin", O()).send({ severity: 3, disposition: "hold" });
     expect(edit.status).toBe(200);
@@ -146,7 +176,10 @@ describe("changing entries", () => {
   });
 
   it("when the inspector deletes their own new entry, then it is kept but marked deleted and disappears from lists", async () => {
-    const created = await inspector.post("/api/defects").set("Origin", O()).send(entry({ disposition: "scrap", severity: 4 }));
+    const created = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ disposition: "scrap", severity: 4 }));
     const id = created.body.id;
     expect(one("select disposition from slabs where id = ?", slab.id).disposition).toBe("scrap");
     const del = await inspector.delete(`/api/defects/${id}`).set("Origin", O());
@@ -160,8 +193,14 @@ describe("changing entries", () => {
 
 describe("review", () => {
   it("when corrected, then the type and severity change, the status says corrected, and it is audited with before and after", async () => {
-    const created = await inspector.post("/api/defects").set("Origin", O()).send(entry({ type_code: "DEP", severity: 1 }));
-    const res = await quality.post(`/api/defects/${created.body.id}/review`).set("Origin", O()).send({ decision: "correct", type_code: "LFC", severity: 2, note: "A crack, not a depression" });
+    const created = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ type_code: "DEP", severity: 1 }));
+    const res = await quality
+      .post(`/api/defects/${created.body.id}/review`)
+      .set("Origin", O())
+      .send({ decision: "correct", type_code: "LFC", severity: 2, note: "A crack, not a depression" });
     expect(res.body).toMatchObject({ reviewStatus: "corrected", typeCode: "LFC", severity: 2 });
     const audit = one("select before, after from audit_log where action = 'defect.review.correct' and entity_id = ?", String(created.body.id));
     expect(JSON.parse(audit.after)).toMatchObject({ review_status: "corrected", severity: 2, note: "A crack, not a depression" });
@@ -169,7 +208,10 @@ describe("review", () => {
   });
 
   it("when rejected without a reason, then 400; with one, the entry no longer counts for the slab", async () => {
-    const created = await inspector.post("/api/defects").set("Origin", O()).send(entry({ disposition: "downgrade" }));
+    const created = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send(entry({ disposition: "downgrade" }));
     expect((await quality.post(`/api/defects/${created.body.id}/review`).set("Origin", O()).send({ decision: "reject" })).status).toBe(400);
     const res = await quality.post(`/api/defects/${created.body.id}/review`).set("Origin", O()).send({ decision: "reject", note: "Scale mark, not a defect" });
     expect(res.body.reviewStatus).toBe("rejected");
@@ -236,7 +278,10 @@ describe("causes shown with defects", () => {
     const process_ = await t.agentFor("process");
     const created = await inspector.post("/api/defects").set("Origin", O()).send(entry());
     const id = created.body.id as number;
-    const tagged = await process_.post(`/api/defects/${id}/causes`).set("Origin", O()).send({ tags: ["sen-clogging"], confidence: "probable" });
+    const tagged = await process_
+      .post(`/api/defects/${id}/causes`)
+      .set("Origin", O())
+      .send({ tags: ["sen-clogging"], confidence: "probable" });
     expect(tagged.status).toBe(201);
     // The causes routes themselves are closed to inspectors.
     expect((await inspector.get(`/api/defects/${id}/causes`)).status).toBe(403);

@@ -106,8 +106,10 @@ describe("the invented demo plant", () => {
       // The last shifts end when the demo is seeded: both seeds are given the same moment.
       await seedDemo(d, auth, { password: "demo-plant-pw", scale: 0.03, now: Date.UTC(2026, 11, 2, 9, 41) });
       const h = crypto.createHash("sha256");
-      for (const row of d.$client.prepare("select slab_id, heat_id, length_mm, cast_at, transition, disposition from slabs order by id").raw().iterate()) h.update(JSON.stringify(row));
-      for (const row of d.$client.prepare("select slab_id, type_id, face, position_along_mm, severity, stage from defects order by id").raw().iterate()) h.update(JSON.stringify(row));
+      for (const row of d.$client.prepare("select slab_id, heat_id, length_mm, cast_at, transition, disposition from slabs order by id").raw().iterate())
+        h.update(JSON.stringify(row));
+      for (const row of d.$client.prepare("select slab_id, type_id, face, position_along_mm, severity, stage from defects order by id").raw().iterate())
+        h.update(JSON.stringify(row));
       d.$client.close();
       return h.digest("hex");
     };

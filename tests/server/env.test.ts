@@ -9,7 +9,12 @@ const tmp = () => path.join(fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-e
 describe("environment", () => {
   it("when .env.example is copied as it is, then its empty lines count as not set and the defaults apply", () => {
     const example = fs.readFileSync(path.resolve(".env.example"), "utf8");
-    const vars = Object.fromEntries(example.split("\n").filter((l) => /^[A-Z_]+=/.test(l)).map((l) => [l.slice(0, l.indexOf("=")), l.slice(l.indexOf("=") + 1)]));
+    const vars = Object.fromEntries(
+      example
+        .split("\n")
+        .filter((l) => /^[A-Z_]+=/.test(l))
+        .map((l) => [l.slice(0, l.indexOf("=")), l.slice(l.indexOf("=") + 1)]),
+    );
     expect(vars.SMTP_URL).toBe("");
     const env = loadEnv({ ...vars, DATABASE_FILE: tmp() });
     expect(env.SMTP_URL).toBeUndefined();
@@ -34,7 +39,9 @@ describe("environment", () => {
   it("when production has no https BETTER_AUTH_URL, then loading refuses to start", () => {
     const secret = "s".repeat(40);
     expect(() => loadEnv({ NODE_ENV: "production", BETTER_AUTH_SECRET: secret, DATABASE_FILE: tmp() })).toThrow(/BETTER_AUTH_URL is required/);
-    expect(() => loadEnv({ NODE_ENV: "production", BETTER_AUTH_SECRET: secret, BETTER_AUTH_URL: "http://plant.example", DATABASE_FILE: tmp() })).toThrow(/https/);
+    expect(() => loadEnv({ NODE_ENV: "production", BETTER_AUTH_SECRET: secret, BETTER_AUTH_URL: "http://plant.example", DATABASE_FILE: tmp() })).toThrow(
+      /https/,
+    );
     const ok = loadEnv({ NODE_ENV: "production", BETTER_AUTH_SECRET: secret, BETTER_AUTH_URL: "https://plant.example", DATABASE_FILE: tmp() });
     expect(ok.BETTER_AUTH_URL).toBe("https://plant.example");
   });

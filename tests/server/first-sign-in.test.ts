@@ -22,13 +22,22 @@ beforeAll(async () => {
 afterAll(() => t?.close());
 
 const O = () => t.env.BETTER_AUTH_URL;
-const one = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).pluck().get(...a);
+const one = (sql: string, ...a: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...a);
 const outboxTo = (email: string) =>
-  t.db.$client.prepare("select kind, status, subject from email_outbox where to_addresses = ? order by id").all(email) as { kind: string; status: string; subject: string }[];
+  t.db.$client.prepare("select kind, status, subject from email_outbox where to_addresses = ? order by id").all(email) as {
+    kind: string;
+    status: string;
+    subject: string;
+  }[];
 const receivedBy = (email: string) =>
   t.db.$client.prepare("select subject, text_body from mail_received where envelope_to = ? order by id").all(email) as { subject: string; text_body: string }[];
 const mustChange = (email: string) => one("select must_change_password from user where email = ?", email);
-const listed = async (email: string) => ((await admin.get("/api/admin/users")).body.users as { email: string; firstSignIn: string | null }[]).find((u) => u.email === email);
+const listed = async (email: string) =>
+  ((await admin.get("/api/admin/users")).body.users as { email: string; firstSignIn: string | null }[]).find((u) => u.email === email);
 
 async function signIn(email: string, password: string) {
   const res = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O()).send({ email, password });
@@ -45,7 +54,10 @@ describe("an account with a first password set by the administrator", () => {
   let id: string;
 
   it("when the admin creates it with a first password, then 201 says so, the person must change it, and no mail at all is queued or sent", async () => {
-    const res = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Ravi First (demo)", email, roles: ["quality"], firstSignIn: "first_password", password: FIRST });
+    const res = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Ravi First (demo)", email, roles: ["quality"], firstSignIn: "first_password", password: FIRST });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ email, roles: ["quality"], active: true, firstSignIn: "first_password", invitationQueued: null });
     id = res.body.id;
@@ -74,7 +86,16 @@ describe("an account with a first password set by the administrator", () => {
     expect(heats.body).toEqual({ error: { code: "password_change_required", message: PASSWORD_CHANGE_REQUIRED, details: { changeAt: "/change-password" } } });
 
     const slab = one("select slab_id from slabs order by id limit 1") as string;
-    const post = await as(cookie).post("/api/defects", { slab_id: slab, type_code: "SLG", face: "inner", position_along_mm: 100, position_across_mm: 100, severity: 1, disposition: "accept", client_key: "first-pw-gate-1" });
+    const post = await as(cookie).post("/api/defects", {
+      slab_id: slab,
+      type_code: "SLG",
+      face: "inner",
+      position_along_mm: 100,
+      position_across_mm: 100,
+      severity: 1,
+      disposition: "accept",
+      client_key: "first-pw-gate-1",
+    });
     expect(post.status).toBe(403);
     expect(post.body.error.code).toBe("password_change_required");
     expect(one("select count(*) from defects where client_key = 'first-pw-gate-1'")).toBe(0);
@@ -107,7 +128,9 @@ describe("an account with a first password set by the administrator", () => {
     const same = await as(cookie).post("/api/me/password", { currentPassword: FIRST, newPassword: FIRST });
     expect(same.status).toBe(400);
     expect(same.body.error.code).toBe("validation_failed");
-    expect(same.body.error.details).toEqual([expect.objectContaining({ path: "newPassword", message: "Choose a password different from the one you have now." })]);
+    expect(same.body.error.details).toEqual([
+      expect.objectContaining({ path: "newPassword", message: "Choose a password different from the one you have now." }),
+    ]);
     const short = await as(cookie).post("/api/me/password", { currentPassword: FIRST, newPassword: "short" });
     expect(short.status).toBe(400);
     expect(short.body.error.details.map((d: { path: string }) => d.path)).toEqual(["newPassword"]);
@@ -136,7 +159,9 @@ describe("an account with a first password set by the administrator", () => {
 
     expect((await signIn(email, FIRST)).status).toBe(401);
     expect((await signIn(email, "ravi-own-password-1")).status).toBe(200);
-    const audit = JSON.parse(one("select after from audit_log where action = 'user.password.changed' and entity_id = ? order by id desc limit 1", id) as string);
+    const audit = JSON.parse(
+      one("select after from audit_log where action = 'user.password.changed' and entity_id = ? order by id desc limit 1", id) as string,
+    );
     expect(audit).toEqual({ how: "changed", resetLinksRevoked: 0, locksLifted: 0, firstPasswordReplaced: true });
     expect(one("select user_id from audit_log where action = 'user.password.changed' and entity_id = ? order by id desc limit 1", id)).toBe(id);
     expect((await listed(email))?.firstSignIn).toBeNull();
@@ -146,7 +171,10 @@ describe("an account with a first password set by the administrator", () => {
   });
 
   it("when a first password is given without naming the way, then it is the first-password way too (the request shape of before)", async () => {
-    const res = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Lea Shape (demo)", email: "shape@example.test", roles: ["inspector"], password: "handed-over-pw-2" });
+    const res = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Lea Shape (demo)", email: "shape@example.test", roles: ["inspector"], password: "handed-over-pw-2" });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ firstSignIn: "first_password", invitationQueued: null });
     expect(mustChange("shape@example.test")).toBe(1);
@@ -154,12 +182,24 @@ describe("an account with a first password set by the administrator", () => {
   });
 
   it("when the person uses a mailed reset link instead, then the password they chose there also ends the must-change", async () => {
-    const created = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Omar Reset (demo)", email: "reset.way@example.test", roles: ["claims"], firstSignIn: "first_password", password: "handed-over-pw-3" });
+    const created = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Omar Reset (demo)", email: "reset.way@example.test", roles: ["claims"], firstSignIn: "first_password", password: "handed-over-pw-3" });
     expect(created.status).toBe(201);
-    expect((await request(t.app).post("/api/auth/request-password-reset").set("Origin", O()).send({ email: "reset.way@example.test", redirectTo: "/reset-password" })).status).toBe(200);
+    expect(
+      (
+        await request(t.app)
+          .post("/api/auth/request-password-reset")
+          .set("Origin", O())
+          .send({ email: "reset.way@example.test", redirectTo: "/reset-password" })
+      ).status,
+    ).toBe(200);
     // Asked for by the person: a reset message, not an invitation.
     expect(outboxTo("reset.way@example.test").map((m) => m.kind)).toEqual(["password_reset"]);
-    const token = (one("select identifier from verification where value = ? and identifier like 'reset-password:%'", created.body.id) as string).slice("reset-password:".length);
+    const token = (one("select identifier from verification where value = ? and identifier like 'reset-password:%'", created.body.id) as string).slice(
+      "reset-password:".length,
+    );
     expect((await request(t.app).post("/api/auth/reset-password").set("Origin", O()).send({ token, newPassword: "omar-own-password-1" })).status).toBe(200);
     expect(mustChange("reset.way@example.test")).toBe(0);
     const { cookie } = await signIn("reset.way@example.test", "omar-own-password-1");
@@ -167,10 +207,14 @@ describe("an account with a first password set by the administrator", () => {
   });
 
   it(`when the current password is wrong ${MAX_FAILURES} times, then the change is locked from that address, as sign-in is, and the lock is audited`, async () => {
-    await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Guess Lock (demo)", email: "guess.lock@example.test", roles: ["inspector"], password: "handed-over-pw-4" });
+    await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Guess Lock (demo)", email: "guess.lock@example.test", roles: ["inspector"], password: "handed-over-pw-4" });
     const { cookie } = await signIn("guess.lock@example.test", "handed-over-pw-4");
     const statuses: number[] = [];
-    for (let i = 0; i < MAX_FAILURES + 1; i++) statuses.push((await as(cookie).post("/api/me/password", { currentPassword: `guess-number-${i}`, newPassword: "guess-own-password-1" })).status);
+    for (let i = 0; i < MAX_FAILURES + 1; i++)
+      statuses.push((await as(cookie).post("/api/me/password", { currentPassword: `guess-number-${i}`, newPassword: "guess-own-password-1" })).status);
     expect(statuses).toEqual([...Array(MAX_FAILURES).fill(400), 429]);
     const right = await as(cookie).post("/api/me/password", { currentPassword: "handed-over-pw-4", newPassword: "guess-own-password-1" });
     expect(right.status).toBe(429);
@@ -185,13 +229,21 @@ describe("an account with an invitation", () => {
   let id: string;
 
   it("when the admin creates it with an invitation, then 201 says the invitation is queued, exactly one message goes out (the invitation), and there is no password yet", async () => {
-    const res = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Ines Invite (demo)", email, roles: ["process"], firstSignIn: "invitation" });
+    const res = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Ines Invite (demo)", email, roles: ["process"], firstSignIn: "invitation" });
     expect(res.status).toBe(201);
     expect(res.body).toMatchObject({ email, roles: ["process"], firstSignIn: "invitation", invitationQueued: true });
     id = res.body.id;
     expect(mustChange(email)).toBe(0);
     expect(one("select count(*) from account where user_id = ?", id)).toBe(0);
-    expect(JSON.parse(one("select after from audit_log where action = 'user.create' and entity_id = ?", id) as string)).toEqual({ name: "Ines Invite (demo)", email, roles: ["process"], firstSignIn: "invitation" });
+    expect(JSON.parse(one("select after from audit_log where action = 'user.create' and entity_id = ?", id) as string)).toEqual({
+      name: "Ines Invite (demo)",
+      email,
+      roles: ["process"],
+      firstSignIn: "invitation",
+    });
     expect((await listed(email))?.firstSignIn).toBe("invitation");
     // No password: nothing signs in before the person chose one.
     expect((await signIn(email, "any-guess-at-all")).status).toBe(401);
@@ -216,12 +268,19 @@ describe("an account with an invitation", () => {
     expect((await as(cookie).get("/api/me")).body).toEqual({ id, name: "Ines Invite (demo)", email, roles: ["process"] });
     expect((await as(cookie).get("/api/import/runs")).status).toBe(200);
     expect((await listed(email))?.firstSignIn).toBeNull();
-    expect(JSON.parse(one("select after from audit_log where action = 'user.password.changed' and entity_id = ?", id) as string)).toEqual({ how: "reset", resetLinksRevoked: 0, locksLifted: 0 });
+    expect(JSON.parse(one("select after from audit_log where action = 'user.password.changed' and entity_id = ?", id) as string)).toEqual({
+      how: "reset",
+      resetLinksRevoked: 0,
+      locksLifted: 0,
+    });
   });
 
   it("when a password is given without naming the way, then the account is made the first-password way and no invitation is sent", async () => {
     const before = one("select count(*) from email_outbox where kind = 'invitation'");
-    await admin.post("/api/admin/users").set("Origin", O()).send({ name: "No Mail (demo)", email: "no.mail@example.test", roles: ["inspector"], password: "handed-over-pw-5" });
+    await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "No Mail (demo)", email: "no.mail@example.test", roles: ["inspector"], password: "handed-over-pw-5" });
     expect(one("select count(*) from email_outbox where kind = 'invitation'")).toBe(before);
   });
 });
@@ -230,13 +289,26 @@ describe("one way only", () => {
   it("when an invitation is asked for with a first password too, or a first password is asked for without one, then 400 names the password and nothing is written", async () => {
     const users = one("select count(*) from user");
     const mails = one("select count(*) from email_outbox");
-    const both = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Both Ways", email: "both@example.test", roles: ["inspector"], firstSignIn: "invitation", password: "handed-over-pw-6" });
+    const both = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Both Ways", email: "both@example.test", roles: ["inspector"], firstSignIn: "invitation", password: "handed-over-pw-6" });
     expect(both.status).toBe(400);
-    expect(both.body.error.details).toEqual([expect.objectContaining({ path: "password", message: "With an invitation the person chooses their own password: leave the first password out." })]);
-    const none = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "No Password", email: "none@example.test", roles: ["inspector"], firstSignIn: "first_password" });
+    expect(both.body.error.details).toEqual([
+      expect.objectContaining({ path: "password", message: "With an invitation the person chooses their own password: leave the first password out." }),
+    ]);
+    const none = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "No Password", email: "none@example.test", roles: ["inspector"], firstSignIn: "first_password" });
     expect(none.status).toBe(400);
-    expect(none.body.error.details).toEqual([expect.objectContaining({ path: "password", message: "Give the first password, or send an invitation instead." })]);
-    const unknown = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Odd Way", email: "odd@example.test", roles: ["inspector"], firstSignIn: "both" });
+    expect(none.body.error.details).toEqual([
+      expect.objectContaining({ path: "password", message: "Give the first password, or send an invitation instead." }),
+    ]);
+    const unknown = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Odd Way", email: "odd@example.test", roles: ["inspector"], firstSignIn: "both" });
     expect(unknown.status).toBe(400);
     expect(unknown.body.error.details.map((d: { path: string }) => d.path)).toEqual(["firstSignIn"]);
     expect(one("select count(*) from user")).toBe(users);

@@ -94,9 +94,10 @@ function inspect(schema: z.ZodType): Info {
   let nullable = false;
   for (;;) {
     const d = def(s);
-    if (d.type === "optional" || d.type === "default" || d.type === "prefault") (optional = true), (s = d.innerType);
-    else if (d.type === "nullable") (nullable = true), (s = d.innerType);
-    else if (d.type === "pipe") s = d.in; // a transform: what the client sends is the input side
+    if (d.type === "optional" || d.type === "default" || d.type === "prefault") ((optional = true), (s = d.innerType));
+    else if (d.type === "nullable") ((nullable = true), (s = d.innerType));
+    else if (d.type === "pipe")
+      s = d.in; // a transform: what the client sends is the input side
     else if (d.type === "readonly" || d.type === "catch") s = d.innerType;
     else break;
   }
@@ -138,15 +139,37 @@ const json = (v: unknown) => JSON.stringify(v).replaceAll(`"${INF}"`, "1e309");
 /** Values of the wrong JSON type for a field of this kind (each one a type the field cannot take). */
 function wrongTypes(info: Info): { label: string; value: unknown }[] {
   const w: Record<Kind, { label: string; value: unknown }[]> = {
-    string: [{ label: "a number", value: 12345 }, { label: "an array", value: ["text"] }],
-    number: [{ label: "a numeric string", value: "12" }, { label: "a boolean", value: true }],
-    boolean: [{ label: "the string yes", value: "yes" }, { label: "the number 1", value: 1 }],
+    string: [
+      { label: "a number", value: 12345 },
+      { label: "an array", value: ["text"] },
+    ],
+    number: [
+      { label: "a numeric string", value: "12" },
+      { label: "a boolean", value: true },
+    ],
+    boolean: [
+      { label: "the string yes", value: "yes" },
+      { label: "the number 1", value: 1 },
+    ],
     enum: [{ label: "a number", value: 7 }],
     literal: [{ label: "a number", value: 7 }],
-    union: [{ label: "a string", value: "x" }, { label: "an array", value: [1] }],
-    array: [{ label: "a string", value: "x" }, { label: "an object", value: { 0: "a" } }, { label: "an array of objects", value: [{}] }],
-    object: [{ label: "a string", value: "x" }, { label: "an array", value: [1] }],
-    record: [{ label: "a number", value: 5 }, { label: "a string", value: "x" }],
+    union: [
+      { label: "a string", value: "x" },
+      { label: "an array", value: [1] },
+    ],
+    array: [
+      { label: "a string", value: "x" },
+      { label: "an object", value: { 0: "a" } },
+      { label: "an array of objects", value: [{}] },
+    ],
+    object: [
+      { label: "a string", value: "x" },
+      { label: "an array", value: [1] },
+    ],
+    record: [
+      { label: "a number", value: 5 },
+      { label: "a string", value: "x" },
+    ],
     other: [{ label: "an object", value: { x: 1 } }],
   };
   return [...w[info.kind], ...(info.nullable ? [] : [{ label: "null", value: null }])];
@@ -196,7 +219,7 @@ function absentParams(route: AnyRoute, fx: Fixture): Record<string, string> | nu
   let changed = false;
   for (const [n, s] of Object.entries(shape)) {
     const a = absentParam(s);
-    if (a !== null) (out[n] = a), (changed = true);
+    if (a !== null) ((out[n] = a), (changed = true));
   }
   return changed ? out : null;
 }
@@ -288,12 +311,36 @@ function buildCases() {
         // A read that writes when it succeeds takes its legal hostile queries at an absent record.
         return withQuery(fx.writesOnRead && absent ? absent : url, p.toString());
       };
-      add(route, "query", "an unknown key", "hostile-valid", WHY.queryUnknownKey, () => body(start(route, q((p) => p.set("zz_unknown", "1")))));
+      add(route, "query", "an unknown key", "hostile-valid", WHY.queryUnknownKey, () =>
+        body(
+          start(
+            route,
+            q((p) => p.set("zz_unknown", "1")),
+          ),
+        ),
+      );
       for (const [name, field] of Object.entries(shapeOf(route.query))) {
         const info = inspect(field);
-        const set = (v: string) => () => body(start(route, q((p) => p.set(name, v))));
-        add(route, "query", `${name} given twice (an array)`, "refused", WHY.queryType, () =>
-          body(start(route, q((p) => (p.set(name, "1"), p.append(name, "2"))))),
+        const set = (v: string) => () =>
+          body(
+            start(
+              route,
+              q((p) => p.set(name, v)),
+            ),
+          );
+        add(
+          route,
+          "query",
+          `${name} given twice (an array)`,
+          "refused",
+          WHY.queryType,
+          () =>
+            body(
+              start(
+                route,
+                q((p) => (p.set(name, "1"), p.append(name, "2"))),
+              ),
+            ),
           name,
         );
         if (info.kind === "number") {
@@ -313,15 +360,22 @@ function buildCases() {
     // -- JSON bodies ---------------------------------------------------------------------------
     if (route.access !== "ingest.token") {
       // The body parser runs before any route (GETs included), with or without a body schema.
-      add(route, "malformed-json", '{"a":', "refused", WHY.malformed, () => start(route, withQuery(url, fx.query)).set("Content-Type", "application/json").send('{"a":'));
+      add(route, "malformed-json", '{"a":', "refused", WHY.malformed, () =>
+        start(route, withQuery(url, fx.query)).set("Content-Type", "application/json").send('{"a":'),
+      );
     }
     if (!route.query && route.method === "get") {
       // Reads only: on a write the same request would be a valid one, and write.
       const qs = new URLSearchParams({ ...Object.fromEntries(new URLSearchParams(fx.query ?? "")), [SQL[0]]: SQL[1] }).toString();
       if (fx.writesOnRead) {
         if (!absent) throw new Error(`${key(route)}: writesOnRead needs a record param to aim at`);
-        add(route, "query", "an unknown key with SQL in it, at an absent record", "refused", `${WHY.queryUnknownKey}; ${fx.writesOnRead}, so it is aimed at a record that does not exist`, () =>
-          start(route, withQuery(absent, qs)),
+        add(
+          route,
+          "query",
+          "an unknown key with SQL in it, at an absent record",
+          "refused",
+          `${WHY.queryUnknownKey}; ${fx.writesOnRead}, so it is aimed at a record that does not exist`,
+          () => start(route, withQuery(absent, qs)),
         );
       } else {
         add(route, "query", "an unknown key with SQL in it", "hostile-valid", WHY.queryUnknownKey, () => payload(route, fx, start(route, withQuery(url, qs))));
@@ -329,12 +383,24 @@ function buildCases() {
     }
     if (route.method !== "get" && !route.upload && route.access !== "ingest.token") {
       add(route, "too-large", "a 2.1 MB JSON body", "refused", WHY.tooLarge, () =>
-        start(route, withQuery(url, fx.query)).set("Content-Type", "application/json").send(json({ pad: "x".repeat(2_100_000) })),
+        start(route, withQuery(url, fx.query))
+          .set("Content-Type", "application/json")
+          .send(json({ pad: "x".repeat(2_100_000) })),
       );
     }
     if (route.body && route.access !== "ingest.token") {
-      const post = (body: string, to = url, type = "application/json") => () => start(route, withQuery(to, fx.query)).set("Content-Type", type).send(body);
-      for (const [label, raw] of [["an array", "[1,2]"], ["an empty array", "[]"], ["a string", '"text"'], ["a number", "42"], ["null", "null"], ["true", "true"]] as const) {
+      const post =
+        (body: string, to = url, type = "application/json") =>
+        () =>
+          start(route, withQuery(to, fx.query)).set("Content-Type", type).send(body);
+      for (const [label, raw] of [
+        ["an array", "[1,2]"],
+        ["an empty array", "[]"],
+        ["a string", '"text"'],
+        ["a number", "42"],
+        ["null", "null"],
+        ["true", "true"],
+      ] as const) {
         add(route, "body-type", `the body is ${label}`, "refused", WHY.bodyType, post(raw));
       }
       // Bodies that are not read as JSON leave {}: refused unless {} is a legal body.
@@ -390,11 +456,20 @@ function buildCases() {
           if (absent) {
             add(route, "hostile-text", `${what}, at an absent record`, "refused", WHY.hostileText, post(mutated(v), absent));
           } else if (fx.refuse && !fx.refuse.uses.includes(String(p[0]))) {
-            add(route, "hostile-text", `${what}, with a taken key or an absent reference`, "refused", WHY.hostileText, post(json(setAt(fx.refuse.body(fx.body), p, v))));
+            add(
+              route,
+              "hostile-text",
+              `${what}, with a taken key or an absent reference`,
+              "refused",
+              WHY.hostileText,
+              post(json(setAt(fx.refuse.body(fx.body), p, v))),
+            );
           } else if (key(route) === "POST /causes/bulk") {
             add(route, "hostile-text", `${what}, in a dry run`, "hostile-valid", WHY.bulkDry, post(mutated(v)));
           } else {
-            notSent.push(`${key(route)} ${what}: ${fx.refuse === null ? "nothing makes this write fail after validation" : "this field is the one the refusal uses"}; the text is legal and a real create would write`);
+            notSent.push(
+              `${key(route)} ${what}: ${fx.refuse === null ? "nothing makes this write fail after validation" : "this field is the one the refusal uses"}; the text is legal and a real create would write`,
+            );
           }
         }
       }
@@ -410,15 +485,23 @@ function buildCases() {
       add(route, "multipart-truncated", "a boundary that never closes", "refused", WHY.truncated, () =>
         to()
           .set("Content-Type", `multipart/form-data; boundary=${boundary}`)
-          .send(Buffer.from(`--${boundary}\r\nContent-Disposition: form-data; name="${field}"; filename="a.csv"\r\nContent-Type: text/csv\r\n\r\nheat_no,caster\nH1,CC2\n`)),
+          .send(
+            Buffer.from(
+              `--${boundary}\r\nContent-Disposition: form-data; name="${field}"; filename="a.csv"\r\nContent-Type: text/csv\r\n\r\nheat_no,caster\nH1,CC2\n`,
+            ),
+          ),
       );
       add(route, "multipart-truncated", "headers that never end", "refused", WHY.truncated, () =>
-        to().set("Content-Type", `multipart/form-data; boundary=${boundary}`).send(Buffer.from(`--${boundary}\r\nContent-Disposition: form-data; name="${field}"`)),
+        to()
+          .set("Content-Type", `multipart/form-data; boundary=${boundary}`)
+          .send(Buffer.from(`--${boundary}\r\nContent-Disposition: form-data; name="${field}"`)),
       );
       add(route, "multipart-truncated", "multipart without a boundary", "refused", WHY.truncated, () =>
         to().set("Content-Type", "multipart/form-data").send(Buffer.from("--x\r\n\r\n")),
       );
-      add(route, "multipart-field", "the file under the wrong field name", "refused", WHY.wrongField, () => to().attach("wrong_field", validCsv(), "heats.csv"));
+      add(route, "multipart-field", "the file under the wrong field name", "refused", WHY.wrongField, () =>
+        to().attach("wrong_field", validCsv(), "heats.csv"),
+      );
       const junk = Buffer.from([0x4d, 0x5a, 0x90, 0x00, 0x03, 0x00, 0x00, 0x00, 0x04, 0x00, 0xff, 0xff, 0x00, 0x00, 0xb8]);
       add(route, "multipart-spoofed", "../../../../tmp/evil.jpg holding a DOS executable header", "refused", WHY.spoofed, () =>
         to().attach(field, junk, { filename: "../../../../tmp/evil.jpg", contentType: "image/jpeg" }),
@@ -427,18 +510,28 @@ function buildCases() {
         to().attach(field, Buffer.from("this is not a JPEG\n"), { filename: "../../../../tmp/evil.jpg", contentType: "image/jpeg" }),
       );
       add(route, "multipart-spoofed", "..\\..\\evil.xlsx holding an HTML page", "refused", WHY.spoofed, () =>
-        to().attach(field, Buffer.from("<html><script>alert(1)</script></html>"), { filename: "..\\..\\evil.xlsx", contentType: "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet" }),
+        to().attach(field, Buffer.from("<html><script>alert(1)</script></html>"), {
+          filename: "..\\..\\evil.xlsx",
+          contentType: "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet",
+        }),
       );
       add(route, "multipart-empty", "an empty file", "refused", WHY.empty, () => to().attach(field, Buffer.alloc(0), "empty.csv"));
       add(route, "multipart-empty", "a form with no file", "refused", WHY.noFile, () => to().field("note", "no file here"));
-      add(route, "multipart-empty", "a JSON body instead of a form", "refused", WHY.noFile, () => to().set("Content-Type", "application/json").send(json({ [field]: "x" })));
+      add(route, "multipart-empty", "a JSON body instead of a form", "refused", WHY.noFile, () =>
+        to()
+          .set("Content-Type", "application/json")
+          .send(json({ [field]: "x" })),
+      );
       add(route, "multipart-too-many", "one file more than the route takes", "refused", WHY.tooMany, () => {
         let req = to();
-        for (let i = 0; i < (field === "file" ? 2 : field === "photos" ? 11 : 6); i++) req = req.attach(field, field === "photos" ? tinyPng : validCsv(), `f${i}.csv`);
+        for (let i = 0; i < (field === "file" ? 2 : field === "photos" ? 11 : 6); i++)
+          req = req.attach(field, field === "photos" ? tinyPng : validCsv(), `f${i}.csv`);
         return req;
       });
       if (field === "files") {
-        add(route, "multipart-active-name", "evidence.bat holding plain text", "refused", WHY.activeName, () => to().attach(field, Buffer.from("@echo off\r\n"), "evidence.bat"));
+        add(route, "multipart-active-name", "evidence.bat holding plain text", "refused", WHY.activeName, () =>
+          to().attach(field, Buffer.from("@echo off\r\n"), "evidence.bat"),
+        );
         add(route, "multipart-active-name", "x.svg holding an SVG with an onload script", "refused", WHY.activeName, () =>
           to().attach(field, Buffer.from('<svg xmlns="http://www.w3.org/2000/svg" onload="alert(1)"/>'), "x.svg"),
         );
@@ -458,8 +551,21 @@ function buildCases() {
 
     // -- the level-2 feed ----------------------------------------------------------------------
     if (route.access === "ingest.token") {
-      const feed = (body: string, qs = "", type = "application/json") => () => start(route, withQuery(url, qs)).set("Content-Type", type).send(body);
-      for (const [label, raw] of [["an object", "{}"], ["an object with rows", '{"rows":[]}'], ["a string", '"text"'], ["a number", "42"], ["null", "null"], ["an array of numbers", "[1,2]"], ["an array of null", "[null]"], ["an array of arrays", "[[1]]"], ["an empty array", "[]"]] as const) {
+      const feed =
+        (body: string, qs = "", type = "application/json") =>
+        () =>
+          start(route, withQuery(url, qs)).set("Content-Type", type).send(body);
+      for (const [label, raw] of [
+        ["an object", "{}"],
+        ["an object with rows", '{"rows":[]}'],
+        ["a string", '"text"'],
+        ["a number", "42"],
+        ["null", "null"],
+        ["an array of numbers", "[1,2]"],
+        ["an array of null", "[null]"],
+        ["an array of arrays", "[[1]]"],
+        ["an empty array", "[]"],
+      ] as const) {
         add(route, "body-type", `the body is ${label}`, "refused", WHY.bodyType, feed(raw));
       }
       add(route, "malformed-json", '[{"a":', "refused", WHY.malformed, feed('[{"a":'));
@@ -468,12 +574,21 @@ function buildCases() {
       for (const type of ["text/plain", "application/xml", "application/x-www-form-urlencoded"]) {
         add(route, "content-type", `${type} with a JSON body`, "refused", WHY.contentType, feed(json([baseRow]), "", type));
       }
-      add(route, "multipart-to-json", "a multipart form with a file", "refused", WHY.multipartToJson, () => start(route, url).attach("file", validCsv(), "heats.csv"));
+      add(route, "multipart-to-json", "a multipart form with a file", "refused", WHY.multipartToJson, () =>
+        start(route, url).attach("file", validCsv(), "heats.csv"),
+      );
       const rows = (row: unknown) => json([row]);
       for (const k of ["heat_no", "caster", "grade", "cast_start", "casting_speed_m_min"]) {
         add(route, "missing-field", `a row without ${k}`, "refused", WHY.ingestRows, feed(rows(setAt(baseRow, [k], undefined, true))));
       }
-      for (const [label, v] of [['"NaN"', "NaN"], ["-1e9", -1e9], ["1e309", INF], ['"abc"', "abc"], ["true", true], ["100,000 characters", HUGE_BODY_STRING]] as const) {
+      for (const [label, v] of [
+        ['"NaN"', "NaN"],
+        ["-1e9", -1e9],
+        ["1e309", INF],
+        ['"abc"', "abc"],
+        ["true", true],
+        ["100,000 characters", HUGE_BODY_STRING],
+      ] as const) {
         add(route, "bad-number", `casting_speed_m_min = ${label}`, "refused", WHY.ingestRows, feed(rows({ ...baseRow, casting_speed_m_min: v })));
       }
       add(route, "field-type", "cast_start = not a date", "refused", WHY.ingestRows, feed(rows({ ...baseRow, cast_start: "yesterday" })));
@@ -484,7 +599,9 @@ function buildCases() {
       add(route, "unknown-enum", "an unknown column", "refused", WHY.ingestRows, feed(rows({ ...baseRow, zz_unknown_column: 1 })));
       for (const kind of ["slabs", "process-samples", "products"]) {
         add(route, "missing-field", `${kind}: a row with nothing but an unknown column`, "refused", WHY.ingestRows, () =>
-          start(route, fill(route.path, { kind })).set("Content-Type", "application/json").send(rows({ zz: 1 })),
+          start(route, fill(route.path, { kind }))
+            .set("Content-Type", "application/json")
+            .send(rows({ zz: 1 })),
         );
       }
       for (const k of ["heat_no", "caster", "grade"]) {
@@ -519,7 +636,9 @@ function snapshot() {
     const skip = DIGEST_SKIP_COLUMNS[name] ?? [];
     const lines = (sqlite.prepare(`select * from "${name}"`).raw(false).all() as Record<string, unknown>[]).map((r) => {
       for (const c of skip) delete r[c];
-      return JSON.stringify(r, (_k, v) => (Buffer.isBuffer(v) || v?.type === "Buffer" ? crypto.createHash("sha1").update(Buffer.from(v)).digest("hex") : typeof v === "bigint" ? String(v) : v));
+      return JSON.stringify(r, (_k, v) =>
+        Buffer.isBuffer(v) || v?.type === "Buffer" ? crypto.createHash("sha1").update(Buffer.from(v)).digest("hex") : typeof v === "bigint" ? String(v) : v,
+      );
     });
     digests[name] = crypto.createHash("sha256").update(lines.sort().join("\n")).digest("hex");
   }
@@ -538,7 +657,11 @@ function snapshot() {
 
 // ---------------------------------------------------------------------------------------------
 
-const one = (sql: string, ...args: unknown[]) => t.db.$client.prepare(sql).pluck().get(...args) as any;
+const one = (sql: string, ...args: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...args) as any;
 const run = (sql: string, ...args: unknown[]) => Number(t.db.$client.prepare(sql).run(...args).lastInsertRowid);
 
 beforeAll(async () => {
@@ -551,9 +674,14 @@ beforeAll(async () => {
   const signIn = await admin.post("/api/auth/sign-in/email").set("Origin", origin).send({ email: "admin@demo.test", password: TEST_PASSWORD });
   if (signIn.status !== 200) throw new Error(`sign-in: ${signIn.status}`);
   const sharp = (await import("sharp")).default;
-  tinyPng = await sharp({ create: { width: 8, height: 8, channels: 3, background: "#468" } }).png().toBuffer();
+  tinyPng = await sharp({ create: { width: 8, height: 8, channels: 3, background: "#468" } })
+    .png()
+    .toBuffer();
 
-  const created = await admin.post("/api/admin/tokens").set("Origin", origin).send({ name: "fuzz feed", scopes: ["heats", "slabs", "process-samples", "products"] });
+  const created = await admin
+    .post("/api/admin/tokens")
+    .set("Origin", origin)
+    .send({ name: "fuzz feed", scopes: ["heats", "slabs", "process-samples", "products"] });
   if (created.status !== 201) throw new Error(`token: ${created.status} ${JSON.stringify(created.body)}`);
   token = created.body.token;
 
@@ -562,22 +690,40 @@ beforeAll(async () => {
   const heatNo = one("select heat_no from heats order by id limit 1") as string;
   const slabId = one("select slab_id from slabs order by id limit 1") as string;
   const slabRow = one("select id from slabs order by id limit 1") as number;
-  const defectId = one("select d.id from defects d join user u on u.id = d.created_by where u.email = 'inspector@demo.test' and d.deleted_at is null order by d.id limit 1") as number;
+  const defectId = one(
+    "select d.id from defects d join user u on u.id = d.created_by where u.email = 'inspector@demo.test' and d.deleted_at is null order by d.id limit 1",
+  ) as number;
   const strandId = one("select id from strands order by id limit 1") as number;
   const casterCode = one("select code from casters order by id limit 1") as string;
   const tokenId = run("insert into api_tokens (name, token_hash, prefix) values ('fuzz target', 'fuzz-hash', 'ssk_f')");
-  const savedId = run("insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, 'fuzz', 'overview', 'period=week', 0, 0)", userId("admin"));
+  const savedId = run(
+    "insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, 'fuzz', 'overview', 'period=week', 0, 0)",
+    userId("admin"),
+  );
   run("insert into cause_tags (code, name, group_id) values ('fuzz-tag', 'Fuzz tag', (select id from cause_groups where code = 'process'))");
-  const linkId = run("insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')", defectId);
+  const linkId = run(
+    "insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')",
+    defectId,
+  );
   const inv = run(
     "insert into investigations (ref, title, problem_statement, status, owner_id, opened_at, created_by) values ('INV-FUZZ-1', 'Fuzz', 'Fuzz investigation problem', 'open', ?, ?, ?)",
-    userId("process"), Date.now(), userId("process"),
+    userId("process"),
+    Date.now(),
+    userId("process"),
   );
   const hid = run("insert into investigation_hypotheses (investigation_id, statement) values (?, 'Fuzz hypothesis')", inv);
-  const aid = run("insert into investigation_actions (investigation_id, description, owner_id, due_on) values (?, 'Fuzz action', ?, '2026-12-31')", inv, userId("process"));
-  const claim = run("insert into claims (claim_no, customer, received_on, defect_complained, status) values ('CL-FUZZ-1', 'Fuzz customer', '2026-11-30', 'Slivers', 'new')");
+  const aid = run(
+    "insert into investigation_actions (investigation_id, description, owner_id, due_on) values (?, 'Fuzz action', ?, '2026-12-31')",
+    inv,
+    userId("process"),
+  );
+  const claim = run(
+    "insert into claims (claim_no, customer, received_on, defect_complained, status) values ('CL-FUZZ-1', 'Fuzz customer', '2026-11-30', 'Slivers', 'new')",
+  );
   run("insert into claim_slabs (claim_id, slab_id, linked_via) values (?, ?, 'search')", claim, slabRow);
-  const outboxId = run("insert into email_outbox (kind, from_address, to_addresses, subject, text_body, status, attempts) values ('invitation', 'a@b.test', 'c@d.test', 'Fuzz', 'Body', 'failed', 6)");
+  const outboxId = run(
+    "insert into email_outbox (kind, from_address, to_addresses, subject, text_body, status, attempts) values ('invitation', 'a@b.test', 'c@d.test', 'Fuzz', 'Body', 'failed', 6)",
+  );
   const photoId = "00000000-0000-4000-8000-00000000f001";
   fs.mkdirSync(path.join(t.env.UPLOAD_DIR, "photos"), { recursive: true });
   const webp = await sharp(tinyPng).webp().toBuffer();
@@ -585,19 +731,31 @@ beforeAll(async () => {
   fs.writeFileSync(path.join(t.env.UPLOAD_DIR, "photos", `${photoId}.thumb.jpg`), await sharp(tinyPng).jpeg().toBuffer());
   run(
     "insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256) values (?, ?, ?, 'image/webp', ?, 8, 8, ?, 'x')",
-    photoId, defectId, `photos/${photoId}.webp`, `photos/${photoId}.thumb.jpg`, webp.length,
+    photoId,
+    defectId,
+    `photos/${photoId}.webp`,
+    `photos/${photoId}.thumb.jpg`,
+    webp.length,
   );
   const attachmentId = "00000000-0000-4000-8000-00000000a001";
   fs.mkdirSync(path.join(t.env.UPLOAD_DIR, "attachments"), { recursive: true });
   fs.writeFileSync(path.join(t.env.UPLOAD_DIR, "attachments", attachmentId), "fuzz note\n");
-  run("insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256) values (?, 'investigation', ?, 'note.txt', ?, 'text/plain', 10, 'x')", attachmentId, inv, attachmentId);
+  run(
+    "insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256) values (?, 'investigation', ?, 'note.txt', ?, 'text/plain', 10, 'x')",
+    attachmentId,
+    inv,
+    attachmentId,
+  );
 
   // A risk model version whose training failed: it can be read, and switching it on is refused (409) without a write.
   const riskModelId = run(
-    "insert into risk_models (target_kind, target_code, version, spec, status, error) values ('type', 'SLG', 99, '{\"targetKind\":\"type\",\"targetCode\":\"SLG\",\"conditions\":[],\"categories\":[\"grade_family\"],\"knots\":4}', 'failed', 'Fuzz: not trained')",
+    'insert into risk_models (target_kind, target_code, version, spec, status, error) values (\'type\', \'SLG\', 99, \'{"targetKind":"type","targetCode":"SLG","conditions":[],"categories":["grade_family"],"knots":4}\', \'failed\', \'Fuzz: not trained\')',
   );
   // A live operating window rule to change and retire (every fuzz case on it is refused, so it stays as it is).
-  const windowId = run("insert into operating_windows (name, conditions) values ('Fuzz rule', ?)", JSON.stringify([{ variable: "casting_speed_m_min", op: "above", value: 1.6 }]));
+  const windowId = run(
+    "insert into operating_windows (name, conditions) values ('Fuzz rule', ?)",
+    JSON.stringify([{ variable: "casting_speed_m_min", op: "above", value: 1.6 }]),
+  );
   const id = (v: number | string) => ({ id: String(v) });
   const REPORT_QUERIES: Record<string, string> = {
     overview: "period=week",
@@ -650,8 +808,18 @@ beforeAll(async () => {
     "PATCH /plant/strands/:id": { params: id(strandId), body: { embrPositionMm: 450 } },
     "POST /plant/casters": {
       body: {
-        code: "FZC1", name: "Fuzz caster", worksName: "Fuzz works (invented)",
-        strands: [{ strandNo: 1, moldThicknessMm: 220, moldEffectiveLengthMm: 800, senPortAreaMm2: 6000, embrCalibration: { kind: "linear", teslaPerAmp: 0.0007, offsetT: 0 } }],
+        code: "FZC1",
+        name: "Fuzz caster",
+        worksName: "Fuzz works (invented)",
+        strands: [
+          {
+            strandNo: 1,
+            moldThicknessMm: 220,
+            moldEffectiveLengthMm: 800,
+            senPortAreaMm2: 6000,
+            embrCalibration: { kind: "linear", teslaPerAmp: 0.0007, offsetT: 0 },
+          },
+        ],
       },
       refuse: { body: (b) => ({ ...b, code: casterCode }), uses: ["code"] },
     },
@@ -660,7 +828,16 @@ beforeAll(async () => {
     "POST /plant/grades": { body: { code: "FZG", name: "Fuzz grade", familyCode: "LC" }, refuse: { body: (b) => ({ ...b, code: "LV-DQ10" }), uses: ["code"] } },
     "PATCH /plant/grades/:code": { params: { code: "LV-DQ10" }, body: { name: "Drawing quality" } },
     "POST /defects": {
-      body: { slab_id: slabId, type_code: "SLG", face: "inner", position_along_mm: 100, position_across_mm: 100, severity: 1, disposition: "accept", client_key: "fuzz-key-0001" },
+      body: {
+        slab_id: slabId,
+        type_code: "SLG",
+        face: "inner",
+        position_along_mm: 100,
+        position_across_mm: 100,
+        severity: 1,
+        disposition: "accept",
+        client_key: "fuzz-key-0001",
+      },
       refuse: { body: (b) => ({ ...b, slab_id: "FUZZ-NO-SLAB" }), uses: ["slab_id"] },
     },
     "GET /defects": { query: "pageSize=5" },
@@ -673,7 +850,10 @@ beforeAll(async () => {
     "GET /photos/:id/thumb": { params: id(photoId) },
     "DELETE /photos/:id": { params: id(photoId) },
     "GET /defect-types": { query: "includeRetired=true" },
-    "POST /defect-types": { body: { code: "FZT", name: "Fuzz type", categoryCode: "SURFACE" }, refuse: { body: (b) => ({ ...b, code: "SCB" }), uses: ["code"] } },
+    "POST /defect-types": {
+      body: { code: "FZT", name: "Fuzz type", categoryCode: "SURFACE" },
+      refuse: { body: (b) => ({ ...b, code: "SCB" }), uses: ["code"] },
+    },
     "PATCH /defect-types/:code": { params: { code: "SCB" }, body: { name: "Scab" } },
     "POST /defect-categories": { body: { code: "FZCAT", name: "Fuzz category" }, refuse: { body: (b) => ({ ...b, code: "SURFACE" }), uses: ["code"] } },
     "PATCH /defect-categories/:code": { params: { code: "SURFACE" }, body: { name: "Surface" } },
@@ -681,14 +861,26 @@ beforeAll(async () => {
     "GET /saved-reports": {},
     "POST /saved-reports": { body: { name: "fuzz report", reportKind: "overview", query: "period=week" }, refuse: null },
     "DELETE /saved-reports/:id": { params: id(savedId) },
-    ...Object.fromEntries(Object.entries(REPORT_QUERIES).flatMap(([kind, query]) => [[`GET /reports/${kind}`, { query }], [`GET /reports/${kind}.xlsx`, { query }]])),
+    ...Object.fromEntries(
+      Object.entries(REPORT_QUERIES).flatMap(([kind, query]) => [
+        [`GET /reports/${kind}`, { query }],
+        [`GET /reports/${kind}.xlsx`, { query }],
+      ]),
+    ),
     "GET /cause-tags": { query: "includeRetired=true" },
-    "POST /cause-tags": { body: { code: "fuzz-new-tag", name: "Fuzz new tag", group: "equipment" }, refuse: { body: (b) => ({ ...b, code: "sen-clogging" }), uses: ["code"] } },
+    "POST /cause-tags": {
+      body: { code: "fuzz-new-tag", name: "Fuzz new tag", group: "equipment" },
+      refuse: { body: (b) => ({ ...b, code: "sen-clogging" }), uses: ["code"] },
+    },
     "PATCH /cause-tags/:code": { params: { code: "fuzz-tag" }, body: { name: "Fuzz renamed" } },
     "DELETE /cause-tags/:code": { params: { code: "fuzz-tag" } },
     "GET /defects/:id/causes": { params: id(defectId) },
     "POST /defects/:id/causes": { params: id(defectId), body: { tags: ["sen-clogging"], confidence: "suspected" } },
-    "DELETE /defects/:id/causes/:linkId": { params: { id: String(defectId), linkId: String(linkId) }, body: { reason: "fuzz" }, emptyBodyOk: "the reason is optional" },
+    "DELETE /defects/:id/causes/:linkId": {
+      params: { id: String(defectId), linkId: String(linkId) },
+      body: { reason: "fuzz" },
+      emptyBodyOk: "the reason is optional",
+    },
     "POST /causes/bulk": { body: { selection: { kind: "heat", heatNo }, tags: ["ladle-change"], confidence: "suspected", dryRun: true } },
     "GET /investigations": { query: "status=active" },
     "GET /investigations/people": {},
@@ -738,7 +930,13 @@ beforeAll(async () => {
     "GET /risk/slabs": { query: "uninspected=true" },
     "GET /operating-windows": { query: "includeRetired=false" },
     "POST /operating-windows": {
-      body: { name: "Fuzz window", familyCode: "LC", target: { kind: "type", code: "SLG" }, conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.6 }], note: "Fuzz." },
+      body: {
+        name: "Fuzz window",
+        familyCode: "LC",
+        target: { kind: "type", code: "SLG" },
+        conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.6 }],
+        note: "Fuzz.",
+      },
       refuse: { body: (b) => ({ ...b, familyCode: "FUZZ-NO-FAMILY" }), uses: ["familyCode"] },
     },
     "PATCH /operating-windows/:id": { params: id(windowId), body: { note: "Fuzz changed." } },
@@ -758,45 +956,56 @@ describe("bad-input fuzz", () => {
     expect(routes().map(key).sort()).toEqual(Object.keys(fixtures).sort());
   });
 
-  it("when every route gets malformed requests, then each is refused with a 4xx error envelope (or, if legal, answered without a 5xx) and nothing is written", { timeout: 180_000 }, async () => {
-    buildCases();
-    const before = snapshot();
-    const failures: string[] = [];
-    for (const c of cases) {
-      const res = await c.send();
-      results.push({ c, status: res.status });
-      const what = `${c.route} [${c.kind}] ${c.what} → ${res.status} ${String(res.headers["content-type"])} ${JSON.stringify(res.body).slice(0, 160)}`;
-      const isJson = /^application\/json/.test(String(res.headers["content-type"] ?? ""));
-      const envelope = isJson && typeof res.body?.error?.code === "string" && typeof res.body?.error?.message === "string";
-      const named = (res.body?.error?.details ?? []) as { path?: string }[];
-      if (res.status >= 500) failures.push(`5xx: ${what}`);
-      else if (c.expect === "refused" && (res.status < 400 || res.status > 499)) failures.push(`not refused: ${what}`);
-      else if (res.status >= 400 && !envelope) failures.push(`no error envelope: ${what}`);
-      else if (c.field && (res.status !== 400 || res.body.error.code !== "validation_failed" || !named.some((d) => d.path === c.field || d.path?.startsWith(`${c.field}.`)))) {
-        failures.push(`refused, but not by the schema for ${c.field}: ${what}`);
+  it(
+    "when every route gets malformed requests, then each is refused with a 4xx error envelope (or, if legal, answered without a 5xx) and nothing is written",
+    { timeout: 180_000 },
+    async () => {
+      buildCases();
+      const before = snapshot();
+      const failures: string[] = [];
+      for (const c of cases) {
+        const res = await c.send();
+        results.push({ c, status: res.status });
+        const what = `${c.route} [${c.kind}] ${c.what} → ${res.status} ${String(res.headers["content-type"])} ${JSON.stringify(res.body).slice(0, 160)}`;
+        const isJson = /^application\/json/.test(String(res.headers["content-type"] ?? ""));
+        const envelope = isJson && typeof res.body?.error?.code === "string" && typeof res.body?.error?.message === "string";
+        const named = (res.body?.error?.details ?? []) as { path?: string }[];
+        if (res.status >= 500) failures.push(`5xx: ${what}`);
+        else if (c.expect === "refused" && (res.status < 400 || res.status > 499)) failures.push(`not refused: ${what}`);
+        else if (res.status >= 400 && !envelope) failures.push(`no error envelope: ${what}`);
+        else if (
+          c.field &&
+          (res.status !== 400 || res.body.error.code !== "validation_failed" || !named.some((d) => d.path === c.field || d.path?.startsWith(`${c.field}.`)))
+        ) {
+          failures.push(`refused, but not by the schema for ${c.field}: ${what}`);
+        } else if (res.status < 400) {
+          const route = routes().find((r) => key(r) === c.route)!;
+          const declared = Object.values(route.responses).find((r) => r.contentType)?.contentType;
+          const ct = String(res.headers["content-type"] ?? "");
+          // application/octet-stream is declared for "the stored file, of its own type": a download.
+          const ok =
+            declared === "application/octet-stream"
+              ? String(res.headers["content-disposition"]).startsWith("attachment")
+              : declared
+                ? ct.startsWith(declared)
+                : isJson;
+          if (!ok) failures.push(`not the declared content type: ${what}`);
+        }
       }
-      else if (res.status < 400) {
-        const route = routes().find((r) => key(r) === c.route)!;
-        const declared = Object.values(route.responses).find((r) => r.contentType)?.contentType;
-        const ct = String(res.headers["content-type"] ?? "");
-        // application/octet-stream is declared for "the stored file, of its own type": a download.
-        const ok = declared === "application/octet-stream" ? String(res.headers["content-disposition"]).startsWith("attachment") : declared ? ct.startsWith(declared) : isJson;
-        if (!ok) failures.push(`not the declared content type: ${what}`);
-      }
-    }
-    const after = snapshot();
-    expect(failures).toEqual([]);
-    expect(after.counts).toEqual(before.counts);
-    expect(after.digests).toEqual(before.digests);
-    expect(after.files).toEqual(before.files);
-    // A parsed "__proto__" key must not have reached Object.prototype.
-    expect(({} as Record<string, unknown>).polluted).toBeUndefined();
+      const after = snapshot();
+      expect(failures).toEqual([]);
+      expect(after.counts).toEqual(before.counts);
+      expect(after.digests).toEqual(before.digests);
+      expect(after.files).toEqual(before.files);
+      // A parsed "__proto__" key must not have reached Object.prototype.
+      expect(({} as Record<string, unknown>).polluted).toBeUndefined();
 
-    const refused = cases.filter((c) => c.expect === "refused").length;
-    expect(refused).toBeGreaterThanOrEqual(500);
-    // Every served route got at least one case.
-    expect(new Set(cases.map((c) => c.route))).toEqual(new Set(routes().map(key)));
-  });
+      const refused = cases.filter((c) => c.expect === "refused").length;
+      expect(refused).toBeGreaterThanOrEqual(500);
+      // Every served route got at least one case.
+      expect(new Set(cases.map((c) => c.route))).toEqual(new Set(routes().map(key)));
+    },
+  );
 });
 
 afterAll(() => {
@@ -824,65 +1033,103 @@ afterAll(() => {
 // ---------------------------------------------------------------------------------------------
 
 describe("bad-input fuzz: the sign-in endpoints", () => {
-  it("when the open sign-in endpoints get hostile bodies, then each answers a 4xx in the error envelope (never a 5xx) and nothing is written", { timeout: 60_000 }, async () => {
-    // Anonymous, so no hostile sign-out ends a session; e-mails that exist nowhere, so no mail goes
-    // out; at most four wrong passwords per address and e-mail, so no lock (and its audit row) is made.
-    const OPEN: { path: string; body: Record<string, unknown> }[] = [
-      { path: "/api/auth/sign-in/email", body: { email: "fuzz-nobody@example.test", password: "fuzz-wrong-password" } },
-      { path: "/api/auth/sign-out", body: {} },
-      { path: "/api/auth/request-password-reset", body: { email: "fuzz-nobody@example.test", redirectTo: "/reset-password" } },
-      { path: "/api/auth/reset-password", body: { token: "FuzzNoSuchToken1", newPassword: "fuzz-long-password" } },
-    ];
-    const nested = (n: number) => "[".repeat(n) + "]".repeat(n);
-    const authCases: { what: string; expect: Expect; send: () => request.Test }[] = [];
-    const post = (path: string, raw: string, type = "application/json") => () => request(server).post(path).set("Origin", origin).set("Content-Type", type).send(raw);
-    for (const { path, body } of OPEN) {
-      const add = (what: string, raw: string, expect: Expect = "refused", type?: string) => authCases.push({ what: `${path} ${what}`, expect, send: post(path, raw, type) });
-      for (const [label, raw] of [["an array", "[1,2]"], ["a string", '"text"'], ["a number", "42"], ["null", "null"], ["malformed", '{"email":']] as const) add(`the body is ${label}`, raw);
-      add("a 100,000-character body", json({ ...body, pad: HUGE_BODY_STRING }));
-      add("5,000 nested arrays", `{"pad":${nested(5_000)}}`);
-      add("text/plain", json(body), "refused", "text/plain");
-      add("__proto__ and constructor keys", '{"__proto__":{"polluted":true},"constructor":{"prototype":{"polluted":true}},' + json(body).slice(1), path.endsWith("/sign-in/email") || path.endsWith("/reset-password") ? "refused" : "hostile-valid");
-      for (const field of Object.keys(body)) {
-        for (const [label, value] of [["an object", { x: 1 }], ["an array", ["a"]], ["a number", 12345], ["null", null], ["true", true]] as const) {
-          add(`${field} = ${label}`, json({ ...body, [field]: value }));
+  it(
+    "when the open sign-in endpoints get hostile bodies, then each answers a 4xx in the error envelope (never a 5xx) and nothing is written",
+    { timeout: 60_000 },
+    async () => {
+      // Anonymous, so no hostile sign-out ends a session; e-mails that exist nowhere, so no mail goes
+      // out; at most four wrong passwords per address and e-mail, so no lock (and its audit row) is made.
+      const OPEN: { path: string; body: Record<string, unknown> }[] = [
+        { path: "/api/auth/sign-in/email", body: { email: "fuzz-nobody@example.test", password: "fuzz-wrong-password" } },
+        { path: "/api/auth/sign-out", body: {} },
+        { path: "/api/auth/request-password-reset", body: { email: "fuzz-nobody@example.test", redirectTo: "/reset-password" } },
+        { path: "/api/auth/reset-password", body: { token: "FuzzNoSuchToken1", newPassword: "fuzz-long-password" } },
+      ];
+      const nested = (n: number) => "[".repeat(n) + "]".repeat(n);
+      const authCases: { what: string; expect: Expect; send: () => request.Test }[] = [];
+      const post =
+        (path: string, raw: string, type = "application/json") =>
+        () =>
+          request(server).post(path).set("Origin", origin).set("Content-Type", type).send(raw);
+      for (const { path, body } of OPEN) {
+        const add = (what: string, raw: string, expect: Expect = "refused", type?: string) =>
+          authCases.push({ what: `${path} ${what}`, expect, send: post(path, raw, type) });
+        for (const [label, raw] of [
+          ["an array", "[1,2]"],
+          ["a string", '"text"'],
+          ["a number", "42"],
+          ["null", "null"],
+          ["malformed", '{"email":'],
+        ] as const)
+          add(`the body is ${label}`, raw);
+        add("a 100,000-character body", json({ ...body, pad: HUGE_BODY_STRING }));
+        add("5,000 nested arrays", `{"pad":${nested(5_000)}}`);
+        add("text/plain", json(body), "refused", "text/plain");
+        add(
+          "__proto__ and constructor keys",
+          '{"__proto__":{"polluted":true},"constructor":{"prototype":{"polluted":true}},' + json(body).slice(1),
+          path.endsWith("/sign-in/email") || path.endsWith("/reset-password") ? "refused" : "hostile-valid",
+        );
+        for (const field of Object.keys(body)) {
+          for (const [label, value] of [
+            ["an object", { x: 1 }],
+            ["an array", ["a"]],
+            ["a number", 12345],
+            ["null", null],
+            ["true", true],
+          ] as const) {
+            add(`${field} = ${label}`, json({ ...body, [field]: value }));
+          }
+          add(`${field} = 100,000 characters`, json({ ...body, [field]: HUGE_BODY_STRING }));
+          add(
+            `${field} = 5,000 nested arrays`,
+            `{${Object.entries(body)
+              .map(([k, v]) => `${JSON.stringify(k)}:${k === field ? nested(5_000) : JSON.stringify(v)}`)
+              .join(",")}}`,
+          );
         }
-        add(`${field} = 100,000 characters`, json({ ...body, [field]: HUGE_BODY_STRING }));
-        add(`${field} = 5,000 nested arrays`, `{${Object.entries(body).map(([k, v]) => `${JSON.stringify(k)}:${k === field ? nested(5_000) : JSON.stringify(v)}`).join(",")}}`);
+        if (path.endsWith("/sign-out"))
+          add(
+            "an object with unknown keys (sign-out reads no body: it answers as always)",
+            json({ email: SQL[0], everything: [TRAVERSAL, UNICODE] }),
+            "hostile-valid",
+          );
       }
-      if (path.endsWith("/sign-out")) add("an object with unknown keys (sign-out reads no body: it answers as always)", json({ email: SQL[0], everything: [TRAVERSAL, UNICODE] }), "hostile-valid");
-    }
-    // The mailed link.
-    for (const [label, p] of [
-      ["a 5,000-character token", `/api/auth/reset-password/${"A".repeat(5_000)}?callbackURL=%2Freset-password`],
-      ["a traversal token", "/api/auth/reset-password/..%2F..%2Fetc%2Fpasswd?callbackURL=%2Freset-password"],
-      ["an SQL token", `/api/auth/reset-password/${encodeURIComponent(SQL[0])}?callbackURL=%2Freset-password`],
-      ["a foreign callback", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=https%3A%2F%2Fevil.example%2F"],
-      ["a javascript: callback", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=javascript%3Aalert(1)"],
-      ["no callback", "/api/auth/reset-password/FuzzNoSuchToken1"],
-      ["the callback twice", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=%2Freset-password&callbackURL=%2Fx"],
-    ] as const) {
-      authCases.push({ what: `GET reset link with ${label}`, expect: "refused", send: () => request(server).get(p).set("Origin", origin) });
-    }
+      // The mailed link.
+      for (const [label, p] of [
+        ["a 5,000-character token", `/api/auth/reset-password/${"A".repeat(5_000)}?callbackURL=%2Freset-password`],
+        ["a traversal token", "/api/auth/reset-password/..%2F..%2Fetc%2Fpasswd?callbackURL=%2Freset-password"],
+        ["an SQL token", `/api/auth/reset-password/${encodeURIComponent(SQL[0])}?callbackURL=%2Freset-password`],
+        ["a foreign callback", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=https%3A%2F%2Fevil.example%2F"],
+        ["a javascript: callback", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=javascript%3Aalert(1)"],
+        ["no callback", "/api/auth/reset-password/FuzzNoSuchToken1"],
+        ["the callback twice", "/api/auth/reset-password/FuzzNoSuchToken1?callbackURL=%2Freset-password&callbackURL=%2Fx"],
+      ] as const) {
+        authCases.push({ what: `GET reset link with ${label}`, expect: "refused", send: () => request(server).get(p).set("Origin", origin) });
+      }
 
-    const before = snapshot();
-    const failures: string[] = [];
-    const statuses: Record<string, number> = {};
-    for (const c of authCases) {
-      const res = await c.send();
-      statuses[res.status] = (statuses[res.status] ?? 0) + 1;
-      const what = `${c.what} → ${res.status} ${JSON.stringify(res.body).slice(0, 160)}`;
-      const envelope = /^application\/json/.test(String(res.headers["content-type"] ?? "")) && typeof res.body?.error?.code === "string" && typeof res.body?.error?.message === "string";
-      if (res.status >= 500) failures.push(`5xx: ${what}`);
-      else if (c.expect === "refused" && (res.status < 400 || res.status > 499)) failures.push(`not refused: ${what}`);
-      else if (res.status >= 400 && !envelope) failures.push(`no error envelope: ${what}`);
-    }
-    const after = snapshot();
-    expect(failures).toEqual([]);
-    expect(after.counts).toEqual(before.counts);
-    expect(after.digests).toEqual(before.digests);
-    expect(({} as Record<string, unknown>).polluted).toBeUndefined();
-    expect(authCases.length).toBeGreaterThanOrEqual(80);
-    console.log(`fuzz, sign-in endpoints: ${authCases.length} cases; by status ${JSON.stringify(statuses)}`);
-  });
+      const before = snapshot();
+      const failures: string[] = [];
+      const statuses: Record<string, number> = {};
+      for (const c of authCases) {
+        const res = await c.send();
+        statuses[res.status] = (statuses[res.status] ?? 0) + 1;
+        const what = `${c.what} → ${res.status} ${JSON.stringify(res.body).slice(0, 160)}`;
+        const envelope =
+          /^application\/json/.test(String(res.headers["content-type"] ?? "")) &&
+          typeof res.body?.error?.code === "string" &&
+          typeof res.body?.error?.message === "string";
+        if (res.status >= 500) failures.push(`5xx: ${what}`);
+        else if (c.expect === "refused" && (res.status < 400 || res.status > 499)) failures.push(`not refused: ${what}`);
+        else if (res.status >= 400 && !envelope) failures.push(`no error envelope: ${what}`);
+      }
+      const after = snapshot();
+      expect(failures).toEqual([]);
+      expect(after.counts).toEqual(before.counts);
+      expect(after.digests).toEqual(before.digests);
+      expect(({} as Record<string, unknown>).polluted).toBeUndefined();
+      expect(authCases.length).toBeGreaterThanOrEqual(80);
+      console.log(`fuzz, sign-in endpoints: ${authCases.length} cases; by status ${JSON.stringify(statuses)}`);
+    },
+  );
 });

@@ -13,7 +13,19 @@ describe("the compact cell store", () => {
   it("when every kind of cell is stored, then each comes back as it went in, and a row reads empty past its last cell", () => {
     const when = new Date(Date.UTC(2026, 10, 3, 14, 20));
     const row: (Cell | undefined)[] = [
-      3.25, -17, 0, "B000001", "", true, false, 46023.5, null, undefined, { formulaWithoutValue: true }, { cellError: "#REF!" }, when,
+      3.25,
+      -17,
+      0,
+      "B000001",
+      "",
+      true,
+      false,
+      46023.5,
+      null,
+      undefined,
+      { formulaWithoutValue: true },
+      { cellError: "#REF!" },
+      when,
     ];
     const store = new CellStore();
     store.push(2, row);
@@ -21,7 +33,21 @@ describe("the compact cell store", () => {
     store.push(7, [], "This item is not an object with the import's keys.");
 
     expect(store.length).toBe(3);
-    expect(store.cells(0)).toEqual([3.25, -17, 0, "B000001", "", true, false, 46023.5, null, null, { formulaWithoutValue: true }, { cellError: "#REF!" }, when]);
+    expect(store.cells(0)).toEqual([
+      3.25,
+      -17,
+      0,
+      "B000001",
+      "",
+      true,
+      false,
+      46023.5,
+      null,
+      null,
+      { formulaWithoutValue: true },
+      { cellError: "#REF!" },
+      when,
+    ]);
     expect(store.cell(0, 12)).toBe(when);
     expect([store.rowNo(0), store.rowNo(1), store.rowNo(2)]).toEqual([2, 5, 7]);
     expect([store.width(0), store.width(1), store.width(2)]).toEqual([13, 2, 0]);
@@ -43,7 +69,14 @@ describe("the compact cell store", () => {
     expect(store.length).toBe(rows);
     let wrong = 0;
     for (let i = 0; i < rows; i++) {
-      if (store.cell(i, 0) !== `S${i}` || store.cell(i, 1) !== i * 0.5 || store.cell(i, 2) !== (i % 3 === 0) || store.cell(i, 3) !== (i % 7 === 0 ? null : -i) || store.rowNo(i) !== i + 2) wrong++;
+      if (
+        store.cell(i, 0) !== `S${i}` ||
+        store.cell(i, 1) !== i * 0.5 ||
+        store.cell(i, 2) !== (i % 3 === 0) ||
+        store.cell(i, 3) !== (i % 7 === 0 ? null : -i) ||
+        store.rowNo(i) !== i + 2
+      )
+        wrong++;
     }
     expect(wrong).toBe(0);
     // 4 cells a row, 65,536 a page: cell 65,536 is row 16,384's first.
@@ -111,7 +144,11 @@ describe("the checked values by column", () => {
     const body = new CellStore();
     body.push(2, ["H1", "CC2", "LV-ST32", 46023.5, 46023.75, 1.4]);
     const errors = new ErrorList();
-    const { rows } = coerceTable(makeTable({ format: "xlsx", headers: ["heat_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min"], body, decimalComma: false }), "heats", errors);
+    const { rows } = coerceTable(
+      makeTable({ format: "xlsx", headers: ["heat_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min"], body, decimalComma: false }),
+      "heats",
+      errors,
+    );
     expect(errors.list).toEqual([]);
     expect([rows.get(0, "cast_start"), rows.get(0, "cast_end")]).toEqual([Date.UTC(2026, 0, 1, 12), Date.UTC(2026, 0, 1, 18)]);
   });

@@ -21,7 +21,11 @@ beforeAll(async () => {
 afterAll(() => t?.close());
 
 const q = (sql: string, ...args: unknown[]) => t.db.$client.prepare(sql).get(...args) as Record<string, any> | undefined;
-const n = (sql: string, ...args: unknown[]) => t.db.$client.prepare(sql).pluck().get(...args) as number;
+const n = (sql: string, ...args: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...args) as number;
 
 function upload(kind: string, buf: Buffer, name: string, dryRun = false) {
   return process_
@@ -30,7 +34,23 @@ function upload(kind: string, buf: Buffer, name: string, dryRun = false) {
     .attach("file", buf, name);
 }
 
-const HEAT_HEADERS = ["heat_no", "sequence_no", "caster", "grade", "cast_start", "cast_end", "casting_speed_m_min", "tundish_temp_c", "embr_current_a", "sen_depth_mm", "c_pct", "si_pct", "mn_pct", "p_pct", "s_pct"];
+const HEAT_HEADERS = [
+  "heat_no",
+  "sequence_no",
+  "caster",
+  "grade",
+  "cast_start",
+  "cast_end",
+  "casting_speed_m_min",
+  "tundish_temp_c",
+  "embr_current_a",
+  "sen_depth_mm",
+  "c_pct",
+  "si_pct",
+  "mn_pct",
+  "p_pct",
+  "s_pct",
+];
 const heat = (i: number, extra: Partial<Row> = {}): Row => ({
   heat_no: `IMP${String(i).padStart(5, "0")}`,
   sequence_no: `IMPSEQ-${Math.floor(i / 8)}`,
@@ -70,7 +90,14 @@ describe("heats import", () => {
 
   it("when the same file is imported again, then nothing changes and all rows are unchanged", async () => {
     const before = t.db.$client.prepare("select * from heats where heat_no like 'IMP%' order by id").all();
-    const res = await upload("heats", await xlsx(HEAT_HEADERS, [0, 1, 2].map((i) => heat(i))), "heats.xlsx");
+    const res = await upload(
+      "heats",
+      await xlsx(
+        HEAT_HEADERS,
+        [0, 1, 2].map((i) => heat(i)),
+      ),
+      "heats.xlsx",
+    );
     expect(res.status).toBe(201);
     expect(res.body.counts).toEqual({ created: 0, updated: 0, unchanged: 3 });
     expect(t.db.$client.prepare("select * from heats where heat_no like 'IMP%' order by id").all()).toEqual(before);
@@ -120,7 +147,15 @@ describe("heats import", () => {
     const rows: Row[] = [
       { Heat_No: "BAD1", caster: "CC2", grade: "LV-ST32", cast_start: "2026-12-02T10:00:00Z", casting_speed_m_min: 25, colour: "red" },
       { Heat_No: "BAD2", caster: "CC9", grade: "NOPE", cast_start: "tomorrow", casting_speed_m_min: 1.2 },
-      { Heat_No: "BAD3", caster: "CC2", grade: "LV-ST32", cast_start: "2026-12-02T11:00:00Z", casting_speed_m_min: 1.2, tundish_temp_c: 1700, liquidus_c: 1500 },
+      {
+        Heat_No: "BAD3",
+        caster: "CC2",
+        grade: "LV-ST32",
+        cast_start: "2026-12-02T11:00:00Z",
+        casting_speed_m_min: 1.2,
+        tundish_temp_c: 1700,
+        liquidus_c: 1500,
+      },
       { Heat_No: "BAD4", caster: "CC2", grade: "LV-ST32", cast_start: "2026-12-02T12:00:00Z", casting_speed_m_min: 1.2, c_pct: 60, mn_pct: 45 },
       { Heat_No: "BAD1", caster: "CC2", grade: "LV-ST32", cast_start: "2026-12-02T13:00:00Z", casting_speed_m_min: 1.2 },
     ];
@@ -129,7 +164,10 @@ describe("heats import", () => {
     expect(res.body.valid).toBe(false);
     const errs = res.body.errors as { row: number; column: string | null; message: string }[];
     const has = (row: number, column: string | null, text: string) =>
-      expect(errs.some((e) => e.row === row && e.column === column && e.message.includes(text)), `${row} ${column} ${text}\n${JSON.stringify(errs, null, 1)}`).toBe(true);
+      expect(
+        errs.some((e) => e.row === row && e.column === column && e.message.includes(text)),
+        `${row} ${column} ${text}\n${JSON.stringify(errs, null, 1)}`,
+      ).toBe(true);
     has(1, "colour", "Unknown column: colour");
     has(2, "casting_speed_m_min", "25 is outside 0.1–10 m/min");
     has(3, "caster", "Caster CC9 is not set up");
@@ -143,7 +181,9 @@ describe("heats import", () => {
 
   it("when a required column is missing, then one error says which", async () => {
     const res = await upload("heats", await xlsx(["heat_no", "caster", "grade"], [{ heat_no: "X", caster: "CC2", grade: "LV-ST32" }]), "x.xlsx", true);
-    expect(res.body.errors).toEqual([{ row: 1, column: "cast_start, casting_speed_m_min", message: "Missing required columns: cast_start, casting_speed_m_min." }]);
+    expect(res.body.errors).toEqual([
+      { row: 1, column: "cast_start, casting_speed_m_min", message: "Missing required columns: cast_start, casting_speed_m_min." },
+    ]);
   });
 
   it("when cells hold formulas, then their stored values are imported", async () => {
@@ -181,7 +221,9 @@ describe("heats import", () => {
     expect(ours.headers).toEqual(HEAT_HEADERS);
     expect(ours.rows.map((r) => r.rowNo)).toEqual([2, 3, 4]);
     // Dates stay Excel serial numbers in our reader; the import's date columns read them.
-    const asRef = ours.rows.map((r) => r.cells.map((c, i) => (HEAT_HEADERS[i]!.startsWith("cast_") && typeof c === "number" ? new Date(parseDateTime(c) as number) : c)));
+    const asRef = ours.rows.map((r) =>
+      r.cells.map((c, i) => (HEAT_HEADERS[i]!.startsWith("cast_") && typeof c === "number" ? new Date(parseDateTime(c) as number) : c)),
+    );
     expect(asRef.map((r) => r.slice(0, refRows[0]!.length))).toEqual(refRows);
     expect(ours.rows[1]!.cells[HEAT_HEADERS.indexOf("casting_speed_m_min")]).toBe(1.4);
     expect(ours.rows[1]!.cells[HEAT_HEADERS.indexOf("sen_depth_mm")] ?? null).toBeNull();
@@ -198,7 +240,9 @@ describe("heats import", () => {
 
 describe("bad files", () => {
   it("when the file is a PNG named .xlsx, then 415 says it is not a workbook", async () => {
-    const png = await sharp({ create: { width: 4, height: 4, channels: 3, background: "#888" } }).png().toBuffer();
+    const png = await sharp({ create: { width: 4, height: 4, channels: 3, background: "#888" } })
+      .png()
+      .toBuffer();
     const res = await upload("heats", png, "heats.xlsx");
     expect(res.status).toBe(415);
     expect(res.body.error.message).toContain("PNG file, not a workbook");
@@ -262,7 +306,10 @@ describe("telling a workbook from other zip files", () => {
     expect((await fileTypeFromFile(under))?.ext).toBe("xlsx");
     expect((await fileTypeFromFile(over))?.ext, "the case this test is about: file-type no longer says zip for it").toBe("zip");
 
-    for (const [file, count] of [[under, 15_193], [over, 15_194]] as const) {
+    for (const [file, count] of [
+      [under, 15_193],
+      [over, 15_194],
+    ] as const) {
       const table = await readTable(file);
       expect(table.format).toBe("xlsx");
       expect(table.headers).toEqual(HEAT_HEADERS);
@@ -278,7 +325,14 @@ describe("telling a workbook from other zip files", () => {
     const before = n("select count(*) from heats");
     const res = await upload("heats", fs.readFileSync(over), "streamed.xlsx", true);
     expect(res.status, JSON.stringify(res.body).slice(0, 500)).toBe(200);
-    expect(res.body).toMatchObject({ dryRun: true, format: "xlsx", valid: true, rows: 15_194, counts: { created: 15_194, updated: 0, unchanged: 0 }, errorCount: 0 });
+    expect(res.body).toMatchObject({
+      dryRun: true,
+      format: "xlsx",
+      valid: true,
+      rows: 15_194,
+      counts: { created: 15_194, updated: 0, unchanged: 0 },
+      errorCount: 0,
+    });
     expect(n("select count(*) from heats")).toBe(before);
     fs.rmSync(dir, { recursive: true, force: true });
   });
@@ -294,7 +348,11 @@ describe("telling a workbook from other zip files", () => {
       '<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships">' +
       '<Relationship Id="rId1" Type="http://schemas.openxmlformats.org/officeDocument/2006/relationships/worksheet" Target="worksheets/sheet1.xml"/></Relationships>';
     const file = buildZip([
-      { name: "xl/workbook.xml", content: '<workbook xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"><sheets><sheet name="Data" sheetId="1" r:id="rId1"/></sheets></workbook>' },
+      {
+        name: "xl/workbook.xml",
+        content:
+          '<workbook xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"><sheets><sheet name="Data" sheetId="1" r:id="rId1"/></sheets></workbook>',
+      },
       { name: "xl/_rels/workbook.xml.rels", content: rels },
       { name: "xl/worksheets/sheet1.xml", content: sheetXml(["heat_no"], '<row r="2"><c r="A2" t="inlineStr"><is><t>H1</t></is></c></row>') as string },
     ]);
@@ -353,7 +411,17 @@ describe("slabs import and per-slab conditions", () => {
 
   it("when slabs are imported without samples, then the weight is computed and the conditions fall back to the heat", async () => {
     const rows: Row[] = [
-      { slab_id: "imp00000-101", heat_no: "IMP00000", strand: 1, piece_no: 1, length_mm: 10000, width_mm: 1500, thickness_mm: 230, transition: "no", sen_depth_mm: 175 },
+      {
+        slab_id: "imp00000-101",
+        heat_no: "IMP00000",
+        strand: 1,
+        piece_no: 1,
+        length_mm: 10000,
+        width_mm: 1500,
+        thickness_mm: 230,
+        transition: "no",
+        sen_depth_mm: 175,
+      },
       { slab_id: "IMP00000-102", heat_no: "IMP00000", strand: 1, piece_no: 2, length_mm: 9000, width_mm: 1500, thickness_mm: 230, transition: true },
     ];
     const res = await upload("slabs", await xlsx(SLAB_HEADERS, rows), "slabs.xlsx");
@@ -365,7 +433,15 @@ describe("slabs import and per-slab conditions", () => {
     expect(s.weight_t).toBeCloseTo(26.91, 3);
     expect(s.weight_source).toBe("computed");
     const c = q("select * from slab_conditions where slab_id = ?", s.id)!;
-    expect(c).toMatchObject({ casting_speed_m_min: 1.4, casting_speed_source: "heat", embr_current_a: 300, embr_current_source: "heat", sen_depth_mm: 175, sen_depth_source: "slab", sample_count: 0 });
+    expect(c).toMatchObject({
+      casting_speed_m_min: 1.4,
+      casting_speed_source: "heat",
+      embr_current_a: 300,
+      embr_current_source: "heat",
+      sen_depth_mm: 175,
+      sen_depth_source: "slab",
+      sample_count: 0,
+    });
     // Placed by time: piece 2 starts after piece 1's 10 m at 1.4 m/min = 428,571 ms after the heat start.
     const s2 = q("select cast_at, transition from slabs where slab_id = 'IMP00000-102'")!;
     expect(s2.cast_at).toBe(Date.UTC(2026, 11, 1, 0, 0) + Math.round((10 / 1.4) * 60_000));
@@ -378,7 +454,13 @@ describe("slabs import and per-slab conditions", () => {
     const levels = [-2, 1, 3, -1];
     const speeds = [1.38, 1.42, 1.46, 1.42];
     const rows: Row[] = levels.map((lv, i) => ({
-      caster: "CC2", strand: 1, time: new Date(start + i * 20_000).toISOString(), casting_speed_m_min: speeds[i]!, tundish_temp_c: 1540 + i, embr_current_a: 400, mold_level_mm: lv,
+      caster: "CC2",
+      strand: 1,
+      time: new Date(start + i * 20_000).toISOString(),
+      casting_speed_m_min: speeds[i]!,
+      tundish_temp_c: 1540 + i,
+      embr_current_a: 400,
+      mold_level_mm: lv,
     }));
     const headers = ["caster", "strand", "time", "casting_speed_m_min", "tundish_temp_c", "embr_current_a", "mold_level_mm"];
     const res = await upload("process-samples", csv(headers, rows), "samples.csv");
@@ -406,11 +488,14 @@ describe("slabs import and per-slab conditions", () => {
 
 describe("templates", () => {
   it("when a template is downloaded, then its first sheet has the keys and its second describes each column with its unit", async () => {
-    const res = await process_.get("/api/import/templates/heats.xlsx").buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on("data", (c: Buffer) => chunks.push(c));
-      r.on("end", () => cb(null, Buffer.concat(chunks)));
-    });
+    const res = await process_
+      .get("/api/import/templates/heats.xlsx")
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on("data", (c: Buffer) => chunks.push(c));
+        r.on("end", () => cb(null, Buffer.concat(chunks)));
+      });
     expect(res.status).toBe(200);
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.load(res.body as never);
@@ -439,7 +524,10 @@ describe("level-2 feed", () => {
     const second = await supertest(t.app).post("/api/ingest/heats").set("Authorization", `Bearer ${token}`).send(body);
     expect(second.body.counts).toEqual({ created: 0, updated: 0, unchanged: 2 });
     expect(q("select actor from audit_log where action = 'import.heats' order by id desc limit 1")!.actor).toBe("token:L2 gateway");
-    const bad = await supertest(t.app).post("/api/ingest/heats").set("Authorization", `Bearer ${token}`).send([{ ...body[0], casting_speed_m_min: -1 }]);
+    const bad = await supertest(t.app)
+      .post("/api/ingest/heats")
+      .set("Authorization", `Bearer ${token}`)
+      .send([{ ...body[0], casting_speed_m_min: -1 }]);
     expect(bad.status).toBe(422);
     expect(bad.body.error.details.errors[0]).toMatchObject({ row: 1, column: "casting_speed_m_min" });
     const revoked = await admin.delete(`/api/admin/tokens/${created.body.id}`).set("Origin", t.env.BETTER_AUTH_URL);
@@ -450,7 +538,10 @@ describe("level-2 feed", () => {
   });
 
   it("when the feed is called with a session cookie and no token, then 401: the feed takes tokens only", async () => {
-    const res = await process_.post("/api/ingest/heats").set("Origin", t.env.BETTER_AUTH_URL).send([heat(950)]);
+    const res = await process_
+      .post("/api/ingest/heats")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .send([heat(950)]);
     expect(res.status).toBe(401);
   });
 });

@@ -22,7 +22,11 @@ afterAll(() => t?.close());
 
 const O = () => t.env.BETTER_AUTH_URL;
 const one = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).get(...a) as Record<string, any>;
-const n = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).pluck().get(...a) as number;
+const n = (sql: string, ...a: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...a) as number;
 const userId = (role: string) => one("select id from user where email = ?", `${role}@demo.test`).id as string;
 const DAY = 86_400_000;
 
@@ -35,24 +39,43 @@ describe("investigations", () => {
     const res = await process_
       .post("/api/investigations")
       .set("Origin", O())
-      .send({ title: "Slag spots on the wide grades", problemStatement: "Slag spots rose on the wide grades after the tundish change.", heatNos: [heatNo()], defectIds: [defectId()], participantIds: [userId("quality")] });
+      .send({
+        title: "Slag spots on the wide grades",
+        problemStatement: "Slag spots rose on the wide grades after the tundish change.",
+        heatNos: [heatNo()],
+        defectIds: [defectId()],
+        participantIds: [userId("quality")],
+      });
     expect(res.status).toBe(201);
     id = res.body.id;
     const year = new Date().getUTCFullYear();
     expect(res.body.ref).toMatch(new RegExp(`^INV-${year}-\\d{3}$`));
-    expect(res.body).toMatchObject({ status: "open", defects: 1, heats: 1, owner: { email: "process@demo.test" }, participants: [{ email: "quality@demo.test" }] });
+    expect(res.body).toMatchObject({
+      status: "open",
+      defects: 1,
+      heats: 1,
+      owner: { email: "process@demo.test" },
+      participants: [{ email: "quality@demo.test" }],
+    });
     expect(res.body.subjects.heats[0].heatNo).toBe(heatNo());
     expect(res.body.subjects.defects[0].id).toBe(defectId());
     expect(n("select count(*) from audit_log where entity = 'investigation' and entity_id = ? and action = 'investigation.open'", String(id))).toBe(1);
   });
 
   it("when the demo's investigations are read, then they carry the same kind of reference as a new one, and their hypotheses and history are dated as the work happened", async () => {
-    const seeded = t.db.$client.prepare("select id, ref, opened_at, closed_at from investigations where ref not in (select ref from investigations where id = ?) order by id").all(id) as {
-      id: number; ref: string; opened_at: number; closed_at: number | null;
+    const seeded = t.db.$client
+      .prepare("select id, ref, opened_at, closed_at from investigations where ref not in (select ref from investigations where id = ?) order by id")
+      .all(id) as {
+      id: number;
+      ref: string;
+      opened_at: number;
+      closed_at: number | null;
     }[];
     expect(seeded.map((x) => x.ref)).toEqual(["INV-2026-001", "INV-2026-002", "INV-2026-003"]);
     // The new one follows them in the same year rather than starting a second "001".
-    expect(one("select ref from investigations where id = ?", id).ref).toBe(`INV-${new Date().getUTCFullYear()}-${new Date().getUTCFullYear() === 2026 ? "004" : "001"}`);
+    expect(one("select ref from investigations where id = ?", id).ref).toBe(
+      `INV-${new Date().getUTCFullYear()}-${new Date().getUTCFullYear() === 2026 ? "004" : "001"}`,
+    );
     for (const inv of seeded) {
       const body = (await process_.get(`/api/investigations/${inv.id}`)).body;
       expect(body.history.length).toBeGreaterThan(0);
@@ -64,7 +87,12 @@ describe("investigations", () => {
       }
     }
     const second = (await process_.get(`/api/investigations/${seeded[1]!.id}`)).body;
-    expect(second.history.map((h: { action: string }) => h.action)).toEqual(["investigation.open", "investigation.hypothesis.add", "investigation.action.add", "investigation.action.add"]);
+    expect(second.history.map((h: { action: string }) => h.action)).toEqual([
+      "investigation.open",
+      "investigation.hypothesis.add",
+      "investigation.action.add",
+      "investigation.action.add",
+    ]);
   });
 
   it("when a quality engineer reads it, then it is open to them, but they cannot change it", async () => {
@@ -76,21 +104,30 @@ describe("investigations", () => {
 
   it("when subjects are unknown, then 400 names them and nothing is opened", async () => {
     const before = n("select count(*) from investigations");
-    const res = await process_.post("/api/investigations").set("Origin", O()).send({ title: "Bad", problemStatement: "This one names heats that do not exist.", heatNos: ["NOHEAT1", "NOHEAT2"] });
+    const res = await process_
+      .post("/api/investigations")
+      .set("Origin", O())
+      .send({ title: "Bad", problemStatement: "This one names heats that do not exist.", heatNos: ["NOHEAT1", "NOHEAT2"] });
     expect(res.status).toBe(400);
     expect(res.body.error.message).toBe("No heat NOHEAT1, NOHEAT2 on record.");
     expect(n("select count(*) from investigations")).toBe(before);
   });
 
   it("when an action is given to an owner with a due date in the past, then the owner is e-mailed, the list counts it overdue, and one reminder is queued once", async () => {
-    const res = await process_.post(`/api/investigations/${id}/hypotheses`).set("Origin", O()).send({ statement: "SEN clogging lets slag through", causeTag: "sen-clogging" });
+    const res = await process_
+      .post(`/api/investigations/${id}/hypotheses`)
+      .set("Origin", O())
+      .send({ statement: "SEN clogging lets slag through", causeTag: "sen-clogging" });
     expect(res.body.hypotheses[0]).toMatchObject({ causeTag: "sen-clogging", status: "open" });
     const hid = res.body.hypotheses[0].id;
     const supported = await process_.patch(`/api/investigations/${id}/hypotheses/${hid}`).set("Origin", O()).send({ status: "supported" });
     expect(supported.body.hypotheses[0].status).toBe("supported");
 
     const past = todayIso(Date.now() - 3 * DAY);
-    const act = await process_.post(`/api/investigations/${id}/actions`).set("Origin", O()).send({ description: "Inspect the SEN of strand 1 at the next change", ownerId: userId("quality"), dueOn: past });
+    const act = await process_
+      .post(`/api/investigations/${id}/actions`)
+      .set("Origin", O())
+      .send({ description: "Inspect the SEN of strand 1 at the next change", ownerId: userId("quality"), dueOn: past });
     expect(act.status).toBe(200);
     expect(act.body.actionList[0]).toMatchObject({ overdue: true, status: "open", owner: { email: "quality@demo.test" } });
     const assigned = one("select * from email_outbox where kind = 'action_assigned' order by id desc limit 1");
@@ -120,10 +157,19 @@ describe("investigations", () => {
   });
 
   it("when files are attached, then allowed ones are stored by id and served to readers; a file of another kind is refused and nothing is stored", async () => {
-    const png = await sharp({ create: { width: 6, height: 6, channels: 3, background: "#357" } }).png().toBuffer();
-    const res = await process_.post(`/api/investigations/${id}/attachments`).set("Origin", O()).attach("files", png, "mould-photo.png").attach("files", Buffer.from("time,level\n10:00,3.1\n"), "levels.csv");
+    const png = await sharp({ create: { width: 6, height: 6, channels: 3, background: "#357" } })
+      .png()
+      .toBuffer();
+    const res = await process_
+      .post(`/api/investigations/${id}/attachments`)
+      .set("Origin", O())
+      .attach("files", png, "mould-photo.png")
+      .attach("files", Buffer.from("time,level\n10:00,3.1\n"), "levels.csv");
     expect(res.status).toBe(200);
-    expect(res.body.attachments.map((a: { fileName: string; mime: string }) => [a.fileName, a.mime])).toEqual([["mould-photo.png", "image/png"], ["levels.csv", "text/csv"]]);
+    expect(res.body.attachments.map((a: { fileName: string; mime: string }) => [a.fileName, a.mime])).toEqual([
+      ["mould-photo.png", "image/png"],
+      ["levels.csv", "text/csv"],
+    ]);
     const a = res.body.attachments[0];
     const file = await quality.get(a.url).buffer(true);
     expect(file.status).toBe(200);
@@ -136,7 +182,11 @@ describe("investigations", () => {
     const filesBefore = fs.readdirSync(dir).length;
     const rowsBefore = n("select count(*) from attachments");
     const exe = Buffer.concat([Buffer.from("MZ"), Buffer.alloc(200, 0), Buffer.from("This program cannot be run in DOS mode")]);
-    const bad = await process_.post(`/api/investigations/${id}/attachments`).set("Origin", O()).attach("files", png, "ok.png").attach("files", exe, "report.pdf");
+    const bad = await process_
+      .post(`/api/investigations/${id}/attachments`)
+      .set("Origin", O())
+      .attach("files", png, "ok.png")
+      .attach("files", exe, "report.pdf");
     expect(bad.status).toBe(415);
     expect(bad.body.error.message).toContain("report.pdf");
     expect(fs.readdirSync(dir).length).toBe(filesBefore);
@@ -144,9 +194,16 @@ describe("investigations", () => {
   });
 
   it("when it is closed with the confirmed cause, then everyone who followed it is e-mailed, it shows the cause, and it no longer changes", async () => {
-    const res = await process_.post(`/api/investigations/${id}/close`).set("Origin", O()).send({ confirmedCause: "sen-clogging", closureNote: "Clogged SEN found and replaced; spots stopped." });
+    const res = await process_
+      .post(`/api/investigations/${id}/close`)
+      .set("Origin", O())
+      .send({ confirmedCause: "sen-clogging", closureNote: "Clogged SEN found and replaced; spots stopped." });
     expect(res.status).toBe(200);
-    expect(res.body).toMatchObject({ status: "closed", confirmedCause: { code: "sen-clogging", name: "SEN clogging" }, closureNote: "Clogged SEN found and replaced; spots stopped." });
+    expect(res.body).toMatchObject({
+      status: "closed",
+      confirmedCause: { code: "sen-clogging", name: "SEN clogging" },
+      closureNote: "Clogged SEN found and replaced; spots stopped.",
+    });
     const mail = one("select * from email_outbox where kind = 'investigation_closed' order by id desc limit 1");
     // Owner and opener (process), the participant and the action's owner (quality).
     expect(mail.to_addresses.split(", ").sort()).toEqual(["process@demo.test", "quality@demo.test"]);
@@ -154,6 +211,14 @@ describe("investigations", () => {
     const late = await process_.post(`/api/investigations/${id}/hypotheses`).set("Origin", O()).send({ statement: "Too late for this" });
     expect(late.status).toBe(409);
     const history = (await quality.get(`/api/investigations/${id}`)).body.history.map((h: { action: string }) => h.action);
-    expect(history).toEqual(["investigation.open", "investigation.hypothesis.add", "investigation.hypothesis.update", "investigation.action.add", "investigation.action.update", "investigation.attachments.add", "investigation.close"]);
+    expect(history).toEqual([
+      "investigation.open",
+      "investigation.hypothesis.add",
+      "investigation.hypothesis.update",
+      "investigation.action.add",
+      "investigation.action.update",
+      "investigation.attachments.add",
+      "investigation.close",
+    ]);
   });
 });

@@ -32,14 +32,27 @@ describe("the mail path", () => {
   it("when an inspector logs a critical defect, then the entry is saved at once, a message to the quality engineers is queued, travels over SMTP, and the outbox shows it sent and received", async () => {
     const inspector = await t.agentFor("inspector");
     const slab = one("select slab_id from slabs order by id limit 1 offset 3").slab_id as string;
-    const res = await inspector.post("/api/defects").set("Origin", O()).send({
-      slab_id: slab, type_code: "LFC", face: "inner", position_along_mm: 1200, position_across_mm: 600, severity: 4, stage: "slab_yard",
-      disposition: "hold", note: "Deep crack across the corner", client_key: `mail-test-${Date.now()}`,
-    });
+    const res = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send({
+        slab_id: slab,
+        type_code: "LFC",
+        face: "inner",
+        position_along_mm: 1200,
+        position_across_mm: 600,
+        severity: 4,
+        stage: "slab_yard",
+        disposition: "hold",
+        note: "Deep crack across the corner",
+        client_key: `mail-test-${Date.now()}`,
+      });
     expect(res.status).toBe(201);
     const queued = one("select * from email_outbox where kind = 'critical_defect' order by id desc limit 1");
     expect(queued.status).toBe("queued");
-    const quality = rows("select email from user where role like '%quality%' and coalesce(banned, 0) = 0").map((r) => r.email).sort();
+    const quality = rows("select email from user where role like '%quality%' and coalesce(banned, 0) = 0")
+      .map((r) => r.email)
+      .sort();
     expect(queued.to_addresses.split(", ").sort()).toEqual(quality);
     expect(queued.subject).toBe(`Critical defect on slab ${slab}: LFC Longitudinal facial crack`);
 
@@ -68,8 +81,21 @@ describe("the mail path", () => {
   it("when the SMTP server is down, then the message stays queued with the error, waits its backoff, and goes out once the server is back", async () => {
     const port = await freePort();
     const logger = createLogger("silent");
-    const mailer = createMailer({ db: t.db, logger, smtpUrl: `smtp://127.0.0.1:${port}`, from: "Strandsight <test@plant.invalid>", dir: `${t.dir}/mail-down`, describe: "test" });
-    const id = mailer.enqueue({ kind: "action_assigned", to: ["process@demo.test"], subject: "Retry test", text: "Sent when the server is back.", attachments: [{ filename: "note.txt", contentType: "text/plain", content: Buffer.from("attached") }] })!;
+    const mailer = createMailer({
+      db: t.db,
+      logger,
+      smtpUrl: `smtp://127.0.0.1:${port}`,
+      from: "Strandsight <test@plant.invalid>",
+      dir: `${t.dir}/mail-down`,
+      describe: "test",
+    });
+    const id = mailer.enqueue({
+      kind: "action_assigned",
+      to: ["process@demo.test"],
+      subject: "Retry test",
+      text: "Sent when the server is back.",
+      attachments: [{ filename: "note.txt", contentType: "text/plain", content: Buffer.from("attached") }],
+    })!;
     const t0 = Date.now();
     await mailer.processDue(t0);
     let row = one("select * from email_outbox where id = ?", id);
@@ -101,7 +127,14 @@ describe("the mail path", () => {
 
   it(`when every attempt fails, then after ${MAX_ATTEMPTS} the message is failed, and an admin can put it back in the queue`, async () => {
     const port = await freePort();
-    const mailer = createMailer({ db: t.db, logger: createLogger("silent"), smtpUrl: `smtp://127.0.0.1:${port}`, from: "x@plant.invalid", dir: `${t.dir}/mail-fail`, describe: "test" });
+    const mailer = createMailer({
+      db: t.db,
+      logger: createLogger("silent"),
+      smtpUrl: `smtp://127.0.0.1:${port}`,
+      from: "x@plant.invalid",
+      dir: `${t.dir}/mail-fail`,
+      describe: "test",
+    });
     const id = mailer.enqueue({ kind: "invitation", to: ["nobody@demo.test"], subject: "Never", text: "Never arrives." })!;
     let now = Date.now();
     for (let i = 0; i < MAX_ATTEMPTS; i++) {
@@ -154,7 +187,10 @@ describe("password reset and invitation through better-auth and the fake mail", 
     expect(weak.status).toBe(400);
     const reset = await anon.post("/api/auth/reset-password").set("Origin", O()).send({ newPassword: "a-new-long-password", token });
     expect(reset.status).toBe(200);
-    const newSignIn = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O()).send({ email: "claims@demo.test", password: "a-new-long-password" });
+    const newSignIn = await request(t.app)
+      .post("/api/auth/sign-in/email")
+      .set("Origin", O())
+      .send({ email: "claims@demo.test", password: "a-new-long-password" });
     expect(newSignIn.status).toBe(200);
     const oldSignIn = await request(t.app).post("/api/auth/sign-in/email").set("Origin", O()).send({ email: "claims@demo.test", password: TEST_PASSWORD });
     expect(oldSignIn.status).toBe(401);
@@ -166,12 +202,17 @@ describe("password reset and invitation through better-auth and the fake mail", 
   it("when an admin creates a user, then an invitation with a link to choose a password reaches them, and the link sets it", async () => {
     const admin = await t.agentFor("admin");
     // The invitation way: no password from the administrator (a first password sends no mail: first-sign-in.test.ts).
-    const created = await admin.post("/api/admin/users").set("Origin", O()).send({ name: "Nadia Okafor (demo)", email: "nadia@demo.test", roles: ["inspector"], firstSignIn: "invitation" });
+    const created = await admin
+      .post("/api/admin/users")
+      .set("Origin", O())
+      .send({ name: "Nadia Okafor (demo)", email: "nadia@demo.test", roles: ["inspector"], firstSignIn: "invitation" });
     expect(created.status).toBe(201);
     await t.mailer.processDue();
     const mail = one("select * from email_outbox where to_addresses = 'nadia@demo.test'");
     expect(mail).toMatchObject({ kind: "invitation", status: "sent", subject: "Your Strandsight account" });
-    expect(one("select text_body from mail_received where envelope_to = 'nadia@demo.test'").text_body).toContain("an administrator has created a Strandsight account for you");
+    expect(one("select text_body from mail_received where envelope_to = 'nadia@demo.test'").text_body).toContain(
+      "an administrator has created a Strandsight account for you",
+    );
     const url = new URL(linkFor("nadia@demo.test"));
     const token = new URL((await request(t.app).get(url.pathname + url.search)).headers.location!, O()).searchParams.get("token")!;
     const set = await request(t.app).post("/api/auth/reset-password").set("Origin", O()).send({ newPassword: "nadia-chose-this", token });
@@ -199,7 +240,10 @@ describe("a backlog and a mail server that hangs", () => {
     const backlog = Array.from({ length: MAIL_PER_PASS + 20 }, (_, i) =>
       b.mailer.enqueue({ kind: "action_overdue", to: ["process@demo.test"], subject: `Backlog notice ${i + 1}`, text: "Backlog." })!,
     );
-    const ask = await request(b.app).post("/api/auth/request-password-reset").set("Origin", b.env.BETTER_AUTH_URL).send({ email: "quality@demo.test", redirectTo: "/reset-password" });
+    const ask = await request(b.app)
+      .post("/api/auth/request-password-reset")
+      .set("Origin", b.env.BETTER_AUTH_URL)
+      .send({ email: "quality@demo.test", redirectTo: "/reset-password" });
     expect(ask.status).toBe(200);
     const reset = q("select id from email_outbox where kind = 'password_reset'");
     expect(reset.length).toBe(1);
@@ -221,7 +265,9 @@ describe("a backlog and a mail server that hangs", () => {
   });
 
   it("when passes are asked for while one is still sending, then they wait their turn and every message arrives exactly once", async () => {
-    const ids = Array.from({ length: 7 }, (_, i) => b.mailer.enqueue({ kind: "action_assigned", to: ["process@demo.test"], subject: `Once only ${i + 1}`, text: "Exactly once." })!);
+    const ids = Array.from({ length: 7 }, (_, i) =>
+      b.mailer.enqueue({ kind: "action_assigned", to: ["process@demo.test"], subject: `Once only ${i + 1}`, text: "Exactly once." })!,
+    );
     // The first pass finds nothing due (its clock is in the past); two more arrive while it runs.
     const passes = await Promise.all([b.mailer.processDue(0), b.mailer.processDue(), b.mailer.processDue()]);
     expect(passes.reduce((n, p) => n + p.sent, 0)).toBe(ids.length);
@@ -279,7 +325,9 @@ describe("a backlog and a mail server that hangs", () => {
         expect(r.status).toBe("queued");
         expect(r.attempts).toBe(1);
         expect(r.next_attempt_at).toBeGreaterThanOrEqual(now + backoffMs(1));
-        expect(r.last_error).toBe(`The mail server at 127.0.0.1:${port} accepted the connection but did not answer within 0.3 s (it may be hung or overloaded). (Greeting never received)`);
+        expect(r.last_error).toBe(
+          `The mail server at 127.0.0.1:${port} accepted the connection but did not answer within 0.3 s (it may be hung or overloaded). (Greeting never received)`,
+        );
       }
       // Nothing more is due until the backoff has passed.
       expect(await mailer.processDue(now)).toEqual({ sent: 0, retried: 0, deferred: 0 });

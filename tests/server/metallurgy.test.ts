@@ -1,13 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { liquidusC, superheatC, WON_THOMAS_2001 } from "../../server/metallurgy/liquidus";
-import {
-  metallurgicalLengthM,
-  moldDwellMin,
-  senPortVelocityMPerS,
-  shellThicknessMm,
-  slabWeightT,
-  throughputTPerMin,
-} from "../../server/metallurgy/casting";
+import { metallurgicalLengthM, moldDwellMin, senPortVelocityMPerS, shellThicknessMm, slabWeightT, throughputTPerMin } from "../../server/metallurgy/casting";
 import { embrFieldT, hartmannNumber, magneticReynolds, stuartNumber } from "../../server/metallurgy/embr";
 
 describe("liquidus and superheat", () => {
@@ -95,7 +88,15 @@ describe("electromagnetic brake numbers", () => {
   });
 
   it("when the calibration is a table, then B is interpolated between points and held flat beyond them", () => {
-    const table = { kind: "table" as const, points: [[0, 0], [200, 0.15], [400, 0.28], [600, 0.36]] as [number, number][] };
+    const table = {
+      kind: "table" as const,
+      points: [
+        [0, 0],
+        [200, 0.15],
+        [400, 0.28],
+        [600, 0.36],
+      ] as [number, number][],
+    };
     expect(embrFieldT(300, table)).toBeCloseTo(0.215, 12);
     expect(embrFieldT(200, table)).toBeCloseTo(0.15, 12);
     expect(embrFieldT(900, table)).toBeCloseTo(0.36, 12);

@@ -34,7 +34,11 @@ const heatOf: Record<string, string> = {};
 
 function buildPlant(db: Db) {
   const c = db.$client;
-  const one = (sql: string, ...a: unknown[]) => c.prepare(sql).pluck().get(...a) as number;
+  const one = (sql: string, ...a: unknown[]) =>
+    c
+      .prepare(sql)
+      .pluck()
+      .get(...a) as number;
   const caster = one("select id from casters where code = 'CC2'");
   const strand = one("select id from strands where caster_id = ? and strand_no = 1", caster);
   const grade = { LC: one("select id from grades where code = 'LV-DQ10'"), PER: one("select id from grades where code = 'LV-ST32'") };
@@ -52,7 +56,17 @@ function buildPlant(db: Db) {
   );
   let heatNo = 0;
   const now = Date.now();
-  const group = (name: string, family: "LC" | "PER", n: number, speed: number, embr: number | null, superheat: number, affected: number, defect: string, castAt: number) => {
+  const group = (
+    name: string,
+    family: "LC" | "PER",
+    n: number,
+    speed: number,
+    embr: number | null,
+    superheat: number,
+    affected: number,
+    defect: string,
+    castAt: number,
+  ) => {
     const ids: number[] = [];
     for (let i = 0; i < n; i += 8) {
       const no = `OW${String(++heatNo).padStart(4, "0")}`;
@@ -93,8 +107,16 @@ beforeAll(async () => {
 afterAll(() => t?.close());
 
 const origin = () => t.env.BETTER_AUTH_URL;
-const post = (agent: request.Agent, body: unknown) => agent.post("/api/operating-windows").set("Origin", origin()).send(body as object);
-const audits = (action: string, id: number) => t.db.$client.prepare("select * from audit_log where action = ? and entity = 'operating_window' and entity_id = ?").all(action, String(id)) as Record<string, any>[];
+const post = (agent: request.Agent, body: unknown) =>
+  agent
+    .post("/api/operating-windows")
+    .set("Origin", origin())
+    .send(body as object);
+const audits = (action: string, id: number) =>
+  t.db.$client.prepare("select * from audit_log where action = ? and entity = 'operating_window' and entity_id = ?").all(action, String(id)) as Record<
+    string,
+    any
+  >[];
 
 const FAST_WEAK = {
   name: "Fast casting with a weak brake",
@@ -171,7 +193,12 @@ describe("operating windows: records on history", () => {
   });
 
   it("when a rule watches the PER family, then only PER slabs count, and 0/20 against 1/29 is no clear difference (Newcombe's values)", async () => {
-    const res = await post(processEng, { name: "Hot tundish on PER", familyCode: "PER", target: { kind: "type", code: "LFC" }, conditions: [{ variable: "superheat_c", op: "above", value: 35 }] });
+    const res = await post(processEng, {
+      name: "Hot tundish on PER",
+      familyCode: "PER",
+      target: { kind: "type", code: "LFC" },
+      conditions: [{ variable: "superheat_c", op: "above", value: 35 }],
+    });
     expect(res.status, JSON.stringify(res.body)).toBe(201);
     const r = res.body.record;
     expect(r.flagged).toMatchObject({ slabs: 20, affected: 0, share: 0 });
@@ -203,10 +230,20 @@ describe("operating windows: records on history", () => {
     const b = groups.B1![0]!;
     const p1 = groups.P1![0]!;
     const flags = windowFlagsForSlabs(t.db, [a, b, p1]);
-    expect(flags.get(a)!.map((f) => f.name).sort()).toEqual(["Fast and weak, any family", "Fast casting with a weak brake"]);
+    expect(
+      flags
+        .get(a)!
+        .map((f) => f.name)
+        .sort(),
+    ).toEqual(["Fast and weak, any family", "Fast casting with a weak brake"]);
     expect(flags.has(b)).toBe(false);
     // P1 meets the speed-and-brake conditions, but the LC rule is for LC only.
-    expect(flags.get(p1)!.map((f) => f.name).sort()).toEqual(["Fast and weak, any family", "Hot tundish on PER"]);
+    expect(
+      flags
+        .get(p1)!
+        .map((f) => f.name)
+        .sort(),
+    ).toEqual(["Fast and weak, any family", "Hot tundish on PER"]);
     const ids = t.db.$client.prepare(`select slab_id from slabs where id in (${a}, ${b})`).pluck().all() as string[];
     const res = await inspector.get(`/api/operating-windows/flags?slabIds=${ids.join(",")},NO-SUCH-SLAB`);
     expect(res.status).toBe(200);
@@ -236,14 +273,24 @@ describe("operating windows: records on history", () => {
     expect(res.status).toBe(201);
     const id = res.body.id;
     expect(res.body.record.flagged.slabs).toBe(263 + 100 + 5);
-    const changed = await processEng.patch(`/api/operating-windows/${id}`).set("Origin", origin()).send({ conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.8 }] });
+    const changed = await processEng
+      .patch(`/api/operating-windows/${id}`)
+      .set("Origin", origin())
+      .send({ conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.8 }] });
     expect(changed.status, JSON.stringify(changed.body)).toBe(200);
     expect(changed.body.record.flagged.slabs).toBe(0);
     expect(changed.body.record.verdict).toBeNull();
     expect(audits("operating_window.update", id)).toHaveLength(1);
-    const back = await processEng.patch(`/api/operating-windows/${id}`).set("Origin", origin()).send({ conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.5 }] });
+    const back = await processEng
+      .patch(`/api/operating-windows/${id}`)
+      .set("Origin", origin())
+      .send({ conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.5 }] });
     expect(back.body.record.flagged.slabs).toBe(368);
-    expect(windowFlagsForSlabs(t.db, [groups.B1![0]!]).get(groups.B1![0]!)?.map((f) => f.name)).toEqual(["Short-lived"]);
+    expect(
+      windowFlagsForSlabs(t.db, [groups.B1![0]!])
+        .get(groups.B1![0]!)
+        ?.map((f) => f.name),
+    ).toEqual(["Short-lived"]);
     const retired = await processEng.delete(`/api/operating-windows/${id}`).set("Origin", origin());
     expect(retired.status).toBe(200);
     expect(retired.body).toMatchObject({ id, retired: true });
@@ -271,7 +318,11 @@ describe("operating windows: refusals", () => {
     ["a column outside the catalogue", { conditions: [{ ...cond, variable: "slab_id" }] }, "conditions.0.variable"],
     ["an unknown comparison", { conditions: [{ ...cond, op: ">=" }] }, "conditions.0.op"],
     ["a value given as text", { conditions: [{ ...cond, value: "1.6" }] }, "conditions.0.value"],
-    ["five conditions", { conditions: ["casting_speed_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min"].map((v) => ({ ...cond, variable: v })) }, "conditions"],
+    [
+      "five conditions",
+      { conditions: ["casting_speed_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min"].map((v) => ({ ...cond, variable: v })) },
+      "conditions",
+    ],
     ["no condition", { conditions: [] }, "conditions"],
     ["the same condition twice", { conditions: [cond, { ...cond, value: 1.7 }] }, "conditions"],
     ["a window no slab can meet", { conditions: [cond, { ...cond, op: "below", value: 1.5 }] }, "conditions"],

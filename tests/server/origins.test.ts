@@ -60,7 +60,15 @@ describe("origins, with the request's own host accepted (the default outside pro
   it("when a signed-in tablet writes to our API from its own host, then the write passes the origin check; the same cookie from a foreign page is refused", async () => {
     const agent = request.agent(t.app);
     const host = "10.20.0.15:3000";
-    expect((await agent.post("/api/auth/sign-in/email").set("Host", host).set("Origin", `http://${host}`).send({ email: "admin@demo.test", password: TEST_PASSWORD })).status).toBe(200);
+    expect(
+      (
+        await agent
+          .post("/api/auth/sign-in/email")
+          .set("Host", host)
+          .set("Origin", `http://${host}`)
+          .send({ email: "admin@demo.test", password: TEST_PASSWORD })
+      ).status,
+    ).toBe(200);
     const users = () => t.db.$client.prepare("select count(*) from user").pluck().get() as number;
     const before = users();
     const body = { name: "Tablet Ten", email: "tablet10@example.test", roles: ["inspector"], password: "long-enough-pw" };

@@ -19,7 +19,16 @@ beforeAll(async () => {
   const res = await inspector
     .post("/api/defects")
     .set("Origin", t.env.BETTER_AUTH_URL)
-    .send({ slab_id: slabId, type_code: "SLG", face: "inner", position_along_mm: 1000, position_across_mm: 500, severity: 2, disposition: "scarf", client_key: "photo-test-defect-1" });
+    .send({
+      slab_id: slabId,
+      type_code: "SLG",
+      face: "inner",
+      position_along_mm: 1000,
+      position_across_mm: 500,
+      severity: 2,
+      disposition: "scarf",
+      client_key: "photo-test-defect-1",
+    });
   defectId = res.body.id;
 });
 afterAll(() => t?.close());
@@ -71,7 +80,10 @@ describe("photo pipeline", () => {
 
   it("when a text file is named .jpg, then 415 and nothing is stored", async () => {
     const [r0, f0] = [rows(), files().length];
-    const res = await inspector.post(`/api/defects/${defectId}/photos`).set("Origin", O()).attach("photos", Buffer.from("not a photo at all\n".repeat(50)), { filename: "defect.jpg", contentType: "image/jpeg" });
+    const res = await inspector
+      .post(`/api/defects/${defectId}/photos`)
+      .set("Origin", O())
+      .attach("photos", Buffer.from("not a photo at all\n".repeat(50)), { filename: "defect.jpg", contentType: "image/jpeg" });
     expect(res.status).toBe(415);
     expect(res.body.error.code).toBe("not_an_image");
     expect([rows(), files().length]).toEqual([r0, f0]);
@@ -94,7 +106,9 @@ describe("photo pipeline", () => {
   });
 
   it("when one file of several is bad, then none of them is stored", async () => {
-    const good = await sharp({ create: { width: 64, height: 48, channels: 3, background: "#357" } }).png().toBuffer();
+    const good = await sharp({ create: { width: 64, height: 48, channels: 3, background: "#357" } })
+      .png()
+      .toBuffer();
     const [r0, f0] = [rows(), files().length];
     const res = await inspector
       .post(`/api/defects/${defectId}/photos`)
@@ -106,7 +120,10 @@ describe("photo pipeline", () => {
   });
 
   it("when a file is over 25 MB, then 413", async () => {
-    const res = await inspector.post(`/api/defects/${defectId}/photos`).set("Origin", O()).attach("photos", Buffer.alloc(26 * 1024 * 1024, 1), "huge.jpg");
+    const res = await inspector
+      .post(`/api/defects/${defectId}/photos`)
+      .set("Origin", O())
+      .attach("photos", Buffer.alloc(26 * 1024 * 1024, 1), "huge.jpg");
     expect(res.status).toBe(413);
   });
 

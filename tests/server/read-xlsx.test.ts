@@ -24,8 +24,7 @@ const NS = 'xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"';
 
 describe("what the reader understands", () => {
   it("when cells use shared strings with rich runs and phonetic hints, inline strings, CDATA, booleans, errors and formulas, then each comes back as its value", async () => {
-    const sst =
-      `<sst ${NS}><si><t>plain</t></si><si><r><t>ri</t></r><r><t>ch</t></r><rPh sb="0" eb="1"><t>PHONETIC</t></rPh></si></sst>`;
+    const sst = `<sst ${NS}><si><t>plain</t></si><si><r><t>ri</t></r><r><t>ch</t></r><rPh sb="0" eb="1"><t>PHONETIC</t></rPh></si></sst>`;
     const rows =
       `<row r="2"><c r="A2" t="s"><v>0</v></c><c r="B2" t="s"><v>1</v></c><c r="C2" t="inlineStr"><is><t><![CDATA[a<b]]></t></is></c>` +
       `<c r="D2" t="b"><v>1</v></c><c r="E2" t="e"><v>#N/A</v></c><c r="F2"><f>1+1</f><v>2</v></c><c r="G2"><f>A1</f></c><c r="H2" t="str"><f>"x"</f><v>x</v></c></row>`;
@@ -52,8 +51,14 @@ describe("what the reader understands", () => {
   it("when the workbook counts dates from 1904, then it says so and the date columns read its serial days right", async () => {
     const file = buildZip([
       { name: "[Content_Types].xml", content: `<Types xmlns="http://schemas.openxmlformats.org/package/2006/content-types"/>` },
-      { name: "xl/workbook.xml", content: `<workbook ${NS} xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"><workbookPr date1904="1"/><sheets><sheet name="S" sheetId="1" r:id="rId7"/></sheets></workbook>` },
-      { name: "xl/_rels/workbook.xml.rels", content: `<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships"><Relationship Id="rId7" Type="x/worksheet" Target="/xl/worksheets/data.xml"/></Relationships>` },
+      {
+        name: "xl/workbook.xml",
+        content: `<workbook ${NS} xmlns:r="http://schemas.openxmlformats.org/officeDocument/2006/relationships"><workbookPr date1904="1"/><sheets><sheet name="S" sheetId="1" r:id="rId7"/></sheets></workbook>`,
+      },
+      {
+        name: "xl/_rels/workbook.xml.rels",
+        content: `<Relationships xmlns="http://schemas.openxmlformats.org/package/2006/relationships"><Relationship Id="rId7" Type="x/worksheet" Target="/xl/worksheets/data.xml"/></Relationships>`,
+      },
       { name: "xl/worksheets/data.xml", content: sheetXml(["cast_start"], `<row r="2"><c r="A2"><v>44896.5</v></c></row>`) as string },
     ]);
     const t = await readXlsxFile(write(file));
@@ -82,11 +87,20 @@ describe("what the reader refuses", () => {
   it("when a limit is lowered, then the reader stops at it while streaming (rows, cells, shared texts)", async () => {
     const rows = Array.from({ length: 30 }, (_, i) => `<row r="${i + 2}"><c><v>${i}</v></c><c><v>${i}</v></c></row>`).join("");
     const file = write(workbookZip(sheetXml(["a", "b"], rows)));
-    await expect(readXlsxFile(file, { ...IMPORT_LIMITS, rows: 20 })).rejects.toMatchObject({ status: 413, message: expect.stringContaining("more than 20 data rows") });
-    await expect(readXlsxFile(file, { ...IMPORT_LIMITS, cells: 40 })).rejects.toMatchObject({ status: 413, message: expect.stringContaining("more than 40 filled cells") });
+    await expect(readXlsxFile(file, { ...IMPORT_LIMITS, rows: 20 })).rejects.toMatchObject({
+      status: 413,
+      message: expect.stringContaining("more than 20 data rows"),
+    });
+    await expect(readXlsxFile(file, { ...IMPORT_LIMITS, cells: 40 })).rejects.toMatchObject({
+      status: 413,
+      message: expect.stringContaining("more than 40 filled cells"),
+    });
     const sst = `<sst ${NS}>${"<si><t>t</t></si>".repeat(50)}</sst>`;
     const withShared = write(workbookZip(sheetXml(["a"], `<row r="2"><c t="s"><v>0</v></c></row>`), { sharedStrings: sst }));
-    await expect(readXlsxFile(withShared, { ...IMPORT_LIMITS, cells: 40 })).rejects.toMatchObject({ status: 413, message: expect.stringContaining("more than 40 different texts") });
+    await expect(readXlsxFile(withShared, { ...IMPORT_LIMITS, cells: 40 })).rejects.toMatchObject({
+      status: 413,
+      message: expect.stringContaining("more than 40 different texts"),
+    });
     expect((await readXlsxFile(file)).rows).toHaveLength(30);
   });
 });

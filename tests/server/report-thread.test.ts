@@ -47,7 +47,15 @@ function cleanSlab() {
     .get() as { slabId: string; id: number };
 }
 const defectOn = (slabId: string, type = "SLG") => ({
-  slab_id: slabId, type_code: type, face: "inner", position_along_mm: 100, position_across_mm: 50, severity: 2, stage: "slab_yard", disposition: "accept", client_key: key(),
+  slab_id: slabId,
+  type_code: type,
+  face: "inner",
+  position_along_mm: 100,
+  position_across_mm: 50,
+  severity: 2,
+  stage: "slab_yard",
+  disposition: "accept",
+  client_key: key(),
 });
 
 /** The same report computed on this (main) thread, from facts built here: what the thread must match. */
@@ -129,7 +137,10 @@ describe("reports in the report thread", () => {
       expected = { code: e.code, message: e.message, details: e.details };
     }
     expect(expected).not.toBeNull();
-    for (const p of ["/api/reports/rate-by-variable?variable=casting_speed_m_min&grade=NO-SUCH-GRADE", "/api/reports/rate-by-variable.xlsx?variable=casting_speed_m_min&grade=NO-SUCH-GRADE"]) {
+    for (const p of [
+      "/api/reports/rate-by-variable?variable=casting_speed_m_min&grade=NO-SUCH-GRADE",
+      "/api/reports/rate-by-variable.xlsx?variable=casting_speed_m_min&grade=NO-SUCH-GRADE",
+    ]) {
       const res = await quality.get(p);
       expect(res.status, p).toBe(400);
       expect(res.body, p).toEqual({ error: expected });
@@ -154,7 +165,9 @@ describe("reports in the report thread", () => {
     const last = answers[answers.length - 1]!;
     expect(last.status).toBe(503);
     expect(last.body.error.code).toBe("reports_restarted");
-    expect(last.body.error.message).toBe("The reports stopped while this one was being worked out and have been started again. Ask for the report again in a moment.");
+    expect(last.body.error.message).toBe(
+      "The reports stopped while this one was being worked out and have been started again. Ask for the report again in a moment.",
+    );
     expect(last.headers["retry-after"]).toBe("5");
     for (const res of answers) expect([200, 503]).toContain(res.status);
     expect(thread.stats().restarts).toBe(restartsBefore + 1);

@@ -166,7 +166,10 @@ describe("reports while the slab data load after a start", () => {
   it("when a grade moved to another family after the snapshot, slabs were added, or the database is another one, then the snapshot is refused as out of date", async () => {
     await run();
     const other = openDatabase(t.db.$client.name);
-    const g = other.$client.prepare("select id, family_id as f from grades where id in (select grade_id from slab_conditions) order by id limit 1").get() as { id: number; f: number };
+    const g = other.$client.prepare("select id, family_id as f from grades where id in (select grade_id from slab_conditions) order by id limit 1").get() as {
+      id: number;
+      f: number;
+    };
     const otherFamily = other.$client.prepare("select id from grade_families where id <> ? order by id limit 1").pluck().get(g.f) as number;
     other.$client.transaction(() => {
       other.$client.prepare("update grades set family_id = ? where id = ?").run(otherFamily, g.id);
@@ -179,10 +182,14 @@ describe("reports while the slab data load after a start", () => {
     expect(moved.status().snapshotIgnored).toBe("the snapshot is out of date: grade families changed after the snapshot");
 
     const db2 = openDatabase(t.db.$client.name);
-    const heat = db2.$client.prepare("select heat_id as h, strand_id as s, max(piece_no) as p from slabs group by heat_id, strand_id order by heat_id limit 1").get() as { h: number; s: number; p: number };
+    const heat = db2.$client
+      .prepare("select heat_id as h, strand_id as s, max(piece_no) as p from slabs group by heat_id, strand_id order by heat_id limit 1")
+      .get() as { h: number; s: number; p: number };
     const id = Number(
       db2.$client
-        .prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t) values ('WARM-NEW-1', ?, ?, ?, 9000, 1500, 230, 24.2)")
+        .prepare(
+          "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t) values ('WARM-NEW-1', ?, ?, ?, 9000, 1500, 230, 24.2)",
+        )
         .run(heat.h, heat.s, heat.p + 1).lastInsertRowid,
     );
     createResolver(db2).resolve([id]);
@@ -216,11 +223,15 @@ describe("reports while the slab data load after a start", () => {
         "the snapshot is damaged (its checksum does not match)",
       ],
       ["cut short", () => fs.truncateSync(file, fs.statSync(file).size - 1000), "the snapshot is cut short"],
-      ["a header that is not JSON", () => {
-        const fd = fs.openSync(file, "r+");
-        fs.writeSync(fd, Buffer.from("{{{{"), 0, 4, 20);
-        fs.closeSync(fd);
-      }, "the snapshot's header is damaged"],
+      [
+        "a header that is not JSON",
+        () => {
+          const fd = fs.openSync(file, "r+");
+          fs.writeSync(fd, Buffer.from("{{{{"), 0, 4, 20);
+          fs.closeSync(fd);
+        },
+        "the snapshot's header is damaged",
+      ],
     ];
     for (const [what, spoil, reason] of damage) {
       await run();
@@ -268,13 +279,31 @@ describe("lean columns, exact values", () => {
     const c = db.$client;
     const ids = c.prepare("select slab_id from slab_conditions order by slab_id limit ?").pluck().all(n) as number[];
     const ranges: Record<string, [number, number]> = {
-      casting_speed_m_min: [0, 12], speed_change_m_min: [0, 2], superheat_c: [-20, 90], embr_current_a: [0, 2000], sen_depth_mm: [0, 400],
-      argon_nl_min: [0, 40], mold_level_sd_mm: [0, 60], throughput_t_min: [0, 20], shell_exit_mm: [0, 50], embr_field_t: [0, 1],
-      stuart_number: [0, 100], sen_port_velocity_m_s: [0, 5], metallurgical_length_m: [0, 60], width_mm: [500, 3500], c_pct: [0, 2],
-      mn_pct: [0, 3], si_pct: [0, 3], s_pct: [0, 0.1], al_pct: [0, 0.3], nb_pct: [0, 0.2], ti_pct: [0, 0.2], n_ppm: [0, 600],
+      casting_speed_m_min: [0, 12],
+      speed_change_m_min: [0, 2],
+      superheat_c: [-20, 90],
+      embr_current_a: [0, 2000],
+      sen_depth_mm: [0, 400],
+      argon_nl_min: [0, 40],
+      mold_level_sd_mm: [0, 60],
+      throughput_t_min: [0, 20],
+      shell_exit_mm: [0, 50],
+      embr_field_t: [0, 1],
+      stuart_number: [0, 100],
+      sen_port_velocity_m_s: [0, 5],
+      metallurgical_length_m: [0, 60],
+      width_mm: [500, 3500],
+      c_pct: [0, 2],
+      mn_pct: [0, 3],
+      si_pct: [0, 3],
+      s_pct: [0, 0.1],
+      al_pct: [0, 0.3],
+      nb_pct: [0, 0.2],
+      ti_pct: [0, 0.2],
+      n_ppm: [0, 600],
     };
     let seed = 11;
-    const rnd = () => ((seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32);
+    const rnd = () => (seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32;
     const upd = c.prepare(`update slab_conditions set ${VARIABLES.map((v) => `${v.key} = ?`).join(", ")} where slab_id = ?`);
     c.transaction(() => {
       ids.forEach((id, j) => {
@@ -347,7 +376,9 @@ describe("lean columns, exact values", () => {
     const room = built.slabId.length;
     const heat = c.prepare("select heat_id as h, strand_id as s from slabs limit 1").get() as { h: number; s: number };
     const template = c.prepare(`select ${SELECT_COLUMNS} from slab_conditions limit 1`).raw().get() as FactRow;
-    const insSlab = c.prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t) values (?, ?, ?, ?, 9000, 1500, 230, 24.2)");
+    const insSlab = c.prepare(
+      "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t) values (?, ?, ?, ?, 9000, 1500, 230, 24.2)",
+    );
     const cols = SELECT_COLUMNS.split(", ");
     const insCond = c.prepare(`insert into slab_conditions (${cols.join(", ")}) values (${cols.map(() => "?").join(", ")})`);
     const added = room - built.size + 10;
@@ -356,7 +387,11 @@ describe("lean columns, exact values", () => {
       c.transaction(() => {
         for (let j = done; j < Math.min(added, done + 40_000); j++) {
           const id = Number(insSlab.run(`GROW-${j}`, heat.h, heat.s, 1000 + j).lastInsertRowid);
-          insCond.run(id, ...template.slice(1, 10), ...template.slice(10).map((x, k) => (k === 0 && x != null ? Math.round((x as number) * 1000 + j % 7) / 1000 : x)));
+          insCond.run(
+            id,
+            ...template.slice(1, 10),
+            ...template.slice(10).map((x, k) => (k === 0 && x != null ? Math.round((x as number) * 1000 + (j % 7)) / 1000 : x)),
+          );
           ids.push(id);
         }
       })();

@@ -62,7 +62,8 @@ beforeAll(async () => {
       if (r.mold >= 4.5) ins.run(r.id, type("PIN"), r.at + 86_400_000, inspector);
     }
   })();
-  const has = (code: string) => `exists(select 1 from defects d where d.slab_id = s.id and d.type_id = ${type(code)} and d.deleted_at is null and d.review_status <> 'rejected')`;
+  const has = (code: string) =>
+    `exists(select 1 from defects d where d.slab_id = s.id and d.type_id = ${type(code)} and d.deleted_at is null and d.review_status <> 'rejected')`;
   slabs = c
     .prepare(
       `select s.id, s.heat_id as heat, sc.casting_speed_m_min as speed, sc.mold_level_sd_mm as mold, sc.superheat_c as superheat, sc.embr_current_a as embr,
@@ -84,7 +85,15 @@ const refused = async (path: string) => {
   return res.body.error as { code: string; message: string; details: { path: string; message: string }[] };
 };
 
-type Term = { variable: string; level: string | null; crude: Record<string, number | null>; adjusted: Record<string, number | null>; changeInEstimate: { sentence: string | null }; vif: number | null; reason: string | null };
+type Term = {
+  variable: string;
+  level: string | null;
+  crude: Record<string, number | null>;
+  adjusted: Record<string, number | null>;
+  changeInEstimate: { sentence: string | null };
+  vif: number | null;
+  reason: string | null;
+};
 const term = (r: { terms: Term[] }, key: string, level: string | null = null) => r.terms.find((x) => x.variable === key && x.level === level)!;
 
 /** The slabs as rows for logisticRegressionMulti: one per slab, with its heat as the cluster. */
@@ -106,7 +115,9 @@ describe("adjusted model on the confounded plant", () => {
     expect(speed.adjusted.ciLower).toBeLessThan(1);
     expect(speed.adjusted.ciUpper).toBeGreaterThan(1);
     expect(Math.abs(Math.log(speed.adjusted.oddsRatio!))).toBeLessThan(Math.abs(Math.log(speed.crude.oddsRatio!)) / 2);
-    expect(speed.changeInEstimate.sentence).toMatch(/^Most of the crude association of casting speed goes with the grade family \(odds ratio per 0\.1 m\/min 1\.27 crude, 1\.0\d adjusted\)\.$/);
+    expect(speed.changeInEstimate.sentence).toMatch(
+      /^Most of the crude association of casting speed goes with the grade family \(odds ratio per 0\.1 m\/min 1\.27 crude, 1\.0\d adjusted\)\.$/,
+    );
     expect(r.notes).toContain(speed.changeInEstimate.sentence);
     // The family is the adjustment: one row, LC (the reference by count, a tie broken by name) against PER.
     const fam = term(r, "grade_family", "PER");
@@ -136,8 +147,22 @@ describe("adjusted model on the confounded plant", () => {
       { name: "mold", kind: "numeric" },
       { name: "family", kind: "categorical", reference: "LC" },
     ];
-    const fit = logisticRegressionMulti(terms, rowsOf((s) => [s.speed, s.mold, s.family], (s) => s.slg), { se: "cluster" });
-    const crudeSpeed = logisticRegressionMulti([terms[0]!], rowsOf((s) => [s.speed], (s) => s.slg), { se: "cluster", likelihoodRatio: false });
+    const fit = logisticRegressionMulti(
+      terms,
+      rowsOf(
+        (s) => [s.speed, s.mold, s.family],
+        (s) => s.slg,
+      ),
+      { se: "cluster" },
+    );
+    const crudeSpeed = logisticRegressionMulti(
+      [terms[0]!],
+      rowsOf(
+        (s) => [s.speed],
+        (s) => s.slg,
+      ),
+      { se: "cluster", likelihoodRatio: false },
+    );
     const speed = term(r, "casting_speed_m_min");
     const mold = term(r, "mold_level_sd_mm");
     const fam = term(r, "grade_family", "PER");
@@ -163,7 +188,9 @@ describe("adjusted model on the confounded plant", () => {
     const corr = (x: number[], y: number[]) => {
       const mx = x.reduce((a, v) => a + v, 0) / x.length;
       const my = y.reduce((a, v) => a + v, 0) / y.length;
-      let sxy = 0, sxx = 0, syy = 0;
+      let sxy = 0,
+        sxx = 0,
+        syy = 0;
       for (let i = 0; i < x.length; i++) {
         sxy += (x[i]! - mx) * (y[i]! - my);
         sxx += (x[i]! - mx) ** 2;
@@ -190,19 +217,38 @@ describe("adjusted model on the confounded plant", () => {
       expect(term(cl, key).adjusted.coef).toBeCloseTo(term(mb, key).adjusted.coef!, 10);
     }
     expect(cl.seMethod).toBe("cluster");
-    expect(cl.methods.adjusted).toContain("cluster-robust (sandwich) standard errors clustered by heat (Liang & Zeger 1986) with the small-sample factor G/(G − 1)·(N − 1)/(N − K)");
+    expect(cl.methods.adjusted).toContain(
+      "cluster-robust (sandwich) standard errors clustered by heat (Liang & Zeger 1986) with the small-sample factor G/(G − 1)·(N − 1)/(N − K)",
+    );
     expect(cl.methods.crude).toContain("heat-clustered");
     expect(mb.methods.adjusted).toContain("model-based standard errors (inverse Fisher information)");
     // Likelihood-ratio test of casting speed, by refitting without it from the SQL slabs.
     const full = logisticRegressionMulti(
-      [{ name: "speed", kind: "numeric" }, { name: "mold", kind: "numeric" }, { name: "family", kind: "categorical", reference: "LC" }],
-      rowsOf((s) => [s.speed, s.mold, s.family], (s) => s.slg),
+      [
+        { name: "speed", kind: "numeric" },
+        { name: "mold", kind: "numeric" },
+        { name: "family", kind: "categorical", reference: "LC" },
+      ],
+      rowsOf(
+        (s) => [s.speed, s.mold, s.family],
+        (s) => s.slg,
+      ),
       { se: "model", likelihoodRatio: false },
     );
-    const reduced = logisticRegressionMulti([{ name: "mold", kind: "numeric" }, { name: "family", kind: "categorical", reference: "LC" }], rowsOf((s) => [s.mold, s.family], (s) => s.slg), {
-      se: "model",
-      likelihoodRatio: false,
-    });
+    const reduced = logisticRegressionMulti(
+      [
+        { name: "mold", kind: "numeric" },
+        { name: "family", kind: "categorical", reference: "LC" },
+      ],
+      rowsOf(
+        (s) => [s.mold, s.family],
+        (s) => s.slg,
+      ),
+      {
+        se: "model",
+        likelihoodRatio: false,
+      },
+    );
     const v = mb.variables.find((x: { variable: string }) => x.variable === "casting_speed_m_min");
     expect(v.test).toBe("likelihood ratio");
     expect(v.lrChi2).toBeCloseTo(reduced.deviance! - full.deviance!, 6);
@@ -239,7 +285,9 @@ describe("adjusted model on the confounded plant", () => {
     expect(nested.message).toContain("Grade determines the grade family");
     const unknown = await refused("/api/reports/adjusted?defectType=SLG&variables=colour");
     expect(unknown.message).toContain("Unknown condition “colour”");
-    const many = await refused(`/api/reports/adjusted?defectType=SLG&variables=${["casting_speed_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm", "width_mm", "c_pct", "mn_pct"].join(",")}`);
+    const many = await refused(
+      `/api/reports/adjusted?defectType=SLG&variables=${["casting_speed_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm", "width_mm", "c_pct", "mn_pct"].join(",")}`,
+    );
     expect(many.message).toContain("At most 8 keys");
     const none = await refused("/api/reports/adjusted?defectType=SLG");
     expect(none.message).toContain("Name the conditions to examine");
@@ -319,7 +367,15 @@ describe("rate against a variable, adjusted and per stratum", () => {
         else expect(b.ciLower).toBeCloseTo(wilson(b.affected, b.slabs).lower, 12);
         expect(b.sparse).toBe(b.slabs < 30);
       }
-      const fit = logisticRegressionMulti([{ name: "speed", kind: "numeric" }], rowsOf((s) => [s.speed], (s) => s.slg, mine), { se: "cluster", likelihoodRatio: false });
+      const fit = logisticRegressionMulti(
+        [{ name: "speed", kind: "numeric" }],
+        rowsOf(
+          (s) => [s.speed],
+          (s) => s.slg,
+          mine,
+        ),
+        { se: "cluster", likelihoodRatio: false },
+      );
       expect(level.logistic.slope).toBeCloseTo(fit.terms[0]!.coef!, 8);
       expect(level.logistic.se).toBeCloseTo(fit.terms[0]!.se!, 8);
     }
@@ -336,14 +392,32 @@ describe("rate against a variable, adjusted and per stratum", () => {
   it("when a variable has no spread (SEN depth is 160 mm on every slab), then rate against it gives no p-value at all (null, never 0 or 1) and says not testable", async () => {
     const r = await get("/api/reports/rate-by-variable?defectType=SLG&variable=sen_depth_mm");
     expect(r.slabs).toBe(plant.slabs);
-    expect([r.spearman.p, r.pointBiserial.p, r.logistic.p, r.mannWhitney.p, r.spearman.rho, r.logistic.oddsRatio]).toEqual([null, null, null, null, null, null]);
+    expect([r.spearman.p, r.pointBiserial.p, r.logistic.p, r.mannWhitney.p, r.spearman.rho, r.logistic.oddsRatio]).toEqual([
+      null,
+      null,
+      null,
+      null,
+      null,
+      null,
+    ]);
     expect(r.notes.join(" ")).toContain("SEN depth: not testable — no spread in these filters (every value is the same)");
     expect(r.notes.join(" ")).not.toMatch(/separat/i);
   });
 });
 
 describe("screening adjusted for grade family", () => {
-  type Var = { key: string; p: number | null; pAdjusted: number | null; parent: string | null; countedInBh: boolean; testable: boolean; reason: string | null; adjusted: { p: number | null; pAdjusted: number | null; oddsRatioPerIqr: number | null; test: string } | null; crude: { oddsRatioPerIqr: number | null } | null; iqr: number | null };
+  type Var = {
+    key: string;
+    p: number | null;
+    pAdjusted: number | null;
+    parent: string | null;
+    countedInBh: boolean;
+    testable: boolean;
+    reason: string | null;
+    adjusted: { p: number | null; pAdjusted: number | null; oddsRatioPerIqr: number | null; test: string } | null;
+    crude: { oddsRatioPerIqr: number | null } | null;
+    iqr: number | null;
+  };
 
   it("when screening ranks by the tests adjusted for grade family, then mold-level fluctuation ranks above casting speed, while the crude ranking puts speed higher than its adjusted place", async () => {
     const adj = await get("/api/reports/screening?defectType=SLG");
@@ -387,7 +461,13 @@ describe("screening adjusted for grade family", () => {
     const at = order.indexOf("casting_speed_m_min");
     expect(order.slice(at + 1, at + 5).sort()).toEqual(["metallurgical_length_m", "sen_port_velocity_m_s", "shell_exit_mm", "throughput_t_min"]);
     // Constant or empty variables are not testable and not counted (SEN depth, argon, width … are constant here).
-    expect(by("sen_depth_mm")).toMatchObject({ testable: false, p: null, pAdjusted: null, countedInBh: false, reason: "not testable: no spread, every value is the same" });
+    expect(by("sen_depth_mm")).toMatchObject({
+      testable: false,
+      p: null,
+      pAdjusted: null,
+      countedInBh: false,
+      reason: "not testable: no spread, every value is the same",
+    });
     // Manganese is 0.9 wt % on every slab: one-pass sums (Σx² − n·x̄²)/(n − 1) leave a positive variance
     // there, which is how the old screening came to test it; it is not testable.
     let [n, sum, ss] = [0, 0, 0];
@@ -427,7 +507,15 @@ describe("the fit itself", () => {
     const fam = Int32Array.from(slabs, (s) => (s.family === "LC" ? 0 : 1));
     const y = Uint8Array.from(slabs, (s) => s.slg);
     const heat = Int32Array.from(slabs, (s) => s.heat);
-    const data = { terms: [{ name: "speed", kind: "numeric" as const, values: speed }, { name: "mold", kind: "numeric" as const, values: mold }, { name: "family", kind: "categorical" as const, codes: fam }], affected: y, cluster: heat };
+    const data = {
+      terms: [
+        { name: "speed", kind: "numeric" as const, values: speed },
+        { name: "mold", kind: "numeric" as const, values: mold },
+        { name: "family", kind: "categorical" as const, codes: fam },
+      ],
+      affected: y,
+      cluster: heat,
+    };
     const each = logisticRegressionColumns(data, { se: "cluster", group: false });
     const hashed = logisticRegressionColumns(data, { se: "cluster" });
     // Pattern ids from the heat (its values are shared by its slabs) and the family.
@@ -451,7 +539,10 @@ describe("the fit itself", () => {
     // Heats not in blocks: a late slab of an early heat, so the first appearance of a heat among the
     // used rows is not its first appearance among all rows (the order the sandwich adds them in).
     const heat = Int32Array.from(slabs, (s, i) => (i % 11 === 5 ? slabs[(i * 7) % n]!.heat : s.heat));
-    const terms = [{ name: "speed", kind: "numeric" as const, values: speed }, { name: "family", kind: "categorical" as const, codes: fam }];
+    const terms = [
+      { name: "speed", kind: "numeric" as const, values: speed },
+      { name: "family", kind: "categorical" as const, codes: fam },
+    ];
     // A subset of the rows, as a report's filters leave them: every third slab dropped.
     const rows = Int32Array.from({ length: n }, (_, i) => i).filter((i) => i % 3 !== 0);
     const complete = rows.filter((i) => Number.isFinite(speed[i]!));
@@ -462,7 +553,10 @@ describe("the fit itself", () => {
       return lookup.get(h)!;
     });
     const plain = logisticRegressionColumns({ terms, affected: y, cluster: heat, rows }, { se: "cluster" });
-    const shortcut = logisticRegressionColumns({ terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete: true }, { se: "cluster" });
+    const shortcut = logisticRegressionColumns(
+      { terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete: true },
+      { se: "cluster" },
+    );
     // The plain fit drops the rows without a speed and says so; otherwise every number is equal.
     expect(plain.slabsMissing).toBe(rows.length - complete.length);
     expect(plain.notes.some((x) => /left out/.test(x))).toBe(true);
@@ -470,7 +564,12 @@ describe("the fit itself", () => {
     expect(shortcut.terms[0]!.se).toBe(plain.terms[0]!.se);
     expect(shortcut.clusters).toBe(plain.clusters);
     expect(() => logisticRegressionColumns({ terms, affected: y, cluster: heat, rows, rowsComplete: true }, { se: "cluster" })).toThrow(/vouched complete/);
-    expect(() => logisticRegressionColumns({ terms, affected: y, clusterIds: { ids: new Int32Array(n).fill(-1), count: 1 }, rows: complete, rowsComplete: true }, { se: "cluster" })).toThrow(/without a heat/);
+    expect(() =>
+      logisticRegressionColumns(
+        { terms, affected: y, clusterIds: { ids: new Int32Array(n).fill(-1), count: 1 }, rows: complete, rowsComplete: true },
+        { se: "cluster" },
+      ),
+    ).toThrow(/without a heat/);
     // Pattern ids with their count given (no pass for the largest): the same fit; an id past the count is refused.
     const codes = new Map<string, number>();
     const pattern = Int32Array.from({ length: n }, (_, i) => {
@@ -478,15 +577,20 @@ describe("the fit itself", () => {
       if (!codes.has(k)) codes.set(k, codes.size);
       return codes.get(k)!;
     });
-    const counted = logisticRegressionColumns({ terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete: true, pattern, patternCount: codes.size }, { se: "cluster" });
+    const counted = logisticRegressionColumns(
+      { terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete: true, pattern, patternCount: codes.size },
+      { se: "cluster" },
+    );
     expect(counted.terms.map((t) => [t.coef, t.se])).toEqual(shortcut.terms.map((t) => [expect.closeTo(t.coef!, 12), expect.closeTo(t.se!, 12)]));
-    expect(() => logisticRegressionColumns({ terms, affected: y, cluster: heat, rows: complete, pattern, patternCount: 2 }, { se: "cluster" })).toThrow(/outside the caller's count|differ/);
+    expect(() => logisticRegressionColumns({ terms, affected: y, cluster: heat, rows: complete, pattern, patternCount: 2 }, { se: "cluster" })).toThrow(
+      /outside the caller's count|differ/,
+    );
   });
 
   it("when a fit has more than 100,000 distinct rows (its first steps taken on a sample), then it equals the one-variable fit of logistic.ts (checked on the Challenger data)", () => {
     // A fixed-seed linear congruential generator (Numerical Recipes constants): the same rows every run.
     let seed = 12345;
-    const rnd = () => ((seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0) / 2 ** 32);
+    const rnd = () => (seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0) / 2 ** 32;
     const n = 120_000;
     const x = new Float64Array(n);
     const y = new Uint8Array(n);
@@ -534,7 +638,12 @@ describe("Excel exports of the adjusted answers", () => {
     const params = wb.getWorksheet("Parameters")!;
     const pairs = params.getRows(2, params.rowCount - 1)!.map((r) => [String(r.getCell(1).value), String(r.getCell(2).value)]);
     const kv = Object.fromEntries(pairs);
-    expect(kv).toMatchObject({ Report: "Adjusted model", "Defect type": "SLG", "Conditions examined": "Casting speed (m/min), Mold level fluctuation (s.d.) (mm)", "Adjusted for": "Grade family" });
+    expect(kv).toMatchObject({
+      Report: "Adjusted model",
+      "Defect type": "SLG",
+      "Conditions examined": "Casting speed (m/min), Mold level fluctuation (s.d.) (mm)",
+      "Adjusted for": "Grade family",
+    });
     for (const key of ["variables", "adjustFor", "defectType", "se", "per"]) expect(pairs.map(([k]) => k)).not.toContain(key);
     expect(pairs.some(([k, v]) => k === "Note" && String(v).startsWith("Most of the crude association of casting speed"))).toBe(true);
   });
@@ -546,13 +655,28 @@ describe("Excel exports of the adjusted answers", () => {
     const adj = sheetRows(wb.getWorksheet("Adjusted")!);
     // Rows: adjusted per step, adjusted per unit, crude per step, crude per unit; columns: estimate, per, OR, lower, upper, slope, se, p.
     expect(adj[0]!.slice(1, 5)).toEqual(["per 0.1 m/min", json.adjusted.perStep.oddsRatio, json.adjusted.perStep.ciLower, json.adjusted.perStep.ciUpper]);
-    expect(adj[1]!.slice(1, 8)).toEqual(["per 1 m/min", json.adjusted.oddsRatio, json.adjusted.oddsRatioCiLower, json.adjusted.oddsRatioCiUpper, json.adjusted.slope, json.adjusted.se, json.adjusted.p]);
+    expect(adj[1]!.slice(1, 8)).toEqual([
+      "per 1 m/min",
+      json.adjusted.oddsRatio,
+      json.adjusted.oddsRatioCiLower,
+      json.adjusted.oddsRatioCiUpper,
+      json.adjusted.slope,
+      json.adjusted.se,
+      json.adjusted.p,
+    ]);
     expect(adj[3]!.slice(2, 5)).toEqual([json.adjusted.crude.oddsRatio, json.adjusted.crude.oddsRatioCiLower, json.adjusted.crude.oddsRatioCiUpper]);
     const levels = sheetRows(wb.getWorksheet("Rates within levels")!);
     expect(levels).toHaveLength(json.stratified.strata.length * json.bins.length);
     expect(levels.map((r) => r[3])).toEqual(json.stratified.strata.flatMap((s: { bins: { slabs: number }[] }) => s.bins.map((b) => b.slabs)));
     const ors = sheetRows(wb.getWorksheet("Odds ratios within levels")!);
-    expect(ors.map((r) => [r[0], r[4], r[5], r[6]])).toEqual(json.stratified.strata.map((s: { label: string; logistic: Record<string, number> }) => [s.label, s.logistic.oddsRatio, s.logistic.oddsRatioCiLower, s.logistic.oddsRatioCiUpper]));
+    expect(ors.map((r) => [r[0], r[4], r[5], r[6]])).toEqual(
+      json.stratified.strata.map((s: { label: string; logistic: Record<string, number> }) => [
+        s.label,
+        s.logistic.oddsRatio,
+        s.logistic.oddsRatioCiLower,
+        s.logistic.oddsRatioCiUpper,
+      ]),
+    );
     const params = wb.getWorksheet("Parameters")!;
     const kv = Object.fromEntries(params.getRows(2, params.rowCount - 1)!.map((r) => [String(r.getCell(1).value), String(r.getCell(2).value)]));
     expect(kv).toMatchObject({ "Adjusted for": "Grade family", "Compare within": "Grade family" });
@@ -565,11 +689,17 @@ describe("Excel exports of the adjusted answers", () => {
     const h = header(ws);
     const rows = sheetRows(ws);
     expect(rows.map((r) => r[h.indexOf("Key")])).toEqual(json.variables.map((v: ScreenVar) => v.key));
-    expect(rows.map((r) => r[h.indexOf("Adjusted odds ratio per IQR")] ?? null)).toEqual(json.variables.map((v: ScreenVar) => v.adjusted?.oddsRatioPerIqr ?? null));
+    expect(rows.map((r) => r[h.indexOf("Adjusted odds ratio per IQR")] ?? null)).toEqual(
+      json.variables.map((v: ScreenVar) => v.adjusted?.oddsRatioPerIqr ?? null),
+    );
     expect(rows.map((r) => r[h.indexOf("Crude odds ratio per IQR")] ?? null)).toEqual(json.variables.map((v: ScreenVar) => v.crude?.oddsRatioPerIqr ?? null));
     expect(rows.map((r) => r[h.indexOf("Adjusted p (BH)")] ?? null)).toEqual(json.variables.map((v: ScreenVar) => v.adjusted?.pAdjusted ?? null));
     expect(rows.map((r) => r[h.indexOf("Listed under")] ?? "")).toContain("Casting speed");
   });
 });
 
-type ScreenVar = { key: string; adjusted: { oddsRatioPerIqr: number | null; pAdjusted: number | null } | null; crude: { oddsRatioPerIqr: number | null } | null };
+type ScreenVar = {
+  key: string;
+  adjusted: { oddsRatioPerIqr: number | null; pAdjusted: number | null } | null;
+  crude: { oddsRatioPerIqr: number | null } | null;
+};

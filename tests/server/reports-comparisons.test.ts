@@ -34,7 +34,11 @@ const isoDay = (ms: number) => new Date(ms).toISOString().slice(0, 10);
 let heatNo = 0;
 function addHeat(day: string, grade: "LV-DQ10" | "LV-ST32", defects: number[], type: string) {
   const c = t.db.$client;
-  const one = (sql: string, ...a: unknown[]) => c.prepare(sql).pluck().get(...a) as number;
+  const one = (sql: string, ...a: unknown[]) =>
+    c
+      .prepare(sql)
+      .pluck()
+      .get(...a) as number;
   const caster = one("select id from casters where code = 'CC2'");
   const strand = one("select id from strands where caster_id = ? and strand_no = 1", caster);
   const start = at(day);
@@ -48,7 +52,9 @@ function addHeat(day: string, grade: "LV-DQ10" | "LV-ST32", defects: number[], t
   defects.forEach((k, i) => {
     const slab = Number(
       c
-        .prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, ?, ?, ?, 10000, 1500, 230, 26.91, ?)")
+        .prepare(
+          "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, ?, ?, ?, 10000, 1500, 230, 26.91, ?)",
+        )
         .run(`CMP${heatNo}-${i + 1}`, heat, strand, i + 1, start + i * 60_000).lastInsertRowid,
     );
     for (let d = 0; d < k; d++) {
@@ -176,7 +182,11 @@ describe("before and after within strata", () => {
 
   it("when two weeks of a small plant are compared within grade families, then every figure matches the hand computation", async () => {
     // A (week 23): LC 2 of 10, PER 2 of 20. B (week 25): LC 4 of 10, PER 1 of 5.
-    const r = beforeAfterSchema.parse(await get("/api/reports/before-after?mode=periods&aFrom=2026-06-01&aTo=2026-06-07&bFrom=2026-06-15&bTo=2026-06-21&defectType=SLG&stratifyBy=grade_family"));
+    const r = beforeAfterSchema.parse(
+      await get(
+        "/api/reports/before-after?mode=periods&aFrom=2026-06-01&aTo=2026-06-07&bFrom=2026-06-15&bTo=2026-06-21&defectType=SLG&stratifyBy=grade_family",
+      ),
+    );
     const st = r.stratified!;
     expect(st.strata.map((s) => [s.label, s.a.slabs, s.a.affected, s.b.slabs, s.b.affected])).toEqual([
       ["LC", 10, 2, 10, 4],
@@ -258,7 +268,11 @@ describe("before and after within strata", () => {
 
   it("when a family is found in one group only, then the standardised rates leave it out and say so", async () => {
     // A = week 25 (LC and PER), B = week 26 (PER only).
-    const r = beforeAfterSchema.parse(await get("/api/reports/before-after?mode=periods&aFrom=2026-06-15&aTo=2026-06-21&bFrom=2026-06-22&bTo=2026-06-28&defectType=SLG&stratifyBy=grade_family"));
+    const r = beforeAfterSchema.parse(
+      await get(
+        "/api/reports/before-after?mode=periods&aFrom=2026-06-15&aTo=2026-06-21&bFrom=2026-06-22&bTo=2026-06-28&defectType=SLG&stratifyBy=grade_family",
+      ),
+    );
     const st = r.stratified!;
     expect(st.standardised.leftOut).toEqual([{ label: "LC", group: "A", slabs: 10 }]);
     expect(st.standardised.referenceMix).toEqual([{ label: "PER", slabs: 9, share: 1 }]);
@@ -310,12 +324,16 @@ describe("before and after refuses what cannot be compared", () => {
   });
 
   it("when a group holds no slab, then the test's p is null with the reason (not Fisher's p = 1)", async () => {
-    const r = beforeAfterSchema.parse(await get("/api/reports/before-after?mode=periods&aFrom=2026-06-01&aTo=2026-06-07&bFrom=2030-01-01&bTo=2030-01-31&defectType=SLG"));
+    const r = beforeAfterSchema.parse(
+      await get("/api/reports/before-after?mode=periods&aFrom=2026-06-01&aTo=2026-06-07&bFrom=2030-01-01&bTo=2030-01-31&defectType=SLG"),
+    );
     expect(r.b.slabs).toBe(0);
     expect(r.test).toEqual({ name: "none", p: null, method: "no test", reason: "group B has no slab in these filters: there is nothing to compare" });
     expect(r.difference.value).toBeNull();
     // No affected slab in either group: nothing to test either.
-    const none = beforeAfterSchema.parse(await get("/api/reports/before-after?mode=periods&aFrom=2026-06-01&aTo=2026-06-07&bFrom=2026-06-15&bTo=2026-06-21&defectType=LFC"));
+    const none = beforeAfterSchema.parse(
+      await get("/api/reports/before-after?mode=periods&aFrom=2026-06-01&aTo=2026-06-07&bFrom=2026-06-15&bTo=2026-06-21&defectType=LFC"),
+    );
     expect(none.test.p).toBeNull();
     expect(none.test.reason).toContain("no slab of either group is affected");
   });
@@ -349,7 +367,12 @@ describe("standardised rates in the overview", () => {
     // W25: LC 4/10, PER 1/5 → (20·0.4 + 29·0.2)/49 = 13.8/49.
     expect(week("2026-W25").standardised!.rate).toBeCloseTo(13.8 / 49, 12);
     // W26 cast PER only: undefined, with the reason.
-    expect(week("2026-W26").standardised).toEqual({ rate: null, ciLower: null, ciUpper: null, reason: "this week has no slab in LC, which the reference mix contains: the standardised rate is undefined" });
+    expect(week("2026-W26").standardised).toEqual({
+      rate: null,
+      ciLower: null,
+      ciUpper: null,
+      reason: "this week has no slab in LC, which the reference mix contains: the standardised rate is undefined",
+    });
     expect(r.notes.join(" ")).toContain("1 week lacks a grade family of the reference mix");
     // Without the option the answer is as before: no standardised field.
     const plain = await get("/api/reports/overview?period=week&from=2026-06-01&to=2026-06-30&defectType=SLG");
@@ -465,8 +488,12 @@ describe("control charts", () => {
     expect((await refused(`/api/reports/control-chart?${MARCH_Q}&baselineFrom=2025-03-01`)).message).toBe(
       "Give both the first day (baselineFrom) and the last day (baselineTo) of the baseline, or neither.",
     );
-    expect((await refused(`/api/reports/control-chart?${MARCH_Q}&baselineFrom=2025-03-20&baselineTo=2025-03-01`)).message).toContain("The baseline ends (2025-03-01) before it starts (2025-03-20)");
-    expect((await refused(`/api/reports/control-chart?${MARCH_Q}&baselineFrom=2024-01-01&baselineTo=2024-01-31`)).message).toContain("holds no slab in these filters");
+    expect((await refused(`/api/reports/control-chart?${MARCH_Q}&baselineFrom=2025-03-20&baselineTo=2025-03-01`)).message).toContain(
+      "The baseline ends (2025-03-01) before it starts (2025-03-20)",
+    );
+    expect((await refused(`/api/reports/control-chart?${MARCH_Q}&baselineFrom=2024-01-01&baselineTo=2024-01-31`)).message).toContain(
+      "holds no slab in these filters",
+    );
     expect((await refused(`/api/reports/control-chart?${MARCH_Q}&chart=u&standardise=grade_family`)).message).toContain("the u-chart counts defects per slab");
     // No affected slab: Laney's z-scores are undefined, so the p′ chart has no limits to draw.
     expect((await refused("/api/reports/control-chart?from=2026-06-01&to=2026-06-30&defectType=LFC&chart=laney")).message).toBe(
@@ -478,7 +505,9 @@ describe("control charts", () => {
   });
 
   it("when the control chart is standardised to the grade-family mix, then each day carries its standardised rate beside the crude one", async () => {
-    const r = controlChartSchema.parse(await get("/api/reports/control-chart?from=2026-06-01&to=2026-06-30&defectType=SLG&period=week&standardise=grade_family"));
+    const r = controlChartSchema.parse(
+      await get("/api/reports/control-chart?from=2026-06-01&to=2026-06-30&defectType=SLG&period=week&standardise=grade_family"),
+    );
     expect(r.points.map((p) => p.period)).toEqual(["2026-W23", "2026-W25", "2026-W26"]);
     expect(r.points[0]!.standardised!.rate).toBeCloseTo(6.9 / 49, 12);
     expect(r.points[2]!.standardised!.rate).toBeNull();
@@ -541,7 +570,9 @@ describe("process window contract", () => {
     expect(r.slabs).toBe(0);
     expect(r.notes[0]).toBe("No slab in these filters has a value for EMBr current: there is no window to draw.");
     // With values on both axes every cell bound is a number.
-    const full = processWindowSchema.parse(await get(`/api/reports/process-window?from=${plant.from}&x=casting_speed_m_min&y=embr_current_a&xBins=3&yBins=3&defectType=SLG`));
+    const full = processWindowSchema.parse(
+      await get(`/api/reports/process-window?from=${plant.from}&x=casting_speed_m_min&y=embr_current_a&xBins=3&yBins=3&defectType=SLG`),
+    );
     expect(full.cells.length).toBe(9);
     expect(full.cells.every((c) => [c.xLower, c.xUpper, c.yLower, c.yUpper].every(Number.isFinite))).toBe(true);
     // The OpenAPI document declares the bounds as numbers, which the answer now always gives.
@@ -572,8 +603,12 @@ describe("Excel exports", () => {
     const pooled = wb.getWorksheet("Pooled over strata")!;
     const mh = rowsOf(pooled)[1]!;
     expect(mh.slice(1, 7)).toEqual([
-      json.stratified!.mantelHaenszel.oddsRatio, json.stratified!.mantelHaenszel.ciLower, json.stratified!.mantelHaenszel.ciUpper,
-      json.stratified!.mantelHaenszel.chi2, 1, json.stratified!.mantelHaenszel.p,
+      json.stratified!.mantelHaenszel.oddsRatio,
+      json.stratified!.mantelHaenszel.ciLower,
+      json.stratified!.mantelHaenszel.ciUpper,
+      json.stratified!.mantelHaenszel.chi2,
+      1,
+      json.stratified!.mantelHaenszel.p,
     ]);
     expect(typeof mh[2]).toBe("number");
     const mix = rowsOf(wb.getWorksheet("Reference mix")!);
@@ -592,7 +627,9 @@ describe("Excel exports", () => {
   });
 
   it("when a range comparison and the rate against a variable are exported, then variables carry their labels and units, and the odds-ratio interval is two number columns", async () => {
-    const wb = await workbook(`/api/reports/before-after.xlsx?mode=variable&variable=casting_speed_m_min&aMin=0.5&aMax=1.49&bMin=1.5&bMax=2.5&from=${plant.from}&defectType=SLG`);
+    const wb = await workbook(
+      `/api/reports/before-after.xlsx?mode=variable&variable=casting_speed_m_min&aMin=0.5&aMax=1.49&bMin=1.5&bMax=2.5&from=${plant.from}&defectType=SLG`,
+    );
     const params = parameters(wb);
     expect(params).toContainEqual(["Variable", "Casting speed (m/min)"]);
     expect(params).toContainEqual(["A from (m/min)", "0.5"]);
@@ -603,12 +640,18 @@ describe("Excel exports", () => {
     expect(parameters(rb)).toContainEqual(["Variable", "EMBr current (A)"]);
     expect(parameters(rb)).toContainEqual(["Least slabs in a bin", "30"]);
     // Method lines name the test in words, not by the answer's keys.
-    const methods = parameters(rb).filter(([k]) => k === "Method").map(([, v]) => v);
+    const methods = parameters(rb)
+      .filter(([k]) => k === "Method")
+      .map(([, v]) => v);
     expect(methods.some((m) => m.startsWith("Point-biserial r: "))).toBe(true);
     expect(methods.some((m) => /^(pointBiserial|mannWhitney|spearman):/.test(m))).toBe(false);
     const tests = rb.getWorksheet("Tests")!;
     const or = tests.getRows(2, tests.rowCount - 1)!.find((r) => String(r.getCell(1).value).startsWith("Odds ratio"))!;
-    expect([or.getCell(2).value, or.getCell(4).value, or.getCell(5).value]).toEqual([json.logistic.oddsRatio, json.logistic.oddsRatioCiLower, json.logistic.oddsRatioCiUpper]);
+    expect([or.getCell(2).value, or.getCell(4).value, or.getCell(5).value]).toEqual([
+      json.logistic.oddsRatio,
+      json.logistic.oddsRatioCiLower,
+      json.logistic.oddsRatioCiUpper,
+    ]);
     expect(typeof or.getCell(4).value).toBe("number");
     // The Mann–Whitney p is the JSON's number, in a format that shows a tiny p in scientific notation.
     const mw = tests.getRows(2, tests.rowCount - 1)!.find((r) => r.getCell(1).value === "Mann–Whitney U")!;
@@ -619,15 +662,28 @@ describe("Excel exports", () => {
   it("when a p-value underflowed to 0, then the workbook writes the smallest positive double Excel holds, not 0, and says so", async () => {
     // The report object of a rate against a variable whose Mann–Whitney p underflowed (the screen says < 10⁻¹⁵).
     const fake = {
-      variable: { key: "mold_level_sd_mm", label: "Mold level fluctuation (s.d.)", unit: "mm" }, slabs: 10, affected: 5, slabsWithoutValue: 0, bins: [],
-      spearman: { rho: 0.9, p: 0 }, pointBiserial: { r: 0.9, p: 1e-40 }, logistic: { intercept: -3, slope: 2, oddsRatio: 7.39, oddsRatioCiLower: 5.1, oddsRatioCiUpper: 10.7, p: 0, converged: true },
-      mannWhitney: { u: 25, p: 0 }, distribution: { affected: { n: 5, min: 1, q1: 1, median: 1, q3: 1, max: 1, mean: 1 }, sound: { n: 5, min: 1, q1: 1, median: 1, q3: 1, max: 1, mean: 1 } },
-      strip: { affected: [], sound: [] }, methods: {}, notes: [],
+      variable: { key: "mold_level_sd_mm", label: "Mold level fluctuation (s.d.)", unit: "mm" },
+      slabs: 10,
+      affected: 5,
+      slabsWithoutValue: 0,
+      bins: [],
+      spearman: { rho: 0.9, p: 0 },
+      pointBiserial: { r: 0.9, p: 1e-40 },
+      logistic: { intercept: -3, slope: 2, oddsRatio: 7.39, oddsRatioCiLower: 5.1, oddsRatioCiUpper: 10.7, p: 0, converged: true },
+      mannWhitney: { u: 25, p: 0 },
+      distribution: { affected: { n: 5, min: 1, q1: 1, median: 1, q3: 1, max: 1, mean: 1 }, sound: { n: 5, min: 1, q1: 1, median: 1, q3: 1, max: 1, mean: 1 } },
+      strip: { affected: [], sound: [] },
+      methods: {},
+      notes: [],
     } as unknown as RateByVariable;
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.load((await reportWorkbook("rate-by-variable", "variable=mold_level_sd_mm", fake, "test")) as never);
     const tests = wb.getWorksheet("Tests")!;
-    const p = (name: string) => tests.getRows(2, tests.rowCount - 1)!.find((r) => r.getCell(1).value === name)!.getCell(3).value;
+    const p = (name: string) =>
+      tests
+        .getRows(2, tests.rowCount - 1)!
+        .find((r) => r.getCell(1).value === name)!
+        .getCell(3).value;
     expect(p("Mann–Whitney U")).toBe(2.2250738585072014e-308);
     expect(p("Spearman ρ")).toBe(2.2250738585072014e-308);
     expect(p("Point-biserial r")).toBe(1e-40);
@@ -640,7 +696,20 @@ describe("Excel exports", () => {
     const json = controlChartSchema.parse(await get(`/api/reports/control-chart?${qs}`));
     const wb = await workbook(`/api/reports/control-chart.xlsx?${qs}`);
     const ws = wb.getWorksheet("p-chart")!;
-    expect(headersOf(ws).slice(0, 12)).toEqual(["Day", "Slabs", "Affected slabs", "p (share affected)", "UCL", "LCL", "Out of control", "Phase", "Defects", "Centre line p̄", "z (σ from the centre)", "Run rules signalled"]);
+    expect(headersOf(ws).slice(0, 12)).toEqual([
+      "Day",
+      "Slabs",
+      "Affected slabs",
+      "p (share affected)",
+      "UCL",
+      "LCL",
+      "Out of control",
+      "Phase",
+      "Defects",
+      "Centre line p̄",
+      "z (σ from the centre)",
+      "Run rules signalled",
+    ]);
     const rows = rowsOf(ws);
     expect(rows.map((r) => [r[0], r[3], r[4], r[5], r[7], r[10], r[11] ?? ""])).toEqual(
       json.points.map((p) => [p.period, p.p, p.ucl, p.lcl, p.phase === "baseline" ? "baseline" : "after the baseline", p.z, p.signals.join(", ")]),
@@ -661,9 +730,15 @@ describe("Excel exports", () => {
     const h = headersOf(ws);
     const col = (name: string) => h.indexOf(name);
     expect(col("Standardised 95 % CI upper")).toBeGreaterThan(0);
-    expect(rowsOf(ws).map((r) => [r[0], r[col("Rate")], r[col("Standardised rate")] ?? null, r[col("Standardised 95 % CI lower")] ?? null, r[col("Standardised 95 % CI upper")] ?? null])).toEqual(
-      json.periods.map((p) => [p.period, p.rate, p.standardised!.rate, p.standardised!.ciLower, p.standardised!.ciUpper]),
-    );
+    expect(
+      rowsOf(ws).map((r) => [
+        r[0],
+        r[col("Rate")],
+        r[col("Standardised rate")] ?? null,
+        r[col("Standardised 95 % CI lower")] ?? null,
+        r[col("Standardised 95 % CI upper")] ?? null,
+      ]),
+    ).toEqual(json.periods.map((p) => [p.period, p.rate, p.standardised!.rate, p.standardised!.ciLower, p.standardised!.ciUpper]));
     expect(parameters(wb)).toContainEqual(["Standardised to", "the grade-family mix of every slab in the filters"]);
     expect(parameters(wb)).toContainEqual(["Rates by", "ISO week"]);
   });

@@ -29,7 +29,9 @@ beforeAll(async () => {
   const caster = c.prepare("select id from casters where code = 'CC2'").pluck().get() as number;
   const grade = c.prepare("select id from grades where code = 'LV-ST32'").pluck().get() as number;
   const strand = c.prepare("select id from strands where caster_id = ? and strand_no = 1").pluck().get(caster) as number;
-  const heatIns = c.prepare("insert into heats (heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, c_pct) values (?, ?, ?, ?, ?, 1.5, 0.12)");
+  const heatIns = c.prepare(
+    "insert into heats (heat_no, caster_id, grade_id, cast_start, cast_end, casting_speed_m_min, c_pct) values (?, ?, ?, ?, ?, 1.5, 0.12)",
+  );
   const h1 = Number(heatIns.run("HAND1", caster, grade, DAY1, DAY1 + 3_600_000).lastInsertRowid);
   const h2 = Number(heatIns.run("HAND2", caster, grade, DAY2, DAY2 + 3_600_000).lastInsertRowid);
   const slabIns = c.prepare(
@@ -98,7 +100,9 @@ describe("reports on a plant built by hand", () => {
     expect(bins.reduce((n, b) => n + b.slabs, 0)).toBe(12);
     // Edges 1.0 + 0.055·i: the bin from 1.11 to 1.165 holds no speed (1.1 is below it, 1.2 above).
     const note = (r.notes as string[]).find((n) => n.startsWith("No slab had a value in"));
-    expect(note).toMatch(/^No slab had a value in 1\.11–1\.165 m\/min, .*: those spans were merged into the neighbouring bins, which therefore are wider than the others\.$/);
+    expect(note).toMatch(
+      /^No slab had a value in 1\.11–1\.165 m\/min, .*: those spans were merged into the neighbouring bins, which therefore are wider than the others\.$/,
+    );
     expect(r.methods.grouping).toBe("values grouped to 3 decimals; equal grouped values are ties");
   });
 
@@ -159,7 +163,13 @@ describe("reports on a plant built by hand", () => {
     expect([r.a.slabs, r.a.affected, r.b.slabs, r.b.affected]).toEqual([6, 1, 6, 4]);
     expect(r.difference.value).toBeCloseTo(0.5, 12);
     expect(r.test.name).toBe("fisher");
-    expect(r.test.p).toBeCloseTo(fisherExact2x2([[1, 5], [4, 2]]).pTwoSided, 12);
+    expect(r.test.p).toBeCloseTo(
+      fisherExact2x2([
+        [1, 5],
+        [4, 2],
+      ]).pTwoSided,
+      12,
+    );
   });
 
   it("when the process window crosses two variables, then slabs without both values are left out and the rest fill the cells (even a single-valued one)", async () => {
@@ -171,7 +181,9 @@ describe("reports on a plant built by hand", () => {
     expect(r2.cells.reduce((s: number, c: { slabs: number }) => s + c.slabs, 0)).toBe(12);
     // Every slab is 1,500 mm wide: one width bin, speed split at 1.55 into 6 and 6.
     expect(r2.y.edges).toEqual([1500, 1500]);
-    expect(r2.cells.map((c: { xi: number; yi: number; slabs: number; affected: number; sparse: boolean }) => [c.xi, c.yi, c.slabs, c.affected, c.sparse])).toEqual([
+    expect(
+      r2.cells.map((c: { xi: number; yi: number; slabs: number; affected: number; sparse: boolean }) => [c.xi, c.yi, c.slabs, c.affected, c.sparse]),
+    ).toEqual([
       [0, 0, 6, 1, false],
       [1, 0, 6, 4, false],
     ]);
@@ -209,7 +221,10 @@ describe("report cache freshness", () => {
     // A slab added later is appended to the cache.
     const heat = c.prepare("select heat_id, strand_id from slabs where id = ?").get(id) as { heat_id: number; strand_id: number };
     const added = Number(
-      c.prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at, casting_speed_m_min) values ('HAND-13', ?, ?, 7, 10000, 1500, 230, 26.91, ?, 0.9)")
+      c
+        .prepare(
+          "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at, casting_speed_m_min) values ('HAND-13', ?, ?, 7, 10000, 1500, 230, 26.91, ?, 0.9)",
+        )
         .run(heat.heat_id, heat.strand_id, DAY2 + 7 * 600_000).lastInsertRowid,
     );
     createResolver(t.db).resolve([added]);
@@ -242,7 +257,13 @@ describe("Excel export", () => {
     const params = wb.getWorksheet("Parameters")!;
     const pairs = Object.fromEntries(params.getRows(2, params.rowCount)!.map((r) => [String(r.getCell(1).value), r.getCell(2).value]));
     // The Parameters sheet speaks the screen's words: labels and units, not the query's keys.
-    expect(pairs).toMatchObject({ Report: "Rate against a variable", "Defect type": "SLG", Variable: "Casting speed (m/min)", "Least slabs in a bin": "1", Binning: "Equal-width" });
+    expect(pairs).toMatchObject({
+      Report: "Rate against a variable",
+      "Defect type": "SLG",
+      Variable: "Casting speed (m/min)",
+      "Least slabs in a bin": "1",
+      Binning: "Equal-width",
+    });
     expect(Object.keys(pairs)).not.toContain("defectType");
     expect(Object.keys(pairs)).not.toContain("minN");
     const bins = wb.getWorksheet("Bins")!;
@@ -263,7 +284,9 @@ describe("Excel export", () => {
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.load(res.body as never);
     const pareto = wb.getWorksheet("Pareto")!;
-    expect(pareto.getRows(2, pareto.rowCount - 1)!.map((r) => [r.getCell(1).value, r.getCell(3).value])).toEqual(o.pareto.map((p: { code: string; defects: number }) => [p.code, p.defects]));
+    expect(pareto.getRows(2, pareto.rowCount - 1)!.map((r) => [r.getCell(1).value, r.getCell(3).value])).toEqual(
+      o.pareto.map((p: { code: string; defects: number }) => [p.code, p.defects]),
+    );
     const s = await get("/api/reports/screening?defectType=SLG");
     const res2 = await quality.get("/api/reports/screening.xlsx?defectType=SLG").buffer(true).parse(binary);
     const wb2 = new ExcelJS.Workbook();
@@ -277,7 +300,10 @@ describe("Excel export", () => {
 
 describe("saved reports", () => {
   it("when a user saves a report, then only they see it and can delete it", async () => {
-    const saved = await quality.post("/api/saved-reports").set("Origin", t.env.BETTER_AUTH_URL).send({ name: "Slag vs speed", reportKind: "rate-by-variable", query: "?defectType=SLG&variable=casting_speed_m_min" });
+    const saved = await quality
+      .post("/api/saved-reports")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .send({ name: "Slag vs speed", reportKind: "rate-by-variable", query: "?defectType=SLG&variable=casting_speed_m_min" });
     expect(saved.status).toBe(201);
     expect(saved.body.query).toBe("defectType=SLG&variable=casting_speed_m_min");
     expect((await get("/api/saved-reports")).reports.map((r: { name: string }) => r.name)).toEqual(["Slag vs speed"]);

@@ -29,9 +29,19 @@ beforeAll(async () => {
 }, 180_000);
 afterAll(() => t?.close());
 
-const n = (sql: string, ...args: unknown[]) => t.db.$client.prepare(sql).pluck().get(...args) as number;
+const n = (sql: string, ...args: unknown[]) =>
+  t.db.$client
+    .prepare(sql)
+    .pluck()
+    .get(...args) as number;
 const origin = () => t.env.BETTER_AUTH_URL;
-const SPEC = { targetKind: "type", targetCode: "SLG", conditions: ["casting_speed_m_min", "superheat_c", "embr_current_a", "mold_level_sd_mm"], categories: ["grade_family", "strand"], knots: 4 };
+const SPEC = {
+  targetKind: "type",
+  targetCode: "SLG",
+  conditions: ["casting_speed_m_min", "superheat_c", "embr_current_a", "mold_level_sd_mm"],
+  categories: ["grade_family", "strand"],
+  knots: 4,
+};
 
 let modelId = 0;
 
@@ -43,7 +53,21 @@ describe("risk models over HTTP", () => {
     modelId = m.id;
     expect(m).toMatchObject({ targetKind: "type", targetCode: "SLG", version: 1, status: "ready", active: false, beatsBaseline: true, knots: 4 });
     const v = m.validation;
-    for (const k of ["auc", "aucCiLower", "aucCiUpper", "brier", "calibrationIntercept", "calibrationSlope", "captureTop10", "captureTop20", "baselineAuc", "testSlabs", "testAffected", "reliability"]) expect(v).toHaveProperty(k);
+    for (const k of [
+      "auc",
+      "aucCiLower",
+      "aucCiUpper",
+      "brier",
+      "calibrationIntercept",
+      "calibrationSlope",
+      "captureTop10",
+      "captureTop20",
+      "baselineAuc",
+      "testSlabs",
+      "testAffected",
+      "reliability",
+    ])
+      expect(v).toHaveProperty(k);
     expect(v.testSlabs).toBe(Math.ceil(plant.slabs * 0.25));
     expect(v.auc).toBeGreaterThan(0.7);
     expect(v.aucCiLower).toBeLessThan(v.auc);
@@ -72,10 +96,16 @@ describe("risk models over HTTP", () => {
 
   it("when an inspector tries to train or a body is wrong, then 403 and 400 in words", async () => {
     expect((await inspector.post("/api/risk-models").set("Origin", origin()).send(SPEC)).status).toBe(403);
-    const bad = await quality.post("/api/risk-models").set("Origin", origin()).send({ ...SPEC, conditions: [], categories: [] });
+    const bad = await quality
+      .post("/api/risk-models")
+      .set("Origin", origin())
+      .send({ ...SPEC, conditions: [], categories: [] });
     expect(bad.status).toBe(400);
     expect(JSON.stringify(bad.body.error)).toMatch(/at least one condition or category/i);
-    const unknown = await quality.post("/api/risk-models").set("Origin", origin()).send({ ...SPEC, targetCode: "NOPE" });
+    const unknown = await quality
+      .post("/api/risk-models")
+      .set("Origin", origin())
+      .send({ ...SPEC, targetCode: "NOPE" });
     expect(unknown.status).toBe(400);
     expect(unknown.body.error.message).toMatch(/no defect type with the code NOPE/);
   });
@@ -83,7 +113,10 @@ describe("risk models over HTTP", () => {
   it("when the target has too few affected slabs, then 422 in words and the version is stored as failed", async () => {
     // The plant records slag spots only: a crack type has no entries at all.
     const type = t.db.$client.prepare("select code from defect_types where code <> 'SLG' order by id limit 1").pluck().get() as string;
-    const res = await quality.post("/api/risk-models").set("Origin", origin()).send({ ...SPEC, targetCode: type });
+    const res = await quality
+      .post("/api/risk-models")
+      .set("Origin", origin())
+      .send({ ...SPEC, targetCode: type });
     expect(res.status).toBe(422);
     expect(res.body.error.message).toMatch(/Only 0 of the \d+ judged slabs/);
     expect(n("select count(*) from risk_models where target_code = ? and status = 'failed'", type)).toBe(1);
@@ -91,7 +124,10 @@ describe("risk models over HTTP", () => {
 
   it("when a model that does not beat the baseline is switched on, then 409 says why and nothing changes", async () => {
     // Casting speed alone: crude it follows the family, but the family's own rate ranks the slabs better.
-    const res = await quality.post("/api/risk-models").set("Origin", origin()).send({ ...SPEC, conditions: ["casting_speed_m_min"], categories: [] });
+    const res = await quality
+      .post("/api/risk-models")
+      .set("Origin", origin())
+      .send({ ...SPEC, conditions: ["casting_speed_m_min"], categories: [] });
     expect(res.status).toBe(201);
     expect(res.body.beatsBaseline).toBe(false);
     expect(res.body.version).toBe(2);
@@ -116,7 +152,14 @@ describe("risk models over HTTP", () => {
   it("when the ranked list is asked for, then the slabs come riskiest first with bands, the model version and reasons in words, and a restless mold level leads the reasons of the riskiest", async () => {
     const res = await inspector.get("/api/risk/slabs?defectType=SLG&limit=50");
     expect(res.status).toBe(200);
-    const items = res.body.items as { risk: number; band: string; reasons: { variable: string; text: string; contribution: number }[]; modelVersion: number; slabId: string; heatNo: string }[];
+    const items = res.body.items as {
+      risk: number;
+      band: string;
+      reasons: { variable: string; text: string; contribution: number }[];
+      modelVersion: number;
+      slabId: string;
+      heatNo: string;
+    }[];
     expect(items).toHaveLength(50);
     for (let i = 1; i < items.length; i++) expect(items[i]!.risk).toBeLessThanOrEqual(items[i - 1]!.risk);
     expect(items[0]!.band).toBe("high");
@@ -138,7 +181,11 @@ describe("risk models over HTTP", () => {
 
   it("when a slab and its heat are opened, then they carry the stored risk of a recent slab and a risk reckoned from the conditions of an older one, equal to what scoring would store", async () => {
     const c = t.db.$client;
-    const recent = c.prepare("select s.id, s.slab_id as slabId, h.heat_no as heatNo, r.risk from slab_risks r join slabs s on s.id = r.slab_id join heats h on h.id = s.heat_id where r.model_id = ? order by r.risk desc limit 1").get(modelId) as { id: number; slabId: string; heatNo: string; risk: number };
+    const recent = c
+      .prepare(
+        "select s.id, s.slab_id as slabId, h.heat_no as heatNo, r.risk from slab_risks r join slabs s on s.id = r.slab_id join heats h on h.id = s.heat_id where r.model_id = ? order by r.risk desc limit 1",
+      )
+      .get(modelId) as { id: number; slabId: string; heatNo: string; risk: number };
     const slab = await inspector.get(`/api/slabs/${recent.slabId}`);
     expect(slab.status).toBe(200);
     expect(slab.body.risks).toHaveLength(1);
@@ -150,7 +197,11 @@ describe("risk models over HTTP", () => {
     expect(heat.body.slabs.every((x: { risk: unknown }) => x.risk !== null)).toBe(true);
 
     // A slab cast before the 90 days: not stored, reckoned for the page — the value scoring would store for it.
-    const old = c.prepare("select s.id, s.slab_id as slabId, s.cast_at as castAt from slabs s join slab_conditions sc on sc.slab_id = s.id where not exists (select 1 from slab_risks r where r.slab_id = s.id) order by s.cast_at limit 1").get() as { id: number; slabId: string; castAt: number };
+    const old = c
+      .prepare(
+        "select s.id, s.slab_id as slabId, s.cast_at as castAt from slabs s join slab_conditions sc on sc.slab_id = s.id where not exists (select 1 from slab_risks r where r.slab_id = s.id) order by s.cast_at limit 1",
+      )
+      .get() as { id: number; slabId: string; castAt: number };
     expect(old.castAt).toBeLessThan(Date.now() - 90 * DAY);
     const page = await quality.get(`/api/slabs/${old.slabId}`);
     expect(page.body.risks[0].stored).toBe(false);

@@ -103,11 +103,27 @@ function buildDriftPlant(db: Db) {
         const superheat = Math.round(r.normal(25, 6) * 10) / 10;
         const embr = Math.round(r.uniform(0, 600));
         const mold = Math.round(Math.max(0.5, r.normal(3, 1)) * 100) / 100;
-        const heatId = Number(heatIns.run(`DR${String(h).padStart(5, "0")}`, caster, lc ? gradeLC : gradePER, castStart, castStart + 3_600_000, speed, 1520 + superheat, superheat, embr, mold, lc ? 0.04 : 0.12).lastInsertRowid);
+        const heatId = Number(
+          heatIns.run(
+            `DR${String(h).padStart(5, "0")}`,
+            caster,
+            lc ? gradeLC : gradePER,
+            castStart,
+            castStart + 3_600_000,
+            speed,
+            1520 + superheat,
+            superheat,
+            embr,
+            mold,
+            lc ? 0.04 : 0.12,
+          ).lastInsertRowid,
+        );
         const etaSlg = k === 11 ? logit(0.145) : -3.0 + (lc ? 1.4 : 0) + 0.9 * (mold - 3) - 0.04 * (superheat - 25) + (k >= SHIFT_FROM ? SHIFT : 0);
         const etaLfc = -2.6 + 1.1 * (mold - 3) + 0.05 * (superheat - 25) - (lc ? 0.6 : 0);
         for (let s = 0; s < SLABS_PER_HEAT; s++) {
-          const slabId = Number(slabIns.run(`DR${String(h).padStart(5, "0")}-${s + 1}`, heatId, strands[s % 2]!, Math.floor(s / 2) + 1, castStart + s * 7 * 60_000).lastInsertRowid);
+          const slabId = Number(
+            slabIns.run(`DR${String(h).padStart(5, "0")}-${s + 1}`, heatId, strands[s % 2]!, Math.floor(s / 2) + 1, castStart + s * 7 * 60_000).lastInsertRowid,
+          );
           if (r.chance(expit(etaSlg))) defIns.run(slabId, slg, castStart + 86_400_000, inspector);
           if (r.chance(expit(etaLfc))) defIns.run(slabId, lfc, castStart + 86_400_000, inspector);
         }
@@ -135,7 +151,10 @@ beforeAll(async () => {
   inspector = await t.agentFor("inspector");
   const origin = t.env.BETTER_AUTH_URL;
   for (const code of ["SLG", "LFC"] as const) {
-    const res = await quality.post("/api/risk-models").set("Origin", origin).send({ targetKind: "type", targetCode: code, conditions: CONDITIONS, categories: ["grade_family"], knots: 4, to: TRAIN_TO });
+    const res = await quality
+      .post("/api/risk-models")
+      .set("Origin", origin)
+      .send({ targetKind: "type", targetCode: code, conditions: CONDITIONS, categories: ["grade_family"], knots: 4, to: TRAIN_TO });
     if (res.status !== 201 || !res.body.beatsBaseline) throw new Error(`training ${code}: ${res.status} ${JSON.stringify(res.body).slice(0, 400)}`);
     models[code] = res.body.id;
     const on = await quality.post(`/api/risk-models/${res.body.id}/activate`).set("Origin", origin);
@@ -171,7 +190,9 @@ describe("drift of the active models, month by month", () => {
     expect(shifted.citl).toBeGreaterThan(0.7);
     expect(shifted.citl).toBeLessThan(1.3);
     expect(shifted.observed).toBeGreaterThan(1.5 * shifted.predicted);
-    expect(shifted.reason).toMatch(/^more slabs with the defect than predicted: the observed odds are \d\.\d\d times the predicted ones \(calibration-in-the-large \d\.\d{3}, 95 % interval \d\.\d{3} to \d\.\d{3}; limit ±0\.405\)$/);
+    expect(shifted.reason).toMatch(
+      /^more slabs with the defect than predicted: the observed odds are \d\.\d\d times the predicted ones \(calibration-in-the-large \d\.\d{3}, 95 % interval \d\.\d{3} to \d\.\d{3}; limit ±0\.405\)$/,
+    );
     expect(shifted.auc).toBeGreaterThan(0.7);
     // Month 11: about the same rate, no ranking: drifted by the AUC rule alone.
     const lost = slg[3]!;
@@ -179,7 +200,9 @@ describe("drift of the active models, month by month", () => {
     expect(Math.abs(lost.citl)).toBeLessThan(DRIFT_CITL_LIMIT);
     expect(lost.auc).toBeGreaterThan(0.4);
     expect(lost.auc).toBeLessThan(0.6);
-    expect(lost.reason).toMatch(/^it ranks the slabs worse than at validation: AUC 0\.\d{3} \(95 % interval up to 0\.\d{3}\) lies below the validation interval's lower end 0\.\d{3}$/);
+    expect(lost.reason).toMatch(
+      /^it ranks the slabs worse than at validation: AUC 0\.\d{3} \(95 % interval up to 0\.\d{3}\) lies below the validation interval's lower end 0\.\d{3}$/,
+    );
     for (const r of lfc.slice(0, 4)) {
       expect(r.drifted, r.reason).toBe(0);
       expect(Math.abs(r.citl)).toBeLessThan(DRIFT_CITL_LIMIT);
@@ -267,7 +290,10 @@ describe("drift of the active models, month by month", () => {
     expect(last.provisional).toBe(true);
     expect(last.judged).toBe(false);
     // Month 12's ten heats are spread over the month: only those cast in its first 6 days count.
-    const expected = t.db.$client.prepare("select count(*) from slabs where slab_id like 'DR%' and cast_at >= ? and cast_at <= ?").pluck().get(monthStart(12), at - 14 * DAY) as number;
+    const expected = t.db.$client
+      .prepare("select count(*) from slabs where slab_id like 'DR%' and cast_at >= ? and cast_at <= ?")
+      .pluck()
+      .get(monthStart(12), at - 14 * DAY) as number;
     expect(expected).toBeGreaterThan(0);
     expect(expected).toBeLessThan(40);
     expect(last.slabs).toBe(expected);
@@ -287,7 +313,9 @@ describe("drift of the active models, month by month", () => {
     expect(missing.body.error.message).toMatch(/no risk model 99999/);
     const failed = Number(
       t.db.$client
-        .prepare("insert into risk_models (target_kind, target_code, version, spec, status, error) values ('type', 'SLG', 77, '{\"targetKind\":\"type\",\"targetCode\":\"SLG\",\"conditions\":[],\"categories\":[\"grade_family\"],\"knots\":4}', 'failed', 'test')")
+        .prepare(
+          'insert into risk_models (target_kind, target_code, version, spec, status, error) values (\'type\', \'SLG\', 77, \'{"targetKind":"type","targetCode":"SLG","conditions":[],"categories":["grade_family"],"knots":4}\', \'failed\', \'test\')',
+        )
         .run().lastInsertRowid,
     );
     const res = await quality.get(`/api/risk-models/${failed}/drift`);

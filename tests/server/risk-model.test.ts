@@ -95,14 +95,23 @@ describe("risk models on a plant of known risk", () => {
 
   it("when a slab cast fast, hot and with a restless mold level is explained, then the reasons name those conditions first and argon last or near nothing", () => {
     const { risk, reasons } = explain(model.terms, [1.78, 39, 5.8, 8], [1]);
-    expect(reasons.slice(0, 3).map((r) => r.variable).sort()).toEqual(["casting_speed_m_min", "mold_level_sd_mm", "superheat_c"]);
+    expect(
+      reasons
+        .slice(0, 3)
+        .map((r) => r.variable)
+        .sort(),
+    ).toEqual(["casting_speed_m_min", "mold_level_sd_mm", "superheat_c"]);
     expect(reasons.slice(0, 3).every((r) => r.contribution > 0)).toBe(true);
     const argon = reasons.find((r) => r.variable === "argon_nl_min")!;
     expect(Math.abs(argon.contribution)).toBeLessThan(0.15);
     const truth = logistic(-4.2 + 0.45 * 5.8 + 1.5 * (1.78 - 1.45) + 0.22 * 9);
     expect(Math.abs(risk - truth)).toBeLessThan(0.08);
     // The typical slab (every condition at its median, the reference family) explains as nothing.
-    const typical = explain(model.terms, model.terms.numeric.map((v) => v.median), [model.terms.categorical[0]!.reference]);
+    const typical = explain(
+      model.terms,
+      model.terms.numeric.map((v) => v.median),
+      [model.terms.categorical[0]!.reference],
+    );
     typical.reasons.forEach((r) => expect(r.contribution).toBeCloseTo(0, 10));
     // A missing value counts as the typical one.
     const missing = explain(model.terms, [1.78, null, 5.8, 8], [1]);

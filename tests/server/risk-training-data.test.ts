@@ -43,7 +43,9 @@ describe("risk model training data", () => {
     const c = t.db.$client;
     const recent = c.prepare("select count(*) from slab_conditions where cast_at > ?").pluck().get(cutoff) as number;
     const recentAffected = c
-      .prepare("select count(*) from slab_conditions sc where sc.cast_at > ? and exists (select 1 from defects d join defect_types t on t.id = d.type_id where d.slab_id = sc.slab_id and t.code = 'SLG')")
+      .prepare(
+        "select count(*) from slab_conditions sc where sc.cast_at > ? and exists (select 1 from defects d join defect_types t on t.id = d.type_id where d.slab_id = sc.slab_id and t.code = 'SLG')",
+      )
       .pluck()
       .get(cutoff) as number;
     expect(recent).toBeGreaterThan(100);

@@ -28,8 +28,7 @@ interface Row {
 const SETUP: Role[] = ["process", "admin"];
 const LOGGERS: Role[] = ["inspector", "quality", "admin"];
 const REVIEWERS: Role[] = ["quality", "admin"];
-const heatCsv = () =>
-  Buffer.from(`heat_no,caster,grade,cast_start,casting_speed_m_min\nMATRIX${++counter},CC2,LV-ST32,2026-12-05T08:00:00Z,1.4\n`);
+const heatCsv = () => Buffer.from(`heat_no,caster,grade,cast_start,casting_speed_m_min\nMATRIX${++counter},CC2,LV-ST32,2026-12-05T08:00:00Z,1.4\n`);
 
 const EVERY_ROLE: Role[] = ["inspector", "quality", "process", "claims", "admin"];
 
@@ -88,7 +87,9 @@ const matrix: Record<string, Row> = {
   "DELETE /admin/tokens/:id": {
     allowed: ["admin"],
     sample: (t) => {
-      const id = Number(t.db.$client.prepare("insert into api_tokens (name, token_hash, prefix) values ('m', ?, 'ssk_m')").run(`h${++counter}`).lastInsertRowid);
+      const id = Number(
+        t.db.$client.prepare("insert into api_tokens (name, token_hash, prefix) values ('m', ?, 'ssk_m')").run(`h${++counter}`).lastInsertRowid,
+      );
       return { path: `/api/admin/tokens/${id}` };
     },
   },
@@ -111,35 +112,69 @@ const matrix: Record<string, Row> = {
     sample: () => ({
       path: "/api/plant/casters",
       body: {
-        code: `MX${++counter}`, name: "Matrix caster", worksName: "Matrix works (invented)",
-        strands: [{ strandNo: 1, moldThicknessMm: 220, moldEffectiveLengthMm: 800, senPortAreaMm2: 6000, embrCalibration: { kind: "linear", teslaPerAmp: 0.0007, offsetT: 0 } }],
+        code: `MX${++counter}`,
+        name: "Matrix caster",
+        worksName: "Matrix works (invented)",
+        strands: [
+          {
+            strandNo: 1,
+            moldThicknessMm: 220,
+            moldEffectiveLengthMm: 800,
+            senPortAreaMm2: 6000,
+            embrCalibration: { kind: "linear", teslaPerAmp: 0.0007, offsetT: 0 },
+          },
+        ],
       },
     }),
   },
-  "POST /plant/grade-families": { allowed: SETUP, sample: () => ({ path: "/api/plant/grade-families", body: { code: `MF${++counter}`, name: "Matrix family" } }) },
+  "POST /plant/grade-families": {
+    allowed: SETUP,
+    sample: () => ({ path: "/api/plant/grade-families", body: { code: `MF${++counter}`, name: "Matrix family" } }),
+  },
   "PATCH /plant/grade-families/:code": { allowed: SETUP, sample: () => ({ path: "/api/plant/grade-families/PER", body: { name: "Peritectic" } }) },
-  "POST /plant/grades": { allowed: SETUP, sample: () => ({ path: "/api/plant/grades", body: { code: `MG${++counter}`, name: "Matrix grade", familyCode: "LC" } }) },
+  "POST /plant/grades": {
+    allowed: SETUP,
+    sample: () => ({ path: "/api/plant/grades", body: { code: `MG${++counter}`, name: "Matrix grade", familyCode: "LC" } }),
+  },
   "PATCH /plant/grades/:code": { allowed: SETUP, sample: () => ({ path: "/api/plant/grades/LV-DQ10", body: { name: "Drawing quality" } }) },
   "POST /defects": {
     allowed: LOGGERS,
     sample: (t) => ({
       path: "/api/defects",
-      body: { slab_id: slabRow(t), type_code: "SLG", face: "inner", position_along_mm: 100, position_across_mm: 100, severity: 1, disposition: "accept", client_key: `matrix-${++counter}-key` },
+      body: {
+        slab_id: slabRow(t),
+        type_code: "SLG",
+        face: "inner",
+        position_along_mm: 100,
+        position_across_mm: 100,
+        severity: 1,
+        disposition: "accept",
+        client_key: `matrix-${++counter}-key`,
+      },
     }),
   },
   "GET /defects": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/defects?pageSize=5" }) },
   "GET /defects/:id": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}` }) },
   "PATCH /defects/:id": { allowed: LOGGERS, sample: (t) => ({ path: `/api/defects/${ownDefect(t)}`, body: { note: "matrix" } }) },
   "DELETE /defects/:id": { allowed: LOGGERS, sample: (t) => ({ path: `/api/defects/${ownDefect(t)}` }) },
-  "POST /defects/:id/review": { allowed: REVIEWERS, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/review`, body: { decision: "confirm" } }) },
+  "POST /defects/:id/review": {
+    allowed: REVIEWERS,
+    sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/review`, body: { decision: "confirm" } }),
+  },
   "POST /defects/:id/photos": { allowed: LOGGERS, sample: (t) => ({ path: `/api/defects/${ownDefect(t)}/photos`, photo: true }) },
   "GET /photos/:id": { allowed: EVERY_ROLE, sample: () => ({ path: `/api/photos/00000000-0000-4000-8000-000000000001` }) },
   "GET /photos/:id/thumb": { allowed: EVERY_ROLE, sample: () => ({ path: `/api/photos/00000000-0000-4000-8000-000000000001/thumb` }) },
   "DELETE /photos/:id": { allowed: LOGGERS, sample: (t) => ({ path: `/api/photos/${photoOf(t, ownDefect(t))}` }) },
   "GET /defect-types": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/defect-types" }) },
-  "POST /defect-types": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-types", body: { code: `MT${++counter}`, name: "Matrix type", categoryCode: "SURFACE" } }) },
+  "POST /defect-types": {
+    allowed: REVIEWERS,
+    sample: () => ({ path: "/api/defect-types", body: { code: `MT${++counter}`, name: "Matrix type", categoryCode: "SURFACE" } }),
+  },
   "PATCH /defect-types/:code": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-types/SCB", body: { name: "Scab" } }) },
-  "POST /defect-categories": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-categories", body: { code: `MC${++counter}`, name: "Matrix category" } }) },
+  "POST /defect-categories": {
+    allowed: REVIEWERS,
+    sample: () => ({ path: "/api/defect-categories", body: { code: `MC${++counter}`, name: "Matrix category" } }),
+  },
   "PATCH /defect-categories/:code": { allowed: REVIEWERS, sample: () => ({ path: "/api/defect-categories/SURFACE", body: { name: "Other surface defects" } }) },
   "GET /reports/variables": { allowed: ["quality", "process", "claims", "admin"], sample: () => ({ path: "/api/reports/variables" }) },
   "GET /saved-reports": { allowed: ["quality", "process", "claims", "admin"], sample: () => ({ path: "/api/saved-reports" }) },
@@ -150,13 +185,17 @@ const matrix: Record<string, Row> = {
   "DELETE /saved-reports/:id": {
     allowed: ["quality", "process", "claims", "admin"],
     sample: (t) => {
-      const userId = t.db.$client.prepare("select id from user where email = ?").pluck().get(`${currentRole ?? "quality"}@demo.test`);
-      const id = Number(t.db.$client.prepare("insert into saved_reports (user_id, name, report_kind, query) values (?, 'm', 'overview', '')").run(userId).lastInsertRowid);
+      const userId = t.db.$client
+        .prepare("select id from user where email = ?")
+        .pluck()
+        .get(`${currentRole ?? "quality"}@demo.test`);
+      const id = Number(
+        t.db.$client.prepare("insert into saved_reports (user_id, name, report_kind, query) values (?, 'm', 'overview', '')").run(userId).lastInsertRowid,
+      );
       return { path: `/api/saved-reports/${id}` };
     },
   },
 };
-
 
 const slabRow = (t: TestApp) => t.db.$client.prepare("select slab_id from slabs order by id limit 1 offset 1").pluck().get() as string;
 /** A fresh defect by the given role (so "own and unreviewed" holds for inspectors). */
@@ -166,7 +205,9 @@ function defectOf(t: TestApp, email: string) {
   const type = t.db.$client.prepare("select id from defect_types where code = 'SLG'").pluck().get() as number;
   return Number(
     t.db.$client
-      .prepare("insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, created_by) values (?, ?, 'inner', 100, 100, 1, 'slab_yard', 'accept', ?, ?)")
+      .prepare(
+        "insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, created_by) values (?, ?, 'inner', 100, 100, 1, 'slab_yard', 'accept', ?, ?)",
+      )
       .run(slab, type, Date.now(), userId).lastInsertRowid,
   );
 }
@@ -177,7 +218,9 @@ const ownDefect = (t: TestApp) => defectOf(t, `${currentRole ?? "inspector"}@dem
 const photoOf = (t: TestApp, defectId: number) => {
   const id = crypto.randomUUID();
   t.db.$client
-    .prepare("insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256) values (?, ?, ?, 'image/webp', ?, 10, 10, 1, 'x')")
+    .prepare(
+      "insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256) values (?, ?, ?, 'image/webp', ?, 10, 10, 1, 'x')",
+    )
     .run(id, defectId, `photos/${id}.webp`, `photos/${id}.thumb.jpg`);
   return id;
 };
@@ -191,11 +234,15 @@ async function realPhoto(t: TestApp) {
     const id = "00000000-0000-4000-8000-000000000001";
     const dir = path.join(t.env.UPLOAD_DIR, "photos");
     fs.mkdirSync(dir, { recursive: true });
-    const img = await sharp({ create: { width: 4, height: 4, channels: 3, background: "#000" } }).webp().toBuffer();
+    const img = await sharp({ create: { width: 4, height: 4, channels: 3, background: "#000" } })
+      .webp()
+      .toBuffer();
     fs.writeFileSync(path.join(dir, `${id}.webp`), img);
     fs.writeFileSync(path.join(dir, `${id}.thumb.jpg`), await sharp(img).jpeg().toBuffer());
     t.db.$client
-      .prepare("insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256) values (?, ?, ?, 'image/webp', ?, 4, 4, 1, 'x')")
+      .prepare(
+        "insert into defect_photos (id, defect_id, display_file, display_mime, thumb_file, width, height, bytes, sha256) values (?, ?, ?, 'image/webp', ?, 4, 4, 1, 'x')",
+      )
       .run(id, defectOf(t, "inspector@demo.test"), `photos/${id}.webp`, `photos/${id}.thumb.jpg`);
     photoFileMade = true;
   }
@@ -226,18 +273,26 @@ function freshInvestigation(t: TestApp) {
   const now = Date.now();
   return Number(
     t.db.$client
-      .prepare("insert into investigations (ref, title, problem_statement, status, owner_id, opened_at, created_by) values (?, 'Matrix', 'Matrix investigation problem', 'open', ?, ?, ?)")
+      .prepare(
+        "insert into investigations (ref, title, problem_statement, status, owner_id, opened_at, created_by) values (?, 'Matrix', 'Matrix investigation problem', 'open', ?, ?, ?)",
+      )
       .run(`INV-MX-${++counter}`, userIdOf(t, "process"), now, userIdOf(t, "process")).lastInsertRowid,
   );
 }
 function freshTag(t: TestApp) {
   const code = `matrix-tag-${++counter}`;
-  t.db.$client.prepare("insert into cause_tags (code, name, group_id) values (?, 'Matrix tag', (select id from cause_groups where code = 'process'))").run(code);
+  t.db.$client
+    .prepare("insert into cause_tags (code, name, group_id) values (?, 'Matrix tag', (select id from cause_groups where code = 'process'))")
+    .run(code);
   return code;
 }
 function freshLink(t: TestApp) {
   const d = defectOf(t, "inspector@demo.test");
-  const link = Number(t.db.$client.prepare("insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')").run(d).lastInsertRowid);
+  const link = Number(
+    t.db.$client
+      .prepare("insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')")
+      .run(d).lastInsertRowid,
+  );
   return `/api/defects/${d}/causes/${link}`;
 }
 let attachmentId: string | null = null;
@@ -248,53 +303,109 @@ function attachment(t: TestApp) {
     fs.mkdirSync(dir, { recursive: true });
     fs.writeFileSync(path.join(dir, attachmentId), "matrix note\n");
     t.db.$client
-      .prepare("insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256) values (?, 'investigation', ?, 'note.txt', ?, 'text/plain', 12, 'x')")
+      .prepare(
+        "insert into attachments (id, owner_kind, owner_id, file_name, stored_file, mime, bytes, sha256) values (?, 'investigation', ?, 'note.txt', ?, 'text/plain', 12, 'x')",
+      )
       .run(attachmentId, freshInvestigation(t), attachmentId);
   }
   return attachmentId;
 }
 Object.assign(matrix, {
   "GET /cause-tags": { allowed: READERS, sample: () => ({ path: "/api/cause-tags?includeRetired=true" }) },
-  "POST /cause-tags": { allowed: TAGGERS, sample: () => ({ path: "/api/cause-tags", body: { code: `matrix-new-${++counter}`, name: "Matrix new tag", group: "equipment" } }) },
+  "POST /cause-tags": {
+    allowed: TAGGERS,
+    sample: () => ({ path: "/api/cause-tags", body: { code: `matrix-new-${++counter}`, name: "Matrix new tag", group: "equipment" } }),
+  },
   "PATCH /cause-tags/:code": { allowed: TAGGERS, sample: (t) => ({ path: `/api/cause-tags/${freshTag(t)}`, body: { name: "Matrix renamed" } }) },
   "DELETE /cause-tags/:code": { allowed: TAGGERS, sample: (t) => ({ path: `/api/cause-tags/${freshTag(t)}` }) },
   "GET /defects/:id/causes": { allowed: READERS, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/causes` }) },
-  "POST /defects/:id/causes": { allowed: TAGGERS, sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/causes`, body: { tags: ["sen-clogging"], confidence: "suspected" } }) },
+  "POST /defects/:id/causes": {
+    allowed: TAGGERS,
+    sample: (t) => ({ path: `/api/defects/${defectOf(t, "inspector@demo.test")}/causes`, body: { tags: ["sen-clogging"], confidence: "suspected" } }),
+  },
   "DELETE /defects/:id/causes/:linkId": { allowed: TAGGERS, sample: (t) => ({ path: freshLink(t), body: { reason: "matrix" } }) },
-  "POST /causes/bulk": { allowed: TAGGERS, sample: (t) => ({ path: "/api/causes/bulk", body: { selection: { kind: "heat", heatNo: firstHeat(t) }, tags: ["ladle-change"], confidence: "suspected", dryRun: true } }) },
+  "POST /causes/bulk": {
+    allowed: TAGGERS,
+    sample: (t) => ({
+      path: "/api/causes/bulk",
+      body: { selection: { kind: "heat", heatNo: firstHeat(t) }, tags: ["ladle-change"], confidence: "suspected", dryRun: true },
+    }),
+  },
   "GET /investigations": { allowed: READERS, sample: () => ({ path: "/api/investigations?status=active" }) },
   "GET /investigations/people": { allowed: READERS, sample: () => ({ path: "/api/investigations/people" }) },
-  "POST /investigations": { allowed: TAGGERS, sample: (t) => ({ path: "/api/investigations", body: { title: "Matrix opened", problemStatement: "Opened by the role matrix test.", heatNos: [firstHeat(t)] } }) },
+  "POST /investigations": {
+    allowed: TAGGERS,
+    sample: (t) => ({
+      path: "/api/investigations",
+      body: { title: "Matrix opened", problemStatement: "Opened by the role matrix test.", heatNos: [firstHeat(t)] },
+    }),
+  },
   "GET /investigations/:id": { allowed: READERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}` }) },
   "PATCH /investigations/:id": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}`, body: { status: "in_progress" } }) },
-  "POST /investigations/:id/subjects": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/subjects`, body: { heatNos: [firstHeat(t)] } }) },
-  "POST /investigations/:id/participants": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/participants`, body: { userIds: [userIdOf(t, "quality")] } }) },
-  "POST /investigations/:id/hypotheses": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/hypotheses`, body: { statement: "Matrix hypothesis", causeTag: "sen-clogging" } }) },
+  "POST /investigations/:id/subjects": {
+    allowed: TAGGERS,
+    sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/subjects`, body: { heatNos: [firstHeat(t)] } }),
+  },
+  "POST /investigations/:id/participants": {
+    allowed: TAGGERS,
+    sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/participants`, body: { userIds: [userIdOf(t, "quality")] } }),
+  },
+  "POST /investigations/:id/hypotheses": {
+    allowed: TAGGERS,
+    sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/hypotheses`, body: { statement: "Matrix hypothesis", causeTag: "sen-clogging" } }),
+  },
   "PATCH /investigations/:id/hypotheses/:hid": {
     allowed: TAGGERS,
     sample: (t) => {
       const inv = freshInvestigation(t);
-      const h = Number(t.db.$client.prepare("insert into investigation_hypotheses (investigation_id, statement) values (?, 'Matrix hypothesis')").run(inv).lastInsertRowid);
+      const h = Number(
+        t.db.$client.prepare("insert into investigation_hypotheses (investigation_id, statement) values (?, 'Matrix hypothesis')").run(inv).lastInsertRowid,
+      );
       return { path: `/api/investigations/${inv}/hypotheses/${h}`, body: { status: "rejected" } };
     },
   },
-  "POST /investigations/:id/actions": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/actions`, body: { description: "Matrix action", ownerId: userIdOf(t, "process"), dueOn: "2026-12-31" } }) },
+  "POST /investigations/:id/actions": {
+    allowed: TAGGERS,
+    sample: (t) => ({
+      path: `/api/investigations/${freshInvestigation(t)}/actions`,
+      body: { description: "Matrix action", ownerId: userIdOf(t, "process"), dueOn: "2026-12-31" },
+    }),
+  },
   "PATCH /investigations/:id/actions/:aid": {
     allowed: TAGGERS,
     sample: (t) => {
       const inv = freshInvestigation(t);
-      const a = Number(t.db.$client.prepare("insert into investigation_actions (investigation_id, description, owner_id, due_on) values (?, 'Matrix action', ?, '2026-12-31')").run(inv, userIdOf(t, "process")).lastInsertRowid);
+      const a = Number(
+        t.db.$client
+          .prepare("insert into investigation_actions (investigation_id, description, owner_id, due_on) values (?, 'Matrix action', ?, '2026-12-31')")
+          .run(inv, userIdOf(t, "process")).lastInsertRowid,
+      );
       return { path: `/api/investigations/${inv}/actions/${a}`, body: { status: "done" } };
     },
   },
-  "POST /investigations/:id/close": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/close`, body: { confirmedCause: "sen-clogging", closureNote: "Closed by the matrix test." } }) },
-  "POST /investigations/:id/attachments": { allowed: TAGGERS, sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/attachments`, files: Buffer.from("plain text note\n") }) },
+  "POST /investigations/:id/close": {
+    allowed: TAGGERS,
+    sample: (t) => ({
+      path: `/api/investigations/${freshInvestigation(t)}/close`,
+      body: { confirmedCause: "sen-clogging", closureNote: "Closed by the matrix test." },
+    }),
+  },
+  "POST /investigations/:id/attachments": {
+    allowed: TAGGERS,
+    sample: (t) => ({ path: `/api/investigations/${freshInvestigation(t)}/attachments`, files: Buffer.from("plain text note\n") }),
+  },
   "GET /attachments/:id": { allowed: READERS, sample: (t) => ({ path: `/api/attachments/${attachment(t)}` }) },
   "GET /admin/outbox": { allowed: ["admin"], sample: () => ({ path: "/api/admin/outbox?status=queued" }) },
   "POST /admin/outbox/:id/retry": {
     allowed: ["admin"],
     sample: (t) => {
-      const id = Number(t.db.$client.prepare("insert into email_outbox (kind, from_address, to_addresses, subject, text_body, status, attempts) values ('invitation', 'a@b.test', 'c@d.test', 'Matrix', 'Body', 'failed', 6)").run().lastInsertRowid);
+      const id = Number(
+        t.db.$client
+          .prepare(
+            "insert into email_outbox (kind, from_address, to_addresses, subject, text_body, status, attempts) values ('invitation', 'a@b.test', 'c@d.test', 'Matrix', 'Body', 'failed', 6)",
+          )
+          .run().lastInsertRowid,
+      );
       return { path: `/api/admin/outbox/${id}/retry` };
     },
   },
@@ -305,24 +416,39 @@ const CLAIM_READERS: Role[] = ["claims", "quality", "admin"];
 /** A fresh claim linked to the first slab (SQL), so each role's call changes its own. */
 function freshClaim(t: TestApp) {
   const id = Number(
-    t.db.$client.prepare("insert into claims (claim_no, customer, received_on, defect_complained, status) values (?, 'Matrix customer', '2026-11-30', 'Slivers', 'new')").run(`CL-MX-${++counter}`).lastInsertRowid,
+    t.db.$client
+      .prepare("insert into claims (claim_no, customer, received_on, defect_complained, status) values (?, 'Matrix customer', '2026-11-30', 'Slivers', 'new')")
+      .run(`CL-MX-${++counter}`).lastInsertRowid,
   );
   t.db.$client.prepare("insert into claim_slabs (claim_id, slab_id, linked_via) values (?, (select id from slabs order by id limit 1), 'search')").run(id);
   return id;
 }
-const heatOfFirstSlab = (t: TestApp) => t.db.$client.prepare("select h.heat_no from slabs s join heats h on h.id = s.heat_id order by s.id limit 1").pluck().get() as string;
+const heatOfFirstSlab = (t: TestApp) =>
+  t.db.$client.prepare("select h.heat_no from slabs s join heats h on h.id = s.heat_id order by s.id limit 1").pluck().get() as string;
 Object.assign(matrix, {
   "GET /trace": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/trace?q=${firstSlab(t)}` }) },
   "GET /heats/:heatNo/history": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}/history` }) },
   "GET /heats/:heatNo/history.xlsx": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/heats/${firstHeat(t)}/history.xlsx` }) },
   "GET /claims": { allowed: CLAIM_READERS, sample: () => ({ path: "/api/claims?status=new" }) },
-  "POST /claims": { allowed: CLAIMS, sample: () => ({ path: "/api/claims", body: { claimNo: `CL-NEW-${++counter}`, customer: "Matrix customer", receivedOn: "2026-11-30", defectComplained: "Slivers" } }) },
+  "POST /claims": {
+    allowed: CLAIMS,
+    sample: () => ({
+      path: "/api/claims",
+      body: { claimNo: `CL-NEW-${++counter}`, customer: "Matrix customer", receivedOn: "2026-11-30", defectComplained: "Slivers" },
+    }),
+  },
   "GET /claims/:id": { allowed: CLAIM_READERS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}` }) },
   "PATCH /claims/:id": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}`, body: { status: "under_review" } }) },
   "POST /claims/:id/slabs": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/slabs`, body: { slabIds: [slabRow(t)] } }) },
   "DELETE /claims/:id/slabs/:slabId": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/slabs/${firstSlab(t)}` }) },
-  "POST /claims/:id/attachments": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/attachments`, files: Buffer.from("customer letter\n") }) },
-  "POST /claims/:id/send-history": { allowed: CLAIMS, sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/send-history`, body: { heatNo: heatOfFirstSlab(t), to: ["customer@example.test"] } }) },
+  "POST /claims/:id/attachments": {
+    allowed: CLAIMS,
+    sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/attachments`, files: Buffer.from("customer letter\n") }),
+  },
+  "POST /claims/:id/send-history": {
+    allowed: CLAIMS,
+    sample: (t) => ({ path: `/api/claims/${freshClaim(t)}/send-history`, body: { heatNo: heatOfFirstSlab(t), to: ["customer@example.test"] } }),
+  },
 } satisfies Record<string, Row>);
 
 // The yard tablets (issue 13): the set and a slab for those who log yard defects; the window setting like the formula settings.
@@ -333,7 +459,10 @@ Object.assign(matrix, {
   "PUT /yard/settings": { allowed: SETUP, sample: () => ({ path: "/api/yard/settings", body: { syncWindowHours: 48 } }) },
   "POST /risk-models": {
     allowed: ["quality", "admin"],
-    sample: () => ({ path: "/api/risk-models", body: { targetKind: "type", targetCode: "SLG", conditions: ["mold_level_sd_mm", "superheat_c"], categories: ["grade_family"], knots: 3 } }),
+    sample: () => ({
+      path: "/api/risk-models",
+      body: { targetKind: "type", targetCode: "SLG", conditions: ["mold_level_sd_mm", "superheat_c"], categories: ["grade_family"], knots: 3 },
+    }),
   },
   "GET /risk-models": { allowed: ["quality", "process", "admin"], sample: () => ({ path: "/api/risk-models" }) },
   "GET /risk-models/:id": { allowed: ["quality", "process", "admin"], sample: (t) => ({ path: `/api/risk-models/${goodModel(t)}` }) },
@@ -343,9 +472,15 @@ Object.assign(matrix, {
   "GET /operating-windows": { allowed: ["quality", "process", "admin"], sample: () => ({ path: "/api/operating-windows" }) },
   "POST /operating-windows": {
     allowed: SETUP,
-    sample: () => ({ path: "/api/operating-windows", body: { name: `Matrix rule ${++counter}`, familyCode: "LC", conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.6 }] } }),
+    sample: () => ({
+      path: "/api/operating-windows",
+      body: { name: `Matrix rule ${++counter}`, familyCode: "LC", conditions: [{ variable: "casting_speed_m_min", op: "above", value: 1.6 }] },
+    }),
   },
-  "PATCH /operating-windows/:id": { allowed: SETUP, sample: (t) => ({ path: `/api/operating-windows/${freshWindow(t)}`, body: { note: "Changed by the matrix." } }) },
+  "PATCH /operating-windows/:id": {
+    allowed: SETUP,
+    sample: (t) => ({ path: `/api/operating-windows/${freshWindow(t)}`, body: { note: "Changed by the matrix." } }),
+  },
   "DELETE /operating-windows/:id": { allowed: SETUP, sample: (t) => ({ path: `/api/operating-windows/${freshWindow(t)}` }) },
   "GET /operating-windows/flags": { allowed: EVERY_ROLE, sample: (t) => ({ path: `/api/operating-windows/flags?heatNo=${firstHeat(t)}` }) },
 } satisfies Record<string, Row>);
@@ -353,13 +488,18 @@ Object.assign(matrix, {
 /** A live operating window rule of its own for each call (SQL), so each role changes or retires its own. */
 function freshWindow(t: TestApp) {
   return Number(
-    t.db.$client.prepare("insert into operating_windows (name, conditions) values (?, ?)").run(`Matrix window ${++counter}`, JSON.stringify([{ variable: "superheat_c", op: "above", value: 35 }])).lastInsertRowid,
+    t.db.$client
+      .prepare("insert into operating_windows (name, conditions) values (?, ?)")
+      .run(`Matrix window ${++counter}`, JSON.stringify([{ variable: "superheat_c", op: "above", value: 35 }])).lastInsertRowid,
   );
 }
 
 /** The newest trained version that beats its baseline (the POST /risk-models row trains one before it is asked for). */
 function goodModel(t: TestApp) {
-  return (t.db.$client.prepare("select id from risk_models where status = 'ready' and beats_baseline = 1 order by id desc limit 1").pluck().get() as number | undefined) ?? 0;
+  return (
+    (t.db.$client.prepare("select id from risk_models where status = 'ready' and beats_baseline = 1 order by id desc limit 1").pluck().get() as
+      number | undefined) ?? 0
+  );
 }
 
 function firstStrand(t: TestApp) {
@@ -379,16 +519,28 @@ const routes = () => t.app.locals.routes as AnyRoute[];
 beforeAll(async () => {
   // Beside the demo plant, a history a risk model can learn from (slag spots driven by mold-level
   // fluctuation and superheat), ending a month ago so every slab has passed the yard.
-  t = await createTestApp({ scale: 0.01, beforeStart: (db) => void buildConfoundedPlant(db, { heats: 400, start: Date.now() - 30 * 86_400_000 - 400 * 90 * 60_000 }) });
+  t = await createTestApp({
+    scale: 0.01,
+    beforeStart: (db) => void buildConfoundedPlant(db, { heats: 400, start: Date.now() - 30 * 86_400_000 - 400 * 90 * 60_000 }),
+  });
   agents = {} as Record<Role, request.Agent>;
   for (const role of ROLES) agents[role] = await t.agentFor(role);
-  tinyPng = await (await import("sharp")).default({ create: { width: 8, height: 8, channels: 3, background: "#468" } }).png().toBuffer();
+  tinyPng = await (
+    await import("sharp")
+  )
+    .default({ create: { width: 8, height: 8, channels: 3, background: "#468" } })
+    .png()
+    .toBuffer();
   await realPhoto(t);
 });
 afterAll(() => t?.close());
 
 let tinyPng: Buffer;
-function send(agent: request.Agent | ReturnType<typeof request>, route: AnyRoute, s: { path: string; body?: unknown; file?: Buffer; files?: Buffer; photo?: boolean }) {
+function send(
+  agent: request.Agent | ReturnType<typeof request>,
+  route: AnyRoute,
+  s: { path: string; body?: unknown; file?: Buffer; files?: Buffer; photo?: boolean },
+) {
   const call = (agent as request.Agent)[route.method](s.path).set("Origin", t.env.BETTER_AUTH_URL);
   if (s.file) return call.attach("file", s.file, "matrix.csv");
   if (s.files) return call.attach("files", s.files, "matrix-note.txt");
@@ -455,19 +607,32 @@ describe("role matrix", () => {
     }
   });
 
-  it.each(ROLES)("when signed in as %s, then the causes field of a defect, the defect list and the slab shows causes only to roles that read causes", async (role) => {
-    const sqlite = t.db.$client;
-    const defectId = sqlite.prepare("select d.id from defects d where d.deleted_at is null order by d.id limit 1").pluck().get() as number;
-    if (!sqlite.prepare("select 1 from defect_causes where defect_id = ? and removed_at is null").get(defectId)) {
-      sqlite.prepare("insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')").run(defectId);
-    }
-    const slab = sqlite.prepare("select s.slab_id from defects d join slabs s on s.id = d.slab_id where d.id = ?").pluck().get(defectId) as string;
-    const one = await agents[role].get(`/api/defects/${defectId}`);
-    const list = await agents[role].get(`/api/defects?slab=${slab}&pageSize=200`);
-    const page = await agents[role].get(`/api/slabs/${slab}`);
-    const seen = [one.body.causes, list.body.items.find((d: { id: number }) => d.id === defectId).causes, page.body.defects.find((d: { id: number }) => d.id === defectId).causes];
-    const readsCauses = READERS.includes(role); // the same roles as GET /defects/:id/causes, written out above
-    for (const causes of seen) expect(causes.some((c: { tag: string }) => c.tag === "sen-clogging"), role).toBe(readsCauses);
-    expect((await agents[role].get(`/api/defects/${defectId}/causes`)).status).toBe(readsCauses ? 200 : 403);
-  });
+  it.each(ROLES)(
+    "when signed in as %s, then the causes field of a defect, the defect list and the slab shows causes only to roles that read causes",
+    async (role) => {
+      const sqlite = t.db.$client;
+      const defectId = sqlite.prepare("select d.id from defects d where d.deleted_at is null order by d.id limit 1").pluck().get() as number;
+      if (!sqlite.prepare("select 1 from defect_causes where defect_id = ? and removed_at is null").get(defectId)) {
+        sqlite
+          .prepare("insert into defect_causes (defect_id, tag_id, confidence) values (?, (select id from cause_tags where code = 'sen-clogging'), 'suspected')")
+          .run(defectId);
+      }
+      const slab = sqlite.prepare("select s.slab_id from defects d join slabs s on s.id = d.slab_id where d.id = ?").pluck().get(defectId) as string;
+      const one = await agents[role].get(`/api/defects/${defectId}`);
+      const list = await agents[role].get(`/api/defects?slab=${slab}&pageSize=200`);
+      const page = await agents[role].get(`/api/slabs/${slab}`);
+      const seen = [
+        one.body.causes,
+        list.body.items.find((d: { id: number }) => d.id === defectId).causes,
+        page.body.defects.find((d: { id: number }) => d.id === defectId).causes,
+      ];
+      const readsCauses = READERS.includes(role); // the same roles as GET /defects/:id/causes, written out above
+      for (const causes of seen)
+        expect(
+          causes.some((c: { tag: string }) => c.tag === "sen-clogging"),
+          role,
+        ).toBe(readsCauses);
+      expect((await agents[role].get(`/api/defects/${defectId}/causes`)).status).toBe(readsCauses ? 200 : 403);
+    },
+  );
 });

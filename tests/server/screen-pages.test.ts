@@ -66,7 +66,6 @@ function get(url: string, headers: Record<string, string> = { "accept-encoding":
   });
 }
 
-
 const modulePreloads = (html: string) => [...html.matchAll(/<link rel="modulepreload" crossorigin href="\/([^"]+)">/g)].map((m) => m[1]!);
 const fontPreloads = (html: string) => [...html.matchAll(/<link rel="preload" as="font" type="font\/woff2" crossorigin href="\/([^"]+)">/g)].map((m) => m[1]!);
 const LATIN = /^assets\/noto-sans-latin-(400|500|600|700)-normal-[\w-]+\.woff2$/;
@@ -101,7 +100,9 @@ describe("a screen's page names the screen's code", () => {
     expect(html.startsWith(built.slice(0, head))).toBe(true);
     expect(html.endsWith(built.slice(head))).toBe(true);
     const middle = html.slice(head, html.length - (built.length - head));
-    expect(middle.replace(/\n {4}<link rel="(?:modulepreload" crossorigin|preload" as="font" type="font\/woff2" crossorigin) href="\/assets\/[^"]+">/g, "")).toBe("\n  ");
+    expect(
+      middle.replace(/\n {4}<link rel="(?:modulepreload" crossorigin|preload" as="font" type="font\/woff2" crossorigin) href="\/assets\/[^"]+">/g, ""),
+    ).toBe("\n  ");
   });
 
   it("when an inspector or nobody signed in opens a report's address, then the page names the report's module but no chart code (the screen will refuse them)", async () => {

@@ -27,11 +27,17 @@ describe("rate limits and lock-out", () => {
       statuses.push(last.status);
     }
     expect(statuses).toEqual([401, 401, 401, 401, 429]);
-    expect(last!.body.error).toMatchObject({ code: "too_many_requests", message: "Too many sign-in attempts from this address. Wait 15 minutes and try again." });
+    expect(last!.body.error).toMatchObject({
+      code: "too_many_requests",
+      message: "Too many sign-in attempts from this address. Wait 15 minutes and try again.",
+    });
     expect(last!.headers["retry-after"]).toBeDefined();
     expect(last!.headers["ratelimit-policy"]).toBe("4;w=900");
     // The same budget covers the password-reset request.
-    const reset = await request(t.app).post("/api/auth/request-password-reset").set("Origin", t.env.BETTER_AUTH_URL).send({ email: "quality@demo.test", redirectTo: "/reset-password" });
+    const reset = await request(t.app)
+      .post("/api/auth/request-password-reset")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .send({ email: "quality@demo.test", redirectTo: "/reset-password" });
     expect(reset.status).toBe(429);
   });
 
@@ -49,7 +55,10 @@ describe("rate limits and lock-out", () => {
     // The real administrator, at another address, is not locked out.
     expect((await signInFrom(t, desk, "admin@demo.test", TEST_PASSWORD)).status).toBe(200);
     expect((await signInFrom(t, attacker, "process@demo.test", TEST_PASSWORD)).status).toBe(200);
-    const audit = t.db.$client.prepare("select entity_id, after from audit_log where action = 'user.sign_in.locked'").all() as { entity_id: string; after: string }[];
+    const audit = t.db.$client.prepare("select entity_id, after from audit_log where action = 'user.sign_in.locked'").all() as {
+      entity_id: string;
+      after: string;
+    }[];
     expect(audit.map((a) => [a.entity_id, JSON.parse(a.after)])).toEqual([["admin@demo.test", { minutes: 15, failures: MAX_FAILURES, address: attacker }]]);
   });
 
@@ -60,11 +69,22 @@ describe("rate limits and lock-out", () => {
       expect((await signInFrom(t, address, "quality@demo.test", TEST_PASSWORD)).status).toBe(429);
     }
     const id = t.db.$client.prepare("select id from user where email = 'quality@demo.test'").pluck().get() as string;
-    expect((await request(t.app).post("/api/auth/request-password-reset").set("Origin", t.env.BETTER_AUTH_URL).send({ email: "quality@demo.test", redirectTo: "/reset-password" })).status).toBe(200);
+    expect(
+      (
+        await request(t.app)
+          .post("/api/auth/request-password-reset")
+          .set("Origin", t.env.BETTER_AUTH_URL)
+          .send({ email: "quality@demo.test", redirectTo: "/reset-password" })
+      ).status,
+    ).toBe(200);
     const token = (t.db.$client.prepare("select identifier from verification where value = ?").pluck().get(id) as string).slice("reset-password:".length);
-    expect((await request(t.app).post("/api/auth/reset-password").set("Origin", t.env.BETTER_AUTH_URL).send({ token, newPassword: "quality-after-reset" })).status).toBe(200);
+    expect(
+      (await request(t.app).post("/api/auth/reset-password").set("Origin", t.env.BETTER_AUTH_URL).send({ token, newPassword: "quality-after-reset" })).status,
+    ).toBe(200);
     for (const address of ["203.0.113.1", "203.0.113.2"]) expect((await signInFrom(t, address, "quality@demo.test", "quality-after-reset")).status).toBe(200);
-    const after = JSON.parse(t.db.$client.prepare("select after from audit_log where action = 'user.password.changed' and entity_id = ?").pluck().get(id) as string);
+    const after = JSON.parse(
+      t.db.$client.prepare("select after from audit_log where action = 'user.password.changed' and entity_id = ?").pluck().get(id) as string,
+    );
     expect(after).toMatchObject({ how: "reset", locksLifted: 2 });
   });
 
@@ -83,7 +103,11 @@ describe("rate limits and lock-out", () => {
     const unlocked = await admin.post(`/api/admin/users/${claims.id}/unlock`).set("Origin", t.env.BETTER_AUTH_URL);
     expect(unlocked.status).toBe(200);
     expect(unlocked.body).toMatchObject({ email: "claims@demo.test", lockedFrom: [] });
-    const audit = t.db.$client.prepare("select user_name, before, after from audit_log where action = 'user.unlock' and entity_id = ?").get(claims.id) as { user_name: string; before: string; after: string };
+    const audit = t.db.$client.prepare("select user_name, before, after from audit_log where action = 'user.unlock' and entity_id = ?").get(claims.id) as {
+      user_name: string;
+      before: string;
+      after: string;
+    };
     expect(audit.user_name).toBe("Adam Novak (demo administrator)");
     expect(JSON.parse(audit.before).lockedFrom.map((l: { address: string }) => l.address)).toEqual([address]);
     expect(JSON.parse(audit.after)).toEqual({ lockedFrom: [] });
@@ -157,7 +181,10 @@ describe("sessions and passwords", () => {
   it("when an admin sets a password under 10 characters, then 400 names the rule and no user is written", async () => {
     t = await createTestApp({ scale: 0.01 });
     const admin = await t.agentFor("admin");
-    const res = await admin.post("/api/admin/users").set("Origin", t.env.BETTER_AUTH_URL).send({ name: "Short Pw (demo)", email: "short@demo.test", roles: ["inspector"], password: "123456789" });
+    const res = await admin
+      .post("/api/admin/users")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .send({ name: "Short Pw (demo)", email: "short@demo.test", roles: ["inspector"], password: "123456789" });
     expect(res.status).toBe(400);
     expect(JSON.stringify(res.body.error)).toMatch(/10 characters/);
     expect(t.db.$client.prepare("select count(*) from user where email = 'short@demo.test'").pluck().get()).toBe(0);
@@ -202,7 +229,11 @@ describe("the sign-in guard's memory", () => {
 
   it("when an account is cleared (a reset, an administrator), then its locks from every address go, and other accounts keep theirs", () => {
     const guard = createSignInGuard();
-    for (const [email, address] of [["quality@demo.test", "10.0.0.1"], ["quality@demo.test", "10.0.0.2"], ["process@demo.test", "10.0.0.1"]] as const) {
+    for (const [email, address] of [
+      ["quality@demo.test", "10.0.0.1"],
+      ["quality@demo.test", "10.0.0.2"],
+      ["process@demo.test", "10.0.0.1"],
+    ] as const) {
       for (let i = 0; i < MAX_FAILURES; i++) guard.failed(email, address);
     }
     expect(guard.locksOf("quality@demo.test").map((l) => l.address)).toEqual(["10.0.0.1", "10.0.0.2"]);
@@ -218,15 +249,26 @@ describe("bodies are read only after access is checked", () => {
     const malformed = await request(t.app).post("/api/defects").set("Content-Type", "application/json").send('{"slab_id":');
     expect(malformed.status).toBe(401);
     expect(malformed.body.error.code).toBe("unauthenticated");
-    const oversized = await request(t.app).post("/api/investigations").set("Content-Type", "application/json").send(JSON.stringify({ pad: "x".repeat(2_100_000) }));
+    const oversized = await request(t.app)
+      .post("/api/investigations")
+      .set("Content-Type", "application/json")
+      .send(JSON.stringify({ pad: "x".repeat(2_100_000) }));
     expect(oversized.status).toBe(401);
     // A role without the route's capability gets 403, not a parse error, for the same bodies.
     const inspector = await t.agentFor("inspector");
-    const forbidden = await inspector.post("/api/investigations").set("Origin", t.env.BETTER_AUTH_URL).set("Content-Type", "application/json").send('{"title":');
+    const forbidden = await inspector
+      .post("/api/investigations")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .set("Content-Type", "application/json")
+      .send('{"title":');
     expect(forbidden.status).toBe(403);
     // Once allowed, the same malformed body is refused as such.
     const processEngineer = await t.agentFor("process");
-    const malformedAllowed = await processEngineer.post("/api/investigations").set("Origin", t.env.BETTER_AUTH_URL).set("Content-Type", "application/json").send('{"title":');
+    const malformedAllowed = await processEngineer
+      .post("/api/investigations")
+      .set("Origin", t.env.BETTER_AUTH_URL)
+      .set("Content-Type", "application/json")
+      .send('{"title":');
     expect(malformedAllowed.status).toBe(400);
     expect(malformedAllowed.body.error.code).toBe("invalid_json");
   });

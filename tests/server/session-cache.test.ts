@@ -36,7 +36,10 @@ async function cachedUser(roles: string[]) {
   expect(created.status).toBe(201);
   // A first password set by an administrator opens nothing until the person has chosen their own.
   const first = await signIn(email, FIRST_PASSWORD);
-  expect((await request(t.app).post("/api/me/password").set("Origin", O()).set("Cookie", first).send({ currentPassword: FIRST_PASSWORD, newPassword: PASSWORD })).status).toBe(200);
+  expect(
+    (await request(t.app).post("/api/me/password").set("Origin", O()).set("Cookie", first).send({ currentPassword: FIRST_PASSWORD, newPassword: PASSWORD }))
+      .status,
+  ).toBe(200);
   const cookie = await signIn(email);
   const me = await request(t.app).get("/api/me").set("Cookie", cookie);
   expect(me.status).toBe(200);
@@ -48,7 +51,16 @@ const me = (cookie: string) => request(t.app).get("/api/me").set("Cookie", cooki
 
 function defectBody(key: string) {
   const slab = t.db.$client.prepare("select slab_id from slabs order by id limit 1").pluck().get() as string;
-  return { slab_id: slab, type_code: "SLG", face: "inner", position_along_mm: 100, position_across_mm: 100, severity: 1, disposition: "accept", client_key: key };
+  return {
+    slab_id: slab,
+    type_code: "SLG",
+    face: "inner",
+    position_along_mm: 100,
+    position_across_mm: 100,
+    severity: 1,
+    disposition: "accept",
+    client_key: key,
+  };
 }
 
 describe("session cache", () => {
@@ -88,7 +100,14 @@ describe("session cache", () => {
     const u = await cachedUser(["inspector"]);
     const ok = await request(t.app).post("/api/defects").set("Origin", O()).set("Cookie", u.cookie).send(defectBody("cache-role-1"));
     expect(ok.status).toBe(201);
-    expect((await admin.patch(`/api/admin/users/${u.id}`).set("Origin", O()).send({ roles: ["claims"] })).status).toBe(200);
+    expect(
+      (
+        await admin
+          .patch(`/api/admin/users/${u.id}`)
+          .set("Origin", O())
+          .send({ roles: ["claims"] })
+      ).status,
+    ).toBe(200);
     expect((await me(u.cookie)).body.roles).toEqual(["claims"]);
     const refused = await request(t.app).post("/api/defects").set("Origin", O()).set("Cookie", u.cookie).send(defectBody("cache-role-2"));
     expect(refused.status).toBe(403);
@@ -107,12 +126,17 @@ describe("session cache", () => {
 
   it("when the user resets their password with a mailed link, then the very next request with the old cookie is refused", async () => {
     const u = await cachedUser(["process"]);
-    expect((await request(t.app).post("/api/auth/request-password-reset").set("Origin", O()).send({ email: u.email, redirectTo: "/reset-password" })).status).toBe(200);
+    expect(
+      (await request(t.app).post("/api/auth/request-password-reset").set("Origin", O()).send({ email: u.email, redirectTo: "/reset-password" })).status,
+    ).toBe(200);
     const tokens = t.db.$client
       .prepare("select identifier from verification where value = ? and identifier like 'reset-password:%' order by rowid desc")
       .pluck()
       .all(u.id) as string[];
-    const reset = await request(t.app).post("/api/auth/reset-password").set("Origin", O()).send({ token: tokens[0]!.slice("reset-password:".length), newPassword: "cache-after-reset-2" });
+    const reset = await request(t.app)
+      .post("/api/auth/reset-password")
+      .set("Origin", O())
+      .send({ token: tokens[0]!.slice("reset-password:".length), newPassword: "cache-after-reset-2" });
     expect(reset.status).toBe(200);
     expect(t.auth.sessions.lookup(u.cookie)).toBeNull();
     expect((await me(u.cookie)).status).toBe(401);
@@ -124,7 +148,10 @@ describe("session cache", () => {
     const other = await signIn(u.email);
     expect((await me(other)).status).toBe(200);
     expect(t.auth.sessions.lookup(other)).not.toBeNull();
-    await t.auth.api.changePassword({ body: { currentPassword: PASSWORD, newPassword: "cache-changed-pw-3", revokeOtherSessions: true }, headers: new Headers({ cookie: u.cookie }) });
+    await t.auth.api.changePassword({
+      body: { currentPassword: PASSWORD, newPassword: "cache-changed-pw-3", revokeOtherSessions: true },
+      headers: new Headers({ cookie: u.cookie }),
+    });
     expect((await me(other)).status).toBe(401);
     expect((await me(u.cookie)).status).toBe(401);
   });

@@ -53,7 +53,12 @@ describe("restricted cubic splines (Harrell, Regression Modeling Strategies §2.
     expect(splineKnots(fifty, 4)).toEqual([5, expect.closeTo(18.15, 10), expect.closeTo(32.85, 10), 46]);
     expect(quantileSorted([1, 2, 3, 4], 0.5)).toBe(2.5);
     // A variable with two values cannot carry a spline: the knots merge.
-    expect(splineKnots(Array.from({ length: 200 }, (_, i) => (i % 2 ? 180 : 0)), 4)).toEqual([0, 180]);
+    expect(
+      splineKnots(
+        Array.from({ length: 200 }, (_, i) => (i % 2 ? 180 : 0)),
+        4,
+      ),
+    ).toEqual([0, 180]);
     // Missing values are skipped; with 6 values the quantiles stand: quantile(c(1, 2, 3, 5, 6, 7), c(.1, .5, .9)) = 1.5 4 6.5.
     expect(splineKnots([1, 2, 3, NaN, 5, 6, 7], 3)).toEqual([expect.closeTo(1.5, 12), 4, expect.closeTo(6.5, 12)]);
     expect(splineKnots([1, 2, 3, 4, 5], 3)).toEqual([]);
@@ -203,7 +208,12 @@ describe("discrimination and calibration", () => {
       x[i] = rnd() * 4 - 2;
       y[i] = rnd() < logistic(-1 + 1.2 * x[i]!) ? 1 : 0;
     }
-    const fit = penalisedLogistic([x], y, Int32Array.from({ length: n }, (_, i) => i), { lambda: 0 });
+    const fit = penalisedLogistic(
+      [x],
+      y,
+      Int32Array.from({ length: n }, (_, i) => i),
+      { lambda: 0 },
+    );
     const lp = Array.from(x, (v) => fit.coefficients[0]! + fit.coefficients[1]! * v);
     // The fitted model solves its own score equations, which are the calibration fits' equations at (0, 1).
     const own = calibration({ risk: lp.map(logistic), outcome: y });

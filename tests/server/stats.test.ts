@@ -88,8 +88,14 @@ describe("rank correlation and rank tests", () => {
 describe("regression", () => {
   it("when the NIST StRD Norris data are fitted, then the certified values come back", () => {
     // NIST/ITL StRD, Norris.dat (Norris, J., Calibration of Ozone Monitors): certified values
-    const nx = [0.2, 337.4, 118.2, 884.6, 10.1, 226.5, 666.3, 996.3, 448.6, 777.0, 558.2, 0.4, 0.6, 775.5, 666.9, 338.0, 447.5, 11.6, 556.0, 228.1, 995.8, 887.6, 120.2, 0.3, 0.3, 556.8, 339.1, 887.2, 999.0, 779.0, 11.1, 118.3, 229.2, 669.1, 448.9, 0.5];
-    const ny = [0.1, 338.8, 118.1, 888.0, 9.2, 228.1, 668.5, 998.5, 449.1, 778.9, 559.2, 0.3, 0.1, 778.1, 668.8, 339.3, 448.9, 10.8, 557.7, 228.3, 998.0, 888.8, 119.6, 0.3, 0.6, 557.6, 339.3, 888.0, 998.5, 778.9, 10.2, 117.6, 228.9, 668.4, 449.2, 0.2];
+    const nx = [
+      0.2, 337.4, 118.2, 884.6, 10.1, 226.5, 666.3, 996.3, 448.6, 777.0, 558.2, 0.4, 0.6, 775.5, 666.9, 338.0, 447.5, 11.6, 556.0, 228.1, 995.8, 887.6, 120.2,
+      0.3, 0.3, 556.8, 339.1, 887.2, 999.0, 779.0, 11.1, 118.3, 229.2, 669.1, 448.9, 0.5,
+    ];
+    const ny = [
+      0.1, 338.8, 118.1, 888.0, 9.2, 228.1, 668.5, 998.5, 449.1, 778.9, 559.2, 0.3, 0.1, 778.1, 668.8, 339.3, 448.9, 10.8, 557.7, 228.3, 998.0, 888.8, 119.6,
+      0.3, 0.6, 557.6, 339.3, 888.0, 998.5, 778.9, 10.2, 117.6, 228.9, 668.4, 449.2, 0.2,
+    ];
     const fit = linearRegression(nx, ny);
     expect(fit.intercept).toBeCloseTo(-0.262323073774029, 12);
     expect(fit.slope).toBeCloseTo(1.00211681802045, 13);
@@ -200,10 +206,7 @@ describe("control charts", () => {
 });
 
 describe("binning", () => {
-  const groups = groupsFrom(
-    [1, 2, 3, 4, 5, 6, 7, 8, 9, 10],
-    [0, 0, 0, 0, 1, 0, 1, 1, 1, 1],
-  );
+  const groups = groupsFrom([1, 2, 3, 4, 5, 6, 7, 8, 9, 10], [0, 0, 0, 0, 1, 0, 1, 1, 1, 1]);
   it("when binned in equal widths, then counts and rates per bin are right", () => {
     const bins = binnedRates(groups, equalWidthEdges(groups, 2));
     expect(bins.map((b) => [b.lower, b.upper, b.slabs, b.affected])).toEqual([
@@ -226,18 +229,25 @@ describe("binning", () => {
     const spans: { lower: number; upper: number }[] = [];
     const bins = binnedRates(brake, equalWidthEdges(brake, 10), 1, spans);
     // Ten bins of 24 A: 0 in the first, 120 in the sixth, 240 in the last; the empty ones join a neighbour.
-    expect(spans).toEqual([{ lower: 24, upper: 120 }, { lower: 144, upper: 216 }]);
+    expect(spans).toEqual([
+      { lower: 24, upper: 120 },
+      { lower: 144, upper: 216 },
+    ]);
     expect(bins[0]!.lower).toBe(0);
     expect(bins[bins.length - 1]!.upper).toBe(240);
     for (let k = 1; k < bins.length; k++) expect(bins[k]!.lower).toBe(bins[k - 1]!.upper);
-    expect(bins.map((b) => [b.slabs, b.affected])).toEqual([[3, 1], [2, 1], [4, 3]]);
+    expect(bins.map((b) => [b.slabs, b.affected])).toEqual([
+      [3, 1],
+      [2, 1],
+      [4, 3],
+    ]);
   });
 });
 
 describe("agreement with jstat and simple-statistics on random data", () => {
   // A seeded generator so a failure can be reproduced.
   let seed = 20261201;
-  const rnd = () => ((seed = (seed * 1664525 + 1013904223) >>> 0) / 2 ** 32);
+  const rnd = () => (seed = (seed * 1664525 + 1013904223) >>> 0) / 2 ** 32;
   const normal = () => Math.sqrt(-2 * Math.log(rnd() + 1e-12)) * Math.cos(2 * Math.PI * rnd());
 
   it("when 20 random samples are correlated, then Spearman's ρ equals simple-statistics' sampleRankCorrelation", () => {
@@ -261,11 +271,21 @@ describe("agreement with jstat and simple-statistics on random data", () => {
   });
 
   it("when our distribution tails are compared with jstat's, then they agree", () => {
-    for (const [t, df] of [[0.5, 3], [2.1, 10], [-3.3, 25], [1.96, 1000]] as const) {
+    for (const [t, df] of [
+      [0.5, 3],
+      [2.1, 10],
+      [-3.3, 25],
+      [1.96, 1000],
+    ] as const) {
       // jstat's t cdf carries about 8 digits
       expect(tTwoSided(t, df)).toBeCloseTo(2 * (1 - jStat.studentt.cdf(Math.abs(t), df)), 7);
     }
-    for (const [x, df] of [[1, 1], [5.99, 2], [30.07, 2], [12, 7]] as const) {
+    for (const [x, df] of [
+      [1, 1],
+      [5.99, 2],
+      [30.07, 2],
+      [12, 7],
+    ] as const) {
       expect(chiSquareUpper(x, df)).toBeCloseTo(1 - jStat.chisquare.cdf(x, df), 9);
     }
     expect(normalTwoSided(1.959964)).toBeCloseTo(0.05, 6);

@@ -24,7 +24,9 @@ beforeAll(async () => {
   quality = await t.agentFor("quality");
   freeSlabs.push(
     ...(t.db.$client
-      .prepare("select id, slab_id, length_mm, width_mm, thickness_mm from slabs s where not exists (select 1 from defects d where d.slab_id = s.id) order by id limit 6")
+      .prepare(
+        "select id, slab_id, length_mm, width_mm, thickness_mm from slabs s where not exists (select 1 from defects d where d.slab_id = s.id) order by id limit 6",
+      )
       .all() as Slab[]),
   );
 });
@@ -37,23 +39,58 @@ const one = (sql: string, ...args: unknown[]) => t.db.$client.prepare(sql).get(.
 describe("the answer to a defect post", () => {
   const slab = () => freeSlabs[0]!;
   const shapes = () => [
-    { name: "the fewest fields", body: { slab_id: slab().slab_id, type_code: "SLG", face: "inner", position_along_mm: 100, position_across_mm: 50, severity: 1, disposition: "accept" } },
+    {
+      name: "the fewest fields",
+      body: { slab_id: slab().slab_id, type_code: "SLG", face: "inner", position_along_mm: 100, position_across_mm: 50, severity: 1, disposition: "accept" },
+    },
     {
       name: "every field, the slab id in lower case with spaces, the type code in lower case, found_at with an offset",
       body: {
-        slab_id: `  ${slab().slab_id.toLowerCase()} `, type_code: "lfc", face: "outer", position_along_mm: 2500.5, position_across_mm: 700.25, length_mm: 400,
-        width_mm: 5.5, depth_mm: 1.5, severity: 3, stage: "after_scarfing", disposition: "grind", note: "  crack near the corner  ", found_at: "2026-01-05T07:30:00.123+02:00",
+        slab_id: `  ${slab().slab_id.toLowerCase()} `,
+        type_code: "lfc",
+        face: "outer",
+        position_along_mm: 2500.5,
+        position_across_mm: 700.25,
+        length_mm: 400,
+        width_mm: 5.5,
+        depth_mm: 1.5,
+        severity: 3,
+        stage: "after_scarfing",
+        disposition: "grind",
+        note: "  crack near the corner  ",
+        found_at: "2026-01-05T07:30:00.123+02:00",
       },
     },
-    { name: "an empty note, nulls for the sizes, a narrow face", body: { slab_id: slab().slab_id, type_code: "CLS", face: "left", position_along_mm: 0, position_across_mm: 0, length_mm: null, width_mm: null, depth_mm: null, severity: 2, disposition: "hold", note: "" } },
-    { name: "a critical entry (it also goes to the quality engineers)", body: { slab_id: slab().slab_id, type_code: "SLV", face: "inner", position_along_mm: 10, position_across_mm: 10, severity: 4, disposition: "scrap" } },
+    {
+      name: "an empty note, nulls for the sizes, a narrow face",
+      body: {
+        slab_id: slab().slab_id,
+        type_code: "CLS",
+        face: "left",
+        position_along_mm: 0,
+        position_across_mm: 0,
+        length_mm: null,
+        width_mm: null,
+        depth_mm: null,
+        severity: 2,
+        disposition: "hold",
+        note: "",
+      },
+    },
+    {
+      name: "a critical entry (it also goes to the quality engineers)",
+      body: { slab_id: slab().slab_id, type_code: "SLV", face: "inner", position_along_mm: 10, position_across_mm: 10, severity: 4, disposition: "scrap" },
+    },
   ];
 
   for (const role of ["inspector", "quality"] as const) {
     it(`when ${role === "inspector" ? "an inspector" : "a quality engineer"} posts entries of every shape, then each answer is byte for byte the entry as read back, and fits the documented schema exactly`, async () => {
       const agent = role === "inspector" ? inspector : quality;
       for (const { name, body } of shapes()) {
-        const posted = await agent.post("/api/defects").set("Origin", O()).send({ ...body, client_key: key() });
+        const posted = await agent
+          .post("/api/defects")
+          .set("Origin", O())
+          .send({ ...body, client_key: key() });
         expect(posted.status, name).toBe(201);
         const read = await agent.get(`/api/defects/${posted.body.id}`);
         expect(read.status).toBe(200);
@@ -84,12 +121,23 @@ describe("the audit row of a post", () => {
     const slab = freeSlabs[1]!;
     const k = key();
     // A real SQLite trigger refuses this one audit row.
-    t.db.$client.exec(`create trigger refuse_audit before insert on audit_log when json_extract(new.after, '$.client_key') = '${k}' begin select raise(abort, 'audit refused'); end`);
+    t.db.$client.exec(
+      `create trigger refuse_audit before insert on audit_log when json_extract(new.after, '$.client_key') = '${k}' begin select raise(abort, 'audit refused'); end`,
+    );
     try {
       const res = await inspector
         .post("/api/defects")
         .set("Origin", O())
-        .send({ slab_id: slab.slab_id, type_code: "SLG", face: "inner", position_along_mm: 1, position_across_mm: 1, severity: 2, disposition: "scrap", client_key: k });
+        .send({
+          slab_id: slab.slab_id,
+          type_code: "SLG",
+          face: "inner",
+          position_along_mm: 1,
+          position_across_mm: 1,
+          severity: 2,
+          disposition: "scrap",
+          client_key: k,
+        });
       expect(res.status).toBe(500);
       expect(res.body.error.code).toBe("internal");
     } finally {
@@ -101,7 +149,16 @@ describe("the audit row of a post", () => {
 
   it("when a post is stored, then its audit row is the one the ORM wrote before: who (with their name), what, which entry, the input as sent", async () => {
     const slab = freeSlabs[2]!;
-    const body = { slab_id: slab.slab_id.toLowerCase(), type_code: "LFC", face: "inner", position_along_mm: 5, position_across_mm: 6, severity: 2, disposition: "grind", client_key: key() };
+    const body = {
+      slab_id: slab.slab_id.toLowerCase(),
+      type_code: "LFC",
+      face: "inner",
+      position_along_mm: 5,
+      position_across_mm: 6,
+      severity: 2,
+      disposition: "grind",
+      client_key: key(),
+    };
     const res = await inspector.post("/api/defects").set("Origin", O()).send(body);
     expect(res.status).toBe(201);
     const row = one("select * from audit_log where action = 'defect.create' and entity_id = ?", String(res.body.id));
@@ -121,7 +178,10 @@ describe("the audit row of a post", () => {
     for (const e of entries) {
       t.db.transaction((tx) => recordAudit(tx, e));
       recordAudit(t.db, e);
-      const [orm, fast] = t.db.$client.prepare("select * from audit_log where action = 'test.same' order by id desc limit 2").all().reverse() as Record<string, unknown>[];
+      const [orm, fast] = t.db.$client.prepare("select * from audit_log where action = 'test.same' order by id desc limit 2").all().reverse() as Record<
+        string,
+        unknown
+      >[];
       const { id: _a, at: atOrm, ...restOrm } = orm!;
       const { id: _b, at: atFast, ...restFast } = fast!;
       expect(restFast).toEqual(restOrm);
@@ -139,7 +199,19 @@ describe("the slab's disposition after a post", () => {
       )
       .run(slabId, disposition, review);
   const post = (slab: Slab, disposition: string) =>
-    inspector.post("/api/defects").set("Origin", O()).send({ slab_id: slab.slab_id, type_code: "SLG", face: "inner", position_along_mm: 2, position_across_mm: 2, severity: 1, disposition, client_key: key() });
+    inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send({
+        slab_id: slab.slab_id,
+        type_code: "SLG",
+        face: "inner",
+        position_along_mm: 2,
+        position_across_mm: 2,
+        severity: 1,
+        disposition,
+        client_key: key(),
+      });
 
   it("when the slab's stored disposition counts a rejected entry (older data), then a new entry sets it to the worst of the live, unrejected ones", async () => {
     const slab = freeSlabs[3]!;

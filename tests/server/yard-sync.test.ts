@@ -21,7 +21,7 @@ const one = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).get(...a
 function expectedIds(windowHours: number, before: number, after: number) {
   const ids = (now: number) =>
     new Set(
-      (t.db.$client
+      t.db.$client
         .prepare(
           `select slab_id from slabs s where s.cast_at >= @from
            union select slab_id from slabs s where s.cast_at >= @horizon
@@ -29,7 +29,7 @@ function expectedIds(windowHours: number, before: number, after: number) {
              and not exists (select 1 from products p where p.slab_id = s.id)`,
         )
         .pluck()
-        .all({ from: now - windowHours * HOUR, horizon: now - 90 * DAY }) as string[]),
+        .all({ from: now - windowHours * HOUR, horizon: now - 90 * DAY }) as string[],
     );
   return { must: ids(after), may: ids(before) };
 }
@@ -61,7 +61,9 @@ function expectedRisk(slabId: string) {
     target: "Mold-flux / slag entrapment (slag spot)",
     modelVersion: r.version,
     reasons: JSON.parse(r.reasons).map((x: { text: string }) => x.text),
-    usualPlace: expect.toSatisfy((p: string | null) => p === null || /^usually on the .+ face, (head|middle|tail) third \(\d+ % of \d+ past entries\)$/.test(p)),
+    usualPlace: expect.toSatisfy(
+      (p: string | null) => p === null || /^usually on the .+ face, (head|middle|tail) third \(\d+ % of \d+ past entries\)$/.test(p),
+    ),
   };
 }
 
@@ -82,7 +84,12 @@ describe("the demo plant's last shifts", () => {
     expect([logged.lo, logged.hi]).toEqual(["new", "new"]);
     expect(one("select count(*) as n from products where rolled_at >= ?", seededAt - DAY).n).toBeGreaterThan(5);
     // Every slab of the last shifts has its conditions from its own level-2 samples, like the history.
-    expect(one("select count(*) as n from slabs s join slab_conditions c on c.slab_id = s.id where s.cast_at >= ? and c.casting_speed_source <> 'samples'", seededAt - DAY).n).toBe(0);
+    expect(
+      one(
+        "select count(*) as n from slabs s join slab_conditions c on c.slab_id = s.id where s.cast_at >= ? and c.casting_speed_source <> 'samples'",
+        seededAt - DAY,
+      ).n,
+    ).toBe(0);
   });
 });
 
@@ -165,7 +172,9 @@ describe("the yard set", () => {
 
   it("when the inspector asks for the set, then it carries the active catalogue and the inspector's own entries of the last 7 days, not others'", async () => {
     const { res, after } = await sync();
-    const types = all("select t.code from defect_types t join defect_categories c on c.id = t.category_id where t.active = 1 and c.active = 1 order by c.sort_order, t.code");
+    const types = all(
+      "select t.code from defect_types t join defect_categories c on c.id = t.category_id where t.active = 1 and c.active = 1 order by c.sort_order, t.code",
+    );
     expect(res.body.catalogue.types.map((x: { code: string }) => x.code)).toEqual(types.map((x) => x.code));
     expect(res.body.mineDays).toBe(7);
     const mine = all(
@@ -204,8 +213,14 @@ describe("the yard set", () => {
 
     const slab = first.body.slabs.find((s: { uninspected: boolean; pieceNo: number }) => s.uninspected && s.pieceNo === 1);
     const created = await inspector.post("/api/defects").set("Origin", O()).send({
-      slab_id: slab.slabId, type_code: "SCB", face: "inner", position_along_mm: 1000, position_across_mm: 300, severity: 1,
-      disposition: "accept", client_key: "yard-sync-etag-0001",
+      slab_id: slab.slabId,
+      type_code: "SCB",
+      face: "inner",
+      position_along_mm: 1000,
+      position_across_mm: 300,
+      severity: 1,
+      disposition: "accept",
+      client_key: "yard-sync-etag-0001",
     });
     expect(created.status).toBe(201);
     const after = await inspector.get("/api/yard/sync").set("If-None-Match", etag);
@@ -289,10 +304,20 @@ describe("an entry logged offline under a slab id the server does not know", () 
   it("when the outbox posts it, then 404 names the id in plain words and nothing is stored", async () => {
     const before = one("select count(*) as n from defects").n;
     const audits = one("select count(*) as n from audit_log").n;
-    const res = await inspector.post("/api/defects").set("Origin", O()).send({
-      slab_id: "l269999-199", type_code: "SLG", face: "outer", position_along_mm: 2000, position_across_mm: 500, severity: 2,
-      disposition: "scarf", client_key: "offline-unknown-slab-0001", found_at: new Date(Date.now() - 60_000).toISOString(),
-    });
+    const res = await inspector
+      .post("/api/defects")
+      .set("Origin", O())
+      .send({
+        slab_id: "l269999-199",
+        type_code: "SLG",
+        face: "outer",
+        position_along_mm: 2000,
+        position_across_mm: 500,
+        severity: 2,
+        disposition: "scarf",
+        client_key: "offline-unknown-slab-0001",
+        found_at: new Date(Date.now() - 60_000).toISOString(),
+      });
     expect(res.status).toBe(404);
     expect(res.body.error.code).toBe("not_found");
     expect(res.body.error.message).toBe("There is no slab L269999-199 on record. Check the id on the slab's label, or scan it again.");
@@ -310,9 +335,13 @@ describe("the cap", () => {
     const strand = one("select id from strands order by id limit 1").id as number;
     const now = Date.now();
     const heatId = Number(
-      c.prepare("insert into heats (heat_no, caster_id, grade_id, cast_start, casting_speed_m_min) values ('CAPTEST1', ?, ?, ?, 1.4)").run(heat.caster_id, heat.grade_id, now - 5 * HOUR).lastInsertRowid,
+      c
+        .prepare("insert into heats (heat_no, caster_id, grade_id, cast_start, casting_speed_m_min) values ('CAPTEST1', ?, ?, ?, 1.4)")
+        .run(heat.caster_id, heat.grade_id, now - 5 * HOUR).lastInsertRowid,
     );
-    const ins = c.prepare("insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, ?, ?, ?, 10000, 1500, 230, 26.9, ?)");
+    const ins = c.prepare(
+      "insert into slabs (slab_id, heat_id, strand_id, piece_no, length_mm, width_mm, thickness_mm, weight_t, cast_at) values (?, ?, ?, ?, 10000, 1500, 230, 26.9, ?)",
+    );
     c.transaction(() => {
       for (let i = 1; i <= 5150; i++) ins.run(`CAPTEST1-${i}`, heatId, strand, i, now - 4 * HOUR + i * 1000);
     })();

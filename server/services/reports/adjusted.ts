@@ -12,7 +12,14 @@ import type { z } from "zod";
 import { effectiveTerms, inSentence, type Adjusted, type adjustedQuerySchema } from "@shared/api/reports";
 import { CATEGORICAL_KEYS, CATEGORICAL_LABELS, VARIABLES, type CategoricalKey } from "@shared/variables";
 import type { Db } from "../../db/client";
-import { changeInEstimate, logisticRegressionColumns, oddsRatioForStep, type MultiLogisticFit, type TermColumn, type TermEstimate } from "../../stats/logistic-multi";
+import {
+  changeInEstimate,
+  logisticRegressionColumns,
+  oddsRatioForStep,
+  type MultiLogisticFit,
+  type TermColumn,
+  type TermEstimate,
+} from "../../stats/logistic-multi";
 import { scratch } from "../../stats/scratch";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
@@ -210,7 +217,13 @@ export function categoricalColumn(db: Db, s: Scanned, key: CategoricalKey, rows:
 export function numericTerm(key: string, values: Float64Array, grid?: Grid | null): ModelTerm {
   const spec = VARIABLES.find((v) => v.key === key)!;
   return {
-    key, label: spec.label, unit: spec.unit, kind: "numeric", step: spec.step, scale: 10 ** (spec.digits + 1), column: { name: spec.label, kind: "numeric", values },
+    key,
+    label: spec.label,
+    unit: spec.unit,
+    kind: "numeric",
+    step: spec.step,
+    scale: 10 ** (spec.digits + 1),
+    column: { name: spec.label, kind: "numeric", values },
     ...(grid !== undefined ? { grid } : {}),
   };
 }
@@ -285,8 +298,14 @@ export function fitTerms(s: Scanned, terms: ModelTerm[], rows: Int32Array, se: S
   // Refitting the model without each variable (the LR test) only where it is valid: with model-based SEs.
   return logisticRegressionColumns(
     {
-      terms: terms.map((t) => t.column), affected: s.affected, cluster: s.facts.heatId, clusterIds: se === "cluster" ? heatNumbering(s) : undefined, rows,
-      pattern: pattern?.ids, patternCount: pattern?.count, rowsComplete: complete,
+      terms: terms.map((t) => t.column),
+      affected: s.affected,
+      cluster: s.facts.heatId,
+      clusterIds: se === "cluster" ? heatNumbering(s) : undefined,
+      rows,
+      pattern: pattern?.ids,
+      patternCount: pattern?.count,
+      rowsComplete: complete,
     },
     { se, likelihoodRatio: likelihoodRatio && se === "model" },
   );
@@ -309,7 +328,8 @@ export function heatsOf(s: Scanned, rows: ArrayLike<number>): number {
   return n;
 }
 
-export const fmt = (x: number | null) => (x === null ? "—" : Math.abs(x) >= 1000 || Math.abs(x) < 0.001 ? x.toPrecision(3) : Number(x.toPrecision(3)).toString());
+export const fmt = (x: number | null) =>
+  x === null ? "—" : Math.abs(x) >= 1000 || Math.abs(x) < 0.001 ? x.toPrecision(3) : Number(x.toPrecision(3)).toString();
 export const perWordsOf = (step: number, unit: string | null) => (unit && unit !== "–" ? `per ${step} ${unit}` : `per ${step}`);
 const lower = inSentence;
 const listWords = (xs: string[]) => (xs.length <= 1 ? xs.join("") : `${xs.slice(0, -1).join(", ")} and ${xs[xs.length - 1]}`);
@@ -354,7 +374,8 @@ export function changeWords(
 }
 
 /** Which GVIF^(1/(2·df)) band a variable falls in: √5 and √10, the usual VIF thresholds 5 and 10 on a scale comparable across df. */
-export const collinearityOf = (gvifPerDf: number | null) => (gvifPerDf === null ? null : gvifPerDf > Math.sqrt(10) ? "serious" : gvifPerDf > Math.sqrt(5) ? "notable" : "low");
+export const collinearityOf = (gvifPerDf: number | null) =>
+  gvifPerDf === null ? null : gvifPerDf > Math.sqrt(10) ? "serious" : gvifPerDf > Math.sqrt(5) ? "notable" : "low";
 
 export const COLLINEARITY_METHOD =
   "generalised variance inflation factor GVIF per variable (Fox & Monette 1992, JASA 87:178) from the slab-weighted correlation of the design columns; " +
@@ -381,7 +402,17 @@ function estimateOf(t: TermEstimate | undefined, step: number, readableStep: num
     return { e: none, reason: "the odds ratio would be beyond 10⁴ per readable step: the slabs are (nearly) separated or far too few; not shown as a finding" };
   }
   const or = oddsRatioForStep(t.coef, t.se, step);
-  return { e: { coef: t.coef, se: t.se, oddsRatio: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(t.p ?? NaN) }, reason: null };
+  return {
+    e: {
+      coef: t.coef,
+      se: t.se,
+      oddsRatio: finite(or.oddsRatio ?? NaN),
+      ciLower: finite(or.ciLower ?? NaN),
+      ciUpper: finite(or.ciUpper ?? NaN),
+      p: finite(t.p ?? NaN),
+    },
+    reason: null,
+  };
 }
 
 /**
@@ -389,14 +420,27 @@ function estimateOf(t: TermEstimate | undefined, step: number, readableStep: num
  * per unit and per the readable step; null (with the reason) beyond the readable limit.
  */
 export function slopeOf(t: TermEstimate | undefined, step: number) {
-  const empty = { slope: null, se: null, oddsRatio: null, oddsRatioCiLower: null, oddsRatioCiUpper: null, p: null, perStep: { step, oddsRatio: null, ciLower: null, ciUpper: null } };
+  const empty = {
+    slope: null,
+    se: null,
+    oddsRatio: null,
+    oddsRatioCiLower: null,
+    oddsRatioCiUpper: null,
+    p: null,
+    perStep: { step, oddsRatio: null, ciLower: null, ciUpper: null },
+  };
   if (!t || t.coef === null || t.se === null) return { fit: empty, reason: null as string | null };
   const { e, reason } = estimateOf(t, 1, step);
   if (e.coef === null) return { fit: empty, reason };
   const per = oddsRatioForStep(t.coef, t.se, step);
   return {
     fit: {
-      slope: e.coef, se: e.se, oddsRatio: e.oddsRatio, oddsRatioCiLower: e.ciLower, oddsRatioCiUpper: e.ciUpper, p: e.p,
+      slope: e.coef,
+      se: e.se,
+      oddsRatio: e.oddsRatio,
+      oddsRatioCiLower: e.ciLower,
+      oddsRatioCiUpper: e.ciUpper,
+      p: e.p,
       perStep: { step, oddsRatio: finite(per.oddsRatio ?? NaN), ciLower: finite(per.ciLower ?? NaN), ciUpper: finite(per.ciUpper ?? NaN) },
     },
     reason: null as string | null,
@@ -429,8 +473,15 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
       // No spread, or a single level: nothing to estimate.
       const why = test.reason ?? fit.reason ?? "not estimable";
       outTerms.push({
-        ...base, level: null, reference: null, step: t.step, perWords: t.step !== null ? perWordsOf(q.per === "step" ? t.step : 1, t.unit) : "",
-        crude: none, adjusted: none, changeInEstimate: { relativeChange: null, differs: null, sentence: null }, reason: why,
+        ...base,
+        level: null,
+        reference: null,
+        step: t.step,
+        perWords: t.step !== null ? perWordsOf(q.per === "step" ? t.step : 1, t.unit) : "",
+        crude: none,
+        adjusted: none,
+        changeInEstimate: { relativeChange: null, differs: null, sentence: null },
+        reason: why,
       });
       continue;
     }
@@ -447,7 +498,17 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
       let reason: string | null = null;
       if (ae.e.coef === null) reason = ae.reason ?? fit.separation?.description ?? fit.reason;
       else if (ce.e.coef === null) reason = `crude: ${ce.reason ?? crudeFit.separation?.description ?? crudeFit.reason}`;
-      outTerms.push({ ...base, level: r.level, reference: r.reference, step: t.kind === "numeric" ? step : null, perWords, crude: ce.e, adjusted: ae.e, changeInEstimate: change, reason });
+      outTerms.push({
+        ...base,
+        level: r.level,
+        reference: r.reference,
+        step: t.kind === "numeric" ? step : null,
+        perWords,
+        crude: ce.e,
+        adjusted: ae.e,
+        changeInEstimate: change,
+        reason,
+      });
     }
   }
 
@@ -455,10 +516,18 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
     const v = fit.variables.find((x) => x.variable === t.label)!;
     const lr = q.se === "model";
     return {
-      variable: t.key, label: t.label, kind: t.kind, role: roleOf(t.key), df: v.df,
+      variable: t.key,
+      label: t.label,
+      kind: t.kind,
+      role: roleOf(t.key),
+      df: v.df,
       test: lr ? ("likelihood ratio" as const) : ("Wald, heat-clustered" as const),
-      lrChi2: finite(v.lrChi2 ?? NaN), waldChi2: finite(v.waldChi2 ?? NaN), p: finite((lr ? v.lrP : v.waldP) ?? NaN),
-      gvif: finite(v.gvif ?? NaN), gvifPerDf: finite(v.gvifPerDf ?? NaN), collinearity: collinearityOf(v.gvifPerDf),
+      lrChi2: finite(v.lrChi2 ?? NaN),
+      waldChi2: finite(v.waldChi2 ?? NaN),
+      p: finite((lr ? v.lrP : v.waldP) ?? NaN),
+      gvif: finite(v.gvif ?? NaN),
+      gvifPerDf: finite(v.gvifPerDf ?? NaN),
+      collinearity: collinearityOf(v.gvifPerDf),
       ...(v.levels ? { levels: v.levels } : {}),
       reason: v.reason,
     };
@@ -466,7 +535,10 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
 
   // Notes, in the order an engineer reads them.
   if (s.rows.length === 0) notes.push("No slab in these filters.");
-  for (const m of missing) notes.push(`${m.slabs} slab${m.slabs === 1 ? "" : "s"} in the filters have no value for ${lower(m.label)} and are left out of every fit (crude and adjusted use the same slabs).`);
+  for (const m of missing)
+    notes.push(
+      `${m.slabs} slab${m.slabs === 1 ? "" : "s"} in the filters have no value for ${lower(m.label)} and are left out of every fit (crude and adjusted use the same slabs).`,
+    );
   if (fit.reason) notes.push(fit.separation ? `Separation: ${fit.separation.description}` : `The model could not be fitted: ${fit.reason}.`);
   for (const v of variables) {
     if (v.reason && v.df === 0) notes.push(`${v.label}: ${v.reason}.`);
@@ -476,7 +548,8 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
       );
     }
   }
-  if (fit.affected > 0 && fit.affected < SMALL_AFFECTED) notes.push(`Only ${fit.affected} affected slab${fit.affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
+  if (fit.affected > 0 && fit.affected < SMALL_AFFECTED)
+    notes.push(`Only ${fit.affected} affected slab${fit.affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
   for (const n of fit.notes) if (!/left out\.$/.test(n)) notes.push(n);
   for (const t of outTerms) if (t.changeInEstimate.sentence && t.role === "examined") notes.push(t.changeInEstimate.sentence);
   notes.push(
@@ -515,11 +588,11 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
         q.se === "model"
           ? "per variable: likelihood-ratio chi-square of the model without it (df = its columns), slabs taken as independent"
           : "per variable: Wald chi-square with the heat-clustered covariance (df = its columns); the likelihood-ratio test is not given, as it takes the slabs of a heat as independent",
-      changeInEstimate: "change-in-estimate (crude − adjusted) / adjusted of the odds ratios per the readable step (per level for a categorical term), put in words beyond a tenth (Maldonado & Greenland 1993, Am. J. Epidemiol. 138:923)",
+      changeInEstimate:
+        "change-in-estimate (crude − adjusted) / adjusted of the odds ratios per the readable step (per level for a categorical term), put in words beyond a tenth (Maldonado & Greenland 1993, Am. J. Epidemiol. 138:923)",
       collinearity: COLLINEARITY_METHOD,
       grouping: GROUPING_METHOD,
     },
     notes,
   };
 }
-

@@ -167,8 +167,21 @@ function stratified(db: Db, key: NonNullable<Query["stratifyBy"]>, sc: Scanned, 
   const referenceMix = common.map((l) => ({ label: l, slabs: byA.get(l)!.n + byB.get(l)!.n, share: (byA.get(l)!.n + byB.get(l)!.n) / mixTotal }));
   const std =
     common.length > 0
-      ? differenceOfStandardisedRates(strataOf(byA), strataOf(byB), referenceMix.map((r) => ({ label: r.label, weight: r.slabs })))
-      : { rateA: null, rateB: null, difference: null, ciLower: null, ciUpper: null, reason: `no ${st.label.toLowerCase()} has slabs in both groups: there is no common mix to standardise to`, notes: [], method: "" };
+      ? differenceOfStandardisedRates(
+          strataOf(byA),
+          strataOf(byB),
+          referenceMix.map((r) => ({ label: r.label, weight: r.slabs })),
+        )
+      : {
+          rateA: null,
+          rateB: null,
+          difference: null,
+          ciLower: null,
+          ciUpper: null,
+          reason: `no ${st.label.toLowerCase()} has slabs in both groups: there is no common mix to standardise to`,
+          notes: [],
+          method: "",
+        };
   const label = st.label.toLowerCase();
   const notes = [...mh.notes, ...std.notes];
   if (leftOut.length) {
@@ -190,15 +203,31 @@ function stratified(db: Db, key: NonNullable<Query["stratifyBy"]>, sc: Scanned, 
     strata,
     crude: { oddsRatio: finite(crude.oddsRatio ?? NaN), ciLower: finite(crude.ciLower ?? NaN), ciUpper: finite(crude.ciUpper ?? NaN) },
     mantelHaenszel: {
-      oddsRatio: mh.oddsRatio, ciLower: mh.ciLower, ciUpper: mh.ciUpper, chi2: mh.cmh.statistic, p: mh.cmh.p, informativeStrata: mh.informativeStrata,
-      continuityCorrection: mh.cmh.continuityCorrection, reason: mh.reason ?? mh.cmh.reason,
+      oddsRatio: mh.oddsRatio,
+      ciLower: mh.ciLower,
+      ciUpper: mh.ciUpper,
+      chi2: mh.cmh.statistic,
+      p: mh.cmh.p,
+      informativeStrata: mh.informativeStrata,
+      continuityCorrection: mh.cmh.continuityCorrection,
+      reason: mh.reason ?? mh.cmh.reason,
     },
     breslowDay: {
-      chi2: mh.breslowDay.statistic, df: mh.breslowDay.df, p: mh.breslowDay.p, uncorrected: mh.breslowDay.uncorrected, tarone: mh.breslowDay.tarone,
-      smallExpected: mh.breslowDay.smallExpected, reason: mh.breslowDay.reason,
+      chi2: mh.breslowDay.statistic,
+      df: mh.breslowDay.df,
+      p: mh.breslowDay.p,
+      uncorrected: mh.breslowDay.uncorrected,
+      tarone: mh.breslowDay.tarone,
+      smallExpected: mh.breslowDay.smallExpected,
+      reason: mh.breslowDay.reason,
     },
     standardised: {
-      rateA: std.rateA, rateB: std.rateB, difference: std.difference, ciLower: std.ciLower, ciUpper: std.ciUpper, reason: std.reason || null,
+      rateA: std.rateA,
+      rateB: std.rateB,
+      difference: std.difference,
+      ciLower: std.ciLower,
+      ciUpper: std.ciUpper,
+      reason: std.reason || null,
       reference: `the slabs of A and B together in each ${label} both groups hold (pooled mix)`,
       referenceMix,
       leftOut,

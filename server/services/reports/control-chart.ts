@@ -9,7 +9,15 @@ import type { Db } from "../../db/client";
 import { parseDateBound } from "../../lib/dates";
 import { badRequest } from "../../lib/http-error";
 import { chiSquareIndependence } from "../../stats/contingency";
-import { laneyPChart, pChartWithBaseline, uChartWithBaseline, WESTERN_ELECTRIC_RULES, westernElectricRules, type ChartSample, type PhasedChart } from "../../stats/control";
+import {
+  laneyPChart,
+  pChartWithBaseline,
+  uChartWithBaseline,
+  WESTERN_ELECTRIC_RULES,
+  westernElectricRules,
+  type ChartSample,
+  type PhasedChart,
+} from "../../stats/control";
 import { byPeriod, defectsByPeriod, periodOf } from "./periods";
 import { buildScope, finite, scan } from "./scope";
 import { standardisedByPeriod } from "./strata";
@@ -22,7 +30,10 @@ const pText = (p: number) => (p < 1e-4 ? p.toExponential(1) : p.toPrecision(2));
 
 export function controlChart(db: Db, q: Query): ControlChart {
   if (q.chart === "u" && q.standardise) {
-    throw badRequest("Standardised rates are shares of slabs affected; the u-chart counts defects per slab. Choose the p or Laney chart to see standardised rates.", { field: "standardise" });
+    throw badRequest(
+      "Standardised rates are shares of slabs affected; the u-chart counts defects per slab. Choose the p or Laney chart to see standardised rates.",
+      { field: "standardise" },
+    );
   }
   const scope = buildScope(db, q);
   const sc = scan(db, scope);
@@ -34,22 +45,35 @@ export function controlChart(db: Db, q: Query): ControlChart {
   let baseline: ControlChart["baseline"] = null;
   if (q.baselineFrom || q.baselineTo) {
     if (!q.baselineFrom || !q.baselineTo) {
-      throw badRequest("Give both the first day (baselineFrom) and the last day (baselineTo) of the baseline, or neither.", { field: q.baselineFrom ? "baselineTo" : "baselineFrom" });
+      throw badRequest("Give both the first day (baselineFrom) and the last day (baselineTo) of the baseline, or neither.", {
+        field: q.baselineFrom ? "baselineTo" : "baselineFrom",
+      });
     }
     const from = parseDateBound(q.baselineFrom, false, "baselineFrom")!;
     const to = parseDateBound(q.baselineTo, true, "baselineTo")!;
-    if (from > to) throw badRequest(`The baseline ends (${q.baselineTo}) before it starts (${q.baselineFrom}): give its first day first.`, { field: "baselineTo" });
+    if (from > to)
+      throw badRequest(`The baseline ends (${q.baselineTo}) before it starts (${q.baselineFrom}): give its first day first.`, { field: "baselineTo" });
     const first = periodOf(from, q.period);
     const last = periodOf(to, q.period);
     phaseOf = (l) => (l < first ? "before" : l > last ? "monitoring" : "baseline");
     const inBase = rows.filter((r) => phaseOf(r.period) === "baseline");
     const slabs = inBase.reduce((s, r) => s + r.n, 0);
     if (slabs === 0) {
-      throw badRequest(`The baseline ${q.baselineFrom} to ${q.baselineTo} holds no slab in these filters: there is nothing to set the limits on. Choose a baseline within the dates and filters shown.`, {
-        field: "baselineFrom",
-      });
+      throw badRequest(
+        `The baseline ${q.baselineFrom} to ${q.baselineTo} holds no slab in these filters: there is nothing to set the limits on. Choose a baseline within the dates and filters shown.`,
+        {
+          field: "baselineFrom",
+        },
+      );
     }
-    baseline = { from: q.baselineFrom, to: q.baselineTo, firstPeriod: inBase[0]?.period ?? null, lastPeriod: inBase[inBase.length - 1]?.period ?? null, periods: inBase.length, slabs };
+    baseline = {
+      from: q.baselineFrom,
+      to: q.baselineTo,
+      firstPeriod: inBase[0]?.period ?? null,
+      lastPeriod: inBase[inBase.length - 1]?.period ?? null,
+      periods: inBase.length,
+      slabs,
+    };
   }
 
   const isU = q.chart === "u";
@@ -59,13 +83,27 @@ export function controlChart(db: Db, q: Query): ControlChart {
   const chart: PhasedChart = isU ? uChartWithBaseline(base, others) : q.chart === "laney" ? laneyPChart(base, others) : pChartWithBaseline(base, others);
   if (rows.length === 0) {
     return {
-      period: q.period, chart: q.chart, slabs: 0, affected: 0, defects: 0, pBar: null, centre: null, baseline, overdispersion: null,
-      rules: { on: q.rules === "on", legend: { ...WESTERN_ELECTRIC_RULES }, method: "" }, points: [], method: "", notes: ["No slab in these filters: there is no period to chart."],
+      period: q.period,
+      chart: q.chart,
+      slabs: 0,
+      affected: 0,
+      defects: 0,
+      pBar: null,
+      centre: null,
+      baseline,
+      overdispersion: null,
+      rules: { on: q.rules === "on", legend: { ...WESTERN_ELECTRIC_RULES }, method: "" },
+      points: [],
+      method: "",
+      notes: ["No slab in these filters: there is no period to chart."],
     };
   }
   if (chart.reason || chart.centre === null) {
     // Only the p′ chart can lack limits once the baseline holds slabs (its σ_z needs variation).
-    throw badRequest(`The ${q.chart === "laney" ? "Laney p′ chart" : "chart"} cannot be drawn on these slabs: ${chart.reason ?? "no centre line"}. The p-chart (chart=p) can.`, { field: "chart" });
+    throw badRequest(
+      `The ${q.chart === "laney" ? "Laney p′ chart" : "chart"} cannot be drawn on these slabs: ${chart.reason ?? "no centre line"}. The p-chart (chart=p) can.`,
+      { field: "chart" },
+    );
   }
   const byLabel = new Map(chart.points.map((p) => [p.period, p]));
   const ordered = rows.map((r) => byLabel.get(r.period)!);
@@ -73,7 +111,8 @@ export function controlChart(db: Db, q: Query): ControlChart {
 
   const notes: string[] = [];
   if (baseline) {
-    if (q.period === "week") notes.push(`By week, the baseline is the whole ISO weeks holding its first and last day (${baseline.firstPeriod} to ${baseline.lastPeriod}).`);
+    if (q.period === "week")
+      notes.push(`By week, the baseline is the whole ISO weeks holding its first and last day (${baseline.firstPeriod} to ${baseline.lastPeriod}).`);
     notes.push(...chart.notes.filter((n) => !n.startsWith("σ_z")));
   }
 
@@ -100,12 +139,24 @@ export function controlChart(db: Db, q: Query): ControlChart {
         `: no overdispersion shown, the p-chart applies` +
         (q.chart === "laney" ? "; the Laney p′ chart drawn here on request differs from it by the factor σ_z." : ".");
     }
-    overdispersion = { sigmaZ: sigmaZ !== null ? finite(sigmaZ) : null, chi2: chi ? finite(chi.statistic) : null, df: chi?.df ?? null, p: chiP, applies, reason: sigmaZ === null ? laney.reason : null, note };
+    overdispersion = {
+      sigmaZ: sigmaZ !== null ? finite(sigmaZ) : null,
+      chi2: chi ? finite(chi.statistic) : null,
+      df: chi?.df ?? null,
+      p: chiP,
+      applies,
+      reason: sigmaZ === null ? laney.reason : null,
+      note,
+    };
     if (applies && q.chart === "p") notes.push(note);
   }
 
   const std = q.standardise ? standardisedByPeriod(db, sc, q.period) : null;
-  if (std) notes.push(...std.notes, "The limits are for the crude share affected; the standardised rates stand beside it for comparing periods with different grade-family mixes.");
+  if (std)
+    notes.push(
+      ...std.notes,
+      "The limits are for the crude share affected; the standardised rates stand beside it for comparing periods with different grade-family mixes.",
+    );
 
   const points = ordered.map((p, k) => {
     const r = rows[k]!;
@@ -147,7 +198,9 @@ export function controlChart(db: Db, q: Query): ControlChart {
     rules: {
       on: rules !== null,
       legend: { ...WESTERN_ELECTRIC_RULES },
-      method: rules ? `${rules.method}; σ is the chart's own (widened by σ_z on the Laney chart)` : "run rules switched off: only points beyond the limits are marked",
+      method: rules
+        ? `${rules.method}; σ is the chart's own (widened by σ_z on the Laney chart)`
+        : "run rules switched off: only points beyond the limits are marked",
     },
     ...(std ? { standardisation: std.standardisation } : {}),
     points,

@@ -78,7 +78,10 @@ export function defectsByPeriod(db: Db, scope: Scope, s: Scanned, period: Period
   const inScope = new Uint8Array(f.size);
   for (const i of s.rows) inScope[i] = 1;
   const label = labeller(period);
-  const rows = db.$client.prepare(`select d.slab_id, d.type_id from defects d where ${scope.defectWhere.join(" and ")}`).raw().all(scope.params) as [number, number][];
+  const rows = db.$client
+    .prepare(`select d.slab_id, d.type_id from defects d where ${scope.defectWhere.join(" and ")}`)
+    .raw()
+    .all(scope.params) as [number, number][];
   const byPeriodLabel = new Map<string, number>();
   const byType = new Map<number, { defects: number; slabs: Set<number> }>();
   for (const [slabId, typeId] of rows) {

@@ -55,8 +55,14 @@ export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchem
     for (let yi = 0; yi < ny; yi++) {
       const c = xi * ny + yi;
       cells.push({
-        xi, yi, xLower: ex[xi]!, xUpper: ex[xi + 1] ?? ex[xi]!, yLower: ey[yi]!, yUpper: ey[yi + 1] ?? ey[yi]!,
-        ...proportion(n[c]!, x[c]!), sparse: n[c]! < q.minN,
+        xi,
+        yi,
+        xLower: ex[xi]!,
+        xUpper: ex[xi + 1] ?? ex[xi]!,
+        yLower: ey[yi]!,
+        yUpper: ey[yi + 1] ?? ey[yi]!,
+        ...proportion(n[c]!, x[c]!),
+        sparse: n[c]! < q.minN,
       });
     }
   }

@@ -9,7 +9,18 @@ import type { Group } from "../../stats/ranks";
 import { correlationsWithOutcome } from "../../stats/spearman";
 import { spreadOfGroups } from "../../stats/spread";
 import {
-  adjustedForWords, categoricalColumn, changeWords, completeRows, fitTerms, GROUPING_METHOD, heatsOf, lowerLabel, modelTerms, perWordsOf, seWords, slopeOf,
+  adjustedForWords,
+  categoricalColumn,
+  changeWords,
+  completeRows,
+  fitTerms,
+  GROUPING_METHOD,
+  heatsOf,
+  lowerLabel,
+  modelTerms,
+  perWordsOf,
+  seWords,
+  slopeOf,
 } from "./adjusted";
 import { buildScope, finite, proportion, scan, SMALL_AFFECTED, variableGroups, variableSpec, type Scanned } from "./scope";
 
@@ -70,12 +81,27 @@ function adjustedSlope(db: Db, sc: Scanned, q: Query, notes: string[]): NonNulla
   const { rows, missing } = completeRows(sc, terms);
   const fit = fitTerms(sc, terms, rows, q.se);
   const crude = fitTerms(sc, [terms[0]!], rows, q.se);
-  const a = slopeOf(fit.terms.find((t) => t.variable === spec.label), spec.step);
-  const c = slopeOf(crude.terms.find((t) => t.variable === spec.label), spec.step);
+  const a = slopeOf(
+    fit.terms.find((t) => t.variable === spec.label),
+    spec.step,
+  );
+  const c = slopeOf(
+    crude.terms.find((t) => t.variable === spec.label),
+    spec.step,
+  );
   const others = terms.slice(1);
-  const change = changeWords(lowerLabel(spec.label), { coef: c.fit.slope, se: c.fit.se }, { coef: a.fit.slope, se: a.fit.se }, spec.step, perWordsOf(spec.step, spec.unit), adjustedForWords(others.map((t) => t.label)));
+  const change = changeWords(
+    lowerLabel(spec.label),
+    { coef: c.fit.slope, se: c.fit.se },
+    { coef: a.fit.slope, se: a.fit.se },
+    spec.step,
+    perWordsOf(spec.step, spec.unit),
+    adjustedForWords(others.map((t) => t.label)),
+  );
   for (const m of missing.filter((m) => m.key !== q.variable)) {
-    notes.push(`Adjusted odds ratio: ${m.slabs} slab${m.slabs === 1 ? "" : "s"} without a value for ${lowerLabel(m.label)} are left out (the crude one beside it uses the same slabs).`);
+    notes.push(
+      `Adjusted odds ratio: ${m.slabs} slab${m.slabs === 1 ? "" : "s"} without a value for ${lowerLabel(m.label)} are left out (the crude one beside it uses the same slabs).`,
+    );
   }
   const reason = a.fit.slope === null ? (a.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? "not estimable") : null;
   if (reason) notes.push(`Adjusted odds ratio not given: ${reason}.`);
@@ -110,7 +136,9 @@ function stratifiedRates(db: Db, sc: Scanned, q: Query, bins: Bin[], notes: stri
     list.push(i);
   }
   const MAX_STRATA = 12;
-  const levels = [...byCode.entries()].map(([code, list]) => ({ label: st.label!(code), rows: Int32Array.from(list) })).sort((x, y) => y.rows.length - x.rows.length);
+  const levels = [...byCode.entries()]
+    .map(([code, list]) => ({ label: st.label!(code), rows: Int32Array.from(list) }))
+    .sort((x, y) => y.rows.length - x.rows.length);
   const shown = levels.slice(0, MAX_STRATA);
   const order = (a: string, b: string) => (st.levels ? st.levels.indexOf(a) - st.levels.indexOf(b) : a.localeCompare(b, "en", { numeric: true }));
   shown.sort((x, y) => order(x.label, y.label));
@@ -141,11 +169,17 @@ function stratifiedRates(db: Db, sc: Scanned, q: Query, bins: Bin[], notes: stri
       label: level.label,
       ...proportion(level.rows.length, affected),
       bins: bins.map((b, k) => ({ lower: b.lower, upper: b.upper, ...proportion(n[k]!, x[k]!), sparse: n[k]! < q.minN })),
-      logistic: { ...slope.fit, reason: slope.fit.slope === null ? (slope.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? "not estimable") : null },
+      logistic: {
+        ...slope.fit,
+        reason: slope.fit.slope === null ? (slope.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? "not estimable") : null,
+      },
     };
   });
   const notShown = levels.slice(MAX_STRATA).map((l) => ({ label: l.label, slabs: l.rows.length }));
-  if (notShown.length) notes.push(`${notShown.length} smaller ${lowerLabel(st.name)} level${notShown.length === 1 ? " is" : "s are"} not drawn (only the ${MAX_STRATA} with the most slabs).`);
+  if (notShown.length)
+    notes.push(
+      `${notShown.length} smaller ${lowerLabel(st.name)} level${notShown.length === 1 ? " is" : "s are"} not drawn (only the ${MAX_STRATA} with the most slabs).`,
+    );
   return { by: { key: q.stratifyBy!, label: st.name }, seMethod: q.se, strata, notShown };
 }
 
@@ -167,7 +201,8 @@ export function rateByVariable(db: Db, q: Query): RateByVariable {
   const notes: string[] = [];
   if (slabs === 0) notes.push("No slab in these filters has a value for this variable.");
   else if (flat) notes.push(`${spec.label}: not testable — no spread in these filters (${spread.reason}); no correlation, odds ratio or rank test is given.`);
-  else if (affected < SMALL_AFFECTED) notes.push(`Only ${affected} affected slab${affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
+  else if (affected < SMALL_AFFECTED)
+    notes.push(`Only ${affected} affected slab${affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
   if (bins.some((b) => b.slabs < q.minN)) notes.push(`Some bins hold fewer than ${q.minN} slabs.`);
   if (emptySpans.length) {
     const unit = spec.unit && spec.unit !== "–" ? ` ${spec.unit}` : "";
@@ -221,4 +256,3 @@ export function rateByVariable(db: Db, q: Query): RateByVariable {
     notes,
   };
 }
-

@@ -24,14 +24,21 @@ export function variableSpec(key: string): VariableSpec {
   return v;
 }
 
-
-
 export interface Scope {
   /** SQL conditions on slab_conditions c. */
   where: string[];
   params: Record<string, unknown>;
   /** The same slab filters, for the in-memory scan. */
-  js: { from?: number; to?: number; caster?: Set<number>; strand?: Set<number>; grade?: Set<number>; family?: Set<number>; transition?: 0 | 1; riskSlabs?: Set<number> };
+  js: {
+    from?: number;
+    to?: number;
+    caster?: Set<number>;
+    strand?: Set<number>;
+    grade?: Set<number>;
+    family?: Set<number>;
+    transition?: 0 | 1;
+    riskSlabs?: Set<number>;
+  };
   /** A CTE named aff(id): the slabs with at least one defect passing the defect filters. */
   aff: string;
   defectWhere: string[];
@@ -91,7 +98,12 @@ export function buildScope(db: Db, f: ReportFilters, opts: { skipDates?: boolean
   if (f.category.length) {
     const cats = idsFor(sqlite, "defect_categories", f.category, "defect category", "category");
     defectWhere.push(`d.type_id in (select id from defect_types where category_id in ${inList(cats)})`);
-    const inCats = new Set(sqlite.prepare(`select id from defect_types where category_id in ${inList(cats)}`).pluck().all() as number[]);
+    const inCats = new Set(
+      sqlite
+        .prepare(`select id from defect_types where category_id in ${inList(cats)}`)
+        .pluck()
+        .all() as number[],
+    );
     typeIds = typeIds ? typeIds.filter((id) => inCats.has(id)) : [...inCats];
   }
   if (f.riskBand?.length) {
@@ -154,7 +166,10 @@ export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number 
     rows[n++] = i;
   }
   const affected = new Uint8Array(f.size);
-  const ids = db.$client.prepare(`select d.slab_id from defects d where ${scope.defectWhere.join(" and ")} group by d.slab_id`).pluck().all(scope.params) as number[];
+  const ids = db.$client
+    .prepare(`select d.slab_id from defects d where ${scope.defectWhere.join(" and ")} group by d.slab_id`)
+    .pluck()
+    .all(scope.params) as number[];
   for (const id of ids) {
     const at = id < f.indexOf.length ? f.indexOf[id]! : -1;
     if (at >= 0) affected[at] = 1;
@@ -163,7 +178,6 @@ export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number 
 }
 
 export type Scanned = ReturnType<typeof scan>;
-
 
 /** (value, slabs, affected) groups of one variable, values rounded to the grouping resolution. */
 export function variableGroups(s: Scanned, key: string): { groups: Group[]; missing: number } {
@@ -192,4 +206,3 @@ export function proportion(slabs: number, affected: number) {
   const w = wilson(affected, slabs);
   return { slabs, affected, rate: finite(w.p), ciLower: finite(w.lower), ciUpper: finite(w.upper) };
 }
-

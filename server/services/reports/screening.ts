@@ -39,7 +39,12 @@ function lineage(key: string) {
  * (Math.round(v · scale), from numericPass, running lo … hi); sorting a copy of the values when the
  * grid is too wide.
  */
-function interquartileRange(values: ArrayLike<number>, rows: ArrayLike<number>, scale: number, grid: { keys: Int32Array; lo: number; hi: number } | undefined): number | null {
+function interquartileRange(
+  values: ArrayLike<number>,
+  rows: ArrayLike<number>,
+  scale: number,
+  grid: { keys: Int32Array; lo: number; hi: number } | undefined,
+): number | null {
   const n = rows.length;
   if (n === 0 || !grid) return null;
   const k0 = grid.lo;
@@ -118,13 +123,37 @@ function numericPass(sc: Scanned, key: string) {
     if (k > hi) hi = k;
     withValue[n++] = i;
   }
-  return { hitAcc, soundAcc, term: numericTerm(key, values, gridFromKeys(keys, lo, hi)), withValue: withValue.subarray(0, n), grid: n > 0 ? { keys, lo, hi } : undefined };
+  return {
+    hitAcc,
+    soundAcc,
+    term: numericTerm(key, values, gridFromKeys(keys, lo, hi)),
+    withValue: withValue.subarray(0, n),
+    grid: n > 0 ? { keys, lo, hi } : undefined,
+  };
 }
 
 /** The test of one variable in a model with the adjustment terms (those it does not itself name). */
-function adjustedTest(sc: Scanned, q: Query, key: string, term: ModelTerm, adjust: ModelTerm[], iqr: number | null, termRows: Int32Array): { test: AdjustedTest; crudeFit: MultiLogisticFit | null } {
+function adjustedTest(
+  sc: Scanned,
+  q: Query,
+  key: string,
+  term: ModelTerm,
+  adjust: ModelTerm[],
+  iqr: number | null,
+  termRows: Int32Array,
+): { test: AdjustedTest; crudeFit: MultiLogisticFit | null } {
   const others = adjust.filter((t) => t.key !== key);
-  const blank: AdjustedTest = { oddsRatioPerIqr: null, ciLower: null, ciUpper: null, p: null, pAdjusted: null, statistic: null, df: null, test: "", reason: null };
+  const blank: AdjustedTest = {
+    oddsRatioPerIqr: null,
+    ciLower: null,
+    ciUpper: null,
+    p: null,
+    pAdjusted: null,
+    statistic: null,
+    df: null,
+    test: "",
+    reason: null,
+  };
   const conflict = termConflict([key, ...others.map((t) => t.key)]);
   if (conflict) return { test: { ...blank, reason: `not adjusted: ${conflict}` }, crudeFit: null };
   const terms = [term, ...others];
@@ -134,12 +163,20 @@ function adjustedTest(sc: Scanned, q: Query, key: string, term: ModelTerm, adjus
   const crudeFit = term.kind === "numeric" ? fitTerms(sc, [term], rows, q.se, false, true) : null;
   const v = fit.variables[0]!;
   const lr = q.se === "model";
-  const within = others.length === adjust.length ? "" : others.length === 0 ? " (it is the adjustment itself: tested alone)" : " (it is part of the adjustment: tested adjusted for the other terms)";
+  const within =
+    others.length === adjust.length
+      ? ""
+      : others.length === 0
+        ? " (it is the adjustment itself: tested alone)"
+        : " (it is part of the adjustment: tested adjusted for the other terms)";
   if (term.kind === "categorical") {
     const p = lr ? v.lrP : v.waldP;
     return {
       test: {
-        ...blank, p: finite(p ?? NaN), statistic: finite((lr ? v.lrChi2 : v.waldChi2) ?? NaN), df: v.df || null,
+        ...blank,
+        p: finite(p ?? NaN),
+        statistic: finite((lr ? v.lrChi2 : v.waldChi2) ?? NaN),
+        df: v.df || null,
         test: `${lr ? "likelihood-ratio" : "heat-clustered Wald"} chi-square over its levels${within}`,
         reason: p === null ? (v.reason ?? fit.separation?.description ?? fit.reason ?? "not testable") : null,
       },
@@ -148,13 +185,26 @@ function adjustedTest(sc: Scanned, q: Query, key: string, term: ModelTerm, adjus
   }
   const t = fit.terms.find((x) => x.variable === term.label);
   if (!t || t.coef === null || t.se === null || iqr === null || !(iqr > 0)) {
-    return { test: { ...blank, reason: v.reason ?? fit.separation?.description ?? fit.reason ?? (iqr === 0 ? "the interquartile range is 0: no odds ratio per IQR" : "not testable") }, crudeFit };
+    return {
+      test: {
+        ...blank,
+        reason: v.reason ?? fit.separation?.description ?? fit.reason ?? (iqr === 0 ? "the interquartile range is 0: no odds ratio per IQR" : "not testable"),
+      },
+      crudeFit,
+    };
   }
   const or = oddsRatioForStep(t.coef, t.se, iqr);
   return {
     test: {
-      oddsRatioPerIqr: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(t.p ?? NaN), pAdjusted: null,
-      statistic: finite(t.z ?? NaN), df: null, test: `Wald z of the slope, ${q.se === "cluster" ? "heat-clustered" : "model-based"} SEs${within}`, reason: null,
+      oddsRatioPerIqr: finite(or.oddsRatio ?? NaN),
+      ciLower: finite(or.ciLower ?? NaN),
+      ciUpper: finite(or.ciUpper ?? NaN),
+      p: finite(t.p ?? NaN),
+      pAdjusted: null,
+      statistic: finite(t.z ?? NaN),
+      df: null,
+      test: `Wald z of the slope, ${q.se === "cluster" ? "heat-clustered" : "model-based"} SEs${within}`,
+      reason: null,
     },
     crudeFit,
   };
@@ -180,9 +230,19 @@ export function screening(db: Db, q: Query): Screening {
     const { derivedFrom, parent } = lineage(v.key);
     const method = "Welch two-sample t test on the means, two-sided";
     const base = {
-      key: v.key, label: v.label, kind: "numeric" as const, n: hit.n + sound.n, pAdjusted: null, method,
-      meanAffected: hit.mean, meanSound: sound.mean, effect: hit.mean !== null && sound.mean !== null ? hit.mean - sound.mean : null,
-      parent, derivedFrom, countedInBh: false, categories: undefined,
+      key: v.key,
+      label: v.label,
+      kind: "numeric" as const,
+      n: hit.n + sound.n,
+      pAdjusted: null,
+      method,
+      meanAffected: hit.mean,
+      meanSound: sound.mean,
+      effect: hit.mean !== null && sound.mean !== null ? hit.mean - sound.mean : null,
+      parent,
+      derivedFrom,
+      countedInBh: false,
+      categories: undefined,
     };
     if (all.noSpread) {
       const reason = all.n === 0 ? "not testable: no slab has a value" : `not testable: no spread, ${all.reason}`;
@@ -220,7 +280,16 @@ export function screening(db: Db, q: Query): Screening {
       crude = crudeOf(fitTerms(sc, [term], withValue, q.se, false, true));
     }
     out.push({
-      ...base, statistic, df, p, fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED, testable: true, reason, iqr, crude, adjusted,
+      ...base,
+      statistic,
+      df,
+      p,
+      fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED,
+      testable: true,
+      reason,
+      iqr,
+      crude,
+      adjusted,
     });
   }
 
@@ -247,12 +316,27 @@ export function screening(db: Db, q: Query): Screening {
     const chi = cats.length > 1 ? chiSquareIndependence(cats.map(([, c]) => [c.affected, c.slabs - c.affected])) : null;
     const testable = cats.length > 1;
     out.push({
-      key, label: CATEGORICAL_LABELS[key], kind: "categorical", n: slabs, statistic: chi ? finite(chi.statistic) : null, df: chi?.df ?? null, p: chi ? finite(chi.p) : null,
-      pAdjusted: null, effect: null, meanAffected: null, meanSound: null,
+      key,
+      label: CATEGORICAL_LABELS[key],
+      kind: "categorical",
+      n: slabs,
+      statistic: chi ? finite(chi.statistic) : null,
+      df: chi?.df ?? null,
+      p: chi ? finite(chi.p) : null,
+      pAdjusted: null,
+      effect: null,
+      meanAffected: null,
+      meanSound: null,
       categories: cats.map(([l, c]) => ({ label: l, slabs: c.slabs, affected: c.affected, rate: c.slabs ? c.affected / c.slabs : null })),
-      method: chi ? chi.method : "only one category in these filters", fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
-      testable, reason: testable ? null : "not testable: only one category in these filters",
-      parent: null, derivedFrom: [], countedInBh: false, iqr: null, crude: null,
+      method: chi ? chi.method : "only one category in these filters",
+      fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
+      testable,
+      reason: testable ? null : "not testable: only one category in these filters",
+      parent: null,
+      derivedFrom: [],
+      countedInBh: false,
+      iqr: null,
+      crude: null,
       adjusted: adjusting && testable ? adjustedTest(sc, q, key, term!, adjust, null, rows).test : null,
     });
   }
@@ -290,7 +374,8 @@ export function screening(db: Db, q: Query): Screening {
     "Screening shows association, not cause: grade mix and shared conditions confound almost everything. Open a variable in the rate-against-variable report or the adjusted model before drawing a conclusion.",
   ];
   const untestable = out.filter((v) => !v.testable);
-  if (untestable.length) notes.push(`Not testable here (not counted): ${untestable.map((v) => `${v.label} (${v.reason!.replace(/^not testable: /, "")})`).join("; ")}.`);
+  if (untestable.length)
+    notes.push(`Not testable here (not counted): ${untestable.map((v) => `${v.label} (${v.reason!.replace(/^not testable: /, "")})`).join("; ")}.`);
   if (affected < SMALL_AFFECTED) notes.push(`Only ${affected} affected slabs in these filters.`);
   return {
     slabs,
@@ -301,7 +386,8 @@ export function screening(db: Db, q: Query): Screening {
     rankBy,
     tests: { crude: crudeTested.length, adjusted: adjustedTested.length },
     methods: {
-      welch: "Welch two-sample t test on the means (affected against sound slabs), two-sided; means and variances by Welford's updating; a variable whose values are all equal is not testable",
+      welch:
+        "Welch two-sample t test on the means (affected against sound slabs), two-sided; means and variances by Welford's updating; a variable whose values are all equal is not testable",
       chiSquare: "chi-square test of independence (categories × affected), asymptotic",
       crude: `each numeric variable alone in a logistic regression, odds ratio per its interquartile range (type 7 quartiles) with a Wald 95 % interval; ${seWords(q.se)}`,
       ...(adjusting

@@ -23,7 +23,12 @@ export function slabPositions(db: Db, q: z.output<typeof slabPositionsQuerySchem
   const A = q.alongBins;
   const X = q.acrossBins;
   const binOf = (f: number, k: number) => Math.min(k - 1, Math.max(0, Math.floor(f * k)));
-  const grid = FACES.map((face) => ({ face, along: new Array<number>(A).fill(0), across: new Array<number>(X).fill(0), cells: Array.from({ length: A }, () => new Array<number>(X).fill(0)) }));
+  const grid = FACES.map((face) => ({
+    face,
+    along: new Array<number>(A).fill(0),
+    across: new Array<number>(X).fill(0),
+    cells: Array.from({ length: A }, () => new Array<number>(X).fill(0)),
+  }));
   const byFace = new Map<string, number>();
   for (const [face, fa, fx] of rows) {
     byFace.set(face, (byFace.get(face) ?? 0) + 1);

@@ -76,14 +76,23 @@ export function standardisedByPeriod(db: Db, s: Scanned, period: Period) {
   const notes = new Set<string>();
   let undefinedPeriods = 0;
   for (const [label, m] of byPeriodAndStratum(s, period, st.of)) {
-    const r = directlyStandardisedRate([...m.entries()].map(([l, c]) => ({ label: l, n: c.n, x: c.x })), reference);
+    const r = directlyStandardisedRate(
+      [...m.entries()].map(([l, c]) => ({ label: l, n: c.n, x: c.x })),
+      reference,
+    );
     if (r.rate === null) undefinedPeriods++;
     for (const n of r.notes) notes.add(n);
     rates.set(label, { rate: r.rate, ciLower: r.ciLower, ciUpper: r.ciUpper, reason: r.reason ? `this ${period} has ${r.reason}` : null });
   }
   const out: string[] = [];
-  if (undefinedPeriods > 0) out.push(`${undefinedPeriods} ${period}${undefinedPeriods === 1 ? " lacks" : "s lack"} a grade family of the reference mix: their standardised rate is undefined (null).`);
-  if (notes.size > 0) out.push("In some periods a grade family has no affected slab, or only affected slabs: the binomial variance counts it as certain, so the interval there is too narrow.");
+  if (undefinedPeriods > 0)
+    out.push(
+      `${undefinedPeriods} ${period}${undefinedPeriods === 1 ? " lacks" : "s lack"} a grade family of the reference mix: their standardised rate is undefined (null).`,
+    );
+  if (notes.size > 0)
+    out.push(
+      "In some periods a grade family has no affected slab, or only affected slabs: the binomial variance counts it as certain, so the interval there is too narrow.",
+    );
   return {
     rates,
     notes: out,

@@ -21,16 +21,18 @@ const BAND_LEVEL: Record<RiskBand, number> = { high: 2, raised: 1, usual: 0 };
  */
 export function riskBandSlabsSql(sqlite: Database.Database, bands: string[], typeIds: number[] | null): string {
   const active = sqlite
-    .prepare(
-      `select m.id, m.target_kind as kind, m.target_code as code from risk_models m where m.active = 1 and m.status = 'ready'`,
-    )
+    .prepare(`select m.id, m.target_kind as kind, m.target_code as code from risk_models m where m.active = 1 and m.status = 'ready'`)
     .all() as { id: number; kind: "type" | "category"; code: string }[];
   if (active.length === 0)
-    throw badRequest("No risk model is switched on, so no slab has a risk band yet. A quality engineer switches one on under Risk models.", { field: "riskBand" });
+    throw badRequest("No risk model is switched on, so no slab has a risk band yet. A quality engineer switches one on under Risk models.", {
+      field: "riskBand",
+    });
   let chosen = active;
   if (typeIds && typeIds.length) {
     const types = sqlite
-      .prepare(`select upper(t.code) as code, upper(c.code) as category from defect_types t join defect_categories c on c.id = t.category_id where t.id in (${typeIds.map((n) => Math.trunc(n)).join(",")})`)
+      .prepare(
+        `select upper(t.code) as code, upper(c.code) as category from defect_types t join defect_categories c on c.id = t.category_id where t.id in (${typeIds.map((n) => Math.trunc(n)).join(",")})`,
+      )
       .all() as { code: string; category: string }[];
     const matching = active.filter((m) => types.some((t) => (m.kind === "type" ? t.code === m.code.toUpperCase() : t.category === m.code.toUpperCase())));
     // Another defect's model would rank the slabs for the wrong question: refused, not swapped in silently.

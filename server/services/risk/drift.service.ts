@@ -197,7 +197,12 @@ const nextMonthStart = (ms: number) => {
  * the event loop given back between months (a year of a large plant is half a million slabs).
  */
 async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: MonthCalc[]; slabs: number; since: number; validationAucCiLower: number | null }> {
-  if (m.status !== "ready" || !m.terms) throw new HttpError(409, "model_not_ready", m.status === "training" ? "This model is still training: it has no drift to show yet." : "This model's training failed: it has no drift to show.");
+  if (m.status !== "ready" || !m.terms)
+    throw new HttpError(
+      409,
+      "model_not_ready",
+      m.status === "training" ? "This model is still training: it has no drift to show yet." : "This model's training failed: it has no drift to show.",
+    );
   const terms = JSON.parse(m.terms) as ModelTerms;
   const validation = m.validation ? (JSON.parse(m.validation) as { aucCiLower: number | null }) : null;
   const validationAucCiLower = validation?.aucCiLower ?? null;
@@ -219,7 +224,7 @@ async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: Month
 
   function monthsOf(data: ReturnType<typeof readTrainingData>, eta: Float64Array): MonthCalc[] {
     const months: MonthCalc[] = [];
-    for (let start = 0; start < data.known; ) {
+    for (let start = 0; start < data.known;) {
       const month = monthOf(data.castAt[start]!);
       let end = start + 1;
       while (end < data.known && monthOf(data.castAt[end]!) === month) end++;
@@ -248,7 +253,9 @@ async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: Month
           );
         }
         if (auc.upper !== null && validationAucCiLower !== null && auc.upper < validationAucCiLower) {
-          why.push(`it ranks the slabs worse than at validation: AUC ${f3(auc.auc!)} (95 % interval up to ${f3(auc.upper)}) lies below the validation interval's lower end ${f3(validationAucCiLower)}`);
+          why.push(
+            `it ranks the slabs worse than at validation: AUC ${f3(auc.auc!)} (95 % interval up to ${f3(auc.upper)}) lies below the validation interval's lower end ${f3(validationAucCiLower)}`,
+          );
         }
         reason = why.length ? why.join("; ") : "within the limits";
         if (!why.length && citl.citl === null) reason += ` (calibration-in-the-large not defined: ${citl.reason})`;
@@ -283,7 +290,13 @@ export async function riskModelDrift(db: Db, id: number, now = Date.now()): Prom
   const m = rowOf(db, id);
   const r = await reckon(db, m, now);
   const stored = new Map(
-    (db.$client.prepare("select month, checked_at, alerted_at from risk_drift_checks where model_id = ?").all(id) as { month: string; checked_at: number; alerted_at: number | null }[]).map((s) => [s.month, s]),
+    (
+      db.$client.prepare("select month, checked_at, alerted_at from risk_drift_checks where model_id = ?").all(id) as {
+        month: string;
+        checked_at: number;
+        alerted_at: number | null;
+      }[]
+    ).map((s) => [s.month, s]),
   );
   return {
     modelId: m.id,
@@ -341,7 +354,19 @@ export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
       const r = await reckon(db, m, now);
       c.transaction(() => {
         for (const x of r.months) {
-          upsert.run({ modelId: m.id, month: x.month, slabs: x.slabs, affected: x.affected, predicted: x.predicted, observed: x.observed, citl: x.citl, auc: x.auc, drifted: x.drifted ? 1 : 0, reason: x.reason, checkedAt: now });
+          upsert.run({
+            modelId: m.id,
+            month: x.month,
+            slabs: x.slabs,
+            affected: x.affected,
+            predicted: x.predicted,
+            observed: x.observed,
+            citl: x.citl,
+            auc: x.auc,
+            drifted: x.drifted ? 1 : 0,
+            reason: x.reason,
+            checkedAt: now,
+          });
         }
       })();
       // A month still filling (its last slabs not yet 14 days old) is shown, never e-mailed: a half month's alarm could not be taken back.
@@ -353,7 +378,12 @@ export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
           const done = new Set(c.prepare("select month from risk_drift_checks where model_id = ? and alerted_at is not null").pluck().all(m.id) as string[]);
           const fresh = drifted.filter((x) => !done.has(x.month));
           if (!fresh.length) return;
-          const alert: DriftAlert = { modelId: m.id, target: targetName(db, m.target_kind, m.target_code), version: m.version, months: fresh.map((x) => ({ ...x, checkedAt: iso(now), alertedAt: iso(now) })) };
+          const alert: DriftAlert = {
+            modelId: m.id,
+            target: targetName(db, m.target_kind, m.target_code),
+            version: m.version,
+            months: fresh.map((x) => ({ ...x, checkedAt: iso(now), alertedAt: iso(now) })),
+          };
           // Marked alerted only when the message is in the queue (no quality engineer: tried again at the next check).
           if (notify.riskDrift(alert, r.validationAucCiLower) === null) return;
           const mark = c.prepare("update risk_drift_checks set alerted_at = ? where model_id = ? and month = ? and alerted_at is null");
@@ -380,9 +410,11 @@ export function scheduleRiskDrift(db: Db, opts: Omit<CheckRiskDriftOptions, "now
   const run = () => void checkRiskDrift(db, opts).catch((err: unknown) => opts.logger?.error({ err }, "risk drift check failed"));
   let stopped = false;
   // A start that never gets ready (the report facts failed to load) still gets its check.
-  void (opts.firstAfter ?? Promise.resolve()).catch(() => undefined).then(() => {
-    if (!stopped) setImmediate(() => !stopped && run());
-  });
+  void (opts.firstAfter ?? Promise.resolve())
+    .catch(() => undefined)
+    .then(() => {
+      if (!stopped) setImmediate(() => !stopped && run());
+    });
   const timer = setInterval(run, DRIFT_CHECK_EVERY_MS);
   timer.unref();
   return () => {

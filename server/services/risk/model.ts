@@ -159,7 +159,12 @@ function learnTerms(data: RiskData, train: Int32Array, knotsCount: 3 | 4 | 5): O
 }
 
 /** Builds the model's columns for the rows (every slab of the data, indexed like the inputs). */
-export function columnsOf(terms: Omit<ModelTerms, "coefficients">, numericValues: ArrayLike<number>[], categoricalCodes: ArrayLike<number>[], size: number): Float64Array[] {
+export function columnsOf(
+  terms: Omit<ModelTerms, "coefficients">,
+  numericValues: ArrayLike<number>[],
+  categoricalCodes: ArrayLike<number>[],
+  size: number,
+): Float64Array[] {
   const cols: Float64Array[] = [];
   const buf: number[] = [];
   terms.numeric.forEach((v, k) => {
@@ -238,7 +243,12 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
     const fitRows = cvRows.subarray(0, slice * (f + 1));
     const scoreRows = cvRows.subarray(slice * (f + 1), slice * (f + 2));
     const layout = learnTerms(data, fitRows, knots);
-    const cols = columnsOf(layout, data.numeric.map((v) => v.values), data.categorical.map((c) => c.codes), size);
+    const cols = columnsOf(
+      layout,
+      data.numeric.map((v) => v.values),
+      data.categorical.map((c) => c.codes),
+      size,
+    );
     // From the largest penalty down, each fit starting from the last.
     let start: number[] | undefined;
     for (const lambda of [...lambdas].sort((a, b) => b - a)) {
@@ -257,7 +267,12 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
   const lambda = usable.length ? usable.reduce((a, b) => (b.deviance! < a.deviance! ? b : a)).lambda : Math.max(...lambdas);
 
   const layout = learnTerms(data, train, knots);
-  const cols = columnsOf(layout, data.numeric.map((v) => v.values), data.categorical.map((c) => c.codes), size);
+  const cols = columnsOf(
+    layout,
+    data.numeric.map((v) => v.values),
+    data.categorical.map((c) => c.codes),
+    size,
+  );
   const fit = penalisedLogistic(cols, outcome, Int32Array.from(train), { lambda });
   progress(1, "validating on the newest slabs");
   const terms: ModelTerms = { ...layout, coefficients: fit.coefficients };
@@ -351,7 +366,13 @@ function typicalSplines(terms: ModelTerms): number[][] {
  * conditions first, then categories, in the terms' order. No objects made: scoring an import's
  * slabs runs inside its answer.
  */
-export function scoreTerms(terms: ModelTerms, numeric: ArrayLike<number | null>, categorical: ArrayLike<number | null>, contributions: Float64Array, buf: number[] = []): number {
+export function scoreTerms(
+  terms: ModelTerms,
+  numeric: ArrayLike<number | null>,
+  categorical: ArrayLike<number | null>,
+  contributions: Float64Array,
+  buf: number[] = [],
+): number {
   const b = terms.coefficients;
   const typical = typicalSplines(terms);
   let eta = b[0]!;
@@ -404,7 +425,13 @@ export function explain(terms: ModelTerms, numeric: (number | null)[], categoric
   const risk = scoreTerms(terms, numeric, categorical, contributions);
   const reasons: Reason[] = [
     ...terms.numeric.map((v, k) => ({ variable: v.key, label: v.label, value: numeric[k] ?? null, unit: v.unit, contribution: contributions[k]! })),
-    ...terms.categorical.map((cat, k) => ({ variable: cat.key, label: cat.label, value: categoryName(cat, categorical[k]), unit: null, contribution: contributions[nn + k]! })),
+    ...terms.categorical.map((cat, k) => ({
+      variable: cat.key,
+      label: cat.label,
+      value: categoryName(cat, categorical[k]),
+      unit: null,
+      contribution: contributions[nn + k]!,
+    })),
   ];
   // Contributions sum to eta minus the typical slab's eta; the order is by what raises the risk most.
   reasons.sort((a, z) => z.contribution - a.contribution);

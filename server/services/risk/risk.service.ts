@@ -19,7 +19,15 @@ import type { Logger } from "../../lib/logger";
 import { threadEntry } from "../../lib/paths";
 import { recordAudit } from "../audit.service";
 import { VARIABLES } from "@shared/variables";
-import { RISK_CATEGORY_LABELS, type RiskBand, type RiskModel, type RiskReason, type SlabRisk, type SlabRiskBrief, type TrainRiskModelBody } from "@shared/api/risk";
+import {
+  RISK_CATEGORY_LABELS,
+  type RiskBand,
+  type RiskModel,
+  type RiskReason,
+  type SlabRisk,
+  type SlabRiskBrief,
+  type TrainRiskModelBody,
+} from "@shared/api/risk";
 import { YARD_UNINSPECTED_MAX_DAYS } from "@shared/api/yard";
 import { bandOf } from "./bands";
 import { categoryName, scoreTerms, trainRiskModel, type ModelTerms, type TrainedModel } from "./model";
@@ -113,7 +121,12 @@ function rowOf(db: Db, id: number): Row {
 
 export function listRiskModels(db: Db) {
   const rows = db.$client.prepare("select * from risk_models order by target_kind, target_code, version desc").all() as Row[];
-  return { items: rows.map((r) => { const { terms: _t, ...m } = toModel(db, r, false); return m; }) };
+  return {
+    items: rows.map((r) => {
+      const { terms: _t, ...m } = toModel(db, r, false);
+      return m;
+    }),
+  };
 }
 
 export const getRiskModel = (db: Db, id: number) => toModel(db, rowOf(db, id), true);
@@ -130,13 +143,26 @@ export interface RiskOptions {
 }
 
 /** Trains a new version in the training thread; resolves with the stored version once it has finished. */
-export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRiskModelBody, "targetKind" | "targetCode">> & TrainRiskModelBody, user: { id: string; name: string }, opts: RiskOptions = {}): Promise<RiskModel> {
+export async function trainRiskModelVersion(
+  db: Db,
+  body: Required<Pick<TrainRiskModelBody, "targetKind" | "targetCode">> & TrainRiskModelBody,
+  user: { id: string; name: string },
+  opts: RiskOptions = {},
+): Promise<RiskModel> {
   const kind = body.targetKind;
   const target = targetOf(db, kind, body.targetCode);
-  if (!target) throw new HttpError(400, "unknown_target", `There is no defect ${kind === "type" ? "type" : "category"} with the code ${body.targetCode}.`, { field: "targetCode" });
+  if (!target)
+    throw new HttpError(400, "unknown_target", `There is no defect ${kind === "type" ? "type" : "category"} with the code ${body.targetCode}.`, {
+      field: "targetCode",
+    });
   const code = target.code;
   const file = db.$client.name;
-  if (training.has(file)) throw new HttpError(409, "training_busy", "Another risk model is being trained. Wait until it has finished (its progress shows in the list of models), then train this one.");
+  if (training.has(file))
+    throw new HttpError(
+      409,
+      "training_busy",
+      "Another risk model is being trained. Wait until it has finished (its progress shows in the list of models), then train this one.",
+    );
   const spec: RiskSpec = {
     targetKind: kind,
     targetCode: code,
@@ -150,10 +176,14 @@ export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRis
   let id: number;
   try {
     id = db.$client.transaction(() => {
-      const version = ((db.$client.prepare("select max(version) from risk_models where target_kind = ? and target_code = ?").pluck().get(kind, code) as number | null) ?? 0) + 1;
+      const version =
+        ((db.$client.prepare("select max(version) from risk_models where target_kind = ? and target_code = ?").pluck().get(kind, code) as number | null) ?? 0) +
+        1;
       return Number(
         db.$client
-          .prepare("insert into risk_models (target_kind, target_code, version, spec, status, progress, progress_text, trained_by, trained_by_name) values (?, ?, ?, ?, 'training', 0, 'starting', ?, ?)")
+          .prepare(
+            "insert into risk_models (target_kind, target_code, version, spec, status, progress, progress_text, trained_by, trained_by_name) values (?, ?, ?, ?, 'training', 0, 'starting', ?, ?)",
+          )
           .run(kind, code, version, JSON.stringify(spec), user.id, user.name).lastInsertRowid,
       );
     })();
@@ -173,22 +203,56 @@ export async function trainRiskModelVersion(db: Db, body: Required<Pick<TrainRis
     db.$client.prepare("update risk_models set status = 'failed', progress_text = null, error = ?, finished_at = ? where id = ?").run(message, Date.now(), id);
     if (outcome.type === "refused") throw new HttpError(422, "too_little_data", message, { modelId: id });
     opts.logger?.error({ err: outcome }, "risk model training failed");
-    throw new HttpError(500, "training_failed", `${message}. Nothing was switched on; try again, and tell the administrator if it happens again.`, { modelId: id });
+    throw new HttpError(500, "training_failed", `${message}. Nothing was switched on; try again, and tell the administrator if it happens again.`, {
+      modelId: id,
+    });
   } finally {
     training.delete(file);
   }
 }
 
 /** Writes a finished training into its version's row, audited. */
-function storeTrained(db: Db, id: number, spec: RiskSpec, m: TrainedModel, slabs: { first: number | null; last: number | null }, who: { userId?: string; actor?: string }) {
+function storeTrained(
+  db: Db,
+  id: number,
+  spec: RiskSpec,
+  m: TrainedModel,
+  slabs: { first: number | null; last: number | null },
+  who: { userId?: string; actor?: string },
+) {
   db.$client.transaction(() => {
     db.$client
       .prepare(
         `update risk_models set status = 'ready', progress = 1, progress_text = null, terms = ?, lambda = ?, effective_df = ?, validation = ?, method = ?,
            beats_baseline = ?, train_from = ?, train_to = ?, band_high = ?, band_raised = ?, finished_at = ? where id = ?`,
       )
-      .run(JSON.stringify(m.terms), m.lambda, m.effectiveDf, JSON.stringify(m.validation), m.method, m.beatsBaseline ? 1 : 0, slabs.first, slabs.last, m.bands?.high ?? null, m.bands?.raised ?? null, Date.now(), id);
-    recordAudit(db, { ...who, action: "risk_model.train", entity: "risk_models", entityId: id, after: { target: `${spec.targetKind} ${spec.targetCode}`, spec, auc: m.validation.auc, baselineAuc: m.validation.baselineAuc, beatsBaseline: m.beatsBaseline } });
+      .run(
+        JSON.stringify(m.terms),
+        m.lambda,
+        m.effectiveDf,
+        JSON.stringify(m.validation),
+        m.method,
+        m.beatsBaseline ? 1 : 0,
+        slabs.first,
+        slabs.last,
+        m.bands?.high ?? null,
+        m.bands?.raised ?? null,
+        Date.now(),
+        id,
+      );
+    recordAudit(db, {
+      ...who,
+      action: "risk_model.train",
+      entity: "risk_models",
+      entityId: id,
+      after: {
+        target: `${spec.targetKind} ${spec.targetCode}`,
+        spec,
+        auc: m.validation.auc,
+        baselineAuc: m.validation.baselineAuc,
+        beatsBaseline: m.beatsBaseline,
+      },
+    });
   })();
 }
 
@@ -210,10 +274,19 @@ export function seedRiskModels(db: Db, trainedBy: { id: string; name: string }, 
     if (!model.converged) continue;
     const id = Number(
       db.$client
-        .prepare("insert into risk_models (target_kind, target_code, version, spec, status, trained_by, trained_by_name, created_at) values ('type', ?, 1, ?, 'training', ?, ?, ?)")
+        .prepare(
+          "insert into risk_models (target_kind, target_code, version, spec, status, trained_by, trained_by_name, created_at) values ('type', ?, 1, ?, 'training', ?, ?, ?)",
+        )
         .run(code, JSON.stringify(spec), trainedBy.id, trainedBy.name, now).lastInsertRowid,
     );
-    storeTrained(db, id, spec, model, { first: data.known ? data.castAt[0]! : null, last: data.known ? data.castAt[data.known - 1]! : null }, { actor: "seed" });
+    storeTrained(
+      db,
+      id,
+      spec,
+      model,
+      { first: data.known ? data.castAt[0]! : null, last: data.known ? data.castAt[data.known - 1]! : null },
+      { actor: "seed" },
+    );
     const active = model.beatsBaseline && code === "SLG";
     if (active) {
       switchOn(db, id, trainedBy);
@@ -226,7 +299,10 @@ export function seedRiskModels(db: Db, trainedBy: { id: string; name: string }, 
 
 function runTrainingThread(data: TrainThreadData, progress: (fraction: number, what: string) => void): Promise<Exclude<FromTrainThread, { type: "progress" }>> {
   return new Promise((resolve) => {
-    const w = new Worker(threadEntry("risk-train.js", "./train-thread-entry.mjs", import.meta.url), { workerData: data, resourceLimits: { maxOldGenerationSizeMb: 1536 } });
+    const w = new Worker(threadEntry("risk-train.js", "./train-thread-entry.mjs", import.meta.url), {
+      workerData: data,
+      resourceLimits: { maxOldGenerationSizeMb: 1536 },
+    });
     let settled = false;
     let lastProgress = 0;
     const settle = (m: Exclude<FromTrainThread, { type: "progress" }>) => {
@@ -248,7 +324,15 @@ function runTrainingThread(data: TrainThreadData, progress: (fraction: number, w
         }
       } else settle(m);
     });
-    w.on("error", (err) => settle({ type: "failed", message: (err as NodeJS.ErrnoException).code === "ERR_WORKER_OUT_OF_MEMORY" ? "the training needed more memory than it may use; narrow the window" : err.message }));
+    w.on("error", (err) =>
+      settle({
+        type: "failed",
+        message:
+          (err as NodeJS.ErrnoException).code === "ERR_WORKER_OUT_OF_MEMORY"
+            ? "the training needed more memory than it may use; narrow the window"
+            : err.message,
+      }),
+    );
     w.on("exit", (code) => settle({ type: "failed", message: `the training thread stopped (exit ${code})` }));
   });
 }
@@ -256,7 +340,9 @@ function runTrainingThread(data: TrainThreadData, progress: (fraction: number, w
 /** At start: a version left "training" by a stopped server says so. */
 export function recoverRiskTraining(db: Db) {
   db.$client
-    .prepare("update risk_models set status = 'failed', progress_text = null, error = 'The server stopped while this model was training. Train it again.', finished_at = ? where status = 'training'")
+    .prepare(
+      "update risk_models set status = 'failed', progress_text = null, error = 'The server stopped while this model was training. Train it again.', finished_at = ? where status = 'training'",
+    )
     .run(Date.now());
 }
 
@@ -270,7 +356,12 @@ export async function activateRiskModel(db: Db, id: number, user: { id: string; 
 /** The switch itself: refused unless the version is trained and beats its baseline. */
 function switchOn(db: Db, id: number, user: { id: string; name: string }) {
   const r = rowOf(db, id);
-  if (r.status !== "ready") throw new HttpError(409, "model_not_ready", r.status === "training" ? "This model is still training." : "This model's training failed; it cannot be switched on.");
+  if (r.status !== "ready")
+    throw new HttpError(
+      409,
+      "model_not_ready",
+      r.status === "training" ? "This model is still training." : "This model's training failed; it cannot be switched on.",
+    );
   if (r.beats_baseline !== 1)
     throw new HttpError(
       409,
@@ -278,10 +369,19 @@ function switchOn(db: Db, id: number, user: { id: string; name: string }) {
       "This model does not rank the test slabs better than the grade-family rates do (the lower end of its AUC interval is not above the baseline's AUC), so it cannot be switched on. Try other conditions, a longer window, or a defect category.",
     );
   db.$client.transaction(() => {
-    const before = db.$client.prepare("select id, version from risk_models where target_kind = ? and target_code = ? and active = 1").get(r.target_kind, r.target_code) as { id: number; version: number } | undefined;
+    const before = db.$client
+      .prepare("select id, version from risk_models where target_kind = ? and target_code = ? and active = 1")
+      .get(r.target_kind, r.target_code) as { id: number; version: number } | undefined;
     db.$client.prepare("update risk_models set active = 0 where target_kind = ? and target_code = ? and active = 1").run(r.target_kind, r.target_code);
     db.$client.prepare("update risk_models set active = 1, activated_at = ?, activated_by_name = ? where id = ?").run(Date.now(), user.name, id);
-    recordAudit(db, { userId: user.id, action: "risk_model.activate", entity: "risk_models", entityId: id, before: before ? { activeModel: before.id, version: before.version } : { activeModel: null }, after: { activeModel: id, version: r.version, target: `${r.target_kind} ${r.target_code}` } });
+    recordAudit(db, {
+      userId: user.id,
+      action: "risk_model.activate",
+      entity: "risk_models",
+      entityId: id,
+      before: before ? { activeModel: before.id, version: before.version } : { activeModel: null },
+      after: { activeModel: id, version: r.version, target: `${r.target_kind} ${r.target_code}` },
+    });
   })();
 }
 
@@ -353,7 +453,12 @@ const readReasons = (db: Db, modelId: number, json: string) => {
 
 /** Risk and the reasons to store of slabs under one model, from their stored conditions. */
 function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: number; risk: number; reasons: StoredReason[] }[] {
-  const inputs = slabInputs(db.$client, model.terms.numeric.map((v) => v.key), model.terms.categorical.map((c) => c.key as RiskCategory), slabIds);
+  const inputs = slabInputs(
+    db.$client,
+    model.terms.numeric.map((v) => v.key),
+    model.terms.categorical.map((c) => c.key as RiskCategory),
+    slabIds,
+  );
   const out: { slabId: number; risk: number; reasons: StoredReason[] }[] = [];
   const { numeric, categorical } = model.terms;
   const nn = numeric.length;
@@ -369,7 +474,8 @@ function scoreWith(db: Db, model: ActiveModel, slabIds: number[]): { slabId: num
     used.fill(0);
     while (kept.length < REASONS_KEPT) {
       let best = -1;
-      for (let j = 0; j < contributions.length; j++) if (!used[j] && contributions[j]! > 1e-9 && (best < 0 || contributions[j]! > contributions[best]!)) best = j;
+      for (let j = 0; j < contributions.length; j++)
+        if (!used[j] && contributions[j]! > 1e-9 && (best < 0 || contributions[j]! > contributions[best]!)) best = j;
       if (best < 0) break;
       used[best] = 1;
       if (best < nn) {
@@ -461,7 +567,6 @@ function forgetRisks(db: Db, slabIds: number[] | null, now = Date.now()) {
   for (let i = 0; i < slabIds.length; i += 5000) del.run(JSON.stringify(slabIds.slice(i, i + 5000)));
 }
 
-
 export interface RiskSlabsQuery {
   defectType?: string;
   from?: string;
@@ -479,7 +584,9 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
   const where = ["m.active = 1"];
   const params: Record<string, unknown> = { limit: q.limit };
   if (q.defectType) {
-    const type = db.$client.prepare("select t.code, c.code as category from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)").get(q.defectType) as { code: string; category: string } | undefined;
+    const type = db.$client
+      .prepare("select t.code, c.code as category from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)")
+      .get(q.defectType) as { code: string; category: string } | undefined;
     if (!type) throw new HttpError(400, "unknown_defect_type", `There is no defect type with the code ${q.defectType}.`, { field: "defectType" });
     where.push("((m.target_kind = 'type' and m.target_code = @type) or (m.target_kind = 'category' and m.target_code = @category))");
     params.type = type.code;
@@ -510,10 +617,28 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
        cross join slabs s on s.id = r.slab_id cross join heats h on h.id = s.heat_id
        order by r.risk desc, s.id`,
     )
-    .all(params) as { slabId: string; heatNo: string; castAt: number | null; risk: number; reasons: string; modelId: number; version: number; kind: string; code: string; high: number | null; raised: number | null; uninspected: number }[];
-  const models = (c.prepare("select id, target_kind as kind, target_code as code, version from risk_models where active = 1 order by target_code").all() as { id: number; kind: "type" | "category"; code: string; version: number }[]).map(
-    (m) => ({ id: m.id, target: targetName(db, m.kind, m.code) ?? m.code, version: m.version }),
-  );
+    .all(params) as {
+    slabId: string;
+    heatNo: string;
+    castAt: number | null;
+    risk: number;
+    reasons: string;
+    modelId: number;
+    version: number;
+    kind: string;
+    code: string;
+    high: number | null;
+    raised: number | null;
+    uninspected: number;
+  }[];
+  const models = (
+    c.prepare("select id, target_kind as kind, target_code as code, version from risk_models where active = 1 order by target_code").all() as {
+      id: number;
+      kind: "type" | "category";
+      code: string;
+      version: number;
+    }[]
+  ).map((m) => ({ id: m.id, target: targetName(db, m.kind, m.code) ?? m.code, version: m.version }));
   const targetOfModel = new Map(models.map((m) => [m.id, m.target]));
   const items: SlabRisk[] = rows.map((r) => ({
     slabId: r.slabId,
@@ -550,7 +675,8 @@ export function scoreOnArrival(db: Db, logger?: Logger) {
       db.$client.transaction(() => forgetRisks(db, ids))();
       const done = (n: number) => n && logger?.info({ scored: n, ms: Math.round(performance.now() - t0) }, "slabs scored by the active risk models");
       // A change of everything re-scores 90 days of slabs: a chunk at a time, the server answering between chunks.
-      if (ids === null) void scoreUnscoredSlabsYielding(db).then(done, (err: unknown) => logger?.error({ err }, "risk scoring failed; the slabs are scored at the next start"));
+      if (ids === null)
+        void scoreUnscoredSlabsYielding(db).then(done, (err: unknown) => logger?.error({ err }, "risk scoring failed; the slabs are scored at the next start"));
       else done(scoreUnscoredSlabs(db, Date.now(), ids));
     } catch (err) {
       logger?.error({ err }, "risk scoring failed; the slabs are scored at the next import or start");
@@ -566,7 +692,12 @@ export function scoreOnArrival(db: Db, logger?: Logger) {
   };
 }
 
-const FACE_WORDS: Record<string, string> = { inner: "inner radius (top) face", outer: "outer radius (bottom) face", left: "left narrow face", right: "right narrow face" };
+const FACE_WORDS: Record<string, string> = {
+  inner: "inner radius (top) face",
+  outer: "outer radius (bottom) face",
+  left: "left narrow face",
+  right: "right narrow face",
+};
 const THIRDS = ["head third", "middle third", "tail third"];
 
 /**
@@ -575,10 +706,16 @@ const THIRDS = ["head third", "middle third", "tail third"];
  */
 function usualPlaces(db: Db): Map<number, string | null> {
   const out = new Map<number, string | null>();
-  const models = db.$client.prepare("select id, target_kind as kind, target_code as code from risk_models where active = 1").all() as { id: number; kind: "type" | "category"; code: string }[];
+  const models = db.$client.prepare("select id, target_kind as kind, target_code as code from risk_models where active = 1").all() as {
+    id: number;
+    kind: "type" | "category";
+    code: string;
+  }[];
   for (const m of models) {
     const typeFilter =
-      m.kind === "type" ? "d.type_id in (select id from defect_types where code = @code)" : "d.type_id in (select t.id from defect_types t join defect_categories c on c.id = t.category_id where c.code = @code)";
+      m.kind === "type"
+        ? "d.type_id in (select id from defect_types where code = @code)"
+        : "d.type_id in (select t.id from defect_types t join defect_categories c on c.id = t.category_id where c.code = @code)";
     const row = db.$client
       .prepare(
         `select d.face, min(2, cast(3 * d.position_along_mm / s.length_mm as integer)) as third, count(*) as n
@@ -588,7 +725,12 @@ function usualPlaces(db: Db): Map<number, string | null> {
       )
       .get({ code: m.code }) as { face: string; third: number; n: number } | undefined;
     const total = db.$client.prepare(`select count(*) from defects d where d.deleted_at is null and ${typeFilter}`).pluck().get({ code: m.code }) as number;
-    out.set(m.id, row && total >= 10 ? `usually on the ${FACE_WORDS[row.face] ?? row.face}, ${THIRDS[Math.max(0, row.third)] ?? "along the slab"} (${Math.round((100 * row.n) / total)} % of ${total} past entries)` : null);
+    out.set(
+      m.id,
+      row && total >= 10
+        ? `usually on the ${FACE_WORDS[row.face] ?? row.face}, ${THIRDS[Math.max(0, row.third)] ?? "along the slab"} (${Math.round((100 * row.n) / total)} % of ${total} past entries)`
+        : null,
+    );
   }
   return out;
 }
@@ -604,7 +746,17 @@ export function topRiskOfSlabs(db: Db, slabRowIds: number[]) {
       `select r.slab_id as slab, r.risk, r.reasons, m.id as model, m.version, m.target_kind as kind, m.target_code as code, m.band_high as high, m.band_raised as raised
        from slab_risks r join risk_models m on m.id = r.model_id and m.active = 1 where r.slab_id in (select value from json_each(?))`,
     )
-    .all(JSON.stringify(slabRowIds)) as { slab: number; risk: number; reasons: string; model: number; version: number; kind: "type" | "category"; code: string; high: number | null; raised: number | null }[];
+    .all(JSON.stringify(slabRowIds)) as {
+    slab: number;
+    risk: number;
+    reasons: string;
+    model: number;
+    version: number;
+    kind: "type" | "category";
+    code: string;
+    high: number | null;
+    raised: number | null;
+  }[];
   for (const r of rows) {
     const band = bandOf(r.risk, r.high, r.raised);
     const rank = (b: RiskBand) => RISK_RANK[b];
@@ -650,12 +802,32 @@ export function risksOfSlabs(db: Db, slabRowIds: number[]): Map<number, SlabRisk
         missing.push(id);
         continue;
       }
-      out.get(id)!.push({ target, modelId: m.id, modelVersion: m.version, risk: r.risk, band: bandOf(r.risk, m.high, m.raised), reasons: readReasons(db, m.id, r.reasons), stored: true });
+      out
+        .get(id)!
+        .push({
+          target,
+          modelId: m.id,
+          modelVersion: m.version,
+          risk: r.risk,
+          band: bandOf(r.risk, m.high, m.raised),
+          reasons: readReasons(db, m.id, r.reasons),
+          stored: true,
+        });
     }
     if (missing.length) {
       const terms = JSON.parse(m.terms) as ModelTerms;
       for (const s of scoreWith(db, { id: m.id, terms }, missing))
-        out.get(s.slabId)!.push({ target, modelId: m.id, modelVersion: m.version, risk: s.risk, band: bandOf(s.risk, m.high, m.raised), reasons: expandReasons(terms, s.reasons), stored: false });
+        out
+          .get(s.slabId)!
+          .push({
+            target,
+            modelId: m.id,
+            modelVersion: m.version,
+            risk: s.risk,
+            band: bandOf(s.risk, m.high, m.raised),
+            reasons: expandReasons(terms, s.reasons),
+            stored: false,
+          });
     }
   }
   for (const list of out.values()) list.sort((a, b) => RISK_RANK[b.band] - RISK_RANK[a.band] || b.risk - a.risk);

@@ -12,7 +12,6 @@ import { trainRiskModel } from "./model";
 import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData } from "./training-data";
 
-
 const data = workerData as TrainThreadData;
 const send = (m: FromTrainThread) => parentPort!.postMessage(m);
 
@@ -34,8 +33,17 @@ try {
   } else {
     send({ type: "progress", fraction: 0.1, what: "choosing the penalty" });
     const model = trainRiskModel(td, { knots: data.spec.knots, progress: (f, what) => send({ type: "progress", fraction: 0.1 + 0.88 * f, what }) });
-    if (!model.converged) send({ type: "refused", message: `The model could not be fitted on these slabs. ${model.validation.notes.join(" ")} Choose fewer conditions or a longer window.` });
-    else send({ type: "done", model, slabs: { first: td.known ? td.castAt[0]! : null, last: td.known ? td.castAt[td.known - 1]! : null, known: td.known, unjudged: td.unjudged } });
+    if (!model.converged)
+      send({
+        type: "refused",
+        message: `The model could not be fitted on these slabs. ${model.validation.notes.join(" ")} Choose fewer conditions or a longer window.`,
+      });
+    else
+      send({
+        type: "done",
+        model,
+        slabs: { first: td.known ? td.castAt[0]! : null, last: td.known ? td.castAt[td.known - 1]! : null, known: td.known, unjudged: td.unjudged },
+      });
   }
 } catch (err) {
   const e = err as Error;

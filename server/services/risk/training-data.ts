@@ -44,7 +44,10 @@ export interface RiskSpec {
 export function targetTypeIds(sqlite: Database.Database, spec: Pick<RiskSpec, "targetKind" | "targetCode">): number[] {
   return spec.targetKind === "type"
     ? (sqlite.prepare("select id from defect_types where upper(code) = upper(?)").pluck().all(spec.targetCode) as number[])
-    : (sqlite.prepare("select t.id from defect_types t join defect_categories c on c.id = t.category_id where upper(c.code) = upper(?)").pluck().all(spec.targetCode) as number[]);
+    : (sqlite
+        .prepare("select t.id from defect_types t join defect_categories c on c.id = t.category_id where upper(c.code) = upper(?)")
+        .pluck()
+        .all(spec.targetCode) as number[]);
 }
 
 const sequenceCode = (pos: number | null) => SEQUENCE_LEVELS.indexOf(seqBucket(pos ?? 0) as (typeof SEQUENCE_LEVELS)[number]);
@@ -52,7 +55,9 @@ const sequenceCode = (pos: number | null) => SEQUENCE_LEVELS.indexOf(seqBucket(p
 /** Words for the codes of each category, from the database. */
 export function categoryNames(sqlite: Database.Database): Record<RiskCategory, (code: number) => string> {
   const families = new Map(sqlite.prepare("select id, code from grade_families").raw().all() as [number, string][]);
-  const strands = new Map(sqlite.prepare("select s.id, c.code || ' strand ' || s.strand_no from strands s join casters c on c.id = s.caster_id").raw().all() as [number, string][]);
+  const strands = new Map(
+    sqlite.prepare("select s.id, c.code || ' strand ' || s.strand_no from strands s join casters c on c.id = s.caster_id").raw().all() as [number, string][],
+  );
   return {
     grade_family: (c) => families.get(c) ?? "unknown",
     strand: (c) => strands.get(c) ?? "unknown",
@@ -69,7 +74,11 @@ const CATEGORY_COLUMN: Record<RiskCategory, string> = {
 };
 
 /** Reads every judged slab in the window with its conditions and outcome. */
-export function readTrainingData(sqlite: Database.Database, spec: RiskSpec, asOf = Date.now()): RiskData & { slabIds: Int32Array; outcome: Uint8Array; castAt: Float64Array; known: number; unjudged: number } {
+export function readTrainingData(
+  sqlite: Database.Database,
+  spec: RiskSpec,
+  asOf = Date.now(),
+): RiskData & { slabIds: Int32Array; outcome: Uint8Array; castAt: Float64Array; known: number; unjudged: number } {
   const typeIds = targetTypeIds(sqlite, spec);
   const conds = spec.conditions.map((k) => VARIABLES.find((v) => v.key === k)!);
   const where = ["c.cast_at is not null"];

@@ -57,7 +57,12 @@ export function Component() {
         <form role="search" aria-label="Outbox filters" className="flex flex-wrap items-end gap-3" onSubmit={(e) => e.preventDefault()}>
           <label className="flex flex-col gap-1">
             <span className="text-sm font-semibold text-ink-800">Status</span>
-            <select value={params.status ?? ""} onChange={(e) => set("status", e.target.value || undefined)} className={selectClass} data-testid="outbox-status">
+            <select
+              value={params.status ?? ""}
+              onChange={(e) => set("status", e.target.value || undefined)}
+              className={selectClass}
+              data-testid="outbox-status"
+            >
               <option value="">Every status</option>
               {MAIL_STATUSES.map((s) => (
                 <option key={s} value={s}>
@@ -80,7 +85,12 @@ export function Component() {
           </label>
           <label className="flex flex-col gap-1">
             <span className="text-sm font-semibold text-ink-800">Recipient contains</span>
-            <input defaultValue={params.to ?? ""} onBlur={(e) => set("to", e.target.value.trim() || undefined)} onKeyDown={(e) => e.key === "Enter" && set("to", e.currentTarget.value.trim() || undefined)} className={selectClass} />
+            <input
+              defaultValue={params.to ?? ""}
+              onBlur={(e) => set("to", e.target.value.trim() || undefined)}
+              onKeyDown={(e) => e.key === "Enter" && set("to", e.currentTarget.value.trim() || undefined)}
+              className={selectClass}
+            />
           </label>
           {d ? (
             <p className="ml-auto text-sm text-ink-700" data-testid="outbox-total">
@@ -90,7 +100,13 @@ export function Component() {
         </form>
       </Card>
       <Card bodyClassName="px-2 py-3 md:p-4">
-        {page.isPending ? <Spinner label="Loading the outbox" /> : page.isError ? <Notice tone="error">{page.error.message}</Notice> : <OutboxTable items={page.data.items} localServer={local} />}
+        {page.isPending ? (
+          <Spinner label="Loading the outbox" />
+        ) : page.isError ? (
+          <Notice tone="error">{page.error.message}</Notice>
+        ) : (
+          <OutboxTable items={page.data.items} localServer={local} />
+        )}
         {d && pages > 1 ? (
           <div className="mt-3 flex items-center gap-2">
             <Button variant="secondary" disabled={d.page <= 1} onClick={() => set("page", String(d.page - 1))}>

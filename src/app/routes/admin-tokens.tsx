@@ -22,9 +22,14 @@ export function Component() {
   const [created, setCreated] = useState<(ApiToken & { token: string }) | null>(null);
   return (
     <div className="space-y-5">
-      <PageHeader title="API tokens" subtitle="Tokens let the plant's level-2 system send heats, slabs and process samples (and, when ticked, the rolling mill's products) to Strandsight without a person signing in. Each token sends only the kinds ticked when it was made." />
+      <PageHeader
+        title="API tokens"
+        subtitle="Tokens let the plant's level-2 system send heats, slabs and process samples (and, when ticked, the rolling mill's products) to Strandsight without a person signing in. Each token sends only the kinds ticked when it was made."
+      />
       <div className="grid gap-5 lg:grid-cols-[minmax(0,1fr)_minmax(0,2fr)]">
-        <Card title="New token">{created ? <TokenReveal created={created} onDone={() => setCreated(null)} /> : <CreateTokenForm onCreated={setCreated} />}</Card>
+        <Card title="New token">
+          {created ? <TokenReveal created={created} onDone={() => setCreated(null)} /> : <CreateTokenForm onCreated={setCreated} />}
+        </Card>
         <Card title="Tokens">
           {tokens.isPending ? <Spinner /> : tokens.isError ? <Notice tone="error">{tokens.error.message}</Notice> : <TokensTable tokens={tokens.data.tokens} />}
         </Card>

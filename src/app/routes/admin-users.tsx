@@ -36,7 +36,13 @@ export function Component() {
         </Card>
       ) : null}
       <Card>
-        {users.isPending ? <Spinner /> : users.isError ? <Notice tone="error">{users.error.message}</Notice> : <UsersTable users={users.data.users} currentUserId={me.data?.id ?? ""} />}
+        {users.isPending ? (
+          <Spinner />
+        ) : users.isError ? (
+          <Notice tone="error">{users.error.message}</Notice>
+        ) : (
+          <UsersTable users={users.data.users} currentUserId={me.data?.id ?? ""} />
+        )}
       </Card>
     </div>
   );

@@ -37,9 +37,15 @@ function OfflineBand({ logs }: { logs: boolean }) {
   let status: EntryStatus = sending ? "sending" : entries.some((e) => e.state === "retrying") ? "retrying" : "waiting";
   let text: string | null;
   const onTablet = `${plural(waiting, "entry", "entries")} waiting${photos ? ` (${plural(photos, "photo")})` : ""}`;
-  if (!online) text = waiting ? `${onTablet} on this tablet` : logs ? "Entries you save are kept on this tablet and sent when the network is back" : "What you see was loaded earlier; changes need the network";
+  if (!online)
+    text = waiting
+      ? `${onTablet} on this tablet`
+      : logs
+        ? "Entries you save are kept on this tablet and sent when the network is back"
+        : "What you see was loaded earlier; changes need the network";
   else if (snapshot?.signedOut) text = `${onTablet} — sign in again to send them`;
-  else if (blocked === waiting) text = null; // the refusal below says it all
+  else if (blocked === waiting)
+    text = null; // the refusal below says it all
   // The last try failed (server unreachable, busy): say so rather than "sending".
   else if (!sending && entries.every((e) => e.state === "retrying" || e.state === "blocked")) text = `${onTablet} — will try again`;
   else text = `${onTablet} — sending…`;
@@ -150,15 +156,12 @@ export function Component() {
           />
           <div className="ml-auto flex items-center gap-3">
             <div className="text-right leading-tight">
-              <div className="text-sm font-semibold" data-testid="user-name">{me.name}</div>
+              <div className="text-sm font-semibold" data-testid="user-name">
+                {me.name}
+              </div>
               <div className="text-xs text-ink-300">{me.roles.map((r) => ROLE_LABELS[r]).join(" · ")}</div>
             </div>
-            <Button
-              variant="secondary"
-              className="min-h-12"
-              disabled={signOut.isPending}
-              onClick={() => (waiting > 0 ? setConfirmSignOut(true) : doSignOut())}
-            >
+            <Button variant="secondary" className="min-h-12" disabled={signOut.isPending} onClick={() => (waiting > 0 ? setConfirmSignOut(true) : doSignOut())}>
               {signOut.isPending ? "Signing out…" : "Sign out"}
             </Button>
           </div>
@@ -175,8 +178,7 @@ export function Component() {
       {confirmSignOut ? (
         <div className="mx-auto w-full max-w-7xl px-4 pt-3" data-testid="sign-out-waiting">
           <Notice tone="caution" title="Entries still waiting">
-            {plural(waiting, "entry", "entries")} of yours still wait on this tablet. They stay here and are sent when you sign in again on
-            this tablet.
+            {plural(waiting, "entry", "entries")} of yours still wait on this tablet. They stay here and are sent when you sign in again on this tablet.
             <span className="mt-2 flex flex-wrap gap-2">
               <Button variant="secondary" className="min-h-12" onClick={doSignOut}>
                 Sign out anyway
@@ -193,7 +195,11 @@ export function Component() {
           <Notice tone="error">Could not reach the server to sign out: {signOut.error.message} Try again when the network is back.</Notice>
         </div>
       ) : null}
-      {navigation.state === "loading" ? <div className="h-1 animate-pulse bg-strand-500 print:hidden" aria-hidden /> : <div className="h-1 print:hidden" aria-hidden />}
+      {navigation.state === "loading" ? (
+        <div className="h-1 animate-pulse bg-strand-500 print:hidden" aria-hidden />
+      ) : (
+        <div className="h-1 print:hidden" aria-hidden />
+      )}
       <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6 print:max-w-none print:p-0">
         <Outlet />
         <ScrollToTop />

@@ -28,7 +28,8 @@ export function Component() {
         title="Defects without a cause"
         subtitle={
           <>
-            Tag them here, one at a time or many at once; a tagged defect leaves the list. Rejected entries need no cause and are not listed. The tags themselves are kept under{" "}
+            Tag them here, one at a time or many at once; a tagged defect leaves the list. Rejected entries need no cause and are not listed. The tags
+            themselves are kept under{" "}
             <Link to="/causes" className="font-semibold text-strand-700 underline underline-offset-2">
               Cause tags
             </Link>

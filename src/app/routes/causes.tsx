@@ -38,7 +38,10 @@ export function Component() {
         actions={
           canEdit ? (
             <div className="flex flex-wrap gap-2">
-              <Link to="/causes/untagged" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
+              <Link
+                to="/causes/untagged"
+                className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
+              >
                 Defects without a cause
               </Link>
               {!adding ? <Button onClick={() => setAdding(true)}>New cause tag</Button> : null}

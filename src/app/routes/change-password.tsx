@@ -51,8 +51,8 @@ export function Component() {
         <h1 className="text-2xl font-bold text-ink-900">{first ? "Choose your own password" : "Change your password"}</h1>
         {first ? (
           <Notice tone="info" title={`Welcome, ${me.name}`}>
-            An administrator set the password you signed in with. Choose one that only you know; after that Strandsight opens as usual, and
-            the first password no longer works.
+            An administrator set the password you signed in with. Choose one that only you know; after that Strandsight opens as usual, and the first password
+            no longer works.
           </Notice>
         ) : null}
         <OwnPasswordForm email={me.email} firstPassword={first} onChanged={afterChange} />

@@ -24,7 +24,10 @@ export function Component() {
           All claims
         </Link>
       </div>
-      <PageHeader title="Record a claim" subtitle="The customer's complaint and the coils or plates it concerns; their slabs and heats are found through the rolling-mill trace." />
+      <PageHeader
+        title="Record a claim"
+        subtitle="The customer's complaint and the coils or plates it concerns; their slabs and heats are found through the rolling-mill trace."
+      />
       <Notice tone="info" title="Procedure">
         Dispositions and claims follow the plant's quality procedures and the customer's specification.
       </Notice>

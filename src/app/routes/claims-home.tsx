@@ -51,7 +51,11 @@ export function Component() {
     <div className="space-y-5">
       <PageHeader
         title="Claims"
-        subtitle={canManage ? "Customer complaints, the slabs and heats behind them, and the history sent back." : "Customer complaints and the slabs and heats behind them. You can read them; claims officers change them."}
+        subtitle={
+          canManage
+            ? "Customer complaints, the slabs and heats behind them, and the history sent back."
+            : "Customer complaints and the slabs and heats behind them. You can read them; claims officers change them."
+        }
         actions={
           <div className="flex flex-wrap gap-2">
             <Link to="/trace" className={secondaryLink} data-testid="claims-trace">
@@ -125,7 +129,13 @@ export function Component() {
         ) : null}
       </Card>
       <Card bodyClassName="px-2 py-3 md:p-4">
-        {list.isPending ? <Spinner label="Loading the claims" /> : list.isError ? <Notice tone="error">{list.error.message}</Notice> : <ClaimsTable items={list.data.items} />}
+        {list.isPending ? (
+          <Spinner label="Loading the claims" />
+        ) : list.isError ? (
+          <Notice tone="error">{list.error.message}</Notice>
+        ) : (
+          <ClaimsTable items={list.data.items} />
+        )}
       </Card>
     </div>
   );

@@ -53,7 +53,10 @@ export const shouldRevalidate: ShouldRevalidateFunction = ({ currentUrl, nextUrl
 /** One part of the paper: a heading and its records; on paper each part starts clear of the last. */
 function Part({ n, title, children, pageBreak = false }: { n: number; title: string; children: ReactNode; pageBreak?: boolean }) {
   return (
-    <section className={`rounded-lg border border-ink-200 bg-white p-4 print:rounded-none print:border-0 print:p-0 ${pageBreak ? "print:break-before-page" : ""}`} data-testid="history-part">
+    <section
+      className={`rounded-lg border border-ink-200 bg-white p-4 print:rounded-none print:border-0 print:p-0 ${pageBreak ? "print:break-before-page" : ""}`}
+      data-testid="history-part"
+    >
       <h2 className="mb-3 border-b-2 border-ink-800 pb-1 text-base font-bold text-ink-900 print:break-after-avoid">
         {n}. {title}
       </h2>
@@ -72,14 +75,19 @@ function Cover({ h }: { h: HeatHistory }) {
     ["Defect complained of", c.defectComplained],
     ...(c.quantityT !== null ? ([["Quantity claimed", withUnit(c.quantityT, "t", 1)]] as [string, ReactNode][]) : []),
     ["Coils and plates of this heat", c.products.join(", ") || "—"],
-    ...(c.otherProducts.length ? ([["Other coils and plates of the claim", `${c.otherProducts.join(", ")} (not from this heat)`]] as [string, ReactNode][]) : []),
+    ...(c.otherProducts.length
+      ? ([["Other coils and plates of the claim", `${c.otherProducts.join(", ")} (not from this heat)`]] as [string, ReactNode][])
+      : []),
     ["Slabs of this heat in the claim", c.slabs.join(", ")],
     ["Heat cast", `${dateTime(h.heat.castStart)}${h.heat.castEnd ? ` to ${dateTime(h.heat.castEnd)}` : ""}`],
     ["Contents", h.edition.sections.map((x) => SECTION_LABELS[x]).join(", ")],
     ["Prepared", `${date(h.generatedAt)}${c.preparedBy ? ` by ${c.preparedBy}` : ""}`],
   ];
   return (
-    <section className="rounded-lg border-2 border-ink-800 bg-white p-5 print:break-after-page print:rounded-none print:border-0 print:p-0" data-testid="history-cover">
+    <section
+      className="rounded-lg border-2 border-ink-800 bg-white p-5 print:break-after-page print:rounded-none print:border-0 print:p-0"
+      data-testid="history-cover"
+    >
       <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">
         {h.edition.kind === "customer" ? "Heat history for the customer" : "Heat history — internal edition"}
       </div>
@@ -161,7 +169,8 @@ export function Component() {
       </>,
     );
   }
-  if (on("defects")) part("defects", `Defects (${h.defects.length})`, <DefectsList history={h} renderCauses={customer ? undefined : causeChips} />, h.defects.length > 0);
+  if (on("defects"))
+    part("defects", `Defects (${h.defects.length})`, <DefectsList history={h} renderCauses={customer ? undefined : causeChips} />, h.defects.length > 0);
   if (on("causes")) {
     part(
       "causes",
@@ -171,7 +180,12 @@ export function Component() {
       </div>,
     );
   }
-  if (on("investigations")) part("investigations", customer ? `Investigations (${h.investigations.length}, this heat)` : `Investigations (${h.investigations.length}, this heat or its sequence)`, <RelatedRecords history={h} show="investigations" />);
+  if (on("investigations"))
+    part(
+      "investigations",
+      customer ? `Investigations (${h.investigations.length}, this heat)` : `Investigations (${h.investigations.length}, this heat or its sequence)`,
+      <RelatedRecords history={h} show="investigations" />,
+    );
   if (on("claims")) part("claims", `Claims (${h.claims.length}, this heat or its sequence)`, <RelatedRecords history={h} show="claims" />);
   if (on("audit")) {
     part(
@@ -185,19 +199,30 @@ export function Component() {
   }
 
   return (
-    <article className="printable-history mx-auto max-w-5xl space-y-5 print:max-w-none print:space-y-4" data-testid="printable-history" data-edition={h.edition.kind}>
+    <article
+      className="printable-history mx-auto max-w-5xl space-y-5 print:max-w-none print:space-y-4"
+      data-testid="printable-history"
+      data-edition={h.edition.kind}
+    >
       <div className="flex flex-wrap items-center gap-3 print:hidden">
         <Link to={heatPath} className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
           Heat {h.heat.heatNo}
         </Link>
         <span className="text-ink-400">·</span>
-        <Link to={`/trace?q=${encodeURIComponent(h.heat.heatNo)}`} className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+        <Link
+          to={`/trace?q=${encodeURIComponent(h.heat.heatNo)}`}
+          className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+        >
           Trace
         </Link>
         {choice.claim && h.edition.cover ? (
           <>
             <span className="text-ink-400">·</span>
-            <Link to={`/claims/${choice.claim}`} className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2" data-testid="history-back-to-claim">
+            <Link
+              to={`/claims/${choice.claim}`}
+              className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+              data-testid="history-back-to-claim"
+            >
               Back to claim {h.edition.cover.claimNo}
             </Link>
           </>
@@ -226,15 +251,14 @@ export function Component() {
       </section>
       {h.edition.cover ? <Cover h={h} /> : null}
       <header className="border-b-4 border-ink-900 pb-3">
-        <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">
-          Strandsight · heat history{customer ? "" : " · internal edition"}
-        </div>
+        <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">Strandsight · heat history{customer ? "" : " · internal edition"}</div>
         <h1 className="text-3xl font-bold tracking-tight text-ink-900">Heat {h.heat.heatNo}</h1>
         <p className="mt-1 text-sm text-ink-700">
           Prepared {dateTime(h.generatedAt)} (times in this computer's time zone; the workbook gives UTC).
           {customer ? null : (
             <>
-              {" "}Record:{" "}
+              {" "}
+              Record:{" "}
               <Link to={heatPath} className="font-semibold text-strand-700 underline">
                 heat page
               </Link>
@@ -244,8 +268,7 @@ export function Component() {
         </p>
       </header>
       <Notice tone="caution" title="Procedure">
-        This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the
-        customer's specification.
+        This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.
       </Notice>
       {parts}
       <footer className="border-t border-ink-300 pt-2 text-xs text-ink-600">

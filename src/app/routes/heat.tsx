@@ -55,7 +55,11 @@ function BulkTagging({ heat }: { heat: HeatDetail }) {
   const catalogue = useQuery(catalogueKeys.list(false));
   const types = (catalogue.data?.types ?? []).map((t) => ({ code: t.code, name: t.name }));
   const selection: BulkSelection | null =
-    scope === "heat" ? { kind: "heat", heatNo: heat.heatNo } : scope === "sequence" && heat.sequenceNo ? { kind: "sequence", sequenceNo: heat.sequenceNo } : null;
+    scope === "heat"
+      ? { kind: "heat", heatNo: heat.heatNo }
+      : scope === "sequence" && heat.sequenceNo
+        ? { kind: "sequence", sequenceNo: heat.sequenceNo }
+        : null;
   return (
     <Card title="Tag causes on many defects">
       {!selection ? (
@@ -73,7 +77,9 @@ function BulkTagging({ heat }: { heat: HeatDetail }) {
       ) : (
         <div className="space-y-2">
           <h3 className="text-sm font-bold">
-            {selection.kind === "heat" ? `Every live defect of heat ${heat.heatNo}` : `Every live defect of sequence ${heat.sequenceNo} (${heat.sequenceHeats ?? "several"} heats)`}
+            {selection.kind === "heat"
+              ? `Every live defect of heat ${heat.heatNo}`
+              : `Every live defect of sequence ${heat.sequenceNo} (${heat.sequenceHeats ?? "several"} heats)`}
           </h3>
           <BulkTagPanel
             key={scope}
@@ -134,7 +140,10 @@ export function Component() {
               </>
             ) : null}
             {can(roles, "heats.browse") ? (
-              <Link to="/heats" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
+              <Link
+                to="/heats"
+                className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
+              >
                 All heats
               </Link>
             ) : null}

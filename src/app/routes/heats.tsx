@@ -37,7 +37,10 @@ export function Component() {
 
   return (
     <div className="space-y-5">
-      <PageHeader title="Heats" subtitle="Every heat on record with its casting conditions and defect count. Open a heat for its chemistry, slabs and process samples." />
+      <PageHeader
+        title="Heats"
+        subtitle="Every heat on record with its casting conditions and defect count. Open a heat for its chemistry, slabs and process samples."
+      />
       <Card>
         <HeatFilters value={params} families={setup.data?.gradeFamilies ?? []} onChange={update} />
       </Card>

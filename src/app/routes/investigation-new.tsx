@@ -23,7 +23,10 @@ export function Component() {
   const [sp] = useSearchParams();
   const navigate = useNavigate();
   const heats = heatList(sp.get("heat") ?? "");
-  const defectIds = (sp.get("defect") ?? "").split(",").map(Number).filter((n) => Number.isInteger(n) && n > 0);
+  const defectIds = (sp.get("defect") ?? "")
+    .split(",")
+    .map(Number)
+    .filter((n) => Number.isInteger(n) && n > 0);
   const people = useQuery(investigationKeys.people());
   const me = useQuery(authKeys.me());
   const defects = useQueries({ queries: defectIds.map((id) => defectKeys.detail(id)) });
@@ -41,7 +44,10 @@ export function Component() {
           All investigations
         </Link>
       </div>
-      <PageHeader title="Open an investigation" subtitle="Name the problem, the heats or defects it concerns, and who owns it. Hypotheses and actions follow on its page." />
+      <PageHeader
+        title="Open an investigation"
+        subtitle="Name the problem, the heats or defects it concerns, and who owns it. Hypotheses and actions follow on its page."
+      />
       <Card>
         {waiting ? (
           <Spinner label="Loading" />

@@ -48,7 +48,9 @@ export function Component() {
   const i = inv.data;
   const persons = people.data?.people ?? [];
   // Cause tags come from the causes feature; the investigation's pieces take them as plain options.
-  const tags: TagOption[] = (taxonomy.data?.groups ?? []).flatMap((g) => g.tags.filter((t) => !t.retired).map((t) => ({ code: t.code, name: t.name, group: g.name })));
+  const tags: TagOption[] = (taxonomy.data?.groups ?? []).flatMap((g) =>
+    g.tags.filter((t) => !t.retired).map((t) => ({ code: t.code, name: t.name, group: g.name })),
+  );
   const editable = canManage && i.status !== "closed";
   return (
     <div className="space-y-5">
@@ -57,7 +59,10 @@ export function Component() {
           All investigations
         </Link>
       </div>
-      <PageHeader title={i.title} subtitle={`${i.ref} · owner ${i.owner?.name ?? "not set"}${canManage ? "" : " · you can read it; process engineers change it"}`} />
+      <PageHeader
+        title={i.title}
+        subtitle={`${i.ref} · owner ${i.owner?.name ?? "not set"}${canManage ? "" : " · you can read it; process engineers change it"}`}
+      />
       <InvestigationSummaryCard inv={i} canManage={canManage} people={persons} />
       <SubjectsCard inv={i} canManage={canManage} />
       <Section>

@@ -47,7 +47,10 @@ export function Component() {
         subtitle="Each looks at defects or heats, with hypotheses, actions and a closure naming the confirmed cause."
         actions={
           canManage ? (
-            <Link to="/investigations/new" className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800">
+            <Link
+              to="/investigations/new"
+              className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800"
+            >
               Open an investigation
             </Link>
           ) : null
@@ -103,7 +106,13 @@ export function Component() {
         </div>
       </Card>
       <Card bodyClassName="px-2 py-3 md:p-4">
-        {list.isPending ? <Spinner label="Loading the investigations" /> : list.isError ? <Notice tone="error">{list.error.message}</Notice> : <InvestigationsTable items={list.data.items} />}
+        {list.isPending ? (
+          <Spinner label="Loading the investigations" />
+        ) : list.isError ? (
+          <Notice tone="error">{list.error.message}</Notice>
+        ) : (
+          <InvestigationsTable items={list.data.items} />
+        )}
       </Card>
     </div>
   );

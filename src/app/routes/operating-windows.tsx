@@ -49,7 +49,8 @@ function RetireButton({ rule }: { rule: OperatingWindow }) {
   return (
     <div className="w-full space-y-2 rounded-md border border-alarm-700 bg-alarm-100 p-3 text-sm" role="group" aria-label={`Retire ${rule.name}`}>
       <p>
-        Retire “{rule.name}”? It flags no slab from now on; its history stays in the audit trail. A retired rule cannot be brought back — write a new one instead.
+        Retire “{rule.name}”? It flags no slab from now on; its history stays in the audit trail. A retired rule cannot be brought back — write a new one
+        instead.
       </p>
       {retire.isError ? <Notice tone="error">{retire.error.message}</Notice> : null}
       <div className="flex flex-wrap gap-2">
@@ -71,7 +72,9 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
     <Card
       title={rule.name}
       actions={
-        <span className="rounded bg-ink-100 px-2 py-0.5 text-sm font-semibold text-ink-800">{rule.familyCode ? `${rule.familyCode} family` : "Every family"}</span>
+        <span className="rounded bg-ink-100 px-2 py-0.5 text-sm font-semibold text-ink-800">
+          {rule.familyCode ? `${rule.familyCode} family` : "Every family"}
+        </span>
       }
     >
       <div className="space-y-3" data-testid="window-rule">
@@ -87,7 +90,9 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
               <dt className="font-semibold text-ink-700">Grade family</dt>
               <dd className="text-ink-900">{rule.familyCode ? `${rule.familyCode} — ${rule.familyName ?? ""}` : "Every family"}</dd>
               <dt className="font-semibold text-ink-700">Watches</dt>
-              <dd className="text-ink-900">{rule.target ? `${rule.target.name} (${rule.target.kind === "type" ? rule.target.code : "category"})` : "Any defect"}</dd>
+              <dd className="text-ink-900">
+                {rule.target ? `${rule.target.name} (${rule.target.kind === "type" ? rule.target.code : "category"})` : "Any defect"}
+              </dd>
               {rule.note ? (
                 <>
                   <dt className="font-semibold text-ink-700">Note</dt>
@@ -100,7 +105,11 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
                 {rule.updatedAt !== rule.createdAt ? ` · changed ${date(rule.updatedAt)}` : ""}
               </dd>
             </dl>
-            {rule.record ? <WindowRecordView record={rule.record} /> : <p className="text-sm text-ink-700">Retired {date(rule.retiredAt)}: it flags nothing.</p>}
+            {rule.record ? (
+              <WindowRecordView record={rule.record} />
+            ) : (
+              <p className="text-sm text-ink-700">Retired {date(rule.retiredAt)}: it flags nothing.</p>
+            )}
             {canManage && !rule.retiredAt ? (
               <div className="flex flex-wrap gap-2">
                 <Button variant="secondary" onClick={() => setEditing(true)}>
@@ -165,7 +174,9 @@ export function Component() {
         <Notice tone="error">{list.error.message}</Notice>
       ) : items.length === 0 ? (
         <Card>
-          <p className="text-ink-700">No rule written yet.{canManage ? " Write the first one: a grade family, the defect, and the conditions that should not occur together." : ""}</p>
+          <p className="text-ink-700">
+            No rule written yet.{canManage ? " Write the first one: a grade family, the defect, and the conditions that should not occur together." : ""}
+          </p>
         </Card>
       ) : (
         <div className="grid gap-4 xl:grid-cols-2" data-testid="window-list">

@@ -39,7 +39,10 @@ function UntaggedLink() {
               ? `${plural(untagged.data.total, "defect")} carry no cause yet.`
               : "Every live defect carries a cause."}
       </p>
-      <Link to="/causes/untagged" className="inline-flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
+      <Link
+        to="/causes/untagged"
+        className="inline-flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
+      >
         Tag defects without a cause
       </Link>
     </div>
@@ -70,7 +73,10 @@ function OpenInvestigations() {
         <ul className="divide-y divide-ink-100">
           {items.map((i) => (
             <li key={i.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 py-1" data-testid="process-investigation">
-              <Link to={`/investigations/${i.id}`} className="inline-flex min-h-11 flex-1 items-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+              <Link
+                to={`/investigations/${i.id}`}
+                className="inline-flex min-h-11 flex-1 items-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+              >
                 {i.ref} · {i.title}
               </Link>
               <InvestigationStatusMark status={i.status} />
@@ -100,10 +106,17 @@ export function Component() {
             <Link to="/import" className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800">
               Import heats, slabs or samples
             </Link>
-            <Link to="/reports" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50" data-testid="process-reports-link">
+            <Link
+              to="/reports"
+              className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
+              data-testid="process-reports-link"
+            >
               Reports
             </Link>
-            <Link to="/setup" className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50">
+            <Link
+              to="/setup"
+              className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
+            >
               Change the setup
             </Link>
           </div>

@@ -34,7 +34,11 @@ export function Component() {
         <Link to="/quality/review" className={`${tile} border-strand-700 bg-white`} data-testid="quality-review-link">
           <span className="text-lg font-bold text-ink-900">Review queue</span>
           <span className="text-sm text-ink-700">
-            {waiting === undefined ? "New entries from the yard, oldest first." : waiting ? `${plural(waiting, "entry", "entries")} from the yard ${waiting === 1 ? "awaits" : "await"} review.` : "Nothing awaits review."}
+            {waiting === undefined
+              ? "New entries from the yard, oldest first."
+              : waiting
+                ? `${plural(waiting, "entry", "entries")} from the yard ${waiting === 1 ? "awaits" : "await"} review.`
+                : "Nothing awaits review."}
           </span>
         </Link>
         <Link to="/reports" className={`${tile} border-ink-300 bg-white`} data-testid="quality-reports-link">

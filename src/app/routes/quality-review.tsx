@@ -19,7 +19,10 @@ export function Component() {
   const catalogue = useQuery(catalogueKeys.list());
   return (
     <div className="space-y-5">
-      <PageHeader title="Review queue" subtitle="New entries from the yard, in the order you choose: confirm, correct the type or severity, or reject with a reason." />
+      <PageHeader
+        title="Review queue"
+        subtitle="New entries from the yard, in the order you choose: confirm, correct the type or severity, or reject with a reason."
+      />
       {catalogue.isPending ? (
         <Spinner label="Loading the catalogue" />
       ) : catalogue.isError ? (

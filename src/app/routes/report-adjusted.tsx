@@ -7,11 +7,13 @@ import { RouteError } from "./route-error";
 
 const KIND = "adjusted" as const;
 
-
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);
   const examined = listOf(params.variables).map(termLabel).join(", ");
-  const adjust = listOf(params.adjustFor).filter((k) => k !== "none").map(termLabel).join(", ");
+  const adjust = listOf(params.adjustFor)
+    .filter((k) => k !== "none")
+    .map(termLabel)
+    .join(", ");
   return (
     <ReportPage
       kind={KIND}

@@ -19,7 +19,6 @@ import { RouteError } from "./route-error";
 
 const KIND = "cause-pareto" as const;
 
-
 const CONFIDENCE_OPTIONS = [
   { value: "suspected", label: "Every tagging" },
   { value: "probable", label: "Probable or surer" },
@@ -83,7 +82,9 @@ export function Component() {
         </SettingsRow>
       }
     >
-      <ReportResult query={report}>{(data) => <CauseParetoView data={data} minConfidence={minConfidence} groupName={(g) => choices.causeGroups.find((c) => c.code === g)?.name ?? g} />}</ReportResult>
+      <ReportResult query={report}>
+        {(data) => <CauseParetoView data={data} minConfidence={minConfidence} groupName={(g) => choices.causeGroups.find((c) => c.code === g)?.name ?? g} />}
+      </ReportResult>
       {me.data && can(me.data.roles, "causes.tag") ? <TagThisFilter params={params} /> : null}
     </ReportPage>
   );

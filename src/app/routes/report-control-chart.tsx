@@ -6,7 +6,6 @@ import { RouteError } from "./route-error";
 
 const KIND = "control-chart" as const;
 
-
 const CHART_NAMES: Record<string, string> = { p: "p-chart", laney: "Laney p′ chart", u: "u-chart" };
 
 export function Component() {

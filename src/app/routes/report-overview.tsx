@@ -7,7 +7,6 @@ import { RouteError } from "./route-error";
 
 const KIND = "overview" as const;
 
-
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);
   return (

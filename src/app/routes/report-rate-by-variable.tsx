@@ -10,7 +10,6 @@ import { RouteError } from "./route-error";
 
 const KIND = "rate-by-variable" as const;
 
-
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);
   const variable = variableOf(params.variable);
@@ -35,7 +34,13 @@ export function Component() {
               testId="variable-select"
             />
           </div>
-          <Choice label="Bins" testId="bins-select" value={params.bins!} options={numberOptions([4, 5, 6, 8, 10, 12, 15, 20])} onChange={(v) => update({ bins: v })} />
+          <Choice
+            label="Bins"
+            testId="bins-select"
+            value={params.bins!}
+            options={numberOptions([4, 5, 6, 8, 10, 12, 15, 20])}
+            onChange={(v) => update({ bins: v })}
+          />
           <Choice
             label="Binning"
             value={params.binning!}
@@ -45,7 +50,13 @@ export function Component() {
             ]}
             onChange={(v) => update({ binning: v })}
           />
-          <Choice label="Least slabs in a bin" value={params.minN!} options={MIN_N_OPTIONS} onChange={(v) => update({ minN: v })} hint="smaller bins are merged with a neighbour" />
+          <Choice
+            label="Least slabs in a bin"
+            value={params.minN!}
+            options={MIN_N_OPTIONS}
+            onChange={(v) => update({ minN: v })}
+            hint="smaller bins are merged with a neighbour"
+          />
           <div className="col-span-2">
             <TermPick
               label="Adjust for"

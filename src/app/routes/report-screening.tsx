@@ -7,7 +7,6 @@ import { RouteError } from "./route-error";
 
 const KIND = "screening" as const;
 
-
 export function Component() {
   const { params, query, update, choices, report } = useReportScreen(KIND);
   // A numeric variable opens in rate-against-a-variable with the same filters, adjusted for the same

@@ -7,7 +7,15 @@ import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { savedReportKeys, useDeleteSavedReport, type SavedReport } from "@/features/reports/api/saved-reports.queries";
 import { ReportCautions } from "@/features/reports/components/report-cautions";
-import { describeFilters, describeSettings, isReportKind, readReportParams, REPORTS, reportPath, reportSpec } from "@/features/reports/components/report-params";
+import {
+  describeFilters,
+  describeSettings,
+  isReportKind,
+  readReportParams,
+  REPORTS,
+  reportPath,
+  reportSpec,
+} from "@/features/reports/components/report-params";
 import { date } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
@@ -67,11 +75,18 @@ export function Component() {
   const saved = useQuery(savedReportKeys.list());
   return (
     <div className="space-y-5">
-      <PageHeader title="Reports" subtitle="Defect rates and their association with casting conditions. The slab is the unit: a slab is affected when at least one of its defects passes the filters." />
+      <PageHeader
+        title="Reports"
+        subtitle="Defect rates and their association with casting conditions. The slab is the unit: a slab is affected when at least one of its defects passes the filters."
+      />
       <ReportCautions open />
       <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3" data-testid="report-list">
         {REPORTS.map((r) => (
-          <Link key={r.kind} to={reportPath(r.kind)} className="flex min-h-24 flex-col justify-center rounded-lg border-2 border-ink-300 bg-white px-4 py-3 hover:border-strand-700 hover:bg-strand-50">
+          <Link
+            key={r.kind}
+            to={reportPath(r.kind)}
+            className="flex min-h-24 flex-col justify-center rounded-lg border-2 border-ink-300 bg-white px-4 py-3 hover:border-strand-700 hover:bg-strand-50"
+          >
             <span className="text-lg font-bold text-ink-900">{r.title}</span>
             <span className="text-sm text-ink-700">{r.summary}</span>
           </Link>

@@ -45,7 +45,10 @@ export function Component() {
             Your new password is set. Sign in with it.
           </Notice>
         </div>
-        <Link to="/sign-in" className="flex min-h-14 w-full items-center justify-center rounded-md bg-strand-700 px-6 text-base font-semibold text-white hover:bg-strand-800">
+        <Link
+          to="/sign-in"
+          className="flex min-h-14 w-full items-center justify-center rounded-md bg-strand-700 px-6 text-base font-semibold text-white hover:bg-strand-800"
+        >
           Sign in
         </Link>
       </PasswordFrame>
@@ -55,9 +58,14 @@ export function Component() {
     return (
       <PasswordFrame title="Set a new password">
         <div data-testid="reset-link-problem">
-          <Notice tone="error">{linkError ? linkProblem : "This page needs the link from the mail. Open the link in the message, or ask for a new one."}</Notice>
+          <Notice tone="error">
+            {linkError ? linkProblem : "This page needs the link from the mail. Open the link in the message, or ask for a new one."}
+          </Notice>
         </div>
-        <Link to="/forgot-password" className="inline-flex min-h-11 items-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+        <Link
+          to="/forgot-password"
+          className="inline-flex min-h-11 items-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+        >
           Ask for a new link
         </Link>
       </PasswordFrame>
@@ -65,7 +73,12 @@ export function Component() {
   }
   return (
     <PasswordFrame title="Set a new password">
-      <form noValidate className="space-y-4" aria-label="Set a new password" onSubmit={form.handleSubmit((v) => reset.mutate({ token, newPassword: v.newPassword }))}>
+      <form
+        noValidate
+        className="space-y-4"
+        aria-label="Set a new password"
+        onSubmit={form.handleSubmit((v) => reset.mutate({ token, newPassword: v.newPassword }))}
+      >
         {reset.isError ? (
           <div data-testid="reset-error" className="space-y-2">
             <Notice tone="error">{explain(reset.error)}</Notice>
@@ -85,7 +98,14 @@ export function Component() {
           {...form.register("newPassword")}
           error={form.formState.errors.newPassword?.message}
         />
-        <TextField label="The new password again" type="password" autoComplete="new-password" large {...form.register("again")} error={form.formState.errors.again?.message} />
+        <TextField
+          label="The new password again"
+          type="password"
+          autoComplete="new-password"
+          large
+          {...form.register("again")}
+          error={form.formState.errors.again?.message}
+        />
         <Button type="submit" size="lg" className="w-full" disabled={reset.isPending}>
           {reset.isPending ? "Saving…" : "Set the new password"}
         </Button>

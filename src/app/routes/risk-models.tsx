@@ -43,7 +43,15 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
   const toggle = (list: string[], set: (v: string[]) => void, key: string) => set(list.includes(key) ? list.filter((k) => k !== key) : [...list, key]);
   const submit = () => {
     const [kind, code] = target.split(":") as ["type" | "category", string];
-    const body: TrainRiskModelBody = { targetKind: kind, targetCode: code, conditions, categories: categories as TrainRiskModelBody["categories"], knots: 4, ...(from ? { from } : {}), ...(to ? { to } : {}) };
+    const body: TrainRiskModelBody = {
+      targetKind: kind,
+      targetCode: code,
+      conditions,
+      categories: categories as TrainRiskModelBody["categories"],
+      knots: 4,
+      ...(from ? { from } : {}),
+      ...(to ? { to } : {}),
+    };
     onStart();
     train.mutate(body, { onSuccess: (m) => onDone(m.id), onError: () => onDone(null) });
   };
@@ -61,7 +69,13 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
         <label htmlFor="risk-target" className="text-sm font-semibold text-ink-800">
           What the model predicts
         </label>
-        <select id="risk-target" required value={target} onChange={(e) => setTarget(e.target.value)} className="min-h-11 rounded-md border border-ink-300 bg-white px-3">
+        <select
+          id="risk-target"
+          required
+          value={target}
+          onChange={(e) => setTarget(e.target.value)}
+          className="min-h-11 rounded-md border border-ink-300 bg-white px-3"
+        >
           <option value="">Choose a defect type or category…</option>
           <DefectTargetOptions categories={cats} types={types} />
         </select>
@@ -99,8 +113,8 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
         </label>
       </div>
       <p className="text-sm text-ink-700">
-        The newest quarter of the judged slabs is held back and the model is judged on it alone; slabs of the last 14 days are left out until the
-        yard has seen them all.
+        The newest quarter of the judged slabs is held back and the model is judged on it alone; slabs of the last 14 days are left out until the yard has seen
+        them all.
       </p>
       {train.isError ? <Notice tone="error">{train.error.message}</Notice> : null}
       <Button type="submit" disabled={train.isPending || !target}>
@@ -127,7 +141,11 @@ function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
       {v ? (
         <>
           <div className="grid gap-2 sm:grid-cols-3">
-            <Figure label="ROC AUC on the test slabs" value={sig(v.auc, 3)} note={v.aucCiLower !== null ? `95 % interval ${sig(v.aucCiLower, 3)} – ${sig(v.aucCiUpper, 3)} (DeLong)` : undefined} />
+            <Figure
+              label="ROC AUC on the test slabs"
+              value={sig(v.auc, 3)}
+              note={v.aucCiLower !== null ? `95 % interval ${sig(v.aucCiLower, 3)} – ${sig(v.aucCiUpper, 3)} (DeLong)` : undefined}
+            />
             <Figure label="Baseline AUC (grade-family rate)" value={sig(v.baselineAuc, 3)} note="on the same test slabs" />
             <Figure label="Brier score" value={sig(v.brier, 3)} note={`baseline ${sig(v.baselineBrier, 3)}; lower is better`} />
             <Figure label="Calibration slope" value={sig(v.calibrationSlope, 3)} note={`intercept ${sig(v.calibrationIntercept, 3)}; 1 and 0 are ideal`} />
@@ -151,7 +169,8 @@ function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
           ) : null}
           {m.bands ? (
             <p className="text-sm text-ink-800">
-              Bands: {RISK_BAND_LABELS.high} from {pct(m.bands.high, 1)} (the riskiest 10 % of the test slabs), {RISK_BAND_LABELS.raised.toLowerCase()} from {pct(m.bands.raised, 1)} (the next 20 %).
+              Bands: {RISK_BAND_LABELS.high} from {pct(m.bands.high, 1)} (the riskiest 10 % of the test slabs), {RISK_BAND_LABELS.raised.toLowerCase()} from{" "}
+              {pct(m.bands.raised, 1)} (the next 20 %).
             </p>
           ) : null}
         </>
@@ -214,7 +233,12 @@ export function Component() {
           <ul className="divide-y divide-ink-200" data-testid="risk-model-list">
             {items.map((m: Omit<RiskModel, "terms">) => (
               <li key={m.id} className="flex flex-wrap items-center gap-3 py-2">
-                <button type="button" className="min-h-11 text-left font-semibold text-strand-700 underline" onClick={() => setOpen(m.id)} aria-current={shown === m.id ? "true" : undefined}>
+                <button
+                  type="button"
+                  className="min-h-11 text-left font-semibold text-strand-700 underline"
+                  onClick={() => setOpen(m.id)}
+                  aria-current={shown === m.id ? "true" : undefined}
+                >
                   {m.targetName} · version {m.version}
                 </button>
                 <span className="text-sm text-ink-800">
@@ -251,7 +275,11 @@ export function Component() {
           />
           {inFlight ? (
             <div className="mt-3">
-              <ProgressBar label={`Training ${inFlight.targetName}, version ${inFlight.version}`} value={inFlight.progress} detail={inFlight.progressText ?? undefined} />
+              <ProgressBar
+                label={`Training ${inFlight.targetName}, version ${inFlight.version}`}
+                value={inFlight.progress}
+                detail={inFlight.progressText ?? undefined}
+              />
             </div>
           ) : null}
         </Card>

@@ -21,9 +21,7 @@ function describe(err: unknown, online: boolean): { title: string; text: string;
   if (err instanceof ApiError && err.status === 0) {
     return {
       title: online ? "The server cannot be reached" : "You are offline",
-      text:
-        "This screen needs the server. Entries saved in the slab yard wait on this tablet and are sent when the network is back; " +
-        "try again then.",
+      text: "This screen needs the server. Entries saved in the slab yard wait on this tablet and are sent when the network is back; " + "try again then.",
       chunk,
     };
   }

@@ -39,8 +39,8 @@ export function Component() {
     <div className="space-y-5">
       <PageHeader title="Plant setup" subtitle="Casters and strands, grades, and the constants behind every derived value." />
       <Notice tone="info" title="Audited">
-        Every change here is recorded in the audit log with your name, the time and the values before and after. Changes to a strand or to the formula
-        settings recompute the derived values of the slabs they touch; the screen says how many.
+        Every change here is recorded in the audit log with your name, the time and the values before and after. Changes to a strand or to the formula settings
+        recompute the derived values of the slabs they touch; the screen says how many.
       </Notice>
 
       {setup.isPending ? (

@@ -47,9 +47,7 @@ export function Component() {
         </div>
         <div className="my-10 max-w-md">
           <p className="text-xl font-semibold leading-snug text-white">Every slab defect, joined to the heat and the casting conditions it came from.</p>
-          <p className="mt-3 text-sm text-ink-300">
-            Yard inspection, quality statistics, root causes and customer claims in one place.
-          </p>
+          <p className="mt-3 text-sm text-ink-300">Yard inspection, quality statistics, root causes and customer claims in one place.</p>
         </div>
         <p className="text-xs text-ink-400">{about.data?.works ?? " "}</p>
       </section>
@@ -71,7 +69,10 @@ export function Component() {
             {form.formState.isSubmitting ? "Signing in…" : "Sign in"}
           </Button>
           <p className="text-center">
-            <Link to="/forgot-password" className="inline-flex min-h-11 items-center text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+            <Link
+              to="/forgot-password"
+              className="inline-flex min-h-11 items-center text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+            >
               Forgot your password?
             </Link>
           </p>

@@ -76,7 +76,10 @@ export function Component() {
               >
                 Log a defect on this slab
               </Link>
-              <Link to="/yard" className="flex min-h-12 items-center rounded-md border border-ink-300 bg-white px-4 text-base font-semibold text-ink-900 hover:bg-ink-50">
+              <Link
+                to="/yard"
+                className="flex min-h-12 items-center rounded-md border border-ink-300 bg-white px-4 text-base font-semibold text-ink-900 hover:bg-ink-50"
+              >
                 ← Find another slab
               </Link>
             </div>

@@ -9,14 +9,7 @@ import { Notice } from "@/components/ui/notice";
 import { authKeys } from "@/features/auth/api/session";
 import { historyKeys } from "@/features/claims/api/claims.queries";
 import { HistoryWorkbookButton, PrintableHistoryLink } from "@/features/claims/components/history-actions";
-import {
-  ChemistryTable,
-  ConditionsTable,
-  DefectsList,
-  HistoryFacts,
-  RelatedRecords,
-  SlabsTable,
-} from "@/features/claims/components/history-sections";
+import { ChemistryTable, ConditionsTable, DefectsList, HistoryFacts, RelatedRecords, SlabsTable } from "@/features/claims/components/history-sections";
 import { TraceChain } from "@/features/claims/components/trace-chain";
 import { plural } from "@/lib/format";
 import { causeChips } from "../cause-chips";
@@ -91,8 +84,8 @@ export function Component() {
       </Card>
       {!q ? (
         <Notice tone="info" title="How the trace works">
-          Coils and plates reach their slab through the rolling mill's list (imported on the Import screen as “coils and plates”); a slab id
-          or heat number works directly.
+          Coils and plates reach their slab through the rolling mill's list (imported on the Import screen as “coils and plates”); a slab id or heat number
+          works directly.
         </Notice>
       ) : trace.isPending ? (
         <Spinner label={`Tracing ${q}`} />
@@ -116,8 +109,7 @@ export function Component() {
             <TraceChain trace={t} />
           </Card>
           <Notice tone="caution" title="Procedure">
-            This page states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the
-            customer's specification.
+            This page states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.
           </Notice>
           <Card title={`Heat ${t.history.heat.heatNo}`}>
             <HistoryFacts history={t.history} />

@@ -122,21 +122,36 @@ export function Component() {
     const own = (yard.stored?.data.mine ?? []).filter((d) => d.slabId === slabId);
     s = { ...inSet, defects: own, source: "tablet" };
   } else if (noNetwork && yard.ready) {
-    s = { slabId, heatNo: null, gradeCode: null, strandNo: null, pieceNo: null, castAt: null, ...sizeForUnknown(yard.stored?.data.slabs), defects: [], source: "unknown" };
+    s = {
+      slabId,
+      heatNo: null,
+      gradeCode: null,
+      strandNo: null,
+      pieceNo: null,
+      castAt: null,
+      ...sizeForUnknown(yard.stored?.data.slabs),
+      defects: [],
+      source: "unknown",
+    };
   }
 
   const done = new Set([...outbox.entries.map((e) => e.slabId), ...serverMine.map((d) => d.slabId), slabId]);
   const slabsOnTablet = yard.stored?.data.slabs ?? [];
   let next: NextSlab | null = null;
   if (s && s.source !== "unknown" && s.heatNo !== null && s.strandNo !== null && s.pieceNo !== null) {
-    next = nextSlab(slabsOnTablet, { slabId: s.slabId, heatNo: s.heatNo, strandNo: s.strandNo, pieceNo: s.pieceNo, castAt: s.castAt, nextPieceId: info?.nextPieceId }, done);
+    next = nextSlab(
+      slabsOnTablet,
+      { slabId: s.slabId, heatNo: s.heatNo, strandNo: s.strandNo, pieceNo: s.pieceNo, castAt: s.castAt, nextPieceId: info?.nextPieceId },
+      done,
+    );
   } else {
     const w = waitingInYard(slabsOnTablet, done)[0];
     next = w ? { slabId: w.slabId, kind: "uninspected", why: `Not inspected yet: heat ${w.heatNo}, strand ${w.strandNo}, waiting longest` } : null;
   }
 
   const refusedHere = outbox.entries.filter((e) => e.slabId === slabId && refusedForSlabId(e));
-  const onFixed = (to: string) => navigate(`/yard/slabs/${encodeURIComponent(to)}`, { state: { flash: `The entry was given slab id ${to} and is sent again.` } });
+  const onFixed = (to: string) =>
+    navigate(`/yard/slabs/${encodeURIComponent(to)}`, { state: { flash: `The entry was given slab id ${to} and is sent again.` } });
 
   if (server.isPending || (!s && !notFound && !yard.ready)) return <Spinner label="Loading the slab" />;
   if (!s) {
@@ -192,7 +207,14 @@ export function Component() {
       })),
     ...onThisSlab
       .filter((e) => e.defectId === null && e.clientKey !== fixedKey)
-      .map((e) => ({ key: e.clientKey, face: e.summary.face as DrawnMark["face"], alongMm: e.summary.alongMm, acrossMm: e.summary.acrossMm, severity: e.summary.severity, pending: true })),
+      .map((e) => ({
+        key: e.clientKey,
+        face: e.summary.face as DrawnMark["face"],
+        alongMm: e.summary.alongMm,
+        acrossMm: e.summary.acrossMm,
+        severity: e.summary.severity,
+        pending: true,
+      })),
   ];
   const mineHere = serverMine.filter((d) => d.slabId === slab.slabId && d.foundAt >= range.since);
   const leave = (message: string) => void navigate(`/yard/slabs/${encodeURIComponent(slab.slabId)}`, { replace: true, state: { flash: message } });
@@ -215,9 +237,9 @@ export function Component() {
       {slab.source === "unknown" ? (
         <div data-testid="unknown-slab">
           <Notice tone="caution" title="Not on this tablet">
-            {slab.slabId} is not among the slabs kept on this tablet: it will be checked when the network is back. If the server does not know it, the entry comes
-            back to you to correct the id — nothing is lost. The drawing uses the largest slab on this tablet ({num(slab.thicknessMm)} × {num(slab.widthMm)} ×{" "}
-            {num(slab.lengthMm)} mm); the server checks the position against the real slab.
+            {slab.slabId} is not among the slabs kept on this tablet: it will be checked when the network is back. If the server does not know it, the entry
+            comes back to you to correct the id — nothing is lost. The drawing uses the largest slab on this tablet ({num(slab.thicknessMm)} ×{" "}
+            {num(slab.widthMm)} × {num(slab.lengthMm)} mm); the server checks the position against the real slab.
           </Notice>
         </div>
       ) : null}

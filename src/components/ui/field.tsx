@@ -8,10 +8,7 @@ interface FieldProps extends InputHTMLAttributes<HTMLInputElement> {
 }
 
 /** A labelled input with its error under it; the error is announced to screen readers. */
-export const TextField = forwardRef<HTMLInputElement, FieldProps>(function TextField(
-  { label, error, hint, large, id, className = "", ...rest },
-  ref,
-) {
+export const TextField = forwardRef<HTMLInputElement, FieldProps>(function TextField({ label, error, hint, large, id, className = "", ...rest }, ref) {
   const autoId = useId();
   const inputId = id ?? autoId;
   const errorId = `${inputId}-error`;

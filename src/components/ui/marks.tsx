@@ -99,13 +99,30 @@ export const SEVERITY_COLORS: Record<number, string> = { 1: "#4b5d6d", 2: "#7a5a
  * A severity mark inside an SVG drawing, centred on (x, y), with a short label in it. A pending
  * entry (not yet on the server) is drawn dashed.
  */
-export function SeverityGlyph({ x, y, severity, label, r = 15, pending = false }: { x: number; y: number; severity: number; label?: string | number; r?: number; pending?: boolean }) {
+export function SeverityGlyph({
+  x,
+  y,
+  severity,
+  label,
+  r = 15,
+  pending = false,
+}: {
+  x: number;
+  y: number;
+  severity: number;
+  label?: string | number;
+  r?: number;
+  pending?: boolean;
+}) {
   const c = SEVERITY_COLORS[severity] ?? SEVERITY_COLORS[1]!;
   const filled = !pending && (severity === 2 || severity >= 4);
   const common = { fill: filled ? c : "#fff", stroke: c, strokeWidth: 2.4, strokeLinejoin: "round" as const, strokeDasharray: pending ? "4 3" : undefined };
   const shape =
     severity >= 4 ? (
-      <path d={`M${x - r * 0.41} ${y - r}h${r * 0.82}l${r * 0.59} ${r * 0.59}v${r * 0.82}l${-r * 0.59} ${r * 0.59}h${-r * 0.82}l${-r * 0.59} ${-r * 0.59}v${-r * 0.82}z`} {...common} />
+      <path
+        d={`M${x - r * 0.41} ${y - r}h${r * 0.82}l${r * 0.59} ${r * 0.59}v${r * 0.82}l${-r * 0.59} ${r * 0.59}h${-r * 0.82}l${-r * 0.59} ${-r * 0.59}v${-r * 0.82}z`}
+        {...common}
+      />
     ) : severity === 3 ? (
       <path d={`M${x} ${y - r * 1.05}L${x + r * 1.05} ${y + r * 0.8}H${x - r * 1.05}z`} {...common} />
     ) : severity === 2 ? (

@@ -5,7 +5,7 @@ export function ProgressBar({ label, value, detail }: { label: string; value: nu
     <div className="space-y-1">
       <div className="flex items-baseline justify-between gap-3 text-sm">
         <span className="font-semibold text-ink-800">{label}</span>
-        <span className="tabular-nums text-ink-600">{pct === null ? detail ?? "" : `${pct} %${detail ? ` · ${detail}` : ""}`}</span>
+        <span className="tabular-nums text-ink-600">{pct === null ? (detail ?? "") : `${pct} %${detail ? ` · ${detail}` : ""}`}</span>
       </div>
       <div
         role="progressbar"

@@ -36,9 +36,8 @@ const castMs = (s: { castAt: string | null }) => (s.castAt ? Date.parse(s.castAt
 export function nextSlab(slabs: readonly YardSlab[], current: Current, done: ReadonlySet<string> = new Set()): NextSlab | null {
   const nextPiece =
     current.nextPieceId ??
-    slabs
-      .filter((s) => s.heatNo === current.heatNo && s.strandNo === current.strandNo && s.pieceNo > current.pieceNo)
-      .sort((a, b) => a.pieceNo - b.pieceNo)[0]?.slabId ??
+    slabs.filter((s) => s.heatNo === current.heatNo && s.strandNo === current.strandNo && s.pieceNo > current.pieceNo).sort((a, b) => a.pieceNo - b.pieceNo)[0]
+      ?.slabId ??
     null;
   if (nextPiece) {
     return { slabId: nextPiece, kind: "piece", why: `Piece ${current.pieceNo + 1} of heat ${current.heatNo}, strand ${current.strandNo}` };
@@ -79,7 +78,11 @@ export function sizeForUnknown(slabs: readonly YardSlab[] | undefined) {
 
 /** "rolled on 1 Dec 2026, 02:14 into coil K26000331" (several: "into coils K…, K…"). */
 export function rolledWords(products: readonly YardProduct[]): string {
-  const first = products.map((p) => p.rolledAt).filter(Boolean).sort()[0] ?? null;
+  const first =
+    products
+      .map((p) => p.rolledAt)
+      .filter(Boolean)
+      .sort()[0] ?? null;
   const kinds = new Set(products.map((p) => p.kind));
   const noun = kinds.size === 1 ? ([...kinds][0] === "plate" ? "plate" : "coil") : "coil/plate";
   const ids = products.map((p) => p.productId).join(", ");

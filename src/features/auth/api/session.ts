@@ -34,8 +34,7 @@ export const authKeys = {
 export function useSignIn() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: { email: string; password: string }) =>
-      api("/auth/sign-in/email", { method: "POST", body: { ...input, rememberMe: true } }),
+    mutationFn: (input: { email: string; password: string }) => api("/auth/sign-in/email", { method: "POST", body: { ...input, rememberMe: true } }),
     // A new user: nothing cached for the previous one may show.
     onSuccess: () => qc.clear(),
   });

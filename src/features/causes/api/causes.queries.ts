@@ -1,13 +1,6 @@
 import { queryOptions, useMutation, useQueryClient, type QueryKey } from "@tanstack/react-query";
 import { z } from "zod";
-import {
-  bulkTagResultSchema,
-  causeTagSchema,
-  causeTaxonomySchema,
-  defectCausesSchema,
-  type BulkTag,
-  type TagDefect,
-} from "@shared/api/causes";
+import { bulkTagResultSchema, causeTagSchema, causeTaxonomySchema, defectCausesSchema, type BulkTag, type TagDefect } from "@shared/api/causes";
 import { api } from "@/lib/api-client";
 
 export const causeKeys = {
@@ -60,7 +53,8 @@ export function useUpdateCauseTag({ affects }: Affects = {}) {
 export function useDeleteCauseTag() {
   const invalidate = useInvalidate();
   return useMutation({
-    mutationFn: (code: string) => api(`/cause-tags/${encodeURIComponent(code)}`, { method: "DELETE", schema: z.object({ code: z.string(), deleted: z.literal(true) }) }),
+    mutationFn: (code: string) =>
+      api(`/cause-tags/${encodeURIComponent(code)}`, { method: "DELETE", schema: z.object({ code: z.string(), deleted: z.literal(true) }) }),
     onSuccess: invalidate,
   });
 }

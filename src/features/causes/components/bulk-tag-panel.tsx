@@ -49,13 +49,16 @@ export function BulkTagPanel({
   };
   const apply = () => {
     if (!pending) return;
-    bulk.mutate({ ...pending.input, dryRun: false }, {
-      onSuccess: (r) => {
-        setWritten(r);
-        setPending(null);
-        onWritten?.(r, namesOf(pending.input.tags));
+    bulk.mutate(
+      { ...pending.input, dryRun: false },
+      {
+        onSuccess: (r) => {
+          setWritten(r);
+          setPending(null);
+          onWritten?.(r, namesOf(pending.input.tags));
+        },
       },
-    });
+    );
   };
 
   // What is asked, in the taxonomy's names, so the count is read against the choice it counts.

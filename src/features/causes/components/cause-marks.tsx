@@ -49,7 +49,12 @@ export function CauseChip({ tagName, tag, confidence }: { tagName: string; tag: 
 }
 
 export function CauseChips({ causes }: { causes: { tag: string; tagName: string; confidence: CauseConfidence }[] }) {
-  if (causes.length === 0) return <span className="text-sm text-ink-600" data-testid="no-causes">No cause tagged yet</span>;
+  if (causes.length === 0)
+    return (
+      <span className="text-sm text-ink-600" data-testid="no-causes">
+        No cause tagged yet
+      </span>
+    );
   return (
     <span className="flex flex-wrap gap-1.5">
       {causes.map((c) => (

@@ -16,7 +16,19 @@ const selectClass = "min-h-11 w-full rounded-md border border-ink-300 bg-white p
 
 const groupName = (taxonomy: CauseTaxonomy, code: string) => taxonomy.groups.find((g) => g.code === code)?.name ?? code;
 
-function GroupSelect({ taxonomy, value, onChange, label, id }: { taxonomy: CauseTaxonomy; value: string; onChange: (v: string) => void; label: string; id: string }) {
+function GroupSelect({
+  taxonomy,
+  value,
+  onChange,
+  label,
+  id,
+}: {
+  taxonomy: CauseTaxonomy;
+  value: string;
+  onChange: (v: string) => void;
+  label: string;
+  id: string;
+}) {
   return (
     <div className="flex flex-col gap-1">
       <label htmlFor={id} className="text-sm font-semibold text-ink-800">
@@ -43,19 +55,28 @@ export function NewCauseTagForm({ taxonomy, onDone }: { taxonomy: CauseTaxonomy;
       aria-label="New cause tag"
       className="space-y-4"
       onSubmit={form.handleSubmit((v) =>
-        create.mutate({ ...v, description: v.description?.trim() ? v.description.trim() : null }, {
-          onSuccess: () => {
-            form.reset();
-            onDone();
+        create.mutate(
+          { ...v, description: v.description?.trim() ? v.description.trim() : null },
+          {
+            onSuccess: () => {
+              form.reset();
+              onDone();
+            },
           },
-        }),
+        ),
       )}
     >
       {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
       <div className="grid gap-4 md:grid-cols-3">
         <TextField label="Code" hint="lower-case, with hyphens: nozzle-erosion" autoComplete="off" {...form.register("code")} error={e.code?.message} />
         <TextField label="Name" {...form.register("name")} error={e.name?.message} />
-        <GroupSelect taxonomy={taxonomy} id="new-tag-group" label="Group" value={form.watch("group")} onChange={(v) => form.setValue("group", v as CreateInput["group"])} />
+        <GroupSelect
+          taxonomy={taxonomy}
+          id="new-tag-group"
+          label="Group"
+          value={form.watch("group")}
+          onChange={(v) => form.setValue("group", v as CreateInput["group"])}
+        />
       </div>
       <TextField label="Description (optional)" {...form.register("description")} error={e.description?.message} />
       <div className="flex gap-2">
@@ -133,38 +154,38 @@ function TagRow({ tag, taxonomy, canEdit }: { tag: CauseTag; taxonomy: CauseTaxo
         </div>
       </div>
       {canEdit ? (
-          <div className="flex flex-wrap gap-2">
-            <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-label={`Change ${tag.name}`}>
-              Change
-            </Button>
-            <Button
-              variant="secondary"
-              disabled={update.isPending}
-              onClick={() => update.mutate({ code: tag.code, changes: { retired: !tag.retired } })}
-              aria-label={`${tag.retired ? "Reinstate" : "Retire"} ${tag.name}`}
-            >
-              {tag.retired ? "Reinstate" : "Retire"}
-            </Button>
-            {!tag.everUsed ? (
-              confirmDelete ? (
-                <>
-                  <Button variant="danger" disabled={del.isPending} onClick={() => del.mutate(tag.code)}>
-                    {del.isPending ? "Deleting…" : "Delete for good"}
-                  </Button>
-                  <Button variant="ghost" onClick={() => setConfirmDelete(false)}>
-                    Keep
-                  </Button>
-                </>
-              ) : (
-                <Button variant="ghost" onClick={() => setConfirmDelete(true)} aria-label={`Delete ${tag.name}`}>
-                  Delete…
+        <div className="flex flex-wrap gap-2">
+          <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-label={`Change ${tag.name}`}>
+            Change
+          </Button>
+          <Button
+            variant="secondary"
+            disabled={update.isPending}
+            onClick={() => update.mutate({ code: tag.code, changes: { retired: !tag.retired } })}
+            aria-label={`${tag.retired ? "Reinstate" : "Retire"} ${tag.name}`}
+          >
+            {tag.retired ? "Reinstate" : "Retire"}
+          </Button>
+          {!tag.everUsed ? (
+            confirmDelete ? (
+              <>
+                <Button variant="danger" disabled={del.isPending} onClick={() => del.mutate(tag.code)}>
+                  {del.isPending ? "Deleting…" : "Delete for good"}
                 </Button>
-              )
+                <Button variant="ghost" onClick={() => setConfirmDelete(false)}>
+                  Keep
+                </Button>
+              </>
             ) : (
-              <span className="self-center text-xs text-ink-600">used, so it can be retired but not deleted</span>
-            )}
-          </div>
-        ) : null}
+              <Button variant="ghost" onClick={() => setConfirmDelete(true)} aria-label={`Delete ${tag.name}`}>
+                Delete…
+              </Button>
+            )
+          ) : (
+            <span className="self-center text-xs text-ink-600">used, so it can be retired but not deleted</span>
+          )}
+        </div>
+      ) : null}
       {update.isError ? <Notice tone="error">{update.error.message}</Notice> : null}
       {del.isError ? <Notice tone="error">{del.error.message}</Notice> : null}
       {editing ? <EditTag tag={tag} taxonomy={taxonomy} onDone={() => setEditing(false)} /> : null}

@@ -34,7 +34,12 @@ function RemoveTagging({ defectId, link, affects }: { defectId: number; link: De
     >
       <label className="flex min-w-56 flex-1 flex-col gap-1">
         <span className="text-sm font-semibold text-ink-800">Why is it removed? (optional)</span>
-        <input value={reason} onChange={(e) => setReason(e.target.value)} maxLength={500} className="min-h-11 rounded-md border border-ink-300 bg-white px-3 text-sm" />
+        <input
+          value={reason}
+          onChange={(e) => setReason(e.target.value)}
+          maxLength={500}
+          className="min-h-11 rounded-md border border-ink-300 bg-white px-3 text-sm"
+        />
       </label>
       <Button type="submit" variant="danger" disabled={untag.isPending}>
         {untag.isPending ? "Removing…" : "Remove the tagging"}
@@ -56,7 +61,12 @@ function HistoryList({ history }: { history: DefectCause[] }) {
   return (
     <ol className="space-y-2" data-testid="cause-history">
       {history.map((h) => (
-        <li key={h.id} className={`rounded-md border px-3 py-2 text-sm ${h.removedAt ? "border-dashed border-ink-300 bg-ink-50" : "border-ink-200 bg-white"}`} data-testid="cause-history-item" data-removed={h.removedAt ? "true" : "false"}>
+        <li
+          key={h.id}
+          className={`rounded-md border px-3 py-2 text-sm ${h.removedAt ? "border-dashed border-ink-300 bg-ink-50" : "border-ink-200 bg-white"}`}
+          data-testid="cause-history-item"
+          data-removed={h.removedAt ? "true" : "false"}
+        >
           <div className="flex flex-wrap items-center gap-2">
             <ConfidenceIcon confidence={h.confidence} className="h-4 w-4 text-strand-800" />
             <span className={`font-semibold ${h.removedAt ? "line-through decoration-ink-500" : ""}`}>{h.tagName}</span>

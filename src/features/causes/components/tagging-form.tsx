@@ -105,17 +105,31 @@ export function TaggingForm({
     >
       <div>
         <div className="mb-1 text-sm font-semibold text-ink-800">Causes</div>
-        <Controller control={form.control} name="tags" render={({ field }) => <TagChecklist taxonomy={taxonomy} value={field.value} onChange={field.onChange} name={`${name}-tags`} />} />
+        <Controller
+          control={form.control}
+          name="tags"
+          render={({ field }) => <TagChecklist taxonomy={taxonomy} value={field.value} onChange={field.onChange} name={`${name}-tags`} />}
+        />
         {errors.tags ? (
           <p role="alert" className="mt-1 text-sm font-medium text-alarm-700">
             {errors.tags.message}
           </p>
         ) : null}
       </div>
-      <Controller control={form.control} name="confidence" render={({ field }) => <ConfidenceChoice value={field.value} onChange={field.onChange} name={`${name}-confidence`} />} />
+      <Controller
+        control={form.control}
+        name="confidence"
+        render={({ field }) => <ConfidenceChoice value={field.value} onChange={field.onChange} name={`${name}-confidence`} />}
+      />
       <label className="flex flex-col gap-1">
         <span className="text-sm font-semibold text-ink-800">Note (optional)</span>
-        <textarea {...form.register("note")} rows={2} maxLength={1000} className="min-h-11 rounded-md border border-ink-300 bg-white px-3 py-2 text-sm" placeholder="What points to this cause" />
+        <textarea
+          {...form.register("note")}
+          rows={2}
+          maxLength={1000}
+          className="min-h-11 rounded-md border border-ink-300 bg-white px-3 py-2 text-sm"
+          placeholder="What points to this cause"
+        />
         {errors.note ? <span className="text-sm text-alarm-700">{errors.note.message}</span> : null}
       </label>
       {extra}

@@ -60,7 +60,15 @@ function useWorklistFilters() {
   return { filters, set };
 }
 
-function Filters({ types, filters, set }: { types: DefectType[]; filters: ReturnType<typeof useWorklistFilters>["filters"]; set: ReturnType<typeof useWorklistFilters>["set"] }) {
+function Filters({
+  types,
+  filters,
+  set,
+}: {
+  types: DefectType[];
+  filters: ReturnType<typeof useWorklistFilters>["filters"];
+  set: ReturnType<typeof useWorklistFilters>["set"];
+}) {
   const [heat, setHeat] = useState(filters.heat);
   return (
     <form
@@ -209,7 +217,9 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
     filters.type ? `type ${filters.type}` : null,
     filters.heat ? `heat ${filters.heat}` : null,
     filters.minSeverity ? `severity ${filters.minSeverity} or worse` : null,
-    filters.from || filters.to ? `found ${filters.from ? `from ${filters.from}` : ""}${filters.from && filters.to ? " " : ""}${filters.to ? `to ${filters.to}` : ""}` : null,
+    filters.from || filters.to
+      ? `found ${filters.from ? `from ${filters.from}` : ""}${filters.from && filters.to ? " " : ""}${filters.to ? `to ${filters.to}` : ""}`
+      : null,
   ].filter(Boolean);
 
   const goPage = (page: number) => {
@@ -263,7 +273,10 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
             onClose={() => setBulkOpen(false)}
             onWritten={(r: BulkTagResult, causes: string[]) => {
               setBulkOpen(false);
-              afterTagged(shownSelected, `${causes.join(", ")}: ${plural(r.tagged, "tagging")} written over ${plural(r.defects, "defect")}; they leave this list.`);
+              afterTagged(
+                shownSelected,
+                `${causes.join(", ")}: ${plural(r.tagged, "tagging")} written over ${plural(r.defects, "defect")}; they leave this list.`,
+              );
             }}
           />
         </Card>
@@ -285,10 +298,18 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
                     <span className="sr-only">Select every defect shown</span>
                   </label>
                 </th>
-                <th scope="col" className="px-2 py-2">Slab · heat</th>
-                <th scope="col" className="px-2 py-2">Defect</th>
-                <th scope="col" className="px-2 py-2">Severity</th>
-                <th scope="col" className="px-2 py-2">Found</th>
+                <th scope="col" className="px-2 py-2">
+                  Slab · heat
+                </th>
+                <th scope="col" className="px-2 py-2">
+                  Defect
+                </th>
+                <th scope="col" className="px-2 py-2">
+                  Severity
+                </th>
+                <th scope="col" className="px-2 py-2">
+                  Found
+                </th>
                 <th scope="col" className="px-2 py-2">
                   <span className="sr-only">Tagging</span>
                 </th>

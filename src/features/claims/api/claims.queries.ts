@@ -1,7 +1,16 @@
 import { useState } from "react";
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
 import { z } from "zod";
-import { claimSchema, claimSummarySchema, heatHistorySchema, traceSchema, type Claim, type ClaimCreate, type CustomerSection, type HistoryEdition } from "@shared/api/claims";
+import {
+  claimSchema,
+  claimSummarySchema,
+  heatHistorySchema,
+  traceSchema,
+  type Claim,
+  type ClaimCreate,
+  type CustomerSection,
+  type HistoryEdition,
+} from "@shared/api/claims";
 import type { ClaimStatus } from "@shared/domain";
 import { api, apiUpload, type UploadProgress } from "@/lib/api-client";
 import { downloadFile, type DownloadProgress } from "@/lib/download";
@@ -117,7 +126,11 @@ export function useHistoryWorkbook() {
       setProgress({ loaded: 0, fraction: null });
       const q = editionQuery(edition);
       const search = q ? `?${new URLSearchParams(q).toString()}` : "";
-      return downloadFile(`/heats/${encodeURIComponent(heatNo)}/history.xlsx${search}`, `strandsight-heat-${heatNo}-history-${edition.edition === "customer" ? "customer" : "internal"}.xlsx`, setProgress);
+      return downloadFile(
+        `/heats/${encodeURIComponent(heatNo)}/history.xlsx${search}`,
+        `strandsight-heat-${heatNo}-history-${edition.edition === "customer" ? "customer" : "internal"}.xlsx`,
+        setProgress,
+      );
     },
     onSettled: () => setProgress(null),
   });

@@ -60,7 +60,9 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
     <Card>
       <div className="grid gap-5 xl:grid-cols-[3fr_2fr]">
         <dl className="grid grid-cols-2 gap-x-6 gap-y-3 md:grid-cols-3">
-          <Item label="Customer" testId="claim-customer">{claim.customer}</Item>
+          <Item label="Customer" testId="claim-customer">
+            {claim.customer}
+          </Item>
           <Item label="Received">{day(claim.receivedOn)}</Item>
           <Item label="Quantity">{withUnit(claim.quantityT, "t", 1)}</Item>
           <Item label="Defect complained of" testId="claim-complaint" className="col-span-2 md:col-span-3">
@@ -160,7 +162,11 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
 
 export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage: boolean }) {
   const change = useClaimChange(claim.id);
-  const add = useAddRow(change, { slabs: "", products: "" }, (v) => ({ method: "POST" as const, path: "/slabs", body: { slabIds: idList(v.slabs), productIds: idList(v.products) } }));
+  const add = useAddRow(change, { slabs: "", products: "" }, (v) => ({
+    method: "POST" as const,
+    path: "/slabs",
+    body: { slabIds: idList(v.slabs), productIds: idList(v.products) },
+  }));
   const { slabs, products } = add.values;
   return (
     <Card title={`Linked slabs (${claim.linkedSlabs.length})`} bodyClassName="px-2 py-3 md:p-4">
@@ -179,16 +185,22 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
                   <th className={`${th} text-right`}>Defects</th>
                   <th className={th}>Linked</th>
                   <th className={th}>Coils / plates</th>
-                  {canManage ? <th className={th}>
-                    <span className="sr-only">Unlink</span>
-                  </th> : null}
+                  {canManage ? (
+                    <th className={th}>
+                      <span className="sr-only">Unlink</span>
+                    </th>
+                  ) : null}
                 </tr>
               </thead>
               <tbody>
                 {claim.linkedSlabs.map((s) => (
                   <tr key={s.slabId} className="border-b border-ink-100 align-top" data-testid="linked-slab" data-slab={s.slabId}>
                     <td className="px-2 py-1">
-                      <Link to={`/slabs/${encodeURIComponent(s.slabId)}`} className={`${link} inline-flex min-h-11 items-center whitespace-nowrap`} data-field="slabId">
+                      <Link
+                        to={`/slabs/${encodeURIComponent(s.slabId)}`}
+                        className={`${link} inline-flex min-h-11 items-center whitespace-nowrap`}
+                        data-field="slabId"
+                      >
                         {s.slabId}
                       </Link>
                     </td>
@@ -197,18 +209,33 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
                         {s.heatNo}
                       </Link>
                     </td>
-                    <td className="px-2 py-2.5" data-field="sequenceNo">{s.sequenceNo ?? DASH}</td>
-                    <td className="px-2 py-2.5" data-field="grade">{s.grade}</td>
-                    <td className="px-2 py-2.5" data-field="disposition">{dispositionLabel(s.disposition)}</td>
-                    <td className="px-2 py-2.5 text-right tabular-nums" data-field="defects">{s.defects}</td>
+                    <td className="px-2 py-2.5" data-field="sequenceNo">
+                      {s.sequenceNo ?? DASH}
+                    </td>
+                    <td className="px-2 py-2.5" data-field="grade">
+                      {s.grade}
+                    </td>
+                    <td className="px-2 py-2.5" data-field="disposition">
+                      {dispositionLabel(s.disposition)}
+                    </td>
+                    <td className="px-2 py-2.5 text-right tabular-nums" data-field="defects">
+                      {s.defects}
+                    </td>
                     <td className="px-2 py-2.5" data-field="linkedVia">
                       {s.linkedVia === "trace" ? "through the trace" : "by slab id"}
                       <div className="text-xs text-ink-600">{date(s.linkedAt)}</div>
                     </td>
-                    <td className="px-2 py-2.5 font-mono" data-field="products">{s.products.join(", ") || DASH}</td>
+                    <td className="px-2 py-2.5 font-mono" data-field="products">
+                      {s.products.join(", ") || DASH}
+                    </td>
                     {canManage ? (
                       <td className="px-2 py-1 text-right">
-                        <Button variant="ghost" disabled={change.isPending} onClick={() => change.mutate({ method: "DELETE", path: `/slabs/${encodeURIComponent(s.slabId)}` })} aria-label={`Unlink slab ${s.slabId}`}>
+                        <Button
+                          variant="ghost"
+                          disabled={change.isPending}
+                          onClick={() => change.mutate({ method: "DELETE", path: `/slabs/${encodeURIComponent(s.slabId)}` })}
+                          aria-label={`Unlink slab ${s.slabId}`}
+                        >
                           Unlink
                         </Button>
                       </td>
@@ -224,7 +251,12 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
         {canManage ? (
           <form aria-label="Link more slabs" className="grid gap-3 px-2 md:grid-cols-[1fr_1fr_auto] md:items-end md:px-0" onSubmit={add.onSubmit}>
             <TextField label="Link slabs by id" {...add.bind("slabs")} placeholder="L260001-104, …" hint="Slab ids, separated by commas or spaces" />
-            <TextField label="or by coil / plate id" {...add.bind("products")} placeholder="K26000004, …" hint="Traced to their slabs through the rolling mill's list" />
+            <TextField
+              label="or by coil / plate id"
+              {...add.bind("products")}
+              placeholder="K26000004, …"
+              hint="Traced to their slabs through the rolling mill's list"
+            />
             <Button type="submit" variant="secondary" disabled={change.isPending || !(slabs.trim() || products.trim())}>
               {change.isPending ? "Linking…" : "Link"}
             </Button>
@@ -250,7 +282,8 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
     return (
       <div className="space-y-2" data-testid="history-sent">
         <Notice tone="ok" title="Queued">
-          The {send.variables.edition === "customer" ? "customer" : "internal"} edition of heat {heatNo}'s history is queued for {send.variables.to.join(", ")}; see the claim's history below.
+          The {send.variables.edition === "customer" ? "customer" : "internal"} edition of heat {heatNo}'s history is queued for {send.variables.to.join(", ")};
+          see the claim's history below.
         </Notice>
         <Button variant="ghost" onClick={onClose}>
           Done
@@ -265,16 +298,37 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
       onSubmit={(e) => {
         e.preventDefault();
         setProblem(null);
-        const list = [...new Set(to.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean))];
+        const list = [
+          ...new Set(
+            to
+              .split(/[\s,;]+/)
+              .map((s) => s.trim())
+              .filter(Boolean),
+          ),
+        ];
         if (!list.length) return setProblem("Give at least one recipient's e-mail address.");
         const bad = list.filter((a) => !z.email().safeParse(a).success);
         if (bad.length) return setProblem(`Not an e-mail address: ${bad.join(", ")}.`);
         if (!recipientsSchema.safeParse(list).success) return setProblem("At most 10 recipients at a time.");
         if (edition.edition === "customer" && !edition.sections.length) return setProblem("Choose at least one part for the customer.");
-        send.mutate({ heatNo, to: list, message: message.trim() || undefined, edition: edition.edition, sections: edition.edition === "customer" ? edition.sections : undefined });
+        send.mutate({
+          heatNo,
+          to: list,
+          message: message.trim() || undefined,
+          edition: edition.edition,
+          sections: edition.edition === "customer" ? edition.sections : undefined,
+        });
       }}
     >
-      <TextField label="Recipients" type="text" inputMode="email" autoComplete="off" value={to} onChange={(e) => setTo(e.target.value)} hint="E-mail addresses, separated by commas or spaces (up to 10)" />
+      <TextField
+        label="Recipients"
+        type="text"
+        inputMode="email"
+        autoComplete="off"
+        value={to}
+        onChange={(e) => setTo(e.target.value)}
+        hint="E-mail addresses, separated by commas or spaces (up to 10)"
+      />
       <TextAreaField
         id={`send-message-${heatNo}`}
         label="Message (optional)"
@@ -329,7 +383,12 @@ export function ClaimHeatsCard({ claim, canExport, canSend }: { claim: Claim; ca
                   <TraceLink q={heatNo} label="Open the trace" testId="heat-trace" />
                   {canExport ? (
                     <>
-                      <HistoryWorkbookButton heatNo={heatNo} label="Customer's history (.xlsx)" testId="heat-workbook" edition={{ ...CUSTOMER_DEFAULT, claim: claim.id }} />
+                      <HistoryWorkbookButton
+                        heatNo={heatNo}
+                        label="Customer's history (.xlsx)"
+                        testId="heat-workbook"
+                        edition={{ ...CUSTOMER_DEFAULT, claim: claim.id }}
+                      />
                       <PrintableHistoryLink heatNo={heatNo} claimId={claim.id} label="Prepare the customer's history" />
                       {canSend ? (
                         <Button variant="secondary" onClick={() => setSending(heatNo)} disabled={sending === heatNo} data-testid="email-history">

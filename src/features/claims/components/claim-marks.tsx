@@ -17,7 +17,11 @@ const COLOR: Record<ClaimStatus, string> = {
  */
 export function ClaimStatusMark({ status }: { status: ClaimStatus }) {
   return (
-    <span className={`inline-flex items-center gap-1.5 whitespace-nowrap text-sm font-semibold ${COLOR[status]}`} data-status={status} data-testid="claim-status">
+    <span
+      className={`inline-flex items-center gap-1.5 whitespace-nowrap text-sm font-semibold ${COLOR[status]}`}
+      data-status={status}
+      data-testid="claim-status"
+    >
       <svg viewBox="0 0 16 16" className="h-4 w-4 shrink-0" aria-hidden>
         {status === "new" ? <path d="M8 1.8 14.2 8 8 14.2 1.8 8z" {...stroke} /> : null}
         {status === "under_review" ? (

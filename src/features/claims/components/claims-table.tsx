@@ -7,7 +7,12 @@ const link = "font-semibold text-strand-700 underline decoration-strand-300 unde
 const th = "px-2 py-2 text-left text-xs font-semibold uppercase tracking-wide text-ink-600";
 
 export function ClaimsTable({ items, empty = "No claim matches." }: { items: ClaimSummary[]; empty?: string }) {
-  if (!items.length) return <p className="px-2 text-sm text-ink-600" data-testid="claims-empty">{empty}</p>;
+  if (!items.length)
+    return (
+      <p className="px-2 text-sm text-ink-600" data-testid="claims-empty">
+        {empty}
+      </p>
+    );
   return (
     <div className="overflow-x-auto">
       <table className="w-full text-sm" data-testid="claims-table">
@@ -30,8 +35,12 @@ export function ClaimsTable({ items, empty = "No claim matches." }: { items: Cla
                   {c.claimNo}
                 </Link>
               </td>
-              <td className="px-2 py-2.5" data-field="customer">{c.customer}</td>
-              <td className="whitespace-nowrap px-2 py-2.5" data-field="receivedOn">{day(c.receivedOn)}</td>
+              <td className="px-2 py-2.5" data-field="customer">
+                {c.customer}
+              </td>
+              <td className="whitespace-nowrap px-2 py-2.5" data-field="receivedOn">
+                {day(c.receivedOn)}
+              </td>
               <td className="px-2 py-2.5" data-field="status">
                 <ClaimStatusMark status={c.status} />
               </td>
@@ -42,7 +51,9 @@ export function ClaimsTable({ items, empty = "No claim matches." }: { items: Cla
                   {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 1)}` : ""}
                 </div>
               </td>
-              <td className="px-2 py-2.5 text-right tabular-nums" data-field="slabs">{c.slabs}</td>
+              <td className="px-2 py-2.5 text-right tabular-nums" data-field="slabs">
+                {c.slabs}
+              </td>
               <td className="px-2 py-2.5 text-right tabular-nums" data-field="heats" title={c.heats.join(", ")}>
                 {c.heats.length}
               </td>

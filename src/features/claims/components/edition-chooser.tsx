@@ -1,4 +1,12 @@
-import { CUSTOMER_DEFAULT_SECTIONS, CUSTOMER_SECTIONS, EDITION_LABELS, HISTORY_EDITIONS, SECTION_LABELS, type CustomerSection, type HistoryEdition } from "@shared/api/claims";
+import {
+  CUSTOMER_DEFAULT_SECTIONS,
+  CUSTOMER_SECTIONS,
+  EDITION_LABELS,
+  HISTORY_EDITIONS,
+  SECTION_LABELS,
+  type CustomerSection,
+  type HistoryEdition,
+} from "@shared/api/claims";
 
 export type EditionValue = { edition: HistoryEdition; sections: CustomerSection[] };
 export const CUSTOMER_DEFAULT: EditionValue = { edition: "customer", sections: CUSTOMER_DEFAULT_SECTIONS };
@@ -29,7 +37,14 @@ export function EditionChooser({ value, onChange, name }: { value: EditionValue;
               key={e}
               className={`flex min-h-12 cursor-pointer items-start gap-2 rounded-md border-2 px-3 py-2 text-sm ${value.edition === e ? "border-strand-700 bg-strand-50" : "border-ink-200 bg-white"}`}
             >
-              <input type="radio" name={`${name}-edition`} value={e} className="mt-0.5 h-4 w-4" checked={value.edition === e} onChange={() => onChange({ ...value, edition: e })} />
+              <input
+                type="radio"
+                name={`${name}-edition`}
+                value={e}
+                className="mt-0.5 h-4 w-4"
+                checked={value.edition === e}
+                onChange={() => onChange({ ...value, edition: e })}
+              />
               <span>
                 <span className="font-semibold">{EDITION_LABELS[e]}</span>
                 <span className="block text-xs text-ink-600">{EDITION_HINTS[e]}</span>
@@ -51,7 +66,9 @@ export function EditionChooser({ value, onChange, name }: { value: EditionValue;
                   className="h-4 w-4"
                   checked={value.sections.includes(x)}
                   // Kept in the catalogue's order whatever the order of clicks.
-                  onChange={(ev) => onChange({ ...value, sections: CUSTOMER_SECTIONS.filter((c) => (c === x ? ev.target.checked : value.sections.includes(c))) })}
+                  onChange={(ev) =>
+                    onChange({ ...value, sections: CUSTOMER_SECTIONS.filter((c) => (c === x ? ev.target.checked : value.sections.includes(c))) })
+                  }
                 />
                 <span>
                   {SECTION_LABELS[x]}

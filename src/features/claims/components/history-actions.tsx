@@ -30,7 +30,13 @@ export function HistoryWorkbookButton({
         </svg>
         {exp.isPending ? "Preparing the workbook…" : label}
       </Button>
-      {exp.progress ? <ProgressBar label="Downloading" value={exp.progress.fraction} detail={exp.progress.loaded ? bytes(exp.progress.loaded) : "the server is building it"} /> : null}
+      {exp.progress ? (
+        <ProgressBar
+          label="Downloading"
+          value={exp.progress.fraction}
+          detail={exp.progress.loaded ? bytes(exp.progress.loaded) : "the server is building it"}
+        />
+      ) : null}
       {exp.isError ? <Notice tone="error">{exp.error.message}</Notice> : null}
       {exp.isSuccess ? (
         <span className="text-xs text-ink-600" role="status" data-testid={`${testId}-done`}>
@@ -54,7 +60,11 @@ export function PrintableHistoryLink({
   claimId?: number;
 }) {
   return (
-    <Link to={`/heats/${encodeURIComponent(heatNo)}/history${claimId ? `?edition=customer&claim=${claimId}` : ""}`} className={`${secondaryLink} print:hidden`} data-testid={testId}>
+    <Link
+      to={`/heats/${encodeURIComponent(heatNo)}/history${claimId ? `?edition=customer&claim=${claimId}` : ""}`}
+      className={`${secondaryLink} print:hidden`}
+      data-testid={testId}
+    >
       <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden>
         <path d="M4 6V2h8v4M4 12H2V7h12v5h-2M4 10h8v4H4z" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" />
       </svg>

@@ -39,10 +39,15 @@ export function HistoryFacts({ history }: { history: HeatHistory }) {
   );
   return (
     <dl className="grid grid-cols-2 gap-x-6 gap-y-3 md:grid-cols-4" data-testid="history-facts">
-      <Fact label="Heat" testId="fact-heat">{h.heatNo}</Fact>
+      <Fact label="Heat" testId="fact-heat">
+        {h.heatNo}
+      </Fact>
       <Fact label="Sequence">{h.sequenceNo ? `${h.sequenceNo} (heat ${h.sequencePosition ?? "?"})` : DASH}</Fact>
       <Fact label="Grade">
-        {h.grade} <span className="text-sm font-normal text-ink-700">{h.gradeName} · {h.family}</span>
+        {h.grade}{" "}
+        <span className="text-sm font-normal text-ink-700">
+          {h.gradeName} · {h.family}
+        </span>
       </Fact>
       <Fact label="Caster">{h.caster}</Fact>
       <Fact label="Cast start">{dateTime(h.castStart)}</Fact>
@@ -58,12 +63,14 @@ export function HistoryFacts({ history }: { history: HeatHistory }) {
       ) : on("defects") ? (
         <Fact label="Defects">{history.defects.length}</Fact>
       ) : null}
-      {on("slabs") && on("dispositions") ? <div className="col-span-2 md:col-span-4">
-        <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">Slab dispositions</dt>
-        <dd className="mt-0.5 text-sm text-ink-900">
-          {dispositions.length ? dispositions.map(([d, n]) => `${dispositionLabel(d)}: ${n}`).join(" · ") : "none recorded"}
-        </dd>
-      </div> : null}
+      {on("slabs") && on("dispositions") ? (
+        <div className="col-span-2 md:col-span-4">
+          <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">Slab dispositions</dt>
+          <dd className="mt-0.5 text-sm text-ink-900">
+            {dispositions.length ? dispositions.map(([d, n]) => `${dispositionLabel(d)}: ${n}`).join(" · ") : "none recorded"}
+          </dd>
+        </div>
+      ) : null}
     </dl>
   );
 }
@@ -84,11 +91,15 @@ export function ConditionsTable({ history }: { history: HeatHistory }) {
       <tbody>
         {history.heat.conditions.map((c) => (
           <tr key={c.key} className="border-b border-ink-100" data-testid="condition-row" data-key={c.key}>
-            <td className={td} data-field="label">{c.label}</td>
+            <td className={td} data-field="label">
+              {c.label}
+            </td>
             <td className={`${td} text-right tabular-nums`} data-field="value">
               {withUnit(c.value, c.unit, c.unit === "m/min" ? 2 : c.unit === "mm" && c.key === "mold_level_sd_mm" ? 2 : 1)}
             </td>
-            <td className={`${td} text-ink-700`} data-field="source">{sourceWords(c.source)}</td>
+            <td className={`${td} text-ink-700`} data-field="source">
+              {sourceWords(c.source)}
+            </td>
           </tr>
         ))}
       </tbody>
@@ -110,8 +121,12 @@ export function ChemistryTable({ history }: { history: HeatHistory }) {
       <tbody>
         {shown.map((c) => (
           <tr key={c.key} className="border-b border-ink-100" data-testid="chemistry-row">
-            <td className={td} data-field="element">{c.element}</td>
-            <td className={`${td} text-right tabular-nums`} data-field="value">{withUnit(c.value, c.unit, c.unit === "ppm" ? 0 : 4)}</td>
+            <td className={td} data-field="element">
+              {c.element}
+            </td>
+            <td className={`${td} text-right tabular-nums`} data-field="value">
+              {withUnit(c.value, c.unit, c.unit === "ppm" ? 0 : 4)}
+            </td>
           </tr>
         ))}
       </tbody>
@@ -178,7 +193,11 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
                         {s.slabId}
                       </span>
                     ) : (
-                      <Link to={`/slabs/${encodeURIComponent(s.slabId)}`} className={`${link} inline-flex min-h-11 items-center whitespace-nowrap print:min-h-0`} data-field="slabId">
+                      <Link
+                        to={`/slabs/${encodeURIComponent(s.slabId)}`}
+                        className={`${link} inline-flex min-h-11 items-center whitespace-nowrap print:min-h-0`}
+                        data-field="slabId"
+                      >
                         {s.slabId}
                       </Link>
                     )}
@@ -196,8 +215,14 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
                   <td className={`${td} whitespace-nowrap text-right tabular-nums`}>
                     {num(s.thicknessMm)}×{num(s.widthMm)}×{num(s.lengthMm)}
                   </td>
-                  <td className={`${td} text-right tabular-nums`} data-field="weightT">{num(s.weightT, 2)}</td>
-                  {showDispositions ? <td className={td} data-field="disposition">{dispositionLabel(s.disposition)}</td> : null}
+                  <td className={`${td} text-right tabular-nums`} data-field="weightT">
+                    {num(s.weightT, 2)}
+                  </td>
+                  {showDispositions ? (
+                    <td className={td} data-field="disposition">
+                      {dispositionLabel(s.disposition)}
+                    </td>
+                  ) : null}
                   <td className={`${td} text-right tabular-nums ${s.defects ? "font-semibold" : "text-ink-500"}`} data-field="defects">
                     {s.defects}
                   </td>
@@ -254,7 +279,13 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
   return (
     <ul className="divide-y divide-ink-100" data-testid="history-defects">
       {history.defects.map((d) => (
-        <li key={d.id} className="grid gap-3 py-3 break-inside-avoid md:grid-cols-[1fr_auto]" data-testid="history-defect" data-defect-id={d.id} data-slab={d.slabId}>
+        <li
+          key={d.id}
+          className="grid gap-3 py-3 break-inside-avoid md:grid-cols-[1fr_auto]"
+          data-testid="history-defect"
+          data-defect-id={d.id}
+          data-slab={d.slabId}
+        >
           <div className="min-w-0 space-y-1">
             <div className="flex flex-wrap items-center gap-x-3 gap-y-1">
               <span className="font-bold" data-field="type">
@@ -285,7 +316,11 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
               {d.loggedBy ? ` by ${d.loggedBy}` : ""}
               {showDispositions ? (
                 <>
-                  {" "}· disposition <span className="font-semibold text-ink-900" data-field="disposition">{dispositionLabel(d.disposition)}</span>
+                  {" "}
+                  · disposition{" "}
+                  <span className="font-semibold text-ink-900" data-field="disposition">
+                    {dispositionLabel(d.disposition)}
+                  </span>
                 </>
               ) : null}
               {d.reviewStatus ? ` · ${reviewLabel(d.reviewStatus).toLowerCase()}` : ""}
@@ -301,7 +336,14 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
           {d.photos.length ? (
             <div className="flex flex-wrap items-start gap-2" data-testid="defect-photos">
               {d.photos.map((p, i) => {
-                const img = <img src={p.thumbUrl} alt={`Photo ${i + 1} of defect ${d.type} on slab ${d.slabId}`} loading="lazy" className="h-20 w-28 rounded object-cover print:h-24 print:w-32" />;
+                const img = (
+                  <img
+                    src={p.thumbUrl}
+                    alt={`Photo ${i + 1} of defect ${d.type} on slab ${d.slabId}`}
+                    loading="lazy"
+                    className="h-20 w-28 rounded object-cover print:h-24 print:w-32"
+                  />
+                );
                 return forCustomer ? (
                   <span key={p.id} className="block rounded border border-ink-200">
                     {img}
@@ -323,73 +365,95 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
 }
 
 /** Investigations and claims on this heat or another heat of its sequence, each saying which. */
-export function RelatedRecords({ history, excludeClaimId, show = "both" }: { history: HeatHistory; excludeClaimId?: number; show?: "both" | "investigations" | "claims" }) {
+export function RelatedRecords({
+  history,
+  excludeClaimId,
+  show = "both",
+}: {
+  history: HeatHistory;
+  excludeClaimId?: number;
+  show?: "both" | "investigations" | "claims";
+}) {
   const claims = history.claims.filter((c) => c.id !== excludeClaimId);
   return (
     <div className="grid gap-5 xl:grid-cols-2 print:grid-cols-1">
-      {show === "claims" ? null : <section>
-        {show === "both" ? <h3 className="mb-2 text-sm font-bold text-ink-900">Investigations ({history.investigations.length})</h3> : null}
-        {history.investigations.length ? (
-          <ul className="space-y-2" data-testid="history-investigations">
-            {history.investigations.map((i) => (
-              <li key={i.id} className="rounded-md border border-ink-200 px-3 py-2 text-sm break-inside-avoid" data-testid="history-investigation" data-ref={i.ref}>
-                <div className="flex flex-wrap items-center gap-x-3 gap-y-1">
-                  {history.edition.kind === "customer" ? (
-                    <span className="font-semibold">{i.ref}</span>
-                  ) : (
-                    <Link to={`/investigations/${i.id}`} className={link}>
-                      {i.ref}
+      {show === "claims" ? null : (
+        <section>
+          {show === "both" ? <h3 className="mb-2 text-sm font-bold text-ink-900">Investigations ({history.investigations.length})</h3> : null}
+          {history.investigations.length ? (
+            <ul className="space-y-2" data-testid="history-investigations">
+              {history.investigations.map((i) => (
+                <li
+                  key={i.id}
+                  className="rounded-md border border-ink-200 px-3 py-2 text-sm break-inside-avoid"
+                  data-testid="history-investigation"
+                  data-ref={i.ref}
+                >
+                  <div className="flex flex-wrap items-center gap-x-3 gap-y-1">
+                    {history.edition.kind === "customer" ? (
+                      <span className="font-semibold">{i.ref}</span>
+                    ) : (
+                      <Link to={`/investigations/${i.id}`} className={link}>
+                        {i.ref}
+                      </Link>
+                    )}
+                    {history.edition.kind === "customer" ? null : <SameHeatMark sameHeat={i.sameHeat} />}
+                    <span className="text-ink-700">{INVESTIGATION_STATUS_LABELS[i.status as keyof typeof INVESTIGATION_STATUS_LABELS] ?? i.status}</span>
+                  </div>
+                  <div className="text-ink-900">{i.title}</div>
+                  <div className="text-xs text-ink-600">
+                    opened {date(i.openedAt)}
+                    {i.closedAt ? ` · closed ${date(i.closedAt)}` : ""}
+                    {i.confirmedCause ? ` · confirmed cause: ${i.confirmedCause}` : ""}
+                    {i.owner ? ` · owner ${i.owner}` : ""}
+                  </div>
+                </li>
+              ))}
+            </ul>
+          ) : (
+            <p className="text-sm text-ink-600">No investigation looks at this heat or its sequence.</p>
+          )}
+        </section>
+      )}
+      {show === "investigations" ? null : (
+        <section>
+          {show === "both" ? (
+            <h3 className="mb-2 text-sm font-bold text-ink-900">
+              {excludeClaimId !== undefined ? "Other claims" : "Claims"} ({claims.length})
+            </h3>
+          ) : null}
+          {claims.length ? (
+            <ul className="space-y-2" data-testid="history-claims">
+              {claims.map((c) => (
+                <li
+                  key={c.id}
+                  className="rounded-md border border-ink-200 px-3 py-2 text-sm break-inside-avoid"
+                  data-testid="history-claim"
+                  data-claim-no={c.claimNo}
+                >
+                  <div className="flex flex-wrap items-center gap-x-3 gap-y-1">
+                    <Link to={`/claims/${c.id}`} className={link}>
+                      {c.claimNo}
                     </Link>
-                  )}
-                  {history.edition.kind === "customer" ? null : <SameHeatMark sameHeat={i.sameHeat} />}
-                  <span className="text-ink-700">{INVESTIGATION_STATUS_LABELS[i.status as keyof typeof INVESTIGATION_STATUS_LABELS] ?? i.status}</span>
-                </div>
-                <div className="text-ink-900">{i.title}</div>
-                <div className="text-xs text-ink-600">
-                  opened {date(i.openedAt)}
-                  {i.closedAt ? ` · closed ${date(i.closedAt)}` : ""}
-                  {i.confirmedCause ? ` · confirmed cause: ${i.confirmedCause}` : ""}
-                  {i.owner ? ` · owner ${i.owner}` : ""}
-                </div>
-              </li>
-            ))}
-          </ul>
-        ) : (
-          <p className="text-sm text-ink-600">No investigation looks at this heat or its sequence.</p>
-        )}
-      </section>}
-      {show === "investigations" ? null : <section>
-        {show === "both" ? (
-          <h3 className="mb-2 text-sm font-bold text-ink-900">
-            {excludeClaimId !== undefined ? "Other claims" : "Claims"} ({claims.length})
-          </h3>
-        ) : null}
-        {claims.length ? (
-          <ul className="space-y-2" data-testid="history-claims">
-            {claims.map((c) => (
-              <li key={c.id} className="rounded-md border border-ink-200 px-3 py-2 text-sm break-inside-avoid" data-testid="history-claim" data-claim-no={c.claimNo}>
-                <div className="flex flex-wrap items-center gap-x-3 gap-y-1">
-                  <Link to={`/claims/${c.id}`} className={link}>
-                    {c.claimNo}
-                  </Link>
-                  <SameHeatMark sameHeat={c.sameHeat} />
-                  {c.status in CLAIM_STATUS_LABELS ? <ClaimStatusMark status={c.status as ClaimStatus} /> : <span>{c.status}</span>}
-                </div>
-                <div className="text-ink-900">
-                  {c.customer} · received {day(c.receivedOn)}
-                  {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 1)}` : ""}
-                </div>
-                <div className="text-xs text-ink-600">
-                  {c.defectComplained}
-                  {c.slabs.length ? ` · slabs of this heat: ${c.slabs.join(", ")}` : ""}
-                </div>
-              </li>
-            ))}
-          </ul>
-        ) : (
-          <p className="text-sm text-ink-600">No {excludeClaimId !== undefined ? "other " : ""}claim on this heat or its sequence.</p>
-        )}
-      </section>}
+                    <SameHeatMark sameHeat={c.sameHeat} />
+                    {c.status in CLAIM_STATUS_LABELS ? <ClaimStatusMark status={c.status as ClaimStatus} /> : <span>{c.status}</span>}
+                  </div>
+                  <div className="text-ink-900">
+                    {c.customer} · received {day(c.receivedOn)}
+                    {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 1)}` : ""}
+                  </div>
+                  <div className="text-xs text-ink-600">
+                    {c.defectComplained}
+                    {c.slabs.length ? ` · slabs of this heat: ${c.slabs.join(", ")}` : ""}
+                  </div>
+                </li>
+              ))}
+            </ul>
+          ) : (
+            <p className="text-sm text-ink-600">No {excludeClaimId !== undefined ? "other " : ""}claim on this heat or its sequence.</p>
+          )}
+        </section>
+      )}
     </div>
   );
 }
@@ -400,34 +464,34 @@ export function SlabConditionsTable({ history }: { history: HeatHistory }) {
   const labelOf = (k: string) => history.heat.conditions.find((c) => c.key === k);
   return (
     <div className="space-y-2">
-    <table className="w-full text-sm" data-testid="history-slab-conditions">
-      <thead>
-        <tr className="border-b-2 border-ink-200">
-          <th className={th}>Slab</th>
-          {keys.map((k) => (
-            <th key={k} className={`${th} text-right`}>
-              {labelOf(k)?.label ?? k} {labelOf(k)?.unit ? `(${labelOf(k)!.unit})` : ""}
-            </th>
-          ))}
-        </tr>
-      </thead>
-      <tbody>
-        {history.slabs.map((s) => (
-          <tr key={s.slabId} className="border-b border-ink-100">
-            <td className={`${td} whitespace-nowrap font-semibold`}>{s.slabId}</td>
-            {s.conditions.map((c) => (
-              <td key={c.key} className={`${td} text-right`}>
-                <span className="inline-flex flex-col items-end leading-tight">
-                  <span className="tabular-nums">{num(c.value, c.key === "casting_speed_m_min" || c.key === "mold_level_sd_mm" ? 2 : 1)}</span>
-                  <SourceMark source={c.source as ConditionSource | null} />
-                </span>
-              </td>
+      <table className="w-full text-sm" data-testid="history-slab-conditions">
+        <thead>
+          <tr className="border-b-2 border-ink-200">
+            <th className={th}>Slab</th>
+            {keys.map((k) => (
+              <th key={k} className={`${th} text-right`}>
+                {labelOf(k)?.label ?? k} {labelOf(k)?.unit ? `(${labelOf(k)!.unit})` : ""}
+              </th>
             ))}
           </tr>
-        ))}
-      </tbody>
-    </table>
-    <SourceLegend />
+        </thead>
+        <tbody>
+          {history.slabs.map((s) => (
+            <tr key={s.slabId} className="border-b border-ink-100">
+              <td className={`${td} whitespace-nowrap font-semibold`}>{s.slabId}</td>
+              {s.conditions.map((c) => (
+                <td key={c.key} className={`${td} text-right`}>
+                  <span className="inline-flex flex-col items-end leading-tight">
+                    <span className="tabular-nums">{num(c.value, c.key === "casting_speed_m_min" || c.key === "mold_level_sd_mm" ? 2 : 1)}</span>
+                    <SourceMark source={c.source as ConditionSource | null} />
+                  </span>
+                </td>
+              ))}
+            </tr>
+          ))}
+        </tbody>
+      </table>
+      <SourceLegend />
     </div>
   );
 }
@@ -486,7 +550,9 @@ export function AuditTable({ history }: { history: HeatHistory }) {
           <tr key={i} className="border-b border-ink-100" data-testid="audit-row">
             <td className={`${td} whitespace-nowrap`}>{dateTime(a.at)}</td>
             {withWho ? <td className={td}>{a.by ?? "the system"}</td> : null}
-            <td className={`${td} break-words`} data-field="what">{a.what}</td>
+            <td className={`${td} break-words`} data-field="what">
+              {a.what}
+            </td>
           </tr>
         ))}
       </tbody>
@@ -499,7 +565,8 @@ export function SamplesLine({ history }: { history: HeatHistory }) {
   return (
     <p className="text-sm text-ink-800" data-testid="history-samples">
       {plural(history.samples.count, "process sample")} in the cast window
-      {history.samples.strands.length ? ` on strand${history.samples.strands.length === 1 ? "" : "s"} ${history.samples.strands.join(", ")}` : ""}; the workbook lists them one by one.
+      {history.samples.strands.length ? ` on strand${history.samples.strands.length === 1 ? "" : "s"} ${history.samples.strands.join(", ")}` : ""}; the workbook
+      lists them one by one.
     </p>
   );
 }

@@ -9,7 +9,14 @@ import { friendlyErrors } from "@/lib/form-errors";
 import { useCreateClaim } from "../api/claims.queries";
 
 /** Ids as a person types or pastes them: commas, spaces, semicolons or new lines between. */
-export const idList = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim().toUpperCase()).filter(Boolean))];
+export const idList = (text: string) => [
+  ...new Set(
+    text
+      .split(/[\s,;]+/)
+      .map((s) => s.trim().toUpperCase())
+      .filter(Boolean),
+  ),
+];
 
 /** A quantity as typed: empty is none; a decimal comma is a decimal point. */
 const toNumber = (s: string) => (s.trim() === "" ? null : Number(s.trim().replace(",", ".")));
@@ -24,12 +31,10 @@ const formSchema = z.object({
     .refine((s) => idList(s).every((id) => id.length <= 40), "An id is at most 40 characters."),
   receivedOn: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "Give the date received."),
   defectComplained: z.string().trim().min(2, "Say what the customer complains of.").max(500),
-  quantity: z
-    .string()
-    .refine((s) => {
-      const n = toNumber(s);
-      return n === null || (Number.isFinite(n) && n >= 0 && n <= 100_000);
-    }, "Give the quantity in tonnes, a number from 0 to 100 000, or leave it empty."),
+  quantity: z.string().refine((s) => {
+    const n = toNumber(s);
+    return n === null || (Number.isFinite(n) && n >= 0 && n <= 100_000);
+  }, "Give the quantity in tonnes, a number from 0 to 100 000, or leave it empty."),
   notes: z.string().max(5000),
   linkTraced: z.boolean(),
 });
@@ -41,7 +46,16 @@ export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { on
   const create = useCreateClaim();
   const form = useForm<FormValues>({
     resolver: zodResolver(formSchema, friendlyErrors),
-    defaultValues: { claimNo: "", customer: "", products: initialProducts, receivedOn: todayInput(), defectComplained: "", quantity: "", notes: "", linkTraced: true },
+    defaultValues: {
+      claimNo: "",
+      customer: "",
+      products: initialProducts,
+      receivedOn: todayInput(),
+      defectComplained: "",
+      quantity: "",
+      notes: "",
+      linkTraced: true,
+    },
   });
   const e = form.formState.errors;
   // The server's word on one field (a claim number already taken) shows under that field too.
@@ -68,10 +82,22 @@ export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { on
       busyLabel="Recording…"
     >
       <div className="grid gap-4 md:grid-cols-2">
-        <TextField label="Claim number" {...form.register("claimNo")} error={e.claimNo?.message ?? (field === "claimNo" ? create.error?.message : undefined)} placeholder="the customer's or your own reference" autoCapitalize="characters" />
+        <TextField
+          label="Claim number"
+          {...form.register("claimNo")}
+          error={e.claimNo?.message ?? (field === "claimNo" ? create.error?.message : undefined)}
+          placeholder="the customer's or your own reference"
+          autoCapitalize="characters"
+        />
         <TextField label="Customer" {...form.register("customer")} error={e.customer?.message} />
         <TextField label="Received on" type="date" {...form.register("receivedOn")} error={e.receivedOn?.message} />
-        <TextField label="Quantity (t)" inputMode="decimal" {...form.register("quantity")} error={e.quantity?.message} hint="Tonnes claimed; leave empty if not known." />
+        <TextField
+          label="Quantity (t)"
+          inputMode="decimal"
+          {...form.register("quantity")}
+          error={e.quantity?.message}
+          hint="Tonnes claimed; leave empty if not known."
+        />
       </div>
       <TextAreaField
         id="claim-products"
@@ -89,7 +115,15 @@ export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { on
           <span className="font-semibold">Link the traced slabs</span> — each coil's or plate's slab is linked to the claim at once
         </span>
       </label>
-      <TextAreaField id="claim-defect" label="Defect complained of" rows={2} {...form.register("defectComplained")} className={areaClass} placeholder="What the customer found, where, how much" error={e.defectComplained?.message} />
+      <TextAreaField
+        id="claim-defect"
+        label="Defect complained of"
+        rows={2}
+        {...form.register("defectComplained")}
+        className={areaClass}
+        placeholder="What the customer found, where, how much"
+        error={e.defectComplained?.message}
+      />
       <TextAreaField id="claim-notes" label="Notes (optional)" rows={3} {...form.register("notes")} className={areaClass} error={e.notes?.message} />
     </RecordForm>
   );

@@ -1,12 +1,6 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
 import type { z } from "zod";
-import {
-  catalogueSchema,
-  defectCategoryInputSchema,
-  defectCategoryUpdateSchema,
-  defectTypeInputSchema,
-  defectTypeUpdateSchema,
-} from "@shared/api/defects";
+import { catalogueSchema, defectCategoryInputSchema, defectCategoryUpdateSchema, defectTypeInputSchema, defectTypeUpdateSchema } from "@shared/api/defects";
 import { api } from "@/lib/api-client";
 
 export const catalogueKeys = {
@@ -15,8 +9,7 @@ export const catalogueKeys = {
   list: (includeRetired = false) =>
     queryOptions({
       queryKey: [...catalogueKeys.all, { includeRetired }] as const,
-      queryFn: ({ signal }) =>
-        api("/defect-types", { query: includeRetired ? { includeRetired: true } : undefined, signal, schema: catalogueSchema }),
+      queryFn: ({ signal }) => api("/defect-types", { query: includeRetired ? { includeRetired: true } : undefined, signal, schema: catalogueSchema }),
       // The yard needs it when the Wi-Fi drops: keep it for the shift.
       staleTime: 5 * 60_000,
       gcTime: 24 * 60 * 60_000,
@@ -46,8 +39,7 @@ export function useUpdateType() {
 export function useCreateCategory() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: (input: z.input<typeof defectCategoryInputSchema>) =>
-      api("/defect-categories", { method: "POST", body: input }),
+    mutationFn: (input: z.input<typeof defectCategoryInputSchema>) => api("/defect-categories", { method: "POST", body: input }),
     onSuccess: () => invalidate(qc),
   });
 }

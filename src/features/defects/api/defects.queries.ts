@@ -1,11 +1,5 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
-import {
-  defectListSchema,
-  defectSchema,
-  type DefectListQuery,
-  type DefectReview,
-  type DefectUpdate,
-} from "@shared/api/defects";
+import { defectListSchema, defectSchema, type DefectListQuery, type DefectReview, type DefectUpdate } from "@shared/api/defects";
 import { api } from "@/lib/api-client";
 
 /** The list's filters as the client sends them (the schema's input types page and pageSize loosely). */
@@ -37,8 +31,7 @@ export const defectKeys = {
 export function useUpdateDefect() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, changes }: { id: number; changes: DefectUpdate }) =>
-      api(`/defects/${id}`, { method: "PATCH", body: changes }),
+    mutationFn: ({ id, changes }: { id: number; changes: DefectUpdate }) => api(`/defects/${id}`, { method: "PATCH", body: changes }),
     onSuccess: () => qc.invalidateQueries({ queryKey: defectKeys.all }),
   });
 }
@@ -62,8 +55,7 @@ export function useDeletePhoto() {
 export function useReviewDefect() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, review }: { id: number; review: DefectReview }) =>
-      api(`/defects/${id}/review`, { method: "POST", body: review, schema: defectSchema }),
+    mutationFn: ({ id, review }: { id: number; review: DefectReview }) => api(`/defects/${id}/review`, { method: "POST", body: review, schema: defectSchema }),
     onSuccess: () => qc.invalidateQueries({ queryKey: defectKeys.all }),
   });
 }

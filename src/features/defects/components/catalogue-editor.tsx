@@ -23,7 +23,19 @@ const message = (err: unknown) => (err instanceof ApiError || err instanceof Err
 
 const select = "min-h-11 rounded-md border border-ink-300 bg-white px-3 text-ink-900";
 
-function CategorySelect({ id, value, onChange, categories, label }: { id: string; value: string; onChange: (v: string) => void; categories: Category[]; label: string }) {
+function CategorySelect({
+  id,
+  value,
+  onChange,
+  categories,
+  label,
+}: {
+  id: string;
+  value: string;
+  onChange: (v: string) => void;
+  categories: Category[];
+  label: string;
+}) {
   return (
     <div className="flex flex-col gap-1">
       <label htmlFor={id} className="text-sm font-semibold text-ink-800">
@@ -62,10 +74,22 @@ function NewTypeForm({ categories }: { categories: Category[] }) {
     <form onSubmit={submit} noValidate className="space-y-3" aria-label="New defect type">
       {create.error && !(create.error instanceof ApiError && create.error.status === 409) ? <Notice tone="error">{message(create.error)}</Notice> : null}
       <div className="grid gap-3 sm:grid-cols-[minmax(0,7rem)_minmax(0,1fr)]">
-        <TextField label="Code" autoCapitalize="characters" {...form.register("code")} error={form.formState.errors.code?.message} hint="e.g. LFC; cannot change later" />
+        <TextField
+          label="Code"
+          autoCapitalize="characters"
+          {...form.register("code")}
+          error={form.formState.errors.code?.message}
+          hint="e.g. LFC; cannot change later"
+        />
         <TextField label="Name" {...form.register("name")} error={form.formState.errors.name?.message} />
       </div>
-      <CategorySelect id="new-type-category" label="Category" value={categoryCode} onChange={(v) => form.setValue("categoryCode", v)} categories={categories.filter((c) => c.active)} />
+      <CategorySelect
+        id="new-type-category"
+        label="Category"
+        value={categoryCode}
+        onChange={(v) => form.setValue("categoryCode", v)}
+        categories={categories.filter((c) => c.active)}
+      />
       <TextField label="Description (optional)" {...form.register("description")} error={form.formState.errors.description?.message} />
       <Button type="submit" disabled={form.formState.isSubmitting}>
         {form.formState.isSubmitting ? "Adding…" : "Add type"}
@@ -126,7 +150,11 @@ function TypeRow({ t, categories }: { t: DefectType; categories: Category[] }) {
   return (
     <li className="space-y-2 py-3" data-testid={`type-${t.code}`}>
       <div className="flex flex-wrap items-center gap-3">
-        <span className={`min-w-14 rounded px-1.5 py-1 text-center text-xs font-bold tracking-wider ${t.active ? "bg-ink-900 text-white" : "border border-ink-400 text-ink-600"}`}>{t.code}</span>
+        <span
+          className={`min-w-14 rounded px-1.5 py-1 text-center text-xs font-bold tracking-wider ${t.active ? "bg-ink-900 text-white" : "border border-ink-400 text-ink-600"}`}
+        >
+          {t.code}
+        </span>
         <span className="min-w-0 flex-1">
           <span className={`block font-semibold ${t.active ? "" : "text-ink-600 line-through decoration-1"}`}>{t.name}</span>
           {t.description ? <span className="block text-sm text-ink-600">{t.description}</span> : null}
@@ -194,7 +222,12 @@ function CategoryRow({ c, count }: { c: Category; count: number }) {
         <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-label={`Rename ${c.code}`}>
           Rename
         </Button>
-        <Button variant={c.active ? "ghost" : "secondary"} disabled={update.isPending} onClick={() => update.mutate({ code: c.code, changes: { active: !c.active } })} aria-label={`${c.active ? "Retire" : "Reactivate"} category ${c.code}`}>
+        <Button
+          variant={c.active ? "ghost" : "secondary"}
+          disabled={update.isPending}
+          onClick={() => update.mutate({ code: c.code, changes: { active: !c.active } })}
+          aria-label={`${c.active ? "Retire" : "Reactivate"} category ${c.code}`}
+        >
           {c.active ? "Retire" : "Reactivate"}
         </Button>
       </div>

@@ -46,13 +46,18 @@ export function ChoiceTiles<T extends string | number>({
               aria-label={c.name}
               onClick={() => onChange(c.value)}
               className={`relative flex min-h-14 flex-col items-start justify-center rounded-lg border-2 px-3 py-2 text-left text-base font-semibold transition-colors ${
-                on ? "border-strand-700 bg-strand-50 text-ink-950 shadow-[inset_0_0_0_1px_var(--color-strand-700)]" : "border-ink-300 bg-white text-ink-800 hover:border-ink-500"
+                on
+                  ? "border-strand-700 bg-strand-50 text-ink-950 shadow-[inset_0_0_0_1px_var(--color-strand-700)]"
+                  : "border-ink-300 bg-white text-ink-800 hover:border-ink-500"
               }`}
             >
               <span className="flex w-full items-center gap-2 pr-6">{c.label}</span>
               {c.hint ? <span className="text-xs font-normal text-ink-600">{c.hint}</span> : null}
               {on ? (
-                <span aria-hidden className="absolute right-2 top-2 flex h-5 w-5 items-center justify-center rounded-full bg-strand-700 text-xs font-bold text-white">
+                <span
+                  aria-hidden
+                  className="absolute right-2 top-2 flex h-5 w-5 items-center justify-center rounded-full bg-strand-700 text-xs font-bold text-white"
+                >
                   ✓
                 </span>
               ) : null}

@@ -97,8 +97,7 @@ export function buildDefect(
   const p = draft.position;
   if (!p) errors.position = "Tap the drawing where the defect is.";
   else if (p.alongMm > slab.lengthMm) errors.position = `Along is at most the slab's length, ${num(slab.lengthMm)} mm.`;
-  else if (p.acrossMm > acrossLimit(slab, p.face))
-    errors.position = `Across is at most ${num(acrossLimit(slab, p.face))} mm on this face.`;
+  else if (p.acrossMm > acrossLimit(slab, p.face)) errors.position = `Across is at most ${num(acrossLimit(slab, p.face))} mm on this face.`;
   if (!draft.typeCode) errors.typeCode = "Choose the defect type.";
   if (!draft.severity) errors.severity = "Choose the severity.";
   if (!draft.disposition) errors.disposition = "Choose what happens to the slab.";

@@ -218,7 +218,17 @@ export function DefectForm({
   };
 
   const saveLabel =
-    mode.kind === "new" ? (saving ? "Saving…" : "Save defect") : mode.kind === "fix" ? (saving ? "Saving…" : "Save and send again") : saving ? "Saving…" : "Save changes";
+    mode.kind === "new"
+      ? saving
+        ? "Saving…"
+        : "Save defect"
+      : mode.kind === "fix"
+        ? saving
+          ? "Saving…"
+          : "Save and send again"
+        : saving
+          ? "Saving…"
+          : "Save changes";
 
   return (
     <div className="space-y-4">
@@ -325,7 +335,12 @@ export function DefectForm({
       {/* Sticky, not fixed: it docks at the end of the form, so nothing below it is ever covered. */}
       <div className="sticky bottom-0 z-20 -mx-4 border-t-2 border-ink-900 bg-white px-4 py-3 shadow-[0_-4px_16px_rgba(0,0,0,0.12)] md:mx-0 md:rounded-t-lg">
         {askRolled && rolled ? (
-          <div className="mb-3 space-y-3 rounded-md border-l-4 border-ember-600 bg-ember-50 px-4 py-3" role="alertdialog" aria-labelledby="rolled-question" data-testid="rolled-question">
+          <div
+            className="mb-3 space-y-3 rounded-md border-l-4 border-ember-600 bg-ember-50 px-4 py-3"
+            role="alertdialog"
+            aria-labelledby="rolled-question"
+            data-testid="rolled-question"
+          >
             <p id="rolled-question" className="text-base text-ink-900">
               <b>Already rolled.</b> {rolled} Log a slab-yard finding anyway?
             </p>

@@ -51,7 +51,11 @@ function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo:
   const [error, setError] = useState<string | null>(null);
   const uploading = photo.progress !== undefined;
   return (
-    <li className="flex items-center gap-3" data-testid="waiting-photo" data-photo-state={photo.photoId ? "sent" : photo.problem ? "refused" : uploading ? "uploading" : "waiting"}>
+    <li
+      className="flex items-center gap-3"
+      data-testid="waiting-photo"
+      data-photo-state={photo.photoId ? "sent" : photo.problem ? "refused" : uploading ? "uploading" : "waiting"}
+    >
       <BlobThumb blob={photo.blob} photoKey={`${entry.clientKey}/${photo.key}`} alt={`Photo ${index + 1} on the tablet`} className="h-14 w-14" />
       <div className="min-w-0 flex-1 space-y-1">
         {photo.photoId ? (
@@ -62,7 +66,11 @@ function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo:
             <Button
               variant="secondary"
               className="min-h-12"
-              onClick={() => getOutbox().removePhoto(entry.clientKey, photo.key).catch((e: Error) => setError(e.message))}
+              onClick={() =>
+                getOutbox()
+                  .removePhoto(entry.clientKey, photo.key)
+                  .catch((e: Error) => setError(e.message))
+              }
             >
               Remove this photo
             </Button>
@@ -111,7 +119,9 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
   const serverPhotos = d?.photos ?? [];
   const blocked = row.local.find((e) => e.state === "blocked" && e.blocked);
   const onTabletOnly = !d && main && main.defectId === null;
-  const editLink = d ? `/yard/slabs/${encodeURIComponent(row.slabId)}?edit=${d.id}` : `/yard/slabs/${encodeURIComponent(row.slabId)}?entry=${encodeURIComponent(main!.clientKey)}`;
+  const editLink = d
+    ? `/yard/slabs/${encodeURIComponent(row.slabId)}?edit=${d.id}`
+    : `/yard/slabs/${encodeURIComponent(row.slabId)}?entry=${encodeURIComponent(main!.clientKey)}`;
 
   const run = (p: Promise<unknown>) => p.catch((e: Error) => setError(e instanceof ApiError ? e.message : e.message));
 
@@ -126,9 +136,19 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
       <div className="flex gap-4">
         <div className="relative shrink-0">
           {serverPhotos[0] ? (
-            <img src={serverPhotos[0].thumbUrl} alt={`Photo of the defect on ${row.slabId}`} className="h-20 w-20 rounded-md border border-ink-300 object-cover" data-testid="entry-thumb" />
+            <img
+              src={serverPhotos[0].thumbUrl}
+              alt={`Photo of the defect on ${row.slabId}`}
+              className="h-20 w-20 rounded-md border border-ink-300 object-cover"
+              data-testid="entry-thumb"
+            />
           ) : localPhotos[0] ? (
-            <BlobThumb blob={localPhotos[0].photo.blob} photoKey={`${localPhotos[0].entry.clientKey}/${localPhotos[0].photo.key}`} alt={`Photo of the defect on ${row.slabId}, on the tablet`} className="h-20 w-20" />
+            <BlobThumb
+              blob={localPhotos[0].photo.blob}
+              photoKey={`${localPhotos[0].entry.clientKey}/${localPhotos[0].photo.key}`}
+              alt={`Photo of the defect on ${row.slabId}, on the tablet`}
+              className="h-20 w-20"
+            />
           ) : (
             <div className="flex h-20 w-20 items-center justify-center rounded-md border border-dashed border-ink-300 text-xs text-ink-500">no photo</div>
           )}
@@ -227,7 +247,10 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
                   (async () => {
                     await del.mutateAsync(d.id);
                     // Photos still waiting for it have nowhere to go.
-                    for (const e of row.local) await getOutbox().discard(e.clientKey).catch(() => undefined);
+                    for (const e of row.local)
+                      await getOutbox()
+                        .discard(e.clientKey)
+                        .catch(() => undefined);
                   })(),
                 )
               }
@@ -253,7 +276,12 @@ export function EntriesList({
   empty?: string;
 }) {
   const rows = mergeEntries(server, outbox.entries);
-  if (rows.length === 0) return <p className="text-base text-ink-600" data-testid="entries-empty">{empty}</p>;
+  if (rows.length === 0)
+    return (
+      <p className="text-base text-ink-600" data-testid="entries-empty">
+        {empty}
+      </p>
+    );
   return (
     <ul className="divide-y divide-ink-100" data-testid="entries">
       {rows.map((r) => (

@@ -24,7 +24,8 @@ function tooLarge(file: File): string {
  */
 export function photoProblem(file: File, beforeScaling = false): string | null {
   const heic = /\.(heic|heif)$/i.test(file.name) || /hei[cf]/i.test(file.type);
-  if (heic) return `${file.name}: HEIC photos cannot be read here. Set the camera to JPEG ("Most compatible"), or take the photo with this screen's camera button.`;
+  if (heic)
+    return `${file.name}: HEIC photos cannot be read here. Set the camera to JPEG ("Most compatible"), or take the photo with this screen's camera button.`;
   if (file.type && !ACCEPTED.includes(file.type)) return `${file.name}: only JPEG, PNG or WebP photos.`;
   if (file.size > PHOTO_MAX_BYTES && !(beforeScaling && SCALED_TYPES.includes(file.type))) return tooLarge(file);
   return null;
@@ -62,7 +63,11 @@ export function BlobThumb({ blob, photoKey, alt, className = "h-20 w-20" }: { bl
       if (u) URL.revokeObjectURL(u);
     };
   }, [identity]);
-  return url ? <img src={url} alt={alt} className={`${className} rounded-md border border-ink-300 object-cover`} /> : <div className={`${className} rounded-md bg-ink-100`} />;
+  return url ? (
+    <img src={url} alt={alt} className={`${className} rounded-md border border-ink-300 object-cover`} />
+  ) : (
+    <div className={`${className} rounded-md bg-ink-100`} />
+  );
 }
 
 /**
@@ -101,20 +106,22 @@ export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPh
     });
 
   const makeSmaller = (photo: LocalPhoto) => {
-    queue.current = queue.current.then(async () => {
-      // Saved or removed meanwhile: nothing left to do.
-      if (!mounted.current || !latest.current.some((p) => p.key === photo.key)) return done(photo.key);
-      const result = await scalePhotoForUpload(photo.file);
-      done(photo.key);
-      if (!mounted.current || !latest.current.some((p) => p.key === photo.key)) return;
-      if (result.file.size > PHOTO_MAX_BYTES) {
-        // Still over the limit even smaller: said now rather than refused by the server later.
-        setProblems((ps) => [...ps, tooLarge(result.file)]);
-        emit(latest.current.filter((p) => p.key !== photo.key));
-      } else if (result.scaled) {
-        emit(latest.current.map((p) => (p.key === photo.key ? { key: p.key, file: result.file } : p)));
-      }
-    }).catch(() => done(photo.key));
+    queue.current = queue.current
+      .then(async () => {
+        // Saved or removed meanwhile: nothing left to do.
+        if (!mounted.current || !latest.current.some((p) => p.key === photo.key)) return done(photo.key);
+        const result = await scalePhotoForUpload(photo.file);
+        done(photo.key);
+        if (!mounted.current || !latest.current.some((p) => p.key === photo.key)) return;
+        if (result.file.size > PHOTO_MAX_BYTES) {
+          // Still over the limit even smaller: said now rather than refused by the server later.
+          setProblems((ps) => [...ps, tooLarge(result.file)]);
+          emit(latest.current.filter((p) => p.key !== photo.key));
+        } else if (result.scaled) {
+          emit(latest.current.map((p) => (p.key === photo.key ? { key: p.key, file: result.file } : p)));
+        }
+      })
+      .catch(() => done(photo.key));
   };
 
   const add = (list: FileList | null) => {

@@ -18,7 +18,12 @@ export function PhotoStrip({ photos, size = "h-28 w-28", label }: { photos: Phot
       <ul className="flex flex-wrap gap-2" aria-label={label}>
         {photos.map((p, i) => (
           <li key={p.id}>
-            <button type="button" onClick={() => setOpen(i)} className="block rounded-md focus-visible:outline-4" aria-label={`Open photo ${i + 1} of ${photos.length}`}>
+            <button
+              type="button"
+              onClick={() => setOpen(i)}
+              className="block rounded-md focus-visible:outline-4"
+              aria-label={`Open photo ${i + 1} of ${photos.length}`}
+            >
               <img src={p.thumbUrl} alt="" className={`${size} rounded-md border border-ink-300 object-cover`} data-testid="photo-thumb" />
             </button>
           </li>

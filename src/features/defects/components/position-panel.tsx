@@ -53,7 +53,8 @@ function MmStepper({
   const [text, setText] = useState(String(value));
   useEffect(() => setText(String(value)), [value]);
   const set = (v: number) => onChange(Math.min(max, Math.max(0, Math.round(v))));
-  const btn = "min-h-14 min-w-14 rounded-lg border-2 border-ink-300 bg-white px-2 text-base font-bold tabular-nums text-ink-900 hover:border-ink-500 active:bg-ink-100";
+  const btn =
+    "min-h-14 min-w-14 rounded-lg border-2 border-ink-300 bg-white px-2 text-base font-bold tabular-nums text-ink-900 hover:border-ink-500 active:bg-ink-100";
   const [small, big] = steps;
   return (
     <div>
@@ -149,8 +150,8 @@ export function PositionPanel({
         <>
           <p className="rounded-md bg-ink-900 px-3 py-2 text-base font-semibold text-white" data-testid="position-readout" aria-live="polite">
             {value.face === "section" ? "Cross-section" : FACE_CHOICES.find((c) => c.face === value.face)!.short + " face"} ·{" "}
-            <span data-testid="readout-along">{num(value.alongMm)}</span> mm from the head end ·{" "}
-            <span data-testid="readout-across">{num(value.acrossMm)}</span> mm {acrossFrom(value.face)}
+            <span data-testid="readout-along">{num(value.alongMm)}</span> mm from the head end · <span data-testid="readout-across">{num(value.acrossMm)}</span>{" "}
+            mm {acrossFrom(value.face)}
           </p>
           <div className="grid gap-3 md:grid-cols-2">
             <MmStepper

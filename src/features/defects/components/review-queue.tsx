@@ -88,10 +88,20 @@ function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType
         <Button size="lg" disabled={review.isPending} onClick={() => void send({ decision: "confirm" }, `Confirmed: ${what}.`)}>
           ✓ Confirm as logged
         </Button>
-        <Button size="lg" variant={panel === "correct" ? "primary" : "secondary"} aria-expanded={panel === "correct"} onClick={() => setPanel(panel === "correct" ? "none" : "correct")}>
+        <Button
+          size="lg"
+          variant={panel === "correct" ? "primary" : "secondary"}
+          aria-expanded={panel === "correct"}
+          onClick={() => setPanel(panel === "correct" ? "none" : "correct")}
+        >
           Correct type or severity…
         </Button>
-        <Button size="lg" variant={panel === "reject" ? "danger" : "secondary"} aria-expanded={panel === "reject"} onClick={() => setPanel(panel === "reject" ? "none" : "reject")}>
+        <Button
+          size="lg"
+          variant={panel === "reject" ? "danger" : "secondary"}
+          aria-expanded={panel === "reject"}
+          onClick={() => setPanel(panel === "reject" ? "none" : "reject")}
+        >
           Reject…
         </Button>
       </div>
@@ -136,7 +146,12 @@ function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType
             onChange={(e) => setReason(e.target.value)}
             className="w-full rounded-lg border-2 border-ink-300 px-3 py-2"
           />
-          <Button variant="danger" size="lg" disabled={!reason.trim() || review.isPending} onClick={() => void send({ decision: "reject", note: reason.trim() }, `Rejected: ${what}.`)}>
+          <Button
+            variant="danger"
+            size="lg"
+            disabled={!reason.trim() || review.isPending}
+            onClick={() => void send({ decision: "reject", note: reason.trim() }, `Rejected: ${what}.`)}
+          >
             Reject the entry
           </Button>
         </div>
@@ -338,7 +353,9 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
                     {d.photos[0] ? (
                       <img src={d.photos[0].thumbUrl} alt="" className="h-12 w-12 shrink-0 rounded border border-ink-300 object-cover" />
                     ) : (
-                      <span className="flex h-12 w-12 shrink-0 items-center justify-center rounded border border-dashed border-ink-300 text-[10px] text-ink-500">no photo</span>
+                      <span className="flex h-12 w-12 shrink-0 items-center justify-center rounded border border-dashed border-ink-300 text-[10px] text-ink-500">
+                        no photo
+                      </span>
                     )}
                     <span className="min-w-0 flex-1">
                       <span className="block truncate text-sm font-semibold">
@@ -354,7 +371,9 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
             </ul>
             <div className="flex flex-wrap items-center justify-between gap-2 px-3 py-2 text-sm text-ink-700" data-testid="review-paging">
               <span>
-                {items.length < remaining ? `Showing ${items.length.toLocaleString("en-GB")} of ${remaining.toLocaleString("en-GB")}.` : `All ${remaining.toLocaleString("en-GB")} shown.`}
+                {items.length < remaining
+                  ? `Showing ${items.length.toLocaleString("en-GB")} of ${remaining.toLocaleString("en-GB")}.`
+                  : `All ${remaining.toLocaleString("en-GB")} shown.`}
               </span>
               {items.length < remaining && shown < 200 ? (
                 <Button variant="secondary" disabled={queue.isFetching} onClick={() => setShown((n) => Math.min(200, n + PAGE))}>

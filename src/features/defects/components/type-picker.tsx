@@ -97,7 +97,15 @@ export function TypePicker({
           hits.length ? (
             <div className="grid gap-2 sm:grid-cols-2">
               {hits.map((t) => (
-                <TypeTile key={t.code} t={t} on={t.code === value} onPick={() => { onChange(t.code); setQ(""); }} />
+                <TypeTile
+                  key={t.code}
+                  t={t}
+                  on={t.code === value}
+                  onPick={() => {
+                    onChange(t.code);
+                    setQ("");
+                  }}
+                />
               ))}
             </div>
           ) : (

@@ -8,15 +8,7 @@ type Families = PlantSetup["gradeFamilies"];
 const inputClass = "min-h-12 rounded-md border border-ink-300 bg-white px-3 text-ink-900 placeholder:text-ink-400";
 
 /** Search, grade or family, and a cast-date range. Each change goes to the address (and back to page 1). */
-export function HeatFilters({
-  value,
-  families,
-  onChange,
-}: {
-  value: HeatListParams;
-  families: Families;
-  onChange: (next: Partial<HeatListParams>) => void;
-}) {
+export function HeatFilters({ value, families, onChange }: { value: HeatListParams; families: Families; onChange: (next: Partial<HeatListParams>) => void }) {
   const [text, setText] = useState(value.q ?? "");
   const sent = useRef(value.q ?? "");
   // The address can change from outside (back button, a link): follow it, but never overwrite what is

@@ -4,7 +4,6 @@ import type { HeatDetail } from "@shared/api/heats";
 import { VARIABLES } from "@shared/variables";
 import { dateTime, num, withUnit } from "@/lib/format";
 
-
 const heatLink = (heatNo: string) => `/heats/${encodeURIComponent(heatNo)}`;
 
 /** Grade, caster, the heat's place in its sequence with the heats before and after it, cast times. */
@@ -33,7 +32,11 @@ export function HeatFacts({ heat }: { heat: HeatDetail }) {
       </dl>
       <nav aria-label="Sequence" className="flex flex-wrap items-center gap-3 rounded-md border border-ink-200 bg-ink-50 px-3 py-2">
         {heat.previousHeatNo ? (
-          <Link to={heatLink(heat.previousHeatNo)} className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-3 text-sm font-semibold text-strand-700 hover:bg-strand-50" rel="prev">
+          <Link
+            to={heatLink(heat.previousHeatNo)}
+            className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-3 text-sm font-semibold text-strand-700 hover:bg-strand-50"
+            rel="prev"
+          >
             ← {heat.previousHeatNo}
           </Link>
         ) : (
@@ -57,7 +60,11 @@ export function HeatFacts({ heat }: { heat: HeatDetail }) {
           )}
         </span>
         {heat.nextHeatNo ? (
-          <Link to={heatLink(heat.nextHeatNo)} className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-3 text-sm font-semibold text-strand-700 hover:bg-strand-50" rel="next">
+          <Link
+            to={heatLink(heat.nextHeatNo)}
+            className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-3 text-sm font-semibold text-strand-700 hover:bg-strand-50"
+            rel="next"
+          >
             {heat.nextHeatNo} →
           </Link>
         ) : (

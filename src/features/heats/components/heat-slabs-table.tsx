@@ -28,7 +28,9 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
         <table className="w-full text-sm" data-testid="heat-slabs">
           <thead>
             <tr className="border-b-2 border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
-              <th className="px-1 py-2 lg:px-2" title="strand and piece">Strand · piece</th>
+              <th className="px-1 py-2 lg:px-2" title="strand and piece">
+                Strand · piece
+              </th>
               <th className="px-1 py-2 lg:px-2">Slab</th>
               <th className="px-1 py-2 lg:px-2 text-right">T × W × L mm</th>
               <th className="px-1 py-2 lg:px-2 text-right">Weight t</th>
@@ -39,7 +41,9 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
               <th className="px-1 py-2 lg:px-2 text-right">Superheat °C</th>
               <th className="px-1 py-2 lg:px-2 text-right">Brake A</th>
               <th className="px-1 py-2 lg:px-2 text-right">
-                <abbr title="process samples cast while the slab passed the mold" className="no-underline">n</abbr>
+                <abbr title="process samples cast while the slab passed the mold" className="no-underline">
+                  n
+                </abbr>
               </th>
             </tr>
           </thead>
@@ -50,7 +54,10 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
                   {s.strandNo} · {s.pieceNo}
                 </td>
                 <td className="px-1 py-2 lg:px-2">
-                  <Link to={`/slabs/${encodeURIComponent(s.slabId)}`} className="whitespace-nowrap font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
+                  <Link
+                    to={`/slabs/${encodeURIComponent(s.slabId)}`}
+                    className="whitespace-nowrap font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+                  >
                     {s.slabId}
                   </Link>
                   {s.transition ? (

@@ -186,11 +186,7 @@ export function HeatsTable({
         <div className="flex flex-wrap items-center gap-2">
           <label className="flex items-center gap-2">
             <span className="text-ink-700">Per page</span>
-            <select
-              value={pageSize}
-              onChange={(e) => onPage(1, Number(e.target.value))}
-              className="min-h-11 rounded-md border border-ink-300 bg-white px-2"
-            >
+            <select value={pageSize} onChange={(e) => onPage(1, Number(e.target.value))} className="min-h-11 rounded-md border border-ink-300 bg-white px-2">
               {PAGE_SIZES.map((n) => (
                 <option key={n} value={n}>
                   {n}

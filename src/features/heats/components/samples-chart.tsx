@@ -31,7 +31,10 @@ const lineWords = (strands: number[]) =>
     ? ""
     : strands.length === 1
       ? `One line: strand ${strands[0]}.`
-      : `${strands.map((n, i) => `${SERIES_LINE_TYPES[i % SERIES_LINE_TYPES.length]} strand ${n}`).join(", ").replace(/^./, (c) => c.toUpperCase())}.`;
+      : `${strands
+          .map((n, i) => `${SERIES_LINE_TYPES[i % SERIES_LINE_TYPES.length]} strand ${n}`)
+          .join(", ")
+          .replace(/^./, (c) => c.toUpperCase())}.`;
 
 export function SamplesChart({ samples }: { samples: HeatSamples }) {
   const [key, setKey] = useState<SeriesKey>("speed");

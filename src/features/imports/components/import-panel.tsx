@@ -141,8 +141,8 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
                   className="block w-full min-h-12 rounded-md border border-ink-300 bg-white text-sm file:mr-3 file:min-h-12 file:cursor-pointer file:border-0 file:bg-ink-800 file:px-4 file:font-semibold file:text-white"
                 />
                 <p className="text-xs text-ink-600">
-                  Up to {bytes(IMPORT_MAX_BYTES)} and {IMPORT_LIMITS.rows.toLocaleString("en-GB")} rows. The first row holds the column headers (see the list of columns). The file is checked as soon as you pick it; nothing is
-                  written until you confirm.
+                  Up to {bytes(IMPORT_MAX_BYTES)} and {IMPORT_LIMITS.rows.toLocaleString("en-GB")} rows. The first row holds the column headers (see the list of
+                  columns). The file is checked as soon as you pick it; nothing is written until you confirm.
                 </p>
               </div>
               {file ? (
@@ -153,7 +153,13 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
               {sending ? (
                 <div className="space-y-2" data-testid="import-progress">
                   <ProgressBar
-                    label={sending.progress?.sent ? (sending.dryRun ? "Checking the rows on the server" : "Importing the rows") : `Uploading ${file?.name ?? "the file"}`}
+                    label={
+                      sending.progress?.sent
+                        ? sending.dryRun
+                          ? "Checking the rows on the server"
+                          : "Importing the rows"
+                        : `Uploading ${file?.name ?? "the file"}`
+                    }
                     value={sending.progress?.sent ? null : (sending.progress?.fraction ?? 0)}
                     detail={sending.progress && !sending.progress.sent ? `${bytes(sending.progress.loaded)} of ${bytes(sending.progress.total)}` : "one moment"}
                   />
@@ -202,8 +208,9 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
                 {final.status === "imported" ? (
                   <>
                     <Notice tone="ok" title="Imported">
-                      {final.result.fileName ?? "The file"}: {plural(final.result.counts.created, KINDS[kind].one, KINDS[kind].many)} created, {final.result.counts.updated} updated,{" "}
-                      {final.result.counts.unchanged} unchanged; conditions of {plural(final.result.slabsResolved, "slab")} recomputed.
+                      {final.result.fileName ?? "The file"}: {plural(final.result.counts.created, KINDS[kind].one, KINDS[kind].many)} created,{" "}
+                      {final.result.counts.updated} updated, {final.result.counts.unchanged} unchanged; conditions of{" "}
+                      {plural(final.result.slabsResolved, "slab")} recomputed.
                     </Notice>
                     <ImportCounts result={final.result} real />
                     {kind === "heats" || kind === "slabs" ? (
@@ -236,7 +243,8 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
               <span aria-hidden>⤓</span> Download the {KINDS[kind].label.toLowerCase()} template (.xlsx)
             </a>
             <p className="text-xs text-ink-600">
-              Headers match whatever their case; the unit is part of the name. The template's second sheet describes each column. Importing a row again updates it.
+              Headers match whatever their case; the unit is part of the name. The template's second sheet describes each column. Importing a row again updates
+              it.
             </p>
             <div className="max-h-[40rem] overflow-y-auto rounded-md border border-ink-100 px-3">
               <ImportColumns kind={kind} />

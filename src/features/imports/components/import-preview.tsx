@@ -8,8 +8,16 @@ export function ImportCounts({ result, real }: { result: ImportResult; real: boo
   return (
     <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="import-counts">
       <Stat label="Rows in the file" value={result.rows.toLocaleString("en-GB")} />
-      <Stat label={real ? "Created" : "Would create"} note={note} value={<span data-testid="count-created">{result.counts.created.toLocaleString("en-GB")}</span>} />
-      <Stat label={real ? "Updated" : "Would update"} note={note} value={<span data-testid="count-updated">{result.counts.updated.toLocaleString("en-GB")}</span>} />
+      <Stat
+        label={real ? "Created" : "Would create"}
+        note={note}
+        value={<span data-testid="count-created">{result.counts.created.toLocaleString("en-GB")}</span>}
+      />
+      <Stat
+        label={real ? "Updated" : "Would update"}
+        note={note}
+        value={<span data-testid="count-updated">{result.counts.updated.toLocaleString("en-GB")}</span>}
+      />
       <Stat label="Unchanged" note={note} value={<span data-testid="count-unchanged">{result.counts.unchanged.toLocaleString("en-GB")}</span>} />
     </div>
   );

@@ -18,7 +18,19 @@ export type TagOption = { code: string; name: string; group: string };
 const inputClass = "min-h-11 w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
 const link = "font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2";
 
-function TagSelect({ tags, value, onChange, id, emptyLabel }: { tags: TagOption[]; value: string; onChange: (v: string) => void; id: string; emptyLabel?: string }) {
+function TagSelect({
+  tags,
+  value,
+  onChange,
+  id,
+  emptyLabel,
+}: {
+  tags: TagOption[];
+  value: string;
+  onChange: (v: string) => void;
+  id: string;
+  emptyLabel?: string;
+}) {
   const groups = [...new Set(tags.map((t) => t.group))];
   return (
     <select id={id} value={value} onChange={(e) => onChange(e.target.value)} className={inputClass}>
@@ -66,7 +78,13 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
             <dt className="text-xs font-semibold uppercase text-ink-600">Owner</dt>
             <dd className="mt-1">
               {canManage && !closed ? (
-                <select aria-label="Owner" value={inv.owner?.id ?? ""} disabled={change.isPending} onChange={(e) => change.mutate({ method: "PATCH", path: "", body: { ownerId: e.target.value } })} className={inputClass}>
+                <select
+                  aria-label="Owner"
+                  value={inv.owner?.id ?? ""}
+                  disabled={change.isPending}
+                  onChange={(e) => change.mutate({ method: "PATCH", path: "", body: { ownerId: e.target.value } })}
+                  className={inputClass}
+                >
                   {inv.owner ? null : <option value="">No owner</option>}
                   <PersonOptions people={people} />
                 </select>
@@ -91,7 +109,11 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
       {canManage && !closed ? (
         <div className="mt-3 flex flex-wrap gap-2 border-t border-ink-100 pt-3">
           {inv.status === "open" ? (
-            <Button variant="secondary" disabled={change.isPending} onClick={() => change.mutate({ method: "PATCH", path: "", body: { status: "in_progress" } })}>
+            <Button
+              variant="secondary"
+              disabled={change.isPending}
+              onClick={() => change.mutate({ method: "PATCH", path: "", body: { status: "in_progress" } })}
+            >
               Mark as under way
             </Button>
           ) : (
@@ -232,7 +254,10 @@ export function ParticipantsCard({ inv, canManage, people }: { inv: Investigatio
 
 export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; canManage: boolean; tags: TagOption[] }) {
   const change = useInvestigationChange(inv.id);
-  const add = useAddRow(change, { statement: "", causeTag: "" }, (v) => ({ path: "/hypotheses", body: { statement: v.statement.trim(), causeTag: v.causeTag || null } }));
+  const add = useAddRow(change, { statement: "", causeTag: "" }, (v) => ({
+    path: "/hypotheses",
+    body: { statement: v.statement.trim(), causeTag: v.causeTag || null },
+  }));
   const open = canManage && inv.status !== "closed";
   return (
     <Card title={`Hypotheses (${inv.hypotheses.length})`}>
@@ -243,23 +268,37 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
               <li key={h.id} className="flex flex-wrap items-center gap-x-4 gap-y-2 py-2" data-testid="hypothesis">
                 <div className="min-w-56 flex-1">
                   <div className="text-sm text-ink-900">{h.statement}</div>
-                  <div className="text-xs text-ink-600">{h.causeTagName ? `cause tag: ${h.causeTagName}` : "no cause tag"} · {date(h.createdAt)}</div>
+                  <div className="text-xs text-ink-600">
+                    {h.causeTagName ? `cause tag: ${h.causeTagName}` : "no cause tag"} · {date(h.createdAt)}
+                  </div>
                 </div>
                 <HypothesisStatusMark status={h.status} />
                 {open ? (
                   <div className="flex flex-wrap gap-2">
                     {h.status !== "supported" ? (
-                      <Button variant="secondary" disabled={change.isPending} onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "supported" } })}>
+                      <Button
+                        variant="secondary"
+                        disabled={change.isPending}
+                        onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "supported" } })}
+                      >
                         Supported
                       </Button>
                     ) : null}
                     {h.status !== "rejected" ? (
-                      <Button variant="secondary" disabled={change.isPending} onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "rejected" } })}>
+                      <Button
+                        variant="secondary"
+                        disabled={change.isPending}
+                        onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "rejected" } })}
+                      >
                         Rule out
                       </Button>
                     ) : null}
                     {h.status !== "open" ? (
-                      <Button variant="ghost" disabled={change.isPending} onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "open" } })}>
+                      <Button
+                        variant="ghost"
+                        disabled={change.isPending}
+                        onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "open" } })}
+                      >
                         Not yet tested
                       </Button>
                     ) : null}
@@ -294,7 +333,12 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
 export function ActionsCard({ inv, canManage, people }: { inv: Investigation; canManage: boolean; people: Person[] }) {
   const change = useInvestigationChange(inv.id);
   // The owner stays chosen for the next action.
-  const add = useAddRow(change, { description: "", ownerId: "", dueOn: "" }, (v) => ({ path: "/actions", body: { description: v.description.trim(), ownerId: v.ownerId, dueOn: v.dueOn } }), ["ownerId"]);
+  const add = useAddRow(
+    change,
+    { description: "", ownerId: "", dueOn: "" },
+    (v) => ({ path: "/actions", body: { description: v.description.trim(), ownerId: v.ownerId, dueOn: v.dueOn } }),
+    ["ownerId"],
+  );
   const { description, ownerId, dueOn } = add.values;
   const open = canManage && inv.status !== "closed";
   return (
@@ -303,7 +347,12 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
         {inv.actionList.length ? (
           <ul className="divide-y divide-ink-100" data-testid="actions">
             {inv.actionList.map((a) => (
-              <li key={a.id} className={`flex flex-wrap items-center gap-x-4 gap-y-2 py-2 ${a.overdue ? "border-l-4 border-alarm-700 pl-2" : ""}`} data-testid="action" data-overdue={a.overdue ? "true" : "false"}>
+              <li
+                key={a.id}
+                className={`flex flex-wrap items-center gap-x-4 gap-y-2 py-2 ${a.overdue ? "border-l-4 border-alarm-700 pl-2" : ""}`}
+                data-testid="action"
+                data-overdue={a.overdue ? "true" : "false"}
+              >
                 <div className="min-w-56 flex-1">
                   <div className="text-sm text-ink-900">{a.description}</div>
                   <div className="text-xs text-ink-600">
@@ -350,7 +399,12 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
                 <PersonOptions people={people} />
               </select>
             </div>
-            <TextField label="Due on" type="date" {...add.bind("dueOn")} hint={dueOn && dueOn < todayInput() ? "This date has passed: the action shows as overdue." : undefined} />
+            <TextField
+              label="Due on"
+              type="date"
+              {...add.bind("dueOn")}
+              hint={dueOn && dueOn < todayInput() ? "This date has passed: the action shows as overdue." : undefined}
+            />
             <Button type="submit" variant="secondary" className="self-end" disabled={change.isPending || description.trim().length === 0 || !ownerId || !dueOn}>
               Add
             </Button>
@@ -364,7 +418,9 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
 
 export function InvestigationAttachmentsCard({ inv, canManage }: { inv: Investigation; canManage: boolean }) {
   const upload = useUploadAttachments(inv.id);
-  return <AttachmentsCard attachments={inv.attachments} upload={upload} canUpload={canManage && inv.status !== "closed"} hint="Attach files (up to 5, 20 MB each)" />;
+  return (
+    <AttachmentsCard attachments={inv.attachments} upload={upload} canUpload={canManage && inv.status !== "closed"} hint="Attach files (up to 5, 20 MB each)" />
+  );
 }
 
 export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption[] }) {

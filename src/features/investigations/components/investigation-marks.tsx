@@ -10,7 +10,11 @@ const stroke = { fill: "none", stroke: "currentColor", strokeWidth: 1.8, strokeL
 export function InvestigationStatusMark({ status }: { status: IStatus }) {
   const color = status === "closed" ? "text-ink-700" : status === "in_progress" ? "text-strand-800" : "text-brass-700";
   return (
-    <span className={`inline-flex items-center gap-1.5 whitespace-nowrap text-sm font-semibold ${color}`} data-status={status} data-testid="investigation-status">
+    <span
+      className={`inline-flex items-center gap-1.5 whitespace-nowrap text-sm font-semibold ${color}`}
+      data-status={status}
+      data-testid="investigation-status"
+    >
       <svg viewBox="0 0 16 16" className="h-4 w-4 shrink-0" aria-hidden>
         {status === "open" ? <circle cx="8" cy="8" r="6" {...stroke} /> : null}
         {status === "in_progress" ? (

@@ -6,7 +6,12 @@ import { InvestigationStatusMark, OverdueMark } from "./investigation-marks";
 const th = "px-2 py-2 text-left text-xs font-semibold text-ink-700";
 
 export function InvestigationsTable({ items, empty = "No investigation matches." }: { items: InvestigationSummary[]; empty?: string }) {
-  if (items.length === 0) return <p className="text-sm text-ink-600" data-testid="no-investigations">{empty}</p>;
+  if (items.length === 0)
+    return (
+      <p className="text-sm text-ink-600" data-testid="no-investigations">
+        {empty}
+      </p>
+    );
   return (
     <div className="overflow-x-auto">
       <table className="w-full text-sm" data-testid="investigations">
@@ -25,7 +30,11 @@ export function InvestigationsTable({ items, empty = "No investigation matches."
           {items.map((i) => (
             <tr key={i.id} className="border-b border-ink-100 align-top" data-testid="investigation-row" data-ref={i.ref}>
               <td className="px-2 py-2">
-                <Link to={`/investigations/${i.id}`} className="inline-flex min-h-11 flex-col justify-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2" data-field="title">
+                <Link
+                  to={`/investigations/${i.id}`}
+                  className="inline-flex min-h-11 flex-col justify-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+                  data-field="title"
+                >
                   {i.title}
                 </Link>
                 <div className="text-xs text-ink-600">

@@ -9,7 +9,14 @@ import { plural } from "@/lib/format";
 import { useCreateInvestigation } from "../api/investigations.queries";
 
 /** Heat numbers as a person types them: commas, spaces or new lines between. */
-export const heatList = (text: string) => [...new Set(text.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean))];
+export const heatList = (text: string) => [
+  ...new Set(
+    text
+      .split(/[\s,;]+/)
+      .map((s) => s.trim())
+      .filter(Boolean),
+  ),
+];
 
 /** The people of a person drop-down (owner, participant, action owner), by name. */
 export function PersonOptions({ people }: { people: Person[] }) {

@@ -88,19 +88,24 @@ export function MailMessage({ m, onRetried }: { m: OutboxMessage; onRetried: (m:
           <dd className="break-all">{m.messageId ?? DASH}</dd>
         </div>
       </dl>
-      <pre className="max-h-96 overflow-auto whitespace-pre-wrap rounded border border-ink-200 bg-white p-3 font-sans text-sm text-ink-900" data-testid="mail-body">
+      <pre
+        className="max-h-96 overflow-auto whitespace-pre-wrap rounded border border-ink-200 bg-white p-3 font-sans text-sm text-ink-900"
+        data-testid="mail-body"
+      >
         {m.text}
       </pre>
       {m.text.includes("[link hidden]") ? (
         <Notice title="Link hidden">
-          This link lets whoever opens it choose the account's password, so it is shown only to the person it was sent to. If they did not get it, they can ask for a new one with “Forgot your password?”.
+          This link lets whoever opens it choose the account's password, so it is shown only to the person it was sent to. If they did not get it, they can ask
+          for a new one with “Forgot your password?”.
         </Notice>
       ) : null}
       {m.attachments.length ? (
         <ul className="text-sm">
           {m.attachments.map((a) => (
             <li key={a.filename}>
-              <span className="font-semibold">{a.filename}</span> <span className="text-ink-600">
+              <span className="font-semibold">{a.filename}</span>{" "}
+              <span className="text-ink-600">
                 {a.contentType} · {bytes(a.bytes)}
               </span>
             </li>
@@ -109,7 +114,11 @@ export function MailMessage({ m, onRetried }: { m: OutboxMessage; onRetried: (m:
       ) : (
         <p className="text-sm text-ink-600">No attachments.</p>
       )}
-      {m.lastError ? <Notice tone="error" title="Last error">{m.lastError}</Notice> : null}
+      {m.lastError ? (
+        <Notice tone="error" title="Last error">
+          {m.lastError}
+        </Notice>
+      ) : null}
       {m.status === "failed" ? <RetryButton id={m.id} onRetried={onRetried} /> : null}
     </div>
   );
@@ -155,7 +164,14 @@ export function OutboxTable({ items, localServer }: { items: OutboxMessage[]; lo
         </thead>
         <tbody>
           {items.map((m) => (
-            <Row key={m.id} m={m} open={openId === m.id} onToggle={() => setOpenId(openId === m.id ? null : m.id)} localServer={localServer} onRetried={setRetried} />
+            <Row
+              key={m.id}
+              m={m}
+              open={openId === m.id}
+              onToggle={() => setOpenId(openId === m.id ? null : m.id)}
+              localServer={localServer}
+              onRetried={setRetried}
+            />
           ))}
         </tbody>
       </table>
@@ -163,7 +179,19 @@ export function OutboxTable({ items, localServer }: { items: OutboxMessage[]; lo
   );
 }
 
-function Row({ m, open, onToggle, localServer, onRetried }: { m: OutboxMessage; open: boolean; onToggle: () => void; localServer: boolean; onRetried: (m: OutboxMessage) => void }) {
+function Row({
+  m,
+  open,
+  onToggle,
+  localServer,
+  onRetried,
+}: {
+  m: OutboxMessage;
+  open: boolean;
+  onToggle: () => void;
+  localServer: boolean;
+  onRetried: (m: OutboxMessage) => void;
+}) {
   const cols = localServer ? 8 : 7;
   return (
     <>
@@ -178,7 +206,13 @@ function Row({ m, open, onToggle, localServer, onRetried }: { m: OutboxMessage; 
           {m.to.join(", ")}
         </td>
         <td className="min-w-48 px-2 py-2">
-          <button type="button" onClick={onToggle} aria-expanded={open} className="min-h-11 text-left font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2" data-field="subject">
+          <button
+            type="button"
+            onClick={onToggle}
+            aria-expanded={open}
+            className="min-h-11 text-left font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
+            data-field="subject"
+          >
             {m.subject}
           </button>
         </td>

@@ -7,12 +7,14 @@ import { api } from "@/lib/api-client";
 export const plantKeys = {
   all: ["plant"] as const,
   about: () => queryOptions({ queryKey: [...plantKeys.all, "about"] as const, queryFn: () => api("/about", { schema: aboutSchema }), staleTime: Infinity }),
-  summary: () =>
-    queryOptions({ queryKey: [...plantKeys.all, "summary"] as const, queryFn: () => api("/plant/summary", { schema: plantSummarySchema }) }),
+  summary: () => queryOptions({ queryKey: [...plantKeys.all, "summary"] as const, queryFn: () => api("/plant/summary", { schema: plantSummarySchema }) }),
   setup: () => queryOptions({ queryKey: [...plantKeys.all, "setup"] as const, queryFn: () => api("/plant/setup", { schema: plantSetupSchema }) }),
   /** The formula settings: liquidus coefficients, shell K, densities, liquid steel properties. */
   settings: () =>
-    queryOptions({ queryKey: [...plantKeys.all, "settings"] as const, queryFn: ({ signal }) => api("/plant/settings", { signal, schema: plantSettingsSchema }) }),
+    queryOptions({
+      queryKey: [...plantKeys.all, "settings"] as const,
+      queryFn: ({ signal }) => api("/plant/settings", { signal, schema: plantSettingsSchema }),
+    }),
   slabSearch: (q: string) =>
     queryOptions({
       queryKey: [...plantKeys.all, "slab-search", q] as const,

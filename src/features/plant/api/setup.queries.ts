@@ -1,13 +1,6 @@
 import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { z } from "zod";
-import {
-  gradeFamilyInputSchema,
-  gradeInputSchema,
-  gradeUpdateSchema,
-  plantSettingsSchema,
-  type PlantSettings,
-  type StrandUpdate,
-} from "@shared/api/heats";
+import { gradeFamilyInputSchema, gradeInputSchema, gradeUpdateSchema, plantSettingsSchema, type PlantSettings, type StrandUpdate } from "@shared/api/heats";
 import { api } from "@/lib/api-client";
 import { plantKeys } from "./plant.queries";
 
@@ -60,7 +53,8 @@ export function useCreateGrade() {
 
 export function useUpdateGrade(opts?: Options) {
   return useSetupMutation(
-    ({ code, ...change }: z.input<typeof gradeUpdateSchema> & { code: string }) => api(`/plant/grades/${encodeURIComponent(code)}`, { method: "PATCH", body: change }),
+    ({ code, ...change }: z.input<typeof gradeUpdateSchema> & { code: string }) =>
+      api(`/plant/grades/${encodeURIComponent(code)}`, { method: "PATCH", body: change }),
     opts,
   );
 }

@@ -11,7 +11,17 @@ const toNum = (s: string) => (s.trim() === "" ? Number.NaN : Number(s));
  * The brake's coil current → field map: a straight line (slope and offset) or a measured table of
  * A → T points, for a brake that saturates. The slope is entered in mT per A and stored in T per A.
  */
-export function CalibrationEditor({ value, onChange, idPrefix, error }: { value: EmbrCalibration; onChange: (v: EmbrCalibration) => void; idPrefix: string; error?: string }) {
+export function CalibrationEditor({
+  value,
+  onChange,
+  idPrefix,
+  error,
+}: {
+  value: EmbrCalibration;
+  onChange: (v: EmbrCalibration) => void;
+  idPrefix: string;
+  error?: string;
+}) {
   const setKind = (kind: EmbrCalibration["kind"]) => {
     if (kind === value.kind) return;
     if (kind === "linear") {
@@ -32,7 +42,10 @@ export function CalibrationEditor({ value, onChange, idPrefix, error }: { value:
       <legend className="px-1 text-sm font-semibold text-ink-800">EMBr calibration (coil current → field)</legend>
       <div role="radiogroup" aria-label="Calibration kind" className="flex flex-wrap gap-2">
         {(["linear", "table"] as const).map((k) => (
-          <label key={k} className={`flex min-h-11 cursor-pointer items-center gap-2 rounded-md border px-3 text-sm ${value.kind === k ? "border-strand-700 bg-strand-50 font-semibold" : "border-ink-300"}`}>
+          <label
+            key={k}
+            className={`flex min-h-11 cursor-pointer items-center gap-2 rounded-md border px-3 text-sm ${value.kind === k ? "border-strand-700 bg-strand-50 font-semibold" : "border-ink-300"}`}
+          >
             <input type="radio" name={`${idPrefix}-cal-kind`} checked={value.kind === k} onChange={() => setKind(k)} className="h-4 w-4 accent-strand-700" />
             {k === "linear" ? "Straight line" : "Table of measured points"}
           </label>
@@ -89,7 +102,12 @@ export function CalibrationEditor({ value, onChange, idPrefix, error }: { value:
                     />
                   </td>
                   <td className="py-1">
-                    <Button variant="ghost" disabled={value.points.length <= 2} onClick={() => onChange({ kind: "table", points: value.points.filter((_, j) => j !== i) })} aria-label={`Remove point ${i + 1}`}>
+                    <Button
+                      variant="ghost"
+                      disabled={value.points.length <= 2}
+                      onClick={() => onChange({ kind: "table", points: value.points.filter((_, j) => j !== i) })}
+                      aria-label={`Remove point ${i + 1}`}
+                    >
                       Remove
                     </Button>
                   </td>
@@ -107,7 +125,9 @@ export function CalibrationEditor({ value, onChange, idPrefix, error }: { value:
           >
             Add a point
           </Button>
-          <p className="text-xs text-ink-600">Between points the field is read on a straight line; beyond the first and last point it is held flat. Keep the currents rising; 2 to 50 points.</p>
+          <p className="text-xs text-ink-600">
+            Between points the field is read on a straight line; beyond the first and last point it is held flat. Keep the currents rising; 2 to 50 points.
+          </p>
         </div>
       )}
       {error ? (

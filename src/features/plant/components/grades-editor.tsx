@@ -143,7 +143,10 @@ function FamilyHeader({ family }: { family: Family }) {
 
 function NewFamilyForm() {
   const create = useCreateFamily();
-  const form = useForm<z.input<typeof gradeFamilyInputSchema>>({ resolver: zodResolver(gradeFamilyInputSchema, friendlyErrors), defaultValues: { code: "", name: "", description: null } });
+  const form = useForm<z.input<typeof gradeFamilyInputSchema>>({
+    resolver: zodResolver(gradeFamilyInputSchema, friendlyErrors),
+    defaultValues: { code: "", name: "", description: null },
+  });
   const e = form.formState.errors;
   return (
     <form

@@ -4,8 +4,8 @@ import { Notice } from "@/components/ui/notice";
 export function HotYardCaution() {
   return (
     <Notice tone="caution" title="Hot yard">
-      Inspect only where the site's hot-yard, crane and PPE rules allow. Take the time the rules need — an entry can always
-      wait; nothing here is worth hurrying for.
+      Inspect only where the site's hot-yard, crane and PPE rules allow. Take the time the rules need — an entry can always wait; nothing here is worth hurrying
+      for.
     </Notice>
   );
 }

@@ -86,26 +86,63 @@ export function PlantSettingsForm({ settings, onRecomputed }: { settings: PlantS
             />
           ))}
         </div>
-        <p className="text-xs text-ink-600">Leave an element empty to keep it out of the formula. A heat with a liquidus given in its record keeps that value.</p>
+        <p className="text-xs text-ink-600">
+          Leave an element empty to keep it out of the formula. A heat with a liquidus given in its record keeps that value.
+        </p>
       </Group>
       <div className="grid gap-4 lg:grid-cols-3">
         <Group title="Shell growth K (mm/√min)" note="Shell thickness s = K · √t, t the time in the mold or along the strand.">
-          <TextField label="In the mold" inputMode="decimal" {...form.register("shellK.moldMmPerSqrtMin", { setValueAs: number })} error={e.shellK?.moldMmPerSqrtMin?.message} />
-          <TextField label="Along the strand" inputMode="decimal" {...form.register("shellK.strandMmPerSqrtMin", { setValueAs: number })} error={e.shellK?.strandMmPerSqrtMin?.message} />
+          <TextField
+            label="In the mold"
+            inputMode="decimal"
+            {...form.register("shellK.moldMmPerSqrtMin", { setValueAs: number })}
+            error={e.shellK?.moldMmPerSqrtMin?.message}
+          />
+          <TextField
+            label="Along the strand"
+            inputMode="decimal"
+            {...form.register("shellK.strandMmPerSqrtMin", { setValueAs: number })}
+            error={e.shellK?.strandMmPerSqrtMin?.message}
+          />
         </Group>
         <Group title="Steel density (t/m³)" note="Solid for slab weights and throughput; liquid for the volume flow through the SEN ports.">
-          <TextField label="Solid slab" inputMode="decimal" {...form.register("density.solidTPerM3", { setValueAs: number })} error={e.density?.solidTPerM3?.message} />
-          <TextField label="Liquid steel" inputMode="decimal" {...form.register("density.liquidTPerM3", { setValueAs: number })} error={e.density?.liquidTPerM3?.message} />
+          <TextField
+            label="Solid slab"
+            inputMode="decimal"
+            {...form.register("density.solidTPerM3", { setValueAs: number })}
+            error={e.density?.solidTPerM3?.message}
+          />
+          <TextField
+            label="Liquid steel"
+            inputMode="decimal"
+            {...form.register("density.liquidTPerM3", { setValueAs: number })}
+            error={e.density?.liquidTPerM3?.message}
+          />
         </Group>
         <Group title="Liquid steel for the brake numbers" note="Used in the Stuart and Hartmann numbers.">
-          <TextField label="Electrical conductivity σ (S/m)" inputMode="decimal" {...form.register("steelProperties.conductivitySPerM", { setValueAs: number })} error={e.steelProperties?.conductivitySPerM?.message} />
-          <TextField label="Density ρ (kg/m³)" inputMode="decimal" {...form.register("steelProperties.densityKgPerM3", { setValueAs: number })} error={e.steelProperties?.densityKgPerM3?.message} />
-          <TextField label="Viscosity μ (Pa·s)" inputMode="decimal" {...form.register("steelProperties.viscosityPaS", { setValueAs: number })} error={e.steelProperties?.viscosityPaS?.message} />
+          <TextField
+            label="Electrical conductivity σ (S/m)"
+            inputMode="decimal"
+            {...form.register("steelProperties.conductivitySPerM", { setValueAs: number })}
+            error={e.steelProperties?.conductivitySPerM?.message}
+          />
+          <TextField
+            label="Density ρ (kg/m³)"
+            inputMode="decimal"
+            {...form.register("steelProperties.densityKgPerM3", { setValueAs: number })}
+            error={e.steelProperties?.densityKgPerM3?.message}
+          />
+          <TextField
+            label="Viscosity μ (Pa·s)"
+            inputMode="decimal"
+            {...form.register("steelProperties.viscosityPaS", { setValueAs: number })}
+            error={e.steelProperties?.viscosityPaS?.message}
+          />
         </Group>
       </div>
       {save.isError ? <Notice tone="error">{save.error.message}</Notice> : null}
       {save.isSuccess && !form.formState.isDirty ? (
-        <Notice tone="ok" title="Saved" >
+        <Notice tone="ok" title="Saved">
           {plural(save.data.slabsResolved, "slab")} recomputed with the new settings.
         </Notice>
       ) : null}

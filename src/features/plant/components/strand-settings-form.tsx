@@ -44,13 +44,44 @@ export function StrandSettingsForm({ casterCode, strand, onRecomputed }: { caste
   return (
     <form onSubmit={submit} noValidate className="space-y-4" aria-label={`Settings of ${casterCode} strand ${strand.strandNo}`}>
       <div className="grid gap-3 sm:grid-cols-2">
-        <TextField label="Mold thickness (mm)" inputMode="decimal" {...form.register("moldThicknessMm", { setValueAs: number })} error={errors.moldThicknessMm?.message} />
-        <TextField label="Effective mold length (mm)" inputMode="decimal" hint="Meniscus to mold exit" {...form.register("moldEffectiveLengthMm", { setValueAs: number })} error={errors.moldEffectiveLengthMm?.message} />
-        <TextField label="Brake position (mm below the mold top)" inputMode="decimal" {...form.register("embrPositionMm", { setValueAs: numberOrNull })} error={errors.embrPositionMm?.message} />
-        <TextField label="Narrowest slab width (mm)" inputMode="decimal" {...form.register("moldWidthMinMm", { setValueAs: numberOrNull })} error={errors.moldWidthMinMm?.message} />
-        <TextField label="Widest slab width (mm)" inputMode="decimal" {...form.register("moldWidthMaxMm", { setValueAs: numberOrNull })} error={errors.moldWidthMaxMm?.message} />
+        <TextField
+          label="Mold thickness (mm)"
+          inputMode="decimal"
+          {...form.register("moldThicknessMm", { setValueAs: number })}
+          error={errors.moldThicknessMm?.message}
+        />
+        <TextField
+          label="Effective mold length (mm)"
+          inputMode="decimal"
+          hint="Meniscus to mold exit"
+          {...form.register("moldEffectiveLengthMm", { setValueAs: number })}
+          error={errors.moldEffectiveLengthMm?.message}
+        />
+        <TextField
+          label="Brake position (mm below the mold top)"
+          inputMode="decimal"
+          {...form.register("embrPositionMm", { setValueAs: numberOrNull })}
+          error={errors.embrPositionMm?.message}
+        />
+        <TextField
+          label="Narrowest slab width (mm)"
+          inputMode="decimal"
+          {...form.register("moldWidthMinMm", { setValueAs: numberOrNull })}
+          error={errors.moldWidthMinMm?.message}
+        />
+        <TextField
+          label="Widest slab width (mm)"
+          inputMode="decimal"
+          {...form.register("moldWidthMaxMm", { setValueAs: numberOrNull })}
+          error={errors.moldWidthMaxMm?.message}
+        />
         <div className="grid grid-cols-2 gap-3">
-          <TextField label="SEN port area (mm²)" inputMode="decimal" {...form.register("senPortAreaMm2", { setValueAs: number })} error={errors.senPortAreaMm2?.message} />
+          <TextField
+            label="SEN port area (mm²)"
+            inputMode="decimal"
+            {...form.register("senPortAreaMm2", { setValueAs: number })}
+            error={errors.senPortAreaMm2?.message}
+          />
           <TextField label="Ports" inputMode="numeric" {...form.register("senPortCount", { setValueAs: number })} error={errors.senPortCount?.message} />
         </div>
       </div>

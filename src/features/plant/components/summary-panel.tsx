@@ -43,8 +43,8 @@ export function SummaryPanel() {
         </tbody>
       </table>
       <p className="mt-3 text-xs text-ink-600">
-        On record in total: {totals.heats.toLocaleString("en-GB")} heats, {totals.slabs.toLocaleString("en-GB")} slabs,{" "}
-        {totals.defects.toLocaleString("en-GB")} defects (rejected entries excluded).
+        On record in total: {totals.heats.toLocaleString("en-GB")} heats, {totals.slabs.toLocaleString("en-GB")} slabs, {totals.defects.toLocaleString("en-GB")}{" "}
+        defects (rejected entries excluded).
       </p>
     </Card>
   );

@@ -60,7 +60,8 @@ export function AdjustedSettings({ params, onChange }: { params: ReportParams; o
         />
       </SettingsRow>
       <p className="text-xs text-ink-600" data-testid="se-words">
-        <span className="font-semibold">{SE_WORDS[params.se === "model" ? "model" : "cluster"].short} standard errors:</span> {SE_WORDS[params.se === "model" ? "model" : "cluster"].long}
+        <span className="font-semibold">{SE_WORDS[params.se === "model" ? "model" : "cluster"].short} standard errors:</span>{" "}
+        {SE_WORDS[params.se === "model" ? "model" : "cluster"].long}
       </p>
     </div>
   );
@@ -76,7 +77,9 @@ export function AdjustedView({ data }: { data: Adjusted }) {
   const sentences = data.terms.filter((t) => t.role === "examined" && t.changeInEstimate.sentence).map((t) => t.changeInEstimate.sentence!);
   const collinear = data.variables.filter((v) => v.collinearity === "notable" || v.collinearity === "serious");
   // The notes the screen shows elsewhere (sentences, collinearity) are not repeated in the notes list.
-  const otherNotes = data.notes.filter((n) => !data.terms.some((t) => t.changeInEstimate.sentence === n) && !collinear.some((v) => n.startsWith(`${v.label}: GVIF`)));
+  const otherNotes = data.notes.filter(
+    (n) => !data.terms.some((t) => t.changeInEstimate.sentence === n) && !collinear.some((v) => n.startsWith(`${v.label}: GVIF`)),
+  );
   const adjustedWords = data.adjustFor.length ? data.adjustFor.map((t) => t.label.toLowerCase()).join(", ") : "nothing";
 
   // A note column only when a term has something to say (a reason, or an adjustment term's sentence).
@@ -86,7 +89,14 @@ export function AdjustedView({ data }: { data: Adjusted }) {
     rows.map((t) => {
       const v = byVariable.get(t.variable);
       return (
-        <tr key={`${t.variable}-${t.level ?? ""}`} className="border-b border-ink-100 align-top" data-testid="term-row" data-key={t.variable} data-level={t.level ?? undefined} data-role={t.role}>
+        <tr
+          key={`${t.variable}-${t.level ?? ""}`}
+          className="border-b border-ink-100 align-top"
+          data-testid="term-row"
+          data-key={t.variable}
+          data-level={t.level ?? undefined}
+          data-role={t.role}
+        >
           <td className={`${td} min-w-36`}>
             <span className="font-semibold" data-field="label">
               {t.label}
@@ -101,7 +111,9 @@ export function AdjustedView({ data }: { data: Adjusted }) {
               {ratioRange(t.crude.ciLower, t.crude.ciUpper)}
             </div>
           </td>
-          <td className={tdNum} data-field="crudeP">{pValue(t.crude.p)}</td>
+          <td className={tdNum} data-field="crudeP">
+            {pValue(t.crude.p)}
+          </td>
           <td className={`${tdNum} border-l-2 border-ink-200`}>
             <span className="font-semibold" data-field="adjustedOr">
               {orCell(t.adjusted)}
@@ -110,8 +122,12 @@ export function AdjustedView({ data }: { data: Adjusted }) {
               {ratioRange(t.adjusted.ciLower, t.adjusted.ciUpper)}
             </div>
           </td>
-          <td className={`${tdNum} font-semibold`} data-field="adjustedP">{pValue(t.adjusted.p)}</td>
-          <td className={tdNum} data-field="change">{relChange(t.changeInEstimate.relativeChange)}</td>
+          <td className={`${tdNum} font-semibold`} data-field="adjustedP">
+            {pValue(t.adjusted.p)}
+          </td>
+          <td className={tdNum} data-field="change">
+            {relChange(t.changeInEstimate.relativeChange)}
+          </td>
           <td className={tdNum}>
             <span data-field="vif">{sig(t.vif, 3)}</span>
             {v?.collinearity && v.collinearity !== "low" ? (
@@ -122,7 +138,11 @@ export function AdjustedView({ data }: { data: Adjusted }) {
           </td>
           {withNotes ? (
             <td className={`${td} min-w-48 text-xs text-ink-700`}>
-              {t.reason ? <span data-field="reason">{t.reason}</span> : t.changeInEstimate.sentence && t.role === "adjustment" ? t.changeInEstimate.sentence : null}
+              {t.reason ? (
+                <span data-field="reason">{t.reason}</span>
+              ) : t.changeInEstimate.sentence && t.role === "adjustment" ? (
+                t.changeInEstimate.sentence
+              ) : null}
             </td>
           ) : null}
         </tr>
@@ -143,15 +163,27 @@ export function AdjustedView({ data }: { data: Adjusted }) {
         <Figure
           label="Slabs in the model (n)"
           value={<span data-testid="model-slabs">{data.slabs.toLocaleString("en-GB")}</span>}
-          note={data.slabsLeftOut ? `${plural(data.slabsLeftOut, "slab")} of ${data.slabsInFilters.toLocaleString("en-GB")} left out (a value missing)` : "every slab in the filters"}
+          note={
+            data.slabsLeftOut
+              ? `${plural(data.slabsLeftOut, "slab")} of ${data.slabsInFilters.toLocaleString("en-GB")} left out (a value missing)`
+              : "every slab in the filters"
+          }
         />
         <Figure
           label="Affected slabs (events)"
           value={<span data-testid="model-affected">{data.affected.toLocaleString("en-GB")}</span>}
           note={`${pct(data.slabs ? data.affected / data.slabs : null)} of n = ${data.slabs.toLocaleString("en-GB")}`}
         />
-        <Figure label="Heats (clusters)" value={<span data-testid="model-heats">{data.heats.toLocaleString("en-GB")}</span>} note={`about ${num(data.heats ? data.slabs / data.heats : null, 1)} slabs a heat`} />
-        <Figure label="Standard errors" value={<span data-testid="model-se">{se.short}</span>} note={data.seMethod === "cluster" ? "slabs of a heat: one cluster" : "slabs taken as independent"} />
+        <Figure
+          label="Heats (clusters)"
+          value={<span data-testid="model-heats">{data.heats.toLocaleString("en-GB")}</span>}
+          note={`about ${num(data.heats ? data.slabs / data.heats : null, 1)} slabs a heat`}
+        />
+        <Figure
+          label="Standard errors"
+          value={<span data-testid="model-se">{se.short}</span>}
+          note={data.seMethod === "cluster" ? "slabs of a heat: one cluster" : "slabs taken as independent"}
+        />
       </div>
 
       {data.reason ? (
@@ -173,7 +205,10 @@ export function AdjustedView({ data }: { data: Adjusted }) {
       ) : null}
       <SmallNWarning
         title="Collinearity"
-        notes={collinear.map((v) => `${v.label}: GVIF ${sig(v.gvif, 3)}, GVIF^(1/(2·df)) ${sig(v.gvifPerDf, 3)} — ${v.collinearity} collinearity with the other terms. Its adjusted odds ratio has a wide interval and may move with the choice of terms.`)}
+        notes={collinear.map(
+          (v) =>
+            `${v.label}: GVIF ${sig(v.gvif, 3)}, GVIF^(1/(2·df)) ${sig(v.gvifPerDf, 3)} — ${v.collinearity} collinearity with the other terms. Its adjusted odds ratio has a wide interval and may move with the choice of terms.`,
+        )}
       />
 
       <Card title={`Crude and adjusted odds ratios (adjusted for ${adjustedWords})`}>
@@ -254,9 +289,13 @@ export function AdjustedView({ data }: { data: Adjusted }) {
                   <td className={`${td} font-semibold`}>{v.label}</td>
                   <td className={td}>{v.role === "examined" ? "examined" : "adjusted for"}</td>
                   <td className={`${td} text-xs`}>{v.test}</td>
-                  <td className={tdNum} data-field="chi2">{num(v.test === "likelihood ratio" ? v.lrChi2 : v.waldChi2, 2)}</td>
+                  <td className={tdNum} data-field="chi2">
+                    {num(v.test === "likelihood ratio" ? v.lrChi2 : v.waldChi2, 2)}
+                  </td>
                   <td className={tdNum}>{v.df}</td>
-                  <td className={tdNum} data-field="p">{pValue(v.p)}</td>
+                  <td className={tdNum} data-field="p">
+                    {pValue(v.p)}
+                  </td>
                   <td className={tdNum}>{sig(v.gvif, 3)}</td>
                   <td className={tdNum}>{sig(v.gvifPerDf, 3)}</td>
                   <td className={td}>

@@ -64,7 +64,8 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
             note={
               mh.reason ?? (
                 <>
-                  95 % CI <span data-testid="mh-ci">{ratioRange(mh.ciLower, mh.ciUpper)}</span> · CMH p <span data-testid="mh-p">{pValue(mh.p)}</span> · within each {by}
+                  95 % CI <span data-testid="mh-ci">{ratioRange(mh.ciLower, mh.ciUpper)}</span> · CMH p <span data-testid="mh-p">{pValue(mh.p)}</span> · within
+                  each {by}
                 </>
               )
             }
@@ -90,7 +91,9 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
             ? ` Left out of the mix (only one group has slabs there): ${sd.leftOut.map((l) => `${l.label} (${l.slabs.toLocaleString("en-GB")} slabs, only in ${l.group})`).join(", ")}.`
             : ""}
         </p>
-        <TableWrap caption={`${st.methods.reading ?? "A is the reference group"}. Differences with the Newcombe hybrid score interval; odds ratios with the Woolf interval.`}>
+        <TableWrap
+          caption={`${st.methods.reading ?? "A is the reference group"}. Differences with the Newcombe hybrid score interval; odds ratios with the Woolf interval.`}
+        >
           <table className="w-full text-sm" data-testid="strata-table">
             <thead>
               <tr className="border-b border-ink-200">
@@ -126,19 +129,37 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
                       <span data-field="label">{s.label}</span>
                       {few ? <FewMark /> : null}
                     </td>
-                    <td className={tdNum} data-field="aSlabs">{s.a.slabs.toLocaleString("en-GB")}</td>
-                    <td className={tdNum} data-field="aAffected">{s.a.affected.toLocaleString("en-GB")}</td>
-                    <td className={tdNum} data-field="aRate">{pct(s.a.rate)}</td>
-                    <td className={`${tdNum} border-l-2 border-ink-200`} data-field="bSlabs">{s.b.slabs.toLocaleString("en-GB")}</td>
-                    <td className={tdNum} data-field="bAffected">{s.b.affected.toLocaleString("en-GB")}</td>
-                    <td className={tdNum} data-field="bRate">{pct(s.b.rate)}</td>
-                    <td className={`${tdNum} border-l-2 border-ink-200`} data-field="diff">{points(s.difference.value, true)}</td>
+                    <td className={tdNum} data-field="aSlabs">
+                      {s.a.slabs.toLocaleString("en-GB")}
+                    </td>
+                    <td className={tdNum} data-field="aAffected">
+                      {s.a.affected.toLocaleString("en-GB")}
+                    </td>
+                    <td className={tdNum} data-field="aRate">
+                      {pct(s.a.rate)}
+                    </td>
+                    <td className={`${tdNum} border-l-2 border-ink-200`} data-field="bSlabs">
+                      {s.b.slabs.toLocaleString("en-GB")}
+                    </td>
+                    <td className={tdNum} data-field="bAffected">
+                      {s.b.affected.toLocaleString("en-GB")}
+                    </td>
+                    <td className={tdNum} data-field="bRate">
+                      {pct(s.b.rate)}
+                    </td>
+                    <td className={`${tdNum} border-l-2 border-ink-200`} data-field="diff">
+                      {points(s.difference.value, true)}
+                    </td>
                     <td className={tdNum} data-field="diffCi">
                       {s.difference.value === null ? "—" : `${points(s.difference.lower)} to ${points(s.difference.upper)}`}
                     </td>
                     <td className={tdNum}>
-                      <span className="font-semibold" data-field="or">{sig(s.oddsRatio, 3)}</span>{" "}
-                      <span className="text-xs text-ink-600" data-field="orCi">({ratioRange(s.ciLower, s.ciUpper)})</span>
+                      <span className="font-semibold" data-field="or">
+                        {sig(s.oddsRatio, 3)}
+                      </span>{" "}
+                      <span className="text-xs text-ink-600" data-field="orCi">
+                        ({ratioRange(s.ciLower, s.ciUpper)})
+                      </span>
                     </td>
                     {withNotes ? (
                       <td className={`${td} min-w-40 text-xs text-ink-700`}>

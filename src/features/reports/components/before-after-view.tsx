@@ -16,7 +16,6 @@ import { RateTable } from "./tables";
 
 const CategoryRateChart = lazy(() => import("./charts/category-rate-chart"));
 
-
 const RANGE_KEYS = ["aFrom", "aTo", "bFrom", "bTo", "aMin", "aMax", "bMin", "bMax"] as const;
 
 /** Whether the parameters name both sides of the comparison. */
@@ -78,15 +77,28 @@ export function BeforeAfterSettings({ params, onChange }: { params: ReportParams
           label="Compare within"
           testId="within-select"
           value={params.stratifyBy ?? ""}
-          options={[{ value: "", label: "Not split (all slabs together)" }, ...CATEGORICAL_KEYS.map((k) => ({ value: k, label: `Each ${lowerFirst(CATEGORICAL_LABELS[k])}` }))]}
+          options={[
+            { value: "", label: "Not split (all slabs together)" },
+            ...CATEGORICAL_KEYS.map((k) => ({ value: k, label: `Each ${lowerFirst(CATEGORICAL_LABELS[k])}` })),
+          ]}
           onChange={(v) => onChange({ stratifyBy: v || undefined })}
           hint="A against B inside each group, then pooled (Mantel–Haenszel)"
         />
       </SettingsRow>
       <div className="grid grid-cols-2 gap-3 md:grid-cols-5">
         {periods
-          ? [field("aFrom", "A (before) from", "date"), field("aTo", "A to (whole day)", "date"), field("bFrom", "B (after) from", "date"), field("bTo", "B to (whole day)", "date")]
-          : [field("aMin", `A from${unit}`, "number"), field("aMax", `A to${unit}`, "number"), field("bMin", `B from${unit}`, "number"), field("bMax", `B to${unit}`, "number")]}
+          ? [
+              field("aFrom", "A (before) from", "date"),
+              field("aTo", "A to (whole day)", "date"),
+              field("bFrom", "B (after) from", "date"),
+              field("bTo", "B to (whole day)", "date"),
+            ]
+          : [
+              field("aMin", `A from${unit}`, "number"),
+              field("aMax", `A to${unit}`, "number"),
+              field("bMin", `B from${unit}`, "number"),
+              field("bMax", `B to${unit}`, "number"),
+            ]}
         <div className="flex items-end">
           <Button type="submit" className="w-full">
             Compare A and B
@@ -111,17 +123,29 @@ export function BeforeAfterView({ data }: { data: BeforeAfter }) {
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="before-after-summary">
-        <Figure label="A (before)" value={pct(data.a.rate)} note={`${data.a.affected} of n = ${data.a.slabs.toLocaleString("en-GB")} · CI ${pctRange(data.a.ciLower, data.a.ciUpper)}`} />
-        <Figure label="B (after)" value={pct(data.b.rate)} note={`${data.b.affected} of n = ${data.b.slabs.toLocaleString("en-GB")} · CI ${pctRange(data.b.ciLower, data.b.ciUpper)}`} />
         <Figure
-          label="Difference B − A"
-          value={points(d.value, true)}
-          note={`percentage points · 95 % CI ${points(d.lower)} to ${points(d.upper)}`}
+          label="A (before)"
+          value={pct(data.a.rate)}
+          note={`${data.a.affected} of n = ${data.a.slabs.toLocaleString("en-GB")} · CI ${pctRange(data.a.ciLower, data.a.ciUpper)}`}
         />
+        <Figure
+          label="B (after)"
+          value={pct(data.b.rate)}
+          note={`${data.b.affected} of n = ${data.b.slabs.toLocaleString("en-GB")} · CI ${pctRange(data.b.ciLower, data.b.ciUpper)}`}
+        />
+        <Figure label="Difference B − A" value={points(d.value, true)} note={`percentage points · 95 % CI ${points(d.lower)} to ${points(d.upper)}`} />
         {data.test.name === "none" ? (
-          <Figure label="No test" value={<span data-testid="test-p">—</span>} note={<span data-testid="test-reason">{data.test.reason ?? "nothing to compare"}</span>} />
+          <Figure
+            label="No test"
+            value={<span data-testid="test-p">—</span>}
+            note={<span data-testid="test-reason">{data.test.reason ?? "nothing to compare"}</span>}
+          />
         ) : (
-          <Figure label={data.test.name === "fisher" ? "Fisher's exact test" : "Chi-square test"} value={<span data-testid="test-p">{`p ${pValue(data.test.p)}`}</span>} note="two-sided" />
+          <Figure
+            label={data.test.name === "fisher" ? "Fisher's exact test" : "Chi-square test"}
+            value={<span data-testid="test-p">{`p ${pValue(data.test.p)}`}</span>}
+            note="two-sided"
+          />
         )}
       </div>
       <SmallNWarning
@@ -130,23 +154,33 @@ export function BeforeAfterView({ data }: { data: BeforeAfter }) {
           data.test.name === "none" && data.a.slabs > 0 && data.b.slabs > 0 && data.test.reason ? `No test: ${data.test.reason}.` : "",
           data.a.slabs > 0 && data.a.slabs < FEW_SLABS ? `A holds only ${plural(data.a.slabs, "slab")}.` : "",
           data.b.slabs > 0 && data.b.slabs < FEW_SLABS ? `B holds only ${plural(data.b.slabs, "slab")}.` : "",
-          data.test.name === "fisher" && data.a.slabs > 0 && data.b.slabs > 0 ? "An expected count is below 5: Fisher's exact test is used instead of chi-square." : "",
+          data.test.name === "fisher" && data.a.slabs > 0 && data.b.slabs > 0
+            ? "An expected count is below 5: Fisher's exact test is used instead of chi-square."
+            : "",
         ]}
       />
       <Card title="A against B">
         <Suspense fallback={<Spinner label="Loading the chart" />}>
-          <CategoryRateChart rows={rows} fewN={FEW_SLABS} testId="before-after-chart" label="Share of slabs affected in A and in B, with 95 % intervals" height={300} />
+          <CategoryRateChart
+            rows={rows}
+            fewN={FEW_SLABS}
+            testId="before-after-chart"
+            label="Share of slabs affected in A and in B, with 95 % intervals"
+            height={300}
+          />
         </Suspense>
         <RateTable rows={rows} labelHeader="Side" fewN={FEW_SLABS} testId="before-after-table" />
         <p className="mt-2 text-xs text-ink-600">
-          {d.method.charAt(0).toUpperCase() + d.method.slice(1)}. {data.test.name === "none" ? "No test" : data.test.method}. A change between two periods may come from anything else that changed with them — grade mix,
-          campaign, crew, measurement — not only from the change under study.
+          {d.method.charAt(0).toUpperCase() + d.method.slice(1)}. {data.test.name === "none" ? "No test" : data.test.method}. A change between two periods may
+          come from anything else that changed with them — grade mix, campaign, crew, measurement — not only from the change under study.
         </p>
         {data.notes.length ? (
           <ul className="mt-2 list-disc space-y-0.5 pl-5 text-xs text-ink-700" data-testid="before-after-notes">
-            {data.notes.filter((n) => !n.startsWith("No test:")).map((n) => (
-              <li key={n}>{n}</li>
-            ))}
+            {data.notes
+              .filter((n) => !n.startsWith("No test:"))
+              .map((n) => (
+                <li key={n}>{n}</li>
+              ))}
           </ul>
         ) : null}
       </Card>

@@ -27,8 +27,16 @@ export function CauseParetoView({ data, minConfidence, groupName }: { data: Caus
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="cause-pareto-summary">
         <Figure label="Defects (n)" value={<span data-testid="cp-defects">{n(data.defects)}</span>} note="live, unrejected, passing the filters" />
-        <Figure label="With a cause" value={<span data-testid="cp-tagged">{n(data.tagged)}</span>} note={`${minConfidence === "suspected" ? "any confidence" : `${minConfidence} or surer`}`} />
-        <Figure label="No cause yet" value={<span data-testid="cp-untagged">{n(data.untagged)}</span>} note={data.defects ? `${pct(data.untagged / data.defects, 1)} of n` : "—"} />
+        <Figure
+          label="With a cause"
+          value={<span data-testid="cp-tagged">{n(data.tagged)}</span>}
+          note={`${minConfidence === "suspected" ? "any confidence" : `${minConfidence} or surer`}`}
+        />
+        <Figure
+          label="No cause yet"
+          value={<span data-testid="cp-untagged">{n(data.untagged)}</span>}
+          note={data.defects ? `${pct(data.untagged / data.defects, 1)} of n` : "—"}
+        />
         <Figure label="Cause tags found" value={n(data.rows.length)} note="a defect with two causes counts under both" />
       </div>
       <SmallNWarning notes={[...new Set(warnings)]} title="Read with care" />
@@ -112,8 +120,8 @@ export function CauseParetoView({ data, minConfidence, groupName }: { data: Caus
         )}
       </Card>
       <p className="text-xs text-ink-600">
-        A tag counts where a person put it; a tagging is a judgement, not a measurement. “Confirmed” means the tagger saw evidence — still not proof that
-        the tag's condition caused the defect.
+        A tag counts where a person put it; a tagging is a judgement, not a measurement. “Confirmed” means the tagger saw evidence — still not proof that the
+        tag's condition caused the defect.
       </p>
     </div>
   );

@@ -71,11 +71,25 @@ export function ControlChartSettings({ params, onChange }: { params: ReportParam
       >
         <label className={labelClass}>
           <span className={labelText}>Baseline from</span>
-          <input type="date" className={inputClass} value={draft.from} max={draft.to || undefined} onChange={(e) => setDraft((d) => ({ ...d, from: e.target.value }))} data-testid="baseline-from" />
+          <input
+            type="date"
+            className={inputClass}
+            value={draft.from}
+            max={draft.to || undefined}
+            onChange={(e) => setDraft((d) => ({ ...d, from: e.target.value }))}
+            data-testid="baseline-from"
+          />
         </label>
         <label className={labelClass}>
           <span className={labelText}>Baseline to (whole day)</span>
-          <input type="date" className={inputClass} value={draft.to} min={draft.from || undefined} onChange={(e) => setDraft((d) => ({ ...d, to: e.target.value }))} data-testid="baseline-to" />
+          <input
+            type="date"
+            className={inputClass}
+            value={draft.to}
+            min={draft.from || undefined}
+            onChange={(e) => setDraft((d) => ({ ...d, to: e.target.value }))}
+            data-testid="baseline-to"
+          />
         </label>
         <div className="flex items-end">
           <Button type="submit" className="w-full" disabled={!both || reversed} data-testid="baseline-apply">
@@ -155,11 +169,21 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
-        <Figure label="Slabs (n)" value={data.slabs.toLocaleString("en-GB")} note={`in ${plural(data.points.length, word)}${u ? ` · ${data.defects.toLocaleString("en-GB")} defects` : ""}`} />
+        <Figure
+          label="Slabs (n)"
+          value={data.slabs.toLocaleString("en-GB")}
+          note={`in ${plural(data.points.length, word)}${u ? ` · ${data.defects.toLocaleString("en-GB")} defects` : ""}`}
+        />
         <Figure
           label={u ? "ū (centre line, defects per slab)" : "p̄ (centre line)"}
           value={<span data-testid="centre">{text(data.centre)}</span>}
-          note={b ? `from the baseline, ${b.firstPeriod ?? b.from} to ${b.lastPeriod ?? b.to}` : u ? `${data.defects.toLocaleString("en-GB")} defects on n = ${data.slabs.toLocaleString("en-GB")}` : `${data.affected.toLocaleString("en-GB")} affected of n = ${data.slabs.toLocaleString("en-GB")}`}
+          note={
+            b
+              ? `from the baseline, ${b.firstPeriod ?? b.from} to ${b.lastPeriod ?? b.to}`
+              : u
+                ? `${data.defects.toLocaleString("en-GB")} defects on n = ${data.slabs.toLocaleString("en-GB")}`
+                : `${data.affected.toLocaleString("en-GB")} affected of n = ${data.slabs.toLocaleString("en-GB")}`
+          }
         />
         <Figure
           label="Out of control"
@@ -174,14 +198,19 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
       </div>
       <SmallNWarning
         notes={[
-          data.slabs > 0 && data.affected < 10 ? `Only ${plural(data.affected, "affected slab")} in these filters: the limits are wide and an out-of-control period is hard to show.` : "",
+          data.slabs > 0 && data.affected < 10
+            ? `Only ${plural(data.affected, "affected slab")} in these filters: the limits are wide and an out-of-control period is hard to show.`
+            : "",
           few ? `${plural(few, word)} with fewer than ${FEW_SLABS} slabs: the 3σ limits of the normal approximation are rough there.` : "",
           ...data.notes.filter((n) => od?.note !== n && !n.startsWith("By week, the baseline") && !n.startsWith("The limits are for the crude")),
         ]}
       />
       {od ? (
         <div data-testid="overdispersion">
-          <Notice tone={od.applies && data.chart === "p" ? "caution" : "info"} title={od.applies ? (data.chart === "laney" ? "Overdispersion: the Laney p′ chart applies" : "Overdispersion") : "No overdispersion shown"}>
+          <Notice
+            tone={od.applies && data.chart === "p" ? "caution" : "info"}
+            title={od.applies ? (data.chart === "laney" ? "Overdispersion: the Laney p′ chart applies" : "Overdispersion") : "No overdispersion shown"}
+          >
             {od.note}{" "}
             <span className="tabular-nums">
               (σ_z {num(od.sigmaZ, 2)}; χ² {num(od.chi2, 1)}, df {num(od.df, 0)}, p {pValue(od.p)})
@@ -199,8 +228,9 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
       {b ? (
         <p className="rounded-md border border-ink-200 bg-white px-4 py-2 text-sm" data-testid="baseline-words">
           <span className="font-semibold">Baseline (Phase I):</span> {b.from} to {b.to} — {plural(b.periods, word)}
-          {b.firstPeriod && data.period === "week" ? ` (${b.firstPeriod} to ${b.lastPeriod})` : ""}, {b.slabs.toLocaleString("en-GB")} slabs. Its centre line and limits are applied
-          unchanged to the {word}s after it (Phase II, monitoring){data.points.some((p) => p.phase === "before") ? ` and to those before it` : ""}.
+          {b.firstPeriod && data.period === "week" ? ` (${b.firstPeriod} to ${b.lastPeriod})` : ""}, {b.slabs.toLocaleString("en-GB")} slabs. Its centre line
+          and limits are applied unchanged to the {word}s after it (Phase II, monitoring)
+          {data.points.some((p) => p.phase === "before") ? ` and to those before it` : ""}.
           {data.notes.find((n) => n.startsWith("By week, the baseline")) ? ` ${data.notes.find((n) => n.startsWith("By week, the baseline"))}` : ""}
         </p>
       ) : null}
@@ -247,7 +277,13 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
               </thead>
               <tbody>
                 {(flagged.length ? [...flagged, ...data.points.filter((p) => !flagged.includes(p))] : data.points).map((p) => (
-                  <tr key={p.period} className={`border-b border-ink-100 ${p.slabs < FEW_SLABS ? "bg-ink-50 text-ink-500" : ""}`} data-testid="pchart-row" data-period={p.period} data-phase={p.phase}>
+                  <tr
+                    key={p.period}
+                    className={`border-b border-ink-100 ${p.slabs < FEW_SLABS ? "bg-ink-50 text-ink-500" : ""}`}
+                    data-testid="pchart-row"
+                    data-period={p.period}
+                    data-phase={p.phase}
+                  >
                     <td className={`${td} whitespace-nowrap font-semibold`}>
                       <span data-field="period">{p.period}</span>
                       {p.slabs < FEW_SLABS ? <FewMark /> : null}
@@ -257,17 +293,27 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
                         <PhaseMark phase={p.phase} />
                       </td>
                     ) : null}
-                    <td className={tdNum} data-field="slabs">{p.slabs.toLocaleString("en-GB")}</td>
+                    <td className={tdNum} data-field="slabs">
+                      {p.slabs.toLocaleString("en-GB")}
+                    </td>
                     <td className={tdNum}>{(u ? p.defects : p.affected).toLocaleString("en-GB")}</td>
-                    <td className={tdNum} data-field="value">{text(value(p))}</td>
+                    <td className={tdNum} data-field="value">
+                      {text(value(p))}
+                    </td>
                     {std ? (
                       <td className={tdNum} data-field="standardised" title={p.standardised?.reason ?? undefined}>
                         {pct(p.standardised?.rate)}
                       </td>
                     ) : null}
-                    <td className={tdNum} data-field="lcl">{text(p.lcl)}</td>
-                    <td className={tdNum} data-field="ucl">{text(p.ucl)}</td>
-                    <td className={tdNum} data-field="z">{num(p.z, 2)}</td>
+                    <td className={tdNum} data-field="lcl">
+                      {text(p.lcl)}
+                    </td>
+                    <td className={tdNum} data-field="ucl">
+                      {text(p.ucl)}
+                    </td>
+                    <td className={tdNum} data-field="z">
+                      {num(p.z, 2)}
+                    </td>
                     <td className={td} data-field="signal">
                       <span className="flex flex-wrap gap-x-2 gap-y-0.5">
                         {p.outOfControl ? <OutMark above={(value(p) ?? 0) > p.ucl} /> : null}
@@ -290,7 +336,8 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
       {data.standardisation ? (
         <p className="text-xs text-ink-700" data-testid="standardisation">
           <span className="font-semibold">Standardised to the grade mix:</span> {data.standardisation.reference} —{" "}
-          {data.standardisation.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${m.slabs.toLocaleString("en-GB")})`).join(", ")}. {data.standardisation.method}.
+          {data.standardisation.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${m.slabs.toLocaleString("en-GB")})`).join(", ")}.{" "}
+          {data.standardisation.method}.
         </p>
       ) : null}
     </div>

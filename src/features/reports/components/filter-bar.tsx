@@ -120,20 +120,29 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
       </label>
       <label className={labelClass}>
         <span className={labelText}>Risk band</span>
-        <select value={params.riskBand ?? ""} onChange={(e) => onChange({ riskBand: e.target.value || undefined })} className={inputClass} data-testid="filter-risk-band">
+        <select
+          value={params.riskBand ?? ""}
+          onChange={(e) => onChange({ riskBand: e.target.value || undefined })}
+          className={inputClass}
+          data-testid="filter-risk-band"
+        >
           <option value="">Any, or not scored</option>
           <option value="high">High</option>
           <option value="high,raised">High or raised</option>
           <option value="raised">Raised</option>
           <option value="usual">Usual</option>
-          {params.riskBand && !["high", "high,raised", "raised", "usual"].includes(params.riskBand) ? <option value={params.riskBand}>{params.riskBand}</option> : null}
+          {params.riskBand && !["high", "high,raised", "raised", "usual"].includes(params.riskBand) ? (
+            <option value={params.riskBand}>{params.riskBand}</option>
+          ) : null}
         </select>
       </label>
       <label className={`${labelClass} col-span-2`}>
         <span className={labelText}>Cause tag</span>
         <select value={params.cause ?? ""} onChange={(e) => onChange({ cause: e.target.value || undefined })} className={inputClass} data-testid="filter-cause">
           <option value="">Any cause, or none</option>
-          {params.cause && !choices.causeGroups.some((g) => g.tags.some((t) => t.code === params.cause)) ? <option value={params.cause}>{params.cause}</option> : null}
+          {params.cause && !choices.causeGroups.some((g) => g.tags.some((t) => t.code === params.cause)) ? (
+            <option value={params.cause}>{params.cause}</option>
+          ) : null}
           {choices.causeGroups.map((g) => (
             <optgroup key={g.code} label={g.name}>
               {g.tags.map((t) => (
@@ -148,10 +157,10 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
       </label>
       <div className="col-span-2 flex flex-wrap items-center gap-3 md:col-span-4 xl:col-span-6">
         <p className="text-xs text-ink-600">
-          Dates, strand, grade and transition choose the slabs; defect type, stage and severity decide which of their defects count. A slab
-          is <em>affected</em> when at least one live, unrejected defect passes. A cause tag keeps the defects that carry it (live taggings of any confidence). A risk band keeps the slabs the switched-on risk
-          models have scored (cast up to 90 days before a model was switched on, and every slab since) whose highest band is the one chosen —
-          under the chosen defect type's own model (refused in words when it has none).
+          Dates, strand, grade and transition choose the slabs; defect type, stage and severity decide which of their defects count. A slab is <em>affected</em>{" "}
+          when at least one live, unrejected defect passes. A cause tag keeps the defects that carry it (live taggings of any confidence). A risk band keeps the
+          slabs the switched-on risk models have scored (cast up to 90 days before a model was switched on, and every slab since) whose highest band is the one
+          chosen — under the chosen defect type's own model (refused in words when it has none).
         </p>
         <Button
           variant="ghost"

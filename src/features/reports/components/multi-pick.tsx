@@ -49,10 +49,8 @@ export function MultiPick({
 
   const chosen = [...value.groups.map((g) => `every ${g}`), ...value.items];
   const summary = chosen.length === 0 ? allLabel : chosen.length <= 2 ? chosen.join(", ") : `${chosen.slice(0, 2).join(", ")} +${chosen.length - 2}`;
-  const toggleGroup = (code: string, on: boolean) =>
-    onChange({ groups: on ? [...value.groups, code] : value.groups.filter((g) => g !== code), items: [] });
-  const toggleItem = (code: string, on: boolean) =>
-    onChange({ groups: [], items: on ? [...value.items, code] : value.items.filter((i) => i !== code) });
+  const toggleGroup = (code: string, on: boolean) => onChange({ groups: on ? [...value.groups, code] : value.groups.filter((g) => g !== code), items: [] });
+  const toggleItem = (code: string, on: boolean) => onChange({ groups: [], items: on ? [...value.items, code] : value.items.filter((i) => i !== code) });
 
   return (
     <div className="flex min-w-0 flex-col gap-1" data-testid={testId}>
@@ -77,7 +75,11 @@ export function MultiPick({
             Choose whole {groupNoun === "family" ? "families" : `${groupNoun === "category" ? "categories" : groupNoun + "s"}`} or single entries — not both.
           </p>
           {chosen.length ? (
-            <button type="button" className="mb-1 min-h-10 w-full rounded px-2 text-left text-sm font-semibold text-strand-700 hover:bg-strand-50" onClick={() => onChange({ groups: [], items: [] })}>
+            <button
+              type="button"
+              className="mb-1 min-h-10 w-full rounded px-2 text-left text-sm font-semibold text-strand-700 hover:bg-strand-50"
+              onClick={() => onChange({ groups: [], items: [] })}
+            >
               Clear: {allLabel.toLowerCase()}
             </button>
           ) : null}

@@ -26,13 +26,24 @@ export function OverviewView({ data }: { data: Overview }) {
   ];
   const paretoTotal = data.pareto.reduce((s, r) => s + r.defects, 0);
   const std = data.standardisation;
-  const second = useMemo(() => (std ? { name: "Standardised to the grade mix", rates: data.periods.map((p) => p.standardised?.rate ?? null) } : undefined), [std, data.periods]);
+  const second = useMemo(
+    () => (std ? { name: "Standardised to the grade mix", rates: data.periods.map((p) => p.standardised?.rate ?? null) } : undefined),
+    [std, data.periods],
+  );
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="overview-summary">
         <Figure label="Slabs (n)" value={t.slabs.toLocaleString("en-GB")} note={`${num(t.tonnes, 0)} t cast`} />
-        <Figure label="Share affected" value={pct(t.rate)} note={`${t.affected.toLocaleString("en-GB")} of n = ${t.slabs.toLocaleString("en-GB")} · 95 % CI ${pctRange(t.ciLower, t.ciUpper)}`} />
-        <Figure label="Defects per 100 slabs" value={num(t.per100Slabs, 2)} note={`${t.defects.toLocaleString("en-GB")} defects on ${t.slabs.toLocaleString("en-GB")} slabs`} />
+        <Figure
+          label="Share affected"
+          value={pct(t.rate)}
+          note={`${t.affected.toLocaleString("en-GB")} of n = ${t.slabs.toLocaleString("en-GB")} · 95 % CI ${pctRange(t.ciLower, t.ciUpper)}`}
+        />
+        <Figure
+          label="Defects per 100 slabs"
+          value={num(t.per100Slabs, 2)}
+          note={`${t.defects.toLocaleString("en-GB")} defects on ${t.slabs.toLocaleString("en-GB")} slabs`}
+        />
         <Figure label="Defects per 1000 t" value={num(t.per1000t, 2)} note={`${t.defects.toLocaleString("en-GB")} defects on ${num(t.tonnes, 0)} t`} />
       </div>
       <SmallNWarning notes={warnings} />
@@ -51,8 +62,9 @@ export function OverviewView({ data }: { data: Overview }) {
         {std ? (
           <p className="mt-1 text-xs text-ink-700" data-testid="standardisation">
             <span className="font-semibold">Standardised to the grade mix</span> (dashed line, diamonds): each {word}'s rate as if it had cast {std.reference} —{" "}
-            {std.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${m.slabs.toLocaleString("en-GB")})`).join(", ")}. A {word} whose standardised rate differs from its crude one
-            cast a different mix; compare {word}s on the standardised rate. {std.method.charAt(0).toUpperCase() + std.method.slice(1)}.
+            {std.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${m.slabs.toLocaleString("en-GB")})`).join(", ")}. A {word} whose standardised rate
+            differs from its crude one cast a different mix; compare {word}s on the standardised rate.{" "}
+            {std.method.charAt(0).toUpperCase() + std.method.slice(1)}.
           </p>
         ) : null}
         <div className="mt-3 max-h-96 overflow-y-auto">
@@ -86,17 +98,31 @@ export function OverviewView({ data }: { data: Overview }) {
                         {p.period}
                         {few ? <FewMark /> : null}
                       </td>
-                      <td className={tdNum} data-field="slabs">{p.slabs.toLocaleString("en-GB")}</td>
-                      <td className={tdNum} data-field="affected">{p.affected.toLocaleString("en-GB")}</td>
-                      <td className={tdNum} data-field="rate">{pct(p.rate)}</td>
+                      <td className={tdNum} data-field="slabs">
+                        {p.slabs.toLocaleString("en-GB")}
+                      </td>
+                      <td className={tdNum} data-field="affected">
+                        {p.affected.toLocaleString("en-GB")}
+                      </td>
+                      <td className={tdNum} data-field="rate">
+                        {pct(p.rate)}
+                      </td>
                       <td className={tdNum}>{pctRange(p.ciLower, p.ciUpper)}</td>
                       {std ? (
                         <>
-                          <td className={`${tdNum} border-l-2 border-ink-200 font-semibold`} data-field="standardised" title={p.standardised?.reason ?? undefined}>
+                          <td
+                            className={`${tdNum} border-l-2 border-ink-200 font-semibold`}
+                            data-field="standardised"
+                            title={p.standardised?.reason ?? undefined}
+                          >
                             {pct(p.standardised?.rate)}
                           </td>
                           <td className={tdNum} data-field="standardisedCi">
-                            {p.standardised?.rate === null || !p.standardised ? <span className="text-xs">{p.standardised?.reason ?? "—"}</span> : pctRange(p.standardised.ciLower, p.standardised.ciUpper)}
+                            {p.standardised?.rate === null || !p.standardised ? (
+                              <span className="text-xs">{p.standardised?.reason ?? "—"}</span>
+                            ) : (
+                              pctRange(p.standardised.ciLower, p.standardised.ciUpper)
+                            )}
                           </td>
                         </>
                       ) : null}
@@ -152,7 +178,12 @@ export function OverviewView({ data }: { data: Overview }) {
       <div className="grid gap-5 xl:grid-cols-2">
         <Card title="Share affected by grade">
           <Suspense fallback={<Spinner label="Loading the chart" />}>
-            <CategoryRateChart rows={data.byGrade.map((g) => ({ ...g, label: g.grade }))} fewN={FEW_SLABS} testId="grade-chart" label="Share of slabs affected by grade, with 95 % intervals" />
+            <CategoryRateChart
+              rows={data.byGrade.map((g) => ({ ...g, label: g.grade }))}
+              fewN={FEW_SLABS}
+              testId="grade-chart"
+              label="Share of slabs affected by grade, with 95 % intervals"
+            />
           </Suspense>
           <RateTable
             rows={data.byGrade.map((g) => ({ ...g, key: g.grade, label: g.grade }))}
@@ -165,9 +196,19 @@ export function OverviewView({ data }: { data: Overview }) {
         </Card>
         <Card title="Share affected by strand">
           <Suspense fallback={<Spinner label="Loading the chart" />}>
-            <CategoryRateChart rows={data.byStrand.map((s) => ({ ...s, label: `${s.caster} strand ${s.strand}` }))} fewN={FEW_SLABS} testId="strand-chart" label="Share of slabs affected by strand, with 95 % intervals" />
+            <CategoryRateChart
+              rows={data.byStrand.map((s) => ({ ...s, label: `${s.caster} strand ${s.strand}` }))}
+              fewN={FEW_SLABS}
+              testId="strand-chart"
+              label="Share of slabs affected by strand, with 95 % intervals"
+            />
           </Suspense>
-          <RateTable rows={data.byStrand.map((s) => ({ ...s, key: `${s.caster}-${s.strand}`, label: `${s.caster} strand ${s.strand}` }))} labelHeader="Strand" fewN={FEW_SLABS} testId="strand-table" />
+          <RateTable
+            rows={data.byStrand.map((s) => ({ ...s, key: `${s.caster}-${s.strand}`, label: `${s.caster} strand ${s.strand}` }))}
+            labelHeader="Strand"
+            fewN={FEW_SLABS}
+            testId="strand-table"
+          />
         </Card>
       </div>
     </div>

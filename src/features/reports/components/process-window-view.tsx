@@ -12,7 +12,8 @@ const WindowHeatmap = lazy(() => import("./charts/window-heatmap"));
 export function ProcessWindowView({ data, xDigits, yDigits }: { data: ProcessWindow; xDigits: number; yDigits: number }) {
   const sparse = data.cells.filter((c) => c.sparse).length;
   const u = (unit: string) => (unit === "–" ? "" : ` (${unit})`);
-  const bins = (edges: number[]) => (edges.length > 1 ? edges.slice(0, -1).map((lo, i) => ({ i, lo, hi: edges[i + 1]! })) : [{ i: 0, lo: edges[0] ?? NaN, hi: edges[0] ?? NaN }]);
+  const bins = (edges: number[]) =>
+    edges.length > 1 ? edges.slice(0, -1).map((lo, i) => ({ i, lo, hi: edges[i + 1]! })) : [{ i: 0, lo: edges[0] ?? NaN, hi: edges[0] ?? NaN }];
   const xBins = bins(data.x.edges);
   // Highest bin on top, as on the chart.
   const yBins = bins(data.y.edges).reverse();
@@ -20,7 +21,11 @@ export function ProcessWindowView({ data, xDigits, yDigits }: { data: ProcessWin
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
         <Figure label="Slabs with both values (n)" value={data.slabs.toLocaleString("en-GB")} />
-        <Figure label="Share affected" value={pct(data.slabs ? data.affected / data.slabs : null)} note={`${data.affected.toLocaleString("en-GB")} of n = ${data.slabs.toLocaleString("en-GB")}`} />
+        <Figure
+          label="Share affected"
+          value={pct(data.slabs ? data.affected / data.slabs : null)}
+          note={`${data.affected.toLocaleString("en-GB")} of n = ${data.slabs.toLocaleString("en-GB")}`}
+        />
         <Figure label="Cells" value={data.cells.length} note={`${data.x.edges.length - 1} × ${data.y.edges.length - 1}`} />
         <Figure label={`Cells under ${data.minN} slabs`} value={sparse} note="greyed, not to be read" />
       </div>
@@ -35,12 +40,14 @@ export function ProcessWindowView({ data, xDigits, yDigits }: { data: ProcessWin
           <WindowHeatmap data={data} xDigits={xDigits} yDigits={yDigits} />
         </Suspense>
         <p className="mt-1 text-xs text-ink-600">
-          Each cell: the share of its slabs affected (bold) and its number of slabs n. Two conditions that move together (a plant runs some
-          grades faster, with more brake) fill the diagonal and leave the corners thin; a corner's rate says little.
+          Each cell: the share of its slabs affected (bold) and its number of slabs n. Two conditions that move together (a plant runs some grades faster, with
+          more brake) fill the diagonal and leave the corners thin; a corner's rate says little.
         </p>
       </Card>
       <Card title="The grid in numbers">
-        <TableWrap caption={`Each cell: share of slabs affected, affected of n, and the Wilson 95 % interval. Cells under ${data.minN} slabs are greyed and marked.`}>
+        <TableWrap
+          caption={`Each cell: share of slabs affected, affected of n, and the Wilson 95 % interval. Cells under ${data.minN} slabs are greyed and marked.`}
+        >
           <table className="w-full text-sm" data-testid="cells-table">
             <thead>
               <tr className="border-b-2 border-ink-200">
@@ -69,7 +76,12 @@ export function ProcessWindowView({ data, xDigits, yDigits }: { data: ProcessWin
                   </th>
                   {xBins.map((x) => {
                     const c = data.cells.find((k) => k.xi === x.i && k.yi === y.i);
-                    if (!c) return <td key={x.i} className={tdNum}>—</td>;
+                    if (!c)
+                      return (
+                        <td key={x.i} className={tdNum}>
+                          —
+                        </td>
+                      );
                     return (
                       <td key={x.i} className={`${tdNum} ${c.sparse ? "bg-ink-50 text-ink-500" : ""}`} data-testid="cell" data-sparse={c.sparse || undefined}>
                         <div className="font-semibold">{pct(c.rate)}</div>

@@ -15,7 +15,7 @@ type Stratified = NonNullable<RateByVariable["stratified"]>;
 type SlopeFit = Adjusted["crude"];
 
 /** "per 0.1 m/min" from a step and the variable's unit. */
-const perStepWords = (step: number, unit: string) => `per ${num(step, step < 1 ? String(step).split(".")[1]?.length ?? 0 : 0)}${unit ? ` ${unit}` : ""}`;
+const perStepWords = (step: number, unit: string) => `per ${num(step, step < 1 ? (String(step).split(".")[1]?.length ?? 0) : 0)}${unit ? ` ${unit}` : ""}`;
 
 /** One side of the comparison: the odds ratio per readable step, its interval and p, and per unit below. */
 function Side({ title, fit, unit, prefix, strong }: { title: string; fit: SlopeFit; unit: string; prefix: string; strong?: boolean }) {
@@ -28,10 +28,12 @@ function Side({ title, fit, unit, prefix, strong }: { title: string; fit: SlopeF
         {sig(fit.perStep.oddsRatio, 3)}
       </div>
       <div className="text-sm tabular-nums text-ink-800">
-        95 % CI <span data-testid={`${prefix}-ci`}>{ratioRange(fit.perStep.ciLower, fit.perStep.ciUpper)}</span> · p <span data-testid={`${prefix}-p`}>{pValue(fit.p)}</span>
+        95 % CI <span data-testid={`${prefix}-ci`}>{ratioRange(fit.perStep.ciLower, fit.perStep.ciUpper)}</span> · p{" "}
+        <span data-testid={`${prefix}-p`}>{pValue(fit.p)}</span>
       </div>
       <div className="mt-1 text-xs tabular-nums text-ink-600">
-        per 1{unit ? ` ${unit}` : " unit"}: <span data-testid={`${prefix}-or-unit`}>{sig(fit.oddsRatio, 3)}</span> ({ratioRange(fit.oddsRatioCiLower, fit.oddsRatioCiUpper)})
+        per 1{unit ? ` ${unit}` : " unit"}: <span data-testid={`${prefix}-or-unit`}>{sig(fit.oddsRatio, 3)}</span> (
+        {ratioRange(fit.oddsRatioCiLower, fit.oddsRatioCiUpper)})
       </div>
     </div>
   );
@@ -60,8 +62,9 @@ export function RateAdjustedCard({ adjusted, variable, method }: { adjusted: Adj
             {se.short} standard errors
           </span>
           {": "}
-          {se.long} n = <span data-testid="adjusted-slabs">{adjusted.slabs.toLocaleString("en-GB")}</span> slabs ({adjusted.affected.toLocaleString("en-GB")} affected) from{" "}
-          {plural(adjusted.heats, "heat")}; both answers use the same slabs and the same kind of standard errors. Wald 95 % intervals, two-sided p.
+          {se.long} n = <span data-testid="adjusted-slabs">{adjusted.slabs.toLocaleString("en-GB")}</span> slabs ({adjusted.affected.toLocaleString("en-GB")}{" "}
+          affected) from {plural(adjusted.heats, "heat")}; both answers use the same slabs and the same kind of standard errors. Wald 95 % intervals, two-sided
+          p.
         </p>
         {method ? <p className="text-xs text-ink-600">{method.charAt(0).toUpperCase() + method.slice(1)}.</p> : null}
       </div>
@@ -82,10 +85,12 @@ export function RateStratifiedCard({ data, stratified, digits, minN }: { data: R
         <StratumRatesChart data={data} stratified={stratified} digits={digits} />
       </Suspense>
       <p className="mt-1 text-xs text-ink-600">
-        The bins of the whole, one curve per {by}, each with its own marker and line and its name at its end. A bin where a {by} holds fewer than {minN} of its slabs is left out of
-        that curve.
+        The bins of the whole, one curve per {by}, each with its own marker and line and its name at its end. A bin where a {by} holds fewer than {minN} of its
+        slabs is left out of that curve.
       </p>
-      <TableWrap caption={`Odds ratio of ${lowerFirst(data.variable.label)} alone within each ${by}, ${per}, with ${SE_WORDS[stratified.seMethod].short.toLowerCase()} standard errors; Wald 95 % intervals, two-sided p. Share affected with its Wilson 95 % interval.`}>
+      <TableWrap
+        caption={`Odds ratio of ${lowerFirst(data.variable.label)} alone within each ${by}, ${per}, with ${SE_WORDS[stratified.seMethod].short.toLowerCase()} standard errors; Wald 95 % intervals, two-sided p. Share affected with its Wilson 95 % interval.`}
+      >
         <table className="mt-3 w-full text-sm" data-testid="strata-table">
           <thead>
             <tr className="border-b-2 border-ink-200">
@@ -109,13 +114,27 @@ export function RateStratifiedCard({ data, stratified, digits, minN }: { data: R
                     <span data-field="label">{s.label}</span>
                     {few ? <FewMark /> : null}
                   </td>
-                  <td className={tdNum} data-field="slabs">{s.slabs.toLocaleString("en-GB")}</td>
-                  <td className={tdNum} data-field="affected">{s.affected.toLocaleString("en-GB")}</td>
-                  <td className={tdNum} data-field="rate">{pct(s.rate)}</td>
-                  <td className={tdNum} data-field="ci">{pctRange(s.ciLower, s.ciUpper)}</td>
-                  <td className={`${tdNum} font-semibold`} data-field="or">{sig(s.logistic.perStep.oddsRatio, 3)}</td>
-                  <td className={tdNum} data-field="orCi">{ratioRange(s.logistic.perStep.ciLower, s.logistic.perStep.ciUpper)}</td>
-                  <td className={tdNum} data-field="p">{pValue(s.logistic.p)}</td>
+                  <td className={tdNum} data-field="slabs">
+                    {s.slabs.toLocaleString("en-GB")}
+                  </td>
+                  <td className={tdNum} data-field="affected">
+                    {s.affected.toLocaleString("en-GB")}
+                  </td>
+                  <td className={tdNum} data-field="rate">
+                    {pct(s.rate)}
+                  </td>
+                  <td className={tdNum} data-field="ci">
+                    {pctRange(s.ciLower, s.ciUpper)}
+                  </td>
+                  <td className={`${tdNum} font-semibold`} data-field="or">
+                    {sig(s.logistic.perStep.oddsRatio, 3)}
+                  </td>
+                  <td className={tdNum} data-field="orCi">
+                    {ratioRange(s.logistic.perStep.ciLower, s.logistic.perStep.ciUpper)}
+                  </td>
+                  <td className={tdNum} data-field="p">
+                    {pValue(s.logistic.p)}
+                  </td>
                   {withNotes ? <td className={`${td} text-xs`}>{s.logistic.reason ?? ""}</td> : null}
                 </tr>
               );

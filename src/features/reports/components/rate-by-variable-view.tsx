@@ -36,13 +36,21 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="rate-summary">
-        <Figure label="Slabs with a value" value={<span data-testid="summary-slabs">{data.slabs.toLocaleString("en-GB")}</span>} note={data.slabsWithoutValue ? `${plural(data.slabsWithoutValue, "slab")} without a value left out` : "every slab in the filters"} />
+        <Figure
+          label="Slabs with a value"
+          value={<span data-testid="summary-slabs">{data.slabs.toLocaleString("en-GB")}</span>}
+          note={data.slabsWithoutValue ? `${plural(data.slabsWithoutValue, "slab")} without a value left out` : "every slab in the filters"}
+        />
         <Figure
           label="Share affected"
           value={pct(data.slabs ? data.affected / data.slabs : null)}
           note={<span data-testid="summary-affected">{`${data.affected.toLocaleString("en-GB")} affected of n = ${data.slabs.toLocaleString("en-GB")}`}</span>}
         />
-        <Figure label={`Odds ratio ${perUnit}`} value={sig(logistic.oddsRatio, 3)} note={`95 % CI ${sig(logistic.oddsRatioCiLower, 3)}–${sig(logistic.oddsRatioCiUpper, 3)} · p ${pValue(logistic.p)}`} />
+        <Figure
+          label={`Odds ratio ${perUnit}`}
+          value={sig(logistic.oddsRatio, 3)}
+          note={`95 % CI ${sig(logistic.oddsRatioCiLower, 3)}–${sig(logistic.oddsRatioCiUpper, 3)} · p ${pValue(logistic.p)}`}
+        />
         <Figure label="Spearman rank correlation ρ" value={sig(spearman.rho, 2)} note={`p ${pValue(spearman.p)} · n = ${data.slabs.toLocaleString("en-GB")}`} />
       </div>
       <SmallNWarning
@@ -52,9 +60,13 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
           // The sentence and the missing adjusted estimate are said in the adjusted card.
           ...data.notes.filter((n) => n !== data.adjusted?.changeInEstimate.sentence && !n.startsWith("Adjusted odds ratio not given")),
           // The server warns below 10 affected slabs; a logistic fit and its odds ratio stay rough well above that.
-          data.affected >= 10 && data.affected < FEW_SLABS ? `Only ${data.affected} affected slabs: the odds ratio's interval is wide and the bins' rates rest on a handful each.` : "",
+          data.affected >= 10 && data.affected < FEW_SLABS
+            ? `Only ${data.affected} affected slabs: the odds ratio's interval is wide and the bins' rates rest on a handful each.`
+            : "",
         ]}
-      >{thinBins && !data.notes.some((n) => n.includes("fewer than")) ? `${plural(thinBins, "bin")} hold fewer than ${minN} slabs (greyed).` : null}</SmallNWarning>
+      >
+        {thinBins && !data.notes.some((n) => n.includes("fewer than")) ? `${plural(thinBins, "bin")} hold fewer than ${minN} slabs (greyed).` : null}
+      </SmallNWarning>
       {data.adjusted ? <RateAdjustedCard adjusted={data.adjusted} variable={data.variable} method={methods.adjusted} /> : null}
       <Card title={`Share of slabs affected against ${lowerFirst(data.variable.label)}`}>
         <Suspense fallback={<Spinner label="Loading the chart" />}>
@@ -77,14 +89,33 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
               {data.bins.map((b) => {
                 const few = b.slabs < minN;
                 return (
-                  <tr key={b.lower} className={`border-b border-ink-100 ${few ? "bg-ink-50 text-ink-500" : ""}`} data-testid="bin-row" data-few={few || undefined}>
-                    <td className={tdNum} data-field="lower">{edgeText(b.lower, digits)}</td>
-                    <td className={tdNum} data-field="upper">{edgeText(b.upper, digits)}</td>
-                    <td className={tdNum} data-field="slabs">{b.slabs.toLocaleString("en-GB")}</td>
-                    <td className={tdNum} data-field="affected">{b.affected.toLocaleString("en-GB")}</td>
-                    <td className={tdNum} data-field="rate">{pct(b.rate)}</td>
-                    <td className={tdNum} data-field="ciLower">{pct(b.ciLower)}</td>
-                    <td className={tdNum} data-field="ciUpper">{pct(b.ciUpper)}</td>
+                  <tr
+                    key={b.lower}
+                    className={`border-b border-ink-100 ${few ? "bg-ink-50 text-ink-500" : ""}`}
+                    data-testid="bin-row"
+                    data-few={few || undefined}
+                  >
+                    <td className={tdNum} data-field="lower">
+                      {edgeText(b.lower, digits)}
+                    </td>
+                    <td className={tdNum} data-field="upper">
+                      {edgeText(b.upper, digits)}
+                    </td>
+                    <td className={tdNum} data-field="slabs">
+                      {b.slabs.toLocaleString("en-GB")}
+                    </td>
+                    <td className={tdNum} data-field="affected">
+                      {b.affected.toLocaleString("en-GB")}
+                    </td>
+                    <td className={tdNum} data-field="rate">
+                      {pct(b.rate)}
+                    </td>
+                    <td className={tdNum} data-field="ciLower">
+                      {pct(b.ciLower)}
+                    </td>
+                    <td className={tdNum} data-field="ciUpper">
+                      {pct(b.ciUpper)}
+                    </td>
                   </tr>
                 );
               })}
@@ -92,12 +123,15 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
           </table>
         </TableWrap>
         <p className="mt-1 text-xs text-ink-600">
-          Bars span their bins; whiskers are Wilson 95 % intervals; the dashed curve is the fitted logistic model. Grey, hatched bars hold fewer than {minN} slabs.
+          Bars span their bins; whiskers are Wilson 95 % intervals; the dashed curve is the fitted logistic model. Grey, hatched bars hold fewer than {minN}{" "}
+          slabs.
         </p>
       </Card>
       {data.stratified ? <RateStratifiedCard data={data} stratified={data.stratified} digits={digits} minN={minN} /> : null}
       <Card title="Tests of association (every p two-sided)">
-        <TableWrap caption={`n = ${data.slabs.toLocaleString("en-GB")} slabs (${data.affected.toLocaleString("en-GB")} affected, ${(data.slabs - data.affected).toLocaleString("en-GB")} sound) in every test.`}>
+        <TableWrap
+          caption={`n = ${data.slabs.toLocaleString("en-GB")} slabs (${data.affected.toLocaleString("en-GB")} affected, ${(data.slabs - data.affected).toLocaleString("en-GB")} sound) in every test.`}
+        >
           <table className="w-full text-sm" data-testid="tests-table">
             <thead>
               <tr className="border-b-2 border-ink-200">
@@ -111,8 +145,12 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
               {tests.map((t) => (
                 <tr key={t.key} className="border-b border-ink-100 align-top" data-testid="test-row" data-test={t.key}>
                   <td className={`${td} font-semibold`}>{t.name}</td>
-                  <td className={tdNum} data-field="statistic">{t.stat}</td>
-                  <td className={tdNum} data-field="p">{pValue(t.p)}</td>
+                  <td className={tdNum} data-field="statistic">
+                    {t.stat}
+                  </td>
+                  <td className={tdNum} data-field="p">
+                    {pValue(t.p)}
+                  </td>
                   <td className={`${td} text-ink-700`}>{t.method}</td>
                 </tr>
               ))}
@@ -124,7 +162,9 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
         <Suspense fallback={<Spinner label="Loading the chart" />}>
           <DistributionChart data={data} digits={digits} />
         </Suspense>
-        <TableWrap caption={`Quantiles of type 7 (linear interpolation) on the grouped values. The strip shows up to 300 slabs of each group, taken evenly through its distribution.`}>
+        <TableWrap
+          caption={`Quantiles of type 7 (linear interpolation) on the grouped values. The strip shows up to 300 slabs of each group, taken evenly through its distribution.`}
+        >
           <table className="mt-3 w-full text-sm" data-testid="distribution-table">
             <thead>
               <tr className="border-b-2 border-ink-200">

@@ -15,21 +15,21 @@ export function ReportCautions({ open = false }: { open?: boolean }) {
             !
           </span>
           <span className="min-w-0 flex-1">
-            <strong>Association is not causation.</strong> Compare within one grade family; a change of casting speed, brake current, SEN depth
-            or superheat goes through the plant's change procedure (it can cause breakouts).{" "}
+            <strong>Association is not causation.</strong> Compare within one grade family; a change of casting speed, brake current, SEN depth or superheat
+            goes through the plant's change procedure (it can cause breakouts).{" "}
             <span className="whitespace-nowrap font-semibold text-strand-700 underline underline-offset-2 group-open:hidden">All four cautions</span>
             <span className="hidden whitespace-nowrap font-semibold text-strand-700 underline underline-offset-2 group-open:inline">Fewer words</span>
           </span>
         </summary>
         <ul className="mt-1 mb-1 list-disc space-y-1 pl-9" data-testid="report-cautions-full">
           <li>
-            A rate that rises with a condition may owe it to something else that moves with it — above all the <strong>grade mix</strong>, which
-            confounds almost everything (grades are cast at their own speeds, superheats and brake settings). Compare within one grade or family
-            before drawing a conclusion; the adjusted answers take out only what their terms measure.
+            A rate that rises with a condition may owe it to something else that moves with it — above all the <strong>grade mix</strong>, which confounds
+            almost everything (grades are cast at their own speeds, superheats and brake settings). Compare within one grade or family before drawing a
+            conclusion; the adjusted answers take out only what their terms measure.
           </li>
           <li>
-            Changing casting speed, brake current, SEN depth or superheat goes through the plant's own change procedure and its licensed
-            metallurgists: such changes can cause breakouts. Defer to local codes and licensed practice.
+            Changing casting speed, brake current, SEN depth or superheat goes through the plant's own change procedure and its licensed metallurgists: such
+            changes can cause breakouts. Defer to local codes and licensed practice.
           </li>
           <li>Dispositions and claims follow the plant's quality procedures and the customer's specification.</li>
           <li>Any follow-up inspection in the slab yard happens only where the site's hot-yard, crane and PPE rules allow.</li>

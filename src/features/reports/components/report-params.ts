@@ -20,22 +20,26 @@ const WORDS: Omit<ReportSpec, "defaults" | "optional">[] = [
   {
     kind: "overview",
     title: "Overview",
-    summary: "Share of slabs affected by period with its interval, defects per 100 slabs and per 1000 t, a Pareto of defect types, rates by grade and by strand.",
+    summary:
+      "Share of slabs affected by period with its interval, defects per 100 slabs and per 1000 t, a Pareto of defect types, rates by grade and by strand.",
   },
   {
     kind: "rate-by-variable",
     title: "Rate against a variable",
-    summary: "Binned rates with Wilson intervals against one casting condition; Spearman, logistic odds ratio and Mann–Whitney between affected and sound slabs; the odds ratio adjusted for the grade mix and the rates split by grade family, strand or another group on request.",
+    summary:
+      "Binned rates with Wilson intervals against one casting condition; Spearman, logistic odds ratio and Mann–Whitney between affected and sound slabs; the odds ratio adjusted for the grade mix and the rates split by grade family, strand or another group on request.",
   },
   {
     kind: "screening",
     title: "Screening",
-    summary: "Every condition ranked by its association with the defect adjusted for the grade family (or what you choose): odds ratios per interquartile range, crude beside adjusted, p-values adjusted by Benjamini–Hochberg.",
+    summary:
+      "Every condition ranked by its association with the defect adjusted for the grade family (or what you choose): odds ratios per interquartile range, crude beside adjusted, p-values adjusted by Benjamini–Hochberg.",
   },
   {
     kind: "adjusted",
     title: "Adjusted model",
-    summary: "Is it the condition, or the grade mix? Crude and adjusted odds ratios side by side for the conditions you examine, adjusted for grade family or anything else, with heat-clustered intervals and a forest plot.",
+    summary:
+      "Is it the condition, or the grade mix? Crude and adjusted odds ratios side by side for the conditions you examine, adjusted for grade family or anything else, with heat-clustered intervals and a forest plot.",
   },
   {
     kind: "process-window",
@@ -45,12 +49,14 @@ const WORDS: Omit<ReportSpec, "defaults" | "optional">[] = [
   {
     kind: "control-chart",
     title: "Control chart",
-    summary: "p-chart, Laney p′ chart or u-chart by day or week: limits from a baseline period applied to the later ones, Western Electric run rules, out-of-control periods marked.",
+    summary:
+      "p-chart, Laney p′ chart or u-chart by day or week: limits from a baseline period applied to the later ones, Western Electric run rules, out-of-control periods marked.",
   },
   {
     kind: "before-after",
     title: "Before and after",
-    summary: "Two periods, or two ranges of one condition: the difference in rates with its interval, and Fisher's or the chi-square test; compared within each grade family (Mantel–Haenszel) on request.",
+    summary:
+      "Two periods, or two ranges of one condition: the difference in rates with its interval, and Fisher's or the chi-square test; compared within each grade family (Mantel–Haenszel) on request.",
   },
   {
     kind: "slab-positions",
@@ -60,7 +66,8 @@ const WORDS: Omit<ReportSpec, "defaults" | "optional">[] = [
   {
     kind: "cause-pareto",
     title: "Cause Pareto",
-    summary: "The cause tags of the defects passing the filters, largest first, with the cumulative share, the confidence of each tagging and how many defects carry no cause yet.",
+    summary:
+      "The cause tags of the defects passing the filters, largest first, with the cumulative share, the confidence of each tagging and how many defects carry no cause yet.",
   },
 ];
 
@@ -69,7 +76,13 @@ export const REPORTS: ReportSpec[] = WORDS.map((w) => ({ ...w, ...REPORT_QUERIES
 export const reportSpec = (kind: ReportKind): ReportSpec => REPORTS.find((r) => r.kind === kind)!;
 export const reportPath = (kind: ReportKind, query = "") => `/reports/${kind}${query ? `?${query}` : ""}`;
 
-export const listOf = (v: string | undefined): string[] => (v ? v.split(",").map((s) => s.trim()).filter(Boolean) : []);
+export const listOf = (v: string | undefined): string[] =>
+  v
+    ? v
+        .split(",")
+        .map((s) => s.trim())
+        .filter(Boolean)
+    : [];
 export const joinList = (items: string[]): string | undefined => (items.length ? items.join(",") : undefined);
 
 /** Whether any filter narrows the slabs or the defects. */

@@ -59,16 +59,34 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
         <Figure label="Slabs (n)" value={data.slabs.toLocaleString("en-GB")} />
-        <Figure label="Share affected" value={pct(data.slabs ? data.affected / data.slabs : null)} note={`${data.affected.toLocaleString("en-GB")} of n = ${data.slabs.toLocaleString("en-GB")}`} />
+        <Figure
+          label="Share affected"
+          value={pct(data.slabs ? data.affected / data.slabs : null)}
+          note={`${data.affected.toLocaleString("en-GB")} of n = ${data.slabs.toLocaleString("en-GB")}`}
+        />
         <Figure
           label="Adjusted for"
           value={<span data-testid="screening-adjusted-for">{adjusted ? data.adjustFor.map((t) => t.label).join(", ") : "Nothing"}</span>}
-          note={adjusted ? `${SE_WORDS[data.seMethod].short.toLowerCase()} SEs · ${data.tests.adjusted} adjusted tests` : `crude only · ${data.tests.crude} tests`}
+          note={
+            adjusted ? `${SE_WORDS[data.seMethod].short.toLowerCase()} SEs · ${data.tests.adjusted} adjusted tests` : `crude only · ${data.tests.crude} tests`
+          }
         />
-        <Figure label={adjusted ? "Adjusted tests, BH p below 0.05" : "p adjusted (BH) below 0.05"} value={below} note="Benjamini–Hochberg false discovery rate 5 %" />
+        <Figure
+          label={adjusted ? "Adjusted tests, BH p below 0.05" : "p adjusted (BH) below 0.05"}
+          value={below}
+          note="Benjamini–Hochberg false discovery rate 5 %"
+        />
       </div>
-      <SmallNWarning notes={[...data.notes.filter((n) => n.startsWith("Only")), few ? `${plural(few, "variable")} rest on few slabs or small expected counts, or cannot be tested (marked).` : ""]} />
-      <Card title={adjusted ? `Variables ranked by their test adjusted for ${adjustWords}` : "Variables ranked by adjusted p (crude tests)"} bodyClassName="p-2 sm:p-4">
+      <SmallNWarning
+        notes={[
+          ...data.notes.filter((n) => n.startsWith("Only")),
+          few ? `${plural(few, "variable")} rest on few slabs or small expected counts, or cannot be tested (marked).` : "",
+        ]}
+      />
+      <Card
+        title={adjusted ? `Variables ranked by their test adjusted for ${adjustWords}` : "Variables ranked by adjusted p (crude tests)"}
+        bodyClassName="p-2 sm:p-4"
+      >
         <TableWrap caption={data.notes.filter((n) => !n.startsWith("Only")).join(" ")}>
           <table className="w-full text-sm" data-testid="screening-table">
             <thead>
@@ -125,10 +143,18 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                 if (!v.testable) {
                   // Nothing to test (no spread, no value, one category): one compact row saying why, not counted in BH.
                   return (
-                    <tr key={v.key} className="border-b border-ink-100 align-top text-ink-500" data-testid="screening-row" data-key={v.key} data-testable="false">
+                    <tr
+                      key={v.key}
+                      className="border-b border-ink-100 align-top text-ink-500"
+                      data-testid="screening-row"
+                      data-key={v.key}
+                      data-testable="false"
+                    >
                       <td className={tdNum} data-field="rank" />
                       <td className={`${td} ${derived ? "pl-6" : ""}`}>{label}</td>
-                      <td className={tdNum} data-field="n">{v.n.toLocaleString("en-GB")}</td>
+                      <td className={tdNum} data-field="n">
+                        {v.n.toLocaleString("en-GB")}
+                      </td>
                       <td colSpan={cols - 3} className={`${td} text-xs`} data-field="reason">
                         {v.reason ?? "not testable"}
                       </td>
@@ -155,7 +181,9 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                       ) : null}
                       {v.kind === "categorical" ? <div className="text-xs text-ink-600">{v.method}</div> : null}
                     </td>
-                    <td className={tdNum} data-field="n">{v.n.toLocaleString("en-GB")}</td>
+                    <td className={tdNum} data-field="n">
+                      {v.n.toLocaleString("en-GB")}
+                    </td>
                     <td className={tdNum} data-field="iqr">
                       {v.iqr === null ? "—" : `${num(v.iqr, d)}${unit}`}
                     </td>
@@ -200,7 +228,9 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                     <td className={`${td} min-w-40 text-xs`}>
                       {v.kind === "numeric" ? (
                         <span className="tabular-nums">
-                          <span className="text-sm">{v.effect === null ? "—" : `${v.effect > 0 ? "+" : v.effect < 0 ? "−" : ""}${num(Math.abs(v.effect), d)}${unit}`}</span>
+                          <span className="text-sm">
+                            {v.effect === null ? "—" : `${v.effect > 0 ? "+" : v.effect < 0 ? "−" : ""}${num(Math.abs(v.effect), d)}${unit}`}
+                          </span>
                           <span className="block text-ink-600">
                             mean {num(v.meanAffected, d)} affected, {num(v.meanSound, d)} sound
                           </span>
@@ -218,7 +248,10 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                     </td>
                     <td className={td}>
                       {v.kind === "numeric" ? (
-                        <Link to={linkFor(v.key)} className="inline-flex min-h-11 items-center whitespace-nowrap text-sm font-semibold text-strand-700 underline">
+                        <Link
+                          to={linkFor(v.key)}
+                          className="inline-flex min-h-11 items-center whitespace-nowrap text-sm font-semibold text-strand-700 underline"
+                        >
                           Rate against it
                         </Link>
                       ) : null}

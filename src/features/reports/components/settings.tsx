@@ -85,7 +85,15 @@ export function SettingsRow({ children }: { children: ReactNode }) {
 }
 
 /** Crude rates only, or each period's rate directly standardised to the grade-family mix beside it. */
-export function StandardiseChoice({ value, onChange, testId = "standardise-select" }: { value: string | undefined; onChange: (v: string | undefined) => void; testId?: string }) {
+export function StandardiseChoice({
+  value,
+  onChange,
+  testId = "standardise-select",
+}: {
+  value: string | undefined;
+  onChange: (v: string | undefined) => void;
+  testId?: string;
+}) {
   return (
     <Choice
       label="Grade mix"

@@ -13,7 +13,13 @@ const SlabDensityChart = lazy(() => import("./charts/slab-density-chart"));
 /** Below this many defects a position pattern is mostly noise. */
 const FEW_DEFECTS = 30;
 
-const SHORT_FACE: Record<string, string> = { inner: "Inner (top)", outer: "Outer (bottom)", left: "Left narrow", right: "Right narrow", section: "Cross-section" };
+const SHORT_FACE: Record<string, string> = {
+  inner: "Inner (top)",
+  outer: "Outer (bottom)",
+  left: "Left narrow",
+  right: "Right narrow",
+  section: "Cross-section",
+};
 const faceShort = (f: string) => SHORT_FACE[f] ?? f;
 
 const band = (lo: number, hi: number) => `${Math.round(lo * 100)}–${Math.round(hi * 100)} %`;
@@ -27,13 +33,26 @@ export function SlabPositionsView({ data }: { data: SlabPositions }) {
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
-        <Figure label="Defects with a position (n)" value={<span data-testid="positions-n">{data.defects.toLocaleString("en-GB")}</span>} note={`on ${plural(data.slabs, "slab")}`} />
+        <Figure
+          label="Defects with a position (n)"
+          value={<span data-testid="positions-n">{data.defects.toLocaleString("en-GB")}</span>}
+          note={`on ${plural(data.slabs, "slab")}`}
+        />
         {data.byFace
           .filter((f) => f.face === "inner" || f.face === "outer")
           .map((f) => (
-            <Figure key={f.face} label={faceLabel(f.face)} value={f.defects.toLocaleString("en-GB")} note={`${pct(data.defects ? f.defects / data.defects : null, 1)} of n = ${data.defects}`} />
+            <Figure
+              key={f.face}
+              label={faceLabel(f.face)}
+              value={f.defects.toLocaleString("en-GB")}
+              note={`${pct(data.defects ? f.defects / data.defects : null, 1)} of n = ${data.defects}`}
+            />
           ))}
-        <Figure label="Narrow faces" value={data.byFace.filter((f) => f.face === "left" || f.face === "right").reduce((s, f) => s + f.defects, 0)} note={section ? `${section} more on cross-sections` : "left and right together"} />
+        <Figure
+          label="Narrow faces"
+          value={data.byFace.filter((f) => f.face === "left" || f.face === "right").reduce((s, f) => s + f.defects, 0)}
+          note={section ? `${section} more on cross-sections` : "left and right together"}
+        />
       </div>
       <SmallNWarning
         notes={[
@@ -46,8 +65,8 @@ export function SlabPositionsView({ data }: { data: SlabPositions }) {
           <SlabDensityChart data={data} />
         </Suspense>
         <p className="mt-1 text-xs text-ink-600">
-          Positions are shares of each slab's own length and of the face's width (thickness on the narrow faces), so slabs of different
-          sizes add up. Each cell counts defects, not slabs. Cross-section findings ({section}) are counted in the tables only.
+          Positions are shares of each slab's own length and of the face's width (thickness on the narrow faces), so slabs of different sizes add up. Each cell
+          counts defects, not slabs. Cross-section findings ({section}) are counted in the tables only.
           {placed < data.defects ? ` ${data.defects - placed} defects lack an across position and count along the length only.` : ""}
         </p>
       </Card>

@@ -19,7 +19,19 @@ export function TableWrap({ children, caption }: { children: ReactNode; caption?
 }
 
 /** Rates of named groups with n, affected, the rate and its Wilson interval; rows with few slabs greyed and marked. */
-export function RateTable({ rows, labelHeader, fewN, testId, extra }: { rows: (RateRow & { key: string })[]; labelHeader: ReactNode; fewN: number; testId: string; extra?: { header: string; cell: (i: number) => ReactNode }[] }) {
+export function RateTable({
+  rows,
+  labelHeader,
+  fewN,
+  testId,
+  extra,
+}: {
+  rows: (RateRow & { key: string })[];
+  labelHeader: ReactNode;
+  fewN: number;
+  testId: string;
+  extra?: { header: string; cell: (i: number) => ReactNode }[];
+}) {
   return (
     <TableWrap>
       <table className="w-full text-sm" data-testid={testId}>

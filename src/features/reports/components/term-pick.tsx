@@ -17,7 +17,8 @@ interface TermOption {
 }
 
 function optionsOf(group: "place" | VariableGroup): TermOption[] {
-  if (group === "place") return CATEGORICAL_KEYS.map((k) => ({ key: k, label: CATEGORICAL_LABELS[k], note: k === "grade_family" ? "offered first" : undefined }));
+  if (group === "place")
+    return CATEGORICAL_KEYS.map((k) => ({ key: k, label: CATEGORICAL_LABELS[k], note: k === "grade_family" ? "offered first" : undefined }));
   return VARIABLES.filter((v) => v.group === group).map((v) => ({ key: v.key, label: `${v.label}${v.unit !== "–" ? ` (${v.unit})` : ""}` }));
 }
 
@@ -95,7 +96,11 @@ export function TermPick({
             {hint ?? `Tick up to ${max}.`} {full ? `${max} ticked: untick one to choose another.` : ""}
           </p>
           {value.length > min ? (
-            <button type="button" className="mb-1 min-h-12 w-full rounded px-2 text-left text-sm font-semibold text-strand-700 hover:bg-strand-50" onClick={() => onChange(min > 0 ? value.slice(0, min) : [])}>
+            <button
+              type="button"
+              className="mb-1 min-h-12 w-full rounded px-2 text-left text-sm font-semibold text-strand-700 hover:bg-strand-50"
+              onClick={() => onChange(min > 0 ? value.slice(0, min) : [])}
+            >
               {min > 0 ? `Keep only ${termLabel(value[0]!).toLowerCase()}` : `Clear: ${emptyLabel.toLowerCase()}`}
             </button>
           ) : null}
@@ -107,7 +112,10 @@ export function TermPick({
                 const why = taken[o.key];
                 const locked = Boolean(why) || (!on && full) || (on && value.length <= min);
                 return (
-                  <label key={o.key} className={`flex min-h-12 items-center gap-2 rounded px-2 text-sm ${locked ? "text-ink-500" : "cursor-pointer hover:bg-ink-50"}`}>
+                  <label
+                    key={o.key}
+                    className={`flex min-h-12 items-center gap-2 rounded px-2 text-sm ${locked ? "text-ink-500" : "cursor-pointer hover:bg-ink-50"}`}
+                  >
                     <input type="checkbox" className="h-5 w-5 shrink-0" checked={on} disabled={locked} onChange={(e) => toggle(o.key, e.target.checked)} />
                     <span>
                       {o.label}

@@ -7,7 +7,11 @@ import { ReportChart } from "@/features/reports/components/charts/report-chart";
 
 /** How a month is marked on the chart: a shape and a word, never colour alone. */
 export const monthMark = (m: RiskDrift["months"][number]) =>
-  m.drifted ? { symbol: "triangle", word: "Drifted" } : m.judged ? { symbol: "circle", word: "Within the limits" } : { symbol: "emptyCircle", word: "Too few slabs to judge" };
+  m.drifted
+    ? { symbol: "triangle", word: "Drifted" }
+    : m.judged
+      ? { symbol: "circle", word: "Within the limits" }
+      : { symbol: "emptyCircle", word: "Too few slabs to judge" };
 
 /**
  * Predicted against observed share of slabs with the defect, month by month on the slabs the model
@@ -38,7 +42,16 @@ export function DriftChart({ drift }: { drift: RiskDrift }) {
         },
       },
       xAxis: { type: "category", data: months.map((m) => m.month), name: "Month cast (UTC)", nameLocation: "middle", nameGap: 34 },
-      yAxis: { type: "value", min: 0, max: top, name: "Share of slabs with the defect", nameLocation: "middle", nameRotate: 90, nameGap: 48, axisLabel: { formatter: pctAxis(top < 0.05 ? 1 : 0), showMaxLabel: false } },
+      yAxis: {
+        type: "value",
+        min: 0,
+        max: top,
+        name: "Share of slabs with the defect",
+        nameLocation: "middle",
+        nameRotate: 90,
+        nameGap: 48,
+        axisLabel: { formatter: pctAxis(top < 0.05 ? 1 : 0), showMaxLabel: false },
+      },
       series: [
         {
           type: "line",

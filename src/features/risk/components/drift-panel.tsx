@@ -19,7 +19,9 @@ function Estimate({ value, lower, upper, reason }: { value: number | null; lower
   return (
     <>
       <div>{d3(value)}</div>
-      <div className="whitespace-nowrap text-xs text-ink-600">{lower !== null && upper !== null ? `${d3(lower)} to ${d3(upper)}` : (reason ?? "no interval")}</div>
+      <div className="whitespace-nowrap text-xs text-ink-600">
+        {lower !== null && upper !== null ? `${d3(lower)} to ${d3(upper)}` : (reason ?? "no interval")}
+      </div>
     </>
   );
 }
@@ -61,12 +63,13 @@ export function DriftPanel({ modelId }: { modelId: number }) {
       ) : (
         <>
           <p className="text-sm text-ink-800">
-            Slabs cast since {date(d.since)} that the model never saw, once the yard has judged them: {num(d.slabs)} in {d.months.length} month{d.months.length === 1 ? "" : "s"}.
+            Slabs cast since {date(d.since)} that the model never saw, once the yard has judged them: {num(d.slabs)} in {d.months.length} month
+            {d.months.length === 1 ? "" : "s"}.
           </p>
           {drifted.length ? (
             <Notice tone="caution" title={`Drifted in ${drifted.map((m) => m.month).join(", ")}`}>
-              The predicted rates or the ranking no longer match what the yard finds. Train a new version on recent slabs and check its validation before switching it on. A risk
-              orders the inspection work; it never clears a slab.
+              The predicted rates or the ranking no longer match what the yard finds. Train a new version on recent slabs and check its validation before
+              switching it on. A risk orders the inspection work; it never clears a slab.
             </Notice>
           ) : (
             <Notice tone="info" title="No month has drifted">
@@ -85,7 +88,10 @@ export function DriftPanel({ modelId }: { modelId: number }) {
                   <th className="px-1 py-2 text-right lg:px-2">With the defect</th>
                   <th className="px-1 py-2 text-right lg:px-2">Predicted</th>
                   <th className="px-1 py-2 text-right lg:px-2">Observed</th>
-                  <th className="px-1 py-2 text-right lg:px-2" title="calibration-in-the-large with its 95 % interval; 0: the predicted rate is right on average">
+                  <th
+                    className="px-1 py-2 text-right lg:px-2"
+                    title="calibration-in-the-large with its 95 % interval; 0: the predicted rate is right on average"
+                  >
                     Calibration in the large
                   </th>
                   <th className="px-1 py-2 text-right lg:px-2" title="ROC AUC with its 95 % DeLong interval">
@@ -124,10 +130,11 @@ export function DriftPanel({ modelId }: { modelId: number }) {
         <summary className="cursor-pointer font-semibold text-ink-800">How drift is judged</summary>
         <p className="mt-2 text-ink-800">{d.method}</p>
         <p className="mt-2 text-ink-800">
-          Thresholds: at least {d.thresholds.minSlabs} slabs and {d.thresholds.minAffected} with the defect in a month; |calibration in the large| above ln {d.thresholds.oddsFactor} ={" "}
-          {d3(d.thresholds.citlLimit)} with its {Math.round(d.thresholds.confidence * 100)} % interval excluding 0; or the AUC interval wholly below{" "}
-          {d.thresholds.validationAucCiLower === null ? "the validation interval (not available for this version)" : d3(d.thresholds.validationAucCiLower)}, the lower end of this
-          version's validation AUC interval. The quality engineers are e-mailed once per drifted month.
+          Thresholds: at least {d.thresholds.minSlabs} slabs and {d.thresholds.minAffected} with the defect in a month; |calibration in the large| above ln{" "}
+          {d.thresholds.oddsFactor} = {d3(d.thresholds.citlLimit)} with its {Math.round(d.thresholds.confidence * 100)} % interval excluding 0; or the AUC
+          interval wholly below{" "}
+          {d.thresholds.validationAucCiLower === null ? "the validation interval (not available for this version)" : d3(d.thresholds.validationAucCiLower)}, the
+          lower end of this version's validation AUC interval. The quality engineers are e-mailed once per drifted month.
         </p>
       </details>
     </div>

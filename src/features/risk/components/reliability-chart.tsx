@@ -25,10 +25,38 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
         formatter: (p: { data: [number, number, number] }) =>
           `Predicted ${pct(p.data[0], 1)}<br/>Observed ${pct(p.data[1], 1)}<br/>${p.data[2].toLocaleString()} test slabs`,
       },
-      xAxis: { type: "value", name: "Predicted risk", nameLocation: "middle", nameGap: 32, min: 0, max: top, interval: step, axisLabel: { formatter: (v: number) => pct(v, 0) } },
-      yAxis: { type: "value", name: "Observed share with the defect", nameLocation: "middle", nameGap: 48, min: 0, max: top, interval: step, axisLabel: { formatter: (v: number) => pct(v, 0) } },
+      xAxis: {
+        type: "value",
+        name: "Predicted risk",
+        nameLocation: "middle",
+        nameGap: 32,
+        min: 0,
+        max: top,
+        interval: step,
+        axisLabel: { formatter: (v: number) => pct(v, 0) },
+      },
+      yAxis: {
+        type: "value",
+        name: "Observed share with the defect",
+        nameLocation: "middle",
+        nameGap: 48,
+        min: 0,
+        max: top,
+        interval: step,
+        axisLabel: { formatter: (v: number) => pct(v, 0) },
+      },
       series: [
-        { type: "line", name: "Perfect calibration", data: [[0, 0], [top, top]], symbol: "none", lineStyle: { type: "dashed", color: INK[600] }, silent: true },
+        {
+          type: "line",
+          name: "Perfect calibration",
+          data: [
+            [0, 0],
+            [top, top],
+          ],
+          symbol: "none",
+          lineStyle: { type: "dashed", color: INK[600] },
+          silent: true,
+        },
         {
           type: "scatter",
           name: "Test slabs, grouped by predicted risk",
@@ -39,5 +67,12 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
       ],
     };
   }, [validation]);
-  return <ReportChart option={option} height={320} testId="reliability-chart" label="Reliability diagram: predicted risk against the observed share on the test slabs" />;
+  return (
+    <ReportChart
+      option={option}
+      height={320}
+      testId="reliability-chart"
+      label="Reliability diagram: predicted risk against the observed share on the test slabs"
+    />
+  );
 }

@@ -15,7 +15,10 @@ export const BAND_WORDS: Record<RiskBand, string> = { high: "High risk", raised:
 export function RiskMark({ risk }: { risk: Pick<SlabRiskBrief, "band" | "risk" | "target"> | null }) {
   if (!risk) return <span className="text-ink-500">—</span>;
   return (
-    <span className={`inline-block whitespace-nowrap rounded-sm px-1.5 py-0.5 text-xs font-semibold text-ink-900 ${BAND_STYLE[risk.band]} border-l-4`} title={`${BAND_WORDS[risk.band]} of ${risk.target.toLowerCase()}`}>
+    <span
+      className={`inline-block whitespace-nowrap rounded-sm px-1.5 py-0.5 text-xs font-semibold text-ink-900 ${BAND_STYLE[risk.band]} border-l-4`}
+      title={`${BAND_WORDS[risk.band]} of ${risk.target.toLowerCase()}`}
+    >
       {BAND_WORDS[risk.band].replace(" risk", "")} {pct(risk.risk, 0)}
     </span>
   );
@@ -30,14 +33,26 @@ export function SlabRisks({ risks }: { risks: SlabRiskBrief[] }) {
         {risks.map((r) => (
           <li key={r.modelId} className={`rounded-md border border-ink-300 px-4 py-2 ${BAND_STYLE[r.band]}`}>
             <p className="text-sm font-semibold text-ink-900">
-              {BAND_WORDS[r.band]} of {r.target.toLowerCase()}: {pct(r.risk, 1)} <span className="font-normal text-ink-700">(model version {r.modelVersion})</span>
+              {BAND_WORDS[r.band]} of {r.target.toLowerCase()}: {pct(r.risk, 1)}{" "}
+              <span className="font-normal text-ink-700">(model version {r.modelVersion})</span>
             </p>
             {r.reasons.length ? (
-              <p className="text-sm text-ink-800">Raised by: {r.reasons.slice(0, 3).map((x) => x.text).join("; ")}.</p>
+              <p className="text-sm text-ink-800">
+                Raised by:{" "}
+                {r.reasons
+                  .slice(0, 3)
+                  .map((x) => x.text)
+                  .join("; ")}
+                .
+              </p>
             ) : (
               <p className="text-sm text-ink-800">Nothing about this slab raises its risk above the plant's typical slab.</p>
             )}
-            {r.stored ? null : <p className="text-xs text-ink-700">Reckoned for this page from the slab's conditions; the model scores and keeps the slabs of the last 90 days.</p>}
+            {r.stored ? null : (
+              <p className="text-xs text-ink-700">
+                Reckoned for this page from the slab's conditions; the model scores and keeps the slabs of the last 90 days.
+              </p>
+            )}
           </li>
         ))}
       </ul>

@@ -79,8 +79,7 @@ async function makeReader(): Promise<CodeReader> {
 type Problem = "insecure" | "refused" | "absent" | "busy" | "idle" | "failed";
 
 const PROBLEM_TEXT: Record<Problem, string> = {
-  insecure:
-    "The camera works only over Strandsight's secure (https) address. Type the id or use the hand scanner meanwhile, and ask IT for the https address.",
+  insecure: "The camera works only over Strandsight's secure (https) address. Type the id or use the hand scanner meanwhile, and ask IT for the https address.",
   refused:
     "The camera was refused. To scan with it, allow the camera for Strandsight in the browser's site settings, then tap Try again. Typing the id or the hand scanner works meanwhile.",
   absent: "No camera was found on this device. Type the id or use the hand scanner.",
@@ -114,7 +113,13 @@ function typeIntoField(field: HTMLInputElement, text: string) {
 function ScanIcon({ className = "h-7 w-7" }: { className?: string }) {
   return (
     <svg viewBox="0 0 24 24" className={className} aria-hidden>
-      <path d="M4 8V5a1 1 0 0 1 1-1h3M16 4h3a1 1 0 0 1 1 1v3M20 16v3a1 1 0 0 1-1 1h-3M8 20H5a1 1 0 0 1-1-1v-3" fill="none" stroke="currentColor" strokeWidth="2" strokeLinecap="round" />
+      <path
+        d="M4 8V5a1 1 0 0 1 1-1h3M16 4h3a1 1 0 0 1 1 1v3M20 16v3a1 1 0 0 1-1 1h-3M8 20H5a1 1 0 0 1-1-1v-3"
+        fill="none"
+        stroke="currentColor"
+        strokeWidth="2"
+        strokeLinecap="round"
+      />
       <path d="M7 9v6M10 9v6M13 9v6M17 9v6" fill="none" stroke="currentColor" strokeWidth="2" strokeLinecap="round" />
     </svg>
   );
@@ -220,7 +225,11 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
           <h2 id="scan-title" className="flex items-center gap-2 text-xl font-bold">
             <ScanIcon /> Scan the slab's label
           </h2>
-          <button type="button" onClick={() => dialog.current?.close()} className="min-h-14 rounded-md bg-white px-6 text-base font-semibold text-ink-900 hover:bg-ink-100">
+          <button
+            type="button"
+            onClick={() => dialog.current?.close()}
+            className="min-h-14 rounded-md bg-white px-6 text-base font-semibold text-ink-900 hover:bg-ink-100"
+          >
             Close
           </button>
         </div>
@@ -228,20 +237,36 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
           <video ref={video} muted playsInline autoPlay className="h-full w-full object-cover" aria-label="Camera picture" />
           {state === "looking" ? (
             // Where to hold the label; the reader looks at the whole picture.
-            <div aria-hidden className="pointer-events-none absolute inset-x-[10%] top-1/2 h-[34%] -translate-y-1/2 rounded-xl border-4 border-white/90 shadow-[0_0_0_100vmax_rgba(0,0,0,0.35)]" />
+            <div
+              aria-hidden
+              className="pointer-events-none absolute inset-x-[10%] top-1/2 h-[34%] -translate-y-1/2 rounded-xl border-4 border-white/90 shadow-[0_0_0_100vmax_rgba(0,0,0,0.35)]"
+            />
           ) : null}
           {problem ? (
             <div className="absolute inset-0 flex items-center justify-center p-6">
-              <div role="alert" className="max-w-lg space-y-4 rounded-lg border-l-4 border-ember-600 bg-white p-5 text-ink-900" data-testid="scan-problem" data-problem={problem}>
+              <div
+                role="alert"
+                className="max-w-lg space-y-4 rounded-lg border-l-4 border-ember-600 bg-white p-5 text-ink-900"
+                data-testid="scan-problem"
+                data-problem={problem}
+              >
                 <p className="text-lg font-semibold">{problem === "idle" ? "Camera off" : "The camera cannot scan"}</p>
                 <p className="text-base">{PROBLEM_TEXT[problem]}</p>
                 <div className="flex flex-wrap gap-2">
                   {problem !== "insecure" && problem !== "absent" ? (
-                    <button type="button" onClick={() => setAttempt((a) => a + 1)} className="min-h-14 rounded-md bg-strand-700 px-6 text-base font-semibold text-white hover:bg-strand-800">
+                    <button
+                      type="button"
+                      onClick={() => setAttempt((a) => a + 1)}
+                      className="min-h-14 rounded-md bg-strand-700 px-6 text-base font-semibold text-white hover:bg-strand-800"
+                    >
                       Try again
                     </button>
                   ) : null}
-                  <button type="button" onClick={() => dialog.current?.close()} className="min-h-14 rounded-md border-2 border-ink-300 bg-white px-6 text-base font-semibold text-ink-900 hover:bg-ink-50">
+                  <button
+                    type="button"
+                    onClick={() => dialog.current?.close()}
+                    className="min-h-14 rounded-md border-2 border-ink-300 bg-white px-6 text-base font-semibold text-ink-900 hover:bg-ink-50"
+                  >
                     Type the id instead
                   </button>
                 </div>
@@ -252,7 +277,11 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
         <div className="space-y-1 px-4 py-3 text-base" role="status">
           {state === "starting" ? <p>Starting the camera…</p> : null}
           {state === "looking" ? <p className="font-semibold">Hold the label inside the frame, 20–40 cm away. QR, Code 128 and Data Matrix are read.</p> : null}
-          {notSlab && state === "looking" ? <p className="text-brass-400" data-testid="scan-not-slab">Read “{notSlab}”, which is not a slab id. Point at the slab's own label.</p> : null}
+          {notSlab && state === "looking" ? (
+            <p className="text-brass-400" data-testid="scan-not-slab">
+              Read “{notSlab}”, which is not a slab id. Point at the slab's own label.
+            </p>
+          ) : null}
           <p className="text-sm text-ink-300">Scan only where the site's hot-yard and crane rules allow.</p>
         </div>
       </div>

@@ -258,8 +258,24 @@ export function SlabDrawing({
 
         {placed && placement ? (
           <g pointerEvents="none" data-testid="placement-mark">
-            <line x1={x(placement.alongMm)} x2={x(placement.alongMm)} y1={STRIPS[0]!.top} y2={STRIPS_BOTTOM} stroke="#0b5d6b" strokeWidth={2} strokeDasharray="8 5" />
-            <line x1={X0} x2={X1} y1={y(placed, placement.acrossMm)} y2={y(placed, placement.acrossMm)} stroke="#0b5d6b" strokeWidth={2} strokeDasharray="8 5" />
+            <line
+              x1={x(placement.alongMm)}
+              x2={x(placement.alongMm)}
+              y1={STRIPS[0]!.top}
+              y2={STRIPS_BOTTOM}
+              stroke="#0b5d6b"
+              strokeWidth={2}
+              strokeDasharray="8 5"
+            />
+            <line
+              x1={X0}
+              x2={X1}
+              y1={y(placed, placement.acrossMm)}
+              y2={y(placed, placement.acrossMm)}
+              stroke="#0b5d6b"
+              strokeWidth={2}
+              strokeDasharray="8 5"
+            />
             {extent?.lengthMm ? (
               <rect
                 x={x(placement.alongMm)}

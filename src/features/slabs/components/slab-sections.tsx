@@ -7,7 +7,6 @@ import { SeverityMark, SourceLegend, SourceMark, TransitionMark } from "@/compon
 import { dateTime, DASH, num, plural, withUnit } from "@/lib/format";
 import { dispositionLabel, faceLabel, reviewLabel, stageLabel } from "@/lib/labels";
 
-
 const weightSourceText = (s: string) =>
   s === "computed" ? "computed from the dimensions and the plant's slab density" : s === "given" ? "given in the slab record" : s;
 
@@ -18,7 +17,11 @@ export function SlabFacts({ slab }: { slab: SlabDetail }) {
   return (
     <dl className="grid grid-cols-2 gap-x-6 gap-y-4 md:grid-cols-4">
       <Fact label="Heat">
-        <Link to={`/heats/${encodeURIComponent(slab.heatNo)}`} className="inline-flex min-h-12 items-center text-strand-700 underline decoration-strand-300 underline-offset-2" data-testid="slab-heat-link">
+        <Link
+          to={`/heats/${encodeURIComponent(slab.heatNo)}`}
+          className="inline-flex min-h-12 items-center text-strand-700 underline decoration-strand-300 underline-offset-2"
+          data-testid="slab-heat-link"
+        >
           {slab.heatNo}
         </Link>
         <div className="text-sm font-normal text-ink-700">
@@ -163,14 +166,22 @@ export function SlabDefects({
   photos?: (defectId: number) => ReactNode;
   more?: (defect: SlabDetail["defects"][number]) => ReactNode;
 }) {
-  if (defects.length === 0) return <p className="text-sm text-ink-600" data-testid="slab-defects-empty">No defects on record for this slab.</p>;
+  if (defects.length === 0)
+    return (
+      <p className="text-sm text-ink-600" data-testid="slab-defects-empty">
+        No defects on record for this slab.
+      </p>
+    );
   return (
     <ul className="divide-y divide-ink-100" data-testid="slab-defects">
       {defects.map((d, i) => (
         <li key={d.id} className="grid gap-x-6 gap-y-2 py-3 md:grid-cols-[minmax(12rem,1.3fr)_1fr_1fr_1fr]" data-testid="slab-defect" data-defect-id={d.id}>
           <div>
             <div className="font-semibold">
-              <span className="mr-2 inline-flex h-6 w-6 items-center justify-center rounded-full border border-ink-400 text-xs font-bold tabular-nums" aria-label={`number ${i + 1}`}>
+              <span
+                className="mr-2 inline-flex h-6 w-6 items-center justify-center rounded-full border border-ink-400 text-xs font-bold tabular-nums"
+                aria-label={`number ${i + 1}`}
+              >
                 {i + 1}
               </span>
               <span className="mr-2 rounded bg-ink-100 px-1.5 py-0.5 text-xs font-bold tracking-wide">{d.typeCode}</span>

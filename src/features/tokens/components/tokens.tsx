@@ -39,7 +39,8 @@ export function TokenReveal({ created, onDone }: { created: Created; onDone: () 
   return (
     <div className="space-y-3 rounded-md border-2 border-brass-400 bg-[#fbf3df] p-4" data-testid="token-reveal">
       <p className="text-sm font-semibold">
-        Token for “{created.name}” — copy it now. It is shown only this once; Strandsight keeps only a hash of it. If it is lost, revoke it and create a new one.
+        Token for “{created.name}” — copy it now. It is shown only this once; Strandsight keeps only a hash of it. If it is lost, revoke it and create a new
+        one.
       </p>
       <div className="flex flex-wrap gap-2">
         <input
@@ -53,8 +54,16 @@ export function TokenReveal({ created, onDone }: { created: Created; onDone: () 
         />
         <Button onClick={async () => setCopied(await copyText(created.token, inputRef.current))}>Copy</Button>
       </div>
-      {copied === true ? <p role="status" className="text-sm font-semibold text-ok-700">✓ Copied to the clipboard.</p> : null}
-      {copied === false ? <p role="status" className="text-sm font-semibold text-ember-700">The browser did not allow copying: the token is selected, copy it with the keyboard.</p> : null}
+      {copied === true ? (
+        <p role="status" className="text-sm font-semibold text-ok-700">
+          ✓ Copied to the clipboard.
+        </p>
+      ) : null}
+      {copied === false ? (
+        <p role="status" className="text-sm font-semibold text-ember-700">
+          The browser did not allow copying: the token is selected, copy it with the keyboard.
+        </p>
+      ) : null}
       <p className="text-xs text-ink-700">
         The system sends it as <code className="font-mono">Authorization: Bearer …</code> to{" "}
         {created.scopes.map((k, i) => (
@@ -120,11 +129,18 @@ export function CreateTokenForm({ onCreated }: { onCreated: (t: Created) => void
         onCreated(t);
       })}
     >
-      <TextField label="Name of the system that will use it" placeholder="e.g. Caster 2 level-2 feed" {...form.register("name")} error={form.formState.errors.name?.message} />
+      <TextField
+        label="Name of the system that will use it"
+        placeholder="e.g. Caster 2 level-2 feed"
+        {...form.register("name")}
+        error={form.formState.errors.name?.message}
+      />
       <Controller
         control={form.control}
         name="scopes"
-        render={({ field, fieldState }) => <ScopePicker value={(field.value ?? []) as TokenScope[]} onChange={field.onChange} error={fieldState.error?.message} />}
+        render={({ field, fieldState }) => (
+          <ScopePicker value={(field.value ?? []) as TokenScope[]} onChange={field.onChange} error={fieldState.error?.message} />
+        )}
       />
       {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
       <Button type="submit" disabled={form.formState.isSubmitting}>
@@ -193,7 +209,11 @@ export function TokensTable({ tokens }: { tokens: ApiToken[] }) {
               <td className="py-2 pr-3 font-semibold">{t.name}</td>
               <td className="py-2 pr-3 font-mono text-xs">{t.prefix}…</td>
               <td className="py-2 pr-3" data-testid="token-scopes">
-                {t.scopes.length ? t.scopes.map((k) => TOKEN_SCOPE_LABELS[k].replace(/ \(.*\)$/, "")).join(", ") : <span className="text-ink-500">nothing</span>}
+                {t.scopes.length ? (
+                  t.scopes.map((k) => TOKEN_SCOPE_LABELS[k].replace(/ \(.*\)$/, "")).join(", ")
+                ) : (
+                  <span className="text-ink-500">nothing</span>
+                )}
               </td>
               <td className="py-2 pr-3">
                 {dateTime(t.createdAt)}

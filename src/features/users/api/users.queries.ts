@@ -45,7 +45,6 @@ export function useUnlockUser() {
  */
 export function useChangeOwnPassword() {
   return useMutation({
-    mutationFn: (input: ChangeOwnPasswordInput) =>
-      api("/me/password", { method: "POST", body: input, schema: z.object({ changed: z.literal(true) }) }),
+    mutationFn: (input: ChangeOwnPasswordInput) => api("/me/password", { method: "POST", body: input, schema: z.object({ changed: z.literal(true) }) }),
   });
 }

@@ -33,18 +33,18 @@ function Confirmation({ created, onAnother, onDone }: { created: CreatedUser; on
     <div ref={ref} tabIndex={-1} className="space-y-4 outline-none" data-testid="user-created" data-way={created.firstSignIn ?? "own"}>
       {created.firstSignIn === "invitation" && created.invitationQueued === false ? (
         <Notice tone="caution" title="Account created, invitation not sent">
-          The account for {who} exists, but its invitation could not be put in the mail queue. Ask them to open the sign-in page and use
-          “Forgot your password?” with {created.email}: that sends them a link to choose their password.
+          The account for {who} exists, but its invitation could not be put in the mail queue. Ask them to open the sign-in page and use “Forgot your password?”
+          with {created.email}: that sends them a link to choose their password.
         </Notice>
       ) : created.firstSignIn === "invitation" ? (
         <Notice tone="ok">
-          Account created for {created.name}: an invitation went to {created.email}. They choose their own password from the link in it
-          (it works for one hour) and can sign in after that. The Mail outbox shows when the message has left.
+          Account created for {created.name}: an invitation went to {created.email}. They choose their own password from the link in it (it works for one hour)
+          and can sign in after that. The Mail outbox shows when the message has left.
         </Notice>
       ) : (
         <Notice tone="ok">
-          Account created for {who}: they sign in with the first password you set and choose a new password at first sign-in, before
-          anything else opens. Give them the first password in person. No e-mail was sent.
+          Account created for {who}: they sign in with the first password you set and choose a new password at first sign-in, before anything else opens. Give
+          them the first password in person. No e-mail was sent.
         </Notice>
       )}
       <div className="flex flex-wrap gap-2">

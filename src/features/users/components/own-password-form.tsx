@@ -32,7 +32,12 @@ export function OwnPasswordForm({ email, firstPassword, onChanged }: { email: st
       form.setError("root", { message: "Your new password is saved, but the next screen did not open. Reload the page to go on." });
     }
   });
-  const serverError = change.error instanceof ApiError && change.error.code !== "wrong_current_password" ? change.error.message : change.error && !(change.error instanceof ApiError) ? "The password could not be changed. Try again." : null;
+  const serverError =
+    change.error instanceof ApiError && change.error.code !== "wrong_current_password"
+      ? change.error.message
+      : change.error && !(change.error instanceof ApiError)
+        ? "The password could not be changed. Try again."
+        : null;
   return (
     <form noValidate className="space-y-4" aria-label="Choose your password" onSubmit={submit}>
       {serverError ? <Notice tone="error">{serverError}</Notice> : null}
@@ -56,7 +61,14 @@ export function OwnPasswordForm({ email, firstPassword, onChanged }: { email: st
         {...form.register("newPassword")}
         error={form.formState.errors.newPassword?.message}
       />
-      <TextField label="The new password again" type="password" autoComplete="new-password" large {...form.register("again")} error={form.formState.errors.again?.message} />
+      <TextField
+        label="The new password again"
+        type="password"
+        autoComplete="new-password"
+        large
+        {...form.register("again")}
+        error={form.formState.errors.again?.message}
+      />
       <Button type="submit" size="lg" className="w-full" disabled={form.formState.isSubmitting}>
         {form.formState.isSubmitting ? "Saving…" : "Save my new password"}
       </Button>

@@ -1,12 +1,5 @@
 import { Fragment, useMemo, useState } from "react";
-import {
-  createColumnHelper,
-  flexRender,
-  getCoreRowModel,
-  getSortedRowModel,
-  useReactTable,
-  type SortingState,
-} from "@tanstack/react-table";
+import { createColumnHelper, flexRender, getCoreRowModel, getSortedRowModel, useReactTable, type SortingState } from "@tanstack/react-table";
 import { ROLE_LABELS, type Role } from "@shared/roles";
 import type { AdminUser } from "@shared/api/users";
 import { Button } from "@/components/ui/button";

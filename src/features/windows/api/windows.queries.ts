@@ -37,7 +37,8 @@ export function useCreateWindow() {
 export function useUpdateWindow() {
   const qc = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, body }: { id: number; body: UpdateWindowBody }) => api(`/operating-windows/${id}`, { method: "PATCH", body, schema: operatingWindowSchema }),
+    mutationFn: ({ id, body }: { id: number; body: UpdateWindowBody }) =>
+      api(`/operating-windows/${id}`, { method: "PATCH", body, schema: operatingWindowSchema }),
     onSettled: () => qc.invalidateQueries({ queryKey: windowKeys.all }),
   });
 }

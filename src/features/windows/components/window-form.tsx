@@ -21,7 +21,12 @@ import { useCreateWindow, useUpdateWindow } from "../api/windows.queries";
 import { DefectTargetOptions } from "@/features/defects/components/defect-target-options";
 
 const selectClass = "min-h-11 w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 text-ink-900";
-const GROUP_LABELS: Record<VariableGroup, string> = { condition: "Casting conditions", derived: "Derived values", geometry: "Slab size", chemistry: "Chemistry (heat analysis)" };
+const GROUP_LABELS: Record<VariableGroup, string> = {
+  condition: "Casting conditions",
+  derived: "Derived values",
+  geometry: "Slab size",
+  chemistry: "Chemistry (heat analysis)",
+};
 const GROUPS: VariableGroup[] = ["condition", "derived", "geometry", "chemistry"];
 
 /** A value as typed: a decimal comma is a decimal point. */
@@ -53,7 +58,8 @@ const formSchema = z
     // The shared rules of a condition list (no condition twice, no window no slab could meet).
     const parsed = windowConditionsSchema.safeParse(v.conditions.map((c) => ({ ...c, value: toNumber(c.value) })));
     if (!parsed.success && v.conditions.every((c) => Number.isFinite(toNumber(c.value)) && c.variable)) {
-      for (const issue of parsed.error.issues) ctx.addIssue({ code: "custom", path: ["conditions", ...issue.path.map((p) => (typeof p === "symbol" ? String(p) : p))], message: issue.message });
+      for (const issue of parsed.error.issues)
+        ctx.addIssue({ code: "custom", path: ["conditions", ...issue.path.map((p) => (typeof p === "symbol" ? String(p) : p))], message: issue.message });
     }
   });
 type FormValues = z.input<typeof formSchema>;
@@ -144,7 +150,11 @@ export function WindowForm({ families, types, categories, rule, onDone }: Window
           const variable = VARIABLES.find((v) => v.key === watched[i]?.variable);
           const ce = e.conditions?.[i];
           return (
-            <div key={field.id} className="grid items-start gap-2 rounded-md border border-ink-200 bg-ink-50 p-2 sm:grid-cols-[minmax(0,2fr)_minmax(0,1fr)_minmax(0,1.2fr)_auto]" data-testid="window-condition">
+            <div
+              key={field.id}
+              className="grid items-start gap-2 rounded-md border border-ink-200 bg-ink-50 p-2 sm:grid-cols-[minmax(0,2fr)_minmax(0,1fr)_minmax(0,1.2fr)_auto]"
+              data-testid="window-condition"
+            >
               <label className="flex flex-col gap-1">
                 <span className="text-xs font-semibold text-ink-700">Condition {i + 1}</span>
                 <select aria-label={`Condition ${i + 1}: variable`} {...form.register(`conditions.${i}.variable`)} className={selectClass}>
@@ -196,18 +206,27 @@ export function WindowForm({ families, types, categories, rule, onDone }: Window
             {conditionsError}
           </p>
         ) : null}
-        <Button variant="secondary" disabled={conditions.fields.length >= MAX_WINDOW_CONDITIONS} onClick={() => conditions.append({ variable: "embr_current_a", op: "below", value: "" })}>
+        <Button
+          variant="secondary"
+          disabled={conditions.fields.length >= MAX_WINDOW_CONDITIONS}
+          onClick={() => conditions.append({ variable: "embr_current_a", op: "below", value: "" })}
+        >
           Add a condition
         </Button>
         <p className="text-sm text-ink-700" data-testid="window-preview">
-          {preview ? <>Flags a slab when: {preview}.</> : "Fill in every value to read the rule in words."} “Above” and “below” are strict; a slab missing a value the rule needs is
-          not flagged.
+          {preview ? <>Flags a slab when: {preview}.</> : "Fill in every value to read the rule in words."} “Above” and “below” are strict; a slab missing a
+          value the rule needs is not flagged.
         </p>
       </fieldset>
 
       <label className="flex flex-col gap-1" htmlFor={`${idPrefix}-note`}>
         <span className="text-sm font-semibold text-ink-800">Note (optional)</span>
-        <textarea id={`${idPrefix}-note`} rows={2} {...form.register("note")} className="w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 py-2 text-ink-900" />
+        <textarea
+          id={`${idPrefix}-note`}
+          rows={2}
+          {...form.register("note")}
+          className="w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 py-2 text-ink-900"
+        />
         {e.note?.message ? <span className="text-sm text-alarm-700">{e.note.message}</span> : null}
       </label>
 

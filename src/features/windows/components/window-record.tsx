@@ -2,7 +2,8 @@ import type { WindowRecord as Record_, WindowShare } from "@shared/api/operating
 import { day, num, pct, pctRange, plural } from "@/lib/format";
 
 /** A difference of two shares in percentage points: "12.3 percentage points". */
-const points = (d: number | null) => (d === null ? "—" : `${(d * 100).toLocaleString("en-GB", { minimumFractionDigits: 1, maximumFractionDigits: 1 })} percentage points`);
+const points = (d: number | null) =>
+  d === null ? "—" : `${(d * 100).toLocaleString("en-GB", { minimumFractionDigits: 1, maximumFractionDigits: 1 })} percentage points`;
 
 /** The verdict carries a word and a mark, never colour alone. */
 const VERDICT_LOOK = {

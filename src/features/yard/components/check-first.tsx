@@ -18,15 +18,18 @@ export function CheckFirst({ ordered, shown = 8 }: { ordered: readonly YardSlab[
   return (
     <div className="space-y-3">
       <p className="text-sm text-ink-800" data-testid="check-first-caution">
-        <strong>Every slab is inspected as the plant's procedure requires.</strong> This order is only a suggestion, learnt from the plant's history: a
-        risk is an association, not a cause, and a slab lower down or not listed is not cleared.
+        <strong>Every slab is inspected as the plant's procedure requires.</strong> This order is only a suggestion, learnt from the plant's history: a risk is
+        an association, not a cause, and a slab lower down or not listed is not cleared.
       </p>
       <ol className="space-y-2" aria-label="Slabs to check first, riskiest first" data-testid="check-first">
         {ordered.slice(0, shown).map((s, i) => {
           const r = s.risk!;
           return (
             <li key={s.slabId}>
-              <Link to={`/yard/slabs/${encodeURIComponent(s.slabId)}`} className={`block rounded-md border border-ink-300 px-4 py-2 hover:bg-strand-50 ${BAND_STYLE[r.band]}`}>
+              <Link
+                to={`/yard/slabs/${encodeURIComponent(s.slabId)}`}
+                className={`block rounded-md border border-ink-300 px-4 py-2 hover:bg-strand-50 ${BAND_STYLE[r.band]}`}
+              >
                 <span className="flex flex-wrap items-baseline gap-x-3">
                   <span className="text-sm font-semibold text-ink-700">{i + 1}.</span>
                   <span className="text-lg font-semibold tabular-nums text-ink-900">{s.slabId}</span>
@@ -41,7 +44,9 @@ export function CheckFirst({ ordered, shown = 8 }: { ordered: readonly YardSlab[
           );
         })}
       </ol>
-      {ordered.length > shown ? <p className="text-sm text-ink-700">{ordered.length - shown} more slabs with a risk wait; the list above is the riskiest.</p> : null}
+      {ordered.length > shown ? (
+        <p className="text-sm text-ink-700">{ordered.length - shown} more slabs with a risk wait; the list above is the riskiest.</p>
+      ) : null}
     </div>
   );
 }

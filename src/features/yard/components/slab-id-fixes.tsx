@@ -51,7 +51,8 @@ function FixOne({ entry, onFixed, linkToEntry }: { entry: OutboxEntryView; onFix
           {entry.photos.length ? <span>{plural(entry.photos.length, "photo")} kept with it</span> : null}
         </p>
         <p className="text-sm text-ink-800">
-          The server has no slab <b>{entry.slabId}</b>. Check the slab's label, type the right id and send it again — the entry and its photos stay on this tablet until then.
+          The server has no slab <b>{entry.slabId}</b>. Check the slab's label, type the right id and send it again — the entry and its photos stay on this
+          tablet until then.
         </p>
       </div>
       <div className="flex flex-wrap items-end gap-3">

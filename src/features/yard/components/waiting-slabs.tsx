@@ -9,9 +9,7 @@ export function WaitingSlabs({ waiting, shown = 6 }: { waiting: readonly YardSla
   if (waiting.length === 0) return <p className="text-base text-ink-600">No slab on this tablet waits for its inspection.</p>;
   return (
     <div className="space-y-2">
-      <p className="text-sm text-ink-700">
-        {plural(waiting.length, "slab")} not inspected yet; the longest waiting first.
-      </p>
+      <p className="text-sm text-ink-700">{plural(waiting.length, "slab")} not inspected yet; the longest waiting first.</p>
       <ul className="grid gap-2 sm:grid-cols-2" aria-label="Slabs waiting for their inspection" data-testid="waiting-slabs">
         {waiting.slice(0, shown).map((s) => (
           <li key={s.slabId}>

@@ -30,7 +30,11 @@ export function YardSettingsForm({ settings }: { settings: YardSettings }) {
         />
       </div>
       {save.isError ? <Notice tone="error">{save.error.message}</Notice> : null}
-      {save.isSuccess && !form.formState.isDirty ? <Notice tone="ok" title="Saved">Tablets take the new window at their next sync.</Notice> : null}
+      {save.isSuccess && !form.formState.isDirty ? (
+        <Notice tone="ok" title="Saved">
+          Tablets take the new window at their next sync.
+        </Notice>
+      ) : null}
       <Button type="submit" disabled={!form.formState.isDirty || form.formState.isSubmitting}>
         Save yard settings
       </Button>

@@ -146,7 +146,10 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
         <p className="text-sm text-ink-600">No slab matches “{q}”.</p>
       ) : null}
       {showUnknown ? (
-        <div className="flex flex-wrap items-center justify-between gap-3 rounded-lg border-2 border-brass-400 bg-[#fbf3df] px-4 py-3" data-testid="not-on-tablet">
+        <div
+          className="flex flex-wrap items-center justify-between gap-3 rounded-lg border-2 border-brass-400 bg-[#fbf3df] px-4 py-3"
+          data-testid="not-on-tablet"
+        >
           <p className="text-sm text-ink-900">
             <b>{showUnknown}</b> is not on this tablet — it will be checked when the network is back. You can log its defects now.
           </p>

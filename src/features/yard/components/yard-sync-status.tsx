@@ -27,7 +27,8 @@ export function YardSyncStatus({ yard }: { yard: YardSetState }) {
         <StatusMark status={stored ? "sent" : "waiting"} label={line} />
         {stored ? (
           <p className="text-xs text-ink-700">
-            Cast in the last {plural(stored.data.windowHours, "hour")}, and every slab not inspected yet (cast in the last {stored.data.uninspectedMaxDays} days).
+            Cast in the last {plural(stored.data.windowHours, "hour")}, and every slab not inspected yet (cast in the last {stored.data.uninspectedMaxDays}{" "}
+            days).
             {stored.data.leftOut > 0
               ? ` The server holds ${plural(stored.data.leftOut, "more slab", "more slabs")}: find them with the network, or log them by id.`
               : ""}

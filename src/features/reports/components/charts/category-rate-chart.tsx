@@ -66,7 +66,16 @@ export function CategoryRateChart({
         nameGap: mode === "bars" ? 42 : 30,
         axisLabel: { interval: mode === "bars" ? 0 : "auto", fontSize: 11, lineHeight: 15, hideOverlap: mode !== "bars" },
       },
-      yAxis: { type: "value", min: 0, max: yMax, name: "Share of slabs affected", nameLocation: "middle", nameRotate: 90, nameGap: 46, axisLabel: { formatter: pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false } },
+      yAxis: {
+        type: "value",
+        min: 0,
+        max: yMax,
+        name: "Share of slabs affected",
+        nameLocation: "middle",
+        nameRotate: 90,
+        nameGap: 46,
+        axisLabel: { formatter: pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false },
+      },
       dataZoom: zoom ? [{ type: "inside" }, { type: "slider", height: 20, bottom: 10 }] : undefined,
       series: [
         mode === "bars"

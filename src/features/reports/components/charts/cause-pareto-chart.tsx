@@ -18,7 +18,12 @@ export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
       {
         key: "suspected" as const,
         name: "Suspected",
-        style: { color: "#ffffff", borderColor: SERIES_COLORS[0], borderWidth: 1.2, decal: { symbol: "rect", symbolSize: 1, dashArrayX: [1, 0], dashArrayY: [2, 3], rotation: Math.PI / 4, color: "rgba(11,93,107,0.55)" } },
+        style: {
+          color: "#ffffff",
+          borderColor: SERIES_COLORS[0],
+          borderWidth: 1.2,
+          decal: { symbol: "rect", symbolSize: 1, dashArrayX: [1, 0], dashArrayY: [2, 3], rotation: Math.PI / 4, color: "rgba(11,93,107,0.55)" },
+        },
       },
     ];
     return {

@@ -1,7 +1,10 @@
 import { INK, FONT, SERIES_COLORS } from "@/lib/chart-theme";
 
 /** Axis labels of a rate (0…1) as percentages. */
-export const pctAxis = (digits = 1) => (v: number) => `${(v * 100).toFixed(digits)} %`;
+export const pctAxis =
+  (digits = 1) =>
+  (v: number) =>
+    `${(v * 100).toFixed(digits)} %`;
 
 type Api = {
   value: (dim: number) => number;
@@ -13,7 +16,11 @@ type Api = {
  * A 95 % interval drawn as a whisker with caps, for a custom series whose data rows are
  * [x, lower, upper] (x a value, or a category's index).
  */
-export function whiskerSeries(name: string, data: (number | string)[][], opts: { color?: string; cap?: number; xAxisIndex?: number; yAxisIndex?: number } = {}) {
+export function whiskerSeries(
+  name: string,
+  data: (number | string)[][],
+  opts: { color?: string; cap?: number; xAxisIndex?: number; yAxisIndex?: number } = {},
+) {
   const stroke = opts.color ?? INK[900];
   const cap = opts.cap ?? 6;
   return {
@@ -51,7 +58,17 @@ export const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ "&": "&amp;", "
 /** A Pareto chart's two value axes: counts on the left, the cumulative share (0–100 %) on the right. */
 export const paretoYAxes = (countName: string) => [
   { type: "value", name: countName, nameLocation: "middle", nameRotate: 90, nameGap: 46, minInterval: 1 },
-  { type: "value", name: "Cumulative share", nameLocation: "middle", nameRotate: -90, nameGap: 50, min: 0, max: 1, splitLine: { show: false }, axisLabel: { formatter: pctAxis(0) } },
+  {
+    type: "value",
+    name: "Cumulative share",
+    nameLocation: "middle",
+    nameRotate: -90,
+    nameGap: 50,
+    min: 0,
+    max: 1,
+    splitLine: { show: false },
+    axisLabel: { formatter: pctAxis(0) },
+  },
 ];
 
 /** A Pareto chart's cumulative-share line on the right axis, with the 80 % mark. */

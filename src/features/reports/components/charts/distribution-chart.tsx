@@ -42,9 +42,22 @@ export function DistributionChart({ data, digits }: { data: RateByVariable; digi
         },
       },
       yAxis: { type: "category", data: cats, axisLabel: { fontWeight: 600, lineHeight: 18 } },
-      xAxis: { type: "value", scale: true, name: `${variable.label}${unit}`, nameLocation: "middle", nameGap: 32, axisLabel: { formatter: (v: number) => num(v, digits) } },
+      xAxis: {
+        type: "value",
+        scale: true,
+        name: `${variable.label}${unit}`,
+        nameLocation: "middle",
+        nameGap: 32,
+        axisLabel: { formatter: (v: number) => num(v, digits) },
+      },
       series: [
-        { type: "boxplot", name: "Quartiles, min–max", data: box, boxWidth: [14, 26], itemStyle: { color: "#ffffff", borderColor: INK[900], borderWidth: 1.6 } },
+        {
+          type: "boxplot",
+          name: "Quartiles, min–max",
+          data: box,
+          boxWidth: [14, 26],
+          itemStyle: { color: "#ffffff", borderColor: INK[900], borderWidth: 1.6 },
+        },
         {
           type: "scatter",
           name: "Mean",
@@ -72,7 +85,9 @@ export function DistributionChart({ data, digits }: { data: RateByVariable; digi
       ],
     };
   }, [data, digits]);
-  return <ReportChart option={option} height={300} testId="distribution-chart" label={`${data.variable.label} of affected and of sound slabs: box and strip plot`} />;
+  return (
+    <ReportChart option={option} height={300} testId="distribution-chart" label={`${data.variable.label} of affected and of sound slabs: box and strip plot`} />
+  );
 }
 
 export default DistributionChart;

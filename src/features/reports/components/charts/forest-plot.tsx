@@ -24,7 +24,14 @@ const finite = (v: number | null | undefined): v is number => v !== null && v !=
  * mantissas that gives between four and nine ticks over the range.
  */
 export function oddsTicks(lo: number, hi: number): number[] {
-  const ladders = [[1], [1, 3], [1, 2, 5], [1, 1.5, 2, 3, 5, 7], [1, 1.2, 1.5, 2, 2.5, 3, 4, 5, 6, 8], [1, 1.1, 1.2, 1.3, 1.4, 1.5, 1.6, 1.8, 2, 2.2, 2.5, 3, 3.5, 4, 5, 6, 7, 8, 9]];
+  const ladders = [
+    [1],
+    [1, 3],
+    [1, 2, 5],
+    [1, 1.5, 2, 3, 5, 7],
+    [1, 1.2, 1.5, 2, 2.5, 3, 4, 5, 6, 8],
+    [1, 1.1, 1.2, 1.3, 1.4, 1.5, 1.6, 1.8, 2, 2.2, 2.5, 3, 3.5, 4, 5, 6, 7, 8, 9],
+  ];
   let best: number[] = [];
   for (const ladder of ladders) {
     const ticks: number[] = [];
@@ -51,7 +58,9 @@ const ADJUSTED = { name: "Adjusted (in the model)", color: SERIES_COLORS[0]! };
  */
 export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]; testId?: string }) {
   const option = useMemo(() => {
-    const values = rows.flatMap((r) => [r.crude.ciLower, r.crude.ciUpper, r.adjusted.ciLower, r.adjusted.ciUpper, r.crude.oddsRatio, r.adjusted.oddsRatio]).filter(finite);
+    const values = rows
+      .flatMap((r) => [r.crude.ciLower, r.crude.ciUpper, r.adjusted.ciLower, r.adjusted.ciUpper, r.crude.oddsRatio, r.adjusted.oddsRatio])
+      .filter(finite);
     const lo = Math.min(1, ...values) / 1.15;
     // Room on the right for the value written after each whisker.
     const hi = Math.max(1, ...values) * 1.15;
@@ -69,7 +78,9 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
         encode: { x: [1, 2, 3], y: 0 },
         data: rows.map((r, i) => {
           const e = r[which];
-          return finite(e.oddsRatio) && finite(e.ciLower) && finite(e.ciUpper) ? [i, LOG10(e.oddsRatio), LOG10(e.ciLower), LOG10(e.ciUpper)] : [i, NaN, NaN, NaN];
+          return finite(e.oddsRatio) && finite(e.ciLower) && finite(e.ciUpper)
+            ? [i, LOG10(e.oddsRatio), LOG10(e.ciLower), LOG10(e.ciUpper)]
+            : [i, NaN, NaN, NaN];
         }),
         renderItem: (_: unknown, api: Api) => {
           const i = api.value(0);
@@ -91,7 +102,11 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
               { type: "line", shape: { x1: h[0], y1: y - 4, x2: h[0], y2: y + 4 }, style: stroke },
               which === "crude"
                 ? { type: "circle", shape: { cx: c[0], cy: y, r }, style: { fill: "#ffffff", stroke: look.color, lineWidth: 2 } }
-                : { type: "rect", shape: { x: c[0]! - r, y: y - r, width: 2 * r, height: 2 * r }, style: { fill: look.color, stroke: "#ffffff", lineWidth: 1 } },
+                : {
+                    type: "rect",
+                    shape: { x: c[0]! - r, y: y - r, width: 2 * r, height: 2 * r },
+                    style: { fill: look.color, stroke: "#ffffff", lineWidth: 1 },
+                  },
               {
                 type: "text",
                 style: {
@@ -193,14 +208,33 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
           renderItem: (_: unknown, api: Api) => {
             if (!Number.isFinite(api.value(1))) return null;
             const c = api.coord([0, api.value(0)]);
-            return { type: "text", style: { text: "no estimate: see the table", x: c[0]! + 8, y: c[1], verticalAlign: "middle", fill: INK[700], fontFamily: FONT, fontSize: 11, fontStyle: "italic" } };
+            return {
+              type: "text",
+              style: {
+                text: "no estimate: see the table",
+                x: c[0]! + 8,
+                y: c[1],
+                verticalAlign: "middle",
+                fill: INK[700],
+                fontFamily: FONT,
+                fontSize: 11,
+                fontStyle: "italic",
+              },
+            };
           },
         },
       ],
     };
   }, [rows]);
   const height = Math.max(220, rows.length * 64 + 100);
-  return <ReportChart option={option} height={height} testId={testId} label={`Forest plot: crude and adjusted odds ratios with 95 % intervals for ${rows.length} terms, on a logarithmic axis`} />;
+  return (
+    <ReportChart
+      option={option}
+      height={height}
+      testId={testId}
+      label={`Forest plot: crude and adjusted odds ratios with 95 % intervals for ${rows.length} terms, on a logarithmic axis`}
+    />
+  );
 }
 
 export default ForestPlot;

@@ -36,7 +36,10 @@ export function PChart({ data }: { data: ControlChart }) {
     const u = data.chart === "u";
     const zoom = pts.length > 60;
     const value = (p: ControlChart["points"][number]) => p.value ?? (u ? null : p.p);
-    const out = pts.map((p, i) => (p.outOfControl ? { value: [i, value(p)], above: (value(p) ?? 0) > p.ucl } : null)).filter(Boolean) as { value: [number, number]; above: boolean }[];
+    const out = pts.map((p, i) => (p.outOfControl ? { value: [i, value(p)], above: (value(p) ?? 0) > p.ucl } : null)).filter(Boolean) as {
+      value: [number, number];
+      above: boolean;
+    }[];
     // A run of points completing the same rule (eight in a row on one side …) is named once, at its first point.
     const ruled = pts
       .map((p, i) => {
@@ -58,7 +61,15 @@ export function PChart({ data }: { data: ControlChart }) {
         else runs.push({ phase: p.phase, from: i, to: i });
       });
     }
-    const legend = [name, ...(std ? ["Standardised to the grade mix"] : []), u ? "ū (centre line)" : "p̄ (centre line)", `UCL (${limit})`, `LCL (${limit})`, "Out of control", ...(data.rules.on ? ["Run-rule signal"] : [])];
+    const legend = [
+      name,
+      ...(std ? ["Standardised to the grade mix"] : []),
+      u ? "ū (centre line)" : "p̄ (centre line)",
+      `UCL (${limit})`,
+      `LCL (${limit})`,
+      "Out of control",
+      ...(data.rules.on ? ["Run-rule signal"] : []),
+    ];
     return {
       animation: false,
       grid: { left: 72, right: 24, top: data.baseline ? 76 : 48, bottom: zoom ? 84 : 48 },
@@ -73,7 +84,14 @@ export function PChart({ data }: { data: ControlChart }) {
           return `<b>${p.period}</b> · ${PHASE_LOOK[p.phase].label}<br/>${u ? `u = ${num(p.value, 3)} (${p.defects} defects on n = ${p.slabs})` : `p = ${pct(p.p)} (${p.affected} of n = ${p.slabs})`}<br/>UCL ${valueText(data.chart, p.ucl)} · LCL ${valueText(data.chart, p.lcl)}${p.standardised ? `<br/>Standardised ${pct(p.standardised.rate)}` : ""}${p.outOfControl ? `<br/><b>Out of control: ${(value(p) ?? 0) > p.ucl ? "above UCL" : "below LCL"}</b>` : ""}${words ? `<br/><b>Signal: ${words}</b>` : ""}`;
         },
       },
-      xAxis: { type: "category", data: pts.map((p) => p.period), name: data.period === "day" ? "Day of casting" : "ISO week of casting", nameLocation: "middle", nameGap: 30, axisLabel: { hideOverlap: true } },
+      xAxis: {
+        type: "category",
+        data: pts.map((p) => p.period),
+        name: data.period === "day" ? "Day of casting" : "ISO week of casting",
+        nameLocation: "middle",
+        nameGap: 30,
+        axisLabel: { hideOverlap: true },
+      },
       yAxis: {
         type: "value",
         min: 0,
@@ -103,7 +121,15 @@ export function PChart({ data }: { data: ControlChart }) {
                   {
                     xAxis: r.from,
                     itemStyle: { color: PHASE_LOOK[r.phase].fill },
-                    label: { show: true, position: "insideTop", formatter: PHASE_LOOK[r.phase].label, color: INK[700], fontSize: 11, fontWeight: 600, offset: [0, -22] },
+                    label: {
+                      show: true,
+                      position: "insideTop",
+                      formatter: PHASE_LOOK[r.phase].label,
+                      color: INK[700],
+                      fontSize: 11,
+                      fontWeight: 600,
+                      offset: [0, -22],
+                    },
                   },
                   { xAxis: r.to },
                 ]),
@@ -125,16 +151,46 @@ export function PChart({ data }: { data: ControlChart }) {
               },
             ]
           : []),
-        { type: "line", name: u ? "ū (centre line)" : "p̄ (centre line)", data: pts.map((p) => p.centre ?? data.centre), symbol: "none", itemStyle: { color: INK[700] }, lineStyle: { color: INK[700], width: 1.5 }, silent: true },
-        { type: "line", name: `UCL (${limit})`, data: pts.map((p) => p.ucl), step: "middle", symbol: "none", itemStyle: { color: SERIES_COLORS[1] }, lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 1.5 }, silent: true },
-        { type: "line", name: `LCL (${limit})`, data: pts.map((p) => p.lcl), step: "middle", symbol: "none", itemStyle: { color: SERIES_COLORS[2] }, lineStyle: { color: SERIES_COLORS[2], type: "dotted", width: 2 }, silent: true },
+        {
+          type: "line",
+          name: u ? "ū (centre line)" : "p̄ (centre line)",
+          data: pts.map((p) => p.centre ?? data.centre),
+          symbol: "none",
+          itemStyle: { color: INK[700] },
+          lineStyle: { color: INK[700], width: 1.5 },
+          silent: true,
+        },
+        {
+          type: "line",
+          name: `UCL (${limit})`,
+          data: pts.map((p) => p.ucl),
+          step: "middle",
+          symbol: "none",
+          itemStyle: { color: SERIES_COLORS[1] },
+          lineStyle: { color: SERIES_COLORS[1], type: "dashed", width: 1.5 },
+          silent: true,
+        },
+        {
+          type: "line",
+          name: `LCL (${limit})`,
+          data: pts.map((p) => p.lcl),
+          step: "middle",
+          symbol: "none",
+          itemStyle: { color: SERIES_COLORS[2] },
+          lineStyle: { color: SERIES_COLORS[2], type: "dotted", width: 2 },
+          silent: true,
+        },
         {
           type: "scatter",
           name: "Out of control",
           symbol: "triangle",
           symbolSize: 14,
           itemStyle: { color: ALARM, borderColor: "#ffffff", borderWidth: 1 },
-          data: out.map((o) => ({ value: o.value, symbolRotate: o.above ? 0 : 180, label: { formatter: o.above ? "above UCL" : "below LCL", position: o.above ? "top" : "bottom" } })),
+          data: out.map((o) => ({
+            value: o.value,
+            symbolRotate: o.above ? 0 : 180,
+            label: { formatter: o.above ? "above UCL" : "below LCL", position: o.above ? "top" : "bottom" },
+          })),
           label: { show: true, fontSize: 11, fontWeight: 700, color: ALARM },
           labelLayout: { hideOverlap: true },
           z: 6,
@@ -159,7 +215,14 @@ export function PChart({ data }: { data: ControlChart }) {
   }, [data]);
   const outCount = data.points.filter((p) => p.outOfControl).length;
   const kind = data.chart === "u" ? "u-chart" : data.chart === "laney" ? "Laney p′ chart" : "p-chart";
-  return <ReportChart option={option} height={400} testId="p-chart" label={`${kind} of ${data.points.length} ${data.period === "day" ? "days" : "weeks"}, ${outCount} out of control`} />;
+  return (
+    <ReportChart
+      option={option}
+      height={400}
+      testId="p-chart"
+      label={`${kind} of ${data.points.length} ${data.period === "day" ? "days" : "weeks"}, ${outCount} out of control`}
+    />
+  );
 }
 
 export default PChart;

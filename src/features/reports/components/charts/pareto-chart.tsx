@@ -22,7 +22,14 @@ export function ParetoChart({ pareto }: { pareto: Overview["pareto"] }) {
           return `<b>${esc(r.code)}</b> ${esc(r.name)}<br/>${r.defects} defects on ${r.slabsAffected} slabs<br/>${pct(r.share, 1)} of all defects; cumulative ${pct(r.cumulativeShare, 1)}`;
         },
       },
-      xAxis: { type: "category", data: pareto.map((r) => r.code), name: "Defect type", nameLocation: "middle", nameGap: 30, axisLabel: { interval: 0, fontSize: 11 } },
+      xAxis: {
+        type: "category",
+        data: pareto.map((r) => r.code),
+        name: "Defect type",
+        nameLocation: "middle",
+        nameGap: 30,
+        axisLabel: { interval: 0, fontSize: 11 },
+      },
       yAxis: paretoYAxes("Defects"),
       series: [
         {

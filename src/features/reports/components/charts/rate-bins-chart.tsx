@@ -39,8 +39,25 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
           return `${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/><b>${pct(b.rate)}</b> (95 % CI ${pctRange(b.ciLower, b.ciUpper)})<br/>${b.affected} affected of n = ${b.slabs}${b.slabs < minN ? "<br/><i>fewer than " + minN + " slabs</i>" : ""}`;
         },
       },
-      xAxis: { type: "value", min: lo, max: hi, name: `${variable.label}${unit}`, nameLocation: "middle", nameGap: 34, axisLabel: { formatter: (v: number) => num(v, digits) } },
-      yAxis: { type: "value", min: 0, max: yMax, name: "Share of slabs affected", nameLocation: "middle", nameRotate: 90, nameGap: 46, axisLabel: { formatter: pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false } },
+      xAxis: {
+        type: "value",
+        min: lo,
+        max: hi,
+        name: `${variable.label}${unit}`,
+        nameLocation: "middle",
+        nameGap: 34,
+        axisLabel: { formatter: (v: number) => num(v, digits) },
+      },
+      yAxis: {
+        type: "value",
+        min: 0,
+        max: yMax,
+        name: "Share of slabs affected",
+        nameLocation: "middle",
+        nameRotate: 90,
+        nameGap: 46,
+        axisLabel: { formatter: pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false },
+      },
       series: [
         {
           type: "custom",
@@ -59,7 +76,9 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
                 {
                   type: "rect",
                   shape: { x: a[0]! + 1, y: a[1], width: Math.max(1, z[0]! - a[0]! - 2), height: z[1]! - a[1]! },
-                  style: sparse ? { fill: SPARSE_FILL, stroke: INK[600], lineWidth: 1, lineDash: [4, 3], decal: SPARSE_DECAL } : { fill: SERIES_COLORS[0], opacity: 0.85 },
+                  style: sparse
+                    ? { fill: SPARSE_FILL, stroke: INK[600], lineWidth: 1, lineDash: [4, 3], decal: SPARSE_DECAL }
+                    : { fill: SERIES_COLORS[0], opacity: 0.85 },
                 },
                 {
                   type: "text",
@@ -82,7 +101,16 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
           "95 % interval (Wilson)",
           bins.map((b) => [(b.lower + b.upper) / 2, b.ciLower, b.ciUpper]),
         ),
-        { type: "line", name: "Logistic fit", data: fit, showSymbol: false, lineStyle: { type: "dashed", color: SERIES_COLORS[1], width: 2 }, itemStyle: { color: SERIES_COLORS[1] }, z: 5, silent: true },
+        {
+          type: "line",
+          name: "Logistic fit",
+          data: fit,
+          showSymbol: false,
+          lineStyle: { type: "dashed", color: SERIES_COLORS[1], width: 2 },
+          itemStyle: { color: SERIES_COLORS[1] },
+          z: 5,
+          silent: true,
+        },
       ],
     };
   }, [data, digits, minN]);

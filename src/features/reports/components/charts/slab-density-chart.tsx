@@ -47,7 +47,16 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
           return `<b>${f.name}</b><br/>along ${along[p.value[0]]} of the length from the head end<br/>across ${across[p.value[1]]} (${f.across.replace(/ [↑↓]/, "")})<br/><b>${p.value[2]}</b> defect${p.value[2] === 1 ? "" : "s"} of ${total} on this face`;
         },
       },
-      grid: faces.map((f, i) => ({ left: LEFT, right: 24, top: tops[i], height: f.height, show: true, borderColor: INK[900], borderWidth: 1.5, backgroundColor: "#ffffff" })),
+      grid: faces.map((f, i) => ({
+        left: LEFT,
+        right: 24,
+        top: tops[i],
+        height: f.height,
+        show: true,
+        borderColor: INK[900],
+        borderWidth: 1.5,
+        backgroundColor: "#ffffff",
+      })),
       xAxis: faces.map((_, i) => ({
         type: "category",
         gridIndex: i,
@@ -86,7 +95,12 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
       graphic: [
         ...faces.flatMap((f, i) => [
           { type: "text", left: 8, top: tops[i]! + f.height / 2 - 16, style: { text: f.name, font: `600 12px ${FONT}`, fill: INK[900] } },
-          { type: "text", left: 8, top: tops[i]! + f.height / 2 + 2, style: { text: `n = ${f.g?.along.reduce((s, v) => s + v, 0) ?? 0} · across ${f.across}`, font: `11px ${FONT}`, fill: INK[700] } },
+          {
+            type: "text",
+            left: 8,
+            top: tops[i]! + f.height / 2 + 2,
+            style: { text: `n = ${f.g?.along.reduce((s, v) => s + v, 0) ?? 0} · across ${f.across}`, font: `11px ${FONT}`, fill: INK[700] },
+          },
         ]),
         { type: "text", left: LEFT, top: 14, style: { text: "◀ HEAD END", font: `700 13px ${FONT}`, fill: INK[900] } },
         { type: "text", right: 24, top: 14, style: { text: "tail end ▶", font: `12px ${FONT}`, fill: INK[600] } },
@@ -103,7 +117,14 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
     };
   }, [data]);
   const height = TOP + STRIPS.reduce((s, f) => s + f.height, 0) + BOTTOM;
-  return <ReportChart option={option} height={height} testId="slab-density-chart" label={`Where ${data.defects} defects sit on the slab's four faces, head end on the left`} />;
+  return (
+    <ReportChart
+      option={option}
+      height={height}
+      testId="slab-density-chart"
+      label={`Where ${data.defects} defects sit on the slab's four faces, head end on the left`}
+    />
+  );
 }
 
 export default SlabDensityChart;

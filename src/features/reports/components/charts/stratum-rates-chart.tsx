@@ -6,7 +6,20 @@ import { esc, pctAxis, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
 /** One marker shape per group, so a curve is told by its shape and its end label, not its colour alone. */
-export const STRATUM_SYMBOLS = ["circle", "rect", "triangle", "diamond", "emptyCircle", "emptyRect", "emptyTriangle", "emptyDiamond", "pin", "arrow", "roundRect", "emptyRoundRect"] as const;
+export const STRATUM_SYMBOLS = [
+  "circle",
+  "rect",
+  "triangle",
+  "diamond",
+  "emptyCircle",
+  "emptyRect",
+  "emptyTriangle",
+  "emptyDiamond",
+  "pin",
+  "arrow",
+  "roundRect",
+  "emptyRoundRect",
+] as const;
 
 type Stratified = NonNullable<RateByVariable["stratified"]>;
 
@@ -36,8 +49,25 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
           return `<b>${esc(s.label)}</b>, ${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/>${pct(b.rate)} (95 % CI ${pctRange(b.ciLower, b.ciUpper)})<br/>${b.affected} affected of n = ${b.slabs}`;
         },
       },
-      xAxis: { type: "value", min: lo, max: hi, name: `${data.variable.label}${unit}`, nameLocation: "middle", nameGap: 32, axisLabel: { formatter: (v: number) => num(v, digits) } },
-      yAxis: { type: "value", min: 0, max: yMax, name: "Share of slabs affected", nameLocation: "middle", nameRotate: 90, nameGap: 46, axisLabel: { formatter: pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false } },
+      xAxis: {
+        type: "value",
+        min: lo,
+        max: hi,
+        name: `${data.variable.label}${unit}`,
+        nameLocation: "middle",
+        nameGap: 32,
+        axisLabel: { formatter: (v: number) => num(v, digits) },
+      },
+      yAxis: {
+        type: "value",
+        min: 0,
+        max: yMax,
+        name: "Share of slabs affected",
+        nameLocation: "middle",
+        nameRotate: 90,
+        nameGap: 46,
+        axisLabel: { formatter: pctAxis(yMax < 0.05 ? 1 : 0), showMaxLabel: false },
+      },
       series: stratified.strata.map((s, i) => {
         const color = SERIES_COLORS[i % SERIES_COLORS.length]!;
         return {

@@ -6,7 +6,6 @@ import { tooltipBase } from "./chart-parts";
 import { binLabel } from "../tables";
 import { ReportChart } from "./report-chart";
 
-
 /**
  * The process window: the share of affected slabs in every cell of two binned conditions, with the
  * count of slabs written in each cell. Cells under the minimum n are grey, hatched and say "too few";
@@ -31,22 +30,40 @@ export function WindowHeatmap({ data, xDigits, yDigits }: { data: ProcessWindow;
           return `${data.x.label} ${binLabel(c.xLower, c.xUpper, xDigits)}${unit(data.x.unit)}<br/>${data.y.label} ${binLabel(c.yLower, c.yUpper, yDigits)}${unit(data.y.unit)}<br/><b>${pct(c.rate)}</b> (95 % CI ${pctRange(c.ciLower, c.ciUpper)})<br/>${c.affected} affected of n = ${c.slabs}${c.sparse ? `<br/><i>fewer than ${data.minN} slabs: not to be read</i>` : ""}`;
         },
       },
-      xAxis: { type: "category", data: xs, name: `${data.x.label}${unit(data.x.unit)}`, nameLocation: "middle", nameGap: 32, splitArea: { show: false }, axisLabel: { interval: 0, fontSize: 11 } },
-      yAxis: { type: "category", data: ys, name: `${data.y.label}${unit(data.y.unit)}`, nameLocation: "middle", nameGap: 100, axisLabel: { interval: 0, fontSize: 11 } },
-      // No readable cell, no colour scale: a scale over nothing would only mislead.
-      visualMap: readable.length === 0 ? undefined : {
-        seriesIndex: 0,
-        min: 0,
-        max,
-        calculable: false,
-        orient: "horizontal",
-        left: "center",
-        bottom: 8,
-        itemWidth: 14,
-        itemHeight: 220,
-        text: [`${pct(max, 1)}`, "0 %  share of slabs affected"],
-        inRange: { color: RATE_RAMP },
+      xAxis: {
+        type: "category",
+        data: xs,
+        name: `${data.x.label}${unit(data.x.unit)}`,
+        nameLocation: "middle",
+        nameGap: 32,
+        splitArea: { show: false },
+        axisLabel: { interval: 0, fontSize: 11 },
       },
+      yAxis: {
+        type: "category",
+        data: ys,
+        name: `${data.y.label}${unit(data.y.unit)}`,
+        nameLocation: "middle",
+        nameGap: 100,
+        axisLabel: { interval: 0, fontSize: 11 },
+      },
+      // No readable cell, no colour scale: a scale over nothing would only mislead.
+      visualMap:
+        readable.length === 0
+          ? undefined
+          : {
+              seriesIndex: 0,
+              min: 0,
+              max,
+              calculable: false,
+              orient: "horizontal",
+              left: "center",
+              bottom: 8,
+              itemWidth: 14,
+              itemHeight: 220,
+              text: [`${pct(max, 1)}`, "0 %  share of slabs affected"],
+              inRange: { color: RATE_RAMP },
+            },
       series: [
         {
           type: "heatmap",
