@@ -212,20 +212,17 @@ describe("slab-yard logging at tablet size", () => {
     const sqlite = env.server.db.$client;
     const slab = sqlite.prepare("select slab_id, length_mm from slabs order by id limit 1 offset 5").get() as { slab_id: string; length_mm: number };
     const agent = await env.server.agentFor("inspector");
-    const created = await agent
-      .post("/api/defects")
-      .set("Origin", env.server.baseUrl)
-      .send({
-        slab_id: slab.slab_id,
-        type_code: "DEP",
-        face: "left",
-        position_along_mm: 2000,
-        position_across_mm: 100,
-        severity: 2,
-        disposition: "grind",
-        client_key: "edit-test-0001",
-        found_at: new Date().toISOString(),
-      });
+    const created = await agent.post("/api/defects").set("Origin", env.server.baseUrl).send({
+      slab_id: slab.slab_id,
+      type_code: "DEP",
+      face: "left",
+      position_along_mm: 2000,
+      position_across_mm: 100,
+      severity: 2,
+      disposition: "grind",
+      client_key: "edit-test-0001",
+      found_at: new Date().toISOString(),
+    });
     expect(created.status).toBe(201);
     const id = created.body.id as number;
 

@@ -16,19 +16,16 @@ beforeAll(async () => {
   t = await createTestApp({ scale: 0.01 });
   inspector = await t.agentFor("inspector");
   const slabId = t.db.$client.prepare("select slab_id from slabs limit 1").pluck().get() as string;
-  const res = await inspector
-    .post("/api/defects")
-    .set("Origin", t.env.BETTER_AUTH_URL)
-    .send({
-      slab_id: slabId,
-      type_code: "SLG",
-      face: "inner",
-      position_along_mm: 1000,
-      position_across_mm: 500,
-      severity: 2,
-      disposition: "scarf",
-      client_key: "photo-test-defect-1",
-    });
+  const res = await inspector.post("/api/defects").set("Origin", t.env.BETTER_AUTH_URL).send({
+    slab_id: slabId,
+    type_code: "SLG",
+    face: "inner",
+    position_along_mm: 1000,
+    position_across_mm: 500,
+    severity: 2,
+    disposition: "scarf",
+    client_key: "photo-test-defect-1",
+  });
   defectId = res.body.id;
 });
 afterAll(() => t?.close());

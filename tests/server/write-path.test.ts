@@ -125,19 +125,16 @@ describe("the audit row of a post", () => {
       `create trigger refuse_audit before insert on audit_log when json_extract(new.after, '$.client_key') = '${k}' begin select raise(abort, 'audit refused'); end`,
     );
     try {
-      const res = await inspector
-        .post("/api/defects")
-        .set("Origin", O())
-        .send({
-          slab_id: slab.slab_id,
-          type_code: "SLG",
-          face: "inner",
-          position_along_mm: 1,
-          position_across_mm: 1,
-          severity: 2,
-          disposition: "scrap",
-          client_key: k,
-        });
+      const res = await inspector.post("/api/defects").set("Origin", O()).send({
+        slab_id: slab.slab_id,
+        type_code: "SLG",
+        face: "inner",
+        position_along_mm: 1,
+        position_across_mm: 1,
+        severity: 2,
+        disposition: "scrap",
+        client_key: k,
+      });
       expect(res.status).toBe(500);
       expect(res.body.error.code).toBe("internal");
     } finally {
@@ -199,19 +196,16 @@ describe("the slab's disposition after a post", () => {
       )
       .run(slabId, disposition, review);
   const post = (slab: Slab, disposition: string) =>
-    inspector
-      .post("/api/defects")
-      .set("Origin", O())
-      .send({
-        slab_id: slab.slab_id,
-        type_code: "SLG",
-        face: "inner",
-        position_along_mm: 2,
-        position_across_mm: 2,
-        severity: 1,
-        disposition,
-        client_key: key(),
-      });
+    inspector.post("/api/defects").set("Origin", O()).send({
+      slab_id: slab.slab_id,
+      type_code: "SLG",
+      face: "inner",
+      position_along_mm: 2,
+      position_across_mm: 2,
+      severity: 1,
+      disposition,
+      client_key: key(),
+    });
 
   it("when the slab's stored disposition counts a rejected entry (older data), then a new entry sets it to the worst of the live, unrejected ones", async () => {
     const slab = freeSlabs[3]!;

@@ -802,32 +802,28 @@ export function risksOfSlabs(db: Db, slabRowIds: number[]): Map<number, SlabRisk
         missing.push(id);
         continue;
       }
-      out
-        .get(id)!
-        .push({
-          target,
-          modelId: m.id,
-          modelVersion: m.version,
-          risk: r.risk,
-          band: bandOf(r.risk, m.high, m.raised),
-          reasons: readReasons(db, m.id, r.reasons),
-          stored: true,
-        });
+      out.get(id)!.push({
+        target,
+        modelId: m.id,
+        modelVersion: m.version,
+        risk: r.risk,
+        band: bandOf(r.risk, m.high, m.raised),
+        reasons: readReasons(db, m.id, r.reasons),
+        stored: true,
+      });
     }
     if (missing.length) {
       const terms = JSON.parse(m.terms) as ModelTerms;
       for (const s of scoreWith(db, { id: m.id, terms }, missing))
-        out
-          .get(s.slabId)!
-          .push({
-            target,
-            modelId: m.id,
-            modelVersion: m.version,
-            risk: s.risk,
-            band: bandOf(s.risk, m.high, m.raised),
-            reasons: expandReasons(terms, s.reasons),
-            stored: false,
-          });
+        out.get(s.slabId)!.push({
+          target,
+          modelId: m.id,
+          modelVersion: m.version,
+          risk: s.risk,
+          band: bandOf(s.risk, m.high, m.raised),
+          reasons: expandReasons(terms, s.reasons),
+          stored: false,
+        });
     }
   }
   for (const list of out.values()) list.sort((a, b) => RISK_RANK[b.band] - RISK_RANK[a.band] || b.risk - a.risk);
