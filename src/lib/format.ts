@@ -2,9 +2,30 @@
 
 export const DASH = "—";
 
+/*
+ * The formatters, made once and kept: `x.toLocaleString(locale, options)` builds a new Intl formatter
+ * on every call (the language specifies it as `new Intl.NumberFormat(locale, options).format(x)`),
+ * and a report's tables call it thousands of times while the screen is first drawn. Same text.
+ */
+const numberFormats = new Map<string, Intl.NumberFormat>();
+function numberFormat(minimumFractionDigits?: number, maximumFractionDigits?: number): Intl.NumberFormat {
+  const key = `${minimumFractionDigits}:${maximumFractionDigits}`;
+  let f = numberFormats.get(key);
+  if (!f) numberFormats.set(key, (f = new Intl.NumberFormat("en-GB", { minimumFractionDigits, maximumFractionDigits })));
+  return f;
+}
+const fixed = (value: number, digits: number) => numberFormat(digits, digits).format(value);
+const once = <T>(make: () => T) => {
+  let made: T | undefined;
+  return () => (made ??= make());
+};
+const DATE_TIME = once(() => new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" }));
+const DATE = once(() => new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric" }));
+const TIME = once(() => new Intl.DateTimeFormat("en-GB", { hour: "2-digit", minute: "2-digit" }));
+
 export function num(value: number | null | undefined, digits = 0): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return DASH;
-  return value.toLocaleString("en-GB", { minimumFractionDigits: digits, maximumFractionDigits: digits });
+  return fixed(value, digits);
 }
 
 /** "1.66 m/min"; a dimensionless unit ("–" or "") shows the bare number. */
@@ -18,24 +39,24 @@ export function dateTime(iso: string | null | undefined): string {
   if (!iso) return DASH;
   const d = new Date(iso);
   if (Number.isNaN(d.getTime())) return DASH;
-  return d.toLocaleString("en-GB", { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" });
+  return DATE_TIME().format(d);
 }
 
 export function date(iso: string | null | undefined): string {
   if (!iso) return DASH;
   const d = new Date(iso);
   if (Number.isNaN(d.getTime())) return DASH;
-  return d.toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" });
+  return DATE().format(d);
 }
 
 export function time(iso: string | null | undefined): string {
   if (!iso) return DASH;
-  return new Date(iso).toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit" });
+  return TIME().format(new Date(iso));
 }
 
 /** Plural with its count: plural(3, "slab") → "3 slabs". */
 export function plural(n: number, one: string, many = `${one}s`): string {
-  return `${n.toLocaleString("en-GB")} ${n === 1 ? one : many}`;
+  return `${numberFormat().format(n)} ${n === 1 ? one : many}`;
 }
 
 export function bytes(n: number): string {
@@ -47,13 +68,13 @@ export function bytes(n: number): string {
 /** A fraction 0…1 as a percentage: pct(0.0535) → "5.35 %". */
 export function pct(value: number | null | undefined, digits = 2): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return DASH;
-  return `${(value * 100).toLocaleString("en-GB", { minimumFractionDigits: digits, maximumFractionDigits: digits })} %`;
+  return `${fixed(value * 100, digits)} %`;
 }
 
 /** A 95 % interval of two fractions: "4.99–5.71 %". */
 export function pctRange(lower: number | null | undefined, upper: number | null | undefined, digits = 2): string {
   if (lower === null || lower === undefined || upper === null || upper === undefined || !Number.isFinite(lower) || !Number.isFinite(upper)) return DASH;
-  const f = (v: number) => (v * 100).toLocaleString("en-GB", { minimumFractionDigits: digits, maximumFractionDigits: digits });
+  const f = (v: number) => fixed(v * 100, digits);
   return `${f(lower)}–${f(upper)} %`;
 }
 
@@ -65,7 +86,7 @@ const SUPERSCRIPT: Record<string, string> = { "-": "⁻", "0": "⁰", "1": "¹",
  */
 export function pValue(p: number | null | undefined): string {
   if (p === null || p === undefined || !Number.isFinite(p)) return DASH;
-  if (p >= 0.001) return p.toLocaleString("en-GB", { minimumFractionDigits: 4, maximumFractionDigits: 4 });
+  if (p >= 0.001) return fixed(p, 4);
   if (p < 1e-15) return "< 10⁻¹⁵";
   const [mant, exp] = p.toExponential(1).split("e");
   return `${mant} × 10${String(Number(exp)).replace(/./g, (c) => SUPERSCRIPT[c] ?? c)}`;
@@ -75,7 +96,7 @@ export function pValue(p: number | null | undefined): string {
 export function sig(value: number | null | undefined, digits = 3): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return DASH;
   if (value !== 0 && (Math.abs(value) >= 1e6 || Math.abs(value) < 1e-4)) return value.toExponential(digits - 1);
-  return Number(value.toPrecision(digits)).toLocaleString("en-GB", { maximumFractionDigits: 10 });
+  return numberFormat(undefined, 10).format(Number(value.toPrecision(digits)));
 }
 
 /** "Casting speed" → "casting speed" inside a sentence; "EMBr current" and "SEN depth" keep their capitals. */
@@ -87,5 +108,5 @@ export function lowerFirst(label: string): string {
 export function day(ymd: string | null | undefined): string {
   const m = ymd ? /^(\d{4})-(\d{2})-(\d{2})$/.exec(ymd) : null;
   if (!m) return date(ymd);
-  return new Date(Number(m[1]), Number(m[2]) - 1, Number(m[3])).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" });
+  return DATE().format(new Date(Number(m[1]), Number(m[2]) - 1, Number(m[3])));
 }

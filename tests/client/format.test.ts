@@ -1,0 +1,43 @@
+import { describe, expect, it } from "vitest";
+import { date, dateTime, num, pct, pctRange, plural, pValue, sig, time } from "../../src/lib/format";
+
+/**
+ * The screens' number and date texts come from formatters made once (src/lib/format.ts); they must
+ * read exactly as `toLocaleString("en-GB", options)` does, which the language defines as a new
+ * formatter with the same options.
+ */
+const en = (v: number, min?: number, max?: number) => v.toLocaleString("en-GB", { minimumFractionDigits: min, maximumFractionDigits: max });
+
+describe("formatting", () => {
+  it("when numbers of every size and sign are shown with 0–4 decimals, then the text is the one toLocaleString gives, dash for a gap", () => {
+    const values = [0, -0, 1, -1, 0.5, 0.005, 2.675, -0.0049, 1e-7, 1234.5, 123456789.123, 15852, 0.12468];
+    for (let i = 0; i < 500; i++) values.push(Math.sin(i) * 10 ** ((i % 13) - 5));
+    for (const v of values)
+      for (const d of [0, 1, 2, 3, 4]) {
+        expect(num(v, d)).toBe(en(v, d, d));
+        expect(pct(v, d)).toBe(`${en(v * 100, d, d)} %`);
+        expect(pctRange(v, v / 2, d)).toBe(`${en(v * 100, d, d)}–${en((v / 2) * 100, d, d)} %`);
+      }
+    expect(num(15852)).toBe("15,852");
+    expect(pct(0.1247, 2)).toBe("12.47 %");
+    expect(num(null)).toBe("—");
+    expect(pct(Number.NaN)).toBe("—");
+    expect(plural(15852, "slab")).toBe("15,852 slabs");
+    expect(plural(1, "slab")).toBe("1 slab");
+    expect(pValue(0.04321)).toBe("0.0432");
+    expect(pValue(0.00036)).toBe("3.6 × 10⁻⁴");
+    expect(sig(1.23456)).toBe("1.23");
+    expect(sig(12345.6, 3)).toBe(en(12300, undefined, 10));
+  });
+
+  it("when dates and times are shown, then they read as toLocaleString gives them", () => {
+    for (let i = 0; i < 200; i++) {
+      const d = new Date(Date.UTC(2024, 0, 1) + i * 7_654_321_987);
+      const iso = d.toISOString();
+      expect(dateTime(iso)).toBe(d.toLocaleString("en-GB", { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" }));
+      expect(date(iso)).toBe(d.toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" }));
+      expect(time(iso)).toBe(d.toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit" }));
+    }
+    expect(date("not a date")).toBe("—");
+  });
+});
