@@ -264,9 +264,10 @@ export function createApp(opts: AppOptions) {
     // Who asks decides what is named: a report's chart code for a role that reads reports, and the
     // screen's first data request (server/lib/screen-data.ts) for a role that may read it.
     app.get("/{*any}", authContext(auth), (req, res) => {
-      const page = screens.pageFor(req.path, { mayReadReports: can(req.user?.roles, "reports.read") });
+      const match = screenFor(req.path);
+      const page = screens.pageFor(match, { mayReadReports: can(req.user?.roles, "reports.read") });
       const signedIn = req.user && !req.user.mustChangePassword ? req.user : null;
-      const data = signedIn ? firstDataRequest(screenFor(req.path).screen, new URLSearchParams(req.url.split("?")[1] ?? ""), signedIn.roles) : null;
+      const data = signedIn ? firstDataRequest(match.screen, new URLSearchParams(req.url.split("?")[1] ?? ""), signedIn.roles) : null;
       if (data) res.setHeader("Link", preloadLink(data));
       const encoding = req.headers["accept-encoding"] ? (req.acceptsEncodings("br") ? "br" : req.acceptsEncodings("gzip") ? "gzip" : null) : null;
       res.setHeader("Content-Type", "text/html; charset=UTF-8");

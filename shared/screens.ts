@@ -13,11 +13,12 @@ export interface Screen {
   /** Within the frame: relative to "/" ("" is the home screen). Outside it: absolute. */
   path: string;
   module: string;
-  /** A report screen: its data come through the report loader, and it draws charts. */
+  /** A report screen ("reports/<kind>"): its data come through the report loader, and it draws charts. */
   report?: boolean;
-  /** The module's data loader is held from the start and runs while its code loads. */
-  early?: boolean;
 }
+
+/** The report a report screen shows (its path's last part); null for any other screen. */
+export const reportKindOf = (s: Screen): string | null => (s.report ? s.path.replace(/^reports\//, "") : null);
 
 /** Outside the frame (no menu): signed out, or a first password still to be replaced. */
 export const OUTSIDE_FRAME: readonly Screen[] = [
@@ -30,7 +31,7 @@ export const OUTSIDE_FRAME: readonly Screen[] = [
 ];
 
 /** The frame (menu, offline band, outbox) every other screen is drawn in. */
-export const FRAME: Screen = { path: "/", module: "app-layout", early: true };
+export const FRAME: Screen = { path: "/", module: "app-layout" };
 
 export const IN_FRAME: readonly Screen[] = [
   { path: "", module: "home" },
@@ -44,7 +45,7 @@ export const IN_FRAME: readonly Screen[] = [
   { path: "claims/new", module: "claim-new" },
   { path: "claims/:id", module: "claim" },
   { path: "trace", module: "trace" },
-  { path: "heats", module: "heats", early: true },
+  { path: "heats", module: "heats" },
   { path: "heats/:heatNo", module: "heat" },
   { path: "heats/:heatNo/history", module: "heat-history" },
   { path: "slabs/:slabId", module: "slab" },
@@ -89,7 +90,12 @@ function matches(pattern: string, pathname: string): boolean {
  * static segment outranks a `:param` in the same place (so "/claims/new" is not claim "new"), and
  * "*" takes what nothing else does. Trailing slashes do not count.
  */
-export function screenFor(pathname: string): { screen: Screen; inFrame: boolean } {
+export interface ScreenMatch {
+  screen: Screen;
+  inFrame: boolean;
+}
+
+export function screenFor(pathname: string): ScreenMatch {
   for (const s of OUTSIDE_FRAME) if (matches(s.path, pathname)) return { screen: s, inFrame: false };
   const candidates = IN_FRAME.filter((s) => s.path !== "*" && matches(s.path, pathname));
   // Fewer params first: the most specific pattern wins, as in React Router's ranking.

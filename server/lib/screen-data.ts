@@ -10,11 +10,11 @@ import { readHeatListParams } from "@shared/heat-list-query";
 import { toQueryString } from "@shared/query-string";
 import { isReportKind, readReportParams, reportQueryString } from "@shared/report-query";
 import { can, type Role } from "@shared/roles";
-import type { Screen } from "@shared/screens";
+import { reportKindOf, type Screen } from "@shared/screens";
 
 export function firstDataRequest(screen: Screen, search: URLSearchParams, roles: readonly Role[] | undefined): string | null {
-  if (screen.report) {
-    const kind = screen.path.replace(/^reports\//, "");
+  const kind = reportKindOf(screen);
+  if (kind !== null) {
     if (!isReportKind(kind) || !can(roles, "reports.read")) return null;
     return `/api/reports/${kind}?${reportQueryString(kind, readReportParams(kind, search))}`;
   }

@@ -18,7 +18,7 @@
 import fs from "node:fs";
 import path from "node:path";
 import zlib from "node:zlib";
-import { FRAME, screenFor, type Screen } from "@shared/screens";
+import { FRAME, type Screen, type ScreenMatch } from "@shared/screens";
 
 interface ManifestEntry {
   file: string;
@@ -31,13 +31,9 @@ interface ManifestEntry {
 type Manifest = Record<string, ManifestEntry>;
 
 export interface ScreenPage {
-  /** The module whose page this is (null: index.html as built). */
-  module: string | null;
   html: Buffer;
   br: Buffer;
   gzip: Buffer;
-  /** The files named, in the order named (for tests and the bench). */
-  preloads: string[];
 }
 
 /** Every file the given entries import, themselves included: breadth first, in the entries' order (the order they are named in). */
@@ -56,7 +52,7 @@ function closure(manifest: Manifest, keys: string[]): Set<string> {
 const moduleKey = (module: string) => `src/app/routes/${module}.tsx`;
 
 /**
- * The pages of one build: `pageFor(pathname)` answers every address the app's router draws. A build
+ * The pages of one build: `pageFor(screenFor(pathname))` answers every address the app's router draws. A build
  * replaced or patched in place on a running server is seen at the next request (index.html and the
  * manifest are looked at — their size and time — on every page asked; the pages are built again).
  */
@@ -87,7 +83,7 @@ export function createScreenPages(clientDist: string) {
     const entryKey = manifest ? Object.keys(manifest).find((k) => manifest![k]!.isEntry) : undefined;
     // The first script's own imports: index.html names them already.
     const named = manifest && entryKey ? closure(manifest, [entryKey]) : new Set<string>();
-    const plain = compress(null, base, []);
+    const plain = compress(base);
     // The Latin faces of the four weights the screens use: asked for with the page, they are in hand
     // when the first screen is laid out, instead of arriving after it and laying it out again. (Latin
     // Extended and Greek stay on demand: few screens show them.)
@@ -112,22 +108,22 @@ export function createScreenPages(clientDist: string) {
         ...fonts.map((f) => `\n    <link rel="preload" as="font" type="font/woff2" crossorigin href="/${f}">`),
         ...files.map((f) => `\n    <link rel="modulepreload" crossorigin href="/${f}">`),
       ].join("");
-      return compress(screen.module, Buffer.from(`${html.slice(0, at)}${links}\n  ${html.slice(at)}`, "utf8"), [...fonts, ...files]);
+      return compress(Buffer.from(`${html.slice(0, at)}${links}\n  ${html.slice(at)}`, "utf8"));
     };
   }
 
   return {
     /**
-     * The page for an address (built on first use, then kept while the build stays as it is);
-     * `mayReadReports`: the person asking may read reports (their chart code is named).
+     * The page for the screen an address opens (`screenFor`; built on first use, then kept while
+     * the build stays as it is); `mayReadReports`: the person asking may read reports (their chart
+     * code is named).
      */
-    pageFor(pathname: string, { mayReadReports = false }: { mayReadReports?: boolean } = {}): ScreenPage {
+    pageFor({ screen, inFrame }: ScreenMatch, { mayReadReports = false }: { mayReadReports?: boolean } = {}): ScreenPage {
       const now = signature();
       if (now !== built) {
         load();
         built = now;
       }
-      const { screen, inFrame } = screenFor(pathname);
       const charts = !!screen.report && mayReadReports;
       const key = `${inFrame ? "frame:" : ""}${screen.module}${charts ? "+charts" : ""}`;
       let page = pages.get(key);
@@ -137,12 +133,10 @@ export function createScreenPages(clientDist: string) {
   };
 }
 
-function compress(module: string | null, html: Buffer, preloads: string[]): ScreenPage {
+function compress(html: Buffer): ScreenPage {
   return {
-    module,
     html,
     br: zlib.brotliCompressSync(html, { params: { [zlib.constants.BROTLI_PARAM_QUALITY]: zlib.constants.BROTLI_MAX_QUALITY } }),
     gzip: zlib.gzipSync(html, { level: zlib.constants.Z_BEST_COMPRESSION }),
-    preloads,
   };
 }

@@ -5,7 +5,7 @@ import { makeLoader as makeFrameLoader } from "./routes/app-layout.loader";
 import { makeLoader as makeHeatsLoader } from "./routes/heats.loader";
 import { Spinner } from "@/components/ui/logo";
 import { RootError, RouteError } from "./routes/route-error";
-import { FRAME, IN_FRAME, OUTSIDE_FRAME, type Screen } from "@shared/screens";
+import { FRAME, IN_FRAME, OUTSIDE_FRAME, reportKindOf, type Screen } from "@shared/screens";
 
 /** A lazily loaded screen: its component, an optional loader built with the QueryClient, and its error view. */
 interface RouteModule {
@@ -101,14 +101,14 @@ function moduleOf(name: string): () => Promise<RouteModule> {
   return load;
 }
 
-/** The early loaders, held in the first script (see earlyLoader). */
+/** The screens whose loaders the first script holds, so they run while the code loads (see earlyLoader). */
 const EARLY_LOADERS: Record<string, (qc: QueryClient) => LoaderFunction> = { "app-layout": makeFrameLoader, heats: makeHeatsLoader };
 
 function screenRoute(qc: QueryClient, s: Screen) {
   const load = moduleOf(s.module);
-  if (s.report) return reportScreen(qc, s.path.replace(/^reports\//, "") as ReportKind, load);
-  const early = s.early ? EARLY_LOADERS[s.module] : undefined;
-  if (s.early && !early) throw new Error(`No early loader for ${s.module}`);
+  const kind = reportKindOf(s);
+  if (kind) return reportScreen(qc, kind as ReportKind, load);
+  const early = EARLY_LOADERS[s.module];
   return early ? earlyScreen(qc, early, load) : { lazy: lazyRoute(qc, load) };
 }
 

@@ -5,7 +5,9 @@ import zlib from "node:zlib";
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { CLIENT_DIST } from "../../server/app";
 import { createScreenPages } from "../../server/lib/screen-preload";
+import { screenFor } from "../../shared/screens";
 import { listenTestApp, type ListeningApp } from "../helpers/listening-app";
+import { readManifest } from "../helpers/published-build";
 
 /**
  * Every text file of the built client goes out compressed once at build (.br and .gz beside it,
@@ -13,16 +15,7 @@ import { listenTestApp, type ListeningApp } from "../helpers/listening-app";
  * decoded, the cache headers as before. Runs on a copy of the build (without source maps), so that
  * a test may change a file in place the way a hand-patched deployment does.
  */
-const published = await vi.hoisted(async () => {
-  const fs = await import("node:fs");
-  const os = await import("node:os");
-  const path = await import("node:path");
-  const from = path.resolve(process.env.STRANDSIGHT_CLIENT_DIST ?? "dist");
-  const to = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-compression-"));
-  fs.cpSync(from, to, { recursive: true, filter: (src) => !src.endsWith(".map") });
-  process.env.STRANDSIGHT_CLIENT_DIST = to;
-  return to;
-});
+const published = await vi.hoisted(async () => (await import("../helpers/published-build")).publishBuildCopy("strandsight-compression-"));
 
 let app: ListeningApp;
 let port: number;
@@ -61,8 +54,7 @@ function decode(body: Buffer, encoding: string | undefined): Buffer {
   return body;
 }
 
-const manifest = () =>
-  JSON.parse(fs.readFileSync(path.join(CLIENT_DIST, ".vite/manifest.json"), "utf8")) as Record<string, { file: string; isEntry?: boolean; css?: string[] }>;
+const manifest = () => readManifest(CLIENT_DIST);
 
 describe("the built client's files, compressed", () => {
   it("when the build is made, then every script, style sheet and page has a .br and a .gz holding its exact bytes, and the service worker precaches the plain files only", () => {
@@ -135,7 +127,7 @@ describe("the built client's files, compressed", () => {
         expect(res.headers["cache-control"]).toBe(c.cache);
         expect(res.headers["vary"]).toMatch(/Accept-Encoding/i);
         expect(Number(res.headers["content-length"])).toBe(body.length);
-        const plain = c.page ? createScreenPages(CLIENT_DIST).pageFor(c.page).html : fs.readFileSync(path.join(CLIENT_DIST, c.file()));
+        const plain = c.page ? createScreenPages(CLIENT_DIST).pageFor(screenFor(c.page)).html : fs.readFileSync(path.join(CLIENT_DIST, c.file()));
         expect(decode(body, expected).equals(plain)).toBe(true);
       });
     }

@@ -6,6 +6,7 @@ import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { FRAME, IN_FRAME, OUTSIDE_FRAME, screenFor } from "../../shared/screens";
 import { CLIENT_DIST } from "../../server/app";
 import { listenTestApp, type ListeningApp } from "../helpers/listening-app";
+import { readManifest } from "../helpers/published-build";
 
 /**
  * A screen's address is answered with index.html naming that screen's code (and, for a report, its
@@ -13,26 +14,9 @@ import { listenTestApp, type ListeningApp } from "../helpers/listening-app";
  * browser fetches them beside the first script (server/lib/screen-preload.ts). Runs on a copy of the
  * build, so that a test may patch index.html in place as a hand-patched deployment does.
  */
-const published = await vi.hoisted(async () => {
-  const fs = await import("node:fs");
-  const os = await import("node:os");
-  const path = await import("node:path");
-  const from = path.resolve(process.env.STRANDSIGHT_CLIENT_DIST ?? "dist");
-  const to = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-screen-pages-"));
-  fs.cpSync(from, to, { recursive: true, filter: (src) => !src.endsWith(".map") });
-  process.env.STRANDSIGHT_CLIENT_DIST = to;
-  return to;
-});
+const published = await vi.hoisted(async () => (await import("../helpers/published-build")).publishBuildCopy("strandsight-screen-pages-"));
 
-interface ManifestEntry {
-  file: string;
-  src?: string;
-  isEntry?: boolean;
-  imports?: string[];
-  dynamicImports?: string[];
-  assets?: string[];
-}
-const manifest = () => JSON.parse(fs.readFileSync(path.join(CLIENT_DIST, ".vite", "manifest.json"), "utf8")) as Record<string, ManifestEntry>;
+const manifest = () => readManifest(CLIENT_DIST);
 const fileOf = (module: string) => manifest()[`src/app/routes/${module}.tsx`]!.file;
 /** The file a shared chunk was written to, by its name ("chart-theme" → assets/chart-theme-<hash>.js). */
 const chunk = (name: string) => Object.values(manifest()).find((m) => new RegExp(`^assets/${name}-[\\w-]+\\.js$`).test(m.file))!.file;

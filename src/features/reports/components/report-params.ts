@@ -1,5 +1,5 @@
 import { termLabel } from "@shared/api/reports";
-import { FILTER_KEYS, REPORT_QUERIES, type ReportKind, type ReportParams } from "@shared/report-query";
+import { FILTER_KEYS, type ReportKind, type ReportParams } from "@shared/report-query";
 
 // The question's keys, defaults and canonical query string live in shared/report-query.ts (the server
 // names a screen's first request with them); the screens' words about each report live here.
@@ -10,13 +10,10 @@ export interface ReportSpec {
   title: string;
   /** One line on the reports home and under the title. */
   summary: string;
-  /** The report's own parameters with the value used when the address leaves them out (shared/report-query.ts). */
-  defaults: ReportParams;
-  /** Parameters of its own that have no default (shared/report-query.ts). */
-  optional?: string[];
 }
 
-const WORDS: Omit<ReportSpec, "defaults" | "optional">[] = [
+/** What the screens say about each report (its question's keys and defaults: shared/report-query.ts). */
+export const REPORTS: ReportSpec[] = [
   {
     kind: "overview",
     title: "Overview",
@@ -70,8 +67,6 @@ const WORDS: Omit<ReportSpec, "defaults" | "optional">[] = [
       "The cause tags of the defects passing the filters, largest first, with the cumulative share, the confidence of each tagging and how many defects carry no cause yet.",
   },
 ];
-
-export const REPORTS: ReportSpec[] = WORDS.map((w) => ({ ...w, ...REPORT_QUERIES[w.kind] }));
 
 export const reportSpec = (kind: ReportKind): ReportSpec => REPORTS.find((r) => r.kind === kind)!;
 export const reportPath = (kind: ReportKind, query = "") => `/reports/${kind}${query ? `?${query}` : ""}`;
