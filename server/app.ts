@@ -22,6 +22,7 @@ import { freshPrecompressed } from "./middleware/fresh-precompressed";
 import { rateLimits } from "./middleware/rate-limits";
 import { buildOpenApiDocument, createOpenApiRegistry } from "./openapi";
 import { adminUserRoutes } from "./routes/admin-users.routes";
+import { signInRoutes } from "./routes/sign-in.routes";
 import type { Deps } from "./routes/deps";
 import { heatRoutes } from "./routes/heats.routes";
 import { defectRoutes } from "./routes/defects.routes";
@@ -107,6 +108,7 @@ export function collectRoutes(deps: Deps): AnyRoute[] {
   return [
     ...systemRoutes(deps),
     ...adminUserRoutes(deps),
+    ...signInRoutes(deps),
     ...plantRoutes(deps),
     ...heatRoutes(deps),
     ...importRoutes(deps),

@@ -6,6 +6,12 @@ import { clearMustChange, revokeResetLinks } from "./services/password-state";
 import { betterAuth } from "better-auth";
 import { drizzleAdapter } from "better-auth/adapters/drizzle";
 import { admin } from "better-auth/plugins/admin";
+import { genericOAuth } from "better-auth/plugins/generic-oauth";
+import { and, eq } from "drizzle-orm";
+import { parseRoles } from "@shared/roles";
+import { SSO_PROVIDER_ID } from "@shared/api/sign-in";
+import { applyDirectoryRoles, getSignInSettings, groupsOfIdToken } from "./services/sign-in-settings.service";
+import type { SsoConfig } from "./sso/setup";
 import { createAccessControl } from "better-auth/plugins/access";
 import { adminAc, defaultStatements } from "better-auth/plugins/admin/access";
 import type { Db } from "./db/client";
@@ -44,6 +50,8 @@ export interface AuthOptions {
   rateLimit?: boolean;
   /** Counts wrong passwords per account and address and locks sign-in from there for a while (server/lib/sign-in-guard.ts). */
   signInGuard?: SignInGuard;
+  /** Single sign-on through the plant's identity provider (server/sso/setup.ts); none: local passwords only. */
+  sso?: SsoConfig | null;
 }
 
 /**
@@ -61,6 +69,9 @@ export const HTTP_AUTH_ENDPOINTS = [
   { method: "POST", path: "/request-password-reset" },
   { method: "POST", path: "/reset-password" },
   { method: "GET", path: "/reset-password/:token" },
+  // Single sign-on: the start (answers the provider's address to go to) and the provider's return.
+  { method: "POST", path: "/sign-in/social" },
+  { method: "GET", path: "/callback/:id" },
 ] as const;
 
 const allowedOverHttp = (method: string, declaredPath: string) => HTTP_AUTH_ENDPOINTS.some((e) => e.method === method && e.path === declaredPath);
@@ -88,6 +99,11 @@ const RETURN_FIELDS: Record<string, { from: "query" | "body"; field: string }[]>
   "/reset-password/:token": [{ from: "query", field: "callbackURL" }],
   "/request-password-reset": [{ from: "body", field: "redirectTo" }],
   "/sign-in/email": [{ from: "body", field: "callbackURL" }],
+  "/sign-in/social": [
+    { from: "body", field: "callbackURL" },
+    { from: "body", field: "errorCallbackURL" },
+    { from: "body", field: "newUserCallbackURL" },
+  ],
 };
 const isAppPath = (v: unknown) => typeof v === "string" && v.length <= 200 && /^\/(?![/\\])[^\s\\]*$/.test(v);
 
@@ -155,6 +171,18 @@ export function createAuth(opts: AuthOptions) {
       // Read with every session (server/middleware/auth-context.ts); set only by our own code.
       additionalFields: { mustChangePassword: { type: "boolean", required: false, defaultValue: false, input: false } },
     },
+    // A person the identity provider brings for the first time starts with no role: their roles come
+    // from their groups right after (the callback hook below), audited from nothing.
+    databaseHooks: {
+      user: {
+        create: {
+          before: async (u, ctx) => (ctx?.path === "/callback/:id" ? { data: { ...u, role: "" } } : undefined),
+        },
+      },
+    },
+    // A sign-in through the identity provider that comes back refused before its own return address is
+    // known (a changed or lost state) lands on our sign-in page, which says why in words.
+    onAPIError: { errorURL: "/sign-in" },
     rateLimit: { enabled: opts.rateLimit ?? process.env.NODE_ENV === "production", storage: "memory" },
     session: {
       // A shift plus margin; the cookie is refreshed while the user keeps working.
@@ -183,8 +211,29 @@ export function createAuth(opts: AuthOptions) {
             throw new APIError("FORBIDDEN", { code: "INVALID_CALLBACK_URL", message: "This link must lead back to a page of Strandsight, and it does not." });
           }
         }
+        if (ctx.request && ctx.path === "/sign-in/social") {
+          const provider = (ctx.body as { provider?: unknown } | undefined)?.provider;
+          if (!opts.sso || provider !== SSO_PROVIDER_ID) {
+            throw new APIError("NOT_FOUND", {
+              code: "NO_IDENTITY_PROVIDER",
+              message: "Signing in through the plant's identity provider is not set up here: sign in with your e-mail and password.",
+            });
+          }
+          return;
+        }
         if (ctx.path !== "/sign-in/email") return;
         const email = String((ctx.body as { email?: unknown } | undefined)?.email ?? "");
+        // Once the plant signs in through its identity provider, the administrator may keep local
+        // passwords for administrators only (the break-glass accounts).
+        if (opts.sso && getSignInSettings(opts.db).localPasswords === "administrators") {
+          const row = opts.db.select({ role: user.role }).from(user).where(eq(user.email, email.trim().toLowerCase())).get();
+          if (!row || !parseRoles(row.role).includes("admin")) {
+            throw new APIError("FORBIDDEN", {
+              code: "PASSWORD_SIGN_IN_OFF",
+              message: `This plant signs in through ${opts.sso.name}: use the button “Sign in with ${opts.sso.name}”. Passwords are kept for administrators only.`,
+            });
+          }
+        }
         const minutes = email ? guard.lockedFor(email, addressOf(ctx)) : 0;
         if (minutes > 0) {
           throw new APIError("TOO_MANY_REQUESTS", {
@@ -196,6 +245,20 @@ export function createAuth(opts: AuthOptions) {
       after: createAuthMiddleware(async (ctx) => {
         const returned = ctx.context.returned;
         const ok = !(returned instanceof APIError) && !(returned instanceof Response && returned.status >= 400);
+        // Back from the identity provider with a new session: the roles the person's groups map to.
+        if (ctx.path === "/callback/:id" && opts.sso) {
+          const signedIn = ctx.context.newSession?.user;
+          if (!signedIn) return;
+          const acct = opts.db
+            .select({ idToken: account.idToken })
+            .from(account)
+            .where(and(eq(account.userId, signedIn.id), eq(account.providerId, SSO_PROVIDER_ID)))
+            .get();
+          const groups = groupsOfIdToken(acct?.idToken, opts.sso.groupClaim);
+          applyDirectoryRoles(opts.db, signedIn.id, groups);
+          sessions.forgetUser(signedIn.id);
+          return;
+        }
         if (ctx.path === "/sign-out") {
           sessions.forgetCookie(ctx.headers?.get("cookie"));
           return;
@@ -233,6 +296,27 @@ export function createAuth(opts: AuthOptions) {
       }),
     },
     plugins: [
+      // No provider configured: the plugin is there with no provider, and /sign-in/social says so in words.
+      genericOAuth({
+        config: opts.sso
+          ? [
+              {
+                providerId: SSO_PROVIDER_ID,
+                name: opts.sso.name,
+                discoveryUrl: `${opts.sso.issuer}/.well-known/openid-configuration`,
+                // Only ID tokens verified against the provider's keys, issuer and this client are taken.
+                requireIdTokenVerification: true,
+                clientId: opts.sso.clientId,
+                clientSecret: opts.sso.clientSecret,
+                authentication: "basic",
+                scopes: opts.sso.scopes,
+                pkce: true,
+                // Name and e-mail follow the directory at every sign-in.
+                overrideUserInfo: true,
+              },
+            ]
+          : [],
+      }),
       admin({
         ac,
         roles: authRoles,
@@ -244,7 +328,7 @@ export function createAuth(opts: AuthOptions) {
   });
   // The admin's Users screen shows and lifts locks (server/routes/admin-users.routes.ts); the Users
   // routes drop a changed user's cached sessions.
-  return Object.assign(auth, { signInGuard: guard, sessions });
+  return Object.assign(auth, { signInGuard: guard, sessions, sso: opts.sso ?? null });
 }
 
 export type Auth = ReturnType<typeof createAuth>;

@@ -66,6 +66,22 @@ const envSchema = z.object({
   MAIL_FROM: z.string().min(3).default("Strandsight <strandsight@plant.invalid>"),
   /** Port of the local fake SMTP server (only when SMTP_URL is unset); 0 picks a free one. */
   FAKE_SMTP_PORT: z.coerce.number().int().min(0).max(65535).default(2525),
+  /**
+   * The plant's identity provider for single sign-on (OpenID Connect): its issuer URL (discovery at
+   * <issuer>/.well-known/openid-configuration), or `local` for the fake provider started with the app
+   * (development and demos only). Unset: local passwords only.
+   */
+  OIDC_ISSUER: z.union([z.literal("local"), z.url({ error: "OIDC_ISSUER must be the provider's issuer URL (https://…) or local." })]).optional(),
+  OIDC_CLIENT_ID: z.string().min(1).max(512).optional(),
+  OIDC_CLIENT_SECRET: z.string().min(1).max(1024).optional(),
+  /** The ID-token claim that lists the person's groups. */
+  OIDC_GROUP_CLAIM: z.string().min(1).max(128).default("groups"),
+  /** Scopes asked for, space-separated (openid is always among them). */
+  OIDC_SCOPES: z.string().min(1).max(512).default("openid email profile groups"),
+  /** What the sign-in button calls the provider: "Sign in with …". */
+  OIDC_DISPLAY_NAME: z.string().min(1).max(80).default("your plant account"),
+  /** Port of the local fake identity provider (only with OIDC_ISSUER=local); 0 picks a free one. */
+  FAKE_OIDC_PORT: z.coerce.number().int().min(0).max(65535).default(4011),
   /** How often the mail worker looks for due messages. */
   MAIL_POLL_MS: z.coerce.number().int().min(200).max(600_000).default(5000),
 });
@@ -108,11 +124,19 @@ export function loadEnv(source: NodeJS.ProcessEnv = process.env): Env {
         "BETTER_AUTH_URL must be an https:// address in production: session cookies are Secure there and a browser will not send them over http. Put the app behind a TLS reverse proxy (and set TRUST_PROXY).",
       );
     }
+    if (env.OIDC_ISSUER === "local") {
+      throw new EnvError(
+        "OIDC_ISSUER=local starts the fake identity provider, where anyone can sign in as its invented people: never in production. Give your provider's issuer URL.",
+      );
+    }
     if (env.SEED_DEMO && env.DEMO_PASSWORD === PUBLISHED_DEMO_PASSWORD) {
       throw new EnvError(
         "SEED_DEMO=true in production would create demo accounts with the published password: set your own DEMO_PASSWORD, or leave SEED_DEMO off.",
       );
     }
+  }
+  if (env.OIDC_ISSUER && env.OIDC_ISSUER !== "local" && (!env.OIDC_CLIENT_ID || !env.OIDC_CLIENT_SECRET)) {
+    throw new EnvError("OIDC_ISSUER is set: give OIDC_CLIENT_ID and OIDC_CLIENT_SECRET too, as registered for Strandsight at the identity provider.");
   }
   return {
     ...env,

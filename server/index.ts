@@ -10,6 +10,7 @@ import { heats, user } from "./db/schema";
 import { EnvError, loadDotEnvFile, loadEnv, originPolicyOf } from "./env";
 import { createLogger, type Logger } from "./lib/logger";
 import { describePathError, EXIT_CANNOT_START, StartupError } from "./lib/startup-error";
+import { setupSso } from "./sso/setup";
 import { setupMail } from "./mail/setup";
 import { createNotifications } from "./mail/notifications";
 import { DEMO_USERS } from "./seed/catalogue";
@@ -95,6 +96,9 @@ async function main() {
   const devOrigins = env.NODE_ENV === "development" ? ["http://localhost:5173"] : [];
   // Mail: SMTP_URL, or the local fake SMTP server started here.
   const { mailer, fake } = await setupMail(db, env, logger);
+  // Single sign-on: the plant's identity provider, or with OIDC_ISSUER=local the fake one started here.
+  const { sso, fake: fakeIdp } = await setupSso(env);
+  if (fakeIdp) console.log(`Local fake identity provider (invented people, any password) at ${fakeIdp.issuer}`);
   const notify = createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
   const auth = createAuth({
     sendResetPassword: async ({ user: u, url }) => void notify.resetLink(u, url),
@@ -104,6 +108,7 @@ async function main() {
     origins: originPolicyOf(env, devOrigins),
     logger,
     secureCookies: env.NODE_ENV === "production",
+    sso,
   });
 
   const empty =
@@ -205,6 +210,7 @@ async function main() {
       void (async () => {
         await mailer.stop();
         await fake?.close();
+        await fakeIdp?.close();
         // Imports in flight finished with their requests; the idle import threads go now.
         await (app.locals.imports as { close(): Promise<void> }).close();
         // After the last write: the next start reads the report cache back instead of rebuilding it.

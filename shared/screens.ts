@@ -69,6 +69,7 @@ export const IN_FRAME: readonly Screen[] = [
   { path: "import", module: "import" },
   { path: "setup", module: "setup" },
   { path: "admin/users", module: "admin-users" },
+  { path: "admin/sign-in", module: "admin-sign-in" },
   { path: "admin/tokens", module: "admin-tokens" },
   { path: "admin/outbox", module: "admin-outbox" },
   { path: "no-role", module: "no-role" },

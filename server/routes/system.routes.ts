@@ -3,6 +3,8 @@ import { aboutSchema } from "@shared/api/plant";
 import { meSchema, sessionSchema } from "@shared/api/users";
 import { ROLE_LABELS, type Role } from "@shared/roles";
 import { PUBLISHED_DEMO_PASSWORD } from "../env";
+import { getSignInSettings } from "../services/sign-in-settings.service";
+import { FAKE_DIRECTORY } from "../sso/fake-idp";
 import { defineRoute } from "../lib/route";
 import { DEMO_USERS } from "../seed/catalogue";
 import type { Deps } from "./deps";
@@ -16,7 +18,7 @@ const meOf = (user: { id: string; name: string; email: string; roles: Role[]; mu
   ...(user.mustChangePassword ? { mustChangePassword: true as const } : {}),
 });
 
-export function systemRoutes({ db, env }: Deps) {
+export function systemRoutes({ db, env, auth }: Deps) {
   return [
     defineRoute({
       method: "get",
@@ -64,6 +66,12 @@ export function systemRoutes({ db, env }: Deps) {
           demoAccounts: showAccounts ? DEMO_USERS.map((u) => ({ email: u.email, role: ROLE_LABELS[u.roles[0]] })) : [],
           // Only the published password (printed in the README); a password of the plant's own choosing is never shown.
           demoPassword: showAccounts && env.DEMO_PASSWORD === PUBLISHED_DEMO_PASSWORD ? env.DEMO_PASSWORD : null,
+          signIn: {
+            sso: auth.sso
+              ? { name: auth.sso.name, ...(auth.sso.local ? { localPeople: FAKE_DIRECTORY.map((p) => ({ login: p.login, groups: [...p.groups] })) } : {}) }
+              : null,
+            localPasswords: auth.sso ? getSignInSettings(db).localPasswords : ("everyone" as const),
+          },
         };
       },
     }),

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { signInOptionsSchema } from "./sign-in";
 
 export const slabSearchQuerySchema = z.object({
   q: z.string().trim().min(1, "Type part of a slab id.").max(40),
@@ -42,6 +43,8 @@ export const aboutSchema = z.object({
   demoAccounts: z.array(z.object({ email: z.string(), role: z.string() })),
   /** The demo accounts' password when it is the published one (README) and accounts are listed; else null. */
   demoPassword: z.string().nullable(),
+  /** What the sign-in page offers: single sign-on through the plant's identity provider, and who may use a password. */
+  signIn: signInOptionsSchema,
 });
 export type About = z.infer<typeof aboutSchema>;
 

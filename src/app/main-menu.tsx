@@ -14,7 +14,7 @@ export const MENU_GROUPS: { id: string; label: string; paths: string[] }[] = [
   { id: "claims", label: "Claims and tracing", paths: ["/claims", "/trace"] },
   { id: "reports", label: "Reports", paths: ["/reports"] },
   // The plant's own data and the installation: who signs in, what machines may send, what mail left.
-  { id: "setup", label: "Setup", paths: ["/setup", "/import", "/admin/users", "/admin/tokens", "/admin/outbox"] },
+  { id: "setup", label: "Setup", paths: ["/setup", "/import", "/admin/users", "/admin/sign-in", "/admin/tokens", "/admin/outbox"] },
 ];
 
 /** An entry of the row: a screen, or a group of screens that opens as a list. */

@@ -30,6 +30,7 @@ export const NAV_ITEMS: NavItem[] = [
   { to: "/import", label: "Import", capability: "imports.run" },
   { to: "/setup", label: "Plant setup", capability: "setup.manage" },
   { to: "/admin/users", label: "Users", capability: "users.manage" },
+  { to: "/admin/sign-in", label: "Sign-in", capability: "users.manage" },
   { to: "/admin/tokens", label: "API tokens", capability: "tokens.manage" },
   { to: "/admin/outbox", label: "Mail outbox", capability: "outbox.read" },
 ];

@@ -26,6 +26,7 @@ const ADMIN_MENU = [
   "Import",
   "Plant setup",
   "Users",
+  "Sign-in",
   "API tokens",
   "Mail outbox",
 ];
@@ -80,7 +81,7 @@ describe("the administrator's menu", () => {
     await page.keyboard.press("Enter");
     expect(await setup.getAttribute("aria-expanded")).toBe("true");
     const list = nav.getByRole("list", { name: "Setup" });
-    expect(await list.getByRole("link").allTextContents()).toEqual(["Import", "Plant setup", "Users", "API tokens", "Mail outbox"]);
+    expect(await list.getByRole("link").allTextContents()).toEqual(["Import", "Plant setup", "Users", "Sign-in", "API tokens", "Mail outbox"]);
     expect(await list.getByRole("link", { name: "Users" }).getAttribute("aria-current")).toBe("page");
     // The list opens leftwards at the right edge, inside the screen.
     const box = (await list.boundingBox())!;
@@ -95,7 +96,7 @@ describe("the administrator's menu", () => {
 
     // Tabbing past the last screen of the list closes it.
     await page.keyboard.press("Enter");
-    for (let i = 0; i < 5; i++) await page.keyboard.press("Tab");
+    for (let i = 0; i < 6; i++) await page.keyboard.press("Tab");
     expect(await activeText(page)).toBe("Mail outbox");
     await page.keyboard.press("Tab");
     expect(await setup.getAttribute("aria-expanded")).toBe("false");
@@ -137,7 +138,18 @@ describe("the administrator's menu", () => {
     await page.getByTestId("user-row-inspector@demo.test").waitFor();
     expect(await row(page)).toEqual({
       layout: "own-group-open",
-      labels: ["Import", "Plant setup", "Users", "API tokens", "Mail outbox", "Yard and quality", "Process and causes", "Claims and tracing", "Reports"],
+      labels: [
+        "Import",
+        "Plant setup",
+        "Users",
+        "Sign-in",
+        "API tokens",
+        "Mail outbox",
+        "Yard and quality",
+        "Process and causes",
+        "Claims and tracing",
+        "Reports",
+      ],
       rows: 1,
       height: 52,
     });

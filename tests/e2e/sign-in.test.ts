@@ -54,6 +54,7 @@ const homes = [
       "Import",
       "Plant setup",
       "Users",
+      "Sign-in",
       "API tokens",
       "Mail outbox",
     ],

@@ -11,6 +11,7 @@ import { loadEnv, originPolicyOf } from "../../server/env";
 import { createLogger } from "../../server/lib/logger";
 import { seedDemo } from "../../server/seed/seed";
 import { setupMail } from "../../server/mail/setup";
+import { setupSso } from "../../server/sso/setup";
 import { createNotifications } from "../../server/mail/notifications";
 import type { Role } from "../../shared/roles";
 
@@ -34,6 +35,8 @@ export interface TestAppOptions {
    * `production: false`.
    */
   beforeStart?: (db: Db) => void;
+  /** Single sign-on through the local fake identity provider (server/sso/fake-idp.ts) on a free port. */
+  fakeIdp?: { codeTtlSeconds?: number };
 }
 
 /**
@@ -49,6 +52,8 @@ export async function createTestApp(opts: TestAppOptions = {}) {
     BETTER_AUTH_URL: `http://localhost:${opts.port ?? 3000}`,
     LOG_LEVEL: process.env.LOG_LEVEL ?? "silent",
     FAKE_SMTP_PORT: "0",
+    FAKE_OIDC_PORT: "0",
+    ...(opts.fakeIdp ? { OIDC_ISSUER: "local" } : {}),
     ...opts.env,
   });
   const db = openDatabase(env.DATABASE_FILE);
@@ -58,7 +63,9 @@ export async function createTestApp(opts: TestAppOptions = {}) {
   // The worker is not started: tests send what is due with `await mailer.processDue()`.
   const { mailer, fake } = await setupMail(db, env, logger, { startFake: opts.fakeSmtp ?? false });
   const notify = createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
+  const { sso, fake: fakeIdp } = await setupSso(env, { codeTtlSeconds: opts.fakeIdp?.codeTtlSeconds });
   const auth = createAuth({
+    sso,
     db,
     secret: env.BETTER_AUTH_SECRET,
     baseURL: env.BETTER_AUTH_URL,
@@ -89,11 +96,12 @@ export async function createTestApp(opts: TestAppOptions = {}) {
     await (app.locals.reports as { close(): Promise<void> } | null | undefined)?.close();
     await mailer.stop();
     await fake?.close();
+    await fakeIdp?.close();
     db.$client.close();
     fs.rmSync(dir, { recursive: true, force: true });
   }
 
-  return { app, db, auth, env, dir, seed, agentFor, close, mailer, fake };
+  return { app, db, auth, env, dir, seed, agentFor, close, mailer, fake, fakeIdp };
 }
 
 export type TestApp = Awaited<ReturnType<typeof createTestApp>>;

@@ -23,6 +23,22 @@ describe("environment", () => {
     expect(env.BETTER_AUTH_SECRET.length).toBeGreaterThanOrEqual(32);
   });
 
+  it("when single sign-on is set up half-way or with the fake provider in production, then loading stops and says what is missing", () => {
+    expect(() => loadEnv({ OIDC_ISSUER: "https://id.plant.example/realms/works", DATABASE_FILE: tmp() })).toThrow(
+      "OIDC_ISSUER is set: give OIDC_CLIENT_ID and OIDC_CLIENT_SECRET too, as registered for Strandsight at the identity provider.",
+    );
+    expect(() => loadEnv({ OIDC_ISSUER: "id.plant.example", DATABASE_FILE: tmp() })).toThrow(/OIDC_ISSUER must be the provider's issuer URL/);
+    const prod = { NODE_ENV: "production", BETTER_AUTH_SECRET: "x".repeat(40), BETTER_AUTH_URL: "https://strandsight.plant.example", DATABASE_FILE: tmp() };
+    expect(() => loadEnv({ ...prod, OIDC_ISSUER: "local" })).toThrow(/never in production/);
+    const ok = loadEnv({ ...prod, OIDC_ISSUER: "https://id.plant.example/realms/works", OIDC_CLIENT_ID: "strandsight", OIDC_CLIENT_SECRET: "s3cret" });
+    expect([ok.OIDC_ISSUER, ok.OIDC_GROUP_CLAIM, ok.OIDC_SCOPES, ok.OIDC_DISPLAY_NAME]).toEqual([
+      "https://id.plant.example/realms/works",
+      "groups",
+      "openid email profile groups",
+      "your plant account",
+    ]);
+  });
+
   it("when PORT is not a number, then loading stops with a message naming PORT", () => {
     expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(EnvError);
     expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(/PORT/);

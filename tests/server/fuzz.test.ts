@@ -800,6 +800,8 @@ beforeAll(async () => {
     "GET /import/templates/:kind.xlsx": { params: { kind: "slabs" } },
     "GET /import/runs": {},
     "POST /ingest/:kind": { params: { kind: "heats" }, query: "dryRun=true", body: [FEED_ROW] },
+    "GET /admin/sign-in": {},
+    "PUT /admin/sign-in": { body: { groupRoles: [{ group: "fuzz-group", roles: ["quality"] }], localPasswords: "everyone" }, refuse: null },
     "GET /admin/tokens": {},
     "POST /admin/tokens": { body: { name: "fuzz" }, refuse: null },
     "DELETE /admin/tokens/:id": { params: id(tokenId) },

@@ -82,6 +82,11 @@ const matrix: Record<string, Row> = {
   "GET /import/templates/:kind.xlsx": { allowed: ["process", "admin"], sample: () => ({ path: "/api/import/templates/slabs.xlsx" }) },
   "GET /import/runs": { allowed: ["process", "admin"], sample: () => ({ path: "/api/import/runs" }) },
   "POST /ingest/:kind": { allowed: [], tokenOnly: true, sample: () => ({ path: "/api/ingest/heats?dryRun=true", body: [] }) },
+  "GET /admin/sign-in": { allowed: ["admin"], sample: () => ({ path: "/api/admin/sign-in" }) },
+  "PUT /admin/sign-in": {
+    allowed: ["admin"],
+    sample: () => ({ path: "/api/admin/sign-in", body: { groupRoles: [{ group: `matrix-${++counter}`, roles: ["inspector"] }], localPasswords: "everyone" } }),
+  },
   "GET /admin/tokens": { allowed: ["admin"], sample: () => ({ path: "/api/admin/tokens" }) },
   "POST /admin/tokens": { allowed: ["admin"], sample: () => ({ path: "/api/admin/tokens", body: { name: `matrix ${++counter}` } }) },
   "DELETE /admin/tokens/:id": {

@@ -1,6 +1,7 @@
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
-import { useQuery, useQueryClient } from "@tanstack/react-query";
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { useState } from "react";
 import { Link, useNavigate, useSearchParams } from "react-router";
 import { z } from "zod";
 import { Button } from "@/components/ui/button";
@@ -10,7 +11,9 @@ import { Notice } from "@/components/ui/notice";
 import { homeFor, safeNext } from "@/config/nav";
 import { authKeys, useSignIn } from "@/features/auth/api/session";
 import { plantKeys } from "@/features/plant/api/plant.queries";
-import { ApiError } from "@/lib/api-client";
+import { ssoErrorWords } from "@/features/auth/sso-errors";
+import { api, ApiError } from "@/lib/api-client";
+import { SSO_PROVIDER_ID } from "@shared/api/sign-in";
 
 const signInSchema = z.object({
   email: z.string().trim().min(1, "Enter your e-mail address.").email("This is not an e-mail address."),
@@ -20,12 +23,39 @@ type SignInForm = z.infer<typeof signInSchema>;
 
 export { RouteError as ErrorBoundary } from "./route-error";
 
+const ssoStartSchema = z.object({ url: z.string().url() });
+
+/**
+ * Single sign-on: the server answers the identity provider's address (this sign-in's state and PKCE
+ * verifier kept in a cookie) and the browser goes there; the provider sends it back to
+ * /api/auth/callback/plant, which signs in and continues at `next`, or comes back here with ?error=.
+ */
+function useSsoSignIn() {
+  return useMutation({
+    mutationFn: async (next: string) => {
+      const r = await api("/auth/sign-in/social", {
+        method: "POST",
+        body: { provider: SSO_PROVIDER_ID, callbackURL: next, errorCallbackURL: "/sign-in" },
+        schema: ssoStartSchema,
+      });
+      window.location.assign(r.url);
+    },
+  });
+}
+
 export function Component() {
   const navigate = useNavigate();
   const [params] = useSearchParams();
   const qc = useQueryClient();
   const signIn = useSignIn();
+  const sso = useSsoSignIn();
   const about = useQuery(plantKeys.about());
+  const [showPassword, setShowPassword] = useState(false);
+  const ssoOption = about.data?.signIn.sso ?? null;
+  // Passwords kept for administrators only: the form waits behind a button.
+  const passwordsClosed = ssoOption !== null && about.data?.signIn.localPasswords === "administrators" && !showPassword;
+  const next = params.get("next");
+  const startSso = () => sso.mutate(next?.startsWith("/") && !next.startsWith("//") ? next : "/");
   const form = useForm<SignInForm>({ resolver: zodResolver(signInSchema), defaultValues: { email: "", password: "" } });
 
   const onSubmit = form.handleSubmit(async (values) => {
@@ -36,7 +66,19 @@ export function Component() {
     navigate(safeNext(next, roles) ?? homeFor(roles), { replace: true });
   });
 
-  const error = signIn.error instanceof ApiError ? signIn.error.message : signIn.error ? "Sign-in failed." : null;
+  const returnedError = params.get("error");
+  const error =
+    signIn.error instanceof ApiError
+      ? signIn.error.message
+      : signIn.error
+        ? "Sign-in failed."
+        : sso.error instanceof ApiError
+          ? sso.error.message
+          : sso.error
+            ? "The identity provider could not be reached from here. Try again, or ask the plant's IT department."
+            : returnedError
+              ? ssoErrorWords(returnedError)
+              : null;
 
   return (
     <main className="grid min-h-dvh md:grid-cols-[minmax(0,5fr)_minmax(0,6fr)]">
@@ -56,18 +98,43 @@ export function Component() {
           <h1 className="text-2xl font-bold text-ink-900">Sign in</h1>
           {error ? <Notice tone="error">{error}</Notice> : null}
           {!error && params.get("expired") ? <Notice tone="info">Your session ended. Please sign in again.</Notice> : null}
-          <TextField label="E-mail" type="email" autoComplete="username" large {...form.register("email")} error={form.formState.errors.email?.message} />
-          <TextField
-            label="Password"
-            type="password"
-            autoComplete="current-password"
-            large
-            {...form.register("password")}
-            error={form.formState.errors.password?.message}
-          />
-          <Button type="submit" size="lg" className="w-full" disabled={form.formState.isSubmitting}>
-            {form.formState.isSubmitting ? "Signing in…" : "Sign in"}
-          </Button>
+          {ssoOption ? (
+            <>
+              <Button size="lg" className="w-full" onClick={startSso} disabled={sso.isPending || sso.isSuccess}>
+                {sso.isPending || sso.isSuccess ? "Going to the sign-in page…" : `Sign in with ${ssoOption.name}`}
+              </Button>
+              {passwordsClosed ? (
+                <p className="text-center text-sm text-ink-600">
+                  Passwords are kept for administrators.{" "}
+                  <button type="button" className="min-h-11 font-semibold text-strand-700 underline underline-offset-2" onClick={() => setShowPassword(true)}>
+                    Administrator sign-in with a password
+                  </button>
+                </p>
+              ) : (
+                <p className="flex items-center gap-3 text-xs font-semibold uppercase tracking-wide text-ink-500" aria-hidden>
+                  <span className="h-px flex-1 bg-ink-200" />
+                  or with a password
+                  <span className="h-px flex-1 bg-ink-200" />
+                </p>
+              )}
+            </>
+          ) : null}
+          {passwordsClosed ? null : (
+            <>
+              <TextField label="E-mail" type="email" autoComplete="username" large {...form.register("email")} error={form.formState.errors.email?.message} />
+              <TextField
+                label="Password"
+                type="password"
+                autoComplete="current-password"
+                large
+                {...form.register("password")}
+                error={form.formState.errors.password?.message}
+              />
+              <Button type="submit" size="lg" variant={ssoOption ? "secondary" : "primary"} className="w-full" disabled={form.formState.isSubmitting}>
+                {form.formState.isSubmitting ? "Signing in…" : "Sign in"}
+              </Button>
+            </>
+          )}
           <p className="text-center">
             <Link
               to="/forgot-password"
@@ -76,6 +143,18 @@ export function Component() {
               Forgot your password?
             </Link>
           </p>
+          {ssoOption?.localPeople ? (
+            <div className="rounded-md border border-dashed border-ink-300 bg-white p-3 text-sm text-ink-700" data-testid="fake-provider-people">
+              <p className="font-semibold">Local fake identity provider — its invented people (any password)</p>
+              <ul className="mt-1 space-y-0.5">
+                {ssoOption.localPeople.map((p) => (
+                  <li key={p.login}>
+                    <span className="font-mono text-ink-900">{p.login}</span> <span className="text-ink-500">— {p.groups.join(", ")}</span>
+                  </li>
+                ))}
+              </ul>
+            </div>
+          ) : null}
           {about.data?.demo && about.data.demoAccounts.length > 0 ? (
             <div className="rounded-md border border-dashed border-ink-300 bg-white p-3 text-sm text-ink-700">
               <p className="font-semibold">Invented demo plant — demo sign-ins</p>
