@@ -169,7 +169,11 @@ export function createAuth(opts: AuthOptions) {
     },
     user: {
       // Read with every session (server/middleware/auth-context.ts); set only by our own code.
-      additionalFields: { mustChangePassword: { type: "boolean", required: false, defaultValue: false, input: false } },
+      additionalFields: {
+        mustChangePassword: { type: "boolean", required: false, defaultValue: false, input: false },
+        // The person's language (shared/i18n), set by PUT /api/me/language only.
+        language: { type: "string", required: false, input: false },
+      },
     },
     // A person the identity provider brings for the first time starts with no role: their roles come
     // from their groups right after (the callback hook below), audited from nothing.

@@ -30,6 +30,8 @@ export const user = sqliteTable("user", {
   // An administrator set a first password: the person must choose their own before anything else
   // (server/middleware/require-role.ts); cleared by their own change or a reset.
   mustChangePassword: integer("must_change_password", { mode: "boolean" }).notNull().default(false),
+  // The language the person chose for the screens, e-mails and workbooks (shared/i18n); null: the browser's.
+  language: text("language"),
   createdAt: integer("created_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
   updatedAt: integer("updated_at", { mode: "timestamp_ms" }).notNull().default(nowMs),
 });

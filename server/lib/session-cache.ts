@@ -1,3 +1,4 @@
+import { languageOf, type Language } from "@shared/i18n/languages";
 import type Database from "better-sqlite3";
 import { LRUCache } from "lru-cache";
 import { parseRoles, type Role } from "@shared/roles";
@@ -34,6 +35,8 @@ export interface SessionUser {
   roles: Role[];
   /** An administrator set the password: nothing but the change opens (server/middleware/require-role.ts). */
   mustChangePassword: boolean;
+  /** The language the person chose (null: none chosen). */
+  language: Language | null;
 }
 
 interface Entry {
@@ -58,9 +61,9 @@ export function createSessionCache(sqlite: Database.Database, opts: { ttlMs?: nu
   // Prepared once; what better-auth's get-session would find: the session, unexpired, and its user.
   const live = sqlite.prepare<
     [string, number],
-    { id: string; name: string; email: string; role: string | null; banned: number | null; must_change_password: number }
+    { id: string; name: string; email: string; role: string | null; banned: number | null; must_change_password: number; language: string | null }
   >(
-    `select u.id, u.name, u.email, u.role, u.banned, u.must_change_password from session s join user u on u.id = s.user_id where s.id = ? and s.expires_at > ?`,
+    `select u.id, u.name, u.email, u.role, u.banned, u.must_change_password, u.language from session s join user u on u.id = s.user_id where s.id = ? and s.expires_at > ?`,
   );
   return {
     lookup(cookieHeader) {
@@ -71,7 +74,14 @@ export function createSessionCache(sqlite: Database.Database, opts: { ttlMs?: nu
         entries.delete(cookieHeader);
         return null;
       }
-      return { id: u.id, name: u.name, email: u.email, roles: parseRoles(u.role), mustChangePassword: u.must_change_password === 1 };
+      return {
+        id: u.id,
+        name: u.name,
+        email: u.email,
+        roles: parseRoles(u.role),
+        mustChangePassword: u.must_change_password === 1,
+        language: languageOf(u.language),
+      };
     },
     remember(cookieHeader, entry) {
       if (cookieHeader.length <= MAX_KEY) entries.set(cookieHeader, { sessionId: entry.sessionId, userId: entry.userId });

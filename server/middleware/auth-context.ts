@@ -1,6 +1,7 @@
 import type { RequestHandler } from "express";
 import { fromNodeHeaders } from "better-auth/node";
 import { parseRoles } from "@shared/roles";
+import { languageOf } from "@shared/i18n/languages";
 import type { Auth } from "../auth";
 
 /**
@@ -34,6 +35,7 @@ export function authContext(auth: Auth): RequestHandler {
         email: found.user.email,
         roles: parseRoles(found.user.role),
         mustChangePassword: found.user.mustChangePassword === true,
+        language: languageOf(found.user.language),
       };
       sessions.remember(cookie, { sessionId: found.session.id, userId: found.user.id });
     }

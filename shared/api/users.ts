@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { roleSchema } from "../roles";
+import { languageSchema } from "../i18n/languages";
 
 export const meSchema = z.object({
   id: z.string(),
@@ -11,6 +12,8 @@ export const meSchema = z.object({
    * (every other route answers 403 `password_change_required`). Sent only while true.
    */
   mustChangePassword: z.literal(true).optional(),
+  /** The language the person chose for screens, e-mails and workbooks; absent: none chosen (the browser's). */
+  language: languageSchema.optional(),
 });
 export type Me = z.infer<typeof meSchema>;
 

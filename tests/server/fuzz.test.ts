@@ -788,6 +788,7 @@ beforeAll(async () => {
     "POST /admin/users/:id/unlock": { params: id(userId("claims")) },
     // Its one refusal after validation, a wrong current password, counts towards the account's sign-in
     // lock (audited when it locks): hostile text is not sent here (first-sign-in.test.ts covers that path).
+    "PUT /me/language": { body: { language: "de" }, refuse: null },
     "POST /me/password": { body: { currentPassword: TEST_PASSWORD, newPassword: "fuzz-own-password-1" }, refuse: null },
     "GET /slabs/search": { query: "q=L26" },
     "GET /plant/summary": {},

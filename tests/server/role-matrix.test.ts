@@ -71,6 +71,7 @@ const matrix: Record<string, Row> = {
       return { path: "/api/me/password", body: { currentPassword: current, newPassword: next } };
     },
   },
+  "PUT /me/language": { allowed: ["signed-in"], sample: () => ({ path: "/api/me/language", body: { language: counter++ % 2 ? "de" : "en" } }) },
   "GET /slabs/search": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/slabs/search?q=L26" }) },
   "GET /plant/summary": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/plant/summary" }) },
   "GET /plant/setup": { allowed: EVERY_ROLE, sample: () => ({ path: "/api/plant/setup" }) },

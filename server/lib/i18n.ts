@@ -1,0 +1,30 @@
+/**
+ * The server's texts in the reader's language, from the same catalogues as the screens
+ * (shared/i18n): one i18next instance with every language loaded at start (they are small), and a
+ * fixed `t` per language for e-mails, workbook headers and messages.
+ */
+import i18next, { type TFunction } from "i18next";
+import { LANGUAGES, type Language } from "@shared/i18n/languages";
+import { NAMESPACES, resourcesFor } from "@shared/i18n/resources";
+
+const instance = i18next.createInstance();
+void instance.init({
+  resources: Object.fromEntries(LANGUAGES.map((l) => [l, resourcesFor(l)])),
+  lng: "en",
+  fallbackLng: "en",
+  ns: [...NAMESPACES],
+  defaultNS: "common",
+  // Texts go into e-mails, workbooks and JSON, never into HTML unescaped by a template of ours.
+  interpolation: { escapeValue: false },
+  initAsync: false,
+});
+
+const fixed = new Map<Language, TFunction>();
+
+/** `t` for one language (English where the person chose none). */
+export function translator(language: Language | null | undefined): TFunction {
+  const lng = language ?? "en";
+  let t = fixed.get(lng);
+  if (!t) fixed.set(lng, (t = instance.getFixedT(lng)));
+  return t;
+}

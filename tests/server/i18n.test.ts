@@ -1,0 +1,53 @@
+import { describe, expect, it } from "vitest";
+import { languageFromBrowser, languageOf } from "../../shared/i18n/languages";
+import { isPseudo, pseudoText } from "../../shared/i18n/pseudo";
+import { de, en, resourcesFor } from "../../shared/i18n/resources";
+import { translator } from "../../server/lib/i18n";
+
+type Tree = { [k: string]: string | Tree };
+const leaves = (t: Tree, prefix = ""): [string, string][] =>
+  Object.entries(t).flatMap(([k, v]) => (typeof v === "string" ? [[prefix + k, v] as [string, string]] : leaves(v, `${prefix}${k}.`)));
+const placeholders = (s: string) => [...s.matchAll(/\{\{[^}]*\}\}|<\/?\d+\/?>|\$t\([^)]*\)/g)].map((m) => m[0]).sort();
+
+describe("the catalogues", () => {
+  it("when German is compared with English, then it has every key and no other, each text translated, with the same placeholders and tags", () => {
+    const enLeaves = new Map(leaves(en as unknown as Tree));
+    const deLeaves = new Map(leaves(de as unknown as Tree));
+    expect([...deLeaves.keys()].sort()).toEqual([...enLeaves.keys()].sort());
+    for (const [key, text] of enLeaves) {
+      const german = deLeaves.get(key)!;
+      expect(german.trim().length, key).toBeGreaterThan(0);
+      expect(placeholders(german), key).toEqual(placeholders(text));
+    }
+    // Words the trade and the product keep in both languages; everything else reads differently.
+    const same = [...enLeaves].filter(([k, v]) => deLeaves.get(k) === v).map(([k]) => k);
+    expect(same).toEqual(["common.roles.admin", "common.nav.items./import"]);
+  });
+
+  it("when a text is pseudo-localised, then its letters are accented, it is a third longer and bracketed, and placeholders and tags stay as they are", () => {
+    expect(pseudoText("Sign in with {{name}}")).toBe("⟦Şīɠƞ īƞ ẇīŧħ {{name}} ····⟧");
+    expect(pseudoText("Password is <1>{{password}}</1>.")).toBe("⟦Ƥȧşşẇǿřḓ īş <1>{{password}}</1>. ····⟧");
+    expect(isPseudo(pseudoText("Heats"))).toBe(true);
+    expect(isPseudo("Heats")).toBe(false);
+    const pseudo = new Map(leaves(resourcesFor("en-XA") as unknown as Tree));
+    for (const [key, text] of leaves(en as unknown as Tree)) expect(placeholders(pseudo.get(key)!), key).toEqual(placeholders(text));
+  });
+
+  it("when the browser names its languages, then the first one we have is taken (a region falls back to its language), else English", () => {
+    expect(languageFromBrowser(["de-AT", "en-GB"])).toBe("de");
+    expect(languageFromBrowser(["fr-FR", "en-US"])).toBe("en");
+    expect(languageFromBrowser(["fr-FR", "pl"])).toBe("en");
+    expect(languageFromBrowser(["en-XA"])).toBe("en-XA");
+    expect(languageFromBrowser([])).toBe("en");
+    expect(languageOf("de")).toBe("de");
+    expect(languageOf("fr")).toBeNull();
+    expect(languageOf(null)).toBeNull();
+  });
+
+  it("when the server writes a text, then it reads the same catalogue in the reader's language, English where none is chosen", () => {
+    expect(translator("de")("signIn.withProvider", { name: "Werkskonto" })).toBe("Anmelden mit Werkskonto");
+    expect(translator(null)("roles.quality")).toBe("Quality engineer");
+    expect(translator("de")("roles.quality")).toBe("Qualitätsingenieur");
+    expect(translator("en-XA")("nav.items./heats")).toBe("⟦Ħḗȧŧş ··⟧");
+  });
+});
