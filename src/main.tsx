@@ -4,6 +4,7 @@ import { createRoot } from "react-dom/client";
 import { RouterProvider } from "react-router/dom";
 import { registerSW } from "virtual:pwa-register";
 import "./index.css";
+import "./i18n";
 import { AppProvider, type AppUpdate } from "./app/provider";
 import { createRouter } from "./app/router";
 import { authKeys } from "./features/auth/api/session";

@@ -1,5 +1,6 @@
 import { useCallback, useEffect, useId, useLayoutEffect, useRef, useState } from "react";
 import { NavLink, useLocation } from "react-router";
+import { useTranslation } from "react-i18next";
 import type { Role } from "@shared/roles";
 import { homeFor, type NavItem } from "@/config/nav";
 
@@ -28,7 +29,7 @@ type Entry = { kind: "link"; item: NavItem } | { kind: "group"; id: string; labe
 const LAYOUTS = ["flat", "own-group-open", "grouped"] as const;
 type Layout = (typeof LAYOUTS)[number];
 
-function entriesFor(items: NavItem[], roles: Role[], layout: Layout): Entry[] {
+function entriesFor(items: NavItem[], roles: Role[], layout: Layout, groupLabel: (id: string) => string): Entry[] {
   if (layout === "flat") return items.map((item) => ({ kind: "link", item }));
   const home = homeFor(roles);
   const grouped: Entry[] = [];
@@ -38,7 +39,7 @@ function entriesFor(items: NavItem[], roles: Role[], layout: Layout): Entry[] {
     if (mine.length === 0) continue;
     const isOwn = layout === "own-group-open" && g.paths.includes(home);
     if (mine.length === 1 || isOwn) (isOwn ? own : grouped).push(...mine.map((item) => ({ kind: "link" as const, item })));
-    else grouped.push({ kind: "group", id: g.id, label: g.label, items: mine });
+    else grouped.push({ kind: "group", id: g.id, label: groupLabel(g.id), items: mine });
   }
   const ungrouped = items.filter((i) => !MENU_GROUPS.some((g) => g.paths.includes(i.to))).map((item) => ({ kind: "link" as const, item }));
   return [...own, ...grouped, ...ungrouped];
@@ -82,6 +83,7 @@ function MenuGroup({
   onToggle: () => void;
   buttonRef: (el: HTMLButtonElement | null) => void;
 }) {
+  const { t } = useTranslation();
   const listId = useId();
   const { pathname } = useLocation();
   const here = entry.items.some((i) => isCurrent(i, allItems, pathname));
@@ -106,7 +108,7 @@ function MenuGroup({
         className={`${entryClass("grouped", here)} ${open && !here ? "bg-ink-800 text-white" : ""}`}
       >
         {entry.label}
-        {here ? <span className="sr-only"> (the screen open now is in this group)</span> : null}
+        {here ? <span className="sr-only"> ({t("nav.currentGroup")})</span> : null}
         <Chevron open={open} />
       </button>
       <ul
@@ -153,6 +155,8 @@ function MeasureRow({ entries, pad, rowRef }: { entries: Entry[]; pad: Pad; rowR
  * button), on a click or tap outside, when focus leaves it, and when a screen is opened.
  */
 export function MainMenu({ items, roles, className }: { items: NavItem[]; roles: Role[]; className: string }) {
+  const { t } = useTranslation();
+  const groupLabel = (id: string) => t(`nav.groups.${id}`);
   const navRef = useRef<HTMLElement>(null);
   const rows = useRef<Partial<Record<Layout, HTMLDivElement | null>>>({});
   const buttons = useRef<Record<string, HTMLButtonElement | null>>({});
@@ -165,7 +169,8 @@ export function MainMenu({ items, roles, className }: { items: NavItem[]; roles:
 
   // Pick the first layout whose row fits the width the menu has; again whenever that width changes,
   // or a row's own (the font arriving after the first paint, say).
-  const menuKey = `${items.map((i) => i.to).join(" ")}|${roles.join(",")}`;
+  // The labels too: another language gives the row another width.
+  const menuKey = `${items.map((i) => `${i.to}=${i.label}`).join(" ")}|${roles.join(",")}`;
   useLayoutEffect(() => {
     const nav = navRef.current;
     if (!nav) return;
@@ -208,11 +213,11 @@ export function MainMenu({ items, roles, className }: { items: NavItem[]; roles:
     };
   }, [openId, close]);
 
-  const entries = entriesFor(items, roles, layout);
+  const entries = entriesFor(items, roles, layout, groupLabel);
   return (
     <nav
       ref={navRef}
-      aria-label="Main"
+      aria-label={t("nav.main")}
       data-layout={layout}
       className={`relative flex flex-wrap ${gapOf(pad)} ${className}`}
       onBlur={(e) => {
@@ -249,7 +254,7 @@ export function MainMenu({ items, roles, className }: { items: NavItem[]; roles:
         {LAYOUTS.map((l) => (
           <MeasureRow
             key={l}
-            entries={entriesFor(items, roles, l)}
+            entries={entriesFor(items, roles, l, groupLabel)}
             pad={padOf(l, many)}
             rowRef={(el) => {
               rows.current[l] = el;

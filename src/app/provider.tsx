@@ -4,6 +4,7 @@ import { can } from "@shared/roles";
 import type { Me } from "@shared/api/users";
 import type { Defect, DefectList } from "@shared/api/defects";
 import { authKeys } from "@/features/auth/api/session";
+import { applyLanguage, languageFor } from "@/i18n";
 import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
 import { defectKeys } from "@/features/defects/api/defects.queries";
 import type { Outbox, OutboxSnapshot } from "@/features/defects/offline/outbox";
@@ -143,9 +144,28 @@ function OutboxRunner({ children }: { children: ReactNode }) {
   return <OutboxContext.Provider value={value}>{children}</OutboxContext.Provider>;
 }
 
+/**
+ * The screens follow the person's language (or, signed out, the browser's): src/i18n. Read from the
+ * query cache itself rather than through useQuery: signing in and out clear the cache, and an
+ * observer mounted before a clear would not see the session asked for afterwards.
+ */
+function LanguageFollower() {
+  const qc = useQueryClient();
+  const state = useSyncExternalStore(
+    useCallback((changed: () => void) => qc.getQueryCache().subscribe(changed), [qc]),
+    () => qc.getQueryState<Me | null>(authKeys.me().queryKey),
+  );
+  const language = state?.status === "success" ? languageFor(state.data?.language) : null;
+  useEffect(() => {
+    if (language) void applyLanguage(language);
+  }, [language]);
+  return null;
+}
+
 export function AppProvider({ queryClient, update = noUpdate, children }: { queryClient: QueryClient; update?: AppUpdate; children: ReactNode }) {
   return (
     <QueryClientProvider client={queryClient}>
+      <LanguageFollower />
       <UpdateContext.Provider value={update}>
         <OutboxRunner>{children}</OutboxRunner>
       </UpdateContext.Provider>

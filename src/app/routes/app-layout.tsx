@@ -1,7 +1,9 @@
+import { useTranslation } from "react-i18next";
+import { LanguagePicker } from "@/features/auth/components/language-picker";
 import { useEffect, useState } from "react";
 import { useQuery } from "@tanstack/react-query";
 import { Link, NavigationType, NavLink, Outlet, useLocation, useNavigate, useNavigation, useNavigationType } from "react-router";
-import { can, ROLE_LABELS } from "@shared/roles";
+import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { StatusMark, type EntryStatus } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
@@ -117,6 +119,7 @@ function UpdateBand() {
 }
 
 export function Component() {
+  const { t } = useTranslation();
   const { data: me } = useQuery(authKeys.me());
   const about = useQuery(plantKeys.about());
   const signOut = useSignOut();
@@ -131,7 +134,7 @@ export function Component() {
     if (ended) void navigate(`/sign-in?next=${encodeURIComponent(location.pathname + location.search)}&expired=1`, { replace: true });
   }, [ended, navigate, location.pathname, location.search]);
   if (!me) return null;
-  const items = navFor(me.roles);
+  const items = navFor(me.roles).map((i) => ({ ...i, label: t(`nav.items.${i.to}`, { defaultValue: i.label }) }));
   const doSignOut = () => {
     setConfirmSignOut(false);
     signOut.mutate(undefined, { onSuccess: () => void navigate("/sign-in", { replace: true }) });
@@ -159,10 +162,11 @@ export function Component() {
               <div className="text-sm font-semibold" data-testid="user-name">
                 {me.name}
               </div>
-              <div className="text-xs text-ink-300">{me.roles.map((r) => ROLE_LABELS[r]).join(" · ")}</div>
+              <div className="text-xs text-ink-300">{me.roles.map((r) => t(`roles.${r}`)).join(" · ")}</div>
             </div>
+            <LanguagePicker current={me.language} />
             <Button variant="secondary" className="min-h-12" disabled={signOut.isPending} onClick={() => (waiting > 0 ? setConfirmSignOut(true) : doSignOut())}>
-              {signOut.isPending ? "Signing out…" : "Sign out"}
+              {signOut.isPending ? t("shell.signingOut") : t("shell.signOut")}
             </Button>
           </div>
         </div>
@@ -172,7 +176,7 @@ export function Component() {
       {about.data?.demo ? (
         // A landmark of its own, so a screen reader's tour of the page's regions does not skip it.
         <aside aria-label="Demo data" className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
-          Invented demo plant: every heat, slab, defect, customer and claim shown here is made up.
+          {t("shell.demoBanner")}
         </aside>
       ) : null}
       {confirmSignOut ? (
@@ -181,7 +185,7 @@ export function Component() {
             {plural(waiting, "entry", "entries")} of yours still wait on this tablet. They stay here and are sent when you sign in again on this tablet.
             <span className="mt-2 flex flex-wrap gap-2">
               <Button variant="secondary" className="min-h-12" onClick={doSignOut}>
-                Sign out anyway
+                {t("shell.signOutAnyway")}
               </Button>
               <Button className="min-h-12" onClick={() => setConfirmSignOut(false)}>
                 Stay signed in

@@ -1,5 +1,7 @@
+import { useTranslation } from "react-i18next";
 import { PageHeader } from "@/components/ui/card";
 
 export function Component() {
-  return <PageHeader title="No role assigned" subtitle="Your account has no role yet. Ask an administrator to give you one." />;
+  const { t } = useTranslation();
+  return <PageHeader title={t("noRole.title")} subtitle={t("noRole.subtitle")} />;
 }

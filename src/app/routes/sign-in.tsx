@@ -1,7 +1,9 @@
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import { useState } from "react";
+import { useMemo, useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { Link, useNavigate, useSearchParams } from "react-router";
 import { z } from "zod";
 import { Button } from "@/components/ui/button";
@@ -11,15 +13,17 @@ import { Notice } from "@/components/ui/notice";
 import { homeFor, safeNext } from "@/config/nav";
 import { authKeys, useSignIn } from "@/features/auth/api/session";
 import { plantKeys } from "@/features/plant/api/plant.queries";
-import { ssoErrorWords } from "@/features/auth/sso-errors";
+import { ssoErrorKey } from "@/features/auth/sso-errors";
 import { api, ApiError } from "@/lib/api-client";
 import { SSO_PROVIDER_ID } from "@shared/api/sign-in";
+import { ROLE_LABELS, ROLES } from "@shared/roles";
 
-const signInSchema = z.object({
-  email: z.string().trim().min(1, "Enter your e-mail address.").email("This is not an e-mail address."),
-  password: z.string().min(1, "Enter your password."),
-});
-type SignInForm = z.infer<typeof signInSchema>;
+const signInSchemaIn = (t: TFunction) =>
+  z.object({
+    email: z.string().trim().min(1, t("signIn.enterEmail")).email(t("signIn.notEmail")),
+    password: z.string().min(1, t("signIn.enterPassword")),
+  });
+type SignInForm = z.infer<ReturnType<typeof signInSchemaIn>>;
 
 export { RouteError as ErrorBoundary } from "./route-error";
 
@@ -44,6 +48,8 @@ function useSsoSignIn() {
 }
 
 export function Component() {
+  const { t } = useTranslation();
+  const signInSchema = useMemo(() => signInSchemaIn(t), [t]);
   const navigate = useNavigate();
   const [params] = useSearchParams();
   const qc = useQueryClient();
@@ -55,6 +61,11 @@ export function Component() {
   // Passwords kept for administrators only: the form waits behind a button.
   const passwordsClosed = ssoOption !== null && about.data?.signIn.localPasswords === "administrators" && !showPassword;
   const next = params.get("next");
+  // The server names a demo account's role in English (ROLE_LABELS); shown in the page's language.
+  const roleWords = (label: string) => {
+    const key = ROLES.find((r) => ROLE_LABELS[r] === label);
+    return key ? t(`roles.${key}`) : label;
+  };
   const startSso = () => sso.mutate(next?.startsWith("/") && !next.startsWith("//") ? next : "/");
   const form = useForm<SignInForm>({ resolver: zodResolver(signInSchema), defaultValues: { email: "", password: "" } });
 
@@ -71,13 +82,13 @@ export function Component() {
     signIn.error instanceof ApiError
       ? signIn.error.message
       : signIn.error
-        ? "Sign-in failed."
+        ? t("signIn.failed")
         : sso.error instanceof ApiError
           ? sso.error.message
           : sso.error
-            ? "The identity provider could not be reached from here. Try again, or ask the plant's IT department."
+            ? t("signIn.providerUnreachable")
             : returnedError
-              ? ssoErrorWords(returnedError)
+              ? t(ssoErrorKey(returnedError).key, { code: ssoErrorKey(returnedError).code })
               : null;
 
   return (
@@ -88,32 +99,32 @@ export function Component() {
           <span className="text-2xl font-bold tracking-tight text-white">Strandsight</span>
         </div>
         <div className="my-10 max-w-md">
-          <p className="text-xl font-semibold leading-snug text-white">Every slab defect, joined to the heat and the casting conditions it came from.</p>
-          <p className="mt-3 text-sm text-ink-300">Yard inspection, quality statistics, root causes and customer claims in one place.</p>
+          <p className="text-xl font-semibold leading-snug text-white">{t("product.tagline")}</p>
+          <p className="mt-3 text-sm text-ink-300">{t("product.taglineMore")}</p>
         </div>
         <p className="text-xs text-ink-400">{about.data?.works ?? " "}</p>
       </section>
       <section className="flex items-center justify-center px-6 py-10">
-        <form onSubmit={onSubmit} noValidate className="w-full max-w-sm space-y-5" aria-label="Sign in">
-          <h1 className="text-2xl font-bold text-ink-900">Sign in</h1>
+        <form onSubmit={onSubmit} noValidate className="w-full max-w-sm space-y-5" aria-label={t("signIn.formLabel")}>
+          <h1 className="text-2xl font-bold text-ink-900">{t("signIn.title")}</h1>
           {error ? <Notice tone="error">{error}</Notice> : null}
-          {!error && params.get("expired") ? <Notice tone="info">Your session ended. Please sign in again.</Notice> : null}
+          {!error && params.get("expired") ? <Notice tone="info">{t("signIn.sessionEnded")}</Notice> : null}
           {ssoOption ? (
             <>
               <Button size="lg" className="w-full" onClick={startSso} disabled={sso.isPending || sso.isSuccess}>
-                {sso.isPending || sso.isSuccess ? "Going to the sign-in page…" : `Sign in with ${ssoOption.name}`}
+                {sso.isPending || sso.isSuccess ? t("signIn.goingToProvider") : t("signIn.withProvider", { name: ssoOption.name })}
               </Button>
               {passwordsClosed ? (
                 <p className="text-center text-sm text-ink-600">
-                  Passwords are kept for administrators.{" "}
+                  {t("signIn.passwordsForAdmins")}{" "}
                   <button type="button" className="min-h-11 font-semibold text-strand-700 underline underline-offset-2" onClick={() => setShowPassword(true)}>
-                    Administrator sign-in with a password
+                    {t("signIn.adminPassword")}
                   </button>
                 </p>
               ) : (
                 <p className="flex items-center gap-3 text-xs font-semibold uppercase tracking-wide text-ink-500" aria-hidden>
                   <span className="h-px flex-1 bg-ink-200" />
-                  or with a password
+                  {t("signIn.orPassword")}
                   <span className="h-px flex-1 bg-ink-200" />
                 </p>
               )}
@@ -121,9 +132,16 @@ export function Component() {
           ) : null}
           {passwordsClosed ? null : (
             <>
-              <TextField label="E-mail" type="email" autoComplete="username" large {...form.register("email")} error={form.formState.errors.email?.message} />
               <TextField
-                label="Password"
+                label={t("signIn.email")}
+                type="email"
+                autoComplete="username"
+                large
+                {...form.register("email")}
+                error={form.formState.errors.email?.message}
+              />
+              <TextField
+                label={t("signIn.password")}
                 type="password"
                 autoComplete="current-password"
                 large
@@ -131,7 +149,7 @@ export function Component() {
                 error={form.formState.errors.password?.message}
               />
               <Button type="submit" size="lg" variant={ssoOption ? "secondary" : "primary"} className="w-full" disabled={form.formState.isSubmitting}>
-                {form.formState.isSubmitting ? "Signing in…" : "Sign in"}
+                {form.formState.isSubmitting ? t("signIn.submitting") : t("signIn.submit")}
               </Button>
             </>
           )}
@@ -140,12 +158,12 @@ export function Component() {
               to="/forgot-password"
               className="inline-flex min-h-11 items-center text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
             >
-              Forgot your password?
+              {t("signIn.forgot")}
             </Link>
           </p>
           {ssoOption?.localPeople ? (
             <div className="rounded-md border border-dashed border-ink-300 bg-white p-3 text-sm text-ink-700" data-testid="fake-provider-people">
-              <p className="font-semibold">Local fake identity provider — its invented people (any password)</p>
+              <p className="font-semibold">{t("signIn.fakePeople")}</p>
               <ul className="mt-1 space-y-0.5">
                 {ssoOption.localPeople.map((p) => (
                   <li key={p.login}>
@@ -157,7 +175,7 @@ export function Component() {
           ) : null}
           {about.data?.demo && about.data.demoAccounts.length > 0 ? (
             <div className="rounded-md border border-dashed border-ink-300 bg-white p-3 text-sm text-ink-700">
-              <p className="font-semibold">Invented demo plant — demo sign-ins</p>
+              <p className="font-semibold">{t("signIn.demoTitle")}</p>
               <ul className="mt-1 space-y-0.5">
                 {about.data.demoAccounts.map((a) => (
                   <li key={a.email}>
@@ -168,17 +186,19 @@ export function Component() {
                     >
                       {a.email}
                     </button>{" "}
-                    <span className="text-ink-500">— {a.role}</span>
+                    <span className="text-ink-500">— {roleWords(a.role)}</span>
                   </li>
                 ))}
               </ul>
               <p className="mt-1 text-xs text-ink-600" data-testid="demo-password">
                 {about.data.demoPassword ? (
-                  <>
-                    The password of every demo sign-in is <strong className="font-mono text-ink-900">{about.data.demoPassword}</strong>.
-                  </>
+                  <Trans
+                    i18nKey="signIn.demoPassword"
+                    values={{ password: about.data.demoPassword }}
+                    components={{ 1: <strong className="font-mono text-ink-900" /> }}
+                  />
                 ) : (
-                  "The password is the one set in DEMO_PASSWORD when the demo was seeded."
+                  t("signIn.demoPasswordSet")
                 )}
               </p>
             </div>
