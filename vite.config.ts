@@ -194,7 +194,25 @@ export default defineConfig({
     chunkSizeWarningLimit: 700,
     // Rolldown warns when plugins take much of the build's time; ours do by design (Tailwind, brotli at
     // its highest level, once per build), and on a busy machine the warning filled ten lines of `npm start`.
-    rolldownOptions: { checks: { bundlerTimings: false } },
+    rolldownOptions: {
+      checks: { bundlerTimings: false },
+      output: {
+        codeSplitting: {
+          groups: [
+            // The API client, zod and the shared schemas every screen's first view reads (the session,
+            // the plant's description, a report's question and answer): one chunk beside the first
+            // script, as the client and zod were before.
+            {
+              name: "schemas",
+              test: /[\\/](node_modules[\\/]zod[\\/]|src[\\/]lib[\\/]api-client\.ts$|shared[\\/](query-string|roles|domain|variables|api[\\/](users|risk|plant|sign-in))\.ts$)/,
+            },
+            // The schemas of records (defects, heats and slabs), loaded with the first answer that
+            // needs them (src/lib/record-schemas.ts): one chunk, not one per module.
+            { name: "record-schemas", test: /[\\/](src[\\/]lib[\\/]record-schemas|shared[\\/]api[\\/](defects|heats))\.ts$/ },
+          ],
+        },
+      },
+    },
     // The route → chunk map, for `npm run bench` (bundle size of each route).
     manifest: true,
   },

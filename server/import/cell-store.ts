@@ -4,6 +4,7 @@
  * of boxed values per row. A sheet of 100,000 rows × 9 columns takes about 9 MB here against
  * about 30 MB as row arrays. A text equal to the one above it in the same column (a heat number
  * repeated on each of its slabs) is stored once. `release()` frees the cells once they are checked.
+ * A store can be sent to another thread (`detach()` / `CellStore.attach()`): its pages are moved, not copied.
  * Ours: no well-kept library keeps spreadsheet cells of mixed kinds in typed pages like this.
  */
 
@@ -24,20 +25,26 @@ const MASK = PAGE - 1;
 
 export class CellStore {
   /** What each cell holds, by page. */
-  private kinds: Uint8Array[] = [];
+  private kinds: Uint8Array<ArrayBuffer>[] = [];
   /** The number, or the index of the text in `texts` / of the cell in `others`, by page. */
-  private slots: Float64Array[] = [];
+  private slots: Float64Array<ArrayBuffer>[] = [];
   private texts: string[] = [];
   private others: OtherCell[] = [];
   /** Row r's cells are the cells starts[r] … starts[r + 1] − 1. */
   private starts = new Int32Array(4097);
   private rowNos = new Int32Array(4096);
   private invalids = new Map<number, string>();
-  /** Per column, the last text stored (a repeat is stored as the same string). */
+  /** Per column, the last text stored and its index in `texts` (a repeat points to the same entry). */
   private lastText: (string | undefined)[] = [];
+  private lastTextAt: number[] = [];
   private used = 0;
   /** Rows held. */
   length = 0;
+
+  /** Cells held (trailing empties within a row included). */
+  get cellCount(): number {
+    return this.used;
+  }
 
   /** Adds a row: its row number as a person sees it, its cells in header order, and why it is unusable (the feed's non-objects). */
   push(rowNo: number, cells: readonly (Cell | undefined)[], invalid?: string): void {
@@ -59,10 +66,11 @@ export class CellStore {
         slots[k] = cell;
       } else if (typeof cell === "string") {
         kinds[k] = TEXT;
-        const last = this.lastText[c];
-        const text = last === cell ? last : cell;
-        this.lastText[c] = text;
-        slots[k] = this.texts.push(text) - 1;
+        if (this.lastText[c] === cell) slots[k] = this.lastTextAt[c]!;
+        else {
+          this.lastText[c] = cell;
+          slots[k] = this.lastTextAt[c] = this.texts.push(cell) - 1;
+        }
       } else if (typeof cell === "boolean") kinds[k] = cell ? TRUE : FALSE;
       else {
         kinds[k] = OTHER;
@@ -130,8 +138,56 @@ export class CellStore {
     this.rowNos = new Int32Array(0);
     this.invalids = new Map();
     this.lastText = [];
+    this.lastTextAt = [];
     this.used = 0;
     this.length = 0;
+  }
+
+  /**
+   * The rows held, as structured-clone data for another thread, with the buffers to transfer (the
+   * typed pages move, the texts are copied once each); the store is empty afterwards, ready for more.
+   */
+  detach(): { data: CellStoreData; transfer: ArrayBuffer[] } {
+    const data: CellStoreData = {
+      kinds: this.kinds,
+      slots: this.slots,
+      texts: this.texts,
+      others: this.others,
+      starts: this.starts,
+      rowNos: this.rowNos,
+      invalids: [...this.invalids],
+      used: this.used,
+      length: this.length,
+    };
+    const transfer = [...this.kinds, ...this.slots, this.starts, this.rowNos].map((a) => a.buffer);
+    // Empty and ready for the next rows (release() leaves a store that is done with).
+    this.kinds = [];
+    this.slots = [];
+    this.texts = [];
+    this.others = [];
+    this.starts = new Int32Array(4097);
+    this.rowNos = new Int32Array(4096);
+    this.invalids = new Map();
+    this.lastText = [];
+    this.lastTextAt = [];
+    this.used = 0;
+    this.length = 0;
+    return { data, transfer };
+  }
+
+  /** A store over rows detached in another thread (read them; adding to it is not meant). */
+  static attach(data: CellStoreData): CellStore {
+    const store = new CellStore();
+    store.kinds = data.kinds;
+    store.slots = data.slots;
+    store.texts = data.texts;
+    store.others = data.others;
+    store.starts = data.starts;
+    store.rowNos = data.rowNos;
+    store.invalids = new Map(data.invalids);
+    store.used = data.used;
+    store.length = data.length;
+    return store;
   }
 
   private growRows() {
@@ -164,6 +220,19 @@ export function makeTable(fields: Omit<Table, "rows">): Table {
 }
 
 export type Cell = string | number | boolean | Date | null | { formulaWithoutValue: true } | { cellError: string };
+
+/** A store's rows as sent between threads (CellStore.detach / attach). */
+export interface CellStoreData {
+  kinds: Uint8Array<ArrayBuffer>[];
+  slots: Float64Array<ArrayBuffer>[];
+  texts: string[];
+  others: OtherCell[];
+  starts: Int32Array<ArrayBuffer>;
+  rowNos: Int32Array<ArrayBuffer>;
+  invalids: [number, string][];
+  used: number;
+  length: number;
+}
 
 export interface TableRow {
   /** The row number a person sees in the file (header = 1). */

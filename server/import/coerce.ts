@@ -4,6 +4,7 @@
  * problem recorded as { row, column, message } in words a process engineer understands.
  */
 import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ColumnSpec, type ImportKind, type RowError } from "@shared/api/imports";
+import type { CellStore } from "./cell-store";
 import type { Cell, Table } from "./read-table";
 
 export type Value = string | number | boolean | null;
@@ -133,11 +134,19 @@ export class ParsedRows implements Iterable<ParsedRow> {
 export class ErrorList {
   private items: RowError[] = [];
   private total = 0;
-  constructor(private readonly keep = IMPORT_MAX_LISTED_ERRORS) {}
+  constructor(readonly keep = IMPORT_MAX_LISTED_ERRORS) {}
   add(row: number, column: string | null, message: string) {
     this.total++;
     this.items.push({ row, column, message });
     if (this.items.length >= this.keep * 4) this.trim();
+  }
+  /** Adds another list's errors after this one's (as if added here in the order they were found). */
+  append(other: ErrorList) {
+    this.total += other.total;
+    for (const e of other.list) {
+      this.items.push(e);
+      if (this.items.length >= this.keep * 4) this.trim();
+    }
   }
   private trim() {
     // A stable sort keeps errors of one row in the order they were found.
@@ -247,101 +256,169 @@ export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean, 
   }
 }
 
+/** A header problem, kept in the order it is reported: an empty header's is known once a value shows below it. */
+type HeaderNote = { kind: "no header"; col: number } | { kind: "twice"; col: number; key: string; first: number };
+
 /**
- * Maps the header to the kind's columns and coerces every cell. Header problems (unknown, missing
- * or repeated keys) are reported on row 1 (for the JSON feed: on the first item that shows them).
+ * Maps the header to the kind's columns and coerces the cells, a batch of rows at a time (a large
+ * workbook arrives a page of cells at a time from its reader thread). Row errors go to the list given
+ * with each batch; the header's problems are added at the end (`headerErrorsInto`), because whether
+ * a column without a header holds values is known only once every row has been seen.
  */
-export function coerceTable(table: Table, kind: ImportKind, errors: ErrorList): { rows: ParsedRows; headerOk: boolean } {
-  const specs = IMPORT_COLUMNS[kind];
-  const byKey = new Map(specs.map((s) => [s.key, s]));
-  const columns: (ColumnSpec | null)[] = [];
-  const seen = new Map<string, number>();
-  const unknown: string[] = [];
-  let headerOk = true;
-  const body = table.body;
-  const anyFilled = (col: number) => {
-    for (let r = 0; r < body.length; r++) if (body.filled(r, col)) return r;
-    return -1;
-  };
-  const headerRow = (col: number) => {
-    if (table.format !== "json") return 1;
-    const r = anyFilled(col);
-    return r < 0 ? 1 : body.rowNo(r);
-  };
-  table.headers.forEach((raw, col) => {
-    const key = raw.trim().toLowerCase();
-    if (key === "") {
-      columns.push(null);
-      if (anyFilled(col) >= 0) errors.add(1, null, `Column ${col + 1} has values but no header.`);
-      return;
-    }
-    const spec = byKey.get(key);
-    if (!spec) {
-      unknown.push(raw.trim());
-      columns.push(null);
-      return;
-    }
-    if (seen.has(key)) {
-      errors.add(headerRow(col), key, `The column ${key} appears twice (columns ${seen.get(key)! + 1} and ${col + 1}).`);
-      columns.push(null);
-      return;
-    }
-    seen.set(key, col);
-    columns.push(spec);
-  });
-  const rowNos = new Int32Array(body.length);
-  for (let r = 0; r < body.length; r++) rowNos[r] = body.rowNo(r);
-  if (seen.size === 0) {
-    // Not one known key: the wrong file, or the wrong import. Say so once instead of per row.
-    errors.add(1, null, `None of the column names is a key of the ${kind.replace("-", " ")} import. Is this the right file? The template lists the keys.`);
-    return { rows: new ParsedRows(new Int32Array(0), []), headerOk: false };
+export class TableChecker {
+  /** The header names every required key (and at least one known key): the rows can be planned. */
+  readonly headerOk: boolean;
+  private readonly noKnownKey: boolean;
+  private readonly notes: HeaderNote[] = [];
+  private readonly unknown: string[] = [];
+  private readonly missing: string[];
+  private readonly present: { spec: ColumnSpec; col: number }[] = [];
+  /** Columns whose first filled row a header problem needs, and that row (as the file numbers it). */
+  private readonly watched: number[] = [];
+  private readonly firstFilled = new Map<number, number>();
+  private readonly width: number;
+
+  constructor(
+    private readonly kind: ImportKind,
+    headers: readonly string[],
+    private readonly format: Table["format"],
+    private readonly decimalComma: boolean,
+    private readonly date1904?: boolean,
+  ) {
+    const specs = IMPORT_COLUMNS[kind];
+    const byKey = new Map(specs.map((s) => [s.key, s]));
+    const seen = new Map<string, number>();
+    headers.forEach((raw, col) => {
+      const key = raw.trim().toLowerCase();
+      if (key === "") {
+        this.notes.push({ kind: "no header", col });
+        this.watched.push(col);
+        return;
+      }
+      const spec = byKey.get(key);
+      if (!spec) {
+        this.unknown.push(raw.trim());
+        return;
+      }
+      if (seen.has(key)) {
+        this.notes.push({ kind: "twice", col, key, first: seen.get(key)! });
+        // The feed's header has no row of its own: the problem is shown on the first item using the key.
+        if (format === "json") this.watched.push(col);
+        return;
+      }
+      seen.set(key, col);
+      this.present.push({ spec, col });
+    });
+    this.width = headers.length;
+    this.noKnownKey = seen.size === 0;
+    this.missing = specs.filter((s) => s.required && !seen.has(s.key)).map((s) => s.key);
+    this.headerOk = !this.noKnownKey && this.missing.length === 0;
   }
-  if (unknown.length > 0) {
-    // Reported, and the rows are still checked, so one round of corrections fixes the file.
-    errors.add(1, unknown.join(", "), `Unknown column${unknown.length > 1 ? "s" : ""}: ${unknown.join(", ")}. The template lists the keys this import takes.`);
+
+  /** The header's problems known so far (an empty header's counts once a value shows below it). */
+  get headerErrorCount(): number {
+    let n = this.notes.filter((note) => note.kind === "twice" || this.firstFilled.has(note.col)).length;
+    if (this.noKnownKey) n++;
+    else n += (this.unknown.length > 0 ? 1 : 0) + (this.missing.length > 0 ? 1 : 0);
+    return n;
   }
-  const missing = specs.filter((s) => s.required && !seen.has(s.key)).map((s) => s.key);
-  if (missing.length > 0) {
-    errors.add(1, missing.join(", "), `Missing required column${missing.length > 1 ? "s" : ""}: ${missing.join(", ")}.`);
-    headerOk = false;
-  }
-  const present = columns.flatMap((spec, col) => (spec ? [{ spec, col }] : []));
-  const rows = new ParsedRows(
-    rowNos,
-    present.map((p) => p.spec),
-  );
-  const width = table.headers.length;
-  for (let r = 0; r < body.length; r++) {
-    const rowNo = rowNos[r]!;
-    const cells = body.width(r);
-    if (cells > width) {
-      for (let c = width; c < cells; c++) {
-        if (body.filled(r, c)) {
-          errors.add(rowNo, null, `The row has more cells (${cells}) than the header has columns (${width}).`);
-          rows.markBad(r);
+
+  /** Checks the next rows of the file; their problems go to `errors`. */
+  check(body: CellStore, errors: ErrorList): ParsedRows {
+    for (const col of this.watched) {
+      if (this.firstFilled.has(col)) continue;
+      for (let r = 0; r < body.length; r++) {
+        if (body.filled(r, col)) {
+          this.firstFilled.set(col, body.rowNo(r));
           break;
         }
       }
     }
-    const invalid = body.invalid(r);
-    if (invalid !== undefined) {
-      errors.add(rowNo, null, invalid);
-      rows.markInvalid(r);
-      continue;
-    }
-    for (const { spec, col } of present) {
-      const v = coerceCell(spec, body.cell(r, col), table.decimalComma, table.date1904);
-      if (v !== null && typeof v === "object") {
-        errors.add(rowNo, spec.key, `${spec.key} ${v.error}.`);
-        rows.markBad(r);
-        continue; // stays empty
+    // Not one known key: the wrong file, or the wrong import. Said once (headerErrorsInto) instead of per row.
+    if (this.noKnownKey) return new ParsedRows(new Int32Array(0), []);
+    const rowNos = new Int32Array(body.length);
+    for (let r = 0; r < body.length; r++) rowNos[r] = body.rowNo(r);
+    const { present, width } = this;
+    const rows = new ParsedRows(
+      rowNos,
+      present.map((p) => p.spec),
+    );
+    for (let r = 0; r < body.length; r++) {
+      const rowNo = rowNos[r]!;
+      const cells = body.width(r);
+      if (cells > width) {
+        for (let c = width; c < cells; c++) {
+          if (body.filled(r, c)) {
+            errors.add(rowNo, null, `The row has more cells (${cells}) than the header has columns (${width}).`);
+            rows.markBad(r);
+            break;
+          }
+        }
       }
-      if (v === null && spec.required) {
-        errors.add(rowNo, spec.key, `${spec.key} is required.`);
-        rows.markBad(r);
+      const invalid = body.invalid(r);
+      if (invalid !== undefined) {
+        errors.add(rowNo, null, invalid);
+        rows.markInvalid(r);
+        continue;
       }
-      if (v !== null) rows.set(r, spec.key, v);
+      for (const { spec, col } of present) {
+        const v = coerceCell(spec, body.cell(r, col), this.decimalComma, this.date1904);
+        if (v !== null && typeof v === "object") {
+          errors.add(rowNo, spec.key, `${spec.key} ${v.error}.`);
+          rows.markBad(r);
+          continue; // stays empty
+        }
+        if (v === null && spec.required) {
+          errors.add(rowNo, spec.key, `${spec.key} is required.`);
+          rows.markBad(r);
+        }
+        if (v !== null) rows.set(r, spec.key, v);
+      }
     }
+    return rows;
   }
-  return { rows, headerOk };
+
+  /** After the last rows: the header's problems, in the order a whole table reports them. */
+  headerErrorsInto(errors: ErrorList): void {
+    for (const note of this.notes) {
+      if (note.kind === "no header") {
+        if (this.firstFilled.has(note.col)) errors.add(1, null, `Column ${note.col + 1} has values but no header.`);
+      } else {
+        const row = this.format === "json" ? (this.firstFilled.get(note.col) ?? 1) : 1;
+        errors.add(row, note.key, `The column ${note.key} appears twice (columns ${note.first + 1} and ${note.col + 1}).`);
+      }
+    }
+    if (this.noKnownKey) {
+      errors.add(
+        1,
+        null,
+        `None of the column names is a key of the ${this.kind.replace("-", " ")} import. Is this the right file? The template lists the keys.`,
+      );
+      return;
+    }
+    const { unknown, missing } = this;
+    if (unknown.length > 0) {
+      // Reported, and the rows are still checked, so one round of corrections fixes the file.
+      errors.add(
+        1,
+        unknown.join(", "),
+        `Unknown column${unknown.length > 1 ? "s" : ""}: ${unknown.join(", ")}. The template lists the keys this import takes.`,
+      );
+    }
+    if (missing.length > 0) errors.add(1, missing.join(", "), `Missing required column${missing.length > 1 ? "s" : ""}: ${missing.join(", ")}.`);
+  }
+}
+
+/**
+ * Maps the header to the kind's columns and coerces every cell. Header problems (unknown, missing
+ * or repeated keys) are reported on row 1 (for the JSON feed: on the first item that shows them),
+ * before the rows' own.
+ */
+export function coerceTable(table: Table, kind: ImportKind, errors: ErrorList): { rows: ParsedRows; headerOk: boolean } {
+  const checker = new TableChecker(kind, table.headers, table.format, table.decimalComma, table.date1904);
+  const rowErrors = new ErrorList(errors.keep);
+  const rows = checker.check(table.body, rowErrors);
+  checker.headerErrorsInto(errors);
+  errors.append(rowErrors);
+  return { rows, headerOk: checker.headerOk };
 }

@@ -15,6 +15,7 @@ import type { Logger } from "../lib/logger";
 import { slabFactsChanged } from "../services/report-cache";
 import type { ImportOutcome, ImportTask } from "./import-worker";
 import type { Limits } from "./read-xlsx";
+import { outOfMemory } from "./sheet-reader";
 import { threadEntry } from "../lib/paths";
 
 export interface ImportPoolOptions {
@@ -30,7 +31,7 @@ export interface ImportPoolOptions {
   queueWaitMs?: number;
 }
 
-export type ImportJob = Omit<ImportTask, "databaseFile" | "limits" | "progress">;
+export type ImportJob = Omit<ImportTask, "databaseFile" | "limits" | "heapMb" | "progress">;
 
 /** Heap of one import thread unless told otherwise (IMPORT_THREAD_HEAP_MB); the import bench runs its import under the same cap. */
 export const IMPORT_THREAD_HEAP_MB = 1024;
@@ -54,7 +55,7 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
       const p = new Piscina({
         // From the sources, a small .mjs entry registers tsx in the thread first; the compiled
         // server (build/server) has the worker compiled beside it.
-        filename: threadEntry("import-worker.js", "./import-worker.mjs", import.meta.url).href,
+        filename: threadEntry("import-worker.js", "./import-thread-entry.mjs", import.meta.url).href,
         // One thread always alive: piscina replaces a thread that died (out of memory, stopped)
         // only up to minThreads, and with none left the imports waiting would never start. It also
         // answers the level-2 feed's frequent small calls without starting again.
@@ -116,7 +117,7 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
         timer = setTimeout(() => abort.abort("checking"), (limits.checkSeconds + 15) * 1000);
       } else if (m === "writing") phase = "writing";
     });
-    const task: ImportTask = { ...job, databaseFile, limits, progress: port2 };
+    const task: ImportTask = { ...job, databaseFile, limits, heapMb, progress: port2 };
     let outcome: ImportOutcome;
     try {
       outcome = (await getPool().run(task, { signal: abort.signal, transferList: [port2] })) as ImportOutcome;
@@ -132,11 +133,7 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
       }
       if (e.code === "ERR_WORKER_OUT_OF_MEMORY") {
         opts.logger?.error({ kind: job.kind, file: job.fileName }, "import stopped: its thread ran out of memory");
-        throw new HttpError(
-          413,
-          "import_too_large",
-          `The file needs more memory to check than one import may use (${heapMb} MB); nothing was imported. Split it into smaller files.`,
-        );
+        throw outOfMemory(heapMb);
       }
       throw err;
     } finally {

@@ -3,6 +3,9 @@
  * plan against the database and (unless a dry run) write, all on the worker's own SQLite connection
  * to the same file. The server's main thread only waits for the answer, so it keeps serving the
  * plant meanwhile; a file that still gets past the limits can exhaust only this thread's heap.
+ * A large workbook of heats or slabs is read in a thread of its own (sheet-reader.ts), while this
+ * one checks and writes the rows already read (import.service.ts, runImportStreamed); that thread's
+ * heap is capped alike.
  */
 import crypto from "node:crypto";
 import fs from "node:fs";
@@ -10,10 +13,12 @@ import type { MessagePort } from "node:worker_threads";
 import type { ImportKind, ImportResult } from "@shared/api/imports";
 import { openDatabase } from "../db/client";
 import { HttpError } from "../lib/http-error";
-import { runImport, type ImportActor } from "../services/import.service";
+import { loadFileType } from "../lib/lazy-packages";
+import { runImport, runImportStreamed, type ImportActor } from "../services/import.service";
 import { onSlabFactsChanged } from "../services/report-cache";
-import { readTable, tableFromJson } from "./read-table";
+import { fileKindOf, readTableAs, tableFromJson } from "./read-table";
 import type { Limits } from "./read-xlsx";
+import { fileNotRead, prepareSheetReader, readSheetInThread, STREAM_FROM_BYTES } from "./sheet-reader";
 
 export interface ImportTask {
   databaseFile: string;
@@ -26,8 +31,14 @@ export interface ImportTask {
   json?: Uint8Array;
   by: ImportActor;
   limits: Limits;
+  /** This thread's heap (MB): a reader thread gets the same. */
+  heapMb: number;
   /** Told "started" when this thread takes the import, "writing" when the checks are over and the transaction writes. */
   progress?: MessagePort;
+  /** How a workbook is streamed (tests and the bench set these; the defaults otherwise). */
+  streaming?: { fromBytes?: number; pageCells?: number; writeAheadIdleMs?: number };
+  /** Return seconds per phase with the outcome (the import bench). */
+  measure?: boolean;
 }
 
 /**
@@ -47,7 +58,8 @@ export function openImportDatabase(file: string) {
 }
 
 export type ImportOutcome =
-  { ok: true; result: ImportResult; changedSlabs: number[] | "all" | null } | { ok: false; status: number; code: string; message: string; details?: unknown };
+  | { ok: true; result: ImportResult; changedSlabs: number[] | "all" | null; timings?: Record<string, number> }
+  | { ok: false; status: number; code: string; message: string; details?: unknown };
 
 async function sha256File(file: string): Promise<string> {
   const hash = crypto.createHash("sha256");
@@ -55,9 +67,23 @@ async function sha256File(file: string): Promise<string> {
   return hash.digest("hex");
 }
 
+/** Reading: anything a reader did not foresee in a file is still the file's fault, not the server's. */
+async function asFileFault<T>(read: () => Promise<T>): Promise<T> {
+  try {
+    return await read();
+  } catch (err) {
+    if (err instanceof HttpError) throw err;
+    throw fileNotRead();
+  }
+}
+
 export async function runImportTask(task: ImportTask | { warm: true }): Promise<ImportOutcome | null> {
-  // A warm-up: the thread has loaded this module; nothing to do.
-  if ("warm" in task) return null;
+  // A warm-up: the thread loads what an import needs besides this module (file-type, the reader thread's code).
+  if ("warm" in task) {
+    await loadFileType();
+    await prepareSheetReader();
+    return null;
+  }
   task.progress?.postMessage("started");
   const changed = new Set<number>();
   let changedAll = false;
@@ -66,18 +92,48 @@ export async function runImportTask(task: ImportTask | { warm: true }): Promise<
     else for (const id of ids) changed.add(id);
   });
   const db = openImportDatabase(task.databaseFile);
+  const timings: Record<string, number> | undefined = task.measure ? {} : undefined;
+  const outcome = (result: ImportResult): ImportOutcome => ({
+    ok: true,
+    result,
+    changedSlabs: changedAll ? "all" : changed.size ? [...changed] : null,
+    timings,
+  });
+  const onWrite = () => task.progress?.postMessage("writing");
   try {
     let table;
     let sha: string | null = null;
     if (task.file) {
-      try {
-        table = await readTable(task.file, task.limits);
-      } catch (err) {
-        // Anything a reader did not foresee in a file is still the file's fault, not the server's.
-        if (err instanceof HttpError) throw err;
-        throw new HttpError(415, "unsupported_file", "The file could not be read; it may be damaged. Save it again as .xlsx or CSV and retry.");
+      const started = performance.now();
+      const file = task.file;
+      const kind = await asFileFault(() => fileKindOf(file));
+      if (
+        kind === "xlsx" &&
+        (task.kind === "heats" || task.kind === "slabs") &&
+        (await fs.promises.stat(file)).size >= (task.streaming?.fromBytes ?? STREAM_FROM_BYTES)
+      ) {
+        const sheet = await readSheetInThread(file, task.limits, { heapMb: task.heapMb, pageCells: task.streaming?.pageCells });
+        if (timings) timings["thread started"] = (performance.now() - started) / 1000;
+        try {
+          const request = {
+            kind: task.kind,
+            sheet,
+            dryRun: task.dryRun,
+            fileName: task.fileName ?? null,
+            sha256: () => sha256File(file),
+            source: task.source,
+            by: task.by,
+            onWrite,
+            writeAheadIdleMs: task.streaming?.writeAheadIdleMs,
+          };
+          return outcome(await runImportStreamed(db, request, timings));
+        } finally {
+          await sheet.stop();
+        }
       }
-      sha = await sha256File(task.file);
+      table = await asFileFault(() => readTableAs(file, kind, task.limits));
+      if (timings) timings["read file"] = (performance.now() - started) / 1000;
+      sha = await sha256File(file);
     } else {
       let body: unknown;
       try {
@@ -87,17 +143,12 @@ export async function runImportTask(task: ImportTask | { warm: true }): Promise<
       }
       table = tableFromJson(body, task.kind, task.limits);
     }
-    const result = runImport(db, {
-      kind: task.kind,
-      table,
-      dryRun: task.dryRun,
-      fileName: task.fileName ?? null,
-      sha256: sha,
-      source: task.source,
-      by: task.by,
-      onWrite: () => task.progress?.postMessage("writing"),
-    });
-    return { ok: true, result, changedSlabs: changedAll ? "all" : changed.size ? [...changed] : null };
+    const result = runImport(
+      db,
+      { kind: task.kind, table, dryRun: task.dryRun, fileName: task.fileName ?? null, sha256: sha, source: task.source, by: task.by, onWrite },
+      timings,
+    );
+    return outcome(result);
   } catch (err) {
     if (err instanceof HttpError) return { ok: false, status: err.status, code: err.code, message: err.message, details: err.details };
     throw err;

@@ -24,22 +24,33 @@ const fmt = (n: number) => n.toLocaleString("en-GB");
 
 /** Reads the uploaded file at `file` (at most IMPORT_MAX_BYTES, checked by the upload). */
 export async function readTable(file: string, limits: Limits = IMPORT_LIMITS): Promise<Table> {
+  return readTableAs(file, await fileKindOf(file), limits);
+}
+
+/** Reads the file as fileKindOf judged it. */
+export async function readTableAs(file: string, kind: "xlsx" | "text", limits: Limits = IMPORT_LIMITS): Promise<Table> {
+  if (kind === "xlsx") return readXlsxFile(file, limits);
+  const buffer = await fs.promises.readFile(file);
+  if (buffer.includes(0)) throw unsupported("This file is not text and not an .xlsx workbook. Upload an .xlsx workbook or a CSV file.");
+  return readCsv(buffer, limits);
+}
+
+/** What the uploaded file is, judged by its content: a workbook, or text to read as CSV; anything else is refused. */
+export async function fileKindOf(file: string): Promise<"xlsx" | "text"> {
   const size = (await fs.promises.stat(file)).size;
   if (size === 0) throw new HttpError(400, "empty_file", "The file is empty.");
   const type = await (await loadFileType()).fileTypeFromFile(file);
-  // Whether a zip is a workbook is decided by readXlsxFile from the zip's central directory
+  // Whether a zip is a workbook is decided by the workbook reader (xlsx-sheet.ts) from the zip's central directory
   // ([Content_Types].xml and xl/workbook.xml among its entries); a plain zip is refused there. Not
   // from file-type's answer alone: it walks the local headers from the front, and where the sizes
   // follow the data (data descriptors, as exceljs's streaming writer writes every part, with
   // [Content_Types].xml after the sheet) it scans for them, 1 MiB in all, then answers "zip".
-  if (type?.ext === "xlsx" || type?.ext === "zip") return readXlsxFile(file, limits);
+  if (type?.ext === "xlsx" || type?.ext === "zip") return "xlsx";
   if (type) {
     if (type.ext === "cfb") throw unsupported("This is an old-style .xls workbook. Save it as .xlsx (Excel Workbook) or as CSV and try again.");
     throw unsupported(`This file is a ${type.ext.toUpperCase()} file, not a workbook. Upload an .xlsx workbook or a CSV file.`);
   }
-  const buffer = await fs.promises.readFile(file);
-  if (buffer.includes(0)) throw unsupported("This file is not text and not an .xlsx workbook. Upload an .xlsx workbook or a CSV file.");
-  return readCsv(buffer, limits);
+  return "text";
 }
 
 function decodeText(buffer: Buffer): string {

@@ -2,12 +2,27 @@ import crypto from "node:crypto";
 import { loadExcelJS } from "../lib/lazy-packages";
 import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ImportKind, type ImportResult, type ImportRun } from "@shared/api/imports";
 import type { Db } from "../db/client";
-import { coerceTable, ErrorList } from "../import/coerce";
-import { planHeats, planSamples, planProducts, planSlabs, type Plan } from "../import/plan";
+import type { CellStore } from "../import/cell-store";
+import { coerceTable, ErrorList, TableChecker, type ParsedRows } from "../import/coerce";
+import {
+  heatsPlanner,
+  planBatches,
+  planHeats,
+  planSamples,
+  planProducts,
+  planSlabs,
+  slabsPlanner,
+  type AppliedChanges,
+  type BatchPlanner,
+  type Plan,
+  type PlanCounts,
+  type ResolveSink,
+} from "../import/plan";
 import type { Table } from "../import/read-table";
+import type { SheetEvent } from "../import/sheet-reader";
 import { HttpError } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
-import { createResolver } from "./conditions.service";
+import { createResolver, type Resolver } from "./conditions.service";
 import { getPlantSettings } from "./settings.service";
 
 export interface ImportActor {
@@ -30,101 +45,121 @@ export interface ImportRequest {
   onWrite?: () => void;
 }
 
-/**
- * Validates, plans and (unless dry) writes one import in a single transaction, together with the
- * recomputed conditions of every slab it touches, its import-run row and its audit row. With any
- * row error nothing is written and the answer says what is wrong, row by row.
- */
-export function runImport(db: Db, req: ImportRequest, timings?: Record<string, number>): ImportResult {
-  const started = Date.now();
-  const sqlite = db.$client;
-  const errors = new ErrorList();
+/** What an import says about itself in its answer and its run row. */
+interface ImportMeta {
+  kind: ImportKind;
+  dryRun: boolean;
+  format: Table["format"];
+  fileName: string | null;
+  sha256: string | null;
+  source: "upload" | "ingest";
+  by: ImportActor;
+  onWrite?: () => void;
+  /** When the import started (epoch ms). */
+  started: number;
+}
+
+/** Seconds per phase, summed, into `timings` when given. */
+function lapper(timings: Record<string, number> | undefined) {
   let mark = performance.now();
-  const lap = (name: string) => {
+  return (name: string) => {
     if (!timings) return;
     const now = performance.now();
     timings[name] = (timings[name] ?? 0) + (now - mark) / 1000;
     mark = now;
   };
-  const { rows, headerOk } = coerceTable(req.table, req.kind, errors);
-  // The raw cells are not needed again: the checked values and the plan would otherwise sit beside them.
-  req.table.body.release();
-  lap("check cells");
+}
 
-  const work = () => {
-    let plan: Plan | null = null;
-    if (headerOk) {
-      const settings = getPlantSettings(db);
-      plan =
-        req.kind === "heats"
-          ? planHeats(sqlite, rows, errors, settings)
-          : req.kind === "slabs"
-            ? planSlabs(sqlite, rows, errors, settings)
-            : req.kind === "products"
-              ? planProducts(sqlite, rows, errors)
-              : planSamples(sqlite, rows, errors);
-    }
-    lap("plan");
-    const result: ImportResult = {
-      kind: req.kind,
-      dryRun: req.dryRun,
-      format: req.table.format,
-      fileName: req.fileName,
-      rows: rows.length,
-      valid: errors.count === 0,
-      counts: plan?.counts ?? { created: 0, updated: 0, unchanged: 0 },
-      errors: errors.list.slice(0, IMPORT_MAX_LISTED_ERRORS),
-      errorCount: errors.count,
-      slabsResolved: 0,
-      importId: null,
-    };
-    if (req.dryRun || errors.count > 0 || !plan) return result;
-
-    req.onWrite?.();
-    // Slabs written from a slab file are resolved as they are written, a few thousand at a time
-    // (their rows are in hand); the other kinds name the slabs they touched, resolved after.
-    let resolver: ReturnType<typeof createResolver> | null = null;
-    const changes = plan.apply((rows) => (resolver ??= createResolver(db)).resolveRows(rows));
-    lap("write and resolve slabs");
-    result.slabsResolved = (changes.resolved ?? 0) + (changes.slabIds.length ? (resolver ??= createResolver(db)).resolve(changes.slabIds) : 0);
-    lap("resolve conditions");
-    const finished = Date.now();
-    const run = sqlite
-      .prepare(
-        `insert into import_runs (kind, source, file_name, format, sha256, rows, created, updated, unchanged, slabs_resolved, user_id, token_id, started_at, finished_at)
-         values (@kind, @source, @fileName, @format, @sha256, @rows, @created, @updated, @unchanged, @slabsResolved, @userId, @tokenId, @started, @finished)`,
-      )
-      .run({
-        kind: req.kind,
-        source: req.source,
-        fileName: req.fileName,
-        format: req.table.format,
-        sha256: req.sha256,
-        rows: rows.length,
-        ...result.counts,
-        slabsResolved: result.slabsResolved,
-        userId: req.by.userId ?? null,
-        tokenId: req.by.tokenId ?? null,
-        started,
-        finished,
-      });
-    result.importId = Number(run.lastInsertRowid);
-    recordAudit(db, {
-      userId: req.by.userId,
-      actor: req.by.actor,
-      action: `import.${req.kind}`,
-      entity: "import_run",
-      entityId: result.importId,
-      after: { source: req.source, fileName: req.fileName, sha256: req.sha256, rows: rows.length, ...result.counts, slabsResolved: result.slabsResolved },
-    });
-    lap("record");
-    return result;
+function newResult(meta: ImportMeta, rows: number, errors: ErrorList, counts: PlanCounts | undefined): ImportResult {
+  return {
+    kind: meta.kind,
+    dryRun: meta.dryRun,
+    format: meta.format,
+    fileName: meta.fileName,
+    rows,
+    valid: errors.count === 0,
+    counts: counts ? { ...counts } : { created: 0, updated: 0, unchanged: 0 },
+    errors: errors.list.slice(0, IMPORT_MAX_LISTED_ERRORS),
+    errorCount: errors.count,
+    slabsResolved: 0,
+    importId: null,
   };
+}
 
-  // A real import takes the write lock first (BEGIN IMMEDIATE): the plan reads what apply() then
-  // writes, so no other writer may slip in between. A dry run only reads.
-  const result = req.dryRun ? sqlite.transaction(work)() : sqlite.transaction(work).immediate();
-  if (!req.dryRun && !result.valid) {
+/** Once the plan is written: the other slabs it touched resolved, the run and its audit row recorded. */
+function closeWrite(db: Db, meta: ImportMeta, result: ImportResult, changes: AppliedChanges, resolver: () => Resolver, lap: (name: string) => void) {
+  result.slabsResolved = (changes.resolved ?? 0) + (changes.slabIds.length ? resolver().resolve(changes.slabIds) : 0);
+  // Slabs resolved as they were written whose cast time a later page moved: once more, counted once.
+  if (changes.again?.length) resolver().resolve(changes.again);
+  lap("resolve conditions");
+  const finished = Date.now();
+  const run = db.$client
+    .prepare(
+      `insert into import_runs (kind, source, file_name, format, sha256, rows, created, updated, unchanged, slabs_resolved, user_id, token_id, started_at, finished_at)
+         values (@kind, @source, @fileName, @format, @sha256, @rows, @created, @updated, @unchanged, @slabsResolved, @userId, @tokenId, @started, @finished)`,
+    )
+    .run({
+      kind: meta.kind,
+      source: meta.source,
+      fileName: meta.fileName,
+      format: meta.format,
+      sha256: meta.sha256,
+      rows: result.rows,
+      ...result.counts,
+      slabsResolved: result.slabsResolved,
+      userId: meta.by.userId ?? null,
+      tokenId: meta.by.tokenId ?? null,
+      started: meta.started,
+      finished,
+    });
+  result.importId = Number(run.lastInsertRowid);
+  recordAudit(db, {
+    userId: meta.by.userId,
+    actor: meta.by.actor,
+    action: `import.${meta.kind}`,
+    entity: "import_run",
+    entityId: result.importId,
+    after: {
+      source: meta.source,
+      fileName: meta.fileName,
+      sha256: meta.sha256,
+      rows: result.rows,
+      ...result.counts,
+      slabsResolved: result.slabsResolved,
+    },
+  });
+  lap("record");
+}
+
+/** The part of an import inside its transaction: the plan, then (unless dry or with problems) its writes. */
+function planAndWrite(db: Db, meta: ImportMeta, rows: number, makePlan: () => Plan | null, errors: ErrorList, lap: (name: string) => void): ImportResult {
+  const plan = makePlan();
+  lap("plan");
+  const result = newResult(meta, rows, errors, plan?.counts);
+  if (meta.dryRun || errors.count > 0 || !plan) return result;
+
+  meta.onWrite?.();
+  // Slabs written from a slab file are resolved as they are written, a few thousand at a time
+  // (their rows are in hand); the other kinds name the slabs they touched, resolved after.
+  let resolver: Resolver | null = null;
+  const resolverOf = () => (resolver ??= createResolver(db));
+  const changes = plan.apply((rows) => resolverOf().resolveRows(rows));
+  lap("write and resolve slabs");
+  closeWrite(db, meta, result, changes, resolverOf, lap);
+  return result;
+}
+
+/**
+ * A real import takes the write lock first (BEGIN IMMEDIATE): the plan reads what apply() then
+ * writes, so no other writer may slip in between. A dry run only reads.
+ */
+function inTransaction(db: Db, dryRun: boolean, work: () => ImportResult): ImportResult {
+  const sqlite = db.$client;
+  return dryRun ? sqlite.transaction(work)() : sqlite.transaction(work).immediate();
+}
+
+function refuseIfInvalid(result: ImportResult): ImportResult {
+  if (!result.dryRun && !result.valid) {
     throw new HttpError(
       422,
       "import_rejected",
@@ -133,6 +168,207 @@ export function runImport(db: Db, req: ImportRequest, timings?: Record<string, n
     );
   }
   return result;
+}
+
+/**
+ * Validates, plans and (unless dry) writes one import in a single transaction, together with the
+ * recomputed conditions of every slab it touches, its import-run row and its audit row. With any
+ * row error nothing is written and the answer says what is wrong, row by row.
+ */
+export function runImport(db: Db, req: ImportRequest, timings?: Record<string, number>): ImportResult {
+  const meta: ImportMeta = { ...req, format: req.table.format, started: Date.now() };
+  const sqlite = db.$client;
+  const errors = new ErrorList();
+  const lap = lapper(timings);
+  const { rows, headerOk } = coerceTable(req.table, req.kind, errors);
+  // The raw cells are not needed again: the checked values and the plan would otherwise sit beside them.
+  req.table.body.release();
+  lap("check cells");
+
+  const plan = () => {
+    if (!headerOk) return null;
+    const settings = getPlantSettings(db);
+    return req.kind === "heats"
+      ? planHeats(sqlite, rows, errors, settings)
+      : req.kind === "slabs"
+        ? planSlabs(sqlite, rows, errors, settings)
+        : req.kind === "products"
+          ? planProducts(sqlite, rows, errors)
+          : planSamples(sqlite, rows, errors);
+  };
+  return refuseIfInvalid(inTransaction(db, req.dryRun, () => planAndWrite(db, meta, rows.length, plan, errors, lap)));
+}
+
+export interface StreamedImportRequest extends Omit<ImportRequest, "kind" | "table" | "sha256"> {
+  kind: "heats" | "slabs";
+  /** The sheet's header, then its rows a page at a time, as the reader thread sends them (sheet-reader.ts). */
+  sheet: AsyncIterable<SheetEvent>;
+  /** The file's SHA-256, asked for when the reading starts and awaited at the end. */
+  sha256: () => Promise<string | null>;
+  /** How long the write lock may be held waiting for pages, in all, beyond the time spent working under it, before the import stops writing ahead (ms); 0: never write ahead. */
+  writeAheadIdleMs?: number;
+}
+
+/**
+ * How long, in all, an import writing ahead may hold the write lock while waiting for the reader
+ * (ms), unless it has worked longer than that under the lock (then as long as it has worked).
+ * Writing ahead holds the lock from the first page to the commit. While the import thread checks
+ * and writes pages it holds it about as long as a whole-table import's plan and write would (a slab
+ * file, where writing is the slower side, waits for the reader hardly at all); a reader slower than
+ * the writer keeps it waiting besides (a heat file: some tenths of a second), and a much slower one
+ * (a sheet far wider than its columns, a loaded machine) would keep the yard's writers waiting for
+ * nothing. Past the allowance the written pages are rolled back, the lock released, and the import
+ * goes on as a whole-table import does: it reads to the end, then plans and writes at once. So the
+ * lock is held at most twice as long as the work under it, or half a second longer.
+ */
+export const WRITE_AHEAD_IDLE_MS = 500;
+
+/**
+ * One heats or slabs import from a workbook read in its own thread: each page of rows is checked
+ * as it arrives, and (unless a dry run) planned and written at once, so the import thread writes
+ * while the reader thread reads. The same checks, answers and data as runImport, with nothing
+ * half-written:
+ *  - the pages are written inside one transaction taken with the write lock (BEGIN IMMEDIATE) at the
+ *    first page, in file order, each checked against what the database held before the import
+ *    (plan.ts, BatchPlanner) and written only while no problem at all has been found;
+ *  - the first problem (a row's, a plan's, the header's), a refusal by the reader (limits, damage),
+ *    or any failure rolls back what was written and releases the lock, so a refused file leaves the
+ *    database untouched;
+ *  - after a problem or a stop for waiting too long (WRITE_AHEAD_IDLE_MS) the import finishes as
+ *    runImport does: every page kept, checked whole, planned and written in one transaction, so the
+ *    errors listed and their order are the same as for the whole table.
+ */
+export async function runImportStreamed(db: Db, req: StreamedImportRequest, timings?: Record<string, number>): Promise<ImportResult> {
+  const started = Date.now();
+  const sqlite = db.$client;
+  const sha = req.sha256();
+  // Awaited at the end; a failure before then must not go unhandled meanwhile.
+  sha.catch(() => undefined);
+  const time = (name: string, ms: number) => {
+    if (timings) timings[name] = (timings[name] ?? 0) + ms / 1000;
+  };
+  let checker: TableChecker | null = null;
+  const rowErrors = new ErrorList();
+  const pages: ParsedRows[] = [];
+  let rowCount = 0;
+
+  const idleBudget = req.dryRun ? 0 : (req.writeAheadIdleMs ?? WRITE_AHEAD_IDLE_MS);
+  let mayWriteAhead = idleBudget > 0;
+  // Written ahead so far (the lock held), or null. (Typed so: it is set and cleared inside closures.)
+  let ahead = null as {
+    planner: BatchPlanner;
+    planErrors: ErrorList;
+    sink: ResolveSink;
+    resolver: () => Resolver;
+    lockedAt: number;
+    /** Time under the lock waiting for pages, and working on them (ms). */
+    idle: number;
+    busy: number;
+  } | null;
+  const stopWritingAhead = () => {
+    mayWriteAhead = false;
+    if (!ahead) return;
+    sqlite.exec("ROLLBACK");
+    time("write lock held", performance.now() - ahead.lockedAt);
+    ahead = null;
+  };
+  const problems = () => (checker?.headerErrorCount ?? 0) + rowErrors.count + (ahead?.planErrors.count ?? 0);
+  const plannerOf = (errors: ErrorList): BatchPlanner =>
+    req.kind === "heats" ? heatsPlanner(sqlite, errors, getPlantSettings(db)) : slabsPlanner(sqlite, errors, getPlantSettings(db));
+
+  const onPage = (cells: CellStore) => {
+    const rows = checker!.check(cells, rowErrors);
+    cells.release();
+    pages.push(rows);
+    rowCount += rows.length;
+    if (!mayWriteAhead || !checker!.headerOk) return;
+    if (problems() > 0) return stopWritingAhead();
+    if (!ahead) {
+      sqlite.exec("BEGIN IMMEDIATE");
+      const lockedAt = performance.now();
+      const planErrors = new ErrorList();
+      let resolver: Resolver | null = null;
+      const resolverOf = () => (resolver ??= createResolver(db));
+      ahead = {
+        planner: plannerOf(planErrors),
+        planErrors,
+        sink: (slabRows) => resolverOf().resolveRows(slabRows),
+        resolver: resolverOf,
+        lockedAt,
+        idle: 0,
+        busy: 0,
+      };
+    }
+    const batch = ahead.planner.check(rows);
+    if (problems() > 0) return stopWritingAhead();
+    ahead.planner.write(batch, ahead.sink);
+  };
+
+  const pagesIn = req.sheet[Symbol.asyncIterator]();
+  try {
+    for (;;) {
+      const waitFrom = performance.now();
+      const next = pagesIn.next();
+      let got: IteratorResult<SheetEvent>;
+      if (ahead) {
+        // Waiting for the reader while holding the lock: at most the rest of the allowance.
+        const allowed = Math.max(idleBudget, ahead.busy) - ahead.idle;
+        let timer: ReturnType<typeof setTimeout> | undefined;
+        const out = new Promise<null>((resolve) => (timer = setTimeout(resolve, Math.max(0, allowed), null)));
+        try {
+          const first = await Promise.race([next, out]);
+          if (first === null) {
+            stopWritingAhead();
+            got = await next;
+          } else got = first;
+        } finally {
+          clearTimeout(timer);
+        }
+      } else got = await next;
+      const waited = performance.now() - waitFrom;
+      time("import thread waiting", waited);
+      if (ahead) ahead.idle += waited;
+      if (got.done) break;
+      const busyFrom = performance.now();
+      if (got.value.type === "header") checker = new TableChecker(req.kind, got.value.headers, "xlsx", false, got.value.date1904);
+      else onPage(got.value.rows);
+      const busy = performance.now() - busyFrom;
+      time("import thread busy", busy);
+      if (ahead) ahead.busy += busy;
+    }
+    // The reader sends the header first and refuses a sheet without one.
+    if (!checker) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
+    const errors = new ErrorList();
+    checker.headerErrorsInto(errors);
+    errors.append(rowErrors);
+    const meta: ImportMeta = { ...req, format: "xlsx", sha256: await sha, started };
+    const lap = lapper(timings);
+
+    if (ahead) {
+      // Every page was checked and written under the lock, and no problem found: close the import.
+      if (timings) timings["wrote ahead"] = 1;
+      req.onWrite?.();
+      const { planner, sink, resolver, lockedAt } = ahead;
+      const result = newResult(meta, rowCount, errors, planner.counts);
+      closeWrite(db, meta, result, planner.finish(sink), resolver, lap);
+      sqlite.exec("COMMIT");
+      ahead = null;
+      time("write lock held", performance.now() - lockedAt);
+      return result;
+    }
+    // As runImport does with a whole table, over the pages kept.
+    const headerOk = checker.headerOk;
+    const lockFrom = performance.now();
+    const result = inTransaction(db, req.dryRun, () =>
+      planAndWrite(db, meta, rowCount, () => (headerOk ? planBatches(plannerOf(errors), pages) : null), errors, lap),
+    );
+    if (!req.dryRun) time("write lock held", performance.now() - lockFrom);
+    return refuseIfInvalid(result);
+  } catch (err) {
+    // A refusal while reading, or a failure while writing ahead: nothing stays written.
+    if (ahead) stopWritingAhead();
+    throw err;
+  }
 }
 
 export const sha256 = (buf: Buffer) => crypto.createHash("sha256").update(buf).digest("hex");

@@ -56,20 +56,17 @@ function earlyScreen(qc: QueryClient, makeLoader: (qc: QueryClient) => LoaderFun
 }
 
 /**
- * A report screen (its data come through `makeReportLoader(kind)`, held here, not in its module): its data, and the
- * chart code every report draws — the largest file of the screen, which the view would otherwise ask
- * for only once the answer has come and been drawn as a table. The report loader's own code is a
- * small chunk fetched beside the screen's (kept out of the first script every screen loads, the
- * inspector's included); the chart code is asked for only once the role may read reports.
+ * A report screen (its data come through `makeReportLoader(kind)`, held here, not in its module): its
+ * data, and the chart code every report draws (asked for by that loader, see there). The report
+ * loader's own code is a small chunk fetched beside the screen's (kept out of the first script every
+ * screen loads, the inspector's included).
  */
 const reportScreen = (qc: QueryClient, kind: ReportKind, load: () => Promise<RouteModule>) =>
   earlyScreen(
     qc,
     (qc) => async (args) => {
       const { makeReportLoader } = await import("./report-frame");
-      const result = await makeReportLoader(kind)(qc)(args);
-      void import("@/features/reports/components/charts/report-chart").catch(() => undefined);
-      return result;
+      return makeReportLoader(kind)(qc)(args);
     },
     load,
   );

@@ -17,17 +17,28 @@ export class ApiError extends Error {
 // Shared with the server, which names a screen's first request in its page (server/lib/screen-data.ts).
 export { toQueryString };
 
+/**
+ * A shared schema, or how to load it. Building the shared modules' schemas is a good part of the
+ * time the app's first script takes to run, and a screen's first view needs few of them: a query
+ * whose answer can wait gives a function that loads its schema (./record-schemas.ts), called beside
+ * the request.
+ */
+export type SchemaSource<T> = z.ZodType<T> | (() => Promise<z.ZodType<T>>);
+
 interface RequestOptions<T> {
   method?: "GET" | "POST" | "PATCH" | "PUT" | "DELETE";
   query?: Query;
   body?: unknown;
   /** Parse the answer with the shared schema, so a contract drift fails loudly here. */
-  schema?: z.ZodType<T>;
+  schema?: SchemaSource<T>;
   signal?: AbortSignal;
 }
 
 /** fetch with the session cookie, JSON in and out, and errors as ApiError. */
 export async function api<T = unknown>(path: string, opts: RequestOptions<T> = {}): Promise<T> {
+  // A schema that is loaded comes in beside the answer; a request that fails first leaves it unread.
+  const schema = typeof opts.schema === "function" ? opts.schema() : opts.schema;
+  if (schema instanceof Promise) schema.catch(() => undefined);
   let response: Response;
   try {
     response = await fetch(`/api${path}${toQueryString(opts.query)}`, {
@@ -53,7 +64,7 @@ export async function api<T = unknown>(path: string, opts: RequestOptions<T> = {
     const e = (data as { error?: { code?: string; message?: string; details?: unknown } } | undefined)?.error;
     throw new ApiError(response.status, e?.code ?? "http_error", e?.message ?? `The server answered ${response.status}.`, e?.details);
   }
-  return opts.schema ? opts.schema.parse(data) : (data as T);
+  return schema ? (await schema).parse(data) : (data as T);
 }
 
 export interface UploadProgress {

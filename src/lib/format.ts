@@ -7,21 +7,40 @@ export const DASH = "—";
  * on every call (the language specifies it as `new Intl.NumberFormat(locale, options).format(x)`),
  * and a report's tables call it thousands of times while the screen is first drawn. Same text.
  */
+let LOCALE = "en-GB";
 const numberFormats = new Map<string, Intl.NumberFormat>();
+const dateFormats = new Map<string, Intl.DateTimeFormat>();
+
+/**
+ * The locale numbers and dates are written in: the person's language (German: decimal comma, "3. Dez.
+ * 2026"); English and the pseudo-locale as British English. Called when the language changes.
+ */
+export function setFormatLocale(language: string) {
+  const next = language === "de" ? "de-DE" : "en-GB";
+  if (next === LOCALE) return;
+  LOCALE = next;
+  numberFormats.clear();
+  dateFormats.clear();
+}
+
+/** The BCP 47 locale numbers and dates are written in now ("en-GB", "de-DE"), for an `Intl` call of a screen's own. */
+export const formatLocale = () => LOCALE;
+
 function numberFormat(minimumFractionDigits?: number, maximumFractionDigits?: number): Intl.NumberFormat {
   const key = `${minimumFractionDigits}:${maximumFractionDigits}`;
   let f = numberFormats.get(key);
-  if (!f) numberFormats.set(key, (f = new Intl.NumberFormat("en-GB", { minimumFractionDigits, maximumFractionDigits })));
+  if (!f) numberFormats.set(key, (f = new Intl.NumberFormat(LOCALE, { minimumFractionDigits, maximumFractionDigits })));
   return f;
 }
 const fixed = (value: number, digits: number) => numberFormat(digits, digits).format(value);
-const once = <T>(make: () => T) => {
-  let made: T | undefined;
-  return () => (made ??= make());
+const dateFormat = (key: string, options: Intl.DateTimeFormatOptions) => () => {
+  let f = dateFormats.get(key);
+  if (!f) dateFormats.set(key, (f = new Intl.DateTimeFormat(LOCALE, options)));
+  return f;
 };
-const DATE_TIME = once(() => new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" }));
-const DATE = once(() => new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric" }));
-const TIME = once(() => new Intl.DateTimeFormat("en-GB", { hour: "2-digit", minute: "2-digit" }));
+const DATE_TIME = dateFormat("dateTime", { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" });
+const DATE = dateFormat("date", { day: "numeric", month: "short", year: "numeric" });
+const TIME = dateFormat("time", { hour: "2-digit", minute: "2-digit" });
 
 export function num(value: number | null | undefined, digits = 0): string {
   if (value === null || value === undefined || !Number.isFinite(value)) return DASH;
@@ -54,6 +73,14 @@ export function time(iso: string | null | undefined): string {
   return TIME().format(new Date(iso));
 }
 
+/**
+ * A count in the person's locale ("15,852"; German "15.852"), from the formatter made once: a
+ * report's tables and figures write a few hundred counts while the screen is first drawn.
+ */
+export function count(n: number): string {
+  return numberFormat().format(n);
+}
+
 /** Plural with its count: plural(3, "slab") → "3 slabs". */
 export function plural(n: number, one: string, many = `${one}s`): string {
   return `${numberFormat().format(n)} ${n === 1 ? one : many}`;
@@ -61,8 +88,8 @@ export function plural(n: number, one: string, many = `${one}s`): string {
 
 export function bytes(n: number): string {
   if (n < 1024) return `${n} B`;
-  if (n < 1024 * 1024) return `${(n / 1024).toFixed(0)} kB`;
-  return `${(n / 1024 / 1024).toFixed(1)} MB`;
+  if (n < 1024 * 1024) return `${fixed(n / 1024, 0)} kB`;
+  return `${fixed(n / 1024 / 1024, 1)} MB`;
 }
 
 /** A fraction 0…1 as a percentage: pct(0.0535) → "5.35 %". */

@@ -5,10 +5,22 @@
  *   - exceljs's standard whole-workbook read, `workbook.xlsx.load(buffer)` plus a pass over the rows;
  *   - its streaming reader with the options the import itself uses — the fastest exceljs read.
  * Every measurement runs in a fresh child process (no heap left over from another) with the same
- * modules loaded and the import thread's heap cap, three times; the medians are shown. Peak memory
- * is the import process's whole RSS, with the part it holds before reading shown beside it.
+ * modules loaded and the import thread's heap cap, three times; the medians are shown, and each
+ * run's import / streaming-read ratio. Peak memory is the import process's whole RSS (its threads
+ * included), with the part it holds before reading shown beside it.
  * Targets: the whole import within 1.5× the exceljs read, its peak RSS at most 250 MB.
  * A benchmark, not a test: nothing asserts time.
+ *
+ * The exceljs reads are measured by import-task.ts, as before. The import is measured here (the
+ * `import` task below) as the server's import thread runs it: runImportTask (import-worker.ts), from
+ * the file on disk — its kind judged by file-type, read, checked, planned, written, its SHA-256
+ * taken — after the thread's warm-up, as the server warms its import thread when it starts (file-type
+ * loaded, the reader thread's code made ready). Since issue 14 a large workbook of heats or slabs is
+ * read in a thread of its own while the import thread checks and writes the pages already read
+ * (sheet-reader.ts, import.service.ts runImportStreamed), so the phases shown are the import thread's:
+ * busy (checking, planning, writing), waiting for pages, and the write lock held, from the first page
+ * to the commit. Before, the import was measured as readTable then runImport, one after the other,
+ * with file-type loaded inside the first file's time.
  */
 import { execFileSync } from "node:child_process";
 import fs from "node:fs";
@@ -16,6 +28,7 @@ import os from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import ExcelJS from "exceljs";
+import { IMPORT_LIMITS } from "@shared/api/imports";
 import { IMPORT_THREAD_HEAP_MB } from "../../server/import/import-pool";
 
 const HEATS = Number(process.env.BENCH_HEATS ?? 10_000);
@@ -73,7 +86,8 @@ function runTask(task: string, dir: string): TaskResult | null {
   // As an import runs in the server: under the import thread's heap cap (import-pool.ts), which also
   // sets how far V8 lets the heap grow between full collections; exceljs under the same cap.
   const heap = task === "prepare" ? [] : [`--max-old-space-size=${IMPORT_THREAD_HEAP_MB}`];
-  const out = execFileSync(process.execPath, [...heap, "--import", "tsx", path.join(here, "import-task.ts"), task, dir], {
+  const script = task === "import" ? fileURLToPath(import.meta.url) : path.join(here, "import-task.ts");
+  const out = execFileSync(process.execPath, [...heap, "--import", "tsx", script, task, dir], {
     encoding: "utf8",
     stdio: ["ignore", "pipe", "inherit"],
     env: { ...process.env, LOG_LEVEL: "silent" },
@@ -83,6 +97,50 @@ function runTask(task: string, dir: string): TaskResult | null {
 }
 
 const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)]!;
+
+/**
+ * The `import` task, in its own process: both files imported into a copy of the prepared database as
+ * the server's import thread imports them. Prints one JSON line, as import-task.ts does for the others.
+ */
+async function importTask(dir: string) {
+  let peak = 0;
+  const sampler = setInterval(() => (peak = Math.max(peak, process.memoryUsage().rss)), 10);
+  // What an import thread loads (import-task.ts loads the same in the exceljs tasks).
+  const { runImportTask } = await import("../../server/import/import-worker");
+  await import("../../server/import/read-table");
+  await import("../../server/services/import.service");
+  const databaseFile = path.join(dir, `run-${process.pid}.db`);
+  fs.copyFileSync(path.join(dir, "template.db"), databaseFile);
+  await runImportTask({ warm: true });
+  // The process before any file is read: Node, the tsx loader, the modules, the warmed thread's parts.
+  const baseMb = process.memoryUsage().rss / 1024 / 1024;
+  const out: Record<string, number> = {};
+  const phases: Record<string, Record<string, number>> = {};
+  const rows: Record<string, number> = {};
+  for (const file of ["heats", "slabs"] as const) {
+    const t0 = performance.now();
+    const outcome = await runImportTask({
+      databaseFile,
+      kind: file,
+      dryRun: false,
+      source: "upload",
+      file: path.join(dir, `${file}.xlsx`),
+      fileName: `${file}.xlsx`,
+      by: { actor: "bench" },
+      limits: IMPORT_LIMITS,
+      heapMb: IMPORT_THREAD_HEAP_MB,
+      measure: true,
+    });
+    out[file] = (performance.now() - t0) / 1000;
+    if (!outcome?.ok || !outcome.result.valid) throw new Error(`${file}: ${JSON.stringify(outcome).slice(0, 600)}`);
+    phases[file] = outcome.timings ?? {};
+    rows[file] = outcome.result.rows;
+  }
+  clearInterval(sampler);
+  for (const f of fs.readdirSync(dir)) if (f.startsWith(`run-${process.pid}.db`)) fs.rmSync(path.join(dir, f));
+  const rssMb = Math.max(peak, process.resourceUsage().maxRSS * 1024) / 1024 / 1024;
+  console.log(JSON.stringify({ ...out, rssMb, baseMb, phases, rows }));
+}
 
 async function main() {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-bench-import-"));
@@ -175,16 +233,24 @@ async function main() {
   );
   const phases = results.import.map((x) => x.phases!);
   for (const file of ["heats", "slabs"]) {
-    const keys = Object.keys(phases[0]![file]!);
-    console.log(`  ${file} import phases (median): ${keys.map((k) => `${k} ${median(phases.map((p) => p[file]![k]!)).toFixed(2)} s`).join(", ")}`);
+    const keys = [...new Set(phases.flatMap((p) => Object.keys(p[file]!)))].filter((k) => k !== "wrote ahead");
+    const ahead = phases.filter((p) => p[file]!["wrote ahead"] === 1).length;
+    console.log(
+      `  ${file} import phases (median): ${keys.map((k) => `${k} ${median(phases.map((p) => p[file]![k] ?? 0)).toFixed(2)} s`).join(", ")}; wrote ahead in ${ahead} of ${phases.length} runs`,
+    );
   }
+  const runTotal = (x: TaskResult) => x.heats + x.slabs;
   console.log(
-    `peak memory (RSS, median): import ${median(results.import.map((x) => x.rssMb)).toFixed(0)} MB (target ≤ 250 MB; of it ${median(results.import.map((x) => x.baseMb)).toFixed(0)} MB before reading: Node, tsx, modules, database); exceljs load alone ${median(results.load.map((x) => x.rssMb)).toFixed(0)} MB; exceljs stream alone ${median(results.stream.map((x) => x.rssMb)).toFixed(0)} MB`,
+    `  per run, import / exceljs stream: ${results.import.map((x, i) => `${runTotal(x).toFixed(2)} s / ${runTotal(results.stream[i]!).toFixed(2)} s = ${(runTotal(x) / runTotal(results.stream[i]!)).toFixed(2)}× (peak ${x.rssMb.toFixed(0)} MB)`).join("; ")}`,
+  );
+  console.log(
+    `peak memory (RSS, median): import ${median(results.import.map((x) => x.rssMb)).toFixed(0)} MB (target ≤ 250 MB; of it ${median(results.import.map((x) => x.baseMb)).toFixed(0)} MB before reading: Node, tsx, the modules, the database, the warmed-up file-type and reader code); exceljs load alone ${median(results.load.map((x) => x.rssMb)).toFixed(0)} MB; exceljs stream alone ${median(results.stream.map((x) => x.rssMb)).toFixed(0)} MB`,
   );
   fs.rmSync(dir, { recursive: true, force: true });
 }
 
-main().catch((err) => {
+const [task, taskDir] = process.argv.slice(2);
+(task === "import" ? importTask(taskDir!) : main()).catch((err) => {
   console.error(err);
   process.exit(1);
 });

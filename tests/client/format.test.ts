@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { date, dateTime, num, pct, pctRange, plural, pValue, sig, time } from "../../src/lib/format";
+import { count, date, dateTime, num, pct, pctRange, plural, pValue, sig, time } from "../../src/lib/format";
 
 /**
  * The screens' number and date texts come from formatters made once (src/lib/format.ts); they must
@@ -28,6 +28,15 @@ describe("formatting", () => {
     expect(pValue(0.00036)).toBe("3.6 × 10⁻⁴");
     expect(sig(1.23456)).toBe("1.23");
     expect(sig(12345.6, 3)).toBe(en(12300, undefined, 10));
+  });
+
+  it('when counts of every size and sign are shown, then the text is the one toLocaleString("en-GB") gives', () => {
+    const values = [0, -0, 1, -1, 7, 999, 1000, 15852, 123456789, -40312, 0.5, 1234.5678, 2.0004];
+    for (let i = 0; i < 500; i++) values.push(Math.round(Math.exp(i / 20)) * (i % 3 === 0 ? -1 : 1), Math.exp(i / 25) - 1);
+    for (const v of values) expect(count(v)).toBe(v.toLocaleString("en-GB"));
+    expect(count(15852)).toBe("15,852");
+    expect(count(1234567)).toBe("1,234,567");
+    expect(count(1234.5678)).toBe("1,234.568");
   });
 
   it("when dates and times are shown, then they read as toLocaleString gives them", () => {

@@ -1,6 +1,5 @@
 import type { QueryClient } from "@tanstack/react-query";
 import type { LoaderFunctionArgs } from "react-router";
-import { readHeatListParams } from "@/features/heats/components/heat-list-params";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { requireCapability } from "../guard";
 
@@ -11,11 +10,11 @@ import { requireCapability } from "../guard";
 export function makeLoader(qc: QueryClient) {
   return async ({ request }: LoaderFunctionArgs) => {
     await requireCapability(qc, "heats.browse");
-    // The list's query (and its schemas) comes in a small chunk of its own, fetched beside the
-    // screen's code: kept out of the app's first script, which every role — the inspector's tablet
-    // first — loads.
-    const params = readHeatListParams(new URL(request.url).searchParams);
-    void import("@/features/heats/api/heats.queries").then(({ heatKeys }) => qc.prefetchQuery(heatKeys.list(params)));
+    // The list's query and how it reads the address (and their schemas) come in small chunks of
+    // their own, fetched beside the screen's code: kept out of the app's first script, which every
+    // role — the inspector's tablet first — loads.
+    const url = new URL(request.url);
+    void import("@/features/heats/api/heats.queries").then(({ heatListOf }) => qc.prefetchQuery(heatListOf(url.searchParams)));
     void qc.prefetchQuery(plantKeys.setup());
     return null;
   };

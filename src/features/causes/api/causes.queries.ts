@@ -1,7 +1,15 @@
 import { queryOptions, useMutation, useQueryClient, type QueryKey } from "@tanstack/react-query";
 import { z } from "zod";
-import { bulkTagResultSchema, causeTagSchema, causeTaxonomySchema, defectCausesSchema, type BulkTag, type TagDefect } from "@shared/api/causes";
+import type { BulkTag, TagDefect } from "@shared/api/causes";
 import { api } from "@/lib/api-client";
+
+// The schemas come with the first answer that needs them (src/lib/api-client.ts): a report screen's
+// first view needs none of them (the filter bar's cause tags are read after it).
+const schemas = () => import("@shared/api/causes");
+const bulkTagResultSchema = () => schemas().then((m) => m.bulkTagResultSchema);
+const causeTagSchema = () => schemas().then((m) => m.causeTagSchema);
+const causeTaxonomySchema = () => schemas().then((m) => m.causeTaxonomySchema);
+const defectCausesSchema = () => schemas().then((m) => m.defectCausesSchema);
 
 export const causeKeys = {
   all: ["causes"] as const,

@@ -1,7 +1,11 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
 import type { z } from "zod";
-import { catalogueSchema, defectCategoryInputSchema, defectCategoryUpdateSchema, defectTypeInputSchema, defectTypeUpdateSchema } from "@shared/api/defects";
+import type { defectCategoryInputSchema, defectCategoryUpdateSchema, defectTypeInputSchema, defectTypeUpdateSchema } from "@shared/api/defects";
 import { api } from "@/lib/api-client";
+import { recordSchema } from "@/lib/record-schema";
+
+// The schema comes with the first answer that needs it (src/lib/record-schemas.ts): this module is in the app's first script.
+const catalogueSchema = recordSchema("catalogueSchema");
 
 export const catalogueKeys = {
   all: ["defect-types"] as const,

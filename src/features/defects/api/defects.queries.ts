@@ -1,6 +1,11 @@
 import { queryOptions, useMutation, useQueryClient } from "@tanstack/react-query";
-import { defectListSchema, defectSchema, type DefectListQuery, type DefectReview, type DefectUpdate } from "@shared/api/defects";
+import type { DefectListQuery, DefectReview, DefectUpdate } from "@shared/api/defects";
 import { api } from "@/lib/api-client";
+import { recordSchema } from "@/lib/record-schema";
+
+// The schemas come with the first answer that needs them (src/lib/record-schemas.ts): this module is in the app's first script.
+const defectListSchema = recordSchema("defectListSchema");
+const defectSchema = recordSchema("defectSchema");
 
 /** The list's filters as the client sends them (the schema's input types page and pageSize loosely). */
 export type DefectFilters = Omit<DefectListQuery, "page" | "pageSize" | "minSeverity"> & { page?: number; pageSize?: number; minSeverity?: number };

@@ -2,6 +2,7 @@ import { keepPreviousData, queryOptions } from "@tanstack/react-query";
 import { heatDetailSchema, heatListSchema, heatSamplesSchema } from "@shared/api/heats";
 import type { HeatListParams } from "@shared/heat-list-query";
 import { api } from "@/lib/api-client";
+import { readHeatListParams } from "../components/heat-list-params";
 
 /** The list's query as it travels in the URL: everything optional, the server fills the defaults. */
 export type { HeatListParams };
@@ -29,3 +30,6 @@ export const heatKeys = {
       staleTime: 5 * 60_000,
     }),
 };
+
+/** The list an address asks for (the heats list's early loader: src/app/routes/heats.loader.ts). */
+export const heatListOf = (searchParams: URLSearchParams) => heatKeys.list(readHeatListParams(searchParams));

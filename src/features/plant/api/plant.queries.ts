@@ -1,8 +1,12 @@
 import { queryOptions } from "@tanstack/react-query";
 import { z } from "zod";
 import { aboutSchema, plantSetupSchema, plantSummarySchema, slabHitSchema } from "@shared/api/plant";
-import { plantSettingsSchema } from "@shared/api/heats";
 import { api } from "@/lib/api-client";
+import { recordSchema } from "@/lib/record-schema";
+
+// The formula settings' schema (with the heats' schemas) comes with the first answer that needs it
+// (src/lib/record-schemas.ts): this module is in the app's first script.
+const plantSettingsSchema = recordSchema("plantSettingsSchema");
 
 export const plantKeys = {
   all: ["plant"] as const,

@@ -10,9 +10,11 @@ import {
   screeningSchema,
   slabPositionsSchema,
 } from "@shared/api/reports";
-import { causeParetoSchema } from "@shared/api/causes";
-import { api, ApiError } from "@/lib/api-client";
+import { api, ApiError, type SchemaSource } from "@/lib/api-client";
 import { reportQueryString, type ReportKind, type ReportParams } from "../components/report-params";
+
+// Its module (the cause tags' schemas) comes with its answer: no other report's first view needs it.
+const causeParetoSchema = () => import("@shared/api/causes").then((m) => m.causeParetoSchema);
 
 const SCHEMAS = {
   overview: overviewSchema,
@@ -24,9 +26,10 @@ const SCHEMAS = {
   "slab-positions": slabPositionsSchema,
   "cause-pareto": causeParetoSchema,
   adjusted: adjustedSchema,
-} as const satisfies Record<ReportKind, z.ZodType>;
+} as const satisfies Record<ReportKind, SchemaSource<unknown>>;
 
-export type ReportResult<K extends ReportKind> = z.infer<(typeof SCHEMAS)[K]>;
+type Parsed<S> = S extends z.ZodType ? z.infer<S> : S extends () => Promise<infer Z extends z.ZodType> ? z.infer<Z> : never;
+export type ReportResult<K extends ReportKind> = Parsed<(typeof SCHEMAS)[K]>;
 
 /** The server's answer while the reports' slab data load after a start: 503 "reports_warming_up". */
 export function isWarmingUp(err: unknown): err is ApiError {
@@ -63,7 +66,7 @@ export const reportKeys = {
     queryOptions({
       queryKey: [...reportKeys.all, kind, reportQueryString(kind, params)] as const,
       queryFn: ({ signal }) =>
-        api(`/reports/${kind}?${reportQueryString(kind, params)}`, { signal, schema: SCHEMAS[kind] as unknown as z.ZodType<ReportResult<K>> }),
+        api(`/reports/${kind}?${reportQueryString(kind, params)}`, { signal, schema: SCHEMAS[kind] as unknown as SchemaSource<ReportResult<K>> }),
       // Keep the last answer on screen while a changed filter is asked: the chart does not jump away.
       placeholderData: keepPreviousData,
       staleTime: 60_000,

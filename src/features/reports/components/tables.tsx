@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import { num, pct, pctRange } from "@/lib/format";
+import { count, num, pct, pctRange } from "@/lib/format";
 import type { RateRow } from "./charts/category-rate-chart";
 import { FewMark } from "./small-n";
 
@@ -64,10 +64,10 @@ export function RateTable({
                   </td>
                 ))}
                 <td className={tdNum} data-field="slabs">
-                  {r.slabs.toLocaleString("en-GB")}
+                  {count(r.slabs)}
                 </td>
                 <td className={tdNum} data-field="affected">
-                  {r.affected.toLocaleString("en-GB")}
+                  {count(r.affected)}
                 </td>
                 <td className={tdNum} data-field="rate">
                   {pct(r.rate)}

@@ -1,6 +1,9 @@
 import { queryOptions } from "@tanstack/react-query";
-import { slabDetailSchema } from "@shared/api/heats";
 import { api } from "@/lib/api-client";
+import { recordSchema } from "@/lib/record-schema";
+
+// The schema comes with the first answer that needs it (src/lib/record-schemas.ts): this module is in the app's first script.
+const slabDetailSchema = recordSchema("slabDetailSchema");
 
 export const slabKeys = {
   all: ["slabs"] as const,

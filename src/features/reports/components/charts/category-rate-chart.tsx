@@ -1,6 +1,6 @@
 import { useMemo } from "react";
 import { INK, SERIES_COLORS, SPARSE_DECAL, SPARSE_FILL } from "@/lib/chart-theme";
-import { pct, pctRange } from "@/lib/format";
+import { count, pct, pctRange } from "@/lib/format";
 import { esc, pctAxis, tooltipBase, whiskerSeries } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
@@ -41,7 +41,7 @@ export function CategoryRateChart({
 }) {
   const option = useMemo(() => {
     const yMax = Math.max(0.01, ...rows.map((r) => r.ciUpper ?? 0), ...(second?.rates.map((v) => v ?? 0) ?? [])) * 1.12;
-    const cats = rows.map((r) => (mode === "bars" ? `${r.label}\nn = ${r.slabs.toLocaleString("en-GB")}` : r.label));
+    const cats = rows.map((r) => (mode === "bars" ? `${r.label}\nn = ${count(r.slabs)}` : r.label));
     const zoom = mode === "points" && rows.length > 60;
     return {
       animation: false,

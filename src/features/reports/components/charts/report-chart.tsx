@@ -12,6 +12,7 @@ import {
   VisualMapComponent,
 } from "echarts/components";
 import { CanvasRenderer } from "echarts/renderers";
+import { chartDrawn } from "@/components/ui/first-view";
 import { CHART_THEME, echarts } from "@/lib/chart-theme";
 
 // Only what the report charts draw: the bundle carries these and nothing more of the library.
@@ -55,7 +56,13 @@ function useTurnToDraw(): boolean {
     void before.then(() => {
       if (gone) return release();
       setMine(true);
-      requestAnimationFrame(() => requestAnimationFrame(() => release()));
+      requestAnimationFrame(() =>
+        requestAnimationFrame(() => {
+          // Drawn: the first chart of a page completes its first view (src/components/ui/first-view.tsx).
+          if (!gone) chartDrawn();
+          release();
+        }),
+      );
     });
     return () => {
       gone = true;
