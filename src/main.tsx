@@ -1,5 +1,5 @@
 /// <reference types="vite-plugin-pwa/client" />
-import { StrictMode } from "react";
+import { StrictMode, Suspense } from "react";
 import { createRoot } from "react-dom/client";
 import { RouterProvider } from "react-router/dom";
 import { registerSW } from "virtual:pwa-register";
@@ -70,7 +70,10 @@ function watchForUpdates(): AppUpdate {
 createRoot(document.getElementById("root")!).render(
   <StrictMode>
     <AppProvider queryClient={queryClient} update={watchForUpdates()}>
-      <RouterProvider router={router} />
+      {/* Outside the frame, a screen whose texts' catalogue is on its way waits here (src/i18n). */}
+      <Suspense fallback={null}>
+        <RouterProvider router={router} />
+      </Suspense>
     </AppProvider>
   </StrictMode>,
 );

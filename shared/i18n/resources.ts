@@ -1,27 +1,47 @@
 /**
- * The catalogues every part reads: the client through react-i18next, the server (e-mails, workbook
- * headers, messages) through its own i18next instance (server/lib/i18n.ts). English is the source;
- * German is ours (shared/i18n/REVIEW.md lists what a native reviewer should check); the pseudo-locale
- * is made from English (pseudo.ts).
+ * The catalogues every part reads: the client through react-i18next (src/i18n, one chunk per
+ * namespace), the server (e-mails, workbook headers, messages) through its own i18next instance
+ * (server/lib/i18n.ts). English is the source; German is ours (shared/i18n/REVIEW.md lists what a
+ * native reviewer should check); the pseudo-locale is made from English (pseudo.ts).
+ *
+ * Namespaces: `common` — the frame, sign-in pages and shared components (in the first script);
+ * `yard` — the inspector's screens and defects; `reports` — the quality engineer's reports;
+ * `heats` — heats, slabs, claims and tracing; `process` — causes, investigations, operating windows
+ * and risk; `admin` — setup, users, import, tokens, mail and passwords; `server` — what the server
+ * writes: error messages, e-mails, workbook headers.
  */
+import deAdmin from "./locales/de/admin.json";
 import deCommon from "./locales/de/common.json";
+import deHeats from "./locales/de/heats.json";
+import deProcess from "./locales/de/process.json";
+import deReports from "./locales/de/reports.json";
+import deServer from "./locales/de/server.json";
+import deYard from "./locales/de/yard.json";
+import enAdmin from "./locales/en/admin.json";
 import enCommon from "./locales/en/common.json";
+import enHeats from "./locales/en/heats.json";
+import enProcess from "./locales/en/process.json";
+import enReports from "./locales/en/reports.json";
+import enServer from "./locales/en/server.json";
+import enYard from "./locales/en/yard.json";
 import type { Language } from "./languages";
 import { pseudoCatalogue } from "./pseudo";
 
-export const NAMESPACES = ["common"] as const;
+export const NAMESPACES = ["common", "yard", "reports", "heats", "process", "admin", "server"] as const;
 export type Namespace = (typeof NAMESPACES)[number];
 
-export const en = { common: enCommon };
-export type Catalogue = typeof en;
+type Tree = { [key: string]: string | Tree };
+export type Catalogue = Record<Namespace, Tree>;
 
-/** German: every key of the English catalogue (checked by tests/shared/i18n.test.ts). */
-export const de: Catalogue = { common: deCommon };
+export const en: Catalogue = { common: enCommon, yard: enYard, reports: enReports, heats: enHeats, process: enProcess, admin: enAdmin, server: enServer };
+
+/** German: every key of the English catalogue (checked by tests/server/i18n.test.ts). */
+export const de: Catalogue = { common: deCommon, yard: deYard, reports: deReports, heats: deHeats, process: deProcess, admin: deAdmin, server: deServer };
 
 export const resourcesFor = (language: Language): Catalogue => (language === "de" ? de : language === "en-XA" ? pseudo() : en);
 
 let pseudoMade: Catalogue | null = null;
 function pseudo(): Catalogue {
-  pseudoMade ??= { common: pseudoCatalogue(enCommon) };
+  pseudoMade ??= Object.fromEntries(NAMESPACES.map((ns) => [ns, pseudoCatalogue(en[ns])])) as Catalogue;
   return pseudoMade;
 }

@@ -5,6 +5,7 @@ import { makeLoader as makeFrameLoader } from "./routes/app-layout.loader";
 import { makeLoader as makeHeatsLoader } from "./routes/heats.loader";
 import { Spinner } from "@/components/ui/logo";
 import { RootError, RouteError } from "./routes/route-error";
+import { textsFor } from "@/i18n";
 import { FRAME, IN_FRAME, OUTSIDE_FRAME, reportKindOf, type Screen } from "@shared/screens";
 
 /** A lazily loaded screen: its component, an optional loader built with the QueryClient, and its error view. */
@@ -92,10 +93,11 @@ function FirstLoad() {
 /** Every route module, each its own chunk (Vite splits a glob's imports as it does single dynamic imports). */
 const ROUTE_MODULES = import.meta.glob<RouteModule>(["./routes/*.tsx", "!./routes/route-error.tsx"]);
 
+/** A screen's code and its texts' catalogues (src/i18n), fetched side by side. */
 function moduleOf(name: string): () => Promise<RouteModule> {
   const load = ROUTE_MODULES[`./routes/${name}.tsx`];
   if (!load) throw new Error(`No route module src/app/routes/${name}.tsx (shared/screens.ts names it)`);
-  return load;
+  return async () => (await Promise.all([load(), textsFor(name)]))[0];
 }
 
 /** The screens whose loaders the first script holds, so they run while the code loads (see earlyLoader). */

@@ -1,13 +1,13 @@
 import { useTranslation } from "react-i18next";
 import { LanguagePicker } from "@/features/auth/components/language-picker";
-import { useEffect, useState } from "react";
+import { Suspense, useEffect, useState } from "react";
 import { useQuery } from "@tanstack/react-query";
 import { Link, NavigationType, NavLink, Outlet, useLocation, useNavigate, useNavigation, useNavigationType } from "react-router";
 import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { StatusMark, type EntryStatus } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
-import { Logo } from "@/components/ui/logo";
+import { Logo, Spinner } from "@/components/ui/logo";
 import { navFor } from "@/config/nav";
 import { MainMenu } from "../main-menu";
 import { authKeys, useSignOut } from "@/features/auth/api/session";
@@ -205,7 +205,10 @@ export function Component() {
         <div className="h-1 print:hidden" aria-hidden />
       )}
       <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6 print:max-w-none print:p-0">
-        <Outlet />
+        {/* A screen whose texts' catalogue is still on its way waits here, inside the frame (src/i18n). */}
+        <Suspense fallback={<Spinner label={t("loading")} />}>
+          <Outlet />
+        </Suspense>
         <ScrollToTop />
       </main>
     </div>
