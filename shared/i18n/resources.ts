@@ -5,12 +5,16 @@
  * native reviewer should check); the pseudo-locale is made from English (pseudo.ts).
  *
  * Namespaces: `common` — the frame, sign-in pages and shared components (in the first script);
- * `yard` — the inspector's screens and defects; `reports` — the quality engineer's reports;
- * `heats` — heats, slabs, claims and tracing; `process` — causes, investigations, operating windows
- * and risk; `admin` — setup, users, import, tokens, mail and passwords; `server` — what the server
+ * `yard` — the inspector's screens and defects; `review` — the defect review queue and the
+ * catalogue editor; `reports` — the quality engineer's reports; `analysis` — control charts, the
+ * adjusted model and before/after; `heats` — heats and slabs; `claims` — claims and tracing;
+ * `process` — causes, investigations, operating windows and risk; `admin` — setup, users, import, tokens, mail and passwords; `server` — what the server
  * writes: error messages, e-mails, workbook headers.
  */
 import deAdmin from "./locales/de/admin.json";
+import deClaims from "./locales/de/claims.json";
+import deReview from "./locales/de/review.json";
+import deAnalysis from "./locales/de/analysis.json";
 import deCommon from "./locales/de/common.json";
 import deHeats from "./locales/de/heats.json";
 import deProcess from "./locales/de/process.json";
@@ -18,6 +22,9 @@ import deReports from "./locales/de/reports.json";
 import deServer from "./locales/de/server.json";
 import deYard from "./locales/de/yard.json";
 import enAdmin from "./locales/en/admin.json";
+import enClaims from "./locales/en/claims.json";
+import enReview from "./locales/en/review.json";
+import enAnalysis from "./locales/en/analysis.json";
 import enCommon from "./locales/en/common.json";
 import enHeats from "./locales/en/heats.json";
 import enProcess from "./locales/en/process.json";
@@ -27,16 +34,38 @@ import enYard from "./locales/en/yard.json";
 import type { Language } from "./languages";
 import { pseudoCatalogue } from "./pseudo";
 
-export const NAMESPACES = ["common", "yard", "reports", "heats", "process", "admin", "server"] as const;
+export const NAMESPACES = ["common", "yard", "review", "reports", "analysis", "heats", "claims", "process", "admin", "server"] as const;
 export type Namespace = (typeof NAMESPACES)[number];
 
 type Tree = { [key: string]: string | Tree };
 export type Catalogue = Record<Namespace, Tree>;
 
-export const en: Catalogue = { common: enCommon, yard: enYard, reports: enReports, heats: enHeats, process: enProcess, admin: enAdmin, server: enServer };
+export const en: Catalogue = {
+  common: enCommon,
+  yard: enYard,
+  review: enReview,
+  reports: enReports,
+  analysis: enAnalysis,
+  heats: enHeats,
+  claims: enClaims,
+  process: enProcess,
+  admin: enAdmin,
+  server: enServer,
+};
 
 /** German: every key of the English catalogue (checked by tests/server/i18n.test.ts). */
-export const de: Catalogue = { common: deCommon, yard: deYard, reports: deReports, heats: deHeats, process: deProcess, admin: deAdmin, server: deServer };
+export const de: Catalogue = {
+  common: deCommon,
+  yard: deYard,
+  review: deReview,
+  reports: deReports,
+  analysis: deAnalysis,
+  heats: deHeats,
+  claims: deClaims,
+  process: deProcess,
+  admin: deAdmin,
+  server: deServer,
+};
 
 export const resourcesFor = (language: Language): Catalogue => (language === "de" ? de : language === "en-XA" ? pseudo() : en);
 
