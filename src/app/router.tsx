@@ -5,7 +5,7 @@ import { makeLoader as makeFrameLoader } from "./routes/app-layout.loader";
 import { makeLoader as makeHeatsLoader } from "./routes/heats.loader";
 import { Spinner } from "@/components/ui/logo";
 import { RootError, RouteError } from "./routes/route-error";
-import { textsFor } from "@/i18n";
+import { i18n, textsFor } from "@/i18n";
 import { FRAME, IN_FRAME, OUTSIDE_FRAME, reportKindOf, type Screen } from "@shared/screens";
 
 /** A lazily loaded screen: its component, an optional loader built with the QueryClient, and its error view. */
@@ -85,7 +85,7 @@ const inFrame = (routes: RouteObject[]): RouteObject[] => routes.map((r) => ({ .
 function FirstLoad() {
   return (
     <div className="flex min-h-dvh items-center justify-center">
-      <Spinner label="Loading Strandsight" />
+      <Spinner label={i18n.t("loadingApp")} />
     </div>
   );
 }

@@ -58,7 +58,7 @@ describe("the screens in the person's language (the catalogues so far: sign-in, 
     // Every text in the frame: the menu's links and groups, the sign-out button, the roles, the demo band.
     const texts = await page.evaluate(() => {
       const out: string[] = [];
-      const roots = [document.querySelector("header"), document.querySelector('aside[aria-label="Demo data"]')];
+      const roots = [document.querySelector("header"), document.querySelector('[data-testid="demo-band"]')];
       for (const root of roots) {
         if (!root) continue;
         const walker = document.createTreeWalker(root, NodeFilter.SHOW_TEXT);

@@ -12,7 +12,7 @@ import { navFor } from "@/config/nav";
 import { MainMenu } from "../main-menu";
 import { authKeys, useSignOut } from "@/features/auth/api/session";
 import { plantKeys } from "@/features/plant/api/plant.queries";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { useAppOutbox, useAppUpdate, useOnline } from "../provider";
 
 // The frame's loader is in ./app-layout.loader.ts: the router holds it from the start.
@@ -26,6 +26,7 @@ const bandButton = "min-h-14 shrink-0";
  * refused. The outbox itself runs above the router (src/app/provider.tsx); "Send now" wakes it.
  */
 function OfflineBand({ logs }: { logs: boolean }) {
+  const { t } = useTranslation();
   const online = useOnline();
   const { snapshot, sendNow } = useAppOutbox();
   const location = useLocation();
@@ -38,19 +39,16 @@ function OfflineBand({ logs }: { logs: boolean }) {
 
   let status: EntryStatus = sending ? "sending" : entries.some((e) => e.state === "retrying") ? "retrying" : "waiting";
   let text: string | null;
-  const onTablet = `${plural(waiting, "entry", "entries")} waiting${photos ? ` (${plural(photos, "photo")})` : ""}`;
-  if (!online)
-    text = waiting
-      ? `${onTablet} on this tablet`
-      : logs
-        ? "Entries you save are kept on this tablet and sent when the network is back"
-        : "What you see was loaded earlier; changes need the network";
-  else if (snapshot?.signedOut) text = `${onTablet} — sign in again to send them`;
+  const onTablet = photos
+    ? t("band.waitingWithPhotos", { count: waiting, n: count(waiting), photos: t("band.photos", { count: photos, n: count(photos) }) })
+    : t("band.waiting", { count: waiting, n: count(waiting) });
+  if (!online) text = waiting ? t("band.onTablet", { waiting: onTablet }) : logs ? t("band.offlineLogs") : t("band.offlineReads");
+  else if (snapshot?.signedOut) text = t("band.signInToSend", { waiting: onTablet });
   else if (blocked === waiting)
     text = null; // the refusal below says it all
   // The last try failed (server unreachable, busy): say so rather than "sending".
-  else if (!sending && entries.every((e) => e.state === "retrying" || e.state === "blocked")) text = `${onTablet} — will try again`;
-  else text = `${onTablet} — sending…`;
+  else if (!sending && entries.every((e) => e.state === "retrying" || e.state === "blocked")) text = t("band.willRetry", { waiting: onTablet });
+  else text = t("band.sending", { waiting: onTablet });
   if (blocked) status = "blocked";
   if (snapshot?.signedOut) status = "signed-out";
   const tone = blocked ? "border-alarm-700 bg-alarm-100" : !online ? "border-brass-400 bg-[#fbf3df]" : "border-strand-600 bg-strand-50";
@@ -63,7 +61,7 @@ function OfflineBand({ logs }: { logs: boolean }) {
             <StatusMark status={status} label="" />
           ) : (
             // Read at a glance in glare: a dark tag, not a colour alone.
-            <span className="rounded bg-ink-900 px-2.5 py-1 text-sm font-bold uppercase tracking-wide text-white">Offline</span>
+            <span className="rounded bg-ink-900 px-2.5 py-1 text-sm font-bold uppercase tracking-wide text-white">{t("band.offline")}</span>
           )}
           {text ? (
             <span>
@@ -73,14 +71,14 @@ function OfflineBand({ logs }: { logs: boolean }) {
           ) : null}
           {blocked ? (
             <span className={`font-semibold text-alarm-700 ${text ? "basis-full text-sm sm:basis-auto" : "text-base"}`} data-testid="offline-band-blocked">
-              {text ? `${blocked} of them` : plural(blocked, "entry", "entries")} refused by the server — {blocked === 1 ? "it needs" : "they need"} fixing.
+              {text ? t("band.refusedOfThem", { count: blocked, n: count(blocked) }) : t("band.refused", { count: blocked, n: count(blocked) })}
             </span>
           ) : null}
           {snapshot?.storageError ? <p className="basis-full text-sm font-semibold text-alarm-700">{snapshot.storageError}</p> : null}
         </div>
         {blocked && location.pathname !== "/yard" ? (
           <Link to="/yard" className={`${bandButton} flex items-center rounded-md bg-strand-700 px-5 text-base font-semibold text-white hover:bg-strand-800`}>
-            Fix refused entries
+            {t("band.fixRefused")}
           </Link>
         ) : null}
         {snapshot?.signedOut ? (
@@ -88,11 +86,11 @@ function OfflineBand({ logs }: { logs: boolean }) {
             to={`/sign-in?next=${encodeURIComponent(location.pathname + location.search)}`}
             className={`${bandButton} flex items-center rounded-md border border-ink-300 bg-white px-5 text-base font-semibold text-ink-900 hover:bg-ink-50`}
           >
-            Sign in again
+            {t("band.signInAgain")}
           </Link>
         ) : waiting > blocked ? (
           <Button size="lg" variant={blocked ? "secondary" : "primary"} className={bandButton} disabled={sending} onClick={sendNow}>
-            {sending ? "Sending…" : "Send now"}
+            {sending ? t("band.sendingButton") : t("band.sendNow")}
           </Button>
         ) : null}
       </div>
@@ -102,16 +100,17 @@ function OfflineBand({ logs }: { logs: boolean }) {
 
 /** A new version is on the tablet: taken only when the person says so, never under a half-filled form. */
 function UpdateBand() {
+  const { t } = useTranslation();
   const update = useAppUpdate();
   if (!update.ready) return null;
   return (
     <div className="border-b-2 border-strand-600 bg-strand-50 print:hidden" data-testid="update-band">
       <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-4 gap-y-2 px-4 py-2">
         <p role="status" className="min-w-0 flex-1 text-base font-semibold text-ink-900">
-          A new version is ready — reload when the entry you are making is saved.
+          {t("band.newVersion")}
         </p>
         <Button size="lg" className={bandButton} onClick={update.apply}>
-          Reload
+          {t("band.reload")}
         </Button>
       </div>
     </div>
@@ -144,7 +143,7 @@ export function Component() {
     <div className="flex min-h-dvh flex-col">
       <header className="bg-ink-900 text-white print:hidden">
         <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-2">
-          <NavLink to="/" className="flex items-center gap-2 py-1" aria-label="Strandsight home">
+          <NavLink to="/" className="flex items-center gap-2 py-1" aria-label={t("shell.home")}>
             <Logo />
             <span className="text-lg font-bold tracking-tight">Strandsight</span>
           </NavLink>
@@ -175,20 +174,20 @@ export function Component() {
       <UpdateBand />
       {about.data?.demo ? (
         // A landmark of its own, so a screen reader's tour of the page's regions does not skip it.
-        <aside aria-label="Demo data" className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
+        <aside data-testid="demo-band" aria-label={t("shell.demoData")} className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
           {t("shell.demoBanner")}
         </aside>
       ) : null}
       {confirmSignOut ? (
         <div className="mx-auto w-full max-w-7xl px-4 pt-3" data-testid="sign-out-waiting">
-          <Notice tone="caution" title="Entries still waiting">
-            {plural(waiting, "entry", "entries")} of yours still wait on this tablet. They stay here and are sent when you sign in again on this tablet.
+          <Notice tone="caution" title={t("shell.stillWaitingTitle")}>
+            {t("shell.stillWaiting", { count: waiting, n: count(waiting) })}
             <span className="mt-2 flex flex-wrap gap-2">
               <Button variant="secondary" className="min-h-12" onClick={doSignOut}>
                 {t("shell.signOutAnyway")}
               </Button>
               <Button className="min-h-12" onClick={() => setConfirmSignOut(false)}>
-                Stay signed in
+                {t("shell.staySignedIn")}
               </Button>
             </span>
           </Notice>
@@ -196,7 +195,7 @@ export function Component() {
       ) : null}
       {signOut.isError ? (
         <div className="mx-auto w-full max-w-7xl px-4 pt-3">
-          <Notice tone="error">Could not reach the server to sign out: {signOut.error.message} Try again when the network is back.</Notice>
+          <Notice tone="error">{t("shell.signOutFailed", { message: signOut.error.message })}</Notice>
         </div>
       ) : null}
       {navigation.state === "loading" ? (
@@ -206,7 +205,7 @@ export function Component() {
       )}
       <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6 print:max-w-none print:p-0">
         {/* A screen whose texts' catalogue is still on its way waits here, inside the frame (src/i18n). */}
-        <Suspense fallback={<Spinner label={t("loading")} />}>
+        <Suspense fallback={<Spinner />}>
           <Outlet />
         </Suspense>
         <ScrollToTop />

@@ -1,4 +1,6 @@
 import { useState } from "react";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { isRouteErrorResponse, Link, useLocation, useNavigate, useRouteError } from "react-router";
 import { Button } from "@/components/ui/button";
 import { PageHeader } from "@/components/ui/card";
@@ -12,26 +14,26 @@ export function isChunkLoadError(err: unknown): boolean {
   return /dynamically imported module|Importing a module script failed|Unable to preload CSS|error loading dynamically imported module/i.test(message);
 }
 
-function describe(err: unknown, online: boolean): { title: string; text: string; chunk: boolean } {
+function describe(err: unknown, online: boolean, t: TFunction): { title: string; text: string; chunk: boolean } {
   const chunk = isChunkLoadError(err);
   if (chunk && !online) {
-    return { title: "This screen is not on this tablet yet", text: "You are offline. It opens once the network is back: tap Try again then.", chunk };
+    return { title: t("error.notOnTabletTitle"), text: t("error.notOnTablet"), chunk };
   }
-  if (chunk) return { title: "This screen could not be loaded", text: "The app may have been updated meanwhile. Try again reloads it.", chunk };
+  if (chunk) return { title: t("error.notLoadedTitle"), text: t("error.notLoaded"), chunk };
   if (err instanceof ApiError && err.status === 0) {
     return {
-      title: online ? "The server cannot be reached" : "You are offline",
-      text: "This screen needs the server. Entries saved in the slab yard wait on this tablet and are sent when the network is back; " + "try again then.",
+      title: online ? t("error.serverUnreachable") : t("error.offline"),
+      text: t("error.needsServer"),
       chunk,
     };
   }
   if (isRouteErrorResponse(err)) {
     const message = (err.data as { message?: string } | undefined)?.message;
-    if (err.status === 403) return { title: "Not open to your role", text: message ?? "Your role does not open this screen.", chunk };
-    if (err.status === 404) return { title: "Not found", text: message ?? "There is nothing at this address.", chunk };
+    if (err.status === 403) return { title: t("error.forbiddenTitle"), text: message ?? t("error.forbidden"), chunk };
+    if (err.status === 404) return { title: t("error.notFoundTitle"), text: message ?? t("error.notFound"), chunk };
   }
-  if (err instanceof ApiError) return { title: err.status === 404 ? "Not found" : "Something went wrong", text: err.message, chunk };
-  return { title: "Something went wrong", text: "The screen could not be shown. Try again, or go to your home screen.", chunk };
+  if (err instanceof ApiError) return { title: err.status === 404 ? t("error.notFoundTitle") : t("error.wrongTitle"), text: err.message, chunk };
+  return { title: t("error.wrongTitle"), text: t("error.wrong"), chunk };
 }
 
 const linkButton =
@@ -47,7 +49,8 @@ export function RouteError() {
   const navigate = useNavigate();
   const location = useLocation();
   const [note, setNote] = useState<string | null>(null);
-  const { title, text, chunk } = describe(err, online);
+  const { t } = useTranslation();
+  const { title, text, chunk } = describe(err, online, t);
 
   const tryAgain = () => {
     setNote(null);
@@ -56,7 +59,7 @@ export function RouteError() {
       window.location.reload();
       return;
     }
-    if (navigator.onLine === false) setNote("Still offline. Try again when the network is back.");
+    if (navigator.onLine === false) setNote(t("error.stillOffline"));
     // The same address again: its code, loader and drawing run anew.
     void navigate(location.pathname + location.search + location.hash, { replace: true });
   };
@@ -66,10 +69,10 @@ export function RouteError() {
       <PageHeader title={title} subtitle={text} />
       <div className="flex flex-wrap gap-3">
         <Button size="lg" onClick={tryAgain}>
-          Try again
+          {t("error.tryAgain")}
         </Button>
         <Link to="/" className={linkButton}>
-          Go to your home screen
+          {t("error.goHome")}
         </Link>
       </div>
       {note ? (

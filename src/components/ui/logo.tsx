@@ -1,3 +1,5 @@
+import { useTranslation } from "react-i18next";
+
 /** The Strandsight mark: a slab outline cut by the strand's centre line. */
 export function Logo({ className = "h-8 w-8" }: { className?: string }) {
   return (
@@ -9,11 +11,13 @@ export function Logo({ className = "h-8 w-8" }: { className?: string }) {
   );
 }
 
-export function Spinner({ label = "Loading" }: { label?: string }) {
+/** A quiet spinner with its words ("Loading…" in the language shown, unless a label is given). */
+export function Spinner({ label }: { label?: string }) {
+  const { t } = useTranslation();
   return (
     <div role="status" className="flex items-center gap-2 text-sm text-ink-600">
       <span className="h-4 w-4 animate-spin rounded-full border-2 border-ink-300 border-t-strand-700" aria-hidden />
-      {label}…
+      {label ? `${label}…` : t("loading")}
     </div>
   );
 }

@@ -1,5 +1,7 @@
-import { CONDITION_SOURCE_LABELS, type ConditionSource } from "@shared/variables";
-import { SEVERITY_LABELS, type Severity } from "@shared/domain";
+import { useTranslation } from "react-i18next";
+import type { ConditionSource } from "@shared/variables";
+import type { Severity } from "@shared/domain";
+import { useTerms } from "@/i18n/terms";
 
 /*
  * Small marks that carry a meaning by a word and a shape together, never by colour alone:
@@ -35,28 +37,32 @@ const SOURCE_LOOK: Record<ConditionSource, { shape: Shape; short: string; color:
 
 /** Where a resolved condition came from: given for the slab, the process samples, or the heat's value. */
 export function SourceMark({ source, full = false }: { source: ConditionSource | null | undefined; full?: boolean }) {
-  if (!source) return <span className="text-xs text-ink-500">no value</span>;
+  const { t } = useTranslation();
+  const { term } = useTerms();
+  if (!source) return <span className="text-xs text-ink-500">{t("marks.noValue")}</span>;
   const look = SOURCE_LOOK[source];
   return (
     <span
       className={`inline-flex items-center gap-1 whitespace-nowrap text-xs font-semibold ${look.color}`}
-      title={CONDITION_SOURCE_LABELS[source]}
+      title={term("conditionSources", source)}
       data-source={source}
     >
       <ShapeIcon shape={look.shape} />
-      {full ? CONDITION_SOURCE_LABELS[source] : look.short}
+      {full ? term("conditionSources", source) : t(`marks.sourceShort.${look.short}`)}
     </span>
   );
 }
 
 /** The key to the source marks, for under a table. */
 export function SourceLegend() {
+  const { t } = useTranslation();
+  const { term } = useTerms();
   return (
     <p className="flex flex-wrap items-center gap-x-4 gap-y-1 text-xs text-ink-600">
-      <span className="font-semibold">Source of each value:</span>
+      <span className="font-semibold">{t("marks.sourceLegend")}</span>
       {(Object.keys(SOURCE_LOOK) as ConditionSource[]).map((s) => (
         <span key={s} className="inline-flex items-center gap-1">
-          <SourceMark source={s} /> = {CONDITION_SOURCE_LABELS[s]}
+          <SourceMark source={s} /> = {term("conditionSources", s)}
         </span>
       ))}
     </p>
@@ -73,22 +79,24 @@ const SEVERITY_LOOK: Record<Severity, { shape: Shape; color: string }> = {
 export function SeverityMark({ severity, large = false }: { severity: number; large?: boolean }) {
   const s = (severity in SEVERITY_LOOK ? severity : 1) as Severity;
   const look = SEVERITY_LOOK[s];
+  const { term } = useTerms();
   return (
     <span className={`inline-flex items-center gap-1.5 whitespace-nowrap font-semibold ${large ? "text-lg" : "text-sm"} ${look.color}`} data-severity={s}>
       <ShapeIcon shape={look.shape} className={large ? "h-5 w-5" : "h-3.5 w-3.5"} />
-      {SEVERITY_LABELS[s]} ({s})
+      {term("severities", s)} ({s})
     </span>
   );
 }
 
 /** A slab cut across a ladle change: mixed steel, more inclusions. */
 export function TransitionMark({ transition }: { transition: boolean }) {
+  const { t } = useTranslation();
   return transition ? (
-    <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs font-semibold text-ember-700" title="Cut across a ladle change (mixed steel)">
-      <ShapeIcon shape="diamond" /> transition
+    <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs font-semibold text-ember-700" title={t("marks.transitionTitle")}>
+      <ShapeIcon shape="diamond" /> {t("marks.transition")}
     </span>
   ) : (
-    <span className="text-xs text-ink-500">no</span>
+    <span className="text-xs text-ink-500">{t("marks.no")}</span>
   );
 }
 
@@ -144,16 +152,16 @@ export function SeverityGlyph({
 
 export type EntryStatus = "waiting" | "sending" | "retrying" | "blocked" | "signed-out" | "sent" | "photos-waiting" | "reviewed" | "rejected";
 
-const STATUS_LOOK: Record<EntryStatus, { label: string; color: string }> = {
-  waiting: { label: "Waiting on this tablet", color: "text-brass-700" },
-  sending: { label: "Sending…", color: "text-strand-700" },
-  retrying: { label: "Waiting — will try again", color: "text-brass-700" },
-  "signed-out": { label: "Waiting — sign in to send", color: "text-brass-700" },
-  blocked: { label: "Refused — needs fixing", color: "text-alarm-700" },
-  "photos-waiting": { label: "Sent — photos waiting", color: "text-brass-700" },
-  sent: { label: "Sent", color: "text-ink-700" },
-  reviewed: { label: "Reviewed", color: "text-ok-700" },
-  rejected: { label: "Reviewed — rejected", color: "text-ink-700" },
+const STATUS_LOOK: Record<EntryStatus, { color: string }> = {
+  waiting: { color: "text-brass-700" },
+  sending: { color: "text-strand-700" },
+  retrying: { color: "text-brass-700" },
+  "signed-out": { color: "text-brass-700" },
+  blocked: { color: "text-alarm-700" },
+  "photos-waiting": { color: "text-brass-700" },
+  sent: { color: "text-ink-700" },
+  reviewed: { color: "text-ok-700" },
+  rejected: { color: "text-ink-700" },
 };
 
 function StatusIcon({ status }: { status: EntryStatus }) {
@@ -192,19 +200,21 @@ function StatusIcon({ status }: { status: EntryStatus }) {
 /** Where an entry stands: on the tablet, on its way, on the server, reviewed — a shape and a word. */
 export function StatusMark({ status, label }: { status: EntryStatus; label?: string }) {
   const look = STATUS_LOOK[status];
+  const { t } = useTranslation();
   return (
     <span className={`inline-flex items-center gap-1.5 text-sm font-semibold ${label ? "" : "whitespace-nowrap"} ${look.color}`} data-status={status}>
       <StatusIcon status={status} />
-      {label ?? look.label}
+      {label ?? t(`marks.status.${status}`)}
     </span>
   );
 }
 
 /** In use or retired (kept for the record, not offered for new entries). */
 export function ActiveMark({ active }: { active: boolean }) {
+  const { t } = useTranslation();
   return active ? (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-sm font-semibold text-ok-700" data-active="true">
-      <ShapeIcon shape="circle" /> in use
+      <ShapeIcon shape="circle" /> {t("marks.inUse")}
     </span>
   ) : (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-sm font-semibold text-ink-600" data-active="false">
@@ -212,7 +222,7 @@ export function ActiveMark({ active }: { active: boolean }) {
         <circle cx="6" cy="6" r="4.4" fill="none" stroke="currentColor" strokeWidth="1.6" />
         <path d="M2.9 9.1 9.1 2.9" stroke="currentColor" strokeWidth="1.6" />
       </svg>
-      retired
+      {t("marks.retired")}
     </span>
   );
 }
