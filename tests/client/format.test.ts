@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { count, date, dateTime, num, pct, pctRange, plural, pValue, sig, time } from "../../src/lib/format";
+import { bytes, count, date, dateTime, formatLocale, num, pct, pctRange, plural, pValue, setFormatLocale, sig, time } from "../../src/lib/format";
 
 /**
  * The screens' number and date texts come from formatters made once (src/lib/format.ts); they must
@@ -48,5 +48,31 @@ describe("formatting", () => {
       expect(time(iso)).toBe(d.toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit" }));
     }
     expect(date("not a date")).toBe("—");
+  });
+
+  it("when the person reads German, then numbers take the decimal comma and the point between thousands, dates German month names; back in English, as before", () => {
+    try {
+      setFormatLocale("de");
+      expect(formatLocale()).toBe("de-DE");
+      expect(num(1234.5, 1)).toBe("1.234,5");
+      expect(count(15852)).toBe("15.852");
+      expect(pct(0.1247, 2)).toBe("12,47 %");
+      expect(pctRange(0.0499, 0.0571)).toBe("4,99–5,71 %");
+      expect(sig(1.23456)).toBe("1,23");
+      expect(pValue(0.04321)).toBe("0,0432");
+      expect(bytes(1536)).toBe("2 kB");
+      expect(bytes(5 * 1024 * 1024 + 100_000)).toBe("5,1 MB");
+      // Intl's German: "3. Dez. 2026" (the month abbreviated with a point), 24-hour clock.
+      expect(date("2026-12-03T10:00:00Z")).toBe(
+        new Date("2026-12-03T10:00:00Z").toLocaleDateString("de-DE", { day: "numeric", month: "short", year: "numeric" }),
+      );
+      expect(date("2026-12-03T10:00:00Z")).toMatch(/^3\. Dez\.? 2026$/);
+      for (const v of [0.5, -1234.5678, 123456789.123])
+        expect(num(v, 2)).toBe(v.toLocaleString("de-DE", { minimumFractionDigits: 2, maximumFractionDigits: 2 }));
+    } finally {
+      setFormatLocale("en");
+    }
+    expect(formatLocale()).toBe("en-GB");
+    expect(num(1234.5, 1)).toBe("1,234.5");
   });
 });
