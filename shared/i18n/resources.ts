@@ -9,7 +9,8 @@
  * catalogue editor; `reports` — the quality engineer's reports; `analysis` — control charts, the
  * adjusted model and before/after; `heats` — heats and slabs; `claims` — claims and tracing;
  * `process` — causes, investigations, operating windows and risk; `admin` — setup, users, import, tokens, mail and passwords; `server` — what the server
- * writes: error messages, e-mails, workbook headers.
+ * writes: error messages, e-mails, workbook headers; `schema` — the messages written into the shared
+ * schemas (shared/api), keyed by their English text (schema-messages.ts), for forms and refusals alike.
  */
 import deAdmin from "./locales/de/admin.json";
 import deClaims from "./locales/de/claims.json";
@@ -19,6 +20,7 @@ import deCommon from "./locales/de/common.json";
 import deHeats from "./locales/de/heats.json";
 import deProcess from "./locales/de/process.json";
 import deReports from "./locales/de/reports.json";
+import deSchema from "./locales/de/schema.json";
 import deServer from "./locales/de/server.json";
 import deYard from "./locales/de/yard.json";
 import enAdmin from "./locales/en/admin.json";
@@ -29,12 +31,13 @@ import enCommon from "./locales/en/common.json";
 import enHeats from "./locales/en/heats.json";
 import enProcess from "./locales/en/process.json";
 import enReports from "./locales/en/reports.json";
+import enSchema from "./locales/en/schema.json";
 import enServer from "./locales/en/server.json";
 import enYard from "./locales/en/yard.json";
 import type { Language } from "./languages";
 import { pseudoCatalogue } from "./pseudo";
 
-export const NAMESPACES = ["common", "yard", "review", "reports", "analysis", "heats", "claims", "process", "admin", "server"] as const;
+export const NAMESPACES = ["common", "yard", "review", "reports", "analysis", "heats", "claims", "process", "admin", "server", "schema"] as const;
 export type Namespace = (typeof NAMESPACES)[number];
 
 type Tree = { [key: string]: string | Tree };
@@ -51,6 +54,7 @@ export const en: Catalogue = {
   process: enProcess,
   admin: enAdmin,
   server: enServer,
+  schema: enSchema,
 };
 
 /** German: every key of the English catalogue (checked by tests/server/i18n.test.ts). */
@@ -65,6 +69,7 @@ export const de: Catalogue = {
   process: deProcess,
   admin: deAdmin,
   server: deServer,
+  schema: deSchema,
 };
 
 export const resourcesFor = (language: Language): Catalogue => (language === "de" ? de : language === "en-XA" ? pseudo() : en);

@@ -3,6 +3,7 @@ import { languageFromBrowser, languageOf } from "../../shared/i18n/languages";
 import { isPseudo, pseudoText } from "../../shared/i18n/pseudo";
 import { de, en, resourcesFor } from "../../shared/i18n/resources";
 import { translator } from "../../server/lib/i18n";
+import { schemaMessage, type Translate } from "../../shared/i18n/schema-messages";
 
 /** Texts German writes as English does (a word both use, a unit, a name). */
 const SAME_IN_GERMAN = ["common.roles.admin", "common.nav.items./import", "common.terms.variables.al_pct.label"];
@@ -53,5 +54,28 @@ describe("the catalogues", () => {
     expect(translator(null)("roles.quality")).toBe("Quality engineer");
     expect(translator("de")("roles.quality")).toBe("Qualitätsingenieur");
     expect(translator("en-XA")("nav.items./heats")).toBe("⟦Ħḗȧŧş ··⟧");
+  });
+
+  it("when a shared schema carries a message of its own, then the schema catalogue has it (English as the key) with its German, and the translator finds it", async () => {
+    const { readFileSync, readdirSync } = await import("node:fs");
+    const files = readdirSync("shared", { recursive: true, encoding: "utf8" }).filter((f) => f.endsWith(".ts") && !f.startsWith("i18n"));
+    const found = new Set<string>();
+    for (const f of files) {
+      const source = readFileSync(`shared/${f}`, "utf8");
+      for (const m of source.matchAll(/(?:error|message)\s*:\s*"((?:[^"\\]|\\.)+)"/g)) found.add(m[1]!);
+      for (const m of source.matchAll(/\.(?:min|max|length|regex|refine|int|positive|nonnegative|email|url|gte|lte|gt|lt)\([^()"]*?,\s*"((?:[^"\\]|\\.)+)"\)/g))
+        found.add(m[1]!);
+    }
+    expect(found.size).toBeGreaterThan(50);
+    const catalogued = new Set(Object.keys(en.schema));
+    expect([...found].filter((m) => !catalogued.has(m))).toEqual([]);
+    const t = translator("de") as unknown as Translate;
+    expect(schemaMessage(t, "Give the slab id.")).toBe("Geben Sie die Brammennummer an.");
+    expect(schemaMessage(t, "Unknown condition: choose one of the casting conditions, derived values or chemistry of the list.")).toMatch(
+      /^Unbekannte Größe: /,
+    );
+    expect(schemaMessage(translator("en") as unknown as Translate, "Give the slab id.")).toBe("Give the slab id.");
+    // A message made with values is not in the catalogue: shown as written.
+    expect(schemaMessage(t, "At most 7 rows.")).toBe("At most 7 rows.");
   });
 });
