@@ -28,8 +28,8 @@ describe("the screens in the person's language (the catalogues so far: sign-in, 
     await page.getByLabel("Language").selectOption("de");
     await page.getByRole("button", { name: "Abmelden" }).waitFor();
     const nav = page.getByRole("navigation", { name: "Hauptmenü" });
-    expect(await nav.getByRole("link", { includeHidden: true }).allTextContents()).toEqual(["Brammenplatz"]);
-    expect(await page.getByText("Brammenplatz-Prüfer").count()).toBe(1);
+    expect(await nav.getByRole("link", { includeHidden: true }).allTextContents()).toEqual(["Brammenlager"]);
+    expect(await page.getByText("Brammenlager-Prüfer").count()).toBe(1);
     expect(env.server.db.$client.prepare("select language from user where email = 'inspector@demo.test'").pluck().get()).toBe("de");
     await page.waitForLoadState("networkidle");
     await snap(page, "languages-yard-de-tablet");
