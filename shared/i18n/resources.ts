@@ -10,7 +10,8 @@
  * adjusted model and before/after; `heats` — heats and slabs; `claims` — claims and tracing;
  * `process` — causes, investigations, operating windows and risk; `admin` — setup, users, import, tokens, mail and passwords; `server` — what the server
  * writes: error messages, e-mails, workbook headers; `schema` — the messages written into the shared
- * schemas (shared/api), keyed by their English text (schema-messages.ts), for forms and refusals alike.
+ * schemas (shared/api), keyed by their English text (schema-messages.ts), for forms and refusals alike;
+ * `slab` — the slab drawing and the label scanner, on the inspector's screens and the slab and heat pages.
  */
 import deAdmin from "./locales/de/admin.json";
 import deClaims from "./locales/de/claims.json";
@@ -21,6 +22,7 @@ import deHeats from "./locales/de/heats.json";
 import deProcess from "./locales/de/process.json";
 import deReports from "./locales/de/reports.json";
 import deSchema from "./locales/de/schema.json";
+import deSlab from "./locales/de/slab.json";
 import deServer from "./locales/de/server.json";
 import deYard from "./locales/de/yard.json";
 import enAdmin from "./locales/en/admin.json";
@@ -32,12 +34,13 @@ import enHeats from "./locales/en/heats.json";
 import enProcess from "./locales/en/process.json";
 import enReports from "./locales/en/reports.json";
 import enSchema from "./locales/en/schema.json";
+import enSlab from "./locales/en/slab.json";
 import enServer from "./locales/en/server.json";
 import enYard from "./locales/en/yard.json";
 import type { Language } from "./languages";
 import { pseudoCatalogue } from "./pseudo";
 
-export const NAMESPACES = ["common", "yard", "review", "reports", "analysis", "heats", "claims", "process", "admin", "server", "schema"] as const;
+export const NAMESPACES = ["common", "yard", "review", "reports", "analysis", "heats", "claims", "process", "admin", "server", "schema", "slab"] as const;
 export type Namespace = (typeof NAMESPACES)[number];
 
 type Tree = { [key: string]: string | Tree };
@@ -55,6 +58,7 @@ export const en: Catalogue = {
   admin: enAdmin,
   server: enServer,
   schema: enSchema,
+  slab: enSlab,
 };
 
 /** German: every key of the English catalogue (checked by tests/server/i18n.test.ts). */
@@ -70,6 +74,7 @@ export const de: Catalogue = {
   admin: deAdmin,
   server: deServer,
   schema: deSchema,
+  slab: deSlab,
 };
 
 export const resourcesFor = (language: Language): Catalogue => (language === "de" ? de : language === "en-XA" ? pseudo() : en);

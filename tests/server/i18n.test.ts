@@ -65,6 +65,8 @@ describe("the catalogues", () => {
       for (const m of source.matchAll(/(?:error|message)\s*:\s*"((?:[^"\\]|\\.)+)"/g)) found.add(m[1]!);
       for (const m of source.matchAll(/\.(?:min|max|length|regex|refine|int|positive|nonnegative|email|url|gte|lte|gt|lt)\([^()"]*?,\s*"((?:[^"\\]|\\.)+)"\)/g))
         found.add(m[1]!);
+      // A message given as a call's last argument: .refine(check, "…"), .min(0, "…").
+      for (const m of source.matchAll(/,\s*"([A-Za-z][^"\n]*[.?!])"\s*\)/g)) found.add(m[1]!);
     }
     expect(found.size).toBeGreaterThan(50);
     const catalogued = new Set(Object.keys(en.schema));

@@ -1,4 +1,5 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { useSearchParams, type LoaderFunctionArgs } from "react-router";
 import { MAIL_KINDS, MAIL_STATUSES } from "@shared/api/mail";
 import { Button } from "@/components/ui/button";
@@ -6,8 +7,8 @@ import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { outboxKeys, type OutboxParams } from "@/features/mail/api/outbox.queries";
-import { kindLabel, MAIL_STATUS_LABELS, OutboxTable } from "@/features/mail/components/outbox-view";
-import { plural } from "@/lib/format";
+import { kindLabel, mailStatusLabel, OutboxTable } from "@/features/mail/components/outbox-view";
+import { count } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -32,6 +33,7 @@ export function makeLoader(qc: QueryClient) {
 const selectClass = "min-h-11 rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const [sp, setSp] = useSearchParams();
   const params = paramsOf(sp);
   const page = useQuery(outboxKeys.page(params));
@@ -47,44 +49,43 @@ export function Component() {
   const local = d ? /local/i.test(d.transport) || d.items.some((m) => m.received) : false;
   return (
     <div className="space-y-5">
-      <PageHeader title="Mail outbox" subtitle="Every message the product sends, from the queue to the mail server; failed ones can be sent again." />
+      <PageHeader title={t("outbox.title")} subtitle={t("outbox.subtitle")} />
       {d ? (
-        <Notice title="Mail goes to">
+        <Notice title={t("outbox.goesTo")}>
           <span data-testid="mail-transport">{d.transport}</span>
         </Notice>
       ) : null}
       <Card>
-        <form role="search" aria-label="Outbox filters" className="flex flex-wrap items-end gap-3" onSubmit={(e) => e.preventDefault()}>
+        <form role="search" aria-label={t("outbox.filters")} className="flex flex-wrap items-end gap-3" onSubmit={(e) => e.preventDefault()}>
           <label className="flex flex-col gap-1">
-            <span className="text-sm font-semibold text-ink-800">Status</span>
+            <span className="text-sm font-semibold text-ink-800">{t("outbox.status")}</span>
             <select
               value={params.status ?? ""}
               onChange={(e) => set("status", e.target.value || undefined)}
               className={selectClass}
               data-testid="outbox-status"
             >
-              <option value="">Every status</option>
+              <option value="">{t("outbox.everyStatus")}</option>
               {MAIL_STATUSES.map((s) => (
                 <option key={s} value={s}>
-                  {MAIL_STATUS_LABELS[s]}
-                  {d?.counts[s] !== undefined ? ` (${d.counts[s]})` : ""}
+                  {d?.counts[s] !== undefined ? t("outbox.withCount", { label: mailStatusLabel(t, s), n: count(d.counts[s]) }) : mailStatusLabel(t, s)}
                 </option>
               ))}
             </select>
           </label>
           <label className="flex flex-col gap-1">
-            <span className="text-sm font-semibold text-ink-800">Kind</span>
+            <span className="text-sm font-semibold text-ink-800">{t("outbox.kind")}</span>
             <select value={params.kind ?? ""} onChange={(e) => set("kind", e.target.value || undefined)} className={selectClass}>
-              <option value="">Every kind</option>
+              <option value="">{t("outbox.everyKind")}</option>
               {MAIL_KINDS.map((k) => (
                 <option key={k} value={k}>
-                  {kindLabel(k)}
+                  {kindLabel(t, k)}
                 </option>
               ))}
             </select>
           </label>
           <label className="flex flex-col gap-1">
-            <span className="text-sm font-semibold text-ink-800">Recipient contains</span>
+            <span className="text-sm font-semibold text-ink-800">{t("outbox.recipient")}</span>
             <input
               defaultValue={params.to ?? ""}
               onBlur={(e) => set("to", e.target.value.trim() || undefined)}
@@ -94,14 +95,14 @@ export function Component() {
           </label>
           {d ? (
             <p className="ml-auto text-sm text-ink-700" data-testid="outbox-total">
-              {plural(d.total, "message")}
+              {t("outbox.messages", { count: d.total, n: count(d.total) })}
             </p>
           ) : null}
         </form>
       </Card>
       <Card bodyClassName="px-2 py-3 md:p-4">
         {page.isPending ? (
-          <Spinner label="Loading the outbox" />
+          <Spinner label={t("outbox.loading")} />
         ) : page.isError ? (
           <Notice tone="error">{page.error.message}</Notice>
         ) : (
@@ -110,13 +111,11 @@ export function Component() {
         {d && pages > 1 ? (
           <div className="mt-3 flex items-center gap-2">
             <Button variant="secondary" disabled={d.page <= 1} onClick={() => set("page", String(d.page - 1))}>
-              Previous
+              {t("outbox.previous")}
             </Button>
-            <span className="text-sm">
-              Page {d.page} of {pages}
-            </span>
+            <span className="text-sm">{t("outbox.page", { page: count(d.page), pages: count(pages) })}</span>
             <Button variant="secondary" disabled={d.page >= pages} onClick={() => set("page", String(d.page + 1))}>
-              Next
+              {t("outbox.next")}
             </Button>
           </div>
         ) : null}

@@ -1,5 +1,6 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { signInSettingsSchema, type AdminSignIn, type SignInSettings } from "@shared/api/sign-in-admin";
 import type { Role } from "@shared/roles";
 import { MutationError } from "@/components/mutation-form";
@@ -9,6 +10,7 @@ import { TextField } from "@/components/ui/field";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { signInKeys, useSaveSignInSettings } from "@/features/users/api/sign-in.queries";
+import { formMessage } from "@/features/users/components/form-messages";
 import { RolePicker } from "@/features/users/components/role-picker";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
@@ -22,13 +24,11 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const settings = useQuery(signInKeys.settings());
   return (
     <div className="space-y-5">
-      <PageHeader
-        title="Sign-in"
-        subtitle="How people sign in: through the plant's identity provider, with their roles taken from its groups, and who may still use a Strandsight password."
-      />
+      <PageHeader title={t("signInAdmin.title")} subtitle={t("signInAdmin.subtitle")} />
       {settings.isPending ? (
         <Spinner />
       ) : settings.isError ? (
@@ -36,52 +36,43 @@ export function Component() {
       ) : (
         <SignInSettingsForm key={JSON.stringify(settings.data)} data={settings.data} />
       )}
-      <p className="text-xs text-ink-600">
-        Every change here is recorded in the audit log with your name, the time and the settings before and after; so is every role a person gets from their
-        groups at sign-in.
-      </p>
+      <p className="text-xs text-ink-600">{t("signInAdmin.audited")}</p>
     </div>
   );
 }
 
 function ProviderCard({ provider }: { provider: AdminSignIn["provider"] }) {
+  const { t } = useTranslation("admin");
   return (
-    <Card title="Identity provider">
+    <Card title={t("signInAdmin.provider.title")}>
       {provider ? (
         <div className="space-y-3">
           <dl className="grid gap-3 sm:grid-cols-2">
-            <Fact label="Issuer">
+            <Fact label={t("signInAdmin.provider.issuer")}>
               <span className="break-all font-mono text-sm">{provider.issuer}</span>
             </Fact>
-            <Fact label="Button">Sign in with {provider.name}</Fact>
-            <Fact label="Client id">
+            <Fact label={t("signInAdmin.provider.button")}>{t("signInAdmin.provider.buttonText", { name: provider.name })}</Fact>
+            <Fact label={t("signInAdmin.provider.clientId")}>
               <span className="break-all font-mono text-sm">{provider.clientId}</span>
             </Fact>
-            <Fact label="Group claim">
+            <Fact label={t("signInAdmin.provider.groupClaim")}>
               <span className="font-mono text-sm">{provider.groupClaim}</span>
             </Fact>
-            <Fact label="Redirect address to register at the provider">
+            <Fact label={t("signInAdmin.provider.redirect")}>
               <span className="break-all font-mono text-sm">{provider.redirectUrl}</span>
             </Fact>
           </dl>
-          {provider.local ? (
-            <Notice tone="caution">
-              This is the local fake identity provider for trying things out: anyone who reaches it can sign in as one of its invented people. Set OIDC_ISSUER
-              to the plant's provider before real use.
-            </Notice>
-          ) : null}
+          {provider.local ? <Notice tone="caution">{t("signInAdmin.provider.local")}</Notice> : null}
         </div>
       ) : (
-        <p className="text-sm text-ink-700">
-          No identity provider is set up: everyone signs in with a Strandsight password. The server's administrator sets one up with OIDC_ISSUER, OIDC_CLIENT_ID
-          and OIDC_CLIENT_SECRET (see the README); the mapping below can be prepared already.
-        </p>
+        <p className="text-sm text-ink-700">{t("signInAdmin.provider.none")}</p>
       )}
     </Card>
   );
 }
 
 function SignInSettingsForm({ data }: { data: AdminSignIn }) {
+  const { t } = useTranslation("admin");
   const save = useSaveSignInSettings();
   const [rows, setRows] = useState<SignInSettings["groupRoles"]>(data.groupRoles);
   const [localPasswords, setLocalPasswords] = useState<SignInSettings["localPasswords"]>(data.localPasswords);
@@ -101,46 +92,41 @@ function SignInSettingsForm({ data }: { data: AdminSignIn }) {
   return (
     <div className="space-y-5">
       <ProviderCard provider={data.provider} />
-      <Card title="Groups and roles">
-        <p className="mb-3 text-sm text-ink-700">
-          A person gets every role mapped to any of their groups, at each sign-in through the identity provider. Someone in no mapped group gets no role and
-          sees only a note to ask an administrator. A change here applies from each person's next sign-in.
-        </p>
-        {rows.length === 0 ? <p className="mb-3 text-sm text-ink-600">No group is mapped yet.</p> : null}
+      <Card title={t("signInAdmin.groups.title")}>
+        <p className="mb-3 text-sm text-ink-700">{t("signInAdmin.groups.intro")}</p>
+        {rows.length === 0 ? <p className="mb-3 text-sm text-ink-600">{t("signInAdmin.groups.none")}</p> : null}
         <ul className="space-y-4">
           {rows.map((r, i) => (
-            <li key={i} className="rounded-md border border-ink-200 p-3" aria-label={`Group ${i + 1}`}>
+            <li key={i} className="rounded-md border border-ink-200 p-3" aria-label={t("signInAdmin.groups.group", { n: i + 1 })}>
               <div className="flex flex-wrap items-end gap-3">
                 <div className="min-w-56 flex-1">
-                  <TextField label="Group, as the provider sends it" value={r.group} onChange={(e) => setRow(i, { group: e.target.value })} />
+                  <TextField label={t("signInAdmin.groups.groupName")} value={r.group} onChange={(e) => setRow(i, { group: e.target.value })} />
                 </div>
                 <Button variant="ghost" onClick={() => setRows((rs) => rs.filter((_, j) => j !== i))}>
-                  Remove
+                  {t("signInAdmin.groups.remove")}
                 </Button>
               </div>
               <div className="mt-2">
                 <RolePicker name={`roles-${i}`} value={r.roles} onChange={(roles: Role[]) => setRow(i, { roles })} />
               </div>
-              {r.roles.length === 0 ? <p className="mt-1 text-xs text-ink-600">No role ticked: this group gives nothing.</p> : null}
+              {r.roles.length === 0 ? <p className="mt-1 text-xs text-ink-600">{t("signInAdmin.groups.noRole")}</p> : null}
             </li>
           ))}
         </ul>
         <Button variant="secondary" className="mt-3" onClick={() => setRows((rs) => [...rs, { group: "", roles: [] }])}>
-          Add a group
+          {t("signInAdmin.groups.add")}
         </Button>
       </Card>
-      <Card title="Passwords">
+      <Card title={t("signInAdmin.passwords.title")}>
         <fieldset className="space-y-2">
-          <legend className="mb-2 text-sm text-ink-700">Who may still sign in with a Strandsight password?</legend>
+          <legend className="mb-2 text-sm text-ink-700">{t("signInAdmin.passwords.legend")}</legend>
           {(
             [
-              ["everyone", "Everyone with a password", "Local accounts sign in as before, beside the identity provider."],
+              ["everyone", t("signInAdmin.passwords.everyone"), t("signInAdmin.passwords.everyoneHint")],
               [
                 "administrators",
-                "Administrators only",
-                `Everyone else must use the identity provider. Keep at least one administrator with a password for a day the provider is down.${
-                  data.provider ? "" : " Possible only once an identity provider is set up."
-                }`,
+                t("signInAdmin.passwords.administrators"),
+                data.provider ? t("signInAdmin.passwords.administratorsHint") : t("signInAdmin.passwords.administratorsHintNoProvider"),
               ],
             ] as const
           ).map(([value, label, hint]) => (
@@ -161,11 +147,11 @@ function SignInSettingsForm({ data }: { data: AdminSignIn }) {
           ))}
         </fieldset>
       </Card>
-      {problem ? <Notice tone="error">{problem}</Notice> : null}
-      <MutationError mutation={save} title="Not saved" />
-      {save.isSuccess ? <Notice tone="ok">Saved. The mapping applies from each person's next sign-in.</Notice> : null}
+      {problem ? <Notice tone="error">{formMessage(t, problem)}</Notice> : null}
+      <MutationError mutation={save} title={t("signInAdmin.notSaved")} />
+      {save.isSuccess ? <Notice tone="ok">{t("signInAdmin.saved")}</Notice> : null}
       <Button size="lg" onClick={onSave} disabled={save.isPending}>
-        {save.isPending ? "Saving…" : "Save sign-in settings"}
+        {save.isPending ? t("signInAdmin.saving") : t("signInAdmin.save")}
       </Button>
     </div>
   );

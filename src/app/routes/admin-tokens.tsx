@@ -1,5 +1,6 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import type { ApiToken } from "@shared/api/tokens";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -18,23 +19,21 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const tokens = useQuery(tokenKeys.list());
   const [created, setCreated] = useState<(ApiToken & { token: string }) | null>(null);
   return (
     <div className="space-y-5">
-      <PageHeader
-        title="API tokens"
-        subtitle="Tokens let the plant's level-2 system send heats, slabs and process samples (and, when ticked, the rolling mill's products) to Strandsight without a person signing in. Each token sends only the kinds ticked when it was made."
-      />
+      <PageHeader title={t("tokens.title")} subtitle={t("tokens.subtitle")} />
       <div className="grid gap-5 lg:grid-cols-[minmax(0,1fr)_minmax(0,2fr)]">
-        <Card title="New token">
+        <Card title={t("tokens.newToken")}>
           {created ? <TokenReveal created={created} onDone={() => setCreated(null)} /> : <CreateTokenForm onCreated={setCreated} />}
         </Card>
-        <Card title="Tokens">
+        <Card title={t("tokens.tokens")}>
           {tokens.isPending ? <Spinner /> : tokens.isError ? <Notice tone="error">{tokens.error.message}</Notice> : <TokensTable tokens={tokens.data.tokens} />}
         </Card>
       </div>
-      <p className="text-xs text-ink-600">Creating and revoking tokens is recorded in the audit log with your name and the time.</p>
+      <p className="text-xs text-ink-600">{t("tokens.audited")}</p>
     </div>
   );
 }

@@ -1,5 +1,6 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -20,18 +21,19 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const [creating, setCreating] = useState(false);
   const users = useQuery(userKeys.list());
   const me = useQuery(authKeys.me());
   return (
     <div className="space-y-5">
       <PageHeader
-        title="Users and roles"
-        subtitle="Who may do what. A deactivated user is signed out at once and cannot sign in."
-        actions={!creating ? <Button onClick={() => setCreating(true)}>New user</Button> : null}
+        title={t("users.title")}
+        subtitle={t("users.subtitle")}
+        actions={!creating ? <Button onClick={() => setCreating(true)}>{t("users.newUser")}</Button> : null}
       />
       {creating ? (
-        <Card title="New user">
+        <Card title={t("users.newUser")}>
           <CreateUserForm onDone={() => setCreating(false)} />
         </Card>
       ) : null}

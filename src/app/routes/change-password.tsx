@@ -1,4 +1,5 @@
 import { useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { useNavigate, useSearchParams, type LoaderFunctionArgs } from "react-router";
 import { Button } from "@/components/ui/button";
 import { Logo } from "@/components/ui/logo";
@@ -23,6 +24,7 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const qc = useQueryClient();
   const { data: me } = useQuery(authKeys.me());
   const navigate = useNavigate();
@@ -48,11 +50,10 @@ export function Component() {
         <span className="text-2xl font-bold tracking-tight text-ink-900">Strandsight</span>
       </div>
       <section className="w-full max-w-md space-y-5 rounded-lg border border-ink-200 bg-white p-6 shadow-sm" data-testid="change-password">
-        <h1 className="text-2xl font-bold text-ink-900">{first ? "Choose your own password" : "Change your password"}</h1>
+        <h1 className="text-2xl font-bold text-ink-900">{first ? t("passwords.change.titleFirst") : t("passwords.change.title")}</h1>
         {first ? (
-          <Notice tone="info" title={`Welcome, ${me.name}`}>
-            An administrator set the password you signed in with. Choose one that only you know; after that Strandsight opens as usual, and the first password
-            no longer works.
+          <Notice tone="info" title={t("passwords.change.welcome", { name: me.name })}>
+            {t("passwords.change.welcomeText")}
           </Notice>
         ) : null}
         <OwnPasswordForm email={me.email} firstPassword={first} onChanged={afterChange} />
@@ -63,7 +64,7 @@ export function Component() {
         disabled={signOut.isPending}
         onClick={() => signOut.mutate(undefined, { onSuccess: () => void navigate("/sign-in", { replace: true }) })}
       >
-        {signOut.isPending ? "Signing out…" : "Sign out"}
+        {signOut.isPending ? t("passwords.change.signingOut") : t("passwords.change.signOut")}
       </Button>
     </main>
   );

@@ -1,7 +1,8 @@
 import { useState, type ReactNode } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { Trans, useTranslation } from "react-i18next";
 import { Link, useParams, useSearchParams, type LoaderFunctionArgs, type ShouldRevalidateFunction } from "react-router";
-import { CUSTOMER_DEFAULT_SECTIONS, CUSTOMER_SECTIONS, SECTION_LABELS, type CustomerSection, type HeatHistory, type HistorySection } from "@shared/api/claims";
+import { CUSTOMER_DEFAULT_SECTIONS, CUSTOMER_SECTIONS, type CustomerSection, type HeatHistory, type HistorySection } from "@shared/api/claims";
 import { Button } from "@/components/ui/button";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -21,7 +22,8 @@ import {
   SlabConditionsTable,
   SlabsTable,
 } from "@/features/claims/components/history-sections";
-import { date, dateTime, day, plural, withUnit } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
+import { count, date, dateTime, day, withUnit } from "@/lib/format";
 import { causeChips } from "../cause-chips";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
@@ -67,21 +69,38 @@ function Part({ n, title, children, pageBreak = false }: { n: number; title: str
 
 /** The claim's cover page: on paper a page of its own. */
 function Cover({ h }: { h: HeatHistory }) {
+  const { t } = useTranslation("heats");
+  const { term } = useTerms();
   const c = h.edition.cover!;
-  const rows: [string, ReactNode][] = [
-    ["Claim", c.claimNo],
-    ["Customer", c.customer],
-    ["Claim received", day(c.receivedOn)],
-    ["Defect complained of", c.defectComplained],
-    ...(c.quantityT !== null ? ([["Quantity claimed", withUnit(c.quantityT, "t", 1)]] as [string, ReactNode][]) : []),
-    ["Coils and plates of this heat", c.products.join(", ") || "—"],
+  // [the field's name in the page (data-field, the same in every language), its label, its value]
+  const rows: [string, string, ReactNode][] = [
+    ["Claim", t("history.cover.claim"), c.claimNo],
+    ["Customer", t("history.cover.customer"), c.customer],
+    ["Claim received", t("history.cover.received"), day(c.receivedOn)],
+    ["Defect complained of", t("history.cover.defect"), c.defectComplained],
+    ...(c.quantityT !== null ? ([["Quantity claimed", t("history.cover.quantity"), withUnit(c.quantityT, "t", 1)]] as [string, string, ReactNode][]) : []),
+    ["Coils and plates of this heat", t("history.cover.products"), c.products.join(", ") || "—"],
     ...(c.otherProducts.length
-      ? ([["Other coils and plates of the claim", `${c.otherProducts.join(", ")} (not from this heat)`]] as [string, ReactNode][])
+      ? ([
+          [
+            "Other coils and plates of the claim",
+            t("history.cover.otherProducts"),
+            t("history.cover.otherProductsValue", { products: c.otherProducts.join(", ") }),
+          ],
+        ] as [string, string, ReactNode][])
       : []),
-    ["Slabs of this heat in the claim", c.slabs.join(", ")],
-    ["Heat cast", `${dateTime(h.heat.castStart)}${h.heat.castEnd ? ` to ${dateTime(h.heat.castEnd)}` : ""}`],
-    ["Contents", h.edition.sections.map((x) => SECTION_LABELS[x]).join(", ")],
-    ["Prepared", `${date(h.generatedAt)}${c.preparedBy ? ` by ${c.preparedBy}` : ""}`],
+    ["Slabs of this heat in the claim", t("history.cover.slabs"), c.slabs.join(", ")],
+    [
+      "Heat cast",
+      t("history.cover.cast"),
+      h.heat.castEnd ? t("history.cover.castRange", { start: dateTime(h.heat.castStart), end: dateTime(h.heat.castEnd) }) : dateTime(h.heat.castStart),
+    ],
+    ["Contents", t("history.cover.contents"), h.edition.sections.map((x) => term("historySections", x)).join(", ")],
+    [
+      "Prepared",
+      t("history.cover.prepared"),
+      c.preparedBy ? t("history.cover.preparedBy", { when: date(h.generatedAt), who: c.preparedBy }) : date(h.generatedAt),
+    ],
   ];
   return (
     <section
@@ -89,15 +108,13 @@ function Cover({ h }: { h: HeatHistory }) {
       data-testid="history-cover"
     >
       <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">
-        {h.edition.kind === "customer" ? "Heat history for the customer" : "Heat history — internal edition"}
+        {h.edition.kind === "customer" ? t("history.cover.kickerCustomer") : t("history.cover.kickerInternal")}
       </div>
-      <h2 className="mt-1 text-3xl font-bold tracking-tight text-ink-900">
-        Claim {c.claimNo} · heat {h.heat.heatNo}
-      </h2>
+      <h2 className="mt-1 text-3xl font-bold tracking-tight text-ink-900">{t("history.cover.title", { claim: c.claimNo, heat: h.heat.heatNo })}</h2>
       <dl className="mt-4 grid gap-x-6 gap-y-2 sm:grid-cols-[auto_1fr]">
-        {rows.map(([k, v]) => (
+        {rows.map(([k, label, v]) => (
           <div key={k} className="contents">
-            <dt className="text-sm font-semibold text-ink-600">{k}</dt>
+            <dt className="text-sm font-semibold text-ink-600">{label}</dt>
             <dd className="text-base text-ink-900" data-field={k}>
               {v}
             </dd>
@@ -114,12 +131,13 @@ function Cover({ h }: { h: HeatHistory }) {
  * officer ticks here (the choice stays in the address, so the workbook and a reload match it).
  */
 export function Component() {
+  const { t } = useTranslation("heats");
   const { heatNo = "" } = useParams();
   const [params, setParams] = useSearchParams();
   const choice = editionFrom(params);
   const [picked, setPicked] = useState<EditionValue>({ edition: choice.edition ?? "internal", sections: choice.sections ?? CUSTOMER_DEFAULT_SECTIONS });
   const hist = useQuery({ ...historyKeys.heat(heatNo, choice), placeholderData: (previous) => previous });
-  if (hist.isPending) return <Spinner label="Loading the heat's history" />;
+  if (hist.isPending) return <Spinner label={t("history.loading")} />;
   if (hist.isError) return <Notice tone="error">{hist.error.message}</Notice>;
   const h = hist.data;
   const customer = h.edition.kind === "customer";
@@ -148,19 +166,19 @@ export function Component() {
         {children}
       </Part>,
     );
-  part("summary", "Summary", <HistoryFacts history={h} />);
-  if (on("chemistry")) part("chemistry", "Chemistry", <ChemistryTable history={h} />);
-  if (on("conditions")) part("conditions", "Casting conditions of the heat", <ConditionsTable history={h} />);
-  if (on("samples")) part("samples", "Process samples", <SamplesLine history={h} />);
+  part("summary", t("history.summary"), <HistoryFacts history={h} />);
+  if (on("chemistry")) part("chemistry", t("history.chemistry"), <ChemistryTable history={h} />);
+  if (on("conditions")) part("conditions", t("history.conditions"), <ConditionsTable history={h} />);
+  if (on("samples")) part("samples", t("history.samples"), <SamplesLine history={h} />);
   if (on("slabs")) {
     part(
       "slabs",
-      `Slabs (${h.slabs.length})`,
+      t("history.slabs", { n: h.slabs.length }),
       <>
         <SlabsTable history={h} traced={h.edition.cover?.slabs[0] ?? null} />
         {on("conditions") ? (
           <>
-            <h3 className="mb-2 mt-4 text-sm font-bold">Each slab's conditions</h3>
+            <h3 className="mb-2 mt-4 text-sm font-bold">{t("history.slabConditions")}</h3>
             <div className="overflow-x-auto print:overflow-visible">
               <SlabConditionsTable history={h} />
             </div>
@@ -170,11 +188,16 @@ export function Component() {
     );
   }
   if (on("defects"))
-    part("defects", `Defects (${h.defects.length})`, <DefectsList history={h} renderCauses={customer ? undefined : causeChips} />, h.defects.length > 0);
+    part(
+      "defects",
+      t("history.defects", { n: h.defects.length }),
+      <DefectsList history={h} renderCauses={customer ? undefined : causeChips} />,
+      h.defects.length > 0,
+    );
   if (on("causes")) {
     part(
       "causes",
-      customer ? `Causes (${plural(h.causes.length, "tagging")})` : `Causes (${plural(h.causes.length, "tagging")}, removed ones included)`,
+      t(customer ? "history.causesCustomer" : "history.causesInternal", { count: h.causes.length, n: count(h.causes.length) }),
       <div className="overflow-x-auto print:overflow-visible">
         <CausesTable history={h} />
       </div>,
@@ -183,14 +206,14 @@ export function Component() {
   if (on("investigations"))
     part(
       "investigations",
-      customer ? `Investigations (${h.investigations.length}, this heat)` : `Investigations (${h.investigations.length}, this heat or its sequence)`,
+      t(customer ? "history.investigationsCustomer" : "history.investigationsInternal", { n: h.investigations.length }),
       <RelatedRecords history={h} show="investigations" />,
     );
-  if (on("claims")) part("claims", `Claims (${h.claims.length}, this heat or its sequence)`, <RelatedRecords history={h} show="claims" />);
+  if (on("claims")) part("claims", t("history.claims", { n: h.claims.length }), <RelatedRecords history={h} show="claims" />);
   if (on("audit")) {
     part(
       "audit",
-      customer ? `Record of changes (${h.audit.length})` : `Audit trail (${h.audit.length})`,
+      customer ? t("history.changesCustomer", { n: h.audit.length }) : t("history.auditInternal", { n: h.audit.length }),
       <div className="overflow-x-auto print:overflow-visible">
         <AuditTable history={h} />
       </div>,
@@ -206,14 +229,14 @@ export function Component() {
     >
       <div className="flex flex-wrap items-center gap-3 print:hidden">
         <Link to={heatPath} className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
-          Heat {h.heat.heatNo}
+          {t("history.heatLink", { heat: h.heat.heatNo })}
         </Link>
         <span className="text-ink-400">·</span>
         <Link
           to={`/trace?q=${encodeURIComponent(h.heat.heatNo)}`}
           className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
         >
-          Trace
+          {t("history.trace")}
         </Link>
         {choice.claim && h.edition.cover ? (
           <>
@@ -223,7 +246,7 @@ export function Component() {
               className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
               data-testid="history-back-to-claim"
             >
-              Back to claim {h.edition.cover.claimNo}
+              {t("history.backToClaim", { claim: h.edition.cover.claimNo })}
             </Link>
           </>
         ) : null}
@@ -232,12 +255,12 @@ export function Component() {
             <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden>
               <path d="M4 6V2h8v4M4 12H2V7h12v5h-2M4 10h8v4H4z" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" />
             </svg>
-            Print or save as PDF
+            {t("history.print")}
           </Button>
-          <HistoryWorkbookButton heatNo={h.heat.heatNo} label="The same as a workbook (.xlsx)" edition={choice} />
+          <HistoryWorkbookButton heatNo={h.heat.heatNo} label={t("history.workbook")} edition={choice} />
         </div>
       </div>
-      <section className="rounded-lg border border-ink-200 bg-white p-4 print:hidden" aria-label="What this document holds">
+      <section className="rounded-lg border border-ink-200 bg-white p-4 print:hidden" aria-label={t("history.whatItHolds")}>
         <EditionChooser
           name="history"
           // The choice as ticked, not as last answered, so a tick shows at once (the address follows).
@@ -247,33 +270,31 @@ export function Component() {
             setChoice(v.edition, v.sections);
           }}
         />
-        {hist.isFetching ? <p className="mt-2 text-xs text-ink-600">Updating…</p> : null}
+        {hist.isFetching ? <p className="mt-2 text-xs text-ink-600">{t("history.updating")}</p> : null}
       </section>
       {h.edition.cover ? <Cover h={h} /> : null}
       <header className="border-b-4 border-ink-900 pb-3">
-        <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">Strandsight · heat history{customer ? "" : " · internal edition"}</div>
-        <h1 className="text-3xl font-bold tracking-tight text-ink-900">Heat {h.heat.heatNo}</h1>
+        <div className="text-xs font-semibold uppercase tracking-widest text-ink-600">{customer ? t("history.kicker") : t("history.kickerInternal")}</div>
+        <h1 className="text-3xl font-bold tracking-tight text-ink-900">{t("history.title", { heat: h.heat.heatNo })}</h1>
         <p className="mt-1 text-sm text-ink-700">
-          Prepared {dateTime(h.generatedAt)} (times in this computer's time zone; the workbook gives UTC).
+          {t("history.prepared", { when: dateTime(h.generatedAt) })}
           {customer ? null : (
             <>
               {" "}
-              Record:{" "}
-              <Link to={heatPath} className="font-semibold text-strand-700 underline">
-                heat page
-              </Link>
+              <Trans t={t} i18nKey="history.record" components={{ 1: <Link to={heatPath} className="font-semibold text-strand-700 underline" /> }} />
               <PrintUrl path={heatPath} />
             </>
           )}
         </p>
       </header>
-      <Notice tone="caution" title="Procedure">
-        This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.
+      <Notice tone="caution" title={t("history.procedureTitle")}>
+        {t("history.procedure")}
       </Notice>
       {parts}
       <footer className="border-t border-ink-300 pt-2 text-xs text-ink-600">
-        Strandsight · heat {h.heat.heatNo}
-        {h.edition.cover ? ` · claim ${h.edition.cover.claimNo}` : ""} · prepared {dateTime(h.generatedAt)}
+        {h.edition.cover
+          ? t("history.footerClaim", { heat: h.heat.heatNo, claim: h.edition.cover.claimNo, when: dateTime(h.generatedAt) })
+          : t("history.footer", { heat: h.heat.heatNo, when: dateTime(h.generatedAt) })}
       </footer>
     </article>
   );

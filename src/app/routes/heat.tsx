@@ -1,5 +1,6 @@
 import { lazy, Suspense, useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Link, useParams, type LoaderFunctionArgs } from "react-router";
 import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
@@ -36,14 +37,15 @@ export function makeLoader(qc: QueryClient) {
 }
 
 function Samples({ heatNo }: { heatNo: string }) {
+  const { t } = useTranslation("heats");
   const samples = useQuery(heatKeys.samples(heatNo));
-  if (samples.isPending) return <Spinner label="Loading process samples" />;
+  if (samples.isPending) return <Spinner label={t("heatPage.loadingSamples")} />;
   if (samples.isError) return <Notice tone="error">{samples.error.message}</Notice>;
   if (samples.data.strands.every((s) => s.points.length === 0)) {
-    return <Notice>No process samples on record for this heat: its slabs take the heat's values (or their own, where given).</Notice>;
+    return <Notice>{t("heatPage.noSamples")}</Notice>;
   }
   return (
-    <Suspense fallback={<Spinner label="Loading the chart" />}>
+    <Suspense fallback={<Spinner label={t("heatPage.loadingChart")} />}>
       <SamplesChart samples={samples.data} />
     </Suspense>
   );
@@ -51,9 +53,10 @@ function Samples({ heatNo }: { heatNo: string }) {
 
 /** Tagging many defects at once: this heat's, or its whole sequence's. */
 function BulkTagging({ heat }: { heat: HeatDetail }) {
+  const { t } = useTranslation("heats");
   const [scope, setScope] = useState<"heat" | "sequence" | null>(null);
   const catalogue = useQuery(catalogueKeys.list(false));
-  const types = (catalogue.data?.types ?? []).map((t) => ({ code: t.code, name: t.name }));
+  const types = (catalogue.data?.types ?? []).map((x) => ({ code: x.code, name: x.name }));
   const selection: BulkSelection | null =
     scope === "heat"
       ? { kind: "heat", heatNo: heat.heatNo }
@@ -61,36 +64,40 @@ function BulkTagging({ heat }: { heat: HeatDetail }) {
         ? { kind: "sequence", sequenceNo: heat.sequenceNo }
         : null;
   return (
-    <Card title="Tag causes on many defects">
+    <Card title={t("bulkTag.title")}>
       {!selection ? (
         <div className="flex flex-wrap items-center gap-2">
           <Button onClick={() => setScope("heat")} data-testid="bulk-tag-heat">
-            Tag this heat's defects
+            {t("bulkTag.heat")}
           </Button>
           {heat.sequenceNo ? (
             <Button variant="secondary" onClick={() => setScope("sequence")} data-testid="bulk-tag-sequence">
-              Tag every defect of sequence {heat.sequenceNo}
+              {t("bulkTag.sequence", { sequence: heat.sequenceNo })}
             </Button>
           ) : null}
-          <p className="text-sm text-ink-600">The same causes, confidence and note on every live defect; you see the count before anything is written.</p>
+          <p className="text-sm text-ink-600">{t("bulkTag.hint")}</p>
         </div>
       ) : (
         <div className="space-y-2">
           <h3 className="text-sm font-bold">
             {selection.kind === "heat"
-              ? `Every live defect of heat ${heat.heatNo}`
-              : `Every live defect of sequence ${heat.sequenceNo} (${heat.sequenceHeats ?? "several"} heats)`}
+              ? t("bulkTag.everyOfHeat", { heat: heat.heatNo })
+              : heat.sequenceHeats
+                ? t("bulkTag.everyOfSequence", { sequence: heat.sequenceNo, heats: heat.sequenceHeats })
+                : t("bulkTag.everyOfSequenceSeveral", { sequence: heat.sequenceNo })}
           </h3>
           <BulkTagPanel
             key={scope}
             selection={selection}
-            describe={selection.kind === "heat" ? `heat ${heat.heatNo}` : `sequence ${heat.sequenceNo}`}
+            describe={
+              selection.kind === "heat" ? t("bulkTag.describeHeat", { heat: heat.heatNo }) : t("bulkTag.describeSequence", { sequence: heat.sequenceNo })
+            }
             defectTypes={types}
             affects={[heatKeys.all, slabKeys.all, defectKeys.all, reportKeys.all]}
             onClose={() => setScope(null)}
           />
           <Button variant="ghost" onClick={() => setScope(null)}>
-            Done
+            {t("bulkTag.done")}
           </Button>
         </div>
       )}
@@ -99,17 +106,19 @@ function BulkTagging({ heat }: { heat: HeatDetail }) {
 }
 
 function HeatInvestigations({ heatNo }: { heatNo: string }) {
+  const { t } = useTranslation("heats");
   const list = useQuery(investigationKeys.list({ heatNo }));
-  if (list.isPending) return <Spinner label="Loading investigations" />;
+  if (list.isPending) return <Spinner label={t("heatPage.loadingInvestigations")} />;
   if (list.isError) return <Notice tone="error">{list.error.message}</Notice>;
-  return <InvestigationsTable items={list.data.items} empty="No investigation looks at this heat yet." />;
+  return <InvestigationsTable items={list.data.items} empty={t("heatPage.noInvestigations")} />;
 }
 
 export function Component() {
+  const { t } = useTranslation("heats");
   const { heatNo = "" } = useParams();
   const heat = useQuery(heatKeys.detail(heatNo));
   const me = useQuery(authKeys.me());
-  if (heat.isPending) return <Spinner label="Loading the heat" />;
+  if (heat.isPending) return <Spinner label={t("heatPage.loading")} />;
   if (heat.isError) return <Notice tone="error">{heat.error.message}</Notice>;
   const h = heat.data;
   const slabs = h.slabs.length;
@@ -118,10 +127,12 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader
-        title={`Heat ${h.heatNo}`}
-        subtitle={`${h.grade.code} (${h.grade.familyCode}) on ${h.caster.code} · ${
-          slabs === 0 ? "no slabs on record yet" : `${slabs} slab${slabs === 1 ? "" : "s"}, ${affected} of them with a defect`
-        }`}
+        title={t("heatPage.title", { heat: h.heatNo })}
+        subtitle={
+          slabs === 0
+            ? t("heatPage.subtitleNoSlabs", { grade: h.grade.code, family: h.grade.familyCode, caster: h.caster.code })
+            : t("heatPage.subtitle", { count: slabs, affected, grade: h.grade.code, family: h.grade.familyCode, caster: h.caster.code })
+        }
         actions={
           <div className="flex flex-wrap items-start gap-2">
             {can(roles, "investigations.manage") ? (
@@ -130,12 +141,12 @@ export function Component() {
                 className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800"
                 data-testid="open-investigation-heat"
               >
-                Open an investigation
+                {t("heatPage.openInvestigation")}
               </Link>
             ) : null}
             {can(roles, "history.export") ? (
               <>
-                <HistoryWorkbookButton heatNo={h.heatNo} label="Heat history (.xlsx)" testId="heat-history-xlsx" />
+                <HistoryWorkbookButton heatNo={h.heatNo} label={t("heatPage.historyWorkbook")} testId="heat-history-xlsx" />
                 <PrintableHistoryLink heatNo={h.heatNo} testId="heat-history-print" />
               </>
             ) : null}
@@ -144,7 +155,7 @@ export function Component() {
                 to="/heats"
                 className="flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
               >
-                All heats
+                {t("heatPage.allHeats")}
               </Link>
             ) : null}
           </div>
@@ -154,25 +165,25 @@ export function Component() {
         <HeatFacts heat={h} />
       </Card>
       <div className="grid gap-5 xl:grid-cols-2">
-        <Card title="Casting conditions (heat values)">
+        <Card title={t("heatPage.conditionsTitle")}>
           <HeatConditions heat={h} />
         </Card>
-        <Card title="Derived values at the heat's conditions">
+        <Card title={t("heatPage.derivedTitle")}>
           <DerivedTable derived={h.derived} />
         </Card>
       </div>
-      <Card title="Chemistry (heat analysis)">
+      <Card title={t("heatPage.chemistryTitle")}>
         <ChemistryTable chemistry={h.chemistry} />
       </Card>
-      <Card title="Process samples">
+      <Card title={t("heatPage.samplesTitle")}>
         <Samples heatNo={h.heatNo} />
       </Card>
-      <Card title={`Slabs (${slabs})`} bodyClassName="px-2 py-3 md:px-3 xl:p-4">
+      <Card title={t("heatPage.slabsTitle", { n: slabs })} bodyClassName="px-2 py-3 md:px-3 xl:p-4">
         <HeatSlabsTable slabs={h.slabs} />
       </Card>
       {can(roles, "causes.tag") && h.slabs.some((s) => s.defects > 0) ? <BulkTagging heat={h} /> : null}
       {can(roles, "investigations.read") ? (
-        <Card title="Investigations on this heat" bodyClassName="px-2 py-3 md:p-4">
+        <Card title={t("heatPage.investigationsTitle")} bodyClassName="px-2 py-3 md:p-4">
           <HeatInvestigations heatNo={h.heatNo} />
         </Card>
       ) : null}

@@ -1,5 +1,6 @@
 import { useCallback } from "react";
 import { useQuery } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { useSearchParams } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -14,6 +15,7 @@ import { RouteError } from "./route-error";
 // The screen's loader is in ./heats.loader.ts: the router holds it from the start.
 
 export function Component() {
+  const { t } = useTranslation("heats");
   const [searchParams, setSearchParams] = useSearchParams();
   const params = readHeatListParams(searchParams);
   const list = useQuery(heatKeys.list(params));
@@ -37,16 +39,13 @@ export function Component() {
 
   return (
     <div className="space-y-5">
-      <PageHeader
-        title="Heats"
-        subtitle="Every heat on record with its casting conditions and defect count. Open a heat for its chemistry, slabs and process samples."
-      />
+      <PageHeader title={t("heatsPage.title")} subtitle={t("heatsPage.subtitle")} />
       <Card>
         <HeatFilters value={params} families={setup.data?.gradeFamilies ?? []} onChange={update} />
       </Card>
       <Card bodyClassName="px-2 py-3 md:px-3 xl:p-4">
         {list.isPending ? (
-          <Spinner label="Loading heats" />
+          <Spinner label={t("heatsPage.loading")} />
         ) : list.isError ? (
           <Notice tone="error">{list.error.message}</Notice>
         ) : (

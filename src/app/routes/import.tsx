@@ -1,4 +1,5 @@
 import { useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -20,11 +21,12 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const qc = useQueryClient();
   const runs = useQuery(importKeys.runs());
   return (
     <div className="space-y-5">
-      <PageHeader title="Import" subtitle="Heats, slabs and process samples from a workbook or a CSV file. Every file is checked before anything is written." />
+      <PageHeader title={t("imports.title")} subtitle={t("imports.subtitle")} />
       <ImportPanel
         onImported={() => {
           // New rows change the heats, the slabs' conditions and the plant's totals.
@@ -33,9 +35,9 @@ export function Component() {
           void qc.invalidateQueries({ queryKey: plantKeys.summary().queryKey });
         }}
       />
-      <Card title="Recent imports">
+      <Card title={t("imports.recent")}>
         {runs.isPending ? (
-          <Spinner label="Loading recent imports" />
+          <Spinner label={t("imports.loadingRecent")} />
         ) : runs.isError ? (
           <Notice tone="error">{runs.error.message}</Notice>
         ) : (

@@ -1,5 +1,7 @@
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { Link, useSearchParams } from "react-router";
 import { z } from "zod";
 import { Button } from "@/components/ui/button";
@@ -8,8 +10,10 @@ import { Notice } from "@/components/ui/notice";
 import { useResetPassword } from "@/features/auth/api/session";
 import { ApiError } from "@/lib/api-client";
 import { PasswordFrame } from "@/features/auth/components/password-frame";
+import { formMessage } from "@/features/users/components/form-messages";
 
 const MIN = 10;
+// Its messages are shown in the screen's language through formMessage.
 const schema = z
   .object({
     newPassword: z.string().min(MIN, `Use at least ${MIN} characters.`).max(128, "Use at most 128 characters."),
@@ -19,18 +23,18 @@ const schema = z
 
 export { RouteError as ErrorBoundary } from "./route-error";
 
-const linkProblem = "This link has expired or was already used. Ask for a new one.";
+/** A refusal that means the link is spent: the person needs a new one. */
+const isLinkProblem = (err: unknown) => err instanceof ApiError && (/token/i.test(err.code) || /token/i.test(err.message));
 
 /** What the server's refusal means for the person holding the link. */
-function explain(err: unknown): string {
-  if (err instanceof ApiError) {
-    if (/token/i.test(err.code) || /token/i.test(err.message)) return linkProblem;
-    return err.message;
-  }
-  return "The password could not be set. Try again.";
+function explain(t: TFunction, err: unknown): string {
+  if (isLinkProblem(err)) return t("passwords.reset.linkProblem");
+  if (err instanceof ApiError) return err.message;
+  return t("passwords.reset.notSet");
 }
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const [sp] = useSearchParams();
   const token = sp.get("token") ?? "";
   const linkError = sp.get("error");
@@ -39,75 +43,73 @@ export function Component() {
 
   if (reset.isSuccess) {
     return (
-      <PasswordFrame title="Password changed">
+      <PasswordFrame title={t("passwords.reset.doneTitle")}>
         <div data-testid="reset-done">
-          <Notice tone="ok" title="Done">
-            Your new password is set. Sign in with it.
+          <Notice tone="ok" title={t("passwords.reset.done")}>
+            {t("passwords.reset.doneText")}
           </Notice>
         </div>
         <Link
           to="/sign-in"
           className="flex min-h-14 w-full items-center justify-center rounded-md bg-strand-700 px-6 text-base font-semibold text-white hover:bg-strand-800"
         >
-          Sign in
+          {t("passwords.reset.signIn")}
         </Link>
       </PasswordFrame>
     );
   }
   if (linkError || !token) {
     return (
-      <PasswordFrame title="Set a new password">
+      <PasswordFrame title={t("passwords.reset.title")}>
         <div data-testid="reset-link-problem">
-          <Notice tone="error">
-            {linkError ? linkProblem : "This page needs the link from the mail. Open the link in the message, or ask for a new one."}
-          </Notice>
+          <Notice tone="error">{linkError ? t("passwords.reset.linkProblem") : t("passwords.reset.needsLink")}</Notice>
         </div>
         <Link
           to="/forgot-password"
           className="inline-flex min-h-11 items-center font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
         >
-          Ask for a new link
+          {t("passwords.reset.askNewLink")}
         </Link>
       </PasswordFrame>
     );
   }
   return (
-    <PasswordFrame title="Set a new password">
+    <PasswordFrame title={t("passwords.reset.title")}>
       <form
         noValidate
         className="space-y-4"
-        aria-label="Set a new password"
+        aria-label={t("passwords.reset.formLabel")}
         onSubmit={form.handleSubmit((v) => reset.mutate({ token, newPassword: v.newPassword }))}
       >
         {reset.isError ? (
           <div data-testid="reset-error" className="space-y-2">
-            <Notice tone="error">{explain(reset.error)}</Notice>
-            {explain(reset.error) === linkProblem ? (
+            <Notice tone="error">{explain(t, reset.error)}</Notice>
+            {isLinkProblem(reset.error) ? (
               <Link to="/forgot-password" className="inline-flex min-h-11 items-center font-semibold text-strand-700 underline">
-                Ask for a new link
+                {t("passwords.reset.askNewLink")}
               </Link>
             ) : null}
           </div>
         ) : null}
         <TextField
-          label="New password"
+          label={t("passwords.reset.newPassword")}
           type="password"
           autoComplete="new-password"
           large
-          hint={`At least ${MIN} characters. A few unrelated words make a password that is long and easy to remember.`}
+          hint={t("passwords.reset.newPasswordHint", { min: MIN })}
           {...form.register("newPassword")}
-          error={form.formState.errors.newPassword?.message}
+          error={formMessage(t, form.formState.errors.newPassword?.message)}
         />
         <TextField
-          label="The new password again"
+          label={t("passwords.reset.again")}
           type="password"
           autoComplete="new-password"
           large
           {...form.register("again")}
-          error={form.formState.errors.again?.message}
+          error={formMessage(t, form.formState.errors.again?.message)}
         />
         <Button type="submit" size="lg" className="w-full" disabled={reset.isPending}>
-          {reset.isPending ? "Saving…" : "Set the new password"}
+          {reset.isPending ? t("passwords.reset.saving") : t("passwords.reset.save")}
         </Button>
       </form>
     </PasswordFrame>

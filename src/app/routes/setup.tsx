@@ -1,5 +1,6 @@
 import { useCallback } from "react";
 import { useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -8,6 +9,7 @@ import { plantKeys } from "@/features/plant/api/plant.queries";
 import { GradesEditor } from "@/features/plant/components/grades-editor";
 import { PlantSettingsForm } from "@/features/plant/components/plant-settings-form";
 import { StrandSettingsForm } from "@/features/plant/components/strand-settings-form";
+import { plainNumber } from "@/features/users/components/form-messages";
 import { slabKeys } from "@/features/slabs/api/slabs.queries";
 import { yardKeys } from "@/features/yard/api/yard.queries";
 import { YardSettingsForm } from "@/features/yard/components/yard-settings-form";
@@ -25,6 +27,7 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("admin");
   const qc = useQueryClient();
   const setup = useQuery(plantKeys.setup());
   const settings = useQuery(plantKeys.settings());
@@ -37,14 +40,13 @@ export function Component() {
 
   return (
     <div className="space-y-5">
-      <PageHeader title="Plant setup" subtitle="Casters and strands, grades, and the constants behind every derived value." />
-      <Notice tone="info" title="Audited">
-        Every change here is recorded in the audit log with your name, the time and the values before and after. Changes to a strand or to the formula settings
-        recompute the derived values of the slabs they touch; the screen says how many.
+      <PageHeader title={t("setup.title")} subtitle={t("setup.subtitle")} />
+      <Notice tone="info" title={t("setup.auditedTitle")}>
+        {t("setup.audited")}
       </Notice>
 
       {setup.isPending ? (
-        <Spinner label="Loading the plant setup" />
+        <Spinner label={t("setup.loadingSetup")} />
       ) : setup.isError ? (
         <Notice tone="error">{setup.error.message}</Notice>
       ) : (
@@ -52,38 +54,38 @@ export function Component() {
           {setup.data.casters.map((c) => (
             <Card key={c.id} title={`${c.code} — ${c.name}`}>
               <p className="mb-4 text-sm text-ink-600">
-                {c.worksName} · {c.machineType}
-                {c.radiusM ? `, radius ${c.radiusM} m` : ""}
+                {c.worksName} · {t(`setup.machineTypes.${c.machineType}`, { defaultValue: c.machineType })}
+                {c.radiusM ? t("setup.radius", { radius: plainNumber(c.radiusM) }) : ""}
               </p>
               <div className="grid gap-6 xl:grid-cols-2">
                 {c.strands.map((s) => (
-                  <section key={s.id} aria-label={`Strand ${s.strandNo}`} className="space-y-3 rounded-md border border-ink-200 p-3">
-                    <h3 className="text-base font-semibold">Strand {s.strandNo}</h3>
+                  <section key={s.id} aria-label={t("setup.strand", { strand: s.strandNo })} className="space-y-3 rounded-md border border-ink-200 p-3">
+                    <h3 className="text-base font-semibold">{t("setup.strand", { strand: s.strandNo })}</h3>
                     <StrandSettingsForm casterCode={c.code} strand={s} onRecomputed={onRecomputed} />
                   </section>
                 ))}
               </div>
             </Card>
           ))}
-          <Card title="Formula settings">
+          <Card title={t("setup.formulaSettings")}>
             {settings.isPending ? (
-              <Spinner label="Loading the settings" />
+              <Spinner label={t("setup.loadingSettings")} />
             ) : settings.isError ? (
               <Notice tone="error">{settings.error.message}</Notice>
             ) : (
               <PlantSettingsForm settings={settings.data} onRecomputed={onRecomputed} />
             )}
           </Card>
-          <Card title="Yard tablets">
+          <Card title={t("setup.yardTablets")}>
             {yardSettings.isPending ? (
-              <Spinner label="Loading the yard settings" />
+              <Spinner label={t("setup.loadingYardSettings")} />
             ) : yardSettings.isError ? (
               <Notice tone="error">{yardSettings.error.message}</Notice>
             ) : (
               <YardSettingsForm settings={yardSettings.data} />
             )}
           </Card>
-          <Card title="Grades and grade families">
+          <Card title={t("setup.grades")}>
             <GradesEditor families={setup.data.gradeFamilies} />
           </Card>
         </>

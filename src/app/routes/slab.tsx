@@ -1,4 +1,5 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Link, useParams, type LoaderFunctionArgs } from "react-router";
 import { can } from "@shared/roles";
 import { Card, PageHeader } from "@/components/ui/card";
@@ -15,7 +16,7 @@ import { CrossSection, SlabDrawing, type DrawnMark } from "@/features/slabs/comp
 import { SlabConditionsTable, SlabDefects, SlabDerived, SlabFacts } from "@/features/slabs/components/slab-sections";
 import { SlabRisks } from "@/features/risk/components/risk-band";
 import { WindowFlags } from "@/features/windows/components/window-flags";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -33,11 +34,12 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("heats");
   const { slabId = "" } = useParams();
   const slab = useQuery(slabKeys.detail(slabId));
   const me = useQuery(authKeys.me());
   const withPhotos = useQuery(slabPhotos(slabId));
-  if (slab.isPending) return <Spinner label="Loading the slab" />;
+  if (slab.isPending) return <Spinner label={t("slabPage.loading")} />;
   if (slab.isError) return <Notice tone="error">{slab.error.message}</Notice>;
   const s = slab.data;
   const inYard = me.data ? can(me.data.roles, "defects.log") : false;
@@ -49,6 +51,7 @@ export function Component() {
   // Rejected entries stay visible, marked, but do not count as defects of the slab.
   const rejected = s.defects.filter((d) => d.reviewStatus === "rejected").length;
   const counted = s.defects.length - rejected;
+  const where = { count: counted, n: count(counted), heat: s.heatNo, grade: s.gradeCode, strand: s.strandNo, piece: s.pieceNo };
   // Numbered as in the list below.
   const marks: DrawnMark[] = s.defects.map((d, i) => ({
     key: `d${d.id}`,
@@ -63,10 +66,12 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader
-        title={`Slab ${s.slabId}`}
-        subtitle={`Heat ${s.heatNo} · ${s.gradeCode} · strand ${s.strandNo}, piece ${s.pieceNo} · ${plural(counted, "defect")} on record${
-          rejected ? ` (and ${plural(rejected, "rejected entry", "rejected entries")})` : ""
-        }`}
+        title={t("slabPage.title", { slab: s.slabId })}
+        subtitle={
+          rejected
+            ? t("slabPage.subtitleRejected", { ...where, rejected: t("slabPage.rejected", { count: rejected, n: count(rejected) }) })
+            : t("slabPage.subtitle", where)
+        }
         actions={
           inYard ? (
             <div className="flex flex-wrap gap-2">
@@ -74,13 +79,13 @@ export function Component() {
                 to={`/yard/slabs/${encodeURIComponent(s.slabId)}`}
                 className="flex min-h-12 items-center rounded-md bg-strand-700 px-4 text-base font-semibold text-white hover:bg-strand-800"
               >
-                Log a defect on this slab
+                {t("slabPage.logDefect")}
               </Link>
               <Link
                 to="/yard"
                 className="flex min-h-12 items-center rounded-md border border-ink-300 bg-white px-4 text-base font-semibold text-ink-900 hover:bg-ink-50"
               >
-                ← Find another slab
+                {t("slabPage.findAnother")}
               </Link>
             </div>
           ) : null
@@ -90,12 +95,12 @@ export function Component() {
       <Card>
         <SlabFacts slab={s} />
       </Card>
-      <Card title={`Defects (${s.defects.length})`}>
+      <Card title={t("slabPage.defectsTitle", { n: s.defects.length })}>
         <div className="space-y-4">
           {marks.some((m) => m.face !== "section" && m.alongMm !== null) ? <SlabDrawing slab={s} marks={marks} /> : null}
           {marks.some((m) => m.face === "section") ? (
             <figure className="space-y-1">
-              <figcaption className="text-sm font-semibold text-ink-700">Cross-section, seen from the head end (internal findings)</figcaption>
+              <figcaption className="text-sm font-semibold text-ink-700">{t("slabPage.crossSection")}</figcaption>
               <CrossSection slab={s} marks={marks} />
             </figure>
           ) : null}
@@ -103,7 +108,7 @@ export function Component() {
             defects={s.defects}
             photos={(id) => {
               const photos = withPhotos.data?.items.find((d) => d.id === id)?.photos;
-              return photos ? <PhotoStrip photos={photos} label="Photos of the defect" size="h-20 w-20" /> : null;
+              return photos ? <PhotoStrip photos={photos} label={t("slabPage.photos")} size="h-20 w-20" /> : null;
             }}
             more={
               readsCauses
@@ -116,7 +121,7 @@ export function Component() {
                           className="inline-flex min-h-11 items-center text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2"
                           data-testid="open-investigation-defect"
                         >
-                          Open an investigation on this defect
+                          {t("slabPage.openInvestigation")}
                         </Link>
                       ) : null}
                     </div>
@@ -127,14 +132,14 @@ export function Component() {
         </div>
       </Card>
       {s.risks.length ? (
-        <Card title="Risk before inspection">
+        <Card title={t("slabPage.riskTitle")}>
           <SlabRisks risks={s.risks} />
         </Card>
       ) : null}
-      <Card title="Casting conditions of this slab">
+      <Card title={t("slabPage.conditionsTitle")}>
         <SlabConditionsTable slab={s} />
       </Card>
-      <Card title="Derived values at the slab's conditions">
+      <Card title={t("slabPage.derivedTitle")}>
         <SlabDerived conditions={s.conditions} />
       </Card>
     </div>

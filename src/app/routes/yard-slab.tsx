@@ -1,5 +1,6 @@
 import { useEffect, useRef, useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { Trans, useTranslation } from "react-i18next";
 import { Link, useLocation, useNavigate, useParams, useSearchParams, type LoaderFunctionArgs } from "react-router";
 import type { YardSlab } from "@shared/api/yard";
 import { Card, PageHeader } from "@/components/ui/card";
@@ -23,8 +24,8 @@ import { useYardSet } from "@/features/yard/offline/use-yard-sync";
 import { useOnline } from "@/features/yard/use-online";
 import { findInYard, nextSlab, rolledWords, sizeForUnknown, waitingInYard, type NextSlab } from "@/features/yard/yard-set";
 import { ApiError } from "@/lib/api-client";
-import { num, plural, time } from "@/lib/format";
-import { faceLabel, reviewLabel } from "@/lib/labels";
+import { useTerms } from "@/i18n/terms";
+import { count, formatLocale, num, time } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -74,6 +75,8 @@ interface ShownSlab {
 }
 
 export function Component() {
+  const { t } = useTranslation("yard");
+  const { term } = useTerms();
   const { slabId: rawId = "" } = useParams();
   const slabId = rawId.trim().toUpperCase();
   const [search] = useSearchParams();
@@ -146,25 +149,24 @@ export function Component() {
     );
   } else {
     const w = waitingInYard(slabsOnTablet, done)[0];
-    next = w ? { slabId: w.slabId, kind: "uninspected", why: `Not inspected yet: heat ${w.heatNo}, strand ${w.strandNo}, waiting longest` } : null;
+    next = w ? { slabId: w.slabId, kind: "uninspected", why: t("nextSlab.notInspected", { heat: w.heatNo, strand: w.strandNo }) } : null;
   }
 
   const refusedHere = outbox.entries.filter((e) => e.slabId === slabId && refusedForSlabId(e));
-  const onFixed = (to: string) =>
-    navigate(`/yard/slabs/${encodeURIComponent(to)}`, { state: { flash: `The entry was given slab id ${to} and is sent again.` } });
+  const onFixed = (to: string) => navigate(`/yard/slabs/${encodeURIComponent(to)}`, { state: { flash: t("slabPage.fixedFlash", { slabId: to }) } });
 
-  if (server.isPending || (!s && !notFound && !yard.ready)) return <Spinner label="Loading the slab" />;
+  if (server.isPending || (!s && !notFound && !yard.ready)) return <Spinner label={t("slabPage.loading")} />;
   if (!s) {
     // The server knows no slab by this id.
     return (
       <div className="mx-auto max-w-3xl space-y-4">
-        <PageHeader title={`Slab ${slabId}`} subtitle="Not on record" />
+        <PageHeader title={t("slabPage.title", { slabId })} subtitle={t("slabPage.notOnRecord")} />
         <Notice tone="error">{server.error?.message}</Notice>
         <SlabIdFixes entries={refusedHere} onFixed={onFixed} linkToEntry={false} />
         <div className="flex flex-wrap gap-2 pb-4">
           <NextSlabLink next={next} />
           <Link to="/yard" className={`${linkButton} border border-ink-300 bg-white text-ink-900 hover:bg-ink-50`}>
-            Find another slab
+            {t("slabPage.findAnother")}
           </Link>
         </div>
       </div>
@@ -178,13 +180,13 @@ export function Component() {
   if (editId !== null) {
     if (editing.data) {
       if (editing.data.canEdit) mode = { kind: "edit", defect: editing.data };
-      else modeProblem = `This entry is ${reviewLabel(editing.data.reviewStatus).toLowerCase()}: after the review only a quality engineer can change it.`;
+      else modeProblem = t(`slabPage.locked.${editing.data.reviewStatus}`, { defaultValue: t("slabPage.locked.other", { status: editing.data.reviewStatus }) });
     } else if (editing.isError) modeProblem = editing.error.message;
   } else if (entryKey) {
     const entry = onThisSlab.find((e) => e.clientKey === entryKey);
     if (entry?.body && entry.defectId === null && !refusedForSlabId(entry)) mode = { kind: "fix", entry };
     else if (entry && refusedForSlabId(entry)) modeProblem = null;
-    else if (outbox.ready) modeProblem = "That entry has been sent meanwhile: change it from today's entries.";
+    else if (outbox.ready) modeProblem = t("slabPage.sentMeanwhile");
   }
   const waitingForMode = (editId !== null && editing.isPending) || (entryKey !== null && !outbox.ready);
 
@@ -218,34 +220,40 @@ export function Component() {
   ];
   const mineHere = serverMine.filter((d) => d.slabId === slab.slabId && d.foundAt >= range.since);
   const leave = (message: string) => void navigate(`/yard/slabs/${encodeURIComponent(slab.slabId)}`, { replace: true, state: { flash: message } });
-  const rolled = info?.products.length ? `This slab was ${rolledWords(info.products)}.` : null;
+  const rolled = info?.products.length ? rolledWords(info.products) : null;
   const synced = yard.stored ? time(new Date(yard.stored.syncedAt).toISOString()) : null;
   const subtitle =
     slab.source === "unknown"
-      ? "Not on this tablet — it will be checked when the network is back."
-      : `Heat ${slab.heatNo} · ${slab.gradeCode} · strand ${slab.strandNo}, piece ${slab.pieceNo} · ${num(slab.thicknessMm)} × ${num(slab.widthMm)} × ${num(slab.lengthMm)} mm`;
+      ? t("slabPage.unknownSubtitle")
+      : t("slabPage.subtitle", {
+          heat: slab.heatNo,
+          grade: slab.gradeCode,
+          strand: slab.strandNo,
+          piece: slab.pieceNo,
+          thickness: num(slab.thicknessMm),
+          width: num(slab.widthMm),
+          length: num(slab.lengthMm),
+        });
 
   return (
     <div className="mx-auto max-w-5xl space-y-4" data-slab-source={slab.source}>
-      <PageHeader title={`Slab ${slab.slabId}`} subtitle={subtitle} actions={<NextSlabLink next={next} tone="outline" />} />
+      <PageHeader title={t("slabPage.title", { slabId: slab.slabId })} subtitle={subtitle} actions={<NextSlabLink next={next} tone="outline" />} />
       <HotYardCaution />
       {slab.source === "tablet" ? (
-        <Notice tone="info" title="Offline">
-          This slab comes from the slabs on this tablet (synced {synced}). Your own entries on it are drawn; the rest of its record comes back with the network.
+        <Notice tone="info" title={t("slabPage.offline")}>
+          {t("slabPage.offlineText", { synced })}
         </Notice>
       ) : null}
       {slab.source === "unknown" ? (
         <div data-testid="unknown-slab">
-          <Notice tone="caution" title="Not on this tablet">
-            {slab.slabId} is not among the slabs kept on this tablet: it will be checked when the network is back. If the server does not know it, the entry
-            comes back to you to correct the id — nothing is lost. The drawing uses the largest slab on this tablet ({num(slab.thicknessMm)} ×{" "}
-            {num(slab.widthMm)} × {num(slab.lengthMm)} mm); the server checks the position against the real slab.
+          <Notice tone="caution" title={t("slabPage.notOnTablet")}>
+            {t("slabPage.notOnTabletText", { slabId: slab.slabId, thickness: num(slab.thicknessMm), width: num(slab.widthMm), length: num(slab.lengthMm) })}
           </Notice>
         </div>
       ) : null}
       {rolled ? (
         <div data-testid="rolled-notice">
-          <Notice tone="caution" title="Already rolled">
+          <Notice tone="caution" title={t("slabPage.alreadyRolled")}>
             {rolled}
           </Notice>
         </div>
@@ -255,10 +263,10 @@ export function Component() {
       <OutboxStatus outbox={outbox} />
       {flash ? (
         <div data-testid="flash" className="scroll-mt-3 space-y-2" ref={flashRef}>
-          <Notice tone="ok" title="Saved">
+          <Notice tone="ok" title={t("slabPage.saved")}>
             {flash}{" "}
             <button type="button" className="ml-2 min-h-12 font-semibold underline" onClick={() => setFlash(null)}>
-              Dismiss
+              {t("slabPage.dismiss")}
             </button>
           </Notice>
           <div className="flex flex-wrap gap-2">
@@ -268,17 +276,21 @@ export function Component() {
       ) : null}
       {modeProblem ? <Notice tone="caution">{modeProblem}</Notice> : null}
       {mode.kind !== "new" ? (
-        <Notice tone="info" title={mode.kind === "edit" ? "Changing an entry" : "Fixing a waiting entry"}>
+        <Notice tone="info" title={mode.kind === "edit" ? t("slabPage.changing") : t("slabPage.fixing")}>
           {mode.kind === "edit"
-            ? `Entry of ${new Date(mode.defect.foundAt).toLocaleString("en-GB", { hour: "2-digit", minute: "2-digit", day: "numeric", month: "short" })}. Your changes are saved on the server.`
-            : "It has not reached the server yet; after saving it is sent again."}
+            ? t("slabPage.changingText", {
+                when: new Intl.DateTimeFormat(formatLocale(), { hour: "2-digit", minute: "2-digit", day: "numeric", month: "short" }).format(
+                  new Date(mode.defect.foundAt),
+                ),
+              })
+            : t("slabPage.fixingText")}
         </Notice>
       ) : null}
 
       {waitingForMode || (catalogue.isPending && !types) ? (
-        <Spinner label="Loading" />
+        <Spinner label={t("slabPage.loadingShort")} />
       ) : !types ? (
-        <Notice tone="error">The defect catalogue could not be loaded: {catalogue.error?.message}</Notice>
+        <Notice tone="error">{t("slabPage.noCatalogue", { message: catalogue.error?.message ?? "" })}</Notice>
       ) : me.data ? (
         <DefectForm
           key={mode.kind === "edit" ? `edit-${mode.defect.id}` : mode.kind === "fix" ? `fix-${mode.entry.clientKey}` : `new-${slab.slabId}`}
@@ -289,17 +301,24 @@ export function Component() {
           rolled={rolled}
           onCancel={mode.kind === "new" ? undefined : () => navigate(`/yard/slabs/${encodeURIComponent(slab.slabId)}`, { replace: true })}
           onSaved={({ kind, summary, photoCount }) => {
-            const what = `${summary.typeCode} ${summary.typeName}, severity ${summary.severity}${photoCount ? `, ${plural(photoCount, "photo")}` : ""}`;
-            if (kind === "new") setFlash(`${what} — kept on this tablet and sent from there. Ready for the next defect on ${slab.slabId}.`);
-            else if (kind === "fix") leave(`${what} — changed and sent again.`);
-            else leave(`${what} — changes saved.`);
+            const words = {
+              code: summary.typeCode,
+              name: summary.typeName,
+              severity: summary.severity,
+              slabId: slab.slabId,
+              count: photoCount,
+              n: count(photoCount),
+            };
+            const said = t(`slabPage.savedFlash.${kind}${photoCount ? "Photos" : ""}`, words);
+            if (kind === "new") setFlash(said);
+            else leave(said);
           }}
           renderDrawing={({ position, onPlace, extent }) => (
             <div className="space-y-3">
               <SlabDrawing slab={slab} marks={marks} placement={position} extent={extent} onPlace={onPlace} />
               <div className="space-y-1 border-t border-ink-100 pt-3">
                 <p className="text-sm text-ink-700">
-                  <b>Internal defect</b> (sulphur print, macro-etch)? Tap the cross-section below, seen from the head end, drawn to scale.
+                  <Trans t={t} i18nKey="slabPage.internal" components={{ 1: <b /> }} />
                 </p>
                 <CrossSection
                   slab={slab}
@@ -311,7 +330,10 @@ export function Component() {
               {slab.defects.length ? (
                 <details className="rounded-md border border-ink-200 bg-ink-50 px-3 py-2 text-sm">
                   <summary className="flex min-h-12 cursor-pointer items-center font-semibold">
-                    {slab.source === "server" ? "On record for this slab" : "Your entries on this slab"}: {plural(slab.defects.length, "defect")}
+                    {t(slab.source === "server" ? "slabPage.onRecord" : "slabPage.yourEntriesHere", {
+                      count: slab.defects.length,
+                      n: count(slab.defects.length),
+                    })}
                   </summary>
                   <ol className="space-y-1 pb-2">
                     {slab.defects.map((d, i) => (
@@ -321,7 +343,11 @@ export function Component() {
                         <span>{d.typeName}</span>
                         <SeverityMark severity={d.severity} />
                         <span className="text-ink-700">
-                          {faceLabel(d.face)}, {num(d.positionAlongMm)} mm · {reviewLabel(d.reviewStatus)}
+                          {t("slabPage.defectLine", {
+                            face: term("faces", d.face),
+                            along: num(d.positionAlongMm),
+                            review: t(`reviewStatus.${d.reviewStatus}`, { defaultValue: d.reviewStatus }),
+                          })}
                         </span>
                       </li>
                     ))}
@@ -333,17 +359,17 @@ export function Component() {
         />
       ) : null}
 
-      <Card title={`Your entries on ${slab.slabId} today`}>
-        <EntriesList server={mineHere} outbox={{ ...outbox, entries: onThisSlab }} showSlab={false} empty="None yet on this slab." />
+      <Card title={t("slabPage.todayHere", { slabId: slab.slabId })}>
+        <EntriesList server={mineHere} outbox={{ ...outbox, entries: onThisSlab }} showSlab={false} empty={t("slabPage.noneHere")} />
       </Card>
       <div className="flex flex-wrap gap-2 pb-4">
         <NextSlabLink next={next} />
         <Link to="/yard" className={`${linkButton} border border-ink-300 bg-white text-ink-900 hover:bg-ink-50`}>
-          Find another slab
+          {t("slabPage.findAnother")}
         </Link>
         {slab.source === "server" ? (
           <Link to={`/slabs/${encodeURIComponent(slab.slabId)}`} className={`${linkButton} border border-ink-300 bg-white text-ink-900 hover:bg-ink-50`}>
-            Slab record: conditions and all defects
+            {t("slabPage.record")}
           </Link>
         ) : null}
       </div>

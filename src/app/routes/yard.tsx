@@ -1,5 +1,6 @@
 import { useEffect } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { useNavigate } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -32,6 +33,7 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("yard");
   const navigate = useNavigate();
   const me = useQuery(authKeys.me());
   // The yard's slabs on this tablet: synced on opening, when the network returns, every few minutes.
@@ -51,7 +53,7 @@ export function Component() {
   const checkFirst = checkFirstOrder(waiting);
   return (
     <div className="mx-auto max-w-3xl space-y-5">
-      <PageHeader title="Find a slab" subtitle="Type the id or scan the slab's label." />
+      <PageHeader title={t("yardPage.title")} subtitle={t("yardPage.subtitle")} />
       <HotYardCaution />
       <Card>
         <div className="flex items-start gap-3">
@@ -68,28 +70,28 @@ export function Component() {
       <SlabIdFixes entries={outbox.entries} />
       <OutboxStatus outbox={outbox} />
       {checkFirst.length ? (
-        <Card title="Check first">
+        <Card title={t("yardPage.checkFirst")}>
           <CheckFirst ordered={checkFirst} />
         </Card>
       ) : null}
       {slabs ? (
-        <Card title="Waiting for inspection">
+        <Card title={t("yardPage.waiting")}>
           <WaitingSlabs waiting={waiting} />
         </Card>
       ) : null}
-      <Card title="Your entries today" actions={today.isFetching ? <Spinner label="Updating" /> : null}>
+      <Card title={t("yardPage.today")} actions={today.isFetching ? <Spinner label={t("yardPage.updating")} /> : null}>
         {today.isError ? (
           <div className="mb-3">
             {outbox.online ? (
-              <Notice tone="caution" title="Not up to date">
-                {today.error.message} Entries on this tablet are shown; the server's list comes back with the network.
+              <Notice tone="caution" title={t("yardPage.notUpToDate")}>
+                {t("yardPage.notUpToDateText", { message: today.error.message })}
               </Notice>
             ) : (
-              <p className="text-sm text-ink-700">As of the tablet's last sync; the server's list comes back with the network.</p>
+              <p className="text-sm text-ink-700">{t("yardPage.asOfLastSync")}</p>
             )}
           </div>
         ) : null}
-        {today.isPending && !today.isError ? <Spinner label="Loading today's entries" /> : <EntriesList server={mine} outbox={outbox} />}
+        {today.isPending && !today.isError ? <Spinner label={t("yardPage.loadingToday")} /> : <EntriesList server={mine} outbox={outbox} />}
       </Card>
     </div>
   );

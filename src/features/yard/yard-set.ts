@@ -1,4 +1,5 @@
 import type { YardProduct, YardSlab } from "@shared/api/yard";
+import { i18n } from "@/i18n";
 import { dateTime } from "@/lib/format";
 
 /** The slabs whose id or heat number starts with what was typed, exact id first; at most `limit`. */
@@ -40,7 +41,11 @@ export function nextSlab(slabs: readonly YardSlab[], current: Current, done: Rea
       ?.slabId ??
     null;
   if (nextPiece) {
-    return { slabId: nextPiece, kind: "piece", why: `Piece ${current.pieceNo + 1} of heat ${current.heatNo}, strand ${current.strandNo}` };
+    return {
+      slabId: nextPiece,
+      kind: "piece",
+      why: i18n.t("yard:nextSlab.piece", { piece: current.pieceNo + 1, heat: current.heatNo, strand: current.strandNo }),
+    };
   }
   const waiting = slabs.filter((s) => s.uninspected && !done.has(s.slabId) && s.slabId !== current.slabId);
   const after = castMs(current);
@@ -49,11 +54,11 @@ export function nextSlab(slabs: readonly YardSlab[], current: Current, done: Rea
     .sort((a, b) => castMs(a) - castMs(b))[0];
   const pick = sameStrand ?? [...waiting].sort((a, b) => castMs(a) - castMs(b))[0];
   if (!pick) return null;
-  const where = pick.strandNo === current.strandNo ? `strand ${pick.strandNo}` : `strand ${pick.strandNo}, waiting longest`;
+  const words = { heat: current.heatNo, strand: current.strandNo, nextHeat: pick.heatNo, nextStrand: pick.strandNo };
   return {
     slabId: pick.slabId,
     kind: "uninspected",
-    why: `Last piece of heat ${current.heatNo} on strand ${current.strandNo}. Next not yet inspected: heat ${pick.heatNo}, ${where}`,
+    why: pick.strandNo === current.strandNo ? i18n.t("yard:nextSlab.lastPieceSameStrand", words) : i18n.t("yard:nextSlab.lastPieceOtherStrand", words),
   };
 }
 
@@ -76,7 +81,10 @@ export function sizeForUnknown(slabs: readonly YardSlab[] | undefined) {
   };
 }
 
-/** "rolled on 1 Dec 2026, 02:14 into coil K26000331" (several: "into coils K…, K…"). */
+/**
+ * "This slab was rolled on 1 Dec 2026, 02:14 into coil K26000331." (several: "into coils K…, K…"),
+ * in the language shown.
+ */
 export function rolledWords(products: readonly YardProduct[]): string {
   const first =
     products
@@ -84,7 +92,8 @@ export function rolledWords(products: readonly YardProduct[]): string {
       .filter(Boolean)
       .sort()[0] ?? null;
   const kinds = new Set(products.map((p) => p.kind));
-  const noun = kinds.size === 1 ? ([...kinds][0] === "plate" ? "plate" : "coil") : "coil/plate";
+  const noun = kinds.size === 1 ? ([...kinds][0] === "plate" ? "plate" : "coil") : "coilOrPlate";
   const ids = products.map((p) => p.productId).join(", ");
-  return `${first ? `rolled on ${dateTime(first)}` : "rolled"} into ${products.length > 1 ? `${noun}s` : noun} ${ids}`;
+  const key = `yard:rolled.${first ? "on" : "undated"}.${noun}`;
+  return i18n.t(key, { count: products.length, ids, when: first ? dateTime(first) : "" });
 }

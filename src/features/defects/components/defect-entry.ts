@@ -1,5 +1,7 @@
 import { defectCreateSchema, type Defect, type DefectCreate, type DefectUpdate } from "@shared/api/defects";
+import type { z } from "zod";
 import type { Disposition, Face, Severity, Stage } from "@shared/domain";
+import { i18n } from "@/i18n";
 import { num } from "@/lib/format";
 import { acrossLimit, type PositionValue, type SlabLimits } from "./position-panel";
 
@@ -83,6 +85,15 @@ const FIELD_OF: Record<string, DraftField> = {
   note: "note",
 };
 
+/** A check of the shared schema in the language shown: its bounds in words, any other message as it is. */
+function issueWords(issue: z.core.$ZodIssue): string {
+  if (issue.code === "too_small" && issue.origin === "number") return i18n.t("yard:entry.errors.positive");
+  if ((issue.code === "too_big" && issue.origin === "number") || (issue.code === "invalid_type" && issue.expected === "number"))
+    return i18n.t("yard:entry.errors.mmNumber");
+  if (issue.code === "too_big" && issue.origin === "string") return i18n.t("yard:entry.errors.atMostChars", { max: String(issue.maximum) });
+  return issue.message;
+}
+
 /**
  * The defect to send, checked against the shared schema and the slab's own size, or the plain
  * words of what is still missing. The order of the errors is the order of the form.
@@ -95,14 +106,14 @@ export function buildDefect(
 ): { ok: true; body: DefectCreate } | { ok: false; errors: DraftErrors } {
   const errors: DraftErrors = {};
   const p = draft.position;
-  if (!p) errors.position = "Tap the drawing where the defect is.";
-  else if (p.alongMm > slab.lengthMm) errors.position = `Along is at most the slab's length, ${num(slab.lengthMm)} mm.`;
-  else if (p.acrossMm > acrossLimit(slab, p.face)) errors.position = `Across is at most ${num(acrossLimit(slab, p.face))} mm on this face.`;
-  if (!draft.typeCode) errors.typeCode = "Choose the defect type.";
-  if (!draft.severity) errors.severity = "Choose the severity.";
-  if (!draft.disposition) errors.disposition = "Choose what happens to the slab.";
+  if (!p) errors.position = i18n.t("yard:entry.errors.tapDrawing");
+  else if (p.alongMm > slab.lengthMm) errors.position = i18n.t("yard:entry.errors.alongMax", { max: num(slab.lengthMm) });
+  else if (p.acrossMm > acrossLimit(slab, p.face)) errors.position = i18n.t("yard:entry.errors.acrossMax", { max: num(acrossLimit(slab, p.face)) });
+  if (!draft.typeCode) errors.typeCode = i18n.t("yard:entry.errors.type");
+  if (!draft.severity) errors.severity = i18n.t("yard:entry.errors.severity");
+  if (!draft.disposition) errors.disposition = i18n.t("yard:entry.errors.disposition");
   const sizes = { lengthMm: parseSize(draft.lengthMm), widthMm: parseSize(draft.widthMm), depthMm: parseSize(draft.depthMm) };
-  for (const [k, v] of Object.entries(sizes)) if (Number.isNaN(v)) errors[k as DraftField] = "Enter a number of millimetres, or leave it empty.";
+  for (const [k, v] of Object.entries(sizes)) if (Number.isNaN(v)) errors[k as DraftField] = i18n.t("yard:entry.errors.size");
   if (Object.keys(errors).length) return { ok: false, errors };
 
   const candidate = {
@@ -125,7 +136,7 @@ export function buildDefect(
   if (!parsed.success) {
     for (const issue of parsed.error.issues) {
       const field = FIELD_OF[String(issue.path[0])] ?? "note";
-      errors[field] ??= issue.message;
+      errors[field] ??= issueWords(issue);
     }
     return { ok: false, errors };
   }

@@ -1,9 +1,11 @@
 import { useState, type ReactNode } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import type { Defect, DefectType } from "@shared/api/defects";
-import { DISPOSITION_LABELS, DISPOSITIONS, SEVERITIES, SEVERITY_LABELS, STAGE_LABELS, STAGES } from "@shared/domain";
+import { DISPOSITIONS, SEVERITIES, STAGES } from "@shared/domain";
 import { Button } from "@/components/ui/button";
 import { SeverityMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
+import { useTerms } from "@/i18n/terms";
 import { ApiError } from "@/lib/api-client";
 import { newClientKey } from "@/lib/client-key";
 import { useDeletePhoto, useUpdateDefect } from "../api/defects.queries";
@@ -33,6 +35,7 @@ const SECTION_OF: Partial<Record<DraftField, string>> = {
   depthMm: "entry-size",
   disposition: "entry-disposition",
 };
+/** What the bar says is still missing, by its key under entry.missing. */
 const MISSING_WORDS: Partial<Record<DraftField, string>> = {
   position: "where",
   typeCode: "type",
@@ -57,8 +60,23 @@ function Section({ id, step, title, children, aside }: { id: string; step: numbe
   );
 }
 
-function SizeField({ label, value, onChange, error, hint }: { label: string; value: string; onChange: (v: string) => void; error?: string; hint?: string }) {
-  const id = `size-${label.toLowerCase().replace(/\W+/g, "-")}`;
+function SizeField({
+  name,
+  label,
+  value,
+  onChange,
+  error,
+  hint,
+}: {
+  /** The field's id, the same in every language: size-length, size-width, size-depth. */
+  name: string;
+  label: string;
+  value: string;
+  onChange: (v: string) => void;
+  error?: string;
+  hint?: string;
+}) {
+  const id = `size-${name}`;
   return (
     <div className="flex flex-col gap-1">
       <label htmlFor={id} className="text-sm font-semibold text-ink-800">
@@ -120,6 +138,8 @@ export function DefectForm({
    */
   rolled?: string | null;
 }) {
+  const { t } = useTranslation("yard");
+  const { term } = useTerms();
   const [draft, setDraft] = useState<EntryDraft>(() => initialDraft(mode));
   const [photos, setPhotos] = useState<LocalPhoto[]>([]);
   const [errors, setErrors] = useState<DraftErrors>({});
@@ -220,67 +240,92 @@ export function DefectForm({
   const saveLabel =
     mode.kind === "new"
       ? saving
-        ? "Saving…"
-        : "Save defect"
+        ? t("entry.saving")
+        : t("entry.saveNew")
       : mode.kind === "fix"
         ? saving
-          ? "Saving…"
-          : "Save and send again"
+          ? t("entry.saving")
+          : t("entry.saveFix")
         : saving
-          ? "Saving…"
-          : "Save changes";
+          ? t("entry.saving")
+          : t("entry.saveEdit");
 
   return (
     <div className="space-y-4">
       {mode.kind === "fix" && mode.entry.blocked ? (
-        <Notice tone="error" title="The server refused this entry">
-          {mode.entry.blocked.message} Change what it names and save: the entry is sent again.
+        <Notice tone="error" title={t("entry.refused")}>
+          {t("entry.refusedText", { message: mode.entry.blocked.message })}
         </Notice>
       ) : null}
-      <Section id="entry-where" step={1} title="Where is it?">
+      <Section id="entry-where" step={1} title={t("entry.where")}>
         {renderDrawing({ position: draft.position, onPlace: (p) => set("position", p), extent })}
         <PositionPanel slab={slab} value={draft.position} onChange={(p) => set("position", p)} error={errors.position} />
       </Section>
 
-      <Section id="entry-type" step={2} title="What is it?">
+      <Section id="entry-type" step={2} title={t("entry.what")}>
         <TypePicker types={types} value={draft.typeCode} onChange={(c) => set("typeCode", c)} error={errors.typeCode} />
         <ChoiceTiles
           id="entry-severity"
-          label="Severity"
+          label={t("entry.severity")}
           columns="grid-cols-2 md:grid-cols-4"
           value={draft.severity}
           onChange={(s) => set("severity", s)}
           error={errors.severity}
-          choices={SEVERITIES.map((s) => ({ value: s, name: `${SEVERITY_LABELS[s]} (${s})`, label: <SeverityMark severity={s} large /> }))}
+          choices={SEVERITIES.map((s) => ({
+            value: s,
+            name: t("entry.severityName", { label: term("severities", s), severity: s }),
+            label: <SeverityMark severity={s} large />,
+          }))}
         />
         <div id="entry-size" className="grid scroll-mt-24 grid-cols-3 gap-3">
-          <SizeField label="Length" value={draft.lengthMm} onChange={(v) => set("lengthMm", v)} error={errors.lengthMm} hint="along the slab" />
-          <SizeField label="Width" value={draft.widthMm} onChange={(v) => set("widthMm", v)} error={errors.widthMm} hint="across" />
-          <SizeField label="Depth" value={draft.depthMm} onChange={(v) => set("depthMm", v)} error={errors.depthMm} hint="if measured" />
+          <SizeField
+            name="length"
+            label={t("entry.length")}
+            value={draft.lengthMm}
+            onChange={(v) => set("lengthMm", v)}
+            error={errors.lengthMm}
+            hint={t("entry.lengthHint")}
+          />
+          <SizeField
+            name="width"
+            label={t("entry.width")}
+            value={draft.widthMm}
+            onChange={(v) => set("widthMm", v)}
+            error={errors.widthMm}
+            hint={t("entry.widthHint")}
+          />
+          <SizeField
+            name="depth"
+            label={t("entry.depth")}
+            value={draft.depthMm}
+            onChange={(v) => set("depthMm", v)}
+            error={errors.depthMm}
+            hint={t("entry.depthHint")}
+          />
         </div>
-        <p className="-mt-2 text-xs text-ink-600">The position marks the defect's end nearest the head end; the length runs from there toward the tail.</p>
+        <p className="-mt-2 text-xs text-ink-600">{t("entry.positionNote")}</p>
       </Section>
 
-      <Section id="entry-disposition" step={3} title="What happens to the slab?">
+      <Section id="entry-disposition" step={3} title={t("entry.whatHappens")}>
         <ChoiceTiles
-          label="Found at"
+          label={t("entry.foundAt")}
           columns="grid-cols-2 md:grid-cols-5"
           value={draft.stage}
           onChange={(s) => set("stage", s)}
-          choices={STAGES.map((s) => ({ value: s, label: STAGE_LABELS[s] }))}
+          choices={STAGES.map((s) => ({ value: s, label: term("stages", s) }))}
         />
         <ChoiceTiles
-          label="Disposition"
+          label={t("entry.disposition")}
           columns="grid-cols-2 md:grid-cols-3"
           value={draft.disposition}
           onChange={(d) => set("disposition", d)}
           error={errors.disposition}
-          choices={DISPOSITIONS.map((d) => ({ value: d, label: DISPOSITION_LABELS[d] }))}
+          choices={DISPOSITIONS.map((d) => ({ value: d, label: term("dispositions", d) }))}
         />
-        <p className="text-xs text-ink-600">Dispositions follow the plant's quality procedures and the customer's specification.</p>
+        <p className="text-xs text-ink-600">{t("entry.dispositionNote")}</p>
         <div className="flex flex-col gap-1">
           <label htmlFor="entry-note" className="text-base font-semibold text-ink-900">
-            Note <span className="font-normal text-ink-600">(optional)</span>
+            <Trans t={t} i18nKey="entry.note" components={{ 1: <span className="font-normal text-ink-600" /> }} />
           </label>
           <textarea
             id="entry-note"
@@ -298,24 +343,24 @@ export function DefectForm({
         </div>
       </Section>
 
-      <Section id="entry-photos" step={4} title="Photos">
+      <Section id="entry-photos" step={4} title={t("entry.photos")}>
         {existingPhotos.length ? (
-          <ul className="flex flex-wrap gap-3" aria-label="Photos on the server">
+          <ul className="flex flex-wrap gap-3" aria-label={t("entry.photosOnServer")}>
             {existingPhotos.map((p, i) => (
               <li key={p.id} className="flex flex-col items-center gap-1">
-                <img src={p.thumbUrl} alt={`Stored photo ${i + 1}`} className="h-24 w-24 rounded-md border border-ink-300 object-cover" />
+                <img src={p.thumbUrl} alt={t("entry.storedPhoto", { n: i + 1 })} className="h-24 w-24 rounded-md border border-ink-300 object-cover" />
                 {confirmPhoto === p.id ? (
                   <div className="flex gap-1">
                     <Button variant="danger" className="min-h-12" onClick={() => void removeServerPhoto(p.id)} disabled={deletePhoto.isPending}>
-                      Delete
+                      {t("entry.delete")}
                     </Button>
                     <Button variant="ghost" className="min-h-12" onClick={() => setConfirmPhoto(null)}>
-                      Keep
+                      {t("entry.keep")}
                     </Button>
                   </div>
                 ) : (
                   <button type="button" className="min-h-12 px-3 text-sm font-semibold text-alarm-700 underline" onClick={() => setConfirmPhoto(p.id)}>
-                    Delete…
+                    {t("entry.deleteAsk")}
                   </button>
                 )}
               </li>
@@ -323,7 +368,7 @@ export function DefectForm({
           </ul>
         ) : null}
         {mode.kind === "fix" ? (
-          <p className="text-sm text-ink-700">This entry's {mode.entry.photos.length} photo(s) stay with it and are sent after it.</p>
+          <p className="text-sm text-ink-700">{t("entry.fixPhotos", { count: mode.entry.photos.length, n: mode.entry.photos.length })}</p>
         ) : (
           <PhotoPicker photos={photos} onChange={setPhotos} already={existingPhotos.length} />
         )}
@@ -342,11 +387,11 @@ export function DefectForm({
             data-testid="rolled-question"
           >
             <p id="rolled-question" className="text-base text-ink-900">
-              <b>Already rolled.</b> {rolled} Log a slab-yard finding anyway?
+              <Trans t={t} i18nKey="entry.rolledQuestion" values={{ rolled }} components={{ 1: <b /> }} />
             </p>
             <div className="flex flex-wrap gap-2">
               <Button size="lg" onClick={() => void save(true)} disabled={saving}>
-                Yes, log it as found in the slab yard
+                {t("entry.rolledYes")}
               </Button>
               <Button
                 variant="secondary"
@@ -356,7 +401,7 @@ export function DefectForm({
                   document.getElementById("entry-disposition")?.scrollIntoView({ behavior: "smooth", block: "start" });
                 }}
               >
-                No, change “Found at”
+                {t("entry.rolledNo")}
               </Button>
             </div>
           </div>
@@ -364,19 +409,22 @@ export function DefectForm({
         <div className="flex flex-wrap items-center justify-between gap-3">
           <p className="text-sm text-ink-700" aria-live="polite" data-testid="save-needs">
             {missing.length ? (
-              <>
-                <span className="font-semibold text-ink-900">Still needed:</span> {missing.map((f) => MISSING_WORDS[f]).join(", ")}
-              </>
+              <Trans
+                t={t}
+                i18nKey="entry.stillNeeded"
+                values={{ list: missing.map((f) => t(`entry.missing.${MISSING_WORDS[f]}`)).join(", ") }}
+                components={{ 1: <span className="font-semibold text-ink-900" /> }}
+              />
             ) : mode.kind === "new" ? (
-              <>Ready. The entry is kept on this tablet first and sent from there.</>
+              t("entry.readyNew")
             ) : (
-              <>Ready.</>
+              t("entry.ready")
             )}
           </p>
           <div className="flex gap-2">
             {onCancel ? (
               <Button variant="secondary" size="lg" onClick={onCancel}>
-                Cancel
+                {t("entry.cancel")}
               </Button>
             ) : null}
             <Button size="lg" onClick={() => void save()} disabled={saving} className="min-w-48">

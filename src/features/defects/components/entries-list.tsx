@@ -1,12 +1,13 @@
 import { useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import type { Defect } from "@shared/api/defects";
 import { Button } from "@/components/ui/button";
 import { SeverityMark, StatusMark, type EntryStatus } from "@/components/ui/marks";
 import { ProgressBar } from "@/components/ui/progress";
 import { ApiError } from "@/lib/api-client";
-import { dateTime, num, plural, time } from "@/lib/format";
-import { faceLabel, reviewLabel } from "@/lib/labels";
+import { useTerms } from "@/i18n/terms";
+import { count, dateTime, num, time } from "@/lib/format";
 import { useDeleteDefect } from "../api/defects.queries";
 import { getOutbox } from "../offline/outbox-instance";
 import type { OutboxEntryView, OutboxPhotoView, OutboxSnapshot } from "../offline/outbox";
@@ -48,6 +49,7 @@ function statusOf(row: Row): EntryStatus {
 }
 
 function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo: OutboxPhotoView; index: number }) {
+  const { t } = useTranslation("yard");
   const [error, setError] = useState<string | null>(null);
   const uploading = photo.progress !== undefined;
   return (
@@ -56,10 +58,10 @@ function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo:
       data-testid="waiting-photo"
       data-photo-state={photo.photoId ? "sent" : photo.problem ? "refused" : uploading ? "uploading" : "waiting"}
     >
-      <BlobThumb blob={photo.blob} photoKey={`${entry.clientKey}/${photo.key}`} alt={`Photo ${index + 1} on the tablet`} className="h-14 w-14" />
+      <BlobThumb blob={photo.blob} photoKey={`${entry.clientKey}/${photo.key}`} alt={t("entries.photoOnTablet", { n: index + 1 })} className="h-14 w-14" />
       <div className="min-w-0 flex-1 space-y-1">
         {photo.photoId ? (
-          <StatusMark status="sent" label="Photo stored" />
+          <StatusMark status="sent" label={t("entries.photoStored")} />
         ) : photo.problem ? (
           <>
             <p className="text-sm font-semibold text-alarm-700">{photo.problem.message}</p>
@@ -72,13 +74,17 @@ function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo:
                   .catch((e: Error) => setError(e.message))
               }
             >
-              Remove this photo
+              {t("entries.removePhoto")}
             </Button>
           </>
         ) : uploading ? (
-          <ProgressBar label={`Photo ${index + 1}`} value={photo.progress ?? null} detail={photo.progress === 1 ? "stored on the server…" : undefined} />
+          <ProgressBar
+            label={t("photos.photo", { n: index + 1 })}
+            value={photo.progress ?? null}
+            detail={photo.progress === 1 ? t("entries.storingOnServer") : undefined}
+          />
         ) : (
-          <StatusMark status="waiting" label={`Photo ${index + 1} waiting`} />
+          <StatusMark status="waiting" label={t("entries.photoWaiting", { n: index + 1 })} />
         )}
         {error ? <p className="text-sm text-alarm-700">{error}</p> : null}
       </div>
@@ -87,6 +93,7 @@ function PhotoProgress({ entry, photo, index }: { entry: OutboxEntryView; photo:
 }
 
 function ConfirmButton({ label, confirmLabel, onConfirm, busy }: { label: string; confirmLabel: string; onConfirm: () => void; busy?: boolean }) {
+  const { t } = useTranslation("yard");
   const [asking, setAsking] = useState(false);
   if (!asking)
     return (
@@ -100,13 +107,15 @@ function ConfirmButton({ label, confirmLabel, onConfirm, busy }: { label: string
         {confirmLabel}
       </Button>
       <Button variant="ghost" size="lg" onClick={() => setAsking(false)}>
-        Keep it
+        {t("entries.keepIt")}
       </Button>
     </span>
   );
 }
 
 function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
+  const { t } = useTranslation("yard");
+  const { term } = useTerms();
   const [error, setError] = useState<string | null>(null);
   const del = useDeleteDefect();
   const status = statusOf(row);
@@ -138,7 +147,7 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
           {serverPhotos[0] ? (
             <img
               src={serverPhotos[0].thumbUrl}
-              alt={`Photo of the defect on ${row.slabId}`}
+              alt={t("entries.thumb", { slabId: row.slabId })}
               className="h-20 w-20 rounded-md border border-ink-300 object-cover"
               data-testid="entry-thumb"
             />
@@ -146,11 +155,13 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
             <BlobThumb
               blob={localPhotos[0].photo.blob}
               photoKey={`${localPhotos[0].entry.clientKey}/${localPhotos[0].photo.key}`}
-              alt={`Photo of the defect on ${row.slabId}, on the tablet`}
+              alt={t("entries.thumbOnTablet", { slabId: row.slabId })}
               className="h-20 w-20"
             />
           ) : (
-            <div className="flex h-20 w-20 items-center justify-center rounded-md border border-dashed border-ink-300 text-xs text-ink-500">no photo</div>
+            <div className="flex h-20 w-20 items-center justify-center rounded-md border border-dashed border-ink-300 text-xs text-ink-500">
+              {t("entries.noPhoto")}
+            </div>
           )}
           {serverPhotos.length + localPhotos.filter((p) => !p.photo.photoId).length > 1 ? (
             <span className="absolute -right-2 -top-2 rounded-full bg-ink-900 px-2 py-0.5 text-xs font-bold text-white">
@@ -169,37 +180,37 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
           </div>
           <div className="flex flex-wrap items-center gap-x-4 gap-y-1 text-sm text-ink-700">
             <SeverityMark severity={summary.severity} />
-            <span>
-              {faceLabel(summary.face)} · {num(summary.alongMm)} mm from the head end
-            </span>
+            <span>{t("entries.where", { face: term("faces", summary.face), along: num(summary.alongMm) })}</span>
             <span>{time(row.at)}</span>
-            {d && d.photos.length ? <span>{plural(d.photos.length, "photo")} stored</span> : null}
+            {d && d.photos.length ? <span>{t("entries.photosStored", { count: d.photos.length, n: count(d.photos.length) })}</span> : null}
           </div>
           {d && d.reviewStatus !== "new" ? (
             <p className="text-sm text-ink-700" data-testid="entry-readonly">
-              {reviewLabel(d.reviewStatus)}
-              {d.reviewedByName ? ` by ${d.reviewedByName}` : ""}
-              {d.reviewedAt ? `, ${dateTime(d.reviewedAt)}` : ""}. After the review only a quality engineer can change it.
+              {t(`entries.reviewed.${d.reviewedByName ? "by" : "plain"}${d.reviewedAt ? "At" : ""}`, {
+                status: t(`reviewStatus.${d.reviewStatus}`, { defaultValue: d.reviewStatus }),
+                name: d.reviewedByName ?? "",
+                when: d.reviewedAt ? dateTime(d.reviewedAt) : "",
+              })}
             </p>
           ) : null}
-          {d && d.reviewStatus === "new" && !d.canEdit ? <p className="text-sm text-ink-700">You cannot change this entry.</p> : null}
+          {d && d.reviewStatus === "new" && !d.canEdit ? <p className="text-sm text-ink-700">{t("entries.cannotChange")}</p> : null}
           {onTabletOnly && main!.state === "retrying" && main!.lastError ? (
             <p className="text-sm text-ink-700">
-              Not sent yet: {main!.lastError.message} Tried {plural(main!.attempts, "time")}; it tries again by itself.
+              {t("entries.notSentYet", { message: main!.lastError.message, count: main!.attempts, n: count(main!.attempts) })}
             </p>
           ) : null}
-          {row.local.some((e) => e.state === "signed-out") ? <p className="text-sm text-ink-700">Your session ended: sign in again and it is sent.</p> : null}
+          {row.local.some((e) => e.state === "signed-out") ? <p className="text-sm text-ink-700">{t("entries.sessionEnded")}</p> : null}
         </div>
       </div>
 
       {blocked?.blocked && !blocked.blocked.photoKey ? (
         <p className="rounded-md border-l-4 border-alarm-700 bg-alarm-100 px-3 py-2 text-sm" role="alert">
-          <b>The server refused it:</b> {blocked.blocked.message}
+          <Trans t={t} i18nKey="entries.refused" values={{ message: blocked.blocked.message }} components={{ 1: <b /> }} />
         </p>
       ) : null}
 
       {localPhotos.length ? (
-        <ul className="space-y-2 pl-0 md:pl-24" aria-label="Photos still on the tablet">
+        <ul className="space-y-2 pl-0 md:pl-24" aria-label={t("entries.photosOnTablet")}>
           {localPhotos.map(({ entry, photo }, i) => (
             <PhotoProgress key={photo.key} entry={entry} photo={photo} index={i} />
           ))}
@@ -215,19 +226,23 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
                 main!.state === "blocked" ? "bg-strand-700 text-white hover:bg-strand-800" : "border border-ink-300 bg-white text-ink-900 hover:bg-ink-50"
               }`}
             >
-              {main!.state === "blocked" ? "Fix it" : "Change"}
+              {main!.state === "blocked" ? t("entries.fixIt") : t("entries.change")}
             </Link>
             {main!.state === "blocked" || main!.state === "retrying" ? (
               <Button variant="secondary" size="lg" onClick={() => void run(getOutbox().retry(main!.clientKey))}>
-                {main!.state === "blocked" ? "Try again as it is" : "Send now"}
+                {main!.state === "blocked" ? t("entries.tryAgain") : t("entries.sendNow")}
               </Button>
             ) : null}
-            <ConfirmButton label="Discard…" confirmLabel="Discard this entry" onConfirm={() => void run(getOutbox().discard(main!.clientKey))} />
+            <ConfirmButton
+              label={t("entries.discard")}
+              confirmLabel={t("entries.discardConfirm")}
+              onConfirm={() => void run(getOutbox().discard(main!.clientKey))}
+            />
           </>
         ) : null}
         {!onTabletOnly && row.local.some((e) => e.state === "retrying" || e.state === "blocked") ? (
           <Button variant="secondary" size="lg" onClick={() => void run(Promise.all(row.local.map((e) => getOutbox().retry(e.clientKey))))}>
-            Send photos now
+            {t("entries.sendPhotos")}
           </Button>
         ) : null}
         {d && d.canEdit ? (
@@ -236,11 +251,11 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
               to={editLink}
               className="flex min-h-14 items-center rounded-md border border-ink-300 bg-white px-5 text-base font-semibold text-ink-900 hover:bg-ink-50"
             >
-              Change
+              {t("entries.change")}
             </Link>
             <ConfirmButton
-              label="Delete…"
-              confirmLabel="Delete this entry"
+              label={t("entries.delete")}
+              confirmLabel={t("entries.deleteConfirm")}
               busy={del.isPending}
               onConfirm={() =>
                 void run(
@@ -264,22 +279,13 @@ function EntryRow({ row, showSlab }: { row: Row; showSlab: boolean }) {
 }
 
 /** The inspector's entries: today's from the server and whatever still waits on the tablet, newest first. */
-export function EntriesList({
-  server,
-  outbox,
-  showSlab = true,
-  empty = "No entries today yet.",
-}: {
-  server: Defect[];
-  outbox: OutboxSnapshot;
-  showSlab?: boolean;
-  empty?: string;
-}) {
+export function EntriesList({ server, outbox, showSlab = true, empty }: { server: Defect[]; outbox: OutboxSnapshot; showSlab?: boolean; empty?: string }) {
+  const { t } = useTranslation("yard");
   const rows = mergeEntries(server, outbox.entries);
   if (rows.length === 0)
     return (
       <p className="text-base text-ink-600" data-testid="entries-empty">
-        {empty}
+        {empty ?? t("entries.empty")}
       </p>
     );
   return (
@@ -297,18 +303,22 @@ export function OutboxStatus({ outbox }: { outbox: OutboxSnapshot }) {
   const blocked = outbox.entries.filter((e) => e.state === "blocked").length;
   const photos = outbox.entries.reduce((n, e) => n + e.photos.filter((p) => !p.photoId).length, 0);
   const sending = outbox.entries.some((e) => e.state === "sending");
+  const { t } = useTranslation("yard");
   let status: EntryStatus = "sent";
-  let text = "Everything is sent.";
+  let text = t("outboxStatus.allSent");
   if (waiting) {
     status = blocked ? "blocked" : sending ? "sending" : "waiting";
-    text = `${plural(waiting, "entry", "entries")} waiting on this tablet${photos ? ` (${plural(photos, "photo")})` : ""}`;
-    if (blocked) text += ` — ${blocked} refused by the server, see below`;
-    else if (!outbox.online) text += " — no network; they are sent when it returns";
-    else if (outbox.signedOut) text += " — sign in again to send them";
-    else if (sending) text += " — sending now";
+    // One whole sentence per case: why they wait, with or without photos.
+    const why = blocked ? "Refused" : !outbox.online ? "Offline" : outbox.signedOut ? "SignedOut" : sending ? "Sending" : "";
+    text = t(`outboxStatus.waiting${why}${photos ? "Photos" : ""}`, {
+      count: waiting,
+      n: count(waiting),
+      photos: t("outboxStatus.photos", { count: photos, n: count(photos) }),
+      blocked: count(blocked),
+    });
   } else if (!outbox.online) {
     // The band at the top already says the tablet is offline; here only what waits.
-    text = "Nothing waiting: everything saved on this tablet has been sent.";
+    text = t("outboxStatus.nothingWaiting");
   }
   return (
     <div
@@ -318,12 +328,10 @@ export function OutboxStatus({ outbox }: { outbox: OutboxSnapshot }) {
       role="status"
     >
       <StatusMark status={status} label={text} />
-      {!outbox.online && waiting ? <span className="text-sm font-semibold text-ink-800">Offline</span> : null}
+      {!outbox.online && waiting ? <span className="text-sm font-semibold text-ink-800">{t("outboxStatus.offline")}</span> : null}
       {outbox.storageError ? <p className="w-full text-sm font-semibold text-alarm-700">{outbox.storageError}</p> : null}
       {outbox.otherUsersCount ? (
-        <p className="w-full text-xs text-ink-700">
-          {plural(outbox.otherUsersCount, "entry", "entries")} of another user also wait on this tablet; they are sent when that user signs in.
-        </p>
+        <p className="w-full text-xs text-ink-700">{t("outboxStatus.otherUsers", { count: outbox.otherUsersCount, n: count(outbox.otherUsersCount) })}</p>
       ) : null}
     </div>
   );

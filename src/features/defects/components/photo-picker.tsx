@@ -1,5 +1,7 @@
 import { useEffect, useRef, useState } from "react";
+import { useTranslation } from "react-i18next";
 import { PHOTO_ACCEPT, PHOTO_MAX_BYTES, PHOTO_MAX_FILES } from "@shared/api/defects";
+import { i18n } from "@/i18n";
 import { bytes } from "@/lib/format";
 import { newClientKey } from "@/lib/client-key";
 import { scalePhotoForUpload } from "../offline/scale-photo";
@@ -15,7 +17,7 @@ const ACCEPTED = PHOTO_ACCEPT.split(",");
 const SCALED_TYPES = ["image/jpeg", "image/png"];
 
 function tooLarge(file: File): string {
-  return `${file.name} is ${bytes(file.size)}; the limit is ${bytes(PHOTO_MAX_BYTES)}.`;
+  return i18n.t("yard:photos.tooLarge", { name: file.name, size: bytes(file.size), limit: bytes(PHOTO_MAX_BYTES) });
 }
 
 /**
@@ -24,9 +26,8 @@ function tooLarge(file: File): string {
  */
 export function photoProblem(file: File, beforeScaling = false): string | null {
   const heic = /\.(heic|heif)$/i.test(file.name) || /hei[cf]/i.test(file.type);
-  if (heic)
-    return `${file.name}: HEIC photos cannot be read here. Set the camera to JPEG ("Most compatible"), or take the photo with this screen's camera button.`;
-  if (file.type && !ACCEPTED.includes(file.type)) return `${file.name}: only JPEG, PNG or WebP photos.`;
+  if (heic) return i18n.t("yard:photos.heic", { name: file.name });
+  if (file.type && !ACCEPTED.includes(file.type)) return i18n.t("yard:photos.wrongType", { name: file.name });
   if (file.size > PHOTO_MAX_BYTES && !(beforeScaling && SCALED_TYPES.includes(file.type))) return tooLarge(file);
   return null;
 }
@@ -79,6 +80,7 @@ export function BlobThumb({ blob, photoKey, alt, className = "h-20 w-20" }: { bl
  * (at full size) with its own entry, and a photo is never lost to the scaling.
  */
 export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPhoto[]; onChange: (p: LocalPhoto[]) => void; already?: number }) {
+  const { t } = useTranslation("yard");
   const [problems, setProblems] = useState<string[]>([]);
   const [preparing, setPreparing] = useState<ReadonlySet<string>>(new Set());
   const camera = useRef<HTMLInputElement>(null);
@@ -131,7 +133,7 @@ export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPh
     for (const file of [...list]) {
       const p = photoProblem(file, true);
       if (p) bad.push(p);
-      else if (next.length >= room) bad.push(`${file.name}: at most ${PHOTO_MAX_FILES} photos per defect.`);
+      else if (next.length >= room) bad.push(t("photos.tooMany", { name: file.name, max: PHOTO_MAX_FILES }));
       else next.push({ key: newClientKey(), file });
     }
     setProblems(bad);
@@ -154,7 +156,7 @@ export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPh
             <path d="M4 8h3l2-3h6l2 3h3v11H4z" fill="none" stroke="currentColor" strokeWidth="2" strokeLinejoin="round" />
             <circle cx="12" cy="13" r="3.5" fill="none" stroke="currentColor" strokeWidth="2" />
           </svg>
-          Take photo
+          {t("photos.take")}
           <input
             ref={camera}
             type="file"
@@ -168,7 +170,7 @@ export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPh
           />
         </label>
         <label className={`${button} border-2 border-ink-300 bg-white text-ink-900 hover:border-ink-500 ${room <= 0 ? "pointer-events-none opacity-50" : ""}`}>
-          From the gallery
+          {t("photos.gallery")}
           <input ref={gallery} type="file" accept={PHOTO_ACCEPT} multiple className="sr-only" disabled={room <= 0} onChange={(e) => add(e.target.files)} />
         </label>
       </div>
@@ -178,26 +180,26 @@ export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPh
         </p>
       ))}
       {photos.length ? (
-        <ul className="flex flex-wrap gap-3" aria-label="Photos to send">
+        <ul className="flex flex-wrap gap-3" aria-label={t("photos.toSend")}>
           {photos.map((p, i) => (
             <li key={p.key} className="flex flex-col items-center gap-1" data-testid="picked-photo" data-photo-ready={preparing.has(p.key) ? "no" : "yes"}>
-              <BlobThumb blob={p.file} alt={`Photo ${i + 1}`} className="h-24 w-24" />
+              <BlobThumb blob={p.file} alt={t("photos.photo", { n: i + 1 })} className="h-24 w-24" />
               <span className="text-xs text-ink-600" data-testid="picked-photo-size">
-                {preparing.has(p.key) ? "Making smaller…" : bytes(p.file.size)}
+                {preparing.has(p.key) ? t("photos.makingSmaller") : bytes(p.file.size)}
               </span>
               <button
                 type="button"
                 onClick={() => emit(latest.current.filter((x) => x.key !== p.key))}
                 className="min-h-12 rounded-md px-3 text-sm font-semibold text-alarm-700 underline"
-                aria-label={`Remove photo ${i + 1}`}
+                aria-label={t("photos.removeLabel", { n: i + 1 })}
               >
-                Remove
+                {t("photos.remove")}
               </button>
             </li>
           ))}
         </ul>
       ) : (
-        <p className="text-sm text-ink-600">No photo yet. Photos are kept on the tablet with the entry and sent after it.</p>
+        <p className="text-sm text-ink-600">{t("photos.none")}</p>
       )}
     </div>
   );

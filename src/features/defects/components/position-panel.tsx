@@ -1,4 +1,5 @@
 import { useEffect, useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import type { Face } from "@shared/domain";
 import { num } from "@/lib/format";
 
@@ -16,16 +17,11 @@ export interface SlabLimits {
 
 export const acrossLimit = (slab: SlabLimits, face: Face) => (face === "left" || face === "right" ? slab.thicknessMm : slab.widthMm);
 
-/** Where across is measured from, in words the readout uses. */
-export const acrossFrom = (face: Face) => (face === "left" || face === "right" ? "from the inner-face corner" : "from the left edge");
+/** Where across is measured from: the key of its words under `position` (the readout, the stepper's label). */
+export const acrossFrom = (face: Face) => (face === "left" || face === "right" ? "fromCorner" : "fromEdge");
 
-const FACE_CHOICES: { face: Face; short: string }[] = [
-  { face: "inner", short: "Inner (top)" },
-  { face: "outer", short: "Outer (bottom)" },
-  { face: "left", short: "Left narrow" },
-  { face: "right", short: "Right narrow" },
-  { face: "section", short: "Cross-section" },
-];
+/** The faces to choose, in the order of the buttons; their short names are under `position.faceShort`. */
+const FACE_CHOICES: Face[] = ["inner", "outer", "left", "right", "section"];
 
 const parseMm = (s: string): number | null => {
   const t = s.trim().replace(",", ".");
@@ -50,6 +46,7 @@ function MmStepper({
   onChange: (v: number) => void;
   testId: string;
 }) {
+  const { t } = useTranslation("yard");
   const [text, setText] = useState(String(value));
   useEffect(() => setText(String(value)), [value]);
   const set = (v: number) => onChange(Math.min(max, Math.max(0, Math.round(v))));
@@ -62,10 +59,10 @@ function MmStepper({
         {label}
       </label>
       <div className="flex items-stretch gap-1.5">
-        <button type="button" className={btn} onClick={() => set(value - big)} aria-label={`${label}: minus ${big} mm`}>
+        <button type="button" className={btn} onClick={() => set(value - big)} aria-label={t("position.minus", { label, mm: big })}>
           −{big}
         </button>
-        <button type="button" className={btn} onClick={() => set(value - small)} aria-label={`${label}: minus ${small} mm`}>
+        <button type="button" className={btn} onClick={() => set(value - small)} aria-label={t("position.minus", { label, mm: small })}>
           −{small}
         </button>
         <div className="relative min-w-0 flex-1">
@@ -90,10 +87,10 @@ function MmStepper({
           />
           <span className="pointer-events-none absolute inset-y-0 right-3 flex items-center text-sm text-ink-600">mm</span>
         </div>
-        <button type="button" className={btn} onClick={() => set(value + small)} aria-label={`${label}: plus ${small} mm`}>
+        <button type="button" className={btn} onClick={() => set(value + small)} aria-label={t("position.plus", { label, mm: small })}>
           +{small}
         </button>
-        <button type="button" className={btn} onClick={() => set(value + big)} aria-label={`${label}: plus ${big} mm`}>
+        <button type="button" className={btn} onClick={() => set(value + big)} aria-label={t("position.plus", { label, mm: big })}>
           +{big}
         </button>
       </div>
@@ -114,6 +111,7 @@ export function PositionPanel({
   onChange: (v: PositionValue) => void;
   error?: string;
 }) {
+  const { t } = useTranslation("yard");
   const pick = (face: Face) => {
     const base = value ?? { face, alongMm: 0, acrossMm: 0 };
     const limit = acrossLimit(slab, face);
@@ -124,23 +122,23 @@ export function PositionPanel({
   return (
     <div className="space-y-3">
       <div>
-        <div className="mb-1 text-sm font-semibold text-ink-800">Face</div>
-        <div role="radiogroup" aria-label="Face" className="grid grid-cols-2 gap-2 sm:grid-cols-5">
-          {FACE_CHOICES.map((c) => {
-            const on = value?.face === c.face;
+        <div className="mb-1 text-sm font-semibold text-ink-800">{t("position.face")}</div>
+        <div role="radiogroup" aria-label={t("position.face")} className="grid grid-cols-2 gap-2 sm:grid-cols-5">
+          {FACE_CHOICES.map((face) => {
+            const on = value?.face === face;
             return (
               <button
-                key={c.face}
+                key={face}
                 type="button"
                 role="radio"
                 aria-checked={on}
-                onClick={() => pick(c.face)}
+                onClick={() => pick(face)}
                 className={`min-h-14 rounded-lg border-2 px-2 text-base font-semibold ${
                   on ? "border-strand-700 bg-strand-50 text-ink-950 shadow-[inset_0_0_0_1px_var(--color-strand-700)]" : "border-ink-300 bg-white text-ink-800"
                 }`}
               >
                 {on ? <span aria-hidden>✓ </span> : null}
-                {c.short}
+                {t(`position.faceShort.${face}`)}
               </button>
             );
           })}
@@ -149,13 +147,21 @@ export function PositionPanel({
       {value ? (
         <>
           <p className="rounded-md bg-ink-900 px-3 py-2 text-base font-semibold text-white" data-testid="position-readout" aria-live="polite">
-            {value.face === "section" ? "Cross-section" : FACE_CHOICES.find((c) => c.face === value.face)!.short + " face"} ·{" "}
-            <span data-testid="readout-along">{num(value.alongMm)}</span> mm from the head end · <span data-testid="readout-across">{num(value.acrossMm)}</span>{" "}
-            mm {acrossFrom(value.face)}
+            <Trans
+              t={t}
+              i18nKey="position.readout"
+              values={{
+                face: t(`position.faceReadout.${value.face}`),
+                along: num(value.alongMm),
+                across: num(value.acrossMm),
+                from: t(`position.${acrossFrom(value.face)}`),
+              }}
+              components={{ 1: <span data-testid="readout-along" />, 2: <span data-testid="readout-across" /> }}
+            />
           </p>
           <div className="grid gap-3 md:grid-cols-2">
             <MmStepper
-              label={value.face === "section" ? "Section taken at, from the head end" : "Along, from the head end"}
+              label={value.face === "section" ? t("position.sectionAt") : t("position.along")}
               value={value.alongMm}
               max={slab.lengthMm}
               steps={[10, 100]}
@@ -163,7 +169,7 @@ export function PositionPanel({
               testId="along-mm"
             />
             <MmStepper
-              label={`Across, ${acrossFrom(value.face)}`}
+              label={t(`position.across.${acrossFrom(value.face)}`)}
               value={value.acrossMm}
               max={acrossLimit(slab, value.face)}
               steps={value.face === "left" || value.face === "right" ? [5, 20] : [10, 100]}
@@ -174,7 +180,7 @@ export function PositionPanel({
         </>
       ) : (
         <p className="text-base text-ink-700" data-testid="position-readout">
-          Tap the drawing where the defect is — or choose the face above and type the distances.
+          {t("position.tapOrType")}
         </p>
       )}
       {error ? (

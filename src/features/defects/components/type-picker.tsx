@@ -1,4 +1,5 @@
 import { useMemo, useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import type { DefectType } from "@shared/api/defects";
 
 const RECENT_COUNT = 6;
@@ -56,6 +57,7 @@ export function TypePicker({
   error?: string;
   id?: string;
 }) {
+  const { t } = useTranslation("yard");
   const [q, setQ] = useState("");
   const [showAll, setShowAll] = useState(false);
   const { recent, rest } = useMemo(() => orderTypes(types), [types]);
@@ -74,11 +76,11 @@ export function TypePicker({
     <div id={id} className="scroll-mt-24 space-y-3">
       <div className="flex flex-wrap items-baseline justify-between gap-2">
         <label htmlFor="type-search" className="text-base font-semibold text-ink-900">
-          Defect type
+          {t("typePicker.label")}
         </label>
         {chosen ? (
           <span className="text-sm text-ink-700" data-testid="chosen-type">
-            Chosen: <b>{chosen.code}</b> {chosen.name}
+            <Trans t={t} i18nKey="typePicker.chosen" values={{ code: chosen.code, name: chosen.name }} components={{ 1: <b /> }} />
           </span>
         ) : null}
       </div>
@@ -87,12 +89,12 @@ export function TypePicker({
         type="search"
         value={q}
         onChange={(e) => setQ(e.target.value)}
-        placeholder="Search by name or code, e.g. crack, SLG"
+        placeholder={t("typePicker.placeholder")}
         autoComplete="off"
         enterKeyHint="search"
         className="min-h-14 w-full rounded-lg border-2 border-ink-300 bg-white px-4 text-lg placeholder:text-ink-400 focus:border-strand-600"
       />
-      <div role="radiogroup" aria-label="Defect type" aria-invalid={error ? true : undefined} className="space-y-3">
+      <div role="radiogroup" aria-label={t("typePicker.label")} aria-invalid={error ? true : undefined} className="space-y-3">
         {searching ? (
           hits.length ? (
             <div className="grid gap-2 sm:grid-cols-2">
@@ -109,13 +111,13 @@ export function TypePicker({
               ))}
             </div>
           ) : (
-            <p className="text-sm text-ink-700">No type matches “{q}”. Try another word, or open the whole list.</p>
+            <p className="text-sm text-ink-700">{t("typePicker.noMatch", { q })}</p>
           )
         ) : (
           <>
             {recent.length ? (
               <div>
-                <div className="mb-1 text-xs font-semibold uppercase tracking-wide text-ink-600">Recently used by you</div>
+                <div className="mb-1 text-xs font-semibold uppercase tracking-wide text-ink-600">{t("typePicker.recent")}</div>
                 <div className="grid gap-2 sm:grid-cols-2">
                   {recent.map((t) => (
                     <TypeTile key={t.code} t={t} on={t.code === value} onPick={() => onChange(t.code)} />
@@ -148,7 +150,7 @@ export function TypePicker({
           onClick={() => setShowAll((v) => !v)}
           className="min-h-12 rounded-md px-2 text-base font-semibold text-strand-700 underline decoration-strand-300 underline-offset-4"
         >
-          {showAll ? "Show only recently used" : `Show all ${recent.length + rest.length} types`}
+          {showAll ? t("typePicker.onlyRecent") : t("typePicker.showAll", { count: recent.length + rest.length, n: recent.length + rest.length })}
         </button>
       ) : null}
       {error ? (

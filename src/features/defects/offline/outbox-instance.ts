@@ -1,3 +1,4 @@
+import { i18n } from "@/i18n";
 import { createOutbox, type Outbox } from "./outbox";
 import { apiTransport } from "./outbox-transport";
 
@@ -6,6 +7,9 @@ let instance: Outbox | null = null;
 /** The one outbox of this tab, woken when the network comes back or the tablet wakes up. */
 export function getOutbox(): Outbox {
   if (instance) return instance;
+  // The outbox's own words (a full storage, an entry busy sending) are in the catalogue `yard`: here
+  // before one is needed, on whichever screen the tablet is.
+  void i18n.loadNamespaces("yard").catch(() => undefined);
   instance = createOutbox({
     transport: apiTransport,
     heartbeatMs: 30_000,

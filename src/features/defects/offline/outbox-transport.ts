@@ -1,4 +1,5 @@
 import { defectCreatedSchema, photosUploadedSchema } from "@shared/api/defects";
+import { i18n } from "@/i18n";
 import { api, apiUpload } from "@/lib/api-client";
 import type { OutboxTransport } from "./outbox";
 
@@ -14,7 +15,7 @@ export const apiTransport: OutboxTransport = {
       onProgress: (p) => onProgress(p.sent ? 1 : p.fraction),
     });
     const stored = res.photos[0];
-    if (!stored) throw new Error("The server stored no photo.");
+    if (!stored) throw new Error(i18n.t("yard:outbox.noPhotoStored"));
     return { id: stored.id };
   },
 };

@@ -1,5 +1,6 @@
 import { openDB, type DBSchema, type IDBPDatabase } from "idb";
 import type { Defect, DefectCreate } from "@shared/api/defects";
+import { i18n } from "@/i18n";
 
 /*
  * The yard tablet's outbox. Every entry is written to IndexedDB first, with its photos as Blobs;
@@ -8,7 +9,9 @@ import type { Defect, DefectCreate } from "@shared/api/defects";
  * closed tab, a dead battery or a dropped Wi-Fi loses nothing, and a resend is harmless (the
  * server answers a known client key with the entry it already has).
  *
- * Plain TypeScript, no React: the screens subscribe to it, the unit test drives it directly.
+ * Plain TypeScript, no React: the screens subscribe to it, the unit test drives it directly. Its
+ * own words (a refusal of its own, a full storage) are written in the language shown, from the
+ * catalogue `yard` under `outbox`.
  */
 
 export const OUTBOX_DB_NAME = "strandsight-outbox";
@@ -153,7 +156,7 @@ function problemOf(err: unknown, photoKey?: string): OutboxProblem {
   return {
     status,
     code: typeof e?.code === "string" ? e.code : status === 0 ? "network" : "error",
-    message: typeof e?.message === "string" && e.message ? e.message : "The entry could not be sent.",
+    message: typeof e?.message === "string" && e.message ? e.message : i18n.t("yard:outbox.notSent"),
     ...(photoKey ? { photoKey } : {}),
   };
 }
@@ -310,7 +313,7 @@ export function createOutbox(deps: OutboxDeps) {
       let defectId = e.defectId;
       let answered: Defect | null = null;
       if (defectId === null) {
-        if (!e.body) throw new Error("The entry has neither a defect nor a defect id.");
+        if (!e.body) throw new Error(i18n.t("yard:outbox.noDefect"));
         const created = await deps.transport.createDefect(e.body);
         defectId = created.id;
         answered = created.defect ?? null;
@@ -358,7 +361,7 @@ export function createOutbox(deps: OutboxDeps) {
         await patchEntry(clientKey, { blocked: problem, lastError: null });
       } else if (verdict === "signed-out") {
         signedOut = true;
-        await patchEntry(clientKey, { lastError: { ...problem, message: "Sign in again to send it." } });
+        await patchEntry(clientKey, { lastError: { ...problem, message: i18n.t("yard:outbox.signInAgain") } });
       } else {
         const attempts = current.attempts + 1;
         await patchEntry(clientKey, { attempts, nextAttemptAt: now() + retryDelayMs(attempts, random), lastError: problem });
@@ -452,7 +455,7 @@ export function createOutbox(deps: OutboxDeps) {
     /** Stores an entry on the device, then tries to send it. Resolves once it is safely stored. */
     async add(input: NewOutboxEntry): Promise<string> {
       const clientKey = input.clientKey;
-      if (!input.body && input.defectId == null) throw new Error("An entry needs a defect or the id of one.");
+      if (!input.body && input.defectId == null) throw new Error(i18n.t("yard:outbox.needsDefect"));
       const d = await db();
       const at = now();
       try {
@@ -478,8 +481,8 @@ export function createOutbox(deps: OutboxDeps) {
       } catch (err) {
         storageError =
           (err as Error)?.name === "QuotaExceededError"
-            ? "The tablet's storage is full: the entry could not be kept. Free some space, or send the waiting entries first."
-            : `The tablet could not store the entry (${(err as Error)?.message ?? err}).`;
+            ? i18n.t("yard:outbox.storageFull")
+            : i18n.t("yard:outbox.couldNotStore", { message: (err as Error)?.message ?? String(err) });
         await refresh().catch(() => undefined);
         throw new Error(storageError);
       }
@@ -490,11 +493,11 @@ export function createOutbox(deps: OutboxDeps) {
 
     /** Changes an entry that has not reached the server yet (e.g. after the server refused it). */
     async update(clientKey: string, body: DefectCreate, summary: OutboxSummary) {
-      if (sendingKey === clientKey) throw new OutboxBusyError("The entry is being sent right now. Try again in a moment.");
+      if (sendingKey === clientKey) throw new OutboxBusyError(i18n.t("yard:outbox.sendingNow"));
       const d = await db();
       const e = await d.get("entries", clientKey);
-      if (!e) throw new OutboxBusyError("The entry has been sent meanwhile: change it from today's entries.");
-      if (e.defectId !== null) throw new OutboxBusyError("The defect has reached the server meanwhile: change it from today's entries.");
+      if (!e) throw new OutboxBusyError(i18n.t("yard:outbox.sentMeanwhile"));
+      if (e.defectId !== null) throw new OutboxBusyError(i18n.t("yard:outbox.reachedMeanwhile"));
       await patchEntry(clientKey, { body: { ...body, client_key: clientKey }, summary, blocked: null, lastError: null, attempts: 0, nextAttemptAt: now() });
       await refresh();
       void kick();
@@ -506,12 +509,12 @@ export function createOutbox(deps: OutboxDeps) {
      */
     async fixSlabId(clientKey: string, slabId: string) {
       const id = slabId.trim().toUpperCase();
-      if (!id || id.length > 40) throw new Error("Type the slab id as it is on the slab's label (at most 40 characters).");
-      if (sendingKey === clientKey) throw new OutboxBusyError("The entry is being sent right now. Try again in a moment.");
+      if (!id || id.length > 40) throw new Error(i18n.t("yard:outbox.slabIdRule", { max: 40 }));
+      if (sendingKey === clientKey) throw new OutboxBusyError(i18n.t("yard:outbox.sendingNow"));
       const d = await db();
       const e = await d.get("entries", clientKey);
-      if (!e) throw new OutboxBusyError("The entry has been sent meanwhile: change it from today's entries.");
-      if (e.defectId !== null || !e.body) throw new OutboxBusyError("The defect has reached the server meanwhile: change it from today's entries.");
+      if (!e) throw new OutboxBusyError(i18n.t("yard:outbox.sentMeanwhile"));
+      if (e.defectId !== null || !e.body) throw new OutboxBusyError(i18n.t("yard:outbox.reachedMeanwhile"));
       await patchEntry(clientKey, { slabId: id, body: { ...e.body, slab_id: id }, blocked: null, lastError: null, attempts: 0, nextAttemptAt: now() });
       await refresh();
       void kick({ ignoreBackoff: true });
@@ -519,7 +522,7 @@ export function createOutbox(deps: OutboxDeps) {
 
     /** Drops one waiting photo (e.g. one the server cannot read); the rest of the entry goes on. */
     async removePhoto(clientKey: string, photoKey: string) {
-      if (uploadingPhoto === photoKey) throw new OutboxBusyError("The photo is being sent right now.");
+      if (uploadingPhoto === photoKey) throw new OutboxBusyError(i18n.t("yard:outbox.photoSendingNow"));
       const d = await db();
       await d.delete("photos", photoKey);
       const e = await d.get("entries", clientKey);
@@ -530,7 +533,7 @@ export function createOutbox(deps: OutboxDeps) {
 
     /** Deletes a waiting entry and its photos from the device, on the inspector's word. */
     async discard(clientKey: string) {
-      if (sendingKey === clientKey) throw new OutboxBusyError("The entry is being sent right now. Try again in a moment.");
+      if (sendingKey === clientKey) throw new OutboxBusyError(i18n.t("yard:outbox.sendingNow"));
       await removeEntry(clientKey);
       await refresh();
     },

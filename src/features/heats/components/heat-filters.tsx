@@ -1,4 +1,5 @@
 import { useEffect, useRef, useState } from "react";
+import { useTranslation } from "react-i18next";
 import type { PlantSetup } from "@shared/api/plant";
 import { Button } from "@/components/ui/button";
 import type { HeatListParams } from "../api/heats.queries";
@@ -9,6 +10,7 @@ const inputClass = "min-h-12 rounded-md border border-ink-300 bg-white px-3 text
 
 /** Search, grade or family, and a cast-date range. Each change goes to the address (and back to page 1). */
 export function HeatFilters({ value, families, onChange }: { value: HeatListParams; families: Families; onChange: (next: Partial<HeatListParams>) => void }) {
+  const { t } = useTranslation("heats");
   const [text, setText] = useState(value.q ?? "");
   const sent = useRef(value.q ?? "");
   // The address can change from outside (back button, a link): follow it, but never overwrite what is
@@ -22,11 +24,11 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
   useEffect(() => {
     const typed = text.trim();
     if (typed === sent.current) return;
-    const t = setTimeout(() => {
+    const timer = setTimeout(() => {
       sent.current = typed;
       onChange({ q: typed || undefined });
     }, 300);
-    return () => clearTimeout(t);
+    return () => clearTimeout(timer);
   }, [text, onChange]);
 
   const gradeValue = value.grade ? `grade:${value.grade}` : value.family ? `family:${value.family}` : "";
@@ -35,7 +37,7 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
   return (
     <form
       role="search"
-      aria-label="Filter heats"
+      aria-label={t("filters.formLabel")}
       className="grid gap-3 md:grid-cols-6 xl:grid-cols-[minmax(14rem,1.4fr)_minmax(12rem,1fr)_auto_auto_auto]"
       onSubmit={(e) => {
         e.preventDefault();
@@ -44,19 +46,19 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
       }}
     >
       <label className="flex flex-col gap-1 md:col-span-3 xl:col-span-1">
-        <span className="text-sm font-semibold text-ink-800">Heat, sequence or grade</span>
+        <span className="text-sm font-semibold text-ink-800">{t("filters.search")}</span>
         <input
           type="search"
           value={text}
           onChange={(e) => setText(e.target.value)}
-          placeholder="e.g. L2600 or S26-0011"
+          placeholder={t("filters.searchPlaceholder")}
           autoComplete="off"
           spellCheck={false}
           className={inputClass}
         />
       </label>
       <label className="flex flex-col gap-1 md:col-span-3 xl:col-span-1">
-        <span className="text-sm font-semibold text-ink-800">Grade or family</span>
+        <span className="text-sm font-semibold text-ink-800">{t("filters.grade")}</span>
         <select
           value={gradeValue}
           onChange={(e) => {
@@ -65,14 +67,13 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
           }}
           className={inputClass}
         >
-          <option value="">All grades</option>
+          <option value="">{t("filters.allGrades")}</option>
           {families.map((f) => (
             <optgroup key={f.code} label={`${f.name} (${f.code})`}>
-              <option value={`family:${f.code}`}>Every {f.code} grade</option>
+              <option value={`family:${f.code}`}>{t("filters.everyFamilyGrade", { code: f.code })}</option>
               {f.grades.map((g) => (
                 <option key={g.code} value={`grade:${g.code}`}>
-                  {g.code} — {g.name}
-                  {g.active ? "" : " (retired)"}
+                  {g.active ? `${g.code} — ${g.name}` : t("filters.retiredGrade", { code: g.code, name: g.name })}
                 </option>
               ))}
             </optgroup>
@@ -80,11 +81,11 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
         </select>
       </label>
       <label className="flex flex-col gap-1 md:col-span-2 xl:col-span-1">
-        <span className="text-sm font-semibold text-ink-800">Cast from</span>
+        <span className="text-sm font-semibold text-ink-800">{t("filters.castFrom")}</span>
         <input type="date" value={value.from ?? ""} max={value.to} onChange={(e) => onChange({ from: e.target.value || undefined })} className={inputClass} />
       </label>
       <label className="flex flex-col gap-1 md:col-span-2 xl:col-span-1">
-        <span className="text-sm font-semibold text-ink-800">Cast to (whole day)</span>
+        <span className="text-sm font-semibold text-ink-800">{t("filters.castTo")}</span>
         <input type="date" value={value.to ?? ""} min={value.from} onChange={(e) => onChange({ to: e.target.value || undefined })} className={inputClass} />
       </label>
       <div className="flex items-end md:col-span-2 xl:col-span-1">
@@ -98,7 +99,7 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
             onChange({ q: undefined, grade: undefined, family: undefined, from: undefined, to: undefined });
           }}
         >
-          Clear filters
+          {t("filters.clear")}
         </Button>
       </div>
     </form>

@@ -1,9 +1,12 @@
+import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import type { HeatDetail } from "@shared/api/heats";
 import type { ConditionSource } from "@shared/variables";
+import { DISPOSITIONS } from "@shared/domain";
+import { useTerms } from "@/i18n/terms";
 import { SourceLegend, SourceMark, TransitionMark } from "@/components/ui/marks";
 import { num } from "@/lib/format";
-import { dispositionLabel } from "@/lib/labels";
 import { RiskMark } from "@/features/risk/components/risk-band";
 
 type Slab = HeatDetail["slabs"][number];
@@ -19,7 +22,14 @@ function Valued({ value, digits, source }: { value: number | null | undefined; d
 
 /** The heat's slabs by strand and piece, each with its own resolved conditions and their source. */
 export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
-  if (slabs.length === 0) return <p className="text-sm text-ink-600">No slabs on record for this heat yet. Import them on the Import screen.</p>;
+  const { t } = useTranslation("heats");
+  const { term } = useTerms();
+  // Looked up once per draw, not per row.
+  const dispositions = useMemo(() => new Map<string, string>(DISPOSITIONS.map((d) => [d, term("dispositions", d)])), [term]);
+  const dispositionText = (d: string | null | undefined) => (d ? (dispositions.get(d) ?? d) : "—");
+  if (slabs.length === 0) return <p className="text-sm text-ink-600">{t("heatSlabs.empty")}</p>;
+  const outside = t("heatSlabs.outside");
+  const windowFlagsTitle = t("heatSlabs.windowFlagsTitle");
   const sorted = [...slabs].sort((a, b) => a.strandNo - b.strandNo || a.pieceNo - b.pieceNo);
   const withRisk = slabs.some((s) => s.risk);
   return (
@@ -28,20 +38,20 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
         <table className="w-full text-sm" data-testid="heat-slabs">
           <thead>
             <tr className="border-b-2 border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
-              <th className="px-1 py-2 lg:px-2" title="strand and piece">
-                Strand · piece
+              <th className="px-1 py-2 lg:px-2" title={t("columns.strandPieceTitle")}>
+                {t("columns.strandPiece")}
               </th>
-              <th className="px-1 py-2 lg:px-2">Slab</th>
-              <th className="px-1 py-2 lg:px-2 text-right">T × W × L mm</th>
-              <th className="px-1 py-2 lg:px-2 text-right">Weight t</th>
-              <th className="px-1 py-2 lg:px-2">Disposition</th>
-              <th className="px-1 py-2 lg:px-2 text-right">Defects</th>
-              {withRisk ? <th className="px-1 py-2 lg:px-2">Risk</th> : null}
-              <th className="px-1 py-2 lg:px-2 text-right">Speed m/min</th>
-              <th className="px-1 py-2 lg:px-2 text-right">Superheat °C</th>
-              <th className="px-1 py-2 lg:px-2 text-right">Brake A</th>
+              <th className="px-1 py-2 lg:px-2">{t("columns.slab")}</th>
+              <th className="px-1 py-2 lg:px-2 text-right">{t("columns.dimensions")}</th>
+              <th className="px-1 py-2 lg:px-2 text-right">{t("columns.weight")}</th>
+              <th className="px-1 py-2 lg:px-2">{t("columns.disposition")}</th>
+              <th className="px-1 py-2 lg:px-2 text-right">{t("columns.defects")}</th>
+              {withRisk ? <th className="px-1 py-2 lg:px-2">{t("columns.risk")}</th> : null}
+              <th className="px-1 py-2 lg:px-2 text-right">{t("columns.speed")}</th>
+              <th className="px-1 py-2 lg:px-2 text-right">{t("columns.superheat")}</th>
+              <th className="px-1 py-2 lg:px-2 text-right">{t("columns.brake")}</th>
               <th className="px-1 py-2 lg:px-2 text-right">
-                <abbr title="process samples cast while the slab passed the mold" className="no-underline">
+                <abbr title={t("columns.samplesTitle")} className="no-underline">
                   n
                 </abbr>
               </th>
@@ -66,8 +76,8 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
                     </div>
                   ) : null}
                   {s.windowFlags.length ? (
-                    <div className="text-xs font-semibold text-ember-700" title="cast outside these operating windows" data-testid="heat-slab-window-flags">
-                      outside: {s.windowFlags.join("; ")}
+                    <div className="text-xs font-semibold text-ember-700" title={windowFlagsTitle} data-testid="heat-slab-window-flags">
+                      {outside} {s.windowFlags.join("; ")}
                     </div>
                   ) : null}
                 </td>
@@ -75,7 +85,7 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
                   {num(s.thicknessMm)}×{num(s.widthMm)}×{num(s.lengthMm)}
                 </td>
                 <td className="px-1 py-2 lg:px-2 text-right tabular-nums">{num(s.weightT, 2)}</td>
-                <td className="px-1 py-2 lg:px-2">{dispositionLabel(s.disposition)}</td>
+                <td className="px-1 py-2 lg:px-2">{dispositionText(s.disposition)}</td>
                 <td className={`px-1 py-2 lg:px-2 text-right tabular-nums ${s.defects > 0 ? "font-semibold" : "text-ink-500"}`}>{s.defects}</td>
                 {withRisk ? (
                   <td className="px-1 py-2 lg:px-2">
@@ -100,9 +110,9 @@ export function HeatSlabsTable({ slabs }: { slabs: Slab[] }) {
       <div className="flex flex-wrap items-center gap-x-6 gap-y-1">
         <SourceLegend />
         <p className="flex items-center gap-1 text-xs text-ink-600">
-          <TransitionMark transition /> = cut across a ladle change · n = process samples behind the slab's values
-          {slabs.some((s) => s.windowFlags.length) ? " · outside = cast outside the named operating windows" : ""}
-          {withRisk ? " · Risk = the slab's highest band under the switched-on risk models (an association learnt from history; it never clears a slab)" : ""}
+          <TransitionMark transition /> {t("heatSlabs.legendTransition")} · {t("heatSlabs.legendSamples")}
+          {slabs.some((s) => s.windowFlags.length) ? ` · ${t("heatSlabs.legendOutside")}` : ""}
+          {withRisk ? ` · ${t("heatSlabs.legendRisk")}` : ""}
         </p>
       </div>
     </div>

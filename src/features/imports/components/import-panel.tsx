@@ -1,4 +1,5 @@
 import { useRef, useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { IMPORT_KINDS, IMPORT_LIMITS, IMPORT_MAX_BYTES, type ImportKind } from "@shared/api/imports";
 import { Button } from "@/components/ui/button";
@@ -6,27 +7,10 @@ import { Card } from "@/components/ui/card";
 import { Notice } from "@/components/ui/notice";
 import { ProgressBar } from "@/components/ui/progress";
 import type { UploadProgress } from "@/lib/api-client";
-import { bytes, plural } from "@/lib/format";
+import { bytes, count } from "@/lib/format";
 import { templateUrl, useImportFile, type ImportOutcome } from "../api/imports.queries";
 import { ImportColumns } from "./import-columns";
 import { ImportCounts, ImportErrors } from "./import-preview";
-
-const KINDS: Record<ImportKind, { label: string; text: string; one: string; many: string }> = {
-  heats: { label: "Heats", text: "One row per heat: caster, grade, cast start, casting conditions and chemistry.", one: "heat", many: "heats" },
-  slabs: { label: "Slabs", text: "One row per slab of heats already on record: strand, piece, dimensions, optional own values.", one: "slab", many: "slabs" },
-  "process-samples": {
-    label: "Process samples",
-    text: "The level-2 samples per strand over time: speed, temperatures, brake, SEN, argon, mold level.",
-    one: "sample",
-    many: "samples",
-  },
-  products: {
-    label: "Coils and plates",
-    text: "The rolling mill's trace: each coil or plate id with the slab it was rolled from.",
-    one: "coil or plate",
-    many: "coils and plates",
-  },
-};
 
 type Sending = { dryRun: boolean; progress: UploadProgress | null; controller: AbortController };
 
@@ -35,6 +19,9 @@ type Sending = { dryRun: boolean; progress: UploadProgress | null; controller: A
  * are listed by row and column, and only a clean file can be imported — all rows or none.
  */
 export function ImportPanel({ onImported }: { onImported?: () => void }) {
+  const { t } = useTranslation("admin");
+  // A kind's words: its label, its name inside a sentence ("heats"; German keeps its capitals), its text.
+  const kindText = (k: ImportKind, part: "label" | "inSentence" | "text") => t(`imports.kinds.${k}.${part}`);
   const [kind, setKind] = useState<ImportKind>("heats");
   const [file, setFile] = useState<File | null>(null);
   const [check, setCheck] = useState<ImportOutcome | null>(null);
@@ -77,7 +64,7 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
     setFile(f);
     if (!f) return;
     if (f.size > IMPORT_MAX_BYTES) {
-      setError(`${f.name} is ${bytes(f.size)}; the limit is ${bytes(IMPORT_MAX_BYTES)}. Split the file into smaller ones.`);
+      setError(t("imports.panel.tooLarge", { name: f.name, size: bytes(f.size), limit: bytes(IMPORT_MAX_BYTES) }));
       return;
     }
     void run(f, kind, true);
@@ -88,8 +75,8 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
 
   return (
     <div className="space-y-5">
-      <Card title="1 · What does the file hold?">
-        <div role="radiogroup" aria-label="Kind of file" className="grid gap-3 md:grid-cols-3">
+      <Card title={t("imports.panel.step1")}>
+        <div role="radiogroup" aria-label={t("imports.panel.kindOfFile")} className="grid gap-3 md:grid-cols-3">
           {IMPORT_KINDS.map((k) => (
             <label
               key={k}
@@ -110,8 +97,8 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
                 className="mt-1 h-5 w-5 accent-strand-700"
               />
               <span>
-                <span className="block font-semibold">{KINDS[k].label}</span>
-                <span className="block text-xs text-ink-600">{KINDS[k].text}</span>
+                <span className="block font-semibold">{kindText(k, "label")}</span>
+                <span className="block text-xs text-ink-600">{kindText(k, "text")}</span>
               </span>
             </label>
           ))}
@@ -120,11 +107,11 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
 
       <div className="grid gap-5 xl:grid-cols-[minmax(0,3fr)_minmax(0,2fr)]">
         <div className="space-y-5">
-          <Card title="2 · Pick the file">
+          <Card title={t("imports.panel.step2")}>
             <div className="space-y-4">
               <div className="flex flex-col gap-1">
                 <label htmlFor="import-file" className="text-sm font-semibold text-ink-800">
-                  Workbook (.xlsx) or CSV file of {KINDS[kind].label.toLowerCase()}
+                  {t("imports.panel.fileLabel", { what: kindText(kind, "inSentence") })}
                 </label>
                 <input
                   id="import-file"
@@ -140,14 +127,16 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
                   }}
                   className="block w-full min-h-12 rounded-md border border-ink-300 bg-white text-sm file:mr-3 file:min-h-12 file:cursor-pointer file:border-0 file:bg-ink-800 file:px-4 file:font-semibold file:text-white"
                 />
-                <p className="text-xs text-ink-600">
-                  Up to {bytes(IMPORT_MAX_BYTES)} and {IMPORT_LIMITS.rows.toLocaleString("en-GB")} rows. The first row holds the column headers (see the list of
-                  columns). The file is checked as soon as you pick it; nothing is written until you confirm.
-                </p>
+                <p className="text-xs text-ink-600">{t("imports.panel.fileHint", { size: bytes(IMPORT_MAX_BYTES), rows: count(IMPORT_LIMITS.rows) })}</p>
               </div>
               {file ? (
                 <p className="text-sm" data-testid="import-file-name">
-                  File: <span className="font-semibold">{file.name}</span> ({bytes(file.size)})
+                  <Trans
+                    t={t}
+                    i18nKey="imports.panel.file"
+                    values={{ name: file.name, size: bytes(file.size) }}
+                    components={{ 1: <span className="font-semibold" /> }}
+                  />
                 </p>
               ) : null}
               {sending ? (
@@ -156,15 +145,21 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
                     label={
                       sending.progress?.sent
                         ? sending.dryRun
-                          ? "Checking the rows on the server"
-                          : "Importing the rows"
-                        : `Uploading ${file?.name ?? "the file"}`
+                          ? t("imports.panel.checking")
+                          : t("imports.panel.importing")
+                        : file
+                          ? t("imports.panel.uploading", { name: file.name })
+                          : t("imports.panel.uploadingFile")
                     }
                     value={sending.progress?.sent ? null : (sending.progress?.fraction ?? 0)}
-                    detail={sending.progress && !sending.progress.sent ? `${bytes(sending.progress.loaded)} of ${bytes(sending.progress.total)}` : "one moment"}
+                    detail={
+                      sending.progress && !sending.progress.sent
+                        ? t("imports.panel.progress", { loaded: bytes(sending.progress.loaded), total: bytes(sending.progress.total) })
+                        : t("imports.panel.oneMoment")
+                    }
                   />
                   <Button variant="ghost" onClick={() => sending.controller.abort()}>
-                    Cancel
+                    {t("imports.panel.cancel")}
                   </Button>
                 </div>
               ) : null}
@@ -173,27 +168,27 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
           </Card>
 
           {checked ? (
-            <Card title={`3 · Check of ${checked.fileName ?? "the file"}`}>
+            <Card title={checked.fileName ? t("imports.panel.step3", { name: checked.fileName }) : t("imports.panel.step3File")}>
               <div className="space-y-4" data-testid="import-check">
                 <ImportCounts result={checked} real={false} />
                 {checked.valid ? (
-                  <Notice tone="ok" title="Ready">
-                    Every row is valid. Importing writes all {plural(checked.rows, "row")} in one step, or none if anything fails.
+                  <Notice tone="ok" title={t("imports.panel.readyTitle")}>
+                    {t("imports.panel.ready", { count: checked.rows, n: count(checked.rows) })}
                   </Notice>
                 ) : (
                   <ImportErrors result={checked} />
                 )}
                 {final?.status === "imported" ? (
-                  <p className="text-sm font-semibold text-ok-700">✓ This file has been imported (see the result below). Pick another file to import more.</p>
+                  <p className="text-sm font-semibold text-ok-700">{t("imports.panel.alreadyImported")}</p>
                 ) : (
                   <div className="flex flex-wrap items-center gap-3">
                     <Button size="lg" disabled={!canImport} onClick={() => file && void run(file, kind, false)}>
-                      Import {plural(checked.rows, "row")}
+                      {t("imports.panel.import", { count: checked.rows, n: count(checked.rows) })}
                     </Button>
-                    {!checked.valid ? <span className="text-sm text-ink-700">Fix the file, save it and pick it again to check it once more.</span> : null}
+                    {!checked.valid ? <span className="text-sm text-ink-700">{t("imports.panel.fixFile")}</span> : null}
                     {file && !sending ? (
                       <Button variant="ghost" onClick={() => void run(file, kind, true)}>
-                        Check again
+                        {t("imports.panel.checkAgain")}
                       </Button>
                     ) : null}
                   </div>
@@ -203,26 +198,30 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
           ) : null}
 
           {final ? (
-            <Card title="4 · Result">
+            <Card title={t("imports.panel.step4")}>
               <div className="space-y-4" data-testid="import-result">
                 {final.status === "imported" ? (
                   <>
-                    <Notice tone="ok" title="Imported">
-                      {final.result.fileName ?? "The file"}: {plural(final.result.counts.created, KINDS[kind].one, KINDS[kind].many)} created,{" "}
-                      {final.result.counts.updated} updated, {final.result.counts.unchanged} unchanged; conditions of{" "}
-                      {plural(final.result.slabsResolved, "slab")} recomputed.
+                    <Notice tone="ok" title={t("imports.panel.importedTitle")}>
+                      {t("imports.panel.imported", {
+                        file: final.result.fileName ?? t("imports.panel.theFile"),
+                        created: t(`imports.kinds.${kind}.count`, { count: final.result.counts.created, n: count(final.result.counts.created) }),
+                        updated: count(final.result.counts.updated),
+                        unchanged: count(final.result.counts.unchanged),
+                        slabs: t("imports.panel.slabs", { count: final.result.slabsResolved, n: count(final.result.slabsResolved) }),
+                      })}
                     </Notice>
                     <ImportCounts result={final.result} real />
                     {kind === "heats" || kind === "slabs" ? (
                       <Link to="/heats" className="inline-flex min-h-11 items-center font-semibold text-strand-700 underline">
-                        Go to the heats list
+                        {t("imports.panel.toHeats")}
                       </Link>
                     ) : null}
                   </>
                 ) : (
                   <>
-                    <Notice tone="error" title="Not imported">
-                      The server found problems in the file, so nothing was written.
+                    <Notice tone="error" title={t("imports.panel.notImportedTitle")}>
+                      {t("imports.panel.notImported")}
                     </Notice>
                     <ImportErrors result={final.result} />
                   </>
@@ -232,7 +231,7 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
           ) : null}
         </div>
 
-        <Card title={`Columns of a ${KINDS[kind].label.toLowerCase()} file`}>
+        <Card title={t("imports.panel.columnsOf", { what: kindText(kind, "inSentence") })}>
           <div className="space-y-3">
             <a
               href={templateUrl(kind)}
@@ -240,12 +239,9 @@ export function ImportPanel({ onImported }: { onImported?: () => void }) {
               className="inline-flex min-h-12 items-center gap-2 rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50"
               data-testid="template-link"
             >
-              <span aria-hidden>⤓</span> Download the {KINDS[kind].label.toLowerCase()} template (.xlsx)
+              <span aria-hidden>⤓</span> {t("imports.panel.template", { what: kindText(kind, "inSentence") })}
             </a>
-            <p className="text-xs text-ink-600">
-              Headers match whatever their case; the unit is part of the name. The template's second sheet describes each column. Importing a row again updates
-              it.
-            </p>
+            <p className="text-xs text-ink-600">{t("imports.panel.headersHint")}</p>
             <div className="max-h-[40rem] overflow-y-auto rounded-md border border-ink-100 px-3">
               <ImportColumns kind={kind} />
             </div>

@@ -1,44 +1,47 @@
+import { useTranslation } from "react-i18next";
 import type { ImportResult } from "@shared/api/imports";
 import { Stat } from "@/components/ui/card";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 
 /** Counts of a checked or imported file, and the rows that stop it. */
 export function ImportCounts({ result, real }: { result: ImportResult; real: boolean }) {
-  const note = !real && !result.valid ? "of the valid rows" : undefined;
+  const { t } = useTranslation("admin");
+  const note = !real && !result.valid ? t("imports.counts.ofValid") : undefined;
   return (
     <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="import-counts">
-      <Stat label="Rows in the file" value={result.rows.toLocaleString("en-GB")} />
+      <Stat label={t("imports.counts.rows")} value={count(result.rows)} />
       <Stat
-        label={real ? "Created" : "Would create"}
+        label={real ? t("imports.counts.created") : t("imports.counts.wouldCreate")}
         note={note}
-        value={<span data-testid="count-created">{result.counts.created.toLocaleString("en-GB")}</span>}
+        value={<span data-testid="count-created">{count(result.counts.created)}</span>}
       />
       <Stat
-        label={real ? "Updated" : "Would update"}
+        label={real ? t("imports.counts.updated") : t("imports.counts.wouldUpdate")}
         note={note}
-        value={<span data-testid="count-updated">{result.counts.updated.toLocaleString("en-GB")}</span>}
+        value={<span data-testid="count-updated">{count(result.counts.updated)}</span>}
       />
-      <Stat label="Unchanged" note={note} value={<span data-testid="count-unchanged">{result.counts.unchanged.toLocaleString("en-GB")}</span>} />
+      <Stat label={t("imports.counts.unchanged")} note={note} value={<span data-testid="count-unchanged">{count(result.counts.unchanged)}</span>} />
     </div>
   );
 }
 
 export function ImportErrors({ result }: { result: ImportResult }) {
+  const { t } = useTranslation("admin");
   if (result.errorCount === 0) return null;
   const more = result.errorCount - result.errors.length;
   return (
     <div className="space-y-2">
       <h3 className="text-base font-semibold text-alarm-700" data-testid="import-error-count">
         <span aria-hidden>× </span>
-        {plural(result.errorCount, "problem")} in the file — nothing can be imported until they are fixed
+        {t("imports.errors.count", { count: result.errorCount, n: count(result.errorCount) })}
       </h3>
       <div className="max-h-[28rem] overflow-auto rounded-md border border-ink-200">
         <table className="w-full text-sm" data-testid="import-errors">
           <thead className="sticky top-0 bg-ink-50">
             <tr className="border-b border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
-              <th className="px-3 py-2 text-right">Row</th>
-              <th className="px-3 py-2">Column</th>
-              <th className="px-3 py-2">Problem</th>
+              <th className="px-3 py-2 text-right">{t("imports.errors.row")}</th>
+              <th className="px-3 py-2">{t("imports.errors.column")}</th>
+              <th className="px-3 py-2">{t("imports.errors.problem")}</th>
             </tr>
           </thead>
           <tbody>
@@ -48,7 +51,7 @@ export function ImportErrors({ result }: { result: ImportResult }) {
                   {e.row}
                 </td>
                 <td className="px-3 py-2" data-field="column">
-                  {e.column ? <code className="font-mono text-[13px]">{e.column}</code> : <span className="text-ink-500">whole row</span>}
+                  {e.column ? <code className="font-mono text-[13px]">{e.column}</code> : <span className="text-ink-500">{t("imports.errors.wholeRow")}</span>}
                 </td>
                 <td className="px-3 py-2" data-field="message">
                   {e.message}
@@ -60,10 +63,10 @@ export function ImportErrors({ result }: { result: ImportResult }) {
       </div>
       {more > 0 ? (
         <p className="text-sm font-semibold text-ink-800" data-testid="import-errors-more">
-          … and {plural(more, "more problem")} not listed. Fix these first and check the file again.
+          {t("imports.errors.more", { count: more, n: count(more) })}
         </p>
       ) : null}
-      <p className="text-xs text-ink-600">Row numbers are as the spreadsheet shows them: the header is row 1.</p>
+      <p className="text-xs text-ink-600">{t("imports.errors.rowNumbers")}</p>
     </div>
   );
 }

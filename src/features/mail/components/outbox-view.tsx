@@ -1,4 +1,6 @@
 import { useState } from "react";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { MAIL_STATUSES, type OutboxMessage } from "@shared/api/mail";
 import { Button } from "@/components/ui/button";
 import { Notice } from "@/components/ui/notice";
@@ -7,27 +9,15 @@ import { useRetryMail } from "../api/outbox.queries";
 
 type MailStatus = (typeof MAIL_STATUSES)[number];
 
-export const MAIL_STATUS_LABELS: Record<MailStatus, string> = {
-  queued: "Waiting to be sent",
-  sending: "Being sent",
-  sent: "Sent",
-  failed: "Failed",
-};
+/** A message's status in words (`t` of the `admin` namespace). */
+export const mailStatusLabel = (t: TFunction, status: MailStatus) => t(`outbox.statuses.${status}`);
 
-const KIND_LABELS: Record<string, string> = {
-  critical_defect: "Critical defect",
-  action_assigned: "Action assigned",
-  action_overdue: "Action overdue",
-  investigation_closed: "Investigation closed",
-  invitation: "Invitation",
-  password_reset: "Password reset",
-  heat_history: "Heat history",
-  risk_drift: "Risk model drift",
-};
-export const kindLabel = (k: string) => KIND_LABELS[k] ?? k.replace(/_/g, " ");
+/** A message's kind in words; a kind added later shows its key with spaces. */
+export const kindLabel = (t: TFunction, k: string) => t(`outbox.kinds.${k}`, { defaultValue: k.replace(/_/g, " ") });
 
 /** Waiting: an hourglass; being sent: an arrow; sent: a tick; failed: a filled disc with a bar. */
 export function MailStatusMark({ status }: { status: MailStatus }) {
+  const { t } = useTranslation("admin");
   const s = { fill: "none", stroke: "currentColor", strokeWidth: 1.8, strokeLinecap: "round" as const, strokeLinejoin: "round" as const };
   const color = status === "failed" ? "text-alarm-700" : status === "sent" ? "text-ok-700" : status === "sending" ? "text-strand-700" : "text-brass-700";
   return (
@@ -43,17 +33,18 @@ export function MailStatusMark({ status }: { status: MailStatus }) {
           </>
         ) : null}
       </svg>
-      {MAIL_STATUS_LABELS[status]}
+      {mailStatusLabel(t, status)}
     </span>
   );
 }
 
 function RetryButton({ id, onRetried }: { id: number; onRetried: (m: OutboxMessage) => void }) {
+  const { t } = useTranslation("admin");
   const retry = useRetryMail();
   return (
     <div className="space-y-2">
       <Button onClick={() => retry.mutate(id, { onSuccess: onRetried })} disabled={retry.isPending} data-testid="retry-mail">
-        {retry.isPending ? "Queuing again…" : "Try sending again"}
+        {retry.isPending ? t("outbox.queuing") : t("outbox.tryAgain")}
       </Button>
       {retry.isError ? <Notice tone="error">{retry.error.message}</Notice> : null}
     </div>
@@ -62,29 +53,30 @@ function RetryButton({ id, onRetried }: { id: number; onRetried: (m: OutboxMessa
 
 /** One message as it was queued: who sends it to whom, the text and the attachments. */
 export function MailMessage({ m, onRetried }: { m: OutboxMessage; onRetried: (m: OutboxMessage) => void }) {
+  const { t } = useTranslation("admin");
   return (
     <div className="space-y-3 rounded-md border border-ink-200 bg-ink-50 p-4" data-testid="mail-message">
       <dl className="grid gap-x-6 gap-y-2 text-sm md:grid-cols-2">
         <div>
-          <dt className="text-xs font-semibold uppercase text-ink-600">From</dt>
+          <dt className="text-xs font-semibold uppercase text-ink-600">{t("outbox.message.from")}</dt>
           <dd data-field="from">{m.from}</dd>
         </div>
         <div>
-          <dt className="text-xs font-semibold uppercase text-ink-600">To</dt>
+          <dt className="text-xs font-semibold uppercase text-ink-600">{t("outbox.message.to")}</dt>
           <dd data-field="to">{m.to.join(", ")}</dd>
         </div>
         <div className="md:col-span-2">
-          <dt className="text-xs font-semibold uppercase text-ink-600">Subject</dt>
+          <dt className="text-xs font-semibold uppercase text-ink-600">{t("outbox.message.subject")}</dt>
           <dd className="font-semibold">{m.subject}</dd>
         </div>
         <div>
-          <dt className="text-xs font-semibold uppercase text-ink-600">Queued · sent</dt>
+          <dt className="text-xs font-semibold uppercase text-ink-600">{t("outbox.message.queuedSent")}</dt>
           <dd>
-            {dateTime(m.createdAt)} · {m.sentAt ? dateTime(m.sentAt) : "not yet"}
+            {dateTime(m.createdAt)} · {m.sentAt ? dateTime(m.sentAt) : t("outbox.message.notYet")}
           </dd>
         </div>
         <div>
-          <dt className="text-xs font-semibold uppercase text-ink-600">Message id</dt>
+          <dt className="text-xs font-semibold uppercase text-ink-600">{t("outbox.message.messageId")}</dt>
           <dd className="break-all">{m.messageId ?? DASH}</dd>
         </div>
       </dl>
@@ -94,12 +86,7 @@ export function MailMessage({ m, onRetried }: { m: OutboxMessage; onRetried: (m:
       >
         {m.text}
       </pre>
-      {m.text.includes("[link hidden]") ? (
-        <Notice title="Link hidden">
-          This link lets whoever opens it choose the account's password, so it is shown only to the person it was sent to. If they did not get it, they can ask
-          for a new one with “Forgot your password?”.
-        </Notice>
-      ) : null}
+      {m.text.includes("[link hidden]") ? <Notice title={t("outbox.message.linkHiddenTitle")}>{t("outbox.message.linkHidden")}</Notice> : null}
       {m.attachments.length ? (
         <ul className="text-sm">
           {m.attachments.map((a) => (
@@ -112,10 +99,10 @@ export function MailMessage({ m, onRetried }: { m: OutboxMessage; onRetried: (m:
           ))}
         </ul>
       ) : (
-        <p className="text-sm text-ink-600">No attachments.</p>
+        <p className="text-sm text-ink-600">{t("outbox.message.noAttachments")}</p>
       )}
       {m.lastError ? (
-        <Notice tone="error" title="Last error">
+        <Notice tone="error" title={t("outbox.message.lastError")}>
           {m.lastError}
         </Notice>
       ) : null}
@@ -127,14 +114,13 @@ export function MailMessage({ m, onRetried }: { m: OutboxMessage; onRetried: (m:
 const th = "px-2 py-2 text-left text-xs font-semibold text-ink-700";
 
 export function OutboxTable({ items, localServer }: { items: OutboxMessage[]; localServer: boolean }) {
+  const { t } = useTranslation("admin");
   const [openId, setOpenId] = useState<number | null>(null);
   // Said here, not in the message: a retried message may leave a "failed" list at once.
   const [retried, setRetried] = useState<OutboxMessage | null>(null);
   const notice = retried ? (
     <div className="mb-3">
-      <Notice tone="ok">
-        “{retried.subject}” is queued again ({MAIL_STATUS_LABELS[retried.status].toLowerCase()}): the mail worker sends it on its next round.
-      </Notice>
+      <Notice tone="ok">{t("outbox.table.queuedAgain", { subject: retried.subject, status: t(`outbox.statusesInSentence.${retried.status}`) })}</Notice>
     </div>
   ) : null;
   if (items.length === 0)
@@ -142,7 +128,7 @@ export function OutboxTable({ items, localServer }: { items: OutboxMessage[]; lo
       <>
         {notice}
         <p className="text-sm text-ink-600" data-testid="outbox-empty">
-          No message matches.
+          {t("outbox.table.noMatch")}
         </p>
       </>
     );
@@ -152,14 +138,14 @@ export function OutboxTable({ items, localServer }: { items: OutboxMessage[]; lo
       <table className="w-full text-sm" data-testid="outbox">
         <thead>
           <tr className="border-b-2 border-ink-200">
-            <th className={th}>Status</th>
-            <th className={th}>Kind</th>
-            <th className={th}>To</th>
-            <th className={th}>Subject</th>
-            <th className={`${th} text-right`}>Attempts</th>
-            <th className={th}>Next attempt</th>
-            <th className={th}>Last error</th>
-            {localServer ? <th className={th}>Local server</th> : null}
+            <th className={th}>{t("outbox.table.status")}</th>
+            <th className={th}>{t("outbox.table.kind")}</th>
+            <th className={th}>{t("outbox.table.to")}</th>
+            <th className={th}>{t("outbox.table.subject")}</th>
+            <th className={`${th} text-right`}>{t("outbox.table.attempts")}</th>
+            <th className={th}>{t("outbox.table.nextAttempt")}</th>
+            <th className={th}>{t("outbox.table.lastError")}</th>
+            {localServer ? <th className={th}>{t("outbox.table.localServer")}</th> : null}
           </tr>
         </thead>
         <tbody>
@@ -192,6 +178,7 @@ function Row({
   localServer: boolean;
   onRetried: (m: OutboxMessage) => void;
 }) {
+  const { t } = useTranslation("admin");
   const cols = localServer ? 8 : 7;
   return (
     <>
@@ -200,7 +187,7 @@ function Row({
           <MailStatusMark status={m.status} />
         </td>
         <td className="whitespace-nowrap px-2 py-2" data-field="kind">
-          {kindLabel(m.kind)}
+          {kindLabel(t, m.kind)}
         </td>
         <td className="px-2 py-2" data-field="to">
           {m.to.join(", ")}
@@ -225,7 +212,7 @@ function Row({
         </td>
         {localServer ? (
           <td className="whitespace-nowrap px-2 py-2" data-field="received">
-            {m.received ? "received" : "not received"}
+            {m.received ? t("outbox.table.received") : t("outbox.table.notReceived")}
           </td>
         ) : null}
       </tr>

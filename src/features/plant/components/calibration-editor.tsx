@@ -1,6 +1,8 @@
+import { useTranslation } from "react-i18next";
 import type { z } from "zod";
 import type { embrCalibrationSchema } from "@shared/api/plant";
 import { Button } from "@/components/ui/button";
+import { num } from "@/lib/format";
 
 export type EmbrCalibration = z.infer<typeof embrCalibrationSchema>;
 
@@ -22,6 +24,7 @@ export function CalibrationEditor({
   idPrefix: string;
   error?: string;
 }) {
+  const { t } = useTranslation("admin");
   const setKind = (kind: EmbrCalibration["kind"]) => {
     if (kind === value.kind) return;
     if (kind === "linear") {
@@ -39,22 +42,22 @@ export function CalibrationEditor({
 
   return (
     <fieldset className="space-y-3 rounded-md border border-ink-200 p-3">
-      <legend className="px-1 text-sm font-semibold text-ink-800">EMBr calibration (coil current → field)</legend>
-      <div role="radiogroup" aria-label="Calibration kind" className="flex flex-wrap gap-2">
+      <legend className="px-1 text-sm font-semibold text-ink-800">{t("plant.calibration.legend")}</legend>
+      <div role="radiogroup" aria-label={t("plant.calibration.kind")} className="flex flex-wrap gap-2">
         {(["linear", "table"] as const).map((k) => (
           <label
             key={k}
             className={`flex min-h-11 cursor-pointer items-center gap-2 rounded-md border px-3 text-sm ${value.kind === k ? "border-strand-700 bg-strand-50 font-semibold" : "border-ink-300"}`}
           >
             <input type="radio" name={`${idPrefix}-cal-kind`} checked={value.kind === k} onChange={() => setKind(k)} className="h-4 w-4 accent-strand-700" />
-            {k === "linear" ? "Straight line" : "Table of measured points"}
+            {k === "linear" ? t("plant.calibration.linear") : t("plant.calibration.table")}
           </label>
         ))}
       </div>
       {value.kind === "linear" ? (
         <div className="grid gap-3 sm:grid-cols-2">
           <label className="flex flex-col gap-1 text-sm">
-            <span className="font-semibold text-ink-800">Slope (mT per A)</span>
+            <span className="font-semibold text-ink-800">{t("plant.calibration.slope")}</span>
             <input
               className={cell}
               inputMode="decimal"
@@ -63,29 +66,27 @@ export function CalibrationEditor({
             />
           </label>
           <label className="flex flex-col gap-1 text-sm">
-            <span className="font-semibold text-ink-800">Offset (T)</span>
+            <span className="font-semibold text-ink-800">{t("plant.calibration.offset")}</span>
             <input className={cell} inputMode="decimal" defaultValue={value.offsetT} onChange={(e) => onChange({ ...value, offsetT: toNum(e.target.value) })} />
           </label>
-          <p className="text-xs text-ink-600 sm:col-span-2">
-            Field = offset + slope × current. At 400 A: {Number.isFinite(value.teslaPerAmp) ? (value.offsetT + value.teslaPerAmp * 400).toFixed(3) : "—"} T.
-          </p>
+          <p className="text-xs text-ink-600 sm:col-span-2">{t("plant.calibration.fieldAt400", { field: num(value.offsetT + value.teslaPerAmp * 400, 3) })}</p>
         </div>
       ) : (
         <div className="space-y-2">
           <table className="w-full max-w-md text-sm">
             <thead>
               <tr className="text-left text-xs uppercase tracking-wide text-ink-600">
-                <th className="py-1 pr-2">Current (A)</th>
-                <th className="py-1 pr-2">Field (T)</th>
+                <th className="py-1 pr-2">{t("plant.calibration.current")}</th>
+                <th className="py-1 pr-2">{t("plant.calibration.field")}</th>
                 <th className="py-1" />
               </tr>
             </thead>
             <tbody>
-              {value.points.map(([a, t], i) => (
+              {value.points.map(([a, tesla], i) => (
                 <tr key={`${i}-${value.points.length}`}>
                   <td className="py-1 pr-2">
                     <input
-                      aria-label={`Current of point ${i + 1} (A)`}
+                      aria-label={t("plant.calibration.currentOf", { n: i + 1 })}
                       className={cell}
                       inputMode="decimal"
                       defaultValue={a}
@@ -94,10 +95,10 @@ export function CalibrationEditor({
                   </td>
                   <td className="py-1 pr-2">
                     <input
-                      aria-label={`Field of point ${i + 1} (T)`}
+                      aria-label={t("plant.calibration.fieldOf", { n: i + 1 })}
                       className={cell}
                       inputMode="decimal"
-                      defaultValue={t}
+                      defaultValue={tesla}
                       onChange={(e) => onChange({ kind: "table", points: value.points.map((p, j) => (j === i ? [p[0], toNum(e.target.value)] : p)) })}
                     />
                   </td>
@@ -106,9 +107,9 @@ export function CalibrationEditor({
                       variant="ghost"
                       disabled={value.points.length <= 2}
                       onClick={() => onChange({ kind: "table", points: value.points.filter((_, j) => j !== i) })}
-                      aria-label={`Remove point ${i + 1}`}
+                      aria-label={t("plant.calibration.removePoint", { n: i + 1 })}
                     >
-                      Remove
+                      {t("plant.calibration.remove")}
                     </Button>
                   </td>
                 </tr>
@@ -123,11 +124,9 @@ export function CalibrationEditor({
               onChange({ kind: "table", points: [...value.points, [last[0] + 100, last[1]]] });
             }}
           >
-            Add a point
+            {t("plant.calibration.addPoint")}
           </Button>
-          <p className="text-xs text-ink-600">
-            Between points the field is read on a straight line; beyond the first and last point it is held flat. Keep the currents rising; 2 to 50 points.
-          </p>
+          <p className="text-xs text-ink-600">{t("plant.calibration.tableHint")}</p>
         </div>
       )}
       {error ? (

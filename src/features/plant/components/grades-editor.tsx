@@ -1,12 +1,14 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { useTranslation } from "react-i18next";
 import type { z } from "zod";
 import { gradeFamilyInputSchema, gradeInputSchema } from "@shared/api/heats";
 import type { PlantSetup } from "@shared/api/plant";
 import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
+import { useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
 import { useCreateFamily, useCreateGrade, useUpdateFamily, useUpdateGrade } from "../api/setup.queries";
 
@@ -17,18 +19,20 @@ type Grade = Family["grades"][number];
 const selectClass = "min-h-11 rounded-md border border-ink-300 bg-white px-3 text-ink-900";
 
 function ActiveMark({ active }: { active: boolean }) {
+  const { t } = useTranslation("admin");
   return active ? (
     <span className="inline-flex items-center gap-1.5 text-sm font-medium text-ok-700">
-      <span className="h-2.5 w-2.5 rounded-full bg-ok-700" aria-hidden /> In use
+      <span className="h-2.5 w-2.5 rounded-full bg-ok-700" aria-hidden /> {t("plant.grades.inUse")}
     </span>
   ) : (
     <span className="inline-flex items-center gap-1.5 text-sm font-medium text-ink-600">
-      <span className="h-2.5 w-2.5 border-2 border-ink-600" aria-hidden /> Retired
+      <span className="h-2.5 w-2.5 border-2 border-ink-600" aria-hidden /> {t("plant.grades.retired")}
     </span>
   );
 }
 
 function GradeRow({ grade, family, families }: { grade: Grade; family: Family; families: Families }) {
+  const { t } = useTranslation("admin");
   const [editing, setEditing] = useState(false);
   const [name, setName] = useState(grade.name);
   const [familyCode, setFamilyCode] = useState(family.code);
@@ -39,8 +43,18 @@ function GradeRow({ grade, family, families }: { grade: Grade; family: Family; f
       <td className="py-2 pr-3">
         {editing ? (
           <div className="flex flex-wrap gap-2">
-            <input aria-label={`Name of ${grade.code}`} value={name} onChange={(e) => setName(e.target.value)} className={`${selectClass} min-w-48 flex-1`} />
-            <select aria-label={`Family of ${grade.code}`} value={familyCode} onChange={(e) => setFamilyCode(e.target.value)} className={selectClass}>
+            <input
+              aria-label={t("plant.grades.nameOf", { code: grade.code })}
+              value={name}
+              onChange={(e) => setName(e.target.value)}
+              className={`${selectClass} min-w-48 flex-1`}
+            />
+            <select
+              aria-label={t("plant.grades.familyOf", { code: grade.code })}
+              value={familyCode}
+              onChange={(e) => setFamilyCode(e.target.value)}
+              className={selectClass}
+            >
               {families.map((f) => (
                 <option key={f.code} value={f.code}>
                   {f.code} — {f.name}
@@ -67,7 +81,7 @@ function GradeRow({ grade, family, families }: { grade: Grade; family: Family; f
                   setEditing(false);
                 }}
               >
-                Save
+                {t("plant.grades.save")}
               </Button>
               <Button
                 variant="ghost"
@@ -77,16 +91,16 @@ function GradeRow({ grade, family, families }: { grade: Grade; family: Family; f
                   setEditing(false);
                 }}
               >
-                Cancel
+                {t("plant.grades.cancel")}
               </Button>
             </>
           ) : (
             <>
               <Button variant="secondary" onClick={() => setEditing(true)}>
-                Rename
+                {t("plant.grades.rename")}
               </Button>
               <Button variant="secondary" disabled={update.isPending} onClick={() => update.mutate({ code: grade.code, active: !grade.active })}>
-                {grade.active ? "Retire" : "Bring back"}
+                {grade.active ? t("plant.grades.retire") : t("plant.grades.bringBack")}
               </Button>
             </>
           )}
@@ -97,6 +111,7 @@ function GradeRow({ grade, family, families }: { grade: Grade; family: Family; f
 }
 
 function FamilyHeader({ family }: { family: Family }) {
+  const { t } = useTranslation("admin");
   const [editing, setEditing] = useState(false);
   const [name, setName] = useState(family.name);
   const [description, setDescription] = useState(family.description ?? "");
@@ -111,7 +126,7 @@ function FamilyHeader({ family }: { family: Family }) {
           {family.description ? <p className="text-xs text-ink-600">{family.description}</p> : null}
         </div>
         <Button variant="ghost" onClick={() => setEditing(true)}>
-          Rename family
+          {t("plant.grades.renameFamily")}
         </Button>
       </div>
     );
@@ -119,8 +134,8 @@ function FamilyHeader({ family }: { family: Family }) {
   return (
     <div className="space-y-2 rounded-md border border-ink-200 bg-ink-50 p-3">
       <div className="grid gap-2 md:grid-cols-2">
-        <TextField label={`Name of family ${family.code}`} value={name} onChange={(e) => setName(e.target.value)} />
-        <TextField label="Description" value={description} onChange={(e) => setDescription(e.target.value)} />
+        <TextField label={t("plant.grades.nameOfFamily", { code: family.code })} value={name} onChange={(e) => setName(e.target.value)} />
+        <TextField label={t("plant.grades.description")} value={description} onChange={(e) => setDescription(e.target.value)} />
       </div>
       {update.isError ? <Notice tone="error">{update.error.message}</Notice> : null}
       <div className="flex gap-2">
@@ -131,10 +146,10 @@ function FamilyHeader({ family }: { family: Family }) {
             setEditing(false);
           }}
         >
-          Save family
+          {t("plant.grades.saveFamily")}
         </Button>
         <Button variant="ghost" onClick={() => setEditing(false)}>
-          Cancel
+          {t("plant.grades.cancel")}
         </Button>
       </div>
     </div>
@@ -142,6 +157,8 @@ function FamilyHeader({ family }: { family: Family }) {
 }
 
 function NewFamilyForm() {
+  const { t } = useTranslation("admin");
+  const message = useFormMessage();
   const create = useCreateFamily();
   const form = useForm<z.input<typeof gradeFamilyInputSchema>>({
     resolver: zodResolver(gradeFamilyInputSchema, friendlyErrors),
@@ -151,7 +168,7 @@ function NewFamilyForm() {
   return (
     <form
       noValidate
-      aria-label="New grade family"
+      aria-label={t("plant.grades.newFamily")}
       className="space-y-3"
       onSubmit={form.handleSubmit(async (v) => {
         await create.mutateAsync({ ...v, description: v.description || null });
@@ -159,19 +176,21 @@ function NewFamilyForm() {
       })}
     >
       <div className="grid gap-3 md:grid-cols-[10rem_1fr_1fr]">
-        <TextField label="Code" {...form.register("code")} error={e.code?.message} />
-        <TextField label="Name" {...form.register("name")} error={e.name?.message} />
-        <TextField label="Description" {...form.register("description")} error={e.description?.message} />
+        <TextField label={t("plant.grades.code")} {...form.register("code")} error={message(e.code?.message)} />
+        <TextField label={t("plant.grades.name")} {...form.register("name")} error={message(e.name?.message)} />
+        <TextField label={t("plant.grades.description")} {...form.register("description")} error={message(e.description?.message)} />
       </div>
       {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
       <Button type="submit" variant="secondary" disabled={form.formState.isSubmitting}>
-        Add family
+        {t("plant.grades.addFamily")}
       </Button>
     </form>
   );
 }
 
 function NewGradeForm({ families }: { families: Families }) {
+  const { t } = useTranslation("admin");
+  const message = useFormMessage();
   const create = useCreateGrade();
   const form = useForm<z.input<typeof gradeInputSchema>>({
     resolver: zodResolver(gradeInputSchema, friendlyErrors),
@@ -181,7 +200,7 @@ function NewGradeForm({ families }: { families: Families }) {
   return (
     <form
       noValidate
-      aria-label="New grade"
+      aria-label={t("plant.grades.newGrade")}
       className="space-y-3"
       onSubmit={form.handleSubmit(async (v) => {
         await create.mutateAsync(v);
@@ -189,10 +208,10 @@ function NewGradeForm({ families }: { families: Families }) {
       })}
     >
       <div className="grid gap-3 md:grid-cols-[10rem_1fr_18rem]">
-        <TextField label="Code" {...form.register("code")} error={e.code?.message} />
-        <TextField label="Name" {...form.register("name")} error={e.name?.message} />
+        <TextField label={t("plant.grades.code")} {...form.register("code")} error={message(e.code?.message)} />
+        <TextField label={t("plant.grades.name")} {...form.register("name")} error={message(e.name?.message)} />
         <label className="flex flex-col gap-1">
-          <span className="text-sm font-semibold text-ink-800">Family</span>
+          <span className="text-sm font-semibold text-ink-800">{t("plant.grades.family")}</span>
           <select {...form.register("familyCode")} className={selectClass}>
             {families.map((f) => (
               <option key={f.code} value={f.code}>
@@ -204,7 +223,7 @@ function NewGradeForm({ families }: { families: Families }) {
       </div>
       {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
       <Button type="submit" variant="secondary" disabled={form.formState.isSubmitting}>
-        Add grade
+        {t("plant.grades.addGrade")}
       </Button>
     </form>
   );
@@ -212,10 +231,11 @@ function NewGradeForm({ families }: { families: Families }) {
 
 /** Grade families and their grades: add, rename, move to another family, retire (kept for the history). */
 export function GradesEditor({ families }: { families: Families }) {
+  const { t } = useTranslation("admin");
   return (
     <div className="space-y-6">
       {families.map((f) => (
-        <section key={f.code} className="space-y-2" aria-label={`Family ${f.code}`}>
+        <section key={f.code} className="space-y-2" aria-label={t("plant.grades.familySection", { code: f.code })}>
           <FamilyHeader family={f} />
           {f.grades.length ? (
             <div className="overflow-x-auto">
@@ -234,21 +254,21 @@ export function GradesEditor({ families }: { families: Families }) {
               </table>
             </div>
           ) : (
-            <p className="text-sm text-ink-600">No grades in this family yet.</p>
+            <p className="text-sm text-ink-600">{t("plant.grades.noGrades")}</p>
           )}
         </section>
       ))}
       <div className="grid gap-5 border-t border-ink-200 pt-4">
         <div>
-          <h3 className="mb-2 font-semibold">Add a grade</h3>
+          <h3 className="mb-2 font-semibold">{t("plant.grades.addAGrade")}</h3>
           <NewGradeForm families={families} />
         </div>
         <div>
-          <h3 className="mb-2 font-semibold">Add a grade family</h3>
+          <h3 className="mb-2 font-semibold">{t("plant.grades.addAFamily")}</h3>
           <NewFamilyForm />
         </div>
       </div>
-      <p className="text-xs text-ink-600">Retiring a grade deletes nothing: it stays on its heats and in the reports, marked retired.</p>
+      <p className="text-xs text-ink-600">{t("plant.grades.retireNote")}</p>
     </div>
   );
 }

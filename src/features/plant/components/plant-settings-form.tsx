@@ -1,11 +1,13 @@
 import { useForm, type Resolver } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { useTranslation } from "react-i18next";
 import { plantSettingsSchema, type PlantSettings } from "@shared/api/heats";
 import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
+import { useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { useSaveSettings } from "../api/setup.queries";
 
 const ELEMENTS = [
@@ -52,6 +54,8 @@ const resolver: Resolver<PlantSettings> = (values, context, options) => zod(with
 
 /** The formula settings of the plant. Saving recomputes every slab's derived values. */
 export function PlantSettingsForm({ settings, onRecomputed }: { settings: PlantSettings; onRecomputed?: (n: number) => void }) {
+  const { t } = useTranslation("admin");
+  const message = useFormMessage();
   const save = useSaveSettings({ onRecomputed });
   const form = useForm<PlantSettings>({ resolver, defaultValues: withEveryElement(settings) });
   const e = form.formState.errors;
@@ -63,95 +67,98 @@ export function PlantSettingsForm({ settings, onRecomputed }: { settings: PlantS
   return (
     <form
       noValidate
-      aria-label="Plant settings"
+      aria-label={t("plant.settings.formLabel")}
       className="space-y-4"
       onSubmit={form.handleSubmit(async (values) => {
         const out = await save.mutateAsync(withoutEmptyElements(values));
         form.reset(withEveryElement(out.settings));
       })}
     >
-      <Group title="Liquidus temperature (°C, contents in wt %)" note={<span className="font-mono">{formula}</span>}>
+      <Group title={t("plant.settings.liquidus")} note={<span className="font-mono">{formula}</span>}>
         <div className="grid gap-3 sm:grid-cols-[10rem_1fr]">
-          <TextField label="Base (°C)" inputMode="decimal" {...form.register("liquidus.baseC", { setValueAs: number })} error={e.liquidus?.baseC?.message} />
-          <TextField label="Source of the coefficients" {...form.register("liquidus.source")} error={e.liquidus?.source?.message} />
+          <TextField
+            label={t("plant.settings.base")}
+            inputMode="decimal"
+            {...form.register("liquidus.baseC", { setValueAs: number })}
+            error={message(e.liquidus?.baseC?.message)}
+          />
+          <TextField label={t("plant.settings.source")} {...form.register("liquidus.source")} error={message(e.liquidus?.source?.message)} />
         </div>
         <div className="grid grid-cols-3 gap-3 sm:grid-cols-5 lg:grid-cols-7">
           {ELEMENTS.map(([k, sym]) => (
             <TextField
               key={k}
-              label={`${sym} (°C per %)`}
+              label={t("plant.settings.perElement", { element: sym })}
               inputMode="decimal"
               {...form.register(`liquidus.perPct.${k}`, { setValueAs: optionalNumber })}
-              error={e.liquidus?.perPct?.[k]?.message}
+              error={message(e.liquidus?.perPct?.[k]?.message)}
             />
           ))}
         </div>
-        <p className="text-xs text-ink-600">
-          Leave an element empty to keep it out of the formula. A heat with a liquidus given in its record keeps that value.
-        </p>
+        <p className="text-xs text-ink-600">{t("plant.settings.emptyElement")}</p>
       </Group>
       <div className="grid gap-4 lg:grid-cols-3">
-        <Group title="Shell growth K (mm/√min)" note="Shell thickness s = K · √t, t the time in the mold or along the strand.">
+        <Group title={t("plant.settings.shellGrowth")} note={t("plant.settings.shellGrowthNote")}>
           <TextField
-            label="In the mold"
+            label={t("plant.settings.inMold")}
             inputMode="decimal"
             {...form.register("shellK.moldMmPerSqrtMin", { setValueAs: number })}
-            error={e.shellK?.moldMmPerSqrtMin?.message}
+            error={message(e.shellK?.moldMmPerSqrtMin?.message)}
           />
           <TextField
-            label="Along the strand"
+            label={t("plant.settings.alongStrand")}
             inputMode="decimal"
             {...form.register("shellK.strandMmPerSqrtMin", { setValueAs: number })}
-            error={e.shellK?.strandMmPerSqrtMin?.message}
+            error={message(e.shellK?.strandMmPerSqrtMin?.message)}
           />
         </Group>
-        <Group title="Steel density (t/m³)" note="Solid for slab weights and throughput; liquid for the volume flow through the SEN ports.">
+        <Group title={t("plant.settings.density")} note={t("plant.settings.densityNote")}>
           <TextField
-            label="Solid slab"
+            label={t("plant.settings.solid")}
             inputMode="decimal"
             {...form.register("density.solidTPerM3", { setValueAs: number })}
-            error={e.density?.solidTPerM3?.message}
+            error={message(e.density?.solidTPerM3?.message)}
           />
           <TextField
-            label="Liquid steel"
+            label={t("plant.settings.liquid")}
             inputMode="decimal"
             {...form.register("density.liquidTPerM3", { setValueAs: number })}
-            error={e.density?.liquidTPerM3?.message}
+            error={message(e.density?.liquidTPerM3?.message)}
           />
         </Group>
-        <Group title="Liquid steel for the brake numbers" note="Used in the Stuart and Hartmann numbers.">
+        <Group title={t("plant.settings.brake")} note={t("plant.settings.brakeNote")}>
           <TextField
-            label="Electrical conductivity σ (S/m)"
+            label={t("plant.settings.conductivity")}
             inputMode="decimal"
             {...form.register("steelProperties.conductivitySPerM", { setValueAs: number })}
-            error={e.steelProperties?.conductivitySPerM?.message}
+            error={message(e.steelProperties?.conductivitySPerM?.message)}
           />
           <TextField
-            label="Density ρ (kg/m³)"
+            label={t("plant.settings.densityRho")}
             inputMode="decimal"
             {...form.register("steelProperties.densityKgPerM3", { setValueAs: number })}
-            error={e.steelProperties?.densityKgPerM3?.message}
+            error={message(e.steelProperties?.densityKgPerM3?.message)}
           />
           <TextField
-            label="Viscosity μ (Pa·s)"
+            label={t("plant.settings.viscosity")}
             inputMode="decimal"
             {...form.register("steelProperties.viscosityPaS", { setValueAs: number })}
-            error={e.steelProperties?.viscosityPaS?.message}
+            error={message(e.steelProperties?.viscosityPaS?.message)}
           />
         </Group>
       </div>
       {save.isError ? <Notice tone="error">{save.error.message}</Notice> : null}
       {save.isSuccess && !form.formState.isDirty ? (
-        <Notice tone="ok" title="Saved">
-          {plural(save.data.slabsResolved, "slab")} recomputed with the new settings.
+        <Notice tone="ok" title={t("plant.settings.saved")}>
+          {t("plant.settings.recomputed", { count: save.data.slabsResolved, n: count(save.data.slabsResolved) })}
         </Notice>
       ) : null}
       <div className="flex flex-wrap gap-2">
         <Button type="submit" disabled={!form.formState.isDirty || form.formState.isSubmitting}>
-          {form.formState.isSubmitting ? "Saving and recomputing every slab…" : "Save plant settings"}
+          {form.formState.isSubmitting ? t("plant.settings.saving") : t("plant.settings.save")}
         </Button>
         <Button variant="ghost" disabled={!form.formState.isDirty || form.formState.isSubmitting} onClick={() => form.reset()}>
-          Undo changes
+          {t("plant.settings.undo")}
         </Button>
       </div>
     </form>

@@ -1,14 +1,17 @@
 import { useState } from "react";
 import { Controller, useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import type { z } from "zod";
 import { strandUpdateSchema, type StrandUpdate } from "@shared/api/heats";
 import type { PlantSetup } from "@shared/api/plant";
 import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
+import { formMessage, useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { useUpdateStrand } from "../api/setup.queries";
 import { CalibrationEditor } from "./calibration-editor";
 
@@ -20,6 +23,8 @@ const number = (v: unknown) => (v === "" || v === null || v === undefined ? Numb
 
 /** One strand's mold, SEN and brake settings. Saving recomputes the derived values of its slabs. */
 export function StrandSettingsForm({ casterCode, strand, onRecomputed }: { casterCode: string; strand: Strand; onRecomputed?: (n: number) => void }) {
+  const { t } = useTranslation("admin");
+  const message = useFormMessage();
   const save = useUpdateStrand({ onRecomputed });
   const { id: _id, strandNo: _no, ...initial } = strand;
   const form = useForm<FormValues, unknown, StrandUpdate>({ resolver: zodResolver(strandUpdateSchema, friendlyErrors), defaultValues: initial });
@@ -42,47 +47,52 @@ export function StrandSettingsForm({ casterCode, strand, onRecomputed }: { caste
   });
 
   return (
-    <form onSubmit={submit} noValidate className="space-y-4" aria-label={`Settings of ${casterCode} strand ${strand.strandNo}`}>
+    <form onSubmit={submit} noValidate className="space-y-4" aria-label={t("plant.strand.formLabel", { caster: casterCode, strand: strand.strandNo })}>
       <div className="grid gap-3 sm:grid-cols-2">
         <TextField
-          label="Mold thickness (mm)"
+          label={t("plant.strand.moldThickness")}
           inputMode="decimal"
           {...form.register("moldThicknessMm", { setValueAs: number })}
-          error={errors.moldThicknessMm?.message}
+          error={message(errors.moldThicknessMm?.message)}
         />
         <TextField
-          label="Effective mold length (mm)"
+          label={t("plant.strand.moldLength")}
           inputMode="decimal"
-          hint="Meniscus to mold exit"
+          hint={t("plant.strand.moldLengthHint")}
           {...form.register("moldEffectiveLengthMm", { setValueAs: number })}
-          error={errors.moldEffectiveLengthMm?.message}
+          error={message(errors.moldEffectiveLengthMm?.message)}
         />
         <TextField
-          label="Brake position (mm below the mold top)"
+          label={t("plant.strand.brakePosition")}
           inputMode="decimal"
           {...form.register("embrPositionMm", { setValueAs: numberOrNull })}
-          error={errors.embrPositionMm?.message}
+          error={message(errors.embrPositionMm?.message)}
         />
         <TextField
-          label="Narrowest slab width (mm)"
+          label={t("plant.strand.narrowest")}
           inputMode="decimal"
           {...form.register("moldWidthMinMm", { setValueAs: numberOrNull })}
-          error={errors.moldWidthMinMm?.message}
+          error={message(errors.moldWidthMinMm?.message)}
         />
         <TextField
-          label="Widest slab width (mm)"
+          label={t("plant.strand.widest")}
           inputMode="decimal"
           {...form.register("moldWidthMaxMm", { setValueAs: numberOrNull })}
-          error={errors.moldWidthMaxMm?.message}
+          error={message(errors.moldWidthMaxMm?.message)}
         />
         <div className="grid grid-cols-2 gap-3">
           <TextField
-            label="SEN port area (mm²)"
+            label={t("plant.strand.portArea")}
             inputMode="decimal"
             {...form.register("senPortAreaMm2", { setValueAs: number })}
-            error={errors.senPortAreaMm2?.message}
+            error={message(errors.senPortAreaMm2?.message)}
           />
-          <TextField label="Ports" inputMode="numeric" {...form.register("senPortCount", { setValueAs: number })} error={errors.senPortCount?.message} />
+          <TextField
+            label={t("plant.strand.ports")}
+            inputMode="numeric"
+            {...form.register("senPortCount", { setValueAs: number })}
+            error={message(errors.senPortCount?.message)}
+          />
         </div>
       </div>
       <Controller
@@ -94,30 +104,30 @@ export function StrandSettingsForm({ casterCode, strand, onRecomputed }: { caste
             idPrefix={prefix}
             value={field.value as NonNullable<FormValues["embrCalibration"]>}
             onChange={field.onChange}
-            error={fieldState.error ? calibrationError(fieldState.error) : undefined}
+            error={fieldState.error ? calibrationError(t, fieldState.error) : undefined}
           />
         )}
       />
       {save.isError ? <Notice tone="error">{save.error.message}</Notice> : null}
       {save.isSuccess && !form.formState.isDirty ? (
-        <Notice tone="ok" title="Saved">
-          Strand {strand.strandNo}: {plural(save.data.slabsResolved, "slab")} recomputed with the new settings.
+        <Notice tone="ok" title={t("plant.strand.saved")}>
+          {t("plant.strand.recomputed", { strand: strand.strandNo, count: save.data.slabsResolved, n: count(save.data.slabsResolved) })}
         </Notice>
       ) : null}
       <div className="flex flex-wrap gap-2">
         <Button type="submit" disabled={!form.formState.isDirty || form.formState.isSubmitting}>
-          {form.formState.isSubmitting ? "Saving and recomputing…" : `Save strand ${strand.strandNo}`}
+          {form.formState.isSubmitting ? t("plant.strand.saving") : t("plant.strand.save", { strand: strand.strandNo })}
         </Button>
         <Button variant="ghost" disabled={!form.formState.isDirty || form.formState.isSubmitting} onClick={() => resetTo()}>
-          Undo changes
+          {t("plant.strand.undo")}
         </Button>
       </div>
     </form>
   );
 }
 
-/** A calibration error may sit deep (a point of the table): show the first message found. */
-function calibrationError(err: unknown): string {
+/** A calibration error may sit deep (a point of the table): show the first message found, in the language shown. */
+function calibrationError(t: TFunction, err: unknown): string {
   const seen = new Set<unknown>();
   const walk = (e: unknown): string | undefined => {
     if (!e || typeof e !== "object" || seen.has(e)) return undefined;
@@ -130,5 +140,5 @@ function calibrationError(err: unknown): string {
     }
     return undefined;
   };
-  return walk(err) ?? "Check the calibration values.";
+  return formMessage(t, walk(err)) ?? t("validation.checkCalibration");
 }

@@ -1,4 +1,5 @@
 import { useEffect, useRef, useState } from "react";
+import { useTranslation } from "react-i18next";
 
 /**
  * "Scan": reads a slab id from its label with the tablet's rear camera, in a sheet with a live
@@ -76,17 +77,8 @@ async function makeReader(): Promise<CodeReader> {
   };
 }
 
+/** Why the camera cannot scan; each has its words under `scan.problems`. */
 type Problem = "insecure" | "refused" | "absent" | "busy" | "idle" | "failed";
-
-const PROBLEM_TEXT: Record<Problem, string> = {
-  insecure: "The camera works only over Strandsight's secure (https) address. Type the id or use the hand scanner meanwhile, and ask IT for the https address.",
-  refused:
-    "The camera was refused. To scan with it, allow the camera for Strandsight in the browser's site settings, then tap Try again. Typing the id or the hand scanner works meanwhile.",
-  absent: "No camera was found on this device. Type the id or use the hand scanner.",
-  busy: "The camera is in use by another app. Close that app, then tap Try again.",
-  idle: "Nothing was read for a minute, so the camera is off to save the battery. Tap Try again to scan.",
-  failed: "The camera could not start. Tap Try again, or type the id.",
-};
 
 function problemOf(err: unknown): Problem {
   const name = err instanceof DOMException || err instanceof Error ? err.name : "";
@@ -126,6 +118,7 @@ function ScanIcon({ className = "h-7 w-7" }: { className?: string }) {
 }
 
 function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose: () => void }) {
+  const { t } = useTranslation("slab");
   const dialog = useRef<HTMLDialogElement>(null);
   const video = useRef<HTMLVideoElement>(null);
   const [attempt, setAttempt] = useState(0);
@@ -223,18 +216,18 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
       <div className="flex h-full flex-col">
         <div className="flex items-center justify-between gap-3 px-4 py-3">
           <h2 id="scan-title" className="flex items-center gap-2 text-xl font-bold">
-            <ScanIcon /> Scan the slab's label
+            <ScanIcon /> {t("scan.title")}
           </h2>
           <button
             type="button"
             onClick={() => dialog.current?.close()}
             className="min-h-14 rounded-md bg-white px-6 text-base font-semibold text-ink-900 hover:bg-ink-100"
           >
-            Close
+            {t("scan.close")}
           </button>
         </div>
         <div className="relative min-h-0 flex-1 overflow-hidden bg-black">
-          <video ref={video} muted playsInline autoPlay className="h-full w-full object-cover" aria-label="Camera picture" />
+          <video ref={video} muted playsInline autoPlay className="h-full w-full object-cover" aria-label={t("scan.cameraPicture")} />
           {state === "looking" ? (
             // Where to hold the label; the reader looks at the whole picture.
             <div
@@ -250,8 +243,8 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
                 data-testid="scan-problem"
                 data-problem={problem}
               >
-                <p className="text-lg font-semibold">{problem === "idle" ? "Camera off" : "The camera cannot scan"}</p>
-                <p className="text-base">{PROBLEM_TEXT[problem]}</p>
+                <p className="text-lg font-semibold">{problem === "idle" ? t("scan.cameraOff") : t("scan.cannotScan")}</p>
+                <p className="text-base">{t(`scan.problems.${problem}`)}</p>
                 <div className="flex flex-wrap gap-2">
                   {problem !== "insecure" && problem !== "absent" ? (
                     <button
@@ -259,7 +252,7 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
                       onClick={() => setAttempt((a) => a + 1)}
                       className="min-h-14 rounded-md bg-strand-700 px-6 text-base font-semibold text-white hover:bg-strand-800"
                     >
-                      Try again
+                      {t("scan.tryAgain")}
                     </button>
                   ) : null}
                   <button
@@ -267,7 +260,7 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
                     onClick={() => dialog.current?.close()}
                     className="min-h-14 rounded-md border-2 border-ink-300 bg-white px-6 text-base font-semibold text-ink-900 hover:bg-ink-50"
                   >
-                    Type the id instead
+                    {t("scan.typeInstead")}
                   </button>
                 </div>
               </div>
@@ -275,14 +268,14 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
           ) : null}
         </div>
         <div className="space-y-1 px-4 py-3 text-base" role="status">
-          {state === "starting" ? <p>Starting the camera…</p> : null}
-          {state === "looking" ? <p className="font-semibold">Hold the label inside the frame, 20–40 cm away. QR, Code 128 and Data Matrix are read.</p> : null}
+          {state === "starting" ? <p>{t("scan.starting")}</p> : null}
+          {state === "looking" ? <p className="font-semibold">{t("scan.hold")}</p> : null}
           {notSlab && state === "looking" ? (
             <p className="text-brass-400" data-testid="scan-not-slab">
-              Read “{notSlab}”, which is not a slab id. Point at the slab's own label.
+              {t("scan.notSlab", { text: notSlab })}
             </p>
           ) : null}
-          <p className="text-sm text-ink-300">Scan only where the site's hot-yard and crane rules allow.</p>
+          <p className="text-sm text-ink-300">{t("scan.safety")}</p>
         </div>
       </div>
     </dialog>
@@ -294,6 +287,7 @@ function ScanSheet({ onRead, onClose }: { onRead: (id: string) => void; onClose:
  * there and Enter pressed, as a hand scanner would.
  */
 export function ScanSlabId({ fieldId }: { fieldId: string }) {
+  const { t } = useTranslation("slab");
   const [open, setOpen] = useState(false);
   const onRead = (id: string) => {
     setOpen(false);
@@ -308,7 +302,7 @@ export function ScanSlabId({ fieldId }: { fieldId: string }) {
         aria-haspopup="dialog"
         className="flex min-h-16 shrink-0 items-center justify-center gap-2 rounded-lg bg-ink-900 px-5 text-lg font-semibold text-white hover:bg-ink-800"
       >
-        <ScanIcon /> Scan
+        <ScanIcon /> {t("scan.button")}
       </button>
       {open ? (
         <ScanSheet

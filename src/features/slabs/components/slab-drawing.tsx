@@ -1,6 +1,8 @@
 import { useRef, type MouseEvent } from "react";
+import { useTranslation } from "react-i18next";
 import type { Face } from "@shared/domain";
 import { SeverityGlyph } from "@/components/ui/marks";
+import { useTerms } from "@/i18n/terms";
 import { num } from "@/lib/format";
 
 /*
@@ -42,15 +44,17 @@ export interface Placement {
 
 type SurfaceFace = Exclude<Face, "section">;
 
+/** An edge's words, under `drawing.edges`. */
+type Edge = "outerCorner" | "innerCorner" | "leftEdge" | "rightEdge";
+
 interface Strip {
   face: SurfaceFace;
-  name: string;
   /** Which way across runs in the drawing: from the strip's top edge (1) or its bottom edge (-1). */
   dir: 1 | -1;
   top: number;
   height: number;
-  /** The edges' names, top and bottom. */
-  edges: [string, string];
+  /** The edges, top and bottom. */
+  edges: [Edge, Edge];
 }
 
 const W = 1000;
@@ -62,10 +66,10 @@ const BROAD_H = 184;
 
 const STRIPS: Strip[] = (() => {
   const spec: Omit<Strip, "top">[] = [
-    { face: "left", name: "Left narrow face", dir: -1, height: NARROW_H, edges: ["outer corner", "inner corner"] },
-    { face: "inner", name: "Inner radius (top) face", dir: 1, height: BROAD_H, edges: ["left edge", "right edge"] },
-    { face: "right", name: "Right narrow face", dir: 1, height: NARROW_H, edges: ["inner corner", "outer corner"] },
-    { face: "outer", name: "Outer radius (bottom) face", dir: -1, height: BROAD_H, edges: ["right edge", "left edge"] },
+    { face: "left", dir: -1, height: NARROW_H, edges: ["outerCorner", "innerCorner"] },
+    { face: "inner", dir: 1, height: BROAD_H, edges: ["leftEdge", "rightEdge"] },
+    { face: "right", dir: 1, height: NARROW_H, edges: ["innerCorner", "outerCorner"] },
+    { face: "outer", dir: -1, height: BROAD_H, edges: ["rightEdge", "leftEdge"] },
   ];
   let top = RULER;
   return spec.map((s) => {
@@ -128,6 +132,8 @@ export function SlabDrawing({
   extent?: { lengthMm: number | null; widthMm: number | null } | null;
   onPlace?: (p: Placement) => void;
 }) {
+  const { t } = useTranslation("slab");
+  const { term } = useTerms();
   const ref = useRef<SVGSVGElement>(null);
   const x = (mm: number) => X0 + (clamp(mm, 0, slab.lengthMm) / slab.lengthMm) * (X1 - X0);
   const stripOf = (face: string) => STRIPS.find((s) => s.face === face);
@@ -164,7 +170,7 @@ export function SlabDrawing({
         viewBox={`0 0 ${W} ${H}`}
         className={`h-auto w-full select-none ${onPlace ? "cursor-crosshair touch-manipulation" : ""}`}
         role={onPlace ? "group" : "img"}
-        aria-label={onPlace ? "Slab drawing: tap where the defect is" : "Where the defects sit on the slab's faces"}
+        aria-label={onPlace ? t("drawing.placeLabel") : t("drawing.showLabel")}
         data-testid="slab-drawing"
         onClick={onClick}
       >
@@ -181,7 +187,7 @@ export function SlabDrawing({
           fontWeight={700}
           letterSpacing={3}
         >
-          HEAD END · 0 mm
+          {t("drawing.headEnd")}
         </text>
         {/* Tail end: a light band, so the two ends never look alike. */}
         <rect x={X1 + 6} y={STRIPS[0]!.top} width={W - X1 - 6} height={STRIPS_BOTTOM - STRIPS[0]!.top} rx={4} fill="#d6dde2" stroke="#8a98a5" />
@@ -196,7 +202,7 @@ export function SlabDrawing({
           fontWeight={600}
           letterSpacing={2}
         >
-          TAIL · {num(slab.lengthMm)} mm
+          {t("drawing.tail", { length: num(slab.lengthMm) })}
         </text>
         <Ruler slab={slab} y={RULER} below={false} />
         <Ruler slab={slab} y={STRIPS_BOTTOM} below />
@@ -214,17 +220,17 @@ export function SlabDrawing({
               data-face-strip={s.face}
             />
             <text x={X0 + 10} y={s.top + (s.height === NARROW_H ? 24 : 27)} fontSize={19} fontWeight={700} fill="#1f2f3d" pointerEvents="none">
-              {s.name}
+              {term("faces", s.face)}
               <tspan fontWeight={400} fill="#4b5d6d">
                 {" "}
-                · {num(acrossLimitMm(slab, s.face))} mm across
+                {t("drawing.across", { mm: num(acrossLimitMm(slab, s.face)) })}
               </tspan>
             </text>
             <text x={X1 - 8} y={s.top + 18} textAnchor="end" fontSize={15} fill="#4b5d6d" pointerEvents="none">
-              {s.edges[0]}
+              {t(`drawing.edges.${s.edges[0]}`)}
             </text>
             <text x={X1 - 8} y={s.top + s.height - 7} textAnchor="end" fontSize={15} fill="#4b5d6d" pointerEvents="none">
-              {s.edges[1]}
+              {t(`drawing.edges.${s.edges[1]}`)}
             </text>
           </g>
         ))}
@@ -292,9 +298,7 @@ export function SlabDrawing({
           </g>
         ) : null}
       </svg>
-      <p className="text-xs text-ink-600">
-        To scale along the length. Across, each face has its own scale: width {num(slab.widthMm)} mm, thickness {num(slab.thicknessMm)} mm.
-      </p>
+      <p className="text-xs text-ink-600">{t("drawing.scaleNote", { width: num(slab.widthMm), thickness: num(slab.thicknessMm) })}</p>
     </div>
   );
 }
@@ -311,6 +315,7 @@ export function CrossSection({
   placement?: Placement | null;
   onPlace?: (acrossMm: number) => void;
 }) {
+  const { t } = useTranslation("slab");
   const ref = useRef<SVGSVGElement>(null);
   const VW = 1000;
   const bx = 190;
@@ -333,21 +338,21 @@ export function CrossSection({
       viewBox={`0 0 ${VW} ${VH}`}
       className={`h-auto w-full select-none ${onPlace ? "cursor-crosshair touch-manipulation" : ""}`}
       role={onPlace ? "group" : "img"}
-      aria-label="Cross-section seen from the head end"
+      aria-label={t("drawing.sectionLabel")}
       data-testid="cross-section"
       onClick={onClick}
     >
       <text x={bx + bw / 2} y={by - 12} textAnchor="middle" fontSize={21} fill="#334555">
-        inner radius (top) face
+        {t("drawing.sectionInner")}
       </text>
       <text x={bx + bw / 2} y={by + bh + 30} textAnchor="middle" fontSize={21} fill="#334555">
-        outer radius (bottom) face
+        {t("drawing.sectionOuter")}
       </text>
       <text x={bx - 14} y={by + bh / 2} textAnchor="end" dominantBaseline="central" fontSize={21} fontWeight={600} fill="#334555">
-        left · 0 mm
+        {t("drawing.sectionLeft")}
       </text>
       <text x={bx + bw + 14} y={by + bh / 2} dominantBaseline="central" fontSize={21} fill="#334555">
-        right · {num(slab.widthMm)} mm
+        {t("drawing.sectionRight", { width: num(slab.widthMm) })}
       </text>
       <rect x={bx} y={by} width={bw} height={bh} fill={here ? "#eef8f9" : "#d6dde2"} stroke="#4b5d6d" strokeWidth={2} data-face-strip="section" />
       <line x1={bx} x2={bx + bw} y1={by + bh / 2} y2={by + bh / 2} stroke="#8a98a5" strokeDasharray="6 6" pointerEvents="none" />

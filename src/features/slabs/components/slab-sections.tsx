@@ -1,22 +1,29 @@
 import type { ReactNode } from "react";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { Link } from "react-router";
 import { Fact } from "@/components/ui/card";
 import type { ResolvedConditions, SlabDetail } from "@shared/api/heats";
 import { VARIABLES, type ConditionSource } from "@shared/variables";
+import { useTerms } from "@/i18n/terms";
 import { SeverityMark, SourceLegend, SourceMark, TransitionMark } from "@/components/ui/marks";
-import { dateTime, DASH, num, plural, withUnit } from "@/lib/format";
-import { dispositionLabel, faceLabel, reviewLabel, stageLabel } from "@/lib/labels";
+import { count, dateTime, DASH, num, withUnit } from "@/lib/format";
 
-const weightSourceText = (s: string) =>
-  s === "computed" ? "computed from the dimensions and the plant's slab density" : s === "given" ? "given in the slab record" : s;
+const weightSourceText = (t: TFunction<"heats">, s: string) =>
+  s === "computed" ? t("slabFacts.weightComputed") : s === "given" ? t("slabFacts.weightGiven") : s;
+
+/** A disposition's words in the language shown; none is "—", an unknown code shows as it is. */
+const dispositionText = (term: ReturnType<typeof useTerms>["term"], d: string | null | undefined) => (d ? term("dispositions", d) : DASH);
 
 /** What the slab is and where it sits: heat, strand, piece, dimensions, weight, position along the cast. */
 export function SlabFacts({ slab }: { slab: SlabDetail }) {
+  const { t } = useTranslation("heats");
+  const { term } = useTerms();
   const start = slab.castLengthStartM;
   const end = start === null ? null : start + slab.lengthMm / 1000;
   return (
     <dl className="grid grid-cols-2 gap-x-6 gap-y-4 md:grid-cols-4">
-      <Fact label="Heat">
+      <Fact label={t("slabFacts.heat")}>
         <Link
           to={`/heats/${encodeURIComponent(slab.heatNo)}`}
           className="inline-flex min-h-12 items-center text-strand-700 underline decoration-strand-300 underline-offset-2"
@@ -28,26 +35,26 @@ export function SlabFacts({ slab }: { slab: SlabDetail }) {
           {slab.gradeCode} ({slab.familyCode})
         </div>
       </Fact>
-      <Fact label="Caster · strand · piece">
-        {slab.casterCode} · strand {slab.strandNo} · piece {slab.pieceNo}
+      <Fact label={t("slabFacts.casterStrandPiece")}>
+        {t("slabFacts.casterStrandPieceValue", { caster: slab.casterCode, strand: slab.strandNo, piece: slab.pieceNo })}
       </Fact>
-      <Fact label="Thickness × width × length" testId="slab-dimensions">
+      <Fact label={t("slabFacts.dimensions")} testId="slab-dimensions">
         {num(slab.thicknessMm)} × {num(slab.widthMm)} × {num(slab.lengthMm)} mm
       </Fact>
-      <Fact label="Weight" testId="slab-weight">
+      <Fact label={t("slabFacts.weight")} testId="slab-weight">
         {withUnit(slab.weightT, "t", 2)}
-        <div className="text-sm font-normal text-ink-700">{weightSourceText(slab.weightSource)}</div>
+        <div className="text-sm font-normal text-ink-700">{weightSourceText(t, slab.weightSource)}</div>
       </Fact>
-      <Fact label="Position along the cast length" testId="slab-position">
+      <Fact label={t("slabFacts.position")} testId="slab-position">
         {start === null ? DASH : `${num(start, 2)} – ${num(end, 2)} m`}
-        <div className="text-sm font-normal text-ink-700">head end to tail end, from the sequence start</div>
+        <div className="text-sm font-normal text-ink-700">{t("slabFacts.positionNote")}</div>
       </Fact>
-      <Fact label="Cast at">{dateTime(slab.castAt)}</Fact>
-      <Fact label="Transition slab">
+      <Fact label={t("slabFacts.castAt")}>{dateTime(slab.castAt)}</Fact>
+      <Fact label={t("slabFacts.transition")}>
         <TransitionMark transition={slab.transition} />
-        {slab.transition ? <div className="text-sm font-normal text-ink-700">cut across a ladle change</div> : null}
+        {slab.transition ? <div className="text-sm font-normal text-ink-700">{t("slabFacts.transitionNote")}</div> : null}
       </Fact>
-      <Fact label="Disposition">{dispositionLabel(slab.disposition)}</Fact>
+      <Fact label={t("slabFacts.disposition")}>{dispositionText(term, slab.disposition)}</Fact>
     </dl>
   );
 }
@@ -74,18 +81,20 @@ const CONDITION_ROWS: ConditionRow[] = [
  * process samples cast while it passed the mold, else the heat's value — each with its source.
  */
 export function SlabConditionsTable({ slab }: { slab: SlabDetail }) {
+  const { t } = useTranslation("heats");
+  const { variable } = useTerms();
   const c = slab.conditions;
-  if (!c) return <p className="text-sm text-ink-600">The conditions of this slab have not been resolved yet.</p>;
+  if (!c) return <p className="text-sm text-ink-600">{t("slabConditions.notResolved")}</p>;
   return (
     <div className="space-y-3">
       <div className="overflow-x-auto">
         <table className="w-full text-sm" data-testid="slab-conditions">
           <thead>
             <tr className="border-b-2 border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
-              <th className="py-2 pr-3">Condition</th>
-              <th className="py-2 pr-3 text-right">Value</th>
-              <th className="py-2 pr-3">Source</th>
-              <th className="py-2 text-right">Given for the slab</th>
+              <th className="py-2 pr-3">{t("slabConditions.condition")}</th>
+              <th className="py-2 pr-3 text-right">{t("slabConditions.value")}</th>
+              <th className="py-2 pr-3">{t("slabConditions.source")}</th>
+              <th className="py-2 text-right">{t("slabConditions.given")}</th>
             </tr>
           </thead>
           <tbody>
@@ -96,10 +105,14 @@ export function SlabConditionsTable({ slab }: { slab: SlabDetail }) {
               return (
                 <tr key={row.key} className="border-b border-ink-100" data-testid={`condition-${row.key}`}>
                   <th scope="row" className="py-2.5 pr-3 text-left font-normal">
-                    {s.label}
+                    {variable(row.key)}
                     {row.key === "casting_speed_m_min" && c.speedMinMPerMin !== null ? (
                       <div className="text-xs text-ink-600">
-                        sampled {num(c.speedMinMPerMin, 2)} – {num(c.speedMaxMPerMin, 2)} m/min, change {withUnit(c.speedChangeMPerMin, "m/min", 2)}
+                        {t("slabConditions.sampled", {
+                          min: num(c.speedMinMPerMin, 2),
+                          max: num(c.speedMaxMPerMin, 2),
+                          change: withUnit(c.speedChangeMPerMin, "m/min", 2),
+                        })}
                       </div>
                     ) : null}
                   </th>
@@ -118,39 +131,49 @@ export function SlabConditionsTable({ slab }: { slab: SlabDetail }) {
         </table>
       </div>
       <p className="text-xs text-ink-600" data-testid="slab-sample-count">
-        {c.sampleCount > 0
-          ? `${plural(c.sampleCount, "process sample")} were cast while this slab passed the mold; mean values shown.`
-          : "No process samples cover this slab: values not given for the slab are the heat's."}{" "}
-        A value given for the slab comes first, then the samples, then the heat.
+        {c.sampleCount > 0 ? t("slabConditions.sampleCount", { count: c.sampleCount, n: count(c.sampleCount) }) : t("slabConditions.noSamples")}{" "}
+        {t("slabConditions.order")}
       </p>
       <SourceLegend />
     </div>
   );
 }
 
-const DERIVED: { key: keyof ResolvedConditions; label: string; unit: string; digits: number }[] = [
-  { key: "throughputTPerMin", label: spec("throughput_t_min").label, unit: "t/min", digits: 2 },
-  { key: "moldDwellMin", label: "Mold dwell time", unit: "min", digits: 2 },
-  { key: "shellExitMm", label: spec("shell_exit_mm").label, unit: "mm", digits: 1 },
-  { key: "metallurgicalLengthM", label: spec("metallurgical_length_m").label, unit: "m", digits: 1 },
-  { key: "embrFieldT", label: spec("embr_field_t").label, unit: "T", digits: 3 },
-  { key: "senPortVelocityMPerS", label: spec("sen_port_velocity_m_s").label, unit: "m/s", digits: 2 },
-  { key: "stuartNumber", label: "Stuart number N", unit: "–", digits: 2 },
-  { key: "hartmannNumber", label: "Hartmann number Ha", unit: "–", digits: 0 },
+/** A row's label: a shared variable's (`variable`), or one of this catalogue's own (`text`). */
+type DerivedLabel = { variable: string } | { text: "derived.moldDwell" | "derived.stuart" | "derived.hartmann" };
+const DERIVED: { key: keyof ResolvedConditions; label: DerivedLabel; unit: string; digits: number }[] = [
+  { key: "throughputTPerMin", label: { variable: "throughput_t_min" }, unit: "t/min", digits: 2 },
+  { key: "moldDwellMin", label: { text: "derived.moldDwell" }, unit: "min", digits: 2 },
+  { key: "shellExitMm", label: { variable: "shell_exit_mm" }, unit: "mm", digits: 1 },
+  { key: "metallurgicalLengthM", label: { variable: "metallurgical_length_m" }, unit: "m", digits: 1 },
+  { key: "embrFieldT", label: { variable: "embr_field_t" }, unit: "T", digits: 3 },
+  { key: "senPortVelocityMPerS", label: { variable: "sen_port_velocity_m_s" }, unit: "m/s", digits: 2 },
+  { key: "stuartNumber", label: { text: "derived.stuart" }, unit: "–", digits: 2 },
+  { key: "hartmannNumber", label: { text: "derived.hartmann" }, unit: "–", digits: 0 },
 ];
 
 export function SlabDerived({ conditions }: { conditions: ResolvedConditions | null }) {
-  if (!conditions) return <p className="text-sm text-ink-600">Not computed yet.</p>;
+  const { t } = useTranslation("heats");
+  const { variable } = useTerms();
+  if (!conditions) return <p className="text-sm text-ink-600">{t("derived.notComputed")}</p>;
   return (
     <dl className="grid grid-cols-1 gap-x-6 sm:grid-cols-2">
       {DERIVED.map((d) => (
         <div key={d.key} className="flex items-baseline justify-between gap-3 border-b border-ink-100 py-2">
-          <dt className="text-sm text-ink-700">{d.label}</dt>
+          <dt className="text-sm text-ink-700">{"variable" in d.label ? variable(d.label.variable) : t(d.label.text)}</dt>
           <dd className="font-semibold tabular-nums">{withUnit(conditions[d.key] as number | null, d.unit, d.digits)}</dd>
         </div>
       ))}
     </dl>
   );
+}
+
+/** A defect's size and depth, each where measured. */
+function sizeText(t: TFunction<"heats">, d: SlabDetail["defects"][number]): string {
+  const depth = d.depthMm !== null ? withUnit(d.depthMm, "mm", 1) : null;
+  if (d.lengthMm === null && d.widthMm === null) return depth ? t("slabDefects.sizeNotMeasuredDeep", { depth }) : t("slabDefects.sizeNotMeasured");
+  const size = { length: num(d.lengthMm), width: num(d.widthMm) };
+  return depth ? t("slabDefects.sizeDeep", { ...size, depth }) : t("slabDefects.size", size);
 }
 
 /**
@@ -166,10 +189,12 @@ export function SlabDefects({
   photos?: (defectId: number) => ReactNode;
   more?: (defect: SlabDetail["defects"][number]) => ReactNode;
 }) {
+  const { t } = useTranslation("heats");
+  const { term } = useTerms();
   if (defects.length === 0)
     return (
       <p className="text-sm text-ink-600" data-testid="slab-defects-empty">
-        No defects on record for this slab.
+        {t("slabDefects.empty")}
       </p>
     );
   return (
@@ -180,7 +205,7 @@ export function SlabDefects({
             <div className="font-semibold">
               <span
                 className="mr-2 inline-flex h-6 w-6 items-center justify-center rounded-full border border-ink-400 text-xs font-bold tabular-nums"
-                aria-label={`number ${i + 1}`}
+                aria-label={t("slabDefects.number", { n: i + 1 })}
               >
                 {i + 1}
               </span>
@@ -192,28 +217,26 @@ export function SlabDefects({
             </div>
           </div>
           <div className="text-sm">
-            <div className="text-xs font-semibold uppercase text-ink-600">Where</div>
-            <div>{faceLabel(d.face)}</div>
+            <div className="text-xs font-semibold uppercase text-ink-600">{t("slabDefects.where")}</div>
+            <div>{term("faces", d.face)}</div>
             <div className="text-ink-700">
-              {withUnit(d.positionAlongMm, "mm", 0)} from the head end
-              {d.positionAcrossMm !== null ? `, ${withUnit(d.positionAcrossMm, "mm", 0)} across` : ""}
+              {d.positionAcrossMm !== null
+                ? t("slabDefects.positionAcross", { along: withUnit(d.positionAlongMm, "mm", 0), across: withUnit(d.positionAcrossMm, "mm", 0) })
+                : t("slabDefects.position", { along: withUnit(d.positionAlongMm, "mm", 0) })}
             </div>
-            <div className="text-ink-700">
-              {d.lengthMm === null && d.widthMm === null ? "size not measured" : `size ${num(d.lengthMm)} × ${num(d.widthMm)} mm`}
-              {d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
-            </div>
+            <div className="text-ink-700">{sizeText(t, d)}</div>
           </div>
           <div className="text-sm">
-            <div className="text-xs font-semibold uppercase text-ink-600">Found</div>
-            <div>{stageLabel(d.stage)}</div>
+            <div className="text-xs font-semibold uppercase text-ink-600">{t("slabDefects.found")}</div>
+            <div>{term("stages", d.stage)}</div>
             <div className="text-ink-700">{dateTime(d.foundAt)}</div>
             <div className="text-ink-700">{d.createdByName ?? DASH}</div>
           </div>
           <div className="text-sm">
-            <div className="text-xs font-semibold uppercase text-ink-600">Disposition · review</div>
-            <div>{dispositionLabel(d.disposition)}</div>
-            <div className="text-ink-700">{reviewLabel(d.reviewStatus)}</div>
-            {d.photoCount > 0 ? <div className="text-ink-700">{plural(d.photoCount, "photo")}</div> : null}
+            <div className="text-xs font-semibold uppercase text-ink-600">{t("slabDefects.dispositionReview")}</div>
+            <div>{dispositionText(term, d.disposition)}</div>
+            <div className="text-ink-700">{t(`slabDefects.review.${d.reviewStatus}`, { defaultValue: d.reviewStatus })}</div>
+            {d.photoCount > 0 ? <div className="text-ink-700">{t("slabDefects.photos", { count: d.photoCount, n: count(d.photoCount) })}</div> : null}
           </div>
           {d.note ? <p className="text-sm text-ink-700 md:col-span-4">“{d.note}”</p> : null}
           {d.photoCount > 0 && photos ? <div className="md:col-span-4">{photos(d.id)}</div> : null}

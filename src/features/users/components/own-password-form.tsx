@@ -1,5 +1,6 @@
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { useTranslation } from "react-i18next";
 import { z } from "zod";
 import { changeOwnPasswordSchema } from "@shared/api/users";
 import { Button } from "@/components/ui/button";
@@ -7,8 +8,9 @@ import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { ApiError } from "@/lib/api-client";
 import { useChangeOwnPassword } from "../api/users.queries";
+import { useFormMessage } from "./form-messages";
 
-// The server's rules (shared/api/users.ts), and the new password typed twice.
+// The server's rules (shared/api/users.ts), and the new password typed twice (messages shown through useFormMessage).
 const formSchema = changeOwnPasswordSchema.and(z.object({ again: z.string() })).refine((v) => v.newPassword === v.again, {
   path: ["again"],
   message: "The two passwords differ. Type the same one twice.",
@@ -17,6 +19,8 @@ type FormValues = z.infer<typeof formSchema>;
 
 /** The signed-in person's own password: the one they signed in with, then their new one twice. */
 export function OwnPasswordForm({ email, firstPassword, onChanged }: { email: string; firstPassword: boolean; onChanged: () => Promise<void> }) {
+  const { t } = useTranslation("admin");
+  const message = useFormMessage();
   const change = useChangeOwnPassword();
   const form = useForm<FormValues>({ resolver: zodResolver(formSchema), defaultValues: { currentPassword: "", newPassword: "", again: "" } });
   const submit = form.handleSubmit(async ({ currentPassword, newPassword }) => {
@@ -29,48 +33,48 @@ export function OwnPasswordForm({ email, firstPassword, onChanged }: { email: st
     try {
       await onChanged();
     } catch {
-      form.setError("root", { message: "Your new password is saved, but the next screen did not open. Reload the page to go on." });
+      form.setError("root", { message: t("passwords.own.notOpened") });
     }
   });
   const serverError =
     change.error instanceof ApiError && change.error.code !== "wrong_current_password"
       ? change.error.message
       : change.error && !(change.error instanceof ApiError)
-        ? "The password could not be changed. Try again."
+        ? t("passwords.own.notChanged")
         : null;
   return (
-    <form noValidate className="space-y-4" aria-label="Choose your password" onSubmit={submit}>
+    <form noValidate className="space-y-4" aria-label={t("passwords.own.formLabel")} onSubmit={submit}>
       {serverError ? <Notice tone="error">{serverError}</Notice> : null}
       {form.formState.errors.root?.message ? <Notice tone="error">{form.formState.errors.root.message}</Notice> : null}
       {/* Whose password this is, for the browser's password manager. */}
       <input type="text" name="username" autoComplete="username" value={email} readOnly hidden />
       <TextField
-        label={firstPassword ? "First password (the one you were given)" : "Current password"}
+        label={firstPassword ? t("passwords.own.firstPassword") : t("passwords.own.currentPassword")}
         type="password"
         autoComplete="current-password"
         large
         {...form.register("currentPassword")}
-        error={form.formState.errors.currentPassword?.message}
+        error={message(form.formState.errors.currentPassword?.message)}
       />
       <TextField
-        label="New password"
+        label={t("passwords.own.newPassword")}
         type="password"
         autoComplete="new-password"
         large
-        hint="At least 10 characters, known only to you. A few unrelated words make a password that is long and easy to remember."
+        hint={t("passwords.own.newPasswordHint")}
         {...form.register("newPassword")}
-        error={form.formState.errors.newPassword?.message}
+        error={message(form.formState.errors.newPassword?.message)}
       />
       <TextField
-        label="The new password again"
+        label={t("passwords.own.again")}
         type="password"
         autoComplete="new-password"
         large
         {...form.register("again")}
-        error={form.formState.errors.again?.message}
+        error={message(form.formState.errors.again?.message)}
       />
       <Button type="submit" size="lg" className="w-full" disabled={form.formState.isSubmitting}>
-        {form.formState.isSubmitting ? "Saving…" : "Save my new password"}
+        {form.formState.isSubmitting ? t("passwords.own.saving") : t("passwords.own.save")}
       </Button>
     </form>
   );

@@ -1,9 +1,11 @@
-import { ROLE_LABELS, ROLES, type Role } from "@shared/roles";
+import { useTranslation } from "react-i18next";
+import { ROLES, type Role } from "@shared/roles";
 
 export function RolePicker({ value, onChange, name }: { value: Role[]; onChange: (roles: Role[]) => void; name: string }) {
+  const { t } = useTranslation("admin");
   return (
     <fieldset className="flex flex-wrap gap-2">
-      <legend className="sr-only">Roles</legend>
+      <legend className="sr-only">{t("users.rolePicker.legend")}</legend>
       {ROLES.map((r) => {
         const checked = value.includes(r);
         return (
@@ -21,7 +23,7 @@ export function RolePicker({ value, onChange, name }: { value: Role[]; onChange:
               onChange={(e) => onChange(e.target.checked ? [...value, r] : value.filter((x) => x !== r))}
               className="h-5 w-5 accent-strand-700"
             />
-            {ROLE_LABELS[r]}
+            {t(`common:roles.${r}`)}
           </label>
         );
       })}

@@ -1,6 +1,7 @@
 import { Fragment, useMemo, useState } from "react";
+import { useTranslation } from "react-i18next";
 import { createColumnHelper, flexRender, getCoreRowModel, getSortedRowModel, useReactTable, type SortingState } from "@tanstack/react-table";
-import { ROLE_LABELS, type Role } from "@shared/roles";
+import type { Role } from "@shared/roles";
 import type { AdminUser } from "@shared/api/users";
 import { Button } from "@/components/ui/button";
 import { Notice } from "@/components/ui/notice";
@@ -11,20 +12,22 @@ import { RolePicker } from "./role-picker";
 const col = createColumnHelper<AdminUser>();
 
 function StatusMark({ active }: { active: boolean }) {
+  const { t } = useTranslation("admin");
   // Shape and word, not colour alone: a filled circle for active, a hollow square for deactivated.
   return active ? (
     <span className="inline-flex items-center gap-1.5 text-sm font-medium text-ok-700">
-      <span className="h-2.5 w-2.5 rounded-full bg-ok-700" aria-hidden /> Active
+      <span className="h-2.5 w-2.5 rounded-full bg-ok-700" aria-hidden /> {t("users.table.active")}
     </span>
   ) : (
     <span className="inline-flex items-center gap-1.5 text-sm font-medium text-ink-600">
-      <span className="h-2.5 w-2.5 border-2 border-ink-600" aria-hidden /> Deactivated
+      <span className="h-2.5 w-2.5 border-2 border-ink-600" aria-hidden /> {t("users.table.deactivated")}
     </span>
   );
 }
 
 /** A padlock and words: sign-in is refused from these addresses after repeated wrong passwords. */
 function LockMark({ user }: { user: AdminUser }) {
+  const { t } = useTranslation("admin");
   if (user.lockedFrom.length === 0) return null;
   const last = user.lockedFrom.reduce((a, b) => (a.until > b.until ? a : b));
   return (
@@ -33,15 +36,14 @@ function LockMark({ user }: { user: AdminUser }) {
         <rect x="3" y="7" width="10" height="7" rx="1" fill="currentColor" />
         <path d="M5 7V5a3 3 0 0 1 6 0v2" fill="none" stroke="currentColor" strokeWidth="1.8" />
       </svg>
-      <span>
-        Sign-in locked from {user.lockedFrom.map((l) => l.address).join(", ")} until {dateTime(last.until)} (wrong passwords)
-      </span>
+      <span>{t("users.table.locked", { addresses: user.lockedFrom.map((l) => l.address).join(", "), until: dateTime(last.until) })}</span>
     </span>
   );
 }
 
 /** Until the person has a password of their own: which way in is still open to them, in words. */
 function FirstSignInMark({ user }: { user: AdminUser }) {
+  const { t } = useTranslation("admin");
   if (!user.firstSignIn) return null;
   return (
     <span className="mt-1 inline-flex items-start gap-1.5 text-sm font-medium text-ink-700" data-testid={`first-sign-in-${user.email}`}>
@@ -54,12 +56,13 @@ function FirstSignInMark({ user }: { user: AdminUser }) {
           <path d="M6 8a3 3 0 1 1 0 .01M9 8h5M12 8v2.5M14 8v2" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinecap="round" />
         )}
       </svg>
-      <span>{user.firstSignIn === "invitation" ? "Invited: has not chosen a password yet" : "First password: to be changed at first sign-in"}</span>
+      <span>{user.firstSignIn === "invitation" ? t("users.table.invited") : t("users.table.firstPassword")}</span>
     </span>
   );
 }
 
 function RolesEditor({ user, onClose }: { user: AdminUser; onClose: () => void }) {
+  const { t } = useTranslation("admin");
   const [roles, setRoles] = useState<Role[]>(user.roles);
   const update = useUpdateUser();
   return (
@@ -74,10 +77,10 @@ function RolesEditor({ user, onClose }: { user: AdminUser; onClose: () => void }
             onClose();
           }}
         >
-          Save roles
+          {t("users.table.saveRoles")}
         </Button>
         <Button variant="ghost" onClick={onClose}>
-          Cancel
+          {t("users.table.cancel")}
         </Button>
       </div>
     </div>
@@ -85,6 +88,7 @@ function RolesEditor({ user, onClose }: { user: AdminUser; onClose: () => void }
 }
 
 export function UsersTable({ users, currentUserId }: { users: AdminUser[]; currentUserId: string }) {
+  const { t } = useTranslation("admin");
   const [sorting, setSorting] = useState<SortingState>([{ id: "name", desc: false }]);
   const [editing, setEditing] = useState<string | null>(null);
   const update = useUpdateUser();
@@ -92,23 +96,23 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
 
   const columns = useMemo(
     () => [
-      col.accessor("name", { header: "Name" }),
-      col.accessor("email", { header: "E-mail" }),
-      col.accessor((u) => u.roles.map((r) => ROLE_LABELS[r]).join(", "), {
+      col.accessor("name", { header: t("users.table.name") }),
+      col.accessor("email", { header: t("users.table.email") }),
+      col.accessor((u) => u.roles.map((r) => t(`common:roles.${r}`)).join(", "), {
         id: "roles",
-        header: "Roles",
+        header: t("users.table.roles"),
         cell: (c) => (
           <div className="flex flex-wrap gap-1">
             {c.row.original.roles.map((r) => (
               <span key={r} className="rounded bg-strand-50 px-2 py-0.5 text-xs font-semibold text-strand-800">
-                {ROLE_LABELS[r]}
+                {t(`common:roles.${r}`)}
               </span>
             ))}
           </div>
         ),
       }),
       col.accessor("active", {
-        header: "Status",
+        header: t("users.table.status"),
         cell: (c) => (
           <div className="flex flex-col">
             <StatusMark active={c.getValue()} />
@@ -120,27 +124,36 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
       col.display({
         id: "actions",
         // Named for screen readers (an empty header leaves the column unnamed); on screen the buttons say it.
-        header: () => <span className="sr-only">Actions</span>,
+        header: () => <span className="sr-only">{t("users.table.actions")}</span>,
         cell: (c) => {
           const u = c.row.original;
           return (
             <div className="flex justify-end gap-2">
               {u.lockedFrom.length > 0 ? (
-                <Button variant="secondary" disabled={unlock.isPending} onClick={() => unlock.mutate(u.id)} aria-label={`Unlock sign-in of ${u.name}`}>
-                  Unlock
+                <Button
+                  variant="secondary"
+                  disabled={unlock.isPending}
+                  onClick={() => unlock.mutate(u.id)}
+                  aria-label={t("users.table.unlockOf", { name: u.name })}
+                >
+                  {t("users.table.unlock")}
                 </Button>
               ) : null}
-              <Button variant="secondary" onClick={() => setEditing(editing === u.id ? null : u.id)} aria-label={`Change roles of ${u.name}`}>
-                Roles
+              <Button
+                variant="secondary"
+                onClick={() => setEditing(editing === u.id ? null : u.id)}
+                aria-label={t("users.table.changeRolesOf", { name: u.name })}
+              >
+                {t("users.table.rolesButton")}
               </Button>
               {u.id !== currentUserId ? (
                 <Button
                   variant={u.active ? "ghost" : "secondary"}
                   disabled={update.isPending}
                   onClick={() => update.mutate({ id: u.id, active: !u.active })}
-                  aria-label={`${u.active ? "Deactivate" : "Reactivate"} ${u.name}`}
+                  aria-label={u.active ? t("users.table.deactivateNamed", { name: u.name }) : t("users.table.reactivateNamed", { name: u.name })}
                 >
-                  {u.active ? "Deactivate" : "Reactivate"}
+                  {u.active ? t("users.table.deactivate") : t("users.table.reactivate")}
                 </Button>
               ) : null}
             </div>
@@ -148,7 +161,7 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
         },
       }),
     ],
-    [editing, currentUserId, update, unlock],
+    [editing, currentUserId, update, unlock, t],
   );
 
   const table = useReactTable({
@@ -164,7 +177,7 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
     <div className="space-y-2">
       {update.error ? <Notice tone="error">{update.error.message}</Notice> : null}
       {unlock.error ? <Notice tone="error">{unlock.error.message}</Notice> : null}
-      {unlock.data ? <Notice tone="ok">{unlock.data.name} can sign in again from every address.</Notice> : null}
+      {unlock.data ? <Notice tone="ok">{t("users.table.unlocked", { name: unlock.data.name })}</Notice> : null}
       <div className="overflow-x-auto">
         <table className="w-full text-sm">
           <thead>

@@ -1,7 +1,8 @@
+import { Trans, useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import type { YardSlab } from "@shared/api/yard";
-import { BAND_RANK, BAND_STYLE, BAND_WORDS } from "@/features/risk/components/risk-band";
-import { pct } from "@/lib/format";
+import { BAND_RANK, BAND_STYLE } from "@/features/risk/components/risk-band";
+import { count, pct } from "@/lib/format";
 
 /** The waiting slabs that carry a risk, riskiest first: band, then risk. */
 export function checkFirstOrder(waiting: readonly YardSlab[]): YardSlab[] {
@@ -14,14 +15,16 @@ export function checkFirstOrder(waiting: readonly YardSlab[]): YardSlab[] {
  * order is a suggestion; every slab is inspected.
  */
 export function CheckFirst({ ordered, shown = 8 }: { ordered: readonly YardSlab[]; shown?: number }) {
+  const { t, i18n } = useTranslation("yard");
+  // German writes nouns (a defect type's name) with their capital inside a sentence.
+  const inSentence = (name: string) => (i18n.language === "de" ? name : name.toLowerCase());
   if (ordered.length === 0) return null;
   return (
     <div className="space-y-3">
       <p className="text-sm text-ink-800" data-testid="check-first-caution">
-        <strong>Every slab is inspected as the plant's procedure requires.</strong> This order is only a suggestion, learnt from the plant's history: a risk is
-        an association, not a cause, and a slab lower down or not listed is not cleared.
+        <Trans t={t} i18nKey="checkFirst.caution" components={{ 1: <strong /> }} />
       </p>
-      <ol className="space-y-2" aria-label="Slabs to check first, riskiest first" data-testid="check-first">
+      <ol className="space-y-2" aria-label={t("checkFirst.listLabel")} data-testid="check-first">
         {ordered.slice(0, shown).map((s, i) => {
           const r = s.risk!;
           return (
@@ -34,18 +37,18 @@ export function CheckFirst({ ordered, shown = 8 }: { ordered: readonly YardSlab[
                   <span className="text-sm font-semibold text-ink-700">{i + 1}.</span>
                   <span className="text-lg font-semibold tabular-nums text-ink-900">{s.slabId}</span>
                   <span className="text-sm font-semibold text-ink-900">
-                    {BAND_WORDS[r.band]} of {r.target.toLowerCase()} ({pct(r.risk, 0)})
+                    {t(`checkFirst.band.${r.band}`, { target: inSentence(r.target), risk: pct(r.risk, 0) })}
                   </span>
                 </span>
-                {r.reasons.length ? <span className="block text-sm text-ink-800">Because: {r.reasons.join("; ")}.</span> : null}
-                {r.usualPlace ? <span className="block text-sm text-ink-700">Look first: {r.usualPlace}.</span> : null}
+                {r.reasons.length ? <span className="block text-sm text-ink-800">{t("checkFirst.because", { reasons: r.reasons.join("; ") })}</span> : null}
+                {r.usualPlace ? <span className="block text-sm text-ink-700">{t("checkFirst.lookFirst", { place: r.usualPlace })}</span> : null}
               </Link>
             </li>
           );
         })}
       </ol>
       {ordered.length > shown ? (
-        <p className="text-sm text-ink-700">{ordered.length - shown} more slabs with a risk wait; the list above is the riskiest.</p>
+        <p className="text-sm text-ink-700">{t("checkFirst.more", { count: ordered.length - shown, n: count(ordered.length - shown) })}</p>
       ) : null}
     </div>
   );

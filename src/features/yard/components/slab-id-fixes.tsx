@@ -1,10 +1,11 @@
 import { useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { Button } from "@/components/ui/button";
 import { SeverityMark } from "@/components/ui/marks";
 import { getOutbox } from "@/features/defects/offline/outbox-instance";
 import type { OutboxEntryRecord, OutboxEntryView } from "@/features/defects/offline/outbox";
-import { dateTime, plural } from "@/lib/format";
+import { count, dateTime } from "@/lib/format";
 
 /**
  * Refused because the server knows no slab by that id (an id typed or scanned offline, outside the
@@ -17,14 +18,15 @@ export function refusedForSlabId(e: Pick<OutboxEntryRecord, "blocked" | "defectI
 }
 
 function FixOne({ entry, onFixed, linkToEntry }: { entry: OutboxEntryView; onFixed?: (slabId: string) => void; linkToEntry: boolean }) {
+  const { t } = useTranslation("yard");
   const [id, setId] = useState("");
   const [error, setError] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
   const inputId = `fix-${entry.clientKey}`;
   const send = async () => {
     const typed = id.trim().toUpperCase();
-    if (!typed) return setError("Type the slab id from the slab's label.");
-    if (typed === entry.slabId) return setError(`The server has no slab ${typed}: check the label again.`);
+    if (!typed) return setError(t("slabIdFix.typeId"));
+    if (typed === entry.slabId) return setError(t("slabIdFix.sameId", { slabId: typed }));
     setBusy(true);
     setError(null);
     try {
@@ -47,18 +49,17 @@ function FixOne({ entry, onFixed, linkToEntry }: { entry: OutboxEntryView; onFix
         </p>
         <p className="flex flex-wrap items-center gap-x-4 text-sm text-ink-700">
           <SeverityMark severity={entry.summary.severity} />
-          <span>logged {dateTime(at)}</span>
-          {entry.photos.length ? <span>{plural(entry.photos.length, "photo")} kept with it</span> : null}
+          <span>{t("slabIdFix.logged", { when: dateTime(at) })}</span>
+          {entry.photos.length ? <span>{t("slabIdFix.photosKept", { count: entry.photos.length, n: count(entry.photos.length) })}</span> : null}
         </p>
         <p className="text-sm text-ink-800">
-          The server has no slab <b>{entry.slabId}</b>. Check the slab's label, type the right id and send it again — the entry and its photos stay on this
-          tablet until then.
+          <Trans t={t} i18nKey="slabIdFix.explain" values={{ slabId: entry.slabId }} components={{ 1: <b /> }} />
         </p>
       </div>
       <div className="flex flex-wrap items-end gap-3">
         <div className="flex min-w-0 flex-1 flex-col gap-1">
           <label htmlFor={inputId} className="text-sm font-semibold text-ink-800">
-            Right slab id for this entry
+            {t("slabIdFix.fieldLabel")}
           </label>
           <input
             id={inputId}
@@ -77,19 +78,19 @@ function FixOne({ entry, onFixed, linkToEntry }: { entry: OutboxEntryView; onFix
             autoComplete="off"
             autoCapitalize="characters"
             spellCheck={false}
-            placeholder="the id on the slab's label"
+            placeholder={t("slabIdFix.placeholder")}
             className="min-h-14 w-full rounded-lg border-2 border-ink-300 bg-white px-3 text-xl font-semibold tracking-wide"
           />
         </div>
         <Button size="lg" onClick={() => void send()} disabled={busy}>
-          {busy ? "Sending…" : "Send with this id"}
+          {busy ? t("slabIdFix.sending") : t("slabIdFix.send")}
         </Button>
         {linkToEntry ? (
           <Link
             to={`/yard/slabs/${encodeURIComponent(entry.slabId)}?entry=${encodeURIComponent(entry.clientKey)}`}
             className="flex min-h-14 items-center rounded-md border border-ink-300 bg-white px-5 text-base font-semibold text-ink-900 hover:bg-ink-50"
           >
-            See the entry
+            {t("slabIdFix.seeEntry")}
           </Link>
         ) : null}
       </div>
@@ -113,6 +114,7 @@ export function SlabIdFixes({
   /** Off on the entry's own slab screen. */
   linkToEntry?: boolean;
 }) {
+  const { t } = useTranslation("yard");
   const refused = entries.filter(refusedForSlabId);
   if (refused.length === 0) return null;
   return (
@@ -122,7 +124,7 @@ export function SlabIdFixes({
           <span aria-hidden className="flex h-6 w-6 items-center justify-center rounded-full border-2 border-current text-sm">
             ×
           </span>
-          Slab id not found — fix it
+          {t("slabIdFix.title")}
         </h2>
       </header>
       <ul className="divide-y divide-ink-100 px-4">

@@ -1,9 +1,11 @@
 import { useEffect, useState } from "react";
 import { useQuery, useQueryClient } from "@tanstack/react-query";
+import { Trans, useTranslation } from "react-i18next";
 import type { YardSlab } from "@shared/api/yard";
 import { Button } from "@/components/ui/button";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { ApiError } from "@/lib/api-client";
+import { count } from "@/lib/format";
 import { searchYard } from "../yard-set";
 import { useOnline } from "../use-online";
 
@@ -34,6 +36,7 @@ const MAX_ID = 40;
  * the server checks it when the network is back.
  */
 export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] | undefined; onPick: (slabId: string) => void }) {
+  const { t } = useTranslation("yard");
   const online = useOnline();
   const [text, setText] = useState("");
   const [notice, setNotice] = useState<string | null>(null);
@@ -69,7 +72,7 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
         const exact = result.slabs.find((s) => s.slabId === typed);
         if (exact) return pick(exact.slabId);
         if (result.slabs.length === 1) return pick(result.slabs[0]!.slabId);
-        setNotice(result.slabs.length === 0 ? `No slab with an id starting "${typed}".` : "Several slabs match: tap the one you mean.");
+        setNotice(result.slabs.length === 0 ? t("finder.noneStarting", { typed }) : t("finder.several"));
         return;
       } catch (err) {
         // The network went on the way: carry on with what the tablet holds.
@@ -80,9 +83,9 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
       }
     }
     if (mine.length === 1) return pick(mine[0]!.slabId);
-    if (mine.length > 1) return setNotice("Several slabs on this tablet match: tap the one you mean.");
+    if (mine.length > 1) return setNotice(t("finder.severalOnTablet"));
     setUnknownId(typed.length <= MAX_ID ? typed : null);
-    setNotice(typed.length <= MAX_ID ? null : `A slab id has at most ${MAX_ID} characters.`);
+    setNotice(typed.length <= MAX_ID ? null : t("finder.tooLong", { max: MAX_ID }));
   };
 
   const showUnknown = unknownId ?? (!online && q && local.length === 0 && q.length >= 4 && q.length <= MAX_ID ? q : null);
@@ -90,7 +93,7 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
   return (
     <div className="space-y-3">
       <label htmlFor="slab-finder" className="block text-sm font-semibold text-ink-800">
-        Slab id or heat number — type or scan
+        {t("finder.label")}
       </label>
       <input
         id="slab-finder"
@@ -102,7 +105,7 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
         spellCheck={false}
         inputMode="text"
         enterKeyHint="search"
-        placeholder="e.g. L261204-103"
+        placeholder={t("finder.placeholder")}
         maxLength={60}
         onChange={(e) => {
           setText(e.target.value);
@@ -124,7 +127,7 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
         </p>
       ) : null}
       {hits.length > 0 ? (
-        <ul className="divide-y divide-ink-100 overflow-hidden rounded-lg border border-ink-200 bg-white" aria-label="Matching slabs">
+        <ul className="divide-y divide-ink-100 overflow-hidden rounded-lg border border-ink-200 bg-white" aria-label={t("finder.matches")}>
           {hits.map((s) => (
             <li key={s.slabId}>
               <button
@@ -134,16 +137,20 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
               >
                 <span className="text-lg font-semibold tabular-nums">{s.slabId}</span>
                 <span className="text-sm text-ink-600">
-                  heat {s.heatNo} · strand {s.strandNo} · {s.gradeCode}
-                  {s.defects > 0 ? ` · ${s.defects} defect${s.defects > 1 ? "s" : ""}` : ""}
-                  {s.yard?.products.length ? " · rolled" : s.yard?.uninspected ? " · not inspected yet" : ""}
+                  {t(`finder.hit.${s.yard?.products.length ? "rolled" : s.yard?.uninspected ? "notInspected" : "plain"}${s.defects > 0 ? "WithDefects" : ""}`, {
+                    heat: s.heatNo,
+                    strand: s.strandNo,
+                    grade: s.gradeCode,
+                    count: s.defects,
+                    n: count(s.defects),
+                  })}
                 </span>
               </button>
             </li>
           ))}
         </ul>
       ) : q && online && server.isSuccess ? (
-        <p className="text-sm text-ink-600">No slab matches “{q}”.</p>
+        <p className="text-sm text-ink-600">{t("finder.noMatch", { q })}</p>
       ) : null}
       {showUnknown ? (
         <div
@@ -151,10 +158,10 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
           data-testid="not-on-tablet"
         >
           <p className="text-sm text-ink-900">
-            <b>{showUnknown}</b> is not on this tablet — it will be checked when the network is back. You can log its defects now.
+            <Trans t={t} i18nKey="finder.notOnTablet" values={{ slabId: showUnknown }} components={{ 1: <b /> }} />
           </p>
           <Button size="lg" onClick={() => pick(showUnknown)}>
-            Log defects on {showUnknown}
+            {t("finder.logById", { slabId: showUnknown })}
           </Button>
         </div>
       ) : null}

@@ -1,5 +1,6 @@
 import { openDB, type DBSchema, type IDBPDatabase } from "idb";
 import { yardSyncSchema, type YardSync } from "@shared/api/yard";
+import { i18n } from "@/i18n";
 import { ApiError } from "@/lib/api-client";
 
 /*
@@ -65,7 +66,7 @@ export async function syncYardSet(userId: string, signal?: AbortSignal): Promise
     });
   } catch (err) {
     if ((err as Error).name === "AbortError") throw err;
-    throw new ApiError(0, "network", "No connection to the server: the slabs on this tablet are used as they are.");
+    throw new ApiError(0, "network", i18n.t("yard:syncStatus.noConnection"));
   }
   if (res.status === 304 && stored) {
     const set = { ...stored, syncedAt: Date.now() };
@@ -81,7 +82,7 @@ export async function syncYardSet(userId: string, signal?: AbortSignal): Promise
   }
   if (!res.ok) {
     const e = (body as { error?: { code?: string; message?: string } } | undefined)?.error;
-    throw new ApiError(res.status, e?.code ?? "http_error", e?.message ?? `The server answered ${res.status}.`);
+    throw new ApiError(res.status, e?.code ?? "http_error", e?.message ?? i18n.t("yard:syncStatus.serverAnswered", { status: res.status }));
   }
   const set: StoredYardSet = { userId, etag: res.headers.get("etag"), syncedAt: Date.now(), data: yardSyncSchema.parse(body) };
   await writeYardSet(set);
