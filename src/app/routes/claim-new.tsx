@@ -1,4 +1,5 @@
 import type { QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Link, useNavigate, useSearchParams } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Notice } from "@/components/ui/notice";
@@ -15,21 +16,19 @@ export function makeLoader(qc: QueryClient) {
 
 /** /claims/new?products=K1,K2 — the trace screen may name the coils already. */
 export function Component() {
+  const { t } = useTranslation("claims");
   const navigate = useNavigate();
   const [sp] = useSearchParams();
   return (
     <div className="space-y-5">
       <div>
         <Link to="/claims" className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
-          All claims
+          {t("allClaims")}
         </Link>
       </div>
-      <PageHeader
-        title="Record a claim"
-        subtitle="The customer's complaint and the coils or plates it concerns; their slabs and heats are found through the rolling-mill trace."
-      />
-      <Notice tone="info" title="Procedure">
-        Dispositions and claims follow the plant's quality procedures and the customer's specification.
+      <PageHeader title={t("newPage.title")} subtitle={t("newPage.subtitle")} />
+      <Notice tone="info" title={t("procedure.title")}>
+        {t("procedure.text")}
       </Notice>
       <Card>
         <NewClaimForm initialProducts={sp.get("products") ?? ""} onCreated={(c) => navigate(`/claims/${c.id}`)} onCancel={() => navigate("/claims")} />

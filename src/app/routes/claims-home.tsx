@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Link, useSearchParams, type LoaderFunctionArgs } from "react-router";
-import { CLAIM_STATUS_LABELS } from "@shared/api/claims";
 import { CLAIM_STATUSES, type ClaimStatus } from "@shared/domain";
 import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
@@ -11,7 +11,8 @@ import { Notice } from "@/components/ui/notice";
 import { authKeys } from "@/features/auth/api/session";
 import { claimKeys, type ClaimListParams } from "@/features/claims/api/claims.queries";
 import { ClaimsTable } from "@/features/claims/components/claims-table";
-import { plural } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
+import { count } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -34,7 +35,15 @@ export function makeLoader(qc: QueryClient) {
 const primaryLink = "flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800";
 const secondaryLink = "flex min-h-11 items-center rounded-md border border-ink-300 bg-white px-4 text-sm font-semibold text-ink-900 hover:bg-ink-50";
 
+/** "3 claims under review matching “K26”": the list's count, with the status and the search when given. */
+function countKey(params: ClaimListParams) {
+  if (params.status) return params.q ? "home.countStatusQuery" : "home.countStatus";
+  return params.q ? "home.countQuery" : "home.count";
+}
+
 export function Component() {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
   const [sp, setSp] = useSearchParams();
   const params = paramsOf(sp);
   const list = useQuery(claimKeys.list(params));
@@ -50,34 +59,30 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader
-        title="Claims"
-        subtitle={
-          canManage
-            ? "Customer complaints, the slabs and heats behind them, and the history sent back."
-            : "Customer complaints and the slabs and heats behind them. You can read them; claims officers change them."
-        }
+        title={t("home.title")}
+        subtitle={canManage ? t("home.subtitle") : t("home.subtitleReadOnly")}
         actions={
           <div className="flex flex-wrap gap-2">
             <Link to="/trace" className={secondaryLink} data-testid="claims-trace">
-              Trace a coil, slab or heat
+              {t("home.traceLink")}
             </Link>
             {canManage ? (
               <Link to="/claims/new" className={primaryLink} data-testid="record-claim">
-                Record a claim
+                {t("home.recordLink")}
               </Link>
             ) : null}
           </div>
         }
       />
-      <Notice tone="info" title="Procedure">
-        Dispositions and claims follow the plant's quality procedures and the customer's specification.
+      <Notice tone="info" title={t("procedure.title")}>
+        {t("procedure.text")}
       </Notice>
       <Card>
         <div className="flex flex-wrap items-end gap-4">
           <fieldset>
-            <legend className="mb-1 text-sm font-semibold text-ink-800">Status</legend>
-            <div className="flex flex-wrap gap-2" role="radiogroup" aria-label="Status">
-              {[{ value: "", label: "All" }, ...CLAIM_STATUSES.map((s) => ({ value: s, label: CLAIM_STATUS_LABELS[s] }))].map((c) => {
+            <legend className="mb-1 text-sm font-semibold text-ink-800">{t("home.status")}</legend>
+            <div className="flex flex-wrap gap-2" role="radiogroup" aria-label={t("home.status")}>
+              {[{ value: "", label: t("home.allStatuses") }, ...CLAIM_STATUSES.map((s) => ({ value: s, label: term("claimStatus", s) }))].map((c) => {
                 const on = (params.status ?? "") === c.value;
                 return (
                   <button
@@ -96,7 +101,7 @@ export function Component() {
           </fieldset>
           <form
             role="search"
-            aria-label="Search claims"
+            aria-label={t("home.searchLabel")}
             className="flex min-w-64 flex-1 items-end gap-2"
             onSubmit={(e) => {
               e.preventDefault();
@@ -104,33 +109,36 @@ export function Component() {
             }}
           >
             <label className="flex flex-1 flex-col gap-1">
-              <span className="text-sm font-semibold text-ink-800">Search</span>
+              <span className="text-sm font-semibold text-ink-800">{t("home.search")}</span>
               <input
                 type="search"
                 value={text}
                 onChange={(e) => setText(e.target.value)}
                 maxLength={80}
-                placeholder="Claim number, customer, coil or complaint"
+                placeholder={t("home.searchPlaceholder")}
                 className="min-h-11 w-full rounded-md border border-ink-300 bg-white px-3 text-ink-900 placeholder:text-ink-400"
                 data-testid="claims-search"
               />
             </label>
             <Button type="submit" variant="secondary">
-              Search
+              {t("home.searchButton")}
             </Button>
           </form>
         </div>
         {list.data ? (
           <p className="mt-3 text-sm text-ink-700" data-testid="claims-count">
-            {plural(list.data.items.length, "claim")}
-            {params.status ? ` ${CLAIM_STATUS_LABELS[params.status].toLowerCase()}` : ""}
-            {params.q ? ` matching “${params.q}”` : ""}
+            {t(countKey(params), {
+              count: list.data.items.length,
+              n: count(list.data.items.length),
+              status: params.status ? t(`home.statusInCount.${params.status}`) : "",
+              q: params.q ?? "",
+            })}
           </p>
         ) : null}
       </Card>
       <Card bodyClassName="px-2 py-3 md:p-4">
         {list.isPending ? (
-          <Spinner label="Loading the claims" />
+          <Spinner label={t("home.loading")} />
         ) : list.isError ? (
           <Notice tone="error">{list.error.message}</Notice>
         ) : (

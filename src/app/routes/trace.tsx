@@ -1,5 +1,6 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { useSearchParams, type LoaderFunctionArgs } from "react-router";
 import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
@@ -11,7 +12,7 @@ import { historyKeys } from "@/features/claims/api/claims.queries";
 import { HistoryWorkbookButton, PrintableHistoryLink } from "@/features/claims/components/history-actions";
 import { ChemistryTable, ConditionsTable, DefectsList, HistoryFacts, RelatedRecords, SlabsTable } from "@/features/claims/components/history-sections";
 import { TraceChain } from "@/features/claims/components/trace-chain";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { causeChips } from "../cause-chips";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
@@ -27,23 +28,24 @@ export function makeLoader(qc: QueryClient) {
 }
 
 function TraceForm({ initial, onTrace }: { initial: string; onTrace: (q: string) => void }) {
+  const { t } = useTranslation("claims");
   const [text, setText] = useState(initial);
   const [problem, setProblem] = useState<string | null>(null);
   return (
     <form
       role="search"
-      aria-label="Trace an id"
+      aria-label={t("tracePage.formLabel")}
       className="flex flex-wrap items-end gap-3"
       onSubmit={(e) => {
         e.preventDefault();
         const q = text.trim();
-        if (!q) return setProblem("Enter a coil, plate, slab or heat id.");
+        if (!q) return setProblem(t("tracePage.enterId"));
         setProblem(null);
         onTrace(q);
       }}
     >
       <label className="flex min-w-64 flex-1 flex-col gap-1">
-        <span className="text-sm font-semibold text-ink-800">Coil, plate, slab or heat id</span>
+        <span className="text-sm font-semibold text-ink-800">{t("tracePage.idLabel")}</span>
         <input
           value={text}
           onChange={(e) => setText(e.target.value)}
@@ -52,13 +54,13 @@ function TraceForm({ initial, onTrace }: { initial: string; onTrace: (q: string)
           autoCapitalize="characters"
           spellCheck={false}
           enterKeyHint="search"
-          placeholder="e.g. K26000004, L260001-104 or L260001"
+          placeholder={t("tracePage.idPlaceholder")}
           className="min-h-12 w-full rounded-md border border-ink-300 bg-white px-3 text-lg text-ink-900 placeholder:text-base placeholder:text-ink-400"
           data-testid="trace-input"
         />
       </label>
       <Button type="submit" className="min-h-12">
-        Trace
+        {t("tracePage.submit")}
       </Button>
       {problem ? (
         <div className="w-full">
@@ -70,66 +72,66 @@ function TraceForm({ initial, onTrace }: { initial: string; onTrace: (q: string)
 }
 
 export function Component() {
+  const { t } = useTranslation("claims");
   const [sp, setSp] = useSearchParams();
   const q = sp.get("q")?.trim() ?? "";
   const me = useQuery(authKeys.me());
   const trace = useQuery({ ...historyKeys.trace(q), enabled: q.length > 0 });
   const canExport = me.data ? can(me.data.roles, "history.export") : false;
-  const t = trace.data;
+  const traced = trace.data;
   return (
     <div className="space-y-5">
-      <PageHeader title="Trace" subtitle="From a coil, plate, slab or heat id to its slab, its heat and everything on record about that heat." />
+      <PageHeader title={t("tracePage.title")} subtitle={t("tracePage.subtitle")} />
       <Card>
         <TraceForm key={q} initial={q} onTrace={(next) => setSp({ q: next })} />
       </Card>
       {!q ? (
-        <Notice tone="info" title="How the trace works">
-          Coils and plates reach their slab through the rolling mill's list (imported on the Import screen as “coils and plates”); a slab id or heat number
-          works directly.
+        <Notice tone="info" title={t("tracePage.howTitle")}>
+          {t("tracePage.how")}
         </Notice>
       ) : trace.isPending ? (
-        <Spinner label={`Tracing ${q}`} />
+        <Spinner label={t("tracePage.tracing", { q })} />
       ) : trace.isError ? (
         <div data-testid="trace-error">
-          <Notice tone="error" title="Not traced">
+          <Notice tone="error" title={t("tracePage.notTraced")}>
             {trace.error.message}
           </Notice>
         </div>
-      ) : t ? (
+      ) : traced ? (
         <>
           <Card
-            title={`${t.query.toUpperCase()} is a ${t.found}`}
+            title={t(`tracePage.found.${traced.found}`, { q: traced.query.toUpperCase() })}
             actions={
               <div className="flex flex-wrap gap-2">
-                {canExport ? <HistoryWorkbookButton heatNo={t.history.heat.heatNo} /> : null}
-                {canExport ? <PrintableHistoryLink heatNo={t.history.heat.heatNo} /> : null}
+                {canExport ? <HistoryWorkbookButton heatNo={traced.history.heat.heatNo} /> : null}
+                {canExport ? <PrintableHistoryLink heatNo={traced.history.heat.heatNo} /> : null}
               </div>
             }
           >
-            <TraceChain trace={t} />
+            <TraceChain trace={traced} />
           </Card>
-          <Notice tone="caution" title="Procedure">
-            This page states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.
+          <Notice tone="caution" title={t("procedure.title")}>
+            {t("procedure.traceText")}
           </Notice>
-          <Card title={`Heat ${t.history.heat.heatNo}`}>
-            <HistoryFacts history={t.history} />
+          <Card title={t("tracePage.heat", { heatNo: traced.history.heat.heatNo })}>
+            <HistoryFacts history={traced.history} />
           </Card>
           <div className="grid gap-5 xl:grid-cols-2">
-            <Card title="Casting conditions (heat values, with their source)">
-              <ConditionsTable history={t.history} />
+            <Card title={t("tracePage.conditions")}>
+              <ConditionsTable history={traced.history} />
             </Card>
-            <Card title="Chemistry (heat analysis)">
-              <ChemistryTable history={t.history} />
+            <Card title={t("tracePage.chemistry")}>
+              <ChemistryTable history={traced.history} />
             </Card>
           </div>
-          <Card title={`Every slab of the heat (${t.history.slabs.length})`} bodyClassName="px-2 py-3 md:p-4">
-            <SlabsTable history={t.history} traced={t.slabId} />
+          <Card title={t("tracePage.slabs", { n: count(traced.history.slabs.length) })} bodyClassName="px-2 py-3 md:p-4">
+            <SlabsTable history={traced.history} traced={traced.slabId} />
           </Card>
-          <Card title={`Defects (${plural(t.history.defects.length, "live defect")})`}>
-            <DefectsList history={t.history} traced={t.slabId} renderCauses={causeChips} />
+          <Card title={t("tracePage.defects", { count: traced.history.defects.length, n: count(traced.history.defects.length) })}>
+            <DefectsList history={traced.history} traced={traced.slabId} renderCauses={causeChips} />
           </Card>
-          <Card title="Investigations and claims on this heat or its sequence">
-            <RelatedRecords history={t.history} />
+          <Card title={t("tracePage.related")}>
+            <RelatedRecords history={traced.history} />
           </Card>
         </>
       ) : null}

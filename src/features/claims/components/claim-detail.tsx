@@ -1,24 +1,27 @@
-import { useState } from "react";
+import { useMemo, useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { Link } from "react-router";
 import { z } from "zod";
-import { CLAIM_STATUS_LABELS, type Claim } from "@shared/api/claims";
-import { CLAIM_STATUSES, type ClaimStatus } from "@shared/domain";
+import type { Claim } from "@shared/api/claims";
+import { CLAIM_STATUSES, DISPOSITIONS } from "@shared/domain";
 import { AttachmentsCard } from "@/components/attachments-card";
 import { MutationError, TextAreaField, useAddRow } from "@/components/mutation-form";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
-import { date, dateTime, day, DASH, plural, withUnit } from "@/lib/format";
-import { dispositionLabel } from "@/lib/labels";
+import { useTerms, type Terms } from "@/i18n/terms";
+import { count, date, dateTime, day, DASH, withUnit } from "@/lib/format";
 import { useClaimChange, useSendHistory, useUploadClaimAttachments } from "../api/claims.queries";
-import { ClaimStatusMark } from "./claim-marks";
+import { ClaimStatusMark, listWords } from "./claim-marks";
 import { CUSTOMER_DEFAULT, EditionChooser, type EditionValue } from "./edition-chooser";
 import { HistoryWorkbookButton, PrintableHistoryLink, TraceLink } from "./history-actions";
 import { idList } from "./new-claim-form";
 
 const link = "font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2";
-const th = "px-2 py-2 text-left text-xs font-semibold uppercase tracking-wide text-ink-600";
+// German headers are long single words ("Verwendungsentscheid"): they may break with a hyphen.
+const th = "px-2 py-2 text-left text-xs font-semibold uppercase tracking-wide text-ink-600 hyphens-auto";
 const areaClass = "w-full rounded-md border border-ink-300 bg-white px-3 py-2 text-sm text-ink-900";
 
 /** One term and its value: the <div> sits directly in the <dl> (a wide one spans the row through className). */
@@ -35,24 +38,32 @@ function Item({ label, children, testId, className }: { label: string; children:
 
 /** The coil / plate ids the rolling-mill trace does not know: kept on the claim, flagged until they are traced. */
 export function UntracedFlag({ claim }: { claim: Claim }) {
+  const { t } = useTranslation("claims");
   if (!claim.untracedProducts.length) return null;
+  // The ids as one element inside the sentence: the translation places it, the ids stay as they are.
+  const ids = (
+    <span>
+      {claim.untracedProducts.map((p, i) => (
+        <span key={p}>
+          {i ? ", " : ""}
+          <strong data-testid="untraced-id">{p}</strong>
+        </span>
+      ))}
+    </span>
+  );
   return (
     <div data-testid="untraced">
-      <Notice tone="caution" title={`Not traced (${claim.untracedProducts.length})`}>
-        The rolling-mill trace does not know{" "}
-        {claim.untracedProducts.map((p, i) => (
-          <span key={p}>
-            {i ? ", " : ""}
-            <strong data-testid="untraced-id">{p}</strong>
-          </span>
-        ))}
-        . Check the id with the customer, or import the rolling mill's coil and plate list; their slabs are not linked.
+      <Notice tone="caution" title={t("untraced.title", { n: count(claim.untracedProducts.length) })}>
+        <Trans t={t} i18nKey="untraced.text" components={{ 1: ids }} />
       </Notice>
     </div>
   );
 }
 
 export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage: boolean }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
+  const notTraced = t("summary.notTraced");
   const change = useClaimChange(claim.id);
   const [notes, setNotes] = useState(claim.notes ?? "");
   const notesChanged = notes.trim() !== (claim.notes ?? "").trim();
@@ -60,15 +71,15 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
     <Card>
       <div className="grid gap-5 xl:grid-cols-[3fr_2fr]">
         <dl className="grid grid-cols-2 gap-x-6 gap-y-3 md:grid-cols-3">
-          <Item label="Customer" testId="claim-customer">
+          <Item label={t("summary.customer")} testId="claim-customer">
             {claim.customer}
           </Item>
-          <Item label="Received">{day(claim.receivedOn)}</Item>
-          <Item label="Quantity">{withUnit(claim.quantityT, "t", 1)}</Item>
-          <Item label="Defect complained of" testId="claim-complaint" className="col-span-2 md:col-span-3">
+          <Item label={t("summary.received")}>{day(claim.receivedOn)}</Item>
+          <Item label={t("summary.quantity")}>{withUnit(claim.quantityT, "t", 1)}</Item>
+          <Item label={t("summary.defectComplained")} testId="claim-complaint" className="col-span-2 md:col-span-3">
             {claim.defectComplained}
           </Item>
-          <Item label="Coils and plates" testId="claim-products" className="col-span-2 md:col-span-3">
+          <Item label={t("summary.products")} testId="claim-products" className="col-span-2 md:col-span-3">
             {claim.productIds.length ? (
               <span className="flex flex-wrap gap-1.5">
                 {claim.productIds.map((p) => {
@@ -81,33 +92,33 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
                       data-untraced={untraced ? "true" : "false"}
                     >
                       {p}
-                      {untraced ? <span className="font-sans text-xs font-bold text-ember-700">not traced</span> : null}
+                      {untraced ? <span className="font-sans text-xs font-bold text-ember-700">{notTraced}</span> : null}
                     </span>
                   );
                 })}
               </span>
             ) : (
-              "none named"
+              t("summary.noProducts")
             )}
           </Item>
-          <Item label="Recorded">
+          <Item label={t("summary.recorded")}>
             {dateTime(claim.createdAt)}
-            {claim.createdBy ? <div className="text-xs text-ink-600">by {claim.createdBy.name}</div> : null}
+            {claim.createdBy ? <div className="text-xs text-ink-600">{t("summary.recordedBy", { name: claim.createdBy.name })}</div> : null}
           </Item>
-          <Item label="Slabs · heats">
+          <Item label={t("summary.slabsHeats")}>
             {claim.slabs} · {claim.heats.length}
           </Item>
         </dl>
         <div className="space-y-4">
           <div>
-            <div className="text-xs font-semibold uppercase tracking-wide text-ink-600">Status</div>
+            <div className="text-xs font-semibold uppercase tracking-wide text-ink-600">{t("summary.status")}</div>
             <div className="mt-1">
-              <ClaimStatusMark status={claim.status} />
+              <ClaimStatusMark status={claim.status} label={term("claimStatus", claim.status)} />
             </div>
             {canManage ? (
               <fieldset className="mt-2">
-                <legend className="sr-only">Change the status</legend>
-                <div className="flex flex-wrap gap-2" role="radiogroup" aria-label="Change the status">
+                <legend className="sr-only">{t("summary.changeStatus")}</legend>
+                <div className="flex flex-wrap gap-2" role="radiogroup" aria-label={t("summary.changeStatus")}>
                   {CLAIM_STATUSES.map((s) => {
                     const on = claim.status === s;
                     return (
@@ -121,7 +132,7 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
                         className={`min-h-11 rounded-md border-2 px-3 text-sm font-semibold ${on ? "border-strand-700 bg-strand-50 text-ink-900" : "border-ink-200 bg-white text-ink-700 hover:border-ink-400"}`}
                         data-testid={`status-${s}`}
                       >
-                        {CLAIM_STATUS_LABELS[s]}
+                        {term("claimStatus", s)}
                       </button>
                     );
                   })}
@@ -132,7 +143,7 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
           <div>
             {canManage ? (
               <form
-                aria-label="Notes"
+                aria-label={t("summary.notes")}
                 className="space-y-2"
                 onSubmit={(e) => {
                   e.preventDefault();
@@ -140,15 +151,15 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
                 }}
               >
                 <label htmlFor="claim-notes-edit" className="text-xs font-semibold uppercase tracking-wide text-ink-600">
-                  Notes
+                  {t("summary.notes")}
                 </label>
                 <textarea id="claim-notes-edit" rows={4} maxLength={5000} value={notes} onChange={(e) => setNotes(e.target.value)} className={areaClass} />
                 <Button type="submit" variant="secondary" disabled={!notesChanged || change.isPending}>
-                  {change.isPending ? "Saving…" : "Save the notes"}
+                  {change.isPending ? t("summary.saving") : t("summary.saveNotes")}
                 </Button>
               </form>
             ) : (
-              <Item label="Notes" testId="claim-notes">
+              <Item label={t("summary.notes")} testId="claim-notes">
                 <span className="whitespace-pre-line">{claim.notes || DASH}</span>
               </Item>
             )}
@@ -161,6 +172,8 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
 }
 
 export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage: boolean }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
   const change = useClaimChange(claim.id);
   const add = useAddRow(change, { slabs: "", products: "" }, (v) => ({
     method: "POST" as const,
@@ -168,8 +181,12 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
     body: { slabIds: idList(v.slabs), productIds: idList(v.products) },
   }));
   const { slabs, products } = add.values;
+  // The words every row repeats, once per table.
+  const via = { trace: t("linkedSlabs.viaTrace"), id: t("linkedSlabs.viaId") };
+  const disposition = useMemo(() => listWords(term, "dispositions", DISPOSITIONS), [term]);
+  const unlink = t("linkedSlabs.unlink");
   return (
-    <Card title={`Linked slabs (${claim.linkedSlabs.length})`} bodyClassName="px-2 py-3 md:p-4">
+    <Card title={t("linkedSlabs.title", { n: count(claim.linkedSlabs.length) })} bodyClassName="px-2 py-3 md:p-4">
       <div className="space-y-4">
         <UntracedFlag claim={claim} />
         {claim.linkedSlabs.length ? (
@@ -177,17 +194,17 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
             <table className="w-full text-sm" data-testid="linked-slabs">
               <thead>
                 <tr className="border-b-2 border-ink-200">
-                  <th className={th}>Slab</th>
-                  <th className={th}>Heat</th>
-                  <th className={th}>Sequence</th>
-                  <th className={th}>Grade</th>
-                  <th className={th}>Disposition</th>
-                  <th className={`${th} text-right`}>Defects</th>
-                  <th className={th}>Linked</th>
-                  <th className={th}>Coils / plates</th>
+                  <th className={th}>{t("linkedSlabs.slab")}</th>
+                  <th className={th}>{t("linkedSlabs.heat")}</th>
+                  <th className={th}>{t("linkedSlabs.sequence")}</th>
+                  <th className={th}>{t("linkedSlabs.grade")}</th>
+                  <th className={th}>{t("linkedSlabs.disposition")}</th>
+                  <th className={`${th} text-right`}>{t("linkedSlabs.defects")}</th>
+                  <th className={th}>{t("linkedSlabs.linked")}</th>
+                  <th className={th}>{t("linkedSlabs.products")}</th>
                   {canManage ? (
                     <th className={th}>
-                      <span className="sr-only">Unlink</span>
+                      <span className="sr-only">{unlink}</span>
                     </th>
                   ) : null}
                 </tr>
@@ -216,13 +233,13 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
                       {s.grade}
                     </td>
                     <td className="px-2 py-2.5" data-field="disposition">
-                      {dispositionLabel(s.disposition)}
+                      {disposition(s.disposition)}
                     </td>
                     <td className="px-2 py-2.5 text-right tabular-nums" data-field="defects">
                       {s.defects}
                     </td>
                     <td className="px-2 py-2.5" data-field="linkedVia">
-                      {s.linkedVia === "trace" ? "through the trace" : "by slab id"}
+                      {s.linkedVia === "trace" ? via.trace : via.id}
                       <div className="text-xs text-ink-600">{date(s.linkedAt)}</div>
                     </td>
                     <td className="px-2 py-2.5 font-mono" data-field="products">
@@ -234,9 +251,9 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
                           variant="ghost"
                           disabled={change.isPending}
                           onClick={() => change.mutate({ method: "DELETE", path: `/slabs/${encodeURIComponent(s.slabId)}` })}
-                          aria-label={`Unlink slab ${s.slabId}`}
+                          aria-label={t("linkedSlabs.unlinkSlab", { slabId: s.slabId })}
                         >
-                          Unlink
+                          {unlink}
                         </Button>
                       </td>
                     ) : null}
@@ -246,19 +263,14 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
             </table>
           </div>
         ) : (
-          <p className="px-2 text-sm text-ink-600">No slab linked yet{canManage ? ": link them by slab id, or by coil / plate id through the trace." : "."}</p>
+          <p className="px-2 text-sm text-ink-600">{canManage ? t("linkedSlabs.noneManage") : t("linkedSlabs.none")}</p>
         )}
         {canManage ? (
-          <form aria-label="Link more slabs" className="grid gap-3 px-2 md:grid-cols-[1fr_1fr_auto] md:items-end md:px-0" onSubmit={add.onSubmit}>
-            <TextField label="Link slabs by id" {...add.bind("slabs")} placeholder="L260001-104, …" hint="Slab ids, separated by commas or spaces" />
-            <TextField
-              label="or by coil / plate id"
-              {...add.bind("products")}
-              placeholder="K26000004, …"
-              hint="Traced to their slabs through the rolling mill's list"
-            />
+          <form aria-label={t("linkedSlabs.formLabel")} className="grid gap-3 px-2 md:grid-cols-[1fr_1fr_auto] md:items-end md:px-0" onSubmit={add.onSubmit}>
+            <TextField label={t("linkedSlabs.bySlabId")} {...add.bind("slabs")} placeholder="L260001-104, …" hint={t("linkedSlabs.bySlabIdHint")} />
+            <TextField label={t("linkedSlabs.byProductId")} {...add.bind("products")} placeholder="K26000004, …" hint={t("linkedSlabs.byProductIdHint")} />
             <Button type="submit" variant="secondary" disabled={change.isPending || !(slabs.trim() || products.trim())}>
-              {change.isPending ? "Linking…" : "Link"}
+              {change.isPending ? t("linkedSlabs.linking") : t("linkedSlabs.link")}
             </Button>
             <div className="md:col-span-3">
               <MutationError mutation={change} />
@@ -273,6 +285,7 @@ export function LinkedSlabsCard({ claim, canManage }: { claim: Claim; canManage:
 const recipientsSchema = z.array(z.email()).min(1).max(10);
 
 function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo: string; onClose: () => void }) {
+  const { t } = useTranslation("claims");
   const send = useSendHistory(claimId);
   const [edition, setEdition] = useState<EditionValue>(CUSTOMER_DEFAULT);
   const [to, setTo] = useState("");
@@ -281,19 +294,18 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
   if (send.isSuccess) {
     return (
       <div className="space-y-2" data-testid="history-sent">
-        <Notice tone="ok" title="Queued">
-          The {send.variables.edition === "customer" ? "customer" : "internal"} edition of heat {heatNo}'s history is queued for {send.variables.to.join(", ")};
-          see the claim's history below.
+        <Notice tone="ok" title={t("send.queuedTitle")}>
+          {t(send.variables.edition === "customer" ? "send.queuedCustomer" : "send.queuedInternal", { heatNo, to: send.variables.to.join(", ") })}
         </Notice>
         <Button variant="ghost" onClick={onClose}>
-          Done
+          {t("send.done")}
         </Button>
       </div>
     );
   }
   return (
     <form
-      aria-label={`E-mail the history of heat ${heatNo}`}
+      aria-label={t("send.formLabel", { heatNo })}
       className="space-y-3 rounded-md border border-ink-200 bg-ink-50 p-3"
       onSubmit={(e) => {
         e.preventDefault();
@@ -306,11 +318,11 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
               .filter(Boolean),
           ),
         ];
-        if (!list.length) return setProblem("Give at least one recipient's e-mail address.");
+        if (!list.length) return setProblem(t("send.noRecipient"));
         const bad = list.filter((a) => !z.email().safeParse(a).success);
-        if (bad.length) return setProblem(`Not an e-mail address: ${bad.join(", ")}.`);
-        if (!recipientsSchema.safeParse(list).success) return setProblem("At most 10 recipients at a time.");
-        if (edition.edition === "customer" && !edition.sections.length) return setProblem("Choose at least one part for the customer.");
+        if (bad.length) return setProblem(t("send.notEmail", { count: bad.length, addresses: bad.join(", ") }));
+        if (!recipientsSchema.safeParse(list).success) return setProblem(t("send.tooManyRecipients"));
+        if (edition.edition === "customer" && !edition.sections.length) return setProblem(t("send.noPart"));
         send.mutate({
           heatNo,
           to: list,
@@ -321,38 +333,38 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
       }}
     >
       <TextField
-        label="Recipients"
+        label={t("send.recipients")}
         type="text"
         inputMode="email"
         autoComplete="off"
         value={to}
         onChange={(e) => setTo(e.target.value)}
-        hint="E-mail addresses, separated by commas or spaces (up to 10)"
+        hint={t("send.recipientsHint")}
       />
       <TextAreaField
         id={`send-message-${heatNo}`}
-        label="Message (optional)"
+        label={t("send.message")}
         rows={3}
         maxLength={2000}
         value={message}
         onChange={(e) => setMessage(e.target.value)}
         className={areaClass}
-        placeholder="Shown above the standard text; the workbook is attached"
+        placeholder={t("send.messagePlaceholder")}
       />
       <EditionChooser value={edition} onChange={setEdition} name={`send-${heatNo}`} />
       {edition.edition === "internal" ? (
-        <Notice tone="caution" title="Internal edition">
-          It names the plant's people and holds notes, review states, causes and the plant's other claims: send it only inside the company.
+        <Notice tone="caution" title={t("send.internalTitle")}>
+          {t("send.internalText")}
         </Notice>
       ) : null}
       {problem ? <Notice tone="error">{problem}</Notice> : null}
       <MutationError mutation={send} />
       <div className="flex flex-wrap gap-2">
         <Button type="submit" disabled={send.isPending}>
-          {send.isPending ? "Queuing…" : "Send the workbook"}
+          {send.isPending ? t("send.sending") : t("send.submit")}
         </Button>
         <Button variant="ghost" onClick={onClose}>
-          Cancel
+          {t("send.cancel")}
         </Button>
       </div>
     </form>
@@ -361,10 +373,11 @@ function SendHistoryForm({ claimId, heatNo, onClose }: { claimId: number; heatNo
 
 /** Each heat behind the claim: its trace, its history as a workbook or on paper, and sending it. */
 export function ClaimHeatsCard({ claim, canExport, canSend }: { claim: Claim; canExport: boolean; canSend: boolean }) {
+  const { t } = useTranslation("claims");
   const [sending, setSending] = useState<string | null>(null);
   const heats = [...new Set(claim.linkedSlabs.map((s) => s.heatNo))];
   return (
-    <Card title={`Heats behind the claim (${heats.length})`}>
+    <Card title={t("heats.title", { n: count(heats.length) })}>
       {heats.length ? (
         <ul className="divide-y divide-ink-100" data-testid="claim-heats">
           {heats.map((heatNo) => {
@@ -373,26 +386,26 @@ export function ClaimHeatsCard({ claim, canExport, canSend }: { claim: Claim; ca
               <li key={heatNo} className="space-y-3 py-3" data-testid="claim-heat" data-heat={heatNo}>
                 <div className="flex flex-wrap items-baseline gap-x-3">
                   <Link to={`/heats/${encodeURIComponent(heatNo)}`} className={`${link} text-lg`}>
-                    Heat {heatNo}
+                    {t("heats.heat", { heatNo })}
                   </Link>
                   <span className="text-sm text-ink-700">
-                    {slabs[0]?.grade} · sequence {slabs[0]?.sequenceNo ?? DASH} · {plural(slabs.length, "linked slab")}
+                    {t("heats.line", { count: slabs.length, n: count(slabs.length), grade: slabs[0]?.grade ?? "", sequence: slabs[0]?.sequenceNo ?? DASH })}
                   </span>
                 </div>
                 <div className="flex flex-wrap items-start gap-2">
-                  <TraceLink q={heatNo} label="Open the trace" testId="heat-trace" />
+                  <TraceLink q={heatNo} label={t("heats.openTrace")} testId="heat-trace" />
                   {canExport ? (
                     <>
                       <HistoryWorkbookButton
                         heatNo={heatNo}
-                        label="Customer's history (.xlsx)"
+                        label={t("heats.customerWorkbook")}
                         testId="heat-workbook"
                         edition={{ ...CUSTOMER_DEFAULT, claim: claim.id }}
                       />
-                      <PrintableHistoryLink heatNo={heatNo} claimId={claim.id} label="Prepare the customer's history" />
+                      <PrintableHistoryLink heatNo={heatNo} claimId={claim.id} label={t("heats.prepareCustomer")} />
                       {canSend ? (
                         <Button variant="secondary" onClick={() => setSending(heatNo)} disabled={sending === heatNo} data-testid="email-history">
-                          E-mail the history
+                          {t("heats.email")}
                         </Button>
                       ) : null}
                     </>
@@ -404,58 +417,52 @@ export function ClaimHeatsCard({ claim, canExport, canSend }: { claim: Claim; ca
           })}
         </ul>
       ) : (
-        <p className="text-sm text-ink-600">No heat yet: link the claim's slabs first.</p>
+        <p className="text-sm text-ink-600">{t("heats.none")}</p>
       )}
     </Card>
   );
 }
 
 export function ClaimAttachmentsCard({ claim, canManage }: { claim: Claim; canManage: boolean }) {
+  const { t } = useTranslation("claims");
   const upload = useUploadClaimAttachments(claim.id);
-  return (
-    <AttachmentsCard
-      attachments={claim.attachments}
-      upload={upload}
-      canUpload={canManage}
-      hint="Attach files: the customer's letter, photos, test reports (up to 5, 20 MB each)"
-      testIdPrefix="claim-"
-    />
-  );
+  return <AttachmentsCard attachments={claim.attachments} upload={upload} canUpload={canManage} hint={t("attachments.hint")} testIdPrefix="claim-" />;
 }
 
-const HISTORY_WORDS: Record<string, string> = {
-  "claim.create": "recorded the claim",
-  "claim.update": "changed the claim",
-  "claim.slabs.link": "linked slabs",
-  "claim.slabs.unlink": "unlinked a slab",
-  "claim.attachments.add": "attached files",
-  "claim.history.sent": "e-mailed a heat history",
-};
-/** The server's record names as words; an unknown one loses its dots rather than show as code. */
-const historyWords = (a: string) => HISTORY_WORDS[a] ?? a.replace(/^claim\./, "").replace(/[._]/g, " ");
-/** "Status → under_review" reads "Status → Under review". */
-const detailWords = (d: string) => d.replace(/(Status → )(\w+)/, (_, p: string, s: string) => p + (CLAIM_STATUS_LABELS[s as ClaimStatus] ?? s));
+/** The server's record names as words (claimHistory.actions); an unknown one loses its dots rather than show as code. */
+const HISTORY_ACTIONS = ["claim.create", "claim.update", "claim.slabs.link", "claim.slabs.unlink", "claim.attachments.add", "claim.history.sent"];
+const historyWords = (t: TFunction, a: string) =>
+  HISTORY_ACTIONS.includes(a) ? t(`claimHistory.actions.${a.replace(/\./g, "_")}`) : a.replace(/^claim\./, "").replace(/[._]/g, " ");
+/** "Status → under_review" reads "Status → Under review"; the rest of what the server wrote is shown as it comes. */
+function detailWords(t: TFunction, term: Terms["term"], d: string) {
+  const status = /^Status → (\w+)$/.exec(d);
+  if (status) return t("claimHistory.statusTo", { status: term("claimStatus", status[1]!) });
+  return d.replace(/(Status → )(\w+)/, (_, p: string, s: string) => p + term("claimStatus", s));
+}
 
 export function ClaimHistoryCard({ claim }: { claim: Claim }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
+  const system = t("claimHistory.system");
   return (
-    <Card title="The claim's history">
+    <Card title={t("claimHistory.title")}>
       {claim.history.length ? (
         <ol className="space-y-2 text-sm" data-testid="claim-history">
           {[...claim.history].reverse().map((h, i) => (
             <li key={i} className="flex flex-wrap gap-x-3 border-l-2 border-ink-200 pl-3" data-testid="claim-history-entry" data-action={h.action}>
               <span className="whitespace-nowrap tabular-nums text-ink-600">{dateTime(h.at)}</span>
-              <span className="font-semibold">{h.by ?? "the system"}</span>
-              <span title={h.action}>{historyWords(h.action)}</span>
+              <span className="font-semibold">{h.by ?? system}</span>
+              <span title={h.action}>{historyWords(t, h.action)}</span>
               {h.detail ? (
                 <span className="w-full text-ink-800" data-testid="claim-history-detail">
-                  {detailWords(h.detail)}
+                  {detailWords(t, term, h.detail)}
                 </span>
               ) : null}
             </li>
           ))}
         </ol>
       ) : (
-        <p className="text-sm text-ink-600">Nothing recorded yet.</p>
+        <p className="text-sm text-ink-600">{t("claimHistory.none")}</p>
       )}
     </Card>
   );

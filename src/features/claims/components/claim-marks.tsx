@@ -1,4 +1,5 @@
-import { CLAIM_STATUS_LABELS } from "@shared/api/claims";
+import type { TermList, Terms } from "@/i18n/terms";
+import { DASH } from "@/lib/format";
 import type { ClaimStatus } from "@shared/domain";
 
 const stroke = { fill: "none", stroke: "currentColor", strokeWidth: 1.8, strokeLinecap: "round" as const, strokeLinejoin: "round" as const };
@@ -14,8 +15,9 @@ const COLOR: Record<ClaimStatus, string> = {
 /**
  * A claim's status by a word and a shape: new a hollow diamond, under review
  * a lens, accepted a filled disc with a tick, rejected a ring struck through, closed a filled square.
+ * The word comes from the caller (term("claimStatus", status)), worked out once per list rather than per row.
  */
-export function ClaimStatusMark({ status }: { status: ClaimStatus }) {
+export function ClaimStatusMark({ status, label }: { status: ClaimStatus; label: string }) {
   return (
     <span
       className={`inline-flex items-center gap-1.5 whitespace-nowrap text-sm font-semibold ${COLOR[status]}`}
@@ -44,26 +46,38 @@ export function ClaimStatusMark({ status }: { status: ClaimStatus }) {
         ) : null}
         {status === "closed" ? <rect x="2" y="2" width="12" height="12" rx="1.5" fill="currentColor" /> : null}
       </svg>
-      {CLAIM_STATUS_LABELS[status]}
+      {label}
     </span>
   );
 }
 
-/** Whether a related record is on the very heat or only on another heat of its sequence. */
-export function SameHeatMark({ sameHeat }: { sameHeat: boolean }) {
+/**
+ * Whether a related record is on the very heat or only on another heat of its sequence; the words
+ * ("this heat", "same sequence") come from the caller, once per list.
+ */
+export function SameHeatMark({ sameHeat, words }: { sameHeat: boolean; words: { thisHeat: string; sameSequence: string } }) {
   return sameHeat ? (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs font-bold text-ink-900" data-testid="relation" data-same-heat="true">
       <svg viewBox="0 0 12 12" className="h-3 w-3 shrink-0" aria-hidden>
         <circle cx="6" cy="6" r="4.8" fill="currentColor" />
       </svg>
-      this heat
+      {words.thisHeat}
     </span>
   ) : (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs font-semibold text-ink-600" data-testid="relation" data-same-heat="false">
       <svg viewBox="0 0 12 12" className="h-3 w-3 shrink-0" aria-hidden>
         <circle cx="6" cy="6" r="4.2" fill="none" stroke="currentColor" strokeWidth="1.6" strokeDasharray="2 1.6" />
       </svg>
-      same sequence
+      {words.sameSequence}
     </span>
   );
+}
+
+/**
+ * A shared list's words looked up once per table rather than once per cell (wrap in useMemo on
+ * `term`): an unknown code shows as it is, none as "—".
+ */
+export function listWords(term: Terms["term"], list: TermList, keys: readonly string[]) {
+  const words = new Map(keys.map((k) => [k, term(list, k)]));
+  return (key: string | null | undefined) => (key ? (words.get(key) ?? key) : DASH);
 }

@@ -1,36 +1,24 @@
-import {
-  CUSTOMER_DEFAULT_SECTIONS,
-  CUSTOMER_SECTIONS,
-  EDITION_LABELS,
-  HISTORY_EDITIONS,
-  SECTION_LABELS,
-  type CustomerSection,
-  type HistoryEdition,
-} from "@shared/api/claims";
+import { useTranslation } from "react-i18next";
+import { CUSTOMER_DEFAULT_SECTIONS, CUSTOMER_SECTIONS, HISTORY_EDITIONS, type CustomerSection, type HistoryEdition } from "@shared/api/claims";
+import { useTerms } from "@/i18n/terms";
 
 export type EditionValue = { edition: HistoryEdition; sections: CustomerSection[] };
 export const CUSTOMER_DEFAULT: EditionValue = { edition: "customer", sections: CUSTOMER_DEFAULT_SECTIONS };
 
-const EDITION_HINTS: Record<HistoryEdition, string> = {
-  customer: "The parts you choose, with a cover page naming you; no other names, no notes, review states, other coils or links into Strandsight.",
-  internal: "Everything on record, the record of changes in words. Not for the customer.",
-};
-/** Off by default in the customer edition: say why someone might still add them. */
-const SECTION_HINTS: Partial<Record<CustomerSection, string>> = {
-  causes: "the plant's own judgement; off unless agreed",
-  investigations: "references, titles and outcomes only",
-  audit: "who-changed-what on the defects, without names",
-};
+/** Off by default in the customer edition: say why someone might still add them (editionChooser.sectionHints.<section>). */
+const SECTION_HINTS: readonly CustomerSection[] = ["causes", "investigations", "audit"];
 
 /**
  * Which edition of a heat's history, and for the customer's, which parts. Customer first: from a
  * claim, that is what leaves the plant unless the officer chooses otherwise.
  */
 export function EditionChooser({ value, onChange, name }: { value: EditionValue; onChange: (v: EditionValue) => void; name: string }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
   return (
     <div className="space-y-3" data-testid="edition-chooser">
       <fieldset>
-        <legend className="mb-1 text-sm font-semibold text-ink-800">Edition</legend>
+        <legend className="mb-1 text-sm font-semibold text-ink-800">{t("editionChooser.edition")}</legend>
         <div className="grid gap-2 sm:grid-cols-2">
           {[...HISTORY_EDITIONS].reverse().map((e) => (
             <label
@@ -46,8 +34,8 @@ export function EditionChooser({ value, onChange, name }: { value: EditionValue;
                 onChange={() => onChange({ ...value, edition: e })}
               />
               <span>
-                <span className="font-semibold">{EDITION_LABELS[e]}</span>
-                <span className="block text-xs text-ink-600">{EDITION_HINTS[e]}</span>
+                <span className="font-semibold">{term("historyEditions", e)}</span>
+                <span className="block text-xs text-ink-600">{t(`editionChooser.editionHints.${e}`)}</span>
               </span>
             </label>
           ))}
@@ -55,7 +43,7 @@ export function EditionChooser({ value, onChange, name }: { value: EditionValue;
       </fieldset>
       {value.edition === "customer" ? (
         <fieldset>
-          <legend className="mb-1 text-sm font-semibold text-ink-800">Parts for the customer</legend>
+          <legend className="mb-1 text-sm font-semibold text-ink-800">{t("editionChooser.parts")}</legend>
           <div className="flex flex-wrap gap-2">
             {CUSTOMER_SECTIONS.map((x) => (
               <label key={x} className="flex min-h-11 cursor-pointer items-center gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm">
@@ -71,8 +59,8 @@ export function EditionChooser({ value, onChange, name }: { value: EditionValue;
                   }
                 />
                 <span>
-                  {SECTION_LABELS[x]}
-                  {SECTION_HINTS[x] ? <span className="block text-xs text-ink-600">{SECTION_HINTS[x]}</span> : null}
+                  {term("historySections", x)}
+                  {SECTION_HINTS.includes(x) ? <span className="block text-xs text-ink-600">{t(`editionChooser.sectionHints.${x}`)}</span> : null}
                 </span>
               </label>
             ))}

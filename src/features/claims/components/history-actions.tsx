@@ -1,3 +1,4 @@
+import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { Button } from "@/components/ui/button";
 import { Notice } from "@/components/ui/notice";
@@ -11,7 +12,7 @@ const secondaryLink =
 /** "Export heat history (.xlsx)": the heat's workbook, with its progress while it downloads. */
 export function HistoryWorkbookButton({
   heatNo,
-  label = "Export heat history (.xlsx)",
+  label,
   testId = "export-history",
   edition,
 }: {
@@ -21,6 +22,7 @@ export function HistoryWorkbookButton({
   /** The internal edition unless told otherwise. */
   edition?: HistoryEditionChoice;
 }) {
+  const { t } = useTranslation("claims");
   const exp = useHistoryWorkbook();
   return (
     <div className="flex min-w-52 flex-col gap-2 print:hidden">
@@ -28,19 +30,19 @@ export function HistoryWorkbookButton({
         <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden>
           <path d="M8 2v8m-3.5-3.5L8 10l3.5-3.5M3 13h10" fill="none" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" strokeLinejoin="round" />
         </svg>
-        {exp.isPending ? "Preparing the workbook…" : label}
+        {exp.isPending ? t("historyActions.preparing") : (label ?? t("historyActions.exportHistory"))}
       </Button>
       {exp.progress ? (
         <ProgressBar
-          label="Downloading"
+          label={t("historyActions.downloading")}
           value={exp.progress.fraction}
-          detail={exp.progress.loaded ? bytes(exp.progress.loaded) : "the server is building it"}
+          detail={exp.progress.loaded ? bytes(exp.progress.loaded) : t("historyActions.serverBuilding")}
         />
       ) : null}
       {exp.isError ? <Notice tone="error">{exp.error.message}</Notice> : null}
       {exp.isSuccess ? (
         <span className="text-xs text-ink-600" role="status" data-testid={`${testId}-done`}>
-          Saved as {exp.data.name} ({bytes(exp.data.size)}).
+          {t("historyActions.savedAs", { name: exp.data.name, size: bytes(exp.data.size) })}
         </span>
       ) : null}
     </div>
@@ -49,7 +51,7 @@ export function HistoryWorkbookButton({
 
 export function PrintableHistoryLink({
   heatNo,
-  label = "Printable history",
+  label,
   testId = "printable-history",
   claimId,
 }: {
@@ -59,6 +61,7 @@ export function PrintableHistoryLink({
   /** From a claim: opens the customer edition with the claim's cover page. */
   claimId?: number;
 }) {
+  const { t } = useTranslation("claims");
   return (
     <Link
       to={`/heats/${encodeURIComponent(heatNo)}/history${claimId ? `?edition=customer&claim=${claimId}` : ""}`}
@@ -68,7 +71,7 @@ export function PrintableHistoryLink({
       <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden>
         <path d="M4 6V2h8v4M4 12H2V7h12v5h-2M4 10h8v4H4z" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" />
       </svg>
-      {label}
+      {label ?? t("historyActions.printable")}
     </Link>
   );
 }

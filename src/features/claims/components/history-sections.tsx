@@ -1,14 +1,15 @@
-import type { ReactNode } from "react";
+import { useMemo, type ReactNode } from "react";
+import { Trans, useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { Link } from "react-router";
-import { CLAIM_STATUS_LABELS, type HeatHistory, type HistorySection } from "@shared/api/claims";
-import { INVESTIGATION_STATUS_LABELS } from "@shared/api/investigations";
-import type { ClaimStatus } from "@shared/domain";
+import type { HeatHistory, HistorySection } from "@shared/api/claims";
+import { CAUSE_CONFIDENCES, CLAIM_STATUSES, DISPOSITIONS, FACES, type CauseConfidence, type ClaimStatus } from "@shared/domain";
 import type { ConditionSource } from "@shared/variables";
 import { Fact } from "@/components/ui/card";
 import { SeverityMark, SourceLegend, SourceMark, TransitionMark } from "@/components/ui/marks";
-import { date, dateTime, DASH, day, num, plural, withUnit } from "@/lib/format";
-import { dispositionLabel, faceLabel, reviewLabel, stageLabel } from "@/lib/labels";
-import { ClaimStatusMark, SameHeatMark } from "./claim-marks";
+import { useTerms } from "@/i18n/terms";
+import { count, date, dateTime, DASH, day, num, withUnit } from "@/lib/format";
+import { ClaimStatusMark, listWords, SameHeatMark } from "./claim-marks";
 
 /*
  * The pieces of a heat's history, shared by the trace screen and the printable history so both show
@@ -20,8 +21,14 @@ export type LiveCause = { tag: string; tagName: string; confidence: string };
 export type RenderCauses = (causes: LiveCause[]) => ReactNode;
 
 const link = "font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2";
-const th = "px-2 py-2 text-left text-xs font-semibold uppercase tracking-wide text-ink-600";
+// German headers are long single words ("Verwendungsentscheid"): they may break with a hyphen.
+const th = "px-2 py-2 text-left text-xs font-semibold uppercase tracking-wide text-ink-600 hyphens-auto";
 const td = "px-2 py-1.5 align-top";
+
+/** A condition's name in the language shown (history.conditions.<key>); one the catalogue lacks keeps the server's words. */
+const conditionLabel = (t: TFunction, key: string, label: string) => t(`history.conditions.${key}`, { defaultValue: label });
+/** A cause's confidence in words (history.confidence.<code>); an unknown code shows as it is. */
+const confidenceWords = (t: TFunction, c: string) => t(`history.confidence.${c}`, { defaultValue: c });
 
 /** The address a printed page shows beside a link, so the paper still leads back to the record. */
 export function PrintUrl({ path }: { path: string }) {
@@ -29,6 +36,8 @@ export function PrintUrl({ path }: { path: string }) {
 }
 
 export function HistoryFacts({ history }: { history: HeatHistory }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
   const h = history.heat;
   const on = (x: HistorySection) => history.edition.sections.includes(x);
   const dispositions = Object.entries(
@@ -39,35 +48,39 @@ export function HistoryFacts({ history }: { history: HeatHistory }) {
   );
   return (
     <dl className="grid grid-cols-2 gap-x-6 gap-y-3 md:grid-cols-4" data-testid="history-facts">
-      <Fact label="Heat" testId="fact-heat">
+      <Fact label={t("history.facts.heat")} testId="fact-heat">
         {h.heatNo}
       </Fact>
-      <Fact label="Sequence">{h.sequenceNo ? `${h.sequenceNo} (heat ${h.sequencePosition ?? "?"})` : DASH}</Fact>
-      <Fact label="Grade">
+      <Fact label={t("history.facts.sequence")}>
+        {h.sequenceNo ? t("history.facts.sequenceValue", { sequence: h.sequenceNo, position: h.sequencePosition ?? "?" }) : DASH}
+      </Fact>
+      <Fact label={t("history.facts.grade")}>
         {h.grade}{" "}
         <span className="text-sm font-normal text-ink-700">
           {h.gradeName} · {h.family}
         </span>
       </Fact>
-      <Fact label="Caster">{h.caster}</Fact>
-      <Fact label="Cast start">{dateTime(h.castStart)}</Fact>
-      <Fact label="Cast end">{dateTime(h.castEnd)}</Fact>
-      <Fact label="Ladle weight">{withUnit(h.ladleWeightT, "t", 1)}</Fact>
+      <Fact label={t("history.facts.caster")}>{h.caster}</Fact>
+      <Fact label={t("history.facts.castStart")}>{dateTime(h.castStart)}</Fact>
+      <Fact label={t("history.facts.castEnd")}>{dateTime(h.castEnd)}</Fact>
+      <Fact label={t("history.facts.ladleWeight")}>{withUnit(h.ladleWeightT, "t", 1)}</Fact>
       {/* Only what the document holds: a customer edition without its slabs says nothing of them. */}
       {on("slabs") && on("defects") ? (
-        <Fact label="Slabs · defects">
+        <Fact label={t("history.facts.slabsDefects")}>
           {history.slabs.length} · {history.defects.length}
         </Fact>
       ) : on("slabs") ? (
-        <Fact label="Slabs">{history.slabs.length}</Fact>
+        <Fact label={t("history.facts.slabs")}>{history.slabs.length}</Fact>
       ) : on("defects") ? (
-        <Fact label="Defects">{history.defects.length}</Fact>
+        <Fact label={t("history.facts.defects")}>{history.defects.length}</Fact>
       ) : null}
       {on("slabs") && on("dispositions") ? (
         <div className="col-span-2 md:col-span-4">
-          <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">Slab dispositions</dt>
+          <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">{t("history.facts.slabDispositions")}</dt>
           <dd className="mt-0.5 text-sm text-ink-900">
-            {dispositions.length ? dispositions.map(([d, n]) => `${dispositionLabel(d)}: ${n}`).join(" · ") : "none recorded"}
+            {dispositions.length
+              ? dispositions.map(([d, n]) => t("history.facts.dispositionCount", { disposition: term("dispositions", d), n: count(n) })).join(" · ")
+              : t("history.facts.noDispositions")}
           </dd>
         </div>
       ) : null}
@@ -75,30 +88,32 @@ export function HistoryFacts({ history }: { history: HeatHistory }) {
   );
 }
 
-/** Where a heat-level value came from, in words (the heat record, computed from the chemistry…). */
-const sourceWords = (s: string | null) => (s ? s.replace(/_/g, " ") : "no value");
+/** Where a heat-level value came from, in words (history.sources: the heat record, computed from the chemistry…). */
+const sourceWords = (t: TFunction, s: string | null) =>
+  s ? t(`history.sources.${s.replace(/[ .]/g, "_")}`, { defaultValue: s.replace(/_/g, " ") }) : t("history.sources.none");
 
 export function ConditionsTable({ history }: { history: HeatHistory }) {
+  const { t } = useTranslation("claims");
   return (
     <table className="w-full text-sm" data-testid="history-conditions">
       <thead>
         <tr className="border-b-2 border-ink-200">
-          <th className={th}>Condition</th>
-          <th className={`${th} text-right`}>Value</th>
-          <th className={th}>Source</th>
+          <th className={th}>{t("history.conditionsTable.condition")}</th>
+          <th className={`${th} text-right`}>{t("history.conditionsTable.value")}</th>
+          <th className={th}>{t("history.conditionsTable.source")}</th>
         </tr>
       </thead>
       <tbody>
         {history.heat.conditions.map((c) => (
           <tr key={c.key} className="border-b border-ink-100" data-testid="condition-row" data-key={c.key}>
             <td className={td} data-field="label">
-              {c.label}
+              {conditionLabel(t, c.key, c.label)}
             </td>
             <td className={`${td} text-right tabular-nums`} data-field="value">
               {withUnit(c.value, c.unit, c.unit === "m/min" ? 2 : c.unit === "mm" && c.key === "mold_level_sd_mm" ? 2 : 1)}
             </td>
             <td className={`${td} text-ink-700`} data-field="source">
-              {sourceWords(c.source)}
+              {sourceWords(t, c.source)}
             </td>
           </tr>
         ))}
@@ -108,21 +123,22 @@ export function ConditionsTable({ history }: { history: HeatHistory }) {
 }
 
 export function ChemistryTable({ history }: { history: HeatHistory }) {
+  const { t } = useTranslation("claims");
   const shown = history.heat.chemistry.filter((c) => c.value !== null);
-  if (!shown.length) return <p className="text-sm text-ink-600">No heat analysis on record.</p>;
+  if (!shown.length) return <p className="text-sm text-ink-600">{t("history.chemistry.none")}</p>;
   return (
     <table className="w-full text-sm" data-testid="history-chemistry">
       <thead>
         <tr className="border-b-2 border-ink-200">
-          <th className={th}>Element</th>
-          <th className={`${th} text-right`}>Content</th>
+          <th className={th}>{t("history.chemistry.element")}</th>
+          <th className={`${th} text-right`}>{t("history.chemistry.content")}</th>
         </tr>
       </thead>
       <tbody>
         {shown.map((c) => (
           <tr key={c.key} className="border-b border-ink-100" data-testid="chemistry-row">
             <td className={td} data-field="element">
-              {c.element}
+              {t(`history.elements.${c.key}`, { defaultValue: c.element })}
             </td>
             <td className={`${td} text-right tabular-nums`} data-field="value">
               {withUnit(c.value, c.unit, c.unit === "ppm" ? 0 : 4)}
@@ -134,20 +150,23 @@ export function ChemistryTable({ history }: { history: HeatHistory }) {
   );
 }
 
-function TracedMark() {
+function TracedMark({ label }: { label: string }) {
   return (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs font-bold text-ember-700" data-testid="traced-mark">
       <svg viewBox="0 0 12 12" className="h-3 w-3 shrink-0" aria-hidden>
         <path d="M1 6h7M5.5 2.5 9 6l-3.5 3.5" fill="none" stroke="currentColor" strokeWidth="2" strokeLinecap="round" strokeLinejoin="round" />
       </svg>
-      traced slab
+      {label}
     </span>
   );
 }
 
 /** Every slab of the heat with its disposition; the traced one stands out by a word, an arrow and a border. */
 export function SlabsTable({ history, traced }: { history: HeatHistory; traced?: string | null }) {
-  if (!history.slabs.length) return <p className="text-sm text-ink-600">No slabs on record for this heat.</p>;
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
+  const disposition = useMemo(() => listWords(term, "dispositions", DISPOSITIONS), [term]);
+  if (!history.slabs.length) return <p className="text-sm text-ink-600">{t("history.slabs.none")}</p>;
   const cond = (s: HeatHistory["slabs"][number], key: string) => s.conditions.find((c) => c.key === key);
   const showDispositions = history.edition.sections.includes("dispositions");
   return (
@@ -156,16 +175,16 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
         <table className="w-full text-sm" data-testid="history-slabs">
           <thead>
             <tr className="border-b-2 border-ink-200">
-              <th className={th}>Strand · piece</th>
-              <th className={th}>Slab</th>
-              <th className={`${th} text-right`}>T × W × L mm</th>
-              <th className={`${th} text-right`}>Weight t</th>
-              {showDispositions ? <th className={th}>Disposition</th> : null}
-              <th className={`${th} text-right`}>Defects</th>
-              <th className={th}>Coils / plates</th>
+              <th className={th}>{t("history.slabs.strandPiece")}</th>
+              <th className={th}>{t("history.slabs.slab")}</th>
+              <th className={`${th} text-right`}>{t("history.slabs.size")}</th>
+              <th className={`${th} text-right`}>{t("history.slabs.weight")}</th>
+              {showDispositions ? <th className={th}>{t("history.slabs.disposition")}</th> : null}
+              <th className={`${th} text-right`}>{t("history.slabs.defects")}</th>
+              <th className={th}>{t("history.slabs.products")}</th>
               {/* The two key conditions where there is room; each slab's full set is in its own table. */}
-              <th className={`${th} hidden text-right xl:table-cell print:hidden`}>Speed m/min</th>
-              <th className={`${th} hidden text-right xl:table-cell print:hidden`}>Superheat °C</th>
+              <th className={`${th} hidden text-right xl:table-cell print:hidden`}>{t("history.slabs.speed")}</th>
+              <th className={`${th} hidden text-right xl:table-cell print:hidden`}>{t("history.slabs.superheat")}</th>
             </tr>
           </thead>
           <tbody>
@@ -185,7 +204,7 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
                     <span className="whitespace-nowrap tabular-nums">
                       {s.strand} · {s.pieceNo}
                     </span>
-                    <div className="whitespace-nowrap text-xs text-ink-600">cast {dateTime(s.castAt)}</div>
+                    <div className="whitespace-nowrap text-xs text-ink-600">{t("history.slabs.cast", { at: dateTime(s.castAt) })}</div>
                   </td>
                   <td className={td}>
                     {history.edition.kind === "customer" ? (
@@ -203,7 +222,7 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
                     )}
                     {isTraced ? (
                       <div>
-                        <TracedMark />
+                        <TracedMark label={t("history.slabs.traced")} />
                       </div>
                     ) : null}
                     {s.transition ? (
@@ -220,7 +239,7 @@ export function SlabsTable({ history, traced }: { history: HeatHistory; traced?:
                   </td>
                   {showDispositions ? (
                     <td className={td} data-field="disposition">
-                      {dispositionLabel(s.disposition)}
+                      {disposition(s.disposition)}
                     </td>
                   ) : null}
                   <td className={`${td} text-right tabular-nums ${s.defects ? "font-semibold" : "text-ink-500"}`} data-field="defects">
@@ -264,12 +283,38 @@ export function liveCauses(history: HeatHistory): Map<number, LiveCause[]> {
   return out;
 }
 
-const plainCauses: RenderCauses = (causes) =>
-  causes.length ? causes.map((c) => `${c.tagName} (${c.confidence})`).join(", ") : <span className="text-ink-600">no cause tagged</span>;
+/** The causes as plain words, where no chips are handed in (the customer's edition). */
+const plainCauses =
+  (t: TFunction): RenderCauses =>
+  (causes) =>
+    causes.length ? (
+      causes.map((c) => t("history.defects.cause", { cause: c.tagName, confidence: confidenceWords(t, c.confidence) })).join(", ")
+    ) : (
+      <span className="text-ink-600">{t("history.defects.noCause")}</span>
+    );
+
+/** The position line's key: with or without a measured size and a depth. */
+const positionKey = (d: HeatHistory["defects"][number]) =>
+  `history.defects.${d.lengthMm === null && d.widthMm === null ? "positionNoSize" : "position"}${d.depthMm !== null ? "Depth" : ""}`;
 
 /** Every live defect of the heat with its photo thumbnails and causes. */
-export function DefectsList({ history, traced, renderCauses = plainCauses }: { history: HeatHistory; traced?: string | null; renderCauses?: RenderCauses }) {
-  if (!history.defects.length) return <p className="text-sm text-ink-600">No defect on record for this heat.</p>;
+export function DefectsList({ history, traced, renderCauses }: { history: HeatHistory; traced?: string | null; renderCauses?: RenderCauses }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
+  const words = useMemo(
+    () => ({
+      face: listWords(term, "faces", FACES),
+      disposition: listWords(term, "dispositions", DISPOSITIONS),
+      tracedSlab: t("history.defects.tracedSlab"),
+      causes: t("history.defects.causes"),
+      openPhoto: t("history.defects.openPhoto"),
+      noPhoto: t("history.defects.noPhoto"),
+      plain: plainCauses(t),
+    }),
+    [t, term],
+  );
+  if (!history.defects.length) return <p className="text-sm text-ink-600">{t("history.defects.none")}</p>;
+  const showCausesWith = renderCauses ?? words.plain;
   const causes = liveCauses(history);
   const on = (x: HistorySection) => history.edition.sections.includes(x);
   const showDispositions = on("dispositions");
@@ -293,43 +338,55 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
               </span>
               <SeverityMark severity={d.severity} />
               <span className="text-sm">
-                on slab{" "}
-                {forCustomer ? (
-                  <span className="font-semibold" data-field="slabId">
-                    {d.slabId}
-                  </span>
-                ) : (
-                  <Link to={`/slabs/${encodeURIComponent(d.slabId)}`} className={link} data-field="slabId">
-                    {d.slabId}
-                  </Link>
-                )}
-                {traced === d.slabId ? <span className="ml-1 text-xs font-bold text-ember-700">(the traced slab)</span> : null}
+                <Trans
+                  t={t}
+                  i18nKey="history.defects.onSlab"
+                  values={{ slabId: d.slabId }}
+                  components={{
+                    1: forCustomer ? (
+                      <span className="font-semibold" data-field="slabId" />
+                    ) : (
+                      <Link to={`/slabs/${encodeURIComponent(d.slabId)}`} className={link} data-field="slabId" />
+                    ),
+                  }}
+                />
+                {traced === d.slabId ? <span className="ml-1 text-xs font-bold text-ember-700">{words.tracedSlab}</span> : null}
               </span>
             </div>
             <p className="text-sm text-ink-800">
-              {faceLabel(d.face)}, {withUnit(d.positionAlongMm, "mm")} from the head end, {withUnit(d.positionAcrossMm, "mm")} across ·{" "}
-              {d.lengthMm === null && d.widthMm === null ? "size not measured" : `${withUnit(d.lengthMm, "mm")} × ${withUnit(d.widthMm, "mm")}`}
-              {d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
+              {t(positionKey(d), {
+                face: words.face(d.face),
+                along: withUnit(d.positionAlongMm, "mm"),
+                across: withUnit(d.positionAcrossMm, "mm"),
+                length: withUnit(d.lengthMm, "mm"),
+                width: withUnit(d.widthMm, "mm"),
+                depth: withUnit(d.depthMm, "mm", 1),
+              })}
             </p>
             <p className="text-sm text-ink-700">
-              Found at {stageLabel(d.stage).toLowerCase()} {dateTime(d.foundAt)}
-              {d.loggedBy ? ` by ${d.loggedBy}` : ""}
+              {t(d.loggedBy ? "history.defects.foundBy" : "history.defects.found", {
+                stage: t(`history.defects.stages.${d.stage}`, { defaultValue: d.stage }),
+                at: dateTime(d.foundAt),
+                by: d.loggedBy,
+              })}
               {showDispositions ? (
                 <>
-                  {" "}
-                  · disposition{" "}
-                  <span className="font-semibold text-ink-900" data-field="disposition">
-                    {dispositionLabel(d.disposition)}
-                  </span>
+                  {" · "}
+                  <Trans
+                    t={t}
+                    i18nKey="history.defects.disposition"
+                    values={{ disposition: words.disposition(d.disposition) }}
+                    components={{ 1: <span className="font-semibold text-ink-900" data-field="disposition" /> }}
+                  />
                 </>
               ) : null}
-              {d.reviewStatus ? ` · ${reviewLabel(d.reviewStatus).toLowerCase()}` : ""}
+              {d.reviewStatus ? ` · ${t(`history.defects.review.${d.reviewStatus}`, { defaultValue: d.reviewStatus })}` : ""}
             </p>
             {d.note ? <p className="text-sm italic text-ink-700">“{d.note}”</p> : null}
             {showCauses ? (
               <div className="flex flex-wrap items-center gap-2 text-sm" data-field="causes">
-                <span className="text-xs font-semibold uppercase text-ink-600">Causes</span>
-                {renderCauses(causes.get(d.id) ?? [])}
+                <span className="text-xs font-semibold uppercase text-ink-600">{words.causes}</span>
+                {showCausesWith(causes.get(d.id) ?? [])}
               </div>
             ) : null}
           </div>
@@ -339,7 +396,7 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
                 const img = (
                   <img
                     src={p.thumbUrl}
-                    alt={`Photo ${i + 1} of defect ${d.type} on slab ${d.slabId}`}
+                    alt={t("history.defects.photoAlt", { n: i + 1, type: d.type, slabId: d.slabId })}
                     loading="lazy"
                     className="h-20 w-28 rounded object-cover print:h-24 print:w-32"
                   />
@@ -349,14 +406,14 @@ export function DefectsList({ history, traced, renderCauses = plainCauses }: { h
                     {img}
                   </span>
                 ) : (
-                  <a key={p.id} href={p.url} target="_blank" rel="noreferrer" className="block rounded border border-ink-200" title="Open the photo">
+                  <a key={p.id} href={p.url} target="_blank" rel="noreferrer" className="block rounded border border-ink-200" title={words.openPhoto}>
                     {img}
                   </a>
                 );
               })}
             </div>
           ) : on("photos") ? (
-            <span className="text-xs text-ink-500">no photo</span>
+            <span className="text-xs text-ink-500">{words.noPhoto}</span>
           ) : null}
         </li>
       ))}
@@ -374,12 +431,24 @@ export function RelatedRecords({
   excludeClaimId?: number;
   show?: "both" | "investigations" | "claims";
 }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
+  const words = useMemo(
+    () => ({
+      relation: { thisHeat: t("history.related.thisHeat"), sameSequence: t("history.related.sameSequence") },
+      claimStatus: listWords(term, "claimStatus", CLAIM_STATUSES),
+    }),
+    [t, term],
+  );
   const claims = history.claims.filter((c) => c.id !== excludeClaimId);
+  const other = excludeClaimId !== undefined;
   return (
     <div className="grid gap-5 xl:grid-cols-2 print:grid-cols-1">
       {show === "claims" ? null : (
         <section>
-          {show === "both" ? <h3 className="mb-2 text-sm font-bold text-ink-900">Investigations ({history.investigations.length})</h3> : null}
+          {show === "both" ? (
+            <h3 className="mb-2 text-sm font-bold text-ink-900">{t("history.related.investigations", { n: count(history.investigations.length) })}</h3>
+          ) : null}
           {history.investigations.length ? (
             <ul className="space-y-2" data-testid="history-investigations">
               {history.investigations.map((i) => (
@@ -397,21 +466,21 @@ export function RelatedRecords({
                         {i.ref}
                       </Link>
                     )}
-                    {history.edition.kind === "customer" ? null : <SameHeatMark sameHeat={i.sameHeat} />}
-                    <span className="text-ink-700">{INVESTIGATION_STATUS_LABELS[i.status as keyof typeof INVESTIGATION_STATUS_LABELS] ?? i.status}</span>
+                    {history.edition.kind === "customer" ? null : <SameHeatMark sameHeat={i.sameHeat} words={words.relation} />}
+                    <span className="text-ink-700">{term("investigationStatus", i.status)}</span>
                   </div>
                   <div className="text-ink-900">{i.title}</div>
                   <div className="text-xs text-ink-600">
-                    opened {date(i.openedAt)}
-                    {i.closedAt ? ` · closed ${date(i.closedAt)}` : ""}
-                    {i.confirmedCause ? ` · confirmed cause: ${i.confirmedCause}` : ""}
-                    {i.owner ? ` · owner ${i.owner}` : ""}
+                    {t("history.related.opened", { date: date(i.openedAt) })}
+                    {i.closedAt ? ` · ${t("history.related.closed", { date: date(i.closedAt) })}` : ""}
+                    {i.confirmedCause ? ` · ${t("history.related.confirmedCause", { cause: i.confirmedCause })}` : ""}
+                    {i.owner ? ` · ${t("history.related.owner", { owner: i.owner })}` : ""}
                   </div>
                 </li>
               ))}
             </ul>
           ) : (
-            <p className="text-sm text-ink-600">No investigation looks at this heat or its sequence.</p>
+            <p className="text-sm text-ink-600">{t("history.related.noInvestigation")}</p>
           )}
         </section>
       )}
@@ -419,7 +488,7 @@ export function RelatedRecords({
         <section>
           {show === "both" ? (
             <h3 className="mb-2 text-sm font-bold text-ink-900">
-              {excludeClaimId !== undefined ? "Other claims" : "Claims"} ({claims.length})
+              {t(other ? "history.related.otherClaims" : "history.related.claims", { n: count(claims.length) })}
             </h3>
           ) : null}
           {claims.length ? (
@@ -435,22 +504,26 @@ export function RelatedRecords({
                     <Link to={`/claims/${c.id}`} className={link}>
                       {c.claimNo}
                     </Link>
-                    <SameHeatMark sameHeat={c.sameHeat} />
-                    {c.status in CLAIM_STATUS_LABELS ? <ClaimStatusMark status={c.status as ClaimStatus} /> : <span>{c.status}</span>}
+                    <SameHeatMark sameHeat={c.sameHeat} words={words.relation} />
+                    {(CLAIM_STATUSES as readonly string[]).includes(c.status) ? (
+                      <ClaimStatusMark status={c.status as ClaimStatus} label={words.claimStatus(c.status)} />
+                    ) : (
+                      <span>{c.status}</span>
+                    )}
                   </div>
                   <div className="text-ink-900">
-                    {c.customer} · received {day(c.receivedOn)}
+                    {c.customer} · {t("history.related.received", { day: day(c.receivedOn) })}
                     {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 1)}` : ""}
                   </div>
                   <div className="text-xs text-ink-600">
                     {c.defectComplained}
-                    {c.slabs.length ? ` · slabs of this heat: ${c.slabs.join(", ")}` : ""}
+                    {c.slabs.length ? ` · ${t("history.related.slabsOfHeat", { slabs: c.slabs.join(", ") })}` : ""}
                   </div>
                 </li>
               ))}
             </ul>
           ) : (
-            <p className="text-sm text-ink-600">No {excludeClaimId !== undefined ? "other " : ""}claim on this heat or its sequence.</p>
+            <p className="text-sm text-ink-600">{t(other ? "history.related.noOtherClaim" : "history.related.noClaim")}</p>
           )}
         </section>
       )}
@@ -460,6 +533,7 @@ export function RelatedRecords({
 
 /** Each slab's own resolved conditions with where each came from (the workbook's conditions sheet). */
 export function SlabConditionsTable({ history }: { history: HeatHistory }) {
+  const { t } = useTranslation("claims");
   const keys = history.slabs[0]?.conditions.map((c) => c.key) ?? [];
   const labelOf = (k: string) => history.heat.conditions.find((c) => c.key === k);
   return (
@@ -467,10 +541,10 @@ export function SlabConditionsTable({ history }: { history: HeatHistory }) {
       <table className="w-full text-sm" data-testid="history-slab-conditions">
         <thead>
           <tr className="border-b-2 border-ink-200">
-            <th className={th}>Slab</th>
+            <th className={th}>{t("history.slabs.slab")}</th>
             {keys.map((k) => (
               <th key={k} className={`${th} text-right`}>
-                {labelOf(k)?.label ?? k} {labelOf(k)?.unit ? `(${labelOf(k)!.unit})` : ""}
+                {conditionLabel(t, k, labelOf(k)?.label ?? k)} {labelOf(k)?.unit ? `(${labelOf(k)!.unit})` : ""}
               </th>
             ))}
           </tr>
@@ -497,17 +571,20 @@ export function SlabConditionsTable({ history }: { history: HeatHistory }) {
 }
 
 export function CausesTable({ history }: { history: HeatHistory }) {
-  if (!history.causes.length) return <p className="text-sm text-ink-600">No cause tagged on this heat's defects.</p>;
+  const { t } = useTranslation("claims");
+  // The confidence words once per table.
+  const confidence = useMemo(() => new Map(CAUSE_CONFIDENCES.map((c) => [c, confidenceWords(t, c)])), [t]);
+  if (!history.causes.length) return <p className="text-sm text-ink-600">{t("history.causes.none")}</p>;
   return (
     <table className="w-full text-sm" data-testid="history-causes">
       <thead>
         <tr className="border-b-2 border-ink-200">
-          <th className={th}>Defect</th>
-          <th className={th}>Slab</th>
-          <th className={th}>Cause</th>
-          <th className={th}>Confidence</th>
-          <th className={th}>Tagged</th>
-          <th className={th}>Removed</th>
+          <th className={th}>{t("history.causes.defect")}</th>
+          <th className={th}>{t("history.causes.slab")}</th>
+          <th className={th}>{t("history.causes.cause")}</th>
+          <th className={th}>{t("history.causes.confidence")}</th>
+          <th className={th}>{t("history.causes.tagged")}</th>
+          <th className={th}>{t("history.causes.removed")}</th>
         </tr>
       </thead>
       <tbody>
@@ -519,12 +596,14 @@ export function CausesTable({ history }: { history: HeatHistory }) {
               <span className="font-semibold">{c.tagName}</span>
               {c.note ? <div className="text-xs text-ink-600">{c.note}</div> : null}
             </td>
-            <td className={td}>{c.confidence}</td>
+            <td className={td}>{confidence.get(c.confidence as CauseConfidence) ?? c.confidence}</td>
             <td className={td}>
               {dateTime(c.at)}
               {c.by ? <div className="text-xs text-ink-600">{c.by}</div> : null}
             </td>
-            <td className={td}>{c.removedAt ? `${dateTime(c.removedAt)}${c.removedBy ? ` by ${c.removedBy}` : ""}` : DASH}</td>
+            <td className={td}>
+              {c.removedAt ? (c.removedBy ? t("history.causes.removedBy", { at: dateTime(c.removedAt), by: c.removedBy }) : dateTime(c.removedAt)) : DASH}
+            </td>
           </tr>
         ))}
       </tbody>
@@ -534,22 +613,24 @@ export function CausesTable({ history }: { history: HeatHistory }) {
 
 /** The record of changes, already in words from the server (who, when, what). */
 export function AuditTable({ history }: { history: HeatHistory }) {
-  if (!history.audit.length) return <p className="text-sm text-ink-600">Nothing recorded.</p>;
+  const { t } = useTranslation("claims");
+  if (!history.audit.length) return <p className="text-sm text-ink-600">{t("history.audit.none")}</p>;
   const withWho = history.edition.kind === "internal";
+  const system = t("history.audit.system");
   return (
     <table className="w-full text-xs" data-testid="history-audit">
       <thead>
         <tr className="border-b-2 border-ink-200">
-          <th className={th}>When</th>
-          {withWho ? <th className={th}>Who</th> : null}
-          <th className={th}>What</th>
+          <th className={th}>{t("history.audit.when")}</th>
+          {withWho ? <th className={th}>{t("history.audit.who")}</th> : null}
+          <th className={th}>{t("history.audit.what")}</th>
         </tr>
       </thead>
       <tbody>
         {history.audit.map((a, i) => (
           <tr key={i} className="border-b border-ink-100" data-testid="audit-row">
             <td className={`${td} whitespace-nowrap`}>{dateTime(a.at)}</td>
-            {withWho ? <td className={td}>{a.by ?? "the system"}</td> : null}
+            {withWho ? <td className={td}>{a.by ?? system}</td> : null}
             <td className={`${td} break-words`} data-field="what">
               {a.what}
             </td>
@@ -561,12 +642,13 @@ export function AuditTable({ history }: { history: HeatHistory }) {
 }
 
 export function SamplesLine({ history }: { history: HeatHistory }) {
+  const { t } = useTranslation("claims");
   if (!history.samples) return null;
+  const { count: n, strands } = history.samples;
+  const key = strands.length === 0 ? "history.samples.line" : strands.length === 1 ? "history.samples.lineStrand" : "history.samples.lineStrands";
   return (
     <p className="text-sm text-ink-800" data-testid="history-samples">
-      {plural(history.samples.count, "process sample")} in the cast window
-      {history.samples.strands.length ? ` on strand${history.samples.strands.length === 1 ? "" : "s"} ${history.samples.strands.join(", ")}` : ""}; the workbook
-      lists them one by one.
+      {t(key, { count: n, n: count(n), strands: strands.join(", ") })}
     </p>
   );
 }

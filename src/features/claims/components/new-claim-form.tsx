@@ -1,5 +1,8 @@
+import { useMemo } from "react";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { Trans, useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { z } from "zod";
 import type { Claim } from "@shared/api/claims";
 import { RecordForm, TextAreaField, todayInput } from "@/components/mutation-form";
@@ -21,28 +24,34 @@ export const idList = (text: string) => [
 /** A quantity as typed: empty is none; a decimal comma is a decimal point. */
 const toNumber = (s: string) => (s.trim() === "" ? null : Number(s.trim().replace(",", ".")));
 
-const formSchema = z.object({
-  claimNo: z.string().trim().min(2, "Give the claim number.").max(40),
-  customer: z.string().trim().min(2, "Name the customer.").max(120),
-  products: z
-    .string()
-    .max(10_000)
-    .refine((s) => idList(s).length <= 200, "At most 200 coil or plate ids.")
-    .refine((s) => idList(s).every((id) => id.length <= 40), "An id is at most 40 characters."),
-  receivedOn: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "Give the date received."),
-  defectComplained: z.string().trim().min(2, "Say what the customer complains of.").max(500),
-  quantity: z.string().refine((s) => {
-    const n = toNumber(s);
-    return n === null || (Number.isFinite(n) && n >= 0 && n <= 100_000);
-  }, "Give the quantity in tonnes, a number from 0 to 100 000, or leave it empty."),
-  notes: z.string().max(5000),
-  linkTraced: z.boolean(),
-});
-type FormValues = z.infer<typeof formSchema>;
+/** The form's rules with their messages in the language shown (English as the shared schema says them). */
+const formSchemaIn = (t: TFunction) => {
+  const atMost = (max: number) => t("newClaim.errors.atMost", { max: String(max) });
+  return z.object({
+    claimNo: z.string().trim().min(2, t("newClaim.errors.claimNo")).max(40, atMost(40)),
+    customer: z.string().trim().min(2, t("newClaim.errors.customer")).max(120, atMost(120)),
+    products: z
+      .string()
+      .max(10_000, atMost(10_000))
+      .refine((s) => idList(s).length <= 200, t("newClaim.errors.tooManyIds"))
+      .refine((s) => idList(s).every((id) => id.length <= 40), t("newClaim.errors.idTooLong")),
+    receivedOn: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, t("newClaim.errors.receivedOn")),
+    defectComplained: z.string().trim().min(2, t("newClaim.errors.defectComplained")).max(500, atMost(500)),
+    quantity: z.string().refine((s) => {
+      const n = toNumber(s);
+      return n === null || (Number.isFinite(n) && n >= 0 && n <= 100_000);
+    }, t("newClaim.errors.quantity")),
+    notes: z.string().max(5000, atMost(5000)),
+    linkTraced: z.boolean(),
+  });
+};
+type FormValues = z.infer<ReturnType<typeof formSchemaIn>>;
 
 const areaClass = "rounded-md border border-ink-300 bg-white px-3 py-2 text-sm text-ink-900";
 
 export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { onCreated: (c: Claim) => void; onCancel: () => void; initialProducts?: string }) {
+  const { t } = useTranslation("claims");
+  const formSchema = useMemo(() => formSchemaIn(t), [t]);
   const create = useCreateClaim();
   const form = useForm<FormValues>({
     resolver: zodResolver(formSchema, friendlyErrors),
@@ -62,7 +71,7 @@ export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { on
   const field = create.error instanceof ApiError ? (create.error.details as { field?: string } | undefined)?.field : undefined;
   return (
     <RecordForm
-      label="New claim"
+      label={t("newClaim.formLabel")}
       form={form}
       mutation={create}
       toInput={(v) => ({
@@ -77,54 +86,54 @@ export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { on
       })}
       onSaved={onCreated}
       onCancel={onCancel}
-      errorTitle="Not recorded"
-      submitLabel="Record the claim"
-      busyLabel="Recording…"
+      errorTitle={t("newClaim.notRecorded")}
+      submitLabel={t("newClaim.submit")}
+      busyLabel={t("newClaim.submitting")}
     >
       <div className="grid gap-4 md:grid-cols-2">
         <TextField
-          label="Claim number"
+          label={t("newClaim.claimNo")}
           {...form.register("claimNo")}
           error={e.claimNo?.message ?? (field === "claimNo" ? create.error?.message : undefined)}
-          placeholder="the customer's or your own reference"
+          placeholder={t("newClaim.claimNoPlaceholder")}
           autoCapitalize="characters"
         />
-        <TextField label="Customer" {...form.register("customer")} error={e.customer?.message} />
-        <TextField label="Received on" type="date" {...form.register("receivedOn")} error={e.receivedOn?.message} />
+        <TextField label={t("newClaim.customer")} {...form.register("customer")} error={e.customer?.message} />
+        <TextField label={t("newClaim.receivedOn")} type="date" {...form.register("receivedOn")} error={e.receivedOn?.message} />
         <TextField
-          label="Quantity (t)"
+          label={t("newClaim.quantity")}
           inputMode="decimal"
           {...form.register("quantity")}
           error={e.quantity?.message}
-          hint="Tonnes claimed; leave empty if not known."
+          hint={t("newClaim.quantityHint")}
         />
       </div>
       <TextAreaField
         id="claim-products"
-        label="Coil and plate ids"
+        label={t("newClaim.products")}
         rows={3}
         {...form.register("products")}
         className={`${areaClass} font-mono`}
         placeholder="K26000004, P26000001 …"
-        hint="Several at once: separate them with commas, spaces or new lines. Ids the rolling-mill trace does not know are kept on the claim and flagged."
+        hint={t("newClaim.productsHint")}
         error={e.products?.message}
       />
       <label className="flex min-h-11 items-center gap-3 text-sm">
         <input type="checkbox" className="h-5 w-5" {...form.register("linkTraced")} />
         <span>
-          <span className="font-semibold">Link the traced slabs</span> — each coil's or plate's slab is linked to the claim at once
+          <Trans t={t} i18nKey="newClaim.linkTraced" components={{ 1: <span className="font-semibold" /> }} />
         </span>
       </label>
       <TextAreaField
         id="claim-defect"
-        label="Defect complained of"
+        label={t("newClaim.defectComplained")}
         rows={2}
         {...form.register("defectComplained")}
         className={areaClass}
-        placeholder="What the customer found, where, how much"
+        placeholder={t("newClaim.defectComplainedPlaceholder")}
         error={e.defectComplained?.message}
       />
-      <TextAreaField id="claim-notes" label="Notes (optional)" rows={3} {...form.register("notes")} className={areaClass} error={e.notes?.message} />
+      <TextAreaField id="claim-notes" label={t("newClaim.notes")} rows={3} {...form.register("notes")} className={areaClass} error={e.notes?.message} />
     </RecordForm>
   );
 }

@@ -1,8 +1,9 @@
 import type { ReactNode } from "react";
+import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import type { Trace } from "@shared/api/claims";
-import { DASH, dateTime, plural, withUnit } from "@/lib/format";
-import { dispositionLabel } from "@/lib/labels";
+import { useTerms } from "@/i18n/terms";
+import { count, DASH, dateTime, withUnit } from "@/lib/format";
 
 const link = "font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2";
 
@@ -30,14 +31,21 @@ function Arrow() {
 
 /** Product → slab → heat, as far as the id reaches: a heat id shows the heat alone. */
 export function TraceChain({ trace }: { trace: Trace }) {
+  const { t } = useTranslation("claims");
+  const { term } = useTerms();
   const h = trace.history.heat;
   const slab = trace.slabId ? trace.history.slabs.find((s) => s.slabId === trace.slabId) : undefined;
   return (
-    <ol className="flex flex-col gap-2 md:flex-row md:items-stretch print:flex-row" aria-label="Trace" data-testid="trace-chain" data-found={trace.found}>
+    <ol
+      className="flex flex-col gap-2 md:flex-row md:items-stretch print:flex-row"
+      aria-label={t("traceChain.label")}
+      data-testid="trace-chain"
+      data-found={trace.found}
+    >
       {trace.product ? (
         <>
-          <Step kind={trace.product.kind === "plate" ? "Plate" : "Coil"} id={trace.product.productId} testId="chain-product">
-            <div>rolled {dateTime(trace.product.rolledAt)}</div>
+          <Step kind={trace.product.kind === "plate" ? t("traceChain.plate") : t("traceChain.coil")} id={trace.product.productId} testId="chain-product">
+            <div>{t("traceChain.rolled", { at: dateTime(trace.product.rolledAt) })}</div>
             <div>{withUnit(trace.product.weightT, "t", 2)}</div>
           </Step>
           <Arrow />
@@ -46,7 +54,7 @@ export function TraceChain({ trace }: { trace: Trace }) {
       {trace.slabId ? (
         <>
           <Step
-            kind="Slab"
+            kind={t("traceChain.slab")}
             id={
               <Link to={`/slabs/${encodeURIComponent(trace.slabId)}`} className={link}>
                 {trace.slabId}
@@ -56,11 +64,13 @@ export function TraceChain({ trace }: { trace: Trace }) {
           >
             {slab ? (
               <>
+                <div>{t("traceChain.strandPiece", { strand: slab.strand, piece: slab.pieceNo, weight: withUnit(slab.weightT, "t", 2) })}</div>
                 <div>
-                  strand {slab.strand}, piece {slab.pieceNo} · {withUnit(slab.weightT, "t", 2)}
-                </div>
-                <div>
-                  {plural(slab.defects, "defect")} · disposition {dispositionLabel(slab.disposition)}
+                  {t("traceChain.defectsDisposition", {
+                    count: slab.defects,
+                    n: count(slab.defects),
+                    disposition: slab.disposition ? term("dispositions", slab.disposition) : DASH,
+                  })}
                 </div>
               </>
             ) : (
@@ -71,7 +81,7 @@ export function TraceChain({ trace }: { trace: Trace }) {
         </>
       ) : null}
       <Step
-        kind="Heat"
+        kind={t("traceChain.heat")}
         id={
           <Link to={`/heats/${encodeURIComponent(h.heatNo)}`} className={link}>
             {h.heatNo}
@@ -79,10 +89,8 @@ export function TraceChain({ trace }: { trace: Trace }) {
         }
         testId="chain-heat"
       >
-        <div>
-          {h.grade} on {h.caster} · sequence {h.sequenceNo ?? DASH}
-        </div>
-        <div>cast {dateTime(h.castStart)}</div>
+        <div>{t("traceChain.gradeOn", { grade: h.grade, caster: h.caster, sequence: h.sequenceNo ?? DASH })}</div>
+        <div>{t("traceChain.cast", { at: dateTime(h.castStart) })}</div>
       </Step>
     </ol>
   );
