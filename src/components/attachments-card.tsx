@@ -1,3 +1,4 @@
+import { useTranslation } from "react-i18next";
 import { useRef, useState } from "react";
 import type { UseMutationResult } from "@tanstack/react-query";
 import type { Attachment } from "@shared/api/investigations";
@@ -31,15 +32,16 @@ export function AttachmentsCard({
   hint: string;
   testIdPrefix?: string;
 }) {
+  const { t } = useTranslation();
   const input = useRef<HTMLInputElement>(null);
   const [progress, setProgress] = useState<{ index: number; count: number; name: string; p: UploadProgress } | null>(null);
   const [problem, setProblem] = useState<string | null>(null);
   const start = (files: File[]) => {
     setProblem(null);
     if (!files.length) return;
-    if (files.length > MAX_FILES) return setProblem(`Choose at most ${MAX_FILES} files at a time.`);
+    if (files.length > MAX_FILES) return setProblem(t("attachments.tooMany", { n: MAX_FILES }));
     const big = files.find((f) => f.size > MAX_BYTES);
-    if (big) return setProblem(`“${big.name}” is ${bytes(big.size)}; a file may be at most 20 MB.`);
+    if (big) return setProblem(t("attachments.tooBig", { name: big.name, size: bytes(big.size) }));
     upload.mutate(
       { files, onProgress: (index, p) => setProgress({ index, count: files.length, name: files[index]!.name, p }) },
       {
@@ -51,7 +53,7 @@ export function AttachmentsCard({
     );
   };
   return (
-    <Card title={`Attachments (${attachments.length})`}>
+    <Card title={t("attachments.title", { n: attachments.length })}>
       <div className="space-y-3">
         {attachments.length ? (
           <ul className="divide-y divide-ink-100" data-testid={`${testIdPrefix}attachments`}>
@@ -67,7 +69,7 @@ export function AttachmentsCard({
             ))}
           </ul>
         ) : (
-          <p className="text-sm text-ink-600">No file attached yet.</p>
+          <p className="text-sm text-ink-600">{t("attachments.none")}</p>
         )}
         {canUpload ? (
           <div className="space-y-2">
@@ -85,9 +87,13 @@ export function AttachmentsCard({
             </label>
             {progress ? (
               <ProgressBar
-                label={`Uploading ${progress.name}${progress.count > 1 ? ` (${progress.index + 1} of ${progress.count})` : ""}`}
+                label={
+                  progress.count > 1
+                    ? t("attachments.uploadingOf", { name: progress.name, i: progress.index + 1, n: progress.count })
+                    : t("attachments.uploading", { name: progress.name })
+                }
                 value={progress.p.sent ? null : progress.p.fraction}
-                detail={progress.p.sent ? "the server is storing it" : bytes(progress.p.loaded)}
+                detail={progress.p.sent ? t("attachments.storing") : bytes(progress.p.loaded)}
               />
             ) : null}
           </div>

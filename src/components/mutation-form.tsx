@@ -1,5 +1,6 @@
 import { useState, type ChangeEvent, type ComponentProps, type FormEvent, type ReactNode } from "react";
 import type { FieldValues, UseFormReturn } from "react-hook-form";
+import { useTranslation } from "react-i18next";
 import { Button } from "@/components/ui/button";
 import { Notice } from "@/components/ui/notice";
 
@@ -80,6 +81,7 @@ export function RecordForm<V extends FieldValues, I, D>({
   busyLabel: string;
   children: ReactNode;
 }) {
+  const { t } = useTranslation();
   return (
     <form noValidate aria-label={label} className="space-y-4" onSubmit={form.handleSubmit((v) => mutation.mutate(toInput(v), { onSuccess: onSaved }))}>
       <MutationError mutation={mutation} title={errorTitle} />
@@ -89,7 +91,7 @@ export function RecordForm<V extends FieldValues, I, D>({
           {mutation.isPending ? busyLabel : submitLabel}
         </Button>
         <Button variant="ghost" onClick={onCancel}>
-          Cancel
+          {t("form.cancel")}
         </Button>
       </div>
     </form>

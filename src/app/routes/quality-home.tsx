@@ -1,4 +1,5 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { can } from "@shared/roles";
 import { PageHeader } from "@/components/ui/card";
@@ -6,7 +7,7 @@ import { authKeys } from "@/features/auth/api/session";
 import { defectKeys } from "@/features/defects/api/defects.queries";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { SummaryPanel } from "@/features/plant/components/summary-panel";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -24,31 +25,32 @@ export function makeLoader(qc: QueryClient) {
 const tile = "flex min-h-20 flex-col justify-center rounded-lg border-2 px-4 py-3 hover:bg-strand-50";
 
 export function Component() {
+  const { t } = useTranslation("reports");
   const me = useQuery(authKeys.me());
   const queue = useQuery(awaiting());
   const waiting = queue.data?.total;
   return (
     <div className="space-y-5">
-      <PageHeader title="Quality" subtitle="Defect rates of the slabs cast recently." />
+      <PageHeader title={t("quality.title")} subtitle={t("quality.subtitle")} />
       <div className="grid gap-3 md:grid-cols-2">
         <Link to="/quality/review" className={`${tile} border-strand-700 bg-white`} data-testid="quality-review-link">
-          <span className="text-lg font-bold text-ink-900">Review queue</span>
+          <span className="text-lg font-bold text-ink-900">{t("quality.review")}</span>
           <span className="text-sm text-ink-700">
             {waiting === undefined
-              ? "New entries from the yard, oldest first."
+              ? t("quality.reviewIntro")
               : waiting
-                ? `${plural(waiting, "entry", "entries")} from the yard ${waiting === 1 ? "awaits" : "await"} review.`
-                : "Nothing awaits review."}
+                ? t("quality.awaiting", { count: waiting, n: count(waiting) })
+                : t("quality.nothingAwaits")}
           </span>
         </Link>
         <Link to="/reports" className={`${tile} border-ink-300 bg-white`} data-testid="quality-reports-link">
-          <span className="text-lg font-bold text-ink-900">Reports</span>
-          <span className="text-sm text-ink-700">Defect rates with their intervals, associations with casting conditions, p-charts, exports to Excel.</span>
+          <span className="text-lg font-bold text-ink-900">{t("quality.reports")}</span>
+          <span className="text-sm text-ink-700">{t("quality.reportsIntro")}</span>
         </Link>
         {me.data && can(me.data.roles, "catalogue.manage") ? (
           <Link to="/quality/catalogue" className={`${tile} border-ink-300 bg-white`}>
-            <span className="text-lg font-bold text-ink-900">Defect catalogue</span>
-            <span className="text-sm text-ink-700">Add, rename, recategorise or retire the defect types and their categories.</span>
+            <span className="text-lg font-bold text-ink-900">{t("quality.catalogue")}</span>
+            <span className="text-sm text-ink-700">{t("quality.catalogueIntro")}</span>
           </Link>
         ) : null}
       </div>

@@ -1,5 +1,7 @@
 import { useState } from "react";
 import { useQuery } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
@@ -19,36 +21,35 @@ import { RouteError } from "./route-error";
 
 const KIND = "cause-pareto" as const;
 
-const CONFIDENCE_OPTIONS = [
-  { value: "suspected", label: "Every tagging" },
-  { value: "probable", label: "Probable or surer" },
-  { value: "confirmed", label: "Confirmed only" },
+const confidenceOptions = (t: TFunction) => [
+  { value: "suspected", label: t("reports:causePareto.everyTagging") },
+  { value: "probable", label: t("reports:causePareto.probableOrSurer") },
+  { value: "confirmed", label: t("reports:causePareto.confirmedOnly") },
 ];
 
 /** The report's filters as a bulk selection: the same question, so the same defects. */
 const filtersOf = (p: ReportParams) => Object.fromEntries(FILTER_KEYS.filter((k) => p[k]).map((k) => [k, p[k]!]));
 
 function TagThisFilter({ params }: { params: ReportParams }) {
+  const { t } = useTranslation("reports");
   const [open, setOpen] = useState(false);
   const filters = filtersOf(params);
   const described = describeFilters(params);
   return (
-    <Card title="Tag the defects of this filter">
+    <Card title={t("causePareto.tagTitle")}>
       {open ? (
         <BulkTagPanel
           selection={{ kind: "filter", filters }}
-          describe={`the filter “${described}”`}
+          describe={t("causePareto.theFilter", { filter: described })}
           affects={[reportKeys.all, slabKeys.all, heatKeys.all, defectKeys.all]}
           onClose={() => setOpen(false)}
         />
       ) : (
         <div className="flex flex-wrap items-center gap-3">
           <Button variant="secondary" onClick={() => setOpen(true)} data-testid="bulk-tag-filter">
-            Tag the defects of this filter
+            {t("causePareto.tagTitle")}
           </Button>
-          <p className="text-sm text-ink-600">
-            Every live defect passing the filters above ({described}) gets the same causes. You see the count before anything is written.
-          </p>
+          <p className="text-sm text-ink-600">{t("causePareto.tagExplain", { filter: described })}</p>
         </div>
       )}
     </Card>
@@ -56,6 +57,7 @@ function TagThisFilter({ params }: { params: ReportParams }) {
 }
 
 export function Component() {
+  const { t } = useTranslation("reports");
   const { params, query, update, choices, report } = useReportScreen(KIND);
   const me = useQuery(authKeys.me());
   // The taxonomy is the filter bar's too: keep it fresh after a tag is added elsewhere.
@@ -68,14 +70,21 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`Cause Pareto${minConfidence === "suspected" ? "" : ` (${minConfidence} or surer)`} — ${describeFilters(params)}`}
+      suggestedName={
+        minConfidence === "suspected"
+          ? t("causePareto.suggestedName", { filters: describeFilters(params) })
+          : t("causePareto.suggestedNameSurer", {
+              level: t(`describe.confidence.${minConfidence}`, { defaultValue: minConfidence }),
+              filters: describeFilters(params),
+            })
+      }
       canExport={report.isSuccess}
       settings={
         <SettingsRow>
           <Choice
-            label="Count taggings"
+            label={t("causePareto.countTaggings")}
             value={minConfidence}
-            options={CONFIDENCE_OPTIONS}
+            options={confidenceOptions(t)}
             onChange={(v) => update({ minConfidence: v })}
             testId="min-confidence"
           />

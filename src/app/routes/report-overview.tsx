@@ -1,3 +1,4 @@
+import { useTranslation } from "react-i18next";
 import { OverviewView } from "@/features/reports/components/overview-view";
 import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
@@ -8,6 +9,7 @@ import { RouteError } from "./route-error";
 const KIND = "overview" as const;
 
 export function Component() {
+  const { t } = useTranslation("reports");
   const { params, query, update, choices, report } = useReportScreen(KIND);
   return (
     <ReportPage
@@ -16,11 +18,14 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`Overview by ${params.period} — ${describeFilters(params)}`}
+      suggestedName={t("overview.suggestedName", {
+        period: t(`overview.periodName.${params.period}`, { defaultValue: params.period }),
+        filters: describeFilters(params),
+      })}
       canExport={report.isSuccess}
       settings={
         <SettingsRow>
-          <PeriodChoice label="Rates by" value={params.period!} months={true} onChange={(v) => update({ period: v })} />
+          <PeriodChoice label={t("overview.ratesBy")} value={params.period!} months={true} onChange={(v) => update({ period: v })} />
           <div className="col-span-2">
             <StandardiseChoice value={params.standardise} onChange={(v) => update({ standardise: v })} />
           </div>

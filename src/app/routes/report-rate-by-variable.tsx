@@ -1,16 +1,20 @@
-import { CATEGORICAL_KEYS, CATEGORICAL_LABELS } from "@shared/variables";
+import { useTranslation } from "react-i18next";
+import { CATEGORICAL_KEYS } from "@shared/variables";
+import { useTerms } from "@/i18n/terms";
 import { SeChoice } from "@/features/reports/components/estimates";
 import { RateByVariableView } from "@/features/reports/components/rate-by-variable-view";
 import { describeFilters, joinList, listOf } from "@/features/reports/components/report-params";
 import { TermPick } from "@/features/reports/components/term-pick";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
-import { Choice, MIN_N_OPTIONS, numberOptions, SettingsRow, VariableSelect, variableOf } from "@/features/reports/components/settings";
+import { Choice, minNOptions, numberOptions, SettingsRow, VariableSelect, variableOf } from "@/features/reports/components/settings";
 import { useReportScreen } from "../report-frame";
 import { RouteError } from "./route-error";
 
 const KIND = "rate-by-variable" as const;
 
 export function Component() {
+  const { t } = useTranslation("reports");
+  const { variable: termWords } = useTerms();
   const { params, query, update, choices, report } = useReportScreen(KIND);
   const variable = variableOf(params.variable);
   const adjustFor = listOf(params.adjustFor).filter((k) => k !== "none");
@@ -21,13 +25,13 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`${variable?.label ?? params.variable} — ${describeFilters(params)}`}
+      suggestedName={t("rbv.suggestedName", { variable: variable ? termWords(variable.key) : params.variable, filters: describeFilters(params) })}
       canExport={report.isSuccess}
       settings={
         <SettingsRow>
           <div className="col-span-2">
             <VariableSelect
-              label="Variable"
+              label={t("rbv.variable")}
               value={params.variable!}
               // A condition cannot be adjusted for itself: it leaves the adjustment when chosen here.
               onChange={(v) => update({ variable: v, adjustFor: adjustFor.includes(v) ? joinList(adjustFor.filter((k) => k !== v)) : params.adjustFor })}
@@ -35,47 +39,47 @@ export function Component() {
             />
           </div>
           <Choice
-            label="Bins"
+            label={t("rbv.bins")}
             testId="bins-select"
             value={params.bins!}
             options={numberOptions([4, 5, 6, 8, 10, 12, 15, 20])}
             onChange={(v) => update({ bins: v })}
           />
           <Choice
-            label="Binning"
+            label={t("rbv.binning")}
             value={params.binning!}
             options={[
-              { value: "equal", label: "Equal width" },
-              { value: "quantile", label: "Equal counts (quantiles)" },
+              { value: "equal", label: t("rbv.equalWidth") },
+              { value: "quantile", label: t("rbv.equalCounts") },
             ]}
             onChange={(v) => update({ binning: v })}
           />
           <Choice
-            label="Least slabs in a bin"
+            label={t("rbv.leastSlabs")}
             value={params.minN!}
-            options={MIN_N_OPTIONS}
+            options={minNOptions(t)}
             onChange={(v) => update({ minN: v })}
-            hint="smaller bins are merged with a neighbour"
+            hint={t("rbv.leastSlabsHint")}
           />
           <div className="col-span-2">
             <TermPick
-              label="Adjust for"
+              label={t("rbv.adjustFor")}
               testId="adjust-pick"
               value={adjustFor}
-              emptyLabel="Nothing (crude only)"
-              taken={params.variable ? { [params.variable]: "the variable itself" } : {}}
-              hint="Adds the odds ratio adjusted for these terms beside the crude one. Grade family first: the grade mix confounds almost everything."
+              emptyLabel={t("rbv.nothingCrude")}
+              taken={params.variable ? { [params.variable]: t("rbv.theVariable") } : {}}
+              hint={t("rbv.adjustHint")}
               // The standard errors go with the adjusted and split answers: without either, nothing to choose.
               onChange={(keys) => update({ adjustFor: joinList(keys), se: keys.length || params.stratifyBy ? params.se : undefined })}
             />
           </div>
           <Choice
-            label="Split by"
+            label={t("rbv.splitBy")}
             testId="split-select"
             value={params.stratifyBy ?? ""}
-            options={[{ value: "", label: "Not split" }, ...CATEGORICAL_KEYS.map((k) => ({ value: k, label: CATEGORICAL_LABELS[k] }))]}
+            options={[{ value: "", label: t("rbv.notSplit") }, ...CATEGORICAL_KEYS.map((k) => ({ value: k, label: termWords(k) }))]}
             onChange={(v) => update({ stratifyBy: v || undefined, se: v || adjustFor.length ? params.se : undefined })}
-            hint="one curve and one odds ratio per group"
+            hint={t("rbv.splitHint")}
           />
           {adjustFor.length || params.stratifyBy ? <SeChoice value={params.se ?? "cluster"} onChange={(v) => update({ se: v })} /> : null}
         </SettingsRow>

@@ -1,3 +1,4 @@
+import { useTranslation } from "react-i18next";
 import { termConflict } from "@shared/api/reports";
 import { describeFilters, FILTER_KEYS, listOf, reportPath, reportQueryString, readReportParams } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
@@ -8,6 +9,7 @@ import { RouteError } from "./route-error";
 const KIND = "screening" as const;
 
 export function Component() {
+  const { t } = useTranslation("reports");
   const { params, query, update, choices, report } = useReportScreen(KIND);
   // A numeric variable opens in rate-against-a-variable with the same filters, adjusted for the same
   // terms when one model can hold them with it (not a derived value beside its raw input).
@@ -25,7 +27,7 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`Screening — ${describeFilters(params)}`}
+      suggestedName={t("screening.suggestedName", { filters: describeFilters(params) })}
       canExport={report.isSuccess}
       settings={<ScreeningSettings params={params} onChange={update} />}
     >

@@ -1,3 +1,4 @@
+import { useTranslation } from "react-i18next";
 import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
 import { Choice, numberOptions, SettingsRow } from "@/features/reports/components/settings";
@@ -8,6 +9,7 @@ import { RouteError } from "./route-error";
 const KIND = "slab-positions" as const;
 
 export function Component() {
+  const { t } = useTranslation("reports");
   const { params, query, update, choices, report } = useReportScreen(KIND);
   return (
     <ReportPage
@@ -16,12 +18,17 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`Where on the slab — ${describeFilters(params)}`}
+      suggestedName={t("positions.suggestedName", { filters: describeFilters(params) })}
       canExport={report.isSuccess}
       settings={
         <SettingsRow>
-          <Choice label="Bands along the length" value={params.alongBins!} options={numberOptions([5, 10, 20])} onChange={(v) => update({ alongBins: v })} />
-          <Choice label="Bands across the face" value={params.acrossBins!} options={numberOptions([3, 4, 5, 10])} onChange={(v) => update({ acrossBins: v })} />
+          <Choice label={t("positions.alongBins")} value={params.alongBins!} options={numberOptions([5, 10, 20])} onChange={(v) => update({ alongBins: v })} />
+          <Choice
+            label={t("positions.acrossBins")}
+            value={params.acrossBins!}
+            options={numberOptions([3, 4, 5, 10])}
+            onChange={(v) => update({ acrossBins: v })}
+          />
         </SettingsRow>
       }
     >

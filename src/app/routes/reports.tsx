@@ -1,5 +1,6 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
@@ -29,6 +30,7 @@ export function makeLoader(qc: QueryClient) {
 }
 
 function SavedRow({ r }: { r: SavedReport }) {
+  const { t } = useTranslation("reports");
   const del = useDeleteSavedReport();
   const [confirm, setConfirm] = useState(false);
   const kind = isReportKind(r.reportKind) ? r.reportKind : null;
@@ -54,15 +56,15 @@ function SavedRow({ r }: { r: SavedReport }) {
         {confirm ? (
           <span className="inline-flex flex-wrap justify-end gap-2">
             <Button variant="danger" disabled={del.isPending} onClick={() => del.mutate(r.id)}>
-              {del.isPending ? "Deleting…" : "Delete"}
+              {del.isPending ? t("home.deleting") : t("home.delete")}
             </Button>
             <Button variant="ghost" onClick={() => setConfirm(false)}>
-              Keep
+              {t("home.keep")}
             </Button>
           </span>
         ) : (
-          <Button variant="ghost" onClick={() => setConfirm(true)} aria-label={`Delete the saved report ${r.name}`}>
-            Delete…
+          <Button variant="ghost" onClick={() => setConfirm(true)} aria-label={t("home.deleteLabel", { name: r.name })}>
+            {t("home.deleteAsk")}
           </Button>
         )}
         {del.isError ? <Notice tone="error">{del.error.message}</Notice> : null}
@@ -72,13 +74,11 @@ function SavedRow({ r }: { r: SavedReport }) {
 }
 
 export function Component() {
+  const { t } = useTranslation("reports");
   const saved = useQuery(savedReportKeys.list());
   return (
     <div className="space-y-5">
-      <PageHeader
-        title="Reports"
-        subtitle="Defect rates and their association with casting conditions. The slab is the unit: a slab is affected when at least one of its defects passes the filters."
-      />
+      <PageHeader title={t("home.title")} subtitle={t("home.subtitle")} />
       <ReportCautions open />
       <div className="grid gap-3 md:grid-cols-2 xl:grid-cols-3" data-testid="report-list">
         {REPORTS.map((r) => (
@@ -92,24 +92,24 @@ export function Component() {
           </Link>
         ))}
       </div>
-      <Card title="Your saved reports">
+      <Card title={t("home.saved")}>
         {saved.isPending ? (
-          <Spinner label="Loading your saved reports" />
+          <Spinner label={t("home.loading")} />
         ) : saved.isError ? (
           <Notice tone="error">{saved.error.message}</Notice>
         ) : saved.data.reports.length === 0 ? (
           <p className="text-sm text-ink-600" data-testid="no-saved-reports">
-            None yet. Open a report, set its filters, and choose “Save this report”: it comes back here with the same filters.
+            {t("home.none")}
           </p>
         ) : (
           <div className="overflow-x-auto">
             <table className="w-full text-sm" data-testid="saved-reports">
               <thead>
                 <tr className="border-b-2 border-ink-200 text-left text-xs font-semibold text-ink-700">
-                  <th className="px-2 py-2">Name</th>
-                  <th className="px-2 py-2">Report</th>
-                  <th className="px-2 py-2">Filters</th>
-                  <th className="px-2 py-2">Saved</th>
+                  <th className="px-2 py-2">{t("home.name")}</th>
+                  <th className="px-2 py-2">{t("home.report")}</th>
+                  <th className="px-2 py-2">{t("home.filters")}</th>
+                  <th className="px-2 py-2">{t("home.savedAt")}</th>
                   <th className="px-2 py-2" />
                 </tr>
               </thead>

@@ -1,8 +1,9 @@
 import { lazy, Suspense } from "react";
+import { useTranslation } from "react-i18next";
 import type { CausePareto } from "@shared/api/causes";
 import { Card } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
-import { pct, plural } from "@/lib/format";
+import { count, pct } from "@/lib/format";
 import { Figure } from "./figure";
 import { FewMark, SmallNWarning } from "./small-n";
 import { TableWrap, td, tdNum, th, thNum } from "./tables";
@@ -12,55 +13,63 @@ const CauseParetoChart = lazy(() => import("./charts/cause-pareto-chart"));
 /** Below this many tagged defects a cause's share says little: its row is marked. */
 export const FEW_DEFECTS = 10;
 
-const n = (v: number) => v.toLocaleString("en-GB");
+const n = count;
 
 export function CauseParetoView({ data, minConfidence, groupName }: { data: CausePareto; minConfidence: string; groupName: (code: string) => string }) {
+  const { t } = useTranslation("reports");
+  // Looked up once per table, not per row.
+  const retired = t("causePareto.retired");
+  const fewDefects = t("causePareto.fewDefects");
   const few = data.rows.filter((r) => r.defects < FEW_DEFECTS).length;
   // The server's notes speak of few tagged defects and of the untagged share; the screen adds its own marks only.
   const warnings = [
-    data.defects === 0 ? "No defect passes these filters." : "",
-    data.defects > 0 && data.tagged === 0 ? "None of the defects passing the filters carries a cause at this confidence." : "",
-    few ? `${plural(few, "cause")} with fewer than ${FEW_DEFECTS} defects (marked).` : "",
+    data.defects === 0 ? t("overview.noDefect") : "",
+    data.defects > 0 && data.tagged === 0 ? t("causePareto.noneTagged") : "",
+    few ? t("causePareto.few", { count: few, n: count(few), min: FEW_DEFECTS }) : "",
     ...data.notes,
   ];
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="cause-pareto-summary">
-        <Figure label="Defects (n)" value={<span data-testid="cp-defects">{n(data.defects)}</span>} note="live, unrejected, passing the filters" />
+        <Figure label={t("causePareto.defectsN")} value={<span data-testid="cp-defects">{n(data.defects)}</span>} note={t("causePareto.live")} />
         <Figure
-          label="With a cause"
+          label={t("causePareto.withCause")}
           value={<span data-testid="cp-tagged">{n(data.tagged)}</span>}
-          note={`${minConfidence === "suspected" ? "any confidence" : `${minConfidence} or surer`}`}
+          note={
+            minConfidence === "suspected"
+              ? t("causePareto.anyConfidence")
+              : t("causePareto.orSurer", { level: t(`describe.confidence.${minConfidence}`, { defaultValue: minConfidence }) })
+          }
         />
         <Figure
-          label="No cause yet"
+          label={t("causePareto.noCauseYet")}
           value={<span data-testid="cp-untagged">{n(data.untagged)}</span>}
-          note={data.defects ? `${pct(data.untagged / data.defects, 1)} of n` : "—"}
+          note={data.defects ? t("causePareto.ofN", { share: pct(data.untagged / data.defects, 1) }) : "—"}
         />
-        <Figure label="Cause tags found" value={n(data.rows.length)} note="a defect with two causes counts under both" />
+        <Figure label={t("causePareto.tagsFound")} value={n(data.rows.length)} note={t("causePareto.twoCauses")} />
       </div>
-      <SmallNWarning notes={[...new Set(warnings)]} title="Read with care" />
-      <Card title={`Pareto of cause tags (${plural(data.tagged, "tagged defect")})`}>
+      <SmallNWarning notes={[...new Set(warnings)]} title={t("causePareto.readWithCare")} />
+      <Card title={t("causePareto.title", { count: data.tagged, n: count(data.tagged) })}>
         {data.rows.length === 0 ? (
-          <p className="text-sm text-ink-600">No tagged defect passes these filters.</p>
+          <p className="text-sm text-ink-600">{t("causePareto.noTagged")}</p>
         ) : (
           <>
-            <Suspense fallback={<Spinner label="Loading the chart" />}>
+            <Suspense fallback={<Spinner label={t("charts.loading")} />}>
               <CauseParetoChart rows={data.rows} />
             </Suspense>
-            <TableWrap caption="Share and cumulative are of all taggings counted: a defect with two causes counts once under each, so the shares add up to 100 %. Slabs counts the slabs those defects sit on.">
+            <TableWrap caption={t("causePareto.caption")}>
               <table className="mt-3 w-full text-sm" data-testid="cause-pareto-table">
                 <thead>
                   <tr className="border-b-2 border-ink-200">
-                    <th className={th}>Cause tag</th>
-                    <th className={th}>Group</th>
-                    <th className={thNum}>Defects (n)</th>
-                    <th className={thNum}>Slabs</th>
-                    <th className={thNum}>Confirmed</th>
-                    <th className={thNum}>Probable</th>
-                    <th className={thNum}>Suspected</th>
-                    <th className={thNum}>Share</th>
-                    <th className={thNum}>Cumulative</th>
+                    <th className={th}>{t("filters.cause")}</th>
+                    <th className={th}>{t("causePareto.group")}</th>
+                    <th className={thNum}>{t("causePareto.defectsN")}</th>
+                    <th className={thNum}>{t("rbv.slabs")}</th>
+                    <th className={thNum}>{t("causePareto.confirmed")}</th>
+                    <th className={thNum}>{t("causePareto.probable")}</th>
+                    <th className={thNum}>{t("causePareto.suspected")}</th>
+                    <th className={thNum}>{t("overview.share")}</th>
+                    <th className={thNum}>{t("overview.cumulative")}</th>
                   </tr>
                 </thead>
                 <tbody>
@@ -73,8 +82,8 @@ export function CauseParetoView({ data, minConfidence, groupName }: { data: Caus
                         <span className="ml-1 text-xs text-ink-500" data-field="code">
                           {r.code}
                         </span>
-                        {r.retired ? <span className="ml-1 text-xs text-ink-600">(retired)</span> : null}
-                        {r.defects < FEW_DEFECTS ? <FewMark label="few defects" /> : null}
+                        {r.retired ? <span className="ml-1 text-xs text-ink-600">{retired}</span> : null}
+                        {r.defects < FEW_DEFECTS ? <FewMark label={fewDefects} /> : null}
                       </td>
                       <td className={td}>{groupName(r.group)}</td>
                       <td className={tdNum} data-field="defects">
@@ -104,13 +113,13 @@ export function CauseParetoView({ data, minConfidence, groupName }: { data: Caus
                 <tfoot>
                   <tr className="border-t-2 border-ink-200" data-testid="cause-pareto-untagged">
                     <td className={`${td} italic`} colSpan={2}>
-                      No cause at this confidence
+                      {t("causePareto.noCauseHere")}
                     </td>
                     <td className={tdNum} data-field="untagged">
                       {n(data.untagged)}
                     </td>
                     <td colSpan={6} className={`${td} text-xs text-ink-600`}>
-                      not in the shares
+                      {t("causePareto.notInShares")}
                     </td>
                   </tr>
                 </tfoot>
@@ -119,10 +128,7 @@ export function CauseParetoView({ data, minConfidence, groupName }: { data: Caus
           </>
         )}
       </Card>
-      <p className="text-xs text-ink-600">
-        A tag counts where a person put it; a tagging is a judgement, not a measurement. “Confirmed” means the tagger saw evidence — still not proof that the
-        tag's condition caused the defect.
-      </p>
+      <p className="text-xs text-ink-600">{t("causePareto.judgement")}</p>
     </div>
   );
 }

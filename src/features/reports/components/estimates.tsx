@@ -1,5 +1,7 @@
 import type { ReactNode } from "react";
-import { sig } from "@/lib/format";
+import { useTranslation } from "react-i18next";
+import { i18n } from "@/i18n";
+import { num, sig } from "@/lib/format";
 import { Choice } from "./settings";
 
 /*
@@ -14,38 +16,44 @@ export const ratioRange = (lo: number | null | undefined, hi: number | null | un
 
 export type SeMethod = "cluster" | "model";
 
+/** The words of one kind, read in the language shown when asked for (a screen reading them redraws on a change). */
+const seWords = (method: SeMethod) => ({
+  get short() {
+    return i18n.t(`reports:se.${method}.short`);
+  },
+  get long() {
+    return i18n.t(`reports:se.${method}.long`);
+  },
+});
+
 /** The two kinds of standard errors, in words a quality engineer reads once and remembers. */
-export const SE_WORDS: Record<SeMethod, { short: string; long: string }> = {
-  cluster: {
-    short: "Heat-clustered",
-    long: "the slabs of one heat share its conditions, so they count as one cluster (cluster-robust standard errors), not as independent evidence. Honest intervals when whole heats differ; wider than the model-based ones.",
-  },
-  model: {
-    short: "Model-based",
-    long: "every slab taken as independent (the inverse of the model's information). Narrower intervals, too narrow when the slabs of a heat move together, as heat-level conditions make them.",
-  },
+export const SE_WORDS: Record<SeMethod, { readonly short: string; readonly long: string }> = {
+  cluster: seWords("cluster"),
+  model: seWords("model"),
 };
 
 /** Heat-clustered (default) or model-based standard errors, with what each means under the choice. */
 export function SeChoice({ value, onChange, testId = "se-select" }: { value: string; onChange: (v: string) => void; testId?: string }) {
+  const { t } = useTranslation("reports");
   const v: SeMethod = value === "model" ? "model" : "cluster";
   return (
     <Choice
-      label="Standard errors"
+      label={t("se.label")}
       testId={testId}
       value={v}
       options={[
-        { value: "cluster", label: "Heat-clustered" },
-        { value: "model", label: "Model-based" },
+        { value: "cluster", label: t("se.cluster.short") },
+        { value: "model", label: t("se.model.short") },
       ]}
       onChange={onChange}
-      hint={v === "cluster" ? "the default: slabs of a heat count as one cluster" : "every slab taken as independent: narrower, often too narrow"}
+      hint={v === "cluster" ? t("se.cluster.hint") : t("se.model.hint")}
     />
   );
 }
 
 /** The plain sentence when crude and adjusted disagree by more than a tenth (a shape and a word, not colour). */
 export function ChangeSentence({ children, testId = "change-sentence" }: { children: ReactNode; testId?: string }) {
+  const { t } = useTranslation("reports");
   return (
     <p className="flex gap-2 rounded-md border-l-4 border-strand-600 bg-strand-50 px-3 py-2 text-sm font-semibold text-ink-900" data-testid={testId}>
       <svg viewBox="0 0 16 16" className="mt-0.5 h-4 w-4 shrink-0 text-strand-700" aria-hidden>
@@ -53,7 +61,7 @@ export function ChangeSentence({ children, testId = "change-sentence" }: { child
         <path d="M2 5h9m-3-3 3 3-3 3M14 11H5m3-3-3 3 3 3" fill="none" stroke="currentColor" strokeWidth="1.7" strokeLinecap="round" strokeLinejoin="round" />
       </svg>
       <span>
-        <span className="sr-only">Crude and adjusted differ: </span>
+        <span className="sr-only">{t("estimates.differ")} </span>
         {children}
       </span>
     </p>
@@ -61,9 +69,9 @@ export function ChangeSentence({ children, testId = "change-sentence" }: { child
 }
 
 const COLLINEARITY_LOOK = {
-  low: { label: "low", cls: "text-ink-600", shape: "ring" },
-  notable: { label: "notable", cls: "text-brass-700", shape: "triangle" },
-  serious: { label: "serious", cls: "text-alarm-700", shape: "octagon" },
+  low: { cls: "text-ink-600", shape: "ring" },
+  notable: { cls: "text-brass-700", shape: "triangle" },
+  serious: { cls: "text-alarm-700", shape: "octagon" },
 } as const;
 
 /** How collinear a term is with the others (GVIF against √5 and √10): a word and a shape. */
@@ -77,7 +85,8 @@ export function CollinearityMark({ level }: { level: "low" | "notable" | "seriou
         {look.shape === "triangle" ? <path d="M6 1.2 11 10.6H1z" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinejoin="round" /> : null}
         {look.shape === "octagon" ? <path d="M3.8.8h4.4l3 3v4.4l-3 3H3.8l-3-3V3.8z" fill="currentColor" /> : null}
       </svg>
-      {look.label}
+      {/* No hook per row: the table around it redraws when the language changes. */}
+      {i18n.t(`reports:estimates.collinearity.${level}`)}
     </span>
   );
 }
@@ -90,4 +99,4 @@ export function relChange(v: number | null | undefined): string {
 }
 
 /** A difference of two rates in percentage points, with a true minus sign. */
-export const points = (v: number | null, signed = false) => (v === null ? "—" : `${v > 0 && signed ? "+" : v < 0 ? "−" : ""}${Math.abs(v * 100).toFixed(2)}`);
+export const points = (v: number | null, signed = false) => (v === null ? "—" : `${v > 0 && signed ? "+" : v < 0 ? "−" : ""}${num(Math.abs(v * 100), 2)}`);

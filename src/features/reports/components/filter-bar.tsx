@@ -1,6 +1,8 @@
-import { SEVERITIES, SEVERITY_LABELS, STAGES, STAGE_LABELS, type Severity, type Stage } from "@shared/domain";
+import { Trans, useTranslation } from "react-i18next";
+import { SEVERITIES, STAGES } from "@shared/domain";
 import { Button } from "@/components/ui/button";
 import { AfterFirstView } from "@/components/ui/first-view";
+import { useTerms } from "@/i18n/terms";
 import { MultiPick } from "./multi-pick";
 import { anyFilter, FILTER_KEYS, joinList, listOf, type ReportParams } from "./report-params";
 
@@ -31,11 +33,14 @@ const dateFieldPlace = <span className={`block ${inputClass}`} />;
  * shared link, a saved report and the Excel export all carry the same filters.
  */
 export function FilterBar({ params, choices, onChange }: { params: ReportParams; choices: FilterChoices; onChange: (patch: Patch) => void }) {
+  const { t } = useTranslation("reports");
+  const { term } = useTerms();
+  const retired = t("filters.retired");
   const where = params.caster ? (params.strand ? `${params.caster}:${params.strand}` : params.caster) : params.strand ? `*:${params.strand}` : "";
   return (
-    <form role="search" aria-label="Report filters" className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-8" onSubmit={(e) => e.preventDefault()}>
+    <form role="search" aria-label={t("filters.label")} className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-8" onSubmit={(e) => e.preventDefault()}>
       <label className={labelClass}>
-        <span className={labelText}>Cast from</span>
+        <span className={labelText}>{t("filters.from")}</span>
         <AfterFirstView placeholder={dateFieldPlace}>
           <input
             type="date"
@@ -47,13 +52,13 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
         </AfterFirstView>
       </label>
       <label className={labelClass}>
-        <span className={labelText}>Cast to (whole day)</span>
+        <span className={labelText}>{t("filters.to")}</span>
         <AfterFirstView placeholder={dateFieldPlace}>
           <input type="date" value={params.to ?? ""} min={params.from} onChange={(e) => onChange({ to: e.target.value || undefined })} className={inputClass} />
         </AfterFirstView>
       </label>
       <label className={labelClass}>
-        <span className={labelText}>Caster and strand</span>
+        <span className={labelText}>{t("filters.where")}</span>
         <select
           value={where}
           className={inputClass}
@@ -62,14 +67,14 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
             onChange({ caster: caster && caster !== "*" ? caster : undefined, strand: strand || undefined });
           }}
         >
-          <option value="">Every strand</option>
-          {where.startsWith("*:") ? <option value={where}>Strand {params.strand} of every caster</option> : null}
+          <option value="">{t("filters.everyStrand")}</option>
+          {where.startsWith("*:") ? <option value={where}>{t("filters.strandOfEveryCaster", { strand: params.strand })}</option> : null}
           {choices.casters.map((c) => (
             <optgroup key={c.code} label={c.code}>
-              <option value={c.code}>{c.code}, every strand</option>
+              <option value={c.code}>{t("filters.casterEveryStrand", { caster: c.code })}</option>
               {c.strands.map((s) => (
                 <option key={s} value={`${c.code}:${s}`}>
-                  {c.code} strand {s}
+                  {t("filters.casterStrand", { caster: c.code, strand: s })}
                 </option>
               ))}
             </optgroup>
@@ -78,14 +83,14 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
       </label>
       <div className="col-span-1">
         <MultiPick
-          label="Grade or family"
-          allLabel="All grades"
+          label={t("filters.grade")}
+          allLabel={t("filters.allGrades")}
           groupNoun="family"
           testId="filter-grade"
           groups={choices.families.map((f) => ({
             code: f.code,
             label: f.name,
-            items: f.grades.map((g) => ({ code: g.code, label: g.name, note: g.active ? undefined : "retired" })),
+            items: f.grades.map((g) => ({ code: g.code, label: g.name, note: g.active ? undefined : retired })),
           }))}
           value={{ groups: listOf(params.family), items: listOf(params.grade) }}
           onChange={(v) => onChange({ family: joinList(v.groups), grade: joinList(v.items) })}
@@ -93,80 +98,79 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
       </div>
       <div className="col-span-1">
         <MultiPick
-          label="Defect type"
-          allLabel="Every defect type"
+          label={t("filters.defectType")}
+          allLabel={t("filters.everyDefectType")}
           groupNoun="category"
           testId="filter-defect-type"
           groups={choices.categories.map((c) => ({
             code: c.code,
             label: c.name,
-            items: c.types.map((t) => ({ code: t.code, label: t.name, note: t.active ? undefined : "retired" })),
+            items: c.types.map((dt) => ({ code: dt.code, label: dt.name, note: dt.active ? undefined : retired })),
           }))}
           value={{ groups: listOf(params.category), items: listOf(params.defectType) }}
           onChange={(v) => onChange({ category: joinList(v.groups), defectType: joinList(v.items) })}
         />
       </div>
       <label className={labelClass}>
-        <span className={labelText}>Found at</span>
+        <span className={labelText}>{t("filters.stage")}</span>
         <select value={params.stage ?? ""} onChange={(e) => onChange({ stage: e.target.value || undefined })} className={inputClass}>
-          <option value="">Any stage</option>
+          <option value="">{t("filters.anyStage")}</option>
           {STAGES.map((s) => (
             <option key={s} value={s}>
-              {STAGE_LABELS[s as Stage]}
+              {term("stages", s)}
             </option>
           ))}
         </select>
       </label>
       <label className={labelClass}>
-        <span className={labelText}>Severity at least</span>
+        <span className={labelText}>{t("filters.severity")}</span>
         <select value={params.minSeverity ?? ""} onChange={(e) => onChange({ minSeverity: e.target.value || undefined })} className={inputClass}>
-          <option value="">Any severity</option>
+          <option value="">{t("filters.anySeverity")}</option>
           {SEVERITIES.map((s) => (
             <option key={s} value={String(s)}>
-              {s} — {SEVERITY_LABELS[s as Severity]}
+              {s} — {term("severities", s)}
             </option>
           ))}
         </select>
       </label>
       <label className={labelClass}>
-        <span className={labelText}>Transition slabs</span>
+        <span className={labelText}>{t("filters.transition")}</span>
         <select value={params.transition ?? ""} onChange={(e) => onChange({ transition: e.target.value || undefined })} className={inputClass}>
-          <option value="">Included</option>
-          <option value="yes">Only transition slabs</option>
-          <option value="no">Left out</option>
+          <option value="">{t("filters.transitionIncluded")}</option>
+          <option value="yes">{t("filters.transitionOnly")}</option>
+          <option value="no">{t("filters.transitionLeftOut")}</option>
         </select>
       </label>
       <label className={labelClass}>
-        <span className={labelText}>Risk band</span>
+        <span className={labelText}>{t("filters.riskBand")}</span>
         <select
           value={params.riskBand ?? ""}
           onChange={(e) => onChange({ riskBand: e.target.value || undefined })}
           className={inputClass}
           data-testid="filter-risk-band"
         >
-          <option value="">Any, or not scored</option>
-          <option value="high">High</option>
-          <option value="high,raised">High or raised</option>
-          <option value="raised">Raised</option>
-          <option value="usual">Usual</option>
+          <option value="">{t("filters.anyRisk")}</option>
+          <option value="high">{term("riskBands", "high")}</option>
+          <option value="high,raised">{t("filters.highOrRaised")}</option>
+          <option value="raised">{term("riskBands", "raised")}</option>
+          <option value="usual">{term("riskBands", "usual")}</option>
           {params.riskBand && !["high", "high,raised", "raised", "usual"].includes(params.riskBand) ? (
             <option value={params.riskBand}>{params.riskBand}</option>
           ) : null}
         </select>
       </label>
       <label className={`${labelClass} col-span-2`}>
-        <span className={labelText}>Cause tag</span>
+        <span className={labelText}>{t("filters.cause")}</span>
         <select value={params.cause ?? ""} onChange={(e) => onChange({ cause: e.target.value || undefined })} className={inputClass} data-testid="filter-cause">
-          <option value="">Any cause, or none</option>
-          {params.cause && !choices.causeGroups.some((g) => g.tags.some((t) => t.code === params.cause)) ? (
+          <option value="">{t("filters.anyCause")}</option>
+          {params.cause && !choices.causeGroups.some((g) => g.tags.some((tag) => tag.code === params.cause)) ? (
             <option value={params.cause}>{params.cause}</option>
           ) : null}
           {choices.causeGroups.map((g) => (
             <optgroup key={g.code} label={g.name}>
-              {g.tags.map((t) => (
-                <option key={t.code} value={t.code}>
-                  {t.name}
-                  {t.retired ? " (retired)" : ""}
+              {g.tags.map((tag) => (
+                <option key={tag.code} value={tag.code}>
+                  {tag.retired ? t("filters.retiredTag", { name: tag.name }) : tag.name}
                 </option>
               ))}
             </optgroup>
@@ -175,10 +179,7 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
       </label>
       <div className="col-span-2 flex flex-wrap items-center gap-3 md:col-span-4 xl:col-span-6">
         <p className="text-xs text-ink-600">
-          Dates, strand, grade and transition choose the slabs; defect type, stage and severity decide which of their defects count. A slab is <em>affected</em>{" "}
-          when at least one live, unrejected defect passes. A cause tag keeps the defects that carry it (live taggings of any confidence). A risk band keeps the
-          slabs the switched-on risk models have scored (cast up to 90 days before a model was switched on, and every slab since) whose highest band is the one
-          chosen — under the chosen defect type's own model (refused in words when it has none).
+          <Trans t={t} i18nKey="filters.explain" components={{ 1: <em /> }} />
         </p>
         <Button
           variant="ghost"
@@ -186,7 +187,7 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
           disabled={!anyFilter(params)}
           onClick={() => onChange(Object.fromEntries(FILTER_KEYS.map((k) => [k, undefined])))}
         >
-          Clear filters
+          {t("filters.clear")}
         </Button>
       </div>
     </form>

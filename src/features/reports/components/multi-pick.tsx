@@ -1,4 +1,6 @@
 import { useEffect, useId, useRef } from "react";
+import { useTranslation } from "react-i18next";
+import { lowerFirst } from "@/lib/format";
 
 export interface PickGroup {
   code: string;
@@ -36,6 +38,7 @@ export function MultiPick({
   onChange: (next: PickValue) => void;
   testId?: string;
 }) {
+  const { t } = useTranslation("reports");
   const ref = useRef<HTMLDetailsElement>(null);
   const labelId = useId();
   const summaryId = useId();
@@ -47,7 +50,7 @@ export function MultiPick({
     return () => document.removeEventListener("mousedown", close);
   }, []);
 
-  const chosen = [...value.groups.map((g) => `every ${g}`), ...value.items];
+  const chosen = [...value.groups.map((g) => t("multiPick.everyGroup", { code: g })), ...value.items];
   const summary = chosen.length === 0 ? allLabel : chosen.length <= 2 ? chosen.join(", ") : `${chosen.slice(0, 2).join(", ")} +${chosen.length - 2}`;
   const toggleGroup = (code: string, on: boolean) => onChange({ groups: on ? [...value.groups, code] : value.groups.filter((g) => g !== code), items: [] });
   const toggleItem = (code: string, on: boolean) => onChange({ groups: [], items: on ? [...value.items, code] : value.items.filter((i) => i !== code) });
@@ -72,7 +75,7 @@ export function MultiPick({
         </summary>
         <div className="absolute left-0 z-20 mt-1 max-h-96 w-80 max-w-[90vw] overflow-y-auto rounded-md border border-ink-300 bg-white p-2 shadow-lg">
           <p className="px-1 pb-2 text-xs text-ink-600">
-            Choose whole {groupNoun === "family" ? "families" : `${groupNoun === "category" ? "categories" : groupNoun + "s"}`} or single entries — not both.
+            {groupNoun === "family" ? t("multiPick.hintFamilies") : groupNoun === "category" ? t("multiPick.hintCategories") : t("multiPick.hintGroups")}
           </p>
           {chosen.length ? (
             <button
@@ -80,7 +83,7 @@ export function MultiPick({
               className="mb-1 min-h-10 w-full rounded px-2 text-left text-sm font-semibold text-strand-700 hover:bg-strand-50"
               onClick={() => onChange({ groups: [], items: [] })}
             >
-              Clear: {allLabel.toLowerCase()}
+              {t("multiPick.clear", { what: lowerFirst(allLabel) })}
             </button>
           ) : null}
           {groups.map((g) => {
@@ -90,7 +93,7 @@ export function MultiPick({
                 <legend className="sr-only">{g.label}</legend>
                 <label className="flex min-h-10 cursor-pointer items-center gap-2 rounded px-2 text-sm font-semibold hover:bg-ink-50">
                   <input type="checkbox" className="h-4 w-4" checked={groupOn} onChange={(e) => toggleGroup(g.code, e.target.checked)} />
-                  Every {g.code} — {g.label}
+                  {t("multiPick.everyGroupNamed", { code: g.code, name: g.label })}
                 </label>
                 {g.items.map((i) => (
                   <label key={i.code} className="flex min-h-10 cursor-pointer items-center gap-2 rounded pl-7 pr-2 text-sm hover:bg-ink-50">

@@ -1,10 +1,11 @@
 import { lazy, memo, Suspense, useMemo, type ComponentProps } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import type { Overview } from "@shared/api/reports";
 import { AfterFirstView, useHoldForChart, useModuleAfterCommit } from "@/components/ui/first-view";
 import { Card } from "@/components/ui/card";
 import { Figure } from "./figure";
 import { Spinner } from "@/components/ui/logo";
-import { count, num, pct, pctRange, plural } from "@/lib/format";
+import { count, num, pct, pctRange } from "@/lib/format";
 import { FEW_SLABS, FewMark, SmallNWarning } from "./small-n";
 import { RateTable, TableWrap, td, tdNum, th, thNum } from "./tables";
 
@@ -24,8 +25,9 @@ const loadRateChart = () => import("./charts/category-rate-chart").then((m) => (
  */
 function FirstRateChart(props: ComponentProps<typeof CategoryRateChart>) {
   useHoldForChart();
+  const { t } = useTranslation("reports");
   const loaded = useModuleAfterCommit(loadRateChart);
-  return loaded && RateChart ? <RateChart {...props} /> : <Spinner label="Loading the chart" />;
+  return loaded && RateChart ? <RateChart {...props} /> : <Spinner label={t("charts.loading")} />;
 }
 
 /**
@@ -34,47 +36,69 @@ function FirstRateChart(props: ComponentProps<typeof CategoryRateChart>) {
  * them drew every table and chart of the report again before its first chart was up.
  */
 export const OverviewView = memo(function OverviewView({ data }: { data: Overview }) {
-  const t = data.totals;
+  const { t } = useTranslation("reports");
+  const tot = data.totals;
   const word = PERIOD_WORD[data.period];
   const fewPeriods = data.periods.filter((p) => p.slabs < FEW_SLABS).length;
   const fewGrades = data.byGrade.filter((g) => g.slabs < FEW_SLABS).length;
   const warnings = [
     ...data.notes,
-    t.slabs === 0 ? "No slab matches these filters." : "",
-    t.slabs > 0 && t.affected < 10 ? `Only ${plural(t.affected, "affected slab")} in these filters: every rate here has a wide interval.` : "",
-    fewPeriods ? `${plural(fewPeriods, word)} with fewer than ${FEW_SLABS} slabs (shown hollow and greyed).` : "",
-    fewGrades ? `${plural(fewGrades, "grade")} with fewer than ${FEW_SLABS} slabs (greyed).` : "",
+    tot.slabs === 0 ? t("overview.noSlab") : "",
+    tot.slabs > 0 && tot.affected < 10 ? t("overview.fewAffected", { count: tot.affected, n: count(tot.affected) }) : "",
+    fewPeriods ? t(`overview.fewPeriods.${word}`, { count: fewPeriods, n: count(fewPeriods), few: FEW_SLABS }) : "",
+    fewGrades ? t("overview.fewGrades", { count: fewGrades, n: count(fewGrades), few: FEW_SLABS }) : "",
   ];
   const paretoTotal = data.pareto.reduce((s, r) => s + r.defects, 0);
   const std = data.standardisation;
+  const standardisedName = t("overview.standardisedName");
   const second = useMemo(
-    () => (std ? { name: "Standardised to the grade mix", rates: data.periods.map((p) => p.standardised?.rate ?? null) } : undefined),
-    [std, data.periods],
+    () => (std ? { name: standardisedName, rates: data.periods.map((p) => p.standardised?.rate ?? null) } : undefined),
+    [std, data.periods, standardisedName],
   );
+  const strandLabel = (s: { caster: string; strand: number | string }) => t("filters.casterStrand", { caster: s.caster, strand: s.strand });
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="overview-summary">
-        <Figure label="Slabs (n)" value={count(t.slabs)} note={`${num(t.tonnes, 0)} t cast`} />
-        <Figure label="Share affected" value={pct(t.rate)} note={`${count(t.affected)} of n = ${count(t.slabs)} · 95 % CI ${pctRange(t.ciLower, t.ciUpper)}`} />
-        <Figure label="Defects per 100 slabs" value={num(t.per100Slabs, 2)} note={`${count(t.defects)} defects on ${count(t.slabs)} slabs`} />
-        <Figure label="Defects per 1000 t" value={num(t.per1000t, 2)} note={`${count(t.defects)} defects on ${num(t.tonnes, 0)} t`} />
+        <Figure label={t("cols.slabsN")} value={count(tot.slabs)} note={t("overview.tonnesCast", { tonnes: num(tot.tonnes, 0) })} />
+        <Figure
+          label={t("cols.shareAffected")}
+          value={pct(tot.rate)}
+          note={t("overview.affectedOfN", { affected: count(tot.affected), n: count(tot.slabs), ci: pctRange(tot.ciLower, tot.ciUpper) })}
+        />
+        <Figure
+          label={t("overview.per100")}
+          value={num(tot.per100Slabs, 2)}
+          note={t("overview.defectsOnSlabs", { defects: count(tot.defects), slabs: count(tot.slabs) })}
+        />
+        <Figure
+          label={t("overview.per1000t")}
+          value={num(tot.per1000t, 2)}
+          note={t("overview.defectsOnTonnes", { defects: count(tot.defects), tonnes: num(tot.tonnes, 0) })}
+        />
       </div>
       <SmallNWarning notes={warnings} />
-      <Card title={`Share of slabs affected by ${word}`}>
+      <Card title={t(`overview.rateBy.${word}`)}>
         <FirstRateChart
           rows={data.periods.map((p) => ({ ...p, label: p.period }))}
           mode="points"
           fewN={FEW_SLABS}
           testId="period-chart"
-          label={`Share of slabs affected in ${plural(data.periods.length, word)}, with 95 % intervals`}
-          xName={word === "week" ? "ISO week of casting" : `${word[0]!.toUpperCase()}${word.slice(1)} of casting`}
+          label={t(`overview.chartLabel.${word}`, { count: data.periods.length, n: count(data.periods.length) })}
+          xName={t(`overview.xName.${word}`)}
           second={second}
         />
         {std ? (
           <p className="mt-1 text-xs text-ink-700" data-testid="standardisation">
-            <span className="font-semibold">Standardised to the grade mix</span> (dashed line, diamonds): each {word}'s rate as if it had cast {std.reference} —{" "}
-            {std.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${count(m.slabs)})`).join(", ")}. A {word} whose standardised rate differs from its
-            crude one cast a different mix; compare {word}s on the standardised rate. {std.method.charAt(0).toUpperCase() + std.method.slice(1)}.
+            <Trans
+              t={t}
+              i18nKey={`overview.standardisation.${word}`}
+              values={{
+                reference: std.reference,
+                mix: std.referenceMix.map((m) => t("overview.mixPart", { label: m.label, share: pct(m.share, 1), n: count(m.slabs) })).join(", "),
+                method: std.method.charAt(0).toUpperCase() + std.method.slice(1),
+              }}
+              components={{ 1: <span className="font-semibold" /> }}
+            />
           </p>
         ) : null}
         <div className="mt-3 max-h-96 overflow-y-auto">
@@ -82,21 +106,21 @@ export const OverviewView = memo(function OverviewView({ data }: { data: Overvie
             <table className="w-full text-sm" data-testid="periods-table">
               <thead className="sticky top-0 bg-white">
                 <tr className="border-b-2 border-ink-200">
-                  <th className={th}>{word === "week" ? "ISO week" : word === "day" ? "Day" : "Month"}</th>
-                  <th className={thNum}>Slabs (n)</th>
-                  <th className={thNum}>Affected</th>
-                  <th className={thNum}>Share affected</th>
-                  <th className={thNum}>95 % CI</th>
+                  <th className={th}>{t(`settings.periods.${word}`)}</th>
+                  <th className={thNum}>{t("cols.slabsN")}</th>
+                  <th className={thNum}>{t("cols.affected")}</th>
+                  <th className={thNum}>{t("cols.shareAffected")}</th>
+                  <th className={thNum}>{t("cols.ci")}</th>
                   {std ? (
                     <>
-                      <th className={`${thNum} border-l-2 border-ink-200`}>Standardised</th>
-                      <th className={thNum}>95 % CI</th>
+                      <th className={`${thNum} border-l-2 border-ink-200`}>{t("overview.standardised")}</th>
+                      <th className={thNum}>{t("cols.ci")}</th>
                     </>
                   ) : null}
-                  <th className={thNum}>Defects</th>
-                  <th className={thNum}>per 100 slabs</th>
-                  <th className={thNum}>Tonnes</th>
-                  <th className={thNum}>per 1000 t</th>
+                  <th className={thNum}>{t("cols.defects")}</th>
+                  <th className={thNum}>{t("overview.per100Short")}</th>
+                  <th className={thNum}>{t("overview.tonnes")}</th>
+                  <th className={thNum}>{t("overview.per1000tShort")}</th>
                 </tr>
               </thead>
               <tbody>
@@ -150,23 +174,23 @@ export const OverviewView = memo(function OverviewView({ data }: { data: Overvie
       </Card>
       {/* Below the first view: drawn once the figures, the first chart and its table are on screen. */}
       <AfterFirstView>
-        <Card title={`Pareto of defect types (n = ${count(paretoTotal)} defects)`}>
+        <Card title={t("overview.paretoTitle", { n: count(paretoTotal) })}>
           {data.pareto.length === 0 ? (
-            <p className="text-sm text-ink-600">No defect passes these filters.</p>
+            <p className="text-sm text-ink-600">{t("overview.noDefect")}</p>
           ) : (
             <>
-              <Suspense fallback={<Spinner label="Loading the chart" />}>
+              <Suspense fallback={<Spinner label={t("charts.loading")} />}>
                 <ParetoChart pareto={data.pareto} />
               </Suspense>
-              <TableWrap caption="Shares are of the defects that pass the filters; a slab with two defects of a type counts twice under Defects, once under Slabs affected.">
+              <TableWrap caption={t("overview.paretoCaption")}>
                 <table className="mt-3 w-full text-sm" data-testid="pareto-table">
                   <thead>
                     <tr className="border-b-2 border-ink-200">
-                      <th className={th}>Type</th>
-                      <th className={thNum}>Defects</th>
-                      <th className={thNum}>Slabs affected</th>
-                      <th className={thNum}>Share</th>
-                      <th className={thNum}>Cumulative</th>
+                      <th className={th}>{t("overview.type")}</th>
+                      <th className={thNum}>{t("cols.defects")}</th>
+                      <th className={thNum}>{t("overview.slabsAffected")}</th>
+                      <th className={thNum}>{t("overview.share")}</th>
+                      <th className={thNum}>{t("overview.cumulative")}</th>
                     </tr>
                   </thead>
                   <tbody>
@@ -188,36 +212,36 @@ export const OverviewView = memo(function OverviewView({ data }: { data: Overvie
           )}
         </Card>
         <div className="grid gap-5 xl:grid-cols-2">
-          <Card title="Share affected by grade">
-            <Suspense fallback={<Spinner label="Loading the chart" />}>
+          <Card title={t("overview.byGrade")}>
+            <Suspense fallback={<Spinner label={t("charts.loading")} />}>
               <CategoryRateChart
                 rows={data.byGrade.map((g) => ({ ...g, label: g.grade }))}
                 fewN={FEW_SLABS}
                 testId="grade-chart"
-                label="Share of slabs affected by grade, with 95 % intervals"
+                label={t("overview.byGradeChart")}
               />
             </Suspense>
             <RateTable
               rows={data.byGrade.map((g) => ({ ...g, key: g.grade, label: g.grade }))}
-              labelHeader="Grade"
+              labelHeader={t("overview.grade")}
               fewN={FEW_SLABS}
               testId="grade-table"
-              extra={[{ header: "Family", cell: (i) => data.byGrade[i]!.family }]}
+              extra={[{ header: t("overview.family"), cell: (i) => data.byGrade[i]!.family }]}
             />
-            <p className="mt-2 text-xs text-ink-600">Grades differ in chemistry and in how they are cast: a grade's rate mixes both.</p>
+            <p className="mt-2 text-xs text-ink-600">{t("overview.gradeNote")}</p>
           </Card>
-          <Card title="Share affected by strand">
-            <Suspense fallback={<Spinner label="Loading the chart" />}>
+          <Card title={t("overview.byStrand")}>
+            <Suspense fallback={<Spinner label={t("charts.loading")} />}>
               <CategoryRateChart
-                rows={data.byStrand.map((s) => ({ ...s, label: `${s.caster} strand ${s.strand}` }))}
+                rows={data.byStrand.map((s) => ({ ...s, label: strandLabel(s) }))}
                 fewN={FEW_SLABS}
                 testId="strand-chart"
-                label="Share of slabs affected by strand, with 95 % intervals"
+                label={t("overview.byStrandChart")}
               />
             </Suspense>
             <RateTable
-              rows={data.byStrand.map((s) => ({ ...s, key: `${s.caster}-${s.strand}`, label: `${s.caster} strand ${s.strand}` }))}
-              labelHeader="Strand"
+              rows={data.byStrand.map((s) => ({ ...s, key: `${s.caster}-${s.strand}`, label: strandLabel(s) }))}
+              labelHeader={t("overview.strand")}
               fewN={FEW_SLABS}
               testId="strand-table"
             />

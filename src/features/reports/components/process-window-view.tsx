@@ -1,15 +1,25 @@
 import { lazy, Suspense } from "react";
+import { useTranslation } from "react-i18next";
 import type { ProcessWindow } from "@shared/api/reports";
 import { Card } from "@/components/ui/card";
 import { Figure } from "./figure";
 import { Spinner } from "@/components/ui/logo";
-import { lowerFirst, pct, pctRange, plural } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
+import { count, pct, pctRange } from "@/lib/format";
+import { inSentence } from "./report-params";
 import { FewMark, SmallNWarning } from "./small-n";
-import { binLabel, TableWrap, tdNum, th, thNum } from "./tables";
+import { binLabel, fill, TableWrap, tdNum, th, thNum } from "./tables";
 
 const WindowHeatmap = lazy(() => import("./charts/window-heatmap"));
 
 export function ProcessWindowView({ data, xDigits, yDigits }: { data: ProcessWindow; xDigits: number; yDigits: number }) {
+  const { t } = useTranslation("reports");
+  const { variable } = useTerms();
+  const xLabel = variable(data.x.key);
+  const yLabel = variable(data.y.key);
+  // Looked up once per table, filled per cell.
+  const ofN = t("screening.affectedOfN");
+  const tooFew = t("window.tooFew");
   const sparse = data.cells.filter((c) => c.sparse).length;
   const u = (unit: string) => (unit === "–" ? "" : ` (${unit})`);
   const bins = (edges: number[]) =>
@@ -20,44 +30,39 @@ export function ProcessWindowView({ data, xDigits, yDigits }: { data: ProcessWin
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
-        <Figure label="Slabs with both values (n)" value={data.slabs.toLocaleString("en-GB")} />
+        <Figure label={t("window.slabsBoth")} value={count(data.slabs)} />
         <Figure
-          label="Share affected"
+          label={t("cols.shareAffected")}
           value={pct(data.slabs ? data.affected / data.slabs : null)}
-          note={`${data.affected.toLocaleString("en-GB")} of n = ${data.slabs.toLocaleString("en-GB")}`}
+          note={t("screening.affectedOfN", { affected: count(data.affected), n: count(data.slabs) })}
         />
-        <Figure label="Cells" value={data.cells.length} note={`${data.x.edges.length - 1} × ${data.y.edges.length - 1}`} />
-        <Figure label={`Cells under ${data.minN} slabs`} value={sparse} note="greyed, not to be read" />
+        <Figure label={t("window.cells")} value={data.cells.length} note={`${data.x.edges.length - 1} × ${data.y.edges.length - 1}`} />
+        <Figure label={t("window.cellsUnder", { n: data.minN })} value={sparse} note={t("window.greyed")} />
       </div>
       <SmallNWarning
         notes={[
-          data.slabs > 0 && data.affected < 10 ? `Only ${plural(data.affected, "affected slab")} in these filters.` : "",
-          sparse ? `${plural(sparse, "cell")} hold fewer than ${data.minN} slabs: they are greyed and hatched, and their rates are not to be read.` : "",
+          data.slabs > 0 && data.affected < 10 ? t("window.fewAffected", { count: data.affected, n: count(data.affected) }) : "",
+          sparse ? t("window.sparse", { count: sparse, n: count(sparse), minN: data.minN }) : "",
         ]}
       />
-      <Card title={`Share of slabs affected over ${lowerFirst(data.x.label)} and ${lowerFirst(data.y.label)}`}>
-        <Suspense fallback={<Spinner label="Loading the chart" />}>
+      <Card title={t("window.title", { x: inSentence(xLabel), y: inSentence(yLabel) })}>
+        <Suspense fallback={<Spinner label={t("charts.loading")} />}>
           <WindowHeatmap data={data} xDigits={xDigits} yDigits={yDigits} />
         </Suspense>
-        <p className="mt-1 text-xs text-ink-600">
-          Each cell: the share of its slabs affected (bold) and its number of slabs n. Two conditions that move together (a plant runs some grades faster, with
-          more brake) fill the diagonal and leave the corners thin; a corner's rate says little.
-        </p>
+        <p className="mt-1 text-xs text-ink-600">{t("window.explain")}</p>
       </Card>
-      <Card title="The grid in numbers">
-        <TableWrap
-          caption={`Each cell: share of slabs affected, affected of n, and the Wilson 95 % interval. Cells under ${data.minN} slabs are greyed and marked.`}
-        >
+      <Card title={t("window.grid")}>
+        <TableWrap caption={t("window.gridCaption", { n: data.minN })}>
           <table className="w-full text-sm" data-testid="cells-table">
             <thead>
               <tr className="border-b-2 border-ink-200">
                 <th className={`${th} min-w-36`}>
                   <div>
-                    {data.x.label}
+                    {xLabel}
                     {u(data.x.unit)} →
                   </div>
                   <div>
-                    ↓ {data.y.label}
+                    ↓ {yLabel}
                     {u(data.y.unit)}
                   </div>
                 </th>
@@ -85,11 +90,9 @@ export function ProcessWindowView({ data, xDigits, yDigits }: { data: ProcessWin
                     return (
                       <td key={x.i} className={`${tdNum} ${c.sparse ? "bg-ink-50 text-ink-500" : ""}`} data-testid="cell" data-sparse={c.sparse || undefined}>
                         <div className="font-semibold">{pct(c.rate)}</div>
-                        <div className="text-xs">
-                          {c.affected} of n = {c.slabs.toLocaleString("en-GB")}
-                        </div>
+                        <div className="text-xs">{fill(ofN, { affected: c.affected, n: count(c.slabs) })}</div>
                         <div className="text-xs text-ink-600">{pctRange(c.ciLower, c.ciUpper)}</div>
-                        {c.sparse ? <FewMark label="too few" /> : null}
+                        {c.sparse ? <FewMark label={tooFew} /> : null}
                       </td>
                     );
                   })}

@@ -1,4 +1,5 @@
 import { useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { Button } from "@/components/ui/button";
 import { Notice } from "@/components/ui/notice";
@@ -10,6 +11,7 @@ import type { ReportKind } from "./report-params";
 
 /** "Export to Excel": the workbook of the very query on screen, with its progress while it downloads. */
 export function ExportButton({ kind, query, disabled }: { kind: ReportKind; query: string; disabled?: boolean }) {
+  const { t } = useTranslation("reports");
   const exp = useExportReport(kind);
   return (
     <div className="flex min-w-52 flex-col gap-2">
@@ -17,19 +19,19 @@ export function ExportButton({ kind, query, disabled }: { kind: ReportKind; quer
         <svg viewBox="0 0 16 16" className="h-4 w-4" aria-hidden>
           <path d="M8 2v8m-3.5-3.5L8 10l3.5-3.5M3 13h10" fill="none" stroke="currentColor" strokeWidth="1.8" strokeLinecap="round" strokeLinejoin="round" />
         </svg>
-        {exp.isPending ? "Preparing the workbook…" : "Export to Excel"}
+        {exp.isPending ? t("actions.preparing") : t("actions.export")}
       </Button>
       {exp.progress ? (
         <ProgressBar
-          label="Downloading"
+          label={t("actions.downloading")}
           value={exp.progress.fraction}
-          detail={exp.progress.loaded ? bytes(exp.progress.loaded) : "the server is building it"}
+          detail={exp.progress.loaded ? bytes(exp.progress.loaded) : t("actions.building")}
         />
       ) : null}
       {exp.isError ? <Notice tone="error">{exp.error.message}</Notice> : null}
       {exp.isSuccess ? (
         <span className="text-xs text-ink-600" role="status">
-          Saved as {exp.data.name} ({bytes(exp.data.size)}).
+          {t("actions.exported", { name: exp.data.name, size: bytes(exp.data.size) })}
         </span>
       ) : null}
     </div>
@@ -38,6 +40,7 @@ export function ExportButton({ kind, query, disabled }: { kind: ReportKind; quer
 
 /** "Save this report": its kind and query string under a name, listed on the reports home. */
 export function SaveReport({ kind, query, suggestedName }: { kind: ReportKind; query: string; suggestedName: string }) {
+  const { t } = useTranslation("reports");
   const [open, setOpen] = useState(false);
   const [name, setName] = useState(suggestedName);
   const save = useSaveReport();
@@ -52,14 +55,16 @@ export function SaveReport({ kind, query, suggestedName }: { kind: ReportKind; q
             setOpen(true);
           }}
         >
-          Save this report
+          {t("actions.save")}
         </Button>
         {save.isSuccess ? (
           <span className="text-xs text-ink-600" role="status" data-testid="report-saved">
-            Saved as “{save.data.name}” —{" "}
-            <Link to="/reports" className="font-semibold text-strand-700 underline">
-              see your saved reports
-            </Link>
+            <Trans
+              t={t}
+              i18nKey="actions.saved"
+              values={{ name: save.data.name }}
+              components={{ 1: <Link to="/reports" className="font-semibold text-strand-700 underline" /> }}
+            />
           </span>
         ) : null}
       </div>
@@ -68,14 +73,14 @@ export function SaveReport({ kind, query, suggestedName }: { kind: ReportKind; q
   return (
     <form
       className="flex flex-wrap items-end gap-2"
-      aria-label="Save this report"
+      aria-label={t("actions.save")}
       onSubmit={(e) => {
         e.preventDefault();
         save.mutate({ name: name.trim(), reportKind: kind, query }, { onSuccess: () => setOpen(false) });
       }}
     >
       <label className="flex flex-col gap-1">
-        <span className="text-sm font-semibold text-ink-800">Name of the saved report</span>
+        <span className="text-sm font-semibold text-ink-800">{t("actions.name")}</span>
         <input
           value={name}
           onChange={(e) => setName(e.target.value)}
@@ -87,10 +92,10 @@ export function SaveReport({ kind, query, suggestedName }: { kind: ReportKind; q
         />
       </label>
       <Button type="submit" disabled={save.isPending || !name.trim()}>
-        {save.isPending ? "Saving…" : "Save"}
+        {save.isPending ? t("actions.saving") : t("actions.saveButton")}
       </Button>
       <Button variant="ghost" onClick={() => setOpen(false)}>
-        Cancel
+        {t("actions.cancel")}
       </Button>
       {save.isError ? (
         <div className="w-full">

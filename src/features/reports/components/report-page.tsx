@@ -1,11 +1,13 @@
 import type { ReactNode } from "react";
 import type { UseQueryResult } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { Button } from "@/components/ui/button";
 import { ApiError } from "@/lib/api-client";
+import { count } from "@/lib/format";
 import { isWarmingUp, warmingSecondsLeft } from "../api/reports.queries";
 import { ExportButton, SaveReport } from "./report-actions";
 import { ReportCautions } from "./report-cautions";
@@ -38,12 +40,13 @@ export function ReportPage({
   canExport?: boolean;
   children: ReactNode;
 }) {
+  const { t } = useTranslation("reports");
   const spec = reportSpec(kind);
   return (
     <div className="space-y-5" data-report={kind}>
       <div>
         <Link to="/reports" className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
-          All reports
+          {t("page.allReports")}
         </Link>
       </div>
       <PageHeader
@@ -60,7 +63,7 @@ export function ReportPage({
       <Card>
         <FilterBar params={params} choices={choices} onChange={onChange} />
         {settings ? (
-          <div className="mt-4 border-t border-ink-100 pt-4" aria-label="Settings of this report" role="group">
+          <div className="mt-4 border-t border-ink-100 pt-4" aria-label={t("page.settingsLabel")} role="group">
             {settings}
           </div>
         ) : null}
@@ -72,9 +75,10 @@ export function ReportPage({
 
 /** A chart or table is waiting for its answer, or the answer is stale while a new one comes. */
 export function Updating({ on }: { on: boolean }) {
+  const { t } = useTranslation("reports");
   return on ? (
     <span role="status" className="text-xs font-semibold text-ink-600">
-      Updating…
+      {t("page.updating")}
     </span>
   ) : null;
 }
@@ -98,20 +102,21 @@ function refusalText(error: Error): string {
  * tries are used up) is there a button.
  */
 function WarmingUp({ error, gaveUp, onRetry }: { error: ApiError; gaveUp: boolean; onRetry: () => void }) {
+  const { t } = useTranslation("reports");
   const seconds = warmingSecondsLeft(error);
   return (
     <Card>
       <div role="status" aria-live="polite" data-testid="report-warming-up" className="flex items-start gap-4">
         {gaveUp ? null : <span className="mt-1 h-6 w-6 shrink-0 animate-spin rounded-full border-[3px] border-ink-200 border-t-strand-700" aria-hidden />}
         <div className="space-y-1">
-          <p className="text-base font-semibold text-ink-900">Reports are warming up</p>
+          <p className="text-base font-semibold text-ink-900">{t("page.warming.title")}</p>
           <p className="text-sm text-ink-700">
-            The server is loading the slab data{seconds ? ` (about ${seconds} s)` : ""}, as it does after a start or a large import.{" "}
-            {gaveUp ? "It is taking longer than usual." : "This report appears by itself when they are in: nothing is lost, there is nothing to do."}
+            {seconds ? t("page.warming.loadingSeconds", { seconds: count(seconds) }) : t("page.warming.loading")}{" "}
+            {gaveUp ? t("page.warming.longer") : t("page.warming.byItself")}
           </p>
           {gaveUp ? (
             <div className="pt-2">
-              <Button onClick={onRetry}>Try again</Button>
+              <Button onClick={onRetry}>{t("page.warming.retry")}</Button>
             </div>
           ) : null}
         </div>
@@ -122,6 +127,7 @@ function WarmingUp({ error, gaveUp, onRetry }: { error: ApiError; gaveUp: boolea
 
 /** The report's answer: a spinner while it is computed, the server's message if it refuses, else the figures. */
 export function ReportResult<T>({ query, children }: { query: UseQueryResult<T>; children: (data: T) => ReactNode }) {
+  const { t } = useTranslation("reports");
   // While warming up the query retries (the error is its failureReason); a kept earlier answer is for other filters.
   const warming = isWarmingUp(query.error ?? query.failureReason) && (query.isPending || query.isError || query.isPlaceholderData);
   return (
@@ -133,11 +139,11 @@ export function ReportResult<T>({ query, children }: { query: UseQueryResult<T>;
         <WarmingUp error={(query.error ?? query.failureReason) as ApiError} gaveUp={query.isError} onRetry={() => void query.refetch()} />
       ) : query.isPending ? (
         <Card>
-          <Spinner label="Computing the report" />
+          <Spinner label={t("page.computing")} />
         </Card>
       ) : query.isError ? (
         <div data-testid="report-refused">
-          <Notice tone="error" title={query.error instanceof ApiError && query.error.status === 400 ? "Cannot answer" : undefined}>
+          <Notice tone="error" title={query.error instanceof ApiError && query.error.status === 400 ? t("page.cannotAnswer") : undefined}>
             {refusalText(query.error)}
           </Notice>
         </div>

@@ -1,5 +1,7 @@
-import { termLabel } from "@shared/api/reports";
 import { FILTER_KEYS, type ReportKind, type ReportParams } from "@shared/report-query";
+import { i18n } from "@/i18n";
+import { terms } from "@/i18n/terms";
+import { formatLocale, lowerFirst } from "@/lib/format";
 
 // The question's keys, defaults and canonical query string live in shared/report-query.ts (the server
 // names a screen's first request with them); the screens' words about each report live here.
@@ -12,61 +14,21 @@ export interface ReportSpec {
   summary: string;
 }
 
+/** A report's words, read in the language shown when asked for (the screens reading them redraw on a change). */
+const spec = (kind: ReportKind): ReportSpec => ({
+  kind,
+  get title() {
+    return i18n.t(`reports:kinds.${kind}.title`);
+  },
+  get summary() {
+    return i18n.t(`reports:kinds.${kind}.summary`);
+  },
+});
+
 /** What the screens say about each report (its question's keys and defaults: shared/report-query.ts). */
-export const REPORTS: ReportSpec[] = [
-  {
-    kind: "overview",
-    title: "Overview",
-    summary:
-      "Share of slabs affected by period with its interval, defects per 100 slabs and per 1000 t, a Pareto of defect types, rates by grade and by strand.",
-  },
-  {
-    kind: "rate-by-variable",
-    title: "Rate against a variable",
-    summary:
-      "Binned rates with Wilson intervals against one casting condition; Spearman, logistic odds ratio and Mann–Whitney between affected and sound slabs; the odds ratio adjusted for the grade mix and the rates split by grade family, strand or another group on request.",
-  },
-  {
-    kind: "screening",
-    title: "Screening",
-    summary:
-      "Every condition ranked by its association with the defect adjusted for the grade family (or what you choose): odds ratios per interquartile range, crude beside adjusted, p-values adjusted by Benjamini–Hochberg.",
-  },
-  {
-    kind: "adjusted",
-    title: "Adjusted model",
-    summary:
-      "Is it the condition, or the grade mix? Crude and adjusted odds ratios side by side for the conditions you examine, adjusted for grade family or anything else, with heat-clustered intervals and a forest plot.",
-  },
-  {
-    kind: "process-window",
-    title: "Process window",
-    summary: "The rate over a grid of two conditions, with the count of slabs in every cell; cells with too few slabs are greyed.",
-  },
-  {
-    kind: "control-chart",
-    title: "Control chart",
-    summary:
-      "p-chart, Laney p′ chart or u-chart by day or week: limits from a baseline period applied to the later ones, Western Electric run rules, out-of-control periods marked.",
-  },
-  {
-    kind: "before-after",
-    title: "Before and after",
-    summary:
-      "Two periods, or two ranges of one condition: the difference in rates with its interval, and Fisher's or the chi-square test; compared within each grade family (Mantel–Haenszel) on request.",
-  },
-  {
-    kind: "slab-positions",
-    title: "Where on the slab",
-    summary: "Where the defects sit: by face, along the length from the head end and across the width, drawn on the slab's unrolled faces.",
-  },
-  {
-    kind: "cause-pareto",
-    title: "Cause Pareto",
-    summary:
-      "The cause tags of the defects passing the filters, largest first, with the cumulative share, the confidence of each tagging and how many defects carry no cause yet.",
-  },
-];
+export const REPORTS: ReportSpec[] = (
+  ["overview", "rate-by-variable", "screening", "adjusted", "process-window", "control-chart", "before-after", "slab-positions", "cause-pareto"] as const
+).map(spec);
 
 export const reportSpec = (kind: ReportKind): ReportSpec => REPORTS.find((r) => r.kind === kind)!;
 export const reportPath = (kind: ReportKind, query = "") => `/reports/${kind}${query ? `?${query}` : ""}`;
@@ -83,66 +45,92 @@ export const joinList = (items: string[]): string | undefined => (items.length ?
 /** Whether any filter narrows the slabs or the defects. */
 export const anyFilter = (p: ReportParams) => FILTER_KEYS.some((k) => Boolean(p[k]));
 
+const tr = (key: string, options?: Record<string, unknown>) => i18n.t(`reports:describe.${key}`, options ?? {});
+
+/**
+ * A label inside a sentence: English lowers its first letter ("casting speed"; `lower` for another
+ * rule); German nouns keep their capital.
+ */
+export const inSentence = (label: string, lower: (s: string) => string = lowerFirst) => (i18n.language === "de" ? label : lower(label));
+
+/** "high or raised": a list of alternatives in the language shown. */
+const orList = (items: string[]) => new Intl.ListFormat(formatLocale(), { type: "disjunction" }).format(items);
+
 /** The filters in a few words, for a saved report's suggested name and the saved-reports list. */
 export function describeFilters(p: ReportParams): string {
   const parts: string[] = [];
   if (p.defectType) parts.push(listOf(p.defectType).join("+"));
-  if (p.category) parts.push(`every ${listOf(p.category).join("+")}`);
+  if (p.category) parts.push(tr("everyCategory", { list: listOf(p.category).join("+") }));
   if (p.grade) parts.push(listOf(p.grade).join("+"));
-  if (p.family) parts.push(`${listOf(p.family).join("+")} grades`);
-  if (p.caster || p.strand) parts.push([p.caster, p.strand ? `strand ${p.strand}` : ""].filter(Boolean).join(" "));
-  if (p.from || p.to) parts.push(`${p.from ?? "…"} to ${p.to ?? "…"}`);
-  if (p.stage) parts.push(p.stage.replace(/_/g, " "));
-  if (p.minSeverity) parts.push(`severity ≥ ${p.minSeverity}`);
-  if (p.transition) parts.push(p.transition === "yes" ? "transition slabs" : "no transition slabs");
-  if (p.cause) parts.push(`cause ${p.cause}`);
-  if (p.riskBand) parts.push(`${listOf(p.riskBand).join(" or ")} risk`);
-  return parts.length ? parts.join(", ") : "all slabs, every defect type";
+  if (p.family) parts.push(tr("familyGrades", { list: listOf(p.family).join("+") }));
+  if (p.caster || p.strand) parts.push([p.caster, p.strand ? tr("strand", { strand: p.strand }) : ""].filter(Boolean).join(" "));
+  if (p.from || p.to) parts.push(tr("dates", { from: p.from ?? "…", to: p.to ?? "…" }));
+  if (p.stage) parts.push(tr(`stages.${p.stage}`, { defaultValue: p.stage.replace(/_/g, " ") }));
+  if (p.minSeverity) parts.push(tr("severity", { n: p.minSeverity }));
+  if (p.transition) parts.push(p.transition === "yes" ? tr("transitionOnly") : tr("transitionNone"));
+  if (p.cause) parts.push(tr("cause", { code: p.cause }));
+  if (p.riskBand) parts.push(tr("risk", { bands: orList(listOf(p.riskBand).map((b) => tr(`bands.${b}`, { defaultValue: b }))) }));
+  return parts.length ? parts.join(", ") : tr("everything");
 }
 
-const varLabel = (k: string | undefined) => (k ? termLabel(k) : "");
+const varLabel = (k: string | undefined) => (k ? terms().variable(k) : "");
 /** A list of model terms in words: "casting speed, superheat"; "none" (or nothing) as `none`. */
 const termsInWords = (v: string | undefined, none: string) => {
   const keys = listOf(v).filter((k) => k.toLowerCase() !== "none");
-  return keys.length ? keys.map((k) => lowerFirstWord(termLabel(k))).join(", ") : none;
+  return keys.length ? keys.map((k) => inSentence(varLabel(k))).join(", ") : none;
 };
-const lowerFirstWord = (s: string) => (/^[A-Z][a-z]/.test(s) ? s[0]!.toLowerCase() + s.slice(1) : s);
-const CHART_WORDS: Record<string, string> = { p: "p-chart", laney: "Laney p′ chart", u: "u-chart" };
+const periodWord = (period: string | undefined) => tr(`periods.${period}`, { defaultValue: period ?? "" });
 
 /** The report's own settings in a few words: "Casting speed, 8 equal-width bins". */
 export function describeSettings(kind: ReportKind, p: ReportParams): string {
   switch (kind) {
     case "overview":
-      return `by ${p.period === "week" ? "ISO week" : p.period}${p.standardise ? ", standardised to the grade mix" : ""}`;
+      return tr(p.standardise ? "overviewStandardised" : "overview", { period: periodWord(p.period) });
     case "control-chart":
       return [
-        `${CHART_WORDS[p.chart ?? "p"] ?? p.chart} by ${p.period === "week" ? "ISO week" : p.period}`,
-        p.baselineFrom && p.baselineTo ? `baseline ${p.baselineFrom} to ${p.baselineTo}` : "",
-        p.rules === "off" ? "run rules off" : "",
-        p.standardise ? "standardised rates beside" : "",
+        tr("chartBy", { chart: tr(`charts.${p.chart ?? "p"}`, { defaultValue: p.chart }), period: periodWord(p.period) }),
+        p.baselineFrom && p.baselineTo ? tr("baseline", { from: p.baselineFrom, to: p.baselineTo }) : "",
+        p.rules === "off" ? tr("rulesOff") : "",
+        p.standardise ? tr("standardisedBeside") : "",
       ]
         .filter(Boolean)
         .join(", ");
     case "rate-by-variable":
       return [
-        `${varLabel(p.variable)}, ${p.bins} ${p.binning === "quantile" ? "quantile" : "equal-width"} bins`,
-        p.adjustFor && p.adjustFor !== "none" ? `adjusted for ${termsInWords(p.adjustFor, "nothing")}` : "",
-        p.stratifyBy ? `split by ${lowerFirstWord(varLabel(p.stratifyBy))}` : "",
+        tr(p.binning === "quantile" ? "binsQuantile" : "binsEqual", { variable: varLabel(p.variable), bins: p.bins }),
+        p.adjustFor && p.adjustFor !== "none" ? tr("adjustedFor", { terms: termsInWords(p.adjustFor, tr("nothing")) }) : "",
+        p.stratifyBy ? tr("splitBy", { by: inSentence(varLabel(p.stratifyBy)) }) : "",
       ]
         .filter(Boolean)
         .join(", ");
     case "screening":
-      return `adjusted for ${termsInWords(p.adjustFor, "nothing (crude only)")}`;
+      return tr("adjustedFor", { terms: termsInWords(p.adjustFor, tr("nothingCrude")) });
     case "adjusted":
-      return `${termsInWords(p.variables, "—")} adjusted for ${termsInWords(p.adjustFor, "nothing")}${p.se === "model" ? ", model-based SEs" : ""}`;
+      return tr(p.se === "model" ? "adjustedModelSe" : "adjusted", {
+        variables: termsInWords(p.variables, "—"),
+        terms: termsInWords(p.adjustFor, tr("nothing")),
+      });
     case "process-window":
       return `${varLabel(p.x)} × ${varLabel(p.y)}`;
-    case "before-after":
-      return `${p.mode === "variable" ? `${varLabel(p.variable)} ${p.aMin ?? "…"}–${p.aMax ?? "…"} against ${p.bMin ?? "…"}–${p.bMax ?? "…"}` : `${p.aFrom ?? "…"} to ${p.aTo ?? "…"} against ${p.bFrom ?? "…"} to ${p.bTo ?? "…"}`}${p.stratifyBy ? `, within each ${lowerFirstWord(varLabel(p.stratifyBy))}` : ""}`;
+    case "before-after": {
+      const compared =
+        p.mode === "variable"
+          ? tr("beforeAfterVariable", {
+              variable: varLabel(p.variable),
+              aMin: p.aMin ?? "…",
+              aMax: p.aMax ?? "…",
+              bMin: p.bMin ?? "…",
+              bMax: p.bMax ?? "…",
+            })
+          : tr("beforeAfterPeriods", { aFrom: p.aFrom ?? "…", aTo: p.aTo ?? "…", bFrom: p.bFrom ?? "…", bTo: p.bTo ?? "…" });
+      return p.stratifyBy ? tr("withinEach", { compared, by: inSentence(varLabel(p.stratifyBy)) }) : compared;
+    }
     case "slab-positions":
-      return `${p.alongBins} bands along, ${p.acrossBins} across`;
+      return tr("slabBands", { along: p.alongBins, across: p.acrossBins });
     case "cause-pareto":
-      return p.minConfidence === "suspected" || !p.minConfidence ? "every tagging" : `taggings ${p.minConfidence} or surer`;
+      return p.minConfidence === "suspected" || !p.minConfidence
+        ? tr("everyTagging")
+        : tr("taggingsOrSurer", { level: tr(`confidence.${p.minConfidence}`, { defaultValue: p.minConfidence }) });
     default:
       return "";
   }

@@ -1,28 +1,32 @@
+import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import type { Screening } from "@shared/api/reports";
 import { VARIABLES } from "@shared/variables";
+import { useTerms } from "@/i18n/terms";
 import { Card } from "@/components/ui/card";
 import { Figure } from "./figure";
-import { lowerFirst, num, pct, plural, pValue, sig } from "@/lib/format";
-import { ratioRange, SE_WORDS, SeChoice } from "./estimates";
-import { joinList, listOf, type ReportParams } from "./report-params";
+import { count, num, pct, pValue, sig } from "@/lib/format";
+import { ratioRange, SeChoice } from "./estimates";
+import { inSentence, joinList, listOf, type ReportParams } from "./report-params";
 import { SettingsRow } from "./settings";
 import { FEW_SLABS, FewMark, SmallNWarning } from "./small-n";
-import { TableWrap, td, tdNum, th, thNum } from "./tables";
+import { fill, TableWrap, td, tdNum, th, thNum } from "./tables";
 import { TermPick } from "./term-pick";
 
 /** What every variable's adjusted test is adjusted for (grade family unless changed; none for crude only), and the SEs. */
 export function ScreeningSettings({ params, onChange }: { params: ReportParams; onChange: (patch: Partial<Record<string, string | undefined>>) => void }) {
+  const { t } = useTranslation("reports");
   const adjust = listOf(params.adjustFor).filter((k) => k !== "none");
   return (
     <SettingsRow>
       <div className="col-span-2">
         <TermPick
-          label="Adjust every test for"
+          label={t("screening.adjustEvery")}
           testId="adjust-pick"
           value={adjust}
-          emptyLabel="Nothing (crude only)"
-          hint="Each condition is tested in a model with these terms, and ranked by that adjusted test. Grade family is the default; untick it for the crude ranking."
+          emptyLabel={t("rbv.nothingCrude")}
+          hint={t("screening.adjustHint")}
           onChange={(keys) => onChange({ adjustFor: keys.length ? joinList(keys) : "none" })}
         />
       </div>
@@ -31,26 +35,32 @@ export function ScreeningSettings({ params, onChange }: { params: ReportParams; 
   );
 }
 
-type Row = Screening["variables"][number];
-
-const METHOD_NAMES: Record<string, string> = {
-  welch: "Welch t",
-  chiSquare: "Chi-square",
-  crude: "Crude odds ratios",
-  adjusted: "Adjusted tests",
-  multiplicity: "Multiple testing",
-  grouping: "Values",
-};
-
-const labelOf = (key: string, rows: Row[]) => rows.find((r) => r.key === key)?.label ?? VARIABLES.find((v) => v.key === key)?.label ?? key;
+/** The methods the server names (welch, chiSquare, crude, adjusted, multiplicity, grouping); another key shows as it comes. */
+const METHOD_KEYS = new Set(["welch", "chiSquare", "crude", "adjusted", "multiplicity", "grouping"]);
 
 export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (key: string) => string }) {
+  const { t } = useTranslation("reports");
+  const { variable } = useTerms();
+  // The rows' names and words, looked up once per answer and language, not per row.
+  const labels = useMemo(() => new Map(data.variables.map((v) => [v.key, variable(v.key)])), [data.variables, variable]);
+  const labelOf = (key: string) => labels.get(key) ?? (VARIABLES.some((v) => v.key === key) ? variable(key) : key);
+  const w = {
+    notTestable: t("screening.notTestable"),
+    derivedFrom: t("screening.derivedFrom"),
+    tTest: t("screening.tTest"),
+    chiTest: t("screening.chiTest"),
+    df: t("screening.df"),
+    means: t("screening.means"),
+    ofN: t("screening.ofN"),
+    adjustedReason: t("screening.adjustedReason"),
+    rateAgainst: t("screening.rateAgainst"),
+  };
   const adjusted = data.adjustFor.length > 0;
   const few = data.variables.filter((v) => v.fewSlabs).length;
   const below = adjusted
     ? data.variables.filter((v) => v.adjusted?.pAdjusted !== null && v.adjusted?.pAdjusted !== undefined && v.adjusted.pAdjusted < 0.05).length
     : data.variables.filter((v) => v.pAdjusted !== null && v.pAdjusted < 0.05).length;
-  const adjustWords = data.adjustFor.map((t) => lowerFirst(t.label)).join(", ");
+  const adjustWords = data.adjustFor.map((term) => inSentence(variable(term.key))).join(", ");
   // A rank for each raw condition tested; a derived value sits under the raw condition it comes from, without a rank of its own.
   let rank = 0;
   const ranks = data.variables.map((v) => (v.parent || !v.testable ? null : ++rank));
@@ -58,65 +68,53 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
-        <Figure label="Slabs (n)" value={data.slabs.toLocaleString("en-GB")} />
+        <Figure label={t("cols.slabsN")} value={count(data.slabs)} />
         <Figure
-          label="Share affected"
+          label={t("cols.shareAffected")}
           value={pct(data.slabs ? data.affected / data.slabs : null)}
-          note={`${data.affected.toLocaleString("en-GB")} of n = ${data.slabs.toLocaleString("en-GB")}`}
+          note={t("screening.affectedOfN", { affected: count(data.affected), n: count(data.slabs) })}
         />
         <Figure
-          label="Adjusted for"
-          value={<span data-testid="screening-adjusted-for">{adjusted ? data.adjustFor.map((t) => t.label).join(", ") : "Nothing"}</span>}
-          note={
-            adjusted ? `${SE_WORDS[data.seMethod].short.toLowerCase()} SEs · ${data.tests.adjusted} adjusted tests` : `crude only · ${data.tests.crude} tests`
+          label={t("screening.adjustedFor")}
+          value={
+            <span data-testid="screening-adjusted-for">{adjusted ? data.adjustFor.map((term) => variable(term.key)).join(", ") : t("screening.nothing")}</span>
           }
+          note={adjusted ? t(`screening.seNote.${data.seMethod}`, { n: data.tests.adjusted }) : t("screening.crudeNote", { n: data.tests.crude })}
         />
-        <Figure
-          label={adjusted ? "Adjusted tests, BH p below 0.05" : "p adjusted (BH) below 0.05"}
-          value={below}
-          note="Benjamini–Hochberg false discovery rate 5 %"
-        />
+        <Figure label={adjusted ? t("screening.belowAdjusted") : t("screening.belowCrude")} value={below} note={t("screening.fdr")} />
       </div>
-      <SmallNWarning
-        notes={[
-          ...data.notes.filter((n) => n.startsWith("Only")),
-          few ? `${plural(few, "variable")} rest on few slabs or small expected counts, or cannot be tested (marked).` : "",
-        ]}
-      />
-      <Card
-        title={adjusted ? `Variables ranked by their test adjusted for ${adjustWords}` : "Variables ranked by adjusted p (crude tests)"}
-        bodyClassName="p-2 sm:p-4"
-      >
+      <SmallNWarning notes={[...data.notes.filter((n) => n.startsWith("Only")), few ? t("screening.few", { count: few, n: count(few) }) : ""]} />
+      <Card title={adjusted ? t("screening.rankedAdjusted", { terms: adjustWords }) : t("screening.rankedCrude")} bodyClassName="p-2 sm:p-4">
         <TableWrap caption={data.notes.filter((n) => !n.startsWith("Only")).join(" ")}>
           <table className="w-full text-sm" data-testid="screening-table">
             <thead>
               <tr className="border-b border-ink-200">
                 <th colSpan={4} />
                 <th colSpan={2} className="px-2 pt-2 text-center text-xs font-semibold text-ink-700">
-                  Crude (the condition alone)
+                  {t("screening.crudeHead")}
                 </th>
                 {adjusted ? (
                   <th colSpan={3} className="border-l-2 border-ink-200 px-2 pt-2 text-center text-xs font-semibold text-ink-900">
-                    Adjusted for {adjustWords}
+                    {t("rateAdjusted.adjusted", { terms: adjustWords })}
                   </th>
                 ) : null}
                 <th colSpan={2} />
               </tr>
               <tr className="border-b-2 border-ink-200">
                 <th className={thNum}>#</th>
-                <th className={th}>Variable</th>
-                <th className={thNum}>n</th>
-                <th className={thNum}>IQR</th>
-                <th className={thNum}>Odds ratio per IQR (95 % CI)</th>
-                <th className={thNum}>p (BH)</th>
+                <th className={th}>{t("rbv.variable")}</th>
+                <th className={thNum}>{t("rbv.n")}</th>
+                <th className={thNum}>{t("screening.iqr")}</th>
+                <th className={thNum}>{t("screening.orPerIqr")}</th>
+                <th className={thNum}>{t("screening.pBh")}</th>
                 {adjusted ? (
                   <>
-                    <th className={`${thNum} border-l-2 border-ink-200`}>Odds ratio per IQR (95 % CI)</th>
-                    <th className={thNum}>p</th>
-                    <th className={thNum}>p (BH)</th>
+                    <th className={`${thNum} border-l-2 border-ink-200`}>{t("screening.orPerIqr")}</th>
+                    <th className={thNum}>{t("cols.p")}</th>
+                    <th className={thNum}>{t("screening.pBh")}</th>
                   </>
                 ) : null}
-                <th className={th}>Difference, affected − sound</th>
+                <th className={th}>{t("screening.difference")}</th>
                 <th className={th} />
               </tr>
             </thead>
@@ -134,10 +132,10 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                       </span>
                     ) : null}
                     <span className="font-semibold" data-field="label">
-                      {v.label}
+                      {labels.get(v.key) ?? v.label}
                     </span>
                     {v.fewSlabs && v.testable ? <FewMark /> : null}
-                    {!v.testable ? <FewMark label="not testable" /> : null}
+                    {!v.testable ? <FewMark label={w.notTestable} /> : null}
                   </>
                 );
                 if (!v.testable) {
@@ -153,10 +151,10 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                       <td className={tdNum} data-field="rank" />
                       <td className={`${td} ${derived ? "pl-6" : ""}`}>{label}</td>
                       <td className={tdNum} data-field="n">
-                        {v.n.toLocaleString("en-GB")}
+                        {count(v.n)}
                       </td>
                       <td colSpan={cols - 3} className={`${td} text-xs`} data-field="reason">
-                        {v.reason ?? "not testable"}
+                        {v.reason ?? w.notTestable}
                       </td>
                     </tr>
                   );
@@ -176,13 +174,13 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                       {label}
                       {derived ? (
                         <div className="text-xs text-ink-600" data-field="derived">
-                          from {v.derivedFrom.map((k) => lowerFirst(labelOf(k, data.variables))).join(", ")}; not counted in BH
+                          {fill(w.derivedFrom, { list: v.derivedFrom.map((k) => inSentence(labelOf(k))).join(", ") })}
                         </div>
                       ) : null}
                       {v.kind === "categorical" ? <div className="text-xs text-ink-600">{v.method}</div> : null}
                     </td>
                     <td className={tdNum} data-field="n">
-                      {v.n.toLocaleString("en-GB")}
+                      {count(v.n)}
                     </td>
                     <td className={tdNum} data-field="iqr">
                       {v.iqr === null ? "—" : `${num(v.iqr, d)}${unit}`}
@@ -198,7 +196,7 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                         {pValue(v.pAdjusted)}
                       </span>
                       <div className="text-xs text-ink-600">
-                        {v.kind === "numeric" ? "t" : "X²"} test p <span data-field="p">{pValue(v.p)}</span>
+                        {v.kind === "numeric" ? w.tTest : w.chiTest} <span data-field="p">{pValue(v.p)}</span>
                       </div>
                     </td>
                     {adjusted ? (
@@ -213,7 +211,7 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                           {v.adjusted && v.kind === "categorical" && v.adjusted.statistic !== null ? (
                             <div className="text-xs text-ink-600">
                               X² = {num(v.adjusted.statistic, 2)}
-                              {v.adjusted.df !== null ? `, df ${v.adjusted.df}` : ""}
+                              {v.adjusted.df !== null ? fill(w.df, { df: v.adjusted.df }) : ""}
                             </div>
                           ) : null}
                         </td>
@@ -231,20 +229,18 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                           <span className="text-sm">
                             {v.effect === null ? "—" : `${v.effect > 0 ? "+" : v.effect < 0 ? "−" : ""}${num(Math.abs(v.effect), d)}${unit}`}
                           </span>
-                          <span className="block text-ink-600">
-                            mean {num(v.meanAffected, d)} affected, {num(v.meanSound, d)} sound
-                          </span>
+                          <span className="block text-ink-600">{fill(w.means, { affected: num(v.meanAffected, d), sound: num(v.meanSound, d) })}</span>
                         </span>
                       ) : (
                         <ul className="space-y-0.5">
                           {v.categories?.map((c) => (
                             <li key={c.label} className={c.slabs < FEW_SLABS ? "text-ink-500" : ""}>
-                              <span className="font-semibold">{c.label}</span>: {pct(c.rate)} ({c.affected} of n = {c.slabs.toLocaleString("en-GB")})
+                              <span className="font-semibold">{c.label}</span>: {pct(c.rate)} {fill(w.ofN, { affected: c.affected, n: count(c.slabs) })}
                             </li>
                           ))}
                         </ul>
                       )}
-                      {v.adjusted?.reason ? <div className="mt-1 text-ink-700">Adjusted: {v.adjusted.reason}</div> : null}
+                      {v.adjusted?.reason ? <div className="mt-1 text-ink-700">{fill(w.adjustedReason, { reason: v.adjusted.reason })}</div> : null}
                     </td>
                     <td className={td}>
                       {v.kind === "numeric" ? (
@@ -252,7 +248,7 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                           to={linkFor(v.key)}
                           className="inline-flex min-h-11 items-center whitespace-nowrap text-sm font-semibold text-strand-700 underline"
                         >
-                          Rate against it
+                          {w.rateAgainst}
                         </Link>
                       ) : null}
                     </td>
@@ -262,7 +258,7 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
               {data.variables.length === 0 ? (
                 <tr>
                   <td colSpan={cols} className={td}>
-                    No variable to screen.
+                    {t("screening.noVariable")}
                   </td>
                 </tr>
               ) : null}
@@ -270,11 +266,11 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
           </table>
         </TableWrap>
         <details className="mt-3 text-xs text-ink-700">
-          <summary className="min-h-8 cursor-pointer font-semibold">Methods</summary>
+          <summary className="min-h-8 cursor-pointer font-semibold">{t("screening.methodsTitle")}</summary>
           <dl className="mt-2 space-y-1">
             {Object.entries(data.methods).map(([k, m]) => (
               <div key={k}>
-                <dt className="inline font-semibold">{METHOD_NAMES[k] ?? k}: </dt>
+                <dt className="inline font-semibold">{METHOD_KEYS.has(k) ? t(`screening.methods.${k}`) : k}: </dt>
                 <dd className="inline">{m}</dd>
               </div>
             ))}

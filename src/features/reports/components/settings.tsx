@@ -1,28 +1,27 @@
 import type { ReactNode } from "react";
-import { VARIABLES, type VariableGroup } from "@shared/variables";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
+import { VARIABLES } from "@shared/variables";
+import { useTerms } from "@/i18n/terms";
+import { count } from "@/lib/format";
 import { inputClass, labelClass, labelText } from "./filter-bar";
-
-const GROUP_LABELS: Record<VariableGroup, string> = {
-  condition: "Casting conditions",
-  derived: "Derived from the conditions",
-  geometry: "Slab size",
-  chemistry: "Chemistry (heat analysis)",
-};
 
 export const variableOf = (key: string | undefined) => VARIABLES.find((v) => v.key === key);
 
 /** A casting condition, derived value or analysis, grouped as the variables list groups them. */
 export function VariableSelect({ label, value, onChange, testId }: { label: string; value: string; onChange: (key: string) => void; testId?: string }) {
+  const { t } = useTranslation("reports");
+  const { variable, variableDescription } = useTerms();
   const groups = [...new Set(VARIABLES.map((v) => v.group))];
   return (
     <label className={labelClass}>
       <span className={labelText}>{label}</span>
       <select value={value} onChange={(e) => onChange(e.target.value)} className={inputClass} data-testid={testId}>
         {groups.map((g) => (
-          <optgroup key={g} label={GROUP_LABELS[g]}>
+          <optgroup key={g} label={t(`variableGroups.${g}`)}>
             {VARIABLES.filter((v) => v.group === g).map((v) => (
-              <option key={v.key} value={v.key} title={v.description}>
-                {v.label}
+              <option key={v.key} value={v.key} title={variableDescription(v.key)}>
+                {variable(v.key)}
                 {v.unit !== "–" ? ` (${v.unit})` : ""}
               </option>
             ))}
@@ -67,17 +66,17 @@ export function Choice({
 }
 
 export const numberOptions = (values: number[], suffix = "") => values.map((v) => ({ value: String(v), label: `${v}${suffix}` }));
-export const MIN_N_OPTIONS = numberOptions([10, 20, 30, 50, 100], " slabs");
+/** The least slabs in a bin or cell: "30 slabs". */
+export const minNOptions = (t: TFunction) =>
+  [10, 20, 30, 50, 100].map((v) => ({ value: String(v), label: t("reports:settings.minNOption", { count: v, n: count(v) }) }));
 
-const PERIODS = [
-  { value: "day", label: "Day" },
-  { value: "week", label: "ISO week" },
-  { value: "month", label: "Month" },
-];
+const PERIODS = ["day", "week", "month"] as const;
 
 /** Day, ISO week and (where the report offers it) month: one point or row per period. */
 export function PeriodChoice({ label, value, months, onChange }: { label: string; value: string; months: boolean; onChange: (v: string) => void }) {
-  return <Choice label={label} value={value} options={months ? PERIODS : PERIODS.slice(0, 2)} onChange={onChange} />;
+  const { t } = useTranslation("reports");
+  const options = (months ? PERIODS : PERIODS.slice(0, 2)).map((p) => ({ value: p, label: t(`settings.periods.${p}`) }));
+  return <Choice label={label} value={value} options={options} onChange={onChange} />;
 }
 
 export function SettingsRow({ children }: { children: ReactNode }) {
@@ -94,17 +93,18 @@ export function StandardiseChoice({
   onChange: (v: string | undefined) => void;
   testId?: string;
 }) {
+  const { t } = useTranslation("reports");
   return (
     <Choice
-      label="Grade mix"
+      label={t("settings.gradeMix")}
       testId={testId}
       value={value ?? ""}
       options={[
-        { value: "", label: "Rates as cast" },
-        { value: "grade_family", label: "Also standardise to the grade mix" },
+        { value: "", label: t("settings.ratesAsCast") },
+        { value: "grade_family", label: t("settings.alsoStandardise") },
       ]}
       onChange={(v) => onChange(v || undefined)}
-      hint="compares periods as if each had cast the same grade-family mix"
+      hint={t("settings.standardiseHint")}
     />
   );
 }

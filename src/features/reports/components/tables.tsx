@@ -1,4 +1,5 @@
 import type { ReactNode } from "react";
+import { useTranslation } from "react-i18next";
 import { count, num, pct, pctRange } from "@/lib/format";
 import type { RateRow } from "./charts/category-rate-chart";
 import { FewMark } from "./small-n";
@@ -32,6 +33,7 @@ export function RateTable({
   testId: string;
   extra?: { header: string; cell: (i: number) => ReactNode }[];
 }) {
+  const { t } = useTranslation("reports");
   return (
     <TableWrap>
       <table className="w-full text-sm" data-testid={testId}>
@@ -43,10 +45,10 @@ export function RateTable({
                 {e.header}
               </th>
             ))}
-            <th className={thNum}>Slabs (n)</th>
-            <th className={thNum}>Affected</th>
-            <th className={thNum}>Share affected</th>
-            <th className={thNum}>95 % CI (Wilson)</th>
+            <th className={thNum}>{t("cols.slabsN")}</th>
+            <th className={thNum}>{t("cols.affected")}</th>
+            <th className={thNum}>{t("cols.shareAffected")}</th>
+            <th className={thNum}>{t("cols.ciWilson")}</th>
           </tr>
         </thead>
         <tbody>
@@ -83,6 +85,13 @@ export function RateTable({
     </TableWrap>
   );
 }
+
+/**
+ * A row's text from a template looked up once per table (`t(key)` without values keeps its
+ * {{placeholders}}), filled here for each row: no catalogue lookup per row while a table is drawn.
+ */
+export const fill = (template: string, values: Record<string, string | number>) =>
+  template.replace(/\{\{(\w+)\}\}/g, (m, k: string) => (k in values ? String(values[k]) : m));
 
 /** A bin of a variable: "1.09–1.40". */
 export const binLabel = (lo: number, hi: number, digits: number) => `${num(lo, digits)}–${num(hi, digits)}`;

@@ -1,14 +1,11 @@
 import { useEffect, useId, useRef } from "react";
-import { CATEGORICAL_KEYS, CATEGORICAL_LABELS, VARIABLES, type VariableGroup } from "@shared/variables";
-import { termLabel } from "@shared/api/reports";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
+import { CATEGORICAL_KEYS, VARIABLES, type VariableGroup } from "@shared/variables";
+import { terms, useTerms, type Terms } from "@/i18n/terms";
+import { inSentence } from "./report-params";
 
-const GROUPS: { key: "place" | VariableGroup; label: string }[] = [
-  { key: "place", label: "Grade, place and kind of slab" },
-  { key: "condition", label: "Casting conditions" },
-  { key: "derived", label: "Derived from the conditions" },
-  { key: "geometry", label: "Slab size" },
-  { key: "chemistry", label: "Chemistry (heat analysis)" },
-];
+const GROUPS: ("place" | VariableGroup)[] = ["place", "condition", "derived", "geometry", "chemistry"];
 
 interface TermOption {
   key: string;
@@ -16,16 +13,16 @@ interface TermOption {
   note?: string;
 }
 
-function optionsOf(group: "place" | VariableGroup): TermOption[] {
+function optionsOf(group: "place" | VariableGroup, t: TFunction, variable: Terms["variable"]): TermOption[] {
   if (group === "place")
-    return CATEGORICAL_KEYS.map((k) => ({ key: k, label: CATEGORICAL_LABELS[k], note: k === "grade_family" ? "offered first" : undefined }));
-  return VARIABLES.filter((v) => v.group === group).map((v) => ({ key: v.key, label: `${v.label}${v.unit !== "–" ? ` (${v.unit})` : ""}` }));
+    return CATEGORICAL_KEYS.map((k) => ({ key: k, label: variable(k), note: k === "grade_family" ? t("termPick.offeredFirst") : undefined }));
+  return VARIABLES.filter((v) => v.group === group).map((v) => ({ key: v.key, label: `${variable(v.key)}${v.unit !== "–" ? ` (${v.unit})` : ""}` }));
 }
 
 /** The terms of a model in a few words: "Grade family, Strand +2". */
-export function termsSummary(keys: string[], empty: string): string {
+export function termsSummary(keys: string[], empty: string, label: (key: string) => string = terms().variable): string {
   if (keys.length === 0) return empty;
-  const names = keys.map(termLabel);
+  const names = keys.map(label);
   return names.length <= 2 ? names.join(", ") : `${names.slice(0, 2).join(", ")} +${names.length - 2}`;
 }
 
@@ -61,6 +58,8 @@ export function TermPick({
   testId?: string;
   hint?: string;
 }) {
+  const { t } = useTranslation("reports");
+  const { variable } = useTerms();
   const ref = useRef<HTMLDetailsElement>(null);
   const labelId = useId();
   const summaryId = useId();
@@ -85,7 +84,7 @@ export function TermPick({
           className="flex min-h-11 cursor-pointer list-none items-center justify-between gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900 [&::-webkit-details-marker]:hidden"
         >
           <span id={summaryId} className={`truncate ${value.length ? "font-semibold" : ""}`} data-testid={testId ? `${testId}-summary` : undefined}>
-            {termsSummary(value, emptyLabel)}
+            {termsSummary(value, emptyLabel, variable)}
           </span>
           <svg viewBox="0 0 12 12" className="h-3 w-3 shrink-0 transition-transform group-open:rotate-180" aria-hidden>
             <path d="M2 4l4 4 4-4" fill="none" stroke="currentColor" strokeWidth="1.8" />
@@ -93,7 +92,7 @@ export function TermPick({
         </summary>
         <div className="absolute left-0 z-20 mt-1 max-h-[26rem] w-80 max-w-[90vw] overflow-y-auto rounded-md border border-ink-300 bg-white p-2 shadow-lg">
           <p className="px-1 pb-2 text-xs text-ink-600">
-            {hint ?? `Tick up to ${max}.`} {full ? `${max} ticked: untick one to choose another.` : ""}
+            {hint ?? t("termPick.tickUpTo", { count: max, n: max })} {full ? t("termPick.full", { count: max, n: max }) : ""}
           </p>
           {value.length > min ? (
             <button
@@ -101,13 +100,15 @@ export function TermPick({
               className="mb-1 min-h-12 w-full rounded px-2 text-left text-sm font-semibold text-strand-700 hover:bg-strand-50"
               onClick={() => onChange(min > 0 ? value.slice(0, min) : [])}
             >
-              {min > 0 ? `Keep only ${termLabel(value[0]!).toLowerCase()}` : `Clear: ${emptyLabel.toLowerCase()}`}
+              {min > 0
+                ? t("termPick.keepOnly", { term: inSentence(variable(value[0]!), (s) => s.toLowerCase()) })
+                : t("termPick.clear", { what: inSentence(emptyLabel, (s) => s.toLowerCase()) })}
             </button>
           ) : null}
-          {GROUPS.filter((g) => !only || only.includes(g.key)).map((g) => (
-            <fieldset key={g.key} className="border-t border-ink-100 py-1">
-              <legend className="px-1 pt-1 text-xs font-semibold uppercase tracking-wide text-ink-600">{g.label}</legend>
-              {optionsOf(g.key).map((o) => {
+          {GROUPS.filter((g) => !only || only.includes(g)).map((g) => (
+            <fieldset key={g} className="border-t border-ink-100 py-1">
+              <legend className="px-1 pt-1 text-xs font-semibold uppercase tracking-wide text-ink-600">{t(`variableGroups.${g}`)}</legend>
+              {optionsOf(g, t, variable).map((o) => {
                 const on = value.includes(o.key);
                 const why = taken[o.key];
                 const locked = Boolean(why) || (!on && full) || (on && value.length <= min);

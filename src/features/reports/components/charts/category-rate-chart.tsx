@@ -1,4 +1,5 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import { INK, SERIES_COLORS, SPARSE_DECAL, SPARSE_FILL } from "@/lib/chart-theme";
 import { count, pct, pctRange } from "@/lib/format";
 import { esc, pctAxis, tooltipBase, whiskerSeries } from "./chart-parts";
@@ -39,14 +40,17 @@ export function CategoryRateChart({
   /** Points mode: a second rate per row (a standardised rate) drawn as a dashed line with diamonds; null where there is none. */
   second?: { name: string; rates: (number | null)[] };
 }) {
+  const { t } = useTranslation("reports");
   const option = useMemo(() => {
+    const rateName = t("charts.shareAffected");
+    const intervalName = t("charts.wilsonInterval");
     const yMax = Math.max(0.01, ...rows.map((r) => r.ciUpper ?? 0), ...(second?.rates.map((v) => v ?? 0) ?? [])) * 1.12;
     const cats = rows.map((r) => (mode === "bars" ? `${r.label}\nn = ${count(r.slabs)}` : r.label));
     const zoom = mode === "points" && rows.length > 60;
     return {
       animation: false,
       grid: { left: 72, right: 24, top: 40, bottom: zoom ? 84 : mode === "bars" ? 56 : 48 },
-      legend: { top: 4, data: ["Share of slabs affected", "95 % interval (Wilson)", ...(second && mode === "points" ? [second.name] : [])] },
+      legend: { top: 4, data: [rateName, intervalName, ...(second && mode === "points" ? [second.name] : [])] },
       tooltip: {
         ...tooltipBase,
         trigger: "axis",
@@ -55,7 +59,14 @@ export function CategoryRateChart({
           const r = rows[ps[0]?.dataIndex ?? 0];
           if (!r) return "";
           const s2 = second && mode === "points" ? second.rates[ps[0]?.dataIndex ?? 0] : undefined;
-          return `<b>${esc(r.label)}</b><br/>${pct(r.rate)} (95 % CI ${pctRange(r.ciLower, r.ciUpper)})<br/>${r.affected} affected of n = ${r.slabs}${s2 !== undefined ? `<br/>${esc(second!.name)}: ${pct(s2)}` : ""}${r.slabs < fewN ? `<br/><i>fewer than ${fewN} slabs</i>` : ""}`;
+          const lines = [
+            `<b>${esc(r.label)}</b>`,
+            esc(t("charts.rateWithCi", { rate: pct(r.rate), ci: pctRange(r.ciLower, r.ciUpper) })),
+            esc(t("charts.affectedOfN", { affected: r.affected, n: r.slabs })),
+            ...(s2 !== undefined ? [`${esc(second!.name)}: ${pct(s2)}`] : []),
+            ...(r.slabs < fewN ? [`<i>${esc(t("charts.fewerThan", { n: fewN }))}</i>`] : []),
+          ];
+          return lines.join("<br/>");
         },
       },
       xAxis: {
@@ -70,7 +81,7 @@ export function CategoryRateChart({
         type: "value",
         min: 0,
         max: yMax,
-        name: "Share of slabs affected",
+        name: rateName,
         nameLocation: "middle",
         nameRotate: 90,
         nameGap: 46,
@@ -81,7 +92,7 @@ export function CategoryRateChart({
         mode === "bars"
           ? {
               type: "bar",
-              name: "Share of slabs affected",
+              name: rateName,
               barMaxWidth: 56,
               itemStyle: { color: SERIES_COLORS[0] },
               data: rows.map((r) =>
@@ -92,7 +103,7 @@ export function CategoryRateChart({
             }
           : {
               type: "line",
-              name: "Share of slabs affected",
+              name: rateName,
               showSymbol: true,
               symbol: "circle",
               symbolSize: 6,
@@ -101,7 +112,7 @@ export function CategoryRateChart({
               data: rows.map((r) => (r.slabs < fewN ? { value: r.rate, symbol: "emptyCircle", itemStyle: { color: INK[600] } } : { value: r.rate })),
             },
         whiskerSeries(
-          "95 % interval (Wilson)",
+          intervalName,
           rows.map((r, i) => [i, r.ciLower ?? 0, r.ciUpper ?? 0]),
           { cap: mode === "bars" ? 8 : 3, color: mode === "bars" ? INK[900] : INK[600] },
         ),
@@ -122,7 +133,7 @@ export function CategoryRateChart({
           : []),
       ],
     };
-  }, [rows, mode, fewN, xName, second]);
+  }, [rows, mode, fewN, xName, second, t]);
   return <ReportChart option={option} height={height} testId={testId} label={label} />;
 }
 

@@ -1,4 +1,5 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import type { CausePareto } from "@shared/api/causes";
 import { SERIES_COLORS } from "@/lib/chart-theme";
 import { pct } from "@/lib/format";
@@ -11,13 +12,14 @@ import { ReportChart } from "./report-chart";
  * taggings as a dashed line.
  */
 export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
+  const { t } = useTranslation("reports");
   const option = useMemo(() => {
     const stack = [
-      { key: "confirmed" as const, name: "Confirmed", style: { color: SERIES_COLORS[0] } },
-      { key: "probable" as const, name: "Probable", style: { color: "#6fa9b3" } },
+      { key: "confirmed" as const, name: t("causePareto.confirmed"), style: { color: SERIES_COLORS[0] } },
+      { key: "probable" as const, name: t("causePareto.probable"), style: { color: "#6fa9b3" } },
       {
         key: "suspected" as const,
-        name: "Suspected",
+        name: t("causePareto.suspected"),
         style: {
           color: "#ffffff",
           borderColor: SERIES_COLORS[0],
@@ -29,7 +31,7 @@ export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
     return {
       animation: false,
       grid: { left: 72, right: 72, top: 48, bottom: 96 },
-      legend: { top: 4, data: [...stack.map((s) => s.name), "Cumulative share"] },
+      legend: { top: 4, data: [...stack.map((s) => s.name), t("charts.cumulativeShare")] },
       tooltip: {
         ...tooltipBase,
         trigger: "axis",
@@ -37,18 +39,18 @@ export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
         formatter: (ps: { dataIndex: number }[]) => {
           const r = rows[ps[0]?.dataIndex ?? 0];
           if (!r) return "";
-          return `<b>${esc(r.name)}</b>${r.retired ? " (retired)" : ""}<br/>${r.defects} defects on ${r.slabs} slabs<br/>confirmed ${r.confirmed} · probable ${r.probable} · suspected ${r.suspected}<br/>${pct(r.share, 1)} of taggings; cumulative ${pct(r.cumulative, 1)}`;
+          return `<b>${esc(r.name)}</b>${r.retired ? ` ${esc(t("causePareto.retired"))}` : ""}<br/>${esc(t("charts.defectsOnSlabs", { defects: r.defects, slabs: r.slabs }))}<br/>${esc(t("causePareto.tipConfidence", { confirmed: r.confirmed, probable: r.probable, suspected: r.suspected }))}<br/>${esc(t("causePareto.tipShare", { share: pct(r.share, 1), cumulative: pct(r.cumulative, 1) }))}`;
         },
       },
       xAxis: {
         type: "category",
         data: rows.map((r) => r.name),
-        name: "Cause tag",
+        name: t("filters.cause"),
         nameLocation: "middle",
         nameGap: 80,
         axisLabel: { interval: 0, fontSize: 11, rotate: rows.length > 4 ? 25 : 0, width: rows.length > 4 ? 150 : 180, overflow: "truncate" },
       },
-      yAxis: paretoYAxes("Defects"),
+      yAxis: paretoYAxes(t("cols.defects")),
       series: [
         ...stack.map((s) => ({
           type: "bar",
@@ -61,8 +63,8 @@ export function CauseParetoChart({ rows }: { rows: CausePareto["rows"] }) {
         cumulativeShareSeries(rows.map((r) => r.cumulative)),
       ],
     };
-  }, [rows]);
-  return <ReportChart option={option} height={380} testId="cause-pareto-chart" label={`Pareto of ${rows.length} cause tags`} />;
+  }, [rows, t]);
+  return <ReportChart option={option} height={380} testId="cause-pareto-chart" label={t("causePareto.chartLabel", { n: rows.length })} />;
 }
 
 export default CauseParetoChart;

@@ -1,10 +1,12 @@
+import { i18n } from "@/i18n";
 import { INK, FONT, SERIES_COLORS } from "@/lib/chart-theme";
+import { num } from "@/lib/format";
 
-/** Axis labels of a rate (0…1) as percentages. */
+/** Axis labels of a rate (0…1) as percentages, in the language's numbers. */
 export const pctAxis =
   (digits = 1) =>
   (v: number) =>
-    `${(v * 100).toFixed(digits)} %`;
+    `${num(v * 100, digits)} %`;
 
 type Api = {
   value: (dim: number) => number;
@@ -55,12 +57,17 @@ export const tooltipBase = { confine: true, textStyle: { fontFamily: FONT, fontS
 /** Escapes text placed into a tooltip's HTML. */
 export const esc = (s: string) => s.replace(/[&<>"]/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;" })[c]!);
 
+/*
+ * The words below are read in the language shown when a chart builds its option: the charts keep
+ * their option per language (their memo depends on the translation function).
+ */
+
 /** A Pareto chart's two value axes: counts on the left, the cumulative share (0–100 %) on the right. */
 export const paretoYAxes = (countName: string) => [
   { type: "value", name: countName, nameLocation: "middle", nameRotate: 90, nameGap: 46, minInterval: 1 },
   {
     type: "value",
-    name: "Cumulative share",
+    name: i18n.t("reports:charts.cumulativeShare"),
     nameLocation: "middle",
     nameRotate: -90,
     nameGap: 50,
@@ -75,7 +82,7 @@ export const paretoYAxes = (countName: string) => [
 export function cumulativeShareSeries(data: number[]) {
   return {
     type: "line",
-    name: "Cumulative share",
+    name: i18n.t("reports:charts.cumulativeShare"),
     yAxisIndex: 1,
     symbol: "circle",
     symbolSize: 6,
@@ -87,7 +94,7 @@ export function cumulativeShareSeries(data: number[]) {
       silent: true,
       symbol: "none",
       lineStyle: { color: INK[600], type: "dotted", width: 1.2 },
-      label: { formatter: "80 %", position: "insideEndTop", color: INK[700] },
+      label: { formatter: `${num(80)} %`, position: "insideEndTop", color: INK[700] },
       data: [{ yAxis: 0.8 }],
     },
   };

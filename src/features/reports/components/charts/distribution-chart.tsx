@@ -1,8 +1,10 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import type { RateByVariable } from "@shared/api/reports";
 import { INK, SERIES_COLORS } from "@/lib/chart-theme";
-import { num } from "@/lib/format";
-import { tooltipBase } from "./chart-parts";
+import { useTerms } from "@/i18n/terms";
+import { count, num } from "@/lib/format";
+import { esc, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
 type Api = { value: (d: number) => number; coord: (v: number[]) => number[] };
@@ -18,19 +20,25 @@ const jitter = (i: number) => {
  * and maximum, the mean as a diamond) beside a strip of values taken evenly through each group.
  */
 export function DistributionChart({ data, digits }: { data: RateByVariable; digits: number }) {
+  const { t } = useTranslation("reports");
+  const { variable: termWords } = useTerms();
+  const label = termWords(data.variable.key);
   const option = useMemo(() => {
     const { distribution: d, strip, variable } = data;
+    const boxName = t("charts.quartiles");
+    const meanName = t("charts.mean");
+    const stripName = t("charts.sampled");
     const unit = variable.unit === "–" ? "" : ` (${variable.unit})`;
     const groups = [
-      { key: "sound" as const, label: "Sound slabs", color: SERIES_COLORS[0]!, dist: d.sound, values: strip.sound },
-      { key: "affected" as const, label: "Affected slabs", color: SERIES_COLORS[1]!, dist: d.affected, values: strip.affected },
+      { key: "sound" as const, label: t("charts.soundSlabs"), color: SERIES_COLORS[0]!, dist: d.sound, values: strip.sound },
+      { key: "affected" as const, label: t("charts.affectedSlabs"), color: SERIES_COLORS[1]!, dist: d.affected, values: strip.affected },
     ];
-    const cats = groups.map((g) => `${g.label}\nn = ${g.dist.n.toLocaleString("en-GB")}`);
+    const cats = groups.map((g) => `${g.label}\nn = ${count(g.dist.n)}`);
     const box = groups.map((g) => (g.dist.n ? [g.dist.min, g.dist.q1, g.dist.median, g.dist.q3, g.dist.max] : [null, null, null, null, null]));
     return {
       animation: false,
       grid: { left: 130, right: 24, top: 36, bottom: 56 },
-      legend: { top: 4, data: ["Quartiles, min–max", "Mean", "Slabs (evenly sampled)"] },
+      legend: { top: 4, data: [boxName, meanName, stripName] },
       tooltip: {
         ...tooltipBase,
         trigger: "item",
@@ -38,14 +46,22 @@ export function DistributionChart({ data, digits }: { data: RateByVariable; digi
           const g = groups[p.seriesIndex === 0 || p.seriesIndex === 1 ? p.dataIndex : 0]!;
           if (p.seriesIndex > 1) return "";
           const s = g.dist;
-          return `<b>${g.label}</b>, n = ${s.n}<br/>min ${num(s.min, digits)} · Q1 ${num(s.q1, digits)} · median ${num(s.median, digits)} · Q3 ${num(s.q3, digits)} · max ${num(s.max, digits)}<br/>mean ${num(s.mean, digits + 1)}${unit}`;
+          return `<b>${esc(g.label)}</b>, n = ${s.n}<br/>${esc(
+            t("charts.quantilesTip", {
+              min: num(s.min, digits),
+              q1: num(s.q1, digits),
+              median: num(s.median, digits),
+              q3: num(s.q3, digits),
+              max: num(s.max, digits),
+            }),
+          )}<br/>${esc(t("charts.meanTip", { mean: num(s.mean, digits + 1) }))}${unit}`;
         },
       },
       yAxis: { type: "category", data: cats, axisLabel: { fontWeight: 600, lineHeight: 18 } },
       xAxis: {
         type: "value",
         scale: true,
-        name: `${variable.label}${unit}`,
+        name: `${label}${unit}`,
         nameLocation: "middle",
         nameGap: 32,
         axisLabel: { formatter: (v: number) => num(v, digits) },
@@ -53,14 +69,14 @@ export function DistributionChart({ data, digits }: { data: RateByVariable; digi
       series: [
         {
           type: "boxplot",
-          name: "Quartiles, min–max",
+          name: boxName,
           data: box,
           boxWidth: [14, 26],
           itemStyle: { color: "#ffffff", borderColor: INK[900], borderWidth: 1.6 },
         },
         {
           type: "scatter",
-          name: "Mean",
+          name: meanName,
           symbol: "diamond",
           symbolSize: 13,
           itemStyle: { color: "#ffffff", borderColor: INK[900], borderWidth: 2 },
@@ -69,7 +85,7 @@ export function DistributionChart({ data, digits }: { data: RateByVariable; digi
         },
         {
           type: "custom",
-          name: "Slabs (evenly sampled)",
+          name: stripName,
           itemStyle: { color: INK[600] },
           encode: { x: 0, y: 1 },
           data: groups.flatMap((g, gi) => g.values.map((v, i) => [v, gi, i])),
@@ -84,10 +100,8 @@ export function DistributionChart({ data, digits }: { data: RateByVariable; digi
         },
       ],
     };
-  }, [data, digits]);
-  return (
-    <ReportChart option={option} height={300} testId="distribution-chart" label={`${data.variable.label} of affected and of sound slabs: box and strip plot`} />
-  );
+  }, [data, digits, t, label]);
+  return <ReportChart option={option} height={300} testId="distribution-chart" label={t("charts.distributionLabel", { variable: label })} />;
 }
 
 export default DistributionChart;

@@ -1,8 +1,11 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import type { RateByVariable } from "@shared/api/reports";
 import { INK, SERIES_COLORS, SPARSE_DECAL, SPARSE_FILL } from "@/lib/chart-theme";
-import { lowerFirst, num, pct, pctRange, plural } from "@/lib/format";
-import { pctAxis, tooltipBase, whiskerSeries } from "./chart-parts";
+import { useTerms } from "@/i18n/terms";
+import { count, num, pct, pctRange } from "@/lib/format";
+import { inSentence } from "../report-params";
+import { esc, pctAxis, tooltipBase, whiskerSeries } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
 type Api = { value: (d: number) => number; coord: (v: number[]) => number[]; style?: unknown };
@@ -13,7 +16,13 @@ type Api = { value: (d: number) => number; coord: (v: number[]) => number[]; sty
  * Bins under the minimum n are grey and hatched.
  */
 export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; digits: number; minN: number }) {
+  const { t } = useTranslation("reports");
+  const { variable: termWords } = useTerms();
+  const label = termWords(data.variable.key);
   const option = useMemo(() => {
+    const rateName = t("charts.shareAffected");
+    const intervalName = t("charts.wilsonInterval");
+    const fitName = t("charts.logisticFit");
     const { bins, variable, logistic } = data;
     const unit = variable.unit === "–" ? "" : ` (${variable.unit})`;
     const lo = bins[0]?.lower ?? 0;
@@ -29,21 +38,21 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
     return {
       animation: false,
       grid: { left: 72, right: 24, top: 48, bottom: 64 },
-      legend: { top: 4, data: ["Share of slabs affected", "95 % interval (Wilson)", "Logistic fit"] },
+      legend: { top: 4, data: [rateName, intervalName, fitName] },
       tooltip: {
         ...tooltipBase,
         trigger: "item",
         formatter: (p: { seriesIndex: number; dataIndex: number }) => {
           if (p.seriesIndex !== 0) return "";
           const b = bins[p.dataIndex]!;
-          return `${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/><b>${pct(b.rate)}</b> (95 % CI ${pctRange(b.ciLower, b.ciUpper)})<br/>${b.affected} affected of n = ${b.slabs}${b.slabs < minN ? "<br/><i>fewer than " + minN + " slabs</i>" : ""}`;
+          return `${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/><b>${pct(b.rate)}</b> (${esc(t("rbv.ciRange", { ci: pctRange(b.ciLower, b.ciUpper) }))})<br/>${esc(t("charts.affectedOfN", { affected: b.affected, n: b.slabs }))}${b.slabs < minN ? `<br/><i>${esc(t("charts.fewerThan", { n: minN }))}</i>` : ""}`;
         },
       },
       xAxis: {
         type: "value",
         min: lo,
         max: hi,
-        name: `${variable.label}${unit}`,
+        name: `${label}${unit}`,
         nameLocation: "middle",
         nameGap: 34,
         axisLabel: { formatter: (v: number) => num(v, digits) },
@@ -52,7 +61,7 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
         type: "value",
         min: 0,
         max: yMax,
-        name: "Share of slabs affected",
+        name: rateName,
         nameLocation: "middle",
         nameRotate: 90,
         nameGap: 46,
@@ -61,7 +70,7 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
       series: [
         {
           type: "custom",
-          name: "Share of slabs affected",
+          name: rateName,
           itemStyle: { color: SERIES_COLORS[0] },
           encode: { x: [0, 1], y: 2 },
           data: bins.map((b) => [b.lower, b.upper, b.rate, b.slabs, b.ciUpper]),
@@ -98,12 +107,12 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
           },
         },
         whiskerSeries(
-          "95 % interval (Wilson)",
+          intervalName,
           bins.map((b) => [(b.lower + b.upper) / 2, b.ciLower, b.ciUpper]),
         ),
         {
           type: "line",
-          name: "Logistic fit",
+          name: fitName,
           data: fit,
           showSymbol: false,
           lineStyle: { type: "dashed", color: SERIES_COLORS[1], width: 2 },
@@ -113,13 +122,13 @@ export function RateBinsChart({ data, digits, minN }: { data: RateByVariable; di
         },
       ],
     };
-  }, [data, digits, minN]);
+  }, [data, digits, minN, t, label]);
   return (
     <ReportChart
       option={option}
       height={380}
       testId="rate-chart"
-      label={`Share of slabs affected in ${plural(data.bins.length, "bin")} of ${lowerFirst(data.variable.label)}, with 95 % intervals`}
+      label={t("charts.binsLabel", { count: data.bins.length, n: count(data.bins.length), variable: inSentence(label) })}
     />
   );
 }

@@ -1,7 +1,10 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import type { SlabPositions } from "@shared/api/reports";
 import { COUNT_RAMP, FONT, INK } from "@/lib/chart-theme";
-import { tooltipBase } from "./chart-parts";
+import { useTerms } from "@/i18n/terms";
+import { num } from "@/lib/format";
+import { esc, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
 /*
@@ -11,29 +14,34 @@ import { ReportChart } from "./report-chart";
  * corner with the inner face on the narrow faces, so the strips' inner edges meet.
  */
 const STRIPS = [
-  { face: "left", name: "Left narrow face", height: 56, inverse: false, across: "from inner corner ↑" },
-  { face: "inner", name: "Inner radius (top) face", height: 140, inverse: true, across: "from left edge ↓" },
-  { face: "right", name: "Right narrow face", height: 56, inverse: true, across: "from inner corner ↓" },
-  { face: "outer", name: "Outer radius (bottom) face", height: 140, inverse: false, across: "from left edge ↑" },
+  { face: "left", height: 56, inverse: false, from: "innerCorner", arrow: "↑" },
+  { face: "inner", height: 140, inverse: true, from: "leftEdge", arrow: "↓" },
+  { face: "right", height: 56, inverse: true, from: "innerCorner", arrow: "↓" },
+  { face: "outer", height: 140, inverse: false, from: "leftEdge", arrow: "↑" },
 ] as const;
 
 const TOP = 44;
 const LEFT = 270;
 const BOTTOM = 112;
 
-const band = (lo: number, hi: number) => `${Math.round(lo * 100)}–${Math.round(hi * 100)} %`;
+const band = (lo: number, hi: number) => `${num(Math.round(lo * 100))}–${num(Math.round(hi * 100))} %`;
 
 export function SlabDensityChart({ data }: { data: SlabPositions }) {
+  const { t } = useTranslation("reports");
+  const { term } = useTerms();
   const option = useMemo(() => {
     const along = data.alongEdges.slice(0, -1).map((e, i) => band(e, data.alongEdges[i + 1]!));
     const across = data.acrossEdges.slice(0, -1).map((e, i) => band(e, data.acrossEdges[i + 1]!));
-    const faces = STRIPS.map((s) => ({ ...s, g: data.grid.find((g) => g.face === s.face) }));
+    const faces = STRIPS.map((s) => {
+      const from = t(`positions.from.${s.from}`);
+      return { ...s, name: term("faces", s.face), from, across: `${from} ${s.arrow}`, g: data.grid.find((g) => g.face === s.face) };
+    });
     const max = Math.max(1, ...faces.flatMap((f) => f.g?.cells.flat() ?? [0]));
     let top = TOP;
     const tops = faces.map((f) => {
-      const t = top;
+      const at = top;
       top += f.height;
-      return t;
+      return at;
     });
     const last = faces.length - 1;
     return {
@@ -44,7 +52,7 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
         formatter: (p: { seriesIndex: number; value: [number, number, number] }) => {
           const f = faces[p.seriesIndex]!;
           const total = f.g?.cells.flat().reduce((s, v) => s + v, 0) ?? 0;
-          return `<b>${f.name}</b><br/>along ${along[p.value[0]]} of the length from the head end<br/>across ${across[p.value[1]]} (${f.across.replace(/ [↑↓]/, "")})<br/><b>${p.value[2]}</b> defect${p.value[2] === 1 ? "" : "s"} of ${total} on this face`;
+          return `<b>${esc(f.name)}</b><br/>${esc(t("positions.tipAlong", { band: along[p.value[0]] }))}<br/>${esc(t("positions.tipAcross", { band: across[p.value[1]], from: f.from }))}<br/>${t("positions.tipDefects", { count: p.value[2], n: `<b>${p.value[2]}</b>`, total, interpolation: { escapeValue: false } })}`;
         },
       },
       grid: faces.map((f, i) => ({
@@ -64,7 +72,7 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
         axisTick: { show: i === last },
         axisLine: { show: false },
         axisLabel: { show: i === last, fontSize: 11 },
-        name: i === last ? "Along the slab from the head end (share of its length)" : undefined,
+        name: i === last ? t("positions.alongAxis") : undefined,
         nameLocation: "middle",
         nameGap: 30,
         splitLine: { show: false },
@@ -89,7 +97,7 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
         bottom: 6,
         itemWidth: 14,
         itemHeight: 220,
-        text: [`${max}`, "0  defects per cell"],
+        text: [`${max}`, t("positions.scaleLow")],
         inRange: { color: COUNT_RAMP },
       },
       graphic: [
@@ -99,11 +107,15 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
             type: "text",
             left: 8,
             top: tops[i]! + f.height / 2 + 2,
-            style: { text: `n = ${f.g?.along.reduce((s, v) => s + v, 0) ?? 0} · across ${f.across}`, font: `11px ${FONT}`, fill: INK[700] },
+            style: {
+              text: t("positions.stripNote", { n: f.g?.along.reduce((s, v) => s + v, 0) ?? 0, across: f.across }),
+              font: `11px ${FONT}`,
+              fill: INK[700],
+            },
           },
         ]),
-        { type: "text", left: LEFT, top: 14, style: { text: "◀ HEAD END", font: `700 13px ${FONT}`, fill: INK[900] } },
-        { type: "text", right: 24, top: 14, style: { text: "tail end ▶", font: `12px ${FONT}`, fill: INK[600] } },
+        { type: "text", left: LEFT, top: 14, style: { text: t("positions.headEnd"), font: `700 13px ${FONT}`, fill: INK[900] } },
+        { type: "text", right: 24, top: 14, style: { text: t("positions.tailEnd"), font: `12px ${FONT}`, fill: INK[600] } },
       ],
       series: faces.map((f, i) => ({
         type: "heatmap",
@@ -115,16 +127,9 @@ export function SlabDensityChart({ data }: { data: SlabPositions }) {
         itemStyle: { borderColor: "rgba(255,255,255,0.7)", borderWidth: 1 },
       })),
     };
-  }, [data]);
+  }, [data, t, term]);
   const height = TOP + STRIPS.reduce((s, f) => s + f.height, 0) + BOTTOM;
-  return (
-    <ReportChart
-      option={option}
-      height={height}
-      testId="slab-density-chart"
-      label={`Where ${data.defects} defects sit on the slab's four faces, head end on the left`}
-    />
-  );
+  return <ReportChart option={option} height={height} testId="slab-density-chart" label={t("positions.chartLabel", { n: data.defects })} />;
 }
 
 export default SlabDensityChart;

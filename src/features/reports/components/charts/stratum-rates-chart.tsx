@@ -1,7 +1,10 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import type { RateByVariable } from "@shared/api/reports";
 import { INK, SERIES_COLORS, SERIES_LINE_TYPES } from "@/lib/chart-theme";
-import { lowerFirst, num, pct, pctRange } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
+import { num, pct, pctRange } from "@/lib/format";
+import { inSentence } from "../report-params";
 import { esc, pctAxis, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
@@ -29,6 +32,10 @@ type Stratified = NonNullable<RateByVariable["stratified"]>;
  * Each curve has its own marker shape and line style, and its name written at its end.
  */
 export function StratumRatesChart({ data, stratified, digits }: { data: RateByVariable; stratified: Stratified; digits: number }) {
+  const { t } = useTranslation("reports");
+  const { variable: termWords } = useTerms();
+  const label = termWords(data.variable.key);
+  const byLabel = termWords(stratified.by.key);
   const option = useMemo(() => {
     const unit = data.variable.unit === "–" ? "" : ` (${data.variable.unit})`;
     const lo = data.bins[0]?.lower ?? stratified.strata[0]?.bins[0]?.lower ?? 0;
@@ -46,14 +53,14 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
           const s = stratified.strata[p.seriesIndex];
           const b = s?.bins[p.dataIndex];
           if (!s || !b) return "";
-          return `<b>${esc(s.label)}</b>, ${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/>${pct(b.rate)} (95 % CI ${pctRange(b.ciLower, b.ciUpper)})<br/>${b.affected} affected of n = ${b.slabs}`;
+          return `<b>${esc(s.label)}</b>, ${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/>${esc(t("charts.rateWithCi", { rate: pct(b.rate), ci: pctRange(b.ciLower, b.ciUpper) }))}<br/>${esc(t("charts.affectedOfN", { affected: b.affected, n: b.slabs }))}`;
         },
       },
       xAxis: {
         type: "value",
         min: lo,
         max: hi,
-        name: `${data.variable.label}${unit}`,
+        name: `${label}${unit}`,
         nameLocation: "middle",
         nameGap: 32,
         axisLabel: { formatter: (v: number) => num(v, digits) },
@@ -62,7 +69,7 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
         type: "value",
         min: 0,
         max: yMax,
-        name: "Share of slabs affected",
+        name: t("charts.shareAffected"),
         nameLocation: "middle",
         nameRotate: 90,
         nameGap: 46,
@@ -85,13 +92,13 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
         };
       }),
     };
-  }, [data, stratified, digits]);
+  }, [data, stratified, digits, t, label]);
   return (
     <ReportChart
       option={option}
       height={380}
       testId="stratum-chart"
-      label={`Share of slabs affected against ${lowerFirst(data.variable.label)}, one curve per ${lowerFirst(stratified.by.label)} (${stratified.strata.length})`}
+      label={t("charts.strataLabel", { variable: inSentence(label), by: inSentence(byLabel), n: stratified.strata.length })}
     />
   );
 }

@@ -1,8 +1,10 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import type { ProcessWindow } from "@shared/api/reports";
 import { INK, RATE_RAMP, SPARSE_DECAL, SPARSE_FILL, SPARSE_TEXT } from "@/lib/chart-theme";
+import { useTerms } from "@/i18n/terms";
 import { pct, pctRange } from "@/lib/format";
-import { tooltipBase } from "./chart-parts";
+import { esc, tooltipBase } from "./chart-parts";
 import { binLabel } from "../tables";
 import { ReportChart } from "./report-chart";
 
@@ -12,9 +14,15 @@ import { ReportChart } from "./report-chart";
  * the colour scale covers the readable cells only.
  */
 export function WindowHeatmap({ data, xDigits, yDigits }: { data: ProcessWindow; xDigits: number; yDigits: number }) {
+  const { t } = useTranslation("reports");
+  const { variable } = useTerms();
+  const xLabel = variable(data.x.key);
+  const yLabel = variable(data.y.key);
   const option = useMemo(() => {
-    const xs = data.x.edges.length > 1 ? data.x.edges.slice(0, -1).map((e, i) => binLabel(e, data.x.edges[i + 1]!, xDigits)) : ["all"];
-    const ys = data.y.edges.length > 1 ? data.y.edges.slice(0, -1).map((e, i) => binLabel(e, data.y.edges[i + 1]!, yDigits)) : ["all"];
+    const all = t("window.all");
+    const tooFew = t("window.tooFew");
+    const xs = data.x.edges.length > 1 ? data.x.edges.slice(0, -1).map((e, i) => binLabel(e, data.x.edges[i + 1]!, xDigits)) : [all];
+    const ys = data.y.edges.length > 1 ? data.y.edges.slice(0, -1).map((e, i) => binLabel(e, data.y.edges[i + 1]!, yDigits)) : [all];
     const readable = data.cells.filter((c) => !c.sparse);
     const max = Math.max(0.001, ...readable.map((c) => c.rate ?? 0));
     const unit = (u: string) => (u === "–" ? "" : ` (${u})`);
@@ -27,13 +35,13 @@ export function WindowHeatmap({ data, xDigits, yDigits }: { data: ProcessWindow;
         trigger: "item",
         formatter: (p: { value: [number, number, number] }) => {
           const c = cellAt(p.value[0], p.value[1]);
-          return `${data.x.label} ${binLabel(c.xLower, c.xUpper, xDigits)}${unit(data.x.unit)}<br/>${data.y.label} ${binLabel(c.yLower, c.yUpper, yDigits)}${unit(data.y.unit)}<br/><b>${pct(c.rate)}</b> (95 % CI ${pctRange(c.ciLower, c.ciUpper)})<br/>${c.affected} affected of n = ${c.slabs}${c.sparse ? `<br/><i>fewer than ${data.minN} slabs: not to be read</i>` : ""}`;
+          return `${esc(xLabel)} ${binLabel(c.xLower, c.xUpper, xDigits)}${unit(data.x.unit)}<br/>${esc(yLabel)} ${binLabel(c.yLower, c.yUpper, yDigits)}${unit(data.y.unit)}<br/><b>${pct(c.rate)}</b> (${esc(t("rbv.ciRange", { ci: pctRange(c.ciLower, c.ciUpper) }))})<br/>${esc(t("charts.affectedOfN", { affected: c.affected, n: c.slabs }))}${c.sparse ? `<br/><i>${esc(t("window.notToBeRead", { n: data.minN }))}</i>` : ""}`;
         },
       },
       xAxis: {
         type: "category",
         data: xs,
-        name: `${data.x.label}${unit(data.x.unit)}`,
+        name: `${xLabel}${unit(data.x.unit)}`,
         nameLocation: "middle",
         nameGap: 32,
         splitArea: { show: false },
@@ -42,7 +50,7 @@ export function WindowHeatmap({ data, xDigits, yDigits }: { data: ProcessWindow;
       yAxis: {
         type: "category",
         data: ys,
-        name: `${data.y.label}${unit(data.y.unit)}`,
+        name: `${yLabel}${unit(data.y.unit)}`,
         nameLocation: "middle",
         nameGap: 100,
         axisLabel: { interval: 0, fontSize: 11 },
@@ -61,13 +69,13 @@ export function WindowHeatmap({ data, xDigits, yDigits }: { data: ProcessWindow;
               bottom: 8,
               itemWidth: 14,
               itemHeight: 220,
-              text: [`${pct(max, 1)}`, "0 %  share of slabs affected"],
+              text: [`${pct(max, 1)}`, t("window.scaleLow", { zero: pct(0, 0) })],
               inRange: { color: RATE_RAMP },
             },
       series: [
         {
           type: "heatmap",
-          name: "Share of slabs affected",
+          name: t("charts.shareAffected"),
           data: readable.map((c) => ({
             value: [c.xi, c.yi, c.rate ?? 0],
             label: { color: (c.rate ?? 0) > max * 0.55 ? "#ffffff" : INK[900] },
@@ -86,7 +94,7 @@ export function WindowHeatmap({ data, xDigits, yDigits }: { data: ProcessWindow;
         },
         {
           type: "heatmap",
-          name: "Too few slabs",
+          name: t("window.tooFewSlabs"),
           data: data.cells.filter((c) => c.sparse).map((c) => [c.xi, c.yi, 0]),
           itemStyle: { color: SPARSE_FILL, borderColor: "#ffffff", borderWidth: 2, decal: SPARSE_DECAL },
           label: {
@@ -94,19 +102,19 @@ export function WindowHeatmap({ data, xDigits, yDigits }: { data: ProcessWindow;
             fontSize: 11,
             lineHeight: 15,
             color: SPARSE_TEXT,
-            formatter: (p: { value: [number, number, number] }) => `too few\nn=${cellAt(p.value[0], p.value[1]).slabs}`,
+            formatter: (p: { value: [number, number, number] }) => `${tooFew}\nn=${cellAt(p.value[0], p.value[1]).slabs}`,
           },
         },
       ],
     };
-  }, [data, xDigits, yDigits]);
+  }, [data, xDigits, yDigits, t, xLabel, yLabel]);
   const sparse = data.cells.filter((c) => c.sparse).length;
   return (
     <ReportChart
       option={option}
       height={Math.max(360, 64 * Math.max(1, data.y.edges.length - 1) + 140)}
       testId="window-heatmap"
-      label={`Share of slabs affected over ${data.x.label} and ${data.y.label}: ${data.cells.length} cells, ${sparse} with too few slabs`}
+      label={t("window.chartLabel", { x: xLabel, y: yLabel, cells: data.cells.length, sparse })}
     />
   );
 }
