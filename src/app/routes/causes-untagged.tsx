@@ -1,5 +1,6 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link } from "react-router";
+import { Trans, useTranslation } from "react-i18next";
 import { PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -19,22 +20,20 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("process");
   const catalogue = useQuery(catalogueKeys.list());
   const taxonomy = useQuery(causeKeys.taxonomy(false));
   const error = catalogue.error ?? taxonomy.error;
   return (
     <div className="space-y-5">
       <PageHeader
-        title="Defects without a cause"
+        title={t("untaggedPage.title")}
         subtitle={
-          <>
-            Tag them here, one at a time or many at once; a tagged defect leaves the list. Rejected entries need no cause and are not listed. The tags
-            themselves are kept under{" "}
-            <Link to="/causes" className="font-semibold text-strand-700 underline underline-offset-2">
-              Cause tags
-            </Link>
-            .
-          </>
+          <Trans
+            t={t}
+            i18nKey="untaggedPage.subtitle"
+            components={{ 1: <Link to="/causes" className="font-semibold text-strand-700 underline underline-offset-2" /> }}
+          />
         }
       />
       {error ? (
@@ -42,7 +41,7 @@ export function Component() {
       ) : catalogue.data && taxonomy.data ? (
         <UntaggedWorklist types={catalogue.data.types} taxonomy={taxonomy.data} />
       ) : (
-        <Spinner label="Loading the catalogue and the cause tags" />
+        <Spinner label={t("untaggedPage.loading")} />
       )}
     </div>
   );

@@ -1,5 +1,6 @@
 import { useQueries, useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link, useNavigate, useSearchParams } from "react-router";
+import { useTranslation } from "react-i18next";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -20,6 +21,7 @@ export function makeLoader(qc: QueryClient) {
 
 /** /investigations/new?heat=H1,H2&defect=12,13 — the heat or slab page it came from names its subjects. */
 export function Component() {
+  const { t } = useTranslation("process");
   const [sp] = useSearchParams();
   const navigate = useNavigate();
   const heats = heatList(sp.get("heat") ?? "");
@@ -41,16 +43,13 @@ export function Component() {
     <div className="space-y-5">
       <div>
         <Link to="/investigations" className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
-          All investigations
+          {t("home.allInvestigations")}
         </Link>
       </div>
-      <PageHeader
-        title="Open an investigation"
-        subtitle="Name the problem, the heats or defects it concerns, and who owns it. Hypotheses and actions follow on its page."
-      />
+      <PageHeader title={t("investigations.list.open")} subtitle={t("investigations.new.subtitle")} />
       <Card>
         {waiting ? (
-          <Spinner label="Loading" />
+          <Spinner label={t("ui.loading")} />
         ) : failed ? (
           <Notice tone="error">{failed.message}</Notice>
         ) : (
@@ -58,7 +57,10 @@ export function Component() {
             people={people.data!.people}
             meId={me.data?.id ?? ""}
             heatNos={heats}
-            defects={defects.map((d) => ({ id: d.data!.id, label: `Slab ${d.data!.slabId}, ${d.data!.typeCode} ${d.data!.typeName}` }))}
+            defects={defects.map((d) => ({
+              id: d.data!.id,
+              label: t("investigations.new.defectLabel", { slab: d.data!.slabId, code: d.data!.typeCode, name: d.data!.typeName }),
+            }))}
             heatDefectIds={ofHeats}
             onCreated={(inv) => navigate(`/investigations/${inv.id}`)}
             onCancel={() => navigate(back)}

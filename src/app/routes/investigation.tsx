@@ -1,5 +1,6 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link, useParams, type LoaderFunctionArgs } from "react-router";
+import { useTranslation } from "react-i18next";
 import { can } from "@shared/roles";
 import { PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -37,31 +38,35 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("process");
   const { id } = useParams();
   const me = useQuery(authKeys.me());
   const canManage = me.data ? can(me.data.roles, "investigations.manage") : false;
   const inv = useQuery(investigationKeys.detail(idOf(id)));
   const people = useQuery({ ...investigationKeys.people(), enabled: canManage });
   const taxonomy = useQuery({ ...causeKeys.taxonomy(false), enabled: canManage });
-  if (inv.isPending) return <Spinner label="Loading the investigation" />;
+  if (inv.isPending) return <Spinner label={t("investigations.detail.loading")} />;
   if (inv.isError) return <Notice tone="error">{inv.error.message}</Notice>;
   const i = inv.data;
   const persons = people.data?.people ?? [];
   // Cause tags come from the causes feature; the investigation's pieces take them as plain options.
   const tags: TagOption[] = (taxonomy.data?.groups ?? []).flatMap((g) =>
-    g.tags.filter((t) => !t.retired).map((t) => ({ code: t.code, name: t.name, group: g.name })),
+    g.tags.filter((x) => !x.retired).map((x) => ({ code: x.code, name: x.name, group: g.name })),
   );
   const editable = canManage && i.status !== "closed";
   return (
     <div className="space-y-5">
       <div>
         <Link to="/investigations" className="text-sm font-semibold text-strand-700 underline decoration-strand-300 underline-offset-2">
-          All investigations
+          {t("home.allInvestigations")}
         </Link>
       </div>
       <PageHeader
         title={i.title}
-        subtitle={`${i.ref} · owner ${i.owner?.name ?? "not set"}${canManage ? "" : " · you can read it; process engineers change it"}`}
+        subtitle={t(canManage ? "investigations.detail.subtitle" : "investigations.detail.subtitleReadOnly", {
+          ref: i.ref,
+          owner: i.owner?.name ?? t("investigations.detail.notSet"),
+        })}
       />
       <InvestigationSummaryCard inv={i} canManage={canManage} people={persons} />
       <SubjectsCard inv={i} canManage={canManage} />

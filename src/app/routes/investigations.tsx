@@ -1,5 +1,6 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { Link, useSearchParams, type LoaderFunctionArgs } from "react-router";
+import { Trans, useTranslation } from "react-i18next";
 import { can } from "@shared/roles";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -7,17 +8,12 @@ import { Notice } from "@/components/ui/notice";
 import { authKeys } from "@/features/auth/api/session";
 import { investigationKeys, type InvestigationListParams } from "@/features/investigations/api/investigations.queries";
 import { InvestigationsTable } from "@/features/investigations/components/investigations-table";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
-const STATUS_CHOICES = [
-  { value: "active", label: "Open or under way" },
-  { value: "open", label: "Open" },
-  { value: "in_progress", label: "Under way" },
-  { value: "closed", label: "Closed" },
-  { value: "", label: "All" },
-] as const;
+/** The status filter's choices; their words are under investigations.list.status (by value, "" as "all"). */
+const STATUS_CHOICES = [{ value: "active" }, { value: "open" }, { value: "in_progress" }, { value: "closed" }, { value: "" }] as const;
 
 const paramsOf = (sp: URLSearchParams): InvestigationListParams => {
   const s = sp.get("status");
@@ -34,6 +30,7 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("process");
   const [sp, setSp] = useSearchParams();
   const params = paramsOf(sp);
   const list = useQuery(investigationKeys.list(params));
@@ -43,15 +40,15 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader
-        title="Investigations"
-        subtitle="Each looks at defects or heats, with hypotheses, actions and a closure naming the confirmed cause."
+        title={t("investigations.list.title")}
+        subtitle={t("investigations.list.subtitle")}
         actions={
           canManage ? (
             <Link
               to="/investigations/new"
               className="flex min-h-11 items-center rounded-md bg-strand-700 px-4 text-sm font-semibold text-white hover:bg-strand-800"
             >
-              Open an investigation
+              {t("investigations.list.open")}
             </Link>
           ) : null
         }
@@ -59,7 +56,7 @@ export function Component() {
       <Card>
         <div className="flex flex-wrap items-end gap-4">
           <fieldset>
-            <legend className="mb-1 text-sm font-semibold text-ink-800">Status</legend>
+            <legend className="mb-1 text-sm font-semibold text-ink-800">{t("investigations.table.status")}</legend>
             <div className="flex flex-wrap gap-2" role="radiogroup">
               {STATUS_CHOICES.map((c) => {
                 const on = (params.status ?? "") === c.value;
@@ -76,7 +73,7 @@ export function Component() {
                     }}
                     className={`min-h-11 rounded-md border-2 px-3 text-sm font-semibold ${on ? "border-strand-700 bg-strand-50 text-ink-900" : "border-ink-200 bg-white text-ink-700"}`}
                   >
-                    {c.label}
+                    {t(`investigations.list.status.${c.value || "all"}`)}
                   </button>
                 );
               })}
@@ -84,7 +81,9 @@ export function Component() {
           </fieldset>
           {params.heatNo ? (
             <span className="inline-flex min-h-11 items-center gap-2 rounded-md border border-ink-300 bg-ink-50 px-3 text-sm">
-              Heat <strong>{params.heatNo}</strong>
+              <span>
+                <Trans t={t} i18nKey="investigations.list.heat" values={{ heat: params.heatNo }} components={{ 1: <strong /> }} />
+              </span>
               <button
                 type="button"
                 className="min-h-9 font-semibold text-strand-700 underline"
@@ -94,20 +93,24 @@ export function Component() {
                   setSp(next, { replace: true });
                 }}
               >
-                remove
+                {t("investigations.list.remove")}
               </button>
             </span>
           ) : null}
           {list.data ? (
             <p className="ml-auto text-sm text-ink-700" data-testid="investigations-count">
-              {plural(list.data.items.length, "investigation")}, {plural(overdue, "overdue action")}
+              {t("investigations.list.count", {
+                count: list.data.items.length,
+                n: count(list.data.items.length),
+                overdue: t("investigations.list.overdueActions", { count: overdue, n: count(overdue) }),
+              })}
             </p>
           ) : null}
         </div>
       </Card>
       <Card bodyClassName="px-2 py-3 md:p-4">
         {list.isPending ? (
-          <Spinner label="Loading the investigations" />
+          <Spinner label={t("investigations.list.loading")} />
         ) : list.isError ? (
           <Notice tone="error">{list.error.message}</Notice>
         ) : (

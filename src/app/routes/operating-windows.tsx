@@ -1,6 +1,7 @@
 import { useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
-import { WINDOW_CAUTION, type OperatingWindow } from "@shared/api/operating-windows";
+import { useTranslation } from "react-i18next";
+import { WINDOW_RECORD_DAYS, type OperatingWindow } from "@shared/api/operating-windows";
 import { can } from "@shared/roles";
 import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
@@ -12,7 +13,7 @@ import { plantKeys } from "@/features/plant/api/plant.queries";
 import { useRetireWindow, windowKeys } from "@/features/windows/api/windows.queries";
 import { WindowForm } from "@/features/windows/components/window-form";
 import { WindowRecordView } from "@/features/windows/components/window-record";
-import { date } from "@/lib/format";
+import { count, DASH, date } from "@/lib/format";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -37,28 +38,30 @@ function useChoices() {
 }
 
 function RetireButton({ rule }: { rule: OperatingWindow }) {
+  const { t } = useTranslation("process");
   const retire = useRetireWindow();
   const [asking, setAsking] = useState(false);
   if (!asking) {
     return (
       <Button variant="secondary" onClick={() => setAsking(true)}>
-        Retire
+        {t("causes.editor.retire")}
       </Button>
     );
   }
   return (
-    <div className="w-full space-y-2 rounded-md border border-alarm-700 bg-alarm-100 p-3 text-sm" role="group" aria-label={`Retire ${rule.name}`}>
-      <p>
-        Retire “{rule.name}”? It flags no slab from now on; its history stays in the audit trail. A retired rule cannot be brought back — write a new one
-        instead.
-      </p>
+    <div
+      className="w-full space-y-2 rounded-md border border-alarm-700 bg-alarm-100 p-3 text-sm"
+      role="group"
+      aria-label={t("causes.editor.retireLabel", { name: rule.name })}
+    >
+      <p>{t("windows.retireAsk", { name: rule.name })}</p>
       {retire.isError ? <Notice tone="error">{retire.error.message}</Notice> : null}
       <div className="flex flex-wrap gap-2">
         <Button variant="danger" disabled={retire.isPending} onClick={() => retire.mutate(rule.id)}>
-          {retire.isPending ? "Retiring…" : "Yes, retire it"}
+          {retire.isPending ? t("windows.retiring") : t("windows.retireYes")}
         </Button>
         <Button variant="ghost" onClick={() => setAsking(false)}>
-          Keep it
+          {t("ui.keepIt")}
         </Button>
       </div>
     </div>
@@ -66,6 +69,7 @@ function RetireButton({ rule }: { rule: OperatingWindow }) {
 }
 
 function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boolean }) {
+  const { t } = useTranslation("process");
   const [editing, setEditing] = useState(false);
   const choices = useChoices();
   return (
@@ -73,7 +77,7 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
       title={rule.name}
       actions={
         <span className="rounded bg-ink-100 px-2 py-0.5 text-sm font-semibold text-ink-800">
-          {rule.familyCode ? `${rule.familyCode} family` : "Every family"}
+          {rule.familyCode ? t("windows.family", { code: rule.familyCode }) : t("windows.everyFamily")}
         </span>
       }
     >
@@ -83,37 +87,40 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
         ) : (
           <>
             <dl className="grid gap-2 text-sm sm:grid-cols-[10rem_1fr]">
-              <dt className="font-semibold text-ink-700">Flags a slab when</dt>
+              <dt className="font-semibold text-ink-700">{t("windows.flagsWhen")}</dt>
               <dd className="text-ink-900" data-testid="window-text">
                 {rule.text}
               </dd>
-              <dt className="font-semibold text-ink-700">Grade family</dt>
-              <dd className="text-ink-900">{rule.familyCode ? `${rule.familyCode} — ${rule.familyName ?? ""}` : "Every family"}</dd>
-              <dt className="font-semibold text-ink-700">Watches</dt>
+              <dt className="font-semibold text-ink-700">{t("windows.gradeFamily")}</dt>
+              <dd className="text-ink-900">{rule.familyCode ? `${rule.familyCode} — ${rule.familyName ?? ""}` : t("windows.everyFamily")}</dd>
+              <dt className="font-semibold text-ink-700">{t("windows.watches")}</dt>
               <dd className="text-ink-900">
-                {rule.target ? `${rule.target.name} (${rule.target.kind === "type" ? rule.target.code : "category"})` : "Any defect"}
+                {rule.target
+                  ? t("windows.target", { name: rule.target.name, kind: rule.target.kind === "type" ? rule.target.code : t("windows.category") })
+                  : t("windows.anyDefect")}
               </dd>
               {rule.note ? (
                 <>
-                  <dt className="font-semibold text-ink-700">Note</dt>
+                  <dt className="font-semibold text-ink-700">{t("windows.note")}</dt>
                   <dd className="text-ink-900">{rule.note}</dd>
                 </>
               ) : null}
-              <dt className="font-semibold text-ink-700">Written</dt>
+              <dt className="font-semibold text-ink-700">{t("windows.written")}</dt>
               <dd className="text-ink-700">
-                {date(rule.createdAt)} by {rule.createdByName ?? "—"}
-                {rule.updatedAt !== rule.createdAt ? ` · changed ${date(rule.updatedAt)}` : ""}
+                {rule.updatedAt !== rule.createdAt
+                  ? t("windows.writtenByChanged", { date: date(rule.createdAt), name: rule.createdByName ?? DASH, changed: date(rule.updatedAt) })
+                  : t("windows.writtenBy", { date: date(rule.createdAt), name: rule.createdByName ?? DASH })}
               </dd>
             </dl>
             {rule.record ? (
               <WindowRecordView record={rule.record} />
             ) : (
-              <p className="text-sm text-ink-700">Retired {date(rule.retiredAt)}: it flags nothing.</p>
+              <p className="text-sm text-ink-700">{t("windows.retired", { date: date(rule.retiredAt) })}</p>
             )}
             {canManage && !rule.retiredAt ? (
               <div className="flex flex-wrap gap-2">
                 <Button variant="secondary" onClick={() => setEditing(true)}>
-                  Change
+                  {t("ui.change")}
                 </Button>
                 <RetireButton rule={rule} />
               </div>
@@ -126,6 +133,7 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
 }
 
 export function Component() {
+  const { t } = useTranslation("process");
   const me = useQuery(authKeys.me());
   const canManage = me.data ? can(me.data.roles, "windows.manage") : false;
   const [from, setFrom] = useState("");
@@ -137,46 +145,44 @@ export function Component() {
   return (
     <div className="space-y-5">
       <PageHeader
-        title="Operating windows"
-        subtitle="Plain rules per grade family; each slab cast outside a window carries the rule's name, and each rule shows on history whether it earns its keep."
+        title={t("windows.title")}
+        subtitle={t("windows.subtitle")}
         actions={
           canManage && !writing ? (
             <Button onClick={() => setWriting(true)} disabled={items.length >= (list.data?.liveLimit ?? Infinity)}>
-              Write a rule
+              {t("windows.form.write")}
             </Button>
           ) : null
         }
       />
-      <Notice tone="caution" title="Read with care">
-        {list.data?.caution ?? WINDOW_CAUTION}
+      <Notice tone="caution" title={t("ui.readWithCare")}>
+        {t("windows.caution")}
       </Notice>
       {writing ? (
-        <Card title="Write a rule">
+        <Card title={t("windows.form.write")}>
           <WindowForm {...choices} onDone={() => setWriting(false)} />
         </Card>
       ) : null}
-      <Card title="History the records cover">
+      <Card title={t("windows.historyCovered")}>
         <div className="flex flex-wrap items-end gap-4">
           <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-            Cast from
+            {t("windows.castFrom")}
             <input type="date" value={from} onChange={(e) => setFrom(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
           </label>
           <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-            Cast until
+            {t("windows.castUntil")}
             <input type="date" value={to} onChange={(e) => setTo(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
           </label>
-          <p className="text-sm text-ink-700">{from || to ? "" : "Empty: the last 365 days."}</p>
+          <p className="text-sm text-ink-700">{from || to ? "" : t("windows.lastDays", { n: count(WINDOW_RECORD_DAYS) })}</p>
         </div>
       </Card>
       {list.isPending ? (
-        <Spinner label="Loading the rules and their records" />
+        <Spinner label={t("windows.loading")} />
       ) : list.isError ? (
         <Notice tone="error">{list.error.message}</Notice>
       ) : items.length === 0 ? (
         <Card>
-          <p className="text-ink-700">
-            No rule written yet.{canManage ? " Write the first one: a grade family, the defect, and the conditions that should not occur together." : ""}
-          </p>
+          <p className="text-ink-700">{canManage ? t("windows.noneYetManage") : t("windows.noneYet")}</p>
         </Card>
       ) : (
         <div className="grid gap-4 xl:grid-cols-2" data-testid="window-list">

@@ -1,4 +1,5 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -16,15 +17,13 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("review");
   const catalogue = useQuery(catalogueKeys.list(true));
   return (
     <div className="space-y-5">
-      <PageHeader
-        title="Defect catalogue"
-        subtitle="The types the yard chooses from, in their categories. A retired type keeps its past entries and leaves the yard's list."
-      />
+      <PageHeader title={t("cataloguePage.title")} subtitle={t("cataloguePage.subtitle")} />
       {catalogue.isPending ? (
-        <Spinner label="Loading the catalogue" />
+        <Spinner label={t("loadingCatalogue")} />
       ) : catalogue.isError ? (
         <Notice tone="error">{catalogue.error.message}</Notice>
       ) : (

@@ -1,4 +1,5 @@
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
@@ -16,15 +17,13 @@ export function makeLoader(qc: QueryClient) {
 }
 
 export function Component() {
+  const { t } = useTranslation("review");
   const catalogue = useQuery(catalogueKeys.list());
   return (
     <div className="space-y-5">
-      <PageHeader
-        title="Review queue"
-        subtitle="New entries from the yard, in the order you choose: confirm, correct the type or severity, or reject with a reason."
-      />
+      <PageHeader title={t("queuePage.title")} subtitle={t("queuePage.subtitle")} />
       {catalogue.isPending ? (
-        <Spinner label="Loading the catalogue" />
+        <Spinner label={t("loadingCatalogue")} />
       ) : catalogue.isError ? (
         <Notice tone="error">{catalogue.error.message}</Notice>
       ) : (

@@ -1,4 +1,5 @@
-import { termLabel } from "@shared/api/reports";
+import { useTranslation } from "react-i18next";
+import { useTerms } from "@/i18n/terms";
 import { AdjustedSettings, AdjustedView } from "@/features/reports/components/adjusted-view";
 import { describeFilters, listOf } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
@@ -8,12 +9,15 @@ import { RouteError } from "./route-error";
 const KIND = "adjusted" as const;
 
 export function Component() {
+  const { t } = useTranslation("analysis");
+  const { variable } = useTerms();
   const { params, query, update, choices, report } = useReportScreen(KIND);
-  const examined = listOf(params.variables).map(termLabel).join(", ");
+  const examined = listOf(params.variables).map(variable).join(", ");
   const adjust = listOf(params.adjustFor)
     .filter((k) => k !== "none")
-    .map(termLabel)
+    .map(variable)
     .join(", ");
+  const filters = describeFilters(params);
   return (
     <ReportPage
       kind={KIND}
@@ -21,7 +25,7 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`${examined} adjusted for ${adjust || "nothing"} — ${describeFilters(params)}`}
+      suggestedName={adjust ? t("adjusted.suggestedName", { examined, adjust, filters }) : t("adjusted.suggestedNameCrude", { examined, filters })}
       canExport={report.isSuccess}
       settings={<AdjustedSettings params={params} onChange={update} />}
     >

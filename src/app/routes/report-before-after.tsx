@@ -1,5 +1,6 @@
 import { useEffect } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import type { LoaderFunctionArgs } from "react-router";
 import { plantKeys } from "@/features/plant/api/plant.queries";
 import { BeforeAfterSettings, BeforeAfterView, beforeAfterReady } from "@/features/reports/components/before-after-view";
@@ -23,6 +24,7 @@ const isoDay = (t: number) => new Date(t).toISOString().slice(0, 10);
 const DAY = 86_400_000;
 
 export function Component() {
+  const { t } = useTranslation("analysis");
   const { params, query, update, choices, report } = useReportScreen(KIND, beforeAfterReady);
   const ready = beforeAfterReady(params);
   const summary = useQuery(plantKeys.summary());
@@ -43,7 +45,7 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`Before and after — ${describeFilters(params)}`}
+      suggestedName={t("beforeAfter.suggestedName", { filters: describeFilters(params) })}
       canExport={ready && report.isSuccess}
       settings={<BeforeAfterSettings params={params} onChange={update} />}
     >
@@ -51,7 +53,7 @@ export function Component() {
         <ReportResult query={report}>{(data) => <BeforeAfterView data={data} />}</ReportResult>
       ) : (
         <p className="rounded-md border border-ink-300 bg-white px-4 py-3 text-sm" data-testid="before-after-incomplete">
-          {params.mode === "variable" ? "Give both ranges of the variable, then compare." : "Give both periods, then compare."}
+          {params.mode === "variable" ? t("beforeAfter.giveRanges") : t("beforeAfter.givePeriods")}
         </p>
       )}
     </ReportPage>

@@ -1,3 +1,4 @@
+import { useTranslation } from "react-i18next";
 import { ControlChartSettings, ControlChartView } from "@/features/reports/components/control-chart-view";
 import { describeFilters } from "@/features/reports/components/report-params";
 import { ReportPage, ReportResult } from "@/features/reports/components/report-page";
@@ -6,10 +7,12 @@ import { RouteError } from "./route-error";
 
 const KIND = "control-chart" as const;
 
-const CHART_NAMES: Record<string, string> = { p: "p-chart", laney: "Laney p′ chart", u: "u-chart" };
-
 export function Component() {
+  const { t } = useTranslation("analysis");
   const { params, query, update, choices, report } = useReportScreen(KIND);
+  const chart = t(`chartNames.${params.chart ?? "p"}`, { defaultValue: t("chartNames.p") });
+  const period = t(`periodWords.${params.period}`, { defaultValue: params.period });
+  const filters = describeFilters(params);
   return (
     <ReportPage
       kind={KIND}
@@ -17,7 +20,11 @@ export function Component() {
       query={query}
       choices={choices}
       onChange={update}
-      suggestedName={`${CHART_NAMES[params.chart ?? "p"] ?? "p-chart"} by ${params.period}${params.baselineFrom ? `, baseline ${params.baselineFrom} to ${params.baselineTo}` : ""} — ${describeFilters(params)}`}
+      suggestedName={
+        params.baselineFrom
+          ? t("controlChart.suggestedNameBaseline", { chart, period, from: params.baselineFrom, to: params.baselineTo, filters })
+          : t("controlChart.suggestedName", { chart, period, filters })
+      }
       canExport={report.isSuccess}
       settings={<ControlChartSettings params={params} onChange={update} />}
     >

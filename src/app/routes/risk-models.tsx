@@ -1,6 +1,7 @@
 import { lazy, Suspense, useState } from "react";
 import { useQuery, type QueryClient } from "@tanstack/react-query";
-import { RISK_BAND_LABELS, RISK_CATEGORY_KEYS, RISK_CATEGORY_LABELS, RISK_CAUTION, type RiskModel, type TrainRiskModelBody } from "@shared/api/risk";
+import { useTranslation } from "react-i18next";
+import { RISK_CATEGORY_KEYS, type RiskModel, type TrainRiskModelBody } from "@shared/api/risk";
 import { can } from "@shared/roles";
 import { VARIABLES } from "@shared/variables";
 import { Button } from "@/components/ui/button";
@@ -13,7 +14,8 @@ import { catalogueKeys } from "@/features/defects/api/catalogue.queries";
 import { Figure } from "@/features/reports/components/figure";
 import { riskKeys, useActivateRiskModel, useTrainRiskModel } from "@/features/risk/api/risk.queries";
 import { DriftPanel } from "@/features/risk/components/drift-panel";
-import { date, dateTime, num, pct, sig } from "@/lib/format";
+import { DASH, date, dateTime, num, pct, sig } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 import { DefectTargetOptions } from "@/features/defects/components/defect-target-options";
@@ -33,6 +35,8 @@ const CONDITIONS = VARIABLES.filter((v) => v.group === "condition" || v.group ==
 const DEFAULT_CONDITIONS = ["casting_speed_m_min", "superheat_c", "embr_current_a", "sen_depth_mm", "argon_nl_min", "mold_level_sd_mm"];
 
 function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: number | null) => void }) {
+  const { t } = useTranslation("process");
+  const { term, variable } = useTerms();
   const catalogue = useQuery(catalogueKeys.list());
   const train = useTrainRiskModel();
   const [target, setTarget] = useState("");
@@ -67,7 +71,7 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
     >
       <div className="flex flex-col gap-1">
         <label htmlFor="risk-target" className="text-sm font-semibold text-ink-800">
-          What the model predicts
+          {t("risk.train.target")}
         </label>
         <select
           id="risk-target"
@@ -76,101 +80,119 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
           onChange={(e) => setTarget(e.target.value)}
           className="min-h-11 rounded-md border border-ink-300 bg-white px-3"
         >
-          <option value="">Choose a defect type or category…</option>
+          <option value="">{t("risk.train.chooseTarget")}</option>
           <DefectTargetOptions categories={cats} types={types} />
         </select>
       </div>
       <fieldset>
-        <legend className="text-sm font-semibold text-ink-800">Conditions (each as a smooth curve: restricted cubic spline, 4 knots)</legend>
+        <legend className="text-sm font-semibold text-ink-800">{t("risk.train.conditions", { knots: 4 })}</legend>
         <div className="mt-1 grid gap-1 sm:grid-cols-2">
           {CONDITIONS.map((v) => (
             <label key={v.key} className="flex min-h-9 items-center gap-2 text-sm">
               <input type="checkbox" checked={conditions.includes(v.key)} onChange={() => toggle(conditions, setConditions, v.key)} />
-              {v.label} ({v.unit})
+              {variable(v.key)} ({v.unit})
             </label>
           ))}
         </div>
       </fieldset>
       <fieldset>
-        <legend className="text-sm font-semibold text-ink-800">Categories</legend>
+        <legend className="text-sm font-semibold text-ink-800">{t("risk.train.categories")}</legend>
         <div className="mt-1 grid gap-1 sm:grid-cols-2">
           {RISK_CATEGORY_KEYS.map((k) => (
             <label key={k} className="flex min-h-9 items-center gap-2 text-sm">
               <input type="checkbox" checked={categories.includes(k)} onChange={() => toggle(categories, setCategories, k)} />
-              {RISK_CATEGORY_LABELS[k]}
+              {term("riskCategories", k)}
             </label>
           ))}
         </div>
       </fieldset>
       <div className="flex flex-wrap gap-4">
         <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-          Cast from (optional)
+          {t("risk.train.castFrom")}
           <input type="date" value={from} onChange={(e) => setFrom(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
         </label>
         <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-          Cast until (optional)
+          {t("risk.train.castUntil")}
           <input type="date" value={to} onChange={(e) => setTo(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
         </label>
       </div>
-      <p className="text-sm text-ink-700">
-        The newest quarter of the judged slabs is held back and the model is judged on it alone; slabs of the last 14 days are left out until the yard has seen
-        them all.
-      </p>
+      <p className="text-sm text-ink-700">{t("risk.train.holdout", { days: 14 })}</p>
       {train.isError ? <Notice tone="error">{train.error.message}</Notice> : null}
       <Button type="submit" disabled={train.isPending || !target}>
-        {train.isPending ? "Training…" : "Train a new version"}
+        {train.isPending ? t("risk.train.training") : t("risk.train.submit")}
       </Button>
     </form>
   );
 }
 
 function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
+  const { t } = useTranslation("process");
+  const { term } = useTerms();
   const detail = useQuery(riskKeys.detail(id));
   const activate = useActivateRiskModel();
-  if (detail.isPending) return <Spinner label="Loading the model" />;
+  if (detail.isPending) return <Spinner label={t("risk.model.loading")} />;
   if (detail.isError) return <Notice tone="error">{detail.error.message}</Notice>;
   const m = detail.data;
   const v = m.validation;
   return (
     <div className="space-y-4" data-testid="risk-model-detail">
       <p className="text-sm text-ink-800">
-        {m.targetName}, version {m.version} · trained {dateTime(m.finishedAt)} by {m.trainedByName ?? "—"} on slabs cast {date(m.trainFrom)} – {date(m.trainTo)}
-        {m.active ? ` · switched on ${dateTime(m.activatedAt)} by ${m.activatedByName ?? "—"}` : ""}
+        {t("risk.model.trained", {
+          target: m.targetName,
+          version: m.version,
+          at: dateTime(m.finishedAt),
+          by: m.trainedByName ?? DASH,
+          from: date(m.trainFrom),
+          to: date(m.trainTo),
+        })}
+        {m.active ? t("risk.model.switchedOn", { at: dateTime(m.activatedAt), by: m.activatedByName ?? DASH }) : ""}
       </p>
       {m.status === "failed" ? <Notice tone="error">{m.error}</Notice> : null}
       {v ? (
         <>
           <div className="grid gap-2 sm:grid-cols-3">
             <Figure
-              label="ROC AUC on the test slabs"
+              label={t("risk.model.auc")}
               value={sig(v.auc, 3)}
-              note={v.aucCiLower !== null ? `95 % interval ${sig(v.aucCiLower, 3)} – ${sig(v.aucCiUpper, 3)} (DeLong)` : undefined}
+              note={v.aucCiLower !== null ? t("risk.model.aucInterval", { lower: sig(v.aucCiLower, 3), upper: sig(v.aucCiUpper, 3) }) : undefined}
             />
-            <Figure label="Baseline AUC (grade-family rate)" value={sig(v.baselineAuc, 3)} note="on the same test slabs" />
-            <Figure label="Brier score" value={sig(v.brier, 3)} note={`baseline ${sig(v.baselineBrier, 3)}; lower is better`} />
-            <Figure label="Calibration slope" value={sig(v.calibrationSlope, 3)} note={`intercept ${sig(v.calibrationIntercept, 3)}; 1 and 0 are ideal`} />
-            <Figure label="Defective slabs caught in the riskiest 10 %" value={pct(v.captureTop10, 0)} note={`20 %: ${pct(v.captureTop20, 0)}`} />
-            <Figure label="Test slabs" value={num(v.testSlabs)} note={`${num(v.testAffected)} with the defect; trained on ${num(v.trainSlabs)}`} />
+            <Figure label={t("risk.model.baselineAuc")} value={sig(v.baselineAuc, 3)} note={t("risk.model.sameTestSlabs")} />
+            <Figure label={t("risk.model.brier")} value={sig(v.brier, 3)} note={t("risk.model.brierNote", { baseline: sig(v.baselineBrier, 3) })} />
+            <Figure
+              label={t("risk.model.slope")}
+              value={sig(v.calibrationSlope, 3)}
+              note={t("risk.model.slopeNote", { intercept: sig(v.calibrationIntercept, 3) })}
+            />
+            <Figure label={t("risk.model.capture")} value={pct(v.captureTop10, 0)} note={t("risk.model.captureNote", { value: pct(v.captureTop20, 0) })} />
+            <Figure
+              label={t("risk.model.testSlabs")}
+              value={num(v.testSlabs)}
+              note={t("risk.model.testSlabsNote", { affected: num(v.testAffected), trained: num(v.trainSlabs) })}
+            />
           </div>
           {m.beatsBaseline ? (
-            <Notice tone="info" title="Better than the baseline">
-              The lower end of its AUC interval lies above the grade-family baseline on the newest slabs, which it never saw.
+            <Notice tone="info" title={t("risk.model.better")}>
+              {t("risk.model.betterText")}
             </Notice>
           ) : (
-            <Notice tone="caution" title="Not better than the baseline">
-              On the newest slabs this model does not rank better than each slab's grade-family rate, so it cannot be switched on.
+            <Notice tone="caution" title={t("risk.model.notBetter")}>
+              {t("risk.model.notBetterText")}
             </Notice>
           )}
           {v.notes.length ? <Notice tone="caution">{v.notes.join(" ")}</Notice> : null}
           {v.reliability.length ? (
-            <Suspense fallback={<Spinner label="Loading the chart" />}>
+            <Suspense fallback={<Spinner label={t("ui.loadingChart")} />}>
               <ReliabilityChart validation={v} />
             </Suspense>
           ) : null}
           {m.bands ? (
             <p className="text-sm text-ink-800">
-              Bands: {RISK_BAND_LABELS.high} from {pct(m.bands.high, 1)} (the riskiest 10 % of the test slabs), {RISK_BAND_LABELS.raised.toLowerCase()} from{" "}
-              {pct(m.bands.raised, 1)} (the next 20 %).
+              {t("risk.model.bands", {
+                high: term("riskBands", "high"),
+                highFrom: pct(m.bands.high, 1),
+                raised: term("riskBands", "raised").toLowerCase(),
+                raisedFrom: pct(m.bands.raised, 1),
+              })}
             </p>
           ) : null}
         </>
@@ -178,26 +200,26 @@ function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
       {canTrain && m.status === "ready" && !m.active ? (
         <div className="space-y-2">
           <Button onClick={() => activate.mutate(m.id)} disabled={!m.beatsBaseline || activate.isPending}>
-            {activate.isPending ? "Switching on…" : `Switch on version ${m.version}`}
+            {activate.isPending ? t("risk.model.switchingOn") : t("risk.model.switchOn", { version: m.version })}
           </Button>
           {activate.isError ? <Notice tone="error">{activate.error.message}</Notice> : null}
         </div>
       ) : null}
       <details className="text-sm">
-        <summary className="cursor-pointer font-semibold text-ink-800">Method and terms</summary>
+        <summary className="cursor-pointer font-semibold text-ink-800">{t("risk.model.method")}</summary>
         <p className="mt-2 text-ink-800">{m.method}</p>
         <table className="mt-2 text-sm">
           <thead>
             <tr>
-              <th className="pr-4 text-left">Term</th>
-              <th className="text-right">Coefficient (log-odds)</th>
+              <th className="pr-4 text-left">{t("risk.model.term")}</th>
+              <th className="text-right">{t("risk.model.coefficient")}</th>
             </tr>
           </thead>
           <tbody>
-            {m.terms.map((t) => (
-              <tr key={t.column}>
-                <td className="pr-4">{t.column}</td>
-                <td className="text-right tabular-nums">{sig(t.coefficient, 4)}</td>
+            {m.terms.map((x) => (
+              <tr key={x.column}>
+                <td className="pr-4">{x.column}</td>
+                <td className="text-right tabular-nums">{sig(x.coefficient, 4)}</td>
               </tr>
             ))}
           </tbody>
@@ -208,6 +230,7 @@ function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
 }
 
 export function Component() {
+  const { t } = useTranslation("process");
   const me = useQuery(authKeys.me());
   const canTrain = me.data ? can(me.data.roles, "risk.train") : false;
   const [training, setTraining] = useState(false);
@@ -218,17 +241,17 @@ export function Component() {
   const shown = open ?? items.find((m) => m.active)?.id ?? items[0]?.id ?? null;
   return (
     <div className="space-y-5">
-      <PageHeader title="Slab risk models" subtitle="Learnt from the plant's own history, to order the yard's work before inspection." />
-      <Notice tone="caution" title="Read with care">
-        {RISK_CAUTION}
+      <PageHeader title={t("risk.title")} subtitle={t("risk.subtitle")} />
+      <Notice tone="caution" title={t("ui.readWithCare")}>
+        {t("risk.caution")}
       </Notice>
-      <Card title="Versions">
+      <Card title={t("risk.versions")}>
         {list.isPending ? (
-          <Spinner label="Loading the models" />
+          <Spinner label={t("risk.loadingModels")} />
         ) : list.isError ? (
           <Notice tone="error">{list.error.message}</Notice>
         ) : items.length === 0 ? (
-          <p className="text-ink-700">No model trained yet.</p>
+          <p className="text-ink-700">{t("risk.noModel")}</p>
         ) : (
           <ul className="divide-y divide-ink-200" data-testid="risk-model-list">
             {items.map((m: Omit<RiskModel, "terms">) => (
@@ -239,33 +262,36 @@ export function Component() {
                   onClick={() => setOpen(m.id)}
                   aria-current={shown === m.id ? "true" : undefined}
                 >
-                  {m.targetName} · version {m.version}
+                  {t("risk.listItem", { target: m.targetName, version: m.version })}
                 </button>
                 <span className="text-sm text-ink-800">
                   {m.status === "training"
-                    ? `training (${pct(m.progress, 0)})`
+                    ? t("risk.trainingProgress", { progress: pct(m.progress, 0) })
                     : m.status === "failed"
-                      ? "failed"
-                      : `AUC ${sig(m.validation?.auc, 3)} against ${sig(m.validation?.baselineAuc, 3)} for the baseline${m.beatsBaseline ? "" : " · not better than the baseline: cannot be switched on"}`}
+                      ? t("risk.failed")
+                      : t(m.beatsBaseline ? "risk.aucAgainst" : "risk.aucAgainstNotBetter", {
+                          auc: sig(m.validation?.auc, 3),
+                          baseline: sig(m.validation?.baselineAuc, 3),
+                        })}
                 </span>
-                {m.active ? <span className="rounded bg-strand-100 px-2 py-0.5 text-sm font-semibold text-strand-800">On</span> : null}
+                {m.active ? <span className="rounded bg-strand-100 px-2 py-0.5 text-sm font-semibold text-strand-800">{t("risk.on")}</span> : null}
               </li>
             ))}
           </ul>
         )}
       </Card>
       {shown !== null ? (
-        <Card title="The version">
+        <Card title={t("risk.theVersion")}>
           <ModelDetail id={shown} canTrain={canTrain} />
         </Card>
       ) : null}
       {shown !== null && items.find((m) => m.id === shown)?.status === "ready" ? (
-        <Card title="Drift since training: predicted against found, month by month">
+        <Card title={t("risk.driftTitle")}>
           <DriftPanel modelId={shown} />
         </Card>
       ) : null}
       {canTrain ? (
-        <Card title="Train a new version">
+        <Card title={t("risk.train.submit")}>
           <TrainForm
             onStart={() => setTraining(true)}
             onDone={(id) => {
@@ -276,7 +302,7 @@ export function Component() {
           {inFlight ? (
             <div className="mt-3">
               <ProgressBar
-                label={`Training ${inFlight.targetName}, version ${inFlight.version}`}
+                label={t("risk.trainingLabel", { target: inFlight.targetName, version: inFlight.version })}
                 value={inFlight.progress}
                 detail={inFlight.progressText ?? undefined}
               />

@@ -1,11 +1,13 @@
 import { useState } from "react";
 import { useQuery, type QueryKey } from "@tanstack/react-query";
+import { Trans, useTranslation } from "react-i18next";
 import type { BulkTag, BulkTagResult, TagDefect } from "@shared/api/causes";
 import { Button } from "@/components/ui/button";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { SeverityMark } from "@/components/ui/marks";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
 import { causeKeys, useBulkTag } from "../api/causes.queries";
 import { TaggingForm } from "./tagging-form";
 
@@ -33,6 +35,8 @@ export function BulkTagPanel({
   /** Told once the taggings are written, with the causes' names (a worklist closes the panel and says so itself). */
   onWritten?: (result: BulkTagResult, causes: string[]) => void;
 }) {
+  const { t } = useTranslation("process");
+  const { term } = useTerms();
   const taxonomy = useQuery(causeKeys.taxonomy(false));
   const bulk = useBulkTag({ affects });
   const [types, setTypes] = useState<string[]>([]);
@@ -62,36 +66,64 @@ export function BulkTagPanel({
   };
 
   // What is asked, in the taxonomy's names, so the count is read against the choice it counts.
-  const namesOf = (codes: string[]) => codes.map((c) => taxonomy.data?.groups.flatMap((g) => g.tags).find((t) => t.code === c)?.name ?? c);
-  if (taxonomy.isPending) return <Spinner label="Loading the cause tags" />;
+  const namesOf = (codes: string[]) => codes.map((c) => taxonomy.data?.groups.flatMap((g) => g.tags).find((x) => x.code === c)?.name ?? c);
+  if (taxonomy.isPending) return <Spinner label={t("causes.loadingTags")} />;
   if (taxonomy.isError) return <Notice tone="error">{taxonomy.error.message}</Notice>;
   return (
     <div className="space-y-4" data-testid="bulk-tag">
       {written ? (
         <div data-testid="bulk-result">
-          <Notice tone="ok" title="Written">
-            <span data-testid="bulk-result-text">
-              {plural(written.tagged, "tagging")} written, {written.unchanged.toLocaleString("en-GB")} unchanged
-            </span>{" "}
-            — over {plural(written.defects, "defect")} of {describe}.
+          <Notice tone="ok" title={t("causes.bulk.written")}>
+            <Trans
+              t={t}
+              i18nKey="causes.bulk.result"
+              count={written.defects}
+              values={{
+                n: count(written.defects),
+                describe,
+                taggings: t("causes.bulk.taggingsWritten", { count: written.tagged, n: count(written.tagged), unchanged: count(written.unchanged) }),
+              }}
+              components={{ 1: <span data-testid="bulk-result-text" /> }}
+            />
           </Notice>
         </div>
       ) : null}
       {pending ? (
         <div className="space-y-3 rounded-md border-2 border-strand-600 bg-strand-50 p-3" data-testid="bulk-preview">
           <p className="text-sm">
-            <strong data-testid="bulk-preview-defects">{plural(pending.preview.defects, "defect")}</strong> of {describe} would be tagged:{" "}
-            <strong data-testid="bulk-preview-tagged">{plural(pending.preview.tagged, "new or changed tagging")}</strong>,{" "}
-            <span data-testid="bulk-preview-unchanged">{pending.preview.unchanged.toLocaleString("en-GB")} already as asked</span>. Nothing is written yet.
+            <Trans
+              t={t}
+              i18nKey="causes.bulk.preview"
+              values={{
+                describe,
+                defects: t("causes.bulk.defects", { count: pending.preview.defects, n: count(pending.preview.defects) }),
+                tagged: t("causes.bulk.newTaggings", { count: pending.preview.tagged, n: count(pending.preview.tagged) }),
+                unchanged: count(pending.preview.unchanged),
+              }}
+              components={{
+                1: <strong data-testid="bulk-preview-defects" />,
+                2: <strong data-testid="bulk-preview-tagged" />,
+                3: <span data-testid="bulk-preview-unchanged" />,
+              }}
+            />
           </p>
           <p className="text-sm" data-testid="bulk-preview-causes">
-            {pending.input.tags.length === 1 ? "Cause" : "Causes"}: <strong>{namesOf(pending.input.tags).join(", ")}</strong>, {pending.input.confidence}
-            {pending.input.note ? ` — “${pending.input.note}”` : ""}
+            <Trans
+              t={t}
+              i18nKey={pending.input.note ? "causes.bulk.causesNote" : "causes.bulk.causes"}
+              count={pending.input.tags.length}
+              values={{
+                names: namesOf(pending.input.tags).join(", "),
+                confidence: term("causeConfidence", pending.input.confidence).toLowerCase(),
+                note: pending.input.note,
+              }}
+              components={{ 1: <strong /> }}
+            />
           </p>
           {pending.preview.sample.length ? (
             <div>
               <div className="text-xs font-semibold uppercase text-ink-600">
-                First {Math.min(pending.preview.sample.length, pending.preview.defects)} of them
+                {t("causes.bulk.firstOf", { n: count(Math.min(pending.preview.sample.length, pending.preview.defects)) })}
               </div>
               <ul className="mt-1 grid gap-1 sm:grid-cols-2 xl:grid-cols-3" data-testid="bulk-sample">
                 {pending.preview.sample.map((d) => (
@@ -106,10 +138,10 @@ export function BulkTagPanel({
           ) : null}
           <div className="flex flex-wrap gap-2">
             <Button onClick={apply} disabled={bulk.isPending || pending.preview.defects === 0} data-testid="bulk-apply">
-              {bulk.isPending ? "Writing…" : `Tag ${plural(pending.preview.defects, "defect")}`}
+              {bulk.isPending ? t("causes.bulk.writing") : t("causes.bulk.tagN", { count: pending.preview.defects, n: count(pending.preview.defects) })}
             </Button>
             <Button variant="ghost" onClick={() => setPending(null)}>
-              Change the choice
+              {t("causes.bulk.changeChoice")}
             </Button>
           </div>
         </div>
@@ -119,7 +151,7 @@ export function BulkTagPanel({
         <TaggingForm
           name={`bulk-${selection.kind}`}
           taxonomy={taxonomy.data}
-          submitLabel={bulk.isPending ? "Counting…" : "Count the defects first"}
+          submitLabel={bulk.isPending ? t("causes.bulk.counting") : t("causes.bulk.countFirst")}
           busy={bulk.isPending}
           onSubmit={preview}
           onCancel={onClose}
@@ -127,17 +159,17 @@ export function BulkTagPanel({
           extra={
             defectTypes && defectTypes.length ? (
               <fieldset>
-                <legend className="mb-1 text-sm font-semibold text-ink-800">Only these defect types (none chosen: every type)</legend>
+                <legend className="mb-1 text-sm font-semibold text-ink-800">{t("causes.bulk.onlyTypes")}</legend>
                 <div className="flex flex-wrap gap-2">
-                  {defectTypes.map((t) => (
-                    <label key={t.code} className="flex min-h-11 cursor-pointer items-center gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm">
+                  {defectTypes.map((dt) => (
+                    <label key={dt.code} className="flex min-h-11 cursor-pointer items-center gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm">
                       <input
                         type="checkbox"
                         className="h-4 w-4"
-                        checked={types.includes(t.code)}
-                        onChange={(e) => setTypes(e.target.checked ? [...types, t.code] : types.filter((c) => c !== t.code))}
+                        checked={types.includes(dt.code)}
+                        onChange={(e) => setTypes(e.target.checked ? [...types, dt.code] : types.filter((c) => c !== dt.code))}
                       />
-                      <span className="font-semibold">{t.code}</span> {t.name}
+                      <span className="font-semibold">{dt.code}</span> {dt.name}
                     </label>
                   ))}
                 </div>

@@ -1,5 +1,6 @@
+import { useTranslation } from "react-i18next";
 import type { CauseConfidence } from "@shared/domain";
-import { CONFIDENCE_LABELS } from "@shared/api/causes";
+import { useTerms } from "@/i18n/terms";
 
 /*
  * How sure a tagging is, by a word and a shape together: a dotted ring for suspected, a half-filled
@@ -33,6 +34,7 @@ const TONE: Record<CauseConfidence, string> = {
 
 /** One live cause of a defect: the tag's name and the confidence in words. */
 export function CauseChip({ tagName, tag, confidence }: { tagName: string; tag: string; confidence: CauseConfidence }) {
+  const { term } = useTerms();
   return (
     <span
       className={`inline-flex min-h-8 items-center gap-1.5 rounded-md border px-2 py-0.5 text-sm ${TONE[confidence]}`}
@@ -43,16 +45,17 @@ export function CauseChip({ tagName, tag, confidence }: { tagName: string; tag: 
     >
       <ConfidenceIcon confidence={confidence} />
       <span className="font-semibold">{tagName}</span>
-      <span className="text-xs text-ink-700">· {CONFIDENCE_LABELS[confidence].toLowerCase()}</span>
+      <span className="text-xs text-ink-700">· {term("causeConfidence", confidence).toLowerCase()}</span>
     </span>
   );
 }
 
 export function CauseChips({ causes }: { causes: { tag: string; tagName: string; confidence: CauseConfidence }[] }) {
+  const { t } = useTranslation("process");
   if (causes.length === 0)
     return (
       <span className="text-sm text-ink-600" data-testid="no-causes">
-        No cause tagged yet
+        {t("causes.noCause")}
       </span>
     );
   return (

@@ -1,5 +1,7 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { zodResolver } from "@hookform/resolvers/zod";
 import type { z } from "zod";
 import { CAUSE_GROUP_CODES, causeTagCreateSchema, type CauseTag, type CauseTaxonomy } from "@shared/api/causes";
@@ -8,11 +10,20 @@ import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
 import { ActiveMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { useCreateCauseTag, useDeleteCauseTag, useUpdateCauseTag } from "../api/causes.queries";
 
 type CreateInput = z.input<typeof causeTagCreateSchema>;
 const selectClass = "min-h-11 w-full rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
+
+/** The shared schema's messages (English) in the language shown; another message shows as it comes. */
+const SCHEMA_MESSAGES: Record<string, string> = {
+  "Give the tag a name.": "causes.editor.errors.name",
+  "The group is process, equipment, material, handling or measurement.": "causes.editor.errors.group",
+  "The code needs at least 2 characters.": "causes.editor.errors.codeShort",
+  "The code uses lower-case letters, digits and single hyphens (e.g. sen-clogging).": "causes.editor.errors.codeForm",
+};
+const schemaMessage = (t: TFunction, m: string | undefined) => (m && SCHEMA_MESSAGES[m] ? t(SCHEMA_MESSAGES[m]) : m);
 
 const groupName = (taxonomy: CauseTaxonomy, code: string) => taxonomy.groups.find((g) => g.code === code)?.name ?? code;
 
@@ -46,13 +57,14 @@ function GroupSelect({
 }
 
 export function NewCauseTagForm({ taxonomy, onDone }: { taxonomy: CauseTaxonomy; onDone: () => void }) {
+  const { t } = useTranslation("process");
   const create = useCreateCauseTag();
   const form = useForm<CreateInput>({ resolver: zodResolver(causeTagCreateSchema), defaultValues: { code: "", name: "", group: "process", description: "" } });
   const e = form.formState.errors;
   return (
     <form
       noValidate
-      aria-label="New cause tag"
+      aria-label={t("causesPage.newTag")}
       className="space-y-4"
       onSubmit={form.handleSubmit((v) =>
         create.mutate(
@@ -68,23 +80,29 @@ export function NewCauseTagForm({ taxonomy, onDone }: { taxonomy: CauseTaxonomy;
     >
       {create.isError ? <Notice tone="error">{create.error.message}</Notice> : null}
       <div className="grid gap-4 md:grid-cols-3">
-        <TextField label="Code" hint="lower-case, with hyphens: nozzle-erosion" autoComplete="off" {...form.register("code")} error={e.code?.message} />
-        <TextField label="Name" {...form.register("name")} error={e.name?.message} />
+        <TextField
+          label={t("causes.editor.code")}
+          hint={t("causes.editor.codeHint")}
+          autoComplete="off"
+          {...form.register("code")}
+          error={schemaMessage(t, e.code?.message)}
+        />
+        <TextField label={t("causes.editor.name")} {...form.register("name")} error={schemaMessage(t, e.name?.message)} />
         <GroupSelect
           taxonomy={taxonomy}
           id="new-tag-group"
-          label="Group"
+          label={t("causes.editor.group")}
           value={form.watch("group")}
           onChange={(v) => form.setValue("group", v as CreateInput["group"])}
         />
       </div>
-      <TextField label="Description (optional)" {...form.register("description")} error={e.description?.message} />
+      <TextField label={t("causes.editor.descriptionOptional")} {...form.register("description")} error={schemaMessage(t, e.description?.message)} />
       <div className="flex gap-2">
         <Button type="submit" disabled={create.isPending}>
-          {create.isPending ? "Adding…" : "Add the tag"}
+          {create.isPending ? t("ui.adding") : t("causes.editor.addTag")}
         </Button>
         <Button variant="ghost" onClick={onDone}>
-          Cancel
+          {t("ui.cancel")}
         </Button>
       </div>
     </form>
@@ -92,13 +110,14 @@ export function NewCauseTagForm({ taxonomy, onDone }: { taxonomy: CauseTaxonomy;
 }
 
 function EditTag({ tag, taxonomy, onDone }: { tag: CauseTag; taxonomy: CauseTaxonomy; onDone: () => void }) {
+  const { t } = useTranslation("process");
   const update = useUpdateCauseTag();
   const [name, setName] = useState(tag.name);
   const [group, setGroup] = useState(tag.group);
   const [description, setDescription] = useState(tag.description ?? "");
   return (
     <form
-      aria-label={`Change ${tag.code}`}
+      aria-label={t("causes.editor.changeLabel", { name: tag.code })}
       className="space-y-3 rounded-md border border-ink-200 bg-ink-50 p-3"
       onSubmit={(ev) => {
         ev.preventDefault();
@@ -111,17 +130,17 @@ function EditTag({ tag, taxonomy, onDone }: { tag: CauseTag; taxonomy: CauseTaxo
       }}
     >
       <div className="grid gap-3 md:grid-cols-2">
-        <TextField label="Name" value={name} onChange={(e) => setName(e.target.value)} maxLength={80} />
-        <GroupSelect taxonomy={taxonomy} id={`group-${tag.code}`} label="Group" value={group} onChange={setGroup} />
+        <TextField label={t("causes.editor.name")} value={name} onChange={(e) => setName(e.target.value)} maxLength={80} />
+        <GroupSelect taxonomy={taxonomy} id={`group-${tag.code}`} label={t("causes.editor.group")} value={group} onChange={setGroup} />
       </div>
-      <TextField label="Description" value={description} onChange={(e) => setDescription(e.target.value)} maxLength={500} />
+      <TextField label={t("causes.editor.description")} value={description} onChange={(e) => setDescription(e.target.value)} maxLength={500} />
       {update.isError ? <Notice tone="error">{update.error.message}</Notice> : null}
       <div className="flex gap-2">
         <Button type="submit" disabled={update.isPending}>
-          {update.isPending ? "Saving…" : "Save"}
+          {update.isPending ? t("ui.saving") : t("ui.save")}
         </Button>
         <Button variant="ghost" onClick={onDone}>
-          Cancel
+          {t("ui.cancel")}
         </Button>
       </div>
     </form>
@@ -129,6 +148,7 @@ function EditTag({ tag, taxonomy, onDone }: { tag: CauseTag; taxonomy: CauseTaxo
 }
 
 function TagRow({ tag, taxonomy, canEdit }: { tag: CauseTag; taxonomy: CauseTaxonomy; canEdit: boolean }) {
+  const { t } = useTranslation("process");
   const [editing, setEditing] = useState(false);
   const [confirmDelete, setConfirmDelete] = useState(false);
   const update = useUpdateCauseTag();
@@ -146,8 +166,8 @@ function TagRow({ tag, taxonomy, canEdit }: { tag: CauseTag; taxonomy: CauseTaxo
           </div>
         </div>
         <div className="w-36 text-sm tabular-nums" data-field="uses">
-          {plural(tag.uses, "live tagging")}
-          {tag.uses === 0 && tag.everUsed ? <div className="text-xs text-ink-600">used before</div> : null}
+          {t("causes.editor.uses", { count: tag.uses, n: count(tag.uses) })}
+          {tag.uses === 0 && tag.everUsed ? <div className="text-xs text-ink-600">{t("causes.editor.usedBefore")}</div> : null}
         </div>
         <div className="w-24">
           <ActiveMark active={!tag.retired} />
@@ -155,34 +175,34 @@ function TagRow({ tag, taxonomy, canEdit }: { tag: CauseTag; taxonomy: CauseTaxo
       </div>
       {canEdit ? (
         <div className="flex flex-wrap gap-2">
-          <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-label={`Change ${tag.name}`}>
-            Change
+          <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-label={t("causes.editor.changeLabel", { name: tag.name })}>
+            {t("ui.change")}
           </Button>
           <Button
             variant="secondary"
             disabled={update.isPending}
             onClick={() => update.mutate({ code: tag.code, changes: { retired: !tag.retired } })}
-            aria-label={`${tag.retired ? "Reinstate" : "Retire"} ${tag.name}`}
+            aria-label={tag.retired ? t("causes.editor.reinstateLabel", { name: tag.name }) : t("causes.editor.retireLabel", { name: tag.name })}
           >
-            {tag.retired ? "Reinstate" : "Retire"}
+            {tag.retired ? t("causes.editor.reinstate") : t("causes.editor.retire")}
           </Button>
           {!tag.everUsed ? (
             confirmDelete ? (
               <>
                 <Button variant="danger" disabled={del.isPending} onClick={() => del.mutate(tag.code)}>
-                  {del.isPending ? "Deleting…" : "Delete for good"}
+                  {del.isPending ? t("causes.editor.deleting") : t("causes.editor.deleteForGood")}
                 </Button>
                 <Button variant="ghost" onClick={() => setConfirmDelete(false)}>
-                  Keep
+                  {t("causes.editor.keep")}
                 </Button>
               </>
             ) : (
-              <Button variant="ghost" onClick={() => setConfirmDelete(true)} aria-label={`Delete ${tag.name}`}>
-                Delete…
+              <Button variant="ghost" onClick={() => setConfirmDelete(true)} aria-label={t("causes.editor.deleteLabel", { name: tag.name })}>
+                {t("causes.editor.delete")}
               </Button>
             )
           ) : (
-            <span className="self-center text-xs text-ink-600">used, so it can be retired but not deleted</span>
+            <span className="self-center text-xs text-ink-600">{t("causes.editor.cannotDelete")}</span>
           )}
         </div>
       ) : null}
@@ -195,17 +215,18 @@ function TagRow({ tag, taxonomy, canEdit }: { tag: CauseTag; taxonomy: CauseTaxo
 
 /** The cause taxonomy by group; a tag once used is only ever retired, so its old taggings keep their name. */
 export function CauseTagsEditor({ taxonomy, canEdit }: { taxonomy: CauseTaxonomy; canEdit: boolean }) {
+  const { t } = useTranslation("process");
   return (
     <div className="grid gap-5 xl:grid-cols-2">
       {taxonomy.groups.map((g) => (
-        <Card key={g.code} title={`${g.name} (${g.tags.length})`}>
+        <Card key={g.code} title={t("causes.editor.groupTitle", { name: g.name, n: count(g.tags.length) })}>
           <div data-testid="cause-group" data-group={g.code}>
             {g.tags.length === 0 ? (
-              <p className="text-sm text-ink-600">No tags in this group yet.</p>
+              <p className="text-sm text-ink-600">{t("causes.editor.emptyGroup")}</p>
             ) : (
               <ul className="divide-y divide-ink-100">
-                {g.tags.map((t) => (
-                  <TagRow key={t.code} tag={t} taxonomy={taxonomy} canEdit={canEdit} />
+                {g.tags.map((tag) => (
+                  <TagRow key={tag.code} tag={tag} taxonomy={taxonomy} canEdit={canEdit} />
                 ))}
               </ul>
             )}

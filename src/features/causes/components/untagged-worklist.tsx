@@ -1,9 +1,10 @@
 import { useState } from "react";
 import { useQuery } from "@tanstack/react-query";
 import { Link, useSearchParams } from "react-router";
+import { Trans, useTranslation } from "react-i18next";
 import type { BulkTagResult, CauseTaxonomy } from "@shared/api/causes";
 import type { Defect, DefectType } from "@shared/api/defects";
-import { SEVERITIES, SEVERITY_LABELS } from "@shared/domain";
+import { SEVERITIES } from "@shared/domain";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -11,18 +12,18 @@ import { SeverityMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
 import { defectKeys, type DefectFilters } from "@/features/defects/api/defects.queries";
 import { ApiError } from "@/lib/api-client";
-import { dateTime, plural } from "@/lib/format";
-import { faceLabel } from "@/lib/labels";
+import { count, dateTime } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
 import { useTagDefect } from "../api/causes.queries";
 import { BulkTagPanel } from "./bulk-tag-panel";
 import { TaggingForm } from "./tagging-form";
 
 type Order = "newest" | "oldest" | "severity";
-const ORDERS: { value: Order; label: string; words: string }[] = [
-  { value: "newest", label: "Newest first", words: "newest first" },
-  { value: "oldest", label: "Oldest first", words: "oldest first" },
-  { value: "severity", label: "Most severe first", words: "most severe first" },
-];
+/** The orders; their words are under causes.worklist.order (the choice) and .orderWords (inside a sentence). */
+const ORDERS: { value: Order }[] = [{ value: "newest" }, { value: "oldest" }, { value: "severity" }];
+
+/** A label of a shared list inside an English sentence starts small; German nouns keep their capital. */
+const inSentence = (language: string, label: string) => (language === "de" ? label : label.toLowerCase());
 const PAGE_SIZE = 50;
 /** A tagging changes every defect list (the slab page's chips, the review queue's entries). */
 const AFFECTS = [defectKeys.lists()];
@@ -69,11 +70,13 @@ function Filters({
   filters: ReturnType<typeof useWorklistFilters>["filters"];
   set: ReturnType<typeof useWorklistFilters>["set"];
 }) {
+  const { t } = useTranslation("process");
+  const { term } = useTerms();
   const [heat, setHeat] = useState(filters.heat);
   return (
     <form
       role="search"
-      aria-label="Narrow the worklist"
+      aria-label={t("causes.worklist.narrow")}
       className="flex flex-wrap items-end gap-3"
       onSubmit={(e) => {
         e.preventDefault();
@@ -81,57 +84,57 @@ function Filters({
       }}
     >
       <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-        Defect type
+        {t("causes.worklist.defectType")}
         <select className={inputClass} value={filters.type} onChange={(e) => set({ type: e.target.value })} data-testid="worklist-type">
-          <option value="">Every type</option>
-          {types.map((t) => (
-            <option key={t.code} value={t.code}>
-              {t.code} · {t.name}
+          <option value="">{t("causes.worklist.everyType")}</option>
+          {types.map((dt) => (
+            <option key={dt.code} value={dt.code}>
+              {dt.code} · {dt.name}
             </option>
           ))}
         </select>
       </label>
       <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-        Least severity
+        {t("causes.worklist.leastSeverity")}
         <select className={inputClass} value={filters.minSeverity || ""} onChange={(e) => set({ minSeverity: e.target.value })} data-testid="worklist-severity">
-          <option value="">Any severity</option>
+          <option value="">{t("causes.worklist.anySeverity")}</option>
           {SEVERITIES.filter((s) => s > 1).map((s) => (
             <option key={s} value={s}>
-              {SEVERITY_LABELS[s]} ({s}) or worse
+              {t("causes.worklist.severityOrWorse", { label: term("severities", s), s })}
             </option>
           ))}
         </select>
       </label>
       <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-        Found from
+        {t("causes.worklist.foundFromLabel")}
         <input type="date" className={inputClass} value={filters.from} onChange={(e) => set({ from: e.target.value })} />
       </label>
       <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-        to
+        {t("causes.worklist.toLabel")}
         <input type="date" className={inputClass} value={filters.to} onChange={(e) => set({ to: e.target.value })} />
       </label>
       <div className="flex items-end gap-2">
         <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-          Heat
+          {t("causes.worklist.heat")}
           <input
             className={`${inputClass} w-36 uppercase`}
             value={heat}
             onChange={(e) => setHeat(e.target.value)}
-            placeholder="heat no."
+            placeholder={t("causes.worklist.heatPlaceholder")}
             autoComplete="off"
             data-testid="worklist-heat"
           />
         </label>
         <Button type="submit" variant="secondary">
-          Show
+          {t("causes.worklist.show")}
         </Button>
       </div>
       <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-        Order
+        {t("causes.worklist.orderLabel")}
         <select className={inputClass} value={filters.sort} onChange={(e) => set({ sort: e.target.value === "newest" ? "" : e.target.value })}>
           {ORDERS.map((o) => (
             <option key={o.value} value={o.value}>
-              {o.label}
+              {t(`causes.worklist.order.${o.value}`)}
             </option>
           ))}
         </select>
@@ -144,7 +147,7 @@ function Filters({
             set({ type: "", heat: "", from: "", to: "", minSeverity: "" });
           }}
         >
-          Clear the filters
+          {t("causes.worklist.clearFilters")}
         </Button>
       ) : null}
     </form>
@@ -153,24 +156,32 @@ function Filters({
 
 /** One defect's tagging in place; told when written so the list moves on to the next defect. */
 function TagInPlace({ defect, taxonomy, onDone, onCancel }: { defect: Defect; taxonomy: CauseTaxonomy; onDone: (text: string) => void; onCancel: () => void }) {
+  const { t, i18n } = useTranslation("process");
+  const { term } = useTerms();
   const tag = useTagDefect(defect.id, { affects: AFFECTS });
   const [problem, setProblem] = useState<string | null>(null);
   return (
     <div className="space-y-3 rounded-md border-2 border-strand-600 bg-strand-50 p-3" data-testid="worklist-tag-form">
       <p className="text-sm font-semibold">
-        Causes of {defect.typeCode} ({defect.typeName}) on slab {defect.slabId}, {faceLabel(defect.face).toLowerCase()}
+        {t("causes.worklist.causesOf", {
+          code: defect.typeCode,
+          name: defect.typeName,
+          slab: defect.slabId,
+          face: inSentence(i18n.language, term("faces", defect.face)),
+        })}
       </p>
       {problem ? <Notice tone="error">{problem}</Notice> : null}
       <TaggingForm
         name={`worklist-${defect.id}`}
         taxonomy={taxonomy}
-        submitLabel={tag.isPending ? "Adding…" : "Add the causes and go to the next"}
+        submitLabel={tag.isPending ? t("ui.adding") : t("causes.worklist.addAndNext")}
         busy={tag.isPending}
         onCancel={onCancel}
         onSubmit={(v) => {
           setProblem(null);
           tag.mutate(v, {
-            onSuccess: (r) => onDone(`Causes added to ${defect.typeCode} on ${defect.slabId}: ${r.current.map((c) => c.tagName).join(", ")}.`),
+            onSuccess: (r) =>
+              onDone(t("causes.worklist.addedTo", { code: defect.typeCode, slab: defect.slabId, names: r.current.map((c) => c.tagName).join(", ") })),
             onError: (err) => setProblem(err instanceof ApiError ? err.message : String(err)),
           });
         }}
@@ -185,6 +196,7 @@ function TagInPlace({ defect, taxonomy, onDone, onCancel }: { defect: Defect; ta
  * A tagged defect leaves the list; the one-at-a-time editor moves on to the next defect.
  */
 export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; taxonomy: CauseTaxonomy }) {
+  const { t } = useTranslation("process");
   const { filters, set } = useWorklistFilters();
   const query: DefectFilters = {
     causes: "none",
@@ -212,15 +224,20 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
   const pages = data ? Math.max(1, Math.ceil(data.total / PAGE_SIZE)) : 1;
   const shownSelected = selected.filter((id) => items.some((d) => d.id === id));
   const allShown = items.length > 0 && shownSelected.length === items.length;
-  const orderWords = ORDERS.find((o) => o.value === filters.sort)!.words;
+  const orderWords = t(`causes.worklist.orderWords.${filters.sort}`);
   const narrowed = [
-    filters.type ? `type ${filters.type}` : null,
-    filters.heat ? `heat ${filters.heat}` : null,
-    filters.minSeverity ? `severity ${filters.minSeverity} or worse` : null,
-    filters.from || filters.to
-      ? `found ${filters.from ? `from ${filters.from}` : ""}${filters.from && filters.to ? " " : ""}${filters.to ? `to ${filters.to}` : ""}`
-      : null,
+    filters.type ? t("causes.worklist.narrowed.type", { type: filters.type }) : null,
+    filters.heat ? t("causes.worklist.narrowed.heat", { heat: filters.heat }) : null,
+    filters.minSeverity ? t("causes.worklist.narrowed.severity", { s: filters.minSeverity }) : null,
+    filters.from && filters.to
+      ? t("causes.worklist.narrowed.foundFromTo", { from: filters.from, to: filters.to })
+      : filters.from
+        ? t("causes.worklist.narrowed.foundFrom", { from: filters.from })
+        : filters.to
+          ? t("causes.worklist.narrowed.foundTo", { to: filters.to })
+          : null,
   ].filter(Boolean);
+  const filterWords = narrowed.join(t("causes.worklist.narrowed.separator"));
 
   const goPage = (page: number) => {
     setSelected([]);
@@ -241,41 +258,48 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
           <Notice tone="ok">{done}</Notice>
         </div>
       ) : null}
-      {list.isPending ? <Spinner label="Loading the defects without a cause" /> : null}
+      {list.isPending ? <Spinner label={t("causes.worklist.loading")} /> : null}
       {list.isError ? <Notice tone="error">{list.error.message}</Notice> : null}
       {data ? (
         <p className="text-base text-ink-800" data-testid="worklist-count">
           {total
-            ? `${plural(total, "defect")} without a cause${narrowed.length ? ` (${narrowed.join(", ")})` : ""}, ${orderWords}.`
+            ? narrowed.length
+              ? t("causes.worklist.countNarrowed", { count: total, n: count(total), filters: filterWords, order: orderWords })
+              : t("causes.worklist.count", { count: total, n: count(total), order: orderWords })
             : narrowed.length
-              ? `No defect without a cause matches ${narrowed.join(", ")}.`
-              : "Every live defect carries a cause: nothing to tag."}
+              ? t("causes.worklist.noneMatches", { filters: filterWords })
+              : t("causes.worklist.nothingToTag")}
         </p>
       ) : null}
       {shownSelected.length ? (
         <div className="flex flex-wrap items-center gap-3 rounded-md border border-strand-300 bg-white px-3 py-2" data-testid="worklist-selection">
-          <span className="text-sm font-semibold">{plural(shownSelected.length, "defect")} selected</span>
+          <span className="text-sm font-semibold">{t("causes.worklist.selected", { count: shownSelected.length, n: count(shownSelected.length) })}</span>
           <Button onClick={() => setBulkOpen(true)} disabled={bulkOpen} data-testid="worklist-bulk-open">
-            Tag the selected…
+            {t("causes.worklist.tagSelected")}
           </Button>
           <Button variant="ghost" onClick={() => setSelected([])}>
-            Clear the selection
+            {t("causes.worklist.clearSelection")}
           </Button>
         </div>
       ) : null}
       {bulkOpen && shownSelected.length ? (
-        <Card title={`The same causes on ${plural(shownSelected.length, "selected defect")}`}>
+        <Card title={t("causes.worklist.sameCauses", { count: shownSelected.length, n: count(shownSelected.length) })}>
           <BulkTagPanel
             key={shownSelected.join(",")}
             selection={{ kind: "defects", ids: shownSelected }}
-            describe={`the ${plural(shownSelected.length, "selected defect")}`}
+            describe={t("causes.worklist.theSelected", { count: shownSelected.length, n: count(shownSelected.length) })}
             affects={AFFECTS}
             onClose={() => setBulkOpen(false)}
             onWritten={(r: BulkTagResult, causes: string[]) => {
               setBulkOpen(false);
               afterTagged(
                 shownSelected,
-                `${causes.join(", ")}: ${plural(r.tagged, "tagging")} written over ${plural(r.defects, "defect")}; they leave this list.`,
+                t("causes.worklist.bulkDone", {
+                  count: r.defects,
+                  n: count(r.defects),
+                  causes: causes.join(", "),
+                  taggings: t("causes.worklist.taggings", { count: r.tagged, n: count(r.tagged) }),
+                }),
               );
             }}
           />
@@ -284,7 +308,7 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
       {items.length ? (
         <Card bodyClassName="p-0 overflow-x-auto">
           <table className="w-full text-left text-sm" data-testid="worklist-table">
-            <caption className="sr-only">Defects without a cause</caption>
+            <caption className="sr-only">{t("untaggedPage.title")}</caption>
             <thead className="border-b border-ink-200 bg-ink-50 text-xs uppercase tracking-wide text-ink-600">
               <tr>
                 <th scope="col" className="w-12 px-3 py-2">
@@ -295,23 +319,23 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
                       checked={allShown}
                       onChange={(e) => setSelected(e.target.checked ? items.map((d) => d.id) : [])}
                     />
-                    <span className="sr-only">Select every defect shown</span>
+                    <span className="sr-only">{t("causes.worklist.selectAll")}</span>
                   </label>
                 </th>
                 <th scope="col" className="px-2 py-2">
-                  Slab · heat
+                  {t("causes.worklist.colSlab")}
                 </th>
                 <th scope="col" className="px-2 py-2">
-                  Defect
+                  {t("causes.worklist.colDefect")}
                 </th>
                 <th scope="col" className="px-2 py-2">
-                  Severity
+                  {t("causes.worklist.colSeverity")}
                 </th>
                 <th scope="col" className="px-2 py-2">
-                  Found
+                  {t("causes.worklist.colFound")}
                 </th>
                 <th scope="col" className="px-2 py-2">
-                  <span className="sr-only">Tagging</span>
+                  <span className="sr-only">{t("causes.worklist.colTagging")}</span>
                 </th>
               </tr>
             </thead>
@@ -346,15 +370,13 @@ export function UntaggedWorklist({ types, taxonomy }: { types: DefectType[]; tax
         </Card>
       ) : null}
       {data && pages > 1 ? (
-        <nav className="flex flex-wrap items-center gap-3 text-sm" aria-label="Pages of the worklist" data-testid="worklist-paging">
+        <nav className="flex flex-wrap items-center gap-3 text-sm" aria-label={t("causes.worklist.pages")} data-testid="worklist-paging">
           <Button variant="secondary" disabled={filters.page <= 1} onClick={() => goPage(filters.page - 1)}>
-            Previous {PAGE_SIZE}
+            {t("causes.worklist.previous", { n: count(PAGE_SIZE) })}
           </Button>
-          <span>
-            Page {filters.page} of {pages}
-          </span>
+          <span>{t("causes.worklist.page", { page: count(filters.page), pages: count(pages) })}</span>
           <Button variant="secondary" disabled={filters.page >= pages} onClick={() => goPage(filters.page + 1)}>
-            Next {PAGE_SIZE}
+            {t("causes.worklist.next", { n: count(PAGE_SIZE) })}
           </Button>
         </nav>
       ) : null}
@@ -377,15 +399,15 @@ function WorklistRow({
   onEdit: () => void;
   editor: React.ReactNode;
 }) {
+  const { t } = useTranslation("process");
+  const { term } = useTerms();
   return (
     <>
       <tr className={selected || editing ? "bg-strand-50" : undefined} data-testid="worklist-row" data-defect-id={d.id}>
         <td className="px-3 py-1">
           <label className="flex min-h-11 items-center">
             <input type="checkbox" className="h-5 w-5" checked={selected} onChange={(e) => onSelect(e.target.checked)} />
-            <span className="sr-only">
-              Select {d.typeCode} on {d.slabId}
-            </span>
+            <span className="sr-only">{t("causes.worklist.selectOne", { code: d.typeCode, slab: d.slabId })}</span>
           </label>
         </td>
         <td className="px-2 py-1">
@@ -393,17 +415,18 @@ function WorklistRow({
             {d.slabId}
           </Link>
           <div className="text-xs text-ink-600">
-            heat{" "}
-            <Link to={`/heats/${encodeURIComponent(d.heatNo)}`} className="underline underline-offset-2">
-              {d.heatNo}
-            </Link>{" "}
-            · {d.gradeCode} · strand {d.strandNo}
+            <Trans
+              t={t}
+              i18nKey="causes.worklist.heatLine"
+              values={{ heat: d.heatNo, grade: d.gradeCode, strand: d.strandNo }}
+              components={{ 1: <Link to={`/heats/${encodeURIComponent(d.heatNo)}`} className="underline underline-offset-2" /> }}
+            />
           </div>
         </td>
         <td className="px-2 py-1">
           <span className="mr-1 rounded bg-ink-900 px-1.5 py-0.5 text-xs font-bold text-white">{d.typeCode}</span>
           {d.typeName}
-          <div className="text-xs text-ink-600">{faceLabel(d.face)}</div>
+          <div className="text-xs text-ink-600">{term("faces", d.face)}</div>
         </td>
         <td className="px-2 py-1">
           <SeverityMark severity={d.severity} />
@@ -412,7 +435,7 @@ function WorklistRow({
         <td className="px-2 py-1 text-right">
           {!editing ? (
             <Button variant="secondary" onClick={onEdit} data-testid="worklist-tag">
-              Tag…
+              {t("causes.worklist.tag")}
             </Button>
           ) : null}
         </td>

@@ -1,8 +1,11 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import type { z } from "zod";
 import { defectCategoryInputSchema, defectTypeInputSchema, type DefectType } from "@shared/api/defects";
+import { schemaMessage } from "@shared/i18n/schema-messages";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
@@ -23,6 +26,12 @@ const message = (err: unknown) => (err instanceof ApiError || err instanceof Err
 
 const select = "min-h-11 rounded-md border border-ink-300 bg-white px-3 text-ink-900";
 
+/** A form's words, with the shared schemas' own messages (catalogue `schema`). */
+type FormWords = TFunction<["review", "schema"]>;
+
+/** A message written into a shared schema (a code's characters…) in the language shown; any other as it is. */
+const fieldError = (t: FormWords, message: string | undefined) => (message ? schemaMessage((key, options) => t(key, options), message) : undefined);
+
 function CategorySelect({
   id,
   value,
@@ -36,6 +45,8 @@ function CategorySelect({
   categories: Category[];
   label: string;
 }) {
+  const { t } = useTranslation("review");
+  const retired = t("catalogue.retiredSuffix");
   return (
     <div className="flex flex-col gap-1">
       <label htmlFor={id} className="text-sm font-semibold text-ink-800">
@@ -45,7 +56,7 @@ function CategorySelect({
         {categories.map((c) => (
           <option key={c.code} value={c.code}>
             {c.name}
-            {c.active ? "" : " (retired)"}
+            {c.active ? "" : retired}
           </option>
         ))}
       </select>
@@ -56,6 +67,7 @@ function CategorySelect({
 type TypeInput = z.input<typeof defectTypeInputSchema>;
 
 function NewTypeForm({ categories }: { categories: Category[] }) {
+  const { t } = useTranslation(["review", "schema"]);
   const create = useCreateType();
   const form = useForm<TypeInput>({
     resolver: zodResolver(defectTypeInputSchema, friendlyErrors),
@@ -71,28 +83,32 @@ function NewTypeForm({ categories }: { categories: Category[] }) {
   });
   const categoryCode = form.watch("categoryCode");
   return (
-    <form onSubmit={submit} noValidate className="space-y-3" aria-label="New defect type">
+    <form onSubmit={submit} noValidate className="space-y-3" aria-label={t("catalogue.newType")}>
       {create.error && !(create.error instanceof ApiError && create.error.status === 409) ? <Notice tone="error">{message(create.error)}</Notice> : null}
       <div className="grid gap-3 sm:grid-cols-[minmax(0,7rem)_minmax(0,1fr)]">
         <TextField
-          label="Code"
+          label={t("catalogue.code")}
           autoCapitalize="characters"
           {...form.register("code")}
-          error={form.formState.errors.code?.message}
-          hint="e.g. LFC; cannot change later"
+          error={fieldError(t, form.formState.errors.code?.message)}
+          hint={t("catalogue.codeHint")}
         />
-        <TextField label="Name" {...form.register("name")} error={form.formState.errors.name?.message} />
+        <TextField label={t("catalogue.name")} {...form.register("name")} error={fieldError(t, form.formState.errors.name?.message)} />
       </div>
       <CategorySelect
         id="new-type-category"
-        label="Category"
+        label={t("catalogue.category")}
         value={categoryCode}
         onChange={(v) => form.setValue("categoryCode", v)}
         categories={categories.filter((c) => c.active)}
       />
-      <TextField label="Description (optional)" {...form.register("description")} error={form.formState.errors.description?.message} />
+      <TextField
+        label={t("catalogue.descriptionOptional")}
+        {...form.register("description")}
+        error={fieldError(t, form.formState.errors.description?.message)}
+      />
       <Button type="submit" disabled={form.formState.isSubmitting}>
-        {form.formState.isSubmitting ? "Adding…" : "Add type"}
+        {form.formState.isSubmitting ? t("catalogue.adding") : t("catalogue.addType")}
       </Button>
     </form>
   );
@@ -101,6 +117,7 @@ function NewTypeForm({ categories }: { categories: Category[] }) {
 type CategoryInput = z.input<typeof defectCategoryInputSchema>;
 
 function NewCategoryForm({ nextOrder }: { nextOrder: number }) {
+  const { t } = useTranslation(["review", "schema"]);
   const create = useCreateCategory();
   const form = useForm<CategoryInput>({
     resolver: zodResolver(defectCategoryInputSchema, friendlyErrors),
@@ -115,21 +132,33 @@ function NewCategoryForm({ nextOrder }: { nextOrder: number }) {
     }
   });
   return (
-    <form onSubmit={submit} noValidate className="space-y-3" aria-label="New category">
+    <form onSubmit={submit} noValidate className="space-y-3" aria-label={t("catalogue.newCategory")}>
       {create.error && !(create.error instanceof ApiError && create.error.status === 409) ? <Notice tone="error">{message(create.error)}</Notice> : null}
       <div className="grid gap-3 grid-cols-[minmax(0,6rem)_minmax(0,1fr)_minmax(0,5rem)]">
-        <TextField label="Code" autoCapitalize="characters" {...form.register("code")} error={form.formState.errors.code?.message} />
-        <TextField label="Name" {...form.register("name")} error={form.formState.errors.name?.message} />
-        <TextField label="Order" type="number" {...form.register("sortOrder", { valueAsNumber: true })} error={form.formState.errors.sortOrder?.message} />
+        <TextField
+          label={t("catalogue.code")}
+          autoCapitalize="characters"
+          {...form.register("code")}
+          error={fieldError(t, form.formState.errors.code?.message)}
+        />
+        <TextField label={t("catalogue.name")} {...form.register("name")} error={fieldError(t, form.formState.errors.name?.message)} />
+        <TextField
+          label={t("catalogue.order")}
+          type="number"
+          {...form.register("sortOrder", { valueAsNumber: true })}
+          error={fieldError(t, form.formState.errors.sortOrder?.message)}
+        />
       </div>
       <Button type="submit" disabled={form.formState.isSubmitting}>
-        {form.formState.isSubmitting ? "Adding…" : "Add category"}
+        {form.formState.isSubmitting ? t("catalogue.adding") : t("catalogue.addCategory")}
       </Button>
     </form>
   );
 }
 
-function TypeRow({ t, categories }: { t: DefectType; categories: Category[] }) {
+type Words = TFunction<"review">;
+
+function TypeRow({ t, categories, words }: { t: DefectType; categories: Category[]; words: Words }) {
   const update = useUpdateType();
   const [editing, setEditing] = useState(false);
   const [name, setName] = useState(t.name);
@@ -160,29 +189,29 @@ function TypeRow({ t, categories }: { t: DefectType; categories: Category[] }) {
           {t.description ? <span className="block text-sm text-ink-600">{t.description}</span> : null}
         </span>
         <ActiveMark active={t.active} />
-        <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-expanded={editing} aria-label={`Edit ${t.code}`}>
-          Edit
+        <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-expanded={editing} aria-label={words("catalogue.editLabel", { code: t.code })}>
+          {words("catalogue.edit")}
         </Button>
         <Button
           variant={t.active ? "ghost" : "secondary"}
           disabled={update.isPending}
           onClick={() => update.mutate({ code: t.code, changes: { active: !t.active } })}
-          aria-label={`${t.active ? "Retire" : "Reactivate"} ${t.code}`}
+          aria-label={t.active ? words("catalogue.retireLabel", { code: t.code }) : words("catalogue.reactivateLabel", { code: t.code })}
         >
-          {t.active ? "Retire" : "Reactivate"}
+          {t.active ? words("catalogue.retire") : words("catalogue.reactivate")}
         </Button>
       </div>
       {editing ? (
         <div className="grid gap-3 rounded-md border border-ink-200 bg-ink-50 p-3 md:grid-cols-[1fr_1fr]">
-          <TextField label={`Name of ${t.code}`} value={name} onChange={(e) => setName(e.target.value)} />
-          <CategorySelect id={`cat-${t.code}`} label="Category" value={categoryCode} onChange={setCategoryCode} categories={categories} />
-          <TextField label="Description" className="md:col-span-2" value={description} onChange={(e) => setDescription(e.target.value)} />
+          <TextField label={words("catalogue.nameOf", { code: t.code })} value={name} onChange={(e) => setName(e.target.value)} />
+          <CategorySelect id={`cat-${t.code}`} label={words("catalogue.category")} value={categoryCode} onChange={setCategoryCode} categories={categories} />
+          <TextField label={words("catalogue.description")} className="md:col-span-2" value={description} onChange={(e) => setDescription(e.target.value)} />
           <div className="flex gap-2 md:col-span-2">
             <Button onClick={() => void save()} disabled={update.isPending || !name.trim()}>
-              Save
+              {words("catalogue.save")}
             </Button>
             <Button variant="ghost" onClick={() => setEditing(false)}>
-              Cancel
+              {words("catalogue.cancel")}
             </Button>
           </div>
         </div>
@@ -192,7 +221,7 @@ function TypeRow({ t, categories }: { t: DefectType; categories: Category[] }) {
   );
 }
 
-function CategoryRow({ c, count }: { c: Category; count: number }) {
+function CategoryRow({ c, count, words: t }: { c: Category; count: number; words: Words }) {
   const update = useUpdateCategory();
   const [editing, setEditing] = useState(false);
   const [name, setName] = useState(c.name);
@@ -214,29 +243,27 @@ function CategoryRow({ c, count }: { c: Category; count: number }) {
         <span className="w-8 text-right text-sm tabular-nums text-ink-600">{c.sortOrder}</span>
         <span className="min-w-0 flex-1">
           <span className="block font-semibold">{c.name}</span>
-          <span className="block text-xs text-ink-600">
-            {c.code} · {count} type{count === 1 ? "" : "s"}
-          </span>
+          <span className="block text-xs text-ink-600">{t("catalogue.categoryTypes", { code: c.code, count })}</span>
         </span>
         <ActiveMark active={c.active} />
-        <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-label={`Rename ${c.code}`}>
-          Rename
+        <Button variant="secondary" onClick={() => setEditing((v) => !v)} aria-label={t("catalogue.renameLabel", { code: c.code })}>
+          {t("catalogue.rename")}
         </Button>
         <Button
           variant={c.active ? "ghost" : "secondary"}
           disabled={update.isPending}
           onClick={() => update.mutate({ code: c.code, changes: { active: !c.active } })}
-          aria-label={`${c.active ? "Retire" : "Reactivate"} category ${c.code}`}
+          aria-label={c.active ? t("catalogue.retireCategoryLabel", { code: c.code }) : t("catalogue.reactivateCategoryLabel", { code: c.code })}
         >
-          {c.active ? "Retire" : "Reactivate"}
+          {c.active ? t("catalogue.retire") : t("catalogue.reactivate")}
         </Button>
       </div>
       {editing ? (
         <div className="grid gap-3 rounded-md border border-ink-200 bg-ink-50 p-3 md:grid-cols-[1fr_8rem_auto] md:items-end">
-          <TextField label={`Name of ${c.code}`} value={name} onChange={(e) => setName(e.target.value)} />
-          <TextField label="Order" type="number" value={order} onChange={(e) => setOrder(e.target.value)} />
+          <TextField label={t("catalogue.nameOf", { code: c.code })} value={name} onChange={(e) => setName(e.target.value)} />
+          <TextField label={t("catalogue.order")} type="number" value={order} onChange={(e) => setOrder(e.target.value)} />
           <Button onClick={() => void save()} disabled={update.isPending || !name.trim()}>
-            Save
+            {t("catalogue.save")}
           </Button>
         </div>
       ) : null}
@@ -247,16 +274,17 @@ function CategoryRow({ c, count }: { c: Category; count: number }) {
 
 /** The defect catalogue: categories and their types. Retired entries stay for the record and leave the yard's list. */
 export function CatalogueEditor({ types, categories }: { types: DefectType[]; categories: Category[] }) {
+  const { t } = useTranslation("review");
   const sorted = [...categories].sort((a, b) => a.sortOrder - b.sortOrder || a.name.localeCompare(b.name));
   const [filter, setFilter] = useState("");
   const f = filter.trim().toLowerCase();
-  const shown = types.filter((t) => !f || t.code.toLowerCase().includes(f) || t.name.toLowerCase().includes(f));
+  const shown = types.filter((d) => !f || d.code.toLowerCase().includes(f) || d.name.toLowerCase().includes(f));
   return (
     <div className="grid gap-5 lg:grid-cols-[minmax(0,3fr)_minmax(20rem,2fr)]">
       <div className="space-y-5">
-        <Card title={`Defect types (${types.filter((t) => t.active).length} in use, ${types.filter((t) => !t.active).length} retired)`}>
+        <Card title={t("catalogue.typesTitle", { inUse: types.filter((d) => d.active).length, retired: types.filter((d) => !d.active).length })}>
           <div className="space-y-4">
-            <TextField label="Find a type" type="search" value={filter} onChange={(e) => setFilter(e.target.value)} />
+            <TextField label={t("catalogue.find")} type="search" value={filter} onChange={(e) => setFilter(e.target.value)} />
             {sorted.map((c) => {
               const list = shown.filter((t) => t.categoryCode === c.code);
               if (list.length === 0) return null;
@@ -264,8 +292,8 @@ export function CatalogueEditor({ types, categories }: { types: DefectType[]; ca
                 <section key={c.code} aria-label={c.name}>
                   <h3 className="border-b-2 border-ink-200 pb-1 text-sm font-bold uppercase tracking-wide text-ink-700">{c.name}</h3>
                   <ul className="divide-y divide-ink-100">
-                    {list.map((t) => (
-                      <TypeRow key={t.code} t={t} categories={sorted} />
+                    {list.map((d) => (
+                      <TypeRow key={d.code} t={d} categories={sorted} words={t} />
                     ))}
                   </ul>
                 </section>
@@ -275,17 +303,17 @@ export function CatalogueEditor({ types, categories }: { types: DefectType[]; ca
         </Card>
       </div>
       <div className="space-y-5">
-        <Card title="Add a defect type">
+        <Card title={t("catalogue.addTypeTitle")}>
           <NewTypeForm categories={sorted} />
         </Card>
-        <Card title="Categories">
+        <Card title={t("catalogue.categories")}>
           <ul className="divide-y divide-ink-100">
             {sorted.map((c) => (
-              <CategoryRow key={c.code} c={c} count={types.filter((t) => t.categoryCode === c.code).length} />
+              <CategoryRow key={c.code} c={c} count={types.filter((d) => d.categoryCode === c.code).length} words={t} />
             ))}
           </ul>
         </Card>
-        <Card title="Add a category">
+        <Card title={t("catalogue.addCategoryTitle")}>
           <NewCategoryForm nextOrder={Math.max(0, ...categories.map((c) => c.sortOrder)) + 1} />
         </Card>
       </div>

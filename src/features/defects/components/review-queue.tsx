@@ -1,16 +1,17 @@
 import { useState } from "react";
 import { useQuery } from "@tanstack/react-query";
+import { Trans, useTranslation } from "react-i18next";
 import { Link, useSearchParams } from "react-router";
 import type { Defect, DefectReview, DefectType } from "@shared/api/defects";
-import { SEVERITIES, SEVERITY_LABELS, type Severity } from "@shared/domain";
+import { SEVERITIES, type Severity } from "@shared/domain";
 import { Button } from "@/components/ui/button";
 import { Card, Fact } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { SeverityMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
 import { ApiError } from "@/lib/api-client";
-import { DASH, dateTime, num, plural, withUnit } from "@/lib/format";
-import { dispositionLabel, faceLabel, stageLabel } from "@/lib/labels";
+import { useTerms } from "@/i18n/terms";
+import { count, DASH, dateTime, num, withUnit } from "@/lib/format";
 import { defectKeys, useReviewDefect } from "../api/defects.queries";
 import { ChoiceTiles } from "./choice-tiles";
 import { PhotoStrip } from "./photo-viewer";
@@ -18,6 +19,7 @@ import { TypePicker } from "./type-picker";
 
 /** Narrows the queue to one slab, e.g. to review a slab's entries together. */
 function SlabFilter({ value, onChange }: { value: string; onChange: (v: string) => void }) {
+  const { t } = useTranslation("review");
   const [text, setText] = useState(value);
   return (
     <form
@@ -30,19 +32,19 @@ function SlabFilter({ value, onChange }: { value: string; onChange: (v: string) 
     >
       <div className="flex flex-col gap-1">
         <label htmlFor="review-slab" className="text-sm font-semibold text-ink-800">
-          Only the entries of slab
+          {t("queue.slabFilter")}
         </label>
         <input
           id="review-slab"
           value={text}
           onChange={(e) => setText(e.target.value)}
           autoComplete="off"
-          placeholder="slab id"
+          placeholder={t("queue.slabPlaceholder")}
           className="min-h-11 w-56 rounded-md border border-ink-300 bg-white px-3 uppercase"
         />
       </div>
       <Button type="submit" variant="secondary">
-        Show
+        {t("queue.show")}
       </Button>
       {value ? (
         <Button
@@ -52,7 +54,7 @@ function SlabFilter({ value, onChange }: { value: string; onChange: (v: string) 
             onChange("");
           }}
         >
-          Show all slabs
+          {t("queue.showAllSlabs")}
         </Button>
       ) : null}
     </form>
@@ -62,6 +64,8 @@ function SlabFilter({ value, onChange }: { value: string; onChange: (v: string) 
 type Panel = "none" | "correct" | "reject";
 
 function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType[]; onDone: (text: string) => void }) {
+  const { t } = useTranslation("review");
+  const { term } = useTerms();
   const review = useReviewDefect();
   const [panel, setPanel] = useState<Panel>("none");
   const [typeCode, setTypeCode] = useState<string>(defect.typeCode);
@@ -78,15 +82,18 @@ function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType
       setProblem(err instanceof ApiError ? err.message : String(err));
     }
   };
-  const what = `${defect.typeCode} on ${defect.slabId}`;
+  const what = { type: defect.typeCode, slab: defect.slabId };
   const changed = typeCode !== defect.typeCode || severity !== defect.severity;
+  const typeChanged = typeCode !== defect.typeCode;
+  const severityChanged = severity !== defect.severity;
+  const corrected = typeChanged ? (severityChanged ? "both" : "type") : severityChanged ? "severity" : "none";
 
   return (
     <div className="space-y-4">
       {problem ? <Notice tone="error">{problem}</Notice> : null}
       <div className="flex flex-wrap gap-2">
-        <Button size="lg" disabled={review.isPending} onClick={() => void send({ decision: "confirm" }, `Confirmed: ${what}.`)}>
-          ✓ Confirm as logged
+        <Button size="lg" disabled={review.isPending} onClick={() => void send({ decision: "confirm" }, t("queue.done.confirmed", what))}>
+          {t("queue.confirm")}
         </Button>
         <Button
           size="lg"
@@ -94,7 +101,7 @@ function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType
           aria-expanded={panel === "correct"}
           onClick={() => setPanel(panel === "correct" ? "none" : "correct")}
         >
-          Correct type or severity…
+          {t("queue.correct")}
         </Button>
         <Button
           size="lg"
@@ -102,18 +109,18 @@ function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType
           aria-expanded={panel === "reject"}
           onClick={() => setPanel(panel === "reject" ? "none" : "reject")}
         >
-          Reject…
+          {t("queue.reject")}
         </Button>
       </div>
       {panel === "correct" ? (
         <div className="space-y-4 rounded-lg border-2 border-strand-700 p-4" data-testid="correct-panel">
           <TypePicker types={types} value={typeCode} onChange={setTypeCode} />
           <ChoiceTiles
-            label="Severity"
+            label={t("queue.severity")}
             columns="grid-cols-2 md:grid-cols-4"
             value={severity}
             onChange={setSeverity}
-            choices={SEVERITIES.map((s) => ({ value: s, name: `${SEVERITY_LABELS[s]} (${s})`, label: <SeverityMark severity={s} large /> }))}
+            choices={SEVERITIES.map((s) => ({ value: s, name: `${term("severities", s)} (${s})`, label: <SeverityMark severity={s} large /> }))}
           />
           <Button
             size="lg"
@@ -125,18 +132,18 @@ function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType
                   ...(typeCode !== defect.typeCode ? { type_code: typeCode } : {}),
                   ...(severity !== defect.severity ? { severity } : {}),
                 },
-                `Corrected: ${what}${typeCode !== defect.typeCode ? ` → ${typeCode}` : ""}${severity !== defect.severity ? `, severity ${defect.severity} → ${severity}` : ""}.`,
+                t(`queue.done.corrected.${corrected}`, { ...what, newType: typeCode, from: defect.severity, to: severity }),
               )
             }
           >
-            {changed ? "Save the correction" : "Change the type or the severity first"}
+            {changed ? t("queue.saveCorrection") : t("queue.changeFirst")}
           </Button>
         </div>
       ) : null}
       {panel === "reject" ? (
         <div className="space-y-3 rounded-lg border-2 border-alarm-700 p-4" data-testid="reject-panel">
           <label htmlFor="reject-reason" className="block text-base font-semibold">
-            Why is the entry rejected? <span className="font-normal text-ink-600">(the inspector sees it)</span>
+            <Trans t={t} i18nKey="queue.rejectReason" components={{ 1: <span className="font-normal text-ink-600" /> }} />
           </label>
           <textarea
             id="reject-reason"
@@ -150,21 +157,25 @@ function Decision({ defect, types, onDone }: { defect: Defect; types: DefectType
             variant="danger"
             size="lg"
             disabled={!reason.trim() || review.isPending}
-            onClick={() => void send({ decision: "reject", note: reason.trim() }, `Rejected: ${what}.`)}
+            onClick={() => void send({ decision: "reject", note: reason.trim() }, t("queue.done.rejected", what))}
           >
-            Reject the entry
+            {t("queue.rejectEntry")}
           </Button>
         </div>
       ) : null}
-      <p className="text-xs text-ink-600">Every decision is recorded with your name and the time.</p>
+      <p className="text-xs text-ink-600">{t("queue.recorded")}</p>
     </div>
   );
 }
 
 function DefectFacts({ d }: { d: Defect }) {
+  const { t } = useTranslation("review");
+  const { term } = useTerms();
+  const size = d.lengthMm === null && d.widthMm === null ? null : { length: num(d.lengthMm), width: num(d.widthMm) };
+  const depth = d.depthMm !== null ? withUnit(d.depthMm, "mm", 1) : null;
   return (
     <dl className="grid grid-cols-2 gap-x-6 gap-y-4 md:grid-cols-3">
-      <Fact label="Slab">
+      <Fact label={t("facts.slab")}>
         <Link to={`/slabs/${encodeURIComponent(d.slabId)}`} className="text-strand-700 underline underline-offset-2">
           {d.slabId}
         </Link>
@@ -172,39 +183,44 @@ function DefectFacts({ d }: { d: Defect }) {
           {num(d.slabThicknessMm)} × {num(d.slabWidthMm)} × {num(d.slabLengthMm)} mm
         </div>
       </Fact>
-      <Fact label="Heat · grade · strand">
+      <Fact label={t("facts.heatGradeStrand")}>
         <Link to={`/heats/${encodeURIComponent(d.heatNo)}`} className="text-strand-700 underline underline-offset-2">
           {d.heatNo}
         </Link>{" "}
         · {d.gradeCode} · {d.strandNo}
       </Fact>
-      <Fact label="Type" testId="review-type">
+      <Fact label={t("facts.type")} testId="review-type">
         <span className="mr-2 rounded bg-ink-900 px-1.5 py-0.5 text-xs font-bold text-white">{d.typeCode}</span>
         {d.typeName}
       </Fact>
-      <Fact label="Severity">
+      <Fact label={t("facts.severity")}>
         <SeverityMark severity={d.severity} large />
       </Fact>
-      <Fact label="Where">
-        {faceLabel(d.face)}
+      <Fact label={t("facts.where")}>
+        {term("faces", d.face)}
         <div className="text-sm font-normal text-ink-700">
-          {withUnit(d.positionAlongMm, "mm")} from the head end, {withUnit(d.positionAcrossMm, "mm")} across
+          {t("facts.position", { along: withUnit(d.positionAlongMm, "mm"), across: withUnit(d.positionAcrossMm, "mm") })}
         </div>
       </Fact>
-      <Fact label="Size">
-        {d.lengthMm === null && d.widthMm === null ? "not measured" : `${num(d.lengthMm)} × ${num(d.widthMm)} mm`}
-        {d.depthMm !== null ? `, ${withUnit(d.depthMm, "mm", 1)} deep` : ""}
+      <Fact label={t("facts.size")}>
+        {size
+          ? depth
+            ? t("facts.sizeDeep", { ...size, depth })
+            : `${size.length} × ${size.width} mm`
+          : depth
+            ? t("facts.notMeasuredDeep", { depth })
+            : t("facts.notMeasured")}
       </Fact>
-      <Fact label="Found">
-        {stageLabel(d.stage)}
+      <Fact label={t("facts.found")}>
+        {term("stages", d.stage)}
         <div className="text-sm font-normal text-ink-700">{dateTime(d.foundAt)}</div>
       </Fact>
-      <Fact label="Logged by">{d.createdByName ?? DASH}</Fact>
-      <Fact label="Disposition">{dispositionLabel(d.disposition)}</Fact>
+      <Fact label={t("facts.loggedBy")}>{d.createdByName ?? DASH}</Fact>
+      <Fact label={t("facts.disposition")}>{d.disposition ? term("dispositions", d.disposition) : DASH}</Fact>
       {d.note ? (
         <div className="col-span-full">
-          <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">Inspector's note</dt>
-          <dd className="mt-0.5 text-base">“{d.note}”</dd>
+          <dt className="text-xs font-semibold uppercase tracking-wide text-ink-600">{t("facts.note")}</dt>
+          <dd className="mt-0.5 text-base">{t("facts.quoted", { note: d.note })}</dd>
         </div>
       ) : null}
     </dl>
@@ -212,11 +228,7 @@ function DefectFacts({ d }: { d: Defect }) {
 }
 
 type QueueSort = "oldest" | "newest" | "severity";
-const SORTS: { value: QueueSort; label: string; words: string }[] = [
-  { value: "oldest", label: "Oldest first", words: "oldest first" },
-  { value: "newest", label: "Newest first", words: "newest first" },
-  { value: "severity", label: "Most severe first", words: "most severe first, then oldest" },
-];
+const SORTS: QueueSort[] = ["oldest", "newest", "severity"];
 const PAGE = 25;
 
 /**
@@ -224,10 +236,11 @@ const PAGE = 25;
  * kept in the address (`?slab=…&sort=…`), so a link or a reload opens the same queue.
  */
 export function ReviewQueue({ types }: { types: DefectType[] }) {
+  const { t } = useTranslation("review");
   const [params, setParams] = useSearchParams();
   const slab = (params.get("slab") ?? "").trim().toUpperCase();
   const sortParam = params.get("sort");
-  const sort: QueueSort = SORTS.some((x) => x.value === sortParam) ? (sortParam as QueueSort) : "oldest";
+  const sort: QueueSort = SORTS.some((x) => x === sortParam) ? (sortParam as QueueSort) : "oldest";
   const [shown, setShown] = useState(PAGE);
   const filters = { reviewStatus: "new" as const, sort, ...(slab ? { slab } : {}) };
   const queue = useQuery({
@@ -269,7 +282,7 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
       />
       <div className="flex flex-col gap-1">
         <label htmlFor="review-sort" className="text-sm font-semibold text-ink-800">
-          Order
+          {t("queue.order")}
         </label>
         <select
           id="review-sort"
@@ -281,8 +294,8 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
           className="min-h-11 rounded-md border border-ink-300 bg-white px-3"
         >
           {SORTS.map((x) => (
-            <option key={x.value} value={x.value}>
-              {x.label}
+            <option key={x} value={x}>
+              {t(`queue.sorts.${x}`)}
             </option>
           ))}
         </select>
@@ -294,15 +307,15 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
   const items = data ? data.items.filter((d) => !decided.includes(d.id)) : [];
   const remaining = data ? Math.max(0, data.total - decided.filter((id) => data.items.some((d) => d.id === id)).length) : 0;
   const current = items.find((d) => d.id === picked) ?? items[0];
-  const sortWords = SORTS.find((x) => x.value === sort)!.words;
   const elsewhere = slab && everywhere.data ? Math.max(0, everywhere.data.total - remaining) : null;
+  const noPhoto = t("queue.noPhoto");
 
   return (
     <div className="space-y-4">
       {last && data ? (
         <div data-testid="review-last">
-          <Notice tone="ok" title="Done">
-            {last} {current ? "Next entry below." : ""}
+          <Notice tone="ok" title={t("queue.doneTitle")}>
+            {last} {current ? t("queue.nextBelow") : ""}
           </Notice>
         </div>
       ) : null}
@@ -310,23 +323,23 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
         {data ? (
           <p className="text-base text-ink-800" data-testid="review-count">
             {remaining
-              ? `${plural(remaining, "entry", "entries")} awaiting review${slab ? ` on slab ${slab}` : ""}, ${sortWords}.`
+              ? t(`queue.count.${slab ? "slab" : "all"}.${sort}`, { count: remaining, n: count(remaining), slab })
               : slab
-                ? `Nothing awaits review on slab ${slab}.`
-                : "Nothing awaits review."}
+                ? t("queue.nothingOnSlab", { slab })
+                : t("queue.nothing")}
           </p>
         ) : (
           <span />
         )}
         {filter}
       </div>
-      {queue.isPending ? <Spinner label="Loading the review queue" /> : null}
+      {queue.isPending ? <Spinner label={t("queue.loading")} /> : null}
       {queue.isError ? <Notice tone="error">{queue.error.message}</Notice> : null}
       {!data ? null : current ? (
         <div className="grid gap-4 lg:grid-cols-[minmax(0,2fr)_minmax(18rem,1fr)]">
-          <Card title={`Entry #${current.id} · logged ${dateTime(current.createdAt)}`}>
+          <Card title={t("queue.entryTitle", { id: current.id, when: dateTime(current.createdAt) })}>
             <div className="space-y-5" data-testid="review-current" data-defect-id={current.id}>
-              <PhotoStrip photos={current.photos} label="Photos of the entry" size="h-32 w-32" />
+              <PhotoStrip photos={current.photos} label={t("queue.photos")} size="h-32 w-32" />
               <DefectFacts d={current} />
               <Decision
                 key={current.id}
@@ -340,8 +353,8 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
               />
             </div>
           </Card>
-          <Card title="Up next" bodyClassName="p-0">
-            <ul className="divide-y divide-ink-100" aria-label="Entries awaiting review">
+          <Card title={t("queue.upNext")} bodyClassName="p-0">
+            <ul className="divide-y divide-ink-100" aria-label={t("queue.listLabel")}>
               {items.map((d) => (
                 <li key={d.id}>
                   <button
@@ -354,7 +367,7 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
                       <img src={d.photos[0].thumbUrl} alt="" className="h-12 w-12 shrink-0 rounded border border-ink-300 object-cover" />
                     ) : (
                       <span className="flex h-12 w-12 shrink-0 items-center justify-center rounded border border-dashed border-ink-300 text-[10px] text-ink-500">
-                        no photo
+                        {noPhoto}
                       </span>
                     )}
                     <span className="min-w-0 flex-1">
@@ -372,12 +385,12 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
             <div className="flex flex-wrap items-center justify-between gap-2 px-3 py-2 text-sm text-ink-700" data-testid="review-paging">
               <span>
                 {items.length < remaining
-                  ? `Showing ${items.length.toLocaleString("en-GB")} of ${remaining.toLocaleString("en-GB")}.`
-                  : `All ${remaining.toLocaleString("en-GB")} shown.`}
+                  ? t("queue.showing", { shown: count(items.length), total: count(remaining) })
+                  : t("queue.allShown", { total: count(remaining) })}
               </span>
               {items.length < remaining && shown < 200 ? (
                 <Button variant="secondary" disabled={queue.isFetching} onClick={() => setShown((n) => Math.min(200, n + PAGE))}>
-                  Show {Math.min(PAGE, remaining - items.length)} more
+                  {t("queue.showMore", { n: Math.min(PAGE, remaining - items.length) })}
                 </Button>
               ) : null}
             </div>
@@ -387,12 +400,12 @@ export function ReviewQueue({ types }: { types: DefectType[] }) {
         <Card>
           <p className="text-base text-ink-700" data-testid="review-empty">
             {!slab
-              ? "The queue is empty: every entry has been reviewed."
+              ? t("queue.empty")
               : elsewhere === null
-                ? `No entry of slab ${slab} awaits review.`
+                ? t("queue.emptySlab", { slab })
                 : elsewhere > 0
-                  ? `No entry of slab ${slab} awaits review; ${plural(elsewhere, "entry", "entries")} of other slabs ${elsewhere === 1 ? "waits" : "wait"} — choose "Show all slabs".`
-                  : `No entry of slab ${slab} awaits review, nor of any other slab.`}
+                  ? t("queue.emptySlabElsewhere", { slab, count: elsewhere, n: count(elsewhere) })
+                  : t("queue.emptyEverywhere", { slab })}
           </p>
         </Card>
       )}

@@ -1,6 +1,8 @@
 import { useState, type ReactNode } from "react";
 import { Link } from "react-router";
-import { ACTION_STATUSES, ACTION_STATUS_LABELS, type Investigation, type Person } from "@shared/api/investigations";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
+import { ACTION_STATUSES, type Investigation, type Person } from "@shared/api/investigations";
 import { AttachmentsCard } from "@/components/attachments-card";
 import { MutationError, TextAreaField, todayInput, useAddRow } from "@/components/mutation-form";
 import { Button } from "@/components/ui/button";
@@ -8,7 +10,8 @@ import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
 import { SeverityMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
-import { date, dateTime, DASH, plural } from "@/lib/format";
+import { count, date, dateTime, DASH } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
 import { useInvestigationChange, useUploadAttachments } from "../api/investigations.queries";
 import { heatList, PersonOptions } from "./new-investigation-form";
 import { ActionStatusMark, HypothesisStatusMark, InvestigationStatusMark, OverdueMark } from "./investigation-marks";
@@ -51,41 +54,42 @@ function TagSelect({
 }
 
 export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Investigation; canManage: boolean; people: Person[] }) {
+  const { t } = useTranslation("process");
   const change = useInvestigationChange(inv.id);
   const closed = inv.status === "closed";
   return (
     <Card>
       <div className="grid gap-4 xl:grid-cols-[2fr_1fr]">
         <div>
-          <div className="text-xs font-semibold uppercase tracking-wide text-ink-600">Problem statement</div>
+          <div className="text-xs font-semibold uppercase tracking-wide text-ink-600">{t("investigations.detail.problemStatement")}</div>
           <p className="mt-1 whitespace-pre-line text-ink-900" data-testid="problem-statement">
             {inv.problemStatement}
           </p>
         </div>
         <dl className="grid grid-cols-2 gap-3 text-sm">
           <div>
-            <dt className="text-xs font-semibold uppercase text-ink-600">Status</dt>
+            <dt className="text-xs font-semibold uppercase text-ink-600">{t("investigations.table.status")}</dt>
             <dd className="mt-1">
               <InvestigationStatusMark status={inv.status} />
             </dd>
           </div>
           <div>
-            <dt className="text-xs font-semibold uppercase text-ink-600">Opened</dt>
+            <dt className="text-xs font-semibold uppercase text-ink-600">{t("investigations.table.opened")}</dt>
             <dd className="mt-1">{date(inv.openedAt)}</dd>
           </div>
           {/* The whole row: a name in a drop-down is cut off in half of the narrow column. */}
           <div className="col-span-2">
-            <dt className="text-xs font-semibold uppercase text-ink-600">Owner</dt>
+            <dt className="text-xs font-semibold uppercase text-ink-600">{t("investigations.table.owner")}</dt>
             <dd className="mt-1">
               {canManage && !closed ? (
                 <select
-                  aria-label="Owner"
+                  aria-label={t("investigations.table.owner")}
                   value={inv.owner?.id ?? ""}
                   disabled={change.isPending}
                   onChange={(e) => change.mutate({ method: "PATCH", path: "", body: { ownerId: e.target.value } })}
                   className={inputClass}
                 >
-                  {inv.owner ? null : <option value="">No owner</option>}
+                  {inv.owner ? null : <option value="">{t("investigations.detail.noOwner")}</option>}
                   <PersonOptions people={people} />
                 </select>
               ) : (
@@ -94,12 +98,12 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
             </dd>
           </div>
           <div>
-            <dt className="text-xs font-semibold uppercase text-ink-600">Actions</dt>
+            <dt className="text-xs font-semibold uppercase text-ink-600">{t("investigations.detail.actions")}</dt>
             <dd className="mt-1">
-              {inv.actions.open} open of {inv.actions.total}
+              {t("investigations.detail.openOf", { open: count(inv.actions.open), total: count(inv.actions.total) })}
               {inv.actions.overdue ? (
                 <div>
-                  <OverdueMark label={`${inv.actions.overdue} overdue`} />
+                  <OverdueMark label={t("home.overdue", { n: count(inv.actions.overdue) })} />
                 </div>
               ) : null}
             </dd>
@@ -114,18 +118,18 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
               disabled={change.isPending}
               onClick={() => change.mutate({ method: "PATCH", path: "", body: { status: "in_progress" } })}
             >
-              Mark as under way
+              {t("investigations.detail.markUnderWay")}
             </Button>
           ) : (
             <Button variant="secondary" disabled={change.isPending} onClick={() => change.mutate({ method: "PATCH", path: "", body: { status: "open" } })}>
-              Back to open
+              {t("investigations.detail.backToOpen")}
             </Button>
           )}
         </div>
       ) : null}
       {inv.status === "closed" ? (
         <div className="mt-4 rounded-md border-2 border-ink-700 bg-ink-50 px-4 py-3" data-testid="closure">
-          <div className="text-xs font-semibold uppercase text-ink-600">Closed {date(inv.closedAt)} — confirmed cause</div>
+          <div className="text-xs font-semibold uppercase text-ink-600">{t("investigations.detail.closedOn", { date: date(inv.closedAt) })}</div>
           <div className="text-lg font-bold" data-testid="confirmed-cause">
             {inv.confirmedCause?.name ?? DASH}
           </div>
@@ -140,6 +144,7 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
 }
 
 export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage: boolean }) {
+  const { t } = useTranslation("process");
   const change = useInvestigationChange(inv.id);
   const add = useAddRow(change, { heats: "" }, (v) => {
     const list = heatList(v.heats);
@@ -147,14 +152,19 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
   });
   const s = inv.subjects;
   return (
-    <Card title={`Subjects (${plural(s.heats.length, "heat")}, ${plural(s.defects.length, "defect")})`}>
+    <Card
+      title={t("investigations.detail.subjectsTitle", {
+        heats: t("investigations.heats", { count: s.heats.length, n: count(s.heats.length) }),
+        defects: t("investigations.defects", { count: s.defects.length, n: count(s.defects.length) }),
+      })}
+    >
       <div className="space-y-4" data-testid="subjects">
         {s.heats.length ? (
           <ul className="flex flex-wrap gap-2">
             {s.heats.map((h) => (
               <li key={h.heatNo} className="rounded-md border border-ink-200 px-3 py-1.5 text-sm" data-testid="subject-heat">
                 <Link to={`/heats/${encodeURIComponent(h.heatNo)}`} className={link}>
-                  Heat {h.heatNo}
+                  {t("investigations.detail.heat", { heat: h.heatNo })}
                 </Link>
                 <span className="text-ink-600">
                   {" "}
@@ -169,11 +179,11 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
             <table className="w-full text-sm">
               <thead>
                 <tr className="border-b-2 border-ink-200 text-left text-xs font-semibold text-ink-700">
-                  <th className="px-2 py-2">Slab</th>
-                  <th className="px-2 py-2">Defect</th>
-                  <th className="px-2 py-2">Severity</th>
-                  <th className="px-2 py-2">Found</th>
-                  <th className="px-2 py-2">Causes</th>
+                  <th className="px-2 py-2">{t("investigations.detail.slab")}</th>
+                  <th className="px-2 py-2">{t("causes.worklist.colDefect")}</th>
+                  <th className="px-2 py-2">{t("causes.worklist.colSeverity")}</th>
+                  <th className="px-2 py-2">{t("causes.worklist.colFound")}</th>
+                  <th className="px-2 py-2">{t("causes.defect.causes")}</th>
                 </tr>
               </thead>
               <tbody>
@@ -183,7 +193,7 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
                       <Link to={`/slabs/${encodeURIComponent(d.slabId)}`} className={`${link} inline-flex min-h-11 items-center`}>
                         {d.slabId}
                       </Link>
-                      <div className="text-xs text-ink-600">heat {d.heatNo}</div>
+                      <div className="text-xs text-ink-600">{t("investigations.detail.heatSmall", { heat: d.heatNo })}</div>
                     </td>
                     <td className="px-2 py-1.5">
                       <span className="font-semibold">{d.type}</span> {d.typeName}
@@ -192,7 +202,9 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
                       <SeverityMark severity={d.severity} />
                     </td>
                     <td className="whitespace-nowrap px-2 py-1.5">{date(d.foundAt)}</td>
-                    <td className="px-2 py-1.5">{d.causes.length ? d.causes.join(", ") : <span className="text-ink-600">none tagged</span>}</td>
+                    <td className="px-2 py-1.5">
+                      {d.causes.length ? d.causes.join(", ") : <span className="text-ink-600">{t("investigations.detail.noneTagged")}</span>}
+                    </td>
                   </tr>
                 ))}
               </tbody>
@@ -200,10 +212,15 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
           </div>
         ) : null}
         {canManage && inv.status !== "closed" ? (
-          <form className="flex flex-wrap items-end gap-2" aria-label="Add heats" onSubmit={add.onSubmit}>
-            <TextField label="Add heats" hint="Heat numbers, separated by commas or spaces" {...add.bind("heats")} className="min-w-64 flex-1" />
+          <form className="flex flex-wrap items-end gap-2" aria-label={t("investigations.detail.addHeats")} onSubmit={add.onSubmit}>
+            <TextField
+              label={t("investigations.detail.addHeats")}
+              hint={t("investigations.detail.addHeatsHint")}
+              {...add.bind("heats")}
+              className="min-w-64 flex-1"
+            />
             <Button type="submit" variant="secondary" disabled={change.isPending || !add.values.heats.trim()}>
-              Add
+              {t("ui.add")}
             </Button>
           </form>
         ) : null}
@@ -214,12 +231,13 @@ export function SubjectsCard({ inv, canManage }: { inv: Investigation; canManage
 }
 
 export function ParticipantsCard({ inv, canManage, people }: { inv: Investigation; canManage: boolean; people: Person[] }) {
+  const { t } = useTranslation("process");
   const change = useInvestigationChange(inv.id);
   const add = useAddRow(change, { pick: "" }, (v) => (v.pick ? { path: "/participants", body: { userIds: [v.pick] } } : null));
   const inIt = new Set([...inv.participants.map((p) => p.id), inv.owner?.id]);
   const others = people.filter((p) => !inIt.has(p.id));
   return (
-    <Card title={`Participants (${inv.participants.length})`}>
+    <Card title={t("investigations.detail.participantsTitle", { n: count(inv.participants.length) })}>
       <div className="space-y-3">
         {inv.participants.length ? (
           <ul className="space-y-1 text-sm" data-testid="participants">
@@ -230,19 +248,19 @@ export function ParticipantsCard({ inv, canManage, people }: { inv: Investigatio
             ))}
           </ul>
         ) : (
-          <p className="text-sm text-ink-600">Only the owner so far.</p>
+          <p className="text-sm text-ink-600">{t("investigations.detail.onlyOwner")}</p>
         )}
         {canManage && inv.status !== "closed" && others.length ? (
-          <form className="flex flex-wrap items-end gap-2" aria-label="Add a participant" onSubmit={add.onSubmit}>
+          <form className="flex flex-wrap items-end gap-2" aria-label={t("investigations.detail.addParticipant")} onSubmit={add.onSubmit}>
             <label className="flex min-w-56 flex-1 flex-col gap-1">
-              <span className="text-sm font-semibold text-ink-800">Add a participant</span>
+              <span className="text-sm font-semibold text-ink-800">{t("investigations.detail.addParticipant")}</span>
               <select {...add.bind("pick")} className={inputClass}>
-                <option value="">Choose a person</option>
+                <option value="">{t("investigations.detail.choosePerson")}</option>
                 <PersonOptions people={others} />
               </select>
             </label>
             <Button type="submit" variant="secondary" disabled={!add.values.pick || change.isPending}>
-              Add
+              {t("ui.add")}
             </Button>
           </form>
         ) : null}
@@ -253,6 +271,8 @@ export function ParticipantsCard({ inv, canManage, people }: { inv: Investigatio
 }
 
 export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; canManage: boolean; tags: TagOption[] }) {
+  const { t } = useTranslation("process");
+  const { term } = useTerms();
   const change = useInvestigationChange(inv.id);
   const add = useAddRow(change, { statement: "", causeTag: "" }, (v) => ({
     path: "/hypotheses",
@@ -260,7 +280,7 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
   }));
   const open = canManage && inv.status !== "closed";
   return (
-    <Card title={`Hypotheses (${inv.hypotheses.length})`}>
+    <Card title={t("investigations.detail.hypothesesTitle", { n: count(inv.hypotheses.length) })}>
       <div className="space-y-3">
         {inv.hypotheses.length ? (
           <ul className="divide-y divide-ink-100" data-testid="hypotheses">
@@ -269,7 +289,8 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
                 <div className="min-w-56 flex-1">
                   <div className="text-sm text-ink-900">{h.statement}</div>
                   <div className="text-xs text-ink-600">
-                    {h.causeTagName ? `cause tag: ${h.causeTagName}` : "no cause tag"} · {date(h.createdAt)}
+                    {h.causeTagName ? t("investigations.detail.causeTag", { name: h.causeTagName }) : t("investigations.detail.noCauseTag")} ·{" "}
+                    {date(h.createdAt)}
                   </div>
                 </div>
                 <HypothesisStatusMark status={h.status} />
@@ -281,7 +302,7 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
                         disabled={change.isPending}
                         onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "supported" } })}
                       >
-                        Supported
+                        {term("hypothesisStatus", "supported")}
                       </Button>
                     ) : null}
                     {h.status !== "rejected" ? (
@@ -290,7 +311,7 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
                         disabled={change.isPending}
                         onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "rejected" } })}
                       >
-                        Rule out
+                        {t("investigations.detail.ruleOut")}
                       </Button>
                     ) : null}
                     {h.status !== "open" ? (
@@ -299,7 +320,7 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
                         disabled={change.isPending}
                         onClick={() => change.mutate({ method: "PATCH", path: `/hypotheses/${h.id}`, body: { status: "open" } })}
                       >
-                        Not yet tested
+                        {term("hypothesisStatus", "open")}
                       </Button>
                     ) : null}
                   </div>
@@ -308,19 +329,30 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
             ))}
           </ul>
         ) : (
-          <p className="text-sm text-ink-600">No hypothesis yet.</p>
+          <p className="text-sm text-ink-600">{t("investigations.detail.noHypothesis")}</p>
         )}
         {open ? (
-          <form className="grid gap-2 md:grid-cols-[2fr_1fr_auto] md:items-end" aria-label="Add a hypothesis" onSubmit={add.onSubmit}>
-            <TextField label="New hypothesis" {...add.bind("statement")} maxLength={1000} placeholder="What could explain the defects" />
+          <form className="grid gap-2 md:grid-cols-[2fr_1fr_auto] md:items-end" aria-label={t("investigations.detail.addHypothesis")} onSubmit={add.onSubmit}>
+            <TextField
+              label={t("investigations.detail.newHypothesis")}
+              {...add.bind("statement")}
+              maxLength={1000}
+              placeholder={t("investigations.detail.hypothesisPlaceholder")}
+            />
             <div className="flex flex-col gap-1">
               <label htmlFor="hyp-tag" className="text-sm font-semibold text-ink-800">
-                Cause tag (optional)
+                {t("investigations.detail.causeTagOptional")}
               </label>
-              <TagSelect id="hyp-tag" tags={tags} value={add.values.causeTag} onChange={(v) => add.set("causeTag", v)} emptyLabel="None" />
+              <TagSelect
+                id="hyp-tag"
+                tags={tags}
+                value={add.values.causeTag}
+                onChange={(v) => add.set("causeTag", v)}
+                emptyLabel={t("investigations.detail.none")}
+              />
             </div>
             <Button type="submit" variant="secondary" className="self-end" disabled={change.isPending || add.values.statement.trim().length === 0}>
-              Add
+              {t("ui.add")}
             </Button>
           </form>
         ) : null}
@@ -331,6 +363,8 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
 }
 
 export function ActionsCard({ inv, canManage, people }: { inv: Investigation; canManage: boolean; people: Person[] }) {
+  const { t } = useTranslation("process");
+  const { term } = useTerms();
   const change = useInvestigationChange(inv.id);
   // The owner stays chosen for the next action.
   const add = useAddRow(
@@ -342,7 +376,7 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
   const { description, ownerId, dueOn } = add.values;
   const open = canManage && inv.status !== "closed";
   return (
-    <Card title={`Actions (${inv.actionList.length})`}>
+    <Card title={t("investigations.detail.actionsTitle", { n: count(inv.actionList.length) })}>
       <div className="space-y-3">
         {inv.actionList.length ? (
           <ul className="divide-y divide-ink-100" data-testid="actions">
@@ -356,14 +390,19 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
                 <div className="min-w-56 flex-1">
                   <div className="text-sm text-ink-900">{a.description}</div>
                   <div className="text-xs text-ink-600">
-                    {a.owner?.name ?? "no owner"} · due {date(a.dueOn)}
-                    {a.completedAt ? ` · completed ${date(a.completedAt)}` : ""}
+                    {a.completedAt
+                      ? t("investigations.detail.dueCompleted", {
+                          owner: a.owner?.name ?? t("investigations.detail.noOwnerSmall"),
+                          due: date(a.dueOn),
+                          completed: date(a.completedAt),
+                        })
+                      : t("investigations.detail.due", { owner: a.owner?.name ?? t("investigations.detail.noOwnerSmall"), due: date(a.dueOn) })}
                   </div>
                 </div>
                 {a.overdue ? <OverdueMark /> : null}
                 {open ? (
                   <label className="flex items-center gap-2 text-sm">
-                    <span className="sr-only">Status of “{a.description}”</span>
+                    <span className="sr-only">{t("investigations.detail.statusOf", { action: a.description })}</span>
                     <select
                       value={a.status}
                       disabled={change.isPending}
@@ -373,7 +412,7 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
                     >
                       {ACTION_STATUSES.map((s) => (
                         <option key={s} value={s}>
-                          {ACTION_STATUS_LABELS[s]}
+                          {term("actionStatus", s)}
                         </option>
                       ))}
                     </select>
@@ -385,28 +424,37 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
             ))}
           </ul>
         ) : (
-          <p className="text-sm text-ink-600">No action yet.</p>
+          <p className="text-sm text-ink-600">{t("investigations.detail.noAction")}</p>
         )}
         {open ? (
-          <form className="grid gap-2 md:grid-cols-2 xl:grid-cols-[2fr_1fr_1fr_auto] xl:items-end" aria-label="Add an action" onSubmit={add.onSubmit}>
-            <TextField label="New action" {...add.bind("description")} maxLength={1000} placeholder="What is to be done" />
+          <form
+            className="grid gap-2 md:grid-cols-2 xl:grid-cols-[2fr_1fr_1fr_auto] xl:items-end"
+            aria-label={t("investigations.detail.addAction")}
+            onSubmit={add.onSubmit}
+          >
+            <TextField
+              label={t("investigations.detail.newAction")}
+              {...add.bind("description")}
+              maxLength={1000}
+              placeholder={t("investigations.detail.actionPlaceholder")}
+            />
             <div className="flex flex-col gap-1">
               <label htmlFor="action-owner" className="text-sm font-semibold text-ink-800">
-                Action owner
+                {t("investigations.detail.actionOwner")}
               </label>
               <select id="action-owner" {...add.bind("ownerId")} className={inputClass}>
-                <option value="">Choose a person</option>
+                <option value="">{t("investigations.detail.choosePerson")}</option>
                 <PersonOptions people={people} />
               </select>
             </div>
             <TextField
-              label="Due on"
+              label={t("investigations.detail.dueOn")}
               type="date"
               {...add.bind("dueOn")}
-              hint={dueOn && dueOn < todayInput() ? "This date has passed: the action shows as overdue." : undefined}
+              hint={dueOn && dueOn < todayInput() ? t("investigations.detail.datePassed") : undefined}
             />
             <Button type="submit" variant="secondary" className="self-end" disabled={change.isPending || description.trim().length === 0 || !ownerId || !dueOn}>
-              Add
+              {t("ui.add")}
             </Button>
           </form>
         ) : null}
@@ -417,92 +465,104 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
 }
 
 export function InvestigationAttachmentsCard({ inv, canManage }: { inv: Investigation; canManage: boolean }) {
+  const { t } = useTranslation("process");
   const upload = useUploadAttachments(inv.id);
   return (
-    <AttachmentsCard attachments={inv.attachments} upload={upload} canUpload={canManage && inv.status !== "closed"} hint="Attach files (up to 5, 20 MB each)" />
+    <AttachmentsCard
+      attachments={inv.attachments}
+      upload={upload}
+      canUpload={canManage && inv.status !== "closed"}
+      hint={t("investigations.detail.attachHint", { files: count(5), size: count(20) })}
+    />
   );
 }
 
 export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption[] }) {
+  const { t } = useTranslation("process");
   const change = useInvestigationChange(inv.id);
   const supported = inv.hypotheses.find((h) => h.status === "supported" && h.causeTag)?.causeTag ?? "";
   const [cause, setCause] = useState(supported);
   const [note, setNote] = useState("");
-  const [problem, setProblem] = useState<string | null>(null);
+  const [problem, setProblem] = useState<"errorCause" | "errorNote" | null>(null);
   const openActions = inv.actionList.filter((a) => a.status === "open" || a.status === "in_progress").length;
   return (
-    <Card title="Close the investigation">
+    <Card title={t("investigations.closure.title")}>
       <form
         className="space-y-3"
-        aria-label="Close the investigation"
+        aria-label={t("investigations.closure.title")}
         onSubmit={(e) => {
           e.preventDefault();
           setProblem(null);
-          if (!cause) return setProblem("Choose the confirmed cause.");
-          if (note.trim().length < 5) return setProblem("Say in the closure note what was found and done.");
+          if (!cause) return setProblem("errorCause");
+          if (note.trim().length < 5) return setProblem("errorNote");
           change.mutate({ path: "/close", body: { confirmedCause: cause, closureNote: note.trim() } });
         }}
       >
-        {openActions ? <Notice tone="caution">{plural(openActions, "action is", "actions are")} still open.</Notice> : null}
+        {openActions ? <Notice tone="caution">{t("investigations.closure.stillOpen", { count: openActions, n: count(openActions) })}</Notice> : null}
         <div className="grid gap-3 md:grid-cols-2">
           <div className="flex flex-col gap-1">
             <label htmlFor="close-cause" className="text-sm font-semibold text-ink-800">
-              Confirmed cause
+              {t("investigations.closure.confirmedCause")}
             </label>
-            <TagSelect id="close-cause" tags={tags} value={cause} onChange={setCause} emptyLabel="Choose the confirmed cause" />
+            <TagSelect id="close-cause" tags={tags} value={cause} onChange={setCause} emptyLabel={t("investigations.closure.chooseCause")} />
           </div>
         </div>
         <TextAreaField
           id="close-note"
-          label="Closure note"
+          label={t("investigations.closure.note")}
           rows={3}
           value={note}
           onChange={(e) => setNote(e.target.value)}
           maxLength={5000}
           className="rounded-md border border-ink-300 bg-white px-3 py-2 text-sm"
-          placeholder="What was found, what was changed, through which procedure"
+          placeholder={t("investigations.closure.notePlaceholder")}
         />
-        {problem ? <Notice tone="error">{problem}</Notice> : null}
+        {problem ? <Notice tone="error">{t(`investigations.closure.${problem}`)}</Notice> : null}
         <MutationError mutation={change} />
         <Button type="submit" disabled={change.isPending}>
-          {change.isPending ? "Closing…" : "Close with this cause"}
+          {change.isPending ? t("investigations.closure.closing") : t("investigations.closure.close")}
         </Button>
       </form>
     </Card>
   );
 }
 
+/** The server's record names, by their words' keys under investigations.history.words. */
 const HISTORY_WORDS: Record<string, string> = {
-  "investigation.open": "opened the investigation",
-  "investigation.create": "opened the investigation",
-  "investigation.update": "changed the investigation",
-  "investigation.close": "closed the investigation",
-  "investigation.subjects.add": "added subjects",
-  "investigation.participants.add": "added participants",
-  "investigation.hypothesis.add": "added a hypothesis",
-  "investigation.hypothesis.update": "changed a hypothesis",
-  "investigation.action.add": "added an action",
-  "investigation.action.update": "changed an action",
-  "investigation.attachment.add": "attached a file",
+  "investigation.open": "opened",
+  "investigation.create": "opened",
+  "investigation.update": "changed",
+  "investigation.close": "closed",
+  "investigation.subjects.add": "subjectsAdded",
+  "investigation.participants.add": "participantsAdded",
+  "investigation.hypothesis.add": "hypothesisAdded",
+  "investigation.hypothesis.update": "hypothesisChanged",
+  "investigation.action.add": "actionAdded",
+  "investigation.action.update": "actionChanged",
+  "investigation.attachment.add": "fileAttached",
 };
 /** The server's record names as words; an unknown one loses its dots rather than show as code. */
-const historyWords = (a: string) => HISTORY_WORDS[a] ?? a.replace(/^investigation\./, "").replace(/[._]/g, " ");
+const historyWords = (t: TFunction, a: string) => {
+  const key = HISTORY_WORDS[a];
+  return key ? t(`investigations.history.words.${key}`) : a.replace(/^investigation\./, "").replace(/[._]/g, " ");
+};
 
 export function HistoryCard({ inv }: { inv: Investigation }) {
+  const { t } = useTranslation("process");
   return (
-    <Card title="History">
+    <Card title={t("investigations.history.title")}>
       {inv.history.length ? (
         <ol className="space-y-1 text-sm" data-testid="investigation-history">
           {inv.history.map((h, i) => (
             <li key={i} className="flex flex-wrap gap-x-3">
               <span className="whitespace-nowrap tabular-nums text-ink-600">{dateTime(h.at)}</span>
-              <span className="font-semibold">{h.by ?? "the system"}</span>
-              <span title={h.action}>{historyWords(h.action)}</span>
+              <span className="font-semibold">{h.by ?? t("investigations.history.system")}</span>
+              <span title={h.action}>{historyWords(t, h.action)}</span>
             </li>
           ))}
         </ol>
       ) : (
-        <p className="text-sm text-ink-600">Nothing recorded yet.</p>
+        <p className="text-sm text-ink-600">{t("investigations.history.empty")}</p>
       )}
     </Card>
   );

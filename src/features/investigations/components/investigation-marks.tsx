@@ -1,4 +1,6 @@
-import { ACTION_STATUS_LABELS, HYPOTHESIS_STATUS_LABELS, INVESTIGATION_STATUS_LABELS } from "@shared/api/investigations";
+import { useTranslation } from "react-i18next";
+import type { ACTION_STATUS_LABELS, HYPOTHESIS_STATUS_LABELS, INVESTIGATION_STATUS_LABELS } from "@shared/api/investigations";
+import { useTerms } from "@/i18n/terms";
 
 type IStatus = keyof typeof INVESTIGATION_STATUS_LABELS;
 type AStatus = keyof typeof ACTION_STATUS_LABELS;
@@ -8,6 +10,7 @@ const stroke = { fill: "none", stroke: "currentColor", strokeWidth: 1.8, strokeL
 
 /** Open: an empty circle; under way: a circle with a hand; closed: a filled square with a tick. */
 export function InvestigationStatusMark({ status }: { status: IStatus }) {
+  const { term } = useTerms();
   const color = status === "closed" ? "text-ink-700" : status === "in_progress" ? "text-strand-800" : "text-brass-700";
   return (
     <span
@@ -30,13 +33,14 @@ export function InvestigationStatusMark({ status }: { status: IStatus }) {
           </>
         ) : null}
       </svg>
-      {INVESTIGATION_STATUS_LABELS[status]}
+      {term("investigationStatus", status)}
     </span>
   );
 }
 
 /** An action past its due date and not done: a word and a warning triangle, never a colour alone. */
-export function OverdueMark({ label = "Overdue" }: { label?: string }) {
+export function OverdueMark({ label }: { label?: string }) {
+  const { t } = useTranslation("process");
   return (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-sm font-bold text-alarm-700" data-testid="overdue-mark">
       <svg viewBox="0 0 16 16" className="h-4 w-4 shrink-0" aria-hidden>
@@ -44,12 +48,13 @@ export function OverdueMark({ label = "Overdue" }: { label?: string }) {
         <path d="M8 6v4" stroke="#fff" strokeWidth="1.8" strokeLinecap="round" />
         <circle cx="8" cy="12" r="0.9" fill="#fff" />
       </svg>
-      {label}
+      {label ?? t("investigations.overdue")}
     </span>
   );
 }
 
 export function ActionStatusMark({ status }: { status: AStatus }) {
+  const { term } = useTerms();
   return (
     <span className="inline-flex items-center gap-1.5 whitespace-nowrap text-sm font-semibold text-ink-800" data-status={status}>
       <svg viewBox="0 0 16 16" className="h-4 w-4 shrink-0" aria-hidden>
@@ -73,12 +78,13 @@ export function ActionStatusMark({ status }: { status: AStatus }) {
           </>
         ) : null}
       </svg>
-      {ACTION_STATUS_LABELS[status]}
+      {term("actionStatus", status)}
     </span>
   );
 }
 
 export function HypothesisStatusMark({ status }: { status: HStatus }) {
+  const { term } = useTerms();
   const color = status === "supported" ? "text-ok-700" : status === "rejected" ? "text-ink-600" : "text-brass-700";
   return (
     <span className={`inline-flex items-center gap-1.5 whitespace-nowrap text-sm font-semibold ${color}`} data-status={status} data-testid="hypothesis-status">
@@ -87,7 +93,7 @@ export function HypothesisStatusMark({ status }: { status: HStatus }) {
         {status === "supported" ? <path d="M2.5 8.5l3.5 3.5 7.5-8" {...stroke} strokeWidth={2.2} /> : null}
         {status === "rejected" ? <path d="M3.5 3.5l9 9M12.5 3.5l-9 9" {...stroke} strokeWidth={2} /> : null}
       </svg>
-      {HYPOTHESIS_STATUS_LABELS[status]}
+      {term("hypothesisStatus", status)}
     </span>
   );
 }

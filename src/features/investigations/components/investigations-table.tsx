@@ -1,15 +1,17 @@
 import { Link } from "react-router";
+import { useTranslation } from "react-i18next";
 import type { InvestigationSummary } from "@shared/api/investigations";
-import { date, DASH } from "@/lib/format";
+import { count, date, DASH } from "@/lib/format";
 import { InvestigationStatusMark, OverdueMark } from "./investigation-marks";
 
 const th = "px-2 py-2 text-left text-xs font-semibold text-ink-700";
 
-export function InvestigationsTable({ items, empty = "No investigation matches." }: { items: InvestigationSummary[]; empty?: string }) {
+export function InvestigationsTable({ items, empty }: { items: InvestigationSummary[]; empty?: string }) {
+  const { t } = useTranslation("process");
   if (items.length === 0)
     return (
       <p className="text-sm text-ink-600" data-testid="no-investigations">
-        {empty}
+        {empty ?? t("investigations.table.empty")}
       </p>
     );
   return (
@@ -17,13 +19,13 @@ export function InvestigationsTable({ items, empty = "No investigation matches."
       <table className="w-full text-sm" data-testid="investigations">
         <thead>
           <tr className="border-b-2 border-ink-200">
-            <th className={th}>Investigation</th>
-            <th className={th}>Status</th>
-            <th className={th}>Owner</th>
-            <th className={`${th} text-right`}>Subjects</th>
-            <th className={`${th} text-right`}>Open actions</th>
-            <th className={th}>Overdue</th>
-            <th className={th}>Opened</th>
+            <th className={th}>{t("investigations.table.investigation")}</th>
+            <th className={th}>{t("investigations.table.status")}</th>
+            <th className={th}>{t("investigations.table.owner")}</th>
+            <th className={`${th} text-right`}>{t("investigations.table.subjects")}</th>
+            <th className={`${th} text-right`}>{t("investigations.table.openActions")}</th>
+            <th className={th}>{t("investigations.overdue")}</th>
+            <th className={th}>{t("investigations.table.opened")}</th>
           </tr>
         </thead>
         <tbody>
@@ -39,7 +41,7 @@ export function InvestigationsTable({ items, empty = "No investigation matches."
                 </Link>
                 <div className="text-xs text-ink-600">
                   {i.ref}
-                  {i.confirmedCause ? ` · confirmed cause: ${i.confirmedCause.name}` : ""}
+                  {i.confirmedCause ? t("investigations.table.confirmedCause", { name: i.confirmedCause.name }) : ""}
                 </div>
               </td>
               <td className="px-2 py-2" data-field="status">
@@ -49,13 +51,20 @@ export function InvestigationsTable({ items, empty = "No investigation matches."
                 {i.owner?.name ?? DASH}
               </td>
               <td className="px-2 py-2 text-right tabular-nums" data-field="subjects">
-                {i.heats} {i.heats === 1 ? "heat" : "heats"}, {i.defects} {i.defects === 1 ? "defect" : "defects"}
+                {t("investigations.table.subjectCount", {
+                  heats: t("investigations.heats", { count: i.heats, n: count(i.heats) }),
+                  defects: t("investigations.defects", { count: i.defects, n: count(i.defects) }),
+                })}
               </td>
               <td className="px-2 py-2 text-right tabular-nums" data-field="open-actions">
-                {i.actions.open} of {i.actions.total}
+                {t("investigations.table.openOf", { open: count(i.actions.open), total: count(i.actions.total) })}
               </td>
               <td className="px-2 py-2" data-field="overdue">
-                {i.actions.overdue > 0 ? <OverdueMark label={`${i.actions.overdue} overdue`} /> : <span className="text-ink-600">none</span>}
+                {i.actions.overdue > 0 ? (
+                  <OverdueMark label={t("home.overdue", { n: count(i.actions.overdue) })} />
+                ) : (
+                  <span className="text-ink-600">{t("investigations.table.none")}</span>
+                )}
               </td>
               <td className="whitespace-nowrap px-2 py-2 tabular-nums">{date(i.openedAt)}</td>
             </tr>

@@ -1,11 +1,13 @@
-import { useState } from "react";
+import { useMemo, useState } from "react";
 import { useForm } from "react-hook-form";
 import { zodResolver } from "@hookform/resolvers/zod";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import { z } from "zod";
 import type { Investigation, Person } from "@shared/api/investigations";
 import { RecordForm, TextAreaField } from "@/components/mutation-form";
 import { TextField } from "@/components/ui/field";
-import { plural } from "@/lib/format";
+import { count } from "@/lib/format";
 import { useCreateInvestigation } from "../api/investigations.queries";
 
 /** Heat numbers as a person types them: commas, spaces or new lines between. */
@@ -27,17 +29,18 @@ export function PersonOptions({ people }: { people: Person[] }) {
   ));
 }
 
-const formSchema = z
-  .object({
-    title: z.string().trim().min(3, "Give the investigation a title.").max(160),
-    problemStatement: z.string().trim().min(10, "Describe the problem in a sentence or two.").max(5000),
-    ownerId: z.string(),
-    heats: z.string().max(5000),
-    defectIds: z.array(z.number().int().positive()),
-    participantIds: z.array(z.string()),
-  })
-  .refine((v) => v.defectIds.length + heatList(v.heats).length > 0, { message: "Enter at least one heat number (or open it from a defect).", path: ["heats"] });
-type FormValues = z.infer<typeof formSchema>;
+const formSchemaIn = (t: TFunction) =>
+  z
+    .object({
+      title: z.string().trim().min(3, t("investigations.new.errors.title")).max(160),
+      problemStatement: z.string().trim().min(10, t("investigations.new.errors.problem")).max(5000),
+      ownerId: z.string(),
+      heats: z.string().max(5000),
+      defectIds: z.array(z.number().int().positive()),
+      participantIds: z.array(z.string()),
+    })
+    .refine((v) => v.defectIds.length + heatList(v.heats).length > 0, { message: t("investigations.new.errors.heats"), path: ["heats"] });
+type FormValues = z.infer<ReturnType<typeof formSchemaIn>>;
 
 const inputClass = "min-h-11 w-full rounded-md border border-ink-300 bg-white px-3 text-sm text-ink-900";
 
@@ -61,6 +64,8 @@ export function NewInvestigationForm({
   onCreated: (inv: Investigation) => void;
   onCancel: () => void;
 }) {
+  const { t } = useTranslation("process");
+  const formSchema = useMemo(() => formSchemaIn(t), [t]);
   const create = useCreateInvestigation();
   const [withHeatDefects, setWithHeatDefects] = useState(true);
   const form = useForm<FormValues>({
@@ -80,7 +85,7 @@ export function NewInvestigationForm({
   const ownerId = form.watch("ownerId");
   return (
     <RecordForm
-      label="New investigation"
+      label={t("investigations.new.label")}
       form={form}
       mutation={create}
       toInput={(v) => ({
@@ -93,39 +98,47 @@ export function NewInvestigationForm({
       })}
       onSaved={onCreated}
       onCancel={onCancel}
-      submitLabel="Open the investigation"
-      busyLabel="Opening…"
+      submitLabel={t("investigations.new.submit")}
+      busyLabel={t("investigations.new.opening")}
     >
-      <TextField label="Title" {...form.register("title")} error={e.title?.message} placeholder="Slag spots on LV-ST32, strand 2" />
+      <TextField
+        label={t("investigations.new.title")}
+        {...form.register("title")}
+        error={e.title?.message}
+        placeholder={t("investigations.new.titlePlaceholder")}
+      />
       <TextAreaField
         id="inv-problem"
-        label="Problem statement"
+        label={t("investigations.detail.problemStatement")}
         rows={4}
         {...form.register("problemStatement")}
         className="rounded-md border border-ink-300 bg-white px-3 py-2 text-sm"
-        placeholder="What was found, where, since when, how often"
+        placeholder={t("investigations.new.problemPlaceholder")}
         error={e.problemStatement?.message}
       />
       <div className="grid gap-4 md:grid-cols-2">
         <div className="flex flex-col gap-1">
           <label htmlFor="inv-owner" className="text-sm font-semibold text-ink-800">
-            Owner
+            {t("investigations.table.owner")}
           </label>
           <select id="inv-owner" {...form.register("ownerId")} className={inputClass}>
             <PersonOptions people={people} />
           </select>
         </div>
-        <TextField label="Heat numbers" hint="Separate them with commas or spaces." {...form.register("heats")} error={e.heats?.message} />
+        <TextField label={t("investigations.new.heats")} hint={t("investigations.new.heatsHint")} {...form.register("heats")} error={e.heats?.message} />
       </div>
       {heatDefectIds.length ? (
         <label className="flex min-h-11 items-center gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm" data-testid="include-heat-defects">
           <input type="checkbox" className="h-4 w-4" checked={withHeatDefects} onChange={(ev) => setWithHeatDefects(ev.target.checked)} />
-          Include the {plural(heatDefectIds.length, "defect")} logged on {heatNos.length === 1 ? "this heat" : "these heats"} (rejected entries left out)
+          {t(heatNos.length === 1 ? "investigations.new.includeOneHeat" : "investigations.new.includeHeats", {
+            count: heatDefectIds.length,
+            n: count(heatDefectIds.length),
+          })}
         </label>
       ) : null}
       {defects.length ? (
         <fieldset>
-          <legend className="mb-1 text-sm font-semibold text-ink-800">Defects</legend>
+          <legend className="mb-1 text-sm font-semibold text-ink-800">{t("investigations.new.defects")}</legend>
           <div className="flex flex-wrap gap-2">
             {defects.map((d) => (
               <label key={d.id} className="flex min-h-11 items-center gap-2 rounded-md border border-ink-300 bg-white px-3 text-sm">
@@ -142,7 +155,7 @@ export function NewInvestigationForm({
         </fieldset>
       ) : null}
       <fieldset>
-        <legend className="mb-1 text-sm font-semibold text-ink-800">Participants (optional)</legend>
+        <legend className="mb-1 text-sm font-semibold text-ink-800">{t("investigations.new.participants")}</legend>
         <div className="grid gap-1 sm:grid-cols-2 xl:grid-cols-3">
           {people
             .filter((p) => p.id !== ownerId)

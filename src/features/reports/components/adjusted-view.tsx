@@ -1,9 +1,10 @@
 import { lazy, Suspense } from "react";
+import { useTranslation } from "react-i18next";
 import type { Adjusted } from "@shared/api/reports";
 import { Card } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { num, pct, plural, pValue, sig } from "@/lib/format";
+import { count, num, pct, pValue, sig } from "@/lib/format";
 import { ChangeSentence, CollinearityMark, ratioRange, relChange, SE_WORDS, SeChoice } from "./estimates";
 import { Figure } from "./figure";
 import { joinList, listOf, type ReportParams } from "./report-params";
@@ -18,50 +19,51 @@ type Patch = Partial<Record<string, string | undefined>>;
 
 /** The model's settings: the conditions to examine, what to adjust for, the standard errors, the step. */
 export function AdjustedSettings({ params, onChange }: { params: ReportParams; onChange: (patch: Patch) => void }) {
+  const { t } = useTranslation("analysis");
   const examined = listOf(params.variables);
   const adjust = listOf(params.adjustFor).filter((k) => k !== "none");
+  const se = SE_WORDS[params.se === "model" ? "model" : "cluster"];
   return (
     <div className="space-y-3">
       <SettingsRow>
         <div className="col-span-2">
           <TermPick
-            label="Conditions to examine"
+            label={t("adjusted.settings.examine")}
             testId="examine-pick"
             value={examined}
             min={1}
-            emptyLabel="Choose a condition"
-            taken={Object.fromEntries(adjust.map((k) => [k, "adjusted for"]))}
-            hint="The conditions whose association with the defect you want to see, crude and adjusted. Up to 8."
+            emptyLabel={t("adjusted.settings.examineEmpty")}
+            taken={Object.fromEntries(adjust.map((k) => [k, t("adjusted.roles.adjustment")]))}
+            hint={t("adjusted.settings.examineHint")}
             onChange={(keys) => onChange({ variables: joinList(keys) })}
           />
         </div>
         <div className="col-span-2">
           <TermPick
-            label="Adjust for"
+            label={t("adjusted.settings.adjustFor")}
             testId="adjust-pick"
             value={adjust}
-            emptyLabel="Nothing (crude only)"
-            taken={Object.fromEntries(examined.map((k) => [k, "examined"]))}
-            hint="What the odds ratios are adjusted for: grade family is offered first, as the grade mix confounds almost everything. Up to 8."
+            emptyLabel={t("adjusted.settings.adjustEmpty")}
+            taken={Object.fromEntries(examined.map((k) => [k, t("adjusted.roles.examined")]))}
+            hint={t("adjusted.settings.adjustHint")}
             onChange={(keys) => onChange({ adjustFor: keys.length ? joinList(keys) : "none" })}
           />
         </div>
         <SeChoice value={params.se ?? "cluster"} onChange={(v) => onChange({ se: v })} />
         <Choice
-          label="Odds ratios per"
+          label={t("adjusted.settings.per")}
           testId="per-select"
           value={params.per ?? "step"}
           options={[
-            { value: "step", label: "Readable step" },
-            { value: "unit", label: "One unit" },
+            { value: "step", label: t("adjusted.settings.perStep") },
+            { value: "unit", label: t("adjusted.settings.perUnit") },
           ]}
           onChange={(v) => onChange({ per: v })}
-          hint={params.per === "unit" ? "per 1 m/min, per 1 A, per 1 °C …" : "per 0.1 m/min, per 100 A, per 10 °C …"}
+          hint={params.per === "unit" ? t("adjusted.settings.perUnitHint") : t("adjusted.settings.perStepHint")}
         />
       </SettingsRow>
       <p className="text-xs text-ink-600" data-testid="se-words">
-        <span className="font-semibold">{SE_WORDS[params.se === "model" ? "model" : "cluster"].short} standard errors:</span>{" "}
-        {SE_WORDS[params.se === "model" ? "model" : "cluster"].long}
+        <span className="font-semibold">{t("adjusted.settings.seLabel", { kind: se.short })}</span> {se.long}
       </p>
     </div>
   );
@@ -70,6 +72,9 @@ export function AdjustedSettings({ params, onChange }: { params: ReportParams; o
 const orCell = (e: { oddsRatio: number | null }) => sig(e.oddsRatio, 3);
 
 export function AdjustedView({ data }: { data: Adjusted }) {
+  const { t, i18n } = useTranslation("analysis");
+  // English writes a label inside a sentence in small letters; German keeps its nouns' capitals.
+  const inSentence = (label: string) => (i18n.language === "de" ? label : label.toLowerCase());
   const se = SE_WORDS[data.seMethod];
   const examined = data.terms.filter((t) => t.role === "examined");
   const adjustment = data.terms.filter((t) => t.role === "adjustment");
@@ -80,7 +85,11 @@ export function AdjustedView({ data }: { data: Adjusted }) {
   const otherNotes = data.notes.filter(
     (n) => !data.terms.some((t) => t.changeInEstimate.sentence === n) && !collinear.some((v) => n.startsWith(`${v.label}: GVIF`)),
   );
-  const adjustedWords = data.adjustFor.length ? data.adjustFor.map((t) => t.label.toLowerCase()).join(", ") : "nothing";
+  const adjustedWords = data.adjustFor.map((t) => inSentence(t.label)).join(", ");
+  // Words repeated on every row, looked up once.
+  const roleWords = { examined: t("adjusted.roles.examined"), adjustment: t("adjusted.roles.adjustment") };
+  const numericWord = t("adjusted.variables.numeric");
+  const referenceWord = t("adjusted.variables.reference");
 
   // A note column only when a term has something to say (a reason, or an adjustment term's sentence).
   const withNotes = data.terms.some((t) => t.reason || (t.role === "adjustment" && t.changeInEstimate.sentence));
@@ -161,38 +170,38 @@ export function AdjustedView({ data }: { data: Adjusted }) {
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="adjusted-summary">
         <Figure
-          label="Slabs in the model (n)"
-          value={<span data-testid="model-slabs">{data.slabs.toLocaleString("en-GB")}</span>}
+          label={t("adjusted.figures.slabs")}
+          value={<span data-testid="model-slabs">{count(data.slabs)}</span>}
           note={
             data.slabsLeftOut
-              ? `${plural(data.slabsLeftOut, "slab")} of ${data.slabsInFilters.toLocaleString("en-GB")} left out (a value missing)`
-              : "every slab in the filters"
+              ? t("adjusted.figures.leftOut", { count: data.slabsLeftOut, n: count(data.slabsLeftOut), of: count(data.slabsInFilters) })
+              : t("adjusted.figures.noneLeftOut")
           }
         />
         <Figure
-          label="Affected slabs (events)"
-          value={<span data-testid="model-affected">{data.affected.toLocaleString("en-GB")}</span>}
-          note={`${pct(data.slabs ? data.affected / data.slabs : null)} of n = ${data.slabs.toLocaleString("en-GB")}`}
+          label={t("adjusted.figures.affected")}
+          value={<span data-testid="model-affected">{count(data.affected)}</span>}
+          note={t("adjusted.figures.affectedNote", { share: pct(data.slabs ? data.affected / data.slabs : null), n: count(data.slabs) })}
         />
         <Figure
-          label="Heats (clusters)"
-          value={<span data-testid="model-heats">{data.heats.toLocaleString("en-GB")}</span>}
-          note={`about ${num(data.heats ? data.slabs / data.heats : null, 1)} slabs a heat`}
+          label={t("adjusted.figures.heats")}
+          value={<span data-testid="model-heats">{count(data.heats)}</span>}
+          note={t("adjusted.figures.heatsNote", { n: num(data.heats ? data.slabs / data.heats : null, 1) })}
         />
         <Figure
-          label="Standard errors"
+          label={t("adjusted.figures.se")}
           value={<span data-testid="model-se">{se.short}</span>}
-          note={data.seMethod === "cluster" ? "slabs of a heat: one cluster" : "slabs taken as independent"}
+          note={data.seMethod === "cluster" ? t("adjusted.figures.seCluster") : t("adjusted.figures.seModel")}
         />
       </div>
 
       {data.reason ? (
-        <Notice tone="error" title="No model">
+        <Notice tone="error" title={t("adjusted.noModel")}>
           <span data-testid="model-reason">{data.reason}</span>
         </Notice>
       ) : null}
       {data.separation ? (
-        <Notice tone="caution" title="Separation or no convergence">
+        <Notice tone="caution" title={t("adjusted.separation")}>
           <span data-testid="model-separation">{data.separation.description}</span>
         </Notice>
       ) : null}
@@ -204,15 +213,18 @@ export function AdjustedView({ data }: { data: Adjusted }) {
         </div>
       ) : null}
       <SmallNWarning
-        title="Collinearity"
-        notes={collinear.map(
-          (v) =>
-            `${v.label}: GVIF ${sig(v.gvif, 3)}, GVIF^(1/(2·df)) ${sig(v.gvifPerDf, 3)} — ${v.collinearity} collinearity with the other terms. Its adjusted odds ratio has a wide interval and may move with the choice of terms.`,
+        title={t("adjusted.collinearity")}
+        notes={collinear.map((v) =>
+          t(`adjusted.collinearNote.${v.collinearity === "serious" ? "serious" : "notable"}`, {
+            label: v.label,
+            gvif: sig(v.gvif, 3),
+            gvifDf: sig(v.gvifPerDf, 3),
+          }),
         )}
       />
 
-      <Card title={`Crude and adjusted odds ratios (adjusted for ${adjustedWords})`}>
-        <Suspense fallback={<Spinner label="Loading the chart" />}>
+      <Card title={adjustedWords ? t("adjusted.forestTitle", { terms: adjustedWords }) : t("adjusted.forestTitleCrude")}>
+        <Suspense fallback={<Spinner label={t("loadingChart")} />}>
           <ForestPlot
             rows={data.terms.map((t) => ({
               label: t.label,
@@ -223,71 +235,66 @@ export function AdjustedView({ data }: { data: Adjusted }) {
             }))}
           />
         </Suspense>
-        <p className="mt-1 text-xs text-ink-600">
-          Hollow circles: each condition alone (crude); filled squares: in the model with every other term (adjusted). Whiskers are Wald 95 % intervals with{" "}
-          {se.short.toLowerCase()} standard errors; the vertical line at 1 is no association. A logarithmic axis, so 0.5 and 2 lie equally far from 1.
-        </p>
+        <p className="mt-1 text-xs text-ink-600">{t("adjusted.forestRead", { se: inSentence(se.short) })}</p>
       </Card>
 
-      <Card title="Term by term" bodyClassName="p-2 sm:p-4">
-        <TableWrap
-          caption={`Odds ratios ${data.per === "step" ? "per each condition's readable step" : "per one unit"}; a categorical term per level against its reference level. “Crude vs adjusted” is (crude − adjusted) / adjusted. VIF: the generalised variance inflation factor of the term's variable (Fox & Monette), above 5 notable, above 10 serious.`}
-        >
+      <Card title={t("adjusted.termByTerm")} bodyClassName="p-2 sm:p-4">
+        <TableWrap caption={data.per === "step" ? t("adjusted.termsCaption.step") : t("adjusted.termsCaption.unit")}>
           <table className="w-full text-sm" data-testid="terms-table">
             <thead>
               <tr className="border-b border-ink-200 text-xs">
                 <th className={th} />
                 <th colSpan={2} className="px-2 pt-2 text-center text-xs font-semibold text-ink-700">
-                  Crude (the term alone)
+                  {t("adjusted.cols.crudeGroup")}
                 </th>
                 <th colSpan={2} className="border-l-2 border-ink-200 px-2 pt-2 text-center text-xs font-semibold text-ink-900">
-                  Adjusted (in the model)
+                  {t("adjusted.cols.adjustedGroup")}
                 </th>
                 <th colSpan={columns - 5} />
               </tr>
               <tr className="border-b-2 border-ink-200">
-                <th className={th}>Term</th>
-                <th className={thNum}>Odds ratio (95 % CI)</th>
+                <th className={th}>{t("adjusted.cols.term")}</th>
+                <th className={thNum}>{t("adjusted.cols.oddsRatio")}</th>
                 <th className={thNum}>p</th>
-                <th className={`${thNum} border-l-2 border-ink-200`}>Odds ratio (95 % CI)</th>
+                <th className={`${thNum} border-l-2 border-ink-200`}>{t("adjusted.cols.oddsRatio")}</th>
                 <th className={thNum}>p</th>
-                <th className={thNum}>Crude vs adjusted</th>
+                <th className={thNum}>{t("adjusted.cols.crudeVsAdjusted")}</th>
                 <th className={thNum}>VIF</th>
-                {withNotes ? <th className={th}>Note</th> : null}
+                {withNotes ? <th className={th}>{t("adjusted.cols.note")}</th> : null}
               </tr>
             </thead>
             <tbody>
-              {group("Conditions examined", examined.length)}
+              {group(t("adjusted.groups.examined"), examined.length)}
               {termRows(examined)}
-              {adjustment.length ? group("Adjusted for", adjustment.length) : null}
+              {adjustment.length ? group(t("adjusted.groups.adjustment"), adjustment.length) : null}
               {termRows(adjustment)}
             </tbody>
           </table>
         </TableWrap>
       </Card>
 
-      <Card title="One test per variable" bodyClassName="p-2 sm:p-4">
+      <Card title={t("adjusted.oneTestPerVariable")} bodyClassName="p-2 sm:p-4">
         <TableWrap caption={data.methods.tests}>
           <table className="w-full text-sm" data-testid="variables-table">
             <thead>
               <tr className="border-b-2 border-ink-200">
-                <th className={th}>Variable</th>
-                <th className={th}>Role</th>
-                <th className={th}>Test</th>
+                <th className={th}>{t("adjusted.cols.variable")}</th>
+                <th className={th}>{t("adjusted.cols.role")}</th>
+                <th className={th}>{t("adjusted.cols.test")}</th>
                 <th className={thNum}>χ²</th>
-                <th className={thNum}>df</th>
+                <th className={thNum}>{t("adjusted.cols.df")}</th>
                 <th className={thNum}>p</th>
                 <th className={thNum}>GVIF</th>
-                <th className={thNum}>GVIF^(1/(2·df))</th>
-                <th className={th}>Collinearity</th>
-                <th className={th}>Levels: slabs (affected)</th>
+                <th className={thNum}>{t("adjusted.cols.gvifDf")}</th>
+                <th className={th}>{t("adjusted.cols.collinearity")}</th>
+                <th className={th}>{t("adjusted.cols.levels")}</th>
               </tr>
             </thead>
             <tbody>
               {data.variables.map((v) => (
                 <tr key={v.variable} className="border-b border-ink-100 align-top" data-testid="variable-row" data-key={v.variable}>
                   <td className={`${td} font-semibold`}>{v.label}</td>
-                  <td className={td}>{v.role === "examined" ? "examined" : "adjusted for"}</td>
+                  <td className={td}>{v.role === "examined" ? roleWords.examined : roleWords.adjustment}</td>
                   <td className={`${td} text-xs`}>{v.test}</td>
                   <td className={tdNum} data-field="chi2">
                     {num(v.test === "likelihood ratio" ? v.lrChi2 : v.waldChi2, 2)}
@@ -306,13 +313,13 @@ export function AdjustedView({ data }: { data: Adjusted }) {
                       <ul className="space-y-0.5">
                         {v.levels.map((l) => (
                           <li key={l.level}>
-                            <span className="font-semibold">{l.level}</span>: {l.slabs.toLocaleString("en-GB")} ({l.affected.toLocaleString("en-GB")})
-                            {l.reference ? <span className="text-ink-600"> — reference</span> : null}
+                            <span className="font-semibold">{l.level}</span>: {count(l.slabs)} ({count(l.affected)})
+                            {l.reference ? <span className="text-ink-600"> — {referenceWord}</span> : null}
                           </li>
                         ))}
                       </ul>
                     ) : (
-                      "numeric"
+                      numericWord
                     )}
                     {v.reason ? <div className="text-ink-700">{v.reason}</div> : null}
                   </td>
@@ -323,15 +330,19 @@ export function AdjustedView({ data }: { data: Adjusted }) {
         </TableWrap>
         <dl className="mt-3 grid grid-cols-2 gap-2 text-xs text-ink-700 md:grid-cols-4" data-testid="model-fit">
           <div>
-            <dt className="font-semibold">Converged</dt>
-            <dd>{data.model.converged ? `yes, in ${plural(data.model.iterations, "iteration")}` : "no — the estimates are not to be read"}</dd>
+            <dt className="font-semibold">{t("adjusted.fit.converged")}</dt>
+            <dd>
+              {data.model.converged
+                ? t("adjusted.fit.convergedYes", { count: data.model.iterations, n: count(data.model.iterations) })
+                : t("adjusted.fit.convergedNo")}
+            </dd>
           </div>
           <div>
-            <dt className="font-semibold">Coefficients</dt>
-            <dd>{data.model.parameters} (intercept included)</dd>
+            <dt className="font-semibold">{t("adjusted.fit.coefficients")}</dt>
+            <dd>{t("adjusted.fit.coefficientsValue", { n: data.model.parameters })}</dd>
           </div>
           <div>
-            <dt className="font-semibold">Deviance (null deviance)</dt>
+            <dt className="font-semibold">{t("adjusted.fit.deviance")}</dt>
             <dd className="tabular-nums">
               {num(data.model.deviance, 1)} ({num(data.model.nullDeviance, 1)})
             </dd>
@@ -344,7 +355,7 @@ export function AdjustedView({ data }: { data: Adjusted }) {
       </Card>
 
       {otherNotes.length ? (
-        <Card title="Notes">
+        <Card title={t("adjusted.notes")}>
           <ul className="list-disc space-y-1 pl-5 text-sm" data-testid="model-notes">
             {otherNotes.map((n) => (
               <li key={n}>{n}</li>
@@ -353,11 +364,11 @@ export function AdjustedView({ data }: { data: Adjusted }) {
         </Card>
       ) : null}
       <details className="rounded-md border border-ink-200 bg-white px-4 py-3 text-sm">
-        <summary className="min-h-8 cursor-pointer font-semibold">Methods</summary>
+        <summary className="min-h-8 cursor-pointer font-semibold">{t("adjusted.methods")}</summary>
         <dl className="mt-2 space-y-2 text-xs text-ink-700">
           {Object.entries(data.methods).map(([k, v]) => (
             <div key={k}>
-              <dt className="font-semibold">{METHOD_NAMES[k] ?? k}</dt>
+              <dt className="font-semibold">{t(`adjusted.methodNames.${k}`, { defaultValue: k })}</dt>
               <dd>{v}</dd>
             </div>
           ))}
@@ -366,12 +377,3 @@ export function AdjustedView({ data }: { data: Adjusted }) {
     </div>
   );
 }
-
-const METHOD_NAMES: Record<string, string> = {
-  adjusted: "Adjusted model",
-  crude: "Crude estimates",
-  tests: "Test per variable",
-  changeInEstimate: "Crude against adjusted",
-  collinearity: "Collinearity",
-  grouping: "Values",
-};

@@ -1,6 +1,8 @@
+import { Trans, useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import type { BeforeAfter } from "@shared/api/reports";
 import { Card } from "@/components/ui/card";
-import { lowerFirst, num, pct, pValue, sig } from "@/lib/format";
+import { count, lowerFirst, num, pct, pValue, sig } from "@/lib/format";
 import { ChangeSentence, points, ratioRange } from "./estimates";
 import { Figure } from "./figure";
 import { FEW_SLABS, FewMark } from "./small-n";
@@ -8,29 +10,11 @@ import { TableWrap, td, tdNum, th, thNum } from "./tables";
 
 type Stratified = NonNullable<BeforeAfter["stratified"]>;
 
-const METHOD_NAMES: Record<string, string> = {
-  reading: "How to read it",
-  mantelHaenszel: "Mantel–Haenszel, CMH and Breslow–Day",
-  standardised: "Direct standardisation",
-  changeInEstimate: "Crude against within",
-};
-
-const PLURALS: Record<string, string> = {
-  grade_family: "grade families",
-  grade: "grades",
-  strand: "strands",
-  caster: "casters",
-  transition: "transition and other slabs",
-  sequence_position: "positions in the sequence",
-};
-
 /** What a Breslow–Day p says, in words: a small p means the strata disagree. */
-function breslowDayWords(bd: Stratified["breslowDay"], key: string, by: string): string {
-  if (bd.p === null) return bd.reason ?? "not testable here";
-  const many = PLURALS[key] ?? `${by} levels`;
-  return bd.p < 0.05
-    ? `A small p: the ${many} disagree — the odds ratio B against A differs from one to another, so one pooled number hides that. Read the rows below.`
-    : `No sign that the ${many} disagree (a small p would mean the odds ratio differs between them); the pooled odds ratio summarises them fairly.`;
+function breslowDayWords(t: TFunction<"analysis">, bd: Stratified["breslowDay"], key: string, by: string): string {
+  if (bd.p === null) return bd.reason ?? t("strata.notTestableHere");
+  const many = t(`strata.plurals.${key}`, { defaultValue: t("strata.levels", { by }) });
+  return bd.p < 0.05 ? t("strata.bdDisagree", { many }) : t("strata.bdAgree", { many });
 }
 
 /**
@@ -39,85 +23,102 @@ function breslowDayWords(bd: Stratified["breslowDay"], key: string, by: string):
  * of directly standardised rates with its reference mix.
  */
 export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }) {
-  const by = lowerFirst(st.by.label);
+  const { t, i18n } = useTranslation("analysis");
+  // English writes a label inside a sentence in small letters; German keeps its nouns' capitals.
+  const by = i18n.language === "de" ? st.by.label : lowerFirst(st.by.label);
   const mh = st.mantelHaenszel;
   const bd = st.breslowDay;
   const sd = st.standardised;
   const withNotes = st.strata.some((s) => s.reason || s.zeroCellCorrection);
+  const zeroCellWords = t("strata.zeroCell");
   return (
-    <Card title={`A against B within each ${by}`}>
+    <Card title={t("strata.title", { by })}>
       <div className="space-y-4" data-testid="before-after-strata">
         {st.changeInEstimate.sentence ? <ChangeSentence>{st.changeInEstimate.sentence}</ChangeSentence> : null}
         <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
           <Figure
-            label="Crude odds ratio B vs A"
+            label={t("strata.crudeOr")}
             value={<span data-testid="crude-or">{sig(st.crude.oddsRatio, 3)}</span>}
             note={
-              <>
-                95 % CI <span data-testid="crude-ci">{ratioRange(st.crude.ciLower, st.crude.ciUpper)}</span> · {by} ignored
-              </>
+              <Trans
+                t={t}
+                i18nKey="strata.crudeNote"
+                values={{ ci: ratioRange(st.crude.ciLower, st.crude.ciUpper), by }}
+                components={{ 1: <span data-testid="crude-ci" /> }}
+              />
             }
           />
           <Figure
-            label={`Mantel–Haenszel odds ratio B vs A`}
+            label={t("strata.mhOr")}
             value={<span data-testid="mh-or">{sig(mh.oddsRatio, 3)}</span>}
             note={
               mh.reason ?? (
-                <>
-                  95 % CI <span data-testid="mh-ci">{ratioRange(mh.ciLower, mh.ciUpper)}</span> · CMH p <span data-testid="mh-p">{pValue(mh.p)}</span> · within
-                  each {by}
-                </>
+                <Trans
+                  t={t}
+                  i18nKey="strata.mhNote"
+                  values={{ ci: ratioRange(mh.ciLower, mh.ciUpper), p: pValue(mh.p), by }}
+                  components={{ 1: <span data-testid="mh-ci" />, 2: <span data-testid="mh-p" /> }}
+                />
               )
             }
           />
           <Figure
-            label="Breslow–Day: do the strata agree?"
+            label={t("strata.bdLabel")}
             value={<span data-testid="bd-p">{bd.p === null ? "—" : `p ${pValue(bd.p)}`}</span>}
-            note={bd.p === null ? (bd.reason ?? "not testable") : `χ² ${num(bd.chi2, 2)}, df ${num(bd.df, 0)}${bd.tarone ? ", Tarone's correction" : ""}`}
+            note={
+              bd.p === null
+                ? (bd.reason ?? t("strata.notTestable"))
+                : t(bd.tarone ? "strata.bdStatsTarone" : "strata.bdStats", { chi2: num(bd.chi2, 2), df: num(bd.df, 0) })
+            }
           />
           <Figure
-            label="Standardised difference B − A"
+            label={t("strata.stdDifference")}
             value={<span data-testid="std-diff">{points(sd.difference, true)}</span>}
-            note={sd.reason ?? `percentage points · 95 % CI ${points(sd.ciLower)} to ${points(sd.ciUpper)}`}
+            note={sd.reason ?? t("beforeAfter.pointsCi", { lower: points(sd.ciLower), upper: points(sd.ciUpper) })}
           />
         </div>
         <p className="text-sm text-ink-800" data-testid="bd-words">
-          <span className="font-semibold">Breslow–Day:</span> {breslowDayWords(bd, st.by.key, by)}
+          <span className="font-semibold">{t("strata.bdHeading")}</span> {breslowDayWords(t, bd, st.by.key, by)}
         </p>
         <p className="text-sm text-ink-800" data-testid="std-words">
-          <span className="font-semibold">Standardised rates:</span> A {pct(sd.rateA)}, B {pct(sd.rateB)}, both to the same reference mix — {sd.reference}:{" "}
-          {sd.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${m.slabs.toLocaleString("en-GB")})`).join(", ")}.
+          <span className="font-semibold">{t("strata.stdHeading")}</span>{" "}
+          {t("strata.stdWords", {
+            a: pct(sd.rateA),
+            b: pct(sd.rateB),
+            reference: sd.reference,
+            mix: sd.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${count(m.slabs)})`).join(", "),
+          })}
           {sd.leftOut.length
-            ? ` Left out of the mix (only one group has slabs there): ${sd.leftOut.map((l) => `${l.label} (${l.slabs.toLocaleString("en-GB")} slabs, only in ${l.group})`).join(", ")}.`
+            ? ` ${t("strata.leftOut", {
+                list: sd.leftOut.map((l) => t("strata.leftOutItem", { label: l.label, n: count(l.slabs), group: l.group })).join(", "),
+              })}`
             : ""}
         </p>
-        <TableWrap
-          caption={`${st.methods.reading ?? "A is the reference group"}. Differences with the Newcombe hybrid score interval; odds ratios with the Woolf interval.`}
-        >
+        <TableWrap caption={t("strata.caption", { reading: st.methods.reading ?? t("strata.reference") })}>
           <table className="w-full text-sm" data-testid="strata-table">
             <thead>
               <tr className="border-b border-ink-200">
                 <th />
                 <th colSpan={3} className="px-2 pt-2 text-center text-xs font-semibold text-ink-700">
-                  A (before)
+                  {t("beforeAfter.a")}
                 </th>
                 <th colSpan={3} className="border-l-2 border-ink-200 px-2 pt-2 text-center text-xs font-semibold text-ink-700">
-                  B (after)
+                  {t("beforeAfter.b")}
                 </th>
                 <th colSpan={withNotes ? 4 : 3} className="border-l-2 border-ink-200" />
               </tr>
               <tr className="border-b-2 border-ink-200">
                 <th className={th}>{st.by.label}</th>
-                <th className={thNum}>Slabs</th>
-                <th className={thNum}>Affected</th>
-                <th className={thNum}>Share</th>
-                <th className={`${thNum} border-l-2 border-ink-200`}>Slabs</th>
-                <th className={thNum}>Affected</th>
-                <th className={thNum}>Share</th>
-                <th className={`${thNum} border-l-2 border-ink-200`}>B − A (points)</th>
-                <th className={thNum}>95 % CI</th>
-                <th className={thNum}>Odds ratio B vs A (95 % CI)</th>
-                {withNotes ? <th className={th}>Note</th> : null}
+                <th className={thNum}>{t("strata.cols.slabs")}</th>
+                <th className={thNum}>{t("strata.cols.affected")}</th>
+                <th className={thNum}>{t("strata.cols.share")}</th>
+                <th className={`${thNum} border-l-2 border-ink-200`}>{t("strata.cols.slabs")}</th>
+                <th className={thNum}>{t("strata.cols.affected")}</th>
+                <th className={thNum}>{t("strata.cols.share")}</th>
+                <th className={`${thNum} border-l-2 border-ink-200`}>{t("strata.cols.difference")}</th>
+                <th className={thNum}>{t("strata.cols.ci")}</th>
+                <th className={thNum}>{t("strata.cols.oddsRatio")}</th>
+                {withNotes ? <th className={th}>{t("strata.cols.note")}</th> : null}
               </tr>
             </thead>
             <tbody>
@@ -130,19 +131,19 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
                       {few ? <FewMark /> : null}
                     </td>
                     <td className={tdNum} data-field="aSlabs">
-                      {s.a.slabs.toLocaleString("en-GB")}
+                      {count(s.a.slabs)}
                     </td>
                     <td className={tdNum} data-field="aAffected">
-                      {s.a.affected.toLocaleString("en-GB")}
+                      {count(s.a.affected)}
                     </td>
                     <td className={tdNum} data-field="aRate">
                       {pct(s.a.rate)}
                     </td>
                     <td className={`${tdNum} border-l-2 border-ink-200`} data-field="bSlabs">
-                      {s.b.slabs.toLocaleString("en-GB")}
+                      {count(s.b.slabs)}
                     </td>
                     <td className={tdNum} data-field="bAffected">
-                      {s.b.affected.toLocaleString("en-GB")}
+                      {count(s.b.affected)}
                     </td>
                     <td className={tdNum} data-field="bRate">
                       {pct(s.b.rate)}
@@ -151,7 +152,7 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
                       {points(s.difference.value, true)}
                     </td>
                     <td className={tdNum} data-field="diffCi">
-                      {s.difference.value === null ? "—" : `${points(s.difference.lower)} to ${points(s.difference.upper)}`}
+                      {s.difference.value === null ? "—" : t("strata.range", { lower: points(s.difference.lower), upper: points(s.difference.upper) })}
                     </td>
                     <td className={tdNum}>
                       <span className="font-semibold" data-field="or">
@@ -161,11 +162,7 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
                         ({ratioRange(s.ciLower, s.ciUpper)})
                       </span>
                     </td>
-                    {withNotes ? (
-                      <td className={`${td} min-w-40 text-xs text-ink-700`}>
-                        {s.reason ?? (s.zeroCellCorrection ? "0.5 added to every cell (a zero cell)" : "")}
-                      </td>
-                    ) : null}
+                    {withNotes ? <td className={`${td} min-w-40 text-xs text-ink-700`}>{s.reason ?? (s.zeroCellCorrection ? zeroCellWords : "")}</td> : null}
                   </tr>
                 );
               })}
@@ -180,11 +177,11 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
           </ul>
         ) : null}
         <details className="text-xs text-ink-700">
-          <summary className="min-h-8 cursor-pointer font-semibold">Methods</summary>
+          <summary className="min-h-8 cursor-pointer font-semibold">{t("strata.methods")}</summary>
           <dl className="mt-2 space-y-1">
             {Object.entries(st.methods).map(([k, m]) => (
               <div key={k}>
-                <dt className="inline font-semibold">{METHOD_NAMES[k] ?? k}: </dt>
+                <dt className="inline font-semibold">{t("strata.methodName", { name: t(`strata.methodNames.${k}`, { defaultValue: k }) })} </dt>
                 <dd className="inline">{m}</dd>
               </div>
             ))}

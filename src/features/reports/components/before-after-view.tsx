@@ -1,11 +1,13 @@
 import { lazy, Suspense, useEffect, useState } from "react";
+import { useTranslation } from "react-i18next";
 import type { BeforeAfter } from "@shared/api/reports";
-import { CATEGORICAL_KEYS, CATEGORICAL_LABELS } from "@shared/variables";
+import { CATEGORICAL_KEYS } from "@shared/variables";
+import { useTerms } from "@/i18n/terms";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { Figure } from "./figure";
 import { Spinner } from "@/components/ui/logo";
-import { lowerFirst, pct, pctRange, plural, pValue } from "@/lib/format";
+import { count, lowerFirst, pct, pctRange, pValue } from "@/lib/format";
 import { BeforeAfterStrata } from "./before-after-strata";
 import { points } from "./estimates";
 import { inputClass, labelClass, labelText } from "./filter-bar";
@@ -29,6 +31,10 @@ export function beforeAfterReady(p: ReportParams): boolean {
  * server a question nobody meant).
  */
 export function BeforeAfterSettings({ params, onChange }: { params: ReportParams; onChange: (patch: Partial<Record<string, string | undefined>>) => void }) {
+  const { t, i18n } = useTranslation("analysis");
+  const { variable } = useTerms();
+  // English writes a label inside a sentence in small letters; German keeps its nouns' capitals.
+  const inSentence = (label: string) => (i18n.language === "de" ? label : lowerFirst(label));
   const [draft, setDraft] = useState<Record<string, string>>({});
   useEffect(() => {
     setDraft(Object.fromEntries(RANGE_KEYS.map((k) => [k, params[k] ?? ""])));
@@ -60,61 +66,62 @@ export function BeforeAfterSettings({ params, onChange }: { params: ReportParams
     >
       <SettingsRow>
         <Choice
-          label="Compare"
+          label={t("beforeAfter.settings.compare")}
           value={params.mode ?? "periods"}
           options={[
-            { value: "periods", label: "Two periods" },
-            { value: "variable", label: "Two ranges of a variable" },
+            { value: "periods", label: t("beforeAfter.settings.twoPeriods") },
+            { value: "variable", label: t("beforeAfter.settings.twoRanges") },
           ]}
           onChange={(m) => onChange({ mode: m, variable: m === "variable" ? (params.variable ?? "casting_speed_m_min") : undefined })}
         />
         {periods ? null : (
           <div className="col-span-2">
-            <VariableSelect label="Variable" value={params.variable ?? "casting_speed_m_min"} onChange={(k) => onChange({ variable: k })} />
+            <VariableSelect
+              label={t("beforeAfter.settings.variable")}
+              value={params.variable ?? "casting_speed_m_min"}
+              onChange={(k) => onChange({ variable: k })}
+            />
           </div>
         )}
         <Choice
-          label="Compare within"
+          label={t("beforeAfter.settings.within")}
           testId="within-select"
           value={params.stratifyBy ?? ""}
           options={[
-            { value: "", label: "Not split (all slabs together)" },
-            ...CATEGORICAL_KEYS.map((k) => ({ value: k, label: `Each ${lowerFirst(CATEGORICAL_LABELS[k])}` })),
+            { value: "", label: t("beforeAfter.settings.notSplit") },
+            ...CATEGORICAL_KEYS.map((k) => ({ value: k, label: t("beforeAfter.settings.each", { what: inSentence(variable(k)) }) })),
           ]}
           onChange={(v) => onChange({ stratifyBy: v || undefined })}
-          hint="A against B inside each group, then pooled (Mantel–Haenszel)"
+          hint={t("beforeAfter.settings.withinHint")}
         />
       </SettingsRow>
       <div className="grid grid-cols-2 gap-3 md:grid-cols-5">
         {periods
           ? [
-              field("aFrom", "A (before) from", "date"),
-              field("aTo", "A to (whole day)", "date"),
-              field("bFrom", "B (after) from", "date"),
-              field("bTo", "B to (whole day)", "date"),
+              field("aFrom", t("beforeAfter.settings.aFromDay"), "date"),
+              field("aTo", t("beforeAfter.settings.aToDay"), "date"),
+              field("bFrom", t("beforeAfter.settings.bFromDay"), "date"),
+              field("bTo", t("beforeAfter.settings.bToDay"), "date"),
             ]
           : [
-              field("aMin", `A from${unit}`, "number"),
-              field("aMax", `A to${unit}`, "number"),
-              field("bMin", `B from${unit}`, "number"),
-              field("bMax", `B to${unit}`, "number"),
+              field("aMin", t("beforeAfter.settings.aFrom", { unit }), "number"),
+              field("aMax", t("beforeAfter.settings.aTo", { unit }), "number"),
+              field("bMin", t("beforeAfter.settings.bFrom", { unit }), "number"),
+              field("bMax", t("beforeAfter.settings.bTo", { unit }), "number"),
             ]}
         <div className="flex items-end">
           <Button type="submit" className="w-full">
-            Compare A and B
+            {t("beforeAfter.settings.submit")}
           </Button>
         </div>
       </div>
-      <p className="text-xs text-ink-600">
-        {periods
-          ? "The filters above apply to both periods, except their dates: each side takes its own."
-          : "Both ends of a range are included, so the two ranges may not meet or overlap: a slab counts in one group only."}
-      </p>
+      <p className="text-xs text-ink-600">{periods ? t("beforeAfter.settings.periodsNote") : t("beforeAfter.settings.rangesNote")}</p>
     </form>
   );
 }
 
 export function BeforeAfterView({ data }: { data: BeforeAfter }) {
+  const { t } = useTranslation("analysis");
   const rows = [
     { key: "A", ...data.a, label: `A: ${data.a.label}` },
     { key: "B", ...data.b, label: `B: ${data.b.label}` },
@@ -124,55 +131,55 @@ export function BeforeAfterView({ data }: { data: BeforeAfter }) {
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4" data-testid="before-after-summary">
         <Figure
-          label="A (before)"
+          label={t("beforeAfter.a")}
           value={pct(data.a.rate)}
-          note={`${data.a.affected} of n = ${data.a.slabs.toLocaleString("en-GB")} · CI ${pctRange(data.a.ciLower, data.a.ciUpper)}`}
+          note={t("beforeAfter.sideNote", { affected: data.a.affected, n: count(data.a.slabs), ci: pctRange(data.a.ciLower, data.a.ciUpper) })}
         />
         <Figure
-          label="B (after)"
+          label={t("beforeAfter.b")}
           value={pct(data.b.rate)}
-          note={`${data.b.affected} of n = ${data.b.slabs.toLocaleString("en-GB")} · CI ${pctRange(data.b.ciLower, data.b.ciUpper)}`}
+          note={t("beforeAfter.sideNote", { affected: data.b.affected, n: count(data.b.slabs), ci: pctRange(data.b.ciLower, data.b.ciUpper) })}
         />
-        <Figure label="Difference B − A" value={points(d.value, true)} note={`percentage points · 95 % CI ${points(d.lower)} to ${points(d.upper)}`} />
+        <Figure
+          label={t("beforeAfter.difference")}
+          value={points(d.value, true)}
+          note={t("beforeAfter.pointsCi", { lower: points(d.lower), upper: points(d.upper) })}
+        />
         {data.test.name === "none" ? (
           <Figure
-            label="No test"
+            label={t("beforeAfter.noTest")}
             value={<span data-testid="test-p">—</span>}
-            note={<span data-testid="test-reason">{data.test.reason ?? "nothing to compare"}</span>}
+            note={<span data-testid="test-reason">{data.test.reason ?? t("beforeAfter.nothingToCompare")}</span>}
           />
         ) : (
           <Figure
-            label={data.test.name === "fisher" ? "Fisher's exact test" : "Chi-square test"}
+            label={data.test.name === "fisher" ? t("beforeAfter.fisher") : t("beforeAfter.chiSquare")}
             value={<span data-testid="test-p">{`p ${pValue(data.test.p)}`}</span>}
-            note="two-sided"
+            note={t("beforeAfter.twoSided")}
           />
         )}
       </div>
       <SmallNWarning
         notes={[
-          data.a.slabs === 0 || data.b.slabs === 0 ? "One side holds no slab: there is nothing to compare." : "",
-          data.test.name === "none" && data.a.slabs > 0 && data.b.slabs > 0 && data.test.reason ? `No test: ${data.test.reason}.` : "",
-          data.a.slabs > 0 && data.a.slabs < FEW_SLABS ? `A holds only ${plural(data.a.slabs, "slab")}.` : "",
-          data.b.slabs > 0 && data.b.slabs < FEW_SLABS ? `B holds only ${plural(data.b.slabs, "slab")}.` : "",
-          data.test.name === "fisher" && data.a.slabs > 0 && data.b.slabs > 0
-            ? "An expected count is below 5: Fisher's exact test is used instead of chi-square."
+          data.a.slabs === 0 || data.b.slabs === 0 ? t("beforeAfter.emptySide") : "",
+          data.test.name === "none" && data.a.slabs > 0 && data.b.slabs > 0 && data.test.reason
+            ? t("beforeAfter.noTestBecause", { reason: data.test.reason })
             : "",
+          data.a.slabs > 0 && data.a.slabs < FEW_SLABS ? t("beforeAfter.aFew", { count: data.a.slabs, n: count(data.a.slabs) }) : "",
+          data.b.slabs > 0 && data.b.slabs < FEW_SLABS ? t("beforeAfter.bFew", { count: data.b.slabs, n: count(data.b.slabs) }) : "",
+          data.test.name === "fisher" && data.a.slabs > 0 && data.b.slabs > 0 ? t("beforeAfter.fisherNote") : "",
         ]}
       />
-      <Card title="A against B">
-        <Suspense fallback={<Spinner label="Loading the chart" />}>
-          <CategoryRateChart
-            rows={rows}
-            fewN={FEW_SLABS}
-            testId="before-after-chart"
-            label="Share of slabs affected in A and in B, with 95 % intervals"
-            height={300}
-          />
+      <Card title={t("beforeAfter.aAgainstB")}>
+        <Suspense fallback={<Spinner label={t("loadingChart")} />}>
+          <CategoryRateChart rows={rows} fewN={FEW_SLABS} testId="before-after-chart" label={t("beforeAfter.chartLabel")} height={300} />
         </Suspense>
-        <RateTable rows={rows} labelHeader="Side" fewN={FEW_SLABS} testId="before-after-table" />
+        <RateTable rows={rows} labelHeader={t("beforeAfter.side")} fewN={FEW_SLABS} testId="before-after-table" />
         <p className="mt-2 text-xs text-ink-600">
-          {d.method.charAt(0).toUpperCase() + d.method.slice(1)}. {data.test.name === "none" ? "No test" : data.test.method}. A change between two periods may
-          come from anything else that changed with them — grade mix, campaign, crew, measurement — not only from the change under study.
+          {t("beforeAfter.read", {
+            method: d.method.charAt(0).toUpperCase() + d.method.slice(1),
+            test: data.test.name === "none" ? t("beforeAfter.noTest") : data.test.method,
+          })}
         </p>
         {data.notes.length ? (
           <ul className="mt-2 list-disc space-y-0.5 pl-5 text-xs text-ink-700" data-testid="before-after-notes">

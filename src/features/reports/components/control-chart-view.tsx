@@ -1,11 +1,13 @@
 import { lazy, Suspense, useEffect, useState } from "react";
+import { Trans, useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import type { ControlChart } from "@shared/api/reports";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { Notice } from "@/components/ui/notice";
 import { Figure } from "./figure";
 import { Spinner } from "@/components/ui/logo";
-import { num, pct, plural, pValue } from "@/lib/format";
+import { count, num, pct, pValue } from "@/lib/format";
 import { inputClass, labelClass, labelText } from "./filter-bar";
 import type { ReportParams } from "./report-params";
 import { Choice, PeriodChoice, SettingsRow, StandardiseChoice } from "./settings";
@@ -17,11 +19,9 @@ const PChart = lazy(() => import("./charts/p-chart"));
 type Patch = Partial<Record<string, string | undefined>>;
 type Point = ControlChart["points"][number];
 
-const CHART_NAMES: Record<ControlChart["chart"], string> = { p: "p-chart", laney: "Laney p′ chart", u: "u-chart" };
-const PHASE_WORDS: Record<Point["phase"], string> = { before: "before", baseline: "baseline", monitoring: "monitoring" };
-
 /** The chart's settings: period, kind of chart, run rules, the grade-mix option, and the baseline (typed, then applied together). */
 export function ControlChartSettings({ params, onChange }: { params: ReportParams; onChange: (patch: Patch) => void }) {
+  const { t } = useTranslation("analysis");
   const [draft, setDraft] = useState({ from: "", to: "" });
   useEffect(() => setDraft({ from: params.baselineFrom ?? "", to: params.baselineTo ?? "" }), [params.baselineFrom, params.baselineTo]);
   const u = params.chart === "u";
@@ -30,29 +30,35 @@ export function ControlChartSettings({ params, onChange }: { params: ReportParam
   return (
     <div className="space-y-3">
       <SettingsRow>
-        <PeriodChoice label="One point per" value={params.period!} months={false} onChange={(v) => onChange({ period: v })} />
+        <PeriodChoice label={t("controlChart.settings.onePointPer")} value={params.period!} months={false} onChange={(v) => onChange({ period: v })} />
         <Choice
-          label="Chart"
+          label={t("controlChart.settings.chart")}
           testId="chart-select"
           value={params.chart ?? "p"}
           options={[
-            { value: "p", label: "p-chart" },
-            { value: "laney", label: "Laney p′ chart" },
-            { value: "u", label: "u-chart" },
+            { value: "p", label: t("chartNames.p") },
+            { value: "laney", label: t("chartNames.laney") },
+            { value: "u", label: t("chartNames.u") },
           ]}
-          hint={params.chart === "u" ? "defects per slab" : params.chart === "laney" ? "share affected, limits widened by σ_z" : "share of slabs affected"}
+          hint={
+            params.chart === "u"
+              ? t("controlChart.settings.hintU")
+              : params.chart === "laney"
+                ? t("controlChart.settings.hintLaney")
+                : t("controlChart.settings.hintP")
+          }
           // Standardised rates are shares of slabs: the u-chart has none.
           onChange={(v) => onChange({ chart: v, standardise: v === "u" ? undefined : params.standardise })}
         />
         <Choice
-          label="Run rules"
+          label={t("controlChart.settings.runRules")}
           testId="rules-select"
           value={params.rules ?? "on"}
           options={[
-            { value: "on", label: "On" },
-            { value: "off", label: "Off" },
+            { value: "on", label: t("controlChart.settings.on") },
+            { value: "off", label: t("controlChart.settings.off") },
           ]}
-          hint={params.rules === "off" ? "limits only" : "Western Electric rules 1–4"}
+          hint={params.rules === "off" ? t("controlChart.settings.limitsOnly") : t("controlChart.settings.westernElectric")}
           onChange={(v) => onChange({ rules: v })}
         />
         {u ? null : (
@@ -63,14 +69,14 @@ export function ControlChartSettings({ params, onChange }: { params: ReportParam
       </SettingsRow>
       <form
         className="grid grid-cols-2 gap-3 md:grid-cols-4"
-        aria-label="Baseline"
+        aria-label={t("controlChart.settings.baseline")}
         onSubmit={(e) => {
           e.preventDefault();
           if (both && !reversed) onChange({ baselineFrom: draft.from, baselineTo: draft.to });
         }}
       >
         <label className={labelClass}>
-          <span className={labelText}>Baseline from</span>
+          <span className={labelText}>{t("controlChart.settings.baselineFrom")}</span>
           <input
             type="date"
             className={inputClass}
@@ -81,7 +87,7 @@ export function ControlChartSettings({ params, onChange }: { params: ReportParam
           />
         </label>
         <label className={labelClass}>
-          <span className={labelText}>Baseline to (whole day)</span>
+          <span className={labelText}>{t("controlChart.settings.baselineTo")}</span>
           <input
             type="date"
             className={inputClass}
@@ -93,7 +99,7 @@ export function ControlChartSettings({ params, onChange }: { params: ReportParam
         </label>
         <div className="flex items-end">
           <Button type="submit" className="w-full" disabled={!both || reversed} data-testid="baseline-apply">
-            Use as baseline
+            {t("controlChart.settings.useAsBaseline")}
           </Button>
         </div>
         <div className="flex items-end">
@@ -104,56 +110,83 @@ export function ControlChartSettings({ params, onChange }: { params: ReportParam
             onClick={() => onChange({ baselineFrom: undefined, baselineTo: undefined })}
             data-testid="baseline-clear"
           >
-            No baseline
+            {t("controlChart.settings.noBaseline")}
           </Button>
         </div>
       </form>
-      <p className="text-xs text-ink-600">
-        {reversed
-          ? "The baseline's first day comes after its last: swap them."
-          : "Phase I: the centre line and limits are estimated on the baseline only, then applied unchanged to the later periods (Phase II) — a stable period you trust, not the one under study. Without a baseline, every period shown makes the limits."}
-      </p>
+      <p className="text-xs text-ink-600">{reversed ? t("controlChart.settings.reversed") : t("controlChart.settings.phaseWords")}</p>
     </div>
   );
 }
 
-function OutMark({ above }: { above: boolean }) {
+/** The marks' words, looked up once per draw (no hook per row). */
+interface MarkWords {
+  above: string;
+  below: string;
+  rule: (rule: number) => string;
+  phase: (phase: Point["phase"]) => string;
+  within: string;
+}
+
+function markWordsOf(t: TFunction<"analysis">): MarkWords {
+  const phases: Record<Point["phase"], string> = {
+    before: t("controlChart.phases.before"),
+    baseline: t("controlChart.phases.baseline"),
+    monitoring: t("controlChart.phases.monitoring"),
+  };
+  const rules = new Map<number, string>();
+  return {
+    above: t("controlChart.aboveUcl"),
+    below: t("controlChart.belowLcl"),
+    rule: (rule) => {
+      let words = rules.get(rule);
+      if (words === undefined) rules.set(rule, (words = t("controlChart.ruleMark", { rule })));
+      return words;
+    },
+    phase: (phase) => phases[phase],
+    within: t("controlChart.withinLimits"),
+  };
+}
+
+function OutMark({ above, words }: { above: boolean; words: MarkWords }) {
   return (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs font-bold text-alarm-700" data-out="true">
       <svg viewBox="0 0 12 12" className="h-3 w-3" aria-hidden style={{ transform: above ? undefined : "rotate(180deg)" }}>
         <path d="M6 1 11.5 11H.5z" fill="currentColor" />
       </svg>
-      {above ? "above UCL" : "below LCL"}
+      {above ? words.above : words.below}
     </span>
   );
 }
 
 /** A Western Electric rule a point completes: a hollow square and the rule's number. */
-function RuleMark({ rule, legend }: { rule: number; legend: string | undefined }) {
+function RuleMark({ rule, legend, words }: { rule: number; legend: string | undefined; words: MarkWords }) {
   return (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs font-bold text-brass-700" data-rule={rule} title={legend}>
       <svg viewBox="0 0 12 12" className="h-3 w-3" aria-hidden>
         <rect x="1.5" y="1.5" width="9" height="9" fill="none" stroke="currentColor" strokeWidth="2" />
       </svg>
-      rule {rule}
+      {words.rule(rule)}
     </span>
   );
 }
 
 /** The shaded phase of a point when a baseline is set: a word, and a bar of its own pattern. */
-function PhaseMark({ phase }: { phase: Point["phase"] }) {
+function PhaseMark({ phase, words }: { phase: Point["phase"]; words: MarkWords }) {
   const dash = phase === "baseline" ? undefined : phase === "before" ? "1 2" : "4 2";
   return (
     <span className="inline-flex items-center gap-1 whitespace-nowrap text-xs text-ink-700" data-phase={phase}>
       <svg viewBox="0 0 14 6" className="h-1.5 w-3.5" aria-hidden>
         <path d="M0 3h14" stroke="currentColor" strokeWidth="3" strokeDasharray={dash} />
       </svg>
-      {PHASE_WORDS[phase]}
+      {words.phase(phase)}
     </span>
   );
 }
 
 export function ControlChartView({ data, onChange }: { data: ControlChart; onChange?: (patch: Patch) => void }) {
+  const { t } = useTranslation("analysis");
+  const words = markWordsOf(t);
   const u = data.chart === "u";
   const value = (p: Point) => p.value ?? (u ? null : p.p);
   const text = (v: number | null | undefined) => (u ? num(v, 3) : pct(v));
@@ -164,44 +197,52 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
   const word = data.period === "day" ? "day" : "week";
   const od = data.overdispersion;
   const std = data.points.some((p) => p.standardised);
-  const name = CHART_NAMES[data.chart];
+  const name = t(`chartNames.${data.chart}`);
   const b = data.baseline;
+  const before = data.points.some((p) => p.phase === "before");
+  const weekNote = data.notes.find((n) => n.startsWith("By week, the baseline"));
+  const read = `controlChart.read.${data.rules.on ? (b ? "rulesPhases" : "rules") : b ? "phases" : "plain"}` as const;
   return (
     <div className="space-y-5">
       <div className="grid grid-cols-2 gap-3 md:grid-cols-4">
         <Figure
-          label="Slabs (n)"
-          value={data.slabs.toLocaleString("en-GB")}
-          note={`in ${plural(data.points.length, word)}${u ? ` · ${data.defects.toLocaleString("en-GB")} defects` : ""}`}
-        />
-        <Figure
-          label={u ? "ū (centre line, defects per slab)" : "p̄ (centre line)"}
-          value={<span data-testid="centre">{text(data.centre)}</span>}
+          label={t("controlChart.figures.slabs")}
+          value={count(data.slabs)}
           note={
-            b
-              ? `from the baseline, ${b.firstPeriod ?? b.from} to ${b.lastPeriod ?? b.to}`
-              : u
-                ? `${data.defects.toLocaleString("en-GB")} defects on n = ${data.slabs.toLocaleString("en-GB")}`
-                : `${data.affected.toLocaleString("en-GB")} affected of n = ${data.slabs.toLocaleString("en-GB")}`
+            u
+              ? t(`controlChart.figures.slabsNoteU.${word}`, { count: data.points.length, n: count(data.points.length), defects: count(data.defects) })
+              : t(`controlChart.figures.slabsNote.${word}`, { count: data.points.length, n: count(data.points.length) })
           }
         />
         <Figure
-          label="Out of control"
-          value={<span data-testid="out-count">{out.length}</span>}
-          note={`${out.filter((p) => (value(p) ?? 0) > p.ucl).length} above UCL, ${out.filter((p) => (value(p) ?? 0) < p.lcl).length} below LCL`}
+          label={u ? t("controlChart.figures.centreU") : t("controlChart.figures.centreP")}
+          value={<span data-testid="centre">{text(data.centre)}</span>}
+          note={
+            b
+              ? t("controlChart.figures.centreFromBaseline", { from: b.firstPeriod ?? b.from, to: b.lastPeriod ?? b.to })
+              : u
+                ? t("controlChart.figures.centreNoteU", { defects: count(data.defects), n: count(data.slabs) })
+                : t("controlChart.figures.centreNoteP", { affected: count(data.affected), n: count(data.slabs) })
+          }
         />
         <Figure
-          label="Run-rule signals (rules 2–4)"
-          value={<span data-testid="rule-count">{data.rules.on ? ruled.length : "off"}</span>}
-          note={data.rules.on ? `${word}s completing a Western Electric pattern` : "switched off: limits only"}
+          label={t("controlChart.figures.outOfControl")}
+          value={<span data-testid="out-count">{out.length}</span>}
+          note={t("controlChart.figures.outNote", {
+            above: out.filter((p) => (value(p) ?? 0) > p.ucl).length,
+            below: out.filter((p) => (value(p) ?? 0) < p.lcl).length,
+          })}
+        />
+        <Figure
+          label={t("controlChart.figures.ruleSignals")}
+          value={<span data-testid="rule-count">{data.rules.on ? ruled.length : t("controlChart.figures.rulesOff")}</span>}
+          note={data.rules.on ? t(`controlChart.figures.ruleNote.${word}`) : t("controlChart.figures.rulesOffNote")}
         />
       </div>
       <SmallNWarning
         notes={[
-          data.slabs > 0 && data.affected < 10
-            ? `Only ${plural(data.affected, "affected slab")} in these filters: the limits are wide and an out-of-control period is hard to show.`
-            : "",
-          few ? `${plural(few, word)} with fewer than ${FEW_SLABS} slabs: the 3σ limits of the normal approximation are rough there.` : "",
+          data.slabs > 0 && data.affected < 10 ? t("controlChart.fewAffected", { count: data.affected, n: count(data.affected) }) : "",
+          few ? t(`controlChart.fewPeriods.${word}`, { count: few, n: count(few), min: FEW_SLABS }) : "",
           ...data.notes.filter((n) => od?.note !== n && !n.startsWith("By week, the baseline") && !n.startsWith("The limits are for the crude")),
         ]}
       />
@@ -209,16 +250,22 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
         <div data-testid="overdispersion">
           <Notice
             tone={od.applies && data.chart === "p" ? "caution" : "info"}
-            title={od.applies ? (data.chart === "laney" ? "Overdispersion: the Laney p′ chart applies" : "Overdispersion") : "No overdispersion shown"}
+            title={
+              od.applies
+                ? data.chart === "laney"
+                  ? t("controlChart.overdispersion.laneyApplies")
+                  : t("controlChart.overdispersion.title")
+                : t("controlChart.overdispersion.none")
+            }
           >
             {od.note}{" "}
             <span className="tabular-nums">
-              (σ_z {num(od.sigmaZ, 2)}; χ² {num(od.chi2, 1)}, df {num(od.df, 0)}, p {pValue(od.p)})
+              {t("controlChart.overdispersion.stats", { sigmaZ: num(od.sigmaZ, 2), chi2: num(od.chi2, 1), df: num(od.df, 0), p: pValue(od.p) })}
             </span>
             {od.applies && data.chart === "p" && onChange ? (
               <span className="mt-2 block">
                 <Button variant="secondary" onClick={() => onChange({ chart: "laney" })} data-testid="use-laney">
-                  Draw the Laney p′ chart
+                  {t("controlChart.overdispersion.drawLaney")}
                 </Button>
               </span>
             ) : null}
@@ -227,52 +274,51 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
       ) : null}
       {b ? (
         <p className="rounded-md border border-ink-200 bg-white px-4 py-2 text-sm" data-testid="baseline-words">
-          <span className="font-semibold">Baseline (Phase I):</span> {b.from} to {b.to} — {plural(b.periods, word)}
-          {b.firstPeriod && data.period === "week" ? ` (${b.firstPeriod} to ${b.lastPeriod})` : ""}, {b.slabs.toLocaleString("en-GB")} slabs. Its centre line
-          and limits are applied unchanged to the {word}s after it (Phase II, monitoring)
-          {data.points.some((p) => p.phase === "before") ? ` and to those before it` : ""}.
-          {data.notes.find((n) => n.startsWith("By week, the baseline")) ? ` ${data.notes.find((n) => n.startsWith("By week, the baseline"))}` : ""}
+          <Trans
+            t={t}
+            i18nKey={`controlChart.baselineWords.${word === "day" ? "day" : b.firstPeriod ? "weekRange" : "week"}${before ? "Before" : ""}`}
+            count={b.periods}
+            values={{ from: b.from, to: b.to, n: count(b.periods), first: b.firstPeriod, last: b.lastPeriod, slabs: count(b.slabs) }}
+            components={{ 1: <span className="font-semibold" /> }}
+          />
+          {weekNote ? ` ${weekNote}` : ""}
         </p>
       ) : null}
-      <Card title={`${name} by ${word}`}>
-        <Suspense fallback={<Spinner label="Loading the chart" />}>
+      <Card title={t(`controlChart.chartBy.${word}`, { chart: name })}>
+        <Suspense fallback={<Spinner label={t("loadingChart")} />}>
           <PChart data={data} />
         </Suspense>
         <p className="mt-1 text-xs text-ink-600">
-          {data.method}. A point outside its limits is marked with a triangle and says which limit it crossed
-          {data.rules.on ? "; a point completing a run rule carries a hollow square and the rule's number" : ""}
-          {b ? "; the shaded bands name the phases" : ""}. A signal asks for a look at what was cast then; it does not say why.
-          {std ? " The dashed line with diamonds is the share standardised to the grade mix; the limits are for the share as cast." : ""}
+          {t(read, { method: data.method })}
+          {std ? ` ${t("controlChart.read.standardised")}` : ""}
         </p>
         {data.rules.on ? (
           <ul className="mt-2 grid gap-1 text-xs text-ink-700 md:grid-cols-2" data-testid="rules-legend">
             {Object.entries(data.rules.legend).map(([k, v]) => (
               <li key={k} className="flex items-center gap-2">
-                {k === "1" ? <OutMark above /> : <RuleMark rule={Number(k)} legend={v} />}
-                <span>
-                  Rule {k}: {v}
-                </span>
+                {k === "1" ? <OutMark above words={words} /> : <RuleMark rule={Number(k)} legend={v} words={words} />}
+                <span>{t("controlChart.ruleLegend", { rule: k, text: v })}</span>
               </li>
             ))}
           </ul>
         ) : null}
       </Card>
-      <Card title={flagged.length ? `${plural(flagged.length, word)} signalled` : `Every ${word}`}>
+      <Card title={flagged.length ? t(`controlChart.signalled.${word}`, { count: flagged.length, n: count(flagged.length) }) : t(`controlChart.every.${word}`)}>
         <div className="max-h-[28rem] overflow-y-auto">
           <TableWrap>
             <table className="w-full text-sm" data-testid="pchart-table">
               <thead className="sticky top-0 bg-white">
                 <tr className="border-b-2 border-ink-200">
-                  <th className={th}>{word === "day" ? "Day" : "ISO week"}</th>
-                  {b ? <th className={th}>Phase</th> : null}
-                  <th className={thNum}>Slabs (n)</th>
-                  <th className={thNum}>{u ? "Defects" : "Affected"}</th>
+                  <th className={th}>{word === "day" ? t("controlChart.cols.day") : t("controlChart.cols.isoWeek")}</th>
+                  {b ? <th className={th}>{t("controlChart.cols.phase")}</th> : null}
+                  <th className={thNum}>{t("controlChart.cols.slabs")}</th>
+                  <th className={thNum}>{u ? t("controlChart.cols.defects") : t("controlChart.cols.affected")}</th>
                   <th className={thNum}>{u ? "u" : "p"}</th>
-                  {std ? <th className={thNum}>Standardised</th> : null}
-                  <th className={thNum}>LCL</th>
-                  <th className={thNum}>UCL</th>
+                  {std ? <th className={thNum}>{t("controlChart.cols.standardised")}</th> : null}
+                  <th className={thNum}>{t("controlChart.lcl")}</th>
+                  <th className={thNum}>{t("controlChart.ucl")}</th>
                   <th className={thNum}>z</th>
-                  <th className={th}>Signal</th>
+                  <th className={th}>{t("controlChart.cols.signal")}</th>
                 </tr>
               </thead>
               <tbody>
@@ -290,13 +336,13 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
                     </td>
                     {b ? (
                       <td className={td} data-field="phase">
-                        <PhaseMark phase={p.phase} />
+                        <PhaseMark phase={p.phase} words={words} />
                       </td>
                     ) : null}
                     <td className={tdNum} data-field="slabs">
-                      {p.slabs.toLocaleString("en-GB")}
+                      {count(p.slabs)}
                     </td>
-                    <td className={tdNum}>{(u ? p.defects : p.affected).toLocaleString("en-GB")}</td>
+                    <td className={tdNum}>{count(u ? p.defects : p.affected)}</td>
                     <td className={tdNum} data-field="value">
                       {text(value(p))}
                     </td>
@@ -316,13 +362,13 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
                     </td>
                     <td className={td} data-field="signal">
                       <span className="flex flex-wrap gap-x-2 gap-y-0.5">
-                        {p.outOfControl ? <OutMark above={(value(p) ?? 0) > p.ucl} /> : null}
+                        {p.outOfControl ? <OutMark above={(value(p) ?? 0) > p.ucl} words={words} /> : null}
                         {p.signals
                           .filter((s) => s !== 1 || !p.outOfControl)
                           .map((s) => (
-                            <RuleMark key={s} rule={s} legend={data.rules.legend[String(s)]} />
+                            <RuleMark key={s} rule={s} legend={data.rules.legend[String(s)]} words={words} />
                           ))}
-                        {!p.outOfControl && p.signals.length === 0 ? <span className="text-xs text-ink-500">within limits</span> : null}
+                        {!p.outOfControl && p.signals.length === 0 ? <span className="text-xs text-ink-500">{words.within}</span> : null}
                       </span>
                     </td>
                   </tr>
@@ -331,13 +377,12 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
             </table>
           </TableWrap>
         </div>
-        {flagged.length ? <p className="mt-2 text-xs text-ink-600">Signalled {word}s first, then the rest in order.</p> : null}
+        {flagged.length ? <p className="mt-2 text-xs text-ink-600">{t(`controlChart.signalledFirst.${word}`)}</p> : null}
       </Card>
       {data.standardisation ? (
         <p className="text-xs text-ink-700" data-testid="standardisation">
-          <span className="font-semibold">Standardised to the grade mix:</span> {data.standardisation.reference} —{" "}
-          {data.standardisation.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${m.slabs.toLocaleString("en-GB")})`).join(", ")}.{" "}
-          {data.standardisation.method}.
+          <span className="font-semibold">{t("controlChart.standardisedTo")}</span> {data.standardisation.reference} —{" "}
+          {data.standardisation.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${count(m.slabs)})`).join(", ")}. {data.standardisation.method}.
         </p>
       ) : null}
     </div>

@@ -1,9 +1,10 @@
 import { lazy, Suspense } from "react";
 import { useQuery } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import type { RiskDrift } from "@shared/api/risk-drift";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
-import { date, dateTime, num, pct } from "@/lib/format";
+import { count, DASH, date, dateTime, num, pct, sig } from "@/lib/format";
 import { riskDriftKeys } from "../api/drift.queries";
 
 const DriftChart = lazy(() => import("./drift-chart").then((m) => ({ default: m.DriftChart })));
@@ -15,12 +16,13 @@ const d3 = (v: number | null) => num(v, 3);
 
 /** An estimate over its 95 % interval; where it is not defined, the reason in words. */
 function Estimate({ value, lower, upper, reason }: { value: number | null; lower: number | null; upper: number | null; reason: string | null }) {
-  if (value === null) return <span className="text-xs text-ink-700">— {reason ?? "not defined"}</span>;
+  const { t } = useTranslation("process");
+  if (value === null) return <span className="text-xs text-ink-700">— {reason ?? t("risk.drift.notDefined")}</span>;
   return (
     <>
       <div>{d3(value)}</div>
       <div className="whitespace-nowrap text-xs text-ink-600">
-        {lower !== null && upper !== null ? `${d3(lower)} to ${d3(upper)}` : (reason ?? "no interval")}
+        {lower !== null && upper !== null ? t("risk.drift.range", { lower: d3(lower), upper: d3(upper) }) : (reason ?? t("risk.drift.noInterval"))}
       </div>
     </>
   );
@@ -28,17 +30,18 @@ function Estimate({ value, lower, upper, reason }: { value: number | null; lower
 
 /** The month's judgement in words, with a mark that is not colour alone. */
 function Judgement({ m }: { m: Month }) {
+  const { t } = useTranslation("process");
   const [mark, word, cls] = m.drifted
-    ? ["▲", "Drifted", "font-semibold text-alarm-700"]
+    ? ["▲", t("risk.drift.judgement.drifted"), "font-semibold text-alarm-700"]
     : m.judged
-      ? ["●", "Within the limits", "text-ok-700"]
-      : ["○", "Too few slabs to judge", "text-ink-600"];
+      ? ["●", t("risk.drift.judgement.within"), "text-ok-700"]
+      : ["○", t("risk.drift.judgement.tooFew"), "text-ink-600"];
   return (
     <div>
       <span className={`whitespace-nowrap ${cls}`} data-judgement={m.drifted ? "drifted" : m.judged ? "within" : "too-few"}>
         <span aria-hidden>{mark}</span> {word}
       </span>
-      {m.provisional ? <span className="ml-1 text-xs text-ink-600">(month still running)</span> : null}
+      {m.provisional ? <span className="ml-1 text-xs text-ink-600">{t("risk.drift.monthRunning")}</span> : null}
       {m.drifted ? <div className="mt-0.5 text-xs text-ink-800">{m.reason}</div> : null}
     </div>
   );
@@ -49,56 +52,50 @@ function Judgement({ m }: { m: Month }) {
  * calibration-in-the-large and AUC with their intervals, and which months drifted, in words.
  */
 export function DriftPanel({ modelId }: { modelId: number }) {
+  const { t } = useTranslation("process");
   const q = useQuery(riskDriftKeys.detail(modelId));
-  if (q.isPending) return <Spinner label="Checking the months since training" />;
+  if (q.isPending) return <Spinner label={t("risk.drift.checking")} />;
   if (q.isError) return <Notice tone="error">{q.error.message}</Notice>;
   const d = q.data;
   const drifted = d.months.filter((m) => m.drifted);
   return (
     <div className="space-y-4" data-testid="drift-panel">
       {d.months.length === 0 ? (
-        <p className="text-ink-700">
-          No slab cast since {date(d.since)} (the newest slab this version was trained or tested on) has passed the yard yet, so there is nothing to compare.
-        </p>
+        <p className="text-ink-700">{t("risk.drift.nothing", { since: date(d.since) })}</p>
       ) : (
         <>
           <p className="text-sm text-ink-800">
-            Slabs cast since {date(d.since)} that the model never saw, once the yard has judged them: {num(d.slabs)} in {d.months.length} month
-            {d.months.length === 1 ? "" : "s"}.
+            {t("risk.drift.since", { since: date(d.since), slabs: num(d.slabs), count: d.months.length, n: count(d.months.length) })}
           </p>
           {drifted.length ? (
-            <Notice tone="caution" title={`Drifted in ${drifted.map((m) => m.month).join(", ")}`}>
-              The predicted rates or the ranking no longer match what the yard finds. Train a new version on recent slabs and check its validation before
-              switching it on. A risk orders the inspection work; it never clears a slab.
+            <Notice tone="caution" title={t("risk.drift.driftedIn", { months: drifted.map((m) => m.month).join(", ") })}>
+              {t("risk.drift.driftedText")}
             </Notice>
           ) : (
-            <Notice tone="info" title="No month has drifted">
-              Every month with enough slabs lies within the limits below.
+            <Notice tone="info" title={t("risk.drift.noneDrifted")}>
+              {t("risk.drift.noneDriftedText")}
             </Notice>
           )}
-          <Suspense fallback={<Spinner label="Loading the chart" />}>
+          <Suspense fallback={<Spinner label={t("ui.loadingChart")} />}>
             <DriftChart drift={d} />
           </Suspense>
           <div className="overflow-x-auto">
             <table className="w-full text-sm" data-testid="drift-months">
               <thead>
                 <tr className="border-b-2 border-ink-200 text-left text-xs uppercase tracking-wide text-ink-600">
-                  <th className="px-1 py-2 lg:px-2">Month</th>
-                  <th className="px-1 py-2 text-right lg:px-2">Slabs</th>
-                  <th className="px-1 py-2 text-right lg:px-2">With the defect</th>
-                  <th className="px-1 py-2 text-right lg:px-2">Predicted</th>
-                  <th className="px-1 py-2 text-right lg:px-2">Observed</th>
-                  <th
-                    className="px-1 py-2 text-right lg:px-2"
-                    title="calibration-in-the-large with its 95 % interval; 0: the predicted rate is right on average"
-                  >
-                    Calibration in the large
+                  <th className="px-1 py-2 lg:px-2">{t("risk.drift.col.month")}</th>
+                  <th className="px-1 py-2 text-right lg:px-2">{t("risk.drift.col.slabs")}</th>
+                  <th className="px-1 py-2 text-right lg:px-2">{t("risk.drift.col.affected")}</th>
+                  <th className="px-1 py-2 text-right lg:px-2">{t("risk.drift.col.predicted")}</th>
+                  <th className="px-1 py-2 text-right lg:px-2">{t("risk.drift.col.observed")}</th>
+                  <th className="hyphens-auto break-words px-1 py-2 text-right lg:px-2" title={t("risk.drift.col.citlTitle")}>
+                    {t("risk.drift.col.citl")}
                   </th>
-                  <th className="px-1 py-2 text-right lg:px-2" title="ROC AUC with its 95 % DeLong interval">
-                    AUC
+                  <th className="px-1 py-2 text-right lg:px-2" title={t("risk.drift.col.aucTitle")}>
+                    {t("risk.drift.col.auc")}
                   </th>
-                  <th className="px-1 py-2 lg:px-2">Judgement</th>
-                  <th className="px-1 py-2 lg:px-2">E-mailed</th>
+                  <th className="px-1 py-2 lg:px-2">{t("risk.drift.col.judgement")}</th>
+                  <th className="px-1 py-2 lg:px-2">{t("risk.drift.col.emailed")}</th>
                 </tr>
               </thead>
               <tbody>
@@ -118,7 +115,7 @@ export function DriftPanel({ modelId }: { modelId: number }) {
                     <td className="px-1 py-2 lg:px-2">
                       <Judgement m={m} />
                     </td>
-                    <td className="whitespace-nowrap px-1 py-2 lg:px-2">{m.alertedAt ? dateTime(m.alertedAt) : "—"}</td>
+                    <td className="whitespace-nowrap px-1 py-2 lg:px-2">{m.alertedAt ? dateTime(m.alertedAt) : DASH}</td>
                   </tr>
                 ))}
               </tbody>
@@ -127,14 +124,17 @@ export function DriftPanel({ modelId }: { modelId: number }) {
         </>
       )}
       <details className="text-sm">
-        <summary className="cursor-pointer font-semibold text-ink-800">How drift is judged</summary>
+        <summary className="cursor-pointer font-semibold text-ink-800">{t("risk.drift.howJudged")}</summary>
         <p className="mt-2 text-ink-800">{d.method}</p>
         <p className="mt-2 text-ink-800">
-          Thresholds: at least {d.thresholds.minSlabs} slabs and {d.thresholds.minAffected} with the defect in a month; |calibration in the large| above ln{" "}
-          {d.thresholds.oddsFactor} = {d3(d.thresholds.citlLimit)} with its {Math.round(d.thresholds.confidence * 100)} % interval excluding 0; or the AUC
-          interval wholly below{" "}
-          {d.thresholds.validationAucCiLower === null ? "the validation interval (not available for this version)" : d3(d.thresholds.validationAucCiLower)}, the
-          lower end of this version's validation AUC interval. The quality engineers are e-mailed once per drifted month.
+          {t("risk.drift.thresholds", {
+            minSlabs: count(d.thresholds.minSlabs),
+            minAffected: count(d.thresholds.minAffected),
+            oddsFactor: sig(d.thresholds.oddsFactor, 6),
+            citlLimit: d3(d.thresholds.citlLimit),
+            confidence: Math.round(d.thresholds.confidence * 100),
+            aucLower: d.thresholds.validationAucCiLower === null ? t("risk.drift.validationNotAvailable") : d3(d.thresholds.validationAucCiLower),
+          })}
         </p>
       </details>
     </div>

@@ -1,8 +1,9 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import type { RiskValidation } from "@shared/api/risk";
 import { INK, SERIES_COLORS } from "@/lib/chart-theme";
-import { pct } from "@/lib/format";
-import { tooltipBase } from "@/features/reports/components/charts/chart-parts";
+import { count, pct } from "@/lib/format";
+import { esc, tooltipBase } from "@/features/reports/components/charts/chart-parts";
 import { ReportChart } from "@/features/reports/components/charts/report-chart";
 
 /**
@@ -10,6 +11,7 @@ import { ReportChart } from "@/features/reports/components/charts/report-chart";
  * share of its slabs that carried the defect, sized by slabs, beside the diagonal of perfect calibration.
  */
 export function ReliabilityChart({ validation }: { validation: RiskValidation }) {
+  const { t } = useTranslation("process");
   const option = useMemo(() => {
     const pts = validation.reliability;
     const highest = Math.max(0.02, ...pts.map((p) => Math.max(p.predicted, p.observed))) * 1.05;
@@ -23,11 +25,13 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
         ...tooltipBase,
         trigger: "item",
         formatter: (p: { data: [number, number, number] }) =>
-          `Predicted ${pct(p.data[0], 1)}<br/>Observed ${pct(p.data[1], 1)}<br/>${p.data[2].toLocaleString()} test slabs`,
+          `${esc(t("risk.chart.predictedValue", { value: pct(p.data[0], 1) }))}<br/>${esc(t("risk.chart.observedValue", { value: pct(p.data[1], 1) }))}<br/>${esc(
+            t("risk.reliability.testSlabs", { count: p.data[2], n: count(p.data[2]) }),
+          )}`,
       },
       xAxis: {
         type: "value",
-        name: "Predicted risk",
+        name: t("risk.reliability.xAxis"),
         nameLocation: "middle",
         nameGap: 32,
         min: 0,
@@ -37,7 +41,7 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
       },
       yAxis: {
         type: "value",
-        name: "Observed share with the defect",
+        name: t("risk.reliability.yAxis"),
         nameLocation: "middle",
         nameGap: 48,
         min: 0,
@@ -48,7 +52,7 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
       series: [
         {
           type: "line",
-          name: "Perfect calibration",
+          name: t("risk.reliability.perfect"),
           data: [
             [0, 0],
             [top, top],
@@ -59,20 +63,13 @@ export function ReliabilityChart({ validation }: { validation: RiskValidation })
         },
         {
           type: "scatter",
-          name: "Test slabs, grouped by predicted risk",
+          name: t("risk.reliability.groups"),
           data: pts.map((p) => [p.predicted, p.observed, p.slabs]),
           symbolSize: (d: [number, number, number]) => 8 + 18 * Math.sqrt(d[2] / most),
           itemStyle: { color: SERIES_COLORS[0] },
         },
       ],
     };
-  }, [validation]);
-  return (
-    <ReportChart
-      option={option}
-      height={320}
-      testId="reliability-chart"
-      label="Reliability diagram: predicted risk against the observed share on the test slabs"
-    />
-  );
+  }, [validation, t]);
+  return <ReportChart option={option} height={320} testId="reliability-chart" label={t("risk.reliability.label")} />;
 }

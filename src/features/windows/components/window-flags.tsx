@@ -1,4 +1,5 @@
 import { useQuery } from "@tanstack/react-query";
+import { useTranslation } from "react-i18next";
 import { windowKeys } from "../api/windows.queries";
 
 type Props =
@@ -8,18 +9,19 @@ type Props =
   | { slabId: string; names?: never };
 
 function Flags({ names }: { names: string[] }) {
+  const { t } = useTranslation("slab");
   if (names.length === 0) return null;
   return (
     <div className="rounded-md border border-ember-600 bg-ember-50 px-3 py-2 text-sm text-ink-900" data-testid="window-flags" role="status">
       <div className="flex flex-wrap items-center gap-2">
-        <span className="font-semibold">Cast outside an operating window:</span>
+        <span className="font-semibold">{t("windowFlags.castOutside")}</span>
         {names.map((n) => (
           <span key={n} className="inline-flex items-center gap-1 rounded border border-ember-600 bg-white px-2 py-0.5 font-medium">
             {n}
           </span>
         ))}
       </div>
-      <p className="mt-1 text-xs text-ink-700">An association found in the plant's history, not a cause; the slab is inspected as the procedure requires.</p>
+      <p className="mt-1 text-xs text-ink-700">{t("windowFlags.caution")}</p>
     </div>
   );
 }

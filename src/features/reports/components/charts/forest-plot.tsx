@@ -1,6 +1,7 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
 import { FONT, INK, SERIES_COLORS } from "@/lib/chart-theme";
-import { pValue, sig } from "@/lib/format";
+import { count, pValue, sig } from "@/lib/format";
 import { esc, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
@@ -47,8 +48,8 @@ export function oddsTicks(lo: number, hi: number): number[] {
   return best.length > 9 ? best.filter((_, i) => i % Math.ceil(best.length / 9) === 0) : best;
 }
 
-const CRUDE = { name: "Crude (the condition alone)", color: INK[700] };
-const ADJUSTED = { name: "Adjusted (in the model)", color: SERIES_COLORS[0]! };
+const CRUDE = { color: INK[700] };
+const ADJUSTED = { color: SERIES_COLORS[0]! };
 
 /**
  * The forest plot of the adjusted model: per term, the crude odds ratio (hollow circle) above the
@@ -57,7 +58,10 @@ const ADJUSTED = { name: "Adjusted (in the model)", color: SERIES_COLORS[0]! };
  * the two apart, not colour alone.
  */
 export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]; testId?: string }) {
+  const { t } = useTranslation("analysis");
   const option = useMemo(() => {
+    const crudeName = t("forest.crude");
+    const adjustedName = t("forest.adjusted");
     const values = rows
       .flatMap((r) => [r.crude.ciLower, r.crude.ciUpper, r.adjusted.ciLower, r.adjusted.ciUpper, r.crude.oddsRatio, r.adjusted.oddsRatio])
       .filter(finite);
@@ -73,7 +77,7 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
       const look = which === "crude" ? CRUDE : ADJUSTED;
       return {
         type: "custom",
-        name: look.name,
+        name: which === "crude" ? crudeName : adjustedName,
         itemStyle: { color: look.color },
         encode: { x: [1, 2, 3], y: 0 },
         data: rows.map((r, i) => {
@@ -136,8 +140,8 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
       legend: {
         top: 4,
         data: [
-          { name: CRUDE.name, icon: "path://M10 2a8 8 0 1 0 0.001 0zM10 5a5 5 0 1 1 -0.001 0z" },
-          { name: ADJUSTED.name, icon: "rect" },
+          { name: crudeName, icon: "path://M10 2a8 8 0 1 0 0.001 0zM10 5a5 5 0 1 1 -0.001 0z" },
+          { name: adjustedName, icon: "rect" },
         ],
         itemWidth: 14,
         itemHeight: 14,
@@ -149,15 +153,21 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
           const r = rows[p.dataIndex];
           if (!r) return "";
           const line = (name: string, e: ForestRow["crude"]) =>
-            `${name}: <b>${sig(e.oddsRatio, 3)}</b> (95 % CI ${sig(e.ciLower, 3)}–${sig(e.ciUpper, 3)}) · p ${pValue(e.p)}`;
-          return `<b>${esc(r.label)}</b>, ${esc(r.per)}<br/>${line("Crude", r.crude)}<br/>${line("Adjusted", r.adjusted)}${r.reason ? `<br/><i>${esc(r.reason)}</i>` : ""}`;
+            t("forest.tooltipLine", {
+              name,
+              or: `<b>${sig(e.oddsRatio, 3)}</b>`,
+              lower: sig(e.ciLower, 3),
+              upper: sig(e.ciUpper, 3),
+              p: pValue(e.p),
+            });
+          return `<b>${esc(r.label)}</b>, ${esc(r.per)}<br/>${line(t("forest.crudeShort"), r.crude)}<br/>${line(t("forest.adjustedShort"), r.adjusted)}${r.reason ? `<br/><i>${esc(r.reason)}</i>` : ""}`;
         },
       },
       xAxis: {
         type: "value",
         min: xMin,
         max: xMax,
-        name: "Odds ratio (logarithmic scale; 1 = no association)",
+        name: t("forest.xAxis"),
         nameLocation: "middle",
         nameGap: 30,
         axisTick: { customValues: ticks },
@@ -201,7 +211,7 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
         {
           // Terms without an estimate say so in their row, in words.
           type: "custom",
-          name: "not estimable",
+          name: t("forest.notEstimable"),
           silent: true,
           data: rows.map((r, i) => (finite(r.adjusted.oddsRatio) ? [i, NaN] : [i, 0])),
           encode: { y: 0 },
@@ -211,7 +221,7 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
             return {
               type: "text",
               style: {
-                text: "no estimate: see the table",
+                text: t("forest.noEstimate"),
                 x: c[0]! + 8,
                 y: c[1],
                 verticalAlign: "middle",
@@ -225,16 +235,9 @@ export function ForestPlot({ rows, testId = "forest-plot" }: { rows: ForestRow[]
         },
       ],
     };
-  }, [rows]);
+  }, [rows, t]);
   const height = Math.max(220, rows.length * 64 + 100);
-  return (
-    <ReportChart
-      option={option}
-      height={height}
-      testId={testId}
-      label={`Forest plot: crude and adjusted odds ratios with 95 % intervals for ${rows.length} terms, on a logarithmic axis`}
-    />
-  );
+  return <ReportChart option={option} height={height} testId={testId} label={t("forest.label", { count: rows.length, n: count(rows.length) })} />;
 }
 
 export default ForestPlot;

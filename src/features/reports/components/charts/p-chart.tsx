@@ -1,7 +1,9 @@
 import { useMemo } from "react";
+import { useTranslation } from "react-i18next";
+import type { TFunction } from "i18next";
 import type { ControlChart } from "@shared/api/reports";
 import { INK, SERIES_COLORS } from "@/lib/chart-theme";
-import { num, pct } from "@/lib/format";
+import { count, num, pct } from "@/lib/format";
 import { pctAxis, tooltipBase } from "./chart-parts";
 import { ReportChart } from "./report-chart";
 
@@ -12,15 +14,15 @@ const RULE = "#7a5a10";
 export const valueText = (chart: ControlChart["chart"], v: number | null | undefined) => (chart === "u" ? num(v, 3) : pct(v));
 
 /** "rule 2", "rules 2, 4": the Western Electric rules a point completes, beyond rule 1 (marked by its triangle). */
-export const ruleWords = (signals: number[]) => {
+export const ruleWords = (signals: number[], t: TFunction<"analysis">) => {
   const r = signals.filter((s) => s !== 1);
-  return r.length === 0 ? "" : `rule${r.length === 1 ? "" : "s"} ${r.join(", ")}`;
+  return r.length === 0 ? "" : t("pChart.rules", { count: r.length, rules: r.join(", ") });
 };
 
 const PHASE_LOOK = {
-  before: { label: "Before the baseline", fill: "rgba(138,152,165,0.10)" },
-  baseline: { label: "Baseline (Phase I)", fill: "rgba(11,93,107,0.10)" },
-  monitoring: { label: "Monitoring (Phase II)", fill: "rgba(232,176,74,0.10)" },
+  before: { fill: "rgba(138,152,165,0.10)" },
+  baseline: { fill: "rgba(11,93,107,0.10)" },
+  monitoring: { fill: "rgba(232,176,74,0.10)" },
 } as const;
 
 /**
@@ -31,7 +33,13 @@ const PHASE_LOOK = {
  * and named. Never colour alone.
  */
 export function PChart({ data }: { data: ControlChart }) {
+  const { t } = useTranslation("analysis");
   const option = useMemo(() => {
+    const phaseLabel = (phase: keyof typeof PHASE_LOOK) => t(`pChart.phases.${phase}`);
+    const above = t("controlChart.aboveUcl");
+    const below = t("controlChart.belowLcl");
+    const ucl = t("controlChart.ucl");
+    const lcl = t("controlChart.lcl");
     const pts = data.points;
     const u = data.chart === "u";
     const zoom = pts.length > 60;
@@ -43,14 +51,18 @@ export function PChart({ data }: { data: ControlChart }) {
     // A run of points completing the same rule (eight in a row on one side …) is named once, at its first point.
     const ruled = pts
       .map((p, i) => {
-        const words = ruleWords(p.signals);
-        const repeat = i > 0 && words !== "" && ruleWords(pts[i - 1]!.signals) === words;
+        const words = ruleWords(p.signals, t);
+        const repeat = i > 0 && words !== "" && ruleWords(pts[i - 1]!.signals, t) === words;
         return words ? { value: [i, value(p)], words: repeat ? "" : words, below: (p.z ?? 0) < 0 } : null;
       })
       .filter(Boolean) as { value: [number, number]; words: string; below: boolean }[];
     const std = pts.some((p) => p.standardised);
     const yMax = Math.max(u ? 0.05 : 0.01, ...pts.map((p) => Math.max(value(p) ?? 0, p.ucl, p.standardised?.rate ?? 0))) * 1.12;
-    const name = u ? "u (defects per slab)" : data.chart === "laney" ? "p (share affected), Laney p′ limits" : "p (share affected)";
+    const name = u ? t("pChart.seriesU") : data.chart === "laney" ? t("pChart.seriesLaney") : t("pChart.seriesP");
+    const stdName = t("pChart.standardised");
+    const centreName = u ? t("pChart.centreU") : t("pChart.centreP");
+    const outName = t("pChart.outOfControl");
+    const ruleName = t("pChart.ruleSignal");
     const limit = data.chart === "laney" ? "3σ·σ_z" : "3σ";
     // Shaded phases, each named at its top: consecutive runs of one phase.
     const runs: { phase: keyof typeof PHASE_LOOK; from: number; to: number }[] = [];
@@ -61,15 +73,9 @@ export function PChart({ data }: { data: ControlChart }) {
         else runs.push({ phase: p.phase, from: i, to: i });
       });
     }
-    const legend = [
-      name,
-      ...(std ? ["Standardised to the grade mix"] : []),
-      u ? "ū (centre line)" : "p̄ (centre line)",
-      `UCL (${limit})`,
-      `LCL (${limit})`,
-      "Out of control",
-      ...(data.rules.on ? ["Run-rule signal"] : []),
-    ];
+    const uclName = `${ucl} (${limit})`;
+    const lclName = `${lcl} (${limit})`;
+    const legend = [name, ...(std ? [stdName] : []), centreName, uclName, lclName, outName, ...(data.rules.on ? [ruleName] : [])];
     return {
       animation: false,
       grid: { left: 72, right: 24, top: data.baseline ? 76 : 48, bottom: zoom ? 84 : 48 },
@@ -80,14 +86,24 @@ export function PChart({ data }: { data: ControlChart }) {
         formatter: (ps: { dataIndex: number }[]) => {
           const p = pts[ps[0]?.dataIndex ?? 0];
           if (!p) return "";
-          const words = ruleWords(p.signals);
-          return `<b>${p.period}</b> · ${PHASE_LOOK[p.phase].label}<br/>${u ? `u = ${num(p.value, 3)} (${p.defects} defects on n = ${p.slabs})` : `p = ${pct(p.p)} (${p.affected} of n = ${p.slabs})`}<br/>UCL ${valueText(data.chart, p.ucl)} · LCL ${valueText(data.chart, p.lcl)}${p.standardised ? `<br/>Standardised ${pct(p.standardised.rate)}` : ""}${p.outOfControl ? `<br/><b>Out of control: ${(value(p) ?? 0) > p.ucl ? "above UCL" : "below LCL"}</b>` : ""}${words ? `<br/><b>Signal: ${words}</b>` : ""}`;
+          const words = ruleWords(p.signals, t);
+          const lines = [
+            `<b>${p.period}</b> · ${phaseLabel(p.phase)}`,
+            u
+              ? t("pChart.tooltip.u", { value: num(p.value, 3), defects: count(p.defects), n: count(p.slabs) })
+              : t("pChart.tooltip.p", { value: pct(p.p), affected: count(p.affected), n: count(p.slabs) }),
+            t("pChart.tooltip.limits", { ucl: valueText(data.chart, p.ucl), lcl: valueText(data.chart, p.lcl) }),
+            ...(p.standardised ? [t("pChart.tooltip.standardised", { value: pct(p.standardised.rate) })] : []),
+            ...(p.outOfControl ? [`<b>${t("pChart.tooltip.out", { where: (value(p) ?? 0) > p.ucl ? above : below })}</b>`] : []),
+            ...(words ? [`<b>${t("pChart.tooltip.signal", { rules: words })}</b>`] : []),
+          ];
+          return lines.join("<br/>");
         },
       },
       xAxis: {
         type: "category",
         data: pts.map((p) => p.period),
-        name: data.period === "day" ? "Day of casting" : "ISO week of casting",
+        name: data.period === "day" ? t("pChart.xDay") : t("pChart.xWeek"),
         nameLocation: "middle",
         nameGap: 30,
         axisLabel: { hideOverlap: true },
@@ -96,7 +112,7 @@ export function PChart({ data }: { data: ControlChart }) {
         type: "value",
         min: 0,
         max: yMax,
-        name: u ? "Defects per slab" : "Share of slabs affected",
+        name: u ? t("pChart.yU") : t("pChart.yP"),
         nameLocation: "middle",
         nameRotate: 90,
         nameGap: 50,
@@ -124,7 +140,7 @@ export function PChart({ data }: { data: ControlChart }) {
                     label: {
                       show: true,
                       position: "insideTop",
-                      formatter: PHASE_LOOK[r.phase].label,
+                      formatter: phaseLabel(r.phase),
                       color: INK[700],
                       fontSize: 11,
                       fontWeight: 600,
@@ -140,7 +156,7 @@ export function PChart({ data }: { data: ControlChart }) {
           ? [
               {
                 type: "line",
-                name: "Standardised to the grade mix",
+                name: stdName,
                 data: pts.map((p) => p.standardised?.rate ?? null),
                 showSymbol: true,
                 symbol: "diamond",
@@ -153,7 +169,7 @@ export function PChart({ data }: { data: ControlChart }) {
           : []),
         {
           type: "line",
-          name: u ? "ū (centre line)" : "p̄ (centre line)",
+          name: centreName,
           data: pts.map((p) => p.centre ?? data.centre),
           symbol: "none",
           itemStyle: { color: INK[700] },
@@ -162,7 +178,7 @@ export function PChart({ data }: { data: ControlChart }) {
         },
         {
           type: "line",
-          name: `UCL (${limit})`,
+          name: uclName,
           data: pts.map((p) => p.ucl),
           step: "middle",
           symbol: "none",
@@ -172,7 +188,7 @@ export function PChart({ data }: { data: ControlChart }) {
         },
         {
           type: "line",
-          name: `LCL (${limit})`,
+          name: lclName,
           data: pts.map((p) => p.lcl),
           step: "middle",
           symbol: "none",
@@ -182,14 +198,14 @@ export function PChart({ data }: { data: ControlChart }) {
         },
         {
           type: "scatter",
-          name: "Out of control",
+          name: outName,
           symbol: "triangle",
           symbolSize: 14,
           itemStyle: { color: ALARM, borderColor: "#ffffff", borderWidth: 1 },
           data: out.map((o) => ({
             value: o.value,
             symbolRotate: o.above ? 0 : 180,
-            label: { formatter: o.above ? "above UCL" : "below LCL", position: o.above ? "top" : "bottom" },
+            label: { formatter: o.above ? above : below, position: o.above ? "top" : "bottom" },
           })),
           label: { show: true, fontSize: 11, fontWeight: 700, color: ALARM },
           labelLayout: { hideOverlap: true },
@@ -199,7 +215,7 @@ export function PChart({ data }: { data: ControlChart }) {
           ? [
               {
                 type: "scatter",
-                name: "Run-rule signal",
+                name: ruleName,
                 symbol: "emptyRect",
                 symbolSize: 13,
                 itemStyle: { color: RULE, borderColor: RULE, borderWidth: 2 },
@@ -212,15 +228,19 @@ export function PChart({ data }: { data: ControlChart }) {
           : []),
       ],
     };
-  }, [data]);
+  }, [data, t]);
   const outCount = data.points.filter((p) => p.outOfControl).length;
-  const kind = data.chart === "u" ? "u-chart" : data.chart === "laney" ? "Laney p′ chart" : "p-chart";
   return (
     <ReportChart
       option={option}
       height={400}
       testId="p-chart"
-      label={`${kind} of ${data.points.length} ${data.period === "day" ? "days" : "weeks"}, ${outCount} out of control`}
+      label={t(`pChart.label.${data.period === "day" ? "day" : "week"}`, {
+        chart: t(`chartNames.${data.chart}`),
+        count: data.points.length,
+        n: count(data.points.length),
+        out: count(outCount),
+      })}
     />
   );
 }
