@@ -2,7 +2,7 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { useTranslation } from "react-i18next";
 import type { TFunction } from "i18next";
-import { zodResolver } from "@hookform/resolvers/zod";
+import { zodResolver } from "@/lib/form-resolver";
 import type { z } from "zod";
 import { CAUSE_GROUP_CODES, causeTagCreateSchema, type CauseTag, type CauseTaxonomy } from "@shared/api/causes";
 import { Button } from "@/components/ui/button";

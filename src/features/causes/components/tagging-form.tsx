@@ -1,6 +1,6 @@
 import type { ReactNode } from "react";
 import { Controller, useForm } from "react-hook-form";
-import { zodResolver } from "@hookform/resolvers/zod";
+import { zodResolver } from "@/lib/form-resolver";
 import { useTranslation } from "react-i18next";
 import { CAUSE_CONFIDENCES, type CauseConfidence } from "@shared/domain";
 import { tagDefectSchema, type CauseTaxonomy, type TagDefect } from "@shared/api/causes";

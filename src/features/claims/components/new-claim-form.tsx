@@ -1,6 +1,6 @@
 import { useMemo } from "react";
 import { useForm } from "react-hook-form";
-import { zodResolver } from "@hookform/resolvers/zod";
+import { zodResolver } from "@/lib/form-resolver";
 import { Trans, useTranslation } from "react-i18next";
 import type { TFunction } from "i18next";
 import { z } from "zod";

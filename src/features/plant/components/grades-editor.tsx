@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import { zodResolver } from "@hookform/resolvers/zod";
+import { zodResolver } from "@/lib/form-resolver";
 import { useTranslation } from "react-i18next";
 import type { z } from "zod";
 import { gradeFamilyInputSchema, gradeInputSchema } from "@shared/api/heats";

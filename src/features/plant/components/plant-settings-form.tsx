@@ -1,5 +1,5 @@
 import { useForm, type Resolver } from "react-hook-form";
-import { zodResolver } from "@hookform/resolvers/zod";
+import { zodResolver } from "@/lib/form-resolver";
 import { useTranslation } from "react-i18next";
 import { plantSettingsSchema, type PlantSettings } from "@shared/api/heats";
 import { Button } from "@/components/ui/button";

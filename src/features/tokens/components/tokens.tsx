@@ -1,6 +1,6 @@
 import { useRef, useState } from "react";
 import { Controller, useForm } from "react-hook-form";
-import { zodResolver } from "@hookform/resolvers/zod";
+import { zodResolver } from "@/lib/form-resolver";
 import { Trans, useTranslation } from "react-i18next";
 import type { z } from "zod";
 import { apiTokenCreateSchema, DEFAULT_TOKEN_SCOPES, TOKEN_SCOPES, type ApiToken, type TokenScope } from "@shared/api/tokens";

@@ -1,6 +1,6 @@
 import { useEffect, useId, useRef, useState } from "react";
 import { Controller, useForm } from "react-hook-form";
-import { zodResolver } from "@hookform/resolvers/zod";
+import { zodResolver } from "@/lib/form-resolver";
 import { useTranslation } from "react-i18next";
 import { createUserSchema, type CreatedUser, type CreateUserInput, type FirstSignIn } from "@shared/api/users";
 import { Button } from "@/components/ui/button";
