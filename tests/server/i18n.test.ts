@@ -6,7 +6,55 @@ import { translator } from "../../server/lib/i18n";
 import { schemaMessage, type Translate } from "../../shared/i18n/schema-messages";
 
 /** Texts German writes as English does (a word both use, a unit, a name). */
-const SAME_IN_GERMAN = ["common.roles.admin", "common.nav.items./import", "common.terms.variables.al_pct.label"];
+/**
+ * Texts German writes as English does: words both use (Name, Status, Code, Import, Phase, Median,
+ * Test, Screening, Coil, Offline, Aluminium…), a term kept in English by German statisticians (AUC,
+ * "p (BH)"), and lines made of a value and a unit.
+ */
+const SAME_IN_GERMAN = [
+  "common.roles.admin",
+  "common.nav.items./import",
+  "common.terms.variables.al_pct.label",
+  "admin.imports.columns.types.boolean",
+  "admin.imports.errors.problem",
+  "admin.imports.title",
+  "admin.outbox.status",
+  "admin.outbox.table.status",
+  "admin.plant.calibration.offset",
+  "admin.plant.grades.code",
+  "admin.plant.grades.name",
+  "admin.tokens.table.name",
+  "admin.tokens.table.status",
+  "admin.users.form.name",
+  "admin.users.table.name",
+  "admin.users.table.status",
+  "analysis.controlChart.cols.phase",
+  "claims.claimHistory.statusTo",
+  "claims.claimsTable.status",
+  "claims.history.chemistry.element",
+  "claims.history.elements.al_pct",
+  "claims.history.elements.ni_pct",
+  "claims.history.elements.v_pct",
+  "claims.home.status",
+  "claims.summary.status",
+  "claims.traceChain.coil",
+  "common.band.offline",
+  "heats.chemistry.element",
+  "process.causes.editor.code",
+  "process.causes.editor.name",
+  "process.investigations.table.status",
+  "process.risk.drift.col.auc",
+  "process.risk.model.term",
+  "reports.home.name",
+  "reports.kinds.screening.title",
+  "reports.rbv.median",
+  "reports.rbv.test",
+  "reports.screening.pBh",
+  "reports.screening.suggestedName",
+  "yard.outboxStatus.offline",
+  "yard.slabPage.defectLine",
+  "yard.slabPage.offline",
+];
 
 type Tree = { [k: string]: string | Tree };
 const leaves = (t: Tree, prefix = ""): [string, string][] =>
