@@ -1,4 +1,4 @@
-import { badRequest } from "./http-error";
+import { badRequest, said } from "./http-error";
 
 const DATE = /^(\d{4})-(\d{2})-(\d{2})$/;
 
@@ -13,11 +13,11 @@ export function parseDateBound(value: string | undefined, end: boolean, field: s
     const start = Date.UTC(+m[1]!, +m[2]! - 1, +m[3]!);
     const back = new Date(start);
     if (Number.isNaN(start) || back.getUTCFullYear() !== +m[1]! || back.getUTCMonth() !== +m[2]! - 1 || back.getUTCDate() !== +m[3]!) {
-      throw badRequest(`${field}: ${value} is not a date in the calendar.`, { field });
+      throw badRequest(said("dates.notInCalendar", { field, value }), { field });
     }
     return end ? start + 86_400_000 - 1 : start;
   }
   const t = Date.parse(value);
-  if (Number.isNaN(t)) throw badRequest(`${field}: ${value} is not a date (use YYYY-MM-DD).`, { field });
+  if (Number.isNaN(t)) throw badRequest(said("dates.notADate", { field, value }), { field });
   return t;
 }

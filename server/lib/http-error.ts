@@ -1,17 +1,63 @@
-/** The one error type services throw; the error middleware turns it into `{ error: { code, message, details } }`. */
+import type { Language } from "@shared/i18n/languages";
+import { translator } from "./i18n";
+
+/**
+ * Values put into a catalogue text: names and numbers as they are, or `{ terms }`: catalogue keys
+ * (with their namespace, e.g. "common:roles.quality") said in the reader's language and joined by ", ".
+ */
+export type SaidValues = Record<string, string | number | { terms: string[] }>;
+
+/**
+ * What an error says, as a key of the `server` catalogue (under `errors.`) and its values, so the
+ * error handler can answer in the requester's language. The English text (`message`) is the
+ * catalogue's English, made once when the error is made.
+ */
+export interface Said {
+  key: string;
+  values?: SaidValues;
+}
+
+/** Builds a Said: `said("notFound.heat", { heat })` reads `server:errors.notFound.heat`. */
+export const said = (key: string, values?: SaidValues): Said => (values ? { key, values } : { key });
+
+/** A Said in one language (English where none is given). */
+export function sayIn(s: Said, language: Language | null | undefined): string {
+  const t = translator(language);
+  const values = Object.fromEntries(Object.entries(s.values ?? {}).map(([k, v]) => [k, typeof v === "object" ? v.terms.map((key) => t(key)).join(", ") : v]));
+  return t(`server:errors.${s.key}`, values);
+}
+
+/** An error's words: plain English (not in the catalogue yet), a Said, or Saids said one after the other. */
+export type Words = string | Said | Said[];
+
+const sayAllIn = (saids: Said[], language: Language | null | undefined) => saids.map((s) => sayIn(s, language)).join(" ");
+
+/**
+ * The one error type services throw; the error middleware turns it into `{ error: { code, message, details } }`.
+ * `message` may be plain English (not translated yet) or Saids: then `message` is their English and
+ * `said` is kept for the handler to answer in the requester's language.
+ */
 export class HttpError extends Error {
+  public readonly said?: Said[];
   constructor(
     public readonly status: number,
     public readonly code: string,
-    message: string,
+    message: Words,
     public readonly details?: unknown,
   ) {
-    super(message);
+    const saids = typeof message === "string" ? null : Array.isArray(message) ? message : [message];
+    super(saids ? sayAllIn(saids, "en") : (message as string));
     this.name = "HttpError";
+    if (saids) this.said = saids;
+  }
+
+  /** The message in a language: the catalogue's text where the error was made with Saids, else its English. */
+  messageIn(language: Language | null | undefined): string {
+    return this.said ? sayAllIn(this.said, language) : this.message;
   }
 }
 
-export const badRequest = (message: string, details?: unknown, code = "bad_request") => new HttpError(400, code, message, details);
-export const notFound = (message: string, details?: unknown) => new HttpError(404, "not_found", message, details);
-export const conflict = (message: string, details?: unknown) => new HttpError(409, "conflict", message, details);
-export const forbidden = (message: string) => new HttpError(403, "forbidden", message);
+export const badRequest = (message: Words, details?: unknown, code = "bad_request") => new HttpError(400, code, message, details);
+export const notFound = (message: Words, details?: unknown) => new HttpError(404, "not_found", message, details);
+export const conflict = (message: Words, details?: unknown) => new HttpError(409, "conflict", message, details);
+export const forbidden = (message: Words) => new HttpError(403, "forbidden", message);

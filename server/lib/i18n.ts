@@ -4,7 +4,7 @@
  * fixed `t` per language for e-mails, workbook headers and messages.
  */
 import i18next, { type TFunction } from "i18next";
-import { LANGUAGES, type Language } from "@shared/i18n/languages";
+import { LANGUAGES, languageFromBrowser, type Language } from "@shared/i18n/languages";
 import { NAMESPACES, resourcesFor } from "@shared/i18n/resources";
 
 const instance = i18next.createInstance();
@@ -27,4 +27,12 @@ export function translator(language: Language | null | undefined): TFunction {
   let t = fixed.get(lng);
   if (!t) fixed.set(lng, (t = instance.getFixedT(lng)));
   return t;
+}
+
+/**
+ * The language to answer a request in: the signed-in person's choice, else the first language of
+ * the browser's Accept-Language we have, else English.
+ */
+export function requestLanguage(req: { user?: { language?: Language | null } | null; acceptsLanguages(): string[] }): Language {
+  return req.user?.language ?? languageFromBrowser(req.acceptsLanguages().filter((l) => l !== "*"));
 }

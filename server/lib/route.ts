@@ -2,7 +2,7 @@ import express, { type Request, type RequestHandler, type Response, type Router 
 import type { OpenAPIRegistry, RouteConfig } from "@asteasolutions/zod-to-openapi";
 import type { z } from "zod";
 import { apiErrorSchema } from "@shared/api/common";
-import { HttpError } from "./http-error";
+import { HttpError, said } from "./http-error";
 import { requireRole, type Access } from "../middleware/require-role";
 import { takeUploadSlot } from "../middleware/uploads";
 
@@ -129,7 +129,7 @@ function readableUpload(middleware: RequestHandler): RequestHandler {
     middleware(req, res, (err?: unknown) => {
       const e = err as { code?: unknown; status?: unknown } | undefined;
       if (!err || err === "route" || err === "router" || typeof e?.status === "number" || String(e?.code ?? "").startsWith("LIMIT_")) return next(err);
-      next(new HttpError(400, "upload_unreadable", "The upload could not be read: the form is incomplete or malformed. Send it again."));
+      next(new HttpError(400, "upload_unreadable", said("uploads.unreadable")));
     });
 }
 

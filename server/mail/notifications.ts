@@ -3,29 +3,61 @@
  * server, and none throws into the user's action (a failure to queue is logged).
  */
 import type { Defect } from "@shared/api/defects";
-import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, type Disposition, type Face, type Severity } from "@shared/domain";
+import { languageOf, type Language } from "@shared/i18n/languages";
+import type { TFunction } from "i18next";
 import type { Db } from "../db/client";
+import { translator } from "../lib/i18n";
 import type { Logger } from "../lib/logger";
 import type { Mailer, MailMessage } from "./mailer";
 
 type Row = Record<string, any>;
 
+/** A message's words, made once per language of its recipients. */
+type Words = Omit<MailMessage, "to">;
+
 export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: string; logger: Logger }) {
   const { db, mailer, baseUrl, logger } = opts;
   const sqlite = db.$client;
   const link = (p: string) => new URL(p, baseUrl).toString();
-  const footer = `\n\n—\nStrandsight · ${baseUrl}\nThis message was sent automatically; replies are not read.`;
+  const footer = (t: TFunction) => `\n\n—\nStrandsight · ${baseUrl}\n${t("server:mail.footer")}`;
   /** Addresses invited just now: their reset link goes out as an invitation. */
   const invitations = new Set<string>();
 
-  const send = (msg: MailMessage) => {
+  const send = (msg: MailMessage, t: TFunction) => {
     try {
-      return mailer.enqueue({ ...msg, text: msg.text + footer });
+      return mailer.enqueue({ ...msg, text: msg.text + footer(t) });
     } catch (err) {
       logger.error({ err, kind: msg.kind }, "could not queue a message");
       return null;
     }
   };
+
+  /** The language each address's person chose (English where none, or no such person). */
+  const languageOfAddress = (email: string): Language =>
+    languageOf(sqlite.prepare("select language from user where lower(email) = lower(?)").pluck().get(email) as string | null | undefined) ?? "en";
+
+  /**
+   * One message per language of the recipients (English first), each in its readers' words.
+   * Returns the first message's outbox id, or null when nothing was queued.
+   */
+  const sendEach = (to: string[], words: (t: TFunction, language: Language) => Words) => {
+    const groups = new Map<Language, string[]>([["en", []]]);
+    for (const address of to) {
+      const language = languageOfAddress(address);
+      groups.set(language, [...(groups.get(language) ?? []), address]);
+    }
+    let first: number | null = null;
+    for (const [language, addresses] of groups) {
+      if (addresses.length === 0) continue;
+      const t = translator(language);
+      const id = send({ ...words(t, language), to: addresses }, t);
+      first ??= id;
+    }
+    return first;
+  };
+
+  /** A number with one or two decimals in the reader's way of writing it (German: decimal comma). */
+  const fixed = (language: Language, v: number, digits: number) => (language === "de" ? v.toFixed(digits).replace(".", ",") : v.toFixed(digits));
 
   const activeWithRole = (role: string) =>
     (sqlite.prepare("select email, role from user where coalesce(banned, 0) = 0").all() as Row[])
@@ -42,57 +74,74 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
 
   return {
     criticalDefect(d: Defect) {
-      const to = activeWithRole("quality");
-      return send({
-        kind: "critical_defect",
-        to,
-        subject: `Critical defect on slab ${d.slabId}: ${d.typeCode} ${d.typeName}`,
-        text: [
-          `A defect of severity ${d.severity} (${SEVERITY_LABELS[d.severity as Severity] ?? d.severity}) was logged.`,
-          "",
-          `Slab: ${d.slabId} (heat ${d.heatNo}, grade ${d.gradeCode}, strand ${d.strandNo})`,
-          `Defect: ${d.typeCode} ${d.typeName}, ${FACE_LABELS[d.face as Face] ?? d.face}, ${d.positionAlongMm ?? "–"} mm from the head end`,
-          `Disposition proposed: ${DISPOSITION_LABELS[d.disposition as Disposition] ?? d.disposition}`,
-          `Logged by: ${d.createdByName ?? "unknown"} at ${d.foundAt}`,
-          d.note ? `Note: ${d.note}` : "",
-          "",
-          `Open the slab: ${link(`/slabs/${encodeURIComponent(d.slabId)}`)}`,
-          `Review queue: ${link("/quality/review")}`,
-        ]
-          .filter((l, i, a) => l !== "" || a[i - 1] !== "")
-          .join("\n"),
+      return sendEach(activeWithRole("quality"), (t) => {
+        const term = (list: string, key: unknown) => t(`common:terms.${list}.${String(key)}`, { defaultValue: String(key) });
+        return {
+          kind: "critical_defect",
+          subject: t("server:mail.criticalDefect.subject", { slab: d.slabId, type: d.typeCode, typeName: d.typeName }),
+          text: [
+            t("server:mail.criticalDefect.logged", { severity: d.severity, severityLabel: term("severities", d.severity) }),
+            "",
+            t("server:mail.criticalDefect.slab", { slab: d.slabId, heat: d.heatNo, grade: d.gradeCode, strand: d.strandNo }),
+            t("server:mail.criticalDefect.defect", { type: d.typeCode, typeName: d.typeName, face: term("faces", d.face), along: d.positionAlongMm ?? "–" }),
+            t("server:mail.criticalDefect.disposition", { disposition: term("dispositions", d.disposition) }),
+            t("server:mail.criticalDefect.loggedBy", { by: d.createdByName ?? t("server:mail.criticalDefect.unknownPerson"), at: d.foundAt }),
+            d.note ? t("server:mail.criticalDefect.note", { note: d.note }) : "",
+            "",
+            t("server:mail.criticalDefect.openSlab", { url: link(`/slabs/${encodeURIComponent(d.slabId)}`) }),
+            t("server:mail.criticalDefect.reviewQueue", { url: link("/quality/review") }),
+          ]
+            .filter((l, i, a) => l !== "" || a[i - 1] !== "")
+            .join("\n"),
+        };
       });
     },
 
     actionAssigned(inv: Row, action: Row) {
       const to = emailOf(action.owner_id);
       if (!to) return null;
-      return send({
+      return sendEach([to], (t) => ({
         kind: "action_assigned",
-        to: [to],
-        subject: `Action for you in ${inv.ref}: due ${action.due_on}`,
-        text: `You own an action in the investigation ${inv.ref} “${inv.title}”.\n\nAction: ${action.description}\nDue: ${action.due_on}\n\nOpen the investigation: ${link(`/investigations/${inv.id}`)}`,
-      });
+        subject: t("server:mail.actionAssigned.subject", { ref: inv.ref, due: action.due_on }),
+        text: t("server:mail.actionAssigned.text", {
+          ref: inv.ref,
+          title: inv.title,
+          action: action.description,
+          due: action.due_on,
+          url: link(`/investigations/${inv.id}`),
+        }),
+      }));
     },
 
     actionOverdue(inv: Row, action: Row) {
       const to = emailOf(action.owner_id);
       if (!to) return null;
-      return send({
+      return sendEach([to], (t) => ({
         kind: "action_overdue",
-        to: [to],
-        subject: `Overdue action in ${inv.ref} (was due ${action.due_on})`,
-        text: `Your action in the investigation ${inv.ref} “${inv.title}” was due on ${action.due_on} and is not done.\n\nAction: ${action.description}\n\nUpdate it or agree a new date: ${link(`/investigations/${inv.id}`)}`,
-      });
+        subject: t("server:mail.actionOverdue.subject", { ref: inv.ref, due: action.due_on }),
+        text: t("server:mail.actionOverdue.text", {
+          ref: inv.ref,
+          title: inv.title,
+          action: action.description,
+          due: action.due_on,
+          url: link(`/investigations/${inv.id}`),
+        }),
+      }));
     },
 
     investigationClosed(inv: Row, cause: { code: string; name: string }, recipients: string[]) {
-      return send({
+      return sendEach(recipients, (t) => ({
         kind: "investigation_closed",
-        to: recipients,
-        subject: `Investigation ${inv.ref} closed: ${cause.name}`,
-        text: `The investigation ${inv.ref} “${inv.title}” is closed.\n\nConfirmed cause: ${cause.name} (${cause.code})\n\nClosure: ${inv.closure_note}\n\nThe record: ${link(`/investigations/${inv.id}`)}`,
-      });
+        subject: t("server:mail.investigationClosed.subject", { ref: inv.ref, cause: cause.name }),
+        text: t("server:mail.investigationClosed.text", {
+          ref: inv.ref,
+          title: inv.title,
+          cause: cause.name,
+          code: cause.code,
+          closure: inv.closure_note,
+          url: link(`/investigations/${inv.id}`),
+        }),
+      }));
     },
 
     /**
@@ -119,32 +168,35 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
       },
       validationAucCiLower: number | null,
     ) {
-      const pc = (v: number) => `${(v * 100).toFixed(1)} %`;
-      const f = (v: number | null) => (v === null ? "not defined" : v.toFixed(2));
-      const lines = alert.months.map((m) =>
-        [
-          `${m.month}: ${m.slabs} judged slabs, ${m.affected} with the defect.`,
-          `  Predicted ${pc(m.predicted)} with the defect, observed ${pc(m.observed)}.`,
-          `  AUC ${f(m.auc)}${m.aucCiLower !== null && m.aucCiUpper !== null ? ` (95 % interval ${f(m.aucCiLower)} to ${f(m.aucCiUpper)})` : ""}${validationAucCiLower !== null ? `; at validation its interval began at ${validationAucCiLower.toFixed(2)}` : ""}.`,
-          `  Why: ${m.reason}.`,
-        ].join("\n"),
-      );
-      return send({
-        kind: "risk_drift",
-        to: activeWithRole("quality"),
-        subject: `Risk model drifting: ${alert.target}, version ${alert.version} (${alert.months.map((m) => m.month).join(", ")})`,
-        text: [
-          `The risk model for ${alert.target} (version ${alert.version}) no longer matches what the yard finds on the slabs cast since it was trained.`,
-          "",
-          ...lines,
-          "",
-          "What to do:",
-          "- Train a new version on recent slabs (Risk models, Train a new version), read its validation, and switch it on only if it beats the baseline.",
-          "- Until then read this model's risks with care: its order of the slabs may no longer hold.",
-          "- A risk orders the inspection work; it never clears a slab. Every slab is inspected as the plant's procedure requires.",
-          "",
-          `The model and its months: ${link("/risk-models")}`,
-        ].join("\n"),
+      return sendEach(activeWithRole("quality"), (t, language) => {
+        const pc = (v: number) => `${fixed(language, v * 100, 1)} %`;
+        const f = (v: number | null) => (v === null ? t("server:mail.riskDrift.notDefined") : fixed(language, v, 2));
+        const lines = alert.months.map((m) =>
+          [
+            t("server:mail.riskDrift.month", { month: m.month, slabs: m.slabs, affected: m.affected }),
+            t("server:mail.riskDrift.predicted", { predicted: pc(m.predicted), observed: pc(m.observed) }),
+            `  ${t("server:mail.riskDrift.auc", { auc: f(m.auc) })}${
+              m.aucCiLower !== null && m.aucCiUpper !== null ? t("server:mail.riskDrift.interval", { lower: f(m.aucCiLower), upper: f(m.aucCiUpper) }) : ""
+            }${validationAucCiLower !== null ? t("server:mail.riskDrift.atValidation", { lower: fixed(language, validationAucCiLower, 2) }) : ""}.`,
+            t("server:mail.riskDrift.why", { reason: m.reason }),
+          ].join("\n"),
+        );
+        return {
+          kind: "risk_drift",
+          subject: t("server:mail.riskDrift.subject", { target: alert.target, version: alert.version, months: alert.months.map((m) => m.month).join(", ") }),
+          text: [
+            t("server:mail.riskDrift.intro", { target: alert.target, version: alert.version }),
+            "",
+            ...lines,
+            "",
+            t("server:mail.riskDrift.whatToDo"),
+            t("server:mail.riskDrift.train"),
+            t("server:mail.riskDrift.meanwhile"),
+            t("server:mail.riskDrift.neverClears"),
+            "",
+            t("server:mail.riskDrift.models", { url: link("/risk-models") }),
+          ].join("\n"),
+        };
       });
     },
 
@@ -157,19 +209,17 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
     resetLink(u: { email: string; name: string }, url: string) {
       const email = u.email.toLowerCase();
       if (invitations.delete(email)) {
-        return send({
+        return sendEach([u.email], (t) => ({
           kind: "invitation",
-          to: [u.email],
-          subject: "Your Strandsight account",
-          text: `Hello ${u.name},\n\nan administrator has created a Strandsight account for you (${u.email}).\n\nChoose your password here (the link works for one hour): ${url}\n\nAfter that, sign in at ${link("/sign-in")}. If the link has expired, use “Forgot your password?” on the sign-in page.`,
-        });
+          subject: t("server:mail.invitation.subject"),
+          text: t("server:mail.invitation.text", { name: u.name, email: u.email, url, signIn: link("/sign-in") }),
+        }));
       }
-      return send({
+      return sendEach([u.email], (t) => ({
         kind: "password_reset",
-        to: [u.email],
-        subject: "Reset your Strandsight password",
-        text: `Hello ${u.name},\n\nsomeone (we hope you) asked to reset the password of your Strandsight account.\n\nChoose a new password here (the link works for one hour): ${url}\n\nIf you did not ask for this, ignore this message: your password stays as it is.`,
-      });
+        subject: t("server:mail.passwordReset.subject"),
+        text: t("server:mail.passwordReset.text", { name: u.name, url }),
+      }));
     },
   };
 }

@@ -18,7 +18,7 @@ import express, { Router, type RequestHandler } from "express";
 import { fromNodeHeaders } from "better-auth/node";
 import { CLIENT_IP_HEADER, isOpenAuthPath, type Auth } from "../auth";
 import { OWN_ORIGIN_HEADER, ownOriginOf } from "../lib/origins";
-import { HttpError, notFound } from "../lib/http-error";
+import { HttpError, notFound, said } from "../lib/http-error";
 
 export const AUTH_BODY_LIMIT = 64 * 1024;
 /** No sign-in form nests at all; a little room for what a client library might add. */
@@ -79,8 +79,7 @@ function deeperThan(value: unknown, limit: number): boolean {
   return false;
 }
 
-const tooLarge = () =>
-  new HttpError(413, "too_large", `A sign-in request is never larger than ${AUTH_BODY_LIMIT / 1024} KB; this one was refused without being read.`);
+const tooLarge = () => new HttpError(413, "too_large", said("auth.signInTooLarge", { kb: AUTH_BODY_LIMIT / 1024 }));
 
 export interface AuthDoorOptions {
   auth: Auth;
@@ -99,7 +98,7 @@ export function authDoor({ auth, baseUrl, signInBudget, toEnvelope }: AuthDoorOp
   door.use((req, _res, next) => {
     const raw = req.originalUrl.split("?")[0] ?? "";
     const open = raw.startsWith(`${BASE}/`) && isOpenAuthPath(req.method, raw.slice(BASE.length));
-    next(open ? undefined : notFound("There is no such sign-in route."));
+    next(open ? undefined : notFound(said("auth.noSignInRoute")));
   });
 
   // body-parser's raw reader: checks Content-Length first, then counts while streaming.
@@ -123,7 +122,7 @@ export function authDoor({ auth, baseUrl, signInBudget, toEnvelope }: AuthDoorOp
       return next(); // better-auth answers malformed JSON itself (400)
     }
     if (!deeperThan(parsed, MAX_JSON_DEPTH)) return next();
-    next(new HttpError(400, "validation_failed", "The sign-in service could not read this request: it is nested far deeper than any sign-in form."));
+    next(new HttpError(400, "validation_failed", said("auth.signInTooDeep")));
   });
 
   door.use(async (req, res) => {

@@ -1,6 +1,6 @@
 import type { RequestHandler } from "express";
-import { CAPABILITIES, can, ROLE_LABELS, type Capability } from "@shared/roles";
-import { HttpError } from "../lib/http-error";
+import { CAPABILITIES, can, type Capability } from "@shared/roles";
+import { HttpError, said, sayIn } from "../lib/http-error";
 
 /** Who may call a route: anyone, any signed-in user, or the roles holding a capability. */
 export type Access = "public" | "signed-in" | "ingest.token" | Capability;
@@ -12,8 +12,9 @@ export type Access = "public" | "signed-in" | "ingest.token" | Capability;
  */
 export const OPEN_BEFORE_OWN_PASSWORD: ReadonlySet<string> = new Set(["GET /me", "POST /me/password"]);
 
-export const PASSWORD_CHANGE_REQUIRED =
-  "Choose your own password first: the one you signed in with was set by an administrator. Nothing else opens until you have changed it.";
+const PASSWORD_CHANGE_SAID = said("auth.passwordChangeRequired");
+/** The refusal's English words (the message; the answer is in the person's language). */
+export const PASSWORD_CHANGE_REQUIRED = sayIn(PASSWORD_CHANGE_SAID, "en");
 
 /**
  * The single gate every route passes: 401 when signed out, 403 when a first password must still be
@@ -25,17 +26,17 @@ export function requireRole(access: Access): RequestHandler {
     if (access === "ingest.token") {
       // Which kinds it may send is the feed route's check (assertTokenAllows in tokens.service).
       if (req.apiToken && req.apiToken.scopes.length > 0) return next();
-      return next(new HttpError(401, "unauthenticated", "This feed needs a valid API token (Authorization: Bearer …)."));
+      return next(new HttpError(401, "unauthenticated", said("auth.feedNeedsToken")));
     }
     if (!req.user) {
-      return next(new HttpError(401, "unauthenticated", "Please sign in to continue."));
+      return next(new HttpError(401, "unauthenticated", said("auth.signIn")));
     }
     // req.route is the route being dispatched: its declared path, however the URL was spelled.
     if (req.user.mustChangePassword && !OPEN_BEFORE_OWN_PASSWORD.has(`${req.method} ${req.route?.path ?? "?"}`)) {
-      return next(new HttpError(403, "password_change_required", PASSWORD_CHANGE_REQUIRED, { changeAt: "/change-password" }));
+      return next(new HttpError(403, "password_change_required", PASSWORD_CHANGE_SAID, { changeAt: "/change-password" }));
     }
     if (access === "signed-in" || can(req.user.roles, access)) return next();
-    const who = CAPABILITIES[access].map((r) => ROLE_LABELS[r]).join(", ");
-    next(new HttpError(403, "forbidden", `Your role does not allow this. It is open to: ${who}.`, { capability: access }));
+    const who = { terms: CAPABILITIES[access].map((r) => `common:roles.${r}`) };
+    next(new HttpError(403, "forbidden", said("auth.roleRefused", { who }), { capability: access }));
   };
 }

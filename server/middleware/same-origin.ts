@@ -1,5 +1,5 @@
 import type { RequestHandler } from "express";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import { isTrustedOrigin, ownOriginOf, type OriginPolicy } from "../lib/origins";
 
 const SAFE = new Set(["GET", "HEAD", "OPTIONS"]);
@@ -15,6 +15,6 @@ export function sameOriginWrites(policy: OriginPolicy): RequestHandler {
     if (req.path.startsWith("/auth/")) return next(); // better-auth checks its own
     const origin = req.headers.origin;
     if (origin ? isTrustedOrigin(policy, origin, ownOriginOf(req)) : req.headers["sec-fetch-site"] === "same-origin") return next();
-    next(new HttpError(403, "untrusted_origin", "This request did not come from the Strandsight app and was refused."));
+    next(new HttpError(403, "untrusted_origin", said("auth.untrustedOrigin")));
   };
 }

@@ -14,7 +14,7 @@ import os from "node:os";
 import path from "node:path";
 import type { Request, RequestHandler, Response } from "express";
 import multer from "multer";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 
 export const INCOMING_DIR = path.join(os.tmpdir(), "strandsight-incoming");
 /** Uploads one person may have in flight at once; the next is refused (429) before its body is read. */
@@ -56,13 +56,8 @@ const STORE_ERRORS = new Set(["EACCES", "EPERM", "EROFS", "ENOSPC", "EDQUOT", "E
 export function storeError(err: unknown, store: "photo" | "attachment" | "upload"): unknown {
   const code = (err as NodeJS.ErrnoException | undefined)?.code;
   if (!code || !STORE_ERRORS.has(code)) return err;
-  const what = store === "photo" ? "The photo store" : store === "attachment" ? "The attachment store" : "The server's folder for incoming files";
-  const e = new HttpError(
-    503,
-    "store_unwritable",
-    `${what} cannot be written to${code === "ENOSPC" || code === "EDQUOT" ? " (the disk is full)" : ""}; nothing was stored. Tell the administrator.`,
-    { store },
-  );
+  const full = code === "ENOSPC" || code === "EDQUOT";
+  const e = new HttpError(503, "store_unwritable", said(`uploads.unwritable.${store}${full ? "Full" : ""}`), { store });
   (e as Error & { cause?: unknown }).cause = err;
   return e;
 }
@@ -135,22 +130,22 @@ function readable(err: unknown, opts: DiskUploadOptions): unknown {
   const e = err as { code?: string; field?: string; message?: string; status?: number };
   switch (e.code) {
     case "LIMIT_FILE_SIZE":
-      return new HttpError(413, "too_large", `A file is larger than ${mb(opts.maxBytes)}, the most one file may be. Nothing was stored.`, {
+      return new HttpError(413, "too_large", said("uploads.fileTooLarge", { size: mb(opts.maxBytes) }), {
         field: e.field,
         maxBytes: opts.maxBytes,
       });
     case "LIMIT_FILE_COUNT":
-      return new HttpError(400, "too_many_files", `Send at most ${opts.maxFiles} file${opts.maxFiles === 1 ? "" : "s"} at once.`, {
+      return new HttpError(400, "too_many_files", said("uploads.tooManyFiles", { count: opts.maxFiles }), {
         field: opts.field,
         maxFiles: opts.maxFiles,
       });
     case "LIMIT_UNEXPECTED_FILE":
       return e.field === opts.field
-        ? new HttpError(400, "too_many_files", `Send at most ${opts.maxFiles} file${opts.maxFiles === 1 ? "" : "s"} at once.`, {
+        ? new HttpError(400, "too_many_files", said("uploads.tooManyFiles", { count: opts.maxFiles }), {
             field: opts.field,
             maxFiles: opts.maxFiles,
           })
-        : new HttpError(400, "unexpected_field", `Send the file in the form field “${opts.field}”.`, { field: e.field ?? null });
+        : new HttpError(400, "unexpected_field", said("uploads.unexpectedField", { field: opts.field }), { field: e.field ?? null });
     case "LIMIT_PART_COUNT":
     case "LIMIT_FIELD_COUNT":
     case "LIMIT_FIELD_KEY":
@@ -159,7 +154,7 @@ function readable(err: unknown, opts: DiskUploadOptions): unknown {
     case "LIMIT_FIELD_ARRAY_INDEX":
     case "MISSING_FIELD_NAME":
     case "INVALID_FIELD_NAME":
-      return new HttpError(400, "upload_rejected", "The form has more or longer fields than this upload takes. Send only the files (and their keys).", {
+      return new HttpError(400, "upload_rejected", said("uploads.formFields"), {
         field: e.field ?? null,
       });
   }
@@ -167,7 +162,7 @@ function readable(err: unknown, opts: DiskUploadOptions): unknown {
   if (stored !== err) return stored;
   if (typeof e.status === "number") return err;
   // busboy's own errors (a form that ends early, no boundary) and a client that went away.
-  return new HttpError(400, "upload_unreadable", "The upload could not be read: the form is incomplete or malformed. Send it again.");
+  return new HttpError(400, "upload_unreadable", said("uploads.unreadable"));
 }
 
 /**
@@ -227,17 +222,12 @@ export function uploadsInFlight(userId: string): number {
 export function takeUploadSlot(userId: string, res: Response) {
   // A connection that closed while its session was looked up would never give the slot back.
   if (res.closed || res.destroyed || res.req.socket.destroyed) {
-    throw new HttpError(400, "upload_unreadable", "The connection closed before the upload began. Send it again.");
+    throw new HttpError(400, "upload_unreadable", said("uploads.closedEarly"));
   }
   const n = inFlight.get(userId) ?? 0;
   if (n >= UPLOADS_PER_USER) {
     res.setHeader("Retry-After", "10");
-    throw new HttpError(
-      429,
-      "too_many_uploads",
-      `You already have ${UPLOADS_PER_USER} uploads in progress. Wait until one has finished, then send this one again.`,
-      { maxInFlight: UPLOADS_PER_USER },
-    );
+    throw new HttpError(429, "too_many_uploads", said("uploads.tooManyInFlight", { n: UPLOADS_PER_USER }), { maxInFlight: UPLOADS_PER_USER });
   }
   inFlight.set(userId, n + 1);
   res.once("close", () => {

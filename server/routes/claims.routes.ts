@@ -9,7 +9,6 @@ import {
   claimUpdateSchema,
   heatHistorySchema,
   historyEditionQuerySchema,
-  SECTION_LABELS,
   sendHistorySchema,
   traceQuerySchema,
   traceSchema,
@@ -21,6 +20,8 @@ import { checkHeatOfClaim, claimExists, createClaim, getClaim, linkSlabs, listCl
 import { heatHistory, historyWorkbook, trace, type HistoryOptions } from "../services/history.service";
 import { addAttachments, ATTACHMENT_UPLOAD_REFUSALS, checkAttachmentCaps, ATTACHMENT_MAX_BYTES, ATTACHMENT_MAX_FILES } from "../services/attachments.service";
 import type { Deps } from "./deps";
+import { languageOf, type Language } from "@shared/i18n/languages";
+import { requestLanguage, translator } from "../lib/i18n";
 
 const XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet";
 const idParams = z.object({ id: z.coerce.number().int().positive() });
@@ -41,9 +42,22 @@ const editionOf = (q: z.output<typeof historyEditionQuerySchema>, preparedBy: st
 export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
   const uploadDir = path.resolve(env.UPLOAD_DIR);
   const attachDir = path.join(uploadDir, "attachments");
-  const workbook = (heatNo: string, by: string, opts: HistoryOptions = {}) => {
+  const workbook = (heatNo: string, by: string, opts: HistoryOptions = {}, language: Language | null = null) => {
     const hist = heatHistory(db, heatNo, opts);
-    return historyWorkbook(db, hist, { baseUrl: env.BETTER_AUTH_URL, uploadDir, by }).then((buf) => ({ buf, hist }));
+    return historyWorkbook(db, hist, { baseUrl: env.BETTER_AUTH_URL, uploadDir, by, language }).then((buf) => ({ buf, hist }));
+  };
+  /**
+   * The language a history sent by mail is written in: the one its recipients chose when every
+   * address is a person here with the same language, else English (the customer has no account).
+   */
+  const recipientsLanguage = (to: string[]): Language => {
+    const chosen = new Set(
+      to.map((a) =>
+        languageOf(db.$client.prepare("select language from user where lower(email) = lower(?)").pluck().get(a.trim()) as string | null | undefined),
+      ),
+    );
+    const [only] = [...chosen];
+    return chosen.size === 1 && only ? only : "en";
   };
   return [
     defineRoute({
@@ -84,8 +98,8 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
         200: { description: "The workbook.", contentType: XLSX },
         400: { description: "The claim has no slab of this heat, or an unknown section." },
       },
-      handler: async ({ params, query, res, user }) => {
-        const { buf, hist } = await workbook(params.heatNo, `${user.name} <${user.email}>`, editionOf(query, user.name));
+      handler: async ({ params, query, req, res, user }) => {
+        const { buf, hist } = await workbook(params.heatNo, `${user.name} <${user.email}>`, editionOf(query, user.name), requestLanguage(req));
         const heatNo = hist.heat.heatNo;
         recordAudit(db, {
           userId: user.id,
@@ -200,22 +214,36 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
         const claim = claimExists(db, params.id);
         checkHeatOfClaim(db, params.id, body.heatNo);
         const heatNo = body.heatNo.trim().toUpperCase();
-        const { buf, hist } = await workbook(heatNo, `${user.name} <${user.email}>`, {
-          edition: body.edition,
-          sections: body.sections,
-          claimId: params.id,
-          preparedBy: user.name,
+        const language = recipientsLanguage(body.to);
+        const t = translator(language);
+        const { buf, hist } = await workbook(
+          heatNo,
+          `${user.name} <${user.email}>`,
+          {
+            edition: body.edition,
+            sections: body.sections,
+            claimId: params.id,
+            preparedBy: user.name,
+          },
+          language,
+        );
+        // English lower-cases the section names inside the sentence; German keeps its nouns' capitals.
+        const contents = hist.edition.sections.map((x) => {
+          const word = t(`common:terms.historySections.${x}`);
+          return language === "de" ? word : word.toLowerCase();
         });
-        const contents = hist.edition.sections.map((x) => SECTION_LABELS[x].toLowerCase());
-        const listed = contents.length > 1 ? `${contents.slice(0, -1).join(", ")} and ${contents[contents.length - 1]}` : (contents[0] ?? "the summary");
+        const listed =
+          contents.length > 1
+            ? t("server:mail.heatHistory.list", { items: contents.slice(0, -1).join(", "), last: contents[contents.length - 1] })
+            : (contents[0] ?? t("server:mail.heatHistory.theSummary"));
         const customer = hist.edition.kind === "customer";
         const messageId = db.transaction(() => {
           const id = mailer.enqueue({
             kind: "heat_history",
             to: body.to,
-            subject: `Claim ${claim.claim_no}: history of heat ${heatNo}`,
+            subject: t("server:mail.heatHistory.subject", { claim: claim.claim_no, heat: heatNo }),
             // The customer edition's mail names no address inside the plant.
-            text: `${body.message ? `${body.message}\n\n` : ""}Attached: the history of heat ${heatNo} for claim ${claim.claim_no} of ${claim.customer} — ${listed}.${customer ? "" : "\n\nThis is the internal edition: it is not meant for the customer."}\n\nSent by ${user.name}.${customer ? "" : `\n\n—\nStrandsight · ${env.BETTER_AUTH_URL}`}`,
+            text: `${body.message ? `${body.message}\n\n` : ""}${t("server:mail.heatHistory.attached", { heat: heatNo, claim: claim.claim_no, customer: claim.customer, listed })}${customer ? "" : `\n\n${t("server:mail.heatHistory.internal")}`}\n\n${t("server:mail.heatHistory.sentBy", { name: user.name })}${customer ? "" : `\n\n—\nStrandsight · ${env.BETTER_AUTH_URL}`}`,
             attachments: [{ filename: fileName(heatNo, hist.edition.kind, claim.claim_no), contentType: XLSX, content: buf }],
           })!;
           recordAudit(db, {

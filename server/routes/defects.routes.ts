@@ -19,7 +19,7 @@ import {
   PHOTO_MAX_PER_USER_HOUR,
   photosUploadedSchema,
 } from "@shared/api/defects";
-import { badRequest } from "../lib/http-error";
+import { badRequest, said } from "../lib/http-error";
 import { defineRoute } from "../lib/route";
 import { diskUpload, type IncomingFile } from "../middleware/uploads";
 import { createDefectCategory, createDefectType, getCatalogue, updateDefectCategory, updateDefectType } from "../services/catalogue.service";
@@ -178,7 +178,7 @@ export function defectRoutes({ db, env, events }: Deps) {
         const files = (req.files as IncomingFile[] | undefined) ?? [];
         const keys = typeof req.body?.client_keys === "string" ? req.body.client_keys.split(",").map((k: string) => k.trim() || null) : [];
         if (keys.some((k: string | null) => k !== null && !/^[A-Za-z0-9_-]{8,64}$/.test(k))) {
-          throw badRequest("client_keys must be comma-separated keys of 8–64 letters, digits, - or _.", { field: "client_keys" });
+          throw badRequest(said("defects.clientKeys"), { field: "client_keys" });
         }
         return addPhotos(db, uploadDir, user, params.id, files, keys);
       },

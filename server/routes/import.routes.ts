@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { IMPORT_LIMITS, IMPORT_MAX_BYTES, importKindSchema, importQuerySchema, importResultSchema, importRunSchema } from "@shared/api/imports";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import { defineRoute } from "../lib/route";
 import { diskUpload } from "../middleware/uploads";
 import { buildTemplate, listImportRuns } from "../services/import.service";
@@ -39,7 +39,7 @@ export function importRoutes({ db, imports }: Deps) {
       },
       handler: async ({ req, res, params, query, user }) => {
         const file = req.file;
-        if (!file) throw new HttpError(400, "no_file", "Choose a file to import (form field “file”).");
+        if (!file) throw new HttpError(400, "no_file", said("imports.noFile"));
         const result = await imports.run(db, {
           kind: params.kind,
           dryRun: query.dryRun,
@@ -99,7 +99,7 @@ export function importRoutes({ db, imports }: Deps) {
         // The body arrives unparsed (server/app.ts reads it only after the token was checked) and is
         // parsed in the import thread.
         if (!Buffer.isBuffer(req.body)) {
-          throw new HttpError(415, "unsupported_media_type", "The feed takes JSON: send the rows as a JSON array with Content-Type: application/json.");
+          throw new HttpError(415, "unsupported_media_type", said("imports.jsonOnly"));
         }
         const body = req.body;
         // Checked before the body was read (server/app.ts); again here, on the kind the route validated.

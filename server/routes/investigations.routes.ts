@@ -16,7 +16,7 @@ import {
   subjectsAddSchema,
 } from "@shared/api/investigations";
 import { can } from "@shared/roles";
-import { forbidden } from "../lib/http-error";
+import { forbidden, said } from "../lib/http-error";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { diskUpload, type IncomingFile } from "../middleware/uploads";
 import {
@@ -218,7 +218,7 @@ export function investigationRoutes({ db, env, notify }: Deps): AnyRoute[] {
       handler: async ({ params, res, user }) => {
         const a = attachmentFile(db, params.id, dir);
         const need = a.ownerKind === "claim" ? "claims.read" : "investigations.read";
-        if (!can(user.roles, need)) throw forbidden("Attachments of this record are not open to your role.");
+        if (!can(user.roles, need)) throw forbidden(said("investigations.attachmentsClosed"));
         res.setHeader("Content-Type", a.mime);
         res.setHeader("Content-Disposition", `attachment; filename="${a.name.replace(/[^\x20-\x7e]/g, "_")}"; filename*=UTF-8''${encodeURIComponent(a.name)}`);
         res.setHeader("Cache-Control", "private, max-age=3600");

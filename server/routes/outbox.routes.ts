@@ -1,6 +1,6 @@
 import { z } from "zod";
 import { outboxMessageSchema, outboxPageSchema, outboxQuerySchema, type OutboxMessage } from "@shared/api/mail";
-import { conflict, notFound } from "../lib/http-error";
+import { conflict, notFound, said } from "../lib/http-error";
 import { defineRoute, type AnyRoute } from "../lib/route";
 import { recordAudit } from "../services/audit.service";
 import type { Deps } from "./deps";
@@ -81,9 +81,13 @@ export function outboxRoutes({ db, mailer }: Deps): AnyRoute[] {
       responses: { 200: { description: "Queued again.", schema: outboxMessageSchema }, 409: { description: "Only failed messages are retried by hand." } },
       handler: ({ params, user }) => {
         const r = sqlite.prepare(`${SELECT} where o.id = ?`).get(params.id) as Row | undefined;
-        if (!r) throw notFound("There is no such message.");
+        if (!r) throw notFound(said("outbox.noMessage"));
         if (!mailer.retry(params.id))
-          throw conflict(`This message is ${r.status}; only failed messages are retried by hand (queued ones are retried on their own).`);
+          throw conflict(
+            ["queued", "sending", "sent"].includes(String(r.status))
+              ? said(`outbox.notFailed.${r.status}`)
+              : `This message is ${r.status}; only failed messages are retried by hand (queued ones are retried on their own).`,
+          );
         recordAudit(db, {
           userId: user.id,
           action: "mail.retry",

@@ -23,7 +23,8 @@ import { apiErrorSchema } from "@shared/api/common";
 import { VARIABLES } from "@shared/variables";
 import { causeParetoQuerySchema, causeParetoSchema } from "@shared/api/causes";
 import { causePareto } from "../services/causes.service";
-import { notFound } from "../lib/http-error";
+import { notFound, said } from "../lib/http-error";
+import { requestLanguage } from "../lib/i18n";
 import { recordAudit } from "../services/audit.service";
 import { defineRoute, type AnyRoute, type ResponseSpec } from "../lib/route";
 import { reportWorkbook } from "../services/report-export";
@@ -176,6 +177,7 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
             result,
             `${user.name} <${user.email}>`,
             methods ? Object.entries(methods).map(([a, b]) => `${a}: ${b}`) : [],
+            requestLanguage(req),
           );
           res.setHeader("Content-Type", XLSX);
           res.setHeader("Content-Disposition", `attachment; filename="strandsight-${k.kind}-${new Date().toISOString().slice(0, 10)}.xlsx"`);
@@ -236,7 +238,7 @@ export function reportRoutes({ db }: Deps): AnyRoute[] {
       handler: ({ params, user }) => {
         db.transaction(() => {
           const before = db.$client.prepare("select name, report_kind, query from saved_reports where id = ? and user_id = ?").get(params.id, user.id);
-          if (!before) throw notFound("There is no such saved report of yours.");
+          if (!before) throw notFound(said("reports.noSavedReport"));
           db.$client.prepare("delete from saved_reports where id = ? and user_id = ?").run(params.id, user.id);
           recordAudit(db, { userId: user.id, action: "saved_report.delete", entity: "saved_report", entityId: params.id, before });
         });

@@ -9,7 +9,7 @@ import path from "node:path";
 import { pipeline } from "node:stream/promises";
 import type Database from "better-sqlite3";
 import type { Db } from "../db/client";
-import { badRequest, HttpError, notFound } from "../lib/http-error";
+import { badRequest, HttpError, notFound, said } from "../lib/http-error";
 import { storeError } from "../middleware/uploads";
 import { recordAudit } from "./audit.service";
 
@@ -43,11 +43,10 @@ export const ATTACHMENT_UPLOAD_REFUSALS = {
 export function checkAttachmentCaps(sqlite: Database.Database, ownerKind: "investigation" | "claim", ownerId: number, userId: string, adding = 0) {
   const held = sqlite.prepare("select count(*) from attachments where owner_kind = ? and owner_id = ?").pluck().get(ownerKind, ownerId) as number;
   if (held + Math.max(adding, 1) > ATTACHMENT_MAX_PER_RECORD) {
-    const what = ownerKind === "claim" ? "claim" : "investigation";
     throw new HttpError(
       409,
       "attachment_limit",
-      `This ${what} holds ${held} files; the most is ${ATTACHMENT_MAX_PER_RECORD}. Merge related documents into one PDF.`,
+      said(ownerKind === "claim" ? "attachments.limitClaim" : "attachments.limitInvestigation", { held, max: ATTACHMENT_MAX_PER_RECORD }),
       {
         held,
         max: ATTACHMENT_MAX_PER_RECORD,
@@ -59,16 +58,11 @@ export function checkAttachmentCaps(sqlite: Database.Database, ownerKind: "inves
     .pluck()
     .get(userId, Date.now() - 3_600_000) as number;
   if (lastHour + Math.max(adding, 1) > ATTACHMENT_MAX_PER_USER_HOUR) {
-    throw new HttpError(
-      429,
-      "attachment_rate",
-      `You have attached ${lastHour} files in the last hour; the most is ${ATTACHMENT_MAX_PER_USER_HOUR} an hour. Try again later.`,
-      {
-        lastHour,
-        max: ATTACHMENT_MAX_PER_USER_HOUR,
-        retryAfterSeconds: 600,
-      },
-    );
+    throw new HttpError(429, "attachment_rate", said("attachments.rate", { n: lastHour, max: ATTACHMENT_MAX_PER_USER_HOUR }), {
+      lastHour,
+      max: ATTACHMENT_MAX_PER_USER_HOUR,
+      retryAfterSeconds: 600,
+    });
   }
 }
 /** Names of the kinds recognised by their content (ALLOWED, and the spellings of their extensions). */
@@ -218,12 +212,7 @@ function extensionOf(name: string): string {
 export function checkAttachmentName(name: string) {
   const ext = extensionOf(safeName(name));
   if (ACTIVE_EXTENSIONS.has(ext)) {
-    throw new HttpError(
-      415,
-      "active_content",
-      `${safeName(name)} is refused: a .${ext} file can run programs or scripts when it is opened. Attach PDF, Excel, Word, PowerPoint, PNG, JPEG, WebP, CSV or text files.`,
-      { field: "files", extension: ext },
-    );
+    throw new HttpError(415, "active_content", said("attachments.activeContent", { name: safeName(name), ext }), { field: "files", extension: ext });
   }
 }
 
@@ -272,11 +261,11 @@ export async function addAttachments(
   recheck: (sqlite: Database.Database) => void = () => undefined,
 ) {
   const { fileTypeFromFile } = await import("file-type");
-  if (files.length === 0) throw badRequest("Choose at least one file (form field “files”).", { field: "files" }, "no_file");
+  if (files.length === 0) throw badRequest(said("attachments.noFile"), { field: "files" }, "no_file");
   const checked: { file: IncomingAttachment; mime: string; name: string }[] = [];
   for (const f of files) {
     const shown = safeName(f.originalname);
-    if (f.size === 0) throw badRequest(`${shown} is empty.`, { field: "files" }, "empty_file");
+    if (f.size === 0) throw badRequest(said("attachments.empty", { name: shown }), { field: "files" }, "empty_file");
     checkAttachmentName(f.originalname);
     const t = await fileTypeFromFile(f.path);
     let mime = t ? ALLOWED.get(t.ext) : undefined;
@@ -284,13 +273,13 @@ export async function addAttachments(
     const claimsBinary = CLAIMED_BINARY.test(shown);
     if (!t && !claimsBinary && !(await hasNulByte(f.path))) mime = /\.csv$/i.test(shown) ? "text/csv" : "text/plain";
     if (!t && claimsBinary) {
-      throw new HttpError(415, "unsupported_file", `${shown} is named as a ${extensionOf(shown).toUpperCase()} file but is not one.`);
+      throw new HttpError(415, "unsupported_file", said("attachments.misnamed", { name: shown, ext: extensionOf(shown).toUpperCase() }));
     }
     if (!mime) {
       throw new HttpError(
         415,
         "unsupported_file",
-        `${shown} is ${t ? `a ${t.ext.toUpperCase()} file` : "not a kind of file kept here"}. Attach PDF, Excel, Word, PowerPoint, PNG, JPEG, WebP, CSV or text files.`,
+        t ? said("attachments.unsupportedKind", { name: shown, ext: t.ext.toUpperCase() }) : said("attachments.unsupported", { name: shown }),
       );
     }
     checked.push({ file: f, mime, name: nameForKind(f.originalname, mime) });
@@ -351,9 +340,9 @@ export function safeName(name: string): string {
 
 export function attachmentFile(db: Db, id: string, dir: string) {
   const a = db.$client.prepare("select * from attachments where id = ?").get(id) as Row | undefined;
-  if (!a) throw notFound("There is no such attachment.");
+  if (!a) throw notFound(said("attachments.notFound"));
   const file = path.join(dir, a.stored_file);
-  if (!fs.existsSync(file)) throw notFound("The attachment's file is missing from the store.");
+  if (!fs.existsSync(file)) throw notFound(said("attachments.fileMissing"));
   // Rows stored before names followed the content are offered under a safe name all the same.
   return {
     file,

@@ -1,7 +1,7 @@
 import type { z } from "zod";
 import type { defectCategoryInputSchema, defectCategoryUpdateSchema, defectTypeInputSchema, defectTypeUpdateSchema } from "@shared/api/defects";
 import type { Db } from "../db/client";
-import { badRequest, conflict, notFound } from "../lib/http-error";
+import { badRequest, conflict, notFound, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 
 type Row = Record<string, any>;
@@ -37,14 +37,14 @@ export function getCatalogue(db: Db, userId: string, includeRetired: boolean) {
 
 function categoryId(db: Db, code: string): number {
   const id = db.$client.prepare("select id from defect_categories where upper(code) = upper(?)").pluck().get(code) as number | undefined;
-  if (id === undefined) throw badRequest(`There is no defect category ${code}.`, { field: "categoryCode" });
+  if (id === undefined) throw badRequest(said("catalogue.noCategory", { code }), { field: "categoryCode" });
   return id;
 }
 
 export function createDefectType(db: Db, input: z.output<typeof defectTypeInputSchema>, userId: string) {
   return db.transaction(() => {
     const code = input.code.toUpperCase();
-    if (db.$client.prepare("select 1 from defect_types where upper(code) = ?").get(code)) throw conflict(`The defect type ${code} already exists.`);
+    if (db.$client.prepare("select 1 from defect_types where upper(code) = ?").get(code)) throw conflict(said("catalogue.typeExists", { code }));
     const id = Number(
       db.$client
         .prepare("insert into defect_types (code, name, category_id, description) values (?, ?, ?, ?)")
@@ -58,7 +58,7 @@ export function createDefectType(db: Db, input: z.output<typeof defectTypeInputS
 export function updateDefectType(db: Db, code: string, input: z.output<typeof defectTypeUpdateSchema>, userId: string) {
   return db.transaction(() => {
     const before = db.$client.prepare("select * from defect_types where upper(code) = upper(?)").get(code) as Row | undefined;
-    if (!before) throw notFound(`There is no defect type ${code}.`);
+    if (!before) throw notFound(said("catalogue.noType", { code }));
     const next = {
       name: input.name ?? before.name,
       category_id: input.categoryCode ? categoryId(db, input.categoryCode) : before.category_id,
@@ -78,7 +78,7 @@ export function updateDefectType(db: Db, code: string, input: z.output<typeof de
 export function createDefectCategory(db: Db, input: z.output<typeof defectCategoryInputSchema>, userId: string) {
   return db.transaction(() => {
     const code = input.code.toUpperCase();
-    if (db.$client.prepare("select 1 from defect_categories where upper(code) = ?").get(code)) throw conflict(`The category ${code} already exists.`);
+    if (db.$client.prepare("select 1 from defect_categories where upper(code) = ?").get(code)) throw conflict(said("catalogue.categoryExists", { code }));
     const id = Number(
       db.$client.prepare("insert into defect_categories (code, name, sort_order) values (?, ?, ?)").run(code, input.name, input.sortOrder).lastInsertRowid,
     );
@@ -90,7 +90,7 @@ export function createDefectCategory(db: Db, input: z.output<typeof defectCatego
 export function updateDefectCategory(db: Db, code: string, input: z.output<typeof defectCategoryUpdateSchema>, userId: string) {
   return db.transaction(() => {
     const before = db.$client.prepare("select * from defect_categories where upper(code) = upper(?)").get(code) as Row | undefined;
-    if (!before) throw notFound(`There is no defect category ${code}.`);
+    if (!before) throw notFound(said("catalogue.noCategory", { code }));
     const next = {
       name: input.name ?? before.name,
       sort_order: input.sortOrder ?? before.sort_order,

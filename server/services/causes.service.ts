@@ -20,7 +20,7 @@ import type {
 } from "@shared/api/causes";
 import type { CauseConfidence } from "@shared/domain";
 import type { Db } from "../db/client";
-import { badRequest, conflict, HttpError, notFound } from "../lib/http-error";
+import { badRequest, conflict, HttpError, notFound, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 import { buildScope } from "./reports/scope";
 
@@ -68,19 +68,19 @@ export function listTaxonomy(db: Db, includeRetired: boolean): CauseTaxonomy {
 
 function tagByCode(sqlite: Database.Database, code: string): Row {
   const r = sqlite.prepare("select * from cause_tags where code = ?").get(code.trim().toLowerCase()) as Row | undefined;
-  if (!r) throw notFound(`There is no cause tag “${code}”.`);
+  if (!r) throw notFound(said("causes.noTag", { code }));
   return r;
 }
 
 function getTag(db: Db, code: string): CauseTag {
   const r = tagRows(db.$client, "t.code = ?", code)[0];
-  if (!r) throw notFound(`There is no cause tag “${code}”.`);
+  if (!r) throw notFound(said("causes.noTag", { code }));
   return toTag(r);
 }
 
 function groupId(sqlite: Database.Database, code: string): number {
   const id = sqlite.prepare("select id from cause_groups where code = ?").pluck().get(code) as number | undefined;
-  if (id === undefined) throw badRequest(`There is no cause group ${code}.`, { field: "group" });
+  if (id === undefined) throw badRequest(said("causes.noGroup", { code }), { field: "group" });
   return id;
 }
 
@@ -88,7 +88,7 @@ export function createTag(db: Db, user: Actor, input: z.output<typeof causeTagCr
   const sqlite = db.$client;
   db.transaction(() => {
     if (sqlite.prepare("select 1 from cause_tags where code = ?").get(input.code)) {
-      throw conflict(`A cause tag with the code ${input.code} already exists.`, { field: "code" });
+      throw conflict(said("causes.tagExists", { code: input.code }), { field: "code" });
     }
     const now = Date.now();
     sqlite
@@ -134,7 +134,7 @@ export function updateTag(db: Db, user: Actor, code: string, input: z.output<typ
 export function deleteTag(db: Db, user: Actor, code: string): void {
   const tag = getTag(db, code.trim().toLowerCase());
   if (tag.everUsed) {
-    throw conflict(`The cause tag ${tag.code} has been used, so it cannot be deleted: retire it instead. Its old taggings keep their name.`, {
+    throw conflict(said("causes.tagUsed", { code: tag.code }), {
       everUsed: true,
       uses: tag.uses,
     });
@@ -168,7 +168,7 @@ const toLink = (r: Row): DefectCause => ({
 
 function liveDefect(sqlite: Database.Database, id: number): Row {
   const d = sqlite.prepare("select id, review_status from defects where id = ? and deleted_at is null").get(id) as Row | undefined;
-  if (!d) throw notFound("There is no such defect entry (it may have been deleted).");
+  if (!d) throw notFound(said("defects.noEntry"));
   return d;
 }
 
@@ -205,18 +205,10 @@ function activeTagIds(sqlite: Database.Database, codes: string[]): { id: number;
   const rows = sqlite.prepare(`select id, code, retired_at from cause_tags where code in (${unique.map(() => "?").join(",")})`).all(...unique) as Row[];
   const unknown = unique.filter((c) => !rows.some((r) => r.code === c));
   if (unknown.length)
-    throw badRequest(
-      `Unknown cause tag${unknown.length > 1 ? "s" : ""}: ${unknown.join(", ")}. See GET /api/cause-tags.`,
-      { field: "tags", unknown },
-      "unknown_tag",
-    );
+    throw badRequest(said("causes.unknownTags", { count: unknown.length, tags: unknown.join(", ") }), { field: "tags", unknown }, "unknown_tag");
   const retired = rows.filter((r) => r.retired_at != null).map((r) => r.code);
   if (retired.length)
-    throw badRequest(
-      `Retired cause tag${retired.length > 1 ? "s" : ""}: ${retired.join(", ")}. Choose a current tag.`,
-      { field: "tags", retired },
-      "retired_tag",
-    );
+    throw badRequest(said("causes.retiredTags", { count: retired.length, tags: retired.join(", ") }), { field: "tags", retired }, "retired_tag");
   // In the order given, so the audit and the answer read as the user wrote them.
   return unique.map((c) => rows.find((r) => r.code === c)!).map((r) => ({ id: r.id, code: r.code }));
 }
@@ -277,8 +269,8 @@ export function untagDefect(db: Db, user: Actor, defectId: number, linkId: numbe
   db.transaction(() => {
     liveDefect(sqlite, defectId);
     const link = sqlite.prepare(`${LINK_SELECT} where dc.id = ? and dc.defect_id = ?`).get(linkId, defectId) as Row | undefined;
-    if (!link) throw notFound("This defect has no such cause tagging.");
-    if (link.removed_at != null) throw conflict("This cause tagging was already removed.");
+    if (!link) throw notFound(said("causes.noTagging"));
+    if (link.removed_at != null) throw conflict(said("causes.taggingRemoved"));
     sqlite.prepare("update defect_causes set removed_at = ?, removed_by = ? where id = ?").run(Date.now(), user.id, linkId);
     recordAudit(db, {
       userId: user.id,
@@ -303,13 +295,13 @@ function selectDefects(db: Db, sel: z.output<typeof bulkTagSchema>["selection"],
       .pluck()
       .all(...types.map((t) => t.toUpperCase())) as number[];
     if (ids.length < new Set(types.map((t) => t.toUpperCase())).size)
-      throw badRequest(`Unknown defect type among ${types.join(", ")}.`, { field: "defectType" });
+      throw badRequest(said("causes.unknownTypeAmong", { types: types.join(", ") }), { field: "defectType" });
     typeClause = ` and d.type_id in (${ids.join(",")})`;
   }
   switch (sel.kind) {
     case "heat": {
       const heat = sqlite.prepare("select id from heats where heat_no = ?").pluck().get(sel.heatNo.trim().toUpperCase()) as number | undefined;
-      if (heat === undefined) throw notFound(`There is no heat ${sel.heatNo} on record.`);
+      if (heat === undefined) throw notFound(said("heats.noHeatOnRecord", { heat: sel.heatNo }));
       return sqlite
         .prepare(`select d.id from defects d join slabs s on s.id = d.slab_id where s.heat_id = ? and ${base}${typeClause} order by d.id`)
         .pluck()
@@ -317,7 +309,7 @@ function selectDefects(db: Db, sel: z.output<typeof bulkTagSchema>["selection"],
     }
     case "sequence": {
       const seq = sqlite.prepare("select id from sequences where sequence_no = ?").pluck().get(sel.sequenceNo.trim().toUpperCase()) as number | undefined;
-      if (seq === undefined) throw notFound(`There is no sequence ${sel.sequenceNo} on record.`);
+      if (seq === undefined) throw notFound(said("causes.noSequence", { sequence: sel.sequenceNo }));
       return sqlite
         .prepare(
           `select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.sequence_id = ? and ${base}${typeClause} order by d.id`,
@@ -344,7 +336,7 @@ function selectDefects(db: Db, sel: z.output<typeof bulkTagSchema>["selection"],
         .all() as number[];
       if (found.length < ids.length && !typeClause) {
         const missing = ids.filter((i) => !found.includes(i));
-        throw badRequest(`No live defect entry ${missing.slice(0, 10).join(", ")}${missing.length > 10 ? "…" : ""}: they may have been deleted or rejected.`, {
+        throw badRequest(said("causes.noLiveEntries", { ids: `${missing.slice(0, 10).join(", ")}${missing.length > 10 ? "…" : ""}` }), {
           field: "selection.ids",
           missing,
         });

@@ -7,7 +7,7 @@ import { prepared } from "../db/prepared";
 import type { z } from "zod";
 import type { Claim, ClaimSummary, claimCreateSchema, claimLinkSchema, claimQuerySchema, claimUpdateSchema } from "@shared/api/claims";
 import type { Db } from "../db/client";
-import { badRequest, conflict, notFound } from "../lib/http-error";
+import { badRequest, conflict, notFound, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 
 type Row = Record<string, any>;
@@ -26,7 +26,7 @@ const norm = (ids: string[]) => [...new Set(ids.map((x) => x.trim().toUpperCase(
 
 function loadClaim(sqlite: Database.Database, id: number): Row {
   const c = sqlite.prepare("select * from claims where id = ?").get(id) as Row | undefined;
-  if (!c) throw notFound("There is no such claim.");
+  if (!c) throw notFound(said("claims.noClaim"));
   return c;
 }
 
@@ -82,7 +82,7 @@ export function listClaims(db: Db, q: z.output<typeof claimQuerySchema>): ClaimS
 export function getClaim(db: Db, id: number): Claim {
   const sqlite = db.$client;
   const r = sqlite.prepare(`${SUMMARY} where c.id = ?`).get(id) as Row | undefined;
-  if (!r) throw notFound("There is no such claim.");
+  if (!r) throw notFound(said("claims.noClaim"));
   const slabs = sqlite
     .prepare(
       `select s.id, s.slab_id, h.heat_no, q.sequence_no, g.code as grade, s.disposition, cs.linked_via, cs.linked_at,
@@ -178,8 +178,7 @@ export function createClaim(db: Db, user: Actor, input: z.output<typeof claimCre
   const sqlite = db.$client;
   const id = db.transaction(() => {
     const claimNo = input.claimNo.trim().toUpperCase();
-    if (sqlite.prepare("select 1 from claims where claim_no = ?").get(claimNo))
-      throw conflict(`A claim ${claimNo} is already on record.`, { field: "claimNo" });
+    if (sqlite.prepare("select 1 from claims where claim_no = ?").get(claimNo)) throw conflict(said("claims.exists", { claim: claimNo }), { field: "claimNo" });
     const products = norm(input.productIds);
     const now = Date.now();
     const cid = Number(
@@ -257,11 +256,9 @@ export function linkSlabs(db: Db, user: Actor, id: number, input: z.output<typeo
     if (missing.length || t.unknown.length) {
       throw badRequest(
         [
-          missing.length ? `No slab ${missing.join(", ")} on record.` : "",
-          t.unknown.length ? `The rolling-mill trace does not know ${t.unknown.join(", ")}.` : "",
-        ]
-          .filter(Boolean)
-          .join(" "),
+          ...(missing.length ? [said("claims.noSlabs", { slabs: missing.join(", ") })] : []),
+          ...(t.unknown.length ? [said("claims.untraced", { products: t.unknown.join(", ") })] : []),
+        ],
         { missingSlabs: missing, untracedProducts: t.unknown },
         "unknown_ids",
       );
@@ -286,7 +283,7 @@ export function unlinkSlab(db: Db, user: Actor, id: number, slabCode: string): C
     const r = sqlite
       .prepare("delete from claim_slabs where claim_id = ? and slab_id = (select id from slabs where slab_id = ?)")
       .run(id, slabCode.trim().toUpperCase());
-    if (r.changes === 0) throw notFound(`Slab ${slabCode} is not linked to this claim.`);
+    if (r.changes === 0) throw notFound(said("claims.slabNotLinked", { slab: slabCode }));
     recordAudit(db, { userId: user.id, action: "claim.slabs.unlink", entity: "claim", entityId: id, after: { slabId: slabCode.trim().toUpperCase() } });
   });
   return getClaim(db, id);
@@ -301,5 +298,5 @@ export function checkHeatOfClaim(db: Db, id: number, heatNo: string) {
   const ok = db.$client
     .prepare("select 1 from claim_slabs cs join slabs s on s.id = cs.slab_id join heats h on h.id = s.heat_id where cs.claim_id = ? and h.heat_no = ?")
     .get(id, heatNo.trim().toUpperCase());
-  if (!ok) throw badRequest(`Heat ${heatNo} is not linked to this claim; link its slabs first.`, { field: "heatNo" }, "heat_not_linked");
+  if (!ok) throw badRequest(said("claims.heatNotLinked", { heat: heatNo }), { field: "heatNo" }, "heat_not_linked");
 }

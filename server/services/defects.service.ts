@@ -6,7 +6,7 @@ import { can } from "@shared/roles";
 import type { z } from "zod";
 import type { Db } from "../db/client";
 import { prepared } from "../db/prepared";
-import { HttpError, badRequest, conflict, forbidden, notFound } from "../lib/http-error";
+import { HttpError, badRequest, conflict, forbidden, notFound, said, type Said } from "../lib/http-error";
 import { causesBrief } from "./causes.service";
 import { recordAudit } from "./audit.service";
 import { parseDateBound } from "../lib/dates";
@@ -102,7 +102,7 @@ function causesFor(db: Db, user: Actor, defectIds: number[]): Map<number, Defect
 
 export function getDefect(db: Db, id: number, user: Actor): Defect {
   const r = prepared(db.$client, `${SELECT} where d.id = ? and d.deleted_at is null`).get(id) as Row | undefined;
-  if (!r) throw notFound("There is no such defect entry (it may have been deleted).");
+  if (!r) throw notFound(said("defects.noEntry"));
   return toDefect(r, photosOf(db.$client, [id]).get(id) ?? [], user, causesFor(db, user, [id]).get(id) ?? []);
 }
 
@@ -116,17 +116,28 @@ function checkPosition(
   slab: { slab_id: string; length_mm: number; width_mm: number; thickness_mm: number },
 ) {
   const problems: { path: string; message: string }[] = [];
+  // The same words for the answer's message, in the requester's language (the details stay English).
+  const saids: Said[] = [];
   if (v.position_along_mm != null && v.position_along_mm > slab.length_mm) {
+    saids.push(said("defects.alongBeyond", { along: v.position_along_mm, length: slab.length_mm }));
     problems.push({ path: "position_along_mm", message: `${v.position_along_mm} mm from the head end is beyond the slab's length of ${slab.length_mm} mm.` });
   }
   const limit = acrossLimit(v.face, slab);
   if (v.position_across_mm != null && v.position_across_mm > limit) {
+    const narrow = v.face === "left" || v.face === "right";
+    saids.push(
+      said(narrow ? "defects.acrossBeyondThick" : "defects.acrossBeyondWide", {
+        across: v.position_across_mm,
+        face: { terms: [`server:errors.defects.faces.${v.face}`] },
+        limit,
+      }),
+    );
     problems.push({
       path: "position_across_mm",
       message: `${v.position_across_mm} mm across is beyond the ${FACE_LABELS[v.face].toLowerCase()}, which is ${limit} mm ${v.face === "left" || v.face === "right" ? "thick" : "wide"}.`,
     });
   }
-  if (problems.length) throw new HttpError(400, "outside_slab", problems.map((p) => p.message).join(" "), problems);
+  if (problems.length) throw new HttpError(400, "outside_slab", saids, problems);
 }
 
 type TypeRow = { id: number; active: number; code: string; name: string; category_code: string };
@@ -137,8 +148,8 @@ function typeRow(sqlite: Database.Database, code: string): TypeRow {
     sqlite,
     "select t.id, t.active, t.code, t.name, c.code as category_code from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)",
   ).get(code);
-  if (!t) throw badRequest(`There is no defect type ${code} in the catalogue.`, { field: "type_code" }, "unknown_type");
-  if (!t.active) throw badRequest(`The defect type ${code} is retired; choose another.`, { field: "type_code" }, "retired_type");
+  if (!t) throw badRequest(said("defects.unknownType", { code }), { field: "type_code" }, "unknown_type");
+  if (!t.active) throw badRequest(said("defects.retiredType", { code }), { field: "type_code" }, "retired_type");
   return t;
 }
 
@@ -210,7 +221,7 @@ function storeDefect(db: Db, user: Actor, input: CreateInput): Stored {
     input.client_key,
   );
   if (existing) {
-    if (existing.created_by !== user.id) throw conflict("This entry key was already used by someone else; the entry was not stored.");
+    if (existing.created_by !== user.id) throw conflict(said("defects.keyTaken"));
     return { id: existing.id, created: false };
   }
   const slabCode = input.slab_id.trim().toUpperCase();
@@ -219,14 +230,14 @@ function storeDefect(db: Db, user: Actor, input: CreateInput): Stored {
     `select s.id, s.slab_id, s.length_mm, s.width_mm, s.thickness_mm, h.heat_no, g.code as grade_code, st.strand_no
      from slabs s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id join strands st on st.id = s.strand_id where s.slab_id = ?`,
   ).get(slabCode);
-  if (!slab) throw notFound(`There is no slab ${slabCode} on record. Check the id on the slab's label, or scan it again.`);
+  if (!slab) throw notFound(said("defects.noSlab", { slab: slabCode }));
   checkPosition(input, slab);
   const type = typeRow(sqlite, input.type_code);
   const now = Date.now();
   let foundAt = now;
   if (input.found_at) {
     foundAt = Date.parse(input.found_at);
-    if (foundAt > now + 5 * 60_000) throw badRequest("found_at lies in the future; check the tablet's clock.", { field: "found_at" });
+    if (foundAt > now + 5 * 60_000) throw badRequest(said("defects.futureFoundAt"), { field: "found_at" });
   }
   const stored = {
     face: input.face,
@@ -291,13 +302,9 @@ function loadForChange(sqlite: Database.Database, id: number, user: Actor): Row 
     `select d.*, s.slab_id as slab_code, s.length_mm as slab_length_mm, s.width_mm as slab_width_mm, s.thickness_mm as slab_thickness_mm
      from defects d join slabs s on s.id = d.slab_id where d.id = ? and d.deleted_at is null`,
   ).get(id) as Row | undefined;
-  if (!row) throw notFound("There is no such defect entry (it may have been deleted).");
+  if (!row) throw notFound(said("defects.noEntry"));
   if (!canChange(user, row as never)) {
-    throw forbidden(
-      row.created_by !== user.id
-        ? "This entry was made by someone else; only a quality engineer can change it."
-        : "A quality engineer has reviewed this entry; only a quality engineer can change it now.",
-    );
+    throw forbidden(row.created_by !== user.id ? said("defects.someoneElses") : said("defects.reviewed"));
   }
   return row;
 }
@@ -362,7 +369,7 @@ export function reviewDefect(db: Db, user: Actor, id: number, input: ReviewInput
   const sqlite = db.$client;
   db.transaction(() => {
     const before = prepared(sqlite, "select * from defects where id = ? and deleted_at is null").get(id) as Row | undefined;
-    if (!before) throw notFound("There is no such defect entry (it may have been deleted).");
+    if (!before) throw notFound(said("defects.noEntry"));
     const status = input.decision === "confirm" ? "confirmed" : input.decision === "correct" ? "corrected" : "rejected";
     const typeIdNext = input.type_code ? typeId(sqlite, input.type_code) : before.type_id;
     const severityNext = input.severity ?? before.severity;
@@ -471,19 +478,18 @@ function checkPhotoCaps(sqlite: Database.Database, user: Actor, defectId: number
       409,
       "photo_limit",
       onDefect >= PHOTO_MAX_PER_DEFECT
-        ? `This entry already has ${onDefect} photos, the most one entry keeps. Remove some before adding more.`
-        : `This entry has ${onDefect} photos; ${adding} more would pass the ${PHOTO_MAX_PER_DEFECT} one entry keeps. Send at most ${PHOTO_MAX_PER_DEFECT - onDefect}.`,
+        ? said("defects.photosFull", { n: onDefect })
+        : said("defects.photosWouldPass", { n: onDefect, adding, max: PHOTO_MAX_PER_DEFECT, left: PHOTO_MAX_PER_DEFECT - onDefect }),
       { photos: onDefect, max: PHOTO_MAX_PER_DEFECT },
     );
   }
   const lastHour = photosAddedSince(sqlite, user.id, Date.now() - 60 * 60_000);
   if (lastHour + adding > PHOTO_MAX_PER_USER_HOUR) {
-    throw new HttpError(
-      429,
-      "photo_rate",
-      `You have added ${lastHour} photos in the last hour; the most is ${PHOTO_MAX_PER_USER_HOUR} an hour. The photos wait on the tablet and are sent later by themselves.`,
-      { lastHour, max: PHOTO_MAX_PER_USER_HOUR, retryAfterSeconds: 600 },
-    );
+    throw new HttpError(429, "photo_rate", said("defects.photoRate", { n: lastHour, max: PHOTO_MAX_PER_USER_HOUR }), {
+      lastHour,
+      max: PHOTO_MAX_PER_USER_HOUR,
+      retryAfterSeconds: 600,
+    });
   }
 }
 
@@ -503,14 +509,10 @@ function recheckForPhotos(sqlite: Database.Database, user: Actor, defectId: numb
   const row = sqlite.prepare("select created_by, review_status, deleted_at from defects where id = ?").get(defectId) as
     { created_by: string | null; review_status: string; deleted_at: number | null } | undefined;
   if (!row || row.deleted_at != null) {
-    throw new HttpError(409, "changed_meanwhile", "The entry was deleted while the photos were being sent; they were not stored.");
+    throw new HttpError(409, "changed_meanwhile", said("defects.deletedMeanwhile"));
   }
   if (!canChange(user, row)) {
-    throw new HttpError(
-      409,
-      "changed_meanwhile",
-      "A quality engineer reviewed the entry while the photos were being sent; they were not stored. Only a quality engineer can add photos to it now.",
-    );
+    throw new HttpError(409, "changed_meanwhile", said("defects.reviewedMeanwhile"));
   }
 }
 
@@ -521,13 +523,13 @@ function recheckForPhotos(sqlite: Database.Database, user: Actor, defectId: numb
  */
 export async function addPhotos(db: Db, uploadDir: string, user: Actor, defectId: number, files: UploadedFile[], clientKeys: (string | null)[]) {
   const sqlite = db.$client;
-  if (files.length === 0) throw new HttpError(400, "no_file", "Attach at least one photo (form field “photos”).");
+  if (files.length === 0) throw new HttpError(400, "no_file", said("defects.noPhoto"));
   loadForChange(sqlite, defectId, user);
   const known = new Map<string, string>();
   for (const key of clientKeys) {
     if (!key) continue;
     const row = sqlite.prepare("select id, defect_id from defect_photos where client_key = ?").get(key) as { id: string; defect_id: number } | undefined;
-    if (row && row.defect_id !== defectId) throw conflict("A photo key was already used for another defect.");
+    if (row && row.defect_id !== defectId) throw conflict(said("defects.photoKeyTaken"));
     if (row) known.set(key, row.id);
   }
   const todo: { index: number; key: string | null }[] = files
@@ -594,7 +596,7 @@ export function deletePhoto(db: Db, user: Actor, photoId: string) {
   return db.transaction(() => {
     const p = sqlite.prepare("select id, defect_id from defect_photos where id = ? and deleted_at is null").get(photoId) as
       { id: string; defect_id: number } | undefined;
-    if (!p) throw notFound("There is no such photo.");
+    if (!p) throw notFound(said("defects.noPhotoFound"));
     loadForChange(sqlite, p.defect_id, user);
     sqlite.prepare("update defect_photos set deleted_at = ? where id = ?").run(Date.now(), photoId);
     recordAudit(db, { userId: user.id, action: "defect.photos.delete", entity: "defect", entityId: p.defect_id, before: { photo: photoId } });
@@ -605,7 +607,7 @@ export function deletePhoto(db: Db, user: Actor, photoId: string) {
 export function photoFile(db: Db, photoId: string, kind: "display" | "thumb") {
   const p = db.$client.prepare("select display_file, display_mime, thumb_file, sha256 from defect_photos where id = ? and deleted_at is null").get(photoId) as
     { display_file: string; display_mime: string; thumb_file: string; sha256: string } | undefined;
-  if (!p) throw notFound("There is no such photo.");
+  if (!p) throw notFound(said("defects.noPhotoFound"));
   return kind === "display"
     ? { file: p.display_file, mime: p.display_mime, etag: `"${photoId}-d"` }
     : { file: p.thumb_file, mime: "image/jpeg", etag: `"${photoId}-t"` };

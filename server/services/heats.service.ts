@@ -3,7 +3,7 @@ import type { HeatDetail, HeatList, HeatListQuery, HeatSamples, ResolvedConditio
 import type { Db } from "../db/client";
 import type { EmbrCalibration } from "../db/schema";
 import { parseDateBound } from "../lib/dates";
-import { notFound } from "../lib/http-error";
+import { notFound, said } from "../lib/http-error";
 import { deriveValues } from "./conditions.service";
 import { windowFlagsForSlabs } from "./operating-windows.service";
 import { risksOfSlabs } from "./risk/risk.service";
@@ -136,7 +136,7 @@ export function getHeat(db: Db, heatNo: string): HeatDetail {
        left join sequences q on q.id = h.sequence_id where h.heat_no = ?`,
     )
     .get(heatNo) as Record<string, any> | undefined;
-  if (!h) throw notFound(`There is no heat ${heatNo}.`);
+  if (!h) throw notFound(said("heats.noHeat", { heat: heatNo }));
   const neighbours = h.sequence_id
     ? (c.prepare("select heat_no, sequence_position from heats where sequence_id = ? order by sequence_position, cast_start").all(h.sequence_id) as {
         heat_no: string;
@@ -265,7 +265,7 @@ export function getHeatSamples(db: Db, heatNo: string, maxPoints: number): HeatS
   const c = db.$client;
   const h = c.prepare("select id, caster_id, cast_start, cast_end from heats where heat_no = ?").get(heatNo) as
     { id: number; caster_id: number; cast_start: number; cast_end: number | null } | undefined;
-  if (!h) throw notFound(`There is no heat ${heatNo}.`);
+  if (!h) throw notFound(said("heats.noHeat", { heat: heatNo }));
   const end = h.cast_end ?? h.cast_start + 4 * 3_600_000;
   const strands = c.prepare("select id, strand_no from strands where caster_id = ? order by strand_no").all(h.caster_id) as { id: number; strand_no: number }[];
   const count = c.prepare("select count(*) from process_samples where strand_id = ? and sampled_at between ? and ?").pluck();
@@ -311,7 +311,7 @@ export function getSlab(db: Db, slabId: string, readsCauses: boolean): SlabDetai
        where s.slab_id = ?`,
     )
     .get(slabId.trim().toUpperCase()) as Record<string, any> | undefined;
-  if (!s) throw notFound(`There is no slab ${slabId} on record. Check the id on the slab's label.`);
+  if (!s) throw notFound(said("heats.noSlab", { slab: slabId }));
   const defects = c
     .prepare(
       `select d.id, t.code as typeCode, t.name as typeName, d.face, d.position_along_mm as positionAlongMm,

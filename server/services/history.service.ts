@@ -7,10 +7,11 @@
 import fs from "node:fs";
 import path from "node:path";
 import type ExcelJS from "exceljs";
+import type { TFunction } from "i18next";
+import type { Language } from "@shared/i18n/languages";
 import {
   CUSTOMER_DEFAULT_SECTIONS,
   HISTORY_SECTIONS,
-  SECTION_LABELS,
   type HistorySection,
   type CustomerSection,
   type HeatHistory,
@@ -18,10 +19,10 @@ import {
   type HistoryEdition,
   type Trace,
 } from "@shared/api/claims";
-import { DISPOSITION_LABELS, FACE_LABELS, SEVERITY_LABELS, STAGE_LABELS, type Disposition, type Face, type Severity, type Stage } from "@shared/domain";
 import { VARIABLES } from "@shared/variables";
 import type { Db } from "../db/client";
-import { badRequest, notFound } from "../lib/http-error";
+import { badRequest, notFound, said } from "../lib/http-error";
+import { translator } from "../lib/i18n";
 import {
   addItemSheet,
   addTableSheet,
@@ -120,19 +121,14 @@ type FullHistory = Omit<HeatHistory, "audit"> & { audit: ScopedAudit[] };
 function coverOf(db: Db, hist: FullHistory, claimId: number, preparedBy: string): HistoryCover {
   const sqlite = db.$client;
   const c = sqlite.prepare("select * from claims where id = ?").get(claimId) as Row | undefined;
-  if (!c) throw notFound("There is no such claim (it may have been deleted).");
+  if (!c) throw notFound(said("claims.noClaimDeleted"));
   const slabs = sqlite
     .prepare(
       "select s.slab_id from claim_slabs cs join slabs s on s.id = cs.slab_id join heats h on h.id = s.heat_id where cs.claim_id = ? and h.heat_no = ? order by s.slab_id",
     )
     .pluck()
     .all(claimId, hist.heat.heatNo) as string[];
-  if (!slabs.length)
-    throw badRequest(
-      `Claim ${c.claim_no} has no slab of heat ${hist.heat.heatNo}: link the slab to the claim first, or prepare the history without the claim.`,
-      { field: "claim" },
-      "claim_not_on_heat",
-    );
+  if (!slabs.length) throw badRequest(said("claims.noSlabOfHeat", { claim: c.claim_no, heat: hist.heat.heatNo }), { field: "claim" }, "claim_not_on_heat");
   const ofHeat = new Set(hist.slabs.flatMap((s) => s.products));
   const products = String(c.product_ids ?? "")
     .split(",")
@@ -224,7 +220,7 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
        where h.heat_no = ?`,
     )
     .get(heatNo.trim().toUpperCase()) as Row | undefined;
-  if (!h) throw notFound(`There is no heat ${heatNo} on record.`);
+  if (!h) throw notFound(said("heats.noHeatOnRecord", { heat: heatNo }));
 
   const slabs = sqlite
     .prepare(
@@ -453,9 +449,7 @@ export function trace(db: Db, q: string): Trace {
   if (slab) return { query: q, found: "slab", product: null, slabId: slab.slab_id, history: heatHistory(db, slab.heat_no) };
   const heat = sqlite.prepare("select heat_no from heats where heat_no = ?").pluck().get(id) as string | undefined;
   if (heat) return { query: q, found: "heat", product: null, slabId: null, history: heatHistory(db, heat) };
-  throw notFound(
-    `Nothing on record is called ${id}: no coil or plate (rolling-mill trace), slab or heat. Check the id, or import the rolling mill's coil list.`,
-  );
+  throw notFound(said("claims.nothingCalled", { id }));
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -465,19 +459,19 @@ export function trace(db: Db, q: string): Trace {
 /** Thumbnails embedded per defect; the rest are counted and open from the app. */
 const MAX_THUMBS = 3;
 const date = (s: string | null) => (s ? new Date(s) : null);
-const SOURCE_WORDS: Record<string, string> = { slab: "slab record", samples: "process samples", heat: "heat record", computed: "computed", given: "given" };
-const source = (s: string | null) => (s ? (SOURCE_WORDS[s] ?? s) : null);
+/** A stored source → its word's key ("heat record" is how the heat's own values name theirs). */
+const SOURCE_KEYS: Record<string, string> = { slab: "slab", samples: "samples", heat: "heat", "heat record": "heat", computed: "computed", given: "given" };
 
 /** The history's tables: headers wrap, widths follow the header within bounds, the filter spans every row. */
 const TABLE_LOOK: TableLook = { width: (header) => Math.max(11, Math.min(40, header.length + 2)), filter: "rows", wrapHeader: true };
 
-function table(wb: ExcelJS.Workbook, name: string, columns: Col[], rows: Record<string, unknown>[], title: string) {
+function table(wb: ExcelJS.Workbook, name: string, columns: Col[], rows: Record<string, unknown>[], title: string, t: TFunction) {
   const ws = addTableSheet(wb, name, columns, rows, TABLE_LOOK);
-  printSetup(ws, title);
+  printSetup(ws, title, t);
   return ws;
 }
 
-function printSetup(ws: ExcelJS.Worksheet, title: string) {
+function printSetup(ws: ExcelJS.Worksheet, title: string, t: TFunction) {
   ws.pageSetup = {
     paperSize: 9,
     orientation: "landscape",
@@ -487,127 +481,138 @@ function printSetup(ws: ExcelJS.Worksheet, title: string) {
     printTitlesRow: "1:1",
     margins: { left: 0.5, right: 0.5, top: 0.7, bottom: 0.7, header: 0.3, footer: 0.3 },
   };
-  ws.headerFooter = { oddHeader: `&L${title.replace(/&/g, "&&")}&R&A`, oddFooter: "&LStrandsight&RPage &P of &N" };
+  ws.headerFooter = { oddHeader: `&L${title.replace(/&/g, "&&")}&R&A`, oddFooter: `&LStrandsight&R${t("server:history.pageOf")}` };
 }
 
 export interface WorkbookOptions {
   baseUrl: string;
   uploadDir: string;
   by: string;
+  /** The language of the person asking (English where none). */
+  language?: Language | null;
 }
 
 export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookOptions): Promise<Buffer> {
   const wb = await newWorkbook(new Date(hist.generatedAt));
+  const t = translator(opts.language);
+  /** The workbook's words in the asker's language (server:history.*). */
+  const w = (key: string, values?: Record<string, unknown>) => t(`server:history.${key}`, values ?? {});
+  const term = (list: string, key: unknown) => t(`common:terms.${list}.${String(key)}`, { defaultValue: String(key) });
+  const source = (s: string | null) => (s ? (SOURCE_KEYS[s] ? w(`sources.${SOURCE_KEYS[s]}`) : s) : null);
+  const yes = w("yes");
   const h = hist.heat;
   const ed = hist.edition;
   const customer = ed.kind === "customer";
   const on = (x: HistorySection) => ed.sections.includes(x);
-  const title = ed.cover ? `Heat ${h.heatNo} — history for claim ${ed.cover.claimNo}` : `Heat ${h.heatNo} — history`;
+  const title = ed.cover ? w("titleForClaim", { heat: h.heatNo, claim: ed.cover.claimNo }) : w("title", { heat: h.heatNo });
   const link = (p: string) => new URL(p, opts.baseUrl).toString();
   // The customer edition carries no links into the application (the customer has no account).
   const linked = (text: string, p: string) => (customer ? text : { text, hyperlink: link(p) });
 
-  const sheetOf = (name: string) => addItemSheet(wb, name, { item: { header: "Item", width: 32 }, value: { header: "Value", width: 70 }, wrapValues: true });
+  const sheetOf = (name: string) =>
+    addItemSheet(wb, name, { item: { header: w("headers.item"), width: 32 }, value: { header: w("headers.value"), width: 70 }, wrapValues: true });
 
   // The cover page: what the document is, for which claim, when and by whom.
   if (ed.cover) {
     const c = ed.cover;
-    const { ws, add } = sheetOf("Cover");
-    add("Document", `History of heat ${h.heatNo}, prepared for claim ${c.claimNo}`);
-    add("Edition", customer ? "For the customer" : "Internal (not for the customer)");
-    add("Claim", c.claimNo);
-    add("Customer", c.customer);
-    add("Claim received", c.receivedOn);
-    add("Defect complained of", c.defectComplained);
-    if (c.quantityT !== null) add("Quantity claimed (t)", c.quantityT, D1);
-    add("Coils and plates of this heat", c.products.join(", ") || "—");
-    if (c.otherProducts.length) add("Other coils and plates of the claim", `${c.otherProducts.join(", ")} (not from this heat)`);
-    add("Slabs of this heat in the claim", c.slabs.join(", "));
-    add("Heat cast", `${h.castStart.slice(0, 16).replace("T", " ")}${h.castEnd ? ` to ${h.castEnd.slice(0, 16).replace("T", " ")}` : ""} UTC`);
-    add("Contents", ed.sections.map((x) => SECTION_LABELS[x]).join(", "));
-    add("Prepared", date(hist.generatedAt), DT);
-    add("Prepared by", c.preparedBy || "—");
-    printSetup(ws, title);
+    const { ws, add } = sheetOf(w("sheets.cover"));
+    const minute = (iso: string) => iso.slice(0, 16).replace("T", " ");
+    add(w("cover.document"), w("cover.documentValue", { heat: h.heatNo, claim: c.claimNo }));
+    add(w("cover.edition"), customer ? w("cover.forCustomer") : w("cover.internal"));
+    add(w("cover.claim"), c.claimNo);
+    add(w("cover.customer"), c.customer);
+    add(w("cover.received"), c.receivedOn);
+    add(w("cover.defectComplained"), c.defectComplained);
+    if (c.quantityT !== null) add(w("cover.quantity"), c.quantityT, D1);
+    add(w("cover.products"), c.products.join(", ") || "—");
+    if (c.otherProducts.length) add(w("cover.otherProducts"), w("cover.notFromThisHeat", { products: c.otherProducts.join(", ") }));
+    add(w("cover.slabs"), c.slabs.join(", "));
+    add(
+      w("cover.heatCast"),
+      h.castEnd ? w("cover.castFromTo", { from: minute(h.castStart), to: minute(h.castEnd) }) : w("cover.castFrom", { from: minute(h.castStart) }),
+    );
+    add(w("cover.contents"), ed.sections.map((x) => term("historySections", x)).join(", "));
+    add(w("cover.prepared"), date(hist.generatedAt), DT);
+    add(w("cover.preparedBy"), c.preparedBy || "—");
+    printSetup(ws, title, t);
   }
 
   // Summary
-  const { ws: sum, add } = sheetOf("Summary");
+  const { ws: sum, add } = sheetOf(w("sheets.summary"));
   const worst = hist.slabs.map((s) => s.disposition).filter(Boolean) as string[];
-  add("Heat", h.heatNo);
-  add("Sequence", h.sequenceNo ? `${h.sequenceNo} (heat ${h.sequencePosition ?? "?"} of the sequence)` : "—");
-  add("Caster", h.caster);
-  add("Grade", `${h.grade} ${h.gradeName} (family ${h.family})`);
-  add("Cast start", date(h.castStart), DT);
-  add("Cast end", date(h.castEnd), DT);
-  add("Ladle weight (t)", h.ladleWeightT, D1);
-  if (on("slabs")) add("Slabs", hist.slabs.length, N0);
+  add(w("summary.heat"), h.heatNo);
+  add(w("summary.sequence"), h.sequenceNo ? w("summary.sequenceValue", { sequence: h.sequenceNo, position: h.sequencePosition ?? "?" }) : "—");
+  add(w("summary.caster"), h.caster);
+  add(w("summary.grade"), w("summary.gradeValue", { grade: h.grade, name: h.gradeName, family: h.family }));
+  add(w("summary.castStart"), date(h.castStart), DT);
+  add(w("summary.castEnd"), date(h.castEnd), DT);
+  add(w("summary.ladleWeight"), h.ladleWeightT, D1);
+  if (on("slabs")) add(w("summary.slabs"), hist.slabs.length, N0);
   if (on("slabs") && on("dispositions")) {
     add(
-      "Slab dispositions",
+      w("summary.dispositions"),
       worst.length
         ? Object.entries(worst.reduce<Record<string, number>>((m, d) => ((m[d] = (m[d] ?? 0) + 1), m), {}))
-            .map(([d, c]) => `${DISPOSITION_LABELS[d as Disposition] ?? d}: ${c}`)
+            .map(([d, c]) => `${term("dispositions", d)}: ${c}`)
             .join(", ")
-        : "none recorded",
+        : w("summary.noneRecorded"),
     );
   }
-  if (on("defects")) add(customer ? "Defects" : "Defects (live)", hist.defects.length, N0);
+  if (on("defects")) add(customer ? w("summary.defects") : w("summary.defectsLive"), hist.defects.length, N0);
   if (on("slabs") && !customer)
     add(
-      "Coils and plates traced",
+      w("summary.productsTraced"),
       hist.slabs.reduce((n, s) => n + s.products.length, 0),
       N0,
     );
-  if (on("investigations")) add(customer ? "Investigations (this heat)" : "Investigations (this heat or sequence)", hist.investigations.length, N0);
-  if (on("claims")) add("Claims (this heat or sequence)", hist.claims.length, N0);
-  if (on("samples") && hist.samples) add("Process samples in the cast window", hist.samples.count, N0);
-  if (!customer) add("Open in Strandsight", linked(link(`/heats/${encodeURIComponent(h.heatNo)}`), `/heats/${encodeURIComponent(h.heatNo)}`));
-  add(customer ? "Prepared" : "Generated", date(hist.generatedAt), DT);
-  if (!customer) add("Generated by", opts.by);
-  add("Times", "UTC");
-  add(
-    "Caution",
-    "This record states what was cast, found and decided. Dispositions and claims follow the plant's quality procedures and the customer's specification.",
-  );
-  printSetup(sum, title);
+  if (on("investigations")) add(customer ? w("summary.investigationsHeat") : w("summary.investigationsHeatOrSequence"), hist.investigations.length, N0);
+  if (on("claims")) add(w("summary.claims"), hist.claims.length, N0);
+  if (on("samples") && hist.samples) add(w("summary.samples"), hist.samples.count, N0);
+  if (!customer) add(w("summary.open"), linked(link(`/heats/${encodeURIComponent(h.heatNo)}`), `/heats/${encodeURIComponent(h.heatNo)}`));
+  add(customer ? w("summary.prepared") : w("summary.generated"), date(hist.generatedAt), DT);
+  if (!customer) add(w("summary.generatedBy"), opts.by);
+  add(w("summary.times"), "UTC");
+  add(w("summary.caution"), w("summary.cautionText"));
+  printSetup(sum, title, t);
 
   if (on("chemistry")) {
     table(
       wb,
-      "Chemistry",
+      w("sheets.chemistry"),
       [
-        { header: "Element", key: "element", width: 22 },
-        { header: "Content", key: "value", numFmt: D4 },
-        { header: "Unit", key: "unit" },
+        { header: w("headers.element"), key: "element", width: 22 },
+        { header: w("headers.content"), key: "value", numFmt: D4 },
+        { header: w("headers.unit"), key: "unit" },
       ],
-      h.chemistry.filter((c) => c.value != null),
+      h.chemistry.filter((c) => c.value != null).map((c) => ({ ...c, element: w(`elements.${c.key}`) })),
       title,
+      t,
     );
   }
 
   // Casting conditions: the heat's own values, then each slab's resolved values with their sources.
   if (on("conditions")) {
     const condCols: Col[] = [
-      { header: "Level", key: "level" },
-      { header: "Slab", key: "slab", width: 16 },
+      { header: w("headers.level"), key: "level" },
+      { header: w("headers.slab"), key: "slab", width: 16 },
       ...SLAB_CONDITIONS.flatMap((c) => [
-        { header: `${c.label} (${c.unit})`, key: c.key, numFmt: c.key === "casting_speed_m_min" ? D3 : D1 },
-        { header: `${c.label}: source`, key: `${c.key}__src`, width: 16 },
+        { header: w("conditionHeader", { label: w(`conditions.${c.key}`), unit: c.unit }), key: c.key, numFmt: c.key === "casting_speed_m_min" ? D3 : D1 },
+        { header: w("conditionSource", { label: w(`conditions.${c.key}`) }), key: `${c.key}__src`, width: 16 },
       ]),
     ];
-    const heatRow: Record<string, unknown> = { level: "heat", slab: "(whole heat)" };
+    const heatRow: Record<string, unknown> = { level: w("levels.heat"), slab: w("levels.wholeHeat") };
     for (const c of h.conditions) {
       heatRow[c.key] = c.value;
       heatRow[`${c.key}__src`] = source(c.source);
     }
     table(
       wb,
-      "Casting conditions",
+      w("sheets.conditions"),
       condCols,
       [
         heatRow,
         ...(on("slabs") ? hist.slabs : []).map((s) => {
-          const r: Record<string, unknown> = { level: "slab", slab: s.slabId };
+          const r: Record<string, unknown> = { level: w("levels.slab"), slab: s.slabId };
           for (const c of s.conditions) {
             r[c.key] = c.value;
             r[`${c.key}__src`] = source(c.source);
@@ -616,6 +621,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
         }),
       ],
       title,
+      t,
     );
   }
 
@@ -631,49 +637,51 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
       .all(heatRow2.id, heatRow2.cast_start, heatRow2.cast_end ?? heatRow2.cast_start + 4 * 3600_000) as Row[];
     table(
       wb,
-      "Process samples",
+      w("sheets.samples"),
       [
-        { header: "Strand", key: "strand_no" },
-        { header: "Time (UTC)", key: "time", numFmt: DT, width: 18 },
-        { header: "Cast length (m)", key: "cast_length_m", numFmt: D2 },
-        { header: "Casting speed (m/min)", key: "casting_speed_m_min", numFmt: D3 },
-        { header: "Tundish temperature (°C)", key: "tundish_temp_c", numFmt: D1 },
-        { header: "EMBr current (A)", key: "embr_current_a", numFmt: D1 },
-        { header: "SEN depth (mm)", key: "sen_depth_mm", numFmt: D1 },
-        { header: "Argon (NL/min)", key: "argon_nl_min", numFmt: D2 },
-        { header: "Mold level (mm)", key: "mold_level_mm", numFmt: D2 },
+        { header: w("headers.strand"), key: "strand_no" },
+        { header: w("headers.timeUtc"), key: "time", numFmt: DT, width: 18 },
+        { header: w("headers.castLength"), key: "cast_length_m", numFmt: D2 },
+        { header: w("headers.castingSpeed"), key: "casting_speed_m_min", numFmt: D3 },
+        { header: w("headers.tundishTemp"), key: "tundish_temp_c", numFmt: D1 },
+        { header: w("headers.embrCurrent"), key: "embr_current_a", numFmt: D1 },
+        { header: w("headers.senDepth"), key: "sen_depth_mm", numFmt: D1 },
+        { header: w("headers.argon"), key: "argon_nl_min", numFmt: D2 },
+        { header: w("headers.moldLevel"), key: "mold_level_mm", numFmt: D2 },
       ],
       samples.map((s) => ({ ...s, time: new Date(s.sampled_at) })),
       title,
+      t,
     );
   }
 
   if (on("slabs")) {
     table(
       wb,
-      "Slabs",
+      w("sheets.slabs"),
       [
-        { header: "Slab", key: "slabId", width: 16 },
-        { header: "Strand", key: "strand" },
-        { header: "Piece", key: "pieceNo" },
-        { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
-        { header: "Width (mm)", key: "widthMm", numFmt: N0 },
-        { header: "Thickness (mm)", key: "thicknessMm", numFmt: N0 },
-        { header: "Weight (t)", key: "weightT", numFmt: D2 },
-        { header: "Cast at (UTC)", key: "castAt", numFmt: DT, width: 18 },
-        { header: "Transition slab", key: "transition" },
-        ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 14 }] : []),
-        { header: "Defects", key: "defects", numFmt: N0 },
-        { header: customer ? "Coils / plates of the claim" : "Coils / plates", key: "products", width: 24 },
+        { header: w("headers.slab"), key: "slabId", width: 16 },
+        { header: w("headers.strand"), key: "strand" },
+        { header: w("headers.piece"), key: "pieceNo" },
+        { header: w("headers.lengthMm"), key: "lengthMm", numFmt: N0 },
+        { header: w("headers.widthMm"), key: "widthMm", numFmt: N0 },
+        { header: w("headers.thicknessMm"), key: "thicknessMm", numFmt: N0 },
+        { header: w("headers.weightT"), key: "weightT", numFmt: D2 },
+        { header: w("headers.castAt"), key: "castAt", numFmt: DT, width: 18 },
+        { header: w("headers.transition"), key: "transition" },
+        ...(on("dispositions") ? [{ header: w("headers.disposition"), key: "disposition", width: 14 }] : []),
+        { header: w("headers.defects"), key: "defects", numFmt: N0 },
+        { header: customer ? w("headers.productsOfClaim") : w("headers.products"), key: "products", width: 24 },
       ],
       hist.slabs.map((s) => ({
         ...s,
         castAt: date(s.castAt),
-        transition: s.transition ? "yes" : "no",
-        disposition: s.disposition ? (DISPOSITION_LABELS[s.disposition as Disposition] ?? s.disposition) : null,
+        transition: s.transition ? yes : w("no"),
+        disposition: s.disposition ? term("dispositions", s.disposition) : null,
         products: s.products.join(", "),
       })),
       title,
+      t,
     );
   }
 
@@ -681,47 +689,48 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   if (on("defects")) {
     const photoSlots = on("photos") ? Math.min(MAX_THUMBS, Math.max(0, ...hist.defects.map((d) => d.photos.length))) : 0;
     const defCols: Col[] = [
-      customer ? { header: "No.", key: "id" } : { header: "Defect id", key: "id" },
-      { header: "Slab", key: "slab", width: 18 },
-      { header: "Type", key: "type" },
-      { header: "Type name", key: "typeName", width: 26 },
-      { header: "Face", key: "face", width: 14 },
-      { header: "From head end (mm)", key: "positionAlongMm", numFmt: N0 },
-      { header: "Across (mm)", key: "positionAcrossMm", numFmt: N0 },
-      { header: "Length (mm)", key: "lengthMm", numFmt: N0 },
-      { header: "Width (mm)", key: "widthMm", numFmt: N0 },
-      { header: "Depth (mm)", key: "depthMm", numFmt: D1 },
-      { header: "Severity", key: "severity", width: 14 },
-      { header: "Found at", key: "stage", width: 14 },
-      ...(on("dispositions") ? [{ header: "Disposition", key: "disposition", width: 12 }] : []),
-      ...(customer ? [] : [{ header: "Review", key: "reviewStatus" }]),
-      { header: "Found (UTC)", key: "foundAt", numFmt: DT, width: 18 },
+      customer ? { header: w("headers.no"), key: "id" } : { header: w("headers.defectId"), key: "id" },
+      { header: w("headers.slab"), key: "slab", width: 18 },
+      { header: w("headers.type"), key: "type" },
+      { header: w("headers.typeName"), key: "typeName", width: 26 },
+      { header: w("headers.face"), key: "face", width: 14 },
+      { header: w("headers.fromHead"), key: "positionAlongMm", numFmt: N0 },
+      { header: w("headers.across"), key: "positionAcrossMm", numFmt: N0 },
+      { header: w("headers.lengthMm"), key: "lengthMm", numFmt: N0 },
+      { header: w("headers.widthMm"), key: "widthMm", numFmt: N0 },
+      { header: w("headers.depthMm"), key: "depthMm", numFmt: D1 },
+      { header: w("headers.severity"), key: "severity", width: 14 },
+      { header: w("headers.foundAt"), key: "stage", width: 14 },
+      ...(on("dispositions") ? [{ header: w("headers.disposition"), key: "disposition", width: 12 }] : []),
+      ...(customer ? [] : [{ header: w("headers.review"), key: "reviewStatus" }]),
+      { header: w("headers.foundUtc"), key: "foundAt", numFmt: DT, width: 18 },
       ...(customer
         ? []
         : [
-            { header: "Logged by", key: "loggedBy", width: 24 },
-            { header: "Note", key: "note", width: 36 },
+            { header: w("headers.loggedBy"), key: "loggedBy", width: 24 },
+            { header: w("headers.note"), key: "note", width: 36 },
           ]),
-      ...(on("causes") ? [{ header: customer ? "Causes" : "Causes (live)", key: "causes", width: 26 }] : []),
-      ...(on("photos") ? [{ header: "Photos", key: "photoCount" }] : []),
-      ...Array.from({ length: photoSlots }, (_, k) => ({ header: `Photo ${k + 1}`, key: `photo${k}`, width: 16 })),
+      ...(on("causes") ? [{ header: customer ? w("headers.causes") : w("headers.causesLive"), key: "causes", width: 26 }] : []),
+      ...(on("photos") ? [{ header: w("headers.photos"), key: "photoCount" }] : []),
+      ...Array.from({ length: photoSlots }, (_, k) => ({ header: w("headers.photoN", { n: k + 1 }), key: `photo${k}`, width: 16 })),
     ];
     const defWs = table(
       wb,
-      "Defects",
+      w("sheets.defects"),
       defCols,
       hist.defects.map((d) => ({
         ...d,
         slab: linked(d.slabId, `/slabs/${encodeURIComponent(d.slabId)}`),
-        face: FACE_LABELS[d.face as Face] ?? d.face,
-        severity: `${d.severity} ${SEVERITY_LABELS[d.severity as Severity] ?? ""}`.trim(),
-        stage: STAGE_LABELS[d.stage as Stage] ?? d.stage,
-        disposition: d.disposition ? (DISPOSITION_LABELS[d.disposition as Disposition] ?? d.disposition) : null,
+        face: term("faces", d.face),
+        severity: `${d.severity} ${t(`common:terms.severities.${d.severity}`, { defaultValue: "" })}`.trim(),
+        stage: term("stages", d.stage),
+        disposition: d.disposition ? term("dispositions", d.disposition) : null,
         foundAt: date(d.foundAt),
         causes: d.causes.join(", "),
         photoCount: d.photos.length,
       })),
       title,
+      t,
     );
     const firstPhotoCol = defCols.findIndex((c) => c.key === "photo0");
     const thumbOf = sqlite.prepare("select thumb_file from defect_photos where id = ?").pluck();
@@ -734,7 +743,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
         const row = defWs.getRow(i + 2);
         row.height = 62;
         defWs.addImage(img, { tl: { col: firstPhotoCol + k, row: i + 1 }, ext: { width: 100, height: 75 }, editAs: "oneCell" } as never);
-        row.getCell(firstPhotoCol + k + 1).value = customer ? `photo ${k + 1}` : { text: "open photo", hyperlink: link(p.url) };
+        row.getCell(firstPhotoCol + k + 1).value = customer ? w("photoN", { n: k + 1 }) : { text: w("openPhoto"), hyperlink: link(p.url) };
       });
     });
   }
@@ -742,81 +751,85 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
   if (on("causes")) {
     table(
       wb,
-      "Causes",
+      w("sheets.causes"),
       [
-        { header: customer ? "Defect No." : "Defect id", key: "defectId" },
-        { header: "Slab", key: "slabId", width: 16 },
-        ...(customer ? [] : [{ header: "Cause tag", key: "tag", width: 24 }]),
-        { header: "Cause", key: "tagName", width: 28 },
-        { header: "Confidence", key: "confidence" },
+        { header: customer ? w("headers.defectNo") : w("headers.defectId"), key: "defectId" },
+        { header: w("headers.slab"), key: "slabId", width: 16 },
+        ...(customer ? [] : [{ header: w("headers.causeTag"), key: "tag", width: 24 }]),
+        { header: w("headers.cause"), key: "tagName", width: 28 },
+        { header: w("headers.confidence"), key: "confidence" },
         ...(customer
-          ? [{ header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 }]
+          ? [{ header: w("headers.taggedUtc"), key: "at", numFmt: DT, width: 18 }]
           : [
-              { header: "Note", key: "note", width: 36 },
-              { header: "Tagged by", key: "by", width: 24 },
-              { header: "Tagged (UTC)", key: "at", numFmt: DT, width: 18 },
-              { header: "Removed (UTC)", key: "removedAt", numFmt: DT, width: 18 },
-              { header: "Removed by", key: "removedBy", width: 24 },
+              { header: w("headers.note"), key: "note", width: 36 },
+              { header: w("headers.taggedBy"), key: "by", width: 24 },
+              { header: w("headers.taggedUtc"), key: "at", numFmt: DT, width: 18 },
+              { header: w("headers.removedUtc"), key: "removedAt", numFmt: DT, width: 18 },
+              { header: w("headers.removedBy"), key: "removedBy", width: 24 },
             ]),
       ],
       hist.causes.map((c) => ({ ...c, at: date(c.at), removedAt: date(c.removedAt) })),
       title,
+      t,
     );
   }
 
   if (on("investigations")) {
     table(
       wb,
-      "Investigations",
+      w("sheets.investigations"),
       [
-        { header: "Reference", key: "ref", width: 14 },
-        { header: "Title", key: "title", width: 40 },
-        { header: "Status", key: "status" },
-        { header: "Opened (UTC)", key: "openedAt", numFmt: DT, width: 18 },
-        { header: "Closed (UTC)", key: "closedAt", numFmt: DT, width: 18 },
-        { header: "Confirmed cause", key: "confirmedCause", width: 26 },
+        { header: w("headers.reference"), key: "ref", width: 14 },
+        { header: w("headers.title"), key: "title", width: 40 },
+        { header: w("headers.status"), key: "status" },
+        { header: w("headers.openedUtc"), key: "openedAt", numFmt: DT, width: 18 },
+        { header: w("headers.closedUtc"), key: "closedAt", numFmt: DT, width: 18 },
+        { header: w("headers.confirmedCause"), key: "confirmedCause", width: 26 },
         ...(customer
           ? []
           : [
-              { header: "Owner", key: "owner", width: 24 },
-              { header: "On this heat", key: "sameHeat" },
+              { header: w("headers.owner"), key: "owner", width: 24 },
+              { header: w("headers.onThisHeat"), key: "sameHeat" },
             ]),
       ],
-      hist.investigations.map((i) => ({ ...i, openedAt: date(i.openedAt), closedAt: date(i.closedAt), sameHeat: i.sameHeat ? "yes" : "no (same sequence)" })),
+      hist.investigations.map((i) => ({ ...i, openedAt: date(i.openedAt), closedAt: date(i.closedAt), sameHeat: i.sameHeat ? yes : w("noSameSequence") })),
       title,
+      t,
     );
   }
 
   if (on("claims")) {
     table(
       wb,
-      "Claims",
+      w("sheets.claims"),
       [
-        { header: "Claim", key: "claimNo", width: 14 },
-        { header: "Customer", key: "customer", width: 28 },
-        { header: "Received", key: "receivedOn", width: 12 },
-        { header: "Defect complained of", key: "defectComplained", width: 36 },
-        { header: "Quantity (t)", key: "quantityT", numFmt: D1 },
-        { header: "Status", key: "status" },
-        { header: "On this heat", key: "sameHeat" },
-        { header: "Slabs of this heat", key: "slabs", width: 30 },
+        { header: w("headers.claim"), key: "claimNo", width: 14 },
+        { header: w("headers.customer"), key: "customer", width: 28 },
+        { header: w("headers.received"), key: "receivedOn", width: 12 },
+        { header: w("headers.defectComplained"), key: "defectComplained", width: 36 },
+        { header: w("headers.quantityT"), key: "quantityT", numFmt: D1 },
+        { header: w("headers.status"), key: "status" },
+        { header: w("headers.onThisHeat"), key: "sameHeat" },
+        { header: w("headers.slabsOfHeat"), key: "slabs", width: 30 },
       ],
-      hist.claims.map((c) => ({ ...c, sameHeat: c.sameHeat ? "yes" : "no (same sequence)", slabs: c.slabs.join(", ") })),
+      hist.claims.map((c) => ({ ...c, sameHeat: c.sameHeat ? yes : w("noSameSequence"), slabs: c.slabs.join(", ") })),
       title,
+      t,
     );
   }
 
   if (on("audit")) {
     table(
       wb,
-      customer ? "Record of changes" : "Audit trail",
+      customer ? w("sheets.recordOfChanges") : w("sheets.auditTrail"),
       [
-        { header: "When (UTC)", key: "at", numFmt: DT, width: 18 },
-        ...(customer ? [] : [{ header: "Who", key: "by", width: 24 }]),
-        { header: "What", key: "what", width: 90 },
+        { header: w("headers.whenUtc"), key: "at", numFmt: DT, width: 18 },
+        ...(customer ? [] : [{ header: w("headers.who"), key: "by", width: 24 }]),
+        { header: w("headers.what"), key: "what", width: 90 },
       ],
       hist.audit.map((a) => ({ ...a, at: date(a.at) })),
       title,
+      t,
     );
   }
 

@@ -20,7 +20,7 @@ import {
 } from "../import/plan";
 import type { Table } from "../import/read-table";
 import type { SheetEvent } from "../import/sheet-reader";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 import { createResolver, type Resolver } from "./conditions.service";
 import { getPlantSettings } from "./settings.service";
@@ -160,12 +160,7 @@ function inTransaction(db: Db, dryRun: boolean, work: () => ImportResult): Impor
 
 function refuseIfInvalid(result: ImportResult): ImportResult {
   if (!result.dryRun && !result.valid) {
-    throw new HttpError(
-      422,
-      "import_rejected",
-      `${result.errorCount} problem${result.errorCount === 1 ? "" : "s"} found; nothing was imported. Correct the file and import it again.`,
-      result,
-    );
+    throw new HttpError(422, "import_rejected", said("imports.rejected", { count: result.errorCount }), result);
   }
   return result;
 }
@@ -337,7 +332,7 @@ export async function runImportStreamed(db: Db, req: StreamedImportRequest, timi
       if (ahead) ahead.busy += busy;
     }
     // The reader sends the header first and refuses a sheet without one.
-    if (!checker) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
+    if (!checker) throw new HttpError(400, "empty_file", said("imports.noHeaderSheet"));
     const errors = new ErrorList();
     checker.headerErrorsInto(errors);
     errors.append(rowErrors);

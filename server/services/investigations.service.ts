@@ -20,7 +20,7 @@ import type {
 } from "@shared/api/investigations";
 import { can, parseRoles } from "@shared/roles";
 import type { Db } from "../db/client";
-import { badRequest, conflict, notFound } from "../lib/http-error";
+import { badRequest, conflict, notFound, said } from "../lib/http-error";
 import type { Notifications } from "../mail/notifications";
 import { recordAudit } from "./audit.service";
 import { causesBrief } from "./causes.service";
@@ -49,20 +49,19 @@ export function people(db: Db) {
 
 function checkPerson(sqlite: Database.Database, id: string, field: string) {
   const u = sqlite.prepare("select id, role, banned from user where id = ?").get(id) as Row | undefined;
-  if (!u || u.banned) throw badRequest("This person is not an active Strandsight user.", { field });
-  if (!can(parseRoles(u.role), "investigations.read"))
-    throw badRequest("This person's role cannot open investigations; choose someone from the office roles.", { field });
+  if (!u || u.banned) throw badRequest(said("investigations.notActive"), { field });
+  if (!can(parseRoles(u.role), "investigations.read")) throw badRequest(said("investigations.roleCannotOpen"), { field });
 }
 
 function loadInv(sqlite: Database.Database, id: number): Row {
   const inv = sqlite.prepare("select * from investigations where id = ?").get(id) as Row | undefined;
-  if (!inv) throw notFound("There is no such investigation.");
+  if (!inv) throw notFound(said("investigations.noInvestigation"));
   return inv;
 }
 
 function openInv(sqlite: Database.Database, id: number): Row {
   const inv = loadInv(sqlite, id);
-  if (inv.status === "closed") throw conflict(`The investigation ${inv.ref} is closed; it can no longer change.`);
+  if (inv.status === "closed") throw conflict(said("investigations.closed", { ref: inv.ref }));
   return inv;
 }
 
@@ -74,7 +73,7 @@ function heatIds(sqlite: Database.Database, heatNos: string[]): number[] {
     if (id === undefined) missing.push(h);
     else out.push(id);
   }
-  if (missing.length) throw badRequest(`No heat ${missing.join(", ")} on record.`, { field: "heatNos", missing });
+  if (missing.length) throw badRequest(said("investigations.noHeats", { heats: missing.join(", ") }), { field: "heatNos", missing });
   return out;
 }
 
@@ -88,7 +87,7 @@ function defectIds(sqlite: Database.Database, ids: number[]): number[] {
       .all(...unique) as number[],
   );
   const missing = unique.filter((i) => !found.has(i));
-  if (missing.length) throw badRequest(`No defect entry ${missing.slice(0, 10).join(", ")} (deleted, or never logged).`, { field: "defectIds", missing });
+  if (missing.length) throw badRequest(said("investigations.noDefects", { ids: missing.slice(0, 10).join(", ") }), { field: "defectIds", missing });
   return unique;
 }
 
@@ -165,7 +164,7 @@ export function listInvestigations(db: Db, q: z.output<typeof investigationQuery
 export function getInvestigation(db: Db, id: number, now = Date.now()): Investigation {
   const sqlite = db.$client;
   const r = sqlite.prepare(`${SUMMARY} where i.id = @id`).get({ id, today: todayIso(now) }) as Row | undefined;
-  if (!r) throw notFound("There is no such investigation.");
+  if (!r) throw notFound(said("investigations.noInvestigation"));
   const heats = sqlite
     .prepare(
       `select h.heat_no as heatNo, g.code as grade, h.cast_start as castStart from investigation_subjects s join heats h on h.id = s.heat_id join grades g on g.id = h.grade_id where s.investigation_id = ? order by h.cast_start`,
@@ -322,8 +321,8 @@ export function addInvestigationParticipants(db: Db, user: Actor, id: number, us
 function tagId(sqlite: Database.Database, code: string | null | undefined, field: string): number | null {
   if (!code) return null;
   const t = sqlite.prepare("select id, retired_at from cause_tags where code = ?").get(code.trim().toLowerCase()) as Row | undefined;
-  if (!t) throw badRequest(`Unknown cause tag ${code}. See GET /api/cause-tags.`, { field }, "unknown_tag");
-  if (t.retired_at != null) throw badRequest(`The cause tag ${code} is retired; choose a current tag.`, { field }, "retired_tag");
+  if (!t) throw badRequest(said("investigations.unknownTag", { code }), { field }, "unknown_tag");
+  if (t.retired_at != null) throw badRequest(said("investigations.retiredTag", { code }), { field }, "retired_tag");
   return t.id;
 }
 
@@ -347,7 +346,7 @@ export function updateHypothesis(db: Db, user: Actor, id: number, hid: number, i
   db.transaction(() => {
     openInv(sqlite, id);
     const h = sqlite.prepare("select * from investigation_hypotheses where id = ? and investigation_id = ?").get(hid, id) as Row | undefined;
-    if (!h) throw notFound("This investigation has no such hypothesis.");
+    if (!h) throw notFound(said("investigations.noHypothesis"));
     sqlite
       .prepare("update investigation_hypotheses set status = ?, statement = ?, updated_at = ? where id = ?")
       .run(input.status ?? h.status, input.statement ?? h.statement, Date.now(), hid);
@@ -380,7 +379,7 @@ export function updateAction(db: Db, user: Actor, notify: Notifications, id: num
   db.transaction(() => {
     const inv = openInv(sqlite, id);
     const a = sqlite.prepare("select * from investigation_actions where id = ? and investigation_id = ?").get(aid, id) as Row | undefined;
-    if (!a) throw notFound("This investigation has no such action.");
+    if (!a) throw notFound(said("investigations.noAction"));
     if (input.ownerId) checkPerson(sqlite, input.ownerId, "ownerId");
     const status = input.status ?? a.status;
     const done = status === "done" || status === "cancelled";

@@ -39,7 +39,7 @@ import {
 import { VARIABLES } from "@shared/variables";
 import { databaseIdOf } from "../db/identity";
 import type { Db } from "../db/client";
-import { badRequest, conflict, notFound } from "../lib/http-error";
+import { badRequest, conflict, notFound, said } from "../lib/http-error";
 import { differenceOfProportions, wilson } from "../stats/proportions";
 import { recordAudit } from "./audit.service";
 import { targetTypeIds } from "./risk/training-data";
@@ -357,7 +357,7 @@ export function windowRecord(c: Counts, from: string, to: string): WindowRecord 
 export function recordWindow(query: { from?: string; to?: string }, now = Date.now()) {
   const to = query.to ?? day(now);
   const from = query.from ?? day(Date.parse(`${to}T00:00:00Z`) - (WINDOW_RECORD_DAYS - 1) * DAY);
-  if (from > to) throw badRequest("The start is after the end.", { field: "from" });
+  if (from > to) throw badRequest(said("windows.startAfterEnd"), { field: "from" });
   return { from, to, fromMs: Date.parse(`${from}T00:00:00Z`), toMs: Date.parse(`${to}T00:00:00Z`) + DAY };
 }
 
@@ -430,7 +430,7 @@ export async function listWindows(db: Db, query: z.output<typeof windowListQuery
 async function getWindow(db: Db, id: number): Promise<OperatingWindow> {
   const sqlite = db.$client;
   const r = loadRules(sqlite, "w.id = ?", id)[0];
-  if (!r) throw notFound("There is no such operating window rule.");
+  if (!r) throw notFound(said("windows.noRule"));
   if (r.retiredAt !== null) return toWindow(sqlite, r, null);
   const w = recordWindow({});
   return toWindow(sqlite, r, windowRecord((await cachedCounts(sqlite, [r], w.fromMs, w.toMs)).get(r.id)!, w.from, w.to));
@@ -439,21 +439,20 @@ async function getWindow(db: Db, id: number): Promise<OperatingWindow> {
 function familyIdOf(sqlite: Database.Database, code: string | null): number | null {
   if (code === null) return null;
   const id = sqlite.prepare("select id from grade_families where upper(code) = upper(?)").pluck().get(code) as number | undefined;
-  if (id === undefined)
-    throw badRequest(`There is no grade family “${code}”. Choose one of the plant's families, or every family.`, { field: "familyCode" }, "unknown_family");
+  if (id === undefined) throw badRequest(said("windows.noFamily", { code }), { field: "familyCode" }, "unknown_family");
   return id;
 }
 
 function checkTarget(sqlite: Database.Database, target: { kind: "type" | "category"; code: string } | null) {
   if (target === null) return;
   if (targetName(sqlite, target.kind, target.code) === null) {
-    throw badRequest(`There is no defect ${target.kind} “${target.code}” in the catalogue.`, { field: "target" }, "unknown_target");
+    throw badRequest(said(target.kind === "type" ? "windows.noType" : "windows.noCategory", { code: target.code }), { field: "target" }, "unknown_target");
   }
 }
 
 function nameTaken(sqlite: Database.Database, name: string, exceptId = 0) {
   if (sqlite.prepare("select 1 from operating_windows where retired_at is null and lower(name) = lower(?) and id <> ?").get(name, exceptId)) {
-    throw conflict(`A live rule is already called “${name}”. Choose another name.`, { field: "name" });
+    throw conflict(said("windows.nameTaken", { name }), { field: "name" });
   }
 }
 
@@ -465,7 +464,7 @@ function insertWindow(db: Db, who: { id: string | null; actor?: string }, input:
   checkTarget(sqlite, input.target);
   const live = sqlite.prepare("select count(*) from operating_windows where retired_at is null").pluck().get() as number;
   if (live >= MAX_LIVE_WINDOWS)
-    throw conflict(`There are already ${MAX_LIVE_WINDOWS} live rules, the most the plant keeps. Retire one before writing another.`, {
+    throw conflict(said("windows.tooMany", { n: MAX_LIVE_WINDOWS }), {
       limit: MAX_LIVE_WINDOWS,
     });
   nameTaken(sqlite, input.name);
@@ -503,8 +502,8 @@ export function updateWindow(db: Db, user: Actor, id: number, input: z.output<ty
   const sqlite = db.$client;
   db.transaction(() => {
     const before = sqlite.prepare("select * from operating_windows where id = ?").get(id) as Row | undefined;
-    if (!before) throw notFound("There is no such operating window rule.");
-    if (before.retired_at != null) throw conflict("This rule is retired and stays as it was. Write a new rule instead.");
+    if (!before) throw notFound(said("windows.noRule"));
+    if (before.retired_at != null) throw conflict(said("windows.retired"));
     const sets: string[] = [];
     const args: unknown[] = [];
     if (input.name !== undefined) {
@@ -548,8 +547,8 @@ export function retireWindow(db: Db, user: Actor, id: number) {
   const at = Date.now();
   db.transaction(() => {
     const before = sqlite.prepare("select id, name, retired_at from operating_windows where id = ?").get(id) as Row | undefined;
-    if (!before) throw notFound("There is no such operating window rule.");
-    if (before.retired_at != null) throw conflict(`The rule “${before.name}” is already retired.`);
+    if (!before) throw notFound(said("windows.noRule"));
+    if (before.retired_at != null) throw conflict(said("windows.alreadyRetired", { name: before.name }));
     sqlite.prepare("update operating_windows set retired_at = ?, updated_at = ? where id = ?").run(at, at, id);
     recordAudit(db, {
       userId: user.id,
@@ -569,7 +568,7 @@ export function windowFlags(db: Db, query: z.output<typeof windowFlagsQuerySchem
   let slabs: { id: number; slab_id: string; heat_no: string }[];
   if (query.heatNo !== undefined) {
     const heat = sqlite.prepare("select id from heats where heat_no = ?").pluck().get(query.heatNo) as number | undefined;
-    if (heat === undefined) throw notFound(`There is no heat ${query.heatNo}.`);
+    if (heat === undefined) throw notFound(said("heats.noHeat", { heat: query.heatNo }));
     slabs = sqlite
       .prepare(
         "select s.id, s.slab_id, h.heat_no from slabs s join heats h on h.id = s.heat_id where s.heat_id = ? order by s.strand_id, s.piece_no, s.id limit ?",

@@ -16,7 +16,7 @@ import { pipeline } from "node:stream/promises";
 import pLimit from "p-limit";
 import type sharp from "sharp";
 import { loadFileType, loadSharp } from "../lib/lazy-packages";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import { storeError } from "../middleware/uploads";
 
 export const PHOTO_MAX_PIXELS = 50_000_000; // 50 MP: every tablet and phone camera fits, a bomb does not
@@ -72,7 +72,7 @@ export function photoDecodeState() {
 /** 503 when `count` more photos would not fit in the decode queue: said before anything is stored. */
 export function admitPhotoDecodes(count: number) {
   if (decodeQueue.pendingCount + count > PHOTO_DECODE_QUEUE_MAX) {
-    throw new HttpError(503, "busy", "The server is busy processing other photos. Try again in a minute; the tablet sends waiting photos again by itself.", {
+    throw new HttpError(503, "busy", said("photos.busy"), {
       retryAfterSeconds: 30,
     });
   }
@@ -84,30 +84,22 @@ export async function checkPhoto(input: PhotoInput, originalName: string): Promi
   const type = typeof input === "string" ? await fileTypeFromFile(input) : await fileTypeFromBuffer(input);
   const name = originalName.slice(0, 120);
   if (type && (type.mime === "image/heic" || type.mime === "image/heif" || type.ext === "heic")) {
-    throw new HttpError(
-      415,
-      "heic_not_supported",
-      `${name} is a HEIC photo, which cannot be read here. Take the photo with the camera button in Strandsight (it sends JPEG), or set the camera to "Most compatible" / JPEG.`,
-    );
+    throw new HttpError(415, "heic_not_supported", said("photos.heic", { name }));
   }
   if (!type || !ACCEPTED.has(type.mime)) {
-    throw new HttpError(415, "not_an_image", `${name} is not a photo Strandsight can store. Use JPEG, PNG, WebP or AVIF.`);
+    throw new HttpError(415, "not_an_image", said("photos.notAnImage", { name }));
   }
   let meta: Awaited<ReturnType<ReturnType<typeof sharp>["metadata"]>>;
   try {
     meta = await (await loadSharp())(input, { limitInputPixels: false }).metadata();
   } catch {
-    throw new HttpError(415, "not_an_image", `${name} could not be read as an image; it may be damaged.`);
+    throw new HttpError(415, "not_an_image", said("photos.unreadable", { name }));
   }
   const w = meta.width ?? 0;
   const h = meta.height ?? 0;
-  if (!w || !h) throw new HttpError(415, "not_an_image", `${name} could not be read as an image; it may be damaged.`);
+  if (!w || !h) throw new HttpError(415, "not_an_image", said("photos.unreadable", { name }));
   if (w * h > PHOTO_MAX_PIXELS) {
-    throw new HttpError(
-      413,
-      "too_many_pixels",
-      `${name} is ${w} × ${h} pixels (${((w * h) / 1e6).toFixed(0)} MP); the limit is ${PHOTO_MAX_PIXELS / 1e6} MP. Take the photo at a lower resolution.`,
-    );
+    throw new HttpError(413, "too_many_pixels", said("photos.tooManyPixels", { name, w, h, mp: ((w * h) / 1e6).toFixed(0), limit: PHOTO_MAX_PIXELS / 1e6 }));
   }
   return { input, originalName: name, mime: type.mime, width: w, height: h };
 }
@@ -166,7 +158,7 @@ async function storeNow(uploadDir: string, photo: CheckedPhoto): Promise<StoredP
       .jpeg({ quality: 78, mozjpeg: true })
       .toBuffer();
   } catch {
-    throw new HttpError(415, "not_an_image", `${photo.originalName} could not be decoded; it may be damaged or truncated.`);
+    throw new HttpError(415, "not_an_image", said("photos.undecodable", { name: photo.originalName }));
   }
   try {
     await writeAtomically(p.display, display.data);

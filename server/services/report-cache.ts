@@ -22,7 +22,7 @@
  */
 import type Database from "better-sqlite3";
 import type { Db } from "../db/client";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 import {
   allocate,
@@ -242,7 +242,7 @@ function warmingUp(w: Warming): HttpError {
   if (w.done > 0 && w.total > 0) leftS = ((phaseMs / w.done) * Math.max(0, w.total - w.done)) / 1000;
   else leftS = w.phase === "rebuilding" ? (w.slabs * 6) / 1e6 : w.slabs / 1e6 + 1;
   const seconds = Math.max(1, Math.ceil(leftS));
-  return new HttpError(503, "reports_warming_up", `Reports are warming up: the slab data are being loaded (about ${seconds} s). Try again in a moment.`, {
+  return new HttpError(503, "reports_warming_up", said("reports.warmingUp", { seconds }), {
     retryAfterSeconds: Math.min(10, Math.max(2, seconds)),
     secondsLeft: seconds,
     phase: w.phase,

@@ -4,6 +4,8 @@
  * "Parameters" sheet (the filters, who and when, the methods and the cautions); each table gets a
  * sheet with units in the headers, number formats, a frozen header row and an autofilter.
  */
+import type { Language } from "@shared/i18n/languages";
+import { translator } from "../lib/i18n";
 import { addItemSheet, addTableSheet, newWorkbook, workbookBuffer, D2, D3, N0, PCT, type SheetColumn, type TableLook } from "../lib/workbook-sheets";
 import type { CausePareto } from "@shared/api/causes";
 import type { Adjusted, BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
@@ -32,12 +34,12 @@ export const CAUTIONS = [
 const PHASE_WORDS = { before: "before the baseline", baseline: "baseline", monitoring: "after the baseline" } as const;
 const TEST_WORDS = { fisher: "Fisher's exact test", "chi-square": "chi-square test", none: "no test" } as const;
 
-const referenceMixSheet = (mix: { label: string; slabs: number; share: number }[], by: string): Sheet => ({
-  name: "Reference mix",
+const referenceMixSheet = (mix: { label: string; slabs: number; share: number }[], by: string, w: W): Sheet => ({
+  name: w("sheets.referenceMix"),
   columns: [
     { header: by, key: "label", width: 18 },
-    { header: "Slabs", key: "slabs", numFmt: N0 },
-    { header: "Share of the mix", key: "share", numFmt: PCT },
+    { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+    { header: w("headers.shareOfTheMix"), key: "share", numFmt: PCT },
   ],
   rows: mix,
 });
@@ -48,9 +50,9 @@ const OR = "0.000";
 const yes = (b: boolean | null | undefined) => (b ? "yes" : "");
 
 /** The adjusted and crude odds ratios of rate against a variable, and the per-level rates and odds ratios. */
-function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
+function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
   const u = x.variable.unit;
-  const perUnit = u === "–" ? "per 1" : `per 1 ${u}`;
+  const perUnit = u === "–" ? w("per.one") : w("per.oneUnit", { unit: u });
   const sheets: Sheet[] = [];
   const a = x.adjusted;
   if (a) {
@@ -58,7 +60,7 @@ function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
     const se = a.seMethod === "cluster" ? "heat-clustered" : "model-based";
     const row = (estimate: string, f: NonNullable<RateByVariable["adjusted"]>["crude"], perStep: boolean) => ({
       estimate,
-      per: perStep ? (u === "–" ? `per ${f.perStep.step}` : `per ${f.perStep.step} ${u}`) : perUnit,
+      per: perStep ? (u === "–" ? w("per.step", { step: f.perStep.step }) : w("per.stepUnit", { step: f.perStep.step, unit: u })) : perUnit,
       oddsRatio: perStep ? f.perStep.oddsRatio : f.oddsRatio,
       ciLower: perStep ? f.perStep.ciLower : f.oddsRatioCiLower,
       ciUpper: perStep ? f.perStep.ciUpper : f.oddsRatioCiUpper,
@@ -68,17 +70,17 @@ function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
       seMethod: se,
     });
     sheets.push({
-      name: "Adjusted",
+      name: w("sheets.adjusted"),
       columns: [
-        { header: "Estimate", key: "estimate", width: 44 },
-        { header: "Odds ratio per", key: "per", width: 16 },
-        { header: "Odds ratio", key: "oddsRatio", numFmt: OR },
-        { header: "95 % CI lower", key: "ciLower", numFmt: OR },
-        { header: "95 % CI upper", key: "ciUpper", numFmt: OR },
-        { header: `Slope (log odds ${perUnit})`, key: "slope", numFmt: "0.0000" },
-        { header: "Standard error of the slope", key: "se", numFmt: "0.0000" },
-        { header: "p (Wald, two-sided)", key: "p", numFmt: P },
-        { header: "Standard errors", key: "seMethod", width: 16 },
+        { header: w("headers.estimate"), key: "estimate", width: 44 },
+        { header: w("headers.oddsRatioPer"), key: "per", width: 16 },
+        { header: w("headers.oddsRatio"), key: "oddsRatio", numFmt: OR },
+        { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: OR },
+        { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: OR },
+        { header: w("headers.slopeLogOdds", { per: perUnit }), key: "slope", numFmt: "0.0000" },
+        { header: w("headers.standardErrorOfTheSlope"), key: "se", numFmt: "0.0000" },
+        { header: w("headers.pWaldTwoSided"), key: "p", numFmt: P },
+        { header: w("headers.standardErrors"), key: "seMethod", width: 16 },
       ],
       rows: [
         row(`Adjusted for ${adjustedFor}`, a, true),
@@ -91,36 +93,36 @@ function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
   const st = x.stratified;
   if (st) {
     sheets.push({
-      name: "Rates within levels",
+      name: w("sheets.ratesWithinLevels"),
       columns: [
-        { header: st.by.label, key: "level", width: 18 },
-        { header: `From (${u})`, key: "lower", numFmt: D3 },
-        { header: `To (${u})`, key: "upper", numFmt: D3 },
-        { header: "Slabs", key: "slabs", numFmt: N0 },
-        { header: "Affected slabs", key: "affected", numFmt: N0 },
-        { header: "Rate", key: "rate", numFmt: PCT },
-        { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
-        { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
-        { header: "Too few slabs", key: "sparse" },
+        { header: w.term(st.by.key, st.by.label), key: "level", width: 18 },
+        { header: w("headers.fromUnit", { unit: u }), key: "lower", numFmt: D3 },
+        { header: w("headers.toUnit", { unit: u }), key: "upper", numFmt: D3 },
+        { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+        { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+        { header: w("headers.rate"), key: "rate", numFmt: PCT },
+        { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
+        { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
+        { header: w("headers.tooFewSlabs"), key: "sparse" },
       ],
       rows: st.strata.flatMap((level) => level.bins.map((b) => ({ level: level.label, ...b, sparse: yes(b.sparse) }))),
     });
     sheets.push({
-      name: "Odds ratios within levels",
+      name: w("sheets.oddsRatiosWithinLevels"),
       columns: [
-        { header: st.by.label, key: "level", width: 18 },
-        { header: "Slabs", key: "slabs", numFmt: N0 },
-        { header: "Affected slabs", key: "affected", numFmt: N0 },
-        { header: "Rate", key: "rate", numFmt: PCT },
-        { header: `Odds ratio ${perUnit}`, key: "oddsRatio", numFmt: OR },
-        { header: "95 % CI lower", key: "oddsRatioCiLower", numFmt: OR },
-        { header: "95 % CI upper", key: "oddsRatioCiUpper", numFmt: OR },
-        { header: "Odds ratio per readable step", key: "stepOr", numFmt: OR },
-        { header: "Step", key: "step", numFmt: "General" },
-        { header: "Step 95 % CI lower", key: "stepLower", numFmt: OR },
-        { header: "Step 95 % CI upper", key: "stepUpper", numFmt: OR },
-        { header: "p (Wald, two-sided)", key: "p", numFmt: P },
-        { header: "Why no estimate", key: "reason", width: 50 },
+        { header: w.term(st.by.key, st.by.label), key: "level", width: 18 },
+        { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+        { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+        { header: w("headers.rate"), key: "rate", numFmt: PCT },
+        { header: w("headers.oddsRatioPerUnit", { per: perUnit }), key: "oddsRatio", numFmt: OR },
+        { header: w("headers.n95PctCILower"), key: "oddsRatioCiLower", numFmt: OR },
+        { header: w("headers.n95PctCIUpper"), key: "oddsRatioCiUpper", numFmt: OR },
+        { header: w("headers.oddsRatioPerReadableStep"), key: "stepOr", numFmt: OR },
+        { header: w("headers.step"), key: "step", numFmt: "General" },
+        { header: w("headers.step95PctCILower"), key: "stepLower", numFmt: OR },
+        { header: w("headers.step95PctCIUpper"), key: "stepUpper", numFmt: OR },
+        { header: w("headers.pWaldTwoSided"), key: "p", numFmt: P },
+        { header: w("headers.whyNoEstimate"), key: "reason", width: 50 },
       ],
       rows: st.strata.map((level) => ({
         level: level.label,
@@ -139,25 +141,25 @@ function rateByVariableAdjustedSheets(x: RateByVariable): Sheet[] {
 }
 
 /** Columns added to the screening sheet after the crude ones (which keep their places). */
-const screeningAdjustedColumns: Col[] = [
-  { header: "Unit", key: "unit" },
-  { header: "Listed under", key: "parentLabel", width: 22 },
-  { header: "Derived from", key: "derivedWords", width: 30 },
-  { header: "Testable", key: "testableWords" },
-  { header: "Why not tested", key: "reason", width: 40 },
-  { header: "Counted in BH", key: "counted" },
-  { header: "Interquartile range (unit)", key: "iqr", numFmt: "0.0000" },
-  { header: "Crude odds ratio per IQR", key: "crudeOr", numFmt: OR },
-  { header: "Crude 95 % CI lower", key: "crudeLower", numFmt: OR },
-  { header: "Crude 95 % CI upper", key: "crudeUpper", numFmt: OR },
-  { header: "Crude p (logistic)", key: "crudeP", numFmt: P },
-  { header: "Adjusted odds ratio per IQR", key: "adjOr", numFmt: OR },
-  { header: "Adjusted 95 % CI lower", key: "adjLower", numFmt: OR },
-  { header: "Adjusted 95 % CI upper", key: "adjUpper", numFmt: OR },
-  { header: "Adjusted p", key: "adjP", numFmt: P },
-  { header: "Adjusted p (BH)", key: "adjPAdjusted", numFmt: P },
-  { header: "Adjusted test", key: "adjTest", width: 40 },
-  { header: "Why not adjusted", key: "adjReason", width: 40 },
+const screeningAdjustedColumns = (w: W): Col[] => [
+  { header: w("headers.unit"), key: "unit" },
+  { header: w("headers.listedUnder"), key: "parentLabel", width: 22 },
+  { header: w("headers.derivedFrom"), key: "derivedWords", width: 30 },
+  { header: w("headers.testable"), key: "testableWords" },
+  { header: w("headers.whyNotTested"), key: "reason", width: 40 },
+  { header: w("headers.countedInBH"), key: "counted" },
+  { header: w("headers.interquartileRangeUnit"), key: "iqr", numFmt: "0.0000" },
+  { header: w("headers.crudeOddsRatioPerIQR"), key: "crudeOr", numFmt: OR },
+  { header: w("headers.crude95PctCILower"), key: "crudeLower", numFmt: OR },
+  { header: w("headers.crude95PctCIUpper"), key: "crudeUpper", numFmt: OR },
+  { header: w("headers.crudePLogistic"), key: "crudeP", numFmt: P },
+  { header: w("headers.adjustedOddsRatioPerIQR"), key: "adjOr", numFmt: OR },
+  { header: w("headers.adjusted95PctCILower"), key: "adjLower", numFmt: OR },
+  { header: w("headers.adjusted95PctCIUpper"), key: "adjUpper", numFmt: OR },
+  { header: w("headers.adjustedP"), key: "adjP", numFmt: P },
+  { header: w("headers.adjustedPBH"), key: "adjPAdjusted", numFmt: P },
+  { header: w("headers.adjustedTest"), key: "adjTest", width: 40 },
+  { header: w("headers.whyNotAdjusted"), key: "adjReason", width: 40 },
 ];
 
 function screeningAdjustedCells(x: Screening, v: Screening["variables"][number]) {
@@ -183,31 +185,31 @@ function screeningAdjustedCells(x: Screening, v: Screening["variables"][number])
 }
 
 /** The adjusted model: odds ratios crude and adjusted per term, the tests per variable, the levels and the fit. */
-function adjustedSheets(x: Adjusted): Sheet[] {
+function adjustedSheets(x: Adjusted, w: W): Sheet[] {
   const role = (r: string) => (r === "examined" ? "examined" : "adjusted for");
   return [
     {
-      name: "Odds ratios",
+      name: w("sheets.oddsRatios"),
       columns: [
-        { header: "Role", key: "roleWords", width: 13 },
-        { header: "Variable", key: "label", width: 28 },
-        { header: "Unit", key: "unitWords" },
-        { header: "Level", key: "level", width: 16 },
-        { header: "Against (reference)", key: "reference", width: 18 },
-        { header: "Odds ratio per", key: "perWords", width: 22 },
-        { header: "Crude odds ratio", key: "crudeOr", numFmt: OR },
-        { header: "Crude 95 % CI lower", key: "crudeLower", numFmt: OR },
-        { header: "Crude 95 % CI upper", key: "crudeUpper", numFmt: OR },
-        { header: "Crude p", key: "crudeP", numFmt: P },
-        { header: "Adjusted odds ratio", key: "adjOr", numFmt: OR },
-        { header: "Adjusted 95 % CI lower", key: "adjLower", numFmt: OR },
-        { header: "Adjusted 95 % CI upper", key: "adjUpper", numFmt: OR },
-        { header: "Adjusted p", key: "adjP", numFmt: P },
-        { header: "Adjusted coefficient (log odds per unit)", key: "coef", numFmt: "0.000000" },
-        { header: "Its standard error", key: "se", numFmt: "0.000000" },
-        { header: "GVIF", key: "vif", numFmt: D2 },
-        { header: "Crude vs adjusted (relative change)", key: "change", numFmt: PCT },
-        { header: "In words", key: "words", width: 80 },
+        { header: w("headers.role"), key: "roleWords", width: 13 },
+        { header: w("headers.variable"), key: "label", width: 28 },
+        { header: w("headers.unit"), key: "unitWords" },
+        { header: w("headers.level"), key: "level", width: 16 },
+        { header: w("headers.againstReference"), key: "reference", width: 18 },
+        { header: w("headers.oddsRatioPer"), key: "perWords", width: 22 },
+        { header: w("headers.crudeOddsRatio"), key: "crudeOr", numFmt: OR },
+        { header: w("headers.crude95PctCILower"), key: "crudeLower", numFmt: OR },
+        { header: w("headers.crude95PctCIUpper"), key: "crudeUpper", numFmt: OR },
+        { header: w("headers.crudeP"), key: "crudeP", numFmt: P },
+        { header: w("headers.adjustedOddsRatio"), key: "adjOr", numFmt: OR },
+        { header: w("headers.adjusted95PctCILower"), key: "adjLower", numFmt: OR },
+        { header: w("headers.adjusted95PctCIUpper"), key: "adjUpper", numFmt: OR },
+        { header: w("headers.adjustedP"), key: "adjP", numFmt: P },
+        { header: w("headers.adjustedCoefficientLogOddsPerUnit"), key: "coef", numFmt: "0.000000" },
+        { header: w("headers.itsStandardError"), key: "se", numFmt: "0.000000" },
+        { header: w("headers.gvif"), key: "vif", numFmt: D2 },
+        { header: w("headers.crudeVsAdjustedRelativeChange"), key: "change", numFmt: PCT },
+        { header: w("headers.inWords"), key: "words", width: 80 },
       ],
       rows: x.terms.map((t) => ({
         roleWords: role(t.role),
@@ -232,40 +234,40 @@ function adjustedSheets(x: Adjusted): Sheet[] {
       })),
     },
     {
-      name: "Tests",
+      name: w("sheets.tests"),
       columns: [
-        { header: "Variable", key: "label", width: 28 },
-        { header: "Role", key: "roleWords", width: 13 },
-        { header: "df", key: "df", numFmt: "0" },
-        { header: "Test", key: "test", width: 22 },
-        { header: "Likelihood-ratio chi-square", key: "lrChi2", numFmt: "0.000" },
-        { header: "Wald chi-square", key: "waldChi2", numFmt: "0.000" },
-        { header: "p", key: "p", numFmt: P },
-        { header: "GVIF", key: "gvif", numFmt: D2 },
-        { header: "GVIF^(1/(2·df))", key: "gvifPerDf", numFmt: D2 },
-        { header: "Collinearity", key: "collinearity" },
-        { header: "Note", key: "reason", width: 60 },
+        { header: w("headers.variable"), key: "label", width: 28 },
+        { header: w("headers.role"), key: "roleWords", width: 13 },
+        { header: w("headers.df"), key: "df", numFmt: "0" },
+        { header: w("headers.test"), key: "test", width: 22 },
+        { header: w("headers.likelihoodRatioChiSquare"), key: "lrChi2", numFmt: "0.000" },
+        { header: w("headers.waldChiSquare"), key: "waldChi2", numFmt: "0.000" },
+        { header: w("headers.p"), key: "p", numFmt: P },
+        { header: w("headers.gvif"), key: "gvif", numFmt: D2 },
+        { header: w("headers.gvif12xdf"), key: "gvifPerDf", numFmt: D2 },
+        { header: w("headers.collinearity"), key: "collinearity" },
+        { header: w("headers.note"), key: "reason", width: 60 },
       ],
       rows: x.variables.map((v) => ({ ...v, roleWords: role(v.role), collinearity: v.collinearity ?? "" })),
     },
     {
-      name: "Levels",
+      name: w("sheets.levels"),
       columns: [
-        { header: "Variable", key: "label", width: 28 },
-        { header: "Level", key: "level", width: 18 },
-        { header: "Reference", key: "ref" },
-        { header: "Slabs", key: "slabs", numFmt: N0 },
-        { header: "Affected slabs", key: "affected", numFmt: N0 },
+        { header: w("headers.variable"), key: "label", width: 28 },
+        { header: w("headers.level"), key: "level", width: 18 },
+        { header: w("headers.reference"), key: "ref" },
+        { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+        { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
       ],
       rows: x.variables.flatMap((v) =>
         (v.levels ?? []).map((l) => ({ label: v.label, level: l.level, ref: yes(l.reference), slabs: l.slabs, affected: l.affected })),
       ),
     },
     {
-      name: "Model",
+      name: w("sheets.model"),
       columns: [
-        { header: "Item", key: "item", width: 44 },
-        { header: "Value", key: "value", numFmt: "#,##0.###" },
+        { header: w("headers.item"), key: "item", width: 44 },
+        { header: w("headers.value"), key: "value", numFmt: "#,##0.###" },
       ],
       rows: [
         { item: "Slabs in the model", value: x.slabs },
@@ -284,34 +286,34 @@ function adjustedSheets(x: Adjusted): Sheet[] {
   ];
 }
 
-function tablesFor(kind: string, r: unknown): Sheet[] {
+function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
   switch (kind) {
     case "rate-by-variable": {
       const x = r as RateByVariable;
       const u = x.variable.unit;
       return [
         {
-          name: "Bins",
+          name: w("sheets.bins"),
           columns: [
-            { header: `From (${u})`, key: "lower", numFmt: D3 },
-            { header: `To (${u})`, key: "upper", numFmt: D3 },
-            { header: "Slabs", key: "slabs", numFmt: N0 },
-            { header: "Affected slabs", key: "affected", numFmt: N0 },
-            { header: "Rate", key: "rate", numFmt: PCT },
-            { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
-            { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
+            { header: w("headers.fromUnit", { unit: u }), key: "lower", numFmt: D3 },
+            { header: w("headers.toUnit", { unit: u }), key: "upper", numFmt: D3 },
+            { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+            { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+            { header: w("headers.rate"), key: "rate", numFmt: PCT },
+            { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
+            { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
           ],
           rows: x.bins,
         },
         {
-          name: "Tests",
+          name: w("sheets.tests"),
           columns: [
-            { header: "Test", key: "test", width: 34 },
-            { header: "Statistic", key: "statistic", numFmt: "0.0000" },
-            { header: "p (two-sided)", key: "p", numFmt: P },
-            { header: "95 % CI lower", key: "ciLower", numFmt: "0.0000" },
-            { header: "95 % CI upper", key: "ciUpper", numFmt: "0.0000" },
-            { header: "Method", key: "method", width: 90 },
+            { header: w("headers.test"), key: "test", width: 34 },
+            { header: w("headers.statistic"), key: "statistic", numFmt: "0.0000" },
+            { header: w("headers.pTwoSided"), key: "p", numFmt: P },
+            { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: "0.0000" },
+            { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: "0.0000" },
+            { header: w("headers.method"), key: "method", width: 90 },
           ],
           rows: [
             { test: "Spearman ρ", statistic: x.spearman.rho, p: x.spearman.p, method: x.methods.spearman },
@@ -330,78 +332,78 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           ],
         },
         {
-          name: "Distribution",
+          name: w("sheets.distribution"),
           columns: [
-            { header: "Slabs", key: "group" },
-            { header: "n", key: "n", numFmt: N0 },
-            { header: `Min (${u})`, key: "min", numFmt: D3 },
-            { header: `Q1 (${u})`, key: "q1", numFmt: D3 },
-            { header: `Median (${u})`, key: "median", numFmt: D3 },
-            { header: `Q3 (${u})`, key: "q3", numFmt: D3 },
-            { header: `Max (${u})`, key: "max", numFmt: D3 },
-            { header: `Mean (${u})`, key: "mean", numFmt: D3 },
+            { header: w("headers.slabs"), key: "group" },
+            { header: w("headers.n"), key: "n", numFmt: N0 },
+            { header: w("headers.minUnit", { unit: u }), key: "min", numFmt: D3 },
+            { header: w("headers.q1Unit", { unit: u }), key: "q1", numFmt: D3 },
+            { header: w("headers.medianUnit", { unit: u }), key: "median", numFmt: D3 },
+            { header: w("headers.q3Unit", { unit: u }), key: "q3", numFmt: D3 },
+            { header: w("headers.maxUnit", { unit: u }), key: "max", numFmt: D3 },
+            { header: w("headers.meanUnit", { unit: u }), key: "mean", numFmt: D3 },
           ],
           rows: [
             { group: "affected", ...x.distribution.affected },
             { group: "sound", ...x.distribution.sound },
           ],
         },
-        ...rateByVariableAdjustedSheets(x),
+        ...rateByVariableAdjustedSheets(x, w),
       ];
     }
     case "screening": {
       const x = r as Screening;
       return [
         {
-          name: "Screening",
+          name: w("sheets.screening"),
           columns: [
-            { header: "Variable", key: "label", width: 30 },
-            { header: "Key", key: "key", width: 22 },
-            { header: "Kind", key: "kind" },
-            { header: "n (slabs)", key: "n", numFmt: N0 },
-            { header: "Statistic", key: "statistic", numFmt: "0.000" },
-            { header: "df", key: "df", numFmt: "0.0" },
-            { header: "p", key: "p", numFmt: P },
-            { header: "p adjusted (BH)", key: "pAdjusted", numFmt: P },
-            { header: "Mean affected", key: "meanAffected", numFmt: "0.000" },
-            { header: "Mean sound", key: "meanSound", numFmt: "0.000" },
-            { header: "Few slabs", key: "fewSlabs" },
-            { header: "Method", key: "method", width: 60 },
-            ...screeningAdjustedColumns,
+            { header: w("headers.variable"), key: "label", width: 30 },
+            { header: w("headers.key"), key: "key", width: 22 },
+            { header: w("headers.kind"), key: "kind" },
+            { header: w("headers.nSlabs"), key: "n", numFmt: N0 },
+            { header: w("headers.statistic"), key: "statistic", numFmt: "0.000" },
+            { header: w("headers.df"), key: "df", numFmt: "0.0" },
+            { header: w("headers.p"), key: "p", numFmt: P },
+            { header: w("headers.pAdjustedBH"), key: "pAdjusted", numFmt: P },
+            { header: w("headers.meanAffected"), key: "meanAffected", numFmt: "0.000" },
+            { header: w("headers.meanSound"), key: "meanSound", numFmt: "0.000" },
+            { header: w("headers.fewSlabs"), key: "fewSlabs" },
+            { header: w("headers.method"), key: "method", width: 60 },
+            ...screeningAdjustedColumns(w),
           ],
           rows: x.variables.map((v) => ({ ...v, fewSlabs: v.fewSlabs ? "yes" : "", ...screeningAdjustedCells(x, v) })),
         },
       ];
     }
     case "adjusted":
-      return adjustedSheets(r as Adjusted);
+      return adjustedSheets(r as Adjusted, w);
     case "control-chart": {
       const x = r as ControlChart;
       const u = x.chart === "u";
       const std = x.points.some((p) => p.standardised);
       const sheets: Sheet[] = [
         {
-          name: u ? "u-chart" : x.chart === "laney" ? "Laney p′ chart" : "p-chart",
+          name: w(u ? "sheets.uChart" : x.chart === "laney" ? "sheets.laneyChart" : "sheets.pChart"),
           columns: [
-            { header: x.period === "day" ? "Day" : "ISO week", key: "period" },
-            { header: "Slabs", key: "slabs", numFmt: N0 },
-            { header: "Affected slabs", key: "affected", numFmt: N0 },
-            { header: "p (share affected)", key: "p", numFmt: PCT },
-            { header: u ? "UCL (defects per slab)" : "UCL", key: "ucl", numFmt: u ? D3 : PCT },
-            { header: u ? "LCL (defects per slab)" : "LCL", key: "lcl", numFmt: u ? D3 : PCT },
-            { header: "Out of control", key: "out" },
-            { header: "Phase", key: "phase" },
-            { header: "Defects", key: "defects", numFmt: N0 },
-            ...(u ? [{ header: "Defects per slab", key: "value", numFmt: D3 }] : []),
-            { header: u ? "Centre line ū" : "Centre line p̄", key: "centre", numFmt: u ? D3 : PCT },
-            { header: "z (σ from the centre)", key: "z", numFmt: D2 },
-            { header: "Run rules signalled", key: "signals", width: 20 },
+            { header: w(x.period === "day" ? "headers.day" : "headers.isoWeek"), key: "period" },
+            { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+            { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+            { header: w("headers.pShareAffected"), key: "p", numFmt: PCT },
+            { header: w(u ? "headers.uclPerSlab" : "headers.ucl"), key: "ucl", numFmt: u ? D3 : PCT },
+            { header: w(u ? "headers.lclPerSlab" : "headers.lcl"), key: "lcl", numFmt: u ? D3 : PCT },
+            { header: w("headers.outOfControl"), key: "out" },
+            { header: w("headers.phase"), key: "phase" },
+            { header: w("headers.defects"), key: "defects", numFmt: N0 },
+            ...(u ? [{ header: w("headers.defectsPerSlab"), key: "value", numFmt: D3 }] : []),
+            { header: w(u ? "headers.centreU" : "headers.centreP"), key: "centre", numFmt: u ? D3 : PCT },
+            { header: w("headers.zSigmaFromTheCentre"), key: "z", numFmt: D2 },
+            { header: w("headers.runRulesSignalled"), key: "signals", width: 20 },
             ...(std
               ? [
-                  { header: "Standardised rate", key: "stdRate", numFmt: PCT },
-                  { header: "Standardised 95 % CI lower", key: "stdLower", numFmt: PCT },
-                  { header: "Standardised 95 % CI upper", key: "stdUpper", numFmt: PCT },
-                  { header: "Why no standardised rate", key: "stdReason", width: 50 },
+                  { header: w("headers.standardisedRate"), key: "stdRate", numFmt: PCT },
+                  { header: w("headers.standardised95PctCILower"), key: "stdLower", numFmt: PCT },
+                  { header: w("headers.standardised95PctCIUpper"), key: "stdUpper", numFmt: PCT },
+                  { header: w("headers.whyNoStandardisedRate"), key: "stdReason", width: 50 },
                 ]
               : []),
           ],
@@ -417,11 +419,11 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           })),
         },
         {
-          name: "Limits",
+          name: w("sheets.limits"),
           columns: [
-            { header: "Item", key: "item", width: 44 },
-            { header: "Value", key: "value", numFmt: "0.0000" },
-            { header: "Note", key: "note", width: 90 },
+            { header: w("headers.item"), key: "item", width: 44 },
+            { header: w("headers.value"), key: "value", numFmt: "0.0000" },
+            { header: w("headers.note"), key: "note", width: 90 },
           ],
           rows: [
             {
@@ -449,34 +451,34 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           ],
         },
       ];
-      if (x.standardisation) sheets.push(referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label));
+      if (x.standardisation) sheets.push(referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label, w));
       return sheets;
     }
     case "overview": {
       const x = r as Overview;
       const rate = [
-        { header: "Slabs", key: "slabs", numFmt: N0 },
-        { header: "Affected slabs", key: "affected", numFmt: N0 },
-        { header: "Rate", key: "rate", numFmt: PCT },
-        { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
-        { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
+        { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+        { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+        { header: w("headers.rate"), key: "rate", numFmt: PCT },
+        { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
+        { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
       ];
       return [
         {
-          name: "By period",
+          name: w("sheets.byPeriod"),
           columns: [
-            { header: "Period", key: "period" },
+            { header: w("headers.period"), key: "period" },
             ...rate,
-            { header: "Defects", key: "defects", numFmt: N0 },
-            { header: "Tonnes (t)", key: "tonnes", numFmt: "#,##0.0" },
-            { header: "Defects per 100 slabs", key: "per100Slabs", numFmt: D2 },
-            { header: "Defects per 1000 t", key: "per1000t", numFmt: D2 },
+            { header: w("headers.defects"), key: "defects", numFmt: N0 },
+            { header: w("headers.tonnesT"), key: "tonnes", numFmt: "#,##0.0" },
+            { header: w("headers.defectsPer100Slabs"), key: "per100Slabs", numFmt: D2 },
+            { header: w("headers.defectsPer1000T"), key: "per1000t", numFmt: D2 },
             ...(x.standardisation
               ? [
-                  { header: "Standardised rate", key: "stdRate", numFmt: PCT },
-                  { header: "Standardised 95 % CI lower", key: "stdLower", numFmt: PCT },
-                  { header: "Standardised 95 % CI upper", key: "stdUpper", numFmt: PCT },
-                  { header: "Why no standardised rate", key: "stdReason", width: 50 },
+                  { header: w("headers.standardisedRate"), key: "stdRate", numFmt: PCT },
+                  { header: w("headers.standardised95PctCILower"), key: "stdLower", numFmt: PCT },
+                  { header: w("headers.standardised95PctCIUpper"), key: "stdUpper", numFmt: PCT },
+                  { header: w("headers.whyNoStandardisedRate"), key: "stdReason", width: 50 },
                 ]
               : []),
           ],
@@ -489,38 +491,46 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           })),
         },
         {
-          name: "Pareto",
+          name: w("sheets.pareto"),
           columns: [
-            { header: "Type", key: "code" },
-            { header: "Name", key: "name", width: 40 },
-            { header: "Defects", key: "defects", numFmt: N0 },
-            { header: "Slabs affected", key: "slabsAffected", numFmt: N0 },
-            { header: "Share", key: "share", numFmt: PCT },
-            { header: "Cumulative share", key: "cumulativeShare", numFmt: PCT },
+            { header: w("headers.type"), key: "code" },
+            { header: w("headers.name"), key: "name", width: 40 },
+            { header: w("headers.defects"), key: "defects", numFmt: N0 },
+            { header: w("headers.slabsAffected"), key: "slabsAffected", numFmt: N0 },
+            { header: w("headers.share"), key: "share", numFmt: PCT },
+            { header: w("headers.cumulativeShare"), key: "cumulativeShare", numFmt: PCT },
           ],
           rows: x.pareto,
         },
-        { name: "By grade", columns: [{ header: "Grade", key: "grade" }, { header: "Family", key: "family" }, ...rate], rows: x.byGrade },
-        { name: "By strand", columns: [{ header: "Caster", key: "caster" }, { header: "Strand", key: "strand" }, ...rate], rows: x.byStrand },
-        ...(x.standardisation ? [referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label)] : []),
+        {
+          name: w("sheets.byGrade"),
+          columns: [{ header: w("headers.grade"), key: "grade" }, { header: w("headers.family"), key: "family" }, ...rate],
+          rows: x.byGrade,
+        },
+        {
+          name: w("sheets.byStrand"),
+          columns: [{ header: w("headers.caster"), key: "caster" }, { header: w("headers.strand"), key: "strand" }, ...rate],
+          rows: x.byStrand,
+        },
+        ...(x.standardisation ? [referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label, w)] : []),
       ];
     }
     case "process-window": {
       const x = r as ProcessWindow;
       return [
         {
-          name: "Process window",
+          name: w("sheets.processWindow"),
           columns: [
-            { header: `${x.x.label} from (${x.x.unit})`, key: "xLower", numFmt: D3 },
-            { header: `${x.x.label} to (${x.x.unit})`, key: "xUpper", numFmt: D3 },
-            { header: `${x.y.label} from (${x.y.unit})`, key: "yLower", numFmt: D3 },
-            { header: `${x.y.label} to (${x.y.unit})`, key: "yUpper", numFmt: D3 },
-            { header: "Slabs", key: "slabs", numFmt: N0 },
-            { header: "Affected slabs", key: "affected", numFmt: N0 },
-            { header: "Rate", key: "rate", numFmt: PCT },
-            { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
-            { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
-            { header: `Under ${x.minN} slabs`, key: "sparse" },
+            { header: w("headers.labelFrom", { label: w.term(x.x.key, x.x.label), unit: x.x.unit }), key: "xLower", numFmt: D3 },
+            { header: w("headers.labelTo", { label: w.term(x.x.key, x.x.label), unit: x.x.unit }), key: "xUpper", numFmt: D3 },
+            { header: w("headers.labelFrom", { label: w.term(x.y.key, x.y.label), unit: x.y.unit }), key: "yLower", numFmt: D3 },
+            { header: w("headers.labelTo", { label: w.term(x.y.key, x.y.label), unit: x.y.unit }), key: "yUpper", numFmt: D3 },
+            { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+            { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+            { header: w("headers.rate"), key: "rate", numFmt: PCT },
+            { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
+            { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
+            { header: w("headers.underNSlabs", { n: x.minN }), key: "sparse" },
           ],
           rows: x.cells.map((c) => ({ ...c, sparse: c.sparse ? "yes" : "" })),
         },
@@ -530,15 +540,15 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
       const x = r as BeforeAfter;
       const sheets: Sheet[] = [
         {
-          name: "Before and after",
+          name: w("sheets.beforeAndAfter"),
           columns: [
-            { header: "Group", key: "group" },
-            { header: "Label", key: "label", width: 36 },
-            { header: "Slabs", key: "slabs", numFmt: N0 },
-            { header: "Affected slabs", key: "affected", numFmt: N0 },
-            { header: "Rate", key: "rate", numFmt: PCT },
-            { header: "95 % CI lower", key: "ciLower", numFmt: PCT },
-            { header: "95 % CI upper", key: "ciUpper", numFmt: PCT },
+            { header: w("headers.group"), key: "group" },
+            { header: w("headers.label"), key: "label", width: 36 },
+            { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+            { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+            { header: w("headers.rate"), key: "rate", numFmt: PCT },
+            { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
+            { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
           ],
           rows: [
             { group: "A", ...x.a },
@@ -546,40 +556,41 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
           ],
         },
         {
-          name: "Difference",
+          name: w("sheets.difference"),
           columns: [
-            { header: "B − A", key: "value", numFmt: PCT },
-            { header: "95 % CI lower", key: "lower", numFmt: PCT },
-            { header: "95 % CI upper", key: "upper", numFmt: PCT },
-            { header: "Test", key: "test" },
-            { header: "p (two-sided)", key: "p", numFmt: P },
-            { header: "Method", key: "method", width: 80 },
-            { header: "Why no p", key: "reason", width: 50 },
+            { header: w("headers.bMinusA"), key: "value", numFmt: PCT },
+            { header: w("headers.n95PctCILower"), key: "lower", numFmt: PCT },
+            { header: w("headers.n95PctCIUpper"), key: "upper", numFmt: PCT },
+            { header: w("headers.test"), key: "test" },
+            { header: w("headers.pTwoSided"), key: "p", numFmt: P },
+            { header: w("headers.method"), key: "method", width: 80 },
+            { header: w("headers.whyNoP"), key: "reason", width: 50 },
           ],
           rows: [{ ...x.difference, test: TEST_WORDS[x.test.name], p: x.test.p, method: `${x.difference.method}; ${x.test.method}`, reason: x.test.reason }],
         },
       ];
       const st = x.stratified;
       if (st) {
-        const by = st.by.label;
+        const by = w.term(st.by.key, st.by.label);
         sheets.push(
           {
-            name: `Within ${by.toLowerCase()}`,
+            // English lower-cases the name inside the sheet's name; German keeps its noun's capital.
+            name: w("sheets.within", { by: w.language === "de" ? by : by.toLowerCase() }),
             columns: [
               { header: by, key: "label", width: 18 },
-              { header: "A slabs", key: "aSlabs", numFmt: N0 },
-              { header: "A affected", key: "aAffected", numFmt: N0 },
-              { header: "A rate", key: "aRate", numFmt: PCT },
-              { header: "B slabs", key: "bSlabs", numFmt: N0 },
-              { header: "B affected", key: "bAffected", numFmt: N0 },
-              { header: "B rate", key: "bRate", numFmt: PCT },
-              { header: "B − A", key: "diff", numFmt: PCT },
-              { header: "B − A 95 % CI lower", key: "diffLower", numFmt: PCT },
-              { header: "B − A 95 % CI upper", key: "diffUpper", numFmt: PCT },
-              { header: "Odds ratio B against A", key: "oddsRatio", numFmt: D3 },
-              { header: "Odds ratio 95 % CI lower", key: "ciLower", numFmt: D3 },
-              { header: "Odds ratio 95 % CI upper", key: "ciUpper", numFmt: D3 },
-              { header: "Note", key: "reason", width: 50 },
+              { header: w("headers.aSlabs"), key: "aSlabs", numFmt: N0 },
+              { header: w("headers.aAffected"), key: "aAffected", numFmt: N0 },
+              { header: w("headers.aRate"), key: "aRate", numFmt: PCT },
+              { header: w("headers.bSlabs"), key: "bSlabs", numFmt: N0 },
+              { header: w("headers.bAffected"), key: "bAffected", numFmt: N0 },
+              { header: w("headers.bRate"), key: "bRate", numFmt: PCT },
+              { header: w("headers.bMinusA"), key: "diff", numFmt: PCT },
+              { header: w("headers.bMinusA95PctCILower"), key: "diffLower", numFmt: PCT },
+              { header: w("headers.bMinusA95PctCIUpper"), key: "diffUpper", numFmt: PCT },
+              { header: w("headers.oddsRatioBAgainstA"), key: "oddsRatio", numFmt: D3 },
+              { header: w("headers.oddsRatio95PctCILower"), key: "ciLower", numFmt: D3 },
+              { header: w("headers.oddsRatio95PctCIUpper"), key: "ciUpper", numFmt: D3 },
+              { header: w("headers.note"), key: "reason", width: 50 },
             ],
             rows: st.strata.map((t) => ({
               label: t.label,
@@ -599,16 +610,16 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
             })),
           },
           {
-            name: "Pooled over strata",
+            name: w("sheets.pooledOverStrata"),
             columns: [
-              { header: "Statistic", key: "item", width: 44 },
-              { header: "Value", key: "value", numFmt: "0.0000" },
-              { header: "95 % CI lower", key: "lower", numFmt: "0.0000" },
-              { header: "95 % CI upper", key: "upper", numFmt: "0.0000" },
-              { header: "Chi-square", key: "chi2", numFmt: "0.000" },
-              { header: "df", key: "df", numFmt: "0" },
-              { header: "p", key: "p", numFmt: P },
-              { header: "Note", key: "note", width: 70 },
+              { header: w("headers.statistic"), key: "item", width: 44 },
+              { header: w("headers.value"), key: "value", numFmt: "0.0000" },
+              { header: w("headers.n95PctCILower"), key: "lower", numFmt: "0.0000" },
+              { header: w("headers.n95PctCIUpper"), key: "upper", numFmt: "0.0000" },
+              { header: w("headers.chiSquare"), key: "chi2", numFmt: "0.000" },
+              { header: w("headers.df"), key: "df", numFmt: "0" },
+              { header: w("headers.p"), key: "p", numFmt: P },
+              { header: w("headers.note"), key: "note", width: 70 },
             ],
             rows: [
               { item: "Crude odds ratio B against A (strata ignored)", value: st.crude.oddsRatio, lower: st.crude.ciLower, upper: st.crude.ciUpper },
@@ -640,7 +651,7 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
               },
             ],
           },
-          referenceMixSheet(st.standardised.referenceMix, by),
+          referenceMixSheet(st.standardised.referenceMix, by, w),
         );
       }
       return sheets;
@@ -650,16 +661,19 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
       const along = x.alongEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.alongEdges[i + 1]! * 100)} %`);
       return [
         {
-          name: "By face",
+          name: w("sheets.byFace"),
           columns: [
-            { header: "Face", key: "face" },
-            { header: "Defects", key: "defects", numFmt: N0 },
+            { header: w("headers.face"), key: "face" },
+            { header: w("headers.defects"), key: "defects", numFmt: N0 },
           ],
           rows: x.byFace,
         },
         {
-          name: "Along the slab",
-          columns: [{ header: "Face", key: "face" }, ...along.map((a, i) => ({ header: `${a} of length from head`, key: `a${i}`, numFmt: N0 }))],
+          name: w("sheets.alongTheSlab"),
+          columns: [
+            { header: w("headers.face"), key: "face" },
+            ...along.map((a, i) => ({ header: w("headers.ofLengthFromHead", { range: a }), key: `a${i}`, numFmt: N0 })),
+          ],
           rows: x.grid.map((g) => ({ face: g.face, ...Object.fromEntries(g.along.map((v, i) => [`a${i}`, v])) })),
         },
       ];
@@ -668,27 +682,27 @@ function tablesFor(kind: string, r: unknown): Sheet[] {
       const x = r as CausePareto;
       return [
         {
-          name: "Causes",
+          name: w("sheets.causes"),
           columns: [
-            { header: "Cause tag", key: "code", width: 26 },
-            { header: "Name", key: "name", width: 32 },
-            { header: "Group", key: "group" },
-            { header: "Defects", key: "defects", numFmt: N0 },
-            { header: "Slabs", key: "slabs", numFmt: N0 },
-            { header: "Suspected", key: "suspected", numFmt: N0 },
-            { header: "Probable", key: "probable", numFmt: N0 },
-            { header: "Confirmed", key: "confirmed", numFmt: N0 },
-            { header: "Share of taggings", key: "share", numFmt: PCT },
-            { header: "Cumulative share", key: "cumulative", numFmt: PCT },
+            { header: w("headers.causeTag"), key: "code", width: 26 },
+            { header: w("headers.name"), key: "name", width: 32 },
+            { header: w("headers.group"), key: "group" },
+            { header: w("headers.defects"), key: "defects", numFmt: N0 },
+            { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+            { header: w("headers.suspected"), key: "suspected", numFmt: N0 },
+            { header: w("headers.probable"), key: "probable", numFmt: N0 },
+            { header: w("headers.confirmed"), key: "confirmed", numFmt: N0 },
+            { header: w("headers.shareOfTaggings"), key: "share", numFmt: PCT },
+            { header: w("headers.cumulativeShare"), key: "cumulative", numFmt: PCT },
           ],
           rows: x.rows,
         },
         {
-          name: "Counts",
+          name: w("sheets.counts"),
           columns: [
-            { header: "Defects passing the filters (n)", key: "defects", numFmt: N0 },
-            { header: "Tagged", key: "tagged", numFmt: N0 },
-            { header: "Without a cause", key: "untagged", numFmt: N0 },
+            { header: w("headers.defectsPassingTheFiltersN"), key: "defects", numFmt: N0 },
+            { header: w("headers.tagged"), key: "tagged", numFmt: N0 },
+            { header: w("headers.withoutACause"), key: "untagged", numFmt: N0 },
           ],
           rows: [x],
         },
@@ -876,18 +890,47 @@ function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
   return rows;
 }
 
-export async function reportWorkbook(kind: string, query: string, result: unknown, by: string, method: string[] = []): Promise<Buffer> {
+/** The Parameters sheet's own item names (explanationsOf writes them in English) → their keys. */
+const EXPLANATION_KEYS: Record<string, string> = { Note: "note", Method: "method", Overdispersion: "overdispersion", Finding: "finding" };
+const REPORT_TITLE_KEYS = new Set(Object.keys(REPORT_TITLES));
+
+/**
+ * The words of a workbook in one language: `w("headers.slabs")` reads `server:report.headers.slabs`;
+ * `w.term(key, label)` is a variable's or categorical key's name (the report's own label in English).
+ */
+type W = ((key: string, values?: Record<string, unknown>) => string) & { language: Language; term: (key: string, label: string) => string };
+
+export async function reportWorkbook(
+  kind: string,
+  query: string,
+  result: unknown,
+  by: string,
+  method: string[] = [],
+  language: Language | null = null,
+): Promise<Buffer> {
   const wb = await newWorkbook(new Date());
-  const { add } = addItemSheet(wb, "Parameters", { item: { header: "Parameter", width: 28 }, value: { header: "Value", width: 100 } });
-  add("Report", REPORT_TITLES[kind] ?? kind);
-  add("Generated", new Date().toISOString());
-  add("By", by);
+  const t = translator(language);
+  /** The workbook's words in the asker's language (server:report.*). */
+  const lng: Language = language ?? "en";
+  const w: W = Object.assign((key: string, values?: Record<string, unknown>) => t(`server:report.${key}`, values ?? {}), {
+    language: lng,
+    // The report's label is the English name; other languages read the screens' names of the same key.
+    term: (key: string, label: string) =>
+      lng === "en" ? label : t(`common:terms.variables.${key}.label`, { defaultValue: t(`common:terms.categorical.${key}`, { defaultValue: label }) }),
+  });
+  const { add } = addItemSheet(wb, w("sheets.parameters"), {
+    item: { header: w("headers.parameter"), width: 28 },
+    value: { header: w("headers.value"), width: 100 },
+  });
+  add(w("items.report"), REPORT_TITLE_KEYS.has(kind) ? t(`server:report.titles.${kind}`) : kind);
+  add(w("items.generated"), new Date().toISOString());
+  add(w("items.by"), by);
   const given = parameterRows(kind, query);
-  if (given.length === 0) add("Filters", "none (all slabs on record)");
+  if (given.length === 0) add(w("items.filters"), w("items.noFilters"));
   for (const row of given) add(row.k, row.v);
-  for (const m of method) add("Method", methodInWords(m));
-  for (const row of explanationsOf(kind, result)) add(row.k, row.v);
-  for (const c of CAUTIONS) add("Caution", c);
+  for (const m of method) add(w("items.method"), methodInWords(m));
+  for (const row of explanationsOf(kind, result)) add(EXPLANATION_KEYS[row.k] ? w(`items.${EXPLANATION_KEYS[row.k]}`) : row.k, row.v);
+  CAUTIONS.forEach((_, i) => add(w("items.caution"), w(`cautions.${i}`)));
 
   let floored = 0;
   const look: TableLook<Col> = {
@@ -901,12 +944,9 @@ export async function reportWorkbook(kind: string, query: string, result: unknow
       return v;
     },
   };
-  for (const t of tablesFor(kind, result)) addTableSheet(wb, t.name, t.columns, t.rows, look);
+  for (const sheet of tablesFor(kind, result, w)) addTableSheet(wb, sheet.name, sheet.columns, sheet.rows, look);
   if (floored > 0) {
-    add(
-      "Reading",
-      "A p-value written as 2.23E-308 is smaller than the smallest number a double (and a spreadsheet) holds: the computation underflowed. The screen shows it as < 10⁻¹⁵.",
-    );
+    add(w("items.reading"), w("items.underflow"));
   }
   return workbookBuffer(wb);
 }

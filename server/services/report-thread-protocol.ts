@@ -1,4 +1,5 @@
 /** The messages between the main thread (report-thread.ts) and the report thread (report-thread-worker.ts). */
+import type { Said } from "../lib/http-error";
 import type { ReportCacheStatus } from "./report-cache";
 
 export interface ReportThreadData {
@@ -15,8 +16,9 @@ export type ToReportThread =
   | { type: "cache"; id: number; token: number; op: "whenReady" | "save" | "close"; version?: number }
   | { type: "exit" };
 
-/** An error thrown in the thread: an HttpError keeps its status, code, words and details. */
-export type ThreadError = { http: true; status: number; code: string; message: string; details?: unknown } | { http: false; message: string; stack?: string };
+/** An error thrown in the thread: an HttpError keeps its status, code, words (and their catalogue keys) and details. */
+export type ThreadError =
+  { http: true; status: number; code: string; message: string; said?: Said[]; details?: unknown } | { http: false; message: string; stack?: string };
 
 export type FromReportThread =
   | { type: "online" }

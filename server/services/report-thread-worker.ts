@@ -53,7 +53,7 @@ let current: ReportCacheHandle | null = null;
 const status = (): ReportCacheStatus | null => current?.status() ?? null;
 
 function asThreadError(err: unknown): ThreadError {
-  if (err instanceof HttpError) return { http: true, status: err.status, code: err.code, message: err.message, details: err.details };
+  if (err instanceof HttpError) return { http: true, status: err.status, code: err.code, message: err.message, said: err.said, details: err.details };
   const e = err as Error;
   return { http: false, message: e?.message ?? String(err), stack: e?.stack };
 }

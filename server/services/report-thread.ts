@@ -25,7 +25,7 @@
 import { EventEmitter } from "node:events";
 import { Worker } from "node:worker_threads";
 import type { Db } from "../db/client";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 import { threadEntry } from "../lib/paths";
 import { linkReportThread, type ReportCacheHandle, type ReportCacheOptions, type ReportCacheStatus } from "./report-cache";
@@ -121,7 +121,7 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
   }
 
   function fromThread(e: ThreadError): Error {
-    if (e.http) return new HttpError(e.status, e.code, e.message, e.details);
+    if (e.http) return new HttpError(e.status, e.code, e.said ?? e.message, e.details);
     const err = new Error(e.message);
     if (e.stack) err.stack = e.stack;
     return err;
@@ -136,14 +136,7 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
     if (closing) return;
     restarts++;
     opts.logger?.error({ code, reports: reportsInFlight, outOfMemory }, "report thread stopped; starting a new one");
-    const stopped = new HttpError(
-      503,
-      "reports_restarted",
-      outOfMemory
-        ? "This report needed more memory than the reports may use and was stopped. The reports have been started again: ask again, over a shorter period or with more filters."
-        : "The reports stopped while this one was being worked out and have been started again. Ask for the report again in a moment.",
-      { retryAfterSeconds: 5 },
-    );
+    const stopped = new HttpError(503, "reports_restarted", said(outOfMemory ? "reports.outOfMemory" : "reports.restarted"), { retryAfterSeconds: 5 });
     for (const [id, p] of pending) {
       pending.delete(id);
       p.reject(stopped);
@@ -189,9 +182,9 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
 
   /** Runs a report that reads the slab facts in the thread; its result, or its HttpError as thrown there. */
   async function run(kind: string, query: unknown): Promise<unknown> {
-    if (closing) throw new HttpError(503, "reports_stopping", "The server is stopping; ask for the report again once it is back.", { retryAfterSeconds: 10 });
+    if (closing) throw new HttpError(503, "reports_stopping", said("reports.stopping"), { retryAfterSeconds: 10 });
     if (reportsInFlight >= maxWaiting) {
-      throw new HttpError(429, "reports_busy", `${maxWaiting} reports are being worked out or waiting. Try again in a moment.`, { retryAfterSeconds: 5 });
+      throw new HttpError(429, "reports_busy", said("reports.busy", { n: maxWaiting }), { retryAfterSeconds: 5 });
     }
     reportsInFlight++;
     try {
@@ -301,7 +294,7 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
       clearTimeout(timer);
       for (const [id, p] of pending) {
         pending.delete(id);
-        p.reject(new HttpError(503, "reports_stopping", "The server is stopping; ask for the report again once it is back.", { retryAfterSeconds: 10 }));
+        p.reject(new HttpError(503, "reports_stopping", said("reports.stopping"), { retryAfterSeconds: 10 }));
       }
     },
   };

@@ -2,7 +2,7 @@ import type { CasterCreate, PlantSettings, StrandUpdate } from "@shared/api/heat
 import type { z } from "zod";
 import type { gradeFamilyInputSchema, gradeInputSchema, gradeUpdateSchema } from "@shared/api/heats";
 import type { Db } from "../db/client";
-import { conflict, notFound, badRequest } from "../lib/http-error";
+import { conflict, notFound, badRequest, said } from "../lib/http-error";
 import { liquidusC } from "../metallurgy/liquidus";
 import { recordAudit } from "./audit.service";
 import { createResolver } from "./conditions.service";
@@ -48,7 +48,7 @@ export function updateStrand(db: Db, id: number, patch: StrandUpdate, userId: st
   return db.transaction((tx) => {
     const sqlite = db.$client;
     const before = sqlite.prepare("select * from strands where id = ?").get(id) as Record<string, any> | undefined;
-    if (!before) throw notFound("There is no such strand.");
+    if (!before) throw notFound(said("setup.noStrand"));
     const cols: Record<keyof StrandUpdate, string> = {
       moldThicknessMm: "mold_thickness_mm",
       moldWidthMinMm: "mold_width_min_mm",
@@ -67,7 +67,7 @@ export function updateStrand(db: Db, id: number, patch: StrandUpdate, userId: st
     }
     const min = (patch.moldWidthMinMm !== undefined ? patch.moldWidthMinMm : before.mold_width_min_mm) as number | null;
     const max = (patch.moldWidthMaxMm !== undefined ? patch.moldWidthMaxMm : before.mold_width_max_mm) as number | null;
-    if (min != null && max != null && min > max) throw badRequest("The smallest mold width is larger than the largest.", { field: "moldWidthMinMm" });
+    if (min != null && max != null && min > max) throw badRequest(said("setup.moldWidths"), { field: "moldWidthMinMm" });
     sqlite.prepare(`update strands set ${sets.join(", ")}, updated_at = @now where id = @id`).run(values);
     const after = sqlite.prepare("select * from strands where id = ?").get(id) as Record<string, any>;
     const strand = {
@@ -92,9 +92,9 @@ export function updateStrand(db: Db, id: number, patch: StrandUpdate, userId: st
 export function createCaster(db: Db, input: CasterCreate, userId: string) {
   return db.transaction((tx) => {
     const sqlite = db.$client;
-    if (sqlite.prepare("select 1 from casters where upper(code) = upper(?)").get(input.code)) throw conflict(`Caster ${input.code} already exists.`);
+    if (sqlite.prepare("select 1 from casters where upper(code) = upper(?)").get(input.code)) throw conflict(said("setup.casterExists", { code: input.code }));
     const nos = input.strands.map((s) => s.strandNo);
-    if (new Set(nos).size !== nos.length) throw badRequest("Each strand number may appear once.", { field: "strands" });
+    if (new Set(nos).size !== nos.length) throw badRequest(said("setup.strandTwice"), { field: "strands" });
     const id = Number(
       sqlite
         .prepare("insert into casters (code, name, works_name, machine_type, radius_m) values (?, ?, ?, ?, ?)")
@@ -115,7 +115,7 @@ export function createGradeFamily(db: Db, input: z.infer<typeof gradeFamilyInput
   return db.transaction((tx) => {
     const sqlite = db.$client;
     const code = input.code.toUpperCase();
-    if (sqlite.prepare("select 1 from grade_families where upper(code) = ?").get(code)) throw conflict(`Grade family ${code} already exists.`);
+    if (sqlite.prepare("select 1 from grade_families where upper(code) = ?").get(code)) throw conflict(said("setup.familyExists", { code }));
     const id = Number(
       sqlite.prepare("insert into grade_families (code, name, description) values (?, ?, ?)").run(code, input.name, input.description).lastInsertRowid,
     );
@@ -128,7 +128,7 @@ export function updateGradeFamily(db: Db, code: string, input: { name?: string; 
   return db.transaction((tx) => {
     const sqlite = db.$client;
     const before = sqlite.prepare("select * from grade_families where upper(code) = upper(?)").get(code) as Record<string, any> | undefined;
-    if (!before) throw notFound(`There is no grade family ${code}.`);
+    if (!before) throw notFound(said("setup.noFamily", { code }));
     sqlite
       .prepare("update grade_families set name = ?, description = ?, updated_at = ? where id = ?")
       .run(input.name ?? before.name, input.description !== undefined ? input.description : before.description, Date.now(), before.id);
@@ -140,7 +140,7 @@ export function updateGradeFamily(db: Db, code: string, input: { name?: string; 
 
 function familyId(db: Db, code: string): number {
   const id = db.$client.prepare("select id from grade_families where upper(code) = upper(?)").pluck().get(code) as number | undefined;
-  if (id === undefined) throw badRequest(`There is no grade family ${code}.`, { field: "familyCode" });
+  if (id === undefined) throw badRequest(said("setup.noFamily", { code }), { field: "familyCode" });
   return id;
 }
 
@@ -148,7 +148,7 @@ export function createGrade(db: Db, input: z.infer<typeof gradeInputSchema>, use
   return db.transaction((tx) => {
     const sqlite = db.$client;
     const code = input.code.toUpperCase();
-    if (sqlite.prepare("select 1 from grades where upper(code) = ?").get(code)) throw conflict(`Grade ${code} already exists.`);
+    if (sqlite.prepare("select 1 from grades where upper(code) = ?").get(code)) throw conflict(said("setup.gradeExists", { code }));
     const fam = familyId(db, input.familyCode);
     const id = Number(
       sqlite.prepare("insert into grades (code, name, family_id, active) values (?, ?, ?, ?)").run(code, input.name, fam, input.active ? 1 : 0).lastInsertRowid,
@@ -162,7 +162,7 @@ export function updateGrade(db: Db, code: string, input: z.infer<typeof gradeUpd
   return db.transaction((tx) => {
     const sqlite = db.$client;
     const before = sqlite.prepare("select * from grades where upper(code) = upper(?)").get(code) as Record<string, any> | undefined;
-    if (!before) throw notFound(`There is no grade ${code}.`);
+    if (!before) throw notFound(said("setup.noGrade", { code }));
     const fam = input.familyCode ? familyId(db, input.familyCode) : before.family_id;
     sqlite
       .prepare("update grades set name = ?, family_id = ?, active = ?, updated_at = ? where id = ?")

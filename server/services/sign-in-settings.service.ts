@@ -13,7 +13,7 @@ import { parseRoles, ROLES, type Role } from "@shared/roles";
 import type { SignInSettings } from "@shared/api/sign-in-admin";
 import type { Db } from "../db/client";
 import { plantSettings, user } from "../db/schema";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 
 const KEY = "signIn.directory";
@@ -34,16 +34,11 @@ export function getSignInSettings(db: Reader): SignInSettings {
  */
 export function writeSignInSettings(db: Db, next: SignInSettings, actorId: string, ssoConfigured: boolean): SignInSettings {
   if (next.localPasswords === "administrators" && !ssoConfigured) {
-    throw new HttpError(
-      409,
-      "no_identity_provider",
-      "Password sign-in can be kept for administrators only once the plant's identity provider is set up (OIDC_ISSUER); until then everyone signs in with a password.",
-    );
+    throw new HttpError(409, "no_identity_provider", said("signInSettings.noIdentityProvider"));
   }
   const seen = new Set<string>();
   for (const g of next.groupRoles) {
-    if (seen.has(g.group))
-      throw new HttpError(400, "validation_failed", `The group “${g.group}” is listed twice: give each group one line with all its roles.`);
+    if (seen.has(g.group)) throw new HttpError(400, "validation_failed", said("signInSettings.groupTwice", { group: g.group }));
     seen.add(g.group);
   }
   return db.transaction((tx) => {

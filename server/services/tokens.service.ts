@@ -1,7 +1,7 @@
 import crypto from "node:crypto";
 import { DEFAULT_TOKEN_SCOPES, TOKEN_SCOPE_LABELS, TOKEN_SCOPES, type ApiToken, type TokenScope } from "@shared/api/tokens";
 import type { Db } from "../db/client";
-import { HttpError, notFound } from "../lib/http-error";
+import { HttpError, notFound, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 
 const hash = (token: string) => crypto.createHash("sha256").update(token).digest("hex");
@@ -73,7 +73,7 @@ export function listTokens(db: Db): ApiToken[] {
  */
 export function createToken(db: Db, name: string, scopes: readonly TokenScope[], userId: string): ApiToken & { token: string } {
   const kinds = TOKEN_SCOPES.filter((k) => scopes.includes(k));
-  if (kinds.length === 0) throw new HttpError(400, "no_scopes", "Tick at least one kind of data the token may send.");
+  if (kinds.length === 0) throw new HttpError(400, "no_scopes", said("tokens.noScopes"));
   const token = `ssk_${crypto.randomBytes(32).toString("base64url")}`;
   const prefix = token.slice(0, 12);
   return db.transaction(() => {
@@ -91,7 +91,7 @@ export function createToken(db: Db, name: string, scopes: readonly TokenScope[],
 export function revokeToken(db: Db, id: number, userId: string): ApiToken {
   return db.transaction(() => {
     const before = db.$client.prepare(`${SELECT} where t.id = ?`).get(id) as Record<string, any> | undefined;
-    if (!before) throw notFound("There is no such API token.");
+    if (!before) throw notFound(said("tokens.noToken"));
     if (before.revoked_at == null) {
       db.$client.prepare("update api_tokens set revoked_at = ? where id = ?").run(Date.now(), id);
       recordAudit(db, { userId, action: "token.revoke", entity: "api_token", entityId: id, before: { revokedAt: null }, after: { revoked: true } });

@@ -17,7 +17,7 @@ import { CLIENT_IP_HEADER } from "../auth";
 import { account, emailOutbox, session, user } from "../db/schema";
 import type { Logger } from "../lib/logger";
 import type { Notifications } from "../mail/notifications";
-import { HttpError, conflict, notFound } from "../lib/http-error";
+import { HttpError, conflict, notFound, said } from "../lib/http-error";
 import { LOCK_MS, MAX_FAILURES, type SignInGuard, type SignInLock } from "../lib/sign-in-guard";
 import { recordAudit } from "./audit.service";
 
@@ -75,14 +75,10 @@ export function listUsers(db: Db, guard?: SignInGuard): AdminUser[] {
 /** Lifts every sign-in lock of the account (from every address), audited; 409 when there is none. */
 export function unlockUser(db: Db, guard: SignInGuard, id: string, actorId: string): AdminUser {
   const u = db.select().from(user).where(eq(user.id, id)).get();
-  if (!u) throw notFound("There is no such user.");
+  if (!u) throw notFound(said("users.noUser"));
   const locks = guard.locksOf(u.email);
   if (locks.length === 0) {
-    throw new HttpError(
-      409,
-      "not_locked",
-      "This account is not locked: a lock ends on its own after 15 minutes, and this one has ended or was lifted already.",
-    );
+    throw new HttpError(409, "not_locked", said("users.notLocked"));
   }
   // The audit row first: a lock is lifted only once the trail says who lifted it.
   recordAudit(db, {
@@ -109,7 +105,7 @@ export type NewUser = Pick<CreateUserInput, "name" | "email" | "roles"> & { pass
 export async function createUser(db: Db, auth: Auth, input: NewUser, actor: { userId?: string | null; actor?: string }): Promise<AdminUser> {
   const email = input.email.toLowerCase();
   if (db.select({ id: user.id }).from(user).where(eq(user.email, email)).get()) {
-    throw conflict(`A user with the e-mail ${email} already exists.`, { field: "email" });
+    throw conflict(said("users.emailTaken", { email }), { field: "email" });
   }
   const hash = input.password === undefined ? null : await (await auth.$context).password.hash(input.password);
   const mustChangePassword = hash !== null && input.mustChangePassword === true;
@@ -153,7 +149,7 @@ export async function createUser(db: Db, auth: Auth, input: NewUser, actor: { us
   } catch (err) {
     // Two admins creating the same e-mail at once: the unique index decides, the loser gets 409.
     if ((err as { code?: string }).code === "SQLITE_CONSTRAINT_UNIQUE") {
-      throw conflict(`A user with the e-mail ${email} already exists.`, { field: "email" });
+      throw conflict(said("users.emailTaken", { email }), { field: "email" });
     }
     throw err;
   }
@@ -172,12 +168,12 @@ function activeAdminsOtherThan(db: Pick<Db, "select">, id: string): number {
 export function updateUser(db: Db, id: string, input: UpdateUserInput, actorId: string, guard?: SignInGuard): AdminUser {
   return db.transaction((tx) => {
     const before = tx.select().from(user).where(eq(user.id, id)).get();
-    if (!before) throw notFound("There is no such user.");
+    if (!before) throw notFound(said("users.noUser"));
     const roles: Role[] = input.roles ?? parseRoles(before.role);
     const active = input.active ?? !before.banned;
     const losesAdmin = parseRoles(before.role).includes("admin") && !before.banned && (!roles.includes("admin") || !active);
     if (losesAdmin && activeAdminsOtherThan(tx, id) === 0) {
-      throw new HttpError(409, "last_admin", "This is the last active administrator; give another user the admin role first.");
+      throw new HttpError(409, "last_admin", said("users.lastAdmin"));
     }
     const after = tx
       .update(user)
@@ -257,11 +253,7 @@ export async function changeOwnPassword(
   const guard = auth.signInGuard;
   const minutes = guard.lockedFor(who.email, who.address);
   if (minutes > 0) {
-    throw new HttpError(
-      429,
-      "account_locked",
-      `Too many wrong passwords for this account from your computer's address: try again in ${minutes} minute${minutes === 1 ? "" : "s"}.`,
-    );
+    throw new HttpError(429, "account_locked", said("users.locked", { count: minutes }));
   }
   // Only the session cookie and the address Express resolved: nothing else of the client's headers.
   const headers = new Headers({ cookie: who.cookie, [CLIENT_IP_HEADER]: who.address });
@@ -283,7 +275,7 @@ export async function changeOwnPassword(
           after: { minutes: LOCK_MS / 60_000, failures: MAX_FAILURES, address: who.address },
         });
       }
-      throw new HttpError(400, "wrong_current_password", "The current password is not right: type the password you signed in with.", [
+      throw new HttpError(400, "wrong_current_password", said("users.wrongCurrentPassword"), [
         { path: "currentPassword", message: "This is not your current password." },
       ]);
     }

@@ -13,7 +13,7 @@ import {
 } from "@shared/api/yard";
 import type { Db } from "../db/client";
 import { plantSettings } from "../db/schema";
-import { notFound } from "../lib/http-error";
+import { notFound, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 import { getCatalogue } from "./catalogue.service";
 import { topRiskOfSlabs } from "./risk/risk.service";
@@ -159,7 +159,7 @@ export function yardSyncSet(db: Db, user: Actor, now = Date.now()): YardSync {
 export function yardSlab(db: Db, slabId: string): YardSlab {
   const id = slabId.trim().toUpperCase();
   const row = db.$client.prepare(`select ${SLAB_COLUMNS} from slabs s ${SLAB_JOINS} where s.slab_id = ?`).get(id) as Row | undefined;
-  if (!row) throw notFound(`There is no slab ${id} on record. Check the id on the slab's label, or scan it again.`);
+  if (!row) throw notFound(said("defects.noSlab", { slab: id }));
   return toYardSlabs(db, [row])[0]!;
 }
 

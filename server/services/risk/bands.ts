@@ -6,7 +6,7 @@
  */
 import type Database from "better-sqlite3";
 import type { RiskBand } from "@shared/api/risk";
-import { badRequest } from "../../lib/http-error";
+import { badRequest, said } from "../../lib/http-error";
 
 export const bandOf = (risk: number, high: number | null, raised: number | null): RiskBand =>
   high !== null && risk >= high ? "high" : raised !== null && risk >= raised ? "raised" : "usual";
@@ -24,7 +24,7 @@ export function riskBandSlabsSql(sqlite: Database.Database, bands: string[], typ
     .prepare(`select m.id, m.target_kind as kind, m.target_code as code from risk_models m where m.active = 1 and m.status = 'ready'`)
     .all() as { id: number; kind: "type" | "category"; code: string }[];
   if (active.length === 0)
-    throw badRequest("No risk model is switched on, so no slab has a risk band yet. A quality engineer switches one on under Risk models.", {
+    throw badRequest(said("risk.noneSwitchedOn"), {
       field: "riskBand",
     });
   let chosen = active;

@@ -26,7 +26,7 @@
  * the mail queue once per model and month, in the same transaction that marks the months alerted.
  */
 import type { Db } from "../../db/client";
-import { HttpError } from "../../lib/http-error";
+import { HttpError, said } from "../../lib/http-error";
 import type { Logger } from "../../lib/logger";
 import type { Notifications } from "../../mail/notifications";
 import { aucDeLong } from "../../stats/discrimination";
@@ -177,7 +177,7 @@ interface MonthCalc extends Omit<RiskDriftMonth, "alertedAt" | "checkedAt"> {}
 
 function rowOf(db: Db, id: number): ModelRow {
   const r = db.$client.prepare("select * from risk_models where id = ?").get(id) as ModelRow | undefined;
-  if (!r) throw new HttpError(404, "not_found", `There is no risk model ${id}.`);
+  if (!r) throw new HttpError(404, "not_found", said("risk.noModel", { id }));
   return r;
 }
 

@@ -14,7 +14,7 @@
 import { Worker } from "node:worker_threads";
 import type { Db } from "../../db/client";
 import { databaseIdOf } from "../../db/identity";
-import { HttpError } from "../../lib/http-error";
+import { HttpError, said } from "../../lib/http-error";
 import type { Logger } from "../../lib/logger";
 import { threadEntry } from "../../lib/paths";
 import { recordAudit } from "../audit.service";
@@ -115,7 +115,7 @@ function toModel(db: Db, r: Row, withTerms: boolean): RiskModel {
 
 function rowOf(db: Db, id: number): Row {
   const r = db.$client.prepare("select * from risk_models where id = ?").get(id) as Row | undefined;
-  if (!r) throw new HttpError(404, "not_found", `There is no risk model ${id}.`);
+  if (!r) throw new HttpError(404, "not_found", said("risk.noModel", { id }));
   return r;
 }
 
@@ -587,7 +587,7 @@ export function riskSlabs(db: Db, q: RiskSlabsQuery) {
     const type = db.$client
       .prepare("select t.code, c.code as category from defect_types t join defect_categories c on c.id = t.category_id where upper(t.code) = upper(?)")
       .get(q.defectType) as { code: string; category: string } | undefined;
-    if (!type) throw new HttpError(400, "unknown_defect_type", `There is no defect type with the code ${q.defectType}.`, { field: "defectType" });
+    if (!type) throw new HttpError(400, "unknown_defect_type", said("risk.noDefectType", { code: q.defectType }), { field: "defectType" });
     where.push("((m.target_kind = 'type' and m.target_code = @type) or (m.target_kind = 'category' and m.target_code = @category))");
     params.type = type.code;
     params.category = type.category;
