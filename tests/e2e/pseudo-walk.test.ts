@@ -25,7 +25,8 @@ async function untranslatedTexts(page: Page, data: Set<string>, served: Set<stri
     const walker = document.createTreeWalker(document.body, NodeFilter.SHOW_TEXT);
     for (let n = walker.nextNode(); n; n = walker.nextNode()) {
       const parent = n.parentElement;
-      if (!parent || parent.closest("script,style,noscript") || !visible(parent)) continue;
+      // <code>: an identifier a person types or a file carries (a column's name), the same in every language.
+      if (!parent || parent.closest("script,style,noscript,code") || !visible(parent)) continue;
       const t = (n.textContent ?? "").trim();
       if (t) out.push(t);
     }
