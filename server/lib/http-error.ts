@@ -1,5 +1,38 @@
 import type { Language } from "@shared/i18n/languages";
-import { translator } from "./i18n";
+import enCommon from "@shared/i18n/locales/en/common.json";
+import enServer from "@shared/i18n/locales/en/server.json";
+
+type Translate = (key: string, values?: Record<string, unknown>) => string;
+type Tree = { [key: string]: string | Tree };
+
+/**
+ * How an error's words are said in a language: the catalogues' translator, which server/lib/i18n.ts
+ * installs when it loads (the main thread, where refusals are answered). A thread that never loads
+ * it (the import and reader threads, which only hand their refusals on) writes the English from the
+ * English catalogues alone, without i18next and the other languages' catalogues in its memory:
+ * `{{value}}` put in, `_one`/`_other` chosen by `count` as English does (tests/server/server-language
+ * compares it with i18next's English for every key).
+ */
+let installed: ((language: Language | null | undefined) => Translate) | null = null;
+
+export function installTranslator(translatorOf: (language: Language | null | undefined) => Translate) {
+  installed = translatorOf;
+}
+
+const find = (tree: Tree, path: string): string | undefined => {
+  let node: string | Tree | undefined = tree;
+  for (const part of path.split(".")) node = typeof node === "object" ? node[part] : undefined;
+  return typeof node === "string" ? node : undefined;
+};
+
+/** English from the English catalogues, for a thread without the translator (see above). */
+export const englishOf: Translate = (key, values = {}) => {
+  const [ns, path] = key.includes(":") ? (key.split(":", 2) as [string, string]) : ["common", key];
+  const tree = (ns === "server" ? enServer : enCommon) as Tree;
+  const count = values.count;
+  const text = (typeof count === "number" ? find(tree, `${path}_${count === 1 ? "one" : "other"}`) : undefined) ?? find(tree, path) ?? key;
+  return text.replace(/\{\{\s*([\w.]+)\s*\}\}/g, (whole, name: string) => (name in values ? String(values[name]) : whole));
+};
 
 /**
  * Values put into a catalogue text: names and numbers as they are, or `{ terms }`: catalogue keys
@@ -22,7 +55,7 @@ export const said = (key: string, values?: SaidValues): Said => (values ? { key,
 
 /** A Said in one language (English where none is given). */
 export function sayIn(s: Said, language: Language | null | undefined): string {
-  const t = translator(language);
+  const t = installed ? installed(language) : englishOf;
   const values = Object.fromEntries(Object.entries(s.values ?? {}).map(([k, v]) => [k, typeof v === "object" ? v.terms.map((key) => t(key)).join(", ") : v]));
   return t(`server:errors.${s.key}`, values);
 }

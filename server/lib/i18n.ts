@@ -1,15 +1,18 @@
 /**
  * The server's texts in the reader's language, from the same catalogues as the screens
- * (shared/i18n): one i18next instance with every language loaded at start (they are small), and a
- * fixed `t` per language for e-mails, workbook headers and messages.
+ * (shared/i18n): one i18next instance, English at start and each other language added the first
+ * time a text is asked in it (a thread that only ever writes English refusals — the import and
+ * report threads — holds English alone), and a fixed `t` per language for e-mails, workbook headers
+ * and messages.
  */
 import i18next, { type TFunction } from "i18next";
 import { LANGUAGES, languageFromBrowser, type Language } from "@shared/i18n/languages";
 import { NAMESPACES, resourcesFor } from "@shared/i18n/resources";
+import { installTranslator } from "./http-error";
 
 const instance = i18next.createInstance();
 void instance.init({
-  resources: Object.fromEntries(LANGUAGES.map((l) => [l, resourcesFor(l)])),
+  resources: { en: resourcesFor("en") },
   lng: "en",
   fallbackLng: "en",
   ns: [...NAMESPACES],
@@ -25,7 +28,13 @@ const fixed = new Map<Language, TFunction>();
 export function translator(language: Language | null | undefined): TFunction {
   const lng = language ?? "en";
   let t = fixed.get(lng);
-  if (!t) fixed.set(lng, (t = instance.getFixedT(lng)));
+  if (!t) {
+    if (lng !== "en" && LANGUAGES.includes(lng)) {
+      const catalogue = resourcesFor(lng);
+      for (const ns of NAMESPACES) instance.addResourceBundle(lng, ns, catalogue[ns], true, true);
+    }
+    fixed.set(lng, (t = instance.getFixedT(lng)));
+  }
   return t;
 }
 
@@ -36,3 +45,6 @@ export function translator(language: Language | null | undefined): TFunction {
 export function requestLanguage(req: { user?: { language?: Language | null } | null; acceptsLanguages(): string[] }): Language {
   return req.user?.language ?? languageFromBrowser(req.acceptsLanguages().filter((l) => l !== "*"));
 }
+
+// Refusals made from here on are said through the catalogues (server/lib/http-error.ts).
+installTranslator((language) => translator(language) as unknown as (key: string, values?: Record<string, unknown>) => string);

@@ -210,3 +210,30 @@ describe("the server's words in the reader's language", () => {
     expect(wb.getWorksheet("By period")).toBeDefined();
   });
 });
+
+describe("a thread without the catalogues' translator (the import and reader threads)", () => {
+  it("when it says any refusal of the server catalogue in English, then the words are i18next's English exactly, plurals and values included", async () => {
+    const { englishOf } = await import("../../server/lib/http-error");
+    const { translator } = await import("../../server/lib/i18n");
+    const en = (await import("../../shared/i18n/locales/en/server.json")).default as Tree;
+    const t = translator("en");
+    let compared = 0;
+    for (const [path, text] of leavesOf(en.errors as Tree, "errors.")) {
+      const key = path.replace(/_(one|other)$/, "");
+      const names = [...text.matchAll(/\{\{\s*([\w.]+)\s*\}\}/g)].map((m) => m[1]!);
+      for (const count of [1, 2]) {
+        const values: Record<string, unknown> = Object.fromEntries(names.map((n) => [n, `‹${n}›`]));
+        values.count = count;
+        expect(englishOf(`server:${key}`, values), key).toBe(t(`server:${key}`, values));
+        compared++;
+      }
+    }
+    expect(compared).toBeGreaterThan(200);
+    expect(englishOf("common:roles.quality")).toBe("Quality engineer");
+  });
+});
+
+type Tree = { [key: string]: string | Tree };
+function leavesOf(tree: Tree, prefix: string): [string, string][] {
+  return Object.entries(tree).flatMap(([k, v]) => (typeof v === "string" ? [[prefix + k, v] as [string, string]] : leavesOf(v, `${prefix}${k}.`)));
+}
