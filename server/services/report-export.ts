@@ -50,6 +50,17 @@ const OR = "0.000";
 const yes = (b: boolean | null | undefined) => (b ? "yes" : "");
 
 /** The adjusted and crude odds ratios of rate against a variable, and the per-level rates and odds ratios. */
+/** A binned rate table's columns: the bin's bounds in the variable's unit, slabs, affected, rate and its 95 % interval. */
+const binColumns = (w: W, u: string): Col[] => [
+  { header: w("headers.fromUnit", { unit: u }), key: "lower", numFmt: D3 },
+  { header: w("headers.toUnit", { unit: u }), key: "upper", numFmt: D3 },
+  { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
+  { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
+  { header: w("headers.rate"), key: "rate", numFmt: PCT },
+  { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
+  { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
+];
+
 function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
   const u = x.variable.unit;
   const perUnit = u === "–" ? w("per.one") : w("per.oneUnit", { unit: u });
@@ -94,17 +105,7 @@ function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
   if (st) {
     sheets.push({
       name: w("sheets.ratesWithinLevels"),
-      columns: [
-        { header: w.term(st.by.key, st.by.label), key: "level", width: 18 },
-        { header: w("headers.fromUnit", { unit: u }), key: "lower", numFmt: D3 },
-        { header: w("headers.toUnit", { unit: u }), key: "upper", numFmt: D3 },
-        { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
-        { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
-        { header: w("headers.rate"), key: "rate", numFmt: PCT },
-        { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
-        { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
-        { header: w("headers.tooFewSlabs"), key: "sparse" },
-      ],
+      columns: [{ header: w.term(st.by.key, st.by.label), key: "level", width: 18 }, ...binColumns(w, u), { header: w("headers.tooFewSlabs"), key: "sparse" }],
       rows: st.strata.flatMap((level) => level.bins.map((b) => ({ level: level.label, ...b, sparse: yes(b.sparse) }))),
     });
     sheets.push({
@@ -294,15 +295,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
       return [
         {
           name: w("sheets.bins"),
-          columns: [
-            { header: w("headers.fromUnit", { unit: u }), key: "lower", numFmt: D3 },
-            { header: w("headers.toUnit", { unit: u }), key: "upper", numFmt: D3 },
-            { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
-            { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
-            { header: w("headers.rate"), key: "rate", numFmt: PCT },
-            { header: w("headers.n95PctCILower"), key: "ciLower", numFmt: PCT },
-            { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
-          ],
+          columns: [...binColumns(w, u)],
           rows: x.bins,
         },
         {
