@@ -174,7 +174,11 @@ export function Component() {
       <UpdateBand />
       {about.data?.demo ? (
         // A landmark of its own, so a screen reader's tour of the page's regions does not skip it.
-        <aside data-testid="demo-band" aria-label={t("shell.demoData")} className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800">
+        <aside
+          data-testid="demo-band"
+          aria-label={t("shell.demoData")}
+          className="border-b border-brass-400 bg-[#fbf3df] px-4 py-1 text-center text-xs font-medium text-ink-800"
+        >
           {t("shell.demoBanner")}
         </aside>
       ) : null}
