@@ -137,3 +137,14 @@ export function day(ymd: string | null | undefined): string {
   if (!m) return date(ymd);
   return DATE().format(new Date(Number(m[1]), Number(m[2]) - 1, Number(m[3])));
 }
+
+/**
+ * A number as a person types it, in either decimal style: "0.75" and "0,75" (German) both read 0.75.
+ * A comma counts as the decimal mark only where the text has no point and one comma, so "1,234.5" is
+ * not taken for a fraction; anything else is read as JavaScript reads it (NaN when it is no number).
+ */
+export function parseDecimal(text: string): number {
+  const s = text.trim();
+  if (s === "") return Number.NaN;
+  return Number(!s.includes(".") && s.split(",").length === 2 ? s.replace(",", ".") : s);
+}

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { bytes, count, date, dateTime, formatLocale, num, pct, pctRange, plural, pValue, setFormatLocale, sig, time } from "../../src/lib/format";
+import { bytes, count, parseDecimal, date, dateTime, formatLocale, num, pct, pctRange, plural, pValue, setFormatLocale, sig, time } from "../../src/lib/format";
 
 /**
  * The screens' number and date texts come from formatters made once (src/lib/format.ts); they must
@@ -74,5 +74,18 @@ describe("formatting", () => {
     }
     expect(formatLocale()).toBe("en-GB");
     expect(num(1234.5, 1)).toBe("1,234.5");
+  });
+
+  it("when a person types a number with a decimal comma or a decimal point, then both read the same; a thousands comma beside a point is not taken for a fraction", () => {
+    expect(parseDecimal("0,75")).toBe(0.75);
+    expect(parseDecimal("0.75")).toBe(0.75);
+    expect(parseDecimal(" 1536,5 ")).toBe(1536.5);
+    expect(parseDecimal("7")).toBe(7);
+    expect(parseDecimal("-0,003")).toBe(-0.003);
+    expect(parseDecimal("1,234.5")).toBeNaN();
+    expect(parseDecimal("1,2,3")).toBeNaN();
+    expect(parseDecimal("")).toBeNaN();
+    expect(parseDecimal("   ")).toBeNaN();
+    expect(parseDecimal("abc")).toBeNaN();
   });
 });

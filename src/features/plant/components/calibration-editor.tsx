@@ -2,12 +2,12 @@ import { useTranslation } from "react-i18next";
 import type { z } from "zod";
 import type { embrCalibrationSchema } from "@shared/api/plant";
 import { Button } from "@/components/ui/button";
-import { num } from "@/lib/format";
+import { num, parseDecimal } from "@/lib/format";
 
 export type EmbrCalibration = z.infer<typeof embrCalibrationSchema>;
 
 const cell = "min-h-11 w-full rounded-md border border-ink-300 bg-white px-2 tabular-nums";
-const toNum = (s: string) => (s.trim() === "" ? Number.NaN : Number(s));
+const toNum = (s: string) => parseDecimal(s);
 
 /**
  * The brake's coil current → field map: a straight line (slope and offset) or a measured table of

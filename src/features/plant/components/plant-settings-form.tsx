@@ -7,7 +7,7 @@ import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
-import { count } from "@/lib/format";
+import { count, parseDecimal } from "@/lib/format";
 import { useSaveSettings } from "../api/setup.queries";
 
 const ELEMENTS = [
@@ -26,8 +26,8 @@ const ELEMENTS = [
   ["v", "V"],
 ] as const;
 
-const number = (v: unknown) => (v === "" || v === null || v === undefined ? Number.NaN : Number(v));
-const optionalNumber = (v: unknown) => (v === "" || v === null || v === undefined ? undefined : Number(v));
+const number = (v: unknown) => (v === "" || v === null || v === undefined ? Number.NaN : typeof v === "string" ? parseDecimal(v) : Number(v));
+const optionalNumber = (v: unknown) => (v === "" || v === null || v === undefined ? undefined : typeof v === "string" ? parseDecimal(v) : Number(v));
 
 function Group({ title, children, note }: { title: string; children: React.ReactNode; note?: React.ReactNode }) {
   return (

@@ -11,15 +11,15 @@ import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { formMessage, useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
-import { count } from "@/lib/format";
+import { count, parseDecimal } from "@/lib/format";
 import { useUpdateStrand } from "../api/setup.queries";
 import { CalibrationEditor } from "./calibration-editor";
 
 type Strand = PlantSetup["casters"][number]["strands"][number];
 type FormValues = z.input<typeof strandUpdateSchema>;
 
-const numberOrNull = (v: unknown) => (v === "" || v === null || v === undefined ? null : Number(v));
-const number = (v: unknown) => (v === "" || v === null || v === undefined ? Number.NaN : Number(v));
+const numberOrNull = (v: unknown) => (v === "" || v === null || v === undefined ? null : typeof v === "string" ? parseDecimal(v) : Number(v));
+const number = (v: unknown) => (v === "" || v === null || v === undefined ? Number.NaN : typeof v === "string" ? parseDecimal(v) : Number(v));
 
 /** One strand's mold, SEN and brake settings. Saving recomputes the derived values of its slabs. */
 export function StrandSettingsForm({ casterCode, strand, onRecomputed }: { casterCode: string; strand: Strand; onRecomputed?: (n: number) => void }) {

@@ -8,8 +8,9 @@ import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { friendlyErrors } from "@/lib/form-errors";
 import { useSaveYardSettings } from "../api/yard.queries";
+import { parseDecimal } from "@/lib/format";
 
-const number = (v: unknown) => (v === "" || v === null || v === undefined ? Number.NaN : Number(v));
+const number = (v: unknown) => (v === "" || v === null || v === undefined ? Number.NaN : typeof v === "string" ? parseDecimal(v) : Number(v));
 
 /** The shared schema's own messages (English, also the server's) in the language shown; any other as it is. */
 function settingsError(t: TFunction, message: string | undefined): string | undefined {
