@@ -11,8 +11,8 @@ describe("the screens in the person's language (the catalogues so far: sign-in, 
     const errors = collectPageErrors(page, []);
     await page.goto(env.server.baseUrl + "/sign-in");
     await page.getByRole("heading", { name: "Anmelden" }).waitFor();
-    expect(await page.getByLabel("Passwort").count()).toBe(1);
-    expect(await page.getByRole("link", { name: "Passwort vergessen?" }).count()).toBe(1);
+    await expect.poll(() => page.getByLabel("Passwort").count(), { timeout: 15_000 }).toBe(1);
+    await expect.poll(() => page.getByRole("link", { name: "Passwort vergessen?" }).count(), { timeout: 15_000 }).toBe(1);
     expect(await page.evaluate(() => document.documentElement.lang)).toBe("de");
     await snap(page, "languages-sign-in-de-tablet");
     expect(errors).toEqual([]);
@@ -29,7 +29,7 @@ describe("the screens in the person's language (the catalogues so far: sign-in, 
     await page.getByRole("button", { name: "Abmelden" }).waitFor();
     const nav = page.getByRole("navigation", { name: "Hauptmenü" });
     expect(await nav.getByRole("link", { includeHidden: true }).allTextContents()).toEqual(["Brammenlager"]);
-    expect(await page.getByText("Brammenlager-Prüfer").count()).toBe(1);
+    await expect.poll(() => page.getByText("Brammenlager-Prüfer").count(), { timeout: 15_000 }).toBe(1);
     expect(env.server.db.$client.prepare("select language from user where email = 'inspector@demo.test'").pluck().get()).toBe("de");
     await page.waitForLoadState("networkidle");
     await snap(page, "languages-yard-de-tablet");

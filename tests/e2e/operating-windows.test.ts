@@ -68,7 +68,7 @@ describe("operating windows in the browser (issue 15)", () => {
     await signInAs(page, env.server.baseUrl, "process", TEST_PASSWORD);
     await page.getByRole("link", { name: "Operating windows" }).first().click();
     await page.getByRole("heading", { level: 1, name: "Operating windows" }).waitFor();
-    expect(await page.getByText(/A flag is an association found in the plant's history, not a cause/).count()).toBe(1);
+    await expect.poll(() => page.getByText(/A flag is an association found in the plant's history, not a cause/).count(), { timeout: 15_000 }).toBe(1);
     await page.getByText("No rule written yet.").waitFor();
 
     await page.getByRole("button", { name: "Write a rule" }).click();

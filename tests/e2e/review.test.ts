@@ -209,7 +209,7 @@ describe("quality review and catalogue", () => {
     await signInAs(yard, env.server.baseUrl, "inspector", TEST_PASSWORD);
     await yard.goto(`${env.server.baseUrl}/yard/slabs/${slabId}`);
     await yard.getByRole("searchbox", { name: "Defect type" }).fill("roller");
-    expect(await yard.getByRole("radio", { name: /^RLM\b/ }).count()).toBe(1);
+    await expect.poll(() => yard.getByRole("radio", { name: /^RLM\b/ }).count(), { timeout: 15_000 }).toBe(1);
 
     // …until it is retired; its past entries stay, new ones cannot take it.
     await page.getByRole("button", { name: "Retire RLM" }).click();

@@ -47,7 +47,8 @@ describe("slab risk before inspection in the browser (issue 15)", () => {
     await snap(page, "risk-model-trained-desktop");
     await page.getByRole("button", { name: "Switch on version 1" }).click();
     await page.getByTestId("risk-model-list").getByText("On", { exact: true }).waitFor();
-    expect(await page.getByText(/switched on .* by /).count()).toBe(1);
+    // The list and the version's own line come from two answers: the line may come a moment later.
+    await expect.poll(() => page.getByText(/switched on .* by /).count(), { timeout: 15_000 }).toBe(1);
     expect(errors).toEqual([]);
     await context.close();
   }, 120_000);
