@@ -52,6 +52,7 @@ import { assertTokenAllows } from "./services/tokens.service";
 import { plantRoutes } from "./routes/plant.routes";
 import { systemRoutes } from "./routes/system.routes";
 import { yardRoutes } from "./routes/yard.routes";
+import { say } from "./lib/words";
 
 /** The built client; STRANDSIGHT_CLIENT_DIST points elsewhere (engineers building side by side on one machine). */
 export const CLIENT_DIST = process.env.STRANDSIGHT_CLIENT_DIST ? path.resolve(process.env.STRANDSIGHT_CLIENT_DIST) : path.join(PROJECT_ROOT, "dist");
@@ -137,7 +138,7 @@ export function createApp(opts: AppOptions) {
       smtpUrl: "smtp://127.0.0.1:9",
       from: env.MAIL_FROM,
       dir: path.join(path.resolve(env.UPLOAD_DIR), "mail"),
-      describe: "no mail server (queued only)",
+      describe: () => say("mail.none"),
     });
   const notify = opts.notify ?? createNotifications({ db, mailer, baseUrl: env.BETTER_AUTH_URL, logger });
   const events: DefectEvents = opts.events ?? { criticalDefect: (d) => void notify.criticalDefect(d) };

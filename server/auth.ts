@@ -10,6 +10,8 @@ import { genericOAuth } from "better-auth/plugins/generic-oauth";
 import { and, eq } from "drizzle-orm";
 import { parseRoles } from "@shared/roles";
 import { SSO_PROVIDER_ID } from "@shared/api/sign-in";
+import { languageFromBrowser } from "@shared/i18n/languages";
+import { said, sayIn, type Said } from "./lib/http-error";
 import { applyDirectoryRoles, getSignInSettings, groupsOfIdToken } from "./services/sign-in-settings.service";
 import type { SsoConfig } from "./sso/setup";
 import { createAccessControl } from "better-auth/plugins/access";
@@ -87,7 +89,23 @@ export function isOpenAuthPath(method: string, path: string): boolean {
   return OPEN_PATHS.some((e) => e.method === method && e.re.test(path));
 }
 
-const NO_SUCH_ROUTE = "There is no such sign-in route.";
+/**
+ * A sign-in refusal in the browser's language (no one is signed in yet): the languages of its
+ * Accept-Language by preference, the first one we have, else English.
+ */
+function sayToBrowser(s: Said, request: Request | undefined): string {
+  const preferred = (request?.headers.get("accept-language") ?? "")
+    .split(",")
+    .map((part, i) => {
+      const [tag = "", ...params] = part.split(";").map((p) => p.trim());
+      const q = Number(params.find((p) => p.startsWith("q="))?.slice(2) ?? 1);
+      return { tag, q: Number.isFinite(q) ? q : 0, i };
+    })
+    .filter((l) => l.tag !== "" && l.tag !== "*" && l.q > 0)
+    .sort((a, b) => b.q - a.q || a.i - b.i)
+    .map((l) => l.tag);
+  return sayIn(s, languageFromBrowser(preferred));
+}
 
 /**
  * Where the open endpoints may send the browser afterwards: a page of this app, given as a path
@@ -207,12 +225,12 @@ export function createAuth(opts: AuthOptions) {
         // spelled: /api/auth/./admin/…, /x/../admin/…, %2e segments all land here as "/admin/…".
         // `ctx.request` is set only for HTTP; our own `auth.api.*` calls carry none.
         if (ctx.request && !allowedOverHttp(ctx.request.method, ctx.path)) {
-          throw new APIError("NOT_FOUND", { code: "NOT_FOUND", message: NO_SUCH_ROUTE });
+          throw new APIError("NOT_FOUND", { code: "NOT_FOUND", message: sayToBrowser(said("auth.noSignInRoute"), ctx.request) });
         }
         for (const { from, field } of ctx.request ? (RETURN_FIELDS[ctx.path] ?? []) : []) {
           const value = ((from === "query" ? ctx.query : ctx.body) as Record<string, unknown> | undefined)?.[field];
           if (value !== undefined && !isAppPath(value)) {
-            throw new APIError("FORBIDDEN", { code: "INVALID_CALLBACK_URL", message: "This link must lead back to a page of Strandsight, and it does not." });
+            throw new APIError("FORBIDDEN", { code: "INVALID_CALLBACK_URL", message: sayToBrowser(said("auth.callbackNotOurs"), ctx.request) });
           }
         }
         if (ctx.request && ctx.path === "/sign-in/social") {
@@ -220,7 +238,7 @@ export function createAuth(opts: AuthOptions) {
           if (!opts.sso || provider !== SSO_PROVIDER_ID) {
             throw new APIError("NOT_FOUND", {
               code: "NO_IDENTITY_PROVIDER",
-              message: "Signing in through the plant's identity provider is not set up here: sign in with your e-mail and password.",
+              message: sayToBrowser(said("auth.noIdentityProvider"), ctx.request),
             });
           }
           return;
@@ -234,7 +252,7 @@ export function createAuth(opts: AuthOptions) {
           if (!row || !parseRoles(row.role).includes("admin")) {
             throw new APIError("FORBIDDEN", {
               code: "PASSWORD_SIGN_IN_OFF",
-              message: `This plant signs in through ${opts.sso.name}: use the button “Sign in with ${opts.sso.name}”. Passwords are kept for administrators only.`,
+              message: sayToBrowser(said("auth.passwordSignInOff", { name: opts.sso.name }), ctx.request),
             });
           }
         }
@@ -242,7 +260,7 @@ export function createAuth(opts: AuthOptions) {
         if (minutes > 0) {
           throw new APIError("TOO_MANY_REQUESTS", {
             code: "ACCOUNT_LOCKED",
-            message: `Too many wrong passwords for this account from your computer's address: signing in from here is locked for ${minutes} more minute${minutes === 1 ? "" : "s"}. Wait, choose a new password with “Forgot your password?”, or ask an administrator to unlock the account.`,
+            message: sayToBrowser(said("auth.signInLocked", { count: minutes }), ctx.request),
           });
         }
       }),

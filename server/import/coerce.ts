@@ -4,6 +4,7 @@
  * problem recorded as { row, column, message } in words a process engineer understands.
  */
 import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ColumnSpec, type ImportKind, type RowError } from "@shared/api/imports";
+import { said, sayIn, type Said } from "../lib/http-error";
 import type { CellStore } from "./cell-store";
 import type { Cell, Table } from "./read-table";
 
@@ -132,18 +133,23 @@ export class ParsedRows implements Iterable<ParsedRow> {
  * IMPORT_MAX_LISTED_ERRORS), so a file with an error in every cell cannot fill the memory.
  */
 export class ErrorList {
-  private items: RowError[] = [];
+  private items: Problem[] = [];
   private total = 0;
+  private listed: RowError[] | null = null;
   constructor(readonly keep = IMPORT_MAX_LISTED_ERRORS) {}
-  add(row: number, column: string | null, message: string) {
+  /** A problem in plain words, or as a Said (errors.imports.rows.*): its English is written only if it is listed. */
+  add(row: number, column: string | null, words: string | Said) {
     this.total++;
-    this.items.push({ row, column, message });
+    this.listed = null;
+    this.items.push({ row, column, words });
     if (this.items.length >= this.keep * 4) this.trim();
   }
   /** Adds another list's errors after this one's (as if added here in the order they were found). */
   append(other: ErrorList) {
     this.total += other.total;
-    for (const e of other.list) {
+    this.listed = null;
+    other.trim();
+    for (const e of other.items) {
       this.items.push(e);
       if (this.items.length >= this.keep * 4) this.trim();
     }
@@ -152,15 +158,35 @@ export class ErrorList {
     // A stable sort keeps errors of one row in the order they were found.
     this.items = this.items.sort((a, b) => a.row - b.row).slice(0, this.keep);
   }
-  /** The first errors by row, at most `keep`. */
+  /** The first errors by row, at most `keep`: the English message, and its Said kept on it unlisted (saidOfRowError). */
   get list(): readonly RowError[] {
     this.trim();
-    return this.items;
+    return (this.listed ??= this.items.map(({ row, column, words }) => {
+      if (typeof words === "string") return { row, column, message: words };
+      return withSaid({ row, column, message: sayIn(words, "en") }, words);
+    }));
   }
   get count() {
     return this.total;
   }
 }
+
+type Problem = { row: number; column: string | null; words: string | Said };
+
+/**
+ * A row error's Said rides on it as a property that is not enumerable: never in the JSON answer
+ * (the client reads `message`), nor across a thread (import-worker.ts sends the Saids beside the
+ * result), so the main thread can say the message in the requester's language (import-pool.ts).
+ */
+export function withSaid(e: RowError, s: Said): RowError {
+  return Object.defineProperty(e, "said", { value: s, enumerable: false, writable: true });
+}
+export const saidOfRowError = (e: RowError): Said | undefined => (e as RowError & { said?: Said }).said;
+
+/** A cell's problem: the key under errors.imports.rows (the column's name is put in as {{column}}) and its values. */
+type Fault = { fault: string; values?: Record<string, string | number | { terms: string[] }> };
+const fault = (key: string, values?: Fault["values"]): Fault => (values ? { fault: key, values } : { fault: key });
+const isFault = (x: unknown): x is Fault => typeof x === "object" && x !== null && "fault" in x;
 
 const EXCEL_EPOCH_MS = Date.UTC(1899, 11, 30);
 /** Workbooks in the 1904 date system count days from 1904-01-01 (ECMA-376 §18.17.4.1). */
@@ -169,20 +195,20 @@ const DAY_MS = 86_400_000;
 const ISO = /^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2})(?:\.(\d{1,3})\d*)?)?)?\s*(Z|[+-]\d{2}:?\d{2})?$/i;
 
 /** ISO 8601 (offset honoured; none = UTC) or an Excel serial date, to epoch milliseconds. */
-export function parseDateTime(cell: Cell, date1904 = false): number | string {
-  if (cell instanceof Date) return Number.isNaN(cell.getTime()) ? "is not a valid date" : cell.getTime();
+export function parseDateTime(cell: Cell, date1904 = false): number | Fault {
+  if (cell instanceof Date) return Number.isNaN(cell.getTime()) ? fault("invalidDate") : cell.getTime();
   if (typeof cell === "number") {
     // Excel's serial day number (days since 1899-12-30), as a workbook stores dates.
-    if (cell < 1 || cell > 2_958_465) return `${cell} is not a date`;
+    if (cell < 1 || cell > 2_958_465) return fault("serialNotDate", { value: String(cell) });
     return Math.round((date1904 ? EXCEL_1904_EPOCH_MS : EXCEL_EPOCH_MS) + cell * DAY_MS);
   }
-  if (typeof cell !== "string") return "is not a date";
+  if (typeof cell !== "string") return fault("notADate");
   const m = ISO.exec(cell.trim());
-  if (!m) return `“${cell}” is not a date; use ISO 8601 such as 2026-11-03T14:20:00Z`;
+  if (!m) return fault("notIso", { value: cell });
   const [, y, mo, d, h = "0", mi = "0", s = "0", ms = "0", zone] = m;
   let t = Date.UTC(+y!, +mo! - 1, +d!, +h, +mi, +s, +ms.padEnd(3, "0"));
   const check = new Date(t);
-  if (check.getUTCMonth() !== +mo! - 1 || check.getUTCDate() !== +d! || +h > 23 || +mi > 59 || +s > 59) return `“${cell}” is not a real date or time`;
+  if (check.getUTCMonth() !== +mo! - 1 || check.getUTCDate() !== +d! || +h > 23 || +mi > 59 || +s > 59) return fault("notRealDate", { value: cell });
   if (zone && zone.toUpperCase() !== "Z") {
     const sign = zone[0] === "-" ? -1 : 1;
     const digits = zone.slice(1).replace(":", "");
@@ -191,17 +217,17 @@ export function parseDateTime(cell: Cell, date1904 = false): number | string {
   return t;
 }
 
-function parseNumber(cell: Cell, decimalComma: boolean): number | string {
-  if (typeof cell === "number") return Number.isFinite(cell) ? cell : "is not a finite number";
-  if (typeof cell === "boolean" || cell instanceof Date) return "is not a number";
-  if (typeof cell !== "string") return "is not a number";
+function parseNumber(cell: Cell, decimalComma: boolean): number | Fault {
+  if (typeof cell === "number") return Number.isFinite(cell) ? cell : fault("notFinite");
+  if (typeof cell === "boolean" || cell instanceof Date) return fault("notANumber");
+  if (typeof cell !== "string") return fault("notANumber");
   let s = cell.trim().replace(/\s/g, "");
   if (decimalComma || /^-?\d+,\d+$/.test(s)) s = s.replace(",", ".");
-  if (!/^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(s)) return `“${cell}” is not a number`;
+  if (!/^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(s)) return fault("notANumberValue", { value: cell });
   return Number(s);
 }
 
-function parseBoolean(cell: Cell): boolean | string {
+function parseBoolean(cell: Cell): boolean | Fault {
   if (typeof cell === "boolean") return cell;
   if (typeof cell === "number" && (cell === 0 || cell === 1)) return cell === 1;
   if (typeof cell === "string") {
@@ -209,49 +235,51 @@ function parseBoolean(cell: Cell): boolean | string {
     if (["true", "yes", "y", "1", "x"].includes(s)) return true;
     if (["false", "no", "n", "0"].includes(s)) return false;
   }
-  return `“${String(cell)}” is not true or false`;
+  return fault("notBoolean", { value: String(cell) });
 }
 
 function fmt(n: number) {
   return Number.isInteger(n) ? String(n) : String(+n.toPrecision(6));
 }
 
-function bounds(spec: ColumnSpec) {
+/** "is outside 0–150 °C", "at least 0 mm", "at most 40 t": a value beyond its column's bounds. */
+function outside(spec: ColumnSpec, n: number): Fault {
   const unit = spec.unit ? ` ${spec.unit}` : "";
-  if (spec.min !== undefined && spec.max !== undefined) return `${fmt(spec.min)}–${fmt(spec.max)}${unit}`;
-  if (spec.min !== undefined) return `at least ${fmt(spec.min)}${unit}`;
-  return `at most ${fmt(spec.max!)}${unit}`;
+  if (spec.min !== undefined && spec.max !== undefined) return fault("outside", { value: fmt(n), min: fmt(spec.min), max: fmt(spec.max), unit });
+  if (spec.min !== undefined) return fault("outsideAtLeast", { value: fmt(n), min: fmt(spec.min), unit });
+  return fault("outsideAtMost", { value: fmt(n), max: fmt(spec.max!), unit });
 }
 
-/** One cell to its column's type; a string is an error message. */
-export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean, date1904 = false): Value | { error: string } {
+/** What a cell holds instead of a value, as the readers mark it: in the reader's words where known, else as written (an Excel error such as #N/A). */
+const CELL_ERRORS: Record<string, string> = { "a nested value": "nested", "a reference to a missing shared text": "missingSharedText" };
+const cellErrorWords = (what: string) => (Object.hasOwn(CELL_ERRORS, what) ? { terms: [`server:errors.imports.rows.cellErrors.${CELL_ERRORS[what]}`] } : what);
+
+/** One cell to its column's type; a Fault names its problem (errors.imports.rows.*). */
+export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean, date1904 = false): Value | Fault {
   if (cell === null || (typeof cell === "string" && cell.trim() === "")) return null;
-  if (typeof cell === "object" && cell !== null && "formulaWithoutValue" in cell)
-    return { error: "is a formula with no stored value; open the file in Excel, let it calculate, save and retry" };
-  if (typeof cell === "object" && cell !== null && "cellError" in cell) return { error: `holds ${cell.cellError}` };
+  if (typeof cell === "object" && cell !== null && "formulaWithoutValue" in cell) return fault("formula");
+  if (typeof cell === "object" && cell !== null && "cellError" in cell) return fault("holds", { what: cellErrorWords(cell.cellError) });
   switch (spec.type) {
     case "text": {
       const s = (cell instanceof Date ? cell.toISOString() : typeof cell === "number" ? fmt(cell) : String(cell)).trim();
-      if (s.length > 64) return { error: "is longer than 64 characters" };
+      if (s.length > 64) return fault("tooLong");
       return s;
     }
     case "number":
     case "integer": {
       const n = parseNumber(cell, decimalComma);
-      if (typeof n === "string") return { error: n };
-      if (spec.type === "integer" && !Number.isInteger(n)) return { error: `${fmt(n)} is not a whole number` };
-      if ((spec.min !== undefined && n < spec.min) || (spec.max !== undefined && n > spec.max)) {
-        return { error: `${fmt(n)} is outside ${bounds(spec)}` };
-      }
+      if (isFault(n)) return n;
+      if (spec.type === "integer" && !Number.isInteger(n)) return fault("notWhole", { value: fmt(n) });
+      if ((spec.min !== undefined && n < spec.min) || (spec.max !== undefined && n > spec.max)) return outside(spec, n);
       return n;
     }
     case "datetime": {
       const t = parseDateTime(cell, date1904);
-      return typeof t === "string" ? { error: t } : t;
+      return t;
     }
     case "boolean": {
       const b = parseBoolean(cell);
-      return typeof b === "string" ? { error: b } : b;
+      return b;
     }
   }
 }
@@ -349,7 +377,7 @@ export class TableChecker {
       if (cells > width) {
         for (let c = width; c < cells; c++) {
           if (body.filled(r, c)) {
-            errors.add(rowNo, null, `The row has more cells (${cells}) than the header has columns (${width}).`);
+            errors.add(rowNo, null, said("imports.rows.moreCells", { cells, width }));
             rows.markBad(r);
             break;
           }
@@ -363,13 +391,13 @@ export class TableChecker {
       }
       for (const { spec, col } of present) {
         const v = coerceCell(spec, body.cell(r, col), this.decimalComma, this.date1904);
-        if (v !== null && typeof v === "object") {
-          errors.add(rowNo, spec.key, `${spec.key} ${v.error}.`);
+        if (isFault(v)) {
+          errors.add(rowNo, spec.key, said(`imports.rows.${v.fault}`, { ...v.values, column: spec.key }));
           rows.markBad(r);
           continue; // stays empty
         }
         if (v === null && spec.required) {
-          errors.add(rowNo, spec.key, `${spec.key} is required.`);
+          errors.add(rowNo, spec.key, said("imports.rows.required", { column: spec.key }));
           rows.markBad(r);
         }
         if (v !== null) rows.set(r, spec.key, v);
@@ -382,30 +410,22 @@ export class TableChecker {
   headerErrorsInto(errors: ErrorList): void {
     for (const note of this.notes) {
       if (note.kind === "no header") {
-        if (this.firstFilled.has(note.col)) errors.add(1, null, `Column ${note.col + 1} has values but no header.`);
+        if (this.firstFilled.has(note.col)) errors.add(1, null, said("imports.rows.noHeader", { n: note.col + 1 }));
       } else {
         const row = this.format === "json" ? (this.firstFilled.get(note.col) ?? 1) : 1;
-        errors.add(row, note.key, `The column ${note.key} appears twice (columns ${note.first + 1} and ${note.col + 1}).`);
+        errors.add(row, note.key, said("imports.rows.columnTwice", { key: note.key, first: note.first + 1, second: note.col + 1 }));
       }
     }
     if (this.noKnownKey) {
-      errors.add(
-        1,
-        null,
-        `None of the column names is a key of the ${this.kind.replace("-", " ")} import. Is this the right file? The template lists the keys.`,
-      );
+      errors.add(1, null, said("imports.rows.noKnownKey", { kind: { terms: [`server:errors.imports.kinds.${this.kind}`] } }));
       return;
     }
     const { unknown, missing } = this;
     if (unknown.length > 0) {
       // Reported, and the rows are still checked, so one round of corrections fixes the file.
-      errors.add(
-        1,
-        unknown.join(", "),
-        `Unknown column${unknown.length > 1 ? "s" : ""}: ${unknown.join(", ")}. The template lists the keys this import takes.`,
-      );
+      errors.add(1, unknown.join(", "), said("imports.rows.unknownColumns", { count: unknown.length, columns: unknown.join(", ") }));
     }
-    if (missing.length > 0) errors.add(1, missing.join(", "), `Missing required column${missing.length > 1 ? "s" : ""}: ${missing.join(", ")}.`);
+    if (missing.length > 0) errors.add(1, missing.join(", "), said("imports.rows.missingColumns", { count: missing.length, columns: missing.join(", ") }));
   }
 }
 

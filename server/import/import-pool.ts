@@ -10,11 +10,13 @@ import { Piscina } from "piscina";
 import { IMPORT_LIMITS } from "@shared/api/imports";
 import type { ImportResult } from "@shared/api/imports";
 import type { Db } from "../db/client";
-import { HttpError } from "../lib/http-error";
+import type { Language } from "@shared/i18n/languages";
+import { HttpError, said, sayIn, type Said } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 import { slabFactsChanged } from "../services/report-cache";
 import type { ImportOutcome, ImportTask } from "./import-worker";
 import type { Limits } from "./read-xlsx";
+import { saidOfRowError, withSaid } from "./coerce";
 import { outOfMemory } from "./sheet-reader";
 import { threadEntry } from "../lib/paths";
 
@@ -32,6 +34,25 @@ export interface ImportPoolOptions {
 }
 
 export type ImportJob = Omit<ImportTask, "databaseFile" | "limits" | "heapMb" | "progress">;
+
+/** Puts the Saids the import thread sent beside a result back on its row errors (unlisted, as coerce.ts keeps them). */
+function withRowSaids<T>(result: T, saids: (Said | null)[] | undefined): T {
+  const errors = (result as Partial<ImportResult> | null | undefined)?.errors;
+  if (saids && Array.isArray(errors)) errors.forEach((e, i) => saids[i] && withSaid(e, saids[i]));
+  return result;
+}
+
+/** A result with its row errors' messages in a language (those without a Said as they are). */
+export function sayRowErrors(result: ImportResult, language: Language | null | undefined): ImportResult {
+  if (!language || language === "en") return result;
+  return {
+    ...result,
+    errors: result.errors.map((e) => {
+      const s = saidOfRowError(e);
+      return s ? { ...e, message: sayIn(s, language) } : e;
+    }),
+  };
+}
 
 /** Heap of one import thread unless told otherwise (IMPORT_THREAD_HEAP_MB); the import bench runs its import under the same cap. */
 export const IMPORT_THREAD_HEAP_MB = 1024;
@@ -70,19 +91,24 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
       return p;
     })());
 
-  const busy = () =>
-    new HttpError(429, "imports_busy", `${maxThreads} imports are running and more are waiting. Try again in a minute.`, { retryAfterSeconds: 60 });
+  const busy = () => new HttpError(429, "imports_busy", said("imports.busy", { n: maxThreads }), { retryAfterSeconds: 60 });
 
   // Imports admitted (running or waiting): counted here rather than left to piscina's queue, whose
   // capacity moves with threads that are still starting.
   let admitted = 0;
 
   return {
-    async run(db: Db, job: ImportJob): Promise<ImportResult> {
+    /** Runs the import; its row errors (in the answer, or in a 422's details) are said in `language` (English where none). */
+    async run(db: Db, job: ImportJob, language?: Language | null): Promise<ImportResult> {
       if (admitted >= maxThreads + maxQueue) throw busy();
       admitted++;
       try {
-        return await runAdmitted(db, job);
+        return sayRowErrors(await runAdmitted(db, job), language);
+      } catch (err) {
+        if (err instanceof HttpError && err.code === "import_rejected" && language && language !== "en") {
+          throw new HttpError(err.status, err.code, err.said ?? err.message, sayRowErrors(err.details as ImportResult, language));
+        }
+        throw err;
       } finally {
         admitted--;
       }
@@ -125,11 +151,7 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
       const e = err as { name?: string; code?: string; message?: string };
       if (e.name === "AbortError") {
         if (phase === "waiting") throw busy();
-        throw new HttpError(
-          413,
-          "import_too_large",
-          `Checking the file took longer than ${limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`,
-        );
+        throw new HttpError(413, "import_too_large", said("imports.checkTooLong", { seconds: limits.checkSeconds }));
       }
       if (e.code === "ERR_WORKER_OUT_OF_MEMORY") {
         opts.logger?.error({ kind: job.kind, file: job.fileName }, "import stopped: its thread ran out of memory");
@@ -140,11 +162,11 @@ export function createImportPool(opts: ImportPoolOptions = {}) {
       clearTimeout(timer);
       port1.close();
     }
-    if (!outcome.ok) throw new HttpError(outcome.status, outcome.code, outcome.message, outcome.details);
+    if (!outcome.ok) throw new HttpError(outcome.status, outcome.code, outcome.said ?? outcome.message, withRowSaids(outcome.details, outcome.rowSaids));
     // The worker wrote through its own connection: tell this connection's report cache.
     if (outcome.changedSlabs === "all") slabFactsChanged(db);
     else if (outcome.changedSlabs?.length) slabFactsChanged(db, outcome.changedSlabs);
-    return outcome.result;
+    return withRowSaids(outcome.result, outcome.rowSaids);
   }
 }
 

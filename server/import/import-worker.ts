@@ -12,10 +12,11 @@ import fs from "node:fs";
 import type { MessagePort } from "node:worker_threads";
 import type { ImportKind, ImportResult } from "@shared/api/imports";
 import { openDatabase } from "../db/client";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said, type Said } from "../lib/http-error";
 import { loadFileType } from "../lib/lazy-packages";
 import { runImport, runImportStreamed, type ImportActor } from "../services/import.service";
 import { onSlabFactsChanged } from "../services/report-cache";
+import { saidOfRowError } from "./coerce";
 import { fileKindOf, readTableAs, tableFromJson } from "./read-table";
 import type { Limits } from "./read-xlsx";
 import { fileNotRead, prepareSheetReader, readSheetInThread, STREAM_FROM_BYTES } from "./sheet-reader";
@@ -57,9 +58,24 @@ export function openImportDatabase(file: string) {
   return db;
 }
 
+/** The Saids of a result's row errors, in its order (null: plain words); none when no error has one. */
+type RowSaids = (Said | null)[];
+
 export type ImportOutcome =
-  | { ok: true; result: ImportResult; changedSlabs: number[] | "all" | null; timings?: Record<string, number> }
-  | { ok: false; status: number; code: string; message: string; details?: unknown };
+  | { ok: true; result: ImportResult; changedSlabs: number[] | "all" | null; timings?: Record<string, number>; rowSaids?: RowSaids }
+  /** A refusal: its English, and its Saids (when made with them) for the main thread to answer in the requester's language. */
+  | { ok: false; status: number; code: string; message: string; said?: Said[]; details?: unknown; rowSaids?: RowSaids };
+
+/**
+ * A result's row errors carry their Saids unlisted (coerce.ts), which a thread's message drops: they
+ * are sent beside the result, and the main thread puts them back (import-pool.ts).
+ */
+function rowSaidsOf(result: unknown): { rowSaids?: RowSaids } {
+  const errors = (result as Partial<ImportResult> | null | undefined)?.errors;
+  if (!Array.isArray(errors)) return {};
+  const saids = errors.map((e) => saidOfRowError(e) ?? null);
+  return saids.some((s) => s !== null) ? { rowSaids: saids } : {};
+}
 
 async function sha256File(file: string): Promise<string> {
   const hash = crypto.createHash("sha256");
@@ -98,6 +114,7 @@ export async function runImportTask(task: ImportTask | { warm: true }): Promise<
     result,
     changedSlabs: changedAll ? "all" : changed.size ? [...changed] : null,
     timings,
+    ...rowSaidsOf(result),
   });
   const onWrite = () => task.progress?.postMessage("writing");
   try {
@@ -139,7 +156,7 @@ export async function runImportTask(task: ImportTask | { warm: true }): Promise<
       try {
         body = JSON.parse(Buffer.from(task.json ?? new Uint8Array()).toString("utf8"));
       } catch {
-        throw new HttpError(400, "bad_json", "The body is not valid JSON: send a JSON array of objects.");
+        throw new HttpError(400, "bad_json", said("imports.badJson"));
       }
       table = tableFromJson(body, task.kind, task.limits);
     }
@@ -150,7 +167,8 @@ export async function runImportTask(task: ImportTask | { warm: true }): Promise<
     );
     return outcome(result);
   } catch (err) {
-    if (err instanceof HttpError) return { ok: false, status: err.status, code: err.code, message: err.message, details: err.details };
+    if (err instanceof HttpError)
+      return { ok: false, status: err.status, code: err.code, message: err.message, said: err.said, details: err.details, ...rowSaidsOf(err.details) };
     throw err;
   } finally {
     stop();

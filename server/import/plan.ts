@@ -13,6 +13,7 @@ import type { PlantSettings } from "@shared/api/heats";
 import { liquidusC } from "../metallurgy/liquidus";
 import { slabWeightT } from "../metallurgy/casting";
 import { CHEM_COLUMNS, emptyChem, estimateCastAt, type SlabRow } from "../services/conditions.service";
+import { said, type Said } from "../lib/http-error";
 import type { ErrorList, ParsedRow, ParsedRows, Value } from "./coerce";
 
 export interface PlanCounts {
@@ -267,24 +268,24 @@ export function heatsPlanner(sqlite: Database.Database, errors: ErrorList, setti
         const heatNo = upper(v.get("heat_no") ?? null);
         if (!heatNo) continue;
         if (firstRow.has(heatNo)) {
-          errors.add(row.rowNo, "heat_no", `Heat ${heatNo} appears twice in the file (first on row ${firstRow.get(heatNo)}).`);
+          errors.add(row.rowNo, "heat_no", said("imports.rows.heatTwice", { heat: heatNo, first: firstRow.get(heatNo)! }));
           continue;
         }
         firstRow.set(heatNo, row.rowNo);
         const old = existing.get(heatNo);
         // A row with bad cells is still checked against the plant, so the file can be fixed in one go.
         let ok = !row.bad;
-        const fail = (column: string | null, message: string) => {
+        const fail = (column: string | null, message: Said) => {
           errors.add(row.rowNo, column, message);
           ok = false;
         };
 
         const casterCode = upper(v.get("caster") ?? null);
         const caster = casterCode ? casters.get(casterCode) : undefined;
-        if (casterCode && !caster) fail("caster", `Caster ${casterCode} is not set up. Add it under Plant setup, or correct the code.`);
+        if (casterCode && !caster) fail("caster", said("imports.rows.casterNotSetUpAdd", { code: casterCode }));
         const gradeCode = upper(v.get("grade") ?? null);
         const grade = gradeCode ? grades.get(gradeCode) : undefined;
-        if (gradeCode && !grade) fail("grade", `Grade ${gradeCode} is not set up. Add it under Plant setup, or correct the code.`);
+        if (gradeCode && !grade) fail("grade", said("imports.rows.gradeNotSetUp", { code: gradeCode }));
 
         const rec: Rec = {
           heat_no: heatNo,
@@ -295,10 +296,10 @@ export function heatsPlanner(sqlite: Database.Database, errors: ErrorList, setti
         };
         for (const c of HEAT_VALUE_COLUMNS) rec[c] = take(v, c, old);
         if (rec.cast_end != null && rec.cast_start != null && (rec.cast_end as number) < (rec.cast_start as number)) {
-          fail("cast_end", "cast_end is before cast_start.");
+          fail("cast_end", said("imports.rows.castEndBeforeStart"));
         }
         const pctSum = PCT.reduce((s, el) => s + ((rec[`${el}_pct`] as number | null) ?? 0), 0) + ((rec.n_ppm as number | null) ?? 0) / 10_000;
-        if (pctSum > 100) fail(null, `The chemistry adds up to ${pctSum.toFixed(2)} %, more than 100 %.`);
+        if (pctSum > 100) fail(null, said("imports.rows.chemistryOver", { sum: pctSum.toFixed(2) }));
 
         // Liquidus: given, else from the chemistry with the plant's coefficients (needs carbon at least).
         if (v.has("liquidus_c") && v.get("liquidus_c") != null) {
@@ -328,7 +329,11 @@ export function heatsPlanner(sqlite: Database.Database, errors: ErrorList, setti
           if ((rec.superheat_c as number) < -10 || (rec.superheat_c as number) > 150) {
             fail(
               "tundish_temp_c",
-              `The superheat works out at ${Math.round(rec.superheat_c as number)} °C (tundish ${rec.tundish_temp_c} − liquidus ${(rec.liquidus_c as number).toFixed(1)}), outside −10–150 °C: check the temperature and the chemistry.`,
+              said("imports.rows.superheatOutside", {
+                superheat: Math.round(rec.superheat_c as number),
+                tundish: String(rec.tundish_temp_c),
+                liquidus: (rec.liquidus_c as number).toFixed(1),
+              }),
             );
           }
         } else {
@@ -343,7 +348,7 @@ export function heatsPlanner(sqlite: Database.Database, errors: ErrorList, setti
           const seq = sequences.get(seqNo);
           const casterOfSeq = seq?.caster_id ?? newSequences.get(seqNo);
           if (casterOfSeq !== undefined && caster && casterOfSeq !== caster.id) {
-            fail("sequence_no", `Sequence ${seqNo} was cast on another caster.`);
+            fail("sequence_no", said("imports.rows.sequenceOtherCaster", { sequence: seqNo }));
           } else if (!seq && caster) {
             if (!newSequences.has(seqNo)) newSequenceOrder.push(seqNo);
             newSequences.set(seqNo, caster.id);
@@ -584,17 +589,18 @@ export function slabsPlanner(sqlite: Database.Database, errors: ErrorList, setti
         const slabId = slabOf[i];
         if (!slabId) continue;
         if (firstRow.has(slabId)) {
-          errors.add(rowNo, "slab_id", `Slab ${slabId} appears twice in the file (first on row ${firstRow.get(slabId)}).`);
+          errors.add(rowNo, "slab_id", said("imports.rows.slabTwice", { slab: slabId, first: firstRow.get(slabId)! }));
           continue;
         }
         firstRow.set(slabId, rowNo);
         const old = existing.get(slabId);
         const heatNo = heatOf[i];
         const heat = heatNo ? (heats.get(heatNo) ?? undefined) : undefined;
-        if (heatNo && !heat) errors.add(rowNo, "heat_no", `Heat ${heatNo} is not on record. Import the heats first.`);
+        if (heatNo && !heat) errors.add(rowNo, "heat_no", said("imports.rows.heatNotOnRecord", { heat: heatNo }));
         const strandNo = rows.get(i, "strand") as number | null;
         const strandId = heat && strandNo != null ? strands.get(`${heat.caster_id}:${strandNo}`) : undefined;
-        if (heat && strandNo != null && !strandId) errors.add(rowNo, "strand", `Strand ${strandNo} does not exist on the caster of heat ${heatNo}.`);
+        if (heat && strandNo != null && !strandId)
+          errors.add(rowNo, "strand", said("imports.rows.strandNotOnHeatCaster", { strand: strandNo, heat: String(heatNo) }));
         const pieceNo = rows.get(i, "piece_no") as number | null;
         if (rows.bad(i) || !heat || !strandId || pieceNo == null) continue;
         const piece = pieceKey(heat.id, strandId, pieceNo);
@@ -602,14 +608,14 @@ export function slabsPlanner(sqlite: Database.Database, errors: ErrorList, setti
           errors.add(
             rowNo,
             "piece_no",
-            `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} appears twice in the file (first on row ${firstPiece.get(piece)}).`,
+            said("imports.rows.pieceTwice", { piece: pieceNo, heat: String(heatNo), strand: strandNo!, first: firstPiece.get(piece)! }),
           );
           continue;
         }
         firstPiece.set(piece, rowNo);
         const holder = pieceOwner.get(piece);
         if (holder && holder !== slabId) {
-          errors.add(rowNo, "piece_no", `Piece ${pieceNo} of heat ${heatNo}, strand ${strandNo} is already slab ${holder}.`);
+          errors.add(rowNo, "piece_no", said("imports.rows.pieceTaken", { piece: pieceNo, heat: String(heatNo), strand: strandNo!, slab: holder }));
           continue;
         }
         if (!old) {
@@ -784,15 +790,16 @@ export function planSamples(sqlite: Database.Database, rows: ParsedRows, errors:
     const v = row.values;
     const casterCode = upper(v.get("caster") ?? null);
     const caster = casterCode ? casters.get(casterCode) : undefined;
-    if (casterCode && !caster) errors.add(row.rowNo, "caster", `Caster ${casterCode} is not set up.`);
+    if (casterCode && !caster) errors.add(row.rowNo, "caster", said("imports.rows.casterNotSetUp", { code: casterCode }));
     const strandNo = v.get("strand") as number | null;
     const strandId = caster && strandNo != null ? strands.get(`${caster.id}:${strandNo}`) : undefined;
-    if (caster && strandNo != null && !strandId) errors.add(row.rowNo, "strand", `Strand ${strandNo} does not exist on caster ${caster.code}.`);
+    if (caster && strandNo != null && !strandId)
+      errors.add(row.rowNo, "strand", said("imports.rows.strandNotOnCaster", { strand: strandNo, caster: caster.code }));
     const time = v.get("time") as number | null;
     if (row.bad || !strandId || time == null) continue;
     const key = `${strandId}:${time}`;
     if (firstRow.has(key)) {
-      errors.add(row.rowNo, "time", `A sample for this strand and time appears twice in the file (first on row ${firstRow.get(key)}).`);
+      errors.add(row.rowNo, "time", said("imports.rows.sampleTwice", { first: firstRow.get(key)! }));
       continue;
     }
     firstRow.set(key, row.rowNo);
@@ -856,10 +863,10 @@ export function planProducts(sqlite: Database.Database, rows: ParsedRows, errors
           .trim()
           .toLowerCase()
       : null;
-    if (kind !== null && kind !== "coil" && kind !== "plate") errors.add(row.rowNo, "kind", `Kind is coil or plate, not “${kind}”.`);
+    if (kind !== null && kind !== "coil" && kind !== "plate") errors.add(row.rowNo, "kind", said("imports.rows.productKind", { kind }));
     if (row.bad || !id) continue;
     if (firstRow.has(id)) {
-      errors.add(row.rowNo, "product_id", `${id} appears twice in the file (first on row ${firstRow.get(id)}).`);
+      errors.add(row.rowNo, "product_id", said("imports.rows.productTwice", { product: id, first: firstRow.get(id)! }));
       continue;
     }
     firstRow.set(id, row.rowNo);
@@ -881,7 +888,7 @@ export function planProducts(sqlite: Database.Database, rows: ParsedRows, errors
     const slabCode = upper(c.row.values.get("slab_id") ?? null)!;
     const slabId = slabs.get(slabCode);
     if (slabId === undefined) {
-      errors.add(c.row.rowNo, "slab_id", `Slab ${slabCode} is not on record (import the slabs first).`);
+      errors.add(c.row.rowNo, "slab_id", said("imports.rows.slabNotOnRecord", { slab: slabCode }));
       continue;
     }
     const old = existing.get(c.productId);

@@ -11,15 +11,15 @@ import { Readable } from "node:stream";
 import { parse as parseCsv } from "csv-parse";
 import { loadFileType } from "../lib/lazy-packages";
 import { IMPORT_COLUMNS, IMPORT_LIMITS, type ImportKind } from "@shared/api/imports";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said, type Words } from "../lib/http-error";
 import { CellStore, makeTable, type Cell, type Table } from "./cell-store";
 import { readXlsxFile, type Limits } from "./read-xlsx";
 
 // The table and its cells are declared with their store (cell-store.ts), which every reader fills.
 export type { Cell, Table, TableRow } from "./cell-store";
 
-const unsupported = (message: string) => new HttpError(415, "unsupported_file", message);
-const tooLarge = (message: string, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
+const unsupported = (message: Words) => new HttpError(415, "unsupported_file", message);
+const tooLarge = (message: Words, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
 const fmt = (n: number) => n.toLocaleString("en-GB");
 
 /** Reads the uploaded file at `file` (at most IMPORT_MAX_BYTES, checked by the upload). */
@@ -31,14 +31,14 @@ export async function readTable(file: string, limits: Limits = IMPORT_LIMITS): P
 export async function readTableAs(file: string, kind: "xlsx" | "text", limits: Limits = IMPORT_LIMITS): Promise<Table> {
   if (kind === "xlsx") return readXlsxFile(file, limits);
   const buffer = await fs.promises.readFile(file);
-  if (buffer.includes(0)) throw unsupported("This file is not text and not an .xlsx workbook. Upload an .xlsx workbook or a CSV file.");
+  if (buffer.includes(0)) throw unsupported(said("imports.notText"));
   return readCsv(buffer, limits);
 }
 
 /** What the uploaded file is, judged by its content: a workbook, or text to read as CSV; anything else is refused. */
 export async function fileKindOf(file: string): Promise<"xlsx" | "text"> {
   const size = (await fs.promises.stat(file)).size;
-  if (size === 0) throw new HttpError(400, "empty_file", "The file is empty.");
+  if (size === 0) throw new HttpError(400, "empty_file", said("imports.emptyFile"));
   const type = await (await loadFileType()).fileTypeFromFile(file);
   // Whether a zip is a workbook is decided by the workbook reader (xlsx-sheet.ts) from the zip's central directory
   // ([Content_Types].xml and xl/workbook.xml among its entries); a plain zip is refused there. Not
@@ -47,8 +47,8 @@ export async function fileKindOf(file: string): Promise<"xlsx" | "text"> {
   // [Content_Types].xml after the sheet) it scans for them, 1 MiB in all, then answers "zip".
   if (type?.ext === "xlsx" || type?.ext === "zip") return "xlsx";
   if (type) {
-    if (type.ext === "cfb") throw unsupported("This is an old-style .xls workbook. Save it as .xlsx (Excel Workbook) or as CSV and try again.");
-    throw unsupported(`This file is a ${type.ext.toUpperCase()} file, not a workbook. Upload an .xlsx workbook or a CSV file.`);
+    if (type.ext === "cfb") throw unsupported(said("imports.oldXls"));
+    throw unsupported(said("imports.otherType", { type: type.ext.toUpperCase() }));
   }
   return "text";
 }
@@ -97,7 +97,7 @@ function precheckCsv(text: string, delimiter: string, limits: Limits) {
   let records = 0;
   const endRecord = () => {
     if (filled && ++records > limits.rows + 1) {
-      throw tooLarge(`The file has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
+      throw tooLarge(said("imports.fileTooManyRows", { rows: fmt(limits.rows) }), { limitRows: limits.rows });
     }
     separators = 0;
     filled = false;
@@ -114,10 +114,7 @@ function precheckCsv(text: string, delimiter: string, limits: Limits) {
       continue;
     } else if (c === code) {
       if (++separators > MAX_DELIMITERS_PER_RECORD) {
-        throw tooLarge(
-          `Line ${fmt(line)} has more than ${fmt(MAX_DELIMITERS_PER_RECORD)} separators; the imports take fewer than 40 columns. Nothing was imported.`,
-          { line },
-        );
+        throw tooLarge(said("imports.lineTooManySeparators", { line: fmt(line), n: fmt(MAX_DELIMITERS_PER_RECORD) }), { line });
       }
     } else if (c !== 13 && c !== 32 && c !== 9) {
       filled = true;
@@ -134,7 +131,7 @@ function* slices(text: string) {
 async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
   const deadline = Date.now() + limits.checkSeconds * 1000;
   const text = decodeText(buffer).replace(/^\uFEFF/, "");
-  if (text.trim() === "") throw new HttpError(400, "empty_file", "The file is empty.");
+  if (text.trim() === "") throw new HttpError(400, "empty_file", said("imports.emptyFile"));
   const firstLine = text.slice(0, text.search(/\r?\n|$/));
   const delimiter = detectDelimiter(firstLine);
   precheckCsv(text, delimiter, limits);
@@ -147,14 +144,14 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
   try {
     for await (const r of parser as AsyncIterable<{ record: string[]; info: { lines: number } }>) {
       if (r.record.length > limits.columns && r.record.slice(limits.columns).some((c) => c !== "")) {
-        throw tooLarge(`Line ${fmt(r.info.lines)} has values in more than ${limits.columns} columns; the imports take fewer than 40. Nothing was imported.`, {
+        throw tooLarge(said("imports.lineTooManyColumns", { line: fmt(r.info.lines), n: limits.columns }), {
           line: r.info.lines,
         });
       }
       let filled = 0;
       for (const c of r.record) {
         if (c.length > limits.cellChars) {
-          throw tooLarge(`Line ${fmt(r.info.lines)} holds a value of more than ${fmt(limits.cellChars)} characters; nothing was imported.`, {
+          throw tooLarge(said("imports.lineValueTooLong", { line: fmt(r.info.lines), n: fmt(limits.cellChars) }), {
             line: r.info.lines,
           });
         }
@@ -168,17 +165,16 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
       }
       if (filled === 0) continue;
       cells += filled;
-      if (cells > limits.cells)
-        throw tooLarge(`The file holds more than ${fmt(limits.cells)} filled cells; nothing was imported. Split it into smaller files.`);
+      if (cells > limits.cells) throw tooLarge(said("imports.fileTooManyCells", { n: fmt(limits.cells) }));
       rows.push(
         r.info.lines,
         r.record.map((c) => (c === "" ? null : c)),
       );
       if (rows.length > limits.rows) {
-        throw tooLarge(`The file has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
+        throw tooLarge(said("imports.fileTooManyRows", { rows: fmt(limits.rows) }), { limitRows: limits.rows });
       }
       if ((rows.length & 0x3fff) === 0 && Date.now() > deadline) {
-        throw tooLarge(`Checking the file took longer than ${limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`);
+        throw tooLarge(said("imports.checkTooLong", { seconds: limits.checkSeconds }));
       }
     }
   } catch (err) {
@@ -186,17 +182,13 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
     if (err instanceof HttpError) throw err;
     const e = err as { lines?: number; code?: string; message?: string };
     if (e.code === "CSV_MAX_RECORD_SIZE") {
-      throw tooLarge(`Line ${fmt(e.lines ?? 0)} is longer than ${fmt(limits.csvLineChars)} characters; nothing was imported.`, { line: e.lines });
+      throw tooLarge(said("imports.lineTooLong", { line: fmt(e.lines ?? 0), n: fmt(limits.csvLineChars) }), { line: e.lines });
     }
     const reason = (e.message ?? "").split(":")[0]!.toLowerCase();
-    throw new HttpError(
-      400,
-      "bad_csv",
-      `This file is not an .xlsx workbook, and as CSV it could not be read${e.lines ? ` near line ${e.lines}` : ""} (${reason}).`,
-    );
+    throw new HttpError(400, "bad_csv", e.lines ? said("imports.badCsvNear", { line: e.lines, reason }) : said("imports.badCsv", { reason }));
   }
-  if (header === null) throw new HttpError(400, "empty_file", "The file is empty.");
-  if (rows.length === 0) throw new HttpError(400, "empty_file", "The file has a header but no data rows.");
+  if (header === null) throw new HttpError(400, "empty_file", said("imports.emptyFile"));
+  if (rows.length === 0) throw new HttpError(400, "empty_file", said("imports.fileHeaderNoRows"));
   return makeTable({ format: "csv", headers: header, body: rows, decimalComma: delimiter === ";" });
 }
 
@@ -206,10 +198,10 @@ async function readCsv(buffer: Buffer, limits: Limits): Promise<Table> {
  * column per item.
  */
 export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits = IMPORT_LIMITS): Table {
-  if (!Array.isArray(items)) throw new HttpError(400, "bad_request", "The body must be a JSON array of objects.");
-  if (items.length === 0) throw new HttpError(400, "empty_file", "The array is empty: nothing to import.");
+  if (!Array.isArray(items)) throw new HttpError(400, "bad_request", said("imports.notAnArray"));
+  if (items.length === 0) throw new HttpError(400, "empty_file", said("imports.emptyArray"));
   if (items.length > limits.rows) {
-    throw tooLarge(`The feed sent ${fmt(items.length)} items; one call may send at most ${fmt(limits.rows)}. Send them in smaller batches.`, {
+    throw tooLarge(said("imports.feedTooMany", { n: fmt(items.length), max: fmt(limits.rows) }), {
       limitRows: limits.rows,
     });
   }
@@ -234,7 +226,7 @@ export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits =
           throw new HttpError(
             400,
             "unknown_key",
-            `Item ${fmt(i + 1)} has the key “${k.slice(0, 80)}”, which is not a key of the ${kind.replace("-", " ")} import; nothing was imported. The template lists the keys.`,
+            said("imports.unknownKey", { item: fmt(i + 1), key: k.slice(0, 80), kind: { terms: [`server:errors.imports.kinds.${kind}`] } }),
             {
               item: i + 1,
               key: k.slice(0, 80),
@@ -246,15 +238,10 @@ export function tableFromJson(items: unknown, kind: ImportKind, limits: Limits =
         spelling.push(k);
         index.set(key, col);
       } else if (spelling[col] !== k) {
-        throw new HttpError(
-          400,
-          "mixed_keys",
-          `Item ${fmt(i + 1)} spells the key ${key} as “${k.slice(0, 80)}”, another item as “${spelling[col]}”; nothing was imported. Spell each key one way.`,
-          {
-            item: i + 1,
-            key: k.slice(0, 80),
-          },
-        );
+        throw new HttpError(400, "mixed_keys", said("imports.mixedKeys", { item: fmt(i + 1), key, spelling: k.slice(0, 80), other: spelling[col]! }), {
+          item: i + 1,
+          key: k.slice(0, 80),
+        });
       }
       cells[col] = v === null || v === undefined ? null : typeof v === "object" ? { cellError: "a nested value" } : (v as Cell);
     }

@@ -6,7 +6,7 @@
  * refused, or when the import thread stops it. Its heap is capped like the import thread's.
  */
 import { parentPort, workerData, type MessagePort } from "node:worker_threads";
-import { HttpError } from "../lib/http-error";
+import { HttpError, type Said } from "../lib/http-error";
 import { CellStore, type CellStoreData } from "./cell-store";
 import { streamXlsxFile, type Limits } from "./xlsx-sheet";
 
@@ -26,7 +26,7 @@ export type FromReader =
   | { type: "rows"; rows: CellStoreData }
   | { type: "end" }
   /** Refused by the limits or as damaged: the same words the import answers with. */
-  | { type: "refused"; status: number; code: string; message: string; details?: unknown }
+  | { type: "refused"; status: number; code: string; message: string; said?: Said[]; details?: unknown }
   /** Something the reader did not foresee: still the file's fault (415), said by the import thread. */
   | { type: "failed" };
 
@@ -52,7 +52,7 @@ export async function readForImport(job: ReadJob, port: Pick<MessagePort, "postM
     flush();
     send({ type: "end" });
   } catch (err) {
-    if (err instanceof HttpError) send({ type: "refused", status: err.status, code: err.code, message: err.message, details: err.details });
+    if (err instanceof HttpError) send({ type: "refused", status: err.status, code: err.code, message: err.message, said: err.said, details: err.details });
     else send({ type: "failed" });
   }
 }

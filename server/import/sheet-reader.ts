@@ -8,7 +8,7 @@
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import { Worker } from "node:worker_threads";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said } from "../lib/http-error";
 import { COMPILED, PROJECT_ROOT, threadEntry } from "../lib/paths";
 import { CellStore } from "./cell-store";
 import { READER_ROLE, type FromReader, type ReadJob } from "./read-thread";
@@ -32,16 +32,10 @@ export const STREAM_FROM_BYTES = 256 * 1024;
 export const READER_PAGE_CELLS = 65_536;
 
 /** Anything a reader did not foresee in a file is still the file's fault, not the server's. */
-export const fileNotRead = () =>
-  new HttpError(415, "unsupported_file", "The file could not be read; it may be damaged. Save it again as .xlsx or CSV and retry.");
+export const fileNotRead = () => new HttpError(415, "unsupported_file", said("imports.fileNotRead"));
 
 /** A thread of the import ran out of its heap. */
-export const outOfMemory = (heapMb: number) =>
-  new HttpError(
-    413,
-    "import_too_large",
-    `The file needs more memory to check than one import may use (${heapMb} MB); nothing was imported. Split it into smaller files.`,
-  );
+export const outOfMemory = (heapMb: number) => new HttpError(413, "import_too_large", said("imports.outOfMemory", { mb: heapMb }));
 
 /**
  * The reader thread's young generation (MB). What it allocates dies young (the parser's strings, a
@@ -110,7 +104,7 @@ export async function readSheetInThread(file: string, limits: Limits, opts: { he
     if (m.type === "header") push(m);
     else if (m.type === "rows") push({ type: "rows", rows: CellStore.attach(m.rows) });
     else if (m.type === "end") push(m);
-    else if (m.type === "refused") push({ type: "error", error: new HttpError(m.status, m.code, m.message, m.details) });
+    else if (m.type === "refused") push({ type: "error", error: new HttpError(m.status, m.code, m.said ?? m.message, m.details) });
     else push({ type: "error", error: fileNotRead() });
   });
   worker.on("error", (err: Error & { code?: string }) =>

@@ -23,18 +23,15 @@ import type { Readable } from "node:stream";
 import { SaxesParser, type SaxesAttributePlain, type SaxesTagPlain } from "saxes";
 import yauzl, { type Entry, type ZipFile } from "yauzl";
 import type { IMPORT_LIMITS } from "@shared/api/imports";
-import { HttpError } from "../lib/http-error";
+import { HttpError, said, type Said, type Words } from "../lib/http-error";
 import type { Cell } from "./cell-store";
 
 export type Limits = { [K in keyof typeof IMPORT_LIMITS]: number };
 
-const tooLarge = (message: string, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
-const unreadable = (why?: string) =>
-  new HttpError(
-    415,
-    "unsupported_file",
-    `The workbook could not be read${why ? ` (${why})` : ""}; it may be damaged or protected. Save it again as .xlsx and retry.`,
-  );
+const tooLarge = (message: Words, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
+/** Refused as unreadable: the sentence, or one of its variants naming why (imports.workbook.unreadableBecause.*). */
+const unreadable = (why?: Said) => new HttpError(415, "unsupported_file", why ?? said("imports.workbook.unreadable"));
+const because = (why: string, values?: Record<string, string | number>) => said(`imports.workbook.unreadableBecause.${why}`, values);
 const fmt = (n: number) => n.toLocaleString("en-GB");
 const mb = (n: number) => `${Math.round(n / 1024 / 1024)} MB`;
 
@@ -73,16 +70,14 @@ interface Budget {
 
 function checkTime(budget: Budget) {
   if (Date.now() > budget.deadline) {
-    throw tooLarge(
-      `Checking the file took longer than ${budget.limits.checkSeconds} seconds and was stopped; nothing was imported. Split it into smaller files.`,
-    );
+    throw tooLarge(said("imports.checkTooLong", { seconds: budget.limits.checkSeconds }));
   }
 }
 
 const openZip = promisify<string, yauzl.Options, ZipFile>(yauzl.open);
 
 async function listEntries(zip: ZipFile, limits: Limits): Promise<Map<string, Entry>> {
-  if (zip.entryCount > limits.zipEntries) throw unreadable(`it holds ${fmt(zip.entryCount)} parts; a workbook has a few dozen`);
+  if (zip.entryCount > limits.zipEntries) throw unreadable(because("tooManyParts", { parts: fmt(zip.entryCount) }));
   const entries = new Map<string, Entry>();
   await new Promise<void>((resolve, reject) => {
     zip.on("entry", (e: Entry) => {
@@ -115,13 +110,13 @@ interface PartHandlers {
  * the caller's handlers.)
  */
 async function parsePart(zip: ZipFile, entry: Entry, budget: Budget, handlers: PartHandlers): Promise<void> {
-  if (entry.isEncrypted()) throw unreadable("it is password-protected");
+  if (entry.isEncrypted()) throw unreadable(because("encrypted"));
   let stream: Readable;
   try {
     stream = await new Promise<Readable>((resolve, reject) => zip.openReadStream(entry, (err, s) => (err ? reject(err) : resolve(s!))));
   } catch (err) {
     // yauzl refuses an entry it cannot read: an unknown compression method, a broken local header.
-    throw unreadable(/compression method/i.test((err as Error).message ?? "") ? "a part is packed in a way workbooks never are" : undefined);
+    throw unreadable(/compression method/i.test((err as Error).message ?? "") ? because("packing") : undefined);
   }
   const parser = new SaxesParser({ xmlns: false, position: false });
   let sinceEvent = 0;
@@ -132,7 +127,7 @@ async function parsePart(zip: ZipFile, entry: Entry, budget: Budget, handlers: P
   if (handlers.attribute) parser.on("attribute", handlers.attribute as (attr: unknown) => void);
   parser.on("opentag", (tag) => {
     sinceEvent = 0;
-    if (++depth > MAX_DEPTH) throw unreadable("its XML is nested too deeply");
+    if (++depth > MAX_DEPTH) throw unreadable(because("tooDeep"));
     handlers.opentag?.(tag as SaxesTagPlain);
   });
   parser.on("closetag", (tag) => {
@@ -155,7 +150,7 @@ async function parsePart(zip: ZipFile, entry: Entry, budget: Budget, handlers: P
     for await (const chunk of stream as AsyncIterable<Buffer>) {
       budget.unpacked += chunk.length;
       if (budget.unpacked > budget.limits.unpackedBytes) {
-        throw tooLarge(`The workbook unpacks to more than ${mb(budget.limits.unpackedBytes)}; nothing was imported. Split it into smaller files.`, {
+        throw tooLarge(said("imports.workbook.unpacksOver", { size: mb(budget.limits.unpackedBytes) }), {
           limitBytes: budget.limits.unpackedBytes,
         });
       }
@@ -166,29 +161,27 @@ async function parsePart(zip: ZipFile, entry: Entry, budget: Budget, handlers: P
         const piece = text.slice(i, i + 65_536);
         sinceEvent += piece.length;
         parser.write(piece);
-        if (parseError) throw unreadable("its XML is not well-formed");
+        if (parseError) throw unreadable(because("notWellFormed"));
         if (sinceEvent > MAX_CHARS_WITHOUT_EVENT) {
-          throw tooLarge(
-            `The workbook holds a single text, attribute or comment of more than ${fmt(MAX_CHARS_WITHOUT_EVENT)} characters; nothing was imported.`,
-          );
+          throw tooLarge(said("imports.workbook.runTooLong", { n: fmt(MAX_CHARS_WITHOUT_EVENT) }));
         }
       }
     }
     parser.write(decoder.decode());
     parser.close();
-    if (parseError) throw unreadable("its XML is not well-formed");
+    if (parseError) throw unreadable(because("notWellFormed"));
   } catch (err) {
     stream.destroy();
     if (err instanceof HttpError) throw err;
     const message = (err as Error).message ?? "";
     // yauzl checks the inflated bytes against the size the zip declares: more is a forged entry.
-    if (/too many bytes|expected \d+ bytes/i.test(message)) throw unreadable("a part unpacks to more than its declared size");
+    if (/too many bytes|expected \d+ bytes/i.test(message)) throw unreadable(because("overDeclared"));
     throw unreadable();
   }
 }
 
 async function readSmallPart(zip: ZipFile, entry: Entry, budget: Budget, onTag: (tag: SaxesTagPlain) => void) {
-  if (entry.uncompressedSize > MAX_SMALL_PART) throw unreadable(`its part ${entry.fileName} is ${mb(entry.uncompressedSize)}`);
+  if (entry.uncompressedSize > MAX_SMALL_PART) throw unreadable(because("bigPart", { part: entry.fileName, size: mb(entry.uncompressedSize) }));
   await parsePart(zip, entry, budget, { opentag: onTag });
 }
 
@@ -211,7 +204,7 @@ const isWorkbookPackage = (entries: Map<string, Entry>) => entries.has("[Content
 async function locateSheet(zip: ZipFile, entries: Map<string, Entry>, budget: Budget) {
   const workbook = entries.get("xl/workbook.xml")!;
   const rels = entries.get("xl/_rels/workbook.xml.rels");
-  if (!rels) throw unreadable("its part xl/_rels/workbook.xml.rels, which names the sheets, is missing");
+  if (!rels) throw unreadable(because("noRels"));
   let firstSheetRel: string | undefined;
   let date1904 = false;
   await readSmallPart(zip, workbook, budget, (tag) => {
@@ -234,7 +227,7 @@ async function locateSheet(zip: ZipFile, entries: Map<string, Entry>, budget: Bu
   });
   const resolve = (target: string) => (target.startsWith("/") ? path.posix.normalize(target.slice(1)) : path.posix.normalize(path.posix.join("xl", target)));
   const sheetTarget = firstSheetRel ? targets.get(firstSheetRel) : undefined;
-  if (!sheetTarget) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
+  if (!sheetTarget) throw new HttpError(400, "empty_file", said("imports.noHeaderSheet"));
   const sharedTarget = [...targets.values()].find((t) => t.type.endsWith("/sharedStrings"));
   return { sheet: resolve(sheetTarget.target), sharedStrings: sharedTarget ? resolve(sharedTarget.target) : "xl/sharedStrings.xml", date1904 };
 }
@@ -262,7 +255,7 @@ async function readSharedStrings(zip: ZipFile, entry: Entry, budget: Budget): Pr
       if (!inT) return;
       currentLength += text.length;
       if (currentLength > limits.cellChars) {
-        throw tooLarge(`The workbook holds a text of more than ${fmt(limits.cellChars)} characters (Excel's own limit for a cell); nothing was imported.`);
+        throw tooLarge(said("imports.workbook.textTooLong", { n: fmt(limits.cellChars) }));
       }
       current.push(text);
     },
@@ -274,7 +267,7 @@ async function readSharedStrings(zip: ZipFile, entry: Entry, budget: Budget): Pr
         inSi = false;
         strings.push(current.join(""));
         if (strings.length > limits.cells) {
-          throw tooLarge(`The workbook holds more than ${fmt(limits.cells)} different texts; nothing was imported. Split it into smaller files.`);
+          throw tooLarge(said("imports.workbook.tooManyTexts", { n: fmt(limits.cells) }));
         }
       }
     },
@@ -362,12 +355,12 @@ async function readSheet(
     }
     if (cell === null || (typeof cell === "string" && cell.trim() === "")) return;
     if (col >= limits.columns) {
-      throw tooLarge(`Row ${fmt(rowNo)} has values in more than ${limits.columns} columns; the imports take fewer than 40. Nothing was imported.`, {
+      throw tooLarge(said("imports.workbook.rowTooManyColumns", { row: fmt(rowNo), n: limits.columns }), {
         row: rowNo,
       });
     }
     if (++cellsSeen > limits.cells) {
-      throw tooLarge(`The sheet holds more than ${fmt(limits.cells)} filled cells; nothing was imported. Split it into smaller files.`);
+      throw tooLarge(said("imports.workbook.tooManyCells", { n: fmt(limits.cells) }));
     }
     while (cells.length < col) cells.push(null);
     cells[col] = cell;
@@ -377,14 +370,14 @@ async function readSheet(
   const finishRow = () => {
     if (!rowHasValue) return;
     if (headers === null) {
-      if (rowNo !== 1) throw new HttpError(400, "bad_header", `The header must be on row 1 of the first sheet (found on row ${rowNo}).`);
+      if (rowNo !== 1) throw new HttpError(400, "bad_header", said("imports.workbook.headerNotFirst", { row: rowNo }));
       headers = cells.map((c) => (c === null ? "" : String(c)));
       sink.header(headers, date1904);
       return;
     }
     // Counted before the sink sees it, so no sink ever holds more rows than the limit.
     if (++dataRows > limits.rows) {
-      throw tooLarge(`The sheet has more than ${fmt(limits.rows)} data rows; nothing was imported. Split it into smaller files.`, { limitRows: limits.rows });
+      throw tooLarge(said("imports.workbook.tooManyRows", { rows: fmt(limits.rows) }), { limitRows: limits.rows });
     }
     sink.row(rowNo, cells);
     if ((dataRows & 0x3fff) === 0) checkTime(budget);
@@ -453,7 +446,7 @@ async function readSheet(
       if (capture === null || value === null) return;
       valueLength += text.length;
       if (valueLength > limits.cellChars) {
-        throw tooLarge(`Row ${fmt(rowNo)} holds a cell of more than ${fmt(limits.cellChars)} characters (Excel's own limit); nothing was imported.`, {
+        throw tooLarge(said("imports.workbook.cellTooLong", { row: fmt(rowNo), n: fmt(limits.cellChars) }), {
           row: rowNo,
         });
       }
@@ -504,27 +497,24 @@ export async function streamXlsxFile(file: string, limits: Limits, sink: SheetSi
       if (err instanceof HttpError) throw err;
       throw unreadable();
     }
-    if (!isWorkbookPackage(entries)) throw new HttpError(415, "unsupported_file", "This is a zip archive, not an .xlsx workbook.");
+    if (!isWorkbookPackage(entries)) throw new HttpError(415, "unsupported_file", said("imports.workbook.plainZip"));
     const { sheet, sharedStrings, date1904 } = await locateSheet(zip, entries, budget);
     const sheetEntry = entries.get(sheet);
-    if (!sheetEntry) throw unreadable("its first sheet is missing");
+    if (!sheetEntry) throw unreadable(because("noSheet"));
     const sharedEntry = entries.get(sharedStrings);
     // The sizes the zip declares are checked before anything is inflated, so a bomb is refused at once;
     // the inflated bytes are counted again while streaming (a zip can lie about its sizes).
     const declared = sheetEntry.uncompressedSize + (sharedEntry?.uncompressedSize ?? 0) + budget.unpacked;
     if (declared > limits.unpackedBytes) {
-      throw tooLarge(
-        `The workbook unpacks to ${mb(declared)}, more than the ${mb(limits.unpackedBytes)} one import may hold; nothing was imported. Split it into smaller files.`,
-        {
-          unpackedBytes: declared,
-          limitBytes: limits.unpackedBytes,
-        },
-      );
+      throw tooLarge(said("imports.workbook.declaredOver", { size: mb(declared), limit: mb(limits.unpackedBytes) }), {
+        unpackedBytes: declared,
+        limitBytes: limits.unpackedBytes,
+      });
     }
     const shared = sharedEntry ? await readSharedStrings(zip, sharedEntry, budget) : [];
     const { header, rows } = await readSheet(zip, sheetEntry, budget, shared, date1904, sink);
-    if (!header) throw new HttpError(400, "empty_file", "The workbook has no sheet with a header row.");
-    if (rows === 0) throw new HttpError(400, "empty_file", "The workbook has a header but no data rows.");
+    if (!header) throw new HttpError(400, "empty_file", said("imports.noHeaderSheet"));
+    if (rows === 0) throw new HttpError(400, "empty_file", said("imports.workbook.headerNoRows"));
   } finally {
     zip.close();
   }

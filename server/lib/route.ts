@@ -3,6 +3,8 @@ import type { OpenAPIRegistry, RouteConfig } from "@asteasolutions/zod-to-openap
 import type { z } from "zod";
 import { apiErrorSchema } from "@shared/api/common";
 import { HttpError, said } from "./http-error";
+import { requestLanguage } from "./i18n";
+import { speakingIn } from "./words";
 import { requireRole, type Access } from "../middleware/require-role";
 import { takeUploadSlot } from "../middleware/uploads";
 
@@ -169,7 +171,8 @@ export function mountRoutes(router: Router, registry: OpenAPIRegistry, routes: A
       const params = spec.params ? spec.params.parse(req.params) : req.params;
       const query = spec.query ? spec.query.parse(req.query) : req.query;
       const body = spec.body ? spec.body.parse(req.body ?? {}) : req.body;
-      const result = await spec.handler({ req, res, user: req.user!, params, query, body } as never);
+      // What the handler writes in words (server/lib/words.ts) is in the requester's language.
+      const result = await speakingIn(requestLanguage(req), () => spec.handler({ req, res, user: req.user!, params, query, body } as never));
       if (!res.headersSent && result !== undefined) res.status(successStatus).json(result);
       else if (!res.headersSent) res.status(successStatus === 200 ? 204 : successStatus).end();
     });

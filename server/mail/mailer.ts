@@ -60,8 +60,8 @@ export interface MailerOptions {
   from: string;
   /** Where attachment files are kept until sent (and after, for the outbox screen). */
   dir: string;
-  /** Text for the outbox screen: where the mail goes. */
-  describe: string;
+  /** Text for the outbox screen: where the mail goes (a function: said in the asker's language, server/lib/words.ts). */
+  describe: string | (() => string);
   /** Defaults: MAIL_TIMEOUTS (tests use shorter ones). */
   timeouts?: MailTimeouts;
   /** Defaults: MAIL_PARALLEL. */
@@ -250,7 +250,7 @@ export function createMailer(opts: MailerOptions) {
       transport?.close();
       transport = null;
     },
-    describe: () => opts.describe,
+    describe: () => (typeof opts.describe === "function" ? opts.describe() : opts.describe),
     from: opts.from,
     dir: opts.dir,
   };

@@ -4,6 +4,7 @@ import type { Env } from "../env";
 import type { Logger } from "../lib/logger";
 import { startFakeSmtp } from "./fake-smtp";
 import { createMailer } from "./mailer";
+import { say } from "../lib/words";
 
 /**
  * The mail path of a running app: SMTP_URL when set; otherwise the local fake SMTP server, started
@@ -13,11 +14,11 @@ export async function setupMail(db: Db, env: Env, logger: Logger, opts: { startF
   const dir = path.join(path.resolve(env.UPLOAD_DIR), "mail");
   if (env.SMTP_URL) {
     const host = new URL(env.SMTP_URL).host;
-    return { mailer: createMailer({ db, logger, smtpUrl: env.SMTP_URL, from: env.MAIL_FROM, dir, describe: `the SMTP server at ${host}` }), fake: null };
+    return { mailer: createMailer({ db, logger, smtpUrl: env.SMTP_URL, from: env.MAIL_FROM, dir, describe: () => say("mail.smtp", { host }) }), fake: null };
   }
   if (opts.startFake === false) {
     return {
-      mailer: createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir, describe: "no mail server (queued only)" }),
+      mailer: createMailer({ db, logger, smtpUrl: "smtp://127.0.0.1:9", from: env.MAIL_FROM, dir, describe: () => say("mail.none") }),
       fake: null,
     };
   }
@@ -36,7 +37,7 @@ export async function setupMail(db: Db, env: Env, logger: Logger, opts: { startF
     smtpUrl: `smtp://127.0.0.1:${fake.port}`,
     from: env.MAIL_FROM,
     dir,
-    describe: `the local fake SMTP server on port ${fake.port} (nothing leaves this machine; set SMTP_URL for real mail)`,
+    describe: () => say("mail.fake", { port: fake.port }),
   });
   return { mailer, fake };
 }

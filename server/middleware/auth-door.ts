@@ -18,7 +18,9 @@ import express, { Router, type RequestHandler } from "express";
 import { fromNodeHeaders } from "better-auth/node";
 import { CLIENT_IP_HEADER, isOpenAuthPath, type Auth } from "../auth";
 import { OWN_ORIGIN_HEADER, ownOriginOf } from "../lib/origins";
-import { HttpError, notFound, said } from "../lib/http-error";
+import type { Language } from "@shared/i18n/languages";
+import { HttpError, notFound, said, sayIn } from "../lib/http-error";
+import { requestLanguage } from "../lib/i18n";
 
 export const AUTH_BODY_LIMIT = 64 * 1024;
 /** No sign-in form nests at all; a little room for what a client library might add. */
@@ -43,7 +45,7 @@ export function normalisedPath(originalUrl: string): string {
  * better-auth's schema refusals read "[body.email] Invalid input: expected string, received object":
  * say it in words, and keep the library's text as the detail.
  */
-async function inPlainWords(response: Response): Promise<Response> {
+async function inPlainWords(response: Response, language: Language): Promise<Response> {
   if (response.status !== 400) return response;
   const text = await response.text();
   let body: { error?: { code?: string; message?: string } } = {};
@@ -57,7 +59,7 @@ async function inPlainWords(response: Response): Promise<Response> {
       ? JSON.stringify({
           error: {
             code: "validation_failed",
-            message: "The sign-in service could not read this request: give the e-mail address, the password and the link's code as plain text.",
+            message: sayIn(said("auth.signInUnreadable"), language),
             details: [{ path: "body", message: body.error.message ?? "" }],
           },
         })
@@ -136,6 +138,7 @@ export function authDoor({ auth, baseUrl, signInBudget, toEnvelope }: AuthDoorOp
     const body = req.method !== "GET" && req.method !== "HEAD" && Buffer.isBuffer(req.body) && req.body.length > 0 ? new Uint8Array(req.body) : undefined;
     const response = await inPlainWords(
       await toEnvelope(await auth.handler(new Request(new URL(req.originalUrl, baseUrl), { method: req.method, headers, body }))),
+      requestLanguage(req),
     );
     res.status(response.status);
     response.headers.forEach((value, name) => {

@@ -8,19 +8,22 @@
  */
 import type { RequestHandler } from "express";
 import { rateLimit } from "express-rate-limit";
+import { said, sayIn } from "../lib/http-error";
+import { requestLanguage } from "../lib/i18n";
 
-function limiter(windowMs: number, limit: number, what: string): RequestHandler {
+/** `what`: the refusal's key under errors.rateLimits (the budget's name in it). */
+function limiter(windowMs: number, limit: number, what: "signIn" | "tokens"): RequestHandler {
   return rateLimit({
     windowMs,
     limit,
     standardHeaders: "draft-7",
     legacyHeaders: false,
-    handler: (_req, res, _next, options) => {
+    handler: (req, res, _next, options) => {
       const minutes = Math.max(1, Math.ceil(options.windowMs / 60_000));
       res.status(429).json({
         error: {
           code: "too_many_requests",
-          message: `Too many ${what} from this address. Wait ${minutes} minute${minutes === 1 ? "" : "s"} and try again.`,
+          message: sayIn(said(`rateLimits.${what}`, { count: minutes }), requestLanguage(req)),
         },
       });
     },
@@ -36,7 +39,7 @@ export interface RateLimitSettings {
 
 export function rateLimits(s: RateLimitSettings) {
   return {
-    signIn: limiter(15 * 60_000, s.signIn, "sign-in attempts"),
-    tokens: limiter(60_000, s.tokens, "requests to the feed and token endpoints"),
+    signIn: limiter(15 * 60_000, s.signIn, "signIn"),
+    tokens: limiter(60_000, s.tokens, "tokens"),
   };
 }

@@ -43,7 +43,7 @@ export function claimRoutes({ db, env, mailer }: Deps): AnyRoute[] {
   const uploadDir = path.resolve(env.UPLOAD_DIR);
   const attachDir = path.join(uploadDir, "attachments");
   const workbook = (heatNo: string, by: string, opts: HistoryOptions = {}, language: Language | null = null) => {
-    const hist = heatHistory(db, heatNo, opts);
+    const hist = heatHistory(db, heatNo, { ...opts, language });
     return historyWorkbook(db, hist, { baseUrl: env.BETTER_AUTH_URL, uploadDir, by, language }).then((buf) => ({ buf, hist }));
   };
   /**

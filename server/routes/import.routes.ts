@@ -1,6 +1,7 @@
 import { z } from "zod";
 import { IMPORT_LIMITS, IMPORT_MAX_BYTES, importKindSchema, importQuerySchema, importResultSchema, importRunSchema } from "@shared/api/imports";
 import { HttpError, said } from "../lib/http-error";
+import { requestLanguage } from "../lib/i18n";
 import { defineRoute } from "../lib/route";
 import { diskUpload } from "../middleware/uploads";
 import { buildTemplate, listImportRuns } from "../services/import.service";
@@ -40,14 +41,19 @@ export function importRoutes({ db, imports }: Deps) {
       handler: async ({ req, res, params, query, user }) => {
         const file = req.file;
         if (!file) throw new HttpError(400, "no_file", said("imports.noFile"));
-        const result = await imports.run(db, {
-          kind: params.kind,
-          dryRun: query.dryRun,
-          source: "upload",
-          file: file.path,
-          fileName: file.originalname.slice(0, 200),
-          by: { userId: user.id },
-        });
+        const result = await imports.run(
+          db,
+          {
+            kind: params.kind,
+            dryRun: query.dryRun,
+            source: "upload",
+            file: file.path,
+            fileName: file.originalname.slice(0, 200),
+            by: { userId: user.id },
+          },
+          // The row errors in the requester's words (the client shows them).
+          requestLanguage(req),
+        );
         res.status(query.dryRun ? 200 : 201).json(result);
       },
     }),
@@ -104,14 +110,18 @@ export function importRoutes({ db, imports }: Deps) {
         const body = req.body;
         // Checked before the body was read (server/app.ts); again here, on the kind the route validated.
         assertTokenAllows(token, params.kind);
-        const result = await imports.run(db, {
-          kind: params.kind,
-          dryRun: query.dryRun,
-          source: "ingest",
-          json: new Uint8Array(body.buffer, body.byteOffset, body.length),
-          fileName: null,
-          by: { tokenId: token.id, actor: `token:${token.name}` },
-        });
+        const result = await imports.run(
+          db,
+          {
+            kind: params.kind,
+            dryRun: query.dryRun,
+            source: "ingest",
+            json: new Uint8Array(body.buffer, body.byteOffset, body.length),
+            fileName: null,
+            by: { tokenId: token.id, actor: `token:${token.name}` },
+          },
+          requestLanguage(req),
+        );
         res.status(query.dryRun ? 200 : 201).json(result);
       },
     }),

@@ -355,7 +355,7 @@ export function bulkTag(db: Db, user: Actor, input: z.output<typeof bulkTagSchem
     throw new HttpError(
       400,
       "selection_too_large",
-      `The selection holds ${ids.length.toLocaleString("en-GB")} defects; tag at most ${BULK_LIMIT.toLocaleString("en-GB")} at once (narrow the filter).`,
+      said("causes.selectionTooLarge", { n: ids.length.toLocaleString("en-GB"), max: BULK_LIMIT.toLocaleString("en-GB") }),
     );
   }
   const tags = activeTagIds(sqlite, input.tags);

@@ -23,6 +23,7 @@ import { VARIABLES } from "@shared/variables";
 import type { Db } from "../db/client";
 import { badRequest, notFound, said } from "../lib/http-error";
 import { translator } from "../lib/i18n";
+import { currentLanguage } from "../lib/words";
 import {
   addItemSheet,
   addTableSheet,
@@ -103,11 +104,16 @@ export interface HistoryOptions {
   claimId?: number;
   /** Who prepares it (the cover page; a name, never an address). */
   preparedBy?: string;
+  /**
+   * The language the audit trail is said in: the workbook's, for a workbook made of this history;
+   * the current one (the request's, server/lib/words.ts) when not given.
+   */
+  language?: Language | null;
 }
 
 /** A heat's history in the edition asked for; see HistoryOptions. */
 export function heatHistory(db: Db, heatNo: string, opts: HistoryOptions = {}): HeatHistory {
-  const full = internalHistory(db, heatNo);
+  const full = internalHistory(db, heatNo, opts.language ?? currentLanguage());
   if (opts.claimId !== undefined) full.edition.cover = coverOf(db, full, opts.claimId, opts.preparedBy ?? "");
   if (opts.edition === "customer") return customerEdition(full, opts.sections ?? CUSTOMER_DEFAULT_SECTIONS);
   return { ...full, audit: full.audit.map(({ at, by, what }) => ({ at, by, what })) };
@@ -211,7 +217,7 @@ function customerEdition(full: FullHistory, chosen: CustomerSection[]): HeatHist
   };
 }
 
-function internalHistory(db: Db, heatNo: string): FullHistory {
+function internalHistory(db: Db, heatNo: string, language: Language): FullHistory {
   const sqlite = db.$client;
   const h = sqlite
     .prepare(
@@ -305,13 +311,13 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
   for (const p of photos)
     photosOf.set(p.defect_id, [...(photosOf.get(p.defect_id) ?? []), { id: p.id, url: `/api/photos/${p.id}`, thumbUrl: `/api/photos/${p.id}/thumb` }]);
   // What the audit trail's sentences call each record.
-  const defectName = new Map(defects.map((d) => [String(d.id), `${d.typeCode} on slab ${d.slabCode}`]));
+  const defectName = new Map(defects.map((d) => [String(d.id), { type: String(d.typeCode), slab: String(d.slabCode) }]));
   const invRefs = new Map(investigations.map((i) => [String(i.id), String(i.ref)]));
   const claimNos = new Map(claims.map((c) => [String(c.id), String(c.claim_no)]));
   const typeCodes = new Map((sqlite.prepare("select id, code from defect_types").all() as Row[]).map((t) => [Number(t.id), String(t.code)]));
   const tagNames = new Map((sqlite.prepare("select code, name from cause_tags").all() as Row[]).map((t) => [String(t.code), String(t.name)]));
   const words = {
-    defect: (id: string | null) => defectName.get(String(id)) ?? "a defect entry",
+    defect: (id: string | null) => defectName.get(String(id)) ?? null,
     investigation: (id: string | null) => invRefs.get(String(id)) ?? "",
     claim: (id: string | null) => claimNos.get(String(id)) ?? "",
     typeCode: (id: unknown) => typeCodes.get(Number(id)) ?? null,
@@ -415,7 +421,7 @@ function internalHistory(db: Db, heatNo: string): FullHistory {
     audit: audit.map((a) => ({
       at: iso(a.at)!,
       by: a.byName ?? null,
-      what: auditWords({ action: a.action, entity: a.entity, entityId: a.entity_id ?? null, before: a.before, after: a.after }, words),
+      what: auditWords({ action: a.action, entity: a.entity, entityId: a.entity_id ?? null, before: a.before, after: a.after }, words, language),
       scope: (a.entity === "defect_selection" || String(a.action).startsWith("defect.causes")
         ? "causes"
         : ["defect", "investigation", "claim"].includes(a.entity)
@@ -488,7 +494,10 @@ export interface WorkbookOptions {
   baseUrl: string;
   uploadDir: string;
   by: string;
-  /** The language of the person asking (English where none). */
+  /**
+   * The language of the person asking (English where none). The audit trail's sentences come made
+   * in `hist`: make it with the same language (HistoryOptions.language).
+   */
   language?: Language | null;
 }
 

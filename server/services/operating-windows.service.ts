@@ -40,6 +40,7 @@ import { VARIABLES } from "@shared/variables";
 import { databaseIdOf } from "../db/identity";
 import type { Db } from "../db/client";
 import { badRequest, conflict, notFound, said } from "../lib/http-error";
+import { say } from "../lib/words";
 import { differenceOfProportions, wilson } from "../stats/proportions";
 import { recordAudit } from "./audit.service";
 import { targetTypeIds } from "./risk/training-data";
@@ -53,14 +54,8 @@ const DAY = 86_400_000;
 const iso = (ms: number | null | undefined) => (ms == null ? null : new Date(ms).toISOString());
 const day = (ms: number) => new Date(ms).toISOString().slice(0, 10);
 
-export const WINDOW_METHOD =
-  "Slabs of the rule's grade family (every family when it names none) cast in the window, each counted once. " +
-  "Flagged: every condition holds on the slab's resolved conditions (“above” is strictly greater, “below” strictly less); " +
-  "the rest: at least one condition does not hold; slabs missing a value the rule needs are counted apart and left out of both. " +
-  "A slab carries the defect when it has at least one live, not rejected entry of the target type or category (of any type when the rule names none). " +
-  "Each share with its Wilson score interval, 95 %, no continuity correction (Wilson 1927; Newcombe 1998, Stat. Med. 17:857, method 3); " +
-  "the difference flagged − rest with Newcombe's hybrid score interval (Newcombe 1998, Stat. Med. 17:873, method 10), and the verdict from whether that interval excludes zero. " +
-  "An association on history, not a cause.";
+/** How a rule's record is reached, in the reader's language (methods:windows.method). */
+export const windowMethod = () => say("windows.method");
 
 // ------------------------------------------------------------------------------------------------
 // Rules as stored
@@ -328,7 +323,7 @@ const share = (x: number, n: number): WindowShare => {
 export function windowRecord(c: Counts, from: string, to: string): WindowRecord {
   const flagged = share(c.x1, c.n1);
   const rest = share(c.x0, c.n0);
-  const base = { from, to, flagged, rest, unknown: c.unknown, method: WINDOW_METHOD };
+  const base = { from, to, flagged, rest, unknown: c.unknown, method: windowMethod() };
   const noVerdict = (verdictText: string): WindowRecord => ({
     ...base,
     difference: null,
@@ -338,18 +333,13 @@ export function windowRecord(c: Counts, from: string, to: string): WindowRecord 
     verdict: null,
     verdictText,
   });
-  if (c.n1 === 0) return noVerdict("No verdict: no slab cast in the window met every condition of the rule, so there is nothing to judge it by.");
-  if (c.n0 === 0) return noVerdict("No verdict: every slab of the family cast in the window met the rule, so there are no other slabs to compare with.");
+  if (c.n1 === 0) return noVerdict(say("windows.noneFlagged"));
+  if (c.n0 === 0) return noVerdict(say("windows.allFlagged"));
   const d = differenceOfProportions(c.x1, c.n1, c.x0, c.n0);
   const overlap = flagged.lower! <= rest.upper! && rest.lower! <= flagged.upper!;
-  const wilsonWords = overlap ? "the two Wilson intervals overlap" : "the two Wilson intervals do not overlap";
   const verdict = d.lower > 0 ? "more" : d.upper < 0 ? "less" : "no_clear_difference";
-  const verdictText =
-    verdict === "more"
-      ? `Flagged slabs carried the defect more often than the rest: the 95 % interval of the difference lies above zero (${wilsonWords}).`
-      : verdict === "less"
-        ? `Flagged slabs carried the defect less often than the rest: the 95 % interval of the difference lies below zero (${wilsonWords}).`
-        : `No clear difference: the 95 % interval of the difference includes zero (${wilsonWords}).`;
+  // One whole sentence per verdict and overlap (methods:windows.*), never put together from parts.
+  const verdictText = say(`windows.${verdict === "no_clear_difference" ? "unclear" : verdict}_${overlap ? "overlap" : "apart"}`);
   return { ...base, difference: d.difference, differenceLower: d.lower, differenceUpper: d.upper, intervalsOverlap: overlap, verdict, verdictText };
 }
 

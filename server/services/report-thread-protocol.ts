@@ -1,4 +1,5 @@
 /** The messages between the main thread (report-thread.ts) and the report thread (report-thread-worker.ts). */
+import type { Language } from "@shared/i18n/languages";
 import type { Said } from "../lib/http-error";
 import type { ReportCacheStatus } from "./report-cache";
 
@@ -11,7 +12,7 @@ export interface ReportThreadData {
 
 export type ToReportThread =
   | { type: "changed"; slabIds: number[] | null }
-  | { type: "report"; id: number; kind: string; query: unknown; defaulted: string[] }
+  | { type: "report"; id: number; kind: string; query: unknown; defaulted: string[]; language: Language }
   | { type: "start"; id: number; token: number; snapshotFile: string | null; sliceMs?: number }
   | { type: "cache"; id: number; token: number; op: "whenReady" | "save" | "close"; version?: number }
   | { type: "exit" };

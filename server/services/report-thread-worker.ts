@@ -13,6 +13,7 @@ import { pino } from "pino";
 import { openDatabase } from "../db/client";
 import { HttpError } from "../lib/http-error";
 import { lowerThisThreadPriority } from "../lib/thread-priority";
+import { speakingIn } from "../lib/words";
 import { slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
 import { adjustedModel } from "./reports/adjusted";
 import { beforeAfter } from "./reports/before-after";
@@ -69,7 +70,7 @@ async function handle(m: ToReportThread) {
         const run = REPORTS[m.kind];
         if (!run) throw new Error(`no report ${m.kind} in the report thread`);
         markDefaulted(m.query, m.defaulted);
-        const value = run(db, m.query as never);
+        const value = speakingIn(m.language, () => run(db, m.query as never));
         send({ type: "reply", id: m.id, ok: true, value, status: status() });
       } catch (err) {
         send({ type: "reply", id: m.id, ok: false, error: asThreadError(err), status: status() });

@@ -27,6 +27,7 @@ import { Worker } from "node:worker_threads";
 import type { Db } from "../db/client";
 import { HttpError, said } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
+import { currentLanguage } from "../lib/words";
 import { threadEntry } from "../lib/paths";
 import { linkReportThread, type ReportCacheHandle, type ReportCacheOptions, type ReportCacheStatus } from "./report-cache";
 import { defaultedKeys, type FromReportThread, type ReportThreadData, type ThreadError, type ToReportThread } from "./report-thread-protocol";
@@ -188,7 +189,7 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
     }
     reportsInFlight++;
     try {
-      return (await request({ type: "report", id: nextId++, kind, query, defaulted: defaultedKeys(query) })).value;
+      return (await request({ type: "report", id: nextId++, kind, query, defaulted: defaultedKeys(query), language: currentLanguage() })).value;
     } finally {
       reportsInFlight--;
     }

@@ -32,18 +32,31 @@ export function tokenAllows(token: { scopes: readonly string[] } | null | undefi
   return !!token && token.scopes.includes(kind);
 }
 
-const listWords = (words: string[]) => (words.length <= 1 ? words.join("") : `${words.slice(0, -1).join(", ")} and ${words.at(-1)}`);
-
 /** 403 in words unless the token may send this kind: the check of POST /api/ingest/:kind. */
 export function assertTokenAllows(token: { name: string; scopes: readonly string[] } | null | undefined, kind: string): void {
   if (tokenAllows(token, kind)) return;
-  const label = (k: string) => (TOKEN_SCOPE_LABELS[k as TokenScope] ?? k).toLowerCase();
-  const may = token?.scopes.length ? `It may send ${listWords(token.scopes.map(label))}.` : "It may send nothing.";
+  // A kind in the reader's words (errors.tokens.kinds, lower case as in a sentence); one not known as it was sent.
+  const known = (k: string) => Object.hasOwn(TOKEN_SCOPE_LABELS, k);
+  const terms = (ks: readonly string[]) => ({ terms: ks.map((k) => `server:errors.tokens.kinds.${k}`) });
+  const scopes = token?.scopes ?? [];
+  const may =
+    scopes.length === 0
+      ? said("tokens.maySendNothing")
+      : scopes.length === 1
+        ? said("tokens.maySend", { kinds: terms(scopes) })
+        : said("tokens.maySendBoth", { kinds: terms(scopes.slice(0, -1)), last: terms(scopes.slice(-1)) });
   throw new HttpError(
     403,
     "token_scope",
-    `This API token (“${token?.name ?? "unknown"}”) may not send ${label(kind)}. ${may} An administrator can create a token that may, on the API tokens screen.`,
-    { kind, scopes: token?.scopes ?? [] },
+    [
+      said("tokens.scopeRefused", {
+        name: token ? token.name : { terms: ["server:errors.tokens.unknownName"] },
+        kind: known(kind) ? terms([kind]) : kind.toLowerCase(),
+      }),
+      may,
+      said("tokens.askAdmin"),
+    ],
+    { kind, scopes },
   );
 }
 

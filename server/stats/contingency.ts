@@ -1,4 +1,5 @@
 import { chiSquareUpper, lnFactorial } from "./distributions";
+import { say } from "../lib/words";
 
 export interface ChiSquare {
   statistic: number;
@@ -36,7 +37,7 @@ export function chiSquareIndependence(table: number[][]): ChiSquare {
     p: df > 0 ? chiSquareUpper(x2, df) : NaN,
     expected,
     smallExpected: small,
-    method: "Pearson chi-square test of independence, asymptotic, no continuity correction",
+    method: say("stats.chiSquare"),
   };
 }
 
@@ -62,7 +63,7 @@ export function fisherExact2x2(table: [[number, number], [number, number]]): Fis
   if (r1 === 0 || r2 === 0 || c1 === 0 || c1 === n) {
     // One table only fits these margins, so there is nothing to test. R's fisher.test prints p = 1
     // (interval 0 to ∞) here; shown, that reads as evidence of no difference, so it is NaN instead.
-    return { pLess: NaN, pGreater: NaN, pTwoSided: NaN, oddsRatio: NaN, method: "not testable: a row or column of the table is empty" };
+    return { pLess: NaN, pGreater: NaN, pTwoSided: NaN, oddsRatio: NaN, method: say("stats.fisher.empty") };
   }
   const lo = Math.max(0, c1 - r2);
   const hi = Math.min(r1, c1);
@@ -86,6 +87,6 @@ export function fisherExact2x2(table: [[number, number], [number, number]]): Fis
     pGreater: Math.min(1, pGreater),
     pTwoSided: Math.min(1, pTwo),
     oddsRatio: (a * d) / (b * c),
-    method: "Fisher's exact test (hypergeometric); two-sided sums the tables no more probable than the observed",
+    method: say("stats.fisher.method"),
   };
 }

@@ -1,3 +1,5 @@
+import { dec, say } from "../lib/words";
+
 export interface PChartPoint {
   period: string;
   slabs: number;
@@ -137,23 +139,20 @@ function phased(
  */
 export function pChartWithBaseline(baseline: ChartSample[], monitoring: ChartSample[] = [], options: PhaseOptions = {}): PhasedChart {
   const c = phased(baseline, monitoring, options, (p, n) => Math.sqrt((p * (1 - p)) / n), [0, 1]);
-  const method = `p-chart, ${c.sigmas}σ limits p̄ ± ${c.sigmas}√(p̄(1 − p̄)/nᵢ) per period held within [0, 1]; p̄ from the ${c.used.length} baseline period${c.used.length === 1 ? "" : "s"} (Phase I), applied unchanged to the later periods (Phase II)`;
+  const method = say("stats.control.p", { sigmas: c.sigmas, count: c.used.length });
   if (c.centre === null)
     return {
       centre: null,
       sigmaZ: null,
       baselinePeriods: c.used.length,
       points: c.raw.map((r) => c.point(r, 1)),
-      reason: "the baseline has no slabs",
+      reason: say("stats.control.noSlabs"),
       notes: [],
       method,
     };
   const notes: string[] = [];
-  if (c.centre === 0 || c.centre === 1)
-    notes.push(
-      c.centre === 0 ? "No affected slab in the baseline: the limits collapse onto 0." : "Every baseline slab is affected: the limits collapse onto 1.",
-    );
-  if (c.used.length < 20) notes.push(`Only ${c.used.length} baseline periods: Phase I limits are usually set on 20–25 or more.`);
+  if (c.centre === 0 || c.centre === 1) notes.push(say(c.centre === 0 ? "stats.control.collapse0" : "stats.control.collapse1"));
+  if (c.used.length < 20) notes.push(say("stats.control.fewPeriods", { count: c.used.length }));
   return { centre: c.centre, sigmaZ: 1, baselinePeriods: c.used.length, points: c.raw.map((r) => c.point(r, 1)), reason: null, notes, method };
 }
 
@@ -163,14 +162,14 @@ export function pChartWithBaseline(baseline: ChartSample[], monitoring: ChartSam
  */
 export function uChartWithBaseline(baseline: ChartSample[], monitoring: ChartSample[] = [], options: PhaseOptions = {}): PhasedChart {
   const c = phased(baseline, monitoring, options, (u, n) => Math.sqrt(u / n), [0, Infinity]);
-  const method = `u-chart, ${c.sigmas}σ limits ū ± ${c.sigmas}√(ū/nᵢ) per period, lower limit held at 0; ū from the ${c.used.length} baseline period${c.used.length === 1 ? "" : "s"} (Phase I), applied unchanged to the later periods (Phase II)`;
+  const method = say("stats.control.u", { sigmas: c.sigmas, count: c.used.length });
   if (c.centre === null)
     return {
       centre: null,
       sigmaZ: null,
       baselinePeriods: c.used.length,
       points: c.raw.map((r) => c.point(r, 1)),
-      reason: "the baseline has no units",
+      reason: say("stats.control.noUnits"),
       notes: [],
       method,
     };
@@ -190,7 +189,7 @@ const D2 = 1.128;
  */
 export function laneyPChart(baseline: ChartSample[], monitoring: ChartSample[] = [], options: PhaseOptions = {}): PhasedChart {
   const c = phased(baseline, monitoring, options, (p, n) => Math.sqrt((p * (1 - p)) / n), [0, 1]);
-  const method = `Laney p′ chart: ${c.sigmas}σ limits p̄ ± ${c.sigmas}σ_pᵢσ_z with σ_z = MR̄/1.128 of the z-scores of consecutive baseline periods; p̄ and σ_z from the baseline (Phase I), applied unchanged to the later periods (Phase II); limits held within [0, 1]`;
+  const method = say("stats.control.laney", { sigmas: c.sigmas });
   const none = (reason: string): PhasedChart => ({
     centre: c.centre,
     sigmaZ: null,
@@ -200,35 +199,33 @@ export function laneyPChart(baseline: ChartSample[], monitoring: ChartSample[] =
     notes: [],
     method,
   });
-  if (c.centre === null) return none("the baseline has no slabs");
-  if (c.centre === 0 || c.centre === 1)
-    return none(
-      c.centre === 0 ? "no affected slab in the baseline: the z-scores are undefined" : "every baseline slab is affected: the z-scores are undefined",
-    );
+  if (c.centre === null) return none(say("stats.control.noSlabs"));
+  if (c.centre === 0 || c.centre === 1) return none(say(c.centre === 0 ? "stats.control.zNone0" : "stats.control.zNone1"));
   const zs = c.raw.filter((r) => r.phase === "baseline" && !r.excluded && r.value !== null).map((r) => (r.value! - c.centre!) / r.sigma!);
-  if (zs.length < 2) return none("fewer than two baseline periods: no moving range");
+  if (zs.length < 2) return none(say("stats.control.noMovingRange"));
   let mr = 0;
   for (let i = 1; i < zs.length; i++) mr += Math.abs(zs[i]! - zs[i - 1]!);
   const sigmaZ = mr / (zs.length - 1) / D2;
-  if (!(sigmaZ > 0)) return { ...none("the baseline z-scores do not vary (σ_z = 0): no limits"), sigmaZ: 0 };
+  if (!(sigmaZ > 0)) return { ...none(say("stats.control.zConstant")), sigmaZ: 0 };
   const notes = [
     sigmaZ > 1
-      ? `σ_z = ${sigmaZ.toFixed(2)}: the periods vary more than the binomial allows (overdispersion); the p-chart's limits would be too narrow and the p′ chart applies.`
+      ? say("stats.control.over", { sigmaZ: dec(sigmaZ, 2) })
       : sigmaZ < 1
-        ? `σ_z = ${sigmaZ.toFixed(2)}: the periods vary less than the binomial allows (underdispersion); the p′ limits are narrower than the p-chart's.`
-        : "σ_z = 1: the p′ chart is the p-chart.",
+        ? say("stats.control.under", { sigmaZ: dec(sigmaZ, 2) })
+        : say("stats.control.same"),
   ];
   return { centre: c.centre, sigmaZ, baselinePeriods: c.used.length, points: c.raw.map((r) => c.point(r, sigmaZ)), reason: null, notes, method };
 }
 
 export type WesternElectricRule = 1 | 2 | 3 | 4;
 
-export const WESTERN_ELECTRIC_RULES: Record<WesternElectricRule, string> = {
-  1: "one point beyond 3σ",
-  2: "two of three successive points beyond 2σ on the same side",
-  3: "four of five successive points beyond 1σ on the same side",
-  4: "eight successive points on the same side of the centre line",
-};
+/** The four rules in words, in the reader's language (methods:stats.control.rule1…4). */
+export const westernElectricRuleWords = (): Record<WesternElectricRule, string> => ({
+  1: say("stats.control.rule1"),
+  2: say("stats.control.rule2"),
+  3: say("stats.control.rule3"),
+  4: say("stats.control.rule4"),
+});
 
 /**
  * The four zone tests for unnatural patterns of the Western Electric Statistical Quality Control
@@ -272,8 +269,6 @@ export function westernElectricRules(z: (number | null)[]): { rules: WesternElec
   }
   return {
     rules,
-    method:
-      "Western Electric zone tests (Statistical Quality Control Handbook, 1956): 1 one point beyond 3σ; 2 two of three successive points beyond 2σ, same side; " +
-      "3 four of five successive points beyond 1σ, same side; 4 eight successive points on one side of the centre line. Reported at the point completing the pattern",
+    method: say("stats.control.rulesMethod"),
   };
 }

@@ -24,6 +24,10 @@
 import { chiSquareUpper, normalQuantileOf, normalTwoSided } from "./distributions";
 import { choleskyInverse, congruence, firstDependentColumn, logDeterminant, subMatrix } from "./linear-algebra";
 import { scratch } from "./scratch";
+import { named, say } from "../lib/words";
+
+/** Under this many heats, cluster-robust SEs are flagged as unreliable (a note on the fit). */
+export const FEW_HEATS = 30;
 
 export type TermSpec =
   | { name: string; kind: "numeric" }
@@ -120,6 +124,8 @@ export interface MultiLogisticFit {
   reason: string | null;
   notes: string[];
   method: string;
+  /** The method said of a model of affected (yes/no) per slab on every term (the adjusted model's wording). */
+  methodOnEveryTerm: string;
 }
 
 interface Column {
@@ -539,7 +545,7 @@ export function oddsRatioForStep(coef: number | null, se: number | null, step: n
  */
 export function changeInEstimate(crude: number | null, adjusted: number | null, threshold = 0.1) {
   if (crude === null || adjusted === null || !(crude > 0) || !(adjusted > 0) || !Number.isFinite(crude) || !Number.isFinite(adjusted)) {
-    return { relativeChange: null, differs: null, reason: "one of the two odds ratios is undefined" };
+    return { relativeChange: null, differs: null, reason: say("fit.changeUndefined") };
   }
   const relativeChange = (crude - adjusted) / adjusted;
   return { relativeChange, differs: Math.abs(relativeChange) > threshold, reason: null };
@@ -698,8 +704,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     slabs += Nw[r]!;
     affected += S[r]!;
   }
-  if (slabsMissing > 0)
-    notes.push(`${slabsMissing} slab${slabsMissing === 1 ? "" : "s"} without a value for every term ${slabsMissing === 1 ? "is" : "are"} left out.`);
+  if (slabsMissing > 0) notes.push(say("fit.missing", { count: slabsMissing }));
 
   // Levels and spread of each term.
   const variables: VariableTest[] = [];
@@ -730,7 +735,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
         if (v > hi) hi = v;
       }
       if (rowsN > 0 && lo === hi) {
-        test.reason = "not testable: no spread (every slab has the same value); left out of the model";
+        test.reason = say("fit.noSpread");
         return;
       }
       test.df = 1;
@@ -755,13 +760,13 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     let reference = order[0];
     if (t.reference !== undefined) {
       if (codeOf.has(t.reference)) reference = t.reference;
-      else if (order.length > 0) notes.push(`${t.name}: the reference level ${t.reference} has no slabs here; ${order[0]} is the reference instead.`);
+      else if (order.length > 0) notes.push(say("fit.referenceMissing", { name: named(t.name), reference: t.reference, instead: order[0]! }));
     }
     const levels = reference === undefined ? [] : [reference, ...order.filter((l) => l !== reference)];
     test.levels = levels.map((l) => ({ level: l, ...byCode.get(codeOf.get(l)!)!, reference: l === reference }));
     if (levels.length < 2) {
       levelIndex.push(null);
-      test.reason = "not testable: only one level present; left out of the model";
+      test.reason = say("fit.oneLevel");
       return;
     }
     test.df = levels.length - 1;
@@ -772,20 +777,11 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     });
     levelIndex.push(map);
   });
-  const seDescription =
-    seKind === "model"
-      ? "model-based standard errors (inverse Fisher information)"
-      : `cluster-robust (sandwich) standard errors clustered by heat (Liang & Zeger 1986) with the small-sample factor ${
-          factor === "CR1"
-            ? "G/(G − 1)·(N − 1)/(N − K) (CR1, as statsmodels applies it; N slabs, K parameters)"
-            : "G/(G − 1) alone (as R's sandwich::vcovCL applies it by default)"
-        }, normal reference distribution`;
-  const method =
-    "multivariable logistic regression by maximum likelihood (IRLS); " +
-    `${seDescription}; Wald z tests, two-sided, and Wald ${Math.round(confidence * 100)} % intervals for the odds ratios; ` +
-    (options.likelihoodRatio === false ? "" : "likelihood-ratio chi-square per variable (model-based, slabs taken as independent); ") +
-    "Wald chi-square per variable with the chosen SEs; " +
-    "design-based (generalised) variance inflation factors; deviance and AIC on the slab level";
+  const seDescription = say(seKind === "model" ? "fit.se.model" : factor === "CR1" ? "fit.se.CR1" : "fit.se.CR0");
+  const methodWords = { se: seDescription, level: Math.round(confidence * 100) };
+  const lrWords = options.likelihoodRatio === false ? "nolr" : "lr";
+  const method = say(`fit.method_${lrWords}`, methodWords);
+  const methodOnEveryTerm = say(`fit.methodOnEveryTerm_${lrWords}`, methodWords);
 
   const empty = (reason: string, extra: Partial<MultiLogisticFit> = {}): MultiLogisticFit => ({
     converged: false,
@@ -819,12 +815,13 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     reason,
     notes,
     method,
+    methodOnEveryTerm,
     ...extra,
   });
 
-  if (slabs === 0) return empty("no slabs with a value for every term");
-  if (affected === 0) return empty("no affected slab: the odds ratios are undefined");
-  if (affected === slabs) return empty("every slab is affected: the odds ratios are undefined");
+  if (slabs === 0) return empty(say("fit.noSlabs"));
+  if (affected === 0) return empty(say("fit.noneAffected"));
+  if (affected === slabs) return empty(say("fit.allAffected"));
 
   // Exact checks for separation by one term alone (quasi-complete when a level or a range holds
   // only affected or only sound slabs): the likelihood then has no finite maximum.
@@ -837,9 +834,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       for (const l of test.levels ?? []) {
         if (l.affected === 0 || l.affected === l.slabs) {
           separated.push(`${t.name} = ${l.level}`);
-          separationWords.push(
-            `${t.name} ${l.level} has ${l.affected === 0 ? "no affected slab" : "only affected slabs"} (${l.slabs} slab${l.slabs === 1 ? "" : "s"})`,
-          );
+          separationWords.push(say(l.affected === 0 ? "fit.levelNone" : "fit.levelAll", { name: named(t.name), level: l.level, count: l.slabs }));
         }
       }
       return;
@@ -861,11 +856,11 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     }
     if (maxA <= minS || minA >= maxS) {
       separated.push(t.name);
-      separationWords.push(`every affected slab has ${t.name} ${maxA <= minS ? "at or below" : "at or above"} every sound slab's`);
+      separationWords.push(say(maxA <= minS ? "fit.belowEvery" : "fit.aboveEvery", { name: named(t.name) }));
     }
   });
   if (separated.length > 0) {
-    const description = `${separationWords.join("; ")}: the affected and sound slabs are separated, so the odds ratio has no finite estimate (separation). Merge or leave out that level, or leave out the variable.`;
+    const description = say("fit.separated", { why: separationWords.join("; ") });
     return empty(description, { separation: { terms: separated, description } });
   }
   // The design: numeric columns centred and scaled (slab-weighted) for a well-conditioned fit.
@@ -940,7 +935,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   const dependent = q > 0 ? firstDependentColumn(corr, 1e-10) : -1;
   if (dependent >= 0) {
     const c = columns[dependent]!;
-    return empty(`${c.name} is a linear combination of the terms before it (exact collinearity): their effects cannot be told apart. Leave one of them out.`);
+    return empty(say("fit.collinear", { name: named(c.name) }));
   }
   const corrInv = q > 0 ? choleskyInverse(corr) : [];
   const logDetAll = q > 0 ? logDeterminant(corr) : 0;
@@ -964,7 +959,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       .sort((a, b) => b.size - a.size)
       .slice(0, 3)
       .map((x) => x.name);
-    const description = `the fit did not converge in ${fit.iterations} iterations: the affected and sound slabs are (almost) perfectly separated by a combination of terms (largest coefficients: ${runaway.join(", ")}), so there are no finite odds ratios (separation). Leave out or merge terms.`;
+    const description = say("fit.notConverged", { iterations: fit.iterations, largest: runaway.map(named).join(", ") });
     return empty(description, { iterations: fit.iterations, separation: { terms: runaway, description }, nullDeviance });
   }
   // Covariance on the fitting scale: model-based, or the cluster sandwich A⁻¹ (Σ_g u_g u_gᵀ) A⁻¹.
@@ -1024,10 +1019,9 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       }
     }
     clusters = G;
-    if (G < 2)
-      return empty("fewer than two heats: cluster-robust standard errors are undefined", { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
+    if (G < 2) return empty(say("fit.oneHeat"), { iterations: fit.iterations, deviance: fit.deviance, nullDeviance });
     if (factor === "CR1" && slabs <= p)
-      return empty("no more slabs than parameters: the small-sample factor (N − 1)/(N − K) is undefined", {
+      return empty(say("fit.tooFewSlabs"), {
         iterations: fit.iterations,
         deviance: fit.deviance,
         nullDeviance,
@@ -1045,8 +1039,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     const meat = Array.from({ length: p }, (_, a) => Array.from({ length: p }, (_, c) => (c <= a ? meatFlat[a * p + c]! : meatFlat[c * p + a]!)));
     const cf = factor === "CR1" ? (G / (G - 1)) * ((slabs - 1) / (slabs - p)) : G / (G - 1);
     vFit = congruence(bread, meat).map((row) => row.map((v) => v * cf));
-    if (G < 30)
-      notes.push(`Only ${G} heats: cluster-robust standard errors are unreliable with few clusters (Cameron & Miller 2015, J. Human Resources 50:317).`);
+    if (G < FEW_HEATS) notes.push(say("fit.fewHeats", { count: G }));
   }
   // Back to the original scale: β = T β_fit, V = T V_fit Tᵀ.
   const T = Array.from({ length: p }, (_, a) => Array.from({ length: p }, (_, b) => (a === b ? 1 / scale[a]! : 0)));
@@ -1118,15 +1111,14 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     }
     const reduced = irls(d, act, start, maxIterations);
     if (!reduced.converged) {
-      test.reason = "the model without this variable did not converge: no likelihood-ratio test";
+      test.reason = say("fit.reducedNotConverged");
       return;
     }
     const lr = Math.max(0, reduced.deviance - fit.deviance);
     test.lrChi2 = lr;
     test.lrP = chiSquareUpper(lr, idx.length);
   });
-  if (seKind === "cluster" && options.likelihoodRatio !== false)
-    notes.push("The likelihood-ratio tests take slabs as independent; with heat-level variables read the cluster-robust Wald tests.");
+  if (seKind === "cluster" && options.likelihoodRatio !== false) notes.push(say("fit.lrIndependent"));
   const w0 = waldOf(0);
   return {
     converged: true,
@@ -1147,5 +1139,6 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     reason: null,
     notes,
     method,
+    methodOnEveryTerm,
   };
 }

@@ -1,5 +1,6 @@
 import { normalQuantileOf, normalTwoSided } from "./distributions";
 import { choleskyInverse } from "./linear-algebra";
+import { say } from "../lib/words";
 
 export interface LogisticRow {
   /** The covariates (no intercept; it is added). */
@@ -53,9 +54,8 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
   // A covariate with a single value makes the information singular, but rounding in its centring can
   // hide that; it is not separation, and the note must say which it is. Equal stored values compare exactly.
   const used = rows.filter((r) => r.trials > 0);
-  if (used.length === 0) return notFitted("not testable: no slabs");
-  if (means.some((_, j) => used.every((r) => r.x[j] === used[0]!.x[j])))
-    return notFitted("not testable: the variable has no spread (every slab has the same value)");
+  if (used.length === 0) return notFitted(say("stats.logistic.noSlabs"));
+  if (means.some((_, j) => used.every((r) => r.x[j] === used[0]!.x[j]))) return notFitted(say("stats.logistic.noSpread"));
   const design = rows.map((r) => [1, ...r.x.map((v, j) => v - means[j]!)]);
   let beta = new Array<number>(k).fill(0);
   const ybar = rows.reduce((s, r) => s + r.successes, 0) / (n || 1);
@@ -99,9 +99,7 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
   const cov = choleskyInverse(info);
   if (!cov || !converged) {
     return notFitted(
-      ybar <= 0 || ybar >= 1
-        ? "not testable: the outcome does not vary (no affected slab, or every slab affected)"
-        : "IRLS did not converge (the outcome may be perfectly separated by the variable)",
+      ybar <= 0 || ybar >= 1 ? say("stats.logistic.constantOutcome") : "IRLS did not converge (the outcome may be perfectly separated by the variable)",
       iterations,
       deviance,
     );
@@ -129,6 +127,6 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
     converged: true,
     deviance,
     n,
-    method: "maximum likelihood by IRLS; Wald z tests, two-sided; Wald intervals for the odds ratios",
+    method: say("stats.logistic.method"),
   };
 }

@@ -1,5 +1,6 @@
 import { normalUpper } from "./distributions";
 import { midRanks, tieSum, type Group } from "./ranks";
+import { say } from "../lib/words";
 
 export type Alternative = "two-sided" | "greater" | "less";
 
@@ -52,7 +53,7 @@ export function mannWhitneyGrouped(groups: Group[], alternative: Alternative = "
     n += g.n;
   }
   const n2 = n - n1;
-  if (n1 === 0 || n2 === 0) return { u: NaN, p: NaN, n1, n2, method: "one sample is empty" };
+  if (n1 === 0 || n2 === 0) return { u: NaN, p: NaN, n1, n2, method: say("stats.mannWhitney.empty") };
   const ranks = midRanks(groups);
   let rankSum = 0;
   groups.forEach((g, i) => (rankSum += g.affected * ranks[i]!));
@@ -72,7 +73,7 @@ export function mannWhitneyGrouped(groups: Group[], alternative: Alternative = "
     if (alternative === "greater") p = upperFrom(u);
     else if (alternative === "less") p = cdf(u);
     else p = Math.min(1, 2 * (u > (n1 * n2) / 2 ? upperFrom(u) : cdf(u)));
-    return { u, p, n1, n2, method: `exact, ${alternative}` };
+    return { u, p, n1, n2, method: say("stats.mannWhitney.exact", { alternative: say(`stats.alternative.${alternative}`) }) };
   }
   const mean = (n1 * n2) / 2;
   const sigma = Math.sqrt(((n1 * n2) / 12) * (n + 1 - tieSum(groups) / (n * (n - 1))));
@@ -81,7 +82,7 @@ export function mannWhitneyGrouped(groups: Group[], alternative: Alternative = "
   const z = sigma > 0 ? (d - correction) / sigma : 0;
   // Each tail straight from its own side (1 − P(Z ≥ z) would cancel to 0 for a far tail).
   const p = alternative === "greater" ? normalUpper(z) : alternative === "less" ? normalUpper(-z) : Math.min(1, 2 * normalUpper(Math.abs(z)));
-  return { u, p, n1, n2, method: `normal approximation with tie and continuity correction, ${alternative}` };
+  return { u, p, n1, n2, method: say("stats.mannWhitney.normal", { alternative: say(`stats.alternative.${alternative}`) }) };
 }
 
 /** The same for two plain samples x (sample 1) and y. */

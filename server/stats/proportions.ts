@@ -1,4 +1,5 @@
 import { normalQuantileOf } from "./distributions";
+import { say } from "../lib/words";
 
 export interface Proportion {
   n: number;
@@ -37,5 +38,5 @@ export function differenceOfProportions(x1: number, n1: number, x2: number, n2: 
   const d = a.p - b.p;
   const lower = d - Math.sqrt((a.p - a.lower) ** 2 + (b.upper - b.p) ** 2);
   const upper = d + Math.sqrt((a.upper - a.p) ** 2 + (b.p - b.lower) ** 2);
-  return { difference: d, lower, upper, method: "Newcombe hybrid score interval (1998, method 10)" };
+  return { difference: d, lower, upper, method: say("stats.newcombe") };
 }

@@ -1,4 +1,5 @@
 import { tTwoSided } from "./distributions";
+import { say } from "../lib/words";
 
 /** Ordinary least squares y = b0 + b1 x with centred sums (accurate on NIST's Norris data). */
 export function linearRegression(x: number[], y: number[]) {
@@ -39,5 +40,5 @@ export function welchTTest(a: { n: number; mean: number; variance: number }, b: 
   const vb = b.variance / b.n;
   const t = (a.mean - b.mean) / Math.sqrt(va + vb);
   const df = (va + vb) ** 2 / (va ** 2 / (a.n - 1) + vb ** 2 / (b.n - 1));
-  return { t, df, p: tTwoSided(t, df), method: "Welch two-sample t test, two-sided" };
+  return { t, df, p: tTwoSided(t, df), method: say("stats.welch") };
 }

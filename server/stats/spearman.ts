@@ -1,5 +1,6 @@
 import { tTwoSided } from "./distributions";
 import { midRanks, rank, type Group } from "./ranks";
+import { say } from "../lib/words";
 
 export interface Correlation {
   rho: number;
@@ -8,7 +9,7 @@ export interface Correlation {
   method: string;
 }
 
-const NO_SPREAD = "not testable: the variable has no spread (every slab has the same value)";
+const noSpreadWords = () => say("stats.logistic.noSpread");
 
 const noSpread = (v: number[]) => v.every((x) => x === v[0]);
 
@@ -74,8 +75,8 @@ function exactSpearmanTails(n: number, s: number): { lower: number; upper: numbe
 export function spearman(x: number[], y: number[]): Correlation {
   const n = x.length;
   if (n !== y.length) throw new Error("spearman: x and y differ in length");
-  if (n < 3) return { rho: NaN, p: NaN, n, method: "too few observations" };
-  if (noSpread(x) || noSpread(y)) return { rho: NaN, p: NaN, n, method: NO_SPREAD };
+  if (n < 3) return { rho: NaN, p: NaN, n, method: say("stats.spearman.tooFew") };
+  if (noSpread(x) || noSpread(y)) return { rho: NaN, p: NaN, n, method: noSpreadWords() };
   const rx = rank(x);
   const ry = rank(y);
   const rho = pearson(rx, ry);
@@ -84,9 +85,9 @@ export function spearman(x: number[], y: number[]): Correlation {
     const s = ((n ** 3 - n) * (1 - rho)) / 6;
     const { lower, upper } = exactSpearmanTails(n, Math.round(s));
     const p = Math.min(1, 2 * (s > (n ** 3 - n) / 6 ? upper : lower));
-    return { rho, p, n, method: "exact permutation distribution, two-sided" };
+    return { rho, p, n, method: say("stats.spearman.exact") };
   }
-  return { rho, p: tDistributionP(rho, n), n, method: "t approximation, two-sided" };
+  return { rho, p: tDistributionP(rho, n), n, method: say("stats.spearman.t") };
 }
 
 function tDistributionP(r: number, n: number): number {
@@ -110,11 +111,11 @@ export function correlationsWithOutcome(groups: Group[]): { spearman: Correlatio
   }
   const n0 = n - n1;
   if (n >= 3 && new Set(groups.filter((g) => g.n > 0).map((g) => g.value)).size < 2) {
-    const none = { rho: NaN, p: NaN, n, method: NO_SPREAD };
+    const none = { rho: NaN, p: NaN, n, method: noSpreadWords() };
     return { spearman: none, pointBiserial: none };
   }
   if (n < 3 || n1 === 0 || n0 === 0) {
-    const none = { rho: NaN, p: NaN, n, method: n1 === 0 || n0 === 0 ? "outcome does not vary" : "too few observations" };
+    const none = { rho: NaN, p: NaN, n, method: say(n1 === 0 || n0 === 0 ? "stats.spearman.constantOutcome" : "stats.spearman.tooFew") };
     return { spearman: none, pointBiserial: none };
   }
   const ranks = midRanks(groups);
@@ -142,7 +143,7 @@ export function correlationsWithOutcome(groups: Group[]): { spearman: Correlatio
   const qyy = n1 * (1 - n1 / n) ** 2 + n0 * (n1 / n) ** 2;
   const rpb = pxx > 0 ? pxy / Math.sqrt(pxx * qyy) : NaN;
   return {
-    spearman: { rho, p: tDistributionP(rho, n), n, method: "t approximation, two-sided (ties by mid-ranks)" },
-    pointBiserial: { rho: rpb, p: tDistributionP(rpb, n), n, method: "Pearson r with t test, two-sided" },
+    spearman: { rho, p: tDistributionP(rho, n), n, method: say("stats.spearman.tTies") },
+    pointBiserial: { rho: rpb, p: tDistributionP(rpb, n), n, method: say("stats.spearman.pointBiserial") },
   };
 }

@@ -5,6 +5,7 @@
  * weighted form West 1979, Comm. ACM 22:532), and a variable whose smallest and largest values are
  * equal has variance exactly 0 and is flagged as not testable.
  */
+import { say } from "../lib/words";
 
 export interface Spread {
   /** Number of observations (sum of the counts). */
@@ -73,7 +74,7 @@ export class RunningSpread {
         min: this.min,
         max: this.max,
         noSpread: true,
-        reason: n > 1 ? "every value is the same" : "only one value",
+        reason: say(n > 1 ? "stats.spread.same" : "stats.spread.one"),
       };
     }
     if (n < 2) return { n, mean: this.mean, variance: null, sd: null, min: this.min, max: this.max, noSpread: true, reason: "only one value" };

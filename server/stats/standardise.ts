@@ -6,6 +6,7 @@
  * Methods for Rates and Proportions, the standardisation of rates).
  */
 import { normalQuantileOf } from "./distributions";
+import { say } from "../lib/words";
 
 export interface RateStratum {
   label: string;
@@ -49,8 +50,6 @@ export interface StandardisedDifference {
   notes: string[];
   method: string;
 }
-
-const METHOD = "direct standardisation to the reference mix, Σ wⱼpⱼ; variance Σ wⱼ²pⱼ(1 − pⱼ)/nⱼ; normal-approximation (Wald) interval, clipped to [0, 1]";
 
 /**
  * The reference mix made of several groups together (e.g. both periods of a before/after
@@ -106,9 +105,9 @@ function weighted(strata: RateStratum[], reference: ReferenceWeight[]) {
 export function directlyStandardisedRate(strata: RateStratum[], reference: ReferenceWeight[], confidence = 0.95): StandardisedRate {
   const w = weighted(strata, reference);
   const crude = w.n > 0 ? w.x / w.n : null;
-  const base = { crude, slabs: w.n, affected: w.x, missingStrata: w.missing, method: METHOD };
+  const base = { crude, slabs: w.n, affected: w.x, missingStrata: w.missing, method: say("stats.std.method") };
   if (w.refCount === 0 || !(w.total > 0))
-    return { ...base, rate: null, se: null, ciLower: null, ciUpper: null, reason: "the reference mix is empty", notes: [] };
+    return { ...base, rate: null, se: null, ciLower: null, ciUpper: null, reason: say("stats.std.emptyReference"), notes: [] };
   if (w.missing.length > 0) {
     return {
       ...base,
@@ -116,17 +115,14 @@ export function directlyStandardisedRate(strata: RateStratum[], reference: Refer
       se: null,
       ciLower: null,
       ciUpper: null,
-      reason: `no slab in ${w.missing.join(", ")}, which the reference mix contains: the standardised rate is undefined`,
+      reason: say("stats.std.missing", { strata: w.missing.join(", ") }),
       notes: [],
     };
   }
   const se = Math.sqrt(w.variance);
   const z = normalQuantileOf(1 - (1 - confidence) / 2);
   const notes: string[] = [];
-  if (w.zeroVarianceStrata > 0)
-    notes.push(
-      `${w.zeroVarianceStrata} stratum${w.zeroVarianceStrata === 1 ? " has" : "s have"} no affected or only affected slabs; the binomial variance counts them as certain, so the interval is too narrow there.`,
-    );
+  if (w.zeroVarianceStrata > 0) notes.push(say("stats.std.zeroVariance", { count: w.zeroVarianceStrata }));
   return { ...base, rate: w.rate, se, ciLower: Math.max(0, w.rate - z * se), ciUpper: Math.min(1, w.rate + z * se), reason: null, notes };
 }
 
@@ -137,9 +133,7 @@ export function directlyStandardisedRate(strata: RateStratum[], reference: Refer
 export function differenceOfStandardisedRates(a: RateStratum[], b: RateStratum[], reference: ReferenceWeight[], confidence = 0.95): StandardisedDifference {
   const ra = directlyStandardisedRate(a, reference, confidence);
   const rb = directlyStandardisedRate(b, reference, confidence);
-  const method =
-    "difference B − A of two rates directly standardised to the same reference mix; variance Var(A) + Var(B) (independent groups), " +
-    "each Σ wⱼ²pⱼ(1 − pⱼ)/nⱼ; normal-approximation (Wald) interval, not clipped";
+  const method = say("stats.std.differenceMethod");
   const notes = [...ra.notes.map((n) => `A: ${n}`), ...rb.notes.map((n) => `B: ${n}`)];
   if (ra.rate === null || rb.rate === null) {
     const reason = [ra.reason && `A: ${ra.reason}`, rb.reason && `B: ${rb.reason}`].filter(Boolean).join("; ");

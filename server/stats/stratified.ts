@@ -10,6 +10,7 @@
  * x[2,2,k] = d.
  */
 import { chiSquareUpper, normalQuantileOf } from "./distributions";
+import { say } from "../lib/words";
 
 export interface Stratum2x2 {
   label: string;
@@ -65,10 +66,10 @@ const zOf = (confidence: number) => normalQuantileOf(1 - (1 - confidence) / 2);
 
 /** Why a stratum carries no information on an odds ratio, or null when it does. */
 function uninformative(s: Stratum2x2): string | null {
-  if (s.a + s.b === 0) return "the first group has no slabs in this stratum";
-  if (s.c + s.d === 0) return "the second group has no slabs in this stratum";
-  if (s.a + s.c === 0) return "no affected slab in this stratum";
-  if (s.b + s.d === 0) return "every slab in this stratum is affected";
+  if (s.a + s.b === 0) return say("stats.mh.firstEmpty");
+  if (s.c + s.d === 0) return say("stats.mh.secondEmpty");
+  if (s.a + s.c === 0) return say("stats.mh.noneAffected");
+  if (s.b + s.d === 0) return say("stats.mh.allAffected");
   return null;
 }
 
@@ -81,7 +82,7 @@ function uninformative(s: Stratum2x2): string | null {
 export function stratumOddsRatio(s: Stratum2x2, confidence = 0.95): StratumOddsRatio {
   const n = s.a + s.b + s.c + s.d;
   const why = uninformative(s);
-  if (why) return { label: s.label, n, oddsRatio: null, ciLower: null, ciUpper: null, zeroCellCorrection: false, reason: `no odds ratio: ${why}` };
+  if (why) return { label: s.label, n, oddsRatio: null, ciLower: null, ciUpper: null, zeroCellCorrection: false, reason: say("stats.mh.noOddsRatio", { why }) };
   const zero = s.a === 0 || s.b === 0 || s.c === 0 || s.d === 0;
   const h = zero ? 0.5 : 0;
   const [a, b, c, d] = [s.a + h, s.b + h, s.c + h, s.d + h];
@@ -95,7 +96,7 @@ export function stratumOddsRatio(s: Stratum2x2, confidence = 0.95): StratumOddsR
     ciLower: Math.exp(lnOr - z * se),
     ciUpper: Math.exp(lnOr + z * se),
     zeroCellCorrection: zero,
-    reason: zero ? "a cell is zero: 0.5 added to every cell (Haldane–Anscombe)" : null,
+    reason: zero ? say("stats.mh.haldane") : null,
   };
 }
 
@@ -130,8 +131,8 @@ export function expectedUnderCommonOddsRatio(s: Stratum2x2, psi: number): number
 export function breslowDay(strata: Stratum2x2[], commonOddsRatio: number | null, tarone = true): BreslowDay {
   const used = strata.filter((s) => !uninformative(s));
   const none = (reason: string): BreslowDay => ({ statistic: null, df: null, p: null, uncorrected: null, tarone, smallExpected: 0, reason });
-  if (used.length < 2) return none(used.length === 1 ? "only one stratum carries information: nothing to compare" : "no stratum carries information");
-  if (commonOddsRatio === null || !(commonOddsRatio > 0) || !Number.isFinite(commonOddsRatio)) return none("no common odds ratio to test against");
+  if (used.length < 2) return none(say(used.length === 1 ? "stats.mh.oneStratum" : "stats.mh.noStratum"));
+  if (commonOddsRatio === null || !(commonOddsRatio > 0) || !Number.isFinite(commonOddsRatio)) return none(say("stats.mh.noCommon"));
   let x2 = 0;
   let sumA = 0;
   let sumE = 0;
@@ -174,10 +175,7 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
   const used = strata.filter((s) => !uninformative(s));
   const notes: string[] = [];
   const skipped = strata.length - used.length;
-  if (skipped > 0)
-    notes.push(
-      `${skipped} ${skipped === 1 ? "stratum" : "strata"} without both groups or both outcomes ${skipped === 1 ? "adds" : "add"} nothing to the pooled estimate.`,
-    );
+  if (skipped > 0) notes.push(say("stats.mh.skipped", { count: skipped }));
   let R = 0;
   let S = 0;
   let PR = 0;
@@ -207,15 +205,11 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
   }
   const total = strata.reduce((t, s) => ({ a: t.a + s.a, b: t.b + s.b, c: t.c + s.c, d: t.d + s.d }), { a: 0, b: 0, c: 0, d: 0 });
   const crude = total.b * total.c > 0 && total.a * total.d > 0 ? (total.a * total.d) / (total.b * total.c) : null;
-  const method =
-    `Mantel–Haenszel common odds ratio with the Robins–Breslow–Greenland ${Math.round(confidence * 100)} % interval; ` +
-    `Cochran–Mantel–Haenszel chi-square, 1 df, asymptotic, ${correct ? "with" : "without"} continuity correction; ` +
-    `Breslow–Day homogeneity test at the Mantel–Haenszel estimate${tarone ? " with Tarone's correction" : ""}, asymptotic; ` +
-    "per-stratum odds ratios with Woolf (logit) intervals, 0.5 added to every cell of a stratum with a zero cell";
+  const method = say(`stats.mh.method_${correct ? "with" : "without"}_${tarone ? "tarone" : "plain"}`, { level: Math.round(confidence * 100) });
   const cmhNone = (reason: string) => ({ statistic: null, df: 1 as const, p: null, continuityCorrection: correct, reason });
   let cmh: MantelHaenszel["cmh"];
-  if (used.length === 0) cmh = cmhNone("no stratum carries information");
-  else if (!(sumV > 0)) cmh = cmhNone("the variance of Σa is zero");
+  if (used.length === 0) cmh = cmhNone(say("stats.mh.noStratum"));
+  else if (!(sumV > 0)) cmh = cmhNone(say("stats.mh.varianceZero"));
   else {
     const delta = sumA - sumE;
     const yates = correct && Math.abs(delta) >= 0.5 ? 0.5 : 0;
@@ -223,12 +217,7 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
     cmh = { statistic, df: 1, p: chiSquareUpper(statistic, 1), continuityCorrection: correct, reason: null };
   }
   if (used.length === 0 || R === 0 || S === 0) {
-    const reason =
-      used.length === 0
-        ? "no stratum has both groups and both outcomes: no odds ratio can be estimated"
-        : R === 0
-          ? "Σ aᵢdᵢ/nᵢ is zero (no stratum has affected slabs in the first group together with unaffected slabs in the second): the common odds ratio is 0 and has no interval"
-          : "Σ bᵢcᵢ/nᵢ is zero (no stratum has unaffected slabs in the first group together with affected slabs in the second): the common odds ratio is unbounded";
+    const reason = say(used.length === 0 ? "stats.mh.noneBoth" : R === 0 ? "stats.mh.rZero" : "stats.mh.sZero");
     return {
       strata: per,
       informativeStrata: used.length,
@@ -249,11 +238,8 @@ export function mantelHaenszel(strata: Stratum2x2[], options: { confidence?: num
   const se = Math.sqrt(variance);
   const z = zOf(confidence);
   const bd = breslowDay(strata, or, tarone);
-  if (bd.smallExpected > 0)
-    notes.push(
-      `${bd.smallExpected} ${bd.smallExpected === 1 ? "stratum has" : "strata have"} an expected cell below 5: the Breslow–Day test is then approximate.`,
-    );
-  if (used.length === 1) notes.push("Only one stratum carries information: the Mantel–Haenszel estimate is that stratum's odds ratio.");
+  if (bd.smallExpected > 0) notes.push(say("stats.mh.smallExpected", { count: bd.smallExpected }));
+  if (used.length === 1) notes.push(say("stats.mh.onlyOne"));
   return {
     strata: per,
     informativeStrata: used.length,

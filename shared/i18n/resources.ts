@@ -11,14 +11,19 @@
  * `process` — causes, investigations, operating windows and risk; `admin` — setup, users, import, tokens, mail and passwords; `server` — what the server
  * writes: error messages, e-mails, workbook headers; `schema` — the messages written into the shared
  * schemas (shared/api), keyed by their English text (schema-messages.ts), for forms and refusals alike;
- * `slab` — the slab drawing and the label scanner, on the inspector's screens and the slab and heat pages.
+ * `slab` — the slab drawing and the label scanner, on the inspector's screens and the slab and heat pages;
+ * `methods` — what the server's reports and models say in words (methods, notes, reasons, verdicts),
+ * written into their answers in the reader's language (server/lib/words.ts); `audit` — the audit trail
+ * said in words (server/services/history-words.ts), on the trace screen and in the heat's workbook.
  */
 import deAdmin from "./locales/de/admin.json";
 import deClaims from "./locales/de/claims.json";
 import deReview from "./locales/de/review.json";
 import deAnalysis from "./locales/de/analysis.json";
+import deAudit from "./locales/de/audit.json";
 import deCommon from "./locales/de/common.json";
 import deHeats from "./locales/de/heats.json";
+import deMethods from "./locales/de/methods.json";
 import deProcess from "./locales/de/process.json";
 import deReports from "./locales/de/reports.json";
 import deSchema from "./locales/de/schema.json";
@@ -29,8 +34,10 @@ import enAdmin from "./locales/en/admin.json";
 import enClaims from "./locales/en/claims.json";
 import enReview from "./locales/en/review.json";
 import enAnalysis from "./locales/en/analysis.json";
+import enAudit from "./locales/en/audit.json";
 import enCommon from "./locales/en/common.json";
 import enHeats from "./locales/en/heats.json";
+import enMethods from "./locales/en/methods.json";
 import enProcess from "./locales/en/process.json";
 import enReports from "./locales/en/reports.json";
 import enSchema from "./locales/en/schema.json";
@@ -40,7 +47,22 @@ import enYard from "./locales/en/yard.json";
 import type { Language } from "./languages";
 import { pseudoCatalogue } from "./pseudo";
 
-export const NAMESPACES = ["common", "yard", "review", "reports", "analysis", "heats", "claims", "process", "admin", "server", "schema", "slab"] as const;
+export const NAMESPACES = [
+  "common",
+  "yard",
+  "review",
+  "reports",
+  "analysis",
+  "heats",
+  "claims",
+  "process",
+  "admin",
+  "server",
+  "schema",
+  "slab",
+  "methods",
+  "audit",
+] as const;
 export type Namespace = (typeof NAMESPACES)[number];
 
 type Tree = { [key: string]: string | Tree };
@@ -59,6 +81,8 @@ export const en: Catalogue = {
   server: enServer,
   schema: enSchema,
   slab: enSlab,
+  methods: enMethods,
+  audit: enAudit,
 };
 
 /** German: every key of the English catalogue (checked by tests/server/i18n.test.ts). */
@@ -75,6 +99,8 @@ export const de: Catalogue = {
   server: deServer,
   schema: deSchema,
   slab: deSlab,
+  methods: deMethods,
+  audit: deAudit,
 };
 
 export const resourcesFor = (language: Language): Catalogue => (language === "de" ? de : language === "en-XA" ? pseudo() : en);

@@ -67,7 +67,7 @@ const SCREEN_TEXTS: Record<string, Namespace[]> = {
   "report-before-after": ["reports", "analysis"],
   "claims-home": ["claims"],
   "claim-new": ["claims"],
-  claim: ["claims", "heats"],
+  claim: ["claims", "heats", "process"],
   trace: ["claims", "heats", "process"],
   heats: ["heats"],
   heat: ["heats", "yard", "slab", "claims", "process"],

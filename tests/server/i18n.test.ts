@@ -40,6 +40,8 @@ const SAME_IN_GERMAN = [
   "claims.traceChain.coil",
   "common.band.offline",
   "heats.chemistry.element",
+  // "Separation: {{why}}" — the statistical term is the same word in German.
+  "methods.adjusted.separation",
   "process.causes.editor.code",
   "process.causes.editor.name",
   "process.investigations.table.status",

@@ -1,8 +1,11 @@
+import crypto from "node:crypto";
 import ExcelJS from "exceljs";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import deSchema from "../../shared/i18n/locales/de/schema.json";
+import { STREAM_FROM_BYTES } from "../../server/import/sheet-reader";
 import { createTestApp, type TestApp } from "../helpers/test-app";
+import { binaryBody as binary } from "../helpers/workbooks";
 
 /**
  * The server's own words in the reader's language: refusals in the requester's language (their
@@ -16,11 +19,6 @@ afterAll(() => t?.close());
 
 const O = () => t.env.BETTER_AUTH_URL;
 const one = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).get(...a) as Record<string, any>;
-const binary = (res: request.Response, cb: (err: Error | null, body: Buffer) => void) => {
-  const chunks: Buffer[] = [];
-  res.on("data", (c: Buffer) => chunks.push(c));
-  res.on("end", () => cb(null, Buffer.concat(chunks)));
-};
 const speaks = async (agent: Awaited<ReturnType<TestApp["agentFor"]>>, language: "de" | null) =>
   expect((await agent.put("/api/me/language").set("Origin", O()).send({ language })).status).toBe(200);
 
@@ -208,6 +206,145 @@ describe("the server's words in the reader's language", () => {
     await wb.xlsx.load(english.body as never);
     expect(wb.getWorksheet("Parameters")!.getRow(2).values).toEqual([undefined, "Report", "Overview"]);
     expect(wb.getWorksheet("By period")).toBeDefined();
+  });
+});
+
+describe("refusals made in the import, report and risk code, in the requester's language", () => {
+  const workbook = async (rows: (string | number)[][]) => {
+    const wb = new ExcelJS.Workbook();
+    const ws = wb.addWorksheet("Heats");
+    rows.forEach((r, i) => (ws.getRow(i + 1).values = r));
+    return Buffer.from(await wb.xlsx.writeBuffer());
+  };
+  const importAs = (agent: Awaited<ReturnType<TestApp["agentFor"]>>, file: Buffer, language?: string) => {
+    const req = agent.post("/api/import/heats?dryRun=true").set("Origin", O());
+    if (language) req.set("Accept-Language", language);
+    return req.attach("file", file, "heats.xlsx");
+  };
+
+  it("when an admin reading German imports a bad workbook, then the import thread's refusal is German, and English is word for word as before", async () => {
+    const admin = await t.agentFor("admin");
+    // Read whole in the import thread: a header and nothing under it.
+    const headerOnly = await workbook([["heat_no", "sequence_no", "caster", "grade"]]);
+    const german = await importAs(admin, headerOnly, "de");
+    expect(german.status).toBe(400);
+    expect(german.body.error).toMatchObject({ code: "empty_file", message: "Die Arbeitsmappe hat eine Kopfzeile, aber keine Datenzeilen." });
+    const english = await importAs(admin, headerOnly);
+    expect(english.body.error).toMatchObject({ code: "empty_file", message: "The workbook has a header but no data rows." });
+
+    // A large workbook is read in a reader thread of its own: its refusal crosses two threads.
+    const noise = () => crypto.randomBytes(15_000).toString("base64");
+    const large = await workbook([[], ["heat_no", "note"], ...Array.from({ length: 30 }, (_, i) => [`LRG-${i}`, noise()])]);
+    expect(large.length).toBeGreaterThan(STREAM_FROM_BYTES);
+    const deLarge = await importAs(admin, large, "de");
+    expect(deLarge.status).toBe(400);
+    expect(deLarge.body.error).toMatchObject({
+      code: "bad_header",
+      message: "Die Kopfzeile muss in Zeile 1 des ersten Tabellenblatts stehen (gefunden in Zeile 2).",
+    });
+    const enLarge = await importAs(admin, large);
+    expect(enLarge.body.error.message).toBe("The header must be on row 1 of the first sheet (found on row 2).");
+  }, 60_000);
+
+  it("when a German reader's workbook has bad rows, then each row error is German, in the preview and in the refusal's details; English as before", async () => {
+    const admin = await t.agentFor("admin");
+    const file = await workbook([
+      ["heat_no", "caster", "grade", "cast_start", "casting_speed_m_min", "bogus"],
+      ["ROW-DE-1", "NOPE", "NOPE", "not a date", 1.2, "x"],
+    ]);
+    const post = (dryRun: boolean, language?: string) => {
+      const req = admin.post(`/api/import/heats${dryRun ? "?dryRun=true" : ""}`).set("Origin", O());
+      if (language) req.set("Accept-Language", language);
+      return req.attach("file", file, "heats.xlsx");
+    };
+    const messages = (errors: { message: string }[]) => errors.map((e) => e.message);
+    const german = [
+      "Unbekannte Spalte: bogus. Die Vorlage nennt die Schlüssel, die dieser Import annimmt.",
+      "cast_start: „not a date“ ist kein Datum; verwenden Sie ISO 8601, etwa 2026-11-03T14:20:00Z.",
+      "Die Gießanlage NOPE ist nicht eingerichtet. Legen Sie sie unter Anlageneinrichtung an oder korrigieren Sie den Code.",
+    ];
+    const english = [
+      "Unknown column: bogus. The template lists the keys this import takes.",
+      "cast_start “not a date” is not a date; use ISO 8601 such as 2026-11-03T14:20:00Z.",
+      "Caster NOPE is not set up. Add it under Plant setup, or correct the code.",
+    ];
+    const preview = await post(true, "de");
+    expect(preview.status).toBe(200);
+    expect(messages(preview.body.errors)).toEqual(expect.arrayContaining(german));
+    expect(preview.body.errors[0]).toEqual({ row: 1, column: "bogus", message: german[0] });
+    const refused = await post(false, "de");
+    expect(refused.status).toBe(422);
+    expect(refused.body.error.message).toMatch(/^\d+ Probleme gefunden; es wurde nichts importiert\./);
+    expect(messages(refused.body.error.details.errors)).toEqual(expect.arrayContaining(german));
+
+    const inEnglish = await post(true);
+    expect(messages(inEnglish.body.errors)).toEqual(expect.arrayContaining(english));
+    expect(inEnglish.body.errors[0]).toEqual({ row: 1, column: "bogus", message: english[0] });
+    expect(messages((await post(false)).body.error.details.errors)).toEqual(expect.arrayContaining(english));
+  });
+
+  it("when an upload breaks the form's limit for a German reader, then the upload's refusal is German", async () => {
+    const admin = await t.agentFor("admin");
+    const file = await workbook([["heat_no"], ["H-1"]]);
+    const twice = (language?: string) => {
+      const req = admin.post("/api/import/heats?dryRun=true").set("Origin", O());
+      if (language) req.set("Accept-Language", language);
+      return req.attach("file", file, "a.xlsx").attach("file", file, "b.xlsx");
+    };
+    const german = await twice("de");
+    expect(german.status).toBe(400);
+    expect(german.body.error).toMatchObject({ code: "too_many_files", message: "Senden Sie höchstens 1 Datei auf einmal." });
+    expect((await twice()).body.error.message).toBe("Send at most 1 file at once.");
+  });
+
+  it("when a German user asks a report with a bad query, then the report thread's refusal is German; English as before", async () => {
+    const quality = await t.agentFor("quality");
+    const reversed = "/api/reports/before-after?mode=periods&aFrom=2026-03-10&aTo=2026-03-01&bFrom=2026-04-01&bTo=2026-04-30";
+    const halfBaseline = "/api/reports/control-chart?baselineFrom=2026-03-01";
+    await speaks(quality, "de");
+    try {
+      const ba = await quality.get(reversed);
+      expect(ba.status).toBe(400);
+      expect(ba.body.error.message).toBe("Zeitraum A endet (2026-03-01), bevor er beginnt (2026-03-10): Geben Sie zuerst seinen ersten Tag an.");
+      const cc = await quality.get(halfBaseline);
+      expect(cc.status).toBe(400);
+      expect(cc.body.error.message).toBe(
+        "Geben Sie sowohl den ersten Tag (baselineFrom) als auch den letzten Tag (baselineTo) der Basisphase an, oder keinen von beiden.",
+      );
+    } finally {
+      await speaks(quality, null);
+    }
+    expect((await quality.get(reversed)).body.error.message).toBe("Period A ends (2026-03-01) before it starts (2026-03-10): give its first day first.");
+    expect((await quality.get(halfBaseline)).body.error.message).toBe(
+      "Give both the first day (baselineFrom) and the last day (baselineTo) of the baseline, or neither.",
+    );
+  });
+
+  it("when a German user trains a risk model for a category that does not exist, then the refusal is German; English as before", async () => {
+    const quality = await t.agentFor("quality");
+    const spec = { targetKind: "category", targetCode: "NO-SUCH", conditions: ["casting_speed_m_min"], categories: ["grade_family"], knots: 4 };
+    await speaks(quality, "de");
+    try {
+      const german = await quality.post("/api/risk-models").set("Origin", O()).send(spec);
+      expect(german.status).toBe(400);
+      expect(german.body.error).toMatchObject({ code: "unknown_target", message: "Eine Fehlerkategorie mit dem Code NO-SUCH gibt es nicht." });
+    } finally {
+      await speaks(quality, null);
+    }
+    const english = await quality.post("/api/risk-models").set("Origin", O()).send(spec);
+    expect(english.body.error).toMatchObject({ code: "unknown_target", message: "There is no defect category with the code NO-SUCH." });
+  });
+
+  it("when a sign-in request names a link outside the app, then better-auth's refusal as our code words it is in the browser's language", async () => {
+    const ask = (language?: string) => {
+      const req = request(t.app).post("/api/auth/request-password-reset").set("Origin", O());
+      if (language) req.set("Accept-Language", language);
+      return req.send({ email: "process@demo.test", redirectTo: "https://elsewhere.example/reset" });
+    };
+    const german = await ask("de-DE,de;q=0.9");
+    expect(german.status).toBe(403);
+    expect(german.body.error.message).toBe("Dieser Link muss zurück zu einer Seite von Strandsight führen, und das tut er nicht.");
+    expect((await ask()).body.error.message).toBe("This link must lead back to a page of Strandsight, and it does not.");
   });
 });
 

@@ -9,7 +9,7 @@
  * as one binomial row.
  */
 import type { z } from "zod";
-import { effectiveTerms, inSentence, type Adjusted, type adjustedQuerySchema } from "@shared/api/reports";
+import { effectiveTerms, type Adjusted, type adjustedQuerySchema } from "@shared/api/reports";
 import { CATEGORICAL_KEYS, CATEGORICAL_LABELS, VARIABLES, type CategoricalKey } from "@shared/variables";
 import type { Db } from "../../db/client";
 import {
@@ -21,6 +21,7 @@ import {
   type TermEstimate,
 } from "../../stats/logistic-multi";
 import { scratch } from "../../stats/scratch";
+import { inWords, named, num, say } from "../../lib/words";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
 export type SeMethod = "cluster" | "model";
@@ -330,15 +331,18 @@ export function heatsOf(s: Scanned, rows: ArrayLike<number>): number {
 
 export const fmt = (x: number | null) =>
   x === null ? "—" : Math.abs(x) >= 1000 || Math.abs(x) < 0.001 ? x.toPrecision(3) : Number(x.toPrecision(3)).toString();
-export const perWordsOf = (step: number, unit: string | null) => (unit && unit !== "–" ? `per ${step} ${unit}` : `per ${step}`);
-const lower = inSentence;
-const listWords = (xs: string[]) => (xs.length <= 1 ? xs.join("") : `${xs.slice(0, -1).join(", ")} and ${xs[xs.length - 1]}`);
+/** A number said in the current language (fmt's digits; a decimal comma in German). */
+export const fmtSaid = (x: number | null) => num(fmt(x));
+export const perWordsOf = (step: number, unit: string | null) =>
+  unit && unit !== "–" ? say("words.per", { step: num(step), unit }) : say("words.perBare", { step: num(step) });
+const lower = inWords;
+const listWords = (xs: string[]) => (xs.length <= 1 ? xs.join("") : say("words.list", { first: xs.slice(0, -1).join(", "), last: xs[xs.length - 1]! }));
 
 /** The other terms a term was adjusted for, in words ("the grade family and strand"). */
 export function adjustedForWords(labels: string[]): string {
   const words = labels.map((l) => lower(l));
-  if (words.length > 3) return `the other terms of the model (${words.slice(0, 3).join(", ")} …)`;
-  return `the ${listWords(words)}`;
+  if (words.length > 3) return say("words.others", { first: words.slice(0, 3).join(", ") });
+  return say("words.the", { list: listWords(words) });
 }
 
 /** An odds ratio this far from 1 per the readable step is not a finding: (near) separation or far too few slabs. */
@@ -362,13 +366,16 @@ export function changeWords(
   const cie = changeInEstimate(c, a);
   let sentence: string | null = null;
   if (cie.differs && c !== null && a !== null) {
-    const figures = `odds ratio${stepWords ? ` ${stepWords}` : ""} ${fmt(c)} crude, ${fmt(a)} adjusted`;
+    const figures = stepWords
+      ? say("change.figuresPer", { per: stepWords, crude: fmtSaid(c), adjusted: fmtSaid(a) })
+      : say("change.figures", { crude: fmtSaid(c), adjusted: fmtSaid(a) });
     const kept = Math.log(a) / Math.log(c);
-    if (!Number.isFinite(kept)) sentence = `Adjusted for ${others}, the odds ratio of ${what} changes by more than a tenth (${figures}).`;
-    else if (kept < 0) sentence = `The association of ${what} reverses once adjusted for ${others} (${figures}).`;
-    else if (kept < 0.5) sentence = `Most of the crude association of ${what} goes with ${others} (${figures}).`;
-    else if (kept < 1) sentence = `Part of the crude association of ${what} goes with ${others} (${figures}).`;
-    else sentence = `The association of ${what} is stronger once adjusted for ${others}, which hid part of it (${figures}).`;
+    const words = { what, others, figures };
+    if (!Number.isFinite(kept)) sentence = say("change.tenth", words);
+    else if (kept < 0) sentence = say("change.reverses", words);
+    else if (kept < 0.5) sentence = say("change.most", words);
+    else if (kept < 1) sentence = say("change.part", words);
+    else sentence = say("change.stronger", words);
   }
   return { relativeChange: cie.relativeChange, differs: cie.differs, sentence };
 }
@@ -377,17 +384,14 @@ export function changeWords(
 export const collinearityOf = (gvifPerDf: number | null) =>
   gvifPerDf === null ? null : gvifPerDf > Math.sqrt(10) ? "serious" : gvifPerDf > Math.sqrt(5) ? "notable" : "low";
 
-export const COLLINEARITY_METHOD =
-  "generalised variance inflation factor GVIF per variable (Fox & Monette 1992, JASA 87:178) from the slab-weighted correlation of the design columns; " +
-  "GVIF^(1/(2·df)) compared with √5 (notable) and √10 (serious), the usual VIF thresholds 5 and 10 [practice] on a scale comparable across variables with several columns";
+/** How collinearity is judged, in the reader's language (methods:adjusted.collinearityMethod). */
+export const collinearityMethod = () => say("adjusted.collinearityMethod");
 
-export const GROUPING_METHOD =
-  "each numeric value grouped to one decimal more than shown (as in the rate-against-variable report); slabs with equal values of every term (a heat's slabs share its heat-level values) fit as one binomial row, and each heat's score for the clustered SEs is still summed slab by slab, which gives the same estimates and SEs";
+/** How values are grouped for the fits, in the reader's language (methods:grouping). */
+export const groupingMethod = () => say("grouping");
 
 export function seWords(se: SeMethod) {
-  return se === "cluster"
-    ? "heat-clustered (cluster-robust sandwich) standard errors, Liang & Zeger 1986, with the CR1 small-sample factor G/(G − 1)·(N − 1)/(N − K) as statsmodels applies it (G heats, N slabs, K coefficients)"
-    : "model-based standard errors (inverse Fisher information), slabs taken as independent";
+  return say(se === "cluster" ? "se.cluster" : "se.model");
 }
 
 type Query = z.output<typeof adjustedQuerySchema>;
@@ -399,7 +403,7 @@ const none: Estimate = { coef: null, se: null, oddsRatio: null, ciLower: null, c
 function estimateOf(t: TermEstimate | undefined, step: number, readableStep: number): { e: Estimate; reason: string | null } {
   if (!t || t.coef === null || t.se === null) return { e: none, reason: null };
   if (!(Math.abs(t.coef * readableStep) <= READABLE_LIMIT)) {
-    return { e: none, reason: "the odds ratio would be beyond 10⁴ per readable step: the slabs are (nearly) separated or far too few; not shown as a finding" };
+    return { e: none, reason: say("adjusted.beyondReadable") };
   }
   const or = oddsRatioForStep(t.coef, t.se, step);
   return {
@@ -471,7 +475,7 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
     const rowsOf = fit.terms.filter((x) => x.variable === t.label);
     if (rowsOf.length === 0) {
       // No spread, or a single level: nothing to estimate.
-      const why = test.reason ?? fit.reason ?? "not estimable";
+      const why = test.reason ?? fit.reason ?? say("adjusted.notEstimable");
       outTerms.push({
         ...base,
         level: null,
@@ -492,12 +496,12 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
       const c = crudeFit.terms.find((x) => x.column === r.column);
       const ce = estimateOf(c, step, readable);
       const ae = estimateOf(r, step, readable);
-      const perWords = t.kind === "numeric" ? perWordsOf(step, t.unit) : `${r.level} against ${r.reference}`;
-      const what = t.kind === "numeric" ? lower(t.label) : `${lower(t.label)} ${r.level} (against ${r.reference})`;
+      const perWords = t.kind === "numeric" ? perWordsOf(step, t.unit) : say("words.levelAgainst", { level: r.level!, reference: r.reference! });
+      const what = t.kind === "numeric" ? lower(t.label) : say("words.levelOf", { name: lower(t.label), level: r.level!, reference: r.reference! });
       const change = changeWords(what, ce.e, ae.e, readable, t.kind === "numeric" ? perWordsOf(readable, t.unit) : "", others);
       let reason: string | null = null;
       if (ae.e.coef === null) reason = ae.reason ?? fit.separation?.description ?? fit.reason;
-      else if (ce.e.coef === null) reason = `crude: ${ce.reason ?? crudeFit.separation?.description ?? crudeFit.reason}`;
+      else if (ce.e.coef === null) reason = say("adjusted.crudeReason", { why: String(ce.reason ?? crudeFit.separation?.description ?? crudeFit.reason) });
       outTerms.push({
         ...base,
         level: r.level,
@@ -534,27 +538,21 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
   });
 
   // Notes, in the order an engineer reads them.
-  if (s.rows.length === 0) notes.push("No slab in these filters.");
-  for (const m of missing)
-    notes.push(
-      `${m.slabs} slab${m.slabs === 1 ? "" : "s"} in the filters have no value for ${lower(m.label)} and are left out of every fit (crude and adjusted use the same slabs).`,
-    );
-  if (fit.reason) notes.push(fit.separation ? `Separation: ${fit.separation.description}` : `The model could not be fitted: ${fit.reason}.`);
+  if (s.rows.length === 0) notes.push(say("adjusted.noSlab"));
+  for (const m of missing) notes.push(say("adjusted.leftOut", { count: m.slabs, name: lower(m.label) }));
+  if (fit.reason) notes.push(fit.separation ? say("adjusted.separation", { why: fit.separation.description }) : say("adjusted.notFitted", { why: fit.reason }));
   for (const v of variables) {
-    if (v.reason && v.df === 0) notes.push(`${v.label}: ${v.reason}.`);
+    if (v.reason && v.df === 0) notes.push(say("adjusted.variableReason", { name: named(v.label), why: v.reason }));
     if (v.collinearity === "notable" || v.collinearity === "serious") {
-      notes.push(
-        `${v.label}: GVIF^(1/(2·df)) = ${fmt(v.gvifPerDf)}, above ${v.collinearity === "serious" ? "√10 (serious" : "√5 (notable"} collinearity with the other terms): its adjusted estimate has a wide interval and may move with the choice of terms.`,
-      );
+      notes.push(say(v.collinearity === "serious" ? "adjusted.gvifSerious" : "adjusted.gvifNotable", { name: named(v.label), value: fmtSaid(v.gvifPerDf) }));
     }
   }
-  if (fit.affected > 0 && fit.affected < SMALL_AFFECTED)
-    notes.push(`Only ${fit.affected} affected slab${fit.affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
-  for (const n of fit.notes) if (!/left out\.$/.test(n)) notes.push(n);
+  if (fit.affected > 0 && fit.affected < SMALL_AFFECTED) notes.push(say("adjusted.fewAffected", { count: fit.affected }));
+  // The fit's own notes, but for its slabs-left-out note (said above per term).
+  const fitLeftOut = fit.slabsMissing > 0 ? say("fit.missing", { count: fit.slabsMissing }) : null;
+  for (const n of fit.notes) if (n !== fitLeftOut) notes.push(n);
   for (const t of outTerms) if (t.changeInEstimate.sentence && t.role === "examined") notes.push(t.changeInEstimate.sentence);
-  notes.push(
-    "An adjusted odds ratio removes only what the adjustment terms measure: it is still an association, not a cause. Changing a casting condition goes through the plant's own change procedure.",
-  );
+  notes.push(say("adjusted.notCause"));
 
   const examined = terms.filter((t) => roleOf(t.key) === "examined");
   const adjustment = terms.filter((t) => roleOf(t.key) === "adjustment");
@@ -582,16 +580,12 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
     separation: fit.separation,
     reason: fit.reason,
     methods: {
-      adjusted: `${fit.method.replace(/^multivariable logistic regression/, "multivariable logistic regression of affected (yes/no) per slab on every term")}; odds ratios ${q.per === "step" ? "per each condition's readable step (the catalogue's step: 0.1 m/min, 100 A, 10 °C …)" : "per one unit of each condition"}, categorical terms per level against the most common level; coef and se are per one unit`,
-      crude: `each term alone in a logistic regression on the same slabs with the same standard errors (${q.se === "cluster" ? "heat-clustered" : "model-based"})`,
-      tests:
-        q.se === "model"
-          ? "per variable: likelihood-ratio chi-square of the model without it (df = its columns), slabs taken as independent"
-          : "per variable: Wald chi-square with the heat-clustered covariance (df = its columns); the likelihood-ratio test is not given, as it takes the slabs of a heat as independent",
-      changeInEstimate:
-        "change-in-estimate (crude − adjusted) / adjusted of the odds ratios per the readable step (per level for a categorical term), put in words beyond a tenth (Maldonado & Greenland 1993, Am. J. Epidemiol. 138:923)",
-      collinearity: COLLINEARITY_METHOD,
-      grouping: GROUPING_METHOD,
+      adjusted: say(`adjusted.method.adjusted_${q.per === "step" ? "step" : "unit"}`, { fit: fit.methodOnEveryTerm }),
+      crude: say(`adjusted.method.crude_${q.se === "cluster" ? "cluster" : "model"}`),
+      tests: say(`adjusted.method.tests_${q.se === "model" ? "model" : "cluster"}`),
+      changeInEstimate: say("adjusted.method.changeInEstimate"),
+      collinearity: collinearityMethod(),
+      grouping: groupingMethod(),
     },
     notes,
   };

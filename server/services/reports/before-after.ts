@@ -3,7 +3,7 @@ import type { z } from "zod";
 import type { BeforeAfter, beforeAfterQuerySchema } from "@shared/api/reports";
 import type { Db } from "../../db/client";
 import { parseDateBound } from "../../lib/dates";
-import { badRequest } from "../../lib/http-error";
+import { badRequest, said } from "../../lib/http-error";
 import { chiSquareIndependence, fisherExact2x2 } from "../../stats/contingency";
 import { changeInEstimate } from "../../stats/logistic-multi";
 import { differenceOfProportions } from "../../stats/proportions";
@@ -12,6 +12,7 @@ import { mantelHaenszel, stratumOddsRatio, type Stratum2x2 } from "../../stats/s
 import { exactColumn } from "../report-cache";
 import { buildScope, finite, proportion, scan, variableSpec, type Scanned } from "./scope";
 import { countByLevel, naturalOrder, stratifier } from "./strata";
+import { currentLanguage, dec, named, num, say } from "../../lib/words";
 
 type Query = z.output<typeof beforeAfterQuerySchema>;
 type Stratified = NonNullable<BeforeAfter["stratified"]>;
@@ -22,21 +23,20 @@ const day = (ms: number) => new Date(ms).toISOString().slice(0, 10);
 function groupsOf(db: Db, q: Query): { sc: Scanned; inA: (i: number) => boolean; inB: (i: number) => boolean; labels: [string, string] } {
   if (q.mode === "periods") {
     const need = (v: string | undefined, f: string) => {
-      if (!v) throw badRequest(`Give ${f} (YYYY-MM-DD) for the period comparison.`, { field: f });
+      if (!v) throw badRequest(said("reports.periodBoundMissing", { field: f }), { field: f });
       return v;
     };
     const aFrom = parseDateBound(need(q.aFrom, "aFrom"), false, "aFrom")!;
     const aTo = parseDateBound(need(q.aTo, "aTo"), true, "aTo")!;
     const bFrom = parseDateBound(need(q.bFrom, "bFrom"), false, "bFrom")!;
     const bTo = parseDateBound(need(q.bTo, "bTo"), true, "bTo")!;
-    if (aFrom > aTo) throw badRequest(`Period A ends (${q.aTo}) before it starts (${q.aFrom}): give its first day first.`, { field: "aTo" });
-    if (bFrom > bTo) throw badRequest(`Period B ends (${q.bTo}) before it starts (${q.bFrom}): give its first day first.`, { field: "bTo" });
+    if (aFrom > aTo) throw badRequest(said("reports.periodReversed.a", { from: q.aFrom!, to: q.aTo! }), { field: "aTo" });
+    if (bFrom > bTo) throw badRequest(said("reports.periodReversed.b", { from: q.bFrom!, to: q.bTo! }), { field: "bTo" });
     if (aFrom <= bTo && bFrom <= aTo) {
       const from = Math.max(aFrom, bFrom);
       const to = Math.min(aTo, bTo);
-      const span = day(from) === day(to) ? day(from) : `${day(from)} to ${day(to)}`;
       throw badRequest(
-        `Periods A and B overlap (${span}): slabs cast then would count in both groups, and the comparison needs two separate groups of slabs. Choose periods that do not share a day.`,
+        day(from) === day(to) ? said("reports.periodsOverlapDay", { day: day(from) }) : said("reports.periodsOverlap", { from: day(from), to: day(to) }),
         { field: "bFrom" },
       );
     }
@@ -50,18 +50,18 @@ function groupsOf(db: Db, q: Query): { sc: Scanned; inA: (i: number) => boolean;
       labels: [`${q.aFrom} – ${q.aTo}`, `${q.bFrom} – ${q.bTo}`],
     };
   }
-  if (!q.variable) throw badRequest("Give the variable whose two ranges are compared.", { field: "variable" });
-  for (const f of ["aMin", "aMax", "bMin", "bMax"] as const) if (q[f] === undefined) throw badRequest(`Give ${f} for the range comparison.`, { field: f });
+  if (!q.variable) throw badRequest(said("reports.rangeVariableMissing"), { field: "variable" });
+  for (const f of ["aMin", "aMax", "bMin", "bMax"] as const)
+    if (q[f] === undefined) throw badRequest(said("reports.rangeBoundMissing", { field: f }), { field: f });
   const s = variableSpec(q.variable);
   const [aMin, aMax, bMin, bMax] = [q.aMin!, q.aMax!, q.bMin!, q.bMax!];
   const u = s.unit === "–" ? "" : ` ${s.unit}`;
-  if (aMin > aMax) throw badRequest(`Range A runs from ${aMin} down to ${aMax}${u}: give the lower end first.`, { field: "aMax" });
-  if (bMin > bMax) throw badRequest(`Range B runs from ${bMin} down to ${bMax}${u}: give the lower end first.`, { field: "bMax" });
+  if (aMin > aMax) throw badRequest(said("reports.rangeReversed.a", { min: aMin, max: aMax, unit: u }), { field: "aMax" });
+  if (bMin > bMax) throw badRequest(said("reports.rangeReversed.b", { min: bMin, max: bMax, unit: u }), { field: "bMax" });
   if (aMin <= bMax && bMin <= aMax) {
-    throw badRequest(
-      `Ranges A (${aMin}–${aMax}${u}) and B (${bMin}–${bMax}${u}) overlap from ${Math.max(aMin, bMin)} to ${Math.min(aMax, bMax)}${u}: both ends of a range are included, so a slab there would count in both groups. Choose ranges that do not meet.`,
-      { field: "bMin" },
-    );
+    throw badRequest(said("reports.rangesOverlap", { aMin, aMax, bMin, bMax, from: Math.max(aMin, bMin), to: Math.min(aMax, bMax), unit: u }), {
+      field: "bMin",
+    });
   }
   const sc = scan(db, buildScope(db, q));
   // The slabs' own values (a Float32 column of the cache holds grid values: read back exactly).
@@ -70,7 +70,7 @@ function groupsOf(db: Db, q: Query): { sc: Scanned; inA: (i: number) => boolean;
     sc,
     inA: (i) => col[i]! >= aMin && col[i]! <= aMax,
     inB: (i) => col[i]! >= bMin && col[i]! <= bMax,
-    labels: [`${s.label} ${aMin}–${aMax}${u}`, `${s.label} ${bMin}–${bMax}${u}`],
+    labels: [`${named(s.label)} ${num(aMin)}–${num(aMax)}${u}`, `${named(s.label)} ${num(bMin)}–${num(bMax)}${u}`],
   };
 }
 
@@ -94,28 +94,26 @@ export function beforeAfter(db: Db, q: Query): BeforeAfter {
   let test: BeforeAfter["test"];
   const empty = [a.n === 0 && "A", b.n === 0 && "B"].filter(Boolean);
   if (empty.length) {
-    const reason = `group ${empty.join(" and ")} ha${empty.length === 1 ? "s" : "ve"} no slab in these filters: there is nothing to compare`;
-    test = { name: "none", p: null, method: "no test", reason };
-    notes.push(`No test: ${reason}.`);
+    const reason = say(`ba.groupEmpty_${empty.join("")}`);
+    test = { name: "none", p: null, method: say("ba.noTest"), reason };
+    notes.push(say("ba.noTestNote", { why: reason }));
   } else if (a.x + b.x === 0 || a.x + b.x === a.n + b.n) {
-    const reason = a.x + b.x === 0 ? "no slab of either group is affected" : "every slab of both groups is affected";
-    test = { name: "none", p: null, method: "no test", reason: `${reason}: the rates cannot differ` };
-    notes.push(`No test: ${reason}.`);
+    const reason = say(a.x + b.x === 0 ? "ba.noneAffected" : "ba.allAffected");
+    test = { name: "none", p: null, method: say("ba.noTest"), reason: say("ba.cannotDiffer", { why: reason }) };
+    notes.push(say("ba.noTestNote", { why: reason }));
   } else {
     const chi = chiSquareIndependence(table);
     test =
       chi.smallExpected > 0
-        ? { name: "fisher", p: finite(fisherExact2x2(table).pTwoSided), method: "Fisher's exact test, two-sided (an expected count is below 5)", reason: null }
-        : { name: "chi-square", p: finite(chi.p), method: "Pearson chi-square test, 1 df, asymptotic, no continuity correction", reason: null };
+        ? { name: "fisher", p: finite(fisherExact2x2(table).pTwoSided), method: say("ba.fisher"), reason: null }
+        : { name: "chi-square", p: finite(chi.p), method: say("ba.chiSquare"), reason: null };
   }
-  notes.push(
-    "Slabs are counted as independent. Slabs of one heat share its conditions, so the intervals and p-values here are too narrow when whole heats differ; the adjusted model offers heat-clustered standard errors.",
-  );
+  notes.push(say("ba.independent"));
   const out: BeforeAfter = {
     mode: q.mode,
     a: { label: labels[0], ...proportion(a.n, a.x) },
     b: { label: labels[1], ...proportion(b.n, b.x) },
-    difference: { value: finite(d.difference), lower: finite(d.lower), upper: finite(d.upper), method: `rate of B minus rate of A; ${d.method}` },
+    difference: { value: finite(d.difference), lower: finite(d.lower), upper: finite(d.upper), method: say("ba.differenceMethod", { method: d.method }) },
     test,
     notes,
   };
@@ -178,24 +176,22 @@ function stratified(db: Db, key: NonNullable<Query["stratifyBy"]>, sc: Scanned, 
           difference: null,
           ciLower: null,
           ciUpper: null,
-          reason: `no ${st.label.toLowerCase()} has slabs in both groups: there is no common mix to standardise to`,
+          reason: say("ba.noCommonMix", { label: lowerOf(st.label) }),
           notes: [],
           method: "",
         };
-  const label = st.label.toLowerCase();
+  const label = lowerOf(st.label);
   const notes = [...mh.notes, ...std.notes];
   if (leftOut.length) {
-    notes.push(
-      `Standardised rates leave out ${leftOut.map((l) => `${l.label} (${l.slabs} slab${l.slabs === 1 ? "" : "s"}, only in ${l.group})`).join(", ")}: a ${label} found in one group only cannot be compared.`,
-    );
+    notes.push(say("ba.leftOut", { list: leftOut.map((l) => say("ba.leftOutItem", { label: l.label, count: l.slabs, group: l.group })).join(", "), label }));
   }
   const cie = changeInEstimate(crude.oddsRatio, mh.oddsRatio);
   let sentence: string | null = null;
   if (cie.differs && mh.oddsRatio !== null && crude.oddsRatio !== null) {
     sentence =
       Math.abs(Math.log(mh.oddsRatio)) < Math.abs(Math.log(crude.oddsRatio)) / 2
-        ? `Most of the crude difference between A and B goes with the ${label}: within each ${label} the odds ratio B against A is ${fmt(mh.oddsRatio)}, against ${fmt(crude.oddsRatio)} with the ${label} ignored.`
-        : `Within each ${label} the odds ratio B against A is ${fmt(mh.oddsRatio)}, against ${fmt(crude.oddsRatio)} with the ${label} ignored (a change of more than a tenth): the ${label} mix differs between A and B.`;
+        ? say("ba.mostGoes", { label, mh: fmt(mh.oddsRatio), crude: fmt(crude.oddsRatio) })
+        : say("ba.mixDiffers", { label, mh: fmt(mh.oddsRatio), crude: fmt(crude.oddsRatio) });
   }
   return {
     by: { key: st.key, label: st.label },
@@ -228,19 +224,21 @@ function stratified(db: Db, key: NonNullable<Query["stratifyBy"]>, sc: Scanned, 
       ciLower: std.ciLower,
       ciUpper: std.ciUpper,
       reason: std.reason || null,
-      reference: `the slabs of A and B together in each ${label} both groups hold (pooled mix)`,
+      reference: say("ba.reference", { label }),
       referenceMix,
       leftOut,
     },
     changeInEstimate: { relativeChange: cie.relativeChange, differs: cie.differs, sentence },
     methods: {
-      reading: `A is the reference group: every odds ratio is the odds of an affected slab in B over those in A, within each ${label}; differences are rate B − rate A`,
+      reading: say("ba.method.reading", { label }),
       mantelHaenszel: mh.method,
-      standardised: `${std.method || "direct standardisation"}; reference mix: the slabs of A and B together in each ${label} both groups hold`,
-      changeInEstimate: "change-in-estimate (crude − Mantel–Haenszel) / Mantel–Haenszel odds ratio, reported beyond a tenth (Maldonado & Greenland 1993)",
+      standardised: say("ba.method.standardised", { method: std.method || say("ba.method.direct"), label }),
+      changeInEstimate: say("ba.method.changeInEstimate"),
     },
     notes,
   };
 }
 
-const fmt = (x: number) => (x >= 10 ? x.toFixed(1) : x.toFixed(2));
+const fmt = (x: number) => dec(x, x >= 10 ? 1 : 2);
+/** A stratifying key's name inside a sentence: English lower-case as always, another language its own word. */
+const lowerOf = (label: string) => (currentLanguage() === "en" ? label.toLowerCase() : named(label));

@@ -2,12 +2,13 @@
 import type { z } from "zod";
 import type { ProcessWindow, processWindowQuerySchema } from "@shared/api/reports";
 import type { Db } from "../../db/client";
-import { badRequest } from "../../lib/http-error";
+import { badRequest, said } from "../../lib/http-error";
 import { equalWidthEdges, quantileEdges } from "../../stats/binning";
 import { buildScope, proportion, scan, variableGroups, variableSpec } from "./scope";
+import { named, say } from "../../lib/words";
 
 export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchema>): ProcessWindow {
-  if (q.x === q.y) throw badRequest("Choose two different variables for the process window.", { field: "y" });
+  if (q.x === q.y) throw badRequest(said("reports.processWindowSameVariable"), { field: "y" });
   const sc = scan(db, buildScope(db, q));
   const sx = variableSpec(q.x);
   const sy = variableSpec(q.y);
@@ -21,7 +22,8 @@ export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchem
   // Without a value on an axis there are no bins: no cell, rather than cells with bounds that do not exist.
   const bare = [ex.length === 0 && sx, ey.length === 0 && sy].filter((v) => v !== false);
   if (bare.length) {
-    const notes = [`No slab in these filters has a value for ${bare.map((v) => v.label).join(" or ")}: there is no window to draw.`];
+    const names = bare.map((v) => named(v.label));
+    const notes = [say("window.noValue", { names: names.length === 2 ? say("window.or", { first: names[0]!, second: names[1]! }) : names[0]! })];
     return { ...axes, minN: q.minN, slabs: 0, affected: 0, cells: [], notes };
   }
   const bin = (v: number, edges: number[]) => {
@@ -67,6 +69,6 @@ export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchem
     }
   }
   const notes: string[] = [];
-  if (slabs === 0) notes.push(`No slab in these filters has both a value for ${sx.label} and one for ${sy.label}: every cell is empty.`);
+  if (slabs === 0) notes.push(say("window.empty", { x: named(sx.label), y: named(sy.label) }));
   return { ...axes, minN: q.minN, slabs, affected, cells, notes };
 }

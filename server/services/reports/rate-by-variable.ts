@@ -14,7 +14,7 @@ import {
   changeWords,
   completeRows,
   fitTerms,
-  GROUPING_METHOD,
+  groupingMethod,
   heatsOf,
   lowerLabel,
   modelTerms,
@@ -23,6 +23,8 @@ import {
   slopeOf,
 } from "./adjusted";
 import { buildScope, finite, proportion, scan, SMALL_AFFECTED, variableGroups, variableSpec, type Scanned } from "./scope";
+import { currentLanguage, named, num, say } from "../../lib/words";
+import { FEW_HEATS } from "../../stats/logistic-multi";
 
 /** A bin edge in the variable's displayed precision (edges of equal-width bins fall between grid values). */
 const round = (x: number, digits: number) => Number(x.toFixed(Math.max(0, digits + 1))).toString();
@@ -99,13 +101,13 @@ function adjustedSlope(db: Db, sc: Scanned, q: Query, notes: string[]): NonNulla
     adjustedForWords(others.map((t) => t.label)),
   );
   for (const m of missing.filter((m) => m.key !== q.variable)) {
-    notes.push(
-      `Adjusted odds ratio: ${m.slabs} slab${m.slabs === 1 ? "" : "s"} without a value for ${lowerLabel(m.label)} are left out (the crude one beside it uses the same slabs).`,
-    );
+    notes.push(say("rate.adjustedLeftOut", { count: m.slabs, name: lowerLabel(m.label) }));
   }
-  const reason = a.fit.slope === null ? (a.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? "not estimable") : null;
-  if (reason) notes.push(`Adjusted odds ratio not given: ${reason}.`);
-  for (const n of fit.notes) if (/^Only \d+ heats/.test(n)) notes.push(n);
+  const reason =
+    a.fit.slope === null ? (a.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? say("adjusted.notEstimable")) : null;
+  if (reason) notes.push(say("rate.adjustedNotGiven", { why: reason }));
+  // The fit's few-heats note (the only one of its notes this report repeats).
+  if (fit.clusters !== null && fit.clusters < FEW_HEATS) notes.push(...fit.notes.filter((n) => n === say("fit.fewHeats", { count: fit.clusters! })));
   if (change.sentence) notes.push(change.sentence);
   return {
     ...a.fit,
@@ -171,15 +173,15 @@ function stratifiedRates(db: Db, sc: Scanned, q: Query, bins: Bin[], notes: stri
       bins: bins.map((b, k) => ({ lower: b.lower, upper: b.upper, ...proportion(n[k]!, x[k]!), sparse: n[k]! < q.minN })),
       logistic: {
         ...slope.fit,
-        reason: slope.fit.slope === null ? (slope.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? "not estimable") : null,
+        reason:
+          slope.fit.slope === null
+            ? (slope.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? say("adjusted.notEstimable"))
+            : null,
       },
     };
   });
   const notShown = levels.slice(MAX_STRATA).map((l) => ({ label: l.label, slabs: l.rows.length }));
-  if (notShown.length)
-    notes.push(
-      `${notShown.length} smaller ${lowerLabel(st.name)} level${notShown.length === 1 ? " is" : "s are"} not drawn (only the ${MAX_STRATA} with the most slabs).`,
-    );
+  if (notShown.length) notes.push(say("rate.notDrawn", { count: notShown.length, name: lowerLabel(st.name), max: MAX_STRATA }));
   return { by: { key: q.stratifyBy!, label: st.name }, seMethod: q.se, strata, notShown };
 }
 
@@ -197,38 +199,47 @@ export function rateByVariable(db: Db, q: Query): RateByVariable {
   const spread = spreadOfGroups(groups);
   // A variable with one value has no test at all: every p is null, never 0 or 1.
   const flat = slabs > 0 && spread.noSpread;
-  const mw = flat ? { u: NaN, p: NaN, method: "not testable: no spread" } : mannWhitneyGrouped(groups);
+  const mw = flat ? { u: NaN, p: NaN, method: say("rate.noSpreadTest") } : mannWhitneyGrouped(groups);
   const notes: string[] = [];
-  if (slabs === 0) notes.push("No slab in these filters has a value for this variable.");
-  else if (flat) notes.push(`${spec.label}: not testable — no spread in these filters (${spread.reason}); no correlation, odds ratio or rank test is given.`);
-  else if (affected < SMALL_AFFECTED)
-    notes.push(`Only ${affected} affected slab${affected === 1 ? "" : "s"}: the tests have little power and the intervals are wide.`);
-  if (bins.some((b) => b.slabs < q.minN)) notes.push(`Some bins hold fewer than ${q.minN} slabs.`);
+  if (slabs === 0) notes.push(say("rate.noValue"));
+  else if (flat) notes.push(say("rate.flat", { name: named(spec.label), why: String(spread.reason) }));
+  else if (affected < SMALL_AFFECTED) notes.push(say("rate.fewAffected", { count: affected }));
+  if (bins.some((b) => b.slabs < q.minN)) notes.push(say("rate.smallBins", { minN: q.minN }));
   if (emptySpans.length) {
     const unit = spec.unit && spec.unit !== "–" ? ` ${spec.unit}` : "";
-    const spans = emptySpans.map((x) => `${round(x.lower, spec.digits)}–${round(x.upper, spec.digits)}${unit}`);
-    notes.push(
-      `No slab had a value in ${spans.join(", ")}: ${spans.length === 1 ? "that span was" : "those spans were"} merged into the neighbouring bin${spans.length === 1 ? "" : "s"}, which therefore ${spans.length === 1 ? "is" : "are"} wider than the others.`,
-    );
+    const spans = emptySpans.map((x) => `${num(round(x.lower, spec.digits))}–${num(round(x.upper, spec.digits))}${unit}`);
+    notes.push(say(spans.length === 1 ? "rate.emptySpan" : "rate.emptySpans", { spans: spans.join(", ") }));
   }
-  if (missing > 0) notes.push(`${missing} slab${missing === 1 ? "" : "s"} in the filters have no value for ${spec.label.toLowerCase()} and are left out.`);
+  if (missing > 0) notes.push(say("rate.missing", { count: missing, name: currentLanguage() === "en" ? spec.label.toLowerCase() : named(spec.label) }));
   const adjusted = q.adjustFor.length > 0 && slabs > 0 ? adjustedSlope(db, sc, q, notes) : undefined;
   const stratified = q.stratifyBy && slabs > 0 ? stratifiedRates(db, sc, q, bins, notes) : undefined;
+  const perUnit = spec.unit === "–" ? say("rate.method.unit") : say("rate.method.oneUnit", { unit: spec.unit });
   const methods: Record<string, string> = {
-    bins: `${q.binning === "quantile" ? "Quantile" : "Equal-width"} bins; bins under ${q.minN} slabs merged with a neighbour; Wilson 95 % intervals`,
+    bins: say(`rate.method.bins_${q.binning === "quantile" ? "quantile" : "equal"}`, { minN: q.minN }),
     spearman: sp.method,
     pointBiserial: pb.method,
-    logistic: `${fit.method}; model-based standard errors (inverse Fisher information), slabs taken as independent; odds ratio per ${spec.unit === "–" ? "unit" : "1 " + spec.unit}`,
-    mannWhitney: `${mw.method} (U of the affected slabs)`,
-    grouping: `values grouped to ${spec.digits + 1} decimal${spec.digits + 1 === 1 ? "" : "s"}; equal grouped values are ties`,
+    logistic: say("rate.method.logistic", { fit: fit.method, per: perUnit }),
+    mannWhitney: say("rate.method.mannWhitney", { test: mw.method }),
+    grouping: say("rate.method.grouping", { count: spec.digits + 1 }),
   };
   const perStep = perWordsOf(spec.step, spec.unit);
   if (adjusted) {
-    methods.adjusted = `logistic regression of affected (yes/no) per slab on ${lowerLabel(spec.label)} and ${adjustedForWords(adjusted.adjustFor.map((t) => t.label))} by maximum likelihood (IRLS); ${seWords(q.se)}; Wald z test, two-sided; slope and odds ratio per ${spec.unit === "–" ? "unit" : "1 " + spec.unit}, and per the readable step (${perStep}) in perStep, with Wald 95 % intervals; ${GROUPING_METHOD}`;
-    methods.crude = `${lowerLabel(spec.label)} alone on the same slabs with the same standard errors; change-in-estimate (crude − adjusted) / adjusted of the odds ratios ${perStep}, put in words beyond a tenth (Maldonado & Greenland 1993)`;
+    methods.adjusted = say("rate.method.adjusted", {
+      name: lowerLabel(spec.label),
+      others: adjustedForWords(adjusted.adjustFor.map((t) => t.label)),
+      se: seWords(q.se),
+      per: perUnit,
+      step: perStep,
+      grouping: groupingMethod(),
+    });
+    methods.crude = say("rate.method.crude", { name: lowerLabel(spec.label), step: perStep });
   }
   if (stratified) {
-    methods.stratified = `per level of ${lowerLabel(stratified.by.label)}: slabs and affected slabs in the bins of the whole (Wilson 95 % intervals; bins under ${q.minN} slabs marked sparse, not merged), and ${lowerLabel(spec.label)} alone in a logistic regression within the level with ${q.se === "cluster" ? "heat-clustered" : "model-based"} standard errors`;
+    methods.stratified = say(`rate.method.stratified_${q.se === "cluster" ? "cluster" : "model"}`, {
+      by: lowerLabel(stratified.by.label),
+      minN: q.minN,
+      name: lowerLabel(spec.label),
+    });
   }
   return {
     variable: { key: spec.key, label: spec.label, unit: spec.unit },

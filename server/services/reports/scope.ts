@@ -10,17 +10,18 @@ import type { ReportFilters } from "@shared/api/reports";
 import { VARIABLES, type VariableSpec } from "@shared/variables";
 import type { Db } from "../../db/client";
 import { parseDateBound } from "../../lib/dates";
-import { badRequest } from "../../lib/http-error";
+import { badRequest, said } from "../../lib/http-error";
 import { wilson } from "../../stats/proportions";
 import { normalizeGroups, type Group } from "../../stats/ranks";
 import { slabFacts } from "../report-cache";
 import { riskBandSlabsSql } from "../risk/bands";
 
-export const SMALL_AFFECTED = 10;
+/** Under this many affected slabs a report warns that its tests have little power (the screens read it too). */
+export { SMALL_AFFECTED } from "@shared/api/reports";
 
 export function variableSpec(key: string): VariableSpec {
   const v = VARIABLES.find((x) => x.key === key);
-  if (!v) throw badRequest(`Unknown variable ${key}.`, { field: "variable" });
+  if (!v) throw badRequest(said("reports.unknownVariable", { key }), { field: "variable" });
   return v;
 }
 
@@ -50,7 +51,7 @@ function idsFor(sqlite: Database.Database, table: string, codes: string[], label
     .all(...codes.map((c) => c.toUpperCase())) as { id: number; code: string }[];
   const found = new Set(rows.map((r) => r.code.toUpperCase()));
   const missing = codes.filter((c) => !found.has(c.toUpperCase()));
-  if (missing.length) throw badRequest(`Unknown ${label}: ${missing.join(", ")}.`, { field });
+  if (missing.length) throw badRequest(said(`reports.unknown.${field}`, { codes: missing.join(", ") }), { field });
   return rows.map((r) => r.id);
 }
 

@@ -7,7 +7,7 @@
  * own: BH counts only the raw conditions actually tested.
  */
 import type { z } from "zod";
-import { inSentence, termConflict, type Screening, type screeningQuerySchema } from "@shared/api/reports";
+import { termConflict, type Screening, type screeningQuerySchema } from "@shared/api/reports";
 import { CATEGORICAL_LABELS, rawInputsOf, VARIABLES, type CategoricalKey } from "@shared/variables";
 import type { Db } from "../../db/client";
 import { chiSquareIndependence } from "../../stats/contingency";
@@ -15,7 +15,8 @@ import { oddsRatioForStep, type MultiLogisticFit } from "../../stats/logistic-mu
 import { benjaminiHochberg } from "../../stats/multiple";
 import { welchTTest } from "../../stats/regression";
 import { RunningSpread } from "../../stats/spread";
-import { completeRows, fitTerms, gridFromKeys, GROUPING_METHOD, modelTerms, numericTerm, seWords, type ModelTerm } from "./adjusted";
+import { completeRows, fitTerms, gridFromKeys, groupingMethod, modelTerms, numericTerm, seWords, type ModelTerm } from "./adjusted";
+import { inWords, named, say } from "../../lib/words";
 import { scratch } from "../../stats/scratch";
 import { VARIABLE_SCALE } from "../report-cache";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
@@ -155,7 +156,7 @@ function adjustedTest(
     reason: null,
   };
   const conflict = termConflict([key, ...others.map((t) => t.key)]);
-  if (conflict) return { test: { ...blank, reason: `not adjusted: ${conflict}` }, crudeFit: null };
+  if (conflict) return { test: { ...blank, reason: say("screening.notAdjusted", { why: conflict }) }, crudeFit: null };
   const terms = [term, ...others];
   // Categorical terms are known for every slab: the term's own slabs are the model's.
   const rows = others.some((t) => t.kind === "numeric") ? completeRows(sc, terms).rows : termRows;
@@ -163,12 +164,7 @@ function adjustedTest(
   const crudeFit = term.kind === "numeric" ? fitTerms(sc, [term], rows, q.se, false, true) : null;
   const v = fit.variables[0]!;
   const lr = q.se === "model";
-  const within =
-    others.length === adjust.length
-      ? ""
-      : others.length === 0
-        ? " (it is the adjustment itself: tested alone)"
-        : " (it is part of the adjustment: tested adjusted for the other terms)";
+  const within = others.length === adjust.length ? "" : others.length === 0 ? say("screening.withinAlone") : say("screening.withinPart");
   if (term.kind === "categorical") {
     const p = lr ? v.lrP : v.waldP;
     return {
@@ -177,8 +173,8 @@ function adjustedTest(
         p: finite(p ?? NaN),
         statistic: finite((lr ? v.lrChi2 : v.waldChi2) ?? NaN),
         df: v.df || null,
-        test: `${lr ? "likelihood-ratio" : "heat-clustered Wald"} chi-square over its levels${within}`,
-        reason: p === null ? (v.reason ?? fit.separation?.description ?? fit.reason ?? "not testable") : null,
+        test: say(`screening.levels_${lr ? "model" : "cluster"}`, { within }),
+        reason: p === null ? (v.reason ?? fit.separation?.description ?? fit.reason ?? say("screening.notTestable")) : null,
       },
       crudeFit,
     };
@@ -188,7 +184,7 @@ function adjustedTest(
     return {
       test: {
         ...blank,
-        reason: v.reason ?? fit.separation?.description ?? fit.reason ?? (iqr === 0 ? "the interquartile range is 0: no odds ratio per IQR" : "not testable"),
+        reason: v.reason ?? fit.separation?.description ?? fit.reason ?? say(iqr === 0 ? "screening.iqrZero" : "screening.notTestable"),
       },
       crudeFit,
     };
@@ -203,7 +199,7 @@ function adjustedTest(
       pAdjusted: null,
       statistic: finite(t.z ?? NaN),
       df: null,
-      test: `Wald z of the slope, ${q.se === "cluster" ? "heat-clustered" : "model-based"} SEs${within}`,
+      test: say(`screening.waldSlope_${q.se === "cluster" ? "cluster" : "model"}`, { within }),
       reason: null,
     },
     crudeFit,
@@ -228,7 +224,7 @@ export function screening(db: Db, q: Query): Screening {
     const sound = soundAcc.result();
     const all = new RunningSpread().merge(hitAcc).merge(soundAcc).result();
     const { derivedFrom, parent } = lineage(v.key);
-    const method = "Welch two-sample t test on the means, two-sided";
+    const method = say("screening.welchRow");
     const base = {
       key: v.key,
       label: v.label,
@@ -245,7 +241,9 @@ export function screening(db: Db, q: Query): Screening {
       categories: undefined,
     };
     if (all.noSpread) {
-      const reason = all.n === 0 ? "not testable: no slab has a value" : `not testable: no spread, ${all.reason}`;
+      const reason = say("screening.notTestableBecause", {
+        why: all.n === 0 ? say("screening.noValue") : say("screening.noSpread", { why: String(all.reason) }),
+      });
       out.push({ ...base, statistic: null, df: null, p: null, fewSlabs: true, testable: false, reason, iqr: null, crude: null, adjusted: null });
       continue;
     }
@@ -253,8 +251,8 @@ export function screening(db: Db, q: Query): Screening {
     let df: number | null = null;
     let p: number | null = null;
     let reason: string | null = null;
-    if (hit.n < 2 || sound.n < 2) reason = "too few affected or sound slabs with a value for the t test";
-    else if (!(hit.variance! > 0 || sound.variance! > 0)) reason = "no spread within the affected or the sound slabs: the t test is undefined";
+    if (hit.n < 2 || sound.n < 2) reason = say("screening.tooFewForT");
+    else if (!(hit.variance! > 0 || sound.variance! > 0)) reason = say("screening.noSpreadWithin");
     else {
       const t = welchTTest({ n: hit.n, mean: hit.mean!, variance: hit.variance! }, { n: sound.n, mean: sound.mean!, variance: sound.variance! });
       statistic = finite(t.t);
@@ -328,10 +326,10 @@ export function screening(db: Db, q: Query): Screening {
       meanAffected: null,
       meanSound: null,
       categories: cats.map(([l, c]) => ({ label: l, slabs: c.slabs, affected: c.affected, rate: c.slabs ? c.affected / c.slabs : null })),
-      method: chi ? chi.method : "only one category in these filters",
+      method: chi ? chi.method : say("screening.oneCategory"),
       fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
       testable,
-      reason: testable ? null : "not testable: only one category in these filters",
+      reason: testable ? null : say("screening.notTestableBecause", { why: say("screening.oneCategory") }),
       parent: null,
       derivedFrom: [],
       countedInBh: false,
@@ -365,18 +363,31 @@ export function screening(db: Db, q: Query): Screening {
   }
   ordered.push(...out.filter((v) => v.parent !== null && !raw.some((r) => r.key === v.parent)));
 
-  const adjustWords = adjust.map((t) => inSentence(t.label)).join(", ");
+  const adjustWords = adjust.map((t) => inWords(t.label)).join(", ");
   const notes = [
-    `p-values adjusted for the number of raw conditions tested (Benjamini–Hochberg false discovery rate): ${crudeTested.length} crude test${crudeTested.length === 1 ? "" : "s"}${adjusting ? `, ${adjustedTested.length} adjusted` : ""}. Derived values (throughput, shell, brake field …) are listed under the raw condition they come from and are not counted again.`,
     adjusting
-      ? `Ranked by the ${rankBy === "adjusted" ? `tests adjusted for ${adjustWords}` : "crude tests"}; the odds ratios are per interquartile range of each variable.`
-      : "Ranked by the crude tests (nothing adjusted for).",
-    "Screening shows association, not cause: grade mix and shared conditions confound almost everything. Open a variable in the rate-against-variable report or the adjusted model before drawing a conclusion.",
+      ? say("screening.bhAdjusted", { count: crudeTested.length, adjusted: adjustedTested.length })
+      : say("screening.bh", { count: crudeTested.length }),
+    say(adjusting ? (rankBy === "adjusted" ? "screening.rankedAdjusted" : "screening.rankedCrudeAdjusting") : "screening.rankedCrude", { terms: adjustWords }),
+    say("screening.notCause"),
   ];
   const untestable = out.filter((v) => !v.testable);
+  // The list names each reason without its "not testable: " (the note says it once).
+  const notTestable = say("screening.notTestableBecause", { why: "" });
   if (untestable.length)
-    notes.push(`Not testable here (not counted): ${untestable.map((v) => `${v.label} (${v.reason!.replace(/^not testable: /, "")})`).join("; ")}.`);
-  if (affected < SMALL_AFFECTED) notes.push(`Only ${affected} affected slabs in these filters.`);
+    notes.push(
+      say("screening.untestable", {
+        list: untestable
+          .map((v) =>
+            say("screening.untestableItem", {
+              label: named(v.label),
+              reason: v.reason!.startsWith(notTestable) ? v.reason!.slice(notTestable.length) : v.reason!,
+            }),
+          )
+          .join("; "),
+      }),
+    );
+  if (affected < SMALL_AFFECTED) notes.push(say("screening.fewAffected", { count: affected }));
   return {
     slabs,
     affected,
@@ -386,17 +397,12 @@ export function screening(db: Db, q: Query): Screening {
     rankBy,
     tests: { crude: crudeTested.length, adjusted: adjustedTested.length },
     methods: {
-      welch:
-        "Welch two-sample t test on the means (affected against sound slabs), two-sided; means and variances by Welford's updating; a variable whose values are all equal is not testable",
-      chiSquare: "chi-square test of independence (categories × affected), asymptotic",
-      crude: `each numeric variable alone in a logistic regression, odds ratio per its interquartile range (type 7 quartiles) with a Wald 95 % interval; ${seWords(q.se)}`,
-      ...(adjusting
-        ? {
-            adjusted: `each variable in a logistic regression with ${adjustWords}: numeric, the odds ratio per IQR with its Wald 95 % interval and the Wald z test; categorical, the ${q.se === "model" ? "likelihood-ratio" : "heat-clustered Wald"} chi-square over its levels; ${seWords(q.se)}`,
-          }
-        : {}),
-      multiplicity: "Benjamini–Hochberg step-up adjustment (1995), separately over the crude and over the adjusted tests made on raw conditions",
-      grouping: GROUPING_METHOD,
+      welch: say("screening.method.welch"),
+      chiSquare: say("screening.method.chiSquare"),
+      crude: say("screening.method.crude", { se: seWords(q.se) }),
+      ...(adjusting ? { adjusted: say(`screening.method.adjusted_${q.se === "model" ? "model" : "cluster"}`, { terms: adjustWords, se: seWords(q.se) }) } : {}),
+      multiplicity: say("screening.method.multiplicity"),
+      grouping: groupingMethod(),
     },
     notes,
   };

@@ -10,6 +10,7 @@ import type { SlabFacts } from "../report-cache";
 import { seqBucket } from "./adjusted";
 import { byPeriodAndStratum, type Period } from "./periods";
 import type { Scanned } from "./scope";
+import { say } from "../../lib/words";
 
 export interface Stratifier {
   key: CategoricalKey;
@@ -82,29 +83,25 @@ export function standardisedByPeriod(db: Db, s: Scanned, period: Period) {
     );
     if (r.rate === null) undefinedPeriods++;
     for (const n of r.notes) notes.add(n);
-    rates.set(label, { rate: r.rate, ciLower: r.ciLower, ciUpper: r.ciUpper, reason: r.reason ? `this ${period} has ${r.reason}` : null });
+    rates.set(label, {
+      rate: r.rate,
+      ciLower: r.ciLower,
+      ciUpper: r.ciUpper,
+      reason: r.reason ? say(`strata.periodReason.${period}`, { why: r.reason }) : null,
+    });
   }
   const out: string[] = [];
-  if (undefinedPeriods > 0)
-    out.push(
-      `${undefinedPeriods} ${period}${undefinedPeriods === 1 ? " lacks" : "s lack"} a grade family of the reference mix: their standardised rate is undefined (null).`,
-    );
-  if (notes.size > 0)
-    out.push(
-      "In some periods a grade family has no affected slab, or only affected slabs: the binomial variance counts it as certain, so the interval there is too narrow.",
-    );
+  if (undefinedPeriods > 0) out.push(say(`strata.undefined_${period}`, { count: undefinedPeriods }));
+  if (notes.size > 0) out.push(say("strata.certain"));
   return {
     rates,
     notes: out,
     standardisation: {
       by: "grade_family" as const,
       label: st.label,
-      reference: "the grade-family mix of every slab in the filters",
+      reference: say("strata.reference"),
       referenceMix,
-      method: `${STANDARDISED_METHOD}; the reference mix is the grade-family mix of every slab in the filters, so periods compare as if each had cast that mix`,
+      method: say("strata.method"),
     },
   };
 }
-
-export const STANDARDISED_METHOD =
-  "direct standardisation to the reference mix, Σ wⱼpⱼ over grade families; variance Σ wⱼ²pⱼ(1 − pⱼ)/nⱼ; normal-approximation (Wald) 95 % interval, clipped to [0, 1] (Rothman, Modern Epidemiology)";

@@ -37,10 +37,7 @@ export function riskBandSlabsSql(sqlite: Database.Database, bands: string[], typ
     const matching = active.filter((m) => types.some((t) => (m.kind === "type" ? t.code === m.code.toUpperCase() : t.category === m.code.toUpperCase())));
     // Another defect's model would rank the slabs for the wrong question: refused, not swapped in silently.
     if (matching.length === 0)
-      throw badRequest(
-        `No risk model is switched on for ${types.length === 1 ? `the defect type ${types[0]!.code}` : "the chosen defect types"} (nor its category), so its slabs have no risk band. Leave the risk band out, or choose a defect type whose model is switched on.`,
-        { field: "riskBand" },
-      );
+      throw badRequest(types.length === 1 ? said("risk.noBandForType", { code: types[0]!.code }) : said("risk.noBandForTypes"), { field: "riskBand" });
     chosen = matching;
   }
   const levels = [...new Set(bands.map((b) => BAND_LEVEL[b as RiskBand]))].filter((n) => n !== undefined);

@@ -198,11 +198,7 @@ const nextMonthStart = (ms: number) => {
  */
 async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: MonthCalc[]; slabs: number; since: number; validationAucCiLower: number | null }> {
   if (m.status !== "ready" || !m.terms)
-    throw new HttpError(
-      409,
-      "model_not_ready",
-      m.status === "training" ? "This model is still training: it has no drift to show yet." : "This model's training failed: it has no drift to show.",
-    );
+    throw new HttpError(409, "model_not_ready", said(m.status === "training" ? "risk.driftStillTraining" : "risk.driftTrainingFailed"));
   const terms = JSON.parse(m.terms) as ModelTerms;
   const validation = m.validation ? (JSON.parse(m.validation) as { aucCiLower: number | null }) : null;
   const validationAucCiLower = validation?.aucCiLower ?? null;

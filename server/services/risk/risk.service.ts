@@ -33,6 +33,7 @@ import { bandOf } from "./bands";
 import { categoryName, scoreTerms, trainRiskModel, type ModelTerms, type TrainedModel } from "./model";
 import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData, slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
+import { dec, named, say } from "../../lib/words";
 
 const DAY = 86_400_000;
 /** A training that has not finished after this long is stopped (a million slabs take ≈ 20 s). */
@@ -152,17 +153,12 @@ export async function trainRiskModelVersion(
   const kind = body.targetKind;
   const target = targetOf(db, kind, body.targetCode);
   if (!target)
-    throw new HttpError(400, "unknown_target", `There is no defect ${kind === "type" ? "type" : "category"} with the code ${body.targetCode}.`, {
+    throw new HttpError(400, "unknown_target", said(kind === "type" ? "risk.noDefectType" : "risk.noDefectCategory", { code: body.targetCode }), {
       field: "targetCode",
     });
   const code = target.code;
   const file = db.$client.name;
-  if (training.has(file))
-    throw new HttpError(
-      409,
-      "training_busy",
-      "Another risk model is being trained. Wait until it has finished (its progress shows in the list of models), then train this one.",
-    );
+  if (training.has(file)) throw new HttpError(409, "training_busy", said("risk.trainingBusy"));
   const spec: RiskSpec = {
     targetKind: kind,
     targetCode: code,
@@ -203,7 +199,7 @@ export async function trainRiskModelVersion(
     db.$client.prepare("update risk_models set status = 'failed', progress_text = null, error = ?, finished_at = ? where id = ?").run(message, Date.now(), id);
     if (outcome.type === "refused") throw new HttpError(422, "too_little_data", message, { modelId: id });
     opts.logger?.error({ err: outcome }, "risk model training failed");
-    throw new HttpError(500, "training_failed", `${message}. Nothing was switched on; try again, and tell the administrator if it happens again.`, {
+    throw new HttpError(500, "training_failed", said("risk.trainingFailed", { message }), {
       modelId: id,
     });
   } finally {
@@ -357,17 +353,8 @@ export async function activateRiskModel(db: Db, id: number, user: { id: string; 
 function switchOn(db: Db, id: number, user: { id: string; name: string }) {
   const r = rowOf(db, id);
   if (r.status !== "ready")
-    throw new HttpError(
-      409,
-      "model_not_ready",
-      r.status === "training" ? "This model is still training." : "This model's training failed; it cannot be switched on.",
-    );
-  if (r.beats_baseline !== 1)
-    throw new HttpError(
-      409,
-      "does_not_beat_baseline",
-      "This model does not rank the test slabs better than the grade-family rates do (the lower end of its AUC interval is not above the baseline's AUC), so it cannot be switched on. Try other conditions, a longer window, or a defect category.",
-    );
+    throw new HttpError(409, "model_not_ready", said(r.status === "training" ? "risk.stillTraining" : "risk.trainingFailedCannotSwitch"));
+  if (r.beats_baseline !== 1) throw new HttpError(409, "does_not_beat_baseline", said("risk.doesNotBeatBaseline"));
   db.$client.transaction(() => {
     const before = db.$client
       .prepare("select id, version from risk_models where target_kind = ? and target_code = ? and active = 1")
@@ -397,7 +384,7 @@ function activeModels(db: Db): ActiveModel[] {
   return rows.map((r) => ({ id: r.id, terms: JSON.parse(r.terms) as ModelTerms }));
 }
 
-const fmt = (value: number, digits: number) => value.toFixed(Math.max(0, Math.min(6, digits)));
+const fmt = (value: number, digits: number) => dec(value, Math.max(0, Math.min(6, digits)));
 
 /** A reason in words: "Casting speed 1.72 m/min (typical 1.40)". */
 function reasonText(r: { variable: string; label: string; value: number | string | null; unit: string | null }, terms: ModelTerms): string {
@@ -405,11 +392,12 @@ function reasonText(r: { variable: string; label: string; value: number | string
   if (num) {
     const digits = variable(r.variable)?.digits ?? 2;
     const unit = r.unit ? ` ${r.unit}` : "";
-    if (r.value === null || typeof r.value !== "number") return `${r.label} not recorded (taken as typical, ${fmt(num.median, digits)}${unit})`;
-    return `${r.label} ${fmt(r.value, digits)}${unit} (typical ${fmt(num.median, digits)}${unit})`;
+    if (r.value === null || typeof r.value !== "number") return say("risk.notRecorded", { name: named(r.label), typical: fmt(num.median, digits), unit });
+    return say("risk.value", { name: named(r.label), value: fmt(r.value, digits), typical: fmt(num.median, digits), unit });
   }
   const cat = terms.categorical.find((c) => c.key === r.variable);
-  return `${r.label}: ${r.value ?? "unknown"}${cat ? ` (most common: ${cat.referenceName})` : ""}`;
+  const value = r.value ?? say("risk.unknown");
+  return cat ? say("risk.categoryCommon", { name: named(r.label), value, common: cat.referenceName }) : say("risk.category", { name: named(r.label), value });
 }
 
 /**
@@ -692,13 +680,7 @@ export function scoreOnArrival(db: Db, logger?: Logger) {
   };
 }
 
-const FACE_WORDS: Record<string, string> = {
-  inner: "inner radius (top) face",
-  outer: "outer radius (bottom) face",
-  left: "left narrow face",
-  right: "right narrow face",
-};
-const THIRDS = ["head third", "middle third", "tail third"];
+const FACES = new Set(["inner", "outer", "left", "right"]);
 
 /**
  * Where the defects of each active model's target usually sit, from the plant's history: the most
@@ -728,7 +710,12 @@ function usualPlaces(db: Db): Map<number, string | null> {
     out.set(
       m.id,
       row && total >= 10
-        ? `usually on the ${FACE_WORDS[row.face] ?? row.face}, ${THIRDS[Math.max(0, row.third)] ?? "along the slab"} (${Math.round((100 * row.n) / total)} % of ${total} past entries)`
+        ? say("risk.usually", {
+            face: FACES.has(row.face) ? say(`risk.faces.${row.face}`) : row.face,
+            third: Math.max(0, row.third) <= 2 ? say(`risk.thirds.${Math.max(0, row.third)}`) : say("risk.alongSlab"),
+            pct: Math.round((100 * row.n) / total),
+            total,
+          })
         : null,
     );
   }

@@ -3,6 +3,7 @@ import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { useTranslation } from "react-i18next";
 import { WINDOW_RECORD_DAYS, type OperatingWindow } from "@shared/api/operating-windows";
 import { can } from "@shared/roles";
+import { VARIABLES } from "@shared/variables";
 import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -13,7 +14,8 @@ import { plantKeys } from "@/features/plant/api/plant.queries";
 import { useRetireWindow, windowKeys } from "@/features/windows/api/windows.queries";
 import { WindowForm } from "@/features/windows/components/window-form";
 import { WindowRecordView } from "@/features/windows/components/window-record";
-import { count, DASH, date } from "@/lib/format";
+import { count, DASH, date, formatLocale, lowerFirst } from "@/lib/format";
+import { useTerms } from "@/i18n/terms";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 
@@ -89,7 +91,7 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
             <dl className="grid gap-2 text-sm sm:grid-cols-[10rem_1fr]">
               <dt className="font-semibold text-ink-700">{t("windows.flagsWhen")}</dt>
               <dd className="text-ink-900" data-testid="window-text">
-                {rule.text}
+                <ConditionsText conditions={rule.conditions} />
               </dd>
               <dt className="font-semibold text-ink-700">{t("windows.gradeFamily")}</dt>
               <dd className="text-ink-900">{rule.familyCode ? `${rule.familyCode} — ${rule.familyName ?? ""}` : t("windows.everyFamily")}</dd>
@@ -130,6 +132,25 @@ function RuleCard({ rule, canManage }: { rule: OperatingWindow; canManage: boole
       </div>
     </Card>
   );
+}
+
+/**
+ * A rule's conditions in the reader's words ("Superheat above 30.0 °C and casting speed above 1.50 m/min"):
+ * the screens' name of each variable, the catalogue's digits (finer where the rule was written finer),
+ * the decimal sign of the language. The answer's `text` is the same in English, for API readers.
+ */
+function ConditionsText({ conditions }: { conditions: OperatingWindow["conditions"] }) {
+  const { t, i18n } = useTranslation("process");
+  const { variable } = useTerms();
+  const said = conditions.map((c, i) => {
+    const spec = VARIABLES.find((v) => v.key === c.variable);
+    const digits = spec && Number(c.value.toFixed(spec.digits)) === c.value ? spec.digits : (String(c.value).split(".")[1]?.length ?? 0);
+    const value = new Intl.NumberFormat(formatLocale(), { useGrouping: false, minimumFractionDigits: digits, maximumFractionDigits: digits }).format(c.value);
+    const name = variable(c.variable);
+    const label = i > 0 && i18n.language === "en" ? lowerFirst(name) : name;
+    return t(`windows.condition.${c.op}`, { label, value, unit: c.unit ? ` ${c.unit}` : "" });
+  });
+  return <>{said.reduce((first, next) => t("windows.condition.and", { first, next }))}</>;
 }
 
 export function Component() {

@@ -4,6 +4,7 @@ import type { Adjusted } from "@shared/api/reports";
 import { Card } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
+import { useTerms } from "@/i18n/terms";
 import { count, num, pct, pValue, sig } from "@/lib/format";
 import { ChangeSentence, CollinearityMark, ratioRange, relChange, SE_WORDS, SeChoice } from "./estimates";
 import { Figure } from "./figure";
@@ -76,6 +77,8 @@ export function AdjustedView({ data }: { data: Adjusted }) {
   // English writes a label inside a sentence in small letters; German keeps its nouns' capitals.
   const inSentence = (label: string) => (i18n.language === "de" ? label : label.toLowerCase());
   const se = SE_WORDS[data.seMethod];
+  // A term's name as the screens say it (the answer's label is English, for API readers).
+  const { variable } = useTerms();
   const examined = data.terms.filter((t) => t.role === "examined");
   const adjustment = data.terms.filter((t) => t.role === "adjustment");
   const byVariable = new Map(data.variables.map((v) => [v.variable, v]));
@@ -83,9 +86,10 @@ export function AdjustedView({ data }: { data: Adjusted }) {
   const collinear = data.variables.filter((v) => v.collinearity === "notable" || v.collinearity === "serious");
   // The notes the screen shows elsewhere (sentences, collinearity) are not repeated in the notes list.
   const otherNotes = data.notes.filter(
-    (n) => !data.terms.some((t) => t.changeInEstimate.sentence === n) && !collinear.some((v) => n.startsWith(`${v.label}: GVIF`)),
+    // A collinearity note names the GVIF formula, in every language.
+    (n) => !data.terms.some((t) => t.changeInEstimate.sentence === n) && !(collinear.length > 0 && n.includes(": GVIF^(1/(2·df)) = ")),
   );
-  const adjustedWords = data.adjustFor.map((t) => inSentence(t.label)).join(", ");
+  const adjustedWords = data.adjustFor.map((t) => inSentence(variable(t.key))).join(", ");
   // Words repeated on every row, looked up once.
   const roleWords = { examined: t("adjusted.roles.examined"), adjustment: t("adjusted.roles.adjustment") };
   const numericWord = t("adjusted.variables.numeric");
@@ -108,7 +112,7 @@ export function AdjustedView({ data }: { data: Adjusted }) {
         >
           <td className={`${td} min-w-36`}>
             <span className="font-semibold" data-field="label">
-              {t.label}
+              {variable(t.variable)}
             </span>
             <div className="text-xs text-ink-600" data-field="per">
               {t.perWords}
@@ -216,7 +220,7 @@ export function AdjustedView({ data }: { data: Adjusted }) {
         title={t("adjusted.collinearity")}
         notes={collinear.map((v) =>
           t(`adjusted.collinearNote.${v.collinearity === "serious" ? "serious" : "notable"}`, {
-            label: v.label,
+            label: variable(v.variable),
             gvif: sig(v.gvif, 3),
             gvifDf: sig(v.gvifPerDf, 3),
           }),
@@ -227,7 +231,7 @@ export function AdjustedView({ data }: { data: Adjusted }) {
         <Suspense fallback={<Spinner label={t("loadingChart")} />}>
           <ForestPlot
             rows={data.terms.map((t) => ({
-              label: t.label,
+              label: variable(t.variable),
               per: t.perWords,
               crude: t.crude,
               adjusted: t.adjusted,
@@ -293,9 +297,9 @@ export function AdjustedView({ data }: { data: Adjusted }) {
             <tbody>
               {data.variables.map((v) => (
                 <tr key={v.variable} className="border-b border-ink-100 align-top" data-testid="variable-row" data-key={v.variable}>
-                  <td className={`${td} font-semibold`}>{v.label}</td>
+                  <td className={`${td} font-semibold`}>{variable(v.variable)}</td>
                   <td className={td}>{v.role === "examined" ? roleWords.examined : roleWords.adjustment}</td>
-                  <td className={`${td} text-xs`}>{v.test}</td>
+                  <td className={`${td} text-xs`}>{t(`adjusted.testNames.${v.test === "likelihood ratio" ? "lr" : "wald"}`)}</td>
                   <td className={tdNum} data-field="chi2">
                     {num(v.test === "likelihood ratio" ? v.lrChi2 : v.waldChi2, 2)}
                   </td>

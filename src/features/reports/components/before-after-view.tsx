@@ -184,7 +184,8 @@ export function BeforeAfterView({ data }: { data: BeforeAfter }) {
         {data.notes.length ? (
           <ul className="mt-2 list-disc space-y-0.5 pl-5 text-xs text-ink-700" data-testid="before-after-notes">
             {data.notes
-              .filter((n) => !n.startsWith("No test:"))
+              // Without a test the first note says why, which the line above says already.
+              .filter((_, i) => !(data.test.name === "none" && i === 0))
               .map((n) => (
                 <li key={n}>{n}</li>
               ))}

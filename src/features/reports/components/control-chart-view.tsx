@@ -200,7 +200,10 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
   const name = t(`chartNames.${data.chart}`);
   const b = data.baseline;
   const before = data.points.some((p) => p.phase === "before");
-  const weekNote = data.notes.find((n) => n.startsWith("By week, the baseline"));
+  // The server's notes in the reader's language: the week note comes first when the baseline is by
+  // week, the note on standardised rates last when they are given (server/services/reports/control-chart.ts).
+  const weekNote = b && data.period === "week" ? data.notes[0] : undefined;
+  const crudeLimitsNote = data.standardisation ? data.notes[data.notes.length - 1] : undefined;
   const read = `controlChart.read.${data.rules.on ? (b ? "rulesPhases" : "rules") : b ? "phases" : "plain"}` as const;
   return (
     <div className="space-y-5">
@@ -243,7 +246,7 @@ export function ControlChartView({ data, onChange }: { data: ControlChart; onCha
         notes={[
           data.slabs > 0 && data.affected < 10 ? t("controlChart.fewAffected", { count: data.affected, n: count(data.affected) }) : "",
           few ? t(`controlChart.fewPeriods.${word}`, { count: few, n: count(few), min: FEW_SLABS }) : "",
-          ...data.notes.filter((n) => od?.note !== n && !n.startsWith("By week, the baseline") && !n.startsWith("The limits are for the crude")),
+          ...data.notes.filter((n) => od?.note !== n && n !== weekNote && n !== crudeLimitsNote),
         ]}
       />
       {od ? (

@@ -69,7 +69,8 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
         title={t("rbv.aboutBins")}
         notes={[
           // The sentence and the missing adjusted estimate are said in the adjusted card.
-          ...data.notes.filter((n) => n !== data.adjusted?.changeInEstimate.sentence && !n.startsWith("Adjusted odds ratio not given")),
+          // (the server words the missing estimate around its reason, in the reader's language).
+          ...data.notes.filter((n) => n !== data.adjusted?.changeInEstimate.sentence && !(data.adjusted?.reason && n.includes(data.adjusted.reason))),
           // The server warns below 10 affected slabs; a logistic fit and its odds ratio stay rough well above that.
           data.affected >= 10 && data.affected < FEW_SLABS ? t("rbv.fewAffected", { n: data.affected }) : "",
         ]}

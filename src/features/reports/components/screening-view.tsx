@@ -1,7 +1,7 @@
 import { useMemo } from "react";
 import { useTranslation } from "react-i18next";
 import { Link } from "react-router";
-import type { Screening } from "@shared/api/reports";
+import { SMALL_AFFECTED, type Screening } from "@shared/api/reports";
 import { VARIABLES } from "@shared/variables";
 import { useTerms } from "@/i18n/terms";
 import { Card } from "@/components/ui/card";
@@ -57,6 +57,8 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
   };
   const adjusted = data.adjustFor.length > 0;
   const few = data.variables.filter((v) => v.fewSlabs).length;
+  // The server says "only N affected slabs" as its last note under SMALL_AFFECTED, in the reader's language.
+  const fewNote = data.affected < SMALL_AFFECTED ? data.notes[data.notes.length - 1] : undefined;
   const below = adjusted
     ? data.variables.filter((v) => v.adjusted?.pAdjusted !== null && v.adjusted?.pAdjusted !== undefined && v.adjusted.pAdjusted < 0.05).length
     : data.variables.filter((v) => v.pAdjusted !== null && v.pAdjusted < 0.05).length;
@@ -83,9 +85,9 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
         />
         <Figure label={adjusted ? t("screening.belowAdjusted") : t("screening.belowCrude")} value={below} note={t("screening.fdr")} />
       </div>
-      <SmallNWarning notes={[...data.notes.filter((n) => n.startsWith("Only")), few ? t("screening.few", { count: few, n: count(few) }) : ""]} />
+      <SmallNWarning notes={[...(fewNote ? [fewNote] : []), few ? t("screening.few", { count: few, n: count(few) }) : ""]} />
       <Card title={adjusted ? t("screening.rankedAdjusted", { terms: adjustWords }) : t("screening.rankedCrude")} bodyClassName="p-2 sm:p-4">
-        <TableWrap caption={data.notes.filter((n) => !n.startsWith("Only")).join(" ")}>
+        <TableWrap caption={data.notes.filter((n) => n !== fewNote).join(" ")}>
           <table className="w-full text-sm" data-testid="screening-table">
             <thead>
               <tr className="border-b border-ink-200">

@@ -4,36 +4,15 @@ import type { TFunction } from "i18next";
 import { formatLocale } from "@/lib/format";
 
 /**
- * The messages of the shared schemas (shared/api: users, tokens, plant, sign-in) and of the common
- * bounds map (src/lib/form-errors.ts) are English, as the server reads them too. The administrator's
- * forms show them in the language of the screen: each known message by its key under
- * `admin:validation`, at display time (so a message already shown follows a change of language).
- * Anything else (a server's refusal put on a field) is shown as it came.
+ * The administrator's forms' own messages (the few written here, not in a shared schema) and the
+ * common bounds map's (src/lib/form-errors.ts) in the language of the screen: each by its key under
+ * `admin:validation`, at display time. The shared schemas' messages arrive translated already
+ * (src/lib/form-resolver.ts reads the `schema` catalogue), and a server's refusal put on a field in
+ * the asker's language: both are shown as they came.
  */
 const MESSAGES: Record<string, string> = {
   "Enter a number.": "enterNumber",
   "Fill this in.": "fillIn",
-  "Nothing to change.": "nothingToChange",
-  "Use at least 10 characters.": "passwordMin",
-  "Use at most 128 characters.": "passwordMax",
-  "Give the person's name.": "personName",
-  "Use at most 120 characters for a name.": "personNameMax",
-  "A name cannot hold line breaks, tabs or other control characters.": "personNameControl",
-  "This is not an e-mail address.": "notEmail",
-  "Give the user at least one role.": "oneRole",
-  "A user keeps at least one role.": "keepsOneRole",
-  "Give the first password, or send an invitation instead.": "firstPasswordMissing",
-  "With an invitation the person chooses their own password: leave the first password out.": "firstPasswordWithInvitation",
-  "Type the password you signed in with.": "currentPassword",
-  "Choose a password different from the one you have now.": "samePassword",
-  "Use letters, digits, - and _ only.": "codeChars",
-  "Use letters, digits and - _ . / only.": "gradeCodeChars",
-  "A token may send heats, slabs, process-samples or products.": "tokenScope",
-  "Name the system that will use the token.": "tokenName",
-  "Tick at least one kind of data the token may send.": "tokenScopes",
-  "Give the group's name as the identity provider sends it.": "groupName",
-  "A group name is at most 256 characters.": "groupNameMax",
-  "At most 200 groups can be mapped.": "groupsMax",
   "The two passwords differ. Type the same one twice.": "passwordsDiffer",
   "Enter your e-mail address.": "enterEmail",
   "Check the mapping.": "checkMapping",
