@@ -52,6 +52,7 @@ import { assertTokenAllows } from "./services/tokens.service";
 import { plantRoutes } from "./routes/plant.routes";
 import { systemRoutes } from "./routes/system.routes";
 import { yardRoutes } from "./routes/yard.routes";
+import { requestLanguage } from "./lib/i18n";
 import { say } from "./lib/words";
 
 /** The built client; STRANDSIGHT_CLIENT_DIST points elsewhere (engineers building side by side on one machine). */
@@ -268,7 +269,7 @@ export function createApp(opts: AppOptions) {
     // screen's first data request (server/lib/screen-data.ts) for a role that may read it.
     app.get("/{*any}", authContext(auth), (req, res) => {
       const match = screenFor(req.path);
-      const page = screens.pageFor(match, { mayReadReports: can(req.user?.roles, "reports.read") });
+      const page = screens.pageFor(match, { mayReadReports: can(req.user?.roles, "reports.read"), language: requestLanguage(req) });
       const signedIn = req.user && !req.user.mustChangePassword ? req.user : null;
       const data = signedIn ? firstDataRequest(match.screen, new URLSearchParams(req.url.split("?")[1] ?? ""), signedIn.roles) : null;
       if (data) res.setHeader("Link", preloadLink(data));

@@ -7,7 +7,10 @@
  * the build's manifest (vite.config.ts `build.manifest`) which files that screen's module imports, so
  * it adds a `<link rel="modulepreload">` per file to the page it answers: the browser fetches them
  * beside the first script, and the router finds them in hand. What the page names already (the first
- * script's own imports) is not named twice; a report screen also names its chart code.
+ * script's own imports) is not named twice; a report screen also names its chart code, and every
+ * screen the catalogues its texts come from (shared/i18n/screen-texts.ts) in the reader's language
+ * (with English, the fallback the client loads beside it) — otherwise they are asked for only once
+ * the first script has run, a round trip after the screen's code.
  *
  * Each variant is built once, compressed once (brotli and gzip, as the build compresses index.html)
  * and kept; the build is read once at start, as the static files are. A build without a manifest
@@ -18,6 +21,8 @@
 import fs from "node:fs";
 import path from "node:path";
 import zlib from "node:zlib";
+import type { Language } from "@shared/i18n/languages";
+import { textsOf } from "@shared/i18n/screen-texts";
 import { FRAME, type Screen, type ScreenMatch } from "@shared/screens";
 
 interface ManifestEntry {
@@ -68,7 +73,7 @@ export function createScreenPages(clientDist: string) {
       .join("|");
   let built = "";
   let pages = new Map<string, ScreenPage>();
-  let build: (screen: Screen, inFrame: boolean, charts: boolean) => ScreenPage = () => {
+  let build: (screen: Screen, inFrame: boolean, charts: boolean, language: Language) => ScreenPage = () => {
     throw new Error("not loaded");
   };
 
@@ -89,16 +94,22 @@ export function createScreenPages(clientDist: string) {
     // Extended and Greek stay on demand: few screens show them.)
     const fonts = entryKey ? (manifest![entryKey]!.assets ?? []).filter((f) => /\/noto-sans-latin-\d00-normal-[\w-]+\.woff2$/.test(f)) : [];
     pages = new Map();
-    build = (screen, inFrame, charts) => {
+    build = (screen, inFrame, charts, language) => {
       const key = moduleKey(screen.module);
       if (!manifest?.[key]) return plain;
       const keys = [...closure(manifest, [...(inFrame ? [moduleKey(FRAME.module)] : []), key])];
+      // The screen's catalogues (the frame's `common` too, in a language other than English, whose
+      // `common` is in the first script), in the reader's language and English; the pseudo-locale is
+      // made from English in the browser.
+      const namespaces = [...new Set([...(inFrame ? textsOf(FRAME.module) : []), ...textsOf(screen.module)])];
+      const languages = language === "de" ? ["de", "en"] : ["en"];
+      for (const lng of languages) for (const ns of lng === "en" ? namespaces : ["common", ...namespaces]) keys.push(`shared/i18n/locales/${lng}/${ns}.json`);
       // A report draws its charts as soon as its answer comes: their code (the chart modules the
       // screen imports on demand, and the chart library under them) is named too, last — for
       // someone whose role reads reports only (the chart library stays off the inspector's tablet).
       if (screen.report && charts) keys.push(...closure(manifest, manifest[key].dynamicImports ?? []));
       const files = [...new Set(keys)]
-        .filter((k) => !named.has(k))
+        .filter((k) => manifest[k] && !named.has(k))
         .map((k) => manifest[k]!.file)
         .filter((f) => f.endsWith(".js"));
       const html = base.toString("utf8");
@@ -116,18 +127,18 @@ export function createScreenPages(clientDist: string) {
     /**
      * The page for the screen an address opens (`screenFor`; built on first use, then kept while
      * the build stays as it is); `mayReadReports`: the person asking may read reports (their chart
-     * code is named).
+     * code is named); `language`: the one the screen will be shown in (its catalogues are named).
      */
-    pageFor({ screen, inFrame }: ScreenMatch, { mayReadReports = false }: { mayReadReports?: boolean } = {}): ScreenPage {
+    pageFor({ screen, inFrame }: ScreenMatch, { mayReadReports = false, language = "en" }: { mayReadReports?: boolean; language?: Language } = {}): ScreenPage {
       const now = signature();
       if (now !== built) {
         load();
         built = now;
       }
       const charts = !!screen.report && mayReadReports;
-      const key = `${inFrame ? "frame:" : ""}${screen.module}${charts ? "+charts" : ""}`;
+      const key = `${inFrame ? "frame:" : ""}${screen.module}${charts ? "+charts" : ""}:${language}`;
       let page = pages.get(key);
-      if (!page) pages.set(key, (page = build(screen, inFrame, charts)));
+      if (!page) pages.set(key, (page = build(screen, inFrame, charts, language)));
       return page;
     },
   };

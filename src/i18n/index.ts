@@ -12,13 +12,26 @@ import resourcesToBackend from "i18next-resources-to-backend";
 import { initReactI18next } from "react-i18next";
 import enCommon from "@shared/i18n/locales/en/common.json";
 import { languageFromBrowser, type Language } from "@shared/i18n/languages";
-import type { Namespace } from "@shared/i18n/resources";
+import { textsOf } from "@shared/i18n/screen-texts";
 import { setFormatLocale } from "@/lib/format";
 
 type Tree = { [key: string]: string | Tree };
 
-/** Every catalogue but English `common` (bundled above), each its own chunk. */
-const CATALOGUES = import.meta.glob<Tree>(["/shared/i18n/locales/*/*.json", "!/shared/i18n/locales/en/common.json"], { import: "default" });
+/**
+ * Every catalogue the screens read but English `common` (bundled above), each its own chunk. The
+ * server's own (`server`, `methods`, `audit`: what it writes into refusals, answers, mails and
+ * workbooks) never reach the browser.
+ */
+const CATALOGUES = import.meta.glob<Tree>(
+  [
+    "/shared/i18n/locales/*/*.json",
+    "!/shared/i18n/locales/en/common.json",
+    "!/shared/i18n/locales/*/server.json",
+    "!/shared/i18n/locales/*/methods.json",
+    "!/shared/i18n/locales/*/audit.json",
+  ],
+  { import: "default" },
+);
 
 async function catalogue(language: string, ns: string): Promise<Tree> {
   if (language === "en" && ns === "common") return enCommon;
@@ -47,51 +60,6 @@ void i18n
     initAsync: false,
     react: { useSuspense: true },
   });
-
-/**
- * The catalogues a screen's texts come from, by its route module (shared/screens.ts). Fetched by the
- * router beside the screen's code, so the screen draws in one go; a catalogue missing here still
- * loads when its first text is asked for (the component waits for it).
- */
-const SCREEN_TEXTS: Record<string, Namespace[]> = {
-  yard: ["yard", "slab"],
-  "yard-slab": ["yard", "slab"],
-  "quality-review": ["review"],
-  "quality-catalogue": ["review"],
-  "quality-home": ["reports", "admin"],
-  reports: ["reports"],
-  "process-home": ["process", "admin"],
-  "report-cause-pareto": ["reports", "process"],
-  "report-control-chart": ["reports", "analysis"],
-  "report-adjusted": ["reports", "analysis"],
-  "report-before-after": ["reports", "analysis"],
-  "claims-home": ["claims"],
-  "claim-new": ["claims"],
-  claim: ["claims", "heats", "process"],
-  trace: ["claims", "heats", "process"],
-  heats: ["heats"],
-  heat: ["heats", "yard", "slab", "claims", "process"],
-  "heat-history": ["heats", "claims", "process"],
-  slab: ["heats", "yard", "slab", "process"],
-  "risk-models": ["process"],
-  "operating-windows": ["process"],
-  causes: ["process"],
-  "causes-untagged": ["process"],
-  investigations: ["process"],
-  "investigation-new": ["process"],
-  investigation: ["process"],
-  import: ["admin"],
-  setup: ["admin"],
-  "admin-users": ["admin"],
-  "admin-sign-in": ["admin"],
-  "admin-tokens": ["admin"],
-  "admin-outbox": ["admin"],
-  "change-password": ["admin"],
-  "forgot-password": ["admin"],
-  "reset-password": ["admin"],
-};
-
-export const textsOf = (module: string): Namespace[] => SCREEN_TEXTS[module] ?? (module.startsWith("report-") ? ["reports"] : []);
 
 /** Loads a screen's catalogues in the language shown (and English, the fallback). */
 export function textsFor(module: string): Promise<unknown> {

@@ -116,7 +116,7 @@ export function pValue(p: number | null | undefined): string {
   if (p >= 0.001) return fixed(p, 4);
   if (p < 1e-15) return "< 10⁻¹⁵";
   const [mant, exp] = p.toExponential(1).split("e");
-  return `${mant} × 10${String(Number(exp)).replace(/./g, (c) => SUPERSCRIPT[c] ?? c)}`;
+  return `${fixed(Number(mant), 1)} × 10${String(Number(exp)).replace(/./g, (c) => SUPERSCRIPT[c] ?? c)}`;
 }
 
 /** A number with a fixed count of significant digits, for statistics of any size (odds ratios, ρ). */

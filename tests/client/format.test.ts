@@ -54,6 +54,7 @@ describe("formatting", () => {
     try {
       setFormatLocale("de");
       expect(formatLocale()).toBe("de-DE");
+      expect(pValue(0.00036)).toBe("3,6 × 10⁻⁴");
       expect(num(1234.5, 1)).toBe("1.234,5");
       expect(count(15852)).toBe("15.852");
       expect(pct(0.1247, 2)).toBe("12,47 %");

@@ -60,10 +60,11 @@ export const heatFileRow = (prefix: string, i: number): Row => ({
 });
 
 /** supertest parser that keeps a binary answer (an .xlsx, a photo) as one Buffer. */
-export function binaryBody(res: NodeJS.ReadableStream, cb: (err: Error | null, body: Buffer) => void) {
+export function binaryBody(res: import("supertest").Response, cb: (err: Error | null, body: Buffer) => void) {
+  const stream = res as unknown as NodeJS.ReadableStream;
   const chunks: Buffer[] = [];
-  res.on("data", (c: Buffer) => chunks.push(c));
-  res.on("end", () => cb(null, Buffer.concat(chunks)));
+  stream.on("data", (c: Buffer) => chunks.push(c));
+  stream.on("end", () => cb(null, Buffer.concat(chunks)));
 }
 
 /** GET an .xlsx through a supertest agent, expect 200, and open it with exceljs. */

@@ -108,6 +108,25 @@ describe("a screen's page names the screen's code", () => {
     expect(named).not.toContain(fileOf("report-overview"));
   });
 
+  it("when a screen is opened, then its page names the screen's catalogues in the reader's language, with English beside German (the fallback), after the screen's code", async () => {
+    const catalogue = (lng: string, ns: string) => manifest()[`shared/i18n/locales/${lng}/${ns}.json`]!.file;
+    const english = modulePreloads((await get("/heats")).html);
+    expect(english).toContain(catalogue("en", "heats"));
+    // English `common` is in the first script; German is not asked for.
+    expect(english.filter((f) => Object.values(manifest()).some((m) => m.file === f && m.src?.includes("/locales/de/")))).toEqual([]);
+    expect(english.indexOf(fileOf("heats"))).toBeLessThan(english.indexOf(catalogue("en", "heats")));
+
+    const german = modulePreloads((await get("/heats", { "accept-encoding": "br, gzip", "accept-language": "de-DE,de;q=0.9" })).html);
+    for (const f of [catalogue("de", "common"), catalogue("de", "heats"), catalogue("en", "heats")]) expect(german).toContain(f);
+
+    // A report screen: its catalogue before the chart code.
+    const report = modulePreloads((await get("/reports/overview?period=month", { "accept-encoding": "br, gzip", cookie: await signIn("quality") })).html);
+    expect(report).toContain(catalogue("en", "reports"));
+    expect(report.indexOf(catalogue("en", "reports"))).toBeLessThan(report.indexOf(chunk("chart-theme")));
+    // The server's own catalogues are not in the client's build at all.
+    expect(Object.keys(manifest()).filter((k) => /\/(server|methods|audit)\.json$/.test(k))).toEqual([]);
+  });
+
   it("when the sign-in page is opened, then it names the sign-in module and not the frame (nobody is signed in there yet)", async () => {
     const { html } = await get("/sign-in?next=%2Fyard");
     const named = modulePreloads(html);

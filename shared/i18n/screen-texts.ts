@@ -1,0 +1,48 @@
+import type { Namespace } from "./resources";
+
+/**
+ * The catalogues a screen's texts come from, by its route module (shared/screens.ts). The router
+ * fetches them beside the screen's code (src/i18n), and the server names them in the page it answers
+ * for the screen's address (server/lib/screen-preload.ts), so the screen draws in one go; a catalogue
+ * missing here still loads when its first text is asked for (the component waits for it).
+ */
+const SCREEN_TEXTS: Record<string, Namespace[]> = {
+  yard: ["yard", "slab"],
+  "yard-slab": ["yard", "slab"],
+  "quality-review": ["review"],
+  "quality-catalogue": ["review"],
+  "quality-home": ["reports", "admin"],
+  reports: ["reports"],
+  "process-home": ["process", "admin"],
+  "report-cause-pareto": ["reports", "process"],
+  "report-control-chart": ["reports", "analysis"],
+  "report-adjusted": ["reports", "analysis"],
+  "report-before-after": ["reports", "analysis"],
+  "claims-home": ["claims"],
+  "claim-new": ["claims"],
+  claim: ["claims", "heats", "process"],
+  trace: ["claims", "heats", "process"],
+  heats: ["heats"],
+  heat: ["heats", "yard", "slab", "claims", "process"],
+  "heat-history": ["heats", "claims", "process"],
+  slab: ["heats", "yard", "slab", "process"],
+  "risk-models": ["process"],
+  "operating-windows": ["process"],
+  causes: ["process"],
+  "causes-untagged": ["process"],
+  investigations: ["process"],
+  "investigation-new": ["process"],
+  investigation: ["process"],
+  import: ["admin"],
+  setup: ["admin"],
+  "admin-users": ["admin"],
+  "admin-sign-in": ["admin"],
+  "admin-tokens": ["admin"],
+  "admin-outbox": ["admin"],
+  "change-password": ["admin"],
+  "forgot-password": ["admin"],
+  "reset-password": ["admin"],
+};
+
+/** A screen's catalogues (besides `common`, which the frame reads). */
+export const textsOf = (module: string): Namespace[] => SCREEN_TEXTS[module] ?? (module.startsWith("report-") ? ["reports"] : []);
