@@ -15,8 +15,13 @@ export function LanguagePicker({ current }: { current: Language | undefined }) {
   const qc = useQueryClient();
   const save = useMutation({
     mutationFn: (language: Language) => api("/me/language", { method: "PUT", body: { language }, schema: meSchema }),
-    // The screens switch as the session's answer changes (src/app/provider.tsx follows it).
-    onSuccess: (me) => qc.setQueryData(authKeys.me().queryKey, me),
+    // The screens switch as the session's answer changes (src/app/provider.tsx follows it); what the
+    // server wrote in words (a report's methods and notes, a rule's verdict, the audit trail) is asked
+    // for again, in the new language.
+    onSuccess: (me) => {
+      qc.setQueryData(authKeys.me().queryKey, me);
+      void qc.invalidateQueries({ predicate: (q) => q.queryKey[0] !== authKeys.all[0] });
+    },
   });
   const shown = (current ?? i18n.language) as Language;
   const choices = current === "en-XA" ? [...PICKABLE_LANGUAGES, "en-XA" as const] : PICKABLE_LANGUAGES;
