@@ -8,6 +8,8 @@ import type { z } from "zod";
 import type { Claim, ClaimSummary, claimCreateSchema, claimLinkSchema, claimQuerySchema, claimUpdateSchema } from "@shared/api/claims";
 import type { Db } from "../db/client";
 import { badRequest, conflict, notFound, said } from "../lib/http-error";
+import { translator } from "../lib/i18n";
+import { currentLanguage } from "../lib/words";
 import { recordAudit } from "./audit.service";
 
 type Row = Record<string, any>;
@@ -155,22 +157,30 @@ function mailState(sqlite: Database.Database, id: unknown) {
 
 const mailTime = (ms: number) => new Date(ms).toISOString().slice(0, 16).replace("T", " ") + " UTC";
 
+/**
+ * A history line in words, made when the claim is read (the audit row keeps only the facts), in the
+ * reader's language (audit:claimHistory.*). The status stays its key ("Status → under_review"): the
+ * claim screen puts the status's name in.
+ */
 function describe(action: string, after: unknown, mail: (outboxId: unknown) => { status: string; sentAt: number | null } | null): string | null {
   const a = (typeof after === "string" ? JSON.parse(after) : after) as Record<string, any> | null;
   if (!a) return null;
+  const t = translator(currentLanguage());
   if (action === "claim.history.sent") {
     // Said as it stands in the outbox: queued until the mail server has taken it.
     const to = (a.to as string[]).join(", ");
     const m = mail(a.outboxId);
     // Sendings before the two editions carried no edition: they were the whole (internal) history.
-    const what = `Heat ${a.heatNo} history (${a.edition === "customer" ? "customer" : "internal"} edition)`;
-    if (m?.status === "sent") return `${what} sent to ${to}${m.sentAt ? ` (${mailTime(m.sentAt)})` : ""}`;
-    if (m?.status === "failed") return `${what} to ${to} could not be sent: the administrator finds it in the outbox`;
-    return `${what} queued for e-mail to ${to}`;
+    const edition = a.edition === "customer" ? "customer" : "internal";
+    const values = { heat: a.heatNo as string, to };
+    if (m?.status === "sent")
+      return m.sentAt ? t(`audit:claimHistory.${edition}.sentAt`, { ...values, at: mailTime(m.sentAt) }) : t(`audit:claimHistory.${edition}.sent`, values);
+    if (m?.status === "failed") return t(`audit:claimHistory.${edition}.failed`, values);
+    return t(`audit:claimHistory.${edition}.queued`, values);
   }
-  if (action === "claim.update" && a.status) return `Status → ${a.status}`;
-  if (action === "claim.slabs.link") return `${a.added} slab(s) linked`;
-  if (action === "claim.slabs.unlink") return `Slab ${a.slabId} unlinked`;
+  if (action === "claim.update" && a.status) return t("audit:claimHistory.status", { status: a.status as string });
+  if (action === "claim.slabs.link") return t("audit:claimHistory.slabsLinked", { count: a.added as number });
+  if (action === "claim.slabs.unlink") return t("audit:claimHistory.slabUnlinked", { slab: a.slabId as string });
   return null;
 }
 

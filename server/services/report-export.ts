@@ -9,6 +9,7 @@ import { translator } from "../lib/i18n";
 import { addItemSheet, addTableSheet, newWorkbook, workbookBuffer, D2, D3, N0, PCT, type SheetColumn, type TableLook } from "../lib/workbook-sheets";
 import type { CausePareto } from "@shared/api/causes";
 import type { Adjusted, BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
+import enServer from "@shared/i18n/locales/en/server.json";
 import { SEVERITY_LABELS, STAGE_LABELS } from "@shared/domain";
 import { CATEGORICAL_LABELS, VARIABLES, type CategoricalKey } from "@shared/variables";
 
@@ -26,13 +27,9 @@ const P = "[<0.0001]0.00E+00;0.0000";
 const P_FLOOR = 2.2250738585072014e-308;
 const isPColumn = (c: Col) => c.kind === "p" || c.numFmt === P;
 
-export const CAUTIONS = [
-  "A correlation in a report is not a cause; grade mix confounds almost everything.",
-  "Changing casting speed, brake current, SEN depth or superheat goes through the plant's own change procedure and its licensed metallurgists: such changes can cause breakouts. Defer to local codes and licensed practice.",
-];
-
-const PHASE_WORDS = { before: "before the baseline", baseline: "baseline", monitoring: "after the baseline" } as const;
-const TEST_WORDS = { fisher: "Fisher's exact test", "chi-square": "chi-square test", none: "no test" } as const;
+/** Keys (under server:report.) of a control chart's phases and a before-after test's name. */
+const PHASE_WORDS = { before: "phases.before", baseline: "phases.baseline", monitoring: "phases.monitoring" } as const;
+const TEST_WORDS = { fisher: "testNames.fisher", "chi-square": "testNames.chiSquare", none: "testNames.none" } as const;
 
 const referenceMixSheet = (mix: { label: string; slabs: number; share: number }[], by: string, w: W): Sheet => ({
   name: w("sheets.referenceMix"),
@@ -47,7 +44,7 @@ const referenceMixSheet = (mix: { label: string; slabs: number; share: number }[
 // --- Rate against a variable (adjusted and per stratum), screening (adjusted), the adjusted model ---
 
 const OR = "0.000";
-const yes = (b: boolean | null | undefined) => (b ? "yes" : "");
+const yes = (w: W, b: boolean | null | undefined) => (b ? w("words.yes") : "");
 
 /** The adjusted and crude odds ratios of rate against a variable, and the per-level rates and odds ratios. */
 /** A binned rate table's columns: the bin's bounds in the variable's unit, slabs, affected, rate and its 95 % interval. */
@@ -67,8 +64,8 @@ function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
   const sheets: Sheet[] = [];
   const a = x.adjusted;
   if (a) {
-    const adjustedFor = a.adjustFor.map((t) => t.label.toLowerCase()).join(", ");
-    const se = a.seMethod === "cluster" ? "heat-clustered" : "model-based";
+    const adjustedFor = a.adjustFor.map((t) => w.inSentence(w.term(t.key, t.label))).join(", ");
+    const se = w(a.seMethod === "cluster" ? "words.heatClustered" : "words.modelBased");
     const row = (estimate: string, f: NonNullable<RateByVariable["adjusted"]>["crude"], perStep: boolean) => ({
       estimate,
       per: perStep ? (u === "–" ? w("per.step", { step: f.perStep.step }) : w("per.stepUnit", { step: f.perStep.step, unit: u })) : perUnit,
@@ -94,10 +91,10 @@ function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
         { header: w("headers.standardErrors"), key: "seMethod", width: 16 },
       ],
       rows: [
-        row(`Adjusted for ${adjustedFor}`, a, true),
-        row(`Adjusted for ${adjustedFor}`, a, false),
-        row("Crude (alone, same slabs and SEs)", a.crude, true),
-        row("Crude (alone, same slabs and SEs)", a.crude, false),
+        row(w("words.adjustedFor", { terms: adjustedFor }), a, true),
+        row(w("words.adjustedFor", { terms: adjustedFor }), a, false),
+        row(w("words.crudeAlone"), a.crude, true),
+        row(w("words.crudeAlone"), a.crude, false),
       ],
     });
   }
@@ -106,7 +103,7 @@ function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
     sheets.push({
       name: w("sheets.ratesWithinLevels"),
       columns: [{ header: w.term(st.by.key, st.by.label), key: "level", width: 18 }, ...binColumns(w, u), { header: w("headers.tooFewSlabs"), key: "sparse" }],
-      rows: st.strata.flatMap((level) => level.bins.map((b) => ({ level: level.label, ...b, sparse: yes(b.sparse) }))),
+      rows: st.strata.flatMap((level) => level.bins.map((b) => ({ level: level.label, ...b, sparse: yes(w, b.sparse) }))),
     });
     sheets.push({
       name: w("sheets.oddsRatiosWithinLevels"),
@@ -163,14 +160,17 @@ const screeningAdjustedColumns = (w: W): Col[] => [
   { header: w("headers.whyNotAdjusted"), key: "adjReason", width: 40 },
 ];
 
-function screeningAdjustedCells(x: Screening, v: Screening["variables"][number]) {
-  const labelOf = (k: string) => VARIABLES.find((w) => w.key === k)?.label ?? k;
+function screeningAdjustedCells(x: Screening, v: Screening["variables"][number], w: W) {
+  const labelOf = (k: string) => {
+    const label = VARIABLES.find((u) => u.key === k)?.label;
+    return label ? w.term(k, label) : k;
+  };
   return {
-    unit: VARIABLES.find((w) => w.key === v.key)?.unit ?? "",
+    unit: VARIABLES.find((u) => u.key === v.key)?.unit ?? "",
     parentLabel: v.parent ? labelOf(v.parent) : "",
     derivedWords: v.derivedFrom.map(labelOf).join(", "),
-    testableWords: v.testable ? "yes" : "no",
-    counted: yes(v.countedInBh),
+    testableWords: w(v.testable ? "words.yes" : "words.no"),
+    counted: yes(w, v.countedInBh),
     crudeOr: v.crude?.oddsRatioPerIqr ?? null,
     crudeLower: v.crude?.ciLower ?? null,
     crudeUpper: v.crude?.ciUpper ?? null,
@@ -180,14 +180,16 @@ function screeningAdjustedCells(x: Screening, v: Screening["variables"][number])
     adjUpper: v.adjusted?.ciUpper ?? null,
     adjP: v.adjusted?.p ?? null,
     adjPAdjusted: v.adjusted?.pAdjusted ?? null,
-    adjTest: v.adjusted?.test ?? (x.adjustFor.length ? "" : "nothing adjusted for"),
+    adjTest: v.adjusted?.test ?? (x.adjustFor.length ? "" : w("words.nothingAdjustedFor")),
     adjReason: v.adjusted?.reason ?? "",
   };
 }
 
 /** The adjusted model: odds ratios crude and adjusted per term, the tests per variable, the levels and the fit. */
 function adjustedSheets(x: Adjusted, w: W): Sheet[] {
-  const role = (r: string) => (r === "examined" ? "examined" : "adjusted for");
+  const role = (r: string) => w(r === "examined" ? "words.examined" : "words.adjustment");
+  const testWords = (test: Adjusted["variables"][number]["test"]) =>
+    w(test === "likelihood ratio" ? "adjustedTests.likelihoodRatio" : "adjustedTests.waldHeatClustered");
   return [
     {
       name: w("sheets.oddsRatios"),
@@ -214,7 +216,7 @@ function adjustedSheets(x: Adjusted, w: W): Sheet[] {
       ],
       rows: x.terms.map((t) => ({
         roleWords: role(t.role),
-        label: t.label,
+        label: w.term(t.variable, t.label),
         unitWords: t.unit ?? "",
         level: t.level ?? "",
         reference: t.reference ?? "",
@@ -240,7 +242,7 @@ function adjustedSheets(x: Adjusted, w: W): Sheet[] {
         { header: w("headers.variable"), key: "label", width: 28 },
         { header: w("headers.role"), key: "roleWords", width: 13 },
         { header: w("headers.df"), key: "df", numFmt: "0" },
-        { header: w("headers.test"), key: "test", width: 22 },
+        { header: w("headers.test"), key: "testWords", width: 22 },
         { header: w("headers.likelihoodRatioChiSquare"), key: "lrChi2", numFmt: "0.000" },
         { header: w("headers.waldChiSquare"), key: "waldChi2", numFmt: "0.000" },
         { header: w("headers.p"), key: "p", numFmt: P },
@@ -249,7 +251,13 @@ function adjustedSheets(x: Adjusted, w: W): Sheet[] {
         { header: w("headers.collinearity"), key: "collinearity" },
         { header: w("headers.note"), key: "reason", width: 60 },
       ],
-      rows: x.variables.map((v) => ({ ...v, roleWords: role(v.role), collinearity: v.collinearity ?? "" })),
+      rows: x.variables.map((v) => ({
+        ...v,
+        label: w.term(v.variable, v.label),
+        roleWords: role(v.role),
+        testWords: testWords(v.test),
+        collinearity: v.collinearity ? w(`collinearity.${v.collinearity}`) : "",
+      })),
     },
     {
       name: w("sheets.levels"),
@@ -261,7 +269,7 @@ function adjustedSheets(x: Adjusted, w: W): Sheet[] {
         { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
       ],
       rows: x.variables.flatMap((v) =>
-        (v.levels ?? []).map((l) => ({ label: v.label, level: l.level, ref: yes(l.reference), slabs: l.slabs, affected: l.affected })),
+        (v.levels ?? []).map((l) => ({ label: w.term(v.variable, v.label), level: l.level, ref: yes(w, l.reference), slabs: l.slabs, affected: l.affected })),
       ),
     },
     {
@@ -271,17 +279,17 @@ function adjustedSheets(x: Adjusted, w: W): Sheet[] {
         { header: w("headers.value"), key: "value", numFmt: "#,##0.###" },
       ],
       rows: [
-        { item: "Slabs in the model", value: x.slabs },
-        { item: "Affected slabs", value: x.affected },
-        { item: "Heats", value: x.heats },
-        { item: "Slabs in the filters", value: x.slabsInFilters },
-        { item: "Slabs left out (a value missing)", value: x.slabsLeftOut },
-        { item: "Coefficients (with the intercept)", value: x.model.parameters },
-        { item: "Deviance", value: x.model.deviance },
-        { item: "Null deviance", value: x.model.nullDeviance },
-        { item: "AIC", value: x.model.aic },
-        { item: "Newton iterations", value: x.model.iterations },
-        { item: x.seMethod === "cluster" ? "Standard errors: heat-clustered (CR1)" : "Standard errors: model-based", value: null },
+        { item: w("rows.slabsInModel"), value: x.slabs },
+        { item: w("rows.affectedSlabs"), value: x.affected },
+        { item: w("rows.heats"), value: x.heats },
+        { item: w("rows.slabsInFilters"), value: x.slabsInFilters },
+        { item: w("rows.slabsLeftOut"), value: x.slabsLeftOut },
+        { item: w("rows.coefficients"), value: x.model.parameters },
+        { item: w("rows.deviance"), value: x.model.deviance },
+        { item: w("rows.nullDeviance"), value: x.model.nullDeviance },
+        { item: w("rows.aic"), value: x.model.aic },
+        { item: w("rows.newtonIterations"), value: x.model.iterations },
+        { item: w(x.seMethod === "cluster" ? "rows.seCluster" : "rows.seModel"), value: null },
       ],
     },
   ];
@@ -309,19 +317,19 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { header: w("headers.method"), key: "method", width: 90 },
           ],
           rows: [
-            { test: "Spearman ρ", statistic: x.spearman.rho, p: x.spearman.p, method: x.methods.spearman },
-            { test: "Point-biserial r", statistic: x.pointBiserial.r, p: x.pointBiserial.p, method: x.methods.pointBiserial },
-            { test: `Logistic slope (per ${u})`, statistic: x.logistic.slope, p: x.logistic.p, method: x.methods.logistic },
-            { test: "Logistic intercept", statistic: x.logistic.intercept, p: null, method: "" },
+            { test: w("rows.spearman"), statistic: x.spearman.rho, p: x.spearman.p, method: x.methods.spearman },
+            { test: w("rows.pointBiserial"), statistic: x.pointBiserial.r, p: x.pointBiserial.p, method: x.methods.pointBiserial },
+            { test: w("rows.logisticSlope", { unit: u }), statistic: x.logistic.slope, p: x.logistic.p, method: x.methods.logistic },
+            { test: w("rows.logisticIntercept"), statistic: x.logistic.intercept, p: null, method: "" },
             {
-              test: `Odds ratio per ${u}`,
+              test: w("rows.oddsRatioPer", { unit: u }),
               statistic: x.logistic.oddsRatio,
               p: null,
               ciLower: x.logistic.oddsRatioCiLower,
               ciUpper: x.logistic.oddsRatioCiUpper,
-              method: "Wald 95 % interval",
+              method: w("words.wald95"),
             },
-            { test: "Mann–Whitney U", statistic: x.mannWhitney.u, p: x.mannWhitney.p, method: x.methods.mannWhitney },
+            { test: w("rows.mannWhitney"), statistic: x.mannWhitney.u, p: x.mannWhitney.p, method: x.methods.mannWhitney },
           ],
         },
         {
@@ -337,8 +345,8 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { header: w("headers.meanUnit", { unit: u }), key: "mean", numFmt: D3 },
           ],
           rows: [
-            { group: "affected", ...x.distribution.affected },
-            { group: "sound", ...x.distribution.sound },
+            { group: w("words.affected"), ...x.distribution.affected },
+            { group: w("words.sound"), ...x.distribution.sound },
           ],
         },
         ...rateByVariableAdjustedSheets(x, w),
@@ -364,7 +372,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { header: w("headers.method"), key: "method", width: 60 },
             ...screeningAdjustedColumns(w),
           ],
-          rows: x.variables.map((v) => ({ ...v, fewSlabs: v.fewSlabs ? "yes" : "", ...screeningAdjustedCells(x, v) })),
+          rows: x.variables.map((v) => ({ ...v, label: w.term(v.key, v.label), fewSlabs: yes(w, v.fewSlabs), ...screeningAdjustedCells(x, v, w) })),
         },
       ];
     }
@@ -402,8 +410,8 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
           ],
           rows: x.points.map((p) => ({
             ...p,
-            out: p.outOfControl ? "yes" : "",
-            phase: PHASE_WORDS[p.phase],
+            out: yes(w, p.outOfControl),
+            phase: w(PHASE_WORDS[p.phase]),
             signals: p.signals.join(", "),
             stdRate: p.standardised?.rate,
             stdLower: p.standardised?.ciLower,
@@ -420,31 +428,31 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
           ],
           rows: [
             {
-              item: u ? "Centre line ū (defects per slab)" : "Centre line p̄ (share affected)",
+              item: w(u ? "rows.centreU" : "rows.centreP"),
               value: x.centre,
-              note: x.baseline ? "from the baseline" : "from every period shown",
+              note: w(x.baseline ? "words.fromTheBaseline" : "words.fromEveryPeriod"),
             },
             ...(x.baseline
               ? [
-                  { item: "Baseline from", value: null, note: x.baseline.from },
-                  { item: "Baseline to", value: null, note: x.baseline.to },
-                  { item: "Baseline periods", value: x.baseline.periods, note: `${x.baseline.firstPeriod ?? ""} – ${x.baseline.lastPeriod ?? ""}` },
-                  { item: "Baseline slabs", value: x.baseline.slabs, note: "" },
+                  { item: w("rows.baselineFrom"), value: null, note: x.baseline.from },
+                  { item: w("rows.baselineTo"), value: null, note: x.baseline.to },
+                  { item: w("rows.baselinePeriods"), value: x.baseline.periods, note: `${x.baseline.firstPeriod ?? ""} – ${x.baseline.lastPeriod ?? ""}` },
+                  { item: w("rows.baselineSlabs"), value: x.baseline.slabs, note: "" },
                 ]
               : []),
             ...(x.overdispersion
               ? [
-                  { item: "Laney σ_z", value: x.overdispersion.sigmaZ, note: x.overdispersion.note },
-                  { item: "Chi-square, one share for every period", value: x.overdispersion.chi2, note: `df ${x.overdispersion.df ?? "—"}` },
-                  { item: "p (chi-square)", value: x.overdispersion.p, note: "" },
-                  { item: "Laney p′ chart applies", value: null, note: x.overdispersion.applies ? "yes" : "no" },
+                  { item: w("rows.laneySigmaZ"), value: x.overdispersion.sigmaZ, note: x.overdispersion.note },
+                  { item: w("rows.chiSquareOneShare"), value: x.overdispersion.chi2, note: w("words.df", { df: x.overdispersion.df ?? "—" }) },
+                  { item: w("rows.pChiSquare"), value: x.overdispersion.p, note: "" },
+                  { item: w("rows.laneyApplies"), value: null, note: w(x.overdispersion.applies ? "words.yes" : "words.no") },
                 ]
               : []),
-            ...Object.entries(x.rules.on ? x.rules.legend : {}).map(([k, v]) => ({ item: `Run rule ${k}`, value: null, note: v })),
+            ...Object.entries(x.rules.on ? x.rules.legend : {}).map(([k, v]) => ({ item: w("rows.runRule", { rule: k }), value: null, note: v })),
           ],
         },
       ];
-      if (x.standardisation) sheets.push(referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label, w));
+      if (x.standardisation) sheets.push(referenceMixSheet(x.standardisation.referenceMix, w.term(x.standardisation.by, x.standardisation.label), w));
       return sheets;
     }
     case "overview": {
@@ -505,7 +513,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
           columns: [{ header: w("headers.caster"), key: "caster" }, { header: w("headers.strand"), key: "strand" }, ...rate],
           rows: x.byStrand,
         },
-        ...(x.standardisation ? [referenceMixSheet(x.standardisation.referenceMix, x.standardisation.label, w)] : []),
+        ...(x.standardisation ? [referenceMixSheet(x.standardisation.referenceMix, w.term(x.standardisation.by, x.standardisation.label), w)] : []),
       ];
     }
     case "process-window": {
@@ -525,7 +533,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { header: w("headers.n95PctCIUpper"), key: "ciUpper", numFmt: PCT },
             { header: w("headers.underNSlabs", { n: x.minN }), key: "sparse" },
           ],
-          rows: x.cells.map((c) => ({ ...c, sparse: c.sparse ? "yes" : "" })),
+          rows: x.cells.map((c) => ({ ...c, sparse: yes(w, c.sparse) })),
         },
       ];
     }
@@ -559,7 +567,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { header: w("headers.method"), key: "method", width: 80 },
             { header: w("headers.whyNoP"), key: "reason", width: 50 },
           ],
-          rows: [{ ...x.difference, test: TEST_WORDS[x.test.name], p: x.test.p, method: `${x.difference.method}; ${x.test.method}`, reason: x.test.reason }],
+          rows: [{ ...x.difference, test: w(TEST_WORDS[x.test.name]), p: x.test.p, method: `${x.difference.method}; ${x.test.method}`, reason: x.test.reason }],
         },
       ];
       const st = x.stratified;
@@ -568,7 +576,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
         sheets.push(
           {
             // English lower-cases the name inside the sheet's name; German keeps its noun's capital.
-            name: w("sheets.within", { by: w.language === "de" ? by : by.toLowerCase() }),
+            name: w("sheets.within", { by: w.inSentence(by) }),
             columns: [
               { header: by, key: "label", width: 18 },
               { header: w("headers.aSlabs"), key: "aSlabs", numFmt: N0 },
@@ -615,32 +623,32 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
               { header: w("headers.note"), key: "note", width: 70 },
             ],
             rows: [
-              { item: "Crude odds ratio B against A (strata ignored)", value: st.crude.oddsRatio, lower: st.crude.ciLower, upper: st.crude.ciUpper },
+              { item: w("rows.crudeOddsRatio"), value: st.crude.oddsRatio, lower: st.crude.ciLower, upper: st.crude.ciUpper },
               {
-                item: `Mantel–Haenszel odds ratio B against A, within ${by.toLowerCase()}`,
+                item: w("rows.mantelHaenszel", { by: w.inSentence(by) }),
                 value: st.mantelHaenszel.oddsRatio,
                 lower: st.mantelHaenszel.ciLower,
                 upper: st.mantelHaenszel.ciUpper,
                 chi2: st.mantelHaenszel.chi2,
                 df: 1,
                 p: st.mantelHaenszel.p,
-                note: st.mantelHaenszel.reason ?? "Cochran–Mantel–Haenszel test",
+                note: st.mantelHaenszel.reason ?? w("words.cmhTest"),
               },
               {
-                item: "Breslow–Day test of one odds ratio in every stratum",
+                item: w("rows.breslowDay"),
                 chi2: st.breslowDay.chi2,
                 df: st.breslowDay.df,
                 p: st.breslowDay.p,
-                note: st.breslowDay.reason ?? (st.breslowDay.tarone ? "with Tarone's correction" : ""),
+                note: st.breslowDay.reason ?? (st.breslowDay.tarone ? w("words.tarone") : ""),
               },
-              { item: "Standardised rate A", value: st.standardised.rateA, note: st.standardised.reason ?? "" },
-              { item: "Standardised rate B", value: st.standardised.rateB },
+              { item: w("rows.standardisedA"), value: st.standardised.rateA, note: st.standardised.reason ?? "" },
+              { item: w("rows.standardisedB"), value: st.standardised.rateB },
               {
-                item: "Standardised rate B − A",
+                item: w("rows.standardisedDifference"),
                 value: st.standardised.difference,
                 lower: st.standardised.ciLower,
                 upper: st.standardised.ciUpper,
-                note: `reference mix: ${st.standardised.reference}`,
+                note: w("words.referenceMix", { reference: st.standardised.reference }),
               },
             ],
           },
@@ -651,6 +659,8 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
     }
     case "slab-positions": {
       const x = r as SlabPositions;
+      // A face is a key of the shared list: English writes it as it is, another language the screens' name.
+      const faceWords = (f: string) => (w.language === "en" ? f : (w.raw(`common:terms.faces.${f}`, { defaultValue: f }) as string));
       const along = x.alongEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.alongEdges[i + 1]! * 100)} %`);
       return [
         {
@@ -659,7 +669,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { header: w("headers.face"), key: "face" },
             { header: w("headers.defects"), key: "defects", numFmt: N0 },
           ],
-          rows: x.byFace,
+          rows: x.byFace.map((f) => ({ ...f, face: faceWords(f.face) })),
         },
         {
           name: w("sheets.alongTheSlab"),
@@ -667,7 +677,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { header: w("headers.face"), key: "face" },
             ...along.map((a, i) => ({ header: w("headers.ofLengthFromHead", { range: a }), key: `a${i}`, numFmt: N0 })),
           ],
-          rows: x.grid.map((g) => ({ face: g.face, ...Object.fromEntries(g.along.map((v, i) => [`a${i}`, v])) })),
+          rows: x.grid.map((g) => ({ face: faceWords(g.face), ...Object.fromEntries(g.along.map((v, i) => [`a${i}`, v])) })),
         },
       ];
     }
@@ -706,149 +716,70 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
   }
 }
 
-/** Report kinds in the screens' words. */
-export const REPORT_TITLES: Record<string, string> = {
-  overview: "Overview",
-  "rate-by-variable": "Rate against a variable",
-  screening: "Screening",
-  "process-window": "Process window",
-  "control-chart": "Control chart",
-  "before-after": "Before and after",
-  "slab-positions": "Where on the slab",
-  "cause-pareto": "Cause Pareto",
-  adjusted: "Adjusted model",
+/** Query keys named in the screens' words (server:report.parameters.*), and per report (server:report.parametersByReport.*). */
+const REPORT_WORDS = enServer.report as unknown as {
+  parameters: Record<string, string>;
+  parametersByReport: Record<string, Record<string, string>>;
+  parameterValues: Record<string, Record<string, string>>;
+  methodNames: Record<string, string>;
+};
+const has = (tree: Record<string, unknown> | undefined, key: string) => tree !== undefined && Object.prototype.hasOwnProperty.call(tree, key);
+/** Query keys of a two-ranges comparison: their label takes the variable's unit. */
+const RANGE_KEYS = new Set(["aMin", "aMax", "bMin", "bMax"]);
+/** A key named nowhere is shown split into words, never as the bare key. */
+const keyInWords = (key: string) =>
+  key
+    .replace(/([a-z])([A-Z])/g, "$1 $2")
+    .replace(/_/g, " ")
+    .replace(/^./, (c) => c.toUpperCase());
+
+/** A variable or categorical key as the Parameters sheet names it (with its unit), or null for any other value. */
+const variableWords = (k: string, w: W) => {
+  const v = VARIABLES.find((x) => x.key === k);
+  if (v) {
+    const label = w.term(k, v.label);
+    return v.unit && v.unit !== "–" ? `${label} (${v.unit})` : label;
+  }
+  const categorical = CATEGORICAL_LABELS[k as CategoricalKey];
+  return categorical ? w.term(k, categorical) : null;
 };
 
 /**
- * Query keys in the screens' words, for the Parameters sheet of every workbook (a key of one report
- * only may be named under that report in PARAMETER_LABELS_BY_REPORT). A key named nowhere is shown
- * split into words, never as the bare key; add new keys here.
+ * The Parameters sheet's rows for a report's query string: labels and values in the screen's words,
+ * in the workbook's language (English unless `w` says otherwise). Add a new query key to
+ * server:report.parameters (or parametersByReport), a closed vocabulary's values to parameterValues.
  */
-export const PARAMETER_LABELS: Record<string, string> = {
-  from: "Cast from",
-  to: "Cast to (whole day)",
-  caster: "Caster",
-  strand: "Strand",
-  grade: "Grade",
-  family: "Grade family",
-  defectType: "Defect type",
-  category: "Defect category",
-  stage: "Found at",
-  minSeverity: "Severity at least",
-  cause: "Cause tag",
-  transition: "Transition slabs",
-  period: "Period",
-  variable: "Variable",
-  bins: "Bins",
-  binning: "Binning",
-  minN: "Fewest slabs",
-  x: "Across (x)",
-  y: "Up (y)",
-  xBins: "Bins across",
-  yBins: "Bins up",
-  mode: "Compare",
-  aFrom: "A (before) from",
-  aTo: "A to (whole day)",
-  bFrom: "B (after) from",
-  bTo: "B to (whole day)",
-  stratifyBy: "Compare within",
-  standardise: "Standardised to",
-  chart: "Chart",
-  baselineFrom: "Baseline from",
-  baselineTo: "Baseline to (whole day)",
-  rules: "Western Electric run rules",
-  alongBins: "Bands along the length",
-  acrossBins: "Bands across the face",
-  minConfidence: "Count taggings",
-  variables: "Conditions examined",
-  adjustFor: "Adjusted for",
-  se: "Standard errors",
-  per: "Odds ratios per",
-  rankBy: "Ranked by",
-};
-export const PARAMETER_LABELS_BY_REPORT: Record<string, Record<string, string>> = {
-  overview: { period: "Rates by" },
-  "control-chart": { period: "One point per" },
-  "rate-by-variable": { minN: "Least slabs in a bin" },
-  "process-window": { minN: "Grey cells below (slabs)" },
-};
-
-/** Values of closed vocabularies in words; variable and categorical keys become their labels (with units). */
-const PARAMETER_VALUES: Record<string, Record<string, string>> = {
-  stage: STAGE_LABELS,
-  minSeverity: Object.fromEntries(Object.entries(SEVERITY_LABELS).map(([k, v]) => [k, `${k} — ${v}`])),
-  transition: { yes: "Only transition slabs", no: "Left out" },
-  period: { day: "Day", week: "ISO week", month: "Month" },
-  binning: { equal: "Equal-width", quantile: "Quantile" },
-  mode: { periods: "Two periods", variable: "Two ranges of a variable" },
-  chart: { p: "p-chart (share of slabs affected)", laney: "Laney p′ chart", u: "u-chart (defects per slab)" },
-  rules: { on: "on", off: "off" },
-  standardise: { grade_family: "the grade-family mix of every slab in the filters" },
-  minConfidence: { suspected: "every tagging", probable: "probable or confirmed", confirmed: "confirmed only" },
-  se: { cluster: "clustered by heat (cluster-robust)", model: "model-based" },
-  per: { step: "a readable step of each condition", unit: "one unit of each condition" },
-  adjustFor: { none: "nothing" },
-  rankBy: { adjusted: "the adjusted tests (BH-adjusted p)", crude: "the crude tests (BH-adjusted p)" },
-};
-
-const variableWords = (k: string) => {
-  const v = VARIABLES.find((x) => x.key === k);
-  if (v) return v.unit && v.unit !== "–" ? `${v.label} (${v.unit})` : v.label;
-  return CATEGORICAL_LABELS[k as CategoricalKey] ?? null;
-};
-
-/** The Parameters sheet's rows for a report's query string: labels and values in the screen's words. */
-export function parameterRows(kind: string, query: string): { k: string; v: string }[] {
+export function parameterRows(kind: string, query: string, w: W = wordsIn(null)): { k: string; v: string }[] {
   const search = new URLSearchParams(query);
-  const unit = variableWords(search.get("variable") ?? "")?.match(/\(([^)]*)\)$/)?.[1];
-  const rangeLabels: Record<string, string> = { aMin: "A from", aMax: "A to", bMin: "B from", bMax: "B to" };
+  const unit = variableWords(search.get("variable") ?? "", w)?.match(/\(([^)]*)\)$/)?.[1];
   const out: { k: string; v: string }[] = [];
   for (const [key, raw] of search) {
-    const label =
-      PARAMETER_LABELS_BY_REPORT[kind]?.[key] ??
-      PARAMETER_LABELS[key] ??
-      (rangeLabels[key]
-        ? `${rangeLabels[key]}${unit ? ` (${unit})` : ""}`
-        : key
-            .replace(/([a-z])([A-Z])/g, "$1 $2")
-            .replace(/_/g, " ")
-            .replace(/^./, (c) => c.toUpperCase()));
-    const words = PARAMETER_VALUES[key];
+    const label = has(REPORT_WORDS.parametersByReport[kind], key)
+      ? w(`parametersByReport.${kind}.${key}`)
+      : has(REPORT_WORDS.parameters, key)
+        ? `${w(`parameters.${key}`)}${RANGE_KEYS.has(key) && unit ? ` (${unit})` : ""}`
+        : keyInWords(key);
+    const valueWords = (item: string) => {
+      if (key === "stage" && has(STAGE_LABELS, item)) return w.raw(`common:terms.stages.${item}`);
+      if (key === "minSeverity" && has(SEVERITY_LABELS, item))
+        return w("parameterValues.minSeverity.level", { level: item, name: w.raw(`common:terms.severities.${item}`) });
+      if (has(REPORT_WORDS.parameterValues[key], item)) return w(`parameterValues.${key}.${item}`);
+      return variableWords(item, w) ?? item;
+    };
     const value = raw
       .split(",")
       .map((item) => item.trim())
       .filter((item) => item !== "")
-      .map((item) => words?.[item] ?? variableWords(item) ?? item)
+      .map(valueWords)
       .join(", ");
-    out.push({ k: label, v: value || (key === "adjustFor" ? "nothing" : raw) });
+    out.push({ k: label, v: value || (key === "adjustFor" ? w("words.nothing") : raw) });
   }
   return out;
 }
 
-/** Keys of a report's `methods` in words (the route passes them as "key: text"). */
-export const METHOD_LABELS: Record<string, string> = {
-  bins: "Bins",
-  spearman: "Spearman ρ",
-  pointBiserial: "Point-biserial r",
-  logistic: "Logistic regression",
-  mannWhitney: "Mann–Whitney U",
-  grouping: "Grouping of values",
-  adjusted: "Adjusted model",
-  crude: "Crude model",
-  stratified: "Within strata",
-};
-const methodInWords = (line: string) =>
-  line.replace(
-    /^([A-Za-z_]+): /,
-    (_, key: string) =>
-      `${
-        METHOD_LABELS[key] ??
-        key
-          .replace(/([a-z])([A-Z])/g, "$1 $2")
-          .replace(/_/g, " ")
-          .replace(/^./, (c) => c.toUpperCase())
-      }: `,
-  );
+/** Keys of a report's `methods` in words (the route passes them as "key: text"), from server:report.methodNames. */
+const methodInWords = (line: string, w: W) =>
+  line.replace(/^([A-Za-z_]+): /, (_, key: string) => `${has(REPORT_WORDS.methodNames, key) ? w(`methodNames.${key}`) : keyInWords(key)}: `);
 
 /** Method texts and notes of a report's answer, for the Parameters sheet (besides the `methods` the route passes). */
 function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
@@ -885,13 +816,36 @@ function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
 
 /** The Parameters sheet's own item names (explanationsOf writes them in English) → their keys. */
 const EXPLANATION_KEYS: Record<string, string> = { Note: "note", Method: "method", Overdispersion: "overdispersion", Finding: "finding" };
-const REPORT_TITLE_KEYS = new Set(Object.keys(REPORT_TITLES));
+/** Report kinds with a title of their own (server:report.titles), and the cautions every workbook carries. */
+const REPORT_TITLE_KEYS = new Set(Object.keys(enServer.report.titles));
+const CAUTION_KEYS = Object.keys(enServer.report.cautions);
 
 /**
  * The words of a workbook in one language: `w("headers.slabs")` reads `server:report.headers.slabs`;
- * `w.term(key, label)` is a variable's or categorical key's name (the report's own label in English).
+ * `w.term(key, label)` is a variable's or categorical key's name (the report's own label in English);
+ * `w.inSentence(name)` is such a name inside a sentence (English lower-cases it, German keeps its
+ * noun's capital); `w.raw` reads any catalogue key.
  */
-type W = ((key: string, values?: Record<string, unknown>) => string) & { language: Language; term: (key: string, label: string) => string };
+type W = ((key: string, values?: Record<string, unknown>) => string) & {
+  language: Language;
+  term: (key: string, label: string) => string;
+  inSentence: (name: string) => string;
+  raw: (key: string, options?: Record<string, unknown>) => unknown;
+};
+
+/** A workbook's words in a language (English where none is given). */
+function wordsIn(language: Language | null): W {
+  const t = translator(language);
+  const lng: Language = language ?? "en";
+  return Object.assign((key: string, values?: Record<string, unknown>) => t(`server:report.${key}`, values ?? {}), {
+    language: lng,
+    // The report's label is the English name; other languages read the screens' names of the same key.
+    term: (key: string, label: string) =>
+      lng === "en" ? label : t(`common:terms.variables.${key}.label`, { defaultValue: t(`common:terms.categorical.${key}`, { defaultValue: label }) }),
+    inSentence: (name: string) => (lng === "de" ? name : name.toLowerCase()),
+    raw: (key: string, options?: Record<string, unknown>) => t(key, options ?? {}) as unknown,
+  });
+}
 
 export async function reportWorkbook(
   kind: string,
@@ -902,28 +856,21 @@ export async function reportWorkbook(
   language: Language | null = null,
 ): Promise<Buffer> {
   const wb = await newWorkbook(new Date());
-  const t = translator(language);
   /** The workbook's words in the asker's language (server:report.*). */
-  const lng: Language = language ?? "en";
-  const w: W = Object.assign((key: string, values?: Record<string, unknown>) => t(`server:report.${key}`, values ?? {}), {
-    language: lng,
-    // The report's label is the English name; other languages read the screens' names of the same key.
-    term: (key: string, label: string) =>
-      lng === "en" ? label : t(`common:terms.variables.${key}.label`, { defaultValue: t(`common:terms.categorical.${key}`, { defaultValue: label }) }),
-  });
+  const w = wordsIn(language);
   const { add } = addItemSheet(wb, w("sheets.parameters"), {
     item: { header: w("headers.parameter"), width: 28 },
     value: { header: w("headers.value"), width: 100 },
   });
-  add(w("items.report"), REPORT_TITLE_KEYS.has(kind) ? t(`server:report.titles.${kind}`) : kind);
+  add(w("items.report"), REPORT_TITLE_KEYS.has(kind) ? w(`titles.${kind}`) : kind);
   add(w("items.generated"), new Date().toISOString());
   add(w("items.by"), by);
-  const given = parameterRows(kind, query);
+  const given = parameterRows(kind, query, w);
   if (given.length === 0) add(w("items.filters"), w("items.noFilters"));
   for (const row of given) add(row.k, row.v);
-  for (const m of method) add(w("items.method"), methodInWords(m));
+  for (const m of method) add(w("items.method"), methodInWords(m, w));
   for (const row of explanationsOf(kind, result)) add(EXPLANATION_KEYS[row.k] ? w(`items.${EXPLANATION_KEYS[row.k]}`) : row.k, row.v);
-  CAUTIONS.forEach((_, i) => add(w("items.caution"), w(`cautions.${i}`)));
+  CAUTION_KEYS.forEach((i) => add(w("items.caution"), w(`cautions.${i}`)));
 
   let floored = 0;
   const look: TableLook<Col> = {

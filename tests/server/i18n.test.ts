@@ -40,6 +40,8 @@ const SAME_IN_GERMAN = [
   "claims.traceChain.coil",
   "common.band.offline",
   "heats.chemistry.element",
+  // "Status → {{status}}": the claim screen reads the status key out of it (as claims.claimHistory.statusTo).
+  "audit.claimHistory.status",
   // "Separation: {{why}}" — the statistical term is the same word in German.
   "methods.adjusted.separation",
   "process.causes.editor.code",

@@ -207,6 +207,123 @@ describe("the server's words in the reader's language", () => {
     expect(wb.getWorksheet("Parameters")!.getRow(2).values).toEqual([undefined, "Report", "Overview"]);
     expect(wb.getWorksheet("By period")).toBeDefined();
   });
+
+  const workbookOf = async (agent: Awaited<ReturnType<TestApp["agentFor"]>>, url: string) => {
+    const res = await agent.get(url).buffer(true).parse(binary);
+    expect(res.status).toBe(200);
+    const wb = new ExcelJS.Workbook();
+    await wb.xlsx.load(res.body as never);
+    return wb;
+  };
+  /** Column `col` of a sheet, from row 2 down (the header row left out). */
+  const column = (ws: ExcelJS.Worksheet | undefined, col: number) => {
+    expect(ws).toBeDefined();
+    const out: unknown[] = [];
+    ws!.eachRow((row, i) => void (i > 1 && out.push(row.getCell(col).value)));
+    return out;
+  };
+
+  it("when a German user exports the adjusted model and a before-after within grade families, then the item labels and words in the cells are German, numbers still numbers; English word for word as before", async () => {
+    const adjusted = "/api/reports/adjusted.xlsx?defectType=SLG&variables=casting_speed_m_min,mold_level_sd_mm&adjustFor=grade_family";
+    const beforeAfter =
+      "/api/reports/before-after.xlsx?mode=variable&variable=casting_speed_m_min&aMin=1&aMax=1.5&bMin=1.51&bMax=2&defectType=SLG&stratifyBy=grade_family";
+    const quality = await t.agentFor("quality");
+    await speaks(quality, "de");
+    try {
+      const adj = await workbookOf(quality, adjusted);
+      const model = adj.getWorksheet("Modell");
+      expect(column(model, 1).slice(0, 7)).toEqual([
+        "Brammen im Modell",
+        "Betroffene Brammen",
+        "Schmelzen",
+        "Brammen in den Filtern",
+        "Ausgelassene Brammen (ein Wert fehlt)",
+        "Koeffizienten (mit Achsenabschnitt)",
+        "Devianz",
+      ]);
+      expect(typeof model!.getRow(2).getCell(2).value).toBe("number");
+      expect(column(adj.getWorksheet("Testergebnisse"), 2)).toEqual(expect.arrayContaining(["untersucht", "adjustiert für"]));
+      const params = adj.getWorksheet("Kenngrößen")!;
+      const items = column(params, 1);
+      expect(items).toContain("Fehlerart");
+      expect(items).toContain("Adjustiert für");
+      expect(column(params, 2)[items.indexOf("Adjustiert für")]).toBe("Güteklasse");
+
+      const ba = await workbookOf(quality, beforeAfter);
+      const pooled = ba.getWorksheet("Über Strata gepoolt");
+      expect(column(pooled, 1)).toEqual([
+        "Rohe Odds Ratio B gegen A (Strata nicht berücksichtigt)",
+        "Mantel-Haenszel-Odds-Ratio B gegen A, innerhalb Güteklasse",
+        "Breslow-Day-Test auf eine gemeinsame Odds Ratio in allen Strata",
+        "Standardisierte Quote A",
+        "Standardisierte Quote B",
+        "Standardisierte Quote B − A",
+      ]);
+      expect(typeof pooled!.getRow(2).getCell(2).value).toBe("number");
+      expect(String(pooled!.getRow(7).getCell(8).value)).toMatch(/^Referenzmix: /);
+      expect(column(ba.getWorksheet("Kenngrößen"), 1)).toEqual(expect.arrayContaining(["Vergleich", "Vergleich innerhalb", "A von (m/min)"]));
+    } finally {
+      await speaks(quality, null);
+    }
+    const adj = await workbookOf(quality, adjusted);
+    expect(column(adj.getWorksheet("Model"), 1).slice(0, 7)).toEqual([
+      "Slabs in the model",
+      "Affected slabs",
+      "Heats",
+      "Slabs in the filters",
+      "Slabs left out (a value missing)",
+      "Coefficients (with the intercept)",
+      "Deviance",
+    ]);
+    const ba = await workbookOf(quality, beforeAfter);
+    expect(column(ba.getWorksheet("Pooled over strata"), 1)).toEqual([
+      "Crude odds ratio B against A (strata ignored)",
+      "Mantel–Haenszel odds ratio B against A, within grade family",
+      "Breslow–Day test of one odds ratio in every stratum",
+      "Standardised rate A",
+      "Standardised rate B",
+      "Standardised rate B − A",
+    ]);
+    expect(column(ba.getWorksheet("Parameters"), 1)).toEqual(expect.arrayContaining(["Compare", "Compare within", "A from (m/min)"]));
+  }, 60_000);
+
+  it("when a German claims officer reads a claim's history, then its lines are German (the status as its key, for the screen to name); English as before", async () => {
+    const claims = await t.agentFor("claims");
+    const slabs = (t.db.$client.prepare("select slab_id from slabs order by id desc limit 2").pluck().all() as string[]).reverse();
+    const created = await claims
+      .post("/api/claims")
+      .set("Origin", O())
+      .send({ claimNo: "CL-LANG-1", customer: "Invented Buyer (demo)", receivedOn: "2026-11-28", defectComplained: "Slivers" });
+    expect(created.status).toBe(201);
+    const id = created.body.id as number;
+    expect((await claims.post(`/api/claims/${id}/slabs`).set("Origin", O()).send({ slabIds: slabs })).status).toBe(200);
+    expect((await claims.patch(`/api/claims/${id}`).set("Origin", O()).send({ status: "under_review" })).status).toBe(200);
+    expect((await claims.delete(`/api/claims/${id}/slabs/${slabs[1]}`).set("Origin", O())).status).toBe(200);
+    const heat = one("select h.heat_no from slabs s join heats h on h.id = s.heat_id where s.slab_id = ?", slabs[0]).heat_no as string;
+    const details = (body: { history: { detail: string | null }[] }) => body.history.map((h) => h.detail).filter((d) => d !== null);
+    await speaks(claims, "de");
+    try {
+      const sent = await claims
+        .post(`/api/claims/${id}/send-history`)
+        .set("Origin", O())
+        .send({ heatNo: heat, to: ["buyer@example.test"], edition: "internal" });
+      expect(sent.status).toBe(202);
+      expect(details(sent.body.claim)).toEqual([
+        "2 Brammen verknüpft",
+        "Status → under_review",
+        `Verknüpfung mit Bramme ${slabs[1]} gelöst`,
+        `Historie der Schmelze ${heat} (interne Ausgabe) für den E-Mail-Versand an buyer@example.test bereitgestellt`,
+      ]);
+    } finally {
+      await speaks(claims, null);
+    }
+    expect(details((await claims.get(`/api/claims/${id}`)).body)).toEqual([
+      "2 slab(s) linked",
+      "Status → under_review",
+      `Slab ${slabs[1]} unlinked`,
+      `Heat ${heat} history (internal edition) queued for e-mail to buyer@example.test`,
+    ]);
+  });
 });
 
 describe("refusals made in the import, report and risk code, in the requester's language", () => {
@@ -334,6 +451,37 @@ describe("refusals made in the import, report and risk code, in the requester's 
     const english = await quality.post("/api/risk-models").set("Origin", O()).send(spec);
     expect(english.body.error).toMatchObject({ code: "unknown_target", message: "There is no defect category with the code NO-SUCH." });
   });
+
+  it("when a German user trains a risk model on a window without judged slabs, then the training thread's 422 is German; English as before", async () => {
+    const quality = await t.agentFor("quality");
+    // A window long before the demo plant's first cast: not one judged slab in it.
+    const spec = {
+      targetKind: "type",
+      targetCode: "SLG",
+      conditions: ["casting_speed_m_min"],
+      categories: ["grade_family"],
+      knots: 4,
+      from: "2001-01-01",
+      to: "2001-01-31",
+    };
+    await speaks(quality, "de");
+    try {
+      const german = await quality.post("/api/risk-models").set("Origin", O()).send(spec);
+      expect(german.status).toBe(422);
+      expect(german.body.error).toMatchObject({
+        code: "too_little_data",
+        message: "Nur 0 beurteilte Brammen im Trainingszeitraum (mindestens 200 sind nötig). Erweitern Sie den Zeitraum.",
+      });
+    } finally {
+      await speaks(quality, null);
+    }
+    const english = await quality.post("/api/risk-models").set("Origin", O()).send(spec);
+    expect(english.status).toBe(422);
+    expect(english.body.error).toMatchObject({
+      code: "too_little_data",
+      message: "Only 0 judged slabs in the training window (at least 200 are needed). Widen the window.",
+    });
+  }, 60_000);
 
   it("when a sign-in request names a link outside the app, then better-auth's refusal as our code words it is in the browser's language", async () => {
     const ask = (language?: string) => {

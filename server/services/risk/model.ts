@@ -88,7 +88,8 @@ export interface TrainOptions {
   folds?: number;
   lambdas?: number[];
   /** Called with a fraction 0–1 as training goes. */
-  progress?: (fraction: number, what: string) => void;
+  /** `what` in English (for logs), `words` as a key of server:risk.progress with its numbers (for the screen, in the asker's language). */
+  progress?: (fraction: number, what: string, words: { key: string; values?: Record<string, number> }) => void;
 }
 
 export interface TrainedModel {
@@ -256,7 +257,7 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
       if (fit.converged) start = fit.coefficients;
       const d = deviance(fit, cols, outcome, scoreRows);
       if (d !== null) foldDeviance.set(lambda, [...(foldDeviance.get(lambda) ?? []), d]);
-      progress(++step / steps, `choosing the penalty: fold ${f + 1} of ${folds}`);
+      progress(++step / steps, `choosing the penalty: fold ${f + 1} of ${folds}`, { key: "fold", values: { fold: f + 1, folds } });
     }
   }
   for (const lambda of lambdas) {
@@ -274,7 +275,7 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
     size,
   );
   const fit = penalisedLogistic(cols, outcome, Int32Array.from(train), { lambda });
-  progress(1, "validating on the newest slabs");
+  progress(1, "validating on the newest slabs", { key: "validating" });
   const terms: ModelTerms = { ...layout, coefficients: fit.coefficients };
 
   // Test part: the model and the baseline on the same slabs.

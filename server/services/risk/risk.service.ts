@@ -31,9 +31,10 @@ import {
 import { YARD_UNINSPECTED_MAX_DAYS } from "@shared/api/yard";
 import { bandOf } from "./bands";
 import { categoryName, scoreTerms, trainRiskModel, type ModelTerms, type TrainedModel } from "./model";
-import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
+import type { FromTrainThread, ProgressWords, TrainThreadData } from "./train-thread-protocol";
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData, slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
-import { dec, named, say } from "../../lib/words";
+import { currentLanguage, dec, named, say } from "../../lib/words";
+import { translator } from "../../lib/i18n";
 
 const DAY = 86_400_000;
 /** A training that has not finished after this long is stopped (a million slabs take ≈ 20 s). */
@@ -169,6 +170,9 @@ export async function trainRiskModelVersion(
     to: body.to ? Date.parse(`${body.to}T23:59:59.999Z`) : undefined,
   };
   training.add(file);
+  // The progress is said in the language of the request that started the training (it shows on the list of models).
+  const t = translator(currentLanguage());
+  const progressText = (what: string, words?: ProgressWords) => (words ? t(`server:risk.progress.${words.key}`, words.values ?? {}) : what);
   let id: number;
   try {
     id = db.$client.transaction(() => {
@@ -178,9 +182,9 @@ export async function trainRiskModelVersion(
       return Number(
         db.$client
           .prepare(
-            "insert into risk_models (target_kind, target_code, version, spec, status, progress, progress_text, trained_by, trained_by_name) values (?, ?, ?, ?, 'training', 0, 'starting', ?, ?)",
+            "insert into risk_models (target_kind, target_code, version, spec, status, progress, progress_text, trained_by, trained_by_name) values (?, ?, ?, ?, 'training', 0, ?, ?, ?)",
           )
-          .run(kind, code, version, JSON.stringify(spec), user.id, user.name).lastInsertRowid,
+          .run(kind, code, version, JSON.stringify(spec), progressText("starting", { key: "starting" }), user.id, user.name).lastInsertRowid,
       );
     })();
   } catch (err) {
@@ -188,8 +192,10 @@ export async function trainRiskModelVersion(
     throw err;
   }
   try {
-    const outcome = await runTrainingThread({ databaseFile: file, spec, asOf: opts.asOf ?? Date.now(), nice: opts.nice ?? 10 }, (fraction, what) => {
-      db.$client.prepare("update risk_models set progress = ?, progress_text = ? where id = ? and status = 'training'").run(Math.min(1, fraction), what, id);
+    const outcome = await runTrainingThread({ databaseFile: file, spec, asOf: opts.asOf ?? Date.now(), nice: opts.nice ?? 10 }, (fraction, what, words) => {
+      db.$client
+        .prepare("update risk_models set progress = ?, progress_text = ? where id = ? and status = 'training'")
+        .run(Math.min(1, fraction), progressText(what, words), id);
     });
     if (outcome.type === "done") {
       storeTrained(db, id, spec, outcome.model, outcome.slabs, { userId: user.id });
@@ -197,7 +203,7 @@ export async function trainRiskModelVersion(
     }
     const message = outcome.type === "refused" ? outcome.message : `Training failed: ${outcome.message}`;
     db.$client.prepare("update risk_models set status = 'failed', progress_text = null, error = ?, finished_at = ? where id = ?").run(message, Date.now(), id);
-    if (outcome.type === "refused") throw new HttpError(422, "too_little_data", message, { modelId: id });
+    if (outcome.type === "refused") throw new HttpError(422, "too_little_data", outcome.said, { modelId: id });
     opts.logger?.error({ err: outcome }, "risk model training failed");
     throw new HttpError(500, "training_failed", said("risk.trainingFailed", { message }), {
       modelId: id,
@@ -293,7 +299,10 @@ export function seedRiskModels(db: Db, trainedBy: { id: string; name: string }, 
   return made;
 }
 
-function runTrainingThread(data: TrainThreadData, progress: (fraction: number, what: string) => void): Promise<Exclude<FromTrainThread, { type: "progress" }>> {
+function runTrainingThread(
+  data: TrainThreadData,
+  progress: (fraction: number, what: string, words?: ProgressWords) => void,
+): Promise<Exclude<FromTrainThread, { type: "progress" }>> {
   return new Promise((resolve) => {
     const w = new Worker(threadEntry("risk-train.js", "./train-thread-entry.mjs", import.meta.url), {
       workerData: data,
@@ -316,7 +325,7 @@ function runTrainingThread(data: TrainThreadData, progress: (fraction: number, w
         const now = Date.now();
         if (now - lastProgress >= 200) {
           lastProgress = now;
-          progress(m.fraction, m.what);
+          progress(m.fraction, m.what, m.words);
         }
       } else settle(m);
     });

@@ -7,37 +7,36 @@
  */
 import { parentPort, workerData } from "node:worker_threads";
 import { openDatabase } from "../../db/client";
+import { said, sayIn, type Said } from "../../lib/http-error";
 import { lowerThisThreadPriority } from "../../lib/thread-priority";
 import { trainRiskModel } from "./model";
-import type { FromTrainThread, TrainThreadData } from "./train-thread-protocol";
+import type { FromTrainThread, ProgressWords, TrainThreadData } from "./train-thread-protocol";
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData } from "./training-data";
 
 const data = workerData as TrainThreadData;
 const send = (m: FromTrainThread) => parentPort!.postMessage(m);
+/** A refusal: its English (from the English catalogue: this thread has no translator) and its Said. */
+const refuse = (s: Said) => send({ type: "refused", message: sayIn(s, "en"), said: s });
+/** Progress in English (for logs) and as a key of server:risk.progress (for the screen). */
+const progress = (fraction: number, what: string, words?: ProgressWords) => send({ type: "progress", fraction, what, ...(words ? { words } : {}) });
 
 lowerThisThreadPriority(data.nice);
 
 const db = openDatabase(data.databaseFile);
 try {
-  send({ type: "progress", fraction: 0.02, what: "reading the slabs" });
+  progress(0.02, "reading the slabs", { key: "reading" });
   const td = readTrainingData(db.$client, data.spec, data.asOf);
   let affected = 0;
   for (let i = 0; i < td.outcome.length; i++) affected += td.outcome[i]!;
   if (td.known < MIN_JUDGED_SLABS) {
-    send({ type: "refused", message: `Only ${td.known} judged slabs in the training window (at least ${MIN_JUDGED_SLABS} are needed). Widen the window.` });
+    refuse(said("risk.tooFewJudged", { known: td.known, min: MIN_JUDGED_SLABS }));
   } else if (affected < MIN_AFFECTED_SLABS) {
-    send({
-      type: "refused",
-      message: `Only ${affected} of the ${td.known} judged slabs in the window carry this defect (at least ${MIN_AFFECTED_SLABS} are needed to learn and to validate). Widen the window or choose a category.`,
-    });
+    refuse(said("risk.tooFewAffected", { affected, known: td.known, min: MIN_AFFECTED_SLABS }));
   } else {
-    send({ type: "progress", fraction: 0.1, what: "choosing the penalty" });
-    const model = trainRiskModel(td, { knots: data.spec.knots, progress: (f, what) => send({ type: "progress", fraction: 0.1 + 0.88 * f, what }) });
-    if (!model.converged)
-      send({
-        type: "refused",
-        message: `The model could not be fitted on these slabs. ${model.validation.notes.join(" ")} Choose fewer conditions or a longer window.`,
-      });
+    progress(0.1, "choosing the penalty", { key: "penalty" });
+    const model = trainRiskModel(td, { knots: data.spec.knots, progress: (f, what, words) => progress(0.1 + 0.88 * f, what, words) });
+    // The validation's notes come from model.ts in English: they go into the sentence as they are.
+    if (!model.converged) refuse(said("risk.notFitted", { notes: model.validation.notes.join(" ") }));
     else
       send({
         type: "done",
