@@ -278,6 +278,8 @@ export function createApp(opts: AppOptions) {
       res.setHeader("Cache-Control", "no-cache");
       res.vary("Accept-Encoding");
       res.vary("Cookie");
+      // Which catalogues the page names follows the browser's languages for someone signed out.
+      res.vary("Accept-Language");
       if (encoding) res.setHeader("Content-Encoding", encoding);
       // send() answers 304 to a browser holding this very page (ETag), and no body to HEAD.
       res.send(encoding === "br" ? page.br : encoding === "gzip" ? page.gzip : page.html);

@@ -136,9 +136,11 @@ export function createScreenPages(clientDist: string) {
         built = now;
       }
       const charts = !!screen.report && mayReadReports;
-      const key = `${inFrame ? "frame:" : ""}${screen.module}${charts ? "+charts" : ""}:${language}`;
+      // German names German catalogues; English and the pseudo-locale (made from English in the browser) the same page.
+      const catalogues = language === "de" ? "de" : "en";
+      const key = `${inFrame ? "frame:" : ""}${screen.module}${charts ? "+charts" : ""}:${catalogues}`;
       let page = pages.get(key);
-      if (!page) pages.set(key, (page = build(screen, inFrame, charts, language)));
+      if (!page) pages.set(key, (page = build(screen, inFrame, charts, catalogues)));
       return page;
     },
   };

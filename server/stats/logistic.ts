@@ -98,11 +98,7 @@ export function logisticRegression(rows: LogisticRow[], confidence = 0.95, maxIt
   }
   const cov = choleskyInverse(info);
   if (!cov || !converged) {
-    return notFitted(
-      ybar <= 0 || ybar >= 1 ? say("stats.logistic.constantOutcome") : "IRLS did not converge (the outcome may be perfectly separated by the variable)",
-      iterations,
-      deviance,
-    );
+    return notFitted(ybar <= 0 || ybar >= 1 ? say("stats.logistic.constantOutcome") : say("stats.logistic.notConverged"), iterations, deviance);
   }
   // Back to the original scale: b0 = a0 − Σ bⱼ mⱼ, Var(b0) = cᵀ Σ c with c = (1, −m₁, …).
   const c = [1, ...means.map((m) => -m)];

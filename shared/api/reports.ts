@@ -70,10 +70,10 @@ export function termLabel(key: string): string {
   return VARIABLES.find((v) => v.key === key)?.label ?? CATEGORICAL_LABELS[key as CategoricalKey] ?? key;
 }
 
-/** A label inside a sentence: "Casting speed" → "casting speed"; "EMBr current", "SEN depth" stay as they are. */
 /** Under this many affected slabs a report warns that its tests have little power (and says so as its last note). */
 export const SMALL_AFFECTED = 10;
 
+/** A label inside a sentence: "Casting speed" → "casting speed"; "EMBr current", "SEN depth" stay as they are. */
 export const inSentence = (label: string) => (/^[A-Z][a-z]/.test(label) ? label[0]!.toLowerCase() + label.slice(1) : label);
 
 /**

@@ -86,20 +86,24 @@ describe("the screens in the person's language (the catalogues so far: sign-in, 
     const context = await env.browser.newContext({ viewport: TABLET, locale: "en-GB" });
     const page = await context.newPage();
     const errors = collectPageErrors(page);
-    await signInAs(page, env.server.baseUrl, "quality", TEST_PASSWORD);
-    await page.goto(`${env.server.baseUrl}/reports/screening?defectType=SLG`);
-    await page
-      .getByText(/Screening shows association, not cause/)
-      .first()
-      .waitFor({ timeout: 60_000 });
-    await page.getByLabel("Language").selectOption("de");
-    await page
-      .getByText(/Das Screening zeigt Zusammenhang, keine Ursache/)
-      .first()
-      .waitFor({ timeout: 60_000 });
-    await expect.poll(() => page.getByText(/Screening shows association, not cause/).count(), { timeout: 15_000 }).toBe(0);
-    env.server.db.$client.prepare("update user set language = null where email = 'quality@demo.test'").run();
-    expect(errors).toEqual([]);
-    await context.close();
+    try {
+      await signInAs(page, env.server.baseUrl, "quality", TEST_PASSWORD);
+      await page.goto(`${env.server.baseUrl}/reports/screening?defectType=SLG`);
+      await page
+        .getByText(/Screening shows association, not cause/)
+        .first()
+        .waitFor({ timeout: 60_000 });
+      await page.getByLabel("Language").selectOption("de");
+      await page
+        .getByText(/Das Screening zeigt Zusammenhang, keine Ursache/)
+        .first()
+        .waitFor({ timeout: 60_000 });
+      await expect.poll(() => page.getByText(/Screening shows association, not cause/).count(), { timeout: 15_000 }).toBe(0);
+      expect(errors).toEqual([]);
+    } finally {
+      // Whatever happened above, the quality engineer reads English again in the tests after this one.
+      env.server.db.$client.prepare("update user set language = null where email = 'quality@demo.test'").run();
+      await context.close();
+    }
   }, 120_000);
 });

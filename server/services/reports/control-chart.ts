@@ -123,7 +123,8 @@ export function controlChart(db: Db, q: Query): ControlChart {
   const notes: string[] = [];
   if (baseline) {
     if (q.period === "week") notes.push(say("chart.byWeek", { first: String(baseline.firstPeriod), last: String(baseline.lastPeriod) }));
-    notes.push(...chart.notes.filter((n) => !n.startsWith("σ_z")));
+    // The p′ chart's only note is its σ_z, which the overdispersion line below says (in every language).
+    if (q.chart !== "laney") notes.push(...chart.notes);
   }
 
   // Overdispersion: Laney's σ_z and the chi-square test of equal shares over the baseline periods.

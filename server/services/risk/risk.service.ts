@@ -422,7 +422,8 @@ const short = (x: number) => Number(x.toPrecision(6));
 function expandReasons(terms: ModelTerms, stored: unknown): RiskReason[] {
   if (!Array.isArray(stored)) return [];
   return stored.map((r: StoredReason | RiskReason) => {
-    if (!Array.isArray(r)) return r;
+    // Older rows hold them in full, their words in English: said again in the reader's language.
+    if (!Array.isArray(r)) return { ...r, text: reasonText(r, terms) };
     const [key, value, contribution] = r;
     const num = terms.numeric.find((v) => v.key === key);
     const cat = num ? undefined : terms.categorical.find((c) => c.key === key);
