@@ -481,6 +481,13 @@ describe("refusals made in the import, report and risk code, in the requester's 
       code: "too_little_data",
       message: "Only 0 judged slabs in the training window (at least 200 are needed). Widen the window.",
     });
+    // The failed versions keep why, each said in the reader's language on the list of models.
+    const listed = async (language: string) =>
+      ((await quality.get("/api/risk-models").set("Accept-Language", language)).body.items as { id: number; error: string | null }[]).filter(
+        (m) => m.id === english.body.error.details.modelId,
+      )[0]?.error;
+    expect(await listed("de")).toBe("Nur 0 beurteilte Brammen im Trainingszeitraum (mindestens 200 sind nötig). Erweitern Sie den Zeitraum.");
+    expect(await listed("en")).toBe("Only 0 judged slabs in the training window (at least 200 are needed). Widen the window.");
   }, 60_000);
 
   it("when a sign-in request names a link outside the app, then better-auth's refusal as our code words it is in the browser's language", async () => {

@@ -14,7 +14,7 @@
 import { Worker } from "node:worker_threads";
 import type { Db } from "../../db/client";
 import { databaseIdOf } from "../../db/identity";
-import { HttpError, said } from "../../lib/http-error";
+import { HttpError, said, sayIn } from "../../lib/http-error";
 import type { Logger } from "../../lib/logger";
 import { threadEntry } from "../../lib/paths";
 import { recordAudit } from "../audit.service";
@@ -35,6 +35,22 @@ import type { FromTrainThread, ProgressWords, TrainThreadData } from "./train-th
 import { MIN_AFFECTED_SLABS, MIN_JUDGED_SLABS, readTrainingData, slabInputs, type RiskCategory, type RiskSpec } from "./training-data";
 import { currentLanguage, dec, named, say } from "../../lib/words";
 import { translator } from "../../lib/i18n";
+
+/**
+ * A text stored with a model — its progress, why it failed — as a catalogue key and its values
+ * (`{"key":…,"values":…}`), said when read in the reader's language. A row written before holds its
+ * English words: shown as they are.
+ */
+const storeWords = (key: string, values: Record<string, string | number> = {}) => JSON.stringify({ key, values });
+function storedWords(text: string | null): string | null {
+  if (!text?.startsWith('{"key":')) return text;
+  try {
+    const { key, values } = JSON.parse(text) as { key: string; values: Record<string, string | number> };
+    return translator(currentLanguage())(key, values);
+  } catch {
+    return text;
+  }
+}
 
 const DAY = 86_400_000;
 /** A training that has not finished after this long is stopped (a million slabs take ≈ 20 s). */
@@ -92,8 +108,8 @@ function toModel(db: Db, r: Row, withTerms: boolean): RiskModel {
     version: r.version,
     status: r.status,
     progress: r.progress,
-    progressText: r.progress_text,
-    error: r.error,
+    progressText: storedWords(r.progress_text),
+    error: storedWords(r.error),
     conditions: spec.conditions.map((k) => ({ key: k, label: variable(k)?.label ?? k, unit: variable(k)?.unit ?? null })),
     categories: spec.categories.map((k) => ({ key: k, label: RISK_CATEGORY_LABELS[k] })),
     knots: spec.knots,
@@ -170,9 +186,8 @@ export async function trainRiskModelVersion(
     to: body.to ? Date.parse(`${body.to}T23:59:59.999Z`) : undefined,
   };
   training.add(file);
-  // The progress is said in the language of the request that started the training (it shows on the list of models).
-  const t = translator(currentLanguage());
-  const progressText = (what: string, words?: ProgressWords) => (words ? t(`server:risk.progress.${words.key}`, words.values ?? {}) : what);
+  // The progress is stored as its catalogue key, and said in each reader's language on the list of models.
+  const progressText = (what: string, words?: ProgressWords) => (words ? storeWords(`server:risk.progress.${words.key}`, words.values) : what);
   let id: number;
   try {
     id = db.$client.transaction(() => {
@@ -201,11 +216,14 @@ export async function trainRiskModelVersion(
       storeTrained(db, id, spec, outcome.model, outcome.slabs, { userId: user.id });
       return getRiskModel(db, id);
     }
-    const message = outcome.type === "refused" ? outcome.message : `Training failed: ${outcome.message}`;
-    db.$client.prepare("update risk_models set status = 'failed', progress_text = null, error = ?, finished_at = ? where id = ?").run(message, Date.now(), id);
+    // Why, stored as its catalogue key (said in each reader's language on the list); a failure's own detail stays as the thread wrote it.
+    const why = outcome.type === "refused" ? outcome.said : said("risk.failedBecause", { detail: outcome.message });
+    db.$client
+      .prepare("update risk_models set status = 'failed', progress_text = null, error = ?, finished_at = ? where id = ?")
+      .run(storeWords(`server:errors.${why.key}`, why.values as Record<string, string | number>), Date.now(), id);
     if (outcome.type === "refused") throw new HttpError(422, "too_little_data", outcome.said, { modelId: id });
     opts.logger?.error({ err: outcome }, "risk model training failed");
-    throw new HttpError(500, "training_failed", said("risk.trainingFailed", { message }), {
+    throw new HttpError(500, "training_failed", said("risk.trainingFailed", { message: sayIn(why, currentLanguage()) }), {
       modelId: id,
     });
   } finally {
