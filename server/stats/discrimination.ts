@@ -17,6 +17,7 @@
  * Written here: no maintained npm package computes DeLong's variance or the calibration hierarchy.
  */
 import { normalQuantileOf } from "./distributions";
+import { say } from "../lib/words";
 
 export interface Scored {
   /** Predicted risk in (0, 1). */
@@ -58,7 +59,7 @@ export function aucDeLong({ risk, outcome }: Scored, confidence = 0.95): AucResu
   for (let i = 0; i < risk.length; i++) (outcome[i] ? pos : neg).push(risk[i]!);
   const m = pos.length;
   const n = neg.length;
-  const method = `ROC AUC (Mann–Whitney, ties ½) with DeLong's variance; ${Math.round(confidence * 100)} % interval AUC ± z·SE, cut at 0 and 1`;
+  const method = say("stats.auc.method", { level: Math.round(confidence * 100) });
   if (m === 0 || n === 0) {
     return {
       auc: null,
@@ -68,7 +69,7 @@ export function aucDeLong({ risk, outcome }: Scored, confidence = 0.95): AucResu
       positives: m,
       negatives: n,
       method,
-      reason: m === 0 ? "no slab carried the defect" : "every slab carried the defect",
+      reason: say(m === 0 ? "stats.auc.noneAffected" : "stats.auc.allAffected"),
     };
   }
   const all = midranks([...pos, ...neg]);
@@ -92,7 +93,7 @@ export function aucDeLong({ risk, outcome }: Scored, confidence = 0.95): AucResu
       positives: m,
       negatives: n,
       method,
-      reason: "DeLong's variance needs at least two slabs with and two without the defect",
+      reason: say("stats.auc.tooFew"),
     };
   }
   let s10 = 0;
@@ -128,8 +129,7 @@ export interface Calibration {
  * Newton–Raphson to 1e−10. Risks of exactly 0 or 1 are moved in by 1e−12 (their logit is infinite).
  */
 export function calibration({ risk, outcome }: Scored): Calibration {
-  const method =
-    "calibration intercept: logistic regression of the outcome with logit(risk) as offset; slope: coefficient of logit(risk) (Cox 1958; Van Calster et al. 2019)";
+  const method = say("stats.cal.method");
   const n = risk.length;
   let events = 0;
   for (let i = 0; i < n; i++) events += outcome[i]! ? 1 : 0;
@@ -138,7 +138,7 @@ export function calibration({ risk, outcome }: Scored): Calibration {
       intercept: null,
       slope: null,
       method,
-      reason: n === 0 ? "no slabs" : events === 0 ? "no slab carried the defect" : "every slab carried the defect",
+      reason: say(n === 0 ? "stats.cal.noSlabs" : events === 0 ? "stats.auc.noneAffected" : "stats.auc.allAffected"),
     };
   }
   const lp = new Float64Array(n);
@@ -201,12 +201,7 @@ export function calibration({ risk, outcome }: Scored): Calibration {
     }
   }
   const slope = converged ? b1 : null;
-  const reason =
-    intercept === null || slope === null
-      ? lpSpread
-        ? "the calibration fit did not converge (outcomes separated by risk)"
-        : "every slab has the same risk: no slope"
-      : undefined;
+  const reason = intercept === null || slope === null ? (lpSpread ? say("stats.cal.notConverged") : say("stats.cal.sameRisk")) : undefined;
   return { intercept, slope, method, ...(reason ? { reason } : {}) };
 }
 

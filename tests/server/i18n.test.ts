@@ -44,6 +44,8 @@ const SAME_IN_GERMAN = [
   "audit.claimHistory.status",
   // "Separation: {{why}}" — the statistical term is the same word in German.
   "methods.adjusted.separation",
+  // "AUC: {{why}}." — the abbreviation is the same in German.
+  "methods.riskModel.auc",
   "process.causes.editor.code",
   "process.causes.editor.name",
   "process.investigations.table.status",

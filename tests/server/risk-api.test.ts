@@ -84,6 +84,20 @@ describe("risk models over HTTP", () => {
     expect(m.trainedByName).toBeTruthy();
   }, 120_000);
 
+  it("when a German reader opens the trained version, then its method is said in German, and an English reader reads the English stored with it, figures the same", async () => {
+    const german = await quality.get(`/api/risk-models/${modelId}`).set("Accept-Language", "de");
+    const english = await quality.get(`/api/risk-models/${modelId}`).set("Accept-Language", "en");
+    expect(german.status).toBe(200);
+    expect(german.body.method).toMatch(/^Penalisierte logistische Regression \(Ridge auf den Spaltenvarianzen, λ = [\d,]+ gewählt durch 3-fache/);
+    expect(german.body.method).toContain("ROC-AUC (Mann–Whitney, Bindungen ½) mit DeLongs Varianz; 95-%-Intervall");
+    expect(english.body.method).toMatch(/^Penalised logistic regression \(ridge on column variances, λ = [\d.]+ chosen by 3-fold rolling-origin/);
+    expect(english.body.method).toContain("ROC AUC (Mann–Whitney, ties ½) with DeLong's variance; 95 % interval AUC ± z·SE, cut at 0 and 1");
+    expect(german.body.validation.auc).toBe(english.body.validation.auc);
+    // The other languages' words ride in the stored validation, never in the answer.
+    expect(german.body.validation).not.toHaveProperty("words");
+    expect(english.body.validation).not.toHaveProperty("words");
+  });
+
   it("when the models are listed and one is opened, then the list shows it without coefficients and the version with them", async () => {
     const list = await quality.get("/api/risk-models");
     expect(list.status).toBe(200);

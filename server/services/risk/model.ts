@@ -17,6 +17,8 @@
  *   training median, every category at its reference level), term by term: the contribution of a
  *   condition is the change in log-odds its terms make between the typical slab and this one.
  */
+import { LANGUAGES, type Language } from "@shared/i18n/languages";
+import { named, num, say, speakingIn } from "../../lib/words";
 import { aucDeLong, brierScore, calibration, captureAtTop, reliability, type ReliabilityPoint } from "../../stats/discrimination";
 import { logistic, penalisedLogistic, type PenalisedFit } from "../../stats/penalised-logistic";
 import { quantileSorted, splineKnots, splineTerms } from "../../stats/splines";
@@ -76,7 +78,15 @@ export interface Validation {
   reliability: ReliabilityPoint[];
   /** From when the test part runs (the time split), epoch ms. */
   splitAt: number | null;
-  /** Why a figure is null, in words. */
+  /** Why a figure is null, in words (English). */
+  notes: string[];
+  /** The method and notes said in the other languages, made when trained (the reader's is shown; risk.service.ts). */
+  words?: Partial<Record<Language, ModelWords>>;
+}
+
+/** What a trained model says in words: how it was made and validated, and why a figure is missing. */
+export interface ModelWords {
+  method: string;
   notes: string[];
 }
 
@@ -303,14 +313,33 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
     const r = famRate.get(data.family[i]!);
     return r && r[1] > 0 ? r[0] / r[1] : overall;
   });
-  const notes: string[] = flat.map((v) => `${v.label} was left out: it has one value (or none) in the training slabs.`);
   const scored = { risk, outcome: out };
   const auc = fit.converged ? aucDeLong(scored) : null;
   const base = aucDeLong({ risk: baseline, outcome: out });
   const cal = fit.converged ? calibration(scored) : null;
-  if (!fit.converged) notes.push(`The model could not be fitted: ${fit.method.split(": not fitted — ")[1] ?? "no convergence"}.`);
-  if (auc?.reason) notes.push(`AUC: ${auc.reason}.`);
-  if (cal?.reason) notes.push(`Calibration: ${cal.reason}.`);
+  // The words, said in the current language: the AUC's and calibration's own words are asked for
+  // again (a pass over the test slabs), so each language gets them whole. English is the one stored
+  // in `method` and `notes`; the others ride in `validation.words`.
+  const wordsNow = (): ModelWords => {
+    const a = fit.converged ? aucDeLong(scored) : null;
+    const c = fit.converged ? calibration(scored) : null;
+    const notes = flat.map((v) => say("riskModel.leftOut", { name: named(v.label) }));
+    if (!fit.converged) notes.push(say("riskModel.notFitted", { why: fit.method.split(": not fitted — ")[1] ?? say("riskModel.noConvergence") }));
+    if (a?.reason) notes.push(say("riskModel.auc", { why: a.reason }));
+    if (c?.reason) notes.push(say("riskModel.calibration", { why: c.reason }));
+    const method = say(thin > 1 ? "riskModel.methodThin" : "riskModel.method", {
+      lambda: num(lambda),
+      folds,
+      thin,
+      knots,
+      share: Math.round(testShare * 100),
+      auc: a?.method ?? say("riskModel.aucNone"),
+      cal: c?.method ?? say("riskModel.calNone"),
+    });
+    return { method, notes };
+  };
+  const { method, notes } = speakingIn("en", wordsNow);
+  const words = Object.fromEntries(LANGUAGES.filter((l) => l !== "en").map((l) => [l, speakingIn(l, wordsNow)])) as Partial<Record<Language, ModelWords>>;
   const testAffected = out.reduce((s, v) => s + v, 0);
   const validation: Validation = {
     auc: auc?.auc ?? null,
@@ -330,16 +359,12 @@ export function trainRiskModel(data: RiskData, options: TrainOptions = {}): Trai
     reliability: fit.converged ? reliability(scored) : [],
     splitAt: test.length ? data.castAt[test[0]!]! : null,
     notes,
+    words,
   };
   // Bands from the test slabs' risks: "high" from the 90th percentile up, "raised" from the 70th.
   const sortedRisk = Float64Array.from(risk).sort();
   const bands = fit.converged && sortedRisk.length >= 10 ? { high: quantileSorted(sortedRisk, 0.9), raised: quantileSorted(sortedRisk, 0.7) } : null;
   const beatsBaseline = validation.aucCiLower !== null && validation.baselineAuc !== null && validation.aucCiLower > validation.baselineAuc;
-  const method =
-    `Penalised logistic regression (ridge on column variances, λ = ${lambda} chosen by ${folds}-fold rolling-origin cross-validation on the older slabs${thin > 1 ? ` (every ${thin}th of them)` : ""} by out-of-fold deviance); ` +
-    `numeric conditions as restricted cubic splines with ${knots} knots at Harrell's quantiles, missing values at the training median; categories as indicators against their most common level. ` +
-    `Validated on the newest ${Math.round(testShare * 100)} % of slabs by cast time, never seen in training: ${auc?.method ?? "AUC not computed"}; Brier score; ${cal?.method ?? "calibration not computed"}. ` +
-    `Baseline: each slab's grade-family rate in the training part.`;
   const converged = fit.converged && fit.coefficients.every(Number.isFinite);
   return { terms, lambda, effectiveDf: fit.effectiveDf, validation, path, beatsBaseline: converged && beatsBaseline, method, bands, converged };
 }

@@ -99,7 +99,10 @@ const targetName = (db: Db, kind: "type" | "category", code: string) => targetOf
 function toModel(db: Db, r: Row, withTerms: boolean): RiskModel {
   const spec = JSON.parse(r.spec) as RiskSpec;
   const terms = r.terms ? (JSON.parse(r.terms) as ModelTerms) : null;
-  const validation = r.validation ? (JSON.parse(r.validation) as TrainedModel["validation"]) : null;
+  const stored = r.validation ? (JSON.parse(r.validation) as TrainedModel["validation"]) : null;
+  // The method and notes in the reader's language where the version was trained with them (English as stored otherwise).
+  const inLanguage = stored?.words?.[currentLanguage()];
+  const validation = stored ? { ...stored, notes: inLanguage?.notes ?? stored.notes, words: undefined } : null;
   return {
     id: r.id,
     targetKind: r.target_kind,
@@ -121,7 +124,7 @@ function toModel(db: Db, r: Row, withTerms: boolean): RiskModel {
     bands: r.band_high !== null && r.band_raised !== null ? { high: r.band_high, raised: r.band_raised } : null,
     beatsBaseline: r.beats_baseline === 1,
     active: r.active === 1,
-    method: r.method,
+    method: inLanguage?.method ?? r.method,
     terms: withTerms && terms ? terms.columns.map((column, j) => ({ column, coefficient: terms.coefficients[j + 1]! })) : [],
     trainedByName: r.trained_by_name,
     createdAt: iso(r.created_at)!,
