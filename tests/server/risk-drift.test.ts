@@ -276,6 +276,12 @@ describe("drift of the active models, month by month", () => {
     expect(b.months[2]).toMatchObject({ judged: true, drifted: true });
     expect(b.months[2].citlCiLower).toBeGreaterThan(DRIFT_CITL_LIMIT - 0.3);
     expect(b.caution).toMatch(/never clears a slab/);
+    // Reckoned for a German reader: the method and each month's reason in German, the figures the same.
+    const de = (await quality.get(`/api/risk-models/${models.SLG}/drift`).set("Accept-Language", "de")).body;
+    expect(de.method).toMatch(/^Monat für Monat \(UTC, nach Gießzeit\)/);
+    expect(de.months[2].reason).toMatch(/^(mehr|weniger) Brammen mit dem Fehler als vorhergesagt: die (beobachteten|vorhergesagten) Chancen sind \d+,\d\d-mal/);
+    expect(de.months[4].reason).toMatch(/^zu wenige Brammen zum Beurteilen/);
+    expect(de.months.map((m: { citl: number | null }) => m.citl)).toEqual(b.months.map((m: { citl: number | null }) => m.citl));
 
     const lfc = await quality.get(`/api/risk-models/${models.LFC}/drift`);
     expect(lfc.body.months.every((m: any) => !m.drifted)).toBe(true);

@@ -43,13 +43,14 @@ import {
 } from "@shared/api/risk-drift";
 import { columnsOf, type ModelTerms } from "./model";
 import { JUDGED_AFTER_DAYS, readTrainingData, type RiskSpec } from "./training-data";
+import { dec, num, say } from "../../lib/words";
 
 const DAY = 86_400_000;
 
 const expit = (e: number) => (e >= 0 ? 1 / (1 + Math.exp(-e)) : Math.exp(e) / (1 + Math.exp(e)));
 const iso = (ms: number | null | undefined) => (ms === null || ms === undefined ? null : new Date(ms).toISOString());
 const monthOf = (ms: number) => new Date(ms).toISOString().slice(0, 7);
-const f3 = (v: number) => (Math.abs(v) < 0.0005 ? "0.000" : v.toFixed(3));
+const f3 = (v: number) => (Math.abs(v) < 0.0005 ? dec(0, 3) : dec(v, 3));
 
 export interface CitlResult {
   citl: number | null;
@@ -68,9 +69,9 @@ export function calibrationInTheLarge(lp: ArrayLike<number>, outcome: ArrayLike<
   const n = lp.length;
   let events = 0;
   for (let i = 0; i < n; i++) events += outcome[i] ? 1 : 0;
-  if (n === 0) return { citl: null, se: null, lower: null, upper: null, reason: "no slabs" };
-  if (events === 0) return { citl: null, se: null, lower: null, upper: null, reason: "no slab carried the defect: the intercept runs to minus infinity" };
-  if (events === n) return { citl: null, se: null, lower: null, upper: null, reason: "every slab carried the defect: the intercept runs to plus infinity" };
+  if (n === 0) return { citl: null, se: null, lower: null, upper: null, reason: say("drift.citl.noSlabs") };
+  if (events === 0) return { citl: null, se: null, lower: null, upper: null, reason: say("drift.citl.noneAffected") };
+  if (events === n) return { citl: null, se: null, lower: null, upper: null, reason: say("drift.citl.allAffected") };
   // score(a) = Σ y − Σ expit(a + lp) falls strictly with a; info(a) = Σ μ(1 − μ) is its negative slope.
   const at = (a: number) => {
     let s = events;
@@ -107,7 +108,7 @@ export function calibrationInTheLarge(lp: ArrayLike<number>, outcome: ArrayLike<
       break;
     }
   }
-  if (!converged || !Number.isFinite(a)) return { citl: null, se: null, lower: null, upper: null, reason: "the calibration-in-the-large did not converge" };
+  if (!converged || !Number.isFinite(a)) return { citl: null, se: null, lower: null, upper: null, reason: say("drift.citl.notConverged") };
   const { h } = at(a);
   const se = 1 / Math.sqrt(h);
   const z = normalQuantileOf(1 - (1 - confidence) / 2);
@@ -162,16 +163,15 @@ export function linearPredictor(terms: ModelTerms, data: ReturnType<typeof readT
   return eta;
 }
 
-export const DRIFT_METHOD =
-  "Month by month (UTC, by cast time) on the judged slabs cast after the newest slab the version was trained or tested on, scored with its stored terms. " +
-  "Calibration-in-the-large: the intercept of a logistic regression of the outcome with logit(predicted risk) as an offset and no other term (Steyerberg, Clinical Prediction Models; Van Calster et al. 2016), " +
-  "solved exactly from its score equation by Newton iterations, with a 95 % Wald interval from the observed information; 0 means the predicted rate is right on average, above 0 more defects than predicted. " +
-  "ROC AUC with DeLong's variance, 95 % interval AUC ± 1.96·SE cut at 0 and 1. " +
-  `A month is judged only with at least ${DRIFT_MIN_SLABS} slabs and ${DRIFT_MIN_AFFECTED} with the defect. ` +
-  `It has drifted when |CITL| > ln ${DRIFT_ODDS_FACTOR} = ${DRIFT_CITL_LIMIT.toFixed(3)} with its 95 % interval excluding 0 (predicted odds off by more than half again, not by chance), ` +
-  "or when the upper end of its AUC interval lies below the lower end of the version's validation AUC interval. " +
-  `Only slabs cast at least ${JUDGED_AFTER_DAYS} days before the check count: younger ones have not all passed the yard, and choosing among them by what happened to them would tilt the observed share. ` +
-  "The month still filling (its last slabs not yet that old) is provisional: stored and shown as it fills, e-mailed only once it is whole.";
+/** How drift is judged, in the reader's language (methods:drift.method). */
+export const driftMethod = () =>
+  say("drift.method", {
+    minSlabs: DRIFT_MIN_SLABS,
+    minAffected: DRIFT_MIN_AFFECTED,
+    factor: num(DRIFT_ODDS_FACTOR),
+    limit: dec(DRIFT_CITL_LIMIT, 3),
+    days: JUDGED_AFTER_DAYS,
+  });
 
 interface MonthCalc extends Omit<RiskDriftMonth, "alertedAt" | "checkedAt"> {}
 
@@ -240,21 +240,23 @@ async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: Month
       const why: string[] = [];
       let reason: string;
       if (!judged) {
-        reason = `too few slabs to judge: ${slabs} judged slabs, ${affected} with the defect (at least ${DRIFT_MIN_SLABS} and ${DRIFT_MIN_AFFECTED} are needed)`;
+        reason = say("drift.tooFew", { slabs, affected, minSlabs: DRIFT_MIN_SLABS, minAffected: DRIFT_MIN_AFFECTED });
       } else {
         if (citl.citl !== null && Math.abs(citl.citl) > DRIFT_CITL_LIMIT && (citl.lower! > 0 || citl.upper! < 0)) {
           why.push(
-            `${citl.citl > 0 ? "more slabs with the defect than predicted: the observed odds are" : "fewer slabs with the defect than predicted: the predicted odds are"} ${Math.exp(Math.abs(citl.citl)).toFixed(2)} times ${citl.citl > 0 ? "the predicted ones" : "the observed ones"} ` +
-              `(calibration-in-the-large ${f3(citl.citl)}, 95 % interval ${f3(citl.lower!)} to ${f3(citl.upper!)}; limit ±${DRIFT_CITL_LIMIT.toFixed(3)})`,
+            say(citl.citl > 0 ? "drift.more" : "drift.fewer", {
+              times: dec(Math.exp(Math.abs(citl.citl)), 2),
+              citl: f3(citl.citl),
+              lower: f3(citl.lower!),
+              upper: f3(citl.upper!),
+              limit: dec(DRIFT_CITL_LIMIT, 3),
+            }),
           );
         }
         if (auc.upper !== null && validationAucCiLower !== null && auc.upper < validationAucCiLower) {
-          why.push(
-            `it ranks the slabs worse than at validation: AUC ${f3(auc.auc!)} (95 % interval up to ${f3(auc.upper)}) lies below the validation interval's lower end ${f3(validationAucCiLower)}`,
-          );
+          why.push(say("drift.ranksWorse", { auc: f3(auc.auc!), upper: f3(auc.upper), validation: f3(validationAucCiLower) }));
         }
-        reason = why.length ? why.join("; ") : "within the limits";
-        if (!why.length && citl.citl === null) reason += ` (calibration-in-the-large not defined: ${citl.reason})`;
+        reason = why.length ? why.join("; ") : citl.citl === null ? say("drift.withinUndefined", { why: String(citl.reason) }) : say("drift.within");
       }
       months.push({
         month,
@@ -300,7 +302,7 @@ export async function riskModelDrift(db: Db, id: number, now = Date.now()): Prom
     version: m.version,
     active: m.active === 1,
     since: iso(r.since)!,
-    method: DRIFT_METHOD,
+    method: driftMethod(),
     thresholds: {
       minSlabs: DRIFT_MIN_SLABS,
       minAffected: DRIFT_MIN_AFFECTED,
