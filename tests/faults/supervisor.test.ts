@@ -51,7 +51,10 @@ describe("npm start runs the server under the supervisor", () => {
     const pkg = JSON.parse(fs.readFileSync(path.join(REPO_ROOT, "package.json"), "utf8")) as { scripts: Record<string, string> };
     expect(pkg.scripts.start).toBe("npm run --silent build && node --enable-source-maps build/server/supervisor.js");
     expect(pkg.scripts.build).toBe("vite build && npm run build:server");
-    expect(pkg.scripts["build:server"]).toMatch(/^esbuild .*supervisor=server\/supervisor\.ts/);
+    // build/server emptied first (no chunk of an earlier build left beside the new ones), then bundled.
+    expect(pkg.scripts["build:server"]).toMatch(
+      /^node -e "require\('node:fs'\)\.rmSync\('build\/server', .*\)" && esbuild .*supervisor=server\/supervisor\.ts/,
+    );
   });
 
   it("when the server process is killed with SIGKILL, then the supervisor logs it, starts it again and /api/me answers the same session", async () => {
