@@ -4,9 +4,10 @@
  * (shared/i18n/locales/<lang>/methods.json).
  *
  * The language is the request's, carried through the handler's awaits by AsyncLocalStorage
- * (server/lib/route.ts starts it for every API request), and handed to the report and training
- * threads with each job, which say their words in it too. Outside a request (tests calling a report
- * function directly, the seed) it is English, so English stays word for word what it was.
+ * (server/lib/route.ts starts it for every API request), and handed to the report thread with each
+ * report, which says its words in it too; the training thread says a model's words in every language
+ * (model.ts). Outside a request (tests calling a report function directly, the seed, scheduled
+ * checks) it is English, so English stays word for word what it was.
  *
  * No i18next here: a report thread needs only this catalogue, put together the way
  * http-error.ts's `englishOf` does (`{{value}}` put in, `_one`/`_other` by `count`, as English and
