@@ -1,9 +1,9 @@
 import type { Language } from "@shared/i18n/languages";
 import enCommon from "@shared/i18n/locales/en/common.json";
 import enServer from "@shared/i18n/locales/en/server.json";
+import { fillText, pluralText, type Tree } from "./catalogue-text";
 
 type Translate = (key: string, values?: Record<string, unknown>) => string;
-type Tree = { [key: string]: string | Tree };
 
 /**
  * How an error's words are said in a language: the catalogues' translator, which server/lib/i18n.ts
@@ -19,19 +19,11 @@ export function installTranslator(translatorOf: (language: Language | null | und
   installed = translatorOf;
 }
 
-const find = (tree: Tree, path: string): string | undefined => {
-  let node: string | Tree | undefined = tree;
-  for (const part of path.split(".")) node = typeof node === "object" ? node[part] : undefined;
-  return typeof node === "string" ? node : undefined;
-};
-
 /** English from the English catalogues, for a thread without the translator (see above). */
 export const englishOf: Translate = (key, values = {}) => {
   const [ns, path] = key.includes(":") ? (key.split(":", 2) as [string, string]) : ["common", key];
   const tree = (ns === "server" ? enServer : enCommon) as Tree;
-  const count = values.count;
-  const text = (typeof count === "number" ? find(tree, `${path}_${count === 1 ? "one" : "other"}`) : undefined) ?? find(tree, path) ?? key;
-  return text.replace(/\{\{\s*([\w.]+)\s*\}\}/g, (whole, name: string) => (name in values ? String(values[name]) : whole));
+  return fillText(pluralText(tree, path, values.count) ?? key, values);
 };
 
 /**

@@ -21,8 +21,7 @@ import deMethods from "@shared/i18n/locales/de/methods.json";
 import enCommon from "@shared/i18n/locales/en/common.json";
 import enMethods from "@shared/i18n/locales/en/methods.json";
 import { pseudoCatalogue } from "@shared/i18n/pseudo";
-
-type Tree = { [key: string]: string | Tree };
+import { fillText, findText as find, pluralText, type Tree } from "./catalogue-text";
 
 const speaking = new AsyncLocalStorage<Language>();
 
@@ -39,25 +38,12 @@ let pseudoTerms: Tree | null = null;
 const termsOf = (language: Language): Tree =>
   (language === "de" ? deCommon.terms : language === "en-XA" ? (pseudoTerms ??= pseudoCatalogue(enCommon.terms as Tree)) : enCommon.terms) as Tree;
 
-const find = (tree: Tree, path: string): string | undefined => {
-  let node: string | Tree | undefined = tree;
-  for (const part of path.split(".")) node = typeof node === "object" ? node[part] : undefined;
-  return typeof node === "string" ? node : undefined;
-};
-
 export type WordValues = Record<string, string | number>;
 
 /** A text of the `methods` catalogue in a language (the current one unless given). */
 export function textIn(language: Language, key: string, values: WordValues = {}): string {
-  const tree = catalogueOf(language);
-  const count = values.count;
-  const text =
-    (typeof count === "number" ? find(tree, `${key}_${count === 1 ? "one" : "other"}`) : undefined) ??
-    find(tree, key) ??
-    (typeof count === "number" ? find(enMethods as Tree, `${key}_${count === 1 ? "one" : "other"}`) : undefined) ??
-    find(enMethods as Tree, key) ??
-    key;
-  return text.replace(/\{\{\s*([\w.]+)\s*\}\}/g, (whole, name: string) => (name in values ? String(values[name]) : whole));
+  const text = pluralText(catalogueOf(language), key, values.count) ?? pluralText(enMethods as Tree, key, values.count) ?? key;
+  return fillText(text, values);
 }
 
 /** A text of the `methods` catalogue in the current language: `say("rate.wilson", { level: 95 })`. */
