@@ -4,7 +4,7 @@
  * problem recorded as { row, column, message } in words a process engineer understands.
  */
 import { IMPORT_COLUMNS, IMPORT_MAX_LISTED_ERRORS, type ColumnSpec, type ImportKind, type RowError } from "@shared/api/imports";
-import { said, sayIn, type Said } from "../lib/http-error";
+import { figure, said, sayIn, type Said, type SaidValues } from "../lib/http-error";
 import type { CellStore } from "./cell-store";
 import type { Cell, Table } from "./read-table";
 
@@ -184,7 +184,7 @@ export function withSaid(e: RowError, s: Said): RowError {
 export const saidOfRowError = (e: RowError): Said | undefined => (e as RowError & { said?: Said }).said;
 
 /** A cell's problem: the key under errors.imports.rows (the column's name is put in as {{column}}) and its values. */
-type Fault = { fault: string; values?: Record<string, string | number | { terms: string[] }> };
+type Fault = { fault: string; values?: SaidValues };
 const fault = (key: string, values?: Fault["values"]): Fault => (values ? { fault: key, values } : { fault: key });
 const isFault = (x: unknown): x is Fault => typeof x === "object" && x !== null && "fault" in x;
 
@@ -238,16 +238,19 @@ function parseBoolean(cell: Cell): boolean | Fault {
   return fault("notBoolean", { value: String(cell) });
 }
 
+/** A cell's number as a text (six significant digits). */
 function fmt(n: number) {
   return Number.isInteger(n) ? String(n) : String(+n.toPrecision(6));
 }
+/** The same number inside a refusal, in the reader's decimal style and without grouping (0.75 · 0,75). */
+const quantity = (n: number) => figure(Number.isInteger(n) ? n : +n.toPrecision(6), { group: false });
 
 /** "is outside 0–150 °C", "at least 0 mm", "at most 40 t": a value beyond its column's bounds. */
 function outside(spec: ColumnSpec, n: number): Fault {
   const unit = spec.unit ? ` ${spec.unit}` : "";
-  if (spec.min !== undefined && spec.max !== undefined) return fault("outside", { value: fmt(n), min: fmt(spec.min), max: fmt(spec.max), unit });
-  if (spec.min !== undefined) return fault("outsideAtLeast", { value: fmt(n), min: fmt(spec.min), unit });
-  return fault("outsideAtMost", { value: fmt(n), max: fmt(spec.max!), unit });
+  if (spec.min !== undefined && spec.max !== undefined) return fault("outside", { value: quantity(n), min: quantity(spec.min), max: quantity(spec.max), unit });
+  if (spec.min !== undefined) return fault("outsideAtLeast", { value: quantity(n), min: quantity(spec.min), unit });
+  return fault("outsideAtMost", { value: quantity(n), max: quantity(spec.max!), unit });
 }
 
 /** What a cell holds instead of a value, as the readers mark it: in the reader's words where known, else as written (an Excel error such as #N/A). */
@@ -269,7 +272,7 @@ export function coerceCell(spec: ColumnSpec, cell: Cell, decimalComma: boolean, 
     case "integer": {
       const n = parseNumber(cell, decimalComma);
       if (isFault(n)) return n;
-      if (spec.type === "integer" && !Number.isInteger(n)) return fault("notWhole", { value: fmt(n) });
+      if (spec.type === "integer" && !Number.isInteger(n)) return fault("notWhole", { value: quantity(n) });
       if ((spec.min !== undefined && n < spec.min) || (spec.max !== undefined && n > spec.max)) return outside(spec, n);
       return n;
     }

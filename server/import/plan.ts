@@ -13,7 +13,7 @@ import type { PlantSettings } from "@shared/api/heats";
 import { liquidusC } from "../metallurgy/liquidus";
 import { slabWeightT } from "../metallurgy/casting";
 import { CHEM_COLUMNS, emptyChem, estimateCastAt, type SlabRow } from "../services/conditions.service";
-import { said, type Said } from "../lib/http-error";
+import { figure, said, type Said } from "../lib/http-error";
 import type { ErrorList, ParsedRow, ParsedRows, Value } from "./coerce";
 
 export interface PlanCounts {
@@ -299,7 +299,7 @@ export function heatsPlanner(sqlite: Database.Database, errors: ErrorList, setti
           fail("cast_end", said("imports.rows.castEndBeforeStart"));
         }
         const pctSum = PCT.reduce((s, el) => s + ((rec[`${el}_pct`] as number | null) ?? 0), 0) + ((rec.n_ppm as number | null) ?? 0) / 10_000;
-        if (pctSum > 100) fail(null, said("imports.rows.chemistryOver", { sum: pctSum.toFixed(2) }));
+        if (pctSum > 100) fail(null, said("imports.rows.chemistryOver", { sum: figure(pctSum, { digits: 2, group: false }) }));
 
         // Liquidus: given, else from the chemistry with the plant's coefficients (needs carbon at least).
         if (v.has("liquidus_c") && v.get("liquidus_c") != null) {
@@ -331,8 +331,8 @@ export function heatsPlanner(sqlite: Database.Database, errors: ErrorList, setti
               "tundish_temp_c",
               said("imports.rows.superheatOutside", {
                 superheat: Math.round(rec.superheat_c as number),
-                tundish: String(rec.tundish_temp_c),
-                liquidus: (rec.liquidus_c as number).toFixed(1),
+                tundish: figure(rec.tundish_temp_c as number, { group: false }),
+                liquidus: figure(rec.liquidus_c as number, { digits: 1, group: false }),
               }),
             );
           }

@@ -11,7 +11,7 @@ import { Readable } from "node:stream";
 import { parse as parseCsv } from "csv-parse";
 import { loadFileType } from "../lib/lazy-packages";
 import { IMPORT_COLUMNS, IMPORT_LIMITS, type ImportKind } from "@shared/api/imports";
-import { HttpError, said, type Words } from "../lib/http-error";
+import { figure, HttpError, said, type Words } from "../lib/http-error";
 import { CellStore, makeTable, type Cell, type Table } from "./cell-store";
 import { readXlsxFile, type Limits } from "./read-xlsx";
 
@@ -20,7 +20,8 @@ export type { Cell, Table, TableRow } from "./cell-store";
 
 const unsupported = (message: Words) => new HttpError(415, "unsupported_file", message);
 const tooLarge = (message: Words, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
-const fmt = (n: number) => n.toLocaleString("en-GB");
+/** A count inside a refusal, written as the reader's language groups thousands. */
+const fmt = (n: number) => figure(n);
 
 /** Reads the uploaded file at `file` (at most IMPORT_MAX_BYTES, checked by the upload). */
 export async function readTable(file: string, limits: Limits = IMPORT_LIMITS): Promise<Table> {

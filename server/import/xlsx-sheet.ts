@@ -23,7 +23,7 @@ import type { Readable } from "node:stream";
 import { SaxesParser, type SaxesAttributePlain, type SaxesTagPlain } from "saxes";
 import yauzl, { type Entry, type ZipFile } from "yauzl";
 import type { IMPORT_LIMITS } from "@shared/api/imports";
-import { HttpError, said, type Said, type Words } from "../lib/http-error";
+import { figure, HttpError, said, type Said, type SaidValues, type Words } from "../lib/http-error";
 import type { Cell } from "./cell-store";
 
 export type Limits = { [K in keyof typeof IMPORT_LIMITS]: number };
@@ -31,8 +31,9 @@ export type Limits = { [K in keyof typeof IMPORT_LIMITS]: number };
 const tooLarge = (message: Words, details?: Record<string, unknown>) => new HttpError(413, "import_too_large", message, details);
 /** Refused as unreadable: the sentence, or one of its variants naming why (imports.workbook.unreadableBecause.*). */
 const unreadable = (why?: Said) => new HttpError(415, "unsupported_file", why ?? said("imports.workbook.unreadable"));
-const because = (why: string, values?: Record<string, string | number>) => said(`imports.workbook.unreadableBecause.${why}`, values);
-const fmt = (n: number) => n.toLocaleString("en-GB");
+const because = (why: string, values?: SaidValues) => said(`imports.workbook.unreadableBecause.${why}`, values);
+/** A count inside a refusal, written as the reader's language groups thousands. */
+const fmt = (n: number) => figure(n);
 const mb = (n: number) => `${Math.round(n / 1024 / 1024)} MB`;
 
 /** Characters fed to the parser without it reporting anything: a text run, attribute or comment this long is an attack, not a sheet. */

@@ -27,10 +27,43 @@ export const englishOf: Translate = (key, values = {}) => {
 };
 
 /**
- * Values put into a catalogue text: names and numbers as they are, or `{ terms }`: catalogue keys
- * (with their namespace, e.g. "common:roles.quality") said in the reader's language and joined by ", ".
+ * Values put into a catalogue text: names and numbers as they are; `{ terms }`: catalogue keys (with
+ * their namespace, e.g. "common:roles.quality") said in the reader's language and joined by ", ";
+ * `{ num }` (made by `figure`): a quantity written as the reader's language writes numbers (200,000 ·
+ * 200.000; 0.5 · 0,5). A bare number is put in as it is (a count choosing the plural, an id).
  */
-export type SaidValues = Record<string, string | number | { terms: string[] }>;
+export type SaidValues = Record<string, string | number | { terms: string[] } | Figure>;
+
+/** A quantity inside a refusal: grouped in thousands unless `group: false`, `digits` fixed decimals, else all it has. */
+export interface Figure {
+  num: number;
+  digits?: number;
+  group?: boolean;
+}
+export const figure = (num: number, opts: { digits?: number; group?: boolean } = {}): Figure => ({ num, ...opts });
+
+const figureFormats = new Map<string, Intl.NumberFormat>();
+/** A figure as a language writes it: German with the decimal comma and the point between thousands; English (and the pseudo-locale) as British English. */
+export function writeFigure(f: Figure, language: Language | null | undefined): string {
+  const locale = language === "de" ? "de-DE" : "en-GB";
+  const key = `${locale}:${f.digits}:${f.group !== false}`;
+  let fmt = figureFormats.get(key);
+  if (!fmt) {
+    fmt = new Intl.NumberFormat(locale, { useGrouping: f.group !== false, minimumFractionDigits: f.digits ?? 0, maximumFractionDigits: f.digits ?? 20 });
+    figureFormats.set(key, fmt);
+  }
+  return fmt.format(f.num);
+}
+
+/** The values of a Said ready for a translator in a language: terms said, figures written. */
+export function valuesIn(values: SaidValues | undefined, language: Language | null | undefined, t: Translate = englishOf): Record<string, string | number> {
+  return Object.fromEntries(
+    Object.entries(values ?? {}).map(([k, v]) => [
+      k,
+      typeof v !== "object" ? v : "terms" in v ? v.terms.map((key) => t(key)).join(", ") : writeFigure(v, language),
+    ]),
+  );
+}
 
 /**
  * What an error says, as a key of the `server` catalogue (under `errors.`) and its values, so the
@@ -48,8 +81,7 @@ export const said = (key: string, values?: SaidValues): Said => (values ? { key,
 /** A Said in one language (English where none is given). */
 export function sayIn(s: Said, language: Language | null | undefined): string {
   const t = installed ? installed(language) : englishOf;
-  const values = Object.fromEntries(Object.entries(s.values ?? {}).map(([k, v]) => [k, typeof v === "object" ? v.terms.map((key) => t(key)).join(", ") : v]));
-  return t(`server:errors.${s.key}`, values);
+  return t(`server:errors.${s.key}`, valuesIn(s.values, language, t));
 }
 
 /** An error's words: plain English (not in the catalogue yet), a Said, or Saids said one after the other. */

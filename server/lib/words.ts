@@ -20,6 +20,7 @@ import deCommon from "@shared/i18n/locales/de/common.json";
 import deMethods from "@shared/i18n/locales/de/methods.json";
 import enCommon from "@shared/i18n/locales/en/common.json";
 import enMethods from "@shared/i18n/locales/en/methods.json";
+import { levelSaid } from "@shared/i18n/levels";
 import { pseudoCatalogue } from "@shared/i18n/pseudo";
 import { fillText, findText as find, pluralText, type Tree } from "./catalogue-text";
 
@@ -62,10 +63,18 @@ export const num = (x: number | string): string => {
 };
 
 let byEnglish: Map<string, string> | null = null;
+/** A level of ours ("1st heat", "transition", "CC1 strand 2") in the language's words; plant data (a grade) as it is. */
+const levelIn = (language: Language, level: string): string =>
+  levelSaid(level, (key, values) => {
+    const text = find(termsOf(language), key);
+    return text === undefined ? undefined : fillText(text, values);
+  });
+
 /**
  * A term's name as a fit writes it (its English label, or "label = level" for a level's column), in
- * the current language: the label found by its English words among the screens' terms, the level
- * (plant data: a grade, a strand) as it is.
+ * the current language: the label found by its English words among the screens' terms, the level in
+ * the screens' words where it is one of ours (shared/i18n/levels.ts), plant data (a grade) as it is.
+ * A bare level ("1st heat") is said the same way.
  */
 export function named(name: string): string {
   const language = currentLanguage();
@@ -79,8 +88,9 @@ export function named(name: string): string {
   const eq = name.indexOf(" = ");
   const label = eq >= 0 ? name.slice(0, eq) : name;
   const path = byEnglish.get(label);
+  if (!path && eq < 0) return levelIn(language, name);
   const said = path ? (find(termsOf(language), path) ?? label) : label;
-  return eq >= 0 ? `${said}${name.slice(eq)}` : said;
+  return eq >= 0 ? `${said} = ${levelIn(language, name.slice(eq + 3))}` : said;
 }
 
 /** A term's name inside a sentence: English as the reports have always written it (`inSentence`:

@@ -164,6 +164,8 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
           aucCiLower: number | null;
           aucCiUpper: number | null;
           reason: string;
+          /** The reason in the other languages (English in `reason`). */
+          reasons?: Partial<Record<Language, string>>;
         }[];
       },
       validationAucCiLower: number | null,
@@ -178,7 +180,7 @@ export function createNotifications(opts: { db: Db; mailer: Mailer; baseUrl: str
             `  ${t("server:mail.riskDrift.auc", { auc: f(m.auc) })}${
               m.aucCiLower !== null && m.aucCiUpper !== null ? t("server:mail.riskDrift.interval", { lower: f(m.aucCiLower), upper: f(m.aucCiUpper) }) : ""
             }${validationAucCiLower !== null ? t("server:mail.riskDrift.atValidation", { lower: fixed(language, validationAucCiLower, 2) }) : ""}.`,
-            t("server:mail.riskDrift.why", { reason: m.reason }),
+            t("server:mail.riskDrift.why", { reason: m.reasons?.[language] ?? m.reason }),
           ].join("\n"),
         );
         return {

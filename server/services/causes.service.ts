@@ -20,7 +20,7 @@ import type {
 } from "@shared/api/causes";
 import type { CauseConfidence } from "@shared/domain";
 import type { Db } from "../db/client";
-import { badRequest, conflict, HttpError, notFound, said } from "../lib/http-error";
+import { badRequest, conflict, figure, HttpError, notFound, said } from "../lib/http-error";
 import { recordAudit } from "./audit.service";
 import { buildScope } from "./reports/scope";
 
@@ -352,11 +352,7 @@ export function bulkTag(db: Db, user: Actor, input: z.output<typeof bulkTagSchem
   const sqlite = db.$client;
   const ids = selectDefects(db, input.selection, input.defectType);
   if (ids.length > BULK_LIMIT) {
-    throw new HttpError(
-      400,
-      "selection_too_large",
-      said("causes.selectionTooLarge", { n: ids.length.toLocaleString("en-GB"), max: BULK_LIMIT.toLocaleString("en-GB") }),
-    );
+    throw new HttpError(400, "selection_too_large", said("causes.selectionTooLarge", { n: figure(ids.length), max: figure(BULK_LIMIT) }));
   }
   const tags = activeTagIds(sqlite, input.tags);
   const sample = ids.length

@@ -159,8 +159,7 @@ const mailTime = (ms: number) => new Date(ms).toISOString().slice(0, 16).replace
 
 /**
  * A history line in words, made when the claim is read (the audit row keeps only the facts), in the
- * reader's language (audit:claimHistory.*). The status stays its key ("Status → under_review"): the
- * claim screen puts the status's name in.
+ * reader's language (audit:claimHistory.*), a status by its name as the screens say it ("Status → Under review").
  */
 function describe(action: string, after: unknown, mail: (outboxId: unknown) => { status: string; sentAt: number | null } | null): string | null {
   const a = (typeof after === "string" ? JSON.parse(after) : after) as Record<string, any> | null;
@@ -178,7 +177,10 @@ function describe(action: string, after: unknown, mail: (outboxId: unknown) => {
     if (m?.status === "failed") return t(`audit:claimHistory.${edition}.failed`, values);
     return t(`audit:claimHistory.${edition}.queued`, values);
   }
-  if (action === "claim.update" && a.status) return t("audit:claimHistory.status", { status: a.status as string });
+  if (action === "claim.update" && a.status) {
+    const status = a.status as string;
+    return t("audit:claimHistory.status", { status: t(`common:terms.claimStatus.${status}`, { defaultValue: status }) });
+  }
   if (action === "claim.slabs.link") return t("audit:claimHistory.slabsLinked", { count: a.added as number });
   if (action === "claim.slabs.unlink") return t("audit:claimHistory.slabUnlinked", { slab: a.slabId as string });
   return null;

@@ -16,7 +16,7 @@ import { pipeline } from "node:stream/promises";
 import pLimit from "p-limit";
 import type sharp from "sharp";
 import { loadFileType, loadSharp } from "../lib/lazy-packages";
-import { HttpError, said } from "../lib/http-error";
+import { figure, HttpError, said } from "../lib/http-error";
 import { storeError } from "../middleware/uploads";
 
 export const PHOTO_MAX_PIXELS = 50_000_000; // 50 MP: every tablet and phone camera fits, a bomb does not
@@ -99,7 +99,11 @@ export async function checkPhoto(input: PhotoInput, originalName: string): Promi
   const h = meta.height ?? 0;
   if (!w || !h) throw new HttpError(415, "not_an_image", said("photos.unreadable", { name }));
   if (w * h > PHOTO_MAX_PIXELS) {
-    throw new HttpError(413, "too_many_pixels", said("photos.tooManyPixels", { name, w, h, mp: ((w * h) / 1e6).toFixed(0), limit: PHOTO_MAX_PIXELS / 1e6 }));
+    throw new HttpError(
+      413,
+      "too_many_pixels",
+      said("photos.tooManyPixels", { name, w, h, mp: figure((w * h) / 1e6, { digits: 0 }), limit: PHOTO_MAX_PIXELS / 1e6 }),
+    );
   }
   return { input, originalName: name, mime: type.mime, width: w, height: h };
 }

@@ -5,6 +5,7 @@
  * sheet with units in the headers, number formats, a frozen header row and an autofilter.
  */
 import type { Language } from "@shared/i18n/languages";
+import { levelSaid } from "@shared/i18n/levels";
 import { translator } from "../lib/i18n";
 import { addItemSheet, addTableSheet, newWorkbook, workbookBuffer, D2, D3, N0, PCT, type SheetColumn, type TableLook } from "../lib/workbook-sheets";
 import type { CausePareto } from "@shared/api/causes";
@@ -38,7 +39,7 @@ const referenceMixSheet = (mix: { label: string; slabs: number; share: number }[
     { header: w("headers.slabs"), key: "slabs", numFmt: N0 },
     { header: w("headers.shareOfTheMix"), key: "share", numFmt: PCT },
   ],
-  rows: mix,
+  rows: mix.map((m) => ({ ...m, label: w.level(m.label) })),
 });
 
 // --- Rate against a variable (adjusted and per stratum), screening (adjusted), the adjusted model ---
@@ -103,7 +104,7 @@ function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
     sheets.push({
       name: w("sheets.ratesWithinLevels"),
       columns: [{ header: w.term(st.by.key, st.by.label), key: "level", width: 18 }, ...binColumns(w, u), { header: w("headers.tooFewSlabs"), key: "sparse" }],
-      rows: st.strata.flatMap((level) => level.bins.map((b) => ({ level: level.label, ...b, sparse: yes(w, b.sparse) }))),
+      rows: st.strata.flatMap((level) => level.bins.map((b) => ({ level: w.level(level.label), ...b, sparse: yes(w, b.sparse) }))),
     });
     sheets.push({
       name: w("sheets.oddsRatiosWithinLevels"),
@@ -123,7 +124,7 @@ function rateByVariableAdjustedSheets(x: RateByVariable, w: W): Sheet[] {
         { header: w("headers.whyNoEstimate"), key: "reason", width: 50 },
       ],
       rows: st.strata.map((level) => ({
-        level: level.label,
+        level: w.level(level.label),
         slabs: level.slabs,
         affected: level.affected,
         rate: level.rate,
@@ -218,8 +219,8 @@ function adjustedSheets(x: Adjusted, w: W): Sheet[] {
         roleWords: role(t.role),
         label: w.term(t.variable, t.label),
         unitWords: t.unit ?? "",
-        level: t.level ?? "",
-        reference: t.reference ?? "",
+        level: t.level !== null ? w.level(t.level) : "",
+        reference: t.reference !== null ? w.level(t.reference) : "",
         perWords: t.perWords,
         crudeOr: t.crude.oddsRatio,
         crudeLower: t.crude.ciLower,
@@ -269,7 +270,13 @@ function adjustedSheets(x: Adjusted, w: W): Sheet[] {
         { header: w("headers.affectedSlabs"), key: "affected", numFmt: N0 },
       ],
       rows: x.variables.flatMap((v) =>
-        (v.levels ?? []).map((l) => ({ label: w.term(v.variable, v.label), level: l.level, ref: yes(w, l.reference), slabs: l.slabs, affected: l.affected })),
+        (v.levels ?? []).map((l) => ({
+          label: w.term(v.variable, v.label),
+          level: w.level(l.level),
+          ref: yes(w, l.reference),
+          slabs: l.slabs,
+          affected: l.affected,
+        })),
       ),
     },
     {
@@ -594,7 +601,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
               { header: w("headers.note"), key: "reason", width: 50 },
             ],
             rows: st.strata.map((t) => ({
-              label: t.label,
+              label: w.level(t.label),
               aSlabs: t.a.slabs,
               aAffected: t.a.affected,
               aRate: t.a.rate,
@@ -824,12 +831,14 @@ const CAUTION_KEYS = Object.keys(enServer.report.cautions);
  * The words of a workbook in one language: `w("headers.slabs")` reads `server:report.headers.slabs`;
  * `w.term(key, label)` is a variable's or categorical key's name (the report's own label in English);
  * `w.inSentence(name)` is such a name inside a sentence (English lower-cases it, German keeps its
- * noun's capital); `w.raw` reads any catalogue key.
+ * noun's capital); `w.level(level)` is a categorical term's level ("1st heat", "CC1 strand 2") in the
+ * screens' words, plant data (a grade) as it is; `w.raw` reads any catalogue key.
  */
 type W = ((key: string, values?: Record<string, unknown>) => string) & {
   language: Language;
   term: (key: string, label: string) => string;
   inSentence: (name: string) => string;
+  level: (level: string) => string;
   raw: (key: string, options?: Record<string, unknown>) => unknown;
 };
 
@@ -843,6 +852,9 @@ function wordsIn(language: Language | null): W {
     term: (key: string, label: string) =>
       lng === "en" ? label : t(`common:terms.variables.${key}.label`, { defaultValue: t(`common:terms.categorical.${key}`, { defaultValue: label }) }),
     inSentence: (name: string) => (lng === "de" ? name : name.toLowerCase()),
+    // The level stays the server's English (a key); only the cell says it in the reader's words.
+    level: (level: string) =>
+      lng === "en" ? level : levelSaid(level, (key, values) => t(`common:terms.${key}`, { ...values, defaultValue: "" }) || undefined),
     raw: (key: string, options?: Record<string, unknown>) => t(key, options ?? {}) as unknown,
   });
 }

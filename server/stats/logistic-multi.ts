@@ -760,7 +760,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     let reference = order[0];
     if (t.reference !== undefined) {
       if (codeOf.has(t.reference)) reference = t.reference;
-      else if (order.length > 0) notes.push(say("fit.referenceMissing", { name: named(t.name), reference: t.reference, instead: order[0]! }));
+      else if (order.length > 0) notes.push(say("fit.referenceMissing", { name: named(t.name), reference: named(t.reference), instead: named(order[0]!) }));
     }
     const levels = reference === undefined ? [] : [reference, ...order.filter((l) => l !== reference)];
     test.levels = levels.map((l) => ({ level: l, ...byCode.get(codeOf.get(l)!)!, reference: l === reference }));
@@ -834,7 +834,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       for (const l of test.levels ?? []) {
         if (l.affected === 0 || l.affected === l.slabs) {
           separated.push(`${t.name} = ${l.level}`);
-          separationWords.push(say(l.affected === 0 ? "fit.levelNone" : "fit.levelAll", { name: named(t.name), level: l.level, count: l.slabs }));
+          separationWords.push(say(l.affected === 0 ? "fit.levelNone" : "fit.levelAll", { name: named(t.name), level: named(l.level), count: l.slabs }));
         }
       }
       return;

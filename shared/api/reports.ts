@@ -308,6 +308,8 @@ export const rateByVariableSchema = z.object({
       changeInEstimate: changeInEstimateSchema,
       /** Why the adjusted estimate is null (separation, no spread …); null when it is given. */
       reason: z.string().nullable(),
+      /** The note among the report's notes that says the adjusted estimate is not given, and why (a screen saying it elsewhere leaves it out of the list). */
+      reasonNote: z.string().nullable(),
     })
     .optional(),
   /** With stratifyBy: per level, the rate in the same bins as above and the odds ratio within the level. */
@@ -504,6 +506,8 @@ export const adjustedSchema = z.object({
       gvifPerDf: num,
       /** Against the usual thresholds: GVIF^(1/(2·df)) above √5 notable, above √10 serious. */
       collinearity: z.enum(["low", "notable", "serious"]).nullable(),
+      /** Where collinearity is notable or serious: the note saying so (also among the notes), for a screen to show beside the variable. */
+      collinearityNote: z.string().nullable(),
       levels: z.array(z.object({ level: z.string(), slabs: z.number().int(), affected: z.number().int(), reference: z.boolean() })).optional(),
       reason: z.string().nullable(),
     }),

@@ -69,8 +69,9 @@ export function textsFor(module: string): Promise<unknown> {
 
 /** Switches every screen to `language` (its catalogues fetched first when not yet here). */
 export async function applyLanguage(language: Language) {
-  if (i18n.language !== language) await i18n.changeLanguage(language);
+  // The formatters first: changeLanguage re-renders the screens, whose numbers and dates must then be in the new locale.
   setFormatLocale(language);
+  if (i18n.language !== language) await i18n.changeLanguage(language);
   document.documentElement.lang = language;
 }
 

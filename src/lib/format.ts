@@ -148,3 +148,89 @@ export function parseDecimal(text: string): number {
   if (s === "") return Number.NaN;
   return Number(!s.includes(".") && s.split(",").length === 2 ? s.replace(",", ".") : s);
 }
+
+/**
+ * A stored number as it stands in an input for the person to change: every digit the number has
+ * (1e-7 → "0.0000001", never rounded), no thousands grouping, and the decimal mark of the language
+ * ("0,75" in German) — what `parseDecimal` reads back as the same number. "" for none.
+ */
+export function inputNumber(value: number | null | undefined, locale = LOCALE): string {
+  if (value === null || value === undefined || !Number.isFinite(value)) return "";
+  const plain = plainDigits(value);
+  return locale === "de-DE" ? plain.replace(".", ",") : plain;
+}
+
+/**
+ * The locale of a language as setFormatLocale takes it ("de" → "de-DE", else "en-GB"), for a field
+ * drawn while the language is changing: it is drawn again before setFormatLocale has been called.
+ */
+export const localeOf = (language: string) => (language === "de" ? "de-DE" : "en-GB");
+
+/** The shortest text that reads back as the number (JavaScript's own), without an exponent. */
+function plainDigits(value: number): string {
+  const s = String(value);
+  const m = /^(-?)(\d)(?:\.(\d+))?e([+-]\d+)$/.exec(s);
+  if (!m) return s;
+  const [, sign, lead, rest = "", exp] = m;
+  const digits = lead! + rest;
+  const point = 1 + Number(exp);
+  if (point <= 0) return `${sign}0.${"0".repeat(-point)}${digits}`;
+  if (point >= digits.length) return `${sign}${digits}${"0".repeat(point - digits.length)}`;
+  return `${sign}${digits.slice(0, point)}.${digits.slice(point)}`;
+}
+
+/**
+ * A number's text as a program wrote it ("0.75", "1e-7": what `String(x)` gives) in the language's
+ * style for an input (`inputNumber`); any other text — what a person typed — is left as it is.
+ */
+export function inputNumberText(text: string, locale = LOCALE): string {
+  const n = Number(text);
+  return text !== "" && Number.isFinite(n) && String(n) === text ? inputNumber(n, locale) : text;
+}
+
+/** The order and separator of a numeric date in the language: German "04.05.2026", British "04/05/2026". */
+function datePattern(locale: string): { order: ("day" | "month" | "year")[]; separator: string } {
+  const parts = new Intl.DateTimeFormat(locale, { day: "2-digit", month: "2-digit", year: "numeric" }).formatToParts(new Date(2026, 4, 4));
+  const order = parts.filter((p) => p.type === "day" || p.type === "month" || p.type === "year").map((p) => p.type as "day" | "month" | "year");
+  return { order, separator: parts.find((p) => p.type === "literal")?.value ?? "/" };
+}
+
+/** A calendar day YYYY-MM-DD as a person types it in the language: "04.05.2026", "04/05/2026"; "" for none. */
+export function inputDate(ymd: string | null | undefined, locale = LOCALE): string {
+  const m = ymd ? /^(\d{4})-(\d{2})-(\d{2})$/.exec(ymd) : null;
+  if (!m) return "";
+  const { order, separator } = datePattern(locale);
+  const part = { year: m[1]!, month: m[2]!, day: m[3]! };
+  return order.map((p) => part[p]).join(separator);
+}
+
+/**
+ * A typed date → YYYY-MM-DD, or null when it is no complete, real calendar day. Reads the language's
+ * order ("4.5.2026", "04/05/2026") and ISO ("2026-05-04"); a two-digit year ("4.5.26", the 2000s)
+ * only when `shortYear` (a field being left: while typing, "20" may be the start of "2026").
+ * Written here rather than taken from a date library: the order comes from Intl's own parts for the
+ * locale, and the rest is a calendar check of a few lines (no date package is among our dependencies).
+ */
+export function parseInputDate(text: string, shortYear = false, locale = LOCALE): string | null {
+  const s = text.trim();
+  let y: number, mo: number, d: number;
+  const iso = /^(\d{4})-(\d{1,2})-(\d{1,2})$/.exec(s);
+  if (iso) {
+    [y, mo, d] = [Number(iso[1]), Number(iso[2]), Number(iso[3])];
+  } else {
+    const m = /^(\d{1,2})[./-](\d{1,2})[./-](\d{4}|\d{2})$/.exec(s);
+    if (!m || (m[3]!.length === 2 && !shortYear)) return null;
+    const { order } = datePattern(locale);
+    const read = { day: 0, month: 0, year: 0 };
+    const numbers = [Number(m[1]), Number(m[2]), Number(m[3])];
+    const withoutYear = order.filter((p) => p !== "year");
+    read[withoutYear[0]!] = numbers[0]!;
+    read[withoutYear[1]!] = numbers[1]!;
+    read.year = m[3]!.length === 2 ? 2000 + numbers[2]! : numbers[2]!;
+    [y, mo, d] = [read.year, read.month, read.day];
+  }
+  if (y < 1000 || mo < 1 || mo > 12 || d < 1) return null;
+  const check = new Date(Date.UTC(y, mo - 1, d));
+  if (check.getUTCMonth() !== mo - 1 || check.getUTCDate() !== d) return null;
+  return `${String(y).padStart(4, "0")}-${String(mo).padStart(2, "0")}-${String(d).padStart(2, "0")}`;
+}

@@ -29,7 +29,6 @@ const SAME_IN_GERMAN = [
   "admin.users.table.name",
   "admin.users.table.status",
   "analysis.controlChart.cols.phase",
-  "claims.claimHistory.statusTo",
   "claims.claimsTable.status",
   "claims.history.chemistry.element",
   "claims.history.elements.al_pct",
@@ -40,7 +39,7 @@ const SAME_IN_GERMAN = [
   "claims.traceChain.coil",
   "common.band.offline",
   "heats.chemistry.element",
-  // "Status → {{status}}": the claim screen reads the status key out of it (as claims.claimHistory.statusTo).
+  // "Status → {{status}}": the same words in German, the status's name put in.
   "audit.claimHistory.status",
   // "Separation: {{why}}" — the statistical term is the same word in German.
   "methods.adjusted.separation",

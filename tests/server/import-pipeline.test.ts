@@ -293,7 +293,7 @@ describe("a workbook imported while it is read", () => {
       message: `The sheet has more than ${(slabRows.length - 1).toLocaleString("en-GB")} data rows; nothing was imported. Split it into smaller files.`,
       details: { limitRows: slabRows.length - 1 },
       // The refusal's catalogue key, so the main thread answers in the asker's language.
-      said: [{ key: "imports.workbook.tooManyRows", values: { rows: (slabRows.length - 1).toLocaleString("en-GB") } }],
+      said: [{ key: "imports.workbook.tooManyRows", values: { rows: { num: slabRows.length - 1 } } }],
     });
     expect(dump(a)).toEqual(before);
     expect(lockIsFree(a)).toBe(true);

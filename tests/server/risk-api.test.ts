@@ -96,6 +96,24 @@ describe("risk models over HTTP", () => {
     // The other languages' words ride in the stored validation, never in the answer.
     expect(german.body.validation).not.toHaveProperty("words");
     expect(english.body.validation).not.toHaveProperty("words");
+    expect(german.body.validation.notes.join(" ")).not.toContain("Diese Version wurde trainiert, bevor");
+
+    // A version trained before the words were kept per language (no `words` stored): its English is shown, and the German reader is told so first.
+    const c = t.db.$client;
+    const stored = c.prepare("select validation from risk_models where id = ?").pluck().get(modelId) as string;
+    const { words: _words, ...withoutWords } = JSON.parse(stored) as Record<string, unknown>;
+    c.prepare("update risk_models set validation = ? where id = ?").run(JSON.stringify(withoutWords), modelId);
+    try {
+      const old = await quality.get(`/api/risk-models/${modelId}`).set("Accept-Language", "de");
+      expect(old.body.method).toBe(english.body.method);
+      expect(old.body.validation.notes).toEqual([
+        "Diese Version wurde trainiert, bevor Methode und Hinweise in jeder Sprache gespeichert wurden: Sie stehen auf Englisch da, wie sie damals geschrieben wurden. Eine neu trainierte Version schreibt sie in jeder Sprache.",
+        ...english.body.validation.notes,
+      ]);
+      expect((await quality.get(`/api/risk-models/${modelId}`).set("Accept-Language", "en")).body.validation.notes).toEqual(english.body.validation.notes);
+    } finally {
+      c.prepare("update risk_models set validation = ? where id = ?").run(stored, modelId);
+    }
   });
 
   it("when the models are listed and one is opened, then the list shows it without coefficients and the version with them", async () => {

@@ -287,7 +287,7 @@ describe("the server's words in the reader's language", () => {
     expect(column(ba.getWorksheet("Parameters"), 1)).toEqual(expect.arrayContaining(["Compare", "Compare within", "A from (m/min)"]));
   }, 60_000);
 
-  it("when a German claims officer reads a claim's history, then its lines are German (the status as its key, for the screen to name); English as before", async () => {
+  it("when a German claims officer reads a claim's history, then its lines are German (the status by its German name); English as before", async () => {
     const claims = await t.agentFor("claims");
     const slabs = (t.db.$client.prepare("select slab_id from slabs order by id desc limit 2").pluck().all() as string[]).reverse();
     const created = await claims
@@ -310,7 +310,7 @@ describe("the server's words in the reader's language", () => {
       expect(sent.status).toBe(202);
       expect(details(sent.body.claim)).toEqual([
         "2 Brammen verknüpft",
-        "Status → under_review",
+        "Status → In Prüfung",
         `Verknüpfung mit Bramme ${slabs[1]} gelöst`,
         `Historie der Schmelze ${heat} (interne Ausgabe) für den E-Mail-Versand an buyer@example.test bereitgestellt`,
       ]);
@@ -319,7 +319,7 @@ describe("the server's words in the reader's language", () => {
     }
     expect(details((await claims.get(`/api/claims/${id}`)).body)).toEqual([
       "2 slab(s) linked",
-      "Status → under_review",
+      "Status → Under review",
       `Slab ${slabs[1]} unlinked`,
       `Heat ${heat} history (internal edition) queued for e-mail to buyer@example.test`,
     ]);
@@ -435,6 +435,46 @@ describe("refusals made in the import, report and risk code, in the requester's 
     expect((await quality.get(halfBaseline)).body.error.message).toBe(
       "Give both the first day (baselineFrom) and the last day (baselineTo) of the baseline, or neither.",
     );
+  });
+
+  it("when a refusal holds numbers, then a German reader gets them with the decimal comma and the point between thousands; English as before", async () => {
+    const quality = await t.agentFor("quality");
+    const overlap = "/api/reports/before-after?mode=variable&variable=casting_speed_m_min&aMin=0.9&aMax=1.25&bMin=1.2&bMax=1.6";
+    const admin = await t.agentFor("admin");
+    const file = await workbook([
+      ["heat_no", "caster", "grade", "cast_start", "casting_speed_m_min"],
+      ["NUM-DE-1", "CC1", "LC-1", "2026-11-03T14:20:00Z", 12.75],
+    ]);
+    const rowErrors = async (language?: string) => {
+      const req = admin.post("/api/import/heats?dryRun=true").set("Origin", O());
+      if (language) req.set("Accept-Language", language);
+      const res = await req.attach("file", file, "heats.xlsx");
+      expect(res.status).toBe(200);
+      return (res.body.errors as { column: string; message: string }[]).filter((e) => e.column === "casting_speed_m_min").map((e) => e.message);
+    };
+    await speaks(quality, "de");
+    try {
+      const ba = await quality.get(overlap);
+      expect(ba.status).toBe(400);
+      expect(ba.body.error.message).toContain("A (0,9–1,25 m/min) und B (1,2–1,6 m/min)");
+      expect(ba.body.error.message).toContain("von 1,2 bis 1,25 m/min");
+    } finally {
+      await speaks(quality, null);
+    }
+    const english = (await quality.get(overlap)).body.error.message;
+    expect(english).toBe(
+      "Ranges A (0.9–1.25 m/min) and B (1.2–1.6 m/min) overlap from 1.2 to 1.25 m/min: both ends of a range are included, so a slab there would count in both groups. Choose ranges that do not meet.",
+    );
+    // A cell beyond its column's bounds, said by the import thread.
+    const [deRow] = await rowErrors("de");
+    expect(deRow).toBe("casting_speed_m_min: 12,75 liegt außerhalb von 0,1–10 m/min.");
+    const [enRow] = await rowErrors();
+    expect(enRow).toBe("casting_speed_m_min 12.75 is outside 0.1–10 m/min.");
+    // The count in a limit: 200.000 in German, 200,000 in English (the same refusal, said twice).
+    const { figure, sayIn, said } = await import("../../server/lib/http-error");
+    const tooMany = said("imports.fileTooManyRows", { rows: figure(200_000) });
+    expect(sayIn(tooMany, "de")).toContain("200.000");
+    expect(sayIn(tooMany, "en")).toContain("200,000");
   });
 
   it("when a German user trains a risk model for a category that does not exist, then the refusal is German; English as before", async () => {

@@ -496,8 +496,9 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
       const c = crudeFit.terms.find((x) => x.column === r.column);
       const ce = estimateOf(c, step, readable);
       const ae = estimateOf(r, step, readable);
-      const perWords = t.kind === "numeric" ? perWordsOf(step, t.unit) : say("words.levelAgainst", { level: r.level!, reference: r.reference! });
-      const what = t.kind === "numeric" ? lower(t.label) : say("words.levelOf", { name: lower(t.label), level: r.level!, reference: r.reference! });
+      const perWords = t.kind === "numeric" ? perWordsOf(step, t.unit) : say("words.levelAgainst", { level: named(r.level!), reference: named(r.reference!) });
+      const what =
+        t.kind === "numeric" ? lower(t.label) : say("words.levelOf", { name: lower(t.label), level: named(r.level!), reference: named(r.reference!) });
       const change = changeWords(what, ce.e, ae.e, readable, t.kind === "numeric" ? perWordsOf(readable, t.unit) : "", others);
       let reason: string | null = null;
       if (ae.e.coef === null) reason = ae.reason ?? fit.separation?.description ?? fit.reason;
@@ -532,6 +533,7 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
       gvif: finite(v.gvif ?? NaN),
       gvifPerDf: finite(v.gvifPerDf ?? NaN),
       collinearity: collinearityOf(v.gvifPerDf),
+      collinearityNote: null as string | null,
       ...(v.levels ? { levels: v.levels } : {}),
       reason: v.reason,
     };
@@ -544,7 +546,11 @@ export function adjustedModel(db: Db, q: Query): Adjusted {
   for (const v of variables) {
     if (v.reason && v.df === 0) notes.push(say("adjusted.variableReason", { name: named(v.label), why: v.reason }));
     if (v.collinearity === "notable" || v.collinearity === "serious") {
-      notes.push(say(v.collinearity === "serious" ? "adjusted.gvifSerious" : "adjusted.gvifNotable", { name: named(v.label), value: fmtSaid(v.gvifPerDf) }));
+      v.collinearityNote = say(v.collinearity === "serious" ? "adjusted.gvifSerious" : "adjusted.gvifNotable", {
+        name: named(v.label),
+        value: fmtSaid(v.gvifPerDf),
+      });
+      notes.push(v.collinearityNote);
     }
   }
   if (fit.affected > 0 && fit.affected < SMALL_AFFECTED) notes.push(say("adjusted.fewAffected", { count: fit.affected }));

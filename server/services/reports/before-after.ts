@@ -3,7 +3,7 @@ import type { z } from "zod";
 import type { BeforeAfter, beforeAfterQuerySchema } from "@shared/api/reports";
 import type { Db } from "../../db/client";
 import { parseDateBound } from "../../lib/dates";
-import { badRequest, said } from "../../lib/http-error";
+import { badRequest, figure, said } from "../../lib/http-error";
 import { chiSquareIndependence, fisherExact2x2 } from "../../stats/contingency";
 import { changeInEstimate } from "../../stats/logistic-multi";
 import { differenceOfProportions } from "../../stats/proportions";
@@ -56,12 +56,24 @@ function groupsOf(db: Db, q: Query): { sc: Scanned; inA: (i: number) => boolean;
   const s = variableSpec(q.variable);
   const [aMin, aMax, bMin, bMax] = [q.aMin!, q.aMax!, q.bMin!, q.bMax!];
   const u = s.unit === "–" ? "" : ` ${s.unit}`;
-  if (aMin > aMax) throw badRequest(said("reports.rangeReversed.a", { min: aMin, max: aMax, unit: u }), { field: "aMax" });
-  if (bMin > bMax) throw badRequest(said("reports.rangeReversed.b", { min: bMin, max: bMax, unit: u }), { field: "bMax" });
+  const q_ = (x: number) => figure(x, { group: false });
+  if (aMin > aMax) throw badRequest(said("reports.rangeReversed.a", { min: q_(aMin), max: q_(aMax), unit: u }), { field: "aMax" });
+  if (bMin > bMax) throw badRequest(said("reports.rangeReversed.b", { min: q_(bMin), max: q_(bMax), unit: u }), { field: "bMax" });
   if (aMin <= bMax && bMin <= aMax) {
-    throw badRequest(said("reports.rangesOverlap", { aMin, aMax, bMin, bMax, from: Math.max(aMin, bMin), to: Math.min(aMax, bMax), unit: u }), {
-      field: "bMin",
-    });
+    throw badRequest(
+      said("reports.rangesOverlap", {
+        aMin: q_(aMin),
+        aMax: q_(aMax),
+        bMin: q_(bMin),
+        bMax: q_(bMax),
+        from: q_(Math.max(aMin, bMin)),
+        to: q_(Math.min(aMax, bMax)),
+        unit: u,
+      }),
+      {
+        field: "bMin",
+      },
+    );
   }
   const sc = scan(db, buildScope(db, q));
   // The slabs' own values (a Float32 column of the cache holds grid values: read back exactly).
@@ -183,7 +195,9 @@ function stratified(db: Db, key: NonNullable<Query["stratifyBy"]>, sc: Scanned, 
   const label = lowerOf(st.label);
   const notes = [...mh.notes, ...std.notes];
   if (leftOut.length) {
-    notes.push(say("ba.leftOut", { list: leftOut.map((l) => say("ba.leftOutItem", { label: l.label, count: l.slabs, group: l.group })).join(", "), label }));
+    notes.push(
+      say("ba.leftOut", { list: leftOut.map((l) => say("ba.leftOutItem", { label: named(l.label), count: l.slabs, group: l.group })).join(", "), label }),
+    );
   }
   const cie = changeInEstimate(crude.oddsRatio, mh.oddsRatio);
   let sentence: string | null = null;

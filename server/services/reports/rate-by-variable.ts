@@ -105,7 +105,8 @@ function adjustedSlope(db: Db, sc: Scanned, q: Query, notes: string[]): NonNulla
   }
   const reason =
     a.fit.slope === null ? (a.reason ?? fit.separation?.description ?? fit.variables[0]?.reason ?? fit.reason ?? say("adjusted.notEstimable")) : null;
-  if (reason) notes.push(say("rate.adjustedNotGiven", { why: reason }));
+  const reasonNote = reason ? say("rate.adjustedNotGiven", { why: reason }) : null;
+  if (reasonNote) notes.push(reasonNote);
   // The fit's few-heats note (the only one of its notes this report repeats).
   if (fit.clusters !== null && fit.clusters < FEW_HEATS) notes.push(...fit.notes.filter((n) => n === say("fit.fewHeats", { count: fit.clusters! })));
   if (change.sentence) notes.push(change.sentence);
@@ -119,6 +120,7 @@ function adjustedSlope(db: Db, sc: Scanned, q: Query, notes: string[]): NonNulla
     crude: c.fit,
     changeInEstimate: change,
     reason,
+    reasonNote,
   };
 }
 

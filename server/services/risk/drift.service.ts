@@ -43,7 +43,8 @@ import {
 } from "@shared/api/risk-drift";
 import { columnsOf, type ModelTerms } from "./model";
 import { JUDGED_AFTER_DAYS, readTrainingData, type RiskSpec } from "./training-data";
-import { dec, num, say } from "../../lib/words";
+import { dec, num, say, speakingIn } from "../../lib/words";
+import { LANGUAGES, type Language } from "@shared/i18n/languages";
 
 const DAY = 86_400_000;
 
@@ -321,7 +322,8 @@ export interface DriftAlert {
   modelId: number;
   target: string;
   version: number;
-  months: RiskDriftMonth[];
+  /** Each month with its reason in English (`reason`) and in every other language (`reasons`), for each recipient's own. */
+  months: (RiskDriftMonth & { reasons?: Partial<Record<Language, string>> })[];
 }
 
 export interface CheckRiskDriftOptions {
@@ -370,6 +372,18 @@ export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
       // A month still filling (its last slabs not yet 14 days old) is shown, never e-mailed: a half month's alarm could not be taken back.
       const drifted = r.months.filter((x) => x.judged && x.drifted && !x.provisional);
       const alerted: string[] = [];
+      // The reasons of months about to be e-mailed, said again in each other language (a recipient
+      // reads their own); reckoned only when a month is new to the e-mail, not at every check.
+      const reasons = new Map<string, Partial<Record<Language, string>>>();
+      if (drifted.length && opts.notify) {
+        const before = new Set(c.prepare("select month from risk_drift_checks where model_id = ? and alerted_at is not null").pluck().all(m.id) as string[]);
+        if (drifted.some((x) => !before.has(x.month))) {
+          for (const language of LANGUAGES.filter((l) => l !== "en")) {
+            const again = await speakingIn(language, () => reckon(db, m, now));
+            for (const x of again.months) reasons.set(x.month, { ...reasons.get(x.month), [language]: x.reason });
+          }
+        }
+      }
       if (drifted.length && opts.notify) {
         const notify = opts.notify;
         c.transaction(() => {
@@ -380,7 +394,7 @@ export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
             modelId: m.id,
             target: targetName(db, m.target_kind, m.target_code),
             version: m.version,
-            months: fresh.map((x) => ({ ...x, checkedAt: iso(now), alertedAt: iso(now) })),
+            months: fresh.map((x) => ({ ...x, reasons: reasons.get(x.month), checkedAt: iso(now), alertedAt: iso(now) })),
           };
           // Marked alerted only when the message is in the queue (no quality engineer: tried again at the next check).
           if (notify.riskDrift(alert, r.validationAucCiLower) === null) return;

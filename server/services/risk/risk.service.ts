@@ -14,7 +14,7 @@
 import { Worker } from "node:worker_threads";
 import type { Db } from "../../db/client";
 import { databaseIdOf } from "../../db/identity";
-import { HttpError, said, sayIn } from "../../lib/http-error";
+import { HttpError, said, sayIn, valuesIn, type SaidValues } from "../../lib/http-error";
 import type { Logger } from "../../lib/logger";
 import { threadEntry } from "../../lib/paths";
 import { recordAudit } from "../audit.service";
@@ -41,12 +41,13 @@ import { translator } from "../../lib/i18n";
  * (`{"key":…,"values":…}`), said when read in the reader's language. A row written before holds its
  * English words: shown as they are.
  */
-const storeWords = (key: string, values: Record<string, string | number> = {}) => JSON.stringify({ key, values });
+const storeWords = (key: string, values: SaidValues = {}) => JSON.stringify({ key, values });
 function storedWords(text: string | null): string | null {
   if (!text?.startsWith('{"key":')) return text;
   try {
-    const { key, values } = JSON.parse(text) as { key: string; values: Record<string, string | number> };
-    return translator(currentLanguage())(key, values);
+    const { key, values } = JSON.parse(text) as { key: string; values: SaidValues };
+    const t = translator(currentLanguage());
+    return t(key, valuesIn(values, currentLanguage(), t));
   } catch {
     return text;
   }
@@ -102,7 +103,9 @@ function toModel(db: Db, r: Row, withTerms: boolean): RiskModel {
   const stored = r.validation ? (JSON.parse(r.validation) as TrainedModel["validation"]) : null;
   // The method and notes in the reader's language where the version was trained with them (English as stored otherwise).
   const inLanguage = stored?.words?.[currentLanguage()];
-  const validation = stored ? { ...stored, notes: inLanguage?.notes ?? stored.notes, words: undefined } : null;
+  // A version trained before the words were kept per language says so, in the reader's language, above its English notes.
+  const englishOnly = stored && !inLanguage && currentLanguage() !== "en" ? [say("riskModel.wordsInEnglish")] : [];
+  const validation = stored ? { ...stored, notes: [...englishOnly, ...(inLanguage?.notes ?? stored.notes)], words: undefined } : null;
   return {
     id: r.id,
     targetKind: r.target_kind,
@@ -223,7 +226,7 @@ export async function trainRiskModelVersion(
     const why = outcome.type === "refused" ? outcome.said : said("risk.failedBecause", { detail: outcome.message });
     db.$client
       .prepare("update risk_models set status = 'failed', progress_text = null, error = ?, finished_at = ? where id = ?")
-      .run(storeWords(`server:errors.${why.key}`, why.values as Record<string, string | number>), Date.now(), id);
+      .run(storeWords(`server:errors.${why.key}`, why.values), Date.now(), id);
     if (outcome.type === "refused") throw new HttpError(422, "too_little_data", outcome.said, { modelId: id });
     opts.logger?.error({ err: outcome }, "risk model training failed");
     throw new HttpError(500, "training_failed", said("risk.trainingFailed", { message: sayIn(why, currentLanguage()) }), {
@@ -426,8 +429,11 @@ function reasonText(r: { variable: string; label: string; value: number | string
     return say("risk.value", { name: named(r.label), value: fmt(r.value, digits), typical: fmt(num.median, digits), unit });
   }
   const cat = terms.categorical.find((c) => c.key === r.variable);
-  const value = r.value ?? say("risk.unknown");
-  return cat ? say("risk.categoryCommon", { name: named(r.label), value, common: cat.referenceName }) : say("risk.category", { name: named(r.label), value });
+  // The level in the reader's words where it is one of ours ("1st heat", "CC1 strand 2"); a grade as it is.
+  const value = r.value !== null ? named(String(r.value)) : say("risk.unknown");
+  return cat
+    ? say("risk.categoryCommon", { name: named(r.label), value, common: named(cat.referenceName) })
+    : say("risk.category", { name: named(r.label), value });
 }
 
 /**

@@ -18,6 +18,7 @@ import { count, DASH, date, formatLocale, lowerFirst } from "@/lib/format";
 import { useTerms } from "@/i18n/terms";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
+import { DateRangeFields } from "@/components/ui/date-field";
 
 export function makeLoader(qc: QueryClient) {
   return async () => {
@@ -186,14 +187,7 @@ export function Component() {
       ) : null}
       <Card title={t("windows.historyCovered")}>
         <div className="flex flex-wrap items-end gap-4">
-          <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-            {t("windows.castFrom")}
-            <input type="date" value={from} onChange={(e) => setFrom(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
-          </label>
-          <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-            {t("windows.castUntil")}
-            <input type="date" value={to} onChange={(e) => setTo(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
-          </label>
+          <DateRangeFields fromLabel={t("windows.castFrom")} toLabel={t("windows.castUntil")} from={from} to={to} onFrom={setFrom} onTo={setTo} />
           <p className="text-sm text-ink-700">{from || to ? "" : t("windows.lastDays", { n: count(WINDOW_RECORD_DAYS) })}</p>
         </div>
       </Card>

@@ -3,7 +3,7 @@ import { useQuery, type QueryClient } from "@tanstack/react-query";
 import { useTranslation } from "react-i18next";
 import { RISK_CATEGORY_KEYS, type RiskModel, type TrainRiskModelBody } from "@shared/api/risk";
 import { can } from "@shared/roles";
-import { VARIABLES } from "@shared/variables";
+import { CATEGORICAL_LABELS, VARIABLES, type CategoricalKey } from "@shared/variables";
 import { Button } from "@/components/ui/button";
 import { Card, PageHeader } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
@@ -16,9 +16,11 @@ import { riskKeys, useActivateRiskModel, useTrainRiskModel } from "@/features/ri
 import { DriftPanel } from "@/features/risk/components/drift-panel";
 import { DASH, date, dateTime, num, pct, sig } from "@/lib/format";
 import { useTerms } from "@/i18n/terms";
+import { useLevelName } from "@/i18n/levels";
 import { requireCapability } from "../guard";
 import { RouteError } from "./route-error";
 import { DefectTargetOptions } from "@/features/defects/components/defect-target-options";
+import { DateRangeFields } from "@/components/ui/date-field";
 
 const ReliabilityChart = lazy(() => import("@/features/risk/components/reliability-chart").then((m) => ({ default: m.ReliabilityChart })));
 
@@ -107,14 +109,7 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
         </div>
       </fieldset>
       <div className="flex flex-wrap gap-4">
-        <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-          {t("risk.train.castFrom")}
-          <input type="date" value={from} onChange={(e) => setFrom(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
-        </label>
-        <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-          {t("risk.train.castUntil")}
-          <input type="date" value={to} onChange={(e) => setTo(e.target.value)} className="min-h-11 rounded-md border border-ink-300 px-3 font-normal" />
-        </label>
+        <DateRangeFields fromLabel={t("risk.train.castFrom")} toLabel={t("risk.train.castUntil")} from={from} to={to} onFrom={setFrom} onTo={setTo} />
       </div>
       <p className="text-sm text-ink-700">{t("risk.train.holdout", { days: 14 })}</p>
       {train.isError ? <Notice tone="error">{train.error.message}</Notice> : null}
@@ -127,13 +122,22 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
 
 function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
   const { t } = useTranslation("process");
-  const { term } = useTerms();
+  const { term, variable } = useTerms();
+  const levelName = useLevelName();
   const detail = useQuery(riskKeys.detail(id));
   const activate = useActivateRiskModel();
   if (detail.isPending) return <Spinner label={t("risk.model.loading")} />;
   if (detail.isError) return <Notice tone="error">{detail.error.message}</Notice>;
   const m = detail.data;
   const v = m.validation;
+  // A level's column as the model names it ("Strand: CC1 strand 2"): the term and the level as the screens name them.
+  const columnName = (column: string) => {
+    for (const c of m.categories) {
+      const label = CATEGORICAL_LABELS[c.key as CategoricalKey];
+      if (label && column.startsWith(`${label}: `)) return `${variable(c.key)}: ${levelName(column.slice(label.length + 2))}`;
+    }
+    return column;
+  };
   return (
     <div className="space-y-4" data-testid="risk-model-detail">
       <p className="text-sm text-ink-800">
@@ -218,7 +222,7 @@ function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
           <tbody>
             {m.terms.map((x) => (
               <tr key={x.column}>
-                <td className="pr-4">{x.column}</td>
+                <td className="pr-4">{columnName(x.column)}</td>
                 <td className="text-right tabular-nums">{sig(x.coefficient, 4)}</td>
               </tr>
             ))}

@@ -17,6 +17,7 @@ import { useTerms } from "@/i18n/terms";
 import { useTagDefect } from "../api/causes.queries";
 import { BulkTagPanel } from "./bulk-tag-panel";
 import { TaggingForm } from "./tagging-form";
+import { DateField } from "@/components/ui/date-field";
 
 type Order = "newest" | "oldest" | "severity";
 /** The orders; their words are under causes.worklist.order (the choice) and .orderWords (inside a sentence). */
@@ -105,14 +106,20 @@ function Filters({
           ))}
         </select>
       </label>
-      <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-        {t("causes.worklist.foundFromLabel")}
-        <input type="date" className={inputClass} value={filters.from} onChange={(e) => set({ from: e.target.value })} />
-      </label>
-      <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
-        {t("causes.worklist.toLabel")}
-        <input type="date" className={inputClass} value={filters.to} onChange={(e) => set({ to: e.target.value })} />
-      </label>
+      <DateField
+        label={t("causes.worklist.foundFromLabel")}
+        className="flex flex-col gap-1 text-sm font-semibold text-ink-800"
+        inputClassName={`${inputClass} font-normal`}
+        value={filters.from}
+        onChange={(v) => set({ from: v })}
+      />
+      <DateField
+        label={t("causes.worklist.toLabel")}
+        className="flex flex-col gap-1 text-sm font-semibold text-ink-800"
+        inputClassName={`${inputClass} font-normal`}
+        value={filters.to}
+        onChange={(v) => set({ to: v })}
+      />
       <div className="flex items-end gap-2">
         <label className="flex flex-col gap-1 text-sm font-semibold text-ink-800">
           {t("causes.worklist.heat")}

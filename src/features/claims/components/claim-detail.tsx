@@ -11,7 +11,7 @@ import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
-import { useTerms, type Terms } from "@/i18n/terms";
+import { useTerms } from "@/i18n/terms";
 import { count, date, dateTime, day, DASH, withUnit } from "@/lib/format";
 import { useClaimChange, useSendHistory, useUploadClaimAttachments } from "../api/claims.queries";
 import { ClaimStatusMark, listWords } from "./claim-marks";
@@ -433,16 +433,9 @@ export function ClaimAttachmentsCard({ claim, canManage }: { claim: Claim; canMa
 const HISTORY_ACTIONS = ["claim.create", "claim.update", "claim.slabs.link", "claim.slabs.unlink", "claim.attachments.add", "claim.history.sent"];
 const historyWords = (t: TFunction, a: string) =>
   HISTORY_ACTIONS.includes(a) ? t(`claimHistory.actions.${a.replace(/\./g, "_")}`) : a.replace(/^claim\./, "").replace(/[._]/g, " ");
-/** "Status → under_review" reads "Status → Under review"; the rest of what the server wrote is shown as it comes. */
-function detailWords(t: TFunction, term: Terms["term"], d: string) {
-  const status = /^Status → (\w+)$/.exec(d);
-  if (status) return t("claimHistory.statusTo", { status: term("claimStatus", status[1]!) });
-  return d.replace(/(Status → )(\w+)/, (_, p: string, s: string) => p + term("claimStatus", s));
-}
 
 export function ClaimHistoryCard({ claim }: { claim: Claim }) {
   const { t } = useTranslation("claims");
-  const { term } = useTerms();
   const system = t("claimHistory.system");
   return (
     <Card title={t("claimHistory.title")}>
@@ -455,7 +448,7 @@ export function ClaimHistoryCard({ claim }: { claim: Claim }) {
               <span title={h.action}>{historyWords(t, h.action)}</span>
               {h.detail ? (
                 <span className="w-full text-ink-800" data-testid="claim-history-detail">
-                  {detailWords(t, term, h.detail)}
+                  {h.detail}
                 </span>
               ) : null}
             </li>

@@ -1,15 +1,16 @@
 import { useMemo } from "react";
-import { useForm } from "react-hook-form";
+import { Controller, useForm } from "react-hook-form";
 import { zodResolver } from "@/lib/form-resolver";
 import { Trans, useTranslation } from "react-i18next";
 import type { TFunction } from "i18next";
 import { z } from "zod";
 import type { Claim } from "@shared/api/claims";
 import { RecordForm, TextAreaField, todayInput } from "@/components/mutation-form";
-import { TextField } from "@/components/ui/field";
+import { fieldInputClass, TextField } from "@/components/ui/field";
 import { ApiError } from "@/lib/api-client";
 import { friendlyErrors } from "@/lib/form-errors";
 import { useCreateClaim } from "../api/claims.queries";
+import { DateField } from "@/components/ui/date-field";
 
 /** Ids as a person types or pastes them: commas, spaces, semicolons or new lines between. */
 export const idList = (text: string) => [
@@ -99,7 +100,23 @@ export function NewClaimForm({ onCreated, onCancel, initialProducts = "" }: { on
           autoCapitalize="characters"
         />
         <TextField label={t("newClaim.customer")} {...form.register("customer")} error={e.customer?.message} />
-        <TextField label={t("newClaim.receivedOn")} type="date" {...form.register("receivedOn")} error={e.receivedOn?.message} />
+        <Controller
+          control={form.control}
+          name="receivedOn"
+          render={({ field }) => (
+            <DateField
+              label={t("newClaim.receivedOn")}
+              className="flex flex-col gap-1"
+              labelClassName="text-sm font-semibold text-ink-800"
+              inputClassName={fieldInputClass(e.receivedOn)}
+              name={field.name}
+              value={field.value}
+              onChange={field.onChange}
+              onBlur={field.onBlur}
+              error={e.receivedOn?.message}
+            />
+          )}
+        />
         <TextField
           label={t("newClaim.quantity")}
           inputMode="decimal"

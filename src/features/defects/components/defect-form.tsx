@@ -8,6 +8,7 @@ import { Notice } from "@/components/ui/notice";
 import { useTerms } from "@/i18n/terms";
 import { ApiError } from "@/lib/api-client";
 import { newClientKey } from "@/lib/client-key";
+import { inputNumberText } from "@/lib/format";
 import { useDeletePhoto, useUpdateDefect } from "../api/defects.queries";
 import { getOutbox } from "../offline/outbox-instance";
 import type { OutboxEntryView, OutboxSummary } from "../offline/outbox";
@@ -105,9 +106,14 @@ function SizeField({
 }
 
 function initialDraft(mode: FormMode): EntryDraft {
-  if (mode.kind === "fix" && mode.entry.body) return draftFromBody(mode.entry.body);
-  if (mode.kind === "edit") return draftFromDefect(mode.defect);
+  if (mode.kind === "fix" && mode.entry.body) return sizesInLanguage(draftFromBody(mode.entry.body));
+  if (mode.kind === "edit") return sizesInLanguage(draftFromDefect(mode.defect));
   return emptyDraft();
+}
+
+/** A stored size shows as the language writes it ("2,5" in German); parseSize reads both styles. */
+function sizesInLanguage(d: EntryDraft): EntryDraft {
+  return { ...d, lengthMm: inputNumberText(d.lengthMm), widthMm: inputNumberText(d.widthMm), depthMm: inputNumberText(d.depthMm) };
 }
 
 /**

@@ -3,6 +3,7 @@ import { useTranslation } from "react-i18next";
 import type { PlantSetup } from "@shared/api/plant";
 import { Button } from "@/components/ui/button";
 import type { HeatListParams } from "../api/heats.queries";
+import { DateField } from "@/components/ui/date-field";
 
 type Families = PlantSetup["gradeFamilies"];
 
@@ -80,14 +81,24 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
           ))}
         </select>
       </label>
-      <label className="flex flex-col gap-1 md:col-span-2 xl:col-span-1">
-        <span className="text-sm font-semibold text-ink-800">{t("filters.castFrom")}</span>
-        <input type="date" value={value.from ?? ""} max={value.to} onChange={(e) => onChange({ from: e.target.value || undefined })} className={inputClass} />
-      </label>
-      <label className="flex flex-col gap-1 md:col-span-2 xl:col-span-1">
-        <span className="text-sm font-semibold text-ink-800">{t("filters.castTo")}</span>
-        <input type="date" value={value.to ?? ""} min={value.from} onChange={(e) => onChange({ to: e.target.value || undefined })} className={inputClass} />
-      </label>
+      <DateField
+        label={t("filters.castFrom")}
+        className="flex flex-col gap-1 md:col-span-2 xl:col-span-1"
+        labelClassName="text-sm font-semibold text-ink-800"
+        value={value.from ?? ""}
+        max={value.to}
+        onChange={(v) => onChange({ from: v || undefined })}
+        inputClassName={inputClass}
+      />
+      <DateField
+        label={t("filters.castTo")}
+        className="flex flex-col gap-1 md:col-span-2 xl:col-span-1"
+        labelClassName="text-sm font-semibold text-ink-800"
+        value={value.to ?? ""}
+        min={value.from}
+        onChange={(v) => onChange({ to: v || undefined })}
+        inputClassName={inputClass}
+      />
       <div className="flex items-end md:col-span-2 xl:col-span-1">
         <Button
           variant="ghost"

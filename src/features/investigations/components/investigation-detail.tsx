@@ -7,7 +7,7 @@ import { AttachmentsCard } from "@/components/attachments-card";
 import { MutationError, TextAreaField, todayInput, useAddRow } from "@/components/mutation-form";
 import { Button } from "@/components/ui/button";
 import { Card } from "@/components/ui/card";
-import { TextField } from "@/components/ui/field";
+import { fieldInputClass, TextField } from "@/components/ui/field";
 import { SeverityMark } from "@/components/ui/marks";
 import { Notice } from "@/components/ui/notice";
 import { count, date, dateTime, DASH } from "@/lib/format";
@@ -15,6 +15,7 @@ import { useTerms } from "@/i18n/terms";
 import { useInvestigationChange, useUploadAttachments } from "../api/investigations.queries";
 import { heatList, PersonOptions } from "./new-investigation-form";
 import { ActionStatusMark, HypothesisStatusMark, InvestigationStatusMark, OverdueMark } from "./investigation-marks";
+import { DateField } from "@/components/ui/date-field";
 
 export type TagOption = { code: string; name: string; group: string };
 
@@ -447,10 +448,13 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
                 <PersonOptions people={people} />
               </select>
             </div>
-            <TextField
+            <DateField
               label={t("investigations.detail.dueOn")}
-              type="date"
-              {...add.bind("dueOn")}
+              className="flex flex-col gap-1"
+              labelClassName="text-sm font-semibold text-ink-800"
+              inputClassName={fieldInputClass()}
+              value={dueOn}
+              onChange={(v) => add.set("dueOn", v)}
               hint={dueOn && dueOn < todayInput() ? t("investigations.detail.datePassed") : undefined}
             />
             <Button type="submit" variant="secondary" className="self-end" disabled={change.isPending || description.trim().length === 0 || !ownerId || !dueOn}>

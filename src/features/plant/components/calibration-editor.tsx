@@ -2,7 +2,7 @@ import { useTranslation } from "react-i18next";
 import type { z } from "zod";
 import type { embrCalibrationSchema } from "@shared/api/plant";
 import { Button } from "@/components/ui/button";
-import { num, parseDecimal } from "@/lib/format";
+import { inputNumber, localeOf, num, parseDecimal } from "@/lib/format";
 
 export type EmbrCalibration = z.infer<typeof embrCalibrationSchema>;
 
@@ -24,7 +24,11 @@ export function CalibrationEditor({
   idPrefix: string;
   error?: string;
 }) {
-  const { t } = useTranslation("admin");
+  const { t, i18n } = useTranslation("admin");
+  // A stored number in the language's style ("0,75"). An input keeps the text it was first given
+  // (key={locale}): a new language draws it anew, from the number.
+  const locale = localeOf(i18n.language);
+  const shown = (x: number) => inputNumber(x, locale);
   const setKind = (kind: EmbrCalibration["kind"]) => {
     if (kind === value.kind) return;
     if (kind === "linear") {
@@ -59,15 +63,22 @@ export function CalibrationEditor({
           <label className="flex flex-col gap-1 text-sm">
             <span className="font-semibold text-ink-800">{t("plant.calibration.slope")}</span>
             <input
+              key={locale}
               className={cell}
               inputMode="decimal"
-              defaultValue={Number((value.teslaPerAmp * 1000).toPrecision(6))}
+              defaultValue={shown(Number((value.teslaPerAmp * 1000).toPrecision(6)))}
               onChange={(e) => onChange({ ...value, teslaPerAmp: toNum(e.target.value) / 1000 })}
             />
           </label>
           <label className="flex flex-col gap-1 text-sm">
             <span className="font-semibold text-ink-800">{t("plant.calibration.offset")}</span>
-            <input className={cell} inputMode="decimal" defaultValue={value.offsetT} onChange={(e) => onChange({ ...value, offsetT: toNum(e.target.value) })} />
+            <input
+              key={locale}
+              className={cell}
+              inputMode="decimal"
+              defaultValue={shown(value.offsetT)}
+              onChange={(e) => onChange({ ...value, offsetT: toNum(e.target.value) })}
+            />
           </label>
           <p className="text-xs text-ink-600 sm:col-span-2">{t("plant.calibration.fieldAt400", { field: num(value.offsetT + value.teslaPerAmp * 400, 3) })}</p>
         </div>
@@ -86,19 +97,21 @@ export function CalibrationEditor({
                 <tr key={`${i}-${value.points.length}`}>
                   <td className="py-1 pr-2">
                     <input
+                      key={locale}
                       aria-label={t("plant.calibration.currentOf", { n: i + 1 })}
                       className={cell}
                       inputMode="decimal"
-                      defaultValue={a}
+                      defaultValue={shown(a)}
                       onChange={(e) => onChange({ kind: "table", points: value.points.map((p, j) => (j === i ? [toNum(e.target.value), p[1]] : p)) })}
                     />
                   </td>
                   <td className="py-1 pr-2">
                     <input
+                      key={locale}
                       aria-label={t("plant.calibration.fieldOf", { n: i + 1 })}
                       className={cell}
                       inputMode="decimal"
-                      defaultValue={tesla}
+                      defaultValue={shown(tesla)}
                       onChange={(e) => onChange({ kind: "table", points: value.points.map((p, j) => (j === i ? [p[0], toNum(e.target.value)] : p)) })}
                     />
                   </td>

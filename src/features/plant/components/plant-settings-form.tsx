@@ -7,7 +7,7 @@ import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
-import { count, parseDecimal } from "@/lib/format";
+import { count, inputNumber, localeOf, parseDecimal } from "@/lib/format";
 import { useSaveSettings } from "../api/setup.queries";
 
 const ELEMENTS = [
@@ -54,14 +54,17 @@ const resolver: Resolver<PlantSettings> = (values, context, options) => zod(with
 
 /** The formula settings of the plant. Saving recomputes every slab's derived values. */
 export function PlantSettingsForm({ settings, onRecomputed }: { settings: PlantSettings; onRecomputed?: (n: number) => void }) {
-  const { t } = useTranslation("admin");
+  const { t, i18n } = useTranslation("admin");
   const message = useFormMessage();
   const save = useSaveSettings({ onRecomputed });
+  const locale = localeOf(i18n.language);
   const form = useForm<PlantSettings>({ resolver, defaultValues: withEveryElement(settings) });
   const e = form.formState.errors;
   const coeffs = form.watch("liquidus");
-  const formula = `T_L = ${coeffs.baseC} − (${ELEMENTS.filter(([k]) => Number.isFinite(coeffs.perPct?.[k] as number) && coeffs.perPct?.[k] !== undefined)
-    .map(([k, sym]) => `${coeffs.perPct[k]} ${sym}`)
+  const formula = `T_L = ${inputNumber(coeffs.baseC, locale)} − (${ELEMENTS.filter(
+    ([k]) => Number.isFinite(coeffs.perPct?.[k] as number) && coeffs.perPct?.[k] !== undefined,
+  )
+    .map(([k, sym]) => `${inputNumber(coeffs.perPct[k], locale)} ${sym}`)
     .join(" + ")})`;
 
   return (

@@ -5,6 +5,7 @@ import { Card } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { useTerms } from "@/i18n/terms";
+import { useLevelName } from "@/i18n/levels";
 import { count, num, pct, pValue, sig } from "@/lib/format";
 import { ChangeSentence, CollinearityMark, ratioRange, relChange, SE_WORDS, SeChoice } from "./estimates";
 import { Figure } from "./figure";
@@ -79,16 +80,14 @@ export function AdjustedView({ data }: { data: Adjusted }) {
   const se = SE_WORDS[data.seMethod];
   // A term's name as the screens say it (the answer's label is English, for API readers).
   const { variable } = useTerms();
+  const levelName = useLevelName();
   const examined = data.terms.filter((t) => t.role === "examined");
   const adjustment = data.terms.filter((t) => t.role === "adjustment");
   const byVariable = new Map(data.variables.map((v) => [v.variable, v]));
   const sentences = data.terms.filter((t) => t.role === "examined" && t.changeInEstimate.sentence).map((t) => t.changeInEstimate.sentence!);
   const collinear = data.variables.filter((v) => v.collinearity === "notable" || v.collinearity === "serious");
   // The notes the screen shows elsewhere (sentences, collinearity) are not repeated in the notes list.
-  const otherNotes = data.notes.filter(
-    // A collinearity note names the GVIF formula, in every language.
-    (n) => !data.terms.some((t) => t.changeInEstimate.sentence === n) && !(collinear.length > 0 && n.includes(": GVIF^(1/(2·df)) = ")),
-  );
+  const otherNotes = data.notes.filter((n) => !data.terms.some((t) => t.changeInEstimate.sentence === n) && !collinear.some((v) => v.collinearityNote === n));
   const adjustedWords = data.adjustFor.map((t) => inSentence(variable(t.key))).join(", ");
   // Words repeated on every row, looked up once.
   const roleWords = { examined: t("adjusted.roles.examined"), adjustment: t("adjusted.roles.adjustment") };
@@ -317,7 +316,7 @@ export function AdjustedView({ data }: { data: Adjusted }) {
                       <ul className="space-y-0.5">
                         {v.levels.map((l) => (
                           <li key={l.level}>
-                            <span className="font-semibold">{l.level}</span>: {count(l.slabs)} ({count(l.affected)})
+                            <span className="font-semibold">{levelName(l.level)}</span>: {count(l.slabs)} ({count(l.affected)})
                             {l.reference ? <span className="text-ink-600"> — {referenceWord}</span> : null}
                           </li>
                         ))}

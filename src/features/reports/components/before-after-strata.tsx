@@ -2,6 +2,7 @@ import { Trans, useTranslation } from "react-i18next";
 import type { TFunction } from "i18next";
 import type { BeforeAfter } from "@shared/api/reports";
 import { Card } from "@/components/ui/card";
+import { useLevelName } from "@/i18n/levels";
 import { count, lowerFirst, num, pct, pValue, sig } from "@/lib/format";
 import { ChangeSentence, points, ratioRange } from "./estimates";
 import { Figure } from "./figure";
@@ -24,6 +25,7 @@ function breslowDayWords(t: TFunction<"analysis">, bd: Stratified["breslowDay"],
  */
 export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }) {
   const { t, i18n } = useTranslation("analysis");
+  const levelName = useLevelName();
   // English writes a label inside a sentence in small letters; German keeps its nouns' capitals.
   const by = i18n.language === "de" ? st.by.label : lowerFirst(st.by.label);
   const mh = st.mantelHaenszel;
@@ -86,11 +88,11 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
             a: pct(sd.rateA),
             b: pct(sd.rateB),
             reference: sd.reference,
-            mix: sd.referenceMix.map((m) => `${m.label} ${pct(m.share, 1)} (n = ${count(m.slabs)})`).join(", "),
+            mix: sd.referenceMix.map((m) => `${levelName(m.label)} ${pct(m.share, 1)} (n = ${count(m.slabs)})`).join(", "),
           })}
           {sd.leftOut.length
             ? ` ${t("strata.leftOut", {
-                list: sd.leftOut.map((l) => t("strata.leftOutItem", { label: l.label, n: count(l.slabs), group: l.group })).join(", "),
+                list: sd.leftOut.map((l) => t("strata.leftOutItem", { label: levelName(l.label), n: count(l.slabs), group: l.group })).join(", "),
               })}`
             : ""}
         </p>
@@ -127,7 +129,7 @@ export function BeforeAfterStrata({ stratified: st }: { stratified: Stratified }
                 return (
                   <tr key={s.label} className={`border-b border-ink-100 align-top ${few ? "bg-ink-50" : ""}`} data-testid="stratum-row">
                     <td className={`${td} font-semibold`}>
-                      <span data-field="label">{s.label}</span>
+                      <span data-field="label">{levelName(s.label)}</span>
                       {few ? <FewMark /> : null}
                     </td>
                     <td className={tdNum} data-field="aSlabs">

@@ -13,6 +13,7 @@ import type { ReportParams } from "./report-params";
 import { Choice, PeriodChoice, SettingsRow, StandardiseChoice } from "./settings";
 import { FEW_SLABS, FewMark, SmallNWarning } from "./small-n";
 import { TableWrap, td, tdNum, th, thNum } from "./tables";
+import { DateField } from "@/components/ui/date-field";
 
 const PChart = lazy(() => import("./charts/p-chart"));
 
@@ -75,28 +76,26 @@ export function ControlChartSettings({ params, onChange }: { params: ReportParam
           if (both && !reversed) onChange({ baselineFrom: draft.from, baselineTo: draft.to });
         }}
       >
-        <label className={labelClass}>
-          <span className={labelText}>{t("controlChart.settings.baselineFrom")}</span>
-          <input
-            type="date"
-            className={inputClass}
-            value={draft.from}
-            max={draft.to || undefined}
-            onChange={(e) => setDraft((d) => ({ ...d, from: e.target.value }))}
-            data-testid="baseline-from"
-          />
-        </label>
-        <label className={labelClass}>
-          <span className={labelText}>{t("controlChart.settings.baselineTo")}</span>
-          <input
-            type="date"
-            className={inputClass}
-            value={draft.to}
-            min={draft.from || undefined}
-            onChange={(e) => setDraft((d) => ({ ...d, to: e.target.value }))}
-            data-testid="baseline-to"
-          />
-        </label>
+        <DateField
+          label={t("controlChart.settings.baselineFrom")}
+          className={labelClass}
+          labelClassName={labelText}
+          inputClassName={inputClass}
+          value={draft.from}
+          max={draft.to || undefined}
+          onChange={(v) => setDraft((d) => ({ ...d, from: v }))}
+          data-testid="baseline-from"
+        />
+        <DateField
+          label={t("controlChart.settings.baselineTo")}
+          className={labelClass}
+          labelClassName={labelText}
+          inputClassName={inputClass}
+          value={draft.to}
+          min={draft.from || undefined}
+          onChange={(v) => setDraft((d) => ({ ...d, to: v }))}
+          data-testid="baseline-to"
+        />
         <div className="flex items-end">
           <Button type="submit" className="w-full" disabled={!both || reversed} data-testid="baseline-apply">
             {t("controlChart.settings.useAsBaseline")}

@@ -5,6 +5,7 @@ import { AfterFirstView } from "@/components/ui/first-view";
 import { useTerms } from "@/i18n/terms";
 import { MultiPick } from "./multi-pick";
 import { anyFilter, FILTER_KEYS, joinList, listOf, type ReportParams } from "./report-params";
+import { DateField } from "@/components/ui/date-field";
 
 /** What the filters offer, from the plant setup and the defect catalogue (the route gathers them). */
 export interface FilterChoices {
@@ -24,9 +25,16 @@ type Patch = Partial<Record<string, string | undefined>>;
 /**
  * Where a date field goes until the first view is drawn: the page's first date field costs the
  * browser a few tens of milliseconds to build (its calendar's words and formats), which held the
- * report's first table back. The same box, empty.
+ * report's first table back. The same label and box, empty.
  */
-const dateFieldPlace = <span className={`block ${inputClass}`} />;
+function DateFieldPlace({ label }: { label: string }) {
+  return (
+    <div className={labelClass}>
+      <span className={labelText}>{label}</span>
+      <span className={`block ${inputClass}`} />
+    </div>
+  );
+}
 
 /**
  * The filters every report shares. Each change goes straight to the address, so the screen, a
@@ -39,24 +47,28 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
   const where = params.caster ? (params.strand ? `${params.caster}:${params.strand}` : params.caster) : params.strand ? `*:${params.strand}` : "";
   return (
     <form role="search" aria-label={t("filters.label")} className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-8" onSubmit={(e) => e.preventDefault()}>
-      <label className={labelClass}>
-        <span className={labelText}>{t("filters.from")}</span>
-        <AfterFirstView placeholder={dateFieldPlace}>
-          <input
-            type="date"
-            value={params.from ?? ""}
-            max={params.to}
-            onChange={(e) => onChange({ from: e.target.value || undefined })}
-            className={inputClass}
-          />
-        </AfterFirstView>
-      </label>
-      <label className={labelClass}>
-        <span className={labelText}>{t("filters.to")}</span>
-        <AfterFirstView placeholder={dateFieldPlace}>
-          <input type="date" value={params.to ?? ""} min={params.from} onChange={(e) => onChange({ to: e.target.value || undefined })} className={inputClass} />
-        </AfterFirstView>
-      </label>
+      <AfterFirstView placeholder={<DateFieldPlace label={t("filters.from")} />}>
+        <DateField
+          label={t("filters.from")}
+          className={labelClass}
+          labelClassName={labelText}
+          inputClassName={inputClass}
+          value={params.from ?? ""}
+          max={params.to}
+          onChange={(v) => onChange({ from: v || undefined })}
+        />
+      </AfterFirstView>
+      <AfterFirstView placeholder={<DateFieldPlace label={t("filters.to")} />}>
+        <DateField
+          label={t("filters.to")}
+          className={labelClass}
+          labelClassName={labelText}
+          inputClassName={inputClass}
+          value={params.to ?? ""}
+          min={params.from}
+          onChange={(v) => onChange({ to: v || undefined })}
+        />
+      </AfterFirstView>
       <label className={labelClass}>
         <span className={labelText}>{t("filters.where")}</span>
         <select

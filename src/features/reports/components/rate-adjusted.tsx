@@ -6,6 +6,7 @@ import { Card } from "@/components/ui/card";
 import { Spinner } from "@/components/ui/logo";
 import { Notice } from "@/components/ui/notice";
 import { useTerms } from "@/i18n/terms";
+import { useLevelName } from "@/i18n/levels";
 import { count, num, pct, pctRange, pValue, sig } from "@/lib/format";
 import { ChangeSentence, ratioRange, SE_WORDS } from "./estimates";
 import { inSentence } from "./report-params";
@@ -99,6 +100,7 @@ export function RateAdjustedCard({ adjusted, variable, method }: { adjusted: Adj
 export function RateStratifiedCard({ data, stratified, digits, minN }: { data: RateByVariable; stratified: Stratified; digits: number; minN: number }) {
   const { t } = useTranslation("reports");
   const { variable: termWords } = useTerms();
+  const levelName = useLevelName();
   const label = termWords(data.variable.key);
   const byLabel = termWords(stratified.by.key);
   const by = inSentence(byLabel);
@@ -133,7 +135,7 @@ export function RateStratifiedCard({ data, stratified, digits, minN }: { data: R
               return (
                 <tr key={s.label} className={`border-b border-ink-100 align-top ${few ? "bg-ink-50 text-ink-500" : ""}`} data-testid="stratum-row">
                   <td className={`${td} font-semibold`}>
-                    <span data-field="label">{s.label}</span>
+                    <span data-field="label">{levelName(s.label)}</span>
                     {few ? <FewMark /> : null}
                   </td>
                   <td className={tdNum} data-field="slabs">
@@ -167,7 +169,7 @@ export function RateStratifiedCard({ data, stratified, digits, minN }: { data: R
       {stratified.notShown.length ? (
         <p className="mt-2 text-xs text-ink-600" data-testid="strata-not-shown">
           {t("rateStratified.notShown", {
-            list: stratified.notShown.map((s) => t("rateStratified.notShownItem", { label: s.label, n: count(s.slabs) })).join(", "),
+            list: stratified.notShown.map((s) => t("rateStratified.notShownItem", { label: levelName(s.label), n: count(s.slabs) })).join(", "),
           })}
         </p>
       ) : null}

@@ -27,7 +27,6 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
   const perUnit = u ? t("rbv.perOne", { unit: u }) : t("rbv.perUnit");
   const orCi = (lo: number | null | undefined, hi: number | null | undefined) => t("rbv.ci", { lower: sig(lo, 3), upper: sig(hi, 3) });
   const { spearman, pointBiserial, logistic, mannWhitney, methods } = data;
-  const thinBins = data.bins.filter((b) => b.slabs < minN).length;
   const tests = [
     { key: "spearman", name: t("rbv.spearman"), stat: sig(spearman.rho, 3), p: spearman.p, method: methods.spearman },
     { key: "pointBiserial", name: t("rbv.pointBiserial"), stat: sig(pointBiserial.r, 3), p: pointBiserial.p, method: methods.pointBiserial },
@@ -70,13 +69,11 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
         notes={[
           // The sentence and the missing adjusted estimate are said in the adjusted card.
           // (the server words the missing estimate around its reason, in the reader's language).
-          ...data.notes.filter((n) => n !== data.adjusted?.changeInEstimate.sentence && !(data.adjusted?.reason && n.includes(data.adjusted.reason))),
+          ...data.notes.filter((n) => n !== data.adjusted?.changeInEstimate.sentence && n !== data.adjusted?.reasonNote),
           // The server warns below 10 affected slabs; a logistic fit and its odds ratio stay rough well above that.
           data.affected >= 10 && data.affected < FEW_SLABS ? t("rbv.fewAffected", { n: data.affected }) : "",
         ]}
-      >
-        {thinBins && !data.notes.some((n) => n.includes("fewer than")) ? t("rbv.thinBins", { count: thinBins, n: count(thinBins), minN }) : null}
-      </SmallNWarning>
+      />
       {data.adjusted ? <RateAdjustedCard adjusted={data.adjusted} variable={data.variable} method={methods.adjusted} /> : null}
       <Card title={t("rbv.rateAgainst", { variable: inSentence(label) })}>
         <Suspense fallback={<Spinner label={t("charts.loading")} />}>

@@ -4,6 +4,7 @@ import { Link } from "react-router";
 import { SMALL_AFFECTED, type Screening } from "@shared/api/reports";
 import { VARIABLES } from "@shared/variables";
 import { useTerms } from "@/i18n/terms";
+import { useLevelName } from "@/i18n/levels";
 import { Card } from "@/components/ui/card";
 import { Figure } from "./figure";
 import { count, num, pct, pValue, sig } from "@/lib/format";
@@ -41,6 +42,7 @@ const METHOD_KEYS = new Set(["welch", "chiSquare", "crude", "adjusted", "multipl
 export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (key: string) => string }) {
   const { t } = useTranslation("reports");
   const { variable } = useTerms();
+  const levelName = useLevelName();
   // The rows' names and words, looked up once per answer and language, not per row.
   const labels = useMemo(() => new Map(data.variables.map((v) => [v.key, variable(v.key)])), [data.variables, variable]);
   const labelOf = (key: string) => labels.get(key) ?? (VARIABLES.some((v) => v.key === key) ? variable(key) : key);
@@ -237,7 +239,8 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                         <ul className="space-y-0.5">
                           {v.categories?.map((c) => (
                             <li key={c.label} className={c.slabs < FEW_SLABS ? "text-ink-500" : ""}>
-                              <span className="font-semibold">{c.label}</span>: {pct(c.rate)} {fill(w.ofN, { affected: c.affected, n: count(c.slabs) })}
+                              <span className="font-semibold">{levelName(c.label)}</span>: {pct(c.rate)}{" "}
+                              {fill(w.ofN, { affected: c.affected, n: count(c.slabs) })}
                             </li>
                           ))}
                         </ul>

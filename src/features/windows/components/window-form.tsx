@@ -19,7 +19,7 @@ import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { friendlyErrors } from "@/lib/form-errors";
-import { formatLocale } from "@/lib/format";
+import { formatLocale, inputNumber } from "@/lib/format";
 import { useTerms, type Terms } from "@/i18n/terms";
 import { useCreateWindow, useUpdateWindow } from "../api/windows.queries";
 import { DefectTargetOptions } from "@/features/defects/components/defect-target-options";
@@ -147,7 +147,7 @@ export function WindowForm({ families, types, categories, rule, onDone }: Window
           name: rule.name,
           familyCode: rule.familyCode ?? "",
           target: rule.target ? `${rule.target.kind}:${rule.target.code}` : "",
-          conditions: rule.conditions.map((c) => ({ variable: c.variable, op: c.op, value: String(c.value) })),
+          conditions: rule.conditions.map((c) => ({ variable: c.variable, op: c.op, value: inputNumber(c.value) })),
           note: rule.note ?? "",
         }
       : { name: "", familyCode: "", target: "", conditions: [{ variable: "casting_speed_m_min", op: "above", value: "" }], note: "" },

@@ -3,6 +3,7 @@ import { useTranslation } from "react-i18next";
 import type { RateByVariable } from "@shared/api/reports";
 import { INK, SERIES_COLORS, SERIES_LINE_TYPES } from "@/lib/chart-theme";
 import { useTerms } from "@/i18n/terms";
+import { useLevelName } from "@/i18n/levels";
 import { num, pct, pctRange } from "@/lib/format";
 import { inSentence } from "../report-params";
 import { esc, pctAxis, tooltipBase } from "./chart-parts";
@@ -36,7 +37,10 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
   const { variable: termWords } = useTerms();
   const label = termWords(data.variable.key);
   const byLabel = termWords(stratified.by.key);
+  const levelName = useLevelName();
   const option = useMemo(() => {
+    // Each group's name as shown (the level the server sends stays the key).
+    const names = stratified.strata.map((s) => levelName(s.label));
     const unit = data.variable.unit === "–" ? "" : ` (${data.variable.unit})`;
     const lo = data.bins[0]?.lower ?? stratified.strata[0]?.bins[0]?.lower ?? 0;
     const hi = data.bins[data.bins.length - 1]?.upper ?? stratified.strata[0]?.bins.at(-1)?.upper ?? 1;
@@ -45,7 +49,7 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
     return {
       animation: false,
       grid: { left: 72, right: 96, top: 56, bottom: 56 },
-      legend: { top: 4, type: "scroll", data: stratified.strata.map((s) => s.label) },
+      legend: { top: 4, type: "scroll", data: names },
       tooltip: {
         ...tooltipBase,
         trigger: "item",
@@ -53,7 +57,7 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
           const s = stratified.strata[p.seriesIndex];
           const b = s?.bins[p.dataIndex];
           if (!s || !b) return "";
-          return `<b>${esc(s.label)}</b>, ${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/>${esc(t("charts.rateWithCi", { rate: pct(b.rate), ci: pctRange(b.ciLower, b.ciUpper) }))}<br/>${esc(t("charts.affectedOfN", { affected: b.affected, n: b.slabs }))}`;
+          return `<b>${esc(names[p.seriesIndex]!)}</b>, ${num(b.lower, digits + 1)} – ${num(b.upper, digits + 1)}${unit}<br/>${esc(t("charts.rateWithCi", { rate: pct(b.rate), ci: pctRange(b.ciLower, b.ciUpper) }))}<br/>${esc(t("charts.affectedOfN", { affected: b.affected, n: b.slabs }))}`;
         },
       },
       xAxis: {
@@ -79,20 +83,20 @@ export function StratumRatesChart({ data, stratified, digits }: { data: RateByVa
         const color = SERIES_COLORS[i % SERIES_COLORS.length]!;
         return {
           type: "line",
-          name: s.label,
+          name: names[i],
           symbol: STRATUM_SYMBOLS[i % STRATUM_SYMBOLS.length],
           symbolSize: 9,
           showSymbol: true,
           connectNulls: false,
           itemStyle: { color },
           lineStyle: { color, width: 2, type: SERIES_LINE_TYPES[i % SERIES_LINE_TYPES.length] },
-          endLabel: { show: true, formatter: s.label, color: INK[900], fontWeight: 600, fontSize: 12, distance: 6 },
+          endLabel: { show: true, formatter: names[i], color: INK[900], fontWeight: 600, fontSize: 12, distance: 6 },
           labelLayout: { moveOverlap: "shiftY" },
           data: s.bins.map((b) => [(b.lower + b.upper) / 2, b.sparse || b.rate === null ? null : b.rate]),
         };
       }),
     };
-  }, [data, stratified, digits, t, label]);
+  }, [data, stratified, digits, t, label, levelName]);
   return (
     <ReportChart
       option={option}
