@@ -189,7 +189,7 @@ describe("operating windows: records on history", () => {
     const e = empty.body.items.find((x: { id: number }) => x.id === fastWeakId).record;
     expect(e.flagged).toEqual({ slabs: 0, affected: 0, share: null, lower: null, upper: null });
     expect(e.verdict).toBeNull();
-    expect(e.verdictText).toMatch(/^No verdict: no slab/);
+    expect(e.verdictText).toMatch(/^No slab cast in the window met every condition/);
   });
 
   it("when a rule watches the PER family, then only PER slabs count, and 0/20 against 1/29 is no clear difference (Newcombe's values)", async () => {
@@ -210,7 +210,7 @@ describe("operating windows: records on history", () => {
     expect(r.rest.upper).toBeCloseTo(0.1718, 4);
     expect(r.intervalsOverlap).toBe(true);
     expect(r.verdict).toBe("no_clear_difference");
-    expect(r.verdictText).toMatch(/^No clear difference/);
+    expect(r.verdictText).toMatch(/^The 95 % interval of the difference includes zero/);
   });
 
   it("when a rule names no family and no defect, then every family's slabs count and any live, not rejected entry makes a slab affected", async () => {
