@@ -139,14 +139,34 @@ export function day(ymd: string | null | undefined): string {
 }
 
 /**
- * A number as a person types it, in either decimal style: "0.75" and "0,75" (German) both read 0.75.
- * A comma counts as the decimal mark only where the text has no point and one comma, so "1,234.5" is
- * not taken for a fraction; anything else is read as JavaScript reads it (NaN when it is no number).
+ * A number as a person types it, read in the language's style with the other style's decimal mark
+ * understood too: English "1,200" → 1200 and "1,234.5" → 1234.5; German "1.234" → 1234 and
+ * "1.234,5" → 1234.5; "0.75" and "0,75" → 0.75 in both. The language's thousands mark counts only
+ * between whole groups of three digits ("1,200", "12.345.678"); one mark of the other kind that is
+ * no such grouping is a decimal mark ("0.75" in German, "1536,5" in English). Mixed-up text ("1,234.5"
+ * in German, "1,2,3") and anything that is no number read NaN; JavaScript's own forms ("1e-7") read
+ * as they are. Written here: Intl formats numbers but does not read them back.
  */
-export function parseDecimal(text: string): number {
+export function parseDecimal(text: string, locale = LOCALE): number {
   const s = text.trim();
   if (s === "") return Number.NaN;
-  return Number(!s.includes(".") && s.split(",").length === 2 ? s.replace(",", ".") : s);
+  const dec = locale === "de-DE" ? "," : ".";
+  const grp = dec === "," ? "." : ",";
+  const g = grp === "." ? "\\." : ",";
+  const grouped = new RegExp(`^[+-]?[1-9]\\d{0,2}(${g}\\d{3})+$`);
+  const plain = (x: string) => (/^[+-]?(\d+\.?\d*|\.\d+)(e[+-]?\d+)?$/i.test(x) ? Number(x) : Number.NaN);
+  const asDecimal = (x: string, mark: string) => {
+    const parts = x.split(mark);
+    return parts.length === 2 ? plain(`${parts[0]}.${parts[1]}`) : Number.NaN;
+  };
+  if (s.includes(grp)) {
+    if (s.includes(dec)) {
+      const parts = s.split(dec);
+      return parts.length === 2 && grouped.test(parts[0]!) && !parts[1]!.includes(grp) ? plain(`${parts[0]!.split(grp).join("")}.${parts[1]}`) : Number.NaN;
+    }
+    return grouped.test(s) ? plain(s.split(grp).join("")) : asDecimal(s, grp);
+  }
+  return s.includes(dec) ? asDecimal(s, dec) : plain(s);
 }
 
 /**

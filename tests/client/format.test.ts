@@ -77,16 +77,40 @@ describe("formatting", () => {
     expect(num(1234.5, 1)).toBe("1,234.5");
   });
 
-  it("when a person types a number with a decimal comma or a decimal point, then both read the same; a thousands comma beside a point is not taken for a fraction", () => {
-    expect(parseDecimal("0,75")).toBe(0.75);
-    expect(parseDecimal("0.75")).toBe(0.75);
-    expect(parseDecimal(" 1536,5 ")).toBe(1536.5);
-    expect(parseDecimal("7")).toBe(7);
-    expect(parseDecimal("-0,003")).toBe(-0.003);
-    expect(parseDecimal("1,234.5")).toBeNaN();
-    expect(parseDecimal("1,2,3")).toBeNaN();
-    expect(parseDecimal("")).toBeNaN();
-    expect(parseDecimal("   ")).toBeNaN();
-    expect(parseDecimal("abc")).toBeNaN();
+  it("when a person types a number, then it is read in the language's style, the other style's decimal mark is understood, and mixed-up text is no number", () => {
+    // Both languages: either decimal mark alone, signs, JavaScript's own forms; nothing typed is no number.
+    for (const locale of ["en-GB", "de-DE"]) {
+      expect(parseDecimal("0,75", locale)).toBe(0.75);
+      expect(parseDecimal("0.75", locale)).toBe(0.75);
+      expect(parseDecimal(" 1536,5 ", locale)).toBe(1536.5);
+      expect(parseDecimal("7", locale)).toBe(7);
+      expect(parseDecimal("-0,003", locale)).toBe(-0.003);
+      expect(parseDecimal("1e-7", locale)).toBe(1e-7);
+      expect(parseDecimal("1,2,3", locale)).toBeNaN();
+      expect(parseDecimal("", locale)).toBeNaN();
+      expect(parseDecimal("   ", locale)).toBeNaN();
+      expect(parseDecimal("abc", locale)).toBeNaN();
+      expect(parseDecimal("12 mm", locale)).toBeNaN();
+    }
+    // English: a comma between whole groups of three is a thousands mark.
+    expect(parseDecimal("1,200", "en-GB")).toBe(1200);
+    expect(parseDecimal("1,234.5", "en-GB")).toBe(1234.5);
+    expect(parseDecimal("12,345,678", "en-GB")).toBe(12345678);
+    expect(parseDecimal("1.234", "en-GB")).toBe(1.234);
+    expect(parseDecimal("1.234,5", "en-GB")).toBeNaN();
+    // German: the point is the thousands mark, the comma the decimal one.
+    expect(parseDecimal("1.234", "de-DE")).toBe(1234);
+    expect(parseDecimal("1.234,5", "de-DE")).toBe(1234.5);
+    expect(parseDecimal("1,234", "de-DE")).toBe(1.234);
+    expect(parseDecimal("1,234.5", "de-DE")).toBeNaN();
+    expect(parseDecimal("1.5", "de-DE")).toBe(1.5);
+    // The language set for the screens is the default.
+    setFormatLocale("de");
+    try {
+      expect(parseDecimal("1.500")).toBe(1500);
+    } finally {
+      setFormatLocale("en");
+    }
+    expect(parseDecimal("1.500")).toBe(1.5);
   });
 });

@@ -40,7 +40,7 @@ describe("the texts an input shows and reads (src/lib/format.ts)", () => {
       "1537",
       "0",
     ]);
-    for (const locale of ["de-DE", "en-GB"]) for (const x of numbers) expect(parseDecimal(inputNumber(x, locale))).toBe(x);
+    for (const locale of ["de-DE", "en-GB"]) for (const x of numbers) expect(parseDecimal(inputNumber(x, locale), locale)).toBe(x);
     expect([inputNumber(null), inputNumber(Number.NaN)]).toEqual(["", ""]);
     // What a person typed stays as typed; what a program wrote ("0.75", "1e-7") is rewritten.
     expect(["0.75", "1e-7", "1.50", "0,8", "abc", ""].map((t) => inputNumberText(t, "de-DE"))).toEqual(["0,75", "0,0000001", "1.50", "0,8", "abc", ""]);
@@ -128,6 +128,17 @@ describe("dates and decimal numbers typed in the person's language", () => {
       await expect.poll(() => query(page, "from"), { timeout: 15_000 }).toBe("2026-05-04");
       await page.waitForLoadState("networkidle");
       await snap(page, "inputs-heat-filter-de-tablet");
+
+      // A day left unreadable, then every filter reset: the field is emptied too, and says nothing more.
+      await from.fill("31.02.2026");
+      await from.blur();
+      expect(await from.getAttribute("aria-invalid")).toBe("true");
+      await page.getByRole("button", { name: "Filter zurücksetzen" }).click();
+      await expect.poll(() => query(page, "from"), { timeout: 15_000 }).toBeNull();
+      await expect.poll(() => from.inputValue()).toBe("");
+      expect(await to.inputValue()).toBe("");
+      expect(await from.getAttribute("aria-invalid")).toBeNull();
+      expect(await page.getByText("Geben Sie das Datum als TT.MM.JJJJ ein.").count()).toBe(0);
       expect(errors).toEqual([]);
     } finally {
       setLanguage("quality", null);
@@ -189,13 +200,24 @@ describe("dates and decimal numbers typed in the person's language", () => {
       await page.getByLabel("Reklamationsnummer").fill(claimNo);
       await page.getByLabel("Kunde", { exact: true }).fill("Nordkanal Rohrwerk (demo)");
       await page.getByLabel("Beanstandeter Fehler").fill("Schalenstreifen an der Bandkante");
-      await page.getByLabel("Menge (t)").fill("24,5");
+      // German grouping: a point between thousands, the comma before the decimals.
+      await page.getByLabel("Menge (t)").fill("1.024,5");
+      // A day that does not exist is not sent as the day the form held before (04.05.2026): nothing is stored.
+      const claimsBefore = env.server.db.$client.prepare("select count(*) from claims").pluck().get() as number;
+      await received.fill("31.02.2026");
       await page.getByRole("button", { name: "Reklamation erfassen" }).click();
+      await page.getByText("Geben Sie das Datum als TT.MM.JJJJ ein.").waitFor();
+      expect(await received.getAttribute("aria-invalid")).toBe("true");
+      expect(new URL(page.url()).pathname).toBe("/claims/new");
+      expect(env.server.db.$client.prepare("select count(*) from claims").pluck().get()).toBe(claimsBefore);
+      // Enter in the field: the short form is read first, and that day is what is sent.
+      await received.fill("6.5.26");
+      await received.press("Enter");
       await page.waitForURL(/\/claims\/\d+$/);
       const id = Number(new URL(page.url()).pathname.split("/").pop());
       const api = await env.server.agentFor("claims");
       const stored = (await api.get(`/api/claims/${id}`).expect(200)).body as { claimNo: string; receivedOn: string; quantityT: number };
-      expect([stored.claimNo, stored.receivedOn, stored.quantityT]).toEqual([claimNo, "2026-05-04", 24.5]);
+      expect([stored.claimNo, stored.receivedOn, stored.quantityT]).toEqual([claimNo, "2026-05-06", 1024.5]);
       expect(errors).toEqual([]);
     } finally {
       setLanguage("claims", null);

@@ -49,6 +49,15 @@ describe("slab risk before inspection in the browser (issue 15)", () => {
     await page.getByTestId("risk-model-list").getByText("On", { exact: true }).waitFor();
     // The list and the version's own line come from two answers: the line may come a moment later.
     await expect.poll(() => page.getByText(/switched on .* by /).count(), { timeout: 15_000 }).toBe(1);
+    // In German the model's terms are named as the screens name them, spline terms too.
+    const terms = () => detail.locator("td").allTextContents();
+    expect(await terms()).toContain("Casting speed (spline 1)");
+    await page.getByLabel("Language").selectOption("de");
+    await expect.poll(terms, { timeout: 15_000 }).toContain("Gießgeschwindigkeit (Spline 1)");
+    expect(await terms()).toContain("Gießgeschwindigkeit");
+    expect((await terms()).filter((x) => /spline|Casting speed/.test(x))).toEqual([]);
+    await page.getByLabel("Sprache").selectOption("en");
+    await expect.poll(terms, { timeout: 15_000 }).toContain("Casting speed (spline 1)");
     expect(errors).toEqual([]);
     await context.close();
   }, 120_000);

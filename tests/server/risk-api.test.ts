@@ -150,7 +150,10 @@ describe("risk models over HTTP", () => {
       .set("Origin", origin())
       .send({ ...SPEC, targetCode: type });
     expect(res.status).toBe(422);
-    expect(res.body.error.message).toMatch(/Only 0 of the \d+ judged slabs/);
+    // The count written as the reader's language writes numbers (a thousands comma in English).
+    const judged = /Only 0 of the ([\d,]+) judged slabs/.exec(res.body.error.message)?.[1];
+    expect(judged).toMatch(/^\d{1,3}(,\d{3})+$/);
+    expect(Number(judged!.replace(/,/g, ""))).toBeGreaterThan(1000);
     expect(n("select count(*) from risk_models where target_code = ? and status = 'failed'", type)).toBe(1);
   }, 60_000);
 

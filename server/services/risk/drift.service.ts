@@ -378,7 +378,9 @@ export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
       if (drifted.length && opts.notify) {
         const before = new Set(c.prepare("select month from risk_drift_checks where model_id = ? and alerted_at is not null").pluck().all(m.id) as string[]);
         if (drifted.some((x) => !before.has(x.month))) {
-          for (const language of LANGUAGES.filter((l) => l !== "en")) {
+          // Only the languages someone has chosen (a language nobody reads is not reckoned again).
+          const chosen = new Set(c.prepare("select distinct language from user where language is not null").pluck().all() as string[]);
+          for (const language of LANGUAGES.filter((l) => l !== "en" && chosen.has(l))) {
             const again = await speakingIn(language, () => reckon(db, m, now));
             for (const x of again.months) reasons.set(x.month, { ...reasons.get(x.month), [language]: x.reason });
           }

@@ -7,7 +7,7 @@
  */
 import { parentPort, workerData } from "node:worker_threads";
 import { openDatabase } from "../../db/client";
-import { said, sayIn, type Said } from "../../lib/http-error";
+import { figure, said, sayIn, type Said } from "../../lib/http-error";
 import { lowerThisThreadPriority } from "../../lib/thread-priority";
 import { trainRiskModel } from "./model";
 import type { FromTrainThread, ProgressWords, TrainThreadData } from "./train-thread-protocol";
@@ -29,9 +29,9 @@ try {
   let affected = 0;
   for (let i = 0; i < td.outcome.length; i++) affected += td.outcome[i]!;
   if (td.known < MIN_JUDGED_SLABS) {
-    refuse(said("risk.tooFewJudged", { known: td.known, min: MIN_JUDGED_SLABS }));
+    refuse(said("risk.tooFewJudged", { known: figure(td.known), min: figure(MIN_JUDGED_SLABS) }));
   } else if (affected < MIN_AFFECTED_SLABS) {
-    refuse(said("risk.tooFewAffected", { affected, known: td.known, min: MIN_AFFECTED_SLABS }));
+    refuse(said("risk.tooFewAffected", { affected: figure(affected), known: figure(td.known), min: figure(MIN_AFFECTED_SLABS) }));
   } else {
     progress(0.1, "choosing the penalty", { key: "penalty" });
     const model = trainRiskModel(td, { knots: data.spec.knots, progress: (f, what, words) => progress(0.1 + 0.88 * f, what, words) });

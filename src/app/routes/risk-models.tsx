@@ -46,8 +46,11 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
   const [categories, setCategories] = useState<string[]>(["grade_family", "strand"]);
   const [from, setFrom] = useState("");
   const [to, setTo] = useState("");
+  // A cast date typed that is no day: training waits (an empty date would mean no limit at all).
+  const [datesRead, setDatesRead] = useState(true);
   const toggle = (list: string[], set: (v: string[]) => void, key: string) => set(list.includes(key) ? list.filter((k) => k !== key) : [...list, key]);
   const submit = () => {
+    if (!datesRead) return;
     const [kind, code] = target.split(":") as ["type" | "category", string];
     const body: TrainRiskModelBody = {
       targetKind: kind,
@@ -109,11 +112,19 @@ function TrainForm({ onStart, onDone }: { onStart: () => void; onDone: (id: numb
         </div>
       </fieldset>
       <div className="flex flex-wrap gap-4">
-        <DateRangeFields fromLabel={t("risk.train.castFrom")} toLabel={t("risk.train.castUntil")} from={from} to={to} onFrom={setFrom} onTo={setTo} />
+        <DateRangeFields
+          fromLabel={t("risk.train.castFrom")}
+          toLabel={t("risk.train.castUntil")}
+          from={from}
+          to={to}
+          onFrom={setFrom}
+          onTo={setTo}
+          onReadable={setDatesRead}
+        />
       </div>
       <p className="text-sm text-ink-700">{t("risk.train.holdout", { days: 14 })}</p>
       {train.isError ? <Notice tone="error">{train.error.message}</Notice> : null}
-      <Button type="submit" disabled={train.isPending || !target}>
+      <Button type="submit" disabled={train.isPending || !target || !datesRead}>
         {train.isPending ? t("risk.train.training") : t("risk.train.submit")}
       </Button>
     </form>
@@ -135,6 +146,12 @@ function ModelDetail({ id, canTrain }: { id: number; canTrain: boolean }) {
     for (const c of m.categories) {
       const label = CATEGORICAL_LABELS[c.key as CategoricalKey];
       if (label && column.startsWith(`${label}: `)) return `${variable(c.key)}: ${levelName(column.slice(label.length + 2))}`;
+    }
+    // A numeric condition ("Casting speed") and its spline terms ("Casting speed (spline 1)"), as the model names them.
+    for (const c of m.conditions) {
+      if (column === c.label) return variable(c.key);
+      const spline = column.startsWith(`${c.label} (spline `) ? /^ \(spline (\d+)\)$/.exec(column.slice(c.label.length)) : null;
+      if (spline) return t("risk.model.splineTerm", { name: variable(c.key), n: spline[1] });
     }
     return column;
   };

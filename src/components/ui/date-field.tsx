@@ -1,13 +1,25 @@
-import { useId, useRef, useState, type FocusEvent, type ReactNode } from "react";
+import { useId, useRef, useState, type FocusEvent, type KeyboardEvent, type ReactNode } from "react";
 import { useTranslation } from "react-i18next";
 import { inputDate, localeOf, parseInputDate } from "@/lib/format";
 
 interface DateFieldProps {
   /** The day, YYYY-MM-DD; "" for none. */
   value: string;
-  /** Called with the day (YYYY-MM-DD) once the text is a complete, real day, or "" once it is cleared. */
+  /**
+   * Called with the day (YYYY-MM-DD) once the text is a complete, real day, or "" once it is cleared.
+   * While the text is no day it can read, see `unreadable`.
+   */
   onChange: (value: string) => void;
   onBlur?: () => void;
+  /**
+   * While the text is no day the field can read: "clear" (the default, for a form) reports "" at
+   * once, so a form never goes on with the day it held before; "keep" (a filter) leaves the value as
+   * it was, so a list does not jump while a date is being typed. Either way the field says so once it
+   * is left (or Enter is pressed), and the text stays for the person to mend.
+   */
+  unreadable?: "clear" | "keep";
+  /** Told whether the text reads as a day (or is empty): false once it has been left unreadable. */
+  onReadable?: (readable: boolean) => void;
   /** The earliest and latest day the picker offers, YYYY-MM-DD. */
   min?: string;
   max?: string;
@@ -48,6 +60,8 @@ export function DateField({
   value,
   onChange,
   onBlur,
+  unreadable = "clear",
+  onReadable,
   min,
   max,
   inputClassName,
@@ -69,41 +83,66 @@ export function DateField({
   const picker = useRef<HTMLInputElement>(null);
   const locale = localeOf(i18n.language);
   const [text, setText] = useState(() => inputDate(value, locale));
-  const [wrong, setWrong] = useState(false);
-  // A new value from outside (a reset, the address, the picker) or a new language: the text follows.
+  const [wrong, setWrongState] = useState(false);
+  const setWrong = (next: boolean) => {
+    setWrongState(next);
+    if (next !== wrong) onReadable?.(!next);
+  };
+  // The value this field last reported: the same value coming back is its own, any other is from
+  // outside (a reset, the address, "clear filters") and the text follows it, even an unreadable text.
+  const [sent, setSent] = useState(value);
+  const tell = (next: string) => {
+    setSent(next);
+    if (next !== value) onChange(next);
+  };
+  // A new value from outside or a new language: the text follows.
   const [shown, setShown] = useState({ value, locale });
   if (shown.value !== value || shown.locale !== locale) {
     setShown({ value, locale });
-    if (shown.locale !== locale || (parseInputDate(text, true, locale) ?? "") !== value) {
+    if (shown.locale !== locale || value !== sent) {
       setText(inputDate(value, locale));
-      setWrong(false);
+      setSent(value);
+      if (wrong) {
+        setWrongState(false);
+        // Told after this drawing: a parent's state is not set while a child is being drawn.
+        queueMicrotask(() => onReadable?.(true));
+      }
     }
   }
 
   const type = (next: string) => {
     setText(next);
     setWrong(false);
-    if (next.trim() === "") {
-      if (value !== "") onChange("");
-      return;
-    }
+    if (next.trim() === "") return tell("");
     const day = parseInputDate(next, false, locale);
-    if (day !== null && day !== value) onChange(day);
+    if (day !== null) tell(day);
+    else if (unreadable === "clear") tell("");
   };
-  const leave = (e: FocusEvent<HTMLInputElement>) => {
-    const typed = e.target.value;
+  /** The text as it stands when the field is left or Enter is pressed (a two-digit year reads too); false when it is no day. */
+  const read = (typed: string): boolean => {
     if (typed.trim() === "") {
       setText("");
-    } else {
-      const day = parseInputDate(typed, true, locale);
-      if (day === null) {
-        setWrong(true);
-      } else {
-        setText(inputDate(day, locale));
-        if (day !== value) onChange(day);
-      }
+      tell("");
+      return true;
     }
+    const day = parseInputDate(typed, true, locale);
+    if (day === null) {
+      setWrong(true);
+      if (unreadable === "clear") tell("");
+      return false;
+    }
+    setText(inputDate(day, locale));
+    tell(day);
+    return true;
+  };
+  const leave = (e: FocusEvent<HTMLInputElement>) => {
+    read(e.target.value);
     onBlur?.();
+  };
+  // Enter sends the form the field is in: the text is read first, so the form sends what it shows,
+  // and a text that is no day sends nothing (the field says why).
+  const enter = (e: KeyboardEvent<HTMLInputElement>) => {
+    if (e.key === "Enter" && !read(e.currentTarget.value)) e.preventDefault();
   };
   const openPicker = () => {
     const el = picker.current;
@@ -137,6 +176,7 @@ export function DateField({
         data-testid={testId}
         onChange={(e) => type(e.target.value)}
         onBlur={leave}
+        onKeyDown={enter}
         className={`${inputClassName} w-full min-w-0 pr-11 ${message ? "border-alarm-700!" : ""}`}
       />
       <button
@@ -162,7 +202,7 @@ export function DateField({
         onChange={(e) => {
           setText(inputDate(e.target.value, locale));
           setWrong(false);
-          if (e.target.value !== value) onChange(e.target.value);
+          tell(e.target.value);
         }}
         className="pointer-events-none absolute bottom-0 right-0 h-px w-px opacity-0"
       />
@@ -194,7 +234,11 @@ export function DateField({
   );
 }
 
-/** A "cast from … until …" pair of date fields (operating windows, risk training), the same look side by side. */
+/**
+ * A "cast from … until …" pair of date fields (operating windows, risk training), the same look side
+ * by side. Empty is no limit, so an unreadable date keeps the limit as it was (never "no limit"), and
+ * `onReadable` tells whether both read, for a form that must not go on while one does not.
+ */
 export function DateRangeFields({
   fromLabel,
   toLabel,
@@ -202,6 +246,7 @@ export function DateRangeFields({
   to,
   onFrom,
   onTo,
+  onReadable,
 }: {
   fromLabel: string;
   toLabel: string;
@@ -209,13 +254,38 @@ export function DateRangeFields({
   to: string;
   onFrom: (value: string) => void;
   onTo: (value: string) => void;
+  onReadable?: (readable: boolean) => void;
 }) {
   const label = "flex flex-col gap-1 text-sm font-semibold text-ink-800";
   const input = "min-h-11 rounded-md border border-ink-300 px-3 font-normal";
+  const [readable, setReadable] = useState({ from: true, to: true });
+  const mark = (which: "from" | "to") => (ok: boolean) => {
+    const next = { ...readable, [which]: ok };
+    setReadable(next);
+    onReadable?.(next.from && next.to);
+  };
   return (
     <>
-      <DateField label={fromLabel} className={label} value={from} max={to || undefined} onChange={onFrom} inputClassName={input} />
-      <DateField label={toLabel} className={label} value={to} min={from || undefined} onChange={onTo} inputClassName={input} />
+      <DateField
+        label={fromLabel}
+        className={label}
+        value={from}
+        max={to || undefined}
+        onChange={onFrom}
+        unreadable="keep"
+        onReadable={mark("from")}
+        inputClassName={input}
+      />
+      <DateField
+        label={toLabel}
+        className={label}
+        value={to}
+        min={from || undefined}
+        onChange={onTo}
+        unreadable="keep"
+        onReadable={mark("to")}
+        inputClassName={input}
+      />
     </>
   );
 }

@@ -34,7 +34,7 @@ function useDecimalText(on: boolean) {
     const next = written.current && written.current.text === text ? inputNumber(written.current.value, locale) : inputNumberText(text, locale);
     if (next !== text) {
       input.value = next;
-      written.current = { text: next, value: parseDecimal(next) };
+      written.current = { text: next, value: parseDecimal(next, locale) };
     }
   });
   return el;

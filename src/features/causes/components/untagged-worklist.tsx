@@ -107,6 +107,7 @@ function Filters({
         </select>
       </label>
       <DateField
+        unreadable="keep"
         label={t("causes.worklist.foundFromLabel")}
         className="flex flex-col gap-1 text-sm font-semibold text-ink-800"
         inputClassName={`${inputClass} font-normal`}
@@ -114,6 +115,7 @@ function Filters({
         onChange={(v) => set({ from: v })}
       />
       <DateField
+        unreadable="keep"
         label={t("causes.worklist.toLabel")}
         className="flex flex-col gap-1 text-sm font-semibold text-ink-800"
         inputClassName={`${inputClass} font-normal`}

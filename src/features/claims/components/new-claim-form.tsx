@@ -8,6 +8,7 @@ import type { Claim } from "@shared/api/claims";
 import { RecordForm, TextAreaField, todayInput } from "@/components/mutation-form";
 import { fieldInputClass, TextField } from "@/components/ui/field";
 import { ApiError } from "@/lib/api-client";
+import { parseDecimal } from "@/lib/format";
 import { friendlyErrors } from "@/lib/form-errors";
 import { useCreateClaim } from "../api/claims.queries";
 import { DateField } from "@/components/ui/date-field";
@@ -22,8 +23,8 @@ export const idList = (text: string) => [
   ),
 ];
 
-/** A quantity as typed: empty is none; a decimal comma is a decimal point. */
-const toNumber = (s: string) => (s.trim() === "" ? null : Number(s.trim().replace(",", ".")));
+/** A quantity as typed, in the language's style (parseDecimal): empty is none. */
+const toNumber = (s: string) => (s.trim() === "" ? null : parseDecimal(s));
 
 /** The form's rules with their messages in the language shown (English as the shared schema says them). */
 const formSchemaIn = (t: TFunction) => {

@@ -2,7 +2,7 @@ import { defectCreateSchema, type Defect, type DefectCreate, type DefectUpdate }
 import type { z } from "zod";
 import type { Disposition, Face, Severity, Stage } from "@shared/domain";
 import { i18n } from "@/i18n";
-import { num } from "@/lib/format";
+import { num, parseDecimal } from "@/lib/format";
 import { acrossLimit, type PositionValue, type SlabLimits } from "./position-panel";
 
 /** What the inspector has filled in so far; sizes stay text until saved so a half-typed "2," is kept. */
@@ -63,11 +63,10 @@ export function draftFromDefect(d: Defect): EntryDraft {
   };
 }
 
-/** "12", "2,5", "" → 12, 2.5, null; anything else → NaN (an error to show). */
+/** "12", "2,5", "" → 12, 2.5, null (in the language's style, parseDecimal); anything else → NaN (an error to show). */
 export function parseSize(s: string): number | null {
-  const t = s.trim().replace(",", ".");
-  if (!t) return null;
-  const n = Number(t);
+  if (!s.trim()) return null;
+  const n = parseDecimal(s);
   return Number.isFinite(n) ? n : Number.NaN;
 }
 

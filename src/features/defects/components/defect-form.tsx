@@ -8,7 +8,7 @@ import { Notice } from "@/components/ui/notice";
 import { useTerms } from "@/i18n/terms";
 import { ApiError } from "@/lib/api-client";
 import { newClientKey } from "@/lib/client-key";
-import { inputNumberText } from "@/lib/format";
+import { inputNumberText, parseDecimal } from "@/lib/format";
 import { useDeletePhoto, useUpdateDefect } from "../api/defects.queries";
 import { getOutbox } from "../offline/outbox-instance";
 import type { OutboxEntryView, OutboxSummary } from "../offline/outbox";
@@ -167,7 +167,7 @@ export function DefectForm({
   };
 
   const size = (s: string) => {
-    const n = Number(s.trim().replace(",", "."));
+    const n = parseDecimal(s);
     return s.trim() && Number.isFinite(n) ? n : null;
   };
   const extent = { lengthMm: size(draft.lengthMm), widthMm: size(draft.widthMm) };

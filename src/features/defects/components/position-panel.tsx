@@ -1,7 +1,7 @@
 import { useEffect, useState } from "react";
 import { Trans, useTranslation } from "react-i18next";
 import type { Face } from "@shared/domain";
-import { num } from "@/lib/format";
+import { num, parseDecimal } from "@/lib/format";
 
 export interface PositionValue {
   face: Face;
@@ -24,9 +24,8 @@ export const acrossFrom = (face: Face) => (face === "left" || face === "right" ?
 const FACE_CHOICES: Face[] = ["inner", "outer", "left", "right", "section"];
 
 const parseMm = (s: string): number | null => {
-  const t = s.trim().replace(",", ".");
-  if (!t) return null;
-  const n = Number(t);
+  if (!s.trim()) return null;
+  const n = parseDecimal(s);
   return Number.isFinite(n) ? n : null;
 };
 

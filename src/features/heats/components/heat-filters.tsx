@@ -82,6 +82,7 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
         </select>
       </label>
       <DateField
+        unreadable="keep"
         label={t("filters.castFrom")}
         className="flex flex-col gap-1 md:col-span-2 xl:col-span-1"
         labelClassName="text-sm font-semibold text-ink-800"
@@ -91,6 +92,7 @@ export function HeatFilters({ value, families, onChange }: { value: HeatListPara
         inputClassName={inputClass}
       />
       <DateField
+        unreadable="keep"
         label={t("filters.castTo")}
         className="flex flex-col gap-1 md:col-span-2 xl:col-span-1"
         labelClassName="text-sm font-semibold text-ink-800"

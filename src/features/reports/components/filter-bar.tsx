@@ -49,6 +49,7 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
     <form role="search" aria-label={t("filters.label")} className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-8" onSubmit={(e) => e.preventDefault()}>
       <AfterFirstView placeholder={<DateFieldPlace label={t("filters.from")} />}>
         <DateField
+          unreadable="keep"
           label={t("filters.from")}
           className={labelClass}
           labelClassName={labelText}
@@ -60,6 +61,7 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
       </AfterFirstView>
       <AfterFirstView placeholder={<DateFieldPlace label={t("filters.to")} />}>
         <DateField
+          unreadable="keep"
           label={t("filters.to")}
           className={labelClass}
           labelClassName={labelText}

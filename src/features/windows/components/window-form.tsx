@@ -19,7 +19,7 @@ import { Button } from "@/components/ui/button";
 import { TextField } from "@/components/ui/field";
 import { Notice } from "@/components/ui/notice";
 import { friendlyErrors } from "@/lib/form-errors";
-import { formatLocale, inputNumber } from "@/lib/format";
+import { formatLocale, inputNumber, parseDecimal } from "@/lib/format";
 import { useTerms, type Terms } from "@/i18n/terms";
 import { useCreateWindow, useUpdateWindow } from "../api/windows.queries";
 import { DefectTargetOptions } from "@/features/defects/components/defect-target-options";
@@ -28,8 +28,8 @@ const selectClass = "min-h-11 w-full min-w-0 rounded-md border border-ink-300 bg
 /** The groups of the variable list; their words are under windows.form.groups. */
 const GROUPS: VariableGroup[] = ["condition", "derived", "geometry", "chemistry"];
 
-/** A value as typed: a decimal comma is a decimal point. */
-const toNumber = (s: string) => (s.trim() === "" ? NaN : Number(s.trim().replace(",", ".")));
+/** A value as typed, in the language's style (parseDecimal). */
+const toNumber = (s: string) => parseDecimal(s);
 
 /** The shared schemas' messages (English) in the language shown, by their key under windows.form.errors. */
 const SCHEMA_MESSAGES: Record<string, string> = {
