@@ -1,4 +1,4 @@
-import type { Language } from "@shared/i18n/languages";
+import { localeOf, type Language } from "@shared/i18n/languages";
 import enCommon from "@shared/i18n/locales/en/common.json";
 import enServer from "@shared/i18n/locales/en/server.json";
 import { fillText, pluralText, type Tree } from "./catalogue-text";
@@ -45,7 +45,7 @@ export const figure = (num: number, opts: { digits?: number; group?: boolean } =
 const figureFormats = new Map<string, Intl.NumberFormat>();
 /** A figure as a language writes it: German with the decimal comma and the point between thousands; English (and the pseudo-locale) as British English. */
 export function writeFigure(f: Figure, language: Language | null | undefined): string {
-  const locale = language === "de" ? "de-DE" : "en-GB";
+  const locale = localeOf(language);
   const key = `${locale}:${f.digits}:${f.group !== false}`;
   let fmt = figureFormats.get(key);
   if (!fmt) {

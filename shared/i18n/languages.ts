@@ -17,6 +17,9 @@ export const LANGUAGE_NAMES: Record<Language, string> = { en: "English", de: "De
 export const languageOf = (stored: string | null | undefined): Language | null =>
   stored && (LANGUAGES as readonly string[]).includes(stored) ? (stored as Language) : null;
 
+/** The locale a language writes numbers and dates in: German as Germany writes them, every other as British English. */
+export const localeOf = (language: string | null | undefined): "de-DE" | "en-GB" => (language === "de" ? "de-DE" : "en-GB");
+
 /** The languages people choose from; the pseudo-locale only where testing is switched on. */
 export const PICKABLE_LANGUAGES: readonly Language[] = ["en", "de"];
 

@@ -1,4 +1,5 @@
 /** Number and date formatting shared by every screen: a number always carries its unit, a gap shows as "—". */
+import { localeOf } from "@shared/i18n/languages";
 
 export const DASH = "—";
 
@@ -16,7 +17,7 @@ const dateFormats = new Map<string, Intl.DateTimeFormat>();
  * 2026"); English and the pseudo-locale as British English. Called when the language changes.
  */
 export function setFormatLocale(language: string) {
-  const next = language === "de" ? "de-DE" : "en-GB";
+  const next = localeOf(language);
   if (next === LOCALE) return;
   LOCALE = next;
   numberFormats.clear();
@@ -184,7 +185,7 @@ export function inputNumber(value: number | null | undefined, locale = LOCALE): 
  * The locale of a language as setFormatLocale takes it ("de" → "de-DE", else "en-GB"), for a field
  * drawn while the language is changing: it is drawn again before setFormatLocale has been called.
  */
-export const localeOf = (language: string) => (language === "de" ? "de-DE" : "en-GB");
+export { localeOf };
 
 /** The shortest text that reads back as the number (JavaScript's own), without an exponent. */
 function plainDigits(value: number): string {

@@ -197,7 +197,11 @@ const nextMonthStart = (ms: number) => {
  * The months of a trained version, reckoned now (nothing stored): read and scored a month at a time,
  * the event loop given back between months (a year of a large plant is half a million slabs).
  */
-async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: MonthCalc[]; slabs: number; since: number; validationAucCiLower: number | null }> {
+async function reckon(
+  db: Db,
+  m: ModelRow,
+  now: number,
+): Promise<{ months: MonthCalc[]; slabs: number; since: number; validationAucCiLower: number | null; reasonOf: Map<string, () => string> }> {
   if (m.status !== "ready" || !m.terms)
     throw new HttpError(409, "model_not_ready", said(m.status === "training" ? "risk.driftStillTraining" : "risk.driftTrainingFailed"));
   const terms = JSON.parse(m.terms) as ModelTerms;
@@ -210,6 +214,8 @@ async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: Month
   const judgedTo = now - JUDGED_AFTER_DAYS * DAY;
   const current = monthOf(judgedTo);
   const months: MonthCalc[] = [];
+  // Each month's reason as said in the current language, to say it again in another (an e-mail's recipient).
+  const reasonOf = new Map<string, () => string>();
   let total = 0;
   for (let from = since + 1; from <= judgedTo; from = nextMonthStart(from)) {
     const data = readTrainingData(db.$client, { ...spec, from, to: Math.min(judgedTo, nextMonthStart(from) - 1) }, now);
@@ -217,7 +223,7 @@ async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: Month
     months.push(...monthsOf(data, linearPredictor(terms, data)));
     await new Promise((resolve) => setImmediate(resolve));
   }
-  return { months, slabs: total, since, validationAucCiLower };
+  return { months, slabs: total, since, validationAucCiLower, reasonOf };
 
   function monthsOf(data: ReturnType<typeof readTrainingData>, eta: Float64Array): MonthCalc[] {
     const months: MonthCalc[] = [];
@@ -238,27 +244,26 @@ async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: Month
       const citl = calibrationInTheLarge(lp, outcome);
       const auc = aucDeLong({ risk, outcome });
       const judged = slabs >= DRIFT_MIN_SLABS && affected >= DRIFT_MIN_AFFECTED;
-      const why: string[] = [];
-      let reason: string;
-      if (!judged) {
-        reason = say("drift.tooFew", { slabs, affected, minSlabs: DRIFT_MIN_SLABS, minAffected: DRIFT_MIN_AFFECTED });
-      } else {
-        if (citl.citl !== null && Math.abs(citl.citl) > DRIFT_CITL_LIMIT && (citl.lower! > 0 || citl.upper! < 0)) {
+      const offCalibration = judged && citl.citl !== null && Math.abs(citl.citl) > DRIFT_CITL_LIMIT && (citl.lower! > 0 || citl.upper! < 0);
+      const ranksWorse = judged && auc.upper !== null && validationAucCiLower !== null && auc.upper < validationAucCiLower;
+      // The month's reason in the current language (said again for an e-mail in another one).
+      const reasonNow = (): string => {
+        if (!judged) return say("drift.tooFew", { slabs, affected, minSlabs: DRIFT_MIN_SLABS, minAffected: DRIFT_MIN_AFFECTED });
+        const why: string[] = [];
+        if (offCalibration)
           why.push(
-            say(citl.citl > 0 ? "drift.more" : "drift.fewer", {
-              times: dec(Math.exp(Math.abs(citl.citl)), 2),
-              citl: f3(citl.citl),
+            say(citl.citl! > 0 ? "drift.more" : "drift.fewer", {
+              times: dec(Math.exp(Math.abs(citl.citl!)), 2),
+              citl: f3(citl.citl!),
               lower: f3(citl.lower!),
               upper: f3(citl.upper!),
               limit: dec(DRIFT_CITL_LIMIT, 3),
             }),
           );
-        }
-        if (auc.upper !== null && validationAucCiLower !== null && auc.upper < validationAucCiLower) {
-          why.push(say("drift.ranksWorse", { auc: f3(auc.auc!), upper: f3(auc.upper), validation: f3(validationAucCiLower) }));
-        }
-        reason = why.length ? why.join("; ") : citl.citl === null ? say("drift.withinUndefined", { why: String(citl.reason) }) : say("drift.within");
-      }
+        if (ranksWorse) why.push(say("drift.ranksWorse", { auc: f3(auc.auc!), upper: f3(auc.upper!), validation: f3(validationAucCiLower!) }));
+        return why.length ? why.join("; ") : citl.citl === null ? say("drift.withinUndefined", { why: String(citl.reason) }) : say("drift.within");
+      };
+      reasonOf.set(month, reasonNow);
       months.push({
         month,
         slabs,
@@ -274,9 +279,9 @@ async function reckon(db: Db, m: ModelRow, now: number): Promise<{ months: Month
         aucCiUpper: auc.upper,
         aucReason: auc.reason ?? null,
         judged,
-        drifted: why.length > 0,
+        drifted: offCalibration || ranksWorse,
         provisional: month >= current,
-        reason,
+        reason: reasonNow(),
       });
       start = end;
     }
@@ -372,20 +377,9 @@ export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
       // A month still filling (its last slabs not yet 14 days old) is shown, never e-mailed: a half month's alarm could not be taken back.
       const drifted = r.months.filter((x) => x.judged && x.drifted && !x.provisional);
       const alerted: string[] = [];
-      // The reasons of months about to be e-mailed, said again in each other language (a recipient
-      // reads their own); reckoned only when a month is new to the e-mail, not at every check.
-      const reasons = new Map<string, Partial<Record<Language, string>>>();
-      if (drifted.length && opts.notify) {
-        const before = new Set(c.prepare("select month from risk_drift_checks where model_id = ? and alerted_at is not null").pluck().all(m.id) as string[]);
-        if (drifted.some((x) => !before.has(x.month))) {
-          // Only the languages someone has chosen (a language nobody reads is not reckoned again).
-          const chosen = new Set(c.prepare("select distinct language from user where language is not null").pluck().all() as string[]);
-          for (const language of LANGUAGES.filter((l) => l !== "en" && chosen.has(l))) {
-            const again = await speakingIn(language, () => reckon(db, m, now));
-            for (const x of again.months) reasons.set(x.month, { ...reasons.get(x.month), [language]: x.reason });
-          }
-        }
-      }
+      // A month's reason in each other language, for each recipient's own (said again, not reckoned again).
+      const reasonsOf = (month: string): Partial<Record<Language, string>> =>
+        Object.fromEntries(LANGUAGES.filter((l) => l !== "en").map((l) => [l, speakingIn(l, r.reasonOf.get(month)!)]));
       if (drifted.length && opts.notify) {
         const notify = opts.notify;
         c.transaction(() => {
@@ -396,7 +390,7 @@ export async function checkRiskDrift(db: Db, opts: CheckRiskDriftOptions = {}) {
             modelId: m.id,
             target: targetName(db, m.target_kind, m.target_code),
             version: m.version,
-            months: fresh.map((x) => ({ ...x, reasons: reasons.get(x.month), checkedAt: iso(now), alertedAt: iso(now) })),
+            months: fresh.map((x) => ({ ...x, reasons: reasonsOf(x.month), checkedAt: iso(now), alertedAt: iso(now) })),
           };
           // Marked alerted only when the message is in the queue (no quality engineer: tried again at the next check).
           if (notify.riskDrift(alert, r.validationAucCiLower) === null) return;
