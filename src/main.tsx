@@ -10,6 +10,7 @@ import { createRouter } from "./app/router";
 import { authKeys } from "./features/auth/api/session";
 import { forgetUser } from "./features/auth/remembered-user";
 import { createQueryClient } from "./lib/query-client";
+import { afterFirstView } from "./components/ui/first-view";
 
 const queryClient = createQueryClient({
   // The session ended while the user was working: forget what was cached and ask them to sign in.
@@ -40,11 +41,14 @@ function watchForUpdates(): AppUpdate {
     ready = true;
     listeners.forEach((l) => l());
   };
-  // Only the built app has a worker (`npm run dev` serves none).
-  const takeOver = !import.meta.env.PROD
-    ? async () => undefined
-    : registerSW({
-        // After the page has loaded: storing the app must not slow the first screen down.
+  // Only the built app has a worker (`npm run dev` serves none). Registered once the first screen
+  // has been drawn: on a device that has never stored the app, the worker then fetches and stores
+  // every file of it, which on a small machine held the first screen back by a few tenths of a second.
+  let takeOver: (reload?: boolean) => Promise<void> = async () => undefined;
+  if (import.meta.env.PROD)
+    void afterFirstView().then(() => {
+      takeOver = registerSW({
+        // After the page has loaded (the first view can be drawn before the page's last file is in).
         immediate: false,
         onNeedRefresh: set,
         // The new version took over (this tab's Reload, or another tab's): reload only if asked here.
@@ -54,6 +58,7 @@ function watchForUpdates(): AppUpdate {
           if (registration) setInterval(() => void registration.update().catch(() => undefined), 60 * 60 * 1000);
         },
       });
+    });
   return {
     subscribe(l) {
       listeners.add(l);

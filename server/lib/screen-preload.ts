@@ -107,17 +107,19 @@ export function createScreenPages(clientDist: string) {
       // A report draws its charts as soon as its answer comes: their code (the chart modules the
       // screen imports on demand, and the chart library under them) is named too, last — for
       // someone whose role reads reports only (the chart library stays off the inspector's tablet).
+      // Asked for at low priority: on a plant's Wi-Fi the chart library (the largest file) would
+      // otherwise share the bandwidth with the first script and the screen's code the table waits for.
+      const screenKeys = new Set(keys);
       if (screen.report && charts) keys.push(...closure(manifest, manifest[key].dynamicImports ?? []));
       const files = [...new Set(keys)]
-        .filter((k) => manifest[k] && !named.has(k))
-        .map((k) => manifest[k]!.file)
-        .filter((f) => f.endsWith(".js"));
+        .filter((k) => manifest[k] && !named.has(k) && manifest[k].file.endsWith(".js"))
+        .map((k) => ({ file: manifest[k]!.file, later: !screenKeys.has(k) }));
       const html = base.toString("utf8");
       const at = html.indexOf("</head>");
       if (!files.length || at < 0) return plain;
       const links = [
         ...fonts.map((f) => `\n    <link rel="preload" as="font" type="font/woff2" crossorigin href="/${f}">`),
-        ...files.map((f) => `\n    <link rel="modulepreload" crossorigin href="/${f}">`),
+        ...files.map((f) => `\n    <link rel="modulepreload" crossorigin href="/${f.file}"${f.later ? ' fetchpriority="low"' : ""}>`),
       ].join("");
       return compress(Buffer.from(`${html.slice(0, at)}${links}\n  ${html.slice(at)}`, "utf8"));
     };

@@ -1,3 +1,4 @@
+import { afterFirstView } from "@/components/ui/first-view";
 import { QueryClientProvider, useQueryClient, type QueryClient } from "@tanstack/react-query";
 import { createContext, useCallback, useContext, useEffect, useMemo, useState, useSyncExternalStore, type ReactNode } from "react";
 import { can } from "@shared/roles";
@@ -105,7 +106,10 @@ function OutboxRunner({ children }: { children: ReactNode }) {
     }
     let cancelled = false;
     const cleanups: (() => void)[] = [];
-    import("@/features/defects/offline/outbox-instance")
+    // Opened on a report, the outbox's code waits until the report's first chart is drawn (or the
+    // page is 2.5 s old: src/components/ui/first-view.tsx); every other screen shows it at once.
+    (window.location.pathname.startsWith("/reports") ? afterFirstView() : Promise.resolve())
+      .then(() => import("@/features/defects/offline/outbox-instance"))
       .then(({ getOutbox }) => {
         if (cancelled) return;
         const o = getOutbox();

@@ -422,6 +422,58 @@ describe("the app on the tablet without a network", () => {
   );
 
   it(
+    "when a report is opened on a device that has never stored the app, then the app is stored and the outbox's code fetched only once the report's first view is drawn",
+    async () => {
+      // Signed in elsewhere; this device has the session's cookie and nothing else (no worker, no cache).
+      const signIn = await env.browser.newContext({ viewport: DESKTOP });
+      await signInAs(await signIn.newPage(), env.server.baseUrl, "quality", TEST_PASSWORD);
+      // The reports' data are ready (after a start they answer "warming up" for a moment, and the
+      // screen saying so would be the first view).
+      await expect.poll(async () => (await signIn.request.get(env.server.baseUrl + "/api/reports/overview")).status(), { timeout: 60_000 }).toBe(200);
+      const storageState = await signIn.storageState();
+      await signIn.close();
+      const context = await env.browser.newContext({ viewport: DESKTOP, storageState });
+      // Watched, not replaced: the worker's registration is stamped and goes on as it would; the
+      // report's first table row is stamped in the first frame it has a height.
+      await context.addInitScript(`(() => {
+        const t = { row: 0, registered: 0 };
+        window.__firstScreen = t;
+        const register = ServiceWorkerContainer.prototype.register;
+        ServiceWorkerContainer.prototype.register = function (...args) {
+          if (!t.registered) t.registered = performance.now();
+          return register.apply(this, args);
+        };
+        const frame = (now) => {
+          const r = document.querySelector("tbody tr");
+          if (r && r.getBoundingClientRect().height > 0) t.row = now;
+          else requestAnimationFrame(frame);
+        };
+        requestAnimationFrame(frame);
+      })()`);
+      const page = await context.newPage();
+      const errors = collectPageErrors(page);
+      await page.goto(env.server.baseUrl + "/reports/overview");
+      await page.locator('[role="img"] canvas').first().waitFor();
+      await waitForServiceWorker(page);
+      const seen = await page.evaluate(() => {
+        const t = (window as unknown as { __firstScreen: { row: number; registered: number } }).__firstScreen;
+        const outbox = performance.getEntriesByType("resource").find((e) => /\/outbox-instance-[\w-]+\.js$/.test(new URL(e.name).pathname));
+        return { ...t, outboxAskedAt: outbox?.startTime ?? null };
+      });
+      // Before, the worker was registered once the page had loaded (its files in, before the report
+      // was drawn) and the outbox's code was asked for at once.
+      expect(seen.row).toBeGreaterThan(0);
+      expect(seen.registered).toBeGreaterThan(seen.row);
+      // The quality engineer may log defects, so the outbox runs on this screen too.
+      expect(seen.outboxAskedAt).not.toBeNull();
+      expect(seen.outboxAskedAt!).toBeGreaterThan(seen.row);
+      expect(realErrors(errors)).toEqual([]);
+      await context.close();
+    },
+    SLOW,
+  );
+
+  it(
     "when the manifest and the service worker are asked for, then the manifest describes the installable app, its icons load, and the worker is never cached",
     async () => {
       const context = await env.browser.newContext({ viewport: TABLET });

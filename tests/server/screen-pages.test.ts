@@ -50,7 +50,10 @@ function get(url: string, headers: Record<string, string> = { "accept-encoding":
   });
 }
 
-const modulePreloads = (html: string) => [...html.matchAll(/<link rel="modulepreload" crossorigin href="\/([^"]+)">/g)].map((m) => m[1]!);
+const modulePreloads = (html: string) =>
+  [...html.matchAll(/<link rel="modulepreload" crossorigin href="\/([^"]+)"(?: fetchpriority="low")?>/g)].map((m) => m[1]!);
+/** The files named to be fetched after the others (the chart code). */
+const lowPriority = (html: string) => [...html.matchAll(/<link rel="modulepreload" crossorigin href="\/([^"]+)" fetchpriority="low">/g)].map((m) => m[1]!);
 const fontPreloads = (html: string) => [...html.matchAll(/<link rel="preload" as="font" type="font\/woff2" crossorigin href="\/([^"]+)">/g)].map((m) => m[1]!);
 const LATIN = /^assets\/noto-sans-latin-(400|500|600|700)-normal-[\w-]+\.woff2$/;
 
@@ -66,8 +69,14 @@ describe("a screen's page names the screen's code", () => {
     expect(named).toContain(manifest()["src/app/report-frame.tsx"]!.file);
     expect(named).toContain(chunk("chart-theme"));
     expect(named).toContain(chunk("report-chart"));
-    // The frame and the screen before the charts: fetched first.
+    // The frame and the screen before the charts: fetched first, and the chart code at low priority
+    // (it would otherwise share a Wi-Fi's bandwidth with the code the first table waits for).
     expect(named.indexOf(fileOf("report-overview"))).toBeLessThan(named.indexOf(chunk("chart-theme")));
+    const low = lowPriority(html);
+    expect(low).toContain(chunk("chart-theme"));
+    expect(low).toContain(chunk("report-chart"));
+    for (const f of [fileOf("app-layout"), fileOf("report-overview"), manifest()["src/app/report-frame.tsx"]!.file]) expect(low).not.toContain(f);
+    expect(named.slice(named.length - low.length)).toEqual(low);
     expect(new Set(named).size).toBe(named.length);
     // index.html's own modulepreloads and script are there once, untouched.
     const built = fs.readFileSync(path.join(CLIENT_DIST, "index.html"), "utf8");
@@ -85,7 +94,10 @@ describe("a screen's page names the screen's code", () => {
     expect(html.endsWith(built.slice(head))).toBe(true);
     const middle = html.slice(head, html.length - (built.length - head));
     expect(
-      middle.replace(/\n {4}<link rel="(?:modulepreload" crossorigin|preload" as="font" type="font\/woff2" crossorigin) href="\/assets\/[^"]+">/g, ""),
+      middle.replace(
+        /\n {4}<link rel="(?:modulepreload" crossorigin|preload" as="font" type="font\/woff2" crossorigin) href="\/assets\/[^"]+"(?: fetchpriority="low")?>/g,
+        "",
+      ),
     ).toBe("\n  ");
   });
 
@@ -106,6 +118,7 @@ describe("a screen's page names the screen's code", () => {
     expect(named).toContain(manifest()["src/features/heats/api/heats.queries.ts"]!.file);
     expect(named).not.toContain(chunk("chart-theme"));
     expect(named).not.toContain(fileOf("report-overview"));
+    expect(lowPriority(html)).toEqual([]);
   });
 
   it("when a screen is opened, then its page names the screen's catalogues in the reader's language, with English beside German (the fallback), after the screen's code", async () => {

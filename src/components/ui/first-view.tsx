@@ -82,6 +82,34 @@ export function useHoldForChart() {
   }, []);
 }
 
+/**
+ * Resolves once the first view of the page is on screen and what waited for it has been drawn too:
+ * the browser's next idle moment after that (requestIdleCallback, with a time limit; a timer where a
+ * browser has none). For work that must not compete with the first screen (storing the app on the
+ * device). A page no part of which waits for its first view lets it go once the page is old enough.
+ */
+export function afterFirstView(idleLimitMs = 3000): Promise<void> {
+  const idle = () =>
+    new Promise<void>((resolve) => {
+      if (typeof requestIdleCallback === "function") requestIdleCallback(() => resolve(), { timeout: idleLimitMs });
+      else setTimeout(resolve, 200);
+    });
+  return new Promise<void>((resolve) => {
+    if (isDrawn()) return resolve();
+    const off = subscribe(() => {
+      off();
+      resolve();
+    });
+    setTimeout(
+      () => {
+        off();
+        resolve();
+      },
+      Math.max(0, PAGE_AGE_LIMIT_MS - performance.now()),
+    );
+  }).then(idle);
+}
+
 const loaded = new WeakMap<() => Promise<unknown>, unknown>();
 
 /**
