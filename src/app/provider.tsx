@@ -89,12 +89,17 @@ function showSent(qc: QueryClient, defect: Defect) {
 /**
  * Runs the tablet's outbox from app start for whoever is signed in and logs defects: an entry
  * waiting on the tablet is sent when the network returns on any screen — an error screen too,
- * since this sits above the router. Loaded on demand: the office roles never load its code.
+ * since this sits above the router. Loaded on demand: the roles that log no defects never load its
+ * code, and an office role's waits until the first screen is drawn (below).
  */
 function OutboxRunner({ children }: { children: ReactNode }) {
   const qc = useQueryClient();
   const me = useCachedMe(qc);
   const userId = me && can(me.roles, "defects.log") ? me.id : null;
+  // The inspector's tablet runs the outbox at once on every screen (entries made offline wait in it);
+  // for an office role that may log a defect, its code waits until the first screen has been drawn
+  // (2.5 s at most: src/components/ui/first-view.tsx), so it does not hold the first table back.
+  const atOnce = !!me && me.roles.includes("inspector");
   const [outbox, setOutbox] = useState<Outbox | null>(null);
   // Bumped to try loading the outbox's code again once the network is back.
   const [attempt, setAttempt] = useState(0);
@@ -106,9 +111,7 @@ function OutboxRunner({ children }: { children: ReactNode }) {
     }
     let cancelled = false;
     const cleanups: (() => void)[] = [];
-    // Opened on a report, the outbox's code waits until the report's first chart is drawn (or the
-    // page is 2.5 s old: src/components/ui/first-view.tsx); every other screen shows it at once.
-    (window.location.pathname.startsWith("/reports") ? afterFirstView() : Promise.resolve())
+    (atOnce || window.location.pathname.startsWith("/yard") ? Promise.resolve() : afterFirstView())
       .then(() => import("@/features/defects/offline/outbox-instance"))
       .then(({ getOutbox }) => {
         if (cancelled) return;
@@ -138,7 +141,7 @@ function OutboxRunner({ children }: { children: ReactNode }) {
       cancelled = true;
       cleanups.forEach((c) => c());
     };
-  }, [userId, qc, attempt]);
+  }, [userId, atOnce, qc, attempt]);
 
   const snapshot = useSyncExternalStore(outbox?.subscribe ?? noSubscribe, outbox?.getSnapshot ?? noSnapshot, noSnapshot);
   const value = useMemo<OutboxState>(
