@@ -86,7 +86,8 @@ export function useHoldForChart() {
  * Resolves once the first view of the page is on screen and what waited for it has been drawn too:
  * the browser's next idle moment after that (requestIdleCallback, with a time limit; a timer where a
  * browser has none). For work that must not compete with the first screen (storing the app on the
- * device). A page no part of which waits for its first view lets it go once the page is old enough.
+ * device, an office role's outbox). A page no part of which waits for its first view lets it go once
+ * the page is 2.5 s old (PAGE_AGE_LIMIT_MS).
  */
 export function afterFirstView(idleLimitMs = 3000): Promise<void> {
   const idle = () =>
