@@ -461,12 +461,14 @@ describe("the app on the tablet without a network", () => {
         return { ...t, outboxAskedAt: outbox?.startTime ?? null };
       });
       // Before, the worker was registered once the page had loaded (its files in, before the report
-      // was drawn) and the outbox's code was asked for at once.
+      // was drawn) and the outbox's code was asked for at once. Now both wait for the first view, or
+      // for the page to be 2.5 s old where a busy machine has not drawn it by then (first-view.tsx).
       expect(seen.row).toBeGreaterThan(0);
-      expect(seen.registered).toBeGreaterThan(seen.row);
+      const firstView = Math.min(seen.row, 2500);
+      expect(seen.registered).toBeGreaterThan(firstView);
       // The quality engineer may log defects, so the outbox runs on this screen too.
       expect(seen.outboxAskedAt).not.toBeNull();
-      expect(seen.outboxAskedAt!).toBeGreaterThan(seen.row);
+      expect(seen.outboxAskedAt!).toBeGreaterThan(firstView);
       expect(realErrors(errors)).toEqual([]);
       await context.close();
     },
