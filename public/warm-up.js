@@ -4,13 +4,8 @@
  * this small file arrives, while the app's code is still downloading, instead of inside the first
  * screen's drawing. A plain file (public/, served as it is): it must run before the app's modules.
  */
-(function () {
-  function warm() {
-    try {
-      new Intl.NumberFormat("en-GB", { maximumFractionDigits: 1 }).format(1.5);
-    } catch (_) {
-      // A browser without Intl: the app's own formatting says so, not this.
-    }
-  }
-  warm();
-})();
+try {
+  new Intl.NumberFormat("en-GB", { maximumFractionDigits: 1 }).format(1.5);
+} catch (_) {
+  // A browser without Intl: the app's own formatting says so, not this.
+}

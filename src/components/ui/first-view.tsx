@@ -82,33 +82,31 @@ export function useHoldForChart() {
   }, []);
 }
 
+/** How long work waiting for the first view then waits for the browser to be idle, at most. */
+const IDLE_LIMIT_MS = 3000;
+
 /**
  * Resolves once the first view of the page is on screen and what waited for it has been drawn too:
- * the browser's next idle moment after that (requestIdleCallback, with a time limit; a timer where a
- * browser has none). For work that must not compete with the first screen (storing the app on the
- * device, an office role's outbox). A page no part of which waits for its first view lets it go once
- * the page is 2.5 s old (PAGE_AGE_LIMIT_MS).
+ * the browser's next idle moment after that (requestIdleCallback, IDLE_LIMIT_MS at most; a timer
+ * where a browser has none). For work that must not compete with the first screen (storing the app
+ * on the device, an office role's outbox). On a page no part of which waits for its first view, the
+ * first view counts as drawn once the page is PAGE_AGE_LIMIT_MS old, as everywhere else here.
  */
-export function afterFirstView(idleLimitMs = 3000): Promise<void> {
-  const idle = () =>
-    new Promise<void>((resolve) => {
-      if (typeof requestIdleCallback === "function") requestIdleCallback(() => resolve(), { timeout: idleLimitMs });
-      else setTimeout(resolve, 200);
-    });
+export function afterFirstView(): Promise<void> {
   return new Promise<void>((resolve) => {
     if (isDrawn()) return resolve();
     const off = subscribe(() => {
       off();
       resolve();
     });
-    setTimeout(
-      () => {
-        off();
-        resolve();
-      },
-      Math.max(0, PAGE_AGE_LIMIT_MS - performance.now()),
-    );
-  }).then(idle);
+    setTimeout(open, Math.max(0, PAGE_AGE_LIMIT_MS - performance.now()));
+  }).then(
+    () =>
+      new Promise<void>((resolve) => {
+        if (typeof requestIdleCallback === "function") requestIdleCallback(() => resolve(), { timeout: IDLE_LIMIT_MS });
+        else setTimeout(resolve, 200);
+      }),
+  );
 }
 
 const loaded = new WeakMap<() => Promise<unknown>, unknown>();
