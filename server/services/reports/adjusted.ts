@@ -97,7 +97,7 @@ function gridOf(s: Scanned, t: ModelTerm): Grid | null {
  * slabs by a lookup instead of hashing them; undefined when the grid is too large (several
  * continuous terms), where the fit hashes.
  */
-function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): { ids: Int32Array; count: number } | undefined {
+function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): { ids: Int32Array; count: number; offset: number } | undefined {
   let width = 1;
   const grids: Grid[] = [];
   for (const t of terms) {
@@ -107,12 +107,11 @@ function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): { ids: In
     if (width > MAX_PATTERNS) return undefined;
     grids.push(g);
   }
+  // One term: its grid keys are the ids, less the grid's offset (the fit subtracts it as it reads them).
+  if (grids.length === 1) return { ids: grids[0]!.keys, count: width, offset: grids[0]!.offset };
   // Read by the fit only (at these rows), which ends before the next call: a reused array (scratch.ts).
   const ids = scratch("patternIds", Int32Array, s.facts.size);
-  if (grids.length === 1) {
-    const { keys, offset } = grids[0]!;
-    for (let u = 0; u < rows.length; u++) ids[rows[u]!] = keys[rows[u]!]! - offset;
-  } else if (grids.length === 2) {
+  if (grids.length === 2) {
     // The common case (a condition and one adjustment), without the inner loop.
     const [a, b] = grids as [Grid, Grid];
     const wb = b.width;
@@ -128,7 +127,7 @@ function patternIds(s: Scanned, terms: ModelTerm[], rows: Int32Array): { ids: In
       ids[i] = id;
     }
   }
-  return { ids, count: width };
+  return { ids, count: width, offset: 0 };
 }
 
 const isCategorical = (key: string): key is CategoricalKey => (CATEGORICAL_KEYS as readonly string[]).includes(key);
@@ -306,6 +305,7 @@ export function fitTerms(s: Scanned, terms: ModelTerm[], rows: Int32Array, se: S
       rows,
       pattern: pattern?.ids,
       patternCount: pattern?.count,
+      patternOffset: pattern?.offset,
       rowsComplete: complete,
     },
     { se, likelihoodRatio: likelihoodRatio && se === "model" },
