@@ -433,7 +433,7 @@ function collapseByPattern(
   if (max > 64_000_000 || !Number.isInteger(max)) throw new Error("logisticRegressionColumns: pattern ids must be integers below 64 million");
   // Working arrays reused from fit to fit (scratch.ts): they do not outlive the fit. One entry per
   // slab for patternOf; per pattern only as many as there can be (the ids run 0 … max), not one per
-  // slab: a condition's few thousand grid values need kilobytes where five million slabs took 100 MB.
+  // slab (112 MB asked for at five million slabs, of which only the first pages were ever written).
   const room = Math.min(m, max + 1);
   const lookup = scratch("collapse.lookup", Int32Array, max + 1, -1);
   const rep = scratch("collapse.rep", Int32Array, room);
