@@ -266,6 +266,14 @@ describe("tagging one defect on its slab", () => {
     const rows = page.getByTestId("worklist-row");
     const firstId = Number(await rows.nth(0).getAttribute("data-defect-id"));
     const secondId = Number(await rows.nth(1).getAttribute("data-defect-id"));
+    // From here on the causes' own list answers 1.5 s late, so after each write the worklist comes
+    // back (without the tagged defects) well before it — as a busy server once answered in a full
+    // run. The editor and the bulk panel then leave the screen before the write's promise settles:
+    // what was written must still be said and the editor must still move on.
+    await page.route(/\/api\/cause-tags(\?|$)/, async (route) => {
+      await new Promise((r) => setTimeout(r, 1_500));
+      await route.continue();
+    });
 
     // One at a time: tag the first in place; the editor opens on the next defect.
     await rows.nth(0).getByTestId("worklist-tag").click();

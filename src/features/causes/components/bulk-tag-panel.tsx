@@ -53,15 +53,17 @@ export function BulkTagPanel({
   };
   const apply = () => {
     if (!pending) return;
-    bulk.mutate(
-      { ...pending.input, dryRun: false },
-      {
-        onSuccess: (r) => {
-          setWritten(r);
-          setPending(null);
-          onWritten?.(r, namesOf(pending.input.tags));
-        },
+    const { input } = pending;
+    // The promise, not mutate's callbacks: the write refreshes the lists, and a worklist that comes
+    // back without the selected defects closes this panel; mutate's callbacks run only while the
+    // panel is on screen, so what was written would go unsaid. A refusal shows through bulk.isError.
+    bulk.mutateAsync({ ...input, dryRun: false }).then(
+      (r) => {
+        setWritten(r);
+        setPending(null);
+        onWritten?.(r, namesOf(input.tags));
       },
+      () => undefined,
     );
   };
 

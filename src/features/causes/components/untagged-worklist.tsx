@@ -188,11 +188,12 @@ function TagInPlace({ defect, taxonomy, onDone, onCancel }: { defect: Defect; ta
         onCancel={onCancel}
         onSubmit={(v) => {
           setProblem(null);
-          tag.mutate(v, {
-            onSuccess: (r) =>
-              onDone(t("causes.worklist.addedTo", { code: defect.typeCode, slab: defect.slabId, names: r.current.map((c) => c.tagName).join(", ") })),
-            onError: (err) => setProblem(err instanceof ApiError ? err.message : String(err)),
-          });
+          // The promise, not mutate's callbacks: the list refreshed by the write may come back without
+          // this defect and take this editor off the screen first; the worklist must still hear it.
+          tag.mutateAsync(v).then(
+            (r) => onDone(t("causes.worklist.addedTo", { code: defect.typeCode, slab: defect.slabId, names: r.current.map((c) => c.tagName).join(", ") })),
+            (err: unknown) => setProblem(err instanceof ApiError ? err.message : String(err)),
+          );
         }}
       />
     </div>
