@@ -45,20 +45,26 @@ function watchForUpdates(): AppUpdate {
   // has been drawn: on a device that has never stored the app, the worker then fetches and stores
   // every file of it, which on a small machine held the first screen back by a few tenths of a second.
   let takeOver: (reload?: boolean) => Promise<void> = async () => undefined;
-  if (import.meta.env.PROD)
-    void afterFirstView().then(() => {
-      takeOver = registerSW({
-        // After the page has loaded (the first view can be drawn before the page's last file is in).
-        immediate: false,
-        onNeedRefresh: set,
-        // The new version took over (this tab's Reload, or another tab's): reload only if asked here.
-        onNeedReload: () => (asked ? window.location.reload() : set()),
-        onRegisteredSW(_url, registration) {
-          // A tablet stays open all shift: look for a new version every hour while the network is there.
-          if (registration) setInterval(() => void registration.update().catch(() => undefined), 60 * 60 * 1000);
-        },
-      });
+  // Its turn may come while the tablet is out of the Wi-Fi (the inspector walks into the yard a few
+  // seconds after signing in): the worker's code could not be fetched and the app would not be
+  // stored for the rest of the visit. Asked for once there is a network, and again a minute after a
+  // failed try (the network went while it was being fetched).
+  const whenOnline = (fn: () => void) => (navigator.onLine ? fn() : window.addEventListener("online", fn, { once: true }));
+  const register = () => {
+    takeOver = registerSW({
+      // After the page has loaded (the first view can be drawn before the page's last file is in).
+      immediate: false,
+      onNeedRefresh: set,
+      // The new version took over (this tab's Reload, or another tab's): reload only if asked here.
+      onNeedReload: () => (asked ? window.location.reload() : set()),
+      onRegisteredSW(_url, registration) {
+        // A tablet stays open all shift: look for a new version every hour while the network is there.
+        if (registration) setInterval(() => void registration.update().catch(() => undefined), 60 * 60 * 1000);
+      },
+      onRegisterError: () => setTimeout(() => whenOnline(register), 60_000),
     });
+  };
+  if (import.meta.env.PROD) void afterFirstView().then(() => whenOnline(register));
   return {
     subscribe(l) {
       listeners.add(l);

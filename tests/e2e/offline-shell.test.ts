@@ -476,6 +476,50 @@ describe("the app on the tablet without a network", () => {
   );
 
   it(
+    "when the tablet is out of the Wi-Fi as the service worker's turn comes, then nothing is fetched meanwhile and the app is stored as soon as the network is back",
+    async () => {
+      // A device that has never stored the app. The browser's idle moments are held back until the
+      // test lets them go, so the worker's turn (after the first view, at the next idle moment:
+      // first-view.tsx) comes exactly while the tablet is offline.
+      const context = await env.browser.newContext({ viewport: TABLET });
+      await context.addInitScript(`(() => {
+        const held = [];
+        let open = false;
+        const run = (cb) => cb({ didTimeout: false, timeRemaining: () => 50 });
+        window.requestIdleCallback = (cb) => (open ? setTimeout(() => run(cb), 0) : held.push(cb));
+        window.__held = () => held.length;
+        window.__letIdle = () => {
+          open = true;
+          held.splice(0).forEach(run);
+        };
+      })()`);
+      const page = await context.newPage();
+      const errors = collectPageErrors(page);
+      const asked: string[] = [];
+      page.on("request", (r) => asked.push(new URL(r.url()).pathname));
+      await signInAs(page, env.server.baseUrl, "inspector", TEST_PASSWORD);
+      await page.getByRole("heading", { level: 1, name: "Find a slab" }).waitFor();
+      // The worker's turn is due (the first view is drawn, an idle moment asked for).
+      await page.waitForFunction(() => (window as unknown as { __held: () => number }).__held() > 0);
+      // Walked out of the Wi-Fi; then the browser has a quiet moment.
+      await context.setOffline(true);
+      const before = asked.length;
+      await page.evaluate(() => (window as unknown as { __letIdle: () => void }).__letIdle());
+      await page.waitForTimeout(1_500);
+      expect(asked.slice(before).filter((p) => /workbox-window|\/sw\.js$/.test(p))).toEqual([]);
+      expect(await page.evaluate(() => navigator.serviceWorker.getRegistrations().then((r) => r.length))).toBe(0);
+      // Back in the Wi-Fi: the worker is registered and takes over without a reload.
+      await context.setOffline(false);
+      await waitForServiceWorker(page);
+      // Before, the worker's code was asked for offline and failed ("Failed to load resource:
+      // net::ERR_INTERNET_DISCONNECTED"), and nothing was stored for the rest of the visit.
+      expect(errors).toEqual([]);
+      await context.close();
+    },
+    SLOW,
+  );
+
+  it(
     "when the manifest and the service worker are asked for, then the manifest describes the installable app, its icons load, and the worker is never cached",
     async () => {
       const context = await env.browser.newContext({ viewport: TABLET });
