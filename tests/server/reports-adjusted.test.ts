@@ -588,22 +588,7 @@ describe("the fit itself", () => {
     // The same ids shifted by a grid's offset (as a condition's grid keys come, lo … hi) and the offset
     // given: every number identical to the unshifted fit; a wrong offset reads ids outside the count.
     const shifted = pattern.map((id) => id + 1_234);
-    const offsetFit = logisticRegressionColumns(
-      {
-        terms,
-        affected: y,
-        clusterIds: { ids, count: lookup.size },
-        rows: complete,
-        rowsComplete: true,
-        pattern: shifted,
-        patternCount: codes.size,
-        patternOffset: 1_234,
-      },
-      { se: "cluster" },
-    );
-    expect(offsetFit.terms.map((t) => [t.coef, t.se])).toEqual(counted.terms.map((t) => [t.coef, t.se]));
-    expect(offsetFit.clusters).toBe(counted.clusters);
-    expect(() =>
+    const fitShifted = (patternOffset: number) =>
       logisticRegressionColumns(
         {
           terms,
@@ -613,11 +598,14 @@ describe("the fit itself", () => {
           rowsComplete: true,
           pattern: shifted,
           patternCount: codes.size,
-          patternOffset: 1_000,
+          patternOffset,
         },
         { se: "cluster" },
-      ),
-    ).toThrow(/outside the caller's count/);
+      );
+    const offsetFit = fitShifted(1_234);
+    expect(offsetFit.terms.map((t) => [t.coef, t.se])).toEqual(counted.terms.map((t) => [t.coef, t.se]));
+    expect(offsetFit.clusters).toBe(counted.clusters);
+    expect(() => fitShifted(1_000)).toThrow(/outside the caller's count/);
   });
 
   it("when a fit has more than 100,000 distinct rows (its first steps taken on a sample), then it equals the one-variable fit of logistic.ts (checked on the Challenger data)", () => {
