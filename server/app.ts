@@ -146,7 +146,9 @@ export function createApp(opts: AppOptions) {
   const imports = opts.imports ?? createImportPool({ logger, heapMb: env.IMPORT_THREAD_HEAP_MB });
   // Linked to the connection: the fact reports and the change notices go to the thread (started on
   // first use). An in-memory database cannot be opened by a second thread: its reports run here.
-  const reports = opts.reports ?? (db.$client.memory ? null : createReportThread(db, { logger }));
+  const reports =
+    opts.reports ??
+    (db.$client.memory ? null : createReportThread(db, { logger, screening: { threads: env.SCREENING_THREADS, sharedFrom: env.SCREENING_SHARED_FROM } }));
   const deps: Deps = { db, auth, env, logger, events, mailer, notify, imports };
   // Slabs whose conditions arrive or change are scored by the active risk models at once.
   onSlabFactsChangedOn(db, scoreOnArrival(db, logger));

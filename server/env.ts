@@ -82,6 +82,14 @@ const envSchema = z.object({
   OIDC_DISPLAY_NAME: z.string().min(1).max(80).default("your plant account"),
   /** Port of the local fake identity provider (only with OIDC_ISSUER=local); 0 picks a free one. */
   FAKE_OIDC_PORT: z.coerce.number().int().min(0).max(65535).default(4011),
+  /**
+   * Helper threads that share a large screening's tests with the report thread (0: none). Default:
+   * one fewer than the processor's cores, at most three, and only as many as a quarter of the
+   * machine's memory holds the working arrays of (about 64 bytes per slab each).
+   */
+  SCREENING_THREADS: z.coerce.number({ error: "SCREENING_THREADS must be a whole number." }).int().min(0).max(16).optional(),
+  /** Slabs in a screening's scope from which its tests are shared out over the helper threads. */
+  SCREENING_SHARED_FROM: z.coerce.number({ error: "SCREENING_SHARED_FROM must be a whole number." }).int().min(1).max(1_000_000_000).default(100_000),
   /** How often the mail worker looks for due messages. */
   MAIL_POLL_MS: z.coerce.number().int().min(200).max(600_000).default(5000),
 });

@@ -12,6 +12,9 @@
  * - The weight is Float32 while every weight is a float32 exactly (whole tonnes, halves…), else Float64.
  * - Capacity grows by a fixed step (an eighth, at least 65,536 rows), one column at a time: the old
  *   and the new copy of one column live together for a moment, never two copies of the whole cache.
+ * - The columns sit on shared memory (SharedArrayBuffer), so the helper threads of a screening read
+ *   them where they are, without a copy (reports/screening-threads.ts). The index by slab id is
+ *   not shared: only this thread looks slabs up by id.
  *
  * Written here because no well-kept library offers exact narrow typed columns over better-sqlite3.
  */
@@ -59,21 +62,26 @@ export type FactRow = (number | null)[];
 export const GROW_MIN_ROWS = 65_536;
 const stepFor = (n: number) => Math.max(GROW_MIN_ROWS, Math.floor(n / 8));
 
+type ColumnType<T> = { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number };
+
+/** A zeroed column of `length` entries on shared memory. */
+export const sharedColumn = <T>(type: ColumnType<T>, length: number): T => new type(new SharedArrayBuffer(length * type.BYTES_PER_ELEMENT));
+
 export function allocate(capacity: number, maxId: number): SlabFacts {
   const vars: Record<string, ValueColumn> = {};
-  for (const k of FACT_VARIABLES) vars[k] = new Float32Array(capacity);
+  for (const k of FACT_VARIABLES) vars[k] = sharedColumn(Float32Array, capacity);
   return {
     size: 0,
-    slabId: new Int32Array(capacity),
-    castAt: new Float64Array(capacity),
-    casterId: new Uint8Array(capacity),
-    strandId: new Uint8Array(capacity),
-    heatId: new Int32Array(capacity),
-    gradeId: new Uint8Array(capacity),
-    familyId: new Uint8Array(capacity),
-    transition: new Uint8Array(capacity),
-    sequencePosition: new Uint8Array(capacity),
-    weightT: new Float32Array(capacity),
+    slabId: sharedColumn(Int32Array, capacity),
+    castAt: sharedColumn(Float64Array, capacity),
+    casterId: sharedColumn(Uint8Array, capacity),
+    strandId: sharedColumn(Uint8Array, capacity),
+    heatId: sharedColumn(Int32Array, capacity),
+    gradeId: sharedColumn(Uint8Array, capacity),
+    familyId: sharedColumn(Uint8Array, capacity),
+    transition: sharedColumn(Uint8Array, capacity),
+    sequencePosition: sharedColumn(Uint8Array, capacity),
+    weightT: sharedColumn(Float32Array, capacity),
     vars,
     indexOf: new Int32Array(maxId + 1).fill(-1),
   };
@@ -99,8 +107,7 @@ export function exactColumn(f: SlabFacts, key: string): Float64Array {
 }
 
 function resized<T extends IdColumn | ValueColumn | Uint8Array | Float64Array>(col: T, capacity: number, used: number): T {
-  const Ctor = col.constructor as new (n: number) => T;
-  const next = new Ctor(capacity);
+  const next = sharedColumn(col.constructor as ColumnType<T>, capacity);
   next.set(col.subarray(0, Math.min(used, capacity)) as never);
   return next;
 }
@@ -141,7 +148,7 @@ function widenId(f: SlabFacts, key: IdKey, i: number, v: number) {
   // Values that do not fit even 32 bits (none in a plant) are refused rather than wrapped.
   if (col instanceof Int32Array || !Number.isInteger(v) || v < -(2 ** 31) || v >= 2 ** 31)
     throw new Error(`report cache: ${key} ${v} does not fit a 32-bit column`);
-  const next = v >= 0 && v <= 0xffff && col instanceof Uint8Array ? new Uint16Array(col.length) : new Int32Array(col.length);
+  const next = v >= 0 && v <= 0xffff && col instanceof Uint8Array ? sharedColumn(Uint16Array, col.length) : sharedColumn(Int32Array, col.length);
   next.set(col);
   next[i] = v;
   f[key] = next;
@@ -150,7 +157,7 @@ function widenId(f: SlabFacts, key: IdKey, i: number, v: number) {
 function widenValue(f: SlabFacts, key: string, i: number, v: number) {
   const col = f.vars[key]!;
   const scale = VARIABLE_SCALE[key]!;
-  const next = new Float64Array(col.length);
+  const next = sharedColumn(Float64Array, col.length);
   // Every value held so far is a grid value Float32 carries exactly: decoded, it is the stored one.
   // Rows past those written are still 0, as in a new column.
   const used = Math.max(f.size, i + 1);
@@ -180,7 +187,7 @@ export function put(f: SlabFacts, i: number, r: FactRow) {
   const w = r[8] ?? NaN;
   f.weightT[i] = w;
   if (f.weightT instanceof Float32Array && !(f.weightT[i] === w || w !== w)) {
-    const next = new Float64Array(f.weightT.length);
+    const next = sharedColumn(Float64Array, f.weightT.length);
     next.set(f.weightT);
     next[i] = w;
     f.weightT = next;

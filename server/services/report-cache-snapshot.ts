@@ -20,7 +20,7 @@ import fs from "node:fs";
 import path from "node:path";
 import zlib from "node:zlib";
 import type Database from "better-sqlite3";
-import { FACT_VARIABLES, ID_COLUMNS, rebuildIndex, type SlabFacts } from "./report-cache-columns";
+import { FACT_VARIABLES, ID_COLUMNS, rebuildIndex, sharedColumn, type SlabFacts } from "./report-cache-columns";
 
 const MAGIC = Buffer.from("STRANDSIGHT-RC1\n", "latin1");
 const FORMAT = 1;
@@ -250,7 +250,8 @@ export async function readSnapshot(
     const facts = { size, vars: {} } as SlabFacts;
     let read = 0;
     for (const c of header.columns) {
-      const col = new TYPES[c.type]!(capacity);
+      // On shared memory, as the columns a build makes (report-cache-columns.ts).
+      const col = sharedColumn(TYPES[c.type] as unknown as { new (buffer: SharedArrayBuffer): Typed; BYTES_PER_ELEMENT: number }, capacity);
       const bytes = new Uint8Array(col.buffer, 0, size * col.BYTES_PER_ELEMENT);
       for (let at = 0; at < bytes.length; at += PIECE) {
         if (opts.stopped?.()) throw new Error("stopped");

@@ -8,6 +8,8 @@ export interface ReportThreadData {
   logLevel: string;
   /** The thread's nice value (0: as the server's). */
   nice: number;
+  /** How screenings are shared out over helper threads (reports/screening-threads.ts); unset: its defaults. */
+  screening?: { threads?: number; sharedFrom?: number };
 }
 
 export type ToReportThread =

@@ -22,6 +22,14 @@ import { overview } from "./reports/overview";
 import { processWindow } from "./reports/process-window";
 import { rateByVariable } from "./reports/rate-by-variable";
 import { screening } from "./reports/screening";
+import {
+  configureScreeningThreads,
+  helpersFor,
+  lastScreeningShare,
+  screeningThreadSettings,
+  startScreeningHelpers,
+  stopScreeningHelpers,
+} from "./reports/screening-threads";
 import { markDefaulted, type FromReportThread, type ReportThreadData, type ThreadError, type ToReportThread } from "./report-thread-protocol";
 
 const REPORTS: Record<string, (db: ReturnType<typeof openDatabase>, query: never) => unknown> = {
@@ -45,6 +53,8 @@ const logger = pino({ level: data.logLevel, base: { app: "strandsight" } }, { wr
 // The reports give way to the write path: a defect being saved gets the processor first when both
 // want it, and the reports take what is left.
 lowerThisThreadPriority(data.nice);
+// A screening's helper threads give way likewise.
+configureScreeningThreads({ nice: data.nice, threads: data.screening?.threads ?? null, sharedFrom: data.screening?.sharedFrom });
 
 const db = openDatabase(data.databaseFile);
 /** The cache runs started by the main thread (startReportCache there), by its token. */
@@ -70,8 +80,10 @@ async function handle(m: ToReportThread) {
         const run = REPORTS[m.kind];
         if (!run) throw new Error(`no report ${m.kind} in the report thread`);
         markDefaulted(m.query, m.defaulted);
+        const from = performance.now();
         const value = speakingIn(m.language, () => run(db, m.query as never));
         send({ type: "reply", id: m.id, ok: true, value, status: status() });
+        if (m.kind === "screening") logger.debug({ ...lastScreeningShare(), ms: Math.round(performance.now() - from) }, "screening worked");
       } catch (err) {
         send({ type: "reply", id: m.id, ok: false, error: asThreadError(err), status: status() });
       }
@@ -81,6 +93,16 @@ async function handle(m: ToReportThread) {
       const h = startReportCache(db, { snapshotFile: m.snapshotFile, sliceMs: m.sliceMs, snapshotEveryMs: null, logger });
       caches.set(m.token, h);
       current = h;
+      // A plant large enough to share its screenings out has the helpers started once the facts are
+      // in, so the first screening does not wait for them to load their code.
+      void h
+        .whenReady()
+        .then(async () => {
+          const slabs = h.status().slabs ?? 0;
+          const helpers = helpersFor(slabs);
+          if (helpers > 0 && slabs >= screeningThreadSettings().sharedFrom) await startScreeningHelpers(helpers);
+        })
+        .catch((err: unknown) => logger.warn({ err }, "screening helpers did not start"));
       send({ type: "reply", id: m.id, ok: true, value: null, status: status() });
       return;
     }
@@ -101,6 +123,7 @@ async function handle(m: ToReportThread) {
       return;
     }
     case "exit":
+      await stopScreeningHelpers();
       db.$client.close();
       port.close();
       return;

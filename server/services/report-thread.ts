@@ -40,6 +40,8 @@ export interface ReportThreadOptions {
   maxWaiting?: number;
   /** How far below the main thread the reports run (nice value, default 10; 0: the same priority). */
   nice?: number;
+  /** Helper threads of a large screening, and from how many slabs (reports/screening-threads.ts; unset: its defaults). */
+  screening?: { threads?: number; sharedFrom?: number };
 }
 
 type Pending = { resolve: (r: { value: unknown; status: ReportCacheStatus | null }) => void; reject: (e: unknown) => void };
@@ -74,7 +76,7 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
   let deferred: (number[] | null)[] = [];
 
   function spawn(): Worker {
-    const data: ReportThreadData = { databaseFile: sqlite.name, logLevel: opts.logger?.level ?? "silent", nice: opts.nice ?? 10 };
+    const data: ReportThreadData = { databaseFile: sqlite.name, logLevel: opts.logger?.level ?? "silent", nice: opts.nice ?? 10, screening: opts.screening };
     const w = new Worker(threadEntry("report-thread.js", "./report-thread-entry.mjs", import.meta.url), {
       workerData: data,
       resourceLimits: { maxOldGenerationSizeMb: heapMb },

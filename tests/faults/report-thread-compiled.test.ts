@@ -2,6 +2,8 @@
  * The compiled server (build/server from `npm run build:server`, as `npm start` runs it) starts its
  * compiled report thread (build/server/report-thread.js): a fact report is worked out there and
  * answered, after the "warming up" answers of the start, with no TypeScript loader in the process.
+ * Its screenings are shared out over compiled helper threads (build/server/screening-helper.js)
+ * when the plant is large enough (here: from one slab on), with the same answer.
  */
 import fs from "node:fs";
 import path from "node:path";
@@ -34,5 +36,44 @@ describe("the compiled report thread", () => {
     expect(body.slabs).toBeGreaterThan(0);
     // The thread's log line reached the server's output.
     expect(srv.output()).toContain('"report cache ready"');
+  }, 120_000);
+
+  it("when the compiled server is asked for screenings with sharing on, then its compiled helper thread works some of the tests and the answers are the same", async () => {
+    expect(fs.existsSync(path.join(REPO_ROOT, "build/server/screening-helper.js")), "screening-helper.js: run npm run build:server").toBe(true);
+    const srv = await startServer({
+      entry: "supervisor",
+      compiled: true,
+      env: { LOG_LEVEL: "debug", SCREENING_THREADS: "1", SCREENING_SHARED_FROM: "1" },
+    });
+    servers.push(srv);
+    const cookie = await srv.signIn("quality@demo.test");
+    const bodies: { byHelpers: number; body: string }[] = [];
+    /** The log lines of the report thread about the screenings worked so far. */
+    const worked = () =>
+      srv
+        .output()
+        .split("\n")
+        .filter((l) => l.includes('"screening worked"'))
+        .map((l) => JSON.parse(l) as { threads: number; byHelpers: number; failedOver: number });
+    await waitFor(
+      "a screening the helper took part in",
+      async () => {
+        const res = await fetch(`${srv.baseUrl}/api/reports/screening?defectType=SLG`, { headers: { cookie } });
+        if (res.status === 503) return undefined;
+        expect(res.status).toBe(200);
+        const body = await res.text();
+        const line = await waitFor("the report thread's line about it", () => worked()[bodies.length], 10_000);
+        expect(line.threads).toBe(2);
+        expect(line.failedOver).toBe(0);
+        bodies.push({ byHelpers: line.byHelpers, body });
+        return line.byHelpers > 0 ? true : undefined;
+      },
+      90_000,
+      100,
+    );
+    expect(srv.output()).not.toMatch(/tsx/);
+    // Every answer the same, whoever worked which test.
+    for (const b of bodies) expect(b.body).toBe(bodies[0]!.body);
+    expect((JSON.parse(bodies[0]!.body) as { variables: unknown[] }).variables.length).toBeGreaterThan(20);
   }, 120_000);
 });

@@ -13,7 +13,7 @@ import { parseDateBound } from "../../lib/dates";
 import { badRequest, said } from "../../lib/http-error";
 import { wilson } from "../../stats/proportions";
 import { normalizeGroups, type Group } from "../../stats/ranks";
-import { slabFacts } from "../report-cache";
+import { slabFacts, type SlabFacts } from "../report-cache";
 import { riskBandSlabsSql } from "../risk/bands";
 
 /** Under this many affected slabs a report warns that its tests have little power (the screens read it too). */
@@ -139,13 +139,21 @@ export const whereSql = (s: Scope, extra: string[] = []) => {
   return all.length ? `where ${all.join(" and ")}` : "";
 };
 
-/** Row indexes of the slab facts within the scope, and which of them are affected. */
-export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number }) {
+/** Row indexes of the slab facts within the scope, and which of them are affected (on shared memory in a screening's helpers). */
+export interface Scanned {
+  facts: SlabFacts;
+  rows: Int32Array;
+  /** 1 for an affected slab, by row index of the facts. */
+  affected: Uint8Array;
+}
+
+export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number }): Scanned {
   const f = slabFacts(db);
   const j = scope.js;
   const from = extra?.from ?? j.from;
   const to = extra?.to ?? j.to;
-  const rows = new Int32Array(f.size);
+  // On shared memory, so a screening's helper threads read them too (screening-threads.ts).
+  const rows = new Int32Array(new SharedArrayBuffer(f.size * 4));
   let inBand: Uint8Array | null = null;
   if (j.riskSlabs) {
     inBand = new Uint8Array(f.size);
@@ -166,7 +174,7 @@ export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number 
     if (j.transition !== undefined && f.transition[i] !== j.transition) continue;
     rows[n++] = i;
   }
-  const affected = new Uint8Array(f.size);
+  const affected = new Uint8Array(new SharedArrayBuffer(f.size));
   const ids = db.$client
     .prepare(`select d.slab_id from defects d where ${scope.defectWhere.join(" and ")} group by d.slab_id`)
     .pluck()
@@ -177,8 +185,6 @@ export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number 
   }
   return { facts: f, rows: rows.subarray(0, n), affected };
 }
-
-export type Scanned = ReturnType<typeof scan>;
 
 /** (value, slabs, affected) groups of one variable, values rounded to the grouping resolution. */
 export function variableGroups(s: Scanned, key: string): { groups: Group[]; missing: number } {

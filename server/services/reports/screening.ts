@@ -20,6 +20,7 @@ import { inWords, named, say } from "../../lib/words";
 import { scratch } from "../../stats/scratch";
 import { VARIABLE_SCALE } from "../report-cache";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
+import { shareOut } from "./screening-threads";
 
 type Query = z.output<typeof screeningQuerySchema>;
 type Row = Screening["variables"][number];
@@ -206,138 +207,166 @@ function adjustedTest(
   };
 }
 
-export function screening(db: Db, q: Query): Screening {
-  const sc = scan(db, buildScope(db, q));
+/** What every test of one screening shares: its slabs, its question and the adjustment terms. */
+export interface ScreeningContext {
+  db: Db;
+  sc: Scanned;
+  q: Query;
+  adjust: ModelTerm[];
+  adjusting: boolean;
+  /** Affected slabs in scope. */
+  affected: number;
+}
+
+export function screeningContext(db: Db, sc: Scanned, q: Query): ScreeningContext {
+  const { rows, affected: aff } = sc;
+  let affected = 0;
+  for (let u = 0; u < rows.length; u++) affected += aff[rows[u]!]!;
+  const adjusting = q.adjustFor.length > 0;
+  return { db, sc, q, adjust: adjusting ? modelTerms(db, sc, q.adjustFor) : [], adjusting, affected };
+}
+
+/** The tests of one screening, each on its own: every numeric variable, then the categorical ones. */
+export const SCREENING_ITEMS = VARIABLES.length + SCREENED_CATEGORICAL.length;
+
+/** Test number `index` (0 … SCREENING_ITEMS − 1): a row of the screening before the BH step and the ranking. */
+export function screenItem(ctx: ScreeningContext, index: number): Row {
+  return index < VARIABLES.length ? screenNumeric(ctx, VARIABLES[index]!) : screenCategorical(ctx, SCREENED_CATEGORICAL[index - VARIABLES.length]!);
+}
+
+function screenNumeric(ctx: ScreeningContext, v: (typeof VARIABLES)[number]): Row {
+  const { sc, q, adjust, adjusting } = ctx;
+  // Welch's accumulators, the model term and the slabs with a value, in one pass.
+  const pass = numericPass(sc, v.key);
+  const { hitAcc, soundAcc, term, withValue } = pass;
+  const hit = hitAcc.result();
+  const sound = soundAcc.result();
+  const all = new RunningSpread().merge(hitAcc).merge(soundAcc).result();
+  const { derivedFrom, parent } = lineage(v.key);
+  const method = say("screening.welchRow");
+  const base = {
+    key: v.key,
+    label: v.label,
+    kind: "numeric" as const,
+    n: hit.n + sound.n,
+    pAdjusted: null,
+    method,
+    meanAffected: hit.mean,
+    meanSound: sound.mean,
+    effect: hit.mean !== null && sound.mean !== null ? hit.mean - sound.mean : null,
+    parent,
+    derivedFrom,
+    countedInBh: false,
+    categories: undefined,
+  };
+  if (all.noSpread) {
+    const reason = say("screening.notTestableBecause", {
+      why: all.n === 0 ? say("screening.noValue") : say("screening.noSpread", { why: String(all.reason) }),
+    });
+    return { ...base, statistic: null, df: null, p: null, fewSlabs: true, testable: false, reason, iqr: null, crude: null, adjusted: null };
+  }
+  let statistic: number | null = null;
+  let df: number | null = null;
+  let p: number | null = null;
+  let reason: string | null = null;
+  if (hit.n < 2 || sound.n < 2) reason = say("screening.tooFewForT");
+  else if (!(hit.variance! > 0 || sound.variance! > 0)) reason = say("screening.noSpreadWithin");
+  else {
+    const t = welchTTest({ n: hit.n, mean: hit.mean!, variance: hit.variance! }, { n: sound.n, mean: sound.mean!, variance: sound.variance! });
+    statistic = finite(t.t);
+    df = finite(t.df);
+    p = finite(t.p);
+  }
+  // Logistic odds ratios per IQR, crude and adjusted, on the slabs with every value the adjusted model needs.
+  const values = (term.column as { values: ArrayLike<number> }).values;
+  const iqr = interquartileRange(values, withValue, 10 ** (v.digits + 1), pass.grid);
+  let crude: Row["crude"] = null;
+  let adjusted: Row["adjusted"] = null;
+  const crudeOf = (fit: MultiLogisticFit) => {
+    const t = fit.terms[0];
+    if (!t || t.coef === null || t.se === null || iqr === null || !(iqr > 0)) return { oddsRatioPerIqr: null, ciLower: null, ciUpper: null, p: t?.p ?? null };
+    const or = oddsRatioForStep(t.coef, t.se, iqr);
+    return { oddsRatioPerIqr: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(t.p ?? NaN) };
+  };
+  if (adjusting) {
+    const r = adjustedTest(sc, q, v.key, term, adjust, iqr, withValue);
+    adjusted = r.test;
+    crude = r.crudeFit ? crudeOf(r.crudeFit) : crudeOf(fitTerms(sc, [term], withValue, q.se, false, true));
+  } else {
+    crude = crudeOf(fitTerms(sc, [term], withValue, q.se, false, true));
+  }
+  return {
+    ...base,
+    statistic,
+    df,
+    p,
+    fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED,
+    testable: true,
+    reason,
+    iqr,
+    crude,
+    adjusted,
+  };
+}
+
+function screenCategorical(ctx: ScreeningContext, key: CategoricalKey): Row {
+  const { db, sc, q, adjust, adjusting, affected } = ctx;
   const { rows, affected: aff } = sc;
   const slabs = rows.length;
-  let affected = 0;
-  for (let u = 0; u < slabs; u++) affected += aff[rows[u]!]!;
-  const adjusting = q.adjustFor.length > 0;
-  const adjust = adjusting ? modelTerms(db, sc, q.adjustFor) : [];
-  const out: Row[] = [];
-
-  for (const v of VARIABLES) {
-    // Welch's accumulators, the model term and the slabs with a value, in one pass.
-    const pass = numericPass(sc, v.key);
-    const { hitAcc, soundAcc, term, withValue } = pass;
-    const hit = hitAcc.result();
-    const sound = soundAcc.result();
-    const all = new RunningSpread().merge(hitAcc).merge(soundAcc).result();
-    const { derivedFrom, parent } = lineage(v.key);
-    const method = say("screening.welchRow");
-    const base = {
-      key: v.key,
-      label: v.label,
-      kind: "numeric" as const,
-      n: hit.n + sound.n,
-      pAdjusted: null,
-      method,
-      meanAffected: hit.mean,
-      meanSound: sound.mean,
-      effect: hit.mean !== null && sound.mean !== null ? hit.mean - sound.mean : null,
-      parent,
-      derivedFrom,
-      countedInBh: false,
-      categories: undefined,
-    };
-    if (all.noSpread) {
-      const reason = say("screening.notTestableBecause", {
-        why: all.n === 0 ? say("screening.noValue") : say("screening.noSpread", { why: String(all.reason) }),
-      });
-      out.push({ ...base, statistic: null, df: null, p: null, fewSlabs: true, testable: false, reason, iqr: null, crude: null, adjusted: null });
-      continue;
+  const [term] = modelTerms(db, sc, [key]);
+  const col = term!.column as { codes: ArrayLike<number>; label: (c: number) => string };
+  const byCode = new Map<number, { slabs: number; affected: number }>();
+  // Slabs of one heat sit side by side and share their codes: look the code up only when it changes.
+  let last = NaN;
+  let c = { slabs: 0, affected: 0 };
+  for (let u = 0; u < slabs; u++) {
+    const i = rows[u]!;
+    const code = col.codes[i]!;
+    if (code !== last) {
+      last = code;
+      const known = byCode.get(code);
+      if (known) c = known;
+      else byCode.set(code, (c = { slabs: 0, affected: 0 }));
     }
-    let statistic: number | null = null;
-    let df: number | null = null;
-    let p: number | null = null;
-    let reason: string | null = null;
-    if (hit.n < 2 || sound.n < 2) reason = say("screening.tooFewForT");
-    else if (!(hit.variance! > 0 || sound.variance! > 0)) reason = say("screening.noSpreadWithin");
-    else {
-      const t = welchTTest({ n: hit.n, mean: hit.mean!, variance: hit.variance! }, { n: sound.n, mean: sound.mean!, variance: sound.variance! });
-      statistic = finite(t.t);
-      df = finite(t.df);
-      p = finite(t.p);
-    }
-    // Logistic odds ratios per IQR, crude and adjusted, on the slabs with every value the adjusted model needs.
-    const values = (term.column as { values: ArrayLike<number> }).values;
-    const iqr = interquartileRange(values, withValue, 10 ** (v.digits + 1), pass.grid);
-    let crude: Row["crude"] = null;
-    let adjusted: Row["adjusted"] = null;
-    const crudeOf = (fit: MultiLogisticFit) => {
-      const t = fit.terms[0];
-      if (!t || t.coef === null || t.se === null || iqr === null || !(iqr > 0)) return { oddsRatioPerIqr: null, ciLower: null, ciUpper: null, p: t?.p ?? null };
-      const or = oddsRatioForStep(t.coef, t.se, iqr);
-      return { oddsRatioPerIqr: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(t.p ?? NaN) };
-    };
-    if (adjusting) {
-      const r = adjustedTest(sc, q, v.key, term, adjust, iqr, withValue);
-      adjusted = r.test;
-      crude = r.crudeFit ? crudeOf(r.crudeFit) : crudeOf(fitTerms(sc, [term], withValue, q.se, false, true));
-    } else {
-      crude = crudeOf(fitTerms(sc, [term], withValue, q.se, false, true));
-    }
-    out.push({
-      ...base,
-      statistic,
-      df,
-      p,
-      fewSlabs: hit.n < SMALL_AFFECTED || sound.n < SMALL_AFFECTED,
-      testable: true,
-      reason,
-      iqr,
-      crude,
-      adjusted,
-    });
+    c.slabs++;
+    c.affected += aff[i]!;
   }
+  const cats = [...byCode.entries()].map(([code, c]) => [col.label(code), c] as const).sort(([x], [y]) => x.localeCompare(y));
+  const chi = cats.length > 1 ? chiSquareIndependence(cats.map(([, c]) => [c.affected, c.slabs - c.affected])) : null;
+  const testable = cats.length > 1;
+  return {
+    key,
+    label: CATEGORICAL_LABELS[key],
+    kind: "categorical",
+    n: slabs,
+    statistic: chi ? finite(chi.statistic) : null,
+    df: chi?.df ?? null,
+    p: chi ? finite(chi.p) : null,
+    pAdjusted: null,
+    effect: null,
+    meanAffected: null,
+    meanSound: null,
+    categories: cats.map(([l, c]) => ({ label: l, slabs: c.slabs, affected: c.affected, rate: c.slabs ? c.affected / c.slabs : null })),
+    method: chi ? chi.method : say("screening.oneCategory"),
+    fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
+    testable,
+    reason: testable ? null : say("screening.notTestableBecause", { why: say("screening.oneCategory") }),
+    parent: null,
+    derivedFrom: [],
+    countedInBh: false,
+    iqr: null,
+    crude: null,
+    adjusted: adjusting && testable ? adjustedTest(sc, q, key, term!, adjust, null, rows).test : null,
+  };
+}
 
-  for (const key of SCREENED_CATEGORICAL) {
-    const [term] = modelTerms(db, sc, [key]);
-    const col = term!.column as { codes: ArrayLike<number>; label: (c: number) => string };
-    const byCode = new Map<number, { slabs: number; affected: number }>();
-    // Slabs of one heat sit side by side and share their codes: look the code up only when it changes.
-    let last = NaN;
-    let c = { slabs: 0, affected: 0 };
-    for (let u = 0; u < slabs; u++) {
-      const i = rows[u]!;
-      const code = col.codes[i]!;
-      if (code !== last) {
-        last = code;
-        const known = byCode.get(code);
-        if (known) c = known;
-        else byCode.set(code, (c = { slabs: 0, affected: 0 }));
-      }
-      c.slabs++;
-      c.affected += aff[i]!;
-    }
-    const cats = [...byCode.entries()].map(([code, c]) => [col.label(code), c] as const).sort(([x], [y]) => x.localeCompare(y));
-    const chi = cats.length > 1 ? chiSquareIndependence(cats.map(([, c]) => [c.affected, c.slabs - c.affected])) : null;
-    const testable = cats.length > 1;
-    out.push({
-      key,
-      label: CATEGORICAL_LABELS[key],
-      kind: "categorical",
-      n: slabs,
-      statistic: chi ? finite(chi.statistic) : null,
-      df: chi?.df ?? null,
-      p: chi ? finite(chi.p) : null,
-      pAdjusted: null,
-      effect: null,
-      meanAffected: null,
-      meanSound: null,
-      categories: cats.map(([l, c]) => ({ label: l, slabs: c.slabs, affected: c.affected, rate: c.slabs ? c.affected / c.slabs : null })),
-      method: chi ? chi.method : say("screening.oneCategory"),
-      fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
-      testable,
-      reason: testable ? null : say("screening.notTestableBecause", { why: say("screening.oneCategory") }),
-      parent: null,
-      derivedFrom: [],
-      countedInBh: false,
-      iqr: null,
-      crude: null,
-      adjusted: adjusting && testable ? adjustedTest(sc, q, key, term!, adjust, null, rows).test : null,
-    });
-  }
+export function screening(db: Db, q: Query): Screening {
+  const sc = scan(db, buildScope(db, q));
+  const ctx = screeningContext(db, sc, q);
+  const { adjust, adjusting, affected } = ctx;
+  const slabs = sc.rows.length;
+  // The tests are independent of each other: shared out over the processor's cores when the slabs are many.
+  const out: Row[] = shareOut(ctx, SCREENING_ITEMS, (i) => screenItem(ctx, i));
 
   // Benjamini–Hochberg over the tests actually made on raw conditions (derived values are the same hypotheses again).
   const counted = out.filter((v) => v.parent === null && v.derivedFrom.length === 0);
