@@ -39,6 +39,16 @@ export function openDatabase(file: string): Db {
 }
 
 /**
+ * A read-only connection to an existing database file (a thread that only reads, such as a
+ * screening's helper): it creates nothing and changes no setting of the file.
+ */
+export function openDatabaseReadOnly(file: string): Db {
+  const sqlite = new Database(file, { readonly: true, fileMustExist: true });
+  sqlite.pragma("busy_timeout = 5000");
+  return drizzle(sqlite, { schema }) as Db;
+}
+
+/**
  * Fails at start, with a plain message, when the database cannot be written. SQLite opens a file it
  * may not write read-only without a word, and a database already migrated needs no write to start,
  * so without this probe the app would come up and answer every save with an error. The probe is a

@@ -61,6 +61,9 @@ const db = openDatabase(data.databaseFile);
 const caches = new Map<number, ReportCacheHandle>();
 let current: ReportCacheHandle | null = null;
 
+/** The main thread said "exit": helpers stopping now are not a failure. */
+let exiting = false;
+
 const status = (): ReportCacheStatus | null => current?.status() ?? null;
 
 function asThreadError(err: unknown): ThreadError {
@@ -83,7 +86,13 @@ async function handle(m: ToReportThread) {
         const from = performance.now();
         const value = speakingIn(m.language, () => run(db, m.query as never));
         send({ type: "reply", id: m.id, ok: true, value, status: status() });
-        if (m.kind === "screening") logger.debug({ ...lastScreeningShare(), ms: Math.round(performance.now() - from) }, "screening worked");
+        if (m.kind === "screening") {
+          const share = lastScreeningShare();
+          const line = { ...share, ms: Math.round(performance.now() - from) };
+          // Helpers that failed cost time, not the answer: said once, with why.
+          if (share.failedOver > 0 || share.failures.length > 0) logger.warn(line, "screening helpers failed; the report thread worked their tests");
+          else logger.debug(line, "screening worked");
+        }
       } catch (err) {
         send({ type: "reply", id: m.id, ok: false, error: asThreadError(err), status: status() });
       }
@@ -102,7 +111,9 @@ async function handle(m: ToReportThread) {
           const helpers = helpersFor(slabs);
           if (helpers > 0 && slabs >= screeningThreadSettings().sharedFrom) await startScreeningHelpers(helpers);
         })
-        .catch((err: unknown) => logger.warn({ err }, "screening helpers did not start"));
+        .catch((err: unknown) => {
+          if (!exiting) logger.warn({ err }, "screening helpers did not start");
+        });
       send({ type: "reply", id: m.id, ok: true, value: null, status: status() });
       return;
     }
@@ -123,6 +134,7 @@ async function handle(m: ToReportThread) {
       return;
     }
     case "exit":
+      exiting = true;
       await stopScreeningHelpers();
       db.$client.close();
       port.close();

@@ -38,7 +38,7 @@ describe("the compiled report thread", () => {
     expect(srv.output()).toContain('"report cache ready"');
   }, 120_000);
 
-  it("when the compiled server is asked for screenings with sharing on, then its compiled helper thread works some of the tests and the answers are the same", async () => {
+  it("when the compiled server is asked for screenings with sharing on, then its compiled helper thread works some of the tests and every answer is the one the report thread gives alone", async () => {
     expect(fs.existsSync(path.join(REPO_ROOT, "build/server/screening-helper.js")), "screening-helper.js: run npm run build:server").toBe(true);
     const srv = await startServer({
       entry: "supervisor",
@@ -75,5 +75,31 @@ describe("the compiled report thread", () => {
     // Every answer the same, whoever worked which test.
     for (const b of bodies) expect(b.body).toBe(bodies[0]!.body);
     expect((JSON.parse(bodies[0]!.body) as { variables: unknown[] }).variables.length).toBeGreaterThan(20);
-  }, 120_000);
+
+    // And the same as the report thread alone gives: the server again on the same files, without helpers.
+    srv.kill("SIGTERM");
+    await srv.waitExit();
+    const alone = await startServer({ entry: "supervisor", compiled: true, files: srv.files, env: { LOG_LEVEL: "debug", SCREENING_THREADS: "0" } });
+    servers.push(alone);
+    const cookieAlone = await alone.signIn("quality@demo.test");
+    const body = await waitFor(
+      "the screening without helpers",
+      async () => {
+        const res = await fetch(`${alone.baseUrl}/api/reports/screening?defectType=SLG`, { headers: { cookie: cookieAlone } });
+        if (res.status === 503) return undefined;
+        expect(res.status).toBe(200);
+        return res.text();
+      },
+      90_000,
+      100,
+    );
+    expect(body).toBe(bodies[0]!.body);
+    const line = await waitFor("the report thread's line about it", () =>
+      alone
+        .output()
+        .split("\n")
+        .find((l) => l.includes('"screening worked"')),
+    );
+    expect(JSON.parse(line)).toMatchObject({ threads: 1, byHelpers: 0 });
+  }, 180_000);
 });

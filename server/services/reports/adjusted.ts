@@ -265,6 +265,11 @@ export function completeRows(s: Scanned, terms: ModelTerm[]) {
 /** The last scope numbered (reports run one at a time in their thread, each from start to end). */
 let numbered: { s: Scanned; ids: Int32Array; count: number } | null = null;
 
+/** Lets go of the last scope numbered (and so of its facts: a screening's helper after its share). */
+export function forgetHeatNumbering() {
+  numbered = null;
+}
+
 /**
  * The scope's heats numbered once per report (in the order they first appear in its rows), for
  * the clusters of every fit the report makes on those rows, instead of once per fit. The arrays

@@ -13,7 +13,8 @@
  *   (Atomics.wait) and reads their rows from their ports (receiveMessageOnPort), so no change to the
  *   facts can come in between (the report thread applies changes only between reports).
  * - A helper that fails a test, dies or stalls costs time, not the answer: the caller works those
- *   tests itself, and the helper is replaced for the next screening.
+ *   tests itself (a helper that finished nothing for ten times the caller's slowest test, at least
+ *   5 s, is given up), and the helper is replaced for the next screening.
  *
  * Only for large scopes (SCREENING_SHARED_FROM slabs in the server's settings, 100,000 by default:
  * below that a screening takes a few tenths of a second in one thread) and a database in a file (a
@@ -28,16 +29,13 @@ import { threadEntry } from "../../lib/paths";
 import type { Language } from "@shared/i18n/languages";
 import { currentLanguage } from "../../lib/words";
 import { ID_COLUMNS, type SlabFacts } from "../report-cache-columns";
+import { defaultedKeys } from "../report-thread-protocol";
 import type { Db } from "../../db/client";
 import type { Scanned } from "./scope";
 
-/** Slots of the shared control array: the next test to take, the tests the helpers finished, then one status per test. */
+/** Slots of the shared control array: the next test to take, and how many tests the helpers have finished. */
 export const NEXT = 0;
 export const FINISHED = 1;
-export const STATUS = 2;
-/** A test's status: taken by the caller, or by a helper. */
-const BY_CALLER = 1;
-export const BY_HELPER = 2;
 
 export interface HelperData {
   results: MessagePort;
@@ -50,6 +48,8 @@ export interface HelperJob {
   language: Language;
   /** The screening's query, as parsed (screening.ts reads it). */
   query: unknown;
+  /** The query's lists the server filled in by default (report-thread-protocol.ts: a structured clone drops their mark). */
+  defaulted: string[];
   facts: Omit<SlabFacts, "indexOf">;
   rows: Int32Array;
   affected: Uint8Array;
@@ -73,7 +73,12 @@ export const BYTES_PER_SLAB = 64;
  * Helpers the machine's memory allows when the number was not set: together their working arrays
  * stay within a quarter of it.
  */
-const memoryAllows = (slabs: number) => Math.floor(os.totalmem() / 4 / (BYTES_PER_SLAB * Math.max(1, slabs)));
+const memoryAllows = (slabs: number) => {
+  // A container's limit where there is one (Node gives 2^64 where there is none).
+  const limit = process.constrainedMemory?.();
+  const memory = limit && limit > 0 ? Math.min(limit, os.totalmem()) : os.totalmem();
+  return Math.floor(memory / 4 / (BYTES_PER_SLAB * Math.max(1, slabs)));
+};
 /** By default a screening is shared out from this many slabs in scope. */
 export const DEFAULT_SHARED_FROM = 100_000;
 
@@ -111,6 +116,8 @@ interface Helper {
 }
 
 let pool: Helper[] = [];
+/** Why helpers failed since the last screening (logged with it by the report thread). */
+let failures: string[] = [];
 let idle: NodeJS.Timeout | null = null;
 let jobs = 0;
 
@@ -127,7 +134,10 @@ function spawn(): Helper {
   worker.unref();
   const helper: Helper = { worker, results: port1, broken: false, ready: false };
   worker.once("message", () => (helper.ready = true));
-  worker.on("error", () => (helper.broken = true));
+  worker.on("error", (err) => {
+    helper.broken = true;
+    failures.push(String((err as Error)?.message ?? err));
+  });
   worker.on("exit", () => (helper.broken = true));
   return helper;
 }
@@ -196,15 +206,75 @@ const onSharedMemory = <T extends Int32Array | Uint8Array>(a: T): T => {
   return copy;
 };
 
-/** What a screening did: how many threads, how many tests the helpers worked, how many the caller worked again for them. */
+/**
+ * What a screening did: how many threads, how many tests the helpers worked, how many the caller
+ * worked again for them, and why helpers failed (since the screening before).
+ */
 export interface Share {
   threads: number;
   byHelpers: number;
   failedOver: number;
+  failures: string[];
 }
-let lastShare: Share = { threads: 1, byHelpers: 0, failedOver: 0 };
+let lastShare: Share = { threads: 1, byHelpers: 0, failedOver: 0, failures: [] };
 /** What the last screening of this thread did (the report thread logs it; tests read it). */
-export const lastScreeningShare = (): Share => ({ ...lastShare });
+export const lastScreeningShare = (): Share => ({ ...lastShare, failures: [...lastShare.failures] });
+
+/** The caller's share, then the helpers' rows; a test a helper could not work is worked here. */
+function work<T>(team: Helper[], job: HelperJob, out: T[], done: Uint8Array, own: (i: number) => T) {
+  const { control, items: count } = job;
+  // The caller's share: the next test not yet taken, until none is left.
+  let slowest = 0;
+  for (;;) {
+    const i = Atomics.add(control, NEXT, 1);
+    if (i >= count) break;
+    const from = performance.now();
+    out[i] = own(i);
+    done[i] = 1;
+    slowest = Math.max(slowest, performance.now() - from);
+  }
+
+  // The helpers' tests: their rows as they come.
+  const redo: number[] = [];
+  const read = () => {
+    for (const h of team) {
+      for (let m = receiveMessageOnPort(h.results); m; m = receiveMessageOnPort(h.results)) {
+        const r = m.message as HelperResult;
+        if (r.job !== job.job || done[r.index]) continue;
+        if ("failed" in r) {
+          redo.push(r.index);
+          h.broken = true;
+          lastShare.failures.push(r.failed);
+        } else {
+          out[r.index] = r.row as T;
+          lastShare.byHelpers++;
+        }
+        done[r.index] = 1;
+      }
+    }
+  };
+  // A helper that finishes nothing for this long has stopped (a thread that died cannot say so while
+  // this one waits): its tests are worked here. A helper's test takes about as long as the caller's
+  // (the same work, the same priority), so ten times the slowest, and at least 5 s.
+  const patience = Math.max(5_000, 10 * slowest);
+  let progressAt = performance.now();
+  for (;;) {
+    const finished = Atomics.load(control, FINISHED);
+    read();
+    if (done.every((d) => d === 1)) break;
+    if (performance.now() - progressAt > patience) {
+      for (let i = 0; i < count; i++) if (!done[i]) redo.push(i);
+      for (const h of team) h.broken = true;
+      lastShare.failures.push(`no helper finished a test in ${Math.round(patience)} ms`);
+      break;
+    }
+    if (Atomics.wait(control, FINISHED, finished, 100) !== "timed-out") progressAt = performance.now();
+  }
+  for (const i of redo) {
+    out[i] = own(i);
+    lastShare.failedOver++;
+  }
+}
 
 /**
  * The `count` tests of a screening, `own(i)` worked here and the rest by helper threads when the scope
@@ -219,19 +289,21 @@ export function shareOut<T>(ctx: { db: Db; sc: Scanned; q: unknown }, count: num
   const shareable = columns.every((c) => c.buffer instanceof SharedArrayBuffer);
   const wanted =
     ctx.sc.rows.length >= Math.max(1, settings.sharedFrom) && file && file !== ":memory:" && !ctx.db.$client.memory && shareable ? helpersFor(facts.size) : 0;
-  lastShare = { threads: 1, byHelpers: 0, failedOver: 0 };
+  lastShare = { threads: 1, byHelpers: 0, failedOver: 0, failures };
+  failures = [];
   if (wanted === 0) {
     for (let i = 0; i < count; i++) out[i] = own(i);
     return out;
   }
   const team = helpers(wanted).slice();
   lastShare.threads = team.length + 1;
-  const control = new Int32Array(new SharedArrayBuffer((STATUS + count) * 4));
+  const control = new Int32Array(new SharedArrayBuffer(8));
   const job: HelperJob = {
     job: ++jobs,
     databaseFile: file,
     language: currentLanguage(),
     query: ctx.q,
+    defaulted: defaultedKeys(ctx.q),
     facts,
     rows: onSharedMemory(ctx.sc.rows),
     affected: onSharedMemory(ctx.sc.affected),
@@ -240,54 +312,13 @@ export function shareOut<T>(ctx: { db: Db; sc: Scanned; q: unknown }, count: num
   };
   for (const h of team) h.worker.postMessage(job);
 
-  // The caller's share: the next test not yet taken, until none is left.
-  let slowest = 0;
   const done = new Uint8Array(count);
-  for (;;) {
-    const i = Atomics.add(control, NEXT, 1);
-    if (i >= count) break;
-    Atomics.store(control, STATUS + i, BY_CALLER);
-    const from = performance.now();
-    out[i] = own(i);
-    done[i] = 1;
-    slowest = Math.max(slowest, performance.now() - from);
-  }
-
-  // The helpers' tests: their rows as they come, a test a helper could not work done here.
-  const redo: number[] = [];
-  const read = () => {
-    for (const h of team) {
-      for (let m = receiveMessageOnPort(h.results); m; m = receiveMessageOnPort(h.results)) {
-        const r = m.message as HelperResult;
-        if (r.job !== job.job || done[r.index]) continue;
-        if ("failed" in r) {
-          redo.push(r.index);
-          h.broken = true;
-        } else {
-          out[r.index] = r.row as T;
-          lastShare.byHelpers++;
-        }
-        done[r.index] = 1;
-      }
-    }
-  };
-  // A helper that makes no progress for this long has stopped: its tests are worked here.
-  const patience = Math.max(20_000, 20 * slowest);
-  let progressAt = performance.now();
-  for (;;) {
-    const finished = Atomics.load(control, FINISHED);
-    read();
-    if (done.every((d) => d === 1)) break;
-    if (performance.now() - progressAt > patience) {
-      for (let i = 0; i < count; i++) if (!done[i]) redo.push(i);
-      for (const h of team) h.broken = true;
-      break;
-    }
-    if (Atomics.wait(control, FINISHED, finished, 100) !== "timed-out") progressAt = performance.now();
-  }
-  for (const i of redo) {
-    out[i] = own(i);
-    lastShare.failedOver++;
+  try {
+    work(team, job, out, done, own);
+  } finally {
+    // Whatever happened here (a test that threw, helpers given up on), no helper takes a test of this
+    // screening any more: the facts may change once it has returned.
+    Atomics.store(control, NEXT, count);
   }
   return out;
 }
