@@ -5,6 +5,9 @@
  * levels. Ranked by the Benjamini–Hochberg adjusted p of the adjusted tests (or the crude ones).
  * Derived values are listed under the raw condition they come from and are not hypotheses of their
  * own: BH counts only the raw conditions actually tested.
+ *
+ * Each test (screenItem) reads the facts on its own, so a large screening shares its tests out over
+ * helper threads (screening-threads.ts) with the same answer; BH and the ranking are done here.
  */
 import type { z } from "zod";
 import { termConflict, type Screening, type screeningQuerySchema } from "@shared/api/reports";
