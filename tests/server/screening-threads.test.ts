@@ -13,6 +13,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { screeningQuerySchema } from "@shared/api/reports";
 import { openDatabase } from "../../server/db/client";
 import { speakingIn } from "../../server/lib/words";
+import { slabFacts } from "../../server/services/report-cache";
 import { screening } from "../../server/services/reports/screening";
 import {
   configureScreeningThreads,
@@ -110,7 +111,7 @@ describe("a screening shared out over helper threads", () => {
     expect(after).not.toBe(before);
   }, 60_000);
 
-  it("when the scope is smaller than the sharing threshold, or sharing is off, then the screening stays in one thread", () => {
+  it("when the scope is smaller than the sharing threshold, sharing is off, or a column of the facts is not on shared memory, then the screening stays in one thread", () => {
     const query = { defectType: "SLG", adjustFor: "none" };
     const expected = alone(query);
     configureScreeningThreads({ threads: 1, sharedFrom: 1_000_000 });
@@ -119,6 +120,17 @@ describe("a screening shared out over helper threads", () => {
     configureScreeningThreads({ threads: 0, sharedFrom: 1 });
     expect(run(query)).toBe(expected);
     expect(lastScreeningShare().threads).toBe(1);
+    // A column of the facts not on shared memory (it would be copied to every helper): one thread.
+    const facts = slabFacts(t.db);
+    const shared = facts.heatId;
+    facts.heatId = Int32Array.from(shared);
+    try {
+      configureScreeningThreads({ threads: 1, sharedFrom: 1 });
+      expect(run(query)).toBe(expected);
+      expect(lastScreeningShare().threads).toBe(1);
+    } finally {
+      facts.heatId = shared;
+    }
   });
 
   it("when a helper cannot work its test (here: the database file is no longer where the caller opened it), then the caller works it and the answer is the same", async () => {

@@ -28,7 +28,7 @@ import { MessageChannel, receiveMessageOnPort, Worker, type MessagePort } from "
 import { threadEntry } from "../../lib/paths";
 import type { Language } from "@shared/i18n/languages";
 import { currentLanguage } from "../../lib/words";
-import { ID_COLUMNS, type SlabFacts } from "../report-cache-columns";
+import type { SlabFacts } from "../report-cache-columns";
 import { defaultedKeys } from "../report-thread-protocol";
 import type { Db } from "../../db/client";
 import type { Scanned } from "./scope";
@@ -284,9 +284,9 @@ export function shareOut<T>(ctx: { db: Db; sc: Scanned; q: unknown }, count: num
   const out = new Array<T>(count);
   const file = ctx.db.$client.name;
   const { indexOf: _byId, ...facts } = ctx.sc.facts;
-  const columns: ArrayBufferView[] = [...Object.values(facts.vars), facts.slabId, facts.castAt, facts.heatId, facts.transition, facts.weightT];
-  for (const k of ID_COLUMNS) columns.push(facts[k]);
-  const shareable = columns.every((c) => c.buffer instanceof SharedArrayBuffer);
+  // Every column, whatever columns the facts come to hold: one not on shared memory would be copied to each helper.
+  const columns = ([...Object.values(facts.vars), ...Object.values(facts)] as unknown[]).filter((c): c is ArrayBufferView => ArrayBuffer.isView(c));
+  const shareable = columns.length > Object.keys(facts.vars).length && columns.every((c) => c.buffer instanceof SharedArrayBuffer);
   const wanted =
     ctx.sc.rows.length >= Math.max(1, settings.sharedFrom) && file && file !== ":memory:" && !ctx.db.$client.memory && shareable ? helpersFor(facts.size) : 0;
   lastShare = { threads: 1, byHelpers: 0, failedOver: 0, failures };
