@@ -17,11 +17,13 @@
  *   5 s, is given up), and the helper is replaced for the next screening.
  *
  * Only for large scopes (SCREENING_SHARED_FROM slabs in the server's settings, 100,000 by default:
- * below that a screening takes a few tenths of a second in one thread) and a database in a file (a
- * helper opens it for the categories' names). Helpers: SCREENING_THREADS, by default one fewer than
- * the processor's cores, at most three; 0 turns sharing off. They start when the report thread's
- * facts are in (or at the first large screening) and stop after ten idle minutes. Written here because no well-kept pool runs synchronous work on
- * shared memory from a synchronous caller.
+ * below that a screening takes a few tenths of a second in one thread), a database in a file (a
+ * helper opens it for the categories' names) and facts whose every column is on shared memory.
+ * Helpers: SCREENING_THREADS, by default one fewer than the processor's cores, at most three, and
+ * only as many as a quarter of the memory holds the working arrays of; 0 turns sharing off. They
+ * start when the report thread's facts are in (or at the first large screening) and stop after ten
+ * idle minutes. Written here because no well-kept pool runs synchronous work on shared memory from
+ * a synchronous caller.
  */
 import os from "node:os";
 import { MessageChannel, receiveMessageOnPort, Worker, type MessagePort } from "node:worker_threads";
