@@ -144,11 +144,12 @@ function spawn(): Helper {
   return helper;
 }
 
-function retire(h: Helper) {
+function stop(h: Helper): Promise<unknown> {
   h.broken = true;
   h.results.close();
-  void h.worker.terminate().catch(() => undefined);
+  return h.worker.terminate().catch(() => undefined);
 }
+const retire = (h: Helper) => void stop(h);
 
 /** Stops every helper (the report thread's end; tests). The next large screening starts them again. */
 export async function stopScreeningHelpers() {
@@ -156,13 +157,7 @@ export async function stopScreeningHelpers() {
   pool = [];
   if (idle) clearTimeout(idle);
   idle = null;
-  await Promise.all(
-    all.map(async (h) => {
-      h.broken = true;
-      h.results.close();
-      await h.worker.terminate().catch(() => undefined);
-    }),
-  );
+  await Promise.all(all.map(stop));
 }
 
 function helpers(count: number): Helper[] {
@@ -188,8 +183,8 @@ export async function startScreeningHelpers(count: number): Promise<void> {
       (h) =>
         new Promise<void>((resolve, reject) => {
           if (h.broken) return reject(new Error("a screening helper stopped while starting"));
-          // Held while waiting (an unreferenced thread alone would let the process end meanwhile).
           if (h.ready) return resolve();
+          // Held while waiting (an unreferenced thread alone would let the process end meanwhile).
           h.worker.ref();
           h.worker.once("message", () => {
             h.worker.unref();
@@ -200,13 +195,6 @@ export async function startScreeningHelpers(count: number): Promise<void> {
     ),
   );
 }
-
-const onSharedMemory = <T extends Int32Array | Uint8Array>(a: T): T => {
-  if (a.buffer instanceof SharedArrayBuffer) return a;
-  const copy = new (a.constructor as new (b: SharedArrayBuffer) => T)(new SharedArrayBuffer(a.byteLength));
-  copy.set(a);
-  return copy;
-};
 
 /**
  * What a screening did: how many threads, how many tests the helpers worked, how many the caller
@@ -286,11 +274,11 @@ export function shareOut<T>(ctx: { db: Db; sc: Scanned; q: unknown }, count: num
   const out = new Array<T>(count);
   const file = ctx.db.$client.name;
   const { indexOf: _byId, ...facts } = ctx.sc.facts;
-  // Every column, whatever columns the facts come to hold: one not on shared memory would be copied to each helper.
-  const columns = ([...Object.values(facts.vars), ...Object.values(facts)] as unknown[]).filter((c): c is ArrayBufferView => ArrayBuffer.isView(c));
-  const shareable = columns.length > Object.keys(facts.vars).length && columns.every((c) => c.buffer instanceof SharedArrayBuffer);
-  const wanted =
-    ctx.sc.rows.length >= Math.max(1, settings.sharedFrom) && file && file !== ":memory:" && !ctx.db.$client.memory && shareable ? helpersFor(facts.size) : 0;
+  // Every column the facts hold, and the scope's rows and flags: one not on shared memory would be copied to each helper.
+  const arrays = ([...Object.values(facts.vars), ...Object.values(facts), ctx.sc.rows, ctx.sc.affected] as unknown[]).filter((a) => ArrayBuffer.isView(a));
+  const shareable = arrays.every((a) => a.buffer instanceof SharedArrayBuffer);
+  // An in-memory (or temporary) database cannot be opened by a helper.
+  const wanted = ctx.sc.rows.length >= Math.max(1, settings.sharedFrom) && !ctx.db.$client.memory && shareable ? helpersFor(facts.size) : 0;
   lastShare = { threads: 1, byHelpers: 0, failedOver: 0, failures };
   failures = [];
   if (wanted === 0) {
@@ -307,8 +295,8 @@ export function shareOut<T>(ctx: { db: Db; sc: Scanned; q: unknown }, count: num
     query: ctx.q,
     defaulted: defaultedKeys(ctx.q),
     facts,
-    rows: onSharedMemory(ctx.sc.rows),
-    affected: onSharedMemory(ctx.sc.affected),
+    rows: ctx.sc.rows,
+    affected: ctx.sc.affected,
     control,
     items: count,
   };
