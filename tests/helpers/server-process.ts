@@ -1,9 +1,11 @@
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
-import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
+import { freePort } from "./ports";
+
+export { freePort };
 
 export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
 export const DEMO_PASSWORD = "strandsight-demo";
@@ -49,15 +51,6 @@ export interface ServerProcess {
   waitExit(timeoutMs?: number): Promise<Exit>;
   /** Signs in a demo user; the Cookie header value for later requests. */
   signIn(email: string, password?: string): Promise<string>;
-}
-
-/** A port nobody listens on right now (the OS picks it). */
-export async function freePort(): Promise<number> {
-  const probe = net.createServer();
-  await new Promise<void>((resolve) => probe.listen(0, "127.0.0.1", resolve));
-  const port = (probe.address() as net.AddressInfo).port;
-  await new Promise<void>((resolve) => probe.close(() => resolve()));
-  return port;
 }
 
 export function newServerFiles(): ServerFiles {

@@ -1,7 +1,6 @@
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import type { AddressInfo } from "node:net";
 import request from "supertest";
 import { createApp } from "../../server/app";
 import { createAuth } from "../../server/auth";
@@ -14,6 +13,7 @@ import { setupMail } from "../../server/mail/setup";
 import { setupSso } from "../../server/sso/setup";
 import { createNotifications } from "../../server/mail/notifications";
 import type { Role } from "../../shared/roles";
+import { freePort } from "./ports";
 
 export const TEST_PASSWORD = "test-password-123";
 
@@ -109,10 +109,7 @@ export type TestApp = Awaited<ReturnType<typeof createTestApp>>;
 /** The same app on a real port, for the browser tests. */
 export async function startTestServer(opts: TestAppOptions = {}) {
   // Find a free port first, so BETTER_AUTH_URL (the trusted origin) names the port we serve on.
-  const probe = (await import("node:http")).createServer();
-  await new Promise<void>((resolve) => probe.listen(0, "127.0.0.1", resolve));
-  const port = (probe.address() as AddressInfo).port;
-  await new Promise<void>((resolve) => probe.close(() => resolve()));
+  const port = await freePort();
   const t = await createTestApp({ ...opts, port });
   const server = t.app.listen(port, "127.0.0.1");
   await new Promise<void>((resolve) => server.once("listening", resolve));

@@ -5,6 +5,7 @@ import { startFakeSmtp } from "../../server/mail/fake-smtp";
 import { backoffMs, createMailer, MAIL_PARALLEL, MAIL_PER_PASS, MAX_ATTEMPTS } from "../../server/mail/mailer";
 import { createLogger } from "../../server/lib/logger";
 import { createTestApp, TEST_PASSWORD, type TestApp } from "../helpers/test-app";
+import { freePort } from "../helpers/ports";
 
 /**
  * The mail path end to end: the queue in SQLite, nodemailer over a real SMTP connection, and the
@@ -19,14 +20,6 @@ afterAll(() => t?.close());
 const O = () => t.env.BETTER_AUTH_URL;
 const rows = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).all(...a) as Record<string, any>[];
 const one = (sql: string, ...a: unknown[]) => t.db.$client.prepare(sql).get(...a) as Record<string, any>;
-
-async function freePort(): Promise<number> {
-  const s = net.createServer();
-  await new Promise<void>((r) => s.listen(0, "127.0.0.1", r));
-  const port = (s.address() as net.AddressInfo).port;
-  await new Promise<void>((r) => s.close(() => r()));
-  return port;
-}
 
 describe("the mail path", () => {
   it("when an inspector logs a critical defect, then the entry is saved at once, a message to the quality engineers is queued, travels over SMTP, and the outbox shows it sent and received", async () => {
