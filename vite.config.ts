@@ -53,6 +53,27 @@ function compressServiceWorker(): Plugin {
 }
 
 /**
+ * React Router's package exports point at its development build in every mode (its open issue
+ * remix-run/react-router#14102): dev-only warnings and checks ship with the app. A build resolves
+ * "react-router" and "react-router/dom" to the production build the package ships beside it.
+ */
+function reactRouterProduction(): Plugin {
+  const dir = path.resolve(import.meta.dirname, "node_modules/react-router/dist/production");
+  return {
+    name: "strandsight:react-router-production",
+    apply: "build",
+    config: () => ({
+      resolve: {
+        alias: [
+          { find: /^react-router$/, replacement: path.join(dir, "index.mjs") },
+          { find: /^react-router\/dom$/, replacement: path.join(dir, "dom-export.mjs") },
+        ],
+      },
+    }),
+  };
+}
+
+/**
  * `vite build` (and so `npm start`) prints warnings and errors only, then one line of what it built,
  * instead of a line per file: with the .gz and .br copies that list runs to hundreds of lines before
  * the server's own. `vite build --logLevel info` lists every file again.
@@ -116,6 +137,7 @@ function buildSummary(): Plugin {
 export default defineConfig({
   plugins: [
     react(),
+    reactRouterProduction(),
     tailwindcss(),
     // The service worker: after one online visit the app starts, reloads and navigates with no
     // network. generateSW (not injectManifest): all it does is precache the build and answer
