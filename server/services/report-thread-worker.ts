@@ -56,7 +56,9 @@ lowerThisThreadPriority(data.nice);
 // A screening's helper threads give way likewise.
 configureScreeningThreads({ nice: data.nice, threads: data.screening?.threads ?? null, sharedFrom: data.screening?.sharedFrom });
 
-const db = openDatabase(data.databaseFile);
+// 8 MB of page cache, not 64 (db/client.ts): the reports read the slab data from the report cache's
+// columns; SQLite gives them names, defects and changed slabs.
+const db = openDatabase(data.databaseFile, { cacheMb: 8 });
 /** The cache runs started by the main thread (startReportCache there), by its token. */
 const caches = new Map<number, ReportCacheHandle>();
 let current: ReportCacheHandle | null = null;

@@ -57,7 +57,12 @@ describe("database", () => {
     expect(db.$client.pragma("foreign_keys", { simple: true })).toBe(1);
     expect(db.$client.pragma("busy_timeout", { simple: true })).toBe(5000);
     expect(db.$client.pragma("integrity_check", { simple: true })).toBe("ok");
+    // 64 MB of page cache (negative: KiB) unless the connection asks for less, as the report thread does.
+    expect(db.$client.pragma("cache_size", { simple: true })).toBe(-65536);
     db.$client.close();
+    const small = openDatabase(path.join(dir, "empty.db"), { cacheMb: 8 });
+    expect(small.$client.pragma("cache_size", { simple: true })).toBe(-8192);
+    small.$client.close();
   });
 
   it("when the keys are inspected, then heat_no and slab_id are unique and indexed, and a defect needs a slab", () => {
