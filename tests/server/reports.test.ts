@@ -158,6 +158,32 @@ describe("reports on a plant built by hand", () => {
     expect(r.pareto[1].cumulativeShare).toBeCloseTo(1, 12);
   });
 
+  it("when one slab has two slag entries, then the Pareto counts both entries and that slab once (slabs per type), and the totals count its defects", async () => {
+    const c = t.db.$client;
+    const slab = c.prepare("select id from slabs where slab_id = 'HAND-12'").pluck().get() as number;
+    const slagType = c.prepare("select id from defect_types where code = 'SLG'").pluck().get() as number;
+    const user = c.prepare("select id from user where email = 'inspector@demo.test'").pluck().get();
+    const extra = c
+      .prepare(
+        "insert into defects (slab_id, type_id, face, position_along_mm, position_across_mm, severity, stage, disposition, found_at, created_by, review_status) values (?, ?, 'outer', 7000, 900, 2, 'slab_yard', 'scarf', ?, ?, 'confirmed')",
+      )
+      .run(slab, slagType, DAY2, user).lastInsertRowid;
+    try {
+      const r = await get("/api/reports/overview?period=day");
+      expect(r.totals).toMatchObject({ slabs: 12, affected: 6, defects: 7 });
+      expect(r.pareto.map((p: { code: string; defects: number; slabsAffected: number }) => [p.code, p.defects, p.slabsAffected])).toEqual([
+        ["SLG", 6, 5],
+        ["LFC", 1, 1],
+      ]);
+      expect(r.periods.map((p: { period: string; defects: number }) => [p.period, p.defects])).toEqual([
+        ["2026-12-01", 1],
+        ["2026-12-02", 6],
+      ]);
+    } finally {
+      c.prepare("delete from defects where id = ?").run(extra);
+    }
+  });
+
   it("when before and after compares the two days, then the difference is 4/6 − 1/6 = 0.5 and Fisher's test is used (small counts)", async () => {
     const r = await get("/api/reports/before-after?defectType=SLG&mode=periods&aFrom=2026-12-01&aTo=2026-12-01&bFrom=2026-12-02&bTo=2026-12-02");
     expect([r.a.slabs, r.a.affected, r.b.slabs, r.b.affected]).toEqual([6, 1, 6, 4]);

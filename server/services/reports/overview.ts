@@ -33,7 +33,7 @@ export function overview(db: Db, q: z.output<typeof overviewQuerySchema>): Overv
     (db.$client.prepare("select id, code, name from defect_types").all() as { id: number; code: string; name: string }[]).map((t) => [t.id, t]),
   );
   const paretoRows = [...byType.entries()]
-    .map(([id, t]) => ({ code: types.get(id)!.code, name: types.get(id)!.name, defects: t.defects, slabs: t.slabs.size }))
+    .map(([id, t]) => ({ code: types.get(id)!.code, name: types.get(id)!.name, defects: t.defects, slabs: t.slabs }))
     .sort((a, b) => b.defects - a.defects || a.code.localeCompare(b.code));
   const paretoTotal = paretoRows.reduce((s, r) => s + r.defects, 0);
   let cum = 0;
