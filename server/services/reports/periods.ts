@@ -33,16 +33,26 @@ function labeller(period: Period) {
   };
 }
 
-/** Counts per period label, in label order (labels sort in time order). */
+/**
+ * Counts per period label, in label order (labels sort in time order). The slabs come in cast order
+ * (mostly): while the day stays the same, so does the counter, and the label is not looked up again.
+ */
 export function byPeriod(s: Scanned, period: Period, weight = false) {
   const label = labeller(period);
   const map = new Map<string, { n: number; x: number; t: number }>();
+  let lastDay = NaN;
+  let c = { n: 0, x: 0, t: 0 };
   for (const i of s.rows) {
     const at = s.facts.castAt[i]!;
     if (at !== at) continue;
-    const l = label(at);
-    let c = map.get(l);
-    if (!c) map.set(l, (c = { n: 0, x: 0, t: 0 }));
+    const day = Math.floor(at / DAY);
+    if (day !== lastDay) {
+      lastDay = day;
+      const l = label(at);
+      const known = map.get(l);
+      if (known) c = known;
+      else map.set(l, (c = { n: 0, x: 0, t: 0 }));
+    }
     c.n++;
     c.x += s.affected[i]!;
     if (weight) c.t += s.facts.weightT[i]! || 0;
@@ -50,19 +60,33 @@ export function byPeriod(s: Scanned, period: Period, weight = false) {
   return [...map.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([l, c]) => ({ period: l, ...c }));
 }
 
-/** Slabs and affected slabs per period and stratum (e.g. grade family), for standardised rates. */
+/** Slabs and affected slabs per period and stratum (e.g. grade family), for standardised rates; looked up again only when the day or the stratum changes. */
 export function byPeriodAndStratum(s: Scanned, period: Period, stratumOf: (i: number) => string) {
   const label = labeller(period);
   const map = new Map<string, Map<string, { n: number; x: number }>>();
+  let lastDay = NaN;
+  let m = new Map<string, { n: number; x: number }>();
+  let lastK: string | null = null;
+  let c = { n: 0, x: 0 };
   for (const i of s.rows) {
     const at = s.facts.castAt[i]!;
     if (at !== at) continue;
-    const l = label(at);
-    let m = map.get(l);
-    if (!m) map.set(l, (m = new Map()));
+    const day = Math.floor(at / DAY);
+    if (day !== lastDay) {
+      lastDay = day;
+      const l = label(at);
+      const known = map.get(l);
+      if (known) m = known;
+      else map.set(l, (m = new Map()));
+      lastK = null;
+    }
     const k = stratumOf(i);
-    let c = m.get(k);
-    if (!c) m.set(k, (c = { n: 0, x: 0 }));
+    if (k !== lastK) {
+      lastK = k;
+      const known = m.get(k);
+      if (known) c = known;
+      else m.set(k, (c = { n: 0, x: 0 }));
+    }
     c.n++;
     c.x += s.affected[i]!;
   }

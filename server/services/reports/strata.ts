@@ -47,13 +47,19 @@ export function stratifier(db: Db, f: SlabFacts, key: CategoricalKey): Stratifie
   return { key, label: CATEGORICAL_LABELS[key], of };
 }
 
-/** Slabs and affected slabs per level over the given rows. */
+/** Slabs and affected slabs per level over the given rows (the counter looked up again only when the level changes). */
 export function countByLevel(rows: Iterable<number>, affected: Uint8Array, of: (i: number) => string) {
   const m = new Map<string, { n: number; x: number }>();
+  let lastK: string | null = null;
+  let c = { n: 0, x: 0 };
   for (const i of rows) {
     const k = of(i);
-    let c = m.get(k);
-    if (!c) m.set(k, (c = { n: 0, x: 0 }));
+    if (k !== lastK) {
+      lastK = k;
+      const known = m.get(k);
+      if (known) c = known;
+      else m.set(k, (c = { n: 0, x: 0 }));
+    }
     c.n++;
     c.x += affected[i]!;
   }
