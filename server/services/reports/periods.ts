@@ -33,26 +33,38 @@ function labeller(period: Period) {
   };
 }
 
+/** The entry of `key`, made by `make` the first time it is asked for. */
+export function entryOf<K, V>(map: Map<K, V>, key: K, make: () => V): V {
+  let v = map.get(key);
+  if (v === undefined) map.set(key, (v = make()));
+  return v;
+}
+
 /**
- * Counts per period label, in label order (labels sort in time order). The slabs come in cast order
- * (mostly): while the day stays the same, so does the counter, and the label is not looked up again.
+ * For cast times in cast order (the slabs come so, mostly): the period's label when the day changes,
+ * null while it stays the same, so a counter is looked up again only at a new day.
  */
-export function byPeriod(s: Scanned, period: Period, weight = false) {
+function dayChanges(period: Period) {
   const label = labeller(period);
+  let last = NaN;
+  return (at: number) => {
+    const day = Math.floor(at / DAY);
+    if (day === last) return null;
+    last = day;
+    return label(at);
+  };
+}
+
+/** Counts per period label, in label order (labels sort in time order). */
+export function byPeriod(s: Scanned, period: Period, weight = false) {
+  const next = dayChanges(period);
   const map = new Map<string, { n: number; x: number; t: number }>();
-  let lastDay = NaN;
   let c = { n: 0, x: 0, t: 0 };
   for (const i of s.rows) {
     const at = s.facts.castAt[i]!;
     if (at !== at) continue;
-    const day = Math.floor(at / DAY);
-    if (day !== lastDay) {
-      lastDay = day;
-      const l = label(at);
-      const known = map.get(l);
-      if (known) c = known;
-      else map.set(l, (c = { n: 0, x: 0, t: 0 }));
-    }
+    const l = next(at);
+    if (l !== null) c = entryOf(map, l, () => ({ n: 0, x: 0, t: 0 }));
     c.n++;
     c.x += s.affected[i]!;
     if (weight) c.t += s.facts.weightT[i]! || 0;
@@ -60,32 +72,25 @@ export function byPeriod(s: Scanned, period: Period, weight = false) {
   return [...map.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([l, c]) => ({ period: l, ...c }));
 }
 
-/** Slabs and affected slabs per period and stratum (e.g. grade family), for standardised rates; looked up again only when the day or the stratum changes. */
+/** Slabs and affected slabs per period and stratum (e.g. grade family), for standardised rates. */
 export function byPeriodAndStratum(s: Scanned, period: Period, stratumOf: (i: number) => string) {
-  const label = labeller(period);
+  const next = dayChanges(period);
   const map = new Map<string, Map<string, { n: number; x: number }>>();
-  let lastDay = NaN;
   let m = new Map<string, { n: number; x: number }>();
   let lastK: string | null = null;
   let c = { n: 0, x: 0 };
   for (const i of s.rows) {
     const at = s.facts.castAt[i]!;
     if (at !== at) continue;
-    const day = Math.floor(at / DAY);
-    if (day !== lastDay) {
-      lastDay = day;
-      const l = label(at);
-      const known = map.get(l);
-      if (known) m = known;
-      else map.set(l, (m = new Map()));
+    const l = next(at);
+    if (l !== null) {
+      m = entryOf(map, l, () => new Map());
       lastK = null;
     }
     const k = stratumOf(i);
     if (k !== lastK) {
       lastK = k;
-      const known = m.get(k);
-      if (known) c = known;
-      else m.set(k, (c = { n: 0, x: 0 }));
+      c = entryOf(m, k, () => ({ n: 0, x: 0 }));
     }
     c.n++;
     c.x += s.affected[i]!;
@@ -129,9 +134,7 @@ export function defectsByPeriod(db: Db, scope: Scope, s: Scanned, period: Period
     }
     if (typeId !== lastType) {
       lastType = typeId;
-      const known = byType.get(typeId);
-      if (known) t = known;
-      else byType.set(typeId, (t = { defects: 0, slabs: 0 }));
+      t = entryOf(byType, typeId, () => ({ defects: 0, slabs: 0 }));
     }
     t.defects++;
     if (key !== last) t.slabs++;

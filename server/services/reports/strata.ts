@@ -8,7 +8,7 @@ import type { Db } from "../../db/client";
 import { directlyStandardisedRate } from "../../stats/standardise";
 import type { SlabFacts } from "../report-cache";
 import { seqBucket } from "./adjusted";
-import { byPeriodAndStratum, type Period } from "./periods";
+import { byPeriodAndStratum, entryOf, type Period } from "./periods";
 import type { Scanned } from "./scope";
 import { say } from "../../lib/words";
 
@@ -56,9 +56,7 @@ export function countByLevel(rows: Iterable<number>, affected: Uint8Array, of: (
     const k = of(i);
     if (k !== lastK) {
       lastK = k;
-      const known = m.get(k);
-      if (known) c = known;
-      else m.set(k, (c = { n: 0, x: 0 }));
+      c = entryOf(m, k, () => ({ n: 0, x: 0 }));
     }
     c.n++;
     c.x += affected[i]!;
