@@ -1,4 +1,6 @@
 import fs from "node:fs";
+import http from "node:http";
+import type { AddressInfo } from "node:net";
 import os from "node:os";
 import path from "node:path";
 import request from "supertest";
@@ -13,7 +15,6 @@ import { setupMail } from "../../server/mail/setup";
 import { setupSso } from "../../server/sso/setup";
 import { createNotifications } from "../../server/mail/notifications";
 import type { Role } from "../../shared/roles";
-import { freePort } from "./ports";
 
 export const TEST_PASSWORD = "test-password-123";
 
@@ -108,11 +109,19 @@ export type TestApp = Awaited<ReturnType<typeof createTestApp>>;
 
 /** The same app on a real port, for the browser tests. */
 export async function startTestServer(opts: TestAppOptions = {}) {
-  // Find a free port first, so BETTER_AUTH_URL (the trusted origin) names the port we serve on.
-  const port = await freePort();
-  const t = await createTestApp({ ...opts, port });
-  const server = t.app.listen(port, "127.0.0.1");
-  await new Promise<void>((resolve) => server.once("listening", resolve));
+  // Listen first (the OS picks the port), then build the app with that port as BETTER_AUTH_URL (the
+  // trusted origin): no other program can take the port in between.
+  const server = http.createServer();
+  await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
+  const port = (server.address() as AddressInfo).port;
+  let t: TestApp;
+  try {
+    t = await createTestApp({ ...opts, port });
+  } catch (err) {
+    server.close();
+    throw err;
+  }
+  server.on("request", t.app);
   const baseUrl = `http://localhost:${port}`;
   return {
     ...t,
