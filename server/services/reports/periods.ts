@@ -113,16 +113,18 @@ export function defectsByPeriod(db: Db, scope: Scope, s: Scanned, period: Period
   const inScope = new Uint8Array(f.size);
   for (const i of s.rows) inScope[i] = 1;
   const label = labeller(period);
-  const K = (db.$client.prepare("select coalesce(max(id), 0) + 1 from defect_types").pluck().get() as number) ?? 1;
-  const defects = db.$client
-    .prepare(`select d.slab_id * ${K} + d.type_id from defects d where ${scope.defectWhere.join(" and ")} order by d.type_id, d.slab_id`)
-    .pluck();
+  // K and the defects from one read of the database: a type added between them would not decode.
+  const { K, keys } = db.$client.transaction(() => {
+    const K = (db.$client.prepare("select coalesce(max(id), 0) + 1 from defect_types").pluck().get() as number) ?? 1;
+    const sql = `select d.slab_id * ${K} + d.type_id from defects d where ${scope.defectWhere.join(" and ")} order by d.type_id, d.slab_id`;
+    return { K, keys: db.$client.prepare(sql).pluck().all(scope.params) as number[] };
+  })();
   const byPeriodLabel = new Map<string, number>();
   const byType = new Map<number, { defects: number; slabs: number }>();
   let last = -1;
   let lastType = -1;
   let t = { defects: 0, slabs: 0 };
-  for (const key of defects.all(scope.params) as number[]) {
+  for (const key of keys) {
     const slabId = Math.floor(key / K);
     const typeId = key - slabId * K;
     const i = slabId < f.indexOf.length ? f.indexOf[slabId]! : -1;
