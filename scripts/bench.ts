@@ -124,13 +124,13 @@ function start() {
       target: "< 800 MB",
       met: rss[1] === "5,000,000" ? rss[4] === "met" : null,
     });
-  const round = /^start summary ([\d,]+) slabs: server RSS peak (\d+) MB after the other reports too/m.exec(out);
+  const round = /^start summary ([\d,]+) slabs: server RSS peak (\d+) MB while the other reports ran/m.exec(out);
   if (round)
     figures.push({
-      figure: `start, ${round[1]} slabs: server RSS (peak after the other reports too)`,
+      figure: `start, ${round[1]} slabs: server RSS (peak while the other reports ran)`,
       value: `${round[2]} MB`,
-      target: "< 800 MB",
-      met: round[1] === "5,000,000" ? Number(round[2]) < 800 : null,
+      target: "(recorded)",
+      met: null,
     });
   if (!(answer && ready && rss && round)) figures.push({ figure: "start", value: "summary lines missing", target: "", met: false });
 }

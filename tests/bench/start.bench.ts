@@ -56,7 +56,7 @@ interface Start {
   screeningAdjusted: number;
   rssAfterScreening: number;
   peakAfterScreening: number;
-  /** Peak RSS once the other reports have run too. */
+  /** Peak RSS while the other reports ran (after the screenings). */
   peakAfterRound: number;
   stopMs: number;
   snapshotLine: string | null;
@@ -150,7 +150,9 @@ async function startOnce(dir: string, label: string): Promise<Start> {
   const screeningCrude = await median3("/api/reports/screening?defectType=SLG&adjustFor=none");
   const screeningAdjusted = await median3("/api/reports/screening?defectType=SLG");
   const after = memoryOf(child.pid!);
-  // Then the quality engineer's other reports, once each, timed: the peak RSS of a working session.
+  // Then the quality engineer's other reports, once each, timed, and their own peak RSS (the peak is
+  // set back to the RSS of now first: Linux's clear_refs).
+  fs.writeFileSync(`/proc/${child.pid}/clear_refs`, "5");
   const round: [string, number][] = [];
   for (const [name, p] of [
     ["overview", "/api/reports/overview"],

@@ -16,6 +16,7 @@ const scripts = () =>
 
 describe("the built client", () => {
   it("when the client is built, then it holds React Router's production build: its error page is there, its developer-only warnings are not", () => {
+    expect(fs.existsSync(path.join(dist, "assets")), `no built client in ${dist}: run \`npm run build\` first (npm test does)`).toBe(true);
     const all = scripts();
     // In both builds: the router's own error page (so the router is in the scripts at all).
     expect(all.filter((s) => s.includes("Unexpected Application Error!"))).toHaveLength(1);
