@@ -259,7 +259,7 @@ async function main() {
       `start summary ${slabs} slabs: server RSS peak ${peak.toFixed(0)} MB (ready ${warm.rssReady.toFixed(0)} MB) target < 800 MB at 5 M ${SLABS >= 5_000_000 ? (peak < 800 ? "met" : "NOT met") : "(judged on BENCH_SLABS=5000000)"}`,
     );
     console.log(
-      `start summary ${slabs} slabs: server RSS peak ${peakRound.toFixed(0)} MB after the other reports too (overview, control chart, rate, window, model)`,
+      `start summary ${slabs} slabs: server RSS peak ${peakRound.toFixed(0)} MB while the other reports ran (overview, control chart, rate, window, model)`,
     );
   } finally {
     fs.rmSync(dir, { recursive: true, force: true });
