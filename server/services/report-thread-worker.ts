@@ -57,7 +57,9 @@ lowerThisThreadPriority(data.nice);
 configureScreeningThreads({ nice: data.nice, threads: data.screening?.threads ?? null, sharedFrom: data.screening?.sharedFrom });
 
 // 8 MB of page cache, not 64 (db/client.ts): the reports read the slab data from the report cache's
-// columns; SQLite gives them names, defects and changed slabs.
+// columns; SQLite gives them names, defects and changed slabs. The trade, measured at five million
+// slabs: 45–57 MB less RSS, and ≈ 30 ms more on each of a report's defect queries (their pages come
+// from the OS's file cache; any cache under 64 MB costs the same).
 const db = openDatabase(data.databaseFile, { cacheMb: 8 });
 /** The cache runs started by the main thread (startReportCache there), by its token. */
 const caches = new Map<number, ReportCacheHandle>();
