@@ -175,8 +175,10 @@ export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number 
     rows[n++] = i;
   }
   const affected = new Uint8Array(new SharedArrayBuffer(f.size));
+  // Every matching defect's slab, duplicates and all (a flag set twice is the same flag): without a
+  // GROUP BY SQLite may read the table straight through instead of walking the slab index.
   const ids = db.$client
-    .prepare(`select d.slab_id from defects d where ${scope.defectWhere.join(" and ")} group by d.slab_id`)
+    .prepare(`select d.slab_id from defects d where ${scope.defectWhere.join(" and ")}`)
     .pluck()
     .all(scope.params) as number[];
   for (const id of ids) {
