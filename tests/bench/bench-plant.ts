@@ -5,7 +5,6 @@
  */
 import { spawnSync } from "node:child_process";
 import fs from "node:fs";
-import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { createAuth } from "../../server/auth";
@@ -40,10 +39,5 @@ export async function copyBenchPlant(source: string, prefix: string): Promise<st
   return dir;
 }
 
-export async function freePort(): Promise<number> {
-  const probe = net.createServer();
-  await new Promise<void>((r) => probe.listen(0, "127.0.0.1", r));
-  const port = (probe.address() as net.AddressInfo).port;
-  await new Promise<void>((r) => probe.close(() => r()));
-  return port;
-}
+// The tests' port helper: a port nobody listens on and no other run has reserved.
+export { freePort } from "../helpers/ports";

@@ -31,7 +31,6 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import type { AddressInfo } from "node:net";
 import { monitorEventLoopDelay } from "node:perf_hooks";
 import type Database from "better-sqlite3";
 import express from "express";
@@ -39,6 +38,7 @@ import { DISPOSITION_RANK } from "../../shared/domain";
 import { openDatabase } from "../../server/db/client";
 import { runMigrations } from "../../server/db/migrate";
 import { percentile } from "../helpers/load";
+import { freePort } from "../helpers/ports";
 
 const here = fileURLToPath(import.meta.url);
 const root = path.resolve(path.dirname(here), "../..");
@@ -85,14 +85,6 @@ async function ensureTemplate(file: string) {
 }
 
 // ─── the servers (child processes) ───
-
-const freePort = async () => {
-  const probe = (await import("node:http")).createServer();
-  await new Promise<void>((resolve) => probe.listen(0, "127.0.0.1", resolve));
-  const port = (probe.address() as AddressInfo).port;
-  await new Promise<void>((resolve) => probe.close(() => resolve()));
-  return port;
-};
 
 /** The floor: only what any server must do to store a defect, with nothing of a framework's around it. */
 function floorApp(sqlite: Database.Database) {
