@@ -64,10 +64,11 @@ function reports() {
     /^slab facts cache: built from SQLite in ([\d.]+) s.*?, (\d+) MB in typed arrays\n\s+(\d+) bytes per slab.*?; (\d+) of (\d+) variables held as Float32/m.exec(
       out,
     );
+  const inFiles = /^\s+condition columns in files beyond REPORT_COLUMNS_MB \((\d+) MB\): (\d+) of \d+ \((\d+) MB/m.exec(out);
   if (cache)
     figures.push({
-      figure: "report cache: bytes per slab (was 243)",
-      value: `${cache[3]} B (${cache[2]} MB; ${cache[4]}/${cache[5]} variables Float32; rebuilt in ${cache[1]} s)`,
+      figure: "report cache: bytes per slab in memory (was 243)",
+      value: `${cache[3]} B (${cache[2]} MB; ${cache[4]}/${cache[5]} variables Float32; rebuilt in ${cache[1]} s${inFiles && inFiles[2] !== "0" ? `; ${inFiles[2]} condition columns in files, ${inFiles[3]} MB` : ""})`,
       target: "(recorded)",
       met: null,
     });

@@ -148,7 +148,13 @@ export function createApp(opts: AppOptions) {
   // first use). An in-memory database cannot be opened by a second thread: its reports run here.
   const reports =
     opts.reports ??
-    (db.$client.memory ? null : createReportThread(db, { logger, screening: { threads: env.SCREENING_THREADS, sharedFrom: env.SCREENING_SHARED_FROM } }));
+    (db.$client.memory
+      ? null
+      : createReportThread(db, {
+          logger,
+          screening: { threads: env.SCREENING_THREADS, sharedFrom: env.SCREENING_SHARED_FROM },
+          columnsMb: env.REPORT_COLUMNS_MB,
+        }));
   const deps: Deps = { db, auth, env, logger, events, mailer, notify, imports };
   // Slabs whose conditions arrive or change are scored by the active risk models at once.
   onSlabFactsChangedOn(db, scoreOnArrival(db, logger));

@@ -90,6 +90,11 @@ const envSchema = z.object({
   SCREENING_THREADS: z.coerce.number({ error: "SCREENING_THREADS must be a whole number." }).int().min(0).max(16).optional(),
   /** Slabs in a screening's scope from which its tests are shared out over the helper threads. */
   SCREENING_SHARED_FROM: z.coerce.number({ error: "SCREENING_SHARED_FROM must be a whole number." }).int().min(1).max(1_000_000_000).default(100_000),
+  /**
+   * Memory for the report cache's condition columns, MB: those that do not fit are kept in files
+   * beside the database and read when a report needs them (services/report-cache-disk.ts).
+   */
+  REPORT_COLUMNS_MB: z.coerce.number({ error: "REPORT_COLUMNS_MB must be a whole number of megabytes." }).int().min(0).max(1_000_000).default(256),
   /** How often the mail worker looks for due messages. */
   MAIL_POLL_MS: z.coerce.number().int().min(200).max(600_000).default(5000),
 });

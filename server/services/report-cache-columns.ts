@@ -15,10 +15,14 @@
  * - The columns sit on shared memory (SharedArrayBuffer), so the helper threads of a screening read
  *   them where they are, without a copy (reports/screening-threads.ts). The index by slab id is
  *   not shared: only this thread looks slabs up by id.
+ * - Condition columns beyond the memory set aside for them are kept in files (`disk`,
+ *   report-cache-disk.ts) with the same bytes; a report reads a variable through `withValues`,
+ *   whichever way it is held.
  *
  * Written here because no well-kept library offers exact narrow typed columns over better-sqlite3.
  */
 import { VARIABLES } from "@shared/variables";
+import { closeColumnFile, columnToDisk, readWhole, withDiskValues, writeValue, type DiskColumn } from "./report-cache-disk";
 
 export type IdColumn = Uint8Array | Uint16Array | Int32Array;
 export type ValueColumn = Float32Array | Float64Array;
@@ -37,10 +41,13 @@ export interface SlabFacts {
   sequencePosition: IdColumn;
   weightT: ValueColumn;
   /**
+   * The condition columns held in memory (the others are in `disk`): read them through withValues.
    * NaN where the slab has no value. A Float32 column holds values on the variable's grid: group it
    * as the reports do, or read a slab's own value with `exactValue`.
    */
   vars: Record<string, ValueColumn>;
+  /** The condition columns kept in files (report-cache-disk.ts), the same bytes as in memory. */
+  disk: Record<string, DiskColumn>;
   /** slab row id → index in the columns (−1 when absent). */
   indexOf: Int32Array;
 }
@@ -83,6 +90,7 @@ export function allocate(capacity: number, maxId: number): SlabFacts {
     sequencePosition: sharedColumn(Uint8Array, capacity),
     weightT: sharedColumn(Float32Array, capacity),
     vars,
+    disk: {},
     indexOf: new Int32Array(maxId + 1).fill(-1),
   };
 }
@@ -96,14 +104,44 @@ export function exactValue(col: ValueColumn, scale: number, i: number): number {
   return col instanceof Float32Array ? Math.round(x * scale) / scale : x;
 }
 
-/** A variable's column as Float64 with the stored values (the column itself when it is Float64). */
+/**
+ * A variable's column lent to `use` (which must not keep it): the column in memory, or its file's
+ * values in a borrowed buffer (report-cache-disk.ts). Indexes 0 … f.size − 1 are the slabs'.
+ */
+export function withValues<T>(f: SlabFacts, key: string, use: (col: ValueColumn) => T): T {
+  const d = f.disk[key];
+  if (d) return withDiskValues(d, f.size, use);
+  const col = f.vars[key];
+  if (!col) throw new Error(`report cache: no column for ${key}`);
+  return use(col);
+}
+
+/** A variable's column as Float64 with the stored values (the column itself when it is Float64 in memory). */
 export function exactColumn(f: SlabFacts, key: string): Float64Array {
-  const col = f.vars[key]!;
+  const d = f.disk[key];
+  const col = d ? readWhole(d, f.size) : f.vars[key]!;
   if (col instanceof Float64Array) return col;
   const scale = VARIABLE_SCALE[key]!;
   const out = new Float64Array(f.size);
   for (let i = 0; i < f.size; i++) out[i] = Math.round(col[i]! * scale) / scale;
   return out;
+}
+
+/** Moves the named condition columns from memory to files in `dir` (their memory is let go). */
+export function moveToDisk(f: SlabFacts, dir: string, keys: string[]) {
+  for (const k of keys) {
+    const col = f.vars[k];
+    if (!col || f.disk[k]) continue;
+    f.disk[k] = columnToDisk(dir, col, f.size);
+    delete f.vars[k];
+  }
+}
+
+/** Closes the facts' column files (facts replaced or dropped): the system frees their space. */
+export function closeDisk(f: SlabFacts | null) {
+  if (!f) return;
+  for (const d of Object.values(f.disk)) closeColumnFile(d);
+  f.disk = {};
 }
 
 function resized<T extends IdColumn | ValueColumn | Uint8Array | Float64Array>(col: T, capacity: number, used: number): T {
@@ -123,7 +161,8 @@ export function ensureCapacity(f: SlabFacts, rows: number) {
   f.transition = resized(f.transition, next, f.size);
   f.weightT = resized(f.weightT, next, f.size);
   for (const k of ID_COLUMNS) f[k] = resized(f[k], next, f.size);
-  for (const k of FACT_VARIABLES) f.vars[k] = resized(f.vars[k]!, next, f.size);
+  // A column in a file grows as rows are written to it.
+  for (const k of Object.keys(f.vars)) f.vars[k] = resized(f.vars[k]!, next, f.size);
 }
 
 /** Room in `indexOf` for slab ids up to `maxId`. */
@@ -166,6 +205,20 @@ function widenValue(f: SlabFacts, key: string, i: number, v: number) {
   f.vars[key] = next;
 }
 
+/** The same for a column in a file: its values rewritten as Float64 to a new file, with v at row i. */
+function widenDisk(f: SlabFacts, key: string, i: number, v: number) {
+  const d = f.disk[key]!;
+  const scale = VARIABLE_SCALE[key]!;
+  const used = Math.max(f.size, i + 1);
+  // Read with the writes a patch still holds for it (readWhole applies them first).
+  const old = readWhole(d, used);
+  const next = new Float64Array(used);
+  for (let j = 0; j < used; j++) next[j] = Math.round(old[j]! * scale) / scale;
+  next[i] = v;
+  f.disk[key] = columnToDisk(d.dir, next, used);
+  closeColumnFile(d);
+}
+
 function putId(f: SlabFacts, key: IdKey, i: number, v: number) {
   const col = f[key];
   col[i] = v;
@@ -195,8 +248,21 @@ export function put(f: SlabFacts, i: number, r: FactRow) {
   f.heatId[i] = r[9] ?? 0;
   for (let k = 0; k < FACT_VARIABLES.length; k++) {
     const key = FACT_VARIABLES[k]!;
-    const col = f.vars[key]!;
     const v = r[FIRST_VAR + k] ?? NaN;
+    const d = f.disk[key];
+    if (d) {
+      // The same test as in memory below, on the value Float32 would hold.
+      if (d.type === "Float32Array" && v === v) {
+        const scale = VARIABLE_SCALE[key]!;
+        if (Math.round(Math.fround(v) * scale) / scale !== v) {
+          widenDisk(f, key, i, v);
+          continue;
+        }
+      }
+      writeValue(d, i, v);
+      continue;
+    }
+    const col = f.vars[key]!;
     col[i] = v;
     if (col instanceof Float32Array && v === v) {
       const scale = VARIABLE_SCALE[key]!;
@@ -206,16 +272,25 @@ export function put(f: SlabFacts, i: number, r: FactRow) {
   f.indexOf[id] = i;
 }
 
-/** Bytes held in the columns (capacity, not only the rows used). */
+/** Bytes held in memory by the columns (capacity, not only the rows used). */
 export function factsBytes(f: SlabFacts): number {
   let bytes = f.slabId.byteLength + f.castAt.byteLength + f.heatId.byteLength + f.transition.byteLength + f.weightT.byteLength + f.indexOf.byteLength;
   for (const k of ID_COLUMNS) bytes += f[k].byteLength;
-  for (const k of FACT_VARIABLES) bytes += f.vars[k]!.byteLength;
+  for (const col of Object.values(f.vars)) bytes += col.byteLength;
   return bytes;
 }
 
-/** How many variables are held as Float32 (on their grid) and how many as Float64. */
+/** Bytes of the rows in the column files. */
+export const diskBytes = (f: SlabFacts) => Object.values(f.disk).reduce((s, d) => s + f.size * (d.type === "Float32Array" ? 4 : 8), 0);
+
+/** The type each variable's column has, in memory or in its file. */
+export function columnTypes(f: SlabFacts): Record<string, "Float32Array" | "Float64Array"> {
+  return Object.fromEntries(FACT_VARIABLES.map((k) => [k, f.disk[k] ? f.disk[k].type : f.vars[k] instanceof Float32Array ? "Float32Array" : "Float64Array"]));
+}
+
+/** How many variables are held as Float32 (on their grid) and how many as Float64, and which are in files. */
 export function columnKinds(f: SlabFacts) {
-  const float32 = FACT_VARIABLES.filter((k) => f.vars[k] instanceof Float32Array);
-  return { float32, float64: FACT_VARIABLES.filter((k) => !(f.vars[k] instanceof Float32Array)) };
+  const types = columnTypes(f);
+  const float32 = FACT_VARIABLES.filter((k) => types[k] === "Float32Array");
+  return { float32, float64: FACT_VARIABLES.filter((k) => types[k] !== "Float32Array"), onDisk: Object.keys(f.disk) };
 }

@@ -20,7 +20,8 @@ import fs from "node:fs";
 import path from "node:path";
 import zlib from "node:zlib";
 import type Database from "better-sqlite3";
-import { FACT_VARIABLES, ID_COLUMNS, rebuildIndex, sharedColumn, type SlabFacts } from "./report-cache-columns";
+import { closeDisk, FACT_VARIABLES, ID_COLUMNS, rebuildIndex, sharedColumn, type SlabFacts } from "./report-cache-columns";
+import { chooseOnDisk, newColumnFile, readAt, writeAt, type DiskType } from "./report-cache-disk";
 
 const MAGIC = Buffer.from("STRANDSIGHT-RC1\n", "latin1");
 const FORMAT = 1;
@@ -64,9 +65,28 @@ function allowedTypes(name: string): string[] {
 
 const COLUMN_NAMES = ["slabId", "castAt", "heatId", "transition", "weightT", ...ID_COLUMNS, ...FACT_VARIABLES.map((k) => `vars.${k}`)];
 
-function columnOf(f: SlabFacts, name: string): Typed {
-  if (name.startsWith("vars.")) return f.vars[name.slice(5)]!;
-  return f[name as "slabId"] as Typed;
+/** A column's type and its first `size` rows' bytes, piece by piece (from memory, or from its file). */
+function sourceOf(f: SlabFacts, name: string, size: number) {
+  const d = name.startsWith("vars.") ? f.disk[name.slice(5)] : undefined;
+  if (d) {
+    const bytes = size * (d.type === "Float32Array" ? 4 : 8);
+    return {
+      name,
+      type: d.type as string,
+      bytes,
+      piece: (at: number, into: Uint8Array) => {
+        // A report between two pieces may have replaced the file (a value off the grid) or the facts:
+        // this snapshot would mix two states, and the descriptor may be another file's by now.
+        if (d.closed || f.disk[name.slice(5)] !== d) throw new Error("the report cache changed while its snapshot was written");
+        const out = into.subarray(0, Math.min(into.length, bytes - at));
+        if (!readAt(d.fd, out, at)) throw new Error(`report cache: the file of ${name} is shorter than its rows`);
+        return out;
+      },
+    };
+  }
+  const col = name.startsWith("vars.") ? f.vars[name.slice(5)]! : (f[name as "slabId"] as Typed);
+  const view = new Uint8Array(col.buffer, col.byteOffset, size * col.BYTES_PER_ELEMENT);
+  return { name, type: col.constructor.name, bytes: view.length, piece: (at: number) => view.subarray(at, Math.min(view.length, at + PIECE)) };
 }
 
 function setColumn(f: SlabFacts, name: string, col: Typed) {
@@ -122,12 +142,12 @@ export const snapshotFileFor = (databaseFile: string) => `${databaseFile}.report
  */
 export async function writeSnapshot(sqlite: Database.Database, f: SlabFacts, file: string, version?: number): Promise<{ bytes: number }> {
   const size = f.size;
-  const columns = COLUMN_NAMES.map((name) => ({ name, data: columnOf(f, name) }));
+  const columns = COLUMN_NAMES.map((name) => sourceOf(f, name, size));
   const header: Header = {
     format: FORMAT,
     variables: FACT_VARIABLES,
     size,
-    columns: columns.map((c) => ({ name: c.name, type: c.data.constructor.name })),
+    columns: columns.map((c) => ({ name: c.name, type: c.type })),
     fingerprint: { ...factsFingerprint(sqlite, f), ...(version === undefined ? {} : { version }) },
     writtenAt: Date.now(),
   };
@@ -149,10 +169,11 @@ export async function writeSnapshot(sqlite: Database.Database, f: SlabFacts, fil
   try {
     await out(lead);
     const zeros = new Uint8Array(8);
+    // For the columns in files: read a piece, write it out, before the next (nothing else is read meanwhile).
+    let buffer: Uint8Array | null = null;
     for (const c of columns) {
-      const view = new Uint8Array(c.data.buffer, c.data.byteOffset, size * c.data.BYTES_PER_ELEMENT);
-      for (let at = 0; at < view.length; at += PIECE) await out(view.subarray(at, Math.min(view.length, at + PIECE)));
-      await out(zeros.subarray(0, pad8(view.length)));
+      for (let at = 0; at < c.bytes; at += PIECE) await out(c.piece(at, (buffer ??= new Uint8Array(PIECE))));
+      await out(zeros.subarray(0, pad8(c.bytes)));
     }
     const tail = Buffer.alloc(4);
     tail.writeUInt32LE(crc >>> 0, 0);
@@ -197,7 +218,13 @@ async function readFully(fh: fs.promises.FileHandle, target: Uint8Array): Promis
 export async function readSnapshot(
   sqlite: Database.Database,
   file: string,
-  opts: { capacityFor: (rows: number) => number; progress?: (phase: "checking" | "reading", done: number, total: number) => void; stopped?: () => boolean },
+  opts: {
+    capacityFor: (rows: number) => number;
+    progress?: (phase: "checking" | "reading", done: number, total: number) => void;
+    stopped?: () => boolean;
+    /** Where condition columns beyond the memory set aside go (report-cache-disk.ts); null: all in memory. */
+    diskDir?: string | null;
+  },
 ): Promise<SnapshotResult> {
   let fh: fs.promises.FileHandle;
   try {
@@ -247,31 +274,48 @@ export async function readSnapshot(
     if (difference) return { facts: null, reason: `the snapshot is out of date: ${difference}` };
 
     const capacity = opts.capacityFor(size);
-    const facts = { size, vars: {} } as SlabFacts;
-    let read = 0;
-    for (const c of header.columns) {
-      // On shared memory, as the columns a build makes (report-cache-columns.ts).
-      const col = sharedColumn(TYPES[c.type] as unknown as { new (buffer: SharedArrayBuffer): Typed; BYTES_PER_ELEMENT: number }, capacity);
-      const bytes = new Uint8Array(col.buffer, 0, size * col.BYTES_PER_ELEMENT);
-      for (let at = 0; at < bytes.length; at += PIECE) {
-        if (opts.stopped?.()) throw new Error("stopped");
-        const piece = bytes.subarray(at, Math.min(bytes.length, at + PIECE));
-        if (!(await readFully(fh, piece))) return { facts: null, reason: "the snapshot is cut short" };
-        crc = zlib.crc32(piece, crc);
-        read += piece.length;
-        opts.progress?.("reading", read, columnBytes);
+    const facts = { size, vars: {}, disk: {} } as unknown as SlabFacts;
+    // Condition columns beyond the memory set aside go straight from the snapshot to their files.
+    const types = Object.fromEntries(header.columns.filter((c) => c.name.startsWith("vars.")).map((c) => [c.name.slice(5), c.type as DiskType]));
+    const diskDir = opts.diskDir ?? null;
+    const toDisk = new Set(chooseOnDisk(size, types, diskDir));
+    let whole = false;
+    try {
+      let read = 0;
+      let buffer: Uint8Array | null = null;
+      for (const c of header.columns) {
+        const key = c.name.startsWith("vars.") ? c.name.slice(5) : null;
+        const disk = key !== null && toDisk.has(key) ? (facts.disk[key] = newColumnFile(diskDir!, c.type as DiskType)) : null;
+        // In memory: on shared memory, as the columns a build makes (report-cache-columns.ts).
+        const col = disk ? null : sharedColumn(TYPES[c.type] as unknown as { new (buffer: SharedArrayBuffer): Typed; BYTES_PER_ELEMENT: number }, capacity);
+        const length = size * (TYPES[c.type] as unknown as { BYTES_PER_ELEMENT: number }).BYTES_PER_ELEMENT;
+        const bytes = col ? new Uint8Array(col.buffer, 0, length) : null;
+        for (let at = 0; at < length; at += PIECE) {
+          if (opts.stopped?.()) throw new Error("stopped");
+          const end = Math.min(length, at + PIECE);
+          const piece = bytes ? bytes.subarray(at, end) : (buffer ??= new Uint8Array(PIECE)).subarray(0, end - at);
+          if (!(await readFully(fh, piece))) return { facts: null, reason: "the snapshot is cut short" };
+          crc = zlib.crc32(piece, crc);
+          if (disk) writeAt(disk.fd, piece, at);
+          read += piece.length;
+          opts.progress?.("reading", read, columnBytes);
+        }
+        const padding = new Uint8Array(pad8(length));
+        if (!(await readFully(fh, padding))) return { facts: null, reason: "the snapshot is cut short" };
+        crc = zlib.crc32(padding, crc);
+        if (col) setColumn(facts, c.name, col);
       }
-      const padding = new Uint8Array(pad8(bytes.length));
-      if (!(await readFully(fh, padding))) return { facts: null, reason: "the snapshot is cut short" };
-      crc = zlib.crc32(padding, crc);
-      setColumn(facts, c.name, col);
+      const tail = Buffer.alloc(4);
+      if (!(await readFully(fh, tail))) return { facts: null, reason: "the snapshot is cut short" };
+      if (tail.readUInt32LE(0) !== crc >>> 0) return { facts: null, reason: "the snapshot is damaged (its checksum does not match)" };
+      if ((await fh.read(Buffer.alloc(1), 0, 1, null)).bytesRead !== 0) return { facts: null, reason: "the snapshot is longer than its header says" };
+      rebuildIndex(facts);
+      whole = true;
+      return { facts, bytes: total };
+    } finally {
+      // A snapshot not taken: the files made for it go.
+      if (!whole) closeDisk(facts);
     }
-    const tail = Buffer.alloc(4);
-    if (!(await readFully(fh, tail))) return { facts: null, reason: "the snapshot is cut short" };
-    if (tail.readUInt32LE(0) !== crc >>> 0) return { facts: null, reason: "the snapshot is damaged (its checksum does not match)" };
-    if ((await fh.read(Buffer.alloc(1), 0, 1, null)).bytesRead !== 0) return { facts: null, reason: "the snapshot is longer than its header says" };
-    rebuildIndex(facts);
-    return { facts, bytes: total };
   } finally {
     await fh.close().catch(() => undefined);
   }

@@ -22,13 +22,18 @@
  */
 import type Database from "better-sqlite3";
 import type { Db } from "../db/client";
+import { collectGarbage } from "../lib/collect-garbage";
 import { HttpError, said } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 import {
   allocate,
   buildCapacity,
+  closeDisk,
+  columnTypes,
+  diskBytes,
   ensureCapacity,
   ensureIndex,
+  moveToDisk,
   put,
   SELECT_COLUMNS,
   factsBytes,
@@ -36,9 +41,10 @@ import {
   type FactRow,
   type SlabFacts,
 } from "./report-cache-columns";
+import { chooseOnDisk, columnDirOf, withDiskBatch } from "./report-cache-disk";
 import { readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
-export { exactColumn, exactValue, FACT_VARIABLES, VARIABLE_SCALE, type IdColumn, type SlabFacts, type ValueColumn } from "./report-cache-columns";
+export { exactColumn, exactValue, FACT_VARIABLES, VARIABLE_SCALE, withValues, type IdColumn, type SlabFacts, type ValueColumn } from "./report-cache-columns";
 
 interface Warming {
   phase: "opening" | "checking" | "reading" | "rebuilding";
@@ -167,6 +173,24 @@ export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
   }
 }
 
+/** New facts in place of the state's (the old ones' column files are closed). */
+function setFacts(s: State, f: SlabFacts | null) {
+  if (s.facts !== f) closeDisk(s.facts);
+  s.facts = f;
+}
+
+/** Condition columns beyond the memory set aside for them go to files beside the database (report-cache-disk.ts). */
+function toDiskAsBudgeted(sqlite: Database.Database, f: SlabFacts): SlabFacts {
+  const dir = columnDirOf(sqlite.name);
+  const keys = chooseOnDisk(f.size, columnTypes(f), dir);
+  if (keys.length > 0) {
+    moveToDisk(f, dir!, keys);
+    // Their shared memory goes back to the system now, not at some later collection.
+    collectGarbage();
+  }
+  return f;
+}
+
 const maxIdOf = (sqlite: Database.Database) => (sqlite.prepare("select coalesce(max(slab_id), 0) from slab_conditions").pluck().get() as number) ?? 0;
 
 function build(sqlite: Database.Database): SlabFacts {
@@ -176,7 +200,7 @@ function build(sqlite: Database.Database): SlabFacts {
   for (const r of sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions order by slab_id`).raw().iterate() as IterableIterator<FactRow>) {
     put(f, f.size++, r);
   }
-  return f;
+  return toDiskAsBudgeted(sqlite, f);
 }
 
 const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
@@ -207,7 +231,7 @@ async function buildInSlices(sqlite: Database.Database, w: Warming, sliceMs: num
       if (got) last = rows[got - 1]![0]!;
     } while (got === PAGE && performance.now() - t < sliceMs);
     w.done = last;
-    if (got < PAGE) return f;
+    if (got < PAGE) return toDiskAsBudgeted(sqlite, f);
     await nextTurn();
     if (stopped()) throw new Error("stopped");
   }
@@ -217,18 +241,26 @@ function patch(sqlite: Database.Database, s: State, f: SlabFacts) {
   const ids = [...s.dirty].sort((a, b) => a - b);
   s.dirty.clear();
   const stmt = sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${Array(500).fill("?").join(",")})`).raw();
-  for (let k = 0; k < ids.length; k += 500) {
-    const chunk = ids.slice(k, k + 500);
-    const rows = (
-      chunk.length === 500 ? stmt : sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${chunk.map(() => "?").join(",")})`).raw()
-    ).all(...chunk) as FactRow[];
-    ensureCapacity(f, f.size + rows.length);
-    ensureIndex(f, chunk[chunk.length - 1]!);
-    for (const r of rows) {
-      const at = f.indexOf[r[0]!]!;
-      put(f, at >= 0 ? at : f.size++, r);
-    }
-  }
+  // The columns in files are written at the end, in runs of adjacent rows (report-cache-disk.ts).
+  withDiskBatch(
+    () => f.size,
+    () => {
+      for (let k = 0; k < ids.length; k += 500) {
+        const chunk = ids.slice(k, k + 500);
+        const rows = (
+          chunk.length === 500
+            ? stmt
+            : sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id in (${chunk.map(() => "?").join(",")})`).raw()
+        ).all(...chunk) as FactRow[];
+        ensureCapacity(f, f.size + rows.length);
+        ensureIndex(f, chunk[chunk.length - 1]!);
+        for (const r of rows) {
+          const at = f.indexOf[r[0]!]!;
+          put(f, at >= 0 ? at : f.size++, r);
+        }
+      }
+    },
+  );
   s.version++;
 }
 
@@ -260,11 +292,12 @@ export function slabFacts(db: Db): SlabFacts {
       startWarming(sqlite, s, false);
       throw warmingUp(s.warming!);
     }
-    s.facts = build(sqlite);
+    const f = build(sqlite);
+    setFacts(s, f);
     s.dirtyAll = false;
     s.dirty.clear();
     s.version++;
-    return s.facts;
+    return f;
   }
   if (s.dirty.size > 0) patch(sqlite, s, s.facts);
   return s.facts;
@@ -305,6 +338,7 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
       await removeStaleTemps(bg.snapshotFile);
       const r = await readSnapshot(sqlite, bg.snapshotFile, {
         capacityFor: buildCapacity,
+        diskDir: columnDirOf(sqlite.name),
         stopped,
         progress: (phase, done, total) => {
           if (w.phase !== phase) nextPhase(phase);
@@ -322,9 +356,12 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
       w.done = 0;
       facts = await buildInSlices(sqlite, w, bg.sliceMs, stopped);
     }
-    if (bg.closed) return;
+    if (bg.closed) {
+      closeDisk(facts);
+      return;
+    }
     phasesMs[w.phase] = Math.round(performance.now() - w.phaseStartedAt);
-    s.facts = facts;
+    setFacts(s, facts);
     s.version++;
     if (from === "the snapshot") bg.savedVersion = s.version;
     bg.loaded = { from: from === "the snapshot" ? "snapshot" : "database", snapshotIgnored: why };
@@ -340,6 +377,7 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
         mb: Math.round(factsBytes(facts) / 1048576),
         float32Variables: kinds.float32.length,
         float64Variables: kinds.float64.length,
+        ...(kinds.onDisk.length > 0 ? { variablesOnDisk: kinds.onDisk.length, diskMb: Math.round(diskBytes(facts) / 1048576) } : {}),
       },
       "report cache ready",
     );
@@ -348,7 +386,7 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
   })()
     .catch((err) => {
       if (bg.closed) return;
-      s.facts = null;
+      setFacts(s, null);
       s.dirtyAll = true;
       bg.logger?.error({ err }, "report cache could not be loaded; the next report tries again");
     })
@@ -396,7 +434,7 @@ export function startReportCache(db: Db, opts: ReportCacheOptions): ReportCacheH
   const link = links.get(sqlite);
   if (link) {
     // The thread holds the facts from now on; a copy built here (a test reading them) is dropped.
-    s.facts = null;
+    setFacts(s, null);
     s.dirtyAll = true;
     s.dirty.clear();
     return link.startCache(opts);
@@ -412,7 +450,7 @@ export function startReportCache(db: Db, opts: ReportCacheOptions): ReportCacheH
     loaded: null,
   };
   s.background = bg;
-  s.facts = null;
+  setFacts(s, null);
   startWarming(sqlite, s, true);
 
   const save = async (fingerprintVersion?: number): Promise<"written" | "unchanged" | "not ready"> => {

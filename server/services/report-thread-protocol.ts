@@ -10,6 +10,8 @@ export interface ReportThreadData {
   nice: number;
   /** How screenings are shared out over helper threads (reports/screening-threads.ts); unset: its defaults. */
   screening?: { threads?: number; sharedFrom?: number };
+  /** Memory for the condition columns, MB (report-cache-disk.ts; unset: its default). */
+  columnsMb?: number;
 }
 
 export type ToReportThread =

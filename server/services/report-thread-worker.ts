@@ -14,6 +14,7 @@ import { openDatabase } from "../db/client";
 import { HttpError } from "../lib/http-error";
 import { lowerThisThreadPriority } from "../lib/thread-priority";
 import { speakingIn } from "../lib/words";
+import { configureColumnMemory } from "./report-cache-disk";
 import { slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
 import { adjustedModel } from "./reports/adjusted";
 import { beforeAfter } from "./reports/before-after";
@@ -55,6 +56,8 @@ const logger = pino({ level: data.logLevel, base: { app: "strandsight" } }, { wr
 lowerThisThreadPriority(data.nice);
 // A screening's helper threads give way likewise.
 configureScreeningThreads({ nice: data.nice, threads: data.screening?.threads ?? null, sharedFrom: data.screening?.sharedFrom });
+// Condition columns beyond this memory are kept in files beside the database.
+if (data.columnsMb !== undefined) configureColumnMemory(data.columnsMb);
 
 // 8 MB of page cache, not 64 (db/client.ts): the reports read the slab data from the report cache's
 // columns; SQLite gives them names, defects and changed slabs. The trade, measured at five million

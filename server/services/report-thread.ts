@@ -42,6 +42,8 @@ export interface ReportThreadOptions {
   nice?: number;
   /** Helper threads of a large screening, and from how many slabs (reports/screening-threads.ts; unset: its defaults). */
   screening?: { threads?: number; sharedFrom?: number };
+  /** Memory for the report cache's condition columns, MB (report-cache-disk.ts; unset: its default). */
+  columnsMb?: number;
 }
 
 type Pending = { resolve: (r: { value: unknown; status: ReportCacheStatus | null }) => void; reject: (e: unknown) => void };
@@ -76,7 +78,13 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
   let deferred: (number[] | null)[] = [];
 
   function spawn(): Worker {
-    const data: ReportThreadData = { databaseFile: sqlite.name, logLevel: opts.logger?.level ?? "silent", nice: opts.nice ?? 10, screening: opts.screening };
+    const data: ReportThreadData = {
+      databaseFile: sqlite.name,
+      logLevel: opts.logger?.level ?? "silent",
+      nice: opts.nice ?? 10,
+      screening: opts.screening,
+      columnsMb: opts.columnsMb,
+    };
     const w = new Worker(threadEntry("report-thread.js", "./report-thread-entry.mjs", import.meta.url), {
       workerData: data,
       resourceLimits: { maxOldGenerationSizeMb: heapMb },

@@ -83,6 +83,8 @@ async function startOnce(dir: string, label: string): Promise<Start> {
       LOG_LEVEL: "info",
       // Screening's helper threads as the bench is told (unset: the server's default).
       ...(process.env.SCREENING_THREADS ? { SCREENING_THREADS: process.env.SCREENING_THREADS } : {}),
+      // Memory for the condition columns as the bench is told (unset: the server's default).
+      ...(process.env.REPORT_COLUMNS_MB ? { REPORT_COLUMNS_MB: process.env.REPORT_COLUMNS_MB } : {}),
     },
     stdio: ["ignore", "pipe", "pipe"],
   });
@@ -220,7 +222,7 @@ async function main() {
   try {
     const slabs = SLABS.toLocaleString("en");
     console.log(
-      `Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); screening helpers: ${process.env.SCREENING_THREADS ?? "the default"}; load ${os
+      `Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); screening helpers: ${process.env.SCREENING_THREADS ?? "the default"}; condition columns in memory: ${process.env.REPORT_COLUMNS_MB ?? "the default"} MB; load ${os
         .loadavg()
         .map((x) => x.toFixed(1))
         .join(" ")}`,

@@ -11,6 +11,7 @@
  */
 import { execFileSync } from "node:child_process";
 import fs from "node:fs";
+import path from "node:path";
 import { afterEach, describe, expect, it } from "vitest";
 import { openDatabase } from "../../server/db/client";
 import { createResolver } from "../../server/services/conditions.service";
@@ -42,7 +43,7 @@ const readyLines = (out: string) =>
   out
     .split("\n")
     .filter((l) => l.includes('"report cache ready"'))
-    .map((l) => JSON.parse(l) as { from: string; snapshotIgnored?: string; slabs: number });
+    .map((l) => JSON.parse(l) as { from: string; snapshotIgnored?: string; slabs: number; variablesOnDisk?: number; diskMb?: number });
 
 describe("the server starts before the report data are loaded", () => {
   it("when the report data are still loading, then sign-in and the yard answer, reports answer 503 with Retry-After in words; after SIGTERM the snapshot is written and the next start reads it", async () => {
@@ -126,5 +127,31 @@ describe("the server starts before the report data are loaded", () => {
     expect(Math.max(after.distribution.affected.max ?? 0, after.distribution.sound.max ?? 0)).toBe(3.9);
     second.kill("SIGKILL");
     await second.waitExit();
+  }, 240_000);
+
+  it("when REPORT_COLUMNS_MB leaves no room for the condition columns, then they go to files, rebuilt or from the snapshot, and a report answers as with every column in memory", async () => {
+    const first = await startServer({ env: { LOG_LEVEL: "info" } });
+    servers.push(first);
+    const inMemory = await reportWhenReady(first, await first.signIn("quality@demo.test"));
+    expect(readyLines(first.output())[0]!.variablesOnDisk).toBeUndefined();
+    first.kill("SIGKILL");
+    await first.waitExit();
+
+    // Rebuilt from the database (the snapshot left behind by a kill is none): every column to a file.
+    const rebuilt = await startServer({ files: first.files, env: { LOG_LEVEL: "info", REPORT_COLUMNS_MB: "0" } });
+    servers.push(rebuilt);
+    expect(await reportWhenReady(rebuilt, await rebuilt.signIn("quality@demo.test"))).toEqual(inMemory);
+    expect(readyLines(rebuilt.output())).toMatchObject([{ from: "the database", variablesOnDisk: 22 }]);
+    rebuilt.kill("SIGTERM");
+    expect(await rebuilt.waitExit()).toEqual({ code: 0, signal: null });
+    expect(rebuilt.output()).toContain('"report cache snapshot written"');
+
+    // From the snapshot written from the files: straight back into files.
+    const again = await startServer({ files: first.files, env: { LOG_LEVEL: "info", REPORT_COLUMNS_MB: "0" } });
+    servers.push(again);
+    expect(await reportWhenReady(again, await again.signIn("quality@demo.test"))).toEqual(inMemory);
+    expect(readyLines(again.output())).toMatchObject([{ from: "the snapshot", variablesOnDisk: 22 }]);
+    // Nothing of them in the database's directory: the files were removed when made.
+    expect(fs.readdirSync(path.dirname(first.files.databaseFile)).filter((n) => n.includes(".strandsight-column."))).toEqual([]);
   }, 240_000);
 });

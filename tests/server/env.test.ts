@@ -44,6 +44,13 @@ describe("environment", () => {
     expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(/PORT/);
   });
 
+  it("when REPORT_COLUMNS_MB is not a whole number of megabytes, then loading stops and names it; unset, 256", () => {
+    expect(() => loadEnv({ REPORT_COLUMNS_MB: "lots", DATABASE_FILE: tmp() })).toThrow(/REPORT_COLUMNS_MB must be a whole number of megabytes/);
+    expect(() => loadEnv({ REPORT_COLUMNS_MB: "-1", DATABASE_FILE: tmp() })).toThrow(/REPORT_COLUMNS_MB/);
+    expect(loadEnv({ DATABASE_FILE: tmp() }).REPORT_COLUMNS_MB).toBe(256);
+    expect(loadEnv({ REPORT_COLUMNS_MB: "0", DATABASE_FILE: tmp() }).REPORT_COLUMNS_MB).toBe(0);
+  });
+
   it("when SEED_DEMO is neither true nor false, then loading stops", () => {
     expect(() => loadEnv({ SEED_DEMO: "maybe", DATABASE_FILE: tmp() })).toThrow(/SEED_DEMO/);
   });

@@ -21,6 +21,7 @@ import {
   type TermEstimate,
 } from "../../stats/logistic-multi";
 import { scratch } from "../../stats/scratch";
+import { withValues } from "../report-cache";
 import { inWords, named, num, say } from "../../lib/words";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
@@ -139,14 +140,15 @@ function namesOf(db: Db, sql: string): Map<number, string> {
 /** The slabs' values of a numeric variable, grouped to one decimal more than shown (NaN where unknown). */
 export function groupedValues(s: Scanned, key: string): Float64Array {
   const spec = VARIABLES.find((v) => v.key === key)!;
-  const raw = s.facts.vars[key]!;
   const scale = 10 ** (spec.digits + 1);
   const out = new Float64Array(s.facts.size);
-  for (let u = 0; u < s.rows.length; u++) {
-    const i = s.rows[u]!;
-    const v = raw[i]!;
-    out[i] = v === v ? Math.round(v * scale) / scale : NaN;
-  }
+  withValues(s.facts, key, (raw) => {
+    for (let u = 0; u < s.rows.length; u++) {
+      const i = s.rows[u]!;
+      const v = raw[i]!;
+      out[i] = v === v ? Math.round(v * scale) / scale : NaN;
+    }
+  });
   return out;
 }
 

@@ -6,6 +6,7 @@ import { badRequest, said } from "../../lib/http-error";
 import { equalWidthEdges, quantileEdges } from "../../stats/binning";
 import { buildScope, proportion, scan, variableGroups, variableSpec } from "./scope";
 import { named, say } from "../../lib/words";
+import { withValues } from "../report-cache";
 
 export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchema>): ProcessWindow {
   if (q.x === q.y) throw badRequest(said("reports.processWindowSameVariable"), { field: "y" });
@@ -36,22 +37,24 @@ export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchem
   const ny = Math.max(1, ey.length - 1);
   const n = new Int32Array(nx * ny);
   const x = new Int32Array(nx * ny);
-  const cx = sc.facts.vars[sx.key]!;
-  const cy = sc.facts.vars[sy.key]!;
   const scaleX = 10 ** (sx.digits + 1);
   const scaleY = 10 ** (sy.digits + 1);
   let slabs = 0;
   let affected = 0;
-  for (const i of sc.rows) {
-    const vx = cx[i]!;
-    const vy = cy[i]!;
-    if (vx !== vx || vy !== vy) continue;
-    const c = bin(Math.round(vx * scaleX) / scaleX, ex) * ny + bin(Math.round(vy * scaleY) / scaleY, ey);
-    n[c]!++;
-    x[c]! += sc.affected[i]!;
-    slabs++;
-    affected += sc.affected[i]!;
-  }
+  withValues(sc.facts, sx.key, (cx) =>
+    withValues(sc.facts, sy.key, (cy) => {
+      for (const i of sc.rows) {
+        const vx = cx[i]!;
+        const vy = cy[i]!;
+        if (vx !== vx || vy !== vy) continue;
+        const c = bin(Math.round(vx * scaleX) / scaleX, ex) * ny + bin(Math.round(vy * scaleY) / scaleY, ey);
+        n[c]!++;
+        x[c]! += sc.affected[i]!;
+        slabs++;
+        affected += sc.affected[i]!;
+      }
+    }),
+  );
   const cells: ProcessWindow["cells"] = [];
   for (let xi = 0; xi < nx; xi++) {
     for (let yi = 0; yi < ny; yi++) {

@@ -13,7 +13,7 @@ import { parseDateBound } from "../../lib/dates";
 import { badRequest, said } from "../../lib/http-error";
 import { wilson } from "../../stats/proportions";
 import { normalizeGroups, type Group } from "../../stats/ranks";
-import { slabFacts, type SlabFacts } from "../report-cache";
+import { slabFacts, withValues, type SlabFacts } from "../report-cache";
 import { riskBandSlabsSql } from "../risk/bands";
 
 /** Under this many affected slabs a report warns that its tests have little power (the screens read it too). */
@@ -190,22 +190,23 @@ export function scan(db: Db, scope: Scope, extra?: { from?: number; to?: number 
 
 /** (value, slabs, affected) groups of one variable, values rounded to the grouping resolution. */
 export function variableGroups(s: Scanned, key: string): { groups: Group[]; missing: number } {
-  const col = s.facts.vars[variableSpec(key).key]!;
   const scale = 10 ** (variableSpec(key).digits + 1);
   const map = new Map<number, Group>();
   let missing = 0;
-  for (const i of s.rows) {
-    const raw = col[i]!;
-    if (Number.isNaN(raw)) {
-      missing++;
-      continue;
+  withValues(s.facts, variableSpec(key).key, (col) => {
+    for (const i of s.rows) {
+      const raw = col[i]!;
+      if (Number.isNaN(raw)) {
+        missing++;
+        continue;
+      }
+      const v = Math.round(raw * scale) / scale;
+      let g = map.get(v);
+      if (!g) map.set(v, (g = { value: v, n: 0, affected: 0 }));
+      g.n++;
+      g.affected += s.affected[i]!;
     }
-    const v = Math.round(raw * scale) / scale;
-    let g = map.get(v);
-    if (!g) map.set(v, (g = { value: v, n: 0, affected: 0 }));
-    g.n++;
-    g.affected += s.affected[i]!;
-  }
+  });
   return { groups: normalizeGroups([...map.values()]), missing };
 }
 

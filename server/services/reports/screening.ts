@@ -21,7 +21,7 @@ import { RunningSpread } from "../../stats/spread";
 import { completeRows, fitTerms, gridFromKeys, groupingMethod, modelTerms, numericTerm, seWords, type ModelTerm } from "./adjusted";
 import { inWords, named, say } from "../../lib/words";
 import { scratch } from "../../stats/scratch";
-import { VARIABLE_SCALE } from "../report-cache";
+import { VARIABLE_SCALE, withValues } from "../report-cache";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 import { shareOut } from "./screening-threads";
 
@@ -98,9 +98,7 @@ function interquartileRange(
  */
 function numericPass(sc: Scanned, key: string) {
   const { facts: f, rows, affected: aff } = sc;
-  const col = f.vars[key]!;
   const scale = VARIABLE_SCALE[key]!;
-  const onGrid = col instanceof Float32Array;
   const values = scratch("screening.values", Float64Array, f.size);
   const keys = scratch("screening.keys", Int32Array, f.size);
   const withValue = scratch("screening.rows", Int32Array, rows.length);
@@ -109,25 +107,28 @@ function numericPass(sc: Scanned, key: string) {
   let lo = Infinity;
   let hi = -Infinity;
   let n = 0;
-  for (let u = 0; u < rows.length; u++) {
-    const i = rows[u]!;
-    const r = col[i]!;
-    if (r !== r) {
-      values[i] = NaN;
-      continue;
+  withValues(f, key, (col) => {
+    const onGrid = col instanceof Float32Array;
+    for (let u = 0; u < rows.length; u++) {
+      const i = rows[u]!;
+      const r = col[i]!;
+      if (r !== r) {
+        values[i] = NaN;
+        continue;
+      }
+      const g = Math.round(r * scale) / scale;
+      // Means and variances per outcome computed stably (Welford).
+      if (aff[i]) hitAcc.add(onGrid ? g : r);
+      else soundAcc.add(onGrid ? g : r);
+      values[i] = g;
+      if (!Number.isFinite(g)) continue;
+      const k = Math.round(g * scale);
+      keys[i] = k;
+      if (k < lo) lo = k;
+      if (k > hi) hi = k;
+      withValue[n++] = i;
     }
-    const g = Math.round(r * scale) / scale;
-    // Means and variances per outcome computed stably (Welford).
-    if (aff[i]) hitAcc.add(onGrid ? g : r);
-    else soundAcc.add(onGrid ? g : r);
-    values[i] = g;
-    if (!Number.isFinite(g)) continue;
-    const k = Math.round(g * scale);
-    keys[i] = k;
-    if (k < lo) lo = k;
-    if (k > hi) hi = k;
-    withValue[n++] = i;
-  }
+  });
   return {
     hitAcc,
     soundAcc,

@@ -1,0 +1,276 @@
+/**
+ * Condition columns of the report cache kept on disk when they do not fit the memory set aside for
+ * them (REPORT_COLUMNS_MB, 256 MB by default). At five million slabs the 22 condition columns are
+ * ≈ 680 MB; a plant of a million slabs or two keeps them all in memory and nothing here runs.
+ *
+ * - Which columns stay in memory: those on their grid (Float32, half the bytes) first, then the
+ *   others, each in the order of shared/variables.ts, while they fit. The rest are written to a file
+ *   each, beside the database, and read back whole when a report needs them (a 40 MB column comes
+ *   back from the operating system's file cache in ≈ 6 ms on the 2-core reference machine; a screening reads
+ *   each once). The bytes are the column's own: a report reads the same numbers either way.
+ * - The files are opened and at once removed from the directory: only this process reaches them
+ *   (through their descriptors, which a screening's helper threads share), and the system frees
+ *   their space when they are closed or the process ends, crash or not.
+ * - Writes (patch, a new slab) go to the file at the slab's row; a column on its grid that gets a
+ *   value off it is rewritten as Float64, as in memory (report-cache-columns.ts).
+ * - A report borrows a column (withValues) and gives its buffer back when done; a thread keeps two
+ *   such buffers for the next report, tagged with the column and its version, so the same column
+ *   asked again is not read again.
+ *
+ * Written here because the store is our own typed columns; no library reads a column of them back.
+ */
+import fs from "node:fs";
+import path from "node:path";
+import { VARIABLES } from "@shared/variables";
+
+export type DiskType = "Float32Array" | "Float64Array";
+
+/** A condition column held in a file (its descriptor is valid in every thread of the process). */
+export interface DiskColumn {
+  /** Unique to this file in this process: a buffer's contents are tagged with it. */
+  token: string;
+  fd: number;
+  /** The directory it was made in (a column rewritten as Float64 gets a new file there). */
+  dir: string;
+  type: DiskType;
+  /** Counts the writes to the file (a buffer read before a write is stale). */
+  version: number;
+  /** Closed (its facts were replaced, or it was rewritten as Float64): its descriptor is no longer its own. */
+  closed?: boolean;
+}
+
+/** Memory for the condition columns, MB (the rest go to disk); set from the server's settings. */
+export const DEFAULT_COLUMNS_MB = 256;
+let budgetMb = DEFAULT_COLUMNS_MB;
+
+/** Sets the memory this thread's report cache gives the condition columns (REPORT_COLUMNS_MB; tests). */
+export function configureColumnMemory(mb: number) {
+  budgetMb = mb;
+}
+export const columnMemoryMb = () => budgetMb;
+
+const bytesOf = (type: DiskType) => (type === "Float32Array" ? 4 : 8);
+
+/**
+ * The variables whose columns go to disk: with `rows` rows of the given types, those beyond the
+ * budget (on-grid ones kept first). None for a database in memory (`dir` null).
+ */
+export function chooseOnDisk(rows: number, types: Record<string, DiskType>, dir: string | null, mb = budgetMb): string[] {
+  if (!dir) return [];
+  const budget = mb * 1048576;
+  const order = [...VARIABLES.filter((v) => types[v.key] === "Float32Array"), ...VARIABLES.filter((v) => types[v.key] !== "Float32Array")];
+  let used = 0;
+  const out: string[] = [];
+  for (const v of order) {
+    const bytes = rows * bytesOf(types[v.key]!);
+    if (used + bytes <= budget) used += bytes;
+    else out.push(v.key);
+  }
+  return out;
+}
+
+/** The directory of a database file for its column files; null for a database in memory or a temporary one. */
+export const columnDirOf = (databaseFile: string) => (databaseFile && databaseFile !== ":memory:" ? path.dirname(path.resolve(databaseFile)) : null);
+
+let files = 0;
+
+/** A new, empty column file in `dir`, already removed from the directory (the descriptor keeps it). */
+export function newColumnFile(dir: string, type: DiskType): DiskColumn {
+  const token = `${process.pid}.${++files}.${Math.random().toString(36).slice(2, 10)}`;
+  const file = path.join(dir, `.strandsight-column.${token}`);
+  const fd = fs.openSync(file, "wx+", 0o600);
+  try {
+    fs.unlinkSync(file);
+  } catch {
+    // A system that cannot remove an open file (not Linux, where Strandsight runs: deploy/) keeps it
+    // beside the database until it is removed by hand.
+  }
+  return { token, fd, dir, type, version: 0 };
+}
+
+export function closeColumnFile(d: DiskColumn) {
+  if (d.closed) return;
+  d.closed = true;
+  try {
+    fs.closeSync(d.fd);
+  } catch {
+    // Already closed.
+  }
+}
+
+/** Writes all of `bytes` at `position`. */
+export function writeAt(fd: number, bytes: Uint8Array, position: number) {
+  let done = 0;
+  while (done < bytes.length) done += fs.writeSync(fd, bytes, done, bytes.length - done, position + done);
+}
+
+/** Reads all of `into` from `position`; false when the file ends first. */
+export function readAt(fd: number, into: Uint8Array, position: number): boolean {
+  let done = 0;
+  while (done < into.length) {
+    const n = fs.readSync(fd, into, done, into.length - done, position + done);
+    if (n === 0) return false;
+    done += n;
+  }
+  return true;
+}
+
+/** Writes a whole column's first `rows` values to a new file. */
+export function columnToDisk(dir: string, col: Float32Array | Float64Array, rows: number): DiskColumn {
+  const d = newColumnFile(dir, col instanceof Float32Array ? "Float32Array" : "Float64Array");
+  try {
+    writeAt(d.fd, new Uint8Array(col.buffer, col.byteOffset, rows * col.BYTES_PER_ELEMENT), 0);
+  } catch (err) {
+    closeColumnFile(d);
+    throw err;
+  }
+  return d;
+}
+
+const one64 = new Float64Array(1);
+const one32 = new Float32Array(1);
+
+/** Writes held back while a batch runs (withDiskBatch): per file, the rows and values in order. */
+let batch: Map<DiskColumn, { at: number[]; v: number[] }> | null = null;
+
+/** Stores value v at row i of the file (as a typed array of its type would hold it); in a batch, at its end. */
+export function writeValue(d: DiskColumn, i: number, v: number) {
+  if (batch) {
+    let p = batch.get(d);
+    if (!p) batch.set(d, (p = { at: [], v: [] }));
+    p.at.push(i);
+    p.v.push(v);
+    return;
+  }
+  const one = d.type === "Float32Array" ? one32 : one64;
+  one[0] = v;
+  writeAt(d.fd, new Uint8Array(one.buffer), i * one.BYTES_PER_ELEMENT);
+  d.version++;
+}
+
+/** Past this many separate runs of rows, a file is read, changed and written whole (measured: one write costs ≈ 6 µs, a 40 MB file ≈ 20 ms). */
+const WHOLE_FROM_RUNS = 2_000;
+
+/** The writes held back for one file, applied: runs of adjacent rows in one write each, or the file whole. */
+function flushOne(d: DiskColumn, held: { at: number[]; v: number[] }, rows: number) {
+  const n = held.at.length;
+  if (n === 0) return;
+  // Taken out first: what follows reads the file, and nothing is held for it any more.
+  const p = { at: held.at.splice(0), v: held.v.splice(0) };
+  // By row; a row written twice keeps its later value (the later write comes later in the order).
+  const order = Array.from({ length: n }, (_, k) => k).sort((a, b) => p.at[a]! - p.at[b]! || a - b);
+  let runs = 1;
+  for (let k = 1; k < n; k++) if (p.at[order[k]!]! > p.at[order[k - 1]!]! + 1) runs++;
+  const Type = d.type === "Float32Array" ? Float32Array : Float64Array;
+  if (runs > WHOLE_FROM_RUNS) {
+    const used = Math.max(rows, p.at[order[n - 1]!]! + 1);
+    const col = d.type === "Float32Array" ? new Float32Array(used) : new Float64Array(used);
+    readUpTo(d, col, used);
+    for (const k of order) col[p.at[k]!] = p.v[k]!;
+    writeAt(d.fd, new Uint8Array(col.buffer, 0, used * col.BYTES_PER_ELEMENT), 0);
+  } else {
+    for (let k = 0; k < n;) {
+      const from = p.at[order[k]!]!;
+      let end = k + 1;
+      while (end < n && p.at[order[end]!]! <= p.at[order[end - 1]!]! + 1) end++;
+      const run = new Type(p.at[order[end - 1]!]! - from + 1);
+      for (let j = k; j < end; j++) run[p.at[order[j]!]! - from] = p.v[order[j]!]!;
+      writeAt(d.fd, new Uint8Array(run.buffer), from * run.BYTES_PER_ELEMENT);
+      k = end;
+    }
+  }
+  d.version++;
+}
+
+/** Applies the writes held back for one file now (before it is read whole: a column rewritten as Float64). */
+export function flushDiskWrites(d: DiskColumn, rows: number) {
+  const p = batch?.get(d);
+  if (p) flushOne(d, p, rows);
+}
+
+/**
+ * Runs `fn` (a patch of many slabs) with the writes to the files held back and applied at its end,
+ * each file's in runs of adjacent rows (new slabs: one write per file), or whole: one write per value
+ * cost ≈ 6 s for 49,000 slabs at 22 files on the 2-core reference machine. `rows`: the facts' rows at the end.
+ */
+export function withDiskBatch<T>(rows: () => number, fn: () => T): T {
+  if (batch) return fn();
+  batch = new Map();
+  try {
+    return fn();
+  } finally {
+    const held = batch;
+    batch = null;
+    for (const [d, p] of held) if (!d.closed) flushOne(d, p, rows());
+  }
+}
+
+/** The file's first `rows` values read into a new array of its type (rows past its end read as 0). */
+export function readWhole(d: DiskColumn, rows: number): Float32Array | Float64Array {
+  flushDiskWrites(d, rows);
+  const out = d.type === "Float32Array" ? new Float32Array(rows) : new Float64Array(rows);
+  readUpTo(d, out, rows);
+  return out;
+}
+
+function readUpTo(d: DiskColumn, out: Float32Array | Float64Array, rows: number) {
+  const bytes = new Uint8Array(out.buffer, out.byteOffset, rows * out.BYTES_PER_ELEMENT);
+  let done = 0;
+  while (done < bytes.length) {
+    const n = fs.readSync(d.fd, bytes, done, bytes.length - done, done);
+    if (n === 0) break;
+    done += n;
+  }
+  // Past the file's end: rows never written, 0 as in a new column in memory.
+  bytes.fill(0, done);
+}
+
+/** This thread's buffers given back, with what they hold (`token:version:rows`, or "" when unknown). */
+const free: { buf: ArrayBuffer; holds: string }[] = [];
+const KEEP_FREE = 2;
+const RELEASE_AFTER_MS = 30_000;
+let release: NodeJS.Timeout | null = null;
+
+/**
+ * The column's first `rows` values, read into a buffer lent to `use` and taken back after it (the
+ * view must not be kept). A buffer that still holds this version of the column is not read again.
+ */
+export function withDiskValues<T>(d: DiskColumn, rows: number, use: (values: Float32Array | Float64Array) => T): T {
+  flushDiskWrites(d, rows);
+  const bytes = rows * bytesOf(d.type);
+  const tag = `${d.token}:${d.version}:${rows}`;
+  let at = free.findIndex((b) => b.holds === tag && b.buf.byteLength >= bytes);
+  let fresh = at < 0;
+  if (at < 0) at = free.findIndex((b) => b.buf.byteLength >= bytes);
+  let entry: { buf: ArrayBuffer; holds: string };
+  if (at >= 0) entry = free.splice(at, 1)[0]!;
+  else {
+    // A little more than asked, so a few more slabs do not need a new buffer.
+    entry = { buf: new ArrayBuffer(Math.ceil((bytes * 1.0625) / 8) * 8), holds: "" };
+    fresh = true;
+  }
+  const view = d.type === "Float32Array" ? new Float32Array(entry.buf, 0, rows) : new Float64Array(entry.buf, 0, rows);
+  if (fresh) {
+    entry.holds = "";
+    readUpTo(d, view, rows);
+    entry.holds = tag;
+  }
+  try {
+    return use(view);
+  } finally {
+    free.push(entry);
+    if (free.length > KEEP_FREE) free.shift();
+    if (release) release.refresh();
+    else {
+      release = setTimeout(forgetDiskBuffers, RELEASE_AFTER_MS);
+      release.unref();
+    }
+  }
+}
+
+/** Lets go of the kept buffers (30 s after the last use; tests). */
+export function forgetDiskBuffers() {
+  free.length = 0;
+  if (release) clearTimeout(release);
+  release = null;
+}
