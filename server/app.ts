@@ -154,6 +154,7 @@ export function createApp(opts: AppOptions) {
           logger,
           screening: { threads: env.SCREENING_THREADS, sharedFrom: env.SCREENING_SHARED_FROM },
           columnsMb: env.REPORT_COLUMNS_MB,
+          columnsDir: env.REPORT_COLUMNS_DIR,
         }));
   const deps: Deps = { db, auth, env, logger, events, mailer, notify, imports };
   // Slabs whose conditions arrive or change are scored by the active risk models at once.

@@ -95,6 +95,8 @@ const envSchema = z.object({
    * beside the database and read when a report needs them (services/report-cache-disk.ts).
    */
   REPORT_COLUMNS_MB: z.coerce.number({ error: "REPORT_COLUMNS_MB must be a whole number of megabytes." }).int().min(0).max(1_000_000).default(256),
+  /** Where those files go (a folder on a local disk); unset: beside the database. */
+  REPORT_COLUMNS_DIR: z.string().trim().min(1).optional(),
   /** How often the mail worker looks for due messages. */
   MAIL_POLL_MS: z.coerce.number().int().min(200).max(600_000).default(5000),
 });

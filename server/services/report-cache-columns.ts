@@ -16,13 +16,13 @@
  *   them where they are, without a copy (reports/screening-threads.ts). The index by slab id is
  *   not shared: only this thread looks slabs up by id.
  * - Condition columns beyond the memory set aside for them are kept in files (`disk`,
- *   report-cache-disk.ts) with the same bytes; a report reads a variable through `withValues`,
- *   whichever way it is held.
+ *   report-cache-disk.ts) with the same bytes; a report reads a variable through `eachPiece` or
+ *   `valuesOf`, whichever way it is held.
  *
  * Written here because no well-kept library offers exact narrow typed columns over better-sqlite3.
  */
 import { VARIABLES } from "@shared/variables";
-import { closeColumnFile, columnToDisk, readWhole, withDiskValues, writeValue, type DiskColumn } from "./report-cache-disk";
+import { closeColumnFile, columnToDisk, eachDiskPiece, readWhole, writeValue, type DiskColumn } from "./report-cache-disk";
 
 export type IdColumn = Uint8Array | Uint16Array | Int32Array;
 export type ValueColumn = Float32Array | Float64Array;
@@ -41,7 +41,7 @@ export interface SlabFacts {
   sequencePosition: IdColumn;
   weightT: ValueColumn;
   /**
-   * The condition columns held in memory (the others are in `disk`): read them through withValues.
+   * The condition columns held in memory (the others are in `disk`): read them through eachPiece or valuesOf.
    * NaN where the slab has no value. A Float32 column holds values on the variable's grid: group it
    * as the reports do, or read a slab's own value with `exactValue`.
    */
@@ -105,21 +105,30 @@ export function exactValue(col: ValueColumn, scale: number, i: number): number {
 }
 
 /**
- * A variable's column lent to `use` (which must not keep it): the column in memory, or its file's
- * values in a borrowed buffer (report-cache-disk.ts). Indexes 0 … f.size − 1 are the slabs'.
+ * A variable's values for a report that walks the slabs in order: `use(values, from, to)` with
+ * values[i − from] the value of slab row i for from ≤ i < to. A column in memory comes in one piece
+ * (from 0); one in a file in pieces of 2 MB, in order (report-cache-disk.ts). `use` must not keep them.
  */
-export function withValues<T>(f: SlabFacts, key: string, use: (col: ValueColumn) => T): T {
+export function eachPiece(f: SlabFacts, key: string, use: (values: ValueColumn, from: number, to: number) => void) {
   const d = f.disk[key];
-  if (d) return withDiskValues(d, f.size, use);
+  if (d) return eachDiskPiece(d, f.size, use);
   const col = f.vars[key];
   if (!col) throw new Error(`report cache: no column for ${key}`);
-  return use(col);
+  use(col, 0, f.size);
+}
+
+/** A variable's whole column (the caller may keep it): the column in memory, or a copy read from its file. */
+export function valuesOf(f: SlabFacts, key: string): ValueColumn {
+  const d = f.disk[key];
+  if (d) return readWhole(d, f.size);
+  const col = f.vars[key];
+  if (!col) throw new Error(`report cache: no column for ${key}`);
+  return col;
 }
 
 /** A variable's column as Float64 with the stored values (the column itself when it is Float64 in memory). */
 export function exactColumn(f: SlabFacts, key: string): Float64Array {
-  const d = f.disk[key];
-  const col = d ? readWhole(d, f.size) : f.vars[key]!;
+  const col = valuesOf(f, key);
   if (col instanceof Float64Array) return col;
   const scale = VARIABLE_SCALE[key]!;
   const out = new Float64Array(f.size);

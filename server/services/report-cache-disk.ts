@@ -5,17 +5,19 @@
  *
  * - Which columns stay in memory: those on their grid (Float32, half the bytes) first, then the
  *   others, each in the order of shared/variables.ts, while they fit. The rest are written to a file
- *   each, beside the database, and read back whole when a report needs them (a 40 MB column comes
- *   back from the operating system's file cache in ≈ 6 ms on the 2-core reference machine; a screening reads
- *   each once). The bytes are the column's own: a report reads the same numbers either way.
+ *   each, beside the database (or in REPORT_COLUMNS_DIR), and read back when a report needs them:
+ *   in pieces of 2 MB as a report walks the slabs (eachPiece), or whole for a report that looks
+ *   slabs up out of order (valuesOf). A 40 MB column comes back from the operating system's file
+ *   cache in ≈ 6 ms on the 2-core reference machine; a screening reads each once. The bytes are the
+ *   column's own: a report reads the same numbers either way.
  * - The files are opened and at once removed from the directory: only this process reaches them
  *   (through their descriptors, which a screening's helper threads share), and the system frees
  *   their space when they are closed or the process ends, crash or not.
- * - Writes (patch, a new slab) go to the file at the slab's row; a column on its grid that gets a
- *   value off it is rewritten as Float64, as in memory (report-cache-columns.ts).
- * - A report borrows a column (withValues) and gives its buffer back when done; a thread keeps two
- *   such buffers for the next report, tagged with the column and its version, so the same column
- *   asked again is not read again.
+ * - Writes (patch, a new slab) go to the file at the slab's row, gathered over a patch into runs
+ *   of adjacent rows (withDiskBatch); a column on its grid that gets a value off it is rewritten as
+ *   Float64, as in memory (report-cache-columns.ts).
+ * - A file that cannot be made or written is not a report's failure: the caller keeps that column
+ *   in memory, or reads the facts again (report-cache.ts).
  *
  * Written here because the store is our own typed columns; no library reads a column of them back.
  */
@@ -27,14 +29,12 @@ export type DiskType = "Float32Array" | "Float64Array";
 
 /** A condition column held in a file (its descriptor is valid in every thread of the process). */
 export interface DiskColumn {
-  /** Unique to this file in this process: a buffer's contents are tagged with it. */
+  /** Unique to this file in this process (its name while it had one). */
   token: string;
   fd: number;
   /** The directory it was made in (a column rewritten as Float64 gets a new file there). */
   dir: string;
   type: DiskType;
-  /** Counts the writes to the file (a buffer read before a write is stale). */
-  version: number;
   /** Closed (its facts were replaced, or it was rewritten as Float64): its descriptor is no longer its own. */
   closed?: boolean;
 }
@@ -42,10 +42,13 @@ export interface DiskColumn {
 /** Memory for the condition columns, MB (the rest go to disk); set from the server's settings. */
 export const DEFAULT_COLUMNS_MB = 256;
 let budgetMb = DEFAULT_COLUMNS_MB;
+/** Where the files go (REPORT_COLUMNS_DIR); null: beside the database. */
+let filesDir: string | null = null;
 
-/** Sets the memory this thread's report cache gives the condition columns (REPORT_COLUMNS_MB; tests). */
-export function configureColumnMemory(mb: number) {
+/** Sets the memory this thread's report cache gives the condition columns, and where the rest go (REPORT_COLUMNS_MB, REPORT_COLUMNS_DIR; tests). */
+export function configureColumnMemory(mb: number, dir?: string | null) {
   budgetMb = mb;
+  if (dir !== undefined) filesDir = dir ? path.resolve(dir) : null;
 }
 export const columnMemoryMb = () => budgetMb;
 
@@ -69,8 +72,9 @@ export function chooseOnDisk(rows: number, types: Record<string, DiskType>, dir:
   return out;
 }
 
-/** The directory of a database file for its column files; null for a database in memory or a temporary one. */
-export const columnDirOf = (databaseFile: string) => (databaseFile && databaseFile !== ":memory:" ? path.dirname(path.resolve(databaseFile)) : null);
+/** Where a database's column files go: REPORT_COLUMNS_DIR, else beside it; null for a database in memory or a temporary one. */
+export const columnDirOf = (databaseFile: string) =>
+  databaseFile && databaseFile !== ":memory:" ? (filesDir ?? path.dirname(path.resolve(databaseFile))) : null;
 
 let files = 0;
 
@@ -85,7 +89,7 @@ export function newColumnFile(dir: string, type: DiskType): DiskColumn {
     // A system that cannot remove an open file (not Linux, where Strandsight runs: deploy/) keeps it
     // beside the database until it is removed by hand.
   }
-  return { token, fd, dir, type, version: 0 };
+  return { token, fd, dir, type };
 }
 
 export function closeColumnFile(d: DiskColumn) {
@@ -145,7 +149,6 @@ export function writeValue(d: DiskColumn, i: number, v: number) {
   const one = d.type === "Float32Array" ? one32 : one64;
   one[0] = v;
   writeAt(d.fd, new Uint8Array(one.buffer), i * one.BYTES_PER_ELEMENT);
-  d.version++;
 }
 
 /** Past this many separate runs of rows, a file is read, changed and written whole (measured: one write costs ≈ 6 µs, a 40 MB file ≈ 20 ms). */
@@ -179,7 +182,6 @@ function flushOne(d: DiskColumn, held: { at: number[]; v: number[] }, rows: numb
       k = end;
     }
   }
-  d.version++;
 }
 
 /** Applies the writes held back for one file now (before it is read whole: a column rewritten as Float64). */
@@ -225,52 +227,33 @@ function readUpTo(d: DiskColumn, out: Float32Array | Float64Array, rows: number)
   bytes.fill(0, done);
 }
 
-/** This thread's buffers given back, with what they hold (`token:version:rows`, or "" when unknown). */
-const free: { buf: ArrayBuffer; holds: string }[] = [];
-const KEEP_FREE = 2;
-const RELEASE_AFTER_MS = 30_000;
-let release: NodeJS.Timeout | null = null;
-
-/**
- * The column's first `rows` values, read into a buffer lent to `use` and taken back after it (the
- * view must not be kept). A buffer that still holds this version of the column is not read again.
- */
-export function withDiskValues<T>(d: DiskColumn, rows: number, use: (values: Float32Array | Float64Array) => T): T {
-  flushDiskWrites(d, rows);
-  const bytes = rows * bytesOf(d.type);
-  const tag = `${d.token}:${d.version}:${rows}`;
-  let at = free.findIndex((b) => b.holds === tag && b.buf.byteLength >= bytes);
-  let fresh = at < 0;
-  if (at < 0) at = free.findIndex((b) => b.buf.byteLength >= bytes);
-  let entry: { buf: ArrayBuffer; holds: string };
-  if (at >= 0) entry = free.splice(at, 1)[0]!;
-  else {
-    // A little more than asked, so a few more slabs do not need a new buffer.
-    entry = { buf: new ArrayBuffer(Math.ceil((bytes * 1.0625) / 8) * 8), holds: "" };
-    fresh = true;
-  }
-  const view = d.type === "Float32Array" ? new Float32Array(entry.buf, 0, rows) : new Float64Array(entry.buf, 0, rows);
-  if (fresh) {
-    entry.holds = "";
-    readUpTo(d, view, rows);
-    entry.holds = tag;
-  }
-  try {
-    return use(view);
-  } finally {
-    free.push(entry);
-    if (free.length > KEEP_FREE) free.shift();
-    if (release) release.refresh();
-    else {
-      release = setTimeout(forgetDiskBuffers, RELEASE_AFTER_MS);
-      release.unref();
-    }
-  }
+/** Rows of a piece (2 MB of Float64). */
+export const PIECE_ROWS = 262_144;
+let pieceRows = PIECE_ROWS;
+/** Pieces of fewer rows (tests: a test plant is smaller than one piece). */
+export function configurePieces(rows = PIECE_ROWS) {
+  pieceRows = rows;
 }
 
-/** Lets go of the kept buffers (30 s after the last use; tests). */
-export function forgetDiskBuffers() {
-  free.length = 0;
-  if (release) clearTimeout(release);
-  release = null;
+/**
+ * The file's first `rows` values, piece by piece: `use(values, from, to)` with values[i − from] the
+ * value of row i for from ≤ i < to, the pieces in order. For a report that walks the slabs in order.
+ */
+export function eachDiskPiece(d: DiskColumn, rows: number, use: (values: Float32Array | Float64Array, from: number, to: number) => void) {
+  flushDiskWrites(d, rows);
+  const piece = d.type === "Float32Array" ? new Float32Array(Math.min(rows, pieceRows)) : new Float64Array(Math.min(rows, pieceRows));
+  for (let from = 0; from < rows; from += pieceRows) {
+    const to = Math.min(rows, from + pieceRows);
+    const view = piece.subarray(0, to - from);
+    const bytes = new Uint8Array(view.buffer, 0, view.byteLength);
+    let done = 0;
+    while (done < bytes.length) {
+      const n = fs.readSync(d.fd, bytes, done, bytes.length - done, from * view.BYTES_PER_ELEMENT + done);
+      if (n === 0) break;
+      done += n;
+    }
+    // Past the file's end: rows never written, 0 as in a new column in memory.
+    bytes.fill(0, done);
+    use(view, from, to);
+  }
 }

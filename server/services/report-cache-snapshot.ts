@@ -21,7 +21,7 @@ import path from "node:path";
 import zlib from "node:zlib";
 import type Database from "better-sqlite3";
 import { closeDisk, FACT_VARIABLES, ID_COLUMNS, rebuildIndex, sharedColumn, type SlabFacts } from "./report-cache-columns";
-import { chooseOnDisk, newColumnFile, readAt, writeAt, type DiskType } from "./report-cache-disk";
+import { chooseOnDisk, newColumnFile, readAt, writeAt, type DiskColumn, type DiskType } from "./report-cache-disk";
 
 const MAGIC = Buffer.from("STRANDSIGHT-RC1\n", "latin1");
 const FORMAT = 1;
@@ -285,7 +285,14 @@ export async function readSnapshot(
       let buffer: Uint8Array | null = null;
       for (const c of header.columns) {
         const key = c.name.startsWith("vars.") ? c.name.slice(5) : null;
-        const disk = key !== null && toDisk.has(key) ? (facts.disk[key] = newColumnFile(diskDir!, c.type as DiskType)) : null;
+        let disk: DiskColumn | null = null;
+        if (key !== null && toDisk.has(key)) {
+          try {
+            disk = facts.disk[key] = newColumnFile(diskDir!, c.type as DiskType);
+          } catch (err) {
+            return { facts: null, reason: `its columns cannot be written to files in ${diskDir} (${(err as NodeJS.ErrnoException).code ?? String(err)})` };
+          }
+        }
         // In memory: on shared memory, as the columns a build makes (report-cache-columns.ts).
         const col = disk ? null : sharedColumn(TYPES[c.type] as unknown as { new (buffer: SharedArrayBuffer): Typed; BYTES_PER_ELEMENT: number }, capacity);
         const length = size * (TYPES[c.type] as unknown as { BYTES_PER_ELEMENT: number }).BYTES_PER_ELEMENT;
@@ -296,7 +303,13 @@ export async function readSnapshot(
           const piece = bytes ? bytes.subarray(at, end) : (buffer ??= new Uint8Array(PIECE)).subarray(0, end - at);
           if (!(await readFully(fh, piece))) return { facts: null, reason: "the snapshot is cut short" };
           crc = zlib.crc32(piece, crc);
-          if (disk) writeAt(disk.fd, piece, at);
+          if (disk) {
+            try {
+              writeAt(disk.fd, piece, at);
+            } catch (err) {
+              return { facts: null, reason: `its columns cannot be written to files in ${diskDir} (${(err as NodeJS.ErrnoException).code ?? String(err)})` };
+            }
+          }
           read += piece.length;
           opts.progress?.("reading", read, columnBytes);
         }

@@ -44,7 +44,17 @@ import {
 import { chooseOnDisk, columnDirOf, withDiskBatch } from "./report-cache-disk";
 import { readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
-export { exactColumn, exactValue, FACT_VARIABLES, VARIABLE_SCALE, withValues, type IdColumn, type SlabFacts, type ValueColumn } from "./report-cache-columns";
+export {
+  exactColumn,
+  exactValue,
+  FACT_VARIABLES,
+  VARIABLE_SCALE,
+  eachPiece,
+  valuesOf,
+  type IdColumn,
+  type SlabFacts,
+  type ValueColumn,
+} from "./report-cache-columns";
 
 interface Warming {
   phase: "opening" | "checking" | "reading" | "rebuilding";
@@ -175,32 +185,44 @@ export function slabFactsChanged(db: Db, slabIds?: Iterable<number>) {
 
 /** New facts in place of the state's (the old ones' column files are closed). */
 function setFacts(s: State, f: SlabFacts | null) {
-  if (s.facts !== f) closeDisk(s.facts);
+  const old = s.facts;
+  if (old === f) return;
+  closeDisk(old);
   s.facts = f;
+  // The columns let go (the old facts', or those just moved to files) go back to the system now,
+  // not at some later collection: nothing else may allocate for a while.
+  if (old || (f && Object.keys(f.disk).length > 0)) collectGarbage();
 }
 
-/** Condition columns beyond the memory set aside for them go to files beside the database (report-cache-disk.ts). */
-function toDiskAsBudgeted(sqlite: Database.Database, f: SlabFacts): SlabFacts {
+/**
+ * Condition columns beyond the memory set aside for them go to files (report-cache-disk.ts). A file
+ * that cannot be made or written (a full disk) leaves its column and the rest in memory, said in the log.
+ */
+function toDiskAsBudgeted(sqlite: Database.Database, f: SlabFacts, logger?: Logger): SlabFacts {
   const dir = columnDirOf(sqlite.name);
   const keys = chooseOnDisk(f.size, columnTypes(f), dir);
-  if (keys.length > 0) {
+  if (keys.length === 0) return f;
+  try {
     moveToDisk(f, dir!, keys);
-    // Their shared memory goes back to the system now, not at some later collection.
-    collectGarbage();
+  } catch (err) {
+    logger?.warn(
+      { err, dir, inFiles: Object.keys(f.disk).length, inMemory: keys.length - Object.keys(f.disk).length },
+      "report cache: condition columns could not be written to files; the rest stay in memory",
+    );
   }
   return f;
 }
 
 const maxIdOf = (sqlite: Database.Database) => (sqlite.prepare("select coalesce(max(slab_id), 0) from slab_conditions").pluck().get() as number) ?? 0;
 
-function build(sqlite: Database.Database): SlabFacts {
+function build(sqlite: Database.Database, logger?: Logger): SlabFacts {
   const maxId = maxIdOf(sqlite);
   // Ids only grow (slab rows are never deleted), so the highest id bounds the row count.
   const f = allocate(buildCapacity(maxId), buildCapacity(maxId));
   for (const r of sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions order by slab_id`).raw().iterate() as IterableIterator<FactRow>) {
     put(f, f.size++, r);
   }
-  return toDiskAsBudgeted(sqlite, f);
+  return toDiskAsBudgeted(sqlite, f, logger);
 }
 
 const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
@@ -210,7 +232,7 @@ const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
  * free in between. A write during the build is recorded in the dirty set as usual and read again
  * afterwards, so the facts end current although the pages are read at different moments.
  */
-async function buildInSlices(sqlite: Database.Database, w: Warming, sliceMs: number, stopped: () => boolean): Promise<SlabFacts> {
+async function buildInSlices(sqlite: Database.Database, w: Warming, sliceMs: number, stopped: () => boolean, logger?: Logger): Promise<SlabFacts> {
   const maxId = maxIdOf(sqlite);
   const f = allocate(buildCapacity(maxId), buildCapacity(maxId));
   const PAGE = 512;
@@ -231,7 +253,7 @@ async function buildInSlices(sqlite: Database.Database, w: Warming, sliceMs: num
       if (got) last = rows[got - 1]![0]!;
     } while (got === PAGE && performance.now() - t < sliceMs);
     w.done = last;
-    if (got < PAGE) return toDiskAsBudgeted(sqlite, f);
+    if (got < PAGE) return toDiskAsBudgeted(sqlite, f, logger);
     await nextTurn();
     if (stopped()) throw new Error("stopped");
   }
@@ -299,7 +321,17 @@ export function slabFacts(db: Db): SlabFacts {
     s.version++;
     return f;
   }
-  if (s.dirty.size > 0) patch(sqlite, s, s.facts);
+  if (s.dirty.size > 0) {
+    try {
+      patch(sqlite, s, s.facts);
+    } catch (err) {
+      // Half a patch (a column file that could not be written) is not current: read everything again.
+      s.background?.logger?.error({ err }, "report cache: changed slabs could not be applied; the slab data are read again");
+      s.dirtyAll = true;
+      s.dirty.clear();
+      return slabFacts(db);
+    }
+  }
   return s.facts;
 }
 
@@ -354,7 +386,7 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
     if (!facts) {
       if (w.phase !== "rebuilding") nextPhase("rebuilding");
       w.done = 0;
-      facts = await buildInSlices(sqlite, w, bg.sliceMs, stopped);
+      facts = await buildInSlices(sqlite, w, bg.sliceMs, stopped, bg.logger);
     }
     if (bg.closed) {
       closeDisk(facts);

@@ -12,6 +12,8 @@ export interface ReportThreadData {
   screening?: { threads?: number; sharedFrom?: number };
   /** Memory for the condition columns, MB (report-cache-disk.ts; unset: its default). */
   columnsMb?: number;
+  /** Where the condition columns' files go (unset: beside the database). */
+  columnsDir?: string;
 }
 
 export type ToReportThread =

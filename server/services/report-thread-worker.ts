@@ -14,7 +14,8 @@ import { openDatabase } from "../db/client";
 import { HttpError } from "../lib/http-error";
 import { lowerThisThreadPriority } from "../lib/thread-priority";
 import { speakingIn } from "../lib/words";
-import { configureColumnMemory } from "./report-cache-disk";
+import fs from "node:fs";
+import { configureColumnMemory, DEFAULT_COLUMNS_MB } from "./report-cache-disk";
 import { slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
 import { adjustedModel } from "./reports/adjusted";
 import { beforeAfter } from "./reports/before-after";
@@ -56,8 +57,16 @@ const logger = pino({ level: data.logLevel, base: { app: "strandsight" } }, { wr
 lowerThisThreadPriority(data.nice);
 // A screening's helper threads give way likewise.
 configureScreeningThreads({ nice: data.nice, threads: data.screening?.threads ?? null, sharedFrom: data.screening?.sharedFrom });
-// Condition columns beyond this memory are kept in files beside the database.
-if (data.columnsMb !== undefined) configureColumnMemory(data.columnsMb);
+// Condition columns beyond this memory are kept in files, beside the database or in their own folder
+// (made here when missing; one that cannot be made keeps the columns in memory, said in the log).
+if (data.columnsDir) {
+  try {
+    fs.mkdirSync(data.columnsDir, { recursive: true, mode: 0o700 });
+  } catch {
+    // Said when the first file cannot be made there.
+  }
+}
+configureColumnMemory(data.columnsMb ?? DEFAULT_COLUMNS_MB, data.columnsDir ?? null);
 
 // 8 MB of page cache, not 64 (db/client.ts): the reports read the slab data from the report cache's
 // columns; SQLite gives them names, defects and changed slabs. The trade, measured at five million

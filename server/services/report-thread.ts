@@ -44,6 +44,8 @@ export interface ReportThreadOptions {
   screening?: { threads?: number; sharedFrom?: number };
   /** Memory for the report cache's condition columns, MB (report-cache-disk.ts; unset: its default). */
   columnsMb?: number;
+  /** Where the condition columns' files go (unset: beside the database). */
+  columnsDir?: string;
 }
 
 type Pending = { resolve: (r: { value: unknown; status: ReportCacheStatus | null }) => void; reject: (e: unknown) => void };
@@ -84,6 +86,7 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
       nice: opts.nice ?? 10,
       screening: opts.screening,
       columnsMb: opts.columnsMb,
+      columnsDir: opts.columnsDir,
     };
     const w = new Worker(threadEntry("report-thread.js", "./report-thread-entry.mjs", import.meta.url), {
       workerData: data,

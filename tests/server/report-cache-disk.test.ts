@@ -21,8 +21,25 @@ import {
   rateByVariableQuerySchema,
   screeningQuerySchema,
 } from "@shared/api/reports";
-import { allocate, exactColumn, FACT_VARIABLES, moveToDisk, put, withValues, type FactRow } from "../../server/services/report-cache-columns";
-import { chooseOnDisk, columnMemoryMb, configureColumnMemory, DEFAULT_COLUMNS_MB } from "../../server/services/report-cache-disk";
+import {
+  allocate,
+  eachPiece,
+  ensureCapacity,
+  exactColumn,
+  FACT_VARIABLES,
+  moveToDisk,
+  put,
+  valuesOf,
+  type FactRow,
+} from "../../server/services/report-cache-columns";
+import {
+  chooseOnDisk,
+  columnMemoryMb,
+  configureColumnMemory,
+  configurePieces,
+  DEFAULT_COLUMNS_MB,
+  withDiskBatch,
+} from "../../server/services/report-cache-disk";
 import { slabFacts, slabFactsChanged, VARIABLE_SCALE } from "../../server/services/report-cache";
 import { readSnapshot, writeSnapshot } from "../../server/services/report-cache-snapshot";
 import { adjustedModel } from "../../server/services/reports/adjusted";
@@ -56,15 +73,16 @@ beforeAll(async () => {
   GRID = FACT_VARIABLES.find((k) => f.vars[k] instanceof Float32Array && k !== FULL) ?? "";
 }, 120_000);
 afterAll(async () => {
-  configureColumnMemory(DEFAULT_COLUMNS_MB);
+  configureColumnMemory(DEFAULT_COLUMNS_MB, null);
+  configurePieces();
   configureScreeningThreads(threads);
   await stopScreeningHelpers();
   await t?.close();
 });
 
-/** The facts rebuilt with `mb` of memory for the condition columns. */
+/** The facts rebuilt with `mb` of memory for the condition columns (files beside the database). */
 function rebuilt(mb: number) {
-  configureColumnMemory(mb);
+  configureColumnMemory(mb, null);
   slabFactsChanged(t.db);
   return slabFacts(t.db);
 }
@@ -139,6 +157,19 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     expect(onDisk.disk[GRID]!.type).toBe("Float32Array");
     const got = answers();
     for (const [name] of REPORTS) expect(got[name], name).toBe(expected[name]);
+    // Read in pieces smaller than the plant (in the server a piece is 262,144 slabs): 1,000 and 4,097.
+    for (const rows of [1000, 4097]) {
+      configurePieces(rows);
+      const inPieces = answers();
+      for (const [name] of REPORTS) expect(inPieces[name], `${name}, pieces of ${rows}`).toBe(expected[name]);
+    }
+    configurePieces();
+    // Some columns in memory and the others in files (0.3 MB: six or so grid columns).
+    const mixed = rebuilt(0.3);
+    expect(Object.keys(mixed.vars).length).toBeGreaterThan(2);
+    expect(Object.keys(mixed.disk).length).toBeGreaterThan(10);
+    const mixedAnswers = answers();
+    for (const [name] of REPORTS) expect(mixedAnswers[name], `${name}, mixed`).toBe(expected[name]);
     // The reports are real ones: the screening found the speed (confounded by the grade family) and a full-digit superheat.
     expect(expected["screening, crude"]).toContain('"key":"casting_speed_m_min"');
     const rate = JSON.parse(expected["rate by the full-digit condition"]!) as { slabs: number; slabsWithoutValue: number; bins: unknown[] };
@@ -171,12 +202,6 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     const [a, b] = sqlite.prepare(`select slab_id from slab_conditions where ${GRID} is not null order by slab_id limit 2`).pluck().all() as number[];
     const before = rebuilt(0);
     expect(before.disk[GRID]!.type).toBe("Float32Array");
-    const version = before.disk[GRID]!.version;
-    // Read once, so a buffer holds it.
-    withValues(before, GRID, (col) =>
-      expect(col[before.indexOf[a!]!]).toBe(Math.fround(sqlite.prepare(`select ${GRID} from slab_conditions where slab_id = ?`).pluck().get(a) as number)),
-    );
-
     // On the grid: the file keeps Float32, one value written.
     const scale = VARIABLE_SCALE[GRID]!;
     const old = sqlite.prepare(`select ${GRID} from slab_conditions where slab_id = ?`).pluck().get(a) as number;
@@ -185,10 +210,8 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     slabFactsChanged(t.db, [a!]);
     let f = slabFacts(t.db);
     expect(f.disk[GRID]!.type).toBe("Float32Array");
-    expect(f.disk[GRID]!.version).toBe(version + 1);
     expect(exactColumn(f, GRID)[f.indexOf[a!]!]).toBe(onGrid);
-    // A buffer that held the column before the write is not taken for it after.
-    expect(withValues(f, GRID, (col) => col[f.indexOf[a!]!])).toBe(Math.fround(onGrid));
+    expect(valuesOf(f, GRID)[f.indexOf[a!]!]).toBe(Math.fround(onGrid));
 
     // Off the grid: every value comes back as stored, from a Float64 file.
     sqlite.prepare(`update slab_conditions set ${GRID} = 3.14159265358979 where slab_id = ?`).run(b);
@@ -196,10 +219,9 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     f = slabFacts(t.db);
     expect(f.disk[GRID]!.type).toBe("Float64Array");
     const stored = sqlite.prepare(`select slab_id, ${GRID} from slab_conditions order by slab_id`).raw().all() as [number, number | null][];
-    withValues(f, GRID, (col) => {
-      expect(col).toBeInstanceOf(Float64Array);
-      for (const [id, v] of stored) expect(col[f.indexOf[id]!]).toBe(v ?? NaN);
-    });
+    const col = valuesOf(f, GRID);
+    expect(col).toBeInstanceOf(Float64Array);
+    for (const [id, v] of stored) expect(col[f.indexOf[id]!]).toBe(v ?? NaN);
     // The answers are those of the same data all in memory.
     configureScreeningThreads({ threads: 0 });
     const query = screeningQuerySchema.parse({ defectType: "SLG", adjustFor: GRID });
@@ -229,9 +251,8 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     expect(f.disk[grid]!.type).toBe("Float64Array");
     for (const key of [grid, FULL]) {
       const stored = sqlite.prepare(`select slab_id, ${key} from slab_conditions order by slab_id`).raw().all() as [number, number | null][];
-      withValues(f, key, (col) => {
-        for (const [id, v] of stored) expect(col[f.indexOf[id]!], `${key} of slab ${id}`).toBe(v ?? NaN);
-      });
+      const col = valuesOf(f, key);
+      for (const [id, v] of stored) expect(col[f.indexOf[id]!], `${key} of slab ${id}`).toBe(v ?? NaN);
     }
     configureScreeningThreads({ threads: 0 });
     const query = screeningQuerySchema.parse({ defectType: "SLG", adjustFor: grid });
@@ -255,11 +276,54 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     expect(openColumnFiles()).toEqual([]);
   });
 
+  it("when a column file cannot be written during a patch, then the slab data are read again and the next report has SQLite's values, not half a patch", () => {
+    const sqlite = t.db.$client;
+    const f0 = rebuilt(0);
+    const id = sqlite.prepare(`select slab_id from slab_conditions where ${FULL} is not null order by slab_id desc limit 1`).pluck().get() as number;
+    sqlite.prepare(`update slab_conditions set ${FULL} = 99.123456789, ${GRID} = null where slab_id = ?`).run(id);
+    slabFactsChanged(t.db, [id]);
+    // The writes to one column's file fail (as on a failing disk): its descriptor is swapped for one that is not open.
+    const real = f0.disk[GRID]!.fd;
+    f0.disk[GRID]!.fd = 1_000_000;
+    const f = slabFacts(t.db);
+    fs.closeSync(real);
+    expect(f).not.toBe(f0);
+    expect(exactColumn(f, FULL)[f.indexOf[id]!]).toBe(99.123456789);
+    expect(exactColumn(f, GRID)[f.indexOf[id]!]).toBeNaN();
+    // The old facts' files are closed with them (the one that failed is no error).
+    expect(openColumnFiles()).toHaveLength(FACT_VARIABLES.length);
+  });
+
+  it("when the folder for the column files cannot be used, then the columns stay in memory, rebuilt or from a snapshot, with the same answers", async () => {
+    const sqlite = t.db.$client;
+    configureScreeningThreads({ threads: 0 });
+    rebuilt(1_000_000);
+    const expected = answers();
+    const missing = path.join(os.tmpdir(), `strandsight-no-such-folder-${process.pid}`, "columns");
+    configureColumnMemory(0, missing);
+    slabFactsChanged(t.db);
+    const f = slabFacts(t.db);
+    expect(Object.keys(f.disk)).toEqual([]);
+    expect(Object.keys(f.vars)).toHaveLength(FACT_VARIABLES.length);
+    expect(openColumnFiles()).toEqual([]);
+    const got = answers();
+    for (const [name] of REPORTS) expect(got[name], name).toBe(expected[name]);
+    // A snapshot read into that folder is refused with the reason, so the cache is rebuilt (in memory).
+    const file = path.join(fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-disk-")), "plant.db.report-cache");
+    await writeSnapshot(sqlite, f, file);
+    const back = await readSnapshot(sqlite, file, { capacityFor: (n) => n + 10, diskDir: missing });
+    expect(back).toMatchObject({ facts: null, reason: `its columns cannot be written to files in ${missing} (ENOENT)` });
+    expect(openColumnFiles()).toEqual([]);
+    fs.rmSync(path.dirname(file), { recursive: true, force: true });
+  });
+
   it("when a snapshot is written from columns in files, then it reads back to the same bytes, into memory or into files", async () => {
     const sqlite = t.db.$client;
     const inMemory = rebuilt(1_000_000);
-    const bytesOf = (f: typeof inMemory, k: string) =>
-      withValues(f, k, (c) => Buffer.from(c.buffer, c.byteOffset, f.size * c.BYTES_PER_ELEMENT).toString("base64"));
+    const bytesOf = (f: typeof inMemory, k: string) => {
+      const c = valuesOf(f, k);
+      return Buffer.from(c.buffer, c.byteOffset, f.size * c.BYTES_PER_ELEMENT).toString("base64");
+    };
     const expected = Object.fromEntries(FACT_VARIABLES.map((k) => [k, bytesOf(inMemory, k)]));
     const onDisk = rebuilt(0);
     const file = path.join(fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-disk-")), "plant.db.report-cache");
@@ -321,6 +385,26 @@ describe("which condition columns stay in memory", () => {
     const k = FACT_VARIABLES[0]!;
     expect(f.disk[k]!.type).toBe("Float64Array");
     expect([...exactColumn(f, k)]).toEqual([1.5, NaN, 2.25, 0.1 + 0.2]);
+    // In a patch (writes held back, then runs of rows): two new slabs past the file's end, a row written twice.
+    withDiskBatch(
+      () => f.size,
+      () => {
+        ensureCapacity(f, 6);
+        put(f, f.size++, row(5, 4.5));
+        put(f, f.size++, row(6, 5.75));
+        put(f, 0, row(1, 1.25));
+        put(f, 0, row(1, 1.75));
+      },
+    );
+    expect([...exactColumn(f, k)]).toEqual([1.75, NaN, 2.25, 0.1 + 0.2, 4.5, 5.75]);
+    const pieces: number[][] = [];
+    configurePieces(4);
+    eachPiece(f, k, (col, from, to) => pieces.push([from, to, ...col]));
+    configurePieces();
+    expect(pieces).toEqual([
+      [0, 4, 1.75, NaN, 2.25, 0.1 + 0.2],
+      [4, 6, 4.5, 5.75],
+    ]);
     expect(fs.readdirSync(dir)).toEqual([]);
     fs.rmSync(dir, { recursive: true, force: true });
   });

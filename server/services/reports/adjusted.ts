@@ -21,7 +21,7 @@ import {
   type TermEstimate,
 } from "../../stats/logistic-multi";
 import { scratch } from "../../stats/scratch";
-import { withValues } from "../report-cache";
+import { eachPiece } from "../report-cache";
 import { inWords, named, num, say } from "../../lib/words";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 
@@ -142,10 +142,13 @@ export function groupedValues(s: Scanned, key: string): Float64Array {
   const spec = VARIABLES.find((v) => v.key === key)!;
   const scale = 10 ** (spec.digits + 1);
   const out = new Float64Array(s.facts.size);
-  withValues(s.facts, key, (raw) => {
-    for (let u = 0; u < s.rows.length; u++) {
+  // The slabs in scope come in order: each piece of the column is walked once.
+  let u = 0;
+  eachPiece(s.facts, key, (raw, from, to) => {
+    for (; u < s.rows.length; u++) {
       const i = s.rows[u]!;
-      const v = raw[i]!;
+      if (i >= to) break;
+      const v = raw[i - from]!;
       out[i] = v === v ? Math.round(v * scale) / scale : NaN;
     }
   });

@@ -13,7 +13,7 @@ import { parseDateBound } from "../../lib/dates";
 import { badRequest, said } from "../../lib/http-error";
 import { wilson } from "../../stats/proportions";
 import { normalizeGroups, type Group } from "../../stats/ranks";
-import { slabFacts, withValues, type SlabFacts } from "../report-cache";
+import { eachPiece, slabFacts, type SlabFacts } from "../report-cache";
 import { riskBandSlabsSql } from "../risk/bands";
 
 /** Under this many affected slabs a report warns that its tests have little power (the screens read it too). */
@@ -193,9 +193,13 @@ export function variableGroups(s: Scanned, key: string): { groups: Group[]; miss
   const scale = 10 ** (variableSpec(key).digits + 1);
   const map = new Map<number, Group>();
   let missing = 0;
-  withValues(s.facts, variableSpec(key).key, (col) => {
-    for (const i of s.rows) {
-      const raw = col[i]!;
+  // The slabs in scope come in order: each piece of the column is walked once.
+  let u = 0;
+  eachPiece(s.facts, variableSpec(key).key, (col, from, to) => {
+    for (; u < s.rows.length; u++) {
+      const i = s.rows[u]!;
+      if (i >= to) break;
+      const raw = col[i - from]!;
       if (Number.isNaN(raw)) {
         missing++;
         continue;

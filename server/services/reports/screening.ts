@@ -21,7 +21,7 @@ import { RunningSpread } from "../../stats/spread";
 import { completeRows, fitTerms, gridFromKeys, groupingMethod, modelTerms, numericTerm, seWords, type ModelTerm } from "./adjusted";
 import { inWords, named, say } from "../../lib/words";
 import { scratch } from "../../stats/scratch";
-import { VARIABLE_SCALE, withValues } from "../report-cache";
+import { eachPiece, VARIABLE_SCALE } from "../report-cache";
 import { buildScope, finite, scan, SMALL_AFFECTED, type Scanned } from "./scope";
 import { shareOut } from "./screening-threads";
 
@@ -107,11 +107,14 @@ function numericPass(sc: Scanned, key: string) {
   let lo = Infinity;
   let hi = -Infinity;
   let n = 0;
-  withValues(f, key, (col) => {
+  // The slabs in scope come in order: each piece of the column is walked once.
+  let u = 0;
+  eachPiece(f, key, (col, from, to) => {
     const onGrid = col instanceof Float32Array;
-    for (let u = 0; u < rows.length; u++) {
+    for (; u < rows.length; u++) {
       const i = rows[u]!;
-      const r = col[i]!;
+      if (i >= to) break;
+      const r = col[i - from]!;
       if (r !== r) {
         values[i] = NaN;
         continue;
