@@ -24,6 +24,7 @@
 import fs from "node:fs";
 import path from "node:path";
 import { VARIABLES } from "@shared/variables";
+import { processAlive } from "../lib/process-alive";
 
 export type DiskType = "Float32Array" | "Float64Array";
 
@@ -55,7 +56,7 @@ export const columnMemoryMb = () => budgetMb;
 const bytesOf = (type: DiskType) => (type === "Float32Array" ? 4 : 8);
 
 /**
- * The variables whose columns go to disk: with `rows` rows of the given types, those beyond the
+ * The variables whose columns go to disk: with room for `rows` rows of the given types, those beyond the
  * budget (on-grid ones kept first). None for a database in memory (`dir` null).
  */
 export function chooseOnDisk(rows: number, types: Record<string, DiskType>, dir: string | null, mb = budgetMb): string[] {
@@ -77,11 +78,35 @@ export const columnDirOf = (databaseFile: string) =>
   databaseFile && databaseFile !== ":memory:" ? (filesDir ?? path.dirname(path.resolve(databaseFile))) : null;
 
 let files = 0;
+const NAME_PREFIX = ".strandsight-column.";
+
+/**
+ * Removes the column files a process that ended left in `dir` (one killed between making a file and
+ * removing its name, a moment in which nothing else happens): those whose process is gone.
+ */
+export function removeStaleColumnFiles(dir: string | null) {
+  if (!dir) return;
+  let names: string[];
+  try {
+    names = fs.readdirSync(dir).filter((n) => n.startsWith(NAME_PREFIX));
+  } catch {
+    return;
+  }
+  for (const name of names) {
+    const pid = Number(name.slice(NAME_PREFIX.length).split(".")[0]);
+    if (!Number.isInteger(pid) || pid === process.pid || processAlive(pid)) continue;
+    try {
+      fs.unlinkSync(path.join(dir, name));
+    } catch {
+      // Removed meanwhile, or not ours to remove.
+    }
+  }
+}
 
 /** A new, empty column file in `dir`, already removed from the directory (the descriptor keeps it). */
 export function newColumnFile(dir: string, type: DiskType): DiskColumn {
   const token = `${process.pid}.${++files}.${Math.random().toString(36).slice(2, 10)}`;
-  const file = path.join(dir, `.strandsight-column.${token}`);
+  const file = path.join(dir, `${NAME_PREFIX}${token}`);
   const fd = fs.openSync(file, "wx+", 0o600);
   try {
     fs.unlinkSync(file);

@@ -278,7 +278,7 @@ export async function readSnapshot(
     // Condition columns beyond the memory set aside go straight from the snapshot to their files.
     const types = Object.fromEntries(header.columns.filter((c) => c.name.startsWith("vars.")).map((c) => [c.name.slice(5), c.type as DiskType]));
     const diskDir = opts.diskDir ?? null;
-    const toDisk = new Set(chooseOnDisk(size, types, diskDir));
+    const toDisk = new Set(chooseOnDisk(capacity, types, diskDir));
     let whole = false;
     try {
       let read = 0;

@@ -41,7 +41,7 @@ import {
   type FactRow,
   type SlabFacts,
 } from "./report-cache-columns";
-import { chooseOnDisk, columnDirOf, withDiskBatch } from "./report-cache-disk";
+import { chooseOnDisk, columnDirOf, removeStaleColumnFiles, withDiskBatch } from "./report-cache-disk";
 import { readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
 export {
@@ -200,7 +200,8 @@ function setFacts(s: State, f: SlabFacts | null) {
  */
 function toDiskAsBudgeted(sqlite: Database.Database, f: SlabFacts, logger?: Logger): SlabFacts {
   const dir = columnDirOf(sqlite.name);
-  const keys = chooseOnDisk(f.size, columnTypes(f), dir);
+  // Columns in memory take their capacity (room for new slabs), not only the rows used.
+  const keys = chooseOnDisk(f.slabId.length, columnTypes(f), dir);
   if (keys.length === 0) return f;
   try {
     moveToDisk(f, dir!, keys);
@@ -366,6 +367,7 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
     let facts: SlabFacts | null = null;
     let from = "the database";
     let why: string | null = null;
+    removeStaleColumnFiles(columnDirOf(sqlite.name));
     if (fromSnapshot && bg.snapshotFile) {
       await removeStaleTemps(bg.snapshotFile);
       const r = await readSnapshot(sqlite, bg.snapshotFile, {

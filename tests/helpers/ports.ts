@@ -2,6 +2,7 @@ import fs from "node:fs";
 import net from "node:net";
 import os from "node:os";
 import path from "node:path";
+import { processAlive } from "../../server/lib/process-alive";
 
 /**
  * Ports for the servers the tests start as their own processes (server-process.ts), which bind
@@ -19,14 +20,7 @@ const LOCKS = path.join(os.tmpdir(), "strandsight-test-ports");
 const held: string[] = [];
 let cleanupSet = false;
 
-function alive(pid: number) {
-  try {
-    process.kill(pid, 0);
-    return true;
-  } catch (err) {
-    return (err as NodeJS.ErrnoException).code === "EPERM";
-  }
-}
+const alive = processAlive;
 
 /** Reserves `port` for this process; false when a live process holds it. */
 export function reservePort(port: number): boolean {

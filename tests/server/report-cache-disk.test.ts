@@ -8,6 +8,7 @@
  * On a real SQLite file: the confounded plant of 1,500 heats × 8 slabs (tests/helpers/confounded-plant.ts),
  * with every value of one condition moved off its grid so that a Float64 column is among them.
  */
+import { spawnSync } from "node:child_process";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
@@ -38,6 +39,7 @@ import {
   configureColumnMemory,
   configurePieces,
   DEFAULT_COLUMNS_MB,
+  removeStaleColumnFiles,
   withDiskBatch,
 } from "../../server/services/report-cache-disk";
 import { slabFacts, slabFactsChanged, VARIABLE_SCALE } from "../../server/services/report-cache";
@@ -164,8 +166,8 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
       for (const [name] of REPORTS) expect(inPieces[name], `${name}, pieces of ${rows}`).toBe(expected[name]);
     }
     configurePieces();
-    // Some columns in memory and the others in files (0.3 MB: six or so grid columns).
-    const mixed = rebuilt(0.3);
+    // Some columns in memory and the others in files (1.5 MB: five grid columns with their room for new slabs).
+    const mixed = rebuilt(1.5);
     expect(Object.keys(mixed.vars).length).toBeGreaterThan(2);
     expect(Object.keys(mixed.disk).length).toBeGreaterThan(10);
     const mixedAnswers = answers();
@@ -369,6 +371,16 @@ describe("which condition columns stay in memory", () => {
     expect(chooseOnDisk(rows, types, "/d", 14)).toEqual(full.slice(1));
     // 5 MB: the first five grid columns only.
     expect(chooseOnDisk(rows, types, "/d", 5)).toEqual([...grid.slice(5), ...full]);
+  });
+
+  it("when a process that ended left a column file behind, then the next start removes it, and leaves a running process's alone", () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-disk-"));
+    const gone = spawnSync("true").pid;
+    const names = [`.strandsight-column.${gone}.1.abc`, `.strandsight-column.${process.ppid}.1.abc`, `.strandsight-column.${process.pid}.7.abc`, "app.db"];
+    for (const n of names) fs.writeFileSync(path.join(dir, n), "x");
+    removeStaleColumnFiles(dir);
+    expect(fs.readdirSync(dir).sort()).toEqual(names.slice(1).sort());
+    fs.rmSync(dir, { recursive: true, force: true });
   });
 
   it("when a new slab's row is written to columns in files, then it reads back as it was written, past the file's end too", () => {
