@@ -97,48 +97,79 @@ function interquartileRange(
  * term lives only while its variable is tested.
  */
 function numericPass(sc: Scanned, key: string) {
-  const { facts: f, rows, affected: aff } = sc;
-  const scale = VARIABLE_SCALE[key]!;
-  const values = scratch("screening.values", Float64Array, f.size);
-  const keys = scratch("screening.keys", Int32Array, f.size);
-  const withValue = scratch("screening.rows", Int32Array, rows.length);
-  const hitAcc = new RunningSpread();
-  const soundAcc = new RunningSpread();
-  let lo = Infinity;
-  let hi = -Infinity;
-  let n = 0;
+  const { facts: f, rows } = sc;
+  const w: Walk = {
+    rows,
+    aff: sc.affected,
+    scale: VARIABLE_SCALE[key]!,
+    values: scratch("screening.values", Float64Array, f.size),
+    keys: scratch("screening.keys", Int32Array, f.size),
+    withValue: scratch("screening.rows", Int32Array, rows.length),
+    hitAcc: new RunningSpread(),
+    soundAcc: new RunningSpread(),
+    u: 0,
+    n: 0,
+    lo: Infinity,
+    hi: -Infinity,
+  };
   // The slabs in scope come in order: each piece of the column is walked once.
-  let u = 0;
-  eachPiece(f, key, (col, from, to) => {
-    const onGrid = col instanceof Float32Array;
-    for (; u < rows.length; u++) {
-      const i = rows[u]!;
-      if (i >= to) break;
-      const r = col[i - from]!;
-      if (r !== r) {
-        values[i] = NaN;
-        continue;
-      }
-      const g = Math.round(r * scale) / scale;
-      // Means and variances per outcome computed stably (Welford).
-      if (aff[i]) hitAcc.add(onGrid ? g : r);
-      else soundAcc.add(onGrid ? g : r);
-      values[i] = g;
-      if (!Number.isFinite(g)) continue;
-      const k = Math.round(g * scale);
-      keys[i] = k;
-      if (k < lo) lo = k;
-      if (k > hi) hi = k;
-      withValue[n++] = i;
-    }
-  });
+  eachPiece(f, key, (col, from, to) => walkPiece(w, col, from, to));
+  const { values, keys, withValue, lo, hi, n } = w;
   return {
-    hitAcc,
-    soundAcc,
+    hitAcc: w.hitAcc,
+    soundAcc: w.soundAcc,
     term: numericTerm(key, values, gridFromKeys(keys, lo, hi)),
     withValue: withValue.subarray(0, n),
     grid: n > 0 ? { keys, lo, hi } : undefined,
   };
+}
+
+/** numericPass's state from piece to piece. */
+interface Walk {
+  rows: Int32Array;
+  aff: Uint8Array;
+  scale: number;
+  values: Float64Array;
+  keys: Int32Array;
+  withValue: Int32Array;
+  hitAcc: RunningSpread;
+  soundAcc: RunningSpread;
+  /** The next slab in scope, the slabs with a value so far, and their lowest and highest grid key. */
+  u: number;
+  n: number;
+  lo: number;
+  hi: number;
+}
+
+/** numericPass over one piece of the column (values[i − from] is slab row i's), in locals for speed. */
+function walkPiece(w: Walk, col: ArrayLike<number>, from: number, to: number) {
+  const { rows, aff, scale, values, keys, withValue, hitAcc, soundAcc } = w;
+  const onGrid = col instanceof Float32Array;
+  let { u, n, lo, hi } = w;
+  for (; u < rows.length; u++) {
+    const i = rows[u]!;
+    if (i >= to) break;
+    const r = col[i - from]!;
+    if (r !== r) {
+      values[i] = NaN;
+      continue;
+    }
+    const g = Math.round(r * scale) / scale;
+    // Means and variances per outcome computed stably (Welford).
+    if (aff[i]) hitAcc.add(onGrid ? g : r);
+    else soundAcc.add(onGrid ? g : r);
+    values[i] = g;
+    if (!Number.isFinite(g)) continue;
+    const k = Math.round(g * scale);
+    keys[i] = k;
+    if (k < lo) lo = k;
+    if (k > hi) hi = k;
+    withValue[n++] = i;
+  }
+  w.u = u;
+  w.n = n;
+  w.lo = lo;
+  w.hi = hi;
 }
 
 /** The test of one variable in a model with the adjustment terms (those it does not itself name). */
