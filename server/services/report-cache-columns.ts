@@ -22,7 +22,17 @@
  * Written here because no well-kept library offers exact narrow typed columns over better-sqlite3.
  */
 import { VARIABLES } from "@shared/variables";
-import { closeColumnFile, columnToDisk, eachDiskPiece, readWhole, writeValue, type DiskColumn } from "./report-cache-disk";
+import {
+  appendFrom,
+  closeColumnFile,
+  columnToDisk,
+  eachDiskPiece,
+  endAppend,
+  newAppendedColumn,
+  readWhole,
+  writeValue,
+  type DiskColumn,
+} from "./report-cache-disk";
 
 export type IdColumn = Uint8Array | Uint16Array | Int32Array;
 export type ValueColumn = Float32Array | Float64Array;
@@ -74,9 +84,26 @@ type ColumnType<T> = { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: nu
 /** A zeroed column of `length` entries on shared memory. */
 export const sharedColumn = <T>(type: ColumnType<T>, length: number): T => new type(new SharedArrayBuffer(length * type.BYTES_PER_ELEMENT));
 
-export function allocate(capacity: number, maxId: number): SlabFacts {
+/**
+ * Empty facts with room for `capacity` rows. `toDisk`: variables whose columns go straight to files
+ * in `dir` as the rows are written (a build of a plant beyond the memory set aside for them); one
+ * whose file cannot be made stays in memory.
+ */
+export function allocate(capacity: number, maxId: number, toDisk?: { dir: string; keys: string[] }): SlabFacts {
   const vars: Record<string, ValueColumn> = {};
-  for (const k of FACT_VARIABLES) vars[k] = sharedColumn(Float32Array, capacity);
+  const disk: Record<string, DiskColumn> = {};
+  const planned = new Set(toDisk?.keys ?? []);
+  for (const k of FACT_VARIABLES) {
+    if (planned.has(k)) {
+      try {
+        disk[k] = newAppendedColumn(toDisk!.dir, "Float32Array");
+        continue;
+      } catch {
+        // Kept in memory; the build's end tries again and says why (report-cache.ts).
+      }
+    }
+    vars[k] = sharedColumn(Float32Array, capacity);
+  }
   return {
     size: 0,
     slabId: sharedColumn(Int32Array, capacity),
@@ -90,7 +117,7 @@ export function allocate(capacity: number, maxId: number): SlabFacts {
     sequencePosition: sharedColumn(Uint8Array, capacity),
     weightT: sharedColumn(Float32Array, capacity),
     vars,
-    disk: {},
+    disk,
     indexOf: new Int32Array(maxId + 1).fill(-1),
   };
 }
@@ -144,6 +171,11 @@ export function moveToDisk(f: SlabFacts, dir: string, keys: string[]) {
     f.disk[k] = columnToDisk(dir, col, f.size);
     delete f.vars[k];
   }
+}
+
+/** A build's end: the rows still waiting for the column files written out. */
+export function endBuild(f: SlabFacts) {
+  for (const d of Object.values(f.disk)) endAppend(d);
 }
 
 /** Closes the facts' column files (facts replaced or dropped): the system frees their space. */
@@ -224,7 +256,9 @@ function widenDisk(f: SlabFacts, key: string, i: number, v: number) {
   const next = new Float64Array(used);
   for (let j = 0; j < used; j++) next[j] = Math.round(old[j]! * scale) / scale;
   next[i] = v;
-  f.disk[key] = columnToDisk(d.dir, next, used);
+  const nd = columnToDisk(d.dir, next, used);
+  // A build appending to it goes on appending to the new file.
+  f.disk[key] = d.tail ? appendFrom(nd, used) : nd;
   closeColumnFile(d);
 }
 

@@ -38,6 +38,11 @@ export interface DiskColumn {
   type: DiskType;
   /** Closed (its facts were replaced, or it was rewritten as Float64): its descriptor is no longer its own. */
   closed?: boolean;
+  /**
+   * Rows appended one after another (a build writes every slab in turn) wait here and go to the file
+   * a piece at a time: `buf[0 … n)` are rows from … from + n − 1.
+   */
+  tail?: { from: number; n: number; buf: Float32Array | Float64Array };
 }
 
 /** Memory for the condition columns, MB (the rest go to disk); set from the server's settings. */
@@ -54,6 +59,14 @@ export function configureColumnMemory(mb: number, dir?: string | null) {
 export const columnMemoryMb = () => budgetMb;
 
 const bytesOf = (type: DiskType) => (type === "Float32Array" ? 4 : 8);
+
+/** Rows of a piece (2 MB of Float64). */
+export const PIECE_ROWS = 262_144;
+let pieceRows = PIECE_ROWS;
+/** Pieces of fewer rows (tests: a test plant is smaller than one piece). */
+export function configurePieces(rows = PIECE_ROWS) {
+  pieceRows = rows;
+}
 
 /**
  * The variables whose columns go to disk: with room for `rows` rows of the given types, those beyond the
@@ -164,6 +177,14 @@ let batch: Map<DiskColumn, { at: number[]; v: number[] }> | null = null;
 
 /** Stores value v at row i of the file (as a typed array of its type would hold it); in a batch, at its end. */
 export function writeValue(d: DiskColumn, i: number, v: number) {
+  const t = d.tail;
+  if (t && i === t.from + t.n && !batch) {
+    // The next row of an append: into the waiting piece, which goes out when full.
+    t.buf[t.n++] = v;
+    if (t.n === t.buf.length) flushTail(d);
+    return;
+  }
+  if (t && t.n > 0) flushTail(d);
   if (batch) {
     let p = batch.get(d);
     if (!p) batch.set(d, (p = { at: [], v: [] }));
@@ -174,6 +195,29 @@ export function writeValue(d: DiskColumn, i: number, v: number) {
   const one = d.type === "Float32Array" ? one32 : one64;
   one[0] = v;
   writeAt(d.fd, new Uint8Array(one.buffer), i * one.BYTES_PER_ELEMENT);
+}
+
+/** Writes the rows waiting in the file's tail, and starts the next piece after them. */
+function flushTail(d: DiskColumn) {
+  const t = d.tail;
+  if (!t || t.n === 0) return;
+  writeAt(d.fd, new Uint8Array(t.buf.buffer, 0, t.n * t.buf.BYTES_PER_ELEMENT), t.from * t.buf.BYTES_PER_ELEMENT);
+  t.from += t.n;
+  t.n = 0;
+}
+
+/**
+ * A new file for a column a build writes row after row from row 0: the rows wait in a piece of 2 MB
+ * and go to the file together (the build never holds the column whole in memory).
+ */
+export function newAppendedColumn(dir: string, type: DiskType): DiskColumn {
+  return appendFrom(newColumnFile(dir, type), 0);
+}
+
+/** Rows from `from` on are appended to the file through a waiting piece (a column rewritten as Float64 mid-build). */
+export function appendFrom(d: DiskColumn, from: number): DiskColumn {
+  d.tail = { from, n: 0, buf: d.type === "Float32Array" ? new Float32Array(pieceRows) : new Float64Array(pieceRows) };
+  return d;
 }
 
 /** Past this many separate runs of rows, a file is read, changed and written whole (measured: one write costs ≈ 6 µs, a 40 MB file ≈ 20 ms). */
@@ -211,8 +255,15 @@ function flushOne(d: DiskColumn, held: { at: number[]; v: number[] }, rows: numb
 
 /** Applies the writes held back for one file now (before it is read whole: a column rewritten as Float64). */
 export function flushDiskWrites(d: DiskColumn, rows: number) {
+  flushTail(d);
   const p = batch?.get(d);
   if (p) flushOne(d, p, rows);
+}
+
+/** Ends appending to the file: the waiting rows written, the piece let go (a build's end). */
+export function endAppend(d: DiskColumn) {
+  flushTail(d);
+  delete d.tail;
 }
 
 /**
@@ -250,14 +301,6 @@ function readUpTo(d: DiskColumn, out: Float32Array | Float64Array, rows: number)
   }
   // Past the file's end: rows never written, 0 as in a new column in memory.
   bytes.fill(0, done);
-}
-
-/** Rows of a piece (2 MB of Float64). */
-export const PIECE_ROWS = 262_144;
-let pieceRows = PIECE_ROWS;
-/** Pieces of fewer rows (tests: a test plant is smaller than one piece). */
-export function configurePieces(rows = PIECE_ROWS) {
-  pieceRows = rows;
 }
 
 /**

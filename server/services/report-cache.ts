@@ -27,6 +27,8 @@ import { HttpError, said } from "../lib/http-error";
 import type { Logger } from "../lib/logger";
 import {
   allocate,
+  endBuild,
+  FACT_VARIABLES,
   buildCapacity,
   closeDisk,
   columnTypes,
@@ -216,14 +218,38 @@ function toDiskAsBudgeted(sqlite: Database.Database, f: SlabFacts, logger?: Logg
 
 const maxIdOf = (sqlite: Database.Database) => (sqlite.prepare("select coalesce(max(slab_id), 0) from slab_conditions").pluck().get() as number) ?? 0;
 
-function build(sqlite: Database.Database, logger?: Logger): SlabFacts {
+/**
+ * Empty facts for a build up to slab id `maxId`: the condition columns that will not fit the memory
+ * set aside for them go to their files as the rows come, so a build never holds them all (their
+ * types guessed from the facts before, else on their grid; the build's end moves any more that must go).
+ */
+function allocateForBuild(sqlite: Database.Database, maxId: number, before: SlabFacts | null): SlabFacts {
+  const capacity = buildCapacity(maxId);
+  const dir = columnDirOf(sqlite.name);
+  const types = before ? columnTypes(before) : Object.fromEntries(FACT_VARIABLES.map((k) => [k, "Float32Array" as const]));
+  const keys = chooseOnDisk(capacity, types, dir);
+  return allocate(capacity, capacity, keys.length > 0 ? { dir: dir!, keys } : undefined);
+}
+
+/** A build's end: the column files written out, and more columns to files if the guess kept too many in memory. */
+function finishBuild(sqlite: Database.Database, f: SlabFacts, logger?: Logger): SlabFacts {
+  endBuild(f);
+  return toDiskAsBudgeted(sqlite, f, logger);
+}
+
+function build(sqlite: Database.Database, before: SlabFacts | null, logger?: Logger): SlabFacts {
   const maxId = maxIdOf(sqlite);
   // Ids only grow (slab rows are never deleted), so the highest id bounds the row count.
-  const f = allocate(buildCapacity(maxId), buildCapacity(maxId));
-  for (const r of sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions order by slab_id`).raw().iterate() as IterableIterator<FactRow>) {
-    put(f, f.size++, r);
+  const f = allocateForBuild(sqlite, maxId, before);
+  try {
+    for (const r of sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions order by slab_id`).raw().iterate() as IterableIterator<FactRow>) {
+      put(f, f.size++, r);
+    }
+    return finishBuild(sqlite, f, logger);
+  } catch (err) {
+    closeDisk(f);
+    throw err;
   }
-  return toDiskAsBudgeted(sqlite, f, logger);
 }
 
 const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
@@ -233,9 +259,34 @@ const nextTurn = () => new Promise<void>((resolve) => setImmediate(resolve));
  * free in between. A write during the build is recorded in the dirty set as usual and read again
  * afterwards, so the facts end current although the pages are read at different moments.
  */
-async function buildInSlices(sqlite: Database.Database, w: Warming, sliceMs: number, stopped: () => boolean, logger?: Logger): Promise<SlabFacts> {
+async function buildInSlices(
+  sqlite: Database.Database,
+  w: Warming,
+  sliceMs: number,
+  stopped: () => boolean,
+  before: SlabFacts | null,
+  logger?: Logger,
+): Promise<SlabFacts> {
   const maxId = maxIdOf(sqlite);
-  const f = allocate(buildCapacity(maxId), buildCapacity(maxId));
+  const f = allocateForBuild(sqlite, maxId, before);
+  try {
+    return await fillInSlices(sqlite, f, w, sliceMs, stopped, maxId, logger);
+  } catch (err) {
+    // Stopped or failed: the files made for it go.
+    closeDisk(f);
+    throw err;
+  }
+}
+
+async function fillInSlices(
+  sqlite: Database.Database,
+  f: SlabFacts,
+  w: Warming,
+  sliceMs: number,
+  stopped: () => boolean,
+  maxId: number,
+  logger?: Logger,
+): Promise<SlabFacts> {
   const PAGE = 512;
   const page = sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions where slab_id > ? order by slab_id limit ${PAGE}`).raw();
   let last = 0;
@@ -254,7 +305,7 @@ async function buildInSlices(sqlite: Database.Database, w: Warming, sliceMs: num
       if (got) last = rows[got - 1]![0]!;
     } while (got === PAGE && performance.now() - t < sliceMs);
     w.done = last;
-    if (got < PAGE) return toDiskAsBudgeted(sqlite, f, logger);
+    if (got < PAGE) return finishBuild(sqlite, f, logger);
     await nextTurn();
     if (stopped()) throw new Error("stopped");
   }
@@ -315,7 +366,7 @@ export function slabFacts(db: Db): SlabFacts {
       startWarming(sqlite, s, false);
       throw warmingUp(s.warming!);
     }
-    const f = build(sqlite);
+    const f = build(sqlite, s.facts, s.background?.logger);
     setFacts(s, f);
     s.dirtyAll = false;
     s.dirty.clear();
@@ -388,7 +439,7 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
     if (!facts) {
       if (w.phase !== "rebuilding") nextPhase("rebuilding");
       w.done = 0;
-      facts = await buildInSlices(sqlite, w, bg.sliceMs, stopped, bg.logger);
+      facts = await buildInSlices(sqlite, w, bg.sliceMs, stopped, s.facts, bg.logger);
     }
     if (bg.closed) {
       closeDisk(facts);

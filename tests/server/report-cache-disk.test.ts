@@ -159,9 +159,13 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     expect(onDisk.disk[GRID]!.type).toBe("Float32Array");
     const got = answers();
     for (const [name] of REPORTS) expect(got[name], name).toBe(expected[name]);
-    // Read in pieces smaller than the plant (in the server a piece is 262,144 slabs): 1,000 and 4,097.
+    // Built and read in pieces smaller than the plant (in the server a piece is 262,144 slabs): 1,000
+    // and 4,097 (the full-digit column rewritten as Float64 part-way through the build).
     for (const rows of [1000, 4097]) {
       configurePieces(rows);
+      const f = rebuilt(0);
+      expect(Object.keys(f.disk)).toHaveLength(FACT_VARIABLES.length);
+      expect(f.disk[FULL]!.type).toBe("Float64Array");
       const inPieces = answers();
       for (const [name] of REPORTS) expect(inPieces[name], `${name}, pieces of ${rows}`).toBe(expected[name]);
     }

@@ -6,7 +6,7 @@ import { badRequest, said } from "../../lib/http-error";
 import { equalWidthEdges, quantileEdges } from "../../stats/binning";
 import { buildScope, proportion, scan, variableGroups, variableSpec } from "./scope";
 import { named, say } from "../../lib/words";
-import { valuesOf } from "../report-cache";
+import { eachPiece } from "../report-cache";
 
 export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchema>): ProcessWindow {
   if (q.x === q.y) throw badRequest(said("reports.processWindowSameVariable"), { field: "y" });
@@ -41,19 +41,30 @@ export function processWindow(db: Db, q: z.output<typeof processWindowQuerySchem
   const scaleY = 10 ** (sy.digits + 1);
   let slabs = 0;
   let affected = 0;
-  // Two columns at once, looked up together: whole (a column in a file is read into a copy).
-  const cx = valuesOf(sc.facts, sx.key);
-  const cy = valuesOf(sc.facts, sy.key);
-  for (const i of sc.rows) {
-    const vx = cx[i]!;
-    const vy = cy[i]!;
-    if (vx !== vx || vy !== vy) continue;
-    const c = bin(Math.round(vx * scaleX) / scaleX, ex) * ny + bin(Math.round(vy * scaleY) / scaleY, ey);
-    n[c]!++;
-    x[c]! += sc.affected[i]!;
-    slabs++;
-    affected += sc.affected[i]!;
-  }
+  // Two passes, each walking one column in pieces (a column in a file is never read whole): the
+  // x bin of each slab in scope first (−1 without a value), then its cell with the y bin.
+  const rows = sc.rows;
+  const xBin = new Int8Array(rows.length);
+  let u = 0;
+  eachPiece(sc.facts, sx.key, (cx, from, to) => {
+    for (; u < rows.length && rows[u]! < to; u++) {
+      const vx = cx[rows[u]! - from]!;
+      xBin[u] = vx !== vx ? -1 : bin(Math.round(vx * scaleX) / scaleX, ex);
+    }
+  });
+  u = 0;
+  eachPiece(sc.facts, sy.key, (cy, from, to) => {
+    for (; u < rows.length && rows[u]! < to; u++) {
+      const i = rows[u]!;
+      const vy = cy[i - from]!;
+      if (xBin[u]! < 0 || vy !== vy) continue;
+      const c = xBin[u]! * ny + bin(Math.round(vy * scaleY) / scaleY, ey);
+      n[c]!++;
+      x[c]! += sc.affected[i]!;
+      slabs++;
+      affected += sc.affected[i]!;
+    }
+  });
   const cells: ProcessWindow["cells"] = [];
   for (let xi = 0; xi < nx; xi++) {
     for (let yi = 0; yi < ny; yi++) {
