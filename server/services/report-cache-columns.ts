@@ -89,14 +89,19 @@ export const sharedColumn = <T>(type: ColumnType<T>, length: number): T => new t
  * in `dir` as the rows are written (a build of a plant beyond the memory set aside for them); one
  * whose file cannot be made stays in memory.
  */
-export function allocate(capacity: number, maxId: number, toDisk?: { dir: string; keys: string[] }): SlabFacts {
+export function allocate(
+  capacity: number,
+  maxId: number,
+  toDisk?: { dir: string; keys: string[]; types?: Record<string, "Float32Array" | "Float64Array"> },
+): SlabFacts {
   const vars: Record<string, ValueColumn> = {};
   const disk: Record<string, DiskColumn> = {};
   const planned = new Set(toDisk?.keys ?? []);
   for (const k of FACT_VARIABLES) {
     if (planned.has(k)) {
       try {
-        disk[k] = newAppendedColumn(toDisk!.dir, "Float32Array");
+        // Float64 from the start where the facts before had it (no rewrite at its first value off the grid).
+        disk[k] = newAppendedColumn(toDisk!.dir, toDisk!.types?.[k] === "Float64Array" ? "Float64Array" : "Float32Array");
         continue;
       } catch {
         // Kept in memory; the build's end tries again and says why (report-cache.ts).

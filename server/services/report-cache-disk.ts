@@ -92,6 +92,22 @@ export const columnDirOf = (databaseFile: string) =>
 
 let files = 0;
 const NAME_PREFIX = ".strandsight-column.";
+/** A column file could not be made, written or read (a full or failing disk): the caller keeps the column in memory. */
+export class ColumnFileError extends Error {
+  /** The system's code (ENOSPC, ENOENT …). */
+  readonly code: string;
+  constructor(what: string, err: unknown) {
+    const code = (err as NodeJS.ErrnoException)?.code ?? String(err);
+    super(`report cache: a column file could not be ${what} (${code})`, { cause: err });
+    this.code = code;
+  }
+}
+
+/** Tests: writes fail as on a full disk after this many more (null: never). */
+let failAfterWrites: number | null = null;
+export function failColumnWritesAfter(writes: number | null) {
+  failAfterWrites = writes;
+}
 
 /**
  * Removes the column files a process that ended left in `dir` (one killed between making a file and
@@ -120,7 +136,12 @@ export function removeStaleColumnFiles(dir: string | null) {
 export function newColumnFile(dir: string, type: DiskType): DiskColumn {
   const token = `${process.pid}.${++files}.${Math.random().toString(36).slice(2, 10)}`;
   const file = path.join(dir, `${NAME_PREFIX}${token}`);
-  const fd = fs.openSync(file, "wx+", 0o600);
+  let fd: number;
+  try {
+    fd = fs.openSync(file, "wx+", 0o600);
+  } catch (err) {
+    throw new ColumnFileError("made", err);
+  }
   try {
     fs.unlinkSync(file);
   } catch {
@@ -143,7 +164,12 @@ export function closeColumnFile(d: DiskColumn) {
 /** Writes all of `bytes` at `position`. */
 export function writeAt(fd: number, bytes: Uint8Array, position: number) {
   let done = 0;
-  while (done < bytes.length) done += fs.writeSync(fd, bytes, done, bytes.length - done, position + done);
+  try {
+    if (failAfterWrites !== null && failAfterWrites-- <= 0) throw Object.assign(new Error("no space left (a test)"), { code: "ENOSPC" });
+    while (done < bytes.length) done += fs.writeSync(fd, bytes, done, bytes.length - done, position + done);
+  } catch (err) {
+    throw new ColumnFileError("written", err);
+  }
 }
 
 /** Reads all of `into` from `position`; false when the file ends first. */

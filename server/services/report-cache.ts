@@ -43,7 +43,7 @@ import {
   type FactRow,
   type SlabFacts,
 } from "./report-cache-columns";
-import { chooseOnDisk, columnDirOf, removeStaleColumnFiles, withDiskBatch } from "./report-cache-disk";
+import { chooseOnDisk, ColumnFileError, columnDirOf, removeStaleColumnFiles, withDiskBatch } from "./report-cache-disk";
 import { readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
 export {
@@ -223,32 +223,38 @@ const maxIdOf = (sqlite: Database.Database) => (sqlite.prepare("select coalesce(
  * set aside for them go to their files as the rows come, so a build never holds them all (their
  * types guessed from the facts before, else on their grid; the build's end moves any more that must go).
  */
-function allocateForBuild(sqlite: Database.Database, maxId: number, before: SlabFacts | null): SlabFacts {
+function allocateForBuild(sqlite: Database.Database, maxId: number, before: SlabFacts | null, inMemory: boolean): SlabFacts {
   const capacity = buildCapacity(maxId);
-  const dir = columnDirOf(sqlite.name);
+  const dir = inMemory ? null : columnDirOf(sqlite.name);
   const types = before ? columnTypes(before) : Object.fromEntries(FACT_VARIABLES.map((k) => [k, "Float32Array" as const]));
   const keys = chooseOnDisk(capacity, types, dir);
-  return allocate(capacity, capacity, keys.length > 0 ? { dir: dir!, keys } : undefined);
+  return allocate(capacity, capacity, keys.length > 0 ? { dir: dir!, keys, types } : undefined);
 }
 
 /** A build's end: the column files written out, and more columns to files if the guess kept too many in memory. */
-function finishBuild(sqlite: Database.Database, f: SlabFacts, logger?: Logger): SlabFacts {
+function finishBuild(sqlite: Database.Database, f: SlabFacts, inMemory: boolean, logger?: Logger): SlabFacts {
   endBuild(f);
-  return toDiskAsBudgeted(sqlite, f, logger);
+  return inMemory ? f : toDiskAsBudgeted(sqlite, f, logger);
 }
 
-function build(sqlite: Database.Database, before: SlabFacts | null, logger?: Logger): SlabFacts {
+/** Said when a build's column files fail (a full disk): the build is made again with every column in memory. */
+const inMemoryAgain = (err: unknown, logger?: Logger) =>
+  logger?.warn({ err }, "report cache: the condition columns' files could not be written; the slab data are read again into memory");
+
+function build(sqlite: Database.Database, before: SlabFacts | null, logger?: Logger, inMemory = false): SlabFacts {
   const maxId = maxIdOf(sqlite);
   // Ids only grow (slab rows are never deleted), so the highest id bounds the row count.
-  const f = allocateForBuild(sqlite, maxId, before);
+  const f = allocateForBuild(sqlite, maxId, before, inMemory);
   try {
     for (const r of sqlite.prepare(`select ${SELECT_COLUMNS} from slab_conditions order by slab_id`).raw().iterate() as IterableIterator<FactRow>) {
       put(f, f.size++, r);
     }
-    return finishBuild(sqlite, f, logger);
+    return finishBuild(sqlite, f, inMemory, logger);
   } catch (err) {
     closeDisk(f);
-    throw err;
+    if (!(err instanceof ColumnFileError) || inMemory) throw err;
+    inMemoryAgain(err, logger);
+    return build(sqlite, before, logger, true);
   }
 }
 
@@ -266,15 +272,18 @@ async function buildInSlices(
   stopped: () => boolean,
   before: SlabFacts | null,
   logger?: Logger,
+  inMemory = false,
 ): Promise<SlabFacts> {
   const maxId = maxIdOf(sqlite);
-  const f = allocateForBuild(sqlite, maxId, before);
+  const f = allocateForBuild(sqlite, maxId, before, inMemory);
   try {
-    return await fillInSlices(sqlite, f, w, sliceMs, stopped, maxId, logger);
+    return await fillInSlices(sqlite, f, w, sliceMs, stopped, maxId, inMemory, logger);
   } catch (err) {
     // Stopped or failed: the files made for it go.
     closeDisk(f);
-    throw err;
+    if (!(err instanceof ColumnFileError) || inMemory) throw err;
+    inMemoryAgain(err, logger);
+    return buildInSlices(sqlite, w, sliceMs, stopped, before, logger, true);
   }
 }
 
@@ -285,6 +294,7 @@ async function fillInSlices(
   sliceMs: number,
   stopped: () => boolean,
   maxId: number,
+  inMemory: boolean,
   logger?: Logger,
 ): Promise<SlabFacts> {
   const PAGE = 512;
@@ -305,7 +315,7 @@ async function fillInSlices(
       if (got) last = rows[got - 1]![0]!;
     } while (got === PAGE && performance.now() - t < sliceMs);
     w.done = last;
-    if (got < PAGE) return finishBuild(sqlite, f, logger);
+    if (got < PAGE) return finishBuild(sqlite, f, inMemory, logger);
     await nextTurn();
     if (stopped()) throw new Error("stopped");
   }
@@ -373,18 +383,25 @@ export function slabFacts(db: Db): SlabFacts {
     s.version++;
     return f;
   }
-  if (s.dirty.size > 0) {
-    try {
-      patch(sqlite, s, s.facts);
-    } catch (err) {
-      // Half a patch (a column file that could not be written) is not current: read everything again.
-      s.background?.logger?.error({ err }, "report cache: changed slabs could not be applied; the slab data are read again");
-      s.dirtyAll = true;
-      s.dirty.clear();
-      return slabFacts(db);
-    }
-  }
+  if (!patched(sqlite, s, s.facts)) return slabFacts(db);
   return s.facts;
+}
+
+/**
+ * The recorded changes applied to the facts; false when that failed (a column file that could not
+ * be written): half a patch is not current, so everything is read again (dirtyAll).
+ */
+function patched(sqlite: Database.Database, s: State, f: SlabFacts): boolean {
+  if (s.dirty.size === 0) return true;
+  try {
+    patch(sqlite, s, f);
+    return true;
+  } catch (err) {
+    s.background?.logger?.error({ err }, "report cache: changed slabs could not be applied; the slab data are read again");
+    s.dirtyAll = true;
+    s.dirty.clear();
+    return false;
+  }
 }
 
 /** Starts loading the facts in the background (from the snapshot first when `fromSnapshot`). */
@@ -541,7 +558,7 @@ export function startReportCache(db: Db, opts: ReportCacheOptions): ReportCacheH
   const save = async (fingerprintVersion?: number): Promise<"written" | "unchanged" | "not ready"> => {
     if (!bg.snapshotFile || bg.writing) return "not ready";
     if (s.warming || !s.facts || s.dirtyAll) return "not ready";
-    if (s.dirty.size > 0) patch(sqlite, s, s.facts);
+    if (!patched(sqlite, s, s.facts)) return "not ready";
     if (s.version === bg.savedVersion) return "unchanged";
     const version = s.version;
     const t = performance.now();

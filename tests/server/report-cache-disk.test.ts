@@ -9,6 +9,7 @@
  * with every value of one condition moved off its grid so that a Float64 column is among them.
  */
 import { spawnSync } from "node:child_process";
+import { once } from "node:events";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
@@ -24,7 +25,9 @@ import {
 } from "@shared/api/reports";
 import {
   allocate,
+  closeDisk,
   eachPiece,
+  endBuild,
   ensureCapacity,
   exactColumn,
   FACT_VARIABLES,
@@ -39,6 +42,7 @@ import {
   configureColumnMemory,
   configurePieces,
   DEFAULT_COLUMNS_MB,
+  failColumnWritesAfter,
   removeStaleColumnFiles,
   withDiskBatch,
 } from "../../server/services/report-cache-disk";
@@ -58,6 +62,7 @@ import {
   startScreeningHelpers,
   stopScreeningHelpers,
 } from "../../server/services/reports/screening-threads";
+import type { ReportThread } from "../../server/services/report-thread";
 import { buildConfoundedPlant } from "../helpers/confounded-plant";
 import { createTestApp, type TestApp } from "../helpers/test-app";
 
@@ -323,6 +328,26 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     fs.rmSync(path.dirname(file), { recursive: true, force: true });
   });
 
+  it("when a build's column files cannot be written (a full disk), then the build is made again with every column in memory, with the same answers", () => {
+    configureScreeningThreads({ threads: 0 });
+    rebuilt(1_000_000);
+    const expected = answers();
+    configureColumnMemory(0, null);
+    // The fourth write to a column file fails: a piece part-way through the build.
+    failColumnWritesAfter(3);
+    try {
+      slabFactsChanged(t.db);
+      const f = slabFacts(t.db);
+      expect(Object.keys(f.disk)).toEqual([]);
+      expect(Object.keys(f.vars)).toHaveLength(FACT_VARIABLES.length);
+    } finally {
+      failColumnWritesAfter(null);
+    }
+    expect(openColumnFiles()).toEqual([]);
+    const got = answers();
+    for (const [name] of REPORTS) expect(got[name], name).toBe(expected[name]);
+  });
+
   it("when a snapshot is written from columns in files, then it reads back to the same bytes, into memory or into files", async () => {
     const sqlite = t.db.$client;
     const inMemory = rebuilt(1_000_000);
@@ -343,6 +368,7 @@ describe("condition columns kept in files beyond REPORT_COLUMNS_MB", () => {
     const backOnDisk = await readSnapshot(sqlite, file, { capacityFor: (n) => n + 10, diskDir: path.dirname(file) });
     expect(Object.keys(backOnDisk.facts!.disk)).toHaveLength(FACT_VARIABLES.length);
     for (const k of FACT_VARIABLES) expect(bytesOf(backOnDisk.facts!, k), k).toBe(expected[k]);
+    closeDisk(backOnDisk.facts);
     expect(fs.readdirSync(path.dirname(file))).toEqual(["plant.db.report-cache"]);
     fs.rmSync(path.dirname(file), { recursive: true, force: true });
   });
@@ -375,6 +401,27 @@ describe("which condition columns stay in memory", () => {
     expect(chooseOnDisk(rows, types, "/d", 14)).toEqual(full.slice(1));
     // 5 MB: the first five grid columns only.
     expect(chooseOnDisk(rows, types, "/d", 5)).toEqual([...grid.slice(5), ...full]);
+  });
+
+  it("when a build appending to a file meets a value off the grid after pieces have gone out, then the file is rewritten as Float64 and the build goes on appending", () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), "strandsight-disk-"));
+    configurePieces(2);
+    try {
+      const k = FACT_VARIABLES[0]!;
+      const f = allocate(8, 10, { dir, keys: [k] });
+      expect(f.disk[k]!.type).toBe("Float32Array");
+      const row = (id: number, v: number | null): FactRow => [id, 1_700_000_000_000, 1, 1, 1, 1, 0, 1, 25, id, ...FACT_VARIABLES.map(() => v)];
+      const values = [1.5, 2.25, null, 3.5, 4.75, 0.1 + 0.2, 6.5, 7.25];
+      values.forEach((v, id) => put(f, f.size++, row(id + 1, v)));
+      endBuild(f);
+      expect(f.disk[k]!.type).toBe("Float64Array");
+      expect(f.disk[k]!.tail).toBeUndefined();
+      expect([...exactColumn(f, k)]).toEqual(values.map((v) => v ?? NaN));
+      closeDisk(f);
+    } finally {
+      configurePieces();
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
   });
 
   it("when a process that ended left a column file behind, then the next start removes it, and leaves a running process's alone", () => {
@@ -424,4 +471,36 @@ describe("which condition columns stay in memory", () => {
     expect(fs.readdirSync(dir)).toEqual([]);
     fs.rmSync(dir, { recursive: true, force: true });
   });
+});
+
+describe("the report thread's column files", () => {
+  it("when the report thread dies with its columns in files, then its files are closed, and the new thread's reports give the same answer", async () => {
+    const app = await createTestApp({ scale: 0.05, env: { REPORT_COLUMNS_MB: "0" } });
+    let closed = false;
+    try {
+      const thread = app.app.locals.reports as ReportThread;
+      const quality = await app.agentFor("quality");
+      const report = "/api/reports/rate-by-variable?variable=superheat_c&defectType=SLG";
+      // Besides any this file's own facts hold.
+      const before = openColumnFiles().length;
+      const threadFiles = () => openColumnFiles().length - before;
+      const first = await quality.get(report);
+      expect(first.status).toBe(200);
+      expect(threadFiles()).toBe(FACT_VARIABLES.length);
+      const restarted = once(thread.events, "restarted");
+      await thread.kill();
+      await restarted;
+      // Closed with the thread (Node closes the descriptors a thread opened when it ends).
+      expect(threadFiles()).toBe(0);
+      const again = await quality.get(report);
+      expect(again.status).toBe(200);
+      expect(JSON.stringify(again.body)).toBe(JSON.stringify(first.body));
+      expect(threadFiles()).toBe(FACT_VARIABLES.length);
+      await app.close();
+      closed = true;
+      expect(threadFiles()).toBe(0);
+    } finally {
+      if (!closed) await app.close();
+    }
+  }, 60_000);
 });
