@@ -32,6 +32,7 @@ import {
   readWhole,
   writeValue,
   type DiskColumn,
+  type DiskType,
 } from "./report-cache-disk";
 
 export type IdColumn = Uint8Array | Uint16Array | Int32Array;
@@ -89,11 +90,7 @@ export const sharedColumn = <T>(type: ColumnType<T>, length: number): T => new t
  * in `dir` as the rows are written (a build of a plant beyond the memory set aside for them); one
  * whose file cannot be made stays in memory.
  */
-export function allocate(
-  capacity: number,
-  maxId: number,
-  toDisk?: { dir: string; keys: string[]; types?: Record<string, "Float32Array" | "Float64Array"> },
-): SlabFacts {
+export function allocate(capacity: number, maxId: number, toDisk?: { dir: string; keys: string[]; types?: Record<string, DiskType> }): SlabFacts {
   const vars: Record<string, ValueColumn> = {};
   const disk: Record<string, DiskColumn> = {};
   const planned = new Set(toDisk?.keys ?? []);
@@ -332,7 +329,7 @@ export function factsBytes(f: SlabFacts): number {
 export const diskBytes = (f: SlabFacts) => Object.values(f.disk).reduce((s, d) => s + f.size * (d.type === "Float32Array" ? 4 : 8), 0);
 
 /** The type each variable's column has, in memory or in its file. */
-export function columnTypes(f: SlabFacts): Record<string, "Float32Array" | "Float64Array"> {
+export function columnTypes(f: SlabFacts): Record<string, DiskType> {
   return Object.fromEntries(FACT_VARIABLES.map((k) => [k, f.disk[k] ? f.disk[k].type : f.vars[k] instanceof Float32Array ? "Float32Array" : "Float64Array"]));
 }
 

@@ -59,6 +59,9 @@ export function configureColumnMemory(mb: number, dir?: string | null) {
 export const columnMemoryMb = () => budgetMb;
 
 const bytesOf = (type: DiskType) => (type === "Float32Array" ? 4 : 8);
+/** A new zeroed array of the file's type. */
+const arrayOf = (type: DiskType, length: number): Float32Array | Float64Array =>
+  type === "Float32Array" ? new Float32Array(length) : new Float64Array(length);
 
 /** Rows of a piece (2 MB of Float64). */
 export const PIECE_ROWS = 262_144;
@@ -172,15 +175,24 @@ export function writeAt(fd: number, bytes: Uint8Array, position: number) {
   }
 }
 
-/** Reads all of `into` from `position`; false when the file ends first. */
-export function readAt(fd: number, into: Uint8Array, position: number): boolean {
+/** Reads `into` from `position` up to the file's end: the bytes read. */
+function readInto(fd: number, into: Uint8Array, position: number): number {
   let done = 0;
   while (done < into.length) {
     const n = fs.readSync(fd, into, done, into.length - done, position + done);
-    if (n === 0) return false;
+    if (n === 0) break;
     done += n;
   }
-  return true;
+  return done;
+}
+
+/** Reads all of `into` from `position`; false when the file ends first. */
+export const readAt = (fd: number, into: Uint8Array, position: number): boolean => readInto(fd, into, position) === into.length;
+
+/** Reads `out` from row `from` on; rows past the file's end (never written) read 0, as in a new column in memory. */
+function readRows(d: DiskColumn, out: Float32Array | Float64Array, from: number) {
+  const bytes = new Uint8Array(out.buffer, out.byteOffset, out.byteLength);
+  bytes.fill(0, readInto(d.fd, bytes, from * out.BYTES_PER_ELEMENT));
 }
 
 /** Writes a whole column's first `rows` values to a new file. */
@@ -242,7 +254,7 @@ export function newAppendedColumn(dir: string, type: DiskType): DiskColumn {
 
 /** Rows from `from` on are appended to the file through a waiting piece (a column rewritten as Float64 mid-build). */
 export function appendFrom(d: DiskColumn, from: number): DiskColumn {
-  d.tail = { from, n: 0, buf: d.type === "Float32Array" ? new Float32Array(pieceRows) : new Float64Array(pieceRows) };
+  d.tail = { from, n: 0, buf: arrayOf(d.type, pieceRows) };
   return d;
 }
 
@@ -259,19 +271,17 @@ function flushOne(d: DiskColumn, held: { at: number[]; v: number[] }, rows: numb
   const order = Array.from({ length: n }, (_, k) => k).sort((a, b) => p.at[a]! - p.at[b]! || a - b);
   let runs = 1;
   for (let k = 1; k < n; k++) if (p.at[order[k]!]! > p.at[order[k - 1]!]! + 1) runs++;
-  const Type = d.type === "Float32Array" ? Float32Array : Float64Array;
   if (runs > WHOLE_FROM_RUNS) {
-    const used = Math.max(rows, p.at[order[n - 1]!]! + 1);
-    const col = d.type === "Float32Array" ? new Float32Array(used) : new Float64Array(used);
-    readUpTo(d, col, used);
+    // (Nothing is held for it any more: readWhole applies nothing twice.)
+    const col = readWhole(d, Math.max(rows, p.at[order[n - 1]!]! + 1));
     for (const k of order) col[p.at[k]!] = p.v[k]!;
-    writeAt(d.fd, new Uint8Array(col.buffer, 0, used * col.BYTES_PER_ELEMENT), 0);
+    writeAt(d.fd, new Uint8Array(col.buffer), 0);
   } else {
     for (let k = 0; k < n;) {
       const from = p.at[order[k]!]!;
       let end = k + 1;
       while (end < n && p.at[order[end]!]! <= p.at[order[end - 1]!]! + 1) end++;
-      const run = new Type(p.at[order[end - 1]!]! - from + 1);
+      const run = arrayOf(d.type, p.at[order[end - 1]!]! - from + 1);
       for (let j = k; j < end; j++) run[p.at[order[j]!]! - from] = p.v[order[j]!]!;
       writeAt(d.fd, new Uint8Array(run.buffer), from * run.BYTES_PER_ELEMENT);
       k = end;
@@ -312,21 +322,9 @@ export function withDiskBatch<T>(rows: () => number, fn: () => T): T {
 /** The file's first `rows` values read into a new array of its type (rows past its end read as 0). */
 export function readWhole(d: DiskColumn, rows: number): Float32Array | Float64Array {
   flushDiskWrites(d, rows);
-  const out = d.type === "Float32Array" ? new Float32Array(rows) : new Float64Array(rows);
-  readUpTo(d, out, rows);
+  const out = arrayOf(d.type, rows);
+  readRows(d, out, 0);
   return out;
-}
-
-function readUpTo(d: DiskColumn, out: Float32Array | Float64Array, rows: number) {
-  const bytes = new Uint8Array(out.buffer, out.byteOffset, rows * out.BYTES_PER_ELEMENT);
-  let done = 0;
-  while (done < bytes.length) {
-    const n = fs.readSync(d.fd, bytes, done, bytes.length - done, done);
-    if (n === 0) break;
-    done += n;
-  }
-  // Past the file's end: rows never written, 0 as in a new column in memory.
-  bytes.fill(0, done);
 }
 
 /**
@@ -335,19 +333,11 @@ function readUpTo(d: DiskColumn, out: Float32Array | Float64Array, rows: number)
  */
 export function eachDiskPiece(d: DiskColumn, rows: number, use: (values: Float32Array | Float64Array, from: number, to: number) => void) {
   flushDiskWrites(d, rows);
-  const piece = d.type === "Float32Array" ? new Float32Array(Math.min(rows, pieceRows)) : new Float64Array(Math.min(rows, pieceRows));
+  const piece = arrayOf(d.type, Math.min(rows, pieceRows));
   for (let from = 0; from < rows; from += pieceRows) {
     const to = Math.min(rows, from + pieceRows);
     const view = piece.subarray(0, to - from);
-    const bytes = new Uint8Array(view.buffer, 0, view.byteLength);
-    let done = 0;
-    while (done < bytes.length) {
-      const n = fs.readSync(d.fd, bytes, done, bytes.length - done, from * view.BYTES_PER_ELEMENT + done);
-      if (n === 0) break;
-      done += n;
-    }
-    // Past the file's end: rows never written, 0 as in a new column in memory.
-    bytes.fill(0, done);
+    readRows(d, view, from);
     use(view, from, to);
   }
 }
