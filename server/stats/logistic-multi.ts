@@ -474,6 +474,28 @@ function collapseByPattern(
   return { rep: rep.subarray(0, patterns), s: s.subarray(0, patterns), n: n.subarray(0, patterns), rows: patterns, patternOf };
 }
 
+/** The caller's grouping (SlabColumns.grouped), checked on the first rows as collapseByPattern checks a pattern. */
+function callersGrouping(g: NonNullable<SlabColumns["grouped"]>, used: Int32Array, terms: TermColumn[], vouched: boolean) {
+  const rows = g.rep.length;
+  if (!vouched) throw new Error("logisticRegressionColumns: a caller's grouping needs rows vouched complete, one slab each");
+  if (g.s.length !== rows || g.n.length !== rows || g.patternOf.length !== used.length)
+    throw new Error("logisticRegressionColumns: a caller's grouping of another length than its rows");
+  const nums = terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values);
+  const cats = terms.filter((t) => t.kind === "categorical").map((t) => (t as { codes: ArrayLike<number> }).codes);
+  const checked = Math.min(used.length, 1000);
+  for (let u = 0; u < checked; u++) {
+    const i = used[u]!;
+    const r = g.rep[g.patternOf[u]!];
+    if (r === undefined) throw new Error("logisticRegressionColumns: a caller's pattern outside its patterns");
+    for (const v of nums) if (v[r] !== v[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a numeric term");
+    for (const c of cats) if (c[r] !== c[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a categorical term");
+  }
+  let slabs = 0;
+  for (let r = 0; r < rows; r++) slabs += g.n[r]!;
+  if (slabs !== used.length) throw new Error("logisticRegressionColumns: a caller's grouping that does not hold every row once");
+  return { ...g, rows };
+}
+
 /** Dense ids 0 … G − 1 for the heats of the used rows (a typed lookup for integer ids, a map otherwise). */
 function clusterIdsOf(used: Int32Array, cluster: ArrayLike<number>) {
   const m = used.length;
@@ -604,6 +626,13 @@ export interface SlabColumns {
    * Every used row must have its number. The sandwich adds up the same heats in the same order.
    */
   clusterIds?: { ids: Int32Array; count: number };
+  /**
+   * The grouping itself, made by the caller in a pass of its own over `rows` (vouched complete with
+   * `rowsComplete`): per pattern its first row, affected and slabs summed in row order (one slab per
+   * row), and per used row its pattern (patterns numbered in order of first appearance). Exactly
+   * what `pattern` would give, without a pass to build it (checked on the first rows).
+   */
+  grouped?: { rep: Int32Array; s: Float64Array; n: Float64Array; patternOf: Int32Array };
 }
 
 /**
@@ -697,7 +726,11 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   // Every used row needs its heat: checked where the heats are numbered (clusterIdsOf).
   if (seKind === "cluster" && !data.cluster && !data.clusterIds) throw new Error("logisticRegressionColumns: cluster-robust SEs need the heat of every row");
   // From here on a row is a pattern of equal values (its slabs summed), or a single input row.
-  const grouped = options.group === false ? null : collapse(used, terms, data.affected, data.slabs, data.pattern, data.patternCount, data.patternOffset);
+  const grouped = data.grouped
+    ? callersGrouping(data.grouped, used, terms, vouched && data.slabs === undefined)
+    : options.group === false
+      ? null
+      : collapse(used, terms, data.affected, data.slabs, data.pattern, data.patternCount, data.patternOffset);
   const rowsN = grouped ? grouped.rows : m;
   const ix = grouped ? grouped.rep : used;
   let S: Float64Array;

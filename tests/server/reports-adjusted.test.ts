@@ -531,7 +531,7 @@ describe("the fit itself", () => {
     expect(() => logisticRegressionColumns({ ...data, pattern: new Int32Array(n) }, { se: "cluster" })).toThrow(/differ/);
   });
 
-  it("when the caller vouches its rows complete and numbers the heats once for many fits, then the fit is the same to the last bit, and a vouched row without a value is refused", () => {
+  it("when the caller vouches its rows complete, numbers the heats once for many fits or groups the rows itself, then the fit is the same to the last bit, and a vouched row without a value is refused", () => {
     const n = slabs.length;
     const speed = Float64Array.from(slabs, (s, i) => (i % 7 === 3 ? NaN : s.speed));
     const fam = Int32Array.from(slabs, (s) => (s.family === "LC" ? 0 : 1));
@@ -606,6 +606,32 @@ describe("the fit itself", () => {
     expect(offsetFit.terms.map((t) => [t.coef, t.se])).toEqual(counted.terms.map((t) => [t.coef, t.se]));
     expect(offsetFit.clusters).toBe(counted.clusters);
     expect(() => fitShifted(1_000)).toThrow(/outside the caller's count/);
+    // The grouping itself made by the caller (as screening's pass makes it): patterns in order of
+    // first appearance, affected and slabs summed in row order. The whole fit equal to the one from
+    // pattern ids; a grouping that mixes rows, misses one, or comes with unvouched rows is refused.
+    const firstRow = new Map<number, number>();
+    const rep: number[] = [];
+    const sums: number[] = [];
+    const counts: number[] = [];
+    const patternOf = Int32Array.from(complete, (i) => {
+      let r = firstRow.get(pattern[i]!);
+      if (r === undefined) {
+        firstRow.set(pattern[i]!, (r = rep.length));
+        rep.push(i);
+        sums.push(0);
+        counts.push(0);
+      }
+      sums[r]! += y[i]!;
+      counts[r]!++;
+      return r;
+    });
+    const grouped = { rep: Int32Array.from(rep), s: Float64Array.from(sums), n: Float64Array.from(counts), patternOf };
+    const fitGrouped = (g: typeof grouped, rowsComplete = true) =>
+      logisticRegressionColumns({ terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete, grouped: g }, { se: "cluster" });
+    expect(fitGrouped(grouped)).toEqual(counted);
+    expect(() => fitGrouped({ ...grouped, patternOf: patternOf.map((r) => (r + 1) % rep.length) })).toThrow(/differ/);
+    expect(() => fitGrouped({ ...grouped, n: grouped.n.map((c, r) => (r === 0 ? c - 1 : c)) })).toThrow(/every row once/);
+    expect(() => fitGrouped(grouped, false)).toThrow(/vouched complete/);
   });
 
   it("when a fit has more than 100,000 distinct rows (its first steps taken on a sample), then it equals the one-variable fit of logistic.ts (checked on the Challenger data)", () => {

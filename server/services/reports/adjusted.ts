@@ -17,6 +17,7 @@ import {
   logisticRegressionColumns,
   oddsRatioForStep,
   type MultiLogisticFit,
+  type SlabColumns,
   type TermColumn,
   type TermEstimate,
 } from "../../stats/logistic-multi";
@@ -54,7 +55,8 @@ export interface Grid {
   width: number;
 }
 
-const MAX_PATTERNS = 2_000_000;
+/** The widest joint grid grouped by a lookup; wider ones are hashed (or not grouped). */
+export const MAX_PATTERNS = 2_000_000;
 
 function gridOf(s: Scanned, t: ModelTerm): Grid | null {
   if (t.grid !== undefined) return t.grid;
@@ -303,8 +305,16 @@ function heatNumbering(s: Scanned) {
  * Fits the terms on the rows with the facts' heats as clusters. `complete`: the rows come from
  * completeRows for these terms (or a subset of them), so the fit uses them without checking each.
  */
-export function fitTerms(s: Scanned, terms: ModelTerm[], rows: Int32Array, se: SeMethod, likelihoodRatio = false, complete = false): MultiLogisticFit {
-  const pattern = patternIds(s, terms, rows);
+export function fitTerms(
+  s: Scanned,
+  terms: ModelTerm[],
+  rows: Int32Array,
+  se: SeMethod,
+  likelihoodRatio = false,
+  complete = false,
+  grouped?: SlabColumns["grouped"],
+): MultiLogisticFit {
+  const pattern = grouped ? undefined : patternIds(s, terms, rows);
   // Refitting the model without each variable (the LR test) only where it is valid: with model-based SEs.
   return logisticRegressionColumns(
     {
@@ -317,6 +327,7 @@ export function fitTerms(s: Scanned, terms: ModelTerm[], rows: Int32Array, se: S
       patternCount: pattern?.count,
       patternOffset: pattern?.offset,
       rowsComplete: complete,
+      grouped,
     },
     { se, likelihoodRatio: likelihoodRatio && se === "model" },
   );
