@@ -1,11 +1,13 @@
 /**
  * Issue 14, screening's one pass per condition (server/services/reports/screening.ts, numericPass):
- * besides Welch's sums it groups the slabs with a value by their grid key for the crude fit, and
- * counts them per key for the interquartile range, instead of the fit grouping them again
- * (collapseByPattern) and the quartiles counting them again. The crude odds ratio per IQR, its
- * interval and p, and the IQR must be those of the fit's own grouping and of sorted values, to the
- * last digit: checked for every condition, crude and adjusted, and for a condition whose grid keys
- * spread wider than a lookup holds (one heat's mold level fluctuation far off the scale), where the fit hashes.
+ * besides Welch's sums it groups the slabs with a value by their grid key for the crude fit (and
+ * counts them per key for the interquartile range), and by their grid key and the levels of the
+ * categorical adjustment terms for the adjusted fit, instead of the fits grouping them again
+ * (collapseByPattern) and the quartiles counting them again. The crude and adjusted odds ratios per
+ * IQR, their intervals, z and p, and the IQR must be those of the fits' own grouping and of sorted
+ * values, to the last digit: checked for every condition, crude and adjusted (one and two
+ * categorical terms), and for a condition whose grid keys spread wider than a lookup holds (one
+ * heat's mold level fluctuation far off the scale), where the fit hashes.
  *
  * On a real SQLite file: the confounded plant of 1,000 heats × 8 slabs (tests/helpers/confounded-plant.ts).
  */
@@ -13,7 +15,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { screeningQuerySchema } from "@shared/api/reports";
 import { VARIABLES } from "@shared/variables";
 import { slabFactsChanged } from "../../server/services/report-cache";
-import { completeRows, fitTerms, groupedValues, MAX_PATTERNS, numericTerm } from "../../server/services/reports/adjusted";
+import { completeRows, fitTerms, groupedValues, MAX_PATTERNS, modelTerms, numericTerm } from "../../server/services/reports/adjusted";
 import { buildScope, finite, scan } from "../../server/services/reports/scope";
 import { screening } from "../../server/services/reports/screening";
 import { configureScreeningThreads, screeningThreadSettings } from "../../server/services/reports/screening-threads";
@@ -53,7 +55,10 @@ function iqrOfSorted(values: Float64Array, rows: Int32Array) {
   return Number((quantile(0.75) - quantile(0.25)).toPrecision(12));
 }
 
-/** The crude row of one condition the long way: its values, its complete slabs, the fit's own grouping. */
+/**
+ * The crude row of one condition the long way: its values, its complete slabs, the fit's own
+ * grouping; and the adjusted test's numbers where the screening adjusts (for categorical terms).
+ */
 function crudeTheLongWay(query: Record<string, string>, key: string) {
   const q = screeningQuerySchema.parse(query);
   const sc = scan(t.db, buildScope(t.db, q));
@@ -62,6 +67,10 @@ function crudeTheLongWay(query: Record<string, string>, key: string) {
   const { rows } = completeRows(sc, [term]);
   const fit = fitTerms(sc, [term], rows, q.se, false, true);
   const iqr = iqrOfSorted(values, rows);
+  const others = modelTerms(t.db, sc, q.adjustFor).filter((x) => x.key !== key);
+  const adjustedFit = q.adjustFor.length > 0 ? fitTerms(sc, [term, ...others], rows, q.se, true, true) : null;
+  const at = adjustedFit?.terms.find((x) => x.variable === term.label);
+  const adjustedOr = at && at.coef !== null && at.se !== null && iqr > 0 ? oddsRatioForStep(at.coef, at.se, iqr) : null;
   const c = fit.terms[0]!;
   // As screening words it: no odds ratio per IQR where the fit has no slope or the IQR is 0.
   const or = c.coef === null || c.se === null || !(iqr > 0) ? null : oddsRatioForStep(c.coef, c.se, iqr);
@@ -70,6 +79,15 @@ function crudeTheLongWay(query: Record<string, string>, key: string) {
     crude: or
       ? { oddsRatioPerIqr: finite(or.oddsRatio ?? NaN), ciLower: finite(or.ciLower ?? NaN), ciUpper: finite(or.ciUpper ?? NaN), p: finite(c.p ?? NaN) }
       : { oddsRatioPerIqr: null, ciLower: null, ciUpper: null, p: c.p ?? null },
+    adjusted: adjustedOr
+      ? {
+          oddsRatioPerIqr: finite(adjustedOr.oddsRatio ?? NaN),
+          ciLower: finite(adjustedOr.ciLower ?? NaN),
+          ciUpper: finite(adjustedOr.ciUpper ?? NaN),
+          p: finite(at!.p ?? NaN),
+          statistic: finite(at!.z ?? NaN),
+        }
+      : null,
     keySpan: (() => {
       let lo = Infinity;
       let hi = -Infinity;
@@ -87,19 +105,31 @@ describe("screening's one pass per condition", () => {
   for (const [name, query] of [
     ["crude", { defectType: "SLG", adjustFor: "none" }],
     ["adjusted for the grade family", { defectType: "SLG" }],
+    ["adjusted for the grade family and the strand, with model-based SEs", { defectType: "SLG", adjustFor: "grade_family,strand", se: "model" }],
     ["with model-based SEs", { defectType: "SLG", adjustFor: "none", se: "model" }],
   ] as const) {
-    it(`when a screening is ${name}, then every condition's IQR and crude odds ratio per IQR equal the fit's own grouping and sorted quartiles, digit for digit`, () => {
+    it(`when a screening is ${name}, then every condition's IQR and crude (and adjusted) odds ratio per IQR equal the fits' own grouping and sorted quartiles, digit for digit`, () => {
       const out = screening(t.db, screeningQuerySchema.parse(query));
       let compared = 0;
+      let adjustedCompared = 0;
       for (const v of VARIABLES) {
         const row = out.variables.find((r) => r.key === v.key)!;
         if (!row.testable) continue;
         const long = crudeTheLongWay(query, v.key);
         expect({ key: v.key, iqr: row.iqr, crude: row.crude }).toEqual({ key: v.key, iqr: long.iqr, crude: long.crude });
+        if (long.adjusted) {
+          const a = row.adjusted!;
+          expect({ key: v.key, oddsRatioPerIqr: a.oddsRatioPerIqr, ciLower: a.ciLower, ciUpper: a.ciUpper, p: a.p, statistic: a.statistic }).toEqual({
+            key: v.key,
+            ...long.adjusted,
+          });
+          adjustedCompared++;
+        } else expect({ key: v.key, or: row.adjusted?.oddsRatioPerIqr ?? null }).toEqual({ key: v.key, or: null });
         compared++;
       }
       expect(compared).toBeGreaterThanOrEqual(10);
+      if (name.startsWith("adjusted")) expect(adjustedCompared).toBeGreaterThanOrEqual(10);
+      else expect(adjustedCompared).toBe(0);
       const wide = out.variables.find((r) => r.key === WIDE)!;
       expect(wide.crude?.oddsRatioPerIqr).toBeGreaterThan(0);
     });
