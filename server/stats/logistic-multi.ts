@@ -474,6 +474,10 @@ function collapseByPattern(
   return { rep: rep.subarray(0, patterns), s: s.subarray(0, patterns), n: n.subarray(0, patterns), rows: patterns, patternOf };
 }
 
+/** Fits made on a caller's grouping since the process started (tests: that a report's own grouping is the one used). */
+let fitsOnCallersGrouping = 0;
+export const fitsOnCallersGroupingSoFar = () => fitsOnCallersGrouping;
+
 /** The caller's grouping (SlabColumns.grouped), checked on the first rows as collapseByPattern checks a pattern. */
 function callersGrouping(g: NonNullable<SlabColumns["grouped"]>, used: Int32Array, terms: TermColumn[], vouched: boolean) {
   const rows = g.rep.length;
@@ -493,6 +497,7 @@ function callersGrouping(g: NonNullable<SlabColumns["grouped"]>, used: Int32Arra
   let slabs = 0;
   for (let r = 0; r < rows; r++) slabs += g.n[r]!;
   if (slabs !== used.length) throw new Error("logisticRegressionColumns: a caller's grouping that does not hold every row once");
+  fitsOnCallersGrouping++;
   return { ...g, rows };
 }
 

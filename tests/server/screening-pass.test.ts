@@ -19,7 +19,7 @@ import { completeRows, fitTerms, groupedValues, MAX_PATTERNS, modelTerms, numeri
 import { buildScope, finite, scan } from "../../server/services/reports/scope";
 import { screening } from "../../server/services/reports/screening";
 import { configureScreeningThreads, screeningThreadSettings } from "../../server/services/reports/screening-threads";
-import { oddsRatioForStep } from "../../server/stats/logistic-multi";
+import { fitsOnCallersGroupingSoFar, oddsRatioForStep } from "../../server/stats/logistic-multi";
 import { buildConfoundedPlant } from "../helpers/confounded-plant";
 import { createTestApp, type TestApp } from "../helpers/test-app";
 
@@ -28,12 +28,22 @@ const threads = screeningThreadSettings();
 /** Mold level fluctuation has two decimals (grid step 0.001 mm): 5,000 mm is 5 million steps from the rest. */
 const WIDE = "mold_level_sd_mm";
 const FAR = 5_000;
+/**
+ * Argon flow has one decimal (grid step 0.01 NL/min): 10,000 NL/min is a million steps from the rest,
+ * few enough for the crude fit to group by lookup, too many beside the grade family's and the
+ * strand's levels (the adjusted fit hashes).
+ */
+const HALF_WIDE = "argon_nl_min";
+const HALF_FAR = 10_000;
 
 beforeAll(async () => {
   t = await createTestApp({ beforeStart: (db) => buildConfoundedPlant(db, { heats: 1000 }) });
   const first = "(select min(id) from heats)";
   t.db.$client.prepare(`update heats set ${WIDE} = ${FAR} where id = ${first}`).run();
   t.db.$client.prepare(`update slab_conditions set ${WIDE} = ${FAR} where heat_id = ${first}`).run();
+  const last = "(select max(id) from heats)";
+  t.db.$client.prepare(`update heats set ${HALF_WIDE} = ${HALF_FAR} where id = ${last}`).run();
+  t.db.$client.prepare(`update slab_conditions set ${HALF_WIDE} = ${HALF_FAR} where heat_id = ${last}`).run();
   slabFactsChanged(t.db);
   configureScreeningThreads({ threads: 0 });
 }, 120_000);
@@ -109,7 +119,9 @@ describe("screening's one pass per condition", () => {
     ["with model-based SEs", { defectType: "SLG", adjustFor: "none", se: "model" }],
   ] as const) {
     it(`when a screening is ${name}, then every condition's IQR and crude (and adjusted) odds ratio per IQR equal the fits' own grouping and sorted quartiles, digit for digit`, () => {
+      const before = fitsOnCallersGroupingSoFar();
       const out = screening(t.db, screeningQuerySchema.parse(query));
+      const onPassGrouping = fitsOnCallersGroupingSoFar() - before;
       let compared = 0;
       let adjustedCompared = 0;
       for (const v of VARIABLES) {
@@ -130,6 +142,10 @@ describe("screening's one pass per condition", () => {
       expect(compared).toBeGreaterThanOrEqual(10);
       if (name.startsWith("adjusted")) expect(adjustedCompared).toBeGreaterThanOrEqual(10);
       else expect(adjustedCompared).toBe(0);
+      // The pass's groupings are the ones the fits used: every crude fit but the wide condition's, and
+      // (adjusting) every adjusted fit but the wide and the half-wide conditions'.
+      const testable = VARIABLES.filter((v) => out.variables.find((r) => r.key === v.key)!.testable).length;
+      expect(onPassGrouping).toBe(name.startsWith("adjusted") ? 2 * testable - 3 : testable - 1);
       const wide = out.variables.find((r) => r.key === WIDE)!;
       expect(wide.crude?.oddsRatioPerIqr).toBeGreaterThan(0);
     });

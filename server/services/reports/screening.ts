@@ -220,7 +220,8 @@ interface Walk {
 function widenLookup(g: Grouping, lo: number, hi: number): boolean {
   const span = hi - lo + 1;
   if (span * g.stride > MAX_PATTERNS || !(Math.abs(lo) < 2 ** 31 && Math.abs(hi) < 2 ** 31)) return false;
-  const room = Math.min(2 * span + 64, Math.floor(MAX_PATTERNS / g.stride) + 128);
+  // At most as many entries as a fit groups by lookup (span ≤ that, checked above): a wide stride never asks for more.
+  const room = Math.max(span, Math.min(2 * span + 64, Math.floor(MAX_PATTERNS / g.stride)));
   const base = lo - Math.floor((room - span) / 2);
   const lookup = new Int32Array(room * g.stride).fill(-1);
   const old = g.lookup;
