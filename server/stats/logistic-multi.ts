@@ -340,6 +340,20 @@ function irls(d: Design, act: Active, start: Float64Array, maxIterations: number
  * summed over the slabs in one pass (`patternOf` says which row each slab went to), which gives the
  * same sandwich. Gives up (null) when nearly every slab is distinct, where grouping only costs time.
  */
+/** The terms' value and code columns, numeric and categorical apart. */
+function termArrays(terms: TermColumn[]) {
+  return {
+    nums: terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values),
+    cats: terms.filter((t) => t.kind === "categorical").map((t) => (t as { codes: ArrayLike<number> }).codes),
+  };
+}
+
+/** Refuses a caller's grouping that puts rows r and i, of different values, in one pattern. */
+function checkSamePattern(nums: ArrayLike<number>[], cats: ArrayLike<number>[], r: number, i: number) {
+  for (const v of nums) if (v[r] !== v[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a numeric term");
+  for (const c of cats) if (c[r] !== c[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a categorical term");
+}
+
 function collapse(
   used: Int32Array,
   terms: TermColumn[],
@@ -351,8 +365,7 @@ function collapse(
 ) {
   const m = used.length;
   if (m < 2) return null;
-  const nums = terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values);
-  const cats = terms.filter((t) => t.kind === "categorical").map((t) => (t as { codes: ArrayLike<number> }).codes);
+  const { nums, cats } = termArrays(terms);
   if (pattern) return collapseByPattern(used, nums, cats, affected, slabs, pattern, patternCount, patternOffset);
   let size = 1;
   while (size < 2 * m) size <<= 1;
@@ -448,11 +461,7 @@ function collapseByPattern(
     const pid = lookup[id];
     if (pid === undefined) throw new Error("logisticRegressionColumns: a pattern id outside the caller's count");
     if (pid < 0) lookup[id] = u;
-    else {
-      const r = used[pid]!;
-      for (const v of nums) if (v[r] !== v[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a numeric term");
-      for (const c of cats) if (c[r] !== c[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a categorical term");
-    }
+    else checkSamePattern(nums, cats, used[pid]!, i);
   }
   if (checked > 0) lookup.fill(-1);
   for (let u = 0; u < m; u++) {
@@ -484,15 +493,12 @@ function callersGrouping(g: NonNullable<SlabColumns["grouped"]>, used: Int32Arra
   if (!vouched) throw new Error("logisticRegressionColumns: a caller's grouping needs rows vouched complete, one slab each");
   if (g.s.length !== rows || g.n.length !== rows || g.patternOf.length !== used.length)
     throw new Error("logisticRegressionColumns: a caller's grouping of another length than its rows");
-  const nums = terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values);
-  const cats = terms.filter((t) => t.kind === "categorical").map((t) => (t as { codes: ArrayLike<number> }).codes);
+  const { nums, cats } = termArrays(terms);
   const checked = Math.min(used.length, 1000);
   for (let u = 0; u < checked; u++) {
-    const i = used[u]!;
     const r = g.rep[g.patternOf[u]!];
     if (r === undefined) throw new Error("logisticRegressionColumns: a caller's pattern outside its patterns");
-    for (const v of nums) if (v[r] !== v[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a numeric term");
-    for (const c of cats) if (c[r] !== c[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a categorical term");
+    checkSamePattern(nums, cats, r, used[u]!);
   }
   let slabs = 0;
   for (let r = 0; r < rows; r++) slabs += g.n[r]!;

@@ -22,19 +22,6 @@ export interface Spread {
   reason: string | null;
 }
 
-/**
- * The running sums of a RunningSpread, for a hot loop that carries them in locals with `add`'s
- * arithmetic (count 1) and hands them back (`RunningSpread.fromSums`): screening's pass over millions
- * of slabs, where a call per value kept the sums in memory instead of registers.
- */
-export interface WelfordSums {
-  n: number;
-  mean: number;
-  m2: number;
-  min: number;
-  max: number;
-}
-
 /** Accumulates values (each with a count) in one pass; `result()` may be called at any time. */
 export class RunningSpread {
   private n = 0;
@@ -55,16 +42,6 @@ export class RunningSpread {
     if (value < this.min) this.min = value;
     if (value > this.max) this.max = value;
     return this;
-  }
-
-  static fromSums(sums: WelfordSums): RunningSpread {
-    const acc = new RunningSpread();
-    acc.n = sums.n;
-    acc.mean = sums.mean;
-    acc.m2 = sums.m2;
-    acc.min = sums.min;
-    acc.max = sums.max;
-    return acc;
   }
 
   /** Combines another accumulator into this one (Chan, Golub & LeVeque 1983, pairwise update). */

@@ -59,9 +59,7 @@ export interface Grid {
 export const MAX_PATTERNS = 2_000_000;
 
 /** A term's grid over the scope's slabs, worked out once per term (null where the fit must hash). */
-export const termGrid = (s: Scanned, t: ModelTerm): Grid | null => gridOf(s, t);
-
-function gridOf(s: Scanned, t: ModelTerm): Grid | null {
+export function gridOf(s: Scanned, t: ModelTerm): Grid | null {
   if (t.grid !== undefined) return t.grid;
   const keys = new Int32Array(s.facts.size);
   if (t.kind === "numeric") {
