@@ -341,6 +341,12 @@ function irls(d: Design, act: Active, start: Float64Array, maxIterations: number
  * same sandwich. Gives up (null) when nearly every slab is distinct, where grouping only costs time.
  */
 /** The terms' value and code columns, numeric and categorical apart. */
+/**
+ * Rows a fit checks of what a caller vouches for (rows complete, a grouping, pattern ids): the first
+ * this many. A caller that writes a term's values only where the fit reads them writes these too.
+ */
+export const ROWS_CHECKED = 1000;
+
 function termArrays(terms: TermColumn[]) {
   return {
     nums: terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values),
@@ -454,7 +460,7 @@ function collapseByPattern(
   const s = scratch("collapse.s", Float64Array, room);
   const n = scratch("collapse.n", Float64Array, room);
   let patterns = 0;
-  const checked = Math.min(m, 1000);
+  const checked = Math.min(m, ROWS_CHECKED);
   for (let u = 0; u < checked; u++) {
     const i = used[u]!;
     const id = pattern[i]! - offset;
@@ -494,7 +500,7 @@ function callersGrouping(g: NonNullable<SlabColumns["grouped"]>, used: Int32Arra
   if (g.s.length !== rows || g.n.length !== rows || g.patternOf.length !== used.length)
     throw new Error("logisticRegressionColumns: a caller's grouping of another length than its rows");
   const { nums, cats } = termArrays(terms);
-  const checked = Math.min(used.length, 1000);
+  const checked = Math.min(used.length, ROWS_CHECKED);
   for (let u = 0; u < checked; u++) {
     const r = g.rep[g.patternOf[u]!];
     if (r === undefined) throw new Error("logisticRegressionColumns: a caller's pattern outside its patterns");
@@ -774,7 +780,7 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     else for (let u = 0; u < M; u++) picked[u] = u;
   }
   /** 0 complete, 1 a term without a value, 2 no slabs in the row. */
-  const checkedRows = vouched ? Math.min(M, 1000) : M;
+  const checkedRows = vouched ? Math.min(M, ROWS_CHECKED) : M;
   const state = scratch("fit.state", Uint8Array, checkedRows, 0);
   if (data.slabs) for (let u = 0; u < checkedRows; u++) if (!(data.slabs[picked[u]!]! > 0)) state[u] = 2;
   for (const t of terms) {

@@ -7,22 +7,24 @@
  *
  * Each call site names its own slot. What it gets is valid until the same slot is asked for again
  * (the next call of that site), so only arrays that do not outlive their call may come from here;
- * the contents are left over from the last use unless `fill` is given. Everything is synchronous, so
+ * the contents are left over from the last use unless `fill` is given. `shared`: on shared memory
+ * (helper threads read it where it is: screening-threads.ts). Everything is synchronous, so
  * no two calls share a slot at once. The buffers are let go a while after the last use, so a quiet
  * server does not keep them. Written here because it is a dozen lines; no library does just this.
  */
-type Ctor<T> = { new (buffer: ArrayBuffer, byteOffset: number, length: number): T; BYTES_PER_ELEMENT: number };
+type Ctor<T> = { new (buffer: ArrayBufferLike, byteOffset: number, length: number): T; BYTES_PER_ELEMENT: number };
 
-const pools = new Map<string, ArrayBuffer>();
+const pools = new Map<string, ArrayBuffer | SharedArrayBuffer>();
 const RELEASE_AFTER_MS = 30_000;
 let release: NodeJS.Timeout | null = null;
 
-export function scratch<T extends Int32Array | Uint8Array | Float64Array>(slot: string, type: Ctor<T>, length: number, fill?: number): T {
+export function scratch<T extends Int32Array | Uint8Array | Float64Array>(slot: string, type: Ctor<T>, length: number, fill?: number, shared = false): T {
   const bytes = length * type.BYTES_PER_ELEMENT;
   let buf = pools.get(slot);
-  if (!buf || buf.byteLength < bytes) {
+  if (!buf || buf.byteLength < bytes || (shared && !(buf instanceof SharedArrayBuffer))) {
     // A little more than asked, so a slightly longer next call does not allocate again.
-    buf = new ArrayBuffer(Math.ceil((bytes * 1.125) / 8) * 8);
+    const size = Math.ceil((bytes * 1.125) / 8) * 8;
+    buf = shared ? new SharedArrayBuffer(size) : new ArrayBuffer(size);
     pools.set(slot, buf);
   }
   if (release) release.refresh();

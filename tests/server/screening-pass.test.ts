@@ -17,9 +17,10 @@ import { VARIABLES } from "@shared/variables";
 import { slabFactsChanged } from "../../server/services/report-cache";
 import { completeRows, fitTerms, groupedValues, MAX_PATTERNS, modelTerms, numericTerm } from "../../server/services/reports/adjusted";
 import { buildScope, finite, scan } from "../../server/services/reports/scope";
-import { screening } from "../../server/services/reports/screening";
+import { numericPass, screening } from "../../server/services/reports/screening";
 import { configureScreeningThreads, screeningThreadSettings } from "../../server/services/reports/screening-threads";
-import { fitsOnCallersGroupingSoFar, oddsRatioForStep } from "../../server/stats/logistic-multi";
+import { fitsOnCallersGroupingSoFar, oddsRatioForStep, ROWS_CHECKED } from "../../server/stats/logistic-multi";
+import { scratch } from "../../server/stats/scratch";
 import { buildConfoundedPlant } from "../helpers/confounded-plant";
 import { createTestApp, type TestApp } from "../helpers/test-app";
 
@@ -158,5 +159,55 @@ describe("screening's one pass per condition", () => {
     expect(row.iqr).toBe(long.iqr);
     expect(row.crude).toEqual(long.crude);
     expect(row.crude!.oddsRatioPerIqr).toBeGreaterThan(0);
+  });
+
+  /**
+   * The pass writes a slab's value and grid key only where a fit on its groupings reads them (each
+   * pattern's first slab, and the first rows a fit checks), not for every slab: 68 MB per thread at
+   * five million slabs. Where a fit reads every slab (it groups them itself), every slab's.
+   */
+  describe("what the pass writes", () => {
+    const UNTOUCHED = -7;
+    function written(key: string, everyValue: boolean) {
+      const sc = scan(t.db, buildScope(t.db, screeningQuerySchema.parse({ defectType: "SLG", adjustFor: "none" })));
+      const size = sc.facts.size;
+      // The pass's own working arrays (scratch.ts slots), marked before it runs.
+      scratch("screening.values", Float64Array, size).fill(UNTOUCHED);
+      scratch("screening.keys", Int32Array, size).fill(UNTOUCHED);
+      const pass = numericPass(sc, key, null, everyValue);
+      const values = scratch("screening.values", Float64Array, size);
+      const keys = scratch("screening.keys", Int32Array, size);
+      const at: number[] = [];
+      for (let i = 0; i < size; i++) if (values[i] !== UNTOUCHED) at.push(i);
+      return { sc, pass, values, keys, at, truth: groupedValues(sc, key), scale: numericTerm(key, groupedValues(sc, key)).scale! };
+    }
+
+    it("when every slab's value is not needed, then only the patterns' first slabs and the first rows are written, with the grouped value and its key", () => {
+      const { sc, pass, values, keys, at, truth, scale } = written("superheat_c", false);
+      const reps = [...pass.grouped!.rep];
+      const expected = [...new Set([...pass.withValue.subarray(0, ROWS_CHECKED), ...reps])].sort((a, b) => a - b);
+      expect(at).toEqual(expected);
+      expect(reps.length).toBeGreaterThan(20);
+      expect(at.length).toBeLessThan(sc.rows.length / 2);
+      for (const i of at) {
+        expect(values[i]).toBe(truth[i]);
+        expect(keys[i]).toBe(Math.round(truth[i]! * scale));
+      }
+    });
+
+    it("when a fit reads every slab, then every slab in scope is written (no value: NaN)", () => {
+      const { sc, values, keys, at, truth, scale } = written("superheat_c", true);
+      expect(at).toEqual([...sc.rows]);
+      for (const i of sc.rows) {
+        expect(Object.is(values[i], truth[i])).toBe(true);
+        if (Number.isFinite(truth[i])) expect(keys[i]).toBe(Math.round(truth[i]! * scale));
+      }
+    });
+
+    it("when a condition's keys spread wider than the pass groups by, then the pass runs again and writes every slab", () => {
+      const { sc, pass, at } = written(WIDE, false);
+      expect(pass.grouped).toBeUndefined();
+      expect(at).toEqual([...sc.rows]);
+    });
   });
 });

@@ -13,7 +13,7 @@ import { speakingIn } from "../../lib/words";
 import type { SlabFacts } from "../report-cache-columns";
 import { screenItem, screeningContext, type ScreeningContext } from "./screening";
 import { markDefaulted } from "../report-thread-protocol";
-import { forgetHeatNumbering } from "./adjusted";
+import { adoptHeatNumbering, forgetHeatNumbering, heatNumberingsSoFar } from "./adjusted";
 import { FINISHED, NEXT, type HelperData, type HelperJob, type HelperResult } from "./screening-threads";
 
 const data = workerData as HelperData;
@@ -37,6 +37,7 @@ function connection(file: string) {
 function work(job: HelperJob) {
   const facts: SlabFacts = { ...job.facts, indexOf: new Int32Array(0) };
   const sc = { facts, rows: job.rows, affected: job.affected };
+  if (job.heats) adoptHeatNumbering(sc, job.heats);
   markDefaulted(job.query, job.defaulted);
   let ctx: ScreeningContext | null = null;
   const { control } = job;
@@ -45,11 +46,12 @@ function work(job: HelperJob) {
       const i = Atomics.add(control, NEXT, 1);
       if (i >= job.items) break;
       let result: HelperResult;
+      const numberings = heatNumberingsSoFar();
       try {
         const row = speakingIn(job.language, () =>
           screenItem((ctx ??= screeningContext(connection(job.databaseFile), sc, job.query as ScreeningContext["q"])), i),
         );
-        result = { job: job.job, index: i, row };
+        result = { job: job.job, index: i, row, heatNumberings: heatNumberingsSoFar() - numberings };
       } catch (err) {
         result = { job: job.job, index: i, failed: String((err as Error)?.message ?? err) };
       }

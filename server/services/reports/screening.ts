@@ -14,7 +14,7 @@ import { termConflict, type Screening, type screeningQuerySchema } from "@shared
 import { CATEGORICAL_LABELS, rawInputsOf, VARIABLES, type CategoricalKey } from "@shared/variables";
 import type { Db } from "../../db/client";
 import { chiSquareIndependence } from "../../stats/contingency";
-import { oddsRatioForStep, type MultiLogisticFit, type SlabColumns } from "../../stats/logistic-multi";
+import { oddsRatioForStep, ROWS_CHECKED, type MultiLogisticFit, type SlabColumns } from "../../stats/logistic-multi";
 import { benjaminiHochberg } from "../../stats/multiple";
 import { welchTTest } from "../../stats/regression";
 import { RunningSpread } from "../../stats/spread";
@@ -24,6 +24,7 @@ import {
   gridFromKeys,
   gridOf,
   groupingMethod,
+  heatNumbering,
   MAX_PATTERNS,
   modelTerms,
   numericTerm,
@@ -117,11 +118,19 @@ function interquartileRange(
  * per screening at five million slabs: 3.1 → 2.6 s crude, 6.3 → 5.0 s adjusted; Welford's division
  * per slab is hidden behind the pass's other work). The value and key arrays are reused
  * from variable to variable (scratch.ts): a term lives only while its variable is tested.
+ *
+ * A fit on the pass's grouping reads a slab's value and key only at each pattern's first slab and
+ * at the first rows it checks (ROWS_CHECKED), so unless `everyValue` (the adjusted fit groups the
+ * slabs itself: a condition among the adjustment terms) only those are written: the pages of the
+ * two arrays that nothing writes are never the process's memory (measured at five million slabs:
+ * 60–110 MB less at a screening's peak, one thread or two; the same time). Where a grouping came
+ * out too wide for the pass after all, the pass runs again writing every slab's.
  */
-function numericPass(sc: Scanned, key: string, levels: Grid[] | null) {
+export function numericPass(sc: Scanned, key: string, levels: Grid[] | null, everyValue: boolean): Pass {
   const { facts: f, rows } = sc;
   const stride = levels?.reduce((w, g) => w * Math.max(1, g.width), 1) ?? 0;
   const w: Walk = {
+    everyValue,
     rows,
     aff: sc.affected,
     scale: VARIABLE_SCALE[key]!,
@@ -149,15 +158,31 @@ function numericPass(sc: Scanned, key: string, levels: Grid[] | null) {
     g?.on && grid && grid.width * g.stride <= MAX_PATTERNS
       ? { rep: g.rep.subarray(0, g.patterns), s: g.s.subarray(0, g.patterns), n: g.count.subarray(0, g.patterns), patternOf: g.patternOf.subarray(0, n) }
       : undefined;
+  const grouped = done(w.crude);
+  const groupedAdjusted = done(w.adjusted);
+  // Values and keys written only where the fits read them, but a fit groups the slabs itself after
+  // all (keys spread wider than it groups by): the pass again, writing every slab's. (No slab with
+  // a value: nothing is fitted.)
+  if (!everyValue && n > 0 && (!grouped || (levels && !groupedAdjusted))) return numericPass(sc, key, levels, true);
   return {
     hitAcc: w.hitAcc,
     soundAcc: w.soundAcc,
     term: numericTerm(key, values, grid),
     withValue: withValue.subarray(0, n),
     grid: n > 0 ? { keys, lo, hi } : undefined,
-    grouped: done(w.crude),
-    groupedAdjusted: done(w.adjusted),
+    grouped,
+    groupedAdjusted,
   };
+}
+
+interface Pass {
+  hitAcc: RunningSpread;
+  soundAcc: RunningSpread;
+  term: ModelTerm;
+  withValue: Int32Array;
+  grid: { keys: Int32Array; lo: number; hi: number } | undefined;
+  grouped: Grouped | undefined;
+  groupedAdjusted: Grouped | undefined;
 }
 
 /**
@@ -193,6 +218,11 @@ const newGrouping = (stride: number, patternOf: Int32Array): Grouping => ({
 
 /** numericPass's state from piece to piece. */
 interface Walk {
+  /**
+   * Every slab's value and key written (a fit reads them all); else only those the fits on the
+   * pass's groupings read: each pattern's first slab, and the first rows, which a fit checks.
+   */
+  everyValue: boolean;
   rows: Int32Array;
   aff: Uint8Array;
   scale: number;
@@ -232,10 +262,11 @@ function widenLookup(g: Grouping, lo: number, hi: number): boolean {
   return true;
 }
 
-/** Slab i (affected a), the n-th with a value, into its pattern at lookup[at]: a new one if none yet. */
-function addToPattern(g: Grouping, at: number, i: number, a: number, n: number) {
+/** Slab i (affected a), the n-th with a value, into its pattern at lookup[at]: a new one if none yet (then true). */
+function addToPattern(g: Grouping, at: number, i: number, a: number, n: number): boolean {
   let pid = g.lookup[at]!;
-  if (pid < 0) {
+  const fresh = pid < 0;
+  if (fresh) {
     if (g.patterns === g.rep.length) {
       const grow = <T extends Int32Array | Float64Array>(x: T): T => {
         const y = new (x.constructor as { new (n: number): T })(x.length * 2);
@@ -254,17 +285,18 @@ function addToPattern(g: Grouping, at: number, i: number, a: number, n: number) 
   g.s[pid]! += a;
   g.count[pid]! += 1;
   g.patternOf[n] = pid;
+  return fresh;
 }
 
-/** Slab i into grouping g by its grid key k and level (the room widened first when k is outside it). */
-function group(g: Grouping, k: number, level: number, lo: number, hi: number, i: number, a: number, n: number) {
+/** Slab i into grouping g by its grid key k and level (the room widened first when k is outside it); true when it is a pattern's first. */
+function group(g: Grouping, k: number, level: number, lo: number, hi: number, i: number, a: number, n: number): boolean {
   let at = k - g.base;
   if (!(at >= 0 && at * g.stride < g.lookup.length)) {
     g.on = widenLookup(g, lo, hi);
-    if (!g.on) return;
+    if (!g.on) return false;
     at = k - g.base;
   }
-  addToPattern(g, at * g.stride + level, i, a, n);
+  return addToPattern(g, at * g.stride + level, i, a, n);
 }
 
 /**
@@ -272,7 +304,7 @@ function group(g: Grouping, k: number, level: number, lo: number, hi: number, i:
  * for speed.
  */
 function walkPiece(w: Walk, col: ArrayLike<number>, from: number, to: number) {
-  const { rows, aff, scale, values, keys, withValue, hitAcc, soundAcc, crude, adjusted, levels } = w;
+  const { everyValue, rows, aff, scale, values, keys, withValue, hitAcc, soundAcc, crude, adjusted, levels } = w;
   const onGrid = col instanceof Float32Array;
   // One adjustment term (the common case: the grade family) read directly, more through the loop.
   const only = levels.length === 1 ? levels[0]!.keys : null;
@@ -282,7 +314,7 @@ function walkPiece(w: Walk, col: ArrayLike<number>, from: number, to: number) {
     if (i >= to) break;
     const r = col[i - from]!;
     if (r !== r) {
-      values[i] = NaN;
+      if (everyValue) values[i] = NaN;
       continue;
     }
     const g = Math.round(r * scale) / scale;
@@ -290,18 +322,22 @@ function walkPiece(w: Walk, col: ArrayLike<number>, from: number, to: number) {
     // Means and variances per outcome computed stably (Welford; a value that is not a finite number is passed over).
     if (a) hitAcc.add(onGrid ? g : r);
     else soundAcc.add(onGrid ? g : r);
-    values[i] = g;
+    if (everyValue) values[i] = g;
     if (!Number.isFinite(g)) continue;
     const k = Math.round(g * scale);
-    keys[i] = k;
     if (k < lo) lo = k;
     if (k > hi) hi = k;
-    if (crude.on) group(crude, k, 0, lo, hi, i, a, n);
+    let first = everyValue || n < ROWS_CHECKED;
+    if (crude.on && group(crude, k, 0, lo, hi, i, a, n)) first = true;
     if (adjusted?.on) {
       let level = 0;
       if (only) level = only[i]! - levels[0]!.offset;
       else for (const l of levels) level = level * l.width + (l.keys[i]! - l.offset);
-      group(adjusted, k, level, lo, hi, i, a, n);
+      if (group(adjusted, k, level, lo, hi, i, a, n)) first = true;
+    }
+    if (first) {
+      values[i] = g;
+      keys[i] = k;
     }
     withValue[n++] = i;
   }
@@ -419,7 +455,9 @@ function screenNumeric(ctx: ScreeningContext, v: (typeof VARIABLES)[number]): Ro
   // The categorical adjustment terms' levels (when every term beside this one is categorical): the pass groups by them too.
   const others = adjust.filter((t) => t.key !== v.key);
   const levels = adjusting && others.length > 0 && others.every((t) => t.kind === "categorical") ? others.map((t) => gridOf(sc, t)) : null;
-  const pass = numericPass(sc, v.key, levels?.every((g) => g !== null) ? (levels as Grid[]) : null);
+  const byLevels = levels?.every((g) => g !== null) ? (levels as Grid[]) : null;
+  // The adjusted fit reads every slab's value unless it fits on the pass's grouping by those levels.
+  const pass = numericPass(sc, v.key, byLevels, adjusting && others.length > 0 && !byLevels);
   const { hitAcc, soundAcc, term, withValue } = pass;
   const hit = hitAcc.result();
   const sound = soundAcc.result();
@@ -548,7 +586,9 @@ export function screening(db: Db, q: Query): Screening {
   const { adjust, adjusting, affected } = ctx;
   const slabs = sc.rows.length;
   // The tests are independent of each other: shared out over the processor's cores when the slabs are many.
-  const out: Row[] = shareOut(ctx, SCREENING_ITEMS, (i) => screenItem(ctx, i));
+  // The heats are numbered once, here, for every thread's cluster-robust fits.
+  const heats = q.se === "cluster" ? heatNumbering(sc, true) : undefined;
+  const out: Row[] = shareOut({ ...ctx, heats }, SCREENING_ITEMS, (i) => screenItem(ctx, i));
 
   // Benjamini–Hochberg over the tests actually made on raw conditions (derived values are the same hypotheses again).
   const counted = out.filter((v) => v.parent === null && v.derivedFrom.length === 0);
