@@ -513,53 +513,76 @@ function callersGrouping(g: NonNullable<SlabColumns["grouped"]>, used: Int32Arra
   return { ...g, rows };
 }
 
+/** A heat's last slab has passed: its score u into the meat, and u zeroed for the next heat. */
+function heatEnds(meat: Float64Array, u: Float64Array, p: number) {
+  addHeatToMeat(meat, u, 0, p);
+  u.fill(0);
+}
+
+/** Heat h's first slab (checked): false when h came before, its slabs not side by side. */
+function heatBegins(h: number, heatSlots: number, seen: Uint8Array): boolean {
+  if (!(h >= 0 && h < heatSlots)) throw new Error("logisticRegressionColumns: a row without a heat");
+  if (seen[h]) return false;
+  seen[h] = 1;
+  return true;
+}
+
+/** One heat's score u[base … base + p) into the meat's lower triangle (meat += u uᵀ). */
+function addHeatToMeat(meat: Float64Array, u: Float64Array, base: number, p: number) {
+  for (let a = 0; a < p; a++) {
+    const ua = u[base + a]!;
+    if (ua === 0) continue;
+    for (let c = 0; c <= a; c++) meat[a * p + c]! += ua * u[base + c]!;
+  }
+}
+
 /**
- * Each heat's score for the cluster sandwich in the reports' common shape (one condition, alone or
- * beside one categorical term `xc`, heats numbered by the caller, one slab per row): u_g = Σ (y − p)
- * and Σ x (y − p) over the heat's slabs in row order, the heats counted in the order they first
- * appear (returns how many). A heat's slabs sit side by side, so its two sums are carried in
- * locals while it lasts: the same additions in the same order as adding into u slab by slab. In a
- * function of its own, so the fit's other paths (which the optimiser sees late) never slow it
- * (measured on five million slabs: 31 → 19 ms per fit).
+ * The meat of the cluster sandwich, Σ_g u_g u_gᵀ, in the reports' common shape (one condition, alone
+ * or beside one categorical term `xc`, heats numbered by the caller, one slab per row), where each
+ * heat's slabs sit side by side (the facts' usual order). A heat's score u_g = Σ (y − p), Σ x (y − p)
+ * (and its level's Σ (y − p)) is carried in locals while the heat lasts and goes into the meat when
+ * its last slab has passed: the same additions in the same order as the general loop's score per
+ * heat and the meat over the heats in order of first appearance, with no score per heat kept (heats ×
+ * terms numbers: 31 MB per fit adjusted for the grade family at five million slabs). In a function
+ * of its own, so the fit's other paths (which the optimiser sees late) never slow it (measured on
+ * five million slabs: 31 → 19 ms per fit; through heatMeatRows' loops a screening takes a fifth
+ * longer). Returns the heats, or −1 as soon as a heat comes back after another (the meat is then
+ * partial: the caller starts again with a score per heat).
  */
-function heatScoresOneNumeric(
+function heatMeatOneNumeric(
   used: Int32Array,
   pre: Int32Array,
   heatSlots: number,
   seen: Uint8Array,
-  order: Int32Array,
   patternOf: Int32Array,
   aff: ArrayLike<number>,
   mu: Float64Array,
   xn: Float64Array,
   xc: Int32Array | null,
-  u: Float64Array,
   p: number,
   oneNum: number,
+  meat: Float64Array,
 ): number {
+  const u = new Float64Array(p);
   let G = 0;
   // No heat yet (NaN equals no id, so the first row's heat is checked, −1 included).
   let hPrev = NaN;
-  let g = 0;
   let s0 = 0;
   let s1 = 0;
   for (let w = 0; w < used.length; w++) {
     const i = used[w]!;
     const h = pre[i]!;
     if (h !== hPrev) {
-      if (!(h >= 0 && h < heatSlots)) throw new Error("logisticRegressionColumns: a row without a heat");
       if (hPrev >= 0) {
-        u[g] = s0;
-        u[g + oneNum] = s1;
+        u[0] = s0;
+        u[oneNum] = s1;
+        heatEnds(meat, u, p);
       }
-      if (!seen[h]) {
-        seen[h] = 1;
-        order[G++] = h;
-      }
+      if (!heatBegins(h, heatSlots, seen)) return -1;
+      G++;
       hPrev = h;
-      g = h * p;
-      s0 = u[g]!;
-      s1 = u[g + oneNum]!;
+      s0 = 0;
+      s1 = 0;
     }
     const r = patternOf[w]!;
     const resid = aff[i]! - mu[r]!;
@@ -567,13 +590,59 @@ function heatScoresOneNumeric(
     s1 += xn[r]! * resid;
     if (xc !== null) {
       const c = xc[r]!;
-      if (c >= 0) u[g + c]! += resid;
+      if (c >= 0) u[c]! += resid;
     }
   }
   if (hPrev >= 0) {
-    u[g] = s0;
-    u[g + oneNum] = s1;
+    u[0] = s0;
+    u[oneNum] = s1;
+    heatEnds(meat, u, p);
   }
+  return G;
+}
+
+/**
+ * heatMeatOneNumeric for any terms and slabs per row: the general loop's additions, into one heat's
+ * score at a time. The heats, or −1 as soon as a heat comes back after another.
+ */
+function heatMeatRows(
+  used: Int32Array,
+  pre: Int32Array,
+  heatSlots: number,
+  seen: Uint8Array,
+  patternOf: Int32Array | undefined,
+  aff: ArrayLike<number>,
+  sl: ArrayLike<number> | undefined,
+  mu: Float64Array,
+  d: { xn: Float64Array; xc: Int32Array; numCol: Int32Array; kn: number; kc: number },
+  p: number,
+  meat: Float64Array,
+): number {
+  const { xn, xc, numCol, kn, kc } = d;
+  const u = new Float64Array(p);
+  let G = 0;
+  let hPrev = NaN;
+  for (let w = 0; w < used.length; w++) {
+    const i = used[w]!;
+    const h = pre[i]!;
+    if (h !== hPrev) {
+      if (hPrev >= 0) heatEnds(meat, u, p);
+      if (!heatBegins(h, heatSlots, seen)) return -1;
+      G++;
+      hPrev = h;
+    }
+    const r = patternOf === undefined ? w : patternOf[w]!;
+    const resid = aff[i]! - (sl === undefined ? 1 : sl[i]!) * mu[r]!;
+    u[0]! += resid;
+    const rb = r * kn;
+    for (let j = 0; j < kn; j++) u[numCol[j]!]! += xn[rb + j]! * resid;
+    const rc = r * kc;
+    for (let t = 0; t < kc; t++) {
+      const c = xc[rc + t]!;
+      if (c >= 0) u[c]! += resid;
+    }
+  }
+  if (hPrev >= 0) heatEnds(meat, u, p);
   return G;
 }
 
@@ -1114,21 +1183,36 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
     const pre = data.clusterIds?.ids;
     const perRow = pre ? null : clusterIdsOf(used, data.cluster!);
     const heatSlots = pre ? data.clusterIds!.count : perRow!.G;
-    const seen = pre ? scratch("cluster.seen", Uint8Array, heatSlots, 0) : null;
+    let seen = pre ? scratch("cluster.seen", Uint8Array, heatSlots, 0) : null;
     const order = pre ? scratch("cluster.order", Int32Array, heatSlots) : null;
     let G = perRow ? perRow.G : 0;
-    const u = scratch("fit.heatScores", Float64Array, heatSlots * p, 0);
     const patternOf = grouped?.patternOf;
     const aff = data.affected;
     const sl = data.slabs;
     const { xn, xc, numCol } = d;
-    // The reports' common shapes (one condition, alone or beside one categorical term, heats
-    // numbered by the caller, one slab per row) in loops of their own: the same additions in the
+    // The reports' common shape (one condition, alone or beside one categorical term, heats
+    // numbered by the caller, one slab per row) in a loop of its own: the same additions in the
     // same order as the general loop below, without its inner loops (this pass took a quarter to a
-    // third of a screening's time; the loops of their own cut the screening by 5–7 %).
+    // third of a screening's time; the loop of its own cut the screening by 5–7 %).
     const oneNum = kn === 1 && kc <= 1 && pre !== undefined && sl === undefined && patternOf !== undefined ? numCol[0]! : 0;
-    if (oneNum > 0) G = heatScoresOneNumeric(used, pre!, heatSlots, seen!, order!, patternOf!, aff, mu, xn, kc === 1 ? xc : null, u, p, oneNum);
-    for (let w = oneNum > 0 ? m : 0; w < m; w++) {
+    const oneCat = kc === 1 ? xc : null;
+    let meatFlat = new Float64Array(p * p);
+    // With the caller's numbering, and each heat's slabs side by side (the facts' usual order), each
+    // heat's score goes into the meat as the heat ends (heatMeatOneNumeric, heatMeatRows); else a
+    // score per heat is kept (below) and the meat added up from them.
+    const streamed =
+      oneNum > 0
+        ? heatMeatOneNumeric(used, pre!, heatSlots, seen!, patternOf!, aff, mu, xn, oneCat, p, oneNum, meatFlat)
+        : pre
+          ? heatMeatRows(used, pre, heatSlots, seen!, patternOf, aff, sl, mu, d, p, meatFlat)
+          : -1;
+    if (streamed < 0 && pre) {
+      meatFlat = new Float64Array(p * p);
+      seen = scratch("cluster.seen", Uint8Array, heatSlots, 0);
+    }
+    const u = streamed < 0 ? scratch("fit.heatScores", Float64Array, heatSlots * p, 0) : new Float64Array(0);
+    if (streamed >= 0) G = streamed;
+    for (let w = streamed >= 0 ? m : 0; w < m; w++) {
       const i = used[w]!;
       let h: number;
       if (pre) {
@@ -1159,16 +1243,8 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
         deviance: fit.deviance,
         nullDeviance,
       });
-    const meatFlat = new Float64Array(p * p);
     // Each heat with a used row, in the order of first appearance (the caller's numbering may hold more).
-    for (let k = 0; k < G; k++) {
-      const base = (order ? order[k]! : k) * p;
-      for (let a = 0; a < p; a++) {
-        const ua = u[base + a]!;
-        if (ua === 0) continue;
-        for (let c = 0; c <= a; c++) meatFlat[a * p + c]! += ua * u[base + c]!;
-      }
-    }
+    if (streamed < 0) for (let k = 0; k < G; k++) addHeatToMeat(meatFlat, u, (order ? order[k]! : k) * p, p);
     const meat = Array.from({ length: p }, (_, a) => Array.from({ length: p }, (_, c) => (c <= a ? meatFlat[a * p + c]! : meatFlat[c * p + a]!)));
     const cf = factor === "CR1" ? (G / (G - 1)) * ((slabs - 1) / (slabs - p)) : G / (G - 1);
     vFit = congruence(bread, meat).map((row) => row.map((v) => v * cf));

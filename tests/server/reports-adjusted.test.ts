@@ -563,6 +563,45 @@ describe("the fit itself", () => {
     expect({ ...shortcut, notes: [], slabsMissing: 0 }).toEqual({ ...plain, notes: [], slabsMissing: 0 });
     expect(shortcut.terms[0]!.se).toBe(plain.terms[0]!.se);
     expect(shortcut.clusters).toBe(plain.clusters);
+    // Heats in blocks (the facts' usual order): each heat's score goes into the meat as the heat ends
+    // instead of being kept per heat; every number is still the plain fit's.
+    const blockHeat = Int32Array.from(slabs, (s) => s.heat);
+    const blockLookup = new Map<number, number>();
+    const blockIds = Int32Array.from(blockHeat, (h) => {
+      if (!blockLookup.has(h)) blockLookup.set(h, blockLookup.size);
+      return blockLookup.get(h)!;
+    });
+    expect(blockIds.every((id, i) => i === 0 || id === blockIds[i - 1] || id === blockIds[i - 1]! + 1)).toBe(true);
+    const plainBlocks = logisticRegressionColumns({ terms, affected: y, cluster: blockHeat, rows }, { se: "cluster" });
+    const streamed = logisticRegressionColumns(
+      { terms, affected: y, clusterIds: { ids: blockIds, count: blockLookup.size }, rows: complete, rowsComplete: true },
+      { se: "cluster" },
+    );
+    expect({ ...streamed, notes: [], slabsMissing: 0 }).toEqual({ ...plainBlocks, notes: [], slabsMissing: 0 });
+    expect(streamed.clusters).toBeGreaterThan(100);
+    expect(streamed.terms[0]!.se).not.toBe(shortcut.terms[0]!.se);
+    // Other shapes of terms (no condition; a condition beside two categorical terms) take the same
+    // way with heats in blocks, and the way with a score per heat when they are not.
+    const mold = Int32Array.from(slabs, (s) => (s.mold >= 3 ? 1 : 0));
+    for (const shape of [[terms[1]!], [...terms, { name: "mold band", kind: "categorical" as const, codes: mold }]]) {
+      for (const [h, numbered] of [
+        [blockHeat, { ids: blockIds, count: blockLookup.size }],
+        [heat, { ids, count: lookup.size }],
+      ] as const) {
+        const plainShape = logisticRegressionColumns({ terms: shape, affected: y, cluster: h, rows }, { se: "cluster" });
+        const numberedShape = logisticRegressionColumns(
+          { terms: shape, affected: y, clusterIds: numbered, rows: complete, rowsComplete: true },
+          { se: "cluster" },
+        );
+        if (shape.length === 1) {
+          // No condition: the plain fit keeps the slabs without a speed; compared on the same rows.
+          const same = logisticRegressionColumns({ terms: shape, affected: y, cluster: h, rows: complete }, { se: "cluster" });
+          expect(numberedShape).toEqual(same);
+          expect(plainShape.slabs).toBeGreaterThan(same.slabs);
+        } else expect({ ...numberedShape, notes: [], slabsMissing: 0 }).toEqual({ ...plainShape, notes: [], slabsMissing: 0 });
+        expect(numberedShape.terms.every((x) => x.se !== null && x.se > 0)).toBe(true);
+      }
+    }
     expect(() => logisticRegressionColumns({ terms, affected: y, cluster: heat, rows, rowsComplete: true }, { se: "cluster" })).toThrow(/vouched complete/);
     expect(() =>
       logisticRegressionColumns(
