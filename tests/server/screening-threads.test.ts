@@ -73,7 +73,7 @@ function shared(query: Record<string, string>, expected: string, language: "en" 
 }
 
 describe("a screening shared out over helper threads", () => {
-  it("when a screening is shared with a helper, then every query gives the same answer as one thread, character for character, on the caller's numbering of the heats", async () => {
+  it("when a screening is shared with a helper, then every query gives the same answer as one thread, character for character, on the caller's numbering of the heats and grids", async () => {
     configureScreeningThreads({ threads: 1, sharedFrom: 1 });
     await startScreeningHelpers(1);
     for (const [, query] of QUERIES) {
@@ -84,8 +84,9 @@ describe("a screening shared out over helper threads", () => {
       expect(body.variables.filter((v) => v.testable).length).toBeGreaterThan(5);
       const share = shared(query, expected);
       expect(share.byHelpers).toBeGreaterThan(0);
-      // The helper took the caller's numbering of the heats (cluster-robust SEs) instead of making its own.
-      expect(share.heatNumberingsByHelpers).toBe(0);
+      // The helper took the caller's numbering of the heats (cluster-robust SEs) and grids of the
+      // categorical adjustment terms instead of making its own.
+      expect(share.scopeWorkByHelpers).toBe(0);
     }
   }, 120_000);
 

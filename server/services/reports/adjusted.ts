@@ -58,10 +58,13 @@ export interface Grid {
 /** The widest joint grid grouped by a lookup; wider ones are hashed (or not grouped). */
 export const MAX_PATTERNS = 2_000_000;
 
-/** A term's grid over the scope's slabs, worked out once per term (null where the fit must hash). */
-export function gridOf(s: Scanned, t: ModelTerm): Grid | null {
+/**
+ * A term's grid over the scope's slabs, worked out once per term (null where the fit must hash).
+ * `shared`: its keys on shared memory, for a screening's helper threads (they take it as theirs).
+ */
+export function gridOf(s: Scanned, t: ModelTerm, shared = false): Grid | null {
   if (t.grid !== undefined) return t.grid;
-  const keys = new Int32Array(s.facts.size);
+  const keys = shared ? new Int32Array(new SharedArrayBuffer(4 * s.facts.size)) : new Int32Array(s.facts.size);
   if (t.kind === "numeric") {
     const values = (t.column as { values: ArrayLike<number> }).values;
     const scale = t.scale!;
@@ -270,7 +273,7 @@ export function completeRows(s: Scanned, terms: ModelTerm[]) {
   return { rows: out.subarray(0, n), missing: numeric.filter((c) => c.missing > 0).map((c) => ({ key: c.t.key, label: c.t.label, slabs: c.missing })) };
 }
 
-/** Scopes this thread numbered the heats of (a screening's helpers report theirs: tests). */
+/** Heat numberings this thread made (a screening's helpers take the caller's and report any they made themselves: tests). */
 let numberings = 0;
 export const heatNumberingsSoFar = () => numberings;
 

@@ -34,6 +34,16 @@ function connection(file: string) {
   return db;
 }
 
+/** The screening's context, with the caller's grids of the adjustment terms taken as their own. */
+function context(job: HelperJob, sc: ScreeningContext["sc"]): ScreeningContext {
+  const ctx = screeningContext(connection(job.databaseFile), sc, job.query as ScreeningContext["q"]);
+  ctx.adjust.forEach((t, k) => {
+    const grid = job.grids[k];
+    if (grid) t.grid = grid;
+  });
+  return ctx;
+}
+
 function work(job: HelperJob) {
   const facts: SlabFacts = { ...job.facts, indexOf: new Int32Array(0) };
   const sc = { facts, rows: job.rows, affected: job.affected };
@@ -46,12 +56,12 @@ function work(job: HelperJob) {
       const i = Atomics.add(control, NEXT, 1);
       if (i >= job.items) break;
       let result: HelperResult;
-      const numberings = heatNumberingsSoFar();
+      const before = heatNumberingsSoFar();
       try {
-        const row = speakingIn(job.language, () =>
-          screenItem((ctx ??= screeningContext(connection(job.databaseFile), sc, job.query as ScreeningContext["q"])), i),
-        );
-        result = { job: job.job, index: i, row, heatNumberings: heatNumberingsSoFar() - numberings };
+        const row = speakingIn(job.language, () => screenItem((ctx ??= context(job, sc)), i));
+        // Heat numberings and grids of the categorical adjustment terms made here instead of taken from the caller.
+        const ownGrids = ctx!.adjust.filter((t, k) => t.kind === "categorical" && t.grid !== undefined && t.grid !== job.grids[k]).length;
+        result = { job: job.job, index: i, row, scopeWork: heatNumberingsSoFar() - before + ownGrids };
       } catch (err) {
         result = { job: job.job, index: i, failed: String((err as Error)?.message ?? err) };
       }

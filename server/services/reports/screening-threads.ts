@@ -34,6 +34,7 @@ import type { SlabFacts } from "../report-cache-columns";
 import { defaultedKeys } from "../report-thread-protocol";
 import type { Db } from "../../db/client";
 import type { Scanned } from "./scope";
+import type { Grid } from "./adjusted";
 
 /** Slots of the shared control array: the next test to take, and how many tests the helpers have finished. */
 export const NEXT = 0;
@@ -57,12 +58,14 @@ export interface HelperJob {
   affected: Uint8Array;
   /** The caller's numbering of the scope's heats, on shared memory (cluster-robust SEs), else null. */
   heats: { ids: Int32Array; count: number } | null;
+  /** The caller's grids of the adjustment terms (the categorical ones, on shared memory; null for the others). */
+  grids: (Grid | null)[];
   control: Int32Array;
   items: number;
 }
 
-/** A test's row (and the heat numberings the helper made for it: none when it took the caller's), or why it failed. */
-export type HelperResult = { job: number; index: number; row: unknown; heatNumberings: number } | { job: number; index: number; failed: string };
+/** A test's row (and the heat numberings and grids the helper made for it: none when it took the caller's), or why it failed. */
+export type HelperResult = { job: number; index: number; row: unknown; scopeWork: number } | { job: number; index: number; failed: string };
 
 /** By default one helper fewer than the processor's cores, at most three (and see memoryAllows). */
 export const DEFAULT_SCREENING_THREADS = Math.max(0, Math.min(3, os.availableParallelism() - 1));
@@ -206,12 +209,12 @@ export async function startScreeningHelpers(count: number): Promise<void> {
 export interface Share {
   threads: number;
   byHelpers: number;
-  /** Times a helper numbered the scope's heats itself instead of taking the caller's numbering. */
-  heatNumberingsByHelpers: number;
+  /** Heat numberings and categorical adjustment grids the helpers made themselves instead of taking the caller's. */
+  scopeWorkByHelpers: number;
   failedOver: number;
   failures: string[];
 }
-let lastShare: Share = { threads: 1, byHelpers: 0, heatNumberingsByHelpers: 0, failedOver: 0, failures: [] };
+let lastShare: Share = { threads: 1, byHelpers: 0, scopeWorkByHelpers: 0, failedOver: 0, failures: [] };
 /** What the last screening of this thread did (the report thread logs it; tests read it). */
 export const lastScreeningShare = (): Share => ({ ...lastShare, failures: [...lastShare.failures] });
 
@@ -243,7 +246,7 @@ function work<T>(team: Helper[], job: HelperJob, out: T[], done: Uint8Array, own
         } else {
           out[r.index] = r.row as T;
           lastShare.byHelpers++;
-          lastShare.heatNumberingsByHelpers += r.heatNumberings;
+          lastShare.scopeWorkByHelpers += r.scopeWork;
         }
         done[r.index] = 1;
       }
@@ -276,18 +279,22 @@ function work<T>(team: Helper[], job: HelperJob, out: T[], done: Uint8Array, own
  * The `count` tests of a screening, `own(i)` worked here and the rest by helper threads when the scope
  * is large; in the order of i, whoever worked them.
  */
-export function shareOut<T>(ctx: { db: Db; sc: Scanned; q: unknown; heats?: HelperJob["heats"] }, count: number, own: (i: number) => T): T[] {
+export function shareOut<T>(
+  ctx: { db: Db; sc: Scanned; q: unknown; heats?: HelperJob["heats"]; grids?: HelperJob["grids"] },
+  count: number,
+  own: (i: number) => T,
+): T[] {
   const out = new Array<T>(count);
   const file = ctx.db.$client.name;
   const { indexOf: _byId, ...facts } = ctx.sc.facts;
   // Every column the facts hold, and the scope's rows and flags: one not on shared memory would be copied to each helper.
-  const arrays = ([...Object.values(facts.vars), ...Object.values(facts), ctx.sc.rows, ctx.sc.affected, ctx.heats?.ids] as unknown[]).filter((a) =>
-    ArrayBuffer.isView(a),
-  );
+  const arrays = (
+    [...Object.values(facts.vars), ...Object.values(facts), ctx.sc.rows, ctx.sc.affected, ctx.heats?.ids, ...(ctx.grids ?? []).map((g) => g?.keys)] as unknown[]
+  ).filter((a) => ArrayBuffer.isView(a));
   const shareable = arrays.every((a) => a.buffer instanceof SharedArrayBuffer);
   // An in-memory (or temporary) database cannot be opened by a helper.
   const wanted = ctx.sc.rows.length >= Math.max(1, settings.sharedFrom) && !ctx.db.$client.memory && shareable ? helpersFor(facts.size) : 0;
-  lastShare = { threads: 1, byHelpers: 0, heatNumberingsByHelpers: 0, failedOver: 0, failures };
+  lastShare = { threads: 1, byHelpers: 0, scopeWorkByHelpers: 0, failedOver: 0, failures };
   failures = [];
   if (wanted === 0) {
     for (let i = 0; i < count; i++) out[i] = own(i);
@@ -306,6 +313,7 @@ export function shareOut<T>(ctx: { db: Db; sc: Scanned; q: unknown; heats?: Help
     rows: ctx.sc.rows,
     affected: ctx.sc.affected,
     heats: ctx.heats ?? null,
+    grids: ctx.grids ?? [],
     control,
     items: count,
   };

@@ -586,9 +586,10 @@ export function screening(db: Db, q: Query): Screening {
   const { adjust, adjusting, affected } = ctx;
   const slabs = sc.rows.length;
   // The tests are independent of each other: shared out over the processor's cores when the slabs are many.
-  // The heats are numbered once, here, for every thread's cluster-robust fits.
+  // The heats are numbered, and the categorical adjustment terms' grids made, once, here, for every thread's fits.
   const heats = q.se === "cluster" ? heatNumbering(sc, true) : undefined;
-  const out: Row[] = shareOut({ ...ctx, heats }, SCREENING_ITEMS, (i) => screenItem(ctx, i));
+  const grids = adjust.map((t) => (t.kind === "categorical" ? gridOf(sc, t, true) : null));
+  const out: Row[] = shareOut({ ...ctx, heats, grids }, SCREENING_ITEMS, (i) => screenItem(ctx, i));
 
   // Benjamini–Hochberg over the tests actually made on raw conditions (derived values are the same hypotheses again).
   const counted = out.filter((v) => v.parent === null && v.derivedFrom.length === 0);
