@@ -71,9 +71,11 @@ export type HelperResult = { job: number; index: number; row: unknown; scopeWork
 export const DEFAULT_SCREENING_THREADS = Math.max(0, Math.min(3, os.availableParallelism() - 1));
 
 /**
- * Working memory of one thread while it screens, per slab of the facts: its value, key, row,
- * pattern and heat arrays and an adjustment term's codes (measured: 62 bytes per slab at a million
- * slabs, about 300 MB at five million).
+ * Working memory of one thread while it screens, per slab of the facts: its row and pattern arrays,
+ * the pages of its value and key arrays it writes, and its own heap (measured: 62 bytes per slab at
+ * a million slabs before a helper took the caller's heat numbering and grids and the pass wrote only
+ * the values the fits read; a helper now adds 40–49 bytes per slab at five million, 200–245 MB).
+ * Kept at the earlier figure as the bound.
  */
 export const BYTES_PER_SLAB = 64;
 
