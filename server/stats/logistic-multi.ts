@@ -334,19 +334,12 @@ function irls(d: Design, act: Active, start: Float64Array, maxIterations: number
 }
 
 /**
- * Slabs with equal values of every term become one binomial row: the likelihood and its derivatives
- * are sums over slabs, so the fit is the same. Heat-level values make a heat's slabs share their
- * values, so real plants shrink several-fold. Each heat's score for the cluster-robust SEs is then
- * summed over the slabs in one pass (`patternOf` says which row each slab went to), which gives the
- * same sandwich. Gives up (null) when nearly every slab is distinct, where grouping only costs time.
- */
-/** The terms' value and code columns, numeric and categorical apart. */
-/**
  * Rows a fit checks of what a caller vouches for (rows complete, a grouping, pattern ids): the first
  * this many. A caller that writes a term's values only where the fit reads them writes these too.
  */
 export const ROWS_CHECKED = 1000;
 
+/** The terms' value and code columns, numeric and categorical apart. */
 function termArrays(terms: TermColumn[]) {
   return {
     nums: terms.filter((t) => t.kind === "numeric").map((t) => (t as { values: ArrayLike<number> }).values),
@@ -360,6 +353,13 @@ function checkSamePattern(nums: ArrayLike<number>[], cats: ArrayLike<number>[], 
   for (const c of cats) if (c[r] !== c[i]) throw new Error("logisticRegressionColumns: rows of one pattern differ in a categorical term");
 }
 
+/**
+ * Slabs with equal values of every term become one binomial row: the likelihood and its derivatives
+ * are sums over slabs, so the fit is the same. Heat-level values make a heat's slabs share their
+ * values, so real plants shrink several-fold. Each heat's score for the cluster-robust SEs is then
+ * summed over the slabs in one pass (`patternOf` says which row each slab went to), which gives the
+ * same sandwich. Gives up (null) when nearly every slab is distinct, where grouping only costs time.
+ */
 function collapse(
   used: Int32Array,
   terms: TermColumn[],
@@ -512,6 +512,10 @@ function callersGrouping(g: NonNullable<SlabColumns["grouped"]>, used: Int32Arra
   fitsOnCallersGrouping++;
   return { ...g, rows };
 }
+
+/** Cluster-robust fits whose meat was added up heat by heat as each heat ended (tests: that the way is taken). */
+let meatsByHeat = 0;
+export const meatsByHeatSoFar = () => meatsByHeat;
 
 /** A heat's last slab has passed: its score u into the meat, and u zeroed for the next heat. */
 function heatEnds(meat: Float64Array, u: Float64Array, p: number) {
@@ -1165,8 +1169,9 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
   if (seKind === "cluster") {
     // The fitted probability of each design row, then each heat's score u_g = Σ x (y − n·p) summed
     // over its slabs in one pass (a design row may hold slabs of several heats). With the caller's
-    // numbering (clusterIds) the heats with a used row are counted, and their order of first
-    // appearance kept, in the same pass; else they are numbered first (clusterIdsOf).
+    // numbering (clusterIds) the heats with a used row are counted in the same pass (and where a heat's
+    // slabs are not side by side, their order of first appearance kept); else they are numbered first
+    // (clusterIdsOf).
     const b = fit.beta;
     const mu = new Float64Array(rowsN);
     for (let r = 0; r < rowsN; r++) {
@@ -1211,7 +1216,10 @@ export function logisticRegressionColumns(data: SlabColumns, options: MultiLogis
       seen = scratch("cluster.seen", Uint8Array, heatSlots, 0);
     }
     const u = streamed < 0 ? scratch("fit.heatScores", Float64Array, heatSlots * p, 0) : new Float64Array(0);
-    if (streamed >= 0) G = streamed;
+    if (streamed >= 0) {
+      G = streamed;
+      meatsByHeat++;
+    }
     for (let w = streamed >= 0 ? m : 0; w < m; w++) {
       const i = used[w]!;
       let h: number;

@@ -7,9 +7,11 @@
  *
  * Each call site names its own slot. What it gets is valid until the same slot is asked for again
  * (the next call of that site), so only arrays that do not outlive their call may come from here;
- * the contents are left over from the last use unless `fill` is given. `shared`: on shared memory
- * (helper threads read it where it is: screening-threads.ts). Everything is synchronous, so
- * no two calls share a slot at once. The buffers are let go a while after the last use, so a quiet
+ * the contents are left over from the last use unless `fill` is given. Everything is synchronous, so
+ * no two calls share a slot at once. `shared`: on shared memory, for a screening's helper threads to
+ * read while the screening lasts (screening-threads.ts). A helper given up on may still be reading
+ * when the next screening rewrites the slot; what it then works is thrown away (its screening's
+ * number is past) and it is replaced, so no report reads it. The buffers are let go a while after the last use, so a quiet
  * server does not keep them. Written here because it is a dozen lines; no library does just this.
  */
 type Ctor<T> = { new (buffer: ArrayBufferLike, byteOffset: number, length: number): T; BYTES_PER_ELEMENT: number };

@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import ExcelJS from "exceljs";
 import type request from "supertest";
 import { logisticRegression } from "../../server/stats/logistic";
-import { logisticRegressionColumns, logisticRegressionMulti, type SlabRow, type TermSpec } from "../../server/stats/logistic-multi";
+import { logisticRegressionColumns, logisticRegressionMulti, meatsByHeatSoFar, type SlabRow, type TermSpec } from "../../server/stats/logistic-multi";
 import { wilson } from "../../server/stats/proportions";
 import { buildConfoundedPlant, CONFOUNDED_TRUTH, type ConfoundedPlant } from "../helpers/confounded-plant";
 import { createTestApp, type TestApp } from "../helpers/test-app";
@@ -573,12 +573,18 @@ describe("the fit itself", () => {
     });
     expect(blockIds.every((id, i) => i === 0 || id === blockIds[i - 1] || id === blockIds[i - 1]! + 1)).toBe(true);
     const plainBlocks = logisticRegressionColumns({ terms, affected: y, cluster: blockHeat, rows }, { se: "cluster" });
+    const byHeat = meatsByHeatSoFar();
     const streamed = logisticRegressionColumns(
       { terms, affected: y, clusterIds: { ids: blockIds, count: blockLookup.size }, rows: complete, rowsComplete: true },
       { se: "cluster" },
     );
     expect({ ...streamed, notes: [], slabsMissing: 0 }).toEqual({ ...plainBlocks, notes: [], slabsMissing: 0 });
     expect(streamed.clusters).toBeGreaterThan(100);
+    // That way taken with heats in blocks; not with the heats of the first fit, which come back.
+    expect(meatsByHeatSoFar() - byHeat).toBe(1);
+    const notInBlocks = meatsByHeatSoFar();
+    logisticRegressionColumns({ terms, affected: y, clusterIds: { ids, count: lookup.size }, rows: complete, rowsComplete: true }, { se: "cluster" });
+    expect(meatsByHeatSoFar()).toBe(notInBlocks);
     expect(streamed.terms[0]!.se).not.toBe(shortcut.terms[0]!.se);
     // Other shapes of terms (no condition; a condition beside two categorical terms) take the same
     // way with heats in blocks, and the way with a score per heat when they are not.

@@ -15,7 +15,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { screeningQuerySchema } from "@shared/api/reports";
 import { VARIABLES } from "@shared/variables";
 import { slabFactsChanged } from "../../server/services/report-cache";
-import { completeRows, fitTerms, groupedValues, MAX_PATTERNS, modelTerms, numericTerm } from "../../server/services/reports/adjusted";
+import { completeRows, fitTerms, gridOf, groupedValues, MAX_PATTERNS, modelTerms, numericTerm } from "../../server/services/reports/adjusted";
 import { buildScope, finite, scan } from "../../server/services/reports/scope";
 import { numericPass, screening } from "../../server/services/reports/screening";
 import { configureScreeningThreads, screeningThreadSettings } from "../../server/services/reports/screening-threads";
@@ -168,13 +168,14 @@ describe("screening's one pass per condition", () => {
    */
   describe("what the pass writes", () => {
     const UNTOUCHED = -7;
-    function written(key: string, everyValue: boolean) {
+    function written(key: string, everyValue: boolean, byFamily = false) {
       const sc = scan(t.db, buildScope(t.db, screeningQuerySchema.parse({ defectType: "SLG", adjustFor: "none" })));
       const size = sc.facts.size;
       // The pass's own working arrays (scratch.ts slots), marked before it runs.
       scratch("screening.values", Float64Array, size).fill(UNTOUCHED);
       scratch("screening.keys", Int32Array, size).fill(UNTOUCHED);
-      const pass = numericPass(sc, key, null, everyValue);
+      const levels = byFamily ? [gridOf(sc, modelTerms(t.db, sc, ["grade_family"])[0]!)!] : null;
+      const pass = numericPass(sc, key, levels, everyValue);
       const values = scratch("screening.values", Float64Array, size);
       const keys = scratch("screening.keys", Int32Array, size);
       const at: number[] = [];
@@ -193,10 +194,26 @@ describe("screening's one pass per condition", () => {
         expect(values[i]).toBe(truth[i]);
         expect(keys[i]).toBe(Math.round(truth[i]! * scale));
       }
+      // Marked so: fitted only on the pass's grouping.
+      expect(pass.term.sparse).toBe(true);
+      expect(() => fitTerms(sc, [pass.term], pass.withValue, "cluster", false, true)).toThrow(/grouping/);
+      expect(() => completeRows(sc, [pass.term])).toThrow(/grouping/);
+      expect(fitTerms(sc, [pass.term], pass.withValue, "cluster", false, true, pass.grouped).terms[0]!.se).toBeGreaterThan(0);
+    });
+
+    it("when the pass also groups by the grade family's levels, then the adjusted patterns' first slabs are written too", () => {
+      const { pass, at, values, truth } = written("superheat_c", false, true);
+      const crudeReps = new Set(pass.grouped!.rep);
+      const adjustedOnly = [...pass.groupedAdjusted!.rep].filter((i) => !crudeReps.has(i) && !pass.withValue.subarray(0, ROWS_CHECKED).includes(i));
+      expect(adjustedOnly.length).toBeGreaterThan(5);
+      const expected = [...new Set([...pass.withValue.subarray(0, ROWS_CHECKED), ...crudeReps, ...adjustedOnly])].sort((a, b) => a - b);
+      expect(at).toEqual(expected);
+      for (const i of adjustedOnly) expect(values[i]).toBe(truth[i]);
     });
 
     it("when a fit reads every slab, then every slab in scope is written (no value: NaN)", () => {
-      const { sc, values, keys, at, truth, scale } = written("superheat_c", true);
+      const { sc, pass, values, keys, at, truth, scale } = written("superheat_c", true);
+      expect(pass.term.sparse).toBe(false);
       expect(at).toEqual([...sc.rows]);
       for (const i of sc.rows) {
         expect(Object.is(values[i], truth[i])).toBe(true);

@@ -46,9 +46,19 @@ export interface ModelTerm {
   scale?: number;
   /** Each slab's place on the term's grid (see gridOf), computed once. */
   grid?: Grid | null;
+  /**
+   * The values and grid keys are written only at the slabs a fit on the caller's grouping reads (a
+   * screening's pass): elsewhere they are another condition's. Fitted only on that grouping
+   * (fitTerms refuses it without one, completeRows refuses it).
+   */
+  sparse?: boolean;
 }
 
-/** A term's values as integers on a grid: keys[i] − offset runs 0 … width − 1 (grid steps, or level indexes). Read only at slabs with a value. */
+/**
+ * A term's values as integers on a grid: keys[i] − offset runs 0 … width − 1 (grid steps, or level
+ * indexes). Read only at slabs with a value (a screening's own term: only at the slabs its fits read,
+ * see ModelTerm.sparse).
+ */
 export interface Grid {
   keys: Int32Array;
   offset: number;
@@ -255,6 +265,7 @@ export function modelTerms(db: Db, s: Scanned, keys: string[]): ModelTerm[] {
 
 /** The slabs in scope with a value for every numeric term, and how many lack each. */
 export function completeRows(s: Scanned, terms: ModelTerm[]) {
+  if (terms.some((t) => t.sparse)) throw new Error("completeRows: a term written only at the slabs its grouping's fits read");
   const numeric = terms.filter((t) => t.kind === "numeric").map((t) => ({ t, values: (t.column as { values: ArrayLike<number> }).values, missing: 0 }));
   const out = new Int32Array(s.rows.length);
   let n = 0;
@@ -333,6 +344,8 @@ export function fitTerms(
   complete = false,
   grouped?: SlabColumns["grouped"],
 ): MultiLogisticFit {
+  if (!grouped && terms.some((t) => t.sparse))
+    throw new Error("fitTerms: a term written only at the slabs its grouping's fits read, fitted without that grouping");
   const pattern = grouped ? undefined : patternIds(s, terms, rows);
   // Refitting the model without each variable (the LR test) only where it is valid: with model-based SEs.
   return logisticRegressionColumns(

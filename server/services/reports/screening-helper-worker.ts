@@ -2,7 +2,8 @@
  * A screening helper thread (started by screening-threads.ts): takes a screening's tests from the
  * shared counter until none is left, works each with the same code as the calling thread, and sends
  * each row back on its own port. The facts, the scope's rows and the affected slabs are the
- * caller's, on shared memory; the database (its own read-only connection, for the names of
+ * caller's, on shared memory, and so are its numbering of the scope's heats and its grids of the
+ * categorical adjustment terms (taken as this thread's own); the database (its own read-only connection, for the names of
  * categories) is the caller's file. A helper that fails a test takes no more of that screening:
  * the caller works the rest.
  */

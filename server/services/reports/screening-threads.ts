@@ -211,7 +211,10 @@ export async function startScreeningHelpers(count: number): Promise<void> {
 export interface Share {
   threads: number;
   byHelpers: number;
-  /** Heat numberings and categorical adjustment grids the helpers made themselves instead of taking the caller's. */
+  /**
+   * Heat numberings and grids of categorical adjustment terms the helpers made themselves instead of
+   * taking the caller's, summed over the tests they worked (0 when every test took the caller's).
+   */
   scopeWorkByHelpers: number;
   failedOver: number;
   failures: string[];

@@ -121,14 +121,18 @@ function interquartileRange(
  *
  * A fit on the pass's grouping reads a slab's value and key only at each pattern's first slab and
  * at the first rows it checks (ROWS_CHECKED), so unless `everyValue` (the adjusted fit groups the
- * slabs itself: a condition among the adjustment terms) only those are written: the pages of the
- * two arrays that nothing writes are never the process's memory (measured at five million slabs:
+ * slabs itself: a condition among the adjustment terms) only those are written, and the term is
+ * marked sparse: the pages of the two arrays that nothing writes are not the process's memory
+ * (unless a full pass wrote them within the arrays' 30 s of reuse; measured at five million slabs:
  * 60–110 MB less at a screening's peak, one thread or two; the same time). Where a grouping came
- * out too wide for the pass after all, the pass runs again writing every slab's.
+ * out too wide for the pass after all, the pass runs again writing every slab's (the column is read
+ * twice: the conditions spread wider than two million grid steps).
  */
 export function numericPass(sc: Scanned, key: string, levels: Grid[] | null, everyValue: boolean): Pass {
   const { facts: f, rows } = sc;
   const stride = levels?.reduce((w, g) => w * Math.max(1, g.width), 1) ?? 0;
+  // The adjustment's levels alone too many for the pass to group by: the adjusted fit groups itself.
+  if (levels && stride > MAX_PATTERNS) everyValue = true;
   const w: Walk = {
     everyValue,
     rows,
@@ -167,7 +171,7 @@ export function numericPass(sc: Scanned, key: string, levels: Grid[] | null, eve
   return {
     hitAcc: w.hitAcc,
     soundAcc: w.soundAcc,
-    term: numericTerm(key, values, grid),
+    term: { ...numericTerm(key, values, grid), sparse: !everyValue },
     withValue: withValue.subarray(0, n),
     grid: n > 0 ? { keys, lo, hi } : undefined,
     grouped,
@@ -336,7 +340,7 @@ function walkPiece(w: Walk, col: ArrayLike<number>, from: number, to: number) {
       if (group(adjusted, k, level, lo, hi, i, a, n)) first = true;
     }
     if (first) {
-      values[i] = g;
+      if (!everyValue) values[i] = g;
       keys[i] = k;
     }
     withValue[n++] = i;
