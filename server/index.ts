@@ -9,6 +9,7 @@ import { runMigrations } from "./db/migrate";
 import { heats, user } from "./db/schema";
 import { EnvError, loadDotEnvFile, loadEnv, originPolicyOf } from "./env";
 import { createLogger, type Logger } from "./lib/logger";
+import { ALLOCATOR_ENV, allocatorSet } from "./lib/allocator";
 import { describePathError, EXIT_CANNOT_START, StartupError } from "./lib/startup-error";
 import { setupSso } from "./sso/setup";
 import { setupMail } from "./mail/setup";
@@ -151,6 +152,13 @@ async function main() {
   setInterval(() => void cleanup().catch((err) => logger.error({ err }, "photo cleanup failed")), 60 * 60_000).unref();
   const demoUsers = db.select({ id: user.id }).from(user).where(eq(user.email, DEMO_USERS[0].email)).get() !== undefined;
   const server = await listen(app, env.PORT, env.HOST);
+  // Started by hand (not npm start or the systemd unit): the same answers, more memory on a large plant.
+  if (process.platform === "linux" && !allocatorSet()) {
+    logger.info(
+      { set: ALLOCATOR_ENV },
+      "started without the C allocator's setting npm start gives the server: a large plant's reports may hold ≈ 100–150 MB more memory (see the README)",
+    );
+  }
   const listenedAt = Date.now();
   // The reports' in-memory slab facts load after the server listens (sign-in, the yard and every
   // other request are answered meanwhile; reports say "warming up"): from the snapshot written at the

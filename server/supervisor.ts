@@ -20,6 +20,7 @@ import { fork, type ChildProcess } from "node:child_process";
 import { fileURLToPath } from "node:url";
 import { COMPILED } from "./lib/paths";
 import { EXIT_CANNOT_START } from "./lib/startup-error";
+import { withAllocatorEnv } from "./lib/allocator";
 
 // The compiled supervisor (build/server/supervisor.js) runs the compiled server beside it.
 const SERVER = fileURLToPath(new URL(COMPILED ? "./index.js" : "./index.ts", import.meta.url));
@@ -58,7 +59,8 @@ function start() {
   restartTimer = null;
   listeningAt = null;
   const c = fork(SERVER, process.argv.slice(2), {
-    env: { ...process.env, STRANDSIGHT_SUPERVISED: "1" },
+    // The C allocator's setting for a server holding large arrays (lib/allocator.ts), unless set already.
+    env: { ...withAllocatorEnv(process.env), STRANDSIGHT_SUPERVISED: "1" },
     stdio: ["inherit", "inherit", "inherit", "ipc"],
   });
   child = c;

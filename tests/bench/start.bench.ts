@@ -3,7 +3,8 @@
  * a large plant: the generated plant of bench:reports (1,000,000 slabs; BENCH_SLABS=5000000 for five
  * million, BENCH_VALUES=grid for values at the reports' resolution), copied to a temporary folder with
  * the demo users added. Each start is the real process (`node --import tsx server/index.ts`, or the
- * compiled build/server/index.js with START_ENTRY=compiled) timed from spawn:
+ * compiled build/server/index.js with START_ENTRY=compiled), with the C allocator's setting npm start's
+ * supervisor gives it (server/lib/allocator.ts; BENCH_ALLOCATOR=glibc: without), timed from spawn:
  *   listen      GET /api/health answers
  *   sign-in     a sign-in sent as soon as it listens is answered (200)
  *   yard        the inspector's yard set answers (200)
@@ -19,10 +20,12 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import { BENCH_PASSWORD, benchPlantFile, copyBenchPlant, freePort, REPO } from "./bench-plant";
+import { ALLOCATOR_ENV } from "../../server/lib/allocator";
 
 const SLABS = Number(process.env.BENCH_SLABS ?? 1_000_000);
 const GRID = process.env.BENCH_VALUES === "grid";
 const COMPILED = process.env.START_ENTRY === "compiled";
+const ALLOCATOR = process.env.BENCH_ALLOCATOR !== "glibc";
 const source = benchPlantFile(SLABS, GRID);
 const PASSWORD = BENCH_PASSWORD;
 
@@ -85,6 +88,8 @@ async function startOnce(dir: string, label: string): Promise<Start> {
       ...(process.env.SCREENING_THREADS ? { SCREENING_THREADS: process.env.SCREENING_THREADS } : {}),
       // Memory for the condition columns as the bench is told (unset: the server's default).
       ...(process.env.REPORT_COLUMNS_MB ? { REPORT_COLUMNS_MB: process.env.REPORT_COLUMNS_MB } : {}),
+      // The C allocator's setting, as npm start and the systemd unit start the server (BENCH_ALLOCATOR=glibc: without it).
+      ...(ALLOCATOR ? ALLOCATOR_ENV : {}),
     },
     stdio: ["ignore", "pipe", "pipe"],
   });
@@ -222,7 +227,7 @@ async function main() {
   try {
     const slabs = SLABS.toLocaleString("en");
     console.log(
-      `Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); screening helpers: ${process.env.SCREENING_THREADS ?? "the default"}; condition columns in memory: ${process.env.REPORT_COLUMNS_MB ?? "the default"} MB; load ${os
+      `Start of the real server on ${slabs} slabs${GRID ? " (values at the reports' resolution)" : ""}, ${COMPILED ? "compiled JavaScript" : "TypeScript through tsx"} (Node ${process.version}); screening helpers: ${process.env.SCREENING_THREADS ?? "the default"}; condition columns in memory: ${process.env.REPORT_COLUMNS_MB ?? "the default"} MB; allocator: ${ALLOCATOR ? "as npm start sets it" : "glibc's moving threshold"}; load ${os
         .loadavg()
         .map((x) => x.toFixed(1))
         .join(" ")}`,

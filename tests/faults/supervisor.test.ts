@@ -8,6 +8,7 @@ import path from "node:path";
 import { pathToFileURL } from "node:url";
 import { afterEach, describe, expect, it } from "vitest";
 import { disposeServer, isAlive, launchServer, REPO_ROOT, startServer, waitFor, type ServerProcess } from "../helpers/server-process";
+import { ALLOCATOR_ENV } from "../../server/lib/allocator";
 
 let servers: ServerProcess[] = [];
 afterEach(async () => {
@@ -133,4 +134,45 @@ describe("npm start runs the server under the supervisor", () => {
     expect(fs.existsSync(`${srv.files.databaseFile}-wal`)).toBe(false);
     await expect(fetch(`${srv.baseUrl}/api/health`)).rejects.toThrow();
   }, 120_000);
+});
+
+describe("the server runs with the C allocator's setting for large arrays (server/lib/allocator.ts)", () => {
+  /** The environment a process was started with (Linux's /proc), as name → value. */
+  const environOf = (pid: number) =>
+    new Map(
+      fs
+        .readFileSync(`/proc/${pid}/environ`, "utf8")
+        .split("\0")
+        .filter(Boolean)
+        .map((kv) => [kv.slice(0, kv.indexOf("=")), kv.slice(kv.indexOf("=") + 1)] as const),
+    );
+
+  it.runIf(process.platform === "linux")(
+    "when npm start's supervisor starts the server, then glibc's threshold is held at 128 kB in the server's environment, an operator's own value is kept, and a server started by hand says it runs without",
+    async () => {
+      expect(ALLOCATOR_ENV).toEqual({ MALLOC_MMAP_THRESHOLD_: "131072" });
+      const running = (srv: ServerProcess) =>
+        waitFor("the start-up lines", () => (srv.output().includes("Strandsight is running") ? true : undefined), 30_000, 50);
+      const plain = track(await startServer({ entry: "supervisor", env: { LOG_LEVEL: "info" } }));
+      await running(plain);
+      expect(environOf(plain.serverPids()[0]!).get("MALLOC_MMAP_THRESHOLD_")).toBe("131072");
+      // Not the supervisor's own environment: it is set for the server it starts.
+      expect(environOf(plain.child.pid!).has("MALLOC_MMAP_THRESHOLD_")).toBe(false);
+
+      const own = track(await startServer({ entry: "supervisor", env: { MALLOC_MMAP_THRESHOLD_: "262144" } }));
+      expect(environOf(own.serverPids()[0]!).get("MALLOC_MMAP_THRESHOLD_")).toBe("262144");
+
+      const byHand = track(await startServer({ env: { LOG_LEVEL: "info" } }));
+      await running(byHand);
+      expect(byHand.output()).toContain("started without the C allocator's setting npm start gives the server");
+      expect(plain.output()).not.toContain("started without the C allocator's setting");
+    },
+    120_000,
+  );
+
+  it("when the systemd unit starts the server, then it sets the same value", () => {
+    const unit = fs.readFileSync(path.join(REPO_ROOT, "deploy/strandsight.service"), "utf8");
+    const lines = unit.split("\n").filter((l) => l.startsWith("Environment="));
+    expect(lines).toEqual(Object.entries(ALLOCATOR_ENV).map(([k, v]) => `Environment=${k}=${v}`));
+  });
 });
