@@ -64,7 +64,7 @@ function reports() {
     /^slab facts cache: built from SQLite in ([\d.]+) s.*?, (\d+) MB in typed arrays\n\s+(\d+) bytes per slab.*?; (\d+) of (\d+) variables held as Float32/m.exec(
       out,
     );
-  const inFiles = /^\s+condition columns in files beyond REPORT_COLUMNS_MB \((\d+) MB\): (\d+) of \d+ \((\d+) MB/m.exec(out);
+  const inFiles = /^\s+condition columns in files beyond REPORT_COLUMNS_MB \(([^)]*) MB\): (\d+) of \d+ \((\d+) MB/m.exec(out);
   if (cache)
     figures.push({
       figure: "report cache: bytes per slab in memory (was 243)",

@@ -92,9 +92,10 @@ const envSchema = z.object({
   SCREENING_SHARED_FROM: z.coerce.number({ error: "SCREENING_SHARED_FROM must be a whole number." }).int().min(1).max(1_000_000_000).default(100_000),
   /**
    * Memory for the report cache's condition columns, MB: those that do not fit are kept in files
-   * beside the database and read when a report needs them (services/report-cache-disk.ts).
+   * beside the database and read when a report needs them (services/report-cache-disk.ts). Unset:
+   * all in memory when they fit in 256 MB, else all in files.
    */
-  REPORT_COLUMNS_MB: z.coerce.number({ error: "REPORT_COLUMNS_MB must be a whole number of megabytes." }).int().min(0).max(1_000_000).default(256),
+  REPORT_COLUMNS_MB: z.coerce.number({ error: "REPORT_COLUMNS_MB must be a whole number of megabytes." }).int().min(0).max(1_000_000).optional(),
   /** Where those files go (a folder on a local disk); unset: beside the database. */
   REPORT_COLUMNS_DIR: z.string().trim().min(1).optional(),
   /** How often the mail worker looks for due messages. */

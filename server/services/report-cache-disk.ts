@@ -1,10 +1,16 @@
 /**
  * Condition columns of the report cache kept on disk when they do not fit the memory set aside for
- * them (REPORT_COLUMNS_MB, 256 MB by default). At five million slabs the 22 condition columns are
- * ≈ 680 MB; a plant of a million slabs or two keeps them all in memory and nothing here runs.
+ * them. At five million slabs the 22 condition columns are ≈ 680 MB; a plant of a million slabs
+ * keeps them all in memory and nothing here runs.
  *
- * - Which columns stay in memory: those on their grid (Float32, half the bytes) first, then the
- *   others, each in the order of shared/variables.ts, while they fit. The rest are written to a file
+ * - By default (REPORT_COLUMNS_MB unset) every column stays in memory when they all fit in 256 MB
+ *   (a plant of up to ≈ 1.8–2 million slabs), else every column goes to a file. Keeping some in memory
+ *   made no report faster (measured at five million slabs on the 2-core machine, the real server
+ *   with one helper: screening 1.74–1.90 s crude and 3.06–3.38 s adjusted with 256 MB of them in
+ *   memory, 1.71–1.77 s and 3.20–3.36 s with none) and cost 250 MB at the peak (852–1,004 MB
+ *   against 725–755 MB).
+ * - REPORT_COLUMNS_MB set: the columns on their grid (Float32, half the bytes) first, then the
+ *   others, each in the order of shared/variables.ts, stay in memory while they fit. The rest are written to a file
  *   each, beside the database (or in REPORT_COLUMNS_DIR), and read back when a report needs them:
  *   in pieces of 2 MB as a report walks the slabs (eachPiece), or whole for a report that looks
  *   slabs up out of order (valuesOf). A 40 MB column comes back from the operating system's file
@@ -45,14 +51,15 @@ export interface DiskColumn {
   tail?: { from: number; n: number; buf: Float32Array | Float64Array };
 }
 
-/** Memory for the condition columns, MB (the rest go to disk); set from the server's settings. */
+/** The memory the default gives the condition columns, MB: all of them, or none. */
 export const DEFAULT_COLUMNS_MB = 256;
-let budgetMb = DEFAULT_COLUMNS_MB;
+/** Memory for the condition columns, MB (the rest go to disk), from the server's settings; null: the default (all or none). */
+let budgetMb: number | null = null;
 /** Where the files go (REPORT_COLUMNS_DIR); null: beside the database. */
 let filesDir: string | null = null;
 
-/** Sets the memory this thread's report cache gives the condition columns, and where the rest go (REPORT_COLUMNS_MB, REPORT_COLUMNS_DIR; tests). */
-export function configureColumnMemory(mb: number, dir?: string | null) {
+/** Sets the memory this thread's report cache gives the condition columns (null: the default), and where the rest go (REPORT_COLUMNS_MB, REPORT_COLUMNS_DIR; tests). */
+export function configureColumnMemory(mb: number | null, dir?: string | null) {
   budgetMb = mb;
   if (dir !== undefined) filesDir = dir ? path.resolve(dir) : null;
 }
@@ -73,17 +80,22 @@ export function configurePieces(rows = PIECE_ROWS) {
 
 /**
  * The variables whose columns go to disk: with room for `rows` rows of the given types, those beyond the
- * budget (on-grid ones kept first). None for a database in memory (`dir` null).
+ * budget (on-grid ones kept first); with the default (`mb` null), none when they all fit in
+ * DEFAULT_COLUMNS_MB, else all. None for a database in memory (`dir` null).
  */
 export function chooseOnDisk(rows: number, types: Record<string, DiskType>, dir: string | null, mb = budgetMb): string[] {
   if (!dir) return [];
-  const budget = mb * 1048576;
   const order = [...VARIABLES.filter((v) => types[v.key] === "Float32Array"), ...VARIABLES.filter((v) => types[v.key] !== "Float32Array")];
+  const bytes = (key: string) => rows * bytesOf(types[key]!);
+  if (mb === null) {
+    const all = order.reduce((sum, v) => sum + bytes(v.key), 0);
+    return all <= DEFAULT_COLUMNS_MB * 1048576 ? [] : order.map((v) => v.key);
+  }
+  const budget = mb * 1048576;
   let used = 0;
   const out: string[] = [];
   for (const v of order) {
-    const bytes = rows * bytesOf(types[v.key]!);
-    if (used + bytes <= budget) used += bytes;
+    if (used + bytes(v.key) <= budget) used += bytes(v.key);
     else out.push(v.key);
   }
   return out;

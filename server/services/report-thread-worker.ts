@@ -15,7 +15,7 @@ import { HttpError } from "../lib/http-error";
 import { lowerThisThreadPriority } from "../lib/thread-priority";
 import { speakingIn } from "../lib/words";
 import fs from "node:fs";
-import { configureColumnMemory, DEFAULT_COLUMNS_MB } from "./report-cache-disk";
+import { configureColumnMemory } from "./report-cache-disk";
 import { slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
 import { adjustedModel } from "./reports/adjusted";
 import { beforeAfter } from "./reports/before-after";
@@ -66,7 +66,7 @@ if (data.columnsDir) {
     // Said when the first file cannot be made there.
   }
 }
-configureColumnMemory(data.columnsMb ?? DEFAULT_COLUMNS_MB, data.columnsDir ?? null);
+configureColumnMemory(data.columnsMb ?? null, data.columnsDir ?? null);
 
 // 8 MB of page cache, not 64 (db/client.ts): the reports read the slab data from the report cache's
 // columns; SQLite gives them names, defects and changed slabs. The trade, measured at five million

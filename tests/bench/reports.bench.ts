@@ -41,7 +41,7 @@ import { buildScope } from "../../server/services/reports/scope";
 import { screening } from "../../server/services/reports/screening";
 import { slabFacts, slabFactsChanged, startReportCache } from "../../server/services/report-cache";
 import { columnKinds, diskBytes, factsBytes } from "../../server/services/report-cache-columns";
-import { columnMemoryMb } from "../../server/services/report-cache-disk";
+import { columnMemoryMb, DEFAULT_COLUMNS_MB } from "../../server/services/report-cache-disk";
 import { readSnapshot, writeSnapshot } from "../../server/services/report-cache-snapshot";
 import { adjustedQuerySchema, rateByVariableQuerySchema, screeningQuerySchema } from "../../shared/api/reports";
 import { VARIABLES } from "../../shared/variables";
@@ -230,7 +230,7 @@ async function main() {
     `  ${(bytes / facts.slabId.length).toFixed(0)} bytes per slab (${facts.slabId.length.toLocaleString("en")} rows of room, ${(facts.slabId.length - facts.size).toLocaleString("en")} of them spare; was 243); RSS grew ${(rssCache / 1048576).toFixed(0)} MB; ${kinds.float32.length} of ${VARIABLES.length} variables held as Float32 (on their grid)${kinds.float32.length ? `: ${kinds.float32.join(", ")}` : ""}`,
   );
   console.log(
-    `  condition columns in files beyond REPORT_COLUMNS_MB (${columnMemoryMb()} MB): ${kinds.onDisk.length} of ${VARIABLES.length} (${(diskBytes(facts) / 1048576).toFixed(0)} MB, read when a report needs them)`,
+    `  condition columns in files beyond REPORT_COLUMNS_MB (${columnMemoryMb() ?? `unset: all or none in ${DEFAULT_COLUMNS_MB}`} MB): ${kinds.onDisk.length} of ${VARIABLES.length} (${(diskBytes(facts) / 1048576).toFixed(0)} MB, read when a report needs them)`,
   );
 
   // The server's way: after listen, in slices, the event loop free in between.

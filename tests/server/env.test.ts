@@ -44,10 +44,10 @@ describe("environment", () => {
     expect(() => loadEnv({ PORT: "eighty", DATABASE_FILE: tmp() })).toThrow(/PORT/);
   });
 
-  it("when REPORT_COLUMNS_MB is not a whole number of megabytes, then loading stops and names it; unset, 256", () => {
+  it("when REPORT_COLUMNS_MB is not a whole number of megabytes, then loading stops and names it; unset, left to the report cache's default", () => {
     expect(() => loadEnv({ REPORT_COLUMNS_MB: "lots", DATABASE_FILE: tmp() })).toThrow(/REPORT_COLUMNS_MB must be a whole number of megabytes/);
     expect(() => loadEnv({ REPORT_COLUMNS_MB: "-1", DATABASE_FILE: tmp() })).toThrow(/REPORT_COLUMNS_MB/);
-    expect(loadEnv({ DATABASE_FILE: tmp() }).REPORT_COLUMNS_MB).toBe(256);
+    expect(loadEnv({ DATABASE_FILE: tmp() }).REPORT_COLUMNS_MB).toBe(undefined);
     expect(loadEnv({ REPORT_COLUMNS_MB: "0", DATABASE_FILE: tmp() }).REPORT_COLUMNS_MB).toBe(0);
   });
 

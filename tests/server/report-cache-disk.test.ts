@@ -80,7 +80,7 @@ beforeAll(async () => {
   GRID = FACT_VARIABLES.find((k) => f.vars[k] instanceof Float32Array && k !== FULL) ?? "";
 }, 120_000);
 afterAll(async () => {
-  configureColumnMemory(DEFAULT_COLUMNS_MB, null);
+  configureColumnMemory(null, null);
   configurePieces();
   configureScreeningThreads(threads);
   await stopScreeningHelpers();
@@ -383,14 +383,32 @@ describe("which condition columns stay in memory", () => {
   const full = FACT_VARIABLES.filter((_, i) => i % 2 === 0);
 
   it("when the budget holds every column, then none goes to a file; for a database in memory, never", () => {
-    configureColumnMemory(DEFAULT_COLUMNS_MB);
+    configureColumnMemory(256);
     expect(columnMemoryMb()).toBe(256);
-    // The default: a million slabs keep every column (126 MB); five million keep the grid ones (210 MB)
+    // 256 MB set: a million slabs keep every column (126 MB); five million keep the grid ones (210 MB)
     // and the first full-digit one (38 MB).
     expect(chooseOnDisk(1_000_000, types, "/var/lib/plant")).toEqual([]);
     expect(chooseOnDisk(5_000_000, types, "/var/lib/plant")).toEqual(full.slice(1));
     expect(chooseOnDisk(1_000_000, types, "/var/lib/plant", 1000)).toEqual([]);
     expect(chooseOnDisk(1_000_000, types, null, 0)).toEqual([]);
+  });
+
+  it("when REPORT_COLUMNS_MB is unset, then every column stays in memory while they all fit in 256 MB, and every column goes to a file once they do not", () => {
+    configureColumnMemory(null);
+    expect(columnMemoryMb()).toBe(null);
+    expect(DEFAULT_COLUMNS_MB).toBe(256);
+    // 11 grid columns of 4 bytes and 11 full ones of 8: 132 bytes a slab (126 MB at a million).
+    expect(chooseOnDisk(1_000_000, types, "/var/lib/plant")).toEqual([]);
+    // 256 MB exactly: 2,033,601 slabs still fit; one slab more and none stays.
+    const fits = Math.floor((256 * 1048576) / 132);
+    expect(fits).toBe(2_033_601);
+    expect(chooseOnDisk(fits, types, "/var/lib/plant")).toEqual([]);
+    expect(chooseOnDisk(fits + 1, types, "/var/lib/plant")).toEqual([...grid, ...full]);
+    expect(chooseOnDisk(5_000_000, types, "/var/lib/plant")).toEqual([...grid, ...full]);
+    // A database in memory: never.
+    expect(chooseOnDisk(5_000_000, types, null)).toEqual([]);
+    // Set to a number: filled as before, whatever the default does.
+    expect(chooseOnDisk(5_000_000, types, "/var/lib/plant", 256)).toEqual(full.slice(1));
   });
 
   it("when the budget is short, then the columns on their grid (half the bytes) stay first, each kind in the variables' order", () => {
