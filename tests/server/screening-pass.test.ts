@@ -14,14 +14,14 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { screeningQuerySchema } from "@shared/api/reports";
 import { VARIABLES } from "@shared/variables";
-import { slabFactsChanged } from "../../server/services/report-cache";
+import { slabFacts, slabFactsChanged } from "../../server/services/report-cache";
 import { completeRows, fitTerms, gridOf, groupedValues, MAX_PATTERNS, modelTerms, numericTerm } from "../../server/services/reports/adjusted";
 import { buildScope, finite, scan } from "../../server/services/reports/scope";
 import { numericPass, screening } from "../../server/services/reports/screening";
 import { configureScreeningThreads, screeningThreadSettings } from "../../server/services/reports/screening-threads";
 import { fitsOnCallersGroupingSoFar, oddsRatioForStep, ROWS_CHECKED } from "../../server/stats/logistic-multi";
 import { scratch } from "../../server/stats/scratch";
-import { buildConfoundedPlant } from "../helpers/confounded-plant";
+import { buildConfoundedPlant, plantWriter } from "../helpers/confounded-plant";
 import { createTestApp, type TestApp } from "../helpers/test-app";
 
 let t: TestApp;
@@ -152,6 +152,37 @@ describe("screening's one pass per condition", () => {
     });
   }
 
+  it("when screenings of other scopes ran before, then a screening's reused scope and grade-family grid hold its own slabs, flags and levels only", () => {
+    const size = slabFacts(t.db).size;
+    // Edge cracks on slabs without a sliver, the last of them in the narrow scope: the wider screening's flags are not the narrow one's.
+    const w = plantWriter(t.db);
+    const clean = t.db.$client
+      .prepare("select id from slabs where id not in (select slab_id from defects) order by cast_at desc limit 300")
+      .pluck()
+      .all() as number[];
+    for (const id of clean) w.defIns.run(id, w.lfc, Date.UTC(2027, 3, 1), w.inspector);
+    const wide = screeningQuerySchema.parse({ defectType: "LFC" });
+    const narrow = screeningQuerySchema.parse({ defectType: "SLG", from: "2027-02-10" });
+    const fresh = scan(t.db, buildScope(t.db, narrow));
+    expect(fresh.rows.length).toBeLessThan(size / 2);
+    const flagged = (a: Uint8Array) => a.reduce((n, x) => n + x, 0);
+    expect(flagged(fresh.affected)).toBeGreaterThan(0);
+    const first = screening(t.db, narrow);
+    screening(t.db, wide);
+    const again = screening(t.db, narrow);
+    expect(again).toEqual(first);
+    // The slots as the last screening left them: its slabs and flags, nothing of the wider one's.
+    const rows = scratch("screening.scope.rows", Int32Array, size, undefined, true);
+    const affected = scratch("screening.scope.affected", Uint8Array, size, undefined, true);
+    expect([...rows.subarray(0, fresh.rows.length)]).toEqual([...fresh.rows]);
+    expect(flagged(affected)).toBe(flagged(fresh.affected));
+    expect(affected).toEqual(fresh.affected);
+    const term = modelTerms(t.db, fresh, ["grade_family"])[0]!;
+    const grid = scratch("screening.grid.0", Int32Array, size, undefined, true);
+    const own = gridOf(fresh, term)!;
+    for (const i of fresh.rows) expect(grid[i]).toBe(own.keys[i]);
+  });
+
   it("when a condition's grid keys spread wider than the pass groups by lookup, then its crude fit is the fit's own (hashed) one", () => {
     const long = crudeTheLongWay({ defectType: "SLG", adjustFor: "none" }, WIDE);
     expect(long.keySpan).toBeGreaterThan(MAX_PATTERNS);
@@ -198,7 +229,7 @@ describe("screening's one pass per condition", () => {
       expect(pass.term.sparse).toBe(true);
       expect(() => fitTerms(sc, [pass.term], pass.withValue, "cluster", false, true)).toThrow(/grouping/);
       expect(() => completeRows(sc, [pass.term])).toThrow(/grouping/);
-      expect(fitTerms(sc, [pass.term], pass.withValue, "cluster", false, true, pass.grouped).terms[0]!.se).toBeGreaterThan(0);
+      expect(fitTerms(sc, [pass.term], pass.withValue, "cluster", false, true, pass.crudeGrouping()).terms[0]!.se).toBeGreaterThan(0);
     });
 
     it("when the pass also groups by the grade family's levels, then the adjusted patterns' first slabs are written too", () => {
@@ -219,6 +250,31 @@ describe("screening's one pass per condition", () => {
         expect(Object.is(values[i], truth[i])).toBe(true);
         if (Number.isFinite(truth[i])) expect(keys[i]).toBe(Math.round(truth[i]! * scale));
       }
+    });
+
+    it("when the pass groups by the grade family's levels, then the crude grouping is made from that one: the same patterns, sums and pattern per slab as grouped by key alone, and the same crude fit", () => {
+      const copy = (g: NonNullable<ReturnType<typeof numericPass>["grouped"]>) => ({ rep: [...g.rep], s: [...g.s], n: [...g.n], patternOf: [...g.patternOf] });
+      // By key alone (its own per-slab array, in the crude slot), fitted at once: the next pass reuses no slot of it.
+      const alone = written("superheat_c", false);
+      expect(alone.pass.crudeAfterAdjusted).toBe(false);
+      const direct = copy(alone.pass.crudeGrouping()!);
+      const directFit = fitTerms(alone.sc, [alone.pass.term], alone.pass.withValue, "cluster", false, true, alone.pass.crudeGrouping());
+      const { sc, pass } = written("superheat_c", false, true);
+      expect(pass.crudeAfterAdjusted).toBe(true);
+      // The quartiles' counts before the crude fit asks for its grouping: the adjusted one is still whole.
+      expect([...pass.grouped!.rep]).toEqual(direct.rep);
+      expect([...pass.grouped!.n]).toEqual(direct.n);
+      const adjustedPatterns = pass.groupedAdjusted!.rep.length;
+      expect(adjustedPatterns).toBeGreaterThan(direct.rep.length);
+      expect(Math.max(...pass.groupedAdjusted!.patternOf)).toBe(adjustedPatterns - 1);
+      const adjustedIds = [...pass.groupedAdjusted!.patternOf];
+      const made = pass.crudeGrouping()!;
+      expect(copy(made)).toEqual(direct);
+      // The adjusted grouping's own array, now holding the crude patterns; the adjusted fit refuses it from here on.
+      expect(made.patternOf).toBe(pass.groupedAdjusted!.patternOf);
+      expect(adjustedIds).not.toEqual(direct.patternOf);
+      expect(() => fitTerms(sc, [pass.term], pass.withValue, "cluster", false, true, pass.groupedAdjusted)).toThrow(/another length/);
+      expect(fitTerms(sc, [pass.term], pass.withValue, "cluster", false, true, pass.crudeGrouping())).toEqual(directFit);
     });
 
     it("when a condition's keys spread wider than the pass groups by, then the pass runs again and writes every slab", () => {

@@ -70,11 +70,13 @@ export const MAX_PATTERNS = 2_000_000;
 
 /**
  * A term's grid over the scope's slabs, worked out once per term (null where the fit must hash).
- * `shared`: its keys on shared memory, for a screening's helper threads (they take it as theirs).
+ * `shared`: its keys on shared memory, for a screening's helper threads (they take it as theirs):
+ * a scratch slot of that name (stats/scratch.ts), valid until the next call with the same name.
+ * Only the keys of the slabs in scope are written.
  */
-export function gridOf(s: Scanned, t: ModelTerm, shared = false): Grid | null {
+export function gridOf(s: Scanned, t: ModelTerm, shared?: string): Grid | null {
   if (t.grid !== undefined) return t.grid;
-  const keys = shared ? new Int32Array(new SharedArrayBuffer(4 * s.facts.size)) : new Int32Array(s.facts.size);
+  const keys = shared ? scratch(shared, Int32Array, s.facts.size, undefined, true) : new Int32Array(s.facts.size);
   if (t.kind === "numeric") {
     const values = (t.column as { values: ArrayLike<number> }).values;
     const scale = t.scale!;
