@@ -74,7 +74,8 @@ export const DEFAULT_SCREENING_THREADS = Math.max(0, Math.min(3, os.availablePar
  * Working memory of one thread while it screens, per slab of the facts: its row and pattern arrays,
  * the pages of its value and key arrays it writes, and its own heap (measured: 62 bytes per slab at
  * a million slabs before a helper took the caller's heat numbering and grids and the pass wrote only
- * the values the fits read; a helper now adds 40–49 bytes per slab at five million, 200–245 MB).
+ * the values the fits read; a helper now adds 27–35 bytes per slab at five million, 130–180 MB, with
+ * glibc's allocator as npm start sets it).
  * Kept at the earlier figure as the bound.
  */
 export const BYTES_PER_SLAB = 64;
