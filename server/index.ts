@@ -84,6 +84,8 @@ function listen(app: ReturnType<typeof createApp>, port: number, host: string): 
 }
 
 async function main() {
+  // Before .env is read: the allocator reads its settings only from the environment the process started with.
+  const allocatorFromStart = allocatorSet();
   loadDotEnvFile();
   const env = loadEnv();
   const logger = createLogger(env.LOG_LEVEL);
@@ -153,7 +155,7 @@ async function main() {
   const demoUsers = db.select({ id: user.id }).from(user).where(eq(user.email, DEMO_USERS[0].email)).get() !== undefined;
   const server = await listen(app, env.PORT, env.HOST);
   // Started by hand (not npm start or the systemd unit): the same answers, more memory on a large plant.
-  if (process.platform === "linux" && !allocatorSet()) {
+  if (process.platform === "linux" && !allocatorFromStart) {
     logger.info(
       { set: ALLOCATOR_ENV },
       "started without the C allocator's setting npm start gives the server: a large plant's reports may hold ≈ 100–150 MB more memory (see the README)",

@@ -43,7 +43,7 @@ import {
   type FactRow,
   type SlabFacts,
 } from "./report-cache-columns";
-import { chooseOnDisk, ColumnFileError, columnDirOf, removeStaleColumnFiles, withDiskBatch } from "./report-cache-disk";
+import { chooseOnDisk, ColumnFileError, columnDirOf, columnMemoryMb, DEFAULT_COLUMNS_MB, removeStaleColumnFiles, withDiskBatch } from "./report-cache-disk";
 import { readSnapshot, removeStaleTemps, writeSnapshot } from "./report-cache-snapshot";
 
 export {
@@ -483,6 +483,16 @@ function startWarming(sqlite: Database.Database, s: State, fromSnapshot: boolean
       },
       "report cache ready",
     );
+    // REPORT_COLUMNS_MB set (an .env copied from an earlier .env.example has 256) and only some of the
+    // columns fit: that costs memory for no report's speed at this size (report-cache-disk.ts).
+    const budget = columnMemoryMb();
+    const total = kinds.float32.length + kinds.float64.length;
+    if (budget !== null && kinds.onDisk.length > 0 && kinds.onDisk.length < total) {
+      bg.logger?.warn(
+        { REPORT_COLUMNS_MB: budget, inMemory: total - kinds.onDisk.length, inFiles: kinds.onDisk.length },
+        `REPORT_COLUMNS_MB=${budget} keeps ${total - kinds.onDisk.length} of ${total} condition columns in memory: some in memory made no report faster and cost memory (≈ 250 MB at five million slabs). Leave it empty to keep them all in memory while they fit in ${DEFAULT_COLUMNS_MB} MB, else all in files`,
+      );
+    }
     // A change it could not name came while loading: load again.
     if (s.dirtyAll) startWarming(sqlite, s, false);
   })()

@@ -11,7 +11,7 @@
 import { parentPort, workerData } from "node:worker_threads";
 import { pino } from "pino";
 import { openDatabase } from "../db/client";
-import { collectGarbage } from "../lib/collect-garbage";
+import { collectGarbage, collectsAfterReport } from "../lib/collect-garbage";
 import { HttpError } from "../lib/http-error";
 import { lowerThisThreadPriority } from "../lib/thread-priority";
 import { speakingIn } from "../lib/words";
@@ -78,19 +78,6 @@ const db = openDatabase(data.databaseFile, { cacheMb: 8 });
 const caches = new Map<number, ReportCacheHandle>();
 let current: ReportCacheHandle | null = null;
 
-/**
- * From this many slabs a full garbage collection follows each report, once its answer is sent. A
- * report lets go of tens of MB of arrays (its scope's rows and affected slabs on shared memory, a
- * condition's values), which the collector otherwise takes back only much later: measured at five
- * million slabs, RSS crept from 690 to 878 MB over six reports in a row (overview, control chart,
- * rate, window, model) and stayed at 640–680 MB with a collection after each, which took 13–35 ms of
- * this thread (the next report waits that long; none of the answers does). The real server's peak
- * while those reports ran after the screenings: 736–806 MB without, 688–764 MB with.
- */
-const COLLECT_FROM_SLABS = 1_000_000;
-/** …after a report that took at least this long (a quick one let go of little). */
-const COLLECT_AFTER_MS = 100;
-
 /** The main thread said "exit": helpers stopping now are not a failure. */
 let exiting = false;
 
@@ -127,10 +114,8 @@ async function handle(m: ToReportThread) {
       } catch (err) {
         send({ type: "reply", id: m.id, ok: false, error: asThreadError(err), status: status() });
       }
-      // Its answer sent, what a report on a large plant let go is collected now (see COLLECT_FROM_SLABS);
-      // not after a quick one (a refusal, "warming up" while the facts load, a narrow scope).
-      const st = status();
-      if (st && st.state !== "warming" && (st.slabs ?? 0) >= COLLECT_FROM_SLABS && performance.now() - began >= COLLECT_AFTER_MS) collectGarbage();
+      // Its answer sent, what a report on a large plant let go is collected now (collectsAfterReport).
+      if (collectsAfterReport(status(), performance.now() - began)) collectGarbage();
       return;
     }
     case "start": {

@@ -8,7 +8,7 @@ import path from "node:path";
 import { pathToFileURL } from "node:url";
 import { afterEach, describe, expect, it } from "vitest";
 import { disposeServer, isAlive, launchServer, REPO_ROOT, startServer, waitFor, type ServerProcess } from "../helpers/server-process";
-import { ALLOCATOR_ENV } from "../../server/lib/allocator";
+import { ALLOCATOR_ENV, withAllocatorEnv } from "../../server/lib/allocator";
 
 let servers: ServerProcess[] = [];
 afterEach(async () => {
@@ -169,6 +169,15 @@ describe("the server runs with the C allocator's setting for large arrays (serve
     },
     120_000,
   );
+
+  it("when the server's environment is made, then an empty or missing setting becomes 128 kB and an operator's own value is kept, nothing else changed", () => {
+    expect(withAllocatorEnv({ PORT: "3000" })).toEqual({ PORT: "3000", MALLOC_MMAP_THRESHOLD_: "131072" });
+    expect(withAllocatorEnv({ MALLOC_MMAP_THRESHOLD_: "" })).toEqual({ MALLOC_MMAP_THRESHOLD_: "131072" });
+    expect(withAllocatorEnv({ MALLOC_MMAP_THRESHOLD_: "262144", PORT: "3000" })).toEqual({ MALLOC_MMAP_THRESHOLD_: "262144", PORT: "3000" });
+    const mine = { PORT: "3000" };
+    withAllocatorEnv(mine);
+    expect(mine).toEqual({ PORT: "3000" });
+  });
 
   it("when the systemd unit starts the server, then it sets the same value", () => {
     const unit = fs.readFileSync(path.join(REPO_ROOT, "deploy/strandsight.service"), "utf8");

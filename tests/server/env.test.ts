@@ -21,6 +21,11 @@ describe("environment", () => {
     expect(env.SEED_DEMO).toBeUndefined();
     expect(env.BETTER_AUTH_URL).toBe("http://localhost:3000");
     expect(env.BETTER_AUTH_SECRET.length).toBeGreaterThanOrEqual(32);
+    // Empty, not 0 (which would put every condition column in a file on a small plant too).
+    expect(vars.REPORT_COLUMNS_MB).toBe("");
+    expect(env.REPORT_COLUMNS_MB).toBeUndefined();
+    // Not a setting of this file: the allocator reads it before the server does.
+    expect(vars.MALLOC_MMAP_THRESHOLD_).toBeUndefined();
   });
 
   it("when single sign-on is set up half-way or with the fake provider in production, then loading stops and says what is missing", () => {

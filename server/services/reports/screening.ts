@@ -115,7 +115,8 @@ function interquartileRange(
  * the quartiles), and by grid key and the levels of the categorical adjustment terms for the
  * adjusted fit (`levels`: their grids), as the fits' collapseByPattern makes them from the grids.
  * With levels, only the latter is made slab by slab and the crude one from it (crudeFromAdjusted:
- * one thread's adjusted screening at five million slabs 5.0–5.1 → 4.4–4.5 s, the same digits).
+ * one thread's adjusted screening at five million slabs, in one process, 5.0–5.1 → 4.4–4.5 s, the
+ * same digits).
  * The fits' grouping and the quartiles' count no longer walk the slabs again (one thread's time
  * per screening at five million slabs: 3.1 → 2.6 s crude, 6.3 → 5.0 s adjusted; Welford's division
  * per slab is hidden behind the pass's other work). The value and key arrays are reused
@@ -193,8 +194,8 @@ interface Pass {
   withValue: Int32Array;
   grid: { keys: Int32Array; lo: number; hi: number } | undefined;
   /**
-   * The crude grouping's patterns, for the quartiles (rep, n and s only where it is made from the
-   * adjusted grouping: its patternOf is the adjusted one's until crudeGrouping()).
+   * The crude grouping's patterns, for the quartiles (where it is made from the adjusted grouping,
+   * its patternOf here is empty: the fit takes crudeGrouping()).
    */
   grouped: Grouped | undefined;
   groupedAdjusted: Grouped | undefined;
