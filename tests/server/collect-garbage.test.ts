@@ -10,7 +10,8 @@ describe("a garbage collection after a report", () => {
     collectGarbage();
     const before = process.memoryUsage().arrayBuffers;
     let big: Float64Array | null = new Float64Array(8 * 1048576).fill(1);
-    expect(process.memoryUsage().arrayBuffers - before).toBeGreaterThanOrEqual(64 * 1048576);
+    // The array's 64 MB (give or take what the test runner lets go meanwhile).
+    expect(process.memoryUsage().arrayBuffers - before).toBeGreaterThan(56 * 1048576);
     expect(big[8 * 1048576 - 1]).toBe(1);
     big = null;
     collectGarbage();
