@@ -212,9 +212,9 @@ interface Pass {
  * them in order numbers the keys in the order of theirs; its affected slabs and slabs are sums of
  * whole numbers, exact in any order. The patterns are made at once (a loop over the patterns); the
  * per-slab array is the adjusted grouping's, rewritten to the crude patterns in place when the
- * crude fit asks for it, after the adjusted fit (one working array of 4 bytes a slab less per
- * thread, and one lookup less per slab in the pass). Only each pattern's first slab's key is read
- * (numericPass writes it).
+ * crude fit asks for it, after the adjusted fit (one lookup less per slab in the pass; the crude
+ * slot's array is still made, by the categorical tests' own grouping, so no memory is saved). Only
+ * each pattern's first slab's key is read (numericPass writes it).
  */
 function crudeFromAdjusted(adj: Grouped, keys: Int32Array, grid: Grid) {
   const count = adj.rep.length;
