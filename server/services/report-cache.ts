@@ -149,6 +149,19 @@ export function onSlabFactsChangedOn(db: Db, hook: FactsListener): () => void {
   };
 }
 
+/**
+ * What the data a report reads are now (the report thread's answers kept, report-answers.ts):
+ * SQLite's data_version on this connection, which moves when another connection commits, and the
+ * facts' state: their change count, the changes recorded but not yet applied, whether they are in.
+ */
+export function dataState(db: Db): { dataVersion: number; facts: string } {
+  const s = stateOf(db.$client);
+  return {
+    dataVersion: db.$client.pragma("data_version", { simple: true }) as number,
+    facts: `${s.version}:${s.dirtyAll ? "all" : s.dirty.size}:${s.facts ? "in" : "none"}`,
+  };
+}
+
 /** Past this many changed slabs a rebuild is cheaper than reading each one again. */
 const PATCH_LIMIT = 50_000;
 

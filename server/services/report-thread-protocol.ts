@@ -31,7 +31,8 @@ export type FromReportThread =
   | { type: "online" }
   | { type: "log"; line: string }
   | { type: "started"; id: number; kind: string }
-  | { type: "reply"; id: number; ok: true; value: unknown; status: ReportCacheStatus | null }
+  /** `reused`: a report's answer given again, nothing it reads having changed (report-answers.ts); absent for other replies. */
+  | { type: "reply"; id: number; ok: true; value: unknown; status: ReportCacheStatus | null; reused?: boolean }
   | { type: "reply"; id: number; ok: false; error: ThreadError; status: ReportCacheStatus | null };
 
 /**

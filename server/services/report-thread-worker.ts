@@ -17,7 +17,8 @@ import { lowerThisThreadPriority } from "../lib/thread-priority";
 import { speakingIn } from "../lib/words";
 import fs from "node:fs";
 import { configureColumnMemory } from "./report-cache-disk";
-import { slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
+import { answerKey, ReportAnswers } from "./report-answers";
+import { dataState, slabFactsChanged, startReportCache, type ReportCacheHandle, type ReportCacheStatus } from "./report-cache";
 import { adjustedModel } from "./reports/adjusted";
 import { beforeAfter } from "./reports/before-after";
 import { controlChart } from "./reports/control-chart";
@@ -78,6 +79,9 @@ const db = openDatabase(data.databaseFile, { cacheMb: 8 });
 const caches = new Map<number, ReportCacheHandle>();
 let current: ReportCacheHandle | null = null;
 
+/** Answers given again while nothing they read has changed (report-answers.ts). */
+const answers = new ReportAnswers();
+
 /** The main thread said "exit": helpers stopping now are not a failure. */
 let exiting = false;
 
@@ -95,6 +99,14 @@ async function handle(m: ToReportThread) {
       slabFactsChanged(db, m.slabIds ?? undefined);
       return;
     case "report": {
+      // The same question on the same data: the answer worked out last time (report-answers.ts).
+      const key = answerKey({ kind: m.kind, query: m.query, defaulted: m.defaulted, language: m.language });
+      const before = dataState(db);
+      const kept = answers.get(key, `${before.dataVersion}|${before.facts}`);
+      if (kept !== undefined) {
+        send({ type: "reply", id: m.id, ok: true, value: kept, status: status(), reused: true });
+        return;
+      }
       send({ type: "started", id: m.id, kind: m.kind });
       const began = performance.now();
       try {
@@ -103,7 +115,10 @@ async function handle(m: ToReportThread) {
         markDefaulted(m.query, m.defaulted);
         const from = performance.now();
         const value = speakingIn(m.language, () => run(db, m.query as never));
-        send({ type: "reply", id: m.id, ok: true, value, status: status() });
+        send({ type: "reply", id: m.id, ok: true, value, status: status(), reused: false });
+        // Kept under the database as it was before the report read it (a commit meanwhile moves it on)
+        // and the facts as the report left them (it applies the changes recorded before it).
+        answers.put(key, `${before.dataVersion}|${dataState(db).facts}`, value);
         if (m.kind === "screening") {
           const share = lastScreeningShare();
           const line = { ...share, ms: Math.round(performance.now() - from) };

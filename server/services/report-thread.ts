@@ -74,6 +74,8 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
   let online = false;
   const pending = new Map<number, Pending>();
   let reportsInFlight = 0;
+  /** Reports answered with an answer kept in the thread (report-answers.ts). */
+  let reused = 0;
   /** The cache run the server started (the latest not closed): started again in a new thread. */
   let cache: CacheRun | null = null;
   /** Change notices made inside a transaction: sent when it has ended. */
@@ -130,6 +132,10 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
     const p = pending.get(m.id);
     if (!p) return;
     pending.delete(m.id);
+    if (m.ok && m.reused) {
+      reused++;
+      events.emit("report-reused");
+    }
     if (m.ok) p.resolve({ value: m.value, status: m.status });
     else p.reject(fromThread(m.error));
   }
@@ -286,9 +292,12 @@ export function createReportThread(db: Db, opts: ReportThreadOptions = {}) {
 
   return {
     run,
-    /** "report-started" (kind) when the thread begins a report; "restarted" (count) after a thread stopped. */
+    /**
+     * "report-started" (kind) when the thread begins a report; "report-reused" when it gives an answer
+     * kept (report-answers.ts) instead; "restarted" (count) after a thread stopped.
+     */
     events,
-    stats: () => ({ running: worker !== null, reportsInFlight, restarts }),
+    stats: () => ({ running: worker !== null, reportsInFlight, restarts, reused }),
     /** Stops the thread as running out of memory would (for the tests of what follows). */
     async kill() {
       await worker?.terminate();

@@ -4,9 +4,14 @@
  * being saved no longer waits behind a report's arithmetic. Through the real app and a real SQLite
  * file: the reports' numbers are the same as computed in-process; a report asked for after a write
  * was answered sees it; a refusal made in the thread comes back as the same 400; a thread that dies
- * mid-report gives a 503 in words and a new thread answers the next one.
+ * mid-report gives a 503 in words and a new thread answers the next one. The thread gives an answer
+ * again, without working it out, while nothing it reads has changed (report-answers.ts): the answer
+ * given again is the one worked out, character for character; a write on any connection (the
+ * app's, or another one that tells the server nothing), a change of slab conditions, another
+ * language or another question has the report worked out again; a refusal is never kept.
  */
 import { once } from "node:events";
+import Database from "better-sqlite3";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { rateByVariableQuerySchema, screeningQuerySchema } from "@shared/api/reports";
 import { HttpError } from "../../server/lib/http-error";
@@ -16,6 +21,7 @@ import { rateByVariable } from "../../server/services/reports/rate-by-variable";
 import { screening } from "../../server/services/reports/screening";
 import type { ReportThread } from "../../server/services/report-thread";
 import { createTestApp, type TestApp } from "../helpers/test-app";
+import { downloadWorkbook } from "../helpers/workbooks";
 
 let t: TestApp;
 let quality: Awaited<ReturnType<TestApp["agentFor"]>>;
@@ -36,6 +42,7 @@ afterAll(async () => {
 const O = () => t.env.BETTER_AUTH_URL;
 let keys = 0;
 const key = () => `report-thread-${process.pid}-${++keys}`;
+const reused = () => thread.stats().reused;
 
 /** A slab with a casting speed and no defect yet. */
 function cleanSlab() {
@@ -45,6 +52,11 @@ function cleanSlab() {
        where c.casting_speed_m_min is not null and s.id not in (select slab_id from defects) order by s.id desc limit 1`,
     )
     .get() as { slabId: string; id: number };
+}
+/** A slab's casting speed written and resolved here (the change notice goes to the thread before the next report). */
+function setCastingSpeed(id: number, v: number) {
+  t.db.$client.prepare("update slabs set casting_speed_m_min = ? where id = ?").run(v, id);
+  createResolver(t.db).resolve([id]);
 }
 const defectOn = (slabId: string, type = "SLG") => ({
   slab_id: slabId,
@@ -69,9 +81,13 @@ describe("reports in the report thread", () => {
     const path = "/api/reports/screening?adjustFor=none&defectType=SLG";
     const done: string[] = [];
     const started = once(thread.events, "report-started");
-    // Six reports queue in the one thread (it works them out one after another).
-    const reports = Array.from({ length: 6 }, (_, i) =>
-      quality.get(path).then((res) => {
+    // Six reports queue in the one thread (it works them out one after another): six questions, so
+    // none is an answer kept from the one before (report-answers.ts).
+    const paths = ["SLG", "LFC", "SLV"].flatMap((type) =>
+      ["cluster", "model"].map((se) => `/api/reports/screening?adjustFor=none&defectType=${type}&se=${se}`),
+    );
+    const reports = paths.map((p, i) =>
+      quality.get(p).then((res) => {
         done.push(`report ${i}`);
         return res;
       }),
@@ -117,8 +133,7 @@ describe("reports in the report thread", () => {
     expect(after.body.slabs).toBe(before.body.slabs);
 
     // A condition changed and resolved here (the change notice goes to the thread before the next report).
-    t.db.$client.prepare("update slabs set casting_speed_m_min = 9.876 where id = ?").run(slab.id);
-    createResolver(t.db).resolve([slab.id]);
+    setCastingSpeed(slab.id, 9.876);
     const moved = await quality.get(`${path}&bins=4`);
     expect(moved.status).toBe(200);
     const expected = inProcess(() => rateByVariable(t.db, rateByVariableQuerySchema.parse({ variable: "casting_speed_m_min", defectType: "SLG", bins: "4" })));
@@ -179,4 +194,95 @@ describe("reports in the report thread", () => {
     // Meanwhile the rest of the server answered as ever.
     expect((await inspector.get("/api/me")).status).toBe(200);
   }, 60_000);
+});
+
+describe("the report thread's answers given again", () => {
+  it("when the same screening is asked again and then as a workbook, then both are the answer worked out, not worked out again, and it equals the one computed in-process", async () => {
+    const path = "/api/reports/screening?defectType=SLG";
+    // A write first: whatever an earlier request left kept is of another data state.
+    expect((await quality.post("/api/saved-reports").set("Origin", O()).send({ name: "first", reportKind: "screening", query: "defectType=SLG" })).status).toBe(
+      201,
+    );
+    const r0 = reused();
+    const first = await quality.get(path);
+    expect(first.status).toBe(200);
+    expect(reused()).toBe(r0);
+    const again = await quality.get(path);
+    expect(again.status).toBe(200);
+    expect(reused()).toBe(r0 + 1);
+    expect(again.text).toBe(first.text);
+    // Written explicitly, the defaults are the same question (a term list written out is not: the
+    // answer says whether its terms were the defaults).
+    const explicit = await quality.get(`${path}&se=cluster&rankBy=adjusted`);
+    expect(explicit.text).toBe(first.text);
+    expect(reused()).toBe(r0 + 2);
+    // The workbook of what was just seen: the same answer, given again.
+    const wb = await downloadWorkbook(quality, path.replace("screening?", "screening.xlsx?"));
+    expect(wb.worksheets.length).toBeGreaterThan(0);
+    expect(reused()).toBe(r0 + 3);
+    const expected = inProcess(() => screening(t.db, screeningQuerySchema.parse({ defectType: "SLG" })));
+    expect(JSON.parse(first.text)).toEqual(JSON.parse(JSON.stringify(expected)));
+  }, 60_000);
+
+  it("when a defect is posted, or a defect written by another connection that tells the server nothing, then the next report is worked out again and counts it", async () => {
+    const path = "/api/reports/rate-by-variable?variable=casting_speed_m_min&defectType=SLG";
+    const before = await quality.get(path);
+    expect((await quality.get(path)).text).toBe(before.text);
+    const r0 = reused();
+
+    const posted = await inspector.post("/api/defects").set("Origin", O()).send(defectOn(cleanSlab().slabId));
+    expect(posted.status).toBe(201);
+    const afterPost = await quality.get(path);
+    expect(reused()).toBe(r0);
+    expect(afterPost.body.affected).toBe(before.body.affected + 1);
+    expect((await quality.get(path)).text).toBe(afterPost.text);
+    expect(reused()).toBe(r0 + 1);
+
+    // Another connection to the file (another process, a repair by hand): SQLite's data_version moves.
+    const other = new Database(t.env.DATABASE_FILE);
+    try {
+      other
+        .prepare(
+          `insert into defects (slab_id, type_id, face, severity, stage, disposition, found_at, client_key)
+           values (?, (select id from defect_types where code = 'SLG'), 'outer', 1, 'slab_yard', 'accept', ?, ?)`,
+        )
+        .run(cleanSlab().id, Date.now(), `report-answers-other-${process.pid}`);
+    } finally {
+      other.close();
+    }
+    const afterOther = await quality.get(path);
+    expect(reused()).toBe(r0 + 1);
+    expect(afterOther.body.affected).toBe(afterPost.body.affected + 1);
+  }, 60_000);
+
+  it("when a slab's conditions change, then the next report has the new value; the same question in German is its own answer", async () => {
+    const path = "/api/reports/rate-by-variable?variable=casting_speed_m_min&bins=4";
+    const before = await quality.get(path);
+    expect(before.status).toBe(200);
+    setCastingSpeed(cleanSlab().id, 9.95);
+    const r0 = reused();
+    const moved = await quality.get(path);
+    expect(reused()).toBe(r0);
+    expect(Math.max(...moved.body.bins.map((b: { upper: number }) => b.upper))).toBeGreaterThanOrEqual(9.95);
+    expect(Math.max(...before.body.bins.map((b: { upper: number }) => b.upper))).toBeLessThan(9.95);
+
+    const de = await quality.get(path).set("Accept-Language", "de");
+    expect(de.status).toBe(200);
+    expect(reused()).toBe(r0);
+    expect(de.text).not.toBe(moved.text);
+    expect((await quality.get(path).set("Accept-Language", "de")).text).toBe(de.text);
+    expect((await quality.get(path)).text).toBe(moved.text);
+    expect(reused()).toBe(r0 + 2);
+  }, 60_000);
+
+  it("when a report refuses its query, then the refusal is not kept: asked again, it is worked out again and refused the same way", async () => {
+    const path = "/api/reports/rate-by-variable?variable=casting_speed_m_min&grade=NO-SUCH-GRADE";
+    const r0 = reused();
+    const a = await quality.get(path);
+    const b = await quality.get(path);
+    expect(a.status).toBe(400);
+    expect(b.status).toBe(400);
+    expect(b.body).toEqual(a.body);
+    expect(reused()).toBe(r0);
+  });
 });

@@ -1,0 +1,72 @@
+/**
+ * The report thread's last answers, given again while nothing they read has changed.
+ *
+ * On a large plant a screening takes seconds of arithmetic (three at five million slabs), and the
+ * same question is often asked again with nothing changed in between: the workbook of the report
+ * just seen (the .xlsx route runs the same report for the same query), a screen opened again, a
+ * second engineer looking at the same default view. Those are answered from here.
+ *
+ * An answer is given again only while
+ * - SQLite's `data_version` on the report thread's connection is what it was when the answer was
+ *   worked out: it changes whenever another connection commits (the main thread's writes, an
+ *   import's, another process's; sqlite.org/pragma.html#pragma_data_version), and the report
+ *   thread's connection never writes; and
+ * - the slab facts have taken no change since (report-cache.ts, factsVersion);
+ * for the same report, the same query (as parsed, every default filled in), the same defaulted
+ * term lists and the same language. Reports read nothing else (not the clock, not the user).
+ * Once either number moves, every answer kept is dropped. A failed report is never kept.
+ *
+ * A plain Map in insertion order as a small least-recently-used list (a package for sixteen entries
+ * would be more code to read than this).
+ */
+export interface AnswerKey {
+  kind: string;
+  query: unknown;
+  defaulted: string[];
+  language: string;
+}
+
+/** Answers kept at most (each is what the screen is sent: a few kB to a few hundred kB). */
+export const ANSWERS_KEPT = 16;
+
+export function answerKey(k: AnswerKey): string {
+  return JSON.stringify([k.kind, k.query, [...k.defaulted].sort(), k.language]);
+}
+
+export class ReportAnswers {
+  private readonly entries = new Map<string, unknown>();
+  /** What the data were when the answers kept were worked out (null: nothing kept). */
+  private state: string | null = null;
+
+  constructor(private readonly kept = ANSWERS_KEPT) {}
+
+  /** The answer kept for this key while the data are still `state`; undefined when there is none. */
+  get(key: string, state: string): unknown {
+    if (state !== this.state) {
+      this.entries.clear();
+      this.state = null;
+      return undefined;
+    }
+    if (!this.entries.has(key)) return undefined;
+    const value = this.entries.get(key);
+    // Most recently used last.
+    this.entries.delete(key);
+    this.entries.set(key, value);
+    return value;
+  }
+
+  /** Keeps an answer worked out on data that were `state` throughout. */
+  put(key: string, state: string, value: unknown) {
+    if (state !== this.state) {
+      this.entries.clear();
+      this.state = state;
+    }
+    this.entries.delete(key);
+    this.entries.set(key, value);
+    while (this.entries.size > this.kept) this.entries.delete(this.entries.keys().next().value!);
+  }
+
+  get size() {
+    return this.entries.size;
+  }
+}
