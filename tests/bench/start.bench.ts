@@ -189,7 +189,7 @@ async function startOnce(dir: string, label: string): Promise<Start> {
         severity: 1,
         stage: "slab_yard",
         disposition: "accept",
-        client_key: `bench-start-${label}-${logged}`,
+        client_key: `bench-start-${t0.toFixed(0)}-${logged}`,
       }),
     });
     if (res.status !== 201) throw new Error(`defect post ${res.status}: ${await res.text()}`);
