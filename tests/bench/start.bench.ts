@@ -112,6 +112,10 @@ async function startOnce(dir: string, label: string): Promise<Start> {
     },
     stdio: ["ignore", "pipe", "pipe"],
   });
+  // A bench that fails half-way leaves no server running behind it (it would share the next run's cores).
+  const stop = () => child.kill("SIGKILL");
+  process.once("exit", stop);
+  child.once("exit", () => process.off("exit", stop));
   let out = "";
   child.stdout!.on("data", (c: Buffer) => (out += c.toString()));
   child.stderr!.on("data", (c: Buffer) => (out += c.toString()));
