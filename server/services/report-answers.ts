@@ -26,47 +26,79 @@ export interface AnswerKey {
   language: string;
 }
 
-/** Answers kept at most (each is what the screen is sent: a few kB to a few hundred kB). */
+/** Answers kept at most. */
 export const ANSWERS_KEPT = 16;
+/**
+ * Their size as JSON at most, characters, each and in all: a screening is ≈ 25 kB, but a control
+ * chart or an overview by day over ten years of a large plant comes to ≈ 1–1.5 MB (a point a day,
+ * ≈ 430 characters each), and the objects take a few times their JSON on the report thread's heap.
+ */
+export const ANSWER_MAX_CHARS = 2_000_000;
+export const ANSWERS_MAX_CHARS = 8_000_000;
 
 export function answerKey(k: AnswerKey): string {
   return JSON.stringify([k.kind, k.query, [...k.defaulted].sort(), k.language]);
 }
 
 export class ReportAnswers {
-  private readonly entries = new Map<string, unknown>();
+  private readonly entries = new Map<string, { value: unknown; chars: number }>();
   /** What the data were when the answers kept were worked out (null: nothing kept). */
   private state: string | null = null;
+  private chars = 0;
 
-  constructor(private readonly kept = ANSWERS_KEPT) {}
+  constructor(
+    private readonly kept = ANSWERS_KEPT,
+    private readonly maxChars = ANSWER_MAX_CHARS,
+    private readonly totalChars = ANSWERS_MAX_CHARS,
+  ) {}
+
+  private drop(key: string) {
+    const e = this.entries.get(key);
+    if (!e) return;
+    this.entries.delete(key);
+    this.chars -= e.chars;
+  }
+
+  private clear() {
+    this.entries.clear();
+    this.chars = 0;
+  }
 
   /** The answer kept for this key while the data are still `state`; undefined when there is none. */
   get(key: string, state: string): unknown {
     if (state !== this.state) {
-      this.entries.clear();
+      this.clear();
       this.state = null;
       return undefined;
     }
-    if (!this.entries.has(key)) return undefined;
-    const value = this.entries.get(key);
+    const e = this.entries.get(key);
+    if (!e) return undefined;
     // Most recently used last.
     this.entries.delete(key);
-    this.entries.set(key, value);
-    return value;
+    this.entries.set(key, e);
+    return e.value;
   }
 
-  /** Keeps an answer worked out on data that were `state` throughout. */
+  /** Keeps an answer worked out on data that were `state` throughout (unless larger than an answer may be). */
   put(key: string, state: string, value: unknown) {
     if (state !== this.state) {
-      this.entries.clear();
+      this.clear();
       this.state = state;
     }
-    this.entries.delete(key);
-    this.entries.set(key, value);
-    while (this.entries.size > this.kept) this.entries.delete(this.entries.keys().next().value!);
+    this.drop(key);
+    const chars = JSON.stringify(value)?.length ?? 0;
+    if (chars > this.maxChars) return;
+    this.entries.set(key, { value, chars });
+    this.chars += chars;
+    while (this.entries.size > this.kept || this.chars > this.totalChars) this.drop(this.entries.keys().next().value!);
   }
 
   get size() {
     return this.entries.size;
+  }
+
+  /** Their size as JSON, characters. */
+  get totalSize() {
+    return this.chars;
   }
 }

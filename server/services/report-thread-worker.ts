@@ -93,6 +93,15 @@ function asThreadError(err: unknown): ThreadError {
   return { http: false, message: e?.message ?? String(err), stack: e?.stack };
 }
 
+/** An answer kept (report-answers.ts); one that cannot be (the database's state unreadable) is simply not. */
+function keep(key: string, dataVersion: number, value: unknown) {
+  try {
+    answers.put(key, `${dataVersion}|${dataState(db).facts}`, value);
+  } catch (err) {
+    logger.debug({ err }, "report answer not kept");
+  }
+}
+
 async function handle(m: ToReportThread) {
   switch (m.type) {
     case "changed":
@@ -100,12 +109,19 @@ async function handle(m: ToReportThread) {
       return;
     case "report": {
       // The same question on the same data: the answer worked out last time (report-answers.ts).
+      // Asking the database which state it is in can fail like any read (the file gone, damaged):
+      // then the report is worked out, and fails or answers as it would have.
       const key = answerKey({ kind: m.kind, query: m.query, defaulted: m.defaulted, language: m.language });
-      const before = dataState(db);
-      const kept = answers.get(key, `${before.dataVersion}|${before.facts}`);
-      if (kept !== undefined) {
-        send({ type: "reply", id: m.id, ok: true, value: kept, status: status(), reused: true });
-        return;
+      let before: ReturnType<typeof dataState> | null = null;
+      try {
+        before = dataState(db);
+        const kept = answers.get(key, `${before.dataVersion}|${before.facts}`);
+        if (kept !== undefined) {
+          send({ type: "reply", id: m.id, ok: true, value: kept, status: status(), reused: true });
+          return;
+        }
+      } catch {
+        before = null;
       }
       send({ type: "started", id: m.id, kind: m.kind });
       const began = performance.now();
@@ -118,7 +134,7 @@ async function handle(m: ToReportThread) {
         send({ type: "reply", id: m.id, ok: true, value, status: status(), reused: false });
         // Kept under the database as it was before the report read it (a commit meanwhile moves it on)
         // and the facts as the report left them (it applies the changes recorded before it).
-        answers.put(key, `${before.dataVersion}|${dataState(db).facts}`, value);
+        if (before) keep(key, before.dataVersion, value);
         if (m.kind === "screening") {
           const share = lastScreeningShare();
           const line = { ...share, ms: Math.round(performance.now() - from) };

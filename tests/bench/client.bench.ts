@@ -211,6 +211,17 @@ async function main() {
     await signIn.close();
     const ctxOptions: BrowserContextOptions = { viewport: DESKTOP, storageState };
 
+    // Each load's report worked out, not the answer the report thread kept from the load before
+    // (report-answers.ts): a write that changes nothing a report reads (a saved report, added and
+    // taken away) moves the database on first.
+    const sqlite = server.db.$client;
+    const quality = sqlite.prepare("select id from user where email = 'quality@demo.test'").pluck().get() as string;
+    const fresh = () => {
+      const id = sqlite
+        .prepare("insert into saved_reports (user_id, name, report_kind, query, created_at, updated_at) values (?, 'bench', 'overview', '', 0, 0)")
+        .run(quality).lastInsertRowid;
+      sqlite.prepare("delete from saved_reports where id = ?").run(id);
+    };
     // The server's own caches warm once, so that every load measured is the client's and the network's.
     for (const s of SCREENS) await loadOnce(browser, ctxOptions, server.baseUrl + s.path, "local", s);
 
@@ -226,6 +237,7 @@ async function main() {
       for (const s of SCREENS) {
         const loads: Load[] = [];
         for (let i = 0; i < RUNS; i++) {
+          fresh();
           const l = await loadOnce(browser, ctxOptions, server.baseUrl + s.path, network, s);
           loads.push(l);
           console.log(

@@ -29,6 +29,30 @@ describe("the answers kept (unit)", () => {
     expect(a.get("w", "s3")).toEqual({ n: 4 });
   });
 
+  it("when an answer is larger than one may be, then it is not kept; past the size of them all, the least recently used go", () => {
+    // Sizes as JSON: {"s":"xxxx"} is 12 characters with a 4-character string.
+    const answer = (n: number) => ({ s: "x".repeat(n) });
+    const a = new ReportAnswers(16, 30, 60);
+    a.put("big", "s", answer(30));
+    expect(a.get("big", "s")).toBeUndefined();
+    expect(a.size).toBe(0);
+    a.put("p", "s", answer(12)); // 20
+    a.put("q", "s", answer(12)); // 40
+    expect(a.totalSize).toBe(40);
+    expect(a.get("p", "s")).toEqual(answer(12));
+    a.put("r", "s", answer(17)); // 65 > 60: q (least recently used) goes
+    expect(a.totalSize).toBe(45);
+    expect(a.get("q", "s")).toBeUndefined();
+    expect(a.get("p", "s")).toEqual(answer(12));
+    expect(a.get("r", "s")).toEqual(answer(17));
+    // The same key again replaces, and its old size is let go.
+    a.put("r", "s", answer(2));
+    expect(a.totalSize).toBe(30);
+    // A new state: nothing kept, nothing counted.
+    expect(a.get("p", "t")).toBeUndefined();
+    expect(a.totalSize).toBe(0);
+  });
+
   it("when two questions differ in their report, query, defaulted lists or language, then their keys differ; the order of the defaulted lists does not matter", () => {
     const base = { kind: "screening", query: { defectType: "SLG", adjustFor: ["grade_family"] }, defaulted: ["adjustFor", "variables"], language: "en" };
     const k = answerKey(base);
