@@ -11,14 +11,16 @@
  *   worked out: it changes whenever another connection commits (the main thread's writes, an
  *   import's, another process's; sqlite.org/pragma.html#pragma_data_version), and the report
  *   thread's connection never writes; and
- * - the slab facts have taken no change since (report-cache.ts, factsVersion);
+ * - the slab facts have taken no change since (report-cache.ts, dataState);
  * for the same report, the same query (as parsed, every default filled in), the same defaulted
  * term lists and the same language. Reports read nothing else (not the clock, not the user).
  * Once either number moves, every answer kept is dropped. A failed report is never kept.
  *
- * A plain Map in insertion order as a small least-recently-used list (a package for sixteen entries
- * would be more code to read than this).
+ * lru-cache keeps them (least recently used out first, past the count or the size); the data state
+ * is one string beside it: a new one empties it.
  */
+import { LRUCache } from "lru-cache";
+
 export interface AnswerKey {
   kind: string;
   query: unknown;
@@ -41,56 +43,38 @@ export function answerKey(k: AnswerKey): string {
 }
 
 export class ReportAnswers {
-  private readonly entries = new Map<string, { value: unknown; chars: number }>();
+  private readonly entries: LRUCache<string, { value: unknown }>;
   /** What the data were when the answers kept were worked out (null: nothing kept). */
   private state: string | null = null;
-  private chars = 0;
 
-  constructor(
-    private readonly kept = ANSWERS_KEPT,
-    private readonly maxChars = ANSWER_MAX_CHARS,
-    private readonly totalChars = ANSWERS_MAX_CHARS,
-  ) {}
-
-  private drop(key: string) {
-    const e = this.entries.get(key);
-    if (!e) return;
-    this.entries.delete(key);
-    this.chars -= e.chars;
-  }
-
-  private clear() {
-    this.entries.clear();
-    this.chars = 0;
+  constructor(kept = ANSWERS_KEPT, maxChars = ANSWER_MAX_CHARS, totalChars = ANSWERS_MAX_CHARS) {
+    // Sized by their JSON; one larger than maxEntrySize is not kept.
+    this.entries = new LRUCache({
+      max: kept,
+      maxSize: totalChars,
+      maxEntrySize: maxChars,
+      sizeCalculation: (e) => Math.max(1, JSON.stringify(e.value)?.length ?? 0),
+    });
   }
 
   /** The answer kept for this key while the data are still `state`; undefined when there is none. */
   get(key: string, state: string): unknown {
     if (state !== this.state) {
-      this.clear();
+      this.entries.clear();
       this.state = null;
       return undefined;
     }
-    const e = this.entries.get(key);
-    if (!e) return undefined;
-    // Most recently used last.
-    this.entries.delete(key);
-    this.entries.set(key, e);
-    return e.value;
+    return this.entries.get(key)?.value;
   }
 
   /** Keeps an answer worked out on data that were `state` throughout (unless larger than an answer may be). */
   put(key: string, state: string, value: unknown) {
     if (state !== this.state) {
-      this.clear();
+      this.entries.clear();
       this.state = state;
     }
-    this.drop(key);
-    const chars = JSON.stringify(value)?.length ?? 0;
-    if (chars > this.maxChars) return;
-    this.entries.set(key, { value, chars });
-    this.chars += chars;
-    while (this.entries.size > this.kept || this.chars > this.totalChars) this.drop(this.entries.keys().next().value!);
+    this.entries.delete(key);
+    this.entries.set(key, { value });
   }
 
   get size() {
@@ -99,6 +83,6 @@ export class ReportAnswers {
 
   /** Their size as JSON, characters. */
   get totalSize() {
-    return this.chars;
+    return this.entries.calculatedSize;
   }
 }
