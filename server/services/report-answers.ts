@@ -73,7 +73,7 @@ export class ReportAnswers {
       this.entries.clear();
       this.state = state;
     }
-    this.entries.delete(key);
+    // (An answer too large to keep also takes the one kept before under its key out: lru-cache's set.)
     this.entries.set(key, { value });
   }
 

@@ -48,6 +48,10 @@ describe("the answers kept (unit)", () => {
     // The same key again replaces, and its old size is let go.
     a.put("r", "s", answer(2));
     expect(a.totalSize).toBe(30);
+    // An answer too large under a key already kept: the old one goes too (it is no longer the answer).
+    a.put("r", "s", answer(30));
+    expect(a.get("r", "s")).toBeUndefined();
+    expect(a.totalSize).toBe(20);
     // A new state: nothing kept, nothing counted.
     expect(a.get("p", "t")).toBeUndefined();
     expect(a.totalSize).toBe(0);
