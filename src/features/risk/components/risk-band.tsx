@@ -1,17 +1,8 @@
 import { Trans, useTranslation } from "react-i18next";
-import type { RiskBand, SlabRiskBrief } from "@shared/api/risk";
+import type { SlabRiskBrief } from "@shared/api/risk";
 import { pct } from "@/lib/format";
 import { useTerms } from "@/i18n/terms";
-
-/** The bands in order, their words and their look (a bar at the left, the strength of the tint). Shared by the yard, heats and slabs. */
-export const BAND_RANK: Record<RiskBand, number> = { high: 2, raised: 1, usual: 0 };
-export const BAND_STYLE: Record<RiskBand, string> = {
-  high: "border-l-8 border-l-ember-700 bg-ember-100",
-  raised: "border-l-8 border-l-ember-500 bg-ember-50",
-  usual: "border-l-8 border-l-ink-300 bg-white",
-};
-/** English words of the bands, for screens not yet translated; a translated screen takes risk.band.words from the catalogue. */
-export const BAND_WORDS: Record<RiskBand, string> = { high: "High risk", raised: "Raised risk", usual: "Usual risk" };
+import { BAND_STYLE } from "../bands";
 
 /** A defect's name (the plant's catalogue) inside an English sentence starts small; in German it keeps its capital. */
 const inSentence = (language: string, name: string) => (language === "de" ? name : name.toLowerCase());

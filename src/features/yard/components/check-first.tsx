@@ -1,7 +1,7 @@
 import { Trans, useTranslation } from "react-i18next";
 import { Link } from "react-router";
 import type { YardSlab } from "@shared/api/yard";
-import { BAND_RANK, BAND_STYLE } from "@/features/risk/components/risk-band";
+import { BAND_RANK, BAND_STYLE } from "@/features/risk/bands";
 import { count, pct } from "@/lib/format";
 
 /** The waiting slabs that carry a risk, riskiest first: band, then risk. */
