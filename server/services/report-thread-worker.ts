@@ -112,16 +112,18 @@ async function handle(m: ToReportThread) {
       // Asking the database which state it is in can fail like any read (the file gone, damaged):
       // then the report is worked out, and fails or answers as it would have.
       const key = answerKey({ kind: m.kind, query: m.query, defaulted: m.defaulted, language: m.language });
-      let before: ReturnType<typeof dataState> | null = null;
+      let before: number | null = null; // data_version before the report reads anything
+      let kept: unknown;
       try {
-        before = dataState(db);
-        const kept = answers.get(key, `${before.dataVersion}|${before.facts}`);
-        if (kept !== undefined) {
-          send({ type: "reply", id: m.id, ok: true, value: kept, status: status(), reused: true });
-          return;
-        }
+        const state = dataState(db);
+        kept = answers.get(key, `${state.dataVersion}|${state.facts}`);
+        before = state.dataVersion;
       } catch {
-        before = null;
+        // Nothing kept is given, and nothing worked out now will be.
+      }
+      if (kept !== undefined) {
+        send({ type: "reply", id: m.id, ok: true, value: kept, status: status(), reused: true });
+        return;
       }
       send({ type: "started", id: m.id, kind: m.kind });
       const began = performance.now();
@@ -134,7 +136,7 @@ async function handle(m: ToReportThread) {
         send({ type: "reply", id: m.id, ok: true, value, status: status(), reused: false });
         // Kept under the database as it was before the report read it (a commit meanwhile moves it on)
         // and the facts as the report left them (it applies the changes recorded before it).
-        if (before) keep(key, before.dataVersion, value);
+        if (before !== null) keep(key, before, value);
         if (m.kind === "screening") {
           const share = lastScreeningShare();
           const line = { ...share, ms: Math.round(performance.now() - from) };
