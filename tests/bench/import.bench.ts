@@ -95,7 +95,7 @@ function runTask(task: string, dir: string): TaskResult | null {
     stdio: ["ignore", "pipe", "inherit"],
     // With the C allocator's setting npm start's supervisor gives the server (server/lib/allocator.ts),
     // for the exceljs reads too (BENCH_ALLOCATOR=glibc: without). Measured side by side, twice: the
-    // import's peak 251–259 MB without it, 238–240 MB with it; the times and ratios the same.
+    // import's peak 251–259 MB without it, 233–240 MB with it; the times and ratios the same.
     env: { ...process.env, LOG_LEVEL: "silent", ...(ALLOCATOR ? ALLOCATOR_ENV : {}) },
   });
   const last = out.trim().split("\n").pop();
