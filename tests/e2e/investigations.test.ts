@@ -94,8 +94,9 @@ describe("investigations in the browser", () => {
     // Close it with the confirmed cause.
     await page.goto(`${env.server.baseUrl}/investigations/${id}`);
     const close = page.getByRole("form", { name: "Close the investigation" });
-    // The supported hypothesis's tag is offered first.
-    expect(await close.getByLabel("Confirmed cause").inputValue()).toBe("low-superheat");
+    // The supported hypothesis's tag is offered first (once the cause tags, fetched beside the
+    // investigation, have come: the form is drawn with the investigation).
+    await expect.poll(() => close.getByLabel("Confirmed cause").inputValue()).toBe("low-superheat");
     await close.getByRole("button", { name: "Close with this cause" }).click();
     await close.getByText("Say in the closure note what was found and done.").waitFor();
     await close.getByLabel("Closure note").fill("Superheat was 12 °C after the change; preheat practice reviewed through the change procedure.");
