@@ -66,7 +66,9 @@ describe("reports warming up after a start", () => {
         await page.getByTestId("screening-table").waitFor({ timeout: 60_000 });
         expect(await page.getByTestId("report-warming-up").count()).toBe(0);
         await snap(page, `report-warmed-up-${name}`);
-        expect(errors).toEqual([]);
+        // A request the tablet had under way as it went offline fails with the network's words in the
+        // console (the screen's own ask again, when its Retry-After fell just then): not a fault of the app.
+        expect(name === "tablet" ? errors.filter((e) => !e.includes("net::ERR_INTERNET_DISCONNECTED")) : errors).toEqual([]);
       }
     } finally {
       await release();
