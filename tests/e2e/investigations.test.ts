@@ -58,6 +58,8 @@ describe("investigations in the browser", () => {
     await page.getByTestId("hypothesis").filter({ hasText: "cause tag: Low superheat" }).waitFor();
     await page.getByTestId("hypothesis").getByRole("button", { name: "Supported" }).click();
     await expect.poll(() => page.getByTestId("hypothesis-status").first().textContent()).toBe("Supported");
+    // The closure form, on the same page, now offers that hypothesis's cause.
+    await expect.poll(() => page.getByRole("form", { name: "Close the investigation" }).getByLabel("Confirmed cause").inputValue()).toBe("low-superheat");
 
     // An action whose due date has passed.
     const people = (await api.get("/api/investigations/people")).body.people as { id: string; name: string }[];
@@ -75,6 +77,25 @@ describe("investigations in the browser", () => {
     expect(await action.getByTestId("overdue-mark").textContent()).toBe("Overdue");
     expect(await action.textContent()).toContain(owner.name);
     await snap(page, "investigation-open-tablet");
+    // On a desktop the actions card is half the page wide: the person and the date still show whole
+    // (the words the field holds measured in its own font, against the room inside it).
+    await page.setViewportSize(DESKTOP);
+    const room = (field: string) =>
+      act.getByLabel(field).evaluate((el: HTMLInputElement | HTMLSelectElement) => {
+        const cs = getComputedStyle(el);
+        const ctx = document.createElement("canvas").getContext("2d")!;
+        ctx.font = `${cs.fontWeight} ${cs.fontSize} ${cs.fontFamily}`;
+        const text = el instanceof HTMLSelectElement ? (el.selectedOptions[0]?.text ?? "") : "00/00/0000";
+        // A list's arrow takes about 1.25 em beside its words (a date field keeps room for its calendar button in its padding).
+        const arrow = el instanceof HTMLSelectElement ? 1.25 * parseFloat(cs.fontSize) : 0;
+        const inside = el.clientWidth - parseFloat(cs.paddingLeft) - parseFloat(cs.paddingRight) - arrow;
+        return Math.round(inside - ctx.measureText(text).width);
+      });
+    await snap(page, "investigation-actions-desktop");
+    // (Measured: 46 and 17 px to spare; −173 and −19 px when the card's four fields shared one line.)
+    expect(await room("Action owner")).toBeGreaterThanOrEqual(0);
+    expect(await room("Due on")).toBeGreaterThanOrEqual(0);
+    await page.setViewportSize(TABLET);
 
     // The list: this investigation with one overdue action, as the API counts it.
     await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Investigations" }).click();
@@ -91,12 +112,27 @@ describe("investigations in the browser", () => {
     await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Process" }).click();
     await page.getByTestId("process-investigation").filter({ hasText: listed.ref }).getByTestId("overdue-mark").waitFor();
 
-    // Close it with the confirmed cause.
+    // Close it with the confirmed cause. The cause list is held back (a slow network): the form,
+    // drawn with the investigation, says it is on its way and cannot be sent, rather than offer "choose".
+    let release!: () => void;
+    const held = new Promise<void>((resolve) => (release = resolve));
+    await page.route("**/api/cause-tags*", async (r) => {
+      await held;
+      await r.continue();
+    });
     await page.goto(`${env.server.baseUrl}/investigations/${id}`);
     const close = page.getByRole("form", { name: "Close the investigation" });
-    // The supported hypothesis's tag is offered first (once the cause tags, fetched beside the
-    // investigation, have come: the form is drawn with the investigation).
-    await expect.poll(() => close.getByLabel("Confirmed cause").inputValue()).toBe("low-superheat");
+    const cause = close.getByLabel("Confirmed cause");
+    await cause.waitFor();
+    expect(await cause.isDisabled()).toBe(true);
+    expect(await cause.locator("option").allTextContents()).toEqual(["Loading the cause list…"]);
+    expect(await close.getByRole("button", { name: "Close with this cause" }).isDisabled()).toBe(true);
+    expect(await page.getByRole("form", { name: "Add a hypothesis" }).getByLabel("Cause tag (optional)").isDisabled()).toBe(true);
+    release();
+    // Then the supported hypothesis's tag is offered first.
+    await expect.poll(() => cause.inputValue()).toBe("low-superheat");
+    expect(await cause.isDisabled()).toBe(false);
+    await page.unroute("**/api/cause-tags*");
     await close.getByRole("button", { name: "Close with this cause" }).click();
     await close.getByText("Say in the closure note what was found and done.").waitFor();
     await close.getByLabel("Closure note").fill("Superheat was 12 °C after the change; preheat practice reviewed through the change procedure.");
@@ -117,6 +153,33 @@ describe("investigations in the browser", () => {
 
     expect(errors).toEqual([]);
     await context.close();
+  });
+
+  it("when an investigation's owner has since been deactivated, then its page still names that owner, not the first person offered", async () => {
+    const sqlite = env.server.db.$client;
+    const id = sqlite.prepare("select id from investigations where status <> 'closed' order by id limit 1").pluck().get() as number;
+    const was = sqlite.prepare("select owner_id from investigations where id = ?").pluck().get(id) as string | null;
+    const gone = sqlite.prepare("select id, name from user where email = 'claims@demo.test'").get() as { id: string; name: string };
+    sqlite.prepare("update investigations set owner_id = ? where id = ?").run(gone.id, id);
+    sqlite.prepare("update user set banned = 1 where id = ?").run(gone.id);
+    const context = await env.browser.newContext({ viewport: DESKTOP });
+    try {
+      const page = await context.newPage();
+      const errors = collectPageErrors(page);
+      await signInAs(page, env.server.baseUrl, "process", TEST_PASSWORD);
+      await page.goto(`${env.server.baseUrl}/investigations/${id}`);
+      const owner = page.getByLabel("Owner", { exact: true });
+      await owner.waitFor();
+      // Once the people offered have come (the deactivated owner is not among them).
+      await expect.poll(() => page.getByLabel("Action owner").locator("option").count()).toBeGreaterThan(1);
+      expect(await owner.inputValue()).toBe(gone.id);
+      expect(await owner.evaluate((el: HTMLSelectElement) => el.selectedOptions[0]?.text)).toBe(gone.name);
+      expect(errors).toEqual([]);
+    } finally {
+      await context.close();
+      sqlite.prepare("update user set banned = 0 where id = ?").run(gone.id);
+      sqlite.prepare("update investigations set owner_id = ? where id = ?").run(was, id);
+    }
   });
 
   it("when a quality engineer opens an investigation, then it reads without any control to change it", async () => {

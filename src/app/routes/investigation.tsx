@@ -49,10 +49,12 @@ export function Component() {
   if (inv.isError) return <Notice tone="error">{inv.error.message}</Notice>;
   const i = inv.data;
   const persons = people.data?.people ?? [];
-  // Cause tags come from the causes feature; the investigation's pieces take them as plain options.
-  const tags: TagOption[] = (taxonomy.data?.groups ?? []).flatMap((g) =>
-    g.tags.filter((x) => !x.retired).map((x) => ({ code: x.code, name: x.name, group: g.name })),
-  );
+  // Cause tags come from the causes feature; the investigation's pieces take them as plain options
+  // (null while they are on their way: the fields say so; none if they could not be had).
+  const tags: TagOption[] | null =
+    canManage && taxonomy.isPending
+      ? null
+      : (taxonomy.data?.groups ?? []).flatMap((g) => g.tags.filter((x) => !x.retired).map((x) => ({ code: x.code, name: x.name, group: g.name })));
   const editable = canManage && i.status !== "closed";
   return (
     <div className="space-y-5">

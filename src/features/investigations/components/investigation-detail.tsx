@@ -28,13 +28,23 @@ function TagSelect({
   onChange,
   id,
   emptyLabel,
+  loading = false,
 }: {
   tags: TagOption[];
   value: string;
   onChange: (v: string) => void;
   id: string;
   emptyLabel?: string;
+  /** The cause list is still on its way: said in the field, which waits, rather than offer "none" for a moment. */
+  loading?: boolean;
 }) {
+  const { t } = useTranslation("process");
+  if (loading)
+    return (
+      <select id={id} disabled value="" className={inputClass} data-loading="true">
+        <option value="">{t("investigations.detail.loadingCauses")}</option>
+      </select>
+    );
   const groups = [...new Set(tags.map((t) => t.group))];
   return (
     <select id={id} value={value} onChange={(e) => onChange(e.target.value)} className={inputClass}>
@@ -91,6 +101,8 @@ export function InvestigationSummaryCard({ inv, canManage, people }: { inv: Inve
                   className={inputClass}
                 >
                   {inv.owner ? null : <option value="">{t("investigations.detail.noOwner")}</option>}
+                  {/* The owner as recorded while the people are on their way, or when no longer offered (an account closed): never another name shown in their place. */}
+                  {inv.owner && !people.some((p) => p.id === inv.owner!.id) ? <option value={inv.owner.id}>{inv.owner.name}</option> : null}
                   <PersonOptions people={people} />
                 </select>
               ) : (
@@ -271,7 +283,7 @@ export function ParticipantsCard({ inv, canManage, people }: { inv: Investigatio
   );
 }
 
-export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; canManage: boolean; tags: TagOption[] }) {
+export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; canManage: boolean; tags: TagOption[] | null }) {
   const { t } = useTranslation("process");
   const { term } = useTerms();
   const change = useInvestigationChange(inv.id);
@@ -346,7 +358,8 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
               </label>
               <TagSelect
                 id="hyp-tag"
-                tags={tags}
+                tags={tags ?? []}
+                loading={tags === null}
                 value={add.values.causeTag}
                 onChange={(v) => add.set("causeTag", v)}
                 emptyLabel={t("investigations.detail.none")}
@@ -429,11 +442,13 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
         )}
         {open ? (
           <form
-            className="grid gap-2 md:grid-cols-2 xl:grid-cols-[2fr_1fr_1fr_auto] xl:items-end"
+            className="grid gap-2 sm:grid-cols-[minmax(0,1fr)_10rem_auto] sm:items-end"
             aria-label={t("investigations.detail.addAction")}
             onSubmit={add.onSubmit}
           >
+            {/* The card is half the page wide on a desktop: the action's words get a line of their own, so the person and the date are never cut. */}
             <TextField
+              className="sm:col-span-3"
               label={t("investigations.detail.newAction")}
               {...add.bind("description")}
               maxLength={1000}
@@ -481,11 +496,14 @@ export function InvestigationAttachmentsCard({ inv, canManage }: { inv: Investig
   );
 }
 
-export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption[] }) {
+/** `tags` null while the cause list is on its way (the supported hypothesis's cause is offered once it has come). */
+export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption[] | null }) {
   const { t } = useTranslation("process");
   const change = useInvestigationChange(inv.id);
   const supported = inv.hypotheses.find((h) => h.status === "supported" && h.causeTag)?.causeTag ?? "";
-  const [cause, setCause] = useState(supported);
+  // The supported hypothesis's cause is offered until one is chosen here (also when a hypothesis is marked supported on this page).
+  const [chosen, setCause] = useState<string | null>(null);
+  const cause = chosen ?? supported;
   const [note, setNote] = useState("");
   const [problem, setProblem] = useState<"errorCause" | "errorNote" | null>(null);
   const openActions = inv.actionList.filter((a) => a.status === "open" || a.status === "in_progress").length;
@@ -508,7 +526,14 @@ export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption
             <label htmlFor="close-cause" className="text-sm font-semibold text-ink-800">
               {t("investigations.closure.confirmedCause")}
             </label>
-            <TagSelect id="close-cause" tags={tags} value={cause} onChange={setCause} emptyLabel={t("investigations.closure.chooseCause")} />
+            <TagSelect
+              id="close-cause"
+              tags={tags ?? []}
+              loading={tags === null}
+              value={cause}
+              onChange={setCause}
+              emptyLabel={t("investigations.closure.chooseCause")}
+            />
           </div>
         </div>
         <TextAreaField
@@ -523,7 +548,7 @@ export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption
         />
         {problem ? <Notice tone="error">{t(`investigations.closure.${problem}`)}</Notice> : null}
         <MutationError mutation={change} />
-        <Button type="submit" disabled={change.isPending}>
+        <Button type="submit" disabled={change.isPending || tags === null}>
           {change.isPending ? t("investigations.closure.closing") : t("investigations.closure.close")}
         </Button>
       </form>
