@@ -3,7 +3,7 @@ import path from "node:path";
 import { afterAll, describe, expect, it, vi } from "vitest";
 import type { BrowserContext, Page, Response } from "playwright-core";
 import { CLIENT_DIST } from "../../server/app";
-import { collectPageErrors, DESKTOP, makeJpeg, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { apartFromOffline, collectPageErrors, DESKTOP, makeJpeg, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
 import { TEST_PASSWORD } from "../helpers/test-app";
 
 /**
@@ -118,9 +118,6 @@ async function openYardSlab(page: Page, slabId: string) {
   await page.getByRole("searchbox", { name: "Defect type" }).waitFor();
 }
 
-/** The network errors Chromium logs while it is offline are the test's doing, not the page's. */
-const realErrors = (errors: string[]) => errors.filter((e) => !/ERR_INTERNET_DISCONNECTED|Failed to load resource/.test(e));
-
 describe("the app on the tablet without a network", () => {
   it(
     "when the inspector has been online once, then offline the app starts, reloads, navigates and opens screens never visited from the tablet",
@@ -181,7 +178,7 @@ describe("the app on the tablet without a network", () => {
       await page.getByRole("button", { name: "Try again" }).click();
       await page.getByRole("heading", { level: 1, name: new RegExp(heatNo) }).waitFor();
       expect(await error.count()).toBe(0);
-      expect(realErrors(errors)).toEqual([]);
+      expect(apartFromOffline(errors)).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -219,7 +216,7 @@ describe("the app on the tablet without a network", () => {
       // Online now, the same screen's error is the server's: the slab does not exist.
       await page.getByRole("button", { name: "Try again" }).click();
       await page.getByRole("heading", { level: 1, name: "Not found" }).waitFor();
-      expect(realErrors(errors).filter((e) => !e.includes("status of 404"))).toEqual([]);
+      expect(apartFromOffline(errors).filter((e) => !e.includes("status of 404"))).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -312,7 +309,7 @@ describe("the app on the tablet without a network", () => {
       await context.setOffline(false);
       await Promise.all([page.waitForEvent("load"), page.getByRole("button", { name: "Try again" }).click()]);
       await page.getByRole("heading", { level: 1, name: `Slab ${slabId}` }).waitFor();
-      expect(realErrors(errors).filter((e) => !/dynamically imported module/.test(e))).toEqual([]);
+      expect(apartFromOffline(errors).filter((e) => !/dynamically imported module/.test(e))).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -415,7 +412,7 @@ describe("the app on the tablet without a network", () => {
       });
       expect(after).toEqual({ waiting: false, active: firstWorker, controlled: firstWorker });
       expect(await page.getByTestId("update-band").count()).toBe(0);
-      expect(realErrors(errors)).toEqual([]);
+      expect(apartFromOffline(errors)).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -469,7 +466,7 @@ describe("the app on the tablet without a network", () => {
       // The quality engineer may log defects, so the outbox runs on this screen too.
       expect(seen.outboxAskedAt).not.toBeNull();
       expect(seen.outboxAskedAt!).toBeGreaterThan(firstView);
-      expect(realErrors(errors)).toEqual([]);
+      expect(apartFromOffline(errors)).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -599,7 +596,7 @@ describe("the app on the tablet without a network", () => {
       await page.goto(env.server.baseUrl + "/yard");
       await page.getByRole("heading", { level: 1 }).waitFor();
       expect(await page.getByTestId("user-name").count()).toBe(0);
-      expect(realErrors(errors).filter((e) => !e.includes("status of 401"))).toEqual([]);
+      expect(apartFromOffline(errors).filter((e) => !e.includes("status of 401"))).toEqual([]);
       await context.close();
     },
     SLOW,

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import type { BrowserContext, Page } from "playwright-core";
-import { collectPageErrors, DESKTOP, makeJpeg, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { apartFromOffline, collectPageErrors, DESKTOP, makeJpeg, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
 import { TEST_PASSWORD } from "../helpers/test-app";
 
 /**
@@ -106,9 +106,6 @@ async function saved(page: Page): Promise<string> {
   return (await page.locator('[data-testid="entry"]').first().getAttribute("data-client-key"))!;
 }
 
-/** Network errors Chromium logs while offline are the test's doing, not the page's. */
-const realErrors = (errors: string[]) => errors.filter((e) => !/ERR_INTERNET_DISCONNECTED|Failed to load resource/.test(e));
-
 describe("the yard's slabs on the tablet", () => {
   it(
     "when the tablet was online once, then after a cold reload offline a synced slab never opened before is logged with a photo, and stored once with it when the network returns",
@@ -183,7 +180,7 @@ describe("the yard's slabs on the tablet", () => {
       await page.getByRole("link", { name: "Find another slab", exact: true }).click();
       await page.getByTestId("yard-sync-status").waitFor();
       await snap(page, "yard-sync-yard-desktop");
-      expect(realErrors(errors)).toEqual([]);
+      expect(apartFromOffline(errors)).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -255,7 +252,7 @@ describe("the yard's slabs on the tablet", () => {
       expect(stored[0]).toMatchObject({ slab_id: right.slab_id, type_code: "PIN", severity: 2, photos: 1 });
       expect(sqlite().prepare("select count(*) from defects d join slabs s on s.id = d.slab_id where s.slab_id = ?").pluck().get(wrongId)).toBe(0);
       expect(posts).toMatchObject({ defects: 2, photos: 1 });
-      expect(realErrors(errors).filter((e) => !e.includes("status of 404"))).toEqual([]);
+      expect(apartFromOffline(errors).filter((e) => !e.includes("status of 404"))).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -313,7 +310,7 @@ describe("the yard's slabs on the tablet", () => {
       await page.getByRole("heading", { level: 1, name: `Slab ${expected.slab_id}` }).waitFor();
       expect(await page.locator("[data-slab-source]").getAttribute("data-slab-source")).toBe("tablet");
       await context.setOffline(false);
-      expect(realErrors(errors)).toEqual([]);
+      expect(apartFromOffline(errors)).toEqual([]);
       await context.close();
     },
     SLOW,
@@ -377,7 +374,7 @@ describe("the yard's slabs on the tablet", () => {
       await page.locator(`[data-testid="entry"][data-client-key="${yard}"][data-status="sent"]`).waitFor({ timeout: 30_000 });
       expect(storedByKey(yard)).toMatchObject([{ slab_id: b!.slab_id, stage: "slab_yard", type_code: "SCB" }]);
       expect(posts.defects).toBe(2);
-      expect(realErrors(errors)).toEqual([]);
+      expect(apartFromOffline(errors)).toEqual([]);
       await context.close();
     },
     SLOW,

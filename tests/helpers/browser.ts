@@ -61,6 +61,13 @@ export function collectPageErrors(page: Page, allowedStatuses: number[] = [401])
   return errors;
 }
 
+/**
+ * A page's errors less those of a request the network failed while the test had the browser offline
+ * (Chromium logs "Failed to load resource: net::ERR_INTERNET_DISCONNECTED"): the test's doing, not the
+ * page's. A status the server answered (a 500, a 404) is still an error.
+ */
+export const apartFromOffline = (errors: string[]) => errors.filter((e) => !e.includes("net::ERR_INTERNET_DISCONNECTED"));
+
 /** Signs a demo user in through the real sign-in page and waits until the app has left it. */
 export async function signInAs(page: Page, baseUrl: string, role: string, password: string) {
   await page.goto(baseUrl + "/sign-in");
