@@ -19,6 +19,19 @@ export function MutationError({ mutation, title }: { mutation: { isError: boolea
   ) : null;
 }
 
+/**
+ * A form's request awaited inside its submit (so the form's isSubmitting lasts as long): a refusal
+ * comes back as undefined instead of being thrown, since the mutation's own error is what the form
+ * shows (MutationError), and thrown it would also be an uncaught error in the console.
+ */
+export async function settled<T>(request: Promise<T>): Promise<{ value: T } | undefined> {
+  try {
+    return { value: await request };
+  } catch {
+    return undefined;
+  }
+}
+
 /** A field's message under it, announced to screen readers (as TextField shows its own). */
 export function FieldError({ message }: { message?: string }) {
   return message ? (

@@ -129,6 +129,22 @@ describe("sessions in one tab", () => {
     await context.close();
   });
 
+  it("when the password is wrong, then the form says so and the page throws nothing", async () => {
+    const context = await env.browser.newContext({ viewport: TABLET });
+    const page = await context.newPage();
+    // The refused sign-in is answered 401, which the browser logs; nothing else may be.
+    const errors = collectPageErrors(page, [401]);
+    await page.goto(env.server.baseUrl + "/sign-in");
+    await page.getByLabel("E-mail").fill("claims@demo.test");
+    await page.getByLabel("Password").fill("not-the-password-1");
+    await page.getByRole("button", { name: "Sign in" }).click();
+    await page.getByText("Invalid email or password").waitFor();
+    expect(page.url()).toContain("/sign-in");
+    // Before, the refusal was also thrown out of the form's submit: an uncaught error on every wrong password.
+    expect(errors).toEqual([]);
+    await context.close();
+  });
+
   it("when a user is deactivated while working, then their next request sends them to sign-in", async () => {
     const context = await env.browser.newContext({ viewport: TABLET });
     const page = await context.newPage();

@@ -17,6 +17,7 @@ import { ssoErrorKey } from "@/features/auth/sso-errors";
 import { api, ApiError } from "@/lib/api-client";
 import { SSO_PROVIDER_ID } from "@shared/api/sign-in";
 import { ROLE_LABELS, ROLES } from "@shared/roles";
+import { settled } from "@/components/mutation-form";
 
 const signInSchemaIn = (t: TFunction) =>
   z.object({
@@ -70,7 +71,8 @@ export function Component() {
   const form = useForm<SignInForm>({ resolver: zodResolver(signInSchema), defaultValues: { email: "", password: "" } });
 
   const onSubmit = form.handleSubmit(async (values) => {
-    await signIn.mutateAsync(values);
+    // A refusal is said under the form (signIn.error).
+    if (!(await settled(signIn.mutateAsync(values)))) return;
     const me = await qc.fetchQuery(authKeys.me());
     const roles = me?.roles ?? [];
     const next = params.get("next");

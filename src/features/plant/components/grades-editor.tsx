@@ -11,6 +11,7 @@ import { Notice } from "@/components/ui/notice";
 import { useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
 import { useCreateFamily, useCreateGrade, useUpdateFamily, useUpdateGrade } from "../api/setup.queries";
+import { settled } from "@/components/mutation-form";
 
 type Families = PlantSetup["gradeFamilies"];
 type Family = Families[number];
@@ -76,10 +77,7 @@ function GradeRow({ grade, family, families }: { grade: Grade; family: Family; f
             <>
               <Button
                 disabled={update.isPending || !name.trim()}
-                onClick={async () => {
-                  await update.mutateAsync({ code: grade.code, name: name.trim(), familyCode });
-                  setEditing(false);
-                }}
+                onClick={() => update.mutate({ code: grade.code, name: name.trim(), familyCode }, { onSuccess: () => setEditing(false) })}
               >
                 {t("plant.grades.save")}
               </Button>
@@ -141,10 +139,9 @@ function FamilyHeader({ family }: { family: Family }) {
       <div className="flex gap-2">
         <Button
           disabled={update.isPending || !name.trim()}
-          onClick={async () => {
-            await update.mutateAsync({ code: family.code, name: name.trim(), description: description.trim() || null });
-            setEditing(false);
-          }}
+          onClick={() =>
+            update.mutate({ code: family.code, name: name.trim(), description: description.trim() || null }, { onSuccess: () => setEditing(false) })
+          }
         >
           {t("plant.grades.saveFamily")}
         </Button>
@@ -171,8 +168,7 @@ function NewFamilyForm() {
       aria-label={t("plant.grades.newFamily")}
       className="space-y-3"
       onSubmit={form.handleSubmit(async (v) => {
-        await create.mutateAsync({ ...v, description: v.description || null });
-        form.reset();
+        if (await settled(create.mutateAsync({ ...v, description: v.description || null }))) form.reset();
       })}
     >
       <div className="grid gap-3 md:grid-cols-[10rem_1fr_1fr]">
@@ -203,8 +199,7 @@ function NewGradeForm({ families }: { families: Families }) {
       aria-label={t("plant.grades.newGrade")}
       className="space-y-3"
       onSubmit={form.handleSubmit(async (v) => {
-        await create.mutateAsync(v);
-        form.reset({ code: "", name: "", familyCode: v.familyCode, active: true });
+        if (await settled(create.mutateAsync(v))) form.reset({ code: "", name: "", familyCode: v.familyCode, active: true });
       })}
     >
       <div className="grid gap-3 md:grid-cols-[10rem_1fr_18rem]">

@@ -9,6 +9,7 @@ import { useFormMessage } from "@/features/users/components/form-messages";
 import { friendlyErrors } from "@/lib/form-errors";
 import { count, inputNumber, localeOf, parseDecimal } from "@/lib/format";
 import { useSaveSettings } from "../api/setup.queries";
+import { settled } from "@/components/mutation-form";
 
 const ELEMENTS = [
   ["c", "C"],
@@ -73,8 +74,8 @@ export function PlantSettingsForm({ settings, onRecomputed }: { settings: PlantS
       aria-label={t("plant.settings.formLabel")}
       className="space-y-4"
       onSubmit={form.handleSubmit(async (values) => {
-        const out = await save.mutateAsync(withoutEmptyElements(values));
-        form.reset(withEveryElement(out.settings));
+        const saved = await settled(save.mutateAsync(withoutEmptyElements(values)));
+        if (saved) form.reset(withEveryElement(saved.value.settings));
       })}
     >
       <Group title={t("plant.settings.liquidus")} note={<span className="font-mono">{formula}</span>}>

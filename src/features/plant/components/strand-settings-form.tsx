@@ -14,6 +14,7 @@ import { friendlyErrors } from "@/lib/form-errors";
 import { count, parseDecimal } from "@/lib/format";
 import { useUpdateStrand } from "../api/setup.queries";
 import { CalibrationEditor } from "./calibration-editor";
+import { settled } from "@/components/mutation-form";
 
 type Strand = PlantSetup["casters"][number]["strands"][number];
 type FormValues = z.input<typeof strandUpdateSchema>;
@@ -42,8 +43,7 @@ export function StrandSettingsForm({ casterCode, strand, onRecomputed }: { caste
     const dirty = form.formState.dirtyFields as Partial<Record<keyof StrandUpdate, unknown>>;
     const change = Object.fromEntries(Object.entries(values).filter(([k]) => dirty[k as keyof StrandUpdate])) as StrandUpdate;
     if (Object.keys(change).length === 0) return;
-    await save.mutateAsync({ id: strand.id, ...change });
-    resetTo({ ...initial, ...values });
+    if (await settled(save.mutateAsync({ id: strand.id, ...change }))) resetTo({ ...initial, ...values });
   });
 
   return (

@@ -12,6 +12,7 @@ import { useTerms } from "@/i18n/terms";
 import { friendlyErrors } from "@/lib/form-errors";
 import { dateTime, formatLocale } from "@/lib/format";
 import { useCreateToken, useRevokeToken } from "../api/tokens.queries";
+import { settled } from "@/components/mutation-form";
 
 type Created = ApiToken & { token: string };
 
@@ -140,9 +141,10 @@ export function CreateTokenForm({ onCreated }: { onCreated: (t: Created) => void
       aria-label={t("tokens.form.label")}
       className="space-y-3"
       onSubmit={form.handleSubmit(async (v) => {
-        const token = await create.mutateAsync({ name: v.name, scopes: v.scopes });
+        const made = await settled(create.mutateAsync({ name: v.name, scopes: v.scopes }));
+        if (!made) return;
         form.reset();
-        onCreated(token);
+        onCreated(made.value);
       })}
     >
       <TextField

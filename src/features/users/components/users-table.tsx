@@ -70,13 +70,7 @@ function RolesEditor({ user, onClose }: { user: AdminUser; onClose: () => void }
       {update.error ? <Notice tone="error">{update.error.message}</Notice> : null}
       <RolePicker name={`roles-${user.id}`} value={roles} onChange={setRoles} />
       <div className="flex gap-2">
-        <Button
-          disabled={roles.length === 0 || update.isPending}
-          onClick={async () => {
-            await update.mutateAsync({ id: user.id, roles });
-            onClose();
-          }}
-        >
+        <Button disabled={roles.length === 0 || update.isPending} onClick={() => update.mutate({ id: user.id, roles }, { onSuccess: onClose })}>
           {t("users.table.saveRoles")}
         </Button>
         <Button variant="ghost" onClick={onClose}>

@@ -23,6 +23,7 @@ import { formatLocale, inputNumber, parseDecimal } from "@/lib/format";
 import { useTerms, type Terms } from "@/i18n/terms";
 import { useCreateWindow, useUpdateWindow } from "../api/windows.queries";
 import { DefectTargetOptions } from "@/features/defects/components/defect-target-options";
+import { settled } from "@/components/mutation-form";
 
 const selectClass = "min-h-11 w-full min-w-0 rounded-md border border-ink-300 bg-white px-3 text-ink-900";
 /** The groups of the variable list; their words are under windows.form.groups. */
@@ -168,9 +169,7 @@ export function WindowForm({ families, types, categories, rule, onDone }: Window
       className="space-y-4"
       onSubmit={form.handleSubmit(async (v) => {
         const body = toBody(v);
-        if (rule) await update.mutateAsync({ id: rule.id, body });
-        else await create.mutateAsync(body);
-        onDone();
+        if (await settled(rule ? update.mutateAsync({ id: rule.id, body }) : create.mutateAsync(body))) onDone();
       })}
     >
       <div className="grid gap-3 md:grid-cols-2">

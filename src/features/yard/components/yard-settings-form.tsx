@@ -9,6 +9,7 @@ import { Notice } from "@/components/ui/notice";
 import { friendlyErrors } from "@/lib/form-errors";
 import { useSaveYardSettings } from "../api/yard.queries";
 import { parseDecimal } from "@/lib/format";
+import { settled } from "@/components/mutation-form";
 
 const number = (v: unknown) => (v === "" || v === null || v === undefined ? Number.NaN : typeof v === "string" ? parseDecimal(v) : Number(v));
 
@@ -32,7 +33,10 @@ export function YardSettingsForm({ settings }: { settings: YardSettings }) {
       noValidate
       aria-label={t("settings.formLabel")}
       className="space-y-3"
-      onSubmit={form.handleSubmit(async (values) => form.reset(await save.mutateAsync(values)))}
+      onSubmit={form.handleSubmit(async (values) => {
+        const saved = await settled(save.mutateAsync(values));
+        if (saved) form.reset(saved.value);
+      })}
     >
       <div className="max-w-xs">
         <TextField
