@@ -8,9 +8,10 @@ export async function requireCapability(qc: QueryClient, capability: Capability)
   const me = await qc.ensureQueryData(authKeys.me());
   // The frame's loader sends the person to choose their own password (app-layout.loader.ts, whose
   // redirect keeps where they were going); no screen asks for its data meanwhile.
-  if (me?.mustChangePassword) throw data({ message: "Choose your own password first." }, { status: 403 });
+  // The reason by its key: the error view says it in the reader's language (route-error.tsx).
+  if (me?.mustChangePassword) throw data({ reason: "passwordFirst" }, { status: 403 });
   if (!me || !can(me.roles, capability)) {
-    throw data({ message: "Your role does not open this screen." }, { status: 403 });
+    throw data({ reason: "forbidden" }, { status: 403 });
   }
   return me;
 }

@@ -33,6 +33,11 @@ describe("the screens in the person's language (the catalogues so far: sign-in, 
     expect(env.server.db.$client.prepare("select language from user where email = 'inspector@demo.test'").pluck().get()).toBe("de");
     await page.waitForLoadState("networkidle");
     await snap(page, "languages-yard-de-tablet");
+    // A screen the role may not open says so in German too, and offers no "try again" that cannot help.
+    await page.goto(env.server.baseUrl + "/quality");
+    await page.getByRole("heading", { name: "Für Ihre Rolle nicht freigegeben" }).waitFor();
+    expect(await page.getByTestId("route-error").textContent()).toContain("Ihre Rolle öffnet diese Ansicht nicht.");
+    expect(await page.getByRole("button", { name: "Erneut versuchen" }).count()).toBe(0);
     expect(errors).toEqual([]);
     await context.close();
 

@@ -14,7 +14,8 @@ export function isChunkLoadError(err: unknown): boolean {
   return /dynamically imported module|Importing a module script failed|Unable to preload CSS|error loading dynamically imported module/i.test(message);
 }
 
-function describe(err: unknown, online: boolean, t: TFunction): { title: string; text: string; chunk: boolean } {
+/** What failed, in words; `retry` false where trying again cannot help (a screen the role may not open, an address with nothing at it). */
+function describe(err: unknown, online: boolean, t: TFunction): { title: string; text: string; chunk: boolean; retry?: false } {
   const chunk = isChunkLoadError(err);
   if (chunk && !online) {
     return { title: t("error.notOnTabletTitle"), text: t("error.notOnTablet"), chunk };
@@ -28,9 +29,15 @@ function describe(err: unknown, online: boolean, t: TFunction): { title: string;
     };
   }
   if (isRouteErrorResponse(err)) {
-    const message = (err.data as { message?: string } | undefined)?.message;
-    if (err.status === 403) return { title: t("error.forbiddenTitle"), text: message ?? t("error.forbidden"), chunk };
-    if (err.status === 404) return { title: t("error.notFoundTitle"), text: message ?? t("error.notFound"), chunk };
+    const said = err.data as { message?: string; reason?: string } | undefined;
+    if (err.status === 403)
+      return {
+        title: t("error.forbiddenTitle"),
+        text: said?.reason === "passwordFirst" ? t("error.passwordFirst") : t("error.forbidden"),
+        chunk,
+        retry: false,
+      };
+    if (err.status === 404) return { title: t("error.notFoundTitle"), text: said?.message ?? t("error.notFound"), chunk, retry: false };
   }
   if (err instanceof ApiError) return { title: err.status === 404 ? t("error.notFoundTitle") : t("error.wrongTitle"), text: err.message, chunk };
   return { title: t("error.wrongTitle"), text: t("error.wrong"), chunk };
@@ -50,7 +57,7 @@ export function RouteError() {
   const location = useLocation();
   const [note, setNote] = useState<string | null>(null);
   const { t } = useTranslation();
-  const { title, text, chunk } = describe(err, online, t);
+  const { title, text, chunk, retry = true } = describe(err, online, t);
 
   const tryAgain = () => {
     setNote(null);
@@ -68,9 +75,11 @@ export function RouteError() {
     <div data-testid="route-error" data-offline={online ? undefined : "true"}>
       <PageHeader title={title} subtitle={text} />
       <div className="flex flex-wrap gap-3">
-        <Button size="lg" onClick={tryAgain}>
-          {t("error.tryAgain")}
-        </Button>
+        {retry ? (
+          <Button size="lg" onClick={tryAgain}>
+            {t("error.tryAgain")}
+          </Button>
+        ) : null}
         <Link to="/" className={linkButton}>
           {t("error.goHome")}
         </Link>
