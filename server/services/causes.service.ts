@@ -20,7 +20,8 @@ import type {
 } from "@shared/api/causes";
 import type { CauseConfidence } from "@shared/domain";
 import type { Db } from "../db/client";
-import { badRequest, conflict, figure, HttpError, notFound, said } from "../lib/http-error";
+import { badRequest, conflict, figure, HttpError, notFound, said, writeFigure } from "../lib/http-error";
+import { currentLanguage, say } from "../lib/words";
 import { recordAudit } from "./audit.service";
 import { buildScope } from "./reports/scope";
 
@@ -436,10 +437,11 @@ export function causePareto(db: Db, q: z.output<typeof causeParetoQuerySchema>):
   const total = rows.reduce((s, r) => s + r.defects, 0);
   let cum = 0;
   const notes: string[] = [];
-  if (defects === 0) notes.push("No defect passes these filters.");
-  else if (tagged < 30) notes.push(`Only ${tagged} tagged defect${tagged === 1 ? "" : "s"}: the ranking may change with a few more.`);
-  if (defects > 0 && tagged / defects < 0.5)
-    notes.push(`${defects - tagged} of ${defects} defects carry no cause at this confidence: the Pareto describes the tagged ones only.`);
+  // In the reader's language, counts grouped as it writes them (2,395 · 2.395).
+  const n = (x: number) => writeFigure(figure(x), currentLanguage());
+  if (defects === 0) notes.push(say("causePareto.noDefect"));
+  else if (tagged < 30) notes.push(say("causePareto.fewTagged", { count: tagged, n: n(tagged) }));
+  if (defects > 0 && tagged / defects < 0.5) notes.push(say("causePareto.untagged", { untagged: n(defects - tagged), defects: n(defects) }));
   return {
     defects,
     tagged,

@@ -368,6 +368,18 @@ describe("cause Pareto", () => {
 
     const confirmed = await quality.get("/api/reports/cause-pareto?minConfidence=confirmed");
     const top = confirmed.body.rows[0];
+    // Most defects carry no confirmed cause: the note says so, in the reader's language with its own grouping of thousands.
+    const { defects, tagged } = confirmed.body as CausePareto;
+    expect(tagged / defects).toBeLessThan(0.5);
+    const grouped = (locale: string, x: number) => new Intl.NumberFormat(locale).format(x);
+    expect(confirmed.body.notes).toContain(
+      `${grouped("en-GB", defects - tagged)} of ${grouped("en-GB", defects)} defects carry no cause at this confidence: the Pareto describes the tagged ones only.`,
+    );
+    const german = await quality.get("/api/reports/cause-pareto?minConfidence=confirmed").set("Accept-Language", "de");
+    expect(german.body.notes).toContain(
+      `${grouped("de-DE", defects - tagged)} von ${grouped("de-DE", defects)} Fehlern tragen keine Ursache mit dieser Sicherheit: das Pareto beschreibt nur die mit Ursache.`,
+    );
+    expect((german.body.notes as string[]).join(" ")).not.toMatch(/defects|tagged/);
     expect(top.defects).toBe(n(`select count(distinct d.id) ${live} and t.code = ? and dc.confidence = 'confirmed'`, top.code));
 
     // The same tag as a filter of another report: the affected slabs are those with a live tagging.
