@@ -329,6 +329,16 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             { test: w("rows.logisticSlope", { unit: u }), statistic: x.logistic.slope, p: x.logistic.p, method: x.methods.logistic },
             { test: w("rows.logisticIntercept"), statistic: x.logistic.intercept, p: null, method: "" },
             {
+              test: w("headers.oddsRatioPerUnit", {
+                per: u === "–" ? w("per.step", { step: x.logistic.perStep.step }) : w("per.stepUnit", { step: x.logistic.perStep.step, unit: u }),
+              }),
+              statistic: x.logistic.perStep.oddsRatio,
+              p: null,
+              ciLower: x.logistic.perStep.ciLower,
+              ciUpper: x.logistic.perStep.ciUpper,
+              method: w("words.wald95"),
+            },
+            {
               test: w("rows.oddsRatioPer", { unit: u }),
               statistic: x.logistic.oddsRatio,
               p: null,

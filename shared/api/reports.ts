@@ -287,6 +287,8 @@ export const rateByVariableSchema = z.object({
     oddsRatio: num,
     oddsRatioCiLower: num,
     oddsRatioCiUpper: num,
+    /** The same odds ratio per the catalogue's readable step (per 0.01 wt %, per 100 A …): what the screen leads with. */
+    perStep: oddsRatioWithInterval.extend({ step: z.number() }),
     p: num,
     converged: z.boolean(),
   }),

@@ -646,7 +646,15 @@ describe("Excel exports", () => {
     expect(methods.some((m) => m.startsWith("Point-biserial r: "))).toBe(true);
     expect(methods.some((m) => /^(pointBiserial|mannWhitney|spearman):/.test(m))).toBe(false);
     const tests = rb.getWorksheet("Tests")!;
-    const or = tests.getRows(2, tests.rowCount - 1)!.find((r) => String(r.getCell(1).value).startsWith("Odds ratio"))!;
+    // Per the readable step first (per 100 A, as the screen leads with), then per one unit.
+    const ors = tests.getRows(2, tests.rowCount - 1)!.filter((r) => String(r.getCell(1).value).startsWith("Odds ratio"));
+    expect(ors.map((r) => r.getCell(1).value)).toEqual(["Odds ratio per 100 A", "Odds ratio per A"]);
+    const [step, or] = ors as [ExcelJS.Row, ExcelJS.Row];
+    expect([step.getCell(2).value, step.getCell(4).value, step.getCell(5).value]).toEqual([
+      json.logistic.perStep.oddsRatio,
+      json.logistic.perStep.ciLower,
+      json.logistic.perStep.ciUpper,
+    ]);
     expect([or.getCell(2).value, or.getCell(4).value, or.getCell(5).value]).toEqual([
       json.logistic.oddsRatio,
       json.logistic.oddsRatioCiLower,
@@ -669,7 +677,16 @@ describe("Excel exports", () => {
       bins: [],
       spearman: { rho: 0.9, p: 0 },
       pointBiserial: { r: 0.9, p: 1e-40 },
-      logistic: { intercept: -3, slope: 2, oddsRatio: 7.39, oddsRatioCiLower: 5.1, oddsRatioCiUpper: 10.7, p: 0, converged: true },
+      logistic: {
+        intercept: -3,
+        slope: 2,
+        oddsRatio: 7.39,
+        oddsRatioCiLower: 5.1,
+        oddsRatioCiUpper: 10.7,
+        perStep: { step: 0.1, oddsRatio: 1.22, ciLower: 1.18, ciUpper: 1.27 },
+        p: 0,
+        converged: true,
+      },
       mannWhitney: { u: 25, p: 0 },
       distribution: { affected: { n: 5, min: 1, q1: 1, median: 1, q3: 1, max: 1, mean: 1 }, sound: { n: 5, min: 1, q1: 1, median: 1, q3: 1, max: 1, mean: 1 } },
       strip: { affected: [], sound: [] },

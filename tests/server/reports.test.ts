@@ -85,6 +85,14 @@ describe("reports on a plant built by hand", () => {
     const fit = logisticRegression(speeds.map((v) => ({ x: [v], successes: slag.has(v) ? 1 : 0, trials: 1 })));
     expect(r.logistic.slope).toBeCloseTo(fit.coefficients[1]!, 8);
     expect(r.logistic.oddsRatio).toBeCloseTo(Math.exp(fit.coefficients[1]!), 8);
+    // Per the catalogue's readable step (0.1 m/min) with its Wald 95 % interval, by hand: exp(0.1·(b ± 1.959964·se)).
+    const [b, se] = [fit.coefficients[1]!, fit.standardErrors[1]!];
+    expect(r.logistic.perStep.step).toBe(0.1);
+    expect(r.logistic.perStep.oddsRatio).toBeCloseTo(Math.exp(0.1 * b), 8);
+    expect(r.logistic.perStep.ciLower).toBeCloseTo(Math.exp(0.1 * (b - 1.959964 * se)), 6);
+    expect(r.logistic.perStep.ciUpper).toBeCloseTo(Math.exp(0.1 * (b + 1.959964 * se)), 6);
+    // The interval per step is the one per unit taken to the step's power.
+    expect(r.logistic.perStep.ciUpper / r.logistic.oddsRatioCiUpper ** 0.1).toBeCloseTo(1, 10);
     expect(r.distribution.affected).toMatchObject({ n: 5, min: 1.2, median: 1.8, max: 2.1 });
     expect(r.distribution.sound).toMatchObject({ n: 7, min: 1.0, median: 1.4, max: 1.9 });
     expect(r.notes.join(" ")).toContain("Only 5 affected slabs");

@@ -20,7 +20,7 @@ type Stratified = NonNullable<RateByVariable["stratified"]>;
 type SlopeFit = Adjusted["crude"];
 
 /** "per 0.1 m/min" from a step and the variable's unit. */
-const perStepWords = (t: TFunction, step: number, unit: string) => {
+export const perStepWords = (t: TFunction, step: number, unit: string) => {
   const n = num(step, step < 1 ? (String(step).split(".")[1]?.length ?? 0) : 0);
   return unit ? t("reports:rateAdjusted.perStepUnit", { step: n, unit }) : t("reports:rateAdjusted.perStep", { step: n });
 };

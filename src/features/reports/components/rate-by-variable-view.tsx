@@ -9,7 +9,7 @@ import { count, num, pct, pValue, sig } from "@/lib/format";
 import { inSentence } from "./report-params";
 import { FEW_SLABS, SmallNWarning } from "./small-n";
 import { td, tdNum, th, thNum, TableWrap } from "./tables";
-import { RateAdjustedCard, RateStratifiedCard } from "./rate-adjusted";
+import { perStepWords, RateAdjustedCard, RateStratifiedCard } from "./rate-adjusted";
 
 const RateBinsChart = lazy(() => import("./charts/rate-bins-chart"));
 const DistributionChart = lazy(() => import("./charts/distribution-chart"));
@@ -25,6 +25,8 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
   const label = variable(data.variable.key);
   const u = data.variable.unit === "–" ? "" : data.variable.unit;
   const perUnit = u ? t("rbv.perOne", { unit: u }) : t("rbv.perUnit");
+  // Led by the readable step (per 0.01 wt %, per 100 A), as the adjusted card and the screening are; per one unit beside it.
+  const perStep = perStepWords(t, data.logistic.perStep.step, u);
   const orCi = (lo: number | null | undefined, hi: number | null | undefined) => t("rbv.ci", { lower: sig(lo, 3), upper: sig(hi, 3) });
   const { spearman, pointBiserial, logistic, mannWhitney, methods } = data;
   const tests = [
@@ -32,8 +34,8 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
     { key: "pointBiserial", name: t("rbv.pointBiserial"), stat: sig(pointBiserial.r, 3), p: pointBiserial.p, method: methods.pointBiserial },
     {
       key: "logistic",
-      name: t("rbv.logistic", { per: perUnit }),
-      stat: `${sig(logistic.oddsRatio, 3)} (${orCi(logistic.oddsRatioCiLower, logistic.oddsRatioCiUpper)})`,
+      name: t("rbv.logistic", { per: perStep }),
+      stat: `${sig(logistic.perStep.oddsRatio, 3)} (${orCi(logistic.perStep.ciLower, logistic.perStep.ciUpper)}); ${perUnit}: ${sig(logistic.oddsRatio, 3)} (${orCi(logistic.oddsRatioCiLower, logistic.oddsRatioCiUpper)})`,
       p: logistic.p,
       method: t(logistic.converged ? "rbv.logisticMethod" : "rbv.logisticMethodNotConverged", {
         method: methods.logistic,
@@ -57,9 +59,9 @@ export function RateByVariableView({ data, digits, minN }: { data: RateByVariabl
           note={<span data-testid="summary-affected">{t("charts.affectedOfN", { affected: count(data.affected), n: count(data.slabs) })}</span>}
         />
         <Figure
-          label={t("rbv.oddsRatioPer", { per: perUnit })}
-          value={sig(logistic.oddsRatio, 3)}
-          note={t("rbv.ciP", { ci: orCi(logistic.oddsRatioCiLower, logistic.oddsRatioCiUpper), p: pValue(logistic.p) })}
+          label={t("rbv.oddsRatioPer", { per: perStep })}
+          value={<span data-testid="summary-or">{sig(logistic.perStep.oddsRatio, 3)}</span>}
+          note={t("rbv.ciP", { ci: orCi(logistic.perStep.ciLower, logistic.perStep.ciUpper), p: pValue(logistic.p) })}
         />
         <Figure label={t("rbv.spearman")} value={sig(spearman.rho, 2)} note={t("rbv.pN", { p: pValue(spearman.p), n: count(data.slabs) })} />
       </div>
