@@ -210,7 +210,7 @@ describe("claims in the browser", () => {
     expect(await page.getByLabel("Link the traced slabs").isChecked()).toBe(true);
     await page.getByLabel("Received on").fill("2026-05-04");
     await page.getByLabel("Defect complained of").fill("Slivers along the coil edge after pickling");
-    await page.getByLabel("Quantity (t)").fill("24,5");
+    await page.getByLabel("Quantity (t)").fill("24,45");
     await page.getByLabel("Notes (optional)").fill("Customer letter to follow.");
     await snap(page, "claim-new-tablet");
     await page.getByRole("button", { name: "Record the claim" }).click();
@@ -219,7 +219,12 @@ describe("claims in the browser", () => {
     await page.getByRole("heading", { level: 1, name: `Claim ${claimNo}` }).waitFor();
     const stored = (await api.get(`/api/claims/${id}`).expect(200)).body as Claim;
     expect(stored.productIds).toEqual([coil.productId, "K99999999"]);
-    expect(stored.quantityT).toBe(24.5);
+    expect(stored.quantityT).toBe(24.45);
+    // Shown as stored, to the hundredth as coil weights are (one decimal hid the second).
+    await page
+      .getByText(/^24\.45\s?t$/)
+      .first()
+      .waitFor();
     expect(stored.untracedProducts).toEqual(["K99999999"]);
     expect((await readRows(page, "[data-testid=linked-slab]")).map((r) => [r.slabId, r.heatNo, r.products])).toEqual([
       [coil.slabId, coil.heatNo, coil.productId],

@@ -76,6 +76,12 @@ describe("investigations in the browser", () => {
     await action.waitFor();
     expect(await action.getByTestId("overdue-mark").textContent()).toBe("Overdue");
     expect(await action.textContent()).toContain(owner.name);
+    // A file attached: the history says so in words, not by the record's name.
+    await page
+      .getByTestId("attachment-input")
+      .setInputFiles({ name: "preheat-log.txt", mimeType: "text/plain", buffer: Buffer.from("Tundish preheat log (demo).\n") });
+    await expect.poll(() => page.getByTestId("investigation-history").textContent()).toContain("attached files");
+    expect(await page.getByTestId("investigation-history").textContent()).not.toContain("attachments add");
     await snap(page, "investigation-open-tablet");
     // On a desktop the actions card is half the page wide: the person and the date still show whole
     // (the words the field holds measured in its own font, against the room inside it).

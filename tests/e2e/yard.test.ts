@@ -265,6 +265,12 @@ describe("slab-yard logging at tablet size", () => {
       face: "left",
       deleted_at: null,
     });
+    // Changed again, the entry shows its photo: the picker offers a new one, not "no photo yet".
+    await page.goto(`${env.server.baseUrl}/yard/slabs/${slab.slab_id}?edit=${id}`);
+    await page.getByText("Changing an entry").waitFor();
+    await expect
+      .poll(() => page.getByTestId("photos-none").textContent())
+      .toBe("No new photo. Photos added here are kept on the tablet and sent after the change.");
 
     await page.getByRole("link", { name: "Find another slab", exact: true }).click();
     await row.waitFor();

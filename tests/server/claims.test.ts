@@ -588,7 +588,7 @@ describe("the two editions of a heat's history", () => {
       Claim: "CL-2026-0950",
       Customer: "Invented Strip Works (demo)",
       "Coils and plates of this heat": "TC-90001",
-      "Other coils and plates of the claim": "ZZ-OTHER-1 (not from this heat)",
+      "Other coils and plates of the claim": "ZZ-OTHER-1 (not traced to this heat)",
       Edition: "For the customer",
     });
     expect(wb.getWorksheet("Defects")!.getRow(1).values).not.toEqual(expect.arrayContaining(["Logged by"]));

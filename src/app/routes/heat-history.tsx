@@ -78,7 +78,7 @@ function Cover({ h }: { h: HeatHistory }) {
     ["Customer", t("history.cover.customer"), c.customer],
     ["Claim received", t("history.cover.received"), day(c.receivedOn)],
     ["Defect complained of", t("history.cover.defect"), c.defectComplained],
-    ...(c.quantityT !== null ? ([["Quantity claimed", t("history.cover.quantity"), withUnit(c.quantityT, "t", 1)]] as [string, string, ReactNode][]) : []),
+    ...(c.quantityT !== null ? ([["Quantity claimed", t("history.cover.quantity"), withUnit(c.quantityT, "t", 2)]] as [string, string, ReactNode][]) : []),
     ["Coils and plates of this heat", t("history.cover.products"), c.products.join(", ") || "—"],
     ...(c.otherProducts.length
       ? ([

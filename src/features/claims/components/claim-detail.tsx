@@ -75,7 +75,7 @@ export function ClaimSummaryCard({ claim, canManage }: { claim: Claim; canManage
             {claim.customer}
           </Item>
           <Item label={t("summary.received")}>{day(claim.receivedOn)}</Item>
-          <Item label={t("summary.quantity")}>{withUnit(claim.quantityT, "t", 1)}</Item>
+          <Item label={t("summary.quantity")}>{withUnit(claim.quantityT, "t", 2)}</Item>
           <Item label={t("summary.defectComplained")} testId="claim-complaint" className="col-span-2 md:col-span-3">
             {claim.defectComplained}
           </Item>

@@ -58,7 +58,7 @@ export function ClaimsTable({ items, empty }: { items: ClaimSummary[]; empty?: s
                 <div className="line-clamp-2 max-w-md">{c.defectComplained}</div>
                 <div className="text-xs text-ink-600">
                   {c.productIds.length ? t("claimsTable.products", { count: c.productIds.length, n: count(c.productIds.length) }) : noProducts}
-                  {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 1)}` : ""}
+                  {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 2)}` : ""}
                 </div>
               </td>
               <td className="px-2 py-2.5 text-right tabular-nums" data-field="slabs">

@@ -513,7 +513,7 @@ export function RelatedRecords({
                   </div>
                   <div className="text-ink-900">
                     {c.customer} · {t("history.related.received", { day: day(c.receivedOn) })}
-                    {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 1)}` : ""}
+                    {c.quantityT !== null ? ` · ${withUnit(c.quantityT, "t", 2)}` : ""}
                   </div>
                   <div className="text-xs text-ink-600">
                     {c.defectComplained}

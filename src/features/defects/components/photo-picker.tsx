@@ -199,7 +199,10 @@ export function PhotoPicker({ photos, onChange, already = 0 }: { photos: LocalPh
           ))}
         </ul>
       ) : (
-        <p className="text-sm text-ink-600">{t("photos.none")}</p>
+        // An entry that has photos already (shown above the picker) has no photo "yet" to speak of.
+        <p className="text-sm text-ink-600" data-testid="photos-none">
+          {t(already > 0 ? "photos.noneNew" : "photos.none")}
+        </p>
       )}
     </div>
   );

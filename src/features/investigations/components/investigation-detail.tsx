@@ -568,7 +568,7 @@ const HISTORY_WORDS: Record<string, string> = {
   "investigation.hypothesis.update": "hypothesisChanged",
   "investigation.action.add": "actionAdded",
   "investigation.action.update": "actionChanged",
-  "investigation.attachment.add": "fileAttached",
+  "investigation.attachments.add": "fileAttached",
 };
 /** The server's record names as words; an unknown one loses its dots rather than show as code. */
 const historyWords = (t: TFunction, a: string) => {
