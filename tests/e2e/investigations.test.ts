@@ -197,6 +197,8 @@ describe("investigations in the browser", () => {
     await page.goto(`${env.server.baseUrl}/investigations/${id}`);
     await page.getByTestId("problem-statement").waitFor();
     expect(await page.getByRole("form").count()).toBe(0);
+    // The actions come with the usual cautions: a change of casting practice can cause breakouts.
+    expect(await page.getByText("such changes can cause breakouts. Work in the slab yard follows the site's hot-yard, crane and PPE rules.").count()).toBe(1);
     expect(await page.getByRole("button", { name: /Supported|Rule out|Add/ }).count()).toBe(0);
     expect(await page.getByTestId("attachment-input").count()).toBe(0);
     expect(errors).toEqual([]);

@@ -392,6 +392,10 @@ export function ActionsCard({ inv, canManage, people }: { inv: Investigation; ca
   return (
     <Card title={t("investigations.detail.actionsTitle", { n: count(inv.actionList.length) })}>
       <div className="space-y-3">
+        {/* What an action may change can hurt someone: the usual cautions, where actions are written and read. */}
+        <Notice tone="caution" title={t("investigations.detail.actionsCautionTitle")}>
+          {t("investigations.detail.actionsCaution")}
+        </Notice>
         {inv.actionList.length ? (
           <ul className="divide-y divide-ink-100" data-testid="actions">
             {inv.actionList.map((a) => (
