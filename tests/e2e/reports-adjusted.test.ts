@@ -382,6 +382,8 @@ describe("adjusted associations in the browser (issue 12)", () => {
                   adjustedCi: v.adjusted && v.adjusted.oddsRatioPerIqr !== null ? ratioRange(v.adjusted.ciLower, v.adjusted.ciUpper) : "",
                   adjustedP: pValue(v.adjusted?.p),
                   adjustedPAdjusted: pValue(v.adjusted?.pAdjusted),
+                  // The grade family, the adjustment itself, says so where its adjusted figures stand.
+                  ...(v.key === "grade_family" ? { adjustedWithin: "The adjustment itself: tested alone" } : {}),
                 }
               : { rank: "", label: v.label, n: v.n.toLocaleString("en-GB"), reason: v.reason ?? "not testable" },
           ),

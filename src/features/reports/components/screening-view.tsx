@@ -55,6 +55,8 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
     means: t("screening.means"),
     ofN: t("screening.ofN"),
     adjustedReason: t("screening.adjustedReason"),
+    adjustmentAlone: t("screening.adjustmentAlone"),
+    adjustmentPart: t("screening.adjustmentPart"),
     rateAgainst: t("screening.rateAgainst"),
   };
   const adjusted = data.adjustFor.length > 0;
@@ -212,6 +214,12 @@ export function ScreeningView({ data, linkFor }: { data: Screening; linkFor: (ke
                           <div className="text-xs text-ink-600" data-field="adjustedCi">
                             {v.adjusted && v.adjusted.oddsRatioPerIqr !== null ? ratioRange(v.adjusted.ciLower, v.adjusted.ciUpper) : ""}
                           </div>
+                          {/* A term of the adjustment cannot be adjusted for itself: said where its adjusted figures stand. */}
+                          {data.adjustFor.some((term) => term.key === v.key) ? (
+                            <div className="text-xs font-semibold text-ink-700" data-field="adjustedWithin">
+                              {data.adjustFor.length === 1 ? w.adjustmentAlone : w.adjustmentPart}
+                            </div>
+                          ) : null}
                           {v.adjusted && v.kind === "categorical" && v.adjusted.statistic !== null ? (
                             <div className="text-xs text-ink-600">
                               X² = {num(v.adjusted.statistic, 2)}
