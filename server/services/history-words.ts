@@ -174,11 +174,18 @@ export function auditWords(
       }
     }
     case "defect_selection": {
+      const kind = (after?.selection as { kind?: unknown } | null | undefined)?.kind;
       const tags = Array.isArray(after?.tags) ? (after.tags as string[]).map(ctx.causeName) : [];
       const n = typeof after?.tagged === "number" ? after.tagged : null;
       const values = {
         defects: Array.isArray(after?.defects) ? say("selection.defects", { count: after.defects.length }) : say("selection.allDefects"),
-        heat: a.entityId ?? "",
+        // Where the selection came from: a heat or a sequence by its number, else defects chosen on a list (or by filters).
+        where:
+          kind === "heat"
+            ? say("selection.ofHeat", { heat: a.entityId ?? "" })
+            : kind === "sequence"
+              ? say("selection.ofSequence", { sequence: a.entityId ?? "" })
+              : say("selection.chosen"),
         causes: w.list(tags) || say("selection.anyCauses"),
         confidence,
         taggings: n === null ? null : say("selection.taggings", { count: n }),

@@ -119,6 +119,9 @@ export function heatHistory(db: Db, heatNo: string, opts: HistoryOptions = {}): 
   return { ...full, audit: full.audit.map(({ at, by, what }) => ({ at, by, what })) };
 }
 
+/** The record of an audit row about a defect entry deleted since (the internal edition keeps it; the customer's leaves it out). */
+const DELETED_DEFECT = "deleted defect";
+
 /** An audit row with what the customer edition chooses by: the kind of record and its plant name. */
 type ScopedAudit = HeatHistory["audit"][number] & { scope: "defect" | "causes" | "investigation" | "claim" | "other"; record: string | null };
 type FullHistory = Omit<HeatHistory, "audit"> & { audit: ScopedAudit[] };
@@ -207,8 +210,9 @@ function customerEdition(full: FullHistory, chosen: CustomerSection[]): HeatHist
       ? full.audit
           .filter(
             (a) =>
-              (a.scope === "defect" && defectsOn) ||
-              (a.scope === "causes" && on.has("causes")) ||
+              // An entry deleted since is not in the document: nor is its trail.
+              (a.scope === "defect" && defectsOn && a.record !== DELETED_DEFECT) ||
+              (a.scope === "causes" && on.has("causes") && a.record !== DELETED_DEFECT) ||
               (a.scope === "investigation" && invs.some((i) => i.ref === a.record)) ||
               (a.scope === "claim" && claimNo !== null && a.record === claimNo),
           )
@@ -246,6 +250,15 @@ function internalHistory(db: Db, heatNo: string, language: Language): FullHistor
     )
     .all(h.id) as Row[];
   const defectIds = defects.map((d) => d.id as number);
+  // Entries deleted since: not in the record's lists, but what was logged and deleted on the heat stays in its audit trail (a claim's file needs it).
+  const deleted = sqlite
+    .prepare(
+      `select d.id, s.slab_id as slabCode, t.code as typeCode from defects d join slabs s on s.id = d.slab_id join defect_types t on t.id = d.type_id
+       where s.heat_id = ? and d.deleted_at is not null`,
+    )
+    .all(h.id) as Row[];
+  const deletedIds = new Set(deleted.map((d) => String(d.id)));
+  const everDefectIds = [...defectIds, ...deleted.map((d) => d.id as number)];
   const photos = sqlite
     .prepare(`select id, defect_id from defect_photos where deleted_at is null and defect_id in ${inList(defectIds)} order by created_at, id`)
     .all() as Row[];
@@ -287,7 +300,7 @@ function internalHistory(db: Db, heatNo: string, language: Language): FullHistor
   const audit = sqlite
     .prepare(
       `select a.*, coalesce(a.user_name, u.name, a.actor) as byName from audit_log a left join user u on u.id = a.user_id
-       where (a.entity = 'defect' and a.entity_id in (${defectIds.map((d) => `'${d}'`).join(",") || "null"}))
+       where (a.entity = 'defect' and a.entity_id in (${everDefectIds.map((d) => `'${d}'`).join(",") || "null"}))
           or (a.entity = 'investigation' and a.entity_id in (${
             investigations
               .filter((i) => i.sameHeat)
@@ -301,6 +314,7 @@ function internalHistory(db: Db, heatNo: string, language: Language): FullHistor
               .join(",") || "null"
           }))
           or (a.entity = 'defect_selection' and a.entity_id = @heatNo)
+          or (a.entity = 'defect_selection' and json_valid(a.after) and exists (select 1 from json_each(a.after, '$.defects') j where j.value in ${inList(everDefectIds)}))
        order by a.at, a.id`,
     )
     .all({ heatNo: h.heat_no }) as Row[];
@@ -311,7 +325,7 @@ function internalHistory(db: Db, heatNo: string, language: Language): FullHistor
   for (const p of photos)
     photosOf.set(p.defect_id, [...(photosOf.get(p.defect_id) ?? []), { id: p.id, url: `/api/photos/${p.id}`, thumbUrl: `/api/photos/${p.id}/thumb` }]);
   // What the audit trail's sentences call each record.
-  const defectName = new Map(defects.map((d) => [String(d.id), { type: String(d.typeCode), slab: String(d.slabCode) }]));
+  const defectName = new Map([...defects, ...deleted].map((d) => [String(d.id), { type: String(d.typeCode), slab: String(d.slabCode) }]));
   const invRefs = new Map(investigations.map((i) => [String(i.id), String(i.ref)]));
   const claimNos = new Map(claims.map((c) => [String(c.id), String(c.claim_no)]));
   const typeCodes = new Map((sqlite.prepare("select id, code from defect_types").all() as Row[]).map((t) => [Number(t.id), String(t.code)]));
@@ -428,7 +442,13 @@ function internalHistory(db: Db, heatNo: string, language: Language): FullHistor
           ? a.entity
           : "other") as ScopedAudit["scope"],
       record:
-        a.entity === "claim" ? (claimNos.get(String(a.entity_id)) ?? null) : a.entity === "investigation" ? (invRefs.get(String(a.entity_id)) ?? null) : null,
+        a.entity === "claim"
+          ? (claimNos.get(String(a.entity_id)) ?? null)
+          : a.entity === "investigation"
+            ? (invRefs.get(String(a.entity_id)) ?? null)
+            : a.entity === "defect" && deletedIds.has(String(a.entity_id))
+              ? DELETED_DEFECT
+              : null,
     })),
   };
 }

@@ -640,4 +640,43 @@ describe("the two editions of a heat's history", () => {
     expect(got.text_body).toContain("This is the internal edition: it is not meant for the customer.");
     expect(res.body.claim.history.at(-1).detail).toBe(`Heat ${heatNo} history (internal edition) queued for e-mail to quality-desk@example.test`);
   });
+
+  it("when an entry on the heat was logged and deleted, and a defect of it tagged from a list, then the internal trail says so in words and the customer's leaves the deleted entry out", async () => {
+    const slab = heatWithDefects().slab_id;
+    const logged = await inspector.post("/api/defects").set("Origin", O()).send({
+      slab_id: slab,
+      type_code: "DEP",
+      face: "inner",
+      position_along_mm: 1500,
+      position_across_mm: 200,
+      severity: 2,
+      disposition: "grind",
+      client_key: "history-deleted-0001",
+      found_at: new Date().toISOString(),
+    });
+    expect(logged.status, JSON.stringify(logged.body)).toBe(201);
+    expect((await inspector.delete(`/api/defects/${logged.body.id}`).set("Origin", O())).status).toBe(200);
+    const live = one(
+      "select d.id from defects d join slabs s on s.id = d.slab_id join heats h on h.id = s.heat_id where h.heat_no = ? and d.deleted_at is null order by d.id limit 1",
+      heatNo,
+    ).id as number;
+    const bulk = await process_
+      .post("/api/causes/bulk")
+      .set("Origin", O())
+      .send({ selection: { kind: "defects", ids: [live] }, tags: ["tundish-change"], confidence: "suspected" });
+    expect(bulk.status).toBe(201);
+
+    const internal = ((await claims.get(`/api/heats/${heatNo}/history`)).body.audit as { what: string }[]).map((a) => a.what);
+    expect(internal).toContain(`Logged DEP on slab ${slab}, severity 2`);
+    expect(internal).toContain(`Deleted the entry DEP on slab ${slab}`);
+    // A tagging from a list of defects names no heat it did not come from.
+    expect(internal).toContain("Tagged 1 defect chosen on a list at once with Tundish change (suspected): 1 tagging written");
+
+    const customer = await claims.get(`/api/heats/${heatNo}/history?edition=customer&claim=${claimId}&sections=slabs,defects,causes,audit`);
+    const said = (customer.body.audit as { what: string }[]).map((a) => a.what);
+    expect(said.length).toBeGreaterThan(0);
+    expect(said.filter((w) => w.startsWith("Deleted the entry"))).toEqual([]);
+    const loggedThere = (ws: string[]) => ws.filter((w) => w === `Logged DEP on slab ${slab}, severity 2`).length;
+    expect(loggedThere(said)).toBe(loggedThere(internal) - 1);
+  });
 });
