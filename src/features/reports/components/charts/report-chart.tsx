@@ -11,6 +11,7 @@ import {
   TooltipComponent,
   VisualMapComponent,
 } from "echarts/components";
+import { LabelLayout } from "echarts/features";
 import { CanvasRenderer } from "echarts/renderers";
 import { chartDrawn } from "@/components/ui/first-view";
 import { CHART_THEME, echarts } from "@/lib/chart-theme";
@@ -31,6 +32,8 @@ echarts.use([
   VisualMapComponent,
   DataZoomComponent,
   GraphicComponent,
+  // The charts' labelLayout (hideOverlap: the p-chart's "above UCL" and rule labels) works only with this feature.
+  LabelLayout,
   CanvasRenderer,
 ]);
 
