@@ -7,6 +7,7 @@
 import type { Language } from "@shared/i18n/languages";
 import { levelSaid } from "@shared/i18n/levels";
 import { translator } from "../lib/i18n";
+import { textIn } from "../lib/words";
 import { addItemSheet, addTableSheet, newWorkbook, workbookBuffer, D2, D3, N0, PCT, type SheetColumn, type TableLook } from "../lib/workbook-sheets";
 import type { CausePareto } from "@shared/api/causes";
 import type { Adjusted, BeforeAfter, ControlChart, Overview, ProcessWindow, RateByVariable, Screening, SlabPositions } from "@shared/api/reports";
@@ -679,6 +680,7 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
       // A face is a key of the shared list: English writes it as it is, another language the screens' name.
       const faceWords = (f: string) => (w.language === "en" ? f : (w.raw(`common:terms.faces.${f}`, { defaultValue: f }) as string));
       const along = x.alongEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.alongEdges[i + 1]! * 100)} %`);
+      const across = x.acrossEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.acrossEdges[i + 1]! * 100)} %`);
       return [
         {
           name: w("sheets.byFace"),
@@ -695,6 +697,17 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
             ...along.map((a, i) => ({ header: w("headers.ofLengthFromHead", { range: a }), key: `a${i}`, numFmt: N0 })),
           ],
           rows: x.grid.map((g) => ({ face: faceWords(g.face), ...Object.fromEntries(g.along.map((v, i) => [`a${i}`, v])) })),
+        },
+        // The screen's table across the face (the surfaces; a section cut has no width to be placed on).
+        {
+          name: w("sheets.acrossTheFace"),
+          columns: [
+            { header: w("headers.face"), key: "face" },
+            ...across.map((a, i) => ({ header: w("headers.ofWidthAcross", { range: a }), key: `c${i}`, numFmt: N0 })),
+          ],
+          rows: x.grid
+            .filter((g) => g.face !== "section")
+            .map((g) => ({ face: faceWords(g.face), ...Object.fromEntries(g.across.map((v, i) => [`c${i}`, v])) })),
         },
       ];
     }
@@ -799,7 +812,7 @@ const methodInWords = (line: string, w: W) =>
   line.replace(/^([A-Za-z_]+): /, (_, key: string) => `${has(REPORT_WORDS.methodNames, key) ? w(`methodNames.${key}`) : keyInWords(key)}: `);
 
 /** Method texts and notes of a report's answer, for the Parameters sheet (besides the `methods` the route passes). */
-function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
+function explanationsOf(kind: string, r: unknown, language: Language): { k: string; v: string }[] {
   const rows: { k: string; v: string }[] = [];
   const notes = (list: string[] | undefined) => (list ?? []).forEach((v) => rows.push({ k: "Note", v }));
   if (kind === "control-chart") {
@@ -811,6 +824,7 @@ function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
     notes(x.notes);
   } else if (kind === "overview") {
     const x = r as Overview;
+    rows.push({ k: "Method", v: textIn(language, "shares.wilson") });
     if (x.standardisation) rows.push({ k: "Method", v: x.standardisation.method });
     notes(x.notes);
   } else if (kind === "before-after") {
@@ -822,6 +836,7 @@ function explanationsOf(kind: string, r: unknown): { k: string; v: string }[] {
     }
     notes(x.notes);
   } else if (kind === "process-window") {
+    rows.push({ k: "Method", v: textIn(language, "shares.wilson") });
     notes((r as ProcessWindow).notes);
   } else {
     // Any other report's notes (rate against a variable, screening, the adjusted model …).
@@ -891,7 +906,7 @@ export async function reportWorkbook(
   if (given.length === 0) add(w("items.filters"), w("items.noFilters"));
   for (const row of given) add(row.k, row.v);
   for (const m of method) add(w("items.method"), methodInWords(m, w));
-  for (const row of explanationsOf(kind, result)) add(EXPLANATION_KEYS[row.k] ? w(`items.${EXPLANATION_KEYS[row.k]}`) : row.k, row.v);
+  for (const row of explanationsOf(kind, result, w.language)) add(EXPLANATION_KEYS[row.k] ? w(`items.${EXPLANATION_KEYS[row.k]}`) : row.k, row.v);
   CAUTION_KEYS.forEach((i) => add(w("items.caution"), w(`cautions.${i}`)));
 
   let floored = 0;

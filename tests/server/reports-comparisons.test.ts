@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import ExcelJS from "exceljs";
 import type request from "supertest";
-import { beforeAfterSchema, controlChartSchema, overviewSchema, processWindowSchema, type RateByVariable } from "@shared/api/reports";
+import { beforeAfterSchema, controlChartSchema, overviewSchema, processWindowSchema, slabPositionsSchema, type RateByVariable } from "@shared/api/reports";
 import { createResolver } from "../../server/services/conditions.service";
 import { reportWorkbook } from "../../server/services/report-export";
 import { periodOf } from "../../server/services/reports/periods";
@@ -758,5 +758,21 @@ describe("Excel exports", () => {
     ).toEqual(json.periods.map((p) => [p.period, p.rate, p.standardised!.rate, p.standardised!.ciLower, p.standardised!.ciUpper]));
     expect(parameters(wb)).toContainEqual(["Standardised to", "the grade-family mix of every slab in the filters"]);
     expect(parameters(wb)).toContainEqual(["Rates by", "ISO week"]);
+  });
+
+  it("when the overview, the process window and the positions on the slab are exported, then the first two name their interval method and the positions carry the table across the face as the JSON has it", async () => {
+    const wilson =
+      "Each share of slabs affected with its Wilson score interval, 95 %, no continuity correction (Wilson 1927; Newcombe 1998, Stat. Med. 17:857, method 3).";
+    expect(parameters(await workbook(`/api/reports/overview.xlsx?from=${plant.from}&defectType=SLG`))).toContainEqual(["Method", wilson]);
+    expect(
+      parameters(await workbook(`/api/reports/process-window.xlsx?from=${plant.from}&x=casting_speed_m_min&y=embr_current_a&xBins=3&yBins=3&defectType=SLG`)),
+    ).toContainEqual(["Method", wilson]);
+    const json = slabPositionsSchema.parse(await get(`/api/reports/slab-positions?from=${plant.from}`));
+    const surfaces = json.grid.filter((g) => g.face !== "section");
+    expect(surfaces.some((g) => g.across.some((n) => n > 0))).toBe(true);
+    const across = (await workbook(`/api/reports/slab-positions.xlsx?from=${plant.from}`)).getWorksheet("Across the face")!;
+    expect(headersOf(across)[0]).toBe("Face");
+    expect(headersOf(across)[1]).toBe("0–20 % of width across the face");
+    expect(rowsOf(across)).toEqual(surfaces.map((g) => [g.face, ...g.across]));
   });
 });
