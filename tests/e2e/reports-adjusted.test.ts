@@ -411,6 +411,10 @@ describe("adjusted associations in the browser (issue 12)", () => {
       );
       expect(await page.getByTestId("before-after-strata").getByTestId("change-sentence").textContent()).toContain(st.changeInEstimate.sentence!);
       await snap(page, `report-before-after-strata-${size}`);
+      // Two periods: their days read as the filters' do (the person's language: day/month/year in English), not as the browser writes dates.
+      await page.goto(`${env.server.baseUrl}/reports/before-after?defectType=SLG&mode=periods&aFrom=2026-06-01&aTo=2026-06-07&bFrom=2026-06-15&bTo=2026-06-21`);
+      await expect.poll(() => page.getByTestId("range-aFrom").inputValue()).toBe("01/06/2026");
+      expect(await page.getByTestId("range-bTo").inputValue()).toBe("21/06/2026");
 
       // Overview: each week's rate standardised to the grade mix beside the crude one.
       await page.goto(`${env.server.baseUrl}/reports/overview?defectType=SLG&period=week&standardise=grade_family`);

@@ -14,6 +14,7 @@ import { inputClass, labelClass, labelText } from "./filter-bar";
 import type { ReportParams } from "./report-params";
 import { Choice, SettingsRow, VariableSelect, variableOf } from "./settings";
 import { FEW_SLABS, SmallNWarning } from "./small-n";
+import { DateField } from "@/components/ui/date-field";
 import { RateTable } from "./tables";
 
 const CategoryRateChart = lazy(() => import("./charts/category-rate-chart"));
@@ -41,19 +42,32 @@ export function BeforeAfterSettings({ params, onChange }: { params: ReportParams
   }, [params]);
   const periods = params.mode !== "variable";
   const v = variableOf(params.variable ?? "casting_speed_m_min");
-  const field = (k: (typeof RANGE_KEYS)[number], label: string, type: "date" | "number") => (
-    <label className={labelClass} key={k}>
-      <span className={labelText}>{label}</span>
-      <input
-        type={type}
-        step={type === "number" ? "any" : undefined}
+  const field = (k: (typeof RANGE_KEYS)[number], label: string, type: "date" | "number") =>
+    // A day as the filters above write it (in the person's language), not the browser's own date field.
+    type === "date" ? (
+      <DateField
+        key={k}
+        label={label}
+        className={labelClass}
+        labelClassName={labelText}
+        inputClassName={inputClass}
         value={draft[k] ?? ""}
-        onChange={(e) => setDraft((d) => ({ ...d, [k]: e.target.value }))}
-        className={inputClass}
+        onChange={(v) => setDraft((d) => ({ ...d, [k]: v }))}
         data-testid={`range-${k}`}
       />
-    </label>
-  );
+    ) : (
+      <label className={labelClass} key={k}>
+        <span className={labelText}>{label}</span>
+        <input
+          type="number"
+          step="any"
+          value={draft[k] ?? ""}
+          onChange={(e) => setDraft((d) => ({ ...d, [k]: e.target.value }))}
+          className={inputClass}
+          data-testid={`range-${k}`}
+        />
+      </label>
+    );
   const unit = v && v.unit !== "–" ? ` (${v.unit})` : "";
   return (
     <form
