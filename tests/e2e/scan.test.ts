@@ -84,6 +84,9 @@ describe("scanning a slab id on the yard screen", { timeout: 120_000 }, () => {
       await page.getByRole("button", { name: "Scan", exact: true }).click();
       await page.getByText('No slab with an id starting "ZZ999999-999".').waitFor({ timeout: 30_000 });
       expect(await page.getByLabel(/Slab id or heat number/).inputValue()).toBe("ZZ999999-999");
+      // Said once: not again underneath as "no slab matches" (once the finder's own search has answered too).
+      await page.waitForLoadState("networkidle");
+      expect(await page.getByText("No slab matches").count()).toBe(0);
       expect(await page.getByTestId("scan-sheet").count()).toBe(0);
       expect(new URL(page.url()).pathname).toBe("/yard");
       expect(errors).toEqual([]);

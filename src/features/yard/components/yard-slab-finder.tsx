@@ -149,7 +149,8 @@ export function YardSlabFinder({ slabs, onPick }: { slabs: readonly YardSlab[] |
             </li>
           ))}
         </ul>
-      ) : q && online && server.isSuccess ? (
+      ) : q && online && server.isSuccess && !notice ? (
+        // (After Enter the notice above says it already.)
         <p className="text-sm text-ink-600">{t("finder.noMatch", { q })}</p>
       ) : null}
       {showUnknown ? (
