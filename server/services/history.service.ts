@@ -552,7 +552,7 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
     add(w("cover.customer"), c.customer);
     add(w("cover.received"), c.receivedOn);
     add(w("cover.defectComplained"), c.defectComplained);
-    if (c.quantityT !== null) add(w("cover.quantity"), c.quantityT, D1);
+    if (c.quantityT !== null) add(w("cover.quantity"), c.quantityT, D2);
     add(w("cover.products"), c.products.join(", ") || "—");
     if (c.otherProducts.length) add(w("cover.otherProducts"), w("cover.notFromThisHeat", { products: c.otherProducts.join(", ") }));
     add(w("cover.slabs"), c.slabs.join(", "));
@@ -821,7 +821,13 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
               { header: w("headers.onThisHeat"), key: "sameHeat" },
             ]),
       ],
-      hist.investigations.map((i) => ({ ...i, openedAt: date(i.openedAt), closedAt: date(i.closedAt), sameHeat: i.sameHeat ? yes : w("noSameSequence") })),
+      hist.investigations.map((i) => ({
+        ...i,
+        status: t(`common:terms.investigationStatus.${i.status}`, { defaultValue: i.status }),
+        openedAt: date(i.openedAt),
+        closedAt: date(i.closedAt),
+        sameHeat: i.sameHeat ? yes : w("noSameSequence"),
+      })),
       title,
       t,
     );
@@ -836,12 +842,18 @@ export async function historyWorkbook(db: Db, hist: HeatHistory, opts: WorkbookO
         { header: w("headers.customer"), key: "customer", width: 28 },
         { header: w("headers.received"), key: "receivedOn", width: 12 },
         { header: w("headers.defectComplained"), key: "defectComplained", width: 36 },
-        { header: w("headers.quantityT"), key: "quantityT", numFmt: D1 },
+        { header: w("headers.quantityT"), key: "quantityT", numFmt: D2 },
         { header: w("headers.status"), key: "status" },
         { header: w("headers.onThisHeat"), key: "sameHeat" },
         { header: w("headers.slabsOfHeat"), key: "slabs", width: 30 },
       ],
-      hist.claims.map((c) => ({ ...c, sameHeat: c.sameHeat ? yes : w("noSameSequence"), slabs: c.slabs.join(", ") })),
+      // Statuses in the screens' words ("Under review"), not as stored.
+      hist.claims.map((c) => ({
+        ...c,
+        status: t(`common:terms.claimStatus.${c.status}`, { defaultValue: c.status }),
+        sameHeat: c.sameHeat ? yes : w("noSameSequence"),
+        slabs: c.slabs.join(", "),
+      })),
       title,
       t,
     );

@@ -443,6 +443,25 @@ describe("the heat history workbook", () => {
     expect(slabsCsv.split("\n")[1]).toContain(wb.getWorksheet("Slabs")!.getRow(2).getCell(1).value as string);
   }, 180_000);
 
+  it("when a heat with claims is exported, then the claims' statuses and tonnage read as on the screens, not as stored", async () => {
+    const claimed = one(
+      `select h.heat_no, c.status, c.quantity_t from claims c join claim_slabs cs on cs.claim_id = c.id join slabs s on s.id = cs.slab_id join heats h on h.id = s.heat_id
+       order by c.id limit 1`,
+    );
+    const res = await download(claims, `/api/heats/${claimed.heat_no}/history.xlsx`);
+    expect(res.status).toBe(200);
+    const book = new ExcelJS.Workbook();
+    await book.xlsx.load(res.body as never);
+    const ws = book.getWorksheet("Claims")!;
+    const headers = (ws.getRow(1).values as unknown[]).slice(1);
+    const status = headers.indexOf("Status") + 1;
+    const words: Record<string, string> = { new: "New", under_review: "Under review", accepted: "Accepted", rejected: "Rejected", closed: "Closed" };
+    const statuses = ws.getRows(2, ws.rowCount - 1)!.map((r) => r.getCell(status).value);
+    expect(statuses).toContain(words[claimed.status as string]);
+    for (const v of statuses) expect(Object.values(words)).toContain(v);
+    expect(ws.getColumn(headers.indexOf("Quantity (t)") + 1).numFmt).toBe("0.00");
+  });
+
   it("when an inspector asks for it, then 403 and no workbook", async () => {
     const res = await inspector.get(`/api/heats/${heatNo}/history.xlsx`);
     expect(res.status).toBe(403);
