@@ -229,6 +229,10 @@ describe("heats import", () => {
     expect(ours.rows[1]!.cells[HEAT_HEADERS.indexOf("sen_depth_mm")] ?? null).toBeNull();
     expect(ours.rows[1]!.cells[HEAT_HEADERS.indexOf("sequence_no")]).toBe("IMPSEQ-8");
     expect(parseDateTime(ours.rows[0]!.cells[HEAT_HEADERS.indexOf("cast_start")]!)).toBe(Date.UTC(2026, 11, 1, 0, 0) + 70 * 40 * 60_000);
+    // The forms the refusal of a date offers (year first, a space or a T, an offset or UTC) are read.
+    expect(parseDateTime("2026-11-03 14:20")).toBe(Date.UTC(2026, 10, 3, 14, 20));
+    expect(parseDateTime("2026-11-03T14:20:00Z")).toBe(Date.UTC(2026, 10, 3, 14, 20));
+    expect(parseDateTime("2026-11-03 14:20+01:00")).toBe(Date.UTC(2026, 10, 3, 13, 20));
   });
 
   it("when a formula has no stored value, then the row says to let Excel calculate it", async () => {

@@ -381,12 +381,12 @@ describe("refusals made in the import, report and risk code, in the requester's 
     const messages = (errors: { message: string }[]) => errors.map((e) => e.message);
     const german = [
       "Unbekannte Spalte: bogus. Die Vorlage nennt die Schlüssel, die dieser Import annimmt.",
-      "cast_start: „not a date“ ist kein Datum; verwenden Sie ISO 8601, etwa 2026-11-03T14:20:00Z.",
+      "cast_start: „not a date“ ist kein Datum, das der Import liest: verwenden Sie eine Datumszelle oder schreiben Sie das Jahr zuerst, etwa 2026-11-03 14:20 (als UTC gelesen, wenn kein Versatz wie +01:00 folgt).",
       "Die Gießanlage NOPE ist nicht eingerichtet. Legen Sie sie unter Anlageneinrichtung an oder korrigieren Sie den Code.",
     ];
     const english = [
       "Unknown column: bogus. The template lists the keys this import takes.",
-      "cast_start “not a date” is not a date; use ISO 8601 such as 2026-11-03T14:20:00Z.",
+      "cast_start “not a date” is not a date the import reads: use a date cell, or write the date year first, such as 2026-11-03 14:20 (read as UTC unless an offset follows, such as +01:00).",
       "Caster NOPE is not set up. Add it under Plant setup, or correct the code.",
     ];
     const preview = await post(true, "de");
