@@ -249,6 +249,17 @@ describe("a new account, one way, confirmed", () => {
     await page.getByRole("button", { name: "New user" }).waitFor();
     expect(await done.count()).toBe(0);
 
+    // Deactivating asks once more (it signs the person out at once); keeping them active changes nothing.
+    const banned = () => q("select coalesce(banned, 0) from user where email = 'ines.invite@example.test'");
+    await page.getByRole("button", { name: "Deactivate Ines Invite (demo)" }).click();
+    await page.getByRole("button", { name: "Keep active" }).click();
+    expect(banned()).toBe(0);
+    await page.getByRole("button", { name: "Deactivate Ines Invite (demo)" }).click();
+    await page.getByRole("button", { name: "Deactivate Ines Invite (demo) and sign them out at once" }).click();
+    await expect.poll(banned).toBe(1);
+    await page.getByRole("button", { name: "Reactivate Ines Invite (demo)" }).click();
+    await expect.poll(banned).toBe(0);
+
     expect(errors).toEqual([]);
     await context.close();
   });

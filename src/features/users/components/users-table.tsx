@@ -85,6 +85,8 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
   const { t } = useTranslation("admin");
   const [sorting, setSorting] = useState<SortingState>([{ id: "name", desc: false }]);
   const [editing, setEditing] = useState<string | null>(null);
+  // Deactivating signs the person out at once: asked once more, beside the button (reactivating is not).
+  const [confirming, setConfirming] = useState<string | null>(null);
   const update = useUpdateUser();
   const unlock = useUnlockUser();
 
@@ -140,22 +142,36 @@ export function UsersTable({ users, currentUserId }: { users: AdminUser[]; curre
               >
                 {t("users.table.rolesButton")}
               </Button>
-              {u.id !== currentUserId ? (
+              {u.id === currentUserId ? null : u.active && confirming === u.id ? (
+                <>
+                  <Button
+                    variant="danger"
+                    disabled={update.isPending}
+                    onClick={() => update.mutate({ id: u.id, active: false }, { onSuccess: () => setConfirming(null) })}
+                    aria-label={t("users.table.confirmDeactivateNamed", { name: u.name })}
+                  >
+                    {t("users.table.confirmDeactivate")}
+                  </Button>
+                  <Button variant="ghost" onClick={() => setConfirming(null)}>
+                    {t("users.table.keepActive")}
+                  </Button>
+                </>
+              ) : (
                 <Button
                   variant={u.active ? "ghost" : "secondary"}
                   disabled={update.isPending}
-                  onClick={() => update.mutate({ id: u.id, active: !u.active })}
+                  onClick={() => (u.active ? setConfirming(u.id) : update.mutate({ id: u.id, active: true }))}
                   aria-label={u.active ? t("users.table.deactivateNamed", { name: u.name }) : t("users.table.reactivateNamed", { name: u.name })}
                 >
                   {u.active ? t("users.table.deactivate") : t("users.table.reactivate")}
                 </Button>
-              ) : null}
+              )}
             </div>
           );
         },
       }),
     ],
-    [editing, currentUserId, update, unlock, t],
+    [editing, confirming, currentUserId, update, unlock, t],
   );
 
   const table = useReactTable({
