@@ -175,7 +175,7 @@ export function investigationRoutes({ db, env, notify }: Deps): AnyRoute[] {
       ...base,
       method: "post",
       path: "/investigations/:id/close",
-      summary: "Close with the confirmed cause and a closure note (the participants are e-mailed)",
+      summary: "Close with the confirmed cause and a closure note (actions still open are cancelled with it; the participants are e-mailed)",
       access: "investigations.manage",
       params: idParams,
       body: closeInvestigationSchema,

@@ -438,6 +438,16 @@ export function closeInvestigation(db: Db, user: Actor, notify: Notifications, i
       .prepare("update investigations set status = 'closed', closed_at = ?, confirmed_cause_tag_id = ?, closure_note = ?, updated_at = ? where id = ?")
       .run(now, tag, input.closureNote, now, id);
     audit(db, user, id, "investigation.close", input, { status: inv.status });
+    // Actions still open when it closes are cancelled with it (the form says so before): a closed
+    // investigation leaves nothing to do and no reminder to come; each in the record of changes.
+    const open = sqlite
+      .prepare("select id, status from investigation_actions where investigation_id = ? and status in ('open', 'in_progress') order by id")
+      .all(id) as { id: number; status: string }[];
+    const cancel = sqlite.prepare("update investigation_actions set status = 'cancelled', completed_at = ?, updated_at = ? where id = ?");
+    for (const a of open) {
+      cancel.run(now, now, a.id);
+      audit(db, user, id, "investigation.action.update", { actionId: a.id, status: "cancelled" }, { status: a.status });
+    }
     const cause = sqlite.prepare("select code, name from cause_tags where id = ?").get(tag) as { code: string; name: string };
     notify.investigationClosed({ ...inv, closure_note: input.closureNote }, cause, recipientsOf(sqlite, inv));
   });

@@ -132,17 +132,19 @@ describe("investigations in the browser", () => {
     await cause.waitFor();
     expect(await cause.isDisabled()).toBe(true);
     expect(await cause.locator("option").allTextContents()).toEqual(["Loading the cause list…"]);
-    expect(await close.getByRole("button", { name: "Close with this cause" }).isDisabled()).toBe(true);
+    // One action is still open: the form says closing cancels it, and the button says so too.
+    expect(await close.getByText("1 action is still open: closing cancels it.").count()).toBe(1);
+    expect(await close.getByRole("button", { name: "Close and cancel the open actions" }).isDisabled()).toBe(true);
     expect(await page.getByRole("form", { name: "Add a hypothesis" }).getByLabel("Cause tag (optional)").isDisabled()).toBe(true);
     release();
     // Then the supported hypothesis's tag is offered first.
     await expect.poll(() => cause.inputValue()).toBe("low-superheat");
     expect(await cause.isDisabled()).toBe(false);
     await page.unroute("**/api/cause-tags*");
-    await close.getByRole("button", { name: "Close with this cause" }).click();
+    await close.getByRole("button", { name: "Close and cancel the open actions" }).click();
     await close.getByText("Say in the closure note what was found and done.").waitFor();
     await close.getByLabel("Closure note").fill("Superheat was 12 °C after the change; preheat practice reviewed through the change procedure.");
-    await close.getByRole("button", { name: "Close with this cause" }).click();
+    await close.getByRole("button", { name: "Close and cancel the open actions" }).click();
     await page.getByTestId("closure").waitFor();
     expect(await page.getByTestId("confirmed-cause").textContent()).toBe("Low superheat");
     expect(await page.getByTestId("investigation-status").first().textContent()).toBe("Closed");
@@ -151,6 +153,7 @@ describe("investigations in the browser", () => {
     const stored = (await api.get(`/api/investigations/${id}`)).body as Investigation;
     expect(stored.status).toBe("closed");
     expect(stored.confirmedCause).toEqual({ code: "low-superheat", name: "Low superheat" });
+    expect(stored.actionList.map((a) => a.status)).toEqual(["cancelled"]);
     await page.setViewportSize(DESKTOP);
     await snap(page, "investigation-closed-desktop");
 

@@ -221,4 +221,36 @@ describe("investigations", () => {
       "investigation.close",
     ]);
   });
+
+  it("when it is closed with actions still open, then those are cancelled with it (each in its record) and the finished one stays done", async () => {
+    const opened = await process_
+      .post("/api/investigations")
+      .set("Origin", O())
+      .send({ title: "Corner cracks after the speed change", problemStatement: "Corner cracks rose after the speed change on strand 2.", heatNos: [heatNo()] });
+    expect(opened.status).toBe(201);
+    const inv = opened.body.id as number;
+    const add = (description: string) =>
+      process_
+        .post(`/api/investigations/${inv}/actions`)
+        .set("Origin", O())
+        .send({ description, ownerId: userId("quality"), dueOn: todayIso() });
+    await add("Check the spray nozzles of segment 2");
+    await add("Review the taper of the mold");
+    const both = (await add("Log the mold level for a week")).body.actionList as { id: number }[];
+    await process_.patch(`/api/investigations/${inv}/actions/${both[0]!.id}`).set("Origin", O()).send({ status: "done" });
+    await process_.patch(`/api/investigations/${inv}/actions/${both[1]!.id}`).set("Origin", O()).send({ status: "in_progress" });
+    const closed = await process_
+      .post(`/api/investigations/${inv}/close`)
+      .set("Origin", O())
+      .send({ confirmedCause: "sen-clogging", closureNote: "Nozzles were blocked; cleaned and checked." });
+    expect(closed.status).toBe(200);
+    expect(closed.body.actionList.map((a: { status: string }) => a.status)).toEqual(["done", "cancelled", "cancelled"]);
+    expect(closed.body.actions).toMatchObject({ total: 3, open: 0, overdue: 0 });
+    const history = closed.body.history.map((h: { action: string }) => h.action);
+    expect(history.slice(history.indexOf("investigation.close"))).toEqual([
+      "investigation.close",
+      "investigation.action.update",
+      "investigation.action.update",
+    ]);
+  });
 });

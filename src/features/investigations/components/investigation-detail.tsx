@@ -553,7 +553,7 @@ export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption
         {problem ? <Notice tone="error">{t(`investigations.closure.${problem}`)}</Notice> : null}
         <MutationError mutation={change} />
         <Button type="submit" disabled={change.isPending || tags === null}>
-          {change.isPending ? t("investigations.closure.closing") : t("investigations.closure.close")}
+          {change.isPending ? t("investigations.closure.closing") : t(openActions ? "investigations.closure.closeCancelling" : "investigations.closure.close")}
         </Button>
       </form>
     </Card>
