@@ -497,6 +497,13 @@ describe("screening adjusted for grade family", () => {
     const speed = r.variables.find((v: Var) => v.key === "casting_speed_m_min") as Var;
     expect(speed.crude!.oddsRatioPerIqr).toBeGreaterThan(1);
   });
+
+  it("when the filters hold no slab, then each categorical condition says there is no slab, not that there is only one category", async () => {
+    const r = await get("/api/reports/screening?defectType=SLG&from=2020-01-01&to=2020-01-02");
+    expect(r.slabs).toBe(0);
+    const strand = r.variables.find((v: Var) => v.key === "strand") as Var;
+    expect([strand.testable, strand.p, strand.reason]).toEqual([false, null, "not testable: no slab in these filters"]);
+  });
 });
 
 describe("the fit itself", () => {

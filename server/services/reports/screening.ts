@@ -646,10 +646,11 @@ function screenCategorical(ctx: ScreeningContext, key: CategoricalKey): Row {
     meanAffected: null,
     meanSound: null,
     categories: cats.map(([l, c]) => ({ label: l, slabs: c.slabs, affected: c.affected, rate: c.slabs ? c.affected / c.slabs : null })),
-    method: chi ? chi.method : say("screening.oneCategory"),
+    method: chi ? chi.method : say(slabs === 0 ? "screening.noSlab" : "screening.oneCategory"),
     fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
     testable,
-    reason: testable ? null : say("screening.notTestableBecause", { why: say("screening.oneCategory") }),
+    // No slab at all is said as such, not as "only one category".
+    reason: testable ? null : say("screening.notTestableBecause", { why: say(slabs === 0 ? "screening.noSlab" : "screening.oneCategory") }),
     parent: null,
     derivedFrom: [],
     countedInBh: false,
