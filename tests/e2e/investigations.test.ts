@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import type { Investigation, InvestigationSummary } from "../../shared/api/investigations";
-import { collectPageErrors, DESKTOP, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { collectPageErrors, DESKTOP, roomInside, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
 import { TEST_PASSWORD } from "../helpers/test-app";
 
 const env = useAppAndBrowser({ scale: 0.02 });
@@ -86,17 +86,7 @@ describe("investigations in the browser", () => {
     // On a desktop the actions card is half the page wide: the person and the date still show whole
     // (the words the field holds measured in its own font, against the room inside it).
     await page.setViewportSize(DESKTOP);
-    const room = (field: string) =>
-      act.getByLabel(field).evaluate((el: HTMLInputElement | HTMLSelectElement) => {
-        const cs = getComputedStyle(el);
-        const ctx = document.createElement("canvas").getContext("2d")!;
-        ctx.font = `${cs.fontWeight} ${cs.fontSize} ${cs.fontFamily}`;
-        const text = el instanceof HTMLSelectElement ? (el.selectedOptions[0]?.text ?? "") : "00/00/0000";
-        // A list's arrow takes about 1.25 em beside its words (a date field keeps room for its calendar button in its padding).
-        const arrow = el instanceof HTMLSelectElement ? 1.25 * parseFloat(cs.fontSize) : 0;
-        const inside = el.clientWidth - parseFloat(cs.paddingLeft) - parseFloat(cs.paddingRight) - arrow;
-        return Math.round(inside - ctx.measureText(text).width);
-      });
+    const room = (field: string) => roomInside(act.getByLabel(field));
     await snap(page, "investigation-actions-desktop");
     // (Measured: 46 and 17 px to spare; −173 and −19 px when the card's four fields shared one line.)
     expect(await room("Action owner")).toBeGreaterThanOrEqual(0);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { collectPageErrors, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
+import { collectPageErrors, DESKTOP, roomInside, signInAs, snap, TABLET, useAppAndBrowser } from "../helpers/browser";
 import { TEST_PASSWORD } from "../helpers/test-app";
 
 const env = useAppAndBrowser({ scale: 0.02 });
@@ -104,6 +104,15 @@ describe("the screens in the person's language (the catalogues so far: sign-in, 
         .first()
         .waitFor({ timeout: 60_000 });
       await expect.poll(() => page.getByText(/Screening shows association, not cause/).count(), { timeout: 15_000 }).toBe(0);
+      // On a desktop the filters' German choices show whole (eight to a row cut "Alle Stahlsor…", "Jede, oder nicht b…").
+      await page.setViewportSize(DESKTOP);
+      const lists = page.getByRole("search").locator("select");
+      const cut: string[] = [];
+      for (let k = 0; k < (await lists.count()); k++) {
+        const list = lists.nth(k);
+        if ((await roomInside(list)) < 0) cut.push(await list.evaluate((el: HTMLSelectElement) => el.selectedOptions[0]?.text ?? ""));
+      }
+      expect(cut).toEqual([]);
       expect(errors).toEqual([]);
     } finally {
       // Whatever happened above, the quality engineer reads English again in the tests after this one.

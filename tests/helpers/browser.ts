@@ -2,7 +2,7 @@ import { afterAll, beforeAll } from "vitest";
 import { startTestServer } from "./test-app";
 import fs from "node:fs";
 import path from "node:path";
-import { chromium, type Browser, type Page } from "playwright-core";
+import { chromium, type Browser, type Locator, type Page } from "playwright-core";
 
 export const TABLET = { width: 820, height: 1180 };
 export const DESKTOP = { width: 1440, height: 900 };
@@ -67,6 +67,23 @@ export function collectPageErrors(page: Page, allowedStatuses: number[] = [401])
  * page's. A status the server answered (a 500, a 404) is still an error.
  */
 export const apartFromOffline = (errors: string[]) => errors.filter((e) => !e.includes("net::ERR_INTERNET_DISCONNECTED"));
+
+/**
+ * The room to spare, px, inside a form field for what it shows: a list's chosen words, or `text` for
+ * another field (a date's "00/00/0000"), measured in the field's own font; below 0 the field cuts it.
+ * A list's arrow takes about 1.25 em beside its words; a date field keeps room for its calendar button in its padding.
+ */
+export function roomInside(field: Locator, text = "00/00/0000"): Promise<number> {
+  return field.evaluate((el: HTMLInputElement | HTMLSelectElement, other: string) => {
+    const cs = getComputedStyle(el);
+    const ctx = document.createElement("canvas").getContext("2d")!;
+    ctx.font = `${cs.fontWeight} ${cs.fontSize} ${cs.fontFamily}`;
+    const words = el instanceof HTMLSelectElement ? (el.selectedOptions[0]?.text ?? "") : other;
+    const arrow = el instanceof HTMLSelectElement ? 1.25 * parseFloat(cs.fontSize) : 0;
+    const inside = el.clientWidth - parseFloat(cs.paddingLeft) - parseFloat(cs.paddingRight) - arrow;
+    return Math.round(inside - ctx.measureText(words).width);
+  }, text);
+}
 
 /** Signs a demo user in through the real sign-in page and waits until the app has left it. */
 export async function signInAs(page: Page, baseUrl: string, role: string, password: string) {

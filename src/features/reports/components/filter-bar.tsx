@@ -46,7 +46,7 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
   const retired = t("filters.retired");
   const where = params.caster ? (params.strand ? `${params.caster}:${params.strand}` : params.caster) : params.strand ? `*:${params.strand}` : "";
   return (
-    <form role="search" aria-label={t("filters.label")} className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-8" onSubmit={(e) => e.preventDefault()}>
+    <form role="search" aria-label={t("filters.label")} className="grid grid-cols-2 gap-3 md:grid-cols-4 xl:grid-cols-6" onSubmit={(e) => e.preventDefault()}>
       <AfterFirstView placeholder={<DateFieldPlace label={t("filters.from")} />}>
         <DateField
           unreadable="keep"
@@ -155,7 +155,8 @@ export function FilterBar({ params, choices, onChange }: { params: ReportParams;
           <option value="no">{t("filters.transitionLeftOut")}</option>
         </select>
       </label>
-      <label className={labelClass}>
+      {/* Six to a row on a desktop and the risk band as wide as the cause: their longer choices ("Any, or not scored", German words) are not cut. */}
+      <label className={`${labelClass} col-span-2`}>
         <span className={labelText}>{t("filters.riskBand")}</span>
         <select
           value={params.riskBand ?? ""}
