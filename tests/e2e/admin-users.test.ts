@@ -260,6 +260,13 @@ describe("a new account, one way, confirmed", () => {
     await page.getByRole("button", { name: "Reactivate Ines Invite (demo)" }).click();
     await expect.poll(banned).toBe(0);
 
+    // Her only role unticked: "Save roles" waits, and says why.
+    await page.getByRole("button", { name: "Change roles of Ines Invite (demo)" }).click();
+    await page.getByRole("group", { name: "Roles" }).getByLabel("Process engineer").uncheck();
+    expect(await page.getByRole("button", { name: "Save roles" }).isDisabled()).toBe(true);
+    await page.getByText("A user keeps at least one role.").waitFor();
+    await page.getByRole("button", { name: "Cancel" }).click();
+
     expect(errors).toEqual([]);
     await context.close();
   });

@@ -62,13 +62,19 @@ function FirstSignInMark({ user }: { user: AdminUser }) {
 }
 
 function RolesEditor({ user, onClose }: { user: AdminUser; onClose: () => void }) {
-  const { t } = useTranslation("admin");
+  const { t } = useTranslation(["admin", "schema"]);
   const [roles, setRoles] = useState<Role[]>(user.roles);
   const update = useUpdateUser();
   return (
     <div className="space-y-3 rounded-md border border-ink-200 bg-ink-50 p-3">
       {update.error ? <Notice tone="error">{update.error.message}</Notice> : null}
       <RolePicker name={`roles-${user.id}`} value={roles} onChange={setRoles} />
+      {/* Why "Save roles" waits, rather than a greyed button alone. */}
+      {roles.length === 0 ? (
+        <p role="status" className="text-sm font-medium text-ink-800">
+          {t("schema:A user keeps at least one role.")}
+        </p>
+      ) : null}
       <div className="flex gap-2">
         <Button disabled={roles.length === 0 || update.isPending} onClick={() => update.mutate({ id: user.id, roles }, { onSuccess: onClose })}>
           {t("users.table.saveRoles")}
