@@ -37,7 +37,7 @@ const SCREEN_TEXTS: Record<string, Namespace[]> = {
   investigation: ["process"],
   import: ["admin"],
   setup: ["admin", "yard"],
-  "admin-users": ["admin"],
+  "admin-users": ["admin", "schema"],
   "admin-sign-in": ["admin"],
   "admin-tokens": ["admin"],
   "admin-outbox": ["admin"],

@@ -308,4 +308,20 @@ describe("a new account, one way, confirmed", () => {
     expect(errors).toEqual([]);
     await context.close();
   });
+
+  it("when no identity provider is set up, then the sign-in settings do not offer passwords for administrators only", async () => {
+    const context = await env.browser.newContext({ viewport: DESKTOP });
+    const page = await context.newPage();
+    const errors = collectPageErrors(page);
+    await signInAs(page, env.server.baseUrl, "admin", TEST_PASSWORD);
+    await page.goto(env.server.baseUrl + "/admin/sign-in");
+    const only = page.getByRole("radio", { name: /Administrators only/ });
+    await only.waitFor();
+    expect(await page.getByRole("radio", { name: /Everyone with a password/ }).isChecked()).toBe(true);
+    // The server would refuse it: not offered until a provider is set up (its hint says so).
+    expect(await only.isDisabled()).toBe(true);
+    await page.getByText("Possible only once an identity provider is set up.").waitFor();
+    expect(errors).toEqual([]);
+    await context.close();
+  });
 });

@@ -221,6 +221,8 @@ describe("single sign-on through the plant's identity provider (local fake provi
       await page.getByRole("heading", { name: "Sign-in" }).first().waitFor();
       await page.getByText("Redirect address to register at the provider").waitFor();
       await snap(page, "sso-admin-sign-in-tablet");
+      // With a provider, passwords for administrators alone can be chosen (and are, here).
+      expect(await page.getByRole("radio", { name: /Administrators only/ }).isDisabled()).toBe(false);
       await context.close();
     } finally {
       await putSettings({ groupRoles: MAPPING, localPasswords: "everyone" });

@@ -136,6 +136,8 @@ function SignInSettingsForm({ data }: { data: AdminSignIn }) {
                 name="localPasswords"
                 value={value}
                 checked={localPasswords === value}
+                // Passwords for administrators alone only once an identity provider is set up (the server refuses it before).
+                disabled={value === "administrators" && !data.provider && localPasswords !== "administrators"}
                 onChange={() => setLocalPasswords(value)}
                 className="mt-1 h-5 w-5 accent-strand-700"
               />
