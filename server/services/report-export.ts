@@ -679,8 +679,10 @@ function tablesFor(kind: string, r: unknown, w: W): Sheet[] {
       const x = r as SlabPositions;
       // A face is a key of the shared list: English writes it as it is, another language the screens' name.
       const faceWords = (f: string) => (w.language === "en" ? f : (w.raw(`common:terms.faces.${f}`, { defaultValue: f }) as string));
-      const along = x.alongEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.alongEdges[i + 1]! * 100)} %`);
-      const across = x.acrossEdges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(x.acrossEdges[i + 1]! * 100)} %`);
+      // Edges as fractions → "0–20 %" per band.
+      const bands = (edges: number[]) => edges.slice(0, -1).map((lo, i) => `${Math.round(lo * 100)}–${Math.round(edges[i + 1]! * 100)} %`);
+      const along = bands(x.alongEdges);
+      const across = bands(x.acrossEdges);
       return [
         {
           name: w("sheets.byFace"),

@@ -633,6 +633,8 @@ function screenCategorical(ctx: ScreeningContext, key: CategoricalKey): Row {
   const cats = [...byCode.entries()].map(([code, c]) => [col.label(code), c] as const).sort(([x], [y]) => x.localeCompare(y));
   const chi = cats.length > 1 ? chiSquareIndependence(cats.map(([, c]) => [c.affected, c.slabs - c.affected])) : null;
   const testable = cats.length > 1;
+  // Why not (no slab at all is said as such, not as "only one category").
+  const untestable = say(slabs === 0 ? "screening.noSlab" : "screening.oneCategory");
   return {
     key,
     label: CATEGORICAL_LABELS[key],
@@ -646,11 +648,10 @@ function screenCategorical(ctx: ScreeningContext, key: CategoricalKey): Row {
     meanAffected: null,
     meanSound: null,
     categories: cats.map(([l, c]) => ({ label: l, slabs: c.slabs, affected: c.affected, rate: c.slabs ? c.affected / c.slabs : null })),
-    method: chi ? chi.method : say(slabs === 0 ? "screening.noSlab" : "screening.oneCategory"),
+    method: chi ? chi.method : untestable,
     fewSlabs: !chi || chi.smallExpected > 0 || affected < SMALL_AFFECTED,
     testable,
-    // No slab at all is said as such, not as "only one category".
-    reason: testable ? null : say("screening.notTestableBecause", { why: say(slabs === 0 ? "screening.noSlab" : "screening.oneCategory") }),
+    reason: testable ? null : say("screening.notTestableBecause", { why: untestable }),
     parent: null,
     derivedFrom: [],
     countedInBh: false,

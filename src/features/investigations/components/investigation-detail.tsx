@@ -28,18 +28,16 @@ function TagSelect({
   onChange,
   id,
   emptyLabel,
-  loading = false,
 }: {
-  tags: TagOption[];
+  /** Null while the cause list is on its way: said in the field, which waits, rather than offer "none" for a moment. */
+  tags: TagOption[] | null;
   value: string;
   onChange: (v: string) => void;
   id: string;
   emptyLabel?: string;
-  /** The cause list is still on its way: said in the field, which waits, rather than offer "none" for a moment. */
-  loading?: boolean;
 }) {
   const { t } = useTranslation("process");
-  if (loading)
+  if (tags === null)
     return (
       <select id={id} disabled value="" className={inputClass} data-loading="true">
         <option value="">{t("investigations.detail.loadingCauses")}</option>
@@ -358,8 +356,7 @@ export function HypothesesCard({ inv, canManage, tags }: { inv: Investigation; c
               </label>
               <TagSelect
                 id="hyp-tag"
-                tags={tags ?? []}
-                loading={tags === null}
+                tags={tags}
                 value={add.values.causeTag}
                 onChange={(v) => add.set("causeTag", v)}
                 emptyLabel={t("investigations.detail.none")}
@@ -530,14 +527,7 @@ export function ClosureCard({ inv, tags }: { inv: Investigation; tags: TagOption
             <label htmlFor="close-cause" className="text-sm font-semibold text-ink-800">
               {t("investigations.closure.confirmedCause")}
             </label>
-            <TagSelect
-              id="close-cause"
-              tags={tags ?? []}
-              loading={tags === null}
-              value={cause}
-              onChange={setCause}
-              emptyLabel={t("investigations.closure.chooseCause")}
-            />
+            <TagSelect id="close-cause" tags={tags} value={cause} onChange={setCause} emptyLabel={t("investigations.closure.chooseCause")} />
           </div>
         </div>
         <TextAreaField
